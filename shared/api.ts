@@ -1,0 +1,127 @@
+import type { ZodType } from "zod";
+import type { Access } from "./roles";
+import { loginBody } from "./schemas/auth";
+import { createUserBody, idParams, updateUserBody } from "./schemas/users";
+import { createIntakeBody, scanListQuery } from "./schemas/scans";
+
+export type HttpMethod = "GET" | "POST" | "PATCH" | "DELETE";
+
+export interface RouteSpec {
+  method: HttpMethod;
+  /** Express-style path with `:name` parameters, always under /api. */
+  path: string;
+  /** Who may call it. The server's one access middleware enforces this; unlisted routes are refused. */
+  access: Access;
+  /** True for routes that change data (the role matrix test walks these). */
+  mutates: boolean;
+  params?: ZodType;
+  query?: ZodType;
+  body?: ZodType;
+}
+
+function route<const S extends RouteSpec>(spec: S): S {
+  return spec;
+}
+
+/**
+ * Every API route, in one table: the server mounts handlers by these keys, the access middleware
+ * checks roles from it, the client builds URLs from it and the tests walk it.
+ */
+export const API = {
+  health: route({ method: "GET", path: "/api/health", access: "public", mutates: false }),
+  login: route({ method: "POST", path: "/api/auth/login", access: "public", mutates: true, body: loginBody }),
+  logout: route({ method: "POST", path: "/api/auth/logout", access: "viewer", mutates: true }),
+  me: route({ method: "GET", path: "/api/auth/me", access: "viewer", mutates: false }),
+
+  studio: route({ method: "GET", path: "/api/studio", access: "viewer", mutates: false }),
+  events: route({ method: "GET", path: "/api/events", access: "viewer", mutates: false }),
+  queue: route({ method: "GET", path: "/api/queue", access: "viewer", mutates: false }),
+
+  intakesList: route({ method: "GET", path: "/api/intakes", access: "viewer", mutates: false }),
+  intakesCreate: route({
+    method: "POST",
+    path: "/api/intakes",
+    access: "operator",
+    mutates: true,
+    body: createIntakeBody,
+  }),
+
+  scansList: route({
+    method: "GET",
+    path: "/api/scans",
+    access: "viewer",
+    mutates: false,
+    query: scanListQuery,
+  }),
+  scansUpload: route({ method: "POST", path: "/api/scans/upload", access: "operator", mutates: true }),
+  scansGet: route({ method: "GET", path: "/api/scans/:id", access: "viewer", mutates: false, params: idParams }),
+  scansPreview: route({
+    method: "GET",
+    path: "/api/scans/:id/preview",
+    access: "viewer",
+    mutates: false,
+    params: idParams,
+  }),
+  scansThumb: route({
+    method: "GET",
+    path: "/api/scans/:id/thumb",
+    access: "viewer",
+    mutates: false,
+    params: idParams,
+  }),
+  scansRetry: route({
+    method: "POST",
+    path: "/api/scans/:id/retry",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+  }),
+
+  usersList: route({ method: "GET", path: "/api/users", access: "admin", mutates: false }),
+  usersCreate: route({ method: "POST", path: "/api/users", access: "admin", mutates: true, body: createUserBody }),
+  usersUpdate: route({
+    method: "PATCH",
+    path: "/api/users/:id",
+    access: "admin",
+    mutates: true,
+    params: idParams,
+    body: updateUserBody,
+  }),
+} as const satisfies Record<string, RouteSpec>;
+
+export type RouteName = keyof typeof API;
+
+/** Fills `:name` parameters: apiPath(API.scansGet, { id }) → "/api/scans/<id>". */
+export function apiPath(spec: RouteSpec, params: Record<string, string> = {}): string {
+  return spec.path.replace(/:([A-Za-z]+)/g, (_, name: string) => {
+    const value = params[name];
+    if (value === undefined) throw new Error(`Missing parameter ${name} for ${spec.path}`);
+    return encodeURIComponent(value);
+  });
+}
+
+/** Matches a concrete path against a route pattern; returns its parameters or null. */
+export function matchPath(pattern: string, path: string): Record<string, string> | null {
+  const a = pattern.split("/");
+  const b = path.split("/");
+  if (a.length !== b.length) return null;
+  const params: Record<string, string> = {};
+  for (let i = 0; i < a.length; i++) {
+    const p = a[i]!;
+    const s = b[i]!;
+    if (p.startsWith(":")) {
+      if (!s) return null;
+      params[p.slice(1)] = decodeURIComponent(s);
+    } else if (p !== s) return null;
+  }
+  return params;
+}
+
+/** The route a request addresses, or null when no route has that method and path. */
+export function findRoute(method: string, path: string): { name: RouteName; spec: RouteSpec } | null {
+  const clean = path.length > 1 && path.endsWith("/") ? path.slice(0, -1) : path;
+  for (const [name, spec] of Object.entries(API) as [RouteName, RouteSpec][]) {
+    if (spec.method === method && matchPath(spec.path, clean)) return { name, spec };
+  }
+  return null;
+}

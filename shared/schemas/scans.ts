@@ -1,0 +1,103 @@
+import { z } from "zod";
+
+export const SCAN_STATUSES = ["queued", "analysing", "ready", "failed", "duplicate"] as const;
+export const scanStatusSchema = z.enum(SCAN_STATUSES);
+export type ScanStatus = z.infer<typeof scanStatusSchema>;
+
+/** Where a scan's DPI came from: read from the file, or the studio default because none was there. */
+export const dpiSourceSchema = z.enum(["embedded", "assumed"]);
+export type DpiSource = z.infer<typeof dpiSourceSchema>;
+
+/** Which record in the file held the resolution. */
+export const resolutionOriginSchema = z.enum(["tiff", "exif", "jfif", "png-phys"]);
+export type ResolutionOrigin = z.infer<typeof resolutionOriginSchema>;
+
+export const scanSourceSchema = z.enum(["inbox", "upload"]);
+
+export const dpiSchema = z.object({
+  x: z.number(),
+  y: z.number(),
+  source: dpiSourceSchema,
+  origin: resolutionOriginSchema.nullable(),
+});
+
+/** A scan as the API presents it. Pixel and physical fields are null until analysed. */
+export const scanSchema = z.object({
+  id: z.string(),
+  originalName: z.string(),
+  intake: z.object({ id: z.string(), name: z.string() }),
+  source: scanSourceSchema,
+  status: scanStatusSchema,
+  stage: z.string().nullable(),
+  progress: z.number(),
+  error: z.string().nullable(),
+  duplicateOf: z.object({ id: z.string(), originalName: z.string() }).nullable(),
+  sha256: z.string(),
+  sizeBytes: z.number(),
+  width: z.number().nullable(),
+  height: z.number().nullable(),
+  format: z.string().nullable(),
+  bitDepth: z.number().nullable(),
+  channels: z.number().nullable(),
+  colourSpace: z.string().nullable(),
+  hasIccProfile: z.boolean().nullable(),
+  iccDescription: z.string().nullable(),
+  hasAlpha: z.boolean().nullable(),
+  dpi: dpiSchema.nullable(),
+  physical: z
+    .object({ widthIn: z.number(), heightIn: z.number(), widthCm: z.number(), heightCm: z.number() })
+    .nullable(),
+  attempts: z.number(),
+  hasPreview: z.boolean(),
+  createdAt: z.string(),
+  updatedAt: z.string(),
+  analysedAt: z.string().nullable(),
+});
+export type Scan = z.infer<typeof scanSchema>;
+
+export const SCAN_SORT_FIELDS = [
+  "createdAt",
+  "originalName",
+  "status",
+  "width",
+  "dpi",
+  "sizeBytes",
+] as const;
+
+export const scanListQuery = z.object({
+  status: scanStatusSchema.optional(),
+  intakeId: z.uuid({ error: "Expected intakeId in UUID form" }).optional(),
+  q: z.string().trim().max(200).optional(),
+  sort: z.enum(SCAN_SORT_FIELDS).default("createdAt"),
+  dir: z.enum(["asc", "desc"]).default("desc"),
+  limit: z.coerce.number().int().min(1).max(500).default(100),
+  offset: z.coerce.number().int().min(0).default(0),
+});
+export type ScanListQuery = z.input<typeof scanListQuery>;
+
+export const scanListResponse = z.object({ scans: z.array(scanSchema), total: z.number() });
+export const scanResponse = z.object({ scan: scanSchema });
+
+export const uploadResponse = z.object({
+  results: z.array(
+    z.object({
+      originalName: z.string(),
+      scanId: z.string(),
+      duplicateOf: z.string().nullable(),
+    }),
+  ),
+});
+
+export const intakeSchema = z.object({
+  id: z.string(),
+  name: z.string(),
+  createdAt: z.string(),
+  scanCount: z.number(),
+  current: z.boolean(),
+});
+export type Intake = z.infer<typeof intakeSchema>;
+export const intakeListResponse = z.object({ intakes: z.array(intakeSchema) });
+
+export const createIntakeBody = z.object({
+  name: z.string().trim().min(1, { error: "Enter a name for the intake" }).max(120),
+});

@@ -1,0 +1,49 @@
+import { z } from "zod";
+import { roleSchema } from "../roles";
+import { MIN_PASSWORD_LENGTH } from "../limits";
+import { emailSchema } from "./auth";
+
+export const passwordSchema = z
+  .string()
+  .min(MIN_PASSWORD_LENGTH, {
+    error: (issue) =>
+      `Expected a password of at least ${MIN_PASSWORD_LENGTH} characters but received ${String((issue.input as string | undefined)?.length ?? 0)}`,
+  })
+  .max(200, { error: "Expected a password of at most 200 characters" });
+
+export const userSchema = z.object({
+  id: z.string(),
+  email: z.string(),
+  name: z.string(),
+  role: roleSchema,
+  disabled: z.boolean(),
+  createdAt: z.string(),
+  lastSignInAt: z.string().nullable(),
+});
+export type User = z.infer<typeof userSchema>;
+
+export const userListResponse = z.object({ users: z.array(userSchema) });
+
+export const createUserBody = z.object({
+  email: emailSchema,
+  name: z.string().trim().min(1, { error: "Enter a name" }).max(120),
+  role: roleSchema,
+  password: passwordSchema,
+});
+export type CreateUserBody = z.infer<typeof createUserBody>;
+
+/** Change a user's role or enable/disable the account; at least one field. */
+export const updateUserBody = z
+  .object({
+    role: roleSchema.optional(),
+    disabled: z.boolean().optional(),
+    name: z.string().trim().min(1).max(120).optional(),
+  })
+  .refine((b) => b.role !== undefined || b.disabled !== undefined || b.name !== undefined, {
+    error: "Expected at least one of role, disabled or name",
+  });
+export type UpdateUserBody = z.infer<typeof updateUserBody>;
+
+export const idParams = z.object({
+  id: z.uuid({ error: "Expected an id in UUID form" }),
+});
