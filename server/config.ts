@@ -88,6 +88,12 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
 }
 
 let cached: Config | undefined;
+
+/** Replaces the process-wide configuration (tests run a stack with their own folders and database). */
+export function overrideConfig(overrides: Record<string, string>): Config {
+  cached = loadConfig({ ...process.env, ...overrides });
+  return cached;
+}
 /** The process-wide configuration, parsed on first use. */
 export function config(): Config {
   cached ??= loadConfig();

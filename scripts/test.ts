@@ -1,0 +1,37 @@
+import { spawnSync } from "node:child_process";
+import path from "node:path";
+import { loadConfig } from "../server/config";
+import { startCluster, stopCluster } from "./lib/pg-cluster";
+import { clusterOptions } from "./lib/prepare";
+
+/**
+ * `npm test`: starts the private PostgreSQL cluster (tests make their own databases in it, fresh
+ * each run), builds the client for the browser tests, runs vitest, and stops the cluster again if
+ * it was not running before. Extra arguments go to vitest (`npm test -- tests/intake`).
+ */
+const cfg = loadConfig();
+const root = cfg.root;
+const cluster = clusterOptions(cfg);
+const started = startCluster({ ...cluster, log: (l) => console.log(l) });
+let status = 1;
+try {
+  const bin = (name: string) => path.join(root, "node_modules", ".bin", name);
+  const build = spawnSync(bin("vite"), ["build", "--logLevel", "warn"], { cwd: root, stdio: "inherit" });
+  if (build.status !== 0) throw new Error("The client build failed; see above.");
+  const run = spawnSync(bin("vitest"), ["run", ...process.argv.slice(2)], {
+    cwd: root,
+    stdio: "inherit",
+    env: {
+      ...process.env,
+      NODE_ENV: "test",
+      LOG_LEVEL: process.env.LOG_LEVEL ?? "warn",
+      PLATEN_TEST_ADMIN_URL: `postgres://platen@127.0.0.1:${cluster.port}/postgres`,
+    },
+  });
+  status = run.status ?? 1;
+} catch (err) {
+  console.error((err as Error).message);
+} finally {
+  if (started) stopCluster(cluster);
+}
+process.exit(status);

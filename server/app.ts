@@ -1,0 +1,118 @@
+import fs from "node:fs";
+import path from "node:path";
+import express from "express";
+import session from "express-session";
+import connectPgSimple from "connect-pg-simple";
+import helmet from "helmet";
+import type PgBoss from "pg-boss";
+import type { Config } from "./config";
+import type { Database } from "./db";
+import type { Library } from "./storage/library";
+import type { Logger } from "./logger";
+import type { Hub } from "./services/hub";
+import { createPassport } from "./auth/passport";
+import { requestContext } from "./middleware/request-context";
+import { accessControl, sameOriginWrites } from "./middleware/access";
+import { errorHandler } from "./middleware/errors";
+import { AppError } from "./errors";
+import { authRouter } from "./routes/auth";
+import { scansRouter } from "./routes/scans";
+import { usersRouter } from "./routes/users";
+import { queueRouter } from "./routes/queue";
+import { intakesRouter } from "./routes/intakes";
+import { studioRouter } from "./routes/studio";
+import { eventsRouter } from "./routes/events";
+
+export interface AppDeps {
+  config: Config;
+  database: Database;
+  boss: PgBoss;
+  library: Library;
+  log: Logger;
+  hub: Hub;
+  sessionSecret: string;
+}
+
+/** The HTTP app: security headers, sessions in PostgreSQL, one access check, the API, the client. */
+export function createApp(deps: AppDeps): express.Express {
+  const app = express();
+  const cfg = deps.config;
+  app.disable("x-powered-by");
+  app.set("trust proxy", "loopback");
+
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          "default-src": ["'self'"],
+          "img-src": ["'self'", "data:", "blob:"],
+          "style-src": ["'self'", "'unsafe-inline'"],
+          "font-src": ["'self'", "data:"],
+          "connect-src": ["'self'"],
+          "object-src": ["'none'"],
+          "frame-ancestors": ["'none'"],
+          "upgrade-insecure-requests": null,
+        },
+      },
+      crossOriginEmbedderPolicy: false,
+      strictTransportSecurity: cfg.secureCookies,
+    }),
+  );
+  app.use(requestContext(deps.log));
+
+  const PgStore = connectPgSimple(session);
+  app.use(
+    session({
+      name: "platen.sid",
+      secret: deps.sessionSecret,
+      store: new PgStore({ pool: deps.database.pool, tableName: "session", pruneSessionInterval: 3600 }),
+      resave: false,
+      saveUninitialized: false,
+      rolling: true,
+      cookie: {
+        httpOnly: true,
+        sameSite: "lax",
+        secure: cfg.secureCookies,
+        maxAge: 1000 * 60 * 60 * 24 * 14,
+      },
+    }),
+  );
+  const pp = createPassport(deps.database.db);
+  app.use(pp.initialize());
+  app.use(pp.session());
+
+  const api = express.Router();
+  api.use(express.json({ limit: "100kb" }));
+  api.use(sameOriginWrites);
+  api.use(accessControl);
+  api.use(studioRouter(deps));
+  api.use(authRouter(deps, pp));
+  api.use(queueRouter(deps));
+  api.use(eventsRouter(deps));
+  api.use(intakesRouter(deps));
+  api.use(scansRouter(deps));
+  api.use(usersRouter(deps));
+  api.use((req, _res, next) => next(new AppError(404, "not_found", `There is no API route ${req.method} ${req.originalUrl}.`)));
+  app.use("/api", api);
+
+  // The built client, with the router's paths falling back to index.html.
+  const dist = path.join(cfg.root, "dist");
+  if (fs.existsSync(path.join(dist, "index.html"))) {
+    app.use(express.static(dist, { index: false, maxAge: "1h", setHeaders: noCacheHtml }));
+    app.get("/{*rest}", (_req, res) => {
+      res.setHeader("Cache-Control", "no-cache");
+      res.sendFile(path.join(dist, "index.html"));
+    });
+  } else {
+    app.get("/", (_req, res) => {
+      res.type("text").send("The client is not built yet: run `npm run build` (npm start does it for you).");
+    });
+  }
+
+  app.use(errorHandler);
+  return app;
+}
+
+function noCacheHtml(res: express.Response, file: string) {
+  if (file.endsWith(".html")) res.setHeader("Cache-Control", "no-cache");
+}

@@ -1,0 +1,20 @@
+import type PgBoss from "pg-boss";
+import { config } from "../config";
+
+/** Queue names and their retry policy, shared by the processes that send and the workers. */
+export const QUEUES = {
+  analyse: "scan-analyse",
+} as const;
+
+export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Omit<PgBoss.Queue, "name">> {
+  const cfg = config();
+  return {
+    [QUEUES.analyse]: {
+      policy: "standard",
+      retryLimit: cfg.jobRetryLimit,
+      retryDelay: 2,
+      retryBackoff: true,
+      expireInSeconds: cfg.jobExpireSeconds,
+    },
+  };
+}

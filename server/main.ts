@@ -1,0 +1,49 @@
+import fs from "node:fs";
+import path from "node:path";
+import { config } from "./config";
+import { logger } from "./logger";
+import { openDatabase } from "./db";
+import { startBoss } from "./jobs/boss";
+import { Library } from "./storage/library";
+import { createHub } from "./services/hub";
+import { sessionSecret } from "./services/bootstrap";
+import { createApp } from "./app";
+
+/** The web server process. The database is prepared beforehand (scripts/prepare.ts). */
+async function main() {
+  const cfg = config();
+  const log = logger;
+  const database = openDatabase(cfg.databaseUrl);
+  const boss = await startBoss({ url: cfg.databaseUrl, log, supervise: true });
+  fs.mkdirSync(path.join(cfg.libraryDir, "tmp", "uploads"), { recursive: true });
+  const library = new Library(cfg.libraryDir);
+  const hub = createHub(database.pool, log);
+  const app = createApp({ config: cfg, database, boss, library, log, hub, sessionSecret: sessionSecret(cfg) });
+  const server = app.listen(cfg.port, cfg.host, () => {
+    log.info({ url: `http://${cfg.host}:${cfg.port}` }, "server listening");
+  });
+  server.on("error", (err) => {
+    log.fatal({ err }, "server could not listen");
+    process.exit(1);
+  });
+
+  let stopping = false;
+  const stop = async (signal: string) => {
+    if (stopping) return;
+    stopping = true;
+    log.info({ signal }, "server stopping");
+    server.closeAllConnections();
+    server.close();
+    await hub.close();
+    await boss.stop({ graceful: false, wait: true });
+    await database.close();
+    process.exit(0);
+  };
+  process.on("SIGTERM", () => void stop("SIGTERM"));
+  process.on("SIGINT", () => void stop("SIGINT"));
+}
+
+main().catch((err) => {
+  logger.fatal({ err }, "server failed to start");
+  process.exit(1);
+});

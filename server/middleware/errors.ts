@@ -1,0 +1,43 @@
+import type { ErrorRequestHandler } from "express";
+import multer from "multer";
+import { ZodError } from "zod";
+import { AppError } from "../errors";
+import type { ApiErrorBody } from "../../shared/errors";
+import { config } from "../config";
+import { formatBytes } from "../../shared/units";
+
+/** Turns a zod failure into one sentence naming the field. */
+export function zodMessage(err: ZodError, where: string): { message: string; field?: string } {
+  const issue = err.issues[0];
+  if (!issue) return { message: `Invalid ${where}.` };
+  const field = issue.path.map(String).join(".");
+  return {
+    message: field ? `${field}: ${issue.message}` : issue.message,
+    field: field || undefined,
+  };
+}
+
+/** The one error path: every failure becomes `{ error: { code, message, field? } }`. */
+export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
+  let appErr: AppError;
+  if (err instanceof AppError) appErr = err;
+  else if (err instanceof ZodError) {
+    const { message, field } = zodMessage(err, "request");
+    appErr = new AppError(400, "bad_request", message, field);
+  } else if (err instanceof multer.MulterError) {
+    appErr =
+      err.code === "LIMIT_FILE_SIZE"
+        ? new AppError(413, "payload_too_large", `The file is larger than the upload limit of ${formatBytes(config().maxUploadBytes)}.`, err.field)
+        : new AppError(400, "bad_request", `Upload refused: ${err.message}.`, err.field);
+  } else if (err?.type === "entity.parse.failed") {
+    appErr = new AppError(400, "bad_request", "The request body is not valid JSON.");
+  } else if (err?.type === "entity.too.large") {
+    appErr = new AppError(413, "payload_too_large", "The request body is too large.");
+  } else {
+    (req.log ?? console).error({ err, path: req.originalUrl }, "unhandled error");
+    appErr = new AppError(500, "internal", "Something went wrong on the server. The error has been logged; try again.");
+  }
+  if (res.headersSent) return;
+  const body: ApiErrorBody = { error: { code: appErr.code, message: appErr.message, ...(appErr.field ? { field: appErr.field } : {}) } };
+  res.status(appErr.status).json(body);
+};

@@ -1,0 +1,57 @@
+import { Router, type RequestHandler } from "express";
+import { ipKeyGenerator, rateLimit } from "express-rate-limit";
+import type passport from "passport";
+import { API } from "../../../shared/api";
+import { handle } from "../define";
+import { AppError, tooManyRequests } from "../../errors";
+import { presentSessionUser } from "../../presenters/user";
+import type { AppDeps } from "../../app";
+
+export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
+  const router = Router();
+  const cfg = deps.config;
+
+  // Per address and per e-mail: slows guessing one account and spraying many.
+  const limiter = rateLimit({
+    windowMs: cfg.loginWindowMs,
+    limit: cfg.loginLimit,
+    standardHeaders: "draft-8",
+    legacyHeaders: false,
+    keyGenerator: (req) => `${ipKeyGenerator(req.ip ?? "")}|${String((req.body as { email?: unknown })?.email ?? "").toLowerCase()}`,
+    handler: (_req, _res, next) => {
+      const minutes = Math.round(cfg.loginWindowMs / 60_000);
+      next(tooManyRequests(`Too many sign-in attempts. Wait ${minutes} minutes and try again.`));
+    },
+  });
+
+  const authenticate: RequestHandler = (req, res, next) => {
+    pp.authenticate("local", (err: unknown, user: Express.User | false, info?: { message?: string }) => {
+      if (err) return next(err);
+      if (!user) return next(new AppError(401, "unauthenticated", info?.message ?? "Wrong e-mail or password."));
+      // passport 0.7 gives the session a fresh id at sign-in, so a planted session cannot be taken over.
+      req.logIn(user, (loginErr) => {
+        if (loginErr) return next(loginErr);
+        req.log.info({ user: user.id }, "signed in");
+        res.json({ user: presentSessionUser(user) });
+      });
+    })(req, res, next);
+  };
+
+  handle(router, API.login, () => undefined, [limiter, authenticate]);
+
+  handle(router, API.logout, ({ req, res }) =>
+    new Promise<void>((resolve, reject) => {
+      req.logOut((err) => {
+        if (err) return reject(err);
+        req.session.destroy(() => {
+          res.clearCookie("platen.sid");
+          res.status(204).end();
+          resolve();
+        });
+      });
+    }),
+  );
+
+  handle(router, API.me, ({ user }) => ({ user: presentSessionUser(user) }));
+  return router;
+}

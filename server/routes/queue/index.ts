@@ -1,0 +1,11 @@
+import { Router } from "express";
+import { API } from "../../../shared/api";
+import { handle } from "../define";
+import { queueSummary } from "../../services/queue";
+import type { AppDeps } from "../../app";
+
+export function queueRouter({ database }: AppDeps): Router {
+  const router = Router();
+  handle(router, API.queue, () => queueSummary(database.db));
+  return router;
+}

@@ -1,0 +1,61 @@
+import path from "node:path";
+import { Router } from "express";
+import { API } from "../../../shared/api";
+import { handle } from "../define";
+import { badRequest, notFound } from "../../errors";
+import { getScan, getScanRow, listScans, retryScan } from "../../services/scans";
+import { intakeFile } from "../../services/intake";
+import { cleanFileName, sniffUploads, uploadMiddleware } from "./upload";
+import type { AppDeps } from "../../app";
+
+export function scansRouter(deps: AppDeps): Router {
+  const router = Router();
+  const { database, boss, library, config } = deps;
+  const { db } = database;
+
+  handle(router, API.scansList, ({ query }) => listScans(db, query));
+
+  handle(
+    router,
+    API.scansUpload,
+    async ({ req, res, user }) => {
+      const files = (req.files as Express.Multer.File[] | undefined) ?? [];
+      if (!files.length) throw badRequest('Expected one or more files in the "files" field but received none.', "files");
+      await sniffUploads(files);
+      const results = [];
+      for (const f of files) {
+        const originalName = cleanFileName(f.originalname);
+        const r = await intakeFile(
+          { database, boss, library, log: req.log },
+          { path: f.path, originalName, source: "upload", uploadedBy: user.id, removeSource: true },
+        );
+        results.push({ originalName, scanId: r.scanId, duplicateOf: r.duplicateOf });
+      }
+      res.status(201);
+      return { results };
+    },
+    [uploadMiddleware(path.join(config.libraryDir, "tmp", "uploads"), config.maxUploadBytes)],
+  );
+
+  handle(router, API.scansGet, async ({ params }) => ({ scan: await getScan(db, params.id) }));
+
+  const sendImage = (which: "previewKey" | "thumbKey") => async ({ params, res }: { params: { id: string }; res: import("express").Response }) => {
+    const row = await getScanRow(db, params.id);
+    const key = row[which];
+    if (!key) throw notFound("The preview of this scan (it is not analysed yet)");
+    res.setHeader("Cache-Control", "private, max-age=300");
+    await new Promise<void>((resolve, reject) =>
+      res.sendFile(library.pathFor(key), { headers: { "Content-Type": "image/jpeg" } }, (err) => (err ? reject(notFound("The preview file")) : resolve())),
+    );
+  };
+  handle(router, API.scansPreview, sendImage("previewKey"));
+  handle(router, API.scansThumb, sendImage("thumbKey"));
+
+  handle(router, API.scansRetry, async ({ params, req }) => {
+    const scan = await retryScan(database, boss, params.id);
+    req.log.info({ scanId: scan.id }, "scan retry queued");
+    return { scan };
+  });
+
+  return router;
+}

@@ -1,0 +1,44 @@
+import fsp from "node:fs/promises";
+import path from "node:path";
+import multer from "multer";
+import { fileTypeFromFile } from "file-type";
+import type { RequestHandler } from "express";
+import { MAX_FILES_PER_UPLOAD, SCAN_MIME_TYPES } from "../../../shared/limits";
+import { unsupportedMedia } from "../../errors";
+
+/** The name a person gave the file, made safe to show and store: no folders, no control characters. */
+export function cleanFileName(raw: string): string {
+  // Browsers send UTF-8; multer hands it over read as latin1.
+  const utf8 = Buffer.from(raw, "latin1").toString("utf8");
+  const base = path.basename(utf8.replace(/\\/g, "/"));
+  // eslint-disable-next-line no-control-regex
+  const clean = base.replace(/[\u0000-\u001f\u007f]/g, "").trim().slice(0, 255);
+  return clean || "upload";
+}
+
+/** Multer into the library's temp folder (same filesystem as the library), with size and count limits. */
+export function uploadMiddleware(tempDir: string, maxBytes: number): RequestHandler {
+  return multer({
+    dest: tempDir,
+    limits: { fileSize: maxBytes, files: MAX_FILES_PER_UPLOAD, fields: 10, parts: MAX_FILES_PER_UPLOAD + 10 },
+  }).array("files", MAX_FILES_PER_UPLOAD);
+}
+
+/**
+ * Sniffs each uploaded file by its content (not its name or the browser's claim). Any file that is
+ * not a TIFF, JPEG, PNG or WebP refuses the whole request, naming it; the temps are removed.
+ */
+export async function sniffUploads(files: Express.Multer.File[]): Promise<void> {
+  const refused: string[] = [];
+  for (const f of files) {
+    const type = f.size > 0 ? await fileTypeFromFile(f.path) : undefined;
+    if (!type || !(SCAN_MIME_TYPES as readonly string[]).includes(type.mime)) {
+      const what = f.size === 0 ? "it is empty" : type ? `its content is ${type.mime}` : "its content is not an image";
+      refused.push(`${cleanFileName(f.originalname)} (${what})`);
+    }
+  }
+  if (refused.length) {
+    await Promise.all(files.map((f) => fsp.rm(f.path, { force: true })));
+    throw unsupportedMedia(`Not a scan Platen can read: ${refused.join(", ")}. Expected TIFF, JPEG, PNG or WebP.`);
+  }
+}

@@ -1,0 +1,21 @@
+import { Router } from "express";
+import { API } from "../../../shared/api";
+import { handle } from "../define";
+import { studio } from "../../db/schema";
+import type { Studio } from "../../../shared/schemas/studio";
+import type { AppDeps } from "../../app";
+
+export function studioRouter({ database, config }: AppDeps): Router {
+  const router = Router();
+  handle(router, API.health, () => ({ ok: true }));
+  handle(router, API.studio, async () => {
+    const [row] = await database.db.select().from(studio).limit(1);
+    const body: Studio = {
+      name: row?.name ?? "Platen studio",
+      defaultDpi: row?.defaultDpi ?? config.defaultDpi,
+      demo: row?.demo ?? false,
+    };
+    return { studio: body };
+  });
+  return router;
+}

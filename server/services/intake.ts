@@ -1,0 +1,111 @@
+import fsp from "node:fs/promises";
+import { and, eq, ne } from "drizzle-orm";
+import { drizzle } from "drizzle-orm/node-postgres";
+import type PgBoss from "pg-boss";
+import type { Database } from "../db";
+import * as schema from "../db/schema";
+import { scans } from "../db/schema";
+import { txDb } from "../jobs/boss";
+import { QUEUES } from "../jobs/queues";
+import type { Library } from "../storage/library";
+import { originalKey } from "../storage/library";
+import { currentIntake } from "./intakes";
+import { notify } from "./events";
+import type { Logger } from "../logger";
+
+export interface IntakeDeps {
+  database: Database;
+  boss: PgBoss;
+  library: Library;
+  log: Logger;
+}
+
+export interface IntakeInput {
+  /** Where the arriving file is now (inbox file or upload temp file). */
+  path: string;
+  /** The name the person gave it. */
+  originalName: string;
+  source: "inbox" | "upload";
+  uploadedBy?: string | null;
+  /** Remove `path` once the original is safely in the library (inbox files and upload temps). */
+  removeSource?: boolean;
+}
+
+export interface IntakeResult {
+  scanId: string;
+  sha256: string;
+  duplicateOf: string | null;
+}
+
+/**
+ * The one way a file enters Platen, for the watcher and for uploads alike: copy it into the
+ * library by content (one read, hashed on the way, fsynced, renamed), record a scan in the current
+ * intake and queue its analysis in the same transaction. The same content twice is recorded as a
+ * duplicate of the first and not analysed again. Only then is the arriving file removed.
+ */
+export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<IntakeResult> {
+  const { database, boss, library } = deps;
+  const staged = await library.stageCopy(input.path);
+  const key = originalKey(staged.sha256, input.originalName);
+
+  const client = await database.pool.connect();
+  let result: IntakeResult;
+  try {
+    const tx = drizzle(client, { schema });
+    await client.query("begin");
+    try {
+      const intake = await currentIntake(tx);
+      const [first] = await tx
+        .select({ id: scans.id, originalKey: scans.originalKey })
+        .from(scans)
+        .where(and(eq(scans.sha256, staged.sha256), ne(scans.status, "duplicate")))
+        .limit(1);
+      const base = {
+        intakeId: intake.id,
+        originalName: input.originalName,
+        source: input.source,
+        uploadedBy: input.uploadedBy ?? null,
+        sha256: staged.sha256,
+        sizeBytes: staged.sizeBytes,
+      };
+      if (first) {
+        const [row] = await tx
+          .insert(scans)
+          .values({
+            ...base,
+            originalKey: first.originalKey,
+            status: "duplicate",
+            duplicateOfId: first.id,
+            progress: 100,
+          })
+          .returning({ id: scans.id });
+        result = { scanId: row!.id, sha256: staged.sha256, duplicateOf: first.id };
+      } else {
+        const [row] = await tx
+          .insert(scans)
+          .values({ ...base, originalKey: key, status: "queued", stage: "Waiting for a worker" })
+          .returning({ id: scans.id });
+        await boss.send(QUEUES.analyse, { scanId: row!.id }, { db: txDb(client) });
+        result = { scanId: row!.id, sha256: staged.sha256, duplicateOf: null };
+      }
+      await notify(client, { kind: "scan", scanId: result.scanId, status: first ? "duplicate" : "queued" });
+      // The original goes into place before commit: a committed scan row always has its file.
+      await library.commit(staged.temp, key, { readOnly: true });
+      await client.query("commit");
+    } catch (err) {
+      await client.query("rollback").catch(() => {});
+      await fsp.rm(staged.temp, { force: true });
+      // Two copies of the same content raced: the loser is a duplicate of the winner.
+      if ((err as { code?: string }).code === "23505") return intakeFile(deps, input);
+      throw err;
+    }
+  } finally {
+    client.release();
+  }
+  if (input.removeSource) await fsp.rm(input.path, { force: true });
+  deps.log.info(
+    { scanId: result.scanId, file: input.originalName, sha256: result.sha256, duplicateOf: result.duplicateOf },
+    result.duplicateOf ? "intake: duplicate recorded" : "intake: scan queued",
+  );
+  return result;
+}

@@ -1,0 +1,39 @@
+import os from "node:os";
+import { sql } from "drizzle-orm";
+import type { Db } from "../db";
+import { processes } from "../db/schema";
+
+/** A process is online when its last heartbeat is younger than this. */
+export const HEARTBEAT_STALE_MS = 15_000;
+export const HEARTBEAT_EVERY_MS = 5_000;
+
+export type ProcessKind = "watcher" | "worker";
+
+/** Records this process and keeps its heartbeat fresh until stopped. */
+export function startHeartbeat(db: Db, kind: ProcessKind, extra: { folder?: string } = {}) {
+  const id = `${kind}:${os.hostname()}:${process.pid}:${Date.now().toString(36)}`;
+  const beat = () =>
+    db
+      .insert(processes)
+      .values({ id, kind, host: os.hostname(), pid: process.pid, folder: extra.folder ?? null })
+      .onConflictDoUpdate({ target: processes.id, set: { heartbeatAt: sql`now()` } })
+      .catch(() => {});
+  const ready = beat();
+  const timer = setInterval(beat, HEARTBEAT_EVERY_MS);
+  timer.unref();
+  return {
+    id,
+    ready,
+    /** Notes the last file this process saw (the watcher). */
+    async sawFile(name: string) {
+      await db
+        .update(processes)
+        .set({ lastFile: name, lastFileAt: sql`now()`, heartbeatAt: sql`now()` })
+        .where(sql`${processes.id} = ${id}`);
+    },
+    async stop() {
+      clearInterval(timer);
+      await db.delete(processes).where(sql`${processes.id} = ${id}`).catch(() => {});
+    },
+  };
+}

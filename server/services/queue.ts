@@ -1,0 +1,52 @@
+import { and, asc, desc, eq, gt, sql } from "drizzle-orm";
+import type { Db } from "../db";
+import { processes, scans } from "../db/schema";
+import { SCAN_STATUSES, type ScanStatus } from "../../shared/schemas/scans";
+import type { QueueSummary } from "../../shared/schemas/queue";
+import { countByStatus } from "./scans";
+import { HEARTBEAT_STALE_MS } from "./processes";
+
+/** Everything the queue screen shows, in one read. */
+export async function queueSummary(db: Db): Promise<QueueSummary> {
+  const fresh = sql`now() - ${`${HEARTBEAT_STALE_MS} milliseconds`}::interval`;
+  const [counted, running, waiting, failures, watchers, workers] = await Promise.all([
+    countByStatus(db),
+    db
+      .select({ scanId: scans.id, originalName: scans.originalName, stage: scans.stage, progress: scans.progress, startedAt: scans.startedAt })
+      .from(scans)
+      .where(eq(scans.status, "analysing"))
+      .orderBy(asc(scans.startedAt))
+      .limit(50),
+    db
+      .select({ scanId: scans.id, originalName: scans.originalName, createdAt: scans.createdAt })
+      .from(scans)
+      .where(eq(scans.status, "queued"))
+      .orderBy(asc(scans.createdAt))
+      .limit(50),
+    db
+      .select({ scanId: scans.id, originalName: scans.originalName, error: scans.error, attempts: scans.attempts, updatedAt: scans.updatedAt })
+      .from(scans)
+      .where(eq(scans.status, "failed"))
+      .orderBy(desc(scans.updatedAt))
+      .limit(20),
+    db.select().from(processes).where(eq(processes.kind, "watcher")).orderBy(desc(processes.heartbeatAt)).limit(1),
+    db.select({ id: processes.id }).from(processes).where(and(eq(processes.kind, "worker"), gt(processes.heartbeatAt, fresh))),
+  ]);
+  const counts = Object.fromEntries(SCAN_STATUSES.map((s) => [s, 0])) as Record<ScanStatus, number>;
+  for (const c of counted) counts[c.status] = c.n;
+  const w = watchers[0];
+  return {
+    counts,
+    running: running.map((r) => ({ ...r, startedAt: r.startedAt?.toISOString() ?? null })),
+    waiting: waiting.map((r) => ({ ...r, createdAt: r.createdAt.toISOString() })),
+    failures: failures.map((r) => ({ ...r, error: r.error ?? "Failed without a message.", updatedAt: r.updatedAt.toISOString() })),
+    watcher: {
+      folder: w?.folder ?? null,
+      online: w ? Date.now() - w.heartbeatAt.getTime() < HEARTBEAT_STALE_MS : false,
+      lastFile: w?.lastFile ?? null,
+      lastFileAt: w?.lastFileAt?.toISOString() ?? null,
+      heartbeatAt: w?.heartbeatAt.toISOString() ?? null,
+    },
+    workers: { online: workers.length },
+  };
+}

@@ -1,0 +1,73 @@
+import crypto from "node:crypto";
+import bcrypt from "bcryptjs";
+import { asc, eq } from "drizzle-orm";
+import type { Db } from "../db";
+import { users } from "../db/schema";
+import type { Role } from "../../shared/roles";
+import { conflict, forbidden, notFound } from "../errors";
+import type { UpdateUserBody } from "../../shared/schemas/users";
+
+export type UserRow = typeof users.$inferSelect;
+
+const BCRYPT_COST = 12;
+/** A real hash to compare against when the e-mail is unknown, so timing does not reveal it. */
+const DUMMY_HASH = bcrypt.hashSync(crypto.randomBytes(16).toString("hex"), BCRYPT_COST);
+
+export async function listUsers(db: Db): Promise<UserRow[]> {
+  return db.select().from(users).orderBy(asc(users.createdAt));
+}
+
+export async function findUser(db: Db, id: string): Promise<UserRow | null> {
+  const [row] = await db.select().from(users).where(eq(users.id, id));
+  return row ?? null;
+}
+
+export async function createUser(
+  db: Db,
+  input: { email: string; name: string; role: Role; password: string },
+): Promise<UserRow> {
+  const email = input.email.trim().toLowerCase();
+  const [existing] = await db.select({ id: users.id }).from(users).where(eq(users.email, email));
+  if (existing) throw conflict(`A user with the e-mail ${email} already exists.`, "email");
+  const passwordHash = await bcrypt.hash(input.password, BCRYPT_COST);
+  const [row] = await db
+    .insert(users)
+    .values({ email, name: input.name.trim(), role: input.role, passwordHash })
+    .returning();
+  return row!;
+}
+
+/** Role, name and enabled state; an admin cannot lock themselves out. */
+export async function updateUser(db: Db, actorId: string, id: string, patch: UpdateUserBody): Promise<UserRow> {
+  const target = await findUser(db, id);
+  if (!target) throw notFound("That user");
+  if (actorId === id && patch.role !== undefined && patch.role !== "admin") {
+    throw forbidden("You cannot take the admin role from your own account; ask another admin.");
+  }
+  if (actorId === id && patch.disabled === true) {
+    throw forbidden("You cannot disable your own account; ask another admin.");
+  }
+  const [row] = await db
+    .update(users)
+    .set({
+      ...(patch.role !== undefined ? { role: patch.role } : {}),
+      ...(patch.name !== undefined ? { name: patch.name } : {}),
+      ...(patch.disabled !== undefined ? { disabledAt: patch.disabled ? new Date() : null } : {}),
+      updatedAt: new Date(),
+    })
+    .where(eq(users.id, id))
+    .returning();
+  return row!;
+}
+
+export type Verification = { ok: true; user: UserRow } | { ok: false; reason: "wrong" | "disabled" };
+
+/** Checks an e-mail and password; always spends one bcrypt comparison. */
+export async function verifyPassword(db: Db, email: string, password: string): Promise<Verification> {
+  const [row] = await db.select().from(users).where(eq(users.email, email.trim().toLowerCase()));
+  const ok = await bcrypt.compare(password, row?.passwordHash ?? DUMMY_HASH);
+  if (!row || !ok) return { ok: false, reason: "wrong" };
+  if (row.disabledAt) return { ok: false, reason: "disabled" };
+  await db.update(users).set({ lastSignInAt: new Date() }).where(eq(users.id, row.id));
+  return { ok: true, user: row };
+}

@@ -1,0 +1,47 @@
+import { Link } from "react-router-dom";
+import type { QueueSummary } from "../../../../shared/schemas/queue";
+import { Ago } from "../../../components/ago";
+import { EmptyNote, Panel } from "../../../components/panel";
+import { ProgressBar } from "../../../components/progress-bar";
+import { paths } from "../../../config/paths";
+
+/** What the workers are doing this moment: one row per scan with its stage and progress. */
+export function RunningNow({ running }: { running: QueueSummary["running"] }) {
+  return (
+    <Panel title="Working on now" titleId="running-title">
+      {running.length === 0 ? (
+        <EmptyNote>Nothing is being analysed right now.</EmptyNote>
+      ) : (
+        <ul className="flex flex-col gap-4">
+          {running.map((item) => (
+            <li key={item.scanId}>
+              <div className="flex items-baseline justify-between gap-4">
+                <Link
+                  to={paths.scan(item.scanId)}
+                  className="truncate font-medium text-ink hover:text-accent hover:underline"
+                >
+                  {item.originalName}
+                </Link>
+                <span className="figure shrink-0 text-sm text-ink-soft">{Math.round(item.progress)}%</span>
+              </div>
+              <ProgressBar
+                value={item.progress}
+                label={`Progress for ${item.originalName}`}
+                className="mt-2"
+              />
+              <p className="mt-1.5 text-xs text-ink-muted">
+                {item.stage ?? "Starting"}
+                {item.startedAt && (
+                  <>
+                    {" · started "}
+                    <Ago iso={item.startedAt} />
+                  </>
+                )}
+              </p>
+            </li>
+          ))}
+        </ul>
+      )}
+    </Panel>
+  );
+}

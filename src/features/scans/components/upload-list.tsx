@@ -1,0 +1,89 @@
+import { Link } from "react-router-dom";
+import { formatBytes } from "../../../../shared/units";
+import { Button } from "../../../components/button";
+import { ProgressBar } from "../../../components/progress-bar";
+import { paths } from "../../../config/paths";
+import { cn } from "../../../lib/cn";
+import { useScan } from "../api/get-scan";
+import type { UploadItem } from "../api/upload-scans";
+
+function DuplicateOf({ id }: { id: string }) {
+  const { data } = useScan(id);
+  return (
+    <Link to={paths.scan(id)} className="font-medium underline underline-offset-2 hover:text-accent">
+      {data?.originalName ?? "an earlier scan"}
+    </Link>
+  );
+}
+
+function Result({ item }: { item: UploadItem }) {
+  switch (item.state) {
+    case "waiting":
+      return <span className="text-ink-muted">Waiting to send</span>;
+    case "sending":
+      return (
+        <span className="flex items-center gap-3">
+          <ProgressBar value={item.progress} label={`Uploading ${item.name}`} className="w-40" />
+          <span className="figure w-10 text-right text-xs text-ink-soft">{Math.round(item.progress)}%</span>
+        </span>
+      );
+    case "queued":
+      return (
+        <span className="text-accent-strong">
+          Queued ·{" "}
+          {item.scanId && (
+            <Link to={paths.scan(item.scanId)} className="underline underline-offset-2 hover:text-accent">
+              open
+            </Link>
+          )}
+        </span>
+      );
+    case "duplicate":
+      return (
+        <span className="text-ochre">
+          Duplicate of {item.duplicateOf ? <DuplicateOf id={item.duplicateOf} /> : "an earlier scan"}
+        </span>
+      );
+    case "refused":
+      return <span className="text-brick">Refused: {item.message}</span>;
+  }
+}
+
+/** One line per file sent this session, with its progress and then its result. */
+export function UploadList({ items, onClear }: { items: UploadItem[]; onClear: () => void }) {
+  if (items.length === 0) return null;
+  const finished = items.filter((i) => i.state !== "waiting" && i.state !== "sending").length;
+  return (
+    <section aria-labelledby="uploads-title" className="rounded-xl border border-paper-300 bg-paper-50">
+      <header className="flex items-center justify-between border-b border-paper-200 px-5 py-2.5">
+        <h2 id="uploads-title" className="text-sm font-semibold text-ink-soft">
+          Uploads{" "}
+          <span className="figure ml-1 text-xs font-normal text-ink-muted">
+            {finished}/{items.length} done
+          </span>
+        </h2>
+        {finished > 0 && (
+          <Button size="sm" variant="quiet" onClick={onClear}>
+            Clear finished
+          </Button>
+        )}
+      </header>
+      <ul aria-label="Upload results" className="max-h-64 divide-y divide-paper-200 overflow-y-auto" aria-live="polite">
+        {items.map((item) => (
+          <li
+            key={item.key}
+            className={cn("flex items-center gap-4 px-5 py-2 text-sm", item.state === "refused" && "bg-brick-soft/30")}
+          >
+            <span className="min-w-0 flex-1 truncate font-medium text-ink" title={item.name}>
+              {item.name}
+            </span>
+            <span className="figure w-20 shrink-0 text-right text-xs text-ink-muted">{formatBytes(item.size)}</span>
+            <span className="w-[26rem] shrink-0 text-sm">
+              <Result item={item} />
+            </span>
+          </li>
+        ))}
+      </ul>
+    </section>
+  );
+}

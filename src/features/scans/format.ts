@@ -1,0 +1,41 @@
+import type { ResolutionOrigin, Scan } from "../../../shared/schemas/scans";
+import { formatNumber, formatSize, physicalSize, type PhysicalSize } from "../../../shared/units";
+
+/** Where in the file the resolution was found, in the words of each format's spec. */
+export const ORIGIN_LABELS: Record<ResolutionOrigin, string> = {
+  tiff: "TIFF tags",
+  exif: "EXIF",
+  jfif: "JFIF header",
+  "png-phys": "PNG pHYs",
+};
+
+/** "300 DPI", or "300 × 600 DPI" when the axes differ. */
+export function formatDpi(dpi: NonNullable<Scan["dpi"]>): string {
+  const x = formatNumber(dpi.x, 1);
+  const y = formatNumber(dpi.y, 1);
+  return x === y ? `${x} DPI` : `${x} × ${y} DPI`;
+}
+
+export function formatPixels(scan: Pick<Scan, "width" | "height">): string | null {
+  if (scan.width == null || scan.height == null) return null;
+  return `${scan.width} × ${scan.height} px`;
+}
+
+/** The physical size the server reported, or worked out here from pixels and DPI. */
+export function physicalOf(scan: Pick<Scan, "physical" | "width" | "height" | "dpi">): PhysicalSize | null {
+  if (scan.physical) return scan.physical;
+  if (scan.width == null || scan.height == null || !scan.dpi || !(scan.dpi.x > 0) || !(scan.dpi.y > 0)) {
+    return null;
+  }
+  return physicalSize(scan.width, scan.height, scan.dpi.x, scan.dpi.y);
+}
+
+export function formatPhysical(size: PhysicalSize): { inches: string; cm: string } {
+  return {
+    inches: formatSize(size.widthIn, size.heightIn, "in"),
+    cm: formatSize(size.widthCm, size.heightCm, "cm", 1),
+  };
+}
+
+export const ASSUMED_DPI_HINT =
+  "The file carried no resolution, so the studio's default DPI was used. Physical sizes depend on it: check the scanner's setting.";

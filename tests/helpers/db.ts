@@ -1,0 +1,47 @@
+import crypto from "node:crypto";
+import pg from "pg";
+
+/** Databases for tests, each cloned from a template that holds the migrated schema. */
+export const TEMPLATE_DB = "platen_test_template";
+
+export function adminUrl(): string {
+  const url = process.env.PLATEN_TEST_ADMIN_URL;
+  if (!url) throw new Error("PLATEN_TEST_ADMIN_URL is not set: run the tests with `npm test`.");
+  return url;
+}
+
+export function urlFor(name: string): string {
+  const u = new URL(adminUrl());
+  u.pathname = `/${name}`;
+  return u.toString();
+}
+
+export async function withAdmin<T>(fn: (c: pg.Client) => Promise<T>): Promise<T> {
+  const client = new pg.Client({ connectionString: adminUrl() });
+  await client.connect();
+  try {
+    return await fn(client);
+  } finally {
+    await client.end();
+  }
+}
+
+/** A fresh database for one test file, with the whole schema already in place. */
+export async function createTestDatabase(): Promise<{ name: string; url: string; drop: () => Promise<void> }> {
+  const name = `platen_test_${crypto.randomBytes(5).toString("hex")}`;
+  // CREATE DATABASE ... TEMPLATE needs the template to have no other sessions; retry briefly.
+  for (let i = 0; ; i++) {
+    try {
+      await withAdmin((c) => c.query(`create database ${name} template ${TEMPLATE_DB}`));
+      break;
+    } catch (err) {
+      if (i >= 20) throw err;
+      await new Promise((r) => setTimeout(r, 100 + Math.random() * 200));
+    }
+  }
+  return {
+    name,
+    url: urlFor(name),
+    drop: () => withAdmin((c) => c.query(`drop database if exists ${name} with (force)`)).then(() => {}),
+  };
+}

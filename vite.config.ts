@@ -1,0 +1,25 @@
+import { defineConfig } from "vitest/config";
+import react from "@vitejs/plugin-react";
+import tailwindcss from "@tailwindcss/vite";
+
+const apiPort = Number(process.env.PLATEN_PORT ?? 5480);
+
+export default defineConfig({
+  plugins: [react(), tailwindcss()],
+  build: { outDir: "dist", emptyOutDir: true, sourcemap: true },
+  server: {
+    port: 5173,
+    host: "127.0.0.1",
+    proxy: { "/api": { target: `http://127.0.0.1:${apiPort}`, changeOrigin: false } },
+  },
+  test: {
+    include: ["tests/**/*.test.ts"],
+    globalSetup: ["tests/setup/global.ts"],
+    testTimeout: 60_000,
+    hookTimeout: 120_000,
+    // Two cores: run files two at a time; each file gets its own database.
+    pool: "forks",
+    maxWorkers: 2,
+    fileParallelism: true,
+  },
+});

@@ -1,0 +1,123 @@
+import { eq, sql } from "drizzle-orm";
+import type { Database } from "../../server/db";
+import { scans, studio } from "../../server/db/schema";
+import type { Library } from "../../server/storage/library";
+import { previewKey, thumbKey } from "../../server/storage/library";
+import { notify } from "../../server/services/events";
+import type { Logger } from "../../server/logger";
+import type { Config } from "../../server/config";
+import { analysePayload } from "../../shared/schemas/jobs";
+import { readScanInfo, writePreviews, ScanError } from "../pipeline/metadata";
+
+export { QUEUES } from "../../server/jobs/queues";
+
+export interface AnalyseDeps {
+  database: Database;
+  library: Library;
+  config: Config;
+  log: Logger;
+}
+
+export interface JobContext {
+  jobId: string;
+  retryCount: number;
+  retryLimit: number;
+  /** Aborted when the worker is asked to stop: the job gives the scan back to the queue. */
+  signal?: AbortSignal;
+}
+
+/**
+ * Analyse one scan: read its pixel size, format, depth, colour and resolution, make its preview and
+ * thumbnail, and move it queued → analysing → ready. A file that cannot be read is marked failed
+ * with a message a person can act on (no retry: the original will not change). Anything else
+ * (database, disk) throws so the queue retries with backoff. Safe to run twice.
+ */
+export async function analyseScan(deps: AnalyseDeps, data: unknown, ctx: JobContext): Promise<void> {
+  const { scanId } = analysePayload.parse(data);
+  const { db, pool } = deps.database;
+  const log = deps.log.child({ jobId: ctx.jobId, scanId });
+
+  const [scan] = await db.select().from(scans).where(eq(scans.id, scanId));
+  if (!scan) {
+    log.warn("analyse: scan no longer exists, nothing to do");
+    return;
+  }
+  if (scan.status === "ready" || scan.status === "duplicate") {
+    log.info({ status: scan.status }, "analyse: already done");
+    return;
+  }
+
+  const progress = async (stage: string, pct: number, extra: Partial<typeof scans.$inferInsert> = {}) => {
+    await db
+      .update(scans)
+      .set({ stage, progress: pct, updatedAt: new Date(), ...extra })
+      .where(eq(scans.id, scanId));
+    await notify(pool, { kind: "scan", scanId, status: extra.status ?? "analysing" });
+  };
+
+  await progress("Reading the file", 5, {
+    status: "analysing",
+    error: null,
+    startedAt: new Date(),
+    attempts: sql`${scans.attempts} + 1` as unknown as number,
+  });
+
+  const [studioRow] = await db.select({ defaultDpi: studio.defaultDpi }).from(studio).limit(1);
+  const defaultDpi = studioRow?.defaultDpi ?? deps.config.defaultDpi;
+  const original = deps.library.pathFor(scan.originalKey);
+
+  try {
+    const info = await readScanInfo(original, { defaultDpi, maxPixels: deps.config.maxPixels });
+    await progress("Making the preview", 35, {
+      width: info.width,
+      height: info.height,
+      format: info.format,
+      bitDepth: info.bitDepth,
+      channels: info.channels,
+      colourSpace: info.colourSpace,
+      hasIccProfile: info.hasIccProfile,
+      iccDescription: info.iccDescription,
+      hasAlpha: info.hasAlpha,
+      dpiX: info.dpi.x,
+      dpiY: info.dpi.y,
+      dpiSource: info.dpi.source,
+      resolutionOrigin: info.dpi.origin,
+    });
+    if (deps.config.testAnalyseDelayMs > 0) await holdFor(deps.config.testAnalyseDelayMs, ctx.signal);
+    const pKey = previewKey(scanId);
+    const tKey = thumbKey(scanId);
+    await writePreviews(original, {
+      previewPath: deps.library.pathFor(pKey),
+      thumbPath: deps.library.pathFor(tKey),
+      maxPixels: deps.config.maxPixels,
+    });
+    await progress("Ready", 100, { status: "ready", previewKey: pKey, thumbKey: tKey, analysedAt: new Date() });
+    log.info({ width: info.width, height: info.height, dpi: info.dpi }, "analyse: scan ready");
+  } catch (err) {
+    if (err instanceof ScanError) {
+      await progress("Failed", 100, { status: "failed", error: err.message });
+      log.warn({ code: err.code, reason: err.message }, "analyse: scan failed");
+      return;
+    }
+    const last = ctx.retryCount >= ctx.retryLimit;
+    const message = (err as Error).message;
+    await progress(last ? "Failed" : "Will retry", last ? 100 : 0, {
+      status: last ? "failed" : "queued",
+      error: last
+        ? `Analysis failed after ${ctx.retryCount + 1} attempts: ${message}`
+        : `Attempt ${ctx.retryCount + 1} failed (${message}); retrying.`,
+    }).catch(() => {});
+    throw err;
+  }
+}
+
+/** Waits `ms`, ending early (with an error, so the job is released) when the worker stops. */
+function holdFor(ms: number, signal?: AbortSignal) {
+  return new Promise<void>((resolve, reject) => {
+    const t = setTimeout(resolve, ms);
+    signal?.addEventListener("abort", () => {
+      clearTimeout(t);
+      reject(new Error("worker stopping; job released"));
+    });
+  });
+}

@@ -1,0 +1,100 @@
+import fsp from "node:fs/promises";
+import path from "node:path";
+import { watch, type FSWatcher } from "chokidar";
+import type { IntakeDeps } from "../server/services/intake";
+import { intakeFile } from "../server/services/intake";
+import { startHeartbeat } from "../server/services/processes";
+import { notify } from "../server/services/events";
+
+/** Names a scanner or a copy leaves while it is still writing, and hidden files: never taken in. */
+export function isIgnoredName(name: string): boolean {
+  const base = path.basename(name);
+  return (
+    base.startsWith(".") ||
+    base.startsWith("~") ||
+    base.endsWith("~") ||
+    /\.(part|partial|tmp|temp|crdownload|download|swp)$/i.test(base)
+  );
+}
+
+export interface WatcherOptions {
+  folder: string;
+  /** How long a file must stop growing before it is taken in (ms). */
+  stableMs: number;
+  pollMs: number;
+}
+
+/**
+ * Watches the inbox: files already there and every new one, once it has stopped growing, go
+ * through the same intake as uploads, one at a time. A file that cannot be taken in stays in the
+ * inbox and is tried again with backoff; the watcher keeps going.
+ */
+export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
+  const folder = path.resolve(opts.folder);
+  await fsp.mkdir(folder, { recursive: true });
+  const log = deps.log.child({ folder });
+  const heartbeat = startHeartbeat(deps.database.db, "watcher", { folder });
+  await heartbeat.ready;
+  await notify(deps.database.pool, { kind: "watcher" }).catch(() => {});
+
+  let chain: Promise<void> = Promise.resolve();
+  const inFlight = new Set<string>();
+  const timers = new Set<NodeJS.Timeout>();
+  let closed = false;
+
+  const take = (file: string, attempt = 1) => {
+    if (closed || inFlight.has(file)) return;
+    inFlight.add(file);
+    chain = chain.then(async () => {
+      const name = path.relative(folder, file).split(path.sep).join("/");
+      try {
+        await fsp.access(file);
+      } catch {
+        inFlight.delete(file);
+        return;
+      }
+      try {
+        await heartbeat.sawFile(name);
+        const r = await intakeFile(deps, { path: file, originalName: path.basename(file), source: "inbox", removeSource: true });
+        await notify(deps.database.pool, { kind: "watcher", scanId: r.scanId });
+        inFlight.delete(file);
+      } catch (err) {
+        inFlight.delete(file);
+        const wait = Math.min(60_000, 1000 * 2 ** attempt);
+        log.error({ err, file: name, attempt, retryInMs: wait }, "watcher: could not take in the file; it stays in the inbox");
+        if (!closed) {
+          const t = setTimeout(() => {
+            timers.delete(t);
+            take(file, attempt + 1);
+          }, wait);
+          timers.add(t);
+        }
+      }
+    });
+  };
+
+  const watcher: FSWatcher = watch(folder, {
+    ignoreInitial: false,
+    depth: 3,
+    ignored: (p, stats) => p !== folder && (isIgnoredName(p) || (stats?.isFile() === false && stats?.isDirectory() === false)),
+    awaitWriteFinish: { stabilityThreshold: opts.stableMs, pollInterval: opts.pollMs },
+  });
+  watcher.on("add", (file) => take(file));
+  watcher.on("change", (file) => take(file));
+  watcher.on("error", (err) => log.error({ err }, "watcher error"));
+  await new Promise<void>((resolve) => watcher.once("ready", () => resolve()));
+  log.info({ stableMs: opts.stableMs }, "watching the inbox");
+
+  return {
+    heartbeatId: heartbeat.id,
+    /** Resolves when every file seen so far has been handled. */
+    idle: () => chain,
+    async close() {
+      closed = true;
+      timers.forEach(clearTimeout);
+      await watcher.close();
+      await chain;
+      await heartbeat.stop();
+    },
+  };
+}

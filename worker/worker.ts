@@ -1,0 +1,65 @@
+import type PgBoss from "pg-boss";
+import type { Database } from "../server/db";
+import type { Library } from "../server/storage/library";
+import type { Logger } from "../server/logger";
+import type { Config } from "../server/config";
+import { startHeartbeat } from "../server/services/processes";
+import { notify } from "../server/services/events";
+import { QUEUES, analyseScan } from "./jobs/analyse";
+
+export interface WorkerDeps {
+  config: Config;
+  database: Database;
+  boss: PgBoss;
+  library: Library;
+  log: Logger;
+}
+
+/**
+ * Runs the job handlers with the configured concurrency. A handler that throws is logged with its
+ * job's context and retried by the queue; the worker itself carries on.
+ */
+export async function startWorker(deps: WorkerDeps) {
+  const { boss, log, config } = deps;
+  const heartbeat = startHeartbeat(deps.database.db, "worker");
+  await heartbeat.ready;
+  await notify(deps.database.pool, { kind: "worker" }).catch(() => {});
+  const stopping = new AbortController();
+
+  const workerIds: string[] = [];
+  for (let i = 0; i < config.workerConcurrency; i++) {
+    workerIds.push(
+      await boss.work(
+        QUEUES.analyse,
+        { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 },
+        async (jobs) => {
+          for (const job of jobs) {
+            const ctx = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal };
+            try {
+              await analyseScan(deps, job.data, ctx);
+            } catch (err) {
+              log.error({ err, jobId: job.id, queue: job.name, data: job.data, retryCount: job.retryCount }, "job failed");
+              throw err;
+            }
+          }
+        },
+      ),
+    );
+  }
+  log.info({ concurrency: config.workerConcurrency, heartbeat: heartbeat.id }, "worker ready");
+
+  return {
+    heartbeatId: heartbeat.id,
+    /** Stops taking jobs, lets the ones in hand finish (up to `timeoutMs`), then releases the rest. */
+    async stop(timeoutMs = 20_000) {
+      for (const id of workerIds) await boss.offWork({ id } as unknown as string).catch(() => {});
+      const done = boss.stop({ graceful: true, timeout: timeoutMs, wait: true });
+      // Past the grace period, ask long-running steps to give up so the job is released for retry.
+      const t = setTimeout(() => stopping.abort(), Math.max(timeoutMs - 500, 0));
+      await done;
+      clearTimeout(t);
+      await heartbeat.stop();
+      await notify(deps.database.pool, { kind: "worker" }).catch(() => {});
+    },
+  };
+}
