@@ -16,9 +16,13 @@ const started = startCluster({ ...cluster, log: (l) => console.log(l) });
 let status = 1;
 try {
   const bin = (name: string) => path.join(root, "node_modules", ".bin", name);
-  const build = spawnSync(bin("vite"), ["build", "--logLevel", "warn"], { cwd: root, stdio: "inherit" });
-  if (build.status !== 0) throw new Error("The client build failed; see above.");
-  const run = spawnSync(bin("vitest"), ["run", ...process.argv.slice(2)], {
+  const args = process.argv.slice(2);
+  // `--no-build` reuses the last client build (quicker when only server tests are run).
+  if (!args.includes("--no-build")) {
+    const build = spawnSync(bin("vite"), ["build", "--logLevel", "warn"], { cwd: root, stdio: "inherit" });
+    if (build.status !== 0) throw new Error("The client build failed; see above.");
+  }
+  const run = spawnSync(bin("vitest"), ["run", ...args.filter((a) => a !== "--no-build")], {
     cwd: root,
     stdio: "inherit",
     env: {
