@@ -10,7 +10,6 @@ import { stopCluster } from "./lib/pg-cluster";
  */
 const cfg = loadConfig();
 const root = cfg.root;
-const tsx = path.join(root, "node_modules", ".bin", "tsx");
 const useCluster = !process.env.DATABASE_URL;
 
 const { startedCluster, admin, demoFiles } = await prepare(cfg, { cluster: useCluster });
@@ -28,7 +27,8 @@ const children = new Map<string, ChildProcess>();
 let stopping = false;
 
 function run(name: string, script: string) {
-  const child = spawn(tsx, [script], {
+  // node --import tsx: one process per part, so signals reach it directly.
+  const child = spawn(process.execPath, ["--import", "tsx", script], {
     cwd: root,
     stdio: ["ignore", "inherit", "inherit"],
     env: { ...process.env, PLATEN_PROCESS: name },

@@ -34,7 +34,7 @@ const envSchema = z.object({
   PLATEN_MAX_UPLOAD_MB: int(1, 100_000).default(DEFAULT_MAX_UPLOAD_MB),
   PLATEN_WORKER_CONCURRENCY: int(1, 64).default(2),
   PLATEN_JOB_RETRY_LIMIT: int(0, 100).default(3),
-  PLATEN_JOB_EXPIRE_SECONDS: int(5, 86_400).default(900),
+  PLATEN_JOB_EXPIRE_SECONDS: int(1, 86_400).default(900),
   PLATEN_MAINTENANCE_SECONDS: int(1, 3600).default(30),
   PLATEN_INBOX_STABLE_MS: int(50, 600_000).default(2000),
   PLATEN_INBOX_POLL_MS: int(10, 60_000).default(250),

@@ -37,7 +37,8 @@ export function handle<S extends RouteSpec>(
   before: ((req: Request, res: Response, next: NextFunction) => void)[] = [],
 ): void {
   const method = spec.method.toLowerCase() as "get" | "post" | "patch" | "delete";
-  router[method](spec.path, ...before, async (req: Request, res: Response) => {
+  // Routers are mounted under /api; the table holds the full path.
+  router[method](spec.path.replace(/^\/api/, ""), ...before, async (req: Request, res: Response) => {
     const ctx = {
       params: parse(spec.params, req.params, "path"),
       query: parse(spec.query, req.query, "query"),

@@ -30,6 +30,8 @@ export interface BaselineTiffOptions {
   resolutionUnit?: 1 | 2 | 3;
   /** Grey value 0–255 for every pixel. */
   grey?: number;
+  /** Write the header only, as a file cut off right after its IFD (or one claiming a huge size). */
+  omitPixelData?: boolean;
 }
 
 /**
@@ -62,7 +64,7 @@ export function baselineTiff(o: BaselineTiffOptions): Buffer {
   const rationals = entries.filter((e) => e.type === RATIONAL);
   const rationalsOffset = ifdOffset + ifdSize;
   const pixelsOffset = rationalsOffset + rationals.length * 8;
-  const buf = Buffer.alloc(pixelsOffset + o.width * o.height, o.grey ?? 200);
+  const buf = Buffer.alloc(pixelsOffset + (o.omitPixelData ? 0 : o.width * o.height), o.grey ?? 200);
 
   buf.write("II", 0, "latin1");
   buf.writeUInt16LE(42, 2);

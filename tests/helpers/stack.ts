@@ -144,7 +144,8 @@ export async function userAgent(stack: Stack, role: "viewer" | "operator" | "adm
 /** Spawns one of the project's processes (server/main.ts, worker/main.ts, worker/watch.ts). */
 export function spawnProcess(script: string, env: Record<string, string>): ChildProcess {
   const root = path.resolve(import.meta.dirname, "../..");
-  return spawn(path.join(root, "node_modules", ".bin", "tsx"), [script], {
+  // One process (no wrapper), so a signal or a kill reaches the worker itself.
+  return spawn(process.execPath, ["--import", "tsx", script], {
     cwd: root,
     env: { ...process.env, ...env },
     stdio: ["ignore", "pipe", "pipe"],

@@ -67,6 +67,12 @@ export async function analyseScan(deps: AnalyseDeps, data: unknown, ctx: JobCont
   const original = deps.library.pathFor(scan.originalKey);
 
   try {
+    if (!(await deps.library.exists(scan.originalKey))) {
+      throw new ScanError(
+        "unreadable",
+        "The original is missing from the library. Restore the library folder from a backup, or drop the scan in the inbox again.",
+      );
+    }
     const info = await readScanInfo(original, { defaultDpi, maxPixels: deps.config.maxPixels });
     await progress("Making the preview", 35, {
       width: info.width,

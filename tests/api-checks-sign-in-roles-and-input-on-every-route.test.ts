@@ -1,0 +1,269 @@
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import supertest from "supertest";
+import { API, apiPath, type RouteName, type RouteSpec } from "../shared/api";
+import { ROLES, hasRole, type Role } from "../shared/roles";
+import { apiErrorSchema } from "../shared/errors";
+import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { paperScan } from "./helpers/fixtures";
+import { intakes, scans } from "../server/db/schema";
+import { eq } from "drizzle-orm";
+
+let stack: Stack;
+let agents: Record<Role, supertest.Agent>;
+let failedScanId: string;
+let viewerId: string;
+let png: Buffer;
+
+beforeAll(async () => {
+  stack = await startStack({ watcher: false, env: { PLATEN_LOGIN_LIMIT: "5", PLATEN_MAX_UPLOAD_MB: "1" } });
+  agents = {
+    viewer: await userAgent(stack, "viewer"),
+    operator: await userAgent(stack, "operator"),
+    admin: await userAgent(stack, "admin"),
+  };
+  const [intake] = await stack.db.insert(intakes).values({ name: "Matrix intake" }).returning();
+  const [scan] = await stack.db
+    .insert(scans)
+    .values({
+      intakeId: intake!.id,
+      originalName: "failed-one.tif",
+      source: "inbox",
+      sha256: "f".repeat(64),
+      sizeBytes: 10,
+      originalKey: `originals/ff/${"f".repeat(64)}.tif`,
+      status: "failed",
+      error: "The file is empty (0 bytes)",
+    })
+    .returning();
+  failedScanId = scan!.id;
+  const me = await agents.viewer.get("/api/auth/me");
+  viewerId = me.body.user.id;
+  png = await paperScan({ format: "png", width: 300, height: 200 });
+});
+afterAll(async () => {
+  await stack?.stop();
+});
+
+let counter = 0;
+/** A well-formed request for each route, so that an allowed role gets past validation. */
+function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supertest.Test {
+  const spec: RouteSpec = API[name];
+  const params: Record<string, string> = { id: name.startsWith("users") ? viewerId : failedScanId };
+  const url = apiPath(spec, spec.path.includes(":") ? params : {});
+  const m = spec.method.toLowerCase() as "get" | "post" | "patch" | "delete";
+  const req = (agent as supertest.Agent)[m](url);
+  switch (name) {
+    case "login":
+      return req.send({ email: "nobody@test.example", password: "wrong-password" });
+    case "usersCreate":
+      return req.send({ email: `made-${++counter}@test.example`, name: "Made", role: "viewer", password: "a-long-password" });
+    case "usersUpdate":
+      return req.send({ name: `Renamed ${++counter}` });
+    case "intakesCreate":
+      return req.send({ name: `Session ${++counter}` });
+    case "scansUpload":
+      return req.attach("files", png, `upload-${++counter}.png`);
+    default:
+      return req;
+  }
+}
+
+const routes = Object.entries(API) as [RouteName, RouteSpec][];
+
+describe("every API route", () => {
+  it.each(routes.filter(([, s]) => s.access !== "public").map(([n]) => n))(
+    "%s refuses a signed-out request with 401 and the error shape",
+    async (name) => {
+      const res = await send(stack.agent(), name);
+      expect(res.status).toBe(401);
+      expect(apiErrorSchema.parse(res.body).error).toEqual({ code: "unauthenticated", message: "Sign in to continue." });
+    },
+  );
+
+  it("answers an undeclared route with 404, signed in or not", async () => {
+    for (const agent of [stack.agent(), agents.admin]) {
+      const res = await agent.get("/api/not-a-route");
+      expect(res.status).toBe(404);
+      expect(res.body.error.message).toBe("There is no API route GET /api/not-a-route.");
+    }
+  });
+});
+
+describe("the role matrix over every route that changes data", () => {
+  const mutating = routes.filter(([n, s]) => s.mutates && s.access !== "public" && n !== "logout");
+  for (const [name, spec] of mutating) {
+    for (const role of ROLES) {
+      const allowed = hasRole(role, spec.access as Role);
+      it(`${role} ${allowed ? "may" : "may not"} call ${name} (${spec.method} ${spec.path})`, async () => {
+        const res = await send(agents[role], name);
+        if (allowed) {
+          expect([401, 403], JSON.stringify(res.body)).not.toContain(res.status);
+          expect(res.status).toBeLessThan(500);
+        } else {
+          expect(res.status).toBe(403);
+          expect(res.body.error.code).toBe("forbidden");
+          expect(res.body.error.message).toMatch(new RegExp(`^Your role \\(${role}\\) does not allow this`));
+        }
+      });
+    }
+  }
+
+  it("every role may sign out, and the session is gone afterwards", async () => {
+    for (const role of ROLES) {
+      const agent = await userAgent(stack, role, `leaving-${role}@test.example`);
+      expect((await agent.post("/api/auth/logout")).status).toBe(204);
+      expect((await agent.get("/api/auth/me")).status).toBe(401);
+    }
+  });
+
+  it("viewers read but the users list is for admins only", async () => {
+    expect((await agents.viewer.get("/api/scans")).status).toBe(200);
+    expect((await agents.viewer.get("/api/queue")).status).toBe(200);
+    expect((await agents.viewer.get("/api/users")).status).toBe(403);
+    expect((await agents.operator.get("/api/users")).status).toBe(403);
+    expect((await agents.admin.get("/api/users")).status).toBe(200);
+  });
+});
+
+describe("requests are validated and changes must come from the app", () => {
+  it("names the field at fault", async () => {
+    let res = await agents.admin.patch("/api/users/not-an-id").send({ role: "viewer" });
+    expect(res.status).toBe(400);
+    expect(res.body.error).toEqual({ code: "bad_request", message: "id: Expected an id in UUID form", field: "id" });
+
+    res = await agents.admin.post("/api/users").send({ email: "not-an-address", name: "X", role: "viewer", password: "a-long-password" });
+    expect(res.status).toBe(400);
+    expect(res.body.error.field).toBe("email");
+    expect(res.body.error.message).toBe("email: Expected an e-mail address such as name@studio.example");
+
+    res = await agents.admin.post("/api/users").send({ email: "short@test.example", name: "X", role: "viewer", password: "short" });
+    expect(res.body.error.message).toBe("password: Expected a password of at least 10 characters but received 5");
+
+    res = await agents.admin.post("/api/users").send({ email: "role@test.example", name: "X", role: "owner", password: "a-long-password" });
+    expect(res.status).toBe(400);
+    expect(res.body.error.field).toBe("role");
+
+    res = await agents.viewer.get("/api/scans?sort=colour");
+    expect(res.status).toBe(400);
+    expect(res.body.error.field).toBe("sort");
+
+    res = await agents.admin.post("/api/intakes").set("Content-Type", "application/json").send('{"name": ');
+    expect(res.status).toBe(400);
+    expect(res.body.error.message).toBe("The request body is not valid JSON.");
+  });
+
+  it("refuses a change without the app's header or from another site", async () => {
+    const bare = supertest.agent(stack.url);
+    const login = await bare.post("/api/auth/login").send({ email: "admin@test.example", password: "admin-password-123" });
+    expect(login.status).toBe(403);
+    expect(login.body.error.message).toMatch(/missing X-Platen-Request header/);
+    const res = await agents.admin.post("/api/intakes").set("Origin", "http://evil.example").send({ name: "x" });
+    expect(res.status).toBe(403);
+    expect(res.body.error.message).toBe("Refused: a change from another site (http://evil.example).");
+  });
+
+  it("sets security headers and a session cookie that scripts cannot read", async () => {
+    const res = await stack.agent().post("/api/auth/login").send({ email: "admin@test.example", password: "admin-password-123" });
+    expect(res.status).toBe(200);
+    const cookie = String(res.headers["set-cookie"]);
+    expect(cookie).toMatch(/platen\.sid=/);
+    expect(cookie).toMatch(/HttpOnly/);
+    expect(cookie).toMatch(/SameSite=Lax/);
+    expect(res.headers["content-security-policy"]).toContain("default-src 'self'");
+    expect(res.headers["x-content-type-options"]).toBe("nosniff");
+    expect(res.headers["x-frame-options"]).toBe("SAMEORIGIN");
+    expect(res.headers["x-powered-by"]).toBeUndefined();
+  });
+});
+
+describe("sign-in", () => {
+  it("says what went wrong, refuses disabled accounts and ends their sessions", async () => {
+    const res = await stack.agent().post("/api/auth/login").send({ email: "admin@test.example", password: "not-it-at-all" });
+    expect(res.status).toBe(401);
+    expect(res.body.error.message).toBe("Wrong e-mail or password.");
+
+    const soon = await userAgent(stack, "viewer", "soon-disabled@test.example");
+    const users = (await agents.admin.get("/api/users")).body.users as { id: string; email: string }[];
+    const target = users.find((u) => u.email === "soon-disabled@test.example")!;
+    expect((await agents.admin.patch(`/api/users/${target.id}`).send({ disabled: true })).body.user.disabled).toBe(true);
+    expect((await soon.get("/api/auth/me")).status).toBe(401);
+    const again = await stack.agent().post("/api/auth/login").send({ email: "soon-disabled@test.example", password: "viewer-password-123" });
+    expect(again.status).toBe(401);
+    expect(again.body.error.message).toBe("This account is disabled. Ask a studio admin to enable it.");
+  });
+
+  it("an admin cannot demote or disable their own account", async () => {
+    const me = (await agents.admin.get("/api/auth/me")).body.user;
+    let res = await agents.admin.patch(`/api/users/${me.id}`).send({ role: "viewer" });
+    expect(res.status).toBe(403);
+    expect(res.body.error.message).toBe("You cannot take the admin role from your own account; ask another admin.");
+    res = await agents.admin.patch(`/api/users/${me.id}`).send({ disabled: true });
+    expect(res.status).toBe(403);
+  });
+
+  it("refuses a second account with the same e-mail", async () => {
+    const res = await agents.admin.post("/api/users").send({ email: "Operator@Test.example", name: "Again", role: "viewer", password: "a-long-password" });
+    expect(res.status).toBe(409);
+    expect(res.body.error).toEqual({ code: "conflict", message: "A user with the e-mail operator@test.example already exists.", field: "email" });
+  });
+
+  it("is rate-limited per address and e-mail", async () => {
+    const agent = stack.agent();
+    const statuses: number[] = [];
+    for (let i = 0; i < 7; i++) {
+      statuses.push((await agent.post("/api/auth/login").send({ email: "target@test.example", password: `guess-${i}` })).status);
+    }
+    expect(statuses).toEqual([401, 401, 401, 401, 401, 429, 429]);
+    const last = await agent.post("/api/auth/login").send({ email: "target@test.example", password: "guess" });
+    expect(last.body.error.message).toBe("Too many sign-in attempts. Wait 15 minutes and try again.");
+  });
+});
+
+describe("uploads", () => {
+  it("go through the same intake as the inbox and are analysed", async () => {
+    const res = await agents.operator.post("/api/scans/upload").attach("files", await paperScan({ format: "png", seed: 5 }), "from-browser.png");
+    expect(res.status).toBe(201);
+    const [result] = res.body.results;
+    expect(result.originalName).toBe("from-browser.png");
+    const scan = await waitFor("the upload to be ready", async () => {
+      const r = await agents.viewer.get(`/api/scans/${result.scanId}`);
+      return r.body.scan.status === "ready" ? r.body.scan : null;
+    });
+    expect(scan.source).toBe("upload");
+    // 300 DPI is stored in pHYs as 11811 pixels per metre (PNG 11.3.5.3), which reads back as 299.9994.
+    expect(scan.dpi).toMatchObject({ source: "embedded", origin: "png-phys" });
+    expect(scan.dpi.x).toBeCloseTo(300, 2);
+    const thumb = await agents.viewer.get(`/api/scans/${result.scanId}/thumb`);
+    expect(thumb.status).toBe(200);
+    expect(thumb.headers["content-type"]).toBe("image/jpeg");
+  });
+
+  it("refuse content that is not an image, whatever its name, and files over the limit", async () => {
+    let res = await agents.operator.post("/api/scans/upload").attach("files", Buffer.from("just some notes\n"), "looks-like.tif");
+    expect(res.status).toBe(415);
+    expect(res.body.error.message).toBe("Not a scan Platen can read: looks-like.tif (its content is not an image). Expected TIFF, JPEG, PNG or WebP.");
+    res = await agents.operator.post("/api/scans/upload").attach("files", Buffer.alloc(1.5 * 1024 * 1024, 1), "big.tif");
+    expect(res.status).toBe(413);
+    expect(res.body.error.message).toBe("The file is larger than the upload limit of 1 MB.");
+    res = await agents.operator.post("/api/scans/upload").send({});
+    expect(res.status).toBe(400);
+    const rows = await stack.db.select().from(scans).where(eq(scans.originalName, "looks-like.tif"));
+    expect(rows).toHaveLength(0);
+  });
+
+  it("a failed scan can be retried by an operator, once", async () => {
+    const [intake] = await stack.db.select().from(intakes).limit(1);
+    const [row] = await stack.db
+      .insert(scans)
+      .values({ intakeId: intake!.id, originalName: "retry-me.tif", source: "inbox", sha256: "e".repeat(64), sizeBytes: 1, originalKey: `originals/ee/${"e".repeat(64)}`, status: "failed", error: "x" })
+      .returning();
+    const res = await agents.operator.post(`/api/scans/${row!.id}/retry`);
+    expect(res.status).toBe(200);
+    expect(["queued", "analysing", "failed"]).toContain(res.body.scan.status);
+    const again = await waitFor("the retried scan to fail again (its original is missing)", async () => {
+      const r = await agents.viewer.get(`/api/scans/${row!.id}`);
+      return r.body.scan.status === "failed" && r.body.scan.attempts >= 1 ? r.body.scan : null;
+    }, 30_000);
+    expect(again.attempts).toBeGreaterThanOrEqual(1);
+  });
+});
