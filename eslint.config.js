@@ -31,7 +31,12 @@ export default tseslint.config(
           zones: [
             { target: "./src", from: ["./server", "./worker", "./scripts", "./tests"], message: "Client code must not import server, worker or script code." },
             { target: "./shared", from: ["./src", "./server", "./worker", "./scripts", "./tests"], message: "shared/ imports nothing of ours." },
-            { target: "./server", from: ["./worker", "./src"], message: "The server must not import worker or client code." },
+            {
+              target: "./server",
+              from: ["./worker", "./src"],
+              except: ["./pipeline"],
+              message: "The server may use the image pipeline (worker/pipeline) but no other worker or client code.",
+            },
             { target: "./src/features", from: "./src/app", message: "Features must not import the app layer." },
             ...features.map((f) => ({
               target: `./src/features/${f}`,

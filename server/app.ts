@@ -22,6 +22,7 @@ import { queueRouter } from "./routes/queue";
 import { intakesRouter } from "./routes/intakes";
 import { studioRouter } from "./routes/studio";
 import { eventsRouter } from "./routes/events";
+import { fragmentsRouter } from "./routes/fragments";
 
 export interface AppDeps {
   config: Config;
@@ -91,6 +92,7 @@ export function createApp(deps: AppDeps): express.Express {
   api.use(eventsRouter(deps));
   api.use(intakesRouter(deps));
   api.use(scansRouter(deps));
+  api.use(fragmentsRouter(deps));
   api.use(usersRouter(deps));
   api.use((req, _res, next) => next(new AppError(404, "not_found", `There is no API route ${req.method} ${req.originalUrl}.`)));
   app.use("/api", api);

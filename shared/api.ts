@@ -3,6 +3,14 @@ import type { Access } from "./roles";
 import { loginBody } from "./schemas/auth";
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
 import { createIntakeBody, scanListQuery } from "./schemas/scans";
+import {
+  drawFragmentBody,
+  fragmentListQuery,
+  fragmentOutputParams,
+  mergeFragmentsBody,
+  resplitBody,
+  updateFragmentBody,
+} from "./schemas/fragments";
 
 export type HttpMethod = "GET" | "POST" | "PATCH" | "DELETE";
 
@@ -75,6 +83,88 @@ export const API = {
     access: "operator",
     mutates: true,
     params: idParams,
+  }),
+
+  scanFragments: route({
+    method: "GET",
+    path: "/api/scans/:id/fragments",
+    access: "viewer",
+    mutates: false,
+    params: idParams,
+  }),
+  fragmentsDraw: route({
+    method: "POST",
+    path: "/api/scans/:id/fragments",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+    body: drawFragmentBody,
+  }),
+  fragmentsApproveRemaining: route({
+    method: "POST",
+    path: "/api/scans/:id/approve-remaining",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+  }),
+  scansResplit: route({
+    method: "POST",
+    path: "/api/scans/:id/resplit",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+    body: resplitBody,
+  }),
+  fragmentsList: route({
+    method: "GET",
+    path: "/api/fragments",
+    access: "viewer",
+    mutates: false,
+    query: fragmentListQuery,
+  }),
+  fragmentsGet: route({ method: "GET", path: "/api/fragments/:id", access: "viewer", mutates: false, params: idParams }),
+  fragmentsUpdate: route({
+    method: "PATCH",
+    path: "/api/fragments/:id",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+    body: updateFragmentBody,
+  }),
+  fragmentsReset: route({
+    method: "POST",
+    path: "/api/fragments/:id/reset",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+  }),
+  fragmentsMerge: route({
+    method: "POST",
+    path: "/api/fragments/merge",
+    access: "operator",
+    mutates: true,
+    body: mergeFragmentsBody,
+  }),
+  fragmentsUnmerge: route({
+    method: "POST",
+    path: "/api/fragments/:id/unmerge",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+  }),
+  fragmentsThumb: route({
+    method: "GET",
+    path: "/api/fragments/:id/thumb",
+    access: "viewer",
+    mutates: false,
+    params: idParams,
+  }),
+  fragmentsOutput: route({
+    method: "GET",
+    path: "/api/fragments/:id/outputs/:kind",
+    access: "viewer",
+    mutates: false,
+    params: fragmentOutputParams,
   }),
 
   usersList: route({ method: "GET", path: "/api/users", access: "admin", mutates: false }),

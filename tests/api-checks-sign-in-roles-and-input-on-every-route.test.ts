@@ -241,7 +241,7 @@ describe("uploads", () => {
   it("refuse content that is not an image, whatever its name, and files over the limit", async () => {
     let res = await agents.operator.post("/api/scans/upload").attach("files", Buffer.from("just some notes\n"), "looks-like.tif");
     expect(res.status).toBe(415);
-    expect(res.body.error.message).toBe("Not a scan Platen can read: looks-like.tif (its content is not an image). Expected TIFF, JPEG, PNG or WebP.");
+    expect(res.body.error.message).toBe("Not a scan Platen can read: looks-like.tif (it holds plain text). Expected TIFF, JPEG, PNG or WebP.");
     res = await agents.operator.post("/api/scans/upload").attach("files", Buffer.alloc(1.5 * 1024 * 1024, 1), "big.tif");
     expect(res.status).toBe(413);
     expect(res.body.error.message).toBe("The file is larger than the upload limit of 1 MB.");

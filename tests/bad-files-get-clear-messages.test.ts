@@ -6,7 +6,13 @@ import fs from "node:fs";
 import path from "node:path";
 import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import { ScanError, readScanInfo, verifyDecodes, writePreviews, type ScanErrorCode } from "../worker/pipeline/metadata";
+import {
+  ScanError,
+  readScanInfo,
+  verifyDecodes,
+  writePreviews,
+  type ScanErrorCode,
+} from "../worker/pipeline/metadata";
 import { baselineTiff, makeTempDir, sha256File } from "./helpers/scan-bytes";
 
 const limits = { defaultDpi: 300, maxPixels: 100_000_000 };
@@ -20,7 +26,15 @@ function save(name: string, content: Buffer | string): string {
 }
 
 const noise = (width: number, height: number) =>
-  sharp({ create: { width, height, channels: 3, noise: { type: "gaussian", mean: 128, sigma: 40 } } });
+  sharp({
+    create: {
+      width,
+      height,
+      channels: 3,
+      background: "#808080",
+      noise: { type: "gaussian", mean: 128, sigma: 40 },
+    },
+  });
 
 /** Runs `fn`, expects a ScanError, returns it. */
 async function scanError(fn: () => Promise<unknown>): Promise<ScanError> {
@@ -35,11 +49,23 @@ async function scanError(fn: () => Promise<unknown>): Promise<ScanError> {
 
 function previewTargets(name: string, maxPixels = limits.maxPixels) {
   const dir = path.join(tmp.dir, `previews-${name}`);
-  return { dir, targets: { previewPath: path.join(dir, "preview.jpg"), thumbPath: path.join(dir, "thumb.jpg"), maxPixels } };
+  return {
+    dir,
+    targets: {
+      previewPath: path.join(dir, "preview.jpg"),
+      thumbPath: path.join(dir, "thumb.jpg"),
+      maxPixels,
+    },
+  };
 }
 
 /** Every entry point, each expected to fail the same way on the same file. */
-async function expectEveryCallFails(file: string, code: ScanErrorCode, message: string, maxPixels = limits.maxPixels) {
+async function expectEveryCallFails(
+  file: string,
+  code: ScanErrorCode,
+  message: string,
+  maxPixels = limits.maxPixels,
+) {
   const before = sha256File(file);
   const { dir, targets } = previewTargets(path.basename(file), maxPixels);
   for (const call of [
@@ -84,7 +110,9 @@ describe("files that are not scans", () => {
   });
 
   it("a GIF is 'unsupported': an image, but not a scan format", async () => {
-    const gif = await sharp({ create: { width: 8, height: 8, channels: 3, background: "#336699" } }).gif().toBuffer();
+    const gif = await sharp({ create: { width: 8, height: 8, channels: 3, background: "#336699" } })
+      .gif()
+      .toBuffer();
     await expectEveryCallFails(
       save("sticker.png", gif),
       "unsupported",
@@ -92,11 +120,56 @@ describe("files that are not scans", () => {
     );
   });
 
+  it.each([
+    [
+      "a ZIP archive",
+      Buffer.from([0x50, 0x4b, 3, 4, 20, 0, 0, 0, 8, 0]),
+      "not_image",
+      "a ZIP archive",
+    ],
+    [
+      "an HTML page",
+      Buffer.from("<!DOCTYPE html><html><body>Scans</body></html>"),
+      "not_image",
+      "an HTML page",
+    ],
+    [
+      "text that starts like a BMP",
+      Buffer.from("BM notes from the lid test, fourteen pieces\n"),
+      "not_image",
+      "plain text",
+    ],
+    [
+      "random binary data",
+      Buffer.from([0, 1, 2, 3, 200, 201, 0, 0, 9, 17, 99, 0]),
+      "not_image",
+      "data of an unknown kind",
+    ],
+    [
+      "an SVG drawing",
+      Buffer.from('<svg xmlns="http://www.w3.org/2000/svg"/>'),
+      "unsupported",
+      "an SVG drawing",
+    ],
+  ] as const)("%s is named in the message", async (_label, bytes, code, what) => {
+    const err = await scanError(() =>
+      readScanInfo(save(`named-${what.replace(/\W+/g, "-")}.tif`, bytes), limits),
+    );
+    expect(err.code).toBe(code);
+    expect(err.message).toContain(
+      code === "not_image"
+        ? `The file holds ${what}, not an image`
+        : `The file is ${what}, a format`,
+    );
+  });
+
   it("a missing file and a folder are 'unreadable', naming the path", async () => {
     const missing = path.join(tmp.dir, "gone.tif");
     const err = await scanError(() => readScanInfo(missing, limits));
     expect(err.code).toBe("unreadable");
-    expect(err.message).toBe(`The file ${missing} does not exist or cannot be opened. Check the path and that the file is still there.`);
+    expect(err.message).toBe(
+      `The file ${missing} does not exist or cannot be opened. Check the path and that the file is still there.`,
+    );
     const folder = path.join(tmp.dir, "a-folder.tif");
     fs.mkdirSync(folder);
     const dirErr = await scanError(() => verifyDecodes(folder, limits.maxPixels));
@@ -164,7 +237,10 @@ describe("scans over the pixel limit", () => {
   });
 
   it("a TIFF header claiming 60000 × 60000 px is refused from its header alone", async () => {
-    const file = save("claims-huge.tif", baselineTiff({ width: 60_000, height: 60_000, omitPixelData: true }));
+    const file = save(
+      "claims-huge.tif",
+      baselineTiff({ width: 60_000, height: 60_000, omitPixelData: true }),
+    );
     expect(fs.statSync(file).size).toBeLessThan(1000);
     await expectEveryCallFails(
       file,
@@ -175,7 +251,9 @@ describe("scans over the pixel limit", () => {
 
   it("a scan of exactly the limit is accepted", async () => {
     const file = save("exact.png", await noise(1000, 1000).png().toBuffer());
-    await expect(readScanInfo(file, { ...limits, maxPixels: 1_000_000 })).resolves.toMatchObject({ width: 1000 });
+    await expect(readScanInfo(file, { ...limits, maxPixels: 1_000_000 })).resolves.toMatchObject({
+      width: 1000,
+    });
     await expect(verifyDecodes(file, 1_000_000)).resolves.toBeUndefined();
   });
 });

@@ -55,7 +55,16 @@ beforeAll(async () => {
     .tiff({ compression: "deflate", xres: 300 / 25.4, yres: 300 / 25.4 })
     .toFile(letterTiff);
   plainPng = path.join(tmp.dir, "plain.png");
-  const png = await sharp({ create: { width: 480, height: 240, channels: 4, background: { r: 10, g: 20, b: 30, alpha: 0.5 } } }).png().toBuffer();
+  const png = await sharp({
+    create: {
+      width: 480,
+      height: 240,
+      channels: 4,
+      background: { r: 10, g: 20, b: 30, alpha: 0.5 },
+    },
+  })
+    .png()
+    .toBuffer();
   fs.writeFileSync(plainPng, withPhys(png, null));
 });
 
@@ -65,11 +74,16 @@ describe("platen info --json", () => {
     expect(run.stderr).toBe("");
     expect(run.code).toBe(0);
     expect(JSON.parse(run.stdout)).toEqual(await readScanInfo(letterTiff, limits));
-    expect(JSON.parse(run.stdout).dpi).toEqual({ x: 300, y: 300, source: "embedded", origin: "tiff" });
+    expect(JSON.parse(run.stdout).dpi).toEqual({
+      x: 300,
+      y: 300,
+      source: "embedded",
+      origin: "tiff",
+    });
   });
 
   it("assumes the DPI from PLATEN_DEFAULT_DPI, as the worker does", async () => {
-    const run = await platen([ "info", "--json", plainPng ]);
+    const run = await platen(["info", "--json", plainPng]);
     expect(run.code).toBe(0);
     const printed = JSON.parse(run.stdout);
     expect(printed).toEqual(await readScanInfo(plainPng, limits));
@@ -85,8 +99,11 @@ describe("platen info (for people)", () => {
     expect(run.code).toBe(0);
     const lines = run.stdout.trimEnd().split("\n");
     const valueColumn = lines[0]!.search(/\S+$/);
-    for (const line of lines) expect(line.slice(0, valueColumn).trimEnd().length).toBeLessThan(valueColumn);
-    const byLabel = Object.fromEntries(lines.map((l) => [l.slice(0, valueColumn).trim(), l.slice(valueColumn)]));
+    for (const line of lines)
+      expect(line.slice(0, valueColumn).trimEnd().length).toBeLessThan(valueColumn);
+    const byLabel = Object.fromEntries(
+      lines.map((l) => [l.slice(0, valueColumn).trim(), l.slice(valueColumn)]),
+    );
     expect(byLabel).toMatchObject({
       file: letterTiff,
       format: "TIFF",
@@ -103,7 +120,9 @@ describe("platen info (for people)", () => {
 
   it("says when the DPI is assumed", async () => {
     const run = await platen(["info", plainPng]);
-    expect(run.stdout).toMatch(/^resolution +240 DPI, assumed: the file records none \(studio default, PLATEN_DEFAULT_DPI\)$/m);
+    expect(run.stdout).toMatch(
+      /^resolution +240 DPI, assumed: the file records none \(studio default, PLATEN_DEFAULT_DPI\)$/m,
+    );
     expect(run.stdout).toMatch(/^channels +4 \(with alpha\)$/m);
   });
 
@@ -116,7 +135,12 @@ describe("platen info (for people)", () => {
 
 describe("bad input: exit 1, one line on stderr, nothing on stdout", () => {
   it.each([
-    ["an empty file", "empty.tif", "", "The file is empty (0 bytes): the scanner or the copy did not finish. Scan again or copy the file again."],
+    [
+      "an empty file",
+      "empty.tif",
+      "",
+      "The file is empty (0 bytes): the scanner or the copy did not finish. Scan again or copy the file again.",
+    ],
     [
       "a text file",
       "notes.tif",
@@ -134,7 +158,17 @@ describe("bad input: exit 1, one line on stderr, nothing on stdout", () => {
   });
 
   it("a truncated JPEG (the header reads, the decode fails)", async () => {
-    const jpeg = await sharp({ create: { width: 600, height: 400, channels: 3, noise: { type: "gaussian", mean: 128, sigma: 40 } } }).jpeg().toBuffer();
+    const jpeg = await sharp({
+      create: {
+        width: 600,
+        height: 400,
+        channels: 3,
+        background: "#808080",
+        noise: { type: "gaussian", mean: 128, sigma: 40 },
+      },
+    })
+      .jpeg()
+      .toBuffer();
     const file = path.join(tmp.dir, "cut.jpg");
     fs.writeFileSync(file, jpeg.subarray(0, Math.floor(jpeg.length * 0.6)));
     const run = await platen(["info", file, "--json"]);
@@ -172,10 +206,19 @@ describe("bad input: exit 1, one line on stderr, nothing on stdout", () => {
 describe("wrong command lines: exit 2, one line on stderr", () => {
   it.each([
     [[], "platen: expected a command. Run platen --help to see the commands."],
-    [["scan-all"], 'platen: unknown command "scan-all" (the commands are: info). Run platen --help to see them.'],
+    [
+      ["scan-all"],
+      'platen: unknown command "scan-all" (the commands are: info). Run platen --help to see them.',
+    ],
     [["info"], "platen info: expected the path of a scan file. Usage: platen info <file> [--json]"],
-    [["info", "a.tif", "b.tif"], "platen info: expected one scan file but received 2 (a.tif, b.tif). Usage: platen info <file> [--json]"],
-    [["info", "--colour", "a.tif"], "platen info: unknown option --colour. Usage: platen info <file> [--json]"],
+    [
+      ["info", "a.tif", "b.tif"],
+      "platen info: expected one scan file but received 2 (a.tif, b.tif). Usage: platen info <file> [--json]",
+    ],
+    [
+      ["info", "--colour", "a.tif"],
+      "platen info: unknown option --colour. Usage: platen info <file> [--json]",
+    ],
   ])("platen %j", async (args, message) => {
     const run = await platen(args);
     expect(run.code).toBe(2);

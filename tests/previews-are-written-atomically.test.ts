@@ -18,7 +18,11 @@ let n = 0;
 
 function outDir(): { dir: string; previewPath: string; thumbPath: string } {
   const dir = path.join(tmp.dir, `out-${++n}`);
-  return { dir, previewPath: path.join(dir, "preview.jpg"), thumbPath: path.join(dir, "thumb.jpg") };
+  return {
+    dir,
+    previewPath: path.join(dir, "preview.jpg"),
+    thumbPath: path.join(dir, "thumb.jpg"),
+  };
 }
 
 /** A 16-bit RGB gradient: red rises along x, green along y, so resampling keeps real content. */
@@ -37,7 +41,15 @@ function gradient16(width: number, height: number): Uint16Array {
 
 async function expectSrgbJpeg(file: string, width: number, height: number) {
   const meta = await sharp(file).metadata();
-  expect(meta).toMatchObject({ format: "jpeg", width, height, depth: "uchar", space: "srgb", channels: 3, hasAlpha: false });
+  expect(meta).toMatchObject({
+    format: "jpeg",
+    width,
+    height,
+    depth: "uchar",
+    space: "srgb",
+    channels: 3,
+    hasAlpha: false,
+  });
 }
 
 describe("writePreviews", () => {
@@ -57,7 +69,10 @@ describe("writePreviews", () => {
     // 3000 × 2000 fitted inside 1600: 1600 × 1066.67 → 1067; inside 320: 320 × 213.33 → 213.
     expect(PREVIEW_LONG_EDGE).toBe(1600);
     expect(THUMB_LONG_EDGE).toBe(320);
-    expect(result).toEqual({ preview: { width: 1600, height: 1067 }, thumb: { width: 320, height: 213 } });
+    expect(result).toEqual({
+      preview: { width: 1600, height: 1067 },
+      thumb: { width: 320, height: 213 },
+    });
     await expectSrgbJpeg(out.previewPath, 1600, 1067);
     await expectSrgbJpeg(out.thumbPath, 320, 213);
     expect(fs.readdirSync(out.dir).sort()).toEqual(["preview.jpg", "thumb.jpg"]);
@@ -79,7 +94,9 @@ describe("writePreviews", () => {
       rgba.set(x < width / 2 ? [20, 40, 200, 255] : [20, 40, 200, 0], i * 4); // right half fully transparent
     }
     const src = path.join(tmp.dir, "cutout.png");
-    await sharp(rgba, { raw: { width, height, channels: 4 } }).png().toFile(src);
+    await sharp(rgba, { raw: { width, height, channels: 4 } })
+      .png()
+      .toFile(src);
     expect((await sharp(src).metadata()).hasAlpha).toBe(true);
     const out = outDir();
 
@@ -90,7 +107,11 @@ describe("writePreviews", () => {
     await expectSrgbJpeg(out.previewPath, 800, 1200);
     const { data } = await sharp(out.previewPath).raw().toBuffer({ resolveWithObject: true });
     const row = 600 * width * 3;
-    expect([...data.subarray(row + 100 * 3, row + 100 * 3 + 3)].every((v, c) => Math.abs(v - [20, 40, 200][c]!) < 8)).toBe(true);
+    expect(
+      [...data.subarray(row + 100 * 3, row + 100 * 3 + 3)].every(
+        (v, c) => Math.abs(v - [20, 40, 200][c]!) < 8,
+      ),
+    ).toBe(true);
     expect([...data.subarray(row + 700 * 3, row + 700 * 3 + 3)].every((v) => v > 250)).toBe(true); // white
     expect(fs.readdirSync(out.dir).sort()).toEqual(["preview.jpg", "thumb.jpg"]);
   });
@@ -101,7 +122,10 @@ describe("writePreviews", () => {
     const srgb = Buffer.alloc(64 * 64 * 3);
     for (let i = 0; i < srgb.length; i += 3) srgb.set([200, 100, 50], i);
     const src = path.join(tmp.dir, "p3.tif");
-    await sharp(srgb, { raw: { width: 64, height: 64, channels: 3 } }).withIccProfile("p3").tiff({ compression: "lzw" }).toFile(src);
+    await sharp(srgb, { raw: { width: 64, height: 64, channels: 3 } })
+      .withIccProfile("p3")
+      .tiff({ compression: "lzw" })
+      .toFile(src);
     const stored = await sharp(src).keepIccProfile().raw().toBuffer();
     expect(Math.abs(stored[0]! - 200) + Math.abs(stored[2]! - 50)).toBeGreaterThan(10);
     const out = outDir();
@@ -113,28 +137,54 @@ describe("writePreviews", () => {
 
   it("applies EXIF orientation: a 200 × 100 JPEG marked 'rotate 90°' previews upright as 100 × 200", async () => {
     const src = path.join(tmp.dir, "turned.jpg");
-    await sharp({ create: { width: 200, height: 100, channels: 3, background: "#8899aa" } }).withMetadata({ orientation: 6 }).jpeg().toFile(src);
+    await sharp({ create: { width: 200, height: 100, channels: 3, background: "#8899aa" } })
+      .withMetadata({ orientation: 6 })
+      .jpeg()
+      .toFile(src);
     const out = outDir();
     const result = await writePreviews(src, { ...out, maxPixels, thumbLongEdge: 50 });
-    expect(result).toEqual({ preview: { width: 100, height: 200 }, thumb: { width: 25, height: 50 } });
+    expect(result).toEqual({
+      preview: { width: 100, height: 200 },
+      thumb: { width: 25, height: 50 },
+    });
     await expectSrgbJpeg(out.previewPath, 100, 200);
   });
 
   it("honours custom long edges and replaces an existing preview in one step", async () => {
     const src = path.join(tmp.dir, "wide.webp");
-    await sharp({ create: { width: 2000, height: 500, channels: 3, background: "#404040" } }).webp().toFile(src);
+    await sharp({ create: { width: 2000, height: 500, channels: 3, background: "#404040" } })
+      .webp()
+      .toFile(src);
     const out = outDir();
     fs.mkdirSync(out.dir, { recursive: true });
     fs.writeFileSync(out.previewPath, "an older preview");
-    const result = await writePreviews(src, { ...out, maxPixels, previewLongEdge: 500, thumbLongEdge: 100 });
-    expect(result).toEqual({ preview: { width: 500, height: 125 }, thumb: { width: 100, height: 25 } });
+    const result = await writePreviews(src, {
+      ...out,
+      maxPixels,
+      previewLongEdge: 500,
+      thumbLongEdge: 100,
+    });
+    expect(result).toEqual({
+      preview: { width: 500, height: 125 },
+      thumb: { width: 100, height: 25 },
+    });
     await expectSrgbJpeg(out.previewPath, 500, 125);
     expect(fs.readdirSync(out.dir).sort()).toEqual(["preview.jpg", "thumb.jpg"]);
   });
 
   it("keeps the previous preview intact when the new decode fails", async () => {
     const good = path.join(tmp.dir, "good.jpg");
-    await sharp({ create: { width: 900, height: 600, channels: 3, noise: { type: "gaussian", mean: 128, sigma: 40 } } }).jpeg().toFile(good);
+    await sharp({
+      create: {
+        width: 900,
+        height: 600,
+        channels: 3,
+        background: "#808080",
+        noise: { type: "gaussian", mean: 128, sigma: 40 },
+      },
+    })
+      .jpeg()
+      .toFile(good);
     const out = outDir();
     await writePreviews(good, { ...out, maxPixels });
     const previous = sha256File(out.previewPath);
@@ -142,17 +192,25 @@ describe("writePreviews", () => {
     const bytes = fs.readFileSync(good);
     const cut = path.join(tmp.dir, "cut.jpg");
     fs.writeFileSync(cut, bytes.subarray(0, Math.floor(bytes.length * 0.6)));
-    await expect(writePreviews(cut, { ...out, maxPixels })).rejects.toMatchObject({ code: "truncated" });
+    await expect(writePreviews(cut, { ...out, maxPixels })).rejects.toMatchObject({
+      code: "truncated",
+    });
     expect(sha256File(out.previewPath)).toBe(previous);
     expect(fs.readdirSync(out.dir).sort()).toEqual(["preview.jpg", "thumb.jpg"]);
   });
 
   it("refuses a long edge that is not a positive integer, before reading the scan", async () => {
     const out = outDir();
-    await expect(writePreviews(path.join(tmp.dir, "never-read.tif"), { ...out, maxPixels, previewLongEdge: 0 })).rejects.toThrow(
-      "Expected a positive integer for previewLongEdge but received 0",
-    );
-    await expect(writePreviews(path.join(tmp.dir, "never-read.tif"), { ...out, maxPixels })).rejects.toBeInstanceOf(ScanError);
+    await expect(
+      writePreviews(path.join(tmp.dir, "never-read.tif"), {
+        ...out,
+        maxPixels,
+        previewLongEdge: 0,
+      }),
+    ).rejects.toThrow("Expected a positive integer for previewLongEdge but received 0");
+    await expect(
+      writePreviews(path.join(tmp.dir, "never-read.tif"), { ...out, maxPixels }),
+    ).rejects.toBeInstanceOf(ScanError);
   });
 });
 

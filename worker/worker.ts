@@ -5,7 +5,11 @@ import type { Logger } from "../server/logger";
 import type { Config } from "../server/config";
 import { startHeartbeat } from "../server/services/processes";
 import { notify } from "../server/services/events";
-import { QUEUES, analyseScan } from "./jobs/analyse";
+import { QUEUES } from "../server/jobs/queues";
+import { analyseScan } from "./jobs/analyse";
+import { splitScanJob } from "./jobs/split";
+import { renderFragmentJob } from "./jobs/render";
+import type { JobContext } from "./jobs/context";
 
 export interface WorkerDeps {
   config: Config;
@@ -26,25 +30,28 @@ export async function startWorker(deps: WorkerDeps) {
   await notify(deps.database.pool, { kind: "worker" }).catch(() => {});
   const stopping = new AbortController();
 
+  const handlers: Record<string, (deps: WorkerDeps, data: unknown, ctx: JobContext) => Promise<void>> = {
+    [QUEUES.analyse]: analyseScan,
+    [QUEUES.split]: splitScanJob,
+    [QUEUES.render]: renderFragmentJob,
+  };
   const workerIds: string[] = [];
-  for (let i = 0; i < config.workerConcurrency; i++) {
-    workerIds.push(
-      await boss.work(
-        QUEUES.analyse,
-        { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 },
-        async (jobs) => {
+  for (const [queue, handler] of Object.entries(handlers)) {
+    for (let i = 0; i < config.workerConcurrency; i++) {
+      workerIds.push(
+        await boss.work(queue, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async (jobs) => {
           for (const job of jobs) {
             const ctx = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal };
             try {
-              await analyseScan(deps, job.data, ctx);
+              await handler(deps, job.data, ctx);
             } catch (err) {
               log.error({ err, jobId: job.id, queue: job.name, data: job.data, retryCount: job.retryCount }, "job failed");
               throw err;
             }
           }
-        },
-      ),
-    );
+        }),
+      );
+    }
   }
   log.info({ concurrency: config.workerConcurrency, heartbeat: heartbeat.id }, "worker ready");
 

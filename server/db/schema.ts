@@ -7,6 +7,7 @@ import {
   json,
   pgEnum,
   pgTable,
+  jsonb,
   real,
   text,
   timestamp,
@@ -16,6 +17,7 @@ import {
 } from "drizzle-orm/pg-core";
 import { ROLES } from "../../shared/roles";
 import { SCAN_STATUSES } from "../../shared/schemas/scans";
+import { FRAGMENT_STATUSES, type Box, type FragmentGeometry, type Rect } from "../../shared/schemas/fragments";
 
 /** The one place the database is described; drizzle-kit generates drizzle/ from it. */
 
@@ -23,6 +25,9 @@ export const roleEnum = pgEnum("role", ROLES);
 export const scanStatusEnum = pgEnum("scan_status", SCAN_STATUSES);
 export const dpiSourceEnum = pgEnum("dpi_source", ["embedded", "assumed"]);
 export const scanSourceEnum = pgEnum("scan_source", ["inbox", "upload"]);
+export const fragmentStatusEnum = pgEnum("fragment_status", FRAGMENT_STATUSES);
+export const fragmentShapeEnum = pgEnum("fragment_shape", ["rectangle", "cutout"]);
+export const renderStateEnum = pgEnum("render_state", ["none", "queued", "rendering", "done", "failed"]);
 
 const timestamps = {
   createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
@@ -96,6 +101,11 @@ export const scans = pgTable(
     resolutionOrigin: text("resolution_origin"),
     previewKey: text("preview_key"),
     thumbKey: text("thumb_key"),
+    /** The split's view of the bed: background colour and kind, threshold, sensitivity used. */
+    splitBackground: jsonb("split_background").$type<{ rgb: [number, number, number]; kind: "light" | "dark" }>(),
+    splitSensitivity: real("split_sensitivity"),
+    splitRun: integer("split_run").notNull().default(0),
+    splitAt: timestamp("split_at", { withTimezone: true }),
     startedAt: timestamp("started_at", { withTimezone: true }),
     analysedAt: timestamp("analysed_at", { withTimezone: true }),
     ...timestamps,
@@ -133,4 +143,66 @@ export const session = pgTable(
     expire: timestamp("expire", { precision: 6 }).notNull(),
   },
   (t) => [index("IDX_session_expire").on(t.expire)],
+);
+
+/** A piece found on a scan (or drawn by a person), with the split's proposal kept for reset. */
+export const fragments = pgTable(
+  "fragments",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    scanId: uuid("scan_id")
+      .notNull()
+      .references(() => scans.id, { onDelete: "cascade" }),
+    /** Reading order on the bed (top to bottom, left to right), 1-based. */
+    position: integer("position").notNull(),
+    status: fragmentStatusEnum("status").notNull().default("proposed"),
+    origin: text("origin").$type<"split" | "drawn" | "merged">().notNull().default("split"),
+    splitRun: integer("split_run").notNull().default(0),
+    box: jsonb("box").$type<Box>().notNull(),
+    angle: real("angle").notNull(),
+    rect: jsonb("rect").$type<Rect>().notNull(),
+    outline: jsonb("outline").$type<[number, number][]>().notNull(),
+    shape: fragmentShapeEnum("shape").notNull(),
+    areaPx: real("area_px").notNull(),
+    confidence: real("confidence").notNull().default(1),
+    /** The geometry as first proposed; null for drawn fragments. */
+    proposal: jsonb("proposal").$type<FragmentGeometry>(),
+    /** Fragments folded into this one by a merge (they are kept, marked merged_into). */
+    mergedInto: uuid("merged_into"),
+    title: text("title"),
+    tags: text("tags").array().notNull().default(sql`'{}'::text[]`),
+    notes: text("notes"),
+    reviewedBy: uuid("reviewed_by").references(() => users.id),
+    reviewedAt: timestamp("reviewed_at", { withTimezone: true }),
+    renderState: renderStateEnum("render_state").notNull().default("none"),
+    renderError: text("render_error"),
+    /** Incremented by every geometry edit; a render records the revision it made. */
+    revision: integer("revision").notNull().default(1),
+    ...timestamps,
+  },
+  (t) => [index("fragments_scan_idx").on(t.scanId), index("fragments_status_idx").on(t.status)],
+);
+
+/** A file made for a fragment: the master and the web copy now, preset outputs later. */
+export const outputs = pgTable(
+  "outputs",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    fragmentId: uuid("fragment_id")
+      .notNull()
+      .references(() => fragments.id, { onDelete: "cascade" }),
+    kind: text("kind").$type<"master" | "web">().notNull(),
+    key: text("key").notNull(),
+    format: text("format").notNull(),
+    width: integer("width").notNull(),
+    height: integer("height").notNull(),
+    bitDepth: integer("bit_depth").notNull(),
+    hasAlpha: boolean("has_alpha").notNull(),
+    dpi: real("dpi").notNull(),
+    bytes: bigint("bytes", { mode: "number" }).notNull(),
+    /** The fragment revision this file was made from. */
+    revision: integer("revision").notNull(),
+    ...timestamps,
+  },
+  (t) => [uniqueIndex("outputs_fragment_kind_key").on(t.fragmentId, t.kind)],
 );

@@ -1,5 +1,4 @@
 import PgBoss from "pg-boss";
-import type pg from "pg";
 import { config } from "../config";
 import type { Logger } from "../logger";
 import { queuePolicies } from "./queues";
@@ -36,9 +35,4 @@ export async function startBoss(opts: { url: string; log: Logger; supervise?: bo
     }
   }
   return boss;
-}
-
-/** pg-boss's Db adapter over one pg client, so a job is queued in the same transaction as its row. */
-export function txDb(client: pg.PoolClient): PgBoss.Db {
-  return { executeSql: (text, values) => client.query(text, values) };
 }

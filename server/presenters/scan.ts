@@ -9,6 +9,7 @@ export function presentScan(
   row: ScanRow,
   intake: { id: string; name: string },
   duplicateOf: { id: string; originalName: string } | null,
+  fragmentCounts: { proposed: number; total: number } = { proposed: 0, total: 0 },
 ): Scan {
   const hasDpi = row.dpiX != null && row.dpiY != null && row.dpiSource != null;
   return {
@@ -45,6 +46,7 @@ export function presentScan(
         ? physicalSize(row.width, row.height, row.dpiX!, row.dpiY!)
         : null,
     attempts: row.attempts,
+    fragments: fragmentCounts,
     hasPreview: row.previewKey != null,
     createdAt: row.createdAt.toISOString(),
     updatedAt: row.updatedAt.toISOString(),

@@ -1,16 +1,13 @@
 import fsp from "node:fs/promises";
 import { and, eq, ne } from "drizzle-orm";
-import { drizzle } from "drizzle-orm/node-postgres";
 import type PgBoss from "pg-boss";
 import type { Database } from "../db";
-import * as schema from "../db/schema";
 import { scans } from "../db/schema";
-import { txDb } from "../jobs/boss";
+import { withTx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import type { Library } from "../storage/library";
 import { originalKey } from "../storage/library";
 import { currentIntake } from "./intakes";
-import { notify } from "./events";
 import type { Logger } from "../logger";
 
 export interface IntakeDeps {
@@ -48,14 +45,11 @@ export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<
   const staged = await library.stageCopy(input.path);
   const key = originalKey(staged.sha256, input.originalName);
 
-  const client = await database.pool.connect();
   let result: IntakeResult;
   try {
-    const tx = drizzle(client, { schema });
-    await client.query("begin");
-    try {
-      const intake = await currentIntake(tx);
-      const [first] = await tx
+    result = await withTx(database, boss, async (tx) => {
+      const intake = await currentIntake(tx.db);
+      const [first] = await tx.db
         .select({ id: scans.id, originalKey: scans.originalKey })
         .from(scans)
         .where(and(eq(scans.sha256, staged.sha256), ne(scans.status, "duplicate")))
@@ -68,39 +62,31 @@ export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<
         sha256: staged.sha256,
         sizeBytes: staged.sizeBytes,
       };
+      let r: IntakeResult;
       if (first) {
-        const [row] = await tx
+        const [row] = await tx.db
           .insert(scans)
-          .values({
-            ...base,
-            originalKey: first.originalKey,
-            status: "duplicate",
-            duplicateOfId: first.id,
-            progress: 100,
-          })
+          .values({ ...base, originalKey: first.originalKey, status: "duplicate", duplicateOfId: first.id, progress: 100 })
           .returning({ id: scans.id });
-        result = { scanId: row!.id, sha256: staged.sha256, duplicateOf: first.id };
+        r = { scanId: row!.id, sha256: staged.sha256, duplicateOf: first.id };
       } else {
-        const [row] = await tx
+        const [row] = await tx.db
           .insert(scans)
           .values({ ...base, originalKey: key, status: "queued", stage: "Waiting for a worker" })
           .returning({ id: scans.id });
-        await boss.send(QUEUES.analyse, { scanId: row!.id }, { db: txDb(client) });
-        result = { scanId: row!.id, sha256: staged.sha256, duplicateOf: null };
+        await tx.send(QUEUES.analyse, { scanId: row!.id });
+        r = { scanId: row!.id, sha256: staged.sha256, duplicateOf: null };
       }
-      await notify(client, { kind: "scan", scanId: result.scanId, status: first ? "duplicate" : "queued" });
+      await tx.notify({ kind: "scan", scanId: r.scanId, status: first ? "duplicate" : "queued" });
       // The original goes into place before commit: a committed scan row always has its file.
       await library.commit(staged.temp, key, { readOnly: true });
-      await client.query("commit");
-    } catch (err) {
-      await client.query("rollback").catch(() => {});
-      await fsp.rm(staged.temp, { force: true });
-      // Two copies of the same content raced: the loser is a duplicate of the winner.
-      if ((err as { code?: string }).code === "23505") return intakeFile(deps, input);
-      throw err;
-    }
-  } finally {
-    client.release();
+      return r;
+    });
+  } catch (err) {
+    await fsp.rm(staged.temp, { force: true });
+    // Two copies of the same content raced: the loser is a duplicate of the winner.
+    if ((err as { code?: string }).code === "23505") return intakeFile(deps, input);
+    throw err;
   }
   if (input.removeSource) await fsp.rm(input.path, { force: true });
   deps.log.info(

@@ -1,15 +1,16 @@
-import { and, asc, desc, eq, gt, sql } from "drizzle-orm";
+import { and, asc, desc, eq, gt, inArray, sql } from "drizzle-orm";
 import type { Db } from "../db";
 import { processes, scans } from "../db/schema";
 import { SCAN_STATUSES, type ScanStatus } from "../../shared/schemas/scans";
 import type { QueueSummary } from "../../shared/schemas/queue";
 import { countByStatus } from "./scans";
 import { HEARTBEAT_STALE_MS } from "./processes";
+import { proposedCounts } from "./fragments";
 
 /** Everything the queue screen shows, in one read. */
 export async function queueSummary(db: Db): Promise<QueueSummary> {
   const fresh = sql`now() - ${`${HEARTBEAT_STALE_MS} milliseconds`}::interval`;
-  const [counted, running, waiting, failures, watchers, workers] = await Promise.all([
+  const [counted, running, waiting, failures, watchers, workers, review] = await Promise.all([
     countByStatus(db),
     db
       .select({ scanId: scans.id, originalName: scans.originalName, stage: scans.stage, progress: scans.progress, startedAt: scans.startedAt })
@@ -31,7 +32,12 @@ export async function queueSummary(db: Db): Promise<QueueSummary> {
       .limit(20),
     db.select().from(processes).where(eq(processes.kind, "watcher")).orderBy(desc(processes.heartbeatAt)).limit(1),
     db.select({ id: processes.id }).from(processes).where(and(eq(processes.kind, "worker"), gt(processes.heartbeatAt, fresh))),
+    proposedCounts(db),
   ]);
+  const awaiting = [...review.entries()].filter(([, c]) => c.proposed > 0);
+  const names = awaiting.length
+    ? await db.select({ id: scans.id, originalName: scans.originalName, createdAt: scans.createdAt }).from(scans).where(inArray(scans.id, awaiting.map(([id]) => id)))
+    : [];
   const counts = Object.fromEntries(SCAN_STATUSES.map((s) => [s, 0])) as Record<ScanStatus, number>;
   for (const c of counted) counts[c.status] = c.n;
   const w = watchers[0];
@@ -48,5 +54,12 @@ export async function queueSummary(db: Db): Promise<QueueSummary> {
       heartbeatAt: w?.heartbeatAt.toISOString() ?? null,
     },
     workers: { online: workers.length },
+    review: {
+      proposed: awaiting.reduce((n, [, c]) => n + c.proposed, 0),
+      scans: names
+        .sort((a, b) => b.createdAt.getTime() - a.createdAt.getTime())
+        .slice(0, 20)
+        .map((s) => ({ scanId: s.id, originalName: s.originalName, proposed: review.get(s.id)!.proposed })),
+    },
   };
 }

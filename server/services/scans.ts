@@ -8,7 +8,8 @@ import type { scanListQuery } from "../../shared/schemas/scans";
 import { presentScan } from "../presenters/scan";
 import { QUEUES } from "../jobs/queues";
 import { conflict, notFound } from "../errors";
-import { notify } from "./events";
+import { withTx } from "../db/tx";
+import { proposedCounts } from "./fragments";
 
 const first = alias(scans, "first_scan");
 
@@ -35,8 +36,13 @@ function selectScans(db: Db) {
 }
 
 type Joined = Awaited<ReturnType<ReturnType<typeof selectScans>["execute"]>>[number];
-const present = (r: Joined) =>
-  presentScan(r.scan, r.intake, r.firstId ? { id: r.firstId, originalName: r.firstName! } : null);
+
+async function presentAll(db: Db, rows: Joined[]) {
+  const counts = await proposedCounts(db, rows.map((r) => r.scan.id));
+  return rows.map((r) =>
+    presentScan(r.scan, r.intake, r.firstId ? { id: r.firstId, originalName: r.firstName! } : null, counts.get(r.scan.id)),
+  );
+}
 
 function escapeLike(s: string) {
   return s.replace(/[\\%_]/g, (c) => `\\${c}`);
@@ -51,13 +57,13 @@ export async function listScans(db: Db, q: z.output<typeof scanListQuery>) {
   const order = q.dir === "asc" ? asc(sortColumns[q.sort]) : desc(sortColumns[q.sort]);
   const rows = await selectScans(db).where(cond).orderBy(order, desc(scans.id)).limit(q.limit).offset(q.offset);
   const [total] = await db.select({ n: count() }).from(scans).where(cond);
-  return { scans: rows.map(present), total: total?.n ?? 0 };
+  return { scans: await presentAll(db, rows), total: total?.n ?? 0 };
 }
 
 export async function getScan(db: Db, id: string) {
   const [row] = await selectScans(db).where(eq(scans.id, id));
   if (!row) throw notFound("That scan");
-  return present(row);
+  return (await presentAll(db, [row]))[0]!;
 }
 
 export async function getScanRow(db: Db, id: string) {
@@ -72,25 +78,17 @@ export async function retryScan(database: Database, boss: PgBoss, id: string) {
   if (row.status !== "failed") {
     throw conflict(`Only a failed scan can be retried; this one is ${row.status}.`);
   }
-  const client = await database.pool.connect();
-  try {
-    await client.query("begin");
-    const updated = await client.query(
+  await withTx(database, boss, async (tx) => {
+    const updated = await tx.client.query(
       `update scans set status = 'queued', stage = 'Waiting for a worker', progress = 0, error = null, updated_at = now()
        where id = $1 and status = 'failed'`,
       [id],
     );
     if (updated.rowCount) {
-      await boss.send(QUEUES.analyse, { scanId: id }, { db: { executeSql: (t, v) => client.query(t, v) } });
-      await notify(client, { kind: "scan", scanId: id, status: "queued" });
+      await tx.send(QUEUES.analyse, { scanId: id });
+      await tx.notify({ kind: "scan", scanId: id, status: "queued" });
     }
-    await client.query("commit");
-  } catch (err) {
-    await client.query("rollback").catch(() => {});
-    throw err;
-  } finally {
-    client.release();
-  }
+  });
   return getScan(database.db, id);
 }
 

@@ -1,5 +1,13 @@
 import { z } from "zod";
 
-/** Payload of the analyse job: which scan to read. */
+/** Payload of the analyse job: which scan to read (and split, once read). */
 export const analysePayload = z.object({ scanId: z.uuid() });
 export type AnalysePayload = z.infer<typeof analysePayload>;
+
+/** Payload of the split job: split a scan again, with this sensitivity (0–1). */
+export const splitPayload = z.object({ scanId: z.uuid(), sensitivity: z.number().min(0).max(1) });
+export type SplitPayload = z.infer<typeof splitPayload>;
+
+/** Payload of the render job: make the master and web copy of one fragment at a revision. */
+export const renderPayload = z.object({ fragmentId: z.uuid(), revision: z.number().int().positive() });
+export type RenderPayload = z.infer<typeof renderPayload>;

@@ -30,6 +30,11 @@ export const queueSummarySchema = z.object({
     heartbeatAt: z.string().nullable(),
   }),
   workers: z.object({ online: z.number() }),
+  /** Fragments awaiting review, and the scans they are on (newest first). */
+  review: z.object({
+    proposed: z.number(),
+    scans: z.array(z.object({ scanId: z.string(), originalName: z.string(), proposed: z.number() })),
+  }),
 });
 export type QueueSummary = z.infer<typeof queueSummarySchema>;
 

@@ -48,6 +48,8 @@ export const scanSchema = z.object({
     .object({ widthIn: z.number(), heightIn: z.number(), widthCm: z.number(), heightCm: z.number() })
     .nullable(),
   attempts: z.number(),
+  /** Fragments the split proposed that still await review, and all kept fragments. */
+  fragments: z.object({ proposed: z.number(), total: z.number() }),
   hasPreview: z.boolean(),
   createdAt: z.string(),
   updatedAt: z.string(),

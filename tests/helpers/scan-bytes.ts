@@ -26,7 +26,7 @@ export interface BaselineTiffOptions {
   /** Omit to write no XResolution/YResolution tags at all. */
   xResolution?: Rational;
   yResolution?: Rational;
-  /** 1 = no absolute unit, 2 = inch, 3 = centimetre; omit to leave the tag out (TIFF default: inch). */
+  /** 1 = no absolute unit, 2 = inch, 3 = centimetre; omit to leave the tag out (default: inch). */
   resolutionUnit?: 1 | 2 | 3;
   /** Grey value 0–255 for every pixel. */
   grey?: number;
@@ -57,14 +57,18 @@ export function baselineTiff(o: BaselineTiffOptions): Buffer {
   ];
   if (o.xResolution) entries.push({ tag: 282, type: RATIONAL, value: o.xResolution });
   if (o.yResolution) entries.push({ tag: 283, type: RATIONAL, value: o.yResolution });
-  if (o.resolutionUnit !== undefined) entries.push({ tag: 296, type: SHORT, value: o.resolutionUnit });
+  if (o.resolutionUnit !== undefined)
+    entries.push({ tag: 296, type: SHORT, value: o.resolutionUnit });
 
   const ifdOffset = 8;
   const ifdSize = 2 + entries.length * 12 + 4;
   const rationals = entries.filter((e) => e.type === RATIONAL);
   const rationalsOffset = ifdOffset + ifdSize;
   const pixelsOffset = rationalsOffset + rationals.length * 8;
-  const buf = Buffer.alloc(pixelsOffset + (o.omitPixelData ? 0 : o.width * o.height), o.grey ?? 200);
+  const buf = Buffer.alloc(
+    pixelsOffset + (o.omitPixelData ? 0 : o.width * o.height),
+    o.grey ?? 200,
+  );
 
   buf.write("II", 0, "latin1");
   buf.writeUInt16LE(42, 2);
@@ -98,7 +102,12 @@ export function baselineTiff(o: BaselineTiffOptions): Buffer {
  * FF E0, length 16, "JFIF\0", version 1.02, units (0 aspect only, 1 per inch, 2 per cm),
  * Xdensity, Ydensity (2 bytes each, big-endian), no thumbnail (0 × 0).
  */
-export function withJfifApp0(jpeg: Buffer, units: 0 | 1 | 2, xDensity: number, yDensity = xDensity): Buffer {
+export function withJfifApp0(
+  jpeg: Buffer,
+  units: 0 | 1 | 2,
+  xDensity: number,
+  yDensity = xDensity,
+): Buffer {
   if (jpeg[0] !== 0xff || jpeg[1] !== 0xd8) throw new Error("not a JPEG: no SOI marker");
   let rest = jpeg.subarray(2);
   if (rest[0] === 0xff && rest[1] === 0xe0) rest = rest.subarray(2 + rest.readUInt16BE(2));
@@ -132,7 +141,11 @@ export function pngChunks(png: Buffer): { type: string; start: number; end: numb
   let pos = 8;
   while (pos + 8 <= png.length) {
     const length = png.readUInt32BE(pos);
-    out.push({ type: png.toString("latin1", pos + 4, pos + 8), start: pos, end: pos + 12 + length });
+    out.push({
+      type: png.toString("latin1", pos + 4, pos + 8),
+      start: pos,
+      end: pos + 12 + length,
+    });
     pos += 12 + length;
   }
   return out;

@@ -1,30 +1,15 @@
 import { eq, sql } from "drizzle-orm";
-import type { Database } from "../../server/db";
 import { scans, studio } from "../../server/db/schema";
-import type { Library } from "../../server/storage/library";
 import { previewKey, thumbKey } from "../../server/storage/library";
 import { notify } from "../../server/services/events";
-import type { Logger } from "../../server/logger";
-import type { Config } from "../../server/config";
 import { analysePayload } from "../../shared/schemas/jobs";
 import { readScanInfo, writePreviews, ScanError } from "../pipeline/metadata";
+import { DEFAULT_SENSITIVITY, runSplit, type SplitDeps } from "./split";
+import type { JobContext } from "./context";
 
-export { QUEUES } from "../../server/jobs/queues";
 
-export interface AnalyseDeps {
-  database: Database;
-  library: Library;
-  config: Config;
-  log: Logger;
-}
+export type AnalyseDeps = SplitDeps;
 
-export interface JobContext {
-  jobId: string;
-  retryCount: number;
-  retryLimit: number;
-  /** Aborted when the worker is asked to stop: the job gives the scan back to the queue. */
-  signal?: AbortSignal;
-}
 
 /**
  * Analyse one scan: read its pixel size, format, depth, colour and resolution, make its preview and
@@ -97,8 +82,10 @@ export async function analyseScan(deps: AnalyseDeps, data: unknown, ctx: JobCont
       thumbPath: deps.library.pathFor(tKey),
       maxPixels: deps.config.maxPixels,
     });
-    await progress("Ready", 100, { status: "ready", previewKey: pKey, thumbKey: tKey, analysedAt: new Date() });
-    log.info({ width: info.width, height: info.height, dpi: info.dpi }, "analyse: scan ready");
+    await progress("Finding the pieces", 70, { previewKey: pKey, thumbKey: tKey, analysedAt: new Date() });
+    const [analysed] = await db.select().from(scans).where(eq(scans.id, scanId));
+    const proposed = await runSplit(deps, analysed!, DEFAULT_SENSITIVITY);
+    log.info({ width: info.width, height: info.height, dpi: info.dpi, proposed }, "analyse: scan ready");
   } catch (err) {
     if (err instanceof ScanError) {
       await progress("Failed", 100, { status: "failed", error: err.message });

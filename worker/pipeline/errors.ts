@@ -5,9 +5,11 @@ import { formatBytes, formatMegapixels } from "../../shared/units";
  * - empty: 0 bytes. - not_image: the content is not an image at all (text, PDF, archive, …).
  * - unsupported: an image, but in a format Platen does not read (GIF, HEIC, …).
  * - truncated: the header is fine but the image data ends early or is damaged.
- * - too_large: more pixels than the studio's limit. - unreadable: anything else (missing file, bad header).
+ * - too_large: more pixels than the studio's limit.
+ * - unreadable: anything else (missing file, bad header).
  */
-export type ScanErrorCode = "empty" | "not_image" | "unsupported" | "truncated" | "too_large" | "unreadable";
+export type ScanErrorCode =
+  "empty" | "not_image" | "unsupported" | "truncated" | "too_large" | "unreadable";
 
 export const SCAN_ERROR_CODES: readonly ScanErrorCode[] = [
   "empty",
@@ -32,6 +34,11 @@ export class ScanError extends Error {
 
 export function isScanError(err: unknown): err is ScanError {
   return err instanceof ScanError;
+}
+
+/** "2.0 MP" as the studio reads sizes; below 0.1 MP (0.0 with one decimal), the pixel count. */
+function pixelCount(pixels: number): string {
+  return pixels >= 100_000 ? formatMegapixels(pixels) : `${pixels} px`;
 }
 
 const EXPECTED = "Platen reads scans in TIFF, JPEG, PNG or WebP";
@@ -71,7 +78,7 @@ export const scanErrors = {
   tooLarge: (width: number, height: number, maxPixels: number) =>
     new ScanError(
       "too_large",
-      `The scan is ${width} × ${height} px (${formatMegapixels(width * height)}), over this studio's limit of ${formatMegapixels(maxPixels)} (PLATEN_MAX_PIXELS). Scan at a lower resolution or raise the limit.`,
+      `The scan is ${width} × ${height} px (${pixelCount(width * height)}), over this studio's limit of ${pixelCount(maxPixels)} (PLATEN_MAX_PIXELS). Scan at a lower resolution or raise the limit.`,
     ),
 
   /** The header was readable but the data runs out or is damaged. */

@@ -1,17 +1,21 @@
 /**
  * The description of an ICC profile, from its 'desc' tag.
- * ICC.1:2010 (ISO 15076-1), the tag table (section 7.3, number from memory): at byte 128 a 4-byte tag count, then 12-byte
- * entries (signature, offset, size). The profileDescriptionTag 'desc' holds a
- * multiLocalizedUnicodeType ('mluc': records of language, country, length, offset; UTF-16BE text)
- * in version 4 profiles; version 2 profiles (ICC.1:2001-04) use textDescriptionType ('desc':
- * 4-byte ASCII count including the NUL, then the ASCII text).
+ * ICC.1:2010 (ISO 15076-1), the tag table (section 7.3, number from memory): at byte 128 a
+ * 4-byte tag count, then 12-byte entries (signature, offset, size). The profileDescriptionTag
+ * 'desc' holds, in version 4 profiles, a multiLocalizedUnicodeType ('mluc': records of language,
+ * country, length, offset; UTF-16BE text); version 2 profiles (ICC.1:2001-04) use
+ * textDescriptionType ('desc': 4-byte ASCII count including the NUL, then the ASCII text).
  */
 
 const HEADER_SIZE = 128;
 
+/** Trailing NULs dropped, other control characters turned into spaces, outer spaces trimmed. */
 function clean(text: string): string | null {
-  // eslint-disable-next-line no-control-regex
-  const t = text.replace(/\u0000+$/g, "").replace(/[\u0000-\u001f]/g, " ").trim();
+  let end = text.length;
+  while (end > 0 && text.charCodeAt(end - 1) === 0) end--;
+  let out = "";
+  for (const ch of text.slice(0, end)) out += ch.charCodeAt(0) < 0x20 ? " " : ch;
+  const t = out.trim();
   return t.length > 0 ? t : null;
 }
 

@@ -37,7 +37,11 @@ export async function openScanFile(file: string): Promise<FileHandle> {
  * unsupported, truncated (container shorter than its own header says), unreadable or too_large.
  * Example: inspectScan("a.tif", fh, 500e6) → { sizeBytes: 1234, format: "tiff", meta }.
  */
-export async function inspectScan(file: string, fh: FileHandle, maxPixels: number): Promise<Inspected> {
+export async function inspectScan(
+  file: string,
+  fh: FileHandle,
+  maxPixels: number,
+): Promise<Inspected> {
   const sizeBytes = (await fh.stat()).size;
   if (sizeBytes === 0) throw scanErrors.empty();
 
@@ -46,22 +50,27 @@ export async function inspectScan(file: string, fh: FileHandle, maxPixels: numbe
   if (sniffed.kind === "not-image") throw scanErrors.notImage(sniffed.what);
   if (sniffed.kind === "other-image") throw scanErrors.unsupported(sniffed.what);
   const format = sniffed.format;
-  if (endsBeforeItsHeaderSays(format, head, sizeBytes)) throw scanErrors.truncated(format, sizeBytes);
+  if (endsBeforeItsHeaderSays(format, head, sizeBytes))
+    throw scanErrors.truncated(format, sizeBytes);
 
   let meta: Metadata;
   try {
-    // The limit is checked below with a message that names the size; here sharp must not refuse first.
+    // The limit is checked below, with a message naming the size: sharp must not refuse first.
     meta = await sharp(file, { limitInputPixels: false }).metadata();
   } catch (err) {
     if (err instanceof ScanError) throw err;
     throw scanErrors.badHeader(format, decoderDetail(err), err);
   }
   if (meta.format !== format) {
-    throw scanErrors.badHeader(format, `the decoder sees ${meta.format ?? "no known format"} instead`);
+    throw scanErrors.badHeader(
+      format,
+      `the decoder sees ${meta.format ?? "no known format"} instead`,
+    );
   }
   const width = meta.width ?? 0;
   const height = meta.height ?? 0;
-  if (!(width > 0 && height > 0)) throw scanErrors.badHeader(format, `the header gives a size of ${width} × ${height} px`);
+  if (!(width > 0 && height > 0))
+    throw scanErrors.badHeader(format, `the header gives a size of ${width} × ${height} px`);
   if (width * height > maxPixels) throw scanErrors.tooLarge(width, height, maxPixels);
   return { sizeBytes, format, meta };
 }
@@ -74,8 +83,10 @@ export async function inspectScan(file: string, fh: FileHandle, maxPixels: numbe
  */
 function endsBeforeItsHeaderSays(format: ScanFormat, head: Buffer, sizeBytes: number): boolean {
   if (head.length < 12) return true; // no complete image of any of these formats is this short
-  if (format === "tiff" && head[2] !== 43) {
-    const ifd0 = head.toString("latin1", 0, 2) === "II" ? head.readUInt32LE(4) : head.readUInt32BE(4);
+  if (format === "tiff") {
+    const le = head.toString("latin1", 0, 2) === "II";
+    if ((le ? head.readUInt16LE(2) : head.readUInt16BE(2)) !== 42) return false; // BigTIFF: 8-byte offsets
+    const ifd0 = le ? head.readUInt32LE(4) : head.readUInt32BE(4);
     return ifd0 + 2 > sizeBytes;
   }
   if (format === "webp") return head.readUInt32LE(4) + 8 > sizeBytes;
@@ -86,7 +97,12 @@ function endsBeforeItsHeaderSays(format: ScanFormat, head: Buffer, sizeBytes: nu
  * Turns a decoder failure during a full decode into a ScanError: over the pixel limit → too_large,
  * the file gone → unreadable, anything else → truncated (the header was fine, the data was not).
  */
-export function decodeError(err: unknown, file: string, inspected: Inspected, maxPixels: number): ScanError {
+export function decodeError(
+  err: unknown,
+  file: string,
+  inspected: Inspected,
+  maxPixels: number,
+): ScanError {
   if (err instanceof ScanError) return err;
   if (isPixelLimitError(err)) {
     return scanErrors.tooLarge(inspected.meta.width ?? 0, inspected.meta.height ?? 0, maxPixels);

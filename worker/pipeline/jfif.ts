@@ -3,7 +3,7 @@ import { readAt } from "./file-bytes";
 
 /**
  * The JFIF APP0 density, read from the file's marker segments.
- * JFIF 1.02 (later ITU-T T.871 | ISO/IEC 10918-5), the APP0 segment: FF E0, 2-byte length, "JFIF\0",
+ * JFIF 1.02 (later ITU-T T.871 | ISO/IEC 10918-5), APP0 segment: FF E0, 2-byte length, "JFIF\0",
  * 2-byte version, 1-byte units (0 = no units, X:Y is the pixel aspect ratio only; 1 = dots per
  * inch; 2 = dots per cm), 2-byte Xdensity, 2-byte Ydensity, then the thumbnail size.
  */

@@ -28,7 +28,7 @@ export interface ScanInfo {
   hasAlpha: boolean;
   hasIccProfile: boolean;
   iccDescription: string | null;
-  /** Dots per inch; `assumed` (origin null) when the file records none and the studio default applies. */
+  /** Dots per inch; `assumed` (origin null) when the file records none: the studio default. */
   dpi: { x: number; y: number; source: DpiSource; origin: ResolutionOrigin | null };
   /** Physical size from pixels and DPI, in inches and centimetres. */
   physical: PhysicalSize;
@@ -43,9 +43,20 @@ export interface ScanLimits {
   maxPixels: number;
 }
 
-const DEPTH_BITS: Record<string, number> = { uchar: 8, char: 8, ushort: 16, short: 16, uint: 32, int: 32, float: 32, complex: 64, double: 64, dpcomplex: 128 };
+const DEPTH_BITS: Record<string, number> = {
+  uchar: 8,
+  char: 8,
+  ushort: 16,
+  short: 16,
+  uint: 32,
+  int: 32,
+  float: 32,
+  complex: 64,
+  double: 64,
+  dpcomplex: 128,
+};
 
-/** Bits per channel: the file's own sample size where sharp reports it (TIFF, PNG), else the decoded depth. */
+/** Bits per channel: the file's sample size where sharp has it (TIFF, PNG), else the decoded depth. */
 function bitsPerChannel(meta: Metadata): number {
   if (meta.bitsPerSample && !meta.isPalette) return meta.bitsPerSample;
   return DEPTH_BITS[meta.depth] ?? 8;
@@ -66,7 +77,8 @@ function checkLimits(opts: ScanLimits): void {
  * limit is checked before anything else touches pixels. Never writes to the file.
  * Throws ScanError (empty, not_image, unsupported, truncated, too_large, unreadable).
  * Example: a 2550 × 3300 px TIFF at 300 DPI → { width: 2550, height: 3300,
- *   dpi: { x: 300, y: 300, source: "embedded", origin: "tiff" }, physical: { widthIn: 8.5, heightIn: 11, … } }.
+ *   dpi: { x: 300, y: 300, source: "embedded", origin: "tiff" },
+ *   physical: { widthIn: 8.5, heightIn: 11, widthCm: 21.59, heightCm: 27.94 }, … }.
  */
 export async function readScanInfo(file: string, opts: ScanLimits): Promise<ScanInfo> {
   checkLimits(opts);

@@ -18,7 +18,7 @@ export interface Resolution {
   origin: ResolutionOrigin;
 }
 
-/** 0.0001 DPI: far below anything a scanner sets, far above float noise. Example: 25.39999962 → 25.4. */
+/** To 0.0001 DPI: far finer than any scanner setting, far coarser than float noise. 25.39999962 → 25.4 */
 export function roundDpi(dpi: number): number {
   return Math.round(dpi * 10_000) / 10_000;
 }
@@ -52,10 +52,19 @@ export function resolutionFromTiffFields(
  * resolution), 1 = dots per inch, 2 = dots per cm; a density of 0 is invalid.
  * Example: (2, 118, 118) → { x: 299.72, y: 299.72 }.
  */
-export function resolutionFromJfif(units: number, xDensity: number, yDensity: number): Resolution | null {
+export function resolutionFromJfif(
+  units: number,
+  xDensity: number,
+  yDensity: number,
+): Resolution | null {
   if (!valid(xDensity) || !valid(yDensity)) return null;
   if (units === 1) return { x: xDensity, y: yDensity, origin: "jfif" };
-  if (units === 2) return { x: roundDpi(xDensity * CM_PER_INCH), y: roundDpi(yDensity * CM_PER_INCH), origin: "jfif" };
+  if (units === 2)
+    return {
+      x: roundDpi(xDensity * CM_PER_INCH),
+      y: roundDpi(yDensity * CM_PER_INCH),
+      origin: "jfif",
+    };
   return null;
 }
 
@@ -64,15 +73,18 @@ export function resolutionFromJfif(units: number, xDensity: number, yDensity: nu
  * values give only the pixel aspect ratio (not a resolution).
  * Example: (11811, 11811, 1) → { x: 299.9994, y: 299.9994 }.
  */
-export function resolutionFromPhys(xPerUnit: number, yPerUnit: number, unit: number): Resolution | null {
+export function resolutionFromPhys(
+  xPerUnit: number,
+  yPerUnit: number,
+  unit: number,
+): Resolution | null {
   if (unit !== 1 || !valid(xPerUnit) || !valid(yPerUnit)) return null;
   return { x: roundDpi(ppmToDpi(xPerUnit)), y: roundDpi(ppmToDpi(yPerUnit)), origin: "png-phys" };
 }
 
 /** exifr options that read only IFD0's resolution fields, with units as numbers. */
-const IFD0_RESOLUTION = {
+const IFD0_RESOLUTION: Parameters<typeof exifr.parse>[1] = {
   tiff: true,
-  ifd0: true,
   ifd1: false,
   exif: false,
   gps: false,
@@ -94,7 +106,7 @@ interface ResolutionFields {
   ResolutionUnit?: unknown;
 }
 
-/** EXIF payloads in JPEG APP1 and WebP start with "Exif\0\0" before the TIFF header; PNG's eXIf does not. */
+/** EXIF in JPEG APP1 and WebP starts with "Exif\0\0" before the TIFF header; PNG's eXIf does not. */
 function tiffPayload(exif: Buffer): Buffer {
   return exif.toString("latin1", 0, 6) === "Exif\0\0" ? exif.subarray(6) : exif;
 }
@@ -102,9 +114,15 @@ function tiffPayload(exif: Buffer): Buffer {
 async function fromExif(exif: Buffer | undefined): Promise<Resolution | null> {
   if (!exif || exif.length < 8) return null;
   try {
-    const tags = (await exifr.parse(tiffPayload(exif), IFD0_RESOLUTION)) as ResolutionFields | undefined;
+    const tags = (await exifr.parse(tiffPayload(exif), IFD0_RESOLUTION)) as
+      ResolutionFields | undefined;
     if (!tags) return null;
-    return resolutionFromTiffFields(tags.XResolution, tags.YResolution, tags.ResolutionUnit, "exif");
+    return resolutionFromTiffFields(
+      tags.XResolution,
+      tags.YResolution,
+      tags.ResolutionUnit,
+      "exif",
+    );
   } catch {
     return null; // a damaged EXIF block is not a reason to refuse the scan; fall back
   }
@@ -131,8 +149,16 @@ export async function readEmbeddedResolution(input: ResolutionInputs): Promise<R
   switch (input.format) {
     case "tiff": {
       try {
-        const tags = (await exifr.parse(input.file, IFD0_RESOLUTION)) as ResolutionFields | undefined;
-        return tags ? resolutionFromTiffFields(tags.XResolution, tags.YResolution, tags.ResolutionUnit, "tiff") : null;
+        const tags = (await exifr.parse(input.file, IFD0_RESOLUTION)) as
+          ResolutionFields | undefined;
+        return tags
+          ? resolutionFromTiffFields(
+              tags.XResolution,
+              tags.YResolution,
+              tags.ResolutionUnit,
+              "tiff",
+            )
+          : null;
       } catch {
         // exifr does not walk every TIFF (BigTIFF, for one). libvips reports density in DPI
         // but only with a real unit: for unit 1 it leaves resolutionUnit out.

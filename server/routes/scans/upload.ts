@@ -1,9 +1,9 @@
 import fsp from "node:fs/promises";
 import path from "node:path";
 import multer from "multer";
-import { fileTypeFromFile } from "file-type";
+import { SNIFF_BYTES, sniff } from "../../../worker/pipeline/sniff";
 import type { RequestHandler } from "express";
-import { MAX_FILES_PER_UPLOAD, SCAN_MIME_TYPES } from "../../../shared/limits";
+import { MAX_FILES_PER_UPLOAD } from "../../../shared/limits";
 import { unsupportedMedia } from "../../errors";
 
 /** The name a person gave the file, made safe to show and store: no folders, no control characters. */
@@ -31,11 +31,19 @@ export function uploadMiddleware(tempDir: string, maxBytes: number): RequestHand
 export async function sniffUploads(files: Express.Multer.File[]): Promise<void> {
   const refused: string[] = [];
   for (const f of files) {
-    const type = f.size > 0 ? await fileTypeFromFile(f.path) : undefined;
-    if (!type || !(SCAN_MIME_TYPES as readonly string[]).includes(type.mime)) {
-      const what = f.size === 0 ? "it is empty" : type ? `its content is ${type.mime}` : "its content is not an image";
-      refused.push(`${cleanFileName(f.originalname)} (${what})`);
+    if (f.size === 0) {
+      refused.push(`${cleanFileName(f.originalname)} (it is empty)`);
+      continue;
     }
+    const fh = await fsp.open(f.path, "r");
+    const head = Buffer.alloc(Math.min(SNIFF_BYTES, f.size));
+    try {
+      await fh.read(head, 0, head.length, 0);
+    } finally {
+      await fh.close();
+    }
+    const found = sniff(head);
+    if (found.kind !== "scan") refused.push(`${cleanFileName(f.originalname)} (it holds ${found.what})`);
   }
   if (refused.length) {
     await Promise.all(files.map((f) => fsp.rm(f.path, { force: true })));

@@ -1,0 +1,90 @@
+import { Router, type Response } from "express";
+import { and, eq } from "drizzle-orm";
+import { API } from "../../../shared/api";
+import { handle } from "../define";
+import { notFound } from "../../errors";
+import { fragments, outputs, scans } from "../../db/schema";
+import {
+  approveRemaining,
+  drawFragment,
+  getFragment,
+  listFragments,
+  listScanFragments,
+  mergeFragments,
+  requestResplit,
+  resetFragment,
+  unmergeFragment,
+  updateFragment,
+} from "../../services/fragments";
+import { fragmentThumb } from "../../services/fragment-thumbs";
+import { getScan, getScanRow } from "../../services/scans";
+import type { AppDeps } from "../../app";
+
+function sendFile(res: Response, file: string, opts: { type?: string; downloadName?: string } = {}) {
+  return new Promise<void>((resolve, reject) => {
+    const done = (err?: Error) => (err ? reject(notFound("The file")) : resolve());
+    if (opts.downloadName) res.download(file, opts.downloadName, done);
+    else res.sendFile(file, { headers: opts.type ? { "Content-Type": opts.type } : {} }, done);
+  });
+}
+
+export function fragmentsRouter(deps: AppDeps): Router {
+  const router = Router();
+  const { database, boss, library } = deps;
+  const { db } = database;
+
+  handle(router, API.scanFragments, async ({ params, user }) => {
+    await getScanRow(db, params.id);
+    return { fragments: await listScanFragments(db, params.id, user.role) };
+  });
+  handle(router, API.fragmentsDraw, async ({ params, body, user, res }) => {
+    const fragment = await drawFragment(database, boss, user, params.id, body);
+    res.status(201);
+    return { fragment };
+  });
+  handle(router, API.fragmentsApproveRemaining, async ({ params, user, req }) => {
+    const list = await approveRemaining(database, boss, user, params.id);
+    req.log.info({ scanId: params.id }, "approved the remaining fragments");
+    return { fragments: list };
+  });
+  handle(router, API.scansResplit, async ({ params, body }) => {
+    await requestResplit(database, boss, params.id, body.sensitivity);
+    return { scan: await getScan(db, params.id) };
+  });
+  handle(router, API.fragmentsList, async ({ query, user }) => ({ fragments: await listFragments(db, user.role, query) }));
+  handle(router, API.fragmentsMerge, async ({ body, user, res }) => {
+    const fragment = await mergeFragments(database, boss, user, body.ids);
+    res.status(201);
+    return { fragment };
+  });
+  handle(router, API.fragmentsGet, async ({ params, user }) => ({ fragment: await getFragment(db, params.id, user.role) }));
+  handle(router, API.fragmentsUpdate, async ({ params, body, user, req }) => {
+    const fragment = await updateFragment(database, boss, user, params.id, body);
+    req.log.info({ fragmentId: fragment.id, patch: Object.keys(body) }, "fragment updated");
+    return { fragment };
+  });
+  handle(router, API.fragmentsReset, async ({ params, user }) => ({ fragment: await resetFragment(database, boss, user, params.id) }));
+  handle(router, API.fragmentsUnmerge, async ({ params, user }) => ({ fragments: await unmergeFragment(database, boss, user, params.id) }));
+
+  handle(router, API.fragmentsThumb, async ({ params, user, res }) => {
+    const f = await getFragment(db, params.id, user.role);
+    const [row] = await db.select({ previewKey: scans.previewKey, width: scans.width }).from(scans).where(eq(scans.id, f.scanId));
+    const file = await fragmentThumb(library, f, row!);
+    res.setHeader("Cache-Control", "private, max-age=3600");
+    await sendFile(res, file, { type: "image/jpeg" });
+  });
+
+  handle(router, API.fragmentsOutput, async ({ params, user, res }) => {
+    const f = await getFragment(db, params.id, user.role);
+    const out = f.outputs.find((o) => o.kind === params.kind);
+    const [row] = await db
+      .select({ key: outputs.key })
+      .from(outputs)
+      .innerJoin(fragments, eq(fragments.id, outputs.fragmentId))
+      .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, params.kind)));
+    if (!out || !row) throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
+    res.setHeader("Cache-Control", "private, no-cache");
+    await sendFile(res, library.pathFor(row.key), { downloadName: out.fileName });
+  });
+  return router;
+}

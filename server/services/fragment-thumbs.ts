@@ -1,0 +1,53 @@
+import sharp from "sharp";
+import type { Library } from "../storage/library";
+import { rotatePoint } from "../../shared/geometry";
+import type { Box, Rect } from "../../shared/schemas/fragments";
+
+/** Long edge of a fragment thumbnail in the review strip, in pixels. */
+export const FRAGMENT_THUMB_EDGE = 240;
+
+export const fragmentThumbKey = (id: string, revision: number) => `thumbs/fragments/${id}-r${revision}.jpg`;
+
+/**
+ * A small upright picture of a fragment, cut from the scan's preview (not the original), cached
+ * per revision so an edit shows at once and an unchanged fragment costs nothing.
+ */
+export async function fragmentThumb(
+  library: Library,
+  f: { id: string; revision: number; box: Box; rect: Rect; angle: number },
+  scan: { previewKey: string | null; width: number | null },
+): Promise<string> {
+  const key = fragmentThumbKey(f.id, f.revision);
+  if (await library.exists(key)) return library.pathFor(key);
+  if (!scan.previewKey || !scan.width) throw new Error("The scan has no preview yet.");
+  const previewPath = library.pathFor(scan.previewKey);
+  const meta = await sharp(previewPath).metadata();
+  const s = (meta.width ?? 1) / scan.width;
+  // The region around the piece in preview pixels, with room for the turn.
+  const pad = 2;
+  const left = Math.max(0, Math.floor(f.box.x * s) - pad);
+  const top = Math.max(0, Math.floor(f.box.y * s) - pad);
+  const width = Math.max(1, Math.min((meta.width ?? 1) - left, Math.ceil(f.box.width * s) + 2 * pad));
+  const height = Math.max(1, Math.min((meta.height ?? 1) - top, Math.ceil(f.box.height * s) + 2 * pad));
+  const region = await sharp(previewPath).extract({ left, top, width, height }).toBuffer();
+  const turned = sharp(region).rotate(f.angle, { background: "#ffffff" });
+  const { data, info } = await turned.raw().toBuffer({ resolveWithObject: true });
+  // Where the rect's centre went: rotated about the region's centre into the enlarged canvas.
+  const c = rotatePoint([f.rect.cx * s - left, f.rect.cy * s - top], [width / 2, height / 2], f.angle);
+  const cx = c[0] - width / 2 + info.width / 2;
+  const cy = c[1] - height / 2 + info.height / 2;
+  const w = Math.max(1, Math.round(f.rect.width * s));
+  const h = Math.max(1, Math.round(f.rect.height * s));
+  const x0 = Math.min(Math.max(0, Math.round(cx - w / 2)), info.width - 1);
+  const y0 = Math.min(Math.max(0, Math.round(cy - h / 2)), info.height - 1);
+  const crop = { left: x0, top: y0, width: Math.min(w, info.width - x0), height: Math.min(h, info.height - y0) };
+  await library.writeAtomic(key, async (tmp) => {
+    await sharp(data, { raw: { width: info.width, height: info.height, channels: info.channels } })
+      .extract(crop)
+      .resize(FRAGMENT_THUMB_EDGE, FRAGMENT_THUMB_EDGE, { fit: "inside", withoutEnlargement: true })
+      .flatten({ background: "#ffffff" })
+      .jpeg({ quality: 80 })
+      .toFile(tmp);
+  });
+  return library.pathFor(key);
+}

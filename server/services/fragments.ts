@@ -1,0 +1,270 @@
+import { and, asc, eq, inArray, isNull, sql } from "drizzle-orm";
+import type PgBoss from "pg-boss";
+import type { Database, Db } from "../db";
+import { fragments, outputs, scans } from "../db/schema";
+import { withTx, type Tx } from "../db/tx";
+import { QUEUES } from "../jobs/queues";
+import { badRequest, conflict, notFound } from "../errors";
+import { presentFragment } from "../presenters/fragment";
+import type { Role } from "../../shared/roles";
+import { hasRole } from "../../shared/roles";
+import type { DetectedPiece, Fragment, FragmentGeometry, Rect, UpdateFragmentBody } from "../../shared/schemas/fragments";
+import { boxOfPoints, convexHull, minAreaRect, polygonArea, rectCorners, type Point } from "../../shared/geometry";
+
+type FragmentRow = typeof fragments.$inferSelect;
+type ScanRow = typeof scans.$inferSelect;
+
+/** Viewers see approved work only; operators and admins see every fragment that is not merged away. */
+function visibleTo(role: Role) {
+  return hasRole(role, "operator")
+    ? isNull(fragments.mergedInto)
+    : and(isNull(fragments.mergedInto), eq(fragments.status, "approved"));
+}
+
+async function present(db: Db, rows: FragmentRow[]): Promise<Fragment[]> {
+  if (!rows.length) return [];
+  const ids = rows.map((r) => r.id);
+  const scanIds = [...new Set(rows.map((r) => r.scanId))];
+  const [scanRows, outRows, merged] = await Promise.all([
+    db.select().from(scans).where(inArray(scans.id, scanIds)),
+    db.select().from(outputs).where(inArray(outputs.fragmentId, ids)),
+    db.select({ id: fragments.id, into: fragments.mergedInto }).from(fragments).where(inArray(fragments.mergedInto, ids)),
+  ]);
+  const scanById = new Map(scanRows.map((s) => [s.id, s]));
+  return rows.map((r) =>
+    presentFragment(
+      r,
+      scanById.get(r.scanId)!,
+      outRows.filter((o) => o.fragmentId === r.id),
+      merged.filter((m) => m.into === r.id).map((m) => m.id),
+    ),
+  );
+}
+
+export async function listScanFragments(db: Db, scanId: string, role: Role): Promise<Fragment[]> {
+  const rows = await db
+    .select()
+    .from(fragments)
+    .where(and(eq(fragments.scanId, scanId), visibleTo(role)))
+    .orderBy(asc(fragments.position));
+  return present(db, rows);
+}
+
+export async function listFragments(db: Db, role: Role, q: { status?: FragmentRow["status"]; scanId?: string; limit: number; offset: number }) {
+  const cond = and(visibleTo(role), q.status ? eq(fragments.status, q.status) : undefined, q.scanId ? eq(fragments.scanId, q.scanId) : undefined);
+  const rows = await db.select().from(fragments).where(cond).orderBy(asc(fragments.scanId), asc(fragments.position)).limit(q.limit).offset(q.offset);
+  return present(db, rows);
+}
+
+async function loadRow(db: Db, id: string, role: Role): Promise<FragmentRow> {
+  const [row] = await db.select().from(fragments).where(and(eq(fragments.id, id), visibleTo(role)));
+  if (!row) throw notFound("That fragment");
+  return row;
+}
+
+export async function getFragment(db: Db, id: string, role: Role): Promise<Fragment> {
+  return (await present(db, [await loadRow(db, id, role)]))[0]!;
+}
+
+/** Geometry of a rectangle drawn or edited by a person: box and outline follow the rectangle. */
+function geometryFromRect(scan: ScanRow, rect: Rect, angle: number, shape: FragmentGeometry["shape"], outline?: Point[]): FragmentGeometry & { areaPx: number } {
+  const corners = rectCorners(rect, angle);
+  const w = scan.width ?? Infinity;
+  const h = scan.height ?? Infinity;
+  const inside = corners.every(([x, y]) => x >= -1 && y >= -1 && x <= w + 1 && y <= h + 1);
+  if (!inside) throw badRequest(`The fragment's rectangle reaches outside the scan (${scan.width} × ${scan.height} px).`, "rect");
+  const keepOutline = shape === "cutout" && outline && outline.length >= 3 ? outline : corners;
+  return {
+    box: boxOfPoints(corners, w, h),
+    angle,
+    rect,
+    outline: keepOutline.map(([x, y]) => [Math.round(x * 10) / 10, Math.round(y * 10) / 10] as [number, number]),
+    shape,
+    areaPx: polygonArea(keepOutline),
+  };
+}
+
+/** Reading order on the bed: rows top to bottom (by centre, in bands of a third of a piece), then left to right. */
+function byReadingOrder<T extends { rect: Rect }>(items: T[]): T[] {
+  const band = Math.max(1, Math.min(...items.map((i) => i.rect.height)) / 3);
+  return [...items].sort((a, b) => Math.round(a.rect.cy / band) - Math.round(b.rect.cy / band) || a.rect.cx - b.rect.cx);
+}
+
+async function queueRender(tx: Tx, row: Pick<FragmentRow, "id" | "revision" | "scanId">) {
+  await tx.db.update(fragments).set({ renderState: "queued", renderError: null }).where(eq(fragments.id, row.id));
+  await tx.send(QUEUES.render, { fragmentId: row.id, revision: row.revision });
+}
+
+/**
+ * Replaces a scan's split proposals with a new split's pieces. Approved and drawn fragments stay;
+ * a new piece lying mostly on an approved fragment is not proposed again.
+ */
+export async function replaceProposals(tx: Tx, scan: ScanRow, pieces: DetectedPiece[], run: number): Promise<number> {
+  await tx.db
+    .delete(fragments)
+    .where(and(eq(fragments.scanId, scan.id), eq(fragments.origin, "split"), inArray(fragments.status, ["proposed", "rejected"]), isNull(fragments.mergedInto)));
+  const kept = await tx.db.select().from(fragments).where(and(eq(fragments.scanId, scan.id), isNull(fragments.mergedInto)));
+  const overlapsKept = (p: DetectedPiece) =>
+    kept.some((k) => {
+      const ix = Math.max(0, Math.min(k.box.x + k.box.width, p.box.x + p.box.width) - Math.max(k.box.x, p.box.x));
+      const iy = Math.max(0, Math.min(k.box.y + k.box.height, p.box.y + p.box.height) - Math.max(k.box.y, p.box.y));
+      return ix * iy > 0.5 * p.box.width * p.box.height;
+    });
+  const fresh = byReadingOrder(pieces.filter((p) => !overlapsKept(p)));
+  const ordered = byReadingOrder([...kept.map((k) => ({ rect: k.rect, id: k.id as string | null, piece: null as DetectedPiece | null })), ...fresh.map((p) => ({ rect: p.rect, id: null, piece: p }))]);
+  let position = 0;
+  for (const item of ordered) {
+    position++;
+    if (item.id) {
+      await tx.db.update(fragments).set({ position }).where(eq(fragments.id, item.id));
+      continue;
+    }
+    const p = item.piece!;
+    const geometry: FragmentGeometry = { box: p.box, angle: p.angle, rect: p.rect, outline: p.outline, shape: p.shape };
+    await tx.db.insert(fragments).values({ scanId: scan.id, position, splitRun: run, ...geometry, areaPx: p.areaPx, confidence: p.confidence, proposal: geometry });
+  }
+  return fresh.length;
+}
+
+export interface Actor {
+  id: string;
+  role: Role;
+}
+
+async function scanOf(db: Db, scanId: string): Promise<ScanRow> {
+  const [scan] = await db.select().from(scans).where(eq(scans.id, scanId));
+  if (!scan) throw notFound("That scan");
+  return scan;
+}
+
+/** Approve, reject, move, turn, reshape or describe a fragment. Approval (or an edit once approved) queues its render. */
+export async function updateFragment(database: Database, boss: PgBoss, actor: Actor, id: string, patch: UpdateFragmentBody): Promise<Fragment> {
+  await withTx(database, boss, async (tx) => {
+    const row = await loadRow(tx.db, id, actor.role);
+    const scan = await scanOf(tx.db, row.scanId);
+    const geometryChanged = patch.rect !== undefined || patch.angle !== undefined || patch.shape !== undefined;
+    const set: Partial<typeof fragments.$inferInsert> = { updatedAt: new Date() };
+    if (geometryChanged) {
+      Object.assign(set, geometryFromRect(scan, patch.rect ?? row.rect, patch.angle ?? row.angle, patch.shape ?? row.shape, row.outline));
+      set.revision = row.revision + 1;
+    }
+    if (patch.status !== undefined && patch.status !== row.status) {
+      set.status = patch.status;
+      set.reviewedBy = actor.id;
+      set.reviewedAt = new Date();
+    }
+    if (patch.title !== undefined) set.title = patch.title;
+    if (patch.tags !== undefined) set.tags = [...new Set(patch.tags)];
+    if (patch.notes !== undefined) set.notes = patch.notes;
+    const [updated] = await tx.db.update(fragments).set(set).where(eq(fragments.id, id)).returning();
+    const approvedNow = updated!.status === "approved" && (row.status !== "approved" || geometryChanged);
+    if (approvedNow) await queueRender(tx, updated!);
+    await tx.notify({ kind: "scan", scanId: row.scanId });
+  });
+  return getFragment(database.db, id, actor.role);
+}
+
+/** Back to the split's proposal: geometry and status. */
+export async function resetFragment(database: Database, boss: PgBoss, actor: Actor, id: string): Promise<Fragment> {
+  await withTx(database, boss, async (tx) => {
+    const row = await loadRow(tx.db, id, actor.role);
+    if (!row.proposal) throw conflict("This fragment was drawn by hand, so there is no proposal to go back to.");
+    await tx.db
+      .update(fragments)
+      .set({ ...row.proposal, status: "proposed", revision: row.revision + 1, reviewedBy: actor.id, reviewedAt: new Date(), updatedAt: new Date() })
+      .where(eq(fragments.id, id));
+    await tx.notify({ kind: "scan", scanId: row.scanId });
+  });
+  return getFragment(database.db, id, actor.role);
+}
+
+/** Adds a fragment the split missed. */
+export async function drawFragment(database: Database, boss: PgBoss, actor: Actor, scanId: string, body: { rect: Rect; angle: number; shape: FragmentGeometry["shape"] }): Promise<Fragment> {
+  const id = await withTx(database, boss, async (tx) => {
+    const scan = await scanOf(tx.db, scanId);
+    if (scan.status !== "ready") throw conflict(`Fragments can be drawn on a ready scan; this one is ${scan.status}.`);
+    const g = geometryFromRect(scan, body.rect, body.angle, body.shape);
+    const [{ max } = { max: 0 }] = await tx.db.select({ max: sql<number>`coalesce(max(${fragments.position}), 0)::int` }).from(fragments).where(eq(fragments.scanId, scanId));
+    const [row] = await tx.db.insert(fragments).values({ scanId, position: max + 1, origin: "drawn", ...g, confidence: 1, reviewedBy: actor.id }).returning();
+    await tx.notify({ kind: "scan", scanId });
+    return row!.id;
+  });
+  return getFragment(database.db, id, actor.role);
+}
+
+/** Merges fragments of one scan into one whose outline is the hull of theirs. Undone by `unmerge`. */
+export async function mergeFragments(database: Database, boss: PgBoss, actor: Actor, ids: string[]): Promise<Fragment> {
+  const unique = [...new Set(ids)];
+  if (unique.length < 2) throw badRequest("Expected at least two different fragments to merge.", "ids");
+  const id = await withTx(database, boss, async (tx) => {
+    const rows = await tx.db.select().from(fragments).where(and(inArray(fragments.id, unique), isNull(fragments.mergedInto)));
+    if (rows.length !== unique.length) throw notFound("One of those fragments");
+    const scanIds = new Set(rows.map((r) => r.scanId));
+    if (scanIds.size > 1) throw badRequest("Only fragments of the same scan can be merged.", "ids");
+    const scan = await scanOf(tx.db, rows[0]!.scanId);
+    const points = rows.flatMap((r) => r.outline);
+    const hull = convexHull(points);
+    const { rect, angle, area } = minAreaRect(hull);
+    const shape = polygonArea(hull) / area >= 0.95 && rows.every((r) => r.shape === "rectangle") ? "rectangle" : "cutout";
+    const g = geometryFromRect(scan, rect, angle, shape, hull);
+    const position = Math.min(...rows.map((r) => r.position));
+    const [row] = await tx.db.insert(fragments).values({ scanId: scan.id, position, origin: "merged", ...g, confidence: Math.min(...rows.map((r) => r.confidence)), reviewedBy: actor.id }).returning();
+    await tx.db.update(fragments).set({ mergedInto: row!.id, updatedAt: new Date() }).where(inArray(fragments.id, unique));
+    await tx.notify({ kind: "scan", scanId: scan.id });
+    return row!.id;
+  });
+  return getFragment(database.db, id, actor.role);
+}
+
+/** Takes a merge back: the merged fragment goes, the ones it was made of return as they were. */
+export async function unmergeFragment(database: Database, boss: PgBoss, actor: Actor, id: string): Promise<Fragment[]> {
+  const scanId = await withTx(database, boss, async (tx) => {
+    const row = await loadRow(tx.db, id, actor.role);
+    if (row.origin !== "merged") throw conflict("This fragment was not made by a merge.");
+    await tx.db.update(fragments).set({ mergedInto: null, updatedAt: new Date() }).where(eq(fragments.mergedInto, id));
+    await tx.db.delete(fragments).where(eq(fragments.id, id));
+    await tx.notify({ kind: "scan", scanId: row.scanId });
+    return row.scanId;
+  });
+  return listScanFragments(database.db, scanId, actor.role);
+}
+
+/** Approves every fragment of the scan still proposed, and queues their renders. */
+export async function approveRemaining(database: Database, boss: PgBoss, actor: Actor, scanId: string): Promise<Fragment[]> {
+  await withTx(database, boss, async (tx) => {
+    await scanOf(tx.db, scanId);
+    const rows = await tx.db
+      .update(fragments)
+      .set({ status: "approved", reviewedBy: actor.id, reviewedAt: new Date(), updatedAt: new Date() })
+      .where(and(eq(fragments.scanId, scanId), eq(fragments.status, "proposed"), isNull(fragments.mergedInto)))
+      .returning();
+    for (const r of rows) await queueRender(tx, r);
+    await tx.notify({ kind: "scan", scanId });
+  });
+  return listScanFragments(database.db, scanId, actor.role);
+}
+
+/** Splits a scan again with another sensitivity (approved and drawn fragments stay). */
+export async function requestResplit(database: Database, boss: PgBoss, scanId: string, sensitivity: number) {
+  await withTx(database, boss, async (tx) => {
+    const scan = await scanOf(tx.db, scanId);
+    if (scan.status !== "ready") throw conflict(`Only a ready scan can be split again; this one is ${scan.status}.`);
+    await tx.db.update(scans).set({ status: "analysing", stage: "Waiting to split again", progress: 0, updatedAt: new Date() }).where(eq(scans.id, scanId));
+    await tx.send(QUEUES.split, { scanId, sensitivity });
+    await tx.notify({ kind: "scan", scanId, status: "analysing" });
+  });
+}
+
+/** Proposed fragments per scan, for the queue and scans screens. */
+export async function proposedCounts(db: Db, scanIds?: string[]): Promise<Map<string, { proposed: number; total: number }>> {
+  const rows = await db
+    .select({
+      scanId: fragments.scanId,
+      proposed: sql<number>`count(*) filter (where ${fragments.status} = 'proposed')::int`,
+      total: sql<number>`count(*) filter (where ${fragments.status} <> 'rejected')::int`,
+    })
+    .from(fragments)
+    .where(and(isNull(fragments.mergedInto), scanIds ? inArray(fragments.scanId, scanIds) : undefined))
+    .groupBy(fragments.scanId);
+  return new Map(rows.map((r) => [r.scanId, { proposed: r.proposed, total: r.total }]));
+}

@@ -1,0 +1,86 @@
+import fs from "node:fs/promises";
+import path from "node:path";
+import { and, eq } from "drizzle-orm";
+import type { Database } from "../../server/db";
+import { fragments, outputs, scans } from "../../server/db/schema";
+import { notify } from "../../server/services/events";
+import type { Library } from "../../server/storage/library";
+import type { Logger } from "../../server/logger";
+import type { Config } from "../../server/config";
+import { renderPayload } from "../../shared/schemas/jobs";
+import { renderFragment } from "../pipeline/render";
+import type { JobContext } from "./context";
+
+export interface RenderDeps {
+  database: Database;
+  library: Library;
+  config: Config;
+  log: Logger;
+}
+
+export const masterKey = (fragmentId: string) => `masters/${fragmentId}.tif`;
+export const webKey = (fragmentId: string, format: "jpeg" | "webp") => `web/${fragmentId}.${format === "jpeg" ? "jpg" : "webp"}`;
+
+/**
+ * Renders one approved fragment at one revision: the upright master and the web copy. A newer
+ * revision or a fragment no longer approved makes the job a no-op; a revision already rendered is
+ * not rendered again. Errors throw, so the queue retries; the last attempt records the message.
+ */
+export async function renderFragmentJob(deps: RenderDeps, data: unknown, ctx: JobContext): Promise<void> {
+  const { fragmentId, revision } = renderPayload.parse(data);
+  const { db, pool } = deps.database;
+  const log = deps.log.child({ jobId: ctx.jobId, fragmentId, revision });
+  const [row] = await db.select().from(fragments).where(eq(fragments.id, fragmentId));
+  if (!row || row.status !== "approved" || row.mergedInto) return log.info("render: fragment no longer approved");
+  if (row.revision !== revision) return log.info({ current: row.revision }, "render: a newer revision will be rendered");
+  const made = await db.select().from(outputs).where(eq(outputs.fragmentId, fragmentId));
+  if (made.length >= 2 && made.every((o) => o.revision === revision)) {
+    await db.update(fragments).set({ renderState: "done" }).where(eq(fragments.id, fragmentId));
+    return log.info("render: already rendered");
+  }
+  const [scan] = await db.select().from(scans).where(eq(scans.id, row.scanId));
+  if (!scan) return;
+
+  const setState = async (state: "rendering" | "done" | "failed", error: string | null = null) => {
+    await db
+      .update(fragments)
+      .set({ renderState: state, renderError: error })
+      .where(and(eq(fragments.id, fragmentId), eq(fragments.revision, revision)));
+    await notify(pool, { kind: "scan", scanId: row.scanId });
+  };
+  await setState("rendering");
+
+  const webFormat = row.shape === "cutout" ? "webp" : "jpeg";
+  const mKey = masterKey(fragmentId);
+  const wKey = webKey(fragmentId, webFormat);
+  await fs.mkdir(path.dirname(deps.library.pathFor(mKey)), { recursive: true });
+  await fs.mkdir(path.dirname(deps.library.pathFor(wKey)), { recursive: true });
+  try {
+    const r = await renderFragment(
+      {
+        source: deps.library.pathFor(scan.originalKey),
+        geometry: { box: row.box, angle: row.angle, rect: row.rect, outline: row.outline, shape: row.shape },
+        dpi: { x: scan.dpiX ?? deps.config.defaultDpi, y: scan.dpiY ?? scan.dpiX ?? deps.config.defaultDpi },
+        maxPixels: deps.config.maxPixels,
+        metadata: { title: row.title ?? undefined },
+      },
+      { masterPath: deps.library.pathFor(mKey), webPath: deps.library.pathFor(wKey), webFormat },
+    );
+    const now = new Date();
+    for (const o of [
+      { kind: "master" as const, key: mKey, format: "tiff", width: r.master.width, height: r.master.height, bitDepth: r.master.bitDepth, hasAlpha: r.master.hasAlpha, dpi: r.master.dpi, bytes: r.master.bytes },
+      { kind: "web" as const, key: wKey, format: r.web.format, width: r.web.width, height: r.web.height, bitDepth: 8, hasAlpha: webFormat === "webp", dpi: r.web.dpi, bytes: r.web.bytes },
+    ]) {
+      await db
+        .insert(outputs)
+        .values({ fragmentId, revision, ...o })
+        .onConflictDoUpdate({ target: [outputs.fragmentId, outputs.kind], set: { ...o, revision, updatedAt: now, createdAt: now } });
+    }
+    await setState("done");
+    log.info({ master: `${r.master.width}×${r.master.height}`, dpi: r.master.dpi }, "render: done");
+  } catch (err) {
+    const last = ctx.retryCount >= ctx.retryLimit;
+    await setState(last ? "failed" : "rendering", last ? (err as Error).message : null).catch(() => {});
+    throw err;
+  }
+}
