@@ -6,7 +6,27 @@ const apiPort = Number(process.env.PLATEN_PORT ?? 5480);
 
 export default defineConfig({
   plugins: [react(), tailwindcss()],
-  build: { outDir: "dist", emptyOutDir: true, sourcemap: true },
+  build: {
+    outDir: "dist",
+    emptyOutDir: true,
+    sourcemap: true,
+    rolldownOptions: {
+      output: {
+        // Libraries change less often than the app: separate chunks stay cached across releases.
+        codeSplitting: {
+          groups: [
+            {
+              name: "react",
+              test: /node_modules[\\/](react|react-dom|react-router|react-router-dom|scheduler)[\\/]/,
+              priority: 20,
+            },
+            { name: "data", test: /node_modules[\\/](@tanstack|zod)[\\/]/, priority: 15 },
+            { name: "vendor", test: /node_modules[\\/].*\.[cm]?js$/, priority: 10 },
+          ],
+        },
+      },
+    },
+  },
   server: {
     port: 5173,
     host: "127.0.0.1",

@@ -10,7 +10,8 @@ const VARIANTS: Record<Variant, string> = {
   secondary:
     "bg-paper-50 text-ink border border-paper-300 hover:border-ink-faint hover:bg-white disabled:text-ink-faint",
   quiet: "bg-transparent text-ink-soft hover:bg-paper-200 hover:text-ink border border-transparent",
-  danger: "bg-brick text-paper-50 hover:bg-[#8a3a27] border border-transparent disabled:bg-ink-faint",
+  danger:
+    "bg-brick text-paper-50 hover:bg-[#8a3a27] border border-transparent disabled:bg-ink-faint",
 };
 
 const SIZES: Record<Size, string> = {
@@ -25,7 +26,16 @@ export interface ButtonProps extends ButtonHTMLAttributes<HTMLButtonElement> {
 }
 
 export const Button = forwardRef<HTMLButtonElement, ButtonProps>(function Button(
-  { variant = "secondary", size = "md", busy = false, className, disabled, children, type, ...rest },
+  {
+    variant = "secondary",
+    size = "md",
+    busy = false,
+    className,
+    disabled,
+    children,
+    type,
+    ...rest
+  },
   ref,
 ) {
   return (

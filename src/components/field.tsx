@@ -2,7 +2,7 @@ import { useId, type InputHTMLAttributes, type ReactNode, type SelectHTMLAttribu
 import { cn } from "../lib/cn";
 
 export const inputClass =
-  "h-10 w-full rounded-md border border-paper-300 bg-white px-3 text-sm text-ink placeholder:text-ink-faint hover:border-ink-faint focus-visible:border-accent disabled:bg-paper-100 disabled:text-ink-muted aria-[invalid=true]:border-brick";
+  "h-10 rounded-md border border-paper-300 bg-white px-3 text-sm text-ink placeholder:text-ink-faint hover:border-ink-faint focus-visible:border-accent disabled:bg-paper-100 disabled:text-ink-muted aria-[invalid=true]:border-brick";
 
 interface FieldShellProps {
   label: ReactNode;
@@ -42,7 +42,14 @@ type TextFieldProps = Omit<InputHTMLAttributes<HTMLInputElement>, "id"> & {
 };
 
 /** A labelled input whose error text is tied to it with aria-describedby. */
-export function TextField({ label, hint, error, fieldClassName, className, ...rest }: TextFieldProps) {
+export function TextField({
+  label,
+  hint,
+  error,
+  fieldClassName,
+  className,
+  ...rest
+}: TextFieldProps) {
   const id = useId();
   const describedBy = error ? `${id}-error` : hint ? `${id}-hint` : undefined;
   return (
@@ -51,7 +58,7 @@ export function TextField({ label, hint, error, fieldClassName, className, ...re
         id={id}
         aria-invalid={error ? true : undefined}
         aria-describedby={describedBy}
-        className={cn(inputClass, className)}
+        className={cn(inputClass, "w-full", className)}
         {...rest}
       />
     </FieldShell>
@@ -82,7 +89,7 @@ export function SelectField({
         id={id}
         aria-invalid={error ? true : undefined}
         aria-describedby={describedBy}
-        className={cn(inputClass, "pr-8", className)}
+        className={cn(inputClass, "w-full pr-8", className)}
         {...rest}
       >
         {children}

@@ -15,6 +15,7 @@ export function Panel({
   actions?: ReactNode;
   children: ReactNode;
   className?: string;
+  /** Replaces the body's default padding (e.g. "p-0" for a table that runs edge to edge). */
   bodyClassName?: string;
 }) {
   return (
@@ -30,7 +31,7 @@ export function Panel({
           {actions}
         </header>
       )}
-      <div className={cn("px-5 py-4", bodyClassName)}>{children}</div>
+      <div className={bodyClassName ?? "px-5 py-4"}>{children}</div>
     </section>
   );
 }

@@ -26,7 +26,7 @@ export function Tooltip({
         role="tooltip"
         id={id}
         className={cn(
-          "pointer-events-none invisible absolute bottom-full z-30 mb-2 w-64 rounded-md bg-ink px-3 py-2 text-xs leading-snug font-normal text-paper-50 opacity-0 shadow-lg transition-opacity group-focus-within:visible group-focus-within:opacity-100 group-hover:visible group-hover:opacity-100",
+          "pointer-events-none invisible absolute bottom-full z-30 mb-2 w-64 rounded-md text-left whitespace-normal bg-ink px-3 py-2 text-xs leading-snug font-normal text-paper-50 opacity-0 shadow-lg transition-opacity group-focus-within:visible group-focus-within:opacity-100 group-hover:visible group-hover:opacity-100",
           align === "start" ? "left-0" : "right-0",
         )}
       >

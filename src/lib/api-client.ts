@@ -92,7 +92,12 @@ function fallbackMessage(status: number): string {
   return `The request failed (HTTP ${status}).`;
 }
 
-function handleFailure(spec: RouteSpec, error: ApiError, quiet: boolean, allowUnauthorized: boolean) {
+function handleFailure(
+  spec: RouteSpec,
+  error: ApiError,
+  quiet: boolean,
+  allowUnauthorized: boolean,
+) {
   if (error.status === 401 && !allowUnauthorized) {
     onUnauthorized();
     return;
@@ -136,7 +141,11 @@ export async function apiRequest<T = undefined>(
     throw error;
   }
   if (!response.ok) {
-    const error = errorFrom(response.status, await response.text(), fallbackMessage(response.status));
+    const error = errorFrom(
+      response.status,
+      await response.text(),
+      fallbackMessage(response.status),
+    );
     handleFailure(spec, error, quiet, allowUnauthorized);
     throw error;
   }
@@ -183,7 +192,9 @@ export function apiUpload<T>(spec: RouteSpec, options: UploadOptions<T>): Promis
         return;
       }
       try {
-        resolve(parseWith(schema, xhr.responseText ? JSON.parse(xhr.responseText) : undefined, spec));
+        resolve(
+          parseWith(schema, xhr.responseText ? JSON.parse(xhr.responseText) : undefined, spec),
+        );
       } catch (error) {
         reject(error);
       }

@@ -24,7 +24,10 @@ export function formatAgo(iso: string, now: number): string {
 }
 
 const dateTime = new Intl.DateTimeFormat(undefined, { dateStyle: "medium", timeStyle: "short" });
-const dateTimeLong = new Intl.DateTimeFormat(undefined, { dateStyle: "medium", timeStyle: "medium" });
+const dateTimeLong = new Intl.DateTimeFormat(undefined, {
+  dateStyle: "medium",
+  timeStyle: "medium",
+});
 
 /** A date and time for lists: "3 Mar 2026, 14:05". */
 export function formatDateTime(iso: string): string {
@@ -34,4 +37,24 @@ export function formatDateTime(iso: string): string {
 /** A date and time with seconds, for tooltips and detail pages. */
 export function formatDateTimeLong(iso: string): string {
   return dateTimeLong.format(new Date(iso));
+}
+
+const shortThisYear = new Intl.DateTimeFormat(undefined, {
+  day: "numeric",
+  month: "short",
+  hour: "2-digit",
+  minute: "2-digit",
+});
+const shortOtherYear = new Intl.DateTimeFormat(undefined, {
+  day: "numeric",
+  month: "short",
+  year: "numeric",
+});
+
+/** A compact date for table cells: the time this year, the year otherwise. */
+export function formatShortDateTime(iso: string): string {
+  const date = new Date(iso);
+  return date.getFullYear() === new Date().getFullYear()
+    ? shortThisYear.format(date)
+    : shortOtherYear.format(date);
 }

@@ -2,7 +2,14 @@ import crypto from "node:crypto";
 import pg from "pg";
 
 /** Databases for tests, each cloned from a template that holds the migrated schema. */
-export const TEMPLATE_DB = "platen_test_template";
+/** This run's id (seconds since 1970 and the runner's pid), set by scripts/test.ts. */
+export function runId(): string {
+  const id = process.env.PLATEN_TEST_RUN;
+  if (!id || !/^\d+_\d+$/.test(id)) throw new Error("PLATEN_TEST_RUN is not set: run the tests with `npm test`.");
+  return id;
+}
+export const runPrefix = () => `platen_t_${runId()}_`;
+export const templateDb = () => `${runPrefix()}template`;
 
 export function adminUrl(): string {
   const url = process.env.PLATEN_TEST_ADMIN_URL;
@@ -28,11 +35,11 @@ export async function withAdmin<T>(fn: (c: pg.Client) => Promise<T>): Promise<T>
 
 /** A fresh database for one test file, with the whole schema already in place. */
 export async function createTestDatabase(): Promise<{ name: string; url: string; drop: () => Promise<void> }> {
-  const name = `platen_test_${crypto.randomBytes(5).toString("hex")}`;
+  const name = `${runPrefix()}${crypto.randomBytes(4).toString("hex")}`;
   // CREATE DATABASE ... TEMPLATE needs the template to have no other sessions; retry briefly.
   for (let i = 0; ; i++) {
     try {
-      await withAdmin((c) => c.query(`create database ${name} template ${TEMPLATE_DB}`));
+      await withAdmin((c) => c.query(`create database ${name} template ${templateDb()}`));
       break;
     } catch (err) {
       if (i >= 20) throw err;

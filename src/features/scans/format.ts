@@ -22,9 +22,17 @@ export function formatPixels(scan: Pick<Scan, "width" | "height">): string | nul
 }
 
 /** The physical size the server reported, or worked out here from pixels and DPI. */
-export function physicalOf(scan: Pick<Scan, "physical" | "width" | "height" | "dpi">): PhysicalSize | null {
+export function physicalOf(
+  scan: Pick<Scan, "physical" | "width" | "height" | "dpi">,
+): PhysicalSize | null {
   if (scan.physical) return scan.physical;
-  if (scan.width == null || scan.height == null || !scan.dpi || !(scan.dpi.x > 0) || !(scan.dpi.y > 0)) {
+  if (
+    scan.width == null ||
+    scan.height == null ||
+    !scan.dpi ||
+    !(scan.dpi.x > 0) ||
+    !(scan.dpi.y > 0)
+  ) {
     return null;
   }
   return physicalSize(scan.width, scan.height, scan.dpi.x, scan.dpi.y);
@@ -39,3 +47,21 @@ export function formatPhysical(size: PhysicalSize): { inches: string; cm: string
 
 export const ASSUMED_DPI_HINT =
   "The file carried no resolution, so the studio's default DPI was used. Physical sizes depend on it: check the scanner's setting.";
+
+/** Colour space names as the image library reports them, in the words people use. */
+const COLOUR_SPACES: Record<string, string> = {
+  srgb: "sRGB",
+  rgb: "RGB",
+  rgb16: "RGB, 16-bit",
+  scrgb: "scRGB (linear)",
+  cmyk: "CMYK",
+  lab: "CIE L*a*b*",
+  labs: "CIE L*a*b* (16-bit)",
+  "b-w": "Greyscale",
+  grey16: "Greyscale, 16-bit",
+  xyz: "CIE XYZ",
+};
+
+export function colourSpaceLabel(space: string): string {
+  return COLOUR_SPACES[space.toLowerCase()] ?? space;
+}

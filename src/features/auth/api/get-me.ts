@@ -6,7 +6,11 @@ import { ApiError, apiRequest } from "../../../lib/api-client";
 /** The signed-in user, or null when nobody is signed in (a 401 is an answer here, not an error). */
 export async function getMe(signal?: AbortSignal): Promise<SessionUser | null> {
   try {
-    const { user } = await apiRequest(API.me, { schema: meResponse, signal, allowUnauthorized: true });
+    const { user } = await apiRequest(API.me, {
+      schema: meResponse,
+      signal,
+      allowUnauthorized: true,
+    });
     return user;
   } catch (error) {
     if (error instanceof ApiError && error.status === 401) return null;

@@ -22,7 +22,9 @@ export function RunningNow({ running }: { running: QueueSummary["running"] }) {
                 >
                   {item.originalName}
                 </Link>
-                <span className="figure shrink-0 text-sm text-ink-soft">{Math.round(item.progress)}%</span>
+                <span className="figure shrink-0 text-sm text-ink-soft">
+                  {Math.round(item.progress)}%
+                </span>
               </div>
               <ProgressBar
                 value={item.progress}

@@ -27,7 +27,10 @@ export function WatcherStatus({
         <dt className="text-ink-muted">Folder</dt>
         <dd className="min-w-0">
           {watcher.folder ? (
-            <code className="figure block truncate rounded bg-paper-200/70 px-1.5 py-0.5 text-xs" title={watcher.folder}>
+            <code
+              className="figure block truncate rounded bg-paper-200/70 px-1.5 py-0.5 text-xs"
+              title={watcher.folder}
+            >
               {watcher.folder}
             </code>
           ) : (

@@ -5,7 +5,13 @@ import { apiRequest } from "../../../lib/api-client";
 import { scanKeys } from "./keys";
 
 export function getScans(filters: ScanListQuery, signal?: AbortSignal) {
-  return apiRequest(API.scansList, { query: { ...filters }, schema: scanListResponse, signal });
+  const { limit, offset, ...rest } = filters;
+  const query = {
+    ...rest,
+    limit: limit as number | undefined,
+    offset: offset as number | undefined,
+  };
+  return apiRequest(API.scansList, { query, schema: scanListResponse, signal });
 }
 
 export const scansQueryOptions = (filters: ScanListQuery) =>

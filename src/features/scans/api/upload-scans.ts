@@ -1,4 +1,4 @@
-import { useCallback, useRef, useState } from "react";
+import { useState } from "react";
 import { useQueryClient } from "@tanstack/react-query";
 import { API } from "../../../../shared/api";
 import { uploadResponse } from "../../../../shared/schemas/scans";
@@ -26,7 +26,11 @@ export interface UploadItem {
 }
 
 /** Sends one file and reports its result: queued, duplicate of an earlier scan, or refused. */
-export function uploadScan(file: File, onProgress: (percent: number) => void, signal?: AbortSignal) {
+export function uploadScan(
+  file: File,
+  onProgress: (percent: number) => void,
+  signal?: AbortSignal,
+) {
   return apiUpload(API.scansUpload, {
     field: UPLOAD_FIELD,
     files: [file],
@@ -41,57 +45,60 @@ export function uploadScan(file: File, onProgress: (percent: number) => void, si
 let counter = 0;
 
 /**
- * Uploads dropped files one request per file, so each file has its own progress and its own
- * result even when another one is refused.
+ * The upload queue outside React: one request per file, CONCURRENCY at a time, so each file has
+ * its own progress and its own result even when another one is refused.
  */
-export function useUploadScans() {
-  const queryClient = useQueryClient();
-  const [items, setItems] = useState<UploadItem[]>([]);
-  const pending = useRef<Array<{ key: string; file: File }>>([]);
-  const active = useRef(0);
+function createUploadQueue(events: {
+  onChange: (items: UploadItem[]) => void;
+  onSettled: () => void;
+}) {
+  let items: UploadItem[] = [];
+  const pending: Array<{ key: string; file: File }> = [];
+  let active = 0;
 
-  const update = useCallback((key: string, patch: Partial<UploadItem>) => {
-    setItems((list) => list.map((item) => (item.key === key ? { ...item, ...patch } : item)));
-  }, []);
+  const publish = (next: UploadItem[]) => {
+    items = next;
+    events.onChange(items);
+  };
+  const update = (key: string, patch: Partial<UploadItem>) =>
+    publish(items.map((item) => (item.key === key ? { ...item, ...patch } : item)));
 
-  const pump = useCallback(() => {
-    while (active.current < CONCURRENCY && pending.current.length > 0) {
-      const next = pending.current.shift()!;
-      active.current++;
-      update(next.key, { state: "sending", progress: 0 });
-      uploadScan(next.file, (progress) => update(next.key, { progress }))
-        .then(({ results }) => {
-          const result = results[0];
-          if (!result) {
-            update(next.key, { state: "refused", message: "The server accepted nothing." });
-          } else if (result.duplicateOf) {
-            update(next.key, {
-              state: "duplicate",
-              progress: 100,
-              scanId: result.scanId,
-              duplicateOf: result.duplicateOf,
-            });
-          } else {
-            update(next.key, { state: "queued", progress: 100, scanId: result.scanId });
-          }
-          void queryClient.invalidateQueries({ queryKey: scanKeys.lists() });
-          void queryClient.invalidateQueries({ queryKey: intakesQueryOptions().queryKey });
-        })
-        .catch((error: unknown) => {
-          const message = error instanceof Error ? error.message : "The upload failed.";
-          update(next.key, { state: "refused", message });
-        })
-        .finally(() => {
-          active.current--;
-          pump();
+  const send = async (key: string, file: File) => {
+    update(key, { state: "sending", progress: 0 });
+    try {
+      const { results } = await uploadScan(file, (progress) => update(key, { progress }));
+      const result = results[0];
+      if (!result) update(key, { state: "refused", message: "The server accepted nothing." });
+      else if (result.duplicateOf) {
+        update(key, {
+          state: "duplicate",
+          progress: 100,
+          scanId: result.scanId,
+          duplicateOf: result.duplicateOf,
         });
+      } else update(key, { state: "queued", progress: 100, scanId: result.scanId });
+      events.onSettled();
+    } catch (error) {
+      const message = error instanceof Error ? error.message : "The upload failed.";
+      update(key, { state: "refused", message });
     }
-  }, [queryClient, update]);
+  };
 
-  const add = useCallback(
-    (files: File[]) => {
+  const pump = () => {
+    while (active < CONCURRENCY && pending.length > 0) {
+      const next = pending.shift()!;
+      active++;
+      void send(next.key, next.file).finally(() => {
+        active--;
+        pump();
+      });
+    }
+  };
+
+  return {
+    add(files: File[]) {
       const fresh = files.map((file) => ({ key: `u${++counter}`, file }));
-      setItems((list) => [
+      publish([
         ...fresh.map(({ key, file }) => ({
           key,
           name: file.name,
@@ -99,17 +106,29 @@ export function useUploadScans() {
           state: "waiting" as const,
           progress: 0,
         })),
-        ...list,
+        ...items,
       ]);
-      pending.current.push(...fresh);
+      pending.push(...fresh);
       pump();
     },
-    [pump],
+    clearFinished() {
+      publish(items.filter((item) => item.state === "waiting" || item.state === "sending"));
+    },
+  };
+}
+
+/** Uploads dropped files and keeps a line per file with its progress and result. */
+export function useUploadScans() {
+  const queryClient = useQueryClient();
+  const [items, setItems] = useState<UploadItem[]>([]);
+  const [queue] = useState(() =>
+    createUploadQueue({
+      onChange: setItems,
+      onSettled: () => {
+        void queryClient.invalidateQueries({ queryKey: scanKeys.lists() });
+        void queryClient.invalidateQueries({ queryKey: intakesQueryOptions().queryKey });
+      },
+    }),
   );
-
-  const clearFinished = useCallback(() => {
-    setItems((list) => list.filter((item) => item.state === "waiting" || item.state === "sending"));
-  }, []);
-
-  return { items, add, clearFinished };
+  return { items, add: queue.add, clearFinished: queue.clearFinished };
 }

@@ -1,13 +1,26 @@
 import type { Scan } from "../../../../shared/schemas/scans";
+import { formatNumber } from "../../../../shared/units";
+import { cn } from "../../../lib/cn";
 import { Tooltip } from "../../../components/tooltip";
 import { ASSUMED_DPI_HINT, ORIGIN_LABELS, formatDpi } from "../format";
 
 /** The DPI with its source: an assumed value carries a muted tag that explains itself. */
-export function DpiValue({ dpi, showOrigin = false }: { dpi: Scan["dpi"]; showOrigin?: boolean }) {
+export function DpiValue({
+  dpi,
+  showOrigin = false,
+  axes = false,
+}: {
+  dpi: Scan["dpi"];
+  showOrigin?: boolean;
+  /** Name both axes ("x 300 · y 300 DPI") even when they agree. */
+  axes?: boolean;
+}) {
   if (!dpi) return <span className="text-ink-faint">—</span>;
   return (
-    <span className="inline-flex flex-wrap items-center gap-x-2 gap-y-1">
-      <span className="figure">{formatDpi(dpi)}</span>
+    <span className={cn("inline-flex items-center gap-x-2 gap-y-1", axes && "flex-wrap")}>
+      <span className="figure">
+        {axes ? `x ${formatNumber(dpi.x, 2)} · y ${formatNumber(dpi.y, 2)} DPI` : formatDpi(dpi)}
+      </span>
       {dpi.source === "assumed" ? (
         <Tooltip content={ASSUMED_DPI_HINT}>
           <span className="rounded border border-dashed border-ochre/60 bg-ochre-soft/60 px-1.5 text-[11px] leading-5 font-medium tracking-wide text-ochre">
@@ -16,7 +29,9 @@ export function DpiValue({ dpi, showOrigin = false }: { dpi: Scan["dpi"]; showOr
         </Tooltip>
       ) : (
         showOrigin &&
-        dpi.origin && <span className="text-xs text-ink-muted">from {ORIGIN_LABELS[dpi.origin]}</span>
+        dpi.origin && (
+          <span className="text-xs text-ink-muted">from {ORIGIN_LABELS[dpi.origin]}</span>
+        )
       )}
     </span>
   );

@@ -1,4 +1,4 @@
-import { useEffect, useRef, useState } from "react";
+import { useEffect, useEffectEvent, useRef, useState } from "react";
 import { SCAN_MIME_TYPES } from "../../../../shared/limits";
 import { cn } from "../../../lib/cn";
 
@@ -22,8 +22,7 @@ export function DropZone({
   const input = useRef<HTMLInputElement>(null);
   const [dragging, setDragging] = useState(false);
   const depth = useRef(0);
-  const latest = useRef(onFiles);
-  latest.current = onFiles;
+  const emitFiles = useEffectEvent((files: File[]) => onFiles(files));
 
   useEffect(() => {
     const enter = (e: DragEvent) => {
@@ -48,7 +47,7 @@ export function DropZone({
       depth.current = 0;
       setDragging(false);
       const files = Array.from(e.dataTransfer?.files ?? []);
-      if (files.length > 0) latest.current(files);
+      if (files.length > 0) emitFiles(files);
     };
     window.addEventListener("dragenter", enter);
     window.addEventListener("dragover", over);
@@ -71,8 +70,23 @@ export function DropZone({
         )}
       >
         <svg viewBox="0 0 40 40" className="size-10 shrink-0 text-accent" aria-hidden="true">
-          <rect x="4" y="9" width="32" height="24" rx="3" fill="none" stroke="currentColor" strokeWidth="2" />
-          <path d="M20 27V14m-5 5 5-5 5 5" fill="none" stroke="currentColor" strokeWidth="2" strokeLinecap="round" />
+          <rect
+            x="4"
+            y="9"
+            width="32"
+            height="24"
+            rx="3"
+            fill="none"
+            stroke="currentColor"
+            strokeWidth="2"
+          />
+          <path
+            d="M20 27V14m-5 5 5-5 5 5"
+            fill="none"
+            stroke="currentColor"
+            strokeWidth="2"
+            strokeLinecap="round"
+          />
         </svg>
         <div className="min-w-0 flex-1">
           <p className="font-medium text-ink">Drop scans anywhere on this page</p>
@@ -113,7 +127,9 @@ export function DropZone({
         >
           <div className="rounded-2xl border-2 border-dashed border-accent bg-paper-50 px-12 py-10 text-center shadow-xl">
             <p className="text-lg font-semibold text-ink">Release to upload</p>
-            <p className="mt-1 text-sm text-ink-muted">{intakeName ? `Into ${intakeName}` : "Into the current intake"}</p>
+            <p className="mt-1 text-sm text-ink-muted">
+              {intakeName ? `Into ${intakeName}` : "Into the current intake"}
+            </p>
           </div>
         </div>
       )}

@@ -17,9 +17,11 @@ export function ScanFiltersBar({
 }) {
   const [q, setQ] = useState(filters.q ?? "");
   // Follow the address (back button, "Clear filters") without fighting the person typing.
-  useEffect(() => {
-    setQ((current) => (current.trim() === (filters.q ?? "") ? current : (filters.q ?? "")));
-  }, [filters.q]);
+  const [seenQ, setSeenQ] = useState(filters.q);
+  if (seenQ !== filters.q) {
+    setSeenQ(filters.q);
+    if (q.trim() !== (filters.q ?? "")) setQ(filters.q ?? "");
+  }
   useEffect(() => {
     const trimmed = q.trim();
     if (trimmed === (filters.q ?? "")) return;
@@ -41,7 +43,9 @@ export function ScanFiltersBar({
       <SelectField
         label="Status"
         value={filters.status ?? ""}
-        onChange={(e) => onChange({ status: (e.target.value || undefined) as ScanStatus | undefined })}
+        onChange={(e) =>
+          onChange({ status: (e.target.value || undefined) as ScanStatus | undefined })
+        }
         fieldClassName="w-44"
       >
         <option value="">Any status</option>

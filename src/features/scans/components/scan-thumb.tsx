@@ -21,7 +21,16 @@ export function ScanThumb({
     return (
       <span className={box} aria-hidden="true">
         <svg viewBox="0 0 24 24" className="size-5 text-ink-faint">
-          <rect x="3" y="5" width="18" height="14" rx="2" fill="none" stroke="currentColor" strokeWidth="1.5" />
+          <rect
+            x="3"
+            y="5"
+            width="18"
+            height="14"
+            rx="2"
+            fill="none"
+            stroke="currentColor"
+            strokeWidth="1.5"
+          />
           <path d="m6 16 4-4 3 3 2-2 3 3" fill="none" stroke="currentColor" strokeWidth="1.5" />
         </svg>
       </span>

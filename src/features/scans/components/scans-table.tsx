@@ -5,7 +5,7 @@ import { formatBytes } from "../../../../shared/units";
 import { StatusBadge } from "../../../components/status-badge";
 import { paths } from "../../../config/paths";
 import { cn } from "../../../lib/cn";
-import { formatDateTime, formatDateTimeLong } from "../../../lib/time";
+import { formatDateTimeLong, formatShortDateTime } from "../../../lib/time";
 import { formatPhysical, formatPixels, physicalOf } from "../format";
 import { DpiValue } from "./dpi-value";
 import { ScanThumb } from "./scan-thumb";
@@ -13,6 +13,8 @@ import type { SortDir, SortField } from "./use-scan-filters";
 
 interface Column {
   label: string;
+  /** Fixed column width; the file name takes what is left. */
+  width?: string;
   sort?: SortField;
   /** The direction a first click sorts in: names A→Z, sizes and dates largest/newest first. */
   firstDir?: SortDir;
@@ -21,13 +23,24 @@ interface Column {
 
 const COLUMNS: Column[] = [
   { label: "File name", sort: "originalName", firstDir: "asc" },
-  { label: "Intake" },
-  { label: "Pixels", sort: "width", firstDir: "desc" },
-  { label: "DPI", sort: "dpi", firstDir: "desc" },
-  { label: "Physical size" },
-  { label: "Status", sort: "status", firstDir: "asc" },
-  { label: "File size", sort: "sizeBytes", firstDir: "desc", className: "text-right" },
-  { label: "Added", sort: "createdAt", firstDir: "desc", className: "text-right" },
+  { label: "Pixels", sort: "width", firstDir: "desc", width: "w-[8rem]" },
+  { label: "DPI", sort: "dpi", firstDir: "desc", width: "w-[9.5rem]" },
+  { label: "Physical size", width: "w-[8.5rem]" },
+  { label: "Status", sort: "status", firstDir: "asc", width: "w-[8.5rem]" },
+  {
+    label: "File size",
+    sort: "sizeBytes",
+    firstDir: "desc",
+    className: "text-right",
+    width: "w-[5.5rem]",
+  },
+  {
+    label: "Added",
+    sort: "createdAt",
+    firstDir: "desc",
+    className: "text-right",
+    width: "w-[8.5rem]",
+  },
 ];
 
 function isTyping(target: EventTarget | null): boolean {
@@ -74,7 +87,12 @@ export function ScansTable({
 
   const move = (delta: number) => {
     if (scans.length === 0) return;
-    const next = active < 0 ? (delta > 0 ? 0 : scans.length - 1) : Math.min(scans.length - 1, Math.max(0, active + delta));
+    const next =
+      active < 0
+        ? delta > 0
+          ? 0
+          : scans.length - 1
+        : Math.min(scans.length - 1, Math.max(0, active + delta));
     setActive(next);
     const row = rows.current[next];
     row?.focus();
@@ -112,20 +130,18 @@ export function ScansTable({
   };
 
   return (
-    <table className={cn("w-full table-fixed border-collapse text-sm", busy && "opacity-70")} aria-busy={busy || undefined}>
+    <table
+      className={cn("w-full table-fixed border-collapse text-sm", busy && "opacity-70")}
+      aria-busy={busy || undefined}
+    >
       <caption className="sr-only">
         Scans. Use j and k or the arrow keys to move between rows and Enter to open one.
       </caption>
       <colgroup>
-        <col className="w-[64px]" />
-        <col className="w-[24%]" />
-        <col />
-        <col className="w-[9rem]" />
-        <col className="w-[9.5rem]" />
-        <col className="w-[9.5rem]" />
-        <col className="w-[8rem]" />
-        <col className="w-[6rem]" />
-        <col className="w-[9rem]" />
+        <col className="w-[4.25rem]" />
+        {COLUMNS.map((col) => (
+          <col key={col.label} className={col.width} />
+        ))}
       </colgroup>
       <thead>
         <tr className="border-b border-paper-300 text-left text-xs font-semibold tracking-wide text-ink-muted">
@@ -134,14 +150,28 @@ export function ScansTable({
           </th>
           {COLUMNS.map((col) => {
             const sorted = col.sort !== undefined && col.sort === sort;
-            const ariaSort = col.sort ? (sorted ? (dir === "asc" ? "ascending" : "descending") : "none") : undefined;
+            const ariaSort = col.sort
+              ? sorted
+                ? dir === "asc"
+                  ? "ascending"
+                  : "descending"
+                : "none"
+              : undefined;
             return (
-              <th key={col.label} scope="col" aria-sort={ariaSort} className={cn("px-3 py-2.5", col.className)}>
+              <th
+                key={col.label}
+                scope="col"
+                aria-sort={ariaSort}
+                className={cn("px-3 py-2.5 whitespace-nowrap last:pr-5", col.className)}
+              >
                 {col.sort ? (
                   <button
                     type="button"
                     onClick={() =>
-                      onSort(col.sort!, sorted ? (dir === "asc" ? "desc" : "asc") : (col.firstDir ?? "asc"))
+                      onSort(
+                        col.sort!,
+                        sorted ? (dir === "asc" ? "desc" : "asc") : (col.firstDir ?? "asc"),
+                      )
                     }
                     className={cn(
                       "-mx-1.5 inline-flex items-center gap-1 rounded px-1.5 py-0.5 hover:bg-paper-200 hover:text-ink",
@@ -178,7 +208,7 @@ export function ScansTable({
                 if ((e.target as HTMLElement).closest("a,button")) return;
                 navigate(paths.scan(scan.id));
               }}
-              className="cursor-pointer border-b border-paper-200 align-middle outline-none hover:bg-white/70 focus-visible:bg-accent-faint focus-visible:shadow-[inset_3px_0_0_var(--color-accent)] data-active:bg-white"
+              className="cursor-pointer border-b border-paper-200 align-middle outline-none hover:bg-white/70 focus-visible:bg-accent-faint focus-visible:shadow-[inset_3px_0_0_#2f6b5e] data-active:bg-white"
             >
               <td className="py-2 pl-4">
                 <ScanThumb id={scan.id} hasPreview={scan.hasPreview} />
@@ -192,20 +222,19 @@ export function ScansTable({
                 >
                   {scan.originalName}
                 </Link>
-                {scan.duplicateOf && (
-                  <span className="block truncate text-xs text-ink-muted">
-                    same as {scan.duplicateOf.originalName}
-                  </span>
-                )}
+                <span className="block truncate text-xs text-ink-muted">
+                  <span className="sr-only">Intake: </span>
+                  <span title={`Intake: ${scan.intake.name}`}>{scan.intake.name}</span>
+                  {scan.duplicateOf && <> · same as {scan.duplicateOf.originalName}</>}
+                </span>
               </td>
-              <td className="truncate px-3 py-2 text-ink-soft" title={scan.intake.name}>
-                {scan.intake.name}
+              <td className="figure px-3 py-2 text-xs whitespace-nowrap text-ink-soft">
+                {pixels ?? <Dash />}
               </td>
-              <td className="figure px-3 py-2 text-xs text-ink-soft">{pixels ?? <Dash />}</td>
-              <td className="px-3 py-2 text-xs">
+              <td className="px-3 py-2 text-xs whitespace-nowrap">
                 <DpiValue dpi={scan.dpi} />
               </td>
-              <td className="figure px-3 py-2 text-xs leading-5 text-ink-soft">
+              <td className="figure px-3 py-2 text-xs leading-5 whitespace-nowrap text-ink-soft">
                 {phys ? (
                   <>
                     <span className="block">{phys.inches}</span>
@@ -217,10 +246,21 @@ export function ScansTable({
               </td>
               <td className="px-3 py-2">
                 <StatusBadge status={scan.status} />
+                {scan.status === "analysing" && (
+                  <span className="figure mt-1 block text-[11px] text-ink-muted">
+                    {scan.stage ? `${scan.stage} · ` : ""}
+                    {Math.round(scan.progress)}%
+                  </span>
+                )}
               </td>
-              <td className="figure px-3 py-2 text-right text-xs text-ink-soft">{formatBytes(scan.sizeBytes)}</td>
-              <td className="px-3 py-2 text-right text-xs text-ink-muted" title={formatDateTimeLong(scan.createdAt)}>
-                {formatDateTime(scan.createdAt)}
+              <td className="figure px-3 py-2 text-right text-xs whitespace-nowrap text-ink-soft">
+                {formatBytes(scan.sizeBytes)}
+              </td>
+              <td
+                className="px-3 py-2 pr-5 text-right text-xs whitespace-nowrap text-ink-muted"
+                title={formatDateTimeLong(scan.createdAt)}
+              >
+                {formatShortDateTime(scan.createdAt)}
               </td>
             </tr>
           );

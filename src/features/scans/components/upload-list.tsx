@@ -10,7 +10,10 @@ import type { UploadItem } from "../api/upload-scans";
 function DuplicateOf({ id }: { id: string }) {
   const { data } = useScan(id);
   return (
-    <Link to={paths.scan(id)} className="font-medium underline underline-offset-2 hover:text-accent">
+    <Link
+      to={paths.scan(id)}
+      className="font-medium underline underline-offset-2 hover:text-accent"
+    >
       {data?.originalName ?? "an earlier scan"}
     </Link>
   );
@@ -24,7 +27,9 @@ function Result({ item }: { item: UploadItem }) {
       return (
         <span className="flex items-center gap-3">
           <ProgressBar value={item.progress} label={`Uploading ${item.name}`} className="w-40" />
-          <span className="figure w-10 text-right text-xs text-ink-soft">{Math.round(item.progress)}%</span>
+          <span className="figure w-10 text-right text-xs text-ink-soft">
+            {Math.round(item.progress)}%
+          </span>
         </span>
       );
     case "queued":
@@ -32,7 +37,10 @@ function Result({ item }: { item: UploadItem }) {
         <span className="text-accent-strong">
           Queued ·{" "}
           {item.scanId && (
-            <Link to={paths.scan(item.scanId)} className="underline underline-offset-2 hover:text-accent">
+            <Link
+              to={paths.scan(item.scanId)}
+              className="underline underline-offset-2 hover:text-accent"
+            >
               open
             </Link>
           )}
@@ -41,7 +49,8 @@ function Result({ item }: { item: UploadItem }) {
     case "duplicate":
       return (
         <span className="text-ochre">
-          Duplicate of {item.duplicateOf ? <DuplicateOf id={item.duplicateOf} /> : "an earlier scan"}
+          Duplicate of{" "}
+          {item.duplicateOf ? <DuplicateOf id={item.duplicateOf} /> : "an earlier scan"}
         </span>
       );
     case "refused":
@@ -54,11 +63,14 @@ export function UploadList({ items, onClear }: { items: UploadItem[]; onClear: (
   if (items.length === 0) return null;
   const finished = items.filter((i) => i.state !== "waiting" && i.state !== "sending").length;
   return (
-    <section aria-labelledby="uploads-title" className="rounded-xl border border-paper-300 bg-paper-50">
+    <section
+      aria-labelledby="uploads-title"
+      className="rounded-xl border border-paper-300 bg-paper-50"
+    >
       <header className="flex items-center justify-between border-b border-paper-200 px-5 py-2.5">
         <h2 id="uploads-title" className="text-sm font-semibold text-ink-soft">
           Uploads{" "}
-          <span className="figure ml-1 text-xs font-normal text-ink-muted">
+          <span className="figure ml-1 text-xs font-normal text-ink-muted" aria-live="polite">
             {finished}/{items.length} done
           </span>
         </h2>
@@ -68,16 +80,24 @@ export function UploadList({ items, onClear }: { items: UploadItem[]; onClear: (
           </Button>
         )}
       </header>
-      <ul aria-label="Upload results" className="max-h-64 divide-y divide-paper-200 overflow-y-auto" aria-live="polite">
+      <ul
+        aria-label="Upload results"
+        className="max-h-64 divide-y divide-paper-200 overflow-y-auto"
+      >
         {items.map((item) => (
           <li
             key={item.key}
-            className={cn("flex items-center gap-4 px-5 py-2 text-sm", item.state === "refused" && "bg-brick-soft/30")}
+            className={cn(
+              "flex items-center gap-4 px-5 py-2 text-sm",
+              item.state === "refused" && "bg-brick-soft/30",
+            )}
           >
             <span className="min-w-0 flex-1 truncate font-medium text-ink" title={item.name}>
               {item.name}
             </span>
-            <span className="figure w-20 shrink-0 text-right text-xs text-ink-muted">{formatBytes(item.size)}</span>
+            <span className="figure w-20 shrink-0 text-right text-xs text-ink-muted">
+              {formatBytes(item.size)}
+            </span>
             <span className="w-[26rem] shrink-0 text-sm">
               <Result item={item} />
             </span>

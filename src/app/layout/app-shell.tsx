@@ -1,0 +1,130 @@
+import type { ReactNode } from "react";
+import { NavLink, useNavigate } from "react-router-dom";
+import { hasRole, ROLE_LABELS } from "../../../shared/roles";
+import type { SessionUser } from "../../../shared/schemas/auth";
+import { BrandMark } from "../../components/brand-mark";
+import { Button } from "../../components/button";
+import { paths } from "../../config/paths";
+import { useLogout } from "../../features/auth/api/logout";
+import { useStudio } from "../../features/studio/api/get-studio";
+import { cn } from "../../lib/cn";
+import { LiveIndicator } from "../live-events";
+
+interface NavItem {
+  to: string;
+  label: string;
+  icon: ReactNode;
+}
+
+const icon = (d: string) => (
+  <svg viewBox="0 0 20 20" className="size-4 shrink-0" aria-hidden="true">
+    <path
+      d={d}
+      fill="none"
+      stroke="currentColor"
+      strokeWidth="1.6"
+      strokeLinecap="round"
+      strokeLinejoin="round"
+    />
+  </svg>
+);
+
+const QUEUE_ICON = icon("M3 5h14M3 10h10M3 15h6");
+const SCANS_ICON = icon("M3.5 4.5h13v11h-13zM6 12l3-3 2.5 2.5L13 10l2 2");
+const USERS_ICON = icon(
+  "M7.5 9a2.5 2.5 0 1 0 0-5 2.5 2.5 0 0 0 0 5ZM3 16c.5-2.5 2.3-4 4.5-4s4 1.5 4.5 4M13.5 9a2 2 0 1 0 0-4M14.5 12c1.4.4 2.3 1.8 2.5 4",
+);
+
+/** The frame around every signed-in page: a rail with the studio, the screens and who is here. */
+export function AppShell({ user, children }: { user: SessionUser; children: ReactNode }) {
+  const studio = useStudio();
+  const logout = useLogout();
+  const navigate = useNavigate();
+
+  const items: NavItem[] = [
+    { to: paths.queue, label: "Queue", icon: QUEUE_ICON },
+    { to: paths.scans, label: "Scans", icon: SCANS_ICON },
+    ...(hasRole(user.role, "admin") ? [{ to: paths.users, label: "Users", icon: USERS_ICON }] : []),
+  ];
+
+  const signOut = () => {
+    logout.mutate(undefined, { onSettled: () => navigate(paths.signIn, { replace: true }) });
+  };
+
+  return (
+    <div className="flex min-h-screen">
+      <a
+        href="#main"
+        className="sr-only focus:not-sr-only focus:fixed focus:top-3 focus:left-3 focus:z-50 focus:rounded focus:bg-white focus:px-3 focus:py-2"
+      >
+        Skip to content
+      </a>
+      <aside className="w-56 shrink-0 border-r border-paper-300 bg-paper-100">
+        <div className="sticky top-0 flex h-screen flex-col">
+          <div className="px-6 pt-7 pb-6">
+            <div className="flex items-center gap-2.5">
+              <BrandMark />
+              <span className="text-xs font-semibold tracking-[0.18em] text-ink-muted uppercase">
+                Platen
+              </span>
+            </div>
+            <p className="mt-3 text-base leading-snug font-semibold text-ink" aria-label="Studio">
+              {studio.data?.name ?? " "}
+            </p>
+            {studio.data?.demo && (
+              <p className="mt-1 inline-block rounded bg-ochre-soft px-1.5 py-0.5 text-[11px] font-medium text-ochre">
+                Demo studio
+              </p>
+            )}
+          </div>
+          <nav aria-label="Main" className="flex-1 px-3">
+            <ul className="flex flex-col gap-0.5">
+              {items.map((item) => (
+                <li key={item.to}>
+                  <NavLink
+                    to={item.to}
+                    className={({ isActive }) =>
+                      cn(
+                        "flex items-center gap-3 rounded-md px-3 py-2 text-sm font-medium transition-colors",
+                        isActive
+                          ? "bg-paper-50 text-ink shadow-sheet ring-1 ring-paper-300"
+                          : "text-ink-soft hover:bg-paper-200 hover:text-ink",
+                      )
+                    }
+                  >
+                    {item.icon}
+                    {item.label}
+                  </NavLink>
+                </li>
+              ))}
+            </ul>
+          </nav>
+          <div className="px-6 pb-2">
+            <LiveIndicator />
+          </div>
+          <div className="border-t border-paper-300 px-6 py-5" aria-label="Signed in" role="group">
+            <p className="truncate text-sm font-semibold text-ink" title={user.email}>
+              {user.name}
+            </p>
+            <p className="mt-0.5 truncate text-xs text-ink-muted">
+              <span className="font-medium text-ink-soft">{ROLE_LABELS[user.role]}</span> ·{" "}
+              {user.email}
+            </p>
+            <Button
+              size="sm"
+              variant="secondary"
+              className="mt-3 w-full"
+              onClick={signOut}
+              busy={logout.isPending}
+            >
+              Sign out
+            </Button>
+          </div>
+        </div>
+      </aside>
+      <main id="main" className="min-w-0 flex-1 px-8 pt-9 pb-16">
+        <div className="mx-auto max-w-[1180px]">{children}</div>
+      </main>
+    </div>
+  );
+}

@@ -1,0 +1,27 @@
+import { Link } from "react-router-dom";
+import { paths } from "../../config/paths";
+
+export function NotFoundRoute({
+  title = "No page at this address",
+  message = "The link may be old, or the address mistyped.",
+  back = { to: paths.queue, label: "Go to the queue" },
+}: {
+  title?: string;
+  message?: string;
+  back?: { to: string; label: string };
+}) {
+  return (
+    <div className="mx-auto max-w-md py-24 text-center">
+      <title>Not found · Platen</title>
+      <p className="figure text-5xl font-medium text-ink-faint">404</p>
+      <h1 className="mt-4 text-xl font-semibold text-ink">{title}</h1>
+      <p className="mt-2 text-sm text-ink-soft">{message}</p>
+      <Link
+        to={back.to}
+        className="mt-6 inline-block text-sm font-medium text-accent underline underline-offset-2"
+      >
+        {back.label}
+      </Link>
+    </div>
+  );
+}

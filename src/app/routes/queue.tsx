@@ -1,0 +1,70 @@
+import { useQueryClient } from "@tanstack/react-query";
+import { Spinner } from "../../components/button";
+import { LoadError } from "../../components/notice";
+import { PageHeader } from "../../components/panel";
+import { paths } from "../../config/paths";
+import { queueSummaryQueryOptions, useQueueSummary } from "../../features/queue/api/get-queue";
+import { FailureList } from "../../features/queue/components/failure-list";
+import { QueueCounts } from "../../features/queue/components/queue-counts";
+import { RunningNow } from "../../features/queue/components/running-now";
+import { WaitingList } from "../../features/queue/components/waiting-list";
+import { WatcherStatus } from "../../features/queue/components/watcher-status";
+import { RetryScanButton } from "../../features/scans/components/retry-scan-button";
+import { useHasRole } from "../../lib/authorization";
+
+export function QueueRoute() {
+  const summary = useQueueSummary();
+  const queryClient = useQueryClient();
+  const canRetry = useHasRole("operator");
+
+  return (
+    <>
+      <title>Queue · Platen</title>
+      <PageHeader
+        title="Queue"
+        description="Every scan that arrives, from the inbox or the browser, until it is read."
+      />
+      {summary.isPending ? (
+        <p className="flex items-center gap-2 text-sm text-ink-muted">
+          <Spinner /> Loading the queue…
+        </p>
+      ) : summary.isError && !summary.data ? (
+        <LoadError error={summary.error} onRetry={() => void summary.refetch()} />
+      ) : (
+        <div className="flex flex-col gap-6">
+          <QueueCounts
+            counts={summary.data.counts}
+            linkFor={(status) => `${paths.scans}?status=${status}`}
+          />
+          <div className="grid grid-cols-1 gap-6 xl:grid-cols-[3fr_2fr]">
+            <div className="flex flex-col gap-6">
+              <RunningNow running={summary.data.running} />
+              <FailureList
+                failures={summary.data.failures}
+                actions={
+                  canRetry
+                    ? (failure) => (
+                        <RetryScanButton
+                          scanId={failure.scanId}
+                          name={failure.originalName}
+                          onRetried={() =>
+                            void queryClient.invalidateQueries({
+                              queryKey: queueSummaryQueryOptions().queryKey,
+                            })
+                          }
+                        />
+                      )
+                    : undefined
+                }
+              />
+            </div>
+            <div className="flex flex-col gap-6">
+              <WatcherStatus watcher={summary.data.watcher} workers={summary.data.workers} />
+              <WaitingList waiting={summary.data.waiting} />
+            </div>
+          </div>
+        </div>
+      )}
+    </>
+  );
+}

@@ -1,0 +1,106 @@
+import { Link, useParams } from "react-router-dom";
+import { Spinner } from "../../components/button";
+import { LoadError, Notice } from "../../components/notice";
+import { StatusBadge } from "../../components/status-badge";
+import { paths } from "../../config/paths";
+import { useScan } from "../../features/scans/api/get-scan";
+import { RetryScanButton } from "../../features/scans/components/retry-scan-button";
+import { ScanDetails } from "../../features/scans/components/scan-details";
+import { ScanPreview } from "../../features/scans/components/scan-preview";
+import { useHasRole } from "../../lib/authorization";
+import { ApiError } from "../../lib/api-client";
+import { NotFoundRoute } from "./not-found";
+
+export function ScanRoute() {
+  const { id = "" } = useParams();
+  const scan = useScan(id);
+  const canRetry = useHasRole("operator");
+
+  if (scan.isPending) {
+    return (
+      <p className="flex items-center gap-2 text-sm text-ink-muted">
+        <Spinner /> Loading the scan…
+      </p>
+    );
+  }
+  if (scan.isError) {
+    if (
+      scan.error instanceof ApiError &&
+      (scan.error.status === 404 || scan.error.status === 400)
+    ) {
+      return (
+        <NotFoundRoute
+          title="No scan with this address"
+          message="It may never have existed, or the link was copied incompletely."
+          back={{ to: paths.scans, label: "Back to the scans" }}
+        />
+      );
+    }
+    return <LoadError error={scan.error} onRetry={() => void scan.refetch()} />;
+  }
+  const s = scan.data;
+  return (
+    <>
+      <title>{`${s.originalName} · Platen`}</title>
+      <nav aria-label="Breadcrumb" className="mb-3 text-sm text-ink-muted">
+        <Link to={paths.scans} className="hover:text-accent hover:underline">
+          Scans
+        </Link>
+        <span aria-hidden="true" className="mx-2">
+          /
+        </span>
+        <Link
+          to={`${paths.scans}?intake=${encodeURIComponent(s.intake.id)}`}
+          className="hover:text-accent hover:underline"
+        >
+          {s.intake.name}
+        </Link>
+      </nav>
+      <div className="mb-6 flex flex-wrap items-center gap-4">
+        <h1 className="min-w-0 text-2xl font-semibold tracking-tight [overflow-wrap:anywhere] text-ink">
+          {s.originalName}
+        </h1>
+        <StatusBadge status={s.status} />
+      </div>
+
+      {s.status === "failed" && (
+        <Notice
+          tone="error"
+          title="Analysis failed"
+          className="mb-6"
+          action={
+            canRetry ? <RetryScanButton scanId={s.id} name={s.originalName} size="md" /> : undefined
+          }
+        >
+          {s.error ?? "The worker stopped without a message."}{" "}
+          {s.attempts > 0 && (
+            <span className="text-ink-muted">
+              ({s.attempts === 1 ? "1 attempt" : `${s.attempts} attempts`})
+            </span>
+          )}
+        </Notice>
+      )}
+      {s.status === "duplicate" && s.duplicateOf && (
+        <Notice tone="caution" title="Duplicate" className="mb-6">
+          This file is byte for byte the same as{" "}
+          <Link
+            to={paths.scan(s.duplicateOf.id)}
+            className="font-medium text-ink underline underline-offset-2"
+          >
+            {s.duplicateOf.originalName}
+          </Link>
+          , which is already in the library. It was not analysed again.
+        </Notice>
+      )}
+
+      <div className="grid grid-cols-1 gap-8 xl:grid-cols-[minmax(0,3fr)_minmax(22rem,2fr)]">
+        <div className="self-start xl:sticky xl:top-8">
+          <ScanPreview scan={s} />
+        </div>
+        <div className="rounded-xl border border-paper-300 bg-paper-50 px-6 py-5 shadow-sheet">
+          <ScanDetails scan={s} />
+        </div>
+      </div>
+    </>
+  );
+}

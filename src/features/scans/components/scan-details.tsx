@@ -1,0 +1,232 @@
+import type { ReactNode } from "react";
+import { Link } from "react-router-dom";
+import type { Scan } from "../../../../shared/schemas/scans";
+import { formatBytes, formatMegapixels } from "../../../../shared/units";
+import { Ago } from "../../../components/ago";
+import { CopyButton } from "../../../components/copy-button";
+import { ProgressBar } from "../../../components/progress-bar";
+import { StatusBadge } from "../../../components/status-badge";
+import { paths } from "../../../config/paths";
+import { formatDateTime, formatDateTimeLong } from "../../../lib/time";
+import {
+  ORIGIN_LABELS,
+  colourSpaceLabel,
+  formatPhysical,
+  formatPixels,
+  physicalOf,
+} from "../format";
+import { DpiValue } from "./dpi-value";
+
+function Row({ term, children }: { term: string; children: ReactNode }) {
+  return (
+    <div className="grid grid-cols-[8.5rem_1fr] gap-4 border-b border-paper-200 py-2.5 last:border-b-0">
+      <dt className="text-sm text-ink-muted">{term}</dt>
+      <dd className="min-w-0 text-sm text-ink">{children}</dd>
+    </div>
+  );
+}
+
+function Unknown({ children = "Not known yet" }: { children?: ReactNode }) {
+  return <span className="text-ink-faint">{children}</span>;
+}
+
+function yesNo(value: boolean | null, unknown: ReactNode): ReactNode {
+  if (value === null) return unknown;
+  return value ? "Yes" : "No";
+}
+
+function DateValue({ iso }: { iso: string | null }) {
+  if (!iso) return <Unknown>Not yet</Unknown>;
+  return (
+    <>
+      <span title={formatDateTimeLong(iso)}>{formatDateTime(iso)}</span>{" "}
+      <span className="text-ink-muted whitespace-nowrap">
+        (<Ago iso={iso} />)
+      </span>
+    </>
+  );
+}
+
+const SOURCE_LABELS: Record<Scan["source"], string> = {
+  inbox: "Inbox folder",
+  upload: "Uploaded in the browser",
+};
+
+/** Every recorded fact about a scan, grouped as file, image, resolution and processing. */
+export function ScanDetails({ scan }: { scan: Scan }) {
+  const physical = physicalOf(scan);
+  const phys = physical ? formatPhysical(physical) : null;
+  const pixels = formatPixels(scan);
+  const unknown = (
+    <Unknown>
+      {scan.status === "duplicate"
+        ? "Not read for a duplicate"
+        : scan.status === "failed"
+          ? "Not read"
+          : "Not known yet"}
+    </Unknown>
+  );
+  return (
+    <div className="flex flex-col gap-6">
+      <Group title="File">
+        <Row term="File name">
+          <span className="[overflow-wrap:anywhere]">{scan.originalName}</span>
+        </Row>
+        <Row term="Intake">
+          <Link
+            to={`${paths.scans}?intake=${encodeURIComponent(scan.intake.id)}`}
+            className="hover:text-accent hover:underline"
+          >
+            {scan.intake.name}
+          </Link>
+        </Row>
+        <Row term="Source">{SOURCE_LABELS[scan.source]}</Row>
+        <Row term="SHA-256">
+          <span className="flex items-start gap-2">
+            <code
+              className="figure min-w-0 flex-1 text-xs leading-5 break-all select-all"
+              aria-label="SHA-256 checksum"
+            >
+              {scan.sha256}
+            </code>
+            <CopyButton value={scan.sha256} label="Copy SHA-256" />
+          </span>
+        </Row>
+        <Row term="File size">
+          <span className="figure">{formatBytes(scan.sizeBytes)}</span>{" "}
+          <span className="figure text-xs text-ink-muted">
+            ({scan.sizeBytes.toLocaleString()} bytes)
+          </span>
+        </Row>
+      </Group>
+
+      <Group title="Image">
+        <Row term="Pixel size">
+          {pixels ? (
+            <>
+              <span className="figure">{pixels}</span>{" "}
+              <span className="figure text-xs text-ink-muted">
+                ({formatMegapixels(scan.width! * scan.height!)})
+              </span>
+            </>
+          ) : (
+            unknown
+          )}
+        </Row>
+        <Row term="Format">{scan.format ? scan.format.toUpperCase() : unknown}</Row>
+        <Row term="Bit depth">
+          {scan.bitDepth != null ? (
+            <span className="figure">{scan.bitDepth} bits per channel</span>
+          ) : (
+            unknown
+          )}
+        </Row>
+        <Row term="Channels">
+          {scan.channels != null ? <span className="figure">{scan.channels}</span> : unknown}
+        </Row>
+        <Row term="Colour space">
+          {scan.colourSpace ? colourSpaceLabel(scan.colourSpace) : unknown}
+        </Row>
+        <Row term="ICC profile">
+          {scan.hasIccProfile === null ? (
+            unknown
+          ) : scan.hasIccProfile ? (
+            <>
+              Embedded
+              {scan.iccDescription && (
+                <span className="text-ink-soft">: {scan.iccDescription}</span>
+              )}
+            </>
+          ) : (
+            "None embedded"
+          )}
+        </Row>
+        <Row term="Alpha channel">{yesNo(scan.hasAlpha, unknown)}</Row>
+      </Group>
+
+      <Group title="Resolution">
+        <Row term="DPI">{scan.dpi ? <DpiValue dpi={scan.dpi} axes /> : unknown}</Row>
+        <Row term="Resolution source">
+          {scan.dpi ? (
+            scan.dpi.source === "assumed" ? (
+              <>Assumed: the file has no resolution, so the studio default was used</>
+            ) : (
+              <>
+                Embedded in the file
+                {scan.dpi.origin && <>, read from the {ORIGIN_LABELS[scan.dpi.origin]}</>}
+              </>
+            )
+          ) : (
+            unknown
+          )}
+        </Row>
+        <Row term="Physical size">
+          {phys ? (
+            <span className="figure flex flex-col">
+              <span>{phys.inches}</span>
+              <span className="text-ink-soft">{phys.cm}</span>
+            </span>
+          ) : (
+            unknown
+          )}
+        </Row>
+      </Group>
+
+      <Group title="Processing">
+        <Row term="Status">
+          <span className="flex flex-col gap-2">
+            <span>
+              <StatusBadge status={scan.status} />
+              {scan.stage && scan.status === "analysing" && (
+                <span className="ml-2 text-ink-soft">{scan.stage}</span>
+              )}
+            </span>
+            {scan.status === "analysing" && (
+              <ProgressBar
+                value={scan.progress}
+                label={`Progress for ${scan.originalName}`}
+                className="max-w-xs"
+              />
+            )}
+            {scan.error && <span className="text-brick">{scan.error}</span>}
+            {scan.duplicateOf && (
+              <span>
+                Same file as{" "}
+                <Link
+                  to={paths.scan(scan.duplicateOf.id)}
+                  className="font-medium text-accent underline underline-offset-2"
+                >
+                  {scan.duplicateOf.originalName}
+                </Link>
+              </span>
+            )}
+          </span>
+        </Row>
+        <Row term="Attempts">
+          <span className="figure">{scan.attempts}</span>
+        </Row>
+        <Row term="Added">
+          <DateValue iso={scan.createdAt} />
+        </Row>
+        <Row term="Analysed">
+          <DateValue iso={scan.analysedAt} />
+        </Row>
+        <Row term="Last change">
+          <DateValue iso={scan.updatedAt} />
+        </Row>
+      </Group>
+    </div>
+  );
+}
+
+function Group({ title, children }: { title: string; children: ReactNode }) {
+  const id = `scan-${title.toLowerCase()}`;
+  return (
+    <section aria-labelledby={id}>
+      <h2 id={id} className="mb-1 text-xs font-semibold tracking-wider text-ink-muted uppercase">
+        {title}
+      </h2>
+      <dl>{children}</dl>
+    </section>
+  );
+}

@@ -1,0 +1,41 @@
+import fs from "node:fs/promises";
+import os from "node:os";
+import path from "node:path";
+import { chromium, type BrowserContext, type Page } from "playwright-core";
+
+export const CHROMIUM = "/usr/bin/chromium";
+
+/** Debian's Chromium, headless, with a fresh profile; never a browser download of its own. */
+export async function openBrowser(): Promise<{ context: BrowserContext; close: () => Promise<void> }> {
+  const profile = await fs.mkdtemp(path.join(os.tmpdir(), "platen-chromium-"));
+  const context = await chromium.launchPersistentContext(profile, {
+    executablePath: CHROMIUM,
+    headless: true,
+    viewport: { width: 1440, height: 900 },
+    args: [
+      "--headless",
+      "--no-sandbox",
+      "--disable-gpu",
+      "--disable-quic",
+      "--no-first-run",
+      "--disable-background-networking",
+      "--disable-component-update",
+      "--disable-sync",
+    ],
+  });
+  return {
+    context,
+    async close() {
+      await context.close();
+      await fs.rm(profile, { recursive: true, force: true });
+    },
+  };
+}
+
+export async function signIn(page: Page, baseUrl: string, email: string, password: string) {
+  await page.goto(`${baseUrl}/sign-in`);
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(password);
+  await page.getByRole("button", { name: "Sign in" }).click();
+  await page.waitForURL((u) => !u.pathname.startsWith("/sign-in"));
+}

@@ -1,0 +1,204 @@
+/**
+ * Render of one approved fragment: cut it from the full-resolution scan (decoding only the region
+ * around it, once), turn it upright, and write an archival master and a web copy, each under a
+ * temporary name renamed into place when complete. The scan is only read.
+ */
+import fs from "node:fs/promises";
+import path from "node:path";
+import { geometrySchema, type FragmentGeometry, type FragmentShape } from "../../../shared/schemas/fragments";
+import { isScanError } from "../errors";
+import { inspectScanFile } from "../inspect";
+import { colourPlan } from "./colour";
+import { cutUpright } from "./cut";
+import { isRenderError, renderErrors } from "./errors";
+import { checkGeometry, planUpright, type Point } from "./geometry";
+import { featherPixels, rasteriseMask } from "./mask";
+import { writeMaster } from "./master";
+import { cleanRights } from "./rights";
+import { discardStaged, commitStaged, stage, type StagedFile } from "./staging";
+import { WEB_LONG_EDGE, writeWebCopy, type WebFormat } from "./web";
+
+export { RenderError, isRenderError, type RenderErrorCode } from "./errors";
+export { CUTOUT_FEATHER_MM } from "./mask";
+export { WEB_LONG_EDGE, type WebFormat } from "./web";
+
+export interface RenderInput {
+  /** Path of the full-resolution original (never modified). */
+  source: string;
+  /** Box, angle, rectangle and outline in the scan's pixels (shared/schemas/fragments.ts). */
+  geometry: FragmentGeometry;
+  /** The scan's resolution in DPI (embedded or assumed); x and y must agree (square pixels). */
+  dpi: { x: number; y: number };
+  /** Largest width × height of scan accepted, in pixels (PLATEN_MAX_PIXELS). */
+  maxPixels: number;
+  /** Rights fields written into both files. */
+  metadata?: { title?: string; creator?: string; copyright?: string };
+}
+
+export interface RenderTargets {
+  /** Where the master TIFF goes; its folder is created if missing. */
+  masterPath: string;
+  /** Where the web copy goes; its folder is created if missing. */
+  webPath: string;
+  /** Default: the format webPath's extension names (.jpg, .jpeg, .webp), else jpeg for rectangles and webp for cut-outs (alpha). */
+  webFormat?: WebFormat;
+  /** Long edge of the web copy in pixels, never enlarged (default WEB_LONG_EDGE, 2048). */
+  webLongEdge?: number;
+}
+
+export interface RenderResult {
+  master: {
+    path: string;
+    /** Pixels. */
+    width: number;
+    height: number;
+    /** Bits per channel, as the scan. */
+    bitDepth: 8 | 16;
+    channels: number;
+    hasAlpha: boolean;
+    /** DPI recorded (the scan's). */
+    dpi: number;
+    /** The scan's own ICC profile is embedded (false: tagged sRGB, or untagged grey). */
+    iccKept: boolean;
+    bytes: number;
+  };
+  web: { path: string; width: number; height: number; format: string; dpi: number; bytes: number };
+}
+
+const WEB_FORMATS: readonly WebFormat[] = ["jpeg", "webp"];
+/** A web path's extension names its format; a path without one of these leaves the choice to webFormat or the shape. */
+const FORMAT_BY_EXTENSION: Record<string, WebFormat | undefined> = { ".jpg": "jpeg", ".jpeg": "jpeg", ".webp": "webp" };
+
+/**
+ * The web copy's format when none is asked for: JPEG for a rectangle (no transparency to keep),
+ * WebP for a cut-out (keeps its alpha). Example: defaultWebFormat("cutout") → "webp".
+ */
+export function defaultWebFormat(shape: FragmentShape): WebFormat {
+  return shape === "cutout" ? "webp" : "jpeg";
+}
+/** WebP cannot hold more than 16383 px on a side (WebP container spec, VP8L header). */
+const MAX_WEB_EDGE = 16383;
+/** Largest relative difference between the x and y DPI treated as the same resolution. */
+const DPI_TOLERANCE = 0.005;
+
+function checkTargets(input: RenderInput, out: RenderTargets): { format: WebFormat; longEdge: number } {
+  for (const [name, value] of [
+    ["masterPath", out.masterPath],
+    ["webPath", out.webPath],
+  ] as const) {
+    if (typeof value !== "string" || value.length === 0) {
+      throw renderErrors.badOption(name, "a file path", value);
+    }
+    if (path.resolve(value) === path.resolve(input.source)) throw renderErrors.overwritesSource(value);
+  }
+  if (path.resolve(out.masterPath) === path.resolve(out.webPath)) throw renderErrors.samePaths(out.masterPath);
+  const named = FORMAT_BY_EXTENSION[path.extname(out.webPath).toLowerCase()];
+  const format = out.webFormat ?? named ?? defaultWebFormat(input.geometry?.shape ?? "rectangle");
+  if (!WEB_FORMATS.includes(format)) throw renderErrors.badOption("webFormat", '"jpeg" or "webp"', format);
+  if (named && named !== format) throw renderErrors.extensionMismatch(out.webPath, format);
+  const longEdge = out.webLongEdge ?? WEB_LONG_EDGE;
+  if (!(Number.isInteger(longEdge) && longEdge > 0 && longEdge <= MAX_WEB_EDGE)) {
+    throw renderErrors.badOption("webLongEdge", `an integer from 1 to ${MAX_WEB_EDGE} (pixels)`, longEdge);
+  }
+  return { format, longEdge };
+}
+
+function checkDpi(dpi: RenderInput["dpi"]): void {
+  const ok = (v: unknown) => typeof v === "number" && Number.isFinite(v) && v > 0;
+  if (!dpi || !ok(dpi.x) || !ok(dpi.y)) throw renderErrors.badDpi(dpi);
+  if (Math.abs(dpi.x - dpi.y) > DPI_TOLERANCE * Math.max(dpi.x, dpi.y)) {
+    throw renderErrors.nonSquarePixels(dpi.x, dpi.y);
+  }
+}
+
+function parseGeometry(geometry: unknown): FragmentGeometry {
+  const parsed = geometrySchema.safeParse(geometry);
+  if (parsed.success) return parsed.data;
+  const issue = parsed.error.issues[0]!;
+  const where = issue.path.length > 0 ? issue.path.join(".") : "the geometry";
+  throw renderErrors.invalidGeometry(`${where} was wrong: ${issue.message}`);
+}
+
+/**
+ * Renders one fragment: the master (TIFF, 16-bit where the scan is, alpha for cut-outs, the
+ * scan's DPI and ICC profile, rights fields) and the web copy (long edge `webLongEdge`, 8-bit
+ * sRGB, JPEG on white or WebP with alpha, effective DPI). Both are written under temporary names
+ * and renamed only when both are complete; on any error the temporaries are removed and neither
+ * target is touched. Arguments are checked before any pixel is decoded.
+ * Throws RenderError (bad_geometry, bad_request, failed) or ScanError (the scan cannot be read).
+ * Example:
+ *   await renderFragment(
+ *     { source: "scan.tif", geometry, dpi: { x: 600, y: 600 }, maxPixels: 500e6 },
+ *     { masterPath: "out/f1.tif", webPath: "out/f1.jpg" })
+ *   → { master: { width: 2400, height: 1800, bitDepth: 16, dpi: 600, … }, web: { width: 2048, height: 1536, dpi: 512, … } }
+ */
+export async function renderFragment(input: RenderInput, out: RenderTargets): Promise<RenderResult> {
+  const { format, longEdge } = checkTargets(input, out);
+  checkDpi(input.dpi);
+  const geometry = parseGeometry(input.geometry);
+  if (!(Number.isInteger(input.maxPixels) && input.maxPixels > 0)) {
+    throw renderErrors.badOption("maxPixels", "a positive integer (pixels)", input.maxPixels);
+  }
+  const rights = cleanRights(input.metadata);
+
+  const inspected = await inspectScanFile(input.source, input.maxPixels);
+  const width = inspected.meta.autoOrient?.width ?? inspected.meta.width;
+  const height = inspected.meta.autoOrient?.height ?? inspected.meta.height;
+  const problem = checkGeometry(geometry, width, height);
+  if (problem?.kind === "box_outside") throw renderErrors.boxOutside(geometry.box, width, height);
+  if (problem?.kind === "rect_too_small") {
+    throw renderErrors.rectTooSmall(geometry.rect.width, geometry.rect.height);
+  }
+  if (problem?.kind === "rect_outside") throw renderErrors.rectOutside(problem.corner, width, height);
+  if (problem?.kind === "box_outside_rect") throw renderErrors.boxOutsideRect(geometry.box, problem.rectBox);
+
+  const plan = planUpright(geometry, width, height);
+  const colour = colourPlan(inspected.meta);
+  const cut = await cutUpright(input.source, plan, colour, inspected, input.maxPixels);
+  const outline: Point[] | null =
+    geometry.shape === "cutout" ? geometry.outline.map((p) => plan.toUpright(p as Point)) : null;
+  const alpha = outline
+    ? rasteriseMask(outline, cut.crop.width, cut.crop.height, {
+        featherPx: featherPixels(input.dpi.x),
+        depth: colour.bitDepth,
+      })
+    : null;
+
+  const staged: StagedFile[] = [];
+  let current = out.masterPath;
+  try {
+    const masterFile = await stage(out.masterPath);
+    staged.push(masterFile);
+    const master = await writeMaster(cut, colour, masterFile, { dpi: input.dpi, rights, alpha });
+    current = out.webPath;
+    const webFile = await stage(out.webPath);
+    staged.push(webFile);
+    const web = await writeWebCopy(cut, colour, webFile, {
+      format,
+      longEdge,
+      dpi: input.dpi.x,
+      rights,
+      outline,
+    });
+    current = out.masterPath;
+    await commitStaged(staged);
+    const [masterBytes, webBytes] = await Promise.all(
+      [out.masterPath, out.webPath].map(async (p) => (await fs.stat(p)).size),
+    );
+    return {
+      master: {
+        path: out.masterPath,
+        ...master,
+        bitDepth: colour.bitDepth,
+        dpi: input.dpi.x,
+        iccKept: colour.iccKept,
+        bytes: masterBytes!,
+      },
+      web: { path: out.webPath, ...web, bytes: webBytes! },
+    };
+  } catch (err) {
+    await discardStaged(staged);
+    if (isRenderError(err) || isScanError(err)) throw err;
+    throw renderErrors.writeFailed(current, err);
+  }
+}

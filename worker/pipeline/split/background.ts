@@ -1,0 +1,364 @@
+import { labToSrgb8, type Lab, type LabPlanes, type Rgb } from "./colour";
+import { medianInPlace, robustSigma, solveLinear } from "./stats";
+
+/**
+ * The scanner background (white lid, grey or black backing board), modelled in CIELAB as
+ *   background(x, y) = P(x, y) + R(y) + C(x)
+ * - P: a low-order polynomial surface (degree 2 when background is seen all over the bed, lower
+ *   when only a margin is), for the lamp's uneven lighting;
+ * - R, C: profiles along the rows and columns of the outer 15 mm, for the shadow a lid casts along
+ *   an edge (it depends on the distance to that edge), tapered to zero inwards.
+ * It is fitted to background pixels only, found by alternating fit and classification: start from
+ * the colour that dominates the border (the mode of the outer ring, so pieces touching the edge
+ * do not move it), fit, keep the pixels within 4σ of the fit, refit. The noise σ per channel is
+ * measured on the final background pixels.
+ */
+export interface BackgroundModel {
+  /** The dominant border colour, CIELAB D65. */
+  lab: Lab;
+  /** The same as 8-bit sRGB. */
+  rgb: Rgb;
+  kind: "light" | "dark";
+  /** Robust σ of background pixels about the model, per channel, Lab units. */
+  noise: { L: number; a: number; b: number };
+  /** Share of the border ring within tolerance of its dominant colour (0–1). */
+  borderAgreement: number;
+  /** Share of the bed classified as background (0–1). */
+  coverage: number;
+  /** Degree of the polynomial surface used (0 = constant). */
+  degree: number;
+}
+
+export interface BackgroundResult {
+  model: BackgroundModel;
+  /** Per-pixel difference from the model (pixel − background), CIELAB planes. */
+  residual: LabPlanes;
+}
+
+const EDGE_BAND_MM = 15;
+const RING_MM = 2;
+
+/**
+ * Estimates the background of an analysis copy given as CIELAB planes, `pxPerMm` pixels per
+ * millimetre. Example: a white lid with one dark piece → { lab: [97.1, 0.2, 1.1], kind: "light",
+ * noise: { L: 0.35, … }, … } and residuals near 0 everywhere except on the piece.
+ */
+export function estimateBackground(
+  lab: LabPlanes,
+  width: number,
+  height: number,
+  pxPerMm: number,
+): BackgroundResult {
+  const ring = borderMode(lab, width, height, Math.max(2, Math.round(RING_MM * pxPerMm)));
+  const bg0 = ring.lab;
+
+  // A grid of samples keeps the fitting to about 60 000 pixels at any size (every 2nd pixel of a
+  // letter-size copy at 100 DPI: still 2 samples per millimetre across a lid shadow).
+  const g = Math.max(1, Math.round(Math.sqrt((width * height) / 60_000)));
+  const off = g >> 1;
+  const nx = Math.max(1, Math.ceil((width - off) / g));
+  const ny = Math.max(1, Math.ceil((height - off) / g));
+  const ns = nx * ny;
+  const S: Float32Array[] = [new Float32Array(ns), new Float32Array(ns), new Float32Array(ns)];
+  const planes: Float32Array[] = [lab.L, lab.a, lab.b];
+  // basis [1, X, Y, X², XY, Y²] of every sample, X and Y in −1…1 across the bed
+  const phi = new Float32Array(ns * 6);
+  const sampleRow = new Int32Array(ns);
+  const sampleCol = new Int32Array(ns);
+  for (let ry = 0; ry < ny; ry++) {
+    const y = Math.min(height - 1, off + ry * g);
+    const Yv = (2 * (y + 0.5)) / height - 1;
+    for (let cx = 0; cx < nx; cx++) {
+      const x = Math.min(width - 1, off + cx * g);
+      const Xv = (2 * (x + 0.5)) / width - 1;
+      const k = ry * nx + cx;
+      for (let c = 0; c < 3; c++) S[c]![k] = planes[c]![y * width + x]!;
+      phi.set([1, Xv, Yv, Xv * Xv, Xv * Yv, Yv * Yv], k * 6);
+      sampleRow[k] = ry;
+      sampleCol[k] = cx;
+    }
+  }
+
+  const band = EDGE_BAND_MM * pxPerMm;
+  const rowTaper = taper(ny, (ry) => Math.min(off + ry * g, height - 1 - (off + ry * g)), band);
+  const colTaper = taper(nx, (cx) => Math.min(off + cx * g, width - 1 - (off + cx * g)), band);
+
+  const poly: Float64Array[] = [new Float64Array(6), new Float64Array(6), new Float64Array(6)];
+  for (let c = 0; c < 3; c++) poly[c]![0] = bg0[c]!;
+  const P = [0, 1, 2].map((c) => new Float32Array(ns).fill(bg0[c]!)); // the surface at each sample
+  const rowP = [new Float32Array(ny), new Float32Array(ny), new Float32Array(ny)];
+  const colP = [new Float32Array(nx), new Float32Array(nx), new Float32Array(nx)];
+  const cand = new Uint8Array(ns);
+  const sigma = [4, 2, 2]; // start: chroma within 8, lightness within 15 (a lid shadow)
+  let tolL = 15;
+  let degree = 0;
+  const scratch = new Float32Array(Math.max(nx, ny, ns));
+  const residualAt = (c: number, k: number) =>
+    S[c]![k]! - P[c]![k]! - rowP[c]![sampleRow[k]!]! - colP[c]![sampleCol[k]!]!;
+
+  for (let iter = 0; iter < 4; iter++) {
+    // 1. classify samples against the current model
+    let count = 0;
+    const tolA = Math.max(4 * sigma[1]!, 1.5);
+    const tolB = Math.max(4 * sigma[2]!, 1.5);
+    for (let k = 0; k < ns; k++) {
+      const inside =
+        Math.abs(residualAt(0, k)) <= tolL &&
+        Math.abs(residualAt(1, k)) <= tolA &&
+        Math.abs(residualAt(2, k)) <= tolB;
+      cand[k] = inside ? 1 : 0;
+      if (inside) count++;
+    }
+    if (count < 16) break; // no background to speak of; keep the border colour
+    // 2. the polynomial surface, of a degree the spread of background samples supports
+    degree = supportedDegree(cand, nx, ny);
+    for (let c = 0; c < 3; c++) {
+      const fit = fitSurface(S[c]!, cand, phi, sampleRow, sampleCol, rowP[c]!, colP[c]!, degree);
+      if (!fit) continue;
+      poly[c] = fit;
+      const pc = P[c]!;
+      for (let k = 0, o = 0; k < ns; k++, o += 6) {
+        pc[k] =
+          fit[0]! + fit[1]! * phi[o + 1]! + fit[2]! * phi[o + 2]! + fit[3]! * phi[o + 3]! + fit[4]! * phi[o + 4]! + fit[5]! * phi[o + 5]!;
+      }
+    }
+    // 3. edge profiles: median residual along each row/column of the edge bands
+    for (let c = 0; c < 3; c++) {
+      edgeProfile(S[c]!, P[c]!, cand, nx, ny, rowP[c]!, colP[c]!, rowTaper, "rows", scratch);
+      edgeProfile(S[c]!, P[c]!, cand, nx, ny, rowP[c]!, colP[c]!, colTaper, "cols", scratch);
+    }
+    // 4. noise of the background samples about the model; tighter tolerance for the next round
+    for (let c = 0; c < 3; c++) {
+      let n = 0;
+      for (let k = 0; k < ns; k++) if (cand[k]) scratch[n++] = residualAt(c, k);
+      sigma[c] = Math.max(robustSigma(scratch, n), 0.05);
+    }
+    tolL = Math.max(4 * sigma[0]!, 1.5);
+  }
+
+  let bgCount = 0;
+  for (let k = 0; k < ns; k++) bgCount += cand[k]!;
+
+  // Full-resolution residual: the model at every pixel, profiles interpolated between sample rows.
+  const rowFull = [0, 1, 2].map((c) => interpolate(rowP[c]!, ny, g, off, height));
+  const colFull = [0, 1, 2].map((c) => interpolate(colP[c]!, nx, g, off, width));
+  const residual: LabPlanes = {
+    L: new Float32Array(width * height),
+    a: new Float32Array(width * height),
+    b: new Float32Array(width * height),
+  };
+  const out: Float32Array[] = [residual.L, residual.a, residual.b];
+  for (let c = 0; c < 3; c++) {
+    const p = poly[c]!;
+    const src = planes[c]!;
+    const dst = out[c]!;
+    const rf = rowFull[c]!;
+    const cf = colFull[c]!;
+    for (let y = 0; y < height; y++) {
+      const Yv = (2 * (y + 0.5)) / height - 1;
+      // P = (p0 + p2·Y + p5·Y²) + (p1 + p4·Y)·X + p3·X²
+      const a0 = p[0]! + p[2]! * Yv + p[5]! * Yv * Yv + rf[y]!;
+      const a1 = p[1]! + p[4]! * Yv;
+      const a2 = p[3]!;
+      const row = y * width;
+      for (let x = 0; x < width; x++) {
+        const Xv = (2 * (x + 0.5)) / width - 1;
+        dst[row + x] = src[row + x]! - (a0 + a1 * Xv + a2 * Xv * Xv + cf[x]!);
+      }
+    }
+  }
+
+  return {
+    model: {
+      lab: bg0,
+      rgb: labToSrgb8(bg0),
+      kind: bg0[0] >= 50 ? "light" : "dark",
+      noise: { L: sigma[0]!, a: sigma[1]!, b: sigma[2]! },
+      borderAgreement: ring.agreement,
+      coverage: bgCount / ns,
+      degree,
+    },
+    residual,
+  };
+}
+
+/** The dominant colour of the ring `ringPx` wide inside the image edge (the outermost pixel skipped). */
+function borderMode(
+  lab: LabPlanes,
+  width: number,
+  height: number,
+  ringPx: number,
+): { lab: Lab; agreement: number } {
+  const list: number[] = [];
+  const inner = Math.min(ringPx + 1, Math.floor(Math.min(width, height) / 2));
+  const start = Math.min(1, inner - 1);
+  for (let y = 0; y < height; y++) {
+    const edgeRow = y >= start && (y < inner || y >= height - inner) && y < height - start;
+    for (let x = start; x < width - start; x++) {
+      if (edgeRow || (y >= start && y < height - start && (x < inner || x >= width - inner))) list.push(y * width + x);
+    }
+  }
+  if (list.length === 0) list.push(0);
+  const idx = Int32Array.from(list);
+  // mode of L* in half-unit bins, smoothed
+  const bins = new Float64Array(202);
+  for (const i of idx) bins[Math.max(0, Math.min(201, Math.round(lab.L[i]! * 2)))]!++;
+  let best = 0;
+  let bestV = -1;
+  for (let b = 0; b < 202; b++) {
+    let v = 0;
+    for (let k = -2; k <= 2; k++) v += (bins[b + k] ?? 0) * (3 - Math.abs(k));
+    if (v > bestV) {
+      bestV = v;
+      best = b;
+    }
+  }
+  const Lm = best / 2;
+  const pick = (tolL: number, centre: [number, number] | null, tolAb: number) => {
+    const sel: number[] = [];
+    for (const i of idx) {
+      if (Math.abs(lab.L[i]! - Lm) > tolL) continue;
+      if (centre && (Math.abs(lab.a[i]! - centre[0]) > tolAb || Math.abs(lab.b[i]! - centre[1]) > tolAb)) continue;
+      sel.push(i);
+    }
+    return sel;
+  };
+  const median = (sel: number[], plane: Float32Array) => {
+    const v = new Float32Array(sel.length);
+    sel.forEach((i, k) => (v[k] = plane[i]!));
+    return medianInPlace(v);
+  };
+  const first = pick(3, null, 0);
+  const centre: [number, number] = [median(first, lab.a), median(first, lab.b)];
+  const sel = pick(3, centre, 4);
+  const chosen = sel.length > 0 ? sel : first;
+  return {
+    lab: [median(chosen, lab.L), median(chosen, lab.a), median(chosen, lab.b)],
+    agreement: sel.length / idx.length,
+  };
+}
+
+/** Polynomial degree the background samples support: how many of a 4 × 4 grid of cells they reach. */
+function supportedDegree(cand: Uint8Array, nx: number, ny: number): number {
+  const cells = new Float64Array(16);
+  const totals = new Float64Array(16);
+  for (let k = 0; k < cand.length; k++) {
+    const cx = k % nx;
+    const ry = (k - cx) / nx;
+    const cell = Math.min(3, Math.floor((ry * 4) / ny)) * 4 + Math.min(3, Math.floor((cx * 4) / nx));
+    totals[cell]!++;
+    cells[cell]! += cand[k]!;
+  }
+  let reached = 0;
+  for (let c = 0; c < 16; c++) if (cells[c]! > 0.05 * totals[c]!) reached++;
+  return reached >= 12 ? 2 : reached >= 6 ? 1 : 0;
+}
+
+/** Least-squares polynomial surface of S − R − C over the candidate samples; coefficients of all 6 terms. */
+function fitSurface(
+  S: Float32Array,
+  cand: Uint8Array,
+  phi: Float32Array,
+  sampleRow: Int32Array,
+  sampleCol: Int32Array,
+  rowP: Float32Array,
+  colP: Float32Array,
+  degree: number,
+): Float64Array | null {
+  const n = degree === 2 ? 6 : degree === 1 ? 3 : 1; // the first n terms of [1, X, Y, X², XY, Y²]
+  const A = new Float64Array(n * n);
+  const B = new Float64Array(n);
+  for (let k = 0; k < S.length; k++) {
+    if (!cand[k]) continue;
+    const o = k * 6;
+    const v = S[k]! - rowP[sampleRow[k]!]! - colP[sampleCol[k]!]!;
+    for (let i = 0; i < n; i++) {
+      const pi = phi[o + i]!;
+      B[i] = B[i]! + pi * v;
+      for (let j = i; j < n; j++) A[i * n + j] = A[i * n + j]! + pi * phi[o + j]!;
+    }
+  }
+  for (let i = 0; i < n; i++) for (let j = 0; j < i; j++) A[i * n + j] = A[j * n + i]!;
+  const sol = solveLinear(A, B, n);
+  if (!sol) return null;
+  const out = new Float64Array(6);
+  out.set(sol);
+  return out;
+}
+
+/** Weight 1 within two thirds of the band from the edge, falling linearly to 0 at the band's end. */
+function taper(n: number, distance: (i: number) => number, band: number): Float32Array {
+  const w = new Float32Array(n);
+  for (let i = 0; i < n; i++) {
+    const d = distance(i);
+    w[i] = d <= (2 * band) / 3 ? 1 : d >= band ? 0 : (band - d) / (band / 3);
+  }
+  return w;
+}
+
+/**
+ * Median residual (S − P − the other profile) of the candidate samples along each row (or column)
+ * inside the edge band, times the taper. Lines with too few background samples borrow from
+ * the nearest supported line on the same side of the bed.
+ */
+function edgeProfile(
+  S: Float32Array,
+  P: Float32Array,
+  cand: Uint8Array,
+  nx: number,
+  ny: number,
+  rowP: Float32Array,
+  colP: Float32Array,
+  weight: Float32Array,
+  along: "rows" | "cols",
+  scratch: Float32Array,
+): void {
+  const lines = along === "rows" ? ny : nx;
+  const len = along === "rows" ? nx : ny;
+  const target = along === "rows" ? rowP : colP;
+  const values = new Float32Array(lines).fill(NaN);
+  for (let l = 0; l < lines; l++) {
+    if (weight[l] === 0) continue;
+    let n = 0;
+    for (let t = 0; t < len; t++) {
+      const cx = along === "rows" ? t : l;
+      const ry = along === "rows" ? l : t;
+      const k = ry * nx + cx;
+      if (!cand[k]) continue;
+      const other = along === "rows" ? colP[cx]! : rowP[ry]!;
+      scratch[n++] = S[k]! - P[k]! - other;
+    }
+    if (n >= Math.max(6, 0.3 * len)) values[l] = medianInPlace(scratch, n);
+  }
+  for (let l = 0; l < lines; l++) {
+    if (weight[l] === 0) {
+      target[l] = 0;
+      continue;
+    }
+    let v = values[l]!;
+    if (Number.isNaN(v)) {
+      v = 0;
+      const step = l < lines / 2 ? 1 : -1;
+      for (let m = l + step; m >= 0 && m < lines && weight[m]! > 0; m += step) {
+        if (!Number.isNaN(values[m]!)) {
+          v = values[m]!;
+          break;
+        }
+      }
+    }
+    target[l] = v * weight[l]!;
+  }
+}
+
+/** Profile on the sample grid → one value per pixel line, linear between samples. */
+function interpolate(p: Float32Array, n: number, g: number, off: number, size: number): Float32Array {
+  const out = new Float32Array(size);
+  for (let i = 0; i < size; i++) {
+    const t = (i - off) / g;
+    const a = Math.max(0, Math.min(n - 1, Math.floor(t)));
+    const b = Math.min(n - 1, a + 1);
+    const f = Math.max(0, Math.min(1, t - a));
+    out[i] = p[a]! * (1 - f) + p[b]! * f;
+  }
+  return out;
+}

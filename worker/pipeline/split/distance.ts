@@ -1,0 +1,92 @@
+/**
+ * Exact Euclidean distance transform on a pixel grid, by the lower envelope of parabolas
+ * (Felzenszwalb & Huttenlocher, "Distance Transforms of Sampled Functions", Theory of Computing
+ * 8, 2012): one pass down the columns, one along the rows, O(pixels). Distances are between pixel
+ * centres, in pixels.
+ */
+
+const INF = 1e20;
+
+/**
+ * Squared distance from every pixel to the nearest pixel where `isSource(mask[i])` holds.
+ * `sourceValue` picks the source pixels: 1 → distance to the nearest set pixel, 0 → distance to
+ * the nearest unset pixel (so inside a shape, the distance to its edge). Pixels beyond the image
+ * are not sources: a shape touching the border is not eroded from outside.
+ * Example: a 5 × 1 mask [0,0,1,0,0] with sourceValue 1 → [4, 1, 0, 1, 4].
+ */
+export function squaredDistance(
+  mask: Uint8Array,
+  width: number,
+  height: number,
+  sourceValue: 0 | 1,
+): Float32Array {
+  const out = new Float32Array(width * height);
+  const n = Math.max(width, height);
+  const f = new Float64Array(n);
+  const d = new Float64Array(n);
+  const v = new Int32Array(n);
+  const z = new Float64Array(n + 1);
+
+  for (let x = 0; x < width; x++) {
+    for (let y = 0; y < height; y++) {
+      const set = mask[y * width + x] ? 1 : 0;
+      f[y] = set === sourceValue ? 0 : INF;
+    }
+    envelope(f, height, d, v, z);
+    for (let y = 0; y < height; y++) out[y * width + x] = d[y]!;
+  }
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    for (let x = 0; x < width; x++) f[x] = out[row + x]!;
+    envelope(f, width, d, v, z);
+    for (let x = 0; x < width; x++) out[row + x] = d[x]!;
+  }
+  return out;
+}
+
+/** One-dimensional squared distance transform of sampled function f[0..n) into d. */
+function envelope(f: Float64Array, n: number, d: Float64Array, v: Int32Array, z: Float64Array): void {
+  let k = 0;
+  let first = -1;
+  for (let q = 0; q < n; q++) {
+    if (f[q]! < INF) {
+      first = q;
+      break;
+    }
+  }
+  if (first < 0) {
+    d.fill(INF, 0, n);
+    return;
+  }
+  v[0] = first;
+  z[0] = -INF;
+  z[1] = INF;
+  for (let q = first + 1; q < n; q++) {
+    const fq = f[q]!;
+    if (fq >= INF) continue;
+    let s: number;
+    for (;;) {
+      const p = v[k]!;
+      s = (fq + q * q - (f[p]! + p * p)) / (2 * (q - p));
+      if (s <= z[k]! && k > 0) k--;
+      else break;
+    }
+    if (s <= z[k]!) {
+      // k === 0 and the new parabola dominates everywhere
+      v[0] = q;
+      z[0] = -INF;
+      z[1] = INF;
+      continue;
+    }
+    k++;
+    v[k] = q;
+    z[k] = s;
+    z[k + 1] = INF;
+  }
+  k = 0;
+  for (let q = 0; q < n; q++) {
+    while (z[k + 1]! < q) k++;
+    const p = v[k]!;
+    d[q] = (q - p) * (q - p) + f[p]!;
+  }
+}
