@@ -41,7 +41,8 @@ export const API = {
   logout: route({ method: "POST", path: "/api/auth/logout", access: "viewer", mutates: true }),
   me: route({ method: "GET", path: "/api/auth/me", access: "viewer", mutates: false }),
 
-  studio: route({ method: "GET", path: "/api/studio", access: "viewer", mutates: false }),
+  // Public: the sign-in page shows the studio's name.
+  studio: route({ method: "GET", path: "/api/studio", access: "public", mutates: false }),
   events: route({ method: "GET", path: "/api/events", access: "viewer", mutates: false }),
   queue: route({ method: "GET", path: "/api/queue", access: "viewer", mutates: false }),
 

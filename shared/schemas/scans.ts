@@ -99,6 +99,7 @@ export const intakeSchema = z.object({
 });
 export type Intake = z.infer<typeof intakeSchema>;
 export const intakeListResponse = z.object({ intakes: z.array(intakeSchema) });
+export const intakeResponse = z.object({ intake: intakeSchema });
 
 export const createIntakeBody = z.object({
   name: z.string().trim().min(1, { error: "Enter a name for the intake" }).max(120),

@@ -23,6 +23,7 @@ export const userSchema = z.object({
 export type User = z.infer<typeof userSchema>;
 
 export const userListResponse = z.object({ users: z.array(userSchema) });
+export const userResponse = z.object({ user: userSchema });
 
 export const createUserBody = z.object({
   email: emailSchema,

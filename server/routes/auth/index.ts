@@ -17,6 +17,8 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
     limit: cfg.loginLimit,
     standardHeaders: "draft-8",
     legacyHeaders: false,
+    // Only failed attempts count: a studio signing in all day is never locked out.
+    skipSuccessfulRequests: true,
     keyGenerator: (req) => `${ipKeyGenerator(req.ip ?? "")}|${String((req.body as { email?: unknown })?.email ?? "").toLowerCase()}`,
     handler: (_req, _res, next) => {
       const minutes = Math.round(cfg.loginWindowMs / 60_000);

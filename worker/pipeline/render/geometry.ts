@@ -30,8 +30,8 @@ export interface PixelRect {
 }
 
 /**
- * Source pixels decoded around the rectangle, beyond its corners. The interpolator (locally
- * bounded bicubic) reads a 4 × 4 window: one pixel before and two after the sample point.
+ * Source pixels decoded around the rectangle, beyond its corners. The interpolator (bicubic)
+ * reads a 4 × 4 window: one pixel before and two after the sample point.
  */
 export const REGION_MARGIN_PX = 3;
 

@@ -17,8 +17,11 @@ export const WEB_LONG_EDGE = 2048;
 
 /** Quality 90 with full-resolution chroma: artwork has fine coloured lines that 4:2:0 smears (common practice). */
 const WEB_JPEG = { quality: 90, chromaSubsampling: "4:4:4", mozjpeg: false } as const;
-/** Quality 90 for colour, lossless alpha so the cut edge stays exact. */
-const WEB_WEBP = { quality: 90, alphaQuality: 100, effort: 4 } as const;
+/**
+ * Quality 90 for colour, lossless alpha so the cut edge stays exact. Effort 2 of 6: measured on a
+ * 2048 × 1272 cut-out, 0.29 s against 0.68 s at the default 4, for 8 % more bytes.
+ */
+const WEB_WEBP = { quality: 90, alphaQuality: 100, effort: 2 } as const;
 
 export interface WebOptions {
   format: WebFormat;

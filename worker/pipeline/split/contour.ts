@@ -102,7 +102,7 @@ export interface SubpixelContour {
 
 /**
  * Moves every crack's midpoint to the half-way crossing of `field.diff` along the crack's normal,
- * sampling two pixels inside (the piece's level) and two beyond (the background's level).
+ * sampling three pixels inside (the piece's level) and three beyond (the background's level).
  * `minContrast` (ΔE) is the least piece-to-background step worth locating. Cracks on the image
  * border stay where they are (the piece is cut there). Pixel-corner coordinates, like the cracks.
  * Example: a black square on white, reduced so its left edge covers a third of a pixel column →
@@ -118,8 +118,8 @@ export function subpixelContour(
   const shifts = new Float32Array(cracks.count);
   const found = new Uint8Array(cracks.count);
   const fixed = new Uint8Array(cracks.count);
-  const s = new Float64Array(6); // samples k = −2…3 along the outward normal
-  const ok = new Uint8Array(6);
+  const s = new Float64Array(7); // samples k = −3…3 along the outward normal (k = 0: the inside pixel)
+  const ok = new Uint8Array(7);
   let foundCount = 0;
   for (let i = 0; i < cracks.count; i++) {
     const vx = cracks.vertices[i * 2]!;
@@ -137,10 +137,10 @@ export function subpixelContour(
       fixed[i] = 1;
       continue;
     }
-    for (let k = -2; k <= 3; k++) {
+    for (let k = -3; k <= 3; k++) {
       const x = px + k * nx;
       const y = py + k * ny;
-      const j = k + 2;
+      const j = k + 3;
       if (x < 0 || y < 0 || x >= width || y >= height) {
         ok[j] = 0;
         continue;
@@ -150,23 +150,25 @@ export function subpixelContour(
       ok[j] = k <= 0 ? (lab === label ? 1 : 0) : lab === 0 || k === 1 ? 1 : 0;
       s[j] = diff[idx]!;
     }
-    if (!ok[2] || !ok[3]) continue;
+    if (!ok[3] || !ok[4]) continue;
+    // The mask may reach a pixel past the edge (faint evidence), so the piece's level is read
+    // two and three pixels in, the background's two and three pixels out.
     const inner = ok[0] && ok[1] ? (s[0]! + s[1]!) / 2 : ok[1] ? s[1]! : -1;
-    const outer = ok[4] && ok[5] ? (s[4]! + s[5]!) / 2 : ok[4] ? s[4]! : -1;
+    const outer = ok[5] && ok[6] ? (s[5]! + s[6]!) / 2 : ok[5] ? s[5]! : -1;
     if (inner < 0 || outer < 0 || inner - outer < minContrast) continue;
     const half = (inner + outer) / 2;
-    // the crossing nearest the pixel boundary: pairs (0,1), (−1,0), (1,2), (−2,−1), (2,3)
+    // the crossing nearest the pixel boundary: pairs (0,1), (−1,0), (1,2), (−2,−1), (2,3), (−3,−2)
     let t = NaN;
-    for (const k of [0, -1, 1, -2, 2]) {
-      const a = s[k + 2]!;
-      const b = s[k + 3]!;
-      if (!ok[k + 2] || !ok[k + 3]) continue;
+    for (const k of [0, -1, 1, -2, 2, -3]) {
+      const a = s[k + 3]!;
+      const b = s[k + 4]!;
+      if (!ok[k + 3] || !ok[k + 4]) continue;
       if (a >= half && b < half) {
         t = k - 0.5 + (a - half) / (a - b);
         break;
       }
     }
-    if (Number.isNaN(t) || Math.abs(t) > 2) continue;
+    if (Number.isNaN(t) || Math.abs(t) > 2.5) continue;
     shifts[i] = t;
     found[i] = 1;
     foundCount++;

@@ -1,8 +1,8 @@
 /**
- * Exact Euclidean distance transform on a pixel grid, by the lower envelope of parabolas
- * (Felzenszwalb & Huttenlocher, "Distance Transforms of Sampled Functions", Theory of Computing
- * 8, 2012): one pass down the columns, one along the rows, O(pixels). Distances are between pixel
- * centres, in pixels.
+ * Exact Euclidean distance transform on a pixel grid (Meijster, Roerdink & Hesselink 2000;
+ * Felzenszwalb & Huttenlocher, "Distance Transforms of Sampled Functions", Theory of Computing 8,
+ * 2012): a linear scan down and up the columns for the distance within each column, then the lower
+ * envelope of parabolas along each row, O(pixels). Distances are between pixel centres, in pixels.
  */
 
 const INF = 1e20;
@@ -20,28 +20,41 @@ export function squaredDistance(
   height: number,
   sourceValue: 0 | 1,
 ): Float32Array {
-  const out = new Float32Array(width * height);
-  const n = Math.max(width, height);
-  const f = new Float64Array(n);
-  const d = new Float64Array(n);
-  const v = new Int32Array(n);
-  const z = new Float64Array(n + 1);
-
-  for (let x = 0; x < width; x++) {
-    for (let y = 0; y < height; y++) {
-      const set = mask[y * width + x] ? 1 : 0;
-      f[y] = set === sourceValue ? 0 : INF;
+  // Phase 1, along the columns, for all columns at once (rows are contiguous in memory): the
+  // distance to the nearest source in the same column, by a forward and a backward scan.
+  const far = width + height;
+  const g = new Float32Array(width * height);
+  for (let x = 0; x < width; x++) g[x] = (mask[x] ? 1 : 0) === sourceValue ? 0 : far;
+  for (let y = 1; y < height; y++) {
+    const row = y * width;
+    const prev = row - width;
+    for (let x = 0; x < width; x++) {
+      g[row + x] = (mask[row + x] ? 1 : 0) === sourceValue ? 0 : Math.min(far, g[prev + x]! + 1);
     }
-    envelope(f, height, d, v, z);
-    for (let y = 0; y < height; y++) out[y * width + x] = d[y]!;
   }
+  for (let y = height - 2; y >= 0; y--) {
+    const row = y * width;
+    const next = row + width;
+    for (let x = 0; x < width; x++) {
+      const below = g[next + x]! + 1;
+      if (below < g[row + x]!) g[row + x] = below;
+    }
+  }
+  // Phase 2, along each row: the lower envelope of the parabolas (x − q)² + g(q)².
+  const f = new Float64Array(width);
+  const d = new Float64Array(width);
+  const v = new Int32Array(width);
+  const z = new Float64Array(width + 1);
   for (let y = 0; y < height; y++) {
     const row = y * width;
-    for (let x = 0; x < width; x++) f[x] = out[row + x]!;
+    for (let x = 0; x < width; x++) {
+      const gv = g[row + x]!;
+      f[x] = gv >= far ? INF : gv * gv;
+    }
     envelope(f, width, d, v, z);
-    for (let x = 0; x < width; x++) out[row + x] = d[x]!;
+    for (let x = 0; x < width; x++) g[row + x] = d[x]!;
   }
-  return out;
+  return g;
 }
 
 /** One-dimensional squared distance transform of sampled function f[0..n) into d. */

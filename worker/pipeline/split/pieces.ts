@@ -110,7 +110,7 @@ export function measurePiece(comp: Component, ctx: PieceContext): DetectedPiece 
   const unit = Math.max(sx, sy); // one analysis pixel, in source pixels
   const hull = convexHull(points);
   const calipers = minAreaRect(hull);
-  const refined = refineRect(points, calipers, 1.5 * unit, (len) => Math.max(8, (0.25 * len) / unit));
+  const refined = refineRect(points, calipers, 3 * unit, (len) => Math.max(8, (0.25 * len) / unit));
   const rect: RotatedRect = refined.rect.area > 0 ? refined.rect : calipers;
   const area = polygonArea(points);
   const fill = rect.area > 0 ? area / rect.area : 0;

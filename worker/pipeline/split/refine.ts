@@ -5,7 +5,7 @@ import { rotatedRect, type Point, type RotatedRect } from "./geometry";
  * calipers' rectangle rests on two or three extreme points, so its angle is only as good as
  * those points (about 1/length radians); here every outline point near a side votes instead:
  * each side's points (within `band` of the side, away from the corners) get a total-least-squares
- * line, the four directions are averaged (weighted by their point counts, modulo 90°), and each
+ * line, refitted without the points far from it (spurs at corners, a notch in a cutout), the four directions are averaged (weighted by their point counts, modulo 90°), and each
  * side is placed at the mean offset of its points. Sides with too few points (a cutout touching its
  * rectangle at one spot) keep the extreme of the outline. Units: whatever the points are in.
  */
@@ -105,11 +105,12 @@ export function refineRect(
     let idx = members[s]!;
     if (idx.length < minPoints(2 * sides[s]!.halfLength)) continue;
     let axis = principalAxis(points, idx);
-    // one round of outlier rejection: points off the line by more than 3 rms (at least band / 2)
-    const limit = Math.max(3 * axis.rms, band / 2);
-    const ca = Math.cos(axis.angle);
-    const sa = Math.sin(axis.angle);
-    idx = idx.filter((i) => Math.abs(-(points[i]![0] - axis.mx) * sa + (points[i]![1] - axis.my) * ca) <= limit);
+    // outlier rejection: keep points within 2.5 robust σ of the first line (at least band / 6)
+    const dist = (i: number, ax: typeof axis) =>
+      Math.abs(-(points[i]![0] - ax.mx) * Math.sin(ax.angle) + (points[i]![1] - ax.my) * Math.cos(ax.angle));
+    const d = Float64Array.from(idx, (i) => dist(i, axis)).sort();
+    const limit = Math.max(2.5 * 1.4826 * d[d.length >> 1]!, band / 6);
+    idx = idx.filter((i) => dist(i, axis) <= limit);
     if (idx.length < minPoints(2 * sides[s]!.halfLength)) continue;
     axis = principalAxis(points, idx);
     members[s] = idx;

@@ -30,22 +30,27 @@ export function levelToDeltaE(level: number): number {
   return KNEE * Math.expm1(level / SCALE);
 }
 
-/** 8-bit contrast image of a ΔE field. */
+/** 8-bit contrast image of a ΔE field (the same rounding as contrastLevel, without a logarithm per pixel). */
 export function contrastImage(diff: Float32Array): Uint8Array {
-  const lut = new Float64Array(256); // lut[l] = the ΔE at which the level becomes l (rounding midpoint)
-  for (let l = 0; l < 256; l++) lut[l] = levelToDeltaE(l - 0.5);
+  const bound = new Float64Array(257); // bound[l] = the ΔE at which the level becomes l
+  for (let l = 0; l < 256; l++) bound[l] = levelToDeltaE(l - 0.5);
+  bound[256] = Infinity;
+  // a coarse table (1/16 ΔE steps) gives the level at the step's start; at most a few steps up remain
+  const STEPS = 16;
+  const coarse = new Uint8Array(TOP * STEPS + 1);
+  for (let i = 0, l = 0; i < coarse.length; i++) {
+    while (l < 255 && bound[l + 1]! <= i / STEPS) l++;
+    coarse[i] = l;
+  }
   const out = new Uint8Array(diff.length);
+  const last = coarse.length - 1;
   for (let i = 0; i < diff.length; i++) {
     const d = diff[i]!;
-    // binary search of the level: 8 comparisons instead of a logarithm per pixel
-    let lo = 0;
-    let hi = 255;
-    while (lo < hi) {
-      const mid = (lo + hi + 1) >> 1;
-      if (lut[mid]! <= d) lo = mid;
-      else hi = mid - 1;
-    }
-    out[i] = lo;
+    if (!(d > 0)) continue;
+    const c = d * STEPS;
+    let l: number = coarse[c < last ? c | 0 : last]!;
+    while (l < 255 && bound[l + 1]! <= d) l++;
+    out[i] = l;
   }
   return out;
 }
