@@ -5,13 +5,14 @@ import { ROLES, hasRole, type Role } from "../shared/roles";
 import { apiErrorSchema } from "../shared/errors";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { paperScan } from "./helpers/fixtures";
-import { intakes, scans } from "../server/db/schema";
+import { fragments, intakes, scans } from "../server/db/schema";
 import { eq } from "drizzle-orm";
 
 let stack: Stack;
 let agents: Record<Role, supertest.Agent>;
 let failedScanId: string;
 let viewerId: string;
+let fragmentIds: string[];
 let png: Buffer;
 
 beforeAll(async () => {
@@ -36,6 +37,18 @@ beforeAll(async () => {
     })
     .returning();
   failedScanId = scan!.id;
+  const piece = (x: number) => ({
+    box: { x, y: 10, width: 50, height: 40 },
+    angle: 0,
+    rect: { cx: x + 25, cy: 30, width: 50, height: 40 },
+    outline: [[x, 10], [x + 50, 10], [x + 50, 50], [x, 50]] as [number, number][],
+    shape: "rectangle" as const,
+  });
+  const made = await stack.db
+    .insert(fragments)
+    .values([1, 2, 3].map((i) => ({ scanId: failedScanId, position: i, ...piece(i * 100), areaPx: 2000, proposal: piece(i * 100) })))
+    .returning();
+  fragmentIds = made.map((f) => f.id);
   const me = await agents.viewer.get("/api/auth/me");
   viewerId = me.body.user.id;
   png = await paperScan({ format: "png", width: 300, height: 200 });
@@ -48,7 +61,11 @@ let counter = 0;
 /** A well-formed request for each route, so that an allowed role gets past validation. */
 function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supertest.Test {
   const spec: RouteSpec = API[name];
-  const params: Record<string, string> = { id: name.startsWith("users") ? viewerId : failedScanId };
+  const onFragment = name.startsWith("fragments") && name !== "fragmentsDraw" && name !== "fragmentsApproveRemaining";
+  const params: Record<string, string> = {
+    id: name.startsWith("users") ? viewerId : onFragment ? fragmentIds[0]! : failedScanId,
+    kind: "master",
+  };
   const url = apiPath(spec, spec.path.includes(":") ? params : {});
   const m = spec.method.toLowerCase() as "get" | "post" | "patch" | "delete";
   const req = (agent as supertest.Agent)[m](url);
@@ -61,6 +78,14 @@ function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supert
       return req.send({ name: `Renamed ${++counter}` });
     case "intakesCreate":
       return req.send({ name: `Session ${++counter}` });
+    case "fragmentsUpdate":
+      return req.send({ title: `Title ${++counter}` });
+    case "fragmentsMerge":
+      return req.send({ ids: fragmentIds.slice(1) });
+    case "fragmentsDraw":
+      return req.send({ rect: { cx: 50, cy: 50, width: 20, height: 20 }, angle: 0 });
+    case "scansResplit":
+      return req.send({ sensitivity: 0.5 });
     case "scansUpload":
       return req.attach("files", png, `upload-${++counter}.png`);
     default:

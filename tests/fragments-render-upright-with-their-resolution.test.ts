@@ -9,7 +9,7 @@ import fs from "node:fs";
 import path from "node:path";
 import sharp from "sharp";
 import { afterAll, describe, expect, it } from "vitest";
-import { renderFragment, type RenderInput } from "../worker/pipeline/render";
+import { renderFragment } from "../worker/pipeline/render";
 import {
   asciiField,
   drawScan,
@@ -109,7 +109,10 @@ describe("renderFragment: rectangles come out upright", () => {
       const geometry = geometryOf(piece, "rectangle");
 
       // As the split reports it: the piece fills the output, square to its edges.
-      const tight = await renderFragment({ source, geometry, dpi: { x: 600, y: 600 }, maxPixels }, targets());
+      const tight = await renderFragment(
+        { source, geometry, dpi: { x: 600, y: 600 }, maxPixels },
+        targets(),
+      );
       expect([tight.master.width, tight.master.height]).toEqual([401, 251]);
       const t = await storedPixels(tight.master.path, 8);
       let border = 0;
@@ -130,7 +133,10 @@ describe("renderFragment: rectangles come out upright", () => {
 
       // With a rectangle 10 px larger on every side, the piece's edges can be measured.
       const wide = { ...geometry, rect: { ...geometry.rect, width: 421.4, height: 271.2 } };
-      const r = await renderFragment({ source, geometry: wide, dpi: { x: 600, y: 600 }, maxPixels }, targets());
+      const r = await renderFragment(
+        { source, geometry: wide, dpi: { x: 600, y: 600 }, maxPixels },
+        targets(),
+      );
       const m = await storedPixels(r.master.path, 8);
       expect([m.width, m.height]).toEqual([421, 271]);
       const expected = {
@@ -197,7 +203,14 @@ describe("renderFragment: rectangles come out upright", () => {
       .toFile(source);
 
     for (const angle of [-12, 7.5, 0, 44.9, -3.3]) {
-      const piece: PieceSpec = { cx: 500.37, cy: 401.81, angle, width: 301.6, height: 199.3, colour: PIECE };
+      const piece: PieceSpec = {
+        cx: 500.37,
+        cy: 401.81,
+        angle,
+        width: 301.6,
+        height: 199.3,
+        colour: PIECE,
+      };
       const r = await renderFragment(
         { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 300, y: 300 }, maxPixels },
         targets(),
@@ -210,7 +223,11 @@ describe("renderFragment: rectangles come out upright", () => {
           const [x, y] = toSource(piece, [i + 0.5 - m.width / 2, j + 0.5 - m.height / 2]);
           const k = (j * m.width + i) * 3;
           // Pixel k's value is taken at its centre, k + 0.5 in continuous coordinates.
-          worst = Math.max(worst, Math.abs(m.px[k]! / 60 + 0.5 - x), Math.abs(m.px[k + 1]! / 60 + 0.5 - y));
+          worst = Math.max(
+            worst,
+            Math.abs(m.px[k]! / 60 + 0.5 - x),
+            Math.abs(m.px[k + 1]! / 60 + 0.5 - y),
+          );
         }
       }
       expect(worst, `angle ${angle}°`).toBeLessThan(0.05);
@@ -219,7 +236,14 @@ describe("renderFragment: rectangles come out upright", () => {
 });
 
 describe("renderFragment: the master records resolution, depth, profile and rights", () => {
-  const piece: PieceSpec = { cx: 300.5, cy: 200.25, angle: 4, width: 300, height: 180, colour: PIECE };
+  const piece: PieceSpec = {
+    cx: 300.5,
+    cy: 200.25,
+    angle: 4,
+    width: 300,
+    height: 180,
+    colour: PIECE,
+  };
 
   it("embeds the scan's DPI: exifr, sharp and the TIFF fields themselves read 400 pixels per inch", async () => {
     const source = await writeScan("dpi-400.tif", 600, 400, [piece], { dpi: 400 });
@@ -228,7 +252,9 @@ describe("renderFragment: the master records resolution, depth, profile and righ
       targets(),
     );
     expect(r.master.dpi).toBe(400);
-    const parsed = await exifr.parse(r.master.path, { pick: ["XResolution", "YResolution", "ResolutionUnit"] });
+    const parsed = await exifr.parse(r.master.path, {
+      pick: ["XResolution", "YResolution", "ResolutionUnit"],
+    });
     expect(parsed).toEqual({ XResolution: 400, YResolution: 400, ResolutionUnit: "inches" });
     const meta = await sharp(r.master.path).metadata();
     expect(meta.density).toBeCloseTo(400, 2);
@@ -268,7 +294,9 @@ describe("renderFragment: the master records resolution, depth, profile and righ
     const s = await storedPixels(source, 16);
     const centre = ((m.height >> 1) * m.width + (m.width >> 1)) * 3;
     const inScan = (Math.round(piece.cy) * s.width + Math.round(piece.cx)) * 3;
-    expect(Array.from(m.px.slice(centre, centre + 3))).toEqual(Array.from(s.px.slice(inScan, inScan + 3)));
+    expect(Array.from(m.px.slice(centre, centre + 3))).toEqual(
+      Array.from(s.px.slice(inScan, inScan + 3)),
+    );
   });
 
   it("tags an untagged scan sRGB without changing its values, and keeps an 8-bit scan 8-bit", async () => {
@@ -291,11 +319,25 @@ describe("renderFragment: the master records resolution, depth, profile and righ
 
   it("writes title, creator and copyright as TIFF fields, XMP and, in the web copy, EXIF", async () => {
     const source = await writeScan("rights.tif", 600, 400, [piece]);
-    const metadata = { title: "Gull over the pier", creator: "Zoë Lind", copyright: "© 2025 Zoë Lind" };
+    const metadata = {
+      title: "Gull over the pier",
+      creator: "Zoë Lind",
+      copyright: "© 2025 Zoë Lind",
+    };
     // TIFF 6.0 Section 2 and EXIF 2.3 ASCII fields hold 7-bit text; XMP (UTF-8) keeps the exact text.
-    const ascii = { title: "Gull over the pier", creator: "Zoe Lind", copyright: "(C) 2025 Zoe Lind" };
+    const ascii = {
+      title: "Gull over the pier",
+      creator: "Zoe Lind",
+      copyright: "(C) 2025 Zoe Lind",
+    };
     const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels, metadata },
+      {
+        source,
+        geometry: geometryOf(piece, "rectangle"),
+        dpi: { x: 600, y: 600 },
+        maxPixels,
+        metadata,
+      },
       targets(),
     );
     // TIFF 6.0 Section 8: ImageDescription (270), Artist (315), Copyright (33432), ASCII.
@@ -304,8 +346,14 @@ describe("renderFragment: the master records resolution, depth, profile and righ
     expect(asciiField(ifd.get(270))).toBe(ascii.title);
     expect(asciiField(ifd.get(315))).toBe(ascii.creator);
     expect(asciiField(ifd.get(33432))).toBe(ascii.copyright);
-    const tags = await exifr.parse(r.master.path, { pick: ["ImageDescription", "Artist", "Copyright"] });
-    expect(tags).toEqual({ ImageDescription: ascii.title, Artist: ascii.creator, Copyright: ascii.copyright });
+    const tags = await exifr.parse(r.master.path, {
+      pick: ["ImageDescription", "Artist", "Copyright"],
+    });
+    expect(tags).toEqual({
+      ImageDescription: ascii.title,
+      Artist: ascii.creator,
+      Copyright: ascii.copyright,
+    });
     // XMP: Dublin Core title and rights as language alternatives, creator as an ordered list.
     for (const file of [r.master.path, r.web.path]) {
       const xmp = await exifr.parse(file, { xmp: true, tiff: false });
@@ -313,14 +361,27 @@ describe("renderFragment: the master records resolution, depth, profile and righ
       expect(xmp.rights).toMatchObject({ value: metadata.copyright });
       expect(xmp.creator).toBe(metadata.creator);
     }
-    const web = await exifr.parse(r.web.path, { pick: ["ImageDescription", "Artist", "Copyright"] });
-    expect(web).toEqual({ ImageDescription: ascii.title, Artist: ascii.creator, Copyright: ascii.copyright });
+    const web = await exifr.parse(r.web.path, {
+      pick: ["ImageDescription", "Artist", "Copyright"],
+    });
+    expect(web).toEqual({
+      ImageDescription: ascii.title,
+      Artist: ascii.creator,
+      Copyright: ascii.copyright,
+    });
   });
 });
 
 describe("renderFragment: the web copy", () => {
   it("fits a large piece to 2048 px on the long edge as an 8-bit sRGB JPEG without alpha, recording the effective DPI", async () => {
-    const piece: PieceSpec = { cx: 1600, cy: 1100, angle: 0, width: 3000, height: 2000, colour: PIECE };
+    const piece: PieceSpec = {
+      cx: 1600,
+      cy: 1100,
+      angle: 0,
+      width: 3000,
+      height: 2000,
+      colour: PIECE,
+    };
     // Upright and on whole pixels, so one sample per pixel draws it exactly.
     const source = await writeScan("large.tif", 3200, 2200, [piece], { dpi: 600, supersample: 1 });
     const r = await renderFragment(
@@ -330,9 +391,19 @@ describe("renderFragment: the web copy", () => {
     expect([r.master.width, r.master.height]).toEqual([3000, 2000]);
     expect(r.web).toMatchObject({ width: 2048, height: 1365, format: "jpeg", dpi: 409.6 });
     const meta = await sharp(r.web.path).metadata();
-    expect(meta).toMatchObject({ format: "jpeg", width: 2048, height: 1365, channels: 3, hasAlpha: false, depth: "uchar", space: "srgb" });
+    expect(meta).toMatchObject({
+      format: "jpeg",
+      width: 2048,
+      height: 1365,
+      channels: 3,
+      hasAlpha: false,
+      depth: "uchar",
+      space: "srgb",
+    });
     // JPEG carries the density in EXIF (sharp rounds what it reports to whole DPI).
-    const exif = await exifr.parse(r.web.path, { pick: ["XResolution", "YResolution", "ResolutionUnit"] });
+    const exif = await exifr.parse(r.web.path, {
+      pick: ["XResolution", "YResolution", "ResolutionUnit"],
+    });
     expect(exif).toEqual({ XResolution: 409.6, YResolution: 409.6, ResolutionUnit: "inches" });
     expect(meta.density).toBeCloseTo(409.6, -1);
     // The same physical size as the master: 3000 px at 600 DPI = 2048 px at 409.6 DPI = 5 in.
@@ -342,7 +413,14 @@ describe("renderFragment: the web copy", () => {
   });
 
   it("does not enlarge a piece smaller than the long edge, and records the scan's DPI for it", async () => {
-    const piece: PieceSpec = { cx: 300, cy: 200, angle: -6, width: 320, height: 200, colour: PIECE };
+    const piece: PieceSpec = {
+      cx: 300,
+      cy: 200,
+      angle: -6,
+      width: 320,
+      height: 200,
+      colour: PIECE,
+    };
     const source = await writeScan("small.tif", 600, 400, [piece], { dpi: 300 });
     const r = await renderFragment(
       { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 300, y: 300 }, maxPixels },
@@ -352,12 +430,21 @@ describe("renderFragment: the web copy", () => {
     const exif = await exifr.parse(r.web.path, { pick: ["XResolution"] }).catch(() => null);
     const meta = await sharp(r.web.path).metadata();
     expect(meta.format).toBe("webp");
-    expect(exif ?? (await exifr.parse(meta.exif!.subarray(6), { pick: ["XResolution"] }))).toEqual({ XResolution: 300 });
+    expect(exif ?? (await exifr.parse(meta.exif!.subarray(6), { pick: ["XResolution"] }))).toEqual({
+      XResolution: 300,
+    });
   });
 
   it("converts the web copy from the scan's Display P3 profile to sRGB, as the published primaries predict", async () => {
     const p3Colour: RGB = [195, 78, 39];
-    const piece: PieceSpec = { cx: 300, cy: 200, angle: 3, width: 300, height: 200, colour: p3Colour };
+    const piece: PieceSpec = {
+      cx: 300,
+      cy: 200,
+      angle: 3,
+      width: 300,
+      height: 200,
+      colour: p3Colour,
+    };
     const source = await writeScan("p3-colour.tif", 600, 400, [piece], { depth: 16, icc: "p3" });
     const r = await renderFragment(
       { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels },
@@ -387,8 +474,22 @@ function p3ToSrgb(rgb: RGB): RGB {
   const decode = (v: number) => (v <= 0.04045 ? v / 12.92 : ((v + 0.055) / 1.055) ** 2.4);
   const encode = (v: number) => (v <= 0.0031308 ? 12.92 * v : 1.055 * v ** (1 / 2.4) - 0.055);
   const white = { x: 0.3127, y: 0.329 };
-  const p3 = rgbToXyz([[0.68, 0.32], [0.265, 0.69], [0.15, 0.06]], white);
-  const srgb = rgbToXyz([[0.64, 0.33], [0.3, 0.6], [0.15, 0.06]], white);
+  const p3 = rgbToXyz(
+    [
+      [0.68, 0.32],
+      [0.265, 0.69],
+      [0.15, 0.06],
+    ],
+    white,
+  );
+  const srgb = rgbToXyz(
+    [
+      [0.64, 0.33],
+      [0.3, 0.6],
+      [0.15, 0.06],
+    ],
+    white,
+  );
   const lin = rgb.map((v) => decode(v / 255));
   const xyz = mul(p3, lin);
   const out = mul(invert(srgb), xyz);
@@ -402,11 +503,21 @@ function p3ToSrgb(rgb: RGB): RGB {
 function deltaE(a: RGB, b: RGB): number {
   const decode = (v: number) => (v <= 0.04045 ? v / 12.92 : ((v + 0.055) / 1.055) ** 2.4);
   const white = { x: 0.3127, y: 0.329 };
-  const toXyz = rgbToXyz([[0.64, 0.33], [0.3, 0.6], [0.15, 0.06]], white);
+  const toXyz = rgbToXyz(
+    [
+      [0.64, 0.33],
+      [0.3, 0.6],
+      [0.15, 0.06],
+    ],
+    white,
+  );
   const wn = [white.x / white.y, 1, (1 - white.x - white.y) / white.y];
   const f = (t: number) => (t > (6 / 29) ** 3 ? Math.cbrt(t) : t / (3 * (6 / 29) ** 2) + 4 / 29);
   const lab = (c: RGB) => {
-    const [x, y, z] = mul(toXyz, c.map((v) => decode(v / 255))).map((v, k) => f(v / wn[k]!));
+    const [x, y, z] = mul(
+      toXyz,
+      c.map((v) => decode(v / 255)),
+    ).map((v, k) => f(v / wn[k]!));
     return [116 * y! - 16, 500 * (x! - y!), 200 * (y! - z!)];
   };
   const [l1, a1, b1] = lab(a);
@@ -419,7 +530,11 @@ function mul(m: M3, v: number[]): number[] {
   return m.map((row) => row[0]! * v[0]! + row[1]! * v[1]! + row[2]! * v[2]!);
 }
 function invert(m: M3): M3 {
-  const [[a, b, c], [d, e, f], [g, h, i]] = m as [[number, number, number], [number, number, number], [number, number, number]];
+  const [[a, b, c], [d, e, f], [g, h, i]] = m as [
+    [number, number, number],
+    [number, number, number],
+    [number, number, number],
+  ];
   const det = a * (e * i - f * h) - b * (d * i - f * g) + c * (d * h - e * g);
   return [
     [(e * i - f * h) / det, (c * h - b * i) / det, (b * f - c * e) / det],

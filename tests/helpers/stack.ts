@@ -8,7 +8,7 @@ import supertest from "supertest";
 import { createTestDatabase } from "./db";
 
 /** Waits until `check` returns a truthy value, polling; fails with `what` after `timeoutMs`. */
-export async function waitFor<T>(what: string, check: () => Promise<T> | T, timeoutMs = 20_000, everyMs = 100): Promise<NonNullable<T>> {
+export async function waitFor<T>(what: string, check: () => Promise<T> | T, timeoutMs = 40_000, everyMs = 100): Promise<NonNullable<T>> {
   const deadline = Date.now() + timeoutMs;
   let last: unknown;
   for (;;) {

@@ -5,11 +5,12 @@
  * To add a command, write a module exporting a `Command` and list it in COMMANDS.
  */
 import { infoCommand } from "./info";
+import { splitCommand } from "./split";
 import { EXIT_FAILED, EXIT_USAGE, UsageError, oneLine, type CliIo, type Command } from "./command";
 
 export type { CliIo, Command } from "./command";
 
-const COMMANDS: readonly Command[] = [infoCommand];
+const COMMANDS: readonly Command[] = [infoCommand, splitCommand];
 
 function helpText(): string {
   const width = Math.max(...COMMANDS.map((c) => c.usage.length));

@@ -40,7 +40,14 @@ export function colourPlan(meta: Metadata): ColourPlan {
       ? "rgb16"
       : "srgb";
   const hasProfile = Boolean(meta.hasProfile || meta.icc);
-  return { bitDepth, grey, space, keepValues, iccKept: keepValues && hasProfile, flatten: meta.hasAlpha };
+  return {
+    bitDepth,
+    grey,
+    space,
+    keepValues,
+    iccKept: keepValues && hasProfile,
+    flatten: meta.hasAlpha,
+  };
 }
 
 let srgb: Promise<Buffer> | null = null;

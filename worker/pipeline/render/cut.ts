@@ -69,7 +69,12 @@ export async function cutUpright(
   }
   const { crop } = plan;
   const { width, height } = result.info;
-  if (crop.left < 0 || crop.top < 0 || crop.left + crop.width > width || crop.top + crop.height > height) {
+  if (
+    crop.left < 0 ||
+    crop.top < 0 ||
+    crop.left + crop.width > width ||
+    crop.top + crop.height > height
+  ) {
     // The canvas conventions in geometry.ts no longer match the installed libvips.
     throw new Error(
       `Expected the turned region (${width} × ${height} px) to hold the upright crop at ${crop.left}, ${crop.top} (${crop.width} × ${crop.height} px)`,

@@ -29,11 +29,11 @@ export function px(value: number): string {
 
 /** Message factories, one per situation, so the wording lives in one place. */
 export const renderErrors = {
-  /** `detail` names the field and what was wrong with it, e.g. "angle: Expected an angle above -45°". */
-  invalidGeometry: (detail: string) =>
+  /** `field` is the path of the bad value, e.g. "angle" or "box.width"; `problem` the validator's words. */
+  invalidGeometry: (field: string, problem: string) =>
     new RenderError(
       "bad_geometry",
-      `Expected fragment geometry with a box, an angle in (-45°, 45°], a rectangle and an outline of 3–2000 points, but ${detail}.`,
+      `Expected fragment geometry with a box, an angle in (-45°, 45°], a rectangle and an outline of 3–2000 points, but ${field} is wrong (${problem}).`,
     ),
 
   boxOutside: (

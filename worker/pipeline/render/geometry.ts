@@ -92,7 +92,12 @@ export function rectCorners(
 }
 
 /** Axis-aligned bounds of points. */
-export function bounds(points: Point[]): { left: number; top: number; right: number; bottom: number } {
+export function bounds(points: Point[]): {
+  left: number;
+  top: number;
+  right: number;
+  bottom: number;
+} {
   let left = Infinity;
   let top = Infinity;
   let right = -Infinity;
@@ -110,7 +115,11 @@ export function bounds(points: Point[]): { left: number; top: number; right: num
  * Origin of the affine output canvas for a width × height input (see the module comment), or null
  * when a coordinate lands within TIE_EPSILON of a half pixel, where rounding could go either way.
  */
-function canvasOrigin(width: number, height: number, t: Turn): { left: number; top: number } | null {
+function canvasOrigin(
+  width: number,
+  height: number,
+  t: Turn,
+): { left: number; top: number } | null {
   const corners: Point[] = [
     [0, 0],
     [width, 0],
@@ -222,7 +231,10 @@ export type GeometryProblem =
   | { kind: "box_outside" }
   | { kind: "rect_too_small" }
   | { kind: "rect_outside"; corner: Point }
-  | { kind: "box_outside_rect"; rectBox: { left: number; top: number; right: number; bottom: number } };
+  | {
+      kind: "box_outside_rect";
+      rectBox: { left: number; top: number; right: number; bottom: number };
+    };
 
 /**
  * Checks that a (schema-valid) geometry fits a scan of the given size: the box inside the scan,

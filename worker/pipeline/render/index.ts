@@ -5,7 +5,11 @@
  */
 import fs from "node:fs/promises";
 import path from "node:path";
-import { geometrySchema, type FragmentGeometry, type FragmentShape } from "../../../shared/schemas/fragments";
+import {
+  geometrySchema,
+  type FragmentGeometry,
+  type FragmentShape,
+} from "../../../shared/schemas/fragments";
 import { isScanError } from "../errors";
 import { inspectScanFile } from "../inspect";
 import { colourPlan } from "./colour";
@@ -67,7 +71,11 @@ export interface RenderResult {
 
 const WEB_FORMATS: readonly WebFormat[] = ["jpeg", "webp"];
 /** A web path's extension names its format; a path without one of these leaves the choice to webFormat or the shape. */
-const FORMAT_BY_EXTENSION: Record<string, WebFormat | undefined> = { ".jpg": "jpeg", ".jpeg": "jpeg", ".webp": "webp" };
+const FORMAT_BY_EXTENSION: Record<string, WebFormat | undefined> = {
+  ".jpg": "jpeg",
+  ".jpeg": "jpeg",
+  ".webp": "webp",
+};
 
 /**
  * The web copy's format when none is asked for: JPEG for a rectangle (no transparency to keep),
@@ -81,7 +89,10 @@ const MAX_WEB_EDGE = 16383;
 /** Largest relative difference between the x and y DPI treated as the same resolution. */
 const DPI_TOLERANCE = 0.005;
 
-function checkTargets(input: RenderInput, out: RenderTargets): { format: WebFormat; longEdge: number } {
+function checkTargets(
+  input: RenderInput,
+  out: RenderTargets,
+): { format: WebFormat; longEdge: number } {
   for (const [name, value] of [
     ["masterPath", out.masterPath],
     ["webPath", out.webPath],
@@ -89,16 +100,23 @@ function checkTargets(input: RenderInput, out: RenderTargets): { format: WebForm
     if (typeof value !== "string" || value.length === 0) {
       throw renderErrors.badOption(name, "a file path", value);
     }
-    if (path.resolve(value) === path.resolve(input.source)) throw renderErrors.overwritesSource(value);
+    if (path.resolve(value) === path.resolve(input.source))
+      throw renderErrors.overwritesSource(value);
   }
-  if (path.resolve(out.masterPath) === path.resolve(out.webPath)) throw renderErrors.samePaths(out.masterPath);
+  if (path.resolve(out.masterPath) === path.resolve(out.webPath))
+    throw renderErrors.samePaths(out.masterPath);
   const named = FORMAT_BY_EXTENSION[path.extname(out.webPath).toLowerCase()];
   const format = out.webFormat ?? named ?? defaultWebFormat(input.geometry?.shape ?? "rectangle");
-  if (!WEB_FORMATS.includes(format)) throw renderErrors.badOption("webFormat", '"jpeg" or "webp"', format);
+  if (!WEB_FORMATS.includes(format))
+    throw renderErrors.badOption("webFormat", '"jpeg" or "webp"', format);
   if (named && named !== format) throw renderErrors.extensionMismatch(out.webPath, format);
   const longEdge = out.webLongEdge ?? WEB_LONG_EDGE;
   if (!(Number.isInteger(longEdge) && longEdge > 0 && longEdge <= MAX_WEB_EDGE)) {
-    throw renderErrors.badOption("webLongEdge", `an integer from 1 to ${MAX_WEB_EDGE} (pixels)`, longEdge);
+    throw renderErrors.badOption(
+      "webLongEdge",
+      `an integer from 1 to ${MAX_WEB_EDGE} (pixels)`,
+      longEdge,
+    );
   }
   return { format, longEdge };
 }
@@ -116,7 +134,7 @@ function parseGeometry(geometry: unknown): FragmentGeometry {
   if (parsed.success) return parsed.data;
   const issue = parsed.error.issues[0]!;
   const where = issue.path.length > 0 ? issue.path.join(".") : "the geometry";
-  throw renderErrors.invalidGeometry(`${where} was wrong: ${issue.message}`);
+  throw renderErrors.invalidGeometry(where, issue.message);
 }
 
 /**
@@ -132,7 +150,10 @@ function parseGeometry(geometry: unknown): FragmentGeometry {
  *     { masterPath: "out/f1.tif", webPath: "out/f1.jpg" })
  *   → { master: { width: 2400, height: 1800, bitDepth: 16, dpi: 600, … }, web: { width: 2048, height: 1536, dpi: 512, … } }
  */
-export async function renderFragment(input: RenderInput, out: RenderTargets): Promise<RenderResult> {
+export async function renderFragment(
+  input: RenderInput,
+  out: RenderTargets,
+): Promise<RenderResult> {
   const { format, longEdge } = checkTargets(input, out);
   checkDpi(input.dpi);
   const geometry = parseGeometry(input.geometry);
@@ -149,8 +170,10 @@ export async function renderFragment(input: RenderInput, out: RenderTargets): Pr
   if (problem?.kind === "rect_too_small") {
     throw renderErrors.rectTooSmall(geometry.rect.width, geometry.rect.height);
   }
-  if (problem?.kind === "rect_outside") throw renderErrors.rectOutside(problem.corner, width, height);
-  if (problem?.kind === "box_outside_rect") throw renderErrors.boxOutsideRect(geometry.box, problem.rectBox);
+  if (problem?.kind === "rect_outside")
+    throw renderErrors.rectOutside(problem.corner, width, height);
+  if (problem?.kind === "box_outside_rect")
+    throw renderErrors.boxOutsideRect(geometry.box, problem.rectBox);
 
   const plan = planUpright(geometry, width, height);
   const colour = colourPlan(inspected.meta);

@@ -53,7 +53,8 @@ export function rasteriseMask(
     throw new RangeError(`Expected a feather of at least 1 px but received ${opts.featherPx}`);
   }
   const max = opts.depth === 16 ? 65535 : 255;
-  const alpha = opts.depth === 16 ? new Uint16Array(width * height) : new Uint8Array(width * height);
+  const alpha =
+    opts.depth === 16 ? new Uint16Array(width * height) : new Uint8Array(width * height);
   const inside = new Uint8Array(width * height);
   fillInside(polygon, width, height, inside);
   for (let i = 0; i < inside.length; i++) if (inside[i]) alpha[i] = max;

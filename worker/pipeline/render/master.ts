@@ -48,7 +48,9 @@ export async function writeMaster(
   let pipeline = sharp(cut.canvas, { limitInputPixels: false }).extract(cut.crop);
   if (opts.alpha) {
     if (opts.alpha.length !== width * height) {
-      throw new RangeError(`Expected an alpha mask of ${width} × ${height} values but received ${opts.alpha.length}`);
+      throw new RangeError(
+        `Expected an alpha mask of ${width} × ${height} values but received ${opts.alpha.length}`,
+      );
     }
     // sharp reads the sample size from the typed array (Uint16Array → 16-bit); its types say Buffer.
     pipeline = pipeline.joinChannel(opts.alpha as unknown as Buffer, {
@@ -75,5 +77,10 @@ export async function writeMaster(
   }
   if (fields.length > 0) await addTiffFields(staged.temp, fields);
   else await syncStaged(staged);
-  return { width: info.width, height: info.height, channels: info.channels, hasAlpha: opts.alpha !== null };
+  return {
+    width: info.width,
+    height: info.height,
+    channels: info.channels,
+    hasAlpha: opts.alpha !== null,
+  };
 }

@@ -59,7 +59,9 @@ export function xmpPacket(rights: Rights): string | null {
   const parts: string[] = [];
   if (rights.title) parts.push(alt("title", rights.title));
   if (rights.creator) {
-    parts.push(`<dc:creator><rdf:Seq><rdf:li>${escapeXml(rights.creator)}</rdf:li></rdf:Seq></dc:creator>`);
+    parts.push(
+      `<dc:creator><rdf:Seq><rdf:li>${escapeXml(rights.creator)}</rdf:li></rdf:Seq></dc:creator>`,
+    );
   }
   if (rights.copyright) parts.push(alt("rights", rights.copyright));
   if (parts.length === 0) return null;
@@ -93,6 +95,10 @@ const ASCII_SPELLING: Record<string, string> = {
   "…": "...",
 };
 
+/** Printable ASCII (0x20–0x7E), tab, line feed or carriage return. */
+const PRINTABLE_OR_SPACE = (code: number) =>
+  (code >= 0x20 && code <= 0x7e) || code === 9 || code === 10 || code === 13;
+
 /**
  * Text as 7-bit ASCII, which TIFF 6.0 Section 2 requires of ASCII fields (EXIF 2.3 likewise):
  * accents dropped (é → e), a few signs spelled out (© → "(C)"), anything else "?". The exact
@@ -108,7 +114,7 @@ export function asciiSpelling(text: string): string {
     }
     // Canonical decomposition, then drop the combining marks (U+0300–U+036F).
     const plain = ch.normalize("NFD").replace(/[\u0300-\u036f]/g, "");
-    out += /^[\x09\x0a\x0d\x20-\x7e]*$/.test(plain) ? plain : "?";
+    out += [...plain].every((c) => PRINTABLE_OR_SPACE(c.charCodeAt(0))) ? plain : "?";
   }
   return out;
 }
@@ -116,8 +122,10 @@ export function asciiSpelling(text: string): string {
 /** TIFF baseline text fields for the master's IFD0, in ASCII (see asciiSpelling). */
 export function tiffRightsFields(rights: Rights): TiffField[] {
   const fields: TiffField[] = [];
-  if (rights.title) fields.push({ tag: TIFF_TAG.ImageDescription, value: asciiSpelling(rights.title) });
+  if (rights.title)
+    fields.push({ tag: TIFF_TAG.ImageDescription, value: asciiSpelling(rights.title) });
   if (rights.creator) fields.push({ tag: TIFF_TAG.Artist, value: asciiSpelling(rights.creator) });
-  if (rights.copyright) fields.push({ tag: TIFF_TAG.Copyright, value: asciiSpelling(rights.copyright) });
+  if (rights.copyright)
+    fields.push({ tag: TIFF_TAG.Copyright, value: asciiSpelling(rights.copyright) });
   return fields;
 }

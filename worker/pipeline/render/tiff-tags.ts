@@ -50,7 +50,9 @@ export async function addTiffFields(file: string, fields: TiffField[]): Promise<
     const header = await readExactly(fh, 0, 8, file);
     const order = header.toString("latin1", 0, 2);
     if (order !== "II" && order !== "MM") {
-      throw new Error(`Expected a TIFF byte order mark "II" or "MM" in ${file} but found ${JSON.stringify(order)}`);
+      throw new Error(
+        `Expected a TIFF byte order mark "II" or "MM" in ${file} but found ${JSON.stringify(order)}`,
+      );
     }
     const le = order === "II";
     const u16 = (b: Buffer, at: number) => (le ? b.readUInt16LE(at) : b.readUInt16BE(at));
@@ -68,12 +70,19 @@ export async function addTiffFields(file: string, fields: TiffField[]): Promise<
       const at = i * 12;
       const tag = u16(body, at);
       if (replaced.has(tag)) continue;
-      entries.push({ tag, type: u16(body, at + 2), count: u32(body, at + 4), slot: body.subarray(at + 8, at + 12) });
+      entries.push({
+        tag,
+        type: u16(body, at + 2),
+        count: u32(body, at + 4),
+        slot: body.subarray(at + 8, at + 12),
+      });
     }
     const nextIfd = u32(body, count * 12);
 
-    const w16 = (b: Buffer, v: number, at: number) => (le ? b.writeUInt16LE(v, at) : b.writeUInt16BE(v, at));
-    const w32 = (b: Buffer, v: number, at: number) => (le ? b.writeUInt32LE(v, at) : b.writeUInt32BE(v, at));
+    const w16 = (b: Buffer, v: number, at: number) =>
+      le ? b.writeUInt16LE(v, at) : b.writeUInt16BE(v, at);
+    const w32 = (b: Buffer, v: number, at: number) =>
+      le ? b.writeUInt32LE(v, at) : b.writeUInt32BE(v, at);
 
     const size = (await fh.stat()).size;
     let cursor = size + (size % 2); // word boundary
@@ -81,7 +90,10 @@ export async function addTiffFields(file: string, fields: TiffField[]): Promise<
     for (const field of fields) {
       const isText = typeof field.value === "string";
       const data = isText
-        ? Buffer.concat([Buffer.from((field.value as string).replace(/\0/g, ""), "utf8"), Buffer.from([0])])
+        ? Buffer.concat([
+            Buffer.from((field.value as string).replace(/\0/g, ""), "utf8"),
+            Buffer.from([0]),
+          ])
         : (field.value as Buffer);
       const slot = Buffer.alloc(4);
       if (data.length <= 4) {
@@ -131,7 +143,9 @@ async function readExactly(
   const buf = Buffer.alloc(length);
   const { bytesRead } = await fh.read(buf, 0, length, position);
   if (bytesRead !== length) {
-    throw new Error(`Expected ${length} bytes at offset ${position} of ${file} but the file ends after ${bytesRead}`);
+    throw new Error(
+      `Expected ${length} bytes at offset ${position} of ${file} but the file ends after ${bytesRead}`,
+    );
   }
   return buf;
 }

@@ -59,7 +59,12 @@ export async function writeWebCopy(
   // converts 8-bit data through the embedded profile, whereas 16-bit data would take a detour.
   let fit = sharp(cut.canvas, { limitInputPixels: false })
     .extract(cut.crop)
-    .resize({ width: opts.longEdge, height: opts.longEdge, fit: "inside", withoutEnlargement: true });
+    .resize({
+      width: opts.longEdge,
+      height: opts.longEdge,
+      fit: "inside",
+      withoutEnlargement: true,
+    });
   if (colour.keepValues) fit = fit.keepIccProfile();
   const fitted = await fit
     .toColourspace(colour.grey ? "b-w" : "srgb")
@@ -99,7 +104,9 @@ export async function writeWebCopy(
   const xmp = xmpPacket(opts.rights);
   if (xmp) encode = encode.withXmp(xmp);
   const data =
-    opts.format === "jpeg" ? await encode.jpeg(WEB_JPEG).toBuffer() : await encode.webp(WEB_WEBP).toBuffer();
+    opts.format === "jpeg"
+      ? await encode.jpeg(WEB_JPEG).toBuffer()
+      : await encode.webp(WEB_WEBP).toBuffer();
   await writeStaged(staged, data);
   return { width, height, format: opts.format, dpi };
 }

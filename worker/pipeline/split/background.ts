@@ -14,7 +14,7 @@ import { medianInPlace, robustSigma, solveLinear } from "./stats";
  * measured on the final background pixels.
  */
 export interface BackgroundModel {
-  /** The dominant border colour, CIELAB D65. */
+  /** The background at the middle of the bed, CIELAB D65 (the border's dominant colour if no fit). */
   lab: Lab;
   /** The same as 8-bit sRGB. */
   rgb: Rgb;
@@ -52,9 +52,9 @@ export function estimateBackground(
   const ring = borderMode(lab, width, height, Math.max(2, Math.round(RING_MM * pxPerMm)));
   const bg0 = ring.lab;
 
-  // A grid of samples keeps the fitting to about 60 000 pixels at any size (every 2nd pixel of a
-  // letter-size copy at 100 DPI: still 2 samples per millimetre across a lid shadow).
-  const g = Math.max(1, Math.round(Math.sqrt((width * height) / 60_000)));
+  // A grid of samples keeps the fitting to about 40 000 pixels at any size (every 5th pixel of a
+  // letter-size copy at 100 DPI: still 8 samples across the 5 mm a lid shadow fades over).
+  const g = Math.max(1, Math.round(Math.sqrt((width * height) / 40_000)));
   const off = g >> 1;
   const nx = Math.max(1, Math.ceil((width - off) / g));
   const ny = Math.max(1, Math.ceil((height - off) / g));
@@ -73,7 +73,13 @@ export function estimateBackground(
       const Xv = (2 * (x + 0.5)) / width - 1;
       const k = ry * nx + cx;
       for (let c = 0; c < 3; c++) S[c]![k] = planes[c]![y * width + x]!;
-      phi.set([1, Xv, Yv, Xv * Xv, Xv * Yv, Yv * Yv], k * 6);
+      const o = k * 6;
+      phi[o] = 1;
+      phi[o + 1] = Xv;
+      phi[o + 2] = Yv;
+      phi[o + 3] = Xv * Xv;
+      phi[o + 4] = Xv * Yv;
+      phi[o + 5] = Yv * Yv;
       sampleRow[k] = ry;
       sampleCol[k] = cx;
     }
@@ -101,11 +107,17 @@ export function estimateBackground(
     let count = 0;
     const tolA = Math.max(4 * sigma[1]!, 1.5);
     const tolB = Math.max(4 * sigma[2]!, 1.5);
+    const [SL, SA, SB] = S as [Float32Array, Float32Array, Float32Array];
+    const [PL, PA, PB] = P as [Float32Array, Float32Array, Float32Array];
+    const [rL, rA, rB] = rowP as [Float32Array, Float32Array, Float32Array];
+    const [cL, cA, cB] = colP as [Float32Array, Float32Array, Float32Array];
     for (let k = 0; k < ns; k++) {
+      const ry = sampleRow[k]!;
+      const cx = sampleCol[k]!;
       const inside =
-        Math.abs(residualAt(0, k)) <= tolL &&
-        Math.abs(residualAt(1, k)) <= tolA &&
-        Math.abs(residualAt(2, k)) <= tolB;
+        Math.abs(SL[k]! - PL[k]! - rL[ry]! - cL[cx]!) <= tolL &&
+        Math.abs(SA[k]! - PA[k]! - rA[ry]! - cA[cx]!) <= tolA &&
+        Math.abs(SB[k]! - PB[k]! - rB[ry]! - cB[cx]!) <= tolB;
       cand[k] = inside ? 1 : 0;
       if (inside) count++;
     }
@@ -129,8 +141,10 @@ export function estimateBackground(
     }
     // 4. noise of the background samples about the model; tighter tolerance for the next round
     for (let c = 0; c < 3; c++) {
+      // every background sample up to 10 000 of them, evenly spread
+      const stride = Math.max(1, Math.floor(count / 10_000));
       let n = 0;
-      for (let k = 0; k < ns; k++) if (cand[k]) scratch[n++] = residualAt(c, k);
+      for (let k = 0, seen = 0; k < ns; k++) if (cand[k] && seen++ % stride === 0) scratch[n++] = residualAt(c, k);
       sigma[c] = Math.max(robustSigma(scratch, n), 0.05);
     }
     tolL = Math.max(4 * sigma[0]!, 1.5);
@@ -168,11 +182,13 @@ export function estimateBackground(
     }
   }
 
+  // the colour reported is the fitted surface at the middle of the bed, not one edge's
+  const centre: Lab = bgCount > 0 ? [poly[0]![0]!, poly[1]![0]!, poly[2]![0]!] : bg0;
   return {
     model: {
-      lab: bg0,
-      rgb: labToSrgb8(bg0),
-      kind: bg0[0] >= 50 ? "light" : "dark",
+      lab: centre,
+      rgb: labToSrgb8(centre),
+      kind: centre[0] >= 50 ? "light" : "dark",
       noise: { L: sigma[0]!, a: sigma[1]!, b: sigma[2]! },
       borderAgreement: ring.agreement,
       coverage: bgCount / ns,
@@ -189,17 +205,18 @@ function borderMode(
   height: number,
   ringPx: number,
 ): { lab: Lab; agreement: number } {
-  const list: number[] = [];
-  const inner = Math.min(ringPx + 1, Math.floor(Math.min(width, height) / 2));
+  const inner = Math.max(1, Math.min(ringPx + 1, Math.floor(Math.min(width, height) / 2)));
   const start = Math.min(1, inner - 1);
-  for (let y = 0; y < height; y++) {
-    const edgeRow = y >= start && (y < inner || y >= height - inner) && y < height - start;
+  const list = new Int32Array(2 * inner * (width + height) + 4);
+  let count = 0;
+  for (let y = start; y < height - start; y++) {
+    const edgeRow = y < inner || y >= height - inner;
     for (let x = start; x < width - start; x++) {
-      if (edgeRow || (y >= start && y < height - start && (x < inner || x >= width - inner))) list.push(y * width + x);
+      if (edgeRow || x < inner || x >= width - inner) list[count++] = y * width + x;
+      else if (x === inner) x = width - inner - 1; // skip the middle of the row
     }
   }
-  if (list.length === 0) list.push(0);
-  const idx = Int32Array.from(list);
+  const idx = count > 0 ? list.subarray(0, count) : Int32Array.of(0);
   // mode of L* in half-unit bins, smoothed
   const bins = new Float64Array(202);
   for (const i of idx) bins[Math.max(0, Math.min(201, Math.round(lab.L[i]! * 2)))]!++;

@@ -112,9 +112,9 @@ function smooth(src: Float32Array, width: number, height: number): Float32Array 
   return out;
 }
 
-/** Up to 200 000 evenly spread indices of pixels below `level` (the quiet background). */
+/** Up to 20 000 evenly spread indices of pixels below `level` (the quiet background). */
 function sampleQuiet(diff: Float32Array, level: number): Int32Array {
-  const step = Math.max(1, Math.floor(diff.length / 200_000));
+  const step = Math.max(1, Math.floor(diff.length / 20_000));
   const idx = new Int32Array(Math.ceil(diff.length / step));
   let n = 0;
   for (let i = 0; i < diff.length; i += step) if (diff[i]! < level) idx[n++] = i;
