@@ -23,6 +23,7 @@ import { intakesRouter } from "./routes/intakes";
 import { studioRouter } from "./routes/studio";
 import { eventsRouter } from "./routes/events";
 import { fragmentsRouter } from "./routes/fragments";
+import { recipesRouter } from "./routes/recipes";
 
 export interface AppDeps {
   config: Config;
@@ -93,6 +94,7 @@ export function createApp(deps: AppDeps): express.Express {
   api.use(intakesRouter(deps));
   api.use(scansRouter(deps));
   api.use(fragmentsRouter(deps));
+  api.use(recipesRouter(deps));
   api.use(usersRouter(deps));
   api.use((req, _res, next) => next(new AppError(404, "not_found", `There is no API route ${req.method} ${req.originalUrl}.`)));
   app.use("/api", api);

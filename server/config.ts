@@ -39,6 +39,8 @@ const envSchema = z.object({
   PLATEN_INBOX_STABLE_MS: int(50, 600_000).default(2000),
   PLATEN_INBOX_POLL_MS: int(10, 60_000).default(250),
   PLATEN_LOGIN_LIMIT: int(1, 10_000).default(10),
+  /** bcrypt work factor; tests lower it to stay quick. */
+  PLATEN_BCRYPT_COST: int(4, 15).default(12),
   PLATEN_LOGIN_WINDOW_MINUTES: int(1, 1440).default(15),
   /** Test hook: hold each analyse job this long before it finishes (used by the kill-a-worker test). */
   PLATEN_TEST_ANALYSE_DELAY_MS: int(0, 600_000).default(0),
@@ -82,6 +84,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
     inboxStableMs: e.PLATEN_INBOX_STABLE_MS,
     inboxPollMs: e.PLATEN_INBOX_POLL_MS,
     loginLimit: e.PLATEN_LOGIN_LIMIT,
+    bcryptCost: e.PLATEN_BCRYPT_COST,
     loginWindowMs: e.PLATEN_LOGIN_WINDOW_MINUTES * 60_000,
     testAnalyseDelayMs: e.PLATEN_TEST_ANALYSE_DELAY_MS,
   };

@@ -3,6 +3,7 @@ import type { Access } from "./roles";
 import { loginBody } from "./schemas/auth";
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
 import { createIntakeBody, scanListQuery } from "./schemas/scans";
+import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
 import {
   drawFragmentBody,
   fragmentListQuery,
@@ -167,6 +168,35 @@ export const API = {
     mutates: false,
     params: fragmentOutputParams,
   }),
+
+  recipesList: route({ method: "GET", path: "/api/recipes", access: "operator", mutates: false }),
+  recipesGet: route({ method: "GET", path: "/api/recipes/:id", access: "operator", mutates: false, params: idParams }),
+  recipesCreate: route({ method: "POST", path: "/api/recipes", access: "operator", mutates: true, body: createRecipeBody }),
+  recipesUpdate: route({
+    method: "PATCH",
+    path: "/api/recipes/:id",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+    body: updateRecipeBody,
+  }),
+  recipesApply: route({
+    method: "POST",
+    path: "/api/recipes/:id/apply",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+    body: applyRecipeBody,
+  }),
+  recipesPreview: route({
+    method: "POST",
+    path: "/api/recipes/preview",
+    access: "operator",
+    // Renders a picture; changes nothing.
+    mutates: false,
+    body: previewRecipeBody,
+  }),
+  batchesGet: route({ method: "GET", path: "/api/batches/:id", access: "viewer", mutates: false, params: idParams }),
 
   usersList: route({ method: "GET", path: "/api/users", access: "admin", mutates: false }),
   usersCreate: route({ method: "POST", path: "/api/users", access: "admin", mutates: true, body: createUserBody }),

@@ -5,7 +5,7 @@ import { ROLES, hasRole, type Role } from "../shared/roles";
 import { apiErrorSchema } from "../shared/errors";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { paperScan } from "./helpers/fixtures";
-import { fragments, intakes, scans } from "../server/db/schema";
+import { fragments, intakes, recipes, scans } from "../server/db/schema";
 import { eq } from "drizzle-orm";
 
 let stack: Stack;
@@ -13,6 +13,7 @@ let agents: Record<Role, supertest.Agent>;
 let failedScanId: string;
 let viewerId: string;
 let fragmentIds: string[];
+let recipeId: string;
 let png: Buffer;
 
 beforeAll(async () => {
@@ -49,6 +50,8 @@ beforeAll(async () => {
     .values([1, 2, 3].map((i) => ({ scanId: failedScanId, position: i, ...piece(i * 100), areaPx: 2000, proposal: piece(i * 100) })))
     .returning();
   fragmentIds = made.map((f) => f.id);
+  const [builtIn] = await stack.db.select().from(recipes).limit(1);
+  recipeId = builtIn!.id;
   const me = await agents.viewer.get("/api/auth/me");
   viewerId = me.body.user.id;
   png = await paperScan({ format: "png", width: 300, height: 200 });
@@ -63,7 +66,7 @@ function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supert
   const spec: RouteSpec = API[name];
   const onFragment = name.startsWith("fragments") && name !== "fragmentsDraw" && name !== "fragmentsApproveRemaining";
   const params: Record<string, string> = {
-    id: name.startsWith("users") ? viewerId : onFragment ? fragmentIds[0]! : failedScanId,
+    id: name.startsWith("users") ? viewerId : name.startsWith("recipes") ? recipeId : onFragment ? fragmentIds[0]! : failedScanId,
     kind: "master",
   };
   const url = apiPath(spec, spec.path.includes(":") ? params : {});
@@ -84,6 +87,12 @@ function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supert
       return req.send({ ids: fragmentIds.slice(1) });
     case "fragmentsDraw":
       return req.send({ rect: { cx: 50, cy: 50, width: 20, height: 20 }, angle: 0 });
+    case "recipesCreate":
+      return req.send({ name: `Recipe ${++counter}`, steps: [] });
+    case "recipesUpdate":
+      return req.send({ description: `Described ${++counter}` });
+    case "recipesApply":
+      return req.send({ fragmentIds: [fragmentIds[0]] });
     case "scansResplit":
       return req.send({ sensitivity: 0.5 });
     case "scansUpload":

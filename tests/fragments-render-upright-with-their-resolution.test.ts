@@ -10,6 +10,7 @@ import path from "node:path";
 import sharp from "sharp";
 import { afterAll, describe, expect, it } from "vitest";
 import { renderFragment } from "../worker/pipeline/render";
+import { planUpright } from "../worker/pipeline/render/geometry";
 import {
   asciiField,
   drawScan,
@@ -182,6 +183,71 @@ describe("renderFragment: rectangles come out upright", () => {
     });
   }
 
+  it("reads the geometry in the scan's upright frame when EXIF orientation turns it (orientation 6)", async () => {
+    // The split sees the scan as displayed, after EXIF orientation (CIPA DC-008 (EXIF 2.3)
+    // Orientation 6: the stored rows must be turned 90° clockwise to display).
+    const piece: PieceSpec = {
+      cx: 250.5,
+      cy: 350.5,
+      angle: 9,
+      width: 260,
+      height: 180,
+      colour: PIECE,
+      marker: { left: 12, top: 12, size: 8, colour: MARKER },
+    };
+    const shown = drawScan(500, 700, BACKGROUND, [piece]);
+    const source = path.join(tmp.dir, "turned.jpg");
+    await sharp(shown, { raw: { width: 500, height: 700, channels: 3 } })
+      .rotate(-90)
+      .withMetadata({ orientation: 6 })
+      .jpeg({ quality: 95 })
+      .toFile(source);
+    expect(await sharp(source).metadata()).toMatchObject({
+      width: 700,
+      height: 500,
+      orientation: 6,
+    });
+    const r = await renderFragment(
+      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 300, y: 300 }, maxPixels },
+      targets(),
+    );
+    expect([r.master.width, r.master.height]).toEqual([260, 180]);
+    const m = await storedPixels(r.master.path, 8);
+    let sx = 0;
+    let sy = 0;
+    let sw = 0;
+    for (let j = 3; j < m.height - 3; j++) {
+      for (let i = 3; i < m.width - 3; i++) {
+        // JPEG noise is everywhere, the marker in one place: count only pixels nearer the marker.
+        const w = pieceness(m.px, (j * m.width + i) * 3, PIECE, MARKER) > 0.5 ? 1 : 0;
+        sx += w * (i + 0.5);
+        sy += w * (j + 0.5);
+        sw += w;
+      }
+    }
+    expect(Math.abs(sx / sw - 16)).toBeLessThan(1);
+    expect(Math.abs(sy / sw - 16)).toBeLessThan(1);
+  });
+
+  it("renders a piece cut off by the edge of the bed, the sliver beyond the scan in white", async () => {
+    // The rectangle reaches 3 px past the right edge of the 600 px scan (allowed: 2 px + 1 %).
+    const piece: PieceSpec = { cx: 533, cy: 200, angle: 0, width: 140, height: 100, colour: PIECE };
+    const source = await writeScan("edge.tif", 600, 400, [piece]);
+    const g = geometryOf(piece, "rectangle");
+    const geometry = { ...g, box: { ...g.box, width: 600 - g.box.x } };
+    const r = await renderFragment(
+      { source, geometry, dpi: { x: 600, y: 600 }, maxPixels },
+      targets(),
+    );
+    expect([r.master.width, r.master.height]).toEqual([140, 100]);
+    const m = await storedPixels(r.master.path, 8);
+    const at = (i: number) =>
+      Array.from(m.px.slice((50 * m.width + i) * 3, (50 * m.width + i) * 3 + 3));
+    expect(at(130)).toEqual(PIECE);
+    expect(at(139)).toEqual([255, 255, 255]);
+    expect(at(138)).toEqual([255, 255, 255]);
+  });
+
   it("samples every output pixel at the exact source point: a 16-bit coordinate ramp reads back its own coordinates", async () => {
     // Red = 60 × column, green = 60 × row: interpolation reproduces a linear ramp exactly, so each
     // output pixel's value says which source point it was taken from.
@@ -202,10 +268,22 @@ describe("renderFragment: rectangles come out upright", () => {
       .tiff({ compression: "lzw" })
       .toFile(source);
 
-    for (const angle of [-12, 7.5, 0, 44.9, -3.3]) {
+    // At ±30° around a half-pixel centre the rotated canvas's corner lands exactly on a half
+    // pixel, where its rounding could go either way: the plan steers clear of it (nudged angle).
+    const tie = { rect: { cx: 500.5, cy: 400.5, width: 301.6, height: 199.3 }, angle: 30 };
+    expect(planUpright(tie, width, height).angle).not.toBe(30);
+    for (const [angle, cx, cy] of [
+      [-12, 500.37, 401.81],
+      [7.5, 500.37, 401.81],
+      [0, 500.37, 401.81],
+      [44.9, 500.37, 401.81],
+      [-3.3, 500.37, 401.81],
+      [30, 500.5, 400.5],
+      [-30, 500.5, 400.5],
+    ] as const) {
       const piece: PieceSpec = {
-        cx: 500.37,
-        cy: 401.81,
+        cx,
+        cy,
         angle,
         width: 301.6,
         height: 199.3,
@@ -315,6 +393,33 @@ describe("renderFragment: the master records resolution, depth, profile and righ
     const m = await storedPixels(r.master.path, 8);
     const centre = ((m.height >> 1) * m.width + (m.width >> 1)) * 3;
     expect(Array.from(m.px.slice(centre, centre + 3))).toEqual(PIECE);
+  });
+
+  it("keeps a 16-bit greyscale scan greyscale and 16-bit, and gives it an sRGB web copy", async () => {
+    const grey = new Uint16Array(600 * 400).fill(52000);
+    const source = path.join(tmp.dir, "grey16.tif");
+    await sharp(grey, { raw: { width: 600, height: 400, channels: 1 } })
+      .toColourspace("grey16")
+      .tiff({ compression: "lzw" })
+      .toFile(source);
+    expect(await sharp(source).metadata()).toMatchObject({ space: "grey16", depth: "ushort" });
+    const r = await renderFragment(
+      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels },
+      targets(),
+    );
+    expect(r.master).toMatchObject({ bitDepth: 16, channels: 1, hasAlpha: false });
+    expect(await sharp(r.master.path).metadata()).toMatchObject({
+      space: "grey16",
+      depth: "ushort",
+      channels: 1,
+    });
+    // TIFF 6.0 Section 4: PhotometricInterpretation 1 = BlackIsZero (greyscale).
+    expect(readIfd0(fs.readFileSync(r.master.path)).get(262)!.values).toEqual([1]);
+    expect(await sharp(r.web.path).metadata()).toMatchObject({
+      space: "srgb",
+      channels: 3,
+      depth: "uchar",
+    });
   });
 
   it("writes title, creator and copyright as TIFF fields, XMP and, in the web copy, EXIF", async () => {

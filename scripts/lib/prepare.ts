@@ -3,6 +3,7 @@ import type { Config } from "../../server/config";
 import { ensureDatabaseExists, migrateDatabase, openDatabase } from "../../server/db";
 import { ensureFirstAdmin, ensureStudio, type FirstAdmin } from "../../server/services/bootstrap";
 import { startIntake } from "../../server/services/intakes";
+import { ensureBuiltInRecipes } from "../../server/services/recipes";
 import { startBoss } from "../../server/jobs/boss";
 import { logger } from "../../server/logger";
 import { startCluster } from "./pg-cluster";
@@ -27,6 +28,7 @@ export async function prepare(cfg: Config, opts: { cluster: boolean }): Promise<
     const boss = await startBoss({ url: cfg.databaseUrl, log: logger, supervise: false });
     await boss.stop({ graceful: false, wait: true });
     const admin = await ensureFirstAdmin(database.db, cfg);
+    await ensureBuiltInRecipes(database.db);
     const fresh = await ensureStudio(database.db, cfg, cfg.demo ? DEMO_STUDIO_NAME : "My studio", cfg.demo);
     let demoFiles: string[] = [];
     if (fresh && cfg.demo) {

@@ -39,6 +39,8 @@ export const studio = pgTable("studio", {
   id: integer("id").primaryKey().default(1),
   name: text("name").notNull(),
   defaultDpi: integer("default_dpi").notNull().default(300),
+  /** The studio's default recipe; null means the built-in one. */
+  defaultRecipeId: uuid("default_recipe_id"),
   demo: boolean("demo").notNull().default(false),
   ...timestamps,
 });
@@ -63,6 +65,7 @@ export const intakes = pgTable("intakes", {
   id: uuid("id").primaryKey().defaultRandom(),
   name: text("name").notNull(),
   closedAt: timestamp("closed_at", { withTimezone: true }),
+  recipeId: uuid("recipe_id"),
   ...timestamps,
 });
 
@@ -101,6 +104,7 @@ export const scans = pgTable(
     resolutionOrigin: text("resolution_origin"),
     previewKey: text("preview_key"),
     thumbKey: text("thumb_key"),
+    recipeId: uuid("recipe_id"),
     /** The split's view of the bed: background colour and kind, threshold, sensitivity used. */
     splitBackground: jsonb("split_background").$type<{ rgb: [number, number, number]; kind: "light" | "dark" }>(),
     splitSensitivity: real("split_sensitivity"),
@@ -169,6 +173,7 @@ export const fragments = pgTable(
     proposal: jsonb("proposal").$type<FragmentGeometry>(),
     /** Fragments folded into this one by a merge (they are kept, marked merged_into). */
     mergedInto: uuid("merged_into"),
+    recipeId: uuid("recipe_id"),
     title: text("title"),
     tags: text("tags").array().notNull().default(sql`'{}'::text[]`),
     notes: text("notes"),
@@ -202,7 +207,71 @@ export const outputs = pgTable(
     bytes: bigint("bytes", { mode: "number" }).notNull(),
     /** The fragment revision this file was made from. */
     revision: integer("revision").notNull(),
+    /** The recipe version that coloured it. */
+    recipeVersionId: uuid("recipe_version_id"),
     ...timestamps,
   },
   (t) => [uniqueIndex("outputs_fragment_kind_key").on(t.fragmentId, t.kind)],
+);
+
+/** A saved colour recipe; its steps live in versions, the newest being the one in use. */
+export const recipes = pgTable(
+  "recipes",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    name: text("name").notNull(),
+    description: text("description"),
+    /** The recipe that ships with Platen: editable (new versions), never deleted. */
+    builtIn: boolean("built_in").notNull().default(false),
+    archivedAt: timestamp("archived_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (t) => [uniqueIndex("recipes_name_key").on(sql`lower(${t.name})`)],
+);
+
+/** One saved state of a recipe. Outputs point at the version that made them. */
+export const recipeVersions = pgTable(
+  "recipe_versions",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    recipeId: uuid("recipe_id")
+      .notNull()
+      .references(() => recipes.id),
+    version: integer("version").notNull(),
+    steps: jsonb("steps").$type<unknown[]>().notNull(),
+    createdBy: uuid("created_by").references(() => users.id),
+    createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [uniqueIndex("recipe_versions_recipe_version_key").on(t.recipeId, t.version)],
+);
+
+export const batchItemStateEnum = pgEnum("batch_item_state", ["queued", "running", "done", "failed", "cancelled"]);
+
+/** A set of renders run together (fragments × what to make), with progress. */
+export const batches = pgTable("batches", {
+  id: uuid("id").primaryKey().defaultRandom(),
+  name: text("name").notNull(),
+  /** Why it ran: a recipe applied, or (later) presets. */
+  kind: text("kind").$type<"recipe">().notNull(),
+  recipeVersionId: uuid("recipe_version_id"),
+  createdBy: uuid("created_by").references(() => users.id),
+  finishedAt: timestamp("finished_at", { withTimezone: true }),
+  ...timestamps,
+});
+
+export const batchItems = pgTable(
+  "batch_items",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    batchId: uuid("batch_id")
+      .notNull()
+      .references(() => batches.id, { onDelete: "cascade" }),
+    fragmentId: uuid("fragment_id")
+      .notNull()
+      .references(() => fragments.id, { onDelete: "cascade" }),
+    state: batchItemStateEnum("state").notNull().default("queued"),
+    error: text("error"),
+    ...timestamps,
+  },
+  (t) => [index("batch_items_batch_idx").on(t.batchId), index("batch_items_fragment_idx").on(t.fragmentId)],
 );

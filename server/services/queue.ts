@@ -6,11 +6,12 @@ import type { QueueSummary } from "../../shared/schemas/queue";
 import { countByStatus } from "./scans";
 import { HEARTBEAT_STALE_MS } from "./processes";
 import { proposedCounts } from "./fragments";
+import { recentBatches } from "./batches";
 
 /** Everything the queue screen shows, in one read. */
 export async function queueSummary(db: Db): Promise<QueueSummary> {
   const fresh = sql`now() - ${`${HEARTBEAT_STALE_MS} milliseconds`}::interval`;
-  const [counted, running, waiting, failures, watchers, workers, review] = await Promise.all([
+  const [counted, running, waiting, failures, watchers, workers, review, batches] = await Promise.all([
     countByStatus(db),
     db
       .select({ scanId: scans.id, originalName: scans.originalName, stage: scans.stage, progress: scans.progress, startedAt: scans.startedAt })
@@ -33,6 +34,7 @@ export async function queueSummary(db: Db): Promise<QueueSummary> {
     db.select().from(processes).where(eq(processes.kind, "watcher")).orderBy(desc(processes.heartbeatAt)).limit(1),
     db.select({ id: processes.id }).from(processes).where(and(eq(processes.kind, "worker"), gt(processes.heartbeatAt, fresh))),
     proposedCounts(db),
+    recentBatches(db),
   ]);
   const awaiting = [...review.entries()].filter(([, c]) => c.proposed > 0);
   const names = awaiting.length
@@ -54,6 +56,7 @@ export async function queueSummary(db: Db): Promise<QueueSummary> {
       heartbeatAt: w?.heartbeatAt.toISOString() ?? null,
     },
     workers: { online: workers.length },
+    batches,
     review: {
       proposed: awaiting.reduce((n, [, c]) => n + c.proposed, 0),
       scans: names

@@ -2,6 +2,7 @@ import crypto from "node:crypto";
 import bcrypt from "bcryptjs";
 import { asc, eq } from "drizzle-orm";
 import type { Db } from "../db";
+import { config } from "../config";
 import { users } from "../db/schema";
 import type { Role } from "../../shared/roles";
 import { conflict, forbidden, notFound } from "../errors";
@@ -9,9 +10,9 @@ import type { UpdateUserBody } from "../../shared/schemas/users";
 
 export type UserRow = typeof users.$inferSelect;
 
-const BCRYPT_COST = 12;
 /** A real hash to compare against when the e-mail is unknown, so timing does not reveal it. */
-const DUMMY_HASH = bcrypt.hashSync(crypto.randomBytes(16).toString("hex"), BCRYPT_COST);
+let dummyHash: string | undefined;
+const dummy = () => (dummyHash ??= bcrypt.hashSync(crypto.randomBytes(16).toString("hex"), config().bcryptCost));
 
 export async function listUsers(db: Db): Promise<UserRow[]> {
   return db.select().from(users).orderBy(asc(users.createdAt));
@@ -29,7 +30,7 @@ export async function createUser(
   const email = input.email.trim().toLowerCase();
   const [existing] = await db.select({ id: users.id }).from(users).where(eq(users.email, email));
   if (existing) throw conflict(`A user with the e-mail ${email} already exists.`, "email");
-  const passwordHash = await bcrypt.hash(input.password, BCRYPT_COST);
+  const passwordHash = await bcrypt.hash(input.password, config().bcryptCost);
   const [row] = await db
     .insert(users)
     .values({ email, name: input.name.trim(), role: input.role, passwordHash })
@@ -65,7 +66,7 @@ export type Verification = { ok: true; user: UserRow } | { ok: false; reason: "w
 /** Checks an e-mail and password; always spends one bcrypt comparison. */
 export async function verifyPassword(db: Db, email: string, password: string): Promise<Verification> {
   const [row] = await db.select().from(users).where(eq(users.email, email.trim().toLowerCase()));
-  const ok = await bcrypt.compare(password, row?.passwordHash ?? DUMMY_HASH);
+  const ok = await bcrypt.compare(password, row?.passwordHash ?? dummy());
   if (!row || !ok) return { ok: false, reason: "wrong" };
   if (row.disabledAt) return { ok: false, reason: "disabled" };
   await db.update(users).set({ lastSignInAt: new Date() }).where(eq(users.id, row.id));

@@ -9,5 +9,10 @@ export const splitPayload = z.object({ scanId: z.uuid(), sensitivity: z.number()
 export type SplitPayload = z.infer<typeof splitPayload>;
 
 /** Payload of the render job: make the master and web copy of one fragment at a revision. */
-export const renderPayload = z.object({ fragmentId: z.uuid(), revision: z.number().int().positive() });
+export const renderPayload = z.object({
+  fragmentId: z.uuid(),
+  revision: z.number().int().positive(),
+  /** Set when the render belongs to a batch, whose progress it reports. */
+  batchItemId: z.uuid().optional(),
+});
 export type RenderPayload = z.infer<typeof renderPayload>;

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { SCAN_STATUSES } from "./scans";
+import { batchSchema } from "./recipe-api";
 
 export const queueSummarySchema = z.object({
   counts: z.record(z.enum(SCAN_STATUSES), z.number()),
@@ -30,6 +31,8 @@ export const queueSummarySchema = z.object({
     heartbeatAt: z.string().nullable(),
   }),
   workers: z.object({ online: z.number() }),
+  /** Batches running now or finished in the last hour. */
+  batches: z.array(batchSchema),
   /** Fragments awaiting review, and the scans they are on (newest first). */
   review: z.object({
     proposed: z.number(),

@@ -2,6 +2,7 @@ import { createContext, useContext, useEffect, useState, type ReactNode } from "
 import { useQueryClient } from "@tanstack/react-query";
 import { API } from "../../shared/api";
 import { liveEventSchema } from "../../shared/schemas/queue";
+import { fragmentKeys } from "../features/fragments/api/keys";
 import { queueKeys } from "../features/queue/api/get-queue";
 import { scanKeys } from "../features/scans/api/keys";
 import { throttle } from "../lib/throttle";
@@ -14,7 +15,7 @@ const LiveContext = createContext<LiveState>("connecting");
 const REFRESH_EVERY_MS = 250;
 
 /**
- * Keeps the queue and scan lists current: every `change` event from /api/events refreshes them.
+ * Keeps the queue, scans and fragments current: every `change` event from /api/events refreshes them.
  * EventSource reconnects by itself; while it is away the queue's 5 s poll carries on.
  */
 export function LiveEventsProvider({ children }: { children: ReactNode }) {
@@ -25,6 +26,8 @@ export function LiveEventsProvider({ children }: { children: ReactNode }) {
     const refresh = throttle(() => {
       void queryClient.invalidateQueries({ queryKey: queueKeys.all });
       void queryClient.invalidateQueries({ queryKey: scanKeys.all });
+      // Renders finishing, another reviewer's decisions, a new split.
+      void queryClient.invalidateQueries({ queryKey: fragmentKeys.all });
     }, REFRESH_EVERY_MS);
 
     let source: EventSource | null = null;

@@ -1,12 +1,16 @@
-import { createBrowserRouter, Navigate } from "react-router-dom";
+import { createBrowserRouter } from "react-router-dom";
 import { paths } from "../config/paths";
 import { ProtectedLayout } from "./layout/protected-layout";
+import { FragmentRoute } from "./routes/fragment";
+import { HomeRoute } from "./routes/home";
 import { NotFoundRoute } from "./routes/not-found";
 import { QueueRoute } from "./routes/queue";
 import { ScanRoute } from "./routes/scan";
+import { ScanReviewRoute } from "./routes/scan-review";
 import { ScansRoute } from "./routes/scans";
 import { SignInRoute } from "./routes/sign-in";
 import { UsersRoute } from "./routes/users";
+import { WorkRoute } from "./routes/work";
 
 export function createRouter() {
   return createBrowserRouter([
@@ -14,10 +18,13 @@ export function createRouter() {
     {
       element: <ProtectedLayout />,
       children: [
-        { index: true, element: <Navigate to={paths.queue} replace /> },
+        { index: true, element: <HomeRoute /> },
         { path: paths.queue, element: <QueueRoute /> },
         { path: paths.scans, element: <ScansRoute /> },
         { path: "/scans/:id", element: <ScanRoute /> },
+        { path: "/scans/:id/review", element: <ScanReviewRoute /> },
+        { path: "/fragments/:id", element: <FragmentRoute /> },
+        { path: paths.work, element: <WorkRoute /> },
         { path: paths.users, element: <UsersRoute /> },
         { path: "*", element: <NotFoundRoute /> },
       ],

@@ -12,6 +12,7 @@ export function ConfirmDialog({
   confirmLabel,
   tone = "danger",
   busy = false,
+  initialFocus = "cancel",
   onConfirm,
   onCancel,
 }: {
@@ -21,16 +22,27 @@ export function ConfirmDialog({
   confirmLabel: string;
   tone?: "danger" | "primary";
   busy?: boolean;
+  /**
+   * Which button Enter presses at first. Cancel by default; "confirm" only for actions that can be
+   * undone, where the dialog is a pause rather than a safety catch.
+   */
+  initialFocus?: "cancel" | "confirm";
   onConfirm: () => void;
   onCancel: () => void;
 }) {
   const ref = useRef<HTMLDialogElement>(null);
+  const cancelRef = useRef<HTMLButtonElement>(null);
+  const confirmRef = useRef<HTMLButtonElement>(null);
   useEffect(() => {
     const dialog = ref.current;
     if (!dialog) return;
-    if (open && !dialog.open) dialog.showModal();
+    if (open && !dialog.open) {
+      dialog.showModal();
+      // showModal focuses the first button; move to the one asked for.
+      (initialFocus === "confirm" ? confirmRef : cancelRef).current?.focus();
+    }
     if (!open && dialog.open) dialog.close();
-  }, [open]);
+  }, [open, initialFocus]);
   return (
     <dialog
       ref={ref}
@@ -48,10 +60,10 @@ export function ConfirmDialog({
           </h2>
           <div className="mt-2 text-sm text-ink-soft">{children}</div>
           <div className="mt-6 flex justify-end gap-3">
-            <Button variant="secondary" onClick={onCancel} autoFocus>
+            <Button ref={cancelRef} variant="secondary" onClick={onCancel}>
               Cancel
             </Button>
-            <Button variant={tone} onClick={onConfirm} busy={busy}>
+            <Button ref={confirmRef} variant={tone} onClick={onConfirm} busy={busy}>
               {confirmLabel}
             </Button>
           </div>

@@ -4,6 +4,10 @@ export const paths = {
   queue: "/queue",
   scans: "/scans",
   scan: (id: string) => `/scans/${encodeURIComponent(id)}`,
+  scanReview: (id: string) => `/scans/${encodeURIComponent(id)}/review`,
+  fragment: (id: string) => `/fragments/${encodeURIComponent(id)}`,
+  /** Approved work: the fragments that passed review, for every role (viewers land here). */
+  work: "/work",
   users: "/users",
 } as const;
 
@@ -13,10 +17,13 @@ export function signInPath(from?: string): string {
   return `${paths.signIn}?next=${encodeURIComponent(from)}`;
 }
 
-/** A safe place to go after sign-in: only paths inside this app, never another origin. */
+/**
+ * A safe place to go after sign-in: only paths inside this app, never another origin. Without one,
+ * the home address, which sends each role to its own landing page.
+ */
 export function safeNext(next: string | null): string {
   if (!next || !next.startsWith("/") || next.startsWith("//") || next.startsWith(paths.signIn)) {
-    return paths.queue;
+    return "/";
   }
   return next;
 }

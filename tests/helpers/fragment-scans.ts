@@ -77,7 +77,9 @@ export function distanceToOutline([x, y]: Point, polygon: readonly Point[]): num
     const dx = bx - ax;
     const dy = by - ay;
     const t = Math.max(0, Math.min(1, ((x - ax) * dx + (y - ay) * dy) / (dx * dx + dy * dy || 1)));
-    best = Math.min(best, Math.hypot(x - (ax + t * dx), y - (ay + t * dy)));
+    const ex = x - (ax + t * dx);
+    const ey = y - (ay + t * dy);
+    best = Math.min(best, Math.sqrt(ex * ex + ey * ey));
   }
   return best;
 }
@@ -105,6 +107,21 @@ function colourAt(piece: PieceSpec, q: Point): RGB | null {
     }
   }
   return piece.colour;
+}
+
+/** True when a source point is within 1.5 px of the piece's marker square (its edge needs supersampling). */
+function nearMarker(piece: PieceSpec, p: Point): boolean {
+  const m = piece.marker;
+  if (!m) return false;
+  const [u, v] = toUprightLocal(piece, p);
+  const fromLeft = u + piece.width / 2;
+  const fromTop = v + piece.height / 2;
+  return (
+    fromLeft > m.left - 1.5 &&
+    fromLeft < m.left + m.size + 1.5 &&
+    fromTop > m.top - 1.5 &&
+    fromTop < m.top + m.size + 1.5
+  );
 }
 
 /**
@@ -136,8 +153,36 @@ export function drawScan(
     const x1 = Math.min(width - 1, Math.ceil(Math.max(...polygon.map((p) => p[0]))));
     const y0 = Math.max(0, Math.floor(Math.min(...polygon.map((p) => p[1]))));
     const y1 = Math.min(height - 1, Math.ceil(Math.max(...polygon.map((p) => p[1]))));
+    // Which pixel corners lie inside: a pixel whose four corners agree (and that holds no
+    // marker edge) is wholly inside or outside, so only pixels on an edge are supersampled.
+    // (Right for shapes without features thinner than a pixel, as all of these are.)
+    // Corners are tested row by row against the outline's crossings (the even-odd rule).
+    const cols = x1 - x0 + 2;
+    const corner = new Uint8Array(cols * (y1 - y0 + 2));
+    for (let j = y0; j <= y1 + 1; j++) {
+      const crossings: number[] = [];
+      for (let e = 0; e < polygon.length; e++) {
+        const [ax, ay] = polygon[e]!;
+        const [bx, by] = polygon[(e + 1) % polygon.length]!;
+        if (ay > j !== by > j) crossings.push(ax + ((j - ay) * (bx - ax)) / (by - ay));
+      }
+      crossings.sort((a, b) => a - b);
+      let passed = 0;
+      for (let i = x0; i <= x1 + 1; i++) {
+        while (passed < crossings.length && crossings[passed]! < i) passed++;
+        corner[(j - y0) * cols + (i - x0)] = passed % 2;
+      }
+    }
     for (let j = y0; j <= y1; j++) {
       for (let i = x0; i <= x1; i++) {
+        const at = (j - y0) * cols + (i - x0);
+        const corners = corner[at]! + corner[at + 1]! + corner[at + cols]! + corner[at + cols + 1]!;
+        const k = (j * width + i) * 3;
+        if (corners === 0) continue;
+        if (corners === 4 && !nearMarker(piece, [i + 0.5, j + 0.5])) {
+          for (let ch = 0; ch < 3; ch++) px[k + ch] = piece.colour[ch]! * scale;
+          continue;
+        }
         const sum: RGB = [0, 0, 0];
         let hits = 0;
         for (let a = 0; a < n; a++) {
@@ -153,7 +198,6 @@ export function drawScan(
           }
         }
         if (hits === 0) continue;
-        const k = (j * width + i) * 3;
         const all = n * n;
         for (let ch = 0; ch < 3; ch++) {
           const mixed = (sum[ch]! + (all - hits) * (px[k + ch]! / scale)) / all;

@@ -46,6 +46,7 @@ export async function testEnvironment(extra: Record<string, string> = {}) {
     PLATEN_MAINTENANCE_SECONDS: "1",
     PLATEN_SESSION_SECRET: "test-secret-test-secret-test-secret-0123",
     PLATEN_DEMO: "0",
+    PLATEN_BCRYPT_COST: "4",
     ...extra,
   };
   await fs.mkdir(env.PLATEN_INBOX_DIR!, { recursive: true });

@@ -32,6 +32,8 @@ export default async function setup() {
   const { logger } = await import("../../server/logger");
   const database = openDatabase(urlFor(template), 2);
   await migrateDatabase(database.db);
+  const { ensureBuiltInRecipes } = await import("../../server/services/recipes");
+  await ensureBuiltInRecipes(database.db);
   await database.close();
   const boss = await startBoss({ url: urlFor(template), log: logger, supervise: false });
   await boss.stop({ graceful: false, wait: true });

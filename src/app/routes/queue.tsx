@@ -6,6 +6,7 @@ import { paths } from "../../config/paths";
 import { queueSummaryQueryOptions, useQueueSummary } from "../../features/queue/api/get-queue";
 import { FailureList } from "../../features/queue/components/failure-list";
 import { QueueCounts } from "../../features/queue/components/queue-counts";
+import { ReviewList } from "../../features/queue/components/review-list";
 import { RunningNow } from "../../features/queue/components/running-now";
 import { WaitingList } from "../../features/queue/components/waiting-list";
 import { WatcherStatus } from "../../features/queue/components/watcher-status";
@@ -15,14 +16,14 @@ import { useHasRole } from "../../lib/authorization";
 export function QueueRoute() {
   const summary = useQueueSummary();
   const queryClient = useQueryClient();
-  const canRetry = useHasRole("operator");
+  const isOperator = useHasRole("operator");
 
   return (
     <>
       <title>Queue · Platen</title>
       <PageHeader
         title="Queue"
-        description="Every scan that arrives, from the inbox or the browser, until it is read."
+        description="Every scan that arrives, from the inbox or the browser, until it is read and its fragments are reviewed."
       />
       {summary.isPending ? (
         <p className="flex items-center gap-2 text-sm text-ink-muted">
@@ -42,7 +43,7 @@ export function QueueRoute() {
               <FailureList
                 failures={summary.data.failures}
                 actions={
-                  canRetry
+                  isOperator
                     ? (failure) => (
                         <RetryScanButton
                           scanId={failure.scanId}
@@ -59,6 +60,7 @@ export function QueueRoute() {
               />
             </div>
             <div className="flex flex-col gap-6">
+              <ReviewList review={summary.data.review} canReview={isOperator} />
               <WatcherStatus watcher={summary.data.watcher} workers={summary.data.workers} />
               <WaitingList waiting={summary.data.waiting} />
             </div>

@@ -5,6 +5,7 @@ import { StatusBadge } from "../../components/status-badge";
 import { paths } from "../../config/paths";
 import { useScan } from "../../features/scans/api/get-scan";
 import { RetryScanButton } from "../../features/scans/components/retry-scan-button";
+import { ReviewState } from "../../features/scans/components/review-state";
 import { ScanDetails } from "../../features/scans/components/scan-details";
 import { ScanPreview } from "../../features/scans/components/scan-preview";
 import { useHasRole } from "../../lib/authorization";
@@ -61,6 +62,25 @@ export function ScanRoute() {
           {s.originalName}
         </h1>
         <StatusBadge status={s.status} />
+        <ReviewState scan={s} canReview={canRetry} />
+        <span className="ml-auto flex items-center gap-3">
+          {canRetry && s.status === "ready" && (
+            <Link
+              to={paths.scanReview(s.id)}
+              className="inline-flex h-10 items-center gap-2 rounded-md bg-accent px-4 text-sm font-medium text-paper-50 hover:bg-accent-strong"
+            >
+              {s.fragments.proposed > 0 ? "Review fragments" : "Open the review"}
+            </Link>
+          )}
+          {s.fragments.total > 0 && (
+            <Link
+              to={`${paths.work}?scan=${encodeURIComponent(s.id)}`}
+              className="inline-flex h-10 items-center rounded-md border border-paper-300 bg-paper-50 px-4 text-sm font-medium text-ink hover:bg-white"
+            >
+              Approved work from this scan
+            </Link>
+          )}
+        </span>
       </div>
 
       {s.status === "failed" && (

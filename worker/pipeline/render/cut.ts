@@ -67,18 +67,32 @@ export async function cutUpright(
   } catch (err) {
     throw decodeError(err, source, inspected, maxPixels);
   }
-  const { crop } = plan;
   const { width, height } = result.info;
-  if (
-    crop.left < 0 ||
-    crop.top < 0 ||
-    crop.left + crop.width > width ||
-    crop.top + crop.height > height
-  ) {
-    // The canvas conventions in geometry.ts no longer match the installed libvips.
+  const pad = {
+    left: Math.max(0, -plan.crop.left),
+    top: Math.max(0, -plan.crop.top),
+    right: Math.max(0, plan.crop.left + plan.crop.width - width),
+    bottom: Math.max(0, plan.crop.top + plan.crop.height - height),
+  };
+  if (pad.left + pad.top + pad.right + pad.bottom === 0) {
+    return { canvas: result.data, crop: plan.crop };
+  }
+  if (!plan.clamped) {
+    // Only a region cut short by the scan's border can leave the crop outside: otherwise the
+    // canvas conventions in geometry.ts no longer match the installed libvips.
     throw new Error(
-      `Expected the turned region (${width} × ${height} px) to hold the upright crop at ${crop.left}, ${crop.top} (${crop.width} × ${crop.height} px)`,
+      `Expected the turned region (${width} × ${height} px) to hold the upright crop at ${plan.crop.left}, ${plan.crop.top} (${plan.crop.width} × ${plan.crop.height} px)`,
     );
   }
-  return { canvas: result.data, crop };
+  // The rectangle overhangs the scan: beyond it lies white paper, like the affine background.
+  let padded = sharp(result.data, { limitInputPixels: false }).extend({
+    ...pad,
+    background: WHITE,
+  });
+  if (colour.keepValues) padded = padded.keepIccProfile();
+  const canvas = await padded.toColourspace(colour.space).tiff({ compression: "none" }).toBuffer();
+  return {
+    canvas,
+    crop: { ...plan.crop, left: plan.crop.left + pad.left, top: plan.crop.top + pad.top },
+  };
 }

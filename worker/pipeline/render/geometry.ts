@@ -35,8 +35,12 @@ export interface PixelRect {
  */
 export const REGION_MARGIN_PX = 3;
 
-/** A tie in the canvas origin's rounding is avoided by nudging the angle this much (degrees). */
-const ANGLE_NUDGE_DEG = 1e-7;
+/**
+ * A tie in the canvas origin's rounding is avoided by nudging the angle this much (degrees):
+ * enough to move a corner of even the smallest region (7 px) by 8e-6 px, well clear of
+ * TIE_EPSILON, and too little to see (0.009 px at 5000 px from the centre).
+ */
+const ANGLE_NUDGE_DEG = 1e-4;
 const TIE_EPSILON = 1e-6;
 
 interface Turn {
@@ -136,7 +140,9 @@ function canvasOrigin(
 export interface UprightPlan {
   /** Source pixels to decode, clamped to the scan. */
   region: PixelRect;
-  /** The clockwise angle actually applied, in degrees (the fragment's, or nudged by 1e-7° to avoid a rounding tie). */
+  /** The region was cut short by the scan's border, so the crop may reach past the turned region. */
+  clamped: boolean;
+  /** The clockwise angle actually applied, in degrees (the fragment's, or nudged by 1e-4° to avoid a rounding tie). */
   angle: number;
   /** libvips affine matrix [a, b, c, d] for the region. */
   matrix: [number, number, number, number];
@@ -174,11 +180,19 @@ export function planUpright(
       Math.max(rect.height, size.height) / 2,
     ),
   );
-  const left = Math.max(0, Math.floor(reach.left) - REGION_MARGIN_PX);
-  const top = Math.max(0, Math.floor(reach.top) - REGION_MARGIN_PX);
-  const right = Math.min(imageWidth, Math.ceil(reach.right) + REGION_MARGIN_PX);
-  const bottom = Math.min(imageHeight, Math.ceil(reach.bottom) + REGION_MARGIN_PX);
+  const want = {
+    left: Math.floor(reach.left) - REGION_MARGIN_PX,
+    top: Math.floor(reach.top) - REGION_MARGIN_PX,
+    right: Math.ceil(reach.right) + REGION_MARGIN_PX,
+    bottom: Math.ceil(reach.bottom) + REGION_MARGIN_PX,
+  };
+  const left = Math.max(0, want.left);
+  const top = Math.max(0, want.top);
+  const right = Math.min(imageWidth, want.right);
+  const bottom = Math.min(imageHeight, want.bottom);
   const region = { left, top, width: right - left, height: bottom - top };
+  const clamped =
+    want.left < 0 || want.top < 0 || want.right > imageWidth || want.bottom > imageHeight;
 
   let angle = geometry.angle;
   let t = turn(angle);
@@ -207,6 +221,7 @@ export function planUpright(
   const theTurn = t;
   return {
     region,
+    clamped,
     angle,
     matrix: [t.c, -t.s, t.s, t.c],
     idx,
@@ -223,8 +238,15 @@ export function planUpright(
   };
 }
 
-/** How far (pixels) the rectangle may overhang the scan: measurement noise at a piece touching the edge. */
-export const RECT_OVERHANG_PX = 1;
+/**
+ * How far the rectangle may overhang the scan, in pixels, for a rectangle of the given long side:
+ * 2 px + 1 %. A piece cut off by the edge of the bed can have its rectangle fitted a little past
+ * the scan; the missing sliver comes out white (paper), a larger overhang is refused.
+ * Example: a 3000 px piece → 32 px.
+ */
+export function rectOverhangPx(longSide: number): number {
+  return 2 + 0.01 * longSide;
+}
 
 /** Which consistency check failed, for the caller to turn into a message. */
 export type GeometryProblem =
@@ -238,9 +260,9 @@ export type GeometryProblem =
 
 /**
  * Checks that a (schema-valid) geometry fits a scan of the given size: the box inside the scan,
- * the rectangle at least 1 px and inside the scan (within RECT_OVERHANG_PX), and the box within the
- * rectangle's bounds (within 2 px + 1 % of its long side: the box bounds the outline, which the
- * minimum-area rectangle contains). Returns null when everything fits.
+ * the rectangle at least 1 px and inside the scan (within rectOverhangPx), and the box within the
+ * rectangle's bounds (within the same 2 px + 1 % of its long side: the box bounds the outline,
+ * which the minimum-area rectangle contains). Returns null when everything fits.
  * Example: box { x: 390, y: 0, width: 20, height: 10 } on a 400 × 300 scan → { kind: "box_outside" }.
  */
 export function checkGeometry(
@@ -254,19 +276,14 @@ export function checkGeometry(
   }
   if (!(rect.width >= 1 && rect.height >= 1)) return { kind: "rect_too_small" };
   const corners = rectCorners(rect, geometry.angle);
+  const slack = rectOverhangPx(Math.max(rect.width, rect.height));
   for (const corner of corners) {
     const [x, y] = corner;
-    if (
-      x < -RECT_OVERHANG_PX ||
-      y < -RECT_OVERHANG_PX ||
-      x > imageWidth + RECT_OVERHANG_PX ||
-      y > imageHeight + RECT_OVERHANG_PX
-    ) {
+    if (x < -slack || y < -slack || x > imageWidth + slack || y > imageHeight + slack) {
       return { kind: "rect_outside", corner };
     }
   }
   const rectBox = bounds(corners);
-  const slack = 2 + 0.01 * Math.max(rect.width, rect.height);
   if (!boxWithin(box, rectBox, slack)) return { kind: "box_outside_rect", rectBox };
   return null;
 }

@@ -84,7 +84,7 @@ const FORMAT_BY_EXTENSION: Record<string, WebFormat | undefined> = {
 export function defaultWebFormat(shape: FragmentShape): WebFormat {
   return shape === "cutout" ? "webp" : "jpeg";
 }
-/** WebP cannot hold more than 16383 px on a side (WebP container spec, VP8L header). */
+/** WebP cannot hold more than 16383 px on a side (its 14-bit width and height fields; from memory). */
 const MAX_WEB_EDGE = 16383;
 /** Largest relative difference between the x and y DPI treated as the same resolution. */
 const DPI_TOLERANCE = 0.005;
@@ -129,6 +129,21 @@ function checkDpi(dpi: RenderInput["dpi"]): void {
   }
 }
 
+function assertFits(geometry: FragmentGeometry, width: number, height: number): void {
+  const problem = checkGeometry(geometry, width, height);
+  if (!problem) return;
+  switch (problem.kind) {
+    case "box_outside":
+      throw renderErrors.boxOutside(geometry.box, width, height);
+    case "rect_too_small":
+      throw renderErrors.rectTooSmall(geometry.rect.width, geometry.rect.height);
+    case "rect_outside":
+      throw renderErrors.rectOutside(problem.corner, width, height);
+    case "box_outside_rect":
+      throw renderErrors.boxOutsideRect(geometry.box, problem.rectBox);
+  }
+}
+
 function parseGeometry(geometry: unknown): FragmentGeometry {
   const parsed = geometrySchema.safeParse(geometry);
   if (parsed.success) return parsed.data;
@@ -142,7 +157,8 @@ function parseGeometry(geometry: unknown): FragmentGeometry {
  * scan's DPI and ICC profile, rights fields) and the web copy (long edge `webLongEdge`, 8-bit
  * sRGB, JPEG on white or WebP with alpha, effective DPI). Both are written under temporary names
  * and renamed only when both are complete; on any error the temporaries are removed and neither
- * target is touched. Arguments are checked before any pixel is decoded.
+ * target is touched (only if the very last rename, the web copy's, fails has the master already
+ * been replaced, by its complete new version). Arguments are checked before any pixel is decoded.
  * Throws RenderError (bad_geometry, bad_request, failed) or ScanError (the scan cannot be read).
  * Example:
  *   await renderFragment(
@@ -165,15 +181,7 @@ export async function renderFragment(
   const inspected = await inspectScanFile(input.source, input.maxPixels);
   const width = inspected.meta.autoOrient?.width ?? inspected.meta.width;
   const height = inspected.meta.autoOrient?.height ?? inspected.meta.height;
-  const problem = checkGeometry(geometry, width, height);
-  if (problem?.kind === "box_outside") throw renderErrors.boxOutside(geometry.box, width, height);
-  if (problem?.kind === "rect_too_small") {
-    throw renderErrors.rectTooSmall(geometry.rect.width, geometry.rect.height);
-  }
-  if (problem?.kind === "rect_outside")
-    throw renderErrors.rectOutside(problem.corner, width, height);
-  if (problem?.kind === "box_outside_rect")
-    throw renderErrors.boxOutsideRect(geometry.box, problem.rectBox);
+  assertFits(geometry, width, height);
 
   const plan = planUpright(geometry, width, height);
   const colour = colourPlan(inspected.meta);
@@ -203,11 +211,13 @@ export async function renderFragment(
       rights,
       outline,
     });
-    current = out.masterPath;
-    await commitStaged(staged);
     const [masterBytes, webBytes] = await Promise.all(
-      [out.masterPath, out.webPath].map(async (p) => (await fs.stat(p)).size),
+      staged.map(async (f) => (await fs.stat(f.temp)).size),
     );
+    for (const file of staged) {
+      current = file.target;
+      await commitStaged([file]);
+    }
     return {
       master: {
         path: out.masterPath,

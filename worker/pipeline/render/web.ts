@@ -57,14 +57,12 @@ export async function writeWebCopy(
 ): Promise<WebInfo> {
   // Fit in the scan's own colour, reduced to 8 bits with its profile still attached: sharp
   // converts 8-bit data through the embedded profile, whereas 16-bit data would take a detour.
-  let fit = sharp(cut.canvas, { limitInputPixels: false })
-    .extract(cut.crop)
-    .resize({
-      width: opts.longEdge,
-      height: opts.longEdge,
-      fit: "inside",
-      withoutEnlargement: true,
-    });
+  let fit = sharp(cut.canvas, { limitInputPixels: false }).extract(cut.crop).resize({
+    width: opts.longEdge,
+    height: opts.longEdge,
+    fit: "inside",
+    withoutEnlargement: true,
+  });
   if (colour.keepValues) fit = fit.keepIccProfile();
   const fitted = await fit
     .toColourspace(colour.grey ? "b-w" : "srgb")

@@ -80,25 +80,26 @@ export function estimateBackground(
       phi[o + 3] = Xv * Xv;
       phi[o + 4] = Xv * Yv;
       phi[o + 5] = Yv * Yv;
-      sampleRow[k] = ry;
-      sampleCol[k] = cx;
+      sampleRow[k] = y;
+      sampleCol[k] = x;
     }
   }
 
   const band = EDGE_BAND_MM * pxPerMm;
-  const rowTaper = taper(ny, (ry) => Math.min(off + ry * g, height - 1 - (off + ry * g)), band);
-  const colTaper = taper(nx, (cx) => Math.min(off + cx * g, width - 1 - (off + cx * g)), band);
+  const rowTaper = taper(height, (y) => Math.min(y, height - 1 - y), band);
+  const colTaper = taper(width, (x) => Math.min(x, width - 1 - x), band);
 
   const poly: Float64Array[] = [new Float64Array(6), new Float64Array(6), new Float64Array(6)];
   for (let c = 0; c < 3; c++) poly[c]![0] = bg0[c]!;
   const P = [0, 1, 2].map((c) => new Float32Array(ns).fill(bg0[c]!)); // the surface at each sample
-  const rowP = [new Float32Array(ny), new Float32Array(ny), new Float32Array(ny)];
-  const colP = [new Float32Array(nx), new Float32Array(nx), new Float32Array(nx)];
+  // edge profiles, one value per pixel row (R) and per pixel column (C), zero outside the bands
+  const rowP = [new Float32Array(height), new Float32Array(height), new Float32Array(height)];
+  const colP = [new Float32Array(width), new Float32Array(width), new Float32Array(width)];
   const cand = new Uint8Array(ns);
   const sigma = [4, 2, 2]; // start: chroma within 8, lightness within 15 (a lid shadow)
   let tolL = 15;
   let degree = 0;
-  const scratch = new Float32Array(Math.max(nx, ny, ns));
+  const scratch = new Float32Array(Math.max(width, height, ns));
   const residualAt = (c: number, k: number) =>
     S[c]![k]! - P[c]![k]! - rowP[c]![sampleRow[k]!]! - colP[c]![sampleCol[k]!]!;
 
@@ -135,10 +136,9 @@ export function estimateBackground(
       }
     }
     // 3. edge profiles: median residual along each row/column of the edge bands
-    for (let c = 0; c < 3; c++) {
-      edgeProfile(S[c]!, P[c]!, cand, nx, ny, rowP[c]!, colP[c]!, rowTaper, "rows", scratch);
-      edgeProfile(S[c]!, P[c]!, cand, nx, ny, rowP[c]!, colP[c]!, colTaper, "cols", scratch);
-    }
+    const lines = { planes, poly, rowP, colP, width, height, stride: g, tolA, tolB };
+    edgeProfiles(lines, rowTaper, "rows");
+    edgeProfiles(lines, colTaper, "cols");
     // 4. noise of the background samples about the model; tighter tolerance for the next round
     for (let c = 0; c < 3; c++) {
       // every background sample up to 10 000 of them, evenly spread
@@ -153,9 +153,7 @@ export function estimateBackground(
   let bgCount = 0;
   for (let k = 0; k < ns; k++) bgCount += cand[k]!;
 
-  // Full-resolution residual: the model at every pixel, profiles interpolated between sample rows.
-  const rowFull = [0, 1, 2].map((c) => interpolate(rowP[c]!, ny, g, off, height));
-  const colFull = [0, 1, 2].map((c) => interpolate(colP[c]!, nx, g, off, width));
+  // Full-resolution residual: the model at every pixel.
   const residual: LabPlanes = {
     L: new Float32Array(width * height),
     a: new Float32Array(width * height),
@@ -166,8 +164,8 @@ export function estimateBackground(
     const p = poly[c]!;
     const src = planes[c]!;
     const dst = out[c]!;
-    const rf = rowFull[c]!;
-    const cf = colFull[c]!;
+    const rf = rowP[c]!;
+    const cf = colP[c]!;
     for (let y = 0; y < height; y++) {
       const Yv = (2 * (y + 0.5)) / height - 1;
       // P = (p0 + p2·Y + p5·Y²) + (p1 + p4·Y)·X + p3·X²
@@ -313,69 +311,80 @@ function taper(n: number, distance: (i: number) => number, band: number): Float3
   return w;
 }
 
+interface ProfileInputs {
+  planes: Float32Array[];
+  poly: Float64Array[];
+  rowP: Float32Array[];
+  colP: Float32Array[];
+  width: number;
+  height: number;
+  /** Pixels skipped along each line. */
+  stride: number;
+  /** Chroma tolerances, Lab units. */
+  tolA: number;
+  tolB: number;
+}
+
+const PROFILE_TOL_L = 15;
+
 /**
- * Median residual (S − P − the other profile) of the candidate samples along each row (or column)
- * inside the edge band, times the taper. Lines with too few background samples borrow from
- * the nearest supported line on the same side of the bed.
+ * Edge profiles at full resolution: for each pixel row (or column) inside the edge band, the
+ * median residual of its background pixels about the surface and the other profile, times the
+ * taper. Background here is judged on chroma (tight) and lightness within 15 (loose): a lid
+ * shadow darkens the lid without changing its hue, and must not be mistaken for a piece while it
+ * is being measured. Lines with too few background pixels borrow from the nearest line further in.
  */
-function edgeProfile(
-  S: Float32Array,
-  P: Float32Array,
-  cand: Uint8Array,
-  nx: number,
-  ny: number,
-  rowP: Float32Array,
-  colP: Float32Array,
-  weight: Float32Array,
-  along: "rows" | "cols",
-  scratch: Float32Array,
-): void {
-  const lines = along === "rows" ? ny : nx;
-  const len = along === "rows" ? nx : ny;
+function edgeProfiles(inp: ProfileInputs, weight: Float32Array, along: "rows" | "cols"): void {
+  const { planes, poly, rowP, colP, width, height, stride, tolA, tolB } = inp;
+  const lines = along === "rows" ? height : width;
+  const len = along === "rows" ? width : height;
   const target = along === "rows" ? rowP : colP;
-  const values = new Float32Array(lines).fill(NaN);
+  const values = [new Float32Array(lines).fill(NaN), new Float32Array(lines).fill(NaN), new Float32Array(lines).fill(NaN)];
+  const buf = [new Float32Array(len), new Float32Array(len), new Float32Array(len)];
+  const r = [0, 0, 0];
   for (let l = 0; l < lines; l++) {
     if (weight[l] === 0) continue;
     let n = 0;
-    for (let t = 0; t < len; t++) {
-      const cx = along === "rows" ? t : l;
-      const ry = along === "rows" ? l : t;
-      const k = ry * nx + cx;
-      if (!cand[k]) continue;
-      const other = along === "rows" ? colP[cx]! : rowP[ry]!;
-      scratch[n++] = S[k]! - P[k]! - other;
+    let total = 0;
+    for (let t = stride >> 1; t < len; t += stride) {
+      total++;
+      const x = along === "rows" ? t : l;
+      const y = along === "rows" ? l : t;
+      const X = (2 * (x + 0.5)) / width - 1;
+      const Y = (2 * (y + 0.5)) / height - 1;
+      const i = y * width + x;
+      for (let c = 0; c < 3; c++) {
+        const p = poly[c]!;
+        const surface = p[0]! + p[1]! * X + p[2]! * Y + p[3]! * X * X + p[4]! * X * Y + p[5]! * Y * Y;
+        const other = along === "rows" ? colP[c]![x]! : rowP[c]![y]!;
+        r[c] = planes[c]![i]! - surface - other;
+      }
+      if (Math.abs(r[0]!) > PROFILE_TOL_L || Math.abs(r[1]!) > tolA || Math.abs(r[2]!) > tolB) continue;
+      for (let c = 0; c < 3; c++) buf[c]![n] = r[c]!;
+      n++;
     }
-    if (n >= Math.max(6, 0.3 * len)) values[l] = medianInPlace(scratch, n);
+    if (n >= Math.max(6, 0.3 * total)) for (let c = 0; c < 3; c++) values[c]![l] = medianInPlace(buf[c]!, n);
   }
-  for (let l = 0; l < lines; l++) {
-    if (weight[l] === 0) {
-      target[l] = 0;
-      continue;
-    }
-    let v = values[l]!;
-    if (Number.isNaN(v)) {
-      v = 0;
-      const step = l < lines / 2 ? 1 : -1;
-      for (let m = l + step; m >= 0 && m < lines && weight[m]! > 0; m += step) {
-        if (!Number.isNaN(values[m]!)) {
-          v = values[m]!;
-          break;
+  for (let c = 0; c < 3; c++) {
+    const v = values[c]!;
+    const out = target[c]!;
+    for (let l = 0; l < lines; l++) {
+      if (weight[l] === 0) {
+        out[l] = 0;
+        continue;
+      }
+      let value = v[l]!;
+      if (Number.isNaN(value)) {
+        value = 0;
+        const step = l < lines / 2 ? 1 : -1;
+        for (let m = l + step; m >= 0 && m < lines && weight[m]! > 0; m += step) {
+          if (!Number.isNaN(v[m]!)) {
+            value = v[m]!;
+            break;
+          }
         }
       }
+      out[l] = value * weight[l]!;
     }
-    target[l] = v * weight[l]!;
   }
-}
-
-/** Profile on the sample grid → one value per pixel line, linear between samples. */
-function interpolate(p: Float32Array, n: number, g: number, off: number, size: number): Float32Array {
-  const out = new Float32Array(size);
-  for (let i = 0; i < size; i++) {
-    const t = (i - off) / g;
-    const a = Math.max(0, Math.min(n - 1, Math.floor(t)));
-    const b = Math.min(n - 1, a + 1);
-    const f = Math.max(0, Math.min(1, t - a));
-    out[i] = p[a]! * (1 - f) + p[b]! * f;
-  }
-  return out;
 }

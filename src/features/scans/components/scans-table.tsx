@@ -4,10 +4,12 @@ import type { Scan } from "../../../../shared/schemas/scans";
 import { formatBytes } from "../../../../shared/units";
 import { StatusBadge } from "../../../components/status-badge";
 import { paths } from "../../../config/paths";
+import { useHasRole } from "../../../lib/authorization";
 import { cn } from "../../../lib/cn";
 import { formatDateTimeLong, formatShortDateTime } from "../../../lib/time";
 import { formatPhysical, formatPixels, physicalOf } from "../format";
 import { DpiValue } from "./dpi-value";
+import { ReviewState } from "./review-state";
 import { ScanThumb } from "./scan-thumb";
 import type { SortDir, SortField } from "./use-scan-filters";
 
@@ -70,6 +72,7 @@ export function ScansTable({
   busy?: boolean;
 }) {
   const navigate = useNavigate();
+  const canReview = useHasRole("operator");
   const [active, setActive] = useState(-1);
   const rows = useRef<Array<HTMLTableRowElement | null>>([]);
   const activeId = active >= 0 ? scans[active]?.id : undefined;
@@ -252,6 +255,7 @@ export function ScansTable({
                     {Math.round(scan.progress)}%
                   </span>
                 )}
+                <ReviewState scan={scan} canReview={canReview} />
               </td>
               <td className="figure px-3 py-2 text-right text-xs whitespace-nowrap text-ink-soft">
                 {formatBytes(scan.sizeBytes)}

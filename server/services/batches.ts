@@ -1,0 +1,77 @@
+import { and, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
+import type { Db } from "../db";
+import { batchItems, batches, fragments } from "../db/schema";
+import type { Tx } from "../db/tx";
+import { QUEUES } from "../jobs/queues";
+import { notFound } from "../errors";
+import type { Batch } from "../../shared/schemas/recipe-api";
+
+type BatchRow = typeof batches.$inferSelect;
+const STATES = ["queued", "running", "done", "failed", "cancelled"] as const;
+
+/** Records a batch and queues one render per fragment, all in the caller's transaction. */
+export async function createBatch(
+  tx: Tx,
+  input: { name: string; recipeVersionId: string | null; createdBy: string; fragments: { id: string; revision: number }[] },
+): Promise<BatchRow> {
+  const [batch] = await tx.db
+    .insert(batches)
+    .values({ name: input.name, kind: "recipe", recipeVersionId: input.recipeVersionId, createdBy: input.createdBy, finishedAt: input.fragments.length ? null : new Date() })
+    .returning();
+  for (const f of input.fragments) {
+    const [item] = await tx.db.insert(batchItems).values({ batchId: batch!.id, fragmentId: f.id }).returning({ id: batchItems.id });
+    await tx.db.update(fragments).set({ renderState: "queued", renderError: null }).where(eq(fragments.id, f.id));
+    await tx.send(QUEUES.render, { fragmentId: f.id, revision: f.revision, batchItemId: item!.id });
+  }
+  await tx.notify({ kind: "worker" });
+  return batch!;
+}
+
+/** Moves one item on; closes the batch when nothing is left to do. */
+export async function settleBatchItem(db: Db, itemId: string, state: "running" | "done" | "failed", error: string | null = null) {
+  const [item] = await db.update(batchItems).set({ state, error, updatedAt: new Date() }).where(eq(batchItems.id, itemId)).returning();
+  if (!item || state === "running") return;
+  const [open] = await db
+    .select({ n: sql<number>`count(*)::int` })
+    .from(batchItems)
+    .where(and(eq(batchItems.batchId, item.batchId), inArray(batchItems.state, ["queued", "running"])));
+  if ((open?.n ?? 0) === 0) await db.update(batches).set({ finishedAt: new Date(), updatedAt: new Date() }).where(and(eq(batches.id, item.batchId), isNull(batches.finishedAt)));
+}
+
+async function present(db: Db, rows: BatchRow[]): Promise<Batch[]> {
+  if (!rows.length) return [];
+  const counts = await db
+    .select({ batchId: batchItems.batchId, state: batchItems.state, n: sql<number>`count(*)::int` })
+    .from(batchItems)
+    .where(inArray(batchItems.batchId, rows.map((r) => r.id)))
+    .groupBy(batchItems.batchId, batchItems.state);
+  return rows.map((r) => {
+    const c = Object.fromEntries(STATES.map((s) => [s, 0])) as Record<(typeof STATES)[number], number>;
+    for (const x of counts.filter((x) => x.batchId === r.id)) c[x.state] = x.n;
+    return {
+      id: r.id,
+      name: r.name,
+      kind: r.kind,
+      createdAt: r.createdAt.toISOString(),
+      finishedAt: r.finishedAt?.toISOString() ?? null,
+      counts: { ...c, total: STATES.reduce((n, s) => n + c[s], 0) },
+    };
+  });
+}
+
+export async function getBatch(db: Db, id: string): Promise<Batch> {
+  const [row] = await db.select().from(batches).where(eq(batches.id, id));
+  if (!row) throw notFound("That batch");
+  return (await present(db, [row]))[0]!;
+}
+
+/** Batches still running, and those that finished in the last hour, newest first. */
+export async function recentBatches(db: Db): Promise<Batch[]> {
+  const rows = await db
+    .select()
+    .from(batches)
+    .where(or(isNull(batches.finishedAt), gt(batches.finishedAt, sql`now() - interval '1 hour'`)))
+    .orderBy(desc(batches.createdAt))
+    .limit(10);
+  return present(db, rows);
+}

@@ -1,0 +1,111 @@
+import { Link, useSearchParams } from "react-router-dom";
+import { Button, Spinner } from "../../components/button";
+import { LoadError } from "../../components/notice";
+import { EmptyNote, PageHeader } from "../../components/panel";
+import { paths } from "../../config/paths";
+import { useFragments } from "../../features/fragments/api/get-fragments";
+import { useLengthUnit } from "../../features/fragments/components/use-length-unit";
+import { WorkGrid } from "../../features/fragments/components/work-grid";
+import { cn } from "../../lib/cn";
+import { useHasRole } from "../../lib/authorization";
+
+const PAGE_SIZE = 60;
+
+/** Approved work: every fragment that passed review. Where viewers land. */
+export function WorkRoute() {
+  const [params, setParams] = useSearchParams();
+  const scanId = params.get("scan") || undefined;
+  const page = Math.max(1, Number.parseInt(params.get("page") ?? "1", 10) || 1);
+  const [unit, setUnit] = useLengthUnit();
+  const isOperator = useHasRole("operator");
+  const fragments = useFragments({
+    status: "approved",
+    scanId,
+    limit: PAGE_SIZE,
+    offset: (page - 1) * PAGE_SIZE,
+  });
+  const setPage = (next: number) =>
+    setParams((p) => {
+      const q = new URLSearchParams(p);
+      if (next > 1) q.set("page", String(next));
+      else q.delete("page");
+      return q;
+    });
+  const list = fragments.data ?? [];
+  const scanName = scanId ? list[0]?.scanName : undefined;
+
+  return (
+    <>
+      <title>Approved work · Platen</title>
+      <PageHeader
+        title="Approved work"
+        description="Every piece that passed review, stood upright, with its archival master and web copy to download."
+        actions={
+          <div role="radiogroup" aria-label="Sizes in" className="flex items-center gap-1 text-sm">
+            <span className="text-ink-muted">Sizes in</span>
+            {(["mm", "in"] as const).map((u) => (
+              <button
+                key={u}
+                type="button"
+                role="radio"
+                aria-checked={unit === u}
+                onClick={() => setUnit(u)}
+                className={cn(
+                  "rounded px-2 py-0.5 font-medium",
+                  unit === u ? "bg-ink text-paper-50" : "text-ink-soft hover:bg-paper-200",
+                )}
+              >
+                {u}
+              </button>
+            ))}
+          </div>
+        }
+      />
+      {scanId && (
+        <p className="mb-4 text-sm text-ink-soft">
+          From {scanName ? <span className="font-medium text-ink">{scanName}</span> : "one scan"}{" "}
+          ·{" "}
+          <Link to={paths.work} className="text-accent underline underline-offset-2">
+            show all approved work
+          </Link>
+        </p>
+      )}
+      {fragments.isPending ? (
+        <p className="flex items-center gap-2 text-sm text-ink-muted">
+          <Spinner /> Loading the approved work…
+        </p>
+      ) : fragments.isError && !fragments.data ? (
+        <LoadError error={fragments.error} onRetry={() => void fragments.refetch()} />
+      ) : list.length === 0 ? (
+        <EmptyNote>
+          {page > 1
+            ? "No more approved fragments."
+            : isOperator
+              ? "Nothing is approved yet. Review a scan's fragments and the approved ones appear here."
+              : "Nothing is approved yet. Approved pieces appear here as soon as the studio has reviewed them."}
+        </EmptyNote>
+      ) : (
+        <>
+          <WorkGrid fragments={list} unit={unit} />
+          {(page > 1 || list.length === PAGE_SIZE) && (
+            <footer className="mt-6 flex items-center justify-end gap-3 text-xs text-ink-muted">
+              <span className="figure">
+                {(page - 1) * PAGE_SIZE + 1}–{(page - 1) * PAGE_SIZE + list.length}
+              </span>
+              <Button size="sm" disabled={page <= 1} onClick={() => setPage(page - 1)}>
+                Previous
+              </Button>
+              <Button
+                size="sm"
+                disabled={list.length < PAGE_SIZE}
+                onClick={() => setPage(page + 1)}
+              >
+                Next
+              </Button>
+            </footer>
+          )}
+        </>
+      )}
+    </>
+  );
+}

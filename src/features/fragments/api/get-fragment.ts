@@ -1,0 +1,39 @@
+import { queryOptions, useQuery } from "@tanstack/react-query";
+import { API, apiPath } from "../../../../shared/api";
+import { fragmentResponse, type Fragment } from "../../../../shared/schemas/fragments";
+import { apiRequest } from "../../../lib/api-client";
+import { fragmentKeys } from "./keys";
+
+export async function getFragment(id: string, signal?: AbortSignal): Promise<Fragment> {
+  const { fragment } = await apiRequest(API.fragmentsGet, {
+    params: { id },
+    schema: fragmentResponse,
+    signal,
+  });
+  return fragment;
+}
+
+export const fragmentQueryOptions = (id: string) =>
+  queryOptions({
+    queryKey: fragmentKeys.detail(id),
+    queryFn: ({ signal }) => getFragment(id, signal),
+    retry: (count, error) => !("status" in error && error.status === 404) && count < 2,
+  });
+
+export function useFragment(id: string) {
+  return useQuery(fragmentQueryOptions(id));
+}
+
+/**
+ * The upright thumbnail, cut from the scan's preview. The server caches it per revision, so the
+ * revision in the address makes the browser fetch a new one after every edit.
+ */
+export const fragmentThumbUrl = (f: Pick<Fragment, "id" | "revision">) =>
+  `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;
+
+/** A rendered file of the fragment; the server names the download after the scan and position. */
+export const fragmentOutputUrl = (id: string, kind: "master" | "web") =>
+  apiPath(API.fragmentsOutput, { id, kind });
+
+/** The scan's preview the fragments are drawn over (JPEG, long edge at most 1600 px). */
+export const scanPreviewImageUrl = (scanId: string) => apiPath(API.scansPreview, { id: scanId });

@@ -1,0 +1,64 @@
+import type { ReactNode } from "react";
+import { cn } from "../../../lib/cn";
+
+/** A key cap, for buttons and the legend. */
+export function Kbd({ children, tone = "light" }: { children: ReactNode; tone?: "light" | "dark" }) {
+  return (
+    <kbd
+      className={cn(
+        "figure inline-flex min-w-[1.35rem] items-center justify-center rounded border px-1 text-[11px] leading-4 font-medium",
+        tone === "dark"
+          ? "border-white/30 bg-white/15 text-current"
+          : "border-paper-400 bg-white text-ink-soft shadow-[0_1px_0_#c4b9a3]",
+      )}
+    >
+      {children}
+    </kbd>
+  );
+}
+
+export const REVIEW_KEYS: Array<{ keys: string[]; what: string; editing?: boolean }> = [
+  { keys: ["J", "K"], what: "next / previous" },
+  { keys: ["A"], what: "approve, go on", editing: true },
+  { keys: ["X"], what: "reject, go on", editing: true },
+  { keys: ["U"], what: "undo (or Ctrl+Z)", editing: true },
+  { keys: ["Shift", "A"], what: "approve all remaining", editing: true },
+  { keys: ["Shift", "J"], what: "add to selection" },
+  { keys: ["M"], what: "merge selected", editing: true },
+  { keys: ["[", "]"], what: "turn ½°", editing: true },
+  { keys: ["R"], what: "reset", editing: true },
+  { keys: ["D"], what: "draw a missed piece", editing: true },
+  { keys: ["T"], what: "title", editing: true },
+  { keys: ["Z"], what: "zoom to selected" },
+  { keys: ["Esc"], what: "clear selection" },
+];
+
+/** The review keys, always on screen, with the last thing done (also read out). */
+export function KeyLegend({ announcement }: { announcement: string }) {
+  return (
+    <div className="flex flex-wrap items-center gap-x-4 gap-y-1.5 rounded-lg border border-paper-300 bg-paper-50 px-4 py-2 text-xs text-ink-soft">
+      <h2 className="sr-only">Keys</h2>
+      <ul className="flex flex-wrap items-center gap-x-4 gap-y-1.5" aria-label="Keys">
+        {REVIEW_KEYS.map((k) => (
+          <li key={k.what} className="flex items-center gap-1">
+            {k.keys.map((key, i) => (
+              <span key={key} className="flex items-center gap-0.5">
+                {i > 0 && k.keys[0] === "Shift" && <span aria-hidden="true">+</span>}
+                <Kbd>{key}</Kbd>
+              </span>
+            ))}
+            <span className="ml-0.5">{k.what}</span>
+          </li>
+        ))}
+      </ul>
+      <p
+        role="status"
+        aria-live="polite"
+        className="ml-auto min-w-0 truncate font-medium text-ink"
+        data-testid="review-status"
+      >
+        {announcement}
+      </p>
+    </div>
+  );
+}

@@ -1,0 +1,101 @@
+import type { Fragment } from "../../../../shared/schemas/fragments";
+import { formatBytes, formatNumber } from "../../../../shared/units";
+import { Spinner } from "../../../components/button";
+import { cn } from "../../../lib/cn";
+import { fragmentOutputUrl } from "../api/get-fragment";
+import { OUTPUT_LABELS, outputPhysical } from "../format";
+
+const STATE_TEXT: Record<Fragment["renderState"], string> = {
+  none: "Not rendered: approving it makes the master and the web copy",
+  queued: "Waiting for a worker to render it",
+  rendering: "Rendering the master and the web copy…",
+  done: "Rendered",
+  failed: "The render failed",
+};
+
+/** Where the render stands, in words with a mark, so it reads without colour. */
+export function RenderState({ fragment }: { fragment: Pick<Fragment, "renderState" | "renderError"> }) {
+  const { renderState } = fragment;
+  return (
+    <p
+      className={cn(
+        "flex items-center gap-2 text-sm",
+        renderState === "failed" ? "text-brick" : renderState === "done" ? "text-accent-strong" : "text-ink-soft",
+      )}
+      data-render-state={renderState}
+      aria-live="polite"
+    >
+      {renderState === "queued" || renderState === "rendering" ? (
+        <Spinner className="size-3" />
+      ) : (
+        <span aria-hidden="true" className="figure w-3 text-center">
+          {renderState === "done" ? "✓" : renderState === "failed" ? "!" : "–"}
+        </span>
+      )}
+      <span>
+        {STATE_TEXT[renderState]}
+        {renderState === "failed" && fragment.renderError && `: ${fragment.renderError}`}
+      </span>
+    </p>
+  );
+}
+
+/**
+ * The files made for a fragment: pixel size, physical size at its DPI, bit depth and file size,
+ * each with a download link. `compact` is the side panel's one-line-per-file form.
+ */
+export function OutputList({
+  fragment,
+  compact = false,
+}: {
+  fragment: Pick<Fragment, "id" | "outputs" | "renderState">;
+  compact?: boolean;
+}) {
+  const outputs = [...fragment.outputs].sort((a, b) => (a.kind === "master" ? -1 : b.kind === "master" ? 1 : 0));
+  if (outputs.length === 0) return null;
+  return (
+    <ul className={cn("flex flex-col", compact ? "gap-2" : "gap-4")} aria-label="Rendered files">
+      {outputs.map((o) => {
+        const physical = outputPhysical(o);
+        return (
+          <li
+            key={o.kind}
+            data-output={o.kind}
+            className={cn(
+              "rounded-lg border border-paper-300 bg-white",
+              compact ? "px-3 py-2" : "px-4 py-3",
+              fragment.renderState !== "done" && "opacity-70",
+            )}
+          >
+            <div className="flex items-baseline justify-between gap-3">
+              <p className="text-sm font-semibold text-ink">
+                {OUTPUT_LABELS[o.kind]}{" "}
+                <span className="font-normal text-ink-muted">({o.format.toUpperCase()})</span>
+              </p>
+              <a
+                href={fragmentOutputUrl(fragment.id, o.kind)}
+                download={o.fileName}
+                className="text-sm font-medium text-accent underline underline-offset-2 hover:text-accent-strong"
+                aria-label={`Download the ${OUTPUT_LABELS[o.kind].toLowerCase()} (${o.fileName})`}
+              >
+                Download
+              </a>
+            </div>
+            <p className="figure mt-1 text-xs text-ink-soft" data-testid={`${o.kind}-size`}>
+              {o.width} × {o.height} px · {formatNumber(o.dpi, 1)} DPI
+            </p>
+            {physical && (
+              <p className="figure text-xs text-ink-muted">
+                {physical.inches} · {physical.mm}
+              </p>
+            )}
+            <p className="figure text-xs text-ink-muted">
+              {o.bitDepth}-bit{o.hasAlpha ? " with alpha" : ""} · {formatBytes(o.bytes)}
+              {!compact && <> · {o.fileName}</>}
+            </p>
+          </li>
+        );
+      })}
+    </ul>
+  );
+}

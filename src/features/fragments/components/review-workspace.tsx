@@ -1,0 +1,338 @@
+import { useState, type ReactNode } from "react";
+import type { Scan } from "../../../../shared/schemas/scans";
+import { MM_PER_INCH } from "../../../../shared/units";
+import { Button, Spinner } from "../../../components/button";
+import { ConfirmDialog } from "../../../components/confirm-dialog";
+import { LoadError, Notice } from "../../../components/notice";
+import { cn } from "../../../lib/cn";
+import { useShownFragments, type ShownFragment } from "../api/pending-edits";
+import { useScanFragments } from "../api/get-scan-fragments";
+import { FRAGMENT_STATUS_LABELS } from "../format";
+import { FragmentPanel } from "./fragment-panel";
+import { FragmentStatusGlyph } from "./fragment-status";
+import { FragmentStrip } from "./fragment-strip";
+import { KeyLegend, Kbd } from "./key-legend";
+import { ResplitControl, ResplitProgress } from "./resplit-control";
+import { ReviewOverlay } from "./review-overlay";
+import { useLengthUnit } from "./use-length-unit";
+import { useReview } from "./use-review";
+import { useReviewKeys } from "./use-review-keys";
+
+const ZOOMS = [1, 1.5, 2, 3, 4, 6];
+/** A drawn rectangle smaller than this (mm a side) is taken for a slip of the mouse. */
+const MIN_DRAWN_MM = 3;
+
+type AnalysedScan = Scan & { width: number; height: number };
+
+/**
+ * The review of one analysed scan: the scan with every fragment marked, the strip of fragments,
+ * the selected one's panel and the keys. Operators and admins only (the route checks).
+ */
+export function ReviewWorkspace({
+  scan,
+  heading,
+  onScanChanged,
+}: {
+  scan: AnalysedScan;
+  /** The page's title, set beside the tools. */
+  heading: ReactNode;
+  onScanChanged: (scan: Scan) => void;
+}) {
+  const query = useScanFragments(scan.id);
+  const shown = useShownFragments(scan.id, query.data);
+  const fragments = shown.fragments;
+  const review = useReview({
+    scanId: scan.id,
+    scanWidth: scan.width,
+    scanHeight: scan.height,
+    fragments,
+  });
+  const [drawMode, setDrawMode] = useState(false);
+  const [zoom, setZoom] = useState(1);
+  const [unit, setUnit] = useLengthUnit();
+  const [confirmAll, setConfirmAll] = useState(false);
+  const splitting = scan.status === "analysing" || shown.resplitting;
+  const editable = scan.status === "ready" && !shown.resplitting;
+
+  useReviewKeys(
+    {
+      next: (additive) => review.step(1, additive),
+      previous: (additive) => review.step(-1, additive),
+      approve: review.approve,
+      reject: review.reject,
+      reset: review.resetSelected,
+      approveAll: () => {
+        if (review.remaining === 0) review.say("Nothing is left to review on this scan.");
+        else setConfirmAll(true);
+      },
+      undo: review.undo,
+      merge: review.mergeSelected,
+      unmerge: review.unmergeSelected,
+      turn: review.turn,
+      toggleDraw: () => setDrawMode((d) => !d),
+      toggleZoom: () => setZoom((z) => (z === 1 ? 3 : 1)),
+      zoomBy: (step) =>
+        setZoom((z) => {
+          const i = ZOOMS.indexOf(z);
+          return ZOOMS[Math.min(ZOOMS.length - 1, Math.max(0, (i < 0 ? 0 : i) + step))]!;
+        }),
+      focusTitle: () => document.querySelector<HTMLInputElement>("[data-fragment-title]")?.focus(),
+      escape: () => {
+        if (drawMode) setDrawMode(false);
+        else review.clear();
+      },
+    },
+    editable,
+  );
+
+  if (query.isPending) {
+    return (
+      <p className="flex items-center gap-2 text-sm text-ink-muted">
+        <Spinner /> Loading the fragments…
+      </p>
+    );
+  }
+  if (query.isError && !query.data) {
+    return <LoadError error={query.error} onRetry={() => void query.refetch()} />;
+  }
+
+  const minDrawPx = (MIN_DRAWN_MM / MM_PER_INCH) * (scan.dpi?.x ?? 300);
+
+  return (
+    <div className="flex flex-col gap-3">
+      <div className="flex flex-wrap items-end justify-between gap-3">
+        <div className="min-w-0">
+          {heading}
+          <ReviewCounts fragments={fragments} />
+        </div>
+        <div className="flex flex-wrap items-center gap-2" role="toolbar" aria-label="Review tools">
+          {splitting ? (
+            <ResplitProgress scan={scan} />
+          ) : (
+            <>
+              <Button
+                size="sm"
+                variant={drawMode ? "primary" : "secondary"}
+                aria-pressed={drawMode}
+                onClick={() => setDrawMode((d) => !d)}
+                disabled={!editable}
+              >
+                {drawMode ? "Drawing: drag on the scan" : "Draw"}{" "}
+                <Kbd tone={drawMode ? "dark" : "light"}>D</Kbd>
+              </Button>
+              <Button
+                size="sm"
+                onClick={review.mergeSelected}
+                disabled={!editable || review.picked.length < 2}
+                busy={review.busy.merge}
+                title="Select two or more with Shift+click or Shift+J"
+              >
+                Merge <Kbd>M</Kbd>
+              </Button>
+              <Button
+                size="sm"
+                variant="quiet"
+                onClick={review.undo}
+                disabled={!review.canUndo}
+                title={review.undoLabel ? `Undo: ${review.undoLabel}` : "Nothing to undo"}
+              >
+                Undo <Kbd>U</Kbd>
+              </Button>
+              <ZoomControl zoom={zoom} onZoom={setZoom} />
+              <ResplitControl
+                scan={scan}
+                onStarted={(next) => {
+                  review.forgetHistory();
+                  onScanChanged(next);
+                }}
+              />
+              <Button
+                size="sm"
+                variant="primary"
+                onClick={() => setConfirmAll(true)}
+                disabled={!editable || review.remaining === 0}
+              >
+                Approve all remaining{" "}
+                <Kbd tone="dark">⇧A</Kbd>
+              </Button>
+            </>
+          )}
+        </div>
+      </div>
+
+      {scan.status === "ready" && scan.stage?.startsWith("The split failed") && (
+        <Notice tone="error" title="The last split did not finish">
+          {scan.stage}
+        </Notice>
+      )}
+
+      <div className="grid grid-cols-[minmax(0,1fr)_22rem] gap-3">
+        <div className="flex min-w-0 flex-col gap-3">
+          <div className="h-[max(22rem,calc(100vh-24.5rem))]">
+            {fragments.length === 0 && !splitting ? (
+              <div className="relative size-full">
+                <ReviewOverlay
+                  scan={scan}
+                  fragments={[]}
+                  drawing={shown.drawing}
+                  primaryId={null}
+                  pickedIds={[]}
+                  editable={editable}
+                  drawMode={drawMode}
+                  zoom={1}
+                  minDrawPx={minDrawPx}
+                  onSelect={() => {}}
+                  onClear={() => {}}
+                  onPlace={() => {}}
+                  onDraw={review.drawNew}
+                />
+                {!drawMode && (
+                  <p className="absolute inset-x-0 top-4 mx-auto w-fit rounded-md bg-paper-50/95 px-4 py-2 text-sm text-ink-soft shadow">
+                    The split found no pieces on this scan. Draw one (<Kbd>D</Kbd>) or split
+                    again with a higher sensitivity.
+                  </p>
+                )}
+              </div>
+            ) : (
+              <ReviewOverlay
+                scan={scan}
+                fragments={fragments}
+                drawing={shown.drawing}
+                primaryId={review.primaryId}
+                pickedIds={review.picked}
+                editable={editable}
+                drawMode={drawMode}
+                zoom={zoom}
+                minDrawPx={minDrawPx}
+                onSelect={review.select}
+                onClear={review.clear}
+                onPlace={(id, before, after) => review.place(id, before, after)}
+                onDraw={(rect) => {
+                  setDrawMode(false);
+                  review.drawNew(rect);
+                }}
+              />
+            )}
+          </div>
+          <FragmentStrip
+            fragments={fragments}
+            primaryId={review.primaryId}
+            pickedIds={review.picked}
+            unit={unit}
+            onUnit={setUnit}
+            onSelect={review.select}
+          />
+        </div>
+        <div className="relative min-h-0">
+          <div className="absolute inset-0 flex flex-col">
+            <FragmentPanel
+              fragment={review.primary}
+              count={fragments.length}
+              review={review}
+              editable={editable}
+            />
+          </div>
+        </div>
+      </div>
+
+      <KeyLegend announcement={review.announcement} />
+
+      <ConfirmDialog
+        open={confirmAll}
+        title={`Approve the ${review.remaining} remaining ${review.remaining === 1 ? "fragment" : "fragments"}?`}
+        confirmLabel="Approve all"
+        tone="primary"
+        initialFocus="confirm"
+        onCancel={() => setConfirmAll(false)}
+        onConfirm={() => {
+          setConfirmAll(false);
+          review.approveRemaining();
+        }}
+      >
+        Every fragment still to review on this scan is approved and its master and web copy are
+        rendered. <Kbd>Enter</Kbd> approves, <Kbd>Esc</Kbd> goes back; <Kbd>U</Kbd> undoes it
+        afterwards.
+      </ConfirmDialog>
+    </div>
+  );
+}
+
+function ReviewCounts({ fragments }: { fragments: ShownFragment[] }) {
+  const count = (status: ShownFragment["status"]) =>
+    fragments.filter((f) => f.status === status).length;
+  const items = (["proposed", "approved", "rejected"] as const).map((status) => ({
+    status,
+    n: count(status),
+  }));
+  const left = items[0]!.n;
+  return (
+    <div
+      className="mt-1 flex flex-wrap items-center gap-x-4 gap-y-1 text-sm"
+      role="group"
+      aria-label="Review progress"
+    >
+      {items.map(({ status, n }) => (
+        <span
+          key={status}
+          className={cn(
+            "flex items-center gap-1.5",
+            n === 0 ? "text-ink-muted" : "text-ink",
+          )}
+          data-testid={`count-${status}`}
+        >
+          <FragmentStatusGlyph
+            status={status}
+            className={
+              status === "approved" ? "text-accent" : status === "rejected" ? "text-brick" : "text-ochre"
+            }
+          />
+          <span className="figure font-semibold">{n}</span>
+          {FRAGMENT_STATUS_LABELS[status].toLowerCase()}
+        </span>
+      ))}
+      {fragments.length > 0 && left === 0 && (
+        <span className="rounded-full bg-accent-faint px-2.5 py-0.5 text-xs font-medium text-accent-strong">
+          All reviewed
+        </span>
+      )}
+    </div>
+  );
+}
+
+function ZoomControl({ zoom, onZoom }: { zoom: number; onZoom: (zoom: number) => void }) {
+  const i = ZOOMS.indexOf(zoom);
+  return (
+    <div
+      className="flex items-center rounded-md border border-paper-300 bg-paper-50"
+      role="group"
+      aria-label="Zoom"
+    >
+      <button
+        type="button"
+        className="h-8 px-2.5 text-sm text-ink-soft hover:bg-paper-200 disabled:text-ink-faint"
+        onClick={() => onZoom(ZOOMS[Math.max(0, i - 1)]!)}
+        disabled={i <= 0}
+        aria-label="Zoom out"
+      >
+        −
+      </button>
+      <button
+        type="button"
+        className="figure h-8 min-w-14 border-x border-paper-300 px-2 text-xs text-ink hover:bg-paper-200"
+        onClick={() => onZoom(zoom === 1 ? 3 : 1)}
+        title="Z: close-up of the selected fragment, or the whole scan"
+      >
+        {zoom === 1 ? "Whole" : `${zoom}×`}
+      </button>
+      <button
+        type="button"
+        className="h-8 px-2.5 text-sm text-ink-soft hover:bg-paper-200 disabled:text-ink-faint"
+        onClick={() => onZoom(ZOOMS[Math.min(ZOOMS.length - 1, i + 1)]!)}
+        disabled={i >= ZOOMS.length - 1}
+        aria-label="Zoom in"
+      >
+        +
+      </button>
+    </div>
+  );
+}

@@ -1,0 +1,61 @@
+import { useState } from "react";
+import { Link } from "react-router-dom";
+import type { Fragment } from "../../../../shared/schemas/fragments";
+import { paths } from "../../../config/paths";
+import { fragmentThumbUrl } from "../api/get-fragment";
+import { formatFragmentSize, fragmentName, type LengthUnit } from "../format";
+
+/** Approved fragments as a grid of upright pictures, each with its name and size. */
+export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: LengthUnit }) {
+  return (
+    <ul
+      className="grid grid-cols-[repeat(auto-fill,minmax(11rem,1fr))] gap-4"
+      aria-label="Approved fragments"
+    >
+      {fragments.map((f) => (
+        <li key={f.id}>
+          <Link
+            to={paths.fragment(f.id)}
+            className="group flex h-full flex-col overflow-hidden rounded-xl border border-paper-300 bg-paper-50 shadow-sheet hover:border-ink-faint focus-visible:border-accent"
+          >
+            <Picture fragment={f} />
+            <span className="flex flex-1 flex-col gap-0.5 px-3 py-2.5">
+              <span className="truncate text-sm font-medium text-ink group-hover:text-accent">
+                {fragmentName(f)}
+              </span>
+              <span className="figure text-xs text-ink-muted">
+                {formatFragmentSize(f.rect, f.dpi, unit)}
+              </span>
+              {f.renderState !== "done" && (
+                <span className="text-xs text-ink-muted">
+                  {f.renderState === "failed" ? "Render failed" : "Files being made…"}
+                </span>
+              )}
+            </span>
+          </Link>
+        </li>
+      ))}
+    </ul>
+  );
+}
+
+function Picture({ fragment }: { fragment: Fragment }) {
+  const url = fragmentThumbUrl(fragment);
+  const [broken, setBroken] = useState<string | null>(null);
+  return (
+    <span className="flex aspect-[4/3] items-center justify-center border-b border-paper-200 bg-[#e7e2d6] p-3">
+      {broken === url ? (
+        <span className="text-xs text-ink-faint">No picture</span>
+      ) : (
+        <img
+          src={url}
+          alt=""
+          loading="lazy"
+          decoding="async"
+          onError={() => setBroken(url)}
+          className="max-h-full max-w-full bg-white object-contain shadow-sm"
+        />
+      )}
+    </span>
+  );
+}
