@@ -8,7 +8,10 @@ import type { Library } from "../../server/storage/library";
 import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
 import { renderPayload } from "../../shared/schemas/jobs";
-import { renderFragment } from "../pipeline/render";
+import { isRenderError, renderFragment } from "../pipeline/render";
+import { isScanError } from "../pipeline/metadata";
+import { recipeVersionFor } from "../../server/services/recipes";
+import { settleBatchItem } from "../../server/services/batches";
 import type { JobContext } from "./context";
 
 export interface RenderDeps {
@@ -27,19 +30,33 @@ export const webKey = (fragmentId: string, format: "jpeg" | "webp") => `web/${fr
  * not rendered again. Errors throw, so the queue retries; the last attempt records the message.
  */
 export async function renderFragmentJob(deps: RenderDeps, data: unknown, ctx: JobContext): Promise<void> {
-  const { fragmentId, revision } = renderPayload.parse(data);
+  const { fragmentId, revision, batchItemId } = renderPayload.parse(data);
   const { db, pool } = deps.database;
-  const log = deps.log.child({ jobId: ctx.jobId, fragmentId, revision });
+  const log = deps.log.child({ jobId: ctx.jobId, fragmentId, revision, batchItemId });
+  const settle = async (state: "running" | "done" | "failed", error: string | null = null) => {
+    if (batchItemId) await settleBatchItem(db, batchItemId, state, error);
+  };
   const [row] = await db.select().from(fragments).where(eq(fragments.id, fragmentId));
-  if (!row || row.status !== "approved" || row.mergedInto) return log.info("render: fragment no longer approved");
-  if (row.revision !== revision) return log.info({ current: row.revision }, "render: a newer revision will be rendered");
+  if (!row || row.status !== "approved" || row.mergedInto) {
+    await settle("failed", "The fragment is no longer approved.");
+    return log.info("render: fragment no longer approved");
+  }
+  if (row.revision !== revision) {
+    // A newer edit queued its own render; this batch item follows whatever that makes.
+    await settle("done");
+    return log.info({ current: row.revision }, "render: a newer revision will be rendered");
+  }
+  const recipe = await recipeVersionFor(db, fragmentId);
   const made = await db.select().from(outputs).where(eq(outputs.fragmentId, fragmentId));
-  if (made.length >= 2 && made.every((o) => o.revision === revision)) {
+  if (made.length >= 2 && made.every((o) => o.revision === revision && o.recipeVersionId === recipe.id)) {
     await db.update(fragments).set({ renderState: "done" }).where(eq(fragments.id, fragmentId));
-    return log.info("render: already rendered");
+    await settle("done");
+    await notify(pool, { kind: "scan", scanId: row.scanId });
+    return log.info("render: already rendered with this recipe version");
   }
   const [scan] = await db.select().from(scans).where(eq(scans.id, row.scanId));
   if (!scan) return;
+  await settle("running");
 
   const setState = async (state: "rendering" | "done" | "failed", error: string | null = null) => {
     await db
@@ -73,14 +90,19 @@ export async function renderFragmentJob(deps: RenderDeps, data: unknown, ctx: Jo
     ]) {
       await db
         .insert(outputs)
-        .values({ fragmentId, revision, ...o })
-        .onConflictDoUpdate({ target: [outputs.fragmentId, outputs.kind], set: { ...o, revision, updatedAt: now, createdAt: now } });
+        .values({ fragmentId, revision, recipeVersionId: recipe.id, ...o })
+        .onConflictDoUpdate({ target: [outputs.fragmentId, outputs.kind], set: { ...o, revision, recipeVersionId: recipe.id, updatedAt: now, createdAt: now } });
     }
     await setState("done");
+    await settle("done");
     log.info({ master: `${r.master.width}×${r.master.height}`, dpi: r.master.dpi }, "render: done");
   } catch (err) {
-    const last = ctx.retryCount >= ctx.retryLimit;
+    // Bad geometry or an unreadable scan will not improve with a retry.
+    const permanent = isScanError(err) || (isRenderError(err) && err.code !== "failed");
+    const last = permanent || ctx.retryCount >= ctx.retryLimit;
     await setState(last ? "failed" : "rendering", last ? (err as Error).message : null).catch(() => {});
+    if (last) await settle("failed", (err as Error).message).catch(() => {});
+    if (permanent) return log.warn({ reason: (err as Error).message }, "render: failed");
     throw err;
   }
 }

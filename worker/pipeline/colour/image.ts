@@ -3,7 +3,7 @@
  * with or without alpha (alpha is carried through untouched). The thin sharp layer of the
  * colour pipeline: into raw, out of raw, and the reduced copy statistics are measured on.
  */
-import sharp from "sharp";
+import sharp, { type Sharp } from "sharp";
 
 export type BitDepth = 8 | 16;
 
@@ -19,7 +19,7 @@ export interface RawImage {
 }
 
 /** What the compiler accepts: a sharp pipeline (decoded once, at the depth asked for) or raw pixels. */
-export type ImageSource = sharp.Sharp | RawImage;
+export type ImageSource = Sharp | RawImage;
 
 /** Largest sample value at a depth. Example: maxValue(16) → 65535. */
 export function maxValue(depth: BitDepth): number {
@@ -89,7 +89,7 @@ export async function toRaw(source: ImageSource, bitDepth: BitDepth): Promise<Ra
  * A sharp pipeline reading `image`, in its own depth and colour space, ready for an encoder or
  * one spatial operation. Example: await sharpFromRaw(img).tiff().toFile("out.tif") keeps 16 bits.
  */
-export function sharpFromRaw(image: RawImage): sharp.Sharp {
+export function sharpFromRaw(image: RawImage): Sharp {
   // sharp reads the sample size from the typed array (Uint16Array → 16-bit); its types say Buffer.
   const s = sharp(image.data as unknown as Buffer, {
     raw: { width: image.width, height: image.height, channels: image.channels },
@@ -100,7 +100,7 @@ export function sharpFromRaw(image: RawImage): sharp.Sharp {
 }
 
 /** Reads sharp's raw output back into a RawImage of the same depth and layout as `like`. */
-export async function rawFromSharp(pipeline: sharp.Sharp, like: Pick<RawImage, "bitDepth">): Promise<RawImage> {
+export async function rawFromSharp(pipeline: Sharp, like: Pick<RawImage, "bitDepth">): Promise<RawImage> {
   const { data, info } = await pipeline
     .raw({ depth: like.bitDepth === 16 ? "ushort" : "uchar" })
     .toBuffer({ resolveWithObject: true });
@@ -121,8 +121,10 @@ export const STATS_PIXELS = 1_000_000;
 
 /**
  * A reduced copy of at most `maxPixels` pixels (same depth and channels), for measuring
- * statistics; an image already that small is returned as it is. Triangle (linear) kernel: no
- * ringing, so no new extremes for automatic levels to clip.
+ * statistics; an image already that small is returned as it is. Point-sampled (nearest
+ * neighbour), not averaged: a regular sample of the pixels has the full image's histogram,
+ * grain and noise included, where an averaged copy would have narrower tails and automatic
+ * levels measured on it would clip more at full resolution than they promise.
  * Example: a 4000 × 3000 image → 1155 × 866.
  */
 export async function reducedCopy(image: RawImage, maxPixels = STATS_PIXELS): Promise<RawImage> {
@@ -130,5 +132,5 @@ export async function reducedCopy(image: RawImage, maxPixels = STATS_PIXELS): Pr
   if (scale >= 1) return image;
   const width = Math.max(1, Math.floor(image.width * scale));
   const height = Math.max(1, Math.floor(image.height * scale));
-  return rawFromSharp(sharpFromRaw(image).resize(width, height, { fit: "fill", kernel: "linear" }), image);
+  return rawFromSharp(sharpFromRaw(image).resize(width, height, { fit: "fill", kernel: "nearest" }), image);
 }

@@ -100,12 +100,16 @@ export function ReviewWorkspace({
 
   return (
     <div className="flex flex-col gap-3">
-      <div className="flex flex-wrap items-end justify-between gap-3">
-        <div className="min-w-0">
+      <div className="flex items-end justify-between gap-3">
+        <div className="min-w-0 shrink-0">
           {heading}
           <ReviewCounts fragments={fragments} />
         </div>
-        <div className="flex flex-wrap items-center gap-2" role="toolbar" aria-label="Review tools">
+        <div
+          className="flex flex-wrap items-center justify-end gap-2"
+          role="toolbar"
+          aria-label="Review tools"
+        >
           {splitting ? (
             <ResplitProgress scan={scan} />
           ) : (
@@ -264,36 +268,42 @@ function ReviewCounts({ fragments }: { fragments: ShownFragment[] }) {
     status,
     n: count(status),
   }));
-  const left = items[0]!.n;
   return (
     <div
       className="mt-1 flex flex-wrap items-center gap-x-4 gap-y-1 text-sm"
       role="group"
       aria-label="Review progress"
     >
-      {items.map(({ status, n }) => (
-        <span
-          key={status}
-          className={cn(
-            "flex items-center gap-1.5",
-            n === 0 ? "text-ink-muted" : "text-ink",
-          )}
-          data-testid={`count-${status}`}
-        >
-          <FragmentStatusGlyph
-            status={status}
-            className={
-              status === "approved" ? "text-accent" : status === "rejected" ? "text-brick" : "text-ochre"
-            }
-          />
-          <span className="figure font-semibold">{n}</span>
-          {FRAGMENT_STATUS_LABELS[status].toLowerCase()}
-        </span>
-      ))}
-      {fragments.length > 0 && left === 0 && (
-        <span className="rounded-full bg-accent-faint px-2.5 py-0.5 text-xs font-medium text-accent-strong">
-          All reviewed
-        </span>
+      {items.map(({ status, n }) =>
+        status === "proposed" && n === 0 && fragments.length > 0 ? (
+          <span
+            key={status}
+            data-testid="count-proposed"
+            className="flex items-center gap-1.5 rounded-full bg-accent-faint px-2.5 py-0.5 text-xs font-medium text-accent-strong"
+          >
+            <span className="figure sr-only">0</span>
+            All reviewed
+          </span>
+        ) : (
+          <span
+            key={status}
+            className={cn("flex items-center gap-1.5", n === 0 ? "text-ink-muted" : "text-ink")}
+            data-testid={`count-${status}`}
+          >
+            <FragmentStatusGlyph
+              status={status}
+              className={
+                status === "approved"
+                  ? "text-accent"
+                  : status === "rejected"
+                    ? "text-brick"
+                    : "text-ochre"
+              }
+            />
+            <span className="figure font-semibold">{n}</span>
+            {FRAGMENT_STATUS_LABELS[status].toLowerCase()}
+          </span>
+        ),
       )}
     </div>
   );

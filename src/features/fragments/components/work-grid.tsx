@@ -43,7 +43,7 @@ function Picture({ fragment }: { fragment: Fragment }) {
   const url = fragmentThumbUrl(fragment);
   const [broken, setBroken] = useState<string | null>(null);
   return (
-    <span className="flex aspect-[4/3] items-center justify-center border-b border-paper-200 bg-[#e7e2d6] p-3">
+    <span className="flex h-40 items-center justify-center overflow-hidden border-b border-paper-200 bg-[#e7e2d6] p-3">
       {broken === url ? (
         <span className="text-xs text-ink-faint">No picture</span>
       ) : (

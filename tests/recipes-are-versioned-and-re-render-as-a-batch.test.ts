@@ -1,0 +1,133 @@
+import fs from "node:fs/promises";
+import path from "node:path";
+import sharp from "sharp";
+import { eq } from "drizzle-orm";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import supertest from "supertest";
+import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { outputs, fragments as fragmentsTable } from "../server/db/schema";
+import type { Fragment } from "../shared/schemas/fragments";
+import type { RecipeSummary } from "../shared/schemas/recipe-api";
+
+let stack: Stack;
+let operator: supertest.Agent;
+let scanId: string;
+let intakeId: string;
+
+/** Two saturated pieces on a white lid (invented test data). */
+async function twoPieceScan(): Promise<Buffer> {
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="700">
+    <rect width="100%" height="100%" fill="#f6f6f3"/>
+    <rect x="100" y="100" width="400" height="400" fill="#c0392b"/>
+    <rect x="700" y="150" width="350" height="420" fill="#1e8449"/>
+  </svg>`;
+  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+}
+
+const fragmentsOf = async () => (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+
+async function allRendered(recipeVersionId?: string) {
+  return waitFor("every fragment to be rendered", async () => {
+    const list = await fragmentsOf();
+    if (list.some((f) => f.renderState === "failed")) throw new Error(list.map((f) => f.renderError).join("; "));
+    if (!list.every((f) => f.renderState === "done")) return null;
+    const rows = await stack.db.select().from(outputs);
+    if (recipeVersionId && !rows.every((o) => o.recipeVersionId === recipeVersionId)) return null;
+    return rows.length === list.length * 2 ? rows : null;
+  }, 60_000);
+}
+
+/** Mean chroma (max − min of R, G, B) of a web copy: a recipe that removes saturation drives it to 0. */
+async function meanChroma(key: string) {
+  const { data, info } = await sharp(stack.library.pathFor(key)).removeAlpha().raw().toBuffer({ resolveWithObject: true });
+  let sum = 0;
+  for (let i = 0; i < data.length; i += info.channels) sum += Math.max(data[i]!, data[i + 1]!, data[i + 2]!) - Math.min(data[i]!, data[i + 1]!, data[i + 2]!);
+  return sum / (data.length / info.channels);
+}
+
+beforeAll(async () => {
+  stack = await startStack({ watcher: false });
+  operator = await userAgent(stack, "operator");
+  const file = path.join(stack.inbox, "two-pieces.tif");
+  await fs.writeFile(file, await twoPieceScan());
+  const up = await operator.post("/api/scans/upload").attach("files", file);
+  scanId = up.body.results[0].scanId;
+  const scan = await waitFor("the scan to be split", async () => {
+    const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
+    return s.status === "ready" && s.fragments.total === 2 ? s : null;
+  }, 45_000);
+  intakeId = scan.intake.id;
+  await operator.post(`/api/scans/${scanId}/approve-remaining`);
+});
+afterAll(async () => {
+  await stack?.stop();
+});
+
+describe("recipes", () => {
+  it("the built-in default recipe colours every fragment that has none, and outputs record its version", async () => {
+    const list = (await operator.get("/api/recipes")).body.recipes as RecipeSummary[];
+    const builtIn = list.find((r) => r.builtIn)!;
+    expect(builtIn).toMatchObject({ name: "default", version: 1, studioDefault: true });
+    expect(builtIn.steps.map((s) => s.type)).toEqual(["whiteBalance", "levels"]);
+    const rows = await allRendered(builtIn.versionId);
+    expect(rows.every((o) => o.recipeVersionId === builtIn.versionId)).toBe(true);
+  });
+
+  it("saving an edit makes a new version; identical steps do not", async () => {
+    const created = await operator.post("/api/recipes").send({ name: "Muted stock", steps: [{ type: "saturation", saturation: -0.2 }] });
+    expect(created.status).toBe(201);
+    const id = created.body.recipe.id as string;
+    expect(created.body.recipe.version).toBe(1);
+    const same = await operator.patch(`/api/recipes/${id}`).send({ steps: created.body.recipe.steps });
+    expect(same.body.recipe.version).toBe(1);
+    const edited = await operator.patch(`/api/recipes/${id}`).send({ steps: [{ type: "saturation", saturation: -1 }] });
+    expect(edited.body.recipe.version).toBe(2);
+    expect(edited.body.versions.map((v: { version: number }) => v.version)).toEqual([2, 1]);
+    const dup = await operator.post("/api/recipes").send({ name: "muted STOCK", steps: [] });
+    expect(dup.status).toBe(409);
+    expect(dup.body.error.message).toBe('A recipe called "muted STOCK" already exists.');
+    const bad = await operator.post("/api/recipes").send({ name: "Bad", steps: [{ type: "levels", mode: "manual", gamma: 12 }] });
+    expect(bad.status).toBe(400);
+    expect(bad.body.error.message).toMatch(/gamma/i);
+  });
+
+  it("applying a recipe to an intake re-renders its approved fragments as one batch; outputs point at the new version", async () => {
+    const list = (await operator.get("/api/recipes")).body.recipes as RecipeSummary[];
+    const muted = list.find((r) => r.name === "Muted stock")!;
+    const before = await stack.db.select().from(outputs);
+    const web = before.find((o) => o.kind === "web")!;
+    const chromaBefore = await meanChroma(web.key);
+
+    const res = await operator.post(`/api/recipes/${muted.id}/apply`).send({ intakeId });
+    expect(res.status).toBe(200);
+    expect(res.body).toMatchObject({ fragments: 2, rerender: 2 });
+    const batchId = res.body.batch.id as string;
+    const batch = await waitFor("the batch to finish", async () => {
+      const b = (await operator.get(`/api/batches/${batchId}`)).body.batch;
+      return b.finishedAt ? b : null;
+    }, 60_000);
+    expect(batch.counts).toMatchObject({ done: 2, failed: 0, total: 2 });
+    const after = await allRendered(muted.versionId);
+    expect(after.every((o) => o.recipeVersionId === muted.versionId)).toBe(true);
+    // Saturation −1 leaves the pieces grey: the recipe really coloured the output.
+    const chromaAfter = await meanChroma(after.find((o) => o.kind === "web" && o.fragmentId === web.fragmentId)!.key);
+    expect(chromaBefore).toBeGreaterThan(40);
+    expect(chromaAfter).toBeLessThan(3);
+    const usage = ((await operator.get(`/api/recipes/${muted.id}`)).body.recipe as RecipeSummary).usage;
+    expect(usage).toMatchObject({ intakes: 1, outputs: 4 });
+  });
+
+  it("the most specific recipe wins: a fragment's own recipe over its intake's", async () => {
+    const [first] = await stack.db.select().from(fragmentsTable).where(eq(fragmentsTable.scanId, scanId));
+    const list = (await operator.get("/api/recipes")).body.recipes as RecipeSummary[];
+    const builtIn = list.find((r) => r.builtIn)!;
+    const res = await operator.post(`/api/recipes/${builtIn.id}/apply`).send({ fragmentIds: [first!.id] });
+    expect(res.body.rerender).toBe(1);
+    await waitFor("the one fragment to be re-rendered with the default", async () => {
+      const rows = await stack.db.select().from(outputs).where(eq(outputs.fragmentId, first!.id));
+      return rows.length === 2 && rows.every((o) => o.recipeVersionId === builtIn.versionId) ? rows : null;
+    }, 60_000);
+    const other = await stack.db.select().from(outputs);
+    expect(other.filter((o) => o.fragmentId !== first!.id).every((o) => o.recipeVersionId !== builtIn.versionId)).toBe(true);
+  });
+});
