@@ -1,3 +1,4 @@
+import sharp from "sharp";
 import fs from "node:fs";
 import path from "node:path";
 import { config } from "./config";
@@ -10,6 +11,9 @@ import { sessionSecret } from "./services/bootstrap";
 import { createApp } from "./app";
 
 /** The web server process. The database is prepared beforehand (scripts/prepare.ts). */
+// Files under one library key can be rewritten (a new render); never serve a decoded copy from cache.
+sharp.cache(false);
+
 async function main() {
   const cfg = config();
   const log = logger;

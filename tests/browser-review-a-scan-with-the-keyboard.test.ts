@@ -44,7 +44,9 @@ async function selectedPosition(page: Page): Promise<number> {
 
 /** The status a fragment shows on the scan overlay (the SVG group carries it). */
 const overlayStatus = (page: Page, position: number) =>
-  page.getByRole("img", { name: new RegExp(`^Fragment ${position}: `) }).getAttribute("data-status");
+  page
+    .getByRole("img", { name: new RegExp(`^Fragment ${position}: `) })
+    .getAttribute("data-status");
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
@@ -108,13 +110,17 @@ describe("reviewing a scan in the browser", () => {
     await page.keyboard.press("u");
     await expect.poll(() => overlayStatus(page, 2)).toBe("proposed");
     await expect.poll(() => selectedPosition(page)).toBe(2);
-    await expect.poll(() => page.getByTestId("review-status").textContent()).toBe("Undone: Rejected fragment 2");
+    await expect
+      .poll(() => page.getByTestId("review-status").textContent())
+      .toBe("Undone: Rejected fragment 2");
 
     // The server holds the same: the reject and its undo arrived in order.
     await waitFor("the server to have 1 approved and 2 back to review", async () => {
       const list = await serverFragments();
       const byPos = new Map(list.map((f) => [f.position, f.status]));
-      return byPos.get(1) === "approved" && byPos.get(2) === "proposed" && byPos.get(3) === "proposed";
+      return (
+        byPos.get(1) === "approved" && byPos.get(2) === "proposed" && byPos.get(3) === "proposed"
+      );
     });
 
     // Approve all remaining: Shift+A asks first; Enter confirms.
@@ -125,7 +131,8 @@ describe("reviewing a scan in the browser", () => {
     await dialog.waitFor({ state: "hidden" });
     await expect.poll(() => page.getByTestId("count-proposed").textContent()).toMatch(/^0/);
     await expect.poll(() => page.getByTestId("count-approved").textContent()).toMatch(/^4/);
-    for (const position of [1, 2, 3, 4]) expect(await overlayStatus(page, position)).toBe("approved");
+    for (const position of [1, 2, 3, 4])
+      expect(await overlayStatus(page, position)).toBe("approved");
 
     // The masters appear without a reload: each fragment's panel, reached with the keys, shows
     // the render done, the master's size and DPI and a download link.
@@ -135,14 +142,20 @@ describe("reviewing a scan in the browser", () => {
       await expect.poll(() => selectedPosition(page)).toBe(position);
       const panel = page.getByRole("complementary", { name: "Selected fragment" });
       await expect
-        .poll(() => panel.locator("[data-render-state]").getAttribute("data-render-state"), { timeout: 60_000 })
+        .poll(() => panel.locator("[data-render-state]").getAttribute("data-render-state"), {
+          timeout: 60_000,
+        })
         .toBe("done");
       const size = (await panel.getByTestId("master-size").textContent()) ?? "";
       expect(size).toMatch(/^\d+ × \d+ px · 300 DPI$/);
       const link = panel.getByRole("link", { name: /^Download the master/ });
-      expect(await link.getAttribute("href")).toMatch(/^\/api\/fragments\/[0-9a-f-]+\/outputs\/master$/);
+      expect(await link.getAttribute("href")).toMatch(
+        /^\/api\/fragments\/[0-9a-f-]+\/outputs\/master$/,
+      );
     }
-    expect(await page.evaluate(() => (window as unknown as { __noReload?: boolean }).__noReload)).toBe(true);
+    expect(
+      await page.evaluate(() => (window as unknown as { __noReload?: boolean }).__noReload),
+    ).toBe(true);
 
     // What the screen showed is what the server rendered: four upright 300 DPI masters.
     const list = await serverFragments();
@@ -151,6 +164,81 @@ describe("reviewing a scan in the browser", () => {
     // Piece 1 is drawn 420 × 300 px upright; the split may differ by a few pixels at its edges.
     expect(Math.abs(first.width - 420)).toBeLessThanOrEqual(4);
     expect(Math.abs(first.height - 300)).toBeLessThanOrEqual(4);
+    await page.close();
+  });
+
+  it("a drag is sent once, on release, and a drawn fragment is taken back by undo", async () => {
+    // Still signed in as the operator from the test before.
+    const page = await browser.context.newPage();
+    await page.goto(`${stack.url}/scans/${scanId}/review`);
+    await expect.poll(() => selectedPosition(page), { timeout: 10_000 }).toBe(1);
+    const patches: string[] = [];
+    page.on("request", (r) => {
+      if (r.method() === "PATCH") patches.push(r.postData() ?? "");
+    });
+    const before = (await serverFragments()).find((f) => f.position === 1)!;
+
+    // Scan pixels to screen pixels, through the overlay's own transform.
+    const toScreen = (x: number, y: number) =>
+      page.evaluate(
+        ([sx, sy]) => {
+          const svg = document.querySelector<SVGSVGElement>("svg[aria-label*='fragments marked']")!;
+          const p = new DOMPoint(sx, sy).matrixTransform(svg.getScreenCTM()!);
+          return [p.x, p.y] as const;
+        },
+        [x, y],
+      );
+
+    // Drag the right edge handle of fragment 1 outwards by 60 scan pixels, in several moves.
+    const { rect, angle } = before;
+    const t = (angle * Math.PI) / 180;
+    const edge = [
+      rect.cx + (rect.width / 2) * Math.cos(-t),
+      rect.cy + (rect.width / 2) * Math.sin(-t),
+    ];
+    const [x0, y0] = await toScreen(edge[0]!, edge[1]!);
+    const [x1, y1] = await toScreen(edge[0]! + 60 * Math.cos(-t), edge[1]! + 60 * Math.sin(-t));
+    await page.mouse.move(x0, y0);
+    await page.mouse.down();
+    for (let i = 1; i <= 6; i++)
+      await page.mouse.move(x0 + ((x1 - x0) * i) / 6, y0 + ((y1 - y0) * i) / 6);
+    expect(patches).toEqual([]);
+    await page.mouse.up();
+    const grown = await waitFor("the wider rectangle on the server", async () => {
+      const f = (await serverFragments()).find((x) => x.position === 1)!;
+      return f.rect.width > rect.width + 40 ? f : null;
+    });
+    expect(patches).toHaveLength(1);
+    expect(Math.abs(grown.rect.width - rect.width - 60)).toBeLessThan(6);
+    expect(grown.angle).toBe(angle);
+
+    // Undo puts it back.
+    await page.keyboard.press("u");
+    await waitFor("the rectangle back as it was", async () => {
+      const f = (await serverFragments()).find((x) => x.position === 1)!;
+      return Math.abs(f.rect.width - rect.width) < 0.2 ? f : null;
+    });
+
+    // Draw mode: drag out a rectangle on an empty part of the bed.
+    await page.keyboard.press("d");
+    const [dx0, dy0] = await toScreen(1150, 650);
+    const [dx1, dy1] = await toScreen(1400, 900);
+    await page.mouse.move(dx0, dy0);
+    await page.mouse.down();
+    for (let i = 1; i <= 6; i++)
+      await page.mouse.move(dx0 + ((dx1 - dx0) * i) / 6, dy0 + ((dy1 - dy0) * i) / 6);
+    await page.mouse.up();
+    const drawn = await waitFor("the drawn fragment", async () =>
+      (await serverFragments()).find((f) => f.origin === "drawn"),
+    );
+    expect(drawn.status).toBe("proposed");
+    expect(Math.abs(drawn.rect.width - 250)).toBeLessThan(6);
+    await expect.poll(() => selectedPosition(page)).toBe(drawn.position);
+    // Undoing a drawing rejects what was drawn.
+    await page.keyboard.press("u");
+    await waitFor("the drawn fragment rejected", async () =>
+      (await serverFragments()).find((f) => f.id === drawn.id && f.status === "rejected"),
+    );
     await page.close();
   });
 
@@ -167,7 +255,9 @@ describe("reviewing a scan in the browser", () => {
     await page.waitForURL("**/fragments/**");
     await page.getByRole("link", { name: /^Download the master/ }).waitFor();
     expect(await page.getByRole("link", { name: /^Download the web copy/ }).count()).toBe(1);
-    expect(await page.getByRole("button", { name: /Save description|Approve|Reject|Reset/ }).count()).toBe(0);
+    expect(
+      await page.getByRole("button", { name: /Save description|Approve|Reject|Reset/ }).count(),
+    ).toBe(0);
     expect(await page.getByRole("link", { name: /^Review / }).count()).toBe(0);
 
     // The scans list has no review links for a viewer, and the review screen itself is refused.
@@ -175,7 +265,9 @@ describe("reviewing a scan in the browser", () => {
     await page.getByRole("link", { name: SCAN_NAME }).waitFor();
     expect(await page.getByRole("link", { name: /^Review / }).count()).toBe(0);
     await page.goto(`${stack.url}/scans/${scanId}/review`);
-    await expect.poll(() => page.getByText(/not allowed/i).count(), { timeout: 10_000 }).toBeGreaterThan(0);
+    await expect
+      .poll(() => page.getByText(/not allowed/i).count(), { timeout: 10_000 })
+      .toBeGreaterThan(0);
     expect(await page.locator("svg g[data-fragment]").count()).toBe(0);
     await page.close();
   });

@@ -9,6 +9,9 @@ import { outputs, fragments as fragmentsTable } from "../server/db/schema";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { RecipeSummary } from "../shared/schemas/recipe-api";
 
+// Outputs are rewritten under the same name: read them fresh each time.
+sharp.cache(false);
+
 let stack: Stack;
 let operator: supertest.Agent;
 let scanId: string;

@@ -1,3 +1,4 @@
+import sharp from "sharp";
 import { config } from "../server/config";
 import { logger } from "../server/logger";
 import { openDatabase } from "../server/db";
@@ -6,6 +7,9 @@ import { Library } from "../server/storage/library";
 import { startWorker } from "./worker";
 
 /** A worker process. Run as many as you like, on any machine that reaches the database and library. */
+// Files under one library key can be rewritten (a new render); never serve a decoded copy from cache.
+sharp.cache(false);
+
 async function main() {
   const cfg = config();
   const log = logger;

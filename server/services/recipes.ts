@@ -9,6 +9,13 @@ import type { ApplyRecipeBody, CreateRecipeBody, RecipeSummary, UpdateRecipeBody
 import { createBatch } from "./batches";
 
 type RecipeRow = typeof recipes.$inferSelect;
+
+/** JSON with keys in a fixed order: jsonb does not keep the order they were written in. */
+function canonical(value: unknown): string {
+  return JSON.stringify(value, (_k, v: unknown) =>
+    v && typeof v === "object" && !Array.isArray(v) ? Object.fromEntries(Object.entries(v).sort(([a], [b]) => a.localeCompare(b))) : v,
+  );
+}
 export type RecipeVersionRow = typeof recipeVersions.$inferSelect;
 
 /** Puts the recipes that ship with Platen in the database (version 1), once. */
@@ -121,7 +128,7 @@ export async function updateRecipe(db: Db, actorId: string, id: string, body: Up
     if (body.steps) {
       const latest = await latestVersion(tx as unknown as Db, id);
       const steps = body.steps.map((s) => recipeStepSchema.parse(s));
-      if (JSON.stringify(steps) !== JSON.stringify(latest.steps)) {
+      if (canonical(steps) !== canonical(latest.steps)) {
         await tx.insert(recipeVersions).values({ recipeId: id, version: latest.version + 1, steps, createdBy: actorId });
       }
     }

@@ -44,7 +44,7 @@ function describe(input: unknown): string {
   if (typeof input === "string") return JSON.stringify(input);
   if (typeof input === "number" || typeof input === "boolean") return String(input);
   if (Array.isArray(input)) return `a list of ${input.length}`;
-  return `a ${typeof input}`;
+  return typeof input === "object" ? "an object" : `a ${typeof input}`;
 }
 
 /** A number within [min, max] whose errors name it. */

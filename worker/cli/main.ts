@@ -5,12 +5,13 @@
  * To add a command, write a module exporting a `Command` and list it in COMMANDS.
  */
 import { infoCommand } from "./info";
+import { renderCommand } from "./render";
 import { splitCommand } from "./split";
 import { EXIT_FAILED, EXIT_USAGE, UsageError, oneLine, type CliIo, type Command } from "./command";
 
 export type { CliIo, Command } from "./command";
 
-const COMMANDS: readonly Command[] = [infoCommand, splitCommand];
+const COMMANDS: readonly Command[] = [infoCommand, splitCommand, renderCommand];
 
 function helpText(): string {
   const width = Math.max(...COMMANDS.map((c) => c.usage.length));

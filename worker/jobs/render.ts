@@ -8,6 +8,7 @@ import type { Library } from "../../server/storage/library";
 import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
 import { renderPayload } from "../../shared/schemas/jobs";
+import type { RecipeInput } from "../../shared/schemas/recipes";
 import { isRenderError, renderFragment } from "../pipeline/render";
 import { isScanError } from "../pipeline/metadata";
 import { recipeVersionFor } from "../../server/services/recipes";
@@ -80,6 +81,10 @@ export async function renderFragmentJob(deps: RenderDeps, data: unknown, ctx: Jo
         dpi: { x: scan.dpiX ?? deps.config.defaultDpi, y: scan.dpiY ?? scan.dpiX ?? deps.config.defaultDpi },
         maxPixels: deps.config.maxPixels,
         metadata: { title: row.title ?? undefined },
+        recipe: {
+          recipe: { name: "recipe", steps: recipe.steps as RecipeInput["steps"] },
+          background: scan.splitBackground?.rgb,
+        },
       },
       { masterPath: deps.library.pathFor(mKey), webPath: deps.library.pathFor(wKey), webFormat },
     );

@@ -31,7 +31,9 @@ const icon = (d: string) => (
 
 const QUEUE_ICON = icon("M3 5h14M3 10h10M3 15h6");
 const SCANS_ICON = icon("M3.5 4.5h13v11h-13zM6 12l3-3 2.5 2.5L13 10l2 2");
-const WORK_ICON = icon("M3.5 3.5h5.5v5.5H3.5zM11 3.5h5.5v5.5H11zM3.5 11h5.5v5.5H3.5zM11 11h5.5v5.5H11z");
+const WORK_ICON = icon(
+  "M3.5 3.5h5.5v5.5H3.5zM11 3.5h5.5v5.5H11zM3.5 11h5.5v5.5H3.5zM11 11h5.5v5.5H11z",
+);
 const USERS_ICON = icon(
   "M7.5 9a2.5 2.5 0 1 0 0-5 2.5 2.5 0 0 0 0 5ZM3 16c.5-2.5 2.3-4 4.5-4s4 1.5 4.5 4M13.5 9a2 2 0 1 0 0-4M14.5 12c1.4.4 2.3 1.8 2.5 4",
 );

@@ -63,8 +63,7 @@ export function WorkRoute() {
       />
       {scanId && (
         <p className="mb-4 text-sm text-ink-soft">
-          From {scanName ? <span className="font-medium text-ink">{scanName}</span> : "one scan"}{" "}
-          ·{" "}
+          From {scanName ? <span className="font-medium text-ink">{scanName}</span> : "one scan"} ·{" "}
           <Link to={paths.work} className="text-accent underline underline-offset-2">
             show all approved work
           </Link>

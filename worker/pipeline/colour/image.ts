@@ -95,15 +95,22 @@ export function sharpFromRaw(image: RawImage): Sharp {
     raw: { width: image.width, height: image.height, channels: image.channels },
     limitInputPixels: false,
   });
-  if (image.bitDepth === 8) return s;
-  return s.toColourspace(image.channels <= 2 ? "grey16" : "rgb16");
+  // without an explicit output space sharp turns grey into RGB and 16 bits into 8
+  const grey = image.channels <= 2;
+  return s.toColourspace(grey ? (image.bitDepth === 16 ? "grey16" : "b-w") : image.bitDepth === 16 ? "rgb16" : "srgb");
 }
 
-/** Reads sharp's raw output back into a RawImage of the same depth and layout as `like`. */
-export async function rawFromSharp(pipeline: Sharp, like: Pick<RawImage, "bitDepth">): Promise<RawImage> {
+/**
+ * Reads sharp's raw output back into a RawImage at the depth of `like`, and checks it kept
+ * like's channels (a pipeline that changed them is a bug, not an image).
+ */
+export async function rawFromSharp(pipeline: Sharp, like: Pick<RawImage, "bitDepth" | "channels">): Promise<RawImage> {
   const { data, info } = await pipeline
     .raw({ depth: like.bitDepth === 16 ? "ushort" : "uchar" })
     .toBuffer({ resolveWithObject: true });
+  if (info.channels !== like.channels) {
+    throw new Error(`Expected sharp to return ${like.channels} channels but it returned ${info.channels}`);
+  }
   return {
     data:
       like.bitDepth === 16

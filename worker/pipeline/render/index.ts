@@ -14,6 +14,8 @@ import { isScanError } from "../errors";
 import { inspectScanFile } from "../inspect";
 import { colourPlan } from "./colour";
 import { cutUpright } from "./cut";
+import { correctCut, type RenderRecipe } from "./correct";
+import type { AppliedStep } from "../colour";
 import { isRenderError, renderErrors } from "./errors";
 import { checkGeometry, planUpright, type Point } from "./geometry";
 import { featherPixels, rasteriseMask } from "./mask";
@@ -23,6 +25,7 @@ import { discardStaged, commitStaged, stage, type StagedFile } from "./staging";
 import { WEB_LONG_EDGE, writeWebCopy, type WebFormat } from "./web";
 
 export { RenderError, isRenderError, type RenderErrorCode } from "./errors";
+export type { RenderRecipe } from "./correct";
 export { CUTOUT_FEATHER_MM } from "./mask";
 export { WEB_LONG_EDGE, type WebFormat } from "./web";
 
@@ -37,6 +40,8 @@ export interface RenderInput {
   maxPixels: number;
   /** Rights fields written into both files. */
   metadata?: { title?: string; creator?: string; copyright?: string };
+  /** Colour correction applied to the upright piece before both files are written. */
+  recipe?: RenderRecipe;
 }
 
 export interface RenderTargets {
@@ -67,6 +72,8 @@ export interface RenderResult {
     bytes: number;
   };
   web: { path: string; width: number; height: number; format: string; dpi: number; bytes: number };
+  /** The recipe's enabled steps as applied, for people ("levels (rgb, auto …)"); empty without a recipe. */
+  applied: AppliedStep[];
 }
 
 const WEB_FORMATS: readonly WebFormat[] = ["jpeg", "webp"];
@@ -184,8 +191,11 @@ export async function renderFragment(
   assertFits(geometry, width, height);
 
   const plan = planUpright(geometry, width, height);
-  const colour = colourPlan(inspected.meta);
-  const cut = await cutUpright(input.source, plan, colour, inspected, input.maxPixels);
+  const planned = colourPlan(inspected.meta);
+  const rawCut = await cutUpright(input.source, plan, planned, inspected, input.maxPixels);
+  const { cut, colour, applied } = input.recipe
+    ? await correctCut(rawCut, planned, input.recipe, input.dpi.x)
+    : { cut: rawCut, colour: planned, applied: [] };
   const outline: Point[] | null =
     geometry.shape === "cutout" ? geometry.outline.map((p) => plan.toUpright(p as Point)) : null;
   const alpha = outline
@@ -228,6 +238,7 @@ export async function renderFragment(
         bytes: masterBytes!,
       },
       web: { path: out.webPath, ...web, bytes: webBytes! },
+      applied,
     };
   } catch (err) {
     await discardStaged(staged);

@@ -68,7 +68,12 @@ export function DescriptionForm({
   };
 
   return (
-    <form onSubmit={submit} noValidate aria-label="Describe the fragment" className="flex flex-col gap-3">
+    <form
+      onSubmit={submit}
+      noValidate
+      aria-label="Describe the fragment"
+      className="flex flex-col gap-3"
+    >
       <TextField
         label="Title"
         data-fragment-title=""

@@ -5,11 +5,7 @@ import { Button } from "../../../components/button";
 import { paths } from "../../../config/paths";
 import { cn } from "../../../lib/cn";
 import type { ShownFragment } from "../api/pending-edits";
-import {
-  ORIGIN_LABELS,
-  confidenceWords,
-  formatFragmentSize,
-} from "../format";
+import { ORIGIN_LABELS, confidenceWords, formatFragmentSize } from "../format";
 import { AngleField } from "./angle-field";
 import { DescriptionForm } from "./description-form";
 import { FragmentStatusBadge } from "./fragment-status";
@@ -50,7 +46,12 @@ export function FragmentPanel({
             <span className="figure font-semibold">{picked}</span> selected
           </p>
           {editable && (
-            <Button size="sm" variant="primary" onClick={review.mergeSelected} busy={review.busy.merge}>
+            <Button
+              size="sm"
+              variant="primary"
+              onClick={review.mergeSelected}
+              busy={review.busy.merge}
+            >
               Merge <Kbd>M</Kbd>
             </Button>
           )}
@@ -120,6 +121,7 @@ function FragmentDetails({
               variant="quiet"
               onClick={review.resetSelected}
               disabled={!f.resettable}
+              className="disabled:text-ink-faint"
               aria-keyshortcuts="R"
               title={
                 f.resettable
@@ -139,7 +141,7 @@ function FragmentDetails({
                 busy={review.busy.unmerge}
                 aria-keyshortcuts="Shift+M"
               >
-                Unmerge
+                Unmerge <Kbd>⇧M</Kbd>
               </Button>
             )}
           </div>
@@ -149,7 +151,9 @@ function FragmentDetails({
       <dl className="px-4 py-2">
         <Row term="Size">
           <span className="figure block">{formatFragmentSize(f.rect, f.dpi, "mm")}</span>
-          <span className="figure block text-ink-soft">{formatFragmentSize(f.rect, f.dpi, "in")}</span>
+          <span className="figure block text-ink-soft">
+            {formatFragmentSize(f.rect, f.dpi, "in")}
+          </span>
         </Row>
         <Row term="Pixels">
           <span className="figure">
@@ -178,14 +182,21 @@ function FragmentDetails({
         </Row>
         <Row term="Confidence">
           <span className="figure">{Math.round(f.confidence * 100)} %</span>{" "}
-          <span className={cn("text-xs", f.confidence < 0.6 ? "font-medium text-ochre" : "text-ink-muted")}>
+          <span
+            className={cn(
+              "text-xs",
+              f.confidence < 0.6 ? "font-medium text-ochre" : "text-ink-muted",
+            )}
+          >
             {confidenceWords(f.confidence)}
           </span>
         </Row>
       </dl>
 
       <section aria-label="Render" className="border-t border-paper-200 px-4 py-3">
-        <h3 className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase">Files</h3>
+        <h3 className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase">
+          Files
+        </h3>
         <RenderState fragment={f} />
         <div className="mt-2">
           <OutputList fragment={f} compact />
@@ -200,7 +211,10 @@ function FragmentDetails({
 
       <section aria-label="Description" className="border-t border-paper-200 px-4 py-3">
         <h3 className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase">
-          Description <span className="font-normal normal-case">(<Kbd>T</Kbd> to type)</span>
+          Description{" "}
+          <span className="font-normal normal-case">
+            (<Kbd>T</Kbd> to type)
+          </span>
         </h3>
         <DescriptionForm
           key={`${f.id}|${f.title}|${f.tags.join(",")}|${f.notes}`}
@@ -225,7 +239,11 @@ function ShapeChoice({
     { value: "cutout" as const, label: "Cut-out", hint: "keeps its outline as transparency" },
   ];
   return (
-    <div role="radiogroup" aria-label="Shape" className="inline-flex rounded-md border border-paper-300 bg-white p-0.5">
+    <div
+      role="radiogroup"
+      aria-label="Shape"
+      className="inline-flex rounded-md border border-paper-300 bg-white p-0.5"
+    >
       {options.map((o) => (
         <button
           key={o.value}

@@ -46,7 +46,13 @@ export function FragmentPicture({ fragment }: { fragment: Fragment }) {
 }
 
 /** What is known of a fragment and its files; operators can describe it here too. */
-export function FragmentFacts({ fragment: f, editable }: { fragment: Fragment; editable: boolean }) {
+export function FragmentFacts({
+  fragment: f,
+  editable,
+}: {
+  fragment: Fragment;
+  editable: boolean;
+}) {
   const update = useUpdateFragment(f.scanId);
   const master = f.outputs.find((o) => o.kind === "master");
   return (
@@ -64,8 +70,8 @@ export function FragmentFacts({ fragment: f, editable }: { fragment: Fragment; e
         </div>
         {master && (
           <Notice tone="caution" className="mt-3">
-            Pieces cut from printed publications can still be under copyright. Check the rights
-            and licences that apply where you live before selling or publishing a copy.
+            Pieces cut from printed publications can still be under copyright. Check the rights and
+            licences that apply where you live before selling or publishing a copy.
           </Notice>
         )}
       </section>

@@ -2,7 +2,13 @@ import type { ReactNode } from "react";
 import { cn } from "../../../lib/cn";
 
 /** A key cap, for buttons and the legend. */
-export function Kbd({ children, tone = "light" }: { children: ReactNode; tone?: "light" | "dark" }) {
+export function Kbd({
+  children,
+  tone = "light",
+}: {
+  children: ReactNode;
+  tone?: "light" | "dark";
+}) {
   return (
     <kbd
       className={cn(

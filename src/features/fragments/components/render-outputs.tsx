@@ -14,13 +14,21 @@ const STATE_TEXT: Record<Fragment["renderState"], string> = {
 };
 
 /** Where the render stands, in words with a mark, so it reads without colour. */
-export function RenderState({ fragment }: { fragment: Pick<Fragment, "renderState" | "renderError"> }) {
+export function RenderState({
+  fragment,
+}: {
+  fragment: Pick<Fragment, "renderState" | "renderError">;
+}) {
   const { renderState } = fragment;
   return (
     <p
       className={cn(
         "flex items-center gap-2 text-sm",
-        renderState === "failed" ? "text-brick" : renderState === "done" ? "text-accent-strong" : "text-ink-soft",
+        renderState === "failed"
+          ? "text-brick"
+          : renderState === "done"
+            ? "text-accent-strong"
+            : "text-ink-soft",
       )}
       data-render-state={renderState}
       aria-live="polite"
@@ -51,7 +59,9 @@ export function OutputList({
   fragment: Pick<Fragment, "id" | "outputs" | "renderState">;
   compact?: boolean;
 }) {
-  const outputs = [...fragment.outputs].sort((a, b) => (a.kind === "master" ? -1 : b.kind === "master" ? 1 : 0));
+  const outputs = [...fragment.outputs].sort((a, b) =>
+    a.kind === "master" ? -1 : b.kind === "master" ? 1 : 0,
+  );
   if (outputs.length === 0) return null;
   return (
     <ul className={cn("flex flex-col", compact ? "gap-2" : "gap-4")} aria-label="Rendered files">

@@ -7,7 +7,11 @@ import { useResplitScan } from "../api/resplit-scan";
 export const DEFAULT_SENSITIVITY = 0.5;
 
 /** While the scan is being split again: its stage and progress, in place of the controls. */
-export function ResplitProgress({ scan }: { scan: Pick<Scan, "stage" | "progress" | "originalName"> }) {
+export function ResplitProgress({
+  scan,
+}: {
+  scan: Pick<Scan, "stage" | "progress" | "originalName">;
+}) {
   return (
     <div className="flex min-w-72 flex-col gap-1.5" role="status" aria-live="polite">
       <p className="text-sm text-ink">
@@ -29,15 +33,15 @@ export function ResplitControl({
   onStarted,
 }: {
   scan: Pick<Scan, "id" | "status">;
-  onStarted: (scan: Scan) => void;
+  onStarted: (scan: Scan, sensitivity: number) => void;
 }) {
   const [open, setOpen] = useState(false);
   const [sensitivity, setSensitivity] = useState(DEFAULT_SENSITIVITY);
   const id = useId();
   const resplit = useResplitScan(scan.id, {
-    onSuccess: (next) => {
+    onSuccess: (next, variables) => {
       setOpen(false);
-      onStarted(next);
+      onStarted(next, variables.sensitivity);
     },
   });
   return (

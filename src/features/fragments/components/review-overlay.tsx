@@ -114,7 +114,10 @@ export function ReviewOverlay({
       const y = clamp(centre[1] - vh / 2, 0, H - vh);
       const margin = Math.min(vw, vh) * 0.05;
       const fits =
-        b.x0 >= x + margin && b.x1 <= x + vw - margin && b.y0 >= y + margin && b.y1 <= y + vh - margin;
+        b.x0 >= x + margin &&
+        b.x1 <= x + vw - margin &&
+        b.y0 >= y + margin &&
+        b.y1 <= y + vh - margin;
       if (!fits) centre = [(b.x0 + b.x1) / 2, (b.y0 + b.y1) / 2];
     }
     setView({ key: followKey, centre });

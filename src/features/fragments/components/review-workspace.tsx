@@ -121,8 +121,7 @@ export function ReviewWorkspace({
                 onClick={() => setDrawMode((d) => !d)}
                 disabled={!editable}
               >
-                {drawMode ? "Drawing: drag on the scan" : "Draw"}{" "}
-                <Kbd tone={drawMode ? "dark" : "light"}>D</Kbd>
+                Draw <Kbd tone={drawMode ? "dark" : "light"}>D</Kbd>
               </Button>
               <Button
                 size="sm"
@@ -138,6 +137,7 @@ export function ReviewWorkspace({
                 variant="quiet"
                 onClick={review.undo}
                 disabled={!review.canUndo}
+                className="disabled:text-ink-faint"
                 title={review.undoLabel ? `Undo: ${review.undoLabel}` : "Nothing to undo"}
               >
                 Undo <Kbd>U</Kbd>
@@ -145,8 +145,11 @@ export function ReviewWorkspace({
               <ZoomControl zoom={zoom} onZoom={setZoom} />
               <ResplitControl
                 scan={scan}
-                onStarted={(next) => {
+                onStarted={(next, sensitivity) => {
                   review.forgetHistory();
+                  review.say(
+                    `Splitting again at sensitivity ${sensitivity.toFixed(2)}; approved and drawn fragments stay`,
+                  );
                   onScanChanged(next);
                 }}
               />
@@ -156,8 +159,7 @@ export function ReviewWorkspace({
                 onClick={() => setConfirmAll(true)}
                 disabled={!editable || review.remaining === 0}
               >
-                Approve all remaining{" "}
-                <Kbd tone="dark">⇧A</Kbd>
+                Approve all remaining <Kbd tone="dark">⇧A</Kbd>
               </Button>
             </>
           )}
@@ -192,8 +194,8 @@ export function ReviewWorkspace({
                 />
                 {!drawMode && (
                   <p className="absolute inset-x-0 top-4 mx-auto w-fit rounded-md bg-paper-50/95 px-4 py-2 text-sm text-ink-soft shadow">
-                    The split found no pieces on this scan. Draw one (<Kbd>D</Kbd>) or split
-                    again with a higher sensitivity.
+                    The split found no pieces on this scan. Draw one (<Kbd>D</Kbd>) or split again
+                    with a higher sensitivity.
                   </p>
                 )}
               </div>
@@ -216,6 +218,15 @@ export function ReviewWorkspace({
                   review.drawNew(rect);
                 }}
               />
+            )}
+            {drawMode && (
+              <p
+                role="status"
+                className="pointer-events-none relative -mt-10 ml-3 w-fit rounded-md bg-accent px-3 py-1.5 text-xs font-medium text-paper-50 shadow"
+              >
+                Drag a rectangle around the piece the split missed · <Kbd tone="dark">Esc</Kbd> or{" "}
+                <Kbd tone="dark">D</Kbd> to stop
+              </p>
             )}
           </div>
           <FragmentStrip

@@ -88,8 +88,7 @@ export function useReview({
 
   const say = (text: string) => setAnnouncement(text);
 
-  const selectOnly = (id: string | null) =>
-    setSelection({ primary: id, picked: id ? [id] : [] });
+  const selectOnly = (id: string | null) => setSelection({ primary: id, picked: id ? [id] : [] });
 
   const select = (id: string, additive = false) => {
     if (!additive) return selectOnly(id);
@@ -249,7 +248,9 @@ export function useReview({
     const f = primary;
     const token = pushUndo(`Reset fragment ${f.position}`, {
       kind: "patch",
-      ops: [{ id: f.id, patch: { status: f.status, rect: f.rect, angle: f.angle, shape: f.shape } }],
+      ops: [
+        { id: f.id, patch: { status: f.status, rect: f.rect, angle: f.angle, shape: f.shape } },
+      ],
     });
     say(`Reset fragment ${f.position} to the split's proposal`);
     reset.mutateAsync({ id: f.id }).catch(() => dropUndo(token));
@@ -281,7 +282,11 @@ export function useReview({
     merge
       .mutateAsync({ ids })
       .then((merged) => {
-        pushUndo(`Merged ${positions.join(" + ")}`, { kind: "unmerge", id: merged.id, restores: ids });
+        pushUndo(`Merged fragments ${positions.join(" + ")}`, {
+          kind: "unmerge",
+          id: merged.id,
+          restores: ids,
+        });
         say(`Merged fragments ${positions.join(", ")} into one`);
         selectOnly(merged.id);
       })
@@ -298,7 +303,7 @@ export function useReview({
     unmerge
       .mutateAsync({ id: primary.id })
       .then(() => {
-        pushUndo(`Took merge ${position} apart`, { kind: "merge", ids: from });
+        pushUndo(`Unmerged fragment ${position}`, { kind: "merge", ids: from });
         say(`Fragment ${position} is back in its ${from.length} parts`);
         setSelection({ primary: from[0] ?? null, picked: from });
       })
@@ -334,7 +339,9 @@ export function useReview({
     } else if (inverse.kind === "unmerge") {
       unmerge
         .mutateAsync({ id: inverse.id })
-        .then(() => setSelection({ primary: inverse.restores[0] ?? null, picked: inverse.restores }))
+        .then(() =>
+          setSelection({ primary: inverse.restores[0] ?? null, picked: inverse.restores }),
+        )
         .catch(() => {});
     } else {
       merge

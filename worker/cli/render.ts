@@ -1,0 +1,219 @@
+import path from "node:path";
+import { parseArgs } from "node:util";
+import sharp from "sharp";
+import { config, loadConfig } from "../../server/config";
+import { DEFAULT_RECIPE_NAME, type Recipe } from "../../shared/schemas/recipes";
+import { MM_PER_INCH } from "../../shared/units";
+import { decodeError, inspectScanFile } from "../pipeline/inspect";
+import { readScanInfo } from "../pipeline/metadata";
+import {
+  builtInRecipes,
+  compileRecipe,
+  findRecipe,
+  measureScanBackground,
+  sharpFromRaw,
+  toRaw,
+  type FoundRecipe,
+  type RawImage,
+  type RecipeResult,
+  type RecipeSource,
+  type ScanBackground,
+} from "../pipeline/colour/index";
+import { commitStaged, discardStaged, stage, syncStaged } from "../pipeline/render/staging";
+import { UsageError, commandHelp, type CliIo, type Command } from "./command";
+
+/** Output formats by extension; TIFF and PNG keep 16 bits, JPEG and WebP are 8-bit. */
+const FORMATS = {
+  ".tif": "tiff",
+  ".tiff": "tiff",
+  ".png": "png",
+  ".jpg": "jpeg",
+  ".jpeg": "jpeg",
+  ".webp": "webp",
+} as const;
+type OutFormat = (typeof FORMATS)[keyof typeof FORMATS];
+
+interface RenderArgs {
+  file: string;
+  recipe: string;
+  out: string;
+  format: OutFormat;
+  dpi?: number;
+  help: boolean;
+}
+
+/** The options, in one table so later ones (an output preset, JSON output) slot in beside them. */
+const OPTIONS = {
+  recipe: { type: "string" },
+  out: { type: "string", short: "o" },
+  dpi: { type: "string" },
+  help: { type: "boolean", short: "h", default: false },
+} as const;
+
+function parse(args: string[]): RenderArgs {
+  let parsed;
+  try {
+    parsed = parseArgs({ args, options: OPTIONS, allowPositionals: true, strict: true });
+  } catch (err) {
+    const message = err instanceof Error ? err.message : String(err);
+    const unknown = /Unknown option '([^']+)'/.exec(message);
+    throw new UsageError(unknown ? `unknown option ${unknown[1]}` : message.replace(/\.$/, ""));
+  }
+  const { positionals, values } = parsed;
+  if (values.help) return { file: "", recipe: "", out: "", format: "tiff", help: true };
+  if (positionals.length === 0) throw new UsageError("expected the path of an image or scan file");
+  if (positionals.length > 1) {
+    throw new UsageError(`expected one image file but received ${positionals.length} (${positionals.join(", ")})`);
+  }
+  if (!values.out) throw new UsageError("expected --out <path> for the corrected image");
+  const format = FORMATS[path.extname(values.out).toLowerCase() as keyof typeof FORMATS];
+  if (!format) {
+    throw new UsageError(`expected --out to end in ${Object.keys(FORMATS).join(", ")} but received "${values.out}"`);
+  }
+  if (path.resolve(values.out) === path.resolve(positionals[0]!)) {
+    throw new UsageError("expected --out to be a new file: the original is never overwritten");
+  }
+  const out: RenderArgs = { file: positionals[0]!, recipe: values.recipe ?? DEFAULT_RECIPE_NAME, out: values.out, format, help: false };
+  if (values.dpi !== undefined) {
+    const dpi = Number(values.dpi);
+    if (!(Number.isFinite(dpi) && dpi > 0 && dpi <= 100_000)) {
+      throw new UsageError(`expected --dpi to be a positive number of dots per inch but received "${values.dpi}"`);
+    }
+    out.dpi = dpi;
+  }
+  return out;
+}
+
+function needsBackground(recipe: Recipe): boolean {
+  return recipe.steps.some((s) => s.enabled && s.type === "whiteBalance" && s.mode === "background");
+}
+
+/** What a render did: the shape the text report is printed from (and a JSON report will be). */
+export interface RenderReport {
+  file: string;
+  out: string;
+  recipe: { name: string; from: string; file?: string };
+  width: number;
+  height: number;
+  bitDepth: 8 | 16;
+  channels: number;
+  dpi: number;
+  background: ScanBackground | null;
+  steps: RecipeResult["applied"];
+  grey: boolean;
+}
+
+async function encode(image: RawImage, format: OutFormat, dpi: number, temp: string): Promise<void> {
+  let s = sharpFromRaw(image).withMetadata({ density: dpi });
+  if (format === "tiff") {
+    s = s.tiff({ compression: "lzw", predictor: "horizontal", xres: dpi / MM_PER_INCH, yres: dpi / MM_PER_INCH, resolutionUnit: "inch" });
+  } else if (format === "png") s = s.png({ compressionLevel: 6 });
+  else if (format === "jpeg") s = s.flatten({ background: "#ffffff" }).jpeg({ quality: 92, chromaSubsampling: "4:4:4" });
+  else s = s.webp({ quality: 90 });
+  await s.toFile(temp);
+}
+
+/**
+ * Applies a recipe to an image file and writes the result. The white balance from the
+ * background measures the scanner bed around the pieces the way the split does. Pure of
+ * printing: returns the report.
+ */
+export async function renderWithRecipe(
+  opts: { file: string; recipe: string; out: string; format: OutFormat; dpi?: number },
+  limits: { defaultDpi: number; maxPixels: number },
+  sources: readonly RecipeSource[] = [builtInRecipes],
+): Promise<RenderReport> {
+  const found: FoundRecipe = await findRecipe(opts.recipe, sources);
+  const info = await readScanInfo(opts.file, { defaultDpi: opts.dpi ?? limits.defaultDpi, maxPixels: limits.maxPixels });
+  const dpi = Math.sqrt(info.dpi.x * info.dpi.y);
+  let background: ScanBackground | null = null;
+  if (needsBackground(found.recipe)) {
+    background = await measureScanBackground(opts.file, { dpi: info.dpi, maxPixels: limits.maxPixels, width: info.width, height: info.height });
+    if (!background.visible) {
+      throw new Error(
+        `No scanner background shows around the edges of ${opts.file}, and the recipe "${found.recipe.name}" balances white from it; use a recipe with a picked point or explicit gains`,
+      );
+    }
+  }
+  const bitDepth = info.bitDepth === 16 && (opts.format === "tiff" || opts.format === "png") ? 16 : 8;
+  const compiled = compileRecipe(found.recipe, { dpi, bitDepth, background: background?.rgb });
+  let raw: RawImage;
+  try {
+    raw = await toRaw(sharp(opts.file, { failOn: "error", limitInputPixels: limits.maxPixels }).autoOrient(), bitDepth);
+  } catch (err) {
+    throw decodeError(err, opts.file, await inspectScanFile(opts.file, limits.maxPixels), limits.maxPixels);
+  }
+  const result = await compiled.apply(raw);
+  const staged = await stage(opts.out);
+  try {
+    await encode(result.image, opts.format, dpi, staged.temp);
+    await syncStaged(staged);
+    await commitStaged([staged]);
+  } catch (err) {
+    await discardStaged([staged]);
+    throw new Error(`Could not write ${opts.out}: ${err instanceof Error ? err.message : String(err)}`);
+  }
+  return {
+    file: opts.file,
+    out: opts.out,
+    recipe: { name: found.recipe.name, from: found.from, ...(found.file ? { file: found.file } : {}) },
+    width: result.image.width,
+    height: result.image.height,
+    bitDepth,
+    channels: result.image.channels,
+    dpi,
+    background,
+    steps: result.applied,
+    grey: result.grey,
+  };
+}
+
+/** The report as lines for people. Example: "wrote        /tmp/f1.tif (2400 × 1800 px, 16-bit RGB, 600 DPI)". */
+export function formatRender(r: RenderReport): string {
+  const kind = r.channels <= 2 ? "grey" : "RGB";
+  const lines = [
+    `wrote        ${path.resolve(r.out)} (${r.width} × ${r.height} px, ${r.bitDepth}-bit ${kind}${r.channels % 2 === 0 ? " with alpha" : ""}, ${Math.round(r.dpi * 100) / 100} DPI)`,
+    `recipe       ${r.recipe.name} (${r.recipe.file ? `file ${r.recipe.file}` : r.recipe.from})`,
+  ];
+  if (r.background) {
+    lines.push(`background   sRGB ${r.background.rgb.map((v) => v.toFixed(1)).join(" ")} (${r.background.kind}, measured around the pieces)`);
+  }
+  if (r.steps.length === 0) lines.push("steps        none enabled: the image is unchanged");
+  for (const s of r.steps) lines.push(`step ${String(s.step).padEnd(7)} ${s.summary}`);
+  return lines.join("\n") + "\n";
+}
+
+/** `platen render <file> --recipe <recipe.json | name> --out <path>`: applies a colour recipe. */
+export const renderCommand: Command = {
+  name: "render",
+  usage: "render <file> --recipe <recipe.json | name> --out <path> [--dpi N]",
+  summary: "Apply a colour recipe to an image or a whole scan and write the result.",
+  help: [
+    "",
+    "Uses the same recipe compiler as the worker and the preview. --recipe takes a recipe file",
+    `(JSON, { "name": …, "steps": […] }) or the name of a built-in recipe; the studio default is`,
+    `"${DEFAULT_RECIPE_NAME}": white balance from the scanner background, then automatic levels.`,
+    "Run on a whole scan, white balance from the background finds the bed around the pieces",
+    "the way the split does. The original is only read.",
+    "",
+    "Options:",
+    `  --recipe R         a recipe file or name (default: ${DEFAULT_RECIPE_NAME})`,
+    "  -o, --out PATH     where to write: .tif, .tiff or .png keep 16 bits; .jpg, .jpeg, .webp are 8-bit",
+    "  --dpi N            the resolution to assume when the file records none (default: the",
+    "                     studio's, PLATEN_DEFAULT_DPI); sizes in a recipe (mm, LPI) use it",
+    "  -h, --help         show this help",
+    "",
+    "Exit codes: 0 written, 1 the file or recipe cannot be used (the reason is on stderr), 2 wrong command line.",
+  ],
+  async run(args: string[], io: CliIo): Promise<number> {
+    const opts = parse(args);
+    if (opts.help) {
+      io.stdout(commandHelp(renderCommand));
+      return 0;
+    }
+    const cfg = io.env === process.env ? config() : loadConfig(io.env);
+    const report = await renderWithRecipe(opts, { defaultDpi: cfg.defaultDpi, maxPixels: cfg.maxPixels });
+    io.stdout(formatRender(report));
+    return 0;
+  },
+};
