@@ -120,6 +120,28 @@ describe("recipes", () => {
     expect(usage).toMatchObject({ intakes: 1, outputs: 4 });
   });
 
+  it("previews unsaved steps on a fragment from a reduced copy, with histograms and clipping", async () => {
+    const [first] = await fragmentsOf();
+    const res = await operator.post("/api/recipes/preview").send({ fragmentId: first!.id, steps: [{ type: "saturation", saturation: -1 }], size: 300 });
+    expect(res.status).toBe(200);
+    expect(Math.max(res.body.width, res.body.height)).toBe(300);
+    for (const h of [res.body.histograms.before, res.body.histograms.after]) {
+      for (const ch of ["r", "g", "b", "l"]) expect(h[ch]).toHaveLength(256);
+    }
+    const decode = async (url: string) => {
+      const { data } = await sharp(Buffer.from(url.split(",")[1]!, "base64")).raw().toBuffer({ resolveWithObject: true });
+      let chroma = 0;
+      for (let i = 0; i < data.length; i += 3) chroma += Math.max(data[i]!, data[i + 1]!, data[i + 2]!) - Math.min(data[i]!, data[i + 1]!, data[i + 2]!);
+      return chroma / (data.length / 3);
+    };
+    expect(await decode(res.body.before)).toBeGreaterThan(40);
+    expect(await decode(res.body.after)).toBeLessThan(3);
+    // Bad steps are refused with the field named, before any pixel work.
+    const bad = await operator.post("/api/recipes/preview").send({ fragmentId: first!.id, steps: [{ type: "sharpen", radiusMm: -1 }] });
+    expect(bad.status).toBe(400);
+    expect(bad.body.error.field).toMatch(/^steps/);
+  });
+
   it("the most specific recipe wins: a fragment's own recipe over its intake's", async () => {
     const [first] = await stack.db.select().from(fragmentsTable).where(eq(fragmentsTable.scanId, scanId));
     const list = (await operator.get("/api/recipes")).body.recipes as RecipeSummary[];

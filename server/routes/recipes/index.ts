@@ -3,9 +3,10 @@ import { API } from "../../../shared/api";
 import { handle } from "../define";
 import { applyRecipe, createRecipe, getRecipe, listRecipes, updateRecipe } from "../../services/recipes";
 import { getBatch } from "../../services/batches";
+import { previewRecipe } from "../../services/recipe-preview";
 import type { AppDeps } from "../../app";
 
-export function recipesRouter({ database, boss }: AppDeps): Router {
+export function recipesRouter({ database, boss, library }: AppDeps): Router {
   const router = Router();
   const { db } = database;
   handle(router, API.recipesList, async () => ({ recipes: await listRecipes(db) }));
@@ -25,6 +26,7 @@ export function recipesRouter({ database, boss }: AppDeps): Router {
     req.log.info({ recipeId: params.id, ...r }, "recipe applied");
     return { ...r, batch: await getBatch(db, r.batchId) };
   });
+  handle(router, API.recipesPreview, ({ body }) => previewRecipe(db, library, body));
   handle(router, API.batchesGet, async ({ params }) => ({ batch: await getBatch(db, params.id) }));
   return router;
 }

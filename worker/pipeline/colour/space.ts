@@ -131,22 +131,34 @@ function inGamut(lin: Vec3): boolean {
 
 /**
  * Brings a CIELAB colour into the sRGB gamut by lowering its chroma at the same lightness and
- * hue (bisection to 1/1000 of the chroma), so a saturation boost never turns a hue. Lightness is
- * clipped to 0–100 first. Returns linear-light sRGB clipped to 0–1.
+ * hue, so a saturation boost never turns a hue: the largest in-gamut share of its chroma, to
+ * 1/4096. Lightness is clipped to 0–100 first. Returns linear-light sRGB clipped to 0–1.
+ * The search walks down from full chroma in steps of 1/32 before refining: at constant L* the
+ * gamut is not star-shaped around the grey axis near the yellow cusp (a half-saturated bright
+ * yellow can be outside where the full one is inside), so plain bisection from grey would land
+ * on a much greyer colour than needed.
  * Example: fitChromaToGamut([50, 120, 0]) → a red of L* 50, h 0°, chroma ≈ 79.
  */
 export function fitChromaToGamut(lab: readonly number[]): Vec3 {
   const L = Math.min(100, Math.max(0, lab[0]!));
-  let lin = labToLinearRgb([L, lab[1]!, lab[2]!]);
+  const at = (s: number) => labToLinearRgb([L, lab[1]! * s, lab[2]! * s]);
+  let lin = at(1);
   if (!inGamut(lin)) {
+    const STEP = 1 / 32;
     let lo = 0;
-    let hi = 1;
-    for (let i = 0; i < 10; i++) {
+    for (let s = 1 - STEP; s > 0; s -= STEP) {
+      if (inGamut(at(s))) {
+        lo = s;
+        break;
+      }
+    }
+    let hi = Math.min(1, lo + STEP);
+    for (let i = 0; i < 7; i++) {
       const mid = (lo + hi) / 2;
-      if (inGamut(labToLinearRgb([L, lab[1]! * mid, lab[2]! * mid]))) lo = mid;
+      if (inGamut(at(mid))) lo = mid;
       else hi = mid;
     }
-    lin = labToLinearRgb([L, lab[1]! * lo, lab[2]! * lo]);
+    lin = at(lo);
   }
   return [Math.min(1, Math.max(0, lin[0])), Math.min(1, Math.max(0, lin[1])), Math.min(1, Math.max(0, lin[2]))];
 }

@@ -1,0 +1,93 @@
+import sharp from "sharp";
+import { eq } from "drizzle-orm";
+import type { Db } from "../db";
+import { fragments, scans } from "../db/schema";
+import type { Library } from "../storage/library";
+import { notFound, badRequest } from "../errors";
+import { rotatePoint } from "../../shared/geometry";
+import type { RecipeStep } from "../../shared/schemas/recipes";
+import type { RecipePreview } from "../../shared/schemas/recipe-api";
+import { clipping, compileRecipe, histograms, isRecipeError, toRaw, sharpFromRaw, type RawImage } from "../../worker/pipeline/colour";
+
+/** Long edge of the cached reduced copy a preview is made from, in pixels. */
+const BASE_EDGE = 1600;
+const baseKey = (id: string, revision: number) => `previews/fragments/${id}-r${revision}.png`;
+
+/**
+ * The upright piece at a reduced size, cut from the original once per fragment revision and kept,
+ * so each preview of an edit costs only the recipe on about a megapixel.
+ */
+async function previewBase(library: Library, f: typeof fragments.$inferSelect, scan: typeof scans.$inferSelect): Promise<{ path: string; dpi: number }> {
+  const key = baseKey(f.id, f.revision);
+  const long = Math.max(f.rect.width, f.rect.height);
+  const s = Math.min(1, BASE_EDGE / long);
+  const dpi = (scan.dpiX ?? 300) * s;
+  if (await library.exists(key)) return { path: library.pathFor(key), dpi };
+  const region = await sharp(library.pathFor(scan.originalKey), { limitInputPixels: false })
+    .autoOrient()
+    .extract({ left: f.box.x, top: f.box.y, width: f.box.width, height: f.box.height })
+    .resize(Math.max(1, Math.round(f.box.width * s)), Math.max(1, Math.round(f.box.height * s)), { kernel: "lanczos3" })
+    .toColourspace("srgb")
+    .png()
+    .toBuffer({ resolveWithObject: true });
+  const turned = await sharp(region.data).rotate(f.angle, { background: "#ffffff" }).raw().toBuffer({ resolveWithObject: true });
+  // The rect's centre, rotated about the region's centre into the enlarged canvas.
+  const w0 = region.info.width;
+  const h0 = region.info.height;
+  const c = rotatePoint([(f.rect.cx - f.box.x) * s, (f.rect.cy - f.box.y) * s], [w0 / 2, h0 / 2], f.angle);
+  const cx = c[0] - w0 / 2 + turned.info.width / 2;
+  const cy = c[1] - h0 / 2 + turned.info.height / 2;
+  const w = Math.max(1, Math.min(turned.info.width, Math.round(f.rect.width * s)));
+  const h = Math.max(1, Math.min(turned.info.height, Math.round(f.rect.height * s)));
+  const left = Math.min(Math.max(0, Math.round(cx - w / 2)), turned.info.width - w);
+  const top = Math.min(Math.max(0, Math.round(cy - h / 2)), turned.info.height - h);
+  await library.writeAtomic(key, async (tmp) => {
+    await sharp(turned.data, { raw: { width: turned.info.width, height: turned.info.height, channels: turned.info.channels } })
+      .extract({ left, top, width: w, height: h })
+      .removeAlpha()
+      .png({ compressionLevel: 1 })
+      .toFile(tmp);
+  });
+  return { path: library.pathFor(key), dpi };
+}
+
+const dataUrl = async (img: RawImage) => `data:image/jpeg;base64,${(await sharpFromRaw(img).jpeg({ quality: 85 }).toBuffer()).toString("base64")}`;
+
+function histogramOf(img: RawImage) {
+  const h = histograms(img);
+  return { r: h.r, g: h.g, b: h.b, l: h.luminance };
+}
+
+/** Before and after of unsaved recipe steps on one fragment, with histograms and clipping. */
+export async function previewRecipe(db: Db, library: Library, input: { fragmentId: string; steps: RecipeStep[]; size: number }): Promise<RecipePreview> {
+  const started = performance.now();
+  const [f] = await db.select().from(fragments).where(eq(fragments.id, input.fragmentId));
+  if (!f) throw notFound("That fragment");
+  const [scan] = await db.select().from(scans).where(eq(scans.id, f.scanId));
+  if (!scan || scan.status === "failed") throw notFound("The scan of that fragment");
+  const base = await previewBase(library, f, scan);
+  const fit = sharp(base.path).resize(input.size, input.size, { fit: "inside", withoutEnlargement: true });
+  const before = await toRaw(fit, 8);
+  const dpi = base.dpi * (before.width / (await sharp(base.path).metadata()).width!);
+  let after: RawImage = before;
+  try {
+    if (input.steps.some((s) => s.enabled !== false)) {
+      after = (await compileRecipe({ name: "preview", steps: input.steps }, { dpi, bitDepth: 8, background: scan.splitBackground?.rgb }).apply(before)).image;
+    }
+  } catch (err) {
+    if (isRecipeError(err)) throw badRequest(err.message, "steps");
+    throw err;
+  }
+  const clip = clipping(after);
+  const shadows = clip.black.reduce((a, b) => Math.max(a, b), 0);
+  const highlights = clip.white.reduce((a, b) => Math.max(a, b), 0);
+  return {
+    before: await dataUrl(before),
+    after: await dataUrl(after),
+    width: after.width,
+    height: after.height,
+    histograms: { before: histogramOf(before), after: histogramOf(after) },
+    clipping: { shadows, highlights },
+    ms: Math.round(performance.now() - started),
+  };
+}
