@@ -8,6 +8,7 @@
  *   (cv.minAreaRect; its angle θ puts the rectangle's `width` side along (cos θ, sin θ) with y down,
  *   checked below on a rectangle of known placement, and is converted to the fragment convention).
  */
+import { createRequire } from "node:module";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { loadAnalysisCopy } from "../worker/pipeline/split/analysis-copy";
@@ -27,10 +28,11 @@ const tmp = makeTempDir("platen-opencv-");
 const analyses: { name: string; analysis: Analysis; width: number; height: number }[] = [];
 
 beforeAll(async () => {
-  const mod = (await import("@techstark/opencv-js")).default as OpenCv;
-  // The WASM build exports its module before the runtime is ready, with a `then` that calls back
+  // Loaded with Node's own require: the test runner's module transform never finishes on the 10 MB
+  // WASM bundle. The build exports its module before the runtime is ready, with a `then` that calls back
   // once it is. Awaiting the module itself would never settle (it resolves to a thenable, itself),
   // so the callback's argument is passed on wrapped.
+  const mod = createRequire(import.meta.url)("@techstark/opencv-js") as OpenCv;
   const ready = await new Promise<{ cv: OpenCv }>((resolve) => mod.then((m: OpenCv) => resolve({ cv: m })));
   cv = ready.cv;
   const scenes: [string, SceneSpec][] = [

@@ -42,8 +42,9 @@ export function hueDistance(h1: number, h2: number): number {
   return d > 180 ? 360 - d : d;
 }
 
-function encode(lab: Vec3): Vec3 {
-  const lin = fitChromaToGamut(lab);
+/** Encodes a CIELAB colour, fitting its chroma into the gamut; `known`: a share of its chroma known to be in gamut. */
+function encode(lab: Vec3, known = 0): Vec3 {
+  const lin = fitChromaToGamut(lab, known);
   return [linearToSrgb(lin[0]), linearToSrgb(lin[1]), linearToSrgb(lin[2])];
 }
 
@@ -66,8 +67,9 @@ export function vibranceWeight(c: number, h: number): number {
 export function saturate(rgb: Vec3, step: Pick<SaturationStep, "saturation" | "vibrance">): Vec3 {
   if (step.saturation === 0 && step.vibrance === 0) return rgb;
   const [L, C, h] = labToLch(srgbToLab(rgb));
-  const scale = (1 + step.saturation) * (1 + step.vibrance * vibranceWeight(C, h));
-  return encode(lchToLab([L, C * Math.max(0, scale), h]));
+  const scale = Math.max(0, (1 + step.saturation) * (1 + step.vibrance * vibranceWeight(C, h)));
+  // the colour as it was (a share 1/scale of the new chroma) is in gamut: fit between the two
+  return encode(lchToLab([L, C * scale, h]), scale > 1 ? 1 / scale : 0);
 }
 
 /**
@@ -96,7 +98,8 @@ export function adjustHueRange(rgb: Vec3, step: HueRangeStep): Vec3 {
   if (w === 0) return rgb;
   const l = step.lightness * w;
   const L2 = l >= 0 ? L + l * (100 - L) : L * (1 + l);
-  return encode(lchToLab([L2, C * Math.max(0, 1 + step.saturation * w), h + step.hueShift * w]));
+  const scale = Math.max(0, 1 + step.saturation * w);
+  return encode(lchToLab([L2, C * scale, h + step.hueShift * w]), scale > 1 ? 1 / scale : 0);
 }
 
 /**

@@ -131,29 +131,35 @@ function inGamut(lin: Vec3): boolean {
 
 /**
  * Brings a CIELAB colour into the sRGB gamut by lowering its chroma at the same lightness and
- * hue, so a saturation boost never turns a hue: the largest in-gamut share of its chroma, to
+ * hue, so a saturation boost never turns a hue: the largest in-gamut share s of its chroma, to
  * 1/4096. Lightness is clipped to 0–100 first. Returns linear-light sRGB clipped to 0–1.
- * The search walks down from full chroma in steps of 1/32 before refining: at constant L* the
- * gamut is not star-shaped around the grey axis near the yellow cusp (a half-saturated bright
- * yellow can be outside where the full one is inside), so plain bisection from grey would land
- * on a much greyer colour than needed.
+ * `known` is a share already known to be in gamut (the colour's chroma before a boost): the
+ * search then stays between it and 1. Without one it walks down from full chroma in steps of
+ * 1/32 before refining, because at constant L* the gamut is not star-shaped around the grey
+ * axis near the yellow cusp (a half-saturated bright yellow can be outside where the full one
+ * is inside), and bisection from grey would land on a much greyer colour than needed.
  * Example: fitChromaToGamut([50, 120, 0]) → a red of L* 50, h 0°, chroma ≈ 79.
  */
-export function fitChromaToGamut(lab: readonly number[]): Vec3 {
+export function fitChromaToGamut(lab: readonly number[], known = 0): Vec3 {
   const L = Math.min(100, Math.max(0, lab[0]!));
   const at = (s: number) => labToLinearRgb([L, lab[1]! * s, lab[2]! * s]);
   let lin = at(1);
   if (!inGamut(lin)) {
-    const STEP = 1 / 32;
     let lo = 0;
-    for (let s = 1 - STEP; s > 0; s -= STEP) {
-      if (inGamut(at(s))) {
-        lo = s;
-        break;
+    let hi = 1;
+    if (known > 0 && known < 1 && inGamut(at(known))) {
+      lo = known;
+    } else {
+      const STEP = 1 / 32;
+      for (let s = 1 - STEP; s > 0; s -= STEP) {
+        if (inGamut(at(s))) {
+          lo = s;
+          break;
+        }
       }
+      hi = Math.min(1, lo + STEP);
     }
-    let hi = Math.min(1, lo + STEP);
-    for (let i = 0; i < 7; i++) {
+    while (hi - lo > 1 / 4096) {
       const mid = (lo + hi) / 2;
       if (inGamut(at(mid))) lo = mid;
       else hi = mid;
