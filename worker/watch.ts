@@ -15,7 +15,10 @@ async function main() {
     { database, boss, library: new Library(cfg.libraryDir), log },
     { folder: cfg.inboxDir, stableMs: cfg.inboxStableMs, pollMs: cfg.inboxPollMs },
   );
+  let stopping = false;
   const stop = async () => {
+    if (stopping) return;
+    stopping = true;
     await watcher.close();
     await boss.stop({ graceful: false, wait: true });
     await database.close();

@@ -47,6 +47,7 @@ export function presentScan(
         : null,
     attempts: row.attempts,
     fragments: fragmentCounts,
+    splitSensitivity: row.splitSensitivity,
     hasPreview: row.previewKey != null,
     createdAt: row.createdAt.toISOString(),
     updatedAt: row.updatedAt.toISOString(),

@@ -29,10 +29,13 @@ export function listen(pool: pg.Pool, onEvent: (event: LiveEvent) => void, onErr
           onError(err as Error);
         }
       });
-      client.on("error", (err) => {
+      const mine = client;
+      mine.on("error", (err) => {
         onError(err);
-        client?.release(true);
-        client = null;
+        if (client === mine) {
+          client = null;
+          mine.release(true);
+        }
         if (!stopped) retry = setTimeout(connect, 1000);
       });
       await client.query(`listen ${EVENTS_CHANNEL}`);
@@ -45,13 +48,15 @@ export function listen(pool: pg.Pool, onEvent: (event: LiveEvent) => void, onErr
   return async () => {
     stopped = true;
     clearTimeout(retry);
-    if (client) {
+    const c = client;
+    client = null;
+    if (c) {
       try {
-        await client.query(`unlisten ${EVENTS_CHANNEL}`);
+        await c.query(`unlisten ${EVENTS_CHANNEL}`);
       } catch {
         /* closing anyway */
       }
-      client.release();
+      c.release();
     }
   };
 }

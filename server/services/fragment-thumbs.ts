@@ -1,6 +1,6 @@
 import sharp from "sharp";
 import type { Library } from "../storage/library";
-import { rotatePoint } from "../../shared/geometry";
+import { boxOfPoints, rectCorners, rotatePoint } from "../../shared/geometry";
 import type { Box, Rect } from "../../shared/schemas/fragments";
 
 /** Long edge of a fragment thumbnail in the review strip, in pixels. */
@@ -23,12 +23,13 @@ export async function fragmentThumb(
   const previewPath = library.pathFor(scan.previewKey);
   const meta = await sharp(previewPath).metadata();
   const s = (meta.width ?? 1) / scan.width;
-  // The region around the piece in preview pixels, with room for the turn.
+  // The region around the whole turned rectangle (a cut-out's box can be smaller), in preview pixels.
+  const around = boxOfPoints(rectCorners(f.rect, f.angle), Infinity, Infinity);
   const pad = 2;
-  const left = Math.max(0, Math.floor(f.box.x * s) - pad);
-  const top = Math.max(0, Math.floor(f.box.y * s) - pad);
-  const width = Math.max(1, Math.min((meta.width ?? 1) - left, Math.ceil(f.box.width * s) + 2 * pad));
-  const height = Math.max(1, Math.min((meta.height ?? 1) - top, Math.ceil(f.box.height * s) + 2 * pad));
+  const left = Math.max(0, Math.floor(around.x * s) - pad);
+  const top = Math.max(0, Math.floor(around.y * s) - pad);
+  const width = Math.max(1, Math.min((meta.width ?? 1) - left, Math.ceil(around.width * s) + 2 * pad));
+  const height = Math.max(1, Math.min((meta.height ?? 1) - top, Math.ceil(around.height * s) + 2 * pad));
   const region = await sharp(previewPath).extract({ left, top, width, height }).toBuffer();
   const turned = sharp(region).rotate(f.angle, { background: "#ffffff" });
   const { data, info } = await turned.raw().toBuffer({ resolveWithObject: true });

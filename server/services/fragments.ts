@@ -1,4 +1,4 @@
-import { and, asc, eq, inArray, isNull, sql } from "drizzle-orm";
+import { and, asc, desc, eq, inArray, isNull, sql } from "drizzle-orm";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
 import { fragments, outputs, scans } from "../db/schema";
@@ -9,7 +9,7 @@ import { presentFragment } from "../presenters/fragment";
 import type { Role } from "../../shared/roles";
 import { hasRole } from "../../shared/roles";
 import type { DetectedPiece, Fragment, FragmentGeometry, Rect, UpdateFragmentBody } from "../../shared/schemas/fragments";
-import { boxOfPoints, convexHull, minAreaRect, polygonArea, rectCorners, type Point } from "../../shared/geometry";
+import { boxOfPoints, convexHull, minAreaRect, polygonArea, rectCorners, rotatePoint, type Point } from "../../shared/geometry";
 
 type FragmentRow = typeof fragments.$inferSelect;
 type ScanRow = typeof scans.$inferSelect;
@@ -50,10 +50,21 @@ export async function listScanFragments(db: Db, scanId: string, role: Role): Pro
   return present(db, rows);
 }
 
-export async function listFragments(db: Db, role: Role, q: { status?: FragmentRow["status"]; scanId?: string; limit: number; offset: number }) {
-  const cond = and(visibleTo(role), q.status ? eq(fragments.status, q.status) : undefined, q.scanId ? eq(fragments.scanId, q.scanId) : undefined);
-  const rows = await db.select().from(fragments).where(cond).orderBy(asc(fragments.scanId), asc(fragments.position)).limit(q.limit).offset(q.offset);
-  return present(db, rows);
+export async function listFragments(db: Db, role: Role, q: { status?: FragmentRow["status"]; scanId?: string; q?: string; limit: number; offset: number }) {
+  const text = q.q ? `%${q.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%` : null;
+  const cond = and(
+    visibleTo(role),
+    q.status ? eq(fragments.status, q.status) : undefined,
+    q.scanId ? eq(fragments.scanId, q.scanId) : undefined,
+    text
+      ? sql`(${fragments.title} ilike ${text} or ${fragments.notes} ilike ${text} or exists (select 1 from unnest(${fragments.tags}) t where t ilike ${text}) or exists (select 1 from scans s where s.id = ${fragments.scanId} and s.original_name ilike ${text}))`
+      : undefined,
+  );
+  const [rows, [total]] = await Promise.all([
+    db.select().from(fragments).where(cond).orderBy(desc(fragments.updatedAt), asc(fragments.position)).limit(q.limit).offset(q.offset),
+    db.select({ n: sql<number>`count(*)::int` }).from(fragments).where(cond),
+  ]);
+  return { fragments: await present(db, rows), total: total?.n ?? 0 };
 }
 
 async function loadRow(db: Db, id: string, role: Role): Promise<FragmentRow> {
@@ -64,6 +75,20 @@ async function loadRow(db: Db, id: string, role: Role): Promise<FragmentRow> {
 
 export async function getFragment(db: Db, id: string, role: Role): Promise<Fragment> {
   return (await present(db, [await loadRow(db, id, role)]))[0]!;
+}
+
+/**
+ * Carries a cut-out's outline along when its rectangle is moved, resized or turned: each point
+ * keeps its place relative to the rectangle (upright frame, scaled per axis).
+ */
+export function carryOutline(outline: Point[], from: { rect: Rect; angle: number }, to: { rect: Rect; angle: number }): Point[] {
+  const sx = to.rect.width / from.rect.width;
+  const sy = to.rect.height / from.rect.height;
+  return outline.map((p) => {
+    const [ux, uy] = rotatePoint(p, [from.rect.cx, from.rect.cy], from.angle);
+    const q: Point = [to.rect.cx + (ux - from.rect.cx) * sx, to.rect.cy + (uy - from.rect.cy) * sy];
+    return rotatePoint(q, [to.rect.cx, to.rect.cy], -to.angle);
+  });
 }
 
 /** Geometry of a rectangle drawn or edited by a person: box and outline follow the rectangle. */
@@ -145,7 +170,9 @@ export async function updateFragment(database: Database, boss: PgBoss, actor: Ac
     const geometryChanged = patch.rect !== undefined || patch.angle !== undefined || patch.shape !== undefined;
     const set: Partial<typeof fragments.$inferInsert> = { updatedAt: new Date() };
     if (geometryChanged) {
-      Object.assign(set, geometryFromRect(scan, patch.rect ?? row.rect, patch.angle ?? row.angle, patch.shape ?? row.shape, row.outline));
+      const next = { rect: patch.rect ?? row.rect, angle: patch.angle ?? row.angle };
+      const outline = carryOutline(row.outline, { rect: row.rect, angle: row.angle }, next);
+      Object.assign(set, geometryFromRect(scan, next.rect, next.angle, patch.shape ?? row.shape, outline));
       set.revision = row.revision + 1;
     }
     if (patch.status !== undefined && patch.status !== row.status) {
@@ -204,7 +231,16 @@ export async function mergeFragments(database: Database, boss: PgBoss, actor: Ac
     const scan = await scanOf(tx.db, rows[0]!.scanId);
     const points = rows.flatMap((r) => r.outline);
     const hull = convexHull(points);
-    const { rect, angle, area } = minAreaRect(hull);
+    let { rect, angle, area } = minAreaRect(hull);
+    const inside = (r: Rect, a: number) =>
+      rectCorners(r, a).every(([x, y]) => x >= -1 && y >= -1 && x <= (scan.width ?? Infinity) + 1 && y <= (scan.height ?? Infinity) + 1);
+    if (!inside(rect, angle)) {
+      // A turned rectangle around pieces near the edge can reach past the bed: fall back to the upright box.
+      const b = boxOfPoints(hull, scan.width ?? Infinity, scan.height ?? Infinity);
+      rect = { cx: b.x + b.width / 2, cy: b.y + b.height / 2, width: b.width, height: b.height };
+      angle = 0;
+      area = b.width * b.height;
+    }
     const shape = polygonArea(hull) / area >= 0.95 && rows.every((r) => r.shape === "rectangle") ? "rectangle" : "cutout";
     const g = geometryFromRect(scan, rect, angle, shape, hull);
     const position = Math.min(...rows.map((r) => r.position));

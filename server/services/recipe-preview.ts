@@ -4,7 +4,7 @@ import type { Db } from "../db";
 import { fragments, scans } from "../db/schema";
 import type { Library } from "../storage/library";
 import { notFound, badRequest } from "../errors";
-import { rotatePoint } from "../../shared/geometry";
+import { boxOfPoints, rectCorners, rotatePoint } from "../../shared/geometry";
 import type { RecipeStep } from "../../shared/schemas/recipes";
 import type { RecipePreview } from "../../shared/schemas/recipe-api";
 import { clipping, compileRecipe, histograms, isRecipeError, toRaw, sharpFromRaw, type RawImage } from "../../worker/pipeline/colour";
@@ -23,10 +23,12 @@ async function previewBase(library: Library, f: typeof fragments.$inferSelect, s
   const s = Math.min(1, BASE_EDGE / long);
   const dpi = (scan.dpiX ?? 300) * s;
   if (await library.exists(key)) return { path: library.pathFor(key), dpi };
+  // The region around the whole turned rectangle (a cut-out's box can be smaller than it).
+  const b = boxOfPoints(rectCorners(f.rect, f.angle), scan.width ?? Infinity, scan.height ?? Infinity);
   const region = await sharp(library.pathFor(scan.originalKey), { limitInputPixels: false })
     .autoOrient()
-    .extract({ left: f.box.x, top: f.box.y, width: f.box.width, height: f.box.height })
-    .resize(Math.max(1, Math.round(f.box.width * s)), Math.max(1, Math.round(f.box.height * s)), { kernel: "lanczos3" })
+    .extract({ left: b.x, top: b.y, width: b.width, height: b.height })
+    .resize(Math.max(1, Math.round(b.width * s)), Math.max(1, Math.round(b.height * s)), { kernel: "lanczos3" })
     .toColourspace("srgb")
     .png()
     .toBuffer({ resolveWithObject: true });
@@ -34,7 +36,7 @@ async function previewBase(library: Library, f: typeof fragments.$inferSelect, s
   // The rect's centre, rotated about the region's centre into the enlarged canvas.
   const w0 = region.info.width;
   const h0 = region.info.height;
-  const c = rotatePoint([(f.rect.cx - f.box.x) * s, (f.rect.cy - f.box.y) * s], [w0 / 2, h0 / 2], f.angle);
+  const c = rotatePoint([(f.rect.cx - b.x) * s, (f.rect.cy - b.y) * s], [w0 / 2, h0 / 2], f.angle);
   const cx = c[0] - w0 / 2 + turned.info.width / 2;
   const cy = c[1] - h0 / 2 + turned.info.height / 2;
   const w = Math.max(1, Math.min(turned.info.width, Math.round(f.rect.width * s)));

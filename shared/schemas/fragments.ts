@@ -102,7 +102,7 @@ export const fragmentSchema = geometrySchema.extend({
 });
 export type Fragment = z.infer<typeof fragmentSchema>;
 
-export const fragmentListResponse = z.object({ fragments: z.array(fragmentSchema) });
+export const fragmentListResponse = z.object({ fragments: z.array(fragmentSchema), total: z.number().optional() });
 export const fragmentResponse = z.object({ fragment: fragmentSchema });
 
 const tagSchema = z.string().trim().min(1).max(40);

@@ -50,6 +50,8 @@ export const scanSchema = z.object({
   attempts: z.number(),
   /** Fragments the split proposed that still await review, and all kept fragments. */
   fragments: z.object({ proposed: z.number(), total: z.number() }),
+  /** The sensitivity (0–1) of the last split, null before the first. */
+  splitSensitivity: z.number().nullable(),
   hasPreview: z.boolean(),
   createdAt: z.string(),
   updatedAt: z.string(),

@@ -6,6 +6,7 @@
  * sensor noise, dust and hairs are added. Truth (box, angle, shape) comes from the geometry, never
  * from the code under test.
  */
+import fs from "node:fs/promises";
 import sharp from "sharp";
 
 export type Pt = [number, number];
@@ -387,7 +388,11 @@ export async function writeScene(scene: Scene, file: string, format: "png" | "ti
     raw: { width: scene.width, height: scene.height, channels: 3 },
   });
   if (embedDpi) img = img.withMetadata({ density: scene.dpi });
-  if (format === "png") await img.png({ compressionLevel: 1 }).toFile(file);
+  if (format === "png") {
+    const png = await img.png({ compressionLevel: 1 }).toBuffer();
+    // libvips writes a pHYs chunk even for pixels with no resolution (1 px/mm): drop it
+    await fs.writeFile(file, embedDpi ? png : withoutChunk(png, "pHYs"));
+  }
   else if (format === "tiff") await img.tiff({ compression: "lzw", xres: scene.dpi / 25.4, yres: scene.dpi / 25.4 }).toFile(file);
   else await img.jpeg({ quality: 92 }).toFile(file);
 }
@@ -401,4 +406,16 @@ export function iou(
   const iy = Math.max(0, Math.min(a.y + a.height, b.y + b.height) - Math.max(a.y, b.y));
   const inter = ix * iy;
   return inter / (a.width * a.height + b.width * b.height - inter);
+}
+
+/** A PNG without its chunks of one type (PNG 1.2 section 5: length, type, data, CRC). */
+function withoutChunk(png: Buffer, type: string): Buffer {
+  const parts: Buffer[] = [png.subarray(0, 8)];
+  for (let at = 8; at < png.length; ) {
+    const len = png.readUInt32BE(at);
+    const end = at + 12 + len;
+    if (png.toString("latin1", at + 4, at + 8) !== type) parts.push(png.subarray(at, end));
+    at = end;
+  }
+  return Buffer.concat(parts);
 }

@@ -51,7 +51,7 @@ export function fragmentsRouter(deps: AppDeps): Router {
     await requestResplit(database, boss, params.id, body.sensitivity);
     return { scan: await getScan(db, params.id) };
   });
-  handle(router, API.fragmentsList, async ({ query, user }) => ({ fragments: await listFragments(db, user.role, query) }));
+  handle(router, API.fragmentsList, ({ query, user }) => listFragments(db, user.role, query));
   handle(router, API.fragmentsMerge, async ({ body, user, res }) => {
     const fragment = await mergeFragments(database, boss, user, body.ids);
     res.status(201);
