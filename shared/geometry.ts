@@ -120,7 +120,7 @@ export function minAreaRect(points: Point[]): { rect: Rect; angle: number; area:
   const n = normaliseUpright(-best.theta / DEG, best.maxU - best.minU, best.maxV - best.minV);
   return {
     rect: { cx: u * c - v * s, cy: u * s + v * c, width: n.width, height: n.height },
-    angle: n.angle === -0 ? 0 : n.angle,
+    angle: Object.is(n.angle, -0) ? 0 : n.angle,
     area: best.area,
   };
 }

@@ -71,10 +71,14 @@ describe("worker processes", () => {
       return s.status === "ready" ? s : null;
     }, 45_000);
     expect(done.attempts).toBe(2);
-    const { rows } = await database.pool.query(
-      "select state, retry_count from pgboss.job where name = 'scan-analyse' and data->>'scanId' = $1",
-      [scanId],
-    );
+    // The job itself is marked complete just after its handler returns.
+    const rows = await waitFor("the job to be recorded complete", async () => {
+      const r = await database.pool.query(
+        "select state, retry_count from pgboss.job where name = 'scan-analyse' and data->>'scanId' = $1",
+        [scanId],
+      );
+      return r.rows[0]?.state === "completed" ? r.rows : null;
+    });
     expect(rows).toEqual([{ state: "completed", retry_count: 1 }]);
     second.kill("SIGTERM");
     expect(await exited(second)).toBe(0);

@@ -208,7 +208,7 @@ describe("wrong command lines: exit 2, one line on stderr", () => {
     [[], "platen: expected a command. Run platen --help to see the commands."],
     [
       ["scan-all"],
-      'platen: unknown command "scan-all" (the commands are: info). Run platen --help to see them.',
+      'platen: unknown command "scan-all" (the commands are: info, split, render). Run platen --help to see them.',
     ],
     [["info"], "platen info: expected the path of a scan file. Usage: platen info <file> [--json]"],
     [

@@ -129,7 +129,7 @@ describe("one compiler gives the preview and the master the same correction", ()
   it("refuses statistics measured for another recipe or background", async () => {
     const img = photo(200, 100);
     const stats = await compileRecipe({ name: "a", steps: [{ type: "levels", mode: "auto", clip: 0.01 }] }, { dpi: 300, bitDepth: 8 }).measure(img);
-    const other = { name: "a", steps: [{ type: "levels", mode: "auto", clip: 0.02 }] } as const;
+    const other: RecipeInput = { name: "a", steps: [{ type: "levels", mode: "auto", clip: 0.02 }] };
     expect(() => compileRecipe(other, { dpi: 300, bitDepth: 8, stats })).toThrow(
       "The measurements handed in were made for another version of this recipe or another background; measure again",
     );

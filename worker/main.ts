@@ -6,27 +6,38 @@ import { startBoss } from "../server/jobs/boss";
 import { Library } from "../server/storage/library";
 import { startWorker } from "./worker";
 
-/** A worker process. Run as many as you like, on any machine that reaches the database and library. */
 // Files under one library key can be rewritten (a new render); never serve a decoded copy from cache.
 sharp.cache(false);
 
+/** A worker process. Run as many as you like, on any machine that reaches the database and library. */
 async function main() {
   const cfg = config();
   const log = logger;
+  // Listen for a stop before any job can start, so a job in hand is always finished or released.
+  let stopRequested: string | null = null;
+  let stop: (signal: string) => void = (signal) => {
+    stopRequested = signal;
+  };
+  process.on("SIGTERM", () => stop("SIGTERM"));
+  process.on("SIGINT", () => stop("SIGINT"));
+
   const database = openDatabase(cfg.databaseUrl, cfg.workerConcurrency + 2);
   const boss = await startBoss({ url: cfg.databaseUrl, log, supervise: true });
   const worker = await startWorker({ config: cfg, database, boss, library: new Library(cfg.libraryDir), log });
   let stopping = false;
-  const stop = async (signal: string) => {
+  stop = (signal: string) => {
     if (stopping) return;
     stopping = true;
     log.info({ signal }, "worker stopping: finishing the job in hand");
-    await worker.stop();
-    await database.close();
-    process.exit(0);
+    void worker
+      .stop()
+      .then(() => database.close())
+      .then(() => process.exit(0), (err) => {
+        log.error({ err }, "worker did not stop cleanly");
+        process.exit(1);
+      });
   };
-  process.on("SIGTERM", () => void stop("SIGTERM"));
-  process.on("SIGINT", () => void stop("SIGINT"));
+  if (stopRequested) stop(stopRequested);
 }
 
 main().catch((err) => {

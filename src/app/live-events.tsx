@@ -4,6 +4,7 @@ import { API } from "../../shared/api";
 import { liveEventSchema } from "../../shared/schemas/queue";
 import { fragmentKeys } from "../features/fragments/api/keys";
 import { queueKeys } from "../features/queue/api/get-queue";
+import { batchKeys } from "../features/recipes/api/keys";
 import { scanKeys } from "../features/scans/api/keys";
 import { throttle } from "../lib/throttle";
 
@@ -28,6 +29,8 @@ export function LiveEventsProvider({ children }: { children: ReactNode }) {
       void queryClient.invalidateQueries({ queryKey: scanKeys.all });
       // Renders finishing, another reviewer's decisions, a new split.
       void queryClient.invalidateQueries({ queryKey: fragmentKeys.all });
+      // Batch progress moves with every render that finishes.
+      void queryClient.invalidateQueries({ queryKey: batchKeys.all });
     }, REFRESH_EVERY_MS);
 
     let source: EventSource | null = null;

@@ -5,6 +5,9 @@ import { FragmentRoute } from "./routes/fragment";
 import { HomeRoute } from "./routes/home";
 import { NotFoundRoute } from "./routes/not-found";
 import { QueueRoute } from "./routes/queue";
+import { RecipeRoute } from "./routes/recipe";
+import { RecipeApplyRoute } from "./routes/recipe-apply";
+import { RecipesRoute } from "./routes/recipes";
 import { ScanRoute } from "./routes/scan";
 import { ScanReviewRoute } from "./routes/scan-review";
 import { ScansRoute } from "./routes/scans";
@@ -25,6 +28,9 @@ export function createRouter() {
         { path: "/scans/:id/review", element: <ScanReviewRoute /> },
         { path: "/fragments/:id", element: <FragmentRoute /> },
         { path: paths.work, element: <WorkRoute /> },
+        { path: paths.recipes, element: <RecipesRoute /> },
+        { path: "/recipes/:id", element: <RecipeRoute /> },
+        { path: "/recipes/:id/apply", element: <RecipeApplyRoute /> },
         { path: paths.users, element: <UsersRoute /> },
         { path: "*", element: <NotFoundRoute /> },
       ],

@@ -8,6 +8,10 @@ export const paths = {
   fragment: (id: string) => `/fragments/${encodeURIComponent(id)}`,
   /** Approved work: the fragments that passed review, for every role (viewers land here). */
   work: "/work",
+  recipes: "/recipes",
+  recipe: (id: string) => `/recipes/${encodeURIComponent(id)}`,
+  /** Apply a recipe to fragments chosen on a grid. */
+  recipeApply: (id: string) => `/recipes/${encodeURIComponent(id)}/apply`,
   users: "/users",
 } as const;
 

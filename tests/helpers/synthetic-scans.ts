@@ -301,13 +301,12 @@ function drawPiece(img: Float32Array, width: number, height: number, pxPerMm: nu
   const w = x1 - x0;
   const h = y1 - y0;
   const cov = coverage([ring], x0, y0, w, h);
-  let inner: Pt[] | null = null;
   let lineInner: Float32Array | null = null;
   const bx = Math.max(...piece.outline.map((p) => Math.abs(p[0])));
   const by = Math.max(...piece.outline.map((p) => Math.abs(p[1])));
   if (piece.edgeLine) {
     const lw = piece.edgeLine.widthMm;
-    inner = rectOutline(2 * (bx - lw), 2 * (by - lw)).map(place.toBed);
+    const inner = rectOutline(2 * (bx - lw), 2 * (by - lw)).map(place.toBed);
     lineInner = coverage([inner], x0, y0, w, h);
   }
   const cell = new Map<number, number>();

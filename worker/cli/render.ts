@@ -1,3 +1,5 @@
+import fs from "node:fs/promises";
+import os from "node:os";
 import path from "node:path";
 import { parseArgs } from "node:util";
 import sharp from "sharp";
@@ -20,6 +22,8 @@ import {
   type ScanBackground,
 } from "../pipeline/colour/index";
 import { commitStaged, discardStaged, stage, syncStaged } from "../pipeline/render/staging";
+import { BUILT_IN_PRESETS, presetProblem, presetSchema, type Preset } from "../../shared/schemas/presets";
+import { renderOutput, type OutputReport } from "../pipeline/output/index";
 import { UsageError, commandHelp, type CliIo, type Command } from "./command";
 
 /** Output formats by extension; TIFF and PNG keep 16 bits, JPEG and WebP are 8-bit. */
@@ -36,6 +40,10 @@ type OutFormat = (typeof FORMATS)[keyof typeof FORMATS];
 interface RenderArgs {
   file: string;
   recipe: string;
+  /** The recipe was named on the command line (with --preset, no recipe means the file as it is). */
+  recipeGiven?: boolean;
+  preset?: string;
+  json?: boolean;
   out: string;
   format: OutFormat;
   dpi?: number;
@@ -47,6 +55,8 @@ const OPTIONS = {
   recipe: { type: "string" },
   out: { type: "string", short: "o" },
   dpi: { type: "string" },
+  preset: { type: "string" },
+  json: { type: "boolean", default: false },
   help: { type: "boolean", short: "h", default: false },
 } as const;
 
@@ -66,6 +76,17 @@ function parse(args: string[]): RenderArgs {
     throw new UsageError(`expected one image file but received ${positionals.length} (${positionals.join(", ")})`);
   }
   if (!values.out) throw new UsageError("expected --out <path> for the corrected image");
+  if (values.preset !== undefined) {
+    if (path.resolve(values.out) === path.resolve(positionals[0]!)) {
+      throw new UsageError("expected --out to be a new file: the original is never overwritten");
+    }
+    const withPreset: RenderArgs = {
+      file: positionals[0]!, recipe: values.recipe ?? DEFAULT_RECIPE_NAME, recipeGiven: values.recipe !== undefined,
+      preset: values.preset, json: values.json, out: values.out, format: "tiff", help: false,
+    };
+    if (values.dpi !== undefined) withPreset.dpi = parseDpi(values.dpi);
+    return withPreset;
+  }
   const format = FORMATS[path.extname(values.out).toLowerCase() as keyof typeof FORMATS];
   if (!format) {
     throw new UsageError(`expected --out to end in ${Object.keys(FORMATS).join(", ")} but received "${values.out}"`);
@@ -74,14 +95,78 @@ function parse(args: string[]): RenderArgs {
     throw new UsageError("expected --out to be a new file: the original is never overwritten");
   }
   const out: RenderArgs = { file: positionals[0]!, recipe: values.recipe ?? DEFAULT_RECIPE_NAME, out: values.out, format, help: false };
-  if (values.dpi !== undefined) {
-    const dpi = Number(values.dpi);
-    if (!(Number.isFinite(dpi) && dpi > 0 && dpi <= 100_000)) {
-      throw new UsageError(`expected --dpi to be a positive number of dots per inch but received "${values.dpi}"`);
-    }
-    out.dpi = dpi;
-  }
+  if (values.dpi !== undefined) out.dpi = parseDpi(values.dpi);
+  out.json = values.json;
   return out;
+}
+
+function parseDpi(text: string): number {
+  const dpi = Number(text);
+  if (!(Number.isFinite(dpi) && dpi > 0 && dpi <= 100_000)) {
+    throw new UsageError(`expected --dpi to be a positive number of dots per inch but received "${text}"`);
+  }
+  return dpi;
+}
+
+/**
+ * A preset by built-in name (web, square, print-letter, print-a4) or from a JSON file.
+ * Example: await loadPreset("square") → the 1080 × 1080 px contain-on-white web preset.
+ */
+export async function loadPreset(ref: string): Promise<Preset> {
+  const builtIn = BUILT_IN_PRESETS[ref];
+  if (builtIn) return builtIn;
+  if (!/\.json$/i.test(ref)) {
+    throw new Error(`No built-in preset is called "${ref}" (they are: ${Object.keys(BUILT_IN_PRESETS).join(", ")}), and it is not a .json file`);
+  }
+  let text: string;
+  try {
+    text = await fs.readFile(ref, "utf8");
+  } catch (err) {
+    throw new Error(`Cannot read the preset file ${ref}`, { cause: err });
+  }
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch (err) {
+    throw new Error(`The preset file ${ref} is not valid JSON: ${err instanceof Error ? err.message : String(err)}`, { cause: err });
+  }
+  const parsed = presetSchema.safeParse(json);
+  if (!parsed.success) throw new Error(`The preset file ${ref} is not a valid preset: ${presetProblem(parsed.error)}`);
+  return parsed.data;
+}
+
+/**
+ * One output of a preset, made by the worker's code (worker/pipeline/output). With a recipe,
+ * the corrected image goes to a private temporary TIFF first and the preset works from it.
+ */
+export async function renderWithPreset(
+  opts: { file: string; preset: string; out: string; recipe?: string; dpi?: number },
+  limits: { defaultDpi: number; maxPixels: number },
+): Promise<OutputReport & { recipe?: string }> {
+  const preset = await loadPreset(opts.preset);
+  const info = await readScanInfo(opts.file, { defaultDpi: opts.dpi ?? limits.defaultDpi, maxPixels: limits.maxPixels });
+  const dpi = Math.sqrt(info.dpi.x * info.dpi.y);
+  const title = path.basename(opts.file, path.extname(opts.file));
+  if (!opts.recipe) return renderOutput({ master: opts.file, dpi, title, maxPixels: limits.maxPixels }, preset, { path: opts.out });
+  const dir = await fs.mkdtemp(path.join(os.tmpdir(), "platen-render-"));
+  try {
+    const corrected = path.join(dir, "corrected.tif");
+    const r = await renderWithRecipe({ file: opts.file, recipe: opts.recipe, out: corrected, format: "tiff", dpi: opts.dpi }, limits);
+    const report = await renderOutput({ master: corrected, dpi: r.dpi, title, maxPixels: limits.maxPixels }, preset, { path: opts.out });
+    return { ...report, recipe: r.recipe.name };
+  } finally {
+    await fs.rm(dir, { recursive: true, force: true });
+  }
+}
+
+/** An output report as lines for people. Example: "wrote        /tmp/f1.tif (2550 × 3300 px, tiff)". */
+export function formatOutput(r: OutputReport): string {
+  const lines = [`wrote        ${path.resolve(r.path)} (${r.pixelWidth} × ${r.pixelHeight} px, ${r.format}, ${r.kind} preset)`];
+  if (r.paper) lines.push(`paper        ${r.paper.name} ${r.paper.orientation}, ${r.paper.widthIn} × ${r.paper.heightIn} in (${r.paper.widthMm} × ${r.paper.heightMm} mm)`);
+  if (r.printedIn) lines.push(`printed      ${r.printedIn.width} × ${r.printedIn.height} in (${r.printedCm!.width} × ${r.printedCm!.height} cm)`);
+  if (r.effectiveDpi !== undefined) lines.push(`resolution   ${r.effectiveDpi} DPI${r.kind === "print" ? " as printed" : ""}`);
+  for (const w of r.warnings) lines.push(`warning      ${w}`);
+  return lines.join("\n") + "\n";
 }
 
 function needsBackground(recipe: Recipe): boolean {
@@ -151,7 +236,7 @@ export async function renderWithRecipe(
     await commitStaged([staged]);
   } catch (err) {
     await discardStaged([staged]);
-    throw new Error(`Could not write ${opts.out}: ${err instanceof Error ? err.message : String(err)}`);
+    throw new Error(`Could not write ${opts.out}: ${err instanceof Error ? err.message : String(err)}`, { cause: err });
   }
   return {
     file: opts.file,
@@ -186,8 +271,8 @@ export function formatRender(r: RenderReport): string {
 /** `platen render <file> --recipe <recipe.json | name> --out <path>`: applies a colour recipe. */
 export const renderCommand: Command = {
   name: "render",
-  usage: "render <file> --recipe <recipe.json | name> --out <path> [--dpi N]",
-  summary: "Apply a colour recipe to an image or a whole scan and write the result.",
+  usage: "render <file> [--recipe R] [--preset <preset.json | name>] --out <path> [--dpi N] [--json]",
+  summary: "Apply a colour recipe, or make one output of a preset, and write the result.",
   help: [
     "",
     "Uses the same recipe compiler as the worker and the preview. --recipe takes a recipe file",
@@ -199,6 +284,10 @@ export const renderCommand: Command = {
     "Options:",
     `  --recipe R         a recipe file or name (default: ${DEFAULT_RECIPE_NAME})`,
     "  -o, --out PATH     where to write: .tif, .tiff or .png keep 16 bits; .jpg, .jpeg, .webp are 8-bit",
+    `  --preset P         a preset file (JSON) or a built-in name (${Object.keys(BUILT_IN_PRESETS).join(", ")}):`,
+    "                     makes that output (web copy, print file, mock-up, master); --out must carry",
+    "                     the preset's extension; without --recipe the file is used as it is",
+    "  --json             print the report as JSON (pixel size, printed size, effective DPI, warnings)",
     "  --dpi N            the resolution to assume when the file records none (default: the",
     "                     studio's, PLATEN_DEFAULT_DPI); sizes in a recipe (mm, LPI) use it",
     "  -h, --help         show this help",
@@ -212,8 +301,17 @@ export const renderCommand: Command = {
       return 0;
     }
     const cfg = io.env === process.env ? config() : loadConfig(io.env);
-    const report = await renderWithRecipe(opts, { defaultDpi: cfg.defaultDpi, maxPixels: cfg.maxPixels });
-    io.stdout(formatRender(report));
+    const limits = { defaultDpi: cfg.defaultDpi, maxPixels: cfg.maxPixels };
+    if (opts.preset !== undefined) {
+      const report = await renderWithPreset(
+        { file: opts.file, preset: opts.preset, out: opts.out, ...(opts.recipeGiven ? { recipe: opts.recipe } : {}), ...(opts.dpi !== undefined ? { dpi: opts.dpi } : {}) },
+        limits,
+      );
+      io.stdout(opts.json ? `${JSON.stringify(report, null, 2)}\n` : formatOutput(report));
+      return 0;
+    }
+    const report = await renderWithRecipe(opts, limits);
+    io.stdout(opts.json ? `${JSON.stringify(report, null, 2)}\n` : formatRender(report));
     return 0;
   },
 };

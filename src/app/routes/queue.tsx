@@ -10,6 +10,7 @@ import { ReviewList } from "../../features/queue/components/review-list";
 import { RunningNow } from "../../features/queue/components/running-now";
 import { WaitingList } from "../../features/queue/components/waiting-list";
 import { WatcherStatus } from "../../features/queue/components/watcher-status";
+import { BatchList } from "../../features/recipes/components/batch-list";
 import { RetryScanButton } from "../../features/scans/components/retry-scan-button";
 import { useHasRole } from "../../lib/authorization";
 
@@ -40,6 +41,7 @@ export function QueueRoute() {
           <div className="grid grid-cols-1 gap-6 xl:grid-cols-[3fr_2fr]">
             <div className="flex flex-col gap-6">
               <RunningNow running={summary.data.running} />
+              <BatchList batches={summary.data.batches} />
               <FailureList
                 failures={summary.data.failures}
                 actions={

@@ -23,13 +23,13 @@ function linearTable(depth: 8 | 16): Float64Array {
   return Float64Array.from({ length: max + 1 }, (_, i) => srgbToLinear(i / max));
 }
 
-/** 4096 steps of Y → encoded bin, so luminance needs no power function per pixel. */
-const Y_STEPS = 4096;
+/** 65536 steps of Y → encoded bin, so luminance needs no power function per pixel (fine enough near black, where the sRGB curve is steepest). */
+const Y_STEPS = 65536;
 const yToBin = Int32Array.from({ length: Y_STEPS + 1 }, (_, i) => Math.min(255, Math.floor(linearToSrgb(i / Y_STEPS) * 256)));
 
 /**
  * RGB and luminance histograms of 256 bins (grey images: the grey value in all four).
- * Example: histograms(an 8-bit image of one colour 255, 128, 0) → r[255] = g[128] = b[0] = pixels, luminance[155] = pixels.
+ * Example: histograms(an 8-bit image of one colour 255, 128, 0) → r[255] = g[128] = b[0] = pixels, luminance[163] = pixels.
  */
 export function histograms(image: RawImage): Histograms {
   const { data, channels } = image;
@@ -135,7 +135,7 @@ const CHROMA_BINS = 2000;
 
 /**
  * The `fraction` percentile of CIELAB chroma C*ab over the image (0 for grey images).
- * Example: chromaPercentile(a flat grey image, 0.95) → 0; of a flat sRGB (200, 40, 40) → 63.6.
+ * Example: chromaPercentile(a flat grey image, 0.95) → 0; of a flat sRGB (200, 40, 40) → 73.3.
  */
 export function chromaPercentile(image: RawImage, fraction: number): number {
   const { data, channels } = image;

@@ -149,12 +149,12 @@ function positions(table: Float64Array, stride: number, fracScale: number) {
 function clutPass8(src: RawImage, dst: RawImage, pre: Float64Array[], colour: (rgb: Vec3) => Vec3): void {
   const g = GRID;
   const grid = buildGrid(colour);
-  const packed = new Uint32Array(g * g * g);
+  const packed = new Int32Array(g * g * g);
   for (let n = 0; n < packed.length; n++) {
     const r = Math.round(grid[3 * n]! * 1020);
     const gg = Math.round(grid[3 * n + 1]! * 1020);
     const b = Math.round(grid[3 * n + 2]! * 1020);
-    packed[n] = ((r << 20) | (gg << 10) | b) >>> 0;
+    packed[n] = (r << 20) | (gg << 10) | b; // < 2^30: stays a small integer
   }
   const tables = [g * g, g, 1].map((stride, c) => {
     const { base, frac } = positions(pre[c]!, stride, 256);
@@ -166,7 +166,7 @@ function clutPass8(src: RawImage, dst: RawImage, pre: Float64Array[], colour: (r
   if (hasAlpha(src.channels)) copyChannel(src.data, dst.data, src.channels - 1, src.channels);
 }
 
-function tetra8(src: Uint8Array, dst: Uint8Array, lut: Uint32Array, tr: Int32Array, tg: Int32Array, tb: Int32Array, ch: number): void {
+function tetra8(src: Uint8Array, dst: Uint8Array, lut: Int32Array, tr: Int32Array, tg: Int32Array, tb: Int32Array, ch: number): void {
   const sR = GRID * GRID;
   const sG = GRID;
   const sAll = sR + sG + 1;
@@ -191,8 +191,8 @@ function tetra8(src: Uint8Array, dst: Uint8Array, lut: Uint32Array, tr: Int32Arr
     const c1 = lut[base + o1]!;
     const c2 = lut[base + o2]!;
     const c3 = lut[base + sAll]!;
-    dst[i] = (w0 * (c0 >>> 20) + w1 * (c1 >>> 20) + w2 * (c2 >>> 20) + w3 * (c3 >>> 20) + 512) >> 10;
-    dst[i + 1] = (w0 * ((c0 >>> 10) & 1023) + w1 * ((c1 >>> 10) & 1023) + w2 * ((c2 >>> 10) & 1023) + w3 * ((c3 >>> 10) & 1023) + 512) >> 10;
+    dst[i] = (w0 * (c0 >> 20) + w1 * (c1 >> 20) + w2 * (c2 >> 20) + w3 * (c3 >> 20) + 512) >> 10;
+    dst[i + 1] = (w0 * ((c0 >> 10) & 1023) + w1 * ((c1 >> 10) & 1023) + w2 * ((c2 >> 10) & 1023) + w3 * ((c3 >> 10) & 1023) + 512) >> 10;
     dst[i + 2] = (w0 * (c0 & 1023) + w1 * (c1 & 1023) + w2 * (c2 & 1023) + w3 * (c3 & 1023) + 512) >> 10;
   }
 }

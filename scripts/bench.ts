@@ -1,0 +1,151 @@
+/**
+ * `npm run bench`: speed and memory of the split (and of the render, when it is there) against
+ * floors measured in the same run, on generated scans: a letter-size page at 300 DPI and an A4
+ * page at 600 DPI, 8 pieces each, as LZW TIFF (what scanner software archives) and JPEG.
+ *
+ * Each measurement runs in its own child process (scripts/bench/measure.ts), so the peak memory
+ * reported is that measurement's alone. Reported figures are medians over the runs.
+ * - floor: sharp decodes the scan once and makes the reduced analysis copy, nothing else;
+ * - split: the whole split (header, decode into the reduced copy, analysis);
+ * - whole: split plus every fragment's master and web copy; outputsFloor: one decode and the same
+ *   outputs encoded straight from it, with no analysis.
+ * Targets at A4 600 DPI: split ≤ 1.5 × floor, whole ≤ 1.5 × outputsFloor, peak memory ≤ 1.5 GB.
+ * Results: a table on stdout and .bench/results.json. Options: --runs N (default 5), --quick
+ * (letter only, 3 runs).
+ */
+import { spawnSync } from "node:child_process";
+import fs from "node:fs";
+import path from "node:path";
+import { eightPieces } from "../tests/helpers/split-scenes";
+import { renderScene, writeScene } from "../tests/helpers/synthetic-scans";
+import { median, type Sample } from "./bench/measure";
+
+const ROOT = path.resolve(import.meta.dirname, "..");
+const OUT = path.join(ROOT, ".bench");
+const SCANS = path.join(OUT, "scans");
+
+interface ScanCase {
+  name: string;
+  widthMm: number;
+  heightMm: number;
+  dpi: number;
+  format: "tiff" | "jpeg";
+}
+
+const args = process.argv.slice(2);
+const quick = args.includes("--quick");
+const runsArg = args.indexOf("--runs");
+const RUNS = runsArg >= 0 ? Math.max(1, Number(args[runsArg + 1]) || 5) : quick ? 3 : 5;
+
+const CASES: ScanCase[] = [
+  { name: "letter 300 DPI TIFF", widthMm: 215.9, heightMm: 279.4, dpi: 300, format: "tiff" },
+  { name: "letter 300 DPI JPEG", widthMm: 215.9, heightMm: 279.4, dpi: 300, format: "jpeg" },
+  ...(quick
+    ? []
+    : ([
+        { name: "A4 600 DPI TIFF", widthMm: 210, heightMm: 297, dpi: 600, format: "tiff" },
+        { name: "A4 600 DPI JPEG", widthMm: 210, heightMm: 297, dpi: 600, format: "jpeg" },
+      ] as ScanCase[])),
+];
+
+/** Draws the case's scan once; later runs reuse the file. */
+async function scanFile(c: ScanCase): Promise<string> {
+  const file = path.join(SCANS, `${c.widthMm}x${c.heightMm}mm-${c.dpi}dpi.${c.format === "tiff" ? "tif" : "jpg"}`);
+  if (fs.existsSync(file)) return file;
+  fs.mkdirSync(SCANS, { recursive: true });
+  process.stdout.write(`drawing ${c.name} …\n`);
+  const scene = renderScene(eightPieces(c.widthMm, c.heightMm, c.dpi));
+  await writeScene(scene, file + ".part", c.format);
+  fs.renameSync(file + ".part", file);
+  return file;
+}
+
+/** Runs one measurement in a child process; null (with the reason printed) when it fails. */
+function measure(name: string, file: string, runs: number): Sample | null {
+  const child = spawnSync(
+    process.execPath,
+    ["--import", "tsx", path.join(ROOT, "scripts", "bench", "measure.ts"), name, file, String(runs), path.join(OUT, "out", name)],
+    { cwd: ROOT, encoding: "utf8", maxBuffer: 16 * 1024 * 1024 },
+  );
+  if (child.status !== 0) {
+    const why = (child.stderr || child.stdout || "").trim().split("\n").slice(-3).join(" | ");
+    process.stdout.write(`  ${name} failed: ${why}\n`);
+    return null;
+  }
+  return JSON.parse(child.stdout.trim().split("\n").pop()!) as Sample;
+}
+
+interface Row {
+  scan: string;
+  file: string;
+  megapixels: number;
+  floorMs: number;
+  splitMs: number;
+  splitOverFloor: number;
+  splitPeakMb: number;
+  renderPerFragmentMs: number | null;
+  wholeMs: number | null;
+  outputsFloorMs: number | null;
+  wholeOverFloor: number | null;
+  wholePeakMb: number | null;
+  fragments: number | string | null;
+}
+
+const fmt = (v: number | null, digits = 0) => (v === null || Number.isNaN(v) ? "–" : v.toFixed(digits));
+
+async function main() {
+  const rows: Row[] = [];
+  for (const c of CASES) {
+    const file = await scanFile(c);
+    process.stdout.write(`measuring ${c.name} (${RUNS} runs) …\n`);
+    const floor = measure("floor", file, RUNS);
+    const split = measure("split", file, RUNS);
+    const whole = measure("whole", file, Math.max(1, Math.ceil(RUNS / 2)));
+    const outputs = whole && whole.times.length > 0 ? measure("outputsFloor", file, Math.max(1, Math.ceil(RUNS / 2))) : null;
+    const px = Math.round((c.widthMm / 25.4) * c.dpi) * Math.round((c.heightMm / 25.4) * c.dpi);
+    const floorMs = floor ? median(floor.times) : NaN;
+    const splitMs = split ? median(split.times) : NaN;
+    const wholeMs = whole && whole.times.length > 0 ? median(whole.times) : null;
+    const outputsMs = outputs ? median(outputs.times) : null;
+    rows.push({
+      scan: c.name,
+      file: path.relative(ROOT, file),
+      megapixels: Math.round(px / 1e5) / 10,
+      floorMs,
+      splitMs,
+      splitOverFloor: splitMs / floorMs,
+      splitPeakMb: split?.peakRssMb ?? NaN,
+      renderPerFragmentMs: (whole?.detail?.renderPerFragmentMs as number | undefined) ?? null,
+      wholeMs,
+      outputsFloorMs: outputsMs,
+      wholeOverFloor: wholeMs !== null && outputsMs !== null ? wholeMs / outputsMs : null,
+      wholePeakMb: whole && whole.times.length > 0 ? whole.peakRssMb : null,
+      fragments: split?.detail?.fragments ?? null,
+    });
+  }
+  const head = ["scan", "MP", "pieces", "floor ms", "split ms", "split/floor", "split peak MB", "render/frag ms", "whole ms", "outputs floor ms", "whole/floor", "whole peak MB"];
+  const table = rows.map((r) => [
+    r.scan,
+    fmt(r.megapixels, 1),
+    String(r.fragments ?? "–"),
+    fmt(r.floorMs),
+    fmt(r.splitMs),
+    fmt(r.splitOverFloor, 2),
+    fmt(r.splitPeakMb),
+    fmt(r.renderPerFragmentMs),
+    fmt(r.wholeMs),
+    fmt(r.outputsFloorMs),
+    fmt(r.wholeOverFloor, 2),
+    fmt(r.wholePeakMb),
+  ]);
+  const widths = head.map((h, i) => Math.max(h.length, ...table.map((t) => t[i]!.length)));
+  const line = (cells: string[]) => cells.map((cell, i) => (i === 0 ? cell.padEnd(widths[i]!) : cell.padStart(widths[i]!))).join("  ");
+  process.stdout.write(["", line(head), ...table.map(line), ""].join("\n") + "\n");
+  process.stdout.write("Targets at A4 600 DPI: split/floor ≤ 1.5, whole/floor ≤ 1.5, peak memory ≤ 1536 MB.\n");
+  fs.mkdirSync(OUT, { recursive: true });
+  const result = { at: new Date().toISOString(), node: process.version, runs: RUNS, rows };
+  fs.writeFileSync(path.join(OUT, "results.json"), JSON.stringify(result, null, 2) + "\n");
+  process.stdout.write(`Written to ${path.relative(ROOT, path.join(OUT, "results.json"))}\n`);
+}
+
+await main();

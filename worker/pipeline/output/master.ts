@@ -1,0 +1,35 @@
+/**
+ * Master copies by preset: the source re-encoded losslessly as TIFF or PNG at a chosen depth,
+ * its ICC profile and metadata kept, alpha kept or flattened on white, resolution recorded.
+ */
+import sharp from "sharp";
+import type { MasterPreset } from "../../../shared/schemas/presets";
+import { MM_PER_INCH } from "../../../shared/units";
+
+/**
+ * Encodes a master from the source file. bitDepth "source" keeps the source's depth; 8 or 16
+ * converts. Resolution: TIFF XResolution/YResolution per inch (TIFF 6.0 Section 8), PNG pHYs.
+ * Example: a 16-bit TIFF with the default master preset → a 16-bit LZW TIFF at the same DPI.
+ */
+export async function renderMaster(file: string, dpi: number, preset: MasterPreset, maxPixels: number): Promise<{ data: Buffer; width: number; height: number }> {
+  const meta = await sharp(file, { limitInputPixels: maxPixels }).metadata();
+  const sourceDepth = meta.depth === "ushort" ? 16 : 8;
+  const depth = preset.bitDepth === "source" ? sourceDepth : preset.bitDepth;
+  const grey = meta.channels !== undefined && meta.channels <= 2;
+  let img = sharp(file, { failOn: "error", limitInputPixels: maxPixels }).autoOrient().keepIccProfile();
+  if (!preset.keepAlpha && meta.hasAlpha) img = img.flatten({ background: "#ffffff" });
+  img = img.toColourspace(depth === 16 ? (grey ? "grey16" : "rgb16") : grey ? "b-w" : "srgb");
+  if (preset.embedResolution) img = img.withMetadata({ density: dpi });
+  if (preset.format === "tiff") {
+    const compression = preset.compression ?? "lzw";
+    img = img.tiff({
+      compression,
+      ...(compression === "none" ? {} : { predictor: "horizontal" as const }),
+      ...(preset.embedResolution ? { xres: dpi / MM_PER_INCH, yres: dpi / MM_PER_INCH, resolutionUnit: "inch" as const } : {}),
+    });
+  } else {
+    img = img.png({ compressionLevel: preset.compression === "none" ? 0 : 9 });
+  }
+  const { data, info } = await img.toBuffer({ resolveWithObject: true });
+  return { data, width: info.width, height: info.height };
+}

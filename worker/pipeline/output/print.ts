@@ -1,0 +1,94 @@
+/**
+ * Print files: the piece on a white page of exactly paper × print DPI pixels, with optional crop
+ * marks and caption, as a TIFF recording its resolution, or as a PDF at the paper's size (pdf.ts).
+ */
+import sharp, { type OverlayOptions } from "sharp";
+import type { PrintPreset } from "../../../shared/schemas/presets";
+import { MM_PER_INCH } from "../../../shared/units";
+import { CAPTION, captionBaseline, captionText, cropMarks, type PrintLayout } from "./print-layout";
+import { pieceImage, type Piece } from "./source";
+
+/** Line weight of crop marks, points (a hairline, common practice). */
+export const MARK_WEIGHT_PT = 0.5;
+
+/**
+ * The visible part of the piece at `dpiOut` pixels per printed inch, flattened on white, as raw
+ * RGB. Used by the TIFF at the print DPI and by the PDF at the effective DPI.
+ */
+export async function visiblePiece(piece: Piece, layout: PrintLayout, dpiOut: number): Promise<{ data: Buffer; width: number; height: number }> {
+  const { printed, visible } = layout.place;
+  const px = (inches: number) => Math.max(1, Math.round(inches * dpiOut));
+  const fullW = px(printed.width);
+  const fullH = px(printed.height);
+  const left = Math.min(fullW - 1, Math.max(0, Math.round((visible.x - printed.x) * dpiOut)));
+  const top = Math.min(fullH - 1, Math.max(0, Math.round((visible.y - printed.y) * dpiOut)));
+  const width = Math.min(fullW - left, px(visible.width));
+  const height = Math.min(fullH - top, px(visible.height));
+  let img = pieceImage(piece).resize({ width: fullW, height: fullH, fit: "fill", kernel: "lanczos3" });
+  if (left > 0 || top > 0 || width < fullW || height < fullH) {
+    img = sharp(await img.raw().toBuffer(), { raw: { width: fullW, height: fullH, channels: 4 }, limitInputPixels: false }).extract({ left, top, width, height });
+  }
+  const data = await img.flatten({ background: "#ffffff" }).removeAlpha().raw().toBuffer();
+  return { data, width, height };
+}
+
+function escapeXml(text: string): string {
+  return text.replace(/[<>&"']/g, (c) => ({ "<": "&lt;", ">": "&gt;", "&": "&amp;", '"': "&quot;", "'": "&apos;" })[c]!);
+}
+
+/** The marks and caption as one SVG the size of the page, in page pixels; null when there are none. */
+export function overlaySvg(layout: PrintLayout, preset: PrintPreset, title: string | undefined, warnings: string[]): string | null {
+  const dpi = preset.printDpi;
+  const parts: string[] = [];
+  if (preset.cropMarks) {
+    const lines = cropMarks(layout.area, layout.page);
+    if (lines.length < 8) warnings.push("The margins leave no room for some crop marks; those are left out");
+    const w = Math.max(1, (MARK_WEIGHT_PT / 72) * dpi);
+    for (const s of lines) {
+      parts.push(`<line x1="${s.x1 * dpi}" y1="${s.y1 * dpi}" x2="${s.x2 * dpi}" y2="${s.y2 * dpi}" stroke="#000" stroke-width="${w}"/>`);
+    }
+  }
+  if (preset.caption) {
+    const baseline = captionBaseline(layout.place.visible, layout.page);
+    if (baseline === null) warnings.push("The bottom margin has no room for the caption; it is left out");
+    else {
+      const v = layout.place.visible;
+      const size = (CAPTION.sizePt / 72) * dpi;
+      const text = escapeXml(captionText(title, v));
+      parts.push(
+        `<text x="${(v.x + v.width / 2) * dpi}" y="${baseline * dpi}" font-family="DejaVu Sans, Liberation Sans, sans-serif" font-size="${size}" fill="#333" text-anchor="middle">${text}</text>`,
+      );
+    }
+  }
+  if (parts.length === 0) return null;
+  const { width, height } = layout.pagePx;
+  return `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" viewBox="0 0 ${width} ${height}">${parts.join("")}</svg>`;
+}
+
+/**
+ * The page as a TIFF: white, pagePx in size, the piece at visiblePx, LZW, sRGB, the print DPI
+ * in XResolution/YResolution (TIFF 6.0 Section 8; sharp takes pixels per mm).
+ * Example: Letter at 300 DPI → a 2550 × 3300 px TIFF recording 300 DPI.
+ */
+export async function renderPrintTiff(piece: Piece, layout: PrintLayout, preset: PrintPreset, title: string | undefined): Promise<{ data: Buffer; warnings: string[] }> {
+  const warnings: string[] = [];
+  const dpi = preset.printDpi;
+  const visible = await visiblePiece(piece, layout, dpi);
+  const layers: OverlayOptions[] = [
+    { input: visible.data, raw: { width: visible.width, height: visible.height, channels: 3 }, left: layout.visiblePx.left, top: layout.visiblePx.top },
+  ];
+  const svg = overlaySvg(layout, preset, title, warnings);
+  if (svg) layers.push({ input: Buffer.from(svg), left: 0, top: 0 });
+  const { width, height } = layout.pagePx;
+  // sharp composites last in a pipeline and its result carries alpha: flatten in a second pass.
+  const page = await sharp({ create: { width, height, channels: 3, background: "#ffffff" }, limitInputPixels: false })
+    .composite(layers)
+    .raw()
+    .toBuffer({ resolveWithObject: true });
+  const data = await sharp(page.data, { raw: { width, height, channels: page.info.channels }, limitInputPixels: false })
+    .flatten({ background: "#ffffff" })
+    .withIccProfile("srgb")
+    .tiff({ compression: "lzw", predictor: "horizontal", xres: dpi / MM_PER_INCH, yres: dpi / MM_PER_INCH, resolutionUnit: "inch" })
+    .toBuffer();
+  return { data, warnings };
+}

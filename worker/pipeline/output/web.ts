@@ -1,0 +1,123 @@
+/**
+ * Web copies: a long edge or an exact box (contain with padding, cover with crop), 8-bit sRGB,
+ * JPEG, WebP, AVIF or PNG, with only the fields the preset keeps. The copy is encoded from raw
+ * pixels, so nothing of the source's EXIF (location, camera) can travel with it.
+ */
+import sharp, { type Sharp } from "sharp";
+import { fitScale } from "../../../shared/paper";
+import { WEB_ASPECTS, type WebPreset } from "../../../shared/schemas/presets";
+import { cleanRights, exifIfd0, xmpPacket, type Rights } from "../render/rights";
+import { pieceImage, rgbOf, type Piece } from "./source";
+
+/** Where the piece sits on the copy's canvas, in pixels; left/top are negative when cover crops. */
+export interface WebGeometry {
+  canvasWidth: number;
+  canvasHeight: number;
+  pieceWidth: number;
+  pieceHeight: number;
+  left: number;
+  top: number;
+  /** Copy pixels per source pixel. */
+  scale: number;
+}
+
+/**
+ * The copy's size and the piece's place on it. longEdge: the canvas is the piece scaled to the
+ * long edge (never enlarged unless `enlarge`). box: the canvas is width × width·(h/w of the aspect);
+ * contain scales the piece to fit inside (never enlarged unless `enlarge`) and centres it;
+ * cover scales it to cover the box (enlarging if it must) and centres the crop. Sizes round to
+ * the nearest pixel. Example: 3000 × 2000 px, box 1:1 1080, contain → piece 1080 × 720 at (0, 180).
+ */
+export function webGeometry(width: number, height: number, preset: Pick<WebPreset, "size" | "fit" | "enlarge">): WebGeometry {
+  if (preset.size.mode === "longEdge") {
+    let scale = preset.size.longEdge / Math.max(width, height);
+    if (!preset.enlarge) scale = Math.min(scale, 1);
+    const w = Math.max(1, Math.round(width * scale));
+    const h = Math.max(1, Math.round(height * scale));
+    return { canvasWidth: w, canvasHeight: h, pieceWidth: w, pieceHeight: h, left: 0, top: 0, scale };
+  }
+  const [aw, ah] = WEB_ASPECTS[preset.size.aspect];
+  const canvasWidth = preset.size.width;
+  const canvasHeight = Math.round((canvasWidth * ah) / aw);
+  let scale = fitScale(width, height, canvasWidth, canvasHeight, preset.fit === "contain" ? "fit" : "fill");
+  if (preset.fit === "contain" && !preset.enlarge) scale = Math.min(scale, 1);
+  // Cover must reach both edges: round up so no background line shows.
+  const round = preset.fit === "cover" ? Math.ceil : Math.round;
+  const pieceWidth = Math.max(1, preset.fit === "cover" ? Math.max(canvasWidth, round(width * scale - 1e-9)) : round(width * scale));
+  const pieceHeight = Math.max(1, preset.fit === "cover" ? Math.max(canvasHeight, round(height * scale - 1e-9)) : round(height * scale));
+  return {
+    canvasWidth,
+    canvasHeight,
+    pieceWidth,
+    pieceHeight,
+    left: Math.round((canvasWidth - pieceWidth) / 2),
+    top: Math.round((canvasHeight - pieceHeight) / 2),
+    scale,
+  };
+}
+
+export interface WebResult {
+  data: Buffer;
+  width: number;
+  height: number;
+  /** Resolution recorded: the source DPI × the scale. */
+  dpi: number;
+  warnings: string[];
+}
+
+/** The rights fields the preset keeps. */
+function keptRights(preset: WebPreset, rights: Rights): Rights {
+  const r = cleanRights(rights);
+  const out: Rights = {};
+  if (preset.keep.title && r.title) out.title = r.title;
+  if (preset.keep.creator && r.creator) out.creator = r.creator;
+  if (preset.keep.copyright && r.copyright) out.copyright = r.copyright;
+  return out;
+}
+
+/**
+ * Encodes a web copy of the piece. Example: a 3000 × 2000 px piece at 600 DPI with the `web`
+ * preset → 2048 × 1365 px JPEG recording 409.6 DPI.
+ */
+export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights): Promise<WebResult> {
+  const g = webGeometry(piece.width, piece.height, preset);
+  const warnings: string[] = [];
+  if (g.scale > 1) warnings.push(`Enlarged ${Math.round(g.scale * 100) / 100}× from ${piece.width} × ${piece.height} px: the copy may look soft`);
+  const resized = await pieceImage(piece)
+    .resize({ width: g.pieceWidth, height: g.pieceHeight, fit: "fill", kernel: "lanczos3" })
+    .raw()
+    .toBuffer();
+  let canvas: Sharp;
+  if (g.left < 0 || g.top < 0) {
+    canvas = sharp(resized, { raw: { width: g.pieceWidth, height: g.pieceHeight, channels: 4 } }).extract({
+      left: -g.left,
+      top: -g.top,
+      width: g.canvasWidth,
+      height: g.canvasHeight,
+    });
+  } else {
+    const bg = preset.background === "transparent" ? { r: 0, g: 0, b: 0, alpha: 0 } : rgbOf(preset.background);
+    canvas = sharp({ create: { width: g.canvasWidth, height: g.canvasHeight, channels: 4, background: bg } }).composite([
+      { input: resized, raw: { width: g.pieceWidth, height: g.pieceHeight, channels: 4 }, left: g.left, top: g.top },
+    ]);
+  }
+  if (preset.background !== "transparent") canvas = canvas.flatten({ background: preset.background });
+  const raw = await canvas.raw().toBuffer({ resolveWithObject: true });
+
+  const dpi = Math.round(piece.dpi * g.scale * 100) / 100;
+  let out = sharp(raw.data, { raw: { width: raw.info.width, height: raw.info.height, channels: raw.info.channels } });
+  if (preset.keep.resolution) out = out.withMetadata({ density: dpi });
+  if (preset.toSrgb) out = out.withIccProfile("srgb");
+  const kept = keptRights(preset, rights);
+  const exif = exifIfd0(kept);
+  if (exif) out = out.withExif(exif);
+  const xmp = xmpPacket(kept);
+  if (xmp) out = out.withXmp(xmp);
+  const q = preset.quality;
+  if (preset.format === "jpeg") out = out.jpeg({ quality: q, chromaSubsampling: "4:4:4" });
+  else if (preset.format === "webp") out = out.webp({ quality: q, alphaQuality: 100 });
+  else if (preset.format === "avif") out = out.avif({ quality: q });
+  else out = out.png({ compressionLevel: 9 });
+  const data = await out.toBuffer();
+  return { data, width: raw.info.width, height: raw.info.height, dpi, warnings };
+}
