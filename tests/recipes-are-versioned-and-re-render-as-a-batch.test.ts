@@ -154,5 +154,14 @@ describe("recipes", () => {
     }, 60_000);
     const other = await stack.db.select().from(outputs);
     expect(other.filter((o) => o.fragmentId !== first!.id).every((o) => o.recipeVersionId !== builtIn.versionId)).toBe(true);
+    // A scan's recipe then covers both of its fragments, clearing the fragment's own choice.
+    const muted = list.find((r) => r.name === "Muted stock")!;
+    const byScan = await operator.post(`/api/recipes/${muted.id}/apply`).send({ scanId });
+    expect(byScan.body).toMatchObject({ fragments: 2, rerender: 2 });
+    const both = await stack.db.select().from(fragmentsTable).where(eq(fragmentsTable.scanId, scanId));
+    expect(both.every((f) => f.recipeId === null)).toBe(true);
+    const bad = await operator.post(`/api/recipes/${muted.id}/apply`).send({ scanId, intakeId });
+    expect(bad.status).toBe(400);
+    expect(bad.body.error.message).toBe("Expected exactly one of fragmentIds, scanId or intakeId");
   });
 });

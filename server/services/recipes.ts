@@ -161,9 +161,9 @@ export async function recipeVersionFor(db: Db, fragmentId: string): Promise<Reci
 }
 
 /**
- * Uses a recipe for some fragments or a whole intake, then re-renders the approved ones among them
- * as one batch. For an intake, the intake's recipe is set and more specific choices on its scans and
- * fragments are cleared, so the whole intake follows it.
+ * Uses a recipe for some fragments, a scan or a whole intake, then re-renders the approved ones
+ * among them as one batch. For a scan or an intake, its recipe is set and the more specific choices
+ * below it are cleared, so all of it follows the new recipe.
  */
 export async function applyRecipe(database: Database, boss: PgBoss, actorId: string, recipeId: string, body: ApplyRecipeBody) {
   const [recipe] = await database.db.select().from(recipes).where(eq(recipes.id, recipeId));
@@ -180,6 +180,12 @@ export async function applyRecipe(database: Database, boss: PgBoss, actorId: str
       const rows = scanIds.length
         ? await tx.db.update(fragments).set({ recipeId: null }).where(inArray(fragments.scanId, scanIds)).returning({ id: fragments.id })
         : [];
+      targetIds = rows.map((r) => r.id);
+    } else if (body.scanId) {
+      const [scan] = await tx.db.select({ id: scans.id }).from(scans).where(eq(scans.id, body.scanId));
+      if (!scan) throw notFound("That scan");
+      await tx.db.update(scans).set({ recipeId, updatedAt: new Date() }).where(eq(scans.id, scan.id));
+      const rows = await tx.db.update(fragments).set({ recipeId: null }).where(eq(fragments.scanId, scan.id)).returning({ id: fragments.id });
       targetIds = rows.map((r) => r.id);
     } else {
       const rows = await tx.db.update(fragments).set({ recipeId }).where(inArray(fragments.id, body.fragmentIds!)).returning({ id: fragments.id });

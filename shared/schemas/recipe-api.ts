@@ -41,13 +41,16 @@ export const updateRecipeBody = z
   .refine((b) => Object.keys(b).length > 0, { error: "Expected at least one of name, description, steps or studioDefault" });
 export type UpdateRecipeBody = z.infer<typeof updateRecipeBody>;
 
-/** Use a recipe for these fragments, or for a whole intake (its scans' fragments follow), and re-render what is approved. */
+/** Use a recipe for these fragments, one scan or a whole intake (the more specific choices below follow), and re-render what is approved. */
 export const applyRecipeBody = z
   .object({
     fragmentIds: z.array(z.uuid({ error: "Expected fragment ids in UUID form" })).min(1).max(5000).optional(),
+    scanId: z.uuid({ error: "Expected scanId in UUID form" }).optional(),
     intakeId: z.uuid({ error: "Expected intakeId in UUID form" }).optional(),
   })
-  .refine((b) => (b.fragmentIds ? 1 : 0) + (b.intakeId ? 1 : 0) === 1, { error: "Expected either fragmentIds or intakeId" });
+  .refine((b) => (b.fragmentIds ? 1 : 0) + (b.scanId ? 1 : 0) + (b.intakeId ? 1 : 0) === 1, {
+    error: "Expected exactly one of fragmentIds, scanId or intakeId",
+  });
 export type ApplyRecipeBody = z.infer<typeof applyRecipeBody>;
 
 /** Live preview of unsaved steps on one fragment, rendered on the server from a reduced copy. */
