@@ -50,7 +50,10 @@ const CASES: ScanCase[] = [
 
 /** Draws the case's scan once; later runs reuse the file. */
 async function scanFile(c: ScanCase): Promise<string> {
-  const file = path.join(SCANS, `${c.widthMm}x${c.heightMm}mm-${c.dpi}dpi.${c.format === "tiff" ? "tif" : "jpg"}`);
+  const file = path.join(
+    SCANS,
+    `${c.widthMm}x${c.heightMm}mm-${c.dpi}dpi.${c.format === "tiff" ? "tif" : "jpg"}`,
+  );
   if (fs.existsSync(file)) return file;
   fs.mkdirSync(SCANS, { recursive: true });
   process.stdout.write(`drawing ${c.name} …\n`);
@@ -64,7 +67,15 @@ async function scanFile(c: ScanCase): Promise<string> {
 function measure(name: string, file: string, runs: number): Sample | null {
   const child = spawnSync(
     process.execPath,
-    ["--import", "tsx", path.join(ROOT, "scripts", "bench", "measure.ts"), name, file, String(runs), path.join(OUT, "out", name)],
+    [
+      "--import",
+      "tsx",
+      path.join(ROOT, "scripts", "bench", "measure.ts"),
+      name,
+      file,
+      String(runs),
+      path.join(OUT, "out", name),
+    ],
     { cwd: ROOT, encoding: "utf8", maxBuffer: 16 * 1024 * 1024 },
   );
   if (child.status !== 0) {
@@ -91,7 +102,8 @@ interface Row {
   fragments: number | string | null;
 }
 
-const fmt = (v: number | null, digits = 0) => (v === null || Number.isNaN(v) ? "–" : v.toFixed(digits));
+const fmt = (v: number | null, digits = 0) =>
+  v === null || Number.isNaN(v) ? "–" : v.toFixed(digits);
 
 async function main() {
   const rows: Row[] = [];
@@ -101,7 +113,10 @@ async function main() {
     const floor = measure("floor", file, RUNS);
     const split = measure("split", file, RUNS);
     const whole = measure("whole", file, Math.max(1, Math.ceil(RUNS / 2)));
-    const outputs = whole && whole.times.length > 0 ? measure("outputsFloor", file, Math.max(1, Math.ceil(RUNS / 2))) : null;
+    const outputs =
+      whole && whole.times.length > 0
+        ? measure("outputsFloor", file, Math.max(1, Math.ceil(RUNS / 2)))
+        : null;
     const px = Math.round((c.widthMm / 25.4) * c.dpi) * Math.round((c.heightMm / 25.4) * c.dpi);
     const floorMs = floor ? median(floor.times) : NaN;
     const splitMs = split ? median(split.times) : NaN;
@@ -123,7 +138,20 @@ async function main() {
       fragments: split?.detail?.fragments ?? null,
     });
   }
-  const head = ["scan", "MP", "pieces", "floor ms", "split ms", "split/floor", "split peak MB", "render/frag ms", "whole ms", "outputs floor ms", "whole/floor", "whole peak MB"];
+  const head = [
+    "scan",
+    "MP",
+    "pieces",
+    "floor ms",
+    "split ms",
+    "split/floor",
+    "split peak MB",
+    "render/frag ms",
+    "whole ms",
+    "outputs floor ms",
+    "whole/floor",
+    "whole peak MB",
+  ];
   const table = rows.map((r) => [
     r.scan,
     fmt(r.megapixels, 1),
@@ -139,9 +167,14 @@ async function main() {
     fmt(r.wholePeakMb),
   ]);
   const widths = head.map((h, i) => Math.max(h.length, ...table.map((t) => t[i]!.length)));
-  const line = (cells: string[]) => cells.map((cell, i) => (i === 0 ? cell.padEnd(widths[i]!) : cell.padStart(widths[i]!))).join("  ");
+  const line = (cells: string[]) =>
+    cells
+      .map((cell, i) => (i === 0 ? cell.padEnd(widths[i]!) : cell.padStart(widths[i]!)))
+      .join("  ");
   process.stdout.write(["", line(head), ...table.map(line), ""].join("\n") + "\n");
-  process.stdout.write("Targets at A4 600 DPI: split/floor ≤ 1.5, whole/floor ≤ 1.5, peak memory ≤ 1536 MB.\n");
+  process.stdout.write(
+    "Targets at A4 600 DPI: split/floor ≤ 1.5, whole/floor ≤ 1.5, peak memory ≤ 1536 MB.\n",
+  );
   fs.mkdirSync(OUT, { recursive: true });
   const result = { at: new Date().toISOString(), node: process.version, runs: RUNS, rows };
   fs.writeFileSync(path.join(OUT, "results.json"), JSON.stringify(result, null, 2) + "\n");

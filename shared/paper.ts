@@ -52,8 +52,9 @@ export function aSeriesMm(n: number): { width: number; height: number } {
 const inchPaper = (w: number, h: number): PaperSize => ({
   widthIn: w,
   heightIn: h,
-  widthMm: w * MM_PER_INCH,
-  heightMm: h * MM_PER_INCH,
+  // Rounded to a nanometre so 8.5 in reads 215.9 mm, not 215.89999999999998.
+  widthMm: Math.round(w * MM_PER_INCH * 1e6) / 1e6,
+  heightMm: Math.round(h * MM_PER_INCH * 1e6) / 1e6,
 });
 
 export const mmToIn = (mm: number): number => mm / MM_PER_INCH;

@@ -101,6 +101,15 @@ describe("platen render applies a recipe to a scan", () => {
     expect(run.code).toBe(0);
     expect(run.stdout).toMatch(/16-bit RGB/);
     expect((await sharp(out("16.tif")).metadata()).depth).toBe("ushort");
+    // a recipe with nothing to do gives back exactly the scan's 16-bit values, and its DPI
+    const none = path.join(tmp.dir, "none.json");
+    fs.writeFileSync(none, JSON.stringify({ steps: [] }));
+    const same = await platen(["render", file16, "--recipe", none, "--out", out("16-same.tif")]);
+    expect(same.code).toBe(0);
+    expect(same.stdout).toMatch(/^recipe {7}none \(file .*none\.json\)$/m);
+    const read = (f: string) => sharp(f).keepIccProfile().toColourspace("rgb16").raw({ depth: "ushort" }).toBuffer();
+    expect((await read(out("16-same.tif"))).equals(await read(file16))).toBe(true);
+    expect((await sharp(out("16-same.tif")).metadata()).density).toBeCloseTo(200, 1);
   });
 
   it.each([

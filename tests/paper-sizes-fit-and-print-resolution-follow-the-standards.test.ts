@@ -135,7 +135,7 @@ describe("web boxes", () => {
     const square = BUILT_IN_PRESETS.square as WebPreset;
     expect(webGeometry(3000, 2000, square)).toMatchObject({ canvasWidth: 1080, canvasHeight: 1080, pieceWidth: 1080, pieceHeight: 720, left: 0, top: 180 });
     const portrait = web({ size: { mode: "box", aspect: "4:5", width: 1080 }, fit: "cover" });
-    expect(webGeometry(3000, 2000, portrait)).toMatchObject({ canvasWidth: 1080, canvasHeight: 1350, pieceWidth: 2025, pieceHeight: 1350, left: -473, top: 0 });
+    expect(webGeometry(3000, 2000, portrait)).toMatchObject({ canvasWidth: 1080, canvasHeight: 1350, pieceWidth: 2025, pieceHeight: 1350, left: -472, top: 0 });
     const wide = web({ size: { mode: "box", aspect: "16:9", width: 1920 }, fit: "contain" });
     expect(webGeometry(2000, 2000, wide)).toMatchObject({ canvasWidth: 1920, canvasHeight: 1080, pieceWidth: 1080, pieceHeight: 1080, left: 420, top: 0 });
     // Never enlarged by contain unless asked: a 500 px piece sits at its own size.
@@ -154,7 +154,7 @@ describe("preset schema", () => {
     expect(bad({ kind: "web", name: "w", size: { mode: "longEdge", longEdge: 2048 }, quality: 120 })).toBe("quality: Expected quality as a whole number between 1 and 100 but received 120");
     expect(bad({ kind: "print", name: "p", paper: { size: "a9" }, layout: { mode: "area", widthIn: 8, heightIn: 10 } })).toMatch(/^paper\.size: Expected paper to be one of a0, a1/);
     expect(bad({ kind: "web", name: "w", size: { mode: "longEdge", longEdge: 2048 }, background: "transparent" })).toBe('background: Expected a colour background for JPEG (it has no transparency) but received "transparent"');
-    expect(bad({ kind: "frame" })).toBe('Expected a preset kind of master, web, print or mockup but received "frame"');
+    expect(bad({ kind: "frame" })).toBe('kind: Expected a preset kind of master, web, print or mockup but received "frame"');
     expect(bad({ kind: "mockup", name: "m", colour: "red" })).toBe('Unknown setting "colour" in a mockup preset');
   });
 

@@ -86,4 +86,34 @@ describe("recipes keep 16-bit precision without banding", () => {
     expect(image.bitDepth).toBe(16);
     expect(image.data).toEqual(img.data);
   });
+
+  it("reads a 16-bit file's colours as sRGB: an sRGB-tagged one exactly, another profile converted through it", async () => {
+    const srgb8 = [200, 100, 50, 10, 240, 130];
+    // the same colours in Display P3 at 8 bits (sharp converts them), then stored at 16 bits tagged P3
+    const p3png = await sharp(Uint8Array.from(srgb8), { raw: { width: 2, height: 1, channels: 3 } }).withIccProfile("p3").png().toBuffer();
+    const p3values = await sharp(p3png).keepIccProfile().raw().toBuffer();
+    const p3file = path.join(tmp.dir, "p3-16.tif");
+    // sharp takes untagged 16-bit RGB as P3, so tagging it P3 stores the values unchanged
+    await sharp(Uint16Array.from(p3values, (v) => v * 257) as unknown as Buffer, { raw: { width: 2, height: 1, channels: 3 } })
+      .toColourspace("rgb16")
+      .withIccProfile("p3")
+      .tiff({ compression: "lzw" })
+      .toFile(p3file);
+    expect(Array.from(p3values)).not.toEqual(srgb8); // P3 values differ from the sRGB ones
+    const none = compileRecipe({ name: "none", steps: [] }, { dpi: 300, bitDepth: 16 });
+    const fromP3 = (await none.apply(sharp(p3file))).image.data;
+    // within 3 of 255: the P3 values were rounded to 8 bits on the way, and that rounding grows where a channel is near 0
+    fromP3.forEach((v, i) => expect(Math.abs(v / 257 - srgb8[i]!)).toBeLessThan(3));
+    // without the conversion the P3 values would be taken as sRGB: further off than that
+    expect(Math.max(...Array.from(p3values, (v, i) => Math.abs(v - srgb8[i]!)))).toBeGreaterThan(10);
+
+    const srgbFile = path.join(tmp.dir, "srgb-16.tif");
+    await sharp(Uint16Array.from(srgb8, (v) => v * 257) as unknown as Buffer, { raw: { width: 2, height: 1, channels: 3 } })
+      .toColourspace("rgb16")
+      .withIccProfile("srgb")
+      .tiff({ compression: "lzw" })
+      .toFile(srgbFile);
+    const stored = await sharp(srgbFile).keepIccProfile().toColourspace("rgb16").raw({ depth: "ushort" }).toBuffer();
+    expect((await none.apply(sharp(srgbFile))).image.data).toEqual(new Uint16Array(stored.buffer, stored.byteOffset, 6));
+  });
 });

@@ -33,7 +33,9 @@ beforeAll(async () => {
   // once it is. Awaiting the module itself would never settle (it resolves to a thenable, itself),
   // so the callback's argument is passed on wrapped.
   const mod = createRequire(import.meta.url)("@techstark/opencv-js") as OpenCv;
-  const ready = await new Promise<{ cv: OpenCv }>((resolve) => mod.then((m: OpenCv) => resolve({ cv: m })));
+  const ready = await new Promise<{ cv: OpenCv }>((resolve) =>
+    mod.then((m: OpenCv) => resolve({ cv: m })),
+  );
   cv = ready.cv;
   const scenes: [string, SceneSpec][] = [
     ["white lid", mixedOnWhite],
@@ -45,7 +47,10 @@ beforeAll(async () => {
     const file = path.join(tmp.dir, `${analyses.length}.png`);
     await writeScene(scene, file, "png");
     const copy = await loadAnalysisCopy(file, { sourceDpi: spec.dpi, maxPixels: 100_000_000 });
-    const analysis = analyseCopy(copy, { sensitivity: 0.5, sourceDpi: { x: spec.dpi, y: spec.dpi } });
+    const analysis = analyseCopy(copy, {
+      sensitivity: 0.5,
+      sourceDpi: { x: spec.dpi, y: spec.dpi },
+    });
     analyses.push({ name, analysis, width: copy.width, height: copy.height });
   }
 }, 120_000);
@@ -70,10 +75,15 @@ describe("against OpenCV", () => {
       const contrast = analysis.foreground.contrast;
       const src = cv.matFromArray(height, width, cv.CV_8UC1, Array.from(contrast));
       const dst = new cv.Mat();
-      const theirs = withMat([src, dst], () => cv.threshold(src, dst, 0, 255, cv.THRESH_BINARY | cv.THRESH_OTSU));
+      const theirs = withMat([src, dst], () =>
+        cv.threshold(src, dst, 0, 255, cv.THRESH_BINARY | cv.THRESH_OTSU),
+      );
       const ours = otsuLevel(histogram(contrast));
       expect(ours).toBe(analysis.foreground.threshold.otsuLevel);
-      expect(Math.abs(ours - theirs), `${name}: ours ${ours}, OpenCV ${theirs}`).toBeLessThanOrEqual(2);
+      expect(
+        Math.abs(ours - theirs),
+        `${name}: ours ${ours}, OpenCV ${theirs}`,
+      ).toBeLessThanOrEqual(2);
     }
   });
 
@@ -89,7 +99,14 @@ describe("against OpenCV", () => {
         const stats = new cv.Mat();
         const centroids = new cv.Mat();
         const { count, areas } = withMat([src, labels, stats, centroids], () => {
-          const n: number = cv.connectedComponentsWithStats(src, labels, stats, centroids, 8, cv.CV_32S);
+          const n: number = cv.connectedComponentsWithStats(
+            src,
+            labels,
+            stats,
+            centroids,
+            8,
+            cv.CV_32S,
+          );
           const a: number[] = [];
           for (let i = 1; i < n; i++) a.push(stats.data32S[i * 5 + cv.CC_STAT_AREA]);
           return { count: n - 1, areas: a.sort((p, q) => p - q) };
@@ -103,7 +120,14 @@ describe("against OpenCV", () => {
 
   it("reads cv.minAreaRect's angle the way it is documented: width along (cos θ, sin θ), y down", () => {
     const t = (30 * Math.PI) / 180;
-    const pts = ([[-50, -25], [50, -25], [50, 25], [-50, 25]] as Point[]).flatMap(([u, v]) => [
+    const pts = (
+      [
+        [-50, -25],
+        [50, -25],
+        [50, 25],
+        [-50, 25],
+      ] as Point[]
+    ).flatMap(([u, v]) => [
       100 + u * Math.cos(t) - v * Math.sin(t),
       100 + u * Math.sin(t) + v * Math.cos(t),
     ]);
@@ -122,11 +146,17 @@ describe("against OpenCV", () => {
       for (const f of analysis.fragments) {
         const mat = cv.matFromArray(f.outline.length, 1, cv.CV_32FC2, f.outline.flat());
         const r = withMat([mat], () => cv.minAreaRect(mat));
-        const theirs = uprightFrame([Math.cos((r.angle * Math.PI) / 180), Math.sin((r.angle * Math.PI) / 180)]).angle;
+        const theirs = uprightFrame([
+          Math.cos((r.angle * Math.PI) / 180),
+          Math.sin((r.angle * Math.PI) / 180),
+        ]).angle;
         const ours = minAreaRect(f.outline as Point[]);
         let diff = Math.abs(ours.angle - theirs) % 90;
         diff = Math.min(diff, 90 - diff); // −45 and 45 are the same rectangle
-        expect(diff, `${name}, fragment at ${JSON.stringify(f.box)}: ours ${ours.angle}°, OpenCV ${theirs}°`).toBeLessThanOrEqual(0.5);
+        expect(
+          diff,
+          `${name}, fragment at ${JSON.stringify(f.box)}: ours ${ours.angle}°, OpenCV ${theirs}°`,
+        ).toBeLessThanOrEqual(0.5);
         const theirArea = r.size.width * r.size.height;
         expect(Math.abs(ours.area - theirArea) / theirArea).toBeLessThanOrEqual(0.005);
         compared++;

@@ -21,7 +21,14 @@ import { random } from "./helpers/synthetic-scans";
 
 const turned = (w: number, h: number, deg: number, cx = 0, cy = 0): Point[] => {
   const t = (deg * Math.PI) / 180;
-  return ([[-w / 2, -h / 2], [w / 2, -h / 2], [w / 2, h / 2], [-w / 2, h / 2]] as Point[]).map(([u, v]) => [
+  return (
+    [
+      [-w / 2, -h / 2],
+      [w / 2, -h / 2],
+      [w / 2, h / 2],
+      [-w / 2, h / 2],
+    ] as Point[]
+  ).map(([u, v]) => [
     cx + u * Math.cos(t) - v * Math.sin(t),
     cy + u * Math.sin(t) + v * Math.cos(t),
   ]);
@@ -37,7 +44,10 @@ function bruteMinArea(points: Point[]): number {
     const len = Math.hypot(bx - ax, by - ay);
     const ex = (bx - ax) / len;
     const ey = (by - ay) / len;
-    let minE = Infinity, maxE = -Infinity, minN = Infinity, maxN = -Infinity;
+    let minE = Infinity,
+      maxE = -Infinity,
+      minN = Infinity,
+      maxN = -Infinity;
     for (const [x, y] of points) {
       const e = x * ex + y * ey;
       const n = -x * ey + y * ex;
@@ -53,7 +63,16 @@ function bruteMinArea(points: Point[]): number {
 
 describe("convex hull (monotone chain)", () => {
   it("keeps the corners of a square and drops interior and collinear points", () => {
-    const hull = convexHull([[0, 0], [2, 0], [1, 1], [2, 2], [0, 2], [1, 0], [0, 1], [1.5, 0.5]]);
+    const hull = convexHull([
+      [0, 0],
+      [2, 0],
+      [1, 1],
+      [2, 2],
+      [0, 2],
+      [1, 0],
+      [0, 1],
+      [1.5, 0.5],
+    ]);
     expect(hull).toHaveLength(4);
     expect(new Set(hull.map((p) => p.join(",")))).toEqual(new Set(["0,0", "2,0", "2,2", "0,2"]));
     expect(polygonArea(hull)).toBe(4);
@@ -107,7 +126,10 @@ describe("minimum-area rectangle (rotating calipers)", () => {
     const rnd = random(7);
     for (let trial = 0; trial < 50; trial++) {
       const n = 3 + Math.floor(rnd() * 60);
-      const pts: Point[] = Array.from({ length: n }, () => [rnd() * 100 - 50, rnd() * 30 - 15 + rnd() * 20]);
+      const pts: Point[] = Array.from({ length: n }, () => [
+        rnd() * 100 - 50,
+        rnd() * 30 - 15 + rnd() * 20,
+      ]);
       expect(minAreaRect(pts).area).toBeCloseTo(bruteMinArea(pts), 6);
     }
   });
@@ -115,8 +137,17 @@ describe("minimum-area rectangle (rotating calipers)", () => {
 
 describe("Douglas–Peucker simplification", () => {
   it("drops a point within epsilon and keeps one beyond it", () => {
-    const open: Point[] = [[0, 0], [1, 0.1], [2, 0], [3, 5]];
-    expect(simplifyPolyline(open, 0.5)).toEqual([[0, 0], [2, 0], [3, 5]]);
+    const open: Point[] = [
+      [0, 0],
+      [1, 0.1],
+      [2, 0],
+      [3, 5],
+    ];
+    expect(simplifyPolyline(open, 0.5)).toEqual([
+      [0, 0],
+      [2, 0],
+      [3, 5],
+    ]);
     expect(simplifyPolyline(open, 0.05)).toEqual(open);
   });
 
@@ -134,13 +165,18 @@ describe("Douglas–Peucker simplification", () => {
 describe("pixel primitives", () => {
   it("distance transform equals the brute-force nearest-pixel distance", () => {
     const rnd = random(3);
-    const w = 31, h = 23;
+    const w = 31,
+      h = 23;
     const mask = Uint8Array.from({ length: w * h }, () => (rnd() < 0.05 ? 1 : 0));
     const d = squaredDistance(mask, w, h, 1);
     for (let i = 0; i < w * h; i++) {
       let best = Infinity;
       for (let j = 0; j < w * h; j++) {
-        if (mask[j]) best = Math.min(best, ((i % w) - (j % w)) ** 2 + (Math.floor(i / w) - Math.floor(j / w)) ** 2);
+        if (mask[j])
+          best = Math.min(
+            best,
+            ((i % w) - (j % w)) ** 2 + (Math.floor(i / w) - Math.floor(j / w)) ** 2,
+          );
       }
       expect(d[i]).toBe(best);
     }
@@ -156,9 +192,11 @@ describe("pixel primitives", () => {
   });
 
   it("traces the outer boundary of a ring-shaped component as a pixel-exact polygon", () => {
-    const w = 5, h = 5;
+    const w = 5,
+      h = 5;
     const mask = new Uint8Array(w * h);
-    for (let y = 1; y < 4; y++) for (let x = 1; x < 4; x++) mask[y * w + x] = x === 2 && y === 2 ? 0 : 1;
+    for (let y = 1; y < 4; y++)
+      for (let x = 1; x < 4; x++) mask[y * w + x] = x === 2 && y === 2 ? 0 : 1;
     const { labels, components } = labelComponents(mask, w, h);
     const poly = crackPolygon(traceCracks(labels, w, h, 1, components[0]!.first));
     expect(polygonArea(poly)).toBe(9); // the outer edge encloses the hole
@@ -166,7 +204,8 @@ describe("pixel primitives", () => {
   });
 
   it("cuts a 2 px line off a 30 px square but keeps the square's corners", () => {
-    const w = 80, h = 40;
+    const w = 80,
+      h = 40;
     const mask = new Uint8Array(w * h);
     for (let y = 5; y < 35; y++) for (let x = 5; x < 35; x++) mask[y * w + x] = 1;
     for (let y = 19; y < 21; y++) for (let x = 35; x < 78; x++) mask[y * w + x] = 1;
@@ -204,6 +243,7 @@ describe("threshold", () => {
     expect(contrastLevel(0)).toBe(0);
     expect(contrastLevel(150)).toBe(255);
     expect(contrastLevel(1000)).toBe(255);
-    for (const d of [0.5, 2, 5, 10, 40, 100]) expect(levelToDeltaE(Math.log1p(d / 2) * (255 / Math.log1p(75)))).toBeCloseTo(d, 9);
+    for (const d of [0.5, 2, 5, 10, 40, 100])
+      expect(levelToDeltaE(Math.log1p(d / 2) * (255 / Math.log1p(75)))).toBeCloseTo(d, 9);
   });
 });

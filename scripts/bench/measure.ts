@@ -60,7 +60,12 @@ async function renderModule(): Promise<RenderModule | null> {
 }
 
 /** Every fragment rendered (master and web copy) from the full-resolution scan; one time per fragment. */
-async function renderEach(file: string, outDir: string, fragments: SplitResult["fragments"], dpi: { x: number; y: number }): Promise<number[]> {
+async function renderEach(
+  file: string,
+  outDir: string,
+  fragments: SplitResult["fragments"],
+  dpi: { x: number; y: number },
+): Promise<number[]> {
   const mod = await renderModule();
   if (!mod) return [];
   const times: number[] = [];
@@ -68,8 +73,22 @@ async function renderEach(file: string, outDir: string, fragments: SplitResult["
     times.push(
       await timed(async () => {
         await mod.renderFragment(
-          { source: file, geometry: { box: f.box, angle: f.angle, rect: f.rect, outline: f.outline, shape: f.shape }, dpi, maxPixels: LIMITS.maxPixels },
-          { masterPath: path.join(outDir, `m${i}.tif`), webPath: path.join(outDir, `w${i}${f.shape === "cutout" ? ".webp" : ".jpg"}`) },
+          {
+            source: file,
+            geometry: {
+              box: f.box,
+              angle: f.angle,
+              rect: f.rect,
+              outline: f.outline,
+              shape: f.shape,
+            },
+            dpi,
+            maxPixels: LIMITS.maxPixels,
+          },
+          {
+            masterPath: path.join(outDir, `m${i}.tif`),
+            webPath: path.join(outDir, `w${i}${f.shape === "cutout" ? ".webp" : ".jpg"}`),
+          },
         );
       }),
     );
@@ -82,19 +101,36 @@ async function renderEach(file: string, outDir: string, fragments: SplitResult["
  * decoded pixels (each fragment's box as a TIFF master, a JPEG web copy of long edge 2048) with
  * no analysis, no rotation and no masks.
  */
-async function outputsFloor(file: string, outDir: string, fragments: SplitResult["fragments"]): Promise<number> {
+async function outputsFloor(
+  file: string,
+  outDir: string,
+  fragments: SplitResult["fragments"],
+): Promise<number> {
   return timed(async () => {
-    const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels }).raw().toBuffer({ resolveWithObject: true });
+    const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels })
+      .raw()
+      .toBuffer({ resolveWithObject: true });
     const raw = { raw: { width: info.width, height: info.height, channels: info.channels } };
     for (const [i, f] of fragments.entries()) {
       const region = { left: f.box.x, top: f.box.y, width: f.box.width, height: f.box.height };
-      await sharp(data, raw).extract(region).tiff({ compression: "lzw" }).toFile(path.join(outDir, `fm${i}.tif`));
-      await sharp(data, raw).extract(region).resize(2048, 2048, { fit: "inside", withoutEnlargement: true }).jpeg({ quality: 88 }).toFile(path.join(outDir, `fw${i}.jpg`));
+      await sharp(data, raw)
+        .extract(region)
+        .tiff({ compression: "lzw" })
+        .toFile(path.join(outDir, `fm${i}.tif`));
+      await sharp(data, raw)
+        .extract(region)
+        .resize(2048, 2048, { fit: "inside", withoutEnlargement: true })
+        .jpeg({ quality: 88 })
+        .toFile(path.join(outDir, `fw${i}.jpg`));
     }
   });
 }
 
-type Measurement = (file: string, runs: number, outDir: string) => Promise<{ times: number[]; detail?: Sample["detail"] }>;
+type Measurement = (
+  file: string,
+  runs: number,
+  outDir: string,
+) => Promise<{ times: number[]; detail?: Sample["detail"] }>;
 
 export const MEASUREMENTS: Record<string, Measurement> = {
   floor: async (file, runs) => {
@@ -106,11 +142,22 @@ export const MEASUREMENTS: Record<string, Measurement> = {
     const times: number[] = [];
     for (let r = 0; r < runs; r++) times.push(await split(file));
     const result = await splitScan(file, LIMITS);
-    return { times, detail: { fragments: result.fragments.length, analysisPx: `${result.analysis.width}x${result.analysis.height}` } };
+    return {
+      times,
+      detail: {
+        fragments: result.fragments.length,
+        analysisPx: `${result.analysis.width}x${result.analysis.height}`,
+      },
+    };
   },
   /** Split, then every fragment rendered: times are the whole; detail holds the per-fragment median. */
-  whole: async (file, runs, outDir) => {
-    if (!(await renderModule())) return { times: [], detail: { skipped: "worker/pipeline/render has no renderFragment yet" } };
+  whole: async (
+    file,
+    runs,
+    outDir,
+  ): Promise<{ times: number[]; detail: Record<string, number | string> }> => {
+    if (!(await renderModule()))
+      return { times: [], detail: { skipped: "worker/pipeline/render has no renderFragment yet" } };
     const times: number[] = [];
     const perFragment: number[] = [];
     for (let r = 0; r < runs; r++) {
@@ -141,7 +188,9 @@ if (process.argv[1] && path.resolve(process.argv[1]) === path.resolve(import.met
   const [name, file, runs, outDir] = process.argv.slice(2);
   const measure = MEASUREMENTS[name ?? ""];
   if (!measure || !file || !outDir) {
-    process.stderr.write(`usage: measure.ts <${Object.keys(MEASUREMENTS).join("|")}> <scan> <runs> <out-dir>\n`);
+    process.stderr.write(
+      `usage: measure.ts <${Object.keys(MEASUREMENTS).join("|")}> <scan> <runs> <out-dir>\n`,
+    );
     process.exit(2);
   }
   await fs.mkdir(outDir, { recursive: true });

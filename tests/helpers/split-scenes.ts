@@ -17,7 +17,14 @@ export const WHITE_LID: Rgb = [243, 243, 240];
 export const BLACK_BACKING: Rgb = [22, 21, 24];
 export const GREY_BOARD: Rgb = [128, 128, 126];
 
-const rect = (w: number, h: number, cx: number, cy: number, angle: number, texture: PieceSpec["texture"]): PieceSpec => ({
+const rect = (
+  w: number,
+  h: number,
+  cx: number,
+  cy: number,
+  angle: number,
+  texture: PieceSpec["texture"],
+): PieceSpec => ({
   outline: rectOutline(w, h),
   cx,
   cy,
@@ -39,10 +46,42 @@ export const mixedOnWhite: SceneSpec = {
   pieces: [
     rect(50, 35, 35, 30, -12, "photo"),
     rect(40, 55, 95, 38, 7.5, "print"),
-    { outline: lOutline(45, 40), cx: 150, cy: 35, angle: -5, texture: "noise", shape: "cutout", angleDefined: true },
-    { outline: ellipseOutline(25, 15), cx: 40, cy: 95, angle: 10, texture: "gradient", shape: "cutout", angleDefined: false },
-    { outline: bittenOutline(50, 30, 10), cx: 100, cy: 100, angle: 14, texture: "photo", shape: "cutout", angleDefined: true },
-    { outline: tornOutline(18, 5), cx: 155, cy: 98, angle: 3, texture: "dark", shape: "cutout", angleDefined: false },
+    {
+      outline: lOutline(45, 40),
+      cx: 150,
+      cy: 35,
+      angle: -5,
+      texture: "noise",
+      shape: "cutout",
+      angleDefined: true,
+    },
+    {
+      outline: ellipseOutline(25, 15),
+      cx: 40,
+      cy: 95,
+      angle: 10,
+      texture: "gradient",
+      shape: "cutout",
+      angleDefined: false,
+    },
+    {
+      outline: bittenOutline(50, 30, 10),
+      cx: 100,
+      cy: 100,
+      angle: 14,
+      texture: "photo",
+      shape: "cutout",
+      angleDefined: true,
+    },
+    {
+      outline: tornOutline(18, 5),
+      cx: 155,
+      cy: 98,
+      angle: 3,
+      texture: "dark",
+      shape: "cutout",
+      angleDefined: false,
+    },
   ],
 };
 
@@ -58,7 +97,15 @@ export const mixedOnBlack: SceneSpec = {
   pieces: [
     rect(45, 60, 32, 40, 15, "print"),
     rect(55, 30, 105, 25, -9, "gradient"),
-    { outline: lOutline(50, 45, 0.4, 0.5), cx: 110, cy: 82, angle: -14, texture: "photo", shape: "cutout", angleDefined: true },
+    {
+      outline: lOutline(50, 45, 0.4, 0.5),
+      cx: 110,
+      cy: 82,
+      angle: -14,
+      texture: "photo",
+      shape: "cutout",
+      angleDefined: true,
+    },
     rect(25, 25, 40, 97, 4, "noise"),
   ],
 };
@@ -82,7 +129,15 @@ export const dustHairsAndLidShadow: SceneSpec = {
   pieces: [
     rect(50, 40, 40, 19, -3, "photo"), // its top edge lies in the lid shadow
     rect(45, 60, 130, 50, 11, "print"),
-    { outline: bittenOutline(40, 35, 9), cx: 45, cy: 65, angle: -8, texture: "noise", shape: "cutout", angleDefined: true },
+    {
+      outline: bittenOutline(40, 35, 9),
+      cx: 45,
+      cy: 65,
+      angle: -8,
+      texture: "noise",
+      shape: "cutout",
+      angleDefined: true,
+    },
   ],
 };
 
@@ -166,7 +221,16 @@ export const bedFillingPiece: SceneSpec = {
 
 /** Eight pieces spread over a bed of the given size, for the benchmark. */
 export function eightPieces(widthMm: number, heightMm: number, dpi: number): SceneSpec {
-  const textures: PieceSpec["texture"][] = ["photo", "print", "noise", "gradient", "dark", "photo", "print", "noise"];
+  const textures: PieceSpec["texture"][] = [
+    "photo",
+    "print",
+    "noise",
+    "gradient",
+    "dark",
+    "photo",
+    "print",
+    "noise",
+  ];
   const pieces: PieceSpec[] = [];
   const cw = widthMm / 2;
   const ch = heightMm / 4;
@@ -180,9 +244,26 @@ export function eightPieces(widthMm: number, heightMm: number, dpi: number): Sce
     const cy = ch * (row + 0.5);
     pieces.push(
       i % 3 === 2
-        ? { outline: bittenOutline(w, h, h / 3), cx, cy, angle, texture: textures[i]!, shape: "cutout", angleDefined: true }
+        ? {
+            outline: bittenOutline(w, h, h / 3),
+            cx,
+            cy,
+            angle,
+            texture: textures[i]!,
+            shape: "cutout",
+            angleDefined: true,
+          }
         : rect(w, h, cx, cy, angle, textures[i]!),
     );
   }
-  return { widthMm, heightMm, dpi, background: WHITE_LID, noise: 3, lighting: { x: 0.03, y: 0.02 }, seed: 21, pieces };
+  return {
+    widthMm,
+    heightMm,
+    dpi,
+    background: WHITE_LID,
+    noise: 3,
+    lighting: { x: 0.03, y: 0.02 },
+    seed: 21,
+    pieces,
+  };
 }

@@ -8,8 +8,19 @@
  */
 import fs from "node:fs/promises";
 import sharp from "sharp";
+import { circleOutline, coverage, random, rectOutline, type Pt } from "./synthetic-shapes";
 
-export type Pt = [number, number];
+export {
+  bittenOutline,
+  coverage,
+  ellipseOutline,
+  lOutline,
+  random,
+  rectOutline,
+  tornOutline,
+  type Pt,
+} from "./synthetic-shapes";
+
 export type Rgb = [number, number, number];
 
 export type Texture = "photo" | "print" | "noise" | "gradient" | "dark";
@@ -66,111 +77,6 @@ export interface Scene {
   truth: TruthPiece[];
 }
 
-/** Deterministic PRNG (mulberry32). */
-export function random(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
-// ---- outlines (mm, centred) ----
-
-export function rectOutline(w: number, h: number): Pt[] {
-  return [[-w / 2, -h / 2], [w / 2, -h / 2], [w / 2, h / 2], [-w / 2, h / 2]];
-}
-
-/** An L: the rectangle with its top-right quarter (cut × cut fractions) removed. */
-export function lOutline(w: number, h: number, cutW = 0.5, cutH = 0.45): Pt[] {
-  const x0 = -w / 2, x1 = w / 2, y0 = -h / 2, y1 = h / 2;
-  const xc = x1 - w * cutW;
-  const yc = y0 + h * cutH;
-  return [[x0, y0], [xc, y0], [xc, yc], [x1, yc], [x1, y1], [x0, y1]];
-}
-
-/** A rectangle with a half-disc bitten out of its bottom side. */
-export function bittenOutline(w: number, h: number, r: number): Pt[] {
-  const pts: Pt[] = [[-w / 2, -h / 2], [w / 2, -h / 2], [w / 2, h / 2]];
-  for (let i = 0; i <= 48; i++) {
-    const t = (i / 48) * Math.PI;
-    pts.push([r * Math.cos(t), h / 2 - r * Math.sin(t)]);
-  }
-  pts.push([-w / 2, h / 2]);
-  return pts;
-}
-
-export function ellipseOutline(a: number, b: number, n = 180): Pt[] {
-  return Array.from({ length: n }, (_, i) => {
-    const t = (i / n) * 2 * Math.PI;
-    return [a * Math.cos(t), b * Math.sin(t)] as Pt;
-  });
-}
-
-/** A torn-paper blob: a circle of radius r with a ragged edge. */
-export function tornOutline(r: number, seed: number, n = 240): Pt[] {
-  const rnd = random(seed);
-  const phases = [rnd(), rnd(), rnd()].map((p) => p * 2 * Math.PI);
-  return Array.from({ length: n }, (_, i) => {
-    const t = (i / n) * 2 * Math.PI;
-    const rr = r * (1 + 0.18 * Math.sin(3 * t + phases[0]!) + 0.08 * Math.sin(7 * t + phases[1]!) + 0.03 * Math.sin(17 * t + phases[2]!));
-    return [rr * Math.cos(t), rr * Math.sin(t)] as Pt;
-  });
-}
-
-function circleOutline(cx: number, cy: number, r: number, n = 16): Pt[] {
-  return Array.from({ length: n }, (_, i) => {
-    const t = (i / n) * 2 * Math.PI;
-    return [cx + r * Math.cos(t), cy + r * Math.sin(t)] as Pt;
-  });
-}
-
-// ---- rasterising ----
-
-const SUB = 8;
-
-/**
- * Coverage (0–1) of the region [x0, x0+w) × [y0, y0+h) by the rings (even–odd rule), pixel units.
- * Exact along x, 8 samples along y.
- */
-export function coverage(rings: Pt[][], x0: number, y0: number, w: number, h: number): Float32Array {
-  const out = new Float32Array(w * h);
-  const xs: number[] = [];
-  for (let y = 0; y < h; y++) {
-    for (let s = 0; s < SUB; s++) {
-      const ys = y0 + y + (s + 0.5) / SUB;
-      xs.length = 0;
-      for (const ring of rings) {
-        for (let i = 0, j = ring.length - 1; i < ring.length; j = i++) {
-          const [xa, ya] = ring[j]!;
-          const [xb, yb] = ring[i]!;
-          if ((ya <= ys && ys < yb) || (yb <= ys && ys < ya)) xs.push(xa + ((ys - ya) / (yb - ya)) * (xb - xa));
-        }
-      }
-      xs.sort((p, q) => p - q);
-      for (let k = 0; k + 1 < xs.length; k += 2) {
-        const a = Math.max(x0, xs[k]!) - x0;
-        const b = Math.min(x0 + w, xs[k + 1]!) - x0;
-        if (b <= a) continue;
-        const ia = Math.floor(a);
-        const ib = Math.floor(b);
-        const row = y * w;
-        if (ia === ib) {
-          out[row + ia] = out[row + ia]! + (b - a) / SUB;
-          continue;
-        }
-        out[row + ia] = out[row + ia]! + (ia + 1 - a) / SUB;
-        for (let x = ia + 1; x < ib && x < w; x++) out[row + x] = out[row + x]! + 1 / SUB;
-        if (ib < w) out[row + ib] = out[row + ib]! + (b - ib) / SUB;
-      }
-    }
-  }
-  return out;
-}
-
 function textureColour(t: Texture, u: number, v: number, n: number): Rgb {
   switch (t) {
     case "photo":
@@ -181,7 +87,9 @@ function textureColour(t: Texture, u: number, v: number, n: number): Rgb {
       ];
     case "print": {
       // cream paper with lines of dark "text" and a halftone picture block
-      const line = Math.floor((v + 100) / 3.2) % 2 === 0 && Math.abs(Math.sin(u * 1.7 + Math.floor(v / 3.2))) > 0.35;
+      const line =
+        Math.floor((v + 100) / 3.2) % 2 === 0 &&
+        Math.abs(Math.sin(u * 1.7 + Math.floor(v / 3.2))) > 0.35;
       const dot = Math.sin(u * 4.4) * Math.sin(v * 4.4) > 0.2 && u < 0;
       if (line) return [40, 38, 45];
       if (dot) return [180, 60, 70];
@@ -220,7 +128,13 @@ export function renderScene(spec: SceneSpec): Scene {
     const cx = rnd() * width;
     const cy = rnd() * height;
     const dark = rnd() < 0.7;
-    paint(img, width, height, [circleOutline(cx, cy, r, 12)], dark ? [50, 45, 40] : [255, 255, 255]);
+    paint(
+      img,
+      width,
+      height,
+      [circleOutline(cx, cy, r, 12)],
+      dark ? [50, 45, 40] : [255, 255, 255],
+    );
   }
   // lighting, lid shadow and noise act on everything the lamp sees
   const light = spec.lighting ?? { x: 0, y: 0 };
@@ -244,7 +158,14 @@ export function renderScene(spec: SceneSpec): Scene {
       let f = 1 + light.x * ((2 * x) / width - 1) + light.y * ((2 * y) / height - 1);
       if (spec.lidShadow) {
         const s = spec.lidShadow;
-        const d = s.side === "top" ? y : s.side === "bottom" ? height - 1 - y : s.side === "left" ? x : width - 1 - x;
+        const d =
+          s.side === "top"
+            ? y
+            : s.side === "bottom"
+              ? height - 1 - y
+              : s.side === "left"
+                ? x
+                : width - 1 - x;
         f *= 1 - s.depth * Math.exp(-d / (s.widthMm * pxPerMm));
       }
       const i = (y * width + x) * 3;
@@ -271,12 +192,28 @@ function paint(img: Float32Array, width: number, height: number, rings: Pt[][], 
   }
 }
 
-function ringBounds(rings: Pt[][], width: number, height: number): [number, number, number, number] {
-  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
-  for (const r of rings) for (const [x, y] of r) {
-    x0 = Math.min(x0, x); y0 = Math.min(y0, y); x1 = Math.max(x1, x); y1 = Math.max(y1, y);
-  }
-  return [Math.max(0, Math.floor(x0)), Math.max(0, Math.floor(y0)), Math.min(width, Math.ceil(x1)), Math.min(height, Math.ceil(y1))];
+function ringBounds(
+  rings: Pt[][],
+  width: number,
+  height: number,
+): [number, number, number, number] {
+  let x0 = Infinity,
+    y0 = Infinity,
+    x1 = -Infinity,
+    y1 = -Infinity;
+  for (const r of rings)
+    for (const [x, y] of r) {
+      x0 = Math.min(x0, x);
+      y0 = Math.min(y0, y);
+      x1 = Math.max(x1, x);
+      y1 = Math.max(y1, y);
+    }
+  return [
+    Math.max(0, Math.floor(x0)),
+    Math.max(0, Math.floor(y0)),
+    Math.min(width, Math.ceil(x1)),
+    Math.min(height, Math.ceil(y1)),
+  ];
 }
 
 /** Local mm → bed pixels for a piece turned `angle` degrees counter-clockwise on screen. */
@@ -285,7 +222,10 @@ function placer(piece: PieceSpec, pxPerMm: number) {
   const c = Math.cos(t);
   const s = Math.sin(t);
   return {
-    toBed: ([u, v]: Pt): Pt => [(piece.cx + u * c + v * s) * pxPerMm, (piece.cy - u * s + v * c) * pxPerMm],
+    toBed: ([u, v]: Pt): Pt => [
+      (piece.cx + u * c + v * s) * pxPerMm,
+      (piece.cy - u * s + v * c) * pxPerMm,
+    ],
     toLocal: (x: number, y: number): Pt => {
       const dx = x / pxPerMm - piece.cx;
       const dy = y / pxPerMm - piece.cy;
@@ -294,7 +234,14 @@ function placer(piece: PieceSpec, pxPerMm: number) {
   };
 }
 
-function drawPiece(img: Float32Array, width: number, height: number, pxPerMm: number, piece: PieceSpec, rnd: () => number): TruthPiece {
+function drawPiece(
+  img: Float32Array,
+  width: number,
+  height: number,
+  pxPerMm: number,
+  piece: PieceSpec,
+  rnd: () => number,
+): TruthPiece {
   const place = placer(piece, pxPerMm);
   const ring = piece.outline.map(place.toBed);
   const [x0, y0, x1, y1] = ringBounds([ring], width, height);
@@ -327,14 +274,18 @@ function drawPiece(img: Float32Array, width: number, height: number, pxPerMm: nu
       if (a <= 0) continue;
       const [u, v] = place.toLocal(x + 0.5, y + 0.5);
       const border = piece.whiteBorderMm ?? 0;
-      let col: Rgb = border > 0 && (Math.abs(u) > bx - border || Math.abs(v) > by - border) ? paper : textureColour(piece.texture, u, v, noiseAt(u, v));
+      let col: Rgb =
+        border > 0 && (Math.abs(u) > bx - border || Math.abs(v) > by - border)
+          ? paper
+          : textureColour(piece.texture, u, v, noiseAt(u, v));
       if (piece.edgeLine && lineInner) {
         const line = Math.max(0, a - Math.min(1, lineInner[k]!)) / Math.max(a, 1e-6);
         const dk = piece.edgeLine.darken * line;
         col = [col[0] - dk, col[1] - dk, col[2] - dk];
       }
       const i = (y * width + x) * 3;
-      for (let c = 0; c < 3; c++) img[i + c] = img[i + c]! * (1 - a) + Math.max(0, Math.min(255, col[c]!)) * a;
+      for (let c = 0; c < 3; c++)
+        img[i + c] = img[i + c]! * (1 - a) + Math.max(0, Math.min(255, col[c]!)) * a;
     }
   }
   // truth: the exact bounding box of the turned outline, rounded to whole pixels
@@ -355,7 +306,13 @@ function drawPiece(img: Float32Array, width: number, height: number, pxPerMm: nu
   };
 }
 
-function drawHair(img: Float32Array, width: number, height: number, pxPerMm: number, hair: { from: Pt; via: Pt; to: Pt; widthMm: number }): void {
+function drawHair(
+  img: Float32Array,
+  width: number,
+  height: number,
+  pxPerMm: number,
+  hair: { from: Pt; via: Pt; to: Pt; widthMm: number },
+): void {
   const pts: Pt[] = [];
   for (let i = 0; i <= 64; i++) {
     const t = i / 64;
@@ -377,12 +334,30 @@ function drawHair(img: Float32Array, width: number, height: number, pxPerMm: num
     const ny = ((bx - ax) / len) * hw;
     const ex = ((bx - ax) / len) * hw * 0.5;
     const ey = ((by - ay) / len) * hw * 0.5;
-    paint(img, width, height, [[[ax + nx - ex, ay + ny - ey], [bx + nx + ex, by + ny + ey], [bx - nx + ex, by - ny + ey], [ax - nx - ex, ay - ny - ey]]], [45, 38, 32]);
+    paint(
+      img,
+      width,
+      height,
+      [
+        [
+          [ax + nx - ex, ay + ny - ey],
+          [bx + nx + ex, by + ny + ey],
+          [bx - nx + ex, by - ny + ey],
+          [ax - nx - ex, ay - ny - ey],
+        ],
+      ],
+      [45, 38, 32],
+    );
   }
 }
 
 /** Writes a scene as PNG (pHYs), TIFF (resolution tags) or JPEG (EXIF density), or with no resolution at all. */
-export async function writeScene(scene: Scene, file: string, format: "png" | "tiff" | "jpeg", embedDpi = true): Promise<void> {
+export async function writeScene(
+  scene: Scene,
+  file: string,
+  format: "png" | "tiff" | "jpeg",
+  embedDpi = true,
+): Promise<void> {
   let img = sharp(Buffer.from(scene.data.buffer, scene.data.byteOffset, scene.data.length), {
     raw: { width: scene.width, height: scene.height, channels: 3 },
   });
@@ -391,8 +366,10 @@ export async function writeScene(scene: Scene, file: string, format: "png" | "ti
     const png = await img.png({ compressionLevel: 1 }).toBuffer();
     // libvips writes a pHYs chunk even for pixels with no resolution (1 px/mm): drop it
     await fs.writeFile(file, embedDpi ? png : withoutChunk(png, "pHYs"));
-  }
-  else if (format === "tiff") await img.tiff({ compression: "lzw", xres: scene.dpi / 25.4, yres: scene.dpi / 25.4 }).toFile(file);
+  } else if (format === "tiff")
+    await img
+      .tiff({ compression: "lzw", xres: scene.dpi / 25.4, yres: scene.dpi / 25.4 })
+      .toFile(file);
   else await img.jpeg({ quality: 92 }).toFile(file);
 }
 
@@ -410,7 +387,7 @@ export function iou(
 /** A PNG without its chunks of one type (PNG 1.2 section 5: length, type, data, CRC). */
 function withoutChunk(png: Buffer, type: string): Buffer {
   const parts: Buffer[] = [png.subarray(0, 8)];
-  for (let at = 8; at < png.length; ) {
+  for (let at = 8; at < png.length;) {
     const len = png.readUInt32BE(at);
     const end = at + 12 + len;
     if (png.toString("latin1", at + 4, at + 8) !== type) parts.push(png.subarray(at, end));

@@ -189,7 +189,8 @@ export interface RenderReport {
 }
 
 async function encode(image: RawImage, format: OutFormat, dpi: number, temp: string): Promise<void> {
-  let s = sharpFromRaw(image).withMetadata({ density: dpi });
+  // withDensity, not withMetadata: the latter also converts 16-bit pixels to sRGB as if they were P3
+  let s = sharpFromRaw(image).withDensity(dpi);
   if (format === "tiff") {
     s = s.tiff({ compression: "lzw", predictor: "horizontal", xres: dpi / MM_PER_INCH, yres: dpi / MM_PER_INCH, resolutionUnit: "inch" });
   } else if (format === "png") s = s.png({ compressionLevel: 6 });

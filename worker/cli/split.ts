@@ -44,14 +44,18 @@ function parse(args: string[]): SplitArgs {
   if (values.dpi !== undefined) {
     const dpi = Number(values.dpi);
     if (!(Number.isFinite(dpi) && dpi > 0 && dpi <= 100_000)) {
-      throw new UsageError(`expected --dpi to be a positive number of dots per inch but received "${values.dpi}"`);
+      throw new UsageError(
+        `expected --dpi to be a positive number of dots per inch but received "${values.dpi}"`,
+      );
     }
     out.dpi = dpi;
   }
   if (values.sensitivity !== undefined) {
     const s = Number(values.sensitivity);
     if (!(values.sensitivity.trim() !== "" && Number.isFinite(s) && s >= 0 && s <= 1)) {
-      throw new UsageError(`expected --sensitivity to be a number from 0 to 1 but received "${values.sensitivity}"`);
+      throw new UsageError(
+        `expected --sensitivity to be a number from 0 to 1 but received "${values.sensitivity}"`,
+      );
     }
     out.sensitivity = s;
   }
@@ -84,7 +88,9 @@ export function splitJson(result: SplitResult): object {
 export function formatSplit(result: SplitResult): string {
   const dpi = result.dpi;
   const dpiText =
-    (dpi.x === dpi.y ? `${formatNumber(dpi.x)} DPI` : `${formatNumber(dpi.x)} × ${formatNumber(dpi.y)} DPI`) +
+    (dpi.x === dpi.y
+      ? `${formatNumber(dpi.x)} DPI`
+      : `${formatNumber(dpi.x)} × ${formatNumber(dpi.y)} DPI`) +
     (dpi.source === "assumed" ? ", assumed (the file records none)" : ", embedded");
   const [r, g, b] = result.background.rgb;
   const lines = [
@@ -111,8 +117,16 @@ export function formatSplit(result: SplitResult): string {
   ]);
   const head = ["#", "box (x, y, w × h px)", "angle", "shape", "size (in)", "size (mm)", "sure"];
   const widths = head.map((h, c) => Math.max(h.length, ...rows.map((row) => row[c]!.length)));
-  const fmt = (row: string[]) => row.map((cell, c) => cell.padEnd(widths[c]!)).join("  ").trimEnd();
-  lines.push(`${result.fragments.length} ${result.fragments.length === 1 ? "piece" : "pieces"}:`, fmt(head), ...rows.map(fmt));
+  const fmt = (row: string[]) =>
+    row
+      .map((cell, c) => cell.padEnd(widths[c]!))
+      .join("  ")
+      .trimEnd();
+  lines.push(
+    `${result.fragments.length} ${result.fragments.length === 1 ? "piece" : "pieces"}:`,
+    fmt(head),
+    ...rows.map(fmt),
+  );
   return lines.join("\n") + "\n";
 }
 

@@ -4,6 +4,7 @@
  * colour pipeline: into raw, out of raw, and the reduced copy statistics are measured on.
  */
 import sharp, { type Sharp } from "sharp";
+import { iccDescription } from "../icc";
 
 export type BitDepth = 8 | 16;
 
@@ -58,7 +59,9 @@ function isRaw(source: ImageSource): source is RawImage {
 
 /**
  * Decodes a sharp pipeline (all its operations run first) to raw pixels at `bitDepth`, keeping
- * grey as grey and alpha as alpha; a RawImage is checked and returned as it is.
+ * grey as grey and alpha as alpha; a RawImage is checked and returned as it is. The values are
+ * sRGB: a source with an embedded profile is converted through it, an untagged one is taken as
+ * sRGB (the convention for untagged images) and left exactly as it is.
  * Example: await toRaw(sharp("f1.tif"), 16) → { width: 2400, height: 1800, channels: 3, bitDepth: 16, data: Uint16Array(12960000) }.
  */
 export async function toRaw(source: ImageSource, bitDepth: BitDepth): Promise<RawImage> {
@@ -72,6 +75,15 @@ export async function toRaw(source: ImageSource, bitDepth: BitDepth): Promise<Ra
   const meta = await source.metadata();
   const grey = meta.space === "b-w" || meta.space === "grey16" || (meta.channels ?? 3) <= 2;
   const space = grey ? (bitDepth === 16 ? "grey16" : "b-w") : bitDepth === 16 ? "rgb16" : "srgb";
+  const tagged = Boolean(meta.hasProfile || meta.icc);
+  if (tagged && /\bsRGB\b/i.test(iccDescription(meta.icc) ?? "")) {
+    // already sRGB: keep the values exactly (a conversion to itself still rounds)
+    source = source.keepIccProfile();
+  } else if (tagged && !grey && meta.depth === "ushort") {
+    // sharp turns a tagged 16-bit RGB source into P3 (its 16-bit working space) and leaves it
+    // there unless an output profile is asked for; 8-bit ones it turns into sRGB itself
+    source = source.withIccProfile("srgb");
+  }
   const { data, info } = await source
     .toColourspace(space)
     .raw({ depth: bitDepth === 16 ? "ushort" : "uchar" })

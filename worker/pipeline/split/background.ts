@@ -1,5 +1,7 @@
 import { labToSrgb8, type Lab, type LabPlanes, type Rgb } from "./colour";
-import { medianInPlace, robustSigma, solveLinear } from "./stats";
+import { borderMode } from "./border";
+import { edgeProfiles } from "./edge-profiles";
+import { robustSigma, solveLinear } from "./stats";
 
 /**
  * The scanner background (white lid, grey or black backing board), modelled in CIELAB as
@@ -132,11 +134,26 @@ export function estimateBackground(
       const pc = P[c]!;
       for (let k = 0, o = 0; k < ns; k++, o += 6) {
         pc[k] =
-          fit[0]! + fit[1]! * phi[o + 1]! + fit[2]! * phi[o + 2]! + fit[3]! * phi[o + 3]! + fit[4]! * phi[o + 4]! + fit[5]! * phi[o + 5]!;
+          fit[0]! +
+          fit[1]! * phi[o + 1]! +
+          fit[2]! * phi[o + 2]! +
+          fit[3]! * phi[o + 3]! +
+          fit[4]! * phi[o + 4]! +
+          fit[5]! * phi[o + 5]!;
       }
     }
     // 3. edge profiles: median residual along each row/column of the edge bands
-    const lines = { planes, poly, rowP, colP, width, height, stride: Math.max(1, g >> 1), tolA, tolB };
+    const lines = {
+      planes,
+      poly,
+      rowP,
+      colP,
+      width,
+      height,
+      stride: Math.max(1, g >> 1),
+      tolA,
+      tolB,
+    };
     edgeProfiles(lines, rowTaper, "rows");
     edgeProfiles(lines, colTaper, "cols");
     // 4. noise of the background samples about the model; tighter tolerance for the next round
@@ -144,7 +161,8 @@ export function estimateBackground(
       // every background sample up to 10 000 of them, evenly spread
       const stride = Math.max(1, Math.floor(count / 10_000));
       let n = 0;
-      for (let k = 0, seen = 0; k < ns; k++) if (cand[k] && seen++ % stride === 0) scratch[n++] = residualAt(c, k);
+      for (let k = 0, seen = 0; k < ns; k++)
+        if (cand[k] && seen++ % stride === 0) scratch[n++] = residualAt(c, k);
       sigma[c] = Math.max(robustSigma(scratch, n), 0.05);
     }
     tolL = Math.max(4 * sigma[0]!, 1.5);
@@ -196,63 +214,6 @@ export function estimateBackground(
   };
 }
 
-/** The dominant colour of the ring `ringPx` wide inside the image edge (the outermost pixel skipped). */
-function borderMode(
-  lab: LabPlanes,
-  width: number,
-  height: number,
-  ringPx: number,
-): { lab: Lab; agreement: number } {
-  const inner = Math.max(1, Math.min(ringPx + 1, Math.floor(Math.min(width, height) / 2)));
-  const start = Math.min(1, inner - 1);
-  const list = new Int32Array(2 * inner * (width + height) + 4);
-  let count = 0;
-  for (let y = start; y < height - start; y++) {
-    const edgeRow = y < inner || y >= height - inner;
-    for (let x = start; x < width - start; x++) {
-      if (edgeRow || x < inner || x >= width - inner) list[count++] = y * width + x;
-      else if (x === inner) x = width - inner - 1; // skip the middle of the row
-    }
-  }
-  const idx = count > 0 ? list.subarray(0, count) : Int32Array.of(0);
-  // mode of L* in half-unit bins, smoothed
-  const bins = new Float64Array(202);
-  for (const i of idx) bins[Math.max(0, Math.min(201, Math.round(lab.L[i]! * 2)))]!++;
-  let best = 0;
-  let bestV = -1;
-  for (let b = 0; b < 202; b++) {
-    let v = 0;
-    for (let k = -2; k <= 2; k++) v += (bins[b + k] ?? 0) * (3 - Math.abs(k));
-    if (v > bestV) {
-      bestV = v;
-      best = b;
-    }
-  }
-  const Lm = best / 2;
-  const pick = (tolL: number, centre: [number, number] | null, tolAb: number) => {
-    const sel: number[] = [];
-    for (const i of idx) {
-      if (Math.abs(lab.L[i]! - Lm) > tolL) continue;
-      if (centre && (Math.abs(lab.a[i]! - centre[0]) > tolAb || Math.abs(lab.b[i]! - centre[1]) > tolAb)) continue;
-      sel.push(i);
-    }
-    return sel;
-  };
-  const median = (sel: number[], plane: Float32Array) => {
-    const v = new Float32Array(sel.length);
-    sel.forEach((i, k) => (v[k] = plane[i]!));
-    return medianInPlace(v);
-  };
-  const first = pick(3, null, 0);
-  const centre: [number, number] = [median(first, lab.a), median(first, lab.b)];
-  const sel = pick(3, centre, 4);
-  const chosen = sel.length > 0 ? sel : first;
-  return {
-    lab: [median(chosen, lab.L), median(chosen, lab.a), median(chosen, lab.b)],
-    agreement: sel.length / idx.length,
-  };
-}
-
 /** Polynomial degree the background samples support: how many of a 4 × 4 grid of cells they reach. */
 function supportedDegree(cand: Uint8Array, nx: number, ny: number): number {
   const cells = new Float64Array(16);
@@ -260,7 +221,8 @@ function supportedDegree(cand: Uint8Array, nx: number, ny: number): number {
   for (let k = 0; k < cand.length; k++) {
     const cx = k % nx;
     const ry = (k - cx) / nx;
-    const cell = Math.min(3, Math.floor((ry * 4) / ny)) * 4 + Math.min(3, Math.floor((cx * 4) / nx));
+    const cell =
+      Math.min(3, Math.floor((ry * 4) / ny)) * 4 + Math.min(3, Math.floor((cx * 4) / nx));
     totals[cell]!++;
     cells[cell]! += cand[k]!;
   }
@@ -309,82 +271,4 @@ function taper(n: number, distance: (i: number) => number, band: number): Float3
     w[i] = d <= (2 * band) / 3 ? 1 : d >= band ? 0 : (band - d) / (band / 3);
   }
   return w;
-}
-
-interface ProfileInputs {
-  planes: Float32Array[];
-  poly: Float64Array[];
-  rowP: Float32Array[];
-  colP: Float32Array[];
-  width: number;
-  height: number;
-  /** Pixels skipped along each line. */
-  stride: number;
-  /** Chroma tolerances, Lab units. */
-  tolA: number;
-  tolB: number;
-}
-
-const PROFILE_TOL_L = 15;
-
-/**
- * Edge profiles at full resolution: for each pixel row (or column) inside the edge band, the
- * median residual of its background pixels about the surface and the other profile, times the
- * taper. Background here is judged on chroma (tight) and lightness within 15 (loose): a lid
- * shadow darkens the lid without changing its hue, and must not be mistaken for a piece while it
- * is being measured. Lines with too few background pixels borrow from the nearest line further in.
- */
-function edgeProfiles(inp: ProfileInputs, weight: Float32Array, along: "rows" | "cols"): void {
-  const { planes, poly, rowP, colP, width, height, stride, tolA, tolB } = inp;
-  const lines = along === "rows" ? height : width;
-  const len = along === "rows" ? width : height;
-  const target = along === "rows" ? rowP : colP;
-  const values = [new Float32Array(lines).fill(NaN), new Float32Array(lines).fill(NaN), new Float32Array(lines).fill(NaN)];
-  const buf = [new Float32Array(len), new Float32Array(len), new Float32Array(len)];
-  const r = [0, 0, 0];
-  for (let l = 0; l < lines; l++) {
-    if (weight[l] === 0) continue;
-    let n = 0;
-    let total = 0;
-    for (let t = stride >> 1; t < len; t += stride) {
-      total++;
-      const x = along === "rows" ? t : l;
-      const y = along === "rows" ? l : t;
-      const X = (2 * (x + 0.5)) / width - 1;
-      const Y = (2 * (y + 0.5)) / height - 1;
-      const i = y * width + x;
-      for (let c = 0; c < 3; c++) {
-        const p = poly[c]!;
-        const surface = p[0]! + p[1]! * X + p[2]! * Y + p[3]! * X * X + p[4]! * X * Y + p[5]! * Y * Y;
-        const other = along === "rows" ? colP[c]![x]! : rowP[c]![y]!;
-        r[c] = planes[c]![i]! - surface - other;
-      }
-      if (Math.abs(r[0]!) > PROFILE_TOL_L || Math.abs(r[1]!) > tolA || Math.abs(r[2]!) > tolB) continue;
-      for (let c = 0; c < 3; c++) buf[c]![n] = r[c]!;
-      n++;
-    }
-    if (n >= Math.max(6, 0.3 * total)) for (let c = 0; c < 3; c++) values[c]![l] = medianInPlace(buf[c]!, n);
-  }
-  for (let c = 0; c < 3; c++) {
-    const v = values[c]!;
-    const out = target[c]!;
-    for (let l = 0; l < lines; l++) {
-      if (weight[l] === 0) {
-        out[l] = 0;
-        continue;
-      }
-      let value = v[l]!;
-      if (Number.isNaN(value)) {
-        value = 0;
-        const step = l < lines / 2 ? 1 : -1;
-        for (let m = l + step; m >= 0 && m < lines && weight[m]! > 0; m += step) {
-          if (!Number.isNaN(v[m]!)) {
-            value = v[m]!;
-            break;
-          }
-        }
-      }
-      out[l] = value * weight[l]!;
-    }
-  }
 }

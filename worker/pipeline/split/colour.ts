@@ -108,9 +108,15 @@ export function rgbToLabPlanes(data: Uint8Array, pixels: number, channels = 3): 
   const A = new Float32Array(pixels);
   const B = new Float32Array(pixels);
   const [xn, yn, zn] = D65_WHITE;
-  const m00 = M[0][0] / xn, m01 = M[0][1] / xn, m02 = M[0][2] / xn;
-  const m10 = M[1][0] / yn, m11 = M[1][1] / yn, m12 = M[1][2] / yn;
-  const m20 = M[2][0] / zn, m21 = M[2][1] / zn, m22 = M[2][2] / zn;
+  const m00 = M[0][0] / xn,
+    m01 = M[0][1] / xn,
+    m02 = M[0][2] / xn;
+  const m10 = M[1][0] / yn,
+    m11 = M[1][1] / yn,
+    m12 = M[1][2] / yn;
+  const m20 = M[2][0] / zn,
+    m21 = M[2][1] / zn,
+    m22 = M[2][2] / zn;
   for (let i = 0, o = 0; i < pixels; i++, o += channels) {
     const r = LINEAR_8[data[o]!]!;
     const g = LINEAR_8[data[o + 1]!]!;

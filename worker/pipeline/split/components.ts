@@ -38,7 +38,10 @@ export function labelComponents(mask: Uint8Array, width: number, height: number)
     let tail = 0;
     queue[tail++] = start;
     labels[start] = label;
-    let minX = width, minY = height, maxX = -1, maxY = -1;
+    let minX = width,
+      minY = height,
+      maxX = -1,
+      maxY = -1;
     while (head < tail) {
       const i = queue[head++]!;
       const x = i % width;

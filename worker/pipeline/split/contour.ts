@@ -68,7 +68,8 @@ export function traceCracks(
     else if (d === 1) [lx, ly, rx, ry] = [vx, vy, vx - 1, vy];
     else if (d === 2) [lx, ly, rx, ry] = [vx - 1, vy, vx - 1, vy - 1];
     else [lx, ly, rx, ry] = [vx - 1, vy - 1, vx, vy - 1];
-    if (inside(lx, ly)) d = (d + 3) % 4; // diagonal or straight neighbour on the left: turn left
+    if (inside(lx, ly))
+      d = (d + 3) % 4; // diagonal or straight neighbour on the left: turn left
     else if (!inside(rx, ry)) d = (d + 1) % 4; // nothing ahead: turn right
   } while (vx !== x0 || vy !== y0);
   return { vertices: vertices.subarray(0, count * 2), dirs: dirs.subarray(0, count), count };

@@ -58,7 +58,13 @@ export function squaredDistance(
 }
 
 /** One-dimensional squared distance transform of sampled function f[0..n) into d. */
-function envelope(f: Float64Array, n: number, d: Float64Array, v: Int32Array, z: Float64Array): void {
+function envelope(
+  f: Float64Array,
+  n: number,
+  d: Float64Array,
+  v: Int32Array,
+  z: Float64Array,
+): void {
   let k = 0;
   let first = -1;
   for (let q = 0; q < n; q++) {

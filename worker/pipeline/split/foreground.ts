@@ -81,7 +81,11 @@ export function findForeground(residual: LabPlanes, opts: ForegroundOptions): Fo
     }
   };
   const quiet = sampleQuiet(diff, threshold.floorDeltaE);
-  const sm = [new Float32Array(quiet.length), new Float32Array(quiet.length), new Float32Array(quiet.length)];
+  const sm = [
+    new Float32Array(quiet.length),
+    new Float32Array(quiet.length),
+    new Float32Array(quiet.length),
+  ];
   quiet.forEach((i, k) => {
     smoothAt(i);
     sm[0]![k] = sv[0]!;
@@ -89,7 +93,8 @@ export function findForeground(residual: LabPlanes, opts: ForegroundOptions): Fo
     sm[2]![k] = sv[2]!;
   });
   const sSigma = Math.max(robustSigma(sm[0]!), robustSigma(sm[1]!), robustSigma(sm[2]!), 0.05);
-  const weakLevel = Math.max(1.2, 0.25 * threshold.deltaE, 5 * sSigma) * sensitivityFactor(opts.sensitivity);
+  const weakLevel =
+    Math.max(1.2, 0.25 * threshold.deltaE, 5 * sSigma) * sensitivityFactor(opts.sensitivity);
   const lineLevel = Math.max(1.5, 4 * background.noise.L) * sensitivityFactor(opts.sensitivity);
   const light = background.kind === "light";
   const weak2 = weakLevel * weakLevel;
@@ -105,7 +110,11 @@ export function findForeground(residual: LabPlanes, opts: ForegroundOptions): Fo
     }
   }
 
-  const radii = { close: CLOSE_MM * pxPerMm, thin: THIN_MM * pxPerMm, reach: EVIDENCE_REACH_MM * pxPerMm };
+  const radii = {
+    close: CLOSE_MM * pxPerMm,
+    thin: THIN_MM * pxPerMm,
+    reach: EVIDENCE_REACH_MM * pxPerMm,
+  };
   const closed = close(mask0, width, height, radii.close);
   const filled = fillHoles(closed, width, height);
   const cut = cutThinParts(filled, width, height, radii.thin);

@@ -108,7 +108,13 @@ export function minAreaRect(points: readonly Point[]): RotatedRect {
     const a = hull[0]!;
     const b = hull[h - 1]!;
     const len = Math.hypot(b[0] - a[0], b[1] - a[1]);
-    return rotatedRect((a[0] + b[0]) / 2, (a[1] + b[1]) / 2, len > 0 ? [b[0] - a[0], b[1] - a[1]] : [1, 0], len, 0);
+    return rotatedRect(
+      (a[0] + b[0]) / 2,
+      (a[1] + b[1]) / 2,
+      len > 0 ? [b[0] - a[0], b[1] - a[1]] : [1, 0],
+      len,
+      0,
+    );
   }
   const at = (i: number) => hull[i % h]!;
   const dot = (p: Point, ex: number, ey: number) => p[0] * ex + p[1] * ey;
@@ -175,7 +181,11 @@ function segmentDistance(p: Point, a: Point, b: Point): number {
  * first point and the point farthest from it are both kept and the two halves simplified apart.
  * Example: [[0,0],[1,0.1],[2,0],[3,5]] with epsilon 0.5, open → [[0,0],[2,0],[3,5]].
  */
-export function simplifyPolyline(points: readonly Point[], epsilon: number, closed = false): Point[] {
+export function simplifyPolyline(
+  points: readonly Point[],
+  epsilon: number,
+  closed = false,
+): Point[] {
   const n = points.length;
   if (n < 3) return [...points];
   if (closed) {

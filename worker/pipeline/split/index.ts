@@ -38,7 +38,11 @@ export interface SplitResult {
   width: number;
   height: number;
   dpi: { x: number; y: number; source: DpiSource };
-  background: { rgb: [number, number, number]; kind: "light" | "dark"; lab: [number, number, number] };
+  background: {
+    rgb: [number, number, number];
+    kind: "light" | "dark";
+    lab: [number, number, number];
+  };
   threshold: Threshold;
   /** Size of the copy the analysis ran on. */
   analysis: { width: number; height: number; dpi: number };
@@ -60,13 +64,16 @@ export interface Analysis {
 /** Below this share of the border agreeing on one colour, no background is visible at all. */
 const MIN_BORDER_AGREEMENT = 0.3;
 
-function checkOptions(opts: SplitOptions): Required<Omit<SplitOptions, "analysisDpi">> & { analysisDpi?: number } {
+function checkOptions(
+  opts: SplitOptions,
+): Required<Omit<SplitOptions, "analysisDpi">> & { analysisDpi?: number } {
   const sensitivity = opts.sensitivity ?? 0.5;
   if (!(Number.isFinite(sensitivity) && sensitivity >= 0 && sensitivity <= 1)) {
     throw new RangeError(`Expected a sensitivity from 0 to 1 but received ${opts.sensitivity}`);
   }
   const dpi = opts.dpi ?? DEFAULT_DPI;
-  if (!(Number.isFinite(dpi) && dpi > 0)) throw new RangeError(`Expected a positive DPI but received ${opts.dpi}`);
+  if (!(Number.isFinite(dpi) && dpi > 0))
+    throw new RangeError(`Expected a positive DPI but received ${opts.dpi}`);
   const maxPixels = opts.maxPixels ?? DEFAULT_MAX_PIXELS;
   if (!(Number.isInteger(maxPixels) && maxPixels > 0)) {
     throw new RangeError(`Expected a positive integer maxPixels but received ${opts.maxPixels}`);
@@ -155,7 +162,10 @@ function wholeScan(width: number, height: number, dpi: { x: number; y: number })
     areaPx: width * height,
     confidence: 0.3,
     sizeIn: { width: Math.round(wIn * 1000) / 1000, height: Math.round(hIn * 1000) / 1000 },
-    sizeMm: { width: Math.round(wIn * MM_PER_INCH * 100) / 100, height: Math.round(hIn * MM_PER_INCH * 100) / 100 },
+    sizeMm: {
+      width: Math.round(wIn * MM_PER_INCH * 100) / 100,
+      height: Math.round(hIn * MM_PER_INCH * 100) / 100,
+    },
   };
 }
 
@@ -190,7 +200,11 @@ export async function splitScan(file: string, options: SplitOptions = {}): Promi
       lab: background.lab.map((v) => Math.round(v * 100) / 100) as [number, number, number],
     },
     threshold: analysis.foreground.threshold,
-    analysis: { width: copy.width, height: copy.height, dpi: Math.round(Math.sqrt(copy.dpi.x * copy.dpi.y) * 100) / 100 },
+    analysis: {
+      width: copy.width,
+      height: copy.height,
+      dpi: Math.round(Math.sqrt(copy.dpi.x * copy.dpi.y) * 100) / 100,
+    },
     rejected: analysis.rejected,
     fragments: analysis.fragments,
   };

@@ -22,23 +22,34 @@ function smallDisc(radius: number): "none" | "plus" | "square" | null {
  * Max (dilate) or min (erode) over a plus or a 3 × 3 square. Pixels beyond the border count as
  * unset for a dilation and as set for an erosion, as in the distance-transform path.
  */
-function neighbourPass(mask: Uint8Array, width: number, height: number, shape: "plus" | "square", dilation: boolean): Uint8Array {
+function neighbourPass(
+  mask: Uint8Array,
+  width: number,
+  height: number,
+  shape: "plus" | "square",
+  dilation: boolean,
+): Uint8Array {
   const out = new Uint8Array(mask.length);
   const edge = dilation ? 0 : 1;
-  const at = (x: number, y: number) => (x < 0 || y < 0 || x >= width || y >= height ? edge : mask[y * width + x]!);
+  const at = (x: number, y: number) =>
+    x < 0 || y < 0 || x >= width || y >= height ? edge : mask[y * width + x]!;
   if (shape === "square") {
     // separable: along rows, then along columns
     const tmp = new Uint8Array(mask.length);
     for (let y = 0; y < height; y++) {
       for (let x = 0; x < width; x++) {
-        const a = at(x - 1, y), b = mask[y * width + x]!, c = at(x + 1, y);
+        const a = at(x - 1, y),
+          b = mask[y * width + x]!,
+          c = at(x + 1, y);
         tmp[y * width + x] = dilation ? a | b | c : a & b & c;
       }
     }
     const t = (x: number, y: number) => (y < 0 || y >= height ? edge : tmp[y * width + x]!);
     for (let y = 0; y < height; y++) {
       for (let x = 0; x < width; x++) {
-        const a = t(x, y - 1), b = tmp[y * width + x]!, c = t(x, y + 1);
+        const a = t(x, y - 1),
+          b = tmp[y * width + x]!,
+          c = t(x, y + 1);
         out[y * width + x] = dilation ? a | b | c : a & b & c;
       }
     }
@@ -48,14 +59,21 @@ function neighbourPass(mask: Uint8Array, width: number, height: number, shape: "
     for (let x = 0; x < width; x++) {
       const i = y * width + x;
       const v = [mask[i]!, at(x - 1, y), at(x + 1, y), at(x, y - 1), at(x, y + 1)];
-      out[i] = dilation ? v[0]! | v[1]! | v[2]! | v[3]! | v[4]! : v[0]! & v[1]! & v[2]! & v[3]! & v[4]!;
+      out[i] = dilation
+        ? v[0]! | v[1]! | v[2]! | v[3]! | v[4]!
+        : v[0]! & v[1]! & v[2]! & v[3]! & v[4]!;
     }
   }
   return out;
 }
 
 /** Pixels within `radius` px of a set pixel. Example: one set pixel, radius 1 → a plus of 5. */
-export function dilate(mask: Uint8Array, width: number, height: number, radius: number): Uint8Array {
+export function dilate(
+  mask: Uint8Array,
+  width: number,
+  height: number,
+  radius: number,
+): Uint8Array {
   const small = smallDisc(radius);
   if (small === "none") return mask.slice();
   if (small) return neighbourPass(mask, width, height, small, true);

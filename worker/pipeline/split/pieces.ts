@@ -76,7 +76,10 @@ function inches(len: number, dx: number, dy: number, dpi: { x: number; y: number
 }
 
 function bounds(points: readonly Point[]): [number, number, number, number] {
-  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+  let x0 = Infinity,
+    y0 = Infinity,
+    x1 = -Infinity,
+    y1 = -Infinity;
   for (const [x, y] of points) {
     if (x < x0) x0 = x;
     if (y < y0) y0 = y;
@@ -131,8 +134,16 @@ export function measurePiece(comp: Component, ctx: PieceContext): DetectedPiece 
   if (outline.length < 3) outline = rectCorners(rect);
 
   const [ux, uy] = rect.u;
-  const widthIn = inches(rect.width, ux, uy, ctx.sourceDpi);
-  const heightIn = inches(rect.height, -uy, ux, ctx.sourceDpi);
+  let widthIn = inches(rect.width, ux, uy, ctx.sourceDpi);
+  let heightIn = inches(rect.height, -uy, ux, ctx.sourceDpi);
+  // −44.996° rounds to −45, outside (−45, 45]: the same rectangle is +45° with its sides swapped
+  let angle = round2(rect.angle);
+  let [rw, rh] = [rect.width, rect.height];
+  if (angle <= -45) {
+    angle = 45;
+    [rw, rh] = [rh, rw];
+    [widthIn, heightIn] = [heightIn, widthIn];
+  }
 
   const hullArea = polygonArea(hull);
   const solidity = hullArea > 0 ? area / hullArea : 0;
@@ -140,8 +151,8 @@ export function measurePiece(comp: Component, ctx: PieceContext): DetectedPiece 
 
   return {
     box: { x: x0, y: y0, width: x1 - x0, height: y1 - y0 },
-    angle: round2(rect.angle) === -45 ? 45 : round2(rect.angle),
-    rect: { cx: round2(rect.cx), cy: round2(rect.cy), width: round2(rect.width), height: round2(rect.height) },
+    angle,
+    rect: { cx: round2(rect.cx), cy: round2(rect.cy), width: round2(rw), height: round2(rh) },
     outline: outline.map(([x, y]) => [round2(x), round2(y)] as [number, number]),
     shape,
     areaPx: Math.round(area),
@@ -156,7 +167,12 @@ export function measurePiece(comp: Component, ctx: PieceContext): DetectedPiece 
  * (area over hull area, from 0.5 to 0.95), 0.3 × the share of its edge that is sharp; × 0.7 when
  * it touches the scan's edge (it may run off the bed).
  */
-function pieceConfidence(comp: Component, ctx: PieceContext, solidity: number, sharp: number): number {
+function pieceConfidence(
+  comp: Component,
+  ctx: PieceContext,
+  solidity: number,
+  sharp: number,
+): number {
   let sum = 0;
   let n = 0;
   for (let y = comp.minY; y <= comp.maxY; y++) {
@@ -168,7 +184,10 @@ function pieceConfidence(comp: Component, ctx: PieceContext, solidity: number, s
       }
     }
   }
-  const contrast = Math.min(1, Math.max(0, Math.log2(sum / Math.max(1, n) / ctx.thresholdDeltaE) / 2));
+  const contrast = Math.min(
+    1,
+    Math.max(0, Math.log2(sum / Math.max(1, n) / ctx.thresholdDeltaE) / 2),
+  );
   const solid = Math.min(1, Math.max(0, (solidity - 0.5) / 0.45));
   const score = (0.4 * contrast + 0.3 * solid + 0.3 * sharp) * (comp.touchesBorder ? 0.7 : 1);
   return Math.round(Math.min(1, Math.max(0.01, score)) * 100) / 100;

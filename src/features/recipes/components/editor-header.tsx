@@ -36,7 +36,7 @@ export function EditorHeader({
   onMakeDefault: () => void;
 }) {
   return (
-    <header className="mb-6 flex flex-wrap items-end justify-between gap-4">
+    <header className="sticky top-0 z-20 -mx-8 -mt-4 mb-4 flex flex-wrap items-end justify-between gap-4 border-b border-paper-300 bg-paper px-8 pt-4 pb-3">
       <div className="min-w-0">
         <p className="text-xs text-ink-muted">
           <Link to={paths.recipes} className="hover:text-accent hover:underline">

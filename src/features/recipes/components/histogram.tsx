@@ -66,7 +66,7 @@ export function Histogram({ label, bins }: { label: string; bins: Bins }) {
         preserveAspectRatio="none"
         role="img"
         aria-label={`${label} histogram: red, green, blue and luminance`}
-        className="h-16 w-full rounded border border-paper-300 bg-white"
+        className="h-14 w-full rounded border border-paper-300 bg-white"
       >
         {CHANNELS.map((c) => (
           <path

@@ -1,8 +1,10 @@
 import { useId, useState, type KeyboardEvent } from "react";
 import { formatNumber } from "../../../../shared/units";
-import { inputClass } from "../../../components/field";
-import { cn } from "../../../lib/cn";
 import { HUE_TRACK } from "../hue-track";
+
+/** A small exact field beside a label (the shared input is sized for forms). */
+const compactInput =
+  "figure h-7 w-[4.75rem] rounded-md border border-paper-300 bg-white px-2 text-right text-[13px] text-ink hover:border-ink-faint focus-visible:border-accent aria-[invalid=true]:border-brick aria-[invalid=true]:bg-brick-soft/40";
 
 /** Slider positions for a logarithmic setting: fine where the values are small. */
 const LOG_STEPS = 1000;
@@ -132,7 +134,7 @@ export function NumberSetting({
             onBlur={() => {
               if (!typingError && parseTyped(text) === value) setText(shown);
             }}
-            className={cn(inputClass, "figure h-7 w-[4.75rem] px-2 text-right text-[13px]")}
+            className={compactInput}
           />
           {unit && <span className="w-7 text-xs text-ink-muted">{unit}</span>}
         </span>

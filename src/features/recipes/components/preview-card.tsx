@@ -22,6 +22,7 @@ export function PreviewCard({
   onPick,
   marker,
   maxHeight,
+  compact,
 }: {
   fragment: Fragment;
   steps: RecipeStep[];
@@ -37,6 +38,8 @@ export function PreviewCard({
   onPick: (colour: [number, number, number], at: { x: number; y: number }) => void;
   marker?: { x: number; y: number } | null;
   maxHeight: string;
+  /** Two or three side by side: the caption takes two lines. */
+  compact: boolean;
 }) {
   const target = { fragmentId: fragment.id, revision: fragment.revision, size };
   const preview = useRecipePreview(target, steps, ready);
@@ -84,22 +87,24 @@ export function PreviewCard({
           )}
         </div>
       )}
-      <figcaption className="flex min-w-0 items-center gap-2 text-xs">
-        <button
-          type="button"
-          onClick={onActivate}
-          aria-pressed={active}
-          title="Show this fragment's histograms"
-          className="min-w-0 truncate font-medium text-ink hover:text-accent"
-        >
-          {name}
-        </button>
-        {clips && (
-          <span className="shrink-0 rounded bg-ochre-soft px-1.5 py-0.5 text-[11px] font-medium text-ochre">
-            Clipping
-          </span>
-        )}
-        <span className="figure ml-auto shrink-0 text-ink-muted" aria-live="polite">
+      <figcaption className={cn("flex min-w-0 gap-x-2 gap-y-0.5 text-xs", compact ? "flex-col" : "items-center")}>
+        <span className="flex min-w-0 items-center gap-2">
+          <button
+            type="button"
+            onClick={onActivate}
+            aria-pressed={active}
+            title={`${name}: show its histograms`}
+            className="min-w-0 truncate font-medium text-ink hover:text-accent"
+          >
+            {name}
+          </button>
+          {clips && (
+            <span className="shrink-0 rounded bg-ochre-soft px-1.5 py-0.5 text-[11px] font-medium text-ochre">
+              Clipping
+            </span>
+          )}
+        </span>
+        <span className={cn("figure shrink-0 text-ink-muted", !compact && "ml-auto")} aria-live="polite">
           {updating ? (
             <span className="inline-flex items-center gap-1.5">
               <Spinner className="size-3" /> Updating
@@ -107,7 +112,9 @@ export function PreviewCard({
           ) : preview.isError && data ? (
             <span className="text-brick">Not updated: {preview.error.message}</span>
           ) : data ? (
-            <span data-testid="preview-ms">{data.ms} ms on the server</span>
+            <span data-testid="preview-ms" title="Time the server took to render this preview">
+              {data.ms} ms on the server
+            </span>
           ) : null}
         </span>
       </figcaption>

@@ -5,6 +5,7 @@ import { Button } from "../../../components/button";
 import { EmptyNote } from "../../../components/panel";
 import { cn } from "../../../lib/cn";
 import { useDebounced } from "../../../lib/use-debounced";
+import { draftIsValid } from "../draft";
 import { useRecipePreview } from "../api/preview-recipe";
 import { fragmentLabel } from "../format";
 import { ClippingNote } from "./clipping-note";
@@ -60,6 +61,8 @@ export function PreviewPane({
 }) {
   const viewName = useId();
   const settled = useDebounced(steps, PREVIEW_DEBOUNCE_MS);
+  // Both: the steps on screen may be valid again while the settled ones are not yet.
+  const ready = valid && draftIsValid(settled);
   const [view, setView] = useState<PreviewView>("split");
   const [divider, setDivider] = useState(0.5);
   const [activeId, setActiveId] = useState<string | null>(null);
@@ -96,7 +99,6 @@ export function PreviewPane({
 
   return (
     <div className="flex flex-col gap-4">
-      <FragmentPicker candidates={candidates} selected={selected} onChange={onSelect} />
       <div className="flex flex-wrap items-center justify-between gap-3">
         <div
           role="radiogroup"
@@ -119,10 +121,6 @@ export function PreviewPane({
             </label>
           ))}
         </div>
-        <span className="text-xs text-ink-muted">
-          <kbd className="figure rounded border border-paper-300 bg-white px-1">\</kbd> flips
-          before and after · drag the divider or use the arrow keys on it
-        </span>
         <Button
           size="sm"
           variant={picking ? "primary" : "secondary"}
@@ -134,6 +132,7 @@ export function PreviewPane({
           {picking ? "Picking a neutral… (Esc)" : "Pick a neutral"}
         </Button>
       </div>
+      <FragmentPicker candidates={candidates} selected={selected} onChange={onSelect} />
       {picking && (
         <p className="rounded-md bg-accent-faint px-3 py-2 text-xs text-accent-strong" role="status">
           Click something on the before picture that should be neutral: the white of the paper, a
@@ -156,7 +155,7 @@ export function PreviewPane({
             key={f.id}
             fragment={f}
             steps={settled}
-            ready={valid}
+            ready={ready}
             size={size}
             active={f.id === active?.id && selected.length > 1}
             onActivate={() => setActiveId(f.id)}
@@ -169,15 +168,21 @@ export function PreviewPane({
               onNeutral(colour);
             }}
             marker={marker?.id === f.id ? marker : null}
-            maxHeight={selected.length === 1 ? "46vh" : "34vh"}
+            maxHeight={selected.length === 1 ? "38vh" : "28vh"}
+            compact={selected.length > 1}
           />
         ))}
       </div>
+      <p className="-mt-2 text-xs text-ink-muted">
+        Drag the divider, or focus it and use the arrow keys;{" "}
+        <kbd className="figure rounded border border-paper-300 bg-white px-1">{"\\"}</kbd> flips
+        between before and after.
+      </p>
       {active && (
         <Histograms
           fragment={active}
           steps={settled}
-          ready={valid}
+          ready={ready}
           size={size}
           several={selected.length > 1}
         />
@@ -216,7 +221,7 @@ function Histograms({
         <Histogram label="After" bins={histograms.after} />
       </div>
       <HistogramLegend />
-      <ClippingNote clipping={clipping} />
+      <ClippingNote clipping={clipping} histograms={histograms} />
     </section>
   );
 }

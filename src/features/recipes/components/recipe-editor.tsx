@@ -249,7 +249,7 @@ export function RecipeEditor({
             />
           </Panel>
         </div>
-        <div className="flex flex-col gap-4 lg:sticky lg:top-4">
+        <div className="flex flex-col gap-4 lg:sticky lg:top-[7.5rem] lg:max-h-[calc(100vh-8.5rem)] lg:overflow-y-auto">
           {batchId && <BatchProgress batchId={batchId} queueHref={paths.queue} />}
           <Panel title="Preview" titleId="preview-title">
             <PreviewPane

@@ -10,7 +10,7 @@ export function RecipesTable({ recipes }: { recipes: RecipeSummary[] }) {
   return (
     <table className="w-full text-sm">
       <thead>
-        <tr className="border-b border-paper-200 text-left text-xs font-semibold tracking-wide text-ink-muted">
+        <tr className="border-b border-paper-200 text-left text-xs font-semibold tracking-wide whitespace-nowrap text-ink-muted">
           <th scope="col" className="px-5 py-2.5">Recipe</th>
           <th scope="col" className="px-3 py-2.5">Version</th>
           <th scope="col" className="px-3 py-2.5">Steps</th>
@@ -66,10 +66,20 @@ export function RecipesTable({ recipes }: { recipes: RecipeSummary[] }) {
                 )}
               </td>
               <td className="px-3 py-3 text-xs text-ink-soft">
-                {usage ?? (r.studioDefault ? "Every fragment with no recipe of its own" : <span className="text-ink-muted">Not used yet</span>)}
+                {r.studioDefault && <p>Every fragment with no recipe of its own</p>}
+                {usage ? <p>{usage}</p> : !r.studioDefault && <p className="text-ink-muted">Not used yet</p>}
               </td>
-              <td className="px-5 py-3 text-right text-xs text-ink-muted">
+              <td className="px-5 py-3 text-right text-xs whitespace-nowrap text-ink-muted">
                 <Ago iso={r.updatedAt} />
+                <p className="mt-1.5">
+                  <Link
+                    to={paths.recipeApply(r.id)}
+                    className="font-medium text-accent hover:underline"
+                    aria-label={`Apply ${r.name} to fragments`}
+                  >
+                    Apply…
+                  </Link>
+                </p>
               </td>
             </tr>
           );

@@ -142,7 +142,7 @@ export function StepCard({
       >
         <p className="mb-3 text-xs text-ink-muted">
           {info.summary}
-          {!step.enabled && " Off: skipped in the preview and when saved."}
+          {!step.enabled && " Off: kept in the recipe but skipped."}
         </p>
         <StepSettings
           step={step}
