@@ -24,6 +24,8 @@ import { studioRouter } from "./routes/studio";
 import { eventsRouter } from "./routes/events";
 import { fragmentsRouter } from "./routes/fragments";
 import { recipesRouter } from "./routes/recipes";
+import { presetsRouter } from "./routes/presets";
+import { batchesRouter } from "./routes/batches";
 
 export interface AppDeps {
   config: Config;
@@ -95,6 +97,8 @@ export function createApp(deps: AppDeps): express.Express {
   api.use(scansRouter(deps));
   api.use(fragmentsRouter(deps));
   api.use(recipesRouter(deps));
+  api.use(presetsRouter(deps));
+  api.use(batchesRouter(deps));
   api.use(usersRouter(deps));
   api.use((req, _res, next) => next(new AppError(404, "not_found", `There is no API route ${req.method} ${req.originalUrl}.`)));
   app.use("/api", api);

@@ -4,6 +4,7 @@ import { loginBody } from "./schemas/auth";
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
 import { createIntakeBody, scanListQuery } from "./schemas/scans";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
+import { batchDownloadQuery, createBatchBody, createPresetBody, rerunBatchBody, updatePresetBody } from "./schemas/preset-api";
 import {
   drawFragmentBody,
   fragmentListQuery,
@@ -196,7 +197,46 @@ export const API = {
     mutates: false,
     body: previewRecipeBody,
   }),
+  presetsList: route({ method: "GET", path: "/api/presets", access: "viewer", mutates: false }),
+  presetsGet: route({ method: "GET", path: "/api/presets/:id", access: "viewer", mutates: false, params: idParams }),
+  presetsCreate: route({ method: "POST", path: "/api/presets", access: "operator", mutates: true, body: createPresetBody }),
+  presetsUpdate: route({
+    method: "PATCH",
+    path: "/api/presets/:id",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+    body: updatePresetBody,
+  }),
+  batchesList: route({ method: "GET", path: "/api/batches", access: "viewer", mutates: false }),
+  batchesEstimate: route({
+    method: "POST",
+    path: "/api/batches/estimate",
+    access: "operator",
+    // Counts only; changes nothing.
+    mutates: false,
+    body: createBatchBody,
+  }),
+  batchesCreate: route({ method: "POST", path: "/api/batches", access: "operator", mutates: true, body: createBatchBody }),
   batchesGet: route({ method: "GET", path: "/api/batches/:id", access: "viewer", mutates: false, params: idParams }),
+  batchesRetry: route({ method: "POST", path: "/api/batches/:id/retry", access: "operator", mutates: true, params: idParams }),
+  batchesCancel: route({ method: "POST", path: "/api/batches/:id/cancel", access: "operator", mutates: true, params: idParams }),
+  batchesRerun: route({
+    method: "POST",
+    path: "/api/batches/:id/rerun",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+    body: rerunBatchBody,
+  }),
+  batchesDownload: route({
+    method: "GET",
+    path: "/api/batches/:id/download",
+    access: "viewer",
+    mutates: false,
+    params: idParams,
+    query: batchDownloadQuery,
+  }),
 
   usersList: route({ method: "GET", path: "/api/users", access: "admin", mutates: false }),
   usersCreate: route({ method: "POST", path: "/api/users", access: "admin", mutates: true, body: createUserBody }),

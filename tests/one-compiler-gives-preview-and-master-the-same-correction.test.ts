@@ -135,6 +135,12 @@ describe("one compiler gives the preview and the master the same correction", ()
     );
     // the recipe's name is not part of it: renaming does not invalidate measurements
     expect(() => compileRecipe({ name: "b", steps: [{ type: "levels", mode: "auto", clip: 0.01 }] }, { dpi: 300, bitDepth: 8, stats })).not.toThrow();
+    // nor are depth and DPI: an 8-bit preview's measurements serve the 16-bit master
+    expect(() => compileRecipe({ name: "a", steps: [{ type: "levels", mode: "auto", clip: 0.01 }] }, { dpi: 1200, bitDepth: 16, stats })).not.toThrow();
+    // another background is another white balance, so other statistics after it
+    const wb: RecipeInput = { name: "a", steps: [{ type: "whiteBalance" }, { type: "levels", mode: "auto" }] };
+    const wbStats = await compileRecipe(wb, { dpi: 300, bitDepth: 8, background: [240, 238, 230] }).measure(img);
+    expect(() => compileRecipe(wb, { dpi: 300, bitDepth: 8, background: [230, 238, 240], stats: wbStats })).toThrow(/another background/);
   });
 
   it("refuses a bad recipe or context before touching pixels, with the step named", () => {

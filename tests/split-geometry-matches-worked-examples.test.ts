@@ -3,6 +3,7 @@
  * first principles (exact areas, brute force over all candidates), not from the code under test.
  */
 import { describe, expect, it } from "vitest";
+import { labToSrgb8, srgb8ToLab } from "../worker/pipeline/split/colour";
 import { labelComponents } from "../worker/pipeline/split/components";
 import { crackPolygon, traceCracks } from "../worker/pipeline/split/contour";
 import { squaredDistance } from "../worker/pipeline/split/distance";
@@ -245,5 +246,34 @@ describe("threshold", () => {
     expect(contrastLevel(1000)).toBe(255);
     for (const d of [0.5, 2, 5, 10, 40, 100])
       expect(levelToDeltaE(Math.log1p(d / 2) * (255 / Math.log1p(75)))).toBeCloseTo(d, 9);
+  });
+});
+
+describe("colour difference space (CIELAB D65 from sRGB, IEC 61966-2-1 and CIE 15)", () => {
+  it("maps sRGB white to L* 100, a* = b* = 0, and a neutral grey to a* = b* = 0", () => {
+    expect(srgb8ToLab(255, 255, 255)).toEqual([100, 0, 0]);
+    const grey = srgb8ToLab(128, 128, 128);
+    expect(grey[1]).toBeCloseTo(0, 9);
+    expect(grey[2]).toBeCloseTo(0, 9);
+    expect(grey[0]).toBeCloseTo(53.585, 2); // 128/255 → Y 0.2158 → L* 53.585 (worked by hand from the formulas)
+  });
+
+  it("gives sRGB red as L* 53.24, a* 80.09, b* 67.20 within 0.05 (the commonly published value, from memory)", () => {
+    const [L, a, b] = srgb8ToLab(255, 0, 0);
+    expect(Math.abs(L - 53.24)).toBeLessThan(0.05);
+    expect(Math.abs(a - 80.09)).toBeLessThan(0.05);
+    expect(Math.abs(b - 67.2)).toBeLessThan(0.05);
+  });
+
+  it("round-trips 8-bit sRGB through CIELAB", () => {
+    const rnd = random(11);
+    for (let i = 0; i < 500; i++) {
+      const rgb: [number, number, number] = [0, 0, 0].map(() => Math.floor(rnd() * 256)) as [
+        number,
+        number,
+        number,
+      ];
+      expect(labToSrgb8(srgb8ToLab(...rgb))).toEqual(rgb);
+    }
   });
 });

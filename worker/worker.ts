@@ -9,6 +9,7 @@ import { QUEUES } from "../server/jobs/queues";
 import { analyseScan } from "./jobs/analyse";
 import { splitScanJob } from "./jobs/split";
 import { renderFragmentJob } from "./jobs/render";
+import { outputJob } from "./jobs/output";
 import type { JobContext } from "./jobs/context";
 
 export interface WorkerDeps {
@@ -34,6 +35,7 @@ export async function startWorker(deps: WorkerDeps) {
     [QUEUES.analyse]: analyseScan,
     [QUEUES.split]: splitScanJob,
     [QUEUES.render]: renderFragmentJob,
+    [QUEUES.output]: outputJob,
   };
   const workerIds: string[] = [];
   for (const [queue, handler] of Object.entries(handlers)) {

@@ -4,6 +4,7 @@ import { ensureDatabaseExists, migrateDatabase, openDatabase } from "../../serve
 import { ensureFirstAdmin, ensureStudio, type FirstAdmin } from "../../server/services/bootstrap";
 import { startIntake } from "../../server/services/intakes";
 import { ensureBuiltInRecipes } from "../../server/services/recipes";
+import { ensureBuiltInPresets } from "../../server/services/presets";
 import { startBoss } from "../../server/jobs/boss";
 import { logger } from "../../server/logger";
 import { startCluster } from "./pg-cluster";
@@ -29,6 +30,7 @@ export async function prepare(cfg: Config, opts: { cluster: boolean }): Promise<
     await boss.stop({ graceful: false, wait: true });
     const admin = await ensureFirstAdmin(database.db, cfg);
     await ensureBuiltInRecipes(database.db);
+    await ensureBuiltInPresets(database.db);
     const fresh = await ensureStudio(database.db, cfg, cfg.demo ? DEMO_STUDIO_NAME : "My studio", cfg.demo);
     let demoFiles: string[] = [];
     if (fresh && cfg.demo) {

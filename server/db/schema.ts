@@ -196,7 +196,7 @@ export const outputs = pgTable(
     fragmentId: uuid("fragment_id")
       .notNull()
       .references(() => fragments.id, { onDelete: "cascade" }),
-    kind: text("kind").$type<"master" | "web">().notNull(),
+    kind: text("kind").$type<"master" | "web" | "preset">().notNull(),
     key: text("key").notNull(),
     format: text("format").notNull(),
     width: integer("width").notNull(),
@@ -209,9 +209,18 @@ export const outputs = pgTable(
     revision: integer("revision").notNull(),
     /** The recipe version that coloured it. */
     recipeVersionId: uuid("recipe_version_id"),
+    /** For preset outputs: the preset version that made it. */
+    presetVersionId: uuid("preset_version_id"),
+    /** fragment + revision + recipe version + preset version: the same key is the same file, made once. */
+    dedupeKey: text("dedupe_key"),
+    /** Printed size, effective DPI and warnings, as the output step reported them. */
+    report: jsonb("report").$type<{ printedIn?: { width: number; height: number }; effectiveDpi?: number; warnings: string[] }>(),
     ...timestamps,
   },
-  (t) => [uniqueIndex("outputs_fragment_kind_key").on(t.fragmentId, t.kind)],
+  (t) => [
+    uniqueIndex("outputs_fragment_kind_key").on(t.fragmentId, t.kind).where(sql`${t.kind} in ('master', 'web')`),
+    uniqueIndex("outputs_dedupe_key").on(t.dedupeKey),
+  ],
 );
 
 /** A saved colour recipe; its steps live in versions, the newest being the one in use. */
@@ -252,8 +261,11 @@ export const batches = pgTable("batches", {
   id: uuid("id").primaryKey().defaultRandom(),
   name: text("name").notNull(),
   /** Why it ran: a recipe applied, or (later) presets. */
-  kind: text("kind").$type<"recipe">().notNull(),
+  kind: text("kind").$type<"recipe" | "outputs">().notNull(),
   recipeVersionId: uuid("recipe_version_id"),
+  /** For a re-run: the batch it repeats, and whether its outputs go once this one is done. */
+  rerunOf: uuid("rerun_of"),
+  replaceOld: boolean("replace_old").notNull().default(false),
   createdBy: uuid("created_by").references(() => users.id),
   finishedAt: timestamp("finished_at", { withTimezone: true }),
   ...timestamps,
@@ -271,7 +283,39 @@ export const batchItems = pgTable(
       .references(() => fragments.id, { onDelete: "cascade" }),
     state: batchItemStateEnum("state").notNull().default("queued"),
     error: text("error"),
+    /** For output batches: what to make, and what was made. */
+    presetVersionId: uuid("preset_version_id"),
+    outputId: uuid("output_id"),
     ...timestamps,
   },
   (t) => [index("batch_items_batch_idx").on(t.batchId), index("batch_items_fragment_idx").on(t.fragmentId)],
+);
+
+/** A saved output recipe (web, print, mock-up, master); its settings live in versions. */
+export const presets = pgTable(
+  "presets",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    name: text("name").notNull(),
+    kind: text("kind").$type<"master" | "web" | "print" | "mockup">().notNull(),
+    builtIn: boolean("built_in").notNull().default(false),
+    archivedAt: timestamp("archived_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (t) => [uniqueIndex("presets_name_key").on(sql`lower(${t.name})`)],
+);
+
+export const presetVersions = pgTable(
+  "preset_versions",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    presetId: uuid("preset_id")
+      .notNull()
+      .references(() => presets.id),
+    version: integer("version").notNull(),
+    settings: jsonb("settings").$type<unknown>().notNull(),
+    createdBy: uuid("created_by").references(() => users.id),
+    createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [uniqueIndex("preset_versions_preset_version_key").on(t.presetId, t.version)],
 );

@@ -6,6 +6,7 @@ export const QUEUES = {
   analyse: "scan-analyse",
   split: "scan-split",
   render: "fragment-render",
+  output: "output-render",
 } as const;
 
 export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Omit<PgBoss.Queue, "name">> {
@@ -22,6 +23,14 @@ export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Om
       policy: "standard",
       retryLimit: cfg.jobRetryLimit,
       retryDelay: 2,
+      retryBackoff: true,
+      expireInSeconds: cfg.jobExpireSeconds,
+    },
+    [QUEUES.output]: {
+      policy: "standard",
+      // A master still being rendered is waited for by retrying: more, gentler retries.
+      retryLimit: Math.max(cfg.jobRetryLimit, 6),
+      retryDelay: 3,
       retryBackoff: true,
       expireInSeconds: cfg.jobExpireSeconds,
     },

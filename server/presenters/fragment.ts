@@ -52,6 +52,7 @@ export function presentFragment(row: FragmentRow, scan: ScanRow, outs: OutputRow
     renderState: row.renderState,
     renderError: row.renderError,
     outputs: outs
+      .filter((o): o is OutputRow & { kind: "master" | "web" } => o.kind === "master" || o.kind === "web")
       .filter((o) => o.revision === row.revision || row.renderState !== "done")
       .map(
         (o): Output => ({

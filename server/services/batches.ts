@@ -1,6 +1,6 @@
 import { and, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import type { Db } from "../db";
-import { batchItems, batches, fragments } from "../db/schema";
+import { batchItems, batches, fragments, outputs } from "../db/schema";
 import type { Tx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import { notFound } from "../errors";
@@ -35,7 +35,32 @@ export async function settleBatchItem(db: Db, itemId: string, state: "running" |
     .select({ n: sql<number>`count(*)::int` })
     .from(batchItems)
     .where(and(eq(batchItems.batchId, item.batchId), inArray(batchItems.state, ["queued", "running"])));
-  if ((open?.n ?? 0) === 0) await db.update(batches).set({ finishedAt: new Date(), updatedAt: new Date() }).where(and(eq(batches.id, item.batchId), isNull(batches.finishedAt)));
+  if ((open?.n ?? 0) > 0) return;
+  const [closed] = await db
+    .update(batches)
+    .set({ finishedAt: new Date(), updatedAt: new Date() })
+    .where(and(eq(batches.id, item.batchId), isNull(batches.finishedAt)))
+    .returning();
+  if (closed?.rerunOf && closed.replaceOld) await replaceOldOutputs(db, closed.rerunOf, closed.id);
+}
+
+/**
+ * After a re-run that replaces, the old batch's outputs that the new one did not reuse are
+ * removed (rows here; files by the caller's library sweep). Only once the new ones are all made.
+ */
+async function replaceOldOutputs(db: Db, oldBatchId: string, newBatchId: string) {
+  const keep = db.select({ id: batchItems.outputId }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), eq(batchItems.state, "done")));
+  const [failed] = await db.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), inArray(batchItems.state, ["failed", "cancelled"])));
+  if (failed?.n) return; // not all new outputs exist: keep the old ones
+  const old = await db
+    .select({ id: batchItems.outputId })
+    .from(batchItems)
+    .where(and(eq(batchItems.batchId, oldBatchId), sql`${batchItems.outputId} is not null`, sql`${batchItems.outputId} not in (${keep})`));
+  const ids = old.map((o) => o.id!).filter(Boolean);
+  if (ids.length) {
+    await db.update(batchItems).set({ outputId: null }).where(inArray(batchItems.outputId, ids));
+    await db.delete(outputs).where(inArray(outputs.id, ids));
+  }
 }
 
 async function present(db: Db, rows: BatchRow[]): Promise<Batch[]> {

@@ -16,3 +16,6 @@ export const renderPayload = z.object({
   batchItemId: z.uuid().optional(),
 });
 export type RenderPayload = z.infer<typeof renderPayload>;
+
+/** Payload of the output job: make one batch item (a fragment × a preset version). */
+export const outputPayload = z.object({ batchItemId: z.uuid() });

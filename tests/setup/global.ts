@@ -34,6 +34,8 @@ export default async function setup() {
   await migrateDatabase(database.db);
   const { ensureBuiltInRecipes } = await import("../../server/services/recipes");
   await ensureBuiltInRecipes(database.db);
+  const { ensureBuiltInPresets } = await import("../../server/services/presets");
+  await ensureBuiltInPresets(database.db);
   await database.close();
   const boss = await startBoss({ url: urlFor(template), log: logger, supervise: false });
   await boss.stop({ graceful: false, wait: true });

@@ -1,6 +1,6 @@
 import fs from "node:fs/promises";
 import path from "node:path";
-import { and, eq } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import type { Database } from "../../server/db";
 import { fragments, outputs, scans } from "../../server/db/schema";
 import { notify } from "../../server/services/events";
@@ -48,7 +48,7 @@ export async function renderFragmentJob(deps: RenderDeps, data: unknown, ctx: Jo
     return log.info({ current: row.revision }, "render: a newer revision will be rendered");
   }
   const recipe = await recipeVersionFor(db, fragmentId);
-  const made = await db.select().from(outputs).where(eq(outputs.fragmentId, fragmentId));
+  const made = (await db.select().from(outputs).where(eq(outputs.fragmentId, fragmentId))).filter((o) => o.kind !== "preset");
   if (made.length >= 2 && made.every((o) => o.revision === revision && o.recipeVersionId === recipe.id)) {
     await db.update(fragments).set({ renderState: "done" }).where(eq(fragments.id, fragmentId));
     await settle("done");
@@ -96,7 +96,7 @@ export async function renderFragmentJob(deps: RenderDeps, data: unknown, ctx: Jo
       await db
         .insert(outputs)
         .values({ fragmentId, revision, recipeVersionId: recipe.id, ...o })
-        .onConflictDoUpdate({ target: [outputs.fragmentId, outputs.kind], set: { ...o, revision, recipeVersionId: recipe.id, updatedAt: now, createdAt: now } });
+        .onConflictDoUpdate({ target: [outputs.fragmentId, outputs.kind], targetWhere: sql`${outputs.kind} in ('master', 'web')`, set: { ...o, revision, recipeVersionId: recipe.id, updatedAt: now, createdAt: now } });
     }
     await setState("done");
     await settle("done");

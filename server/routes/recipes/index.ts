@@ -27,6 +27,5 @@ export function recipesRouter({ database, boss, library }: AppDeps): Router {
     return { ...r, batch: await getBatch(db, r.batchId) };
   });
   handle(router, API.recipesPreview, ({ body }) => previewRecipe(db, library, body));
-  handle(router, API.batchesGet, async ({ params }) => ({ batch: await getBatch(db, params.id) }));
   return router;
 }

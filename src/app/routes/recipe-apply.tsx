@@ -71,8 +71,17 @@ function RecipeApplyPage({ id }: { id: string }) {
       </p>
     );
   }
-  if (recipe.isError) return <LoadError error={recipe.error} onRetry={() => void recipe.refetch()} />;
+  if (recipe.isError)
+    return <LoadError error={recipe.error} onRetry={() => void recipe.refetch()} />;
   const r = recipe.data.recipe;
+  const scanName = scanId ? scanList?.find((s) => s.id === scanId)?.originalName : undefined;
+  const intakeName = intakeId ? intakes.data?.find((i) => i.id === intakeId)?.name : undefined;
+  const scope =
+    scanId && scanName
+      ? { kind: "scan" as const, id: scanId, name: scanName }
+      : intakeId && intakeName
+        ? { kind: "intake" as const, id: intakeId, name: intakeName }
+        : undefined;
 
   return (
     <>
@@ -82,18 +91,27 @@ function RecipeApplyPage({ id }: { id: string }) {
         description={
           <>
             Choose fragments to colour with{" "}
-            <Link to={paths.recipe(r.id)} className="font-medium text-accent underline underline-offset-2">
+            <Link
+              to={paths.recipe(r.id)}
+              className="font-medium text-accent underline underline-offset-2"
+            >
               {r.name} v{r.version}
             </Link>
             . Their own recipe choice is replaced; approved ones are re-rendered as a batch.
           </>
         }
       />
-      <div className="mb-5 flex flex-wrap items-end gap-4" role="search" aria-label="Filter fragments">
+      <div
+        className="mb-5 flex flex-wrap items-end gap-4"
+        role="search"
+        aria-label="Filter fragments"
+      >
         <SelectField
           label="Recipe"
           value={r.id}
-          onChange={(e) => navigate({ pathname: paths.recipeApply(e.target.value), search: params.toString() })}
+          onChange={(e) =>
+            navigate({ pathname: paths.recipeApply(e.target.value), search: params.toString() })
+          }
           fieldClassName="w-56"
         >
           {(recipes.data ?? [r]).map((x) => (
@@ -145,7 +163,7 @@ function RecipeApplyPage({ id }: { id: string }) {
       {pool.isError && !pool.data ? (
         <LoadError error={pool.error} onRetry={() => void pool.refetch()} />
       ) : (
-        <ApplyGrid recipe={r} fragments={fragments} loading={pool.isFetching} />
+        <ApplyGrid recipe={r} fragments={fragments} loading={pool.isFetching} scope={scope} />
       )}
     </>
   );

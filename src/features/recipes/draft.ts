@@ -43,7 +43,9 @@ export function stepErrors(step: RecipeStep): StepErrors {
 }
 
 export function draftIsValid(steps: RecipeStep[]): boolean {
-  return steps.length <= MAX_RECIPE_STEPS && steps.every((s) => recipeStepSchema.safeParse(s).success);
+  return (
+    steps.length <= MAX_RECIPE_STEPS && steps.every((s) => recipeStepSchema.safeParse(s).success)
+  );
 }
 
 /** Moves the item at `from` by `by` places; the same list when it cannot move. */
@@ -67,7 +69,9 @@ export function withNeutralPoint(steps: DraftStep[], point: [number, number, num
     return [keyed(step), ...steps];
   }
   return steps.map((d, i) =>
-    i === index ? { ...d, step: { ...d.step, enabled: true, mode: "point", point } as RecipeStep } : d,
+    i === index
+      ? { ...d, step: { ...d.step, enabled: true, mode: "point", point } as RecipeStep }
+      : d,
   );
 }
 

@@ -1,8 +1,4 @@
-import {
-  RECIPE_LIMITS,
-  type RecipeStep,
-  type StepType,
-} from "../../../shared/schemas/recipes";
+import { RECIPE_LIMITS, type RecipeStep, type StepType } from "../../../shared/schemas/recipes";
 import { formatNumber } from "../../../shared/units";
 
 /**
@@ -61,7 +57,8 @@ export interface StepInfo {
 const L = RECIPE_LIMITS;
 const of255 = (v: number) => `≈ ${Math.round(v * 255)} of 255`;
 const percent = (v: number) => `${formatNumber(v * 100, 2)} %`;
-const signedPercent = (v: number) => `${v > 0 ? "+" : v < 0 ? "−" : ""}${formatNumber(Math.abs(v) * 100, 0)} %`;
+const signedPercent = (v: number) =>
+  `${v > 0 ? "+" : v < 0 ? "−" : ""}${formatNumber(Math.abs(v) * 100, 0)} %`;
 
 export const STEP_INFO: Record<StepType, StepInfo> = {
   whiteBalance: {
@@ -78,7 +75,11 @@ export const STEP_INFO: Record<StepType, StepInfo> = {
             label: "Scanner bed",
             hint: "The lid or backing around the pieces, as the split measured it",
           },
-          { value: "point", label: "Picked point", hint: "A neutral you pick on the before picture" },
+          {
+            value: "point",
+            label: "Picked point",
+            hint: "A neutral you pick on the before picture",
+          },
           { value: "gains", label: "Gains", hint: "Linear multipliers for red, green and blue" },
         ],
       },
@@ -179,7 +180,15 @@ export const STEP_INFO: Record<StepType, StepInfo> = {
     label: "Contrast",
     summary: "An S-curve about a pivot; negative values flatten.",
     settings: [
-      { kind: "number", key: "amount", label: "Contrast", limits: L.contrast.amount, step: 0.01, decimals: 2, readout: signedPercent },
+      {
+        kind: "number",
+        key: "amount",
+        label: "Contrast",
+        limits: L.contrast.amount,
+        step: 0.01,
+        decimals: 2,
+        readout: signedPercent,
+      },
       {
         kind: "number",
         key: "pivot",
@@ -196,20 +205,88 @@ export const STEP_INFO: Record<StepType, StepInfo> = {
     label: "Saturation",
     summary: "Chroma in CIELAB; vibrance spares near-neutral and skin-like colours.",
     settings: [
-      { kind: "number", key: "saturation", label: "Saturation", limits: L.saturation.saturation, step: 0.01, decimals: 2, readout: signedPercent },
-      { kind: "number", key: "vibrance", label: "Vibrance", hint: "Lifts muted colours most", limits: L.saturation.vibrance, step: 0.01, decimals: 2, readout: signedPercent },
+      {
+        kind: "number",
+        key: "saturation",
+        label: "Saturation",
+        limits: L.saturation.saturation,
+        step: 0.01,
+        decimals: 2,
+        readout: signedPercent,
+      },
+      {
+        kind: "number",
+        key: "vibrance",
+        label: "Vibrance",
+        hint: "Lifts muted colours most",
+        limits: L.saturation.vibrance,
+        step: 0.01,
+        decimals: 2,
+        readout: signedPercent,
+      },
     ],
   },
   hueRange: {
     label: "Hue range",
     summary: "Brings back one muted colour (a green, an orange) without touching the rest.",
     settings: [
-      { kind: "number", key: "centre", label: "Hue", hint: "CIELAB hue angle h°", limits: L.hueRange.centre, step: 1, decimals: 0, unit: "°", track: "hue" },
-      { kind: "number", key: "width", label: "Range width", limits: L.hueRange.width, step: 1, decimals: 0, unit: "°" },
-      { kind: "number", key: "feather", label: "Feather", hint: "Fades out over this much beyond the range", limits: L.hueRange.feather, step: 1, decimals: 0, unit: "°" },
-      { kind: "number", key: "hueShift", label: "Hue shift", limits: L.hueRange.hueShift, step: 1, decimals: 0, unit: "°" },
-      { kind: "number", key: "saturation", label: "Saturation", limits: L.hueRange.saturation, step: 0.01, decimals: 2, readout: signedPercent },
-      { kind: "number", key: "lightness", label: "Lightness", limits: L.hueRange.lightness, step: 0.01, decimals: 2, readout: signedPercent },
+      {
+        kind: "number",
+        key: "centre",
+        label: "Hue",
+        hint: "CIELAB hue angle h°",
+        limits: L.hueRange.centre,
+        step: 1,
+        decimals: 0,
+        unit: "°",
+        track: "hue",
+      },
+      {
+        kind: "number",
+        key: "width",
+        label: "Range width",
+        limits: L.hueRange.width,
+        step: 1,
+        decimals: 0,
+        unit: "°",
+      },
+      {
+        kind: "number",
+        key: "feather",
+        label: "Feather",
+        hint: "Fades out over this much beyond the range",
+        limits: L.hueRange.feather,
+        step: 1,
+        decimals: 0,
+        unit: "°",
+      },
+      {
+        kind: "number",
+        key: "hueShift",
+        label: "Hue shift",
+        limits: L.hueRange.hueShift,
+        step: 1,
+        decimals: 0,
+        unit: "°",
+      },
+      {
+        kind: "number",
+        key: "saturation",
+        label: "Saturation",
+        limits: L.hueRange.saturation,
+        step: 0.01,
+        decimals: 2,
+        readout: signedPercent,
+      },
+      {
+        kind: "number",
+        key: "lightness",
+        label: "Lightness",
+        limits: L.hueRange.lightness,
+        step: 0.01,
+        decimals: 2,
+        readout: signedPercent,
+      },
     ],
   },
   blackAndWhite: {
@@ -221,7 +298,11 @@ export const STEP_INFO: Record<StepType, StepInfo> = {
         key: "mode",
         label: "Convert",
         options: [
-          { value: "auto", label: "When near neutral", hint: "Only fragments whose colours are almost all grey" },
+          {
+            value: "auto",
+            label: "When near neutral",
+            hint: "Only fragments whose colours are almost all grey",
+          },
           { value: "always", label: "Always", hint: "Every fragment becomes grey" },
           { value: "never", label: "Never", hint: "Leave colour as it is" },
         ],
@@ -264,15 +345,39 @@ export const STEP_INFO: Record<StepType, StepInfo> = {
         decimals: 0,
         unit: "LPI",
       },
-      { kind: "number", key: "strength", label: "Strength", limits: L.descreen.strength, step: 0.01, decimals: 2, readout: percent },
+      {
+        kind: "number",
+        key: "strength",
+        label: "Strength",
+        limits: L.descreen.strength,
+        step: 0.01,
+        decimals: 2,
+        readout: percent,
+      },
     ],
   },
   sharpen: {
     label: "Sharpen",
     summary: "Unsharp mask with its radius on the original, so it means the same at any DPI.",
     settings: [
-      { kind: "number", key: "radiusMm", label: "Radius", limits: L.sharpen.radiusMm, step: 0.01, decimals: 2, unit: "mm", log: true },
-      { kind: "number", key: "amount", label: "Amount", limits: L.sharpen.amount, step: 0.05, decimals: 2 },
+      {
+        kind: "number",
+        key: "radiusMm",
+        label: "Radius",
+        limits: L.sharpen.radiusMm,
+        step: 0.01,
+        decimals: 2,
+        unit: "mm",
+        log: true,
+      },
+      {
+        kind: "number",
+        key: "amount",
+        label: "Amount",
+        limits: L.sharpen.amount,
+        step: 0.05,
+        decimals: 2,
+      },
       {
         kind: "number",
         key: "threshold",
@@ -298,7 +403,9 @@ export function visibleSettings(step: RecipeStep): Setting[] {
 /** A short line for a step in lists: "Levels (from the histogram)". */
 export function stepLine(step: RecipeStep): string {
   const info = STEP_INFO[step.type];
-  const modeSetting = info.settings.find((s): s is ModeSetting => s.kind === "mode" && s.key === "mode");
+  const modeSetting = info.settings.find(
+    (s): s is ModeSetting => s.kind === "mode" && s.key === "mode",
+  );
   const mode = "mode" in step ? modeSetting?.options.find((o) => o.value === step.mode) : undefined;
   return mode ? `${info.label} (${mode.label.toLowerCase()})` : info.label;
 }

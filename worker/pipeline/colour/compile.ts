@@ -88,11 +88,15 @@ function checkContext(ctx: RecipeContext): void {
   }
 }
 
-/** Fingerprint of what the measurements depend on: the enabled steps' settings and the background. */
+/**
+ * Fingerprint of what the measurements depend on: the enabled steps' settings and the
+ * background. Not the bit depth or DPI: measurements are fractions of full scale and chroma,
+ * so an 8-bit preview's serve a 16-bit master.
+ */
 function fingerprint(recipe: Recipe, ctx: RecipeContext): string {
   const steps = recipe.steps.map((s) => (s.enabled ? s : null));
   const background = ctx.background?.map((v) => Math.round(v * 100) / 100) ?? null;
-  return createHash("sha256").update(JSON.stringify({ steps, background, bitDepth: ctx.bitDepth })).digest("hex").slice(0, 16);
+  return createHash("sha256").update(JSON.stringify({ steps, background })).digest("hex").slice(0, 16);
 }
 
 /**

@@ -178,6 +178,7 @@ export function estimateBackground(
     b: new Float32Array(width * height),
   };
   const out: Float32Array[] = [residual.L, residual.a, residual.b];
+  const Xs = Float32Array.from({ length: width }, (_, x) => (2 * (x + 0.5)) / width - 1);
   for (let c = 0; c < 3; c++) {
     const p = poly[c]!;
     const src = planes[c]!;
@@ -192,8 +193,8 @@ export function estimateBackground(
       const a2 = p[3]!;
       const row = y * width;
       for (let x = 0; x < width; x++) {
-        const Xv = (2 * (x + 0.5)) / width - 1;
-        dst[row + x] = src[row + x]! - (a0 + a1 * Xv + a2 * Xv * Xv + cf[x]!);
+        const Xv = Xs[x]!;
+        dst[row + x] = src[row + x]! - (a0 + (a1 + a2 * Xv) * Xv + cf[x]!);
       }
     }
   }

@@ -4,6 +4,7 @@ import { API } from "../../../../shared/api";
 import { batchSchema, type ApplyRecipeBody } from "../../../../shared/schemas/recipe-api";
 import { apiRequest } from "../../../lib/api-client";
 import { batchQueryOptions } from "./get-batch";
+import { recipesQueryOptions } from "./get-recipes";
 import { recipeKeys } from "./keys";
 
 const applyRecipeResponse = z.object({
@@ -21,7 +22,10 @@ export interface ApplyRecipeVariables {
   target: ApplyRecipeBody;
 }
 
-export function applyRecipe({ recipeId, target }: ApplyRecipeVariables): Promise<ApplyRecipeResult> {
+export function applyRecipe({
+  recipeId,
+  target,
+}: ApplyRecipeVariables): Promise<ApplyRecipeResult> {
   return apiRequest(API.recipesApply, {
     params: { id: recipeId },
     body: target,
@@ -36,8 +40,11 @@ export function useApplyRecipe() {
     mutationFn: applyRecipe,
     onSuccess: (result) => {
       queryClient.setQueryData(batchQueryOptions(result.batch.id).queryKey, result.batch);
-      // Where each recipe is used has changed.
-      return queryClient.invalidateQueries({ queryKey: recipeKeys.all });
+      // Where each recipe is used has changed (previews have not: they are left alone).
+      return Promise.all([
+        queryClient.invalidateQueries({ queryKey: recipesQueryOptions().queryKey }),
+        queryClient.invalidateQueries({ queryKey: recipeKeys.details() }),
+      ]);
     },
   });
 }

@@ -5,7 +5,11 @@ import { apiRequest } from "../../../lib/api-client";
 import { batchKeys } from "./keys";
 
 export async function getBatch(id: string, signal?: AbortSignal): Promise<Batch> {
-  const { batch } = await apiRequest(API.batchesGet, { params: { id }, schema: batchResponse, signal });
+  const { batch } = await apiRequest(API.batchesGet, {
+    params: { id },
+    schema: batchResponse,
+    signal,
+  });
   return batch;
 }
 

@@ -4,6 +4,7 @@ import type { RecipeStep } from "../../../../shared/schemas/recipes";
 export const recipeKeys = {
   all: ["recipes"] as const,
   list: () => ["recipes", "list"] as const,
+  details: () => ["recipes", "detail"] as const,
   detail: (id: string) => ["recipes", "detail", id] as const,
   /** One preview: a fragment at a revision and size, with exactly these steps. */
   preview: (fragmentId: string, revision: number, size: number, steps: RecipeStep[]) =>

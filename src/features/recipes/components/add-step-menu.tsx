@@ -26,7 +26,8 @@ export function AddStepMenu({
     itemRefs.current[0]?.focus();
     const away = (event: PointerEvent) => {
       const target = event.target as Node;
-      if (!menuRef.current?.contains(target) && !buttonRef.current?.contains(target)) setOpen(false);
+      if (!menuRef.current?.contains(target) && !buttonRef.current?.contains(target))
+        setOpen(false);
     };
     document.addEventListener("pointerdown", away);
     return () => document.removeEventListener("pointerdown", away);

@@ -117,7 +117,10 @@ export function ApplyDialog({
           )}
           <p className="text-xs text-ink-muted">
             Or{" "}
-            <Link to={fragmentsHref} className="font-medium text-accent underline underline-offset-2">
+            <Link
+              to={fragmentsHref}
+              className="font-medium text-accent underline underline-offset-2"
+            >
               choose fragments one by one
             </Link>{" "}
             from a grid.

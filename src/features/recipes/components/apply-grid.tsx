@@ -1,6 +1,6 @@
 import { useState, type MouseEvent } from "react";
 import type { Fragment } from "../../../../shared/schemas/fragments";
-import type { RecipeSummary } from "../../../../shared/schemas/recipe-api";
+import type { ApplyRecipeBody, RecipeSummary } from "../../../../shared/schemas/recipe-api";
 import { Button, Spinner } from "../../../components/button";
 import { EmptyNote } from "../../../components/panel";
 import { paths } from "../../../config/paths";
@@ -26,10 +26,13 @@ export function ApplyGrid({
   recipe,
   fragments,
   loading,
+  scope,
 }: {
   recipe: RecipeSummary;
   fragments: Fragment[];
   loading: boolean;
+  /** The scan or intake the filters narrow to: the recipe can be set for all of it at once. */
+  scope?: { kind: "scan" | "intake"; id: string; name: string };
 }) {
   const apply = useApplyRecipe();
   const [selected, setSelected] = useState<Set<string>>(() => new Set());
@@ -58,11 +61,12 @@ export function ApplyGrid({
     setAnchor(index);
   };
 
-  const selectAll = () => setSelected(new Set([...selected, ...fragments.map((f) => f.id)].slice(0, MAX_POOL)));
+  const selectAll = () =>
+    setSelected(new Set([...selected, ...fragments.map((f) => f.id)].slice(0, MAX_POOL)));
 
-  const run = () =>
+  const run = (target: ApplyRecipeBody) =>
     apply.mutate(
-      { recipeId: recipe.id, target: { fragmentIds: chosen } },
+      { recipeId: recipe.id, target },
       {
         onSuccess: (result) => {
           setBatchId(result.batch.id);
@@ -81,9 +85,16 @@ export function ApplyGrid({
       <div className="flex flex-wrap items-center gap-3 rounded-lg border border-paper-300 bg-white px-4 py-3">
         <span className="text-sm text-ink" aria-live="polite">
           <span className="figure font-semibold">{chosen.length}</span> selected
-          {hidden > 0 && <span className="text-ink-muted"> ({hidden} not shown by these filters)</span>}
+          {hidden > 0 && (
+            <span className="text-ink-muted"> ({hidden} not shown by these filters)</span>
+          )}
         </span>
-        <Button size="sm" variant="secondary" onClick={selectAll} disabled={allShown || fragments.length === 0}>
+        <Button
+          size="sm"
+          variant="secondary"
+          onClick={selectAll}
+          disabled={allShown || fragments.length === 0}
+        >
           Select all {fragments.length} matching
         </Button>
         {chosen.length > 0 && (
@@ -97,10 +108,31 @@ export function ApplyGrid({
               ? `All ${approved} are approved and will be re-rendered now.`
               : `${approved} approved will be re-rendered now; the rest get the recipe when approved.`)}
         </span>
-        <Button variant="primary" disabled={chosen.length === 0} busy={apply.isPending} onClick={run}>
+        <Button
+          variant="primary"
+          disabled={chosen.length === 0}
+          busy={apply.isPending}
+          onClick={() => run({ fragmentIds: chosen })}
+        >
           Apply v{recipe.version} to {plural(chosen.length, "fragment")}
         </Button>
       </div>
+      {scope && (
+        <p className="-mt-1 flex flex-wrap items-center gap-2 text-xs text-ink-muted">
+          Or use it for the whole {scope.kind}, {scope.name}: its fragments follow it from now on,
+          new ones included.
+          <Button
+            size="sm"
+            variant="secondary"
+            busy={apply.isPending}
+            onClick={() =>
+              run(scope.kind === "scan" ? { scanId: scope.id } : { intakeId: scope.id })
+            }
+          >
+            Use for the whole {scope.kind}
+          </Button>
+        </p>
+      )}
       {loading && fragments.length === 0 ? (
         <p className="flex items-center gap-2 text-sm text-ink-muted">
           <Spinner /> Loading fragments…
@@ -120,7 +152,9 @@ export function ApplyGrid({
                 <label
                   className={cn(
                     "group relative flex h-full cursor-pointer flex-col overflow-hidden rounded-lg border bg-paper-50 shadow-sheet",
-                    on ? "border-accent ring-2 ring-accent" : "border-paper-300 hover:border-ink-faint",
+                    on
+                      ? "border-accent ring-2 ring-accent"
+                      : "border-paper-300 hover:border-ink-faint",
                   )}
                 >
                   <input
@@ -141,17 +175,28 @@ export function ApplyGrid({
                     />
                   </span>
                   <span className="flex flex-col gap-0.5 px-2.5 py-2">
-                    <span className="truncate text-xs font-medium text-ink">{fragmentLabel(f)}</span>
+                    <span className="truncate text-xs font-medium text-ink">
+                      {fragmentLabel(f)}
+                    </span>
                     <span
                       className={cn(
                         "text-[11px]",
-                        f.status === "approved" ? "text-accent-strong" : f.status === "rejected" ? "text-brick" : "text-ochre",
+                        f.status === "approved"
+                          ? "text-accent-strong"
+                          : f.status === "rejected"
+                            ? "text-brick"
+                            : "text-ochre",
                       )}
                     >
                       {STATUS_TEXT[f.status]}
-                      {f.status === "approved" && f.renderState !== "done" && f.renderState !== "none" && (
-                        <span className="text-ink-muted"> · {f.renderState === "failed" ? "render failed" : "rendering"}</span>
-                      )}
+                      {f.status === "approved" &&
+                        f.renderState !== "done" &&
+                        f.renderState !== "none" && (
+                          <span className="text-ink-muted">
+                            {" "}
+                            · {f.renderState === "failed" ? "render failed" : "rendering"}
+                          </span>
+                        )}
                     </span>
                   </span>
                 </label>

@@ -41,7 +41,11 @@ export function BatchLine({ batch }: { batch: Batch }) {
 export function BatchRow({ batch, className }: { batch: Batch; className?: string }) {
   const finished = Boolean(batch.finishedAt);
   return (
-    <div className={cn("flex flex-col gap-1.5", className)} data-batch={batch.id} data-finished={finished}>
+    <div
+      className={cn("flex flex-col gap-1.5", className)}
+      data-batch={batch.id}
+      data-finished={finished}
+    >
       <div className="flex items-baseline justify-between gap-4">
         <span className="truncate text-sm font-medium text-ink">{batch.name}</span>
         <span

@@ -74,11 +74,19 @@ export function EditorHeader({
           )}
         </div>
         <p className="mt-1 text-sm text-ink-muted">
-          {usage ? `Used by ${usage}` : "Not used yet: apply it to an intake or to fragments."}
+          {recipe.studioDefault
+            ? `Colours every fragment with no recipe of its own${usage ? ` · used by ${usage}` : ""}`
+            : usage
+              ? `Used by ${usage}`
+              : "Not used yet: apply it to an intake or to fragments."}
         </p>
       </div>
       <div className="flex items-center gap-2">
-        <span role="status" className="mr-1 text-sm font-medium text-accent-strong" data-testid="save-status">
+        <span
+          role="status"
+          className="mr-1 text-sm font-medium text-accent-strong"
+          data-testid="save-status"
+        >
           {savedNote}
         </span>
         {!recipe.studioDefault && (

@@ -88,7 +88,9 @@ export function FragmentPicker({
               className="h-8 w-56 rounded-md border border-paper-300 bg-white px-2.5 text-sm placeholder:text-ink-faint"
             />
             <span className="text-xs text-ink-muted">
-              {full ? `Up to ${MAX_PREVIEWS} side by side: remove one to add another` : `Choose up to ${MAX_PREVIEWS}`}
+              {full
+                ? `Up to ${MAX_PREVIEWS} side by side: remove one to add another`
+                : `Choose up to ${MAX_PREVIEWS}`}
             </span>
           </div>
           {shown.length === 0 ? (
@@ -107,7 +109,9 @@ export function FragmentPicker({
                       title={`${fragmentLabel(f)}${f.status === "proposed" ? " (to review)" : ""}`}
                       className={cn(
                         "flex w-full flex-col items-stretch overflow-hidden rounded-md border bg-white text-left disabled:cursor-not-allowed disabled:opacity-50",
-                        on ? "border-accent ring-2 ring-accent" : "border-paper-300 hover:border-ink-faint",
+                        on
+                          ? "border-accent ring-2 ring-accent"
+                          : "border-paper-300 hover:border-ink-faint",
                       )}
                     >
                       <span className="flex h-16 items-center justify-center bg-[#e7e2d6] p-1">
@@ -122,7 +126,9 @@ export function FragmentPicker({
                         {fragmentLabel(f)}
                       </span>
                       {f.status === "proposed" && (
-                        <span className="px-1.5 pb-1 text-[10px] font-medium text-ochre">To review</span>
+                        <span className="px-1.5 pb-1 text-[10px] font-medium text-ochre">
+                          To review
+                        </span>
                       )}
                     </button>
                   </li>

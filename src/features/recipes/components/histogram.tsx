@@ -85,7 +85,16 @@ export function Histogram({ label, bins }: { label: string; bins: Bins }) {
           vectorEffect="non-scaling-stroke"
         />
         {[64, 128, 192].map((x) => (
-          <line key={x} x1={x} x2={x} y1={0} y2={HEIGHT} stroke="#2b2823" strokeOpacity={0.08} vectorEffect="non-scaling-stroke" />
+          <line
+            key={x}
+            x1={x}
+            x2={x}
+            y1={0}
+            y2={HEIGHT}
+            stroke="#2b2823"
+            strokeOpacity={0.08}
+            vectorEffect="non-scaling-stroke"
+          />
         ))}
       </svg>
     </figure>
@@ -97,7 +106,10 @@ export function HistogramLegend() {
     <p className="flex items-center gap-3 text-[11px] text-ink-muted" aria-hidden="true">
       {CHANNELS.map((c) => (
         <span key={c.key} className="inline-flex items-center gap-1">
-          <span className="size-2.5 rounded-sm" style={{ backgroundColor: c.colour, opacity: 0.6 }} />
+          <span
+            className="size-2.5 rounded-sm"
+            style={{ backgroundColor: c.colour, opacity: 0.6 }}
+          />
           {c.label}
         </span>
       ))}

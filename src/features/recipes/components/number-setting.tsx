@@ -33,7 +33,6 @@ function parseTyped(text: string): number | null {
   return Number.isFinite(value) ? value : null;
 }
 
-
 export interface NumberSettingProps {
   label: string;
   value: number;
@@ -99,7 +98,11 @@ export function NumberSetting({
     if (event.altKey || (event.key !== "ArrowUp" && event.key !== "ArrowDown")) return;
     event.preventDefault();
     const by = (event.key === "ArrowUp" ? 1 : -1) * step * (event.shiftKey ? 10 : 1);
-    const next = snap(Math.min(max, Math.max(min, (parseTyped(text) ?? value) + by)), step, decimals);
+    const next = snap(
+      Math.min(max, Math.max(min, (parseTyped(text) ?? value) + by)),
+      step,
+      decimals,
+    );
     setText(formatNumber(next, decimals));
     setSeen(next);
     setTypingError(null);

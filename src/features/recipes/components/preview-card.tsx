@@ -87,7 +87,12 @@ export function PreviewCard({
           )}
         </div>
       )}
-      <figcaption className={cn("flex min-w-0 gap-x-2 gap-y-0.5 text-xs", compact ? "flex-col" : "items-center")}>
+      <figcaption
+        className={cn(
+          "flex min-w-0 gap-x-2 gap-y-0.5 text-xs",
+          compact ? "flex-col" : "items-center",
+        )}
+      >
         <span className="flex min-w-0 items-center gap-2">
           <button
             type="button"
@@ -104,7 +109,10 @@ export function PreviewCard({
             </span>
           )}
         </span>
-        <span className={cn("figure shrink-0 text-ink-muted", !compact && "ml-auto")} aria-live="polite">
+        <span
+          className={cn("figure shrink-0 text-ink-muted", !compact && "ml-auto")}
+          aria-live="polite"
+        >
           {updating ? (
             <span className="inline-flex items-center gap-1.5">
               <Spinner className="size-3" /> Updating

@@ -30,7 +30,8 @@ const VIEWS: { value: PreviewView; label: string }[] = [
 /** Keys typed into a text field belong there. */
 function isTyping(target: EventTarget | null): boolean {
   if (!(target instanceof HTMLElement)) return false;
-  if (target.isContentEditable || target.tagName === "TEXTAREA" || target.tagName === "SELECT") return true;
+  if (target.isContentEditable || target.tagName === "TEXTAREA" || target.tagName === "SELECT")
+    return true;
   if (target.tagName !== "INPUT") return false;
   return !["range", "radio", "checkbox", "button"].includes((target as HTMLInputElement).type);
 }
@@ -76,7 +77,8 @@ export function PreviewPane({
       onPickingChange(false);
       return;
     }
-    if (isTyping(event.target) || (event.target as HTMLElement | null)?.closest?.("dialog[open]")) return;
+    if (isTyping(event.target) || (event.target as HTMLElement | null)?.closest?.("dialog[open]"))
+      return;
     if (event.key === "\\") {
       event.preventDefault();
       setView((v) => (v === "before" ? "after" : "before"));
@@ -134,20 +136,30 @@ export function PreviewPane({
       </div>
       <FragmentPicker candidates={candidates} selected={selected} onChange={onSelect} />
       {picking && (
-        <p className="rounded-md bg-accent-faint px-3 py-2 text-xs text-accent-strong" role="status">
+        <p
+          className="rounded-md bg-accent-faint px-3 py-2 text-xs text-accent-strong"
+          role="status"
+        >
           Click something on the before picture that should be neutral: the white of the paper, a
           grey. White balance is set from a 5 × 5 pixel average there.
         </p>
       )}
       {!valid && (
-        <p className="rounded-md bg-brick-soft px-3 py-2 text-xs font-medium text-brick" role="status">
+        <p
+          className="rounded-md bg-brick-soft px-3 py-2 text-xs font-medium text-brick"
+          role="status"
+        >
           The preview waits until every setting is valid: see the step marked in red.
         </p>
       )}
       <div
         className={cn(
           "grid items-start gap-3",
-          selected.length === 1 ? "grid-cols-1" : selected.length === 2 ? "grid-cols-2" : "grid-cols-3",
+          selected.length === 1
+            ? "grid-cols-1"
+            : selected.length === 2
+              ? "grid-cols-2"
+              : "grid-cols-3",
         )}
       >
         {selected.map((f) => (
@@ -205,7 +217,11 @@ function Histograms({
   several: boolean;
 }) {
   // The same query as the fragment's card: one request serves both.
-  const preview = useRecipePreview({ fragmentId: fragment.id, revision: fragment.revision, size }, steps, ready);
+  const preview = useRecipePreview(
+    { fragmentId: fragment.id, revision: fragment.revision, size },
+    steps,
+    ready,
+  );
   if (!preview.data) return null;
   const { histograms, clipping } = preview.data;
   return (

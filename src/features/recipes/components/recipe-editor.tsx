@@ -210,7 +210,12 @@ export function RecipeEditor({
                   <Button size="sm" variant="secondary" onClick={draft.undoRemove}>
                     Undo
                   </Button>
-                  <Button size="sm" variant="quiet" onClick={draft.dismissRemoved} aria-label="Dismiss">
+                  <Button
+                    size="sm"
+                    variant="quiet"
+                    onClick={draft.dismissRemoved}
+                    aria-label="Dismiss"
+                  >
                     ×
                   </Button>
                 </span>
@@ -244,7 +249,9 @@ export function RecipeEditor({
               current={recipe.version}
               onLoad={(stepsOf, version) => {
                 draft.load(stepsOf);
-                toast.info(`The steps of v${version} are in the editor. Save to make them v${recipe.version + 1}.`);
+                toast.info(
+                  `The steps of v${version} are in the editor. Save to make them v${recipe.version + 1}.`,
+                );
               }}
             />
           </Panel>

@@ -11,18 +11,31 @@ export function RecipesTable({ recipes }: { recipes: RecipeSummary[] }) {
     <table className="w-full text-sm">
       <thead>
         <tr className="border-b border-paper-200 text-left text-xs font-semibold tracking-wide whitespace-nowrap text-ink-muted">
-          <th scope="col" className="px-5 py-2.5">Recipe</th>
-          <th scope="col" className="px-3 py-2.5">Version</th>
-          <th scope="col" className="px-3 py-2.5">Steps</th>
-          <th scope="col" className="px-3 py-2.5">Where used</th>
-          <th scope="col" className="px-5 py-2.5 text-right">Changed</th>
+          <th scope="col" className="px-5 py-2.5">
+            Recipe
+          </th>
+          <th scope="col" className="px-3 py-2.5">
+            Version
+          </th>
+          <th scope="col" className="px-3 py-2.5">
+            Steps
+          </th>
+          <th scope="col" className="px-3 py-2.5">
+            Where used
+          </th>
+          <th scope="col" className="px-5 py-2.5 text-right">
+            Changed
+          </th>
         </tr>
       </thead>
       <tbody>
         {recipes.map((r) => {
           const usage = usageLine(r.usage);
           return (
-            <tr key={r.id} className="border-b border-paper-200 align-top last:border-0 hover:bg-paper-100">
+            <tr
+              key={r.id}
+              className="border-b border-paper-200 align-top last:border-0 hover:bg-paper-100"
+            >
               <td className="px-5 py-3">
                 <div className="flex flex-wrap items-center gap-2">
                   <Link
@@ -42,7 +55,9 @@ export function RecipesTable({ recipes }: { recipes: RecipeSummary[] }) {
                     </span>
                   )}
                 </div>
-                {r.description && <p className="mt-0.5 max-w-md text-xs text-ink-muted">{r.description}</p>}
+                {r.description && (
+                  <p className="mt-0.5 max-w-md text-xs text-ink-muted">{r.description}</p>
+                )}
               </td>
               <td className="figure px-3 py-3 text-ink-soft">v{r.version}</td>
               <td className="px-3 py-3">
@@ -67,7 +82,11 @@ export function RecipesTable({ recipes }: { recipes: RecipeSummary[] }) {
               </td>
               <td className="px-3 py-3 text-xs text-ink-soft">
                 {r.studioDefault && <p>Every fragment with no recipe of its own</p>}
-                {usage ? <p>{usage}</p> : !r.studioDefault && <p className="text-ink-muted">Not used yet</p>}
+                {usage ? (
+                  <p>{usage}</p>
+                ) : (
+                  !r.studioDefault && <p className="text-ink-muted">Not used yet</p>
+                )}
               </td>
               <td className="px-5 py-3 text-right text-xs whitespace-nowrap text-ink-muted">
                 <Ago iso={r.updatedAt} />

@@ -48,7 +48,10 @@ export function SplitView({
 
   const fraction = (event: PointerEvent) => {
     const box = frame.current!.getBoundingClientRect();
-    return { x: clamp((event.clientX - box.left) / box.width), y: clamp((event.clientY - box.top) / box.height) };
+    return {
+      x: clamp((event.clientX - box.left) / box.width),
+      y: clamp((event.clientY - box.top) / box.height),
+    };
   };
 
   const onPointerDown = (event: PointerEvent<HTMLDivElement>) => {
@@ -102,7 +105,10 @@ export function SplitView({
         "relative mx-auto touch-none overflow-hidden rounded bg-[#e7e2d6] select-none",
         picking ? "cursor-crosshair" : shown === "split" ? "cursor-ew-resize" : "",
       )}
-      style={{ width: `min(100%, calc(${maxHeight} * ${ratio}))`, aspectRatio: `${width} / ${height}` }}
+      style={{
+        width: `min(100%, calc(${maxHeight} * ${ratio}))`,
+        aspectRatio: `${width} / ${height}`,
+      }}
     >
       <img
         ref={beforeImage}
@@ -138,7 +144,14 @@ export function SplitView({
             className="pointer-events-auto absolute top-1/2 -left-3.5 flex size-7 -translate-y-1/2 cursor-ew-resize items-center justify-center rounded-full border border-paper-400 bg-white text-ink-soft shadow-md"
           >
             <svg viewBox="0 0 16 16" className="size-3.5" aria-hidden="true">
-              <path d="M6 4 2 8l4 4M10 4l4 4-4 4" fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinecap="round" strokeLinejoin="round" />
+              <path
+                d="M6 4 2 8l4 4M10 4l4 4-4 4"
+                fill="none"
+                stroke="currentColor"
+                strokeWidth="1.6"
+                strokeLinecap="round"
+                strokeLinejoin="round"
+              />
             </svg>
           </div>
         </div>

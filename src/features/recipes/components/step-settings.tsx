@@ -137,8 +137,17 @@ function TripleSettings({
       )}
       {onPickNeutral && (
         <div>
-          <Button size="sm" variant={picking ? "primary" : "secondary"} onClick={onPickNeutral} aria-pressed={picking}>
-            {picking ? "Click a neutral on the preview…" : value ? "Pick again on the preview" : "Pick on the preview"}
+          <Button
+            size="sm"
+            variant={picking ? "primary" : "secondary"}
+            onClick={onPickNeutral}
+            aria-pressed={picking}
+          >
+            {picking
+              ? "Click a neutral on the preview…"
+              : value
+                ? "Pick again on the preview"
+                : "Pick on the preview"}
           </Button>
         </div>
       )}

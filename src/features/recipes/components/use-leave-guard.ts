@@ -9,7 +9,8 @@ import { useBlocker } from "react-router-dom";
  */
 export function useLeaveGuard(dirty: boolean) {
   const blocker = useBlocker(
-    ({ currentLocation, nextLocation }) => dirty && currentLocation.pathname !== nextLocation.pathname,
+    ({ currentLocation, nextLocation }) =>
+      dirty && currentLocation.pathname !== nextLocation.pathname,
   );
   useEffect(() => {
     if (!dirty) return;

@@ -51,7 +51,13 @@ export function useRecipeDraft(recipe: RecipeSummary) {
       setSteps((list) => list.map((d) => (d.key === key ? { ...d, step } : d)));
     },
     move(key: string, by: -1 | 1) {
-      setSteps((list) => moved(list, list.findIndex((d) => d.key === key), by));
+      setSteps((list) =>
+        moved(
+          list,
+          list.findIndex((d) => d.key === key),
+          by,
+        ),
+      );
     },
     add(type: StepType) {
       const item = addedStep(type);

@@ -1,0 +1,91 @@
+import { Router } from "express";
+import { ZipArchive } from "archiver";
+import { API } from "../../../shared/api";
+import { handle } from "../define";
+import { conflict } from "../../errors";
+import { batchDetail, batchFiles, cancelBatch, createOutputBatch, estimateBatch, listBatches, rerunBatch, retryFailed } from "../../services/output-batches";
+import { getBatch } from "../../services/batches";
+import type { AppDeps } from "../../app";
+
+/** The caution that travels with a listing pack (see the product brief). */
+export const RIGHTS_NOTICE = `Before you sell or publish these images
+
+Pieces cut from printed publications (magazines, books, packaging, posters) may still be under
+copyright, even when cut up and collaged. Check the rights and licences for each source under
+the law where you sell or publish, and keep a note of what you checked.
+`;
+
+function csvCell(v: unknown): string {
+  const s = v === null || v === undefined ? "" : String(v);
+  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+export function batchesRouter({ database, boss, library }: AppDeps): Router {
+  const router = Router();
+  const { db } = database;
+  handle(router, API.batchesList, async () => ({ batches: await listBatches(db) }));
+  handle(router, API.batchesEstimate, ({ body }) => estimateBatch(db, body));
+  handle(router, API.batchesCreate, async ({ body, user, res, req }) => {
+    const batch = await createOutputBatch(database, boss, user.id, body);
+    req.log.info({ batchId: batch.id, total: batch.counts.total }, "batch started");
+    res.status(201);
+    return { batch };
+  });
+  handle(router, API.batchesGet, ({ params }) => batchDetail(db, params.id));
+  handle(router, API.batchesRetry, async ({ params }) => ({ batch: await retryFailed(database, boss, params.id) }));
+  handle(router, API.batchesCancel, async ({ params }) => ({ batch: await cancelBatch(db, params.id) }));
+  handle(router, API.batchesRerun, async ({ params, body, user, res }) => {
+    const batch = await rerunBatch(database, boss, user.id, params.id, body);
+    res.status(201);
+    return { batch };
+  });
+
+  // A zip streamed straight to the response (never built in memory), with a CSV of every output.
+  handle(router, API.batchesDownload, async ({ params, query, res }) => {
+    const batch = await getBatch(db, params.id);
+    const { detail, files } = await batchFiles(db, params.id);
+    if (!files.length) throw conflict("Nothing in this batch is made yet, so there is nothing to download.");
+    const byItem = new Map(detail.items.map((i) => [i.id, i]));
+    const safe = batch.name.replace(/[^\w.-]+/g, "-").slice(0, 60) || "batch";
+    res.attachment(`${safe}.zip`);
+    const zip = new ZipArchive({ zlib: { level: 6 } });
+    zip.pipe(res);
+    const header = ["title", "scan", "fragment", "preset", "file", "width_px", "height_px", "printed_width_in", "printed_height_in", "printed_width_cm", "printed_height_cm", "effective_dpi", "warnings", "sha256"];
+    const lines = [header.join(",")];
+    const { createHash } = await import("node:crypto");
+    const { createReadStream } = await import("node:fs");
+    for (const f of files) {
+      const item = byItem.get(f.itemId)!;
+      const name = item.fileName ?? `${f.itemId}.${f.format}`;
+      const file = library.pathFor(f.key);
+      const hash = createHash("sha256");
+      for await (const chunk of createReadStream(file)) hash.update(chunk as Buffer);
+      zip.file(file, { name });
+      const p = item.printedIn;
+      lines.push(
+        [
+          item.fragmentTitle,
+          item.scanName,
+          item.position,
+          item.preset,
+          name,
+          item.pixelWidth,
+          item.pixelHeight,
+          p ? p.width.toFixed(3) : "",
+          p ? p.height.toFixed(3) : "",
+          p ? (p.width * 2.54).toFixed(2) : "",
+          p ? (p.height * 2.54).toFixed(2) : "",
+          item.effectiveDpi ? Math.round(item.effectiveDpi) : "",
+          item.warnings.join("; "),
+          hash.digest("hex"),
+        ]
+          .map(csvCell)
+          .join(","),
+      );
+    }
+    zip.append(lines.join("\n") + "\n", { name: "outputs.csv" });
+    if (query.pack === "listing") zip.append(RIGHTS_NOTICE, { name: "RIGHTS-NOTICE.txt" });
+    await zip.finalize();
+  });
+  return router;
+}

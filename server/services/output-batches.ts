@@ -1,0 +1,186 @@
+import { and, desc, eq, inArray, isNull, sql, type SQL } from "drizzle-orm";
+import type PgBoss from "pg-boss";
+import type { Database, Db } from "../db";
+import { batchItems, batches, fragments, outputs, presetVersions, presets, scans } from "../db/schema";
+import { withTx } from "../db/tx";
+import { QUEUES } from "../jobs/queues";
+import { badRequest, conflict, notFound } from "../errors";
+import { getBatch } from "./batches";
+import { presetsForRun } from "./presets";
+import { recipeVersionFor } from "./recipes";
+import type { CreateBatchBody } from "../../shared/schemas/preset-api";
+import type { Preset } from "../../shared/schemas/presets";
+import { outputFileName } from "../presenters/fragment";
+
+/** The approved fragments a selection names. Batches make copies of approved work only. */
+export async function selectFragments(db: Db, selection: CreateBatchBody["selection"]) {
+  const where: (SQL | undefined)[] = [eq(fragments.status, "approved"), isNull(fragments.mergedInto)];
+  if (selection.fragmentIds) where.push(inArray(fragments.id, selection.fragmentIds));
+  const f = selection.filter;
+  if (f?.scanId) where.push(eq(fragments.scanId, f.scanId));
+  if (f?.intakeId) where.push(sql`${fragments.scanId} in (select id from scans where intake_id = ${f.intakeId})`);
+  if (f?.tag) where.push(sql`${f.tag} = any(${fragments.tags})`);
+  if (f?.shape) where.push(eq(fragments.shape, f.shape));
+  if (f?.q) {
+    const like = `%${f.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
+    where.push(sql`(${fragments.title} ilike ${like} or exists (select 1 from scans s where s.id = ${fragments.scanId} and s.original_name ilike ${like}))`);
+  }
+  return db.select({ id: fragments.id, revision: fragments.revision }).from(fragments).where(and(...where));
+}
+
+export const dedupeKey = (fragmentId: string, revision: number, recipeVersionId: string, presetVersionId: string) =>
+  `${fragmentId}:r${revision}:${recipeVersionId}:${presetVersionId}`;
+
+/** A rough size per output, for the estimate (bytes); real sizes are reported once made. */
+function roughBytes(p: Preset): number {
+  switch (p.kind) {
+    case "web":
+      return 600_000;
+    case "mockup":
+      return 900_000;
+    case "print":
+      return p.output === "pdf" ? 3_000_000 : 25_000_000;
+    default:
+      return 60_000_000;
+  }
+}
+
+export async function estimateBatch(db: Db, body: CreateBatchBody) {
+  const picked = await selectFragments(db, body.selection);
+  const list = await presetsForRun(db, body.presetIds);
+  let reused = 0;
+  let expectedBytes = 0;
+  for (const f of picked) {
+    const recipe = await recipeVersionFor(db, f.id);
+    for (const p of list) {
+      const [made] = await db.select({ id: outputs.id }).from(outputs).where(eq(outputs.dedupeKey, dedupeKey(f.id, f.revision, recipe.id, p.versionId)));
+      if (made) reused++;
+      else expectedBytes += roughBytes(p.settings);
+    }
+  }
+  const warnings = picked.length === 0 ? ["No approved fragment matches this selection."] : [];
+  return { fragments: picked.length, presets: list.length, outputs: picked.length * list.length, reused, expectedBytes, warnings };
+}
+
+/** Records a batch of fragments × presets and queues one output job per pair, in one transaction. */
+export async function createOutputBatch(
+  database: Database,
+  boss: PgBoss,
+  actorId: string,
+  body: CreateBatchBody,
+  rerun?: { of: string; replaceOld: boolean },
+) {
+  const picked = await selectFragments(database.db, body.selection);
+  if (!picked.length) throw badRequest("No approved fragment matches this selection.", "selection");
+  const list = await presetsForRun(database.db, body.presetIds);
+  const id = await withTx(database, boss, async (tx) => {
+    const name = body.name?.trim() || `${list.map((p) => p.name).join(" + ")} × ${picked.length} ${picked.length === 1 ? "fragment" : "fragments"}`;
+    const [batch] = await tx.db
+      .insert(batches)
+      .values({ name, kind: "outputs", createdBy: actorId, rerunOf: rerun?.of ?? null, replaceOld: rerun?.replaceOld ?? false })
+      .returning();
+    for (const f of picked) {
+      for (const p of list) {
+        const [item] = await tx.db.insert(batchItems).values({ batchId: batch!.id, fragmentId: f.id, presetVersionId: p.versionId }).returning({ id: batchItems.id });
+        await tx.send(QUEUES.output, { batchItemId: item!.id });
+      }
+    }
+    await tx.notify({ kind: "worker" });
+    return batch!.id;
+  });
+  return getBatch(database.db, id);
+}
+
+export async function batchDetail(db: Db, id: string) {
+  const batch = await getBatch(db, id);
+  const rows = await db
+    .select({ item: batchItems, fragment: fragments, scanName: scans.originalName, presetName: presets.name, output: outputs })
+    .from(batchItems)
+    .innerJoin(fragments, eq(fragments.id, batchItems.fragmentId))
+    .innerJoin(scans, eq(scans.id, fragments.scanId))
+    .leftJoin(presetVersions, eq(presetVersions.id, batchItems.presetVersionId))
+    .leftJoin(presets, eq(presets.id, presetVersions.presetId))
+    .leftJoin(outputs, eq(outputs.id, batchItems.outputId))
+    .where(eq(batchItems.batchId, id))
+    .orderBy(scans.originalName, fragments.position, presets.name);
+  return {
+    batch,
+    items: rows.map((r) => ({
+      id: r.item.id,
+      fragmentId: r.fragment.id,
+      fragmentTitle: r.fragment.title,
+      scanName: r.scanName,
+      position: r.fragment.position,
+      preset: r.presetName ?? (batch.kind === "recipe" ? "master + web" : "?"),
+      state: r.item.state,
+      error: r.item.error,
+      fileName: r.output ? outputFileName(r.scanName, r.fragment.position, r.presetName ?? r.output.kind, r.output.format) : null,
+      pixelWidth: r.output?.width ?? null,
+      pixelHeight: r.output?.height ?? null,
+      printedIn: r.output?.report?.printedIn ?? null,
+      effectiveDpi: r.output?.report?.effectiveDpi ?? null,
+      warnings: r.output?.report?.warnings ?? [],
+      bytes: r.output?.bytes ?? null,
+    })),
+  };
+}
+
+export async function listBatches(db: Db) {
+  const rows = await db.select({ id: batches.id }).from(batches).orderBy(desc(batches.createdAt)).limit(100);
+  return Promise.all(rows.map((r) => getBatch(db, r.id)));
+}
+
+/** Queues the failed items of a batch again. */
+export async function retryFailed(database: Database, boss: PgBoss, id: string) {
+  await getBatch(database.db, id);
+  await withTx(database, boss, async (tx) => {
+    const failed = await tx.db
+      .update(batchItems)
+      .set({ state: "queued", error: null, updatedAt: new Date() })
+      .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "failed")))
+      .returning();
+    if (!failed.length) throw conflict("Nothing in this batch has failed.");
+    for (const item of failed) {
+      if (item.presetVersionId) await tx.send(QUEUES.output, { batchItemId: item.id });
+      else await tx.send(QUEUES.render, { fragmentId: item.fragmentId, revision: (await tx.db.select({ r: fragments.revision }).from(fragments).where(eq(fragments.id, item.fragmentId)))[0]!.r, batchItemId: item.id });
+    }
+    await tx.db.update(batches).set({ finishedAt: null, updatedAt: new Date() }).where(eq(batches.id, id));
+    await tx.notify({ kind: "worker" });
+  });
+  return getBatch(database.db, id);
+}
+
+/** Stops what has not started: queued items are cancelled (their jobs find them so and do nothing). */
+export async function cancelBatch(db: Db, id: string) {
+  await getBatch(db, id);
+  await db.update(batchItems).set({ state: "cancelled", updatedAt: new Date() }).where(and(eq(batchItems.batchId, id), eq(batchItems.state, "queued")));
+  const [open] = await db.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, id), eq(batchItems.state, "running")));
+  if (!open?.n) await db.update(batches).set({ finishedAt: new Date(), updatedAt: new Date() }).where(and(eq(batches.id, id), isNull(batches.finishedAt)));
+  return getBatch(db, id);
+}
+
+/** The same fragments again, with other presets (or the newest versions of the same ones). */
+export async function rerunBatch(database: Database, boss: PgBoss, actorId: string, id: string, body: { presetIds?: string[]; replaceOld: boolean }) {
+  const [old] = await database.db.select().from(batches).where(eq(batches.id, id));
+  if (!old) throw notFound("That batch");
+  const items = await database.db.select().from(batchItems).where(eq(batchItems.batchId, id));
+  const fragmentIds = [...new Set(items.map((i) => i.fragmentId))];
+  let presetIds = body.presetIds;
+  if (!presetIds) {
+    const versions = await database.db.select({ presetId: presetVersions.presetId }).from(presetVersions).where(inArray(presetVersions.id, items.map((i) => i.presetVersionId!).filter(Boolean)));
+    presetIds = [...new Set(versions.map((v) => v.presetId))];
+  }
+  if (!presetIds.length) throw conflict("This batch made no preset outputs to run again.");
+  return createOutputBatch(database, boss, actorId, { name: `${old.name} (again)`, selection: { fragmentIds }, presetIds }, { of: id, replaceOld: body.replaceOld });
+}
+
+/** Keys and names of a finished batch's files, for the zip. */
+export async function batchFiles(db: Db, id: string) {
+  const detail = await batchDetail(db, id);
+  const rows = await db
+    .select({ itemId: batchItems.id, key: outputs.key, format: outputs.format })
+    .from(batchItems)
+    .innerJoin(outputs, eq(outputs.id, batchItems.outputId))
+    .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "done")));
+  return { detail, files: rows };
+}

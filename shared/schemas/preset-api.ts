@@ -1,0 +1,91 @@
+import { z } from "zod";
+import { presetSchema } from "./presets";
+import { batchSchema } from "./recipe-api";
+import { fragmentShapeSchema, fragmentStatusSchema } from "./fragments";
+
+/** A preset as the API shows it: its newest version's settings. */
+export const presetSummarySchema = z.object({
+  id: z.string(),
+  name: z.string(),
+  kind: z.enum(["master", "web", "print", "mockup"]),
+  builtIn: z.boolean(),
+  version: z.number(),
+  versionId: z.string(),
+  settings: presetSchema,
+  updatedAt: z.string(),
+});
+export type PresetSummary = z.infer<typeof presetSummarySchema>;
+export const presetListResponse = z.object({ presets: z.array(presetSummarySchema) });
+export const presetResponse = z.object({
+  preset: presetSummarySchema,
+  versions: z.array(z.object({ id: z.string(), version: z.number(), createdAt: z.string() })),
+});
+
+export const createPresetBody = z.object({ name: z.string().trim().min(1).max(80), settings: presetSchema });
+/** New settings make a new version; the old outputs keep pointing at the version that made them. */
+export const updatePresetBody = z
+  .object({ name: z.string().trim().min(1).max(80).optional(), settings: presetSchema.optional() })
+  .refine((b) => b.name !== undefined || b.settings !== undefined, { error: "Expected name or settings" });
+
+/** Which fragments a batch covers: picked ids, or everything matching a filter (approved only). */
+export const fragmentSelectionSchema = z
+  .object({
+    fragmentIds: z.array(z.uuid({ error: "Expected fragment ids in UUID form" })).min(1).max(5000).optional(),
+    filter: z
+      .object({
+        intakeId: z.uuid().optional(),
+        scanId: z.uuid().optional(),
+        tag: z.string().trim().min(1).max(40).optional(),
+        shape: fragmentShapeSchema.optional(),
+        status: fragmentStatusSchema.optional(),
+        q: z.string().trim().max(200).optional(),
+      })
+      .optional(),
+  })
+  .refine((b) => (b.fragmentIds ? 1 : 0) + (b.filter ? 1 : 0) === 1, { error: "Expected either fragmentIds or filter" });
+
+export const createBatchBody = z.object({
+  name: z.string().trim().max(120).optional(),
+  selection: fragmentSelectionSchema,
+  presetIds: z.array(z.uuid({ error: "Expected preset ids in UUID form" })).min(1, { error: "Pick at least one preset" }).max(20),
+});
+export type CreateBatchBody = z.infer<typeof createBatchBody>;
+
+export const estimateResponse = z.object({
+  fragments: z.number(),
+  presets: z.number(),
+  outputs: z.number(),
+  /** Outputs already made with the same fragment, recipe version and preset version: reused, not made again. */
+  reused: z.number(),
+  /** Rough total size of the new files, in bytes. */
+  expectedBytes: z.number(),
+  warnings: z.array(z.string()),
+});
+
+/** Run the same fragments again with other presets (e.g. a new size); old outputs go once the new ones are made, if asked. */
+export const rerunBatchBody = z.object({
+  presetIds: z.array(z.uuid()).min(1).max(20).optional(),
+  replaceOld: z.boolean().default(false),
+});
+
+export const batchOutputSchema = z.object({
+  id: z.string(),
+  fragmentId: z.string(),
+  fragmentTitle: z.string().nullable(),
+  scanName: z.string(),
+  position: z.number(),
+  preset: z.string(),
+  state: z.enum(["queued", "running", "done", "failed", "cancelled"]),
+  error: z.string().nullable(),
+  fileName: z.string().nullable(),
+  pixelWidth: z.number().nullable(),
+  pixelHeight: z.number().nullable(),
+  printedIn: z.object({ width: z.number(), height: z.number() }).nullable(),
+  effectiveDpi: z.number().nullable(),
+  warnings: z.array(z.string()),
+  bytes: z.number().nullable(),
+});
+export const batchDetailResponse = z.object({ batch: batchSchema, items: z.array(batchOutputSchema) });
+export const batchListResponse = z.object({ batches: z.array(batchSchema) });
+
+export const batchDownloadQuery = z.object({ pack: z.enum(["plain", "listing"]).default("plain") });

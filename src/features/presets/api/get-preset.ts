@@ -1,0 +1,23 @@
+import { queryOptions, useQuery } from "@tanstack/react-query";
+import type { z } from "zod";
+import { API } from "../../../../shared/api";
+import { presetResponse } from "../../../../shared/schemas/preset-api";
+import { apiRequest } from "../../../lib/api-client";
+import { presetKeys } from "./keys";
+
+export type PresetDetail = z.infer<typeof presetResponse>;
+
+export function getPreset(id: string, signal?: AbortSignal): Promise<PresetDetail> {
+  return apiRequest(API.presetsGet, { params: { id }, schema: presetResponse, signal });
+}
+
+export const presetQueryOptions = (id: string) =>
+  queryOptions({
+    queryKey: presetKeys.detail(id),
+    queryFn: ({ signal }) => getPreset(id, signal),
+    retry: (count, error) => !("status" in error && error.status === 404) && count < 2,
+  });
+
+export function usePreset(id: string) {
+  return useQuery(presetQueryOptions(id));
+}

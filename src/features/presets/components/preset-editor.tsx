@@ -1,0 +1,230 @@
+import { useMemo, useState, type FormEvent } from "react";
+import { Link, useNavigate } from "react-router-dom";
+import { presetSchema, type Preset } from "../../../../shared/schemas/presets";
+import { Ago } from "../../../components/ago";
+import { Button } from "../../../components/button";
+import { SelectField, TextField } from "../../../components/field";
+import { Notice } from "../../../components/notice";
+import { PageHeader, Panel } from "../../../components/panel";
+import { paths } from "../../../config/paths";
+import { serverErrorFor } from "../../../lib/form-errors";
+import { toast } from "../../../lib/toast";
+import { useCreatePreset } from "../api/create-preset";
+import type { PresetDetail } from "../api/get-preset";
+import { sampleThumbUrl, useSampleFragments } from "../api/get-sample-fragments";
+import { useUpdatePreset } from "../api/update-preset";
+import { KIND_HINTS, KIND_LABELS, presetLine } from "../format";
+import { INVENTED_PIECE, type SamplePiece } from "../print-layout";
+import { MasterFields } from "./master-fields";
+import { MockupFields } from "./mockup-fields";
+import { MockupPicture } from "./mockup-picture";
+import { PrintFields } from "./print-fields";
+import { PrintPicture } from "./print-picture";
+import { WebFields } from "./web-fields";
+import { WebPicture } from "./web-picture";
+
+/** Every problem of the draft by its path ("size.longEdge"), first message each. */
+function problemsOf(draft: Preset): { ok: boolean; errors: Record<string, string> } {
+  const parsed = presetSchema.safeParse(draft);
+  if (parsed.success) return { ok: true, errors: {} };
+  const errors: Record<string, string> = {};
+  for (const issue of parsed.error.issues) {
+    const key = issue.path.join(".");
+    errors[key] ??= issue.message;
+  }
+  return { ok: false, errors };
+}
+
+const fragmentName = (f: { title: string | null; scanName: string; position: number }) =>
+  f.title?.trim() || `${f.scanName.replace(/\.[^.]+$/, "")} · ${f.position}`;
+
+/**
+ * One preset's settings, with a picture of what it makes beside them: the page drawn to scale for
+ * print, the box for web, the framed wall for mock-ups, tried on an approved fragment. Saving new
+ * settings makes a new version; a new preset opens here once saved.
+ */
+export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: Preset }) {
+  const navigate = useNavigate();
+  const create = useCreatePreset();
+  const update = useUpdatePreset();
+  const [draft, setDraft] = useState<Preset>(start);
+  const [formError, setFormError] = useState<string | null>(null);
+  const [sampleId, setSampleId] = useState<string>("");
+  const samples = useSampleFragments();
+
+  const { ok, errors } = useMemo(() => problemsOf(draft), [draft]);
+  const saved = detail?.preset;
+  const dirty = !saved || JSON.stringify(saved.settings) !== JSON.stringify(draft);
+  const busy = create.isPending || update.isPending;
+
+  const sampleList = samples.data ?? [];
+  const chosen = sampleList.find((f) => f.id === sampleId) ?? (sampleId === "" ? sampleList[0] : undefined);
+  const piece: SamplePiece = chosen
+    ? {
+        widthPx: Math.round(chosen.rect.width),
+        heightPx: Math.round(chosen.rect.height),
+        dpi: chosen.dpi.x,
+        title: fragmentName(chosen),
+        imageUrl: sampleThumbUrl(chosen),
+      }
+    : INVENTED_PIECE;
+
+  const save = (event: FormEvent) => {
+    event.preventDefault();
+    setFormError(null);
+    const parsed = presetSchema.safeParse(draft);
+    if (!parsed.success) {
+      setFormError("Some settings are out of range: see the messages beside them.");
+      return;
+    }
+    const onError = (error: unknown) => setFormError(serverErrorFor(error, []).message);
+    if (!saved) {
+      create.mutate(
+        { name: parsed.data.name, settings: parsed.data },
+        {
+          onSuccess: (d) => {
+            toast.success(`Saved ${d.preset.name} (version ${d.preset.version}).`);
+            navigate(paths.preset(d.preset.id), { replace: true });
+          },
+          onError,
+        },
+      );
+    } else {
+      update.mutate(
+        { id: saved.id, name: parsed.data.name !== saved.name ? parsed.data.name : undefined, settings: parsed.data },
+        {
+          onSuccess: (d) => {
+            setDraft(d.preset.settings);
+            toast.success(`Saved ${d.preset.name}: now version ${d.preset.version}.`);
+          },
+          onError,
+        },
+      );
+    }
+  };
+
+  const fields = (() => {
+    switch (draft.kind) {
+      case "print":
+        return <PrintFields p={draft} set={setDraft} errors={errors} />;
+      case "web":
+        return <WebFields p={draft} set={setDraft} errors={errors} />;
+      case "mockup":
+        return <MockupFields p={draft} set={setDraft} errors={errors} />;
+      case "master":
+        return <MasterFields p={draft} set={setDraft} errors={errors} />;
+    }
+  })();
+
+  const picture = (() => {
+    switch (draft.kind) {
+      case "print":
+        return <PrintPicture preset={draft} piece={piece} />;
+      case "web":
+        return <WebPicture preset={draft} piece={piece} />;
+      case "mockup":
+        return <MockupPicture preset={draft} piece={piece} />;
+      case "master":
+        return (
+          <p className="text-sm text-ink-soft">
+            The master keeps every scanned pixel:{" "}
+            <span className="figure text-ink">
+              {piece.widthPx} × {piece.heightPx} px at {piece.dpi} DPI
+            </span>{" "}
+            for this piece.
+          </p>
+        );
+    }
+  })();
+
+  return (
+    <form onSubmit={save} noValidate aria-label={`${KIND_LABELS[draft.kind]} preset`}>
+      <PageHeader
+        title={saved ? saved.name : `New ${KIND_LABELS[draft.kind].toLowerCase()} preset`}
+        description={
+          <>
+            {KIND_HINTS[draft.kind]}.{" "}
+            {saved ? `Version ${saved.version}; saving new settings makes version ${saved.version + 1}.` : "Saved as version 1."}{" "}
+            <Link to={paths.presets} className="font-medium text-accent underline underline-offset-2">
+              All presets
+            </Link>
+          </>
+        }
+        actions={
+          <>
+            {saved && dirty && (
+              <Button variant="quiet" onClick={() => setDraft(saved.settings)} disabled={busy}>
+                Undo changes
+              </Button>
+            )}
+            <Button type="submit" variant="primary" busy={busy} disabled={!ok || !dirty}>
+              {saved ? "Save as new version" : "Save preset"}
+            </Button>
+          </>
+        }
+      />
+      {formError && (
+        <Notice tone="error" className="mb-5">
+          {formError}
+        </Notice>
+      )}
+      <div className="grid grid-cols-1 items-start gap-6 lg:grid-cols-[minmax(0,1fr)_minmax(0,1.05fr)]">
+        <Panel title="Settings" titleId="preset-settings">
+          <div className="flex flex-col gap-4">
+            <TextField
+              label="Name"
+              value={draft.name}
+              autoComplete="off"
+              error={errors["name"]}
+              onChange={(e) => setDraft({ ...draft, name: e.target.value })}
+            />
+            {saved?.builtIn && (
+              <p className="-mt-2 text-[11px] text-ink-muted">A built-in preset: your edits are the studio's own copy.</p>
+            )}
+            {fields}
+          </div>
+        </Panel>
+        <div className="flex flex-col gap-6 lg:sticky lg:top-6">
+          <Panel
+            title="What it makes"
+            titleId="preset-picture"
+            actions={
+              <SelectField
+                label={<span className="sr-only">Try on</span>}
+                value={chosen?.id ?? "invented"}
+                onChange={(e) => setSampleId(e.target.value)}
+                fieldClassName="w-60"
+                className="h-8 text-xs"
+              >
+                {sampleList.map((f) => (
+                  <option key={f.id} value={f.id}>
+                    Try on: {fragmentName(f)}
+                  </option>
+                ))}
+                <option value="invented">Try on: an invented 5 × 7 in piece</option>
+              </SelectField>
+            }
+          >
+            {picture}
+            <p className="mt-3 border-t border-paper-200 pt-2 text-[11px] text-ink-muted">
+              {ok ? presetLine(draft) : "Fix the settings marked in the form to see the summary."}
+            </p>
+          </Panel>
+          {detail && detail.versions.length > 0 && (
+            <Panel title="Versions" titleId="preset-versions">
+              <ol className="flex flex-col gap-1 text-xs">
+                {detail.versions.map((v) => (
+                  <li key={v.id} className="flex justify-between gap-3 text-ink-soft">
+                    <span className="figure font-medium text-ink">v{v.version}</span>
+                    <Ago iso={v.createdAt} />
+                  </li>
+                ))}
+              </ol>
+              <p className="mt-2 text-[11px] text-ink-muted">Outputs keep pointing at the version that made them.</p>
+            </Panel>
+          )}
+        </div>
+      </div>
+    </form>
+  );
+}

@@ -1,0 +1,100 @@
+import fs from "node:fs/promises";
+import path from "node:path";
+import { and, eq } from "drizzle-orm";
+import type { Database } from "../../server/db";
+import { batchItems, fragments, outputs, presetVersions, scans } from "../../server/db/schema";
+import { notify } from "../../server/services/events";
+import { settleBatchItem } from "../../server/services/batches";
+import { dedupeKey } from "../../server/services/output-batches";
+import type { Library } from "../../server/storage/library";
+import type { Logger } from "../../server/logger";
+import type { Config } from "../../server/config";
+import { outputPayload } from "../../shared/schemas/jobs";
+import { presetSchema } from "../../shared/schemas/presets";
+import { isOutputError, outputExtension, renderOutput } from "../pipeline/output";
+import type { JobContext } from "./context";
+
+export interface OutputDeps {
+  database: Database;
+  library: Library;
+  config: Config;
+  log: Logger;
+}
+
+/**
+ * Makes one batch item: a preset's output from the fragment's master. The same fragment revision,
+ * recipe version and preset version give the same file, made once and reused. Waits (by retrying)
+ * for a master that is still being rendered; a cancelled item does nothing.
+ */
+export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext): Promise<void> {
+  const { batchItemId } = outputPayload.parse(data);
+  const { db, pool } = deps.database;
+  const log = deps.log.child({ jobId: ctx.jobId, batchItemId });
+  const [item] = await db.select().from(batchItems).where(eq(batchItems.id, batchItemId));
+  if (!item || item.state === "cancelled" || item.state === "done") return;
+  const fail = async (message: string) => {
+    await settleBatchItem(db, batchItemId, "failed", message);
+    await notify(pool, { kind: "worker" });
+    log.warn({ reason: message }, "output: failed");
+  };
+  const [f] = await db.select().from(fragments).where(eq(fragments.id, item.fragmentId));
+  const [pv] = await db.select().from(presetVersions).where(eq(presetVersions.id, item.presetVersionId!));
+  if (!f || !pv) return fail("The fragment or the preset is gone.");
+  if (f.status !== "approved") return fail("The fragment is no longer approved.");
+  const [master] = await db.select().from(outputs).where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
+  if (!master || f.renderState !== "done" || master.revision !== f.revision) {
+    const last = ctx.retryCount >= ctx.retryLimit;
+    if (last) return fail("The fragment's master is not rendered; approve it again or retry once its render is done.");
+    throw new Error("waiting for the fragment's master to be rendered");
+  }
+  await settleBatchItem(db, batchItemId, "running");
+  const key = dedupeKey(f.id, f.revision, master.recipeVersionId ?? "none", pv.id);
+  const [made] = await db.select().from(outputs).where(eq(outputs.dedupeKey, key));
+  if (made && (await deps.library.exists(made.key))) {
+    await db.update(batchItems).set({ outputId: made.id }).where(eq(batchItems.id, batchItemId));
+    await settleBatchItem(db, batchItemId, "done");
+    await notify(pool, { kind: "worker" });
+    return log.info("output: reused");
+  }
+  const preset = presetSchema.parse(pv.settings);
+  const [scan] = await db.select({ name: scans.originalName }).from(scans).where(eq(scans.id, f.scanId));
+  const fileKey = `outputs/${f.id}/${pv.id}-r${f.revision}-${(master.recipeVersionId ?? "none").slice(0, 8)}.${outputExtension(preset)}`;
+  const target = deps.library.pathFor(fileKey);
+  await fs.mkdir(path.dirname(target), { recursive: true });
+  try {
+    const report = await renderOutput(
+      { master: deps.library.pathFor(master.key), dpi: master.dpi, title: f.title ?? `${scan?.name ?? "scan"} #${f.position}`, shape: f.shape, maxPixels: deps.config.maxPixels },
+      preset,
+      { path: target },
+    );
+    const [row] = await db
+      .insert(outputs)
+      .values({
+        fragmentId: f.id,
+        kind: "preset",
+        key: fileKey,
+        format: report.format,
+        width: report.pixelWidth,
+        height: report.pixelHeight,
+        bitDepth: 8,
+        hasAlpha: false,
+        dpi: report.effectiveDpi ?? master.dpi,
+        bytes: report.bytes,
+        revision: f.revision,
+        recipeVersionId: master.recipeVersionId,
+        presetVersionId: pv.id,
+        dedupeKey: key,
+        report: { printedIn: report.printedIn, effectiveDpi: report.effectiveDpi, warnings: report.warnings },
+      })
+      .onConflictDoUpdate({ target: outputs.dedupeKey, set: { key: fileKey, bytes: report.bytes, updatedAt: new Date() } })
+      .returning({ id: outputs.id });
+    await db.update(batchItems).set({ outputId: row!.id }).where(eq(batchItems.id, batchItemId));
+    await settleBatchItem(db, batchItemId, "done");
+    await notify(pool, { kind: "worker" });
+    log.info({ preset: preset.kind, warnings: report.warnings }, "output: made");
+  } catch (err) {
+    if (isOutputError(err) && err.code !== "failed") return fail((err as Error).message);
+    if (ctx.retryCount >= ctx.retryLimit) await fail((err as Error).message);
+    throw err;
+  }
+}
