@@ -1,9 +1,14 @@
 import { createBrowserRouter } from "react-router-dom";
 import { paths } from "../config/paths";
 import { ProtectedLayout } from "./layout/protected-layout";
+import { BatchRoute } from "./routes/batch";
+import { BatchNewRoute } from "./routes/batch-new";
+import { BatchesRoute } from "./routes/batches";
 import { FragmentRoute } from "./routes/fragment";
 import { HomeRoute } from "./routes/home";
 import { NotFoundRoute } from "./routes/not-found";
+import { PresetNewRoute, PresetRoute } from "./routes/preset";
+import { PresetsRoute } from "./routes/presets";
 import { QueueRoute } from "./routes/queue";
 import { RecipeRoute } from "./routes/recipe";
 import { RecipeApplyRoute } from "./routes/recipe-apply";
@@ -32,6 +37,12 @@ export function createRouter() {
         { path: "/recipes/:id", element: <RecipeRoute /> },
         { path: "/recipes/:id/apply", element: <RecipeApplyRoute /> },
         { path: paths.users, element: <UsersRoute /> },
+        { path: paths.presets, element: <PresetsRoute /> },
+        { path: paths.presetNew, element: <PresetNewRoute /> },
+        { path: "/presets/:id", element: <PresetRoute /> },
+        { path: paths.batches, element: <BatchesRoute /> },
+        { path: paths.batchNew, element: <BatchNewRoute /> },
+        { path: "/batches/:id", element: <BatchRoute /> },
         { path: "*", element: <NotFoundRoute /> },
       ],
     },

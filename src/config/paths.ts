@@ -13,6 +13,14 @@ export const paths = {
   /** Apply a recipe to fragments chosen on a grid. */
   recipeApply: (id: string) => `/recipes/${encodeURIComponent(id)}/apply`,
   users: "/users",
+  /** Output presets by kind, and the editor of one (a new one takes ?kind= or ?from=). */
+  presets: "/presets",
+  presetNew: "/presets/new",
+  preset: (id: string) => `/presets/${encodeURIComponent(id)}`,
+  batches: "/batches",
+  /** The batch builder (?intake= and ?scan= preset its filters). */
+  batchNew: "/batches/new",
+  batch: (id: string) => `/batches/${encodeURIComponent(id)}`,
 } as const;
 
 /** The sign-in address that brings the person back to `from` afterwards. */

@@ -114,7 +114,9 @@ export function ApplyGrid({
           busy={apply.isPending}
           onClick={() => run({ fragmentIds: chosen })}
         >
-          Apply v{recipe.version} to {plural(chosen.length, "fragment")}
+          {chosen.length
+            ? `Apply v${recipe.version} to ${plural(chosen.length, "fragment")}`
+            : "Tick fragments to apply"}
         </Button>
       </div>
       {scope && (

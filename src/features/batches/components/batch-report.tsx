@@ -1,0 +1,104 @@
+import type { PresetSummary } from "../../../../shared/schemas/preset-api";
+import { Button } from "../../../components/button";
+import { Notice } from "../../../components/notice";
+import { PageHeader, Panel } from "../../../components/panel";
+import { Can } from "../../../lib/authorization";
+import { toast } from "../../../lib/toast";
+import { useCancelBatch } from "../api/cancel-batch";
+import type { BatchReport as Report } from "../api/get-batch-report";
+import { useRetryBatch } from "../api/retry-batch";
+import { fragmentLabel, plural } from "../format";
+import { BatchProgressBlock, BatchStateBadge } from "./batch-progress";
+import { DownloadPanel } from "./download-panel";
+import { OutputsTable } from "./outputs-table";
+import { RerunPanel } from "./rerun-panel";
+
+/** A batch: its progress, failures with their messages, every output, downloads and a re-run. */
+export function BatchReport({ report, presets, back }: { report: Report; presets: PresetSummary[]; back: React.ReactNode }) {
+  const { batch, items } = report;
+  const retry = useRetryBatch(batch.id);
+  const cancel = useCancelBatch(batch.id);
+  const running = !batch.finishedAt;
+  const failed = items.filter((i) => i.state === "failed");
+  const warned = items.filter((i) => i.warnings.length > 0);
+  const presetNames = new Set(items.map((i) => i.preset));
+  const current = presets.filter((p) => presetNames.has(p.name)).map((p) => p.id);
+  const fragments = new Set(items.map((i) => i.fragmentId)).size;
+
+  return (
+    <>
+      <PageHeader
+        title={
+          <span className="flex items-center gap-3">
+            {batch.name} <BatchStateBadge batch={batch} />
+          </span>
+        }
+        description={
+          <>
+            {plural(fragments, "fragment")} × {plural(presetNames.size, "preset")} = {plural(batch.counts.total, "output")}. {back}
+          </>
+        }
+        actions={
+          <Can role="operator">
+            {running && (
+              <Button
+                variant="secondary"
+                busy={cancel.isPending}
+                onClick={() => cancel.mutate(undefined, { onSuccess: () => toast.info("Cancelled what had not started.") })}
+              >
+                Cancel the rest
+              </Button>
+            )}
+            {batch.counts.failed > 0 && (
+              <Button
+                variant="primary"
+                busy={retry.isPending}
+                onClick={() => retry.mutate(undefined, { onSuccess: () => toast.success(`Queued ${plural(batch.counts.failed, "failed output")} again.`) })}
+              >
+                Retry {batch.counts.failed} failed
+              </Button>
+            )}
+          </Can>
+        }
+      />
+      <div className="grid grid-cols-1 items-start gap-6 xl:grid-cols-[minmax(0,1fr)_20rem]">
+        <div className="flex min-w-0 flex-col gap-6">
+          <Panel title="Progress" titleId="batch-progress">
+            <BatchProgressBlock batch={batch} />
+          </Panel>
+          {failed.length > 0 && (
+            <Notice tone="error" title={`${plural(failed.length, "output")} failed`}>
+              <ul className="mt-1 flex flex-col gap-0.5 text-xs">
+                {failed.slice(0, 8).map((o) => (
+                  <li key={o.id}>
+                    <span className="font-medium text-ink">
+                      {fragmentLabel({ title: o.fragmentTitle, position: o.position, scanName: o.scanName })} · {o.preset}
+                    </span>
+                    : {o.error ?? "no message"}
+                  </li>
+                ))}
+                {failed.length > 8 && <li>…and {failed.length - 8} more in the table below.</li>}
+              </ul>
+            </Notice>
+          )}
+          {warned.length > 0 && (
+            <Notice tone="caution" title={`${plural(warned.length, "output")} with a warning`}>
+              <span className="text-xs">
+                Marked in the table below, for example: {warned[0]!.warnings[0]}
+              </span>
+            </Notice>
+          )}
+          <Panel title="Outputs" titleId="batch-outputs" bodyClassName="p-0">
+            <OutputsTable items={items} />
+          </Panel>
+        </div>
+        <div className="flex flex-col gap-6">
+          <DownloadPanel batchId={batch.id} ready={batch.counts.done > 0} doneCount={batch.counts.done} />
+          <Can role="operator">
+            <RerunPanel key={current.join()} batchId={batch.id} presets={presets} current={current} />
+          </Can>
+        </div>
+      </div>
+    </>
+  );
+}

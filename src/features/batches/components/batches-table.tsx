@@ -1,0 +1,23 @@
+import { Link } from "react-router-dom";
+import type { Batch } from "../../../../shared/schemas/recipe-api";
+import { paths } from "../../../config/paths";
+import { BatchProgressBlock, BatchStateBadge } from "./batch-progress";
+
+/** Every batch, newest first, with its bar and counts. */
+export function BatchesTable({ batches }: { batches: Batch[] }) {
+  return (
+    <ul className="flex flex-col divide-y divide-paper-200" aria-label="Batches">
+      {batches.map((b) => (
+        <li key={b.id} className="flex flex-col gap-2 px-5 py-3.5 hover:bg-paper-100" data-batch={b.id}>
+          <div className="flex items-baseline justify-between gap-4">
+            <Link to={paths.batch(b.id)} className="truncate text-sm font-semibold text-ink hover:text-accent hover:underline">
+              {b.name}
+            </Link>
+            <BatchStateBadge batch={b} />
+          </div>
+          <BatchProgressBlock batch={b} compact />
+        </li>
+      ))}
+    </ul>
+  );
+}

@@ -1,0 +1,51 @@
+import { useState } from "react";
+import { Panel } from "../../../components/panel";
+import { cn } from "../../../lib/cn";
+import { batchDownloadUrl } from "../api/get-batch-report";
+
+/** The zip of the batch's files with a CSV of each output; the listing pack adds a rights notice. */
+export function DownloadPanel({ batchId, ready, doneCount }: { batchId: string; ready: boolean; doneCount: number }) {
+  const [pack, setPack] = useState<"plain" | "listing">("plain");
+  return (
+    <Panel title="Download" titleId="batch-download">
+      <div className="flex flex-col gap-3">
+        <fieldset className="flex flex-col gap-2">
+          <legend className="sr-only">Pack</legend>
+          <label className="flex items-start gap-2 text-sm text-ink">
+            <input type="radio" name="pack" checked={pack === "plain"} onChange={() => setPack("plain")} className="mt-0.5 size-4 accent-accent" />
+            <span>
+              Files and CSV
+              <span className="block text-[11px] text-ink-muted">Each output with its sizes, effective DPI and checksum</span>
+            </span>
+          </label>
+          <label className="flex items-start gap-2 text-sm text-ink">
+            <input type="radio" name="pack" checked={pack === "listing"} onChange={() => setPack("listing")} className="mt-0.5 size-4 accent-accent" />
+            <span>
+              Listing pack
+              <span className="block text-[11px] text-ink-muted">The same, with a short rights notice for sale or publication</span>
+            </span>
+          </label>
+        </fieldset>
+        {pack === "listing" && (
+          <p className="rounded-md border border-ochre/30 bg-ochre-soft/60 px-3 py-2 text-xs text-ochre" data-testid="rights-caution">
+            Pieces cut from printed publications may still be under copyright: check rights and licences under local law before
+            selling or publishing them.
+          </p>
+        )}
+        <a
+          href={ready ? batchDownloadUrl(batchId, pack) : undefined}
+          aria-disabled={!ready}
+          download
+          data-testid="batch-download"
+          className={cn(
+            "inline-flex h-10 items-center justify-center rounded-md px-4 text-sm font-medium",
+            ready ? "bg-accent text-paper-50 hover:bg-accent-strong" : "cursor-not-allowed bg-ink-faint text-paper-50",
+          )}
+        >
+          Download zip{doneCount > 0 ? ` (${doneCount} files)` : ""}
+        </a>
+        {!ready && <p className="text-[11px] text-ink-muted">Ready once at least one output is done.</p>}
+      </div>
+    </Panel>
+  );
+}

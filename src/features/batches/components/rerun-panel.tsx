@@ -1,0 +1,70 @@
+import { useState } from "react";
+import { useNavigate } from "react-router-dom";
+import type { PresetSummary } from "../../../../shared/schemas/preset-api";
+import { Button } from "../../../components/button";
+import { Panel } from "../../../components/panel";
+import { paths } from "../../../config/paths";
+import { toast } from "../../../lib/toast";
+import { useRerunBatch } from "../api/rerun-batch";
+import { PresetChecklist } from "./preset-checklist";
+
+/**
+ * Run the same fragments again, with presets changed (a new size, a new version) or as they are,
+ * replacing the old outputs once the new ones are made, or keeping both.
+ */
+export function RerunPanel({ batchId, presets, current }: { batchId: string; presets: PresetSummary[]; current: string[] }) {
+  const navigate = useNavigate();
+  const rerun = useRerunBatch();
+  const [open, setOpen] = useState(false);
+  const [ids, setIds] = useState<string[]>(current);
+  const [replaceOld, setReplaceOld] = useState(false);
+
+  const go = () =>
+    rerun.mutate(
+      { id: batchId, presetIds: ids.length ? ids : undefined, replaceOld },
+      {
+        onSuccess: (batch) => {
+          toast.success(`Started ${batch.name}.`);
+          setOpen(false);
+          navigate(paths.batch(batch.id));
+        },
+      },
+    );
+
+  return (
+    <Panel title="Run again" titleId="batch-rerun">
+      {!open ? (
+        <div className="flex flex-col gap-2">
+          <p className="text-xs text-ink-muted">The same fragments with other presets, e.g. at a new size or a new preset version.</p>
+          <Button onClick={() => setOpen(true)}>Run again with…</Button>
+        </div>
+      ) : (
+        <div className="flex flex-col gap-4">
+          <PresetChecklist presets={presets} selected={ids} onChange={setIds} />
+          <fieldset className="flex flex-col gap-2 text-sm">
+            <legend className="mb-1 text-xs font-medium text-ink-soft">The old outputs</legend>
+            <label className="flex items-start gap-2">
+              <input type="radio" name="replace" checked={!replaceOld} onChange={() => setReplaceOld(false)} className="mt-0.5 size-4 accent-accent" />
+              <span>Keep them beside the new ones</span>
+            </label>
+            <label className="flex items-start gap-2">
+              <input type="radio" name="replace" checked={replaceOld} onChange={() => setReplaceOld(true)} className="mt-0.5 size-4 accent-accent" />
+              <span>
+                Replace them
+                <span className="block text-[11px] text-ink-muted">Only once the new ones are made; a failure keeps the old file.</span>
+              </span>
+            </label>
+          </fieldset>
+          <div className="flex gap-2">
+            <Button variant="primary" onClick={go} busy={rerun.isPending} disabled={ids.length === 0}>
+              Run the new batch
+            </Button>
+            <Button variant="quiet" onClick={() => setOpen(false)}>
+              Cancel
+            </Button>
+          </div>
+        </div>
+      )}
+    </Panel>
+  );
+}

@@ -1,0 +1,130 @@
+import fs from "node:fs/promises";
+import path from "node:path";
+import sharp from "sharp";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import supertest from "supertest";
+import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import type { Fragment } from "../shared/schemas/fragments";
+import type { PresetSummary } from "../shared/schemas/preset-api";
+
+let stack: Stack;
+let operator: supertest.Agent;
+let viewer: supertest.Agent;
+let scanId: string;
+let presets: PresetSummary[];
+
+/** Two pieces at 300 DPI (invented test data): 2.0 × 1.5 in and 1.5 × 2.0 in. */
+async function scan(): Promise<Buffer> {
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1300" height="800">
+    <rect width="100%" height="100%" fill="#f6f6f3"/>
+    <rect x="100" y="100" width="600" height="450" fill="#8e44ad"/>
+    <rect x="850" y="120" width="300" height="400" fill="#d35400"/>
+  </svg>`;
+  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+}
+
+const preset = (name: string) => presets.find((p) => p.name === name)!;
+
+async function finished(batchId: string) {
+  return waitFor(`batch ${batchId} to finish`, async () => {
+    const r = (await operator.get(`/api/batches/${batchId}`)).body;
+    return r.batch.finishedAt ? r : null;
+  }, 90_000);
+}
+
+const binary = (req: supertest.Test) =>
+  req.buffer(true).parse((r, cb) => {
+    const chunks: Buffer[] = [];
+    r.on("data", (c: Buffer) => chunks.push(c));
+    r.on("end", () => cb(null, Buffer.concat(chunks)));
+  });
+
+beforeAll(async () => {
+  stack = await startStack({ watcher: false });
+  operator = await userAgent(stack, "operator");
+  viewer = await userAgent(stack, "viewer");
+  const file = path.join(stack.inbox, "batch-bed.tif");
+  await fs.writeFile(file, await scan());
+  scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId;
+  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
+  await operator.post(`/api/scans/${scanId}/approve-remaining`);
+  await waitFor("the masters", async () => {
+    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+    return list.every((f) => f.renderState === "done") ? list : null;
+  }, 60_000);
+  presets = (await viewer.get("/api/presets")).body.presets;
+});
+afterAll(async () => {
+  await stack?.stop();
+});
+
+describe("output batches", () => {
+  it("ship the built-in presets", () => {
+    expect(presets.map((p) => p.name).sort()).toEqual(["print-a4", "print-letter", "square", "web"]);
+    expect(preset("print-letter").settings).toMatchObject({ kind: "print" });
+  });
+
+  it("estimate, run, report printed size and effective DPI, and warn below 300 DPI", async () => {
+    const body = { selection: { filter: { scanId } }, presetIds: [preset("web").id, preset("print-letter").id] };
+    const est = await operator.post("/api/batches/estimate").send(body);
+    expect(est.body).toMatchObject({ fragments: 2, presets: 2, outputs: 4, reused: 0 });
+    expect(est.body.expectedBytes).toBeGreaterThan(0);
+    const res = await operator.post("/api/batches").send(body);
+    expect(res.status).toBe(201);
+    const done = await finished(res.body.batch.id);
+    expect(done.batch.counts).toMatchObject({ done: 4, failed: 0, total: 4 });
+    const prints = done.items.filter((i: { preset: string }) => i.preset === "print-letter");
+    // Letter paper at 300 DPI is 2550 × 3300 px (ANSI Letter 8.5 × 11 in).
+    for (const p of prints) expect([p.pixelWidth, p.pixelHeight].sort()).toEqual([2550, 3300]);
+    // A 600 px piece fitted into the 8 × 10 in print area prints at 75 DPI or so: a warning, never silent.
+    expect(prints.every((p: { effectiveDpi: number; warnings: string[] }) => p.effectiveDpi < 300 && p.warnings.length > 0)).toBe(true);
+  });
+
+  it("never makes the same output twice", async () => {
+    const body = { selection: { filter: { scanId } }, presetIds: [preset("web").id] };
+    expect((await operator.post("/api/batches/estimate").send(body)).body.reused).toBe(2);
+    const again = await finished((await operator.post("/api/batches").send(body)).body.batch.id);
+    expect(again.batch.counts.done).toBe(2);
+    const { rows } = await stack.database.pool.query("select count(*)::int as n from outputs where kind = 'preset'");
+    expect(rows[0].n).toBe(4);
+  });
+
+  it("downloads as a streamed zip with a CSV of every output, and the listing pack carries the rights notice", async () => {
+    const list = (await viewer.get("/api/batches")).body.batches;
+    const first = list[list.length - 1];
+    const zip = await binary(viewer.get(`/api/batches/${first.id}/download?pack=listing`));
+    expect(zip.status).toBe(200);
+    const buf = zip.body as Buffer;
+    expect(buf.subarray(0, 2).toString()).toBe("PK");
+    const text = buf.toString("latin1");
+    expect(text).toContain("outputs.csv");
+    expect(text).toContain("RIGHTS-NOTICE.txt");
+    const plain = (await binary(viewer.get(`/api/batches/${first.id}/download`))).body as Buffer;
+    expect(plain.toString("latin1")).not.toContain("RIGHTS-NOTICE.txt");
+  });
+
+  it("re-runs at a new size and replaces the old outputs once the new ones are made", async () => {
+    const list = (await viewer.get("/api/batches")).body.batches;
+    const webOnly = list[0];
+    const edited = await operator.patch(`/api/presets/${preset("web").id}`).send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 400 } } });
+    expect(edited.body.preset.version).toBe(2);
+    const rerun = await operator.post(`/api/batches/${webOnly.id}/rerun`).send({ replaceOld: true });
+    expect(rerun.status).toBe(201);
+    const done = await finished(rerun.body.batch.id);
+    expect(done.batch.counts.done).toBe(2);
+    for (const i of done.items) expect(Math.max(i.pixelWidth, i.pixelHeight)).toBeLessThanOrEqual(400);
+    const { rows } = await stack.database.pool.query(
+      "select count(*)::int as n from outputs o join preset_versions v on v.id = o.preset_version_id where v.version = 1 and v.preset_id = $1",
+      [preset("web").id],
+    );
+    expect(rows[0].n).toBe(0);
+  });
+
+  it("refuses a selection with nothing approved, and viewers cannot run batches", async () => {
+    const none = await operator.post("/api/batches").send({ selection: { filter: { tag: "no-such-tag" } }, presetIds: [preset("web").id] });
+    expect(none.status).toBe(400);
+    expect(none.body.error.message).toBe("No approved fragment matches this selection.");
+    const denied = await viewer.post("/api/batches").send({ selection: { filter: { scanId } }, presetIds: [preset("web").id] });
+    expect(denied.status).toBe(403);
+  });
+});
