@@ -120,6 +120,22 @@ describe("recipes", () => {
     expect(usage).toMatchObject({ intakes: 1, outputs: 4 });
   });
 
+  it("the command line finds a saved recipe by name, at its newest version", async () => {
+    const { spawnSync } = await import("node:child_process");
+    const src = path.join(stack.inbox, "cli-source.png");
+    await sharp({ create: { width: 200, height: 120, channels: 3, background: "#c0392b" } }).png().toFile(src);
+    const out = path.join(stack.inbox, "cli-out.png");
+    const run = spawnSync(process.execPath, ["scripts/platen.mjs", "render", src, "--recipe", "muted stock", "--out", out, "--json"], {
+      encoding: "utf8",
+      env: { ...process.env, ...stack.env },
+    });
+    expect(run.stderr).toBe("");
+    expect(run.status).toBe(0);
+    expect(JSON.parse(run.stdout).recipe.name).toBe("Muted stock");
+    const { data } = await sharp(out).raw().toBuffer({ resolveWithObject: true });
+    expect(Math.abs(data[0]! - data[1]!)).toBeLessThan(3); // version 2: saturation −1
+  });
+
   it("previews unsaved steps on a fragment from a reduced copy, with histograms and clipping", async () => {
     const [first] = await fragmentsOf();
     const res = await operator.post("/api/recipes/preview").send({ fragmentId: first!.id, steps: [{ type: "saturation", saturation: -1 }], size: 300 });

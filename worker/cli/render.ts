@@ -8,6 +8,7 @@ import { DEFAULT_RECIPE_NAME, type Recipe } from "../../shared/schemas/recipes";
 import { MM_PER_INCH } from "../../shared/units";
 import { decodeError, inspectScanFile } from "../pipeline/inspect";
 import { readScanInfo } from "../pipeline/metadata";
+import { savedRecipes } from "./saved-recipes";
 import {
   builtInRecipes,
   compileRecipe,
@@ -142,6 +143,7 @@ export async function loadPreset(ref: string): Promise<Preset> {
 export async function renderWithPreset(
   opts: { file: string; preset: string; out: string; recipe?: string; dpi?: number },
   limits: { defaultDpi: number; maxPixels: number },
+  sources: readonly RecipeSource[] = [builtInRecipes],
 ): Promise<OutputReport & { recipe?: string }> {
   const preset = await loadPreset(opts.preset);
   const info = await readScanInfo(opts.file, { defaultDpi: opts.dpi ?? limits.defaultDpi, maxPixels: limits.maxPixels });
@@ -151,7 +153,7 @@ export async function renderWithPreset(
   const dir = await fs.mkdtemp(path.join(os.tmpdir(), "platen-render-"));
   try {
     const corrected = path.join(dir, "corrected.tif");
-    const r = await renderWithRecipe({ file: opts.file, recipe: opts.recipe, out: corrected, format: "tiff", dpi: opts.dpi }, limits);
+    const r = await renderWithRecipe({ file: opts.file, recipe: opts.recipe, out: corrected, format: "tiff", dpi: opts.dpi }, limits, sources);
     const report = await renderOutput({ master: corrected, dpi: r.dpi, title, maxPixels: limits.maxPixels }, preset, { path: opts.out });
     return { ...report, recipe: r.recipe.name };
   } finally {
@@ -277,7 +279,7 @@ export const renderCommand: Command = {
   help: [
     "",
     "Uses the same recipe compiler as the worker and the preview. --recipe takes a recipe file",
-    `(JSON, { "name": …, "steps": […] }) or the name of a built-in recipe; the studio default is`,
+    `(JSON, { "name": …, "steps": […] }) or the name of a saved or built-in recipe; the studio default is`,
     `"${DEFAULT_RECIPE_NAME}": white balance from the scanner background, then automatic levels.`,
     "Run on a whole scan, white balance from the background finds the bed around the pieces",
     "the way the split does. The original is only read.",
@@ -303,16 +305,28 @@ export const renderCommand: Command = {
     }
     const cfg = io.env === process.env ? config() : loadConfig(io.env);
     const limits = { defaultDpi: cfg.defaultDpi, maxPixels: cfg.maxPixels };
-    if (opts.preset !== undefined) {
-      const report = await renderWithPreset(
-        { file: opts.file, preset: opts.preset, out: opts.out, ...(opts.recipeGiven ? { recipe: opts.recipe } : {}), ...(opts.dpi !== undefined ? { dpi: opts.dpi } : {}) },
-        limits,
-      );
-      io.stdout(opts.json ? `${JSON.stringify(report, null, 2)}\n` : formatOutput(report));
-      return 0;
+    // Saved recipes (the studio's database, when it answers) come before the built-in ones, so an
+    // edited "default" is the studio's newest version.
+    const saved = savedRecipes(cfg.databaseUrl);
+    const sources = [saved, builtInRecipes];
+    try {
+      if (opts.preset !== undefined) {
+        const report = await renderWithPreset(
+          { file: opts.file, preset: opts.preset, out: opts.out, ...(opts.recipeGiven ? { recipe: opts.recipe } : {}), ...(opts.dpi !== undefined ? { dpi: opts.dpi } : {}) },
+          limits,
+          sources,
+        );
+        io.stdout(opts.json ? `${JSON.stringify(report, null, 2)}\n` : formatOutput(report));
+        return 0;
+      }
+      return await finishRecipe(await renderWithRecipe(opts, limits, sources), opts, io);
+    } finally {
+      await saved.close();
     }
-    const report = await renderWithRecipe(opts, limits);
-    io.stdout(opts.json ? `${JSON.stringify(report, null, 2)}\n` : formatRender(report));
-    return 0;
   },
 };
+
+async function finishRecipe(report: RenderReport, opts: ReturnType<typeof parse>, io: CliIo): Promise<number> {
+  io.stdout(opts.json ? `${JSON.stringify(report, null, 2)}\n` : formatRender(report));
+  return 0;
+}

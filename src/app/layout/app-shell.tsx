@@ -34,7 +34,9 @@ const SCANS_ICON = icon("M3.5 4.5h13v11h-13zM6 12l3-3 2.5 2.5L13 10l2 2");
 const WORK_ICON = icon(
   "M3.5 3.5h5.5v5.5H3.5zM11 3.5h5.5v5.5H11zM3.5 11h5.5v5.5H3.5zM11 11h5.5v5.5H11z",
 );
-const RECIPES_ICON = icon("M10 3.5c2.8 3.6 4.5 6 4.5 8.5a4.5 4.5 0 0 1-9 0c0-2.5 1.7-4.9 4.5-8.5ZM8 12.5a2 2 0 0 0 2 2");
+const RECIPES_ICON = icon(
+  "M10 3.5c2.8 3.6 4.5 6 4.5 8.5a4.5 4.5 0 0 1-9 0c0-2.5 1.7-4.9 4.5-8.5ZM8 12.5a2 2 0 0 0 2 2",
+);
 const PRESETS_ICON = icon("M4 3.5h8l4 4v9H4zM12 3.5v4h4M7 11h6M7 14h4");
 const BATCHES_ICON = icon("M3.5 6.5h13v10h-13zM5.5 4h9M7.5 1.5h5");
 const USERS_ICON = icon(
