@@ -48,6 +48,7 @@ export function presentFragment(row: FragmentRow, scan: ScanRow, outs: OutputRow
     title: row.title,
     tags: row.tags,
     notes: row.notes,
+    recipeId: row.recipeId,
     revision: row.revision,
     renderState: row.renderState,
     renderError: row.renderError,

@@ -50,12 +50,13 @@ export async function listScanFragments(db: Db, scanId: string, role: Role): Pro
   return present(db, rows);
 }
 
-export async function listFragments(db: Db, role: Role, q: { status?: FragmentRow["status"]; scanId?: string; q?: string; limit: number; offset: number }) {
+export async function listFragments(db: Db, role: Role, q: { status?: FragmentRow["status"]; scanId?: string; intakeId?: string; q?: string; limit: number; offset: number }) {
   const text = q.q ? `%${q.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%` : null;
   const cond = and(
     visibleTo(role),
     q.status ? eq(fragments.status, q.status) : undefined,
     q.scanId ? eq(fragments.scanId, q.scanId) : undefined,
+    q.intakeId ? sql`${fragments.scanId} in (select id from scans where intake_id = ${q.intakeId})` : undefined,
     text
       ? sql`(${fragments.title} ilike ${text} or ${fragments.notes} ilike ${text} or exists (select 1 from unnest(${fragments.tags}) t where t ilike ${text}) or exists (select 1 from scans s where s.id = ${fragments.scanId} and s.original_name ilike ${text}))`
       : undefined,

@@ -93,6 +93,8 @@ export const fragmentSchema = geometrySchema.extend({
   title: z.string().nullable(),
   tags: z.array(z.string()),
   notes: z.string().nullable(),
+  /** The recipe chosen for this fragment itself (null: it follows its scan, intake or the studio default). */
+  recipeId: z.string().nullable(),
   revision: z.number(),
   renderState: z.enum(RENDER_STATES),
   renderError: z.string().nullable(),
@@ -144,6 +146,7 @@ export const fragmentOutputParams = z.object({
 export const fragmentListQuery = z.object({
   status: fragmentStatusSchema.optional(),
   scanId: z.uuid().optional(),
+  intakeId: z.uuid().optional(),
   q: z.string().trim().max(200).optional(),
   limit: z.coerce.number().int().min(1).max(500).default(200),
   offset: z.coerce.number().int().min(0).default(0),

@@ -51,7 +51,9 @@ export function presetLine(p: Preset): string {
       const area =
         p.layout.mode === "area"
           ? `${p.layout.widthIn} × ${p.layout.heightIn} in area`
-          : `${p.layout.top}/${p.layout.right}/${p.layout.bottom}/${p.layout.left} mm margins`;
+          : new Set([p.layout.top, p.layout.right, p.layout.bottom, p.layout.left]).size === 1
+            ? `${p.layout.top} mm margins`
+            : `margins ${p.layout.top}/${p.layout.right}/${p.layout.bottom}/${p.layout.left} mm (top/right/bottom/left)`;
       return `${paperLabel(p.paper.size)} · ${area} · ${p.scale.mode} · ${p.printDpi} DPI ${p.output.toUpperCase()}`;
     }
     case "mockup":

@@ -29,8 +29,8 @@ export function FragmentFilters({
 }) {
   const set = (patch: Partial<FragmentFilter>) => onChange({ ...filter, ...patch });
   return (
-    <div className="flex flex-wrap items-end gap-3" role="search" aria-label="Filter fragments">
-      <SelectField label="Intake" value={filter.intakeId ?? ""} fieldClassName="w-52" onChange={(e) => set({ intakeId: e.target.value || undefined, scanId: undefined })}>
+    <div className="grid grid-cols-2 items-end gap-3 lg:grid-cols-3" role="search" aria-label="Filter fragments">
+      <SelectField label="Intake" value={filter.intakeId ?? ""} onChange={(e) => set({ intakeId: e.target.value || undefined, scanId: undefined })}>
         <option value="">All intakes</option>
         {intakes.map((i) => (
           <option key={i.id} value={i.id}>
@@ -38,7 +38,7 @@ export function FragmentFilters({
           </option>
         ))}
       </SelectField>
-      <SelectField label="Scan" value={filter.scanId ?? ""} fieldClassName="w-56" onChange={(e) => set({ scanId: e.target.value || undefined })}>
+      <SelectField label="Scan" value={filter.scanId ?? ""} onChange={(e) => set({ scanId: e.target.value || undefined })}>
         <option value="">{filter.intakeId ? "Every scan of the intake" : "All scans"}</option>
         {scans.map((s) => (
           <option key={s.id} value={s.id}>
@@ -46,7 +46,7 @@ export function FragmentFilters({
           </option>
         ))}
       </SelectField>
-      <SelectField label="Tag" value={filter.tag ?? ""} fieldClassName="w-36" onChange={(e) => set({ tag: e.target.value || undefined })}>
+      <SelectField label="Tag" value={filter.tag ?? ""} onChange={(e) => set({ tag: e.target.value || undefined })}>
         <option value="">Any tag</option>
         {tags.map((t) => (
           <option key={t} value={t}>
@@ -54,12 +54,12 @@ export function FragmentFilters({
           </option>
         ))}
       </SelectField>
-      <SelectField label="Shape" value={filter.shape ?? ""} fieldClassName="w-36" onChange={(e) => set({ shape: (e.target.value || undefined) as FragmentShape | undefined })}>
+      <SelectField label="Shape" value={filter.shape ?? ""} onChange={(e) => set({ shape: (e.target.value || undefined) as FragmentShape | undefined })}>
         <option value="">Any shape</option>
         <option value="rectangle">Rectangle</option>
         <option value="cutout">Cut-out</option>
       </SelectField>
-      <SelectField label="Status" value={filter.status ?? "any"} fieldClassName="w-32" onChange={(e) => set({ status: e.target.value === "any" ? undefined : (e.target.value as FragmentStatus) })}>
+      <SelectField label="Status" value={filter.status ?? "any"} onChange={(e) => set({ status: e.target.value === "any" ? undefined : (e.target.value as FragmentStatus) })}>
         {FRAGMENT_STATUSES.map((s) => (
           <option key={s} value={s}>
             {STATUS_TEXT[s]}
@@ -72,7 +72,7 @@ export function FragmentFilters({
         type="search"
         placeholder="Title or scan name"
         value={filter.q ?? ""}
-        fieldClassName="w-48"
+       
         onChange={(e) => set({ q: e.target.value || undefined })}
       />
     </div>

@@ -30,7 +30,7 @@ export function PresetsByKind({ presets, canEdit }: { presets: PresetSummary[]; 
                 <EmptyNote>No {KIND_LABELS[kind].toLowerCase()} preset yet.</EmptyNote>
               </div>
             ) : (
-              <table className="w-full text-sm">
+              <table className="w-full table-fixed text-sm">
                 <thead className="sr-only">
                   <tr>
                     <th scope="col">Preset</th>
@@ -42,7 +42,7 @@ export function PresetsByKind({ presets, canEdit }: { presets: PresetSummary[]; 
                 <tbody>
                   {list.map((p) => (
                     <tr key={p.id} className="border-b border-paper-200 last:border-0 hover:bg-paper-100">
-                      <td className="w-56 px-5 py-2.5">
+                      <td className="w-64 px-5 py-2.5">
                         <div className="flex items-center gap-2">
                           {canEdit ? (
                             <Link to={paths.preset(p.id)} className="font-semibold text-ink hover:text-accent hover:underline">
@@ -57,8 +57,8 @@ export function PresetsByKind({ presets, canEdit }: { presets: PresetSummary[]; 
                         </div>
                       </td>
                       <td className="px-3 py-2.5 text-xs text-ink-soft">{presetLine(p.settings)}</td>
-                      <td className="figure px-3 py-2.5 text-xs text-ink-soft">v{p.version}</td>
-                      <td className="px-5 py-2.5 text-right text-xs whitespace-nowrap text-ink-muted">
+                      <td className="figure w-16 px-3 py-2.5 text-xs text-ink-soft">v{p.version}</td>
+                      <td className="w-44 px-5 py-2.5 text-right text-xs whitespace-nowrap text-ink-muted">
                         <Ago iso={p.updatedAt} />
                         {canEdit && (
                           <Link
