@@ -61,8 +61,8 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
           </Can>
         }
       />
-      <div className="grid grid-cols-1 items-start gap-6 xl:grid-cols-[minmax(0,1fr)_20rem]">
-        <div className="flex min-w-0 flex-col gap-6">
+      <div className="grid grid-cols-1 items-start gap-6 lg:grid-cols-2 xl:grid-cols-[minmax(0,1fr)_18rem_18rem]">
+        <div className="flex min-w-0 flex-col gap-6 lg:col-span-2 xl:col-span-1">
           <Panel title="Progress" titleId="batch-progress">
             <BatchProgressBlock batch={batch} />
           </Panel>
@@ -88,17 +88,15 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
               </span>
             </Notice>
           )}
-          <Panel title="Outputs" titleId="batch-outputs" bodyClassName="p-0">
-            <OutputsTable items={items} />
-          </Panel>
         </div>
-        <div className="flex flex-col gap-6">
-          <DownloadPanel batchId={batch.id} ready={batch.counts.done > 0} doneCount={batch.counts.done} />
-          <Can role="operator">
-            <RerunPanel key={current.join()} batchId={batch.id} presets={presets} current={current} />
-          </Can>
-        </div>
+        <DownloadPanel batchId={batch.id} ready={batch.counts.done > 0} doneCount={batch.counts.done} />
+        <Can role="operator">
+          <RerunPanel key={current.join()} batchId={batch.id} presets={presets} current={current} />
+        </Can>
       </div>
+      <Panel title="Outputs" titleId="batch-outputs" bodyClassName="p-0" className="mt-6">
+        <OutputsTable items={items} />
+      </Panel>
     </>
   );
 }

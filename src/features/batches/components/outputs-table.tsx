@@ -45,12 +45,12 @@ export function OutputsTable({ items }: { items: BatchItem[] }) {
               <td className="px-5 py-2.5">
                 <span className="font-medium text-ink">{fragmentLabel({ title: o.fragmentTitle, position: o.position, scanName: o.scanName })}</span>
               </td>
-              <td className="px-3 py-2.5 text-ink-soft">{o.preset}</td>
+              <td className="px-3 py-2.5 whitespace-nowrap text-ink-soft">{o.preset}</td>
               <td className={cn("px-3 py-2.5 text-xs whitespace-nowrap", STATE_TONE[o.state])}>{STATE_TEXT[o.state]}</td>
               <td className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft">
                 {o.pixelWidth && o.pixelHeight ? `${o.pixelWidth} × ${o.pixelHeight}` : "–"}
               </td>
-              <td className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft">
+              <td className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft" data-testid="printed-size">
                 {o.printedIn ? (
                   <>
                     {formatNumber(o.printedIn.width, 2)} × {formatNumber(o.printedIn.height, 2)} in
@@ -72,7 +72,7 @@ export function OutputsTable({ items }: { items: BatchItem[] }) {
               </td>
               <td className="px-5 py-2.5 text-xs">
                 {o.fileName && (
-                  <span className="figure block break-all text-ink-soft">
+                  <span className="figure block break-words text-ink-soft">
                     {o.fileName}
                     {o.bytes !== null && <span className="text-ink-muted"> · {formatBytes(o.bytes)}</span>}
                   </span>

@@ -50,9 +50,14 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
   const [draft, setDraft] = useState<Preset>(start);
   const [formError, setFormError] = useState<string | null>(null);
   const [sampleId, setSampleId] = useState<string>("");
+  // An empty name on a fresh form is not a mistake yet: say so once the person tries to save.
+  const [attempted, setAttempted] = useState(false);
   const samples = useSampleFragments();
 
-  const { ok, errors } = useMemo(() => problemsOf(draft), [draft]);
+  const { ok, errors: allErrors } = useMemo(() => problemsOf(draft), [draft]);
+  const onlyName = !ok && Object.keys(allErrors).every((k) => k === "name");
+  const errors: Record<string, string> =
+    attempted || draft.name.trim() !== "" ? allErrors : Object.fromEntries(Object.entries(allErrors).filter(([k]) => k !== "name"));
   const saved = detail?.preset;
   const dirty = !saved || JSON.stringify(saved.settings) !== JSON.stringify(draft);
   const busy = create.isPending || update.isPending;
@@ -72,9 +77,10 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
   const save = (event: FormEvent) => {
     event.preventDefault();
     setFormError(null);
+    setAttempted(true);
     const parsed = presetSchema.safeParse(draft);
     if (!parsed.success) {
-      setFormError("Some settings are out of range: see the messages beside them.");
+      setFormError(onlyName ? "Give the preset a name." : "Some settings are out of range: see the messages beside them.");
       return;
     }
     const onError = (error: unknown) => setFormError(serverErrorFor(error, []).message);
@@ -157,7 +163,7 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
                 Undo changes
               </Button>
             )}
-            <Button type="submit" variant="primary" busy={busy} disabled={!ok || !dirty}>
+            <Button type="submit" variant="primary" busy={busy} disabled={(!ok && !onlyName) || !dirty}>
               {saved ? "Save as new version" : "Save preset"}
             </Button>
           </>
@@ -193,7 +199,7 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
                 label={<span className="sr-only">Try on</span>}
                 value={chosen?.id ?? "invented"}
                 onChange={(e) => setSampleId(e.target.value)}
-                fieldClassName="w-60"
+                fieldClassName="w-64"
                 className="h-8 text-xs"
               >
                 {sampleList.map((f) => (
@@ -201,13 +207,13 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
                     Try on: {fragmentName(f)}
                   </option>
                 ))}
-                <option value="invented">Try on: an invented 5 × 7 in piece</option>
+                <option value="invented">Try on: invented 5 × 7 in</option>
               </SelectField>
             }
           >
             {picture}
             <p className="mt-3 border-t border-paper-200 pt-2 text-[11px] text-ink-muted">
-              {ok ? presetLine(draft) : "Fix the settings marked in the form to see the summary."}
+              {ok || onlyName ? presetLine(draft) : "Fix the settings marked in the form to see the summary."}
             </p>
           </Panel>
           {detail && detail.versions.length > 0 && (
