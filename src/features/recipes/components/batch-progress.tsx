@@ -3,6 +3,7 @@ import type { Batch } from "../../../../shared/schemas/recipe-api";
 import { Ago } from "../../../components/ago";
 import { ProgressBar } from "../../../components/progress-bar";
 import { cn } from "../../../lib/cn";
+import { paths } from "../../../config/paths";
 import { useBatch } from "../api/get-batch";
 
 /** Share of a batch's fragments that have been dealt with, 0–100. */
@@ -47,7 +48,9 @@ export function BatchRow({ batch, className }: { batch: Batch; className?: strin
       data-finished={finished}
     >
       <div className="flex items-baseline justify-between gap-4">
-        <span className="truncate text-sm font-medium text-ink">{batch.name}</span>
+        <Link to={paths.batch(batch.id)} className="truncate text-sm font-medium text-ink hover:text-accent hover:underline">
+          {batch.name}
+        </Link>
         <span
           className={cn(
             "shrink-0 text-xs font-medium",
