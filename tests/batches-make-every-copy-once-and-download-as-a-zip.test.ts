@@ -120,6 +120,39 @@ describe("output batches", () => {
     expect(rows[0].n).toBe(0);
   });
 
+  it("lists the same files in the zip as in its CSV, one row per output", async () => {
+    const { execFileSync } = await import("node:child_process");
+    const list = (await viewer.get("/api/batches")).body.batches;
+    const first = list[list.length - 1];
+    const detail = (await viewer.get(`/api/batches/${first.id}`)).body;
+    const zipPath = path.join(stack.inbox, "batch.zip");
+    await fs.writeFile(zipPath, (await binary(viewer.get(`/api/batches/${first.id}/download`))).body as Buffer);
+    // Python's zipfile module as an independent reader of the archive.
+    const names = JSON.parse(
+      execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", zipPath], { encoding: "utf8" }),
+    ) as string[];
+    const csv = execFileSync("python3", ["-c", "import zipfile,sys; sys.stdout.write(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())", zipPath], { encoding: "utf8" });
+    const rows = csv.trim().split("\n");
+    expect(rows[0]).toBe("title,scan,fragment,preset,file,width_px,height_px,printed_width_in,printed_height_in,printed_width_cm,printed_height_cm,effective_dpi,warnings,sha256");
+    const files = rows.slice(1).map((r) => r.split(",")[4]);
+    expect(files.sort()).toEqual(names.filter((n) => n !== "outputs.csv").sort());
+    // Outputs replaced by the re-run above are gone from the old batch, and from its zip and CSV too.
+    expect(rows.length - 1).toBe(detail.items.filter((i: { fileName: string | null }) => i.fileName !== null).length);
+    expect(rows.length - 1).toBe(2);
+  });
+
+  it("cancelling stops what has not started", async () => {
+    // Hold the worker back so nothing starts before the cancel: no worker runs the new jobs.
+    await stack.worker!.stop(2000);
+    const res = await operator.post("/api/batches").send({ selection: { filter: { scanId } }, presetIds: [preset("square").id, preset("print-a4").id] });
+    const cancelled = await operator.post(`/api/batches/${res.body.batch.id}/cancel`);
+    expect(cancelled.body.batch.counts).toMatchObject({ cancelled: 4, queued: 0, total: 4 });
+    expect(cancelled.body.batch.finishedAt).not.toBeNull();
+    const retry = await operator.post(`/api/batches/${res.body.batch.id}/retry`);
+    expect(retry.status).toBe(409);
+    expect(retry.body.error.message).toBe("Nothing in this batch has failed.");
+  });
+
   it("refuses a selection with nothing approved, and viewers cannot run batches", async () => {
     const none = await operator.post("/api/batches").send({ selection: { filter: { tag: "no-such-tag" } }, presetIds: [preset("web").id] });
     expect(none.status).toBe(400);
