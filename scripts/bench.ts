@@ -19,6 +19,7 @@ import path from "node:path";
 import { eightPieces } from "../tests/helpers/split-scenes";
 import { renderScene, writeScene } from "../tests/helpers/synthetic-scans";
 import { median, type Sample } from "./bench/measure";
+import { benchRecipe, formatRecipeBench } from "./bench/recipe";
 
 const ROOT = path.resolve(import.meta.dirname, "..");
 const OUT = path.join(ROOT, ".bench");
@@ -175,8 +176,11 @@ async function main() {
   process.stdout.write(
     "Targets at A4 600 DPI: split/floor ≤ 1.5, whole/floor ≤ 1.5, peak memory ≤ 1536 MB.\n",
   );
+  // Recipe cost per megapixel against a bare sharp copy (8 and 16 bits).
+  const recipe = await benchRecipe({ runs: RUNS });
+  process.stdout.write("\n" + formatRecipeBench(recipe));
   fs.mkdirSync(OUT, { recursive: true });
-  const result = { at: new Date().toISOString(), node: process.version, runs: RUNS, rows };
+  const result = { at: new Date().toISOString(), node: process.version, runs: RUNS, rows, recipe };
   fs.writeFileSync(path.join(OUT, "results.json"), JSON.stringify(result, null, 2) + "\n");
   process.stdout.write(`Written to ${path.relative(ROOT, path.join(OUT, "results.json"))}\n`);
 }
