@@ -141,6 +141,29 @@ describe("output batches", () => {
     expect(rows.length - 1).toBe(2);
   });
 
+  it("a failure in one output does not stop the rest, and says why", async () => {
+    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+    const { rows } = await stack.database.pool.query("select key from outputs where kind = 'master' and fragment_id = $1", [list[0]!.id]);
+    const master = stack.library.pathFor(rows[0].key);
+    const saved = await fs.readFile(master);
+    await fs.rm(master);
+    try {
+      const res = await operator.post("/api/batches").send({ selection: { filter: { scanId } }, presetIds: [preset("print-a4").id] });
+      const done = await finished(res.body.batch.id);
+      expect(done.batch.counts).toMatchObject({ done: 1, failed: 1, total: 2 });
+      const failed = done.items.find((i: { state: string }) => i.state === "failed");
+      expect(failed.fragmentId).toBe(list[0]!.id);
+      expect(failed.error).toMatch(/Cannot read|does not exist|no such file/i);
+      // Put the master back and retry: only the failed item runs again.
+      await fs.writeFile(master, saved);
+      await operator.post(`/api/batches/${res.body.batch.id}/retry`);
+      const again = await finished(res.body.batch.id);
+      expect(again.batch.counts).toMatchObject({ done: 2, failed: 0 });
+    } finally {
+      await fs.writeFile(master, saved).catch(() => {});
+    }
+  });
+
   it("cancelling stops what has not started", async () => {
     // Hold the worker back so nothing starts before the cancel: no worker runs the new jobs.
     await stack.worker!.stop(2000);
