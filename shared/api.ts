@@ -4,7 +4,7 @@ import { loginBody } from "./schemas/auth";
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
 import { createIntakeBody, scanListQuery } from "./schemas/scans";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
-import { batchDownloadQuery, createBatchBody, createPresetBody, rerunBatchBody, updatePresetBody } from "./schemas/preset-api";
+import { batchDownloadQuery, createBatchBody, createPresetBody, previewPresetBody, rerunBatchBody, updatePresetBody } from "./schemas/preset-api";
 import {
   drawFragmentBody,
   fragmentListQuery,
@@ -207,6 +207,14 @@ export const API = {
     mutates: true,
     params: idParams,
     body: updatePresetBody,
+  }),
+  presetsPreview: route({
+    method: "POST",
+    path: "/api/presets/preview",
+    access: "operator",
+    // Renders a picture; changes nothing.
+    mutates: false,
+    body: previewPresetBody,
   }),
   batchesList: route({ method: "GET", path: "/api/batches", access: "viewer", mutates: false }),
   batchesEstimate: route({

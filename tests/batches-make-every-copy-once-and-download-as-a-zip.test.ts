@@ -164,6 +164,23 @@ describe("output batches", () => {
     }
   });
 
+  it("previews what a preset makes of a fragment: the mock-up composed, the print with its report", async () => {
+    const [first] = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+    const mock = await operator
+      .post("/api/presets/preview")
+      .send({ fragmentId: first!.id, settings: { kind: "mockup", name: "wall", width: 1200, height: 900 }, size: 400 });
+    expect(mock.status).toBe(200);
+    expect(mock.body.report).toMatchObject({ pixelWidth: 1200, pixelHeight: 900 });
+    const img = await sharp(Buffer.from(mock.body.image.split(",")[1], "base64")).metadata();
+    expect([img.width, img.height]).toEqual([400, 300]);
+    const print = await operator.post("/api/presets/preview").send({ fragmentId: first!.id, settings: preset("print-letter").settings, size: 300 });
+    // ANSI Letter at 300 DPI: 2550 × 3300 px; a 2 in piece fitted to 8 × 10 in prints far under 300 DPI.
+    expect([print.body.report.pixelWidth, print.body.report.pixelHeight].sort()).toEqual([2550, 3300]);
+    expect(print.body.report.warnings.length).toBeGreaterThan(0);
+    const bad = await operator.post("/api/presets/preview").send({ fragmentId: first!.id, settings: { kind: "mockup", name: "x", width: -5 } });
+    expect(bad.status).toBe(400);
+  });
+
   it("cancelling stops what has not started", async () => {
     // Hold the worker back so nothing starts before the cancel: no worker runs the new jobs.
     await stack.worker!.stop(2000);

@@ -89,3 +89,23 @@ export const batchDetailResponse = z.object({ batch: batchSchema, items: z.array
 export const batchListResponse = z.object({ batches: z.array(batchSchema) });
 
 export const batchDownloadQuery = z.object({ pack: z.enum(["plain", "listing"]).default("plain") });
+
+/** A picture of what a preset makes of one fragment (from its master), for the editor. */
+export const previewPresetBody = z.object({
+  fragmentId: z.uuid({ error: "Expected fragmentId in UUID form" }),
+  settings: presetSchema,
+  /** Long edge of the picture sent back, in pixels. */
+  size: z.number().int().min(64).max(1600).default(800),
+});
+export const previewPresetResponse = z.object({
+  image: z.string(),
+  report: z.object({
+    pixelWidth: z.number(),
+    pixelHeight: z.number(),
+    printedIn: z.object({ width: z.number(), height: z.number() }).optional(),
+    effectiveDpi: z.number().optional(),
+    warnings: z.array(z.string()),
+    format: z.string(),
+  }),
+  ms: z.number(),
+});
