@@ -3,6 +3,7 @@
  * JPEG, WebP, AVIF or PNG, with only the fields the preset keeps. The copy is encoded from raw
  * pixels, so nothing of the source's EXIF (location, camera) can travel with it.
  */
+import zlib from "node:zlib";
 import sharp, { type Sharp } from "sharp";
 import { fitScale } from "../../../shared/paper";
 import { WEB_ASPECTS, type WebPreset } from "../../../shared/schemas/presets";
@@ -112,12 +113,37 @@ export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights)
   const exif = exifIfd0(kept);
   if (exif) out = out.withExif(exif);
   const xmp = xmpPacket(kept);
-  if (xmp) out = out.withXmp(xmp);
+  // PNG gets its XMP as an iTXt chunk below: libvips would write a zTXt, where XMP readers do not look.
+  if (xmp && preset.format !== "png") out = out.withXmp(xmp);
   const q = preset.quality;
   if (preset.format === "jpeg") out = out.jpeg({ quality: q, chromaSubsampling: "4:4:4" });
   else if (preset.format === "webp") out = out.webp({ quality: q, alphaQuality: 100 });
   else if (preset.format === "avif") out = out.avif({ quality: q });
   else out = out.png({ compressionLevel: 9 });
-  const data = await out.toBuffer();
+  let data = await out.toBuffer();
+  if (xmp && preset.format === "png") data = withPngXmp(data, xmp);
   return { data, width: raw.info.width, height: raw.info.height, dpi, warnings };
+}
+
+/** A PNG chunk: length, type, data, CRC-32 of type and data (PNG, ISO/IEC 15948:2004 §5.3). */
+function pngChunk(type: string, data: Buffer): Buffer {
+  const head = Buffer.alloc(8);
+  head.writeUInt32BE(data.length, 0);
+  head.write(type, 4, "latin1");
+  const crc = Buffer.alloc(4);
+  crc.writeUInt32BE(zlib.crc32(data, zlib.crc32(head.subarray(4))) >>> 0, 0);
+  return Buffer.concat([head, data, crc]);
+}
+
+/**
+ * The PNG with an uncompressed iTXt chunk keyword "XML:com.adobe.xmp" holding the packet, right
+ * after IHDR: where XMP Specification Part 3 (§1.1.5, PNG) puts XMP, and early enough for readers
+ * that only look at the start of the file. iTXt fields (ISO/IEC 15948 §11.3.4.5): keyword, 0,
+ * compression flag 0, method 0, language "", 0, translated keyword "", 0, UTF-8 text.
+ */
+function withPngXmp(png: Buffer, xmp: string): Buffer {
+  const body = Buffer.concat([Buffer.from("XML:com.adobe.xmp\0\0\0\0\0", "latin1"), Buffer.from(xmp, "utf8")]);
+  // 8-byte signature, then IHDR (length, type, 13 bytes of data, CRC).
+  const afterIhdr = 8 + 12 + png.readUInt32BE(8);
+  return Buffer.concat([png.subarray(0, afterIhdr), pngChunk("iTXt", body), png.subarray(afterIhdr)]);
 }

@@ -18,6 +18,7 @@ import { INVENTED_PIECE, type SamplePiece } from "../print-layout";
 import { MasterFields } from "./master-fields";
 import { MockupFields } from "./mockup-fields";
 import { MockupPicture } from "./mockup-picture";
+import { RenderedPreview } from "./rendered-preview";
 import { PrintFields } from "./print-fields";
 import { PrintPicture } from "./print-picture";
 import { WebFields } from "./web-fields";
@@ -212,6 +213,15 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
             }
           >
             {picture}
+            {draft.kind !== "master" && (
+              <div className="mt-4 border-t border-paper-200 pt-3">
+                <p className="mb-2 text-xs font-medium text-ink-soft">As rendered</p>
+                <RenderedPreview
+                  fragmentId={chosen && chosen.status === "approved" ? chosen.id : null}
+                  settings={ok || onlyName ? (presetSchema.safeParse({ ...draft, name: draft.name || "preview" }).data ?? null) : null}
+                />
+              </div>
+            )}
             <p className="mt-3 border-t border-paper-200 pt-2 text-[11px] text-ink-muted">
               {ok || onlyName ? presetLine(draft) : "Fix the settings marked in the form to see the summary."}
             </p>
