@@ -6,6 +6,10 @@ import type supertest from "supertest";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { openBrowser, signIn } from "./helpers/browser";
 import type { Fragment } from "../shared/schemas/fragments";
+import type { z } from "zod";
+import type { batchDetailResponse, PresetSummary } from "../shared/schemas/preset-api";
+
+type BatchDetail = z.infer<typeof batchDetailResponse>;
 
 let stack: Stack;
 let operator: supertest.Agent;
@@ -99,6 +103,70 @@ describe("batches in the browser", () => {
     // The batches list links to it.
     await page.getByRole("link", { name: "Batches", exact: true }).click();
     await expect.poll(() => page.getByRole("link", { name: "Browser batch" }).count(), { timeout: 10_000 }).toBe(1);
+
+    // Re-run at a new size. The studio's web preset gets a smaller long edge (a new preset
+    // version). The pieces are about 400 px, under the built-in 2048 px, so 200 px is what
+    // makes the new web copies really smaller.
+    const headers = { "X-Platen-Request": "1" };
+    const detail = async (id: string) => (await (await page.request.get(`${stack.url}/api/batches/${id}`)).json()) as BatchDetail;
+    const longEdge = (o: BatchDetail["items"][number]) => Math.max(o.pixelWidth ?? 0, o.pixelHeight ?? 0);
+    const before = await detail(batchId);
+    const oldWeb = before.items.filter((o) => o.preset === "web");
+    expect(oldWeb).toHaveLength(2);
+    for (const o of oldWeb) expect(longEdge(o)).toBeGreaterThan(200);
+    const oldPrintFiles = before.items.filter((o) => o.preset === "print-letter").map((o) => o.fileName);
+    expect(oldPrintFiles.every(Boolean)).toBe(true);
+    const presets = ((await (await page.request.get(`${stack.url}/api/presets`)).json()) as { presets: PresetSummary[] }).presets;
+    const web = presets.find((p) => p.name === "web")!;
+    const patched = await page.request.patch(`${stack.url}/api/presets/${web.id}`, {
+      headers,
+      data: { settings: { ...web.settings, size: { mode: "longEdge", longEdge: 200 } } },
+    });
+    expect(patched.status()).toBe(200);
+    expect(((await patched.json()) as { preset: PresetSummary }).preset.version).toBe(web.version + 1);
+
+    await page.getByRole("link", { name: "Browser batch", exact: true }).click();
+    await page.waitForURL(`${stack.url}/batches/${batchId}`);
+    await page.reload(); // the preset changed outside this page
+    await page.getByRole("button", { name: "Run again with…" }).click();
+    // The batch's own presets are picked already; the web one now at its new version.
+    await expect.poll(() => page.getByRole("checkbox", { name: "Preset web" }).isChecked(), { timeout: 10_000 }).toBe(true);
+    expect(await page.getByRole("checkbox", { name: "Preset print-letter" }).isChecked()).toBe(true);
+    const rerunGroup = page.getByRole("group", { name: "Presets" });
+    expect(await rerunGroup.getByText(`v${web.version + 1}`, { exact: true }).count()).toBe(1);
+    // Keeping the old outputs is the default; this operator replaces them.
+    expect(await page.getByLabel("Keep them beside the new ones").isChecked()).toBe(true);
+    await page.getByLabel(/^Replace them/).check();
+    await page.getByRole("button", { name: "Run the new batch" }).click();
+
+    await page.waitForURL((u) => /\/batches\/[0-9a-f-]{36}$/.test(u.pathname) && !u.pathname.endsWith(batchId));
+    const againId = new URL(page.url()).pathname.split("/").pop()!;
+    await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent(), { timeout: 10_000 }).toContain("Browser batch (again)");
+    await expect.poll(() => page.getByTestId("batch-state").getAttribute("data-state"), { timeout: 90_000 }).toBe("done");
+    expect(await page.getByTestId("batch-done-count").textContent()).toBe("4");
+    const againRows = page.getByRole("table", { name: "Outputs" }).locator("tbody tr");
+    expect(await againRows.count()).toBe(4);
+    expect(await page.locator('tr[data-state="done"]').count()).toBe(4);
+    // The table shows the new web copies at 200 px on the long edge.
+    const cells = await Promise.all((await againRows.all()).map((r) => r.locator("td").allTextContents()));
+    const webPixels = cells.filter((c) => c[1]?.trim() === "web").map((c) => c[3]!.trim());
+    expect(webPixels).toHaveLength(2);
+    for (const t of webPixels) {
+      const [w, h] = t.split(" × ").map(Number);
+      expect(Math.max(w!, h!)).toBe(200);
+    }
+
+    const after = await detail(againId);
+    const newWeb = after.items.filter((o) => o.preset === "web");
+    expect(newWeb).toHaveLength(2);
+    for (const o of newWeb) {
+      expect(o.state).toBe("done");
+      expect(longEdge(o)).toBe(200);
+    }
+    // Same fragments, print preset unchanged: the print files are reused, not made again.
+    expect(after.items.filter((o) => o.preset === "print-letter").map((o) => o.fileName).sort()).toEqual([...oldPrintFiles].sort());
+    // Replaced: the old batch no longer holds its old web files (removed once the new ones were made).
+    await expect.poll(async () => (await detail(batchId)).items.filter((o) => o.preset === "web" && o.fileName !== null).length, { timeout: 10_000 }).toBe(0);
     await page.close();
-  });
+  }, 180_000);
 });

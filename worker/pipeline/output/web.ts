@@ -120,7 +120,7 @@ export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights)
   else if (preset.format === "webp") out = out.webp({ quality: q, alphaQuality: 100 });
   else if (preset.format === "avif") out = out.avif({ quality: q });
   else out = out.png({ compressionLevel: 9 });
-  let data = await out.toBuffer();
+  let data: Buffer = await out.toBuffer();
   if (xmp && preset.format === "png") data = withPngXmp(data, xmp);
   return { data, width: raw.info.width, height: raw.info.height, dpi, warnings };
 }
