@@ -20,6 +20,7 @@ import { eightPieces } from "../tests/helpers/split-scenes";
 import { renderScene, writeScene } from "../tests/helpers/synthetic-scans";
 import { median, type Sample } from "./bench/measure";
 import { benchRecipe, formatRecipeBench } from "./bench/recipe";
+import { benchBatch, formatBatchBench } from "./bench/batch";
 
 const ROOT = path.resolve(import.meta.dirname, "..");
 const OUT = path.join(ROOT, ".bench");
@@ -179,8 +180,11 @@ async function main() {
   // Recipe cost per megapixel against a bare sharp copy (8 and 16 bits).
   const recipe = await benchRecipe({ runs: RUNS });
   process.stdout.write("\n" + formatRecipeBench(recipe));
+  // Batch throughput with one and two worker processes, and the queue's cost per job.
+  const batch = await benchBatch();
+  process.stdout.write("\n" + formatBatchBench(batch));
   fs.mkdirSync(OUT, { recursive: true });
-  const result = { at: new Date().toISOString(), node: process.version, runs: RUNS, rows, recipe };
+  const result = { at: new Date().toISOString(), node: process.version, runs: RUNS, rows, recipe, batch };
   fs.writeFileSync(path.join(OUT, "results.json"), JSON.stringify(result, null, 2) + "\n");
   process.stdout.write(`Written to ${path.relative(ROOT, path.join(OUT, "results.json"))}\n`);
 }

@@ -40,8 +40,11 @@ export async function startWorker(deps: WorkerDeps) {
   const workerIds: string[] = [];
   for (const [queue, handler] of Object.entries(handlers)) {
     for (let i = 0; i < config.workerConcurrency; i++) {
+      let self: string | undefined;
       workerIds.push(
-        await boss.work(queue, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async (jobs) => {
+        (self = await boss.work(queue, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async (jobs) => {
+          // Having found work, look again at once instead of waiting out the polling interval.
+          if (self) boss.notifyWorker(self);
           for (const job of jobs) {
             const ctx = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal };
             try {
@@ -51,7 +54,7 @@ export async function startWorker(deps: WorkerDeps) {
               throw err;
             }
           }
-        }),
+        })),
       );
     }
   }

@@ -1,0 +1,165 @@
+/**
+ * Batch throughput: 40 fragments × 3 presets made by one worker process, then by two, and the
+ * queue's own cost per job (a job that does nothing). Runs against the private cluster in a
+ * database of its own, dropped afterwards. Used by `npm run bench`; runs alone with
+ * `npx tsx scripts/bench/batch.ts`.
+ */
+import { spawn, type ChildProcess } from "node:child_process";
+import fs from "node:fs/promises";
+import os from "node:os";
+import path from "node:path";
+import pg from "pg";
+import sharp from "sharp";
+import { eq } from "drizzle-orm";
+
+const ROOT = path.resolve(import.meta.dirname, "../..");
+export const FRAGMENTS = 40;
+export const PRESET_NAMES = ["web", "square", "print-a4"] as const;
+
+export interface BatchBench {
+  outputs: number;
+  oneWorkerPerSecond: number;
+  twoWorkersPerSecond: number;
+  speedUp: number;
+  queueOverheadMsPerJob: number;
+}
+
+async function withDatabase<T>(fn: (url: string, dir: string) => Promise<T>): Promise<T> {
+  const { loadConfig } = await import("../../server/config");
+  const { startCluster } = await import("../lib/pg-cluster");
+  const cfg = loadConfig();
+  startCluster({ dir: path.join(cfg.dataDir, "pg"), port: cfg.dbPort, log: () => {} });
+  const admin = `postgres://platen@127.0.0.1:${cfg.dbPort}/postgres`;
+  const name = `platen_bench_${process.pid}`;
+  const c = new pg.Client({ connectionString: admin });
+  await c.connect();
+  await c.query(`create database ${name}`);
+  const dir = await fs.mkdtemp(path.join(os.tmpdir(), "platen-bench-batch-"));
+  try {
+    return await fn(`postgres://platen@127.0.0.1:${cfg.dbPort}/${name}`, dir);
+  } finally {
+    await c.query(`drop database if exists ${name} with (force)`);
+    await c.end();
+    await fs.rm(dir, { recursive: true, force: true });
+  }
+}
+
+function worker(env: Record<string, string>): ChildProcess {
+  return spawn(process.execPath, ["--import", "tsx", "worker/main.ts"], { cwd: ROOT, env: { ...process.env, ...env }, stdio: "ignore" });
+}
+
+const stopped = (c: ChildProcess) => new Promise((r) => (c.exitCode !== null ? r(null) : c.once("exit", r)));
+
+export async function benchBatch(): Promise<BatchBench> {
+  return withDatabase(async (url, dir) => {
+    const env = { DATABASE_URL: url, PLATEN_LIBRARY_DIR: path.join(dir, "library"), PLATEN_DATA_DIR: path.join(dir, "data"), PLATEN_WORKER_CONCURRENCY: "1", LOG_LEVEL: "silent", PLATEN_PROCESS: "bench-worker" };
+    const { overrideConfig } = await import("../../server/config");
+    const cfg = overrideConfig(env);
+    const { openDatabase, migrateDatabase } = await import("../../server/db");
+    const { startBoss } = await import("../../server/jobs/boss");
+    const { logger } = await import("../../server/logger");
+    const { Library } = await import("../../server/storage/library");
+    const schema = await import("../../server/db/schema");
+    const { ensureBuiltInPresets, listPresets } = await import("../../server/services/presets");
+    const { ensureBuiltInRecipes, recipeVersionFor } = await import("../../server/services/recipes");
+    const { ensureStudio } = await import("../../server/services/bootstrap");
+    const { createOutputBatch } = await import("../../server/services/output-batches");
+    const { getBatch } = await import("../../server/services/batches");
+    const database = openDatabase(url, 4);
+    await migrateDatabase(database.db);
+    await ensureStudio(database.db, cfg, "Bench studio", false);
+    await ensureBuiltInRecipes(database.db);
+    await ensureBuiltInPresets(database.db);
+    const boss = await startBoss({ url, log: logger, supervise: true });
+    const library = new Library(cfg.libraryDir);
+    const presetIds = (await listPresets(database.db)).filter((p) => (PRESET_NAMES as readonly string[]).includes(p.name)).map((p) => p.id);
+
+    // Two sets of 40 approved fragments with rendered 4 × 3 in masters at 300 DPI (invented data).
+    const master = await sharp({ create: { width: 1200, height: 900, channels: 3, background: "#8a5a44" } })
+      .tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+      .toBuffer();
+    const [intake] = await database.db.insert(schema.intakes).values({ name: "Bench" }).returning();
+    const makeSet = async (label: string) => {
+      const [scan] = await database.db
+        .insert(schema.scans)
+        .values({ intakeId: intake!.id, originalName: `${label}.tif`, source: "inbox", sha256: label.padEnd(64, "0"), sizeBytes: 1, originalKey: "originals/none", status: "ready", width: 20000, height: 20000, dpiX: 300, dpiY: 300, dpiSource: "embedded" })
+        .returning();
+      const ids: string[] = [];
+      for (let i = 0; i < FRAGMENTS; i++) {
+        const g = { box: { x: 0, y: 0, width: 1200, height: 900 }, angle: 0, rect: { cx: 600, cy: 450, width: 1200, height: 900 }, outline: [[0, 0], [1200, 0], [1200, 900], [0, 900]] as [number, number][], shape: "rectangle" as const };
+        const [f] = await database.db.insert(schema.fragments).values({ scanId: scan!.id, position: i + 1, status: "approved", renderState: "done", ...g, areaPx: 1080000 }).returning();
+        const key = `masters/${f!.id}.tif`;
+        await fs.mkdir(path.dirname(library.pathFor(key)), { recursive: true });
+        await fs.writeFile(library.pathFor(key), master);
+        const recipe = await recipeVersionFor(database.db, f!.id);
+        await database.db.insert(schema.outputs).values({ fragmentId: f!.id, kind: "master", key, format: "tiff", width: 1200, height: 900, bitDepth: 8, hasAlpha: false, dpi: 300, bytes: master.length, revision: 1, recipeVersionId: recipe.id });
+        ids.push(f!.id);
+      }
+      return ids;
+    };
+
+    // createdBy must be a real user: make one.
+    const [user] = await database.db.insert(schema.users).values({ email: "bench@bench.local", name: "Bench", role: "operator", passwordHash: "x" }).returning();
+    const setA = await makeSet("bench-a");
+    const setB = await makeSet("bench-b");
+    /** Outputs per second for one batch over `ids` made by `workers` worker processes. */
+    const timed = async (ids: string[], workers: number) => {
+      const children = Array.from({ length: workers }, () => worker(env));
+      await new Promise((r) => setTimeout(r, 4000)); // let the workers start before the clock does
+      const t0 = performance.now();
+      const batch = await createOutputBatch(database, boss, user!.id, { selection: { fragmentIds: ids }, presetIds });
+      while (!(await getBatch(database.db, batch.id)).finishedAt) await new Promise((r) => setTimeout(r, 200));
+      const s = (performance.now() - t0) / 1000;
+      children.forEach((c) => c.kill("SIGTERM"));
+      await Promise.all(children.map(stopped));
+      return (await getBatch(database.db, batch.id)).counts.done / s;
+    };
+    const one = await timed(setA, 1);
+    const two = await timed(setB, 2);
+
+    // The queue's own cost: jobs whose handler does nothing, one worker loop, counted end to end.
+    const NOOP = "bench-noop";
+    await boss.createQueue(NOOP, { name: NOOP });
+    const N = 200;
+    let seen = 0;
+    // The same loop the worker runs (worker/worker.ts): one job at a time, looking again at once after work.
+    let noopId: string | undefined;
+    const allDone = new Promise<void>((resolve) => {
+      void boss
+        .work(NOOP, { batchSize: 1, pollingIntervalSeconds: 0.5 }, async () => {
+          if (noopId) boss.notifyWorker(noopId);
+          if (++seen === N) resolve();
+        })
+        .then((id) => (noopId = id));
+    });
+    const t0 = performance.now();
+    await boss.insert(Array.from({ length: N }, () => ({ name: NOOP, data: {} })));
+    await allDone;
+    const overhead = (performance.now() - t0) / N;
+    await boss.stop({ graceful: false, wait: true });
+    await database.db.delete(schema.batchItems).where(eq(schema.batchItems.state, "queued"));
+    await database.close();
+    return {
+      outputs: FRAGMENTS * presetIds.length,
+      oneWorkerPerSecond: Math.round(one * 100) / 100,
+      twoWorkersPerSecond: Math.round(two * 100) / 100,
+      speedUp: Math.round((two / one) * 100) / 100,
+      queueOverheadMsPerJob: Math.round(overhead * 10) / 10,
+    };
+  });
+}
+
+export function formatBatchBench(b: BatchBench): string {
+  return [
+    `batch of ${FRAGMENTS} fragments × ${PRESET_NAMES.length} presets (${PRESET_NAMES.join(", ")}): ${b.outputs} outputs`,
+    `  one worker  ${b.oneWorkerPerSecond} outputs/s`,
+    `  two workers ${b.twoWorkersPerSecond} outputs/s  (${b.speedUp}× one; target ≥ 1.7×)`,
+    `  queue overhead ${b.queueOverheadMsPerJob} ms per job (no-op jobs; target ≤ 20 ms)`,
+    "",
+  ].join("\n");
+}
+
+if (process.argv[1] && path.resolve(process.argv[1]) === path.resolve(import.meta.filename)) {
+  process.stdout.write(formatBatchBench(await benchBatch()));
+  process.exit(0);
+}
