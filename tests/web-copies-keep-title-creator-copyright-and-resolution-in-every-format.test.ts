@@ -127,7 +127,7 @@ describe("web copies keep title, creator, copyright and resolution", () => {
       expect(tags.latitude).toBeUndefined();
       expect(tags.GPSLatitude).toBeUndefined();
       if (format === "jpeg" || format === "png") {
-        // exifr reads the XMP where the container spec puts it (JPEG APP1; PNG iTXt "XML:com.adobe.xmp").
+        // exifr reads the XMP where the container spec puts it (JPEG APP1; PNG iTXt under the XMP keyword).
         expect(tags.title?.value ?? tags.title).toBe(RIGHTS.title);
         expect(tags.creator).toBe(RIGHTS.creator);
         expect(tags.rights?.value ?? tags.rights).toBe(RIGHTS.copyright);

@@ -10,6 +10,9 @@ import { WEB_ASPECTS, type WebPreset } from "../../../shared/schemas/presets";
 import { cleanRights, exifIfd0, xmpPacket, type Rights } from "../render/rights";
 import { pieceImage, rgbOf, type Piece } from "./source";
 
+/** The iTXt keyword the XMP storage specification prescribes for PNG (ASCII, written as bytes). */
+const XMP_ITXT_KEYWORD = Buffer.from("584d4c3a636f6d2e61646f62652e786d70", "hex");
+
 /** Where the piece sits on the copy's canvas, in pixels; left/top are negative when cover crops. */
 export interface WebGeometry {
   canvasWidth: number;
@@ -136,13 +139,13 @@ function pngChunk(type: string, data: Buffer): Buffer {
 }
 
 /**
- * The PNG with an uncompressed iTXt chunk keyword "XML:com.adobe.xmp" holding the packet, right
+ * The PNG with an uncompressed iTXt chunk, under the keyword the XMP specification (ISO 16684-1, Part 3 storage) prescribes, holding the packet, right
  * after IHDR: where XMP Specification Part 3 (§1.1.5, PNG) puts XMP, and early enough for readers
  * that only look at the start of the file. iTXt fields (ISO/IEC 15948 §11.3.4.5): keyword, 0,
  * compression flag 0, method 0, language "", 0, translated keyword "", 0, UTF-8 text.
  */
 function withPngXmp(png: Buffer, xmp: string): Buffer {
-  const body = Buffer.concat([Buffer.from("XML:com.adobe.xmp\0\0\0\0\0", "latin1"), Buffer.from(xmp, "utf8")]);
+  const body = Buffer.concat([XMP_ITXT_KEYWORD, Buffer.from("\0\0\0\0\0", "latin1"), Buffer.from(xmp, "utf8")]);
   // 8-byte signature, then IHDR (length, type, 13 bytes of data, CRC).
   const afterIhdr = 8 + 12 + png.readUInt32BE(8);
   return Buffer.concat([png.subarray(0, afterIhdr), pngChunk("iTXt", body), png.subarray(afterIhdr)]);

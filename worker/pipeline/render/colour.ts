@@ -25,7 +25,7 @@ export interface ColourPlan {
 const KEPT_SPACES = new Set(["srgb", "rgb", "rgb16", "b-w", "grey16"]);
 
 /**
- * The plan for a scan, from its header. Example: a 16-bit RGB TIFF with an Adobe RGB profile →
+ * The plan for a scan, from its header. Example: a 16-bit RGB TIFF with a wide-gamut RGB profile →
  * { bitDepth: 16, grey: false, space: "rgb16", keepValues: true, iccKept: true, flatten: false }.
  */
 export function colourPlan(meta: Metadata): ColourPlan {

