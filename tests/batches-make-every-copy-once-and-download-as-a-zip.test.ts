@@ -106,6 +106,11 @@ describe("output batches", () => {
   it("re-runs at a new size and replaces the old outputs once the new ones are made", async () => {
     const list = (await viewer.get("/api/batches")).body.batches;
     const webOnly = list[0];
+    const { rows: oldFiles } = await stack.database.pool.query(
+      "select o.key from outputs o join preset_versions v on v.id = o.preset_version_id where v.preset_id = $1",
+      [preset("web").id],
+    );
+    expect(oldFiles.length).toBe(2);
     const edited = await operator.patch(`/api/presets/${preset("web").id}`).send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 400 } } });
     expect(edited.body.preset.version).toBe(2);
     const rerun = await operator.post(`/api/batches/${webOnly.id}/rerun`).send({ replaceOld: true });
@@ -118,6 +123,8 @@ describe("output batches", () => {
       [preset("web").id],
     );
     expect(rows[0].n).toBe(0);
+    // …and their files are gone from the library too.
+    for (const f of oldFiles) expect(await stack.library.exists(f.key)).toBe(false);
   });
 
   it("lists the same files in the zip as in its CSV, one row per output", async () => {

@@ -27,40 +27,44 @@ export async function createBatch(
   return batch!;
 }
 
-/** Moves one item on; closes the batch when nothing is left to do. */
-export async function settleBatchItem(db: Db, itemId: string, state: "running" | "done" | "failed", error: string | null = null) {
+/**
+ * Moves one item on; closes the batch when nothing is left to do. Returns the library keys of
+ * outputs a replacing re-run has just retired, for the caller to delete.
+ */
+export async function settleBatchItem(db: Db, itemId: string, state: "running" | "done" | "failed", error: string | null = null): Promise<string[]> {
   const [item] = await db.update(batchItems).set({ state, error, updatedAt: new Date() }).where(eq(batchItems.id, itemId)).returning();
-  if (!item || state === "running") return;
+  if (!item || state === "running") return [];
   const [open] = await db
     .select({ n: sql<number>`count(*)::int` })
     .from(batchItems)
     .where(and(eq(batchItems.batchId, item.batchId), inArray(batchItems.state, ["queued", "running"])));
-  if ((open?.n ?? 0) > 0) return;
+  if ((open?.n ?? 0) > 0) return [];
   const [closed] = await db
     .update(batches)
     .set({ finishedAt: new Date(), updatedAt: new Date() })
     .where(and(eq(batches.id, item.batchId), isNull(batches.finishedAt)))
     .returning();
-  if (closed?.rerunOf && closed.replaceOld) await replaceOldOutputs(db, closed.rerunOf, closed.id);
+  if (closed?.rerunOf && closed.replaceOld) return replaceOldOutputs(db, closed.rerunOf, closed.id);
+  return [];
 }
 
 /**
  * After a re-run that replaces, the old batch's outputs that the new one did not reuse are
- * removed (rows here; files by the caller's library sweep). Only once the new ones are all made.
+ * removed (rows here; the caller deletes the files). Only once the new ones are all made.
  */
-async function replaceOldOutputs(db: Db, oldBatchId: string, newBatchId: string) {
+async function replaceOldOutputs(db: Db, oldBatchId: string, newBatchId: string): Promise<string[]> {
   const keep = db.select({ id: batchItems.outputId }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), eq(batchItems.state, "done")));
   const [failed] = await db.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), inArray(batchItems.state, ["failed", "cancelled"])));
-  if (failed?.n) return; // not all new outputs exist: keep the old ones
+  if (failed?.n) return []; // not all new outputs exist: keep the old ones
   const old = await db
     .select({ id: batchItems.outputId })
     .from(batchItems)
     .where(and(eq(batchItems.batchId, oldBatchId), sql`${batchItems.outputId} is not null`, sql`${batchItems.outputId} not in (${keep})`));
   const ids = old.map((o) => o.id!).filter(Boolean);
-  if (ids.length) {
-    await db.update(batchItems).set({ outputId: null }).where(inArray(batchItems.outputId, ids));
-    await db.delete(outputs).where(inArray(outputs.id, ids));
-  }
+  if (!ids.length) return [];
+  await db.update(batchItems).set({ outputId: null }).where(inArray(batchItems.outputId, ids));
+  const gone = await db.delete(outputs).where(inArray(outputs.id, ids)).returning({ key: outputs.key });
+  return gone.map((g) => g.key);
 }
 
 async function present(db: Db, rows: BatchRow[]): Promise<Batch[]> {

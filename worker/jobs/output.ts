@@ -52,7 +52,7 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
   const [made] = await db.select().from(outputs).where(eq(outputs.dedupeKey, key));
   if (made && (await deps.library.exists(made.key))) {
     await db.update(batchItems).set({ outputId: made.id }).where(eq(batchItems.id, batchItemId));
-    await settleBatchItem(db, batchItemId, "done");
+    for (const key of await settleBatchItem(db, batchItemId, "done")) await fs.rm(deps.library.pathFor(key), { force: true });
     await notify(pool, { kind: "worker" });
     return log.info("output: reused");
   }
@@ -89,7 +89,8 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
       .onConflictDoUpdate({ target: outputs.dedupeKey, set: { key: fileKey, bytes: report.bytes, updatedAt: new Date() } })
       .returning({ id: outputs.id });
     await db.update(batchItems).set({ outputId: row!.id }).where(eq(batchItems.id, batchItemId));
-    await settleBatchItem(db, batchItemId, "done");
+    // The last item of a replacing re-run retires the old batch's files.
+    for (const key of await settleBatchItem(db, batchItemId, "done")) await fs.rm(deps.library.pathFor(key), { force: true });
     await notify(pool, { kind: "worker" });
     log.info({ preset: preset.kind, warnings: report.warnings }, "output: made");
   } catch (err) {
