@@ -1,4 +1,5 @@
 /** What every `platen` command shares: its shape, its output channels, its exit codes. */
+import { parseArgs, type ParseArgsConfig } from "node:util";
 
 export const EXIT_FAILED = 1;
 export const EXIT_USAGE = 2;
@@ -35,4 +36,31 @@ export function oneLine(text: string): string {
 /** The `platen <name> --help` text of a command. */
 export function commandHelp(command: Command): string {
   return [`Usage: platen ${command.usage}`, "", command.summary, ...command.help, ""].join("\n");
+}
+
+/**
+ * Parses one command's arguments: the options given, and exactly one file (`what` names it in the
+ * message, e.g. "scan file"). Wrong command lines become UsageError with one plain sentence;
+ * with --help, `file` is "" and no file is required.
+ */
+export function parseFileArgs<const O extends ParseArgsConfig["options"]>(
+  args: string[],
+  options: O,
+  what: { a: string; one: string },
+) {
+  let parsed;
+  try {
+    parsed = parseArgs({ args, options, allowPositionals: true, strict: true });
+  } catch (err) {
+    const message = err instanceof Error ? err.message : String(err);
+    const unknown = /Unknown option '([^']+)'/.exec(message);
+    throw new UsageError(unknown ? `unknown option ${unknown[1]}` : message.replace(/\.$/, ""));
+  }
+  const { positionals, values } = parsed;
+  if ((values as { help?: boolean }).help) return { file: "", values, help: true as boolean };
+  if (positionals.length === 0) throw new UsageError(`expected the path of ${what.a}`);
+  if (positionals.length > 1) {
+    throw new UsageError(`expected one ${what.one} but received ${positionals.length} (${positionals.join(", ")})`);
+  }
+  return { file: positionals[0]!, values, help: false as boolean };
 }

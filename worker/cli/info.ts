@@ -1,10 +1,9 @@
 import path from "node:path";
-import { parseArgs } from "node:util";
 import { config, loadConfig } from "../../server/config";
 import type { ResolutionOrigin } from "../../shared/schemas/scans";
 import { formatBytes, formatMegapixels, formatNumber, formatSize } from "../../shared/units";
 import { readScanInfo, verifyDecodes, type ScanInfo } from "../pipeline/metadata";
-import { UsageError, commandHelp, type CliIo, type Command } from "./command";
+import { commandHelp, parseFileArgs, type CliIo, type Command } from "./command";
 
 const ORIGIN_LABEL: Record<ResolutionOrigin, string> = {
   tiff: "TIFF resolution tags",
@@ -58,31 +57,13 @@ export function formatScanInfo(file: string, info: ScanInfo): string {
 }
 
 function parse(args: string[]): { file: string; json: boolean; help: boolean } {
-  let parsed;
-  try {
-    parsed = parseArgs({
-      args,
-      options: {
-        json: { type: "boolean", default: false },
-        help: { type: "boolean", short: "h", default: false },
-      },
-      allowPositionals: true,
-      strict: true,
-    });
-  } catch (err) {
-    const message = err instanceof Error ? err.message : String(err);
-    const unknown = /Unknown option '([^']+)'/.exec(message);
-    throw new UsageError(unknown ? `unknown option ${unknown[1]}` : message.replace(/\.$/, ""));
-  }
-  const { positionals, values } = parsed;
-  if (values.help) return { file: "", json: false, help: true };
-  if (positionals.length === 0) throw new UsageError("expected the path of a scan file");
-  if (positionals.length > 1) {
-    throw new UsageError(
-      `expected one scan file but received ${positionals.length} (${positionals.join(", ")})`,
-    );
-  }
-  return { file: positionals[0]!, json: values.json, help: false };
+  const { file, values, help } = parseFileArgs(
+    args,
+    { json: { type: "boolean", default: false }, help: { type: "boolean", short: "h", default: false } },
+    { a: "a scan file", one: "scan file" },
+  );
+  if (help) return { file: "", json: false, help: true };
+  return { file, json: values.json, help: false };
 }
 
 /** `platen info <file> [--json]`: what the worker reads from a scan's header, after a decode check. */

@@ -1,7 +1,6 @@
 import fs from "node:fs/promises";
 import os from "node:os";
 import path from "node:path";
-import { parseArgs } from "node:util";
 import sharp from "sharp";
 import { config, loadConfig } from "../../server/config";
 import { DEFAULT_RECIPE_NAME, type Recipe } from "../../shared/schemas/recipes";
@@ -25,7 +24,7 @@ import {
 import { commitStaged, discardStaged, stage, syncStaged } from "../pipeline/render/staging";
 import { BUILT_IN_PRESETS, presetProblem, presetSchema, type Preset } from "../../shared/schemas/presets";
 import { renderOutput, type OutputReport } from "../pipeline/output/index";
-import { UsageError, commandHelp, type CliIo, type Command } from "./command";
+import { UsageError, commandHelp, parseFileArgs, type CliIo, type Command } from "./command";
 
 /** Output formats by extension; TIFF and PNG keep 16 bits, JPEG and WebP are 8-bit. */
 const FORMATS = {
@@ -62,27 +61,15 @@ const OPTIONS = {
 } as const;
 
 function parse(args: string[]): RenderArgs {
-  let parsed;
-  try {
-    parsed = parseArgs({ args, options: OPTIONS, allowPositionals: true, strict: true });
-  } catch (err) {
-    const message = err instanceof Error ? err.message : String(err);
-    const unknown = /Unknown option '([^']+)'/.exec(message);
-    throw new UsageError(unknown ? `unknown option ${unknown[1]}` : message.replace(/\.$/, ""));
-  }
-  const { positionals, values } = parsed;
-  if (values.help) return { file: "", recipe: "", out: "", format: "tiff", help: true };
-  if (positionals.length === 0) throw new UsageError("expected the path of an image or scan file");
-  if (positionals.length > 1) {
-    throw new UsageError(`expected one image file but received ${positionals.length} (${positionals.join(", ")})`);
-  }
+  const { file, values, help } = parseFileArgs(args, OPTIONS, { a: "an image or scan file", one: "image file" });
+  if (help) return { file: "", recipe: "", out: "", format: "tiff", help: true };
   if (!values.out) throw new UsageError("expected --out <path> for the corrected image");
   if (values.preset !== undefined) {
-    if (path.resolve(values.out) === path.resolve(positionals[0]!)) {
+    if (path.resolve(values.out) === path.resolve(file)) {
       throw new UsageError("expected --out to be a new file: the original is never overwritten");
     }
     const withPreset: RenderArgs = {
-      file: positionals[0]!, recipe: values.recipe ?? DEFAULT_RECIPE_NAME, recipeGiven: values.recipe !== undefined,
+      file: file, recipe: values.recipe ?? DEFAULT_RECIPE_NAME, recipeGiven: values.recipe !== undefined,
       preset: values.preset, json: values.json, out: values.out, format: "tiff", help: false,
     };
     if (values.dpi !== undefined) withPreset.dpi = parseDpi(values.dpi);
@@ -92,10 +79,10 @@ function parse(args: string[]): RenderArgs {
   if (!format) {
     throw new UsageError(`expected --out to end in ${Object.keys(FORMATS).join(", ")} but received "${values.out}"`);
   }
-  if (path.resolve(values.out) === path.resolve(positionals[0]!)) {
+  if (path.resolve(values.out) === path.resolve(file)) {
     throw new UsageError("expected --out to be a new file: the original is never overwritten");
   }
-  const out: RenderArgs = { file: positionals[0]!, recipe: values.recipe ?? DEFAULT_RECIPE_NAME, out: values.out, format, help: false };
+  const out: RenderArgs = { file: file, recipe: values.recipe ?? DEFAULT_RECIPE_NAME, out: values.out, format, help: false };
   if (values.dpi !== undefined) out.dpi = parseDpi(values.dpi);
   out.json = values.json;
   return out;

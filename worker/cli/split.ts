@@ -1,9 +1,8 @@
 import path from "node:path";
-import { parseArgs } from "node:util";
 import { config, loadConfig } from "../../server/config";
 import { formatNumber } from "../../shared/units";
 import { splitScan, type SplitResult } from "../pipeline/split/index";
-import { UsageError, commandHelp, type CliIo, type Command } from "./command";
+import { UsageError, commandHelp, parseFileArgs, type CliIo, type Command } from "./command";
 
 interface SplitArgs {
   file: string;
@@ -14,33 +13,18 @@ interface SplitArgs {
 }
 
 function parse(args: string[]): SplitArgs {
-  let parsed;
-  try {
-    parsed = parseArgs({
-      args,
-      options: {
-        json: { type: "boolean", default: false },
-        dpi: { type: "string" },
-        sensitivity: { type: "string" },
-        help: { type: "boolean", short: "h", default: false },
-      },
-      allowPositionals: true,
-      strict: true,
-    });
-  } catch (err) {
-    const message = err instanceof Error ? err.message : String(err);
-    const unknown = /Unknown option '([^']+)'/.exec(message);
-    throw new UsageError(unknown ? `unknown option ${unknown[1]}` : message.replace(/\.$/, ""));
-  }
-  const { positionals, values } = parsed;
-  if (values.help) return { file: "", json: false, help: true };
-  if (positionals.length === 0) throw new UsageError("expected the path of a scan file");
-  if (positionals.length > 1) {
-    throw new UsageError(
-      `expected one scan file but received ${positionals.length} (${positionals.join(", ")})`,
-    );
-  }
-  const out: SplitArgs = { file: positionals[0]!, json: values.json, help: false };
+  const { file, values, help } = parseFileArgs(
+    args,
+    {
+      json: { type: "boolean", default: false },
+      dpi: { type: "string" },
+      sensitivity: { type: "string" },
+      help: { type: "boolean", short: "h", default: false },
+    },
+    { a: "a scan file", one: "scan file" },
+  );
+  if (help) return { file: "", json: false, help: true };
+  const out: SplitArgs = { file, json: values.json, help: false };
   if (values.dpi !== undefined) {
     const dpi = Number(values.dpi);
     if (!(Number.isFinite(dpi) && dpi > 0 && dpi <= 100_000)) {
