@@ -31,24 +31,34 @@ export async function fragmentThumb(
   const width = Math.max(1, Math.min((meta.width ?? 1) - left, Math.ceil(around.width * s) + 2 * pad));
   const height = Math.max(1, Math.min((meta.height ?? 1) - top, Math.ceil(around.height * s) + 2 * pad));
   const region = await sharp(previewPath).extract({ left, top, width, height }).toBuffer();
-  const turned = sharp(region).rotate(f.angle, { background: "#ffffff" });
-  const { data, info } = await turned.raw().toBuffer({ resolveWithObject: true });
-  // Where the rect's centre went: rotated about the region's centre into the enlarged canvas.
-  const c = rotatePoint([f.rect.cx * s - left, f.rect.cy * s - top], [width / 2, height / 2], f.angle);
-  const cx = c[0] - width / 2 + info.width / 2;
-  const cy = c[1] - height / 2 + info.height / 2;
-  const w = Math.max(1, Math.round(f.rect.width * s));
-  const h = Math.max(1, Math.round(f.rect.height * s));
-  const x0 = Math.min(Math.max(0, Math.round(cx - w / 2)), info.width - 1);
-  const y0 = Math.min(Math.max(0, Math.round(cy - h / 2)), info.height - 1);
-  const crop = { left: x0, top: y0, width: Math.min(w, info.width - x0), height: Math.min(h, info.height - y0) };
+  const upright = await cropUpright(region, { x: left, y: top }, s, f.rect, f.angle);
   await library.writeAtomic(key, async (tmp) => {
-    await sharp(data, { raw: { width: info.width, height: info.height, channels: info.channels } })
-      .extract(crop)
+    await upright
       .resize(FRAGMENT_THUMB_EDGE, FRAGMENT_THUMB_EDGE, { fit: "inside", withoutEnlargement: true })
       .flatten({ background: "#ffffff" })
       .jpeg({ quality: 80 })
       .toFile(tmp);
   });
   return library.pathFor(key);
+}
+
+/**
+ * The upright piece from a region of the scan: `region` holds scan pixels at scale `s` (region
+ * pixels per scan pixel) whose top-left corner is at `origin` in scaled pixels. The region is
+ * turned by `angle` about its centre (sharp enlarges the canvas), and the fragment's rect is cut
+ * out around where its centre went. Example: a preview region of a 7.5° piece → its upright crop.
+ */
+export async function cropUpright(region: Buffer, origin: { x: number; y: number }, s: number, rect: Rect, angle: number) {
+  const meta = await sharp(region).metadata();
+  const width = meta.width ?? 1;
+  const height = meta.height ?? 1;
+  const { data, info } = await sharp(region).rotate(angle, { background: "#ffffff" }).raw().toBuffer({ resolveWithObject: true });
+  const c = rotatePoint([rect.cx * s - origin.x, rect.cy * s - origin.y], [width / 2, height / 2], angle);
+  const cx = c[0] - width / 2 + info.width / 2;
+  const cy = c[1] - height / 2 + info.height / 2;
+  const w = Math.max(1, Math.min(info.width, Math.round(rect.width * s)));
+  const h = Math.max(1, Math.min(info.height, Math.round(rect.height * s)));
+  const left = Math.min(Math.max(0, Math.round(cx - w / 2)), info.width - w);
+  const top = Math.min(Math.max(0, Math.round(cy - h / 2)), info.height - h);
+  return sharp(data, { raw: { width: info.width, height: info.height, channels: info.channels } }).extract({ left, top, width: w, height: h });
 }

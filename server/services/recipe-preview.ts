@@ -4,7 +4,8 @@ import type { Db } from "../db";
 import { fragments, scans } from "../db/schema";
 import type { Library } from "../storage/library";
 import { notFound, badRequest } from "../errors";
-import { boxOfPoints, rectCorners, rotatePoint } from "../../shared/geometry";
+import { boxOfPoints, rectCorners } from "../../shared/geometry";
+import { cropUpright } from "./fragment-thumbs";
 import type { RecipeStep } from "../../shared/schemas/recipes";
 import type { RecipePreview } from "../../shared/schemas/recipe-api";
 import { clipping, compileRecipe, histograms, isRecipeError, toRaw, sharpFromRaw, type RawImage } from "../../worker/pipeline/colour";
@@ -32,20 +33,9 @@ async function previewBase(library: Library, f: typeof fragments.$inferSelect, s
     .toColourspace("srgb")
     .png()
     .toBuffer({ resolveWithObject: true });
-  const turned = await sharp(region.data).rotate(f.angle, { background: "#ffffff" }).raw().toBuffer({ resolveWithObject: true });
-  // The rect's centre, rotated about the region's centre into the enlarged canvas.
-  const w0 = region.info.width;
-  const h0 = region.info.height;
-  const c = rotatePoint([(f.rect.cx - b.x) * s, (f.rect.cy - b.y) * s], [w0 / 2, h0 / 2], f.angle);
-  const cx = c[0] - w0 / 2 + turned.info.width / 2;
-  const cy = c[1] - h0 / 2 + turned.info.height / 2;
-  const w = Math.max(1, Math.min(turned.info.width, Math.round(f.rect.width * s)));
-  const h = Math.max(1, Math.min(turned.info.height, Math.round(f.rect.height * s)));
-  const left = Math.min(Math.max(0, Math.round(cx - w / 2)), turned.info.width - w);
-  const top = Math.min(Math.max(0, Math.round(cy - h / 2)), turned.info.height - h);
+  const upright = await cropUpright(region.data, { x: b.x * s, y: b.y * s }, s, f.rect, f.angle);
   await library.writeAtomic(key, async (tmp) => {
-    await sharp(turned.data, { raw: { width: turned.info.width, height: turned.info.height, channels: turned.info.channels } })
-      .extract({ left, top, width: w, height: h })
+    await upright
       .removeAlpha()
       .png({ compressionLevel: 1 })
       .toFile(tmp);
