@@ -47,8 +47,12 @@ export async function startWorker(deps: WorkerDeps) {
           if (self) boss.notifyWorker(self);
           for (const job of jobs) {
             const ctx = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal };
+            const started = performance.now();
             try {
               await handler(deps, job.data, ctx);
+              // One line per finished job, naming this process: how an operator (and the
+              // two-worker test) tells which machine ran what.
+              log.info({ jobId: job.id, queue: job.name, attempt: job.retryCount + 1, ms: Math.round(performance.now() - started) }, "job done");
             } catch (err) {
               log.error({ err, jobId: job.id, queue: job.name, data: job.data, retryCount: job.retryCount }, "job failed");
               throw err;

@@ -1,0 +1,151 @@
+import type { ChildProcess } from "node:child_process";
+import sharp from "sharp";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type supertest from "supertest";
+import { spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import type { Fragment } from "../shared/schemas/fragments";
+import type { PresetSummary } from "../shared/schemas/preset-api";
+
+/**
+ * Many machines: the server on one, workers on others, all against one PostgreSQL. Here two
+ * worker processes share one database and one library; every job must run exactly once (none
+ * twice, none lost), counted from what each process says it ran and from pg-boss's own records.
+ */
+
+const SCANS = 5;
+const PIECES = [2, 3, 2, 3, 2];
+
+let stack: Stack;
+let operator: supertest.Agent;
+const children: { name: string; child: ChildProcess; lines: string[] }[] = [];
+
+/** A 300 DPI bed with `n` coloured pieces; each scan differs so none is taken as a duplicate. */
+async function bed(seed: number, n: number) {
+  const rects = Array.from({ length: n }, (_, i) => {
+    const x = 80 + i * 360;
+    const hue = (seed * 53 + i * 97) % 360;
+    return `<rect x="${x}" y="${90 + seed * 7}" width="${260 + seed * 3}" height="${330 - i * 20}" fill="hsl(${hue},55%,42%)"/>`;
+  }).join("");
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="${n * 360 + 120}" height="560"><rect width="100%" height="100%" fill="#f6f5f1"/>${rects}</svg>`;
+  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+}
+
+function startWorkerProcess(name: string) {
+  const child = spawnProcess("worker/main.ts", { ...stack.env, PLATEN_PROCESS: name, LOG_LEVEL: "info", PLATEN_WORKER_CONCURRENCY: "2" });
+  const entry = { name, child, lines: [] as string[] };
+  let rest = "";
+  child.stdout!.on("data", (chunk: Buffer) => {
+    const text = rest + chunk.toString("utf8");
+    const parts = text.split("\n");
+    rest = parts.pop()!;
+    entry.lines.push(...parts);
+  });
+  child.stderr!.on("data", () => {});
+  children.push(entry);
+  return entry;
+}
+
+/** Each process's own account of the jobs it finished: job id → the processes that say they ran it. */
+function jobsRun() {
+  const ran = new Map<string, string[]>();
+  for (const { lines } of children) {
+    for (const line of lines) {
+      if (!line.startsWith("{")) continue;
+      const rec = JSON.parse(line) as { msg?: string; jobId?: string; proc?: string };
+      if (rec.msg === "job done" && rec.jobId) ran.set(rec.jobId, [...(ran.get(rec.jobId) ?? []), rec.proc!]);
+    }
+  }
+  return ran;
+}
+
+beforeAll(async () => {
+  stack = await startStack({ worker: false, watcher: false });
+  operator = await userAgent(stack, "operator");
+  startWorkerProcess("worker-a");
+  startWorkerProcess("worker-b");
+  await waitFor("both workers to report in", async () => {
+    const { rows } = await stack.database.pool.query("select count(*)::int as n from processes where kind = 'worker' and heartbeat_at > now() - interval '15 seconds'");
+    return rows[0].n === 2 ? true : null;
+  }, 60_000);
+}, 90_000);
+
+afterAll(async () => {
+  for (const { child } of children) if (child.exitCode === null) child.kill("SIGKILL");
+  await Promise.all(children.map(({ child }) => (child.exitCode !== null ? null : new Promise((r) => child.once("exit", r)))));
+  await stack?.stop();
+});
+
+describe("two worker processes on one database", () => {
+  it("split, render and make outputs for every scan, each job run exactly once", async () => {
+    const upload = operator.post("/api/scans/upload");
+    for (let i = 0; i < SCANS; i++) upload.attach("files", await bed(i + 1, PIECES[i]!), `machines-${i + 1}.tif`);
+    const res = await upload;
+    expect(res.status, JSON.stringify(res.body)).toBe(201);
+    const scanIds = (res.body.results as { scanId: string }[]).map((r) => r.scanId);
+    expect(scanIds).toHaveLength(SCANS);
+
+    for (const [i, id] of scanIds.entries()) {
+      await waitFor(`scan ${i + 1} to be split`, async () => ((await operator.get(`/api/scans/${id}`)).body.scan.fragments.total === PIECES[i] ? true : null), 90_000);
+      expect((await operator.post(`/api/scans/${id}/approve-remaining`)).status).toBe(200);
+    }
+    const all: Fragment[] = [];
+    for (const id of scanIds) {
+      all.push(...(await waitFor("the masters", async () => {
+        const list = (await operator.get(`/api/scans/${id}/fragments`)).body.fragments as Fragment[];
+        return list.every((f) => f.renderState === "done") ? list : null;
+      }, 90_000)));
+    }
+    const total = PIECES.reduce((a, b) => a + b, 0);
+    expect(all).toHaveLength(total);
+
+    const presets = (await operator.get("/api/presets")).body.presets as PresetSummary[];
+    const web = presets.find((p) => p.kind === "web")!;
+    const made = await operator.post("/api/batches").send({ selection: { fragmentIds: all.map((f) => f.id) }, presetIds: [web.id] });
+    expect(made.status, JSON.stringify(made.body)).toBe(201);
+    const batch = await waitFor("the batch", async () => {
+      const r = (await operator.get(`/api/batches/${made.body.batch.id}`)).body;
+      return r.batch.finishedAt ? r.batch : null;
+    }, 90_000);
+    expect(batch.counts.done).toBe(total);
+    expect(batch.counts.failed).toBe(0);
+
+    // pg-boss's own record: every job of the pipeline's queues, completed once, none retried.
+    const queues = ["scan-analyse", "scan-split", "fragment-render", "output-render"];
+    const jobs = await waitFor("every job to be recorded complete", async () => {
+      const { rows } = await stack.database.pool.query<{ id: string; name: string; state: string; retry_count: number }>(
+        `select id, name, state, retry_count from pgboss.job where name = any($1)
+         union all select id, name, state, retry_count from pgboss.archive where name = any($1)`,
+        [queues],
+      );
+      return rows.length > 0 && rows.every((r) => r.state === "completed") ? rows : null;
+    }, 30_000);
+    const byQueue = (q: string) => jobs.filter((j) => j.name === q).length;
+    expect(byQueue("scan-analyse")).toBe(SCANS);
+    expect(byQueue("fragment-render")).toBe(total);
+    expect(byQueue("output-render")).toBe(total);
+    expect(jobs.every((j) => j.retry_count === 0)).toBe(true);
+
+    // Each process's own account: every job was run by exactly one of them, and none is missing.
+    const ran = await waitFor("the workers' logs to name every job", () => {
+      const r = jobsRun();
+      return jobs.every((j) => r.has(j.id)) ? r : null;
+    }, 10_000);
+    for (const j of jobs) expect(ran.get(j.id), `job ${j.name} ${j.id}`).toHaveLength(1);
+    expect([...ran.keys()].sort()).toEqual(jobs.map((j) => j.id).sort());
+    // The work was shared: both processes ran jobs.
+    const perProcess = new Map<string, number>();
+    for (const procs of ran.values()) perProcess.set(procs[0]!, (perProcess.get(procs[0]!) ?? 0) + 1);
+    expect([...perProcess.keys()].sort()).toEqual(["worker-a", "worker-b"]);
+
+    // And the results exist once: per fragment one master and one web copy made on approval,
+    // and one copy from the batch's preset.
+    const { rows: outs } = await stack.database.pool.query<{ kind: string; n: number }>(
+      "select kind, count(*)::int as n from outputs group by kind order by kind",
+    );
+    expect(outs).toEqual([
+      { kind: "master", n: total },
+      { kind: "preset", n: total },
+      { kind: "web", n: total },
+    ]);
+  });
+});
