@@ -7,8 +7,12 @@
  * reported is that measurement's alone. Reported figures are medians over the runs.
  * - floor: sharp decodes the scan once and makes the reduced analysis copy, nothing else;
  * - split: the whole split (header, decode into the reduced copy, analysis);
- * - whole: split plus every fragment's master and web copy; outputsFloor: one decode and the same
- *   outputs encoded straight from it, with no analysis.
+ * - whole: split plus every fragment's master and web copy, rendered from one decode of the scan
+ *   (renderFragments); wholeEach: the same with one renderFragment call per fragment (one render
+ *   job each, every one decoding the scan down to its fragment's rows); outputsFloor: one decode
+ *   and the same outputs encoded straight from it, with no analysis.
+ * Besides wall time, every measurement reports CPU time (all threads), steadier than wall time on
+ * a machine shared with other work; the ratios are given for both.
  * Targets at A4 600 DPI: split ≤ 1.5 × floor, whole ≤ 1.5 × outputsFloor, peak memory ≤ 1.5 GB.
  * Results: a table on stdout and .bench/results.json. Options: --runs N (default 5), --quick
  * (letter only, 3 runs).
@@ -101,6 +105,12 @@ interface Row {
   outputsFloorMs: number | null;
   wholeOverFloor: number | null;
   wholePeakMb: number | null;
+  wholeEachMs: number | null;
+  wholeEachOverFloor: number | null;
+  /** The same ratios by CPU time. */
+  splitOverFloorCpu: number;
+  wholeOverFloorCpu: number | null;
+  wholeEachOverFloorCpu: number | null;
   fragments: number | string | null;
 }
 
@@ -115,10 +125,16 @@ async function main() {
     const floor = measure("floor", file, RUNS);
     const split = measure("split", file, RUNS);
     const whole = measure("whole", file, Math.max(1, Math.ceil(RUNS / 2)));
+    const wholeEach =
+      whole && whole.times.length > 0
+        ? measure("wholeEach", file, Math.max(1, Math.ceil(RUNS / 2)))
+        : null;
     const outputs =
       whole && whole.times.length > 0
         ? measure("outputsFloor", file, Math.max(1, Math.ceil(RUNS / 2)))
         : null;
+    const cpu = (s: Sample | null) => (s?.cpuTimes?.length ? median(s.cpuTimes) : NaN);
+    const ratio = (a: number, b: number) => (Number.isFinite(a) && Number.isFinite(b) ? a / b : null);
     const px = Math.round((c.widthMm / 25.4) * c.dpi) * Math.round((c.heightMm / 25.4) * c.dpi);
     const floorMs = floor ? median(floor.times) : NaN;
     const splitMs = split ? median(split.times) : NaN;
@@ -137,6 +153,12 @@ async function main() {
       outputsFloorMs: outputsMs,
       wholeOverFloor: wholeMs !== null && outputsMs !== null ? wholeMs / outputsMs : null,
       wholePeakMb: whole && whole.times.length > 0 ? whole.peakRssMb : null,
+      wholeEachMs: wholeEach ? median(wholeEach.times) : null,
+      wholeEachOverFloor:
+        wholeEach && outputsMs !== null ? median(wholeEach.times) / outputsMs : null,
+      splitOverFloorCpu: cpu(split) / cpu(floor),
+      wholeOverFloorCpu: ratio(cpu(whole), cpu(outputs)),
+      wholeEachOverFloorCpu: ratio(cpu(wholeEach), cpu(outputs)),
       fragments: split?.detail?.fragments ?? null,
     });
   }
@@ -153,6 +175,10 @@ async function main() {
     "outputs floor ms",
     "whole/floor",
     "whole peak MB",
+    "each/floor",
+    "cpu: split",
+    "whole",
+    "each",
   ];
   const table = rows.map((r) => [
     r.scan,
@@ -167,6 +193,10 @@ async function main() {
     fmt(r.outputsFloorMs),
     fmt(r.wholeOverFloor, 2),
     fmt(r.wholePeakMb),
+    fmt(r.wholeEachOverFloor, 2),
+    fmt(r.splitOverFloorCpu, 2),
+    fmt(r.wholeOverFloorCpu, 2),
+    fmt(r.wholeEachOverFloorCpu, 2),
   ]);
   const widths = head.map((h, i) => Math.max(h.length, ...table.map((t) => t[i]!.length)));
   const line = (cells: string[]) =>
@@ -175,7 +205,9 @@ async function main() {
       .join("  ");
   process.stdout.write(["", line(head), ...table.map(line), ""].join("\n") + "\n");
   process.stdout.write(
-    "Targets at A4 600 DPI: split/floor ≤ 1.5, whole/floor ≤ 1.5, peak memory ≤ 1536 MB.\n",
+    "Targets at A4 600 DPI: split/floor ≤ 1.5, whole/floor ≤ 1.5, peak memory ≤ 1536 MB.\n" +
+      "whole: one decode for all fragments (renderFragments); each: one renderFragment per fragment;\n" +
+      "cpu: the same ratios by CPU time (all threads), steadier on a shared machine.\n",
   );
   // Recipe cost per megapixel against a bare sharp copy (8 and 16 bits).
   const recipe = await benchRecipe({ runs: RUNS });

@@ -3,6 +3,8 @@ import path from "node:path";
 import { loadConfig } from "../server/config";
 import { prepare, clusterOptions } from "./lib/prepare";
 import { stopCluster } from "./lib/pg-cluster";
+import { startMailFake, type MailFake } from "../server/mail/fake-smtp";
+import { fakeS3Env, startFakeS3, type FakeS3 } from "./lib/fake-s3";
 
 /**
  * `npm start`: the private database, migrations, the first admin and the demo studio, the client
@@ -22,6 +24,44 @@ if (!process.argv.includes("--no-build")) {
     process.exit(1);
   }
 }
+
+// E-mail: with no mail server configured, development mail goes to the project's local SMTP fake
+// (kept in the data folder, shown to admins on the Mailbox screen). Production must name a real one.
+let mailFake: MailFake | undefined;
+let mailLine = `  E-mail goes to ${cfg.mail.host}:${cfg.mail.port}`;
+if (!cfg.mail.host && cfg.env !== "production") {
+  const dir = path.join(cfg.dataDir, "mailbox");
+  try {
+    mailFake = await startMailFake({ dir, port: cfg.mail.devSmtpPort });
+  } catch (err) {
+    console.error(`The local mail fake could not listen on 127.0.0.1:${cfg.mail.devSmtpPort} (${(err as Error).message}); set PLATEN_DEV_SMTP_PORT to a free port.`);
+    process.exit(1);
+  }
+  Object.assign(process.env, { PLATEN_SMTP_HOST: mailFake.host, PLATEN_SMTP_PORT: String(mailFake.port), PLATEN_MAILBOX_DIR: dir });
+  mailLine = `  E-mail stays on this machine: a local mail fake on ${mailFake.host}:${mailFake.port} keeps it in ${path.relative(root, dir)} (Mailbox screen)`;
+} else if (!cfg.mail.host) {
+  mailLine = "  E-mail is OFF: set PLATEN_SMTP_HOST (and PLATEN_SMTP_PORT, PLATEN_SMTP_USER, PLATEN_SMTP_PASSWORD, PLATEN_MAIL_FROM); invitations, password resets and notices are refused until then.";
+}
+
+// Storage: PLATEN_STORAGE=s3 with no endpoint in development keeps the bucket in a local S3 fake
+// (s3rver, in the data folder), so the S3 path can be tried on one machine. Production names a real store.
+let s3Fake: FakeS3 | undefined;
+const s3 = cfg.storage.s3;
+let storageLine = s3
+  ? `  Library: s3://${s3.bucket}/${s3.prefix}${s3.endpoint ? ` at ${s3.endpoint}` : ""} (local cache ${path.relative(root, cfg.storage.cacheDir)})`
+  : `  Library: ${cfg.libraryDir}`;
+if (cfg.storage.kind === "s3" && s3 && !s3.endpoint && cfg.env !== "production") {
+  const directory = path.join(cfg.dataDir, "s3");
+  try {
+    s3Fake = await startFakeS3({ directory, buckets: [s3.bucket], port: cfg.storage.devS3Port });
+  } catch (err) {
+    console.error(`The local S3 fake could not listen on 127.0.0.1:${cfg.storage.devS3Port} (${(err as Error).message}); set PLATEN_DEV_S3_PORT to a free port.`);
+    process.exit(1);
+  }
+  Object.assign(process.env, fakeS3Env(s3Fake, s3.bucket));
+  storageLine = `  Library: s3://${s3.bucket}/${s3.prefix} on a local S3 fake at ${s3Fake.endpoint} (objects in ${path.relative(root, directory)})`;
+}
+if (cfg.storage.offsite) storageLine += `\n  Off-site copy of masters: s3://${cfg.storage.offsite.bucket}/${cfg.storage.offsite.prefix}`;
 
 const children = new Map<string, ChildProcess>();
 let stopping = false;
@@ -56,6 +96,8 @@ const lines = [
     ? `  Sign in as ${admin.email} with password ${admin.password}${admin.file ? ` (also saved in ${path.relative(root, admin.file)})` : ""}`
     : `  Sign in with your account (the first admin's password is in ${path.relative(root, path.join(cfg.dataDir, "first-admin.txt"))} if it was generated).`,
   `  Inbox folder: ${cfg.inboxDir}${demoFiles.length ? ` — ${demoFiles.length} demo scans dropped there` : ""}`,
+  mailLine,
+  storageLine,
   "  Stop with Ctrl+C.",
   "",
 ];
@@ -69,6 +111,9 @@ async function shutdown() {
   const timer = setTimeout(() => children.forEach((c) => c.kill("SIGKILL")), 25_000);
   await Promise.all(exits);
   clearTimeout(timer);
+  // The mail fake lets open connections finish; never wait long for it on the way out.
+  await Promise.race([mailFake?.close(), new Promise((r) => setTimeout(r, 2000))]);
+  await s3Fake?.stop();
   if (startedCluster) stopCluster(clusterOptions(cfg));
   process.exit(0);
 }

@@ -7,7 +7,8 @@ import helmet from "helmet";
 import type PgBoss from "pg-boss";
 import type { Config } from "./config";
 import type { Database } from "./db";
-import type { Library } from "./storage/library";
+import type { Storage } from "./storage/storage";
+import type { S3Storage } from "./storage/s3";
 import type { Logger } from "./logger";
 import type { Hub } from "./services/hub";
 import { createPassport } from "./auth/passport";
@@ -18,6 +19,7 @@ import { AppError } from "./errors";
 import { authRouter } from "./routes/auth";
 import { scansRouter } from "./routes/scans";
 import { usersRouter } from "./routes/users";
+import { auditRouter } from "./routes/audit";
 import { queueRouter } from "./routes/queue";
 import { intakesRouter } from "./routes/intakes";
 import { studioRouter } from "./routes/studio";
@@ -26,15 +28,25 @@ import { fragmentsRouter } from "./routes/fragments";
 import { recipesRouter } from "./routes/recipes";
 import { presetsRouter } from "./routes/presets";
 import { batchesRouter } from "./routes/batches";
+import { offsiteRouter } from "./routes/offsite";
+import { invitationsRouter } from "./routes/invitations";
+import { accountRouter } from "./routes/account";
+import { mailboxRouter } from "./routes/mailbox";
+import { createMailer, type Mailer } from "./mail/mailer";
 
 export interface AppDeps {
   config: Config;
   database: Database;
   boss: PgBoss;
-  library: Library;
+  /** The library: originals, previews, masters and outputs (a local folder or a bucket). */
+  library: Storage;
+  /** The off-site bucket masters are copied to, when configured. */
+  offsite?: S3Storage | null;
   log: Logger;
   hub: Hub;
   sessionSecret: string;
+  /** Sends invitations and password resets; made from the configuration when not given. */
+  mailer?: Mailer;
 }
 
 /** The HTTP app: security headers, sessions in PostgreSQL, one access check, the API, the client. */
@@ -99,7 +111,14 @@ export function createApp(deps: AppDeps): express.Express {
   api.use(recipesRouter(deps));
   api.use(presetsRouter(deps));
   api.use(batchesRouter(deps));
+  api.use(offsiteRouter(deps));
   api.use(usersRouter(deps));
+  api.use(auditRouter(deps));
+  const mailer = deps.mailer ?? createMailer(cfg.mail, deps.log);
+  if (!mailer.enabled && cfg.env !== "test") deps.log.warn({ reason: mailer.reason }, "e-mail is off: invitations, password resets and notices are refused");
+  api.use(invitationsRouter({ ...deps, mailer }));
+  api.use(accountRouter({ ...deps, mailer }));
+  api.use(mailboxRouter(deps));
   api.use((req, _res, next) => next(new AppError(404, "not_found", `There is no API route ${req.method} ${req.originalUrl}.`)));
   app.use("/api", api);
 

@@ -25,4 +25,6 @@ export const conflict = (message: string, field?: string) =>
 export const payloadTooLarge = (message: string) => new AppError(413, "payload_too_large", message);
 export const unsupportedMedia = (message: string) =>
   new AppError(415, "unsupported_media_type", message);
+export const gone = (message: string) => new AppError(410, "gone", message);
+export const unavailable = (message: string) => new AppError(503, "unavailable", message);
 export const tooManyRequests = (message: string) => new AppError(429, "too_many_requests", message);

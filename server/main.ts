@@ -1,11 +1,9 @@
 import sharp from "sharp";
-import fs from "node:fs";
-import path from "node:path";
 import { config } from "./config";
 import { logger } from "./logger";
 import { openDatabase } from "./db";
 import { startBoss } from "./jobs/boss";
-import { Library } from "./storage/library";
+import { openOffsite, openStorage } from "./storage";
 import { createHub } from "./services/hub";
 import { sessionSecret } from "./services/bootstrap";
 import { createApp } from "./app";
@@ -19,10 +17,10 @@ async function main() {
   const log = logger;
   const database = openDatabase(cfg.databaseUrl);
   const boss = await startBoss({ url: cfg.databaseUrl, log, supervise: true });
-  fs.mkdirSync(path.join(cfg.libraryDir, "tmp", "uploads"), { recursive: true });
-  const library = new Library(cfg.libraryDir);
+  const library = openStorage(cfg);
+  log.info({ library: library.description }, "library");
   const hub = createHub(database.pool, log);
-  const app = createApp({ config: cfg, database, boss, library, log, hub, sessionSecret: sessionSecret(cfg) });
+  const app = createApp({ config: cfg, database, boss, library, offsite: openOffsite(cfg), log, hub, sessionSecret: sessionSecret(cfg) });
   const server = app.listen(cfg.port, cfg.host, () => {
     log.info({ url: `http://${cfg.host}:${cfg.port}` }, "server listening");
   });

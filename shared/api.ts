@@ -1,6 +1,16 @@
 import type { ZodType } from "zod";
 import type { Access } from "./roles";
 import { loginBody } from "./schemas/auth";
+import { auditIdParams, auditListQuery } from "./schemas/audit";
+import {
+  acceptInvitationBody,
+  completeResetBody,
+  createInvitationBody,
+  mailboxIdParams,
+  requestResetBody,
+  tokenBody,
+  updateNoticesBody,
+} from "./schemas/mail";
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
 import { createIntakeBody, scanListQuery } from "./schemas/scans";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
@@ -256,6 +266,53 @@ export const API = {
     params: idParams,
     body: updateUserBody,
   }),
+
+  // E-mail: invitations (admins), the invitee's accept page and password resets (public: the person
+  // is not signed in yet; the token in the body is what admits them), notice choices (everyone).
+  invitationsList: route({ method: "GET", path: "/api/invitations", access: "admin", mutates: false }),
+  invitationsCreate: route({ method: "POST", path: "/api/invitations", access: "admin", mutates: true, body: createInvitationBody }),
+  invitationsResend: route({ method: "POST", path: "/api/invitations/:id/resend", access: "admin", mutates: true, params: idParams }),
+  invitationsRevoke: route({ method: "DELETE", path: "/api/invitations/:id", access: "admin", mutates: true, params: idParams }),
+  invitationsPreview: route({
+    method: "POST",
+    path: "/api/invitations/preview",
+    access: "public",
+    // Reads who is invited; changes nothing.
+    mutates: false,
+    body: tokenBody,
+  }),
+  invitationsAccept: route({ method: "POST", path: "/api/invitations/accept", access: "public", mutates: true, body: acceptInvitationBody }),
+  passwordResetRequest: route({ method: "POST", path: "/api/auth/password-reset", access: "public", mutates: true, body: requestResetBody }),
+  passwordResetPreview: route({
+    method: "POST",
+    path: "/api/auth/password-reset/preview",
+    access: "public",
+    // Reads whether the link still works; changes nothing.
+    mutates: false,
+    body: tokenBody,
+  }),
+  passwordResetComplete: route({
+    method: "POST",
+    path: "/api/auth/password-reset/complete",
+    access: "public",
+    mutates: true,
+    body: completeResetBody,
+  }),
+  noticesGet: route({ method: "GET", path: "/api/account/notices", access: "viewer", mutates: false }),
+  noticesUpdate: route({ method: "PATCH", path: "/api/account/notices", access: "viewer", mutates: true, body: updateNoticesBody }),
+  // Only while mail goes to the project's local SMTP fake; 404 otherwise.
+  mailboxList: route({ method: "GET", path: "/api/dev/mailbox", access: "admin", mutates: false }),
+  mailboxGet: route({ method: "GET", path: "/api/dev/mailbox/:id", access: "admin", mutates: false, params: mailboxIdParams }),
+
+  // The audit trail: read-only for admins. There is no route that edits or deletes it.
+  auditList: route({ method: "GET", path: "/api/audit", access: "admin", mutates: false, query: auditListQuery }),
+  auditGet: route({ method: "GET", path: "/api/audit/:id", access: "admin", mutates: false, params: auditIdParams }),
+
+  // Off-site copy of masters (storage): status per master, a re-check and a fresh copy.
+  fragmentsOffsite: route({ method: "GET", path: "/api/fragments/:id/offsite", access: "operator", mutates: false, params: idParams }),
+  fragmentsOffsiteCheck: route({ method: "POST", path: "/api/fragments/:id/offsite/check", access: "operator", mutates: true, params: idParams }),
+  fragmentsOffsiteCopy: route({ method: "POST", path: "/api/fragments/:id/offsite/copy", access: "operator", mutates: true, params: idParams }),
+  offsiteCheckAll: route({ method: "POST", path: "/api/offsite/check", access: "admin", mutates: true }),
 } as const satisfies Record<string, RouteSpec>;
 
 export type RouteName = keyof typeof API;

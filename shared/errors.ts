@@ -18,6 +18,10 @@ export const ERROR_CODES = [
   "not_found",
   "conflict",
   "too_many_requests",
+  /** A link whose token was used, revoked or has expired. */
+  "gone",
+  /** A service Platen needs is not set up or not reachable (e.g. no mail server). */
+  "unavailable",
   "payload_too_large",
   "unsupported_media_type",
   "internal",

@@ -36,12 +36,12 @@ afterAll(async () => {
 });
 
 async function queueScan(name: string, seed: number) {
-  const { Library } = await import("../server/storage/library");
+  const { LocalStorage } = await import("../server/storage/local");
   const { intakeFile } = await import("../server/services/intake");
   const { logger } = await import("../server/logger");
   const file = path.join(t.dir, name);
   await fs.writeFile(file, await paperScan({ seed }));
-  const library = new Library(t.env.PLATEN_LIBRARY_DIR!);
+  const library = new LocalStorage(t.env.PLATEN_LIBRARY_DIR!);
   return intakeFile({ database, boss, library, log: logger }, { path: file, originalName: name, source: "inbox", removeSource: true });
 }
 

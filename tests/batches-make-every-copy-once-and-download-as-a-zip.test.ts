@@ -155,7 +155,7 @@ describe("output batches", () => {
   it("a failure in one output does not stop the rest, and says why", async () => {
     const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
     const { rows } = await stack.database.pool.query("select key from outputs where kind = 'master' and fragment_id = $1", [list[0]!.id]);
-    const master = stack.library.pathFor(rows[0].key);
+    const master = stack.libraryPath(rows[0].key);
     const saved = await fs.readFile(master);
     await fs.rm(master);
     try {

@@ -50,13 +50,13 @@ describe("a file written slowly into the inbox", () => {
     // Exactly one scan row: the partial sizes seen while writing were never taken in.
     expect(await scanNamed("slow-scan.tif")).toHaveLength(1);
     // The original is in the library under its content address, byte for byte, read-only.
-    const original = stack.library.pathFor(row.originalKey);
+    const original = stack.libraryPath(row.originalKey);
     expect(row.originalKey).toBe(`originals/${row.sha256.slice(0, 2)}/${row.sha256}.tif`);
     expect(sha256(await fs.readFile(original))).toBe(row.sha256);
     expect((await fs.stat(original)).mode & 0o222).toBe(0);
     // Preview and thumbnail exist; the inbox is empty again.
-    await fs.access(stack.library.pathFor(row.previewKey!));
-    await fs.access(stack.library.pathFor(row.thumbKey!));
+    await fs.access(stack.libraryPath(row.previewKey!));
+    await fs.access(stack.libraryPath(row.thumbKey!));
     expect(await inboxNames()).toEqual([]);
   });
 
@@ -103,7 +103,7 @@ describe("bad files", () => {
       const row = await settled(c.name);
       expect(row.status, c.name).toBe("failed");
       expect(row.error, c.name).toMatch(c.message);
-      const kept = await fs.readFile(stack.library.pathFor(row.originalKey));
+      const kept = await fs.readFile(stack.libraryPath(row.originalKey));
       expect(sha256(kept), `${c.name} kept byte for byte`).toBe(sha256(written.get(c.name)!));
     }
     // The watcher and the worker still work afterwards.

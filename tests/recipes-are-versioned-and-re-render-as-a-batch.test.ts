@@ -42,7 +42,7 @@ async function allRendered(recipeVersionId?: string) {
 
 /** Mean chroma (max − min of R, G, B) of a web copy: a recipe that removes saturation drives it to 0. */
 async function meanChroma(key: string) {
-  const { data, info } = await sharp(stack.library.pathFor(key)).removeAlpha().raw().toBuffer({ resolveWithObject: true });
+  const { data, info } = await sharp(stack.libraryPath(key)).removeAlpha().raw().toBuffer({ resolveWithObject: true });
   let sum = 0;
   for (let i = 0; i < data.length; i += info.channels) sum += Math.max(data[i]!, data[i + 1]!, data[i + 2]!) - Math.min(data[i]!, data[i + 1]!, data[i + 2]!);
   return sum / (data.length / info.channels);

@@ -3,16 +3,17 @@ import { config } from "../server/config";
 import { logger } from "../server/logger";
 import { openDatabase } from "../server/db";
 import { startBoss } from "../server/jobs/boss";
-import { Library } from "../server/storage/library";
+import { openOffsite, openStorage } from "../server/storage";
 import { startWorker } from "./worker";
 
 // Files under one library key can be rewritten (a new render); never serve a decoded copy from cache.
 sharp.cache(false);
 
-/** A worker process. Run as many as you like, on any machine that reaches the database and library. */
+/** A worker process. Run as many as you like, on any machine that reaches the database and the library (folder or bucket). */
 async function main() {
   const cfg = config();
   const log = logger;
+  if (cfg.vipsThreads > 0) sharp.concurrency(cfg.vipsThreads);
   // Listen for a stop before any job can start, so a job in hand is always finished or released.
   let stopRequested: string | null = null;
   let stop: (signal: string) => void = (signal) => {
@@ -23,7 +24,7 @@ async function main() {
 
   const database = openDatabase(cfg.databaseUrl, cfg.workerConcurrency + 2);
   const boss = await startBoss({ url: cfg.databaseUrl, log, supervise: true });
-  const worker = await startWorker({ config: cfg, database, boss, library: new Library(cfg.libraryDir), log });
+  const worker = await startWorker({ config: cfg, database, boss, library: openStorage(cfg), offsite: openOffsite(cfg), log });
   let stopping = false;
   stop = (signal: string) => {
     if (stopping) return;

@@ -2,7 +2,7 @@ import { config } from "../server/config";
 import { logger } from "../server/logger";
 import { openDatabase } from "../server/db";
 import { startBoss } from "../server/jobs/boss";
-import { Library } from "../server/storage/library";
+import { openStorage } from "../server/storage";
 import { startWatcher } from "./watcher";
 
 /** The inbox watcher process: one per inbox folder. */
@@ -12,7 +12,7 @@ async function main() {
   const database = openDatabase(cfg.databaseUrl, 3);
   const boss = await startBoss({ url: cfg.databaseUrl, log, supervise: false });
   const watcher = await startWatcher(
-    { database, boss, library: new Library(cfg.libraryDir), log },
+    { database, boss, library: openStorage(cfg), log },
     { folder: cfg.inboxDir, stableMs: cfg.inboxStableMs, pollMs: cfg.inboxPollMs },
   );
   let stopping = false;

@@ -1,6 +1,7 @@
 import type PgBoss from "pg-boss";
 import type { Database } from "../server/db";
-import type { Library } from "../server/storage/library";
+import type { Storage } from "../server/storage/storage";
+import type { S3Storage } from "../server/storage/s3";
 import type { Logger } from "../server/logger";
 import type { Config } from "../server/config";
 import { startHeartbeat } from "../server/services/processes";
@@ -10,14 +11,22 @@ import { analyseScan } from "./jobs/analyse";
 import { splitScanJob } from "./jobs/split";
 import { renderFragmentJob } from "./jobs/render";
 import { outputJob } from "./jobs/output";
+import { offsiteCheckJob, offsiteCopyJob } from "./jobs/offsite";
+import { noticeJob } from "./jobs/mail-notice";
+import { mailSendJob } from "./jobs/mail-send";
+import { createMailer, type Mailer } from "../server/mail/mailer";
 import type { JobContext } from "./jobs/context";
 
 export interface WorkerDeps {
   config: Config;
   database: Database;
   boss: PgBoss;
-  library: Library;
+  library: Storage;
+  /** The off-site bucket masters are copied to, when configured. */
+  offsite?: S3Storage | null;
   log: Logger;
+  /** Sends notices; made from the configuration when not given. */
+  mailer?: Mailer;
 }
 
 /**
@@ -30,12 +39,18 @@ export async function startWorker(deps: WorkerDeps) {
   await heartbeat.ready;
   await notify(deps.database.pool, { kind: "worker" }).catch(() => {});
   const stopping = new AbortController();
+  const mailDeps = { ...deps, mailer: deps.mailer ?? createMailer(config.mail, log) };
+  if (!mailDeps.mailer.enabled) log.warn({ reason: mailDeps.mailer.reason }, "notices are off");
 
   const handlers: Record<string, (deps: WorkerDeps, data: unknown, ctx: JobContext) => Promise<void>> = {
     [QUEUES.analyse]: analyseScan,
     [QUEUES.split]: splitScanJob,
     [QUEUES.render]: renderFragmentJob,
     [QUEUES.output]: outputJob,
+    // Off-site copies: only on workers that have the off-site bucket configured.
+    ...(deps.offsite ? { [QUEUES.offsiteCopy]: offsiteCopyJob, [QUEUES.offsiteCheck]: offsiteCheckJob } : {}),
+    [QUEUES.notice]: (_d, data, ctx) => noticeJob(mailDeps, data, ctx),
+    [QUEUES.mail]: (_d, data, ctx) => mailSendJob(mailDeps, data, ctx),
   };
   const workerIds: string[] = [];
   for (const [queue, handler] of Object.entries(handlers)) {

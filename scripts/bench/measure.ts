@@ -13,17 +13,28 @@ import { DEFAULT_ANALYSIS_DPI } from "../../worker/pipeline/split/analysis-copy"
 import { splitScan, type SplitResult } from "../../worker/pipeline/split/index";
 
 export interface Sample {
+  /** Wall-clock time of each run, ms. */
   times: number[];
+  /** CPU time of each run (every thread of the process: JavaScript and libvips), ms. */
+  cpuTimes?: number[];
   peakRssMb: number;
   detail?: Record<string, number | string>;
 }
 
 const LIMITS = { defaultDpi: 300, maxPixels: DEFAULT_MAX_PIXELS };
 
+/** CPU times of the runs timed so far in this process, in order (see timed). */
+const cpuTimes: number[] = [];
+
+/** Wall time of fn, ms; its CPU time (process.cpuUsage: user + system, all threads) goes to cpuTimes. */
 async function timed(fn: () => Promise<void>): Promise<number> {
+  const c = process.cpuUsage();
   const t = performance.now();
   await fn();
-  return performance.now() - t;
+  const wall = performance.now() - t;
+  const d = process.cpuUsage(c);
+  cpuTimes.push((d.user + d.system) / 1000);
+  return wall;
 }
 
 /** The floor for the split: sharp decodes the scan once and makes the same reduced copy, nothing else. */
@@ -53,47 +64,56 @@ type RenderModule = typeof import("../../worker/pipeline/render/index");
 async function renderModule(): Promise<RenderModule | null> {
   try {
     const mod = (await import("../../worker/pipeline/render/index")) as RenderModule;
-    return typeof mod.renderFragment === "function" ? mod : null;
+    return typeof mod.renderFragment === "function" && typeof mod.renderFragments === "function"
+      ? mod
+      : null;
   } catch {
     return null;
   }
 }
 
-/** Every fragment rendered (master and web copy) from the full-resolution scan; one time per fragment. */
+function renderTargets(outDir: string, i: number, shape: string) {
+  return {
+    masterPath: path.join(outDir, `m${i}.tif`),
+    webPath: path.join(outDir, `w${i}${shape === "cutout" ? ".webp" : ".jpg"}`),
+  };
+}
+
+function geometryOf(f: SplitResult["fragments"][number]) {
+  return { box: f.box, angle: f.angle, rect: f.rect, outline: f.outline, shape: f.shape };
+}
+
+/**
+ * Every fragment rendered (master and web copy) from the full-resolution scan, one renderFragment
+ * call each (as one render job per fragment does: each decodes the scan down to its rows).
+ */
 async function renderEach(
+  mod: RenderModule,
   file: string,
   outDir: string,
   fragments: SplitResult["fragments"],
   dpi: { x: number; y: number },
-): Promise<number[]> {
-  const mod = await renderModule();
-  if (!mod) return [];
-  const times: number[] = [];
+): Promise<void> {
   for (const [i, f] of fragments.entries()) {
-    times.push(
-      await timed(async () => {
-        await mod.renderFragment(
-          {
-            source: file,
-            geometry: {
-              box: f.box,
-              angle: f.angle,
-              rect: f.rect,
-              outline: f.outline,
-              shape: f.shape,
-            },
-            dpi,
-            maxPixels: LIMITS.maxPixels,
-          },
-          {
-            masterPath: path.join(outDir, `m${i}.tif`),
-            webPath: path.join(outDir, `w${i}${f.shape === "cutout" ? ".webp" : ".jpg"}`),
-          },
-        );
-      }),
+    await mod.renderFragment(
+      { source: file, geometry: geometryOf(f), dpi, maxPixels: LIMITS.maxPixels },
+      renderTargets(outDir, i, f.shape),
     );
   }
-  return times;
+}
+
+/** Every fragment rendered from one decode of the scan (renderFragments). */
+async function renderBatch(
+  mod: RenderModule,
+  file: string,
+  outDir: string,
+  fragments: SplitResult["fragments"],
+  dpi: { x: number; y: number },
+): Promise<void> {
+  await mod.renderFragments(
+    { source: file, dpi, maxPixels: LIMITS.maxPixels },
+    fragments.map((f, i) => ({ geometry: geometryOf(f), targets: renderTargets(outDir, i, f.shape) })),
+  );
 }
 
 /**
@@ -126,6 +146,33 @@ async function outputsFloor(
   });
 }
 
+/** Split, then the fragments rendered by `render`; detail: the render's share per fragment. */
+async function whole(
+  file: string,
+  runs: number,
+  outDir: string,
+  render: typeof renderEach,
+): Promise<{ times: number[]; detail: Record<string, number | string> }> {
+  const mod = await renderModule();
+  if (!mod) return { times: [], detail: { skipped: "worker/pipeline/render has no renderFragments" } };
+  const times: number[] = [];
+  const perFragment: number[] = [];
+  for (let r = 0; r < runs; r++) {
+    let result: SplitResult | undefined;
+    let renderMs = 0;
+    times.push(
+      await timed(async () => {
+        result = await splitScan(file, LIMITS);
+        const t = performance.now();
+        await render(mod, file, outDir, result.fragments, result.dpi);
+        renderMs = performance.now() - t;
+      }),
+    );
+    perFragment.push(renderMs / Math.max(1, result!.fragments.length));
+  }
+  return { times, detail: { renderPerFragmentMs: median(perFragment) } };
+}
+
 type Measurement = (
   file: string,
   runs: number,
@@ -150,24 +197,10 @@ export const MEASUREMENTS: Record<string, Measurement> = {
       },
     };
   },
-  /** Split, then every fragment rendered: times are the whole; detail holds the per-fragment median. */
-  whole: async (
-    file,
-    runs,
-    outDir,
-  ): Promise<{ times: number[]; detail: Record<string, number | string> }> => {
-    if (!(await renderModule()))
-      return { times: [], detail: { skipped: "worker/pipeline/render has no renderFragment yet" } };
-    const times: number[] = [];
-    const perFragment: number[] = [];
-    for (let r = 0; r < runs; r++) {
-      const t = performance.now();
-      const result = await splitScan(file, LIMITS);
-      perFragment.push(...(await renderEach(file, outDir, result.fragments, result.dpi)));
-      times.push(performance.now() - t);
-    }
-    return { times, detail: { renderPerFragmentMs: median(perFragment) } };
-  },
+  /** Split, then every fragment rendered from one decode (renderFragments): times are the whole. */
+  whole: (file, runs, outDir) => whole(file, runs, outDir, renderBatch),
+  /** Split, then one renderFragment call per fragment (one render job each, as the worker queues them). */
+  wholeEach: (file, runs, outDir) => whole(file, runs, outDir, renderEach),
   outputsFloor: async (file, runs, outDir) => {
     const { fragments } = await splitScan(file, LIMITS);
     const times: number[] = [];
@@ -196,5 +229,5 @@ if (process.argv[1] && path.resolve(process.argv[1]) === path.resolve(import.met
   await fs.mkdir(outDir, { recursive: true });
   const sample = await measure(file, Number(runs) || 3, outDir);
   const peakRssMb = process.resourceUsage().maxRSS / 1024;
-  process.stdout.write(JSON.stringify({ ...sample, peakRssMb }) + "\n");
+  process.stdout.write(JSON.stringify({ ...sample, cpuTimes, peakRssMb }) + "\n");
 }

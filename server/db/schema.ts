@@ -319,3 +319,148 @@ export const presetVersions = pgTable(
   },
   (t) => [uniqueIndex("preset_versions_preset_version_key").on(t.presetId, t.version)],
 );
+
+// ---------------------------------------------------------------------------------------------
+// Audit trail: who changed what, when, with the values before and after. Rows are written by
+// server/services/audit.ts inside the transaction of the change; the database refuses UPDATE,
+// DELETE and TRUNCATE on this table (a trigger in the audit_immutable migration).
+// ---------------------------------------------------------------------------------------------
+
+export const auditEvents = pgTable(
+  "audit_events",
+  {
+    /** Rising with every row, so newest-first pages have a stable cursor. */
+    id: bigint("id", { mode: "number" }).primaryKey().generatedAlwaysAsIdentity(),
+    at: timestamp("at", { withTimezone: true }).notNull().defaultNow(),
+    /** Null for a failed sign-in by an unknown address, and for changes Platen made itself. */
+    actorId: uuid("actor_id"),
+    /** The actor's e-mail as it was then (or the address tried, for a failed sign-in). */
+    actorEmail: text("actor_email"),
+    /** A stable dotted name: `fragment.approve`, `recipe.version`, `user.role`. */
+    action: text("action").notNull(),
+    subjectType: text("subject_type").notNull(),
+    subjectId: text("subject_id"),
+    summary: text("summary").notNull(),
+    /** Only the fields that changed; never secrets (password hashes, tokens). */
+    before: jsonb("before").$type<Record<string, unknown>>(),
+    after: jsonb("after").$type<Record<string, unknown>>(),
+    ip: text("ip"),
+    userAgent: text("user_agent"),
+  },
+  (t) => [
+    index("audit_events_at_idx").on(t.at),
+    index("audit_events_actor_idx").on(t.actorId, t.id),
+    index("audit_events_action_idx").on(t.action, t.id),
+    index("audit_events_subject_idx").on(t.subjectType, t.subjectId, t.id),
+  ],
+);
+
+// ---------------------------------------------------------------------------------------------
+// E-mail: invitations, password resets, each person's notice choices, and the outgoing notices.
+// Tokens are never stored: only the SHA-256 of the random token that went out in the message.
+// ---------------------------------------------------------------------------------------------
+
+/** An address invited to the studio with a role; pending until accepted, revoked or expired. */
+export const invitations = pgTable(
+  "invitations",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    email: text("email").notNull(),
+    role: roleEnum("role").notNull(),
+    /** SHA-256 (hex) of the token in the last message sent; a resend replaces it. */
+    tokenHash: varchar("token_hash", { length: 64 }).notNull(),
+    expiresAt: timestamp("expires_at", { withTimezone: true }).notNull(),
+    invitedBy: uuid("invited_by").references(() => users.id, { onDelete: "set null" }),
+    sendCount: integer("send_count").notNull().default(0),
+    sentAt: timestamp("sent_at", { withTimezone: true }),
+    /** Why the last message could not be handed to the mail server, if it could not. */
+    sendError: text("send_error"),
+    acceptedAt: timestamp("accepted_at", { withTimezone: true }),
+    acceptedUserId: uuid("accepted_user_id").references(() => users.id, { onDelete: "set null" }),
+    revokedAt: timestamp("revoked_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (t) => [
+    uniqueIndex("invitations_token_hash_key").on(t.tokenHash),
+    // One open invitation per address: inviting again means resending it.
+    uniqueIndex("invitations_open_email_key")
+      .on(t.email)
+      .where(sql`${t.acceptedAt} is null and ${t.revokedAt} is null`),
+  ],
+);
+
+/** A password reset link that went out; usable once, until it expires. */
+export const passwordResets = pgTable(
+  "password_resets",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    userId: uuid("user_id")
+      .notNull()
+      .references(() => users.id, { onDelete: "cascade" }),
+    tokenHash: varchar("token_hash", { length: 64 }).notNull(),
+    expiresAt: timestamp("expires_at", { withTimezone: true }).notNull(),
+    usedAt: timestamp("used_at", { withTimezone: true }),
+    createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [uniqueIndex("password_resets_token_hash_key").on(t.tokenHash), index("password_resets_user_idx").on(t.userId)],
+);
+
+/** Which notices a person chose; no row means the defaults for their role. */
+export const noticeSettings = pgTable("notice_settings", {
+  userId: uuid("user_id")
+    .primaryKey()
+    .references(() => users.id, { onDelete: "cascade" }),
+  batchFinished: boolean("batch_finished").notNull(),
+  intakeFinished: boolean("intake_finished").notNull(),
+  scanFailed: boolean("scan_failed").notNull(),
+  updatedAt: timestamp("updated_at", { withTimezone: true }).notNull().defaultNow(),
+});
+
+/**
+ * Notices waiting to go out and gone out, one row per message. `dedupe_key` makes one event give
+ * one message per person however often its job runs; `sent_at` makes a retry never send again.
+ */
+export const mailOutbox = pgTable(
+  "mail_outbox",
+  {
+    id: uuid("id").primaryKey().defaultRandom(),
+    dedupeKey: text("dedupe_key").notNull(),
+    userId: uuid("user_id").references(() => users.id, { onDelete: "set null" }),
+    toAddress: text("to_address").notNull(),
+    subject: text("subject").notNull(),
+    textBody: text("text_body").notNull(),
+    htmlBody: text("html_body").notNull(),
+    attempts: integer("attempts").notNull().default(0),
+    /** Set while one worker holds the message, so two never send it at once. */
+    claimedAt: timestamp("claimed_at", { withTimezone: true }),
+    sentAt: timestamp("sent_at", { withTimezone: true }),
+    lastError: text("last_error"),
+    createdAt: timestamp("created_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [uniqueIndex("mail_outbox_dedupe_key").on(t.dedupeKey)],
+);
+
+// ---------------------------------------------------------------------------------------------
+// Off-site copy: with a local library and PLATEN_OFFSITE_BUCKET set, every master is also copied
+// to that bucket by the offsite-copy job. One row per master: where its copy stands, the SHA-256
+// it was copied with, and the last re-check that compared the bucket's bytes with the master's.
+// ---------------------------------------------------------------------------------------------
+export const offsiteCopies = pgTable(
+  "offsite_copies",
+  {
+    outputId: uuid("output_id")
+      .primaryKey()
+      .references(() => outputs.id, { onDelete: "cascade" }),
+    key: text("key").notNull(),
+    status: text("status").$type<"pending" | "copied" | "failed">().notNull().default("pending"),
+    /** Why it failed (the store's answer, or the checksums that differ); null when fine. */
+    message: text("message"),
+    /** SHA-256 of the master as copied, also kept as the object's metadata. */
+    sha256: text("sha256"),
+    attempts: integer("attempts").notNull().default(0),
+    copiedAt: timestamp("copied_at", { withTimezone: true }),
+    checkedAt: timestamp("checked_at", { withTimezone: true }),
+    ...timestamps,
+  },
+  (t) => [index("offsite_copies_status").on(t.status)],
+);

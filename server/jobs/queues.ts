@@ -7,6 +7,14 @@ export const QUEUES = {
   split: "scan-split",
   render: "fragment-render",
   output: "output-render",
+  /** Copies one master to the off-site bucket. */
+  offsiteCopy: "offsite-copy",
+  /** Compares one master's off-site copy with the master, by SHA-256. */
+  offsiteCheck: "offsite-check",
+  /** Works out who should hear about an event and writes their messages to the outbox. */
+  notice: "mail-notice",
+  /** Hands one outbox message to the mail server. */
+  mail: "mail-send",
 } as const;
 
 export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Omit<PgBoss.Queue, "name">> {
@@ -34,7 +42,37 @@ export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Om
       retryBackoff: true,
       expireInSeconds: cfg.jobExpireSeconds,
     },
+    [QUEUES.notice]: {
+      policy: "standard",
+      retryLimit: cfg.jobRetryLimit,
+      retryDelay: 5,
+      retryBackoff: true,
+      expireInSeconds: 300,
+    },
+    [QUEUES.mail]: {
+      policy: "standard",
+      // A mail server that is down for a while is waited out: more, slower retries.
+      retryLimit: Math.max(cfg.jobRetryLimit, 8),
+      retryDelay: 15,
+      retryBackoff: true,
+      expireInSeconds: 300,
+    },
     [QUEUES.render]: {
+      policy: "standard",
+      retryLimit: cfg.jobRetryLimit,
+      retryDelay: 2,
+      retryBackoff: true,
+      expireInSeconds: cfg.jobExpireSeconds,
+    },
+    // A bucket that is down for a while is waited out: more retries, backing off.
+    [QUEUES.offsiteCopy]: {
+      policy: "standard",
+      retryLimit: Math.max(cfg.jobRetryLimit, 5),
+      retryDelay: 2,
+      retryBackoff: true,
+      expireInSeconds: cfg.jobExpireSeconds,
+    },
+    [QUEUES.offsiteCheck]: {
       policy: "standard",
       retryLimit: cfg.jobRetryLimit,
       retryDelay: 2,

@@ -5,6 +5,7 @@ import { AppError } from "../errors";
 import type { ApiErrorBody } from "../../shared/errors";
 import { config } from "../config";
 import { formatBytes } from "../../shared/units";
+import { StorageError } from "../storage/storage";
 
 /** Turns a zod failure into one sentence naming the field. */
 export function zodMessage(err: ZodError, where: string): { message: string; field?: string } {
@@ -29,6 +30,13 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
       err.code === "LIMIT_FILE_SIZE"
         ? new AppError(413, "payload_too_large", `The file is larger than the upload limit of ${formatBytes(config().maxUploadBytes)}.`, err.field)
         : new AppError(400, "bad_request", `Upload refused: ${err.message}.`, err.field);
+  } else if (err instanceof StorageError && err.code === "unavailable") {
+    // The library's object store cannot be reached or refused us: say so, the request can be retried.
+    (req.log ?? console).error({ err, path: req.originalUrl }, "library unavailable");
+    appErr = new AppError(503, "unavailable", `${err.message} Try again in a moment.`);
+  } else if (err instanceof StorageError && err.code === "missing") {
+    (req.log ?? console).warn({ err, path: req.originalUrl }, "library file missing");
+    appErr = new AppError(404, "not_found", "A file this needs is missing from the library.");
   } else if (err?.type === "entity.parse.failed") {
     appErr = new AppError(400, "bad_request", "The request body is not valid JSON.");
   } else if (err?.type === "entity.too.large") {

@@ -3,6 +3,7 @@ import type { z, ZodType } from "zod";
 import type { RouteSpec } from "../../shared/api";
 import { AppError } from "../errors";
 import { zodMessage } from "../middleware/errors";
+import { withAuditRequest } from "../services/audit";
 
 type Out<T> = T extends ZodType ? z.output<T> : undefined;
 
@@ -47,7 +48,8 @@ export function handle<S extends RouteSpec>(
       res,
       user: req.user as Express.User,
     } as RouteContext<S>;
-    const result = await handler(ctx);
+    // Audit rows written while this handler runs name the request's user, address and browser.
+    const result = await withAuditRequest(req, () => handler(ctx));
     if (result !== undefined && !res.headersSent) res.json(result);
   });
 }

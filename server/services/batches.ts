@@ -1,8 +1,10 @@
+import type PgBoss from "pg-boss";
 import { and, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import type { Db } from "../db";
 import { batchItems, batches, fragments, outputs } from "../db/schema";
 import type { Tx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
+import { queueNotice } from "./notices";
 import { notFound } from "../errors";
 import type { Batch } from "../../shared/schemas/recipe-api";
 
@@ -31,7 +33,14 @@ export async function createBatch(
  * Moves one item on; closes the batch when nothing is left to do. Returns the library keys of
  * outputs a replacing re-run has just retired, for the caller to delete.
  */
-export async function settleBatchItem(db: Db, itemId: string, state: "running" | "done" | "failed", error: string | null = null): Promise<string[]> {
+export async function settleBatchItem(
+  db: Db,
+  itemId: string,
+  state: "running" | "done" | "failed",
+  error: string | null = null,
+  /** With the queue, a batch that this closes queues its "batch finished" notice. */
+  opts: { boss?: PgBoss } = {},
+): Promise<string[]> {
   const [item] = await db.update(batchItems).set({ state, error, updatedAt: new Date() }).where(eq(batchItems.id, itemId)).returning();
   if (!item || state === "running") return [];
   const [open] = await db
@@ -44,6 +53,8 @@ export async function settleBatchItem(db: Db, itemId: string, state: "running" |
     .set({ finishedAt: new Date(), updatedAt: new Date() })
     .where(and(eq(batches.id, item.batchId), isNull(batches.finishedAt)))
     .returning();
+  // Only the call that closed it gets a row back: one notice per finish.
+  if (closed && opts.boss) await queueNotice(opts.boss, { event: "batch-finished", batchId: closed.id });
   if (closed?.rerunOf && closed.replaceOld) return replaceOldOutputs(db, closed.rerunOf, closed.id);
   return [];
 }

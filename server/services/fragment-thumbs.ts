@@ -1,37 +1,29 @@
 import sharp from "sharp";
-import type { Library } from "../storage/library";
+import type { Storage } from "../storage/storage";
 import { boxOfPoints, rectCorners, rotatePoint } from "../../shared/geometry";
 import type { Box, Rect } from "../../shared/schemas/fragments";
 
 /** Long edge of a fragment thumbnail in the review strip, in pixels. */
 export const FRAGMENT_THUMB_EDGE = 240;
 
-export const fragmentThumbKey = (id: string, revision: number) => `thumbs/fragments/${id}-r${revision}.jpg`;
+export const fragmentThumbKey = (id: string, revision: number) =>
+  `thumbs/fragments/${id}-r${revision}.jpg`;
 
 /**
  * A small upright picture of a fragment, cut from the scan's preview (not the original), cached
- * per revision so an edit shows at once and an unchanged fragment costs nothing.
+ * per revision so an edit shows at once and an unchanged fragment costs nothing. Returns its key.
  */
 export async function fragmentThumb(
-  library: Library,
+  library: Storage,
   f: { id: string; revision: number; box: Box; rect: Rect; angle: number },
   scan: { previewKey: string | null; width: number | null },
 ): Promise<string> {
   const key = fragmentThumbKey(f.id, f.revision);
-  if (await library.exists(key)) return library.pathFor(key);
+  if (await library.exists(key)) return key;
   if (!scan.previewKey || !scan.width) throw new Error("The scan has no preview yet.");
-  const previewPath = library.pathFor(scan.previewKey);
-  const meta = await sharp(previewPath).metadata();
-  const s = (meta.width ?? 1) / scan.width;
-  // The region around the whole turned rectangle (a cut-out's box can be smaller), in preview pixels.
-  const around = boxOfPoints(rectCorners(f.rect, f.angle), Infinity, Infinity);
-  const pad = 2;
-  const left = Math.max(0, Math.floor(around.x * s) - pad);
-  const top = Math.max(0, Math.floor(around.y * s) - pad);
-  const width = Math.max(1, Math.min((meta.width ?? 1) - left, Math.ceil(around.width * s) + 2 * pad));
-  const height = Math.max(1, Math.min((meta.height ?? 1) - top, Math.ceil(around.height * s) + 2 * pad));
-  const region = await sharp(previewPath).extract({ left, top, width, height }).toBuffer();
-  const upright = await cropUpright(region, { x: left, y: top }, s, f.rect, f.angle);
+  const upright = await library.withLocalFile(scan.previewKey, (previewPath) =>
+    cutFromPreview(previewPath, f, scan.width!),
+  );
   await library.writeAtomic(key, async (tmp) => {
     await upright
       .resize(FRAGMENT_THUMB_EDGE, FRAGMENT_THUMB_EDGE, { fit: "inside", withoutEnlargement: true })
@@ -39,7 +31,31 @@ export async function fragmentThumb(
       .jpeg({ quality: 80 })
       .toFile(tmp);
   });
-  return library.pathFor(key);
+  return key;
+}
+
+async function cutFromPreview(
+  previewPath: string,
+  f: { rect: Rect; angle: number },
+  scanWidth: number,
+) {
+  const meta = await sharp(previewPath).metadata();
+  const s = (meta.width ?? 1) / scanWidth;
+  // The region around the whole turned rectangle (a cut-out's box can be smaller), in preview pixels.
+  const around = boxOfPoints(rectCorners(f.rect, f.angle), Infinity, Infinity);
+  const pad = 2;
+  const left = Math.max(0, Math.floor(around.x * s) - pad);
+  const top = Math.max(0, Math.floor(around.y * s) - pad);
+  const width = Math.max(
+    1,
+    Math.min((meta.width ?? 1) - left, Math.ceil(around.width * s) + 2 * pad),
+  );
+  const height = Math.max(
+    1,
+    Math.min((meta.height ?? 1) - top, Math.ceil(around.height * s) + 2 * pad),
+  );
+  const region = await sharp(previewPath).extract({ left, top, width, height }).toBuffer();
+  return cropUpright(region, { x: left, y: top }, s, f.rect, f.angle);
 }
 
 /**
@@ -48,17 +64,32 @@ export async function fragmentThumb(
  * turned by `angle` about its centre (sharp enlarges the canvas), and the fragment's rect is cut
  * out around where its centre went. Example: a preview region of a 7.5° piece → its upright crop.
  */
-export async function cropUpright(region: Buffer, origin: { x: number; y: number }, s: number, rect: Rect, angle: number) {
+export async function cropUpright(
+  region: Buffer,
+  origin: { x: number; y: number },
+  s: number,
+  rect: Rect,
+  angle: number,
+) {
   const meta = await sharp(region).metadata();
   const width = meta.width ?? 1;
   const height = meta.height ?? 1;
-  const { data, info } = await sharp(region).rotate(angle, { background: "#ffffff" }).raw().toBuffer({ resolveWithObject: true });
-  const c = rotatePoint([rect.cx * s - origin.x, rect.cy * s - origin.y], [width / 2, height / 2], angle);
+  const { data, info } = await sharp(region)
+    .rotate(angle, { background: "#ffffff" })
+    .raw()
+    .toBuffer({ resolveWithObject: true });
+  const c = rotatePoint(
+    [rect.cx * s - origin.x, rect.cy * s - origin.y],
+    [width / 2, height / 2],
+    angle,
+  );
   const cx = c[0] - width / 2 + info.width / 2;
   const cy = c[1] - height / 2 + info.height / 2;
   const w = Math.max(1, Math.min(info.width, Math.round(rect.width * s)));
   const h = Math.max(1, Math.min(info.height, Math.round(rect.height * s)));
   const left = Math.min(Math.max(0, Math.round(cx - w / 2)), info.width - w);
   const top = Math.min(Math.max(0, Math.round(cy - h / 2)), info.height - h);
-  return sharp(data, { raw: { width: info.width, height: info.height, channels: info.channels } }).extract({ left, top, width: w, height: h });
+  return sharp(data, {
+    raw: { width: info.width, height: info.height, channels: info.channels },
+  }).extract({ left, top, width: w, height: h });
 }

@@ -9,6 +9,7 @@ import { presentFragment } from "../presenters/fragment";
 import type { Role } from "../../shared/roles";
 import { hasRole } from "../../shared/roles";
 import type { DetectedPiece, Fragment, FragmentGeometry, Rect, UpdateFragmentBody } from "../../shared/schemas/fragments";
+import { changedFields, recordAudit } from "./audit";
 import { boxOfPoints, convexHull, minAreaRect, polygonArea, rectCorners, rotatePoint, type Point } from "../../shared/geometry";
 
 type FragmentRow = typeof fragments.$inferSelect;
@@ -163,6 +164,34 @@ async function scanOf(db: Db, scanId: string): Promise<ScanRow> {
   return scan;
 }
 
+/** "fragment 3 of bed-04.tif (Blue heron)", for audit summaries. */
+function fragmentLabel(scan: Pick<ScanRow, "originalName">, row: Pick<FragmentRow, "position" | "title">): string {
+  return `fragment ${row.position} of ${scan.originalName}${row.title ? ` (${row.title})` : ""}`;
+}
+
+const STATUS_ACTIONS = { approved: "fragment.approve", rejected: "fragment.reject", proposed: "fragment.unreview" } as const;
+const EDITED_FIELDS = ["rect", "angle", "shape", "box", "title", "tags", "notes"] as const;
+
+/** One row for a change of status, one for edits of geometry or description (a patch may do both). */
+async function auditUpdate(tx: Tx, scan: ScanRow, before: FragmentRow, after: FragmentRow) {
+  const label = fragmentLabel(scan, before);
+  const status = changedFields(before, after, ["status"]);
+  if (status) {
+    const verb = { approved: "Approved", rejected: "Rejected", proposed: "Put back to proposed" }[after.status];
+    await recordAudit(tx, { action: STATUS_ACTIONS[after.status], subjectType: "fragment", subjectId: after.id, summary: `${verb} ${label}`, ...status });
+  }
+  const edits = changedFields(before, after, EDITED_FIELDS);
+  if (edits) {
+    await recordAudit(tx, {
+      action: "fragment.edit",
+      subjectType: "fragment",
+      subjectId: after.id,
+      summary: `Edited ${Object.keys(edits.after).join(", ")} of ${label}`,
+      ...edits,
+    });
+  }
+}
+
 /** Approve, reject, move, turn, reshape or describe a fragment. Approval (or an edit once approved) queues its render. */
 export async function updateFragment(database: Database, boss: PgBoss, actor: Actor, id: string, patch: UpdateFragmentBody): Promise<Fragment> {
   await withTx(database, boss, async (tx) => {
@@ -185,6 +214,7 @@ export async function updateFragment(database: Database, boss: PgBoss, actor: Ac
     if (patch.tags !== undefined) set.tags = [...new Set(patch.tags)];
     if (patch.notes !== undefined) set.notes = patch.notes;
     const [updated] = await tx.db.update(fragments).set(set).where(eq(fragments.id, id)).returning();
+    await auditUpdate(tx, scan, row, updated!);
     const approvedNow = updated!.status === "approved" && (row.status !== "approved" || geometryChanged);
     if (approvedNow) await queueRender(tx, updated!);
     await tx.notify({ kind: "scan", scanId: row.scanId });
@@ -197,10 +227,19 @@ export async function resetFragment(database: Database, boss: PgBoss, actor: Act
   await withTx(database, boss, async (tx) => {
     const row = await loadRow(tx.db, id, actor.role);
     if (!row.proposal) throw conflict("This fragment was drawn by hand, so there is no proposal to go back to.");
-    await tx.db
+    const [updated] = await tx.db
       .update(fragments)
       .set({ ...row.proposal, status: "proposed", revision: row.revision + 1, reviewedBy: actor.id, reviewedAt: new Date(), updatedAt: new Date() })
-      .where(eq(fragments.id, id));
+      .where(eq(fragments.id, id))
+      .returning();
+    const scan = await scanOf(tx.db, row.scanId);
+    await recordAudit(tx, {
+      action: "fragment.reset",
+      subjectType: "fragment",
+      subjectId: id,
+      summary: `Reset ${fragmentLabel(scan, row)} to the split's proposal`,
+      ...(changedFields(row, updated!, ["status", "rect", "angle", "shape", "box"]) ?? {}),
+    });
     await tx.notify({ kind: "scan", scanId: row.scanId });
   });
   return getFragment(database.db, id, actor.role);
@@ -214,6 +253,13 @@ export async function drawFragment(database: Database, boss: PgBoss, actor: Acto
     const g = geometryFromRect(scan, body.rect, body.angle, body.shape);
     const [{ max } = { max: 0 }] = await tx.db.select({ max: sql<number>`coalesce(max(${fragments.position}), 0)::int` }).from(fragments).where(eq(fragments.scanId, scanId));
     const [row] = await tx.db.insert(fragments).values({ scanId, position: max + 1, origin: "drawn", ...g, confidence: 1, reviewedBy: actor.id }).returning();
+    await recordAudit(tx, {
+      action: "fragment.draw",
+      subjectType: "fragment",
+      subjectId: row!.id,
+      summary: `Drew ${fragmentLabel(scan, row!)}`,
+      after: { rect: row!.rect, angle: row!.angle, shape: row!.shape, box: row!.box },
+    });
     await tx.notify({ kind: "scan", scanId });
     return row!.id;
   });
@@ -247,6 +293,15 @@ export async function mergeFragments(database: Database, boss: PgBoss, actor: Ac
     const position = Math.min(...rows.map((r) => r.position));
     const [row] = await tx.db.insert(fragments).values({ scanId: scan.id, position, origin: "merged", ...g, confidence: Math.min(...rows.map((r) => r.confidence)), reviewedBy: actor.id }).returning();
     await tx.db.update(fragments).set({ mergedInto: row!.id, updatedAt: new Date() }).where(inArray(fragments.id, unique));
+    const parts = [...rows].sort((a, b) => a.position - b.position);
+    await recordAudit(tx, {
+      action: "fragment.merge",
+      subjectType: "fragment",
+      subjectId: row!.id,
+      summary: `Merged fragments ${parts.map((p) => p.position).join(", ")} of ${scan.originalName} into one`,
+      before: { fragments: parts.map((p) => p.id) },
+      after: { fragment: row!.id, rect: row!.rect, angle: row!.angle, shape: row!.shape },
+    });
     await tx.notify({ kind: "scan", scanId: scan.id });
     return row!.id;
   });
@@ -258,8 +313,17 @@ export async function unmergeFragment(database: Database, boss: PgBoss, actor: A
   const scanId = await withTx(database, boss, async (tx) => {
     const row = await loadRow(tx.db, id, actor.role);
     if (row.origin !== "merged") throw conflict("This fragment was not made by a merge.");
-    await tx.db.update(fragments).set({ mergedInto: null, updatedAt: new Date() }).where(eq(fragments.mergedInto, id));
+    const back = await tx.db.update(fragments).set({ mergedInto: null, updatedAt: new Date() }).where(eq(fragments.mergedInto, id)).returning({ id: fragments.id });
     await tx.db.delete(fragments).where(eq(fragments.id, id));
+    const scan = await scanOf(tx.db, row.scanId);
+    await recordAudit(tx, {
+      action: "fragment.unmerge",
+      subjectType: "fragment",
+      subjectId: id,
+      summary: `Took ${fragmentLabel(scan, row)} apart again into ${back.length} fragments (the merged one is deleted)`,
+      before: { fragment: id, status: row.status, rect: row.rect, angle: row.angle },
+      after: { fragments: back.map((b) => b.id) },
+    });
     await tx.notify({ kind: "scan", scanId: row.scanId });
     return row.scanId;
   });
@@ -269,12 +333,22 @@ export async function unmergeFragment(database: Database, boss: PgBoss, actor: A
 /** Approves every fragment of the scan still proposed, and queues their renders. */
 export async function approveRemaining(database: Database, boss: PgBoss, actor: Actor, scanId: string): Promise<Fragment[]> {
   await withTx(database, boss, async (tx) => {
-    await scanOf(tx.db, scanId);
+    const scan = await scanOf(tx.db, scanId);
     const rows = await tx.db
       .update(fragments)
       .set({ status: "approved", reviewedBy: actor.id, reviewedAt: new Date(), updatedAt: new Date() })
       .where(and(eq(fragments.scanId, scanId), eq(fragments.status, "proposed"), isNull(fragments.mergedInto)))
       .returning();
+    if (rows.length) {
+      await recordAudit(tx, {
+        action: "fragment.approve_remaining",
+        subjectType: "scan",
+        subjectId: scanId,
+        summary: `Approved the ${rows.length} remaining ${rows.length === 1 ? "fragment" : "fragments"} of ${scan.originalName}`,
+        before: { status: "proposed" },
+        after: { status: "approved", fragments: rows.map((r) => r.id) },
+      });
+    }
     for (const r of rows) await queueRender(tx, r);
     await tx.notify({ kind: "scan", scanId });
   });
@@ -286,6 +360,14 @@ export async function requestResplit(database: Database, boss: PgBoss, scanId: s
   await withTx(database, boss, async (tx) => {
     const scan = await scanOf(tx.db, scanId);
     if (scan.status !== "ready") throw conflict(`Only a ready scan can be split again; this one is ${scan.status}.`);
+    await recordAudit(tx, {
+      action: "scan.resplit",
+      subjectType: "scan",
+      subjectId: scanId,
+      summary: `Split ${scan.originalName} again at sensitivity ${sensitivity}`,
+      before: { sensitivity: scan.splitSensitivity },
+      after: { sensitivity },
+    });
     await tx.db.update(scans).set({ status: "analysing", stage: "Waiting to split again", progress: 0, updatedAt: new Date() }).where(eq(scans.id, scanId));
     await tx.send(QUEUES.split, { scanId, sensitivity });
     await tx.notify({ kind: "scan", scanId, status: "analysing" });

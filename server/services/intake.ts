@@ -5,15 +5,16 @@ import type { Database } from "../db";
 import { scans } from "../db/schema";
 import { withTx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
-import type { Library } from "../storage/library";
-import { originalKey } from "../storage/library";
+import type { Storage } from "../storage/storage";
+import { originalKey } from "../storage/keys";
 import { currentIntake } from "./intakes";
+import { recordAudit } from "./audit";
 import type { Logger } from "../logger";
 
 export interface IntakeDeps {
   database: Database;
   boss: PgBoss;
-  library: Library;
+  library: Storage;
   log: Logger;
 }
 
@@ -69,6 +70,8 @@ export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<
           .values({ ...base, originalKey: first.originalKey, status: "duplicate", duplicateOfId: first.id, progress: 100 })
           .returning({ id: scans.id });
         r = { scanId: row!.id, sha256: staged.sha256, duplicateOf: first.id };
+        // A duplicate is final at once: its intake may be finished now (the notice job checks).
+        await tx.send(QUEUES.notice, { event: "intake-settled", intakeId: intake.id });
       } else {
         const [row] = await tx.db
           .insert(scans)
@@ -77,13 +80,23 @@ export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<
         await tx.send(QUEUES.analyse, { scanId: row!.id });
         r = { scanId: row!.id, sha256: staged.sha256, duplicateOf: null };
       }
+      // Inbox arrivals are the scanner's doing; an upload is a person's, and goes on the trail.
+      if (input.source === "upload") {
+        await recordAudit(tx, {
+          action: "scan.upload",
+          subjectType: "scan",
+          subjectId: r.scanId,
+          summary: `Uploaded ${input.originalName} into "${intake.name}"${first ? " (a duplicate of a scan already in the library)" : ""}`,
+          after: { originalName: input.originalName, sizeBytes: staged.sizeBytes, sha256: staged.sha256, intakeId: intake.id, duplicateOf: r.duplicateOf },
+        });
+      }
       await tx.notify({ kind: "scan", scanId: r.scanId, status: first ? "duplicate" : "queued" });
       // The original goes into place before commit: a committed scan row always has its file.
-      await library.commit(staged.temp, key, { readOnly: true });
+      await library.commit(staged, key);
       return r;
     });
   } catch (err) {
-    await fsp.rm(staged.temp, { force: true });
+    await library.discard(staged);
     // Two copies of the same content raced: the loser is a duplicate of the winner.
     if ((err as { code?: string }).code === "23505") return intakeFile(deps, input);
     throw err;

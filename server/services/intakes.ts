@@ -1,6 +1,7 @@
 import { and, desc, eq, isNull, ne } from "drizzle-orm";
 import type { Db } from "../db";
 import { intakes } from "../db/schema";
+import { recordAudit } from "./audit";
 
 /** Default name of an intake opened automatically: "Intake 1 Dec 2026". */
 export function defaultIntakeName(now = new Date()): string {
@@ -24,10 +25,18 @@ export async function currentIntake(db: Db): Promise<typeof intakes.$inferSelect
 export async function startIntake(db: Db, name: string): Promise<typeof intakes.$inferSelect> {
   return db.transaction(async (tx) => {
     const [created] = await tx.insert(intakes).values({ name }).returning();
-    await tx
+    const closed = await tx
       .update(intakes)
       .set({ closedAt: new Date(), updatedAt: new Date() })
-      .where(and(isNull(intakes.closedAt), ne(intakes.id, created!.id)));
+      .where(and(isNull(intakes.closedAt), ne(intakes.id, created!.id)))
+      .returning({ id: intakes.id, name: intakes.name });
+    await recordAudit(tx, {
+      action: "intake.create",
+      subjectType: "intake",
+      subjectId: created!.id,
+      summary: `Started the intake "${name}"${closed.length ? `, closing ${closed.map((c) => `"${c.name}"`).join(", ")}` : ""}`,
+      after: { name, closed: closed.map((c) => c.id) },
+    });
     return created!;
   });
 }

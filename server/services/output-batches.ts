@@ -11,6 +11,7 @@ import { recipeVersionFor } from "./recipes";
 import type { CreateBatchBody } from "../../shared/schemas/preset-api";
 import type { Preset } from "../../shared/schemas/presets";
 import { outputFileName } from "../presenters/fragment";
+import { recordAudit } from "./audit";
 
 /** The approved fragments a selection names. Batches make copies of approved work only. */
 export async function selectFragments(db: Db, selection: CreateBatchBody["selection"]) {
@@ -85,6 +86,18 @@ export async function createOutputBatch(
         await tx.send(QUEUES.output, { batchItemId: item!.id });
       }
     }
+    await recordAudit(tx, {
+      action: rerun ? "batch.rerun" : "batch.create",
+      subjectType: "batch",
+      subjectId: batch!.id,
+      summary: `${rerun ? "Ran again as" : "Started"} the batch "${name}": ${picked.length * list.length} ${picked.length * list.length === 1 ? "output" : "outputs"}${rerun?.replaceOld ? ", replacing the old outputs" : ""}`,
+      after: {
+        name,
+        fragments: picked.length,
+        presets: list.map((p) => ({ id: p.id, name: p.name, version: p.version })),
+        ...(rerun ? { rerunOf: rerun.of, replaceOld: rerun.replaceOld } : {}),
+      },
+    });
     await tx.notify({ kind: "worker" });
     return batch!.id;
   });
@@ -140,6 +153,15 @@ export async function retryFailed(database: Database, boss: PgBoss, id: string) 
       .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "failed")))
       .returning();
     if (!failed.length) throw conflict("Nothing in this batch has failed.");
+    const [batch] = await tx.db.select({ name: batches.name }).from(batches).where(eq(batches.id, id));
+    await recordAudit(tx, {
+      action: "batch.retry",
+      subjectType: "batch",
+      subjectId: id,
+      summary: `Queued the ${failed.length} failed ${failed.length === 1 ? "item" : "items"} of the batch "${batch!.name}" again`,
+      before: { failed: failed.length },
+      after: { queued: failed.length, items: failed.map((i) => i.id) },
+    });
     for (const item of failed) {
       if (item.presetVersionId) await tx.send(QUEUES.output, { batchItemId: item.id });
       else await tx.send(QUEUES.render, { fragmentId: item.fragmentId, revision: (await tx.db.select({ r: fragments.revision }).from(fragments).where(eq(fragments.id, item.fragmentId)))[0]!.r, batchItemId: item.id });
@@ -152,10 +174,24 @@ export async function retryFailed(database: Database, boss: PgBoss, id: string) 
 
 /** Stops what has not started: queued items are cancelled (their jobs find them so and do nothing). */
 export async function cancelBatch(db: Db, id: string) {
-  await getBatch(db, id);
-  await db.update(batchItems).set({ state: "cancelled", updatedAt: new Date() }).where(and(eq(batchItems.batchId, id), eq(batchItems.state, "queued")));
-  const [open] = await db.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, id), eq(batchItems.state, "running")));
-  if (!open?.n) await db.update(batches).set({ finishedAt: new Date(), updatedAt: new Date() }).where(and(eq(batches.id, id), isNull(batches.finishedAt)));
+  const before = await getBatch(db, id);
+  await db.transaction(async (tx) => {
+    const cancelled = await tx
+      .update(batchItems)
+      .set({ state: "cancelled", updatedAt: new Date() })
+      .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "queued")))
+      .returning({ id: batchItems.id });
+    const [open] = await tx.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, id), eq(batchItems.state, "running")));
+    if (!open?.n) await tx.update(batches).set({ finishedAt: new Date(), updatedAt: new Date() }).where(and(eq(batches.id, id), isNull(batches.finishedAt)));
+    await recordAudit(tx, {
+      action: "batch.cancel",
+      subjectType: "batch",
+      subjectId: id,
+      summary: `Cancelled the batch "${before.name}": ${cancelled.length} queued ${cancelled.length === 1 ? "item" : "items"} will not run`,
+      before: { queued: before.counts.queued },
+      after: { queued: 0, cancelled: before.counts.cancelled + cancelled.length },
+    });
+  });
   return getBatch(db, id);
 }
 

@@ -1,10 +1,9 @@
-import fs from "node:fs/promises";
 import path from "node:path";
 import sharp from "sharp";
 import { and, eq } from "drizzle-orm";
 import type { Db } from "../db";
 import { fragments, outputs } from "../db/schema";
-import type { Library } from "../storage/library";
+import type { Storage } from "../storage/storage";
 import { badRequest, conflict, notFound } from "../errors";
 import type { Preset } from "../../shared/schemas/presets";
 import { isOutputError, outputExtension, renderOutput } from "../../worker/pipeline/output";
@@ -14,39 +13,59 @@ import { isOutputError, outputExtension, renderOutput } from "../../worker/pipel
  * batch runs), and sends back a reduced picture of it with the report: the print on its paper, the
  * mock-up as composed, the web copy as cropped or padded.
  */
-export async function previewPreset(db: Db, library: Library, input: { fragmentId: string; settings: Preset; size: number }) {
+export async function previewPreset(
+  db: Db,
+  library: Storage,
+  input: { fragmentId: string; settings: Preset; size: number },
+) {
   const started = performance.now();
   const [f] = await db.select().from(fragments).where(eq(fragments.id, input.fragmentId));
   if (!f) throw notFound("That fragment");
-  const [master] = await db.select().from(outputs).where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
-  if (!master) throw conflict("This fragment has no master yet: approve it and wait for its render.");
-  const temp = await library.tempPath(`preview.${outputExtension(input.settings)}`);
-  const target = path.join(path.dirname(temp), `${path.basename(temp).replace(/\.[^.]+$/, "")}.${outputExtension(input.settings)}`);
-  try {
-    const report = await renderOutput(
-      { master: library.pathFor(master.key), dpi: master.dpi, title: f.title ?? `Fragment ${f.position}`, shape: f.shape },
-      input.settings,
-      { path: target },
-    );
-    // A PDF cannot be pictured by sharp here: show the page layout from the same code as a TIFF.
-    const pictured = report.format === "pdf" ? null : await sharp(target).resize(input.size, input.size, { fit: "inside", withoutEnlargement: true }).flatten({ background: "#ffffff" }).jpeg({ quality: 82 }).toBuffer();
-    return {
-      image: pictured ? `data:image/jpeg;base64,${pictured.toString("base64")}` : "",
-      report: {
-        pixelWidth: report.pixelWidth,
-        pixelHeight: report.pixelHeight,
-        printedIn: report.printedIn,
-        effectiveDpi: report.effectiveDpi,
-        warnings: report.warnings,
-        format: report.format,
-      },
-      ms: Math.round(performance.now() - started),
-    };
-  } catch (err) {
-    if (isOutputError(err) && err.code !== "failed") throw badRequest(err.message, "settings");
-    throw err;
-  } finally {
-    await fs.rm(target, { force: true });
-    await fs.rm(temp, { force: true });
-  }
+  const [master] = await db
+    .select()
+    .from(outputs)
+    .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
+  if (!master)
+    throw conflict("This fragment has no master yet: approve it and wait for its render.");
+  return library.withScratch(async (dir) => {
+    const target = path.join(dir, `preview.${outputExtension(input.settings)}`);
+    try {
+      const report = await library.withLocalFile(master.key, (masterPath) =>
+        renderOutput(
+          {
+            master: masterPath,
+            dpi: master.dpi,
+            title: f.title ?? `Fragment ${f.position}`,
+            shape: f.shape,
+          },
+          input.settings,
+          { path: target },
+        ),
+      );
+      // A PDF cannot be pictured by sharp here: show the page layout from the same code as a TIFF.
+      const pictured =
+        report.format === "pdf"
+          ? null
+          : await sharp(target)
+              .resize(input.size, input.size, { fit: "inside", withoutEnlargement: true })
+              .flatten({ background: "#ffffff" })
+              .jpeg({ quality: 82 })
+              .toBuffer();
+      return {
+        image: pictured ? `data:image/jpeg;base64,${pictured.toString("base64")}` : "",
+        report: {
+          pixelWidth: report.pixelWidth,
+          pixelHeight: report.pixelHeight,
+          printedIn: report.printedIn,
+          effectiveDpi: report.effectiveDpi,
+          warnings: report.warnings,
+          format: report.format,
+        },
+        ms: Math.round(performance.now() - started),
+      };
+    } catch (err) {
+      if (isOutputError(err) && err.code !== "failed") throw badRequest(err.message, "settings");
+      throw err;
+    }
+  });
 }

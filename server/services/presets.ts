@@ -4,6 +4,7 @@ import { presetVersions, presets } from "../db/schema";
 import { conflict, notFound } from "../errors";
 import { BUILT_IN_PRESETS, type Preset } from "../../shared/schemas/presets";
 import type { PresetSummary } from "../../shared/schemas/preset-api";
+import { recordAudit } from "./audit";
 
 type PresetRow = typeof presets.$inferSelect;
 export type PresetVersionRow = typeof presetVersions.$inferSelect;
@@ -62,7 +63,14 @@ export async function createPreset(db: Db, actorId: string, body: { name: string
   if (await nameTaken(db, body.name)) throw conflict(`A preset called "${body.name}" already exists.`, "name");
   const id = await db.transaction(async (tx) => {
     const [row] = await tx.insert(presets).values({ name: body.name, kind: body.settings.kind }).returning();
-    await tx.insert(presetVersions).values({ presetId: row!.id, version: 1, settings: body.settings, createdBy: actorId });
+    const [v] = await tx.insert(presetVersions).values({ presetId: row!.id, version: 1, settings: body.settings, createdBy: actorId }).returning();
+    await recordAudit(tx, {
+      action: "preset.create",
+      subjectType: "preset",
+      subjectId: row!.id,
+      summary: `Made the ${row!.kind} preset "${row!.name}" (version 1)`,
+      after: { name: row!.name, kind: row!.kind, version: 1, versionId: v!.id, settings: body.settings },
+    });
     return row!.id;
   });
   return getPreset(db, id);
@@ -83,9 +91,30 @@ export async function updatePreset(db: Db, actorId: string, id: string, body: { 
   }
   await db.transaction(async (tx) => {
     if (body.settings && canonical(body.settings) !== canonical(preset.settings)) {
-      await tx.insert(presetVersions).values({ presetId: id, version: preset.version + 1, settings: body.settings, createdBy: actorId });
+      const [v] = await tx.insert(presetVersions).values({ presetId: id, version: preset.version + 1, settings: body.settings, createdBy: actorId }).returning();
+      // Only the settings that changed, side by side (a preset's settings are one flat-ish object).
+      const before: Record<string, unknown> = { version: preset.version, versionId: preset.versionId };
+      const after: Record<string, unknown> = { version: v!.version, versionId: v!.id };
+      const old = preset.settings as Record<string, unknown>;
+      const next = body.settings as Record<string, unknown>;
+      for (const k of new Set([...Object.keys(old), ...Object.keys(next)])) {
+        if (canonical(old[k] ?? null) === canonical(next[k] ?? null)) continue;
+        before[k] = old[k] ?? null;
+        after[k] = next[k] ?? null;
+      }
+      await recordAudit(tx, { action: "preset.version", subjectType: "preset", subjectId: id, summary: `Saved version ${v!.version} of the preset "${preset.name}"`, before, after });
     }
     await tx.update(presets).set({ ...(body.name ? { name: body.name } : {}), updatedAt: new Date() }).where(eq(presets.id, id));
+    if (body.name && body.name !== preset.name) {
+      await recordAudit(tx, {
+        action: "preset.rename",
+        subjectType: "preset",
+        subjectId: id,
+        summary: `Renamed the preset "${preset.name}" to "${body.name}"`,
+        before: { name: preset.name },
+        after: { name: body.name },
+      });
+    }
   });
   return getPreset(db, id);
 }

@@ -7,6 +7,7 @@ import { conflict, notFound } from "../errors";
 import { BUILT_IN_RECIPES, DEFAULT_RECIPE_NAME, recipeStepSchema, type RecipeStep } from "../../shared/schemas/recipes";
 import type { ApplyRecipeBody, CreateRecipeBody, RecipeSummary, UpdateRecipeBody } from "../../shared/schemas/recipe-api";
 import { createBatch } from "./batches";
+import { changedFields, recordAudit } from "./audit";
 
 type RecipeRow = typeof recipes.$inferSelect;
 
@@ -110,7 +111,14 @@ export async function createRecipe(db: Db, actorId: string, body: CreateRecipeBo
   if (await nameTaken(db, body.name)) throw conflict(`A recipe called "${body.name}" already exists.`, "name");
   const id = await db.transaction(async (tx) => {
     const [row] = await tx.insert(recipes).values({ name: body.name, description: body.description ?? null }).returning();
-    await tx.insert(recipeVersions).values({ recipeId: row!.id, version: 1, steps: body.steps, createdBy: actorId });
+    const [v] = await tx.insert(recipeVersions).values({ recipeId: row!.id, version: 1, steps: body.steps, createdBy: actorId }).returning();
+    await recordAudit(tx, {
+      action: "recipe.create",
+      subjectType: "recipe",
+      subjectId: row!.id,
+      summary: `Made the recipe "${row!.name}" (version 1, ${body.steps.length} ${body.steps.length === 1 ? "step" : "steps"})`,
+      after: { name: row!.name, description: row!.description, version: 1, versionId: v!.id, steps: body.steps },
+    });
     return row!.id;
   });
   return getRecipe(db, id);
@@ -129,18 +137,45 @@ export async function updateRecipe(db: Db, actorId: string, id: string, body: Up
       const latest = await latestVersion(tx as unknown as Db, id);
       const steps = body.steps.map((s) => recipeStepSchema.parse(s));
       if (canonical(steps) !== canonical(latest.steps)) {
-        await tx.insert(recipeVersions).values({ recipeId: id, version: latest.version + 1, steps, createdBy: actorId });
+        const [v] = await tx.insert(recipeVersions).values({ recipeId: id, version: latest.version + 1, steps, createdBy: actorId }).returning();
+        await recordAudit(tx, {
+          action: "recipe.version",
+          subjectType: "recipe",
+          subjectId: id,
+          summary: `Saved version ${v!.version} of the recipe "${row.name}"`,
+          before: { version: latest.version, versionId: latest.id, steps: latest.steps },
+          after: { version: v!.version, versionId: v!.id, steps },
+        });
       }
     }
-    await tx
+    const [renamed] = await tx
       .update(recipes)
       .set({
         ...(body.name !== undefined ? { name: body.name } : {}),
         ...(body.description !== undefined ? { description: body.description } : {}),
         updatedAt: new Date(),
       })
-      .where(eq(recipes.id, id));
-    if (body.studioDefault) await tx.update(studio).set({ defaultRecipeId: id, updatedAt: new Date() });
+      .where(eq(recipes.id, id))
+      .returning();
+    const edits = changedFields(row, renamed!, ["name", "description"]);
+    if (edits) {
+      await recordAudit(tx, { action: "recipe.edit", subjectType: "recipe", subjectId: id, summary: `Changed the ${Object.keys(edits.after).join(" and ")} of the recipe "${row.name}"`, ...edits });
+    }
+    if (body.studioDefault) {
+      const previous = await studioDefaultId(tx as unknown as Db);
+      if (previous !== id) {
+        const [old] = await tx.select({ name: recipes.name }).from(recipes).where(eq(recipes.id, previous));
+        await tx.update(studio).set({ defaultRecipeId: id, updatedAt: new Date() });
+        await recordAudit(tx, {
+          action: "recipe.default",
+          subjectType: "recipe",
+          subjectId: id,
+          summary: `Made "${renamed!.name}" the studio's default recipe${old ? ` instead of "${old.name}"` : ""}`,
+          before: { defaultRecipe: { id: previous, name: old?.name ?? null } },
+          after: { defaultRecipe: { id, name: renamed!.name } },
+        });
+      }
+    }
   });
   return getRecipe(db, id);
 }
@@ -171,9 +206,12 @@ export async function applyRecipe(database: Database, boss: PgBoss, actorId: str
   const version = await latestVersion(database.db, recipeId);
   return withTx(database, boss, async (tx) => {
     let targetIds: string[];
+    // What the recipe replaced, for the trail: the intake's or scan's own choice, or each fragment's.
+    let target: { what: string; before: Record<string, unknown> };
     if (body.intakeId) {
       const [intake] = await tx.db.select().from(intakes).where(eq(intakes.id, body.intakeId));
       if (!intake) throw notFound("That intake");
+      target = { what: `the intake "${intake.name}"`, before: { intakeId: intake.id, recipeId: intake.recipeId } };
       await tx.db.update(intakes).set({ recipeId, updatedAt: new Date() }).where(eq(intakes.id, intake.id));
       const scanIds = (await tx.db.select({ id: scans.id }).from(scans).where(eq(scans.intakeId, intake.id))).map((r) => r.id);
       if (scanIds.length) await tx.db.update(scans).set({ recipeId: null }).where(inArray(scans.id, scanIds));
@@ -182,12 +220,18 @@ export async function applyRecipe(database: Database, boss: PgBoss, actorId: str
         : [];
       targetIds = rows.map((r) => r.id);
     } else if (body.scanId) {
-      const [scan] = await tx.db.select({ id: scans.id }).from(scans).where(eq(scans.id, body.scanId));
+      const [scan] = await tx.db.select({ id: scans.id, name: scans.originalName, recipeId: scans.recipeId }).from(scans).where(eq(scans.id, body.scanId));
       if (!scan) throw notFound("That scan");
+      target = { what: scan.name, before: { scanId: scan.id, recipeId: scan.recipeId } };
       await tx.db.update(scans).set({ recipeId, updatedAt: new Date() }).where(eq(scans.id, scan.id));
       const rows = await tx.db.update(fragments).set({ recipeId: null }).where(eq(fragments.scanId, scan.id)).returning({ id: fragments.id });
       targetIds = rows.map((r) => r.id);
     } else {
+      const was = await tx.db.select({ id: fragments.id, recipeId: fragments.recipeId }).from(fragments).where(inArray(fragments.id, body.fragmentIds!));
+      target = {
+        what: `${was.length} ${was.length === 1 ? "fragment" : "fragments"}`,
+        before: { fragments: Object.fromEntries(was.map((f) => [f.id, f.recipeId])) },
+      };
       const rows = await tx.db.update(fragments).set({ recipeId }).where(inArray(fragments.id, body.fragmentIds!)).returning({ id: fragments.id });
       if (rows.length !== new Set(body.fragmentIds).size) throw notFound("One of those fragments");
       targetIds = rows.map((r) => r.id);
@@ -203,6 +247,14 @@ export async function applyRecipe(database: Database, boss: PgBoss, actorId: str
       recipeVersionId: version.id,
       createdBy: actorId,
       fragments: approved,
+    });
+    await recordAudit(tx, {
+      action: "recipe.apply",
+      subjectType: "recipe",
+      subjectId: recipeId,
+      summary: `Applied "${recipe.name}" v${version.version} to ${target.what}; ${approved.length} approved ${approved.length === 1 ? "fragment is" : "fragments are"} rendered again`,
+      before: target.before,
+      after: { recipeId, versionId: version.id, version: version.version, batchId: batch.id, fragments: targetIds.length, rerender: approved.length },
     });
     return { batchId: batch.id, fragments: targetIds.length, rerender: approved.length };
   });

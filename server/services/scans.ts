@@ -10,6 +10,7 @@ import { QUEUES } from "../jobs/queues";
 import { conflict, notFound } from "../errors";
 import { withTx } from "../db/tx";
 import { proposedCounts } from "./fragments";
+import { recordAudit } from "./audit";
 
 const first = alias(scans, "first_scan");
 
@@ -85,6 +86,14 @@ export async function retryScan(database: Database, boss: PgBoss, id: string) {
       [id],
     );
     if (updated.rowCount) {
+      await recordAudit(tx, {
+        action: "scan.retry",
+        subjectType: "scan",
+        subjectId: id,
+        summary: `Retried ${row.originalName} after it failed`,
+        before: { status: "failed", error: row.error },
+        after: { status: "queued" },
+      });
       await tx.send(QUEUES.analyse, { scanId: id });
       await tx.notify({ kind: "scan", scanId: id, status: "queued" });
     }

@@ -19,3 +19,23 @@ export type RenderPayload = z.infer<typeof renderPayload>;
 
 /** Payload of the output job: make one batch item (a fragment × a preset version). */
 export const outputPayload = z.object({ batchItemId: z.uuid() });
+
+/** Payload of the off-site copy and re-check jobs: one master (its outputs row). */
+export const offsitePayload = z.object({ outputId: z.uuid() });
+export type OffsitePayload = z.infer<typeof offsitePayload>;
+
+/**
+ * Payload of the notice job: something happened that people may have asked to hear about. The
+ * job decides who (their notice choices) and what (it reads the current state), so sending it
+ * twice gives each person one message.
+ */
+export const noticePayload = z.discriminatedUnion("event", [
+  z.object({ event: z.literal("batch-finished"), batchId: z.uuid() }),
+  z.object({ event: z.literal("scan-failed"), scanId: z.uuid() }),
+  /** A scan of this intake reached a final state; the job checks whether the whole intake has. */
+  z.object({ event: z.literal("intake-settled"), intakeId: z.uuid() }),
+]);
+export type NoticePayload = z.infer<typeof noticePayload>;
+
+/** Payload of the mail job: hand one outbox message to the mail server. */
+export const mailSendPayload = z.object({ outboxId: z.uuid() });

@@ -1,6 +1,7 @@
 import { createBrowserRouter } from "react-router-dom";
 import { paths } from "../config/paths";
 import { ProtectedLayout } from "./layout/protected-layout";
+import { AuditRoute } from "./routes/audit";
 import { BatchRoute } from "./routes/batch";
 import { BatchNewRoute } from "./routes/batch-new";
 import { BatchesRoute } from "./routes/batches";
@@ -18,11 +19,19 @@ import { ScanReviewRoute } from "./routes/scan-review";
 import { ScansRoute } from "./routes/scans";
 import { SignInRoute } from "./routes/sign-in";
 import { UsersRoute } from "./routes/users";
+import { AccountRoute } from "./routes/account";
+import { ForgotPasswordRoute } from "./routes/forgot-password";
+import { JoinRoute } from "./routes/join";
+import { MailboxRoute } from "./routes/mailbox";
+import { ResetPasswordRoute } from "./routes/reset-password";
 import { WorkRoute } from "./routes/work";
 
 export function createRouter() {
   return createBrowserRouter([
     { path: paths.signIn, element: <SignInRoute /> },
+    { path: paths.forgotPassword, element: <ForgotPasswordRoute /> },
+    { path: paths.join, element: <JoinRoute /> },
+    { path: paths.resetPassword, element: <ResetPasswordRoute /> },
     {
       element: <ProtectedLayout />,
       children: [
@@ -37,6 +46,9 @@ export function createRouter() {
         { path: "/recipes/:id", element: <RecipeRoute /> },
         { path: "/recipes/:id/apply", element: <RecipeApplyRoute /> },
         { path: paths.users, element: <UsersRoute /> },
+        { path: paths.account, element: <AccountRoute /> },
+        { path: paths.mailbox, element: <MailboxRoute /> },
+        { path: paths.audit, element: <AuditRoute /> },
         { path: paths.presets, element: <PresetsRoute /> },
         { path: paths.presetNew, element: <PresetNewRoute /> },
         { path: "/presets/:id", element: <PresetRoute /> },

@@ -1,6 +1,16 @@
+import { INVITE_PAGE, RESET_PAGE } from "../../shared/schemas/mail";
+
 /** Every screen's address in one place, so links and the router agree. */
 export const paths = {
   signIn: "/sign-in",
+  /** Public pages that links in messages (or the sign-in page) open. */
+  forgotPassword: "/forgot-password",
+  join: INVITE_PAGE,
+  resetPassword: RESET_PAGE,
+  /** Your own account: notices by e-mail. */
+  account: "/account",
+  /** The development mailbox (admins, only while mail goes to the local fake). */
+  mailbox: "/mailbox",
   queue: "/queue",
   scans: "/scans",
   scan: (id: string) => `/scans/${encodeURIComponent(id)}`,
@@ -13,6 +23,8 @@ export const paths = {
   /** Apply a recipe to fragments chosen on a grid. */
   recipeApply: (id: string) => `/recipes/${encodeURIComponent(id)}/apply`,
   users: "/users",
+  /** The audit trail (admins); ?event= opens one event beside the list. */
+  audit: "/audit",
   /** Output presets by kind, and the editor of one (a new one takes ?kind= or ?from=). */
   presets: "/presets",
   presetNew: "/presets/new",

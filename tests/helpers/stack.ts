@@ -28,6 +28,12 @@ export interface StackOptions {
   worker?: boolean;
   watcher?: boolean;
   env?: Record<string, string>;
+  /** Keep the library in a bucket on a fake S3 started for this stack (PLATEN_STORAGE=s3). */
+  s3?: boolean;
+  /** Copy masters off-site to a bucket on a fake S3 started for this stack (local library). */
+  offsite?: boolean;
+  /** Send mail to a local SMTP fake started for this stack (a free port; its mailbox in the data folder). */
+  mail?: boolean;
 }
 
 /** Environment shared by in-process stacks and spawned processes for one test database. */
@@ -64,11 +70,22 @@ export async function testEnvironment(extra: Record<string, string> = {}) {
 /** Starts server, worker and watcher in this process against a fresh database and folders. */
 export async function startStack(opts: StackOptions = {}) {
   const t = await testEnvironment(opts.env);
+  // A fake S3 for this stack only: its own port and folder, buckets "library" and "offsite".
+  const { startFakeS3, fakeS3Env } = await import("../../scripts/lib/fake-s3");
+  const s3 =
+    opts.s3 || opts.offsite ? await startFakeS3({ directory: path.join(t.dir, "s3"), buckets: ["library", "offsite"] }) : undefined;
+  if (s3 && opts.s3) Object.assign(t.env, fakeS3Env(s3, "library"), opts.env);
+  if (s3 && opts.offsite) Object.assign(t.env, fakeS3Env(s3, "offsite", "OFFSITE"), opts.env);
+  const { startMailFake } = await import("../../server/mail/fake-smtp");
+  const mailFake = opts.mail ? await startMailFake({ dir: path.join(t.env.PLATEN_DATA_DIR!, "mailbox") }) : undefined;
+  if (mailFake) {
+    Object.assign(t.env, { PLATEN_SMTP_HOST: mailFake.host, PLATEN_SMTP_PORT: String(mailFake.port), PLATEN_MAILBOX_DIR: mailFake.dir }, opts.env);
+  }
   const { overrideConfig } = await import("../../server/config");
   const cfg = overrideConfig(t.env);
   const { openDatabase } = await import("../../server/db");
   const { startBoss } = await import("../../server/jobs/boss");
-  const { Library } = await import("../../server/storage/library");
+  const { openStorage, openOffsite } = await import("../../server/storage");
   const { logger } = await import("../../server/logger");
   const { createHub } = await import("../../server/services/hub");
   const { createApp } = await import("../../server/app");
@@ -80,21 +97,23 @@ export async function startStack(opts: StackOptions = {}) {
   const database = openDatabase(cfg.databaseUrl, 8);
   await ensureStudio(database.db, cfg, "Test studio", false);
   const boss = await startBoss({ url: cfg.databaseUrl, log });
-  const library = new Library(cfg.libraryDir);
-  await fs.mkdir(path.join(cfg.libraryDir, "tmp", "uploads"), { recursive: true });
+  const library = openStorage(cfg);
+  const offsite = openOffsite(cfg);
 
   let server: http.Server | undefined;
   let hub: ReturnType<typeof createHub> | undefined;
   let url = "";
   if (opts.server !== false) {
     hub = createHub(database.pool, log);
-    const app = createApp({ config: cfg, database, boss, library, log, hub, sessionSecret: t.env.PLATEN_SESSION_SECRET! });
+    const app = createApp({ config: cfg, database, boss, library, offsite, log, hub, sessionSecret: t.env.PLATEN_SESSION_SECRET! });
     server = await new Promise<http.Server>((resolve) => {
       const s = app.listen(0, "127.0.0.1", () => resolve(s));
     });
     url = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
+    // Links in messages point at this server's real port.
+    if (mailFake) cfg.mail.publicUrl = url;
   }
-  const worker = opts.worker !== false ? await startWorker({ config: cfg, database, boss, library, log }) : undefined;
+  const worker = opts.worker !== false ? await startWorker({ config: cfg, database, boss, library, offsite, log }) : undefined;
   const watcher =
     opts.watcher !== false
       ? await startWatcher({ database, boss, library, log }, { folder: cfg.inboxDir, stableMs: cfg.inboxStableMs, pollMs: cfg.inboxPollMs })
@@ -108,6 +127,16 @@ export async function startStack(opts: StackOptions = {}) {
     db: database.db,
     boss,
     library,
+    offsite,
+    /** The fake S3 behind `library` (opts.s3) or `offsite` (opts.offsite). */
+    s3,
+    /** The file of a library key, for tests that look at the folder itself (local library only). */
+    libraryPath(key: string): string {
+      if (!("pathFor" in library)) throw new Error("libraryPath needs the local library; this stack keeps it on S3");
+      return (library as import("../../server/storage/local").LocalStorage).pathFor(key);
+    },
+    /** The local SMTP fake (opts.mail) and what it received. */
+    mail: mailFake ? mailbox(mailFake.dir) : undefined,
     inbox: cfg.inboxDir,
     worker,
     watcher,
@@ -125,11 +154,31 @@ export async function startStack(opts: StackOptions = {}) {
       await hub?.close();
       await boss.stop({ graceful: false, wait: true }).catch(() => {});
       await database.close();
+      await s3?.stop().catch(() => {});
+      await mailFake?.close();
       await t.cleanup();
     },
   };
 }
 export type Stack = Awaited<ReturnType<typeof startStack>>;
+
+/** What the local SMTP fake received, read from its mailbox folder. */
+function mailbox(dir: string) {
+  const read = async () => (await import("../../server/mail/mailbox")).listMailbox(dir);
+  return {
+    dir,
+    /** Every message received so far, newest first. */
+    messages: read,
+    /** Messages to one address, oldest first. */
+    async to(address: string) {
+      return (await read()).filter((m) => m.to.includes(address)).reverse();
+    },
+    /** Waits for the `count`-th message to `address` (1 = the first) and returns it. */
+    async waitFor(address: string, count = 1) {
+      return waitFor(`message ${count} to ${address}`, async () => (await this.to(address))[count - 1] ?? null, 20_000);
+    },
+  };
+}
 
 /** Creates a user directly in the database and returns a signed-in agent for them. */
 export async function userAgent(stack: Stack, role: "viewer" | "operator" | "admin", email = `${role}@test.example`) {

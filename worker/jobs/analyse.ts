@@ -1,15 +1,16 @@
 import { eq, sql } from "drizzle-orm";
 import { scans, studio } from "../../server/db/schema";
-import { previewKey, thumbKey } from "../../server/storage/library";
+import path from "node:path";
+import { previewKey, thumbKey } from "../../server/storage/keys";
+import { isStorageError } from "../../server/storage/storage";
 import { notify } from "../../server/services/events";
+import { noticeScanSettled } from "../../server/services/notices";
 import { analysePayload } from "../../shared/schemas/jobs";
 import { readScanInfo, writePreviews, ScanError } from "../pipeline/metadata";
 import { DEFAULT_SENSITIVITY, runSplit, type SplitDeps } from "./split";
 import type { JobContext } from "./context";
 
-
 export type AnalyseDeps = SplitDeps;
-
 
 /**
  * Analyse one scan: read its pixel size, format, depth, colour and resolution, make its preview and
@@ -17,7 +18,11 @@ export type AnalyseDeps = SplitDeps;
  * with a message a person can act on (no retry: the original will not change). Anything else
  * (database, disk) throws so the queue retries with backoff. Safe to run twice.
  */
-export async function analyseScan(deps: AnalyseDeps, data: unknown, ctx: JobContext): Promise<void> {
+export async function analyseScan(
+  deps: AnalyseDeps,
+  data: unknown,
+  ctx: JobContext,
+): Promise<void> {
   const { scanId } = analysePayload.parse(data);
   const { db, pool } = deps.database;
   const log = deps.log.child({ jobId: ctx.jobId, scanId });
@@ -32,7 +37,11 @@ export async function analyseScan(deps: AnalyseDeps, data: unknown, ctx: JobCont
     return;
   }
 
-  const progress = async (stage: string, pct: number, extra: Partial<typeof scans.$inferInsert> = {}) => {
+  const progress = async (
+    stage: string,
+    pct: number,
+    extra: Partial<typeof scans.$inferInsert> = {},
+  ) => {
     await db
       .update(scans)
       .set({ stage, progress: pct, updatedAt: new Date(), ...extra })
@@ -49,15 +58,45 @@ export async function analyseScan(deps: AnalyseDeps, data: unknown, ctx: JobCont
 
   const [studioRow] = await db.select({ defaultDpi: studio.defaultDpi }).from(studio).limit(1);
   const defaultDpi = studioRow?.defaultDpi ?? deps.config.defaultDpi;
-  const original = deps.library.pathFor(scan.originalKey);
+
+  // Notices: a failure, and perhaps a finished intake. Queuing one never fails the job.
+  const settled = (failed: boolean) =>
+    noticeScanSettled(deps.boss, scan, failed).catch((err: unknown) =>
+      log.warn({ err }, "analyse: notice not queued"),
+    );
 
   try {
-    if (!(await deps.library.exists(scan.originalKey))) {
-      throw new ScanError(
-        "unreadable",
-        "The original is missing from the library. Restore the library folder from a backup, or drop the scan in the inbox again.",
-      );
+    // One local copy of the original for the whole analysis (on S3: fetched once into the cache).
+    await deps.library
+      .withLocalFile(scan.originalKey, (original) => analyseFile(original))
+      .catch((err: unknown) => {
+        if (!isStorageError(err, "missing")) throw err;
+        throw new ScanError(
+          "unreadable",
+          "The original is missing from the library. Restore it from a backup, or drop the scan in the inbox again.",
+        );
+      });
+  } catch (err) {
+    if (err instanceof ScanError) {
+      await progress("Failed", 100, { status: "failed", error: err.message });
+      log.warn({ code: err.code, reason: err.message }, "analyse: scan failed");
+      await settled(true);
+      return;
     }
+    const last = ctx.retryCount >= ctx.retryLimit;
+    const message = (err as Error).message;
+    await progress(last ? "Failed" : "Will retry", last ? 100 : 0, {
+      status: last ? "failed" : "queued",
+      error: last
+        ? `Analysis failed after ${ctx.retryCount + 1} attempts: ${message}`
+        : `Attempt ${ctx.retryCount + 1} failed (${message}); retrying.`,
+    }).catch(() => {});
+    if (last) await settled(true);
+    throw err;
+  }
+  await settled(false);
+
+  async function analyseFile(original: string) {
     const info = await readScanInfo(original, { defaultDpi, maxPixels: deps.config.maxPixels });
     await progress("Making the preview", 35, {
       width: info.width,
@@ -74,33 +113,29 @@ export async function analyseScan(deps: AnalyseDeps, data: unknown, ctx: JobCont
       dpiSource: info.dpi.source,
       resolutionOrigin: info.dpi.origin,
     });
-    if (deps.config.testAnalyseDelayMs > 0) await holdFor(deps.config.testAnalyseDelayMs, ctx.signal);
+    if (deps.config.testAnalyseDelayMs > 0)
+      await holdFor(deps.config.testAnalyseDelayMs, ctx.signal);
     const pKey = previewKey(scanId);
     const tKey = thumbKey(scanId);
-    await writePreviews(original, {
-      previewPath: deps.library.pathFor(pKey),
-      thumbPath: deps.library.pathFor(tKey),
-      maxPixels: deps.config.maxPixels,
+    // Made in scratch, then stored (locally a rename into place; on S3 an upload).
+    await deps.library.withScratch(async (dir) => {
+      const previewPath = path.join(dir, "preview.jpg");
+      const thumbPath = path.join(dir, "thumb.jpg");
+      await writePreviews(original, { previewPath, thumbPath, maxPixels: deps.config.maxPixels });
+      await deps.library.put(pKey, previewPath, { move: true });
+      await deps.library.put(tKey, thumbPath, { move: true });
     });
-    await progress("Finding the pieces", 70, { previewKey: pKey, thumbKey: tKey, analysedAt: new Date() });
+    await progress("Finding the pieces", 70, {
+      previewKey: pKey,
+      thumbKey: tKey,
+      analysedAt: new Date(),
+    });
     const [analysed] = await db.select().from(scans).where(eq(scans.id, scanId));
-    const proposed = await runSplit(deps, analysed!, DEFAULT_SENSITIVITY);
-    log.info({ width: info.width, height: info.height, dpi: info.dpi, proposed }, "analyse: scan ready");
-  } catch (err) {
-    if (err instanceof ScanError) {
-      await progress("Failed", 100, { status: "failed", error: err.message });
-      log.warn({ code: err.code, reason: err.message }, "analyse: scan failed");
-      return;
-    }
-    const last = ctx.retryCount >= ctx.retryLimit;
-    const message = (err as Error).message;
-    await progress(last ? "Failed" : "Will retry", last ? 100 : 0, {
-      status: last ? "failed" : "queued",
-      error: last
-        ? `Analysis failed after ${ctx.retryCount + 1} attempts: ${message}`
-        : `Attempt ${ctx.retryCount + 1} failed (${message}); retrying.`,
-    }).catch(() => {});
-    throw err;
+    const proposed = await runSplit(deps, analysed!, DEFAULT_SENSITIVITY, original);
+    log.info(
+      { width: info.width, height: info.height, dpi: info.dpi, proposed },
+      "analyse: scan ready",
+    );
   }
 }
 

@@ -1,4 +1,4 @@
-import fs from "node:fs/promises";
+import type PgBoss from "pg-boss";
 import path from "node:path";
 import { and, eq } from "drizzle-orm";
 import type { Database } from "../../server/db";
@@ -6,7 +6,8 @@ import { batchItems, fragments, outputs, presetVersions, scans } from "../../ser
 import { notify } from "../../server/services/events";
 import { settleBatchItem } from "../../server/services/batches";
 import { dedupeKey } from "../../server/services/output-batches";
-import type { Library } from "../../server/storage/library";
+import type { Storage } from "../../server/storage/storage";
+import { isStorageError } from "../../server/storage/storage";
 import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
 import { outputPayload } from "../../shared/schemas/jobs";
@@ -16,7 +17,9 @@ import type { JobContext } from "./context";
 
 export interface OutputDeps {
   database: Database;
-  library: Library;
+  /** The queue, for the "batch finished" notice when this job closes a batch. */
+  boss?: PgBoss;
+  library: Storage;
   config: Config;
   log: Logger;
 }
@@ -33,18 +36,27 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
   const [item] = await db.select().from(batchItems).where(eq(batchItems.id, batchItemId));
   if (!item || item.state === "cancelled" || item.state === "done") return;
   const fail = async (message: string) => {
-    await settleBatchItem(db, batchItemId, "failed", message);
+    await settleBatchItem(db, batchItemId, "failed", message, { boss: deps.boss });
     await notify(pool, { kind: "worker" });
     log.warn({ reason: message }, "output: failed");
   };
   const [f] = await db.select().from(fragments).where(eq(fragments.id, item.fragmentId));
-  const [pv] = await db.select().from(presetVersions).where(eq(presetVersions.id, item.presetVersionId!));
+  const [pv] = await db
+    .select()
+    .from(presetVersions)
+    .where(eq(presetVersions.id, item.presetVersionId!));
   if (!f || !pv) return fail("The fragment or the preset is gone.");
   if (f.status !== "approved") return fail("The fragment is no longer approved.");
-  const [master] = await db.select().from(outputs).where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
+  const [master] = await db
+    .select()
+    .from(outputs)
+    .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
   if (!master || f.renderState !== "done" || master.revision !== f.revision) {
     const last = ctx.retryCount >= ctx.retryLimit;
-    if (last) return fail("The fragment's master is not rendered; approve it again or retry once its render is done.");
+    if (last)
+      return fail(
+        "The fragment's master is not rendered; approve it again or retry once its render is done.",
+      );
     throw new Error("waiting for the fragment's master to be rendered");
   }
   await settleBatchItem(db, batchItemId, "running");
@@ -52,20 +64,36 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
   const [made] = await db.select().from(outputs).where(eq(outputs.dedupeKey, key));
   if (made && (await deps.library.exists(made.key))) {
     await db.update(batchItems).set({ outputId: made.id }).where(eq(batchItems.id, batchItemId));
-    for (const key of await settleBatchItem(db, batchItemId, "done")) await fs.rm(deps.library.pathFor(key), { force: true });
+    for (const key of await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }))
+      await deps.library.remove(key);
     await notify(pool, { kind: "worker" });
     return log.info("output: reused");
   }
   const preset = presetSchema.parse(pv.settings);
-  const [scan] = await db.select({ name: scans.originalName }).from(scans).where(eq(scans.id, f.scanId));
+  const [scan] = await db
+    .select({ name: scans.originalName })
+    .from(scans)
+    .where(eq(scans.id, f.scanId));
   const fileKey = `outputs/${f.id}/${pv.id}-r${f.revision}-${(master.recipeVersionId ?? "none").slice(0, 8)}.${outputExtension(preset)}`;
-  const target = deps.library.pathFor(fileKey);
-  await fs.mkdir(path.dirname(target), { recursive: true });
   try {
-    const report = await renderOutput(
-      { master: deps.library.pathFor(master.key), dpi: master.dpi, title: f.title ?? `${scan?.name ?? "scan"} #${f.position}`, shape: f.shape, maxPixels: deps.config.maxPixels },
-      preset,
-      { path: target },
+    // Made in scratch from a local copy of the master, then stored atomically under its key.
+    const report = await deps.library.withScratch((dir) =>
+      deps.library.withLocalFile(master.key, async (masterPath) => {
+        const target = path.join(dir, path.basename(fileKey));
+        const made = await renderOutput(
+          {
+            master: masterPath,
+            dpi: master.dpi,
+            title: f.title ?? `${scan?.name ?? "scan"} #${f.position}`,
+            shape: f.shape,
+            maxPixels: deps.config.maxPixels,
+          },
+          preset,
+          { path: target },
+        );
+        await deps.library.put(fileKey, target, { move: true });
+        return made;
+      }),
     );
     const [row] = await db
       .insert(outputs)
@@ -84,17 +112,30 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
         recipeVersionId: master.recipeVersionId,
         presetVersionId: pv.id,
         dedupeKey: key,
-        report: { printedIn: report.printedIn, effectiveDpi: report.effectiveDpi, warnings: report.warnings },
+        report: {
+          printedIn: report.printedIn,
+          effectiveDpi: report.effectiveDpi,
+          warnings: report.warnings,
+        },
       })
-      .onConflictDoUpdate({ target: outputs.dedupeKey, set: { key: fileKey, bytes: report.bytes, updatedAt: new Date() } })
+      .onConflictDoUpdate({
+        target: outputs.dedupeKey,
+        set: { key: fileKey, bytes: report.bytes, updatedAt: new Date() },
+      })
       .returning({ id: outputs.id });
     await db.update(batchItems).set({ outputId: row!.id }).where(eq(batchItems.id, batchItemId));
     // The last item of a replacing re-run retires the old batch's files.
-    for (const key of await settleBatchItem(db, batchItemId, "done")) await fs.rm(deps.library.pathFor(key), { force: true });
+    for (const key of await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }))
+      await deps.library.remove(key);
     await notify(pool, { kind: "worker" });
     log.info({ preset: preset.kind, warnings: report.warnings }, "output: made");
   } catch (err) {
     if (isOutputError(err) && err.code !== "failed") return fail((err as Error).message);
+    // The row says the master is made but its file is gone: retrying will not bring it back.
+    if (isStorageError(err, "missing"))
+      return fail(
+        "The fragment's master does not exist in the library: render it again (reset and approve the fragment), then retry this item.",
+      );
     if (ctx.retryCount >= ctx.retryLimit) await fail((err as Error).message);
     throw err;
   }

@@ -5,7 +5,8 @@ import { scans } from "../../server/db/schema";
 import { withTx } from "../../server/db/tx";
 import { replaceProposals } from "../../server/services/fragments";
 import { notify } from "../../server/services/events";
-import type { Library } from "../../server/storage/library";
+import type { Storage } from "../../server/storage/storage";
+import { isStorageError } from "../../server/storage/storage";
 import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
 import { splitPayload } from "../../shared/schemas/jobs";
@@ -16,7 +17,7 @@ import type { JobContext } from "./context";
 export interface SplitDeps {
   database: Database;
   boss: PgBoss;
-  library: Library;
+  library: Storage;
   config: Config;
   log: Logger;
 }
@@ -30,22 +31,38 @@ type ScanRow = typeof scans.$inferSelect;
  * previous split's proposals (approved and drawn fragments stay). Leaves the scan ready with a
  * stage line saying how many pieces were found, or that none were.
  */
-export async function runSplit(deps: SplitDeps, scan: ScanRow, sensitivity: number): Promise<number> {
-  const original = deps.library.pathFor(scan.originalKey);
-  const result = await splitScan(original, {
-    dpi: scan.dpiSource === "assumed" && scan.dpiX ? scan.dpiX : undefined,
-    sensitivity,
-    maxPixels: deps.config.maxPixels,
-  });
+export async function runSplit(
+  deps: SplitDeps,
+  scan: ScanRow,
+  sensitivity: number,
+  localOriginal?: string,
+): Promise<number> {
+  const split = (original: string) =>
+    splitScan(original, {
+      dpi: scan.dpiSource === "assumed" && scan.dpiX ? scan.dpiX : undefined,
+      sensitivity,
+      maxPixels: deps.config.maxPixels,
+    });
+  const result = localOriginal
+    ? await split(localOriginal)
+    : await deps.library.withLocalFile(scan.originalKey, split).catch((err: unknown) => {
+        if (isStorageError(err, "missing"))
+          throw new ScanError(
+            "unreadable",
+            "The original is missing from the library. Restore it from a backup, or drop the scan in the inbox again.",
+          );
+        throw err;
+      });
   const found = await withTx(deps.database, deps.boss, async (tx) => {
     const n = await replaceProposals(tx, scan, result.fragments, scan.splitRun + 1);
     await tx.db
       .update(scans)
       .set({
         status: "ready",
-        stage: result.fragments.length === 0
-          ? "No pieces found on this scan"
-          : `${result.fragments.length} ${result.fragments.length === 1 ? "piece" : "pieces"} found`,
+        stage:
+          result.fragments.length === 0
+            ? "No pieces found on this scan"
+            : `${result.fragments.length} ${result.fragments.length === 1 ? "piece" : "pieces"} found`,
         progress: 100,
         splitBackground: result.background,
         splitSensitivity: sensitivity,
@@ -68,7 +85,12 @@ export async function splitScanJob(deps: SplitDeps, data: unknown, ctx: JobConte
   if (!scan) return log.warn("split: scan no longer exists, nothing to do");
   await deps.database.db
     .update(scans)
-    .set({ status: "analysing", stage: "Finding the pieces again", progress: 50, updatedAt: new Date() })
+    .set({
+      status: "analysing",
+      stage: "Finding the pieces again",
+      progress: 50,
+      updatedAt: new Date(),
+    })
     .where(eq(scans.id, scanId));
   await notify(deps.database.pool, { kind: "scan", scanId, status: "analysing" });
   try {
@@ -80,7 +102,12 @@ export async function splitScanJob(deps: SplitDeps, data: unknown, ctx: JobConte
       // The analysis itself stands: the scan stays ready, with the reason the split failed.
       await deps.database.db
         .update(scans)
-        .set({ status: "ready", stage: `The split failed: ${(err as Error).message}`, progress: 100, updatedAt: new Date() })
+        .set({
+          status: "ready",
+          stage: `The split failed: ${(err as Error).message}`,
+          progress: 100,
+          updatedAt: new Date(),
+        })
         .where(eq(scans.id, scanId));
       await notify(deps.database.pool, { kind: "scan", scanId, status: "ready" });
     }

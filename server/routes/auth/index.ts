@@ -6,6 +6,8 @@ import { handle } from "../define";
 import { AppError, tooManyRequests } from "../../errors";
 import { presentSessionUser } from "../../presenters/user";
 import type { AppDeps } from "../../app";
+import { recordAudit } from "../../services/audit";
+import { findUserByEmail } from "../../services/users";
 
 export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
   const router = Router();
@@ -29,20 +31,45 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
   const authenticate: RequestHandler = (req, res, next) => {
     pp.authenticate("local", (err: unknown, user: Express.User | false, info?: { message?: string }) => {
       if (err) return next(err);
-      if (!user) return next(new AppError(401, "unauthenticated", info?.message ?? "Wrong e-mail or password."));
+      if (!user) {
+        const message = info?.message ?? "Wrong e-mail or password.";
+        // The address tried is kept (never the password), with the account it names, if any.
+        const tried = String((req.body as { email?: unknown } | undefined)?.email ?? "").trim().toLowerCase().slice(0, 320);
+        void findUserByEmail(deps.database.db, tried)
+          .then((known) =>
+            recordAudit(
+              deps.database.db,
+              {
+                action: "auth.sign_in_failed",
+                subjectType: "user",
+                subjectId: known?.id ?? null,
+                summary: `Failed sign-in as ${tried || "(no address)"}: ${message}`,
+                after: { email: tried || null, reason: message },
+              },
+              { actor: { id: known?.id ?? null, email: tried || null }, req },
+            ),
+          )
+          .then(() => next(new AppError(401, "unauthenticated", message)), next);
+        return;
+      }
       // passport 0.7 gives the session a fresh id at sign-in, so a planted session cannot be taken over.
       req.logIn(user, (loginErr) => {
         if (loginErr) return next(loginErr);
         req.log.info({ user: user.id }, "signed in");
-        res.json({ user: presentSessionUser(user) });
+        recordAudit(
+          deps.database.db,
+          { action: "auth.sign_in", subjectType: "user", subjectId: user.id, summary: `${user.email} signed in` },
+          { actor: { id: user.id, email: user.email }, req },
+        ).then(() => res.json({ user: presentSessionUser(user) }), next);
       });
     })(req, res, next);
   };
 
   handle(router, API.login, () => undefined, [limiter, authenticate]);
 
-  handle(router, API.logout, ({ req, res }) =>
-    new Promise<void>((resolve, reject) => {
+  handle(router, API.logout, async ({ req, res, user }) => {
+    await recordAudit(deps.database.db, { action: "auth.sign_out", subjectType: "user", subjectId: user.id, summary: `${user.email} signed out` });
+    return new Promise<void>((resolve, reject) => {
       req.logOut((err) => {
         if (err) return reject(err);
         req.session.destroy(() => {
@@ -51,8 +78,8 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
           resolve();
         });
       });
-    }),
-  );
+    });
+  });
 
   handle(router, API.me, ({ user }) => ({ user: presentSessionUser(user) }));
   return router;

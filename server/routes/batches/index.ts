@@ -1,4 +1,6 @@
 import { Router } from "express";
+import { createHash } from "node:crypto";
+import { PassThrough } from "node:stream";
 import { ZipArchive } from "archiver";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
@@ -6,6 +8,7 @@ import { conflict } from "../../errors";
 import { batchDetail, batchFiles, cancelBatch, createOutputBatch, estimateBatch, listBatches, rerunBatch, retryFailed } from "../../services/output-batches";
 import { getBatch } from "../../services/batches";
 import type { AppDeps } from "../../app";
+import type { Storage } from "../../storage/storage";
 
 /** The caution that travels with a listing pack (see the product brief). */
 export const RIGHTS_NOTICE = `Before you sell or publish these images
@@ -18,6 +21,30 @@ the law where you sell or publish, and keep a note of what you checked.
 function csvCell(v: unknown): string {
   const s = v === null || v === undefined ? "" : String(v);
   return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+/** Streams one stored file into the zip (no other file open meanwhile) and returns its SHA-256. */
+async function appendStored(zip: ZipArchive, library: Storage, key: string, name: string): Promise<string> {
+  const hash = createHash("sha256");
+  const source = await library.createReadStream(key);
+  const tap = new PassThrough();
+  tap.on("data", (chunk: Buffer) => hash.update(chunk));
+  await new Promise<void>((resolve, reject) => {
+    const fail = (err: Error) => {
+      zip.off("entry", done);
+      reject(err);
+    };
+    const done = () => {
+      source.off("error", fail);
+      zip.off("error", fail);
+      resolve();
+    };
+    zip.once("entry", done);
+    zip.once("error", fail);
+    source.once("error", fail);
+    zip.append(source.pipe(tap), { name });
+  });
+  return hash.digest("hex");
 }
 
 export function batchesRouter({ database, boss, library }: AppDeps): Router {
@@ -41,7 +68,7 @@ export function batchesRouter({ database, boss, library }: AppDeps): Router {
   });
 
   // A zip streamed straight to the response (never built in memory), with a CSV of every output.
-  handle(router, API.batchesDownload, async ({ params, query, res }) => {
+  handle(router, API.batchesDownload, async ({ params, query, req, res }) => {
     const batch = await getBatch(db, params.id);
     const { detail, files } = await batchFiles(db, params.id);
     if (!files.length) throw conflict("Nothing in this batch is made yet, so there is nothing to download.");
@@ -52,15 +79,20 @@ export function batchesRouter({ database, boss, library }: AppDeps): Router {
     zip.pipe(res);
     const header = ["title", "scan", "fragment", "preset", "file", "width_px", "height_px", "printed_width_in", "printed_height_in", "printed_width_cm", "printed_height_cm", "effective_dpi", "warnings", "sha256"];
     const lines = [header.join(",")];
-    const { createHash } = await import("node:crypto");
-    const { createReadStream } = await import("node:fs");
+    // One file at a time from the library (a folder or a bucket), hashed on its way into the zip.
     for (const f of files) {
       const item = byItem.get(f.itemId)!;
       const name = item.fileName ?? `${f.itemId}.${f.format}`;
-      const file = library.pathFor(f.key);
-      const hash = createHash("sha256");
-      for await (const chunk of createReadStream(file)) hash.update(chunk as Buffer);
-      zip.file(file, { name });
+      let sha256: string;
+      try {
+        sha256 = await appendStored(zip, library, f.key, name);
+      } catch (err) {
+        // The zip is half sent: cut it short (the browser shows a failed download) and log why.
+        req.log.error({ err, key: f.key, batchId: params.id }, "batch download cut short");
+        zip.abort();
+        res.destroy();
+        return;
+      }
       const p = item.printedIn;
       lines.push(
         [
@@ -77,7 +109,7 @@ export function batchesRouter({ database, boss, library }: AppDeps): Router {
           p ? (p.height * 2.54).toFixed(2) : "",
           item.effectiveDpi ? Math.round(item.effectiveDpi) : "",
           item.warnings.join("; "),
-          hash.digest("hex"),
+          sha256,
         ]
           .map(csvCell)
           .join(","),

@@ -1,4 +1,4 @@
-import { Router, type Response } from "express";
+import { Router } from "express";
 import { and, eq } from "drizzle-orm";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
@@ -19,14 +19,8 @@ import {
 import { fragmentThumb } from "../../services/fragment-thumbs";
 import { getScan, getScanRow } from "../../services/scans";
 import type { AppDeps } from "../../app";
+import { sendStored } from "../send-stored";
 
-function sendFile(res: Response, file: string, opts: { type?: string; downloadName?: string } = {}) {
-  return new Promise<void>((resolve, reject) => {
-    const done = (err?: Error) => (err ? reject(notFound("The file")) : resolve());
-    if (opts.downloadName) res.download(file, opts.downloadName, done);
-    else res.sendFile(file, { headers: opts.type ? { "Content-Type": opts.type } : {} }, done);
-  });
-}
 
 export function fragmentsRouter(deps: AppDeps): Router {
   const router = Router();
@@ -66,15 +60,15 @@ export function fragmentsRouter(deps: AppDeps): Router {
   handle(router, API.fragmentsReset, async ({ params, user }) => ({ fragment: await resetFragment(database, boss, user, params.id) }));
   handle(router, API.fragmentsUnmerge, async ({ params, user }) => ({ fragments: await unmergeFragment(database, boss, user, params.id) }));
 
-  handle(router, API.fragmentsThumb, async ({ params, user, res }) => {
+  handle(router, API.fragmentsThumb, async ({ params, user, req, res }) => {
     const f = await getFragment(db, params.id, user.role);
     const [row] = await db.select({ previewKey: scans.previewKey, width: scans.width }).from(scans).where(eq(scans.id, f.scanId));
-    const file = await fragmentThumb(library, f, row!);
+    const key = await fragmentThumb(library, f, row!);
     res.setHeader("Cache-Control", "private, max-age=3600");
-    await sendFile(res, file, { type: "image/jpeg" });
+    await sendStored(req, res, library, key, { what: "The fragment's picture", type: "image/jpeg" });
   });
 
-  handle(router, API.fragmentsOutput, async ({ params, user, res }) => {
+  handle(router, API.fragmentsOutput, async ({ params, user, req, res }) => {
     const f = await getFragment(db, params.id, user.role);
     const out = f.outputs.find((o) => o.kind === params.kind);
     const [row] = await db
@@ -84,7 +78,7 @@ export function fragmentsRouter(deps: AppDeps): Router {
       .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, params.kind)));
     if (!out || !row) throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
     res.setHeader("Cache-Control", "private, no-cache");
-    await sendFile(res, library.pathFor(row.key), { downloadName: out.fileName });
+    await sendStored(req, res, library, row.key, { what: `The ${params.kind} file of this fragment`, downloadName: out.fileName });
   });
   return router;
 }

@@ -1,4 +1,3 @@
-import path from "node:path";
 import { Router } from "express";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
@@ -7,6 +6,8 @@ import { getScan, getScanRow, listScans, retryScan } from "../../services/scans"
 import { intakeFile } from "../../services/intake";
 import { cleanFileName, sniffUploads, uploadMiddleware } from "./upload";
 import type { AppDeps } from "../../app";
+import { uploadDir } from "../../storage";
+import { sendStored } from "../send-stored";
 
 export function scansRouter(deps: AppDeps): Router {
   const router = Router();
@@ -34,19 +35,17 @@ export function scansRouter(deps: AppDeps): Router {
       res.status(201);
       return { results };
     },
-    [uploadMiddleware(path.join(config.libraryDir, "tmp", "uploads"), config.maxUploadBytes)],
+    [uploadMiddleware(uploadDir(library), config.maxUploadBytes)],
   );
 
   handle(router, API.scansGet, async ({ params }) => ({ scan: await getScan(db, params.id) }));
 
-  const sendImage = (which: "previewKey" | "thumbKey") => async ({ params, res }: { params: { id: string }; res: import("express").Response }) => {
+  const sendImage = (which: "previewKey" | "thumbKey") => async ({ params, req, res }: { params: { id: string }; req: import("express").Request; res: import("express").Response }) => {
     const row = await getScanRow(db, params.id);
     const key = row[which];
     if (!key) throw notFound("The preview of this scan (it is not analysed yet)");
     res.setHeader("Cache-Control", "private, max-age=300");
-    await new Promise<void>((resolve, reject) =>
-      res.sendFile(library.pathFor(key), { headers: { "Content-Type": "image/jpeg" } }, (err) => (err ? reject(notFound("The preview file")) : resolve())),
-    );
+    await sendStored(req, res, library, key, { what: "The preview file", type: "image/jpeg" });
   };
   handle(router, API.scansPreview, sendImage("previewKey"));
   handle(router, API.scansThumb, sendImage("thumbKey"));

@@ -6,6 +6,7 @@ import { BrandMark } from "../../components/brand-mark";
 import { Button } from "../../components/button";
 import { paths } from "../../config/paths";
 import { useLogout } from "../../features/auth/api/logout";
+import { useMailbox } from "../../features/mailbox/api/mailbox";
 import { useStudio } from "../../features/studio/api/get-studio";
 import { cn } from "../../lib/cn";
 import { LiveIndicator } from "../live-events";
@@ -43,11 +44,16 @@ const USERS_ICON = icon(
   "M7.5 9a2.5 2.5 0 1 0 0-5 2.5 2.5 0 0 0 0 5ZM3 16c.5-2.5 2.3-4 4.5-4s4 1.5 4.5 4M13.5 9a2 2 0 1 0 0-4M14.5 12c1.4.4 2.3 1.8 2.5 4",
 );
 
+const MAILBOX_ICON = icon("M3 5.5h14v9H3zM3 6l7 5 7-5");
+const AUDIT_ICON = icon("M5 3.5h10v13H5zM7.5 7h5M7.5 10h5M7.5 13h3");
+
 /** The frame around every signed-in page: a rail with the studio, the screens and who is here. */
 export function AppShell({ user, children }: { user: SessionUser; children: ReactNode }) {
   const studio = useStudio();
   const logout = useLogout();
   const navigate = useNavigate();
+  // The development mailbox exists only while mail goes to the local fake (404 otherwise).
+  const mailbox = useMailbox(hasRole(user.role, "admin"));
 
   const items: NavItem[] = [
     { to: paths.queue, label: "Queue", icon: QUEUE_ICON },
@@ -61,6 +67,8 @@ export function AppShell({ user, children }: { user: SessionUser; children: Reac
       : []),
     { to: paths.batches, label: "Batches", icon: BATCHES_ICON },
     ...(hasRole(user.role, "admin") ? [{ to: paths.users, label: "Users", icon: USERS_ICON }] : []),
+    ...(hasRole(user.role, "admin") ? [{ to: paths.audit, label: "Audit trail", icon: AUDIT_ICON }] : []),
+    ...(mailbox.data ? [{ to: paths.mailbox, label: "Mailbox", icon: MAILBOX_ICON }] : []),
   ];
 
   const signOut = () => {
@@ -126,6 +134,12 @@ export function AppShell({ user, children }: { user: SessionUser; children: Reac
               <span className="font-medium text-ink-soft">{ROLE_LABELS[user.role]}</span> ·{" "}
               {user.email}
             </p>
+            <NavLink
+              to={paths.account}
+              className="mt-2 block text-xs font-medium text-accent hover:underline"
+            >
+              Your account and notices
+            </NavLink>
             <Button
               size="sm"
               variant="secondary"

@@ -1,6 +1,6 @@
-import { Navigate, useNavigate, useSearchParams } from "react-router-dom";
+import { Link, Navigate, useNavigate, useSearchParams } from "react-router-dom";
 import { BrandMark } from "../../components/brand-mark";
-import { safeNext } from "../../config/paths";
+import { paths, safeNext } from "../../config/paths";
 import { useMe } from "../../features/auth/api/get-me";
 import { SignInForm } from "../../features/auth/components/sign-in-form";
 import { useStudio } from "../../features/studio/api/get-studio";
@@ -29,6 +29,11 @@ export function SignInRoute() {
         </div>
         <div className="rounded-xl border border-paper-300 bg-paper-50 px-7 py-7 shadow-sheet">
           <SignInForm onSignedIn={() => navigate(next, { replace: true })} />
+          <p className="mt-5 text-center text-sm">
+            <Link to={paths.forgotPassword} className="font-medium text-accent hover:underline">
+              Forgot your password?
+            </Link>
+          </p>
         </div>
         {params.get("next") && (
           <p className="mt-4 text-center text-xs text-ink-muted">

@@ -3,6 +3,9 @@
  * upright, and keep the result in memory for the master and the web copy. The sharp layer of the
  * render; the maths is in geometry.ts.
  */
+import fs from "node:fs/promises";
+import os from "node:os";
+import path from "node:path";
 import sharp, { type OutputInfo } from "sharp";
 import { decodeError, type Inspected } from "../inspect";
 import type { ColourPlan } from "./colour";
@@ -31,9 +34,47 @@ function isIdentity(plan: UprightPlan): boolean {
 }
 
 /**
- * Decodes `plan.region` of the scan (EXIF orientation applied first, as the split saw it), turns
- * it by `plan.angle` clockwise with sub-pixel placement, and returns it with the crop of the
- * upright piece. Memory: one uncompressed copy of the turned region. Never writes to the scan.
+ * The whole scan decoded once, for cutting several fragments from it: upright (EXIF orientation
+ * applied), flattened on white if it had alpha, in the colour space and depth the plan keeps,
+ * with the scan's ICC profile, as an uncompressed libvips image file (.v) that libvips maps into
+ * memory and reads any region of directly. Remove it with `dispose` when done.
+ */
+export interface DecodedScan {
+  path: string;
+  dispose(): Promise<void>;
+}
+
+/**
+ * Decodes the scan once into a temporary .v file in a private folder of the system's temp
+ * directory. Memory: libvips streams the decode, so no full-resolution copy is held in the heap.
+ * Throws ScanError (truncated, too_large, unreadable) when the scan's data cannot be decoded.
+ * Example: a 4961 × 7016 px 8-bit RGB scan → a 104 MB file, read back region by region.
+ */
+export async function decodeScan(
+  source: string,
+  colour: ColourPlan,
+  inspected: Inspected,
+  maxPixels: number,
+): Promise<DecodedScan> {
+  const dir = await fs.mkdtemp(path.join(os.tmpdir(), "platen-decoded-"));
+  const dispose = () => fs.rm(dir, { recursive: true, force: true });
+  const file = path.join(dir, "scan.v");
+  let pipeline = sharp(source, { failOn: "error", limitInputPixels: maxPixels }).autoOrient();
+  if (colour.flatten) pipeline = pipeline.flatten({ background: WHITE });
+  if (colour.keepValues) pipeline = pipeline.keepIccProfile();
+  try {
+    await pipeline.toColourspace(colour.space).toFile(file);
+  } catch (err) {
+    await dispose();
+    throw decodeError(err, source, inspected, maxPixels);
+  }
+  return { path: file, dispose };
+}
+
+/**
+ * Decodes `plan.region` of the scan (EXIF orientation applied first, as the split saw it), or
+ * reads it from the scan already `decoded`, turns it by `plan.angle` clockwise with sub-pixel
+ * placement, and returns it with the crop of the upright piece. Memory: one uncompressed copy of the turned region. Never writes to the scan.
  * Throws ScanError (truncated, too_large, unreadable) when the scan's data cannot be decoded.
  * Example: a 12° piece of 2400 × 1800 px → a canvas of about 3140 × 2780 px and
  *   crop { left: ≈370, top: ≈490, width: 2400, height: 1800 }.
@@ -44,11 +85,14 @@ export async function cutUpright(
   colour: ColourPlan,
   inspected: Inspected,
   maxPixels: number,
+  decoded?: DecodedScan,
 ): Promise<UprightCut> {
-  let pipeline = sharp(source, { failOn: "error", limitInputPixels: maxPixels })
-    .autoOrient()
-    .extract(plan.region);
-  if (colour.flatten) pipeline = pipeline.flatten({ background: WHITE });
+  let pipeline = decoded
+    ? sharp(decoded.path, { limitInputPixels: false }).extract(plan.region)
+    : sharp(source, { failOn: "error", limitInputPixels: maxPixels })
+        .autoOrient()
+        .extract(plan.region);
+  if (colour.flatten && !decoded) pipeline = pipeline.flatten({ background: WHITE });
   if (!isIdentity(plan)) {
     pipeline = pipeline.affine(plan.matrix, {
       idx: plan.idx,

@@ -11,9 +11,9 @@ import {
   type FragmentShape,
 } from "../../../shared/schemas/fragments";
 import { isScanError } from "../errors";
-import { inspectScanFile } from "../inspect";
+import { inspectScanFile, type Inspected } from "../inspect";
 import { colourPlan } from "./colour";
-import { cutUpright } from "./cut";
+import { cutUpright, decodeScan, type DecodedScan } from "./cut";
 import { correctCut, type RenderRecipe } from "./correct";
 import type { AppliedStep } from "../colour";
 import { isRenderError, renderErrors } from "./errors";
@@ -177,22 +177,99 @@ export async function renderFragment(
   input: RenderInput,
   out: RenderTargets,
 ): Promise<RenderResult> {
+  const checked = checkInput(input, out);
+  const inspected = await inspectScanFile(input.source, input.maxPixels);
+  return renderChecked(input, out, checked, inspected, undefined);
+}
+
+/** One fragment of a scan for renderFragments: its geometry, rights, recipe and targets. */
+export interface BatchItem {
+  geometry: FragmentGeometry;
+  metadata?: RenderInput["metadata"];
+  recipe?: RenderRecipe;
+  targets: RenderTargets;
+}
+
+/**
+ * Renders several fragments of one scan from a single decode of it: the scan is decoded once into
+ * a temporary uncompressed copy (see decodeScan, removed at the end), and every fragment is cut
+ * from that copy instead of decoding the scan again up to its rows. The outputs, checks and
+ * errors are those of renderFragment, item by item, in order. Every item's arguments are checked
+ * before any pixel is decoded; a failing item throws its error, and the items before it are
+ * complete (renamed into place), the ones after it untouched.
+ * Example: await renderFragments({ source: "scan.tif", dpi: { x: 600, y: 600 }, maxPixels: 500e6 },
+ *   fragments.map((f, i) => ({ geometry: f, targets: { masterPath: `m${i}.tif`, webPath: `w${i}.jpg` } })))
+ *   → [{ master: { width: 1538, … }, web: { … } }, …].
+ */
+export async function renderFragments(
+  scan: Pick<RenderInput, "source" | "dpi" | "maxPixels">,
+  items: BatchItem[],
+): Promise<RenderResult[]> {
+  const inputs = items.map((item): RenderInput => ({
+    source: scan.source,
+    dpi: scan.dpi,
+    maxPixels: scan.maxPixels,
+    geometry: item.geometry,
+    metadata: item.metadata,
+    recipe: item.recipe,
+  }));
+  const checked = inputs.map((input, i) => checkInput(input, items[i]!.targets));
+  if (items.length === 0) return [];
+  const inspected = await inspectScanFile(scan.source, scan.maxPixels);
+  const { width, height } = uprightSizeOf(inspected);
+  for (const c of checked) assertFits(c.geometry, width, height);
+  const decoded = await decodeScan(scan.source, colourPlan(inspected.meta), inspected, scan.maxPixels);
+  try {
+    const results: RenderResult[] = [];
+    for (const [i, input] of inputs.entries()) {
+      results.push(await renderChecked(input, items[i]!.targets, checked[i]!, inspected, decoded));
+    }
+    return results;
+  } finally {
+    await decoded.dispose();
+  }
+}
+
+interface CheckedInput {
+  format: WebFormat;
+  longEdge: number;
+  geometry: FragmentGeometry;
+  rights: ReturnType<typeof cleanRights>;
+}
+
+/** Every argument check that needs no pixels. Throws RenderError. */
+function checkInput(input: RenderInput, out: RenderTargets): CheckedInput {
   const { format, longEdge } = checkTargets(input, out);
   checkDpi(input.dpi);
   const geometry = parseGeometry(input.geometry);
   if (!(Number.isInteger(input.maxPixels) && input.maxPixels > 0)) {
     throw renderErrors.badOption("maxPixels", "a positive integer (pixels)", input.maxPixels);
   }
-  const rights = cleanRights(input.metadata);
+  return { format, longEdge, geometry, rights: cleanRights(input.metadata) };
+}
 
-  const inspected = await inspectScanFile(input.source, input.maxPixels);
-  const width = inspected.meta.autoOrient?.width ?? inspected.meta.width;
-  const height = inspected.meta.autoOrient?.height ?? inspected.meta.height;
+function uprightSizeOf(inspected: Inspected): { width: number; height: number } {
+  return {
+    width: inspected.meta.autoOrient?.width ?? inspected.meta.width,
+    height: inspected.meta.autoOrient?.height ?? inspected.meta.height,
+  };
+}
+
+/** The render after the checks: cut (from the scan, or from its `decoded` copy), correct, write both files. */
+async function renderChecked(
+  input: RenderInput,
+  out: RenderTargets,
+  checked: CheckedInput,
+  inspected: Inspected,
+  decoded: DecodedScan | undefined,
+): Promise<RenderResult> {
+  const { format, longEdge, geometry, rights } = checked;
+  const { width, height } = uprightSizeOf(inspected);
   assertFits(geometry, width, height);
 
   const plan = planUpright(geometry, width, height);
   const planned = colourPlan(inspected.meta);
-  const rawCut = await cutUpright(input.source, plan, planned, inspected, input.maxPixels);
+  const rawCut = await cutUpright(input.source, plan, planned, inspected, input.maxPixels, decoded);
   const { cut, colour, applied } = input.recipe
     ? await correctCut(rawCut, planned, input.recipe, input.dpi.x)
     : { cut: rawCut, colour: planned, applied: [] };

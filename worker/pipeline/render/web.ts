@@ -55,8 +55,10 @@ export async function writeWebCopy(
   staged: StagedFile,
   opts: WebOptions,
 ): Promise<WebInfo> {
-  // Fit in the scan's own colour, reduced to 8 bits with its profile still attached: sharp
-  // converts 8-bit data through the embedded profile, whereas 16-bit data would take a detour.
+  // Fit in the scan's own colour, then convert through its embedded profile to sRGB. 8-bit data
+  // does both in one pipeline; 16-bit data is first reduced to 8 bits with its profile still
+  // attached (sharp converts 8-bit data through the embedded profile, whereas 16-bit data would
+  // take a detour), then converted.
   let fit = sharp(cut.canvas, { limitInputPixels: false }).extract(cut.crop).resize({
     width: opts.longEdge,
     height: opts.longEdge,
@@ -64,18 +66,31 @@ export async function writeWebCopy(
     withoutEnlargement: true,
   });
   if (colour.keepValues) fit = fit.keepIccProfile();
-  const fitted = await fit
-    .toColourspace(colour.grey ? "b-w" : "srgb")
-    .tiff({ compression: "none" })
-    .toBuffer({ resolveWithObject: true });
-  const { width, height } = fitted.info;
-
-  const rgb = await sharp(fitted.data)
-    .withIccProfile("srgb")
-    .toColourspace("srgb")
-    .removeAlpha()
-    .raw()
-    .toBuffer();
+  let rgb: Buffer;
+  let width: number;
+  let height: number;
+  if (colour.bitDepth === 8) {
+    const fitted = await fit
+      .withIccProfile("srgb")
+      .toColourspace("srgb")
+      .removeAlpha()
+      .raw()
+      .toBuffer({ resolveWithObject: true });
+    ({ width, height } = fitted.info);
+    rgb = fitted.data;
+  } else {
+    const fitted = await fit
+      .toColourspace(colour.grey ? "b-w" : "srgb")
+      .tiff({ compression: "none" })
+      .toBuffer({ resolveWithObject: true });
+    ({ width, height } = fitted.info);
+    rgb = await sharp(fitted.data)
+      .withIccProfile("srgb")
+      .toColourspace("srgb")
+      .removeAlpha()
+      .raw()
+      .toBuffer();
+  }
 
   const scaleX = width / cut.crop.width;
   const scaleY = height / cut.crop.height;

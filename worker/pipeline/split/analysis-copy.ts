@@ -41,7 +41,7 @@ export interface AnalysisCopyOptions {
   sourceHeight?: number;
 }
 
-export const DEFAULT_ANALYSIS_DPI = 100;
+export const DEFAULT_ANALYSIS_DPI = 75;
 const DEFAULT_MAX_ANALYSIS_PIXELS = 6_000_000;
 
 /**

@@ -33,8 +33,10 @@ export interface BackgroundModel {
 
 export interface BackgroundResult {
   model: BackgroundModel;
-  /** Per-pixel difference from the model (pixel − background), CIELAB planes. */
+  /** Per-pixel difference from the model (pixel − background), CIELAB planes: the input planes, overwritten. */
   residual: LabPlanes;
+  /** ΔE*ab of each pixel from the model: the length of the residual. */
+  diff: Float32Array;
 }
 
 const EDGE_BAND_MM = 15;
@@ -42,7 +44,8 @@ const RING_MM = 2;
 
 /**
  * Estimates the background of an analysis copy given as CIELAB planes, `pxPerMm` pixels per
- * millimetre. Example: a white lid with one dark piece → { lab: [97.1, 0.2, 1.1], kind: "light",
+ * millimetre. The planes are overwritten with the residual (returned as `residual`), so the
+ * caller must not need its Lab values afterwards. Example: a white lid with one dark piece → { lab: [97.1, 0.2, 1.1], kind: "light",
  * noise: { L: 0.35, … }, … } and residuals near 0 everywhere except on the piece.
  */
 export function estimateBackground(
@@ -171,33 +174,10 @@ export function estimateBackground(
   let bgCount = 0;
   for (let k = 0; k < ns; k++) bgCount += cand[k]!;
 
-  // Full-resolution residual: the model at every pixel.
-  const residual: LabPlanes = {
-    L: new Float32Array(width * height),
-    a: new Float32Array(width * height),
-    b: new Float32Array(width * height),
-  };
-  const out: Float32Array[] = [residual.L, residual.a, residual.b];
-  const Xs = Float32Array.from({ length: width }, (_, x) => (2 * (x + 0.5)) / width - 1);
-  for (let c = 0; c < 3; c++) {
-    const p = poly[c]!;
-    const src = planes[c]!;
-    const dst = out[c]!;
-    const rf = rowP[c]!;
-    const cf = colP[c]!;
-    for (let y = 0; y < height; y++) {
-      const Yv = (2 * (y + 0.5)) / height - 1;
-      // P = (p0 + p2·Y + p5·Y²) + (p1 + p4·Y)·X + p3·X²
-      const a0 = p[0]! + p[2]! * Yv + p[5]! * Yv * Yv + rf[y]!;
-      const a1 = p[1]! + p[4]! * Yv;
-      const a2 = p[3]!;
-      const row = y * width;
-      for (let x = 0; x < width; x++) {
-        const Xv = Xs[x]!;
-        dst[row + x] = src[row + x]! - (a0 + (a1 + a2 * Xv) * Xv + cf[x]!);
-      }
-    }
-  }
+  // Full-resolution residual, the model at every pixel subtracted, written over the Lab planes
+  // (not needed afterwards), and its length ΔE*ab in the same pass: one pass, one new plane.
+  const diff = subtractModel(lab, width, height, poly, rowP, colP);
+  const residual: LabPlanes = lab;
 
   // the colour reported is the fitted surface at the middle of the bed, not one edge's
   const centre: Lab = bgCount > 0 ? [poly[0]![0]!, poly[1]![0]!, poly[2]![0]!] : bg0;
@@ -212,7 +192,54 @@ export function estimateBackground(
       degree,
     },
     residual,
+    diff,
   };
+}
+
+/**
+ * Subtracts the model (surface + row and column profiles) from every pixel of the Lab planes, in
+ * place, and returns the residual's length ΔE*ab per pixel.
+ */
+function subtractModel(
+  lab: LabPlanes,
+  width: number,
+  height: number,
+  poly: Float64Array[],
+  rowP: Float32Array[],
+  colP: Float32Array[],
+): Float32Array {
+  const diff = new Float32Array(width * height);
+  const [pL, pA, pB] = poly as [Float64Array, Float64Array, Float64Array];
+  const [rfL, rfA, rfB] = rowP as [Float32Array, Float32Array, Float32Array];
+  const [cfL, cfA, cfB] = colP as [Float32Array, Float32Array, Float32Array];
+  const { L: Lp, a: Ap, b: Bp } = lab;
+  const Xs = Float64Array.from({ length: width }, (_, x) => (2 * (x + 0.5)) / width - 1);
+  for (let y = 0; y < height; y++) {
+    const Yv = (2 * (y + 0.5)) / height - 1;
+    // P = (p0 + p2·Y + p5·Y²) + (p1 + p4·Y)·X + p3·X², per channel
+    const l0 = pL[0]! + pL[2]! * Yv + pL[5]! * Yv * Yv + rfL[y]!;
+    const l1 = pL[1]! + pL[4]! * Yv;
+    const l2 = pL[3]!;
+    const a0 = pA[0]! + pA[2]! * Yv + pA[5]! * Yv * Yv + rfA[y]!;
+    const a1 = pA[1]! + pA[4]! * Yv;
+    const a2 = pA[3]!;
+    const b0 = pB[0]! + pB[2]! * Yv + pB[5]! * Yv * Yv + rfB[y]!;
+    const b1 = pB[1]! + pB[4]! * Yv;
+    const b2 = pB[3]!;
+    const row = y * width;
+    for (let x = 0; x < width; x++) {
+      const Xv = Xs[x]!;
+      const i = row + x;
+      const dL = Lp[i]! - (l0 + (l1 + l2 * Xv) * Xv + cfL[x]!);
+      const dA = Ap[i]! - (a0 + (a1 + a2 * Xv) * Xv + cfA[x]!);
+      const dB = Bp[i]! - (b0 + (b1 + b2 * Xv) * Xv + cfB[x]!);
+      Lp[i] = dL;
+      Ap[i] = dA;
+      Bp[i] = dB;
+      diff[i] = Math.sqrt(dL * dL + dA * dA + dB * dB);
+    }
+  }
+  return diff;
 }
 
 /** Polynomial degree the background samples support: how many of a 4 × 4 grid of cells they reach. */

@@ -47,10 +47,13 @@ export function squaredDistance(
   const z = new Float64Array(width + 1);
   for (let y = 0; y < height; y++) {
     const row = y * width;
+    let sources = 0;
     for (let x = 0; x < width; x++) {
       const gv = g[row + x]!;
+      if (gv === 0) sources++;
       f[x] = gv >= far ? INF : gv * gv;
     }
+    if (sources === width) continue; // every pixel of the row is a source: all distances are 0
     envelope(f, width, d, v, z);
     for (let x = 0; x < width; x++) g[row + x] = d[x]!;
   }

@@ -42,33 +42,52 @@ export function edgeProfiles(
     new Float32Array(lines).fill(NaN),
     new Float32Array(lines).fill(NaN),
   ];
-  const buf = [new Float32Array(len), new Float32Array(len), new Float32Array(len)];
-  const r = [0, 0, 0];
+  const bufL = new Float32Array(len);
+  const bufA = new Float32Array(len);
+  const bufB = new Float32Array(len);
+  const [pL, pA, pB] = poly as [Float64Array, Float64Array, Float64Array];
+  const [PL, PA, PB] = planes as [Float32Array, Float32Array, Float32Array];
+  const rows = along === "rows";
+  // the other profile, read along the line
+  const [oL, oA, oB] = (rows ? colP : rowP) as [Float32Array, Float32Array, Float32Array];
+  const [vL, vA, vB] = values as [Float32Array, Float32Array, Float32Array];
   for (let l = 0; l < lines; l++) {
     if (weight[l] === 0) continue;
+    // Along a line one coordinate is fixed (F) and the other (T) runs: the surface
+    // p0 + p1·X + p2·Y + p3·X² + p4·XY + p5·Y² is c0 + (c1 + c2·T)·T per channel.
+    const F = rows ? (2 * (l + 0.5)) / height - 1 : (2 * (l + 0.5)) / width - 1;
+    const coef = (p: Float64Array): [number, number, number] =>
+      rows
+        ? [p[0]! + p[2]! * F + p[5]! * F * F, p[1]! + p[4]! * F, p[3]!]
+        : [p[0]! + p[1]! * F + p[3]! * F * F, p[2]! + p[4]! * F, p[5]!];
+    const [l0, l1, l2] = coef(pL);
+    const [a0, a1, a2] = coef(pA);
+    const [b0, b1, b2] = coef(pB);
+    const span = rows ? width : height;
+    const step = rows ? 1 : width;
+    const base = rows ? l * width : l;
     let n = 0;
     let total = 0;
     for (let t = stride >> 1; t < len; t += stride) {
       total++;
-      const x = along === "rows" ? t : l;
-      const y = along === "rows" ? l : t;
-      const X = (2 * (x + 0.5)) / width - 1;
-      const Y = (2 * (y + 0.5)) / height - 1;
-      const i = y * width + x;
-      for (let c = 0; c < 3; c++) {
-        const p = poly[c]!;
-        const surface =
-          p[0]! + p[1]! * X + p[2]! * Y + p[3]! * X * X + p[4]! * X * Y + p[5]! * Y * Y;
-        const other = along === "rows" ? colP[c]![x]! : rowP[c]![y]!;
-        r[c] = planes[c]![i]! - surface - other;
-      }
-      if (Math.abs(r[0]!) > PROFILE_TOL_L || Math.abs(r[1]!) > tolA || Math.abs(r[2]!) > tolB)
-        continue;
-      for (let c = 0; c < 3; c++) buf[c]![n] = r[c]!;
+      const T = (2 * (t + 0.5)) / span - 1;
+      const i = base + t * step;
+      const rL = PL[i]! - (l0 + (l1 + l2 * T) * T) - oL[t]!;
+      if (rL > PROFILE_TOL_L || rL < -PROFILE_TOL_L) continue;
+      const rA = PA[i]! - (a0 + (a1 + a2 * T) * T) - oA[t]!;
+      if (rA > tolA || rA < -tolA) continue;
+      const rB = PB[i]! - (b0 + (b1 + b2 * T) * T) - oB[t]!;
+      if (rB > tolB || rB < -tolB) continue;
+      bufL[n] = rL;
+      bufA[n] = rA;
+      bufB[n] = rB;
       n++;
     }
-    if (n >= Math.max(6, 0.3 * total))
-      for (let c = 0; c < 3; c++) values[c]![l] = medianInPlace(buf[c]!, n);
+    if (n >= Math.max(6, 0.3 * total)) {
+      vL[l] = medianInPlace(bufL, n);
+      vA[l] = medianInPlace(bufA, n);
+      vB[l] = medianInPlace(bufB, n);
+    }
   }
   for (let c = 0; c < 3; c++) {
     const v = values[c]!;

@@ -38,6 +38,8 @@ export interface ForegroundOptions {
   /** 0–1; 0.5 is the default. */
   sensitivity: number;
   background: BackgroundModel;
+  /** ΔE*ab of each pixel, the length of `residual`, when the caller has it (estimateBackground does). */
+  diff?: Float32Array;
 }
 
 export const CLOSE_MM = 0.4;
@@ -52,14 +54,12 @@ export function findForeground(residual: LabPlanes, opts: ForegroundOptions): Fo
   const { width, height, pxPerMm, background } = opts;
   const n = width * height;
   const { L, a, b } = residual;
-  const diff = new Float32Array(n);
-  for (let i = 0; i < n; i++) diff[i] = Math.sqrt(L[i]! * L[i]! + a[i]! * a[i]! + b[i]! * b[i]!);
+  const diff = opts.diff && opts.diff.length === n ? opts.diff : lengths(residual, n);
 
   const contrast = contrastImage(diff);
   const sigma = Math.max(background.noise.L, background.noise.a, background.noise.b);
   const threshold = chooseThreshold(histogram(contrast), sigma, opts.sensitivity);
-  const strong = new Uint8Array(n);
-  for (let i = 0; i < n; i++) strong[i] = diff[i]! > threshold.deltaE ? 1 : 0;
+  const strong = above(diff, threshold.deltaE);
 
   // Faint evidence: smoothed residual (a 3 × 3 binomial kernel) and, on a light lid, dark lines,
   // looked at only near strong pixels.
@@ -98,17 +98,11 @@ export function findForeground(residual: LabPlanes, opts: ForegroundOptions): Fo
   const lineLevel = Math.max(1.5, 4 * background.noise.L) * sensitivityFactor(opts.sensitivity);
   const light = background.kind === "light";
   const weak2 = weakLevel * weakLevel;
-  const mask0 = new Uint8Array(n);
-  for (let i = 0; i < n; i++) {
-    if (strong[i]) mask0[i] = 1;
-    else if (near[i]) {
-      if (light && -L[i]! > lineLevel) mask0[i] = 1;
-      else {
-        smoothAt(i);
-        if (sv[0]! * sv[0]! + sv[1]! * sv[1]! + sv[2]! * sv[2]! > weak2) mask0[i] = 1;
-      }
-    }
-  }
+  const mask0 = evidenceMask(residual, diff, near, width, height, {
+    level: threshold.deltaE,
+    lineLevel: light ? lineLevel : Infinity,
+    weak2,
+  });
 
   const radii = {
     close: CLOSE_MM * pxPerMm,
@@ -119,6 +113,83 @@ export function findForeground(residual: LabPlanes, opts: ForegroundOptions): Fo
   const filled = fillHoles(closed, width, height);
   const cut = cutThinParts(filled, width, height, radii.thin);
   return { diff, contrast, threshold, strong, mask: cut.mask, inside: cut.inside, radii };
+}
+
+// The per-pixel passes live in small functions of one loop each: the JIT compiles each once and
+// keeps it, where one long function of many loops is recompiled loop after loop on every call.
+
+/** ΔE*ab, the length of each residual. */
+function lengths({ L, a, b }: LabPlanes, n: number): Float32Array {
+  const diff = new Float32Array(n);
+  for (let i = 0; i < n; i++) diff[i] = Math.sqrt(L[i]! * L[i]! + a[i]! * a[i]! + b[i]! * b[i]!);
+  return diff;
+}
+
+/** 1 where values exceed level. */
+function above(values: Float32Array, level: number): Uint8Array {
+  const out = new Uint8Array(values.length);
+  for (let i = 0; i < values.length; i++) out[i] = values[i]! > level ? 1 : 0;
+  return out;
+}
+
+/**
+ * The mask before morphology: strong pixels (ΔE above `level`), and near them a dark line
+ * (−ΔL* above `lineLevel`) or a smoothed residual longer than √weak2.
+ */
+function evidenceMask(
+  { L, a, b }: LabPlanes,
+  diff: Float32Array,
+  near: Uint8Array,
+  width: number,
+  height: number,
+  levels: { level: number; lineLevel: number; weak2: number },
+): Uint8Array {
+  const { level, lineLevel, weak2 } = levels;
+  const mask = new Uint8Array(width * height);
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    const up = y > 0 ? width : 0;
+    const down = y < height - 1 ? width : 0;
+    for (let x = 0; x < width; x++) {
+      const i = row + x;
+      if (diff[i]! > level) {
+        mask[i] = 1;
+        continue;
+      }
+      if (!near[i]) continue;
+      if (-L[i]! > lineLevel) {
+        mask[i] = 1;
+        continue;
+      }
+      const left = x > 0 ? 1 : 0;
+      const right = x < width - 1 ? 1 : 0;
+      const sL = smooth3(L, i, left, right, up, down);
+      const sA = smooth3(a, i, left, right, up, down);
+      const sB = smooth3(b, i, left, right, up, down);
+      if (sL * sL + sA * sA + sB * sB > weak2) mask[i] = 1;
+    }
+  }
+  return mask;
+}
+
+/**
+ * The 3 × 3 binomial smoothing (1 2 1 / 2 4 2 / 1 2 1, over 16) of plane p at pixel i, with the
+ * neighbour offsets given (0 at the image's edge: the edge pixel stands in for its missing neighbour).
+ */
+function smooth3(
+  p: Float32Array,
+  i: number,
+  left: number,
+  right: number,
+  up: number,
+  down: number,
+): number {
+  const mid = 2 * p[i]! + p[i - left]! + p[i + right]!;
+  const u = i - up;
+  const d = i + down;
+  const top = 2 * p[u]! + p[u - left]! + p[u + right]!;
+  const bot = 2 * p[d]! + p[d - left]! + p[d + right]!;
+  return (2 * mid + top + bot) / 16;
 }
 
 /** Evidence levels follow the sensitivity more gently than the main threshold: 2^(0.5 − s). */

@@ -92,8 +92,9 @@ export function analyseCopy(
   const { width, height } = copy;
   const pxPerMm = Math.sqrt(copy.dpi.x * copy.dpi.y) / MM_PER_INCH;
   const lab = rgbToLabPlanes(copy.data, width * height, 3);
-  const { model, residual } = estimateBackground(lab, width, height, pxPerMm);
+  const { model, residual, diff } = estimateBackground(lab, width, height, pxPerMm);
   const foreground = findForeground(residual, {
+    diff,
     width,
     height,
     pxPerMm,

@@ -20,7 +20,8 @@ function smallDisc(radius: number): "none" | "plus" | "square" | null {
 
 /**
  * Max (dilate) or min (erode) over a plus or a 3 × 3 square. Pixels beyond the border count as
- * unset for a dilation and as set for an erosion, as in the distance-transform path.
+ * unset for a dilation and as set for an erosion, as in the distance-transform path. Masks hold
+ * 0 and 1 only, so max and min are bitwise or and and.
  */
 function neighbourPass(
   mask: Uint8Array,
@@ -31,40 +32,67 @@ function neighbourPass(
 ): Uint8Array {
   const out = new Uint8Array(mask.length);
   const edge = dilation ? 0 : 1;
-  const at = (x: number, y: number) =>
-    x < 0 || y < 0 || x >= width || y >= height ? edge : mask[y * width + x]!;
   if (shape === "square") {
     // separable: along rows, then along columns
     const tmp = new Uint8Array(mask.length);
-    for (let y = 0; y < height; y++) {
-      for (let x = 0; x < width; x++) {
-        const a = at(x - 1, y),
-          b = mask[y * width + x]!,
-          c = at(x + 1, y);
-        tmp[y * width + x] = dilation ? a | b | c : a & b & c;
-      }
-    }
-    const t = (x: number, y: number) => (y < 0 || y >= height ? edge : tmp[y * width + x]!);
-    for (let y = 0; y < height; y++) {
-      for (let x = 0; x < width; x++) {
-        const a = t(x, y - 1),
-          b = tmp[y * width + x]!,
-          c = t(x, y + 1);
-        out[y * width + x] = dilation ? a | b | c : a & b & c;
-      }
-    }
+    rowPass(mask, tmp, width, height, edge, dilation);
+    columnPass(tmp, out, width, height, edge, dilation);
     return out;
   }
+  // plus: the row neighbours and the column neighbours of the same input
+  rowPass(mask, out, width, height, edge, dilation);
   for (let y = 0; y < height; y++) {
+    const row = y * width;
+    const up = y > 0 ? row - width : -1;
+    const down = y < height - 1 ? row + width : -1;
     for (let x = 0; x < width; x++) {
-      const i = y * width + x;
-      const v = [mask[i]!, at(x - 1, y), at(x + 1, y), at(x, y - 1), at(x, y + 1)];
-      out[i] = dilation
-        ? v[0]! | v[1]! | v[2]! | v[3]! | v[4]!
-        : v[0]! & v[1]! & v[2]! & v[3]! & v[4]!;
+      const u = up >= 0 ? mask[up + x]! : edge;
+      const d = down >= 0 ? mask[down + x]! : edge;
+      out[row + x] = dilation ? out[row + x]! | u | d : out[row + x]! & u & d;
     }
   }
   return out;
+}
+
+/** out = the max (or min) of each pixel and its left and right neighbours. */
+function rowPass(
+  src: Uint8Array,
+  out: Uint8Array,
+  width: number,
+  height: number,
+  edge: number,
+  dilation: boolean,
+): void {
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    const last = row + width - 1;
+    for (let i = row; i <= last; i++) {
+      const l = i > row ? src[i - 1]! : edge;
+      const r = i < last ? src[i + 1]! : edge;
+      out[i] = dilation ? l | src[i]! | r : l & src[i]! & r;
+    }
+  }
+}
+
+/** out = the max (or min) of each pixel and its neighbours above and below. */
+function columnPass(
+  src: Uint8Array,
+  out: Uint8Array,
+  width: number,
+  height: number,
+  edge: number,
+  dilation: boolean,
+): void {
+  for (let y = 0; y < height; y++) {
+    const row = y * width;
+    const up = y > 0 ? row - width : -1;
+    const down = y < height - 1 ? row + width : -1;
+    for (let x = 0; x < width; x++) {
+      const u = up >= 0 ? src[up + x]! : edge;
+      const d = down >= 0 ? src[down + x]! : edge;
+      out[row + x] = dilation ? u | src[row + x]! | d : u & src[row + x]! & d;
+    }
+  }
 }
 
 /** Pixels within `radius` px of a set pixel. Example: one set pixel, radius 1 → a plus of 5. */

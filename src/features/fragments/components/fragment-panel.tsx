@@ -11,6 +11,7 @@ import { DescriptionForm } from "./description-form";
 import { FragmentStatusBadge } from "./fragment-status";
 import { Kbd } from "./key-legend";
 import { OutputList, RenderState } from "./render-outputs";
+import { OffsiteCopy } from "./offsite-copy";
 import type { Review } from "./use-review";
 
 function Row({ term, children }: { term: string; children: ReactNode }) {
@@ -201,6 +202,7 @@ function FragmentDetails({
         <div className="mt-2">
           <OutputList fragment={f} compact />
         </div>
+        {editable && <OffsiteCopy fragment={f} />}
         <Link
           to={paths.fragment(f.id)}
           className="mt-2 inline-block text-xs font-medium text-accent underline underline-offset-2"

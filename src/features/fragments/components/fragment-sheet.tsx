@@ -8,6 +8,7 @@ import { useUpdateFragment } from "../api/update-fragment";
 import { SHAPE_LABELS, formatAngle, formatFragmentSize } from "../format";
 import { DescriptionForm } from "./description-form";
 import { OutputList, RenderState } from "./render-outputs";
+import { OffsiteCopy } from "./offsite-copy";
 
 function Row({ term, children }: { term: string; children: ReactNode }) {
   return (
@@ -68,6 +69,7 @@ export function FragmentFacts({
         <div className="mt-3">
           <OutputList fragment={f} />
         </div>
+        {editable && <OffsiteCopy fragment={f} />}
         {master && (
           <Notice tone="caution" className="mt-3">
             Pieces cut from printed publications can still be under copyright. Check the rights and

@@ -1,0 +1,63 @@
+import { Router } from "express";
+import { API } from "../../../shared/api";
+import { handle } from "../define";
+import { getFragment } from "../../services/fragments";
+import {
+  fragmentOffsite,
+  queueCheckAll,
+  recheckFragment,
+  recopyFragment,
+} from "../../services/offsite";
+import type { AppDeps } from "../../app";
+import { recordAudit } from "../../services/audit";
+
+/** The off-site copy of masters: status per fragment's master, re-check now, copy again, check all. */
+export function offsiteRouter(deps: AppDeps): Router {
+  const router = Router();
+  const { db } = deps.database;
+  handle(router, API.fragmentsOffsite, async ({ params, user }) => {
+    await getFragment(db, params.id, user.role);
+    return fragmentOffsite(deps, params.id);
+  });
+  handle(router, API.fragmentsOffsiteCheck, async ({ params, user, req }) => {
+    await getFragment(db, params.id, user.role);
+    const result = await recheckFragment(deps, params.id);
+    req.log.info(
+      { fragmentId: params.id, status: result.copy?.status },
+      "off-site copy re-checked",
+    );
+    await recordAudit(db, {
+      action: "offsite.check",
+      subjectType: "fragment",
+      subjectId: params.id,
+      summary: `Re-checked the off-site copy of a master: ${result.copy?.status ?? "no copy"}`,
+      after: { status: result.copy?.status ?? null },
+    });
+    return result;
+  });
+  handle(router, API.fragmentsOffsiteCopy, async ({ params, user, res }) => {
+    await getFragment(db, params.id, user.role);
+    res.status(202);
+    const result = await recopyFragment(deps, params.id);
+    await recordAudit(db, {
+      action: "offsite.copy",
+      subjectType: "fragment",
+      subjectId: params.id,
+      summary: "Queued a fresh off-site copy of a master",
+    });
+    return result;
+  });
+  handle(router, API.offsiteCheckAll, async ({ res }) => {
+    res.status(202);
+    const result = await queueCheckAll(deps);
+    await recordAudit(db, {
+      action: "offsite.check_all",
+      subjectType: "studio",
+      subjectId: null,
+      summary: `Queued a re-check of every off-site copy (${result.queued})`,
+      after: { queued: result.queued },
+    });
+    return result;
+  });
+  return router;
+}

@@ -1,0 +1,261 @@
+import { and, eq, inArray, sql } from "drizzle-orm";
+import type PgBoss from "pg-boss";
+import type { Database, Db } from "../db";
+import { offsiteCopies, outputs } from "../db/schema";
+import { withTx } from "../db/tx";
+import { QUEUES } from "../jobs/queues";
+import { conflict, notFound } from "../errors";
+import type { Logger } from "../logger";
+import type { Storage } from "../storage/storage";
+import { isStorageError } from "../storage/storage";
+import type { S3Storage } from "../storage/s3";
+import { hashStream } from "../storage/files";
+import type { FragmentOffsite, OffsiteCopy } from "../../shared/schemas/offsite";
+
+/**
+ * The off-site copy: with a local library and an off-site bucket configured, every master is also
+ * copied to that bucket (same key, its SHA-256 as object metadata). One row per master says where
+ * its copy stands; a re-check reads the copy back from the bucket and compares SHA-256s.
+ */
+export interface OffsiteDeps {
+  database: Database;
+  boss: PgBoss;
+  library: Storage;
+  offsite?: S3Storage | null;
+  log: Logger;
+}
+
+type Row = typeof offsiteCopies.$inferSelect;
+const short = (h: string | null | undefined) => (h ? `${h.slice(0, 12)}…` : "none");
+
+export function presentCopy(row: Row): OffsiteCopy {
+  return {
+    status: row.status,
+    message: row.message,
+    sha256: row.sha256,
+    attempts: row.attempts,
+    copiedAt: row.copiedAt?.toISOString() ?? null,
+    checkedAt: row.checkedAt?.toISOString() ?? null,
+    updatedAt: row.updatedAt.toISOString(),
+  };
+}
+
+/** Marks a master's copy pending and queues the copy job, in one transaction. */
+export async function queueOffsiteCopy(
+  database: Database,
+  boss: PgBoss,
+  outputId: string,
+  key: string,
+): Promise<void> {
+  await withTx(database, boss, async (tx) => {
+    await tx.db
+      .insert(offsiteCopies)
+      .values({ outputId, key, status: "pending" })
+      .onConflictDoUpdate({
+        target: offsiteCopies.outputId,
+        set: { key, status: "pending", message: null, attempts: 0, updatedAt: new Date() },
+      });
+    await tx.send(QUEUES.offsiteCopy, { outputId });
+  });
+}
+
+async function masterRow(db: Db, outputId: string) {
+  const [row] = await db
+    .select()
+    .from(outputs)
+    .where(and(eq(outputs.id, outputId), eq(outputs.kind, "master")));
+  return row;
+}
+
+async function setCopy(
+  db: Db,
+  outputId: string,
+  patch: Partial<typeof offsiteCopies.$inferInsert>,
+) {
+  const [row] = await db
+    .update(offsiteCopies)
+    .set({ ...patch, updatedAt: new Date() })
+    .where(eq(offsiteCopies.outputId, outputId))
+    .returning();
+  return row;
+}
+
+/**
+ * The copy job: hashes the master, uploads it (in parts when large) with its SHA-256 as metadata,
+ * reads the metadata back, and marks the row copied. A store that fails marks it failed with the
+ * store's answer and throws, so the queue retries with backoff.
+ */
+export async function copyMaster(
+  deps: OffsiteDeps,
+  outputId: string,
+  ctx: { retryCount: number; retryLimit: number },
+): Promise<void> {
+  const { db } = deps.database;
+  const offsite = deps.offsite;
+  const master = await masterRow(db, outputId);
+  if (!master) return; // the fragment is gone; its row went with it
+  if (!offsite) {
+    await setCopy(db, outputId, {
+      status: "failed",
+      message:
+        "Off-site copy is not configured on the worker that ran this job (PLATEN_OFFSITE_BUCKET).",
+    });
+    return;
+  }
+  await db
+    .insert(offsiteCopies)
+    .values({ outputId, key: master.key })
+    .onConflictDoUpdate({
+      target: offsiteCopies.outputId,
+      set: { key: master.key, attempts: sql`${offsiteCopies.attempts} + 1` },
+    });
+  try {
+    const sha256 = await deps.library.withLocalFile(master.key, async (file) => {
+      const put = await offsite.put(master.key, file);
+      const there = await offsite.stat(master.key);
+      if (there.size !== put.size || there.sha256 !== put.sha256) {
+        throw new Error(
+          `the bucket holds ${there.size} bytes with SHA-256 ${short(there.sha256)} after the upload of ${put.size} bytes with ${short(put.sha256)}`,
+        );
+      }
+      return put.sha256!;
+    });
+    await setCopy(db, outputId, {
+      status: "copied",
+      message: null,
+      sha256,
+      copiedAt: new Date(),
+      key: master.key,
+    });
+    deps.log.info({ outputId, key: master.key, sha256 }, "offsite: master copied");
+  } catch (err) {
+    const missingMaster = isStorageError(err, "missing");
+    const last = missingMaster || ctx.retryCount >= ctx.retryLimit;
+    const reason = missingMaster
+      ? "The master is missing from the library, so there is nothing to copy. Render the fragment again."
+      : `Copy to ${offsite.description} failed: ${(err as Error).message}${last ? "" : ` Retrying (attempt ${ctx.retryCount + 1} of ${ctx.retryLimit + 1}).`}`;
+    await setCopy(db, outputId, { status: "failed", message: reason }).catch(() => {});
+    deps.log.warn({ outputId, err, retryCount: ctx.retryCount }, "offsite: copy failed");
+    if (missingMaster) return;
+    throw err;
+  }
+}
+
+/**
+ * The re-check: reads the copy back from the bucket and hashes it, and hashes the master in the
+ * library, and compares both with the SHA-256 recorded at copy time. Any difference marks the
+ * copy failed with both values; all equal marks it copied and checked now.
+ */
+export async function checkMaster(deps: OffsiteDeps, outputId: string): Promise<Row | undefined> {
+  const { db } = deps.database;
+  const offsite = deps.offsite;
+  const [row] = await db.select().from(offsiteCopies).where(eq(offsiteCopies.outputId, outputId));
+  if (!row || !offsite) return row;
+  if (row.status === "pending") return row; // a copy is on its way; checking now says nothing
+  const now = new Date();
+  let remote: string;
+  try {
+    remote = await hashStream(await offsite.createReadStream(row.key));
+  } catch (err) {
+    if (!isStorageError(err, "missing")) throw err;
+    return setCopy(db, outputId, {
+      status: "failed",
+      message: `The off-site copy is missing from ${offsite.description}. Copy it again.`,
+      checkedAt: now,
+    });
+  }
+  let local: string | null = null;
+  try {
+    local = await deps.library.checksum(row.key);
+  } catch (err) {
+    if (!isStorageError(err, "missing")) throw err;
+  }
+  if (row.sha256 && remote !== row.sha256) {
+    return setCopy(db, outputId, {
+      status: "failed",
+      message: `Checksum mismatch: the off-site copy has SHA-256 ${short(remote)}, but ${short(row.sha256)} was copied. The copy has changed or is damaged; copy it again.`,
+      checkedAt: now,
+    });
+  }
+  if (local === null) {
+    return setCopy(db, outputId, {
+      status: "failed",
+      message:
+        "The master is missing from the library; the off-site copy is intact and can restore it.",
+      checkedAt: now,
+    });
+  }
+  if (local !== remote) {
+    return setCopy(db, outputId, {
+      status: "failed",
+      message: `Checksum mismatch: the master in the library has SHA-256 ${short(local)}, the off-site copy ${short(remote)}. If the master is right, copy it again.`,
+      checkedAt: now,
+    });
+  }
+  return setCopy(db, outputId, { status: "copied", message: null, sha256: remote, checkedAt: now });
+}
+
+/** A fragment's master's copy, for the side panel. */
+export async function fragmentOffsite(
+  deps: OffsiteDeps,
+  fragmentId: string,
+): Promise<FragmentOffsite> {
+  const enabled = !!deps.offsite;
+  const target = deps.offsite ? deps.offsite.description.replace(/^the bucket /, "") : null;
+  const [row] = await deps.database.db
+    .select({ copy: offsiteCopies })
+    .from(offsiteCopies)
+    .innerJoin(outputs, eq(outputs.id, offsiteCopies.outputId))
+    .where(and(eq(outputs.fragmentId, fragmentId), eq(outputs.kind, "master")));
+  return { enabled, target, copy: row ? presentCopy(row.copy) : null };
+}
+
+async function fragmentMaster(db: Db, fragmentId: string) {
+  const [master] = await db
+    .select()
+    .from(outputs)
+    .where(and(eq(outputs.fragmentId, fragmentId), eq(outputs.kind, "master")));
+  if (!master) throw notFound("The master of this fragment (it is not rendered yet)");
+  return master;
+}
+
+function requireOffsite(deps: OffsiteDeps) {
+  if (!deps.offsite)
+    throw conflict(
+      "Off-site copy is off: set PLATEN_OFFSITE_BUCKET (and its endpoint and keys) to turn it on.",
+    );
+}
+
+/** The re-check route: checks this fragment's master now and answers with the result. */
+export async function recheckFragment(
+  deps: OffsiteDeps,
+  fragmentId: string,
+): Promise<FragmentOffsite> {
+  requireOffsite(deps);
+  const master = await fragmentMaster(deps.database.db, fragmentId);
+  const row = await checkMaster(deps, master.id);
+  if (!row) throw conflict("This master has not been copied off-site yet; copy it first.");
+  return fragmentOffsite(deps, fragmentId);
+}
+
+/** The copy-again route: queues a fresh copy of this fragment's master. */
+export async function recopyFragment(
+  deps: OffsiteDeps,
+  fragmentId: string,
+): Promise<FragmentOffsite> {
+  requireOffsite(deps);
+  const master = await fragmentMaster(deps.database.db, fragmentId);
+  await queueOffsiteCopy(deps.database, deps.boss, master.id, master.key);
+  return fragmentOffsite(deps, fragmentId);
+}
+
+/** Queues a re-check of every master's copy (admins, e.g. once a month). */
+export async function queueCheckAll(deps: OffsiteDeps): Promise<{ queued: number }> {
+  requireOffsite(deps);
+  const rows = await deps.database.db
+    .select({ outputId: offsiteCopies.outputId })
+    .from(offsiteCopies)
+    .where(inArray(offsiteCopies.status, ["copied", "failed"]));
+  for (const r of rows) await deps.boss.send(QUEUES.offsiteCheck, { outputId: r.outputId });
+  return { queued: rows.length };
+}

@@ -1,0 +1,27 @@
+import { queryOptions, useQuery } from "@tanstack/react-query";
+import { API } from "../../../../shared/api";
+import { auditDetailResponse } from "../../../../shared/schemas/audit";
+import { apiRequest } from "../../../lib/api-client";
+import { auditKeys } from "./keys";
+
+export async function getAuditEvent(id: number, signal?: AbortSignal) {
+  const { event } = await apiRequest(API.auditGet, {
+    params: { id: String(id) },
+    schema: auditDetailResponse,
+    signal,
+  });
+  return event;
+}
+
+export const auditEventQueryOptions = (id: number) =>
+  queryOptions({
+    queryKey: auditKeys.detail(id),
+    queryFn: ({ signal }) => getAuditEvent(id, signal),
+    // Events never change: once loaded, one is good for the whole visit.
+    staleTime: Infinity,
+    retry: (count, error) => !("status" in error && error.status === 404) && count < 2,
+  });
+
+export function useAuditEvent(id: number | undefined) {
+  return useQuery({ ...auditEventQueryOptions(id ?? 0), enabled: id !== undefined });
+}

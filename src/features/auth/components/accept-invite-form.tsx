@@ -1,0 +1,106 @@
+import { useState, type FormEvent } from "react";
+import { MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
+import { ROLE_DESCRIPTIONS, ROLE_LABELS } from "../../../../shared/roles";
+import { acceptInvitationBody, type InvitationPreview } from "../../../../shared/schemas/mail";
+import type { SessionUser } from "../../../../shared/schemas/auth";
+import { Button } from "../../../components/button";
+import { TextField } from "../../../components/field";
+import { Notice } from "../../../components/notice";
+import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
+import { useAcceptInvitation } from "../api/invitation";
+
+type Field = "name" | "password" | "repeat";
+const FIELDS = ["name", "password"] as const;
+
+/** The invitee names themselves and chooses a password; accepting signs them in. */
+export function AcceptInviteForm({
+  token,
+  invitation,
+  onAccepted,
+}: {
+  token: string;
+  invitation: InvitationPreview;
+  onAccepted: (user: SessionUser) => void;
+}) {
+  const accept = useAcceptInvitation();
+  const [name, setName] = useState("");
+  const [password, setPassword] = useState("");
+  const [repeat, setRepeat] = useState("");
+  const [errors, setErrors] = useState<FieldErrors<Field>>({});
+  const [formError, setFormError] = useState<string | null>(null);
+
+  const submit = (event: FormEvent) => {
+    event.preventDefault();
+    setFormError(null);
+    const parsed = acceptInvitationBody.safeParse({ token, name, password });
+    if (!parsed.success) {
+      setErrors(fieldErrorsFrom<Field>(parsed.error));
+      return;
+    }
+    if (repeat !== password) {
+      setErrors({ repeat: "The two passwords are not the same" });
+      return;
+    }
+    setErrors({});
+    accept.mutate(parsed.data, {
+      onSuccess: ({ user }) => onAccepted(user),
+      onError: (error) => {
+        const { field, message } = serverErrorFor(error, FIELDS);
+        if (field) setErrors({ [field]: message });
+        else setFormError(message);
+      },
+    });
+  };
+
+  const busy = accept.isPending;
+  return (
+    <form onSubmit={submit} noValidate aria-label="Accept the invitation" className="flex flex-col gap-5">
+      <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-1.5 rounded-lg bg-paper-100 px-4 py-3 text-sm">
+        <dt className="text-ink-muted">E-mail</dt>
+        <dd className="truncate font-medium text-ink">{invitation.email}</dd>
+        <dt className="text-ink-muted">Role</dt>
+        <dd className="text-ink">
+          <span className="font-medium">{ROLE_LABELS[invitation.role]}</span>
+          <span className="block text-xs text-ink-muted">{ROLE_DESCRIPTIONS[invitation.role]}</span>
+        </dd>
+      </dl>
+      {formError && (
+        <Notice tone="error" title="Not accepted">
+          {formError}
+        </Notice>
+      )}
+      <TextField
+        label="Your name"
+        autoComplete="name"
+        autoFocus
+        value={name}
+        onChange={(e) => setName(e.target.value)}
+        error={errors.name}
+        hint="As the studio will see it beside your work."
+        disabled={busy}
+      />
+      <TextField
+        label="Choose a password"
+        type="password"
+        autoComplete="new-password"
+        value={password}
+        onChange={(e) => setPassword(e.target.value)}
+        error={errors.password}
+        hint={`At least ${MIN_PASSWORD_LENGTH} characters.`}
+        disabled={busy}
+      />
+      <TextField
+        label="Repeat the password"
+        type="password"
+        autoComplete="new-password"
+        value={repeat}
+        onChange={(e) => setRepeat(e.target.value)}
+        error={errors.repeat}
+        disabled={busy}
+      />
+      <Button type="submit" variant="primary" busy={busy} className="mt-1 w-full">
+        {busy ? "Joining…" : "Join the studio"}
+      </Button>
+    </form>
+  );
+}

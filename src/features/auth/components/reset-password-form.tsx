@@ -1,0 +1,77 @@
+import { useState, type FormEvent } from "react";
+import { MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
+import { completeResetBody } from "../../../../shared/schemas/mail";
+import type { SessionUser } from "../../../../shared/schemas/auth";
+import { Button } from "../../../components/button";
+import { TextField } from "../../../components/field";
+import { Notice } from "../../../components/notice";
+import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
+import { useCompleteReset } from "../api/password-reset";
+
+type Field = "password" | "repeat";
+
+/** Sets the new password from a reset link; every other session of the account ends. */
+export function ResetPasswordForm({ token, email, onDone }: { token: string; email: string; onDone: (user: SessionUser) => void }) {
+  const complete = useCompleteReset();
+  const [password, setPassword] = useState("");
+  const [repeat, setRepeat] = useState("");
+  const [errors, setErrors] = useState<FieldErrors<Field>>({});
+  const [formError, setFormError] = useState<string | null>(null);
+
+  const submit = (event: FormEvent) => {
+    event.preventDefault();
+    setFormError(null);
+    const parsed = completeResetBody.safeParse({ token, password });
+    if (!parsed.success) {
+      setErrors(fieldErrorsFrom<Field>(parsed.error));
+      return;
+    }
+    if (repeat !== password) {
+      setErrors({ repeat: "The two passwords are not the same" });
+      return;
+    }
+    setErrors({});
+    complete.mutate(parsed.data, {
+      onSuccess: ({ user }) => onDone(user),
+      onError: (error) => {
+        const { field, message } = serverErrorFor(error, ["password"] as const);
+        if (field) setErrors({ password: message });
+        else setFormError(message);
+      },
+    });
+  };
+
+  const busy = complete.isPending;
+  return (
+    <form onSubmit={submit} noValidate aria-label="Choose a new password" className="flex flex-col gap-5">
+      <p className="text-sm text-ink-soft">
+        For <span className="font-medium text-ink">{email}</span>. You will be signed out everywhere else.
+      </p>
+      {formError && <Notice tone="error">{formError}</Notice>}
+      <input type="email" autoComplete="username" value={email} readOnly hidden />
+      <TextField
+        label="New password"
+        type="password"
+        autoComplete="new-password"
+        autoFocus
+        value={password}
+        onChange={(e) => setPassword(e.target.value)}
+        error={errors.password}
+        hint={`At least ${MIN_PASSWORD_LENGTH} characters.`}
+        disabled={busy}
+      />
+      <TextField
+        label="Repeat the new password"
+        type="password"
+        autoComplete="new-password"
+        value={repeat}
+        onChange={(e) => setRepeat(e.target.value)}
+        error={errors.repeat}
+        disabled={busy}
+      />
+      <Button type="submit" variant="primary" busy={busy} className="w-full">
+        Save and sign in
+      </Button>
+    </form>
+  );
+}

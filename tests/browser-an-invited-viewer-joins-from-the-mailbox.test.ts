@@ -1,0 +1,151 @@
+import fs from "node:fs/promises";
+import path from "node:path";
+import sharp from "sharp";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Page } from "playwright-core";
+import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { openBrowser, signIn } from "./helpers/browser";
+
+let stack: Stack;
+let browser: Awaited<ReturnType<typeof openBrowser>>;
+/** Set PLATEN_SHOTS to a folder to keep screenshots of the new screens. */
+const shots = process.env.PLATEN_SHOTS;
+const shot = async (page: Page, name: string) => {
+  if (!shots) return;
+  await fs.mkdir(shots, { recursive: true });
+  await page.screenshot({ path: path.join(shots, `${name}.png`), fullPage: true });
+};
+
+/** Two pieces on a white lid (invented test data). */
+async function twoPieceScan(): Promise<Buffer> {
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1000" height="600">
+    <rect width="100%" height="100%" fill="#f6f6f3"/>
+    <rect x="80" y="90" width="340" height="380" fill="#2b5d8a"/>
+    <rect x="560" y="120" width="320" height="360" fill="#d4a017"/>
+  </svg>`;
+  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+}
+
+beforeAll(async () => {
+  stack = await startStack({ mail: true, watcher: false });
+  await userAgent(stack, "admin", "admin@test.example");
+  // Approved work for the viewer to see: a scan split and both pieces approved.
+  const operator = await userAgent(stack, "operator", "operator@test.example");
+  const up = await operator.post("/api/scans/upload").attach("files", await twoPieceScan(), "blue-and-ochre.tif");
+  const scanId = up.body.results[0].scanId as string;
+  await waitFor("the scan to be split", async () => {
+    const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
+    return s.status === "ready" && s.fragments.total === 2;
+  }, 45_000);
+  await operator.post(`/api/scans/${scanId}/approve-remaining`).expect(200);
+  browser = await openBrowser();
+});
+afterAll(async () => {
+  await browser?.close();
+  await stack?.stop();
+});
+
+describe("in the browser", () => {
+  it("an admin invites a viewer; the viewer accepts from the mailbox's link and sees approved work, no operator actions", async () => {
+    const page = await browser.context.newPage();
+    await signIn(page, stack.url, "admin@test.example", "admin-password-123");
+    await page.goto(`${stack.url}/users`);
+    const invite = page.getByRole("form", { name: "Invite someone" });
+    await invite.getByLabel("E-mail").fill("framer@test.example");
+    await invite.getByLabel("Role").selectOption("viewer");
+    await invite.getByRole("button", { name: "Send invitation" }).click();
+    const pending = page.getByRole("list", { name: "Pending invitations" });
+    await pending.getByText("framer@test.example").waitFor();
+    await expect.poll(() => pending.getByText(/Viewer · sent/).count()).toBe(1);
+    await shot(page, "users-with-invitation");
+
+    // An address that already has an account is refused beside the field.
+    await invite.getByLabel("E-mail").fill("operator@test.example");
+    await invite.getByRole("button", { name: "Send invitation" }).click();
+    await invite.getByText("operator@test.example already has an account (Test operator, operator).", { exact: false }).waitFor();
+
+    await page.getByRole("link", { name: "Mailbox" }).click();
+    await page.getByRole("list", { name: "Messages" }).getByRole("button", { name: /framer@test\.example/ }).click();
+    const message = page.getByRole("article", { name: "Message: You are invited to Test studio on Platen" });
+    await message.waitFor();
+    const frame = page.frameLocator('iframe[title="HTML part"]');
+    await frame.getByRole("link", { name: "Accept the invitation" }).waitFor();
+    await shot(page, "mailbox-invitation-html");
+    await message.getByRole("tab", { name: "Plain text" }).click();
+    await message.getByRole("link", { name: /\/join#token=/ }).first().waitFor();
+    await shot(page, "mailbox-invitation-text");
+    await message.getByRole("tab", { name: "HTML" }).click();
+
+    // The viewer opens the link in the message.
+    await frame.getByRole("link", { name: "Accept the invitation" }).click();
+    await page.waitForURL((u) => u.pathname === "/join");
+    await page.getByRole("heading", { name: "Join Test studio" }).waitFor();
+    // The token is taken out of the address bar once read.
+    expect(new URL(page.url()).hash).toBe("");
+    await shot(page, "join");
+    await page.getByLabel("Your name").fill("Noor Haddad");
+    await page.getByLabel("Choose a password").fill("framing-password-1");
+    await page.getByLabel("Repeat the password").fill("framing-password-1");
+    await page.getByRole("button", { name: "Join the studio" }).click();
+
+    await page.waitForURL((u) => u.pathname === "/work");
+    const signedIn = page.getByRole("group", { name: "Signed in" });
+    await signedIn.getByText("Noor Haddad").waitFor();
+    await expect.poll(() => signedIn.getByText("Viewer").count()).toBe(1);
+    const grid = page.getByLabel("Approved fragments");
+    await expect.poll(() => grid.locator("img").count(), { timeout: 15_000 }).toBe(2);
+    // The pictures themselves load for a viewer.
+    await expect
+      .poll(() => grid.locator("img").evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length), { timeout: 15_000 })
+      .toBe(2);
+    await shot(page, "viewer-approved-work");
+    // No operator actions anywhere a viewer goes.
+    for (const name of [/approve/i, /reject/i, /upload/i]) expect(await page.getByRole("button", { name }).count()).toBe(0);
+    for (const name of ["Recipes", "Presets", "Users", "Mailbox"]) expect(await page.getByRole("link", { name, exact: true }).count()).toBe(0);
+    await page.goto(`${stack.url}/scans`);
+    await page.getByRole("heading", { name: "Scans", exact: true }).waitFor();
+    for (const name of [/approve/i, /reject/i, /upload/i, /review/i]) expect(await page.getByRole("button", { name }).count()).toBe(0);
+    expect(await page.getByText(/drop scans here/i).count()).toBe(0);
+
+    // The same link does not work twice.
+    const link = (await stack.mail!.waitFor("framer@test.example")).text.match(/http\S+\/join#token=\S+/)![0];
+    await page.goto(link);
+    await page.getByText("This invitation has already been used.", { exact: false }).waitFor();
+    await shot(page, "join-used");
+
+    // Notice choices: a viewer starts with none and can turn one on.
+    await page.goto(`${stack.url}/account`);
+    const failed = page.getByRole("checkbox", { name: /A scan failed/ });
+    await failed.waitFor();
+    expect(await failed.isChecked()).toBe(false);
+    await failed.check();
+    await page.getByText("You will get “a scan failed” by e-mail.").waitFor();
+    await page.reload();
+    await expect.poll(() => page.getByRole("checkbox", { name: /A scan failed/ }).isChecked()).toBe(true);
+    await shot(page, "account-notices");
+    await page.close();
+  });
+
+  it("forgot password: the sign-in page links to it, and the answer is the same for anyone", async () => {
+    await browser.context.clearCookies();
+    const page = await browser.context.newPage();
+    await page.goto(`${stack.url}/sign-in`);
+    await page.getByRole("link", { name: "Forgot your password?" }).click();
+    await page.waitForURL((u) => u.pathname === "/forgot-password");
+    await page.getByLabel("E-mail").fill("framer@test.example");
+    await page.getByRole("button", { name: "Send me a link" }).click();
+    await page.getByText("Check your mail").waitFor();
+    await shot(page, "forgot-password-sent");
+    const mail = await stack.mail!.waitFor("framer@test.example", 2);
+    const link = mail.text.match(/http\S+\/reset-password#token=\S+/)![0];
+    await page.goto(link);
+    await page.getByRole("heading", { name: "Choose a new password" }).waitFor();
+    await page.getByLabel("New password", { exact: true }).fill("another-password-22");
+    await page.getByLabel("Repeat the new password").fill("another-password-22");
+    await shot(page, "reset-password");
+    await page.getByRole("button", { name: "Save and sign in" }).click();
+    await page.waitForURL((u) => u.pathname === "/work");
+    await page.getByRole("group", { name: "Signed in" }).getByText("Noor Haddad").waitFor();
+    await page.close();
+  });
+});
