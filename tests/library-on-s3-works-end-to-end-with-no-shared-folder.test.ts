@@ -152,6 +152,13 @@ describe("the library on S3", () => {
     expect(part.status).toBe(206);
     expect(part.headers["content-range"]).toBe(`bytes 100-1099/${inBucket.length}`);
     expect((part.body as Buffer).equals(inBucket.subarray(100, 1100))).toBe(true);
+    const outside = await operator
+      .get(`/api/fragments/${f.id}/outputs/master`)
+      .set("Range", `bytes=${inBucket.length + 10}-`);
+    expect(outside.status).toBe(416);
+    expect(outside.body.error.message).toBe(
+      `The requested range is outside the file (${inBucket.length} bytes).`,
+    );
     // Previews and fragment pictures come from the bucket too.
     const preview = await binary(operator.get(`/api/scans/${scanId}/preview`));
     expect(preview.status).toBe(200);

@@ -301,6 +301,51 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
   });
 });
 
+describe("storage settings", () => {
+  it("picks the implementation from PLATEN_STORAGE and refuses an incomplete S3 setting, naming the variable", async () => {
+    const { loadConfig } = await import("../server/config");
+    const { openStorage } = await import("../server/storage");
+    const base = {
+      PLATEN_DATA_DIR: path.join(dir, "cfg"),
+      PLATEN_LIBRARY_DIR: path.join(dir, "cfg", "library"),
+    };
+    expect(openStorage(loadConfig(base)).kind).toBe("local");
+    const s3 = loadConfig({
+      ...base,
+      PLATEN_STORAGE: "s3",
+      PLATEN_S3_BUCKET: "studio-bucket",
+      PLATEN_S3_PREFIX: "kestrel",
+      PLATEN_S3_FORCE_PATH_STYLE: "1",
+    });
+    expect(s3.storage.s3).toMatchObject({
+      bucket: "studio-bucket",
+      prefix: "kestrel/",
+      region: expect.any(String),
+      forcePathStyle: true,
+    });
+    const opened = openStorage(s3);
+    expect(opened.kind).toBe("s3");
+    expect(opened.description).toBe("the bucket s3://studio-bucket/kestrel/");
+    expect(() => loadConfig({ ...base, PLATEN_STORAGE: "s3" })).toThrow(
+      /PLATEN_S3_BUCKET: is required when PLATEN_STORAGE is s3/,
+    );
+    expect(() =>
+      loadConfig({ ...base, PLATEN_STORAGE: "s3", PLATEN_S3_BUCKET: "Bad_Bucket" }),
+    ).toThrow(/PLATEN_S3_BUCKET: must be an S3 bucket name/);
+    expect(() =>
+      loadConfig({ ...base, PLATEN_S3_BUCKET: "b-1", PLATEN_S3_ACCESS_KEY_ID: "key-only" }),
+    ).toThrow(/set both or neither/);
+    expect(() =>
+      loadConfig({
+        ...base,
+        PLATEN_STORAGE: "s3",
+        PLATEN_S3_BUCKET: "b-1",
+        PLATEN_OFFSITE_BUCKET: "b-2",
+      }),
+    ).toThrow(/off-site copy is for a local library/);
+  });
+});
+
 describe("S3 storage: the local copy for tools that read paths", () => {
   it("downloads a file once, fetches it again after it is rewritten, and keeps the cache under its bound", async () => {
     const s3 = makeS3("cache-check", 300 * 1024);

@@ -95,16 +95,20 @@ export class LocalStorage implements Storage {
       } else {
         ({ sha256, size } = await copyHashed(fromFile, temp));
       }
-      await this.place(temp, key, dest);
-      return { written: true, sha256, size };
+      const written = await this.place(temp, key, dest);
+      return { written, sha256, size };
     } catch (err) {
       await fsp.rm(temp, { force: true });
       throw err;
     }
   }
 
-  /** Renames a complete, fsynced temp file to `dest` (write-once keys: only when none is there). */
-  private async place(temp: string, key: string, dest: string) {
+  /**
+   * Renames a complete, fsynced temp file to `dest` (write-once keys: only when none is there).
+   * Returns false when a write-once key was taken by another writer in the meantime.
+   */
+  private async place(temp: string, key: string, dest: string): Promise<boolean> {
+    let written = true;
     if (isWriteOnce(key)) {
       await fsp.chmod(temp, 0o444);
       // link(2) fails when the name exists: two writers of one original cannot replace each other.
@@ -112,12 +116,14 @@ export class LocalStorage implements Storage {
         await fsp.link(temp, dest);
       } catch (err) {
         if ((err as NodeJS.ErrnoException).code !== "EEXIST") throw err;
+        written = false;
       }
       await fsp.rm(temp, { force: true });
     } else {
       await fsp.rename(temp, dest);
     }
     await fsyncDir(path.dirname(dest));
+    return written;
   }
 
   async stageCopy(source: string): Promise<Staged> {
@@ -148,8 +154,8 @@ export class LocalStorage implements Storage {
       await write(named);
       await fsyncFile(named);
       const size = (await fsp.stat(named)).size;
-      await this.place(named, key, dest);
-      return { written: true, sha256: opts.sha256 ?? null, size };
+      const written = await this.place(named, key, dest);
+      return { written, sha256: opts.sha256 ?? null, size };
     } catch (err) {
       await fsp.rm(named, { force: true });
       throw err;
