@@ -134,7 +134,8 @@ async function main() {
         ? measure("outputsFloor", file, Math.max(1, Math.ceil(RUNS / 2)))
         : null;
     const cpu = (s: Sample | null) => (s?.cpuTimes?.length ? median(s.cpuTimes) : NaN);
-    const ratio = (a: number, b: number) => (Number.isFinite(a) && Number.isFinite(b) ? a / b : null);
+    const ratio = (a: number, b: number) =>
+      Number.isFinite(a) && Number.isFinite(b) ? a / b : null;
     const px = Math.round((c.widthMm / 25.4) * c.dpi) * Math.round((c.heightMm / 25.4) * c.dpi);
     const floorMs = floor ? median(floor.times) : NaN;
     const splitMs = split ? median(split.times) : NaN;
@@ -216,7 +217,14 @@ async function main() {
   const batch = await benchBatch();
   process.stdout.write("\n" + formatBatchBench(batch));
   fs.mkdirSync(OUT, { recursive: true });
-  const result = { at: new Date().toISOString(), node: process.version, runs: RUNS, rows, recipe, batch };
+  const result = {
+    at: new Date().toISOString(),
+    node: process.version,
+    runs: RUNS,
+    rows,
+    recipe,
+    batch,
+  };
   fs.writeFileSync(path.join(OUT, "results.json"), JSON.stringify(result, null, 2) + "\n");
   process.stdout.write(`Written to ${path.relative(ROOT, path.join(OUT, "results.json"))}\n`);
 }

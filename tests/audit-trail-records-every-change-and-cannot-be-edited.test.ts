@@ -356,11 +356,21 @@ describe("every change a person makes is on the trail, with who, what and before
   });
 
   it(`${route("fragmentsOffsiteCheck")}, ${route("fragmentsOffsiteCopy")} and ${route("offsiteCheckAll")}: the off-site copy of a master`, async () => {
-    await waitFor("the master's off-site copy", async () => (await operator.get(`/api/fragments/${ids.f1}/offsite`)).body.copy?.status === "copied", 60_000);
+    // Earlier scenarios re-render this fragment; each new master queues a new copy. Wait for the
+    // renders and copies to settle, so the copy checked is the last one.
+    await waitFor("renders and copies to settle", async () => {
+      const { rows: busy } = await stack.database.pool.query(
+        "select 1 from pgboss.job where name in ('fragment-render', 'offsite-copy') and state in ('created', 'retry', 'active') limit 1",
+      );
+      if (busy.length > 0) return null;
+      return (await operator.get(`/api/fragments/${ids.f1}/offsite`)).body.copy?.status === "copied";
+    }, 60_000);
     let { rows } = await audited(() => operator.post(`/api/fragments/${ids.f1}/offsite/check`));
     expect(only(rows, "offsite.check")).toMatchObject({ actorId: ids.operator, subjectType: "fragment", subjectId: ids.f1, after: { status: "copied" } });
     ({ rows } = await audited(() => operator.post(`/api/fragments/${ids.f1}/offsite/copy`), 202));
     expect(only(rows, "offsite.copy")).toMatchObject({ subjectId: ids.f1 });
+    // Check-all takes the copies that have settled; let the copy just asked for finish first.
+    await waitFor("the copy made again", async () => (await operator.get(`/api/fragments/${ids.f1}/offsite`)).body.copy?.status === "copied", 60_000);
     ({ rows } = await audited(() => admin.post("/api/offsite/check"), 202));
     expect(only(rows, "offsite.check_all")).toMatchObject({ actorId: ids.admin, subjectType: "studio" });
     expect((rows[0]!.after!.queued as number) >= 1).toBe(true);

@@ -13,7 +13,13 @@ import sharp from "sharp";
 import { afterAll, describe, expect, it } from "vitest";
 import type { FragmentGeometry } from "../shared/schemas/fragments";
 import { renderFragment, renderFragments, type BatchItem } from "../worker/pipeline/render";
-import { drawScan, geometryOf, type PieceSpec, type Point, type RGB } from "./helpers/fragment-scans";
+import {
+  drawScan,
+  geometryOf,
+  type PieceSpec,
+  type Point,
+  type RGB,
+} from "./helpers/fragment-scans";
 import { makeTempDir } from "./helpers/scan-bytes";
 
 const tmp = makeTempDir("platen-batch-");
@@ -76,13 +82,25 @@ function items(dir: string, geometries: FragmentGeometry[]): BatchItem[] {
 /** Decoded pixels of two files, compared value by value; also their headers' key fields. */
 async function samePicture(a: string, b: string): Promise<void> {
   const [ma, mb] = await Promise.all([sharp(a).metadata(), sharp(b).metadata()]);
-  for (const key of ["format", "width", "height", "channels", "depth", "space", "hasAlpha", "density"] as const) {
+  for (const key of [
+    "format",
+    "width",
+    "height",
+    "channels",
+    "depth",
+    "space",
+    "hasAlpha",
+    "density",
+  ] as const) {
     expect(mb[key], `${key} of ${path.basename(b)}`).toEqual(ma[key]);
   }
   expect(Boolean(mb.icc), "ICC profile present").toBe(Boolean(ma.icc));
   if (ma.icc) expect(mb.icc!.equals(ma.icc)).toBe(true);
   const raw = (f: string) =>
-    sharp(f).keepIccProfile().raw({ depth: ma.depth === "ushort" ? "ushort" : "uchar" }).toBuffer();
+    sharp(f)
+      .keepIccProfile()
+      .raw({ depth: ma.depth === "ushort" ? "ushort" : "uchar" })
+      .toBuffer();
   const [pa, pb] = await Promise.all([raw(a), raw(b)]);
   expect(pb.length).toBe(pa.length);
   expect(pb.equals(pa), `pixels of ${path.basename(b)}`).toBe(true);
@@ -96,7 +114,13 @@ async function compareWithOneByOne(source: string, label: string, dpi = 600): Pr
   for (const item of one) {
     singles.push(
       await renderFragment(
-        { source, geometry: item.geometry, dpi: { x: dpi, y: dpi }, maxPixels, metadata: item.metadata },
+        {
+          source,
+          geometry: item.geometry,
+          dpi: { x: dpi, y: dpi },
+          maxPixels,
+          metadata: item.metadata,
+        },
         item.targets,
       ),
     );

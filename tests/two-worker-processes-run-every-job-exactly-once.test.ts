@@ -45,14 +45,17 @@ function startWorkerProcess(name: string) {
   return entry;
 }
 
-/** Each process's own account of the jobs it finished: job id → the processes that say they ran it. */
+/** The pipeline's queues: what a scan goes through. (Mail and off-site jobs come and go beside them.) */
+const QUEUES = ["scan-analyse", "scan-split", "fragment-render", "output-render"];
+
+/** Each process's own account of the pipeline jobs it finished: job id → the processes that say they ran it. */
 function jobsRun() {
   const ran = new Map<string, string[]>();
   for (const { lines } of children) {
     for (const line of lines) {
       if (!line.startsWith("{")) continue;
-      const rec = JSON.parse(line) as { msg?: string; jobId?: string; proc?: string };
-      if (rec.msg === "job done" && rec.jobId) ran.set(rec.jobId, [...(ran.get(rec.jobId) ?? []), rec.proc!]);
+      const rec = JSON.parse(line) as { msg?: string; jobId?: string; proc?: string; queue?: string };
+      if (rec.msg === "job done" && rec.jobId && QUEUES.includes(rec.queue!)) ran.set(rec.jobId, [...(ran.get(rec.jobId) ?? []), rec.proc!]);
     }
   }
   return ran;
@@ -110,12 +113,11 @@ describe("two worker processes on one database", () => {
     expect(batch.counts.failed).toBe(0);
 
     // pg-boss's own record: every job of the pipeline's queues, completed once, none retried.
-    const queues = ["scan-analyse", "scan-split", "fragment-render", "output-render"];
     const jobs = await waitFor("every job to be recorded complete", async () => {
       const { rows } = await stack.database.pool.query<{ id: string; name: string; state: string; retry_count: number }>(
         `select id, name, state, retry_count from pgboss.job where name = any($1)
          union all select id, name, state, retry_count from pgboss.archive where name = any($1)`,
-        [queues],
+        [QUEUES],
       );
       return rows.length > 0 && rows.every((r) => r.state === "completed") ? rows : null;
     }, 30_000);

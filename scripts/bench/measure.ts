@@ -112,7 +112,10 @@ async function renderBatch(
 ): Promise<void> {
   await mod.renderFragments(
     { source: file, dpi, maxPixels: LIMITS.maxPixels },
-    fragments.map((f, i) => ({ geometry: geometryOf(f), targets: renderTargets(outDir, i, f.shape) })),
+    fragments.map((f, i) => ({
+      geometry: geometryOf(f),
+      targets: renderTargets(outDir, i, f.shape),
+    })),
   );
 }
 
@@ -154,7 +157,8 @@ async function whole(
   render: typeof renderEach,
 ): Promise<{ times: number[]; detail: Record<string, number | string> }> {
   const mod = await renderModule();
-  if (!mod) return { times: [], detail: { skipped: "worker/pipeline/render has no renderFragments" } };
+  if (!mod)
+    return { times: [], detail: { skipped: "worker/pipeline/render has no renderFragments" } };
   const times: number[] = [];
   const perFragment: number[] = [];
   for (let r = 0; r < runs; r++) {

@@ -218,7 +218,12 @@ export async function renderFragments(
   const inspected = await inspectScanFile(scan.source, scan.maxPixels);
   const { width, height } = uprightSizeOf(inspected);
   for (const c of checked) assertFits(c.geometry, width, height);
-  const decoded = await decodeScan(scan.source, colourPlan(inspected.meta), inspected, scan.maxPixels);
+  const decoded = await decodeScan(
+    scan.source,
+    colourPlan(inspected.meta),
+    inspected,
+    scan.maxPixels,
+  );
   try {
     const results: RenderResult[] = [];
     for (const [i, input] of inputs.entries()) {

@@ -58,7 +58,8 @@ export function estimateBackground(
   const bg0 = ring.lab;
 
   // A grid of samples keeps the fitting to about 25 000 pixels at any size (every 6th pixel of a
-  // letter-size copy at 100 DPI, a 1.5 mm grid; the edge profiles below sample more densely).
+  // letter-size copy at 100 DPI, a 1.5 mm grid; every 5th, 1.7 mm, at 75 DPI; the edge profiles below
+  // sample more densely).
   const g = Math.max(1, Math.round(Math.sqrt((width * height) / 25_000)));
   const off = g >> 1;
   const nx = Math.max(1, Math.ceil((width - off) / g));
@@ -130,8 +131,19 @@ export function estimateBackground(
     if (count < 16) break; // no background to speak of; keep the border colour
     // 2. the polynomial surface, of a degree the spread of background samples supports
     degree = supportedDegree(cand, nx, ny);
+    const normal = normalMatrix(cand, phi, degree);
     for (let c = 0; c < 3; c++) {
-      const fit = fitSurface(S[c]!, cand, phi, sampleRow, sampleCol, rowP[c]!, colP[c]!, degree);
+      const fit = fitSurface(
+        S[c]!,
+        cand,
+        phi,
+        sampleRow,
+        sampleCol,
+        rowP[c]!,
+        colP[c]!,
+        degree,
+        normal,
+      );
       if (!fit) continue;
       poly[c] = fit;
       const pc = P[c]!;
@@ -259,7 +271,34 @@ function supportedDegree(cand: Uint8Array, nx: number, ny: number): number {
   return reached >= 12 ? 2 : reached >= 6 ? 1 : 0;
 }
 
-/** Least-squares polynomial surface of S − R − C over the candidate samples; coefficients of all 6 terms. */
+/** Number of basis terms [1, X, Y, X², XY, Y²] a surface of `degree` uses. */
+function termCount(degree: number): number {
+  return degree === 2 ? 6 : degree === 1 ? 3 : 1;
+}
+
+/**
+ * The normal matrix Σ φφᵀ of the least-squares surface over the candidate samples (n × n,
+ * symmetric, both halves filled). It depends on the samples only, not on the channel, so the three
+ * channels share it.
+ */
+function normalMatrix(cand: Uint8Array, phi: Float32Array, degree: number): Float64Array {
+  const n = termCount(degree);
+  const A = new Float64Array(n * n);
+  for (let k = 0, o = 0; k < cand.length; k++, o += 6) {
+    if (!cand[k]) continue;
+    for (let i = 0; i < n; i++) {
+      const pi = phi[o + i]!;
+      for (let j = i; j < n; j++) A[i * n + j] = A[i * n + j]! + pi * phi[o + j]!;
+    }
+  }
+  for (let i = 0; i < n; i++) for (let j = 0; j < i; j++) A[i * n + j] = A[j * n + i]!;
+  return A;
+}
+
+/**
+ * Least-squares polynomial surface of S − R − C over the candidate samples, given the normal
+ * matrix A of those samples (normalMatrix); coefficients of all 6 terms.
+ */
 function fitSurface(
   S: Float32Array,
   cand: Uint8Array,
@@ -269,21 +308,15 @@ function fitSurface(
   rowP: Float32Array,
   colP: Float32Array,
   degree: number,
+  A: Float64Array,
 ): Float64Array | null {
-  const n = degree === 2 ? 6 : degree === 1 ? 3 : 1; // the first n terms of [1, X, Y, X², XY, Y²]
-  const A = new Float64Array(n * n);
+  const n = termCount(degree); // the first n terms of [1, X, Y, X², XY, Y²]
   const B = new Float64Array(n);
-  for (let k = 0; k < S.length; k++) {
+  for (let k = 0, o = 0; k < S.length; k++, o += 6) {
     if (!cand[k]) continue;
-    const o = k * 6;
     const v = S[k]! - rowP[sampleRow[k]!]! - colP[sampleCol[k]!]!;
-    for (let i = 0; i < n; i++) {
-      const pi = phi[o + i]!;
-      B[i] = B[i]! + pi * v;
-      for (let j = i; j < n; j++) A[i * n + j] = A[i * n + j]! + pi * phi[o + j]!;
-    }
+    for (let i = 0; i < n; i++) B[i] = B[i]! + phi[o + i]! * v;
   }
-  for (let i = 0; i < n; i++) for (let j = 0; j < i; j++) A[i * n + j] = A[j * n + i]!;
   const sol = solveLinear(A, B, n);
   if (!sol) return null;
   const out = new Float64Array(6);

@@ -12,7 +12,7 @@ import { measurePiece, rejectReason, type Rejection } from "./pieces";
 import type { Threshold } from "./threshold";
 
 /**
- * The split: finds every piece on a scan. One decode into a reduced copy (about 100 DPI), then
+ * The split: finds every piece on a scan. One decode into a reduced copy (about 75 DPI), then
  * pure functions over its pixels: background model → colour difference → threshold → mask →
  * components → one measured fragment per piece, reported in the source's pixels.
  */
@@ -28,7 +28,7 @@ export interface SplitOptions {
   sensitivity?: number;
   /** Largest width × height accepted, pixels (PLATEN_MAX_PIXELS). Default 500 MP. */
   maxPixels?: number;
-  /** Resolution of the analysis copy, DPI. Default 100. */
+  /** Resolution of the analysis copy, DPI. Default 75 (DEFAULT_ANALYSIS_DPI). */
   analysisDpi?: number;
 }
 
