@@ -1,4 +1,5 @@
 import type { ChildProcess } from "node:child_process";
+import os from "node:os";
 import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
@@ -79,6 +80,11 @@ afterAll(async () => {
 });
 
 describe("two worker processes on one database", () => {
+  it("are listed on the queue, by machine", async () => {
+    const { workers } = (await operator.get("/api/queue")).body;
+    expect(workers).toEqual({ online: 2, hosts: [{ host: os.hostname(), count: 2 }] });
+  });
+
   it("split, render and make outputs for every scan, each job run exactly once", async () => {
     const upload = operator.post("/api/scans/upload");
     for (let i = 0; i < SCANS; i++) upload.attach("files", await bed(i + 1, PIECES[i]!), `machines-${i + 1}.tif`);

@@ -32,7 +32,7 @@ export async function queueSummary(db: Db): Promise<QueueSummary> {
       .orderBy(desc(scans.updatedAt))
       .limit(20),
     db.select().from(processes).where(eq(processes.kind, "watcher")).orderBy(desc(processes.heartbeatAt)).limit(1),
-    db.select({ id: processes.id }).from(processes).where(and(eq(processes.kind, "worker"), gt(processes.heartbeatAt, fresh))),
+    db.select({ id: processes.id, host: processes.host }).from(processes).where(and(eq(processes.kind, "worker"), gt(processes.heartbeatAt, fresh))),
     proposedCounts(db),
     recentBatches(db),
   ]);
@@ -55,7 +55,7 @@ export async function queueSummary(db: Db): Promise<QueueSummary> {
       lastFileAt: w?.lastFileAt?.toISOString() ?? null,
       heartbeatAt: w?.heartbeatAt.toISOString() ?? null,
     },
-    workers: { online: workers.length },
+    workers: { online: workers.length, hosts: countByHost(workers) },
     batches,
     review: {
       proposed: awaiting.reduce((n, [, c]) => n + c.proposed, 0),
@@ -65,4 +65,11 @@ export async function queueSummary(db: Db): Promise<QueueSummary> {
         .map((s) => ({ scanId: s.id, originalName: s.originalName, proposed: review.get(s.id)!.proposed })),
     },
   };
+}
+
+/** Live workers per machine, most first, then by name. */
+function countByHost(workers: { host: string }[]): { host: string; count: number }[] {
+  const counts = new Map<string, number>();
+  for (const w of workers) counts.set(w.host, (counts.get(w.host) ?? 0) + 1);
+  return [...counts].map(([host, count]) => ({ host, count })).sort((a, b) => b.count - a.count || a.host.localeCompare(b.host));
 }

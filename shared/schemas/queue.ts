@@ -30,7 +30,11 @@ export const queueSummarySchema = z.object({
     lastFileAt: z.string().nullable(),
     heartbeatAt: z.string().nullable(),
   }),
-  workers: z.object({ online: z.number() }),
+  workers: z.object({
+    online: z.number(),
+    /** Machines with a live worker, and how many worker processes each runs. */
+    hosts: z.array(z.object({ host: z.string(), count: z.number() })),
+  }),
   /** Batches running now or finished in the last hour. */
   batches: z.array(batchSchema),
   /** Fragments awaiting review, and the scans they are on (newest first). */

@@ -64,6 +64,16 @@ export function WatcherStatus({
           {workers.online === 0 && (
             <span className="ml-2 text-xs text-brick">Scans will wait until a worker starts.</span>
           )}
+          {workers.hosts.length > 0 && (
+            <ul className="mt-1 text-xs text-ink-muted" aria-label="Workers by machine">
+              {workers.hosts.map((h) => (
+                <li key={h.host}>
+                  <span className="font-mono">{h.host}</span>
+                  {h.count > 1 && <span> × {h.count}</span>}
+                </li>
+              ))}
+            </ul>
+          )}
         </dd>
       </dl>
     </Panel>
