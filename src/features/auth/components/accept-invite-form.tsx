@@ -1,5 +1,4 @@
 import { useState, type FormEvent } from "react";
-import { MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
 import { ROLE_DESCRIPTIONS, ROLE_LABELS } from "../../../../shared/roles";
 import { acceptInvitationBody, type InvitationPreview } from "../../../../shared/schemas/mail";
 import type { SessionUser } from "../../../../shared/schemas/auth";
@@ -8,6 +7,7 @@ import { TextField } from "../../../components/field";
 import { Notice } from "../../../components/notice";
 import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
 import { useAcceptInvitation } from "../api/invitation";
+import { NewPasswordFields, PASSWORDS_DIFFER } from "./new-password-fields";
 
 type Field = "name" | "password" | "repeat";
 const FIELDS = ["name", "password"] as const;
@@ -38,7 +38,7 @@ export function AcceptInviteForm({
       return;
     }
     if (repeat !== password) {
-      setErrors({ repeat: "The two passwords are not the same" });
+      setErrors({ repeat: PASSWORDS_DIFFER });
       return;
     }
     setErrors({});
@@ -79,23 +79,13 @@ export function AcceptInviteForm({
         hint="As the studio will see it beside your work."
         disabled={busy}
       />
-      <TextField
-        label="Choose a password"
-        type="password"
-        autoComplete="new-password"
-        value={password}
-        onChange={(e) => setPassword(e.target.value)}
-        error={errors.password}
-        hint={`At least ${MIN_PASSWORD_LENGTH} characters.`}
-        disabled={busy}
-      />
-      <TextField
-        label="Repeat the password"
-        type="password"
-        autoComplete="new-password"
-        value={repeat}
-        onChange={(e) => setRepeat(e.target.value)}
-        error={errors.repeat}
+      <NewPasswordFields
+        labels={{ password: "Choose a password", repeat: "Repeat the password" }}
+        password={password}
+        repeat={repeat}
+        onPassword={setPassword}
+        onRepeat={setRepeat}
+        errors={errors}
         disabled={busy}
       />
       <Button type="submit" variant="primary" busy={busy} className="mt-1 w-full">

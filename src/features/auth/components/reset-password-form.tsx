@@ -1,12 +1,11 @@
 import { useState, type FormEvent } from "react";
-import { MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
 import { completeResetBody } from "../../../../shared/schemas/mail";
 import type { SessionUser } from "../../../../shared/schemas/auth";
 import { Button } from "../../../components/button";
-import { TextField } from "../../../components/field";
 import { Notice } from "../../../components/notice";
 import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
 import { useCompleteReset } from "../api/password-reset";
+import { NewPasswordFields, PASSWORDS_DIFFER } from "./new-password-fields";
 
 type Field = "password" | "repeat";
 
@@ -27,7 +26,7 @@ export function ResetPasswordForm({ token, email, onDone }: { token: string; ema
       return;
     }
     if (repeat !== password) {
-      setErrors({ repeat: "The two passwords are not the same" });
+      setErrors({ repeat: PASSWORDS_DIFFER });
       return;
     }
     setErrors({});
@@ -49,25 +48,15 @@ export function ResetPasswordForm({ token, email, onDone }: { token: string; ema
       </p>
       {formError && <Notice tone="error">{formError}</Notice>}
       <input type="email" autoComplete="username" value={email} readOnly hidden />
-      <TextField
-        label="New password"
-        type="password"
-        autoComplete="new-password"
+      <NewPasswordFields
+        labels={{ password: "New password", repeat: "Repeat the new password" }}
+        password={password}
+        repeat={repeat}
+        onPassword={setPassword}
+        onRepeat={setRepeat}
+        errors={errors}
+        disabled={busy}
         autoFocus
-        value={password}
-        onChange={(e) => setPassword(e.target.value)}
-        error={errors.password}
-        hint={`At least ${MIN_PASSWORD_LENGTH} characters.`}
-        disabled={busy}
-      />
-      <TextField
-        label="Repeat the new password"
-        type="password"
-        autoComplete="new-password"
-        value={repeat}
-        onChange={(e) => setRepeat(e.target.value)}
-        error={errors.repeat}
-        disabled={busy}
       />
       <Button type="submit" variant="primary" busy={busy} className="w-full">
         Save and sign in
