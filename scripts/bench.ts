@@ -4,15 +4,17 @@
  * page at 600 DPI, 8 pieces each, as LZW TIFF (what scanner software archives) and JPEG.
  *
  * Each measurement runs in its own child process (scripts/bench/measure.ts), so the peak memory
- * reported is that measurement's alone. Reported figures are medians over the runs.
+ * reported is that measurement's alone. Every run is paired with a run of its floor just before
+ * it in the same process, and the ratios are medians of the pairs' ratios (a run and its floor see
+ * the same load); times are medians over the runs.
  * - floor: sharp decodes the scan once and makes the reduced analysis copy, nothing else;
  * - split: the whole split (header, decode into the reduced copy, analysis);
  * - whole: split plus every fragment's master and web copy, rendered from one decode of the scan
  *   (renderFragments); wholeEach: the same with one renderFragment call per fragment (one render
  *   job each, every one decoding the scan down to its fragment's rows); outputsFloor: one decode
  *   and the same outputs encoded straight from it, with no analysis.
- * Besides wall time, every measurement reports CPU time (all threads), steadier than wall time on
- * a machine shared with other work; the ratios are given for both.
+ * Besides wall time, every measurement reports CPU time (all threads); the ratios are given for
+ * both (on a virtual machine whose host is busy, CPU time counts stolen time too).
  * Targets at A4 600 DPI: split ≤ 1.5 × floor, whole ≤ 1.5 × outputsFloor, peak memory ≤ 1.5 GB.
  * Results: a table on stdout and .bench/results.json. Options: --runs N (default 5), --quick
  * (letter only, 3 runs).
@@ -107,6 +109,7 @@ interface Row {
   wholePeakMb: number | null;
   wholeEachMs: number | null;
   wholeEachOverFloor: number | null;
+  wholeEachPeakMb: number | null;
   /** The same ratios by CPU time. */
   splitOverFloorCpu: number;
   wholeOverFloorCpu: number | null;
@@ -117,49 +120,40 @@ interface Row {
 const fmt = (v: number | null, digits = 0) =>
   v === null || Number.isNaN(v) ? "–" : v.toFixed(digits);
 
+/** Median of a sample's values, or null when the measurement failed or was skipped. */
+const med = (s: Sample | null, pick: (s: Sample) => number[]): number | null =>
+  s && pick(s).length > 0 ? median(pick(s)) : null;
+
 async function main() {
   const rows: Row[] = [];
   for (const c of CASES) {
     const file = await scanFile(c);
     process.stdout.write(`measuring ${c.name} (${RUNS} runs) …\n`);
-    const floor = measure("floor", file, RUNS);
     const split = measure("split", file, RUNS);
-    const whole = measure("whole", file, Math.max(1, Math.ceil(RUNS / 2)));
-    const wholeEach =
-      whole && whole.times.length > 0
-        ? measure("wholeEach", file, Math.max(1, Math.ceil(RUNS / 2)))
-        : null;
-    const outputs =
-      whole && whole.times.length > 0
-        ? measure("outputsFloor", file, Math.max(1, Math.ceil(RUNS / 2)))
-        : null;
-    const cpu = (s: Sample | null) => (s?.cpuTimes?.length ? median(s.cpuTimes) : NaN);
-    const ratio = (a: number, b: number) =>
-      Number.isFinite(a) && Number.isFinite(b) ? a / b : null;
+    const wholeRuns = Math.max(1, Math.ceil(RUNS / 2));
+    const whole = measure("whole", file, wholeRuns);
+    const each = whole && whole.times.length > 0 ? measure("wholeEach", file, wholeRuns) : null;
     const px = Math.round((c.widthMm / 25.4) * c.dpi) * Math.round((c.heightMm / 25.4) * c.dpi);
-    const floorMs = floor ? median(floor.times) : NaN;
-    const splitMs = split ? median(split.times) : NaN;
-    const wholeMs = whole && whole.times.length > 0 ? median(whole.times) : null;
-    const outputsMs = outputs ? median(outputs.times) : null;
+    const ran = (s: Sample | null) => (s && s.times.length > 0 ? s : null);
     rows.push({
       scan: c.name,
       file: path.relative(ROOT, file),
       megapixels: Math.round(px / 1e5) / 10,
-      floorMs,
-      splitMs,
-      splitOverFloor: splitMs / floorMs,
+      floorMs: med(split, (s) => s.floorTimes) ?? NaN,
+      splitMs: med(split, (s) => s.times) ?? NaN,
+      splitOverFloor: med(split, (s) => s.ratios) ?? NaN,
       splitPeakMb: split?.peakRssMb ?? NaN,
       renderPerFragmentMs: (whole?.detail?.renderPerFragmentMs as number | undefined) ?? null,
-      wholeMs,
-      outputsFloorMs: outputsMs,
-      wholeOverFloor: wholeMs !== null && outputsMs !== null ? wholeMs / outputsMs : null,
-      wholePeakMb: whole && whole.times.length > 0 ? whole.peakRssMb : null,
-      wholeEachMs: wholeEach ? median(wholeEach.times) : null,
-      wholeEachOverFloor:
-        wholeEach && outputsMs !== null ? median(wholeEach.times) / outputsMs : null,
-      splitOverFloorCpu: cpu(split) / cpu(floor),
-      wholeOverFloorCpu: ratio(cpu(whole), cpu(outputs)),
-      wholeEachOverFloorCpu: ratio(cpu(wholeEach), cpu(outputs)),
+      wholeMs: med(whole, (s) => s.times),
+      outputsFloorMs: med(whole, (s) => s.floorTimes),
+      wholeOverFloor: med(whole, (s) => s.ratios),
+      wholePeakMb: ran(whole)?.peakRssMb ?? null,
+      wholeEachMs: med(each, (s) => s.times),
+      wholeEachOverFloor: med(each, (s) => s.ratios),
+      wholeEachPeakMb: ran(each)?.peakRssMb ?? null,
+      splitOverFloorCpu: med(split, (s) => s.cpuRatios) ?? NaN,
+      wholeOverFloorCpu: med(whole, (s) => s.cpuRatios),
+      wholeEachOverFloorCpu: med(each, (s) => s.cpuRatios),
       fragments: split?.detail?.fragments ?? null,
     });
   }
@@ -177,6 +171,7 @@ async function main() {
     "whole/floor",
     "whole peak MB",
     "each/floor",
+    "each peak MB",
     "cpu: split",
     "whole",
     "each",
@@ -195,6 +190,7 @@ async function main() {
     fmt(r.wholeOverFloor, 2),
     fmt(r.wholePeakMb),
     fmt(r.wholeEachOverFloor, 2),
+    fmt(r.wholeEachPeakMb),
     fmt(r.splitOverFloorCpu, 2),
     fmt(r.wholeOverFloorCpu, 2),
     fmt(r.wholeEachOverFloorCpu, 2),

@@ -16,7 +16,8 @@ const int = (min: number, max: number) => z.coerce.number().int().min(min).max(m
 const s3BucketName = z.string().regex(/^[a-z0-9][a-z0-9.-]{1,61}[a-z0-9]$/, { error: "must be an S3 bucket name (3–63 lower-case letters, digits, dots, dashes)" });
 const s3Prefix = z
   .string()
-  .regex(/^([a-z0-9][a-z0-9._-]*\/?)*$/i, { error: "must be a folder-like prefix of letters, digits, dots, dashes and slashes" })
+  // Segments end at a slash, so the pattern matches in one pass (an optional slash inside a repeated group backtracks exponentially on a bad value).
+  .regex(/^([a-z0-9][a-z0-9._-]*\/)*([a-z0-9][a-z0-9._-]*)?$/i, { error: "must be a folder-like prefix of letters, digits, dots, dashes and slashes" })
   .transform((v) => (v && !v.endsWith("/") ? `${v}/` : v));
 
 const envSchema = z.object({
@@ -112,6 +113,8 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
     e.PLATEN_STORAGE === "s3" && e.PLATEN_OFFSITE_BUCKET && "  PLATEN_OFFSITE_BUCKET: the off-site copy is for a local library; with PLATEN_STORAGE=s3 use the bucket's own replication",
     !e.PLATEN_S3_ACCESS_KEY_ID !== !e.PLATEN_S3_SECRET_ACCESS_KEY && "  PLATEN_S3_ACCESS_KEY_ID / PLATEN_S3_SECRET_ACCESS_KEY: set both or neither",
     !e.PLATEN_OFFSITE_ACCESS_KEY_ID !== !e.PLATEN_OFFSITE_SECRET_ACCESS_KEY && "  PLATEN_OFFSITE_ACCESS_KEY_ID / PLATEN_OFFSITE_SECRET_ACCESS_KEY: set both or neither",
+    // The mailbox shows every message (reset links included) to admins and sends without TLS: never in production.
+    e.NODE_ENV === "production" && e.PLATEN_MAILBOX_DIR && "  PLATEN_MAILBOX_DIR: the development mailbox (the local mail fake) is not for production; unset it and set PLATEN_SMTP_HOST",
   ].filter(Boolean);
   if (storageProblems.length) throw new Error(`Platen cannot start: bad configuration\n${storageProblems.join("\n")}`);
   const dataDir = path.resolve(e.PLATEN_DATA_DIR);

@@ -176,6 +176,26 @@ describe("the role matrix over every route that changes data", () => {
     }
   });
 
+  // Reading routes too: each refuses the roles below it, and lets its own role past the check.
+  const reading = routes.filter(([, s]) => !s.mutates && s.access !== "public");
+  for (const [name, spec] of reading) {
+    for (const role of ROLES) {
+      const allowed = hasRole(role, spec.access as Role);
+      // The event stream stays open for an allowed role; its refusals are still checked.
+      if (allowed && name === "events") continue;
+      it(`${role} ${allowed ? "may" : "may not"} read ${name} (${spec.method} ${spec.path})`, async () => {
+        const res = await send(agents[role], name);
+        if (allowed) {
+          expect([401, 403], JSON.stringify(res.body)).not.toContain(res.status);
+          expect(res.status).toBeLessThan(500);
+        } else {
+          expect(res.status).toBe(403);
+          expect(res.body.error.code).toBe("forbidden");
+        }
+      });
+    }
+  }
+
   it("viewers read but the users list is for admins only", async () => {
     expect((await agents.viewer.get("/api/scans")).status).toBe(200);
     expect((await agents.viewer.get("/api/queue")).status).toBe(200);

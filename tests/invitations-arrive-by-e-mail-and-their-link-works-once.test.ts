@@ -1,4 +1,5 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
+import bcrypt from "bcryptjs";
 import type supertest from "supertest";
 import { eq } from "drizzle-orm";
 import { invitations, users } from "../server/db/schema";
@@ -120,6 +121,18 @@ describe("invitations", () => {
     expect(res.status).toBe(409);
     expect(res.body.error.message).toMatch(/^twice@test\.example is already invited \(sent \d+ \w+ \d{4}, \d\d:\d\d UTC\)\. Resend or revoke that invitation below\.$/);
     expect(await stack.mail!.to("admin@test.example")).toEqual([]);
+  });
+
+  it("refuses a made-up token before the slow password hash, so such requests cost the server little", async () => {
+    const hash = vi.spyOn(bcrypt, "hash");
+    try {
+      const res = await stack.agent().post("/api/invitations/accept").send({ token: "B".repeat(43), name: "Guess", password: "guessing-password" });
+      expect(res.status).toBe(410);
+      expect(res.body.error.message).toMatch(/^This invitation link does not work any more/);
+      expect(hash).not.toHaveBeenCalled();
+    } finally {
+      hash.mockRestore();
+    }
   });
 
   it("refuses a malformed token before looking anything up", async () => {

@@ -1,4 +1,5 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
+import bcrypt from "bcryptjs";
 import { passwordResets } from "../server/db/schema";
 import { RESET_REQUESTED_MESSAGE } from "../shared/schemas/mail";
 import { startStack, userAgent, type Stack } from "./helpers/stack";
@@ -74,6 +75,18 @@ describe("password reset", () => {
     expect(expired.status).toBe(410);
     expect(expired.body.error.message).toBe("This link expired at 4 March 2026, 05:06 UTC. Ask for a new one on the sign-in page (“Forgot password”).");
     expect((await stack.agent().post("/api/auth/login").send({ email: "slow@test.example", password: "viewer-password-123" })).status).toBe(200);
+  });
+
+  it("refuses a made-up token before the slow password hash, so such requests cost the server little", async () => {
+    const hash = vi.spyOn(bcrypt, "hash");
+    try {
+      const res = await stack.agent().post("/api/auth/password-reset/complete").send({ token: "C".repeat(43), password: "guessing-password" });
+      expect(res.status).toBe(410);
+      expect(res.body.error.message).toMatch(/^This link to choose a new password does not work/);
+      expect(hash).not.toHaveBeenCalled();
+    } finally {
+      hash.mockRestore();
+    }
   });
 
   it("is rate-limited per address and e-mail, with the same answer meanwhile", async () => {

@@ -343,6 +343,12 @@ describe("storage settings", () => {
         PLATEN_OFFSITE_BUCKET: "b-2",
       }),
     ).toThrow(/off-site copy is for a local library/);
+    // Prefixes: folders with or without the closing slash; a bad one is refused (and at once, even
+    // when long: the check must not backtrack on it).
+    for (const [given, kept] of [["a/b", "a/b/"], ["a/b/", "a/b/"], ["", ""]] as const)
+      expect(loadConfig({ ...base, PLATEN_S3_BUCKET: "b-1", PLATEN_S3_PREFIX: given }).storage.s3!.prefix).toBe(kept);
+    for (const bad of ["../up", "a//b", "/root", `${"studio-archive".repeat(4)} `])
+      expect(() => loadConfig({ ...base, PLATEN_S3_BUCKET: "b-1", PLATEN_S3_PREFIX: bad }), bad).toThrow(/PLATEN_S3_PREFIX: must be a folder-like prefix/);
   });
 });
 

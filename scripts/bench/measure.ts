@@ -1,8 +1,14 @@
 /**
  * One measurement per function, each run in a fresh child process (so its peak memory is its own):
  * `tsx scripts/bench/measure.ts <measurement> <scan> <runs> <out-dir>` prints one JSON line
- * { times: [ms…], peakRssMb, detail }. The benchmark (scripts/bench.ts) starts these and reports
- * medians. A new measurement is one more entry in MEASUREMENTS.
+ * { times: [ms…], cpuTimes, floorTimes, ratios, …, peakRssMb, detail }. The benchmark
+ * (scripts/bench.ts) starts these and reports medians. A new measurement is one more entry in
+ * MEASUREMENTS.
+ *
+ * Every run is paired with a run of its floor just before it, in the same process, so that a run
+ * and its floor see the same load on a shared machine; the ratios are taken pair by pair. The
+ * floor's own peak memory is below the measured function's (it does less), so the peak reported
+ * is the measured function's.
  */
 import fs from "node:fs/promises";
 import path from "node:path";
@@ -16,46 +22,69 @@ export interface Sample {
   /** Wall-clock time of each run, ms. */
   times: number[];
   /** CPU time of each run (every thread of the process: JavaScript and libvips), ms. */
-  cpuTimes?: number[];
+  cpuTimes: number[];
+  /** The floor run paired with each run: its wall and CPU times, ms. */
+  floorTimes: number[];
+  floorCpuTimes: number[];
+  /** Each run over its own floor, by wall and by CPU time. */
+  ratios: number[];
+  cpuRatios: number[];
   peakRssMb: number;
   detail?: Record<string, number | string>;
 }
 
 const LIMITS = { defaultDpi: 300, maxPixels: DEFAULT_MAX_PIXELS };
 
-/** CPU times of the runs timed so far in this process, in order (see timed). */
-const cpuTimes: number[] = [];
-
-/** Wall time of fn, ms; its CPU time (process.cpuUsage: user + system, all threads) goes to cpuTimes. */
-async function timed(fn: () => Promise<void>): Promise<number> {
+/** Wall and CPU time of fn, ms (CPU: process.cpuUsage, user + system, every thread). */
+async function timed(fn: () => Promise<void>): Promise<{ wall: number; cpu: number }> {
   const c = process.cpuUsage();
   const t = performance.now();
   await fn();
   const wall = performance.now() - t;
   const d = process.cpuUsage(c);
-  cpuTimes.push((d.user + d.system) / 1000);
-  return wall;
+  return { wall, cpu: (d.user + d.system) / 1000 };
+}
+
+type Pairs = Omit<Sample, "peakRssMb" | "detail">;
+
+/** `runs` pairs: the floor, then the measured function, each timed. */
+async function paired(
+  runs: number,
+  floor: () => Promise<void>,
+  run: () => Promise<void>,
+): Promise<Pairs> {
+  const out: Pairs = {
+    times: [],
+    cpuTimes: [],
+    floorTimes: [],
+    floorCpuTimes: [],
+    ratios: [],
+    cpuRatios: [],
+  };
+  for (let r = 0; r < runs; r++) {
+    const f = await timed(floor);
+    const t = await timed(run);
+    out.floorTimes.push(f.wall);
+    out.floorCpuTimes.push(f.cpu);
+    out.times.push(t.wall);
+    out.cpuTimes.push(t.cpu);
+    out.ratios.push(t.wall / f.wall);
+    out.cpuRatios.push(t.cpu / f.cpu);
+  }
+  return out;
 }
 
 /** The floor for the split: sharp decodes the scan once and makes the same reduced copy, nothing else. */
-async function decodeAndReduce(file: string): Promise<number> {
+async function decodeAndReduce(file: string): Promise<void> {
   const info = await readScanInfo(file, LIMITS);
   const w = Math.round((info.width * DEFAULT_ANALYSIS_DPI) / info.dpi.x);
   const h = Math.round((info.height * DEFAULT_ANALYSIS_DPI) / info.dpi.y);
-  return timed(async () => {
-    await sharp(file, { limitInputPixels: LIMITS.maxPixels })
-      .autoOrient()
-      .resize(w, h, { fit: "fill", kernel: "linear" })
-      .toColourspace("srgb")
-      .raw({ depth: "uchar" })
-      .toBuffer();
-  });
-}
-
-async function split(file: string): Promise<number> {
-  return timed(async () => {
-    await splitScan(file, LIMITS);
-  });
+  await sharp(file, { limitInputPixels: LIMITS.maxPixels })
+    .autoOrient()
+    .resize(w, h, { fit: "fill", kernel: "linear" })
+    .toColourspace("srgb")
+    .raw({ depth: "uchar" })
+    .toBuffer();
 }
 
 type RenderModule = typeof import("../../worker/pipeline/render/index");
@@ -128,89 +157,88 @@ async function outputsFloor(
   file: string,
   outDir: string,
   fragments: SplitResult["fragments"],
-): Promise<number> {
-  return timed(async () => {
-    const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels })
-      .raw()
-      .toBuffer({ resolveWithObject: true });
-    const raw = { raw: { width: info.width, height: info.height, channels: info.channels } };
-    for (const [i, f] of fragments.entries()) {
-      const region = { left: f.box.x, top: f.box.y, width: f.box.width, height: f.box.height };
-      await sharp(data, raw)
-        .extract(region)
-        .tiff({ compression: "lzw" })
-        .toFile(path.join(outDir, `fm${i}.tif`));
-      await sharp(data, raw)
-        .extract(region)
-        .resize(2048, 2048, { fit: "inside", withoutEnlargement: true })
-        .jpeg({ quality: 88 })
-        .toFile(path.join(outDir, `fw${i}.jpg`));
-    }
-  });
+): Promise<void> {
+  const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels })
+    .raw()
+    .toBuffer({ resolveWithObject: true });
+  const raw = { raw: { width: info.width, height: info.height, channels: info.channels } };
+  for (const [i, f] of fragments.entries()) {
+    const region = { left: f.box.x, top: f.box.y, width: f.box.width, height: f.box.height };
+    await sharp(data, raw)
+      .extract(region)
+      .tiff({ compression: "lzw" })
+      .toFile(path.join(outDir, `fm${i}.tif`));
+    await sharp(data, raw)
+      .extract(region)
+      .resize(2048, 2048, { fit: "inside", withoutEnlargement: true })
+      .jpeg({ quality: 88 })
+      .toFile(path.join(outDir, `fw${i}.jpg`));
+  }
 }
 
-/** Split, then the fragments rendered by `render`; detail: the render's share per fragment. */
+/** Split, then the fragments rendered by `render`, each run paired with the outputs floor. */
 async function whole(
   file: string,
   runs: number,
   outDir: string,
   render: typeof renderEach,
-): Promise<{ times: number[]; detail: Record<string, number | string> }> {
+): Promise<Omit<Sample, "peakRssMb">> {
   const mod = await renderModule();
-  if (!mod)
-    return { times: [], detail: { skipped: "worker/pipeline/render has no renderFragments" } };
-  const times: number[] = [];
-  const perFragment: number[] = [];
-  for (let r = 0; r < runs; r++) {
-    let result: SplitResult | undefined;
-    let renderMs = 0;
-    times.push(
-      await timed(async () => {
-        result = await splitScan(file, LIMITS);
-        const t = performance.now();
-        await render(mod, file, outDir, result.fragments, result.dpi);
-        renderMs = performance.now() - t;
-      }),
-    );
-    perFragment.push(renderMs / Math.max(1, result!.fragments.length));
+  if (!mod) {
+    const none = {
+      times: [],
+      cpuTimes: [],
+      floorTimes: [],
+      floorCpuTimes: [],
+      ratios: [],
+      cpuRatios: [],
+    };
+    return { ...none, detail: { skipped: "worker/pipeline/render has no renderFragments" } };
   }
-  return { times, detail: { renderPerFragmentMs: median(perFragment) } };
+  const { fragments } = await splitScan(file, LIMITS);
+  const perFragment: number[] = [];
+  const pairs = await paired(
+    runs,
+    () => outputsFloor(file, outDir, fragments),
+    async () => {
+      const result = await splitScan(file, LIMITS);
+      const t = performance.now();
+      await render(mod, file, outDir, result.fragments, result.dpi);
+      perFragment.push((performance.now() - t) / Math.max(1, result.fragments.length));
+    },
+  );
+  return { ...pairs, detail: { renderPerFragmentMs: median(perFragment) } };
 }
 
 type Measurement = (
   file: string,
   runs: number,
   outDir: string,
-) => Promise<{ times: number[]; detail?: Sample["detail"] }>;
+) => Promise<Omit<Sample, "peakRssMb">>;
 
 export const MEASUREMENTS: Record<string, Measurement> = {
-  floor: async (file, runs) => {
-    const times: number[] = [];
-    for (let r = 0; r < runs; r++) times.push(await decodeAndReduce(file));
-    return { times };
-  },
+  /** The whole split (header, decode into the reduced copy, analysis), paired with the floor. */
   split: async (file, runs) => {
-    const times: number[] = [];
-    for (let r = 0; r < runs; r++) times.push(await split(file));
+    const pairs = await paired(
+      runs,
+      () => decodeAndReduce(file),
+      async () => {
+        await splitScan(file, LIMITS);
+      },
+    );
     const result = await splitScan(file, LIMITS);
     return {
-      times,
+      ...pairs,
       detail: {
         fragments: result.fragments.length,
         analysisPx: `${result.analysis.width}x${result.analysis.height}`,
       },
     };
   },
-  /** Split, then every fragment rendered from one decode (renderFragments): times are the whole. */
+  /** Split, then every fragment rendered from one decode (renderFragments). */
   whole: (file, runs, outDir) => whole(file, runs, outDir, renderBatch),
   /** Split, then one renderFragment call per fragment (one render job each, as the worker queues them). */
   wholeEach: (file, runs, outDir) => whole(file, runs, outDir, renderEach),
-  outputsFloor: async (file, runs, outDir) => {
-    const { fragments } = await splitScan(file, LIMITS);
-    const times: number[] = [];
-    for (let r = 0; r < runs; r++) times.push(await outputsFloor(file, outDir, fragments));
-    return { times };
-  },
 };
 
 export function median(values: number[]): number {
@@ -233,5 +261,5 @@ if (process.argv[1] && path.resolve(process.argv[1]) === path.resolve(import.met
   await fs.mkdir(outDir, { recursive: true });
   const sample = await measure(file, Number(runs) || 3, outDir);
   const peakRssMb = process.resourceUsage().maxRSS / 1024;
-  process.stdout.write(JSON.stringify({ ...sample, cpuTimes, peakRssMb }) + "\n");
+  process.stdout.write(JSON.stringify({ ...sample, peakRssMb }) + "\n");
 }

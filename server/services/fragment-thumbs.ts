@@ -1,5 +1,6 @@
 import sharp from "sharp";
 import type { Storage } from "../storage/storage";
+import { AppError } from "../errors";
 import { boxOfPoints, rectCorners, rotatePoint } from "../../shared/geometry";
 import type { Box, Rect } from "../../shared/schemas/fragments";
 
@@ -20,7 +21,8 @@ export async function fragmentThumb(
 ): Promise<string> {
   const key = fragmentThumbKey(f.id, f.revision);
   if (await library.exists(key)) return key;
-  if (!scan.previewKey || !scan.width) throw new Error("The scan has no preview yet.");
+  // Not a server fault: the picture cannot exist until the scan has its preview (or if it failed).
+  if (!scan.previewKey || !scan.width) throw new AppError(404, "not_found", "This fragment has no picture yet: its scan has no preview.");
   const upright = await library.withLocalFile(scan.previewKey, (previewPath) =>
     cutFromPreview(previewPath, f, scan.width!),
   );

@@ -190,8 +190,15 @@ export async function previewInvitation(db: Db, token: string): Promise<Invitati
  * spent, in one transaction. Two tabs accepting at once: one wins, the other is told it was used.
  */
 export async function acceptInvitation(db: Db, cfg: Config, body: AcceptInvitationBody): Promise<UserRow> {
-  const passwordHash = await bcrypt.hash(body.password, cfg.bcryptCost);
   const hash = hashToken(body.token);
+  // A dead token is refused before the (deliberately slow) password hash, so requests with made-up
+  // tokens cost a lookup, not a bcrypt round; the claim below still decides, atomically.
+  const [live] = await db
+    .select({ id: invitations.id })
+    .from(invitations)
+    .where(and(eq(invitations.tokenHash, hash), open, gt(invitations.expiresAt, new Date())));
+  if (!live) throw await refusal(db, body.token);
+  const passwordHash = await bcrypt.hash(body.password, cfg.bcryptCost);
   const user = await db.transaction(async (tx) => {
     const [claimed] = await tx
       .update(invitations)

@@ -88,6 +88,10 @@ export async function previewPasswordReset(db: Db, token: string): Promise<{ ema
  * account (the caller then signs this browser in afresh).
  */
 export async function completePasswordReset(db: Db, cfg: Config, token: string, password: string): Promise<UserRow> {
+  // A dead token is refused before the (deliberately slow) password hash, so requests with made-up
+  // tokens cost a lookup, not a bcrypt round; the claim below still decides, atomically.
+  const [live] = await db.select({ id: passwordResets.id }).from(passwordResets).where(usable(hashToken(token)));
+  if (!live) throw await refusal(db, token);
   const passwordHash = await bcrypt.hash(password, cfg.bcryptCost);
   const user = await db.transaction(async (tx) => {
     const [claimed] = await tx.update(passwordResets).set({ usedAt: new Date() }).where(usable(hashToken(token))).returning();
