@@ -349,3 +349,31 @@ describe("uploads", () => {
     expect(again.attempts).toBeGreaterThanOrEqual(1);
   });
 });
+
+// Last in this file: it exhausts this address's sign-in allowance.
+describe("sign-in from one address trying many e-mails", () => {
+  it("is stopped by a looser limit per address, and the stopped attempts are not recorded", async () => {
+    const failedRows = async () =>
+      (await stack.database.pool.query("select count(*)::int as n from audit_events where action = 'auth.sign_in_failed'")).rows[0].n as number;
+    const agent = stack.agent();
+    let stopped: supertest.Response | undefined;
+    // PLATEN_LOGIN_LIMIT is 5 here: ten times that per address, whatever the e-mails.
+    for (let i = 0; i < 60 && !stopped; i++) {
+      const res = await agent.post("/api/auth/login").send({ email: `spray-${i}@test.example`, password: "guess" });
+      if (res.status === 429) stopped = res;
+      else expect(res.status).toBe(401);
+    }
+    expect(stopped?.body.error.message).toBe("Too many sign-in attempts from this address. Wait 15 minutes and try again.");
+    const before = await failedRows();
+    for (let i = 0; i < 5; i++) expect((await agent.post("/api/auth/login").send({ email: `more-${i}@test.example`, password: "guess" })).status).toBe(429);
+    expect(await failedRows()).toBe(before);
+  });
+
+  it("refuses a malformed sign-in before counting or recording it", async () => {
+    const res = await stack.agent().post("/api/auth/login").send({ email: "my secret password", password: "x" });
+    expect(res.status).toBe(400);
+    expect(res.body.error.field).toBe("email");
+    const { rows } = await stack.database.pool.query("select count(*)::int as n from audit_events where summary like '%my secret password%'");
+    expect(rows[0].n).toBe(0);
+  });
+});

@@ -2,6 +2,8 @@ import { Router, type RequestHandler } from "express";
 import { ipKeyGenerator, rateLimit } from "express-rate-limit";
 import type passport from "passport";
 import { API } from "../../../shared/api";
+import { loginBody } from "../../../shared/schemas/auth";
+import { zodMessage } from "../../middleware/errors";
 import { handle } from "../define";
 import { AppError, tooManyRequests } from "../../errors";
 import { presentSessionUser } from "../../presenters/user";
@@ -27,6 +29,33 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
       next(tooManyRequests(`Too many sign-in attempts. Wait ${minutes} minutes and try again.`));
     },
   });
+
+  // Per address alone, ten times looser: one address trying many e-mails is stopped too, and
+  // cannot grow the audit trail (which keeps every failed sign-in) without bound.
+  const addressLimiter = rateLimit({
+    windowMs: cfg.loginWindowMs,
+    limit: cfg.loginLimit * 10,
+    standardHeaders: "draft-8",
+    legacyHeaders: false,
+    skipSuccessfulRequests: true,
+    keyGenerator: (req) => ipKeyGenerator(req.ip ?? ""),
+    handler: (_req, _res, next) => {
+      const minutes = Math.round(cfg.loginWindowMs / 60_000);
+      next(tooManyRequests(`Too many sign-in attempts from this address. Wait ${minutes} minutes and try again.`));
+    },
+  });
+
+  // The body is checked before anything counts or records it: only a well-formed e-mail address
+  // ever reaches the limiter's key or the audit trail (never, say, a password typed in the wrong box).
+  const wellFormed: RequestHandler = (req, _res, next) => {
+    const parsed = loginBody.safeParse(req.body ?? {});
+    if (!parsed.success) {
+      const { message, field } = zodMessage(parsed.error, "body");
+      return next(new AppError(400, "bad_request", message, field));
+    }
+    req.body = parsed.data;
+    next();
+  };
 
   const authenticate: RequestHandler = (req, res, next) => {
     pp.authenticate("local", (err: unknown, user: Express.User | false, info?: { message?: string }) => {
@@ -65,7 +94,7 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
     })(req, res, next);
   };
 
-  handle(router, API.login, () => undefined, [limiter, authenticate]);
+  handle(router, API.login, () => undefined, [wellFormed, addressLimiter, limiter, authenticate]);
 
   handle(router, API.logout, async ({ req, res, user }) => {
     await recordAudit(deps.database.db, { action: "auth.sign_out", subjectType: "user", subjectId: user.id, summary: `${user.email} signed out` });
