@@ -46,7 +46,9 @@ export interface DecodedScan {
 
 /**
  * Decodes the scan once into a temporary .v file in a private folder of the system's temp
- * directory. Memory: libvips streams the decode, so no full-resolution copy is held in the heap.
+ * directory, which needs room for it: width × height × channels × bytes per sample (104 MB for
+ * an 8-bit A4 page at 600 DPI). Memory: libvips streams the decode, so no full-resolution copy is
+ * held in the heap; reading it back maps the file.
  * Throws ScanError (truncated, too_large, unreadable) when the scan's data cannot be decoded.
  * Example: a 4961 × 7016 px 8-bit RGB scan → a 104 MB file, read back region by region.
  */

@@ -1,7 +1,8 @@
 /**
  * Render of one approved fragment: cut it from the full-resolution scan (decoding only the region
  * around it, once), turn it upright, and write an archival master and a web copy, each under a
- * temporary name renamed into place when complete. The scan is only read.
+ * temporary name renamed into place when complete. The scan is only read. renderFragments does
+ * the same for several fragments of one scan from a single decode of it.
  */
 import fs from "node:fs/promises";
 import path from "node:path";
