@@ -5,6 +5,7 @@
  * `npx tsx scripts/bench/batch.ts`.
  */
 import { spawn, type ChildProcess } from "node:child_process";
+import fsSync from "node:fs";
 import fs from "node:fs/promises";
 import os from "node:os";
 import path from "node:path";
@@ -22,6 +23,20 @@ export interface BatchBench {
   twoWorkersPerSecond: number;
   speedUp: number;
   queueOverheadMsPerJob: number;
+  /** Cores the worker processes kept busy on average (from /proc), and the machine's cores. */
+  oneWorkerCores: number;
+  twoWorkersCores: number;
+  cores: number;
+}
+
+/** User + system CPU seconds of a running process, all its threads (Linux /proc/<pid>/stat). */
+function cpuSeconds(pid: number): number {
+  try {
+    const fields = fsSync.readFileSync(`/proc/${pid}/stat`, "utf8").split(") ")[1]!.split(" ");
+    return (Number(fields[11]) + Number(fields[12])) / 100; // utime, stime in clock ticks (USER_HZ 100)
+  } catch {
+    return NaN;
+  }
 }
 
 async function withDatabase<T>(fn: (url: string, dir: string) => Promise<T>): Promise<T> {
@@ -112,12 +127,14 @@ export async function benchBatch(): Promise<BatchBench> {
       const batch = await createOutputBatch(database, boss, user!.id, { selection: { fragmentIds: ids }, presetIds });
       while (!(await getBatch(database.db, batch.id)).finishedAt) await new Promise((r) => setTimeout(r, 200));
       const s = (performance.now() - t0) / 1000;
+      // CPU the worker processes used (all their threads), from /proc: cores busy on average.
+      const cores = children.reduce((sum, c) => sum + cpuSeconds(c.pid!), 0) / s;
       children.forEach((c) => c.kill("SIGTERM"));
       await Promise.all(children.map(stopped));
-      return (await getBatch(database.db, batch.id)).counts.done / s;
+      return { perSecond: (await getBatch(database.db, batch.id)).counts.done / s, cores };
     };
-    const one = await timed(setA, 1);
-    const two = await timed(setB, 2);
+    const { perSecond: one, cores: oneCores } = await timed(setA, 1);
+    const { perSecond: two, cores: twoCores } = await timed(setB, 2);
 
     // The queue's own cost: jobs whose handler does nothing, one worker loop, counted end to end.
     const NOOP = "bench-noop";
@@ -147,6 +164,9 @@ export async function benchBatch(): Promise<BatchBench> {
       twoWorkersPerSecond: Math.round(two * 100) / 100,
       speedUp: Math.round((two / one) * 100) / 100,
       queueOverheadMsPerJob: Math.round(overhead * 10) / 10,
+      oneWorkerCores: Math.round(oneCores * 100) / 100,
+      twoWorkersCores: Math.round(twoCores * 100) / 100,
+      cores: os.cpus().length,
     };
   });
 }
@@ -156,6 +176,8 @@ export function formatBatchBench(b: BatchBench): string {
     `batch of ${FRAGMENTS} fragments × ${PRESET_NAMES.length} presets (${PRESET_NAMES.join(", ")}): ${b.outputs} outputs`,
     `  one worker  ${b.oneWorkerPerSecond} outputs/s  (each worker: one job, one libvips thread)`,
     `  two workers ${b.twoWorkersPerSecond} outputs/s  (${b.speedUp}× one; target ≥ 1.7×)`,
+    `  cores busy: one worker ${b.oneWorkerCores}, two workers ${b.twoWorkersCores} of ${b.cores}` +
+      ` (so at most ${Math.round((Math.min(b.cores, 2 * b.oneWorkerCores) / b.oneWorkerCores) * 100) / 100}× on this machine)`,
     `  queue overhead ${b.queueOverheadMsPerJob} ms per job (no-op jobs; target ≤ 20 ms)`,
     "",
   ].join("\n");
