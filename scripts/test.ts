@@ -2,7 +2,7 @@ import { spawnSync } from "node:child_process";
 import fs from "node:fs";
 import path from "node:path";
 import { loadConfig } from "../server/config";
-import { startCluster, stopCluster } from "./lib/pg-cluster";
+import { portForPrivateRuns, startCluster, stopCluster } from "./lib/pg-cluster";
 import { clusterOptions } from "./lib/prepare";
 
 /**
@@ -13,6 +13,7 @@ import { clusterOptions } from "./lib/prepare";
 const cfg = loadConfig();
 const root = cfg.root;
 const cluster = clusterOptions(cfg);
+cluster.port = portForPrivateRuns(cluster);
 const started = startCluster({ ...cluster, log: (l) => console.log(l) });
 // Runs at the same time share the cluster: each leaves a mark, and the last one out stops it
 // (if it was this script that started it).

@@ -41,17 +41,19 @@ function cpuSeconds(pid: number): number {
 
 async function withDatabase<T>(fn: (url: string, dir: string) => Promise<T>): Promise<T> {
   const { loadConfig } = await import("../../server/config");
-  const { startCluster } = await import("../lib/pg-cluster");
+  const { portForPrivateRuns, startCluster } = await import("../lib/pg-cluster");
   const cfg = loadConfig();
-  startCluster({ dir: path.join(cfg.dataDir, "pg"), port: cfg.dbPort, log: () => {} });
-  const admin = `postgres://platen@127.0.0.1:${cfg.dbPort}/postgres`;
+  const cluster = { dir: path.join(cfg.dataDir, "pg"), port: cfg.dbPort, log: () => {} };
+  cluster.port = portForPrivateRuns(cluster);
+  startCluster(cluster);
+  const admin = `postgres://platen@127.0.0.1:${cluster.port}/postgres`;
   const name = `platen_bench_${process.pid}`;
   const c = new pg.Client({ connectionString: admin });
   await c.connect();
   await c.query(`create database ${name}`);
   const dir = await fs.mkdtemp(path.join(os.tmpdir(), "platen-bench-batch-"));
   try {
-    return await fn(`postgres://platen@127.0.0.1:${cfg.dbPort}/${name}`, dir);
+    return await fn(`postgres://platen@127.0.0.1:${cluster.port}/${name}`, dir);
   } finally {
     await c.query(`drop database if exists ${name} with (force)`);
     await c.end();

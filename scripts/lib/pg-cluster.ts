@@ -84,6 +84,11 @@ export function startCluster(opts: ClusterOptions): boolean {
     ]);
   }
   if (isRunning(opts)) return false;
+  if (!portFree(opts.port)) {
+    throw new Error(
+      `Port ${opts.port} on 127.0.0.1 is already taken (another PostgreSQL, perhaps another Platen checkout's). Stop it, or set PLATEN_DB_PORT to a free port.`,
+    );
+  }
   const logFile = path.join(opts.dir, "postgres.log");
   const serverOpts = `-p ${opts.port} -h 127.0.0.1 -k ${data} -c max_connections=300 -c fsync=on`;
   asServerUser(path.join(bin, "pg_ctl"), ["-D", data, "-l", logFile, "-w", "-t", "60", "-o", serverOpts, "start"]);
@@ -95,4 +100,40 @@ export function stopCluster(opts: ClusterOptions): void {
   const bin = findBinDir();
   if (!bin || !isRunning(opts)) return;
   asServerUser(path.join(bin, "pg_ctl"), ["-D", dataDir(opts), "-m", "fast", "-w", "stop"]);
+}
+
+/** The port the cluster is running on (postmaster.pid's fourth line), or null when it is not running. */
+export function runningPort(opts: ClusterOptions): number | null {
+  if (!isRunning(opts)) return null;
+  try {
+    const port = Number(fs.readFileSync(path.join(dataDir(opts), "postmaster.pid"), "utf8").split("\n")[3]);
+    return Number.isInteger(port) && port > 0 ? port : null;
+  } catch {
+    return null;
+  }
+}
+
+/**
+ * The port for a cluster that only this machine's test and benchmark runs use: the one it runs on
+ * already, else the configured one if it is free, else any free port (so a clean clone tests
+ * beside a checkout whose own cluster holds the configured port).
+ */
+export function portForPrivateRuns(opts: ClusterOptions): number {
+  return runningPort(opts) ?? (portFree(opts.port) ? opts.port : freePort());
+}
+
+const NODE_NET = 'const s = require("node:net").createServer();';
+
+/** True when nothing listens on 127.0.0.1:`port` (checked by listening there for a moment). */
+function portFree(port: number): boolean {
+  const script = `${NODE_NET} s.once("error", () => process.exit(1)); s.listen(${port}, "127.0.0.1", () => s.close(() => process.exit(0)));`;
+  return spawnSync(process.execPath, ["-e", script], { stdio: "ignore" }).status === 0;
+}
+
+/** A port the system reports free on 127.0.0.1 just now. */
+function freePort(): number {
+  const script = `${NODE_NET} s.listen(0, "127.0.0.1", () => { process.stdout.write(String(s.address().port)); s.close(); });`;
+  const port = Number(spawnSync(process.execPath, ["-e", script], { encoding: "utf8" }).stdout);
+  if (!Number.isInteger(port) || port <= 0) throw new Error("Could not find a free port on 127.0.0.1 for the test database");
+  return port;
 }
