@@ -1,9 +1,9 @@
 import type { ChildProcess } from "node:child_process";
 import os from "node:os";
-import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
 import { spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { pieceBed as bed } from "./helpers/fixtures";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { PresetSummary } from "../shared/schemas/preset-api";
 
@@ -19,17 +19,6 @@ const PIECES = [2, 3, 2, 3, 2];
 let stack: Stack;
 let operator: supertest.Agent;
 const children: { name: string; child: ChildProcess; lines: string[] }[] = [];
-
-/** A 300 DPI bed with `n` coloured pieces; each scan differs so none is taken as a duplicate. */
-async function bed(seed: number, n: number) {
-  const rects = Array.from({ length: n }, (_, i) => {
-    const x = 80 + i * 360;
-    const hue = (seed * 53 + i * 97) % 360;
-    return `<rect x="${x}" y="${90 + seed * 7}" width="${260 + seed * 3}" height="${330 - i * 20}" fill="hsl(${hue},55%,42%)"/>`;
-  }).join("");
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="${n * 360 + 120}" height="560"><rect width="100%" height="100%" fill="#f6f5f1"/>${rects}</svg>`;
-  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
-}
 
 function startWorkerProcess(name: string) {
   const child = spawnProcess("worker/main.ts", { ...stack.env, PLATEN_PROCESS: name, LOG_LEVEL: "info", PLATEN_WORKER_CONCURRENCY: "2" });

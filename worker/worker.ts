@@ -42,52 +42,127 @@ export async function startWorker(deps: WorkerDeps) {
   const mailDeps = { ...deps, mailer: deps.mailer ?? createMailer(config.mail, log) };
   if (!mailDeps.mailer.enabled) log.warn({ reason: mailDeps.mailer.reason }, "notices are off");
 
-  const handlers: Record<string, (deps: WorkerDeps, data: unknown, ctx: JobContext) => Promise<void>> = {
-    [QUEUES.analyse]: analyseScan,
-    [QUEUES.split]: splitScanJob,
-    [QUEUES.render]: renderFragmentJob,
-    [QUEUES.output]: outputJob,
+  type Handler = (deps: WorkerDeps, data: unknown, ctx: JobContext) => Promise<void>;
+  // The image queues share one pool of PLATEN_WORKER_CONCURRENCY slots: the bound on how many
+  // scans this process holds in memory at once, whichever queues they come from. In the order
+  // they are looked at: a scan someone is waiting to review first, batch copies last.
+  const imageHandlers: [string, Handler][] = [
+    [QUEUES.analyse, analyseScan],
+    [QUEUES.split, splitScanJob],
+    [QUEUES.render, renderFragmentJob],
+    [QUEUES.output, outputJob],
+  ];
+  // Light jobs (network and mail) run beside them, each queue with its own few loops.
+  const lightHandlers: [string, Handler][] = [
     // Off-site copies: only on workers that have the off-site bucket configured.
-    ...(deps.offsite ? { [QUEUES.offsiteCopy]: offsiteCopyJob, [QUEUES.offsiteCheck]: offsiteCheckJob } : {}),
-    [QUEUES.notice]: (_d, data, ctx) => noticeJob(mailDeps, data, ctx),
-    [QUEUES.mail]: (_d, data, ctx) => mailSendJob(mailDeps, data, ctx),
+    ...(deps.offsite ? ([[QUEUES.offsiteCopy, offsiteCopyJob], [QUEUES.offsiteCheck, offsiteCheckJob]] as [string, Handler][]) : []),
+    [QUEUES.notice, (_d, data, ctx) => noticeJob(mailDeps, data, ctx)],
+    [QUEUES.mail, (_d, data, ctx) => mailSendJob(mailDeps, data, ctx)],
+  ];
+
+  /** Runs one job's handler, logging the outcome; throws what the handler threw. */
+  const run = async (handler: Handler, job: PgBoss.JobWithMetadata<unknown>) => {
+    const ctx = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal };
+    const started = performance.now();
+    try {
+      await handler(deps, job.data, ctx);
+      // One line per finished job, naming this process: how an operator (and the two-worker
+      // test) tells which machine ran what.
+      log.info({ jobId: job.id, queue: job.name, attempt: job.retryCount + 1, ms: Math.round(performance.now() - started) }, "job done");
+    } catch (err) {
+      log.error({ err, jobId: job.id, queue: job.name, data: job.data, retryCount: job.retryCount }, "job failed");
+      throw err;
+    }
   };
+
   const workerIds: string[] = [];
-  for (const [queue, handler] of Object.entries(handlers)) {
+  for (const [queue, handler] of lightHandlers) {
     for (let i = 0; i < config.workerConcurrency; i++) {
       let self: string | undefined;
       workerIds.push(
         (self = await boss.work(queue, { batchSize: 1, includeMetadata: true, pollingIntervalSeconds: 0.5 }, async (jobs) => {
           // Having found work, look again at once instead of waiting out the polling interval.
           if (self) boss.notifyWorker(self);
-          for (const job of jobs) {
-            const ctx = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal };
-            const started = performance.now();
-            try {
-              await handler(deps, job.data, ctx);
-              // One line per finished job, naming this process: how an operator (and the
-              // two-worker test) tells which machine ran what.
-              log.info({ jobId: job.id, queue: job.name, attempt: job.retryCount + 1, ms: Math.round(performance.now() - started) }, "job done");
-            } catch (err) {
-              log.error({ err, jobId: job.id, queue: job.name, data: job.data, retryCount: job.retryCount }, "job failed");
-              throw err;
-            }
-          }
+          for (const job of jobs) await run(handler, job);
         })),
       );
     }
   }
+
+  // The image loop: a job is fetched only when a slot is free, so a busy worker never holds
+  // jobs another machine could be running.
+  const inHand = new Set<Promise<void>>();
+  let accepting = true;
+  let wake: (() => void) | null = null;
+  const nap = (ms: number) =>
+    new Promise<void>((resolve) => {
+      const t = setTimeout(() => ((wake = null), resolve()), ms);
+      wake = () => (clearTimeout(t), (wake = null), resolve());
+    });
+  const fetchNext = async () => {
+    for (const [queue, handler] of imageHandlers) {
+      const [job] = await boss.fetch(queue, { batchSize: 1, includeMetadata: true });
+      if (job) return { job, handler };
+    }
+    return null;
+  };
+  const imageLoop = (async () => {
+    while (accepting) {
+      if (inHand.size >= config.workerConcurrency) {
+        await nap(1000);
+        continue;
+      }
+      let next: Awaited<ReturnType<typeof fetchNext>> = null;
+      try {
+        next = await fetchNext();
+      } catch (err) {
+        log.warn({ err }, "worker: could not fetch a job; trying again shortly");
+      }
+      if (!accepting && next) {
+        // Asked to stop between the fetch and now: hand it straight back.
+        await boss.fail(next.job.name, next.job.id, { message: "the worker stopped before starting it" }).catch(() => {});
+        break;
+      }
+      if (!next) {
+        await nap(500);
+        continue;
+      }
+      const { job, handler } = next;
+      // As the queue's own workers do: a job past its expiry is failed (and so retried) and its
+      // slot freed, even if its handler never returns.
+      let timer: NodeJS.Timeout | undefined;
+      const expiry = new Promise<never>((_, reject) => {
+        timer = setTimeout(() => reject(new Error(`The job took longer than ${job.expireInSeconds} s and was given up`)), job.expireInSeconds * 1000);
+      });
+      const p: Promise<void> = Promise.race([run(handler, job), expiry])
+        .finally(() => clearTimeout(timer))
+        .then(
+          () => boss.complete(job.name, job.id),
+          (err: unknown) => boss.fail(job.name, job.id, err instanceof Error ? { message: err.message, stack: err.stack } : { message: String(err) }),
+        )
+        .then(() => undefined)
+        .catch((err: unknown) => log.error({ err, jobId: job.id }, "worker: could not record a job's outcome"))
+        .finally(() => {
+          inHand.delete(p);
+          wake?.();
+        });
+      inHand.add(p);
+    }
+  })();
   log.info({ concurrency: config.workerConcurrency, heartbeat: heartbeat.id }, "worker ready");
 
   return {
     heartbeatId: heartbeat.id,
     /** Stops taking jobs, lets the ones in hand finish (up to `timeoutMs`), then releases the rest. */
     async stop(timeoutMs = 20_000) {
+      accepting = false;
+      wake?.();
       for (const id of workerIds) await boss.offWork({ id } as unknown as string).catch(() => {});
-      const done = boss.stop({ graceful: true, timeout: timeoutMs, wait: true });
       // Past the grace period, ask long-running steps to give up so the job is released for retry.
       const t = setTimeout(() => stopping.abort(), Math.max(timeoutMs - 500, 0));
-      await done;
+      await imageLoop;
+      await Promise.all([...inHand]);
+      await boss.stop({ graceful: true, timeout: timeoutMs, wait: true });
       clearTimeout(t);
       await heartbeat.stop();
       await notify(deps.database.pool, { kind: "worker" }).catch(() => {});

@@ -33,3 +33,14 @@ export async function writeSlowly(file: string, data: Buffer, chunks = 6, pauseM
     await fh.close();
   }
 }
+
+/** A 300 DPI bed with `n` coloured pieces in a row; each seed differs, so none is taken as a duplicate. */
+export async function pieceBed(seed: number, n: number) {
+  const rects = Array.from({ length: n }, (_, i) => {
+    const x = 80 + i * 360;
+    const hue = (seed * 53 + i * 97) % 360;
+    return `<rect x="${x}" y="${90 + seed * 7}" width="${260 + seed * 3}" height="${330 - i * 20}" fill="hsl(${hue},55%,42%)"/>`;
+  }).join("");
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="${n * 360 + 120}" height="560"><rect width="100%" height="100%" fill="#f6f5f1"/>${rects}</svg>`;
+  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+}
