@@ -16,6 +16,7 @@ import { noticeJob } from "./jobs/mail-notice";
 import { mailSendJob } from "./jobs/mail-send";
 import { createMailer, type Mailer } from "../server/mail/mailer";
 import type { JobContext } from "./jobs/context";
+import { startSlotLoop } from "./slot-loop";
 
 export interface WorkerDeps {
   config: Config;
@@ -91,77 +92,18 @@ export async function startWorker(deps: WorkerDeps) {
 
   // The image loop: a job is fetched only when a slot is free, so a busy worker never holds
   // jobs another machine could be running.
-  const inHand = new Set<Promise<void>>();
-  let accepting = true;
-  let wake: (() => void) | null = null;
-  const nap = (ms: number) =>
-    new Promise<void>((resolve) => {
-      const t = setTimeout(() => ((wake = null), resolve()), ms);
-      wake = () => (clearTimeout(t), (wake = null), resolve());
-    });
-  const fetchNext = async () => {
-    for (const [queue, handler] of imageHandlers) {
-      const [job] = await boss.fetch(queue, { batchSize: 1, includeMetadata: true });
-      if (job) return { job, handler };
-    }
-    return null;
-  };
-  const imageLoop = (async () => {
-    while (accepting) {
-      if (inHand.size >= config.workerConcurrency) {
-        await nap(1000);
-        continue;
-      }
-      let next: Awaited<ReturnType<typeof fetchNext>> = null;
-      try {
-        next = await fetchNext();
-      } catch (err) {
-        log.warn({ err }, "worker: could not fetch a job; trying again shortly");
-      }
-      if (!accepting && next) {
-        // Asked to stop between the fetch and now: hand it straight back.
-        await boss.fail(next.job.name, next.job.id, { message: "the worker stopped before starting it" }).catch(() => {});
-        break;
-      }
-      if (!next) {
-        await nap(500);
-        continue;
-      }
-      const { job, handler } = next;
-      // As the queue's own workers do: a job past its expiry is failed (and so retried) and its
-      // slot freed, even if its handler never returns.
-      let timer: NodeJS.Timeout | undefined;
-      const expiry = new Promise<never>((_, reject) => {
-        timer = setTimeout(() => reject(new Error(`The job took longer than ${job.expireInSeconds} s and was given up`)), job.expireInSeconds * 1000);
-      });
-      const p: Promise<void> = Promise.race([run(handler, job), expiry])
-        .finally(() => clearTimeout(timer))
-        .then(
-          () => boss.complete(job.name, job.id),
-          (err: unknown) => boss.fail(job.name, job.id, err instanceof Error ? { message: err.message, stack: err.stack } : { message: String(err) }),
-        )
-        .then(() => undefined)
-        .catch((err: unknown) => log.error({ err, jobId: job.id }, "worker: could not record a job's outcome"))
-        .finally(() => {
-          inHand.delete(p);
-          wake?.();
-        });
-      inHand.add(p);
-    }
-  })();
+  const imageLoop = startSlotLoop({ boss, log, slots: config.workerConcurrency, queues: imageHandlers.map(([queue, handler]) => ({ queue, run: (job) => run(handler, job) })) });
   log.info({ concurrency: config.workerConcurrency, heartbeat: heartbeat.id }, "worker ready");
 
   return {
     heartbeatId: heartbeat.id,
     /** Stops taking jobs, lets the ones in hand finish (up to `timeoutMs`), then releases the rest. */
     async stop(timeoutMs = 20_000) {
-      accepting = false;
-      wake?.();
+      const loopDone = imageLoop.stop();
       for (const id of workerIds) await boss.offWork({ id } as unknown as string).catch(() => {});
       // Past the grace period, ask long-running steps to give up so the job is released for retry.
       const t = setTimeout(() => stopping.abort(), Math.max(timeoutMs - 500, 0));
-      await imageLoop;
-      await Promise.all([...inHand]);
+      await loopDone;
       await boss.stop({ graceful: true, timeout: timeoutMs, wait: true });
       clearTimeout(t);
       await heartbeat.stop();

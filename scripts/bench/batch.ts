@@ -143,20 +143,25 @@ export async function benchBatch(): Promise<BatchBench> {
     await boss.createQueue(NOOP, { name: NOOP });
     const N = 200;
     let seen = 0;
-    // The same loop the worker runs (worker/worker.ts): one job at a time, looking again at once after work.
-    let noopId: string | undefined;
-    const allDone = new Promise<void>((resolve) => {
-      void boss
-        .work(NOOP, { batchSize: 1, pollingIntervalSeconds: 0.5 }, async () => {
-          if (noopId) boss.notifyWorker(noopId);
-          if (++seen === N) resolve();
-        })
-        .then((id) => (noopId = id));
-    });
+    // The loop the worker runs its image jobs with (worker/slot-loop.ts), one slot, as a worker
+    // with PLATEN_WORKER_CONCURRENCY=1; the no-op queue is looked at after the four image queues
+    // (all empty here), as the batch's output jobs are.
+    const { startSlotLoop } = await import("../../worker/slot-loop");
+    const { QUEUES } = await import("../../server/jobs/queues");
+    let allSeen: () => void = () => {};
+    const allDone = new Promise<void>((resolve) => (allSeen = resolve));
+    const image = [QUEUES.analyse, QUEUES.split, QUEUES.render, QUEUES.output];
     const t0 = performance.now();
     await boss.insert(Array.from({ length: N }, () => ({ name: NOOP, data: {} })));
+    const loop = startSlotLoop({
+      boss,
+      log: logger,
+      slots: 1,
+      queues: [...image.map((queue) => ({ queue, run: async () => {} })), { queue: NOOP, run: async () => void (++seen === N && allSeen()) }],
+    });
     await allDone;
     const overhead = (performance.now() - t0) / N;
+    await loop.stop();
     await boss.stop({ graceful: false, wait: true });
     await database.db.delete(schema.batchItems).where(eq(schema.batchItems.state, "queued"));
     await database.close();
