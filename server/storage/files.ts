@@ -103,3 +103,14 @@ export async function walk(dir: string): Promise<string[]> {
   await visit("");
   return out;
 }
+
+/** Runs `fn` with a fresh folder under `parent`, removed afterwards whatever happens. */
+export async function withScratchDir<T>(parent: string, fn: (dir: string) => Promise<T>): Promise<T> {
+  await fsp.mkdir(parent, { recursive: true });
+  const dir = await fsp.mkdtemp(path.join(parent, "work-"));
+  try {
+    return await fn(dir);
+  } finally {
+    await fsp.rm(dir, { recursive: true, force: true });
+  }
+}

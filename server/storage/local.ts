@@ -2,7 +2,7 @@ import fsp from "node:fs/promises";
 import path from "node:path";
 import type { Readable } from "node:stream";
 import { checkKey, checkPrefix, isWriteOnce } from "./keys";
-import { copyHashed, fsyncDir, fsyncFile, hashFile, randomName, walk } from "./files";
+import { copyHashed, fsyncDir, fsyncFile, hashFile, randomName, walk, withScratchDir } from "./files";
 import {
   StorageError,
   missing,
@@ -194,14 +194,8 @@ export class LocalStorage implements Storage {
     return fn(this.pathFor(key));
   }
 
-  async withScratch<T>(fn: (dir: string) => Promise<T>): Promise<T> {
-    await fsp.mkdir(this.scratchDir, { recursive: true });
-    const dir = await fsp.mkdtemp(path.join(this.scratchDir, "work-"));
-    try {
-      return await fn(dir);
-    } finally {
-      await fsp.rm(dir, { recursive: true, force: true });
-    }
+  withScratch<T>(fn: (dir: string) => Promise<T>): Promise<T> {
+    return withScratchDir(this.scratchDir, fn);
   }
 
   private mapError(err: unknown, key: string): Error {

@@ -13,7 +13,7 @@ import {
 } from "@aws-sdk/client-s3";
 import { Upload } from "@aws-sdk/lib-storage";
 import { checkKey, checkPrefix, contentTypeFor, isWriteOnce } from "./keys";
-import { copyHashed, hashFile, hashStream, randomName } from "./files";
+import { copyHashed, hashFile, hashStream, randomName, withScratchDir } from "./files";
 import { LocalCache } from "./cache";
 import {
   StorageError,
@@ -280,14 +280,8 @@ export class S3Storage implements Storage {
     );
   }
 
-  async withScratch<T>(fn: (dir: string) => Promise<T>): Promise<T> {
-    await fsp.mkdir(this.scratchDir, { recursive: true });
-    const dir = await fsp.mkdtemp(path.join(this.scratchDir, "work-"));
-    try {
-      return await fn(dir);
-    } finally {
-      await fsp.rm(dir, { recursive: true, force: true });
-    }
+  withScratch<T>(fn: (dir: string) => Promise<T>): Promise<T> {
+    return withScratchDir(this.scratchDir, fn);
   }
 
   private mapError(err: unknown, key: string): Error {
