@@ -72,11 +72,8 @@ export function startSlotLoop(opts: { boss: PgBoss; log: Logger; slots: number; 
       } catch (err) {
         log.warn({ err }, "worker: could not fetch a job; trying again shortly");
       }
-      if (!accepting && next) {
-        // Asked to stop between the fetch and now: hand it straight back.
-        await boss.fail(next.job.name, next.job.id, { message: "the worker stopped before starting it" }).catch(() => {});
-        break;
-      }
+      // A job fetched just as a stop was asked for is run like the others in hand (failing it
+      // would use up one of its retries).
       if (next) start(next.job, next.q);
       else await nap(idleMs);
     }

@@ -103,7 +103,11 @@ export async function startWorker(deps: WorkerDeps) {
       for (const id of workerIds) await boss.offWork({ id } as unknown as string).catch(() => {});
       // Past the grace period, ask long-running steps to give up so the job is released for retry.
       const t = setTimeout(() => stopping.abort(), Math.max(timeoutMs - 500, 0));
-      await loopDone;
+      // A step that ignores the request is left behind after a little longer: its job stays
+      // active in the queue until it expires, and is then handed to another worker.
+      let giveUp: NodeJS.Timeout | undefined;
+      await Promise.race([loopDone, new Promise((r) => (giveUp = setTimeout(r, timeoutMs + 2000)))]);
+      clearTimeout(giveUp);
       await boss.stop({ graceful: true, timeout: timeoutMs, wait: true });
       clearTimeout(t);
       await heartbeat.stop();
