@@ -1,5 +1,7 @@
 import type { ChildProcess } from "node:child_process";
+import fs from "node:fs/promises";
 import os from "node:os";
+import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
 import { spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
@@ -8,9 +10,10 @@ import type { Fragment } from "../shared/schemas/fragments";
 import type { PresetSummary } from "../shared/schemas/preset-api";
 
 /**
- * Many machines: the server on one, workers on others, all against one PostgreSQL. Here two
- * worker processes share one database and one library; every job must run exactly once (none
- * twice, none lost), counted from what each process says it ran and from pg-boss's own records.
+ * Many machines: the server on one, workers on others, all against one PostgreSQL and one
+ * S3-compatible bucket. Here two worker processes, each with its own data folder, share one
+ * database and a bucket on the fake S3; every job must run exactly once (none twice, none lost),
+ * counted from what each process says it ran and from pg-boss's own records.
  */
 
 const SCANS = 5;
@@ -21,7 +24,10 @@ let operator: supertest.Agent;
 const children: { name: string; child: ChildProcess; lines: string[] }[] = [];
 
 function startWorkerProcess(name: string) {
-  const child = spawnProcess("worker/main.ts", { ...stack.env, PLATEN_PROCESS: name, LOG_LEVEL: "info", PLATEN_WORKER_CONCURRENCY: "2" });
+  // Each worker as on a machine of its own: its own data folder (cache, work in progress), the
+  // library only in the bucket.
+  const dataDir = path.join(path.dirname(stack.env.PLATEN_DATA_DIR!), name);
+  const child = spawnProcess("worker/main.ts", { ...stack.env, PLATEN_DATA_DIR: dataDir, PLATEN_PROCESS: name, LOG_LEVEL: "info", PLATEN_WORKER_CONCURRENCY: "2" });
   const entry = { name, child, lines: [] as string[] };
   let rest = "";
   child.stdout!.on("data", (chunk: Buffer) => {
@@ -52,7 +58,7 @@ function jobsRun() {
 }
 
 beforeAll(async () => {
-  stack = await startStack({ worker: false, watcher: false });
+  stack = await startStack({ worker: false, watcher: false, s3: true });
   operator = await userAgent(stack, "operator");
   startWorkerProcess("worker-a");
   startWorkerProcess("worker-b");
@@ -144,5 +150,9 @@ describe("two worker processes on one database", () => {
       { kind: "preset", n: total },
       { kind: "web", n: total },
     ]);
+    // …in the bucket, each once: no machine kept a library folder of its own.
+    const keys = await stack.library.list("masters/");
+    expect(keys).toHaveLength(total);
+    await expect(fs.access(stack.env.PLATEN_LIBRARY_DIR!)).rejects.toThrow();
   });
 });
