@@ -151,3 +151,29 @@ describe("web copies keep title, creator, copyright and resolution", () => {
     });
   }
 });
+
+describe("master copies by preset keep title, creator and copyright too", () => {
+  for (const format of ["tiff", "png"] as const) {
+    it(`${format}: in XMP${format === "tiff" ? " and the TIFF 6.0 baseline fields" : " (iTXt)"}, read back with exifr and sharp`, async () => {
+      const out = at(`master.${format === "tiff" ? "tif" : "png"}`);
+      const preset = { kind: "master", name: "archive", format };
+      const report = await renderOutput({ master: source, dpi: 600, ...RIGHTS }, preset, { path: out });
+      expect([report.pixelWidth, report.pixelHeight, report.effectiveDpi]).toEqual([3000, 2000, 600]);
+      const meta = await sharp(out).metadata();
+      expect(meta.format).toBe(format);
+      expect(meta.density).toBe(600);
+      // Reader 1: sharp (libvips) and the XMP packet's text.
+      expect(meta.xmp).toBeDefined();
+      expect(dublinCore(meta.xmp!.toString("utf8"))).toEqual({ title: RIGHTS.title, creator: RIGHTS.creator, rights: RIGHTS.copyright });
+      // Reader 2: exifr, for the TIFF baseline ImageDescription (270), Artist (315) and Copyright (33432) fields.
+      if (format === "tiff") {
+        const tags = await exifr.parse(out, { tiff: true, ifd0: true, xmp: false } as never);
+        expect(tags).toMatchObject({ ImageDescription: ASCII.title, Artist: ASCII.creator, Copyright: ASCII.copyright });
+      } else {
+        const tags = await exifr.parse(fs.readFileSync(out), { xmp: true, chunked: false } as never);
+        expect(tags.title?.value ?? tags.title).toBe(RIGHTS.title);
+        expect(tags.creator).toBe(RIGHTS.creator);
+      }
+    });
+  }
+});

@@ -10,6 +10,7 @@ import { presetProblem, presetSchema, type Preset } from "../../../shared/schema
 import type { FragmentShape } from "../../../shared/schemas/fragments";
 import { CM_PER_INCH } from "../../../shared/units";
 import { commitStaged, discardStaged, stage, writeStaged } from "../render/staging";
+import { addTiffFields, type TiffField } from "../render/tiff-tags";
 import { OutputError, isOutputError } from "./errors";
 import { renderMaster } from "./master";
 import { renderMockup } from "./mockup";
@@ -114,13 +115,15 @@ export async function renderOutput(input: OutputInput, presetIn: Preset | unknow
   const rights = { title: input.title, creator: input.creator, copyright: input.copyright };
   let data: Uint8Array;
   let report: Omit<OutputReport, "bytes" | "path">;
+  let tiffFields: TiffField[] = [];
   const base = { kind: preset.kind, format: outputFormat(preset) };
 
   if (preset.kind === "master") {
-    const m = await renderMaster(input.master, input.dpi, preset, maxPixels).catch((err: unknown) => {
+    const m = await renderMaster(input.master, input.dpi, preset, maxPixels, rights).catch((err: unknown) => {
       throw new OutputError("bad_input", `Cannot read ${input.master} as an image: ${err instanceof Error ? err.message : String(err)}`, { cause: err });
     });
     data = m.data;
+    tiffFields = m.tiffFields;
     report = { ...base, pixelWidth: m.width, pixelHeight: m.height, effectiveDpi: input.dpi, warnings: [] };
   } else {
     const piece = await loadPiece(input.master, input.dpi, maxPixels);
@@ -161,6 +164,7 @@ export async function renderOutput(input: OutputInput, presetIn: Preset | unknow
   const staged = await stage(out.path);
   try {
     await writeStaged(staged, data);
+    if (tiffFields.length > 0) await addTiffFields(staged.temp, tiffFields);
     const { size } = await fs.stat(staged.temp);
     await commitStaged([staged]);
     return { path: out.path, ...report, bytes: size };

@@ -5,13 +5,27 @@
 import sharp from "sharp";
 import type { MasterPreset } from "../../../shared/schemas/presets";
 import { MM_PER_INCH } from "../../../shared/units";
+import { cleanRights, tiffRightsFields, xmpPacket, type Rights } from "../render/rights";
+import type { TiffField } from "../render/tiff-tags";
+import { withPngXmp } from "./web";
 
 /**
  * Encodes a master from the source file. bitDepth "source" keeps the source's depth; 8 or 16
  * converts. Resolution: TIFF XResolution/YResolution per inch (TIFF 6.0 Section 8), PNG pHYs.
+ * Title, creator and copyright go in as XMP (TIFF tag 700; PNG iTXt) and, for TIFF, as the
+ * baseline ImageDescription, Artist and Copyright fields, which the caller adds to the written
+ * file (`tiffFields`).
  * Example: a 16-bit TIFF with the default master preset → a 16-bit LZW TIFF at the same DPI.
  */
-export async function renderMaster(file: string, dpi: number, preset: MasterPreset, maxPixels: number): Promise<{ data: Buffer; width: number; height: number }> {
+export async function renderMaster(
+  file: string,
+  dpi: number,
+  preset: MasterPreset,
+  maxPixels: number,
+  rightsIn: Rights = {},
+): Promise<{ data: Buffer; width: number; height: number; tiffFields: TiffField[] }> {
+  const rights = cleanRights(rightsIn);
+  const xmp = xmpPacket(rights);
   const meta = await sharp(file, { limitInputPixels: maxPixels }).metadata();
   const sourceDepth = meta.depth === "ushort" ? 16 : 8;
   const depth = preset.bitDepth === "source" ? sourceDepth : preset.bitDepth;
@@ -20,6 +34,8 @@ export async function renderMaster(file: string, dpi: number, preset: MasterPres
   if (!preset.keepAlpha && meta.hasAlpha) img = img.flatten({ background: "#ffffff" });
   img = img.toColourspace(depth === 16 ? (grey ? "grey16" : "rgb16") : grey ? "b-w" : "srgb");
   if (preset.embedResolution) img = img.withMetadata({ density: dpi });
+  // PNG gets its XMP as an iTXt chunk below: libvips would write a zTXt, where XMP readers do not look.
+  if (xmp && preset.format === "tiff") img = img.withXmp(xmp);
   if (preset.format === "tiff") {
     const compression = preset.compression ?? "lzw";
     img = img.tiff({
@@ -31,5 +47,6 @@ export async function renderMaster(file: string, dpi: number, preset: MasterPres
     img = img.png({ compressionLevel: preset.compression === "none" ? 0 : 9 });
   }
   const { data, info } = await img.toBuffer({ resolveWithObject: true });
-  return { data, width: info.width, height: info.height };
+  if (preset.format === "png") return { data: xmp ? withPngXmp(data, xmp) : data, width: info.width, height: info.height, tiffFields: [] };
+  return { data, width: info.width, height: info.height, tiffFields: tiffRightsFields(rights) };
 }

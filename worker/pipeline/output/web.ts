@@ -144,7 +144,7 @@ function pngChunk(type: string, data: Buffer): Buffer {
  * that only look at the start of the file. iTXt fields (ISO/IEC 15948 §11.3.4.5): keyword, 0,
  * compression flag 0, method 0, language "", 0, translated keyword "", 0, UTF-8 text.
  */
-function withPngXmp(png: Buffer, xmp: string): Buffer {
+export function withPngXmp(png: Buffer, xmp: string): Buffer {
   const body = Buffer.concat([XMP_ITXT_KEYWORD, Buffer.from("\0\0\0\0\0", "latin1"), Buffer.from(xmp, "utf8")]);
   // 8-byte signature, then IHDR (length, type, 13 bytes of data, CRC).
   const afterIhdr = 8 + 12 + png.readUInt32BE(8);
