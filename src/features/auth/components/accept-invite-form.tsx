@@ -1,13 +1,13 @@
 import { useState, type FormEvent } from "react";
 import { ROLE_DESCRIPTIONS, ROLE_LABELS } from "../../../../shared/roles";
-import { acceptInvitationBody, type InvitationPreview } from "../../../../shared/schemas/mail";
+import { acceptInvitationBody, type AcceptInvitationBody, type InvitationPreview } from "../../../../shared/schemas/mail";
 import type { SessionUser } from "../../../../shared/schemas/auth";
 import { Button } from "../../../components/button";
 import { TextField } from "../../../components/field";
 import { Notice } from "../../../components/notice";
-import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
+import { serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
 import { useAcceptInvitation } from "../api/invitation";
-import { NewPasswordFields, PASSWORDS_DIFFER } from "./new-password-fields";
+import { checkNewPassword, NewPasswordFields } from "./new-password-fields";
 
 type Field = "name" | "password" | "repeat";
 const FIELDS = ["name", "password"] as const;
@@ -32,17 +32,10 @@ export function AcceptInviteForm({
   const submit = (event: FormEvent) => {
     event.preventDefault();
     setFormError(null);
-    const parsed = acceptInvitationBody.safeParse({ token, name, password });
-    if (!parsed.success) {
-      setErrors(fieldErrorsFrom<Field>(parsed.error));
-      return;
-    }
-    if (repeat !== password) {
-      setErrors({ repeat: PASSWORDS_DIFFER });
-      return;
-    }
+    const checked = checkNewPassword<AcceptInvitationBody, Field>(acceptInvitationBody, { token, name, password }, password, repeat);
+    if ("errors" in checked) return setErrors(checked.errors);
     setErrors({});
-    accept.mutate(parsed.data, {
+    accept.mutate(checked.data, {
       onSuccess: ({ user }) => onAccepted(user),
       onError: (error) => {
         const { field, message } = serverErrorFor(error, FIELDS);

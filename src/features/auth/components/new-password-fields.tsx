@@ -1,4 +1,6 @@
+import type { ZodType } from "zod";
 import { MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
+import { fieldErrorsFrom, type FieldErrors } from "../../../lib/form-errors";
 import { TextField } from "../../../components/field";
 
 /** A new password typed twice, as joining and resetting ask for it. */
@@ -47,5 +49,20 @@ export function NewPasswordFields({
   );
 }
 
-/** The check both forms make before sending: the two entries match. */
-export const PASSWORDS_DIFFER = "The two passwords are not the same";
+const PASSWORDS_DIFFER = "The two passwords are not the same";
+
+/**
+ * The check both forms make before sending: the body against its schema, then the two entries
+ * the same. Either the body to send or the field messages to show.
+ */
+export function checkNewPassword<T, F extends string>(
+  schema: ZodType<T>,
+  body: unknown,
+  password: string,
+  repeat: string,
+): { data: T } | { errors: FieldErrors<F | "repeat"> } {
+  const parsed = schema.safeParse(body);
+  if (!parsed.success) return { errors: fieldErrorsFrom<F | "repeat">(parsed.error) };
+  if (repeat !== password) return { errors: { repeat: PASSWORDS_DIFFER } as FieldErrors<F | "repeat"> };
+  return { data: parsed.data };
+}

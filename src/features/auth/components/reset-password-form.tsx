@@ -1,11 +1,11 @@
 import { useState, type FormEvent } from "react";
-import { completeResetBody } from "../../../../shared/schemas/mail";
+import { completeResetBody, type CompleteResetBody } from "../../../../shared/schemas/mail";
 import type { SessionUser } from "../../../../shared/schemas/auth";
 import { Button } from "../../../components/button";
 import { Notice } from "../../../components/notice";
-import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
+import { serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
 import { useCompleteReset } from "../api/password-reset";
-import { NewPasswordFields, PASSWORDS_DIFFER } from "./new-password-fields";
+import { checkNewPassword, NewPasswordFields } from "./new-password-fields";
 
 type Field = "password" | "repeat";
 
@@ -20,17 +20,10 @@ export function ResetPasswordForm({ token, email, onDone }: { token: string; ema
   const submit = (event: FormEvent) => {
     event.preventDefault();
     setFormError(null);
-    const parsed = completeResetBody.safeParse({ token, password });
-    if (!parsed.success) {
-      setErrors(fieldErrorsFrom<Field>(parsed.error));
-      return;
-    }
-    if (repeat !== password) {
-      setErrors({ repeat: PASSWORDS_DIFFER });
-      return;
-    }
+    const checked = checkNewPassword<CompleteResetBody, Field>(completeResetBody, { token, password }, password, repeat);
+    if ("errors" in checked) return setErrors(checked.errors);
     setErrors({});
-    complete.mutate(parsed.data, {
+    complete.mutate(checked.data, {
       onSuccess: ({ user }) => onDone(user),
       onError: (error) => {
         const { field, message } = serverErrorFor(error, ["password"] as const);
