@@ -1,4 +1,4 @@
-import { useEffect, useRef } from "react";
+import { useEffect, useEffectEvent, useRef } from "react";
 import { Link } from "react-router-dom";
 import type { AuditEvent } from "../../../../shared/schemas/audit";
 import { Ago } from "../../../components/ago";
@@ -70,33 +70,36 @@ export function AuditTable({
     row?.scrollIntoView({ block: "nearest" });
   };
 
-  useEffect(() => {
-    const onKey = (event: KeyboardEvent) => {
-      if (event.metaKey || event.ctrlKey || event.altKey) return;
-      if (event.key === "Escape" && selectedId !== undefined) {
-        onSelect(undefined);
-        return;
-      }
-      if (isTyping(event.target)) return;
-      const inTable =
-        event.target instanceof HTMLElement && event.target.closest("[data-audit-table]");
-      if (event.key === "j" || (inTable && event.key === "ArrowDown")) {
-        event.preventDefault();
-        move(1);
-      } else if (event.key === "k" || (inTable && event.key === "ArrowUp")) {
-        event.preventDefault();
-        move(-1);
-      } else if (event.key === "/") {
-        event.preventDefault();
-        document.querySelector<HTMLInputElement>("[data-audit-search]")?.focus();
-      } else if (event.key === "Enter" && inTable && index >= 0) {
-        event.preventDefault();
-        onOpenSubject(events[index]!);
-      }
-    };
-    document.addEventListener("keydown", onKey);
-    return () => document.removeEventListener("keydown", onKey);
+  // One listener for the page's life; it always sees this render's list and selection
+  // (a listener re-added after each render could miss a key pressed just after a change).
+  const onKey = useEffectEvent((event: KeyboardEvent) => {
+    if (event.metaKey || event.ctrlKey || event.altKey) return;
+    if (event.key === "Escape" && selectedId !== undefined) {
+      onSelect(undefined);
+      return;
+    }
+    if (isTyping(event.target)) return;
+    const inTable =
+      event.target instanceof HTMLElement && event.target.closest("[data-audit-table]");
+    if (event.key === "j" || (inTable && event.key === "ArrowDown")) {
+      event.preventDefault();
+      move(1);
+    } else if (event.key === "k" || (inTable && event.key === "ArrowUp")) {
+      event.preventDefault();
+      move(-1);
+    } else if (event.key === "/") {
+      event.preventDefault();
+      document.querySelector<HTMLInputElement>("[data-audit-search]")?.focus();
+    } else if (event.key === "Enter" && inTable && index >= 0) {
+      event.preventDefault();
+      onOpenSubject(events[index]!);
+    }
   });
+  useEffect(() => {
+    const listener = (event: KeyboardEvent) => onKey(event);
+    document.addEventListener("keydown", listener);
+    return () => document.removeEventListener("keydown", listener);
+  }, []);
 
   return (
     <table

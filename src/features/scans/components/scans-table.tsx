@@ -1,4 +1,4 @@
-import { useEffect, useRef, useState, type KeyboardEvent as ReactKeyboardEvent } from "react";
+import { useEffect, useEffectEvent, useRef, useState, type KeyboardEvent as ReactKeyboardEvent } from "react";
 import { Link, useNavigate } from "react-router-dom";
 import type { Scan } from "../../../../shared/schemas/scans";
 import { formatBytes } from "../../../../shared/units";
@@ -103,20 +103,23 @@ export function ScansTable({
   };
 
   // j and k work anywhere on the page that is not a text field; arrows only inside the table.
-  useEffect(() => {
-    const onKey = (event: KeyboardEvent) => {
-      if (event.metaKey || event.ctrlKey || event.altKey || isTyping(event.target)) return;
-      if (event.key === "j") {
-        event.preventDefault();
-        move(1);
-      } else if (event.key === "k") {
-        event.preventDefault();
-        move(-1);
-      }
-    };
-    document.addEventListener("keydown", onKey);
-    return () => document.removeEventListener("keydown", onKey);
+  // One listener for the page's life; it always sees this render's list and selection
+  // (a listener re-added after each render could miss a key pressed just after a change).
+  const onKey = useEffectEvent((event: KeyboardEvent) => {
+    if (event.metaKey || event.ctrlKey || event.altKey || isTyping(event.target)) return;
+    if (event.key === "j") {
+      event.preventDefault();
+      move(1);
+    } else if (event.key === "k") {
+      event.preventDefault();
+      move(-1);
+    }
   });
+  useEffect(() => {
+    const listener = (event: KeyboardEvent) => onKey(event);
+    document.addEventListener("keydown", listener);
+    return () => document.removeEventListener("keydown", listener);
+  }, []);
 
   const onRowKey = (event: ReactKeyboardEvent<HTMLTableRowElement>, scan: Scan) => {
     if (event.target !== event.currentTarget) return;
