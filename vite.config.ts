@@ -37,6 +37,9 @@ export default defineConfig({
     globalSetup: ["tests/setup/global.ts"],
     testTimeout: 60_000,
     hookTimeout: 120_000,
+    // A poll waits for the app, not a clock: on a busy two-core machine a page can take
+    // seconds to follow a key press, so give polls room before calling it a failure.
+    expect: { poll: { timeout: 15_000, interval: 50 } },
     // Two cores: run files two at a time; each file gets its own database.
     pool: "forks",
     maxWorkers: 2,
