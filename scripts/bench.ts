@@ -11,8 +11,10 @@
  * - split: the whole split (header, decode into the reduced copy, analysis);
  * - whole: split plus every fragment's master and web copy, rendered from one decode of the scan
  *   (renderFragments); wholeEach: the same with one renderFragment call per fragment (one render
- *   job each, every one decoding the scan down to its fragment's rows); outputsFloor: one decode
- *   and the same outputs encoded straight from it, with no analysis.
+ *   job each, every one decoding the scan down to its fragment's rows); outputs floor: sharp alone
+ *   making the same files from one decode, with no analysis (each piece cut, turned upright with
+ *   the render's transform, masked, and encoded with the render's settings); bare floor: one
+ *   decode and each box encoded as it lies (no turn, no mask), the least any render could cost.
  * Besides wall time, every measurement reports CPU time (all threads); the ratios are given for
  * both (on a virtual machine whose host is busy, CPU time counts stolen time too).
  * Targets at A4 600 DPI: split ≤ 1.5 × floor, whole ≤ 1.5 × outputsFloor, peak memory ≤ 1.5 GB.
@@ -106,6 +108,8 @@ interface Row {
   wholeMs: number | null;
   outputsFloorMs: number | null;
   wholeOverFloor: number | null;
+  bareFloorMs: number | null;
+  wholeOverBareFloor: number | null;
   wholePeakMb: number | null;
   wholeEachMs: number | null;
   wholeEachOverFloor: number | null;
@@ -147,6 +151,8 @@ async function main() {
       wholeMs: med(whole, (s) => s.times),
       outputsFloorMs: med(whole, (s) => s.floorTimes),
       wholeOverFloor: med(whole, (s) => s.ratios),
+      bareFloorMs: (whole?.detail?.bareFloorMs as number | undefined) ?? null,
+      wholeOverBareFloor: (whole?.detail?.wholeOverBareFloor as number | undefined) ?? null,
       wholePeakMb: ran(whole)?.peakRssMb ?? null,
       wholeEachMs: med(each, (s) => s.times),
       wholeEachOverFloor: med(each, (s) => s.ratios),
@@ -169,6 +175,8 @@ async function main() {
     "whole ms",
     "outputs floor ms",
     "whole/floor",
+    "bare floor ms",
+    "whole/bare",
     "whole peak MB",
     "each/floor",
     "each peak MB",
@@ -188,6 +196,8 @@ async function main() {
     fmt(r.wholeMs),
     fmt(r.outputsFloorMs),
     fmt(r.wholeOverFloor, 2),
+    fmt(r.bareFloorMs),
+    fmt(r.wholeOverBareFloor, 2),
     fmt(r.wholePeakMb),
     fmt(r.wholeEachOverFloor, 2),
     fmt(r.wholeEachPeakMb),
@@ -204,6 +214,7 @@ async function main() {
   process.stdout.write(
     "Targets at A4 600 DPI: split/floor ≤ 1.5, whole/floor ≤ 1.5, peak memory ≤ 1536 MB.\n" +
       "whole: one decode for all fragments (renderFragments); each: one renderFragment per fragment;\n" +
+      "outputs floor: sharp alone making the same files with no analysis; bare: boxes encoded as they lie;\n" +
       "cpu: the same ratios by CPU time (all threads), steadier on a shared machine.\n",
   );
   // Recipe cost per megapixel against a bare sharp copy (8 and 16 bits).

@@ -1,6 +1,9 @@
 /**
  * Batch throughput: 40 fragments × 3 presets made by one worker process, then by two, and the
- * queue's own cost per job (a job that does nothing). Runs against the private cluster in a
+ * queue's own cost per job (a job that does nothing). Measured twice: with the processes free to
+ * use every core (each still runs one job with one libvips thread, but its other threads spill
+ * onto the other core), and with each process held to a core of its own (taskset), as one worker
+ * per one-core machine would run. Runs against the private cluster in a
  * database of its own, dropped afterwards. Used by `npm run bench`; runs alone with
  * `npx tsx scripts/bench/batch.ts`.
  */
@@ -22,6 +25,11 @@ export interface BatchBench {
   oneWorkerPerSecond: number;
   twoWorkersPerSecond: number;
   speedUp: number;
+  /**
+   * The same with each worker process held to a core of its own (taskset), as on a one-core
+   * machine per worker; null where taskset or a second core is missing.
+   */
+  pinned: { oneWorkerPerSecond: number; twoWorkersPerSecond: number; speedUp: number } | null;
   queueOverheadMsPerJob: number;
   /** Cores the worker processes kept busy on average (from /proc), and the machine's cores. */
   oneWorkerCores: number;
@@ -61,8 +69,13 @@ async function withDatabase<T>(fn: (url: string, dir: string) => Promise<T>): Pr
   }
 }
 
-function worker(env: Record<string, string>): ChildProcess {
-  return spawn(process.execPath, ["--import", "tsx", "worker/main.ts"], { cwd: ROOT, env: { ...process.env, ...env }, stdio: "ignore" });
+const TASKSET = "/usr/bin/taskset";
+
+/** A worker process; with `core`, held to that core (util-linux taskset) with all its threads. */
+function worker(env: Record<string, string>, core?: number): ChildProcess {
+  const node = [process.execPath, "--import", "tsx", "worker/main.ts"];
+  const [cmd, ...args] = core === undefined ? node : [TASKSET, "-c", String(core), ...node];
+  return spawn(cmd!, args, { cwd: ROOT, env: { ...process.env, ...env }, stdio: "ignore" });
 }
 
 const stopped = (c: ChildProcess) => new Promise((r) => (c.exitCode !== null ? r(null) : c.once("exit", r)));
@@ -121,9 +134,12 @@ export async function benchBatch(): Promise<BatchBench> {
     const [user] = await database.db.insert(schema.users).values({ email: "bench@bench.local", name: "Bench", role: "operator", passwordHash: "x" }).returning();
     const setA = await makeSet("bench-a");
     const setB = await makeSet("bench-b");
+    const canPin = fsSync.existsSync(TASKSET) && os.cpus().length >= 2;
+    const setC = canPin ? await makeSet("bench-c") : [];
+    const setD = canPin ? await makeSet("bench-d") : [];
     /** Outputs per second for one batch over `ids` made by `workers` worker processes. */
-    const timed = async (ids: string[], workers: number) => {
-      const children = Array.from({ length: workers }, () => worker(env));
+    const timed = async (ids: string[], workers: number, pin = false) => {
+      const children = Array.from({ length: workers }, (_, i) => worker(env, pin ? i : undefined));
       await new Promise((r) => setTimeout(r, 4000)); // let the workers start before the clock does
       const t0 = performance.now();
       const batch = await createOutputBatch(database, boss, user!.id, { selection: { fragmentIds: ids }, presetIds });
@@ -137,6 +153,9 @@ export async function benchBatch(): Promise<BatchBench> {
     };
     const { perSecond: one, cores: oneCores } = await timed(setA, 1);
     const { perSecond: two, cores: twoCores } = await timed(setB, 2);
+    const pinnedOne = canPin ? (await timed(setC, 1, true)).perSecond : NaN;
+    const pinnedTwo = canPin ? (await timed(setD, 2, true)).perSecond : NaN;
+    const r2 = (v: number) => Math.round(v * 100) / 100;
 
     // The queue's own cost: jobs whose handler does nothing, one worker loop, counted end to end.
     const NOOP = "bench-noop";
@@ -170,6 +189,9 @@ export async function benchBatch(): Promise<BatchBench> {
       oneWorkerPerSecond: Math.round(one * 100) / 100,
       twoWorkersPerSecond: Math.round(two * 100) / 100,
       speedUp: Math.round((two / one) * 100) / 100,
+      pinned: canPin
+        ? { oneWorkerPerSecond: r2(pinnedOne), twoWorkersPerSecond: r2(pinnedTwo), speedUp: r2(pinnedTwo / pinnedOne) }
+        : null,
       queueOverheadMsPerJob: Math.round(overhead * 10) / 10,
       oneWorkerCores: Math.round(oneCores * 100) / 100,
       twoWorkersCores: Math.round(twoCores * 100) / 100,
@@ -185,6 +207,9 @@ export function formatBatchBench(b: BatchBench): string {
     `  two workers ${b.twoWorkersPerSecond} outputs/s  (${b.speedUp}× one; target ≥ 1.7×)`,
     `  cores busy: one worker ${b.oneWorkerCores}, two workers ${b.twoWorkersCores} of ${b.cores}` +
       ` (so at most ${Math.round((Math.min(b.cores, 2 * b.oneWorkerCores) / b.oneWorkerCores) * 100) / 100}× on this machine)`,
+    b.pinned
+      ? `  a core per worker (taskset): one ${b.pinned.oneWorkerPerSecond}/s, two ${b.pinned.twoWorkersPerSecond}/s (${b.pinned.speedUp}× one; target ≥ 1.7×)`
+      : "  a core per worker: not measured (needs taskset and two cores)",
     `  queue overhead ${b.queueOverheadMsPerJob} ms per job (no-op jobs; target ≤ 20 ms)`,
     "",
   ].join("\n");

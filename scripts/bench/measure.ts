@@ -17,6 +17,10 @@ import { DEFAULT_MAX_PIXELS } from "../../shared/limits";
 import { readScanInfo } from "../../worker/pipeline/metadata";
 import { DEFAULT_ANALYSIS_DPI } from "../../worker/pipeline/split/analysis-copy";
 import { splitScan, type SplitResult } from "../../worker/pipeline/split/index";
+import { INTERPOLATOR } from "../../worker/pipeline/render/cut";
+import { planUpright } from "../../worker/pipeline/render/geometry";
+import { MASTER_TIFF } from "../../worker/pipeline/render/master";
+import { WEB_JPEG, WEB_WEBP } from "../../worker/pipeline/render/web";
 
 export interface Sample {
   /** Wall-clock time of each run, ms. */
@@ -47,11 +51,12 @@ async function timed(fn: () => Promise<void>): Promise<{ wall: number; cpu: numb
 
 type Pairs = Omit<Sample, "peakRssMb" | "detail">;
 
-/** `runs` pairs: the floor, then the measured function, each timed. */
+/** `runs` pairs: the floor, then the measured function, each timed (after `before`, untimed here). */
 async function paired(
   runs: number,
   floor: () => Promise<void>,
   run: () => Promise<void>,
+  before?: () => Promise<void>,
 ): Promise<Pairs> {
   const out: Pairs = {
     times: [],
@@ -62,6 +67,7 @@ async function paired(
     cpuRatios: [],
   };
   for (let r = 0; r < runs; r++) {
+    await before?.();
     const f = await timed(floor);
     const t = await timed(run);
     out.floorTimes.push(f.wall);
@@ -149,11 +155,11 @@ async function renderBatch(
 }
 
 /**
- * The floor for the whole: one decode of the scan, then the same outputs encoded straight from the
- * decoded pixels (each fragment's box as a TIFF master, a JPEG web copy of long edge 2048) with
- * no analysis, no rotation and no masks.
+ * The bare floor: one decode of the scan, then each fragment's box encoded straight from the
+ * decoded pixels (an LZW TIFF, a 4:2:0 JPEG of long edge 2048): no analysis, no turn, no mask.
+ * Reported beside the target's floor, as the least any render could cost.
  */
-async function outputsFloor(
+async function bareFloor(
   file: string,
   outDir: string,
   fragments: SplitResult["fragments"],
@@ -176,6 +182,98 @@ async function outputsFloor(
   }
 }
 
+/** A polygon as an SVG the size of the piece, for sharp to rasterise into a mask (librsvg). */
+function polygonSvg(points: [number, number][], width: number, height: number): Buffer {
+  const d = points.map(([x, y]) => `${x.toFixed(2)},${y.toFixed(2)}`).join(" ");
+  return Buffer.from(
+    `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}">` +
+      `<polygon points="${d}" fill="#fff"/></svg>`,
+  );
+}
+
+/**
+ * The target's floor for the whole: sharp alone making the same files from one decode of the
+ * scan, with no analysis. The fragments' geometry is given (found by the split beforehand, outside
+ * the timing); for each one sharp cuts its region from the decoded pixels, turns it upright with
+ * the same affine transform and interpolator as the render, crops the piece, masks a cut-out
+ * (its outline rasterised by sharp from an SVG polygon), and encodes the master and the web copy
+ * with the render's own encoder settings (MASTER_TIFF, WEB_JPEG, WEB_WEBP; long edge 2048).
+ * Left out, as they are the product's own work on top: the cut-out feather, colour management
+ * and rights fields.
+ */
+async function sameOutputsFloor(
+  file: string,
+  outDir: string,
+  fragments: SplitResult["fragments"],
+  dpi: { x: number; y: number },
+): Promise<void> {
+  const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels })
+    .raw()
+    .toBuffer({ resolveWithObject: true });
+  const raw = { raw: { width: info.width, height: info.height, channels: info.channels } };
+  for (const [i, f] of fragments.entries()) {
+    const plan = planUpright(f, info.width, info.height);
+    const canvas = await sharp(data, raw)
+      .extract(plan.region)
+      .affine(plan.matrix, {
+        idx: plan.idx,
+        idy: plan.idy,
+        interpolator: INTERPOLATOR,
+        background: { r: 255, g: 255, b: 255 },
+      })
+      .raw()
+      .toBuffer({ resolveWithObject: true });
+    const c = canvas.info;
+    const turned = await sharp(canvas.data, {
+      raw: { width: c.width, height: c.height, channels: c.channels },
+    })
+      .extract(plan.crop)
+      .raw()
+      .toBuffer({ resolveWithObject: true });
+    const { width, height, channels } = turned.info;
+    const piece = { raw: { width, height, channels } };
+    const outline =
+      f.shape === "cutout" ? f.outline.map((p) => plan.toUpright(p as [number, number])) : null;
+    let master = sharp(turned.data, piece);
+    if (outline) {
+      const mask = await sharp(polygonSvg(outline, width, height))
+        .extractChannel(3)
+        .raw()
+        .toBuffer();
+      master = master.joinChannel(mask, { raw: { width, height, channels: 1 } });
+    }
+    await master
+      .tiff({ ...MASTER_TIFF, xres: dpi.x / 25.4, yres: dpi.y / 25.4, resolutionUnit: "inch" })
+      .toFile(path.join(outDir, `sm${i}.tif`));
+    const web = sharp(turned.data, piece).resize(2048, 2048, {
+      fit: "inside",
+      withoutEnlargement: true,
+    });
+    if (!outline) {
+      await web.jpeg(WEB_JPEG).toFile(path.join(outDir, `sw${i}.jpg`));
+      continue;
+    }
+    const fitted = await web.raw().toBuffer({ resolveWithObject: true });
+    const s = fitted.info.width / width;
+    const mask = await sharp(
+      polygonSvg(
+        outline.map(([x, y]) => [x * s, y * s]),
+        fitted.info.width,
+        fitted.info.height,
+      ),
+    )
+      .extractChannel(3)
+      .raw()
+      .toBuffer();
+    await sharp(fitted.data, {
+      raw: { width: fitted.info.width, height: fitted.info.height, channels: fitted.info.channels },
+    })
+      .joinChannel(mask, { raw: { width: fitted.info.width, height: fitted.info.height, channels: 1 } })
+      .webp(WEB_WEBP)
+      .toFile(path.join(outDir, `sw${i}.webp`));
+  }
+}
+
 /** Split, then the fragments rendered by `render`, each run paired with the outputs floor. */
 async function whole(
   file: string,
@@ -195,19 +293,29 @@ async function whole(
     };
     return { ...none, detail: { skipped: "worker/pipeline/render has no renderFragments" } };
   }
-  const { fragments } = await splitScan(file, LIMITS);
+  const { fragments, dpi } = await splitScan(file, LIMITS);
   const perFragment: number[] = [];
+  const bare: { wall: number; cpu: number }[] = [];
   const pairs = await paired(
     runs,
-    () => outputsFloor(file, outDir, fragments),
+    () => sameOutputsFloor(file, outDir, fragments, dpi),
     async () => {
       const result = await splitScan(file, LIMITS);
       const t = performance.now();
       await render(mod, file, outDir, result.fragments, result.dpi);
       perFragment.push((performance.now() - t) / Math.max(1, result.fragments.length));
     },
+    // The bare floor is timed too, outside the pair, for the table's extra column.
+    async () => void bare.push(await timed(() => bareFloor(file, outDir, fragments))),
   );
-  return { ...pairs, detail: { renderPerFragmentMs: median(perFragment) } };
+  return {
+    ...pairs,
+    detail: {
+      renderPerFragmentMs: median(perFragment),
+      bareFloorMs: median(bare.map((b) => b.wall)),
+      wholeOverBareFloor: median(pairs.times.map((t, i) => t / bare[i]!.wall)),
+    },
+  };
 }
 
 type Measurement = (

@@ -19,7 +19,10 @@ export async function startBoss(opts: { url: string; log: Logger; supervise?: bo
     maintenanceIntervalSeconds: cfg.maintenanceSeconds,
     monitorStateIntervalSeconds: Math.max(cfg.maintenanceSeconds, 1),
   });
-  boss.on("error", (err: Error) => opts.log.error({ err }, "job queue error"));
+  // Only the error's own fields: a pg error can carry its whole client, which would flood the log.
+  boss.on("error", (err: Error & { code?: string }) =>
+    opts.log.error({ err: { type: err.name, message: err.message, code: err.code, stack: err.stack } }, "job queue error"),
+  );
   await boss.start();
   for (const [name, policy] of Object.entries(queuePolicies())) {
     const existing = await boss.getQueue(name);

@@ -18,7 +18,7 @@ import type { PixelRect, UprightPlan } from "./geometry";
  * more than the whole rest of a render, and a scan's edges are already soft enough (scanner optics)
  * that bicubic's overshoot at a paper edge stays small.
  */
-const INTERPOLATOR = sharp.interpolators.bicubic;
+export const INTERPOLATOR = sharp.interpolators.bicubic;
 const WHITE = { r: 255, g: 255, b: 255 };
 
 export interface UprightCut {

@@ -14,7 +14,7 @@ import { addTiffFields, TIFF_TAG, type TiffField } from "./tiff-tags";
  * LZW with horizontal differencing (TIFF 6.0 Sections 13–14): lossless, read by every TIFF
  * reader, and the predictor roughly halves the size of smooth 16-bit scans.
  */
-const MASTER_TIFF = { compression: "lzw", predictor: "horizontal" } as const;
+export const MASTER_TIFF = { compression: "lzw", predictor: "horizontal" } as const;
 
 export interface MasterInfo {
   width: number;
