@@ -13,7 +13,7 @@ import { hashToken, newToken } from "../mail/tokens";
 import { inviteLink } from "../mail/links";
 import { formatWhen, invitationMessage } from "../mail/templates";
 import type { UserRow } from "./users";
-import { recordAudit } from "./audit";
+import { recordAudit, type AuditWriter } from "./audit";
 
 /**
  * Invitations: an admin invites an address with a role; the message carries a single-use token
@@ -74,8 +74,16 @@ async function openInvitation(db: Db, id: string): Promise<{ row: Row; inviter: 
   return found;
 }
 
-/** Makes a fresh token for an open invitation and sends it; the old token stops working. */
-async function issueAndSend(deps: InvitationDeps, row: Row, inviter: string | null): Promise<Invitation> {
+/**
+ * Makes a fresh token for an open invitation and sends it; the old token stops working. `audit`
+ * writes the action's audit row in the same transaction as the row that records the send.
+ */
+async function issueAndSend(
+  deps: InvitationDeps,
+  row: Row,
+  inviter: string | null,
+  audit?: (tx: AuditWriter, sent: Invitation) => Promise<void>,
+): Promise<Invitation> {
   const { token, hash } = newToken();
   const validForMs = deps.config.mail.inviteMs;
   const expiresAt = new Date(Date.now() + validForMs);
@@ -90,12 +98,16 @@ async function issueAndSend(deps: InvitationDeps, row: Row, inviter: string | nu
     sendError = `The mail server did not take the message: ${(err as Error).message}`;
     deps.log.warn({ err, invitation: row.id }, "invitation not sent");
   }
-  const [updated] = await deps.db
-    .update(invitations)
-    .set(sendError ? { sendError, updatedAt: new Date() } : { sendError: null, sentAt: new Date(), sendCount: row.sendCount + 1, updatedAt: new Date() })
-    .where(eq(invitations.id, row.id))
-    .returning();
-  return present(updated!, inviter);
+  return deps.db.transaction(async (tx) => {
+    const [updated] = await tx
+      .update(invitations)
+      .set(sendError ? { sendError, updatedAt: new Date() } : { sendError: null, sentAt: new Date(), sendCount: row.sendCount + 1, updatedAt: new Date() })
+      .where(eq(invitations.id, row.id))
+      .returning();
+    const sent = present(updated!, inviter);
+    await audit?.(tx, sent);
+    return sent;
+  });
 }
 
 export async function createInvitation(deps: InvitationDeps, actor: { id: string; name: string }, body: CreateInvitationBody): Promise<Invitation> {
@@ -136,17 +148,18 @@ export async function createInvitation(deps: InvitationDeps, actor: { id: string
 export async function resendInvitation(deps: InvitationDeps, id: string): Promise<Invitation> {
   if (!deps.mailer.enabled) throw unavailable(deps.mailer.reason!);
   const { row, inviter } = await openInvitation(deps.db, id);
-  const sent = await issueAndSend(deps, row, inviter);
-  // After the send, so the row says whether the mail server took it; the old link is dead either way.
-  await recordAudit(deps.db, {
-    action: "invitation.resend",
-    subjectType: "invitation",
-    subjectId: id,
-    summary: `Resent the invitation to ${row.email}${sent.sendError ? " (the mail server did not take it)" : ""}; earlier links no longer work`,
-    before: { sendCount: row.sendCount, expiresAt: row.expiresAt.toISOString() },
-    after: { sendCount: sent.sendCount, expiresAt: sent.expiresAt, sendError: sent.sendError },
-  });
-  return sent;
+  // Recorded with the send's outcome, so the row says whether the mail server took it; the old
+  // link is dead either way.
+  return issueAndSend(deps, row, inviter, (tx, sent) =>
+    recordAudit(tx, {
+      action: "invitation.resend",
+      subjectType: "invitation",
+      subjectId: id,
+      summary: `Resent the invitation to ${row.email}${sent.sendError ? " (the mail server did not take it)" : ""}; earlier links no longer work`,
+      before: { sendCount: row.sendCount, expiresAt: row.expiresAt.toISOString() },
+      after: { sendCount: sent.sendCount, expiresAt: sent.expiresAt, sendError: sent.sendError },
+    }),
+  );
 }
 
 export async function revokeInvitation(db: Db, id: string): Promise<void> {

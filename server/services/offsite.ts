@@ -2,7 +2,7 @@ import { and, eq, inArray, sql } from "drizzle-orm";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
 import { offsiteCopies, outputs } from "../db/schema";
-import { withTx } from "../db/tx";
+import { withTx, type Tx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import { conflict, notFound } from "../errors";
 import type { Logger } from "../logger";
@@ -40,14 +40,19 @@ export function presentCopy(row: Row): OffsiteCopy {
   };
 }
 
-/** Marks a master's copy pending and queues the copy job, in one transaction. */
+/**
+ * Marks a master's copy pending and queues the copy job, in one transaction (with the audit row
+ * `audit` writes, when a person asked for it).
+ */
 export async function queueOffsiteCopy(
   database: Database,
   boss: PgBoss,
   outputId: string,
   key: string,
+  audit?: (tx: Tx) => Promise<void>,
 ): Promise<void> {
   await withTx(database, boss, async (tx) => {
+    await audit?.(tx);
     await tx.db
       .insert(offsiteCopies)
       .values({ outputId, key, status: "pending" })
@@ -238,24 +243,34 @@ export async function recheckFragment(
   return fragmentOffsite(deps, fragmentId);
 }
 
-/** The copy-again route: queues a fresh copy of this fragment's master. */
+/** The copy-again route: queues a fresh copy of this fragment's master, audited in the same transaction. */
 export async function recopyFragment(
   deps: OffsiteDeps,
   fragmentId: string,
+  audit?: (tx: Tx) => Promise<void>,
 ): Promise<FragmentOffsite> {
   requireOffsite(deps);
   const master = await fragmentMaster(deps.database.db, fragmentId);
-  await queueOffsiteCopy(deps.database, deps.boss, master.id, master.key);
+  await queueOffsiteCopy(deps.database, deps.boss, master.id, master.key, audit);
   return fragmentOffsite(deps, fragmentId);
 }
 
-/** Queues a re-check of every master's copy (admins, e.g. once a month). */
-export async function queueCheckAll(deps: OffsiteDeps): Promise<{ queued: number }> {
+/**
+ * Queues a re-check of every master's copy (admins, e.g. once a month): all the jobs and the
+ * audit row `audit` writes (given the count) in one transaction.
+ */
+export async function queueCheckAll(
+  deps: OffsiteDeps,
+  audit?: (tx: Tx, queued: number) => Promise<void>,
+): Promise<{ queued: number }> {
   requireOffsite(deps);
-  const rows = await deps.database.db
-    .select({ outputId: offsiteCopies.outputId })
-    .from(offsiteCopies)
-    .where(inArray(offsiteCopies.status, ["copied", "failed"]));
-  for (const r of rows) await deps.boss.send(QUEUES.offsiteCheck, { outputId: r.outputId });
-  return { queued: rows.length };
+  return withTx(deps.database, deps.boss, async (tx) => {
+    const rows = await tx.db
+      .select({ outputId: offsiteCopies.outputId })
+      .from(offsiteCopies)
+      .where(inArray(offsiteCopies.status, ["copied", "failed"]));
+    for (const r of rows) await tx.send(QUEUES.offsiteCheck, { outputId: r.outputId });
+    await audit?.(tx, rows.length);
+    return { queued: rows.length };
+  });
 }

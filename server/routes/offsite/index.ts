@@ -38,26 +38,26 @@ export function offsiteRouter(deps: AppDeps): Router {
   handle(router, API.fragmentsOffsiteCopy, async ({ params, user, res }) => {
     await getFragment(db, params.id, user.role);
     res.status(202);
-    const result = await recopyFragment(deps, params.id);
-    await recordAudit(db, {
-      action: "offsite.copy",
-      subjectType: "fragment",
-      subjectId: params.id,
-      summary: "Queued a fresh off-site copy of a master",
-    });
-    return result;
+    return recopyFragment(deps, params.id, (tx) =>
+      recordAudit(tx, {
+        action: "offsite.copy",
+        subjectType: "fragment",
+        subjectId: params.id,
+        summary: "Queued a fresh off-site copy of a master",
+      }),
+    );
   });
   handle(router, API.offsiteCheckAll, async ({ res }) => {
     res.status(202);
-    const result = await queueCheckAll(deps);
-    await recordAudit(db, {
-      action: "offsite.check_all",
-      subjectType: "studio",
-      subjectId: null,
-      summary: `Queued a re-check of every off-site copy (${result.queued})`,
-      after: { queued: result.queued },
-    });
-    return result;
+    return queueCheckAll(deps, (tx, queued) =>
+      recordAudit(tx, {
+        action: "offsite.check_all",
+        subjectType: "studio",
+        subjectId: null,
+        summary: `Queued a re-check of every off-site copy (${queued})`,
+        after: { queued },
+      }),
+    );
   });
   return router;
 }
