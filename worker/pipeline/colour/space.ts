@@ -2,26 +2,25 @@
  * Colour spaces for the recipe steps, in floating point: encoded sRGB (0–1) ↔ linear-light sRGB
  * ↔ CIE XYZ ↔ CIELAB ↔ LCh(ab), all with the D65 white of IEC 61966-2-1.
  *
- * The transfer function and the 8-bit → Lab path come from the split (split/colour.ts), so the
- * split and the recipes agree on what a colour is. The split keeps its matrix private and has no
- * float inverse, so the matrix is written out again here (the same IEC 61966-2-1 rows, four
- * decimals as published) and a test checks the two paths agree to 1e-12.
+ * The transfer function, the IEC 61966-2-1 matrix (four decimals as published) with its exact
+ * inverse, and the 8-bit → Lab path come from the split (split/colour.ts), so the split and the
+ * recipes agree on what a colour is; a test checks the two Lab paths agree to 1e-12.
  */
-import { D65_WHITE, linearToSrgb, srgbToLinear } from "../split/colour";
+import { D65_WHITE, linearToSrgb, SRGB_TO_XYZ, srgbToLinear, XYZ_TO_SRGB } from "../split/colour";
 
-export { D65_WHITE, deltaE76, linearToSrgb, srgb8ToLab, srgbToLinear, type Lab, type Rgb } from "../split/colour";
+export {
+  D65_WHITE,
+  deltaE76,
+  linearToSrgb,
+  srgb8ToLab,
+  SRGB_TO_XYZ,
+  srgbToLinear,
+  XYZ_TO_SRGB,
+  type Lab,
+  type Rgb,
+} from "../split/colour";
 
 export type Vec3 = [number, number, number];
-
-/** IEC 61966-2-1 linear-RGB → XYZ (D65), rows X, Y, Z. */
-export const SRGB_TO_XYZ: readonly (readonly [number, number, number])[] = [
-  [0.4124, 0.3576, 0.1805],
-  [0.2126, 0.7152, 0.0722],
-  [0.0193, 0.1192, 0.9505],
-];
-
-/** The exact inverse of SRGB_TO_XYZ (so a round trip closes), computed once. */
-export const XYZ_TO_SRGB: readonly (readonly [number, number, number])[] = invert3(SRGB_TO_XYZ);
 
 /** Luminance weights of linear R, G, B (the Y row). Example: relative luminance of linear (1, 1, 1) is 1. */
 export const LUMA: Vec3 = [0.2126, 0.7152, 0.0722];
@@ -169,14 +168,3 @@ export function fitChromaToGamut(lab: readonly number[], known = 0): Vec3 {
   return [Math.min(1, Math.max(0, lin[0])), Math.min(1, Math.max(0, lin[1])), Math.min(1, Math.max(0, lin[2]))];
 }
 
-function invert3(m: readonly (readonly number[])[]): [number, number, number][] {
-  const [a, b, c] = m[0] as Vec3;
-  const [d, e, g] = m[1] as Vec3;
-  const [h, i, k] = m[2] as Vec3;
-  const det = a * (e * k - g * i) - b * (d * k - g * h) + c * (d * i - e * h);
-  return [
-    [(e * k - g * i) / det, (c * i - b * k) / det, (b * g - c * e) / det],
-    [(g * h - d * k) / det, (a * k - c * h) / det, (c * d - a * g) / det],
-    [(d * i - e * h) / det, (b * h - a * i) / det, (a * e - b * d) / det],
-  ];
-}

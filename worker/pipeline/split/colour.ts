@@ -11,7 +11,7 @@
 export type Lab = [L: number, a: number, b: number];
 export type Rgb = [r: number, g: number, b: number];
 
-/** IEC 61966-2-1 linear-RGB → XYZ (D65), rows X, Y, Z. */
+/** IEC 61966-2-1 linear-RGB → XYZ (D65), rows X, Y, Z. The one copy in the project. */
 const M = [
   [0.4124, 0.3576, 0.1805],
   [0.2126, 0.7152, 0.0722],
@@ -20,6 +20,10 @@ const M = [
 
 /** The inverse of M, computed once (no rounded published inverse is used, so the round trip closes). */
 const M_INV = invert3(M);
+
+/** The matrix and its exact inverse, for the colour pipeline (colour/space.ts). */
+export const SRGB_TO_XYZ: readonly (readonly [number, number, number])[] = M;
+export const XYZ_TO_SRGB: readonly (readonly [number, number, number])[] = M_INV;
 
 /** D65 white of the matrix: X = 0.9505, Y = 1.0000, Z = 1.0890. */
 export const D65_WHITE: readonly [number, number, number] = [
@@ -166,7 +170,7 @@ export function rgbToLabPlanes(data: Uint8Array, pixels: number, channels = 3): 
   return { L, a: A, b: B };
 }
 
-function invert3(m: readonly (readonly number[])[]): number[][] {
+function invert3(m: readonly (readonly number[])[]): [number, number, number][] {
   const [a, b, c] = m[0]!;
   const [d, e, f_] = m[1]!;
   const [g, h, i] = m[2]!;
