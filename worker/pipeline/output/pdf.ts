@@ -1,14 +1,16 @@
 /**
  * Print files as PDF: one page at the paper's exact size in points (72 per inch, ISO 32000-1
  * default user space), the piece placed where the TIFF places it, embedded as a JPEG at its
- * effective resolution (never above the print DPI), with the same crop marks and caption.
+ * effective resolution (never above the print DPI), with the same crop marks and caption (the
+ * caption in the shipped font, embedded).
  */
-import { PDFDocument, StandardFonts, rgb } from "pdf-lib";
+import fontkit from "@pdf-lib/fontkit";
+import { PDFDocument, rgb, type PDFFont } from "pdf-lib";
 import sharp from "sharp";
 import { paperPoints } from "../../../shared/paper";
 import type { PrintPreset } from "../../../shared/schemas/presets";
-import { asciiSpelling } from "../render/rights";
-import { CAPTION, captionBaseline, captionText, cropMarks, type PrintLayout } from "./print-layout";
+import { captionFaces, layoutCaption } from "./caption";
+import { cropMarks, type PrintLayout } from "./print-layout";
 import { MARK_WEIGHT_PT, visiblePiece } from "./print";
 import type { Piece } from "./source";
 
@@ -56,15 +58,22 @@ export async function renderPrintPdf(piece: Piece, layout: PrintLayout, preset: 
       page.drawLine({ start: { x: s.x1 * 72, y: y(s.y1) }, end: { x: s.x2 * 72, y: y(s.y2) }, thickness: MARK_WEIGHT_PT, color: rgb(0, 0, 0) });
     }
   }
-  if (preset.caption) {
-    const baseline = captionBaseline(v, layout.page);
-    if (baseline === null) warnings.push("The bottom margin has no room for the caption; it is left out");
-    else {
-      const font = await doc.embedFont(StandardFonts.Helvetica);
-      // The standard fonts speak WinAnsi only: spell the text in ASCII.
-      const text = asciiSpelling(captionText(title, v).replace("×", "x").replace("—", "-"));
-      const width = font.widthOfTextAtSize(text, CAPTION.sizePt);
-      page.drawText(text, { x: (v.x + v.width / 2) * 72 - width / 2, y: y(baseline), size: CAPTION.sizePt, font, color: rgb(0.2, 0.2, 0.2) });
+  const line = preset.caption ? layoutCaption(layout, title, warnings) : null;
+  if (line) {
+    // The shipped font files (caption.ts), embedded as subsets: Type0 fonts with a ToUnicode map
+    // (ISO 32000-1 §9.7, §9.10.3), so × and — stay themselves, and so does copied text.
+    doc.registerFontkit(fontkit);
+    const faces = captionFaces();
+    const fonts = new Map<number, PDFFont>();
+    let x = line.xIn * 72;
+    for (const run of line.runs) {
+      let font = fonts.get(run.face);
+      if (!font) {
+        font = await doc.embedFont(faces[run.face]!.bytes, { subset: true });
+        fonts.set(run.face, font);
+      }
+      page.drawText(run.text, { x, y: y(line.baselineIn), size: line.sizePt, font, color: rgb(0.2, 0.2, 0.2) });
+      x += run.widthPt;
     }
   }
   const data = await doc.save({ useObjectStreams: false });

@@ -5,7 +5,8 @@
 import sharp, { type OverlayOptions } from "sharp";
 import type { PrintPreset } from "../../../shared/schemas/presets";
 import { MM_PER_INCH } from "../../../shared/units";
-import { CAPTION, captionBaseline, captionText, cropMarks, type PrintLayout } from "./print-layout";
+import { captionSvg, layoutCaption } from "./caption";
+import { cropMarks, type PrintLayout } from "./print-layout";
 import { pieceImage, type Piece } from "./source";
 
 /** Line weight of crop marks, points (a hairline, common practice). */
@@ -32,11 +33,13 @@ export async function visiblePiece(piece: Piece, layout: PrintLayout, dpiOut: nu
   return { data, width, height };
 }
 
-function escapeXml(text: string): string {
-  return text.replace(/[<>&"']/g, (c) => ({ "<": "&lt;", ">": "&gt;", "&": "&amp;", '"': "&quot;", "'": "&apos;" })[c]!);
-}
+/** Caption colour: a dark grey that reads as black beside the piece (the PDF uses the same 0.2 grey). */
+export const CAPTION_FILL = "#333333";
 
-/** The marks and caption as one SVG the size of the page, in page pixels; null when there are none. */
+/**
+ * The marks and caption as one SVG the size of the page, in page pixels; null when there are none.
+ * The caption is glyph outlines of the shipped font (caption.ts), so no system font is looked up.
+ */
 export function overlaySvg(layout: PrintLayout, preset: PrintPreset, title: string | undefined, warnings: string[]): string | null {
   const dpi = preset.printDpi;
   const parts: string[] = [];
@@ -49,16 +52,8 @@ export function overlaySvg(layout: PrintLayout, preset: PrintPreset, title: stri
     }
   }
   if (preset.caption) {
-    const baseline = captionBaseline(layout.place.visible, layout.page);
-    if (baseline === null) warnings.push("The bottom margin has no room for the caption; it is left out");
-    else {
-      const v = layout.place.visible;
-      const size = (CAPTION.sizePt / 72) * dpi;
-      const text = escapeXml(captionText(title, v));
-      parts.push(
-        `<text x="${(v.x + v.width / 2) * dpi}" y="${baseline * dpi}" font-family="DejaVu Sans, Liberation Sans, sans-serif" font-size="${size}" fill="#333" text-anchor="middle">${text}</text>`,
-      );
-    }
+    const line = layoutCaption(layout, title, warnings);
+    if (line) parts.push(captionSvg(line, dpi, CAPTION_FILL));
   }
   if (parts.length === 0) return null;
   const { width, height } = layout.pagePx;
