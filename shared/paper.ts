@@ -6,7 +6,7 @@
  * yard and pound agreement, 1959). Positions are measured from the page's top-left corner.
  * Pixel sizes of print files are inches × DPI rounded to the nearest whole pixel.
  */
-import { MM_PER_INCH } from "./units";
+import { formatNumber, MM_PER_INCH } from "./units";
 
 /** Papers a preset can name; "custom" takes its own width and height in mm. */
 export const PAPER_NAMES = [
@@ -246,4 +246,13 @@ export function paperPoints(page: PaperSize): { width: number; height: number } 
 
 function round(v: number): number {
   return Math.round(v * 100) / 100;
+}
+
+/**
+ * The caption line of a print file: the title (if any) and the printed size in inches and cm.
+ * Example: captionText("Blue gull", { width: 8, height: 10 }) → "Blue gull — 8 × 10 in (20.32 × 25.4 cm)".
+ */
+export function captionText(title: string | undefined, printed: Pick<RectIn, "width" | "height">): string {
+  const size = `${formatNumber(printed.width)} × ${formatNumber(printed.height)} in (${formatNumber(printed.width * 2.54)} × ${formatNumber(printed.height * 2.54)} cm)`;
+  return title ? `${title} — ${size}` : size;
 }

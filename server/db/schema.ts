@@ -181,6 +181,10 @@ export const fragments = pgTable(
     reviewedAt: timestamp("reviewed_at", { withTimezone: true }),
     renderState: renderStateEnum("render_state").notNull().default("none"),
     renderError: text("render_error"),
+    /** The render job that holds this fragment while render_state is 'rendering' (its own, or one rendering it with others of its scan). */
+    renderJobId: text("render_job_id"),
+    /** When that job took it; a claim older than the render queue's expiry is abandoned. */
+    renderClaimedAt: timestamp("render_claimed_at", { withTimezone: true }),
     /** Incremented by every geometry edit; a render records the revision it made. */
     revision: integer("revision").notNull().default(1),
     ...timestamps,

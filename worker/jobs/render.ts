@@ -1,7 +1,10 @@
 import type PgBoss from "pg-boss";
 import path from "node:path";
-import { and, eq, sql } from "drizzle-orm";
+import { setTimeout as sleep } from "node:timers/promises";
+import { and, eq, inArray, sql } from "drizzle-orm";
+import { drizzle } from "drizzle-orm/node-postgres";
 import type { Database } from "../../server/db";
+import * as schema from "../../server/db/schema";
 import { fragments, outputs, scans } from "../../server/db/schema";
 import { notify } from "../../server/services/events";
 import type { Storage } from "../../server/storage/storage";
@@ -12,7 +15,7 @@ import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
 import { renderPayload } from "../../shared/schemas/jobs";
 import type { RecipeInput } from "../../shared/schemas/recipes";
-import { isRenderError, renderFragment } from "../pipeline/render";
+import { isRenderError, renderEach, type BatchItem, type RenderResult } from "../pipeline/render";
 import { isScanError } from "../pipeline/metadata";
 import { recipeVersionFor } from "../../server/services/recipes";
 import { settleBatchItem } from "../../server/services/batches";
@@ -34,9 +37,33 @@ export const webKey = (fragmentId: string, format: "jpeg" | "webp") =>
   `web/${fragmentId}.${format === "jpeg" ? "jpg" : "webp"}`;
 
 /**
- * Renders one approved fragment at one revision: the upright master and the web copy. A newer
- * revision or a fragment no longer approved makes the job a no-op; a revision already rendered is
- * not rendered again. Errors throw, so the queue retries; the last attempt records the message.
+ * At most this many fragments are rendered by one job from one decode of their scan (the job's
+ * own first): bounds the job's run time well inside the render queue's expiry.
+ */
+export const RENDER_GROUP_MAX = 16;
+/**
+ * …and at most this many times the scan's own pixels in upright rectangles: a render's cost
+ * follows the pixels cut, so a group costs at most about two renders of the whole bed.
+ */
+export const RENDER_GROUP_SCAN_AREAS = 2;
+/** How often a job whose fragment another job is rendering looks again, ms. */
+const CLAIM_POLL_MS = 250;
+
+type FragmentRow = typeof fragments.$inferSelect;
+type ScanRow = typeof scans.$inferSelect;
+type RecipeVersion = Awaited<ReturnType<typeof recipeVersionFor>>;
+
+/**
+ * Renders one approved fragment at one revision: the upright master and the web copy, together
+ * with the other fragments of its scan that are waiting for their own render (approved, queued),
+ * all cut from one decode of the scan. Each fragment is claimed (render_state 'rendering', this
+ * job's id, the time) by one atomic UPDATE, so no two jobs render it at once; their own jobs, on
+ * finding it claimed, wait for the outcome and then find it made. A claim older than the queue's
+ * expiry is abandoned (its worker died) and is taken over. A newer revision or a fragment no
+ * longer approved makes the job a no-op; a revision already rendered is not rendered again; files
+ * are stored only while the fragment is still at the revision they were made from. Errors of the
+ * job's own fragment throw, so the queue retries; the last attempt records the message. A
+ * fragment of the group whose render fails is put back for its own job to render and report.
  */
 export async function renderFragmentJob(
   deps: RenderDeps,
@@ -49,140 +76,368 @@ export async function renderFragmentJob(
   const settle = async (state: "running" | "done" | "failed", error: string | null = null) => {
     if (batchItemId) await settleBatchItem(db, batchItemId, state, error, { boss: deps.boss });
   };
-  const [row] = await db.select().from(fragments).where(eq(fragments.id, fragmentId));
-  if (!row || row.status !== "approved" || row.mergedInto) {
-    await settle("failed", "The fragment is no longer approved.");
-    return log.info("render: fragment no longer approved");
-  }
-  if (row.revision !== revision) {
-    // A newer edit queued its own render; this batch item follows whatever that makes.
-    await settle("done");
-    return log.info({ current: row.revision }, "render: a newer revision will be rendered");
-  }
-  const recipe = await recipeVersionFor(db, fragmentId);
-  const made = (await db.select().from(outputs).where(eq(outputs.fragmentId, fragmentId))).filter(
-    (o) => o.kind !== "preset",
-  );
-  if (
-    made.length >= 2 &&
-    made.every((o) => o.revision === revision && o.recipeVersionId === recipe.id)
-  ) {
-    await db.update(fragments).set({ renderState: "done" }).where(eq(fragments.id, fragmentId));
-    await settle("done");
-    await notify(pool, { kind: "scan", scanId: row.scanId });
-    return log.info("render: already rendered with this recipe version");
-  }
-  const [scan] = await db.select().from(scans).where(eq(scans.id, row.scanId));
-  if (!scan) return;
-  await settle("running");
-
-  const setState = async (state: "rendering" | "done" | "failed", error: string | null = null) => {
-    await db
-      .update(fragments)
-      .set({ renderState: state, renderError: error })
-      .where(and(eq(fragments.id, fragmentId), eq(fragments.revision, revision)));
-    await notify(pool, { kind: "scan", scanId: row.scanId });
-  };
-  await setState("rendering");
-
-  const webFormat = row.shape === "cutout" ? "webp" : "jpeg";
-  const mKey = masterKey(fragmentId);
-  const wKey = webKey(fragmentId, webFormat);
-  try {
-    // Rendered in scratch from a local copy of the original, then stored: master first, web copy
-    // last, each atomically (locally a rename into place; on S3 an upload, in parts when large).
-    const r = await deps.library
-      .withScratch((dir) =>
-        deps.library.withLocalFile(scan.originalKey, async (source) => {
-          const masterPath = path.join(dir, path.basename(mKey));
-          const webPath = path.join(dir, path.basename(wKey));
-          const made = await renderFragment(
-            {
-              source,
-              geometry: {
-                box: row.box,
-                angle: row.angle,
-                rect: row.rect,
-                outline: row.outline,
-                shape: row.shape,
-              },
-              dpi: {
-                x: scan.dpiX ?? deps.config.defaultDpi,
-                y: scan.dpiY ?? scan.dpiX ?? deps.config.defaultDpi,
-              },
-              maxPixels: deps.config.maxPixels,
-              metadata: { title: row.title ?? undefined },
-              recipe: {
-                recipe: { name: "recipe", steps: recipe.steps as RecipeInput["steps"] },
-                background: scan.splitBackground?.rgb,
-              },
-            },
-            { masterPath, webPath, webFormat },
-          );
-          await deps.library.put(mKey, masterPath, { move: true });
-          await deps.library.put(wKey, webPath, { move: true });
-          return made;
-        }),
-      )
-      .catch((err: unknown) => {
-        if (isStorageError(err, "missing"))
-          throw Object.assign(new Error("The original of this scan is missing from the library."), {
-            permanent: true,
-          });
-        throw err;
-      });
-    const now = new Date();
-    for (const o of [
-      {
-        kind: "master" as const,
-        key: mKey,
-        format: "tiff",
-        width: r.master.width,
-        height: r.master.height,
-        bitDepth: r.master.bitDepth,
-        hasAlpha: r.master.hasAlpha,
-        dpi: r.master.dpi,
-        bytes: r.master.bytes,
-      },
-      {
-        kind: "web" as const,
-        key: wKey,
-        format: r.web.format,
-        width: r.web.width,
-        height: r.web.height,
-        bitDepth: 8,
-        hasAlpha: webFormat === "webp",
-        dpi: r.web.dpi,
-        bytes: r.web.bytes,
-      },
-    ]) {
-      const [saved] = await db
-        .insert(outputs)
-        .values({ fragmentId, revision, recipeVersionId: recipe.id, ...o })
-        .onConflictDoUpdate({
-          target: [outputs.fragmentId, outputs.kind],
-          targetWhere: sql`${outputs.kind} in ('master', 'web')`,
-          set: { ...o, revision, recipeVersionId: recipe.id, updatedAt: now, createdAt: now },
-        })
-        .returning({ id: outputs.id });
-      // Every new master also goes off-site when a bucket is configured (a job of its own).
-      if (o.kind === "master" && deps.offsite && deps.boss) await queueOffsiteCopy(deps.database, deps.boss, saved!.id, mKey);
+  let running = false;
+  for (;;) {
+    const [row] = await db.select().from(fragments).where(eq(fragments.id, fragmentId));
+    if (!row || row.status !== "approved" || row.mergedInto) {
+      await settle("failed", "The fragment is no longer approved.");
+      return log.info("render: fragment no longer approved");
     }
-    await setState("done");
-    await settle("done");
-    log.info({ master: `${r.master.width}×${r.master.height}`, dpi: r.master.dpi }, "render: done");
-  } catch (err) {
+    if (row.revision !== revision) {
+      // A newer edit queued its own render; this batch item follows whatever that makes.
+      await settle("done");
+      return log.info({ current: row.revision }, "render: a newer revision will be rendered");
+    }
+    const recipe = await recipeVersionFor(db, fragmentId);
+    if (await alreadyRendered(deps, row, recipe)) {
+      await db
+        .update(fragments)
+        .set({ renderState: "done", renderJobId: null, renderClaimedAt: null })
+        .where(eq(fragments.id, fragmentId));
+      await settle("done");
+      await notify(pool, { kind: "scan", scanId: row.scanId });
+      return log.info("render: already rendered with this recipe version");
+    }
+    const [scan] = await db.select().from(scans).where(eq(scans.id, row.scanId));
+    if (!scan) return;
+    if (!running) await settle("running");
+    running = true;
+
+    const claimed = await claimGroup(deps, scan, row, ctx.jobId);
+    if (!claimed.includes(fragmentId)) {
+      // Another job is rendering it (with others of its scan): wait for that, then look again.
+      await waitWhileClaimed(deps, fragmentId, revision, ctx);
+      continue;
+    }
+    const own = await renderGroup(deps, scan, claimed, ctx.jobId, log);
+    if (own.kind === "skipped") continue; // edited, unapproved or taken over meanwhile: look again
+    if (own.kind === "done") {
+      await settle("done");
+      return;
+    }
+    const err = own.error;
     // Bad geometry or an unreadable scan will not improve with a retry.
     const permanent =
       isScanError(err) ||
       (isRenderError(err) && err.code !== "failed") ||
       (err as { permanent?: boolean }).permanent === true;
     const last = permanent || ctx.retryCount >= ctx.retryLimit;
-    await setState(last ? "failed" : "rendering", last ? (err as Error).message : null).catch(
-      () => {},
-    );
+    // Not the last attempt: the fragment stays claimed by this job, whose retry takes it again.
+    await db
+      .update(fragments)
+      .set(
+        last
+          ? { renderState: "failed", renderError: (err as Error).message, renderJobId: null, renderClaimedAt: null }
+          : { renderState: "rendering", renderError: null },
+      )
+      .where(and(eq(fragments.id, fragmentId), eq(fragments.revision, revision)))
+      .catch(() => {});
+    await notify(pool, { kind: "scan", scanId: row.scanId }).catch(() => {});
     if (last) await settle("failed", (err as Error).message).catch(() => {});
     if (permanent) return log.warn({ reason: (err as Error).message }, "render: failed");
     throw err;
   }
+}
+
+/** Its master and web copy exist, made from this revision with this recipe version. */
+async function alreadyRendered(deps: RenderDeps, row: FragmentRow, recipe: RecipeVersion): Promise<boolean> {
+  const made = (
+    await deps.database.db.select().from(outputs).where(eq(outputs.fragmentId, row.id))
+  ).filter((o) => o.kind !== "preset");
+  return made.length >= 2 && made.every((o) => o.revision === row.revision && o.recipeVersionId === recipe.id);
+}
+
+/**
+ * Claims the job's own fragment (at its revision) and, with it, the other fragments of the scan
+ * that wait for a render of their own (approved, not merged, queued: an edit or an approval sets
+ * 'queued' in the same transaction that queues the render of the current revision), up to
+ * RENDER_GROUP_MAX fragments and RENDER_GROUP_SCAN_AREAS scans' worth of pixels, in one statement.
+ * The own fragment is taken unless another job holds a claim on it younger than the queue's
+ * expiry; fragments this job claimed on an earlier attempt are taken again. Rows another claim is
+ * taking at this very moment are skipped (SKIP LOCKED), so two jobs never wait on each other.
+ * Returns the ids claimed: the own one first, or none when it could not be claimed.
+ */
+async function claimGroup(deps: RenderDeps, scan: ScanRow, row: FragmentRow, jobId: string): Promise<string[]> {
+  const expire = deps.config.jobExpireSeconds;
+  const budget =
+    RENDER_GROUP_SCAN_AREAS * (scan.width && scan.height ? scan.width * scan.height : deps.config.maxPixels);
+  const { rows } = await deps.database.pool.query<{ id: string }>(
+    `with candidates as (
+       select id, position, (rect->>'width')::float8 * (rect->>'height')::float8 as px
+         from fragments
+        where scan_id = $1 and status = 'approved' and merged_into is null
+          and ((id = $2 and revision = $3
+                and not (render_state = 'rendering' and render_job_id is distinct from $4
+                         and coalesce(render_claimed_at > now() - make_interval(secs => $5), false)))
+            or (id <> $2 and (render_state = 'queued' or (render_state = 'rendering' and render_job_id = $4))))
+        order by id = $2 desc, position
+          for update skip locked
+     ), picked as (
+       select id from (
+         select id, row_number() over w as n, sum(px) over w as run
+           from candidates window w as (order by id = $2 desc, position)
+       ) c
+        where exists (select 1 from candidates where id = $2) and (id = $2 or (n <= $6 and run <= $7))
+     )
+     update fragments f
+        set render_state = 'rendering', render_error = null, render_job_id = $4, render_claimed_at = now()
+       from picked where f.id = picked.id
+     returning f.id`,
+    [scan.id, row.id, row.revision, jobId, expire, RENDER_GROUP_MAX, budget],
+  );
+  const ids = rows.map((r) => r.id);
+  if (ids.length > 0) await notify(deps.database.pool, { kind: "scan", scanId: scan.id });
+  return ids.includes(row.id) ? [row.id, ...ids.filter((id) => id !== row.id)] : ids;
+}
+
+/**
+ * Waits while another job's live claim holds the fragment at this revision: until that job has
+ * finished it (or put it back), it was edited, or the claim grew older than the queue's expiry.
+ */
+async function waitWhileClaimed(deps: RenderDeps, fragmentId: string, revision: number, ctx: JobContext) {
+  const expireMs = deps.config.jobExpireSeconds * 1000;
+  for (;;) {
+    await sleep(CLAIM_POLL_MS);
+    if (ctx.signal?.aborted) throw new Error("The worker is stopping; the render goes back to the queue.");
+    const [f] = await deps.database.db
+      .select({
+        state: fragments.renderState,
+        revision: fragments.revision,
+        job: fragments.renderJobId,
+        at: fragments.renderClaimedAt,
+      })
+      .from(fragments)
+      .where(eq(fragments.id, fragmentId));
+    if (!f || f.revision !== revision || f.state !== "rendering" || f.job === ctx.jobId) return;
+    if (!f.at || Date.now() - f.at.getTime() > expireMs) return;
+  }
+}
+
+interface Member {
+  row: FragmentRow;
+  recipe: RecipeVersion;
+  webFormat: "jpeg" | "webp";
+  mKey: string;
+  wKey: string;
+  log: Logger;
+}
+
+type OwnOutcome = { kind: "done" } | { kind: "skipped" } | { kind: "failed"; error: unknown };
+
+/**
+ * Renders the claimed fragments (`ids`, the job's own first) from one decode of the scan and
+ * stores each one as soon as it is made. Returns what became of the own fragment; every other
+ * fragment that was not stored is put back ('queued', unclaimed) for its own job.
+ */
+async function renderGroup(
+  deps: RenderDeps,
+  scan: ScanRow,
+  ids: string[],
+  jobId: string,
+  log: Logger,
+): Promise<OwnOutcome> {
+  const { db, pool } = deps.database;
+  const started = performance.now();
+  const ownId = ids[0]!;
+  const byId = new Map((await db.select().from(fragments).where(inArray(fragments.id, ids))).map((r) => [r.id, r]));
+  const claimedRevision = new Map<string, number>();
+  const members: Member[] = [];
+  const errors = new Map<string, unknown>();
+  const stored = new Set<string>();
+  for (const id of ids) {
+    const row = byId.get(id);
+    if (!row || row.renderJobId !== jobId) continue;
+    claimedRevision.set(id, row.revision);
+    const mLog = id === ownId ? log : deps.log.child({ jobId, fragmentId: id, revision: row.revision, renderedWith: ownId });
+    try {
+      const recipe = await recipeVersionFor(db, id);
+      // Looked at again under the claim: another job may have stored it since this one looked.
+      if (await alreadyRendered(deps, row, recipe)) {
+        await markDone(deps, row);
+        await notify(pool, { kind: "scan", scanId: scan.id });
+        stored.add(id);
+        mLog.info("render: already rendered with this recipe version");
+        continue;
+      }
+      const webFormat = row.shape === "cutout" ? "webp" : "jpeg";
+      members.push({ row, recipe, webFormat, mKey: masterKey(id), wKey: webKey(id, webFormat), log: mLog });
+    } catch (err) {
+      errors.set(id, err);
+    }
+  }
+
+  let rendered = 0;
+  try {
+    if (members.length > 0) {
+      // Rendered in scratch from a local copy of the original, then stored: master first, web copy
+      // last, each atomically (locally a rename into place; on S3 an upload, in parts when large).
+      await deps.library
+        .withScratch((dir) =>
+          deps.library.withLocalFile(scan.originalKey, async (source) => {
+            const items: BatchItem[] = members.map((m) => ({
+              geometry: { box: m.row.box, angle: m.row.angle, rect: m.row.rect, outline: m.row.outline, shape: m.row.shape },
+              metadata: { title: m.row.title ?? undefined },
+              recipe: {
+                recipe: { name: "recipe", steps: m.recipe.steps as RecipeInput["steps"] },
+                background: scan.splitBackground?.rgb,
+              },
+              targets: {
+                masterPath: path.join(dir, path.basename(m.mKey)),
+                webPath: path.join(dir, path.basename(m.wKey)),
+                webFormat: m.webFormat,
+              },
+            }));
+            await renderEach(
+              {
+                source,
+                dpi: { x: scan.dpiX ?? deps.config.defaultDpi, y: scan.dpiY ?? scan.dpiX ?? deps.config.defaultDpi },
+                maxPixels: deps.config.maxPixels,
+              },
+              items,
+              {
+                // Left out when edited, no longer approved or taken over since the claim.
+                wanted: async (i) => {
+                  const m = members[i]!;
+                  const [f] = await db.select().from(fragments).where(eq(fragments.id, m.row.id));
+                  return Boolean(
+                    f && f.status === "approved" && !f.mergedInto && f.revision === m.row.revision && f.renderJobId === jobId,
+                  );
+                },
+                done: async (i, outcome) => {
+                  const m = members[i]!;
+                  rendered++;
+                  if (!outcome.ok) return void errors.set(m.row.id, outcome.error);
+                  try {
+                    if (await store(deps, m, outcome.result)) stored.add(m.row.id);
+                  } catch (err) {
+                    errors.set(m.row.id, err);
+                  }
+                },
+              },
+            );
+          }),
+        )
+        .catch((err: unknown) => {
+          if (isStorageError(err, "missing"))
+            throw Object.assign(new Error("The original of this scan is missing from the library."), {
+              permanent: true,
+            });
+          throw err;
+        });
+    }
+  } catch (err) {
+    // The scan as a whole could not be rendered: the own fragment reports it, the others go back.
+    errors.set(ownId, err);
+  } finally {
+    log.info(
+      { scanId: scan.id, fragments: rendered, ms: Math.round(performance.now() - started), ...(errors.size ? { failed: errors.size } : {}) },
+      "render: group done",
+    );
+    // Every other fragment not stored goes back to its own job, which renders (and reports) it.
+    const back = ids.filter((id) => id !== ownId && !stored.has(id) && claimedRevision.has(id));
+    for (const id of back) {
+      if (errors.has(id)) log.warn({ fragment: id, reason: (errors.get(id) as Error).message }, "render: a fragment of the group failed; its own job will render it");
+      await db
+        .update(fragments)
+        .set({ renderState: "queued", renderJobId: null, renderClaimedAt: null })
+        .where(
+          and(
+            eq(fragments.id, id),
+            eq(fragments.revision, claimedRevision.get(id)!),
+            eq(fragments.renderState, "rendering"),
+            eq(fragments.renderJobId, jobId),
+          ),
+        )
+        .catch(() => {});
+    }
+    if (back.length) await notify(pool, { kind: "scan", scanId: scan.id }).catch(() => {});
+  }
+  if (stored.has(ownId)) return { kind: "done" };
+  if (errors.has(ownId)) return { kind: "failed", error: errors.get(ownId) };
+  // Not rendered or not stored because it changed meanwhile: released, for the caller to look again.
+  await db
+    .update(fragments)
+    .set({ renderState: "queued", renderJobId: null, renderClaimedAt: null })
+    .where(and(eq(fragments.id, ownId), eq(fragments.renderState, "rendering"), eq(fragments.renderJobId, jobId)));
+  return { kind: "skipped" };
+}
+
+async function markDone(deps: RenderDeps, row: Pick<FragmentRow, "id" | "revision" | "scanId">, db = deps.database.db) {
+  await db
+    .update(fragments)
+    .set({ renderState: "done", renderError: null, renderJobId: null, renderClaimedAt: null })
+    .where(and(eq(fragments.id, row.id), eq(fragments.revision, row.revision)));
+}
+
+/**
+ * Stores one rendered fragment: its master and web copy under their keys and their output rows,
+ * then marks it done. Under a lock per fragment and only while the fragment is still approved at
+ * the revision it was rendered from, so an older render never replaces a newer one's files.
+ * Returns false (nothing stored) when the fragment changed meanwhile.
+ */
+async function store(deps: RenderDeps, m: Member, r: RenderResult): Promise<boolean> {
+  const { row, recipe, mKey, wKey, webFormat } = m;
+  const revision = row.revision;
+  const client = await deps.database.pool.connect();
+  const lockKey = `fragment-render:${row.id}`;
+  let saved: { id: string } | undefined;
+  try {
+    const db = drizzle(client, { schema });
+    await client.query("select pg_advisory_lock(hashtextextended($1, 0))", [lockKey]);
+    try {
+      const [cur] = await db.select().from(fragments).where(eq(fragments.id, row.id));
+      if (!cur || cur.status !== "approved" || cur.mergedInto || cur.revision !== revision) {
+        m.log.info({ current: cur?.revision }, "render: changed while rendering; not stored");
+        return false;
+      }
+      await deps.library.put(mKey, r.master.path, { move: true });
+      await deps.library.put(wKey, r.web.path, { move: true });
+      const now = new Date();
+      for (const o of [
+        {
+          kind: "master" as const,
+          key: mKey,
+          format: "tiff",
+          width: r.master.width,
+          height: r.master.height,
+          bitDepth: r.master.bitDepth,
+          hasAlpha: r.master.hasAlpha,
+          dpi: r.master.dpi,
+          bytes: r.master.bytes,
+        },
+        {
+          kind: "web" as const,
+          key: wKey,
+          format: r.web.format,
+          width: r.web.width,
+          height: r.web.height,
+          bitDepth: 8,
+          hasAlpha: webFormat === "webp",
+          dpi: r.web.dpi,
+          bytes: r.web.bytes,
+        },
+      ]) {
+        const [out] = await db
+          .insert(outputs)
+          .values({ fragmentId: row.id, revision, recipeVersionId: recipe.id, ...o })
+          .onConflictDoUpdate({
+            target: [outputs.fragmentId, outputs.kind],
+            targetWhere: sql`${outputs.kind} in ('master', 'web')`,
+            set: { ...o, revision, recipeVersionId: recipe.id, updatedAt: now, createdAt: now },
+          })
+          .returning({ id: outputs.id });
+        if (o.kind === "master") saved = out;
+      }
+      await markDone(deps, row, db);
+    } finally {
+      await client.query("select pg_advisory_unlock(hashtextextended($1, 0))", [lockKey]);
+    }
+  } finally {
+    client.release();
+  }
+  // Every new master also goes off-site when a bucket is configured (a job of its own).
+  if (saved && deps.offsite && deps.boss) await queueOffsiteCopy(deps.database, deps.boss, saved.id, mKey);
+  await notify(deps.database.pool, { kind: "scan", scanId: row.scanId });
+  m.log.info({ master: `${r.master.width}×${r.master.height}`, dpi: r.master.dpi }, "render: done");
+  return true;
 }

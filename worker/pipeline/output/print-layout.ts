@@ -118,11 +118,8 @@ export function cropMarks(area: RectIn, page: PaperSize): LineIn[] {
 /** Caption font size, points (1 pt = 1/72 in), and its gap below the print area, inches. */
 export const CAPTION = { sizePt: 9, gapIn: 0.12 } as const;
 
-/** The caption line: the title (if any) and the printed size in inches and cm. Example: "Blue gull — 8 × 10 in (20.32 × 25.4 cm)". */
-export function captionText(title: string | undefined, printed: RectIn): string {
-  const size = `${formatNumber(printed.width)} × ${formatNumber(printed.height)} in (${formatNumber(printed.width * 2.54)} × ${formatNumber(printed.height * 2.54)} cm)`;
-  return title ? `${title} — ${size}` : size;
-}
+/** The caption's words live in shared/paper.ts, so the preset editor's picture shows the same line. */
+export { captionText } from "../../../shared/paper";
 
 /** Baseline of the caption (inches from the top), or null when the bottom margin has no room for it. */
 export function captionBaseline(area: RectIn, page: PaperSize): number | null {

@@ -194,10 +194,11 @@ export interface BatchItem {
 /**
  * Renders several fragments of one scan from a single decode of it: the scan is decoded once into
  * a temporary uncompressed copy (see decodeScan, removed at the end), and every fragment is cut
- * from that copy instead of decoding the scan again up to its rows. The outputs, checks and
- * errors are those of renderFragment, item by item, in order. Every item's arguments are checked
- * before any pixel is decoded; a failing item throws its error, and the items before it are
- * complete (renamed into place), the ones after it untouched.
+ * from that copy instead of decoding the scan again up to its rows (a single fragment is cut
+ * straight from the scan, as renderFragment does: that is already one decode, of fewer rows). The
+ * outputs, checks and errors are those of renderFragment, item by item, in order. Every item's
+ * arguments are checked before any pixel is decoded; a failing item throws its error, and the
+ * items before it are complete (renamed into place), the ones after it untouched.
  * Example: await renderFragments({ source: "scan.tif", dpi: { x: 600, y: 600 }, maxPixels: 500e6 },
  *   fragments.map((f, i) => ({ geometry: f, targets: { masterPath: `m${i}.tif`, webPath: `w${i}.jpg` } })))
  *   → [{ master: { width: 1538, … }, web: { … } }, …].
@@ -206,6 +207,47 @@ export async function renderFragments(
   scan: Pick<RenderInput, "source" | "dpi" | "maxPixels">,
   items: BatchItem[],
 ): Promise<RenderResult[]> {
+  const results: RenderResult[] = [];
+  await renderFromOneDecode(scan, items, {
+    strict: true,
+    done: (_i, outcome) => {
+      if (!outcome.ok) throw outcome.error;
+      results.push(outcome.result);
+    },
+  });
+  return results;
+}
+
+/** What became of one item of renderEach: its result (both files in place), or its error. */
+export type ItemOutcome = { ok: true; result: RenderResult } | { ok: false; error: unknown };
+
+export interface EachOptions {
+  /** Asked just before item `index` is cut; false leaves it out (no files, no outcome). */
+  wanted?: (index: number) => boolean | Promise<boolean>;
+  /** Receives each item's outcome as soon as it is known; the next item starts when it resolves. */
+  done: (index: number, outcome: ItemOutcome) => void | Promise<void>;
+}
+
+/**
+ * renderFragments for work where one item's failure must not stop the others: a bad item (its
+ * arguments, its geometry, its cut or its files) goes to `each.done` as that item's error and the
+ * next item is rendered. Only what concerns the whole scan throws: it cannot be read or decoded
+ * (ScanError), or the scan's resolution or size limit is wrong (RenderError bad_request).
+ * Example: await renderEach(scan, items, { done: (i, o) => (o.ok ? store(i, o.result) : report(i, o.error)) }).
+ */
+export async function renderEach(
+  scan: Pick<RenderInput, "source" | "dpi" | "maxPixels">,
+  items: BatchItem[],
+  each: EachOptions,
+): Promise<void> {
+  await renderFromOneDecode(scan, items, { ...each, strict: false });
+}
+
+async function renderFromOneDecode(
+  scan: Pick<RenderInput, "source" | "dpi" | "maxPixels">,
+  items: BatchItem[],
+  each: EachOptions & { strict: boolean },
+): Promise<void> {
   const inputs = items.map((item): RenderInput => ({
     source: scan.source,
     dpi: scan.dpi,
@@ -214,25 +256,45 @@ export async function renderFragments(
     metadata: item.metadata,
     recipe: item.recipe,
   }));
-  const checked = inputs.map((input, i) => checkInput(input, items[i]!.targets));
-  if (items.length === 0) return [];
+  // The scan's own arguments concern every item: checked first, thrown.
+  checkDpi(scan.dpi);
+  if (!(Number.isInteger(scan.maxPixels) && scan.maxPixels > 0)) {
+    throw renderErrors.badOption("maxPixels", "a positive integer (pixels)", scan.maxPixels);
+  }
+  const checked: (CheckedInput | { error: unknown })[] = inputs.map((input, i) => {
+    if (each.strict) return checkInput(input, items[i]!.targets);
+    try {
+      return checkInput(input, items[i]!.targets);
+    } catch (error) {
+      return { error };
+    }
+  });
+  if (items.length === 0) return;
   const inspected = await inspectScanFile(scan.source, scan.maxPixels);
   const { width, height } = uprightSizeOf(inspected);
-  for (const c of checked) assertFits(c.geometry, width, height);
-  const decoded = await decodeScan(
-    scan.source,
-    colourPlan(inspected.meta),
-    inspected,
-    scan.maxPixels,
-  );
+  if (each.strict) for (const c of checked) assertFits((c as CheckedInput).geometry, width, height);
+  const decoded =
+    items.length > 1
+      ? await decodeScan(scan.source, colourPlan(inspected.meta), inspected, scan.maxPixels)
+      : undefined;
   try {
-    const results: RenderResult[] = [];
     for (const [i, input] of inputs.entries()) {
-      results.push(await renderChecked(input, items[i]!.targets, checked[i]!, inspected, decoded));
+      const c = checked[i]!;
+      if ("error" in c) {
+        await each.done(i, { ok: false, error: c.error });
+        continue;
+      }
+      if (each.wanted && !(await each.wanted(i))) continue;
+      let outcome: ItemOutcome;
+      try {
+        outcome = { ok: true, result: await renderChecked(input, items[i]!.targets, c, inspected, decoded) };
+      } catch (error) {
+        outcome = { ok: false, error };
+      }
+      await each.done(i, outcome);
     }
-    return results;
   } finally {
-    await decoded.dispose();
+    await decoded?.dispose();
   }
 }
 

@@ -1,5 +1,6 @@
 import { useId } from "react";
 import { formatNumber } from "../../../../shared/units";
+import { captionText } from "../../../../shared/paper";
 import type { PrintPreset } from "../../../../shared/schemas/presets";
 import { cn } from "../../../lib/cn";
 import { paperLabel } from "../format";
@@ -36,7 +37,7 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
     [v.x, v.y + v.height, -1, 1],
     [v.x + v.width, v.y + v.height, 1, 1],
   ];
-  const caption = `${piece.title} · ${formatNumber(p.width, 2)} × ${formatNumber(p.height, 2)} in`;
+  const caption = captionText(piece.title, p);
   const dpi = Math.round(place.effectiveDpi);
 
   return (
