@@ -7,6 +7,7 @@
  * Pixel sizes of print files are inches × DPI rounded to the nearest whole pixel.
  */
 import { formatNumber, MM_PER_INCH } from "./units";
+import type { PrintPreset } from "./schemas/presets";
 
 /** Papers a preset can name; "custom" takes its own width and height in mm. */
 export const PAPER_NAMES = [
@@ -255,4 +256,30 @@ function round(v: number): number {
 export function captionText(title: string | undefined, printed: Pick<RectIn, "width" | "height">): string {
   const size = `${formatNumber(printed.width)} × ${formatNumber(printed.height)} in (${formatNumber(printed.width * 2.54)} × ${formatNumber(printed.height * 2.54)} cm)`;
   return title ? `${title} — ${size}` : size;
+}
+
+/**
+ * The page and print area a print preset gives a piece, for the worker and the preset editor's
+ * picture alike. Orientation "auto" turns the paper to the piece's shape; margins are given for
+ * the paper held upright and turn with it for landscape. Throws RangeError when the settings
+ * leave no print area.
+ * Example: print-a4 (10 mm margins) for a 3000 × 2000 px piece → landscape A4, area 10.906 × 7.480 in at (0.394, 0.394).
+ */
+export function printPage(
+  preset: Pick<PrintPreset, "paper" | "orientation" | "layout">,
+  piece: { widthPx: number; heightPx: number },
+): { page: PaperSize; orientation: Orientation; area: RectIn } {
+  const { paper } = preset;
+  const portrait = paperSize(
+    paper.size,
+    paper.size === "custom" ? { widthMm: paper.widthMm!, heightMm: paper.heightMm! } : undefined,
+  );
+  const orientation: Orientation =
+    preset.orientation === "auto" ? (piece.widthPx > piece.heightPx ? "landscape" : "portrait") : preset.orientation;
+  const page = oriented(portrait, orientation);
+  const l = preset.layout;
+  if (l.mode === "area") return { page, orientation, area: centredArea(page, l.widthIn, l.heightIn) };
+  const turned = orientation === "landscape" && portrait.widthMm <= portrait.heightMm;
+  const m = turned ? { top: l.left, right: l.top, bottom: l.right, left: l.bottom } : l;
+  return { page, orientation, area: areaFromMargins(page, m) };
 }

@@ -19,6 +19,7 @@ import {
 import { BUILT_IN_PRESETS, presetProblem, presetSchema } from "../shared/schemas/presets";
 import { webGeometry } from "../worker/pipeline/output/web";
 import { printLayout } from "../worker/pipeline/output/print-layout";
+import { printLayout as editorLayout } from "../src/features/presets/print-layout";
 import type { PrintPreset, WebPreset } from "../shared/schemas/presets";
 
 describe("paper sizes", () => {
@@ -141,6 +142,26 @@ describe("web boxes", () => {
     // Never enlarged by contain unless asked: a 500 px piece sits at its own size.
     expect(webGeometry(500, 400, square)).toMatchObject({ pieceWidth: 500, pieceHeight: 400, left: 290, top: 340 });
     expect(webGeometry(3000, 2000, BUILT_IN_PRESETS.web as WebPreset)).toMatchObject({ canvasWidth: 2048, canvasHeight: 1365 });
+  });
+});
+
+describe("the preset editor's picture", () => {
+  it("lays the page out as the print file does, margins turned with landscape paper", () => {
+    // Uneven margins (mm) on A4 held upright: top 10, right 20, bottom 30, left 40. A wide piece
+    // turns the paper, and the margins turn with it (clockwise: the upright left becomes the top).
+    const preset = presetSchema.parse({ kind: "print", name: "p", paper: { size: "a4" }, layout: { mode: "margins", top: 10, right: 20, bottom: 30, left: 40 }, printDpi: 300, scale: { mode: "fit" }, output: "tiff" }) as PrintPreset;
+    const piece = { widthPx: 3000, heightPx: 2000, dpi: 300, title: "Wide" };
+    const file = printLayout(piece, preset);
+    const picture = editorLayout(preset, piece);
+    expect(picture.ok).toBe(true);
+    if (!picture.ok) return;
+    expect(file.orientation).toBe("landscape");
+    // ISO 216: A4 is 210 × 297 mm; landscape 297 wide. Area: 297 − 10 − 30 = 257 mm by 210 − 40 − 20 = 150 mm.
+    expect(file.area.width * 25.4).toBeCloseTo(257, 6);
+    expect(file.area.height * 25.4).toBeCloseTo(150, 6);
+    expect(picture.page).toEqual(file.page);
+    expect(picture.area).toEqual(file.area);
+    expect(picture.place).toEqual(file.place);
   });
 });
 

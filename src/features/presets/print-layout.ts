@@ -1,11 +1,8 @@
 import {
-  areaFromMargins,
-  centredArea,
   dpiWarning,
   inchesToPx,
-  oriented,
-  paperSize,
   placePiece,
+  printPage,
   type PaperSize,
   type PiecePlacement,
   type RectIn,
@@ -43,19 +40,7 @@ export type PrintLayout =
  */
 export function printLayout(p: PrintPreset, piece: SamplePiece): PrintLayout {
   try {
-    const portrait = paperSize(
-      p.paper.size,
-      p.paper.size === "custom" && p.paper.widthMm && p.paper.heightMm
-        ? { widthMm: p.paper.widthMm, heightMm: p.paper.heightMm }
-        : undefined,
-    );
-    const orientation =
-      p.orientation === "auto" ? (piece.widthPx > piece.heightPx ? "landscape" : "portrait") : p.orientation;
-    const page = oriented(portrait, orientation);
-    const area =
-      p.layout.mode === "area"
-        ? centredArea(page, p.layout.widthIn, p.layout.heightIn)
-        : areaFromMargins(page, p.layout);
+    const { page, area } = printPage(p, piece);
     const place = placePiece(piece, area, p.scale, p.placement);
     return {
       ok: true,

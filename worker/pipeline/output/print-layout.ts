@@ -3,13 +3,10 @@
  * marks around it, computed once for the TIFF and the PDF so both put the piece in the same spot.
  */
 import {
-  areaFromMargins,
-  centredArea,
   dpiWarning,
   inchesToPx,
-  oriented,
-  paperSize,
   placePiece,
+  printPage,
   type PaperSize,
   type PiecePlacement,
   type RectIn,
@@ -51,17 +48,7 @@ const rectPx = (r: RectIn, dpi: number): RectPx => {
  * page 2550 × 3300 px, area 8 × 10 in at (0.25, 0.5) in, effective 300 DPI.
  */
 export function printLayout(piece: { widthPx: number; heightPx: number; dpi: number }, preset: PrintPreset): PrintLayout {
-  const portrait = paperSize(preset.paper.size, preset.paper.size === "custom" ? { widthMm: preset.paper.widthMm!, heightMm: preset.paper.heightMm! } : undefined);
-  const orientation = preset.orientation === "auto" ? (piece.widthPx > piece.heightPx ? "landscape" : "portrait") : preset.orientation;
-  const page = oriented(portrait, orientation);
-  const l = preset.layout;
-  let area: RectIn;
-  if (l.mode === "area") area = centredArea(page, l.widthIn, l.heightIn);
-  else {
-    // Margins are given for the paper held upright; turned with it for landscape.
-    const m = orientation === "landscape" && portrait.widthMm <= portrait.heightMm ? { top: l.left, right: l.top, bottom: l.right, left: l.bottom } : l;
-    area = areaFromMargins(page, m);
-  }
+  const { page, orientation, area } = printPage(preset, piece);
   const place = placePiece(piece, area, preset.scale, preset.placement);
   const dpi = preset.printDpi;
   const pagePx = { width: inchesToPx(page.widthIn, dpi), height: inchesToPx(page.heightIn, dpi) };

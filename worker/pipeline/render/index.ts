@@ -355,17 +355,24 @@ async function renderChecked(
   try {
     const masterFile = await stage(out.masterPath);
     staged.push(masterFile);
-    const master = await writeMaster(cut, colour, masterFile, { dpi: input.dpi, rights, alpha });
     current = out.webPath;
     const webFile = await stage(out.webPath);
     staged.push(webFile);
-    const web = await writeWebCopy(cut, colour, webFile, {
-      format,
-      longEdge,
-      dpi: input.dpi.x,
-      rights,
-      outline,
-    });
+    // Both copies are encoded at once from the same cut: each encoder runs mostly on one thread
+    // (LZW, JPEG, WebP), so together they keep two cores busy. Both are settled before anything
+    // is committed or discarded, and the first to fail names its file.
+    const [masterDone, webDone] = await Promise.allSettled([
+      writeMaster(cut, colour, masterFile, { dpi: input.dpi, rights, alpha }),
+      writeWebCopy(cut, colour, webFile, { format, longEdge, dpi: input.dpi.x, rights, outline }),
+    ]);
+    if (masterDone.status === "rejected") {
+      current = out.masterPath;
+      throw masterDone.reason;
+    }
+    if (webDone.status === "rejected") throw webDone.reason;
+    const master = masterDone.value;
+    const web = webDone.value;
+    current = out.masterPath;
     const [masterBytes, webBytes] = await Promise.all(
       staged.map(async (f) => (await fs.stat(f.temp)).size),
     );
