@@ -154,6 +154,14 @@ async function renderBatch(
   );
 }
 
+/** The whole scan decoded into memory once, as sharp alone would, with the options to read it back. */
+async function decodeRaw(file: string) {
+  const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels })
+    .raw()
+    .toBuffer({ resolveWithObject: true });
+  return { data, info, raw: { raw: { width: info.width, height: info.height, channels: info.channels } } };
+}
+
 /**
  * The bare floor: one decode of the scan, then each fragment's box encoded straight from the
  * decoded pixels (an LZW TIFF, a 4:2:0 JPEG of long edge 2048): no analysis, no turn, no mask.
@@ -164,10 +172,7 @@ async function bareFloor(
   outDir: string,
   fragments: SplitResult["fragments"],
 ): Promise<void> {
-  const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels })
-    .raw()
-    .toBuffer({ resolveWithObject: true });
-  const raw = { raw: { width: info.width, height: info.height, channels: info.channels } };
+  const { data, raw } = await decodeRaw(file);
   for (const [i, f] of fragments.entries()) {
     const region = { left: f.box.x, top: f.box.y, width: f.box.width, height: f.box.height };
     await sharp(data, raw)
@@ -207,10 +212,7 @@ async function sameOutputsFloor(
   fragments: SplitResult["fragments"],
   dpi: { x: number; y: number },
 ): Promise<void> {
-  const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels })
-    .raw()
-    .toBuffer({ resolveWithObject: true });
-  const raw = { raw: { width: info.width, height: info.height, channels: info.channels } };
+  const { data, info, raw } = await decodeRaw(file);
   for (const [i, f] of fragments.entries()) {
     const plan = planUpright(f, info.width, info.height);
     const canvas = await sharp(data, raw)
