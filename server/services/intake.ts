@@ -37,17 +37,33 @@ export interface IntakeResult {
 
 /**
  * The one way a file enters Platen, for the watcher and for uploads alike: copy it into the
- * library by content (one read, hashed on the way, fsynced, renamed), record a scan in the current
- * intake and queue its analysis in the same transaction. The same content twice is recorded as a
+ * library by content (one read, hashed on the way, fsynced, renamed; before the transaction),
+ * then record a scan in the current intake and queue its analysis in one transaction. The same content twice is recorded as a
  * duplicate of the first and not analysed again. Only then is the arriving file removed.
  */
 export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<IntakeResult> {
   const { database, boss, library } = deps;
   const staged = await library.stageCopy(input.path);
   const key = originalKey(staged.sha256, input.originalName);
+  // New content is stored before the transaction opens (on object storage an upload of a large
+  // scan takes a while, and a transaction should not wait on it). The key is the content's and
+  // write-once, so a transaction that then fails leaves a file the next arrival of the same
+  // content finds in place; content the library already holds is not stored again.
+  const [known] = await database.db
+    .select({ id: scans.id })
+    .from(scans)
+    .where(and(eq(scans.sha256, staged.sha256), ne(scans.status, "duplicate")))
+    .limit(1);
+  let stored = false;
+  const storeOriginal = async () => {
+    if (stored) return;
+    await library.commit(staged, key);
+    stored = true;
+  };
 
   let result: IntakeResult;
   try {
+    if (!known) await storeOriginal();
     result = await withTx(database, boss, async (tx) => {
       const intake = await currentIntake(tx.db);
       const [first] = await tx.db
@@ -73,6 +89,9 @@ export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<
         // A duplicate is final at once: its intake may be finished now (the notice job checks).
         await tx.send(QUEUES.notice, { event: "intake-settled", intakeId: intake.id });
       } else {
+        // The first of its content: its original must be in place before this row commits (it
+        // is, unless the scan seen above was deleted meanwhile).
+        await storeOriginal();
         const [row] = await tx.db
           .insert(scans)
           .values({ ...base, originalKey: key, status: "queued", stage: "Waiting for a worker" })
@@ -91,10 +110,9 @@ export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<
         });
       }
       await tx.notify({ kind: "scan", scanId: r.scanId, status: first ? "duplicate" : "queued" });
-      // The original goes into place before commit: a committed scan row always has its file.
-      await library.commit(staged, key);
       return r;
     });
+    if (!stored) await library.discard(staged);
   } catch (err) {
     await library.discard(staged);
     // Two copies of the same content raced: the loser is a duplicate of the winner.

@@ -1,0 +1,96 @@
+import fs from "node:fs/promises";
+import path from "node:path";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { eq } from "drizzle-orm";
+import type PgBoss from "pg-boss";
+import { testEnvironment, waitFor } from "./helpers/stack";
+import { paperScan } from "./helpers/fixtures";
+import { scans } from "../server/db/schema";
+import type { Database } from "../server/db";
+import type { LocalStorage } from "../server/storage/local";
+
+let t: Awaited<ReturnType<typeof testEnvironment>>;
+let database: Database;
+let boss: PgBoss;
+let library: LocalStorage;
+let released: () => void = () => {};
+let storing: () => void = () => {};
+
+beforeAll(async () => {
+  t = await testEnvironment({});
+  const { overrideConfig } = await import("../server/config");
+  const cfg = overrideConfig(t.env);
+  const { openDatabase } = await import("../server/db");
+  const { startBoss } = await import("../server/jobs/boss");
+  const { ensureStudio } = await import("../server/services/bootstrap");
+  const { LocalStorage } = await import("../server/storage/local");
+  database = openDatabase(cfg.databaseUrl, 4);
+  await ensureStudio(database.db, cfg, "Test studio", false);
+  boss = await startBoss({ url: cfg.databaseUrl, log: (await import("../server/logger")).logger, supervise: false });
+  // A library whose storing of an original waits until the test lets it go, as a slow upload to
+  // object storage would.
+  library = new (class extends LocalStorage {
+    override async commit(...args: Parameters<LocalStorage["commit"]>) {
+      const go = new Promise<void>((r) => (released = r));
+      storing();
+      await go;
+      return super.commit(...args);
+    }
+  })(t.env.PLATEN_LIBRARY_DIR!);
+});
+
+afterAll(async () => {
+  await boss?.stop({ graceful: false, wait: true }).catch(() => {});
+  await database?.close();
+  await t?.cleanup();
+});
+
+/** Connections of this test's database that sit inside an open transaction. */
+async function openTransactions(): Promise<number> {
+  const { rows } = await database.pool.query<{ n: string }>(
+    "select count(*) as n from pg_stat_activity where datname = current_database() and state like 'idle in transaction%' and pid <> pg_backend_pid()",
+  );
+  return Number(rows[0]!.n);
+}
+
+describe("intake", () => {
+  it("stores the original before it opens its transaction, so a slow upload holds no transaction open", async () => {
+    const { intakeFile } = await import("../server/services/intake");
+    const { logger } = await import("../server/logger");
+    const file = path.join(t.dir, "slow-upload.tif");
+    await fs.writeFile(file, await paperScan({ seed: 41 }));
+    const started = new Promise<void>((r) => (storing = r));
+    const done = intakeFile({ database, boss, library, log: logger }, { path: file, originalName: "slow-upload.tif", source: "inbox", removeSource: true });
+    await started;
+    // While the original is being stored: no transaction is open and no scan row exists yet.
+    expect(await openTransactions()).toBe(0);
+    expect(await database.db.select().from(scans)).toHaveLength(0);
+    released();
+    const result = await done;
+    const [row] = await database.db.select().from(scans).where(eq(scans.id, result.scanId));
+    expect(row).toMatchObject({ status: "queued", sha256: result.sha256 });
+    // The committed row's original is in the library, under its content's key.
+    expect(await library.exists(row!.originalKey)).toBe(true);
+    await waitFor("the arriving file to be removed", async () => !(await fs.stat(file).catch(() => null)));
+  });
+
+  it("stores nothing again for content the library already holds (a duplicate, even under another extension)", async () => {
+    const { intakeFile } = await import("../server/services/intake");
+    const { logger } = await import("../server/logger");
+    const first = (await database.db.select().from(scans))[0]!;
+    const file = path.join(t.dir, "same-again.tiff");
+    await fs.writeFile(file, await paperScan({ seed: 41 }));
+    let stored = false;
+    storing = () => {
+      stored = true;
+      released();
+    };
+    const result = await intakeFile({ database, boss, library, log: logger }, { path: file, originalName: "same-again.tiff", source: "inbox", removeSource: true });
+    expect(result.duplicateOf).toBe(first.id);
+    expect(stored).toBe(false);
+    const [row] = await database.db.select().from(scans).where(eq(scans.id, result.scanId));
+    expect(row).toMatchObject({ status: "duplicate", originalKey: first.originalKey });
+    const keys = await library.list("originals/");
+    expect(keys).toEqual([first.originalKey]);
+  });
+});
