@@ -13,8 +13,8 @@ import {
 } from "../../../shared/schemas/fragments";
 import { isScanError } from "../errors";
 import { inspectScanFile, type Inspected } from "../inspect";
-import { colourPlan } from "./colour";
-import { cutUpright, decodeScan, type DecodedScan } from "./cut";
+import { colourPlan, type ColourPlan } from "./colour";
+import { cutUpright, decodeScan, type DecodedScan, type UprightCut } from "./cut";
 import { correctCut, type RenderRecipe } from "./correct";
 import type { AppliedStep } from "../colour";
 import { isRenderError, renderErrors } from "./errors";
@@ -277,23 +277,45 @@ async function renderFromOneDecode(
     items.length > 1
       ? await decodeScan(scan.source, colourPlan(inspected.meta), inspected, scan.maxPixels)
       : undefined;
+  // From the decoded copy the work is a pipeline of two stages: while one fragment's files are
+  // written (encoders, mostly one thread each) and handed to `done`, the next one is cut and
+  // corrected (the affine turn and the recipe, threaded), so both cores stay busy. At most two
+  // cuts are held at once. Cut from the scan itself (a group of one), there is no next.
+  type Prepared =
+    | { kind: "ready"; cut: PreparedCut }
+    | { kind: "failed"; error: unknown }
+    | { kind: "skipped" };
+  const prepareAt = async (i: number): Promise<Prepared> => {
+    const c = checked[i]!;
+    if ("error" in c) return { kind: "failed", error: c.error };
+    try {
+      if (each.wanted && !(await each.wanted(i))) return { kind: "skipped" };
+      return { kind: "ready", cut: await prepareCut(inputs[i]!, c, inspected, decoded) };
+    } catch (error) {
+      return { kind: "failed", error };
+    }
+  };
+  let next: Promise<Prepared> | null = prepareAt(0);
   try {
-    for (const [i, input] of inputs.entries()) {
-      const c = checked[i]!;
-      if ("error" in c) {
-        await each.done(i, { ok: false, error: c.error });
-        continue;
-      }
-      if (each.wanted && !(await each.wanted(i))) continue;
+    for (let i = 0; i < inputs.length; i++) {
+      const prepared: Prepared = await next!;
+      next = i + 1 < inputs.length ? prepareAt(i + 1) : null;
+      if (prepared.kind === "skipped") continue;
       let outcome: ItemOutcome;
-      try {
-        outcome = { ok: true, result: await renderChecked(input, items[i]!.targets, c, inspected, decoded) };
-      } catch (error) {
-        outcome = { ok: false, error };
+      if (prepared.kind === "failed") outcome = { ok: false, error: prepared.error };
+      else {
+        try {
+          const c = checked[i] as CheckedInput;
+          outcome = { ok: true, result: await writeBoth(inputs[i]!, items[i]!.targets, c, prepared.cut) };
+        } catch (error) {
+          outcome = { ok: false, error };
+        }
       }
       await each.done(i, outcome);
     }
   } finally {
+    // A cut still in progress reads the decoded copy: let it finish before the copy goes.
+    await next;
     await decoded?.dispose();
   }
 }
@@ -331,7 +353,26 @@ async function renderChecked(
   inspected: Inspected,
   decoded: DecodedScan | undefined,
 ): Promise<RenderResult> {
-  const { format, longEdge, geometry, rights } = checked;
+  return writeBoth(input, out, checked, await prepareCut(input, checked, inspected, decoded));
+}
+
+/** One fragment cut upright and corrected, with its outline and alpha: all the files need. */
+interface PreparedCut {
+  cut: UprightCut;
+  colour: ColourPlan;
+  applied: AppliedStep[];
+  outline: Point[] | null;
+  alpha: Uint8Array | Uint16Array | null;
+}
+
+/** Cuts the fragment upright (from the scan or its `decoded` copy), corrects it, rasterises its mask. */
+async function prepareCut(
+  input: RenderInput,
+  checked: CheckedInput,
+  inspected: Inspected,
+  decoded: DecodedScan | undefined,
+): Promise<PreparedCut> {
+  const { geometry } = checked;
   const { width, height } = uprightSizeOf(inspected);
   assertFits(geometry, width, height);
 
@@ -349,7 +390,18 @@ async function renderChecked(
         depth: colour.bitDepth,
       })
     : null;
+  return { cut, colour, applied, outline, alpha };
+}
 
+/** Writes the master and the web copy of a prepared cut, each staged and renamed into place. */
+async function writeBoth(
+  input: RenderInput,
+  out: RenderTargets,
+  checked: CheckedInput,
+  prepared: PreparedCut,
+): Promise<RenderResult> {
+  const { format, longEdge, rights } = checked;
+  const { cut, colour, applied, outline, alpha } = prepared;
   const staged: StagedFile[] = [];
   let current = out.masterPath;
   try {
