@@ -1,5 +1,6 @@
 import type { ScanStatus } from "../../shared/schemas/scans";
 import { cn } from "../lib/cn";
+import { StatusPill } from "./status-pill";
 
 export const STATUS_LABELS: Record<ScanStatus, string> = {
   queued: "Queued",
@@ -78,16 +79,13 @@ export function StatusGlyph({ status, className }: { status: ScanStatus; classNa
 
 export function StatusBadge({ status, className }: { status: ScanStatus; className?: string }) {
   return (
-    <span
+    <StatusPill
       title={STATUS_HINTS[status]}
-      className={cn(
-        "inline-flex items-center gap-1.5 rounded-full border px-2.5 py-0.5 text-xs font-medium whitespace-nowrap",
-        TONES[status],
-        className,
-      )}
+      tone={TONES[status]}
+      glyph={<StatusGlyph status={status} />}
+      className={className}
     >
-      <StatusGlyph status={status} />
       {STATUS_LABELS[status]}
-    </span>
+    </StatusPill>
   );
 }

@@ -1,17 +1,15 @@
 import { useQueryClient } from "@tanstack/react-query";
 import { Link, useParams } from "react-router-dom";
 import type { Scan } from "../../../shared/schemas/scans";
-import { Spinner } from "../../components/button";
 import { NotAllowed } from "../../components/not-allowed";
-import { LoadError, Notice } from "../../components/notice";
+import { Notice } from "../../components/notice";
 import { ProgressBar } from "../../components/progress-bar";
 import { StatusBadge } from "../../components/status-badge";
 import { paths } from "../../config/paths";
 import { ReviewWorkspace } from "../../features/fragments/components/review-workspace";
 import { scanQueryOptions, useScan } from "../../features/scans/api/get-scan";
-import { ApiError } from "../../lib/api-client";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
-import { NotFoundRoute } from "./not-found";
+import { ScanNotLoaded } from "./scan-not-loaded";
 
 export function ScanReviewRoute() {
   const me = useSessionUser();
@@ -25,28 +23,7 @@ function ScanReview() {
   const scan = useScan(id);
   const queryClient = useQueryClient();
 
-  if (scan.isPending) {
-    return (
-      <p className="flex items-center gap-2 text-sm text-ink-muted">
-        <Spinner /> Loading the scan…
-      </p>
-    );
-  }
-  if (scan.isError) {
-    if (
-      scan.error instanceof ApiError &&
-      (scan.error.status === 404 || scan.error.status === 400)
-    ) {
-      return (
-        <NotFoundRoute
-          title="No scan with this address"
-          message="It may never have existed, or the link was copied incompletely."
-          back={{ to: paths.scans, label: "Back to the scans" }}
-        />
-      );
-    }
-    return <LoadError error={scan.error} onRetry={() => void scan.refetch()} />;
-  }
+  if (!scan.isSuccess) return <ScanNotLoaded scan={scan} />;
   const s = scan.data;
   const heading = (
     <div className="flex flex-wrap items-center gap-3">

@@ -1,6 +1,5 @@
 import { Link, useParams } from "react-router-dom";
-import { Spinner } from "../../components/button";
-import { LoadError, Notice } from "../../components/notice";
+import { Notice } from "../../components/notice";
 import { StatusBadge } from "../../components/status-badge";
 import { paths } from "../../config/paths";
 import { useScan } from "../../features/scans/api/get-scan";
@@ -9,36 +8,14 @@ import { ReviewState } from "../../features/scans/components/review-state";
 import { ScanDetails } from "../../features/scans/components/scan-details";
 import { ScanPreview } from "../../features/scans/components/scan-preview";
 import { useHasRole } from "../../lib/authorization";
-import { ApiError } from "../../lib/api-client";
-import { NotFoundRoute } from "./not-found";
+import { ScanNotLoaded } from "./scan-not-loaded";
 
 export function ScanRoute() {
   const { id = "" } = useParams();
   const scan = useScan(id);
   const canRetry = useHasRole("operator");
 
-  if (scan.isPending) {
-    return (
-      <p className="flex items-center gap-2 text-sm text-ink-muted">
-        <Spinner /> Loading the scan…
-      </p>
-    );
-  }
-  if (scan.isError) {
-    if (
-      scan.error instanceof ApiError &&
-      (scan.error.status === 404 || scan.error.status === 400)
-    ) {
-      return (
-        <NotFoundRoute
-          title="No scan with this address"
-          message="It may never have existed, or the link was copied incompletely."
-          back={{ to: paths.scans, label: "Back to the scans" }}
-        />
-      );
-    }
-    return <LoadError error={scan.error} onRetry={() => void scan.refetch()} />;
-  }
+  if (!scan.isSuccess) return <ScanNotLoaded scan={scan} />;
   const s = scan.data;
   return (
     <>

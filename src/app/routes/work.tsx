@@ -4,9 +4,9 @@ import { LoadError } from "../../components/notice";
 import { EmptyNote, PageHeader } from "../../components/panel";
 import { paths } from "../../config/paths";
 import { useFragments } from "../../features/fragments/api/get-fragments";
+import { LengthUnitSwitch } from "../../features/fragments/components/length-unit-switch";
 import { useLengthUnit } from "../../features/fragments/components/use-length-unit";
 import { WorkGrid } from "../../features/fragments/components/work-grid";
-import { cn } from "../../lib/cn";
 import { useHasRole } from "../../lib/authorization";
 
 const PAGE_SIZE = 60;
@@ -40,26 +40,7 @@ export function WorkRoute() {
       <PageHeader
         title="Approved work"
         description="Every piece that passed review, stood upright, with its archival master and web copy to download."
-        actions={
-          <div role="radiogroup" aria-label="Sizes in" className="flex items-center gap-1 text-sm">
-            <span className="text-ink-muted">Sizes in</span>
-            {(["mm", "in"] as const).map((u) => (
-              <button
-                key={u}
-                type="button"
-                role="radio"
-                aria-checked={unit === u}
-                onClick={() => setUnit(u)}
-                className={cn(
-                  "rounded px-2 py-0.5 font-medium",
-                  unit === u ? "bg-ink text-paper-50" : "text-ink-soft hover:bg-paper-200",
-                )}
-              >
-                {u}
-              </button>
-            ))}
-          </div>
-        }
+        actions={<LengthUnitSwitch unit={unit} onUnit={setUnit} />}
       />
       {scanId && (
         <p className="mb-4 text-sm text-ink-soft">

@@ -1,4 +1,5 @@
 import type { FragmentStatus } from "../../../../shared/schemas/fragments";
+import { StatusPill } from "../../../components/status-pill";
 import { cn } from "../../../lib/cn";
 import { FRAGMENT_STATUS_HINTS, FRAGMENT_STATUS_LABELS } from "../format";
 
@@ -57,17 +58,14 @@ export function FragmentStatusBadge({
   className?: string;
 }) {
   return (
-    <span
+    <StatusPill
       title={FRAGMENT_STATUS_HINTS[status]}
       data-status={status}
-      className={cn(
-        "inline-flex items-center gap-1.5 rounded-full border px-2.5 py-0.5 text-xs font-medium whitespace-nowrap",
-        TONES[status],
-        className,
-      )}
+      tone={TONES[status]}
+      glyph={<FragmentStatusGlyph status={status} />}
+      className={className}
     >
-      <FragmentStatusGlyph status={status} />
       {FRAGMENT_STATUS_LABELS[status]}
-    </span>
+    </StatusPill>
   );
 }

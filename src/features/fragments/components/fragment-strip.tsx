@@ -1,9 +1,11 @@
-import { useEffect, useRef, useState } from "react";
+import { useEffect, useRef } from "react";
 import { cn } from "../../../lib/cn";
 import type { ShownFragment } from "../api/pending-edits";
 import { fragmentThumbUrl } from "../api/get-fragment";
 import { FRAGMENT_STATUS_LABELS, formatFragmentSize, type LengthUnit } from "../format";
 import { FragmentStatusGlyph } from "./fragment-status";
+import { LengthUnitSwitch } from "./length-unit-switch";
+import { ThumbImage } from "./thumb-image";
 
 /**
  * Every fragment of the scan as a small upright picture, in reading order: number, status and
@@ -41,24 +43,7 @@ export function FragmentStrip({
         <h2 className="text-xs font-semibold tracking-wider text-ink-muted uppercase">
           Fragments <span className="figure font-normal normal-case">({fragments.length})</span>
         </h2>
-        <div role="radiogroup" aria-label="Sizes in" className="flex items-center gap-1 text-xs">
-          <span className="text-ink-muted">Sizes in</span>
-          {(["mm", "in"] as const).map((u) => (
-            <button
-              key={u}
-              type="button"
-              role="radio"
-              aria-checked={unit === u}
-              onClick={() => onUnit(u)}
-              className={cn(
-                "rounded px-1.5 py-0.5 font-medium",
-                unit === u ? "bg-ink text-paper-50" : "text-ink-soft hover:bg-paper-200",
-              )}
-            >
-              {u}
-            </button>
-          ))}
-        </div>
+        <LengthUnitSwitch unit={unit} onUnit={onUnit} compact />
       </header>
       <ol ref={list} className="flex gap-2 overflow-x-auto px-4 pt-2 pb-3">
         {fragments.map((f) => (
@@ -112,8 +97,6 @@ export function FragmentStrip({
 }
 
 function Thumb({ fragment }: { fragment: ShownFragment }) {
-  const url = fragmentThumbUrl(fragment);
-  const [broken, setBroken] = useState<string | null>(null);
   return (
     <span
       className={cn(
@@ -121,18 +104,11 @@ function Thumb({ fragment }: { fragment: ShownFragment }) {
         fragment.status === "rejected" && "opacity-45 grayscale",
       )}
     >
-      {broken === url ? (
-        <span className="text-[10px] text-ink-faint">no picture</span>
-      ) : (
-        <img
-          src={url}
-          alt=""
-          loading="lazy"
-          decoding="async"
-          onError={() => setBroken(url)}
-          className="max-h-full max-w-full object-contain"
-        />
-      )}
+      <ThumbImage
+        src={fragmentThumbUrl(fragment)}
+        className="max-h-full max-w-full object-contain"
+        fallback={<span className="text-[10px] text-ink-faint">no picture</span>}
+      />
     </span>
   );
 }

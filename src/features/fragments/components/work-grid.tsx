@@ -1,9 +1,9 @@
-import { useState } from "react";
 import { Link } from "react-router-dom";
 import type { Fragment } from "../../../../shared/schemas/fragments";
 import { paths } from "../../../config/paths";
 import { fragmentThumbUrl } from "../api/get-fragment";
 import { formatFragmentSize, fragmentName, type LengthUnit } from "../format";
+import { ThumbImage } from "./thumb-image";
 
 /** Approved fragments as a grid of upright pictures, each with its name and size. */
 export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: LengthUnit }) {
@@ -20,7 +20,10 @@ export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: Len
           >
             <Picture fragment={f} />
             <span className="flex flex-1 flex-col gap-0.5 px-3 py-2.5">
-              <span className="truncate text-sm font-medium text-ink group-hover:text-accent">
+              <span
+                className="truncate text-sm font-medium text-ink group-hover:text-accent"
+                title={fragmentName(f)}
+              >
                 {fragmentName(f)}
               </span>
               <span className="figure text-xs text-ink-muted">
@@ -40,22 +43,13 @@ export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: Len
 }
 
 function Picture({ fragment }: { fragment: Fragment }) {
-  const url = fragmentThumbUrl(fragment);
-  const [broken, setBroken] = useState<string | null>(null);
   return (
     <span className="flex h-40 items-center justify-center overflow-hidden border-b border-paper-200 bg-[#e7e2d6] p-3">
-      {broken === url ? (
-        <span className="text-xs text-ink-faint">No picture</span>
-      ) : (
-        <img
-          src={url}
-          alt=""
-          loading="lazy"
-          decoding="async"
-          onError={() => setBroken(url)}
-          className="max-h-full max-w-full bg-white object-contain shadow-sm"
-        />
-      )}
+      <ThumbImage
+        src={fragmentThumbUrl(fragment)}
+        className="max-h-full max-w-full bg-white object-contain shadow-sm"
+        fallback={<span className="text-xs text-ink-faint">No picture</span>}
+      />
     </span>
   );
 }
