@@ -283,3 +283,12 @@ export function printPage(
   const m = turned ? { top: l.left, right: l.top, bottom: l.right, left: l.bottom } : l;
   return { page, orientation, area: areaFromMargins(page, m) };
 }
+
+/** Caption font size, points (1 pt = 1/72 in), and its gap below the printed piece, inches. */
+export const CAPTION = { sizePt: 9, gapIn: 0.12 } as const;
+
+/** Baseline of the caption under `area` (the printed piece; inches from the top), or null when the paper has no room for it below. */
+export function captionBaseline(area: RectIn, page: PaperSize): number | null {
+  const baseline = area.y + area.height + CAPTION.gapIn + CAPTION.sizePt / 72;
+  return baseline <= page.heightIn - 0.05 ? baseline : null;
+}

@@ -102,14 +102,5 @@ export function cropMarks(area: RectIn, page: PaperSize): LineIn[] {
     .filter((s) => Math.hypot(s.x2 - s.x1, s.y2 - s.y1) >= MIN_MARK_IN);
 }
 
-/** Caption font size, points (1 pt = 1/72 in), and its gap below the print area, inches. */
-export const CAPTION = { sizePt: 9, gapIn: 0.12 } as const;
-
-/** The caption's words live in shared/paper.ts, so the preset editor's picture shows the same line. */
-export { captionText } from "../../../shared/paper";
-
-/** Baseline of the caption (inches from the top), or null when the bottom margin has no room for it. */
-export function captionBaseline(area: RectIn, page: PaperSize): number | null {
-  const baseline = area.y + area.height + CAPTION.gapIn + CAPTION.sizePt / 72;
-  return baseline <= page.heightIn - 0.05 ? baseline : null;
-}
+/** The caption's size, gap and baseline live in shared/paper.ts, so the preset editor's picture draws it where the file has it. */
+export { CAPTION, captionBaseline, captionText } from "../../../shared/paper";

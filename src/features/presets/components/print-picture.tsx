@@ -1,6 +1,6 @@
 import { useId } from "react";
 import { formatNumber } from "../../../../shared/units";
-import { captionText } from "../../../../shared/paper";
+import { CAPTION, captionBaseline, captionText } from "../../../../shared/paper";
 import type { PrintPreset } from "../../../../shared/schemas/presets";
 import { cn } from "../../../lib/cn";
 import { paperLabel } from "../format";
@@ -38,6 +38,7 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
     [v.x + v.width, v.y + v.height, 1, 1],
   ];
   const caption = captionText(piece.title, p);
+  const captionAt = preset.caption ? captionBaseline(v, page) : null;
   const dpi = Math.round(place.effectiveDpi);
 
   return (
@@ -100,13 +101,15 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
                 <line x1={x} y1={y + dy * gap} x2={x} y2={y + dy * (gap + mark)} vectorEffect="non-scaling-stroke" />
               </g>
             ))}
-          {preset.caption && (
+          {captionAt !== null && (
+            // Where and how big the print file sets it: CAPTION.sizePt under the printed piece.
             <text
+              data-testid="caption-line"
               x={v.x + v.width / 2}
-              y={Math.min(page.heightIn - font * 0.4, v.y + v.height + gap + mark + font)}
-              fontSize={font * 0.8}
+              y={captionAt}
+              fontSize={CAPTION.sizePt / 72}
               textAnchor="middle"
-              fill="#55504a"
+              fill="#333333"
               fontFamily="Inter, sans-serif"
             >
               {caption}
@@ -144,6 +147,20 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
             {inch(p.width)} × {inch(p.height)} · {cm(p.width)} × {cm(p.height)}
             {place.cropped && <span className="ml-1 font-sans font-medium text-brick">(cropped to the area)</span>}
           </dd>
+          {preset.caption && (
+            <>
+              <dt className="text-ink-muted">Caption</dt>
+              <dd className="text-ink" data-testid="caption-text">
+                {captionAt === null ? (
+                  <span className="text-ochre">Left out: the paper has no room below the piece for it</span>
+                ) : (
+                  <>
+                    {caption} <span className="text-ink-muted">({CAPTION.sizePt} pt, under the piece)</span>
+                  </>
+                )}
+              </dd>
+            </>
+          )}
           <dt className="text-ink-muted">File</dt>
           <dd className="figure text-ink">
             {filePx.width} × {filePx.height} px at {preset.printDpi} DPI · {preset.output.toUpperCase()}
