@@ -26,8 +26,11 @@ import type { Storage } from "../server/storage/storage";
 import { renderFragment } from "../worker/pipeline/render";
 import { masterKey, renderFragmentJob, type RenderDeps } from "../worker/jobs/render";
 
-/** Pieces on each test bed: one worker, two workers, an edit mid-group, a failing piece, a dead claim. */
-const PIECES = [6, 8, 5, 5, 2];
+/**
+ * Pieces on each test bed: one worker, two workers, an edit mid-group, a failing piece, a dead
+ * claim, a recipe applied and a claim taken over mid-group.
+ */
+const PIECES = [6, 8, 5, 5, 2, 4];
 
 let stack: Stack;
 let operator: supertest.Agent;
@@ -339,6 +342,52 @@ describe("the render job's group, driven step by step", () => {
     // The other stays with the dead claim until its own job comes for it.
     expect((await row(list[0]!.id)).renderJobId).toBe(dead);
     await run(list[0]!.id, list[0]!.revision);
+    await expectOutputsAsSingleRender(await waitAllDone(scanId, list.length));
+  });
+
+  it("a fragment given another recipe, or taken over by another job, while the group renders it is not stored by the group", async () => {
+    const scanId = scanIds[5]!;
+    expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
+    const list = (await fragmentsOf(scanId)).sort((a, b) => a.position - b.position);
+    const [first, second, third, fourth] = list as [Fragment, Fragment, Fragment, Fragment];
+    const created = await operator.post("/api/recipes").send({ name: "Muted for the group", steps: [{ type: "saturation", saturation: -0.6 }] });
+    expect(created.status, JSON.stringify(created.body)).toBe(201);
+    const other = randomUUID();
+    // The group cuts the next fragment while it stores this one: when the first is stored, the
+    // second is already cut (with the recipe it had); when the third is, the fourth is.
+    onPut = async (key) => {
+      if (key === masterKey(first.id)) {
+        const applied = await operator.post(`/api/recipes/${created.body.recipe.id}/apply`).send({ fragmentIds: [second.id] });
+        expect(applied.status, JSON.stringify(applied.body)).toBe(200);
+      } else if (key === masterKey(third.id)) {
+        onPut = null;
+        await stack.db.update(fragments).set({ renderState: "rendering", renderJobId: other, renderClaimedAt: new Date() }).where(eq(fragments.id, fourth.id));
+      }
+    };
+    await run(first.id, first.revision);
+    expect(onPut).toBeNull();
+    for (const f of [first, third]) expect(puts.get(masterKey(f.id)), `masters stored for fragment ${f.position}`).toBe(1);
+    // Neither the old recipe's second nor the other job's fourth was stored by the group.
+    expect(puts.get(masterKey(second.id)) ?? 0).toBe(0);
+    expect(puts.get(masterKey(fourth.id)) ?? 0).toBe(0);
+    expect((await row(second.id)).renderState).toBe("queued");
+    expect([(await row(fourth.id)).renderState, (await row(fourth.id)).renderJobId]).toEqual(["rendering", other]);
+
+    // The second's jobs (its approval's and the batch's) make it with its new recipe.
+    const { rows: jobs } = await stack.database.pool.query<{ id: string; data: unknown }>(
+      "select id, data from pgboss.job where name = 'fragment-render' and data->>'fragmentId' = $1 order by created_on",
+      [second.id],
+    );
+    expect(jobs).toHaveLength(2);
+    for (const j of jobs) await renderFragmentJob(deps, j.data, { jobId: j.id, retryCount: 0, retryLimit: 2 });
+    const recipe = await recipeVersionFor(stack.db, second.id);
+    expect(recipe.recipeId).toBe(created.body.recipe.id);
+    const outs = await stack.db.select().from(outputs).where(eq(outputs.fragmentId, second.id));
+    expect(outs.filter((o) => o.kind !== "preset").map((o) => o.recipeVersionId)).toEqual([recipe.id, recipe.id]);
+    expect(puts.get(masterKey(second.id))).toBe(1);
+    // The other job's claim grows old (it died): the fourth's own job takes it over.
+    await stack.db.update(fragments).set({ renderClaimedAt: new Date(Date.now() - (stack.cfg.jobExpireSeconds + 60) * 1000) }).where(eq(fragments.id, fourth.id));
+    await run(fourth.id, fourth.revision);
     await expectOutputsAsSingleRender(await waitAllDone(scanId, list.length));
   });
 });

@@ -182,4 +182,18 @@ describe("renderFragments: several fragments from one decode", () => {
     // and an empty list decodes nothing and returns nothing
     expect(await renderFragments({ source, dpi: { x: 600, y: 600 }, maxPixels }, [])).toEqual([]);
   });
+
+  it("a failing item throws: the items before it are in place, it and the ones after it leave no file, temporary or final", async () => {
+    const source = await writeScan("fails.tif");
+    const dir = path.join(tmp.dir, "fails");
+    const list = items(dir, PIECES.map((p, i) => geometryOf(p, SHAPES[i]!)));
+    // The second item's web copy is to go under a regular file, so it cannot be written (its
+    // master is staged first, and must be cleaned up); the third comes after the failure.
+    fs.mkdirSync(dir, { recursive: true });
+    fs.writeFileSync(path.join(dir, "blocker"), "");
+    list[1]!.targets.webPath = path.join(dir, "blocker", "w1.webp");
+    await expect(renderFragments({ source, dpi: { x: 600, y: 600 }, maxPixels }, list)).rejects.toMatchObject({ code: "failed" });
+    expect(fs.readdirSync(dir).sort()).toEqual(["blocker", "m0.tif", "w0.jpg"]);
+    expect((await sharp(path.join(dir, "m0.tif")).metadata()).width).toBeGreaterThan(0);
+  });
 });

@@ -308,7 +308,7 @@ async function renderGroup(
                   rendered++;
                   if (!outcome.ok) return void errors.set(m.row.id, outcome.error);
                   try {
-                    if (await store(deps, m, outcome.result)) stored.add(m.row.id);
+                    if (await store(deps, m, outcome.result, jobId)) stored.add(m.row.id);
                   } catch (err) {
                     errors.set(m.row.id, err);
                   }
@@ -372,21 +372,27 @@ async function markDone(deps: RenderDeps, row: Pick<FragmentRow, "id" | "revisio
 /**
  * Stores one rendered fragment: its master and web copy under their keys and their output rows,
  * then marks it done. Under a lock per fragment and only while the fragment is still approved at
- * the revision it was rendered from, so an older render never replaces a newer one's files.
- * Returns false (nothing stored) when the fragment changed meanwhile.
+ * the revision it was rendered from, still claimed by this job (another job that took it over, or
+ * a recipe applied meanwhile, renders it again) and still at the recipe version it was made with,
+ * so an older render never replaces a newer one's files. Returns false (nothing stored) when the
+ * fragment changed meanwhile.
  */
-async function store(deps: RenderDeps, m: Member, r: RenderResult): Promise<boolean> {
+async function store(deps: RenderDeps, m: Member, r: RenderResult, jobId: string): Promise<boolean> {
   const { row, recipe, mKey, wKey, webFormat } = m;
   const revision = row.revision;
   const client = await deps.database.pool.connect();
   const lockKey = `fragment-render:${row.id}`;
   let saved: { id: string } | undefined;
+  // A connection whose unlock failed is closed, not pooled: closing it releases the lock.
+  let broken: Error | undefined;
   try {
     const db = drizzle(client, { schema });
     await client.query("select pg_advisory_lock(hashtextextended($1, 0))", [lockKey]);
     try {
       const [cur] = await db.select().from(fragments).where(eq(fragments.id, row.id));
-      if (!cur || cur.status !== "approved" || cur.mergedInto || cur.revision !== revision) {
+      const current =
+        cur && cur.status === "approved" && !cur.mergedInto && cur.revision === revision && cur.renderJobId === jobId;
+      if (!current || (await recipeVersionFor(db, row.id)).id !== recipe.id) {
         m.log.info({ current: cur?.revision }, "render: changed while rendering; not stored");
         return false;
       }
@@ -430,10 +436,13 @@ async function store(deps: RenderDeps, m: Member, r: RenderResult): Promise<bool
       }
       await markDone(deps, row, db);
     } finally {
-      await client.query("select pg_advisory_unlock(hashtextextended($1, 0))", [lockKey]);
+      await client.query("select pg_advisory_unlock(hashtextextended($1, 0))", [lockKey]).catch((err: Error) => {
+        broken = err;
+        throw err;
+      });
     }
   } finally {
-    client.release();
+    client.release(broken);
   }
   // Every new master also goes off-site when a bucket is configured (a job of its own).
   if (saved && deps.offsite && deps.boss) await queueOffsiteCopy(deps.database, deps.boss, saved.id, mKey);
