@@ -202,7 +202,8 @@ function polygonSvg(points: [number, number][], width: number, height: number): 
  * the timing); for each one sharp cuts its region from the decoded pixels, turns it upright with
  * the same affine transform and interpolator as the render, crops the piece, masks a cut-out
  * (its outline rasterised by sharp from an SVG polygon), and encodes the master and the web copy
- * with the render's own encoder settings (MASTER_TIFF, WEB_JPEG, WEB_WEBP; long edge 2048).
+ * with the render's own encoder settings (MASTER_TIFF, WEB_JPEG, WEB_WEBP; long edge 2048), on
+ * the render's own schedule (both files of a piece at once, the next piece cut meanwhile).
  * Left out, as they are the product's own work on top: the cut-out feather, colour management
  * and rights fields.
  */
@@ -213,7 +214,8 @@ async function sameOutputsFloor(
   dpi: { x: number; y: number },
 ): Promise<void> {
   const { data, info, raw } = await decodeRaw(file);
-  for (const [i, f] of fragments.entries()) {
+  /** One piece cut from the decoded pixels and turned upright, with its outline there. */
+  const cut = async (f: SplitResult["fragments"][number]) => {
     const plan = planUpright(f, info.width, info.height);
     const canvas = await sharp(data, raw)
       .extract(plan.region)
@@ -232,47 +234,57 @@ async function sameOutputsFloor(
       .extract(plan.crop)
       .raw()
       .toBuffer({ resolveWithObject: true });
-    const { width, height, channels } = turned.info;
-    const piece = { raw: { width, height, channels } };
     const outline =
       f.shape === "cutout" ? f.outline.map((p) => plan.toUpright(p as [number, number])) : null;
-    let master = sharp(turned.data, piece);
-    if (outline) {
-      const mask = await sharp(polygonSvg(outline, width, height))
+    return { turned, outline };
+  };
+  const writeMasterOf = async (i: number, piece: Awaited<ReturnType<typeof cut>>) => {
+    const { data: px, info: t } = piece.turned;
+    let master = sharp(px, { raw: { width: t.width, height: t.height, channels: t.channels } });
+    if (piece.outline) {
+      const mask = await sharp(polygonSvg(piece.outline, t.width, t.height))
         .extractChannel(3)
         .raw()
         .toBuffer();
-      master = master.joinChannel(mask, { raw: { width, height, channels: 1 } });
+      master = master.joinChannel(mask, { raw: { width: t.width, height: t.height, channels: 1 } });
     }
     await master
       .tiff({ ...MASTER_TIFF, xres: dpi.x / 25.4, yres: dpi.y / 25.4, resolutionUnit: "inch" })
       .toFile(path.join(outDir, `sm${i}.tif`));
-    const web = sharp(turned.data, piece).resize(2048, 2048, {
-      fit: "inside",
-      withoutEnlargement: true,
-    });
-    if (!outline) {
-      await web.jpeg(WEB_JPEG).toFile(path.join(outDir, `sw${i}.jpg`));
-      continue;
-    }
+  };
+  const writeWebOf = async (i: number, piece: Awaited<ReturnType<typeof cut>>) => {
+    const { data: px, info: t } = piece.turned;
+    const web = sharp(px, { raw: { width: t.width, height: t.height, channels: t.channels } }).resize(
+      2048,
+      2048,
+      { fit: "inside", withoutEnlargement: true },
+    );
+    if (!piece.outline) return void (await web.jpeg(WEB_JPEG).toFile(path.join(outDir, `sw${i}.jpg`)));
     const fitted = await web.raw().toBuffer({ resolveWithObject: true });
-    const s = fitted.info.width / width;
+    const w = fitted.info;
+    const s = w.width / t.width;
     const mask = await sharp(
       polygonSvg(
-        outline.map(([x, y]) => [x * s, y * s]),
-        fitted.info.width,
-        fitted.info.height,
+        piece.outline.map(([x, y]) => [x * s, y * s]),
+        w.width,
+        w.height,
       ),
     )
       .extractChannel(3)
       .raw()
       .toBuffer();
-    await sharp(fitted.data, {
-      raw: { width: fitted.info.width, height: fitted.info.height, channels: fitted.info.channels },
-    })
-      .joinChannel(mask, { raw: { width: fitted.info.width, height: fitted.info.height, channels: 1 } })
+    await sharp(fitted.data, { raw: { width: w.width, height: w.height, channels: w.channels } })
+      .joinChannel(mask, { raw: { width: w.width, height: w.height, channels: 1 } })
       .webp(WEB_WEBP)
       .toFile(path.join(outDir, `sw${i}.webp`));
+  };
+  // The render's own schedule, so that the ratio compares work and not concurrency: the master
+  // and the web copy encoded at once, and the next piece cut while this one's files are written.
+  let next = fragments.length > 0 ? cut(fragments[0]!) : null;
+  for (let i = 0; i < fragments.length; i++) {
+    const piece = await next!;
+    next = i + 1 < fragments.length ? cut(fragments[i + 1]!) : null;
+    await Promise.all([writeMasterOf(i, piece), writeWebOf(i, piece)]);
   }
 }
 
