@@ -20,7 +20,7 @@ import { spawnProcess, startStack, userAgent, waitFor, type Stack } from "./help
 import { pieceBed } from "./helpers/fixtures";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { RecipeInput } from "../shared/schemas/recipes";
-import { fragments, outputs, scans } from "../server/db/schema";
+import { batchItems, fragments, outputs, scans } from "../server/db/schema";
 import { recipeVersionFor } from "../server/services/recipes";
 import type { Storage } from "../server/storage/storage";
 import { renderFragment } from "../worker/pipeline/render";
@@ -389,5 +389,25 @@ describe("the render job's group, driven step by step", () => {
     await stack.db.update(fragments).set({ renderClaimedAt: new Date(Date.now() - (stack.cfg.jobExpireSeconds + 60) * 1000) }).where(eq(fragments.id, fourth.id));
     await run(fourth.id, fourth.revision);
     await expectOutputsAsSingleRender(await waitAllDone(scanId, list.length));
+  });
+  it("a batch item whose last attempt ends in an error is settled as failed, not left running", async () => {
+    const scanId = scanIds[5]!;
+    const [piece] = (await fragmentsOf(scanId)).sort((a, b) => a.position - b.position);
+    const created = await operator.post("/api/recipes").send({ name: "Warm for the stop", steps: [{ type: "saturation", saturation: 0.2 }] });
+    expect(created.status, JSON.stringify(created.body)).toBe(201);
+    expect((await operator.post(`/api/recipes/${created.body.recipe.id}/apply`).send({ fragmentIds: [piece!.id] })).status).toBe(200);
+    const { rows } = await stack.database.pool.query<{ id: string; data: { batchItemId?: string } }>(
+      "select id, data from pgboss.job where name = 'fragment-render' and data->>'fragmentId' = $1 and data ? 'batchItemId' order by created_on desc limit 1",
+      [piece!.id],
+    );
+    const job = rows[0]!;
+    // Another job holds a live claim on it, and the worker is stopping: the wait is cut short.
+    await stack.db.update(fragments).set({ renderState: "rendering", renderJobId: randomUUID(), renderClaimedAt: new Date() }).where(eq(fragments.id, piece!.id));
+    const stop = new AbortController();
+    stop.abort();
+    await expect(renderFragmentJob(deps, job.data, { jobId: job.id, retryCount: 2, retryLimit: 2, signal: stop.signal })).rejects.toThrow(/stopping/);
+    const [item] = await stack.db.select().from(batchItems).where(eq(batchItems.id, job.data.batchItemId!));
+    expect(item).toMatchObject({ state: "failed" });
+    expect(item!.error).toMatch(/stopping/);
   });
 });

@@ -5,7 +5,7 @@ import { and, eq, inArray, sql } from "drizzle-orm";
 import { drizzle } from "drizzle-orm/node-postgres";
 import type { Database } from "../../server/db";
 import * as schema from "../../server/db/schema";
-import { fragments, outputs, scans } from "../../server/db/schema";
+import { batchItems, fragments, outputs, scans } from "../../server/db/schema";
 import { notify } from "../../server/services/events";
 import type { Storage } from "../../server/storage/storage";
 import { isStorageError } from "../../server/storage/storage";
@@ -70,6 +70,23 @@ export async function renderFragmentJob(
   data: unknown,
   ctx: JobContext,
 ): Promise<void> {
+  try {
+    await renderAttempt(deps, data, ctx);
+  } catch (err) {
+    // However the last attempt ends (a wait cut short by a stop, the database gone), its batch
+    // item must not stay running: a batch whose items never settle never finishes.
+    const { batchItemId } = renderPayload.parse(data);
+    if (batchItemId && ctx.retryCount >= ctx.retryLimit) {
+      const { db } = deps.database;
+      const [item] = await db.select({ state: batchItems.state }).from(batchItems).where(eq(batchItems.id, batchItemId)).catch(() => []);
+      if (item && (item.state === "queued" || item.state === "running"))
+        await settleBatchItem(db, batchItemId, "failed", (err as Error).message, { boss: deps.boss }).catch(() => {});
+    }
+    throw err;
+  }
+}
+
+async function renderAttempt(deps: RenderDeps, data: unknown, ctx: JobContext): Promise<void> {
   const { fragmentId, revision, batchItemId } = renderPayload.parse(data);
   const { db, pool } = deps.database;
   const log = deps.log.child({ jobId: ctx.jobId, fragmentId, revision, batchItemId });
