@@ -63,6 +63,48 @@ describe("print files", () => {
     expect([meta.width, meta.height, meta.density]).toEqual([2480, 3508, 300]);
   });
 
+  it("a filled TIFF shows the centre of the piece, cut square to the print area, on white RGB paper with its crop marks", async () => {
+    // Letter portrait at 100 DPI: 850 × 1100 px; the 8 × 10 in area spans x 25–825, y 50–1050 px.
+    // The 3 : 2 piece filling it is printed 15 × 10 in, its middle 8 in shown: blue from 3.5 to
+    // 7.5 in of the print (page x 25–425 px), green from 7.5 to 11.5 in (page x 425–825 px).
+    const preset = { ...BUILT_IN_PRESETS["print-letter"], orientation: "portrait", scale: { mode: "fill" }, printDpi: 100, cropMarks: true } as PrintPreset;
+    await renderOutput({ master: wide, dpi: 300 }, preset, { path: at("fill.tif") });
+    const meta = await sharp(at("fill.tif")).metadata();
+    expect([meta.width, meta.height, meta.channels, meta.hasAlpha]).toEqual([850, 1100, 3, false]);
+    const BLUE = [0, 0, 200];
+    const GREEN = [0, 200, 0];
+    expect(near(await pixel(at("fill.tif"), 26, 550), BLUE)).toBe(true);
+    expect(near(await pixel(at("fill.tif"), 421, 550), BLUE)).toBe(true);
+    expect(near(await pixel(at("fill.tif"), 429, 550), GREEN)).toBe(true);
+    expect(near(await pixel(at("fill.tif"), 823, 550), GREEN)).toBe(true);
+    expect(await pixel(at("fill.tif"), 22, 550)).toEqual([255, 255, 255]);
+    expect(await pixel(at("fill.tif"), 828, 550)).toEqual([255, 255, 255]);
+    expect(await pixel(at("fill.tif"), 425, 46)).toEqual([255, 255, 255]);
+    // Crop marks: dark hairlines in the margin on the lines of the area's edges, none on the paper elsewhere.
+    const { data } = await sharp(at("fill.tif")).extract({ left: 0, top: 0, width: 25, height: 50 }).greyscale().raw().toBuffer({ resolveWithObject: true });
+    const darkest = (x0: number, x1: number, y0: number, y1: number) => {
+      let m = 255;
+      for (let y = y0; y <= y1; y++) for (let x = x0; x <= x1; x++) m = Math.min(m, data[y * 25 + x]!);
+      return m;
+    };
+    expect(darkest(24, 25 - 1, 0, 40)).toBeLessThan(200); // the vertical mark above the top-left corner, at x = 0.25 in
+    expect(darkest(0, 15, 49, 49)).toBeLessThan(200); // the horizontal mark left of it, at y = 0.5 in
+    expect(darkest(0, 20, 0, 45)).toBe(255); // the margin's corner itself stays white
+  });
+
+  it("a cut-out prints on white where it is transparent", async () => {
+    // The 1000 px cut-out (3.33 in at 300 DPI) fits the 8 × 10 area as 8 × 8 in at y 1.5–9.5 in;
+    // its opaque black square is the middle half: x 2.25–6.25 in, y 3.5–7.5 in (100 DPI pixels).
+    const preset = { ...BUILT_IN_PRESETS["print-letter"], orientation: "portrait", printDpi: 100 } as PrintPreset;
+    await renderOutput({ master: cutout, dpi: 300 }, preset, { path: at("cutout-print.tif") });
+    expect((await sharp(at("cutout-print.tif")).metadata()).channels).toBe(3);
+    expect(await pixel(at("cutout-print.tif"), 30, 160)).toEqual([255, 255, 255]);
+    expect(await pixel(at("cutout-print.tif"), 820, 940)).toEqual([255, 255, 255]);
+    expect(near(await pixel(at("cutout-print.tif"), 230, 355), [0, 0, 0])).toBe(true);
+    expect(near(await pixel(at("cutout-print.tif"), 620, 745), [0, 0, 0])).toBe(true);
+    expect(await pixel(at("cutout-print.tif"), 220, 550)).toEqual([255, 255, 255]);
+  });
+
   it("warns when a small piece is stretched to fill the print area", async () => {
     const small = at("small.png");
     await sharp({ create: { width: 1200, height: 1500, channels: 3, background: RED } }).png().toFile(small);
@@ -153,6 +195,22 @@ describe("web copies", () => {
     await renderOutput({ master: cutout, dpi: 300 }, { ...BUILT_IN_PRESETS.square, background: "#ff00ff" }, { path: at("cutout.jpg") });
     expect(near(await pixel(at("cutout.jpg"), 100, 100), [255, 0, 255])).toBe(true);
     expect(near(await pixel(at("cutout.jpg"), 540, 540), [0, 0, 0])).toBe(true);
+  });
+});
+
+describe("transparent web copies", () => {
+  it("keep the cut-out's transparency and pad a box with transparency", async () => {
+    // The 1000 × 1000 cut-out in a 4:5 box 800 px wide (contain, not enlarged): 800 × 800 at top 100.
+    const preset = { kind: "web", name: "clear", size: { mode: "box", aspect: "4:5", width: 800 }, fit: "contain", background: "transparent", format: "webp", quality: 90 };
+    const report = await renderOutput({ master: cutout, dpi: 300 }, preset, { path: at("clear.webp") });
+    expect([report.pixelWidth, report.pixelHeight]).toEqual([800, 1000]);
+    const { data, info } = await sharp(at("clear.webp")).ensureAlpha().raw().toBuffer({ resolveWithObject: true });
+    expect([info.width, info.height, info.channels]).toEqual([800, 1000, 4]);
+    const alpha = (x: number, y: number) => data[(y * info.width + x) * 4 + 3]!;
+    expect(alpha(400, 40)).toBe(0); // the padding above the piece
+    expect(alpha(40, 500)).toBe(0); // the piece's own transparent border
+    expect(alpha(400, 500)).toBe(255); // its opaque centre square (200–600 px across, 300–700 down)
+    expect(alpha(400, 960)).toBe(0); // the padding below
   });
 });
 

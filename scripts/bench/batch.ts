@@ -1,10 +1,11 @@
 /**
  * Batch throughput: 40 fragments × 3 presets made by one worker process, then by two, and the
- * queue's own cost per job (a job that does nothing). Measured twice: with the processes free to
- * use every core (each still runs one job with one libvips thread, but its other threads spill
- * onto the other core), and with each process held to a core of its own (taskset), as one worker
- * per one-core machine would run. Runs against the private cluster in a
- * database of its own, dropped afterwards. Used by `npm run bench`; runs alone with
+ * queue's own cost per job (a job that does nothing), in rounds (medians reported). Measured twice:
+ * with the processes free to use every core (each still runs one job with one libvips thread, but
+ * libvips writes a file on a thread of its own beside the one computing its pixels, and other
+ * threads spill onto the other core), and with each process held to a core of its own (taskset),
+ * as one worker per one-core machine would run. The clock starts when every worker has announced
+ * itself. Runs against the private cluster in a database of its own, dropped afterwards. Used by `npm run bench`; runs alone with
  * `npx tsx scripts/bench/batch.ts`.
  */
 import { spawn, type ChildProcess } from "node:child_process";
@@ -14,11 +15,18 @@ import os from "node:os";
 import path from "node:path";
 import pg from "pg";
 import sharp from "sharp";
-import { eq } from "drizzle-orm";
+import { eq, inArray } from "drizzle-orm";
 
 const ROOT = path.resolve(import.meta.dirname, "../..");
 export const FRAGMENTS = 40;
 export const PRESET_NAMES = ["web", "square", "print-a4"] as const;
+/** Rounds of one worker then two; the report gives medians. */
+export const ROUNDS = 3;
+
+const median = (xs: number[]) => {
+  const v = [...xs].sort((a, b) => a - b);
+  return v.length % 2 ? v[(v.length - 1) / 2]! : (v[v.length / 2 - 1]! + v[v.length / 2]!) / 2;
+};
 
 export interface BatchBench {
   outputs: number;
@@ -30,10 +38,17 @@ export interface BatchBench {
    * machine per worker; null where taskset or a second core is missing.
    */
   pinned: { oneWorkerPerSecond: number; twoWorkersPerSecond: number; speedUp: number } | null;
+  /** Two workers ÷ one in each round (the figures above are medians over the rounds). */
+  roundSpeedUps: number[];
   queueOverheadMsPerJob: number;
-  /** Cores the worker processes kept busy on average (from /proc), and the machine's cores. */
+  /**
+   * Cores kept busy on average while the batch ran, from /proc: by the worker processes (all
+   * their threads), and by the whole machine (workers, database, this bench); the machine's cores.
+   */
   oneWorkerCores: number;
+  oneWorkerMachineCores: number;
   twoWorkersCores: number;
+  twoWorkersMachineCores: number;
   cores: number;
 }
 
@@ -45,6 +60,12 @@ function cpuSeconds(pid: number): number {
   } catch {
     return NaN;
   }
+}
+
+/** Busy CPU seconds of the whole machine, all cores (Linux /proc/stat: everything but idle and iowait). */
+function machineCpuSeconds(): number {
+  const f = fsSync.readFileSync("/proc/stat", "utf8").split("\n")[0]!.trim().split(/\s+/).slice(1).map(Number);
+  return (f.reduce((a, b) => a + b, 0) - f[3]! - f[4]!) / 100;
 }
 
 async function withDatabase<T>(fn: (url: string, dir: string) => Promise<T>): Promise<T> {
@@ -73,7 +94,7 @@ const TASKSET = "/usr/bin/taskset";
 
 /** A worker process; with `core`, held to that core (util-linux taskset) with all its threads. */
 function worker(env: Record<string, string>, core?: number): ChildProcess {
-  const node = [process.execPath, "--import", "tsx", "worker/main.ts"];
+  const node = [process.execPath, ...(process.env.PLATEN_BENCH_PROFILE ? ["--cpu-prof", `--cpu-prof-dir=${process.env.PLATEN_BENCH_PROFILE}`] : []), "--import", "tsx", "worker/main.ts"];
   const [cmd, ...args] = core === undefined ? node : [TASKSET, "-c", String(core), ...node];
   return spawn(cmd!, args, { cwd: ROOT, env: { ...process.env, ...env }, stdio: "ignore" });
 }
@@ -107,7 +128,7 @@ export async function benchBatch(): Promise<BatchBench> {
     const library = new LocalStorage(cfg.libraryDir);
     const presetIds = (await listPresets(database.db)).filter((p) => (PRESET_NAMES as readonly string[]).includes(p.name)).map((p) => p.id);
 
-    // Two sets of 40 approved fragments with rendered 4 × 3 in masters at 300 DPI (invented data).
+    // Sets of 40 approved fragments with rendered 4 × 3 in masters at 300 DPI (invented data).
     const master = await sharp({ create: { width: 1200, height: 900, channels: 3, background: "#8a5a44" } })
       .tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
       .toBuffer();
@@ -132,30 +153,50 @@ export async function benchBatch(): Promise<BatchBench> {
 
     // createdBy must be a real user: make one.
     const [user] = await database.db.insert(schema.users).values({ email: "bench@bench.local", name: "Bench", role: "operator", passwordHash: "x" }).returning();
-    const setA = await makeSet("bench-a");
-    const setB = await makeSet("bench-b");
-    const canPin = fsSync.existsSync(TASKSET) && os.cpus().length >= 2;
-    const setC = canPin ? await makeSet("bench-c") : [];
-    const setD = canPin ? await makeSet("bench-d") : [];
     /** Outputs per second for one batch over `ids` made by `workers` worker processes. */
     const timed = async (ids: string[], workers: number, pin = false) => {
       const children = Array.from({ length: workers }, (_, i) => worker(env, pin ? i : undefined));
-      await new Promise((r) => setTimeout(r, 4000)); // let the workers start before the clock does
+      // The clock starts once every worker has announced itself (its heartbeat row, written just
+      // before its job loop starts), so a slow start is not counted against one configuration.
+      const pids = children.map((c) => c.pid!);
+      for (let waited = 0; ; waited += 100) {
+        const up = await database.db.select({ pid: schema.processes.pid }).from(schema.processes).where(inArray(schema.processes.pid, pids));
+        if (up.length === pids.length) break;
+        if (waited > 60_000 || children.some((c) => c.exitCode !== null)) throw new Error("bench: a worker process did not start");
+        await new Promise((r) => setTimeout(r, 100));
+      }
+      await new Promise((r) => setTimeout(r, 500));
+      const cpu0 = children.map((c) => cpuSeconds(c.pid!));
+      const machine0 = machineCpuSeconds();
       const t0 = performance.now();
       const batch = await createOutputBatch(database, boss, user!.id, { selection: { fragmentIds: ids }, presetIds });
       while (!(await getBatch(database.db, batch.id)).finishedAt) await new Promise((r) => setTimeout(r, 200));
       const s = (performance.now() - t0) / 1000;
       // CPU the worker processes used (all their threads), from /proc: cores busy on average.
-      const cores = children.reduce((sum, c) => sum + cpuSeconds(c.pid!), 0) / s;
+      const cores = children.reduce((sum, c, i) => sum + cpuSeconds(c.pid!) - cpu0[i]!, 0) / s;
+      const machineCores = (machineCpuSeconds() - machine0) / s;
       children.forEach((c) => c.kill("SIGTERM"));
       await Promise.all(children.map(stopped));
-      return { perSecond: (await getBatch(database.db, batch.id)).counts.done / s, cores };
+      return { perSecond: (await getBatch(database.db, batch.id)).counts.done / s, cores, machineCores };
     };
-    const { perSecond: one, cores: oneCores } = await timed(setA, 1);
-    const { perSecond: two, cores: twoCores } = await timed(setB, 2);
-    const pinnedOne = canPin ? (await timed(setC, 1, true)).perSecond : NaN;
-    const pinnedTwo = canPin ? (await timed(setD, 2, true)).perSecond : NaN;
+    /** ROUNDS of one worker then two, each batch over fresh fragments (outputs are made once). */
+    const rounds = async (pin: boolean) => {
+      const runs = [];
+      for (let r = 0; r < ROUNDS; r++) {
+        const one = await timed(await makeSet(`bench-${pin ? "p" : "u"}${r}-1`), 1, pin);
+        const two = await timed(await makeSet(`bench-${pin ? "p" : "u"}${r}-2`), 2, pin);
+        runs.push({ one, two });
+      }
+      return runs;
+    };
+    const free = await rounds(false);
+    const canPin = fsSync.existsSync(TASKSET) && os.cpus().length >= 2;
+    const pinnedRuns = canPin ? await rounds(true) : [];
     const r2 = (v: number) => Math.round(v * 100) / 100;
+    const one = median(free.map((r) => r.one.perSecond));
+    const two = median(free.map((r) => r.two.perSecond));
+    const pinnedOne = canPin ? median(pinnedRuns.map((r) => r.one.perSecond)) : NaN;
+    const pinnedTwo = canPin ? median(pinnedRuns.map((r) => r.two.perSecond)) : NaN;
 
     // The queue's own cost: jobs whose handler does nothing, one worker loop, counted end to end.
     const NOOP = "bench-noop";
@@ -189,24 +230,30 @@ export async function benchBatch(): Promise<BatchBench> {
       oneWorkerPerSecond: Math.round(one * 100) / 100,
       twoWorkersPerSecond: Math.round(two * 100) / 100,
       speedUp: Math.round((two / one) * 100) / 100,
+      roundSpeedUps: free.map((r) => r2(r.two.perSecond / r.one.perSecond)),
       pinned: canPin
         ? { oneWorkerPerSecond: r2(pinnedOne), twoWorkersPerSecond: r2(pinnedTwo), speedUp: r2(pinnedTwo / pinnedOne) }
         : null,
       queueOverheadMsPerJob: Math.round(overhead * 10) / 10,
-      oneWorkerCores: Math.round(oneCores * 100) / 100,
-      twoWorkersCores: Math.round(twoCores * 100) / 100,
+      oneWorkerCores: r2(median(free.map((r) => r.one.cores))),
+      oneWorkerMachineCores: r2(median(free.map((r) => r.one.machineCores))),
+      twoWorkersCores: r2(median(free.map((r) => r.two.cores))),
+      twoWorkersMachineCores: r2(median(free.map((r) => r.two.machineCores))),
       cores: os.cpus().length,
     };
   });
 }
 
 export function formatBatchBench(b: BatchBench): string {
+  // While one worker runs, the machine keeps oneWorkerMachineCores busy (the worker's own
+  // threads, the database, this bench); two can at best keep all the cores busy.
+  const ceiling = Math.round((Math.min(b.cores, 2 * b.oneWorkerMachineCores) / b.oneWorkerMachineCores) * 100) / 100;
   return [
-    `batch of ${FRAGMENTS} fragments × ${PRESET_NAMES.length} presets (${PRESET_NAMES.join(", ")}): ${b.outputs} outputs`,
+    `batch of ${FRAGMENTS} fragments × ${PRESET_NAMES.length} presets (${PRESET_NAMES.join(", ")}): ${b.outputs} outputs, medians of ${ROUNDS} rounds`,
     `  one worker  ${b.oneWorkerPerSecond} outputs/s  (each worker: one job, one libvips thread)`,
-    `  two workers ${b.twoWorkersPerSecond} outputs/s  (${b.speedUp}× one; target ≥ 1.7×)`,
-    `  cores busy: one worker ${b.oneWorkerCores}, two workers ${b.twoWorkersCores} of ${b.cores}` +
-      ` (so at most ${Math.round((Math.min(b.cores, 2 * b.oneWorkerCores) / b.oneWorkerCores) * 100) / 100}× on this machine)`,
+    `  two workers ${b.twoWorkersPerSecond} outputs/s  (${b.speedUp}× one; target ≥ 1.7×; rounds ${b.roundSpeedUps.join(", ")})`,
+    `  cores busy: one worker ${b.oneWorkerCores} (machine ${b.oneWorkerMachineCores}), two workers ${b.twoWorkersCores} (machine ${b.twoWorkersMachineCores}) of ${b.cores}` +
+      ` (so at most ${ceiling}× on this machine)`,
     b.pinned
       ? `  a core per worker (taskset): one ${b.pinned.oneWorkerPerSecond}/s, two ${b.pinned.twoWorkersPerSecond}/s (${b.pinned.speedUp}× one: how the queue scales across cores, not the target's figure)`
       : "  a core per worker: not measured (needs taskset and two cores)",

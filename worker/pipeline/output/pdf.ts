@@ -6,12 +6,11 @@
  */
 import fontkit from "@pdf-lib/fontkit";
 import { PDFDocument, rgb, type PDFFont } from "pdf-lib";
-import sharp from "sharp";
 import { paperPoints } from "../../../shared/paper";
 import type { PrintPreset } from "../../../shared/schemas/presets";
 import { captionFaces, layoutCaption } from "./caption";
 import { cropMarks, type PrintLayout } from "./print-layout";
-import { MARK_WEIGHT_PT, visiblePiece } from "./print";
+import { MARK_WEIGHT_PT, visiblePipeline } from "./print";
 import type { Piece } from "./source";
 
 /** JPEG for the embedded piece: high quality, full-resolution chroma (fine coloured lines in artwork). */
@@ -41,10 +40,8 @@ export async function renderPrintPdf(piece: Piece, layout: PrintLayout, preset: 
   const page = doc.addPage([pagePt.width, pagePt.height]);
 
   const dpi = Math.min(layout.place.effectiveDpi, preset.printDpi);
-  const visible = await visiblePiece(piece, layout, dpi);
-  const jpeg = await sharp(visible.data, { raw: { width: visible.width, height: visible.height, channels: 3 }, limitInputPixels: false })
-    .jpeg(PDF_JPEG)
-    .toBuffer();
+  const visible = visiblePipeline(piece, layout, dpi);
+  const jpeg = await visible.img.jpeg(PDF_JPEG).toBuffer();
   const image = await doc.embedJpg(jpeg);
   const v = layout.place.visible;
   // PDF's origin is the bottom-left corner, y up; the layout's is top-left, y down.

@@ -2,7 +2,7 @@
  * Print files: the piece on a white page of exactly paper × print DPI pixels, with optional crop
  * marks and caption, as a TIFF recording its resolution, or as a PDF at the paper's size (pdf.ts).
  */
-import sharp, { type OverlayOptions } from "sharp";
+import type { Sharp } from "sharp";
 import type { PrintPreset } from "../../../shared/schemas/presets";
 import { MM_PER_INCH } from "../../../shared/units";
 import { captionSvg, layoutCaption } from "./caption";
@@ -13,24 +13,24 @@ import { pieceImage, type Piece } from "./source";
 export const MARK_WEIGHT_PT = 0.5;
 
 /**
- * The visible part of the piece at `dpiOut` pixels per printed inch, flattened on white, as raw
- * RGB. Used by the TIFF at the print DPI and by the PDF at the effective DPI.
+ * The visible part of the piece at `dpiOut` pixels per printed inch, flattened on white, as one
+ * sharp pipeline (flatten, resize to the printed size, cut to the visible part) and its size.
+ * Flattening before the resize gives the same pixels as resizing with alpha and flattening after
+ * (both are the same weighted sums of the piece and the white), with one pass fewer.
  */
-export async function visiblePiece(piece: Piece, layout: PrintLayout, dpiOut: number): Promise<{ data: Buffer; width: number; height: number }> {
+export function visiblePipeline(piece: Piece, layout: PrintLayout, dpiOut: number, room = { width: Infinity, height: Infinity }): { img: Sharp; width: number; height: number } {
   const { printed, visible } = layout.place;
   const px = (inches: number) => Math.max(1, Math.round(inches * dpiOut));
   const fullW = px(printed.width);
   const fullH = px(printed.height);
   const left = Math.min(fullW - 1, Math.max(0, Math.round((visible.x - printed.x) * dpiOut)));
   const top = Math.min(fullH - 1, Math.max(0, Math.round((visible.y - printed.y) * dpiOut)));
-  const width = Math.min(fullW - left, px(visible.width));
-  const height = Math.min(fullH - top, px(visible.height));
-  let img = pieceImage(piece).resize({ width: fullW, height: fullH, fit: "fill", kernel: "lanczos3" });
-  if (left > 0 || top > 0 || width < fullW || height < fullH) {
-    img = sharp(await img.raw().toBuffer(), { raw: { width: fullW, height: fullH, channels: 4 }, limitInputPixels: false }).extract({ left, top, width, height });
-  }
-  const data = await img.flatten({ background: "#ffffff" }).removeAlpha().raw().toBuffer();
-  return { data, width, height };
+  // `room`: at most what is left of the page, which rounding can otherwise overstep by a pixel.
+  const width = Math.max(1, Math.min(fullW - left, px(visible.width), room.width));
+  const height = Math.max(1, Math.min(fullH - top, px(visible.height), room.height));
+  let img = pieceImage(piece).flatten({ background: "#ffffff" }).removeAlpha().resize({ width: fullW, height: fullH, fit: "fill", kernel: "lanczos3" });
+  if (left > 0 || top > 0 || width < fullW || height < fullH) img = img.extract({ left, top, width, height });
+  return { img, width, height };
 }
 
 /** Caption colour: a dark grey that reads as black beside the piece (the PDF uses the same 0.2 grey). */
@@ -68,20 +68,15 @@ export function overlaySvg(layout: PrintLayout, preset: PrintPreset, title: stri
 export async function renderPrintTiff(piece: Piece, layout: PrintLayout, preset: PrintPreset, title: string | undefined): Promise<{ data: Buffer; warnings: string[] }> {
   const warnings: string[] = [];
   const dpi = preset.printDpi;
-  const visible = await visiblePiece(piece, layout, dpi);
-  const layers: OverlayOptions[] = [
-    { input: visible.data, raw: { width: visible.width, height: visible.height, channels: 3 }, left: layout.visiblePx.left, top: layout.visiblePx.top },
-  ];
-  const svg = overlaySvg(layout, preset, title, warnings);
-  if (svg) layers.push({ input: Buffer.from(svg), left: 0, top: 0 });
   const { width, height } = layout.pagePx;
-  // sharp composites last in a pipeline and its result carries alpha: flatten in a second pass.
-  const page = await sharp({ create: { width, height, channels: 3, background: "#ffffff" }, limitInputPixels: false })
-    .composite(layers)
-    .raw()
-    .toBuffer({ resolveWithObject: true });
-  const data = await sharp(page.data, { raw: { width, height, channels: page.info.channels }, limitInputPixels: false })
-    .flatten({ background: "#ffffff" })
+  const { left, top } = layout.visiblePx;
+  const { img, width: w, height: h } = visiblePipeline(piece, layout, dpi, { width: width - left, height: height - top });
+  // One pipeline from the decoded piece to the file: the white page around the piece is an
+  // extension of it, the marks and caption are drawn over it, and the result stays RGB.
+  let page = img.extend({ left, top, right: Math.max(0, width - left - w), bottom: Math.max(0, height - top - h), background: "#ffffff" });
+  const svg = overlaySvg(layout, preset, title, warnings);
+  if (svg) page = page.composite([{ input: Buffer.from(svg), left: 0, top: 0 }]);
+  const data = await page
     .withIccProfile("srgb")
     .tiff({ compression: "lzw", predictor: "horizontal", xres: dpi / MM_PER_INCH, yres: dpi / MM_PER_INCH, resolutionUnit: "inch" })
     .toBuffer();

@@ -4,7 +4,6 @@
  * pixels, so nothing of the source's EXIF (location, camera) can travel with it.
  */
 import zlib from "node:zlib";
-import sharp, { type Sharp } from "sharp";
 import { fitScale } from "../../../shared/paper";
 import { WEB_ASPECTS, type WebPreset } from "../../../shared/schemas/presets";
 import { cleanRights, exifIfd0, xmpPacket, type Rights } from "../render/rights";
@@ -87,29 +86,18 @@ export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights)
   const g = webGeometry(piece.width, piece.height, preset);
   const warnings: string[] = [];
   if (g.scale > 1) warnings.push(`Enlarged ${Math.round(g.scale * 100) / 100}× from ${piece.width} × ${piece.height} px: the copy may look soft`);
-  const resized = await pieceImage(piece)
-    .resize({ width: g.pieceWidth, height: g.pieceHeight, fit: "fill", kernel: "lanczos3" })
-    .raw()
-    .toBuffer();
-  let canvas: Sharp;
+  // One pipeline from the decoded piece to the file. An opaque background is laid under the piece
+  // before the resize, which gives the same pixels as after it (the same weighted sums).
+  const opaque = preset.background !== "transparent";
+  let out = opaque ? pieceImage(piece).flatten({ background: preset.background }) : pieceImage(piece);
+  out = out.resize({ width: g.pieceWidth, height: g.pieceHeight, fit: "fill", kernel: "lanczos3" });
   if (g.left < 0 || g.top < 0) {
-    canvas = sharp(resized, { raw: { width: g.pieceWidth, height: g.pieceHeight, channels: 4 } }).extract({
-      left: -g.left,
-      top: -g.top,
-      width: g.canvasWidth,
-      height: g.canvasHeight,
-    });
-  } else {
-    const bg = preset.background === "transparent" ? { r: 0, g: 0, b: 0, alpha: 0 } : rgbOf(preset.background);
-    canvas = sharp({ create: { width: g.canvasWidth, height: g.canvasHeight, channels: 4, background: bg } }).composite([
-      { input: resized, raw: { width: g.pieceWidth, height: g.pieceHeight, channels: 4 }, left: g.left, top: g.top },
-    ]);
+    out = out.extract({ left: -g.left, top: -g.top, width: g.canvasWidth, height: g.canvasHeight });
+  } else if (g.pieceWidth < g.canvasWidth || g.pieceHeight < g.canvasHeight) {
+    const bg = opaque ? rgbOf(preset.background) : { r: 0, g: 0, b: 0, alpha: 0 };
+    out = out.extend({ left: g.left, top: g.top, right: g.canvasWidth - g.pieceWidth - g.left, bottom: g.canvasHeight - g.pieceHeight - g.top, background: bg });
   }
-  if (preset.background !== "transparent") canvas = canvas.flatten({ background: preset.background });
-  const raw = await canvas.raw().toBuffer({ resolveWithObject: true });
-
   const dpi = Math.round(piece.dpi * g.scale * 100) / 100;
-  let out = sharp(raw.data, { raw: { width: raw.info.width, height: raw.info.height, channels: raw.info.channels } });
   if (preset.keep.resolution) out = out.withMetadata({ density: dpi });
   if (preset.toSrgb) out = out.withIccProfile("srgb");
   const kept = keptRights(preset, rights);
@@ -125,7 +113,7 @@ export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights)
   else out = out.png({ compressionLevel: 9 });
   let data: Buffer = await out.toBuffer();
   if (xmp && preset.format === "png") data = withPngXmp(data, xmp);
-  return { data, width: raw.info.width, height: raw.info.height, dpi, warnings };
+  return { data, width: g.canvasWidth, height: g.canvasHeight, dpi, warnings };
 }
 
 /** A PNG chunk: length, type, data, CRC-32 of type and data (PNG, ISO/IEC 15948:2004 §5.3). */
