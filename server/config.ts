@@ -41,6 +41,11 @@ const envSchema = z.object({
   PLATEN_WORKER_CONCURRENCY: int(1, 64).default(2),
   /** Threads libvips may use for one image operation (0 = one per CPU core, sharp's default). */
   PLATEN_VIPS_THREADS: int(0, 256).default(0),
+  /**
+   * Room for the scans the worker keeps decoded between their split and their render, MB
+   * (0 = keep none: each render decodes its scan again). The oldest go first when it is full.
+   */
+  PLATEN_DECODED_COPIES_MB: int(0, 10_000_000).default(4096),
   PLATEN_JOB_RETRY_LIMIT: int(0, 100).default(3),
   PLATEN_JOB_EXPIRE_SECONDS: int(1, 86_400).default(900),
   PLATEN_MAINTENANCE_SECONDS: int(1, 3600).default(30),
@@ -139,6 +144,8 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
     maxUploadBytes: e.PLATEN_MAX_UPLOAD_MB * 1024 * 1024,
     workerConcurrency: e.PLATEN_WORKER_CONCURRENCY,
     vipsThreads: e.PLATEN_VIPS_THREADS,
+    /** Decoded scans kept between split and render (worker/decoded-copies.ts), local to each worker. */
+    decodedCopies: { dir: path.join(dataDir, "decoded"), maxBytes: e.PLATEN_DECODED_COPIES_MB * 1024 * 1024 },
     jobRetryLimit: e.PLATEN_JOB_RETRY_LIMIT,
     jobExpireSeconds: e.PLATEN_JOB_EXPIRE_SECONDS,
     maintenanceSeconds: e.PLATEN_MAINTENANCE_SECONDS,

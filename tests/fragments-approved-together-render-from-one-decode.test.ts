@@ -159,6 +159,10 @@ describe("fragments approved together, one worker", () => {
     const worker = children[0]!;
     const scanId = scanIds[0]!;
     worker.decodes.clear();
+    // The worker's split kept the scan decoded (a TIFF, decoded in full for its analysis).
+    const [row] = await stack.db.select({ sha256: scans.sha256 }).from(scans).where(eq(scans.id, scanId));
+    const copy = path.join(path.dirname(stack.env.PLATEN_DATA_DIR!), worker.name, "decoded", `${row!.sha256}.1.v`);
+    expect(fs.existsSync(copy), "the split's decoded copy").toBe(true);
     expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
     const list = await waitAllDone(scanId, PIECES[0]!);
     const ids = list.map((f) => f.id);
@@ -166,9 +170,11 @@ describe("fragments approved together, one worker", () => {
     // (a) every fragment has its master and web copy, as the single-fragment render makes them.
     await expectOutputsAsSingleRender(list);
 
-    // (b) the scan was decoded once: one decoded copy seen in the worker's temporary folder, one
-    // group line for the scan naming all the fragments.
-    expect(worker.decodes.size).toBe(1);
+    // (b) the scan was not decoded again: the group cut every fragment from the split's decoded
+    // copy (no decode of its own in the worker's temporary folder), in one group line naming all
+    // the fragments; with every fragment rendered, the copy is gone.
+    expect(worker.decodes.size).toBe(0);
+    expect(fs.existsSync(copy), "the decoded copy after the last render").toBe(false);
     const groups = logLines().filter((l) => l.msg === "render: group done" && l.scanId === scanId);
     expect(groups.map((g) => g.fragments)).toEqual([PIECES[0]]);
 

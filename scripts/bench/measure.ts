@@ -128,6 +128,7 @@ async function renderEach(
   outDir: string,
   fragments: SplitResult["fragments"],
   dpi: { x: number; y: number },
+  _decoded?: string,
 ): Promise<void> {
   for (const [i, f] of fragments.entries()) {
     await mod.renderFragment(
@@ -137,16 +138,20 @@ async function renderEach(
   }
 }
 
-/** Every fragment rendered from one decode of the scan (renderFragments). */
+/**
+ * Every fragment rendered from one decode of the scan (renderFragments): from the split's decoded
+ * copy when there is one, as the render job does.
+ */
 async function renderBatch(
   mod: RenderModule,
   file: string,
   outDir: string,
   fragments: SplitResult["fragments"],
   dpi: { x: number; y: number },
+  decoded?: string,
 ): Promise<void> {
   await mod.renderFragments(
-    { source: file, dpi, maxPixels: LIMITS.maxPixels },
+    { source: file, dpi, maxPixels: LIMITS.maxPixels, decoded },
     fragments.map((f, i) => ({
       geometry: geometryOf(f),
       targets: renderTargets(outDir, i, f.shape),
@@ -288,13 +293,19 @@ async function sameOutputsFloor(
   }
 }
 
-/** Split, then the fragments rendered by `render`, each run paired with the outputs floor. */
+/**
+ * Split, then the fragments rendered by `render`, each run paired with the outputs floor. With
+ * `keepDecoded`, as the worker does it: the split keeps the scan decoded (TIFF, PNG), the render
+ * cuts from that copy, and the copy is removed after the render.
+ */
 async function whole(
   file: string,
   runs: number,
   outDir: string,
   render: typeof renderEach,
+  keepDecoded: boolean,
 ): Promise<Omit<Sample, "peakRssMb">> {
+  const copy = keepDecoded ? path.join(outDir, "decoded.v") : undefined;
   const mod = await renderModule();
   if (!mod) {
     const none = {
@@ -314,13 +325,17 @@ async function whole(
     runs,
     () => sameOutputsFloor(file, outDir, fragments, dpi),
     async () => {
-      const result = await splitScan(file, LIMITS);
+      const result = await splitScan(file, { ...LIMITS, decodedCopy: copy });
       const t = performance.now();
-      await render(mod, file, outDir, result.fragments, result.dpi);
+      await render(mod, file, outDir, result.fragments, result.dpi, result.decodedCopy ? copy : undefined);
+      if (copy) await fs.rm(copy, { force: true });
       perFragment.push((performance.now() - t) / Math.max(1, result.fragments.length));
     },
     // The bare floor is timed too, outside the pair, for the table's extra column.
-    async () => void bare.push(await timed(() => bareFloor(file, outDir, fragments))),
+    async () => {
+      if (copy) await fs.rm(copy, { force: true });
+      bare.push(await timed(() => bareFloor(file, outDir, fragments)));
+    },
   );
   return {
     ...pairs,
@@ -340,27 +355,34 @@ type Measurement = (
 
 export const MEASUREMENTS: Record<string, Measurement> = {
   /** The whole split (header, decode into the reduced copy, analysis), paired with the floor. */
-  split: async (file, runs) => {
+  split: async (file, runs, outDir) => {
+    // As the worker splits a new scan: keeping it decoded for its render (TIFF, PNG), the copy
+    // written afresh each run.
+    const copy = path.join(outDir, "decoded.v");
     const pairs = await paired(
       runs,
       () => decodeAndReduce(file),
       async () => {
-        await splitScan(file, LIMITS);
+        await splitScan(file, { ...LIMITS, decodedCopy: copy });
       },
+      () => fs.rm(copy, { force: true }),
     );
-    const result = await splitScan(file, LIMITS);
+    await fs.rm(copy, { force: true });
+    const result = await splitScan(file, { ...LIMITS, decodedCopy: copy });
+    await fs.rm(copy, { force: true });
     return {
       ...pairs,
       detail: {
         fragments: result.fragments.length,
         analysisPx: `${result.analysis.width}x${result.analysis.height}`,
+        decodedCopy: result.decodedCopy ?? "none",
       },
     };
   },
   /** Split, then every fragment rendered from one decode (renderFragments). */
-  whole: (file, runs, outDir) => whole(file, runs, outDir, renderBatch),
+  whole: (file, runs, outDir) => whole(file, runs, outDir, renderBatch, true),
   /** Split, then one renderFragment call per fragment (one render job each, as the worker queues them). */
-  wholeEach: (file, runs, outDir) => whole(file, runs, outDir, renderEach),
+  wholeEach: (file, runs, outDir) => whole(file, runs, outDir, renderEach, false),
 };
 
 export function median(values: number[]): number {

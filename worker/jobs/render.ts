@@ -17,6 +17,7 @@ import { renderPayload } from "../../shared/schemas/jobs";
 import type { RecipeInput } from "../../shared/schemas/recipes";
 import { isRenderError, renderEach, type BatchItem, type RenderResult } from "../pipeline/render";
 import { isScanError } from "../pipeline/metadata";
+import { dropDecodedCopy, linkDecodedCopy } from "../decoded-copies";
 import { recipeVersionFor } from "../../server/services/recipes";
 import { settleBatchItem } from "../../server/services/batches";
 import type { JobContext } from "./context";
@@ -291,6 +292,8 @@ async function renderGroup(
       await deps.library
         .withScratch((dir) =>
           deps.library.withLocalFile(scan.originalKey, async (source) => {
+            // The scan as its split left it decoded, when this worker still has that copy.
+            const decoded = await linkDecodedCopy(deps.config.decodedCopies, scan.sha256, dir);
             const items: BatchItem[] = members.map((m) => ({
               geometry: { box: m.row.box, angle: m.row.angle, rect: m.row.rect, outline: m.row.outline, shape: m.row.shape },
               metadata: { title: m.row.title ?? undefined },
@@ -309,6 +312,7 @@ async function renderGroup(
                 source,
                 dpi: { x: scan.dpiX ?? deps.config.defaultDpi, y: scan.dpiY ?? scan.dpiX ?? deps.config.defaultDpi },
                 maxPixels: deps.config.maxPixels,
+                decoded: decoded ?? undefined,
               },
               items,
               {
@@ -368,6 +372,7 @@ async function renderGroup(
         .catch(() => {});
     }
     if (back.length) await notify(pool, { kind: "scan", scanId: scan.id }).catch(() => {});
+    await dropDecodedCopyWhenDone(deps, scan).catch((err: unknown) => log.warn({ err }, "render: could not drop the scan's decoded copy"));
   }
   if (stored.has(ownId)) return { kind: "done" };
   if (errors.has(ownId)) return { kind: "failed", error: errors.get(ownId) };
@@ -377,6 +382,24 @@ async function renderGroup(
     .set({ renderState: "queued", renderJobId: null, renderClaimedAt: null })
     .where(and(eq(fragments.id, ownId), eq(fragments.renderState, "rendering"), eq(fragments.renderJobId, jobId)));
   return { kind: "skipped" };
+}
+
+/**
+ * The scan's decoded copy goes once nothing of the scan waits for a render: no fragment is still
+ * proposed, and every approved one is rendered. (A later re-split decodes the scan again.)
+ */
+async function dropDecodedCopyWhenDone(deps: RenderDeps, scan: { id: string; sha256: string }) {
+  const [waiting] = await deps.database.db
+    .select({ n: sql<number>`count(*)::int` })
+    .from(fragments)
+    .where(
+      and(
+        eq(fragments.scanId, scan.id),
+        sql`${fragments.mergedInto} is null`,
+        sql`(${fragments.status} = 'proposed' or (${fragments.status} = 'approved' and ${fragments.renderState} <> 'done'))`,
+      ),
+    );
+  if ((waiting?.n ?? 0) === 0) await dropDecodedCopy(deps.config.decodedCopies, scan.sha256);
 }
 
 async function markDone(deps: RenderDeps, row: Pick<FragmentRow, "id" | "revision" | "scanId">, db = deps.database.db) {

@@ -11,6 +11,7 @@ import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
 import { splitPayload } from "../../shared/schemas/jobs";
 import { splitScan } from "../pipeline/split";
+import { decodedCopyPath, trimDecodedCopies } from "../decoded-copies";
 import { ScanError } from "../pipeline/metadata";
 import type { JobContext } from "./context";
 
@@ -37,12 +38,18 @@ export async function runSplit(
   sensitivity: number,
   localOriginal?: string,
 ): Promise<number> {
-  const split = (original: string) =>
-    splitScan(original, {
+  // The scan stays decoded for its render (worker/decoded-copies.ts), when there is room.
+  const decodedCopy = decodedCopyPath(deps.config.decodedCopies, scan.sha256) ?? undefined;
+  const split = async (original: string) => {
+    const result = await splitScan(original, {
       dpi: scan.dpiSource === "assumed" && scan.dpiX ? scan.dpiX : undefined,
       sensitivity,
       maxPixels: deps.config.maxPixels,
+      decodedCopy,
     });
+    if (result.decodedCopy === "written") await trimDecodedCopies(deps.config.decodedCopies, decodedCopy);
+    return result;
+  };
   const result = localOriginal
     ? await split(localOriginal)
     : await deps.library.withLocalFile(scan.originalKey, split).catch((err: unknown) => {

@@ -61,16 +61,67 @@ export async function decodeScan(
   const dir = await fs.mkdtemp(path.join(os.tmpdir(), "platen-decoded-"));
   const dispose = () => fs.rm(dir, { recursive: true, force: true });
   const file = path.join(dir, "scan.v");
+  try {
+    await decodeInto(source, colour, inspected, maxPixels, file);
+  } catch (err) {
+    await dispose();
+    throw err;
+  }
+  return { path: file, dispose };
+}
+
+/** Writes the decoded scan (see DecodedScan) to `file`. Throws ScanError when it cannot be decoded. */
+async function decodeInto(source: string, colour: ColourPlan, inspected: Inspected, maxPixels: number, file: string): Promise<void> {
   let pipeline = sharp(source, { failOn: "error", limitInputPixels: maxPixels }).autoOrient();
   if (colour.flatten) pipeline = pipeline.flatten({ background: WHITE });
   if (colour.keepValues) pipeline = pipeline.keepIccProfile();
   try {
     await pipeline.toColourspace(colour.space).toFile(file);
   } catch (err) {
-    await dispose();
     throw decodeError(err, source, inspected, maxPixels);
   }
-  return { path: file, dispose };
+}
+
+/**
+ * Keeps the decoded scan in `file` for later work on the same scan (the split writes it, the
+ * render cuts from it): written under a temporary name beside it and renamed when complete, so a
+ * crash or a full disk never leaves a partial copy under the name. Throws ScanError when the scan
+ * cannot be decoded, and the file system's error when the copy cannot be written.
+ */
+export async function keepDecodedCopy(source: string, colour: ColourPlan, inspected: Inspected, maxPixels: number, file: string): Promise<void> {
+  await fs.mkdir(path.dirname(file), { recursive: true });
+  const temp = `${file}.${process.pid}-${Math.random().toString(36).slice(2, 10)}.partial.v`;
+  try {
+    await decodeInto(source, colour, inspected, maxPixels, temp);
+    await fs.rename(temp, file);
+  } catch (err) {
+    await fs.rm(temp, { force: true });
+    throw err;
+  }
+}
+
+/** The band format libvips stores each bit depth in. */
+const DEPTHS: Record<number, string> = { 8: "uchar", 16: "ushort" };
+
+/**
+ * A decoded copy kept earlier (keepDecodedCopy) when it is this scan's, decoded as `colour` says:
+ * a libvips file of the scan's upright size, with its bands and depth; otherwise (missing, of
+ * another size or layout, unreadable) null, and the caller decodes the scan itself. The copy is
+ * the caller's: dispose leaves it in place.
+ */
+export async function openDecodedCopy(file: string, colour: ColourPlan, inspected: Inspected): Promise<DecodedScan | null> {
+  const m = inspected.meta;
+  const quarterTurn = (m.orientation ?? 1) >= 5 && (m.orientation ?? 1) <= 8;
+  const width = m.autoOrient?.width ?? (quarterTurn ? m.height : m.width);
+  const height = m.autoOrient?.height ?? (quarterTurn ? m.width : m.height);
+  const bands = (colour.grey ? 1 : 3) + (m.hasAlpha && !colour.flatten ? 1 : 0);
+  try {
+    const v = await sharp(file, { limitInputPixels: false }).metadata();
+    const ok = v.format === "vips" && v.width === width && v.height === height && v.channels === bands && v.depth === DEPTHS[colour.bitDepth];
+    return ok ? { path: file, dispose: async () => {} } : null;
+  } catch {
+    return null;
+  }
 }
 
 /**

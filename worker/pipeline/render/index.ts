@@ -14,7 +14,7 @@ import {
 import { isScanError } from "../errors";
 import { inspectScanFile, type Inspected } from "../inspect";
 import { colourPlan, type ColourPlan } from "./colour";
-import { cutUpright, decodeScan, type DecodedScan, type UprightCut } from "./cut";
+import { cutUpright, decodeScan, openDecodedCopy, type DecodedScan, type UprightCut } from "./cut";
 import { correctCut, type RenderRecipe } from "./correct";
 import type { AppliedStep } from "../colour";
 import { isRenderError, renderErrors } from "./errors";
@@ -183,6 +183,16 @@ export async function renderFragment(
   return renderChecked(input, out, checked, inspected, undefined);
 }
 
+/** The scan a group of fragments is cut from. */
+export type ScanInput = Pick<RenderInput, "source" | "dpi" | "maxPixels"> & {
+  /**
+   * A decoded copy of this scan kept earlier (the split's, see keepDecodedCopy): when it is this
+   * scan's, decoded as the render would, the fragments are cut from it and the scan is not decoded
+   * at all; otherwise it is ignored. Only read, never removed.
+   */
+  decoded?: string;
+};
+
 /** One fragment of a scan for renderFragments: its geometry, rights, recipe and targets. */
 export interface BatchItem {
   geometry: FragmentGeometry;
@@ -204,7 +214,7 @@ export interface BatchItem {
  *   → [{ master: { width: 1538, … }, web: { … } }, …].
  */
 export async function renderFragments(
-  scan: Pick<RenderInput, "source" | "dpi" | "maxPixels">,
+  scan: ScanInput,
   items: BatchItem[],
 ): Promise<RenderResult[]> {
   const results: RenderResult[] = [];
@@ -236,7 +246,7 @@ export interface EachOptions {
  * Example: await renderEach(scan, items, { done: (i, o) => (o.ok ? store(i, o.result) : report(i, o.error)) }).
  */
 export async function renderEach(
-  scan: Pick<RenderInput, "source" | "dpi" | "maxPixels">,
+  scan: ScanInput,
   items: BatchItem[],
   each: EachOptions,
 ): Promise<void> {
@@ -244,7 +254,7 @@ export async function renderEach(
 }
 
 async function renderFromOneDecode(
-  scan: Pick<RenderInput, "source" | "dpi" | "maxPixels">,
+  scan: ScanInput,
   items: BatchItem[],
   each: EachOptions & { strict: boolean },
 ): Promise<void> {
@@ -273,10 +283,10 @@ async function renderFromOneDecode(
   const inspected = await inspectScanFile(scan.source, scan.maxPixels);
   const { width, height } = uprightSizeOf(inspected);
   if (each.strict) for (const c of checked) assertFits((c as CheckedInput).geometry, width, height);
+  const colour = colourPlan(inspected.meta);
+  const kept = scan.decoded ? await openDecodedCopy(scan.decoded, colour, inspected) : null;
   const decoded =
-    items.length > 1
-      ? await decodeScan(scan.source, colourPlan(inspected.meta), inspected, scan.maxPixels)
-      : undefined;
+    kept ?? (items.length > 1 ? await decodeScan(scan.source, colour, inspected, scan.maxPixels) : undefined);
   // From the decoded copy the work is a pipeline of two stages: while one fragment's files are
   // written (encoders, mostly one thread each) and handed to `done`, the next one is cut and
   // corrected (the affine turn and the recipe, threaded), so both cores stay busy. At most two

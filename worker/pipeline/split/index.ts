@@ -2,7 +2,12 @@ import type { DetectedPiece } from "../../../shared/schemas/fragments";
 import type { DpiSource } from "../../../shared/schemas/scans";
 import { DEFAULT_DPI, DEFAULT_MAX_PIXELS } from "../../../shared/limits";
 import { MM_PER_INCH } from "../../../shared/units";
+import { isScanError } from "../errors";
+import { inspectScanFile } from "../inspect";
 import { readScanInfo } from "../metadata";
+import type { ScanFormat } from "../sniff";
+import { colourPlan } from "../render/colour";
+import { keepDecodedCopy, openDecodedCopy } from "../render/cut";
 import { loadAnalysisCopy, type AnalysisCopy } from "./analysis-copy";
 import { estimateBackground, type BackgroundModel } from "./background";
 import { rgbToLabPlanes } from "./colour";
@@ -30,6 +35,16 @@ export interface SplitOptions {
   maxPixels?: number;
   /** Resolution of the analysis copy, DPI. Default 75 (DEFAULT_ANALYSIS_DPI). */
   analysisDpi?: number;
+  /**
+   * A file for the scan decoded at full resolution (a libvips .v file, width × height × bands ×
+   * bytes of disk): when it already holds this scan's decoded copy it is analysed instead of the
+   * scan; otherwise the scan is decoded into it once (written under a temporary name, renamed when
+   * complete) and the analysis copy made from it, so that the render can cut the fragments from it
+   * without decoding the scan again. Where it cannot be written (a full disk), the scan is split
+   * as without it. Only for scans the split must decode in full anyway (TIFF, PNG): JPEG and WebP
+   * are shrunk while decoded, and keep no copy.
+   */
+  decodedCopy?: string;
 }
 
 export interface SplitResult {
@@ -49,6 +64,8 @@ export interface SplitResult {
   /** Components set aside, by reason: dust and specks (small), hairs and threads (thin), faint. */
   rejected: Record<Rejection, number>;
   fragments: DetectedPiece[];
+  /** With options.decodedCopy: whether the copy was there already or written now; absent when it could not be written. */
+  decodedCopy?: "read" | "written";
 }
 
 export interface Analysis {
@@ -61,12 +78,19 @@ export interface Analysis {
   fragments: DetectedPiece[];
 }
 
+/**
+ * Formats libvips shrinks while decoding them (JPEG by its DCT scaling, WebP by its own): their
+ * analysis copy costs a fraction of a full decode, which keeping a decoded copy would add to the
+ * split; the render decodes them itself.
+ */
+const SHRUNK_WHILE_DECODED: ReadonlySet<ScanFormat> = new Set(["jpeg", "webp"]);
+
 /** Below this share of the border agreeing on one colour, no background is visible at all. */
 const MIN_BORDER_AGREEMENT = 0.3;
 
 function checkOptions(
   opts: SplitOptions,
-): Required<Omit<SplitOptions, "analysisDpi">> & { analysisDpi?: number } {
+): Required<Omit<SplitOptions, "analysisDpi" | "decodedCopy">> & { analysisDpi?: number } {
   const sensitivity = opts.sensitivity ?? 0.5;
   if (!(Number.isFinite(sensitivity) && sensitivity >= 0 && sensitivity <= 1)) {
     throw new RangeError(`Expected a sensitivity from 0 to 1 but received ${opts.sensitivity}`);
@@ -181,7 +205,24 @@ function wholeScan(width: number, height: number, dpi: { x: number; y: number })
 export async function splitScan(file: string, options: SplitOptions = {}): Promise<SplitResult> {
   const opts = checkOptions(options);
   const info = await readScanInfo(file, { defaultDpi: opts.dpi, maxPixels: opts.maxPixels });
-  const copy = await loadAnalysisCopy(file, {
+  let analysed = file;
+  let decodedCopy: SplitResult["decodedCopy"];
+  const inspected = options.decodedCopy ? await inspectScanFile(file, opts.maxPixels) : null;
+  if (options.decodedCopy && inspected && !SHRUNK_WHILE_DECODED.has(inspected.format)) {
+    const colour = colourPlan(inspected.meta);
+    if (await openDecodedCopy(options.decodedCopy, colour, inspected)) decodedCopy = "read";
+    else {
+      try {
+        await keepDecodedCopy(file, colour, inspected, opts.maxPixels, options.decodedCopy);
+        decodedCopy = "written";
+      } catch (err) {
+        if (isScanError(err)) throw err; // the scan itself is broken
+        // No room for the copy (or no access): split from the scan as without it.
+      }
+    }
+    if (decodedCopy) analysed = options.decodedCopy;
+  }
+  const copy = await loadAnalysisCopy(analysed, {
     sourceDpi: { x: info.dpi.x, y: info.dpi.y },
     sourceWidth: info.width,
     sourceHeight: info.height,
@@ -208,5 +249,6 @@ export async function splitScan(file: string, options: SplitOptions = {}): Promi
     },
     rejected: analysis.rejected,
     fragments: analysis.fragments,
+    ...(decodedCopy ? { decodedCopy } : {}),
   };
 }

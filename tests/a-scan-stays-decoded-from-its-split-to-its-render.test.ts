@@ -1,0 +1,204 @@
+/**
+ * A scan the split decodes in full (TIFF, PNG) is kept decoded (SplitOptions.decodedCopy), and the
+ * render cuts its fragments from that copy (ScanInput.decoded) instead of decoding the scan again.
+ * The copy must change nothing: the split finds the same fragments with it as without it, and the
+ * render writes the very files it writes from the scan (pixels, depth, profile), 8-bit and 16-bit.
+ * A copy that is not this scan's is never read; a broken scan leaves no copy; no room for the copy
+ * never stops a split. The worker's copies (worker/decoded-copies.ts) stay within their room.
+ */
+import fs from "node:fs";
+import path from "node:path";
+import sharp from "sharp";
+import { afterAll, describe, expect, it } from "vitest";
+import { renderFragments, type BatchItem } from "../worker/pipeline/render";
+import { splitScan, type SplitResult } from "../worker/pipeline/split";
+import { decodedCopyPath, dropDecodedCopy, linkDecodedCopy, trimDecodedCopies } from "../worker/decoded-copies";
+import { pieceBed } from "./helpers/fixtures";
+import { makeTempDir } from "./helpers/scan-bytes";
+
+const tmp = makeTempDir("platen-decoded-copy-");
+afterAll(() => tmp.cleanup());
+const at = (name: string) => path.join(tmp.dir, name);
+const maxPixels = 100_000_000;
+
+async function bed(name: string, opts: { seed?: number; depth?: 16; icc?: "p3"; format?: "png" | "jpeg" } = {}): Promise<string> {
+  let img = sharp(await pieceBed(opts.seed ?? 3, 3));
+  if (opts.depth === 16) img = img.toColourspace("rgb16");
+  if (opts.icc) img = img.withIccProfile(opts.icc);
+  const file = at(name);
+  if (opts.format === "png") await img.png().toFile(file);
+  else if (opts.format === "jpeg") await img.jpeg({ quality: 92 }).withMetadata({ density: 300 }).toFile(file);
+  else await img.tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toFile(file);
+  return file;
+}
+
+function items(dir: string, result: SplitResult): BatchItem[] {
+  fs.mkdirSync(dir, { recursive: true });
+  return result.fragments.map((f, i) => ({
+    geometry: { box: f.box, angle: f.angle, rect: f.rect, outline: f.outline, shape: f.shape },
+    targets: { masterPath: path.join(dir, `m${i}.tif`), webPath: path.join(dir, `w${i}.${f.shape === "cutout" ? "webp" : "jpg"}`) },
+  }));
+}
+
+/** The same picture: header fields, ICC profile and every sample. */
+async function samePicture(a: string, b: string): Promise<void> {
+  const [ma, mb] = await Promise.all([sharp(a).metadata(), sharp(b).metadata()]);
+  for (const key of ["format", "width", "height", "channels", "depth", "space", "density"] as const) expect(mb[key], key).toEqual(ma[key]);
+  expect(Boolean(mb.icc)).toBe(Boolean(ma.icc));
+  if (ma.icc) expect(mb.icc!.equals(ma.icc)).toBe(true);
+  const raw = (f: string) => sharp(f).keepIccProfile().raw({ depth: ma.depth === "ushort" ? "ushort" : "uchar" }).toBuffer();
+  expect((await raw(b)).equals(await raw(a)), `pixels of ${path.basename(b)}`).toBe(true);
+}
+
+/** Split with a decoded copy and without, then render from the copy and from the scan: all equal. */
+async function roundTrip(file: string, label: string) {
+  const copy = at(`${label}.v`);
+  const plain = await splitScan(file, { maxPixels });
+  const kept = await splitScan(file, { maxPixels, decodedCopy: copy });
+  expect(kept.decodedCopy).toBe("written");
+  expect(plain.decodedCopy).toBeUndefined();
+  expect(kept.fragments.length).toBe(3);
+  expect(kept.fragments).toEqual(plain.fragments);
+  expect(kept.background).toEqual(plain.background);
+  // The copy is the upright scan, uncompressed: width × height × 3 samples of its depth.
+  const meta = await sharp(copy).metadata();
+  expect([meta.format, meta.width, meta.height, meta.channels]).toEqual(["vips", plain.width, plain.height, 3]);
+  expect(fs.statSync(copy).size).toBeGreaterThanOrEqual(plain.width * plain.height * 3 * (meta.depth === "ushort" ? 2 : 1));
+  // A second split (another sensitivity, say) reads the copy and finds the same.
+  const again = await splitScan(file, { maxPixels, decodedCopy: copy });
+  expect(again.decodedCopy).toBe("read");
+  expect(again.fragments).toEqual(plain.fragments);
+
+  const dpi = { x: plain.dpi.x, y: plain.dpi.y };
+  const fromScan = await renderFragments({ source: file, dpi, maxPixels }, items(at(`${label}-scan`), plain));
+  const fromCopy = await renderFragments({ source: file, dpi, maxPixels, decoded: copy }, items(at(`${label}-copy`), plain));
+  for (const [i, r] of fromCopy.entries()) {
+    expect({ ...r.master, path: "", bytes: 0 }).toEqual({ ...fromScan[i]!.master, path: "", bytes: 0 });
+    await samePicture(fromScan[i]!.master.path, r.master.path);
+    await samePicture(fromScan[i]!.web.path, r.web.path);
+  }
+  // One fragment alone is cut from the copy too.
+  const [first] = items(at(`${label}-one`), plain);
+  const [one] = await renderFragments({ source: file, dpi, maxPixels, decoded: copy }, [first!]);
+  await samePicture(fromScan[0]!.master.path, one!.master.path);
+  expect(fs.existsSync(copy), "the render only reads the copy").toBe(true);
+  return { copy, plain, fromScan };
+}
+
+describe("a scan kept decoded from its split to its render", () => {
+  it("changes nothing for an 8-bit TIFF: the same fragments, the same masters and web copies", async () => {
+    await roundTrip(await bed("rgb8.tif"), "rgb8");
+  });
+
+  it("keeps 16 bits and the scan's Display P3 profile exactly", async () => {
+    const { fromScan } = await roundTrip(await bed("p3-16.tif", { depth: 16, icc: "p3" }), "p3-16");
+    const m = await sharp(fromScan[0]!.master.path).metadata();
+    expect([m.depth, Boolean(m.icc)]).toEqual(["ushort", true]);
+  });
+
+  it("is kept for a PNG, and not for a JPEG, which is shrunk while decoded", async () => {
+    const png = await splitScan(await bed("bed.png", { format: "png" }), { maxPixels, decodedCopy: at("png.v") });
+    expect(png.decodedCopy).toBe("written");
+    const jpeg = await splitScan(await bed("bed.jpg", { format: "jpeg" }), { maxPixels, decodedCopy: at("jpeg.v") });
+    expect(jpeg.decodedCopy).toBeUndefined();
+    expect(jpeg.fragments.length).toBe(3);
+    expect(fs.existsSync(at("jpeg.v"))).toBe(false);
+  });
+
+  it("never reads another scan's copy: the split replaces it and the render decodes the scan", async () => {
+    const other = at("other.v");
+    await splitScan(await bed("small.tif", { seed: 1 }), { maxPixels, decodedCopy: other });
+    // A wider scan (another seed moves and sizes its pieces), given the first scan's copy.
+    const file = at("wide.tif");
+    await sharp({ create: { width: 1400, height: 700, channels: 3, background: "#f6f5f1" } })
+      .composite([{ input: await sharp(await pieceBed(5, 3)).png().toBuffer(), left: 100, top: 60 }])
+      .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+      .toFile(file);
+    fs.copyFileSync(other, at("stale.v"));
+    const plain = await splitScan(file, { maxPixels });
+    const dpi = { x: 300, y: 300 };
+    const fromScan = await renderFragments({ source: file, dpi, maxPixels }, items(at("wide-scan"), plain));
+    const withStale = await renderFragments({ source: file, dpi, maxPixels, decoded: at("stale.v") }, items(at("wide-stale"), plain));
+    for (const [i, r] of withStale.entries()) await samePicture(fromScan[i]!.master.path, r.master.path);
+    const replaced = await splitScan(file, { maxPixels, decodedCopy: other });
+    expect(replaced.decodedCopy).toBe("written");
+    expect(replaced.fragments).toEqual(plain.fragments);
+    fs.copyFileSync(other, at("replaced.v")); // read under a new name: libvips caches what it opened by name
+    expect((await sharp(at("replaced.v")).metadata()).width).toBe(1400);
+    // A file that is not an image at all is no copy either.
+    fs.writeFileSync(at("junk.v"), "not an image");
+    const fromJunk = await renderFragments({ source: file, dpi, maxPixels, decoded: at("junk.v") }, items(at("wide-junk"), plain));
+    await samePicture(fromScan[0]!.master.path, fromJunk[0]!.master.path);
+  });
+
+  it("a broken scan fails the split as before and leaves no copy, not even a partial one", async () => {
+    const whole = fs.readFileSync(await bed("whole.tif"));
+    const file = at("cut-short.tif");
+    fs.writeFileSync(file, whole.subarray(0, Math.floor(whole.length * 0.6)));
+    fs.mkdirSync(at("broken"), { recursive: true });
+    await expect(splitScan(file, { maxPixels, decodedCopy: at("broken/scan.v") })).rejects.toMatchObject({ name: "ScanError" });
+    expect(fs.readdirSync(at("broken"))).toEqual([]);
+  });
+
+  it("no room for the copy never stops the split", async () => {
+    fs.writeFileSync(at("a-file"), "");
+    const result = await splitScan(await bed("roomless.tif"), { maxPixels, decodedCopy: at("a-file/under/scan.v") });
+    expect(result.decodedCopy).toBeUndefined();
+    expect(result.fragments.length).toBe(3);
+  });
+});
+
+describe("the worker's decoded copies", () => {
+  const sha = (c: string) => c.repeat(64);
+
+  it("are named by the scan's content, and not kept at all with no room", () => {
+    const copies = { dir: at("copies-naming"), maxBytes: 1 };
+    expect(decodedCopyPath(copies, sha("a"))).toBe(path.join(copies.dir, `${sha("a")}.1.v`));
+    expect(decodedCopyPath({ ...copies, maxBytes: 0 }, sha("a"))).toBeNull();
+    expect(decodedCopyPath(copies, "../../etc/passwd")).toBeNull();
+  });
+
+  it("stay within their room, oldest first, keeping the one just written; stale partial copies go", async () => {
+    const dir = at("copies");
+    fs.mkdirSync(dir, { recursive: true });
+    const copies = { dir, maxBytes: 2500 };
+    const write = (c: string, bytes: number, ageS: number) => {
+      const file = decodedCopyPath(copies, sha(c))!;
+      fs.writeFileSync(file, Buffer.alloc(bytes));
+      const t = new Date(Date.now() - ageS * 1000);
+      fs.utimesSync(file, t, t);
+      return file;
+    };
+    write("a", 1000, 300);
+    write("b", 1000, 200);
+    write("c", 1000, 100);
+    const newest = write("d", 1000, 0);
+    const partial = path.join(dir, `${sha("e")}.1.v.123-abc.partial.v`);
+    fs.writeFileSync(partial, Buffer.alloc(10));
+    const old = new Date(Date.now() - 7 * 3600_000);
+    fs.utimesSync(partial, old, old);
+    const fresh = path.join(dir, `${sha("f")}.1.v.456-def.partial.v`);
+    fs.writeFileSync(fresh, Buffer.alloc(10));
+    expect(await trimDecodedCopies(copies, newest)).toBe(2000);
+    expect(fs.readdirSync(dir).sort()).toEqual([`${sha("c")}.1.v`, `${sha("d")}.1.v`, path.basename(fresh)].sort());
+    // One copy larger than the whole room is not kept, even just written.
+    const huge = write("9", 3000, 0);
+    await trimDecodedCopies(copies, huge);
+    expect(fs.existsSync(huge)).toBe(false);
+  });
+
+  it("are linked into a job's folder, so that dropping one does not pull it from under a render", async () => {
+    const copies = { dir: at("copies-link"), maxBytes: 1e9 };
+    fs.mkdirSync(copies.dir, { recursive: true });
+    const file = decodedCopyPath(copies, sha("b"))!;
+    fs.writeFileSync(file, "pixels");
+    const job = at("job-scratch");
+    fs.mkdirSync(job, { recursive: true });
+    const link = await linkDecodedCopy(copies, sha("b"), job);
+    expect(link && path.dirname(link)).toBe(job);
+    await dropDecodedCopy(copies, sha("b"));
+    expect(fs.existsSync(file)).toBe(false);
+    expect(fs.readFileSync(link!, "utf8")).toBe("pixels");
+    expect(await linkDecodedCopy(copies, sha("b"), job)).toBeNull();
+  });
+});
