@@ -51,7 +51,7 @@ async function timed(fn: () => Promise<void>): Promise<{ wall: number; cpu: numb
 
 type Pairs = Omit<Sample, "peakRssMb" | "detail">;
 
-/** `runs` pairs: the floor, then the measured function, each timed (after `before`, untimed here). */
+/** `runs` pairs after one untimed warm-up pair: the floor, then the measured function, each timed (after `before`, untimed here). */
 async function paired(
   runs: number,
   floor: () => Promise<void>,
@@ -66,6 +66,12 @@ async function paired(
     ratios: [],
     cpuRatios: [],
   };
+  // One pair first, untimed: the worker is a long-running process, so its JavaScript is compiled
+  // and its first allocations made long before a given scan arrives; a fresh process's first run
+  // (up to twice as slow in the analysis) would measure the compiler instead.
+  await before?.();
+  await floor();
+  await run();
   for (let r = 0; r < runs; r++) {
     await before?.();
     const f = await timed(floor);
@@ -337,12 +343,14 @@ async function whole(
       bare.push(await timed(() => bareFloor(file, outDir, fragments)));
     },
   );
+  // The warm-up pair ran `before` and the render too: only the timed runs' entries count.
+  const timedBare = bare.slice(-runs);
   return {
     ...pairs,
     detail: {
-      renderPerFragmentMs: median(perFragment),
-      bareFloorMs: median(bare.map((b) => b.wall)),
-      wholeOverBareFloor: median(pairs.times.map((t, i) => t / bare[i]!.wall)),
+      renderPerFragmentMs: median(perFragment.slice(-runs)),
+      bareFloorMs: median(timedBare.map((b) => b.wall)),
+      wholeOverBareFloor: median(pairs.times.map((t, i) => t / timedBare[i]!.wall)),
     },
   };
 }

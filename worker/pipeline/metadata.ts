@@ -2,7 +2,7 @@ import sharp, { type Metadata } from "sharp";
 import type { DpiSource, ResolutionOrigin } from "../../shared/schemas/scans";
 import { physicalSize, type PhysicalSize } from "../../shared/units";
 import { iccDescription } from "./icc";
-import { decodeError, inspectScan, inspectScanFile, openScanFile } from "./inspect";
+import { decodeError, inspectScan, inspectScanFile, openScanFile, type Inspected } from "./inspect";
 import { readEmbeddedResolution } from "./resolution";
 import type { ScanFormat } from "./sniff";
 
@@ -81,10 +81,16 @@ function checkLimits(opts: ScanLimits): void {
  *   physical: { widthIn: 8.5, heightIn: 11, widthCm: 21.59, heightCm: 27.94 }, … }.
  */
 export async function readScanInfo(file: string, opts: ScanLimits): Promise<ScanInfo> {
+  return (await readScanHeader(file, opts)).info;
+}
+
+/** readScanInfo, with the header as the decoder read it (for work that goes on to decode). */
+export async function readScanHeader(file: string, opts: ScanLimits): Promise<{ info: ScanInfo; inspected: Inspected }> {
   checkLimits(opts);
   const fh = await openScanFile(file);
   try {
-    const { sizeBytes, format, meta } = await inspectScan(file, fh, opts.maxPixels);
+    const inspected = await inspectScan(file, fh, opts.maxPixels);
+    const { sizeBytes, format, meta } = inspected;
     const embedded = await readEmbeddedResolution({
       file,
       fh,
@@ -104,7 +110,7 @@ export async function readScanInfo(file: string, opts: ScanLimits): Promise<Scan
           origin: embedded.origin,
         }
       : { x: opts.defaultDpi, y: opts.defaultDpi, source: "assumed" as const, origin: null };
-    return {
+    const info: ScanInfo = {
       width,
       height,
       format,
@@ -118,6 +124,7 @@ export async function readScanInfo(file: string, opts: ScanLimits): Promise<Scan
       physical: physicalSize(width, height, dpi.x, dpi.y),
       sizeBytes,
     };
+    return { info, inspected };
   } finally {
     await fh.close();
   }

@@ -3,8 +3,7 @@ import type { DpiSource } from "../../../shared/schemas/scans";
 import { DEFAULT_DPI, DEFAULT_MAX_PIXELS } from "../../../shared/limits";
 import { MM_PER_INCH } from "../../../shared/units";
 import { isScanError } from "../errors";
-import { inspectScanFile } from "../inspect";
-import { readScanInfo } from "../metadata";
+import { readScanHeader } from "../metadata";
 import type { ScanFormat } from "../sniff";
 import { colourPlan } from "../render/colour";
 import { keepDecodedCopy, openDecodedCopy } from "../render/cut";
@@ -204,11 +203,10 @@ function wholeScan(width: number, height: number, dpi: { x: number; y: number })
  */
 export async function splitScan(file: string, options: SplitOptions = {}): Promise<SplitResult> {
   const opts = checkOptions(options);
-  const info = await readScanInfo(file, { defaultDpi: opts.dpi, maxPixels: opts.maxPixels });
+  const { info, inspected } = await readScanHeader(file, { defaultDpi: opts.dpi, maxPixels: opts.maxPixels });
   let analysed = file;
   let decodedCopy: SplitResult["decodedCopy"];
-  const inspected = options.decodedCopy ? await inspectScanFile(file, opts.maxPixels) : null;
-  if (options.decodedCopy && inspected && !SHRUNK_WHILE_DECODED.has(inspected.format)) {
+  if (options.decodedCopy && !SHRUNK_WHILE_DECODED.has(inspected.format)) {
     const colour = colourPlan(inspected.meta);
     if (await openDecodedCopy(options.decodedCopy, colour, inspected)) decodedCopy = "read";
     else {
