@@ -12,6 +12,7 @@ import sharp from "sharp";
 import { afterAll, describe, expect, it } from "vitest";
 import { renderFragments, type BatchItem } from "../worker/pipeline/render";
 import { splitScan, type SplitResult } from "../worker/pipeline/split";
+import { writePreviews } from "../worker/pipeline/metadata";
 import { decodedCopyPath, dropDecodedCopy, linkDecodedCopy, trimDecodedCopies } from "../worker/decoded-copies";
 import { pieceBed } from "./helpers/fixtures";
 import { makeTempDir } from "./helpers/scan-bytes";
@@ -138,6 +139,29 @@ describe("a scan kept decoded from its split to its render", () => {
     fs.mkdirSync(at("broken"), { recursive: true });
     await expect(splitScan(file, { maxPixels, decodedCopy: at("broken/scan.v") })).rejects.toMatchObject({ name: "ScanError" });
     expect(fs.readdirSync(at("broken"))).toEqual([]);
+  });
+
+  it("gives the scan's preview and thumbnail as the scan itself does (8-bit, 16-bit P3, alpha)", async () => {
+    const cases: [string, string][] = [
+      ["prev-rgb8", await bed("prev-rgb8.tif")],
+      ["prev-p3-16", await bed("prev-p3-16.tif", { depth: 16, icc: "p3" })],
+      ["prev-alpha", at("prev-alpha.png")],
+    ];
+    await sharp(await pieceBed(6, 3)).ensureAlpha(0.7).png().toFile(at("prev-alpha.png"));
+    for (const [label, file] of cases) {
+      const copy = at(`${label}.v`);
+      expect((await splitScan(file, { maxPixels, decodedCopy: copy })).decodedCopy).toBe("written");
+      const fromScan = await writePreviews(file, { previewPath: at(`${label}-p.jpg`), thumbPath: at(`${label}-t.jpg`), maxPixels });
+      const fromCopy = await writePreviews(file, { previewPath: at(`${label}-pc.jpg`), thumbPath: at(`${label}-tc.jpg`), maxPixels, decoded: copy });
+      expect(fromCopy).toEqual(fromScan);
+      for (const [a, b] of [[`${label}-p.jpg`, `${label}-pc.jpg`], [`${label}-t.jpg`, `${label}-tc.jpg`]] as const) {
+        const [pa, pb] = await Promise.all([sharp(at(a)).raw().toBuffer(), sharp(at(b)).raw().toBuffer()]);
+        expect(pb.length).toBe(pa.length);
+        let worst = 0;
+        for (let i = 0; i < pa.length; i++) worst = Math.max(worst, Math.abs(pa[i]! - pb[i]!));
+        expect(worst, `${b} against ${a}`).toBeLessThanOrEqual(2);
+      }
+    }
   });
 
   it("no room for the copy never stops the split", async () => {

@@ -6,7 +6,9 @@ import { isStorageError } from "../../server/storage/storage";
 import { notify } from "../../server/services/events";
 import { noticeScanSettled } from "../../server/services/notices";
 import { analysePayload } from "../../shared/schemas/jobs";
-import { readScanInfo, writePreviews, ScanError } from "../pipeline/metadata";
+import { readScanHeader, writePreviews, ScanError } from "../pipeline/metadata";
+import { ensureDecodedCopy } from "../pipeline/render/cut";
+import { decodedCopyPath, linkDecodedCopy, trimDecodedCopies } from "../decoded-copies";
 import { DEFAULT_SENSITIVITY, runSplit, type SplitDeps } from "./split";
 import type { JobContext } from "./context";
 
@@ -97,7 +99,7 @@ export async function analyseScan(
   await settled(false);
 
   async function analyseFile(original: string) {
-    const info = await readScanInfo(original, { defaultDpi, maxPixels: deps.config.maxPixels });
+    const { info, inspected } = await readScanHeader(original, { defaultDpi, maxPixels: deps.config.maxPixels });
     await progress("Making the preview", 35, {
       width: info.width,
       height: info.height,
@@ -115,13 +117,21 @@ export async function analyseScan(
     });
     if (deps.config.testAnalyseDelayMs > 0)
       await holdFor(deps.config.testAnalyseDelayMs, ctx.signal);
+    // A scan decoded in full for its preview and its split is decoded once, into the copy its
+    // render will cut from (worker/decoded-copies.ts); the preview and the split read that copy.
+    const [row] = await db.select({ sha256: scans.sha256 }).from(scans).where(eq(scans.id, scanId));
+    const copyFile = row ? decodedCopyPath(deps.config.decodedCopies, row.sha256) : null;
+    const copy = copyFile ? await ensureDecodedCopy(original, inspected, deps.config.maxPixels, copyFile) : null;
+    if (copy === "written") await trimDecodedCopies(deps.config.decodedCopies, copyFile!);
     const pKey = previewKey(scanId);
     const tKey = thumbKey(scanId);
     // Made in scratch, then stored (locally a rename into place; on S3 an upload).
     await deps.library.withScratch(async (dir) => {
       const previewPath = path.join(dir, "preview.jpg");
       const thumbPath = path.join(dir, "thumb.jpg");
-      await writePreviews(original, { previewPath, thumbPath, maxPixels: deps.config.maxPixels });
+      // Linked into scratch, so that a trim elsewhere cannot pull it away while it is read.
+      const decoded = copy && row ? ((await linkDecodedCopy(deps.config.decodedCopies, row.sha256, dir)) ?? undefined) : undefined;
+      await writePreviews(original, { previewPath, thumbPath, maxPixels: deps.config.maxPixels, decoded });
       await deps.library.put(pKey, previewPath, { move: true });
       await deps.library.put(tKey, thumbPath, { move: true });
     });

@@ -16,6 +16,11 @@ export interface PreviewTargets {
   previewLongEdge?: number;
   /** Long edge of the thumbnail in pixels (default THUMB_LONG_EDGE, 320). */
   thumbLongEdge?: number;
+  /**
+   * The scan's decoded copy (see keepDecodedCopy, render/cut.ts): the pixels are read from it
+   * instead of decoding the scan again. The scan itself is still what is checked.
+   */
+  decoded?: string;
 }
 
 export interface PreviewResult {
@@ -82,7 +87,7 @@ export async function writePreviews(file: string, out: PreviewTargets): Promise<
 
   let pixels: { data: Buffer; info: OutputInfo };
   try {
-    pixels = await sharp(file, { failOn: "error", limitInputPixels: out.maxPixels })
+    pixels = await sharp(out.decoded ?? file, { failOn: "error", limitInputPixels: out.maxPixels })
       .autoOrient()
       .resize({ width: previewEdge, height: previewEdge, fit: "inside", withoutEnlargement: true })
       .flatten({ background: WHITE })

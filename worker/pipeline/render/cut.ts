@@ -7,8 +7,10 @@ import fs from "node:fs/promises";
 import os from "node:os";
 import path from "node:path";
 import sharp, { type OutputInfo } from "sharp";
+import { isScanError } from "../errors";
 import { decodeError, type Inspected } from "../inspect";
-import type { ColourPlan } from "./colour";
+import type { ScanFormat } from "../sniff";
+import { colourPlan, type ColourPlan } from "./colour";
 import type { PixelRect, UprightPlan } from "./geometry";
 
 /**
@@ -192,4 +194,30 @@ export async function cutUpright(
     canvas,
     crop: { ...plan.crop, left: plan.crop.left + pad.left, top: plan.crop.top + pad.top },
   };
+}
+
+/**
+ * Formats libvips shrinks while decoding them (JPEG by its DCT scaling, WebP by its own): a reduced
+ * copy of them costs a fraction of a full decode, which keeping a decoded copy would add; the
+ * render decodes them itself.
+ */
+const SHRUNK_WHILE_DECODED: ReadonlySet<ScanFormat> = new Set(["jpeg", "webp"]);
+
+/**
+ * Makes sure `file` holds the scan's decoded copy (see keepDecodedCopy), decoded as the render
+ * would (colourPlan): "read" when it was there, "written" when made now; null for a scan that keeps
+ * none (JPEG, WebP) or when it cannot be written (a full disk: the work goes on from the scan).
+ * Throws ScanError when the scan itself cannot be decoded.
+ */
+export async function ensureDecodedCopy(source: string, inspected: Inspected, maxPixels: number, file: string): Promise<"read" | "written" | null> {
+  if (SHRUNK_WHILE_DECODED.has(inspected.format)) return null;
+  const colour = colourPlan(inspected.meta);
+  if (await openDecodedCopy(file, colour, inspected)) return "read";
+  try {
+    await keepDecodedCopy(source, colour, inspected, maxPixels, file);
+    return "written";
+  } catch (err) {
+    if (isScanError(err)) throw err; // the scan itself is broken
+    return null; // no room for the copy (or no access)
+  }
 }

@@ -2,11 +2,8 @@ import type { DetectedPiece } from "../../../shared/schemas/fragments";
 import type { DpiSource } from "../../../shared/schemas/scans";
 import { DEFAULT_DPI, DEFAULT_MAX_PIXELS } from "../../../shared/limits";
 import { MM_PER_INCH } from "../../../shared/units";
-import { isScanError } from "../errors";
 import { readScanHeader } from "../metadata";
-import type { ScanFormat } from "../sniff";
-import { colourPlan } from "../render/colour";
-import { keepDecodedCopy, openDecodedCopy } from "../render/cut";
+import { ensureDecodedCopy } from "../render/cut";
 import { loadAnalysisCopy, type AnalysisCopy } from "./analysis-copy";
 import { estimateBackground, type BackgroundModel } from "./background";
 import { rgbToLabPlanes } from "./colour";
@@ -76,13 +73,6 @@ export interface Analysis {
   backgroundVisible: boolean;
   fragments: DetectedPiece[];
 }
-
-/**
- * Formats libvips shrinks while decoding them (JPEG by its DCT scaling, WebP by its own): their
- * analysis copy costs a fraction of a full decode, which keeping a decoded copy would add to the
- * split; the render decodes them itself.
- */
-const SHRUNK_WHILE_DECODED: ReadonlySet<ScanFormat> = new Set(["jpeg", "webp"]);
 
 /** Below this share of the border agreeing on one colour, no background is visible at all. */
 const MIN_BORDER_AGREEMENT = 0.3;
@@ -206,18 +196,8 @@ export async function splitScan(file: string, options: SplitOptions = {}): Promi
   const { info, inspected } = await readScanHeader(file, { defaultDpi: opts.dpi, maxPixels: opts.maxPixels });
   let analysed = file;
   let decodedCopy: SplitResult["decodedCopy"];
-  if (options.decodedCopy && !SHRUNK_WHILE_DECODED.has(inspected.format)) {
-    const colour = colourPlan(inspected.meta);
-    if (await openDecodedCopy(options.decodedCopy, colour, inspected)) decodedCopy = "read";
-    else {
-      try {
-        await keepDecodedCopy(file, colour, inspected, opts.maxPixels, options.decodedCopy);
-        decodedCopy = "written";
-      } catch (err) {
-        if (isScanError(err)) throw err; // the scan itself is broken
-        // No room for the copy (or no access): split from the scan as without it.
-      }
-    }
+  if (options.decodedCopy) {
+    decodedCopy = (await ensureDecodedCopy(file, inspected, opts.maxPixels, options.decodedCopy)) ?? undefined;
     if (decodedCopy) analysed = options.decodedCopy;
   }
   const copy = await loadAnalysisCopy(analysed, {
