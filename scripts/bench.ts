@@ -5,12 +5,13 @@
  *
  * Each measurement runs in its own child process (scripts/bench/measure.ts), so the peak memory
  * reported is that measurement's alone. Every run is paired with a run of its floor just before
- * it in the same process, and the ratios are medians of the pairs' ratios (a run and its floor see
- * the same load); times are medians over the runs.
+ * it in the same process, after one untimed warm-up pair, and the ratios are medians of the pairs'
+ * ratios (a run and its floor see the same load); times are medians over the runs.
  * - floor: sharp decodes the scan once and makes the reduced analysis copy, nothing else;
- * - split: the whole split (header, decode into the reduced copy, analysis);
- * - whole: split plus every fragment's master and web copy, rendered from one decode of the scan
- *   (renderFragments); wholeEach: the same with one renderFragment call per fragment (one render
+ * - split: the whole split as the worker runs it (header; a TIFF decoded once into its decoded
+ *   copy, the reduced copy made from that; a JPEG shrunk while decoded; analysis);
+ * - whole: split plus every fragment's master and web copy, rendered from the split's decoded copy
+ *   (renderFragments; a JPEG decoded once more); wholeEach: the same with one renderFragment call per fragment (one render
  *   job each, every one decoding the scan down to its fragment's rows); outputs floor: sharp alone
  *   making the same files from one decode, with no analysis (each piece cut, turned upright with
  *   the render's transform, masked, and encoded with the render's settings); bare floor: one
