@@ -13,7 +13,7 @@ import { afterAll, describe, expect, it } from "vitest";
 import { renderFragments, type BatchItem } from "../worker/pipeline/render";
 import { splitScan, type SplitResult } from "../worker/pipeline/split";
 import { writePreviews } from "../worker/pipeline/metadata";
-import { decodedCopyPath, dropDecodedCopy, linkDecodedCopy, trimDecodedCopies } from "../worker/decoded-copies";
+import { decodedCopyPath, dropDecodedCopy, roomForCopy, trimDecodedCopies, withDecodedCopy } from "../worker/decoded-copies";
 import { pieceBed } from "./helpers/fixtures";
 import { makeTempDir } from "./helpers/scan-bytes";
 
@@ -164,6 +164,54 @@ describe("a scan kept decoded from its split to its render", () => {
     }
   });
 
+  it("is what the preview, the split and the render really read", async () => {
+    // A copy of the right size and layout whose pixels differ from the scan's (the pieces drawn
+    // in other places): whatever reads the copy shows the copy's pieces, not the scan's.
+    const file = await bed("read-scan.tif", { seed: 2 });
+    const other = await bed("read-other.tif", { seed: 9 });
+    const meta = await sharp(file).metadata();
+    const copy = at("read.v");
+    await sharp(other).flatten({ background: "#ffffff" }).resize(meta.width, meta.height, { fit: "fill" }).toFile(copy);
+    const fromScan = await splitScan(file, { maxPixels });
+    const fromCopy = await splitScan(file, { maxPixels, decodedCopy: copy });
+    expect(fromCopy.decodedCopy).toBe("read");
+    expect(fromCopy.fragments.map((f) => f.box)).not.toEqual(fromScan.fragments.map((f) => f.box));
+    await writePreviews(file, { previewPath: at("read-p.jpg"), thumbPath: at("read-t.jpg"), maxPixels, decoded: copy });
+    await writePreviews(other, { previewPath: at("other-p.jpg"), thumbPath: at("other-t.jpg"), maxPixels });
+    const [a, b] = await Promise.all([sharp(at("read-p.jpg")).raw().toBuffer(), sharp(at("other-p.jpg")).raw().toBuffer()]);
+    let worst = 0;
+    for (let i = 0; i < a.length; i++) worst = Math.max(worst, Math.abs(a[i]! - b[i]!));
+    expect(worst).toBeLessThanOrEqual(8); // the other bed's picture (through one more resize)
+    const [first] = items(at("read-render"), fromScan);
+    const [one] = await renderFragments({ source: file, dpi: { x: 300, y: 300 }, maxPixels, decoded: copy }, [first!]);
+    const [plain] = await renderFragments({ source: file, dpi: { x: 300, y: 300 }, maxPixels }, items(at("read-plain"), fromScan).slice(0, 1));
+    const raw = (f: string) => sharp(f).raw().toBuffer();
+    expect((await raw(one!.master.path)).equals(await raw(plain!.master.path))).toBe(false);
+    // A copy that cannot be read (here: cut short) is passed over for the scan by every reader.
+    const whole = fs.readFileSync(copy);
+    fs.writeFileSync(copy, whole.subarray(0, whole.length >> 1));
+    await writePreviews(file, { previewPath: at("cut-p.jpg"), thumbPath: at("cut-t.jpg"), maxPixels, decoded: copy });
+    await writePreviews(file, { previewPath: at("scan-p.jpg"), thumbPath: at("scan-t.jpg"), maxPixels });
+    expect((await raw(at("cut-p.jpg"))).equals(await raw(at("scan-p.jpg")))).toBe(true);
+    const [cutShort] = await renderFragments({ source: file, dpi: { x: 300, y: 300 }, maxPixels, decoded: copy }, items(at("read-cut"), fromScan).slice(0, 1));
+    expect((await raw(cutShort!.master.path)).equals(await raw(plain!.master.path))).toBe(true);
+    const again = await splitScan(file, { maxPixels, decodedCopy: copy });
+    expect(again.decodedCopy).toBe("written"); // replaced by a whole one
+    expect(again.fragments).toEqual(fromScan.fragments);
+  });
+
+  it("is not written when it would not fit its room, nor when the disk refuses it", async () => {
+    const file = await bed("fits.tif");
+    const meta = await sharp(file).metadata();
+    const small = await splitScan(file, { maxPixels, decodedCopy: at("fits.v"), decodedCopyMaxBytes: meta.width! * meta.height! * 3 - 1 });
+    expect(small.decodedCopy).toBeUndefined();
+    expect(fs.existsSync(at("fits.v"))).toBe(false);
+    // A folder no file can be made in, found only when libvips opens the file to write.
+    const refused = await splitScan(file, { maxPixels, decodedCopy: "/proc/self/platen-copy.v" });
+    expect(refused.decodedCopy).toBeUndefined();
+    expect(refused.fragments).toEqual(small.fragments);
+  });
+
   it("no room for the copy never stops the split", async () => {
     fs.writeFileSync(at("a-file"), "");
     const result = await splitScan(await bed("roomless.tif"), { maxPixels, decodedCopy: at("a-file/under/scan.v") });
@@ -211,18 +259,28 @@ describe("the worker's decoded copies", () => {
     expect(fs.existsSync(huge)).toBe(false);
   });
 
-  it("are linked into a job's folder, so that dropping one does not pull it from under a render", async () => {
+  it("are read through a link, so that dropping one does not pull it from under a reader", async () => {
     const copies = { dir: at("copies-link"), maxBytes: 1e9 };
     fs.mkdirSync(copies.dir, { recursive: true });
     const file = decodedCopyPath(copies, sha("b"))!;
     fs.writeFileSync(file, "pixels");
-    const job = at("job-scratch");
-    fs.mkdirSync(job, { recursive: true });
-    const link = await linkDecodedCopy(copies, sha("b"), job);
-    expect(link && path.dirname(link)).toBe(job);
-    await dropDecodedCopy(copies, sha("b"));
-    expect(fs.existsSync(file)).toBe(false);
-    expect(fs.readFileSync(link!, "utf8")).toBe("pixels");
-    expect(await linkDecodedCopy(copies, sha("b"), job)).toBeNull();
+    let seen: string | null = null;
+    const read = await withDecodedCopy(copies, sha("b"), async (link) => {
+      seen = link;
+      await dropDecodedCopy(copies, sha("b"));
+      expect(fs.existsSync(file)).toBe(false);
+      return fs.readFileSync(link!, "utf8");
+    });
+    expect(read).toBe("pixels");
+    expect(seen && fs.existsSync(seen)).toBe(false); // the link goes with its reader
+    expect(await withDecodedCopy(copies, sha("b"), async (link) => link)).toBeNull();
+  });
+
+  it("leave room on their disk, and none at all when switched off", async () => {
+    const free = (await fs.promises.statfs(tmp.dir)).bavail * (await fs.promises.statfs(tmp.dir)).bsize;
+    const room = await roomForCopy({ dir: at("not-made-yet/decoded"), maxBytes: Number.MAX_SAFE_INTEGER });
+    expect(room).toBeLessThanOrEqual(Math.max(0, free - 1024 ** 3) + 64 * 1024 ** 2); // 1 GB stays free (allowing for other writers)
+    expect(await roomForCopy({ dir: at("x"), maxBytes: 1000 })).toBeLessThanOrEqual(1000);
+    expect(await roomForCopy({ dir: at("x"), maxBytes: 0 })).toBe(0);
   });
 });

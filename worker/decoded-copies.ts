@@ -4,9 +4,12 @@
  * instead of decoding the scan again (the split writes it, see SplitOptions.decodedCopy; the render
  * reads it, see ScanInput.decoded). A copy is named by the scan's content (its SHA-256), so it can
  * only ever be that scan's; it is a cache: any copy may be missing, and the work then decodes the
- * scan itself. Copies go when all of a scan's fragments are rendered or rejected, and the oldest
- * go first when the copies outgrow PLATEN_DECODED_COPIES_MB. The originals are never touched.
+ * scan itself. A copy goes after a render that leaves no fragment of its scan proposed or waiting
+ * for its render; the oldest go first when the copies outgrow PLATEN_DECODED_COPIES_MB (checked
+ * after each copy is written, and when a worker starts); none is written that would leave less
+ * than 1 GB free on its disk. The originals are never touched.
  */
+import { randomUUID } from "node:crypto";
 import fs from "node:fs/promises";
 import path from "node:path";
 
@@ -25,19 +28,53 @@ export function decodedCopyPath(copies: DecodedCopies, sha256: string): string |
   return path.join(copies.dir, `${sha256}.${LAYOUT}.v`);
 }
 
+/** Where readers' links live: beside the copies, so a link is always on the same file system. */
+const READING = "reading";
+
 /**
- * A link to the scan's copy inside `dir` (the job's scratch folder), so that the copy stays
- * readable for the job even if it is dropped or trimmed meanwhile; null when there is none.
+ * Runs `fn` with a link to the scan's copy (null when there is none), made beside the copies, so
+ * the copy stays readable for `fn` even if it is dropped or trimmed meanwhile. The link goes when
+ * `fn` ends.
  */
-export async function linkDecodedCopy(copies: DecodedCopies, sha256: string, dir: string): Promise<string | null> {
+export async function withDecodedCopy<T>(copies: DecodedCopies, sha256: string, fn: (file: string | null) => Promise<T>): Promise<T> {
   const file = decodedCopyPath(copies, sha256);
-  if (!file) return null;
-  const link = path.join(dir, `decoded-${path.basename(file)}`);
+  let link: string | null = null;
+  if (file) {
+    const candidate = path.join(copies.dir, READING, `${process.pid}-${randomUUID()}.v`);
+    try {
+      await fs.mkdir(path.dirname(candidate), { recursive: true });
+      await fs.link(file, candidate);
+      link = candidate;
+    } catch {
+      link = null; // no copy: the work decodes the scan
+    }
+  }
   try {
-    await fs.link(file, link);
-    return link;
-  } catch {
-    return null; // no copy (or another file system): the render decodes the scan
+    return await fn(link);
+  } finally {
+    if (link) await fs.rm(link, { force: true });
+  }
+}
+
+/** Free room kept on the copies' disk beyond any copy, bytes: the library may share that disk. */
+const HEADROOM_BYTES = 1024 ** 3;
+
+/**
+ * The most a new copy may take now, bytes: the room PLATEN_DECODED_COPIES_MB gives, and no more
+ * than leaves HEADROOM_BYTES free on the disk (0 when the disk cannot be asked).
+ */
+export async function roomForCopy(copies: DecodedCopies): Promise<number> {
+  if (copies.maxBytes <= 0) return 0;
+  let dir = copies.dir;
+  for (;;) {
+    try {
+      const st = await fs.statfs(dir);
+      return Math.max(0, Math.min(copies.maxBytes, st.bavail * st.bsize - HEADROOM_BYTES));
+    } catch {
+      const up = path.dirname(dir);
+      if (up === dir) return 0;
+      dir = up; // not made yet: ask about the folder it will be made in
+    }
   }
 }
 
@@ -64,6 +101,12 @@ export async function trimDecodedCopies(copies: DecodedCopies, keep?: string): P
     return 0;
   }
   const now = Date.now();
+  // Readers' links left by a process that stopped (a live reader's link is minutes old at most).
+  for (const name of await fs.readdir(path.join(copies.dir, READING)).catch(() => [] as string[])) {
+    const link = path.join(copies.dir, READING, name);
+    const st = await fs.stat(link).catch(() => null);
+    if (st && now - st.ctimeMs > PARTIAL_AGE_MS) await fs.rm(link, { force: true });
+  }
   const files: { file: string; size: number; mtime: number }[] = [];
   for (const name of names) {
     const file = path.join(copies.dir, name);

@@ -16,6 +16,7 @@ import { noticeJob } from "./jobs/mail-notice";
 import { mailSendJob } from "./jobs/mail-send";
 import { createMailer, type Mailer } from "../server/mail/mailer";
 import type { JobContext } from "./jobs/context";
+import { trimDecodedCopies } from "./decoded-copies";
 import { startSlotLoop } from "./slot-loop";
 
 export interface WorkerDeps {
@@ -37,6 +38,9 @@ export interface WorkerDeps {
 export async function startWorker(deps: WorkerDeps) {
   const { boss, log, config } = deps;
   const heartbeat = startHeartbeat(deps.database.db, "worker");
+  // Decoded copies past their room (or all of them, with PLATEN_DECODED_COPIES_MB=0), and what a
+  // stopped process left half-written, go when a worker starts.
+  void trimDecodedCopies(config.decodedCopies).catch((err: unknown) => log.warn({ err }, "worker: could not tidy the decoded copies"));
   await heartbeat.ready;
   await notify(deps.database.pool, { kind: "worker" }).catch(() => {});
   const stopping = new AbortController();

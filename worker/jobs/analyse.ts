@@ -8,7 +8,7 @@ import { noticeScanSettled } from "../../server/services/notices";
 import { analysePayload } from "../../shared/schemas/jobs";
 import { readScanHeader, writePreviews, ScanError } from "../pipeline/metadata";
 import { ensureDecodedCopy } from "../pipeline/render/cut";
-import { decodedCopyPath, linkDecodedCopy, trimDecodedCopies } from "../decoded-copies";
+import { decodedCopyPath, roomForCopy, trimDecodedCopies, withDecodedCopy } from "../decoded-copies";
 import { DEFAULT_SENSITIVITY, runSplit, type SplitDeps } from "./split";
 import type { JobContext } from "./context";
 
@@ -119,19 +119,20 @@ export async function analyseScan(
       await holdFor(deps.config.testAnalyseDelayMs, ctx.signal);
     // A scan decoded in full for its preview and its split is decoded once, into the copy its
     // render will cut from (worker/decoded-copies.ts); the preview and the split read that copy.
-    const [row] = await db.select({ sha256: scans.sha256 }).from(scans).where(eq(scans.id, scanId));
-    const copyFile = row ? decodedCopyPath(deps.config.decodedCopies, row.sha256) : null;
-    const copy = copyFile ? await ensureDecodedCopy(original, inspected, deps.config.maxPixels, copyFile) : null;
-    if (copy === "written") await trimDecodedCopies(deps.config.decodedCopies, copyFile!);
+    const copies = deps.config.decodedCopies;
+    const copyFile = decodedCopyPath(copies, scan!.sha256);
+    const copy = copyFile ? await ensureDecodedCopy(original, inspected, deps.config.maxPixels, copyFile, await roomForCopy(copies)) : null;
+    if (copy === "written") await trimDecodedCopies(copies, copyFile!);
     const pKey = previewKey(scanId);
     const tKey = thumbKey(scanId);
     // Made in scratch, then stored (locally a rename into place; on S3 an upload).
     await deps.library.withScratch(async (dir) => {
       const previewPath = path.join(dir, "preview.jpg");
       const thumbPath = path.join(dir, "thumb.jpg");
-      // Linked into scratch, so that a trim elsewhere cannot pull it away while it is read.
-      const decoded = copy && row ? ((await linkDecodedCopy(deps.config.decodedCopies, row.sha256, dir)) ?? undefined) : undefined;
-      await writePreviews(original, { previewPath, thumbPath, maxPixels: deps.config.maxPixels, decoded });
+      // Read through a link, so that a trim elsewhere cannot pull the copy away while it is read.
+      await withDecodedCopy(copies, copy ? scan!.sha256 : "", (decoded) =>
+        writePreviews(original, { previewPath, thumbPath, maxPixels: deps.config.maxPixels, decoded: decoded ?? undefined }),
+      );
       await deps.library.put(pKey, previewPath, { move: true });
       await deps.library.put(tKey, thumbPath, { move: true });
     });

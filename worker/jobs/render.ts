@@ -17,7 +17,7 @@ import { renderPayload } from "../../shared/schemas/jobs";
 import type { RecipeInput } from "../../shared/schemas/recipes";
 import { isRenderError, renderEach, type BatchItem, type RenderResult } from "../pipeline/render";
 import { isScanError } from "../pipeline/metadata";
-import { dropDecodedCopy, linkDecodedCopy } from "../decoded-copies";
+import { dropDecodedCopy, withDecodedCopy } from "../decoded-copies";
 import { recipeVersionFor } from "../../server/services/recipes";
 import { settleBatchItem } from "../../server/services/batches";
 import type { JobContext } from "./context";
@@ -291,9 +291,9 @@ async function renderGroup(
       // last, each atomically (locally a rename into place; on S3 an upload, in parts when large).
       await deps.library
         .withScratch((dir) =>
-          deps.library.withLocalFile(scan.originalKey, async (source) => {
-            // The scan as its split left it decoded, when this worker still has that copy.
-            const decoded = await linkDecodedCopy(deps.config.decodedCopies, scan.sha256, dir);
+          deps.library.withLocalFile(scan.originalKey, (source) =>
+            // The scan as its intake left it decoded, when this worker still has that copy.
+            withDecodedCopy(deps.config.decodedCopies, scan.sha256, async (decoded) => {
             const items: BatchItem[] = members.map((m) => ({
               geometry: { box: m.row.box, angle: m.row.angle, rect: m.row.rect, outline: m.row.outline, shape: m.row.shape },
               metadata: { title: m.row.title ?? undefined },
@@ -336,7 +336,7 @@ async function renderGroup(
                 },
               },
             );
-          }),
+          })),
         )
         .catch((err: unknown) => {
           if (isStorageError(err, "missing"))

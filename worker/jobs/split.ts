@@ -11,7 +11,7 @@ import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
 import { splitPayload } from "../../shared/schemas/jobs";
 import { splitScan } from "../pipeline/split";
-import { decodedCopyPath, trimDecodedCopies } from "../decoded-copies";
+import { decodedCopyPath, roomForCopy, trimDecodedCopies } from "../decoded-copies";
 import { ScanError } from "../pipeline/metadata";
 import type { JobContext } from "./context";
 
@@ -46,6 +46,7 @@ export async function runSplit(
       sensitivity,
       maxPixels: deps.config.maxPixels,
       decodedCopy,
+      decodedCopyMaxBytes: decodedCopy ? await roomForCopy(deps.config.decodedCopies) : 0,
     });
     if (result.decodedCopy === "written") await trimDecodedCopies(deps.config.decodedCopies, decodedCopy);
     return result;

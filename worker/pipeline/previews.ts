@@ -4,6 +4,7 @@ import path from "node:path";
 import sharp, { type OutputInfo } from "sharp";
 import { PREVIEW_LONG_EDGE, THUMB_LONG_EDGE } from "../../shared/limits";
 import { decodeError, inspectScanFile } from "./inspect";
+import { wholeDecodedCopy } from "./render/cut";
 
 export interface PreviewTargets {
   /** Where the browser preview JPEG goes; its folder is created if missing. */
@@ -85,15 +86,19 @@ export async function writePreviews(file: string, out: PreviewTargets): Promise<
   const thumbEdge = checkEdge("thumbLongEdge", out.thumbLongEdge ?? THUMB_LONG_EDGE);
   const inspected = await inspectScanFile(file, out.maxPixels);
 
-  let pixels: { data: Buffer; info: OutputInfo };
-  try {
-    pixels = await sharp(out.decoded ?? file, { failOn: "error", limitInputPixels: out.maxPixels })
+  const fitted = (from: string) =>
+    sharp(from, { failOn: "error", limitInputPixels: out.maxPixels })
       .autoOrient()
       .resize({ width: previewEdge, height: previewEdge, fit: "inside", withoutEnlargement: true })
       .flatten({ background: WHITE })
       .toColourspace("srgb")
       .raw({ depth: "uchar" })
       .toBuffer({ resolveWithObject: true });
+  let pixels: { data: Buffer; info: OutputInfo } | null = null;
+  // A decoded copy that cannot be read (gone, damaged) is passed over for the scan itself.
+  if (out.decoded && (await wholeDecodedCopy(out.decoded))) pixels = await fitted(out.decoded).catch(() => null);
+  try {
+    pixels ??= await fitted(file);
   } catch (err) {
     throw decodeError(err, file, inspected, out.maxPixels);
   }

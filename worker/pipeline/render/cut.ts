@@ -7,7 +7,6 @@ import fs from "node:fs/promises";
 import os from "node:os";
 import path from "node:path";
 import sharp, { type OutputInfo } from "sharp";
-import { isScanError } from "../errors";
 import { decodeError, type Inspected } from "../inspect";
 import type { ScanFormat } from "../sniff";
 import { colourPlan, type ColourPlan } from "./colour";
@@ -120,9 +119,28 @@ export async function openDecodedCopy(file: string, colour: ColourPlan, inspecte
   try {
     const v = await sharp(file, { limitInputPixels: false }).metadata();
     const ok = v.format === "vips" && v.width === width && v.height === height && v.channels === bands && v.depth === DEPTHS[colour.bitDepth];
-    return ok ? { path: file, dispose: async () => {} } : null;
+    return ok && (await wholeDecodedCopy(file)) ? { path: file, dispose: async () => {} } : null;
   } catch {
     return null;
+  }
+}
+
+/** Bytes per sample of libvips band formats a decoded copy may hold. */
+const SAMPLE_BYTES: Record<string, number> = { uchar: 1, char: 1, ushort: 2, short: 2, uint: 4, int: 4, float: 4, double: 8 };
+
+/**
+ * Whether a .v file holds all the pixels its header promises (a 64-byte header, then width ×
+ * height × bands samples). libvips maps the file and would read past its end, which stops the
+ * whole process, so a copy cut short (a damaged disk) must never be opened for its pixels.
+ */
+export async function wholeDecodedCopy(file: string): Promise<boolean> {
+  try {
+    const v = await sharp(file, { limitInputPixels: false }).metadata();
+    const sample = SAMPLE_BYTES[v.depth ?? ""];
+    if (v.format !== "vips" || !sample || !v.width || !v.height || !v.channels) return false;
+    return (await fs.stat(file)).size >= 64 + v.width * v.height * v.channels * sample;
+  } catch {
+    return false;
   }
 }
 
@@ -206,18 +224,25 @@ const SHRUNK_WHILE_DECODED: ReadonlySet<ScanFormat> = new Set(["jpeg", "webp"]);
 /**
  * Makes sure `file` holds the scan's decoded copy (see keepDecodedCopy), decoded as the render
  * would (colourPlan): "read" when it was there, "written" when made now; null for a scan that keeps
- * none (JPEG, WebP) or when it cannot be written (a full disk: the work goes on from the scan).
- * Throws ScanError when the scan itself cannot be decoded.
+ * none (JPEG, WebP), for one whose copy would take more than `maxBytes`, or when the copy cannot
+ * be made for any reason (a full disk, no access, or a broken scan: the work goes on from the
+ * scan itself, whose own decode then reports what is wrong with it, as it always has).
  */
-export async function ensureDecodedCopy(source: string, inspected: Inspected, maxPixels: number, file: string): Promise<"read" | "written" | null> {
+export async function ensureDecodedCopy(source: string, inspected: Inspected, maxPixels: number, file: string, maxBytes = Infinity): Promise<"read" | "written" | null> {
   if (SHRUNK_WHILE_DECODED.has(inspected.format)) return null;
   const colour = colourPlan(inspected.meta);
+  if (decodedBytes(inspected, colour) > maxBytes) return null;
   if (await openDecodedCopy(file, colour, inspected)) return "read";
   try {
     await keepDecodedCopy(source, colour, inspected, maxPixels, file);
     return "written";
-  } catch (err) {
-    if (isScanError(err)) throw err; // the scan itself is broken
-    return null; // no room for the copy (or no access)
+  } catch {
+    return null;
   }
+}
+
+/** Size of a scan's decoded copy, bytes: width × height × bands × bytes per sample. */
+export function decodedBytes(inspected: Inspected, colour: ColourPlan = colourPlan(inspected.meta)): number {
+  const m = inspected.meta;
+  return m.width * m.height * (colour.grey ? 1 : 3) * (colour.bitDepth === 16 ? 2 : 1);
 }

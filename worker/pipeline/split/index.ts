@@ -41,6 +41,8 @@ export interface SplitOptions {
    * are shrunk while decoded, and keep no copy.
    */
   decodedCopy?: string;
+  /** The most the decoded copy may take, bytes: a larger scan keeps none. Default no limit. */
+  decodedCopyMaxBytes?: number;
 }
 
 export interface SplitResult {
@@ -79,7 +81,7 @@ const MIN_BORDER_AGREEMENT = 0.3;
 
 function checkOptions(
   opts: SplitOptions,
-): Required<Omit<SplitOptions, "analysisDpi" | "decodedCopy">> & { analysisDpi?: number } {
+): Required<Omit<SplitOptions, "analysisDpi" | "decodedCopy" | "decodedCopyMaxBytes">> & { analysisDpi?: number } {
   const sensitivity = opts.sensitivity ?? 0.5;
   if (!(Number.isFinite(sensitivity) && sensitivity >= 0 && sensitivity <= 1)) {
     throw new RangeError(`Expected a sensitivity from 0 to 1 but received ${opts.sensitivity}`);
@@ -197,16 +199,25 @@ export async function splitScan(file: string, options: SplitOptions = {}): Promi
   let analysed = file;
   let decodedCopy: SplitResult["decodedCopy"];
   if (options.decodedCopy) {
-    decodedCopy = (await ensureDecodedCopy(file, inspected, opts.maxPixels, options.decodedCopy)) ?? undefined;
+    decodedCopy = (await ensureDecodedCopy(file, inspected, opts.maxPixels, options.decodedCopy, options.decodedCopyMaxBytes)) ?? undefined;
     if (decodedCopy) analysed = options.decodedCopy;
   }
-  const copy = await loadAnalysisCopy(analysed, {
+  const copyOpts = {
     sourceDpi: { x: info.dpi.x, y: info.dpi.y },
     sourceWidth: info.width,
     sourceHeight: info.height,
     maxPixels: opts.maxPixels,
     targetDpi: opts.analysisDpi,
-  });
+  };
+  let copy: AnalysisCopy;
+  try {
+    copy = await loadAnalysisCopy(analysed, copyOpts);
+  } catch (err) {
+    if (analysed === file) throw err;
+    // The decoded copy went (trimmed, or dropped by a render) or is damaged: the scan itself.
+    decodedCopy = undefined;
+    copy = await loadAnalysisCopy(file, copyOpts);
+  }
   const analysis = analyseCopy(copy, { sensitivity: opts.sensitivity, sourceDpi: info.dpi });
   const { background } = analysis;
   return {
