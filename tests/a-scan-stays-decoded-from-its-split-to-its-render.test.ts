@@ -13,6 +13,9 @@ import { afterAll, describe, expect, it } from "vitest";
 import { renderFragments, type BatchItem } from "../worker/pipeline/render";
 import { splitScan, type SplitResult } from "../worker/pipeline/split";
 import { writePreviews } from "../worker/pipeline/metadata";
+import { inspectScanFile } from "../worker/pipeline/inspect";
+import { colourPlan } from "../worker/pipeline/render/colour";
+import { keepDecodedCopy } from "../worker/pipeline/render/cut";
 import { decodedCopyPath, dropDecodedCopy, roomForCopy, trimDecodedCopies, withDecodedCopy } from "../worker/decoded-copies";
 import { pieceBed } from "./helpers/fixtures";
 import { makeTempDir } from "./helpers/scan-bytes";
@@ -210,6 +213,20 @@ describe("a scan kept decoded from its split to its render", () => {
     const refused = await splitScan(file, { maxPixels, decodedCopy: "/proc/self/platen-copy.v" });
     expect(refused.decodedCopy).toBeUndefined();
     expect(refused.fragments).toEqual(small.fragments);
+  });
+
+  it("a copy the disk refuses is reported as a write failure, not as a damaged scan", async () => {
+    const file = await bed("refused.tif");
+    const inspected = await inspectScanFile(file, maxPixels);
+    const attempt = keepDecodedCopy(file, colourPlan(inspected.meta), inspected, maxPixels, "/proc/self/platen-refused.v");
+    await expect(attempt).rejects.toThrow(/^Could not write the decoded scan to \/proc\/self\/platen-refused\.v/);
+    await expect(attempt).rejects.not.toMatchObject({ name: "ScanError" });
+    // while a scan whose data is damaged is still a damaged scan
+    const whole = Buffer.from(fs.readFileSync(file));
+    whole.fill(0xff, Math.floor(whole.length * 0.3), Math.floor(whole.length * 0.6));
+    fs.writeFileSync(at("refused-short.tif"), whole);
+    const short = await inspectScanFile(at("refused-short.tif"), maxPixels);
+    await expect(keepDecodedCopy(at("refused-short.tif"), colourPlan(short.meta), short, maxPixels, at("short.v"))).rejects.toMatchObject({ name: "ScanError", code: "truncated" });
   });
 
   it("no room for the copy never stops the split", async () => {

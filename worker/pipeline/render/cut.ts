@@ -79,9 +79,17 @@ async function decodeInto(source: string, colour: ColourPlan, inspected: Inspect
   try {
     await pipeline.toColourspace(colour.space).toFile(file);
   } catch (err) {
+    // A copy that cannot be written (a full or read-only disk) says so: the scan is not to blame.
+    const detail = err instanceof Error ? err.message : String(err);
+    if (WRITE_FAILURE.test(detail)) {
+      throw new Error(`Could not write the decoded scan to ${file}: ${detail.split("\n")[0]}`, { cause: err });
+    }
     throw decodeError(err, source, inspected, maxPixels);
   }
 }
+
+/** How libvips words a failure to create or write its output file. */
+const WRITE_FAILURE = /write failed|write error|unable to write|no space left|read-only file system/i;
 
 /**
  * Keeps the decoded scan in `file` for later work on the same scan (the split writes it, the
