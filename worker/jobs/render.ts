@@ -294,49 +294,50 @@ async function renderGroup(
           deps.library.withLocalFile(scan.originalKey, (source) =>
             // The scan as its intake left it decoded, when this worker still has that copy.
             withDecodedCopy(deps.config.decodedCopies, scan.sha256, async (decoded) => {
-            const items: BatchItem[] = members.map((m) => ({
-              geometry: { box: m.row.box, angle: m.row.angle, rect: m.row.rect, outline: m.row.outline, shape: m.row.shape },
-              metadata: { title: m.row.title ?? undefined },
-              recipe: {
-                recipe: { name: "recipe", steps: m.recipe.steps as RecipeInput["steps"] },
-                background: scan.splitBackground?.rgb,
-              },
-              targets: {
-                masterPath: path.join(dir, path.basename(m.mKey)),
-                webPath: path.join(dir, path.basename(m.wKey)),
-                webFormat: m.webFormat,
-              },
-            }));
-            await renderEach(
-              {
-                source,
-                dpi: { x: scan.dpiX ?? deps.config.defaultDpi, y: scan.dpiY ?? scan.dpiX ?? deps.config.defaultDpi },
-                maxPixels: deps.config.maxPixels,
-                decoded: decoded ?? undefined,
-              },
-              items,
-              {
-                // Left out when edited, no longer approved or taken over since the claim.
-                wanted: async (i) => {
-                  const m = members[i]!;
-                  const [f] = await db.select().from(fragments).where(eq(fragments.id, m.row.id));
-                  return Boolean(
-                    f && f.status === "approved" && !f.mergedInto && f.revision === m.row.revision && f.renderJobId === jobId,
-                  );
+              const items: BatchItem[] = members.map((m) => ({
+                geometry: { box: m.row.box, angle: m.row.angle, rect: m.row.rect, outline: m.row.outline, shape: m.row.shape },
+                metadata: { title: m.row.title ?? undefined },
+                recipe: {
+                  recipe: { name: "recipe", steps: m.recipe.steps as RecipeInput["steps"] },
+                  background: scan.splitBackground?.rgb,
                 },
-                done: async (i, outcome) => {
-                  const m = members[i]!;
-                  rendered++;
-                  if (!outcome.ok) return void errors.set(m.row.id, outcome.error);
-                  try {
-                    if (await store(deps, m, outcome.result, jobId)) stored.add(m.row.id);
-                  } catch (err) {
-                    errors.set(m.row.id, err);
-                  }
+                targets: {
+                  masterPath: path.join(dir, path.basename(m.mKey)),
+                  webPath: path.join(dir, path.basename(m.wKey)),
+                  webFormat: m.webFormat,
                 },
-              },
-            );
-          })),
+              }));
+              await renderEach(
+                {
+                  source,
+                  dpi: { x: scan.dpiX ?? deps.config.defaultDpi, y: scan.dpiY ?? scan.dpiX ?? deps.config.defaultDpi },
+                  maxPixels: deps.config.maxPixels,
+                  decoded: decoded ?? undefined,
+                },
+                items,
+                {
+                  // Left out when edited, no longer approved or taken over since the claim.
+                  wanted: async (i) => {
+                    const m = members[i]!;
+                    const [f] = await db.select().from(fragments).where(eq(fragments.id, m.row.id));
+                    return Boolean(
+                      f && f.status === "approved" && !f.mergedInto && f.revision === m.row.revision && f.renderJobId === jobId,
+                    );
+                  },
+                  done: async (i, outcome) => {
+                    const m = members[i]!;
+                    rendered++;
+                    if (!outcome.ok) return void errors.set(m.row.id, outcome.error);
+                    try {
+                      if (await store(deps, m, outcome.result, jobId)) stored.add(m.row.id);
+                    } catch (err) {
+                      errors.set(m.row.id, err);
+                    }
+                  },
+                },
+              );
+            }),
+          ),
         )
         .catch((err: unknown) => {
           if (isStorageError(err, "missing"))
