@@ -7,6 +7,7 @@ import sharp from "sharp";
 import type { MockupPreset } from "../../../shared/schemas/presets";
 import { MM_PER_INCH } from "../../../shared/units";
 import { pieceImage, rgbOf, type Piece } from "./source";
+import { canTagAfter, srgbPipeline, tagSrgb } from "./srgb-tag";
 
 /** Share of the mock-up's width and height the framed piece may take. */
 const FILL = 0.72;
@@ -118,7 +119,7 @@ ${g.matPx > 0 ? bevel({ x: p.left - matBevel, y: p.top - matBevel, w: p.width + 
     { input: Buffer.from(frameSvg), left: 0, top: 0 },
     { input: pieceBuf, left: p.left, top: p.top },
   ]);
-  out = out.flatten({ background: preset.wallColour }).withIccProfile("srgb");
+  out = srgbPipeline(out.flatten({ background: preset.wallColour }), preset.format);
   const encoded =
     preset.format === "jpeg"
       ? out.jpeg({ quality: preset.quality, chromaSubsampling: "4:4:4" })
@@ -126,5 +127,5 @@ ${g.matPx > 0 ? bevel({ x: p.left - matBevel, y: p.top - matBevel, w: p.width + 
         ? out.webp({ quality: preset.quality })
         : out.png({ compressionLevel: 9 });
   const { data, info } = await encoded.toBuffer({ resolveWithObject: true });
-  return { data, width: info.width, height: info.height };
+  return { data: canTagAfter(preset.format) ? await tagSrgb(preset.format, data) : data, width: info.width, height: info.height };
 }

@@ -8,6 +8,7 @@ import { MM_PER_INCH } from "../../../shared/units";
 import { captionSvg, layoutCaption } from "./caption";
 import { cropMarks, type PrintLayout } from "./print-layout";
 import { pieceImage, type Piece } from "./source";
+import { tagSrgb } from "./srgb-tag";
 
 /** Line weight of crop marks, points (a hairline, common practice). */
 export const MARK_WEIGHT_PT = 0.5;
@@ -76,9 +77,8 @@ export async function renderPrintTiff(piece: Piece, layout: PrintLayout, preset:
   let page = img.extend({ left, top, right: Math.max(0, width - left - w), bottom: Math.max(0, height - top - h), background: "#ffffff" });
   const svg = overlaySvg(layout, preset, title, warnings);
   if (svg) page = page.composite([{ input: Buffer.from(svg), left: 0, top: 0 }]);
-  const data = await page
-    .withIccProfile("srgb")
+  const tiff = await page
     .tiff({ compression: "lzw", predictor: "horizontal", xres: dpi / MM_PER_INCH, yres: dpi / MM_PER_INCH, resolutionUnit: "inch" })
     .toBuffer();
-  return { data, warnings };
+  return { data: await tagSrgb("tiff", tiff), warnings };
 }

@@ -3,11 +3,11 @@
  * JPEG, WebP, AVIF or PNG, with only the fields the preset keeps. The copy is encoded from raw
  * pixels, so nothing of the source's EXIF (location, camera) can travel with it.
  */
-import zlib from "node:zlib";
 import { fitScale } from "../../../shared/paper";
 import { WEB_ASPECTS, type WebPreset } from "../../../shared/schemas/presets";
 import { cleanRights, exifIfd0, xmpPacket, type Rights } from "../render/rights";
 import { pieceImage, rgbOf, type Piece } from "./source";
+import { afterPngHeader, canTagAfter, pngChunk, srgbPipeline, tagSrgb } from "./srgb-tag";
 
 /** The iTXt keyword the XMP storage specification prescribes for PNG (ASCII, written as bytes). */
 const XMP_ITXT_KEYWORD = Buffer.from("584d4c3a636f6d2e61646f62652e786d70", "hex");
@@ -98,8 +98,8 @@ export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights)
     out = out.extend({ left: g.left, top: g.top, right: g.canvasWidth - g.pieceWidth - g.left, bottom: g.canvasHeight - g.pieceHeight - g.top, background: bg });
   }
   const dpi = Math.round(piece.dpi * g.scale * 100) / 100;
-  if (preset.keep.resolution) out = out.withMetadata({ density: dpi });
-  if (preset.toSrgb) out = out.withIccProfile("srgb");
+  if (preset.keep.resolution) out = out.withDensity(dpi);
+  if (preset.toSrgb) out = srgbPipeline(out, preset.format);
   const kept = keptRights(preset, rights);
   const exif = exifIfd0(kept);
   if (exif) out = out.withExif(exif);
@@ -113,17 +113,8 @@ export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights)
   else out = out.png({ compressionLevel: 9 });
   let data: Buffer = await out.toBuffer();
   if (xmp && preset.format === "png") data = withPngXmp(data, xmp);
+  if (preset.toSrgb && canTagAfter(preset.format)) data = await tagSrgb(preset.format, data);
   return { data, width: g.canvasWidth, height: g.canvasHeight, dpi, warnings };
-}
-
-/** A PNG chunk: length, type, data, CRC-32 of type and data (PNG, ISO/IEC 15948:2004 §5.3). */
-function pngChunk(type: string, data: Buffer): Buffer {
-  const head = Buffer.alloc(8);
-  head.writeUInt32BE(data.length, 0);
-  head.write(type, 4, "latin1");
-  const crc = Buffer.alloc(4);
-  crc.writeUInt32BE(zlib.crc32(data, zlib.crc32(head.subarray(4))) >>> 0, 0);
-  return Buffer.concat([head, data, crc]);
 }
 
 /**
@@ -134,7 +125,6 @@ function pngChunk(type: string, data: Buffer): Buffer {
  */
 export function withPngXmp(png: Buffer, xmp: string): Buffer {
   const body = Buffer.concat([XMP_ITXT_KEYWORD, Buffer.from("\0\0\0\0\0", "latin1"), Buffer.from(xmp, "utf8")]);
-  // 8-byte signature, then IHDR (length, type, 13 bytes of data, CRC).
-  const afterIhdr = 8 + 12 + png.readUInt32BE(8);
+  const afterIhdr = afterPngHeader(png);
   return Buffer.concat([png.subarray(0, afterIhdr), pngChunk("iTXt", body), png.subarray(afterIhdr)]);
 }

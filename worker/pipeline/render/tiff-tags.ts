@@ -6,15 +6,21 @@
  * Layout per TIFF 6.0 Section 2: an 8-byte header ("II" or "MM", 42, offset of IFD0); an IFD is a
  * 2-byte entry count, 12-byte entries sorted by tag (tag, type, count, value or offset), and the
  * 4-byte offset of the next IFD; values longer than 4 bytes live elsewhere at a word-aligned
- * (even) offset. The file is only appended to: the new values and a new copy of IFD0 go at the
- * end and the header is pointed at it, so every existing offset (strips, other values) stays
- * valid and the old IFD0 is simply no longer referenced.
+ * (even) offset. The file is only appended to: a new copy of IFD0, then all its long values (the
+ * new ones and copies of the kept ones) go at the end and the header is pointed at it, so every
+ * existing offset (strips, other IFDs) stays valid, the old IFD0 is simply no longer referenced,
+ * and a reader that reads only around the directory (as libtiff lays one out) finds every value.
  */
 import fs from "node:fs/promises";
 
 /** TIFF 6.0 Section 2 field types used here. */
 const ASCII = 2;
 const UNDEFINED = 7;
+/**
+ * Bytes per value of each field type (TIFF 6.0 Section 2: 1 BYTE … 12 DOUBLE; 13 IFD from the
+ * TIFF Technical Note 1 on SubIFDs).
+ */
+const TYPE_BYTES: Record<number, number> = { 1: 1, 2: 1, 3: 2, 4: 4, 5: 8, 6: 1, 7: 1, 8: 2, 9: 4, 10: 8, 11: 4, 12: 8, 13: 4 };
 
 /** Baseline tags (TIFF 6.0 Section 8) and the ICC profile tag (ICC.1:2010 Annex B.4, from memory). */
 export const TIFF_TAG = {
@@ -38,6 +44,100 @@ interface Entry {
   slot: Buffer;
 }
 
+/** A write the new fields need: bytes at an offset of the file (past its end, or the header's IFD0 pointer). */
+interface Write {
+  at: number;
+  data: Buffer;
+}
+
+/**
+ * The writes that add (or replace) `fields` in IFD0 of a classic TIFF of `size` bytes, read
+ * through `read(position, length)`. Throws a plain Error naming `name` for a file that is not a
+ * classic TIFF. Shared by the file and the in-memory forms below.
+ */
+async function planFields(read: (position: number, length: number) => Promise<Buffer>, size: number, fields: TiffField[], name: string): Promise<Write[]> {
+  const header = await read(0, 8);
+  const order = header.toString("latin1", 0, 2);
+  if (order !== "II" && order !== "MM") {
+    throw new Error(`Expected a TIFF byte order mark "II" or "MM" in ${name} but found ${JSON.stringify(order)}`);
+  }
+  const le = order === "II";
+  const u16 = (b: Buffer, at: number) => (le ? b.readUInt16LE(at) : b.readUInt16BE(at));
+  const u32 = (b: Buffer, at: number) => (le ? b.readUInt32LE(at) : b.readUInt32BE(at));
+  const magic = u16(header, 2);
+  if (magic !== 42) {
+    throw new Error(`Expected a classic TIFF (version 42) in ${name} but found version ${magic}`);
+  }
+  const ifd0 = u32(header, 4);
+  const count = u16(await read(ifd0, 2), 0);
+  const body = await read(ifd0 + 2, count * 12 + 4);
+  const replaced = new Set(fields.map((f) => f.tag));
+  const entries: Entry[] = [];
+  for (let i = 0; i < count; i++) {
+    const at = i * 12;
+    const tag = u16(body, at);
+    if (replaced.has(tag)) continue;
+    entries.push({ tag, type: u16(body, at + 2), count: u32(body, at + 4), slot: body.subarray(at + 8, at + 12) });
+  }
+  const nextIfd = u32(body, count * 12);
+
+  const w16 = (b: Buffer, v: number, at: number) => (le ? b.writeUInt16LE(v, at) : b.writeUInt16BE(v, at));
+  const w32 = (b: Buffer, v: number, at: number) => (le ? b.writeUInt32LE(v, at) : b.writeUInt32BE(v, at));
+
+  // The new IFD0 goes at the end (word-aligned), its long values right after it, as libtiff lays
+  // out a directory: a reader that fetches the directory's neighbourhood finds them in one read.
+  const writes: Write[] = [];
+  if (size % 2) writes.push({ at: size, data: Buffer.from([0]) });
+  const ifdAt = size + (size % 2);
+  const total = entries.length + fields.length;
+  let cursor = ifdAt + 2 + total * 12 + 4; // even: 6 + 12n
+  const place = (data: Buffer, slot: Buffer) => {
+    w32(slot, cursor, 0);
+    writes.push({ at: cursor, data });
+    cursor += data.length;
+    if (data.length % 2) writes.push({ at: cursor++, data: Buffer.from([0]) }); // word boundary
+  };
+  // The kept fields' long values (resolution, strip tables, …) are copied beside the new IFD0 too,
+  // byte for byte: what they point to (strips, other IFDs) does not move.
+  for (const e of entries) {
+    const bytes = e.count * (TYPE_BYTES[e.type] ?? 0);
+    if (bytes <= 4) continue; // in the entry itself, or a type this code does not know (left as it was)
+    const slot = Buffer.alloc(4);
+    place(await read(u32(e.slot, 0), bytes), slot);
+    e.slot = slot;
+  }
+  for (const field of fields) {
+    const isText = typeof field.value === "string";
+    const data = isText
+      ? Buffer.concat([Buffer.from((field.value as string).replace(/\0/g, ""), "utf8"), Buffer.from([0])])
+      : (field.value as Buffer);
+    const slot = Buffer.alloc(4);
+    if (data.length <= 4) data.copy(slot); // left-justified in the value field (TIFF 6.0 Section 2)
+    else place(data, slot);
+    entries.push({ tag: field.tag, type: isText ? ASCII : UNDEFINED, count: data.length, slot });
+  }
+  entries.sort((a, b) => a.tag - b.tag);
+
+  const ifd = Buffer.alloc(2 + entries.length * 12 + 4);
+  w16(ifd, entries.length, 0);
+  entries.forEach((e, i) => {
+    const at = 2 + i * 12;
+    w16(ifd, e.tag, at);
+    w16(ifd, e.type, at + 2);
+    w32(ifd, e.count, at + 4);
+    e.slot.copy(ifd, at + 8);
+  });
+  w32(ifd, nextIfd, 2 + entries.length * 12);
+  if (cursor > 0xffffffff) {
+    throw new Error(`${name} would grow past the 4 GB a classic TIFF can address`);
+  }
+  writes.push({ at: ifdAt, data: ifd });
+  const pointer = Buffer.alloc(4);
+  w32(pointer, ifdAt, 0);
+  writes.push({ at: 4, data: pointer });
+  return writes;
+}
+
 /**
  * Adds (or replaces) fields in IFD0 of the classic TIFF at `file`, in place, and flushes it.
  * Throws a plain Error naming the problem for a file that is not a classic TIFF.
@@ -47,91 +147,33 @@ export async function addTiffFields(file: string, fields: TiffField[]): Promise<
   if (fields.length === 0) return;
   const fh = await fs.open(file, "r+");
   try {
-    const header = await readExactly(fh, 0, 8, file);
-    const order = header.toString("latin1", 0, 2);
-    if (order !== "II" && order !== "MM") {
-      throw new Error(
-        `Expected a TIFF byte order mark "II" or "MM" in ${file} but found ${JSON.stringify(order)}`,
-      );
-    }
-    const le = order === "II";
-    const u16 = (b: Buffer, at: number) => (le ? b.readUInt16LE(at) : b.readUInt16BE(at));
-    const u32 = (b: Buffer, at: number) => (le ? b.readUInt32LE(at) : b.readUInt32BE(at));
-    const magic = u16(header, 2);
-    if (magic !== 42) {
-      throw new Error(`Expected a classic TIFF (version 42) in ${file} but found version ${magic}`);
-    }
-    const ifd0 = u32(header, 4);
-    const count = u16(await readExactly(fh, ifd0, 2, file), 0);
-    const body = await readExactly(fh, ifd0 + 2, count * 12 + 4, file);
-    const replaced = new Set(fields.map((f) => f.tag));
-    const entries: Entry[] = [];
-    for (let i = 0; i < count; i++) {
-      const at = i * 12;
-      const tag = u16(body, at);
-      if (replaced.has(tag)) continue;
-      entries.push({
-        tag,
-        type: u16(body, at + 2),
-        count: u32(body, at + 4),
-        slot: body.subarray(at + 8, at + 12),
-      });
-    }
-    const nextIfd = u32(body, count * 12);
-
-    const w16 = (b: Buffer, v: number, at: number) =>
-      le ? b.writeUInt16LE(v, at) : b.writeUInt16BE(v, at);
-    const w32 = (b: Buffer, v: number, at: number) =>
-      le ? b.writeUInt32LE(v, at) : b.writeUInt32BE(v, at);
-
     const size = (await fh.stat()).size;
-    let cursor = size + (size % 2); // word boundary
-    const chunks: { at: number; data: Buffer }[] = [];
-    for (const field of fields) {
-      const isText = typeof field.value === "string";
-      const data = isText
-        ? Buffer.concat([
-            Buffer.from((field.value as string).replace(/\0/g, ""), "utf8"),
-            Buffer.from([0]),
-          ])
-        : (field.value as Buffer);
-      const slot = Buffer.alloc(4);
-      if (data.length <= 4) {
-        data.copy(slot); // left-justified in the value field (TIFF 6.0 Section 2)
-      } else {
-        w32(slot, cursor, 0);
-        chunks.push({ at: cursor, data });
-        cursor += data.length + (data.length % 2);
-      }
-      entries.push({ tag: field.tag, type: isText ? ASCII : UNDEFINED, count: data.length, slot });
-    }
-    entries.sort((a, b) => a.tag - b.tag);
-
-    const ifd = Buffer.alloc(2 + entries.length * 12 + 4);
-    w16(ifd, entries.length, 0);
-    entries.forEach((e, i) => {
-      const at = 2 + i * 12;
-      w16(ifd, e.tag, at);
-      w16(ifd, e.type, at + 2);
-      w32(ifd, e.count, at + 4);
-      e.slot.copy(ifd, at + 8);
-    });
-    w32(ifd, nextIfd, 2 + entries.length * 12);
-    const ifdAt = cursor;
-    if (ifdAt + ifd.length > 0xffffffff) {
-      throw new Error(`${file} would grow past the 4 GB a classic TIFF can address`);
-    }
-    chunks.push({ at: ifdAt, data: ifd });
-
-    if (size % 2) await fh.write(Buffer.from([0]), 0, 1, size);
-    for (const c of chunks) await fh.write(c.data, 0, c.data.length, c.at);
-    const pointer = Buffer.alloc(4);
-    w32(pointer, ifdAt, 0);
-    await fh.write(pointer, 0, 4, 4);
+    const writes = await planFields((position, length) => readExactly(fh, position, length, file), size, fields, file);
+    for (const w of writes) await fh.write(w.data, 0, w.data.length, w.at);
     await fh.sync();
   } finally {
     await fh.close();
   }
+}
+
+/**
+ * The same for a TIFF in memory: a new buffer, the original laid out as addTiffFields leaves a
+ * file (appended to, the header pointed at a new IFD0). Example: withTiffFields(tiff,
+ * [{ tag: TIFF_TAG.InterColorProfile, value: icc }]).
+ */
+export async function withTiffFields(tiff: Buffer, fields: TiffField[], name = "the TIFF"): Promise<Buffer> {
+  if (fields.length === 0) return tiff;
+  const read = async (position: number, length: number) => {
+    if (position + length > tiff.length) {
+      throw new Error(`Expected ${length} bytes at offset ${position} of ${name} but it ends after ${Math.max(0, tiff.length - position)}`);
+    }
+    return tiff.subarray(position, position + length);
+  };
+  const writes = await planFields(read, tiff.length, fields, name);
+  const out = Buffer.alloc(Math.max(tiff.length, ...writes.map((w) => w.at + w.data.length)));
+  tiff.copy(out);
+  for (const w of writes) w.data.copy(out, w.at);
+  return out;
 }
 
 async function readExactly(
