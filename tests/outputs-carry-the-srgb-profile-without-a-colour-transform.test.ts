@@ -11,7 +11,7 @@ import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { BUILT_IN_PRESETS, parsePreset } from "../shared/schemas/presets";
 import { renderOutput } from "../worker/pipeline/output/index";
-import { jpegWithIcc, pngWithIcc, srgbProfile, tagSrgb } from "../worker/pipeline/output/srgb-tag";
+import { jpegWithIcc, srgbProfile, tagSrgb } from "../worker/pipeline/output/srgb-tag";
 import { addTiffFields, TIFF_TAG, withTiffFields } from "../worker/pipeline/render/tiff-tags";
 import { makeTempDir } from "./helpers/scan-bytes";
 
