@@ -94,3 +94,58 @@ describe("intake", () => {
     expect(keys).toEqual([first.originalKey]);
   });
 });
+
+describe("intake: two arrivals of the same content at once", () => {
+  it("records the first as queued and the other as its duplicate, neither failing", async () => {
+    const { intakeFile } = await import("../server/services/intake");
+    const { logger } = await import("../server/logger");
+    const content = await paperScan({ seed: 43 });
+    const files = ["race-a.tif", "race-b.tif"].map((n) => path.join(t.dir, n));
+    for (const f of files) await fs.writeFile(f, content);
+    // Both are held while storing their original, then let go together: both then look for a
+    // first scan of that content, find none, and insert one; the unique index refuses the second.
+    const held: (() => void)[] = [];
+    const bothHeld = new Promise<void>((r) => (storing = () => (held.push(released), held.length === 2 && r())));
+    const arrivals = files.map((f) => intakeFile({ database, boss, library, log: logger }, { path: f, originalName: path.basename(f), source: "inbox", removeSource: true }));
+    await bothHeld;
+    storing = () => released();
+    held.forEach((go) => go());
+    const results = await Promise.all(arrivals);
+    const rows = await database.db.select().from(scans).where(eq(scans.sha256, results[0]!.sha256));
+    expect(rows.map((r) => r.status).sort()).toEqual(["duplicate", "queued"]);
+    const queued = rows.find((r) => r.status === "queued")!;
+    expect(rows.find((r) => r.status === "duplicate")!.duplicateOfId).toBe(queued.id);
+    expect(results.map((r) => r.duplicateOf).filter(Boolean)).toEqual([queued.id]);
+  });
+});
+
+describe("intake: a collision that does not go away", () => {
+  it("stops after three tries with a message naming the file and the constraint, and keeps the arriving file", async () => {
+    const { intakeFile } = await import("../server/services/intake");
+    const { logger } = await import("../server/logger");
+    storing = () => released();
+    // A rule of this test's own that every new scan breaks: one scan per original name. The
+    // same-content race resolves on its next try; this one cannot, and once looped for ever.
+    const first = (await database.db.select().from(scans))[0]!;
+    await database.pool.query("create unique index test_one_scan_per_name on scans (original_name)");
+    try {
+      const file = path.join(t.dir, "clash.tif");
+      await fs.writeFile(file, await paperScan({ seed: 42 }));
+      const before = (await database.db.select().from(scans)).length;
+      let tries = 0;
+      const counting = { database, boss, library, log: logger };
+      const originalCommit = library.commit.bind(library);
+      library.commit = async (...args) => (tries++, originalCommit(...args));
+      await database.db.update(scans).set({ originalName: "clash.tif" }).where(eq(scans.id, first.id));
+      await expect(intakeFile(counting, { path: file, originalName: "clash.tif", source: "inbox", removeSource: true })).rejects.toThrow(
+        /^Could not record clash\.tif: its scan row collided 3 times with one already in the library \(test_one_scan_per_name\); the file is left where it was$/,
+      );
+      library.commit = originalCommit;
+      expect(tries).toBe(3);
+      expect((await fs.stat(file)).size).toBeGreaterThan(0); // the arriving file is kept
+      expect(await database.db.select().from(scans)).toHaveLength(before);
+    } finally {
+      await database.pool.query("drop index test_one_scan_per_name");
+    }
+  });
+});

@@ -1,7 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import bcrypt from "bcryptjs";
 import type supertest from "supertest";
-import { eq } from "drizzle-orm";
+import { eq, sql } from "drizzle-orm";
 import { invitations, users } from "../server/db/schema";
 import { startStack, userAgent, type Stack } from "./helpers/stack";
 
@@ -121,6 +121,23 @@ describe("invitations", () => {
     expect(res.status).toBe(409);
     expect(res.body.error.message).toMatch(/^twice@test\.example is already invited \(sent \d+ \w+ \d{4}, \d\d:\d\d UTC\)\. Resend or revoke that invitation below\.$/);
     expect(await stack.mail!.to("admin@test.example")).toEqual([]);
+  });
+
+  it("the same address invited several times at once gives one invitation and conflicts, never a server error", async () => {
+    // Each insert is held a moment by a trigger of this test's own, so all pass the look-up for
+    // an open invitation before the first has committed; the unique index on open invitations
+    // then refuses all but one, which must read as the same conflict.
+    await stack.db.execute(sql`create function test_hold_invite() returns trigger language plpgsql as $$ begin perform pg_sleep(0.3); return new; end $$`);
+    await stack.db.execute(sql`create trigger test_hold_invite before insert on invitations for each row execute function test_hold_invite()`);
+    let all;
+    try {
+      all = await Promise.all(Array.from({ length: 4 }, () => admin.post("/api/invitations").send({ email: "at-once@test.example", role: "viewer" })));
+    } finally {
+      await stack.db.execute(sql`drop trigger test_hold_invite on invitations`);
+      await stack.db.execute(sql`drop function test_hold_invite()`);
+    }
+    expect(all.map((r) => r.status).sort()).toEqual([201, 409, 409, 409]);
+    for (const r of all.filter((r) => r.status === 409)) expect(r.body.error).toMatchObject({ code: "conflict", field: "email", message: expect.stringMatching(/^at-once@test\.example is already invited/) });
   });
 
   it("refuses a made-up token before the slow password hash, so such requests cost the server little", async () => {

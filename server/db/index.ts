@@ -43,3 +43,23 @@ export async function migrateDatabase(db: Db): Promise<void> {
 }
 
 export { schema };
+
+/** PostgreSQL's error fields, where a failed query's error (or what it wraps) has them. */
+export interface PgErrorFields {
+  /** The SQLSTATE, e.g. "23505" unique_violation (PostgreSQL manual, Appendix A). */
+  code: string;
+  constraint?: string;
+}
+
+/**
+ * The PostgreSQL error behind `err`: the error itself when pg threw it, or the one Drizzle wraps
+ * in its "Failed query" error (as `cause`). Null for anything else.
+ * Example: if (pgError(err)?.code === "23505") … a unique index refused the row.
+ */
+export function pgError(err: unknown): PgErrorFields | null {
+  for (let e = err, depth = 0; e && typeof e === "object" && depth < 5; e = (e as { cause?: unknown }).cause, depth++) {
+    const code = (e as { code?: unknown }).code;
+    if (typeof code === "string" && /^[0-9A-Z]{5}$/.test(code)) return { code, constraint: (e as { constraint?: string }).constraint };
+  }
+  return null;
+}

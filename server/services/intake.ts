@@ -1,7 +1,7 @@
 import fsp from "node:fs/promises";
 import { and, eq, ne } from "drizzle-orm";
 import type PgBoss from "pg-boss";
-import type { Database } from "../db";
+import { pgError, type Database } from "../db";
 import { scans } from "../db/schema";
 import { withTx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
@@ -41,7 +41,10 @@ export interface IntakeResult {
  * then record a scan in the current intake and queue its analysis in one transaction. The same content twice is recorded as a
  * duplicate of the first and not analysed again. Only then is the arriving file removed.
  */
-export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<IntakeResult> {
+/** Tries at recording one arrival when its row collides with another arrival's (see below). */
+const INTAKE_ATTEMPTS = 3;
+
+export async function intakeFile(deps: IntakeDeps, input: IntakeInput, attempt = 1): Promise<IntakeResult> {
   const { database, boss, library } = deps;
   const staged = await library.stageCopy(input.path);
   const key = originalKey(staged.sha256, input.originalName);
@@ -115,8 +118,17 @@ export async function intakeFile(deps: IntakeDeps, input: IntakeInput): Promise<
     if (!stored) await library.discard(staged);
   } catch (err) {
     await library.discard(staged);
-    // Two copies of the same content raced: the loser is a duplicate of the winner.
-    if ((err as { code?: string }).code === "23505") return intakeFile(deps, input);
+    // Two copies of the same content raced: the loser is a duplicate of the winner, found on the
+    // next try. A collision that does not go away that way is reported, the arriving file kept.
+    const clash = pgError(err);
+    if (clash?.code === "23505") {
+      if (attempt < INTAKE_ATTEMPTS) return intakeFile(deps, input, attempt + 1);
+      const constraint = clash.constraint;
+      throw new Error(
+        `Could not record ${input.originalName}: its scan row collided ${INTAKE_ATTEMPTS} times with one already in the library${constraint ? ` (${constraint})` : ""}; the file is left where it was`,
+        { cause: err },
+      );
+    }
     throw err;
   }
   if (input.removeSource) await fsp.rm(input.path, { force: true });

@@ -1,7 +1,7 @@
 import crypto from "node:crypto";
 import bcrypt from "bcryptjs";
 import { and, asc, eq, gt, isNull } from "drizzle-orm";
-import type { Db } from "../db";
+import { pgError, type Db } from "../db";
 import { invitations, studio, users } from "../db/schema";
 import type { Config } from "../config";
 import type { Logger } from "../logger";
@@ -139,7 +139,7 @@ export async function createInvitation(deps: InvitationDeps, actor: { id: string
       return made;
     });
   } catch (err) {
-    if ((err as { code?: string }).code === "23505") throw conflict(`${email} is already invited. Resend or revoke that invitation below.`, "email");
+    if (pgError(err)?.code === "23505") throw conflict(`${email} is already invited. Resend or revoke that invitation below.`, "email");
     throw err;
   }
   return issueAndSend(deps, row, actor.name);
