@@ -1,7 +1,7 @@
 import fs from "node:fs/promises";
 import path from "node:path";
 import sharp from "sharp";
-import { eq } from "drizzle-orm";
+import { eq, sql } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import supertest from "supertest";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
@@ -92,6 +92,36 @@ describe("recipes", () => {
     const bad = await operator.post("/api/recipes").send({ name: "Bad", steps: [{ type: "levels", mode: "manual", gamma: 12 }] });
     expect(bad.status).toBe(400);
     expect(bad.body.error.message).toMatch(/gamma/i);
+  });
+
+  it("the same name saved twice at once, or two edits at once, give one result and conflicts, not server errors", async () => {
+    // A trigger of this test's own holds each insert a moment, so every request passes its
+    // look-up before the first has committed; the unique indexes then refuse the others.
+    const hold = async (table: string, run: () => Promise<supertest.Response[]>) => {
+      await stack.db.execute(sql.raw(`create function test_hold() returns trigger language plpgsql as $$ begin perform pg_sleep(0.3); return new; end $$`));
+      await stack.db.execute(sql.raw(`create trigger test_hold before insert on ${table} for each row execute function test_hold()`));
+      try {
+        return await run();
+      } finally {
+        await stack.db.execute(sql.raw(`drop trigger test_hold on ${table}`));
+        await stack.db.execute(sql.raw("drop function test_hold()"));
+      }
+    };
+    const made = await hold("recipes", () => Promise.all([1, 2, 3].map(() => operator.post("/api/recipes").send({ name: "Warm paper", steps: [] }))));
+    expect(made.map((r) => r.status).sort()).toEqual([201, 409, 409]);
+    for (const r of made.filter((r) => r.status === 409)) expect(r.body.error).toEqual({ code: "conflict", field: "name", message: 'A recipe called "Warm paper" already exists.' });
+    const id = made.find((r) => r.status === 201)!.body.recipe.id as string;
+    const edits = await hold("recipe_versions", () =>
+      Promise.all([-0.1, -0.3].map((saturation) => operator.patch(`/api/recipes/${id}`).send({ steps: [{ type: "saturation", saturation }] }))),
+    );
+    expect(edits.map((r) => r.status).sort()).toEqual([200, 409]);
+    expect(edits.find((r) => r.status === 409)!.body.error).toEqual({ code: "conflict", message: "Another change made the same thing at the same moment. Reload to see it, then try again if you still need to." });
+    expect((await operator.get(`/api/recipes/${id}`)).body.versions.map((v: { version: number }) => v.version)).toEqual([2, 1]);
+    // Presets keep their names the same way.
+    const settings = { kind: "web", name: "Shop square", size: { mode: "box", aspect: "1:1", width: 800 }, format: "jpeg" };
+    const presets = await hold("presets", () => Promise.all([1, 2].map(() => operator.post("/api/presets").send({ name: "Shop square", settings }))));
+    expect(presets.map((r) => r.status).sort()).toEqual([201, 409]);
+    expect(presets.find((r) => r.status === 409)!.body.error).toEqual({ code: "conflict", field: "name", message: 'A preset called "Shop square" already exists.' });
   });
 
   it("applying a recipe to an intake re-renders its approved fragments as one batch; outputs point at the new version", async () => {

@@ -63,3 +63,9 @@ export function pgError(err: unknown): PgErrorFields | null {
   }
   return null;
 }
+
+/** A unique index (the one named, if given) refused the row: another transaction got there first. */
+export function isUniqueClash(err: unknown, constraint?: string): boolean {
+  const e = pgError(err);
+  return e?.code === "23505" && (!constraint || e.constraint === constraint);
+}

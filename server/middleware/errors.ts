@@ -6,6 +6,7 @@ import type { ApiErrorBody } from "../../shared/errors";
 import { config } from "../config";
 import { formatBytes } from "../../shared/units";
 import { StorageError } from "../storage/storage";
+import { pgError } from "../db";
 
 /** Turns a zod failure into one sentence naming the field. */
 export function zodMessage(err: ZodError, where: string): { message: string; field?: string } {
@@ -37,6 +38,13 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if (err instanceof StorageError && err.code === "missing") {
     (req.log ?? console).warn({ err, path: req.originalUrl }, "library file missing");
     appErr = new AppError(404, "not_found", "A file this needs is missing from the library.");
+  } else if (pgError(err)?.code === "23505") {
+    // A unique index refused a row a look-up had just found free: another request got there first.
+    (req.log ?? console).warn({ constraint: pgError(err)!.constraint, path: req.originalUrl }, "unique clash between requests");
+    appErr = new AppError(409, "conflict", "Another change made the same thing at the same moment. Reload to see it, then try again if you still need to.");
+  } else if (pgError(err)?.code === "40001" || pgError(err)?.code === "40P01") {
+    (req.log ?? console).warn({ code: pgError(err)!.code, path: req.originalUrl }, "transaction lost a race");
+    appErr = new AppError(503, "unavailable", "The database was busy with a change that clashed with this one. Try again.");
   } else if (err?.type === "entity.parse.failed") {
     appErr = new AppError(400, "bad_request", "The request body is not valid JSON.");
   } else if (err?.type === "entity.too.large") {

@@ -1,5 +1,5 @@
 import { and, asc, desc, eq, inArray, isNull, sql } from "drizzle-orm";
-import type { Db } from "../db";
+import { isUniqueClash, type Db } from "../db";
 import { presetVersions, presets } from "../db/schema";
 import { conflict, notFound } from "../errors";
 import { BUILT_IN_PRESETS, type Preset } from "../../shared/schemas/presets";
@@ -54,6 +54,12 @@ export async function presetsForRun(db: Db, ids: string[]): Promise<PresetSummar
   return ids.map((id) => list.find((p) => p.id === id)!);
 }
 
+/** The same name taken by a request that passed its look-up at the same moment, as the look-up says it. */
+const nameClash = (name: string) => (err: unknown): never => {
+  if (isUniqueClash(err, "presets_name_key")) throw conflict(`A preset called "${name}" already exists.`, "name");
+  throw err;
+};
+
 async function nameTaken(db: Db, name: string, exceptId?: string) {
   const rows = await db.select({ id: presets.id }).from(presets).where(sql`lower(${presets.name}) = lower(${name})`);
   return rows.some((r) => r.id !== exceptId);
@@ -72,7 +78,7 @@ export async function createPreset(db: Db, actorId: string, body: { name: string
       after: { name: row!.name, kind: row!.kind, version: 1, versionId: v!.id, settings: body.settings },
     });
     return row!.id;
-  });
+  }).catch(nameClash(body.name));
   return getPreset(db, id);
 }
 
@@ -115,6 +121,6 @@ export async function updatePreset(db: Db, actorId: string, id: string, body: { 
         after: { name: body.name },
       });
     }
-  });
+  }).catch(nameClash(body.name ?? ""));
   return getPreset(db, id);
 }

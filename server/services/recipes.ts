@@ -1,6 +1,6 @@
 import { and, asc, count, desc, eq, inArray, isNull, sql } from "drizzle-orm";
 import type PgBoss from "pg-boss";
-import type { Database, Db } from "../db";
+import { isUniqueClash, type Database, type Db } from "../db";
 import { fragments, intakes, outputs, recipeVersions, recipes, scans, studio } from "../db/schema";
 import { withTx } from "../db/tx";
 import { conflict, notFound } from "../errors";
@@ -102,6 +102,12 @@ export async function getRecipe(db: Db, id: string) {
   };
 }
 
+/** The same name taken by a request that passed its look-up at the same moment, as the look-up says it. */
+const nameClash = (name: string) => (err: unknown): never => {
+  if (isUniqueClash(err, "recipes_name_key")) throw conflict(`A recipe called "${name}" already exists.`, "name");
+  throw err;
+};
+
 async function nameTaken(db: Db, name: string, exceptId?: string) {
   const rows = await db.select({ id: recipes.id }).from(recipes).where(sql`lower(${recipes.name}) = lower(${name})`);
   return rows.some((r) => r.id !== exceptId);
@@ -120,7 +126,7 @@ export async function createRecipe(db: Db, actorId: string, body: CreateRecipeBo
       after: { name: row!.name, description: row!.description, version: 1, versionId: v!.id, steps: body.steps },
     });
     return row!.id;
-  });
+  }).catch(nameClash(body.name));
   return getRecipe(db, id);
 }
 
@@ -176,7 +182,7 @@ export async function updateRecipe(db: Db, actorId: string, id: string, body: Up
         });
       }
     }
-  });
+  }).catch(nameClash(body.name ?? ""));
   return getRecipe(db, id);
 }
 
