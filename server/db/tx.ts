@@ -11,9 +11,14 @@ export interface Tx {
   client: pg.PoolClient;
   /** Queues a job that exists only if this transaction commits. */
   send(queue: string, data: object): Promise<void>;
+  /** Queues one job per item the same way, a thousand to a statement. */
+  sendMany(queue: string, data: object[]): Promise<void>;
   /** Tells every open page about a change, delivered at commit. */
   notify(event: LiveEvent): Promise<void>;
 }
+
+/** Jobs (and rows) written by one statement when many are queued at once. */
+export const SEND_CHUNK = 1000;
 
 /**
  * Runs `fn` in one transaction on one connection, with Drizzle, pg-boss and NOTIFY all on it,
@@ -28,6 +33,13 @@ export async function withTx<T>(database: Database, boss: PgBoss, fn: (tx: Tx) =
       client,
       send: async (queue, data) => {
         await boss.send(queue, data, { db: { executeSql: (text, values) => client.query(text, values) } });
+      },
+      // pg-boss's insert takes each queue's own retry, expiry and retention settings, as send does.
+      sendMany: async (queue, data) => {
+        for (let i = 0; i < data.length; i += SEND_CHUNK) {
+          const jobs = data.slice(i, i + SEND_CHUNK).map((d) => ({ name: queue, data: d }));
+          await boss.insert(jobs, { db: { executeSql: (text, values) => client.query(text, values) } });
+        }
       },
       notify: (event) => notify(client, event),
     };

@@ -2,7 +2,7 @@ import type PgBoss from "pg-boss";
 import { and, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import type { Db } from "../db";
 import { batchItems, batches, fragments, outputs } from "../db/schema";
-import type { Tx } from "../db/tx";
+import { SEND_CHUNK, type Tx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import { queueNotice } from "./notices";
 import { notFound } from "../errors";
@@ -20,10 +20,16 @@ export async function createBatch(
     .insert(batches)
     .values({ name: input.name, kind: "recipe", recipeVersionId: input.recipeVersionId, createdBy: input.createdBy, finishedAt: input.fragments.length ? null : new Date() })
     .returning();
-  for (const f of input.fragments) {
-    const [item] = await tx.db.insert(batchItems).values({ batchId: batch!.id, fragmentId: f.id }).returning({ id: batchItems.id });
-    await tx.db.update(fragments).set({ renderState: "queued", renderError: null }).where(eq(fragments.id, f.id));
-    await tx.send(QUEUES.render, { fragmentId: f.id, revision: f.revision, batchItemId: item!.id });
+  // A thousand fragments to a statement: their items, their render state and their jobs.
+  for (let i = 0; i < input.fragments.length; i += SEND_CHUNK) {
+    const chunk = input.fragments.slice(i, i + SEND_CHUNK);
+    const items = await tx.db
+      .insert(batchItems)
+      .values(chunk.map((f) => ({ batchId: batch!.id, fragmentId: f.id })))
+      .returning({ id: batchItems.id, fragmentId: batchItems.fragmentId });
+    await tx.db.update(fragments).set({ renderState: "queued", renderError: null }).where(inArray(fragments.id, chunk.map((f) => f.id)));
+    const revision = new Map(chunk.map((f) => [f.id, f.revision]));
+    await tx.sendMany(QUEUES.render, items.map((item) => ({ fragmentId: item.fragmentId, revision: revision.get(item.fragmentId)!, batchItemId: item.id })));
   }
   await tx.notify({ kind: "worker" });
   return batch!;

@@ -257,7 +257,7 @@ export async function recopyFragment(
 
 /**
  * Queues a re-check of every master's copy (admins, e.g. once a month): all the jobs and the
- * audit row `audit` writes (given the count) in one transaction.
+ * audit row `audit` writes (given the count) in one transaction, the jobs a thousand to a statement.
  */
 export async function queueCheckAll(
   deps: OffsiteDeps,
@@ -269,7 +269,7 @@ export async function queueCheckAll(
       .select({ outputId: offsiteCopies.outputId })
       .from(offsiteCopies)
       .where(inArray(offsiteCopies.status, ["copied", "failed"]));
-    for (const r of rows) await tx.send(QUEUES.offsiteCheck, { outputId: r.outputId });
+    await tx.sendMany(QUEUES.offsiteCheck, rows.map((r) => ({ outputId: r.outputId })));
     await audit?.(tx, rows.length);
     return { queued: rows.length };
   });

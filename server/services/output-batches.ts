@@ -2,7 +2,7 @@ import { and, desc, eq, inArray, isNull, sql, type SQL } from "drizzle-orm";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
 import { batchItems, batches, fragments, outputs, presetVersions, presets, scans } from "../db/schema";
-import { withTx } from "../db/tx";
+import { SEND_CHUNK, withTx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import { badRequest, conflict, notFound } from "../errors";
 import { getBatch } from "./batches";
@@ -80,11 +80,12 @@ export async function createOutputBatch(
       .insert(batches)
       .values({ name, kind: "outputs", createdBy: actorId, rerunOf: rerun?.of ?? null, replaceOld: rerun?.replaceOld ?? false })
       .returning();
-    for (const f of picked) {
-      for (const p of list) {
-        const [item] = await tx.db.insert(batchItems).values({ batchId: batch!.id, fragmentId: f.id, presetVersionId: p.versionId }).returning({ id: batchItems.id });
-        await tx.send(QUEUES.output, { batchItemId: item!.id });
-      }
+    // Items and their jobs a thousand to a statement: a batch of a whole library is made in a
+    // few round trips rather than two per output.
+    const pairs = picked.flatMap((f) => list.map((p) => ({ batchId: batch!.id, fragmentId: f.id, presetVersionId: p.versionId })));
+    for (let i = 0; i < pairs.length; i += SEND_CHUNK) {
+      const items = await tx.db.insert(batchItems).values(pairs.slice(i, i + SEND_CHUNK)).returning({ id: batchItems.id });
+      await tx.sendMany(QUEUES.output, items.map((item) => ({ batchItemId: item.id })));
     }
     await recordAudit(tx, {
       action: rerun ? "batch.rerun" : "batch.create",

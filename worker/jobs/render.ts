@@ -204,7 +204,9 @@ async function claimGroup(deps: RenderDeps, scan: ScanRow, row: FragmentRow, job
     [scan.id, row.id, row.revision, jobId, expire, RENDER_GROUP_MAX, budget],
   );
   const ids = rows.map((r) => r.id);
-  if (ids.length > 0) await notify(deps.database.pool, { kind: "scan", scanId: scan.id });
+  // Only a hint for the screens to look again: a failure to send it must not fail the claim it
+  // follows (the claimed rows would wait for this job's retry).
+  if (ids.length > 0) await notify(deps.database.pool, { kind: "scan", scanId: scan.id }).catch((err: unknown) => deps.log.warn({ err }, "render: could not announce the claim"));
   return ids.includes(row.id) ? [row.id, ...ids.filter((id) => id !== row.id)] : ids;
 }
 
