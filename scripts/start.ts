@@ -5,10 +5,13 @@ import { prepare, clusterOptions } from "./lib/prepare";
 import { stopCluster } from "./lib/pg-cluster";
 import { startMailFake, type MailFake } from "../server/mail/fake-smtp";
 import { fakeS3Env, startFakeS3, type FakeS3 } from "./lib/fake-s3";
+import { cpuShares, formatCpuList } from "../shared/cpu-list";
+import { allowedCpus } from "../worker/cpu-affinity";
 
 /**
  * `npm start`: the private database, migrations, the first admin and the demo studio, the client
- * build, then the server, one worker and the inbox watcher, restarted if one of them dies.
+ * build, then the server, the workers (PLATEN_WORKERS, one by default) and the inbox watcher,
+ * each restarted if it dies.
  */
 const cfg = loadConfig();
 const root = cfg.root;
@@ -66,12 +69,12 @@ if (cfg.storage.offsite) storageLine += `\n  Off-site copy of masters: s3://${cf
 const children = new Map<string, ChildProcess>();
 let stopping = false;
 
-function run(name: string, script: string) {
+function run(name: string, script: string, env: Record<string, string> = {}) {
   // node --import tsx: one process per part, so signals reach it directly.
   const child = spawn(process.execPath, ["--import", "tsx", script], {
     cwd: root,
     stdio: ["ignore", "inherit", "inherit"],
-    env: { ...process.env, PLATEN_PROCESS: name },
+    env: { ...process.env, PLATEN_PROCESS: name, ...env },
   });
   children.set(name, child);
   const started = Date.now();
@@ -80,12 +83,17 @@ function run(name: string, script: string) {
     if (stopping) return;
     const wait = Date.now() - started < 5000 ? 5000 : 1000;
     console.error(`${name} exited (${signal ?? code}); restarting in ${wait / 1000} s`);
-    setTimeout(() => !stopping && run(name, script), wait);
+    setTimeout(() => !stopping && run(name, script, env), wait);
   });
 }
 
 run("server", "server/main.ts");
-run("worker", "worker/main.ts");
+// PLATEN_WORKERS workers; several on this machine each get a share of its CPUs of their own
+// (cpuShares), unless PLATEN_WORKER_CPUS says otherwise.
+const shares = cfg.workers > 1 && !cfg.workerCpus ? cpuShares(cfg.workers, allowedCpus() ?? []) : null;
+for (let i = 0; i < cfg.workers; i++) {
+  run(cfg.workers === 1 ? "worker" : `worker-${i + 1}`, "worker/main.ts", shares ? { PLATEN_WORKER_CPUS: shares[i]! } : {});
+}
 run("watcher", "worker/watch.ts");
 
 const url = `http://${cfg.host === "0.0.0.0" ? "127.0.0.1" : cfg.host}:${cfg.port}`;
@@ -98,6 +106,7 @@ const lines = [
   `  Inbox folder: ${cfg.inboxDir}${demoFiles.length ? ` — ${demoFiles.length} demo scans dropped there` : ""}`,
   mailLine,
   storageLine,
+  ...(cfg.workers > 1 ? [`  Workers: ${cfg.workers}${shares ? `, each held to CPUs of its own (${shares.join(" / ")})` : cfg.workerCpus ? ` on CPUs ${formatCpuList(cfg.workerCpus)}` : ""}`] : []),
   "  Stop with Ctrl+C.",
   "",
 ];

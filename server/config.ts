@@ -1,6 +1,7 @@
 import path from "node:path";
 import { z } from "zod";
 import { DEFAULT_DPI, DEFAULT_MAX_PIXELS, DEFAULT_MAX_UPLOAD_MB } from "../shared/limits";
+import { parseCpuList } from "../shared/cpu-list";
 
 /**
  * All configuration, parsed once from the environment. A bad value stops the process at start-up
@@ -39,8 +40,21 @@ const envSchema = z.object({
   PLATEN_MAX_PIXELS: int(1, 10_000_000_000).default(DEFAULT_MAX_PIXELS),
   PLATEN_MAX_UPLOAD_MB: int(1, 100_000).default(DEFAULT_MAX_UPLOAD_MB),
   PLATEN_WORKER_CONCURRENCY: int(1, 64).default(2),
+  PLATEN_WORKERS: int(1, 64).default(1),
   /** Threads libvips may use for one image operation (0 = one per CPU core, sharp's default). */
   PLATEN_VIPS_THREADS: int(0, 256).default(0),
+  PLATEN_WORKER_CPUS: z
+    .string()
+    .optional()
+    .transform((v, ctx) => {
+      if (v === undefined || v.trim() === "") return null;
+      try {
+        return parseCpuList(v);
+      } catch (err) {
+        ctx.addIssue({ code: "custom", message: (err as Error).message });
+        return z.NEVER;
+      }
+    }),
   /**
    * Room for the scans the worker keeps decoded between their split and their render, MB
    * (0 = keep none: each render decodes its scan again). The oldest go first when it is full.
@@ -143,7 +157,11 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
     maxPixels: e.PLATEN_MAX_PIXELS,
     maxUploadBytes: e.PLATEN_MAX_UPLOAD_MB * 1024 * 1024,
     workerConcurrency: e.PLATEN_WORKER_CONCURRENCY,
+    /** Worker processes `npm start` runs on this machine. */
+    workers: e.PLATEN_WORKERS,
     vipsThreads: e.PLATEN_VIPS_THREADS,
+    /** CPUs a worker process holds itself to (worker/cpu-affinity.ts); null: free to use all. */
+    workerCpus: e.PLATEN_WORKER_CPUS,
     /** Decoded scans kept between split and render (worker/decoded-copies.ts), local to each worker. */
     decodedCopies: { dir: path.join(dataDir, "decoded"), maxBytes: e.PLATEN_DECODED_COPIES_MB * 1024 * 1024 },
     jobRetryLimit: e.PLATEN_JOB_RETRY_LIMIT,

@@ -4,6 +4,8 @@ import os from "node:os";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
+import { cpuShares, formatCpuList } from "../shared/cpu-list";
+import { allowedCpus, threadCpus } from "../worker/cpu-affinity";
 import { spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { pieceBed as bed } from "./helpers/fixtures";
 import type { Fragment } from "../shared/schemas/fragments";
@@ -21,14 +23,17 @@ const PIECES = [2, 3, 2, 3, 2];
 
 let stack: Stack;
 let operator: supertest.Agent;
-const children: { name: string; child: ChildProcess; lines: string[] }[] = [];
+const children: { name: string; child: ChildProcess; cpus?: string; lines: string[] }[] = [];
 
-function startWorkerProcess(name: string) {
+/** Each worker's CPUs, as the README says to run two workers on one machine (none on a one-CPU machine). */
+const SHARES = cpuShares(2, allowedCpus()!);
+
+function startWorkerProcess(name: string, cpus?: string) {
   // Each worker as on a machine of its own: its own data folder (cache, work in progress), the
   // library only in the bucket.
   const dataDir = path.join(path.dirname(stack.env.PLATEN_DATA_DIR!), name);
-  const child = spawnProcess("worker/main.ts", { ...stack.env, PLATEN_DATA_DIR: dataDir, PLATEN_PROCESS: name, LOG_LEVEL: "info", PLATEN_WORKER_CONCURRENCY: "2" });
-  const entry = { name, child, lines: [] as string[] };
+  const child = spawnProcess("worker/main.ts", { ...stack.env, PLATEN_DATA_DIR: dataDir, PLATEN_PROCESS: name, LOG_LEVEL: "info", PLATEN_WORKER_CONCURRENCY: "2", ...(cpus ? { PLATEN_WORKER_CPUS: cpus } : {}) });
+  const entry = { name, child, cpus, lines: [] as string[] };
   let rest = "";
   child.stdout!.on("data", (chunk: Buffer) => {
     const text = rest + chunk.toString("utf8");
@@ -60,8 +65,8 @@ function jobsRun() {
 beforeAll(async () => {
   stack = await startStack({ worker: false, watcher: false, s3: true });
   operator = await userAgent(stack, "operator");
-  startWorkerProcess("worker-a");
-  startWorkerProcess("worker-b");
+  startWorkerProcess("worker-a", SHARES?.[0]);
+  startWorkerProcess("worker-b", SHARES?.[1]);
   await waitFor("both workers to report in", async () => {
     const { rows } = await stack.database.pool.query("select count(*)::int as n from processes where kind = 'worker' and heartbeat_at > now() - interval '15 seconds'");
     return rows[0].n === 2 ? true : null;
@@ -154,5 +159,15 @@ describe("two worker processes on one database", () => {
     const keys = await stack.library.list("masters/");
     expect(keys).toHaveLength(total);
     await expect(fs.access(stack.env.PLATEN_LIBRARY_DIR!)).rejects.toThrow();
+  });
+
+  it("each held to its own CPUs (PLATEN_WORKER_CPUS), every thread, including those its jobs started", () => {
+    if (!SHARES) return; // a one-CPU machine runs both free
+    for (const { name, child, cpus, lines } of children) {
+      expect(lines.some((l) => l.includes('"msg":"worker held to its CPUs"') && l.includes(`"cpus":"${cpus}"`)), name).toBe(true);
+      const threads = threadCpus(child.pid!);
+      expect(threads.length, name).toBeGreaterThan(8); // Node's, libuv's and libvips's threads after the jobs above
+      expect(threads.filter((t) => formatCpuList(t.cpus) !== cpus), name).toEqual([]);
+    }
   });
 });

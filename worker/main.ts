@@ -5,6 +5,8 @@ import { openDatabase } from "../server/db";
 import { startBoss } from "../server/jobs/boss";
 import { openOffsite, openStorage } from "../server/storage";
 import { startWorker } from "./worker";
+import { holdToCpus } from "./cpu-affinity";
+import { formatCpuList } from "../shared/cpu-list";
 
 // Files under one library key can be rewritten (a new render); never serve a decoded copy from cache.
 sharp.cache(false);
@@ -13,7 +15,22 @@ sharp.cache(false);
 async function main() {
   const cfg = config();
   const log = logger;
+  let held = false;
+  if (cfg.workerCpus) {
+    // Every thread this process has and will start runs on these CPUs only. Refused (a CPU this
+    // machine lacks, no taskset), the worker says why and runs free rather than not at all.
+    try {
+      holdToCpus(cfg.workerCpus);
+      held = true;
+      log.info({ cpus: formatCpuList(cfg.workerCpus) }, "worker held to its CPUs");
+    } catch (err) {
+      log.error({ reason: (err as Error).message }, "worker not held to PLATEN_WORKER_CPUS; it runs on every CPU");
+    }
+  }
+  // One libvips thread per core it may use, unless told otherwise (its default counted them when
+  // the library loaded, before any hold).
   if (cfg.vipsThreads > 0) sharp.concurrency(cfg.vipsThreads);
+  else if (held) sharp.concurrency(Math.max(1, cfg.workerCpus!.length));
   // Listen for a stop before any job can start, so a job in hand is always finished or released.
   let stopRequested: string | null = null;
   let stop: (signal: string) => void = (signal) => {

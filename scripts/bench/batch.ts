@@ -1,11 +1,13 @@
 /**
  * Batch throughput: 40 fragments × 3 presets made by one worker process, then by two, and the
- * queue's own cost per job (a job that does nothing), in rounds (medians reported). Measured twice:
- * with the processes free to use every core (each still runs one job with one libvips thread, but
- * libvips writes a file on a thread of its own beside the one computing its pixels, and other
- * threads spill onto the other core), and with each process held to a core of its own (taskset),
- * as one worker per one-core machine would run. The clock starts when every worker has announced
- * itself. Runs against the private cluster in a database of its own, dropped afterwards. Used by `npm run bench`; runs alone with
+ * queue's own cost per job (a job that does nothing), in rounds (medians reported). Each worker
+ * runs one job at a time with one libvips thread. One worker runs free, as a worker alone on a
+ * machine does; two run as the README says to run several workers on one machine, each held to a
+ * core of its own (PLATEN_WORKER_CPUS, worker/cpu-affinity.ts), which is the target's figure. For
+ * comparison the bench also runs two workers free (their threads then move between the cores) and
+ * one worker held to one core (so the two held ones show how the queue itself scales). The clock
+ * starts when every worker has announced itself. Runs against the private cluster in a database of
+ * its own, dropped afterwards. Used by `npm run bench`; runs alone with
  * `npx tsx scripts/bench/batch.ts`.
  */
 import { spawn, type ChildProcess } from "node:child_process";
@@ -16,39 +18,46 @@ import path from "node:path";
 import pg from "pg";
 import sharp from "sharp";
 import { eq, inArray } from "drizzle-orm";
+import { allowedCpus, threadCpus } from "../../worker/cpu-affinity";
+import { cpuShares, formatCpuList } from "../../shared/cpu-list";
 
 const ROOT = path.resolve(import.meta.dirname, "../..");
 export const FRAGMENTS = 40;
 export const PRESET_NAMES = ["web", "square", "print-a4"] as const;
-/** Rounds of one worker then two; the report gives medians. */
-export const ROUNDS = 3;
+/** Rounds of the four configurations (PLATEN_BENCH_ROUNDS, 3 by default); the report gives medians. */
+export const ROUNDS = Number(process.env.PLATEN_BENCH_ROUNDS) || 3;
 
 const median = (xs: number[]) => {
   const v = [...xs].sort((a, b) => a - b);
   return v.length % 2 ? v[(v.length - 1) / 2]! : (v[v.length / 2 - 1]! + v[v.length / 2]!) / 2;
 };
 
+/** Outputs per second of one configuration, and the cores it kept busy on average (from /proc). */
+export interface BatchRun {
+  perSecond: number;
+  /** By the worker processes, all their threads. */
+  cores: number;
+  /** By the whole machine: workers, database, this bench. */
+  machineCores: number;
+}
+
 export interface BatchBench {
   outputs: number;
-  oneWorkerPerSecond: number;
-  twoWorkersPerSecond: number;
+  /** One worker, free to use every core. */
+  one: BatchRun;
+  /** Two workers, each held to a core of its own: the target's figure (÷ one). */
+  twoHeld: BatchRun;
+  /** Two workers free to use every core. */
+  twoFree: BatchRun;
+  /** One worker held to one core. */
+  oneHeld: BatchRun;
+  /** twoHeld ÷ one: the target's ratio; with each round's ratio. */
   speedUp: number;
-  /**
-   * The same with each worker process held to a core of its own (taskset), as on a one-core
-   * machine per worker; null where taskset or a second core is missing.
-   */
-  pinned: { oneWorkerPerSecond: number; twoWorkersPerSecond: number; speedUp: number } | null;
-  /** Two workers ÷ one in each round (the figures above are medians over the rounds). */
   roundSpeedUps: number[];
+  /** twoFree ÷ one, and twoHeld ÷ oneHeld (how the queue scales across cores). */
+  freeSpeedUp: number;
+  heldScaling: number;
   queueOverheadMsPerJob: number;
-  /**
-   * Cores kept busy on average while the batch ran, from /proc: by the worker processes (all
-   * their threads), and by the whole machine (workers, database, this bench); the machine's cores.
-   */
-  oneWorkerCores: number;
-  oneWorkerMachineCores: number;
-  twoWorkersCores: number;
-  twoWorkersMachineCores: number;
   cores: number;
 }
 
@@ -90,13 +99,10 @@ async function withDatabase<T>(fn: (url: string, dir: string) => Promise<T>): Pr
   }
 }
 
-const TASKSET = "/usr/bin/taskset";
-
-/** A worker process; with `core`, held to that core (util-linux taskset) with all its threads. */
-function worker(env: Record<string, string>, core?: number): ChildProcess {
-  const node = [process.execPath, ...(process.env.PLATEN_BENCH_PROFILE ? ["--cpu-prof", `--cpu-prof-dir=${process.env.PLATEN_BENCH_PROFILE}`] : []), "--import", "tsx", "worker/main.ts"];
-  const [cmd, ...args] = core === undefined ? node : [TASKSET, "-c", String(core), ...node];
-  return spawn(cmd!, args, { cwd: ROOT, env: { ...process.env, ...env }, stdio: "ignore" });
+/** A worker process; with `cpus`, held to them (PLATEN_WORKER_CPUS, as a studio would set it). */
+function worker(env: Record<string, string>, cpus?: string): ChildProcess {
+  const node = [...(process.env.PLATEN_BENCH_PROFILE ? ["--cpu-prof", `--cpu-prof-dir=${process.env.PLATEN_BENCH_PROFILE}`] : []), "--import", "tsx", "worker/main.ts"];
+  return spawn(process.execPath, node, { cwd: ROOT, env: { ...process.env, ...env, ...(cpus === undefined ? {} : { PLATEN_WORKER_CPUS: cpus }) }, stdio: "ignore" });
 }
 
 const stopped = (c: ChildProcess) => new Promise((r) => (c.exitCode !== null ? r(null) : c.once("exit", r)));
@@ -154,8 +160,8 @@ export async function benchBatch(): Promise<BatchBench> {
     // createdBy must be a real user: make one.
     const [user] = await database.db.insert(schema.users).values({ email: "bench@bench.local", name: "Bench", role: "operator", passwordHash: "x" }).returning();
     /** Outputs per second for one batch over `ids` made by `workers` worker processes. */
-    const timed = async (ids: string[], workers: number, pin = false) => {
-      const children = Array.from({ length: workers }, (_, i) => worker(env, pin ? i : undefined));
+    const timed = async (ids: string[], workers: number, cpus?: string[]): Promise<BatchRun> => {
+      const children = Array.from({ length: workers }, (_, i) => worker(env, cpus?.[i]));
       // The clock starts once every worker has announced itself (its heartbeat row, written just
       // before its job loop starts), so a slow start is not counted against one configuration.
       const pids = children.map((c) => c.pid!);
@@ -166,6 +172,12 @@ export async function benchBatch(): Promise<BatchBench> {
         await new Promise((r) => setTimeout(r, 100));
       }
       await new Promise((r) => setTimeout(r, 500));
+      // A held worker really is held, every thread of it (or the figure would be a free one's).
+      children.forEach((c, i) => {
+        if (!cpus?.[i]) return;
+        const loose = threadCpus(c.pid!).filter((t) => formatCpuList(t.cpus) !== cpus[i]);
+        if (loose.length) throw new Error(`bench: worker ${i + 1} was to be held to CPUs ${cpus[i]} but ${loose.length} of its threads are not`);
+      });
       const cpu0 = children.map((c) => cpuSeconds(c.pid!));
       const machine0 = machineCpuSeconds();
       const t0 = performance.now();
@@ -179,24 +191,25 @@ export async function benchBatch(): Promise<BatchBench> {
       await Promise.all(children.map(stopped));
       return { perSecond: (await getBatch(database.db, batch.id)).counts.done / s, cores, machineCores };
     };
-    /** ROUNDS of one worker then two, each batch over fresh fragments (outputs are made once). */
-    const rounds = async (pin: boolean) => {
-      const runs = [];
-      for (let r = 0; r < ROUNDS; r++) {
-        const one = await timed(await makeSet(`bench-${pin ? "p" : "u"}${r}-1`), 1, pin);
-        const two = await timed(await makeSet(`bench-${pin ? "p" : "u"}${r}-2`), 2, pin);
-        runs.push({ one, two });
-      }
-      return runs;
-    };
-    const free = await rounds(false);
-    const canPin = fsSync.existsSync(TASKSET) && os.cpus().length >= 2;
-    const pinnedRuns = canPin ? await rounds(true) : [];
+    // Each held worker's CPUs: the machine's split as the launcher splits them (cpuShares).
+    const machineCpus = allowedCpus() ?? Array.from({ length: os.cpus().length }, (_, i) => i);
+    const shares = cpuShares(2, machineCpus);
+    if (!shares) throw new Error(`bench: two workers each held to CPUs of their own need two CPUs; this process may use ${machineCpus.length}`);
+    /** ROUNDS of the four configurations, each batch over fresh fragments (outputs are made once). */
+    const runs: { one: BatchRun; twoHeld: BatchRun; twoFree: BatchRun; oneHeld: BatchRun }[] = [];
+    for (let r = 0; r < ROUNDS; r++) {
+      const one = await timed(await makeSet(`bench-${r}-one`), 1);
+      const twoHeld = await timed(await makeSet(`bench-${r}-two-held`), 2, shares);
+      const twoFree = await timed(await makeSet(`bench-${r}-two-free`), 2);
+      const oneHeld = await timed(await makeSet(`bench-${r}-one-held`), 1, [shares[0]!]);
+      runs.push({ one, twoHeld, twoFree, oneHeld });
+    }
     const r2 = (v: number) => Math.round(v * 100) / 100;
-    const one = median(free.map((r) => r.one.perSecond));
-    const two = median(free.map((r) => r.two.perSecond));
-    const pinnedOne = canPin ? median(pinnedRuns.map((r) => r.one.perSecond)) : NaN;
-    const pinnedTwo = canPin ? median(pinnedRuns.map((r) => r.two.perSecond)) : NaN;
+    const med = (pick: (x: (typeof runs)[number]) => BatchRun): BatchRun => ({
+      perSecond: r2(median(runs.map((x) => pick(x).perSecond))),
+      cores: r2(median(runs.map((x) => pick(x).cores))),
+      machineCores: r2(median(runs.map((x) => pick(x).machineCores))),
+    });
 
     // The queue's own cost: jobs whose handler does nothing, one worker loop, counted end to end.
     const NOOP = "bench-noop";
@@ -225,38 +238,34 @@ export async function benchBatch(): Promise<BatchBench> {
     await boss.stop({ graceful: false, wait: true });
     await database.db.delete(schema.batchItems).where(eq(schema.batchItems.state, "queued"));
     await database.close();
+    const one = med((x) => x.one);
+    const twoHeld = med((x) => x.twoHeld);
+    const twoFree = med((x) => x.twoFree);
+    const oneHeld = med((x) => x.oneHeld);
     return {
       outputs: FRAGMENTS * presetIds.length,
-      oneWorkerPerSecond: Math.round(one * 100) / 100,
-      twoWorkersPerSecond: Math.round(two * 100) / 100,
-      speedUp: Math.round((two / one) * 100) / 100,
-      roundSpeedUps: free.map((r) => r2(r.two.perSecond / r.one.perSecond)),
-      pinned: canPin
-        ? { oneWorkerPerSecond: r2(pinnedOne), twoWorkersPerSecond: r2(pinnedTwo), speedUp: r2(pinnedTwo / pinnedOne) }
-        : null,
+      one,
+      twoHeld,
+      twoFree,
+      oneHeld,
+      speedUp: r2(median(runs.map((x) => x.twoHeld.perSecond)) / median(runs.map((x) => x.one.perSecond))),
+      roundSpeedUps: runs.map((x) => r2(x.twoHeld.perSecond / x.one.perSecond)),
+      freeSpeedUp: r2(median(runs.map((x) => x.twoFree.perSecond)) / median(runs.map((x) => x.one.perSecond))),
+      heldScaling: r2(median(runs.map((x) => x.twoHeld.perSecond)) / median(runs.map((x) => x.oneHeld.perSecond))),
       queueOverheadMsPerJob: Math.round(overhead * 10) / 10,
-      oneWorkerCores: r2(median(free.map((r) => r.one.cores))),
-      oneWorkerMachineCores: r2(median(free.map((r) => r.one.machineCores))),
-      twoWorkersCores: r2(median(free.map((r) => r.two.cores))),
-      twoWorkersMachineCores: r2(median(free.map((r) => r.two.machineCores))),
-      cores: os.cpus().length,
+      cores: machineCpus.length,
     };
   });
 }
 
 export function formatBatchBench(b: BatchBench): string {
-  // While one worker runs, the machine keeps oneWorkerMachineCores busy (the worker's own
-  // threads, the database, this bench); two can at best keep all the cores busy.
-  const ceiling = Math.round((Math.min(b.cores, 2 * b.oneWorkerMachineCores) / b.oneWorkerMachineCores) * 100) / 100;
+  const busy = (r: BatchRun) => `cores busy ${r.cores} (machine ${r.machineCores} of ${b.cores})`;
   return [
-    `batch of ${FRAGMENTS} fragments × ${PRESET_NAMES.length} presets (${PRESET_NAMES.join(", ")}): ${b.outputs} outputs, medians of ${ROUNDS} rounds`,
-    `  one worker  ${b.oneWorkerPerSecond} outputs/s  (each worker: one job, one libvips thread)`,
-    `  two workers ${b.twoWorkersPerSecond} outputs/s  (${b.speedUp}× one; target ≥ 1.7×; rounds ${b.roundSpeedUps.join(", ")})`,
-    `  cores busy: one worker ${b.oneWorkerCores} (machine ${b.oneWorkerMachineCores}), two workers ${b.twoWorkersCores} (machine ${b.twoWorkersMachineCores}) of ${b.cores}` +
-      ` (so at most ${ceiling}× on this machine)`,
-    b.pinned
-      ? `  a core per worker (taskset): one ${b.pinned.oneWorkerPerSecond}/s, two ${b.pinned.twoWorkersPerSecond}/s (${b.pinned.speedUp}× one: how the queue scales across cores, not the target's figure)`
-      : "  a core per worker: not measured (needs taskset and two cores)",
+    `batch of ${FRAGMENTS} fragments × ${PRESET_NAMES.length} presets (${PRESET_NAMES.join(", ")}): ${b.outputs} outputs, medians of ${ROUNDS} rounds; each worker one job and one libvips thread at a time`,
+    `  one worker, free              ${b.one.perSecond} outputs/s  ${busy(b.one)}`,
+    `  two workers, a core each      ${b.twoHeld.perSecond} outputs/s  ${b.speedUp}× one (target ≥ 1.7×; rounds ${b.roundSpeedUps.join(", ")})  ${busy(b.twoHeld)}`,
+    `  two workers, free             ${b.twoFree.perSecond} outputs/s  ${b.freeSpeedUp}× one  ${busy(b.twoFree)}`,
+    `  one worker, one core          ${b.oneHeld.perSecond} outputs/s  (two with a core each make ${b.heldScaling}× this)  ${busy(b.oneHeld)}`,
     `  queue overhead ${b.queueOverheadMsPerJob} ms per job (no-op jobs; target ≤ 20 ms)`,
     "",
   ].join("\n");
