@@ -143,9 +143,11 @@ interface ShownText {
   x: number;
   y: number;
   codes: number[];
+  /** The sum of the TJ array's numbers, thousandths of the font size (0 for Tj). */
+  adjust: number;
 }
 
-/** Reads a one-page PDF: its fonts by resource name and each text string shown (Tf, Tm, Tj; §9.3, §9.4). */
+/** Reads a one-page PDF: its fonts by resource name and each text string shown (Tf, Tm, Tj, TJ; §9.3, §9.4). */
 async function readPdf(
   bytes: Uint8Array,
 ): Promise<{ fonts: Map<string, PdfFont>; shown: ShownText[] }> {
@@ -182,18 +184,22 @@ async function readPdf(
   let x = 0;
   let y = 0;
   for (const m of ops.matchAll(
-    /\/(\S+) ([\d.]+) Tf|[\d.-]+ [\d.-]+ [\d.-]+ [\d.-]+ ([\d.-]+) ([\d.-]+) Tm|<([0-9A-Fa-f]*)> Tj/g,
+    /\/(\S+) ([\d.]+) Tf|[\d.-]+ [\d.-]+ [\d.-]+ [\d.-]+ ([\d.-]+) ([\d.-]+) Tm|<([0-9A-Fa-f]*)> Tj|\[([^\]]*)\] TJ/g,
   )) {
+    const codesOf = (hex: string) => (hex.match(/.{4}/g) ?? []).map((h) => parseInt(h, 16));
     if (m[1]) [font, size] = [m[1], Number(m[2])];
     else if (m[3]) [x, y] = [Number(m[3]), Number(m[4])];
-    else
-      shown.push({
-        font,
-        size,
-        x,
-        y,
-        codes: (m[5]!.match(/.{4}/g) ?? []).map((h) => parseInt(h, 16)),
-      });
+    else if (m[5] !== undefined) shown.push({ font, size, x, y, codes: codesOf(m[5]), adjust: 0 });
+    else {
+      // A TJ array (§9.4.3): strings, and numbers that move the next glyph left by n / 1000 em.
+      const codes: number[] = [];
+      let adjust = 0;
+      for (const e of m[6]!.matchAll(/<([0-9A-Fa-f]*)>|(-?[\d.]+)/g)) {
+        if (e[1] !== undefined) codes.push(...codesOf(e[1]));
+        else adjust += Number(e[2]);
+      }
+      shown.push({ font, size, x, y, codes, adjust });
+    }
   }
   return { fonts, shown };
 }
@@ -203,12 +209,12 @@ const extractText = (pdf: Awaited<ReturnType<typeof readPdf>>) =>
   pdf.shown
     .map((s) => s.codes.map((c) => pdf.fonts.get(s.font)!.toUnicode.get(c) ?? "\uFFFD").join(""))
     .join("");
-/** Horizontal extent of the shown text, points: Tm x plus the W widths × size / 1000 (§9.4.4). */
+/** Horizontal extent of the shown text, points: Tm x plus the W widths less the TJ adjustments, × size / 1000 (§9.4.3, §9.4.4). */
 function textSpan(pdf: Awaited<ReturnType<typeof readPdf>>): { left: number; right: number } {
   const first = pdf.shown[0]!;
   const last = pdf.shown[pdf.shown.length - 1]!;
   const width =
-    last.codes.reduce((sum, c) => sum + pdf.fonts.get(last.font)!.widths.get(c)!, 0) *
+    (last.codes.reduce((sum, c) => sum + pdf.fonts.get(last.font)!.widths.get(c)!, 0) - last.adjust) *
     (last.size / 1000);
   return { left: first.x, right: last.x + width };
 }
@@ -371,9 +377,14 @@ describe("PDF captions", () => {
     }
     const span = textSpan(pdf);
     expect((span.left + span.right) / 2).toBeCloseTo(306, 2);
-    // The W widths are Inter's advance widths: the line is as long as the shipped font says.
-    const advance = inter.layout(CAPTION).glyphs.reduce((sum, g) => sum + g.advanceWidth, 0);
-    expect(span.right - span.left).toBeCloseTo((advance / inter.unitsPerEm) * 9, 2);
+    // The W widths are Inter's advance widths and the TJ numbers its kerning: the line is as long
+    // as the shipped font's own layout sets it, kerned ("0." and "5" close up, −52 to −55 units).
+    const { glyphs, positions } = inter.layout(CAPTION);
+    const kerned = positions.reduce((sum, p) => sum + p.xAdvance, 0);
+    const unkerned = glyphs.reduce((sum, g) => sum + g.advanceWidth, 0);
+    expect(unkerned - kerned).toBe(162);
+    expect(span.right - span.left).toBeCloseTo((kerned / inter.unitsPerEm) * 9, 2);
+    expect(pdf.shown[0]!.adjust).toBeCloseTo((162 * 1000) / inter.unitsPerEm, 2);
   });
 
   it("set letters the Latin file lacks from the Latin Extended one", async () => {
@@ -519,10 +530,11 @@ describe("TIFF captions", () => {
       };
     };
     const setBy = async (fontfile: string | undefined, font: string) => {
-      // Advance widths only, as the PDF places glyphs (kerning off); Pango markup, × and — as they are.
+      // Kerned, as the font's layout places glyphs (Pango shapes with HarfBuzz, kerning on by
+      // default); Pango markup, × and — as they are.
       const { data, info } = await sharp({
         text: {
-          text: `<span font_features="kern 0">${CAPTION}</span>`,
+          text: CAPTION,
           fontfile,
           font,
           dpi: 300,
@@ -571,6 +583,40 @@ describe("TIFF captions", () => {
     // Same shapes: a small mean difference in ink coverage, a fraction of another font's.
     expect(inter.meanAbs).toBeLessThan(0.1);
     expect(inter.meanAbs).toBeLessThan(0.5 * other.meanAbs);
+  });
+
+  it("are kerned as Pango and HarfBuzz kern the same text, in the TIFF and in the PDF", async () => {
+    // A title full of kerning pairs (AV, WA, To, Ty, …): set kerned, its line is visibly shorter.
+    const title = "AVATAR WAVE To Ty";
+    const text = `${title} — 8 × 10 in (20.32 × 25.4 cm)`;
+    await renderOutput({ master: piece, dpi: 300, title }, WITH_CAPTION, { path: at("kerned.tif") });
+    const ours = inkBox(await grey(at("kerned.tif"), { left: 0, top: 3150, width: 2550, height: 150 }))!;
+    const ttf = at("inter-latin-400-kern.ttf");
+    fs.writeFileSync(ttf, woffToSfnt(fs.readFileSync(captionFontPaths()[0]!)));
+    const pango = async (markup: string) => {
+      const { data, info } = await sharp({ text: { text: markup, fontfile: ttf, font: "Inter 9", dpi: 300, rgba: true } })
+        .extractChannel(3)
+        .negate()
+        .raw()
+        .toBuffer({ resolveWithObject: true });
+      return inkBox({ data, width: info.width, height: info.height })!;
+    };
+    const kerned = await pango(text.replace(/&/g, "&amp;"));
+    const unkerned = await pango(`<span font_features="kern 0">${text}</span>`);
+    // The pairs make a difference worth checking: over 2 % of the line.
+    expect(unkerned.width - kerned.width).toBeGreaterThan(unkerned.width * 0.02);
+    // Ours is as long as the kerned line within 1 % (Pango rounds each advance to a whole pixel;
+    // measured here: ours 899 px, kerned 904, unkerned 929), and not as long as the unkerned one.
+    expect(Math.abs(ours.width - kerned.width)).toBeLessThanOrEqual(kerned.width * 0.01);
+    expect(unkerned.width - ours.width).toBeGreaterThan(unkerned.width * 0.02);
+    // The PDF's line: W widths less the TJ numbers, the same length as the TIFF's.
+    await renderOutput({ master: piece, dpi: 300, title }, { ...WITH_CAPTION, output: "pdf" }, { path: at("kerned.pdf") });
+    const pdf = await readPdf(fs.readFileSync(at("kerned.pdf")));
+    expect(extractText(pdf)).toBe(text);
+    const span = textSpan(pdf);
+    const { positions } = inter.layout(text);
+    expect(span.right - span.left).toBeCloseTo((positions.reduce((sum, p) => sum + p.xAdvance, 0) / inter.unitsPerEm) * 9, 2);
+    expect(Math.abs(((span.right - span.left) / 72) * 300 - ours.width)).toBeLessThan(4); // ink sits within a side bearing of the advances
   });
 
   it("are the same pixels with no system fonts at all (an empty fontconfig, in a child process)", async () => {

@@ -6,8 +6,9 @@
  *   shapes, it never looks a font up.
  * - PDF: the same font files are embedded as subsets with pdf-lib (pdf.ts), so the text keeps its
  *   real characters (× and —) and stays searchable.
- * Glyphs advance by their advance widths (the font's hmtx table) in both outputs: that is how
- * pdf-lib places them in the PDF, and the TIFF follows it so the two captions match.
+ * Glyphs are placed as the font's own layout places them, kerning included (fontkit applies the
+ * font's GPOS kerning by default): the TIFF draws each glyph at its kerned position, and the PDF
+ * shows the same glyphs with TJ adjustments (pdf.ts), so the two captions match.
  */
 import fs from "node:fs";
 import { createRequire } from "node:module";
@@ -95,15 +96,28 @@ export interface CaptionRun {
   widthPt: number;
 }
 
-/** The glyphs of a run, as pdf-lib encodes them: the font's layout with its default features. */
-function runGlyphs(run: { face: number; text: string }, all: CaptionFace[]): Glyph[] {
-  return all[run.face]!.font.layout(run.text).glyphs;
+/** One glyph of a run as the font's layout places it, in font units. */
+export interface PlacedGlyph {
+  glyph: Glyph;
+  /** How far the pen moves after it: its advance width plus any kerning. */
+  xAdvance: number;
+  xOffset: number;
+  yOffset: number;
 }
 
-/** Width of glyphs at `sizePt`, points: the sum of advance widths (font units) × size / units per em. */
-function glyphsWidthPt(glyphs: Glyph[], font: Font, sizePt: number): number {
+/**
+ * The glyphs of a run, as pdf-lib encodes them (the font's layout with its default features, the
+ * same glyphs in the same order) and where the layout places them, kerning included.
+ */
+export function runGlyphs(run: { face: number; text: string }, all: CaptionFace[] = captionFaces()): PlacedGlyph[] {
+  const { glyphs, positions } = all[run.face]!.font.layout(run.text);
+  return glyphs.map((glyph, i) => ({ glyph, xAdvance: positions[i]!.xAdvance, xOffset: positions[i]!.xOffset, yOffset: positions[i]!.yOffset }));
+}
+
+/** Width of placed glyphs at `sizePt`, points: the sum of their advances (font units) × size / units per em. */
+function glyphsWidthPt(glyphs: PlacedGlyph[], font: Font, sizePt: number): number {
   let units = 0;
-  for (const g of glyphs) units += g.advanceWidth;
+  for (const g of glyphs) units += g.xAdvance;
   return (units * sizePt) / font.unitsPerEm;
 }
 
@@ -276,9 +290,9 @@ export function captionSvg(line: CaptionLine, dpi: number, fill: string): string
     const paths: string[] = [];
     let pen = 0;
     for (const g of runGlyphs(run, all)) {
-      const d = g.path.toSVG();
-      if (d) paths.push(`<path transform="translate(${pen} 0)" d="${d}"/>`);
-      pen += g.advanceWidth;
+      const d = g.glyph.path.toSVG();
+      if (d) paths.push(`<path transform="translate(${pen + g.xOffset} ${g.yOffset})" d="${d}"/>`);
+      pen += g.xAdvance;
     }
     out.push(
       `<g fill="${fill}" transform="translate(${num(penPx)} ${num(baselinePx)}) scale(${scale} ${-scale})">${paths.join("")}</g>`,

@@ -5,10 +5,10 @@
  * caption in the shipped font, embedded).
  */
 import fontkit from "@pdf-lib/fontkit";
-import { PDFDocument, rgb, type PDFFont } from "pdf-lib";
+import { beginText, endText, PDFDocument, PDFHexString, PDFNumber, PDFOperator, PDFOperatorNames, popGraphicsState, pushGraphicsState, rgb, setFillingRgbColor, setFontAndSize, setTextMatrix, type PDFFont } from "pdf-lib";
 import { paperPoints } from "../../../shared/paper";
 import type { PrintPreset } from "../../../shared/schemas/presets";
-import { captionFaces, layoutCaption } from "./caption";
+import { captionFaces, layoutCaption, runGlyphs } from "./caption";
 import { cropMarks, type PrintLayout } from "./print-layout";
 import { MARK_WEIGHT_PT, visiblePipeline } from "./print";
 import type { Piece } from "./source";
@@ -69,7 +69,35 @@ export async function renderPrintPdf(piece: Piece, layout: PrintLayout, preset: 
         font = await doc.embedFont(faces[run.face]!.bytes, { subset: true });
         fonts.set(run.face, font);
       }
-      page.drawText(run.text, { x, y: y(line.baselineIn), size: line.sizePt, font, color: rgb(0.2, 0.2, 0.2) });
+      // The glyphs pdf-lib encodes for the run (4 hex digits each, Identity-H), shown with TJ so the
+      // font's kerning moves each one as the layout places it (ISO 32000-1 §9.4.3: a number in a TJ
+      // array moves the next glyph left by number / 1000 of the font size).
+      const hex = font.encodeText(run.text).toString().slice(1, -1);
+      const placed = runGlyphs(run, faces);
+      const unitsPerEm = faces[run.face]!.font.unitsPerEm;
+      if (hex.length !== placed.length * 4) throw new Error(`The caption's glyphs for "${run.text}" did not encode one code each`);
+      const shown: (PDFHexString | PDFNumber)[] = [];
+      let codes = "";
+      placed.forEach((g, i) => {
+        codes += hex.slice(i * 4, i * 4 + 4);
+        const kern = g.xAdvance - g.glyph.advanceWidth;
+        if (kern !== 0 && i < placed.length - 1) {
+          shown.push(PDFHexString.of(codes), PDFNumber.of(Number(((-kern * 1000) / unitsPerEm).toFixed(3))));
+          codes = "";
+        }
+      });
+      if (codes) shown.push(PDFHexString.of(codes));
+      const key = page.node.newFontDictionary(font.name, font.ref);
+      page.pushOperators(
+        pushGraphicsState(),
+        beginText(),
+        setFillingRgbColor(0.2, 0.2, 0.2),
+        setFontAndSize(key, line.sizePt),
+        setTextMatrix(1, 0, 0, 1, x, y(line.baselineIn)),
+        PDFOperator.of(PDFOperatorNames.ShowTextAdjusted, [doc.context.obj(shown)]),
+        endText(),
+        popGraphicsState(),
+      );
       x += run.widthPt;
     }
   }
