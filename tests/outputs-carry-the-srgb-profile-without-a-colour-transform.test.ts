@@ -12,6 +12,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { BUILT_IN_PRESETS, parsePreset } from "../shared/schemas/presets";
 import { renderOutput } from "../worker/pipeline/output/index";
 import { jpegWithIcc, srgbProfile, tagSrgb } from "../worker/pipeline/output/srgb-tag";
+import { xmpPacket } from "../worker/pipeline/render/rights";
 import { addTiffFields, TIFF_TAG, withTiffFields } from "../worker/pipeline/render/tiff-tags";
 import { makeTempDir } from "./helpers/scan-bytes";
 
@@ -64,7 +65,7 @@ describe("the premise: sharp's sRGB → sRGB transform leaves 8-bit values alone
 describe("tagging an encoded file", () => {
   it("JPEG: the same bytes sharp writes with the transform, Exif and XMP included", async () => {
     const base = () =>
-      img().withExif({ IFD0: { Artist: "Ines Okafor" } }).withXmp('<x:xmpmeta xmlns:x="adobe:ns:meta/"/>').withDensity(300);
+      img().withExif({ IFD0: { Artist: "Ines Okafor" } }).withXmp(xmpPacket({ title: "Tern" })!).withDensity(300);
     const reference = await base().withIccProfile("srgb").jpeg({ quality: 90 }).toBuffer();
     const tagged = await tagSrgb("jpeg", await base().jpeg({ quality: 90 }).toBuffer());
     expect(tagged.equals(reference)).toBe(true);
