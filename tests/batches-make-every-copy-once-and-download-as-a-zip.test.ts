@@ -3,6 +3,8 @@ import path from "node:path";
 import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import supertest from "supertest";
+import { sql } from "drizzle-orm";
+import pg from "pg";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { PresetSummary } from "../shared/schemas/preset-api";
@@ -113,9 +115,34 @@ describe("output batches", () => {
     expect(oldFiles.length).toBe(2);
     const edited = await operator.patch(`/api/presets/${preset("web").id}`).send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 400 } } });
     expect(edited.body.preset.version).toBe(2);
-    const rerun = await operator.post(`/api/batches/${webOnly.id}/rerun`).send({ replaceOld: true });
-    expect(rerun.status).toBe(201);
-    const done = await finished(rerun.body.batch.id);
+    // A trigger of this test's own holds the removal of the old rows a while, and a connection
+    // of the test's own watches: the moment the batch reads as finished, the old rows must be gone.
+    await stack.db.execute(sql.raw("create function test_hold() returns trigger language plpgsql as $$ begin perform pg_sleep(1.5); return null; end $$"));
+    await stack.db.execute(sql.raw("create trigger test_hold before delete on outputs for each statement execute function test_hold()"));
+    const watch = new pg.Client({ connectionString: stack.cfg.databaseUrl });
+    await watch.connect();
+    let rerunId = "";
+    try {
+      const rerun = await operator.post(`/api/batches/${webOnly.id}/rerun`).send({ replaceOld: true });
+      expect(rerun.status).toBe(201);
+      rerunId = rerun.body.batch.id;
+      const seen = await waitFor("the re-run to read as finished", async () => {
+        const { rows } = await watch.query(
+          `select b.finished_at is not null as finished,
+                  (select count(*)::int from outputs o join preset_versions v on v.id = o.preset_version_id
+                    where v.version = 1 and v.preset_id = $2) as old
+             from batches b where b.id = $1`,
+          [rerunId, preset("web").id],
+        );
+        return rows[0].finished ? rows[0] : null;
+      }, 90_000, 20);
+      expect(seen.old).toBe(0);
+    } finally {
+      await watch.end();
+      await stack.db.execute(sql.raw("drop trigger test_hold on outputs"));
+      await stack.db.execute(sql.raw("drop function test_hold()"));
+    }
+    const done = await finished(rerunId);
     expect(done.batch.counts.done).toBe(2);
     for (const i of done.items) expect(Math.max(i.pixelWidth, i.pixelHeight)).toBeLessThanOrEqual(400);
     const { rows } = await stack.database.pool.query(

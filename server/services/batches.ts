@@ -8,6 +8,9 @@ import { queueNotice } from "./notices";
 import { notFound } from "../errors";
 import type { Batch } from "../../shared/schemas/recipe-api";
 
+/** The database or a transaction on it: what a step that runs inside either needs. */
+type DbOrTx = Pick<Db, "select" | "update" | "delete">;
+
 type BatchRow = typeof batches.$inferSelect;
 const STATES = ["queued", "running", "done", "failed", "cancelled"] as const;
 
@@ -54,22 +57,28 @@ export async function settleBatchItem(
     .from(batchItems)
     .where(and(eq(batchItems.batchId, item.batchId), inArray(batchItems.state, ["queued", "running"])));
   if ((open?.n ?? 0) > 0) return [];
-  const [closed] = await db
-    .update(batches)
-    .set({ finishedAt: new Date(), updatedAt: new Date() })
-    .where(and(eq(batches.id, item.batchId), isNull(batches.finishedAt)))
-    .returning();
+  // Closing and retiring commit together: a batch never reads as finished while the outputs it
+  // replaces are still there. (The item's own update above commits first, so of two last items
+  // finishing at once, the later count always sees both.)
+  const { closed, retired } = await db.transaction(async (tx) => {
+    const [row] = await tx
+      .update(batches)
+      .set({ finishedAt: new Date(), updatedAt: new Date() })
+      .where(and(eq(batches.id, item.batchId), isNull(batches.finishedAt)))
+      .returning();
+    const keys = row?.rerunOf && row.replaceOld ? await replaceOldOutputs(tx, row.rerunOf, row.id) : [];
+    return { closed: row, retired: keys };
+  });
   // Only the call that closed it gets a row back: one notice per finish.
   if (closed && opts.boss) await queueNotice(opts.boss, { event: "batch-finished", batchId: closed.id });
-  if (closed?.rerunOf && closed.replaceOld) return replaceOldOutputs(db, closed.rerunOf, closed.id);
-  return [];
+  return retired;
 }
 
 /**
  * After a re-run that replaces, the old batch's outputs that the new one did not reuse are
  * removed (rows here; the caller deletes the files). Only once the new ones are all made.
  */
-async function replaceOldOutputs(db: Db, oldBatchId: string, newBatchId: string): Promise<string[]> {
+async function replaceOldOutputs(db: DbOrTx, oldBatchId: string, newBatchId: string): Promise<string[]> {
   const keep = db.select({ id: batchItems.outputId }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), eq(batchItems.state, "done")));
   const [failed] = await db.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), inArray(batchItems.state, ["failed", "cancelled"])));
   if (failed?.n) return []; // not all new outputs exist: keep the old ones
