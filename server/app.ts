@@ -29,6 +29,7 @@ import { recipesRouter } from "./routes/recipes";
 import { presetsRouter } from "./routes/presets";
 import { batchesRouter } from "./routes/batches";
 import { offsiteRouter } from "./routes/offsite";
+import { libraryRouter } from "./routes/library";
 import { invitationsRouter } from "./routes/invitations";
 import { accountRouter } from "./routes/account";
 import { mailboxRouter } from "./routes/mailbox";
@@ -112,6 +113,7 @@ export function createApp(deps: AppDeps): express.Express {
   api.use(presetsRouter(deps));
   api.use(batchesRouter(deps));
   api.use(offsiteRouter(deps));
+  api.use(libraryRouter(deps));
   api.use(usersRouter(deps));
   api.use(auditRouter(deps));
   const mailer = deps.mailer ?? createMailer(cfg.mail, deps.log);

@@ -63,6 +63,8 @@ const envSchema = z.object({
   PLATEN_JOB_RETRY_LIMIT: int(0, 100).default(3),
   PLATEN_JOB_EXPIRE_SECONDS: int(1, 86_400).default(900),
   PLATEN_MAINTENANCE_SECONDS: int(1, 3600).default(30),
+  /** Hours between the worker's tidies of the library's left-over files (0 = only when an admin asks). */
+  PLATEN_TIDY_EVERY_HOURS: int(0, 8760).default(24),
   PLATEN_INBOX_STABLE_MS: int(50, 600_000).default(2000),
   PLATEN_INBOX_POLL_MS: int(10, 60_000).default(250),
   PLATEN_LOGIN_LIMIT: int(1, 10_000).default(10),
@@ -167,6 +169,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
     jobRetryLimit: e.PLATEN_JOB_RETRY_LIMIT,
     jobExpireSeconds: e.PLATEN_JOB_EXPIRE_SECONDS,
     maintenanceSeconds: e.PLATEN_MAINTENANCE_SECONDS,
+    tidyEveryHours: e.PLATEN_TIDY_EVERY_HOURS,
     inboxStableMs: e.PLATEN_INBOX_STABLE_MS,
     inboxPollMs: e.PLATEN_INBOX_POLL_MS,
     loginLimit: e.PLATEN_LOGIN_LIMIT,

@@ -12,6 +12,7 @@ import {
   updateNoticesBody,
 } from "./schemas/mail";
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
+import { tidyLibraryBody } from "./schemas/library";
 import { createIntakeBody, scanListQuery } from "./schemas/scans";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
 import { batchDownloadQuery, createBatchBody, createPresetBody, previewPresetBody, rerunBatchBody, updatePresetBody } from "./schemas/preset-api";
@@ -313,6 +314,10 @@ export const API = {
   fragmentsOffsiteCheck: route({ method: "POST", path: "/api/fragments/:id/offsite/check", access: "operator", mutates: true, params: idParams }),
   fragmentsOffsiteCopy: route({ method: "POST", path: "/api/fragments/:id/offsite/copy", access: "operator", mutates: true, params: idParams }),
   offsiteCheckAll: route({ method: "POST", path: "/api/offsite/check", access: "admin", mutates: true }),
+
+  // The library itself: where it is, and tidying away files nothing names any more.
+  library: route({ method: "GET", path: "/api/library", access: "admin", mutates: false }),
+  libraryTidy: route({ method: "POST", path: "/api/library/tidy", access: "admin", mutates: true, body: tidyLibraryBody }),
 } as const satisfies Record<string, RouteSpec>;
 
 export type RouteName = keyof typeof API;

@@ -376,6 +376,13 @@ describe("every change a person makes is on the trail, with who, what and before
     expect((rows[0]!.after!.queued as number) >= 1).toBe(true);
   });
 
+  it(`${route("libraryTidy")}: an admin tidies the library (a dry run writes nothing)`, async () => {
+    let { rows } = await audited(() => admin.post("/api/library/tidy").send({ dryRun: true }));
+    expect(rows).toEqual([]);
+    ({ rows } = await audited(() => admin.post("/api/library/tidy").send({})));
+    expect(only(rows, "library.tidy")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, after: { removed: 0, bytes: 0 } });
+  });
+
   it(`${route("scansRetry")}: a failed scan sent back to the queue`, async () => {
     const [row] = await stack.db
       .insert(scans)

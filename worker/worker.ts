@@ -14,6 +14,7 @@ import { outputJob } from "./jobs/output";
 import { offsiteCheckJob, offsiteCopyJob } from "./jobs/offsite";
 import { noticeJob } from "./jobs/mail-notice";
 import { mailSendJob } from "./jobs/mail-send";
+import { libraryTidyJob } from "./jobs/library-tidy";
 import { createMailer, type Mailer } from "../server/mail/mailer";
 import type { JobContext } from "./jobs/context";
 import { trimDecodedCopies } from "./decoded-copies";
@@ -63,6 +64,7 @@ export async function startWorker(deps: WorkerDeps) {
     ...(deps.offsite ? ([[QUEUES.offsiteCopy, offsiteCopyJob], [QUEUES.offsiteCheck, offsiteCheckJob]] as [string, Handler][]) : []),
     [QUEUES.notice, (_d, data, ctx) => noticeJob(mailDeps, data, ctx)],
     [QUEUES.mail, (_d, data, ctx) => mailSendJob(mailDeps, data, ctx)],
+    [QUEUES.libraryTidy, libraryTidyJob],
   ];
 
   /** Runs one job's handler, logging the outcome; throws what the handler threw. */
@@ -99,10 +101,21 @@ export async function startWorker(deps: WorkerDeps) {
   const imageLoop = startSlotLoop({ boss, log, slots: config.workerConcurrency, queues: imageHandlers.map(([queue, handler]) => ({ queue, run: (job) => run(handler, job) })) });
   log.info({ concurrency: config.workerConcurrency, heartbeat: heartbeat.id }, "worker ready");
 
+  // The regular tidy: every worker asks each hour (one job per hour whoever asks: a singleton key
+  // per hour's slot), and the job tidies when the last tidy is PLATEN_TIDY_EVERY_HOURS old.
+  const askTidy = () =>
+    boss
+      .send(QUEUES.libraryTidy, {}, { singletonKey: "regular", singletonSeconds: 3600 })
+      .catch((err: unknown) => log.warn({ err }, "worker: could not ask for the library tidy"));
+  const tidyTimer = config.tidyEveryHours > 0 ? setInterval(askTidy, 3600_000) : undefined;
+  tidyTimer?.unref();
+  if (tidyTimer) void askTidy();
+
   return {
     heartbeatId: heartbeat.id,
     /** Stops taking jobs, lets the ones in hand finish (up to `timeoutMs`), then releases the rest. */
     async stop(timeoutMs = 20_000) {
+      clearInterval(tidyTimer);
       const loopDone = imageLoop.stop();
       for (const id of workerIds) await boss.offWork({ id } as unknown as string).catch(() => {});
       // Past the grace period, ask long-running steps to give up so the job is released for retry.

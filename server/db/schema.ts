@@ -468,3 +468,20 @@ export const offsiteCopies = pgTable(
   },
   (t) => [index("offsite_copies_status").on(t.status)],
 );
+
+// ---------------------------------------------------------------------------------------------
+// Library tidies: each removal of left-over library files (by an admin, or by the worker's regular
+// tidy, which waits PLATEN_TIDY_EVERY_HOURS from the last one of either).
+// ---------------------------------------------------------------------------------------------
+export const libraryTidies = pgTable(
+  "library_tidies",
+  {
+    id: bigint("id", { mode: "number" }).primaryKey().generatedAlwaysAsIdentity(),
+    at: timestamp("at", { withTimezone: true }).notNull().defaultNow(),
+    /** Who asked; null for the worker's regular tidy. */
+    actorId: uuid("actor_id").references(() => users.id, { onDelete: "set null" }),
+    removed: integer("removed").notNull(),
+    bytes: bigint("bytes", { mode: "number" }).notNull(),
+  },
+  (t) => [index("library_tidies_at").on(t.at)],
+);

@@ -15,6 +15,8 @@ export const QUEUES = {
   notice: "mail-notice",
   /** Hands one outbox message to the mail server. */
   mail: "mail-send",
+  /** Removes library files nothing names any more (once a day, by whichever worker asks first). */
+  libraryTidy: "library-tidy",
 } as const;
 
 export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Omit<PgBoss.Queue, "name">> {
@@ -70,6 +72,12 @@ export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Om
       retryLimit: Math.max(cfg.jobRetryLimit, 5),
       retryDelay: 2,
       retryBackoff: true,
+      expireInSeconds: cfg.jobExpireSeconds,
+    },
+    // A missed day is made up by the next: no retries, and never two at once.
+    [QUEUES.libraryTidy]: {
+      policy: "singleton",
+      retryLimit: 0,
       expireInSeconds: cfg.jobExpireSeconds,
     },
     [QUEUES.offsiteCheck]: {

@@ -20,7 +20,7 @@ import {
 
 /** Long edge of the cached reduced copy a preview is made from, in pixels. */
 const BASE_EDGE = 1600;
-const baseKey = (id: string, revision: number) => `previews/fragments/${id}-r${revision}.png`;
+export const previewBaseKey = (id: string, revision: number) => `previews/fragments/${id}-r${revision}.png`;
 
 /**
  * The upright piece at a reduced size, cut from the original once per fragment revision and kept,
@@ -31,7 +31,7 @@ async function previewBase(
   f: typeof fragments.$inferSelect,
   scan: typeof scans.$inferSelect,
 ): Promise<{ key: string; dpi: number }> {
-  const key = baseKey(f.id, f.revision);
+  const key = previewBaseKey(f.id, f.revision);
   const long = Math.max(f.rect.width, f.rect.height);
   const s = Math.min(1, BASE_EDGE / long);
   const dpi = (scan.dpiX ?? 300) * s;

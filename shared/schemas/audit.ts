@@ -53,6 +53,7 @@ export const AUDIT_ACTIONS = {
   "offsite.check": "Re-checked an off-site copy",
   "offsite.copy": "Copied a master off-site again",
   "offsite.check_all": "Re-checked every off-site copy",
+  "library.tidy": "Tidied away left-over library files",
 } as const satisfies Record<string, string>;
 export type AuditAction = keyof typeof AUDIT_ACTIONS;
 export const AUDIT_ACTION_NAMES = Object.keys(AUDIT_ACTIONS) as AuditAction[];

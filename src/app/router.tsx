@@ -2,6 +2,7 @@ import { createBrowserRouter } from "react-router-dom";
 import { paths } from "../config/paths";
 import { ProtectedLayout } from "./layout/protected-layout";
 import { AuditRoute } from "./routes/audit";
+import { LibraryRoute } from "./routes/library";
 import { BatchRoute } from "./routes/batch";
 import { BatchNewRoute } from "./routes/batch-new";
 import { BatchesRoute } from "./routes/batches";
@@ -49,6 +50,7 @@ export function createRouter() {
         { path: paths.account, element: <AccountRoute /> },
         { path: paths.mailbox, element: <MailboxRoute /> },
         { path: paths.audit, element: <AuditRoute /> },
+        { path: paths.library, element: <LibraryRoute /> },
         { path: paths.presets, element: <PresetsRoute /> },
         { path: paths.presetNew, element: <PresetNewRoute /> },
         { path: "/presets/:id", element: <PresetRoute /> },

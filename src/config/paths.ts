@@ -23,6 +23,8 @@ export const paths = {
   /** Apply a recipe to fragments chosen on a grid. */
   recipeApply: (id: string) => `/recipes/${encodeURIComponent(id)}/apply`,
   users: "/users",
+  /** Where the files are, and tidying away the left-over ones (admins). */
+  library: "/library",
   /** The audit trail (admins); ?event= opens one event beside the list. */
   audit: "/audit",
   /** Output presets by kind, and the editor of one (a new one takes ?kind= or ?from=). */

@@ -50,6 +50,8 @@ export async function testEnvironment(extra: Record<string, string> = {}) {
     PLATEN_INBOX_STABLE_MS: "400",
     PLATEN_INBOX_POLL_MS: "50",
     PLATEN_MAINTENANCE_SECONDS: "1",
+    // The daily tidy would run at a random moment of a test; the tidy test asks for it itself.
+    PLATEN_TIDY_EVERY_HOURS: "0",
     PLATEN_SESSION_SECRET: "test-secret-test-secret-test-secret-0123",
     PLATEN_DEMO: "0",
     PLATEN_BCRYPT_COST: "4",

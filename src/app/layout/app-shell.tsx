@@ -46,6 +46,7 @@ const USERS_ICON = icon(
 
 const MAILBOX_ICON = icon("M3 5.5h14v9H3zM3 6l7 5 7-5");
 const AUDIT_ICON = icon("M5 3.5h10v13H5zM7.5 7h5M7.5 10h5M7.5 13h3");
+const LIBRARY_ICON = icon("M3.5 4.5h4l1.5 2h7.5v9h-13zM3.5 8.5h13");
 
 /** The frame around every signed-in page: a rail with the studio, the screens and who is here. */
 export function AppShell({ user, children }: { user: SessionUser; children: ReactNode }) {
@@ -68,6 +69,7 @@ export function AppShell({ user, children }: { user: SessionUser; children: Reac
     { to: paths.batches, label: "Batches", icon: BATCHES_ICON },
     ...(hasRole(user.role, "admin") ? [{ to: paths.users, label: "Users", icon: USERS_ICON }] : []),
     ...(hasRole(user.role, "admin") ? [{ to: paths.audit, label: "Audit trail", icon: AUDIT_ICON }] : []),
+    ...(hasRole(user.role, "admin") ? [{ to: paths.library, label: "Library", icon: LIBRARY_ICON }] : []),
     ...(mailbox.data ? [{ to: paths.mailbox, label: "Mailbox", icon: MAILBOX_ICON }] : []),
   ];
 

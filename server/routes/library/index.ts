@@ -1,0 +1,43 @@
+import { Router } from "express";
+import { sql } from "drizzle-orm";
+import { API } from "../../../shared/api";
+import { handle } from "../define";
+import type { AppDeps } from "../../app";
+import { lastTidy, runTidy, tidyLibrary } from "../../services/library-tidy";
+import { recordAudit } from "../../services/audit";
+import { formatBytes } from "../../../shared/units";
+import type { LibraryOverview } from "../../../shared/schemas/library";
+
+/** The library screen's data and its one action: tidy away the files nothing names any more. */
+export function libraryRouter(deps: AppDeps): Router {
+  const router = Router();
+  const { db } = deps.database;
+  handle(router, API.library, async (): Promise<LibraryOverview> => {
+    let offsite: LibraryOverview["offsite"] = null;
+    if (deps.offsite) {
+      const { rows } = await db.execute<{ status: string; n: number }>(sql`select status, count(*)::int as n from offsite_copies group by status`);
+      offsite = { target: deps.offsite.description.replace(/^the bucket /, ""), counts: Object.fromEntries(rows.map((r) => [r.status, r.n])) };
+    }
+    return {
+      library: { kind: deps.library.kind, description: deps.library.description },
+      offsite,
+      tidy: await tidyLibrary(db, deps.library, { dryRun: true }),
+      lastTidy: await lastTidy(db),
+      tidyEveryHours: deps.config.tidyEveryHours,
+    };
+  });
+  handle(router, API.libraryTidy, async ({ body, req, user }) => {
+    const report = body.dryRun ? await tidyLibrary(db, deps.library, { dryRun: true }) : await runTidy(db, deps.library, user.id);
+    req.log.info({ removed: report.removed, bytes: report.removedBytes, dryRun: report.dryRun }, "library tidied");
+    if (!report.dryRun)
+      await recordAudit(db, {
+        action: "library.tidy",
+        subjectType: "studio",
+        subjectId: null,
+        summary: `Tidied the library: removed ${report.removed} left-over ${report.removed === 1 ? "file" : "files"} (${formatBytes(report.removedBytes)})`,
+        after: { removed: report.removed, bytes: report.removedBytes },
+      });
+    return report;
+  });
+  return router;
+}

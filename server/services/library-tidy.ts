@@ -1,0 +1,113 @@
+import { desc, eq, sql } from "drizzle-orm";
+import type { Db } from "../db";
+import { libraryTidies, users } from "../db/schema";
+import type { Storage } from "../storage/storage";
+import { isStorageError } from "../storage/storage";
+import { fragmentThumbKey } from "./fragment-thumbs";
+import { previewBaseKey } from "./recipe-preview";
+import type { LastTidy, TidyFolder, TidyReport } from "../../shared/schemas/library";
+
+/**
+ * Folders of files made from others: a file here that no row names is left over (a merge taken
+ * back, a fragment edited to a new revision, a re-split) and can go. Originals are not among
+ * them: they are the studio's archive, never removed by the program.
+ */
+export const DERIVED_FOLDERS = ["previews/", "thumbs/", "masters/", "web/", "outputs/"] as const;
+
+/** How long a file no row names is kept before a tidy removes it, by default. */
+export const TIDY_GRACE_HOURS = 24;
+
+/**
+ * Every key the database names now: scans' originals, previews and thumbnails; masters, web
+ * copies and outputs; and the cached small copies of each fragment's current revision.
+ */
+async function referencedKeys(db: Db): Promise<Set<string>> {
+  const keys = new Set<string>();
+  const scans = await db.execute<{ original_key: string; preview_key: string | null; thumb_key: string | null }>(
+    sql`select original_key, preview_key, thumb_key from scans`,
+  );
+  for (const r of scans.rows) for (const k of [r.original_key, r.preview_key, r.thumb_key]) if (k) keys.add(k);
+  const outs = await db.execute<{ key: string }>(sql`select key from outputs`);
+  for (const r of outs.rows) keys.add(r.key);
+  const frags = await db.execute<{ id: string; revision: number }>(sql`select id, revision from fragments`);
+  for (const r of frags.rows) {
+    keys.add(fragmentThumbKey(r.id, r.revision));
+    keys.add(previewBaseKey(r.id, r.revision));
+  }
+  return keys;
+}
+
+/**
+ * Finds the library's left-over files and, unless `dryRun`, removes those older than the grace
+ * period (a file is written a moment before the row that names it, so a young one may be in
+ * flight). Listing comes before reading what the rows name: a file that gains its row in between
+ * is named by then. Originals no row names are counted, never removed.
+ */
+export async function tidyLibrary(
+  db: Db,
+  library: Storage,
+  opts: { dryRun: boolean; graceHours?: number; now?: Date },
+): Promise<TidyReport> {
+  const graceHours = opts.graceHours ?? TIDY_GRACE_HOURS;
+  const cutoff = (opts.now ?? new Date()).getTime() - graceHours * 3600_000;
+  const listed = new Map<string, string[]>();
+  for (const folder of [...DERIVED_FOLDERS, "originals/"]) listed.set(folder, await library.list(folder));
+  const named = await referencedKeys(db);
+
+  const folders: TidyFolder[] = [];
+  for (const [folder, keys] of listed) {
+    const row: TidyFolder = { folder, files: keys.length, leftOver: 0, leftOverBytes: 0, removed: 0, removedBytes: 0, tooYoung: 0 };
+    for (const key of keys) {
+      if (named.has(key)) continue;
+      let stat;
+      try {
+        stat = await library.stat(key);
+      } catch (err) {
+        if (isStorageError(err, "missing")) continue; // gone since the listing
+        throw err;
+      }
+      row.leftOver++;
+      row.leftOverBytes += stat.size;
+      if (folder === "originals/") continue;
+      if (stat.modified.getTime() > cutoff) {
+        row.tooYoung++;
+        continue;
+      }
+      if (!opts.dryRun) await library.remove(key);
+      row.removed++;
+      row.removedBytes += stat.size;
+    }
+    folders.push(row);
+  }
+  return {
+    dryRun: opts.dryRun,
+    graceHours,
+    folders,
+    removed: folders.reduce((n, f) => n + f.removed, 0),
+    removedBytes: folders.reduce((n, f) => n + f.removedBytes, 0),
+  };
+}
+
+/** Tidies for real and keeps a record of it: by `actorId`, or by the worker's regular tidy (null). */
+export async function runTidy(db: Db, library: Storage, actorId: string | null): Promise<TidyReport> {
+  const report = await tidyLibrary(db, library, { dryRun: false });
+  await db.insert(libraryTidies).values({ actorId, removed: report.removed, bytes: report.removedBytes });
+  return report;
+}
+
+/** The last tidy, by whom (null: the worker), for the library screen. */
+export async function lastTidy(db: Db): Promise<LastTidy | null> {
+  const [row] = await db
+    .select({ at: libraryTidies.at, removed: libraryTidies.removed, bytes: libraryTidies.bytes, by: users.name })
+    .from(libraryTidies)
+    .leftJoin(users, eq(users.id, libraryTidies.actorId))
+    .orderBy(desc(libraryTidies.at))
+    .limit(1);
+  return row ? { at: row.at.toISOString(), removed: row.removed, bytes: row.bytes, by: row.by ?? null } : null;
+}
+
+/** Whether the regular tidy is due: none yet, or the last (of anyone's) `everyHours` ago or more. */
+export async function regularTidyDue(db: Db, everyHours: number, now = new Date()): Promise<boolean> {
+  const last = await lastTidy(db);
+  return !last || now.getTime() - Date.parse(last.at) >= everyHours * 3600_000;
+}

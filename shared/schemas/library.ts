@@ -1,0 +1,50 @@
+import { z } from "zod";
+
+/** One library folder in a tidy: its files, those no row names, and what became of them. */
+export const tidyFolderSchema = z.object({
+  folder: z.string(),
+  files: z.number().int(),
+  /** Files no scan, fragment or output names. */
+  leftOver: z.number().int(),
+  leftOverBytes: z.number(),
+  /** Removed (or, in a dry run, that would be). Originals: always 0. */
+  removed: z.number().int(),
+  removedBytes: z.number(),
+  /** Left-over files younger than the grace period: kept, they may be in the middle of being made. */
+  tooYoung: z.number().int(),
+});
+export type TidyFolder = z.infer<typeof tidyFolderSchema>;
+
+export const tidyReportSchema = z.object({
+  dryRun: z.boolean(),
+  graceHours: z.number(),
+  folders: z.array(tidyFolderSchema),
+  removed: z.number().int(),
+  removedBytes: z.number(),
+});
+export type TidyReport = z.infer<typeof tidyReportSchema>;
+
+/** The body of "tidy now": `dryRun` only reports. */
+export const tidyLibraryBody = z.object({ dryRun: z.boolean().default(false) }).strict();
+
+/** The last tidy that removed files for real. */
+export const lastTidySchema = z.object({
+  at: z.string(),
+  removed: z.number().int(),
+  bytes: z.number(),
+  /** The admin who asked; null for the worker's regular tidy. */
+  by: z.string().nullable(),
+});
+export type LastTidy = z.infer<typeof lastTidySchema>;
+
+/** GET /api/library: where the library and its off-site copy are, and what a tidy would do now. */
+export const libraryOverviewSchema = z.object({
+  library: z.object({ kind: z.enum(["local", "s3"]), description: z.string() }),
+  /** Off-site copies of masters, by status; null when no off-site bucket is set. */
+  offsite: z.object({ target: z.string(), counts: z.record(z.string(), z.number()) }).nullable(),
+  tidy: tidyReportSchema,
+  lastTidy: lastTidySchema.nullable(),
+  /** Hours between the worker's regular tidies; 0 when only admins tidy. */
+  tidyEveryHours: z.number(),
+});
+export type LibraryOverview = z.infer<typeof libraryOverviewSchema>;

@@ -1,0 +1,183 @@
+import { useState } from "react";
+import { Ago } from "../../components/ago";
+import { Button, Spinner } from "../../components/button";
+import { ConfirmDialog } from "../../components/confirm-dialog";
+import { NotAllowed } from "../../components/not-allowed";
+import { LoadError, Notice } from "../../components/notice";
+import { PageHeader, Panel } from "../../components/panel";
+import { useCheckAllOffsite, useLibrary, useTidyLibrary } from "../../features/library/api/library";
+import { FolderBars } from "../../features/library/components/folder-bars";
+import { useHasRole, useSessionUser } from "../../lib/authorization";
+import { toast } from "../../lib/toast";
+import { formatBytes } from "../../../shared/units";
+import type { LibraryOverview } from "../../../shared/schemas/library";
+
+export function LibraryRoute() {
+  const me = useSessionUser();
+  const isAdmin = useHasRole("admin");
+  if (!isAdmin) return <NotAllowed needed="admin" current={me.role} />;
+  return <LibraryPage />;
+}
+
+const plural = (n: number, one: string, many: string) => `${n} ${n === 1 ? one : many}`;
+
+function LibraryPage() {
+  const library = useLibrary();
+  return (
+    <>
+      <title>Library · Platen</title>
+      <PageHeader
+        title="Library"
+        description="Where the studio's files are kept, and the files nothing needs any more."
+      />
+      {library.isPending ? (
+        <p className="flex items-center gap-2 text-sm text-ink-muted">
+          <Spinner /> Looking through the library…
+        </p>
+      ) : library.isError ? (
+        <LoadError error={library.error} onRetry={() => void library.refetch()} />
+      ) : (
+        <div className="grid grid-cols-1 items-start gap-6 xl:grid-cols-[minmax(0,2fr)_minmax(20rem,1fr)]">
+          <LeftOvers overview={library.data} />
+          <div className="flex flex-col gap-6">
+            <Whereabouts overview={library.data} />
+            {library.data.offsite && <Offsite offsite={library.data.offsite} />}
+          </div>
+        </div>
+      )}
+    </>
+  );
+}
+
+function LeftOvers({ overview }: { overview: LibraryOverview }) {
+  const tidy = useTidyLibrary();
+  const [asking, setAsking] = useState(false);
+  const { tidy: report, lastTidy, tidyEveryHours } = overview;
+  const young = report.folders.reduce((n, f) => n + f.tooYoung, 0);
+  const originals = report.folders.find((f) => f.folder === "originals/");
+  const run = () =>
+    tidy.mutate(undefined, {
+      onSuccess: (done) => {
+        setAsking(false);
+        toast.success(`Removed ${plural(done.removed, "left-over file", "left-over files")} (${formatBytes(done.removedBytes)}).`);
+      },
+      onError: () => setAsking(false),
+    });
+  return (
+    <Panel
+      title="Left-over files"
+      titleId="leftovers-title"
+      actions={
+        <Button variant="danger" size="sm" disabled={report.removed === 0} onClick={() => setAsking(true)}>
+          Tidy now
+        </Button>
+      }
+    >
+      <p className="text-sm text-ink-soft">
+        Files that no scan, fragment or output names any more: the small pictures of a fragment before its last
+        edit, the master of a merge taken back, copies a stopped process left behind.
+      </p>
+      <FolderBars folders={report.folders} />
+      <div className="mt-4 flex flex-col gap-2 text-sm" aria-live="polite">
+        <p className="text-ink" data-testid="tidy-summary">
+          {report.removed > 0
+            ? `A tidy now removes ${plural(report.removed, "file", "files")} (${formatBytes(report.removedBytes)}).`
+            : "Nothing to tidy: every file older than a day is in use."}
+        </p>
+        {young > 0 && (
+          <p className="text-ink-muted">
+            {plural(young, "left-over file is", "left-over files are")} younger than {report.graceHours} hours and
+            kept for now: a file is written a moment before the record that names it.
+          </p>
+        )}
+        {originals && originals.leftOver > 0 && (
+          <p className="text-ink-muted">
+            {plural(originals.leftOver, "original", "originals")} ({formatBytes(originals.leftOverBytes)}) that no scan
+            names {originals.leftOver === 1 ? "stays" : "stay"}: originals are never removed by the program.
+          </p>
+        )}
+        <p className="text-ink-muted">
+          {lastTidy ? (
+            <>
+              Last tidied <Ago iso={lastTidy.at} /> by {lastTidy.by ?? "the worker"}:{" "}
+              {plural(lastTidy.removed, "file", "files")}, {formatBytes(lastTidy.bytes)}.{" "}
+            </>
+          ) : (
+            "Not tidied yet. "
+          )}
+          {tidyEveryHours > 0
+            ? `The worker tidies every ${plural(tidyEveryHours, "hour", "hours")} by itself.`
+            : "The worker does not tidy by itself (PLATEN_TIDY_EVERY_HOURS is 0)."}
+        </p>
+      </div>
+      <ConfirmDialog
+        open={asking}
+        title="Tidy the library?"
+        confirmLabel={`Remove ${plural(report.removed, "file", "files")}`}
+        busy={tidy.isPending}
+        onConfirm={run}
+        onCancel={() => setAsking(false)}
+      >
+        {plural(report.removed, "left-over file", "left-over files")} ({formatBytes(report.removedBytes)}) will be
+        removed from the library. No scan, fragment or output uses them, and originals are never touched, but removed
+        files cannot be brought back.
+      </ConfirmDialog>
+    </Panel>
+  );
+}
+
+function Whereabouts({ overview }: { overview: LibraryOverview }) {
+  return (
+    <Panel title="Where the files are" titleId="where-title">
+      <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-2 text-sm">
+        <dt className="text-ink-muted">Library</dt>
+        <dd className="figure break-all text-ink">{overview.library.description.replace(/^\w/, (c) => c.toUpperCase())}</dd>
+        <dt className="text-ink-muted">Kept as</dt>
+        <dd className="text-ink">{overview.library.kind === "s3" ? "objects in an S3 bucket" : "files in a folder on this machine"}</dd>
+        <dt className="text-ink-muted">Off-site copy</dt>
+        <dd className="figure break-all text-ink">{overview.offsite ? overview.offsite.target : "off"}</dd>
+      </dl>
+    </Panel>
+  );
+}
+
+const OFFSITE_WORDS: Record<string, string> = { copied: "copied", pending: "waiting to be copied", failed: "failed" };
+
+function Offsite({ offsite }: { offsite: NonNullable<LibraryOverview["offsite"]> }) {
+  const checkAll = useCheckAllOffsite();
+  const failed = offsite.counts.failed ?? 0;
+  return (
+    <Panel
+      title="Off-site copies of masters"
+      titleId="offsite-title"
+      actions={
+        <Button
+          size="sm"
+          busy={checkAll.isPending}
+          onClick={() =>
+            checkAll.mutate(undefined, {
+              onSuccess: ({ queued }) => toast.info(`Re-checking ${plural(queued, "copy", "copies")} against their masters.`),
+            })
+          }
+        >
+          Re-check every copy
+        </Button>
+      }
+    >
+      <ul className="flex flex-col gap-1 text-sm">
+        {["copied", "pending", "failed"].map((s) => (
+          <li key={s} className="flex justify-between gap-4">
+            <span className="text-ink-soft">{OFFSITE_WORDS[s]}</span>
+            <span className="figure text-ink">{offsite.counts[s] ?? 0}</span>
+          </li>
+        ))}
+      </ul>
+      {failed > 0 && (
+        <Notice tone="caution" className="mt-3">
+          {plural(failed, "master has", "masters have")} no good off-site copy. Each fragment's page says why and can
+          copy it again.
+        </Notice>
+      )}
+    </Panel>
+  );
+}

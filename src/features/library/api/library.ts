@@ -1,0 +1,34 @@
+import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { z } from "zod";
+import { API } from "../../../../shared/api";
+import { libraryOverviewSchema, tidyReportSchema } from "../../../../shared/schemas/library";
+import { apiRequest } from "../../../lib/api-client";
+
+export const libraryKeys = { overview: ["library", "overview"] as const };
+
+/** Where the library is, its off-site copies, and what a tidy would remove now (a dry run). */
+export const libraryQueryOptions = () =>
+  queryOptions({
+    queryKey: libraryKeys.overview,
+    queryFn: ({ signal }) => apiRequest(API.library, { schema: libraryOverviewSchema, signal }),
+  });
+
+export function useLibrary() {
+  return useQuery(libraryQueryOptions());
+}
+
+export function useTidyLibrary() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: () => apiRequest(API.libraryTidy, { body: { dryRun: false }, schema: tidyReportSchema }),
+    onSettled: () => queryClient.invalidateQueries({ queryKey: libraryKeys.overview }),
+  });
+}
+
+export function useCheckAllOffsite() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: () => apiRequest(API.offsiteCheckAll, { schema: z.object({ queued: z.number() }) }),
+    onSettled: () => queryClient.invalidateQueries({ queryKey: libraryKeys.overview }),
+  });
+}

@@ -1,0 +1,184 @@
+import crypto from "node:crypto";
+import fs from "node:fs/promises";
+import path from "node:path";
+import sharp from "sharp";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import supertest from "supertest";
+import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import type { Fragment } from "../shared/schemas/fragments";
+import type { LibraryOverview, TidyReport } from "../shared/schemas/library";
+import { tidyLibrary } from "../server/services/library-tidy";
+
+let stack: Stack;
+let admin: supertest.Agent;
+let operator: supertest.Agent;
+let scanId: string;
+let fragments: Fragment[];
+
+/** Two pieces on a pale lid at 300 DPI (invented test data). */
+async function scan(): Promise<Buffer> {
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1300" height="800">
+    <rect width="100%" height="100%" fill="#f6f6f3"/>
+    <rect x="100" y="100" width="600" height="450" fill="#2e86c1"/>
+    <rect x="850" y="120" width="300" height="400" fill="#c0392b"/>
+  </svg>`;
+  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+}
+
+const DAY = 24 * 3600_000;
+
+/** Sets a library file's modification time `ms` in the past. */
+async function age(key: string, ms: number) {
+  const when = new Date(Date.now() - ms);
+  await fs.utimes(stack.libraryPath(key), when, when);
+}
+
+/** Writes a file straight into the library folder, as a stopped process might have left it. */
+async function plant(key: string, bytes: Buffer) {
+  const file = stack.libraryPath(key);
+  await fs.mkdir(path.dirname(file), { recursive: true });
+  await fs.writeFile(file, bytes);
+}
+
+/** Every key the database names: what a tidy must never touch. */
+async function namedKeys(): Promise<string[]> {
+  const { rows } = await stack.database.pool.query(
+    `select original_key as k from scans union select preview_key from scans where preview_key is not null
+     union select thumb_key from scans where thumb_key is not null union select key from outputs`,
+  );
+  return rows.map((r) => r.k as string);
+}
+
+const folder = (r: TidyReport, name: string) => r.folders.find((f) => f.folder === name)!;
+
+beforeAll(async () => {
+  stack = await startStack({ watcher: false });
+  admin = await userAgent(stack, "admin");
+  operator = await userAgent(stack, "operator");
+  const file = path.join(stack.inbox, "tidy-bed.tif");
+  await fs.writeFile(file, await scan());
+  scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId;
+  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
+  fragments = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments;
+}, 90_000);
+afterAll(async () => {
+  await stack?.stop();
+});
+
+describe("the library tidy", () => {
+  const planted = {
+    master: `masters/${crypto.randomUUID()}.tif`,
+    output: `outputs/${crypto.randomUUID()}/${crypto.randomUUID()}-r1-none.jpg`,
+    young: `outputs/${crypto.randomUUID()}/${crypto.randomUUID()}-r1-none.jpg`,
+    original: `originals/00/${"0".repeat(64)}.tif`,
+  };
+  let staleThumb: string;
+
+  it("finds the files an edit and a stopped process left, and only those", async () => {
+    // A fragment's small picture is cached per revision: an edit leaves the old one behind.
+    const f = fragments[0]!;
+    expect((await operator.get(`/api/fragments/${f.id}/thumb`)).status).toBe(200);
+    staleThumb = `thumbs/fragments/${f.id}-r${f.revision}.jpg`;
+    expect(await stack.library.exists(staleThumb)).toBe(true);
+    const edit = await operator.patch(`/api/fragments/${f.id}`).send({ rect: { ...f.rect, width: f.rect.width - 20 } });
+    expect(edit.status).toBe(200);
+    expect((await operator.get(`/api/fragments/${f.id}/thumb`)).status).toBe(200);
+    // Masters and web copies for both pieces.
+    await operator.post(`/api/scans/${scanId}/approve-remaining`);
+    await waitFor("the masters", async () => {
+      const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+      return list.every((x) => x.renderState === "done") ? list : null;
+    }, 60_000);
+    await plant(planted.master, Buffer.from("II*\0left over"));
+    await plant(planted.output, Buffer.alloc(1000, 1));
+    await plant(planted.young, Buffer.alloc(10, 1));
+    await plant(planted.original, Buffer.from("II*\0an original nothing names"));
+    // Everything is two days old but the young one, named or not: age alone removes nothing.
+    for (const k of [...(await namedKeys()), staleThumb, planted.master, planted.output, planted.original]) await age(k, 2 * DAY);
+    for (const k of await stack.library.list("thumbs/fragments/")) await age(k, 2 * DAY);
+
+    const res = await admin.get("/api/library");
+    expect(res.status).toBe(200);
+    const overview = res.body as LibraryOverview;
+    expect(overview.library.kind).toBe("local");
+    expect(overview.offsite).toBeNull();
+    const r = overview.tidy;
+    expect(r.dryRun).toBe(true);
+    expect(r.graceHours).toBe(24);
+    expect(folder(r, "thumbs/")).toMatchObject({ leftOver: 1, removed: 1, tooYoung: 0 });
+    expect(folder(r, "masters/")).toMatchObject({ files: 3, leftOver: 1, removed: 1 });
+    expect(folder(r, "outputs/")).toMatchObject({ leftOver: 2, removed: 1, removedBytes: 1000, tooYoung: 1 });
+    expect(folder(r, "web/")).toMatchObject({ files: 2, leftOver: 0 });
+    expect(folder(r, "originals/")).toMatchObject({ files: 2, leftOver: 1, removed: 0 });
+    expect(r.removed).toBe(3);
+    // A dry run removes nothing.
+    for (const k of [staleThumb, planted.master, planted.output]) expect(await stack.library.exists(k)).toBe(true);
+  });
+
+  it("is for admins only", async () => {
+    expect((await operator.get("/api/library")).status).toBe(403);
+    expect((await operator.post("/api/library/tidy").send({})).status).toBe(403);
+    expect((await admin.post("/api/library/tidy").send({ dryRun: "yes" })).status).toBe(400);
+  });
+
+  it("removes the old left-overs, keeps every named file, the young one and the original, and records it", async () => {
+    const before = await namedKeys();
+    const res = await admin.post("/api/library/tidy").send({});
+    expect(res.status).toBe(200);
+    expect(res.body).toMatchObject({ dryRun: false, removed: 3 });
+    for (const k of [staleThumb, planted.master, planted.output]) expect(await stack.library.exists(k)).toBe(false);
+    for (const k of [planted.young, planted.original]) expect(await stack.library.exists(k)).toBe(true);
+    for (const k of before) expect(await stack.library.exists(k), k).toBe(true);
+    // The current thumbnails stay.
+    for (const f of (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[])
+      expect(await stack.library.exists(`thumbs/fragments/${f.id}-r${f.revision}.jpg`) || f.id !== fragments[0]!.id).toBe(true);
+    const audit = (await admin.get("/api/audit").query({ action: "library.tidy" })).body.events;
+    expect(audit[0].summary).toMatch(/removed 3 left-over files/);
+    // Nothing is left to do now but the young file and the original.
+    const again = (await admin.get("/api/library")).body.tidy as TidyReport;
+    expect(again.removed).toBe(0);
+    expect(folder(again, "outputs/").tooYoung).toBe(1);
+  });
+
+  it("treats a file as young by the grace period given", async () => {
+    const later = await tidyLibrary(stack.db, stack.library, { dryRun: true, now: new Date(Date.now() + 2 * DAY) });
+    expect(folder(later, "outputs/")).toMatchObject({ removed: 1, tooYoung: 0 });
+    const strict = await tidyLibrary(stack.db, stack.library, { dryRun: true, graceHours: 24 * 365 });
+    expect(strict.removed).toBe(0);
+  });
+});
+
+describe("the worker's regular tidy", () => {
+  it("runs on its own when PLATEN_TIDY_EVERY_HOURS is set, waits that long for the next, and says so in the audit trail", async () => {
+    const own = await startStack({ watcher: false, server: false, worker: false, env: { PLATEN_TIDY_EVERY_HOURS: "24" } });
+    const { startWorker } = await import("../worker/worker");
+    const { logger } = await import("../server/logger");
+    let worker: Awaited<ReturnType<typeof startWorker>> | undefined;
+    try {
+      const key = `masters/${crypto.randomUUID()}.tif`;
+      const file = own.libraryPath(key);
+      await fs.mkdir(path.dirname(file), { recursive: true });
+      await fs.writeFile(file, "left over");
+      const when = new Date(Date.now() - 2 * DAY);
+      await fs.utimes(file, when, when);
+      // The worker asks for the tidy as it starts, and runs it.
+      worker = await startWorker({ config: own.cfg, database: own.database, boss: own.boss, library: own.library, log: logger.child({ test: true }) });
+      await waitFor("the regular tidy", async () => ((await own.library.exists(key)) ? null : true), 30_000);
+      const { rows } = await own.database.pool.query("select actor_id, summary from audit_events where action = 'library.tidy'");
+      expect(rows).toHaveLength(1);
+      expect(rows[0].actor_id).toBeNull();
+      expect(rows[0].summary).toMatch(/^The worker tidied the library: removed 1 left-over file /);
+      // Asked again within the day (as the next hour's ask would), it leaves a new left-over alone.
+      const next = `masters/${crypto.randomUUID()}.tif`;
+      await fs.writeFile(own.libraryPath(next), "left over too");
+      await fs.utimes(own.libraryPath(next), when, when);
+      const id = await own.boss.send("library-tidy", {});
+      await waitFor("the second ask to be handled", async () => ((await own.boss.getJobById("library-tidy", id!))?.state === "completed" ? true : null), 30_000);
+      expect(await own.library.exists(next)).toBe(true);
+      expect((await own.database.pool.query("select count(*)::int as n from library_tidies")).rows[0].n).toBe(1);
+    } finally {
+      await worker?.stop(2000);
+      await own.stop();
+    }
+  }, 60_000);
+});
