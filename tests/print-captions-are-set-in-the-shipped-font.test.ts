@@ -399,6 +399,112 @@ describe("PDF captions", () => {
   });
 });
 
+/**
+ * Every glyph a one-page PDF shows, where it is drawn: the text matrix (Tm), the font's W widths,
+ * the TJ numbers (−n / 1000 of the size each) and the text rise (Ts), per ISO 32000-1 §9.3.7,
+ * §9.4.2–9.4.4; each with its outline box from the embedded font program (§9.7.4.2: Identity-H
+ * codes are glyph ids of the program), in points.
+ */
+async function placedGlyphs(bytes: Uint8Array) {
+  const pdf = await readPdf(bytes);
+  const doc = await PDFDocument.load(bytes);
+  const contents = doc.getPage(0).node.Contents();
+  const parts = contents instanceof PDFArray ? contents.asArray().map((r) => doc.context.lookup(r)) : [contents];
+  const ops = parts.map((p) => Buffer.from(streamBytes(p)).toString("latin1")).join("\n");
+  const programs = new Map<string, ReturnType<typeof fontkit.create>>();
+  const out: { text: string; x: number; y: number; box: { minX: number; maxX: number; minY: number; maxY: number } }[] = [];
+  let [font, size, tx, ty, rise] = ["", 0, 0, 0, 0];
+  const stack: string[] = [];
+  const show = (hex: string) => {
+    const f = pdf.fonts.get(font)!;
+    if (!programs.has(font)) programs.set(font, fontkit.create(f.program!));
+    const program = programs.get(font)!;
+    for (const h of hex.match(/.{4}/g) ?? []) {
+      const code = parseInt(h, 16);
+      const b = program.getGlyph(code).bbox;
+      const k = size / program.unitsPerEm;
+      out.push({ text: f.toUnicode.get(code) ?? "\uFFFD", x: tx, y: ty + rise, box: { minX: tx + b.minX * k, maxX: tx + b.maxX * k, minY: ty + rise + b.minY * k, maxY: ty + rise + b.maxY * k } });
+      tx += (f.widths.get(code)! / 1000) * size;
+    }
+  };
+  for (const [token] of ops.matchAll(/\[[^\]]*\]|<[0-9A-Fa-f]*>|\/[^\s/[\]<>()]+|-?[\d.]+|[A-Za-z'"*]+/g)) {
+    if (!/^[A-Za-z'"*]+$/.test(token)) {
+      stack.push(token);
+      continue;
+    }
+    const args = stack.splice(0);
+    if (token === "Tf") [font, size] = [args[0]!.slice(1), Number(args[1])];
+    else if (token === "Tm") [tx, ty] = [Number(args[4]), Number(args[5])];
+    else if (token === "Ts") rise = Number(args[0]);
+    else if (token === "Tj") show(args[0]!.slice(1, -1));
+    else if (token === "TJ") {
+      for (const [, hex, n] of args[0]!.matchAll(/<([0-9A-Fa-f]*)>|(-?[\d.]+)/g)) {
+        if (hex !== undefined) show(hex);
+        else tx -= (Number(n) / 1000) * size;
+      }
+    }
+  }
+  return out;
+}
+
+describe("PDF captions with combining marks", () => {
+  // Combining marks with no precomposed letter (so NFC keeps them apart): x + macron, and a macron
+  // stacked over è. The font's mark positioning puts them over their letters; HarfBuzz (through
+  // Pango, sharp's text input, setting the same Inter) is the reference for where.
+  const title = "x\u0304 \u00e8\u0304";
+  let glyphs: Awaited<ReturnType<typeof placedGlyphs>>;
+  let ttf: string;
+  beforeAll(async () => {
+    await renderOutput({ master: piece, dpi: 300, title }, { ...WITH_CAPTION, output: "pdf" }, { path: at("marks.pdf") });
+    glyphs = await placedGlyphs(fs.readFileSync(at("marks.pdf")));
+    ttf = at("inter-latin-400-marks.ttf");
+    fs.writeFileSync(ttf, woffToSfnt(fs.readFileSync(captionFontPaths()[0]!)));
+  });
+  /** Rows of ink of text set by Pango at 72 pt and 300 DPI (an em of 300 px), as bands from the top. */
+  const pangoBands = async (text: string) => {
+    const { data, info } = await sharp({ text: { text, fontfile: ttf, font: "Inter 72", dpi: 300, rgba: true } }).extractChannel(3).negate().raw().toBuffer({ resolveWithObject: true });
+    const img = { data, width: info.width, height: info.height };
+    const rowInk = (y: number) => [...data.subarray(y * info.width, (y + 1) * info.width)].some((v) => v < 128);
+    const bands: { top: number; bottom: number; box: ReturnType<typeof inkBox> }[] = [];
+    for (let y = 0; y < info.height; y++) {
+      if (!rowInk(y)) continue;
+      let end = y;
+      while (end + 1 < info.height && rowInk(end + 1)) end++;
+      const rows = { data: Buffer.from(data.subarray(y * info.width, (end + 1) * info.width)), width: img.width, height: end - y + 1 };
+      bands.push({ top: y, bottom: end, box: inkBox(rows, 128) });
+      y = end;
+    }
+    return bands;
+  };
+  const centre = (b: { minX: number; maxX: number }) => (b.minX + b.maxX) / 2;
+
+  it("keep the text as typed", async () => {
+    expect(glyphs.map((g) => g.text).join("")).toBe(`${title} — 8 × 10 in (20.32 × 25.4 cm)`);
+  });
+
+  it("put the macron over the x, as HarfBuzz does", async () => {
+    const [macron, x] = await pangoBands("x\u0304");
+    const hb = (centre({ minX: macron!.box!.left, maxX: macron!.box!.right }) - centre({ minX: x!.box!.left, maxX: x!.box!.right })) / 300; // em
+    expect(Math.abs(hb)).toBeLessThan(0.05); // the reference itself: centred over the x within 1/20 em
+    const [gx, gm] = [glyphs[0]!, glyphs[1]!];
+    expect([gx.text, gm.text]).toEqual(["x", "\u0304"]);
+    const pdfOffset = (centre(gm.box) - centre(gx.box)) / 9; // em at 9 pt
+    expect(Math.abs(pdfOffset - hb)).toBeLessThan(0.02);
+    expect(gm.box.minY).toBeGreaterThan(gx.box.maxY); // above it, not through it
+  });
+
+  it("stack the macron above the grave of è, as HarfBuzz does", async () => {
+    // HarfBuzz: three bands of ink from the top: the macron, the grave, the e, none touching.
+    const bands = await pangoBands("\u00e8\u0304");
+    expect(bands).toHaveLength(3);
+    const [ge, gm] = [glyphs[3]!, glyphs[4]!];
+    expect([ge.text, gm.text]).toEqual(["è", "\u0304"]);
+    // The macron's outline starts above the top of è's (the grave): raised by the text rise.
+    expect(gm.box.minY).toBeGreaterThan(ge.box.maxY);
+    expect(Math.abs(centre(gm.box) - centre(ge.box)) / 9).toBeLessThan(0.05);
+  });
+});
+
 describe("captions wider than the print area", () => {
   const narrow = {
     ...WITH_CAPTION,

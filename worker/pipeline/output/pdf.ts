@@ -5,7 +5,7 @@
  * caption in the shipped font, embedded).
  */
 import fontkit from "@pdf-lib/fontkit";
-import { beginText, endText, PDFDocument, PDFHexString, PDFNumber, PDFOperator, PDFOperatorNames, popGraphicsState, pushGraphicsState, rgb, setFillingRgbColor, setFontAndSize, setTextMatrix, type PDFFont } from "pdf-lib";
+import { beginText, endText, PDFDocument, PDFHexString, PDFNumber, PDFOperator, PDFOperatorNames, popGraphicsState, pushGraphicsState, rgb, setFillingRgbColor, setFontAndSize, setTextMatrix, setTextRise, type PDFFont } from "pdf-lib";
 import { paperPoints } from "../../../shared/paper";
 import type { PrintPreset } from "../../../shared/schemas/presets";
 import { captionFaces, layoutCaption, runGlyphs } from "./caption";
@@ -69,32 +69,57 @@ export async function renderPrintPdf(piece: Piece, layout: PrintLayout, preset: 
         font = await doc.embedFont(faces[run.face]!.bytes, { subset: true });
         fonts.set(run.face, font);
       }
-      // The glyphs pdf-lib encodes for the run (4 hex digits each, Identity-H), shown with TJ so the
-      // font's kerning moves each one as the layout places it (ISO 32000-1 §9.4.3: a number in a TJ
-      // array moves the next glyph left by number / 1000 of the font size).
+      // The glyphs pdf-lib encodes for the run (4 hex digits each, Identity-H), shown with TJ so
+      // each one sits where the font's layout places it (ISO 32000-1 §9.4.3: a number in a TJ
+      // array moves the next glyph left by number / 1000 of the font size): kerning, and a mark's
+      // sideways offset over its letter. A mark raised over another one (a vertical offset) is
+      // shown at its text rise (Ts, §9.3.7), so the run is one TJ array per rise.
       const hex = font.encodeText(run.text).toString().slice(1, -1);
       const placed = runGlyphs(run, faces);
       const unitsPerEm = faces[run.face]!.font.unitsPerEm;
       if (hex.length !== placed.length * 4) throw new Error(`The caption's glyphs for "${run.text}" did not encode one code each`);
-      const shown: (PDFHexString | PDFNumber)[] = [];
-      let codes = "";
+      const segments: { rise: number; shown: (PDFHexString | PDFNumber)[]; codes: string }[] = [];
+      const flush = (seg: { shown: (PDFHexString | PDFNumber)[]; codes: string }) => {
+        if (seg.codes) seg.shown.push(PDFHexString.of(seg.codes));
+        seg.codes = "";
+      };
+      // Font units the text position must move right before the next glyph: a glyph ends where
+      // its W width (its advance) takes it; the layout wants the next one at its own advance,
+      // kerning included, plus the next glyph's offset less this one's.
+      let move = placed[0]?.xOffset ?? 0;
       placed.forEach((g, i) => {
-        codes += hex.slice(i * 4, i * 4 + 4);
-        const kern = g.xAdvance - g.glyph.advanceWidth;
-        if (kern !== 0 && i < placed.length - 1) {
-          shown.push(PDFHexString.of(codes), PDFNumber.of(Number(((-kern * 1000) / unitsPerEm).toFixed(3))));
-          codes = "";
+        let seg = segments[segments.length - 1];
+        if (!seg || seg.rise !== g.yOffset) {
+          if (seg) flush(seg);
+          seg = { rise: g.yOffset, shown: [], codes: "" };
+          segments.push(seg);
         }
+        const thousandths = Number(((move * 1000) / unitsPerEm).toFixed(3));
+        if (thousandths !== 0) {
+          flush(seg);
+          seg.shown.push(PDFNumber.of(-thousandths));
+        }
+        seg.codes += hex.slice(i * 4, i * 4 + 4);
+        const next = placed[i + 1];
+        move = next ? g.xAdvance - g.glyph.advanceWidth + next.xOffset - g.xOffset : 0;
       });
-      if (codes) shown.push(PDFHexString.of(codes));
+      if (segments.length > 0) flush(segments[segments.length - 1]!);
       const key = page.node.newFontDictionary(font.name, font.ref);
+      let rise = 0;
+      const shows = segments.flatMap((seg) => {
+        const ops: PDFOperator[] = [];
+        if (seg.rise !== rise) ops.push(setTextRise(Number(((seg.rise * line.sizePt) / unitsPerEm).toFixed(4))));
+        rise = seg.rise;
+        ops.push(PDFOperator.of(PDFOperatorNames.ShowTextAdjusted, [doc.context.obj(seg.shown)]));
+        return ops;
+      });
       page.pushOperators(
         pushGraphicsState(),
         beginText(),
         setFillingRgbColor(0.2, 0.2, 0.2),
         setFontAndSize(key, line.sizePt),
         setTextMatrix(1, 0, 0, 1, x, y(line.baselineIn)),
-        PDFOperator.of(PDFOperatorNames.ShowTextAdjusted, [doc.context.obj(shown)]),
+        ...shows,
         endText(),
         popGraphicsState(),
       );

@@ -65,13 +65,19 @@ async function planFields(read: (position: number, length: number) => Promise<Bu
   const u16 = (b: Buffer, at: number) => (le ? b.readUInt16LE(at) : b.readUInt16BE(at));
   const u32 = (b: Buffer, at: number) => (le ? b.readUInt32LE(at) : b.readUInt32BE(at));
   const magic = u16(header, 2);
+  if (magic === 43) {
+    // BigTIFF: 8-byte offsets and 20-byte entries, a layout this code does not write.
+    throw new Error(`${name} is a BigTIFF (version 43); fields can be added only to a classic TIFF (version 42)`);
+  }
   if (magic !== 42) {
     throw new Error(`Expected a classic TIFF (version 42) in ${name} but found version ${magic}`);
   }
   const ifd0 = u32(header, 4);
   const count = u16(await read(ifd0, 2), 0);
   const body = await read(ifd0 + 2, count * 12 + 4);
-  const replaced = new Set(fields.map((f) => f.tag));
+  // One entry per tag (TIFF 6.0 Section 2: entries sorted by tag): of two fields with the same tag, the later one.
+  const added = [...new Map(fields.map((f) => [f.tag, f])).values()];
+  const replaced = new Set(added.map((f) => f.tag));
   const entries: Entry[] = [];
   for (let i = 0; i < count; i++) {
     const at = i * 12;
@@ -83,16 +89,23 @@ async function planFields(read: (position: number, length: number) => Promise<Bu
 
   const w16 = (b: Buffer, v: number, at: number) => (le ? b.writeUInt16LE(v, at) : b.writeUInt16BE(v, at));
   const w32 = (b: Buffer, v: number, at: number) => (le ? b.writeUInt32LE(v, at) : b.writeUInt32BE(v, at));
+  // Offsets are 4 bytes (TIFF 6.0 Section 2): nothing can start, or end, past 2^32 bytes.
+  const tooBig = () => new Error(`${name} would grow past the 4 GiB a classic TIFF can address`);
+  const offset = (at: number) => {
+    if (at > 0xffffffff) throw tooBig();
+    return at;
+  };
 
   // The new IFD0 goes at the end (word-aligned), its long values right after it, as libtiff lays
   // out a directory: a reader that fetches the directory's neighbourhood finds them in one read.
   const writes: Write[] = [];
   if (size % 2) writes.push({ at: size, data: Buffer.from([0]) });
   const ifdAt = size + (size % 2);
-  const total = entries.length + fields.length;
+  const total = entries.length + added.length;
   let cursor = ifdAt + 2 + total * 12 + 4; // even: 6 + 12n
+  if (cursor > 2 ** 32) throw tooBig();
   const place = (data: Buffer, slot: Buffer) => {
-    w32(slot, cursor, 0);
+    w32(slot, offset(cursor), 0);
     writes.push({ at: cursor, data });
     cursor += data.length;
     if (data.length % 2) writes.push({ at: cursor++, data: Buffer.from([0]) }); // word boundary
@@ -106,7 +119,7 @@ async function planFields(read: (position: number, length: number) => Promise<Bu
     place(await read(u32(e.slot, 0), bytes), slot);
     e.slot = slot;
   }
-  for (const field of fields) {
+  for (const field of added) {
     const isText = typeof field.value === "string";
     const data = isText
       ? Buffer.concat([Buffer.from((field.value as string).replace(/\0/g, ""), "utf8"), Buffer.from([0])])
@@ -128,12 +141,10 @@ async function planFields(read: (position: number, length: number) => Promise<Bu
     e.slot.copy(ifd, at + 8);
   });
   w32(ifd, nextIfd, 2 + entries.length * 12);
-  if (cursor > 0xffffffff) {
-    throw new Error(`${name} would grow past the 4 GB a classic TIFF can address`);
-  }
+  if (cursor > 2 ** 32) throw tooBig();
   writes.push({ at: ifdAt, data: ifd });
   const pointer = Buffer.alloc(4);
-  w32(pointer, ifdAt, 0);
+  w32(pointer, offset(ifdAt), 0);
   writes.push({ at: 4, data: pointer });
   return writes;
 }
