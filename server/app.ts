@@ -48,6 +48,8 @@ export interface AppDeps {
   sessionSecret: string;
   /** Sends invitations and password resets; made from the configuration when not given. */
   mailer?: Mailer;
+  /** How often an open event stream re-checks its session, ms (15 s unless a test asks sooner). */
+  liveCheckMs?: number;
 }
 
 /** The HTTP app: security headers, sessions in PostgreSQL, one access check, the API, the client. */
@@ -89,7 +91,9 @@ export function createApp(deps: AppDeps): express.Express {
       cookie: {
         httpOnly: true,
         sameSite: "lax",
-        secure: cfg.secureCookies,
+        // Always when configured; otherwise whenever this request arrived over TLS (directly, or
+        // through a proxy on this machine that says so), so a TLS deployment never sends it in clear.
+        secure: cfg.secureCookies ? true : "auto",
         maxAge: 1000 * 60 * 60 * 24 * 14,
       },
     }),

@@ -1,4 +1,5 @@
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import fs from "node:fs/promises";
+import { afterAll, beforeAll, describe, expect, it, vi } from "vitest";
 import supertest from "supertest";
 import { API, apiPath, type RouteName, type RouteSpec } from "../shared/api";
 import { ROLES, hasRole, type Role } from "../shared/roles";
@@ -7,6 +8,7 @@ import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { paperScan } from "./helpers/fixtures";
 import { fragments, intakes, recipes, scans } from "../server/db/schema";
 import { eq } from "drizzle-orm";
+import { StorageError, uploadDir } from "../server/storage";
 
 let stack: Stack;
 let agents: Record<Role, supertest.Agent>;
@@ -256,6 +258,164 @@ describe("requests are validated and changes must come from the app", () => {
   });
 });
 
+describe("a malformed request gets a clear 4xx, never a 500 or a trace", () => {
+  const noTrace = (res: supertest.Response) => {
+    expect(res.status, JSON.stringify(res.body)).toBeLessThan(500);
+    const err = apiErrorSchema.parse(res.body).error;
+    expect(err.message).not.toMatch(/\bat [\w.<>]+ \(|node_modules|TypeError|URIError|SyntaxError/);
+    return err;
+  };
+
+  it("a change from a page with no origin (Origin: null) is refused, not crashed on", async () => {
+    const res = await agents.admin.post("/api/intakes").set("Origin", "null").send({ name: "x" });
+    expect(res.status).toBe(403);
+    expect(noTrace(res).message).toBe("Refused: a change from another site (null).");
+  });
+
+  it("a broken percent-escape in the path", async () => {
+    const res = await agents.viewer.get("/api/scans/%E0%A4%A");
+    expect(res.status).toBe(400);
+    expect(noTrace(res).message).toBe("The address is not valid: it has a broken %-escape.");
+  });
+
+  it("a JSON body in a character set or encoding the server does not read", async () => {
+    let res = await agents.admin.post("/api/intakes").set("Content-Type", "application/json; charset=iso-8859-1").send('{"name":"x"}');
+    expect(res.status).toBe(415);
+    expect(noTrace(res).code).toBe("unsupported_media_type");
+    res = await agents.admin.post("/api/intakes").set("Content-Type", "application/json").set("Content-Encoding", "x-squash").send('{"name":"x"}');
+    expect(res.status).toBe(415);
+    expect(noTrace(res).code).toBe("unsupported_media_type");
+  });
+
+  it("a body over the limit", async () => {
+    const res = await agents.admin.post("/api/intakes").send({ name: "x".repeat(200 * 1024) });
+    expect(res.status).toBe(413);
+    expect(noTrace(res).message).toBe("The request body is too large.");
+  });
+
+  it("an upload that is not well-formed multipart", async () => {
+    let res = await agents.operator.post("/api/scans/upload").set("Content-Type", "multipart/form-data").send("no boundary here");
+    expect(res.status).toBe(400);
+    expect(noTrace(res).message).toMatch(/^Upload refused: the form data is malformed/);
+    res = await agents.operator
+      .post("/api/scans/upload")
+      .set("Content-Type", "multipart/form-data; boundary=XYZ")
+      .send('--XYZ\r\nContent-Disposition: form-data; name="files"; filename="cut.png"\r\n\r\n\x89PNG');
+    expect(res.status).toBe(400);
+    expect(noTrace(res).message).toMatch(/^Upload refused: the form data is malformed/);
+  });
+
+  it("an error after the response has begun ends the connection instead of leaving it open", async () => {
+    const express = (await import("express")).default;
+    const { errorHandler } = await import("../server/middleware/errors");
+    const app = express();
+    app.get("/half", (_req, res) => {
+      res.writeHead(200, { "Content-Type": "application/octet-stream" });
+      res.write("partial");
+      throw new Error("failed half-way");
+    });
+    app.use(errorHandler);
+    const started = Date.now();
+    const outcome = await supertest(app)
+      .get("/half")
+      .timeout(5_000)
+      .then(() => "completed", (err: Error & { timeout?: number }) => (err.timeout ? "hung" : "cut short"));
+    expect(outcome).toBe("cut short");
+    expect(Date.now() - started).toBeLessThan(5_000);
+  });
+});
+
+describe("the session cookie", () => {
+  it("is marked Secure when the request came through a TLS proxy on this machine", async () => {
+    const res = await stack.agent().post("/api/auth/login").set("X-Forwarded-Proto", "https").send({ email: "admin@test.example", password: "admin-password-123" });
+    expect(res.status).toBe(200);
+    expect(String(res.headers["set-cookie"])).toMatch(/;\s*Secure/i);
+    const plain = await stack.agent().post("/api/auth/login").send({ email: "admin@test.example", password: "admin-password-123" });
+    expect(String(plain.headers["set-cookie"])).not.toMatch(/;\s*Secure/i);
+  });
+
+  it("changes at sign-in, so a session id planted before it is worth nothing", async () => {
+    const agent = stack.agent();
+    const first = await agent.post("/api/auth/login").send({ email: "operator@test.example", password: "operator-password-123" });
+    const before = /platen\.sid=([^;]+)/.exec(String(first.headers["set-cookie"]))![1];
+    const again = await agent.post("/api/auth/login").send({ email: "viewer@test.example", password: "viewer-password-123" });
+    const after = /platen\.sid=([^;]+)/.exec(String(again.headers["set-cookie"]))![1];
+    expect(after).not.toBe(before);
+    // The old id no longer names a session at all.
+    const planted = supertest.agent(stack.url).set("Cookie", `platen.sid=${before}`);
+    expect((await planted.get("/api/auth/me")).status).toBe(401);
+  });
+});
+
+describe("the live event stream", () => {
+  it("ends when its session does: at sign-out elsewhere, and when the account is disabled", async () => {
+    // A second app on the same database and sessions, re-checking its streams five times a second.
+    const { createApp } = await import("../server/app");
+    const { createHub } = await import("../server/services/hub");
+    const { logger } = await import("../server/logger");
+    const log = logger.child({ test: true });
+    const hub = createHub(stack.database.pool, log);
+    const app = createApp({ config: stack.cfg, database: stack.database, boss: stack.boss, library: stack.library, log, hub, sessionSecret: stack.env.PLATEN_SESSION_SECRET!, liveCheckMs: 200 });
+    const server = await new Promise<import("node:http").Server>((resolve) => {
+      const s = app.listen(0, "127.0.0.1", () => resolve(s));
+    });
+    const url = `http://127.0.0.1:${(server.address() as import("node:net").AddressInfo).port}`;
+    /** Signs in on the second app; returns the session cookie. */
+    const signIn = async (email: string, password: string) => {
+      const res = await supertest(url).post("/api/auth/login").set("X-Platen-Request", "1").send({ email, password });
+      expect(res.status).toBe(200);
+      return String(res.headers["set-cookie"]).split(";")[0]!;
+    };
+    /** Opens the stream; resolves with what it sent once the server ends it, or "still open" after 4 s. */
+    const open = async (cookie: string) => {
+      const http = await import("node:http");
+      return new Promise<string>((resolve, reject) => {
+        const req = http.get(`${url}/api/events`, { headers: { Cookie: cookie } }, (res) => {
+          if (res.statusCode !== 200) return reject(new Error(`the stream answered ${res.statusCode}`));
+          let text = "";
+          res.setEncoding("utf8");
+          res.on("data", (c: string) => (text += c));
+          res.on("end", () => {
+            clearTimeout(timer);
+            resolve(text);
+          });
+        });
+        req.on("error", () => {});
+        const timer = setTimeout(() => {
+          req.destroy();
+          resolve("still open");
+        }, 4_000);
+      });
+    };
+    try {
+      const leaving = await signIn("operator@test.example", "operator-password-123");
+      const stream = open(leaving);
+      await new Promise((r) => setTimeout(r, 600));
+      // The same person signs out in another tab: the stream must not outlive the session.
+      expect((await supertest(url).post("/api/auth/logout").set("X-Platen-Request", "1").set("Cookie", leaving)).status).toBe(204);
+      expect(await stream).toMatch(/event: hello[\s\S]*event: signed-out/);
+
+      await createUserForStream();
+      const disabledSoon = await signIn("stream-viewer@test.example", "viewer-password-123");
+      const second = open(disabledSoon);
+      await new Promise((r) => setTimeout(r, 600));
+      const users = (await agents.admin.get("/api/users")).body.users as { id: string; email: string }[];
+      const target = users.find((u) => u.email === "stream-viewer@test.example")!;
+      expect((await agents.admin.patch(`/api/users/${target.id}`).send({ disabled: true })).status).toBe(200);
+      expect(await second).toMatch(/event: signed-out/);
+    } finally {
+      server.closeAllConnections();
+      await new Promise((r) => server.close(r));
+      await hub.close();
+    }
+  });
+});
+
+async function createUserForStream() {
+  const { createUser } = await import("../server/services/users");
+  await createUser(stack.db, { email: "stream-viewer@test.example", name: "Stream viewer", role: "viewer", password: "viewer-password-123" });
+}
+
 describe("sign-in", () => {
   it("says what went wrong, refuses disabled accounts and ends their sessions", async () => {
     const res = await stack.agent().post("/api/auth/login").send({ email: "admin@test.example", password: "not-it-at-all" });
@@ -331,6 +491,32 @@ describe("uploads", () => {
     expect(res.status).toBe(400);
     const rows = await stack.db.select().from(scans).where(eq(scans.originalName, "looks-like.tif"));
     expect(rows).toHaveLength(0);
+  });
+
+  it("leave no file behind in the upload folder when one of them cannot be filed", async () => {
+    const temps = async () => (await fs.readdir(uploadDir(stack.library))).filter((n) => !n.startsWith("."));
+    expect(await temps()).toEqual([]);
+    const original = stack.library.stageCopy.bind(stack.library);
+    let calls = 0;
+    const spy = vi.spyOn(stack.library, "stageCopy").mockImplementation(async (source: string) => {
+      if (++calls === 1) throw new StorageError("unavailable", "The library did not answer.");
+      return original(source);
+    });
+    try {
+      const res = await agents.operator
+        .post("/api/scans/upload")
+        .attach("files", await paperScan({ format: "png", seed: 21 }), "first.png")
+        .attach("files", await paperScan({ format: "png", seed: 22 }), "second.png");
+      expect(res.status).toBe(503);
+      expect(res.body.error.message).toBe("The library did not answer. Try again in a moment.");
+    } finally {
+      spy.mockRestore();
+    }
+    expect(await temps()).toEqual([]);
+    // And the size refusal above left nothing either.
+    const big = await agents.operator.post("/api/scans/upload").attach("files", Buffer.alloc(1.5 * 1024 * 1024, 1), "big-again.tif");
+    expect(big.status).toBe(413);
+    expect(await temps()).toEqual([]);
   });
 
   it("a failed scan can be retried by an operator, once", async () => {

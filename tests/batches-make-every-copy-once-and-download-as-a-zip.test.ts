@@ -202,6 +202,51 @@ describe("output batches", () => {
     }
   });
 
+  it("names every file in the zip safely, whatever a preset or a fragment is called", async () => {
+    const { execFileSync } = await import("node:child_process");
+    // A preset name that climbs out of the folder the zip is unpacked into, and a fragment title
+    // a spreadsheet would run as a formula.
+    const made = await operator
+      .post("/api/presets")
+      .send({ name: "/../../../escaped", settings: { ...preset("web").settings, name: "/../../../escaped", size: { mode: "longEdge", longEdge: 300 } } });
+    expect(made.status).toBe(201);
+    const [first] = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+    const titled = await operator.patch(`/api/fragments/${first!.id}`).send({ title: '=HYPERLINK("http://x.example","open")' });
+    expect(titled.status).toBe(200);
+    const run = await operator.post("/api/batches").send({ selection: { filter: { scanId } }, presetIds: [made.body.preset.id] });
+    expect(run.status).toBe(201);
+    const done = await finished(run.body.batch.id);
+    expect(done.batch.counts).toMatchObject({ done: 2, failed: 0 });
+    const zipPath = path.join(stack.inbox, "named.zip");
+    await fs.writeFile(zipPath, (await binary(viewer.get(`/api/batches/${run.body.batch.id}/download`))).body as Buffer);
+    // Python's zipfile module as an independent reader of the archive.
+    const names = JSON.parse(
+      execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", zipPath], { encoding: "utf8" }),
+    ) as string[];
+    expect(names).toHaveLength(3);
+    for (const n of names) {
+      expect(n, n).not.toMatch(/^[/\\]/);
+      expect(n.split(/[/\\]/), n).not.toContain("..");
+      expect(n, n).not.toContain("/");
+    }
+    expect(new Set(names).size).toBe(names.length);
+    // …and Python's csv module as an independent reader of the CSV in it.
+    const rows = (
+      JSON.parse(
+        execFileSync(
+          "python3",
+          ["-c", "import zipfile,sys,csv,io,json; print(json.dumps(list(csv.reader(io.StringIO(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())))))", zipPath],
+          { encoding: "utf8" },
+        ),
+      ) as string[][]
+    ).slice(1);
+    // OWASP's advice on CSV injection: a cell that starts with = + - @ (or a tab or a return) is
+    // prefixed with a single quote, so a spreadsheet reads it as text.
+    expect(rows.map((r) => r[0])).toContain(`'=HYPERLINK("http://x.example","open")`);
+    expect(rows.map((r) => r[4]).sort()).toEqual(names.filter((n) => n !== "outputs.csv").sort());
+    await operator.patch(`/api/fragments/${first!.id}`).send({ title: null });
+  });
+
   it("previews what a preset makes of a fragment: the mock-up composed, the print with its report", async () => {
     const [first] = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
     const mock = await operator

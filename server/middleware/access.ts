@@ -1,7 +1,7 @@
 import type { RequestHandler } from "express";
 import { findRoute } from "../../shared/api";
 import { hasRole } from "../../shared/roles";
-import { AppError, forbidden, unauthenticated } from "../errors";
+import { AppError, badRequest, forbidden, unauthenticated } from "../errors";
 
 /**
  * The one access check for the whole API. Every route is declared in shared/api.ts with who may
@@ -9,7 +9,14 @@ import { AppError, forbidden, unauthenticated } from "../errors";
  */
 export const accessControl: RequestHandler = (req, _res, next) => {
   const method = req.method === "HEAD" ? "GET" : req.method;
-  const found = findRoute(method, req.baseUrl + req.path);
+  let found: ReturnType<typeof findRoute>;
+  try {
+    found = findRoute(method, req.baseUrl + req.path);
+  } catch (err) {
+    // A parameter that does not decode (a stray or cut-off %-escape) is the caller's mistake.
+    if (err instanceof URIError) return next(badRequest("The address is not valid: it has a broken %-escape."));
+    return next(err);
+  }
   if (!found) return next(new AppError(404, "not_found", `There is no API route ${method} ${req.baseUrl + req.path}.`));
   const { access } = found.spec;
   if (access === "public") return next();
@@ -32,8 +39,18 @@ export const sameOriginWrites: RequestHandler = (req, _res, next) => {
     return next(forbidden("Refused: changes must come from the Platen app (missing X-Platen-Request header)."));
   }
   const origin = req.get("origin");
-  if (origin && new URL(origin).host !== req.get("host")) {
-    return next(forbidden(`Refused: a change from another site (${origin}).`));
+  // An origin that is not a URL ("null" from a sandboxed frame, a local file or a redirect across
+  // sites) is not ours either.
+  if (origin && originHost(origin) !== req.get("host")) {
+    return next(forbidden(`Refused: a change from another site (${origin.slice(0, 200)}).`));
   }
   next();
 };
+
+function originHost(origin: string): string | null {
+  try {
+    return new URL(origin).host;
+  } catch {
+    return null;
+  }
+}

@@ -19,6 +19,14 @@ export function zodMessage(err: ZodError, where: string): { message: string; fie
   };
 }
 
+/** The status of an error the HTTP layer (body parser, router) raised about the request, if 4xx. */
+function clientStatus(err: unknown): number | null {
+  const e = err as { status?: unknown; expose?: unknown } | null;
+  // http-errors marks what is safe to tell the client; the router marks a path that does not decode.
+  if (!e || !(e.expose === true || err instanceof URIError)) return null;
+  return typeof e.status === "number" && e.status >= 400 && e.status < 500 ? e.status : null;
+}
+
 /** The one error path: every failure becomes `{ error: { code, message, field? } }`. */
 export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   let appErr: AppError;
@@ -49,11 +57,27 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     appErr = new AppError(400, "bad_request", "The request body is not valid JSON.");
   } else if (err?.type === "entity.too.large") {
     appErr = new AppError(413, "payload_too_large", "The request body is too large.");
+  } else if (err?.type === "charset.unsupported") {
+    appErr = new AppError(415, "unsupported_media_type", "The request body's character set is not supported: send JSON as UTF-8.");
+  } else if (err?.type === "encoding.unsupported") {
+    appErr = new AppError(415, "unsupported_media_type", "The request body's Content-Encoding is not supported: send it as is, or as gzip, deflate or br.");
+  } else if (clientStatus(err)) {
+    // Any other refusal the HTTP layer raised about the request itself (a body cut off or
+    // shorter than announced, a path parameter that does not decode): the caller's, a 4xx.
+    const status = clientStatus(err)!;
+    const code = status === 413 ? "payload_too_large" : status === 415 ? "unsupported_media_type" : "bad_request";
+    (req.log ?? console).warn({ status, type: err?.type, path: req.originalUrl }, "request refused by the HTTP layer");
+    appErr = new AppError(status === 413 || status === 415 ? status : 400, code, "The request could not be read. Check it and send it again.");
   } else {
     (req.log ?? console).error({ err, path: req.originalUrl }, "unhandled error");
     appErr = new AppError(500, "internal", "Something went wrong on the server. The error has been logged; try again.");
   }
-  if (res.headersSent) return;
+  // The response has begun (a download, a zip, the event stream): no error body can follow, so
+  // cut the connection; the client sees a failed transfer instead of waiting for the rest.
+  if (res.headersSent) {
+    res.destroy();
+    return;
+  }
   const body: ApiErrorBody = { error: { code: appErr.code, message: appErr.message, ...(appErr.field ? { field: appErr.field } : {}) } };
   res.status(appErr.status).json(body);
 };

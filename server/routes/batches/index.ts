@@ -18,9 +18,36 @@ copyright, even when cut up and collaged. Check the rights and licences for each
 the law where you sell or publish, and keep a note of what you checked.
 `;
 
+/**
+ * One CSV cell (RFC 4180 quoting). Text that a spreadsheet would run as a formula (it starts with
+ * = + - @, a tab or a return) gets a leading single quote, as OWASP advises against CSV injection:
+ * titles, scan and preset names are typed by people.
+ */
 function csvCell(v: unknown): string {
-  const s = v === null || v === undefined ? "" : String(v);
-  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+  let s = v === null || v === undefined ? "" : String(v);
+  if (typeof v === "string" && /^[=+\-@\t\r]/.test(s)) s = `'${s}`;
+  return /[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+/**
+ * A name for a file at the top of the zip: no folders (so nothing unpacks outside the folder it is
+ * unpacked into), no characters that some systems refuse or read specially, not starting with a
+ * dot or a dash, and different from every name taken before it.
+ */
+function zipEntryName(wanted: string, fallback: string, taken: Set<string>): string {
+  const cleaned = wanted
+    // eslint-disable-next-line no-control-regex
+    .replace(/[\u0000-\u001f\u007f/\\:*?"<>|]+/g, "-")
+    .replace(/^[\s.=+\-@]+/, "")
+    .replace(/[\s.]+$/, "")
+    .slice(0, 200);
+  const base = cleaned || fallback;
+  let name = base;
+  const dot = base.lastIndexOf(".");
+  const [stem, ext] = dot > 0 ? [base.slice(0, dot), base.slice(dot)] : [base, ""];
+  for (let n = 2; taken.has(name.toLowerCase()); n++) name = `${stem}-${n}${ext}`;
+  taken.add(name.toLowerCase());
+  return name;
 }
 
 /** Streams one stored file into the zip (no other file open meanwhile) and returns its SHA-256. */
@@ -79,10 +106,11 @@ export function batchesRouter({ database, boss, library }: AppDeps): Router {
     zip.pipe(res);
     const header = ["title", "scan", "fragment", "preset", "file", "width_px", "height_px", "printed_width_in", "printed_height_in", "printed_width_cm", "printed_height_cm", "effective_dpi", "warnings", "sha256"];
     const lines = [header.join(",")];
+    const taken = new Set(["outputs.csv", "rights-notice.txt"]);
     // One file at a time from the library (a folder or a bucket), hashed on its way into the zip.
     for (const f of files) {
       const item = byItem.get(f.itemId)!;
-      const name = item.fileName ?? `${f.itemId}.${f.format}`;
+      const name = zipEntryName(item.fileName ?? "", `${f.itemId}.${f.format}`, taken);
       let sha256: string;
       try {
         sha256 = await appendStored(zip, library, f.key, name);

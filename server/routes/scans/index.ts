@@ -4,7 +4,7 @@ import { handle } from "../define";
 import { badRequest, notFound } from "../../errors";
 import { getScan, getScanRow, listScans, retryScan } from "../../services/scans";
 import { intakeFile } from "../../services/intake";
-import { cleanFileName, sniffUploads, uploadMiddleware } from "./upload";
+import { cleanFileName, removeTemps, sniffUploads, uploadMiddleware } from "./upload";
 import type { AppDeps } from "../../app";
 import { uploadDir } from "../../storage";
 import { sendStored } from "../send-stored";
@@ -22,18 +22,24 @@ export function scansRouter(deps: AppDeps): Router {
     async ({ req, res, user }) => {
       const files = (req.files as Express.Multer.File[] | undefined) ?? [];
       if (!files.length) throw badRequest('Expected one or more files in the "files" field but received none.', "files");
-      await sniffUploads(files);
-      const results = [];
-      for (const f of files) {
-        const originalName = cleanFileName(f.originalname);
-        const r = await intakeFile(
-          { database, boss, library, log: req.log },
-          { path: f.path, originalName, source: "upload", uploadedBy: user.id, removeSource: true },
-        );
-        results.push({ originalName, scanId: r.scanId, duplicateOf: r.duplicateOf });
+      try {
+        await sniffUploads(files);
+        const results = [];
+        for (const f of files) {
+          const originalName = cleanFileName(f.originalname);
+          const r = await intakeFile(
+            { database, boss, library, log: req.log },
+            { path: f.path, originalName, source: "upload", uploadedBy: user.id, removeSource: true },
+          );
+          results.push({ originalName, scanId: r.scanId, duplicateOf: r.duplicateOf });
+        }
+        res.status(201);
+        return { results };
+      } finally {
+        // Filed uploads are already gone from the temp folder; one that failed, and any after it,
+        // must not stay there (the person still has the file and can send it again).
+        await removeTemps(files);
       }
-      res.status(201);
-      return { results };
     },
     [uploadMiddleware(uploadDir(library), config.maxUploadBytes)],
   );

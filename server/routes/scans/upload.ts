@@ -4,7 +4,7 @@ import multer from "multer";
 import { SNIFF_BYTES, sniff } from "../../../worker/pipeline/sniff";
 import type { RequestHandler } from "express";
 import { MAX_FILES_PER_UPLOAD } from "../../../shared/limits";
-import { unsupportedMedia } from "../../errors";
+import { badRequest, unsupportedMedia } from "../../errors";
 
 /** The name a person gave the file, made safe to show and store: no folders, no control characters. */
 export function cleanFileName(raw: string): string {
@@ -16,12 +16,30 @@ export function cleanFileName(raw: string): string {
   return clean || "upload";
 }
 
-/** Multer into the library's temp folder (same filesystem as the library), with size and count limits. */
+/**
+ * Multer into the library's temp folder (same filesystem as the library), with size and count
+ * limits. Form data the parser cannot read (no boundary, a broken part header, a body cut off) is
+ * the sender's mistake, a 400; multer has removed whatever it had written by then.
+ */
 export function uploadMiddleware(tempDir: string, maxBytes: number): RequestHandler {
-  return multer({
+  const parse = multer({
     dest: tempDir,
     limits: { fileSize: maxBytes, files: MAX_FILES_PER_UPLOAD, fields: 10, parts: MAX_FILES_PER_UPLOAD + 10 },
   }).array("files", MAX_FILES_PER_UPLOAD);
+  return (req, res, next) =>
+    parse(req, res, (err?: unknown) => {
+      if (!err || err instanceof multer.MulterError) return next(err);
+      // An error with a system code (a full disk, a missing folder) is ours, not the sender's.
+      if (err instanceof Error && !(err as NodeJS.ErrnoException).code) {
+        return next(badRequest(`Upload refused: the form data is malformed (${err.message.replace(/^Multipart: /, "")}). Send the files again.`));
+      }
+      next(err);
+    });
+}
+
+/** Removes upload temps that are still there (filed ones are gone already); never throws. */
+export async function removeTemps(files: Express.Multer.File[]): Promise<void> {
+  await Promise.all(files.map((f) => fsp.rm(f.path, { force: true }).catch(() => {})));
 }
 
 /**
@@ -46,7 +64,7 @@ export async function sniffUploads(files: Express.Multer.File[]): Promise<void> 
     if (found.kind !== "scan") refused.push(`${cleanFileName(f.originalname)} (it holds ${found.what})`);
   }
   if (refused.length) {
-    await Promise.all(files.map((f) => fsp.rm(f.path, { force: true })));
+    await removeTemps(files);
     throw unsupportedMedia(`Not a scan Platen can read: ${refused.join(", ")}. Expected TIFF, JPEG, PNG or WebP.`);
   }
 }
