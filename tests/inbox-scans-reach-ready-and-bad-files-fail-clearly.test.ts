@@ -129,6 +129,29 @@ describe("the watcher", () => {
     for (const n of await inboxNames()) await fs.rm(path.join(stack.inbox, n));
   });
 
+  it("takes in no link: neither the file a link names nor a linked folder's files", async () => {
+    // Whoever may write to the inbox must not be able to file any other file the worker can read.
+    const outside = await fs.mkdtemp(path.join(path.dirname(stack.inbox), "outside-"));
+    const secret = path.join(outside, "not-a-scan.tif");
+    const bytes = await paperScan({ seed: 31 });
+    await fs.writeFile(secret, bytes);
+    await fs.writeFile(path.join(outside, "in-a-linked-folder.tif"), await paperScan({ seed: 32 }));
+    await fs.symlink(secret, path.join(stack.inbox, "linked-scan.tif"));
+    await fs.symlink(outside, path.join(stack.inbox, "linked-folder"));
+    await fs.writeFile(path.join(stack.inbox, "scan-07.tif"), await paperScan({ seed: 33 }));
+    await settled("scan-07.tif");
+    // Links are looked at like files (after the same wait for a file to stop growing): give them
+    // that long again, then let the watcher finish what it has seen.
+    await new Promise((r) => setTimeout(r, 2000));
+    await stack.watcher!.idle();
+    expect(await scanNamed("linked-scan.tif")).toHaveLength(0);
+    expect(await scanNamed("not-a-scan.tif")).toHaveLength(0);
+    expect(await scanNamed("in-a-linked-folder.tif")).toHaveLength(0);
+    expect((await fs.lstat(path.join(stack.inbox, "linked-scan.tif"))).isSymbolicLink()).toBe(true);
+    expect(await fs.readFile(secret)).toEqual(bytes);
+    for (const n of ["linked-scan.tif", "linked-folder"]) await fs.rm(path.join(stack.inbox, n));
+  });
+
   it("picks up files that were already in the inbox when it starts", async () => {
     await stack.watcher!.close();
     await fs.writeFile(path.join(stack.inbox, "waiting-overnight.jpg"), await paperScan({ format: "jpeg", seed: 21 }));

@@ -73,10 +73,23 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
     });
   };
 
+  // A link is never taken in, nor a linked folder looked into: whoever may write to the inbox must
+  // not be able to file any other file this process can read. Said once per link.
+  const linksSeen = new Set<string>();
+  const isLink = (p: string, stats?: { isSymbolicLink(): boolean }) => {
+    if (!stats?.isSymbolicLink()) return false;
+    if (!linksSeen.has(p)) {
+      linksSeen.add(p);
+      log.warn({ file: path.relative(folder, p) }, "watcher: leaving a link in the inbox alone (copy the file itself in)");
+    }
+    return true;
+  };
   const watcher: FSWatcher = watch(folder, {
     ignoreInitial: false,
     depth: 3,
-    ignored: (p, stats) => p !== folder && (isIgnoredName(p) || (stats?.isFile() === false && stats?.isDirectory() === false)),
+    followSymlinks: false,
+    ignored: (p, stats) =>
+      p !== folder && (isIgnoredName(p) || isLink(p, stats) || (stats?.isFile() === false && stats?.isDirectory() === false)),
     awaitWriteFinish: { stabilityThreshold: opts.stableMs, pollInterval: opts.pollMs },
   });
   watcher.on("add", (file) => take(file));
