@@ -16,3 +16,6 @@ export const MIN_PASSWORD_LENGTH = 10;
 export const SCAN_FORMATS = ["tiff", "jpeg", "png", "webp"] as const;
 /** MIME types the upload route accepts after sniffing the content. */
 export const SCAN_MIME_TYPES = ["image/tiff", "image/jpeg", "image/png", "image/webp"] as const;
+
+/** The most of a password bcrypt reads (its key is at most 72 bytes): longer ones are refused. */
+export const MAX_PASSWORD_BYTES = 72;

@@ -220,6 +220,15 @@ describe("requests are validated and changes must come from the app", () => {
 
     res = await agents.admin.post("/api/users").send({ email: "short@test.example", name: "X", role: "viewer", password: "short" });
     expect(res.body.error.message).toBe("password: Expected a password of at least 10 characters but received 5");
+    // bcrypt reads 72 bytes of a password and no more (its key schedule takes at most 72 bytes):
+    // 73 would pass with only its first 72 right. 36 × "é" is 72 bytes in UTF-8; one more is 74.
+    res = await agents.admin.post("/api/users").send({ email: "long@test.example", name: "X", role: "viewer", password: "x".repeat(73) });
+    expect(res.status).toBe(400);
+    expect(res.body.error.message).toMatch(/^password: Expected a password of at most 72 bytes/);
+    res = await agents.admin.post("/api/users").send({ email: "accents@test.example", name: "X", role: "viewer", password: "é".repeat(37) });
+    expect(res.status).toBe(400);
+    res = await agents.admin.post("/api/users").send({ email: "accents@test.example", name: "X", role: "viewer", password: "é".repeat(36) });
+    expect(res.status).toBe(201);
 
     res = await agents.admin.post("/api/users").send({ email: "role@test.example", name: "X", role: "owner", password: "a-long-password" });
     expect(res.status).toBe(400);
