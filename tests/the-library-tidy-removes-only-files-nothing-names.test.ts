@@ -149,29 +149,35 @@ describe("the library tidy", () => {
 });
 
 describe("the worker's regular tidy", () => {
-  it("runs on its own when PLATEN_TIDY_EVERY_HOURS is set, waits that long for the next, and says so in the audit trail", async () => {
+  it("runs on its own when PLATEN_TIDY_EVERY_HOURS is set, leaves masters to an admin, waits that long for the next, and says so in the audit trail", async () => {
     const own = await startStack({ watcher: false, server: false, worker: false, env: { PLATEN_TIDY_EVERY_HOURS: "24" } });
     const { startWorker } = await import("../worker/worker");
     const { logger } = await import("../server/logger");
     let worker: Awaited<ReturnType<typeof startWorker>> | undefined;
-    try {
-      const key = `masters/${crypto.randomUUID()}.tif`;
+    const when = new Date(Date.now() - 2 * DAY);
+    const leave = async (key: string) => {
       const file = own.libraryPath(key);
       await fs.mkdir(path.dirname(file), { recursive: true });
       await fs.writeFile(file, "left over");
-      const when = new Date(Date.now() - 2 * DAY);
       await fs.utimes(file, when, when);
+    };
+    try {
+      const output = `outputs/${crypto.randomUUID()}/${crypto.randomUUID()}-r1-none.png`;
+      const master = `masters/${crypto.randomUUID()}.tif`;
+      await leave(output);
+      await leave(master);
       // The worker asks for the tidy as it starts, and runs it.
       worker = await startWorker({ config: own.cfg, database: own.database, boss: own.boss, library: own.library, log: logger.child({ test: true }) });
-      await waitFor("the regular tidy", async () => ((await own.library.exists(key)) ? null : true), 30_000);
+      await waitFor("the regular tidy", async () => ((await own.library.exists(output)) ? null : true), 30_000);
+      // Masters are the archive: a left-over one waits for an admin who is asked first.
+      expect(await own.library.exists(master)).toBe(true);
       const { rows } = await own.database.pool.query("select actor_id, summary from audit_events where action = 'library.tidy'");
       expect(rows).toHaveLength(1);
       expect(rows[0].actor_id).toBeNull();
       expect(rows[0].summary).toMatch(/^The worker tidied the library: removed 1 left-over file /);
       // Asked again within the day (as the next hour's ask would), it leaves a new left-over alone.
-      const next = `masters/${crypto.randomUUID()}.tif`;
-      await fs.writeFile(own.libraryPath(next), "left over too");
-      await fs.utimes(own.libraryPath(next), when, when);
+      const next = `outputs/${crypto.randomUUID()}/${crypto.randomUUID()}-r1-none.png`;
+      await leave(next);
       const id = await own.boss.send("library-tidy", {});
       await waitFor("the second ask to be handled", async () => ((await own.boss.getJobById("library-tidy", id!))?.state === "completed" ? true : null), 30_000);
       expect(await own.library.exists(next)).toBe(true);

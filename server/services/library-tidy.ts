@@ -46,8 +46,15 @@ async function referencedKeys(db: Db): Promise<Set<string>> {
 export async function tidyLibrary(
   db: Db,
   library: Storage,
-  opts: { dryRun: boolean; graceHours?: number; now?: Date },
+  opts: {
+    dryRun: boolean;
+    graceHours?: number;
+    now?: Date;
+    /** Folders whose left-overs may go (all derived ones by default); the others' are counted only. */
+    removable?: readonly string[];
+  },
 ): Promise<TidyReport> {
+  const removable = new Set(opts.removable ?? DERIVED_FOLDERS);
   const graceHours = opts.graceHours ?? TIDY_GRACE_HOURS;
   const cutoff = (opts.now ?? new Date()).getTime() - graceHours * 3600_000;
   const listed = new Map<string, string[]>();
@@ -68,7 +75,7 @@ export async function tidyLibrary(
       }
       row.leftOver++;
       row.leftOverBytes += stat.size;
-      if (folder === "originals/") continue;
+      if (folder === "originals/" || !removable.has(folder)) continue;
       if (stat.modified.getTime() > cutoff) {
         row.tooYoung++;
         continue;
@@ -88,9 +95,15 @@ export async function tidyLibrary(
   };
 }
 
+/**
+ * Masters are the archive: removing one, even one nothing names any more, is for an admin who has
+ * been asked. The worker's regular tidy leaves them, and removes the other left-overs.
+ */
+export const REGULAR_TIDY_FOLDERS = DERIVED_FOLDERS.filter((f) => f !== "masters/");
+
 /** Tidies for real and keeps a record of it: by `actorId`, or by the worker's regular tidy (null). */
 export async function runTidy(db: Db, library: Storage, actorId: string | null): Promise<TidyReport> {
-  const report = await tidyLibrary(db, library, { dryRun: false });
+  const report = await tidyLibrary(db, library, { dryRun: false, removable: actorId ? DERIVED_FOLDERS : REGULAR_TIDY_FOLDERS });
   await db.insert(libraryTidies).values({ actorId, removed: report.removed, bytes: report.removedBytes });
   return report;
 }

@@ -106,7 +106,7 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
             "Not tidied yet. "
           )}
           {tidyEveryHours > 0
-            ? `The worker tidies every ${plural(tidyEveryHours, "hour", "hours")} by itself.`
+            ? `The worker tidies every ${plural(tidyEveryHours, "hour", "hours")} by itself; left-over masters wait for an admin.`
             : "The worker does not tidy by itself (PLATEN_TIDY_EVERY_HOURS is 0)."}
         </p>
       </div>
