@@ -150,6 +150,27 @@ describe("recipes", () => {
     expect(usage).toMatchObject({ intakes: 1, outputs: 4 });
   });
 
+  it("retrying a recipe batch's failed render queues the fragment again and makes it", async () => {
+    const batchId = ((await operator.get("/api/batches")).body.batches as { id: string; kind: string }[]).find((b) => b.kind === "recipe")!.id;
+    // One item failed as a full disk would leave it: the item and its fragment say so.
+    const [item] = (await stack.database.pool.query("select id, fragment_id from batch_items where batch_id = $1 limit 1", [batchId])).rows;
+    await stack.database.pool.query("update batch_items set state = 'failed', error = 'disk full' where id = $1", [item.id]);
+    await stack.db.update(fragmentsTable).set({ renderState: "failed", renderError: "disk full" }).where(eq(fragmentsTable.id, item.fragment_id));
+    const res = await operator.post(`/api/batches/${batchId}/retry`);
+    expect(res.status).toBe(200);
+    // At once, with the retry: the fragment no longer reads as failed.
+    const [f] = await stack.db.select().from(fragmentsTable).where(eq(fragmentsTable.id, item.fragment_id));
+    expect(f!.renderState).not.toBe("failed");
+    expect(f!.renderError).toBeNull();
+    const done = await waitFor("the retried batch to finish", async () => {
+      const b = (await operator.get(`/api/batches/${batchId}`)).body.batch;
+      return b.finishedAt ? b : null;
+    }, 60_000);
+    expect(done.counts).toMatchObject({ done: 2, failed: 0 });
+    const [again] = await stack.db.select().from(fragmentsTable).where(eq(fragmentsTable.id, item.fragment_id));
+    expect(again!.renderState).toBe("done");
+  });
+
   it("the command line finds a saved recipe by name, at its newest version", async () => {
     const { spawnSync } = await import("node:child_process");
     const src = path.join(stack.inbox, "cli-source.png");

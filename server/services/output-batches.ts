@@ -163,9 +163,22 @@ export async function retryFailed(database: Database, boss: PgBoss, id: string) 
       before: { failed: failed.length },
       after: { queued: failed.length, items: failed.map((i) => i.id) },
     });
-    for (const item of failed) {
-      if (item.presetVersionId) await tx.send(QUEUES.output, { batchItemId: item.id });
-      else await tx.send(QUEUES.render, { fragmentId: item.fragmentId, revision: (await tx.db.select({ r: fragments.revision }).from(fragments).where(eq(fragments.id, item.fragmentId)))[0]!.r, batchItemId: item.id });
+    const outputsAgain = failed.filter((i) => i.presetVersionId);
+    await tx.sendMany(QUEUES.output, outputsAgain.map((i) => ({ batchItemId: i.id })));
+    // A recipe batch's items render their fragment again: it reads as queued, as when first applied.
+    const rendersAgain = failed.filter((i) => !i.presetVersionId);
+    for (let i = 0; i < rendersAgain.length; i += SEND_CHUNK) {
+      const chunk = rendersAgain.slice(i, i + SEND_CHUNK);
+      const rows = await tx.db
+        .update(fragments)
+        .set({ renderState: "queued", renderError: null })
+        .where(inArray(fragments.id, chunk.map((c) => c.fragmentId)))
+        .returning({ id: fragments.id, revision: fragments.revision });
+      const revision = new Map(rows.map((r) => [r.id, r.revision]));
+      await tx.sendMany(
+        QUEUES.render,
+        chunk.filter((c) => revision.has(c.fragmentId)).map((c) => ({ fragmentId: c.fragmentId, revision: revision.get(c.fragmentId)!, batchItemId: c.id })),
+      );
     }
     await tx.db.update(batches).set({ finishedAt: null, updatedAt: new Date() }).where(eq(batches.id, id));
     await tx.notify({ kind: "worker" });
