@@ -167,6 +167,26 @@ describe("batches in the browser", () => {
     expect(after.items.filter((o) => o.preset === "print-letter").map((o) => o.fileName).sort()).toEqual([...oldPrintFiles].sort());
     // Replaced: the old batch no longer holds its old web files (removed once the new ones were made).
     await expect.poll(async () => (await detail(batchId)).items.filter((o) => o.preset === "web" && o.fileName !== null).length, { timeout: 10_000 }).toBe(0);
+
+    // The old batch's page says so: its web rows read "Replaced" (not "Done" with no file), and
+    // the download counts only the files the zip still holds: the two print files.
+    await page.goto(`${stack.url}/batches/${batchId}`);
+    const replacedRows = page.locator("tr[data-replaced]");
+    await expect.poll(() => replacedRows.count(), { timeout: 10_000 }).toBe(2);
+    for (const row of await replacedRows.all()) {
+      const c = await row.locator("td").allTextContents();
+      expect(c[1]?.trim()).toBe("web");
+      expect(c[2]?.trim()).toBe("Replaced");
+    }
+    expect(await page.locator("tr:not([data-replaced])").filter({ has: page.locator("td") }).count()).toBe(2);
+    expect(await page.getByTestId("batch-download").textContent()).toBe("Download zip (2 files)");
+    expect(await page.getByTestId("replaced-note").textContent()).toMatch(/2 outputs were replaced by a later run/);
+    const oldZip = await page.request.get(`${stack.url}/api/batches/${batchId}/download?pack=plain`);
+    expect(oldZip.status()).toBe(200);
+    // Entries in a zip: one central directory file header, signature "PK\x01\x02", each
+    // (PKWARE APPNOTE.TXT 4.3.12): the two print files and outputs.csv.
+    const zipBody = (await oldZip.body()).toString("latin1");
+    expect(zipBody.split("PK\x01\x02").length - 1).toBe(3);
     await page.close();
   }, 180_000);
 });

@@ -5,13 +5,14 @@ type Variant = "primary" | "secondary" | "quiet" | "danger";
 type Size = "sm" | "md";
 
 const VARIANTS: Record<Variant, string> = {
+  // Disabled: a quiet paper ground with text that can still be read (the label often says why).
   primary:
-    "bg-accent text-paper-50 hover:bg-accent-strong disabled:bg-ink-faint border border-transparent",
+    "bg-accent text-paper-50 hover:bg-accent-strong border border-transparent disabled:border-paper-300 disabled:bg-paper-200 disabled:text-ink-muted",
   secondary:
     "bg-paper-50 text-ink border border-paper-300 hover:border-ink-faint hover:bg-white disabled:text-ink-faint",
   quiet: "bg-transparent text-ink-soft hover:bg-paper-200 hover:text-ink border border-transparent",
   danger:
-    "bg-brick text-paper-50 hover:bg-[#8a3a27] border border-transparent disabled:bg-ink-faint",
+    "bg-brick text-paper-50 hover:bg-[#8a3a27] border border-transparent disabled:border-paper-300 disabled:bg-paper-200 disabled:text-ink-muted",
 };
 
 const SIZES: Record<Size, string> = {

@@ -36,7 +36,7 @@ export function ScansRoute() {
 
       <section
         aria-label="Scan list"
-        className="rounded-xl border border-paper-300 bg-paper-50 shadow-sheet"
+        className="@container rounded-xl border border-paper-300 bg-paper-50 shadow-sheet"
       >
         <div className="border-b border-paper-200 px-5 pt-4 pb-5">
           <ScanFiltersBar filters={filters} intakes={intakes.data ?? []} onChange={setFilters} />

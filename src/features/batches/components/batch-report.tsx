@@ -14,7 +14,15 @@ import { OutputsTable } from "./outputs-table";
 import { RerunPanel } from "./rerun-panel";
 
 /** A batch: its progress, failures with their messages, every output, downloads and a re-run. */
-export function BatchReport({ report, presets, back }: { report: Report; presets: PresetSummary[]; back: React.ReactNode }) {
+export function BatchReport({
+  report,
+  presets,
+  back,
+}: {
+  report: Report;
+  presets: PresetSummary[];
+  back: React.ReactNode;
+}) {
   const { batch, items } = report;
   const retry = useRetryBatch(batch.id);
   const cancel = useCancelBatch(batch.id);
@@ -24,6 +32,14 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
   const presetNames = new Set(items.map((i) => i.preset));
   const current = presets.filter((p) => presetNames.has(p.name)).map((p) => p.id);
   const fragments = new Set(items.map((i) => i.fragmentId)).size;
+  // A replacing re-run removes the old files once the new ones are made: such an output is done
+  // but has no file any more, and the zip leaves it out.
+  const replaced = new Set(
+    batch.kind === "recipe"
+      ? []
+      : items.filter((i) => i.state === "done" && i.fileName === null).map((i) => i.id),
+  );
+  const files = items.filter((i) => i.state === "done" && i.fileName !== null).length;
 
   return (
     <>
@@ -35,7 +51,8 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
         }
         description={
           <>
-            {plural(fragments, "fragment")} × {plural(presetNames.size, "preset")} = {plural(batch.counts.total, "output")}. {back}
+            {plural(fragments, "fragment")} × {plural(presetNames.size, "preset")} ={" "}
+            {plural(batch.counts.total, "output")}. {back}
           </>
         }
         actions={
@@ -44,7 +61,11 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
               <Button
                 variant="secondary"
                 busy={cancel.isPending}
-                onClick={() => cancel.mutate(undefined, { onSuccess: () => toast.info("Cancelled what had not started.") })}
+                onClick={() =>
+                  cancel.mutate(undefined, {
+                    onSuccess: () => toast.info("Cancelled what had not started."),
+                  })
+                }
               >
                 Cancel the rest
               </Button>
@@ -53,7 +74,14 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
               <Button
                 variant="primary"
                 busy={retry.isPending}
-                onClick={() => retry.mutate(undefined, { onSuccess: () => toast.success(`Queued ${plural(batch.counts.failed, "failed output")} again.`) })}
+                onClick={() =>
+                  retry.mutate(undefined, {
+                    onSuccess: () =>
+                      toast.success(
+                        `Queued ${plural(batch.counts.failed, "failed output")} again.`,
+                      ),
+                  })
+                }
               >
                 Retry {batch.counts.failed} failed
               </Button>
@@ -72,7 +100,12 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
                 {failed.slice(0, 8).map((o) => (
                   <li key={o.id}>
                     <span className="font-medium text-ink">
-                      {fragmentLabel({ title: o.fragmentTitle, position: o.position, scanName: o.scanName })} · {o.preset}
+                      {fragmentLabel({
+                        title: o.fragmentTitle,
+                        position: o.position,
+                        scanName: o.scanName,
+                      })}{" "}
+                      · {o.preset}
                     </span>
                     : {o.error ?? "no message"}
                   </li>
@@ -89,13 +122,18 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
             </Notice>
           )}
         </div>
-        <DownloadPanel batchId={batch.id} ready={batch.counts.done > 0} doneCount={batch.counts.done} />
+        <DownloadPanel
+          batchId={batch.id}
+          ready={batch.kind === "recipe" ? batch.counts.done > 0 : files > 0}
+          fileCount={batch.kind === "recipe" ? batch.counts.done : files}
+          replacedCount={replaced.size}
+        />
         <Can role="operator">
           <RerunPanel key={current.join()} batchId={batch.id} presets={presets} current={current} />
         </Can>
       </div>
       <Panel title="Outputs" titleId="batch-outputs" bodyClassName="p-0" className="mt-6">
-        <OutputsTable items={items} />
+        <OutputsTable items={items} replaced={replaced} />
       </Panel>
     </>
   );

@@ -4,7 +4,19 @@ import { cn } from "../../../lib/cn";
 import { batchDownloadUrl } from "../api/get-batch-report";
 
 /** The zip of the batch's files with a CSV of each output; the listing pack adds a rights notice. */
-export function DownloadPanel({ batchId, ready, doneCount }: { batchId: string; ready: boolean; doneCount: number }) {
+export function DownloadPanel({
+  batchId,
+  ready,
+  fileCount,
+  replacedCount = 0,
+}: {
+  batchId: string;
+  ready: boolean;
+  /** Files the zip holds: the outputs made and still kept. */
+  fileCount: number;
+  /** Outputs whose files a later, replacing run removed. */
+  replacedCount?: number;
+}) {
   const [pack, setPack] = useState<"plain" | "listing">("plain");
   return (
     <Panel title="Download" titleId="batch-download">
@@ -12,24 +24,43 @@ export function DownloadPanel({ batchId, ready, doneCount }: { batchId: string; 
         <fieldset className="flex flex-col gap-2">
           <legend className="sr-only">Pack</legend>
           <label className="flex items-start gap-2 text-sm text-ink">
-            <input type="radio" name="pack" checked={pack === "plain"} onChange={() => setPack("plain")} className="mt-0.5 size-4 accent-accent" />
+            <input
+              type="radio"
+              name="pack"
+              checked={pack === "plain"}
+              onChange={() => setPack("plain")}
+              className="mt-0.5 size-4 accent-accent"
+            />
             <span>
               Files and CSV
-              <span className="block text-[11px] text-ink-muted">Each output with its sizes, effective DPI and checksum</span>
+              <span className="block text-[11px] text-ink-muted">
+                Each output with its sizes, effective DPI and checksum
+              </span>
             </span>
           </label>
           <label className="flex items-start gap-2 text-sm text-ink">
-            <input type="radio" name="pack" checked={pack === "listing"} onChange={() => setPack("listing")} className="mt-0.5 size-4 accent-accent" />
+            <input
+              type="radio"
+              name="pack"
+              checked={pack === "listing"}
+              onChange={() => setPack("listing")}
+              className="mt-0.5 size-4 accent-accent"
+            />
             <span>
               Listing pack
-              <span className="block text-[11px] text-ink-muted">The same, with a short rights notice for sale or publication</span>
+              <span className="block text-[11px] text-ink-muted">
+                The same, with a short rights notice for sale or publication
+              </span>
             </span>
           </label>
         </fieldset>
         {pack === "listing" && (
-          <p className="rounded-md border border-ochre/30 bg-ochre-soft/60 px-3 py-2 text-xs text-ochre" data-testid="rights-caution">
-            Pieces cut from printed publications may still be under copyright: check rights and licences under local law before
-            selling or publishing them.
+          <p
+            className="rounded-md border border-ochre/30 bg-ochre-soft/60 px-3 py-2 text-xs text-ochre"
+            data-testid="rights-caution"
+          >
+            Pieces cut from printed publications may still be under copyright: check rights and
+            licences under local law before selling or publishing them.
           </p>
         )}
         <a
@@ -39,12 +70,27 @@ export function DownloadPanel({ batchId, ready, doneCount }: { batchId: string; 
           data-testid="batch-download"
           className={cn(
             "inline-flex h-10 items-center justify-center rounded-md px-4 text-sm font-medium",
-            ready ? "bg-accent text-paper-50 hover:bg-accent-strong" : "cursor-not-allowed bg-ink-faint text-paper-50",
+            ready
+              ? "bg-accent text-paper-50 hover:bg-accent-strong"
+              : "cursor-not-allowed border border-paper-300 bg-paper-200 text-ink-muted",
           )}
         >
-          Download zip{doneCount > 0 ? ` (${doneCount} files)` : ""}
+          Download zip{fileCount > 0 ? ` (${fileCount} ${fileCount === 1 ? "file" : "files"})` : ""}
         </a>
-        {!ready && <p className="text-[11px] text-ink-muted">Ready once at least one output is done.</p>}
+        {replacedCount > 0 && (
+          <p className="text-[11px] text-ink-muted" data-testid="replaced-note">
+            {replacedCount === 1 ? "1 output was" : `${replacedCount} outputs were`} replaced by a
+            later run;
+            {replacedCount === 1 ? " its file is" : " their files are"} not in the zip.
+          </p>
+        )}
+        {!ready && (
+          <p className="text-[11px] text-ink-muted">
+            {replacedCount > 0
+              ? "Every file of this batch was replaced by a later run."
+              : "Ready once at least one output is done."}
+          </p>
+        )}
       </div>
     </Panel>
   );

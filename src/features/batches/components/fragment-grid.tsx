@@ -5,6 +5,7 @@ import { Spinner } from "../../../components/button";
 import { EmptyNote } from "../../../components/panel";
 import { cn } from "../../../lib/cn";
 import { fragmentLabel, thumbUrl } from "../format";
+import { FragmentName } from "../../../components/fragment-name";
 
 const STATUS_TEXT: Record<Fragment["status"], string> = { approved: "Approved", proposed: "To review", rejected: "Rejected" };
 
@@ -56,11 +57,12 @@ export function FragmentGrid({
                 <img src={thumbUrl(f)} alt="" loading="lazy" decoding="async" className="max-h-full max-w-full bg-white object-contain shadow-sm" />
               </span>
               <span className="flex flex-col gap-0.5 px-2.5 py-2">
-                <span className="truncate text-xs font-medium text-ink" title={fragmentLabel(f)}>
-                  {fragmentLabel(f)}
-                </span>
+                <FragmentName fragment={f} className="text-xs font-medium text-ink" />
                 <span className="figure text-[11px] text-ink-muted">
-                  {formatNumber(f.sizeIn.width, 1)} × {formatNumber(f.sizeIn.height, 1)} in · {Math.round(f.dpi.x)} DPI
+                  <span className="whitespace-nowrap">
+                    {formatNumber(f.sizeIn.width, 1)} × {formatNumber(f.sizeIn.height, 1)} in
+                  </span>{" "}
+                  · <span className="whitespace-nowrap">{Math.round(f.dpi.x)} DPI</span>
                 </span>
                 <span
                   className={cn(

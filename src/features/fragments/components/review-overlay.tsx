@@ -32,6 +32,8 @@ type Drag =
 
 /** Screen pixels a press may wander before it counts as a drag rather than a click. */
 const CLICK_SLOP = 3;
+/** Screen pixels of room kept around the scan (or the zoomed window of it). */
+const VIEW_RIM = 36;
 
 const placementOf = (f: ShownFragment): Placement => ({ rect: f.rect, angle: f.angle });
 
@@ -43,8 +45,8 @@ function boxOf(p: Placement) {
 }
 
 /**
- * The scan's preview with every fragment drawn over it, in scan pixels (the SVG's viewBox is the
- * scan, so geometry from the API is drawn as it is). Zoomed in, the view follows the selected
+ * The scan's preview with every fragment drawn over it, in scan pixels (the SVG's units are the
+ * scan's pixels, with a thin rim around it, so geometry from the API is drawn as it is). Zoomed in, the view follows the selected
  * fragment. Editing is by dragging: the body moves, the square handles resize along the piece's
  * own sides, the round handle turns it. Changes are reported once, when the pointer is released.
  */
@@ -124,7 +126,14 @@ export function ReviewOverlay({
   }
   const vx = clamp(view.centre[0] - vw / 2, 0, W - vw);
   const vy = clamp(view.centre[1] - vh / 2, 0, H - vh);
-  const k = size.w > 0 && size.h > 0 ? Math.max(vw / size.w, vh / size.h) : W / 800;
+  // A rim of screen pixels around the view, so a piece at the scan's edge keeps its label and
+  // its turning handle in sight.
+  const rim = size.w > 4 * VIEW_RIM && size.h > 4 * VIEW_RIM ? VIEW_RIM : 0;
+  const k =
+    size.w > 0 && size.h > 0
+      ? Math.max(vw / (size.w - 2 * rim), vh / (size.h - 2 * rim))
+      : W / 800;
+  const pad = rim * k;
 
   const toScan = (event: { clientX: number; clientY: number }): Point => {
     const svg = svgRef.current;
@@ -262,7 +271,7 @@ export function ReviewOverlay({
     >
       <svg
         ref={svgRef}
-        viewBox={`${vx} ${vy} ${vw} ${vh}`}
+        viewBox={`${vx - pad} ${vy - pad} ${vw + 2 * pad} ${vh + 2 * pad}`}
         preserveAspectRatio="xMidYMid meet"
         className="absolute inset-0 size-full touch-none"
         style={{ cursor: drawMode && editable ? "crosshair" : zoom > 1 ? "grab" : "default" }}

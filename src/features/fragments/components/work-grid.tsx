@@ -2,8 +2,9 @@ import { Link } from "react-router-dom";
 import type { Fragment } from "../../../../shared/schemas/fragments";
 import { paths } from "../../../config/paths";
 import { fragmentThumbUrl } from "../api/get-fragment";
-import { formatFragmentSize, fragmentName, type LengthUnit } from "../format";
+import { formatFragmentSize, type LengthUnit } from "../format";
 import { ThumbImage } from "./thumb-image";
+import { FragmentName } from "../../../components/fragment-name";
 
 /** Approved fragments as a grid of upright pictures, each with its name and size. */
 export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: LengthUnit }) {
@@ -20,12 +21,10 @@ export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: Len
           >
             <Picture fragment={f} />
             <span className="flex flex-1 flex-col gap-0.5 px-3 py-2.5">
-              <span
-                className="truncate text-sm font-medium text-ink group-hover:text-accent"
-                title={fragmentName(f)}
-              >
-                {fragmentName(f)}
-              </span>
+              <FragmentName
+                fragment={f}
+                className="text-sm font-medium text-ink group-hover:text-accent"
+              />
               <span className="figure text-xs text-ink-muted">
                 {formatFragmentSize(f.rect, f.dpi, unit)}
               </span>

@@ -58,7 +58,9 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
   const { ok, errors: allErrors } = useMemo(() => problemsOf(draft), [draft]);
   const onlyName = !ok && Object.keys(allErrors).every((k) => k === "name");
   const errors: Record<string, string> =
-    attempted || draft.name.trim() !== "" ? allErrors : Object.fromEntries(Object.entries(allErrors).filter(([k]) => k !== "name"));
+    attempted || draft.name.trim() !== "" ? { ...allErrors } : Object.fromEntries(Object.entries(allErrors).filter(([k]) => k !== "name"));
+  // The schema's words for an empty name are for the API; the form asks plainly.
+  if (errors["name"] && draft.name.trim() === "") errors["name"] = "Give the preset a name.";
   const saved = detail?.preset;
   const dirty = !saved || JSON.stringify(saved.settings) !== JSON.stringify(draft);
   const busy = create.isPending || update.isPending;
@@ -193,23 +195,28 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
         </Panel>
         <div className="flex flex-col gap-6 lg:sticky lg:top-6">
           <Panel
-            title="What it makes"
+            title={<span className="whitespace-nowrap">What it makes</span>}
             titleId="preset-picture"
             actions={
-              <SelectField
-                label={<span className="sr-only">Try on</span>}
-                value={chosen?.id ?? "invented"}
-                onChange={(e) => setSampleId(e.target.value)}
-                fieldClassName="w-64"
-                className="h-8 text-xs"
-              >
-                {sampleList.map((f) => (
-                  <option key={f.id} value={f.id}>
-                    Try on: {fragmentName(f)}
-                  </option>
-                ))}
-                <option value="invented">Try on: invented 5 × 7 in</option>
-              </SelectField>
+              <span className="flex min-w-0 items-center gap-2">
+                <span aria-hidden="true" className="text-xs whitespace-nowrap text-ink-muted">
+                  Try on
+                </span>
+                <SelectField
+                  label={<span className="sr-only">Try on</span>}
+                  value={chosen?.id ?? "invented"}
+                  onChange={(e) => setSampleId(e.target.value)}
+                  fieldClassName="w-56 min-w-0 shrink"
+                  className="h-8 text-xs"
+                >
+                  {sampleList.map((f) => (
+                    <option key={f.id} value={f.id}>
+                      {fragmentName(f)}
+                    </option>
+                  ))}
+                  <option value="invented">an invented 5 × 7 in piece</option>
+                </SelectField>
+              </span>
             }
           >
             {picture}

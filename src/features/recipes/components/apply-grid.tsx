@@ -10,6 +10,7 @@ import { useApplyRecipe } from "../api/apply-recipe";
 import { MAX_POOL } from "../api/get-fragment-pool";
 import { fragmentLabel, plural, thumbUrl } from "../format";
 import { BatchProgress } from "./batch-progress";
+import { FragmentName } from "../../../components/fragment-name";
 
 const STATUS_TEXT: Record<Fragment["status"], string> = {
   approved: "Approved",
@@ -177,9 +178,7 @@ export function ApplyGrid({
                     />
                   </span>
                   <span className="flex flex-col gap-0.5 px-2.5 py-2">
-                    <span className="truncate text-xs font-medium text-ink">
-                      {fragmentLabel(f)}
-                    </span>
+                    <FragmentName fragment={f} className="text-xs font-medium text-ink" />
                     <span
                       className={cn(
                         "text-[11px]",

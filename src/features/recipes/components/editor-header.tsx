@@ -40,9 +40,8 @@ export function EditorHeader({
       <div className="min-w-0">
         <p className="text-xs text-ink-muted">
           <Link to={paths.recipes} className="hover:text-accent hover:underline">
-            Recipes
-          </Link>{" "}
-          /
+            All recipes
+          </Link>
         </p>
         <div className="mt-1 flex flex-wrap items-center gap-2.5">
           <h1 className="truncate text-2xl font-semibold tracking-tight text-ink">{name}</h1>

@@ -5,6 +5,7 @@ import { EmptyNote } from "../../../components/panel";
 import { cn } from "../../../lib/cn";
 import { fragmentLabel, thumbUrl } from "../format";
 import { RemoveIcon } from "./icons";
+import { FragmentName } from "../../../components/fragment-name";
 
 /** Fragments previewed side by side at most. */
 export const MAX_PREVIEWS = 3;
@@ -122,9 +123,10 @@ export function FragmentPicker({
                           className="max-h-full max-w-full object-contain"
                         />
                       </span>
-                      <span className="truncate px-1.5 py-1 text-[11px] text-ink-soft">
-                        {fragmentLabel(f)}
-                      </span>
+                      <FragmentName
+                        fragment={f}
+                        className="px-1.5 py-1 text-[11px] text-ink-soft"
+                      />
                       {f.status === "proposed" && (
                         <span className="px-1.5 pb-1 text-[10px] font-medium text-ochre">
                           To review

@@ -9,16 +9,19 @@ export function DpiValue({
   dpi,
   showOrigin = false,
   axes = false,
+  wrap = false,
 }: {
   dpi: Scan["dpi"];
   showOrigin?: boolean;
   /** Name both axes ("x 300 · y 300 DPI") even when they agree. */
   axes?: boolean;
+  /** Let the "assumed" tag go under the figure in a narrow column. */
+  wrap?: boolean;
 }) {
   if (!dpi) return <span className="text-ink-faint">—</span>;
   return (
-    <span className={cn("inline-flex items-center gap-x-2 gap-y-1", axes && "flex-wrap")}>
-      <span className="figure">
+    <span className={cn("inline-flex items-center gap-x-2 gap-y-1", (axes || wrap) && "flex-wrap")}>
+      <span className="figure whitespace-nowrap">
         {axes ? `x ${formatNumber(dpi.x, 2)} · y ${formatNumber(dpi.y, 2)} DPI` : formatDpi(dpi)}
       </span>
       {dpi.source === "assumed" ? (

@@ -38,7 +38,7 @@ export function ScanFiltersBar({
         placeholder="e.g. march-sheet"
         value={q}
         onChange={(e) => setQ(e.target.value)}
-        fieldClassName="w-72"
+        fieldClassName="w-60 xl:w-72"
       />
       <SelectField
         label="Status"
@@ -59,7 +59,7 @@ export function ScanFiltersBar({
         label="Intake"
         value={filters.intakeId ?? ""}
         onChange={(e) => onChange({ intakeId: e.target.value || undefined })}
-        fieldClassName="w-64"
+        fieldClassName="w-56 xl:w-64"
       >
         <option value="">All intakes</option>
         {intakes.map((intake) => (

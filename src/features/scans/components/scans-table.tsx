@@ -17,6 +17,11 @@ interface Column {
   label: string;
   /** Fixed column width; the file name takes what is left. */
   width?: string;
+  /**
+   * Shown only when the list is wide enough (a container query on the list): on a narrow window
+   * the file name keeps room to be read, and the pixels move under the DPI.
+   */
+  wideOnly?: boolean;
   sort?: SortField;
   /** The direction a first click sorts in: names A→Z, sizes and dates largest/newest first. */
   firstDir?: SortDir;
@@ -25,8 +30,8 @@ interface Column {
 
 const COLUMNS: Column[] = [
   { label: "File name", sort: "originalName", firstDir: "asc" },
-  { label: "Pixels", sort: "width", firstDir: "desc", width: "w-[8rem]" },
-  { label: "DPI", sort: "dpi", firstDir: "desc", width: "w-[9.5rem]" },
+  { label: "Pixels", sort: "width", firstDir: "desc", width: "w-[8rem]", wideOnly: true },
+  { label: "DPI", sort: "dpi", firstDir: "desc", width: "w-[7.5rem] @5xl:w-[9.5rem]" },
   { label: "Physical size", width: "w-[8.5rem]" },
   { label: "Status", sort: "status", firstDir: "asc", width: "w-[8.5rem]" },
   {
@@ -35,15 +40,19 @@ const COLUMNS: Column[] = [
     firstDir: "desc",
     className: "text-right",
     width: "w-[5.5rem]",
+    wideOnly: true,
   },
   {
     label: "Added",
     sort: "createdAt",
     firstDir: "desc",
     className: "text-right",
-    width: "w-[8.5rem]",
+    width: "w-[7.5rem] @5xl:w-[8.5rem]",
   },
 ];
+
+/** A wide-only column's cells: gone from the table's layout on a narrow list. */
+const WIDE_ONLY = "hidden @5xl:table-cell";
 
 function isTyping(target: EventTarget | null): boolean {
   if (!(target instanceof HTMLElement)) return false;
@@ -143,15 +152,9 @@ export function ScansTable({
       <caption className="sr-only">
         Scans. Use j and k or the arrow keys to move between rows and Enter to open one.
       </caption>
-      <colgroup>
-        <col className="w-[4.25rem]" />
-        {COLUMNS.map((col) => (
-          <col key={col.label} className={col.width} />
-        ))}
-      </colgroup>
       <thead>
         <tr className="border-b border-paper-300 text-left text-xs font-semibold tracking-wide text-ink-muted">
-          <th scope="col" className="py-2.5 pl-4">
+          <th scope="col" className="w-[4.25rem] py-2.5 pl-4">
             <span className="sr-only">Thumbnail</span>
           </th>
           {COLUMNS.map((col) => {
@@ -168,7 +171,12 @@ export function ScansTable({
                 key={col.label}
                 scope="col"
                 aria-sort={ariaSort}
-                className={cn("px-3 py-2.5 whitespace-nowrap last:pr-5", col.className)}
+                className={cn(
+                  "px-3 py-2.5 whitespace-nowrap last:pr-5",
+                  col.width,
+                  col.wideOnly && WIDE_ONLY,
+                  col.className,
+                )}
               >
                 {col.sort ? (
                   <button
@@ -234,11 +242,16 @@ export function ScansTable({
                   {scan.duplicateOf && <> · same as {scan.duplicateOf.originalName}</>}
                 </span>
               </td>
-              <td className="figure px-3 py-2 text-xs whitespace-nowrap text-ink-soft">
+              <td className={cn("figure px-3 py-2 text-xs whitespace-nowrap text-ink-soft", WIDE_ONLY)}>
                 {pixels ?? <Dash />}
               </td>
-              <td className="px-3 py-2 text-xs whitespace-nowrap">
-                <DpiValue dpi={scan.dpi} />
+              <td className="px-3 py-2 text-xs">
+                <DpiValue dpi={scan.dpi} wrap />
+                {pixels && (
+                  <span className="figure mt-0.5 block whitespace-nowrap text-ink-muted @5xl:hidden">
+                    {pixels}
+                  </span>
+                )}
               </td>
               <td className="figure px-3 py-2 text-xs leading-5 whitespace-nowrap text-ink-soft">
                 {phys ? (
@@ -260,7 +273,12 @@ export function ScansTable({
                 )}
                 <ReviewState scan={scan} canReview={canReview} />
               </td>
-              <td className="figure px-3 py-2 text-right text-xs whitespace-nowrap text-ink-soft">
+              <td
+                className={cn(
+                  "figure px-3 py-2 text-right text-xs whitespace-nowrap text-ink-soft",
+                  WIDE_ONLY,
+                )}
+              >
                 {formatBytes(scan.sizeBytes)}
               </td>
               <td
