@@ -9,9 +9,9 @@ import { getBatch } from "./batches";
 import { presetsForRun } from "./presets";
 import { recipeVersionFor } from "./recipes";
 import type { CreateBatchBody } from "../../shared/schemas/preset-api";
-import type { Preset } from "../../shared/schemas/presets";
 import { outputFileName } from "../presenters/fragment";
 import { recordAudit } from "./audit";
+import { estimateOutputBytes, type MasterFacts } from "./output-estimate";
 
 /** The approved fragments a selection names. Batches make copies of approved work only. */
 export async function selectFragments(db: Db, selection: CreateBatchBody["selection"]) {
@@ -32,23 +32,33 @@ export async function selectFragments(db: Db, selection: CreateBatchBody["select
 export const dedupeKey = (fragmentId: string, revision: number, recipeVersionId: string, presetVersionId: string) =>
   `${fragmentId}:r${revision}:${recipeVersionId}:${presetVersionId}`;
 
-/** A rough size per output, for the estimate (bytes); real sizes are reported once made. */
-function roughBytes(p: Preset): number {
-  switch (p.kind) {
-    case "web":
-      return 600_000;
-    case "mockup":
-      return 900_000;
-    case "print":
-      return p.output === "pdf" ? 3_000_000 : 25_000_000;
-    default:
-      return 60_000_000;
-  }
-}
-
+/**
+ * The batch builder's review: how many outputs, how many are made already (and reused), and the
+ * expected bytes of the rest, from each fragment's master (estimateOutputBytes). A fragment whose
+ * master is not made yet counts at its size in the scan with a typical busyness.
+ */
 export async function estimateBatch(db: Db, body: CreateBatchBody) {
   const picked = await selectFragments(db, body.selection);
   const list = await presetsForRun(db, body.presetIds);
+  const facts = new Map<string, MasterFacts>();
+  for (let i = 0; i < picked.length; i += SEND_CHUNK) {
+    const ids = picked.slice(i, i + SEND_CHUNK).map((f) => f.id);
+    const rows = await db
+      .select({ id: fragments.id, rect: fragments.rect, scanDpi: scans.dpiX, master: outputs })
+      .from(fragments)
+      .innerJoin(scans, eq(scans.id, fragments.scanId))
+      .leftJoin(outputs, and(eq(outputs.fragmentId, fragments.id), eq(outputs.kind, "master")))
+      .where(inArray(fragments.id, ids));
+    for (const r of rows) {
+      const m = r.master;
+      facts.set(
+        r.id,
+        m
+          ? { width: m.width, height: m.height, dpi: m.dpi, bytes: m.bytes, bitDepth: m.bitDepth, hasAlpha: m.hasAlpha }
+          : { width: Math.round(r.rect.width), height: Math.round(r.rect.height), dpi: r.scanDpi ?? 300, bytes: 0, bitDepth: 8, hasAlpha: false },
+      );
+    }
+  }
   let reused = 0;
   let expectedBytes = 0;
   for (const f of picked) {
@@ -56,7 +66,7 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
     for (const p of list) {
       const [made] = await db.select({ id: outputs.id }).from(outputs).where(eq(outputs.dedupeKey, dedupeKey(f.id, f.revision, recipe.id, p.versionId)));
       if (made) reused++;
-      else expectedBytes += roughBytes(p.settings);
+      else expectedBytes += estimateOutputBytes(facts.get(f.id)!, p.settings);
     }
   }
   const warnings = picked.length === 0 ? ["No approved fragment matches this selection."] : [];
