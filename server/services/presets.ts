@@ -2,7 +2,7 @@ import { and, asc, desc, eq, inArray, isNull, sql } from "drizzle-orm";
 import { isUniqueClash, type Db } from "../db";
 import { presetVersions, presets } from "../db/schema";
 import { conflict, notFound } from "../errors";
-import { BUILT_IN_PRESETS, type Preset } from "../../shared/schemas/presets";
+import { BUILT_IN_PRESETS, KIND_WORDS, type Preset } from "../../shared/schemas/presets";
 import type { PresetSummary } from "../../shared/schemas/preset-api";
 import { recordAudit } from "./audit";
 
@@ -74,7 +74,7 @@ export async function createPreset(db: Db, actorId: string, body: { name: string
       action: "preset.create",
       subjectType: "preset",
       subjectId: row!.id,
-      summary: `Made the ${row!.kind} preset "${row!.name}" (version 1)`,
+      summary: `Made the ${KIND_WORDS[row!.kind]} preset "${row!.name}" (version 1)`,
       after: { name: row!.name, kind: row!.kind, version: 1, versionId: v!.id, settings: body.settings },
     });
     return row!.id;
@@ -89,7 +89,7 @@ const canonical = (v: unknown) =>
 export async function updatePreset(db: Db, actorId: string, id: string, body: { name?: string; settings?: Preset }) {
   const { preset } = await getPreset(db, id);
   if (body.settings && body.settings.kind !== preset.kind) {
-    throw conflict(`A ${preset.kind} preset stays a ${preset.kind} preset; make a new preset for ${body.settings.kind} output.`, "settings.kind");
+    throw conflict(`A ${KIND_WORDS[preset.kind]} preset stays a ${KIND_WORDS[preset.kind]} preset; make a new preset for ${KIND_WORDS[body.settings.kind]} output.`, "settings.kind");
   }
   if (body.name && body.name !== preset.name) {
     if (preset.builtIn) throw conflict("A built-in preset keeps its name; save a copy under a new name instead.", "name");

@@ -259,3 +259,6 @@ const BUILT_IN_INPUTS: readonly PresetInput[] = [
 export const BUILT_IN_PRESETS: Readonly<Record<string, Preset>> = Object.freeze(
   Object.fromEntries(BUILT_IN_INPUTS.map((p) => [p.name, presetSchema.parse(p)])),
 );
+
+/** Each kind in a sentence ("the mock-up preset"). */
+export const KIND_WORDS: Record<PresetKind, string> = { web: "web", print: "print", mockup: "mock-up", master: "master" };

@@ -1,4 +1,4 @@
-import sharp from "sharp";
+import sharp, { type Sharp } from "sharp";
 
 /**
  * Invented test pieces of three kinds for size estimates: "flat" (one colour), "smooth" (slow
@@ -6,7 +6,7 @@ import sharp from "sharp";
  * or a halftone scanned coarsely). An LZW TIFF at 300 DPI, as a master is written.
  */
 export async function texturedPiece(kind: "flat" | "smooth" | "grainy", width: number, height: number, file: string): Promise<void> {
-  let img: sharp.Sharp;
+  let img: Sharp;
   if (kind === "flat") img = sharp({ create: { width, height, channels: 3, background: "#8a5a44" } });
   else {
     const raw = Buffer.alloc(width * height * 3);
