@@ -10,7 +10,7 @@ import type { Role } from "../../shared/roles";
 import { hasRole } from "../../shared/roles";
 import type { DetectedPiece, Fragment, FragmentGeometry, Rect, UpdateFragmentBody } from "../../shared/schemas/fragments";
 import { changedFields, recordAudit } from "./audit";
-import { boxOfPoints, convexHull, minAreaRect, polygonArea, rectCorners, rotatePoint, type Point } from "../../shared/geometry";
+import { boxOfPoints, convexHull, minAreaRect, polygonArea, readingOrder, rectCorners, rotatePoint, type Point } from "../../shared/geometry";
 
 type FragmentRow = typeof fragments.$inferSelect;
 type ScanRow = typeof scans.$inferSelect;
@@ -112,10 +112,6 @@ function geometryFromRect(scan: ScanRow, rect: Rect, angle: number, shape: Fragm
 }
 
 /** Reading order on the bed: rows top to bottom (by centre, in bands of a third of a piece), then left to right. */
-function byReadingOrder<T extends { rect: Rect }>(items: T[]): T[] {
-  const band = Math.max(1, Math.min(...items.map((i) => i.rect.height)) / 3);
-  return [...items].sort((a, b) => Math.round(a.rect.cy / band) - Math.round(b.rect.cy / band) || a.rect.cx - b.rect.cx);
-}
 
 async function queueRender(tx: Tx, row: Pick<FragmentRow, "id" | "revision" | "scanId">) {
   await tx.db.update(fragments).set({ renderState: "queued", renderError: null }).where(eq(fragments.id, row.id));
@@ -137,8 +133,11 @@ export async function replaceProposals(tx: Tx, scan: ScanRow, pieces: DetectedPi
       const iy = Math.max(0, Math.min(k.box.y + k.box.height, p.box.y + p.box.height) - Math.max(k.box.y, p.box.y));
       return ix * iy > 0.5 * p.box.width * p.box.height;
     });
-  const fresh = byReadingOrder(pieces.filter((p) => !overlapsKept(p)));
-  const ordered = byReadingOrder([...kept.map((k) => ({ rect: k.rect, id: k.id as string | null, piece: null as DetectedPiece | null })), ...fresh.map((p) => ({ rect: p.rect, id: null, piece: p }))]);
+  const fresh = readingOrder(pieces.filter((p) => !overlapsKept(p)), (p) => p.box);
+  const ordered = readingOrder(
+    [...kept.map((k) => ({ box: k.box, id: k.id as string | null, piece: null as DetectedPiece | null })), ...fresh.map((p) => ({ box: p.box, id: null, piece: p }))],
+    (i) => i.box,
+  );
   let position = 0;
   for (const item of ordered) {
     position++;

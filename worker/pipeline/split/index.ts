@@ -2,6 +2,7 @@ import type { DetectedPiece } from "../../../shared/schemas/fragments";
 import type { DpiSource } from "../../../shared/schemas/scans";
 import { DEFAULT_DPI, DEFAULT_MAX_PIXELS } from "../../../shared/limits";
 import { MM_PER_INCH } from "../../../shared/units";
+import { readingOrder } from "../../../shared/geometry";
 import { readScanHeader } from "../metadata";
 import { ensureDecodedCopy } from "../render/cut";
 import { loadAnalysisCopy, type AnalysisCopy } from "./analysis-copy";
@@ -144,20 +145,8 @@ export function analyseCopy(
   } else {
     fragments.push(wholeScan(copy.sourceWidth, copy.sourceHeight, opts.sourceDpi));
   }
-  // reading order: top to bottom, then left to right, by box centre in rows of the median height
-  const rowH = Math.max(1, median(fragments.map((f) => f.box.height)) / 2);
-  fragments.sort((p, q) => {
-    const rp = Math.floor((p.box.y + p.box.height / 2) / rowH);
-    const rq = Math.floor((q.box.y + q.box.height / 2) / rowH);
-    return rp - rq || p.box.x - q.box.x;
-  });
-  return { background: model, foreground, labelling, rejected, backgroundVisible, fragments };
-}
-
-function median(v: number[]): number {
-  if (v.length === 0) return 1;
-  const s = [...v].sort((a, b) => a - b);
-  return s[s.length >> 1]!;
+  // Reading order: rows from the top, each left to right (shared/geometry.ts).
+  return { background: model, foreground, labelling, rejected, backgroundVisible, fragments: readingOrder(fragments, (f) => f.box) };
 }
 
 /** The whole scan as one rectangle fragment, for a piece that covers the bed to every edge. */
