@@ -3,9 +3,9 @@
  * workers on one machine. A worker's job keeps more than one thread busy (libvips writes a file on
  * a thread of its own beside the one computing its pixels, and Node has its own), and when two
  * workers' threads are free to run anywhere they keep moving between the cores. Measured here on
- * 2 cores (`npm run bench`, batch): two workers each held to a core made 9.95 outputs/s against
- * 8.64 left free (medians of 5 rounds; 10.62 against 8.84 in another run, 8.69 against 9.24 in a
- * third). A worker alone on a machine is best left free: held to one core it made 5.52/s, free 6.59.
+ * 2 cores (`npm run bench`, batch): two workers each held to a core made 16.35 outputs/s against
+ * 14.75 left free (medians of 3 rounds, 2026-12-02). A worker alone on a machine is best left
+ * free: held to one core it made 8.72/s, free 10.94.
  *
  * CPU lists use the Linux list format (cpuset(7), "List format"): numbers and ranges separated by
  * commas, "0-3,8". The hold is set with taskset from util-linux (`taskset -a -p -c`: every thread
