@@ -69,6 +69,28 @@ describe("the audit trail screen", () => {
     await page.close();
   });
 
+  it("on a narrower screen opens the event over the list, in sight, and closes it again", async () => {
+    const page = await browser.context.newPage();
+    await page.setViewportSize({ width: 1024, height: 768 });
+    await page.goto(`${stack.url}/audit`);
+    const table = page.locator("[data-audit-table]");
+    const detail = page.getByRole("complementary", { name: "The open event" });
+    await expect.poll(() => table.locator("tbody tr").count()).toBeGreaterThanOrEqual(5);
+    // Nothing open: no empty panel under the list.
+    expect(await detail.isVisible()).toBe(false);
+    await page.keyboard.press("j");
+    await expect.poll(() => detail.isVisible()).toBe(true);
+    const box = (await detail.boundingBox())!;
+    expect(box.y).toBeGreaterThanOrEqual(0);
+    expect(box.y).toBeLessThan(768);
+    expect(box.x + box.width).toBeLessThanOrEqual(1024 + 1);
+    await expect.poll(() => detail.getByRole("heading").first().isVisible()).toBe(true);
+    await detail.getByRole("button", { name: "Close" }).click();
+    await expect.poll(() => detail.isVisible()).toBe(false);
+    expect(new URL(page.url()).searchParams.get("event")).toBeNull();
+    await page.close();
+  });
+
   it("a viewer has no audit trail in the menu and is refused the page", async () => {
     const page = await browser.context.newPage();
     await page.context().clearCookies();

@@ -11,6 +11,7 @@ import { useAuditFilters } from "../../features/audit/components/use-audit-filte
 import { subjectPath } from "../../features/audit/format";
 import { useUsers } from "../../features/users/api/get-users";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
+import { cn } from "../../lib/cn";
 
 const Key = ({ children }: { children: string }) => (
   <kbd className="figure rounded border border-paper-300 bg-white px-1">{children}</kbd>
@@ -116,8 +117,22 @@ function AuditPage() {
         </section>
         <aside
           aria-label="The open event"
-          className="rounded-xl border border-paper-300 bg-paper-50 px-5 py-4 shadow-sheet xl:sticky xl:top-6"
+          className={cn(
+            "border-paper-300 bg-paper-50 px-5 py-4 shadow-sheet xl:sticky xl:top-6 xl:block xl:rounded-xl xl:border",
+            // Beside the list on a wide screen; on a narrower one, a sheet over its right side while
+            // an event is open (below the list it would be out of sight).
+            filters.eventId
+              ? "fixed inset-y-0 right-0 z-30 w-full max-w-md overflow-y-auto border-l xl:static xl:max-w-none xl:overflow-visible"
+              : "hidden",
+          )}
         >
+          {filters.eventId && (
+            <div className="mb-2 flex justify-end xl:hidden">
+              <Button size="sm" variant="quiet" onClick={() => setFilters({ eventId: undefined })}>
+                Close
+              </Button>
+            </div>
+          )}
           {filters.eventId ? (
             <AuditDetail id={filters.eventId} preview={selected} />
           ) : (
