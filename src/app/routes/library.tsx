@@ -100,7 +100,9 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
           {lastTidy ? (
             <>
               Last tidied <Ago iso={lastTidy.at} /> by {lastTidy.by ?? "the worker"}:{" "}
-              {plural(lastTidy.removed, "file", "files")}, {formatBytes(lastTidy.bytes)}.{" "}
+              {lastTidy.removed > 0
+                ? `${plural(lastTidy.removed, "file", "files")}, ${formatBytes(lastTidy.bytes)}.`
+                : "nothing to remove."}{" "}
             </>
           ) : (
             "Not tidied yet. "
