@@ -11,6 +11,9 @@ export const libraryQueryOptions = () =>
   queryOptions({
     queryKey: libraryKeys.overview,
     queryFn: ({ signal }) => apiRequest(API.library, { schema: libraryOverviewSchema, signal }),
+    // Each look lists the whole library (a large bucket takes a while): not on every focus.
+    staleTime: 60_000,
+    refetchOnWindowFocus: false,
   });
 
 export function useLibrary() {
