@@ -105,16 +105,37 @@ describe("output batches", () => {
     expect(plain.toString("latin1")).not.toContain("RIGHTS-NOTICE.txt");
   });
 
+  it("re-runs at a new size and keeps old outputs another batch still lists", async () => {
+    // The web-only batch reused the first batch's web copies: re-running it at a new size makes new
+    // ones, and the old stay, for the first batch lists them too.
+    const webOnly = (await viewer.get("/api/batches")).body.batches[0];
+    const edited = await operator.patch(`/api/presets/${preset("web").id}`).send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 400 } } });
+    expect(edited.body.preset.version).toBe(2);
+    const rerun = await operator.post(`/api/batches/${webOnly.id}/rerun`).send({ replaceOld: true });
+    expect(rerun.status).toBe(201);
+    const done = await finished(rerun.body.batch.id);
+    expect(done.batch.counts.done).toBe(2);
+    for (const i of done.items) expect(Math.max(i.pixelWidth, i.pixelHeight)).toBeLessThanOrEqual(400);
+    const { rows } = await stack.database.pool.query(
+      "select o.key from outputs o join preset_versions v on v.id = o.preset_version_id where v.version = 1 and v.preset_id = $1",
+      [preset("web").id],
+    );
+    expect(rows).toHaveLength(2);
+    for (const r of rows) expect(await stack.library.exists(r.key)).toBe(true);
+    const old = (await viewer.get(`/api/batches/${webOnly.id}`)).body;
+    expect(old.items.every((i: { fileName: string | null }) => i.fileName !== null)).toBe(true);
+  });
+
   it("re-runs at a new size and replaces the old outputs once the new ones are made", async () => {
-    const list = (await viewer.get("/api/batches")).body.batches;
-    const webOnly = list[0];
+    // The batch just made is the only one listing its 400 px copies: a re-run at 300 px replaces them.
+    const last = (await viewer.get("/api/batches")).body.batches[0];
     const { rows: oldFiles } = await stack.database.pool.query(
-      "select o.key from outputs o join preset_versions v on v.id = o.preset_version_id where v.preset_id = $1",
+      "select o.key from outputs o join preset_versions v on v.id = o.preset_version_id where v.version = 2 and v.preset_id = $1",
       [preset("web").id],
     );
     expect(oldFiles.length).toBe(2);
-    const edited = await operator.patch(`/api/presets/${preset("web").id}`).send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 400 } } });
-    expect(edited.body.preset.version).toBe(2);
+    const edited = await operator.patch(`/api/presets/${preset("web").id}`).send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 300 } } });
+    expect(edited.body.preset.version).toBe(3);
     // A trigger of this test's own holds the removal of the old rows a while, and a connection
     // of the test's own watches: the moment the batch reads as finished, the old rows must be gone.
     await stack.db.execute(sql.raw("create function test_hold() returns trigger language plpgsql as $$ begin perform pg_sleep(1.5); return null; end $$"));
@@ -123,14 +144,14 @@ describe("output batches", () => {
     await watch.connect();
     let rerunId = "";
     try {
-      const rerun = await operator.post(`/api/batches/${webOnly.id}/rerun`).send({ replaceOld: true });
+      const rerun = await operator.post(`/api/batches/${last.id}/rerun`).send({ replaceOld: true });
       expect(rerun.status).toBe(201);
       rerunId = rerun.body.batch.id;
       const seen = await waitFor("the re-run to read as finished", async () => {
         const { rows } = await watch.query(
           `select b.finished_at is not null as finished,
                   (select count(*)::int from outputs o join preset_versions v on v.id = o.preset_version_id
-                    where v.version = 1 and v.preset_id = $2) as old
+                    where v.version = 2 and v.preset_id = $2) as old
              from batches b where b.id = $1`,
           [rerunId, preset("web").id],
         );
@@ -144,12 +165,15 @@ describe("output batches", () => {
     }
     const done = await finished(rerunId);
     expect(done.batch.counts.done).toBe(2);
-    for (const i of done.items) expect(Math.max(i.pixelWidth, i.pixelHeight)).toBeLessThanOrEqual(400);
+    for (const i of done.items) expect(Math.max(i.pixelWidth, i.pixelHeight)).toBeLessThanOrEqual(300);
+    // The replaced batch's items read as replaced (no file); the first batch's web copies stay.
+    const replaced = (await viewer.get(`/api/batches/${last.id}`)).body;
+    expect(replaced.items.every((i: { fileName: string | null }) => i.fileName === null)).toBe(true);
     const { rows } = await stack.database.pool.query(
       "select count(*)::int as n from outputs o join preset_versions v on v.id = o.preset_version_id where v.version = 1 and v.preset_id = $1",
       [preset("web").id],
     );
-    expect(rows[0].n).toBe(0);
+    expect(rows[0].n).toBe(2);
     // …and their files are gone from the library too. The worker removes them right after the
     // batch's last item commits, so the batch can read as done a moment before the files go.
     await waitFor("the retired files to be removed", async () => {
@@ -174,9 +198,9 @@ describe("output batches", () => {
     expect(rows[0]).toBe("title,scan,fragment,preset,file,width_px,height_px,printed_width_in,printed_height_in,printed_width_cm,printed_height_cm,effective_dpi,warnings,sha256");
     const files = rows.slice(1).map((r) => r.split(",")[4]);
     expect(files.sort()).toEqual(names.filter((n) => n !== "outputs.csv").sort());
-    // Outputs replaced by the re-run above are gone from the old batch, and from its zip and CSV too.
+    // Re-runs of later batches left the first batch's outputs alone: all four are in its zip.
     expect(rows.length - 1).toBe(detail.items.filter((i: { fileName: string | null }) => i.fileName !== null).length);
-    expect(rows.length - 1).toBe(2);
+    expect(rows.length - 1).toBe(4);
   });
 
   it("a failure in one output does not stop the rest, and says why", async () => {
@@ -264,6 +288,32 @@ describe("output batches", () => {
     expect(bad.status).toBe(400);
   });
 
+  it("closes a batch whose close failed once, when the job is tried again", async () => {
+    // A trigger of this test's own refuses the first close (a dropped connection at that moment
+    // would do the same); the sequence keeps count across the rolled-back attempt.
+    await stack.db.execute(sql.raw("create sequence test_close_seq"));
+    await stack.db.execute(
+      sql.raw(`create function test_fail_close() returns trigger language plpgsql as $$ begin
+        if new.finished_at is not null and old.finished_at is null and nextval('test_close_seq') = 1 then raise exception 'close refused (test)'; end if;
+        return new; end $$`),
+    );
+    await stack.db.execute(sql.raw("create trigger test_fail_close before update on batches for each row execute function test_fail_close()"));
+    try {
+      // One item, so no other item's close can stand in for the failed one: only the retry can.
+      const [one] = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+      const res = await operator.post("/api/batches").send({ selection: { fragmentIds: [one!.id] }, presetIds: [preset("square").id] });
+      expect(res.status).toBe(201);
+      const done = await finished(res.body.batch.id);
+      expect(done.batch.counts).toMatchObject({ done: 1, failed: 0 });
+      const { rows } = await stack.database.pool.query("select last_value::int as n from test_close_seq");
+      expect(rows[0].n).toBeGreaterThanOrEqual(2);
+    } finally {
+      await stack.db.execute(sql.raw("drop trigger test_fail_close on batches"));
+      await stack.db.execute(sql.raw("drop function test_fail_close()"));
+      await stack.db.execute(sql.raw("drop sequence test_close_seq"));
+    }
+  });
+
   it("cancelling stops what has not started", async () => {
     // Hold the worker back so nothing starts before the cancel: no worker runs the new jobs.
     await stack.worker!.stop(2000);
@@ -283,4 +333,5 @@ describe("output batches", () => {
     const denied = await viewer.post("/api/batches").send({ selection: { filter: { scanId } }, presetIds: [preset("web").id] });
     expect(denied.status).toBe(403);
   });
+
 });

@@ -52,43 +52,67 @@ export async function settleBatchItem(
 ): Promise<string[]> {
   const [item] = await db.update(batchItems).set({ state, error, updatedAt: new Date() }).where(eq(batchItems.id, itemId)).returning();
   if (!item || state === "running") return [];
+  return closeIfSettled(db, item.batchId, opts);
+}
+
+/**
+ * Closes the batch if none of its items is queued or running, retiring what a replacing re-run
+ * replaces in the same transaction: a batch never reads as finished while the outputs it replaces
+ * are still there. (The item's own update commits first, so of two last items finishing at once,
+ * the later count always sees both.) Safe to call again: a job retried after its item was settled
+ * calls it with `again`, so a close that failed half-way (or its notice) is made good; the notice
+ * is sent again then, and its outbox key keeps it to one message a person.
+ */
+export async function closeIfSettled(db: Db, batchId: string, opts: { boss?: PgBoss; again?: boolean } = {}): Promise<string[]> {
   const [open] = await db
     .select({ n: sql<number>`count(*)::int` })
     .from(batchItems)
-    .where(and(eq(batchItems.batchId, item.batchId), inArray(batchItems.state, ["queued", "running"])));
+    .where(and(eq(batchItems.batchId, batchId), inArray(batchItems.state, ["queued", "running"])));
   if ((open?.n ?? 0) > 0) return [];
-  // Closing and retiring commit together: a batch never reads as finished while the outputs it
-  // replaces are still there. (The item's own update above commits first, so of two last items
-  // finishing at once, the later count always sees both.)
   const { closed, retired } = await db.transaction(async (tx) => {
     const [row] = await tx
       .update(batches)
       .set({ finishedAt: new Date(), updatedAt: new Date() })
-      .where(and(eq(batches.id, item.batchId), isNull(batches.finishedAt)))
+      .where(and(eq(batches.id, batchId), isNull(batches.finishedAt)))
       .returning();
     const keys = row?.rerunOf && row.replaceOld ? await replaceOldOutputs(tx, row.rerunOf, row.id) : [];
     return { closed: row, retired: keys };
   });
-  // Only the call that closed it gets a row back: one notice per finish.
-  if (closed && opts.boss) await queueNotice(opts.boss, { event: "batch-finished", batchId: closed.id });
+  // Only the call that closed it gets a row back: one notice per finish (or a retried call's).
+  if (opts.boss && (closed || opts.again)) await queueNotice(opts.boss, { event: "batch-finished", batchId });
   return retired;
 }
 
 /**
- * After a re-run that replaces, the old batch's outputs that the new one did not reuse are
- * removed (rows here; the caller deletes the files). Only once the new ones are all made.
+ * After a re-run that replaces, the old batch's outputs are removed (rows here; the caller deletes
+ * the files), only once the new ones are all made, and only those no other batch lists: an output
+ * reused by another batch (or kept by the re-run itself) stays for it. The outputs are locked
+ * first, so a job reusing one of them either links it before (and it stays) or finds it gone
+ * after (and makes its own).
  */
 async function replaceOldOutputs(db: DbOrTx, oldBatchId: string, newBatchId: string): Promise<string[]> {
-  const keep = db.select({ id: batchItems.outputId }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), eq(batchItems.state, "done")));
   const [failed] = await db.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), inArray(batchItems.state, ["failed", "cancelled"])));
   if (failed?.n) return []; // not all new outputs exist: keep the old ones
-  const old = await db
-    .select({ id: batchItems.outputId })
-    .from(batchItems)
-    .where(and(eq(batchItems.batchId, oldBatchId), sql`${batchItems.outputId} is not null`, sql`${batchItems.outputId} not in (${keep})`));
-  const ids = old.map((o) => o.id!).filter(Boolean);
+  const onlyHere = (rows: { id: string | null }[]) =>
+    db
+      .select({ id: batchItems.outputId })
+      .from(batchItems)
+      .where(
+        and(
+          eq(batchItems.batchId, oldBatchId),
+          inArray(batchItems.outputId, rows.map((r) => r.id!).filter(Boolean)),
+          sql`not exists (select 1 from batch_items other where other.output_id = ${batchItems.outputId} and other.batch_id <> ${oldBatchId})`,
+        ),
+      );
+  const listed = await db.select({ id: batchItems.outputId }).from(batchItems).where(and(eq(batchItems.batchId, oldBatchId), sql`${batchItems.outputId} is not null`));
+  if (!listed.length) return [];
+  const candidates = await onlyHere(listed);
+  if (!candidates.length) return [];
+  const locked = await db.select({ id: outputs.id }).from(outputs).where(inArray(outputs.id, candidates.map((c) => c.id!))).for("update");
+  // Looked at again once locked: a reuse that committed meanwhile keeps its output.
+  const ids = [...new Set((locked.length ? await onlyHere(locked) : []).map((r) => r.id!))];
   if (!ids.length) return [];
-  await db.update(batchItems).set({ outputId: null }).where(inArray(batchItems.outputId, ids));
+  await db.update(batchItems).set({ outputId: null }).where(and(eq(batchItems.batchId, oldBatchId), inArray(batchItems.outputId, ids)));
   const gone = await db.delete(outputs).where(inArray(outputs.id, ids)).returning({ key: outputs.key });
   return gone.map((g) => g.key);
 }

@@ -177,20 +177,27 @@ export async function retryFailed(database: Database, boss: PgBoss, id: string) 
     await tx.sendMany(QUEUES.output, outputsAgain.map((i) => ({ batchItemId: i.id })));
     // A recipe batch's items render their fragment again: it reads as queued, as when first applied.
     const rendersAgain = failed.filter((i) => !i.presetVersionId);
+    let queuedAgain = outputsAgain.length;
     for (let i = 0; i < rendersAgain.length; i += SEND_CHUNK) {
       const chunk = rendersAgain.slice(i, i + SEND_CHUNK);
       const rows = await tx.db
         .update(fragments)
         .set({ renderState: "queued", renderError: null })
-        .where(inArray(fragments.id, chunk.map((c) => c.fragmentId)))
+        // Only pieces still approved: an item whose piece was rejected or merged since fails again at once.
+        .where(and(inArray(fragments.id, chunk.map((c) => c.fragmentId)), eq(fragments.status, "approved"), isNull(fragments.mergedInto)))
         .returning({ id: fragments.id, revision: fragments.revision });
       const revision = new Map(rows.map((r) => [r.id, r.revision]));
-      await tx.sendMany(
-        QUEUES.render,
-        chunk.filter((c) => revision.has(c.fragmentId)).map((c) => ({ fragmentId: c.fragmentId, revision: revision.get(c.fragmentId)!, batchItemId: c.id })),
-      );
+      const [queued, gone] = [chunk.filter((c) => revision.has(c.fragmentId)), chunk.filter((c) => !revision.has(c.fragmentId))];
+      await tx.sendMany(QUEUES.render, queued.map((c) => ({ fragmentId: c.fragmentId, revision: revision.get(c.fragmentId)!, batchItemId: c.id })));
+      queuedAgain += queued.length;
+      if (gone.length)
+        await tx.db
+          .update(batchItems)
+          .set({ state: "failed", error: "The fragment is no longer approved.", updatedAt: new Date() })
+          .where(inArray(batchItems.id, gone.map((c) => c.id)));
     }
-    await tx.db.update(batches).set({ finishedAt: null, updatedAt: new Date() }).where(eq(batches.id, id));
+    // Open again while anything runs; when nothing could be queued, it stays finished.
+    if (queuedAgain) await tx.db.update(batches).set({ finishedAt: null, updatedAt: new Date() }).where(eq(batches.id, id));
     await tx.notify({ kind: "worker" });
   });
   return getBatch(database.db, id);

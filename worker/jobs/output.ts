@@ -4,7 +4,7 @@ import { and, eq } from "drizzle-orm";
 import type { Database } from "../../server/db";
 import { batchItems, fragments, outputs, presetVersions, scans } from "../../server/db/schema";
 import { notify } from "../../server/services/events";
-import { settleBatchItem } from "../../server/services/batches";
+import { closeIfSettled, settleBatchItem } from "../../server/services/batches";
 import { dedupeKey } from "../../server/services/output-batches";
 import type { Storage } from "../../server/storage/storage";
 import { isStorageError } from "../../server/storage/storage";
@@ -34,7 +34,9 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
   const { db, pool } = deps.database;
   const log = deps.log.child({ jobId: ctx.jobId, batchItemId });
   const [item] = await db.select().from(batchItems).where(eq(batchItems.id, batchItemId));
-  if (!item || item.state === "cancelled" || item.state === "done") return;
+  if (!item || item.state === "cancelled") return;
+  // Made already: this is a retry after the item was settled, whose close (or its notice) failed.
+  if (item.state === "done") return removeRetired(deps, await closeIfSettled(db, item.batchId, { boss: deps.boss, again: true }));
   const fail = async (message: string) => {
     await settleBatchItem(db, batchItemId, "failed", message, { boss: deps.boss });
     await notify(pool, { kind: "worker" });
@@ -62,10 +64,19 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
   await settleBatchItem(db, batchItemId, "running");
   const key = dedupeKey(f.id, f.revision, master.recipeVersionId ?? "none", pv.id);
   const [made] = await db.select().from(outputs).where(eq(outputs.dedupeKey, key));
-  if (made && (await deps.library.exists(made.key))) {
-    await db.update(batchItems).set({ outputId: made.id }).where(eq(batchItems.id, batchItemId));
-    for (const key of await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }))
-      await deps.library.remove(key);
+  // Reused: linked only while the output row still stands (locked against a replacing re-run
+  // retiring it at this moment); gone, it is made again below.
+  const linked =
+    made &&
+    (await deps.library.exists(made.key)) &&
+    (await db.transaction(async (tx) => {
+      const [still] = await tx.select({ id: outputs.id }).from(outputs).where(eq(outputs.id, made.id)).for("share");
+      if (!still) return false;
+      await tx.update(batchItems).set({ outputId: made.id }).where(eq(batchItems.id, batchItemId));
+      return true;
+    }));
+  if (linked) {
+    await removeRetired(deps, await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }));
     await notify(pool, { kind: "worker" });
     return log.info("output: reused");
   }
@@ -125,8 +136,7 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
       .returning({ id: outputs.id });
     await db.update(batchItems).set({ outputId: row!.id }).where(eq(batchItems.id, batchItemId));
     // The last item of a replacing re-run retires the old batch's files.
-    for (const key of await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }))
-      await deps.library.remove(key);
+    await removeRetired(deps, await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }));
     await notify(pool, { kind: "worker" });
     log.info({ preset: preset.kind, warnings: report.warnings }, "output: made");
   } catch (err) {
@@ -139,4 +149,13 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     if (ctx.retryCount >= ctx.retryLimit) await fail((err as Error).message);
     throw err;
   }
+}
+
+/**
+ * Removes the files of outputs a replacing re-run retired (their rows are gone). A file that cannot
+ * be removed now is only logged: the item is done, and the library tidy takes the file later.
+ */
+async function removeRetired(deps: OutputDeps, keys: string[]): Promise<void> {
+  for (const key of keys)
+    await deps.library.remove(key).catch((err: unknown) => deps.log.warn({ err, key }, "output: a retired file stays until the library tidy"));
 }
