@@ -48,13 +48,15 @@ describe("the library screen", () => {
     await page.getByRole("button", { name: "Tidy now" }).click();
     const dialog = page.getByRole("dialog", { name: "Tidy the library?" });
     await expect.poll(() => dialog.isVisible()).toBe(true);
+    // Masters are the archive: the question says one is among them.
+    expect(await dialog.textContent()).toContain("among them 1 master: the full-resolution file of a fragment that no longer exists");
     await dialog.getByRole("button", { name: "Cancel" }).click();
     for (const k of leftOvers) expect(await stack.library.exists(k)).toBe(true);
 
     await page.getByRole("button", { name: "Tidy now" }).click();
     await dialog.getByRole("button", { name: "Remove 2 files" }).click();
     await expect.poll(() => page.getByText("Removed 2 left-over files (3 KB).").count()).toBe(1);
-    await expect.poll(() => summary.textContent()).toBe("Nothing to tidy: every file older than a day is in use.");
+    await expect.poll(() => summary.textContent()).toBe("Nothing to tidy: every file older than 24 hours is in use.");
     await expect.poll(() => page.getByText(/Last tidied .* by Test admin: 2 files, 3 KB\./).count()).toBe(1);
     expect(await page.getByRole("button", { name: "Tidy now" }).isDisabled()).toBe(true);
     for (const k of leftOvers) expect(await stack.library.exists(k)).toBe(false);

@@ -140,6 +140,29 @@ describe("the library tidy", () => {
     expect(folder(again, "outputs/").tooYoung).toBe(1);
   });
 
+  it("holds a tidy that would remove most of the library until an admin confirms it", async () => {
+    // Thirty old copies no row names, more than half of the derived files: as if the database were
+    // another library's. The worker's tidy waits; an admin is told why and may go on.
+    const many = Array.from({ length: 30 }, () => `outputs/${crypto.randomUUID()}/${crypto.randomUUID()}-r1-none.jpg`);
+    for (const k of many) {
+      await plant(k, Buffer.alloc(100, 2));
+      await age(k, 2 * DAY);
+    }
+    const look = (await admin.get("/api/library")).body.tidy as TidyReport;
+    expect(look.caution).toMatch(/^A tidy now would remove 30 of the library's \d+ derived files, more than half/);
+    const refused = await admin.post("/api/library/tidy").send({});
+    expect(refused.status).toBe(409);
+    expect(refused.body.error.message).toMatch(/^Nothing was removed\. A tidy now would remove 30 of/);
+    const { runTidy } = await import("../server/services/library-tidy");
+    const regular = await runTidy(stack.db, stack.library, null);
+    expect(regular).toMatchObject({ held: true, removed: 0 });
+    for (const k of many) expect(await stack.library.exists(k)).toBe(true);
+    const confirmed = await admin.post("/api/library/tidy").send({ allowLarge: true });
+    expect(confirmed.status).toBe(200);
+    expect(confirmed.body).toMatchObject({ removed: 30, held: false });
+    for (const k of many) expect(await stack.library.exists(k)).toBe(false);
+  });
+
   it("treats a file as young by the grace period given", async () => {
     const later = await tidyLibrary(stack.db, stack.library, { dryRun: true, now: new Date(Date.now() + 2 * DAY) });
     expect(folder(later, "outputs/")).toMatchObject({ removed: 1, tooYoung: 0 });
@@ -182,6 +205,14 @@ describe("the worker's regular tidy", () => {
       await waitFor("the second ask to be handled", async () => ((await own.boss.getJobById("library-tidy", id!))?.state === "completed" ? true : null), 30_000);
       expect(await own.library.exists(next)).toBe(true);
       expect((await own.database.pool.query("select count(*)::int as n from library_tidies")).rows[0].n).toBe(1);
+      // Against a database that names none of the library's originals (a new or restored one),
+      // the worker's tidy removes nothing and waits for an admin.
+      await leave(`originals/ab/${"ab".repeat(32)}.tif`);
+      const { runTidy } = await import("../server/services/library-tidy");
+      const held = await runTidy(own.db, own.library, null);
+      expect(held.held).toBe(true);
+      expect(held.caution).toMatch(/^The database names not even the library's one original: it may not be this library's database/);
+      expect(await own.library.exists(next)).toBe(true);
     } finally {
       await worker?.stop(2000);
       await own.stop();

@@ -37,11 +37,21 @@ async function referencedKeys(db: Db): Promise<Set<string>> {
   return keys;
 }
 
+/** A tidy that would remove more than this share of the derived files is held for a person to confirm. */
+export const LARGE_TIDY_SHARE = 0.5;
+/** …unless it removes no more files than this. */
+const LARGE_TIDY_MIN_FILES = 20;
+
 /**
  * Finds the library's left-over files and, unless `dryRun`, removes those older than the grace
  * period (a file is written a moment before the row that names it, so a young one may be in
  * flight). Listing comes before reading what the rows name: a file that gains its row in between
- * is named by then. Originals no row names are counted, never removed.
+ * is named by then; and each file is looked at once more just before it goes (a key written again
+ * since, such as an output made again, stays). Originals no row names are counted, never removed.
+ *
+ * A tidy that looks wrong is held: when the database names none of the scans whose originals the
+ * library holds (another or a restored database), or when it would remove more than half of the
+ * derived files. It then removes nothing and says why (`caution`), unless `allowLarge`.
  */
 export async function tidyLibrary(
   db: Db,
@@ -52,6 +62,8 @@ export async function tidyLibrary(
     now?: Date;
     /** Folders whose left-overs may go (all derived ones by default); the others' are counted only. */
     removable?: readonly string[];
+    /** Removes even what a `caution` holds (a person has read it and confirmed). */
+    allowLarge?: boolean;
   },
 ): Promise<TidyReport> {
   const removable = new Set(opts.removable ?? DERIVED_FOLDERS);
@@ -62,29 +74,57 @@ export async function tidyLibrary(
   const named = await referencedKeys(db);
 
   const folders: TidyFolder[] = [];
+  const planned: { key: string; size: number; row: TidyFolder }[] = [];
   for (const [folder, keys] of listed) {
-    const row: TidyFolder = { folder, files: keys.length, leftOver: 0, leftOverBytes: 0, removed: 0, removedBytes: 0, tooYoung: 0 };
+    const row: TidyFolder = { folder, files: keys.length, leftOver: 0, leftOverBytes: 0, removed: 0, removedBytes: 0, tooYoung: 0, failed: 0 };
+    folders.push(row);
     for (const key of keys) {
       if (named.has(key)) continue;
       let stat;
       try {
         stat = await library.stat(key);
       } catch (err) {
-        if (isStorageError(err, "missing")) continue; // gone since the listing
-        throw err;
+        if (!isStorageError(err, "missing")) row.failed++; // gone since the listing, or not readable now
+        continue;
       }
       row.leftOver++;
       row.leftOverBytes += stat.size;
       if (folder === "originals/" || !removable.has(folder)) continue;
-      if (stat.modified.getTime() > cutoff) {
+      // A store that gives no date (0) is taken as now: never older than the grace period.
+      const modified = stat.modified.getTime();
+      if (!(modified > 0) || modified > cutoff) {
         row.tooYoung++;
         continue;
       }
-      if (!opts.dryRun) await library.remove(key);
-      row.removed++;
-      row.removedBytes += stat.size;
+      planned.push({ key, size: stat.size, row });
     }
-    folders.push(row);
+  }
+
+  const derived = folders.filter((f) => f.folder !== "originals/").reduce((n, f) => n + f.files, 0);
+  const originals = folders.find((f) => f.folder === "originals/")!;
+  let caution: string | null = null;
+  if (originals.files > 0 && originals.leftOver === originals.files)
+    caution = `The database names ${originals.files === 1 ? "not even the library's one original" : `none of the ${originals.files} originals in the library`}: it may not be this library's database (a new or restored one). A tidy now would remove every copy made from them.`;
+  else if (planned.length > LARGE_TIDY_MIN_FILES && planned.length > LARGE_TIDY_SHARE * derived)
+    caution = `A tidy now would remove ${planned.length} of the library's ${derived} derived files, more than half: check that this is the library's own database before going on.`;
+  const hold = caution !== null && !opts.allowLarge;
+
+  for (const { key, size, row } of planned) {
+    if (!opts.dryRun) {
+      if (hold) continue;
+      try {
+        if (!(await stillLeftOver(db, library, key, cutoff))) {
+          row.tooYoung++;
+          continue;
+        }
+        await library.remove(key);
+      } catch {
+        row.failed++;
+        continue;
+      }
+    }
+    row.removed++;
+    row.removedBytes += size;
   }
   return {
     dryRun: opts.dryRun,
@@ -92,7 +132,18 @@ export async function tidyLibrary(
     folders,
     removed: folders.reduce((n, f) => n + f.removed, 0),
     removedBytes: folders.reduce((n, f) => n + f.removedBytes, 0),
+    failed: folders.reduce((n, f) => n + f.failed, 0),
+    caution,
+    held: !opts.dryRun && hold,
   };
+}
+
+/** Just before a file goes: still named by no output (the keys that can be written again) and still old. */
+async function stillLeftOver(db: Db, library: Storage, key: string, cutoff: number): Promise<boolean> {
+  const named = await db.execute(sql`select 1 from outputs where key = ${key} limit 1`);
+  if (named.rows.length) return false;
+  const stat = await library.stat(key);
+  return stat.modified.getTime() > 0 && stat.modified.getTime() <= cutoff;
 }
 
 /**
@@ -102,9 +153,15 @@ export async function tidyLibrary(
 export const REGULAR_TIDY_FOLDERS = DERIVED_FOLDERS.filter((f) => f !== "masters/");
 
 /** Tidies for real and keeps a record of it: by `actorId`, or by the worker's regular tidy (null). */
-export async function runTidy(db: Db, library: Storage, actorId: string | null): Promise<TidyReport> {
-  const report = await tidyLibrary(db, library, { dryRun: false, removable: actorId ? DERIVED_FOLDERS : REGULAR_TIDY_FOLDERS });
-  await db.insert(libraryTidies).values({ actorId, removed: report.removed, bytes: report.removedBytes });
+export async function runTidy(db: Db, library: Storage, actorId: string | null, opts: { allowLarge?: boolean } = {}): Promise<TidyReport> {
+  const report = await tidyLibrary(db, library, {
+    dryRun: false,
+    removable: actorId ? DERIVED_FOLDERS : REGULAR_TIDY_FOLDERS,
+    // Only a person who has read the caution may go past it; the worker's tidy waits for one.
+    allowLarge: actorId !== null && opts.allowLarge === true,
+  });
+  // A held tidy removed nothing and is not a tidy: the next one is due as before.
+  if (!report.held) await db.insert(libraryTidies).values({ actorId, removed: report.removed, bytes: report.removedBytes });
   return report;
 }
 

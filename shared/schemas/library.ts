@@ -12,6 +12,8 @@ export const tidyFolderSchema = z.object({
   removedBytes: z.number(),
   /** Left-over files younger than the grace period: kept, they may be in the middle of being made. */
   tooYoung: z.number().int(),
+  /** Left-over files that could not be read or removed just now (the next tidy tries again). */
+  failed: z.number().int(),
 });
 export type TidyFolder = z.infer<typeof tidyFolderSchema>;
 
@@ -21,11 +23,22 @@ export const tidyReportSchema = z.object({
   folders: z.array(tidyFolderSchema),
   removed: z.number().int(),
   removedBytes: z.number(),
+  failed: z.number().int(),
+  /** Why this tidy looks wrong (no scan of the library's named, or most files would go); null when it looks right. */
+  caution: z.string().nullable(),
+  /** Nothing was removed because of the caution (a person may confirm it). */
+  held: z.boolean(),
 });
 export type TidyReport = z.infer<typeof tidyReportSchema>;
 
 /** The body of "tidy now": `dryRun` only reports. */
-export const tidyLibraryBody = z.object({ dryRun: z.boolean().default(false) }).strict();
+export const tidyLibraryBody = z
+  .object({
+    dryRun: z.boolean().default(false),
+    /** Confirms a tidy the dry run gave a caution for. */
+    allowLarge: z.boolean().default(false),
+  })
+  .strict();
 
 /** The last tidy that removed files for real. */
 export const lastTidySchema = z.object({

@@ -5,6 +5,7 @@ import { handle } from "../define";
 import type { AppDeps } from "../../app";
 import { lastTidy, runTidy, tidyLibrary } from "../../services/library-tidy";
 import { recordAudit } from "../../services/audit";
+import { conflict } from "../../errors";
 import { formatBytes } from "../../../shared/units";
 import type { LibraryOverview } from "../../../shared/schemas/library";
 
@@ -27,7 +28,8 @@ export function libraryRouter(deps: AppDeps): Router {
     };
   });
   handle(router, API.libraryTidy, async ({ body, req, user }) => {
-    const report = body.dryRun ? await tidyLibrary(db, deps.library, { dryRun: true }) : await runTidy(db, deps.library, user.id);
+    const report = body.dryRun ? await tidyLibrary(db, deps.library, { dryRun: true }) : await runTidy(db, deps.library, user.id, { allowLarge: body.allowLarge });
+    if (report.held) throw conflict(`Nothing was removed. ${report.caution}`);
     req.log.info({ removed: report.removed, bytes: report.removedBytes, dryRun: report.dryRun }, "library tidied");
     if (!report.dryRun)
       await recordAudit(db, {

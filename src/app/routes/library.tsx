@@ -55,8 +55,9 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
   const { tidy: report, lastTidy, tidyEveryHours } = overview;
   const young = report.folders.reduce((n, f) => n + f.tooYoung, 0);
   const originals = report.folders.find((f) => f.folder === "originals/");
+  const masters = report.folders.find((f) => f.folder === "masters/")?.removed ?? 0;
   const run = () =>
-    tidy.mutate(undefined, {
+    tidy.mutate({ allowLarge: report.caution !== null }, {
       onSuccess: (done) => {
         setAsking(false);
         toast.success(`Removed ${plural(done.removed, "left-over file", "left-over files")} (${formatBytes(done.removedBytes)}).`);
@@ -75,14 +76,19 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
     >
       <p className="text-sm text-ink-soft">
         Files that no scan, fragment or output names any more: the small pictures of a fragment before its last
-        edit, the master of a merge taken back, copies a stopped process left behind.
+        edit, the master and copies of a merge taken back, a file a stopped process stored without its record.
       </p>
+      {report.caution && (
+        <Notice tone="caution" title="Look before tidying" className="mt-4">
+          {report.caution}
+        </Notice>
+      )}
       <FolderBars folders={report.folders} />
       <div className="mt-4 flex flex-col gap-2 text-sm" aria-live="polite">
         <p className="text-ink" data-testid="tidy-summary">
           {report.removed > 0
             ? `A tidy now removes ${plural(report.removed, "file", "files")} (${formatBytes(report.removedBytes)}).`
-            : "Nothing to tidy: every file older than a day is in use."}
+            : `Nothing to tidy: every file older than ${plural(report.graceHours, "hour", "hours")} is in use.`}
         </p>
         {young > 0 && (
           <p className="text-ink-muted">
@@ -115,14 +121,22 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
       <ConfirmDialog
         open={asking}
         title="Tidy the library?"
-        confirmLabel={`Remove ${plural(report.removed, "file", "files")}`}
+        confirmLabel={report.caution ? "Remove them anyway" : `Remove ${plural(report.removed, "file", "files")}`}
         busy={tidy.isPending}
         onConfirm={run}
         onCancel={() => setAsking(false)}
       >
+        {report.caution && <p className="mb-2 font-medium text-ink">{report.caution}</p>}
         {plural(report.removed, "left-over file", "left-over files")} ({formatBytes(report.removedBytes)}) will be
-        removed from the library. No scan, fragment or output uses them, and originals are never touched, but removed
-        files cannot be brought back.
+        removed from the library
+        {masters > 0 && (
+          <>
+            , among them {plural(masters, "master", "masters")}: the full-resolution file of a fragment that no longer
+            exists
+          </>
+        )}
+        . No scan, fragment or output uses them, and originals are never touched, but removed files cannot be brought
+        back.
       </ConfirmDialog>
     </Panel>
   );

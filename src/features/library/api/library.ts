@@ -23,7 +23,8 @@ export function useLibrary() {
 export function useTidyLibrary() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: () => apiRequest(API.libraryTidy, { body: { dryRun: false }, schema: tidyReportSchema }),
+    /** `allowLarge` confirms a tidy the dry run gave a caution for. */
+    mutationFn: (opts: { allowLarge: boolean }) => apiRequest(API.libraryTidy, { body: { dryRun: false, allowLarge: opts.allowLarge }, schema: tidyReportSchema }),
     onSettled: () => queryClient.invalidateQueries({ queryKey: libraryKeys.overview }),
   });
 }
