@@ -35,6 +35,15 @@ describe("pieces are numbered in reading order", () => {
     expect(order([at("s2", 500, 500, 300, 400), at("T", 0, 0, 400, 900), at("s1", 500, 0, 300, 400)])).toEqual(["T", "s1", "s2"]);
   });
 
+  it("keeps a grid's rows apart beside a tall strip, on either side", () => {
+    // [A][B][C]      [T][A][B]
+    // [D][E][C]      [T][D][E]
+    const right = [at("A", 0, 0, 400, 400), at("B", 500, 0, 400, 400), at("C", 1000, 0, 300, 900), at("D", 0, 500, 400, 400), at("E", 500, 500, 400, 400)];
+    expect(order(right)).toEqual(["A", "B", "C", "D", "E"]);
+    const left = [at("T", 0, 0, 300, 900), at("A", 400, 0, 400, 400), at("B", 900, 0, 400, 400), at("D", 400, 500, 400, 400), at("E", 900, 500, 400, 400)];
+    expect(order(left)).toEqual(["T", "A", "B", "D", "E"]);
+  });
+
   it("handles no pieces and one", () => {
     expect(order([])).toEqual([]);
     expect(order([at("only", 5, 5, 10, 10)])).toEqual(["only"]);

@@ -111,8 +111,6 @@ function geometryFromRect(scan: ScanRow, rect: Rect, angle: number, shape: Fragm
   };
 }
 
-/** Reading order on the bed: rows top to bottom (by centre, in bands of a third of a piece), then left to right. */
-
 async function queueRender(tx: Tx, row: Pick<FragmentRow, "id" | "revision" | "scanId">) {
   await tx.db.update(fragments).set({ renderState: "queued", renderError: null }).where(eq(fragments.id, row.id));
   await tx.send(QUEUES.render, { fragmentId: row.id, revision: row.revision });
@@ -133,7 +131,7 @@ export async function replaceProposals(tx: Tx, scan: ScanRow, pieces: DetectedPi
       const iy = Math.max(0, Math.min(k.box.y + k.box.height, p.box.y + p.box.height) - Math.max(k.box.y, p.box.y));
       return ix * iy > 0.5 * p.box.width * p.box.height;
     });
-  const fresh = readingOrder(pieces.filter((p) => !overlapsKept(p)), (p) => p.box);
+  const fresh = pieces.filter((p) => !overlapsKept(p));
   const ordered = readingOrder(
     [...kept.map((k) => ({ box: k.box, id: k.id as string | null, piece: null as DetectedPiece | null })), ...fresh.map((p) => ({ box: p.box, id: null, piece: p }))],
     (i) => i.box,
