@@ -39,6 +39,8 @@ describe("the batch size estimate", () => {
     expect(ratio).toBeLessThan(4.1);
     // An uncompressed master is its raw pixels: 4000 × 3000 × 3 bytes.
     expect(estimateOutputBytes(m, presetSchema.parse({ kind: "master", name: "m", compression: "none", bitDepth: 8 }))).toBe(36_000_000);
+    // A master not made yet has no size of its own: a typical piece's ratio (0.7) of its raw bytes.
+    expect(estimateOutputBytes({ ...m, bytes: 0 }, presetSchema.parse({ kind: "master", name: "m", bitDepth: 8 }))).toBe(25_200_000);
   });
 
   it("reads busyness from how well the master compressed, within its bounds", () => {

@@ -83,7 +83,9 @@ export function estimateOutputBytes(m: MasterFacts, preset: Preset): number {
       const depth = preset.bitDepth === "source" ? 1 : (preset.bitDepth === 16 ? 2 : 1) / (m.bitDepth > 8 ? 2 : 1);
       const alpha = m.hasAlpha && !preset.keepAlpha ? 3 / 4 : 1;
       const raw = m.width * m.height * (m.hasAlpha ? 4 : 3) * (m.bitDepth > 8 ? 2 : 1);
-      return Math.round((preset.compression === "none" ? raw : m.bytes) * depth * alpha);
+      // Not made yet (no bytes known): a typical piece's ratio.
+      const stored = m.bytes > 0 ? m.bytes : raw * b;
+      return Math.round((preset.compression === "none" ? raw : stored) * depth * alpha);
     }
     case "web": {
       const g = webGeometry(m.width, m.height, preset);

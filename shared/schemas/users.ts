@@ -9,7 +9,6 @@ export const passwordSchema = z
     error: (issue) =>
       `Expected a password of at least ${MIN_PASSWORD_LENGTH} characters but received ${String((issue.input as string | undefined)?.length ?? 0)}`,
   })
-  .max(200, { error: "Expected a password of at most 200 characters" })
   // bcrypt reads only the first 72 bytes: a longer password would match any other that starts the same.
   .refine((p) => new TextEncoder().encode(p).length <= MAX_PASSWORD_BYTES, {
     error: `Expected a password of at most ${MAX_PASSWORD_BYTES} bytes (72 plain letters, fewer with accents or emoji): past that, the rest would not be checked`,

@@ -1,5 +1,5 @@
 import type { ZodType } from "zod";
-import { MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
+import { MAX_PASSWORD_BYTES, MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
 import { fieldErrorsFrom, type FieldErrors } from "../../../lib/form-errors";
 import { TextField } from "../../../components/field";
 
@@ -33,7 +33,7 @@ export function NewPasswordFields({
         value={password}
         onChange={(e) => onPassword(e.target.value)}
         error={errors.password}
-        hint={`At least ${MIN_PASSWORD_LENGTH} characters.`}
+        hint={`${MIN_PASSWORD_LENGTH} to ${MAX_PASSWORD_BYTES} characters (fewer with accents or emoji).`}
         disabled={disabled}
       />
       <TextField

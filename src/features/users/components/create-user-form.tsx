@@ -1,5 +1,5 @@
 import { useState, type FormEvent } from "react";
-import { MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
+import { MAX_PASSWORD_BYTES, MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
 import { ROLES, ROLE_DESCRIPTIONS, ROLE_LABELS, type Role } from "../../../../shared/roles";
 import { createUserBody } from "../../../../shared/schemas/users";
 import { Button } from "../../../components/button";
@@ -86,7 +86,7 @@ export function CreateUserForm() {
         value={values.password}
         onChange={(e) => set("password", e.target.value)}
         error={errors.password}
-        hint={`At least ${MIN_PASSWORD_LENGTH} characters. Pass it on in person or by phone.`}
+        hint={`${MIN_PASSWORD_LENGTH} to ${MAX_PASSWORD_BYTES} characters (fewer with accents or emoji). Pass it on in person or by phone.`}
       />
       <div>
         <Button type="submit" variant="primary" busy={create.isPending}>
