@@ -198,6 +198,15 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
     expect(await fs.readFile(src, "utf8")).toBe("inbox scan bytes");
   });
 
+  it("stages no link and nothing but a regular file, leaving what a link names untouched", async () => {
+    const target = await fileWith("somebody else's file");
+    const link = `${target}.link.tif`;
+    await fs.symlink(target, link);
+    await expect(storage.stageCopy(link)).rejects.toThrow(/is a link: only files themselves are taken in/);
+    await expect(storage.stageCopy(path.dirname(target))).rejects.toThrow(/is not a regular file/);
+    expect(await fs.readFile(target, "utf8")).toBe("somebody else's file");
+  });
+
   it("removes a file, and removing it again is no error", async () => {
     await storage.put("web/gone.jpg", await fileWith("x"));
     await storage.remove("web/gone.jpg");

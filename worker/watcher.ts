@@ -54,6 +54,14 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         return;
       }
       try {
+        // The folder it is in must still be inside the inbox (a subfolder swapped for a link to
+        // somewhere else since the file was seen stays out); the file itself is opened without
+        // following a link (server/storage/files.ts).
+        const [real, inbox] = await Promise.all([fsp.realpath(path.dirname(file)), fsp.realpath(folder)]);
+        if (real !== inbox && !real.startsWith(inbox + path.sep)) {
+          inFlight.delete(file);
+          return log.warn({ file: name }, "watcher: leaving a file alone whose folder now leads out of the inbox");
+        }
         await heartbeat.sawFile(name);
         const r = await intakeFile(deps, { path: file, originalName: path.basename(file), source: "inbox", removeSource: true });
         await notify(deps.database.pool, { kind: "watcher", scanId: r.scanId });

@@ -43,9 +43,21 @@ export async function copyHashed(
       done(null, chunk);
     },
   });
+  // A link is never followed (an inbox file swapped for one after it was looked at stays out),
+  // and only a regular file is read.
+  const handle = await fsp.open(source, fs.constants.O_RDONLY | fs.constants.O_NOFOLLOW).catch((err: NodeJS.ErrnoException) => {
+    if (err.code === "ELOOP") throw new Error(`${source} is a link: only files themselves are taken in (copy the file itself)`, { cause: err });
+    throw err;
+  });
+  try {
+    if (!(await handle.stat()).isFile()) throw new Error(`${source} is not a regular file`);
+  } catch (err) {
+    await handle.close();
+    throw err;
+  }
   try {
     await pipeline(
-      fs.createReadStream(source),
+      handle.createReadStream(),
       tap,
       fs.createWriteStream(dest, { flags: "wx", mode }),
     );
