@@ -229,6 +229,13 @@ describe("requests are validated and changes must come from the app", () => {
     expect(res.status).toBe(400);
     res = await agents.admin.post("/api/users").send({ email: "accents@test.example", name: "X", role: "viewer", password: "é".repeat(36) });
     expect(res.status).toBe(201);
+    // Names are one line: a control character would break a file name, a CSV row or a mail header.
+    res = await agents.admin.post("/api/users").send({ email: "bell@test.example", name: "Ring\u0007", role: "viewer", password: "a-long-password" });
+    expect(res.status).toBe(400);
+    expect(res.body.error.message).toBe("name: Expected a name on one line, without control characters such as tabs or line breaks");
+    res = await agents.operator.post("/api/presets").send({ name: "Shop\nsquare", settings: { kind: "web", name: "Shop\nsquare", size: { mode: "longEdge", longEdge: 800 } } });
+    expect(res.status).toBe(400);
+    expect(res.body.error.message).toMatch(/Expected a preset name on one line/);
 
     res = await agents.admin.post("/api/users").send({ email: "role@test.example", name: "X", role: "owner", password: "a-long-password" });
     expect(res.status).toBe(400);

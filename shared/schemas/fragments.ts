@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { oneLine } from "./text";
 
 /**
  * Fragment geometry, in the source scan's pixels (x right, y down).
@@ -116,7 +117,7 @@ export const updateFragmentBody = z
     rect: rectSchema.optional(),
     angle: angleSchema.optional(),
     shape: fragmentShapeSchema.optional(),
-    title: z.string().trim().max(200).nullable().optional(),
+    title: z.string().trim().max(200).refine(oneLine("a title").check, oneLine("a title").message).nullable().optional(),
     tags: z.array(tagSchema).max(30).optional(),
     notes: z.string().max(4000).nullable().optional(),
   })

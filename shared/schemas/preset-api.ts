@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { oneLine } from "./text";
 import { presetSchema } from "./presets";
 import { batchSchema } from "./recipe-api";
 import { fragmentShapeSchema, fragmentStatusSchema } from "./fragments";
@@ -21,10 +22,10 @@ export const presetResponse = z.object({
   versions: z.array(z.object({ id: z.string(), version: z.number(), createdAt: z.string() })),
 });
 
-export const createPresetBody = z.object({ name: z.string().trim().min(1).max(80), settings: presetSchema });
+export const createPresetBody = z.object({ name: z.string().trim().min(1).max(80).refine(oneLine("a preset name").check, oneLine("a preset name").message), settings: presetSchema });
 /** New settings make a new version; the old outputs keep pointing at the version that made them. */
 export const updatePresetBody = z
-  .object({ name: z.string().trim().min(1).max(80).optional(), settings: presetSchema.optional() })
+  .object({ name: z.string().trim().min(1).max(80).refine(oneLine("a preset name").check, oneLine("a preset name").message).optional(), settings: presetSchema.optional() })
   .refine((b) => b.name !== undefined || b.settings !== undefined, { error: "Expected name or settings" });
 
 /** Which fragments a batch covers: picked ids, or everything matching a filter (approved only). */
@@ -45,7 +46,7 @@ export const fragmentSelectionSchema = z
   .refine((b) => (b.fragmentIds ? 1 : 0) + (b.filter ? 1 : 0) === 1, { error: "Expected either fragmentIds or filter" });
 
 export const createBatchBody = z.object({
-  name: z.string().trim().max(120).optional(),
+  name: z.string().trim().max(120).refine(oneLine("a batch name").check, oneLine("a batch name").message).optional(),
   selection: fragmentSelectionSchema,
   presetIds: z.array(z.uuid({ error: "Expected preset ids in UUID form" })).min(1, { error: "Pick at least one preset" }).max(20),
 });

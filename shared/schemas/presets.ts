@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { oneLine } from "./text";
 import { DEFAULT_MIN_DPI, PAPER_NAMES, PLACEMENTS } from "../paper";
 
 /**
@@ -73,7 +74,8 @@ function kind<const K extends string, S extends z.ZodRawShape>(k: K, shape: S) {
         .string({ error: (iss) => `Expected a preset name but received ${describe(iss.input)}` })
         .trim()
         .min(1, { error: "Expected a preset name of at least one character" })
-        .max(MAX_PRESET_NAME, { error: `Expected a preset name of at most ${MAX_PRESET_NAME} characters` }),
+        .max(MAX_PRESET_NAME, { error: `Expected a preset name of at most ${MAX_PRESET_NAME} characters` })
+        .refine(oneLine("a preset name").check, oneLine("a preset name").message),
       ...shape,
     },
     {

@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { oneLine } from "./text";
 
 /**
  * Colour recipes: an ordered list of colour steps applied to every fragment the same way.
@@ -221,7 +222,8 @@ export const recipeSchema = z.strictObject(
       .string({ error: (iss) => `Expected a recipe name but received ${describe(iss.input)}` })
       .trim()
       .min(1, { error: "Expected a recipe name of at least one character" })
-      .max(MAX_RECIPE_NAME, { error: `Expected a recipe name of at most ${MAX_RECIPE_NAME} characters` }),
+      .max(MAX_RECIPE_NAME, { error: `Expected a recipe name of at most ${MAX_RECIPE_NAME} characters` })
+      .refine(oneLine("a recipe name").check, oneLine("a recipe name").message),
     steps: z
       .array(recipeStepSchema, { error: (iss) => `Expected steps as a list but received ${describe(iss.input)}` })
       .max(MAX_RECIPE_STEPS, { error: `Expected at most ${MAX_RECIPE_STEPS} steps` }),

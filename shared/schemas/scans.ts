@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { oneLine } from "./text";
 
 export const SCAN_STATUSES = ["queued", "analysing", "ready", "failed", "duplicate"] as const;
 export const scanStatusSchema = z.enum(SCAN_STATUSES);
@@ -104,5 +105,5 @@ export const intakeListResponse = z.object({ intakes: z.array(intakeSchema) });
 export const intakeResponse = z.object({ intake: intakeSchema });
 
 export const createIntakeBody = z.object({
-  name: z.string().trim().min(1, { error: "Enter a name for the intake" }).max(120),
+  name: z.string().trim().min(1, { error: "Enter a name for the intake" }).max(120).refine(oneLine("an intake name").check, oneLine("an intake name").message),
 });

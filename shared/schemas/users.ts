@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { oneLine } from "./text";
 import { roleSchema } from "../roles";
 import { MAX_PASSWORD_BYTES, MIN_PASSWORD_LENGTH } from "../limits";
 import { emailSchema } from "./auth";
@@ -30,7 +31,7 @@ export const userResponse = z.object({ user: userSchema });
 
 export const createUserBody = z.object({
   email: emailSchema,
-  name: z.string().trim().min(1, { error: "Enter a name" }).max(120),
+  name: z.string().trim().min(1, { error: "Enter a name" }).max(120).refine(oneLine("a name").check, oneLine("a name").message),
   role: roleSchema,
   password: passwordSchema,
 });
@@ -41,7 +42,7 @@ export const updateUserBody = z
   .object({
     role: roleSchema.optional(),
     disabled: z.boolean().optional(),
-    name: z.string().trim().min(1).max(120).optional(),
+    name: z.string().trim().min(1).max(120).refine(oneLine("a name").check, oneLine("a name").message).optional(),
   })
   .refine((b) => b.role !== undefined || b.disabled !== undefined || b.name !== undefined, {
     error: "Expected at least one of role, disabled or name",
