@@ -6,6 +6,7 @@
  * resumable. No library folder is ever made on either side; only the bounded caches hold copies.
  */
 import fs from "node:fs/promises";
+import os from "node:os";
 import path from "node:path";
 import crypto from "node:crypto";
 import { execFileSync, type ChildProcess } from "node:child_process";
@@ -228,5 +229,23 @@ describe("the library on S3", () => {
     const cached = await walk(path.join(workerData, "cache", "files"));
     expect(cached.some((f) => f.startsWith("originals/"))).toBe(true);
     expect(cached.some((f) => f.startsWith("masters/"))).toBe(true);
+  });
+
+  it("tidies the bucket as the folder: a left-over object goes once old enough, every named one stays", async () => {
+    const { tidyLibrary } = await import("../server/services/library-tidy");
+    const tmp = path.join(os.tmpdir(), `platen-s3-leftover-${process.pid}.jpg`);
+    await fs.writeFile(tmp, "left over in the bucket");
+    const leftOver = "outputs/00000000-0000-4000-8000-000000000000/left-over-r1-none.jpg";
+    await stack.library.put(leftOver, tmp);
+    await fs.rm(tmp, { force: true });
+    // Just written: too young for a tidy now; two days on (the object's own date from the bucket), it goes.
+    const now = await tidyLibrary(stack.db, stack.library, { dryRun: true });
+    expect(now.folders.find((f) => f.folder === "outputs/")).toMatchObject({ leftOver: 1, tooYoung: 1, removed: 0 });
+    const later = new Date(Date.now() + 2 * 24 * 3600_000);
+    const done = await tidyLibrary(stack.db, stack.library, { dryRun: false, now: later });
+    expect(done).toMatchObject({ removed: 1, held: false, failed: 0 });
+    expect(await stack.library.exists(leftOver)).toBe(false);
+    const { rows } = await stack.database.pool.query("select original_key as k from scans union select key from outputs");
+    for (const r of rows) expect(await stack.library.exists(r.k), r.k).toBe(true);
   });
 });
