@@ -14,6 +14,7 @@ import sharp from "sharp";
 import supertest from "supertest";
 import { GetObjectCommand, ListObjectsV2Command } from "@aws-sdk/client-s3";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { twoPieceBed } from "./helpers/fixtures";
 import { spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { s3Client } from "../server/storage/s3";
 import { FAKE_S3_CREDENTIALS } from "../scripts/lib/fake-s3";
@@ -27,17 +28,7 @@ let workerData: string;
 let scanId: string;
 let fragments: Fragment[];
 
-/** Two pieces on a pale bed at 300 DPI (invented test data). */
-async function scan(): Promise<Buffer> {
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1300" height="800">
-    <rect width="100%" height="100%" fill="#f6f6f3"/>
-    <rect x="100" y="100" width="600" height="450" fill="#2e86c1"/>
-    <rect x="850" y="120" width="300" height="400" fill="#c0392b"/>
-  </svg>`;
-  return sharp(Buffer.from(svg))
-    .tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
-    .toBuffer();
-}
+const scan = twoPieceBed;
 
 const binary = (req: supertest.Test) =>
   req.buffer(true).parse((r, cb) => {

@@ -1,9 +1,9 @@
 import crypto from "node:crypto";
 import fs from "node:fs/promises";
 import path from "node:path";
-import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import supertest from "supertest";
+import { twoPieceBed } from "./helpers/fixtures";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { LibraryOverview, TidyReport } from "../shared/schemas/library";
@@ -15,15 +15,7 @@ let operator: supertest.Agent;
 let scanId: string;
 let fragments: Fragment[];
 
-/** Two pieces on a pale lid at 300 DPI (invented test data). */
-async function scan(): Promise<Buffer> {
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1300" height="800">
-    <rect width="100%" height="100%" fill="#f6f6f3"/>
-    <rect x="100" y="100" width="600" height="450" fill="#2e86c1"/>
-    <rect x="850" y="120" width="300" height="400" fill="#c0392b"/>
-  </svg>`;
-  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
-}
+const scan = twoPieceBed;
 
 const DAY = 24 * 3600_000;
 

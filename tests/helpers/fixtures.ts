@@ -44,3 +44,13 @@ export async function pieceBed(seed: number, n: number) {
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="${n * 360 + 120}" height="560"><rect width="100%" height="100%" fill="#f6f5f1"/>${rects}</svg>`;
   return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
 }
+
+/** Two pieces, 2.0 × 1.5 in and 1.0 × 1.33 in, on a pale bed: an LZW TIFF at 300 DPI (invented test data). */
+export async function twoPieceBed(): Promise<Buffer> {
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1300" height="800">
+    <rect width="100%" height="100%" fill="#f6f6f3"/>
+    <rect x="100" y="100" width="600" height="450" fill="#2e86c1"/>
+    <rect x="850" y="120" width="300" height="400" fill="#c0392b"/>
+  </svg>`;
+  return sharp(Buffer.from(svg)).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+}

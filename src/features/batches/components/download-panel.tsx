@@ -3,6 +3,11 @@ import { Panel } from "../../../components/panel";
 import { cn } from "../../../lib/cn";
 import { batchDownloadUrl } from "../api/get-batch-report";
 
+const PACKS = [
+  { value: "plain", label: "Files and CSV", hint: "Each output with its sizes, effective DPI and checksum" },
+  { value: "listing", label: "Listing pack", hint: "The same, with a short rights notice for sale or publication" },
+] as const;
+
 /** The zip of the batch's files with a CSV of each output; the listing pack adds a rights notice. */
 export function DownloadPanel({
   batchId,
@@ -23,36 +28,21 @@ export function DownloadPanel({
       <div className="flex flex-col gap-3">
         <fieldset className="flex flex-col gap-2">
           <legend className="sr-only">Pack</legend>
-          <label className="flex items-start gap-2 text-sm text-ink">
-            <input
-              type="radio"
-              name="pack"
-              checked={pack === "plain"}
-              onChange={() => setPack("plain")}
-              className="mt-0.5 size-4 accent-accent"
-            />
-            <span>
-              Files and CSV
-              <span className="block text-[11px] text-ink-muted">
-                Each output with its sizes, effective DPI and checksum
+          {PACKS.map((p) => (
+            <label key={p.value} className="flex items-start gap-2 text-sm text-ink">
+              <input
+                type="radio"
+                name="pack"
+                checked={pack === p.value}
+                onChange={() => setPack(p.value)}
+                className="mt-0.5 size-4 accent-accent"
+              />
+              <span>
+                {p.label}
+                <span className="block text-[11px] text-ink-muted">{p.hint}</span>
               </span>
-            </span>
-          </label>
-          <label className="flex items-start gap-2 text-sm text-ink">
-            <input
-              type="radio"
-              name="pack"
-              checked={pack === "listing"}
-              onChange={() => setPack("listing")}
-              className="mt-0.5 size-4 accent-accent"
-            />
-            <span>
-              Listing pack
-              <span className="block text-[11px] text-ink-muted">
-                The same, with a short rights notice for sale or publication
-              </span>
-            </span>
-          </label>
+            </label>
+          ))}
         </fieldset>
         {pack === "listing" && (
           <p
