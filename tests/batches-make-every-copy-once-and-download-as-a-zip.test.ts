@@ -314,6 +314,16 @@ describe("output batches", () => {
     }
   });
 
+  it("closes, as a worker starts, a batch left open with nothing left to do", async () => {
+    // As a close that failed on a job's last attempt leaves it: every item settled, no finish time.
+    const last = (await viewer.get("/api/batches")).body.batches[0];
+    await stack.database.pool.query("update batches set finished_at = null where id = $1", [last.id]);
+    const { closeStaleBatches } = await import("../server/services/batches");
+    expect(await closeStaleBatches(stack.db)).toBe(1);
+    expect((await viewer.get(`/api/batches/${last.id}`)).body.batch.finishedAt).not.toBeNull();
+    expect(await closeStaleBatches(stack.db)).toBe(0);
+  });
+
   it("cancelling stops what has not started", async () => {
     // Hold the worker back so nothing starts before the cancel: no worker runs the new jobs.
     await stack.worker!.stop(2000);

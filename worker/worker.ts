@@ -15,6 +15,7 @@ import { offsiteCheckJob, offsiteCopyJob } from "./jobs/offsite";
 import { noticeJob } from "./jobs/mail-notice";
 import { mailSendJob } from "./jobs/mail-send";
 import { libraryTidyJob } from "./jobs/library-tidy";
+import { closeStaleBatches } from "../server/services/batches";
 import { createMailer, type Mailer } from "../server/mail/mailer";
 import type { JobContext } from "./jobs/context";
 import { trimDecodedCopies } from "./decoded-copies";
@@ -107,15 +108,30 @@ export async function startWorker(deps: WorkerDeps) {
     boss
       .send(QUEUES.libraryTidy, {}, { singletonKey: "regular", singletonSeconds: 3600 })
       .catch((err: unknown) => log.warn({ err }, "worker: could not ask for the library tidy"));
-  const tidyTimer = config.tidyEveryHours > 0 ? setInterval(askTidy, 3600_000) : undefined;
-  tidyTimer?.unref();
-  if (tidyTimer) void askTidy();
+  // Batches left open with nothing to do (a close that failed on a job's last attempt) are closed
+  // as the worker starts and every hour.
+  const sweep = () =>
+    closeStaleBatches(deps.database.db, {
+      boss,
+      removeRetired: async (keys) => {
+        for (const key of keys) await deps.library.remove(key).catch((err: unknown) => log.warn({ err, key }, "worker: a retired file stays until the library tidy"));
+      },
+    })
+      .then((n) => (n ? log.info({ closed: n }, "worker: closed batches left open") : undefined))
+      .catch((err: unknown) => log.warn({ err }, "worker: could not look for batches left open"));
+  const hourly = setInterval(() => {
+    if (config.tidyEveryHours > 0) void askTidy();
+    void sweep();
+  }, 3600_000);
+  hourly.unref();
+  if (config.tidyEveryHours > 0) void askTidy();
+  void sweep();
 
   return {
     heartbeatId: heartbeat.id,
     /** Stops taking jobs, lets the ones in hand finish (up to `timeoutMs`), then releases the rest. */
     async stop(timeoutMs = 20_000) {
-      clearInterval(tidyTimer);
+      clearInterval(hourly);
       const loopDone = imageLoop.stop();
       for (const id of workerIds) await boss.offWork({ id } as unknown as string).catch(() => {});
       // Past the grace period, ask long-running steps to give up so the job is released for retry.

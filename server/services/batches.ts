@@ -1,7 +1,7 @@
 import type PgBoss from "pg-boss";
 import { and, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import type { Db } from "../db";
-import { batchItems, batches, fragments, outputs } from "../db/schema";
+import { batchItems, batches, fragments } from "../db/schema";
 import { SEND_CHUNK, type Tx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import { queueNotice } from "./notices";
@@ -64,12 +64,19 @@ export async function settleBatchItem(
  * is sent again then, and its outbox key keeps it to one message a person.
  */
 export async function closeIfSettled(db: Db, batchId: string, opts: { boss?: PgBoss; again?: boolean } = {}): Promise<string[]> {
-  const [open] = await db
-    .select({ n: sql<number>`count(*)::int` })
-    .from(batchItems)
-    .where(and(eq(batchItems.batchId, batchId), inArray(batchItems.state, ["queued", "running"])));
-  if ((open?.n ?? 0) > 0) return [];
+  const openItems = async (q: DbOrTx) => {
+    const [open] = await q
+      .select({ n: sql<number>`count(*)::int` })
+      .from(batchItems)
+      .where(and(eq(batchItems.batchId, batchId), inArray(batchItems.state, ["queued", "running"])));
+    return open?.n ?? 0;
+  };
+  if ((await openItems(db)) > 0) return [];
   const { closed, retired } = await db.transaction(async (tx) => {
+    // The batch row is locked before counting again: a retry of its failures (which locks it too)
+    // either committed before, and its queued items are counted, or waits until this is done.
+    await tx.select({ id: batches.id }).from(batches).where(eq(batches.id, batchId)).for("update");
+    if ((await openItems(tx)) > 0) return { closed: undefined, retired: [] };
     const [row] = await tx
       .update(batches)
       .set({ finishedAt: new Date(), updatedAt: new Date() })
@@ -84,37 +91,50 @@ export async function closeIfSettled(db: Db, batchId: string, opts: { boss?: PgB
 }
 
 /**
+ * Batches left open with nothing queued or running (a close that failed on a job's last attempt,
+ * or a process stopped at that moment) are closed: looked for as a worker starts and every hour.
+ */
+export async function closeStaleBatches(
+  db: Db,
+  opts: { boss?: PgBoss; /** Removes the files of outputs a replacing re-run retired as it closed. */ removeRetired?: (keys: string[]) => Promise<void> } = {},
+): Promise<number> {
+  const stale = await db
+    .select({ id: batches.id })
+    .from(batches)
+    .where(
+      and(
+        isNull(batches.finishedAt),
+        sql`exists (select 1 from batch_items i where i.batch_id = ${batches.id})`,
+        sql`not exists (select 1 from batch_items i where i.batch_id = ${batches.id} and i.state in ('queued', 'running'))`,
+      ),
+    );
+  for (const b of stale) {
+    const retired = await closeIfSettled(db, b.id, { boss: opts.boss });
+    await opts.removeRetired?.(retired);
+  }
+  return stale.length;
+}
+
+/**
  * After a re-run that replaces, the old batch's outputs are removed (rows here; the caller deletes
  * the files), only once the new ones are all made, and only those no other batch lists: an output
  * reused by another batch (or kept by the re-run itself) stays for it. The outputs are locked
- * first, so a job reusing one of them either links it before (and it stays) or finds it gone
- * after (and makes its own).
+ * first (in id order), so a job reusing one of them either links it before (and it stays) or
+ * finds it gone after (and makes its own). Ids travel as one array, whatever the batch's size.
  */
-async function replaceOldOutputs(db: DbOrTx, oldBatchId: string, newBatchId: string): Promise<string[]> {
+async function replaceOldOutputs(db: DbOrTx & Pick<Db, "execute">, oldBatchId: string, newBatchId: string): Promise<string[]> {
   const [failed] = await db.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), inArray(batchItems.state, ["failed", "cancelled"])));
   if (failed?.n) return []; // not all new outputs exist: keep the old ones
-  const onlyHere = (rows: { id: string | null }[]) =>
-    db
-      .select({ id: batchItems.outputId })
-      .from(batchItems)
-      .where(
-        and(
-          eq(batchItems.batchId, oldBatchId),
-          inArray(batchItems.outputId, rows.map((r) => r.id!).filter(Boolean)),
-          sql`not exists (select 1 from batch_items other where other.output_id = ${batchItems.outputId} and other.batch_id <> ${oldBatchId})`,
-        ),
-      );
-  const listed = await db.select({ id: batchItems.outputId }).from(batchItems).where(and(eq(batchItems.batchId, oldBatchId), sql`${batchItems.outputId} is not null`));
-  if (!listed.length) return [];
-  const candidates = await onlyHere(listed);
-  if (!candidates.length) return [];
-  const locked = await db.select({ id: outputs.id }).from(outputs).where(inArray(outputs.id, candidates.map((c) => c.id!))).for("update");
+  const onlyHere = sql`select distinct bi.output_id from batch_items bi
+    where bi.batch_id = ${oldBatchId} and bi.output_id is not null
+      and not exists (select 1 from batch_items other where other.output_id = bi.output_id and other.batch_id <> ${oldBatchId})`;
+  await db.execute(sql`select id from outputs where id in (${onlyHere}) order by id for update`);
   // Looked at again once locked: a reuse that committed meanwhile keeps its output.
-  const ids = [...new Set((locked.length ? await onlyHere(locked) : []).map((r) => r.id!))];
+  const ids = (await db.execute<{ output_id: string }>(onlyHere)).rows.map((r) => r.output_id);
   if (!ids.length) return [];
-  await db.update(batchItems).set({ outputId: null }).where(and(eq(batchItems.batchId, oldBatchId), inArray(batchItems.outputId, ids)));
-  const gone = await db.delete(outputs).where(inArray(outputs.id, ids)).returning({ key: outputs.key });
-  return gone.map((g) => g.key);
+  await db.execute(sql`update batch_items set output_id = null where batch_id = ${oldBatchId} and output_id = any(${sql.param(ids)}::uuid[])`);
+  const gone = await db.execute<{ key: string }>(sql`delete from outputs where id = any(${sql.param(ids)}::uuid[]) returning key`);
+  return gone.rows.map((g) => g.key);
 }
 
 async function present(db: Db, rows: BatchRow[]): Promise<Batch[]> {

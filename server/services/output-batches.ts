@@ -158,21 +158,14 @@ export async function listBatches(db: Db) {
 export async function retryFailed(database: Database, boss: PgBoss, id: string) {
   await getBatch(database.db, id);
   await withTx(database, boss, async (tx) => {
+    // Locked first, as closing it does: a close counting its items either sees these queued or waits.
+    const [batch] = await tx.db.select({ name: batches.name }).from(batches).where(eq(batches.id, id)).for("update");
     const failed = await tx.db
       .update(batchItems)
       .set({ state: "queued", error: null, updatedAt: new Date() })
       .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "failed")))
       .returning();
     if (!failed.length) throw conflict("Nothing in this batch has failed.");
-    const [batch] = await tx.db.select({ name: batches.name }).from(batches).where(eq(batches.id, id));
-    await recordAudit(tx, {
-      action: "batch.retry",
-      subjectType: "batch",
-      subjectId: id,
-      summary: `Queued the ${failed.length} failed ${failed.length === 1 ? "item" : "items"} of the batch "${batch!.name}" again`,
-      before: { failed: failed.length },
-      after: { queued: failed.length, items: failed.map((i) => i.id) },
-    });
     const outputsAgain = failed.filter((i) => i.presetVersionId);
     await tx.sendMany(QUEUES.output, outputsAgain.map((i) => ({ batchItemId: i.id })));
     // A recipe batch's items render their fragment again: it reads as queued, as when first applied.
@@ -198,6 +191,15 @@ export async function retryFailed(database: Database, boss: PgBoss, id: string) 
     }
     // Open again while anything runs; when nothing could be queued, it stays finished.
     if (queuedAgain) await tx.db.update(batches).set({ finishedAt: null, updatedAt: new Date() }).where(eq(batches.id, id));
+    const again = failed.length - queuedAgain;
+    await recordAudit(tx, {
+      action: "batch.retry",
+      subjectType: "batch",
+      subjectId: id,
+      summary: `Queued ${queuedAgain} of the ${failed.length} failed ${failed.length === 1 ? "item" : "items"} of the batch "${batch!.name}" again${again ? ` (${again} failed again at once: the piece is no longer approved)` : ""}`,
+      before: { failed: failed.length },
+      after: { queued: queuedAgain, items: failed.map((i) => i.id) },
+    });
     await tx.notify({ kind: "worker" });
   });
   return getBatch(database.db, id);

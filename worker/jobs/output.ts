@@ -1,4 +1,5 @@
 import type PgBoss from "pg-boss";
+import crypto from "node:crypto";
 import path from "node:path";
 import { and, eq } from "drizzle-orm";
 import type { Database } from "../../server/db";
@@ -36,7 +37,11 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
   const [item] = await db.select().from(batchItems).where(eq(batchItems.id, batchItemId));
   if (!item || item.state === "cancelled") return;
   // Made already: this is a retry after the item was settled, whose close (or its notice) failed.
-  if (item.state === "done") return removeRetired(deps, await closeIfSettled(db, item.batchId, { boss: deps.boss, again: true }));
+  if (item.state === "done")
+    return removeRetired(
+      deps,
+      await closeIfSettled(db, item.batchId, { boss: deps.boss, again: true }),
+    );
   const fail = async (message: string) => {
     await settleBatchItem(db, batchItemId, "failed", message, { boss: deps.boss });
     await notify(pool, { kind: "worker" });
@@ -70,22 +75,36 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     made &&
     (await deps.library.exists(made.key)) &&
     (await db.transaction(async (tx) => {
-      const [still] = await tx.select({ id: outputs.id }).from(outputs).where(eq(outputs.id, made.id)).for("share");
+      const [still] = await tx
+        .select({ id: outputs.id })
+        .from(outputs)
+        .where(eq(outputs.id, made.id))
+        .for("share");
       if (!still) return false;
       await tx.update(batchItems).set({ outputId: made.id }).where(eq(batchItems.id, batchItemId));
       return true;
     }));
   if (linked) {
-    await removeRetired(deps, await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }));
+    await removeRetired(
+      deps,
+      await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }),
+    );
     await notify(pool, { kind: "worker" });
     return log.info("output: reused");
   }
-  const preset = presetSchema.parse(pv.settings);
+  const parsed = presetSchema.safeParse(pv.settings);
+  if (!parsed.success)
+    return fail(
+      `The preset's saved settings are no longer valid: ${parsed.error.issues[0]?.message ?? "unknown"}. Save the preset again, then retry.`,
+    );
+  const preset = parsed.data;
   const [scan] = await db
     .select({ name: scans.originalName })
     .from(scans)
     .where(eq(scans.id, f.scanId));
-  const fileKey = `outputs/${f.id}/${pv.id}-r${f.revision}-${(master.recipeVersionId ?? "none").slice(0, 8)}.${outputExtension(preset)}`;
+  // Each made file has a name of its own (a short random part): a file made again never takes the
+  // name of one a replacing re-run is removing at that moment. The dedupe key is what identifies it.
+  const fileKey = `outputs/${f.id}/${pv.id}-r${f.revision}-${(master.recipeVersionId ?? "none").slice(0, 8)}-${crypto.randomBytes(4).toString("hex")}.${outputExtension(preset)}`;
   try {
     // Made in scratch from a local copy of the master, then stored atomically under its key.
     const report = await deps.library.withScratch((dir) =>
@@ -106,37 +125,44 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
         return made;
       }),
     );
-    const [row] = await db
-      .insert(outputs)
-      .values({
-        fragmentId: f.id,
-        kind: "preset",
-        key: fileKey,
-        format: report.format,
-        width: report.pixelWidth,
-        height: report.pixelHeight,
-        bitDepth: 8,
-        hasAlpha: false,
-        dpi: report.effectiveDpi ?? master.dpi,
-        bytes: report.bytes,
-        revision: f.revision,
-        recipeVersionId: master.recipeVersionId,
-        presetVersionId: pv.id,
-        dedupeKey: key,
-        report: {
-          printedIn: report.printedIn,
-          effectiveDpi: report.effectiveDpi,
-          warnings: report.warnings,
-        },
-      })
-      .onConflictDoUpdate({
-        target: outputs.dedupeKey,
-        set: { key: fileKey, bytes: report.bytes, updatedAt: new Date() },
-      })
-      .returning({ id: outputs.id });
-    await db.update(batchItems).set({ outputId: row!.id }).where(eq(batchItems.id, batchItemId));
+    // The row and the item's link commit together: the row's lock keeps a replacing re-run from
+    // retiring it between the two.
+    await db.transaction(async (tx) => {
+      const [row] = await tx
+        .insert(outputs)
+        .values({
+          fragmentId: f.id,
+          kind: "preset",
+          key: fileKey,
+          format: report.format,
+          width: report.pixelWidth,
+          height: report.pixelHeight,
+          bitDepth: 8,
+          hasAlpha: false,
+          dpi: report.effectiveDpi ?? master.dpi,
+          bytes: report.bytes,
+          revision: f.revision,
+          recipeVersionId: master.recipeVersionId,
+          presetVersionId: pv.id,
+          dedupeKey: key,
+          report: {
+            printedIn: report.printedIn,
+            effectiveDpi: report.effectiveDpi,
+            warnings: report.warnings,
+          },
+        })
+        .onConflictDoUpdate({
+          target: outputs.dedupeKey,
+          set: { key: fileKey, bytes: report.bytes, updatedAt: new Date() },
+        })
+        .returning({ id: outputs.id });
+      await tx.update(batchItems).set({ outputId: row!.id }).where(eq(batchItems.id, batchItemId));
+    });
     // The last item of a replacing re-run retires the old batch's files.
-    await removeRetired(deps, await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }));
+    await removeRetired(
+      deps,
+      await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }),
+    );
     await notify(pool, { kind: "worker" });
     log.info({ preset: preset.kind, warnings: report.warnings }, "output: made");
   } catch (err) {
@@ -146,7 +172,15 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
       return fail(
         "The fragment's master does not exist in the library: render it again (reset and approve the fragment), then retry this item.",
       );
-    if (ctx.retryCount >= ctx.retryLimit) await fail((err as Error).message);
+    // Settled already (what failed was closing its batch): never turned into a failure. A retry
+    // closes the batch; after the last, the worker's sweep of open batches does (closeStaleBatches).
+    const [now] = await db
+      .select({ state: batchItems.state })
+      .from(batchItems)
+      .where(eq(batchItems.id, batchItemId))
+      .catch(() => []);
+    if (now?.state !== "done" && ctx.retryCount >= ctx.retryLimit)
+      await fail((err as Error).message);
     throw err;
   }
 }
@@ -157,5 +191,9 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
  */
 async function removeRetired(deps: OutputDeps, keys: string[]): Promise<void> {
   for (const key of keys)
-    await deps.library.remove(key).catch((err: unknown) => deps.log.warn({ err, key }, "output: a retired file stays until the library tidy"));
+    await deps.library
+      .remove(key)
+      .catch((err: unknown) =>
+        deps.log.warn({ err, key }, "output: a retired file stays until the library tidy"),
+      );
 }
