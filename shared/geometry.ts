@@ -127,23 +127,25 @@ export function minAreaRect(points: Point[]): { rect: Rect; angle: number; area:
 
 /**
  * Pieces in the order a person reads a page: in rows from the top, each row left to right. A row's
- * band is the height of its shortest piece (so a tall strip beside a grid does not pull the grid's
- * rows into one); a piece joins the row being built when it overlaps that band by at least half of
- * its own height or of the band, whichever is less. Pieces of different heights laid out side by
- * side make one row, and a row's order does not depend on their exact tops.
+ * band is the height of its shortest piece among those at least a third of its tallest (so a tall
+ * strip beside a grid does not pull the grid's rows into one, and a stamp or a speck among prints
+ * does not split their row); a piece joins the row being built when it overlaps that band by at
+ * least half of its own height or of the band, whichever is less. Pieces of different heights laid
+ * out side by side make one row, and a row's order does not depend on their exact tops.
  */
 export function readingOrder<T>(items: readonly T[], boxOf: (item: T) => Box): T[] {
   const byTop = [...items].sort((a, b) => boxOf(a).y - boxOf(b).y || boxOf(a).x - boxOf(b).x);
-  const rows: { top: number; bottom: number; items: T[] }[] = [];
+  const rows: { top: number; bottom: number; tallest: number; items: T[] }[] = [];
   for (const item of byTop) {
     const b = boxOf(item);
     const row = rows[rows.length - 1];
     const overlap = row ? Math.min(row.bottom, b.y + b.height) - Math.max(row.top, b.y) : -1;
     if (row && overlap >= 0.5 * Math.min(b.height, row.bottom - row.top)) {
-      if (b.height < row.bottom - row.top) [row.top, row.bottom] = [b.y, b.y + b.height];
+      row.tallest = Math.max(row.tallest, b.height);
+      if (b.height < row.bottom - row.top && b.height >= row.tallest / 3) [row.top, row.bottom] = [b.y, b.y + b.height];
       row.items.push(item);
     } else {
-      rows.push({ top: b.y, bottom: b.y + b.height, items: [item] });
+      rows.push({ top: b.y, bottom: b.y + b.height, tallest: b.height, items: [item] });
     }
   }
   return rows.flatMap((r) => r.items.sort((a, b) => boxOf(a).x - boxOf(b).x || boxOf(a).y - boxOf(b).y));

@@ -44,6 +44,13 @@ describe("pieces are numbered in reading order", () => {
     expect(order(left)).toEqual(["T", "A", "B", "D", "E"]);
   });
 
+  it("does not let a stamp or a speck among larger pieces split their row", () => {
+    //  [A]  [B]   ·        (a 6 px speck between their tops)
+    expect(order([at("A", 0, 100, 400, 400), at("speck", 1500, 120, 6, 6), at("B", 500, 130, 400, 400)])).toEqual(["A", "B", "speck"]);
+    // [P1]   [P2]  [label]  (two prints a little apart in height, a small label beside them)
+    expect(order([at("P1", 0, 100, 600, 800), at("label", 1500, 250, 200, 100), at("P2", 700, 310, 600, 800)])).toEqual(["P1", "P2", "label"]);
+  });
+
   it("handles no pieces and one", () => {
     expect(order([])).toEqual([]);
     expect(order([at("only", 5, 5, 10, 10)])).toEqual(["only"]);
