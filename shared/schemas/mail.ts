@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { oneLine } from "./text";
 import { roleSchema } from "../roles";
 import { emailSchema } from "./auth";
 import { passwordSchema } from "./users";
@@ -57,7 +58,12 @@ export type InvitationPreview = z.infer<typeof invitationPreviewResponse>;
 
 export const acceptInvitationBody = z.object({
   token: tokenSchema,
-  name: z.string().trim().min(1, { error: "Enter your name" }).max(120, { error: "Expected a name of at most 120 characters" }),
+  name: z
+    .string()
+    .trim()
+    .min(1, { error: "Enter your name" })
+    .max(120, { error: "Expected a name of at most 120 characters" })
+    .refine(oneLine("a name").check, oneLine("a name").message),
   password: passwordSchema,
 });
 export type AcceptInvitationBody = z.infer<typeof acceptInvitationBody>;
