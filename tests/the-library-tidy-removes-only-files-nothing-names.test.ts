@@ -149,7 +149,11 @@ describe("the library tidy", () => {
     const regular = await runTidy(stack.db, stack.library, null);
     expect(regular).toMatchObject({ held: true, removed: 0 });
     for (const k of many) expect(await stack.library.exists(k)).toBe(true);
-    const confirmed = await admin.post("/api/library/tidy").send({ allowLarge: true });
+    // Confirmed for fewer files than there now are: held again, with why.
+    const tooFew = await admin.post("/api/library/tidy").send({ allowLarge: true, upTo: 10 });
+    expect(tooFew.status).toBe(409);
+    expect(tooFew.body.error.message).toMatch(/More than the 10 files confirmed: look again/);
+    const confirmed = await admin.post("/api/library/tidy").send({ allowLarge: true, upTo: 30 });
     expect(confirmed.status).toBe(200);
     expect(confirmed.body).toMatchObject({ removed: 30, held: false });
     for (const k of many) expect(await stack.library.exists(k)).toBe(false);

@@ -62,8 +62,10 @@ export async function tidyLibrary(
     now?: Date;
     /** Folders whose left-overs may go (all derived ones by default); the others' are counted only. */
     removable?: readonly string[];
-    /** Removes even what a `caution` holds (a person has read it and confirmed). */
+    /** Removes even what a `caution` holds (a person has read it and confirmed)… */
     allowLarge?: boolean;
+    /** …as long as it is no more files than the person was shown. */
+    upTo?: number;
   },
 ): Promise<TidyReport> {
   const removable = new Set(opts.removable ?? DERIVED_FOLDERS);
@@ -103,11 +105,15 @@ export async function tidyLibrary(
   const derived = folders.filter((f) => f.folder !== "originals/").reduce((n, f) => n + f.files, 0);
   const originals = folders.find((f) => f.folder === "originals/")!;
   let caution: string | null = null;
-  if (originals.files > 0 && originals.leftOver === originals.files)
+  const namedOriginals = originals.files - originals.leftOver - originals.failed;
+  if (originals.files > 0 && namedOriginals === 0)
     caution = `The database names ${originals.files === 1 ? "not even the library's one original" : `none of the ${originals.files} originals in the library`}: it may not be this library's database (a new or restored one). A tidy now would remove every copy made from them.`;
   else if (planned.length > LARGE_TIDY_MIN_FILES && planned.length > LARGE_TIDY_SHARE * derived)
     caution = `A tidy now would remove ${planned.length} of the library's ${derived} derived files, more than half: check that this is the library's own database before going on.`;
-  const hold = caution !== null && !opts.allowLarge;
+  // A confirmation holds for the removal it was given for, not a larger one found since.
+  const confirmed = opts.allowLarge === true && (opts.upTo === undefined || planned.length <= opts.upTo);
+  if (caution && opts.allowLarge && !confirmed) caution += ` (More than the ${opts.upTo} files confirmed: look again.)`;
+  const hold = caution !== null && !confirmed;
 
   for (const { key, size, row } of planned) {
     if (!opts.dryRun) {
@@ -118,8 +124,8 @@ export async function tidyLibrary(
           continue;
         }
         await library.remove(key);
-      } catch {
-        row.failed++;
+      } catch (err) {
+        if (!isStorageError(err, "missing")) row.failed++; // gone meanwhile: nothing to do
         continue;
       }
     }
@@ -153,12 +159,13 @@ async function stillLeftOver(db: Db, library: Storage, key: string, cutoff: numb
 export const REGULAR_TIDY_FOLDERS = DERIVED_FOLDERS.filter((f) => f !== "masters/");
 
 /** Tidies for real and keeps a record of it: by `actorId`, or by the worker's regular tidy (null). */
-export async function runTidy(db: Db, library: Storage, actorId: string | null, opts: { allowLarge?: boolean } = {}): Promise<TidyReport> {
+export async function runTidy(db: Db, library: Storage, actorId: string | null, opts: { allowLarge?: boolean; upTo?: number } = {}): Promise<TidyReport> {
   const report = await tidyLibrary(db, library, {
     dryRun: false,
     removable: actorId ? DERIVED_FOLDERS : REGULAR_TIDY_FOLDERS,
     // Only a person who has read the caution may go past it; the worker's tidy waits for one.
     allowLarge: actorId !== null && opts.allowLarge === true,
+    upTo: opts.upTo,
   });
   // A held tidy removed nothing and is not a tidy: the next one is due as before.
   if (!report.held) await db.insert(libraryTidies).values({ actorId, removed: report.removed, bytes: report.removedBytes });

@@ -35,8 +35,10 @@ export type TidyReport = z.infer<typeof tidyReportSchema>;
 export const tidyLibraryBody = z
   .object({
     dryRun: z.boolean().default(false),
-    /** Confirms a tidy the dry run gave a caution for. */
+    /** Confirms a tidy the dry run gave a caution for… */
     allowLarge: z.boolean().default(false),
+    /** …of at most this many files (what the person was shown). */
+    upTo: z.number().int().min(0).optional(),
   })
   .strict();
 

@@ -57,7 +57,7 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
   const originals = report.folders.find((f) => f.folder === "originals/");
   const masters = report.folders.find((f) => f.folder === "masters/")?.removed ?? 0;
   const run = () =>
-    tidy.mutate({ allowLarge: report.caution !== null }, {
+    tidy.mutate({ allowLarge: report.caution !== null, upTo: report.removed }, {
       onSuccess: (done) => {
         setAsking(false);
         toast.success(`Removed ${plural(done.removed, "left-over file", "left-over files")} (${formatBytes(done.removedBytes)}).`);

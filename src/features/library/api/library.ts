@@ -24,7 +24,8 @@ export function useTidyLibrary() {
   const queryClient = useQueryClient();
   return useMutation({
     /** `allowLarge` confirms a tidy the dry run gave a caution for. */
-    mutationFn: (opts: { allowLarge: boolean }) => apiRequest(API.libraryTidy, { body: { dryRun: false, allowLarge: opts.allowLarge }, schema: tidyReportSchema }),
+    mutationFn: (opts: { allowLarge: boolean; upTo: number }) =>
+      apiRequest(API.libraryTidy, { body: { dryRun: false, ...opts }, schema: tidyReportSchema }),
     onSettled: () => queryClient.invalidateQueries({ queryKey: libraryKeys.overview }),
   });
 }
