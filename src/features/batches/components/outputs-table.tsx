@@ -20,6 +20,17 @@ const STATE_TONE: Record<BatchItem["state"], string> = {
 };
 
 /** Every output of the batch: what it is, its size in pixels and as printed, and any warning. */
+/** The table's columns: heading and its padding and alignment. */
+const COLUMNS = [
+  ["Fragment", "px-5"],
+  ["Preset", "px-3"],
+  ["State", "px-3"],
+  ["Pixels", "px-3 text-right"],
+  ["Printed", "px-3 text-right"],
+  ["Effective DPI", "px-3 text-right"],
+  ["File and notes", "px-5"],
+] as const;
+
 export function OutputsTable({
   items,
   replaced,
@@ -34,27 +45,11 @@ export function OutputsTable({
       <table className="w-full min-w-[62rem] text-sm" aria-label="Outputs">
         <thead>
           <tr className="border-b border-paper-200 text-left text-xs font-semibold tracking-wide whitespace-nowrap text-ink-muted">
-            <th scope="col" className="px-5 py-2.5">
-              Fragment
-            </th>
-            <th scope="col" className="px-3 py-2.5">
-              Preset
-            </th>
-            <th scope="col" className="px-3 py-2.5">
-              State
-            </th>
-            <th scope="col" className="px-3 py-2.5 text-right">
-              Pixels
-            </th>
-            <th scope="col" className="px-3 py-2.5 text-right">
-              Printed
-            </th>
-            <th scope="col" className="px-3 py-2.5 text-right">
-              Effective DPI
-            </th>
-            <th scope="col" className="px-5 py-2.5">
-              File and notes
-            </th>
+            {COLUMNS.map(([label, place]) => (
+              <th key={label} scope="col" className={`${place} py-2.5`}>
+                {label}
+              </th>
+            ))}
           </tr>
         </thead>
         <tbody>
