@@ -41,12 +41,16 @@ export function formatCpuList(cpus: number[]): string {
 }
 
 /**
- * How `workers` worker processes on one machine share its CPUs: the CPUs split into equal runs
- * of neighbours, one run each, leftovers unused; null when there is one worker, or more workers
- * than CPUs (then they are best left free). Example: 2 workers on [0, 1, 2, 3] → ["0-1", "2-3"].
+ * How `workers` worker processes on one machine share its CPUs: the CPUs split into runs of
+ * neighbours as equal as they can be, one run each (the first workers take one more when they do
+ * not divide evenly, so no CPU is left idle); null when there is one worker, or more workers than
+ * CPUs (then they are best left free). Examples: 2 workers on [0, 1, 2, 3] → ["0-1", "2-3"];
+ * 3 on [0 … 7] → ["0-2", "3-5", "6-7"].
  */
 export function cpuShares(workers: number, cpus: number[]): string[] | null {
   if (workers <= 1 || workers > cpus.length) return null;
   const each = Math.floor(cpus.length / workers);
-  return Array.from({ length: workers }, (_, i) => formatCpuList(cpus.slice(i * each, (i + 1) * each)));
+  const extra = cpus.length % workers;
+  const start = (i: number) => i * each + Math.min(i, extra);
+  return Array.from({ length: workers }, (_, i) => formatCpuList(cpus.slice(start(i), start(i + 1))));
 }

@@ -47,10 +47,11 @@ describe("CPU lists", () => {
 });
 
 describe("sharing a machine's CPUs between its workers", () => {
-  it("gives each worker an equal run of neighbouring CPUs", () => {
+  it("gives each worker a run of neighbouring CPUs, as equal as they divide, leaving none idle", () => {
     expect(cpuShares(2, [0, 1])).toEqual(["0", "1"]);
     expect(cpuShares(2, [0, 1, 2, 3])).toEqual(["0-1", "2-3"]);
-    expect(cpuShares(3, [0, 1, 2, 3, 4, 5, 6, 7])).toEqual(["0-1", "2-3", "4-5"]); // 6 and 7 left over
+    expect(cpuShares(3, [0, 1, 2, 3, 4, 5, 6, 7])).toEqual(["0-2", "3-5", "6-7"]); // 8 = 3 + 3 + 2
+    expect(cpuShares(3, [0, 1, 2])).toEqual(["0", "1", "2"]);
     expect(cpuShares(2, [2, 3, 6, 7])).toEqual(["2-3", "6-7"]); // only the CPUs this process may use
   });
 

@@ -23,6 +23,11 @@ export function srgbProfile(): Promise<Buffer> {
       const icc = (await sharp(png).metadata()).icc;
       if (!icc) throw new Error("The image library embedded no sRGB profile");
       return icc;
+    })
+    .catch((err: unknown) => {
+      // Not kept: the next output asks again rather than failing for the life of the process.
+      profile = null;
+      throw err;
     });
   return profile;
 }
