@@ -505,6 +505,20 @@ describe("PDF captions with combining marks", () => {
   });
 });
 
+describe("PDF captions with a mark on a letter only the Latin Extended file has", () => {
+  // Ł is not in Inter's Latin file, the macron is in both: letter and mark must come from the same
+  // file, or the font's layout cannot put the mark over the letter.
+  it("set the letter and its mark from one file, the mark over the letter", async () => {
+    await renderOutput({ master: piece, dpi: 300, title: "\u0141\u0304" }, { ...WITH_CAPTION, output: "pdf" }, { path: at("l-macron.pdf") });
+    const glyphs = await placedGlyphs(fs.readFileSync(at("l-macron.pdf")));
+    const [gl, gm] = [glyphs[0]!, glyphs[1]!];
+    expect([gl.text, gm.text]).toEqual(["\u0141", "\u0304"]);
+    expect(gm.box.minY).toBeGreaterThan(gl.box.maxY - 0.5); // above the letter, not beside it
+    const centre = (b: { minX: number; maxX: number }) => (b.minX + b.maxX) / 2;
+    expect(Math.abs(centre(gm.box) - centre(gl.box)) / 9).toBeLessThan(0.15); // within 0.15 em of its centre
+  });
+});
+
 describe("captions wider than the print area", () => {
   const narrow = {
     ...WITH_CAPTION,

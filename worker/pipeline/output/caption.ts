@@ -122,8 +122,9 @@ function glyphsWidthPt(glyphs: PlacedGlyph[], font: Font, sizePt: number): numbe
 }
 
 /**
- * Splits text into runs by the first face that has each character. A character no face has is
- * spelled in ASCII (asciiSpelling: accents dropped, "?" for the rest), which the first face has.
+ * Splits text into runs by the first face that has each letter with its marks (else each
+ * character). A character no face has is spelled in ASCII (asciiSpelling: accents dropped, "?"
+ * for the rest), which the first face has.
  * Example: "Łódź — 8 × 10 in" → Latin Extended "Ł", Latin "ód", Latin Extended "ź", Latin " — 8 × 10 in".
  */
 export function captionRuns(
@@ -132,17 +133,24 @@ export function captionRuns(
   all: CaptionFace[] = captionFaces(),
 ): CaptionRun[] {
   const runs: { face: number; text: string }[] = [];
-  for (const ch of text.normalize("NFC")) {
-    const cp = ch.codePointAt(0)!;
-    let face = all.findIndex((f) => f.font.hasGlyphForCodePoint(cp));
-    let piece = ch;
-    if (face < 0) {
-      face = 0;
-      piece = asciiSpelling(ch);
-    }
+  const add = (face: number, piece: string) => {
     const last = runs[runs.length - 1];
     if (last && last.face === face) last.text += piece;
     else runs.push({ face, text: piece });
+  };
+  // By letter with its marks (a grapheme cluster), so a mark stays in its letter's face and the
+  // font's layout can place it over that letter; a cluster no one face has goes character by character.
+  for (const { segment } of new Intl.Segmenter("en", { granularity: "grapheme" }).segment(text.normalize("NFC"))) {
+    const whole = all.findIndex((f) => [...segment].every((ch) => f.font.hasGlyphForCodePoint(ch.codePointAt(0)!)));
+    if (whole >= 0) {
+      add(whole, segment);
+      continue;
+    }
+    for (const ch of segment) {
+      const face = all.findIndex((f) => f.font.hasGlyphForCodePoint(ch.codePointAt(0)!));
+      if (face >= 0) add(face, ch);
+      else add(0, asciiSpelling(ch));
+    }
   }
   return runs.map((r) => ({
     ...r,
