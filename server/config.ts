@@ -73,6 +73,8 @@ const envSchema = z.object({
   PLATEN_LOGIN_WINDOW_MINUTES: int(1, 1440).default(15),
   /** Test hook: hold each analyse job this long before it finishes (used by the kill-a-worker test). */
   PLATEN_TEST_ANALYSE_DELAY_MS: int(0, 600_000).default(0),
+  /** Test hook: hold each group render this long once claimed (used by the parked-slot test). */
+  PLATEN_TEST_RENDER_DELAY_MS: int(0, 600_000).default(0),
   // E-mail. Without PLATEN_SMTP_HOST no mail is sent (npm start runs a local fake in development).
   PLATEN_SMTP_HOST: z.string().min(1).optional(),
   PLATEN_SMTP_PORT: int(1, 65535).optional(),
@@ -176,6 +178,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
     bcryptCost: e.PLATEN_BCRYPT_COST,
     loginWindowMs: e.PLATEN_LOGIN_WINDOW_MINUTES * 60_000,
     testAnalyseDelayMs: e.PLATEN_TEST_ANALYSE_DELAY_MS,
+    testRenderDelayMs: e.PLATEN_TEST_RENDER_DELAY_MS,
     mail: {
       host: e.PLATEN_SMTP_HOST,
       port: e.PLATEN_SMTP_PORT ?? (e.PLATEN_SMTP_SECURE ? 465 : 587),

@@ -4,16 +4,31 @@ import type { Logger } from "../server/logger";
 /** How long a queue found empty is left alone, ms. */
 const EMPTY_FOR_MS = 250;
 
+/**
+ * A running job's hold on its slot. A job that only waits (for another job rendering its piece)
+ * parks: its slot goes to the next job meanwhile, and it takes one back (first in line, before any
+ * new job is fetched) when it has work to do again.
+ */
+export interface SlotHold {
+  /** Gives the slot up while the job only waits; false when too many jobs wait already (it keeps it). */
+  park(): boolean;
+  /** Takes a slot back; resolves once one is free. */
+  unpark(): Promise<void>;
+}
+
 export interface SlotQueue {
   queue: string;
   /** Runs one job; resolves when it is done, throws to fail it (the queue retries it). */
-  run: (job: PgBoss.JobWithMetadata<unknown>) => Promise<void>;
+  run: (job: PgBoss.JobWithMetadata<unknown>, hold: SlotHold) => Promise<void>;
 }
+
+/** Jobs that may wait parked at once, per slot: each holds a job the queue counts as active. */
+const PARKED_PER_SLOT = 4;
 
 /**
  * Runs jobs from several queues with one pool of `slots`: a job is fetched only when a slot is
  * free, from the first queue (in the order given) that has one, so a busy process never holds
- * jobs another process could run. A job past its expiry is failed (and so retried) and its slot
+ * jobs another process could run. A job that only waits may park (SlotHold) and free its slot. A job past its expiry is failed (and so retried) and its slot
  * freed, as pg-boss's own workers do. A queue found empty is asked again after EMPTY_FOR_MS.
  * `stop()` stops fetching and waits for the jobs in hand.
  */
@@ -21,6 +36,25 @@ export function startSlotLoop(opts: { boss: PgBoss; log: Logger; slots: number; 
   const { boss, log, slots, queues } = opts;
   const idleMs = opts.idleMs ?? 500;
   const inHand = new Set<Promise<void>>();
+  // Slots held now (jobs in hand less those parked), and parked jobs waiting to take one back.
+  let busy = 0;
+  let parked = 0;
+  const waiting: (() => void)[] = [];
+  const acquire = () =>
+    new Promise<void>((resolve) => {
+      if (busy < slots && waiting.length === 0) {
+        busy++;
+        resolve();
+      } else waiting.push(resolve);
+    });
+  const release = () => {
+    const next = waiting.shift();
+    if (next) next(); // the slot passes straight to a parked job that has work again
+    else {
+      busy--;
+      wake?.();
+    }
+  };
   let accepting = true;
   let wake: (() => void) | null = null;
   const nap = (ms: number) =>
@@ -42,11 +76,29 @@ export function startSlotLoop(opts: { boss: PgBoss; log: Logger; slots: number; 
     return null;
   };
   const start = (job: PgBoss.JobWithMetadata<unknown>, q: SlotQueue) => {
+    busy++;
+    let isParked = false;
+    const hold: SlotHold = {
+      park() {
+        if (isParked) return true;
+        if (parked >= PARKED_PER_SLOT * slots) return false;
+        isParked = true;
+        parked++;
+        release();
+        return true;
+      },
+      async unpark() {
+        if (!isParked) return;
+        isParked = false;
+        parked--;
+        await acquire();
+      },
+    };
     let timer: NodeJS.Timeout | undefined;
     const expiry = new Promise<never>((_, reject) => {
       timer = setTimeout(() => reject(new Error(`The job took longer than ${job.expireInSeconds} s and was given up`)), job.expireInSeconds * 1000);
     });
-    const p: Promise<void> = Promise.race([q.run(job), expiry])
+    const p: Promise<void> = Promise.race([q.run(job, hold), expiry])
       .finally(() => clearTimeout(timer))
       .then(
         () => boss.complete(job.name, job.id),
@@ -56,13 +108,16 @@ export function startSlotLoop(opts: { boss: PgBoss; log: Logger; slots: number; 
       .catch((err: unknown) => log.error({ err, jobId: job.id }, "worker: could not record a job's outcome"))
       .finally(() => {
         inHand.delete(p);
-        wake?.();
+        if (isParked) {
+          parked--;
+          wake?.();
+        } else release();
       });
     inHand.add(p);
   };
   const loop = (async () => {
     while (accepting) {
-      if (inHand.size >= slots) {
+      if (busy >= slots || waiting.length > 0) {
         await nap(1000);
         continue;
       }

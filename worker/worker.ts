@@ -19,7 +19,7 @@ import { closeStaleBatches } from "../server/services/batches";
 import { createMailer, type Mailer } from "../server/mail/mailer";
 import type { JobContext } from "./jobs/context";
 import { trimDecodedCopies } from "./decoded-copies";
-import { startSlotLoop } from "./slot-loop";
+import { startSlotLoop, type SlotHold } from "./slot-loop";
 
 export interface WorkerDeps {
   config: Config;
@@ -69,8 +69,8 @@ export async function startWorker(deps: WorkerDeps) {
   ];
 
   /** Runs one job's handler, logging the outcome; throws what the handler threw. */
-  const run = async (handler: Handler, job: PgBoss.JobWithMetadata<unknown>) => {
-    const ctx = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal };
+  const run = async (handler: Handler, job: PgBoss.JobWithMetadata<unknown>, hold?: SlotHold) => {
+    const ctx: JobContext = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal, park: hold?.park, unpark: hold?.unpark };
     const started = performance.now();
     try {
       await handler(deps, job.data, ctx);
@@ -99,7 +99,7 @@ export async function startWorker(deps: WorkerDeps) {
 
   // The image loop: a job is fetched only when a slot is free, so a busy worker never holds
   // jobs another machine could be running.
-  const imageLoop = startSlotLoop({ boss, log, slots: config.workerConcurrency, queues: imageHandlers.map(([queue, handler]) => ({ queue, run: (job) => run(handler, job) })) });
+  const imageLoop = startSlotLoop({ boss, log, slots: config.workerConcurrency, queues: imageHandlers.map(([queue, handler]) => ({ queue, run: (job, hold) => run(handler, job, hold) })) });
   log.info({ concurrency: config.workerConcurrency, heartbeat: heartbeat.id }, "worker ready");
 
   // The regular tidy: every worker asks each hour (one job per hour whoever asks: a singleton key

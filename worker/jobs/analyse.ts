@@ -151,7 +151,7 @@ export async function analyseScan(
 }
 
 /** Waits `ms`, ending early (with an error, so the job is released) when the worker stops. */
-function holdFor(ms: number, signal?: AbortSignal) {
+export function holdFor(ms: number, signal?: AbortSignal) {
   return new Promise<void>((resolve, reject) => {
     const t = setTimeout(resolve, ms);
     signal?.addEventListener("abort", () => {

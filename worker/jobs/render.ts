@@ -20,6 +20,7 @@ import { isScanError } from "../pipeline/metadata";
 import { dropDecodedCopy, withDecodedCopy } from "../decoded-copies";
 import { recipeVersionFor } from "../../server/services/recipes";
 import { settleBatchItem } from "../../server/services/batches";
+import { holdFor } from "./analyse";
 import type { JobContext } from "./context";
 
 export interface RenderDeps {
@@ -127,6 +128,7 @@ async function renderAttempt(deps: RenderDeps, data: unknown, ctx: JobContext): 
       await waitWhileClaimed(deps, fragmentId, revision, ctx);
       continue;
     }
+    if (deps.config.testRenderDelayMs > 0) await holdFor(deps.config.testRenderDelayMs, ctx.signal);
     const own = await renderGroup(deps, scan, claimed, ctx.jobId, log);
     if (own.kind === "skipped") continue; // edited, unapproved or taken over meanwhile: look again
     if (own.kind === "done") {
@@ -216,6 +218,17 @@ async function claimGroup(deps: RenderDeps, scan: ScanRow, row: FragmentRow, job
  */
 async function waitWhileClaimed(deps: RenderDeps, fragmentId: string, revision: number, ctx: JobContext) {
   const expireMs = deps.config.jobExpireSeconds * 1000;
+  // Only waiting: the worker slot goes to other jobs meanwhile (a scan someone waits to review),
+  // and is taken back before this job renders anything itself.
+  const parked = ctx.park?.() ?? false;
+  try {
+    await pollClaim(deps, fragmentId, revision, ctx, expireMs);
+  } finally {
+    if (parked) await ctx.unpark?.();
+  }
+}
+
+async function pollClaim(deps: RenderDeps, fragmentId: string, revision: number, ctx: JobContext, expireMs: number) {
   for (;;) {
     await sleep(CLAIM_POLL_MS);
     if (ctx.signal?.aborted) throw new Error("The worker is stopping; the render goes back to the queue.");
