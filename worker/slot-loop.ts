@@ -77,21 +77,27 @@ export function startSlotLoop(opts: { boss: PgBoss; log: Logger; slots: number; 
   };
   const start = (job: PgBoss.JobWithMetadata<unknown>, q: SlotQueue) => {
     busy++;
-    let isParked = false;
+    // Holding a slot, parked (given it up to wait), or waiting in line to take one back. Once the
+    // job's outcome is recorded (or it expired) its hold means nothing more: a handler still running
+    // past its expiry never keeps a slot it will not give back.
+    let state: "holding" | "parked" | "waiting" = "holding";
+    let ended = false;
     const hold: SlotHold = {
       park() {
-        if (isParked) return true;
+        if (ended || state !== "holding") return state === "parked";
         if (parked >= PARKED_PER_SLOT * slots) return false;
-        isParked = true;
+        state = "parked";
         parked++;
         release();
         return true;
       },
       async unpark() {
-        if (!isParked) return;
-        isParked = false;
+        if (ended || state !== "parked") return;
+        state = "waiting";
         parked--;
         await acquire();
+        if (ended) release(); // ended while in line: the slot goes straight on
+        else state = "holding";
       },
     };
     let timer: NodeJS.Timeout | undefined;
@@ -108,10 +114,12 @@ export function startSlotLoop(opts: { boss: PgBoss; log: Logger; slots: number; 
       .catch((err: unknown) => log.error({ err, jobId: job.id }, "worker: could not record a job's outcome"))
       .finally(() => {
         inHand.delete(p);
-        if (isParked) {
+        ended = true;
+        if (state === "holding") release();
+        else if (state === "parked") {
           parked--;
           wake?.();
-        } else release();
+        } // waiting: its turn, when it comes, is passed on (unpark)
       });
     inHand.add(p);
   };
