@@ -1,7 +1,7 @@
 import type { ChildProcess } from "node:child_process";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
-import { spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { killProcesses, spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { pieceBed } from "./helpers/fixtures";
 import type { Fragment } from "../shared/schemas/fragments";
 
@@ -25,10 +25,7 @@ beforeAll(async () => {
 }, 60_000);
 
 afterAll(async () => {
-  if (child && child.exitCode === null) {
-    child.kill("SIGKILL");
-    await new Promise((r) => child.once("exit", r));
-  }
+  await killProcesses([child]);
   await stack?.stop();
 });
 

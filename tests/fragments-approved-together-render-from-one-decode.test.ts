@@ -16,7 +16,7 @@ import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
 import { eq } from "drizzle-orm";
-import { spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { killProcesses, spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { pieceBed } from "./helpers/fixtures";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { RecipeInput } from "../shared/schemas/recipes";
@@ -149,8 +149,7 @@ beforeAll(async () => {
 }, 150_000);
 
 afterAll(async () => {
-  for (const { child } of children) if (child.exitCode === null) child.kill("SIGKILL");
-  await Promise.all(children.map(({ child }) => (child.exitCode !== null ? null : new Promise((r) => child.once("exit", r)))));
+  await killProcesses(children.map(({ child }) => child));
   await stack?.stop();
 });
 

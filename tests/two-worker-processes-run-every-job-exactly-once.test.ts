@@ -6,7 +6,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
 import { cpuShares, formatCpuList } from "../shared/cpu-list";
 import { allowedCpus, threadCpus } from "../worker/cpu-affinity";
-import { spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { killProcesses, spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { pieceBed as bed } from "./helpers/fixtures";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { PresetSummary } from "../shared/schemas/preset-api";
@@ -74,8 +74,7 @@ beforeAll(async () => {
 }, 90_000);
 
 afterAll(async () => {
-  for (const { child } of children) if (child.exitCode === null) child.kill("SIGKILL");
-  await Promise.all(children.map(({ child }) => (child.exitCode !== null ? null : new Promise((r) => child.once("exit", r)))));
+  await killProcesses(children.map(({ child }) => child));
   await stack?.stop();
 });
 

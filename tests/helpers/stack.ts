@@ -193,6 +193,14 @@ export async function userAgent(stack: Stack, role: "viewer" | "operator" | "adm
   return agent;
 }
 
+/** Kills spawned processes (SIGKILL) and waits until each has exited; ones already gone are skipped. */
+export async function killProcesses(children: (import("node:child_process").ChildProcess | undefined)[]): Promise<void> {
+  const running = children.filter((c): c is import("node:child_process").ChildProcess => !!c && c.exitCode === null && c.signalCode === null);
+  const exited = running.map((c) => new Promise((r) => c.once("exit", r)));
+  for (const c of running) c.kill("SIGKILL");
+  await Promise.all(exited);
+}
+
 /** Spawns one of the project's processes (server/main.ts, worker/main.ts, worker/watch.ts). */
 export function spawnProcess(script: string, env: Record<string, string>): ChildProcess {
   const root = path.resolve(import.meta.dirname, "../..");
