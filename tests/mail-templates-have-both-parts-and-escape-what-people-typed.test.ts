@@ -79,6 +79,21 @@ describe("mail templates", () => {
     expect(failed!.text).toContain("The file is empty (0 bytes)");
   });
 
+  it("keeps a subject on one header line when a scan's file name holds line breaks", async () => {
+    // Linux allows any byte but "/" and NUL in a file name, so a scan dropped in the inbox can be
+    // named with a line break; RFC 5322 §2.2 ends a header field at CRLF, so one left in would
+    // start a header of its own.
+    const m = scanFailedMessage({ studio: "Paper & Glue", scanName: "bed-04\r\nBcc: someone@else.example\t.tif", intakeName: "June pass", error: "The file is empty (0 bytes)", link: LINK, failedAt: when });
+    expect(m.subject).toBe("A scan failed: bed-04 Bcc: someone@else.example .tif");
+    const transport = nodemailer.createTransport({ streamTransport: true, buffer: true });
+    const info = await transport.sendMail({ from: "platen@localhost", to: "ana@studio.example", subject: m.subject, text: m.text, html: m.html });
+    const parsed = await simpleParser(info.message as Buffer);
+    expect(parsed.subject).toBe(m.subject);
+    expect(parsed.bcc).toBeUndefined();
+    expect(parsed.headers.has("bcc")).toBe(false);
+    expect(m.html).toContain("<title>A scan failed: bed-04 Bcc: someone@else.example .tif</title>");
+  });
+
   it("formats times and durations without ambiguity", () => {
     expect(formatWhen(new Date("2026-01-02T03:04:00Z"))).toBe("2 January 2026, 03:04 UTC");
     expect(formatDuration(7 * 86_400_000)).toBe("7 days");

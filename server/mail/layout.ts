@@ -116,11 +116,21 @@ function blockText(b: Block): string {
   }
 }
 
+/**
+ * A subject is one header line: a scan's file name (which may hold a line break or a tab, as Linux
+ * allows) or anything else in it has each run of control characters shown as one space, so it
+ * can never start a header of its own or fold oddly.
+ */
+export function subjectLine(s: string): string {
+  // eslint-disable-next-line no-control-regex -- finding control characters is the point
+  return s.replace(/[\u0000-\u001f\u007f-\u009f\u2028\u2029]+/g, " ").trim();
+}
+
 /** Renders a message's plain-text and HTML parts from the same blocks. */
 export function renderLayout(l: Layout): Message {
   const body = l.blocks.map(blockHtml).join("\n");
   const html = `<!doctype html>
-<html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1"><title>${escapeHtml(l.subject)}</title></head>
+<html lang="en"><head><meta charset="utf-8"><meta name="viewport" content="width=device-width, initial-scale=1"><title>${escapeHtml(subjectLine(l.subject))}</title></head>
 <body style="margin:0;padding:0;background:${COLOURS.ground};">
 <span style="display:none;max-height:0;overflow:hidden;opacity:0;">${escapeHtml(l.preheader)}</span>
 <table role="presentation" width="100%" cellpadding="0" cellspacing="0" style="background:${COLOURS.ground};border-collapse:collapse;"><tr><td align="center" style="padding:32px 16px;">
@@ -135,5 +145,5 @@ ${body}
 </body></html>
 `;
   const text = [`${l.studio} · Platen`, "", l.heading, "", ...l.blocks.map((b) => `${blockText(b)}\n`), "--", l.footer, ""].join("\n");
-  return { subject: l.subject, text, html };
+  return { subject: subjectLine(l.subject), text, html };
 }
