@@ -165,6 +165,59 @@ describe("the library tidy", () => {
     const strict = await tidyLibrary(stack.db, stack.library, { dryRun: true, graceHours: 24 * 365 });
     expect(strict.removed).toBe(0);
   });
+
+  it("removes the temp files and scratch folders a stopped process left, once they are old, and nothing else there", async () => {
+    const root = path.dirname(path.dirname(stack.libraryPath("masters/x.tif")));
+    const scratch = stack.library.scratchDir;
+    const old = new Date(Date.now() - 2 * DAY);
+    const leave = async (file: string, bytes: number, when: Date | null = old) => {
+      await fs.mkdir(path.dirname(file), { recursive: true });
+      await fs.writeFile(file, Buffer.alloc(bytes, 3));
+      if (when) await fs.utimes(file, when, when);
+    };
+    // The names LocalStorage.put and writeAtomic give a file while it is written beside its
+    // target, a staged copy, a job's scratch folder and a multer upload, as a crash leaves them.
+    const tempMaster = path.join(root, "masters", `.${Date.now()}-0123456789ab-${crypto.randomUUID().slice(0, 8)}.tif.tmp`);
+    const tempOutput = path.join(root, "outputs", crypto.randomUUID(), `.${Date.now()}-ba9876543210-.tmp.jpg`);
+    const staged = path.join(scratch, `.${Date.now()}-00112233aabb-stage.tmp`);
+    const work = path.join(scratch, "work-Ab12Cd");
+    const upload = path.join(scratch, "uploads", crypto.randomBytes(16).toString("hex"));
+    const youngTemp = path.join(root, "web", `.${Date.now()}-ffeeddccbbaa-young.jpg.tmp`);
+    const busyWork = path.join(scratch, "work-Zz99Yy");
+    // Not names the program makes: left alone, whatever their age.
+    const notOurs = [path.join(root, "masters", ".keep"), path.join(scratch, "notes.txt"), path.join(scratch, "uploads", "readme")];
+    await leave(tempMaster, 4000);
+    await leave(tempOutput, 300);
+    await leave(staged, 200);
+    await leave(path.join(work, "piece-1.v"), 1000);
+    await fs.utimes(work, old, old);
+    await leave(upload, 50);
+    await leave(youngTemp, 10, null);
+    // A job's folder with one old file and one just written is in use.
+    await leave(path.join(busyWork, "a.v"), 10);
+    await leave(path.join(busyWork, "b.v"), 10, null);
+    await fs.utimes(busyWork, old, old);
+    for (const f of notOurs) await leave(f, 5);
+
+    const look = (await admin.get("/api/library")).body.tidy as TidyReport;
+    expect(look.caution).toBeNull();
+    expect(folder(look, "unfinished/")).toMatchObject({ files: 7, leftOver: 7, removed: 5, removedBytes: 4000 + 300 + 200 + 1000 + 50, tooYoung: 2, failed: 0 });
+    // The stored keys' folders do not count them: a temp file is not a key.
+    expect(await stack.library.list("masters/")).not.toContain(path.relative(root, tempMaster));
+
+    const done = await admin.post("/api/library/tidy").send({});
+    expect(done.status).toBe(200);
+    expect(folder(done.body as TidyReport, "unfinished/")).toMatchObject({ removed: 5, tooYoung: 2 });
+    for (const f of [tempMaster, tempOutput, staged, work, upload]) await expect(fs.stat(f), f).rejects.toThrow();
+    for (const f of [youngTemp, path.join(busyWork, "a.v"), path.join(busyWork, "b.v"), ...notOurs]) expect((await fs.stat(f)).isFile(), f).toBe(true);
+    // The upload folder itself stays for the next upload.
+    expect((await fs.stat(path.join(scratch, "uploads"))).isDirectory()).toBe(true);
+    const after = (await admin.get("/api/library")).body.tidy as TidyReport;
+    expect(folder(after, "unfinished/")).toMatchObject({ files: 2, removed: 0, tooYoung: 2 });
+    await fs.rm(youngTemp);
+    await fs.rm(busyWork, { recursive: true });
+    for (const f of notOurs) await fs.rm(f);
+  });
 });
 
 describe("the worker's regular tidy", () => {

@@ -14,6 +14,13 @@ import type { LastTidy, TidyFolder, TidyReport } from "../../shared/schemas/libr
  */
 export const DERIVED_FOLDERS = ["previews/", "thumbs/", "masters/", "web/", "outputs/"] as const;
 
+/**
+ * The row for what stopped processes left on this machine: temp files beside their targets,
+ * staged copies, jobs' scratch folders, uploads cut off. Never a stored key; always removable once
+ * older than the grace period, by anyone's tidy (no row can name them).
+ */
+export const UNFINISHED_ROW = "unfinished/";
+
 /** How long a file no row names is kept before a tidy removes it, by default. */
 export const TIDY_GRACE_HOURS = 24;
 
@@ -102,6 +109,15 @@ export async function tidyLibrary(
     }
   }
 
+  const unfinished = await library.unfinished();
+  const tempRow: TidyFolder = { folder: UNFINISHED_ROW, files: unfinished.length, leftOver: unfinished.length, leftOverBytes: 0, removed: 0, removedBytes: 0, tooYoung: 0, failed: 0 };
+  const oldTemps = [];
+  for (const u of unfinished) {
+    tempRow.leftOverBytes += u.size;
+    if (u.modified.getTime() > cutoff) tempRow.tooYoung++;
+    else oldTemps.push(u);
+  }
+
   const derived = folders.filter((f) => f.folder !== "originals/").reduce((n, f) => n + f.files, 0);
   const originals = folders.find((f) => f.folder === "originals/")!;
   let caution: string | null = null;
@@ -132,6 +148,23 @@ export async function tidyLibrary(
     row.removed++;
     row.removedBytes += size;
   }
+  for (const u of oldTemps) {
+    if (!opts.dryRun) {
+      if (hold) continue;
+      try {
+        if (!(await library.removeUnfinished(u, cutoff))) {
+          tempRow.tooYoung++;
+          continue;
+        }
+      } catch {
+        tempRow.failed++;
+        continue;
+      }
+    }
+    tempRow.removed++;
+    tempRow.removedBytes += u.size;
+  }
+  if (unfinished.length) folders.push(tempRow);
   return {
     dryRun: opts.dryRun,
     graceHours,

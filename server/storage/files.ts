@@ -126,3 +126,80 @@ export async function withScratchDir<T>(parent: string, fn: (dir: string) => Pro
     await fsp.rm(dir, { recursive: true, force: true });
   }
 }
+
+/**
+ * The name of a file being written beside its target (`.<time>-<random>-<hint>.tmp`, then the
+ * target's extension for files a tool writes): a process stopped mid-write leaves one behind.
+ */
+export const TEMP_FILE_NAME = /^\.\d+-[0-9a-f]{12}-[A-Za-z0-9.]*\.tmp(\.[A-Za-z0-9]+)?$/;
+
+/** A file, or a job's scratch folder, that a process stopped part-way left behind. */
+export interface Unfinished {
+  /** Absolute path on this machine. */
+  path: string;
+  /** Bytes (a folder: all its files). */
+  size: number;
+  /** The newest modification in it: a folder still being written to is young. */
+  modified: Date;
+}
+
+/** Size and newest modification of a file or folder, not following links; null when gone. */
+async function measure(p: string): Promise<{ size: number; modified: number } | null> {
+  let st: fs.Stats;
+  try {
+    st = await fsp.lstat(p);
+  } catch {
+    return null;
+  }
+  if (!st.isDirectory()) return st.isFile() ? { size: st.size, modified: st.mtimeMs } : null;
+  let size = 0;
+  let modified = st.mtimeMs;
+  for (const e of await fsp.readdir(p).catch(() => [] as string[])) {
+    const m = await measure(path.join(p, e));
+    if (!m) continue;
+    size += m.size;
+    modified = Math.max(modified, m.modified);
+  }
+  return { size, modified };
+}
+
+/**
+ * What stopped processes left: temp files beside their targets anywhere under `library` (a local
+ * library's folder; its scratch folder `skip` is looked at separately) and, in `scratch`, staged
+ * copies, jobs' scratch folders and uploads. Nothing else in those folders is listed: a name the
+ * program does not make is not the program's to remove.
+ */
+export async function findUnfinished(where: { library?: string; skip?: string; scratch: string }): Promise<Unfinished[]> {
+  const found: string[] = [];
+  if (where.library) {
+    const skip = where.skip ? path.relative(where.library, where.skip) : null;
+    for (const rel of await walk(where.library))
+      if (!(skip && (rel === skip || rel.startsWith(`${skip}/`))) && TEMP_FILE_NAME.test(path.basename(rel))) found.push(path.join(where.library, rel));
+  }
+  const entries = await fsp.readdir(where.scratch, { withFileTypes: true }).catch(() => [] as fs.Dirent[]);
+  for (const e of entries) {
+    const p = path.join(where.scratch, e.name);
+    if (e.isDirectory() && e.name === "uploads") {
+      for (const u of await fsp.readdir(p, { withFileTypes: true }).catch(() => [] as fs.Dirent[]))
+        if (u.isFile() && /^[0-9a-f]{32}$/.test(u.name)) found.push(path.join(p, u.name));
+    } else if (e.isDirectory() && /^work-[A-Za-z0-9]{6}$/.test(e.name)) found.push(p);
+    else if (e.isFile() && TEMP_FILE_NAME.test(e.name)) found.push(p);
+  }
+  const out: Unfinished[] = [];
+  for (const p of found.sort()) {
+    const m = await measure(p);
+    if (m) out.push({ path: p, size: m.size, modified: new Date(m.modified) });
+  }
+  return out;
+}
+
+/**
+ * Removes one of `findUnfinished`'s finds if it is still there and still older than `cutoff`
+ * (ms since the epoch), measured again now. False when it is gone or has been written to since.
+ */
+export async function removeUnfinished(u: Unfinished, cutoff: number): Promise<boolean> {
+  const m = await measure(u.path);
+  if (!m || !(m.modified <= cutoff)) return false;
+  await fsp.rm(u.path, { recursive: true, force: true });
+  return true;
+}

@@ -2,7 +2,7 @@ import fsp from "node:fs/promises";
 import path from "node:path";
 import type { Readable } from "node:stream";
 import { checkKey, checkPrefix, isWriteOnce } from "./keys";
-import { copyHashed, fsyncDir, fsyncFile, hashFile, randomName, walk, withScratchDir } from "./files";
+import { copyHashed, findUnfinished, fsyncDir, fsyncFile, hashFile, randomName, removeUnfinished, walk, withScratchDir, type Unfinished } from "./files";
 import {
   StorageError,
   missing,
@@ -196,6 +196,14 @@ export class LocalStorage implements Storage {
 
   withScratch<T>(fn: (dir: string) => Promise<T>): Promise<T> {
     return withScratchDir(this.scratchDir, fn);
+  }
+
+  unfinished(): Promise<Unfinished[]> {
+    return findUnfinished({ library: this.root, skip: this.scratchDir, scratch: this.scratchDir });
+  }
+
+  removeUnfinished(u: Unfinished, cutoff: number): Promise<boolean> {
+    return removeUnfinished(u, cutoff);
   }
 
   private mapError(err: unknown, key: string): Error {

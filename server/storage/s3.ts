@@ -13,7 +13,7 @@ import {
 } from "@aws-sdk/client-s3";
 import { Upload } from "@aws-sdk/lib-storage";
 import { checkKey, checkPrefix, contentTypeFor, isWriteOnce } from "./keys";
-import { copyHashed, hashFile, hashStream, randomName, withScratchDir } from "./files";
+import { copyHashed, findUnfinished, hashFile, hashStream, randomName, removeUnfinished, withScratchDir, type Unfinished } from "./files";
 import { LocalCache } from "./cache";
 import {
   StorageError,
@@ -282,6 +282,14 @@ export class S3Storage implements Storage {
 
   withScratch<T>(fn: (dir: string) => Promise<T>): Promise<T> {
     return withScratchDir(this.scratchDir, fn);
+  }
+
+  unfinished(): Promise<Unfinished[]> {
+    return findUnfinished({ scratch: this.scratchDir });
+  }
+
+  removeUnfinished(u: Unfinished, cutoff: number): Promise<boolean> {
+    return removeUnfinished(u, cutoff);
   }
 
   private mapError(err: unknown, key: string): Error {

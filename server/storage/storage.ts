@@ -1,4 +1,5 @@
 import type { Readable } from "node:stream";
+import type { Unfinished } from "./files";
 
 /**
  * The one storage interface for the library: originals, previews, masters and outputs. Intake,
@@ -46,7 +47,17 @@ export interface Storage {
   withLocalFile<T>(key: string, fn: (localPath: string) => Promise<T>): Promise<T>;
   /** Runs `fn` with a fresh local scratch folder, removed afterwards. */
   withScratch<T>(fn: (dir: string) => Promise<T>): Promise<T>;
+  /**
+   * Temp files and scratch folders on this machine that a process stopped part-way left behind
+   * (never a stored key). On S3 an upload cut short leaves no object; its parts are for the
+   * bucket's own rule for incomplete multipart uploads.
+   */
+  unfinished(): Promise<Unfinished[]>;
+  /** Removes one of `unfinished()`'s finds if it is still older than `cutoff` (ms); false if not. */
+  removeUnfinished(u: Unfinished, cutoff: number): Promise<boolean>;
 }
+
+export type { Unfinished };
 
 export interface PutOptions {
   /** The file's SHA-256 when the caller knows it already (saves a read). */

@@ -76,7 +76,8 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
     >
       <p className="text-sm text-ink-soft">
         Files that no scan, fragment or output names any more: the small pictures of a fragment before its last
-        edit, the master and copies of a merge taken back, a file a stopped process stored without its record.
+        edit, the master and copies of a merge taken back, a file a stopped process stored without its record,
+        and the temp files and scratch folders of work a stopped process left unfinished.
       </p>
       {report.caution && (
         <Notice tone="caution" title="Look before tidying" className="mt-4">

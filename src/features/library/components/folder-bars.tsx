@@ -9,6 +9,8 @@ const FOLDER_NAMES: Record<string, string> = {
   "masters/": "Masters",
   "web/": "Web copies",
   "outputs/": "Batch outputs",
+  // Not a folder of the library: temp files and scratch folders a stopped process left.
+  "unfinished/": "Unfinished writes",
 };
 
 /**
@@ -17,7 +19,7 @@ const FOLDER_NAMES: Record<string, string> = {
  */
 export function FolderBars({ folders }: { folders: TidyFolder[] }) {
   const most = Math.max(1, ...folders.map((f) => f.files));
-  const order = ["originals/", "previews/", "thumbs/", "masters/", "web/", "outputs/"];
+  const order = ["originals/", "previews/", "thumbs/", "masters/", "web/", "outputs/", "unfinished/"];
   const sorted = [...folders].sort((a, b) => order.indexOf(a.folder) - order.indexOf(b.folder));
   return (
     <div className="mt-4">
