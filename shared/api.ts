@@ -77,17 +77,19 @@ export const API = {
   }),
   scansUpload: route({ method: "POST", path: "/api/scans/upload", access: "operator", mutates: true }),
   scansGet: route({ method: "GET", path: "/api/scans/:id", access: "viewer", mutates: false, params: idParams }),
+  // The whole scan shows every piece on the bed, reviewed or not: operators only (viewers see
+  // approved fragments, one at a time).
   scansPreview: route({
     method: "GET",
     path: "/api/scans/:id/preview",
-    access: "viewer",
+    access: "operator",
     mutates: false,
     params: idParams,
   }),
   scansThumb: route({
     method: "GET",
     path: "/api/scans/:id/thumb",
-    access: "viewer",
+    access: "operator",
     mutates: false,
     params: idParams,
   }),

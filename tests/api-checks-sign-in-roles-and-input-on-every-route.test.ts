@@ -491,9 +491,19 @@ describe("uploads", () => {
     // 300 DPI is stored in pHYs as 11811 pixels per metre (PNG 11.3.5.3), which reads back as 299.9994.
     expect(scan.dpi).toMatchObject({ source: "embedded", origin: "png-phys" });
     expect(scan.dpi.x).toBeCloseTo(300, 2);
-    const thumb = await agents.viewer.get(`/api/scans/${result.scanId}/thumb`);
-    expect(thumb.status).toBe(200);
-    expect(thumb.headers["content-type"]).toBe("image/jpeg");
+    // The whole-scan pictures show every piece on the bed, reviewed or not: operators see them,
+    // a viewer (who sees approved work only) is refused.
+    for (const which of ["thumb", "preview"]) {
+      const seen = await agents.operator.get(`/api/scans/${result.scanId}/${which}`);
+      expect(seen.status, which).toBe(200);
+      expect(seen.headers["content-type"]).toBe("image/jpeg");
+      const refused = await agents.viewer.get(`/api/scans/${result.scanId}/${which}`);
+      expect(refused.status, which).toBe(403);
+      expect(refused.body.error).toEqual({ code: "forbidden", message: "Your role (viewer) does not allow this; it needs an operator or admin." });
+      expect(refused.headers["content-type"]).not.toMatch(/^image\//);
+    }
+    // The scan's facts stay readable to a viewer.
+    expect((await agents.viewer.get(`/api/scans/${result.scanId}`)).status).toBe(200);
   });
 
   it("refuse content that is not an image, whatever its name, and files over the limit", async () => {

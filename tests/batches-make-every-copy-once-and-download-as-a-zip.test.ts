@@ -344,4 +344,44 @@ describe("output batches", () => {
     expect(denied.status).toBe(403);
   });
 
+  it("shows a viewer only the pieces still approved: one rejected after its batch leaves the viewer's list and zip", async () => {
+    const { execFileSync } = await import("node:child_process");
+    const list = (await viewer.get("/api/batches")).body.batches;
+    const first = list[list.length - 1];
+    const before = (await operator.get(`/api/batches/${first.id}`)).body;
+    expect(before.items).toHaveLength(4);
+    const [gone] = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+    expect((await operator.patch(`/api/fragments/${gone!.id}`).send({ status: "rejected" })).status).toBe(200);
+    try {
+      // Operators still see the whole batch, as it was made.
+      expect((await operator.get(`/api/batches/${first.id}`)).body.items).toHaveLength(4);
+      const seen = (await viewer.get(`/api/batches/${first.id}`)).body;
+      expect(seen.items).toHaveLength(2);
+      expect(seen.items.map((i: { fragmentId: string }) => i.fragmentId)).not.toContain(gone!.id);
+      // The rejected piece's own files are closed to a viewer too.
+      expect((await viewer.get(`/api/fragments/${gone!.id}/outputs/master`)).status).toBe(404);
+      expect((await viewer.get(`/api/fragments/${gone!.id}/thumb`)).status).toBe(404);
+      // The viewer's zip holds the approved piece's two files and their CSV rows, nothing of the other.
+      const zipPath = path.join(stack.inbox, "viewer.zip");
+      await fs.writeFile(zipPath, (await binary(viewer.get(`/api/batches/${first.id}/download`))).body as Buffer);
+      // Python's zipfile module as an independent reader of the archive.
+      const names = JSON.parse(
+        execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", zipPath], { encoding: "utf8" }),
+      ) as string[];
+      const csv = execFileSync("python3", ["-c", "import zipfile,sys; sys.stdout.write(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())", zipPath], { encoding: "utf8" });
+      const rows = csv.trim().split("\n").slice(1);
+      expect(names.filter((n) => n !== "outputs.csv").sort()).toEqual(seen.items.map((i: { fileName: string }) => i.fileName).sort());
+      expect(rows).toHaveLength(2);
+      expect(rows.every((r) => Number(r.split(",")[2]) !== gone!.position)).toBe(true);
+      // The operator's zip still holds all four.
+      const all = path.join(stack.inbox, "operator.zip");
+      await fs.writeFile(all, (await binary(operator.get(`/api/batches/${first.id}/download`))).body as Buffer);
+      const allNames = JSON.parse(
+        execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", all], { encoding: "utf8" }),
+      ) as string[];
+      expect(allNames.filter((n) => n !== "outputs.csv")).toHaveLength(4);
+    } finally {
+      await operator.patch(`/api/fragments/${gone!.id}`).send({ status: "approved" });
+    }
+  });
 });

@@ -17,11 +17,11 @@ const shot = async (page: Page, name: string) => {
 };
 
 /** Two pieces on a white lid (invented test data). */
-async function twoPieceScan(): Promise<Buffer> {
+async function twoPieceScan(second = "#d4a017"): Promise<Buffer> {
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1000" height="600">
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     <rect x="80" y="90" width="340" height="380" fill="#2b5d8a"/>
-    <rect x="560" y="120" width="320" height="360" fill="#d4a017"/>
+    <rect x="560" y="120" width="320" height="360" fill="${second}"/>
   </svg>`;
   return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
 }
@@ -38,6 +38,14 @@ beforeAll(async () => {
     return s.status === "ready" && s.fragments.total === 2;
   }, 45_000);
   await operator.post(`/api/scans/${scanId}/approve-remaining`).expect(200);
+  // And one left unreviewed: its pieces are nothing a viewer should see yet.
+  const waiting = await operator.post("/api/scans/upload").attach("files", await twoPieceScan("#7a3b2e"), "still-to-review.tif");
+  const waitingId = waiting.body.results[0].scanId as string;
+  expect(waitingId).not.toBe(scanId);
+  await waitFor("the second scan to be split", async () => {
+    const s = (await operator.get(`/api/scans/${waitingId}`)).body.scan;
+    return s.status === "ready" && s.fragments.proposed === 2;
+  }, 45_000);
   browser = await openBrowser();
 });
 afterAll(async () => {
@@ -49,6 +57,11 @@ describe("in the browser", () => {
   it("an admin invites a viewer; the viewer accepts from the mailbox's link and sees approved work, no operator actions", async () => {
     const page = await browser.context.newPage();
     await signIn(page, stack.url, "admin@test.example", "admin-password-123");
+    // Those who review see each scan's thumbnail (a viewer, below, does not).
+    await page.goto(`${stack.url}/scans`);
+    await expect
+      .poll(() => page.locator("main table img").evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length), { timeout: 15_000 })
+      .toBe(2);
     await page.goto(`${stack.url}/users`);
     const invite = page.getByRole("form", { name: "Invite someone" });
     await invite.getByLabel("E-mail").fill("framer@test.example");
@@ -89,6 +102,16 @@ describe("in the browser", () => {
     await page.getByRole("button", { name: "Join the studio" }).click();
 
     await page.waitForURL((u) => u.pathname === "/work");
+    // From here on the viewer walks the app: no whole-scan picture is asked for (they show pieces
+    // not approved), and nothing the pages ask for is refused.
+    const scanPictures: string[] = [];
+    const refused: string[] = [];
+    page.on("request", (req) => {
+      if (/\/api\/scans\/[^/]+\/(thumb|preview)(\?|$)/.test(new URL(req.url()).pathname)) scanPictures.push(req.url());
+    });
+    page.on("response", (res) => {
+      if (new URL(res.url()).pathname.startsWith("/api/") && res.status() >= 400) refused.push(`${res.status()} ${res.url()}`);
+    });
     const signedIn = page.getByRole("group", { name: "Signed in" });
     await signedIn.getByText("Noor Haddad").waitFor();
     await expect.poll(() => signedIn.getByText("Viewer").count()).toBe(1);
@@ -106,6 +129,41 @@ describe("in the browser", () => {
     await page.getByRole("heading", { name: "Scans", exact: true }).waitFor();
     for (const name of [/approve/i, /reject/i, /upload/i, /review/i]) expect(await page.getByRole("button", { name }).count()).toBe(0);
     expect(await page.getByText(/drop scans here/i).count()).toBe(0);
+    const scanRows = page.getByRole("row").filter({ has: page.getByRole("link", { name: /\.(tif|png)$/ }) });
+    await expect.poll(() => scanRows.count(), { timeout: 15_000 }).toBe(2);
+    // The list shows a quiet placeholder in place of each scan's thumbnail.
+    await expect.poll(() => scanRows.locator("img").count()).toBe(0);
+    await shot(page, "viewer-scans");
+
+    // The live queue is for everyone.
+    await page.goto(`${stack.url}/queue`);
+    await page.getByRole("heading", { name: "Queue", exact: true }).waitFor();
+    await page.getByText(/still-to-review\.tif/).first().waitFor();
+    await shot(page, "viewer-queue");
+
+    // A scan's page: its facts, no picture of the whole bed, and the way to its approved pieces.
+    await page.goto(`${stack.url}/scans`);
+    await page.getByRole("link", { name: "blue-and-ochre.tif", exact: true }).click();
+    await page.getByRole("heading", { name: "blue-and-ochre.tif" }).waitFor();
+    const mat = page.getByRole("figure", { name: "The scan's picture" });
+    await mat.getByText("The picture of the whole scan is for operators", { exact: false }).waitFor();
+    expect(await page.locator("main img").count()).toBe(0);
+    await shot(page, "viewer-scan");
+    await mat.getByRole("link", { name: "See its 2 approved fragments" }).click();
+    await page.waitForURL((u) => u.pathname === "/work" && u.searchParams.has("scan"));
+    await expect.poll(() => page.getByLabel("Approved fragments").locator("img").count(), { timeout: 15_000 }).toBe(2);
+
+    // One with nothing approved yet says so, and points to the approved work there is.
+    await page.goto(`${stack.url}/scans`);
+    await page.getByRole("link", { name: "still-to-review.tif", exact: true }).click();
+    await page.getByRole("heading", { name: "still-to-review.tif" }).waitFor();
+    const waitingMat = page.getByRole("figure", { name: "The scan's picture" });
+    await waitingMat.getByText("Nothing from this scan is approved yet.", { exact: false }).waitFor();
+    expect(await waitingMat.getByRole("link", { name: "Browse the approved work" }).count()).toBe(1);
+    expect(await page.locator("main img").count()).toBe(0);
+    await shot(page, "viewer-scan-unreviewed");
+    expect(scanPictures).toEqual([]);
+    expect(refused).toEqual([]);
 
     // The same link does not work twice.
     const link = (await stack.mail!.waitFor("framer@test.example")).text.match(/http\S+\/join#token=\S+/)![0];

@@ -22,6 +22,15 @@ function visibleTo(role: Role) {
     : and(isNull(fragments.mergedInto), eq(fragments.status, "approved"));
 }
 
+/**
+ * The same rule for records of what was made from fragments (a batch's items and files): operators
+ * and admins see them all, as made; a viewer only those whose fragment is still approved and not
+ * merged away. Undefined means no condition.
+ */
+export function madeFromVisibleTo(role: Role) {
+  return hasRole(role, "operator") ? undefined : visibleTo(role);
+}
+
 async function present(db: Db, rows: FragmentRow[]): Promise<Fragment[]> {
   if (!rows.length) return [];
   const ids = rows.map((r) => r.id);

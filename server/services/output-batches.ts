@@ -11,6 +11,8 @@ import { recipeVersionFor } from "./recipes";
 import type { CreateBatchBody } from "../../shared/schemas/preset-api";
 import { outputFileName } from "../presenters/fragment";
 import { recordAudit } from "./audit";
+import { madeFromVisibleTo } from "./fragments";
+import type { Role } from "../../shared/roles";
 import { estimateOutputBytes, type MasterFacts } from "./output-estimate";
 
 /** The approved fragments a selection names. Batches make copies of approved work only. */
@@ -115,7 +117,11 @@ export async function createOutputBatch(
   return getBatch(database.db, id);
 }
 
-export async function batchDetail(db: Db, id: string) {
+/**
+ * A batch and its items, as `role` may see them: a viewer gets only the items whose fragment is
+ * still approved (a piece rejected or merged since the batch ran drops out of their list and zip).
+ */
+export async function batchDetail(db: Db, id: string, role: Role) {
   const batch = await getBatch(db, id);
   const rows = await db
     .select({ item: batchItems, fragment: fragments, scanName: scans.originalName, presetName: presets.name, output: outputs })
@@ -125,7 +131,7 @@ export async function batchDetail(db: Db, id: string) {
     .leftJoin(presetVersions, eq(presetVersions.id, batchItems.presetVersionId))
     .leftJoin(presets, eq(presets.id, presetVersions.presetId))
     .leftJoin(outputs, eq(outputs.id, batchItems.outputId))
-    .where(eq(batchItems.batchId, id))
+    .where(and(eq(batchItems.batchId, id), madeFromVisibleTo(role)))
     .orderBy(scans.originalName, fragments.position, presets.name);
   return {
     batch,
@@ -243,13 +249,14 @@ export async function rerunBatch(database: Database, boss: PgBoss, actorId: stri
   return createOutputBatch(database, boss, actorId, { name: `${old.name} (again)`, selection: { fragmentIds }, presetIds }, { of: id, replaceOld: body.replaceOld });
 }
 
-/** Keys and names of a finished batch's files, for the zip. */
-export async function batchFiles(db: Db, id: string) {
-  const detail = await batchDetail(db, id);
+/** Keys and names of a finished batch's files that `role` may see, for the zip. */
+export async function batchFiles(db: Db, id: string, role: Role) {
+  const detail = await batchDetail(db, id, role);
   const rows = await db
     .select({ itemId: batchItems.id, key: outputs.key, format: outputs.format })
     .from(batchItems)
     .innerJoin(outputs, eq(outputs.id, batchItems.outputId))
-    .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "done")));
+    .innerJoin(fragments, eq(fragments.id, batchItems.fragmentId))
+    .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "done"), madeFromVisibleTo(role)));
   return { detail, files: rows };
 }

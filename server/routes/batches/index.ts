@@ -85,7 +85,7 @@ export function batchesRouter({ database, boss, library }: AppDeps): Router {
     res.status(201);
     return { batch };
   });
-  handle(router, API.batchesGet, ({ params }) => batchDetail(db, params.id));
+  handle(router, API.batchesGet, ({ params, user }) => batchDetail(db, params.id, user.role));
   handle(router, API.batchesRetry, async ({ params }) => ({ batch: await retryFailed(database, boss, params.id) }));
   handle(router, API.batchesCancel, async ({ params }) => ({ batch: await cancelBatch(db, params.id) }));
   handle(router, API.batchesRerun, async ({ params, body, user, res }) => {
@@ -95,9 +95,9 @@ export function batchesRouter({ database, boss, library }: AppDeps): Router {
   });
 
   // A zip streamed straight to the response (never built in memory), with a CSV of every output.
-  handle(router, API.batchesDownload, async ({ params, query, req, res }) => {
+  handle(router, API.batchesDownload, async ({ params, query, user, req, res }) => {
     const batch = await getBatch(db, params.id);
-    const { detail, files } = await batchFiles(db, params.id);
+    const { detail, files } = await batchFiles(db, params.id, user.role);
     if (!files.length) throw conflict("Nothing in this batch is made yet, so there is nothing to download.");
     const byItem = new Map(detail.items.map((i) => [i.id, i]));
     const safe = batch.name.replace(/[^\w.-]+/g, "-").slice(0, 60) || "batch";

@@ -49,7 +49,8 @@ export function ScanRoute() {
               {s.fragments.proposed > 0 ? "Review fragments" : "Open the review"}
             </Link>
           )}
-          {s.fragments.total - s.fragments.proposed > 0 && (
+          {/* A viewer's picture area has this link already, in place of the whole scan. */}
+          {canRetry && s.fragments.total - s.fragments.proposed > 0 && (
             <Link
               to={`${paths.work}?scan=${encodeURIComponent(s.id)}`}
               className="inline-flex h-10 items-center rounded-md border border-paper-300 bg-paper-50 px-4 text-sm font-medium text-ink hover:bg-white"

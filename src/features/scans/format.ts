@@ -65,3 +65,8 @@ const COLOUR_SPACES: Record<string, string> = {
 export function colourSpaceLabel(space: string): string {
   return COLOUR_SPACES[space.toLowerCase()] ?? space;
 }
+
+/** How many of a scan's fragments are approved: the kept ones that are no longer proposed. */
+export function approvedCount(scan: Pick<Scan, "fragments">): number {
+  return Math.max(0, scan.fragments.total - scan.fragments.proposed);
+}

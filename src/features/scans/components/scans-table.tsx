@@ -225,7 +225,7 @@ export function ScansTable({
               className="cursor-pointer border-b border-paper-200 align-middle outline-none hover:bg-white/70 focus-visible:bg-accent-faint focus-visible:shadow-[inset_3px_0_0_#2f6b5e] data-active:bg-white"
             >
               <td className="py-2 pl-4">
-                <ScanThumb id={scan.id} hasPreview={scan.hasPreview} />
+                <ScanThumb scan={scan} />
               </td>
               <td className="px-3 py-2">
                 <Link
