@@ -60,6 +60,21 @@ describe("batches in the browser", () => {
     await expect.poll(() => grid.getByRole("checkbox").count(), { timeout: 15_000 }).toBe(2);
     // Mark the page so a reload would be noticed.
     await page.evaluate(() => ((window as unknown as { __noReload: boolean }).__noReload = true));
+    // The intake filter counts scans and says so.
+    expect(await page.getByLabel("Intake").locator("option").allTextContents()).toContainEqual(expect.stringMatching(/\(1 scan\)$/));
+    // Nothing matching: the grid says how approved work gets here, and offers no "select all 0".
+    await page.getByLabel("Search").fill("no-such-piece");
+    await expect.poll(() => page.getByText(/No approved fragment matches these filters\. A batch makes copies of approved work/).count(), { timeout: 10_000 }).toBe(1);
+    expect(await page.getByRole("button", { name: /^Select all/ }).count()).toBe(0);
+    await page.getByLabel("Search").fill("");
+    await expect.poll(() => grid.getByRole("checkbox").count(), { timeout: 10_000 }).toBe(2);
+    // At 1024 px the presets stand beside the fragments, not a screen below them.
+    await page.setViewportSize({ width: 1024, height: 768 });
+    const fragmentsBox = (await page.getByRole("region", { name: "1 · Fragments" }).boundingBox())!;
+    const presetsBox = (await page.getByRole("region", { name: "2 · Presets" }).boundingBox())!;
+    expect(presetsBox.x).toBeGreaterThanOrEqual(fragmentsBox.x + fragmentsBox.width);
+    expect(presetsBox.y).toBeLessThan(fragmentsBox.y + 50);
+    await page.setViewportSize({ width: 1440, height: 900 });
 
     await page.getByRole("button", { name: "Select all 2 matching" }).click();
     await expect.poll(() => page.getByTestId("selected-count").textContent()).toMatch(/All 2 matching/);
@@ -69,6 +84,12 @@ describe("batches in the browser", () => {
     // The estimate follows the choices: 2 fragments × 2 presets = 4 outputs.
     const estimate = page.getByTestId("batch-estimate");
     await expect.poll(() => estimate.textContent(), { timeout: 15_000 }).toMatch(/2 fragments × 2 presets = 4 outputs/);
+    // Before the run, the review says which print copies will come out soft: the 400 px pieces at
+    // 300 DPI are 1.33 in wide, fitted to the 8 × 10 in area they print near 40 DPI.
+    await expect.poll(() => estimate.getByRole("list", { name: "Warnings" }).textContent(), { timeout: 15_000 }).toMatch(
+      /print-letter: 2 of 2 pieces print below 300 DPI and may look soft/,
+    );
+    expect(await estimate.getByTestId("expected-size").textContent()).toMatch(/^about [\d.]+ [kKM]?B of new files$/);
     await page.getByLabel("Name").fill("Browser batch");
     await page.getByRole("button", { name: /^Run 4 outputs$/ }).click();
 
@@ -78,7 +99,7 @@ describe("batches in the browser", () => {
     // The batch page polls while running: it reaches done without a reload.
     await expect.poll(() => page.getByTestId("batch-state").getAttribute("data-state"), { timeout: 90_000 }).toBe("done");
     expect(await page.getByTestId("batch-done-count").textContent()).toBe("4");
-    const rows = page.getByRole("table", { name: "Outputs" }).locator("tbody tr");
+    const rows = page.getByRole("table", { name: "Outputs" }).locator("tbody tr[data-state]");
     expect(await rows.count()).toBe(4);
     expect(await page.locator('tr[data-state="done"]').count()).toBe(4);
     // Print outputs show a printed size in inches and centimetres.
@@ -134,6 +155,10 @@ describe("batches in the browser", () => {
     expect(await page.getByRole("checkbox", { name: "Preset print-letter" }).isChecked()).toBe(true);
     const rerunGroup = page.getByRole("group", { name: "Presets" });
     expect(await rerunGroup.getByText(`v${web.version + 1}`, { exact: true }).count()).toBe(1);
+    // The new run in figures before it starts: the two web copies are new, the print files reused.
+    const rerunEstimate = page.getByTestId("rerun-estimate");
+    await expect.poll(() => rerunEstimate.textContent(), { timeout: 15_000 }).toMatch(/2 fragments × 2 presets = 4 outputs/);
+    expect(await rerunEstimate.textContent()).toMatch(/To make2Reused2 already made/);
     // Keeping the old outputs is the default; this operator replaces them.
     expect(await page.getByLabel("Keep them beside the new ones").isChecked()).toBe(true);
     await page.getByLabel(/^Replace them/).check();
@@ -144,7 +169,7 @@ describe("batches in the browser", () => {
     await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent(), { timeout: 10_000 }).toContain("Browser batch (again)");
     await expect.poll(() => page.getByTestId("batch-state").getAttribute("data-state"), { timeout: 90_000 }).toBe("done");
     expect(await page.getByTestId("batch-done-count").textContent()).toBe("4");
-    const againRows = page.getByRole("table", { name: "Outputs" }).locator("tbody tr");
+    const againRows = page.getByRole("table", { name: "Outputs" }).locator("tbody tr[data-state]");
     expect(await againRows.count()).toBe(4);
     expect(await page.locator('tr[data-state="done"]').count()).toBe(4);
     // The table shows the new web copies at 200 px on the long edge.
@@ -178,7 +203,7 @@ describe("batches in the browser", () => {
       expect(c[1]?.trim()).toBe("web");
       expect(c[2]?.trim()).toBe("Replaced");
     }
-    expect(await page.locator("tr:not([data-replaced])").filter({ has: page.locator("td") }).count()).toBe(2);
+    expect(await page.locator("tr[data-state]:not([data-replaced])").count()).toBe(2);
     expect(await page.getByTestId("batch-download").textContent()).toBe("Download zip (2 files)");
     expect(await page.getByTestId("replaced-note").textContent()).toMatch(/2 outputs were replaced by a later run/);
     const oldZip = await page.request.get(`${stack.url}/api/batches/${batchId}/download?pack=plain`);
@@ -187,6 +212,29 @@ describe("batches in the browser", () => {
     // (PKWARE APPNOTE.TXT 4.3.12): the two print files and outputs.csv.
     const zipBody = (await oldZip.body()).toString("latin1");
     expect(zipBody.split("PK\x01\x02").length - 1).toBe(3);
+
+    // At 1024 px the outputs table fits its panel: the file names and warnings sit under each
+    // output instead of off to the right.
+    await page.setViewportSize({ width: 1024, height: 768 });
+    const table = page.getByRole("table", { name: "Outputs" });
+    await expect.poll(() => table.evaluate((t) => t.parentElement!.scrollWidth - t.parentElement!.clientWidth)).toBe(0);
+    const warningShown = page.getByTestId("output-warning").filter({ visible: true }).first();
+    await warningShown.scrollIntoViewIfNeeded();
+    const warnBox = (await warningShown.boundingBox())!;
+    const tableBox = (await table.boundingBox())!;
+    expect(warnBox.x + warnBox.width).toBeLessThanOrEqual(tableBox.x + tableBox.width);
+    await page.setViewportSize({ width: 1440, height: 900 });
+
+    // Running the new batch again would make nothing: the review says so rather than "about 0 B".
+    await page.goto(`${stack.url}/batches/${againId}`);
+    await page.getByRole("button", { name: "Run again with…" }).click();
+    await expect.poll(() => page.getByTestId("rerun-estimate").getByTestId("expected-size").textContent(), { timeout: 15_000 }).toBe(
+      "nothing new: every output is made already",
+    );
+
+    // The web preset's live preview names a web copy's resolution for what it is, not a print's.
+    await page.goto(`${stack.url}/presets/${web.id}`);
+    await expect.poll(() => page.getByTestId("preview-dpi").textContent(), { timeout: 20_000 }).toMatch(/\d+ DPI recorded in the file$/);
     await page.close();
   }, 180_000);
 });

@@ -14,6 +14,7 @@ import { recordAudit } from "./audit";
 import { madeFromVisibleTo } from "./fragments";
 import type { Role } from "../../shared/roles";
 import { estimateOutputBytes, type MasterFacts } from "./output-estimate";
+import { dpiWarning, placePiece, printPage } from "../../shared/paper";
 
 /** The approved fragments a selection names. Batches make copies of approved work only. */
 export async function selectFragments(db: Db, selection: CreateBatchBody["selection"]) {
@@ -63,15 +64,33 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
   }
   let reused = 0;
   let expectedBytes = 0;
+  // Print outputs that would come out below the preset's minimum resolution, by preset: said
+  // before the run, with the same geometry the worker lays the page out with (shared/paper).
+  const soft = new Map<string, number>();
   for (const f of picked) {
     const recipe = await recipeVersionFor(db, f.id);
     for (const p of list) {
+      const fact = facts.get(f.id)!;
+      if (p.settings.kind === "print" && fact.width > 0 && fact.height > 0) {
+        const piece = { widthPx: fact.width, heightPx: fact.height, dpi: fact.dpi };
+        try {
+          const place = placePiece(piece, printPage(p.settings, piece).area, p.settings.scale, p.settings.placement);
+          if (dpiWarning(place.effectiveDpi, p.settings.minDpi)) soft.set(p.name, (soft.get(p.name) ?? 0) + 1);
+        } catch {
+          // Settings that leave no print area: the output itself fails with the reason.
+        }
+      }
       const [made] = await db.select({ id: outputs.id }).from(outputs).where(eq(outputs.dedupeKey, dedupeKey(f.id, f.revision, recipe.id, p.versionId)));
       if (made) reused++;
       else expectedBytes += estimateOutputBytes(facts.get(f.id)!, p.settings);
     }
   }
   const warnings = picked.length === 0 ? ["No approved fragment matches this selection."] : [];
+  for (const p of list) {
+    const n = soft.get(p.name);
+    if (n && p.settings.kind === "print")
+      warnings.push(`${p.name}: ${n} of ${picked.length} ${picked.length === 1 ? "piece prints" : "pieces print"} below ${p.settings.minDpi} DPI and may look soft`);
+  }
   return { fragments: picked.length, presets: list.length, outputs: picked.length * list.length, reused, expectedBytes, warnings };
 }
 

@@ -1,5 +1,5 @@
 import { useMemo, useState, type FormEvent, type MouseEvent } from "react";
-import { useNavigate } from "react-router-dom";
+import { Link, useNavigate } from "react-router-dom";
 import type { CreateBatchBody } from "../../../../shared/schemas/preset-api";
 import { Button } from "../../../components/button";
 import { TextField } from "../../../components/field";
@@ -117,7 +117,11 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
   };
 
   return (
-    <form onSubmit={run} aria-label="New batch" className="grid grid-cols-1 items-start gap-6 xl:grid-cols-[minmax(0,1fr)_22rem]">
+    <form
+      onSubmit={run}
+      aria-label="New batch"
+      className="grid grid-cols-1 items-start gap-6 lg:grid-cols-[minmax(0,1fr)_17rem] xl:grid-cols-[minmax(0,1fr)_22rem]"
+    >
       <Panel title="1 · Fragments" titleId="batch-fragments">
         <div className="flex flex-col gap-4">
           <FragmentFilters
@@ -139,18 +143,19 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
                 </>
               )}
             </span>
-            <Button
-              size="sm"
-              variant={matching ? "primary" : "secondary"}
-              aria-pressed={matching}
-              disabled={fragments.length === 0}
-              onClick={() => {
-                setMatching(true);
-                setPicked(new Set());
-              }}
-            >
-              Select all {fragments.length} matching
-            </Button>
+            {fragments.length > 0 && (
+              <Button
+                size="sm"
+                variant={matching ? "primary" : "secondary"}
+                aria-pressed={matching}
+                onClick={() => {
+                  setMatching(true);
+                  setPicked(new Set());
+                }}
+              >
+                Select all {fragments.length} matching
+              </Button>
+            )}
             {(matching || picked.size > 0) && (
               <Button
                 size="sm"
@@ -172,7 +177,24 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
           {pool.isError && !pool.data ? (
             <LoadError error={pool.error} onRetry={() => void pool.refetch()} />
           ) : (
-            <FragmentGrid fragments={fragments} isSelected={isSelected} onToggle={toggle} loading={pool.isFetching} />
+            <FragmentGrid
+              fragments={fragments}
+              isSelected={isSelected}
+              onToggle={toggle}
+              loading={pool.isFetching}
+              emptyText={
+                filter.status === "approved" ? (
+                  <>
+                    No approved fragment matches these filters. A batch makes copies of approved work: approve the
+                    pieces in a scan&apos;s review first (
+                    <Link to={paths.scans} className="font-medium text-accent underline underline-offset-2">
+                      Scans
+                    </Link>
+                    ), or widen the filters.
+                  </>
+                ) : undefined
+              }
+            />
           )}
         </div>
       </Panel>

@@ -1,3 +1,4 @@
+import { useMemo } from "react";
 import type { PresetSummary } from "../../../../shared/schemas/preset-api";
 import { Button } from "../../../components/button";
 import { Notice } from "../../../components/notice";
@@ -31,7 +32,8 @@ export function BatchReport({
   const warned = items.filter((i) => i.warnings.length > 0);
   const presetNames = new Set(items.map((i) => i.preset));
   const current = presets.filter((p) => presetNames.has(p.name)).map((p) => p.id);
-  const fragments = new Set(items.map((i) => i.fragmentId)).size;
+  const fragmentIds = useMemo(() => [...new Set(items.map((i) => i.fragmentId))], [items]);
+  const fragments = fragmentIds.length;
   // A replacing re-run removes the old files once the new ones are made: such an output is done
   // but has no file any more, and the zip leaves it out.
   const replaced = new Set(
@@ -129,7 +131,7 @@ export function BatchReport({
           replacedCount={replaced.size}
         />
         <Can role="operator">
-          <RerunPanel key={current.join()} batchId={batch.id} presets={presets} current={current} />
+          <RerunPanel key={current.join()} batchId={batch.id} presets={presets} current={current} fragmentIds={fragmentIds} />
         </Can>
       </div>
       <Panel title="Outputs" titleId="batch-outputs" bodyClassName="p-0" className="mt-6">

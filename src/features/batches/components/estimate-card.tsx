@@ -48,7 +48,13 @@ export function EstimateCard({
           <span className="text-ink-muted"> already made with the same fragment, recipe and preset versions</span>
         </dd>
         <dt className="text-ink-muted">Expected size</dt>
-        <dd className="figure text-ink">about {formatBytes(estimate.expectedBytes)}</dd>
+        <dd className="text-ink" data-testid="expected-size">
+          {fresh === 0 ? (
+            <span className="text-ink-muted">nothing new: every output is made already</span>
+          ) : (
+            <span className="figure">about {formatBytes(estimate.expectedBytes)} of new files</span>
+          )}
+        </dd>
       </dl>
       {estimate.warnings.length > 0 && (
         <ul className="flex flex-col gap-1 rounded-md border border-ochre/30 bg-ochre-soft/60 px-3 py-2 text-xs text-ochre" aria-label="Warnings">

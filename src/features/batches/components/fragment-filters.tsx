@@ -29,16 +29,16 @@ export function FragmentFilters({
 }) {
   const set = (patch: Partial<FragmentFilter>) => onChange({ ...filter, ...patch });
   return (
-    <div className="grid grid-cols-2 items-end gap-3 lg:grid-cols-3" role="search" aria-label="Filter fragments">
-      <SelectField label="Intake" value={filter.intakeId ?? ""} onChange={(e) => set({ intakeId: e.target.value || undefined, scanId: undefined })}>
+    <div className="grid grid-cols-2 items-end gap-3 xl:grid-cols-[minmax(0,1.4fr)_minmax(0,1fr)_minmax(0,1fr)]" role="search" aria-label="Filter fragments">
+      <SelectField label="Intake" fieldClassName="max-xl:col-span-2" value={filter.intakeId ?? ""} onChange={(e) => set({ intakeId: e.target.value || undefined, scanId: undefined })}>
         <option value="">All intakes</option>
         {intakes.map((i) => (
           <option key={i.id} value={i.id}>
-            {i.name} ({i.scanCount})
+            {i.name} ({i.scanCount} {i.scanCount === 1 ? "scan" : "scans"})
           </option>
         ))}
       </SelectField>
-      <SelectField label="Scan" value={filter.scanId ?? ""} onChange={(e) => set({ scanId: e.target.value || undefined })}>
+      <SelectField label="Scan" fieldClassName="max-xl:col-span-2" value={filter.scanId ?? ""} onChange={(e) => set({ scanId: e.target.value || undefined })}>
         <option value="">{filter.intakeId ? "Every scan of the intake" : "All scans"}</option>
         {scans.map((s) => (
           <option key={s.id} value={s.id}>
@@ -72,7 +72,6 @@ export function FragmentFilters({
         type="search"
         placeholder="Title or scan name"
         value={filter.q ?? ""}
-       
         onChange={(e) => set({ q: e.target.value || undefined })}
       />
     </div>

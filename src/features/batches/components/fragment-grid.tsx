@@ -1,4 +1,4 @@
-import type { MouseEvent } from "react";
+import type { MouseEvent, ReactNode } from "react";
 import type { Fragment } from "../../../../shared/schemas/fragments";
 import { formatNumber } from "../../../../shared/units";
 import { Spinner } from "../../../components/button";
@@ -15,8 +15,11 @@ export function FragmentGrid({
   isSelected,
   onToggle,
   loading,
+  emptyText = "No fragment matches these filters.",
 }: {
   fragments: Fragment[];
+  /** What to say when nothing matches: the builder says how to get fragments in. */
+  emptyText?: ReactNode;
   isSelected: (id: string) => boolean;
   onToggle: (index: number, event: MouseEvent<HTMLInputElement>) => void;
   loading: boolean;
@@ -28,7 +31,7 @@ export function FragmentGrid({
       </p>
     );
   }
-  if (fragments.length === 0) return <EmptyNote>No fragment matches these filters.</EmptyNote>;
+  if (fragments.length === 0) return <EmptyNote>{emptyText}</EmptyNote>;
   return (
     <ul
       aria-label="Fragments"

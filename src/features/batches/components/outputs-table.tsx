@@ -1,3 +1,4 @@
+import { Fragment } from "react";
 import { formatBytes, formatNumber } from "../../../../shared/units";
 import type { BatchItem } from "../api/get-batch-report";
 import { cn } from "../../../lib/cn";
@@ -28,8 +29,39 @@ const COLUMNS = [
   ["Pixels", "px-3 text-right"],
   ["Printed", "px-3 text-right"],
   ["Effective DPI", "px-3 text-right"],
-  ["File and notes", "px-5"],
+  ["File and notes", "hidden px-5 xl:table-cell"],
 ] as const;
+
+/** The file made, or why there is none, and any warning: beside the sizes on a wide screen, under them on a narrow one. */
+function Notes({ o, gone }: { o: BatchItem; gone: boolean }) {
+  return (
+    <>
+      {o.fileName && (
+        <span className="figure block break-words text-ink-soft">
+          {o.fileName}
+          {o.bytes !== null && <span className="text-ink-muted"> · {formatBytes(o.bytes)}</span>}
+        </span>
+      )}
+      {gone && (
+        <span className="text-ink-muted">Made again by a later run; this file was removed.</span>
+      )}
+      {o.error && (
+        <p role="alert" className="mt-0.5 font-medium text-brick">
+          {o.error}
+        </p>
+      )}
+      {o.warnings.map((w, i) => (
+        <p
+          key={i}
+          className="mt-0.5 inline-block rounded bg-ochre-soft px-1.5 py-0.5 font-medium text-ochre"
+          data-testid="output-warning"
+        >
+          ⚠ {w}
+        </p>
+      ))}
+    </>
+  );
+}
 
 export function OutputsTable({
   items,
@@ -40,9 +72,10 @@ export function OutputsTable({
 }) {
   return (
     <div className="overflow-x-auto">
-      {/* Below this width the columns would crush the names into stacks of syllables: the
-          table scrolls sideways instead. */}
-      <table className="w-full min-w-[62rem] text-sm" aria-label="Outputs">
+      {/* Below the xl width the file and its notes go on a line of their own under each output,
+          so sizes, warnings and file names all stay in sight without scrolling sideways; only a
+          window narrower still scrolls. */}
+      <table className="w-full min-w-[44rem] text-sm xl:min-w-[62rem]" aria-label="Outputs">
         <thead>
           <tr className="border-b border-paper-200 text-left text-xs font-semibold tracking-wide whitespace-nowrap text-ink-muted">
             {COLUMNS.map(([label, place]) => (
@@ -55,92 +88,82 @@ export function OutputsTable({
         <tbody>
           {items.map((o) => {
             const gone = replaced?.has(o.id) ?? false;
+            const hasNotes = Boolean(o.fileName || gone || o.error || o.warnings.length);
             return (
-              <tr
-                key={o.id}
-                data-state={o.state}
-                data-replaced={gone || undefined}
-                className={cn(
-                  "border-b border-paper-200 align-top last:border-0",
-                  o.state === "failed" && "bg-brick-soft/30",
+              <Fragment key={o.id}>
+                <tr
+                  data-state={o.state}
+                  data-replaced={gone || undefined}
+                  className={cn(
+                    "border-b border-paper-200 align-top last:border-0",
+                    hasNotes && "max-xl:border-b-0",
+                    o.state === "failed" && "bg-brick-soft/30",
+                  )}
+                >
+                  <td className="px-5 py-2.5 break-words xl:whitespace-nowrap">
+                    <span className="font-medium text-ink">
+                      {fragmentLabel({
+                        title: o.fragmentTitle,
+                        position: o.position,
+                        scanName: o.scanName,
+                      })}
+                    </span>
+                  </td>
+                  <td className="px-3 py-2.5 whitespace-nowrap text-ink-soft">{o.preset}</td>
+                  <td
+                    className={cn(
+                      "px-3 py-2.5 text-xs whitespace-nowrap",
+                      gone ? "text-ink-muted" : STATE_TONE[o.state],
+                    )}
+                  >
+                    {gone ? "Replaced" : STATE_TEXT[o.state]}
+                  </td>
+                  <td className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft">
+                    {o.pixelWidth && o.pixelHeight ? `${o.pixelWidth} × ${o.pixelHeight}` : "–"}
+                  </td>
+                  <td
+                    className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft"
+                    data-testid="printed-size"
+                  >
+                    {o.printedIn ? (
+                      <>
+                        {formatNumber(o.printedIn.width, 2)} × {formatNumber(o.printedIn.height, 2)}{" "}
+                        in
+                        <span className="block text-ink-muted">
+                          {formatNumber(o.printedIn.width * 2.54, 1)} ×{" "}
+                          {formatNumber(o.printedIn.height * 2.54, 1)} cm
+                        </span>
+                      </>
+                    ) : (
+                      "–"
+                    )}
+                  </td>
+                  <td
+                    className={cn(
+                      "figure px-3 py-2.5 text-right text-xs whitespace-nowrap",
+                      o.warnings.length > 0 ? "font-semibold text-ochre" : "text-ink-soft",
+                    )}
+                  >
+                    {o.effectiveDpi !== null ? Math.round(o.effectiveDpi) : "–"}
+                  </td>
+                  <td className="hidden px-5 py-2.5 text-xs xl:table-cell">
+                    <Notes o={o} gone={gone} />
+                  </td>
+                </tr>
+                {hasNotes && (
+                  <tr
+                    data-notes-for={o.id}
+                    className={cn(
+                      "border-b border-paper-200 text-xs xl:hidden",
+                      o.state === "failed" && "bg-brick-soft/30",
+                    )}
+                  >
+                    <td colSpan={COLUMNS.length - 1} className="px-5 pt-0 pb-2.5">
+                      <Notes o={o} gone={gone} />
+                    </td>
+                  </tr>
                 )}
-              >
-                <td className="px-5 py-2.5 whitespace-nowrap">
-                  <span className="font-medium text-ink">
-                    {fragmentLabel({
-                      title: o.fragmentTitle,
-                      position: o.position,
-                      scanName: o.scanName,
-                    })}
-                  </span>
-                </td>
-                <td className="px-3 py-2.5 whitespace-nowrap text-ink-soft">{o.preset}</td>
-                <td
-                  className={cn(
-                    "px-3 py-2.5 text-xs whitespace-nowrap",
-                    gone ? "text-ink-muted" : STATE_TONE[o.state],
-                  )}
-                >
-                  {gone ? "Replaced" : STATE_TEXT[o.state]}
-                </td>
-                <td className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft">
-                  {o.pixelWidth && o.pixelHeight ? `${o.pixelWidth} × ${o.pixelHeight}` : "–"}
-                </td>
-                <td
-                  className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft"
-                  data-testid="printed-size"
-                >
-                  {o.printedIn ? (
-                    <>
-                      {formatNumber(o.printedIn.width, 2)} × {formatNumber(o.printedIn.height, 2)}{" "}
-                      in
-                      <span className="block text-ink-muted">
-                        {formatNumber(o.printedIn.width * 2.54, 1)} ×{" "}
-                        {formatNumber(o.printedIn.height * 2.54, 1)} cm
-                      </span>
-                    </>
-                  ) : (
-                    "–"
-                  )}
-                </td>
-                <td
-                  className={cn(
-                    "figure px-3 py-2.5 text-right text-xs whitespace-nowrap",
-                    o.warnings.length > 0 ? "font-semibold text-ochre" : "text-ink-soft",
-                  )}
-                >
-                  {o.effectiveDpi !== null ? Math.round(o.effectiveDpi) : "–"}
-                </td>
-                <td className="px-5 py-2.5 text-xs">
-                  {o.fileName && (
-                    <span className="figure block break-words text-ink-soft">
-                      {o.fileName}
-                      {o.bytes !== null && (
-                        <span className="text-ink-muted"> · {formatBytes(o.bytes)}</span>
-                      )}
-                    </span>
-                  )}
-                  {gone && (
-                    <span className="text-ink-muted">
-                      Made again by a later run; this file was removed.
-                    </span>
-                  )}
-                  {o.error && (
-                    <p role="alert" className="mt-0.5 font-medium text-brick">
-                      {o.error}
-                    </p>
-                  )}
-                  {o.warnings.map((w, i) => (
-                    <p
-                      key={i}
-                      className="mt-0.5 inline-block rounded bg-ochre-soft px-1.5 py-0.5 font-medium text-ochre"
-                      data-testid="output-warning"
-                    >
-                      ⚠ {w}
-                    </p>
-                  ))}
-                </td>
-              </tr>
+              </Fragment>
             );
           })}
         </tbody>

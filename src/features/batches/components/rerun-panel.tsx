@@ -1,23 +1,47 @@
-import { useState } from "react";
+import { useMemo, useState } from "react";
 import { useNavigate } from "react-router-dom";
 import type { PresetSummary } from "../../../../shared/schemas/preset-api";
 import { Button } from "../../../components/button";
 import { Panel } from "../../../components/panel";
 import { paths } from "../../../config/paths";
 import { toast } from "../../../lib/toast";
+import { useBatchEstimate } from "../api/estimate-batch";
+import { MAX_PICKED } from "../api/get-fragment-choices";
 import { useRerunBatch } from "../api/rerun-batch";
+import { EstimateCard } from "./estimate-card";
 import { PresetChecklist } from "./preset-checklist";
 
 /**
  * Run the same fragments again, with presets changed (a new size, a new version) or as they are,
  * replacing the old outputs once the new ones are made, or keeping both.
  */
-export function RerunPanel({ batchId, presets, current }: { batchId: string; presets: PresetSummary[]; current: string[] }) {
+export function RerunPanel({
+  batchId,
+  presets,
+  current,
+  fragmentIds,
+}: {
+  batchId: string;
+  presets: PresetSummary[];
+  current: string[];
+  /** The batch's fragments: the new run takes the same ones. */
+  fragmentIds: string[];
+}) {
   const navigate = useNavigate();
   const rerun = useRerunBatch();
   const [open, setOpen] = useState(false);
   const [ids, setIds] = useState<string[]>(current);
   const [replaceOld, setReplaceOld] = useState(false);
+  // What the new run would make and reuse, asked only while the panel is open. A batch of more
+  // fragments than one request may name is run without the figures.
+  const body = useMemo(
+    () =>
+      open && ids.length > 0 && fragmentIds.length > 0 && fragmentIds.length <= MAX_PICKED
+        ? { selection: { fragmentIds }, presetIds: ids }
+        : null,
+    [open, ids, fragmentIds],
+  );
+  const estimate = useBatchEstimate(body);
 
   const go = () =>
     rerun.mutate(
@@ -41,6 +65,16 @@ export function RerunPanel({ batchId, presets, current }: { batchId: string; pre
       ) : (
         <div className="flex flex-col gap-4">
           <PresetChecklist presets={presets} selected={ids} onChange={setIds} />
+          {fragmentIds.length <= MAX_PICKED && (
+            <div className="rounded-md border border-paper-300 bg-white px-3 py-2.5" data-testid="rerun-estimate">
+              <EstimateCard
+                estimate={body ? estimate.data : undefined}
+                loading={estimate.isFetching}
+                error={estimate.error}
+                waitingFor={ids.length === 0 ? "Pick at least one preset to see the count and size." : null}
+              />
+            </div>
+          )}
           <fieldset className="flex flex-col gap-2 text-sm">
             <legend className="mb-1 text-xs font-medium text-ink-soft">The old outputs</legend>
             <label className="flex items-start gap-2">

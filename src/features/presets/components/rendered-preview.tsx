@@ -35,7 +35,14 @@ export function RenderedPreview({ fragmentId, settings }: { fragmentId: string |
           <span className="figure">
             {data.report.pixelWidth} × {data.report.pixelHeight} px
           </span>
-          {data.report.effectiveDpi ? <span className="figure"> · {Math.round(data.report.effectiveDpi)} DPI as printed</span> : null}
+          {data.report.effectiveDpi ? (
+            <span className="figure" data-testid="preview-dpi">
+              {" "}
+              · {Math.round(data.report.effectiveDpi)} DPI{" "}
+              {/* Only a print is printed: a web copy's figure is the resolution its file records. */}
+              <span className="font-sans">{settings.kind === "print" ? "as printed" : "recorded in the file"}</span>
+            </span>
+          ) : null}
           <span> · made on the server in </span>
           <span className="figure">{data.ms} ms</span>
           {data.report.warnings.map((w) => (
