@@ -46,6 +46,7 @@ export async function startWorker(deps: WorkerDeps) {
   await heartbeat.ready;
   await notify(deps.database.pool, { kind: "worker" }).catch(() => {});
   const stopping = new AbortController();
+  const stopAsked = new AbortController();
   const mailDeps = { ...deps, mailer: deps.mailer ?? createMailer(config.mail, log) };
   if (!mailDeps.mailer.enabled) log.warn({ reason: mailDeps.mailer.reason }, "notices are off");
 
@@ -70,7 +71,7 @@ export async function startWorker(deps: WorkerDeps) {
 
   /** Runs one job's handler, logging the outcome; throws what the handler threw. */
   const run = async (handler: Handler, job: PgBoss.JobWithMetadata<unknown>, hold?: SlotHold) => {
-    const ctx: JobContext = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal, park: hold?.park, unpark: hold?.unpark };
+    const ctx: JobContext = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal, stopAsked: stopAsked.signal, park: hold?.park, unpark: hold?.unpark };
     const started = performance.now();
     try {
       await handler(deps, job.data, ctx);
@@ -131,6 +132,7 @@ export async function startWorker(deps: WorkerDeps) {
     heartbeatId: heartbeat.id,
     /** Stops taking jobs, lets the ones in hand finish (up to `timeoutMs`), then releases the rest. */
     async stop(timeoutMs = 20_000) {
+      stopAsked.abort();
       clearInterval(hourly);
       const loopDone = imageLoop.stop();
       for (const id of workerIds) await boss.offWork({ id } as unknown as string).catch(() => {});

@@ -21,6 +21,7 @@ import { dropDecodedCopy, withDecodedCopy } from "../decoded-copies";
 import { recipeVersionFor } from "../../server/services/recipes";
 import { settleBatchItem } from "../../server/services/batches";
 import { holdFor } from "./analyse";
+import { QUEUES } from "../../server/jobs/queues";
 import type { JobContext } from "./context";
 
 export interface RenderDeps {
@@ -125,7 +126,15 @@ async function renderAttempt(deps: RenderDeps, data: unknown, ctx: JobContext): 
     const claimed = await claimGroup(deps, scan, row, ctx.jobId);
     if (!claimed.includes(fragmentId)) {
       // Another job is rendering it (with others of its scan): wait for that, then look again.
-      await waitWhileClaimed(deps, fragmentId, revision, ctx);
+      if ((await waitWhileClaimed(deps, fragmentId, revision, ctx)) === "stopping") {
+        // Nothing of this job's own is in hand: rather than fail (and spend an attempt, the
+        // last one failing its batch item), it goes back to the queue whole, as a new job with
+        // the same data, and this one ends. Render jobs are idempotent, so a copy that also
+        // survives (the send committed, the completion did not) finds its piece made.
+        if (!deps.boss) throw new Error("The worker is stopping; the render goes back to the queue.");
+        const again = await deps.boss.send(QUEUES.render, renderPayload.parse(data));
+        return log.info({ again }, "render: handed back to the queue as the worker stops");
+      }
       continue;
     }
     if (deps.config.testRenderDelayMs > 0) await holdFor(deps.config.testRenderDelayMs, ctx.signal);
@@ -216,22 +225,24 @@ async function claimGroup(deps: RenderDeps, scan: ScanRow, row: FragmentRow, job
  * Waits while another job's live claim holds the fragment at this revision: until that job has
  * finished it (or put it back), it was edited, or the claim grew older than the queue's expiry.
  */
-async function waitWhileClaimed(deps: RenderDeps, fragmentId: string, revision: number, ctx: JobContext) {
+async function waitWhileClaimed(deps: RenderDeps, fragmentId: string, revision: number, ctx: JobContext): Promise<"ended" | "stopping"> {
   const expireMs = deps.config.jobExpireSeconds * 1000;
   // Only waiting: the worker slot goes to other jobs meanwhile (a scan someone waits to review),
   // and is taken back before this job renders anything itself.
   const parked = ctx.park?.() ?? false;
   try {
-    await pollClaim(deps, fragmentId, revision, ctx, expireMs);
+    return await pollClaim(deps, fragmentId, revision, ctx, expireMs);
   } finally {
-    if (parked) await ctx.unpark?.();
+    // A stopping worker's slot loop takes nothing new, so the slot is not asked back then.
+    if (parked && !ctx.stopAsked?.aborted && !ctx.signal?.aborted) await ctx.unpark?.();
   }
 }
 
-async function pollClaim(deps: RenderDeps, fragmentId: string, revision: number, ctx: JobContext, expireMs: number) {
+/** Polls until the claim ends ("ended") or the worker is asked to stop ("stopping"). */
+async function pollClaim(deps: RenderDeps, fragmentId: string, revision: number, ctx: JobContext, expireMs: number): Promise<"ended" | "stopping"> {
   for (;;) {
     await sleep(CLAIM_POLL_MS);
-    if (ctx.signal?.aborted) throw new Error("The worker is stopping; the render goes back to the queue.");
+    if (ctx.stopAsked?.aborted || ctx.signal?.aborted) return "stopping";
     const [f] = await deps.database.db
       .select({
         state: fragments.renderState,
@@ -241,8 +252,8 @@ async function pollClaim(deps: RenderDeps, fragmentId: string, revision: number,
       })
       .from(fragments)
       .where(eq(fragments.id, fragmentId));
-    if (!f || f.revision !== revision || f.state !== "rendering" || f.job === ctx.jobId) return;
-    if (!f.at || Date.now() - f.at.getTime() > expireMs) return;
+    if (!f || f.revision !== revision || f.state !== "rendering" || f.job === ctx.jobId) return "ended";
+    if (!f.at || Date.now() - f.at.getTime() > expireMs) return "ended";
   }
 }
 
