@@ -5,6 +5,7 @@ import type { IntakeDeps } from "../server/services/intake";
 import { intakeFile } from "../server/services/intake";
 import { startHeartbeat } from "../server/services/processes";
 import { notify } from "../server/services/events";
+import { looksUnfinished } from "./pipeline/unfinished";
 
 /** Names a scanner or a copy leaves while it is still writing, and hidden files: never taken in. */
 export function isIgnoredName(name: string): boolean {
@@ -22,12 +23,20 @@ export interface WatcherOptions {
   /** How long a file must stop growing before it is taken in (ms). */
   stableMs: number;
   pollMs: number;
+  /**
+   * How long a file that has stopped growing but still looks unfinished (empty, or without its
+   * format's end) is waited for before it is taken in as it is (ms; default 30 × stableMs).
+   */
+  unfinishedMs?: number;
 }
 
 /**
  * Watches the inbox: files already there and every new one, once it has stopped growing, go
  * through the same intake as uploads, one at a time. A file that cannot be taken in stays in the
- * inbox and is tried again with backoff; the watcher keeps going.
+ * inbox and is tried again with backoff; the watcher keeps going. A file that has stopped growing
+ * but still looks unfinished (worker/pipeline/unfinished.ts: a scanner that made the file and
+ * pauses before writing it) is left where it is and looked at again, until it is whole or has
+ * looked unfinished for `unfinishedMs`; then it is taken in as it is, to fail with its reason.
  */
 export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
   const folder = path.resolve(opts.folder);
@@ -41,6 +50,18 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
   const inFlight = new Set<string>();
   const timers = new Set<NodeJS.Timeout>();
   let closed = false;
+  const unfinishedMs = opts.unfinishedMs ?? 30 * opts.stableMs;
+  /** Files that looked unfinished: since when (or since their last change), and how they were then. */
+  const unfinishedSince = new Map<string, { since: number; size: number; mtimeMs: number }>();
+
+  const later = (file: string, wait: number, attempt: number) => {
+    if (closed) return;
+    const t = setTimeout(() => {
+      timers.delete(t);
+      take(file, attempt);
+    }, wait);
+    timers.add(t);
+  };
 
   const take = (file: string, attempt = 1) => {
     if (closed || inFlight.has(file)) return;
@@ -51,6 +72,7 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         await fsp.access(file);
       } catch {
         inFlight.delete(file);
+        unfinishedSince.delete(file);
         return;
       }
       try {
@@ -62,6 +84,29 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
           inFlight.delete(file);
           return log.warn({ file: name }, "watcher: leaving a file alone whose folder now leads out of the inbox");
         }
+        // Looked at again after a wait: a file that changed meanwhile has a writer again (waited
+        // for afresh); one that is the same is as still as the first look found it.
+        const st = await fsp.stat(file);
+        const now = Date.now();
+        const seen = unfinishedSince.get(file);
+        const recheck = () => Math.max(opts.stableMs, 200);
+        if (seen && (seen.size !== st.size || seen.mtimeMs !== st.mtimeMs)) {
+          unfinishedSince.set(file, { since: now, size: st.size, mtimeMs: st.mtimeMs });
+          inFlight.delete(file);
+          return later(file, recheck(), attempt);
+        }
+        const unfinished = await looksUnfinished(file).catch(() => null);
+        if (unfinished) {
+          const since = seen?.since ?? now;
+          unfinishedSince.set(file, { since, size: st.size, mtimeMs: st.mtimeMs });
+          if (now - since < unfinishedMs) {
+            inFlight.delete(file);
+            if (!seen) log.info({ file: name, reason: unfinished, waitMs: unfinishedMs }, "watcher: the file looks unfinished; waiting for its writer");
+            return later(file, Math.min(recheck(), unfinishedMs - (now - since)), attempt);
+          }
+          log.warn({ file: name, reason: unfinished, waitedMs: now - since }, "watcher: the file still looks unfinished; taking it in as it is");
+        }
+        unfinishedSince.delete(file);
         await heartbeat.sawFile(name);
         const r = await intakeFile(deps, { path: file, originalName: path.basename(file), source: "inbox", removeSource: true });
         await notify(deps.database.pool, { kind: "watcher", scanId: r.scanId });
@@ -70,13 +115,7 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         inFlight.delete(file);
         const wait = Math.min(60_000, 1000 * 2 ** attempt);
         log.error({ err, file: name, attempt, retryInMs: wait }, "watcher: could not take in the file; it stays in the inbox");
-        if (!closed) {
-          const t = setTimeout(() => {
-            timers.delete(t);
-            take(file, attempt + 1);
-          }, wait);
-          timers.add(t);
-        }
+        later(file, wait, attempt + 1);
       }
     });
   };

@@ -1,4 +1,5 @@
 import fsp from "node:fs/promises";
+import path from "node:path";
 import { and, eq, ne } from "drizzle-orm";
 import type PgBoss from "pg-boss";
 import { pgError, type Database } from "../db";
@@ -10,6 +11,26 @@ import { originalKey } from "../storage/keys";
 import { currentIntake } from "./intakes";
 import { recordAudit } from "./audit";
 import type { Logger } from "../logger";
+
+/** The longest name kept for a scan, in characters (a common file system's limit is 255 bytes). */
+export const MAX_NAME_CHARACTERS = 255;
+
+/**
+ * A file's name as Platen shows and stores it, for inbox files and uploads alike: on one line
+ * (each run of control characters, such as a line break or a tab, becomes one space; see
+ * shared/schemas/text.ts), trimmed, and at most MAX_NAME_CHARACTERS characters, cut in the stem so
+ * the extension stays and never inside a character. Example: "scan\nfront.tif" → "scan front.tif".
+ */
+export function scanDisplayName(raw: string, fallback = "scan"): string {
+  // eslint-disable-next-line no-control-regex -- finding control characters is the point
+  const line = raw.replace(/[\u0000-\u001f\u007f-\u009f]+/g, " ").trim();
+  const chars = [...line];
+  if (chars.length <= MAX_NAME_CHARACTERS) return line || fallback;
+  const ext = path.extname(line);
+  const keep = [...ext].length < 16 ? ext : "";
+  const stem = chars.slice(0, MAX_NAME_CHARACTERS - [...keep].length).join("").trimEnd();
+  return `${stem}${keep}` || fallback;
+}
 
 export interface IntakeDeps {
   database: Database;
@@ -44,8 +65,11 @@ export interface IntakeResult {
 /** Tries at recording one arrival when its row collides with another arrival's (see below). */
 const INTAKE_ATTEMPTS = 3;
 
-export async function intakeFile(deps: IntakeDeps, input: IntakeInput, attempt = 1): Promise<IntakeResult> {
+export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1): Promise<IntakeResult> {
   const { database, boss, library } = deps;
+  const input = { ...raw, originalName: scanDisplayName(raw.originalName) };
+  // How the arriving file was when its copy began: removed afterwards only if it is still so.
+  const before = input.removeSource ? await fsp.stat(input.path) : null;
   const staged = await library.stageCopy(input.path);
   const key = originalKey(staged.sha256, input.originalName);
   // New content is stored before the transaction opens (on object storage an upload of a large
@@ -131,7 +155,19 @@ export async function intakeFile(deps: IntakeDeps, input: IntakeInput, attempt =
     }
     throw err;
   }
-  if (input.removeSource) await fsp.rm(input.path, { force: true });
+  if (input.removeSource) {
+    // A writer that went on after the copy began (a scanner pausing longer than the inbox waits)
+    // would lose the rest into a removed file: such a file stays, to be taken in again whole.
+    const now = await fsp.stat(input.path).catch(() => null);
+    if (!now || (now.size === before!.size && now.mtimeMs === before!.mtimeMs && now.size === staged.sizeBytes)) {
+      await fsp.rm(input.path, { force: true });
+    } else {
+      deps.log.warn(
+        { scanId: result.scanId, file: input.originalName, filedBytes: staged.sizeBytes, nowBytes: now.size },
+        "intake: the file changed while it was being filed; it stays to be taken in again",
+      );
+    }
+  }
   deps.log.info(
     { scanId: result.scanId, file: input.originalName, sha256: result.sha256, duplicateOf: result.duplicateOf },
     result.duplicateOf ? "intake: duplicate recorded" : "intake: scan queued",

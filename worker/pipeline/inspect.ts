@@ -81,7 +81,7 @@ export async function inspectScan(
  * the image data, so a cut-off copy points past its own end. RIFF (WebP container): bytes 4–7 hold
  * the size of everything after byte 8.
  */
-function endsBeforeItsHeaderSays(format: ScanFormat, head: Buffer, sizeBytes: number): boolean {
+export function endsBeforeItsHeaderSays(format: ScanFormat, head: Buffer, sizeBytes: number): boolean {
   if (head.length < 12) return true; // no complete image of any of these formats is this short
   if (format === "tiff") {
     const le = head.toString("latin1", 0, 2) === "II";

@@ -5,15 +5,13 @@ import { SNIFF_BYTES, sniff } from "../../../worker/pipeline/sniff";
 import type { RequestHandler } from "express";
 import { MAX_FILES_PER_UPLOAD } from "../../../shared/limits";
 import { badRequest, unsupportedMedia } from "../../errors";
+import { scanDisplayName } from "../../services/intake";
 
-/** The name a person gave the file, made safe to show and store: no folders, no control characters. */
+/** The name a person gave the file, made safe to show and store: no folders, on one line (intake.ts). */
 export function cleanFileName(raw: string): string {
   // Browsers send UTF-8; multer hands it over read as latin1.
   const utf8 = Buffer.from(raw, "latin1").toString("utf8");
-  const base = path.basename(utf8.replace(/\\/g, "/"));
-  // eslint-disable-next-line no-control-regex
-  const clean = base.replace(/[\u0000-\u001f\u007f]/g, "").trim().slice(0, 255);
-  return clean || "upload";
+  return scanDisplayName(path.basename(utf8.replace(/\\/g, "/")), "upload");
 }
 
 /**
