@@ -318,6 +318,34 @@ describe("a hostile day's files", () => {
     await expectEachEnds("upload-", written, taken);
   });
 
+  it("analyses a failed scan again when the same file arrives again, and says so on the duplicate", async () => {
+    // A decompression bomb of a few bytes (see bombTiff) fails at once, over PLATEN_MAX_PIXELS.
+    const bomb = bombTiff(90_000, 90_000, 7);
+    const first = (await operator.post("/api/scans/upload").attach("files", bomb, "again-first.tif")).body.results[0];
+    expect(first).toMatchObject({ duplicateOf: null, triedAgain: false });
+    const [failed] = await settled("again-first.tif");
+    expect(failed!.status).toBe("failed");
+    const attempts = failed!.attempts;
+    // Dropped again (a limit raised meanwhile, say): the first is queued again, not hidden behind a duplicate.
+    const again = (await operator.post("/api/scans/upload").attach("files", bomb, "again-second.tif")).body.results[0];
+    expect(again).toMatchObject({ duplicateOf: first.scanId, triedAgain: true });
+    await waitFor("the first to be analysed again", async () => {
+      const [row] = await rowsNamed("again-first.tif");
+      return row!.status === "failed" && row!.attempts > attempts ? row : null;
+    }, 30_000);
+    const dup = (await operator.get(`/api/scans/${again.scanId}`)).body.scan;
+    expect(dup).toMatchObject({ status: "duplicate", duplicateOf: { id: first.scanId, originalName: "again-first.tif", status: "failed" } });
+    const audit = await stack.database.pool.query("select summary from audit_events where action = 'scan.retry' and subject_id = $1", [first.scanId]);
+    expect(audit.rows.map((r) => r.summary)).toEqual(["Retried again-first.tif after it failed: the same file was uploaded again as again-second.tif"]);
+    // A duplicate of a scan that did not fail changes nothing of the first.
+    const good = await paperScan({ seed: 261 });
+    const a = (await operator.post("/api/scans/upload").attach("files", good, "again-good-a.tif")).body.results[0];
+    await settled("again-good-a.tif");
+    const b = (await operator.post("/api/scans/upload").attach("files", good, "again-good-b.tif")).body.results[0];
+    expect(b).toMatchObject({ duplicateOf: a.scanId, triedAgain: false });
+    expect((await operator.get(`/api/scans/${b.scanId}`)).body.scan.duplicateOf.status).toBe("ready");
+  });
+
   it("keeps every name on one line, its characters whole and its extension, from the inbox and from uploads", async () => {
     const long = `${"pressed-flowers-".repeat(20)}.png`; // 325 characters
     const emoji = "bed 🎨🖼️ 🌸.png";

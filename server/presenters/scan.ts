@@ -8,7 +8,7 @@ type ScanRow = typeof scans.$inferSelect;
 export function presentScan(
   row: ScanRow,
   intake: { id: string; name: string },
-  duplicateOf: { id: string; originalName: string } | null,
+  duplicateOf: Scan["duplicateOf"],
   fragmentCounts: { proposed: number; total: number } = { proposed: 0, total: 0 },
 ): Scan {
   const hasDpi = row.dpiX != null && row.dpiY != null && row.dpiSource != null;

@@ -54,6 +54,8 @@ export interface IntakeResult {
   scanId: string;
   sha256: string;
   duplicateOf: string | null;
+  /** The first scan of this content had failed: it was queued to be analysed again. */
+  triedAgain: boolean;
 }
 
 /**
@@ -94,7 +96,7 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
     result = await withTx(database, boss, async (tx) => {
       const intake = await currentIntake(tx.db);
       const [first] = await tx.db
-        .select({ id: scans.id, originalKey: scans.originalKey })
+        .select({ id: scans.id, originalKey: scans.originalKey, status: scans.status, originalName: scans.originalName, error: scans.error })
         .from(scans)
         .where(and(eq(scans.sha256, staged.sha256), ne(scans.status, "duplicate")))
         .limit(1);
@@ -112,7 +114,30 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
           .insert(scans)
           .values({ ...base, originalKey: first.originalKey, status: "duplicate", duplicateOfId: first.id, progress: 100 })
           .returning({ id: scans.id });
-        r = { scanId: row!.id, sha256: staged.sha256, duplicateOf: first.id };
+        r = { scanId: row!.id, sha256: staged.sha256, duplicateOf: first.id, triedAgain: false };
+        // The same bytes as a scan that failed: arriving again means "take this", so the first is
+        // analysed again (a limit raised since, a worker fixed since), and the arrival says so.
+        if (first.status === "failed") {
+          const again = await tx.client.query(
+            `update scans set status = 'queued', stage = 'Waiting for a worker', progress = 0, error = null, updated_at = now()
+             where id = $1 and status = 'failed'`,
+            [first.id],
+          );
+          if (again.rowCount) {
+            r.triedAgain = true;
+            await tx.send(QUEUES.analyse, { scanId: first.id });
+            await tx.notify({ kind: "scan", scanId: first.id, status: "queued" });
+            if (input.source === "upload")
+              await recordAudit(tx, {
+                action: "scan.retry",
+                subjectType: "scan",
+                subjectId: first.id,
+                summary: `Retried ${first.originalName} after it failed: the same file was uploaded again as ${input.originalName}`,
+                before: { status: "failed", error: first.error },
+                after: { status: "queued" },
+              });
+          }
+        }
         // A duplicate is final at once: its intake may be finished now (the notice job checks).
         await tx.send(QUEUES.notice, { event: "intake-settled", intakeId: intake.id });
       } else {
@@ -124,7 +149,7 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
           .values({ ...base, originalKey: key, status: "queued", stage: "Waiting for a worker" })
           .returning({ id: scans.id });
         await tx.send(QUEUES.analyse, { scanId: row!.id });
-        r = { scanId: row!.id, sha256: staged.sha256, duplicateOf: null };
+        r = { scanId: row!.id, sha256: staged.sha256, duplicateOf: null, triedAgain: false };
       }
       // Inbox arrivals are the scanner's doing; an upload is a person's, and goes on the trail.
       if (input.source === "upload") {

@@ -30,6 +30,7 @@ function selectScans(db: Db) {
       intake: { id: intakes.id, name: intakes.name },
       firstId: first.id,
       firstName: first.originalName,
+      firstStatus: first.status,
     })
     .from(scans)
     .innerJoin(intakes, eq(intakes.id, scans.intakeId))
@@ -41,7 +42,7 @@ type Joined = Awaited<ReturnType<ReturnType<typeof selectScans>["execute"]>>[num
 async function presentAll(db: Db, rows: Joined[]) {
   const counts = await proposedCounts(db, rows.map((r) => r.scan.id));
   return rows.map((r) =>
-    presentScan(r.scan, r.intake, r.firstId ? { id: r.firstId, originalName: r.firstName! } : null, counts.get(r.scan.id)),
+    presentScan(r.scan, r.intake, r.firstId ? { id: r.firstId, originalName: r.firstName!, status: r.firstStatus! } : null, counts.get(r.scan.id)),
   );
 }
 

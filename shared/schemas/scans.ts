@@ -32,7 +32,8 @@ export const scanSchema = z.object({
   stage: z.string().nullable(),
   progress: z.number(),
   error: z.string().nullable(),
-  duplicateOf: z.object({ id: z.string(), originalName: z.string() }).nullable(),
+  /** The first scan of the same content; its status tells whether it failed (and was tried again). */
+  duplicateOf: z.object({ id: z.string(), originalName: z.string(), status: scanStatusSchema }).nullable(),
   sha256: z.string(),
   sizeBytes: z.number(),
   width: z.number().nullable(),
@@ -89,6 +90,8 @@ export const uploadResponse = z.object({
       originalName: z.string(),
       scanId: z.string(),
       duplicateOf: z.string().nullable(),
+      /** The first scan of this content had failed: arriving again, it is analysed again. */
+      triedAgain: z.boolean(),
     }),
   ),
 });

@@ -31,7 +31,7 @@ export function scansRouter(deps: AppDeps): Router {
             { database, boss, library, log: req.log },
             { path: f.path, originalName, source: "upload", uploadedBy: user.id, removeSource: true },
           );
-          results.push({ originalName, scanId: r.scanId, duplicateOf: r.duplicateOf });
+          results.push({ originalName, scanId: r.scanId, duplicateOf: r.duplicateOf, triedAgain: r.triedAgain });
         }
         res.status(201);
         return { results };

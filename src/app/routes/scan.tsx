@@ -87,7 +87,16 @@ export function ScanRoute() {
           >
             {s.duplicateOf.originalName}
           </Link>
-          , which is already in the library. It was not analysed again.
+          {s.duplicateOf.status === "failed" ? (
+            <>
+              , which failed. Open it to see why; {canRetry ? "retry it there" : "an operator can retry it"} once the cause is
+              fixed, or drop the file again.
+            </>
+          ) : s.duplicateOf.status === "queued" || s.duplicateOf.status === "analysing" ? (
+            <>, which is being analysed now (a scan that failed is analysed again when its file arrives again). This copy is not analysed twice.</>
+          ) : (
+            <>, which is already in the library. It was not analysed again.</>
+          )}
         </Notice>
       )}
 

@@ -22,6 +22,8 @@ export interface UploadItem {
   progress: number;
   scanId?: string;
   duplicateOf?: string;
+  /** The earlier scan had failed, and arriving again it is analysed again. */
+  triedAgain?: boolean;
   message?: string;
 }
 
@@ -75,6 +77,7 @@ function createUploadQueue(events: {
           progress: 100,
           scanId: result.scanId,
           duplicateOf: result.duplicateOf,
+          triedAgain: result.triedAgain,
         });
       } else update(key, { state: "queued", progress: 100, scanId: result.scanId });
       events.onSettled();

@@ -239,7 +239,13 @@ export function ScansTable({
                 <span className="block truncate text-xs text-ink-muted">
                   <span className="sr-only">Intake: </span>
                   <span title={`Intake: ${scan.intake.name}`}>{scan.intake.name}</span>
-                  {scan.duplicateOf && <> · same as {scan.duplicateOf.originalName}</>}
+                  {scan.duplicateOf && (
+                    <>
+                      {" "}
+                      · same as {scan.duplicateOf.originalName}
+                      {scan.duplicateOf.status === "failed" && <span className="text-brick">, which failed</span>}
+                    </>
+                  )}
                 </span>
               </td>
               <td className={cn("figure px-3 py-2 text-xs whitespace-nowrap text-ink-soft", WIDE_ONLY)}>

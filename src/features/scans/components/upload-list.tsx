@@ -51,6 +51,7 @@ function Result({ item }: { item: UploadItem }) {
         <span className="text-ochre">
           Duplicate of{" "}
           {item.duplicateOf ? <DuplicateOf id={item.duplicateOf} /> : "an earlier scan"}
+          {item.triedAgain && ", which had failed: it is being analysed again"}
         </span>
       );
     case "refused":
