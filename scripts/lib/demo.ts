@@ -1,6 +1,9 @@
 import fs from "node:fs/promises";
 import path from "node:path";
 import sharp from "sharp";
+import type { Db } from "../../server/db";
+import { createPreset } from "../../server/services/presets";
+import { presetSchema, type Preset } from "../../shared/schemas/presets";
 
 /**
  * The demo studio: an invented paper-collage studio and a few generated sample scans (coloured paper
@@ -76,6 +79,41 @@ const SAMPLES: { name: string; dpi: number | null; format: "tiff" | "png" | "jpe
     pieces: [{ x: 400, y: 500, w: 1300, h: 900, angle: 5, fill: "#6c8f3a" }],
   },
 ];
+
+/**
+ * The demo studio's own presets, beside the built-in ones: a framed mock-up for its shop listings
+ * (a pale oak frame and a warm mat on a sage wall, lit from the upper left), so a first batch can
+ * make web, print and mock-up copies without making a preset first.
+ */
+export const DEMO_PRESETS: { name: string; settings: Preset }[] = [
+  {
+    name: "oak-frame-listing",
+    settings: presetSchema.parse({
+      kind: "mockup",
+      name: "oak-frame-listing",
+      frameWidthMm: 22,
+      frameColour: "#a07b55",
+      matWidthMm: 55,
+      matColour: "#f4efe4",
+      wallColour: "#c9cfc2",
+      lightDeg: 300,
+      shadow: 0.55,
+      width: 1600,
+      height: 1600,
+      format: "jpeg",
+      quality: 88,
+    }),
+  },
+];
+
+/** Makes the demo presets (once: a name already taken is left as it is), as `actorId`. */
+export async function createDemoPresets(db: Db, actorId: string): Promise<void> {
+  for (const p of DEMO_PRESETS) {
+    await createPreset(db, actorId, p).catch((err: unknown) => {
+      if (!(err instanceof Error && /already exists/.test(err.message))) throw err;
+    });
+  }
+}
 
 /** Writes the sample scans into the inbox the way a scanner does: a partial name, then a rename. */
 export async function dropDemoScans(inboxDir: string): Promise<string[]> {

@@ -7,8 +7,10 @@ import { ensureBuiltInRecipes } from "../../server/services/recipes";
 import { ensureBuiltInPresets } from "../../server/services/presets";
 import { startBoss } from "../../server/jobs/boss";
 import { logger } from "../../server/logger";
+import { asc, eq } from "drizzle-orm";
+import { users } from "../../server/db/schema";
 import { startCluster } from "./pg-cluster";
-import { DEMO_INTAKES, DEMO_STUDIO_NAME, dropDemoScans } from "./demo";
+import { DEMO_INTAKES, DEMO_STUDIO_NAME, createDemoPresets, dropDemoScans } from "./demo";
 
 /** Cluster options for this configuration (the private cluster lives under the data folder). */
 export function clusterOptions(cfg: Config) {
@@ -35,6 +37,8 @@ export async function prepare(cfg: Config, opts: { cluster: boolean }): Promise<
     let demoFiles: string[] = [];
     if (fresh && cfg.demo) {
       for (const name of DEMO_INTAKES) await startIntake(database.db, name);
+      const [first] = await database.db.select({ id: users.id }).from(users).where(eq(users.role, "admin")).orderBy(asc(users.createdAt)).limit(1);
+      if (first) await createDemoPresets(database.db, first.id);
       demoFiles = await dropDemoScans(cfg.inboxDir);
     }
     return { startedCluster, admin, demoFiles };
