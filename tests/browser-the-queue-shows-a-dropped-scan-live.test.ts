@@ -41,6 +41,27 @@ describe("in the browser", () => {
     await page.close();
   });
 
+  it("marks an embedded resolution too low to be the scanner's, and explains it", async () => {
+    // 72 DPI is what many programs write when they know no resolution (common practice says a
+    // flatbed scan of artwork is 300 DPI or more); the file states it, so it is not "assumed".
+    const operator = await userAgent(stack, "operator", "operator@test.example");
+    const low = (await operator.post("/api/scans/upload").attach("files", await paperScan({ dpi: 72, seed: 7 }), "screen-default.tif")).body.results[0].scanId;
+    const fine = (await operator.post("/api/scans/upload").attach("files", await paperScan({ dpi: 300, seed: 8 }), "scanner-300.tif")).body.results[0].scanId;
+    for (const id of [low, fine])
+      await expect.poll(async () => (await operator.get(`/api/scans/${id}`)).body.scan.status, { timeout: 20_000 }).toBe("ready");
+    expect((await operator.get(`/api/scans/${low}`)).body.scan.dpi).toMatchObject({ x: 72, y: 72, source: "embedded" });
+    const page = await browser.context.newPage();
+    await signIn(page, stack.url, "operator@test.example", "operator-password-123");
+    await page.goto(`${stack.url}/scans`);
+    const row = (name: string) => page.getByRole("row").filter({ hasText: name });
+    await expect.poll(() => row("screen-default.tif").getByTestId("low-dpi").count(), { timeout: 10_000 }).toBe(1);
+    expect(await row("scanner-300.tif").getByTestId("low-dpi").count()).toBe(0);
+    await page.goto(`${stack.url}/scans/${low}`);
+    // Said beside the resolution's source (the tag's tooltip says it too).
+    await expect.poll(() => page.locator(".text-ochre", { hasText: /it is low for a scan: programs that know no resolution often write 72 DPI/ }).count(), { timeout: 10_000 }).toBe(1);
+    await page.close();
+  });
+
   it("a viewer does not see the admin screen, and is told so if they go there", async () => {
     const page = await browser.context.newPage();
     await browser.context.clearCookies();

@@ -45,6 +45,19 @@ export function formatPhysical(size: PhysicalSize): { inches: string; cm: string
   };
 }
 
+/**
+ * Below this an embedded resolution is unlikely to be the scanner's: flatbed scans of artwork are
+ * made at 300 DPI or more (common practice), while programs that know no resolution often write
+ * 72 DPI, or 25.4 (one pixel per millimetre, the default of the image library).
+ */
+export const LOW_DPI = 150;
+
+/** The embedded resolution is below LOW_DPI on either axis. */
+export const isLowDpi = (dpi: NonNullable<Scan["dpi"]>) => dpi.source !== "assumed" && Math.min(dpi.x, dpi.y) < LOW_DPI;
+
+export const LOW_DPI_HINT =
+  "The file says so, but it is low for a scan: programs that know no resolution often write 72 DPI (or 25.4, one pixel per millimetre). Printed sizes and print warnings follow this value: check the scanner's setting.";
+
 export const ASSUMED_DPI_HINT =
   "The file carried no resolution, so the studio's default DPI was used. Physical sizes depend on it: check the scanner's setting.";
 

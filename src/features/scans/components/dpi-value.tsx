@@ -2,9 +2,12 @@ import type { Scan } from "../../../../shared/schemas/scans";
 import { formatNumber } from "../../../../shared/units";
 import { cn } from "../../../lib/cn";
 import { Tooltip } from "../../../components/tooltip";
-import { ASSUMED_DPI_HINT, ORIGIN_LABELS, formatDpi } from "../format";
+import { ASSUMED_DPI_HINT, LOW_DPI_HINT, ORIGIN_LABELS, formatDpi, isLowDpi } from "../format";
 
-/** The DPI with its source: an assumed value carries a muted tag that explains itself. */
+/**
+ * The DPI with its source: an assumed value carries a muted tag that explains itself, and so does
+ * an embedded one too low to be the scanner's (a program's default, most likely).
+ */
 export function DpiValue({
   dpi,
   showOrigin = false,
@@ -28,6 +31,12 @@ export function DpiValue({
         <Tooltip content={ASSUMED_DPI_HINT}>
           <span className="rounded border border-dashed border-ochre/60 bg-ochre-soft/60 px-1.5 text-[11px] leading-5 font-medium tracking-wide text-ochre">
             assumed
+          </span>
+        </Tooltip>
+      ) : isLowDpi(dpi) ? (
+        <Tooltip content={LOW_DPI_HINT}>
+          <span data-testid="low-dpi" className="rounded border border-dashed border-ochre/60 bg-ochre-soft/60 px-1.5 text-[11px] leading-5 font-medium tracking-wide text-ochre">
+            low
           </span>
         </Tooltip>
       ) : (

@@ -9,10 +9,12 @@ import { StatusBadge } from "../../../components/status-badge";
 import { paths } from "../../../config/paths";
 import { formatDateTime, formatDateTimeLong } from "../../../lib/time";
 import {
+  LOW_DPI_HINT,
   ORIGIN_LABELS,
   colourSpaceLabel,
   formatPhysical,
   formatPixels,
+  isLowDpi,
   physicalOf,
 } from "../format";
 import { DpiValue } from "./dpi-value";
@@ -154,6 +156,7 @@ export function ScanDetails({ scan }: { scan: Scan }) {
               <>
                 Embedded in the file
                 {scan.dpi.origin && <>, read from the {ORIGIN_LABELS[scan.dpi.origin]}</>}
+                {isLowDpi(scan.dpi) && <span className="mt-1 block text-ochre">{LOW_DPI_HINT}</span>}
               </>
             )
           ) : (
