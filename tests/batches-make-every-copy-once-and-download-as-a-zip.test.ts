@@ -80,6 +80,20 @@ describe("output batches", () => {
     for (const p of prints) expect([p.pixelWidth, p.pixelHeight].sort()).toEqual([2550, 3300]);
     // A 600 px piece fitted into the 8 × 10 in print area prints at 75 DPI or so: a warning, never silent.
     expect(prints.every((p: { effectiveDpi: number; warnings: string[] }) => p.effectiveDpi < 300 && p.warnings.length > 0)).toBe(true);
+    for (const p of prints) expect(p).toMatchObject({ presetKind: "print", printedIn: { width: expect.any(Number), height: expect.any(Number) } });
+    // A web copy records a resolution in its file, but it is no printed one: no printed size, no
+    // effective DPI (the worker stores the recorded DPI; the batch shows it only for prints).
+    const webs = done.items.filter((i: { preset: string }) => i.preset === "web");
+    expect(webs).toHaveLength(2);
+    for (const w of webs) expect(w).toMatchObject({ presetKind: "web", printedIn: null, effectiveDpi: null });
+    const { rows: stored } = await stack.database.pool.query(
+      "select o.report from outputs o join batch_items i on i.output_id = o.id where i.batch_id = $1 and i.id = any($2::uuid[])",
+      [res.body.batch.id, webs.map((w: { id: string }) => w.id)],
+    );
+    expect(stored.every((r: { report: { effectiveDpi?: number } }) => typeof r.report.effectiveDpi === "number")).toBe(true);
+    // Not a re-run: it says so.
+    expect(done.batch).toMatchObject({ rerunOf: null, replaceOld: false });
+    expect(done).toMatchObject({ replaceOutcome: null, oldReplaced: null, laterRuns: [] });
   });
 
   it("never makes the same output twice", async () => {
@@ -113,9 +127,16 @@ describe("output batches", () => {
     expect(edited.body.preset.version).toBe(2);
     const rerun = await operator.post(`/api/batches/${webOnly.id}/rerun`).send({ replaceOld: true });
     expect(rerun.status).toBe(201);
+    // The re-run names the batch it runs again and what it promised for the old outputs.
+    expect(rerun.body.batch).toMatchObject({ rerunOf: { id: webOnly.id, name: webOnly.name }, replaceOld: true });
     const done = await finished(rerun.body.batch.id);
     expect(done.batch.counts.done).toBe(2);
     for (const i of done.items) expect(Math.max(i.pixelWidth, i.pixelHeight)).toBeLessThanOrEqual(400);
+    // Every output made, so it replaced what it could; none of the old was only the old batch's.
+    expect(done).toMatchObject({ replaceOutcome: "replaced", oldReplaced: 0 });
+    const listed = (await viewer.get("/api/batches")).body.batches;
+    expect(listed[0]).toMatchObject({ id: rerun.body.batch.id, rerunOf: { id: webOnly.id }, replaceOld: true });
+    expect(listed[1]).toMatchObject({ id: webOnly.id, rerunOf: null, replaceOld: false });
     const { rows } = await stack.database.pool.query(
       "select o.key from outputs o join preset_versions v on v.id = o.preset_version_id where v.version = 1 and v.preset_id = $1",
       [preset("web").id],
@@ -124,6 +145,8 @@ describe("output batches", () => {
     for (const r of rows) expect(await stack.library.exists(r.key)).toBe(true);
     const old = (await viewer.get(`/api/batches/${webOnly.id}`)).body;
     expect(old.items.every((i: { fileName: string | null }) => i.fileName !== null)).toBe(true);
+    // The old batch knows it was run again, and by which batch.
+    expect(old.laterRuns).toEqual([{ id: rerun.body.batch.id, name: `${webOnly.name} (again)`, replaceOld: true, replaceOutcome: "replaced" }]);
   });
 
   it("re-runs at a new size and replaces the old outputs once the new ones are made", async () => {
@@ -166,6 +189,9 @@ describe("output batches", () => {
     const done = await finished(rerunId);
     expect(done.batch.counts.done).toBe(2);
     for (const i of done.items) expect(Math.max(i.pixelWidth, i.pixelHeight)).toBeLessThanOrEqual(300);
+    // This time both old outputs were the old batch's alone: the re-run says it replaced them.
+    expect(done).toMatchObject({ replaceOutcome: "replaced", oldReplaced: 2 });
+    expect(done.batch.rerunOf).toEqual({ id: last.id, name: last.name });
     // The replaced batch's items read as replaced (no file); the first batch's web copies stay.
     const replaced = (await viewer.get(`/api/batches/${last.id}`)).body;
     expect(replaced.items.every((i: { fileName: string | null }) => i.fileName === null)).toBe(true);
@@ -195,9 +221,31 @@ describe("output batches", () => {
     ) as string[];
     const csv = execFileSync("python3", ["-c", "import zipfile,sys; sys.stdout.write(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())", zipPath], { encoding: "utf8" });
     const rows = csv.trim().split("\n");
+    // Python's csv module as an independent reader of the cells (a warning may hold a comma).
+    const cells = (
+      JSON.parse(
+        execFileSync(
+          "python3",
+          ["-c", "import zipfile,sys,csv,io,json; print(json.dumps(list(csv.DictReader(io.StringIO(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())))))", zipPath],
+          { encoding: "utf8" },
+        ),
+      ) as Record<string, string>[]
+    );
+    // Printed size and effective DPI are a print's: filled for the print files, empty for the web copies.
+    const printedCols = ["printed_width_in", "printed_height_in", "printed_width_cm", "printed_height_cm", "effective_dpi"];
+    expect(cells.filter((c) => c.preset === "print-letter")).toHaveLength(2);
+    expect(cells.filter((c) => c.preset === "web")).toHaveLength(2);
+    for (const c of cells) for (const col of printedCols) expect(c[col] === "", `${c.preset} ${col}`).toBe(c.preset === "web");
+    // 1 in = 2.54 cm exactly (international yard and pound agreement, 1959).
+    for (const c of cells.filter((c) => c.preset === "print-letter")) expect(Number(c.printed_width_cm)).toBeCloseTo(Number(c.printed_width_in) * 2.54, 1);
     expect(rows[0]).toBe("title,scan,fragment,preset,file,width_px,height_px,printed_width_in,printed_height_in,printed_width_cm,printed_height_cm,effective_dpi,warnings,sha256");
     const files = rows.slice(1).map((r) => r.split(",")[4]);
-    expect(files.sort()).toEqual(names.filter((n) => n !== "outputs.csv").sort());
+    // The zip's entries and the CSV's rows come in the batch page's order (scan, position, preset):
+    // the batch ran its presets as web, print-letter, and the page lists print-letter first.
+    const pageOrder = detail.items.filter((i: { fileName: string | null }) => i.fileName !== null).map((i: { fileName: string }) => i.fileName);
+    expect(detail.items.map((i: { position: number; preset: string }) => `${i.position}:${i.preset}`)).toEqual(["1:print-letter", "1:web", "2:print-letter", "2:web"]);
+    expect(names.filter((n) => n !== "outputs.csv")).toEqual(pageOrder);
+    expect(files).toEqual(pageOrder);
     // Re-runs of later batches left the first batch's outputs alone: all four are in its zip.
     expect(rows.length - 1).toBe(detail.items.filter((i: { fileName: string | null }) => i.fileName !== null).length);
     expect(rows.length - 1).toBe(4);
@@ -357,6 +405,13 @@ describe("output batches", () => {
       expect((await operator.get(`/api/batches/${first.id}`)).body.items).toHaveLength(4);
       const seen = (await viewer.get(`/api/batches/${first.id}`)).body;
       expect(seen.items).toHaveLength(2);
+      // …and the viewer's counts are of those rows: 2 of 2 made, not 4 of 4 over 2 rows, on the
+      // batch page and in the batches list alike. The operator's stay as made.
+      expect(seen.batch.counts).toMatchObject({ done: 2, total: 2 });
+      const inList = (await viewer.get("/api/batches")).body.batches.find((b: { id: string }) => b.id === first.id);
+      expect(inList.counts).toMatchObject({ done: 2, total: 2 });
+      expect((await operator.get(`/api/batches/${first.id}`)).body.batch.counts).toMatchObject({ done: 4, total: 4 });
+      expect((await operator.get("/api/batches")).body.batches.find((b: { id: string }) => b.id === first.id).counts).toMatchObject({ done: 4, total: 4 });
       expect(seen.items.map((i: { fragmentId: string }) => i.fragmentId)).not.toContain(gone!.id);
       // The rejected piece's own files are closed to a viewer too.
       expect((await viewer.get(`/api/fragments/${gone!.id}/outputs/master`)).status).toBe(404);

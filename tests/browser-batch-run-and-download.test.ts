@@ -105,6 +105,17 @@ describe("batches in the browser", () => {
     // Print outputs show a printed size in inches and centimetres.
     const printed = await page.getByTestId("printed-size").allTextContents();
     expect(printed.filter((t) => /^\d+(\.\d+)? × \d+(\.\d+)? in\d+(\.\d+)? × \d+(\.\d+)? cm$/.test(t))).toHaveLength(2);
+    // …and only they have a printed size and an effective DPI: a web copy shows a dash in both.
+    const firstCells = await Promise.all((await rows.all()).map((r) => r.locator("td").allTextContents()));
+    for (const c of firstCells) {
+      const preset = c[1]?.trim();
+      if (preset === "web") expect([c[4], c[5]]).toEqual(["–", "–"]);
+      else expect(c[5]).toMatch(/^\d+$/);
+    }
+    expect(firstCells.filter((c) => c[1]?.trim() === "web")).toHaveLength(2);
+    // Not a re-run, nor run again yet: no such line under the title.
+    expect(await page.getByTestId("rerun-of").count()).toBe(0);
+    expect(await page.getByTestId("later-runs").count()).toBe(0);
     expect(await page.evaluate(() => (window as unknown as { __noReload?: boolean }).__noReload)).toBe(true);
 
     // The listing pack shows the rights caution beside it; both packs answer with a zip.
@@ -167,7 +178,14 @@ describe("batches in the browser", () => {
     await page.waitForURL((u) => /\/batches\/[0-9a-f-]{36}$/.test(u.pathname) && !u.pathname.endsWith(batchId));
     const againId = new URL(page.url()).pathname.split("/").pop()!;
     await expect.poll(() => page.getByRole("heading", { level: 1 }).textContent(), { timeout: 10_000 }).toContain("Browser batch (again)");
+    // Under the title: what it re-runs (a link to it), and what it does with the old outputs.
+    const rerunOf = page.getByTestId("rerun-of");
+    expect(await rerunOf.getByRole("link", { name: "Browser batch", exact: true }).getAttribute("href")).toBe(`/batches/${batchId}`);
     await expect.poll(() => page.getByTestId("batch-state").getAttribute("data-state"), { timeout: 90_000 }).toBe("done");
+    // Finished with every output made: it says it did replace, and how many of the old.
+    await expect.poll(() => rerunOf.textContent(), { timeout: 10_000 }).toBe(
+      "A re-run of Browser batch. Every output here was made, so these replaced 2 of its outputs.",
+    );
     expect(await page.getByTestId("batch-done-count").textContent()).toBe("4");
     const againRows = page.getByRole("table", { name: "Outputs" }).locator("tbody tr[data-state]");
     expect(await againRows.count()).toBe(4);
@@ -206,6 +224,11 @@ describe("batches in the browser", () => {
     expect(await page.locator("tr[data-state]:not([data-replaced])").count()).toBe(2);
     expect(await page.getByTestId("batch-download").textContent()).toBe("Download zip (2 files)");
     expect(await page.getByTestId("replaced-note").textContent()).toMatch(/2 outputs were replaced by a later run/);
+    // Under its title, the old batch names the run that replaced them, with a link to it.
+    const later = page.getByTestId("later-runs");
+    expect(await later.textContent()).toBe("Run again as Browser batch (again), which replaced the outputs marked Replaced below.");
+    expect(await later.getByRole("link", { name: "Browser batch (again)" }).getAttribute("href")).toBe(`/batches/${againId}`);
+    expect(await page.getByTestId("rerun-of").count()).toBe(0);
     const oldZip = await page.request.get(`${stack.url}/api/batches/${batchId}/download?pack=plain`);
     expect(oldZip.status()).toBe(200);
     // Entries in a zip: one central directory file header, signature "PK\x01\x02", each
@@ -224,6 +247,13 @@ describe("batches in the browser", () => {
     const tableBox = (await table.boundingBox())!;
     expect(warnBox.x + warnBox.width).toBeLessThanOrEqual(tableBox.x + tableBox.width);
     await page.setViewportSize({ width: 1440, height: 900 });
+
+    // The batches list marks the re-run, and only it, discreetly beside its name.
+    await page.goto(`${stack.url}/batches`);
+    const againItem = page.locator(`li[data-batch="${againId}"]`);
+    await expect.poll(() => againItem.getByTestId("rerun-mark").textContent(), { timeout: 10_000 }).toMatch(/re-run, replacing$/);
+    expect(await againItem.getByTestId("rerun-mark").getAttribute("title")).toBe("A re-run of “Browser batch”");
+    expect(await page.locator(`li[data-batch="${batchId}"]`).getByTestId("rerun-mark").count()).toBe(0);
 
     // Running the new batch again would make nothing: the review says so rather than "about 0 B".
     await page.goto(`${stack.url}/batches/${againId}`);

@@ -1,5 +1,5 @@
 import type PgBoss from "pg-boss";
-import { and, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
+import { and, asc, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import type { Db } from "../db";
 import { batchItems, batches, fragments } from "../db/schema";
 import { SEND_CHUNK, type Tx } from "../db/tx";
@@ -7,6 +7,9 @@ import { QUEUES } from "../jobs/queues";
 import { queueNotice } from "./notices";
 import { notFound } from "../errors";
 import type { Batch } from "../../shared/schemas/recipe-api";
+import type { ReplaceOutcome } from "../../shared/schemas/preset-api";
+import type { Role } from "../../shared/roles";
+import { madeFromVisibleTo } from "./fragments";
 
 /** The database or a transaction on it: what a step that runs inside either needs. */
 type DbOrTx = Pick<Db, "select" | "update" | "delete">;
@@ -137,13 +140,26 @@ async function replaceOldOutputs(db: DbOrTx & Pick<Db, "execute">, oldBatchId: s
   return gone.rows.map((g) => g.key);
 }
 
-async function present(db: Db, rows: BatchRow[]): Promise<Batch[]> {
+/**
+ * Batches as the API shows them. With a role, the counts are of the items that role sees (a viewer:
+ * those whose piece is still approved, as batchDetail lists them); without one, of every item.
+ */
+async function present(db: Db, rows: BatchRow[], role?: Role): Promise<Batch[]> {
   if (!rows.length) return [];
-  const counts = await db
+  const visible = role ? madeFromVisibleTo(role) : undefined;
+  const counted = db
     .select({ batchId: batchItems.batchId, state: batchItems.state, n: sql<number>`count(*)::int` })
-    .from(batchItems)
-    .where(inArray(batchItems.batchId, rows.map((r) => r.id)))
+    .from(batchItems);
+  const where = and(inArray(batchItems.batchId, rows.map((r) => r.id)), visible);
+  const counts = await (visible ? counted.innerJoin(fragments, eq(fragments.id, batchItems.fragmentId)) : counted)
+    .where(where)
     .groupBy(batchItems.batchId, batchItems.state);
+  // The batches these re-run, by name, for "a re-run of …".
+  const oldIds = [...new Set(rows.map((r) => r.rerunOf).filter((id): id is string => id !== null))];
+  const olds = oldIds.length
+    ? await db.select({ id: batches.id, name: batches.name }).from(batches).where(inArray(batches.id, oldIds))
+    : [];
+  const oldName = new Map(olds.map((o) => [o.id, o.name]));
   return rows.map((r) => {
     const c = Object.fromEntries(STATES.map((s) => [s, 0])) as Record<(typeof STATES)[number], number>;
     for (const x of counts.filter((x) => x.batchId === r.id)) c[x.state] = x.n;
@@ -154,23 +170,50 @@ async function present(db: Db, rows: BatchRow[]): Promise<Batch[]> {
       createdAt: r.createdAt.toISOString(),
       finishedAt: r.finishedAt?.toISOString() ?? null,
       counts: { ...c, total: STATES.reduce((n, s) => n + c[s], 0) },
+      // Batches are not deleted; should the old one be gone all the same, it is still a re-run.
+      rerunOf: r.rerunOf ? { id: r.rerunOf, name: oldName.get(r.rerunOf) ?? "an earlier batch" } : null,
+      replaceOld: r.replaceOld,
     };
   });
 }
 
-export async function getBatch(db: Db, id: string): Promise<Batch> {
+/** A batch; with `role`, its counts are of the items that role sees (see present). */
+export async function getBatch(db: Db, id: string, role?: Role): Promise<Batch> {
   const [row] = await db.select().from(batches).where(eq(batches.id, id));
   if (!row) throw notFound("That batch");
-  return (await present(db, [row]))[0]!;
+  return (await present(db, [row], role))[0]!;
+}
+
+/** The newest hundred batches, counted as `role` sees them. */
+export async function listBatches(db: Db, role?: Role): Promise<Batch[]> {
+  const rows = await db.select().from(batches).orderBy(desc(batches.createdAt)).limit(100);
+  return present(db, rows, role);
+}
+
+/**
+ * What became of a replacing re-run's old outputs, as closeIfSettled decides it: retired once the
+ * batch closes with every item made; kept while any item failed or was cancelled. `batch` is
+ * counted over every item (not a viewer's share: a failure they cannot see still keeps them).
+ */
+export function replaceOutcome(batch: Pick<Batch, "rerunOf" | "replaceOld" | "finishedAt" | "counts">): ReplaceOutcome | null {
+  if (!batch.rerunOf || !batch.replaceOld) return null;
+  if (!batch.finishedAt) return "waiting";
+  return batch.counts.failed + batch.counts.cancelled > 0 ? "kept" : "replaced";
+}
+
+/** Later batches that ran this one again, oldest first, each with what became of the old outputs. */
+export async function laterRuns(db: Db, id: string) {
+  const rows = await db.select().from(batches).where(eq(batches.rerunOf, id)).orderBy(asc(batches.createdAt));
+  return (await present(db, rows)).map((b) => ({ id: b.id, name: b.name, replaceOld: b.replaceOld, replaceOutcome: replaceOutcome(b) }));
 }
 
 /** Batches still running, and those that finished in the last hour, newest first. */
-export async function recentBatches(db: Db): Promise<Batch[]> {
+export async function recentBatches(db: Db, role?: Role): Promise<Batch[]> {
   const rows = await db
     .select()
     .from(batches)
     .where(or(isNull(batches.finishedAt), gt(batches.finishedAt, sql`now() - interval '1 hour'`)))
     .orderBy(desc(batches.createdAt))
     .limit(10);
-  return present(db, rows);
+  return present(db, rows, role);
 }

@@ -1,11 +1,11 @@
-import { and, desc, eq, inArray, isNull, sql, type SQL } from "drizzle-orm";
+import { and, eq, inArray, isNull, sql, type SQL } from "drizzle-orm";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
 import { batchItems, batches, fragments, outputs, presetVersions, presets, scans } from "../db/schema";
 import { SEND_CHUNK, withTx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import { badRequest, conflict, notFound } from "../errors";
-import { getBatch } from "./batches";
+import { getBatch, laterRuns, replaceOutcome } from "./batches";
 import { presetsForRun } from "./presets";
 import { recipeVersionFor } from "./recipes";
 import type { CreateBatchBody } from "../../shared/schemas/preset-api";
@@ -141,9 +141,11 @@ export async function createOutputBatch(
  * still approved (a piece rejected or merged since the batch ran drops out of their list and zip).
  */
 export async function batchDetail(db: Db, id: string, role: Role) {
-  const batch = await getBatch(db, id);
+  // Counted as `role` sees the items (a viewer: "2 of 2 made" over the 2 rows they get); the
+  // replacing promise is judged on every item, as the close judges it.
+  const [batch, whole] = await Promise.all([getBatch(db, id, role), getBatch(db, id)]);
   const rows = await db
-    .select({ item: batchItems, fragment: fragments, scanName: scans.originalName, presetName: presets.name, output: outputs })
+    .select({ item: batchItems, fragment: fragments, scanName: scans.originalName, presetName: presets.name, presetKind: presets.kind, output: outputs })
     .from(batchItems)
     .innerJoin(fragments, eq(fragments.id, batchItems.fragmentId))
     .innerJoin(scans, eq(scans.id, fragments.scanId))
@@ -151,9 +153,24 @@ export async function batchDetail(db: Db, id: string, role: Role) {
     .leftJoin(presets, eq(presets.id, presetVersions.presetId))
     .leftJoin(outputs, eq(outputs.id, batchItems.outputId))
     .where(and(eq(batchItems.batchId, id), madeFromVisibleTo(role)))
-    .orderBy(scans.originalName, fragments.position, presets.name);
+    // Scan name, then the scan itself (two scans of one name stay apart), position and preset
+    // name, and the item last: one order every time, which the zip and its CSV follow too.
+    .orderBy(scans.originalName, scans.id, fragments.position, presets.name, batchItems.id);
+  // For a re-run: how many of the old batch's outputs are replaced now (done, their file gone).
+  let oldReplaced: number | null = null;
+  if (batch.rerunOf) {
+    const [n] = await db
+      .select({ n: sql<number>`count(*)::int` })
+      .from(batchItems)
+      .innerJoin(fragments, eq(fragments.id, batchItems.fragmentId))
+      .where(and(eq(batchItems.batchId, batch.rerunOf.id), eq(batchItems.state, "done"), isNull(batchItems.outputId), madeFromVisibleTo(role)));
+    oldReplaced = n?.n ?? 0;
+  }
   return {
     batch,
+    replaceOutcome: replaceOutcome(whole),
+    oldReplaced,
+    laterRuns: await laterRuns(db, id),
     items: rows.map((r) => ({
       id: r.item.id,
       fragmentId: r.fragment.id,
@@ -161,22 +178,20 @@ export async function batchDetail(db: Db, id: string, role: Role) {
       scanName: r.scanName,
       position: r.fragment.position,
       preset: r.presetName ?? (batch.kind === "recipe" ? "master + web" : "?"),
+      presetKind: r.presetKind,
       state: r.item.state,
       error: r.item.error,
       fileName: r.output ? outputFileName(r.scanName, r.fragment.position, r.presetName ?? r.output.kind, r.output.format) : null,
       pixelWidth: r.output?.width ?? null,
       pixelHeight: r.output?.height ?? null,
-      printedIn: r.output?.report?.printedIn ?? null,
-      effectiveDpi: r.output?.report?.effectiveDpi ?? null,
+      // A printed size and resolution belong to prints: the report of a web copy or a master
+      // records the DPI written in its file, which says nothing of any printing.
+      printedIn: r.presetKind === "print" ? (r.output?.report?.printedIn ?? null) : null,
+      effectiveDpi: r.presetKind === "print" ? (r.output?.report?.effectiveDpi ?? null) : null,
       warnings: r.output?.report?.warnings ?? [],
       bytes: r.output?.bytes ?? null,
     })),
   };
-}
-
-export async function listBatches(db: Db) {
-  const rows = await db.select({ id: batches.id }).from(batches).orderBy(desc(batches.createdAt)).limit(100);
-  return Promise.all(rows.map((r) => getBatch(db, r.id)));
 }
 
 /** Queues the failed items of a batch again. */
@@ -268,7 +283,10 @@ export async function rerunBatch(database: Database, boss: PgBoss, actorId: stri
   return createOutputBatch(database, boss, actorId, { name: `${old.name} (again)`, selection: { fragmentIds }, presetIds }, { of: id, replaceOld: body.replaceOld });
 }
 
-/** Keys and names of a finished batch's files that `role` may see, for the zip. */
+/**
+ * Keys and names of a finished batch's files that `role` may see, for the zip: in the order of
+ * the batch page (batchDetail's), so the zip's entries and its CSV rows read as the page does.
+ */
 export async function batchFiles(db: Db, id: string, role: Role) {
   const detail = await batchDetail(db, id, role);
   const rows = await db
@@ -277,5 +295,9 @@ export async function batchFiles(db: Db, id: string, role: Role) {
     .innerJoin(outputs, eq(outputs.id, batchItems.outputId))
     .innerJoin(fragments, eq(fragments.id, batchItems.fragmentId))
     .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "done"), madeFromVisibleTo(role)));
-  return { detail, files: rows };
+  const place = new Map(detail.items.map((item, n) => [item.id, n]));
+  // An item the detail did not list (made between the two reads) goes last rather than nowhere.
+  const at = (itemId: string) => place.get(itemId) ?? Number.MAX_SAFE_INTEGER;
+  const files = rows.sort((a, b) => at(a.itemId) - at(b.itemId));
+  return { detail, files };
 }

@@ -76,17 +76,40 @@ export const batchOutputSchema = z.object({
   scanName: z.string(),
   position: z.number(),
   preset: z.string(),
+  /** What the preset makes: only a print has a printed size and an effective DPI. Null for a recipe batch's renders. */
+  presetKind: z.enum(["master", "web", "print", "mockup"]).nullable(),
   state: z.enum(["queued", "running", "done", "failed", "cancelled"]),
   error: z.string().nullable(),
   fileName: z.string().nullable(),
   pixelWidth: z.number().nullable(),
   pixelHeight: z.number().nullable(),
+  /** Prints only: the piece's size on paper, in inches. */
   printedIn: z.object({ width: z.number(), height: z.number() }).nullable(),
+  /** Prints only: source pixels per printed inch (a web copy's recorded DPI is no printed resolution). */
   effectiveDpi: z.number().nullable(),
   warnings: z.array(z.string()),
   bytes: z.number().nullable(),
 });
-export const batchDetailResponse = z.object({ batch: batchSchema, items: z.array(batchOutputSchema) });
+/**
+ * What became of a re-run's promise to replace the old outputs: waiting (not finished), replaced
+ * (every output made, so the old ones no other batch uses are gone) or kept (some failed or were
+ * cancelled, so the old ones stay until a retry makes the rest).
+ */
+export const replaceOutcomeSchema = z.enum(["waiting", "replaced", "kept"]);
+export type ReplaceOutcome = z.infer<typeof replaceOutcomeSchema>;
+
+export const batchDetailResponse = z.object({
+  batch: batchSchema,
+  items: z.array(batchOutputSchema),
+  /** For a re-run that replaces: see replaceOutcomeSchema. Null for any other batch. */
+  replaceOutcome: replaceOutcomeSchema.nullable(),
+  /** For a re-run: how many of the old batch's outputs have been replaced (read "Replaced" there). */
+  oldReplaced: z.number().nullable(),
+  /** Later batches that ran this one again, oldest first. */
+  laterRuns: z.array(
+    z.object({ id: z.string(), name: z.string(), replaceOld: z.boolean(), replaceOutcome: replaceOutcomeSchema.nullable() }),
+  ),
+});
 export const batchListResponse = z.object({ batches: z.array(batchSchema) });
 
 export const batchDownloadQuery = z.object({ pack: z.enum(["plain", "listing"]).default("plain") });

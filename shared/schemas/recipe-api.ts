@@ -80,6 +80,10 @@ export const batchSchema = z.object({
   createdAt: z.string(),
   finishedAt: z.string().nullable(),
   counts: z.object({ queued: z.number(), running: z.number(), done: z.number(), failed: z.number(), cancelled: z.number(), total: z.number() }),
+  /** For a re-run: the batch it runs again. */
+  rerunOf: z.object({ id: z.string(), name: z.string() }).nullable(),
+  /** For a re-run: whether the old batch's outputs go once every output of this one is made (or stay beside them). */
+  replaceOld: z.boolean(),
 });
 export type Batch = z.infer<typeof batchSchema>;
 export const batchResponse = z.object({ batch: batchSchema });

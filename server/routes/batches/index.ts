@@ -5,8 +5,8 @@ import { ZipArchive } from "archiver";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
 import { conflict } from "../../errors";
-import { batchDetail, batchFiles, cancelBatch, createOutputBatch, estimateBatch, listBatches, rerunBatch, retryFailed } from "../../services/output-batches";
-import { getBatch } from "../../services/batches";
+import { batchDetail, batchFiles, cancelBatch, createOutputBatch, estimateBatch, rerunBatch, retryFailed } from "../../services/output-batches";
+import { getBatch, listBatches } from "../../services/batches";
 import type { AppDeps } from "../../app";
 import type { Storage } from "../../storage/storage";
 
@@ -77,7 +77,7 @@ async function appendStored(zip: ZipArchive, library: Storage, key: string, name
 export function batchesRouter({ database, boss, library }: AppDeps): Router {
   const router = Router();
   const { db } = database;
-  handle(router, API.batchesList, async () => ({ batches: await listBatches(db) }));
+  handle(router, API.batchesList, async ({ user }) => ({ batches: await listBatches(db, user.role) }));
   handle(router, API.batchesEstimate, ({ body }) => estimateBatch(db, body));
   handle(router, API.batchesCreate, async ({ body, user, res, req }) => {
     const batch = await createOutputBatch(database, boss, user.id, body);

@@ -12,6 +12,7 @@ import { fragmentLabel, plural } from "../format";
 import { BatchProgressBlock, BatchStateBadge } from "./batch-progress";
 import { DownloadPanel } from "./download-panel";
 import { OutputsTable } from "./outputs-table";
+import { RerunNote } from "./rerun-note";
 import { RerunPanel } from "./rerun-panel";
 
 /** A batch: its progress, failures with their messages, every output, downloads and a re-run. */
@@ -53,6 +54,7 @@ export function BatchReport({
         }
         description={
           <>
+            <RerunNote report={report} replacedHere={replaced.size} />
             {plural(fragments, "fragment")} × {plural(presetNames.size, "preset")} ={" "}
             {plural(batch.counts.total, "output")}. {back}
           </>

@@ -88,6 +88,10 @@ export function OutputsTable({
         <tbody>
           {items.map((o) => {
             const gone = replaced?.has(o.id) ?? false;
+            // A printed size and an effective DPI are a print's: a web copy, a mock-up or a
+            // master shows a dash (the DPI written in such a file is no printed resolution).
+            const print = o.presetKind === "print";
+            const notPrint = print ? undefined : "Not a print file";
             const hasNotes = Boolean(o.fileName || gone || o.error || o.warnings.length);
             return (
               <Fragment key={o.id}>
@@ -124,8 +128,9 @@ export function OutputsTable({
                   <td
                     className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft"
                     data-testid="printed-size"
+                    title={notPrint}
                   >
-                    {o.printedIn ? (
+                    {print && o.printedIn ? (
                       <>
                         {formatNumber(o.printedIn.width, 2)} × {formatNumber(o.printedIn.height, 2)}{" "}
                         in
@@ -141,10 +146,12 @@ export function OutputsTable({
                   <td
                     className={cn(
                       "figure px-3 py-2.5 text-right text-xs whitespace-nowrap",
-                      o.warnings.length > 0 ? "font-semibold text-ochre" : "text-ink-soft",
+                      print && o.warnings.length > 0 ? "font-semibold text-ochre" : "text-ink-soft",
                     )}
+                    data-testid="effective-dpi"
+                    title={notPrint}
                   >
-                    {o.effectiveDpi !== null ? Math.round(o.effectiveDpi) : "–"}
+                    {print && o.effectiveDpi !== null ? Math.round(o.effectiveDpi) : "–"}
                   </td>
                   <td className="hidden px-5 py-2.5 text-xs xl:table-cell">
                     <Notes o={o} gone={gone} />
