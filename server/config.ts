@@ -67,6 +67,12 @@ const envSchema = z.object({
   PLATEN_TIDY_EVERY_HOURS: int(0, 8760).default(24),
   PLATEN_INBOX_STABLE_MS: int(50, 600_000).default(2000),
   PLATEN_INBOX_POLL_MS: int(10, 60_000).default(250),
+  /**
+   * How long a file that has stopped growing but still looks unfinished (empty, or cut before its
+   * format's end) is waited for before it is taken in as it is, to fail with its reason: a
+   * scanner may create its file and write it only when a long pass is done.
+   */
+  PLATEN_INBOX_UNFINISHED_SECONDS: int(1, 86_400).default(600),
   PLATEN_LOGIN_LIMIT: int(1, 10_000).default(10),
   /** bcrypt work factor; tests lower it to stay quick. */
   PLATEN_BCRYPT_COST: int(4, 15).default(12),
@@ -174,6 +180,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
     tidyEveryHours: e.PLATEN_TIDY_EVERY_HOURS,
     inboxStableMs: e.PLATEN_INBOX_STABLE_MS,
     inboxPollMs: e.PLATEN_INBOX_POLL_MS,
+    inboxUnfinishedMs: e.PLATEN_INBOX_UNFINISHED_SECONDS * 1000,
     loginLimit: e.PLATEN_LOGIN_LIMIT,
     bcryptCost: e.PLATEN_BCRYPT_COST,
     loginWindowMs: e.PLATEN_LOGIN_WINDOW_MINUTES * 60_000,

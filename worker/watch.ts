@@ -13,7 +13,7 @@ async function main() {
   const boss = await startBoss({ url: cfg.databaseUrl, log, supervise: false });
   const watcher = await startWatcher(
     { database, boss, library: openStorage(cfg), log },
-    { folder: cfg.inboxDir, stableMs: cfg.inboxStableMs, pollMs: cfg.inboxPollMs },
+    { folder: cfg.inboxDir, stableMs: cfg.inboxStableMs, pollMs: cfg.inboxPollMs, unfinishedMs: cfg.inboxUnfinishedMs },
   );
   let stopping = false;
   const stop = async () => {

@@ -2,7 +2,7 @@ import fsp from "node:fs/promises";
 import path from "node:path";
 import { watch, type FSWatcher } from "chokidar";
 import type { IntakeDeps } from "../server/services/intake";
-import { intakeFile } from "../server/services/intake";
+import { StillChangingError, intakeFile } from "../server/services/intake";
 import { startHeartbeat } from "../server/services/processes";
 import { notify } from "../server/services/events";
 import { looksUnfinished } from "./pipeline/unfinished";
@@ -48,7 +48,12 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
 
   let chain: Promise<void> = Promise.resolve();
   const inFlight = new Set<string>();
-  const timers = new Set<NodeJS.Timeout>();
+  /** Files seen again (a change) while in flight: looked at once more when done. */
+  const seenAgain = new Set<string>();
+  /** One pending look per file: a later one replaces it. */
+  const timers = new Map<string, NodeJS.Timeout>();
+  /** Files filed but not removable from the inbox, as they were then: not taken in again unchanged. */
+  const filedStaying = new Map<string, { size: number; mtimeMs: number }>();
   let closed = false;
   const unfinishedMs = opts.unfinishedMs ?? 30 * opts.stableMs;
   /** Files that looked unfinished: since when (or since their last change), and how they were then. */
@@ -56,42 +61,61 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
 
   const later = (file: string, wait: number, attempt: number) => {
     if (closed) return;
-    const t = setTimeout(() => {
-      timers.delete(t);
-      take(file, attempt);
-    }, wait);
-    timers.add(t);
+    clearTimeout(timers.get(file));
+    timers.set(
+      file,
+      setTimeout(() => {
+        timers.delete(file);
+        take(file, attempt);
+      }, wait),
+    );
   };
+  const recheck = () => Math.max(opts.stableMs, 200);
 
   const take = (file: string, attempt = 1) => {
-    if (closed || inFlight.has(file)) return;
+    if (closed) return;
+    if (inFlight.has(file)) {
+      seenAgain.add(file);
+      return;
+    }
     inFlight.add(file);
+    const done = () => {
+      inFlight.delete(file);
+      // A change seen while it was in hand: looked at again once it has been still a while.
+      if (seenAgain.delete(file)) later(file, recheck(), 1);
+    };
     chain = chain.then(async () => {
       const name = path.relative(folder, file).split(path.sep).join("/");
+      let st: Awaited<ReturnType<typeof fsp.stat>>;
       try {
-        await fsp.access(file);
+        st = await fsp.stat(file);
       } catch {
-        inFlight.delete(file);
         unfinishedSince.delete(file);
+        filedStaying.delete(file);
+        seenAgain.delete(file);
+        inFlight.delete(file);
         return;
       }
+      const stayed = filedStaying.get(file);
+      if (stayed && stayed.size === st.size && stayed.mtimeMs === st.mtimeMs) return done();
+      filedStaying.delete(file);
       try {
         // The folder it is in must still be inside the inbox (a subfolder swapped for a link to
         // somewhere else since the file was seen stays out); the file itself is opened without
         // following a link (server/storage/files.ts).
         const [real, inbox] = await Promise.all([fsp.realpath(path.dirname(file)), fsp.realpath(folder)]);
         if (real !== inbox && !real.startsWith(inbox + path.sep)) {
-          inFlight.delete(file);
+          unfinishedSince.delete(file);
+          done();
           return log.warn({ file: name }, "watcher: leaving a file alone whose folder now leads out of the inbox");
         }
         // Looked at again after a wait: a file that changed meanwhile has a writer again (waited
         // for afresh); one that is the same is as still as the first look found it.
-        const st = await fsp.stat(file);
         const now = Date.now();
         const seen = unfinishedSince.get(file);
-        const recheck = () => Math.max(opts.stableMs, 200);
         if (seen && (seen.size !== st.size || seen.mtimeMs !== st.mtimeMs)) {
           unfinishedSince.set(file, { since: now, size: st.size, mtimeMs: st.mtimeMs });
+          seenAgain.delete(file);
           inFlight.delete(file);
           return later(file, recheck(), attempt);
         }
@@ -100,6 +124,7 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
           const since = seen?.since ?? now;
           unfinishedSince.set(file, { since, size: st.size, mtimeMs: st.mtimeMs });
           if (now - since < unfinishedMs) {
+            seenAgain.delete(file);
             inFlight.delete(file);
             if (!seen) log.info({ file: name, reason: unfinished, waitMs: unfinishedMs }, "watcher: the file looks unfinished; waiting for its writer");
             return later(file, Math.min(recheck(), unfinishedMs - (now - since)), attempt);
@@ -110,8 +135,18 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         await heartbeat.sawFile(name);
         const r = await intakeFile(deps, { path: file, originalName: path.basename(file), source: "inbox", removeSource: true });
         await notify(deps.database.pool, { kind: "watcher", scanId: r.scanId });
-        inFlight.delete(file);
+        if (r.kept === "changed") seenAgain.add(file);
+        else if (r.kept === "not-removed") filedStaying.set(file, { size: st.size, mtimeMs: st.mtimeMs });
+        done();
       } catch (err) {
+        if (err instanceof StillChangingError) {
+          // Its writer is still at it: nothing was recorded; looked at again once it is still.
+          log.info({ file: name }, "watcher: the file changed while it was copied; waiting for it to be still");
+          seenAgain.delete(file);
+          inFlight.delete(file);
+          return later(file, recheck(), attempt);
+        }
+        seenAgain.delete(file);
         inFlight.delete(file);
         const wait = Math.min(60_000, 1000 * 2 ** attempt);
         log.error({ err, file: name, attempt, retryInMs: wait }, "watcher: could not take in the file; it stays in the inbox");
@@ -151,7 +186,7 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
     idle: () => chain,
     async close() {
       closed = true;
-      timers.forEach(clearTimeout);
+      timers.forEach((t) => clearTimeout(t));
       await watcher.close();
       await chain;
       await heartbeat.stop();

@@ -37,6 +37,8 @@ export interface IntakeDeps {
   boss: PgBoss;
   library: Storage;
   log: Logger;
+  /** Removes the arriving file once filed (fs.rm; a test gives one that fails as a read-only folder does). */
+  removeFile?: (file: string) => Promise<void>;
 }
 
 export interface IntakeInput {
@@ -56,7 +58,22 @@ export interface IntakeResult {
   duplicateOf: string | null;
   /** The first scan of this content had failed: it was queued to be analysed again. */
   triedAgain: boolean;
+  /**
+   * The arriving file was filed but is still where it was (removeSource): it changed after its
+   * copy was recorded (taken in again once still), or it could not be removed.
+   */
+  kept?: "changed" | "not-removed";
 }
+
+/**
+ * The arriving file changed while it was being copied (its writer is still at it): nothing was
+ * recorded and the file is where it was, to be taken in once it is still.
+ */
+export class StillChangingError extends Error {
+  readonly code = "still-changing";
+}
+
+const sameFile = (a: { size: number; mtimeMs: number }, b: { size: number; mtimeMs: number }) => a.size === b.size && a.mtimeMs === b.mtimeMs;
 
 /**
  * The one way a file enters Platen, for the watcher and for uploads alike: copy it into the
@@ -73,6 +90,14 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
   // How the arriving file was when its copy began: removed afterwards only if it is still so.
   const before = input.removeSource ? await fsp.stat(input.path) : null;
   const staged = await library.stageCopy(input.path);
+  if (before) {
+    // Changed while it was copied: the copy is of a file still being written. Nothing is recorded.
+    const after = await fsp.stat(input.path).catch(() => null);
+    if (!after || !sameFile(before, after) || after.size !== staged.sizeBytes) {
+      await library.discard(staged);
+      throw new StillChangingError(`${input.originalName} changed while it was being copied; it is taken in once it is still`);
+    }
+  }
   const key = originalKey(staged.sha256, input.originalName);
   // New content is stored before the transaction opens (on object storage an upload of a large
   // scan takes a while, and a transaction should not wait on it). The key is the content's and
@@ -181,16 +206,28 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
     throw err;
   }
   if (input.removeSource) {
-    // A writer that went on after the copy began (a scanner pausing longer than the inbox waits)
-    // would lose the rest into a removed file: such a file stays, to be taken in again whole.
+    // A writer that went on after the copy (a scanner pausing longer than the inbox waits) would
+    // lose the rest into a removed file: such a file stays, to be taken in again whole. The scan
+    // recorded from the part copied stays too (it fails as cut short, or is a piece of its own).
     const now = await fsp.stat(input.path).catch(() => null);
-    if (!now || (now.size === before!.size && now.mtimeMs === before!.mtimeMs && now.size === staged.sizeBytes)) {
-      await fsp.rm(input.path, { force: true });
-    } else {
+    if (now && !sameFile(now, before!)) {
+      result.kept = "changed";
       deps.log.warn(
         { scanId: result.scanId, file: input.originalName, filedBytes: staged.sizeBytes, nowBytes: now.size },
         "intake: the file changed while it was being filed; it stays to be taken in again",
       );
+    } else {
+      // Filed and recorded: a file that cannot be removed (a folder the service may not write)
+      // stays, and is not taken in again while it is unchanged.
+      try {
+        await (deps.removeFile ?? ((f: string) => fsp.rm(f, { force: true })))(input.path);
+      } catch (err) {
+        result.kept = "not-removed";
+        deps.log.error(
+          { err, scanId: result.scanId, file: input.originalName },
+          "intake: filed, but the file could not be removed from the inbox; remove it by hand (it is not taken in again while it is unchanged)",
+        );
+      }
     }
   }
   deps.log.info(

@@ -49,6 +49,8 @@ export async function testEnvironment(extra: Record<string, string> = {}) {
     PLATEN_INBOX_DIR: path.join(dir, "inbox"),
     PLATEN_INBOX_STABLE_MS: "400",
     PLATEN_INBOX_POLL_MS: "50",
+    // 30 × the stable time: a test's unfinished file is taken in as it is after 12 s.
+    PLATEN_INBOX_UNFINISHED_SECONDS: "12",
     PLATEN_MAINTENANCE_SECONDS: "1",
     // The daily tidy would run at a random moment of a test; the tidy test asks for it itself.
     PLATEN_TIDY_EVERY_HOURS: "0",
@@ -118,7 +120,7 @@ export async function startStack(opts: StackOptions = {}) {
   const worker = opts.worker !== false ? await startWorker({ config: cfg, database, boss, library, offsite, log }) : undefined;
   const watcher =
     opts.watcher !== false
-      ? await startWatcher({ database, boss, library, log }, { folder: cfg.inboxDir, stableMs: cfg.inboxStableMs, pollMs: cfg.inboxPollMs })
+      ? await startWatcher({ database, boss, library, log }, { folder: cfg.inboxDir, stableMs: cfg.inboxStableMs, pollMs: cfg.inboxPollMs, unfinishedMs: cfg.inboxUnfinishedMs })
       : undefined;
 
   return {
