@@ -185,7 +185,13 @@ describe("the library tidy", () => {
     const youngTemp = path.join(root, "web", `.${Date.now()}-ffeeddccbbaa-young.jpg.tmp`);
     const busyWork = path.join(scratch, "work-Zz99Yy");
     // Not names the program makes: left alone, whatever their age.
-    const notOurs = [path.join(root, "masters", ".keep"), path.join(scratch, "notes.txt"), path.join(scratch, "uploads", "readme")];
+    // Nor anything outside the key folders, even with a temp file's name (a disk's lost+found).
+    const notOurs = [
+      path.join(root, "masters", ".keep"),
+      path.join(scratch, "notes.txt"),
+      path.join(scratch, "uploads", "readme"),
+      path.join(root, "lost+found", `.${Date.now()}-0123456789ab-found.tif.tmp`),
+    ];
     await leave(tempMaster, 4000);
     await leave(tempOutput, 300);
     await leave(staged, 200);
@@ -217,6 +223,7 @@ describe("the library tidy", () => {
     await fs.rm(youngTemp);
     await fs.rm(busyWork, { recursive: true });
     for (const f of notOurs) await fs.rm(f);
+    await fs.rmdir(path.join(root, "lost+found"));
   });
 });
 

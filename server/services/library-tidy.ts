@@ -109,8 +109,13 @@ export async function tidyLibrary(
     }
   }
 
-  const unfinished = await library.unfinished();
-  const tempRow: TidyFolder = { folder: UNFINISHED_ROW, files: unfinished.length, leftOver: unfinished.length, leftOverBytes: 0, removed: 0, removedBytes: 0, tooYoung: 0, failed: 0 };
+  // Unreadable scratch is no reason to hold back the rest of the tidy (nor the Library screen).
+  let unfinishedFailed = 0;
+  const unfinished = await library.unfinished().catch(() => {
+    unfinishedFailed = 1;
+    return [];
+  });
+  const tempRow: TidyFolder = { folder: UNFINISHED_ROW, files: unfinished.length, leftOver: unfinished.length, leftOverBytes: 0, removed: 0, removedBytes: 0, tooYoung: 0, failed: unfinishedFailed };
   const oldTemps = [];
   for (const u of unfinished) {
     tempRow.leftOverBytes += u.size;
@@ -164,7 +169,7 @@ export async function tidyLibrary(
     tempRow.removed++;
     tempRow.removedBytes += u.size;
   }
-  if (unfinished.length) folders.push(tempRow);
+  if (unfinished.length || unfinishedFailed) folders.push(tempRow);
   return {
     dryRun: opts.dryRun,
     graceHours,

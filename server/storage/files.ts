@@ -164,17 +164,22 @@ async function measure(p: string): Promise<{ size: number; modified: number } | 
 }
 
 /**
- * What stopped processes left: temp files beside their targets anywhere under `library` (a local
- * library's folder; its scratch folder `skip` is looked at separately) and, in `scratch`, staged
- * copies, jobs' scratch folders and uploads. Nothing else in those folders is listed: a name the
- * program does not make is not the program's to remove.
+ * What stopped processes left: temp files beside their targets in the library's key folders
+ * (`folders`, a local library's; nothing else under its root is looked at, such as a disk's
+ * lost+found) and, in `scratch`, staged copies, jobs' scratch folders and uploads. Nothing else
+ * is listed: a name the program does not make is not the program's to remove. A folder that
+ * cannot be read is passed over, never the end of the search.
  */
-export async function findUnfinished(where: { library?: string; skip?: string; scratch: string }): Promise<Unfinished[]> {
+export async function findUnfinished(where: { folders?: string[]; scratch: string }): Promise<Unfinished[]> {
   const found: string[] = [];
-  if (where.library) {
-    const skip = where.skip ? path.relative(where.library, where.skip) : null;
-    for (const rel of await walk(where.library))
-      if (!(skip && (rel === skip || rel.startsWith(`${skip}/`))) && TEMP_FILE_NAME.test(path.basename(rel))) found.push(path.join(where.library, rel));
+  for (const dir of where.folders ?? []) {
+    let files: string[];
+    try {
+      files = await walk(dir);
+    } catch {
+      continue;
+    }
+    for (const rel of files) if (TEMP_FILE_NAME.test(path.basename(rel))) found.push(path.join(dir, rel));
   }
   const entries = await fsp.readdir(where.scratch, { withFileTypes: true }).catch(() => [] as fs.Dirent[]);
   for (const e of entries) {
@@ -187,7 +192,7 @@ export async function findUnfinished(where: { library?: string; skip?: string; s
   }
   const out: Unfinished[] = [];
   for (const p of found.sort()) {
-    const m = await measure(p);
+    const m = await measure(p).catch(() => null);
     if (m) out.push({ path: p, size: m.size, modified: new Date(m.modified) });
   }
   return out;

@@ -34,6 +34,9 @@ export function checkPrefix(prefix: string): string {
 /** Originals are written once and never replaced or removed through the library. */
 export const isWriteOnce = (key: string) => key.startsWith("originals/");
 
+/** The top folders every key lies in: nothing else in the library's folder is the program's. */
+export const KEY_FOLDERS = ["originals", "previews", "thumbs", "masters", "web", "outputs"] as const;
+
 /** Content address of an original: originals/ab/<sha256>[.ext], the extension kept for people. */
 export function originalKey(sha256: string, originalName: string): string {
   const ext = path.extname(originalName).slice(1).toLowerCase();

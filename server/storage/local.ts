@@ -1,7 +1,7 @@
 import fsp from "node:fs/promises";
 import path from "node:path";
 import type { Readable } from "node:stream";
-import { checkKey, checkPrefix, isWriteOnce } from "./keys";
+import { KEY_FOLDERS, checkKey, checkPrefix, isWriteOnce } from "./keys";
 import { copyHashed, findUnfinished, fsyncDir, fsyncFile, hashFile, randomName, removeUnfinished, walk, withScratchDir, type Unfinished } from "./files";
 import {
   StorageError,
@@ -199,7 +199,7 @@ export class LocalStorage implements Storage {
   }
 
   unfinished(): Promise<Unfinished[]> {
-    return findUnfinished({ library: this.root, skip: this.scratchDir, scratch: this.scratchDir });
+    return findUnfinished({ folders: KEY_FOLDERS.map((f) => path.join(this.root, f)), scratch: this.scratchDir });
   }
 
   removeUnfinished(u: Unfinished, cutoff: number): Promise<boolean> {
