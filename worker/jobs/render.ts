@@ -132,6 +132,12 @@ async function renderAttempt(deps: RenderDeps, data: unknown, ctx: JobContext): 
         // the same data, and this one ends. Render jobs are idempotent, so a copy that also
         // survives (the send committed, the completion did not) finds its piece made.
         if (!deps.boss) throw new Error("The worker is stopping; the render goes back to the queue.");
+        // Pieces this job claimed on an earlier attempt go back to their own jobs at once, rather
+        // than waiting out the claim's expiry under an id that will not run again.
+        await db
+          .update(fragments)
+          .set({ renderState: "queued", renderJobId: null, renderClaimedAt: null })
+          .where(and(eq(fragments.renderJobId, ctx.jobId), eq(fragments.renderState, "rendering")));
         const again = await deps.boss.send(QUEUES.render, renderPayload.parse(data));
         return log.info({ again }, "render: handed back to the queue as the worker stops");
       }
@@ -230,11 +236,14 @@ async function waitWhileClaimed(deps: RenderDeps, fragmentId: string, revision: 
   // Only waiting: the worker slot goes to other jobs meanwhile (a scan someone waits to review),
   // and is taken back before this job renders anything itself.
   const parked = ctx.park?.() ?? false;
+  let outcome: "ended" | "stopping" = "ended";
   try {
-    return await pollClaim(deps, fragmentId, revision, ctx, expireMs);
+    outcome = await pollClaim(deps, fragmentId, revision, ctx, expireMs);
+    return outcome;
   } finally {
-    // A stopping worker's slot loop takes nothing new, so the slot is not asked back then.
-    if (parked && !ctx.stopAsked?.aborted && !ctx.signal?.aborted) await ctx.unpark?.();
+    // A job handing itself back renders nothing, so it does not ask for a slot again; any other
+    // outcome (the claim ended, even as a stop was asked) goes on to render, in a slot.
+    if (parked && outcome !== "stopping") await ctx.unpark?.();
   }
 }
 
