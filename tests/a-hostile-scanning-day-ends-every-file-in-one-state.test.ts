@@ -334,9 +334,27 @@ describe("a hostile day's files", () => {
       return row!.status === "failed" && row!.attempts > attempts ? row : null;
     }, 30_000);
     const dup = (await operator.get(`/api/scans/${again.scanId}`)).body.scan;
-    expect(dup).toMatchObject({ status: "duplicate", duplicateOf: { id: first.scanId, originalName: "again-first.tif", status: "failed" } });
+    expect(dup).toMatchObject({ status: "duplicate", duplicateOf: { id: first.scanId, originalName: "again-first.tif", status: "failed", error: expect.stringMatching(/over this studio's limit/) } });
+    expect((await rowsNamed("again-first.tif"))[0]!.errorCode).toBe("too_large");
     const audit = await stack.database.pool.query("select summary from audit_events where action = 'scan.retry' and subject_id = $1", [first.scanId]);
     expect(audit.rows.map((r) => r.summary)).toEqual(["Retried again-first.tif after it failed: the same file was uploaded again as again-second.tif"]);
+    // Bytes that are themselves why (a file cut short) fail the same way every time: not analysed
+    // again, and the duplicate carries the first's reason instead.
+    const whole = await paperScan({ seed: 262 });
+    const cut = whole.subarray(0, Math.floor(whole.length / 2));
+    const cutFirst = (await operator.post("/api/scans/upload").attach("files", cut, "again-cut.tif")).body.results[0];
+    const [cutRow] = await settled("again-cut.tif");
+    expect([cutRow!.status, cutRow!.errorCode]).toEqual(["failed", "truncated"]);
+    const cutAgain = (await operator.post("/api/scans/upload").attach("files", cut, "again-cut-2.tif")).body.results[0];
+    expect(cutAgain).toMatchObject({ duplicateOf: cutFirst.scanId, triedAgain: false });
+    const [cutStill] = await rowsNamed("again-cut.tif");
+    expect([cutStill!.status, cutStill!.attempts]).toEqual(["failed", cutRow!.attempts]);
+    expect((await operator.get(`/api/scans/${cutAgain.scanId}`)).body.scan.duplicateOf).toEqual({
+      id: cutFirst.scanId,
+      originalName: "again-cut.tif",
+      status: "failed",
+      error: cutRow!.error,
+    });
     // A duplicate of a scan that did not fail changes nothing of the first.
     const good = await paperScan({ seed: 261 });
     const a = (await operator.post("/api/scans/upload").attach("files", good, "again-good-a.tif")).body.results[0];

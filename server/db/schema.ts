@@ -87,6 +87,11 @@ export const scans = pgTable(
     stage: text("stage"),
     progress: integer("progress").notNull().default(0),
     error: text("error"),
+    /**
+     * Why it failed, as a code: a ScanError's (empty, not_image, unsupported, truncated, too_large,
+     * unreadable; worker/pipeline/errors.ts) or "worker" when every attempt failed otherwise.
+     */
+    errorCode: text("error_code"),
     attempts: integer("attempts").notNull().default(0),
     duplicateOfId: uuid("duplicate_of_id"),
     width: integer("width"),

@@ -28,7 +28,10 @@ export function scanDisplayName(raw: string, fallback = "scan"): string {
   if (chars.length <= MAX_NAME_CHARACTERS) return line || fallback;
   const ext = path.extname(line);
   const keep = [...ext].length < 16 ? ext : "";
-  const stem = chars.slice(0, MAX_NAME_CHARACTERS - [...keep].length).join("").trimEnd();
+  const stem = chars
+    .slice(0, MAX_NAME_CHARACTERS - [...keep].length)
+    .join("")
+    .trimEnd();
   return `${stem}${keep}` || fallback;
 }
 
@@ -73,7 +76,8 @@ export class StillChangingError extends Error {
   readonly code = "still-changing";
 }
 
-const sameFile = (a: { size: number; mtimeMs: number }, b: { size: number; mtimeMs: number }) => a.size === b.size && a.mtimeMs === b.mtimeMs;
+const sameFile = (a: { size: number; mtimeMs: number }, b: { size: number; mtimeMs: number }) =>
+  a.size === b.size && a.mtimeMs === b.mtimeMs;
 
 /**
  * The one way a file enters Platen, for the watcher and for uploads alike: copy it into the
@@ -81,10 +85,17 @@ const sameFile = (a: { size: number; mtimeMs: number }, b: { size: number; mtime
  * then record a scan in the current intake and queue its analysis in one transaction. The same content twice is recorded as a
  * duplicate of the first and not analysed again. Only then is the arriving file removed.
  */
+/** Failures that are in the bytes themselves (worker/pipeline/errors.ts): the same bytes meet them again. */
+const BYTES_ARE_WHY = new Set(["empty", "not_image", "unsupported", "truncated"]);
+
 /** Tries at recording one arrival when its row collides with another arrival's (see below). */
 const INTAKE_ATTEMPTS = 3;
 
-export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1): Promise<IntakeResult> {
+export async function intakeFile(
+  deps: IntakeDeps,
+  raw: IntakeInput,
+  attempt = 1,
+): Promise<IntakeResult> {
   const { database, boss, library } = deps;
   const input = { ...raw, originalName: scanDisplayName(raw.originalName) };
   // How the arriving file was when its copy began: removed afterwards only if it is still so.
@@ -95,7 +106,9 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
     const after = await fsp.stat(input.path).catch(() => null);
     if (!after || !sameFile(before, after) || after.size !== staged.sizeBytes) {
       await library.discard(staged);
-      throw new StillChangingError(`${input.originalName} changed while it was being copied; it is taken in once it is still`);
+      throw new StillChangingError(
+        `${input.originalName} changed while it was being copied; it is taken in once it is still`,
+      );
     }
   }
   const key = originalKey(staged.sha256, input.originalName);
@@ -121,7 +134,14 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
     result = await withTx(database, boss, async (tx) => {
       const intake = await currentIntake(tx.db);
       const [first] = await tx.db
-        .select({ id: scans.id, originalKey: scans.originalKey, status: scans.status, originalName: scans.originalName, error: scans.error })
+        .select({
+          id: scans.id,
+          originalKey: scans.originalKey,
+          status: scans.status,
+          originalName: scans.originalName,
+          error: scans.error,
+          errorCode: scans.errorCode,
+        })
         .from(scans)
         .where(and(eq(scans.sha256, staged.sha256), ne(scans.status, "duplicate")))
         .limit(1);
@@ -137,14 +157,22 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
       if (first) {
         const [row] = await tx.db
           .insert(scans)
-          .values({ ...base, originalKey: first.originalKey, status: "duplicate", duplicateOfId: first.id, progress: 100 })
+          .values({
+            ...base,
+            originalKey: first.originalKey,
+            status: "duplicate",
+            duplicateOfId: first.id,
+            progress: 100,
+          })
           .returning({ id: scans.id });
         r = { scanId: row!.id, sha256: staged.sha256, duplicateOf: first.id, triedAgain: false };
         // The same bytes as a scan that failed: arriving again means "take this", so the first is
-        // analysed again (a limit raised since, a worker fixed since), and the arrival says so.
-        if (first.status === "failed") {
+        // analysed again (a limit raised since, a worker fixed since), and the arrival says so;
+        // unless the bytes themselves are why (empty, cut short, not an image), which no second
+        // look changes: then the duplicate shows the first's reason and nothing is sent again.
+        if (first.status === "failed" && !(first.errorCode && BYTES_ARE_WHY.has(first.errorCode))) {
           const again = await tx.client.query(
-            `update scans set status = 'queued', stage = 'Waiting for a worker', progress = 0, error = null, updated_at = now()
+            `update scans set status = 'queued', stage = 'Waiting for a worker', progress = 0, error = null, error_code = null, updated_at = now()
              where id = $1 and status = 'failed'`,
             [first.id],
           );
@@ -152,15 +180,14 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
             r.triedAgain = true;
             await tx.send(QUEUES.analyse, { scanId: first.id });
             await tx.notify({ kind: "scan", scanId: first.id, status: "queued" });
-            if (input.source === "upload")
-              await recordAudit(tx, {
-                action: "scan.retry",
-                subjectType: "scan",
-                subjectId: first.id,
-                summary: `Retried ${first.originalName} after it failed: the same file was uploaded again as ${input.originalName}`,
-                before: { status: "failed", error: first.error },
-                after: { status: "queued" },
-              });
+            await recordAudit(tx, {
+              action: "scan.retry",
+              subjectType: "scan",
+              subjectId: first.id,
+              summary: `Retried ${first.originalName} after it failed: the same file ${input.source === "upload" ? "was uploaded" : "arrived in the inbox"} again as ${input.originalName}`,
+              before: { status: "failed", error: first.error },
+              after: { status: "queued" },
+            });
           }
         }
         // A duplicate is final at once: its intake may be finished now (the notice job checks).
@@ -183,7 +210,13 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
           subjectType: "scan",
           subjectId: r.scanId,
           summary: `Uploaded ${input.originalName} into "${intake.name}"${first ? " (a duplicate of a scan already in the library)" : ""}`,
-          after: { originalName: input.originalName, sizeBytes: staged.sizeBytes, sha256: staged.sha256, intakeId: intake.id, duplicateOf: r.duplicateOf },
+          after: {
+            originalName: input.originalName,
+            sizeBytes: staged.sizeBytes,
+            sha256: staged.sha256,
+            intakeId: intake.id,
+            duplicateOf: r.duplicateOf,
+          },
         });
       }
       await tx.notify({ kind: "scan", scanId: r.scanId, status: first ? "duplicate" : "queued" });
@@ -213,7 +246,12 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
     if (now && !sameFile(now, before!)) {
       result.kept = "changed";
       deps.log.warn(
-        { scanId: result.scanId, file: input.originalName, filedBytes: staged.sizeBytes, nowBytes: now.size },
+        {
+          scanId: result.scanId,
+          file: input.originalName,
+          filedBytes: staged.sizeBytes,
+          nowBytes: now.size,
+        },
         "intake: the file changed while it was being filed; it stays to be taken in again",
       );
     } else {
@@ -231,7 +269,12 @@ export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1
     }
   }
   deps.log.info(
-    { scanId: result.scanId, file: input.originalName, sha256: result.sha256, duplicateOf: result.duplicateOf },
+    {
+      scanId: result.scanId,
+      file: input.originalName,
+      sha256: result.sha256,
+      duplicateOf: result.duplicateOf,
+    },
     result.duplicateOf ? "intake: duplicate recorded" : "intake: scan queued",
   );
   return result;

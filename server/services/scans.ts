@@ -31,6 +31,7 @@ function selectScans(db: Db) {
       firstId: first.id,
       firstName: first.originalName,
       firstStatus: first.status,
+      firstError: first.error,
     })
     .from(scans)
     .innerJoin(intakes, eq(intakes.id, scans.intakeId))
@@ -42,7 +43,7 @@ type Joined = Awaited<ReturnType<ReturnType<typeof selectScans>["execute"]>>[num
 async function presentAll(db: Db, rows: Joined[]) {
   const counts = await proposedCounts(db, rows.map((r) => r.scan.id));
   return rows.map((r) =>
-    presentScan(r.scan, r.intake, r.firstId ? { id: r.firstId, originalName: r.firstName!, status: r.firstStatus! } : null, counts.get(r.scan.id)),
+    presentScan(r.scan, r.intake, r.firstId ? { id: r.firstId, originalName: r.firstName!, status: r.firstStatus!, error: r.firstError ?? null } : null, counts.get(r.scan.id)),
   );
 }
 

@@ -33,7 +33,7 @@ export const scanSchema = z.object({
   progress: z.number(),
   error: z.string().nullable(),
   /** The first scan of the same content; its status tells whether it failed (and was tried again). */
-  duplicateOf: z.object({ id: z.string(), originalName: z.string(), status: scanStatusSchema }).nullable(),
+  duplicateOf: z.object({ id: z.string(), originalName: z.string(), status: scanStatusSchema, error: z.string().nullable() }).nullable(),
   sha256: z.string(),
   sizeBytes: z.number(),
   width: z.number().nullable(),

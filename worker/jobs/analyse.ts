@@ -54,6 +54,7 @@ export async function analyseScan(
   await progress("Reading the file", 5, {
     status: "analysing",
     error: null,
+    errorCode: null,
     startedAt: new Date(),
     attempts: sql`${scans.attempts} + 1` as unknown as number,
   });
@@ -80,7 +81,7 @@ export async function analyseScan(
       });
   } catch (err) {
     if (err instanceof ScanError) {
-      await progress("Failed", 100, { status: "failed", error: err.message });
+      await progress("Failed", 100, { status: "failed", error: err.message, errorCode: err.code });
       log.warn({ code: err.code, reason: err.message }, "analyse: scan failed");
       await settled(true);
       return;
@@ -89,6 +90,7 @@ export async function analyseScan(
     const message = (err as Error).message;
     await progress(last ? "Failed" : "Will retry", last ? 100 : 0, {
       status: last ? "failed" : "queued",
+      errorCode: last ? "worker" : null,
       error: last
         ? `Analysis failed after ${ctx.retryCount + 1} attempts: ${message}`
         : `Attempt ${ctx.retryCount + 1} failed (${message}); retrying.`,

@@ -89,8 +89,8 @@ export function ScanRoute() {
           </Link>
           {s.duplicateOf.status === "failed" ? (
             <>
-              , which failed. Open it to see why; {canRetry ? "retry it there" : "an operator can retry it"} once the cause is
-              fixed, or drop the file again.
+              , which failed{s.duplicateOf.error ? `: ${s.duplicateOf.error}` : "."}{" "}
+              {canRetry ? "Retry it from its page" : "An operator can retry it"} once the cause is fixed.
             </>
           ) : s.duplicateOf.status === "queued" || s.duplicateOf.status === "analysing" ? (
             <>, which is being analysed now (a scan that failed is analysed again when its file arrives again). This copy is not analysed twice.</>
