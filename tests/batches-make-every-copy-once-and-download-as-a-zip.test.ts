@@ -410,6 +410,10 @@ describe("output batches", () => {
       expect(seen.batch.counts).toMatchObject({ done: 2, total: 2 });
       const inList = (await viewer.get("/api/batches")).body.batches.find((b: { id: string }) => b.id === first.id);
       expect(inList.counts).toMatchObject({ done: 2, total: 2 });
+      // The queue screen's recent batches likewise.
+      const onQueue = (await viewer.get("/api/queue")).body.batches.find((b: { id: string }) => b.id === first.id);
+      expect(onQueue.counts).toMatchObject({ done: 2, total: 2 });
+      expect((await operator.get("/api/queue")).body.batches.find((b: { id: string }) => b.id === first.id).counts).toMatchObject({ done: 4, total: 4 });
       expect((await operator.get(`/api/batches/${first.id}`)).body.batch.counts).toMatchObject({ done: 4, total: 4 });
       expect((await operator.get("/api/batches")).body.batches.find((b: { id: string }) => b.id === first.id).counts).toMatchObject({ done: 4, total: 4 });
       expect(seen.items.map((i: { fragmentId: string }) => i.fragmentId)).not.toContain(gone!.id);

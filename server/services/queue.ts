@@ -7,9 +7,11 @@ import { countByStatus } from "./scans";
 import { HEARTBEAT_STALE_MS } from "./processes";
 import { proposedCounts } from "./fragments";
 import { recentBatches } from "./batches";
+import type { Role } from "../../shared/roles";
 
 /** Everything the queue screen shows, in one read. */
-export async function queueSummary(db: Db): Promise<QueueSummary> {
+/** The queue as `role` sees it: a viewer's batch counts are of the pieces still approved. */
+export async function queueSummary(db: Db, role?: Role): Promise<QueueSummary> {
   const fresh = sql`now() - ${`${HEARTBEAT_STALE_MS} milliseconds`}::interval`;
   const [counted, running, waiting, failures, watchers, workers, review, batches] = await Promise.all([
     countByStatus(db),
@@ -34,7 +36,7 @@ export async function queueSummary(db: Db): Promise<QueueSummary> {
     db.select().from(processes).where(eq(processes.kind, "watcher")).orderBy(desc(processes.heartbeatAt)).limit(1),
     db.select({ id: processes.id, host: processes.host }).from(processes).where(and(eq(processes.kind, "worker"), gt(processes.heartbeatAt, fresh))),
     proposedCounts(db),
-    recentBatches(db),
+    recentBatches(db, role),
   ]);
   const awaiting = [...review.entries()].filter(([, c]) => c.proposed > 0);
   const names = awaiting.length

@@ -6,6 +6,6 @@ import type { AppDeps } from "../../app";
 
 export function queueRouter({ database }: AppDeps): Router {
   const router = Router();
-  handle(router, API.queue, () => queueSummary(database.db));
+  handle(router, API.queue, ({ user }) => queueSummary(database.db, user.role));
   return router;
 }
