@@ -380,6 +380,9 @@ describe("a hostile day's files", () => {
     expect((await settled(`inbox ${emoji}`))[0]!.status).toBe("ready");
     expect((await settled(`inbox ${"x".repeat(240)}.png`))[0]!.status).toBe("ready");
     expect(broken.originalName).toBe("upload scan with a line break.png");
+    // Unicode's right-to-left override (U+202E) would show "bed\u202Egnp.tif" as "bedfit.png".
+    expect((await up("bed\u202Egnp.tif.png", 306)).originalName).toBe("bedgnp.tif.png");
+    expect((await up("two\u2028lines.png", 307)).originalName).toBe("two lines.png");
     // At most 255 characters (code points, so no emoji is cut in two), the extension kept.
     expect([...emojiUp.originalName]).toHaveLength(255);
     expect(emojiUp.originalName).toBe(`upload ${"🌸".repeat(255 - 7 - 4)}.png`);

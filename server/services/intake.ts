@@ -12,18 +12,26 @@ import { currentIntake } from "./intakes";
 import { recordAudit } from "./audit";
 import type { Logger } from "../logger";
 
-/** The longest name kept for a scan, in characters (a common file system's limit is 255 bytes). */
+/**
+ * The longest name kept for a scan, in Unicode code points (a common file system allows 255
+ * bytes; the name is only shown and stored, the library's key takes just its extension).
+ */
 export const MAX_NAME_CHARACTERS = 255;
 
 /**
  * A file's name as Platen shows and stores it, for inbox files and uploads alike: on one line
- * (each run of control characters, such as a line break or a tab, becomes one space; see
- * shared/schemas/text.ts), trimmed, and at most MAX_NAME_CHARACTERS characters, cut in the stem so
- * the extension stays and never inside a character. Example: "scan\nfront.tif" → "scan front.tif".
+ * (each run of control characters, such as a line break or a tab, and the Unicode line and
+ * paragraph separators becomes one space; see shared/schemas/text.ts), without the invisible
+ * direction overrides that could make "bed\u202Egpj.tif" read as "bedfit.jpg" (Unicode bidi
+ * embeddings, overrides and isolates, U+202A–202E and U+2066–2069), trimmed, and at most
+ * MAX_NAME_CHARACTERS characters, cut in the stem so the extension stays and never inside a character. Example: "scan\nfront.tif" → "scan front.tif".
  */
 export function scanDisplayName(raw: string, fallback = "scan"): string {
-  // eslint-disable-next-line no-control-regex -- finding control characters is the point
-  const line = raw.replace(/[\u0000-\u001f\u007f-\u009f]+/g, " ").trim();
+  const line = raw
+    .replace(/[\u202a-\u202e\u2066-\u2069]/g, "")
+    // eslint-disable-next-line no-control-regex -- finding control characters is the point
+    .replace(/[\u0000-\u001f\u007f-\u009f\u2028\u2029]+/g, " ")
+    .trim();
   const chars = [...line];
   if (chars.length <= MAX_NAME_CHARACTERS) return line || fallback;
   const ext = path.extname(line);
