@@ -262,7 +262,7 @@ describe("reviewing a scan in the browser", () => {
 
     // The scans list has no review links for a viewer, and the review screen itself is refused.
     await page.goto(`${stack.url}/scans`);
-    await page.getByRole("link", { name: SCAN_NAME }).waitFor();
+    await page.getByRole("link", { name: SCAN_NAME, exact: true }).waitFor();
     expect(await page.getByRole("link", { name: /^Review / }).count()).toBe(0);
     await page.goto(`${stack.url}/scans/${scanId}/review`);
     await expect

@@ -410,7 +410,17 @@ describe("the render job's group, driven step by step", () => {
     await stack.db.update(fragments).set({ renderState: "rendering", renderJobId: randomUUID(), renderClaimedAt: new Date() }).where(eq(fragments.id, piece!.id));
     const stop = new AbortController();
     stop.abort();
-    await expect(renderFragmentJob(deps, job.data, { jobId: job.id, retryCount: 2, retryLimit: 2, signal: stop.signal })).rejects.toThrow(/stopping/);
+    // With a queue to go back to, the waiting job hands itself back whole: no error, no attempt
+    // spent, the item not failed, and a new job with the same data.
+    await renderFragmentJob(deps, job.data, { jobId: job.id, retryCount: 2, retryLimit: 2, signal: stop.signal, stopAsked: stop.signal });
+    const [waiting] = await stack.db.select().from(batchItems).where(eq(batchItems.id, job.data.batchItemId!));
+    expect(waiting!.state).not.toBe("failed");
+    const copies = await stack.database.pool.query("select id from pgboss.job where name = 'fragment-render' and data = $1::jsonb and id <> $2", [JSON.stringify(job.data), job.id]);
+    expect(copies.rows).toHaveLength(1);
+    await stack.database.pool.query("delete from pgboss.job where id = $1", [copies.rows[0].id]);
+    // Without one (a handler run on its own), the stop ends the last attempt in an error, and
+    // its batch item is settled as failed rather than left running.
+    await expect(renderFragmentJob({ ...deps, boss: undefined }, job.data, { jobId: job.id, retryCount: 2, retryLimit: 2, signal: stop.signal })).rejects.toThrow(/stopping/);
     const [item] = await stack.db.select().from(batchItems).where(eq(batchItems.id, job.data.batchItemId!));
     expect(item).toMatchObject({ state: "failed" });
     expect(item!.error).toMatch(/stopping/);
