@@ -8,6 +8,7 @@ import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { LibraryOverview, TidyReport } from "../shared/schemas/library";
 import { tidyLibrary } from "../server/services/library-tidy";
+import { fragmentThumbKey } from "../server/services/fragment-thumbs";
 
 let stack: Stack;
 let admin: supertest.Agent;
@@ -70,7 +71,7 @@ describe("the library tidy", () => {
     // A fragment's small picture is cached per revision: an edit leaves the old one behind.
     const f = fragments[0]!;
     expect((await operator.get(`/api/fragments/${f.id}/thumb`)).status).toBe(200);
-    staleThumb = `thumbs/fragments/${f.id}-r${f.revision}.jpg`;
+    staleThumb = fragmentThumbKey(f.id, f.revision);
     expect(await stack.library.exists(staleThumb)).toBe(true);
     const edit = await operator.patch(`/api/fragments/${f.id}`).send({ rect: { ...f.rect, width: f.rect.width - 20 } });
     expect(edit.status).toBe(200);
@@ -123,7 +124,7 @@ describe("the library tidy", () => {
     for (const k of before) expect(await stack.library.exists(k), k).toBe(true);
     // The current thumbnails stay.
     for (const f of (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[])
-      expect(await stack.library.exists(`thumbs/fragments/${f.id}-r${f.revision}.jpg`) || f.id !== fragments[0]!.id).toBe(true);
+      expect(await stack.library.exists(fragmentThumbKey(f.id, f.revision)) || f.id !== fragments[0]!.id).toBe(true);
     const audit = (await admin.get("/api/audit").query({ action: "library.tidy" })).body.events;
     expect(audit[0].summary).toMatch(/removed 3 left-over files/);
     // Nothing is left to do now but the young file and the original.

@@ -1,31 +1,55 @@
-import sharp from "sharp";
+import sharp, { type Sharp } from "sharp";
 import type { Storage } from "../storage/storage";
 import { AppError } from "../errors";
 import { boxOfPoints, rectCorners, rotatePoint } from "../../shared/geometry";
 import type { Box, Rect } from "../../shared/schemas/fragments";
+import type { Point } from "../../shared/geometry";
 
 /** Long edge of a fragment thumbnail in the review strip, in pixels. */
 export const FRAGMENT_THUMB_EDGE = 240;
 
+/**
+ * Its key: per fragment and revision, and per way of making it ("m": a cut-out's picture is masked
+ * to its outline; pictures made before that are left-overs for the library tidy).
+ */
 export const fragmentThumbKey = (id: string, revision: number) =>
-  `thumbs/fragments/${id}-r${revision}.jpg`;
+  `thumbs/fragments/${id}-r${revision}-m.jpg`;
 
 /**
  * A small upright picture of a fragment, cut from the scan's preview (not the original), cached
- * per revision so an edit shows at once and an unchanged fragment costs nothing. Returns its key.
+ * per revision so an edit shows at once and an unchanged fragment costs nothing. A cut-out shows
+ * only itself, on white, as its master does: its rectangle's corners hold the bed and the edges of
+ * its neighbours, which are no part of it (and may not be approved). Returns its key.
  */
 export async function fragmentThumb(
   library: Storage,
-  f: { id: string; revision: number; box: Box; rect: Rect; angle: number },
+  f: {
+    id: string;
+    revision: number;
+    box: Box;
+    rect: Rect;
+    angle: number;
+    shape?: "rectangle" | "cutout";
+    outline?: Point[];
+  },
   scan: { previewKey: string | null; width: number | null },
 ): Promise<string> {
   const key = fragmentThumbKey(f.id, f.revision);
   if (await library.exists(key)) return key;
   // Not a server fault: the picture cannot exist until the scan has its preview (or if it failed).
-  if (!scan.previewKey || !scan.width) throw new AppError(404, "not_found", "This fragment has no picture yet: its scan has no preview.");
-  const upright = await library.withLocalFile(scan.previewKey, (previewPath) =>
+  if (!scan.previewKey || !scan.width)
+    throw new AppError(
+      404,
+      "not_found",
+      "This fragment has no picture yet: its scan has no preview.",
+    );
+  const cut = await library.withLocalFile(scan.previewKey, (previewPath) =>
     cutFromPreview(previewPath, f, scan.width!),
   );
+  const upright =
+    f.shape === "cutout" && f.outline && f.outline.length >= 3
+      ? await maskToOutline(cut, f.rect, f.angle, f.outline)
+      : cut;
   await library.writeAtomic(key, async (tmp) => {
     await upright
       .resize(FRAGMENT_THUMB_EDGE, FRAGMENT_THUMB_EDGE, { fit: "inside", withoutEnlargement: true })
@@ -34,6 +58,38 @@ export async function fragmentThumb(
       .toFile(tmp);
   });
   return key;
+}
+
+/**
+ * Keeps only the inside of `outline` (scan pixels) in an upright cut of `rect`: each point is
+ * turned about the rectangle's centre as the cut turned the scan (cropUpright), placed in the
+ * cut's frame and scaled to its size; outside is made transparent (flattened to white later).
+ */
+async function maskToOutline(
+  cut: Sharp,
+  rect: Rect,
+  angle: number,
+  outline: Point[],
+): Promise<Sharp> {
+  const { data, info } = await cut.ensureAlpha().raw().toBuffer({ resolveWithObject: true });
+  const sx = info.width / rect.width;
+  const sy = info.height / rect.height;
+  const points = outline
+    .map((p) => {
+      const [x, y] = rotatePoint(p, [rect.cx, rect.cy], angle);
+      return `${((x - rect.cx + rect.width / 2) * sx).toFixed(2)},${((y - rect.cy + rect.height / 2) * sy).toFixed(2)}`;
+    })
+    .join(" ");
+  const mask = Buffer.from(
+    `<svg xmlns="http://www.w3.org/2000/svg" width="${info.width}" height="${info.height}"><polygon points="${points}" fill="#fff"/></svg>`,
+  );
+  const masked = await sharp(data, {
+    raw: { width: info.width, height: info.height, channels: info.channels },
+  })
+    .composite([{ input: mask, blend: "dest-in" }])
+    .png()
+    .toBuffer();
+  return sharp(masked);
 }
 
 async function cutFromPreview(
