@@ -84,6 +84,12 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
       // A change seen while it was in hand: looked at again once it has been still a while.
       if (seenAgain.delete(file)) later(file, recheck(), 1);
     };
+    /** Out of hand, and one look at it `wait` ms from now (any change seen meanwhile included). */
+    const lookAgain = (wait: number, nextAttempt: number) => {
+      seenAgain.delete(file);
+      inFlight.delete(file);
+      later(file, wait, nextAttempt);
+    };
     chain = chain.then(async () => {
       const name = path.relative(folder, file).split(path.sep).join("/");
       let st: Awaited<ReturnType<typeof fsp.stat>>;
@@ -115,19 +121,15 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         const seen = unfinishedSince.get(file);
         if (seen && (seen.size !== st.size || seen.mtimeMs !== st.mtimeMs)) {
           unfinishedSince.set(file, { since: now, size: st.size, mtimeMs: st.mtimeMs });
-          seenAgain.delete(file);
-          inFlight.delete(file);
-          return later(file, recheck(), attempt);
+          return lookAgain(recheck(), attempt);
         }
         const unfinished = await looksUnfinished(file).catch(() => null);
         if (unfinished) {
           const since = seen?.since ?? now;
           unfinishedSince.set(file, { since, size: st.size, mtimeMs: st.mtimeMs });
           if (now - since < unfinishedMs) {
-            seenAgain.delete(file);
-            inFlight.delete(file);
             if (!seen) log.info({ file: name, reason: unfinished, waitMs: unfinishedMs }, "watcher: the file looks unfinished; waiting for its writer");
-            return later(file, Math.min(recheck(), unfinishedMs - (now - since)), attempt);
+            return lookAgain(Math.min(recheck(), unfinishedMs - (now - since)), attempt);
           }
           log.warn({ file: name, reason: unfinished, waitedMs: now - since }, "watcher: the file still looks unfinished; taking it in as it is");
         }
@@ -142,15 +144,11 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         if (err instanceof StillChangingError) {
           // Its writer is still at it: nothing was recorded; looked at again once it is still.
           log.info({ file: name }, "watcher: the file changed while it was copied; waiting for it to be still");
-          seenAgain.delete(file);
-          inFlight.delete(file);
-          return later(file, recheck(), attempt);
+          return lookAgain(recheck(), attempt);
         }
-        seenAgain.delete(file);
-        inFlight.delete(file);
         const wait = Math.min(60_000, 1000 * 2 ** attempt);
         log.error({ err, file: name, attempt, retryInMs: wait }, "watcher: could not take in the file; it stays in the inbox");
-        later(file, wait, attempt + 1);
+        lookAgain(wait, attempt + 1);
       }
     });
   };
