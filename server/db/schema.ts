@@ -23,7 +23,8 @@ import { FRAGMENT_STATUSES, type Box, type FragmentGeometry, type Rect } from ".
 
 export const roleEnum = pgEnum("role", ROLES);
 export const scanStatusEnum = pgEnum("scan_status", SCAN_STATUSES);
-export const dpiSourceEnum = pgEnum("dpi_source", ["embedded", "assumed"]);
+/** Where a scan's resolution came from: the file, the studio default, or an operator who set it. */
+export const dpiSourceEnum = pgEnum("dpi_source", ["embedded", "assumed", "set"]);
 export const scanSourceEnum = pgEnum("scan_source", ["inbox", "upload"]);
 export const fragmentStatusEnum = pgEnum("fragment_status", FRAGMENT_STATUSES);
 export const fragmentShapeEnum = pgEnum("fragment_shape", ["rectangle", "cutout"]);
@@ -42,6 +43,9 @@ export const studio = pgTable("studio", {
   /** The studio's default recipe; null means the built-in one. */
   defaultRecipeId: uuid("default_recipe_id"),
   demo: boolean("demo").notNull().default(false),
+  /** Written into every master and copy as creator (artist) and copyright, unless empty. */
+  creator: text("creator"),
+  copyright: text("copyright"),
   ...timestamps,
 });
 
