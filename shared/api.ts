@@ -13,7 +13,8 @@ import {
 } from "./schemas/mail";
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
 import { tidyLibraryBody } from "./schemas/library";
-import { createIntakeBody, scanListQuery } from "./schemas/scans";
+import { createIntakeBody, scanListQuery, setResolutionBody } from "./schemas/scans";
+import { updateStudioBody } from "./schemas/studio";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
 import { batchDownloadQuery, createBatchBody, createPresetBody, previewPresetBody, rerunBatchBody, updatePresetBody } from "./schemas/preset-api";
 import {
@@ -56,6 +57,14 @@ export const API = {
 
   // Public: the sign-in page shows the studio's name.
   studio: route({ method: "GET", path: "/api/studio", access: "public", mutates: false }),
+  studioSettings: route({ method: "GET", path: "/api/studio/settings", access: "operator", mutates: false }),
+  studioUpdate: route({
+    method: "PATCH",
+    path: "/api/studio/settings",
+    access: "admin",
+    mutates: true,
+    body: updateStudioBody,
+  }),
   events: route({ method: "GET", path: "/api/events", access: "viewer", mutates: false }),
   queue: route({ method: "GET", path: "/api/queue", access: "viewer", mutates: false }),
 
@@ -99,6 +108,15 @@ export const API = {
     access: "operator",
     mutates: true,
     params: idParams,
+  }),
+  // The DPI the scan was made at, when the file says none or a wrong one.
+  scansSetResolution: route({
+    method: "PATCH",
+    path: "/api/scans/:id/resolution",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+    body: setResolutionBody,
   }),
 
   scanFragments: route({

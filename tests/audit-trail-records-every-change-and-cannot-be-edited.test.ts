@@ -221,6 +221,19 @@ describe("every change a person makes is on the trail, with who, what and before
     }, 60_000);
   });
 
+  it(`${route("scansSetResolution")}: a resolution set by hand records the file's figure before`, async () => {
+    // The figure the scan already has, so later scenarios see the same sizes; only its source changes.
+    const dpi = (await operator.get(`/api/scans/${ids.scan}`)).body.scan.dpi;
+    const { rows } = await audited(() => operator.patch(`/api/scans/${ids.scan}/resolution`).send({ x: dpi.x, y: dpi.y }));
+    expect(only(rows, "scan.resolution")).toMatchObject({
+      actorId: ids.operator,
+      subjectType: "scan",
+      subjectId: ids.scan,
+      before: { dpiX: dpi.x, dpiY: dpi.y, dpiSource: dpi.source },
+      after: { dpiX: dpi.x, dpiY: dpi.y, dpiSource: "set" },
+    });
+  });
+
   it(`${route("fragmentsUpdate")}: approve, reject and edits, each with only what changed`, async () => {
     const [f1, f2] = await fragmentsOf(ids.scan);
     ids.f1 = f1!.id;
@@ -381,6 +394,11 @@ describe("every change a person makes is on the trail, with who, what and before
     expect(rows).toEqual([]);
     ({ rows } = await audited(() => admin.post("/api/library/tidy").send({})));
     expect(only(rows, "library.tidy")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, after: { removed: 0, bytes: 0 } });
+  });
+
+  it(`${route("studioUpdate")}: an admin changes the studio's settings, with only what changed`, async () => {
+    const { rows } = await audited(() => admin.patch("/api/studio/settings").send({ name: "Test studio", creator: "Mara Ilves" }));
+    expect(only(rows, "studio.settings")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, before: { creator: null }, after: { creator: "Mara Ilves" } });
   });
 
   it(`${route("scansRetry")}: a failed scan sent back to the queue`, async () => {

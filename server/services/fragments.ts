@@ -120,7 +120,7 @@ function geometryFromRect(scan: ScanRow, rect: Rect, angle: number, shape: Fragm
   };
 }
 
-async function queueRender(tx: Tx, row: Pick<FragmentRow, "id" | "revision" | "scanId">) {
+export async function queueRender(tx: Tx, row: Pick<FragmentRow, "id" | "revision" | "scanId">) {
   await tx.db.update(fragments).set({ renderState: "queued", renderError: null }).where(eq(fragments.id, row.id));
   await tx.send(QUEUES.render, { fragmentId: row.id, revision: row.revision });
 }

@@ -1,3 +1,4 @@
+import crypto from "node:crypto";
 import { and, eq, inArray, isNull, sql, type SQL } from "drizzle-orm";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
@@ -12,6 +13,7 @@ import type { CreateBatchBody } from "../../shared/schemas/preset-api";
 import { outputFileName } from "../presenters/fragment";
 import { recordAudit } from "./audit";
 import { madeFromVisibleTo } from "./fragments";
+import { studioRights } from "./studio";
 import type { Role } from "../../shared/roles";
 import { estimateOutputBytes, type MasterFacts } from "./output-estimate";
 import { dpiWarning, placePiece, printPage } from "../../shared/paper";
@@ -32,8 +34,19 @@ export async function selectFragments(db: Db, selection: CreateBatchBody["select
   return db.select({ id: fragments.id, revision: fragments.revision }).from(fragments).where(and(...where));
 }
 
-export const dedupeKey = (fragmentId: string, revision: number, recipeVersionId: string, presetVersionId: string) =>
-  `${fragmentId}:r${revision}:${recipeVersionId}:${presetVersionId}`;
+/**
+ * What identifies an output: the same fragment revision, recipe version and preset version, with
+ * the same studio creator and copyright written into it, give the same file. Outputs made with
+ * neither keep the key they had before those settings existed.
+ */
+export const dedupeKey = (fragmentId: string, revision: number, recipeVersionId: string, presetVersionId: string, rights: { creator?: string; copyright?: string } = {}) =>
+  `${fragmentId}:r${revision}:${recipeVersionId}:${presetVersionId}${rightsTag(rights)}`;
+
+function rightsTag({ creator, copyright }: { creator?: string; copyright?: string }): string {
+  if (!creator && !copyright) return "";
+  const digest = crypto.createHash("sha256").update(JSON.stringify([creator ?? null, copyright ?? null])).digest("hex");
+  return `:c${digest.slice(0, 16)}`;
+}
 
 /**
  * The batch builder's review: how many outputs, how many are made already (and reused), and the
@@ -43,6 +56,7 @@ export const dedupeKey = (fragmentId: string, revision: number, recipeVersionId:
 export async function estimateBatch(db: Db, body: CreateBatchBody) {
   const picked = await selectFragments(db, body.selection);
   const list = await presetsForRun(db, body.presetIds);
+  const rights = await studioRights(db);
   const facts = new Map<string, MasterFacts>();
   for (let i = 0; i < picked.length; i += SEND_CHUNK) {
     const ids = picked.slice(i, i + SEND_CHUNK).map((f) => f.id);
@@ -80,7 +94,7 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
           // Settings that leave no print area: the output itself fails with the reason.
         }
       }
-      const [made] = await db.select({ id: outputs.id }).from(outputs).where(eq(outputs.dedupeKey, dedupeKey(f.id, f.revision, recipe.id, p.versionId)));
+      const [made] = await db.select({ id: outputs.id }).from(outputs).where(eq(outputs.dedupeKey, dedupeKey(f.id, f.revision, recipe.id, p.versionId, rights)));
       if (made) reused++;
       else expectedBytes += estimateOutputBytes(facts.get(f.id)!, p.settings);
     }

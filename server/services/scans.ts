@@ -1,15 +1,15 @@
-import { and, asc, count, desc, eq, ilike, type SQL } from "drizzle-orm";
+import { and, asc, count, desc, eq, ilike, isNull, ne, or, type SQL } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
-import { intakes, scans } from "../db/schema";
+import { fragments, intakes, scans } from "../db/schema";
 import type { z } from "zod";
-import type { scanListQuery } from "../../shared/schemas/scans";
+import type { scanListQuery, SetResolutionBody } from "../../shared/schemas/scans";
 import { presentScan } from "../presenters/scan";
 import { QUEUES } from "../jobs/queues";
 import { conflict, notFound } from "../errors";
 import { withTx } from "../db/tx";
-import { proposedCounts } from "./fragments";
+import { proposedCounts, queueRender } from "./fragments";
 import { recordAudit } from "./audit";
 
 const first = alias(scans, "first_scan");
@@ -107,3 +107,63 @@ export async function countByStatus(db: Db) {
   return db.select({ status: scans.status, n: count() }).from(scans).groupBy(scans.status);
 }
 
+
+/** "600 DPI", or "600 × 1200 DPI" when the axes differ. */
+function dpiText(x: number | null, y: number | null): string {
+  if (x == null) return "none";
+  return y == null || y === x ? `${x} DPI` : `${x} × ${y} DPI`;
+}
+
+/**
+ * Sets the resolution a scan was made at, for a file that records none or a wrong one (programs
+ * that know none often write 72). Pieces already rendered are rendered again with it (their masters
+ * carry the resolution, and print copies are laid out from it); each gets a new revision, so batch
+ * copies made before are not reused for it. Copies already made stay as they are until their batch
+ * is run again. The file itself is never touched.
+ */
+export async function setScanResolution(database: Database, boss: PgBoss, id: string, body: SetResolutionBody) {
+  const x = body.x;
+  const y = body.y ?? body.x;
+  await withTx(database, boss, async (tx) => {
+    const [row] = await tx.db.select().from(scans).where(eq(scans.id, id)).for("update");
+    if (!row) throw notFound("That scan");
+    if (row.status !== "ready")
+      throw conflict(
+        row.status === "queued" || row.status === "analysing"
+          ? "This scan is still being read; set its resolution once it is ready."
+          : `A resolution can be set on a ready scan; this one is ${row.status}.`,
+      );
+    if (row.dpiX === x && row.dpiY === y && row.dpiSource === "set") return;
+    await tx.db
+      .update(scans)
+      .set({ dpiX: x, dpiY: y, dpiSource: "set", resolutionOrigin: null, updatedAt: new Date() })
+      .where(eq(scans.id, id));
+    // Pieces with a master (or about to get one) get a new revision; approved ones render again.
+    const touched = await tx.db
+      .select()
+      .from(fragments)
+      .where(and(eq(fragments.scanId, id), isNull(fragments.mergedInto), or(eq(fragments.status, "approved"), ne(fragments.renderState, "none"))));
+    let rerendered = 0;
+    for (const f of touched) {
+      const [next] = await tx.db
+        .update(fragments)
+        .set({ revision: f.revision + 1, updatedAt: new Date() })
+        .where(eq(fragments.id, f.id))
+        .returning();
+      if (next!.status === "approved") {
+        await queueRender(tx, next!);
+        rerendered++;
+      }
+    }
+    await recordAudit(tx, {
+      action: "scan.resolution",
+      subjectType: "scan",
+      subjectId: id,
+      summary: `Set the resolution of ${row.originalName} to ${dpiText(x, y)} (was ${dpiText(row.dpiX, row.dpiY)}, ${row.dpiSource ?? "unknown"})${rerendered ? `; ${rerendered} approved piece${rerendered === 1 ? "" : "s"} rendered again` : ""}`,
+      before: { dpiX: row.dpiX, dpiY: row.dpiY, dpiSource: row.dpiSource, resolutionOrigin: row.resolutionOrigin },
+      after: { dpiX: x, dpiY: y, dpiSource: "set", resolutionOrigin: null },
+    });
+    await tx.notify({ kind: "scan", scanId: id });
+  });
+  return getScan(database.db, id);
+}

@@ -29,6 +29,7 @@ export const AUDIT_ACTIONS = {
   "scan.upload": "Uploaded a scan",
   "scan.retry": "Retried a scan",
   "scan.resplit": "Split a scan again",
+  "scan.resolution": "Set a scan's resolution",
   "fragment.approve": "Approved a fragment",
   "fragment.reject": "Rejected a fragment",
   "fragment.unreview": "Put a fragment back to proposed",
@@ -54,6 +55,7 @@ export const AUDIT_ACTIONS = {
   "offsite.copy": "Copied a master off-site again",
   "offsite.check_all": "Re-checked every off-site copy",
   "library.tidy": "Tidied away left-over library files",
+  "studio.settings": "Changed the studio's settings",
 } as const satisfies Record<string, string>;
 export type AuditAction = keyof typeof AUDIT_ACTIONS;
 export const AUDIT_ACTION_NAMES = Object.keys(AUDIT_ACTIONS) as AuditAction[];

@@ -1,5 +1,6 @@
 import { z } from "zod";
 import { oneLine } from "./text";
+import { dpiSourceSchema } from "./scans";
 
 /**
  * Fragment geometry, in the source scan's pixels (x right, y down).
@@ -87,7 +88,7 @@ export const fragmentSchema = geometrySchema.extend({
   confidence: z.number(),
   sizeIn: z.object({ width: z.number(), height: z.number() }),
   sizeMm: z.object({ width: z.number(), height: z.number() }),
-  dpi: z.object({ x: z.number(), y: z.number(), source: z.enum(["embedded", "assumed"]) }),
+  dpi: z.object({ x: z.number(), y: z.number(), source: dpiSourceSchema }),
   edited: z.boolean(),
   resettable: z.boolean(),
   mergedFrom: z.array(z.string()),

@@ -5,8 +5,11 @@ export const SCAN_STATUSES = ["queued", "analysing", "ready", "failed", "duplica
 export const scanStatusSchema = z.enum(SCAN_STATUSES);
 export type ScanStatus = z.infer<typeof scanStatusSchema>;
 
-/** Where a scan's DPI came from: read from the file, or the studio default because none was there. */
-export const dpiSourceSchema = z.enum(["embedded", "assumed"]);
+/**
+ * Where a scan's DPI came from: read from the file, the studio default because none was there, or
+ * set by an operator who knows what the scanner used (the file said none, or a wrong figure).
+ */
+export const dpiSourceSchema = z.enum(["embedded", "assumed", "set"]);
 export type DpiSource = z.infer<typeof dpiSourceSchema>;
 
 /** Which record in the file held the resolution. */
@@ -110,3 +113,16 @@ export const intakeResponse = z.object({ intake: intakeSchema });
 export const createIntakeBody = z.object({
   name: z.string().trim().min(1, { error: "Enter a name for the intake" }).max(120).refine(oneLine("an intake name").check, oneLine("an intake name").message),
 });
+
+/** Resolutions a person may set for a scan: what flatbed scanners offer, with room either side. */
+export const SET_DPI_MIN = 50;
+export const SET_DPI_MAX = 12_800;
+const setDpi = z
+  .number({ error: "Expected the resolution as a number of dots per inch" })
+  .min(SET_DPI_MIN, { error: `Expected a resolution of at least ${SET_DPI_MIN} DPI` })
+  .max(SET_DPI_MAX, { error: `Expected a resolution of at most ${SET_DPI_MAX} DPI` })
+  .refine((v) => Math.round(v * 100) === v * 100, { error: "Expected at most two decimals" });
+
+/** PATCH /api/scans/:id/resolution: the DPI the scan was made at (y defaults to x). */
+export const setResolutionBody = z.strictObject({ x: setDpi, y: setDpi.optional() });
+export type SetResolutionBody = z.infer<typeof setResolutionBody>;

@@ -1,5 +1,8 @@
 import { z } from "zod";
+import { oneLine } from "./text";
+import { SET_DPI_MAX, SET_DPI_MIN } from "./scans";
 
+/** What anyone may read (the sign-in page shows the name). */
 export const studioSchema = z.object({
   name: z.string(),
   defaultDpi: z.number(),
@@ -7,3 +10,52 @@ export const studioSchema = z.object({
 });
 export type Studio = z.infer<typeof studioSchema>;
 export const studioResponse = z.object({ studio: studioSchema });
+
+/**
+ * The studio's settings as operators read them and admins change them. Creator and copyright are
+ * written into every master and copy made after they are saved (null: none is written).
+ */
+export const studioSettingsSchema = z.object({
+  name: z.string(),
+  defaultDpi: z.number(),
+  creator: z.string().nullable(),
+  copyright: z.string().nullable(),
+  updatedAt: z.string(),
+});
+export type StudioSettings = z.infer<typeof studioSettingsSchema>;
+export const studioSettingsResponse = z.object({ settings: studioSettingsSchema });
+
+export const STUDIO_NAME_MAX = 80;
+export const CREATOR_MAX = 200;
+export const COPYRIGHT_MAX = 300;
+
+/** Empty text means "none" for the optional fields. */
+const optionalText = (what: string, max: number) =>
+  z
+    .string()
+    .trim()
+    .max(max, { error: `Expected ${what} of at most ${max} characters` })
+    .refine(oneLine(what).check, oneLine(what).message)
+    .nullable()
+    .transform((v) => (v ? v : null));
+
+/** PATCH /api/studio/settings (admins). Only the fields given change. */
+export const updateStudioBody = z
+  .strictObject({
+    name: z
+      .string()
+      .trim()
+      .min(1, { error: "Expected the studio's name" })
+      .max(STUDIO_NAME_MAX, { error: `Expected a name of at most ${STUDIO_NAME_MAX} characters` })
+      .refine(oneLine("a name").check, oneLine("a name").message),
+    defaultDpi: z
+      .number({ error: "Expected the assumed resolution as a whole number of DPI" })
+      .int({ error: "Expected the assumed resolution as a whole number of DPI" })
+      .min(SET_DPI_MIN, { error: `Expected an assumed resolution of at least ${SET_DPI_MIN} DPI` })
+      .max(SET_DPI_MAX, { error: `Expected an assumed resolution of at most ${SET_DPI_MAX} DPI` }),
+    creator: optionalText("a creator", CREATOR_MAX),
+    copyright: optionalText("a copyright line", COPYRIGHT_MAX),
+  })
+  .partial()
+  .refine((b) => Object.keys(b).length > 0, { error: "Expected at least one setting to change" });
+export type UpdateStudioBody = z.infer<typeof updateStudioBody>;

@@ -3,6 +3,7 @@ import { paths } from "../config/paths";
 import { ProtectedLayout } from "./layout/protected-layout";
 import { AuditRoute } from "./routes/audit";
 import { LibraryRoute } from "./routes/library";
+import { StudioRoute } from "./routes/studio";
 import { BatchRoute } from "./routes/batch";
 import { BatchNewRoute } from "./routes/batch-new";
 import { BatchesRoute } from "./routes/batches";
@@ -51,6 +52,7 @@ export function createRouter() {
         { path: paths.mailbox, element: <MailboxRoute /> },
         { path: paths.audit, element: <AuditRoute /> },
         { path: paths.library, element: <LibraryRoute /> },
+        { path: paths.studio, element: <StudioRoute /> },
         { path: paths.presets, element: <PresetsRoute /> },
         { path: paths.presetNew, element: <PresetNewRoute /> },
         { path: "/presets/:id", element: <PresetRoute /> },

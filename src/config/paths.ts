@@ -25,6 +25,8 @@ export const paths = {
   users: "/users",
   /** Where the files are, and tidying away the left-over ones (admins). */
   library: "/library",
+  /** The studio's name, assumed resolution and the rights written into files (admins). */
+  studio: "/studio",
   /** The audit trail (admins); ?event= opens one event beside the list. */
   audit: "/audit",
   /** Output presets by kind, and the editor of one (a new one takes ?kind= or ?from=). */

@@ -7,6 +7,7 @@ import { batchItems, fragments, outputs, presetVersions, scans } from "../../ser
 import { notify } from "../../server/services/events";
 import { closeIfSettled, settleBatchItem } from "../../server/services/batches";
 import { dedupeKey } from "../../server/services/output-batches";
+import { studioRights } from "../../server/services/studio";
 import type { Storage } from "../../server/storage/storage";
 import { isStorageError } from "../../server/storage/storage";
 import type { Logger } from "../../server/logger";
@@ -67,7 +68,9 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     throw new Error("waiting for the fragment's master to be rendered");
   }
   await settleBatchItem(db, batchItemId, "running");
-  const key = dedupeKey(f.id, f.revision, master.recipeVersionId ?? "none", pv.id);
+  // The studio's creator and copyright as this output is made: part of what identifies it.
+  const rights = await studioRights(db);
+  const key = dedupeKey(f.id, f.revision, master.recipeVersionId ?? "none", pv.id, rights);
   const [made] = await db.select().from(outputs).where(eq(outputs.dedupeKey, key));
   // Reused: linked only while the output row still stands (locked against a replacing re-run
   // retiring it at this moment); gone, it is made again below.
@@ -115,6 +118,7 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
             master: masterPath,
             dpi: master.dpi,
             title: f.title ?? `${scan?.name ?? "scan"} #${f.position}`,
+            ...rights,
             shape: f.shape,
             maxPixels: deps.config.maxPixels,
           },

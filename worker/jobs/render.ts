@@ -17,6 +17,7 @@ import { renderPayload } from "../../shared/schemas/jobs";
 import type { RecipeInput } from "../../shared/schemas/recipes";
 import { isRenderError, renderEach, type BatchItem, type RenderResult } from "../pipeline/render";
 import { isScanError } from "../pipeline/metadata";
+import { studioRights } from "../../server/services/studio";
 import { dropDecodedCopy, withDecodedCopy } from "../decoded-copies";
 import { recipeVersionFor } from "../../server/services/recipes";
 import { settleBatchItem } from "../../server/services/batches";
@@ -321,6 +322,8 @@ async function renderGroup(
 
   let rendered = 0;
   try {
+    // The studio's creator and copyright, as they are when the render starts.
+    const rights = members.length > 0 ? await studioRights(db) : {};
     if (members.length > 0) {
       // Rendered in scratch from a local copy of the original, then stored: master first, web copy
       // last, each atomically (locally a rename into place; on S3 an upload, in parts when large).
@@ -331,7 +334,7 @@ async function renderGroup(
             withDecodedCopy(deps.config.decodedCopies, scan.sha256, async (decoded) => {
               const items: BatchItem[] = members.map((m) => ({
                 geometry: { box: m.row.box, angle: m.row.angle, rect: m.row.rect, outline: m.row.outline, shape: m.row.shape },
-                metadata: { title: m.row.title ?? undefined },
+                metadata: { title: m.row.title ?? undefined, ...rights },
                 recipe: {
                   recipe: { name: "recipe", steps: m.recipe.steps as RecipeInput["steps"] },
                   background: scan.splitBackground?.rgb,

@@ -43,6 +43,7 @@ export async function runSplit(
   const split = async (original: string) => {
     const result = await splitScan(original, {
       dpi: scan.dpiSource === "assumed" && scan.dpiX ? scan.dpiX : undefined,
+      setDpi: scan.dpiSource === "set" && scan.dpiX ? { x: scan.dpiX, y: scan.dpiY ?? scan.dpiX } : undefined,
       sensitivity,
       maxPixels: deps.config.maxPixels,
       decodedCopy,

@@ -2,7 +2,7 @@ import { Router } from "express";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
 import { badRequest, notFound } from "../../errors";
-import { getScan, getScanRow, listScans, retryScan } from "../../services/scans";
+import { getScan, getScanRow, listScans, retryScan, setScanResolution } from "../../services/scans";
 import { intakeFile } from "../../services/intake";
 import { cleanFileName, removeTemps, sniffUploads, uploadMiddleware } from "./upload";
 import type { AppDeps } from "../../app";
@@ -55,6 +55,10 @@ export function scansRouter(deps: AppDeps): Router {
   };
   handle(router, API.scansPreview, sendImage("previewKey"));
   handle(router, API.scansThumb, sendImage("thumbKey"));
+
+  handle(router, API.scansSetResolution, async ({ params, body }) => ({
+    scan: await setScanResolution(database, boss, params.id, body),
+  }));
 
   handle(router, API.scansRetry, async ({ params, req }) => {
     const scan = await retryScan(database, boss, params.id);

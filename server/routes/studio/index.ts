@@ -4,6 +4,7 @@ import { handle } from "../define";
 import { studio } from "../../db/schema";
 import type { Studio } from "../../../shared/schemas/studio";
 import type { AppDeps } from "../../app";
+import { getStudioSettings, updateStudioSettings } from "../../services/studio";
 
 export function studioRouter({ database, config }: AppDeps): Router {
   const router = Router();
@@ -17,5 +18,7 @@ export function studioRouter({ database, config }: AppDeps): Router {
     };
     return { studio: body };
   });
+  handle(router, API.studioSettings, async () => ({ settings: await getStudioSettings(database.db, config) }));
+  handle(router, API.studioUpdate, async ({ body }) => ({ settings: await updateStudioSettings(database.db, config, body) }));
   return router;
 }

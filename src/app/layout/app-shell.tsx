@@ -47,6 +47,7 @@ const USERS_ICON = icon(
 const MAILBOX_ICON = icon("M3 5.5h14v9H3zM3 6l7 5 7-5");
 const AUDIT_ICON = icon("M5 3.5h10v13H5zM7.5 7h5M7.5 10h5M7.5 13h3");
 const LIBRARY_ICON = icon("M3.5 4.5h4l1.5 2h7.5v9h-13zM3.5 8.5h13");
+const STUDIO_ICON = icon("M3.5 16.5v-9l6.5-4 6.5 4v9zM8 16.5v-5h4v5");
 
 /** The frame around every signed-in page: a rail with the studio, the screens and who is here. */
 export function AppShell({ user, children }: { user: SessionUser; children: ReactNode }) {
@@ -70,6 +71,7 @@ export function AppShell({ user, children }: { user: SessionUser; children: Reac
     ...(hasRole(user.role, "admin") ? [{ to: paths.users, label: "Users", icon: USERS_ICON }] : []),
     ...(hasRole(user.role, "admin") ? [{ to: paths.audit, label: "Audit trail", icon: AUDIT_ICON }] : []),
     ...(hasRole(user.role, "admin") ? [{ to: paths.library, label: "Library", icon: LIBRARY_ICON }] : []),
+    ...(hasRole(user.role, "admin") ? [{ to: paths.studio, label: "Studio", icon: STUDIO_ICON }] : []),
     ...(mailbox.data ? [{ to: paths.mailbox, label: "Mailbox", icon: MAILBOX_ICON }] : []),
   ];
 

@@ -53,13 +53,15 @@ export function formatPhysical(size: PhysicalSize): { inches: string; cm: string
 export const LOW_DPI = 150;
 
 /** The embedded resolution is below LOW_DPI on either axis. */
-export const isLowDpi = (dpi: NonNullable<Scan["dpi"]>) => dpi.source !== "assumed" && Math.min(dpi.x, dpi.y) < LOW_DPI;
+export const isLowDpi = (dpi: NonNullable<Scan["dpi"]>) => dpi.source === "embedded" && Math.min(dpi.x, dpi.y) < LOW_DPI;
 
 export const LOW_DPI_HINT =
-  "The file says so, but it is low for a scan: programs that know no resolution often write 72 DPI (or 25.4, one pixel per millimetre). Printed sizes and print warnings follow this value: check the scanner's setting.";
+  "The file says so, but it is low for a scan: programs that know no resolution often write 72 DPI (or 25.4, one pixel per millimetre). Printed sizes and print warnings follow this value: if the scanner used another, set it on the scan's page.";
+
+export const SET_DPI_HINT = "An operator set this resolution on the scan's page; the file itself says otherwise or nothing.";
 
 export const ASSUMED_DPI_HINT =
-  "The file carried no resolution, so the studio's default DPI was used. Physical sizes depend on it: check the scanner's setting.";
+  "The file carried no resolution, so the studio's default DPI was used. Physical sizes depend on it: if the scanner used another, set it on the scan's page.";
 
 /** Colour space names as the image library reports them, in the words people use. */
 const COLOUR_SPACES: Record<string, string> = {

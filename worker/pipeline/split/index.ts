@@ -26,6 +26,8 @@ export type { Threshold } from "./threshold";
 export interface SplitOptions {
   /** DPI to assume when the file records none (the studio default, or `--dpi`). Default 300. */
   dpi?: number;
+  /** The resolution an operator set for this scan: used in place of what the file says. */
+  setDpi?: { x: number; y: number };
   /** 0–1: higher finds fainter pieces (and more false ones). Default 0.5. */
   sensitivity?: number;
   /** Largest width × height accepted, pixels (PLATEN_MAX_PIXELS). Default 500 MP. */
@@ -82,7 +84,7 @@ const MIN_BORDER_AGREEMENT = 0.3;
 
 function checkOptions(
   opts: SplitOptions,
-): Required<Omit<SplitOptions, "analysisDpi" | "decodedCopy" | "decodedCopyMaxBytes">> & { analysisDpi?: number } {
+): Required<Omit<SplitOptions, "analysisDpi" | "decodedCopy" | "decodedCopyMaxBytes" | "setDpi">> & { analysisDpi?: number } {
   const sensitivity = opts.sensitivity ?? 0.5;
   if (!(Number.isFinite(sensitivity) && sensitivity >= 0 && sensitivity <= 1)) {
     throw new RangeError(`Expected a sensitivity from 0 to 1 but received ${opts.sensitivity}`);
@@ -90,6 +92,8 @@ function checkOptions(
   const dpi = opts.dpi ?? DEFAULT_DPI;
   if (!(Number.isFinite(dpi) && dpi > 0))
     throw new RangeError(`Expected a positive DPI but received ${opts.dpi}`);
+  if (opts.setDpi && !(opts.setDpi.x > 0 && opts.setDpi.y > 0 && Number.isFinite(opts.setDpi.x) && Number.isFinite(opts.setDpi.y)))
+    throw new RangeError(`Expected a positive set DPI but received ${opts.setDpi.x} × ${opts.setDpi.y}`);
   const maxPixels = opts.maxPixels ?? DEFAULT_MAX_PIXELS;
   if (!(Number.isInteger(maxPixels) && maxPixels > 0)) {
     throw new RangeError(`Expected a positive integer maxPixels but received ${opts.maxPixels}`);
@@ -184,7 +188,11 @@ function wholeScan(width: number, height: number, dpi: { x: number; y: number })
  */
 export async function splitScan(file: string, options: SplitOptions = {}): Promise<SplitResult> {
   const opts = checkOptions(options);
-  const { info, inspected } = await readScanHeader(file, { defaultDpi: opts.dpi, maxPixels: opts.maxPixels });
+  const header = await readScanHeader(file, { defaultDpi: opts.dpi, maxPixels: opts.maxPixels });
+  const { inspected } = header;
+  const info = options.setDpi
+    ? { ...header.info, dpi: { ...header.info.dpi, x: options.setDpi.x, y: options.setDpi.y, source: "set" as const } }
+    : header.info;
   let analysed = file;
   let decodedCopy: SplitResult["decodedCopy"];
   if (options.decodedCopy) {

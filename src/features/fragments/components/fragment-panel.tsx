@@ -163,6 +163,7 @@ function FragmentDetails({
           <span className="text-xs text-ink-muted">
             at <span className="figure">{formatNumber(f.dpi.x, 1)}</span> DPI
             {f.dpi.source === "assumed" && " (assumed)"}
+            {f.dpi.source === "set" && " (set by hand)"}
           </span>
         </Row>
         <Row term="Angle">

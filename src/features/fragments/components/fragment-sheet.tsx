@@ -100,6 +100,7 @@ export function FragmentFacts({
             {f.dpi.source === "assumed" && (
               <span className="ml-1 text-xs text-ochre">(assumed resolution)</span>
             )}
+            {f.dpi.source === "set" && <span className="ml-1 text-xs text-ink-muted">(resolution set by hand)</span>}
           </Row>
           <Row term="Turned by">
             <span className="figure">{formatAngle(f.angle)}</span>{" "}

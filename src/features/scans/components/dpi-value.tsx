@@ -2,7 +2,7 @@ import type { Scan } from "../../../../shared/schemas/scans";
 import { formatNumber } from "../../../../shared/units";
 import { cn } from "../../../lib/cn";
 import { Tooltip } from "../../../components/tooltip";
-import { ASSUMED_DPI_HINT, LOW_DPI_HINT, ORIGIN_LABELS, formatDpi, isLowDpi } from "../format";
+import { ASSUMED_DPI_HINT, LOW_DPI_HINT, SET_DPI_HINT, ORIGIN_LABELS, formatDpi, isLowDpi } from "../format";
 
 /**
  * The DPI with its source: an assumed value carries a muted tag that explains itself, and so does
@@ -31,6 +31,12 @@ export function DpiValue({
         <Tooltip content={ASSUMED_DPI_HINT}>
           <span className="rounded border border-dashed border-ochre/60 bg-ochre-soft/60 px-1.5 text-[11px] leading-5 font-medium tracking-wide text-ochre">
             assumed
+          </span>
+        </Tooltip>
+      ) : dpi.source === "set" ? (
+        <Tooltip content={SET_DPI_HINT}>
+          <span data-testid="set-dpi" className="rounded border border-paper-300 bg-paper-100 px-1.5 text-[11px] leading-5 font-medium tracking-wide text-ink-soft">
+            set
           </span>
         </Tooltip>
       ) : isLowDpi(dpi) ? (

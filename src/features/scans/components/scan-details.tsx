@@ -18,6 +18,8 @@ import {
   physicalOf,
 } from "../format";
 import { DpiValue } from "./dpi-value";
+import { SetResolution } from "./set-resolution";
+import { useHasRole } from "../../../lib/authorization";
 
 function Row({ term, children }: { term: string; children: ReactNode }) {
   return (
@@ -56,6 +58,7 @@ const SOURCE_LABELS: Record<Scan["source"], string> = {
 
 /** Every recorded fact about a scan, grouped as file, image, resolution and processing. */
 export function ScanDetails({ scan }: { scan: Scan }) {
+  const isOperator = useHasRole("operator");
   const physical = physicalOf(scan);
   const phys = physical ? formatPhysical(physical) : null;
   const pixels = formatPixels(scan);
@@ -147,11 +150,16 @@ export function ScanDetails({ scan }: { scan: Scan }) {
       </Group>
 
       <Group title="Resolution">
-        <Row term="DPI">{scan.dpi ? <DpiValue dpi={scan.dpi} axes /> : unknown}</Row>
+        <Row term="DPI">
+          {scan.dpi ? <DpiValue dpi={scan.dpi} axes /> : unknown}
+          {isOperator && <SetResolution scan={scan} />}
+        </Row>
         <Row term="Resolution source">
           {scan.dpi ? (
             scan.dpi.source === "assumed" ? (
               <>Assumed: the file has no resolution, so the studio default was used</>
+            ) : scan.dpi.source === "set" ? (
+              <>Set by an operator (the file's own figure is in the audit trail)</>
             ) : (
               <>
                 Embedded in the file

@@ -1,0 +1,61 @@
+import { eq } from "drizzle-orm";
+import type { Db } from "../db";
+import { studio } from "../db/schema";
+import type { Config } from "../config";
+import type { StudioSettings, UpdateStudioBody } from "../../shared/schemas/studio";
+import { changedFields, recordAudit } from "./audit";
+
+type StudioRow = typeof studio.$inferSelect;
+
+/** The one studio row; bootstrap writes it at first start, so a missing row falls back to the config. */
+async function studioRow(db: Db): Promise<StudioRow | undefined> {
+  const [row] = await db.select().from(studio).where(eq(studio.id, 1));
+  return row;
+}
+
+export async function getStudioSettings(db: Db, config: Pick<Config, "defaultDpi">): Promise<StudioSettings> {
+  const row = await studioRow(db);
+  return {
+    name: row?.name ?? "Platen studio",
+    defaultDpi: row?.defaultDpi ?? config.defaultDpi,
+    creator: row?.creator ?? null,
+    copyright: row?.copyright ?? null,
+    updatedAt: (row?.updatedAt ?? new Date(0)).toISOString(),
+  };
+}
+
+/** The rights fields every master and copy carries (worker/pipeline/render/rights.ts writes them). */
+export async function studioRights(db: Db): Promise<{ creator?: string; copyright?: string }> {
+  const row = await studioRow(db);
+  return { creator: row?.creator ?? undefined, copyright: row?.copyright ?? undefined };
+}
+
+const FIELDS = ["name", "defaultDpi", "creator", "copyright"] as const;
+
+/** Changes the fields given, in one transaction with its audit row. */
+export async function updateStudioSettings(db: Db, config: Pick<Config, "defaultDpi">, body: UpdateStudioBody): Promise<StudioSettings> {
+  await db.transaction(async (tx) => {
+    const [before] = await tx.select().from(studio).where(eq(studio.id, 1)).for("update");
+    const base = before ?? { id: 1, name: "Platen studio", defaultDpi: config.defaultDpi, creator: null, copyright: null };
+    const next = { ...base, ...body };
+    const [after] = await tx
+      .insert(studio)
+      .values({ id: 1, name: next.name, defaultDpi: next.defaultDpi, creator: next.creator, copyright: next.copyright })
+      .onConflictDoUpdate({ target: studio.id, set: { ...body, updatedAt: new Date() } })
+      .returning();
+    const changed = changedFields(base as StudioRow, after!, FIELDS);
+    if (!changed) return;
+    await recordAudit(tx, {
+      action: "studio.settings",
+      subjectType: "studio",
+      subjectId: null,
+      summary: `Changed the studio's ${Object.keys(changed.after).map(label).join(", ")}`,
+      ...changed,
+    });
+  });
+  return getStudioSettings(db, config);
+}
+
+function label(field: string): string {
+  return { name: "name", defaultDpi: "assumed resolution", creator: "creator", copyright: "copyright line" }[field] ?? field;
+}

@@ -1,0 +1,176 @@
+import { useState, type FormEvent } from "react";
+import { updateStudioBody, type StudioSettings, COPYRIGHT_MAX, CREATOR_MAX } from "../../../shared/schemas/studio";
+import { SET_DPI_MAX, SET_DPI_MIN } from "../../../shared/schemas/scans";
+import { Ago } from "../../components/ago";
+import { Button, Spinner } from "../../components/button";
+import { TextField } from "../../components/field";
+import { NotAllowed } from "../../components/not-allowed";
+import { LoadError, Notice } from "../../components/notice";
+import { PageHeader, Panel } from "../../components/panel";
+import { useStudioSettings, useUpdateStudio } from "../../features/studio/api/studio-settings";
+import { useHasRole, useSessionUser } from "../../lib/authorization";
+import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../lib/form-errors";
+import { toast } from "../../lib/toast";
+
+export function StudioRoute() {
+  const me = useSessionUser();
+  const isAdmin = useHasRole("admin");
+  if (!isAdmin) return <NotAllowed needed="admin" current={me.role} />;
+  return <StudioPage />;
+}
+
+function StudioPage() {
+  const settings = useStudioSettings();
+  return (
+    <>
+      <title>Studio · Platen</title>
+      <PageHeader
+        title="Studio"
+        description="The studio's name, the resolution assumed for scans that record none, and the rights every file carries."
+      />
+      {settings.isPending ? (
+        <p className="flex items-center gap-2 text-sm text-ink-muted">
+          <Spinner /> Loading the studio's settings…
+        </p>
+      ) : settings.isError ? (
+        <LoadError error={settings.error} onRetry={() => void settings.refetch()} />
+      ) : (
+        // Keyed by the saved version, so a save elsewhere refreshes the form's starting values.
+        <StudioForm key={settings.data.updatedAt} saved={settings.data} />
+      )}
+    </>
+  );
+}
+
+type Field = "name" | "defaultDpi" | "creator" | "copyright";
+const FIELDS = ["name", "defaultDpi", "creator", "copyright"] as const;
+
+function StudioForm({ saved }: { saved: StudioSettings }) {
+  const update = useUpdateStudio();
+  const [name, setName] = useState(saved.name);
+  const [dpi, setDpi] = useState(String(saved.defaultDpi));
+  const [creator, setCreator] = useState(saved.creator ?? "");
+  const [copyright, setCopyright] = useState(saved.copyright ?? "");
+  const [errors, setErrors] = useState<FieldErrors<Field>>({});
+  const [formError, setFormError] = useState<string | null>(null);
+
+  const changed =
+    name !== saved.name ||
+    dpi !== String(saved.defaultDpi) ||
+    creator.trim() !== (saved.creator ?? "") ||
+    copyright.trim() !== (saved.copyright ?? "");
+
+  const submit = (event: FormEvent) => {
+    event.preventDefault();
+    setFormError(null);
+    const parsed = updateStudioBody.safeParse({
+      name,
+      defaultDpi: dpi.trim() === "" ? Number.NaN : Number(dpi),
+      creator,
+      copyright,
+    });
+    if (!parsed.success) {
+      setErrors(fieldErrorsFrom<Field>(parsed.error));
+      return;
+    }
+    setErrors({});
+    update.mutate(parsed.data, {
+      onSuccess: () => toast.success("Studio settings saved. Files made from now on carry them."),
+      onError: (error) => {
+        const { field, message } = serverErrorFor(error, FIELDS);
+        if (field) setErrors({ [field]: message });
+        else setFormError(message);
+      },
+    });
+  };
+
+  const insertMark = () => {
+    setCopyright((c) => (c.startsWith("©") ? c : `© ${new Date().getFullYear()} ${c || creator}`.trimEnd()));
+  };
+
+  const clear = (f: Field) => errors[f] && setErrors((e) => ({ ...e, [f]: undefined }));
+
+  return (
+    <form onSubmit={submit} noValidate aria-label="Studio settings" className="flex max-w-5xl flex-col gap-6">
+      {formError && <Notice tone="error">{formError}</Notice>}
+      <div className="grid grid-cols-1 items-start gap-6 lg:grid-cols-2">
+        <Panel title="The studio" titleId="studio-title">
+          <div className="flex flex-col gap-4">
+            <TextField
+              label="Name"
+              value={name}
+              maxLength={80}
+              onChange={(e) => {
+                setName(e.target.value);
+                clear("name");
+              }}
+              error={errors.name}
+              hint="Shown in the rail, on the sign-in page and in e-mails."
+            />
+            <TextField
+              label="Assumed resolution (DPI)"
+              inputMode="numeric"
+              value={dpi}
+              onChange={(e) => {
+                setDpi(e.target.value);
+                clear("defaultDpi");
+              }}
+              error={errors.defaultDpi}
+              className="figure max-w-40"
+              hint={`Used for a scan whose file records no resolution (${SET_DPI_MIN}–${SET_DPI_MAX}); such scans are marked "assumed". Scans already read keep theirs; an operator can set one on the scan's page.`}
+            />
+          </div>
+        </Panel>
+        <Panel title="Rights in every file" titleId="rights-title">
+          <div className="flex flex-col gap-4">
+            <TextField
+              label="Creator"
+              value={creator}
+              maxLength={CREATOR_MAX}
+              placeholder="The artist's name"
+              onChange={(e) => {
+                setCreator(e.target.value);
+                clear("creator");
+              }}
+              error={errors.creator}
+              hint="Written as the creator (artist) of every master and copy. Leave it empty to write none."
+            />
+            <div className="flex flex-col gap-1.5">
+              <TextField
+                label="Copyright line"
+                value={copyright}
+                maxLength={COPYRIGHT_MAX}
+                placeholder="© 2026 Mara Ilves. All rights reserved."
+                onChange={(e) => {
+                  setCopyright(e.target.value);
+                  clear("copyright");
+                }}
+                error={errors.copyright}
+                hint="Written as the copyright notice of every master and copy. Leave it empty to write none."
+              />
+              {!copyright.startsWith("©") && (
+                <div>
+                  <Button type="button" size="sm" variant="quiet" onClick={insertMark}>
+                    Start with © {new Date().getFullYear()}
+                  </Button>
+                </div>
+              )}
+            </div>
+            <p className="text-xs text-ink-muted">
+              Each file also carries the piece's own title. Web copies keep these fields when their preset says so.
+              Files made before a change keep what they were made with; run their batch again to remake them.
+            </p>
+          </div>
+        </Panel>
+      </div>
+      <div className="flex items-center gap-4">
+        <Button type="submit" variant="primary" busy={update.isPending} disabled={!changed}>
+          Save settings
+        </Button>
+        <span className="text-xs text-ink-muted" data-testid="studio-saved">
+          {changed ? "Not saved yet." : saved.updatedAt.startsWith("1970") ? "" : <>Saved <Ago iso={saved.updatedAt} />.</>}
+        </span>
+      </div>
+    </form>
+  );
+}
