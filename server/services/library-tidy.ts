@@ -5,6 +5,8 @@ import type { Storage } from "../storage/storage";
 import { isStorageError } from "../storage/storage";
 import { fragmentThumbKey } from "./fragment-thumbs";
 import { previewBaseKey } from "./recipe-preview";
+import { recordAudit } from "./audit";
+import { formatBytes } from "../../shared/units";
 import type { LastTidy, TidyFolder, TidyReport } from "../../shared/schemas/library";
 
 /**
@@ -58,7 +60,9 @@ const LARGE_TIDY_MIN_FILES = 20;
  *
  * A tidy that looks wrong is held: when the database names none of the scans whose originals the
  * library holds (another or a restored database), or when it would remove more than half of the
- * derived files. It then removes nothing and says why (`caution`), unless `allowLarge`.
+ * derived files. It then removes none of the library's files and says why (`caution`), unless
+ * `allowLarge`. What stopped processes left unfinished on this machine goes all the same once
+ * old (no database could name it), and the caution of a held tidy says so.
  */
 export async function tidyLibrary(
   db: Db,
@@ -131,8 +135,9 @@ export async function tidyLibrary(
     caution = `The database names ${originals.files === 1 ? "not even the library's one original" : `none of the ${originals.files} originals in the library`}: it may not be this library's database (a new or restored one). A tidy now would remove every copy made from them.`;
   else if (planned.length > LARGE_TIDY_MIN_FILES && planned.length > LARGE_TIDY_SHARE * derived)
     caution = `A tidy now would remove ${planned.length} of the library's ${derived} derived files, more than half: check that this is the library's own database before going on.`;
-  // A confirmation holds for the removal it was given for, not a larger one found since.
-  const confirmed = opts.allowLarge === true && (opts.upTo === undefined || planned.length <= opts.upTo);
+  // A confirmation holds for the removal it was given for, not a larger one found since. What the
+  // person was shown (a dry run's `removed`) counts the unfinished writes too: so does this.
+  const confirmed = opts.allowLarge === true && (opts.upTo === undefined || planned.length + oldTemps.length <= opts.upTo);
   if (caution && opts.allowLarge && !confirmed) caution += ` (More than the ${opts.upTo} files confirmed: look again.)`;
   const hold = caution !== null && !confirmed;
 
@@ -153,9 +158,9 @@ export async function tidyLibrary(
     row.removed++;
     row.removedBytes += size;
   }
+  // Unfinished writes are no row's, in any database: a held tidy removes them all the same.
   for (const u of oldTemps) {
     if (!opts.dryRun) {
-      if (hold) continue;
       try {
         if (!(await library.removeUnfinished(u, cutoff))) {
           tempRow.tooYoung++;
@@ -170,6 +175,9 @@ export async function tidyLibrary(
     tempRow.removedBytes += u.size;
   }
   if (unfinished.length || unfinishedFailed) folders.push(tempRow);
+  const held = !opts.dryRun && hold;
+  if (held && caution && tempRow.removed)
+    caution += ` Only unfinished writes, which no database names, were removed: ${tempRow.removed === 1 ? "1 file" : `${tempRow.removed} files`} (${formatBytes(tempRow.removedBytes)}).`;
   return {
     dryRun: opts.dryRun,
     graceHours,
@@ -178,7 +186,7 @@ export async function tidyLibrary(
     removedBytes: folders.reduce((n, f) => n + f.removedBytes, 0),
     failed: folders.reduce((n, f) => n + f.failed, 0),
     caution,
-    held: !opts.dryRun && hold,
+    held,
   };
 }
 
@@ -205,8 +213,26 @@ export async function runTidy(db: Db, library: Storage, actorId: string | null, 
     allowLarge: actorId !== null && opts.allowLarge === true,
     upTo: opts.upTo,
   });
-  // A held tidy removed nothing and is not a tidy: the next one is due as before.
+  // A held tidy removed none of the library's files and is not a tidy: the next one is due as before.
   if (!report.held) await db.insert(libraryTidies).values({ actorId, removed: report.removed, bytes: report.removedBytes });
+  // What it did remove (unfinished writes) is recorded here: its callers record only a tidy that went ahead.
+  else if (report.removed) {
+    const files = `${report.removed} ${report.removed === 1 ? "file" : "files"} (${formatBytes(report.removedBytes)})`;
+    await recordAudit(
+      db,
+      {
+        action: "library.tidy",
+        subjectType: "studio",
+        subjectId: null,
+        summary: actorId
+          ? `Tidied the library, held by its caution: removed only what stopped processes left unfinished, ${files}`
+          : `The worker's tidy of the library is held for an admin (see the Library screen); it removed only what stopped processes left unfinished: ${files}`,
+        after: { removed: report.removed, bytes: report.removedBytes, held: true },
+      },
+      // An admin's comes from the request (who, from where); the worker's is nobody's.
+      actorId ? {} : { actor: null },
+    );
+  }
   return report;
 }
 

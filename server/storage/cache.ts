@@ -3,6 +3,9 @@ import path from "node:path";
 import { checkKey } from "./keys";
 import { randomName, walk } from "./files";
 
+/** The folder a cache in `dir` downloads into (see `LocalCache.tmpDir`). */
+export const cacheTmpDir = (dir: string) => path.join(dir, "tmp");
+
 /**
  * A bounded local copy of stored files, for tools that read paths (sharp) when the library is in an
  * object store. A file is kept under its key and version (the object's ETag), so a rewritten key is
@@ -19,6 +22,14 @@ export class LocalCache {
     readonly dir: string,
     readonly maxBytes: number,
   ) {}
+
+  /**
+   * Where downloads land before they are renamed into place (named as `FETCH_TEMP_NAME` matches):
+   * what a process stopped mid-download leaves here is for the library's tidy.
+   */
+  get tmpDir() {
+    return cacheTmpDir(this.dir);
+  }
 
   private fileFor(key: string, version: string) {
     checkKey(key);
@@ -77,9 +88,8 @@ export class LocalCache {
     let p = this.inflight.get(file);
     if (!p) {
       p = (async () => {
-        const tmpDir = path.join(this.dir, "tmp");
-        await fsp.mkdir(tmpDir, { recursive: true });
-        const temp = path.join(tmpDir, randomName("fetch"));
+        await fsp.mkdir(this.tmpDir, { recursive: true });
+        const temp = path.join(this.tmpDir, randomName("fetch"));
         try {
           await fetch(temp);
           await fsp.mkdir(path.dirname(file), { recursive: true });

@@ -164,34 +164,59 @@ async function measure(p: string): Promise<{ size: number; modified: number } | 
 }
 
 /**
+ * The name of a download into a cache's `tmp/` folder (`LocalCache`: `<time>-<random>-fetch`):
+ * a process stopped mid-download leaves one behind.
+ */
+export const FETCH_TEMP_NAME = /^\d+-[0-9a-f]{12}-fetch$/;
+
+/**
+ * Local folders of this machine where a storage client works: its scratch folder (staged copies,
+ * jobs' `work-*` folders, `uploads/`) and its cache's download folder (`fetching`), if it has one.
+ * A library's tidy sweeps its own and those it was given (the off-site bucket's, the S3 client's
+ * of another setting), so none grows forever after a stop.
+ */
+export interface ScratchPlace {
+  scratch: string;
+  fetching?: string;
+}
+
+/**
  * What stopped processes left: temp files beside their targets in the library's key folders
  * (`folders`, a local library's; nothing else under its root is looked at, such as a disk's
- * lost+found) and, in `scratch`, staged copies, jobs' scratch folders and uploads. Nothing else
- * is listed: a name the program does not make is not the program's to remove. A folder that
- * cannot be read is passed over, never the end of the search.
+ * lost+found); in each `scratch` folder, staged copies, jobs' scratch folders and uploads; and in
+ * each `fetching` folder (a cache's `tmp/`), downloads cut off. Nothing else is listed: a name the
+ * program does not make is not the program's to remove. A folder that cannot be read is passed
+ * over, never the end of the search; a folder given twice is looked at once.
  */
-export async function findUnfinished(where: { folders?: string[]; scratch: string }): Promise<Unfinished[]> {
-  const found: string[] = [];
-  for (const dir of where.folders ?? []) {
+export async function findUnfinished(where: { folders?: string[]; scratch: string | string[]; fetching?: string[] }): Promise<Unfinished[]> {
+  const found = new Set<string>();
+  const unique = (dirs: string[]) => [...new Set(dirs.map((d) => path.resolve(d)))];
+  for (const dir of unique(where.folders ?? [])) {
     let files: string[];
     try {
       files = await walk(dir);
     } catch {
       continue;
     }
-    for (const rel of files) if (TEMP_FILE_NAME.test(path.basename(rel))) found.push(path.join(dir, rel));
+    for (const rel of files) if (TEMP_FILE_NAME.test(path.basename(rel))) found.add(path.join(dir, rel));
   }
-  const entries = await fsp.readdir(where.scratch, { withFileTypes: true }).catch(() => [] as fs.Dirent[]);
-  for (const e of entries) {
-    const p = path.join(where.scratch, e.name);
-    if (e.isDirectory() && e.name === "uploads") {
-      for (const u of await fsp.readdir(p, { withFileTypes: true }).catch(() => [] as fs.Dirent[]))
-        if (u.isFile() && /^[0-9a-f]{32}$/.test(u.name)) found.push(path.join(p, u.name));
-    } else if (e.isDirectory() && /^work-[A-Za-z0-9]{6}$/.test(e.name)) found.push(p);
-    else if (e.isFile() && TEMP_FILE_NAME.test(e.name)) found.push(p);
+  for (const scratch of unique(typeof where.scratch === "string" ? [where.scratch] : where.scratch)) {
+    const entries = await fsp.readdir(scratch, { withFileTypes: true }).catch(() => [] as fs.Dirent[]);
+    for (const e of entries) {
+      const p = path.join(scratch, e.name);
+      if (e.isDirectory() && e.name === "uploads") {
+        for (const u of await fsp.readdir(p, { withFileTypes: true }).catch(() => [] as fs.Dirent[]))
+          if (u.isFile() && /^[0-9a-f]{32}$/.test(u.name)) found.add(path.join(p, u.name));
+      } else if (e.isDirectory() && /^work-[A-Za-z0-9]{6}$/.test(e.name)) found.add(p);
+      else if (e.isFile() && TEMP_FILE_NAME.test(e.name)) found.add(p);
+    }
+  }
+  for (const dir of unique(where.fetching ?? [])) {
+    for (const e of await fsp.readdir(dir, { withFileTypes: true }).catch(() => [] as fs.Dirent[]))
+      if (e.isFile() && FETCH_TEMP_NAME.test(e.name)) found.add(path.join(dir, e.name));
   }
   const out: Unfinished[] = [];
-  for (const p of found.sort()) {
+  for (const p of [...found].sort()) {
     const m = await measure(p).catch(() => null);
     if (m) out.push({ path: p, size: m.size, modified: new Date(m.modified) });
   }

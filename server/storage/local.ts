@@ -2,7 +2,7 @@ import fsp from "node:fs/promises";
 import path from "node:path";
 import type { Readable } from "node:stream";
 import { KEY_FOLDERS, checkKey, checkPrefix, isWriteOnce } from "./keys";
-import { copyHashed, findUnfinished, fsyncDir, fsyncFile, hashFile, randomName, removeUnfinished, walk, withScratchDir, type Unfinished } from "./files";
+import { copyHashed, findUnfinished, fsyncDir, fsyncFile, hashFile, randomName, removeUnfinished, walk, withScratchDir, type ScratchPlace, type Unfinished } from "./files";
 import {
   StorageError,
   missing,
@@ -23,10 +23,16 @@ import {
 export class LocalStorage implements Storage {
   readonly kind = "local" as const;
   readonly scratchDir: string;
+  /** Other local folders of this machine whose unfinished writes this library's tidy removes. */
+  private readonly alsoSweep: ScratchPlace[];
 
-  constructor(readonly root: string) {
+  constructor(
+    readonly root: string,
+    opts: { alsoSweep?: ScratchPlace[] } = {},
+  ) {
     this.root = path.resolve(root);
     this.scratchDir = path.join(this.root, "tmp");
+    this.alsoSweep = opts.alsoSweep ?? [];
   }
 
   get description() {
@@ -199,7 +205,11 @@ export class LocalStorage implements Storage {
   }
 
   unfinished(): Promise<Unfinished[]> {
-    return findUnfinished({ folders: KEY_FOLDERS.map((f) => path.join(this.root, f)), scratch: this.scratchDir });
+    return findUnfinished({
+      folders: KEY_FOLDERS.map((f) => path.join(this.root, f)),
+      scratch: [this.scratchDir, ...this.alsoSweep.map((p) => p.scratch)],
+      fetching: this.alsoSweep.flatMap((p) => (p.fetching ? [p.fetching] : [])),
+    });
   }
 
   removeUnfinished(u: Unfinished, cutoff: number): Promise<boolean> {

@@ -13,7 +13,7 @@ import {
 } from "@aws-sdk/client-s3";
 import { Upload } from "@aws-sdk/lib-storage";
 import { checkKey, checkPrefix, contentTypeFor, isWriteOnce } from "./keys";
-import { copyHashed, findUnfinished, hashFile, hashStream, randomName, removeUnfinished, withScratchDir, type Unfinished } from "./files";
+import { copyHashed, findUnfinished, hashFile, hashStream, randomName, removeUnfinished, withScratchDir, type ScratchPlace, type Unfinished } from "./files";
 import { LocalCache } from "./cache";
 import {
   StorageError,
@@ -65,14 +65,22 @@ export class S3Storage implements Storage {
 
   constructor(
     readonly settings: S3Settings,
-    local: { scratchDir: string; cacheDir: string; cacheMaxBytes: number },
+    local: {
+      scratchDir: string;
+      cacheDir: string;
+      cacheMaxBytes: number;
+      /** Other local folders of this machine whose unfinished writes this library's tidy removes. */
+      alsoSweep?: ScratchPlace[];
+    },
     client?: S3Client,
   ) {
     this.client = client ?? s3Client(settings);
     this.scratchDir = local.scratchDir;
     this.cache = new LocalCache(local.cacheDir, local.cacheMaxBytes);
+    this.alsoSweep = local.alsoSweep ?? [];
   }
   readonly scratchDir: string;
+  private readonly alsoSweep: ScratchPlace[];
 
   get description() {
     const where = this.settings.endpoint ? ` at ${this.settings.endpoint}` : "";
@@ -284,8 +292,13 @@ export class S3Storage implements Storage {
     return withScratchDir(this.scratchDir, fn);
   }
 
+  /** Its scratch folder's and its cache's downloads (and those of `alsoSweep`): nothing in the bucket. */
   unfinished(): Promise<Unfinished[]> {
-    return findUnfinished({ scratch: this.scratchDir });
+    const places: ScratchPlace[] = [{ scratch: this.scratchDir, fetching: this.cache.tmpDir }, ...this.alsoSweep];
+    return findUnfinished({
+      scratch: places.map((p) => p.scratch),
+      fetching: places.flatMap((p) => (p.fetching ? [p.fetching] : [])),
+    });
   }
 
   removeUnfinished(u: Unfinished, cutoff: number): Promise<boolean> {

@@ -48,9 +48,11 @@ export interface Storage {
   /** Runs `fn` with a fresh local scratch folder, removed afterwards. */
   withScratch<T>(fn: (dir: string) => Promise<T>): Promise<T>;
   /**
-   * Temp files and scratch folders on this machine that a process stopped part-way left behind
-   * (never a stored key). On S3 an upload cut short leaves no object; its parts are for the
-   * bucket's own rule for incomplete multipart uploads.
+   * Temp files, scratch folders and cut-off downloads on this machine that a process stopped
+   * part-way left behind (never a stored key): its own, and those of the other storage clients'
+   * local folders it was opened with (`openStorage`: the off-site bucket's, the S3 client's).
+   * On S3 an upload cut short leaves no object; its parts are for the bucket's own rule for
+   * incomplete multipart uploads.
    */
   unfinished(): Promise<Unfinished[]>;
   /** Removes one of `unfinished()`'s finds if it is still older than `cutoff` (ms); false if not. */

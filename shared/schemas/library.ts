@@ -26,7 +26,11 @@ export const tidyReportSchema = z.object({
   failed: z.number().int(),
   /** Why this tidy looks wrong (no scan of the library's named, or most files would go); null when it looks right. */
   caution: z.string().nullable(),
-  /** Nothing was removed because of the caution (a person may confirm it). */
+  /**
+   * No left-over file of the library was removed because of the caution (a person may confirm it).
+   * Unfinished writes past the grace period were removed all the same (the "unfinished/" row and
+   * `removed`; the caution then ends by saying so).
+   */
   held: z.boolean(),
 });
 export type TidyReport = z.infer<typeof tidyReportSchema>;

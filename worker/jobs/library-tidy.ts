@@ -18,7 +18,9 @@ export async function libraryTidyJob(
 ): Promise<void> {
   if (!(await regularTidyDue(deps.database.db, deps.config.tidyEveryHours))) return;
   const report = await runTidy(deps.database.db, deps.library, null);
-  if (report.held) return deps.log.warn({ jobId: ctx.jobId, caution: report.caution }, "library tidy held: an admin can look at it on the Library screen");
+  // Held, it removed only unfinished writes (no database names them; runTidy records those).
+  if (report.held)
+    return deps.log.warn({ jobId: ctx.jobId, caution: report.caution, removed: report.removed, bytes: report.removedBytes }, "library tidy held: an admin can look at it on the Library screen");
   const kept = report.folders.reduce((n, f) => n + f.tooYoung, 0);
   deps.log.info({ jobId: ctx.jobId, removed: report.removed, bytes: report.removedBytes, tooYoung: kept, failed: report.failed }, "library tidied");
   if (report.removed)

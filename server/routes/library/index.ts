@@ -29,7 +29,7 @@ export function libraryRouter(deps: AppDeps): Router {
   });
   handle(router, API.libraryTidy, async ({ body, req, user }) => {
     const report = body.dryRun ? await tidyLibrary(db, deps.library, { dryRun: true }) : await runTidy(db, deps.library, user.id, { allowLarge: body.allowLarge, upTo: body.upTo });
-    if (report.held) throw conflict(`Nothing was removed. ${report.caution}`);
+    if (report.held) throw conflict(`${report.removed ? "No left-over file was removed." : "Nothing was removed."} ${report.caution}`);
     req.log.info({ removed: report.removed, bytes: report.removedBytes, dryRun: report.dryRun }, "library tidied");
     if (!report.dryRun)
       await recordAudit(db, {
