@@ -196,4 +196,22 @@ describe("renderFragments: several fragments from one decode", () => {
     expect(fs.readdirSync(dir).sort()).toEqual(["blocker", "m0.tif", "w0.jpg"]);
     expect((await sharp(path.join(dir, "m0.tif")).metadata()).width).toBeGreaterThan(0);
   });
+
+  it("decodes into the scratch folder it is given (a job's, which the tidy sweeps), not the system's temp folder", async () => {
+    const source = await writeScan("scratch.tif");
+    const geometries = PIECES.map((p, i) => geometryOf(p, SHAPES[i]!));
+    // A folder that does not exist: the decode's own folder cannot be made in it, and the error names it.
+    const missing = path.join(tmp.dir, "no-such-scratch");
+    await expect(
+      renderFragments({ source, dpi: { x: 600, y: 600 }, maxPixels, scratchDir: missing }, items(path.join(tmp.dir, "scratch-a"), geometries)),
+    ).rejects.toThrow(/no-such-scratch[\\/]platen-decoded-/);
+    // One that does: the render succeeds and its decode is gone from it afterwards.
+    const scratch = path.join(tmp.dir, "scratch");
+    fs.mkdirSync(scratch);
+    const before = new Set(decodedCopies());
+    const made = await renderFragments({ source, dpi: { x: 600, y: 600 }, maxPixels, scratchDir: scratch }, items(path.join(tmp.dir, "scratch-b"), geometries));
+    expect(made).toHaveLength(geometries.length);
+    expect(fs.readdirSync(scratch)).toEqual([]);
+    expect(decodedCopies().filter((d) => !before.has(d))).toEqual([]);
+  });
 });

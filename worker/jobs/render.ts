@@ -351,6 +351,8 @@ async function renderGroup(
                   dpi: { x: scan.dpiX ?? deps.config.defaultDpi, y: scan.dpiY ?? scan.dpiX ?? deps.config.defaultDpi },
                   maxPixels: deps.config.maxPixels,
                   decoded: decoded ?? undefined,
+                  // The job's scratch: a worker killed mid-render leaves its decode where the tidy looks.
+                  scratchDir: dir,
                 },
                 items,
                 {

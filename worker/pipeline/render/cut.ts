@@ -46,8 +46,8 @@ export interface DecodedScan {
 }
 
 /**
- * Decodes the scan once into a temporary .v file in a private folder of the system's temp
- * directory, which needs room for it: width × height × channels × bytes per sample (104 MB for
+ * Decodes the scan once into a temporary .v file in a private folder of `scratchDir` (the system's
+ * temp directory unless given), which needs room for it: width × height × channels × bytes per sample (104 MB for
  * an 8-bit A4 page at 600 DPI). Memory: libvips streams the decode, so no full-resolution copy is
  * held in the heap; reading it back maps the file.
  * Throws ScanError (truncated, too_large, unreadable) when the scan's data cannot be decoded.
@@ -58,8 +58,9 @@ export async function decodeScan(
   colour: ColourPlan,
   inspected: Inspected,
   maxPixels: number,
+  scratchDir: string = os.tmpdir(),
 ): Promise<DecodedScan> {
-  const dir = await fs.mkdtemp(path.join(os.tmpdir(), "platen-decoded-"));
+  const dir = await fs.mkdtemp(path.join(scratchDir, "platen-decoded-"));
   const dispose = () => fs.rm(dir, { recursive: true, force: true });
   const file = path.join(dir, "scan.v");
   try {

@@ -191,6 +191,12 @@ export type ScanInput = Pick<RenderInput, "source" | "dpi" | "maxPixels"> & {
    * at all; otherwise it is ignored. Only read, never removed.
    */
   decoded?: string;
+  /**
+   * Where a decode of the scan for several fragments goes (a folder the caller owns and removes,
+   * such as a job's scratch folder, so a process killed mid-render leaves nothing elsewhere).
+   * Default: the system's temp directory.
+   */
+  scratchDir?: string;
 };
 
 /** One fragment of a scan for renderFragments: its geometry, rights, recipe and targets. */
@@ -286,7 +292,7 @@ async function renderFromOneDecode(
   const colour = colourPlan(inspected.meta);
   const kept = scan.decoded ? await openDecodedCopy(scan.decoded, colour, inspected) : null;
   const decoded =
-    kept ?? (items.length > 1 ? await decodeScan(scan.source, colour, inspected, scan.maxPixels) : undefined);
+    kept ?? (items.length > 1 ? await decodeScan(scan.source, colour, inspected, scan.maxPixels, scan.scratchDir) : undefined);
   // From the decoded copy the work is a pipeline of two stages: while one fragment's files are
   // written (encoders, mostly one thread each) and handed to `done`, the next one is cut and
   // corrected (the affine turn and the recipe, threaded), so both cores stay busy. At most two
