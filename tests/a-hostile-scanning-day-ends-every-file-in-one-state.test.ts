@@ -15,7 +15,7 @@ import { eq, inArray } from "drizzle-orm";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { paperScan, sha256 } from "./helpers/fixtures";
 import { pngChunk, pngChunks } from "./helpers/scan-bytes";
-import { scans } from "../server/db/schema";
+import { inboxKeptFiles, scans } from "../server/db/schema";
 
 let stack: Stack;
 let operator: supertest.Agent;
@@ -250,13 +250,13 @@ describe("a scanner that pauses while it writes", () => {
     expect(await fs.readdir(stack.inbox)).toEqual([]);
   });
 
-  it("takes in a file that stays empty or cut short after waiting for it, to fail with its reason", async () => {
+  it("files a file that stays empty or cut short after waiting for it, to fail with its reason, and leaves it for its writer", async () => {
     const cut = cutAfterHeader(await paperScan({ format: "jpeg", seed: 43 }));
     await fs.writeFile(path.join(stack.inbox, "stays-empty.tif"), Buffer.alloc(0));
     await fs.writeFile(path.join(stack.inbox, "stays-cut.jpg"), cut);
-    // Still waited for a while after it stopped growing (30 × 400 ms), then taken in as it is.
+    // Still waited for a while after it stopped growing (30 × 400 ms), then filed as it is.
     await new Promise((r) => setTimeout(r, 3000));
-    expect((await fs.readdir(stack.inbox)).sort()).toEqual(["stays-cut.jpg", "stays-empty.tif"]);
+    expect(await rowsNamed("stays-empty.tif")).toEqual([]);
     const [empty] = await settled("stays-empty.tif");
     expect(empty!.status).toBe("failed");
     expect(empty!.error).toBe("The file is empty (0 bytes): the scanner or the copy did not finish. Scan again or copy the file again.");
@@ -264,7 +264,20 @@ describe("a scanner that pauses while it writes", () => {
     expect(jpeg!.status).toBe("failed");
     expect(jpeg!.error).toMatch(/^The JPEG image data ends early or is damaged/);
     expect(sha256(await fs.readFile(stack.libraryPath(jpeg!.originalKey)))).toBe(sha256(cut));
-    expect(await fs.readdir(stack.inbox)).toEqual([]);
+    // Both stay in the inbox, remembered as filed (a scanner that comes back writes into a file
+    // still there), each filed once.
+    expect((await fs.readdir(stack.inbox)).sort()).toEqual(["stays-cut.jpg", "stays-empty.tif"]);
+    const kept = await stack.db.select().from(inboxKeptFiles);
+    expect(kept.map((k) => [k.path, k.reason, k.scanId]).sort()).toEqual([
+      ["stays-cut.jpg", "unfinished", jpeg!.id],
+      ["stays-empty.tif", "unfinished", empty!.id],
+    ]);
+    // Removed by a person: the inbox forgets them.
+    await fs.rm(path.join(stack.inbox, "stays-empty.tif"));
+    await fs.rm(path.join(stack.inbox, "stays-cut.jpg"));
+    await waitFor("the inbox to forget them", async () => ((await stack.db.select().from(inboxKeptFiles)).length === 0 ? true : null), 10_000);
+    expect(await rowsNamed("stays-empty.tif")).toHaveLength(1);
+    expect(await rowsNamed("stays-cut.jpg")).toHaveLength(1);
   });
 });
 
@@ -289,8 +302,15 @@ describe("a hostile day's files", () => {
     expect(twins.find((r) => r.status === "duplicate")!.duplicateOfId).toBe(twins.find((r) => r.status === "ready")!.id);
     expect(await rowsNamed("inbox-gone.tif")).toEqual([]);
     expect(await rowsNamed("inbox-folder.tif")).toEqual([]);
-    expect(await fs.readdir(stack.inbox)).toEqual(["inbox-folder.tif"]);
+    // The files cut short still looked unfinished after the wait: filed (failed, above) but left
+    // in the inbox for a writer that may come back, and remembered; the rest are gone from it.
+    const stillThere = ["inbox-cut-in-half.tif", "inbox-header-only.jpg", "inbox-idat-cut-short.png"];
+    expect((await fs.readdir(stack.inbox)).sort()).toEqual(["inbox-folder.tif", ...stillThere].sort());
+    const kept = await stack.db.select().from(inboxKeptFiles);
+    expect(kept.map((k) => [k.path, k.reason]).sort()).toEqual(stillThere.map((n) => [n, "unfinished"]));
+    for (const n of stillThere) await fs.rm(path.join(stack.inbox, n));
     await fs.rmdir(path.join(stack.inbox, "inbox-folder.tif"));
+    await waitFor("the inbox to forget the files removed", async () => ((await stack.db.select().from(inboxKeptFiles)).length === 0 ? true : null), 10_000);
   });
 
   it("each end in one state through uploads, or are refused with the reason when they are not scans", async () => {

@@ -1,8 +1,8 @@
 import fsp from "node:fs/promises";
 import path from "node:path";
 import { watch, type FSWatcher } from "chokidar";
-import type { IntakeDeps } from "../server/services/intake";
-import { StillChangingError, intakeFile } from "../server/services/intake";
+import type { IntakeDeps, KeptInboxFile } from "../server/services/intake";
+import { StillChangingError, forgetKeptInboxFile, intakeFile, keptInboxFiles } from "../server/services/intake";
 import { startHeartbeat } from "../server/services/processes";
 import { notify } from "../server/services/events";
 import { looksUnfinished } from "./pipeline/unfinished";
@@ -36,7 +36,11 @@ export interface WatcherOptions {
  * inbox and is tried again with backoff; the watcher keeps going. A file that has stopped growing
  * but still looks unfinished (worker/pipeline/unfinished.ts: a scanner that made the file and
  * pauses before writing it) is left where it is and looked at again, until it is whole or has
- * looked unfinished for `unfinishedMs`; then it is taken in as it is, to fail with its reason.
+ * looked unfinished for `unfinishedMs`; then it is filed as it is (to fail with its reason) but
+ * left in the inbox, so a writer that comes back writes into a file still there, which is taken in
+ * again, whole, when it changes. Files filed but left in the inbox (that one, and one that could
+ * not be removed) are remembered in the database (inbox_kept_files), so an unchanged one is not
+ * filed again after a restart; the memory goes when the file leaves the inbox.
  */
 export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
   const folder = path.resolve(opts.folder);
@@ -52,12 +56,32 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
   const seenAgain = new Set<string>();
   /** One pending look per file: a later one replaces it. */
   const timers = new Map<string, NodeJS.Timeout>();
-  /** Files filed but not removable from the inbox, as they were then: not taken in again unchanged. */
-  const filedStaying = new Map<string, { size: number; mtimeMs: number }>();
   let closed = false;
   const unfinishedMs = opts.unfinishedMs ?? 30 * opts.stableMs;
-  /** Files that looked unfinished: since when (or since their last change), and how they were then. */
-  const unfinishedSince = new Map<string, { since: number; size: number; mtimeMs: number }>();
+  /** Files that looked unfinished: since when (or since their last change), how they were then, and why. */
+  const unfinishedSince = new Map<string, { since: number; size: number; mtimeMs: number; reason?: string }>();
+  /** A file's path inside the inbox, as inbox_kept_files keeps it. */
+  const nameOf = (file: string) => path.relative(folder, file).split(path.sep).join("/");
+
+  /**
+   * Files filed but still in the inbox, as they were then (inbox_kept_files; this map mirrors this
+   * inbox's rows): not taken in again while unchanged. Rows of files gone while the watcher was
+   * stopped are forgotten now; chokidar reports the others as it starts.
+   */
+  const kept = new Map<string, KeptInboxFile>();
+  for (const [name, row] of await keptInboxFiles(deps.database.db, folder)) {
+    const file = path.join(folder, ...name.split("/"));
+    const st = await fsp.lstat(file).catch(() => null);
+    if (st?.isFile()) kept.set(file, row);
+    else await forgetKeptInboxFile(deps.database.db, folder, name);
+  }
+  /** The file has left the inbox: its memory goes. */
+  const forget = async (file: string) => {
+    if (!kept.delete(file)) return;
+    await forgetKeptInboxFile(deps.database.db, folder, nameOf(file)).catch((err: unknown) =>
+      log.error({ err, file: nameOf(file) }, "watcher: could not forget a kept file that has left the inbox"),
+    );
+  };
 
   const later = (file: string, wait: number, attempt: number) => {
     if (closed) return;
@@ -91,20 +115,24 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
       later(file, wait, nextAttempt);
     };
     chain = chain.then(async () => {
-      const name = path.relative(folder, file).split(path.sep).join("/");
+      const name = nameOf(file);
       let st: Awaited<ReturnType<typeof fsp.stat>>;
       try {
         st = await fsp.stat(file);
-      } catch {
+      } catch (err) {
         unfinishedSince.delete(file);
-        filedStaying.delete(file);
         seenAgain.delete(file);
         inFlight.delete(file);
+        // Gone (not merely unreadable for a moment, as a share can be): its memory goes too.
+        if ((err as NodeJS.ErrnoException).code === "ENOENT") await forget(file);
         return;
       }
-      const stayed = filedStaying.get(file);
-      if (stayed && stayed.size === st.size && stayed.mtimeMs === st.mtimeMs) return done();
-      filedStaying.delete(file);
+      // Filed already and left here, unchanged since: nothing new to take in.
+      const stayed = kept.get(file);
+      if (stayed && stayed.sizeBytes === st.size && stayed.mtimeMs === st.mtimeMs) {
+        log.debug({ file: name, scanId: stayed.scanId, reason: stayed.reason }, "watcher: filed before and unchanged since; left alone");
+        return done();
+      }
       try {
         // The folder it is in must still be inside the inbox (a subfolder swapped for a link to
         // somewhere else since the file was seen stays out); the file itself is opened without
@@ -123,22 +151,31 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
           unfinishedSince.set(file, { since: now, size: st.size, mtimeMs: st.mtimeMs });
           return lookAgain(recheck(), attempt);
         }
-        const unfinished = await looksUnfinished(file).catch(() => null);
+        // Unchanged since the last walk, the same verdict: a big file is not walked again and again.
+        const unfinished = seen?.reason ?? (await looksUnfinished(file).catch(() => null));
         if (unfinished) {
           const since = seen?.since ?? now;
-          unfinishedSince.set(file, { since, size: st.size, mtimeMs: st.mtimeMs });
+          unfinishedSince.set(file, { since, size: st.size, mtimeMs: st.mtimeMs, reason: unfinished });
           if (now - since < unfinishedMs) {
             if (!seen) log.info({ file: name, reason: unfinished, waitMs: unfinishedMs }, "watcher: the file looks unfinished; waiting for its writer");
             return lookAgain(Math.min(recheck(), unfinishedMs - (now - since)), attempt);
           }
-          log.warn({ file: name, reason: unfinished, waitedMs: now - since }, "watcher: the file still looks unfinished; taking it in as it is");
+          log.warn({ file: name, reason: unfinished, waitedMs: now - since }, "watcher: the file still looks unfinished; filing it as it is and leaving it in the inbox for its writer");
         }
         unfinishedSince.delete(file);
         await heartbeat.sawFile(name);
-        const r = await intakeFile(deps, { path: file, originalName: path.basename(file), source: "inbox", removeSource: true });
+        const r = await intakeFile(deps, {
+          path: file,
+          originalName: path.basename(file),
+          source: "inbox",
+          removeSource: true,
+          inbox: { folder, path: name },
+          stillUnfinished: unfinished ?? undefined,
+        });
         await notify(deps.database.pool, { kind: "watcher", scanId: r.scanId });
+        if (r.remembered) kept.set(file, r.remembered);
+        else kept.delete(file);
         if (r.kept === "changed") seenAgain.add(file);
-        else if (r.kept === "not-removed") filedStaying.set(file, { size: st.size, mtimeMs: st.mtimeMs });
         done();
       } catch (err) {
         if (err instanceof StillChangingError) {
@@ -174,6 +211,10 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
   });
   watcher.on("add", (file) => take(file));
   watcher.on("change", (file) => take(file));
+  // Gone from the inbox: looked at once more, which finds it gone and forgets it if it was kept.
+  watcher.on("unlink", (file) => {
+    if (kept.has(file)) take(file);
+  });
   watcher.on("error", (err) => log.error({ err }, "watcher error"));
   await new Promise<void>((resolve) => watcher.once("ready", () => resolve()));
   log.info({ stableMs: opts.stableMs }, "watching the inbox");

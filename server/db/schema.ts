@@ -2,12 +2,14 @@ import { sql } from "drizzle-orm";
 import {
   bigint,
   boolean,
+  doublePrecision,
   index,
   integer,
   json,
   pgEnum,
   pgTable,
   jsonb,
+  primaryKey,
   real,
   text,
   timestamp,
@@ -132,6 +134,35 @@ export const scans = pgTable(
       .on(t.sha256)
       .where(sql`${t.status} <> 'duplicate'`),
   ],
+);
+
+/**
+ * Inbox files that were filed but are still in the inbox, as they were when filed: one the watcher
+ * took in as it was while it still looked unfinished (left there for its writer to finish), or one
+ * it could not remove (a folder it may not write). Such a file is not filed again while it is
+ * unchanged, across restarts; a row goes when its file leaves the inbox or is taken in again.
+ */
+export const inboxKeptFiles = pgTable(
+  "inbox_kept_files",
+  {
+    /** The watcher's inbox folder (absolute, resolved): one watcher per inbox. */
+    inbox: text("inbox").notNull(),
+    /** The file's path inside the inbox, with "/" between folders. */
+    path: text("path").notNull(),
+    sizeBytes: bigint("size_bytes", { mode: "number" }).notNull(),
+    /** fs.Stats.mtimeMs as it was (a double: it keeps the sub-millisecond part). */
+    mtimeMs: doublePrecision("mtime_ms").notNull(),
+    sha256: varchar("sha256", { length: 64 }).notNull(),
+    /** The scan it was filed as. */
+    scanId: uuid("scan_id")
+      .notNull()
+      .references(() => scans.id, { onDelete: "cascade" }),
+    reason: text("reason").$type<"unfinished" | "not-removed">().notNull(),
+    /** Why it looked unfinished (worker/pipeline/unfinished.ts), for reason "unfinished". */
+    detail: text("detail"),
+    keptAt: timestamp("kept_at", { withTimezone: true }).notNull().defaultNow(),
+  },
+  (t) => [primaryKey({ columns: [t.inbox, t.path] })],
 );
 
 /** Heartbeats of the inbox watcher and the workers, for the queue screen. */

@@ -2,9 +2,9 @@ import fsp from "node:fs/promises";
 import path from "node:path";
 import { and, eq, ne } from "drizzle-orm";
 import type PgBoss from "pg-boss";
-import { pgError, type Database } from "../db";
-import { scans } from "../db/schema";
-import { withTx } from "../db/tx";
+import { pgError, type Database, type Db } from "../db";
+import { inboxKeptFiles, scans } from "../db/schema";
+import { withTx, type Tx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import type { Storage } from "../storage/storage";
 import { originalKey } from "../storage/keys";
@@ -61,6 +61,25 @@ export interface IntakeInput {
   uploadedBy?: string | null;
   /** Remove `path` once the original is safely in the library (inbox files and upload temps). */
   removeSource?: boolean;
+  /**
+   * For an inbox file (with removeSource): the watcher's inbox folder and the file's path in it.
+   * A file filed but left there is remembered by it (inbox_kept_files), and that memory is
+   * forgotten in the transaction that takes the file in again.
+   */
+  inbox?: { folder: string; path: string };
+  /**
+   * File it as it is, but leave it where it is and remember it: it still looked unfinished after
+   * the inbox's wait (this is why), so its writer may yet write the rest into it (worker/watcher.ts).
+   */
+  stillUnfinished?: string;
+}
+
+/** An inbox file filed but still in the inbox, as it was when filed (inbox_kept_files). */
+export interface KeptInboxFile {
+  sizeBytes: number;
+  mtimeMs: number;
+  reason: "unfinished" | "not-removed";
+  scanId: string;
 }
 
 export interface IntakeResult {
@@ -71,10 +90,43 @@ export interface IntakeResult {
   triedAgain: boolean;
   /**
    * The arriving file was filed but is still where it was (removeSource): it changed after its
-   * copy was recorded (taken in again once still), or it could not be removed.
+   * copy was recorded (taken in again once still), it was filed while it still looked unfinished
+   * (stillUnfinished), or it could not be removed.
    */
-  kept?: "changed" | "not-removed";
+  kept?: "changed" | "unfinished" | "not-removed";
+  /** What inbox_kept_files now holds for the file (input.inbox), if anything. */
+  remembered?: KeptInboxFile;
+  /** The scan this file was filed as before, while it still looked unfinished (input.inbox). */
+  follows?: string;
 }
+
+/** The files of one inbox that were filed but left there, by their path in the inbox. */
+export async function keptInboxFiles(db: Db, folder: string): Promise<Map<string, KeptInboxFile>> {
+  const rows = await db
+    .select({
+      path: inboxKeptFiles.path,
+      sizeBytes: inboxKeptFiles.sizeBytes,
+      mtimeMs: inboxKeptFiles.mtimeMs,
+      reason: inboxKeptFiles.reason,
+      scanId: inboxKeptFiles.scanId,
+    })
+    .from(inboxKeptFiles)
+    .where(eq(inboxKeptFiles.inbox, folder));
+  return new Map(rows.map(({ path: p, ...kept }) => [p, kept]));
+}
+
+/** Forgets a kept inbox file (it has left the inbox). */
+export async function forgetKeptInboxFile(db: Db, folder: string, file: string): Promise<void> {
+  await db
+    .delete(inboxKeptFiles)
+    .where(and(eq(inboxKeptFiles.inbox, folder), eq(inboxKeptFiles.path, file)));
+}
+
+/** Said on a scan filed while its file still looked unfinished, once the file was taken in again. */
+export const LATER_WHOLE_NOTE =
+  "Its writer finished the file afterwards: it was taken in again, whole, as a new scan of the same name.";
+export const LATER_CHANGED_NOTE =
+  "Its writer went on with the file afterwards: it was taken in again as a new scan of the same name.";
 
 /**
  * The arriving file changed while it was being copied (its writer is still at it): nothing was
@@ -134,6 +186,67 @@ export async function intakeFile(
     if (stored) return;
     await library.commit(staged, key);
     stored = true;
+  };
+
+  /**
+   * The inbox's memory of this file, in the transaction that records it: the row of its earlier
+   * filing goes (it is taken in again now); a file filed while it still looks unfinished gets a
+   * new one; and a scan filed earlier while the file looked unfinished says where the rest went.
+   */
+  const rememberInTx = async (
+    tx: Tx,
+    r: IntakeResult,
+    sha256: string,
+    st: { size: number; mtimeMs: number },
+  ) => {
+    const { folder, path: file } = input.inbox!;
+    const [earlier] = await tx.db
+      .delete(inboxKeptFiles)
+      .where(and(eq(inboxKeptFiles.inbox, folder), eq(inboxKeptFiles.path, file)))
+      .returning({
+        scanId: inboxKeptFiles.scanId,
+        reason: inboxKeptFiles.reason,
+        sha256: inboxKeptFiles.sha256,
+      });
+    if (
+      earlier?.reason === "unfinished" &&
+      earlier.sha256 !== sha256 &&
+      earlier.scanId !== r.scanId
+    ) {
+      r.follows = earlier.scanId;
+      const note = input.stillUnfinished ? LATER_CHANGED_NOTE : LATER_WHOLE_NOTE;
+      // Said once the earlier scan has settled (its analysis writes its own message); one still
+      // being analysed now keeps its own message (rare: the inbox waited long before filing it).
+      const said = await tx.client.query<{ status: string }>(
+        `update scans set error = case when error is null then $2 else error || ' ' || $2 end, updated_at = now()
+         where id = $1 and status in ('failed', 'ready') and position($2 in coalesce(error, '')) = 0
+         returning status`,
+        [earlier.scanId, note],
+      );
+      if (said.rows[0])
+        await tx.notify({ kind: "scan", scanId: earlier.scanId, status: said.rows[0].status });
+      deps.log.info(
+        {
+          scanId: r.scanId,
+          follows: earlier.scanId,
+          file: input.originalName,
+          noted: said.rowCount === 1,
+        },
+        "intake: a file filed earlier while it still looked unfinished was taken in again",
+      );
+    }
+    if (input.stillUnfinished) {
+      const kept: KeptInboxFile = {
+        sizeBytes: st.size,
+        mtimeMs: st.mtimeMs,
+        reason: "unfinished",
+        scanId: r.scanId,
+      };
+      await tx.db
+        .insert(inboxKeptFiles)
+        .values({ inbox: folder, path: file, sha256, detail: input.stillUnfinished, ...kept });
+      r.remembered = kept;
+    }
   };
 
   let result: IntakeResult;
@@ -228,6 +341,7 @@ export async function intakeFile(
         });
       }
       await tx.notify({ kind: "scan", scanId: r.scanId, status: first ? "duplicate" : "queued" });
+      if (input.inbox && before) await rememberInTx(tx, r, staged.sha256, before);
       return r;
     });
     if (!stored) await library.discard(staged);
@@ -262,6 +376,14 @@ export async function intakeFile(
         },
         "intake: the file changed while it was being filed; it stays to be taken in again",
       );
+    } else if (input.stillUnfinished) {
+      // Its writer may yet write the rest: it stays, remembered (in the transaction above), and
+      // is taken in again when it changes.
+      result.kept = "unfinished";
+      deps.log.warn(
+        { scanId: result.scanId, file: input.originalName, reason: input.stillUnfinished },
+        "intake: filed as it is while it still looks unfinished; it stays in the inbox, to be taken in again if its writer finishes it",
+      );
     } else {
       // Filed and recorded: a file that cannot be removed (a folder the service may not write)
       // stays, and is not taken in again while it is unchanged.
@@ -273,6 +395,35 @@ export async function intakeFile(
           { err, scanId: result.scanId, file: input.originalName },
           "intake: filed, but the file could not be removed from the inbox; remove it by hand (it is not taken in again while it is unchanged)",
         );
+        if (input.inbox) {
+          // Remembered after the transaction (a removal cannot be part of it): a stop in between
+          // files it again on the next start, as a duplicate, which loses nothing.
+          const kept: KeptInboxFile = {
+            sizeBytes: before!.size,
+            mtimeMs: before!.mtimeMs,
+            reason: "not-removed",
+            scanId: result.scanId,
+          };
+          await database.db
+            .insert(inboxKeptFiles)
+            .values({
+              inbox: input.inbox.folder,
+              path: input.inbox.path,
+              sha256: staged.sha256,
+              ...kept,
+            })
+            .onConflictDoUpdate({
+              target: [inboxKeptFiles.inbox, inboxKeptFiles.path],
+              set: { ...kept, sha256: staged.sha256, detail: null, keptAt: new Date() },
+            })
+            .then(() => (result.remembered = kept))
+            .catch((e: unknown) =>
+              deps.log.error(
+                { err: e, file: input.originalName },
+                "intake: could not remember the file left in the inbox",
+              ),
+            );
+        }
       }
     }
   }

@@ -10,10 +10,11 @@ import { SNIFF_BYTES, sniff } from "./sniff";
  * null when it looks whole (or is not a scan, or is malformed: that is for the analysis to say,
  * with its reason). A scanner may create its file first and write it only when the pass is done,
  * or pause part-way; such a file must not be taken in, or its rest would go to a file already
- * removed. Opens the file once and reads only headers and, for a JPEG, its last few megabytes.
+ * removed. Opens the file once and reads only headers, a TIFF's strip or tile lists and a JPEG's
+ * marker segments and (a megabyte at a time, never the whole file at once) its scans' data.
  * - empty: 0 bytes.
  * - WebP (RIFF size) and the TIFF IFD0 offset: the header points past the end (inspect.ts).
- * - JPEG: a marker segment runs past the end, or no EOI follows the first SOS header.
+ * - JPEG: a marker segment runs past the end, or the walk from scan to scan ends before EOI.
  * - PNG: a chunk runs past the end before IEND.
  * - TIFF: IFD0, its strip or tile lists, or a strip or tile runs past the end.
  * Example: await looksUnfinished("scan.png") → "the PNG's IDAT chunk runs past its end".
@@ -38,69 +39,88 @@ export async function looksUnfinished(file: string): Promise<string | null> {
 }
 
 // ---------------------------------------------------------------------------------------------
-// JPEG: ITU-T T.81 Annex B.
+// JPEG: ITU-T T.81 Annex B (the interchange format, B.2; its markers, Table B.1) and JFIF 1.02.
 
-/** More marker segments (and fill bytes) than any real header has: stop and say whole. */
+/** More marker segments (and fill bytes) than any real file has: stop and say whole. */
 const JPEG_MAX_SEGMENTS = 65_536;
-/** How far back from its end a JPEG's EOI is looked for (a writer or a tool may append data). */
-const JPEG_EOI_SEARCH_BYTES = 16 * 1024 * 1024;
-/** The EOI search reads this much at a time, from the end backwards. */
-const JPEG_EOI_CHUNK_BYTES = 64 * 1024;
-/** T.81 B.2.1 and Table B.1: EOI, FF D9, ends every JPEG (JFIF) stream. */
-const JPEG_EOI = Buffer.from([0xff, 0xd9]);
+/** Entropy-coded data is read this much at a time (the walk holds one such chunk, never the file). */
+const JPEG_CHUNK_BYTES = 1024 * 1024;
+const JPEG_NO_EOI = "the JPEG has no end-of-image marker after its image data yet";
+
+/** T.81 Table B.1: RST0–RST7, FF D0–D7, the only markers inside entropy-coded data (B.1.1.5). */
+const isRst = (marker: number) => marker >= 0xd0 && marker <= 0xd7;
 
 /**
- * T.81 B.1.1.4: after SOI every marker but TEM (FF 01), RSTn (FF D0–D7), SOI and EOI starts a
- * segment whose 2-byte big-endian length counts itself and its data, so the walk from SOI to the
- * first SOS (FF DA) skips every table and APPn whole, an Exif APP1 holding a JPEG thumbnail (with
- * its own FF D9) included. B.1.1.2: any marker may be preceded by fill bytes FF.
+ * Walks the stream from SOI to EOI the way T.81 B.2 lays it out: frame, then one or more scans,
+ * each preceded by table and miscellaneous segments (B.2.4: DQT, DHT, DAC, DRI, COM, APPn), the
+ * first scan possibly followed by DNL (B.2.5), a progressive file having many scans (G.1.1).
+ * - B.1.1.4: after SOI every marker but TEM (FF 01), RSTn, SOI and EOI starts a segment whose
+ *   2-byte big-endian length counts itself and its data, so a segment is skipped whole: an Exif
+ *   APP1 holding a JPEG thumbnail (with its own FF D9), a COM holding FF D9, a table.
+ * - B.1.1.5 and F.1.2.3: after an SOS segment comes entropy-coded data, where an FF byte is
+ *   followed by 00 (a stuffed byte) or is RSTn (a restart marker); the first FF followed by
+ *   anything else is the next marker, where the walk goes on.
+ * - B.1.1.2: any marker may be preceded by fill bytes FF.
+ * The file is whole once the walk reaches EOI (FF D9; what follows, a trailer or another image, is
+ * not part of the stream); one that ends before is unfinished. Not a marker where one must be, or
+ * a length under 2, is malformed: left to the analysis (null). A stream of tables only (EOI before
+ * any scan, B.5) is whole.
  */
 async function jpegUnfinished(fh: FileHandle, size: number): Promise<string | null> {
   let pos = 2;
+  let scans = 0;
   for (let n = 0; n < JPEG_MAX_SEGMENTS; n++) {
     const h = await readAt(fh, pos, 4);
-    if (h.length < 2) return "the JPEG ends before its image data starts";
+    if (h.length < 2) return scans === 0 ? "the JPEG ends before its image data starts" : JPEG_NO_EOI;
     if (h[0] !== 0xff) return null; // not a marker where one must be: malformed
     const marker = h[1]!;
     if (marker === 0xff) {
       pos += 1; // a fill byte
       continue;
     }
-    if (marker === 0x01 || (marker >= 0xd0 && marker <= 0xd7)) {
+    if (marker === 0xd9) return null; // EOI
+    if (marker === 0x01 || isRst(marker)) {
       pos += 2; // TEM, RSTn: no length
       continue;
     }
-    if (marker === 0x00 || marker === 0xd8 || marker === 0xd9) return null; // malformed, or tables only
+    if (marker === 0x00 || marker === 0xd8) return null; // malformed
     if (h.length < 4) return `the JPEG's FF${hex(marker)} segment runs past its end`;
     const length = h.readUInt16BE(2);
     if (length < 2) return null; // a length counts its own 2 bytes: malformed
     const end = pos + 2 + length;
     if (end > size) return `the JPEG's FF${hex(marker)} segment runs past its end`;
-    if (marker === 0xda) return await jpegEoiAfter(fh, end, size);
     pos = end;
+    if (marker === 0xda) {
+      scans++;
+      const next = await nextMarkerAfterScanData(fh, pos, size);
+      if (next < 0) return JPEG_NO_EOI;
+      pos = next;
+    }
   }
   return null;
 }
 
 /**
- * Whether an EOI lies in [from, size): searched backwards, a chunk at a time, at most
- * JPEG_EOI_SEARCH_BYTES from the end. T.81 B.1.1.5: entropy-coded data never holds FF D9 (an FF
- * there is stuffed as FF 00, and the only markers inside it are RSTn, FF D0–D7), so an FF D9 after
- * the SOS header is the EOI; data after it (a trailer, another image) is fine. In a progressive
- * file the table segments between scans are not skipped: one holding FF D9 could make a cut file
- * look whole, which is rare and only costs the wait.
+ * Where the marker after the entropy-coded data starting at `from` begins (its first FF), or −1
+ * when the file ends first. T.81 B.1.1.5: FF 00 is a stuffed FF and FF D0–D7 a restart marker, both
+ * inside the data; any other byte after an FF ends it. Reads JPEG_CHUNK_BYTES at a time.
  */
-async function jpegEoiAfter(fh: FileHandle, from: number, size: number): Promise<string | null> {
-  const floor = Math.max(from, size - JPEG_EOI_SEARCH_BYTES);
-  let end = size;
-  while (end - floor >= 2) {
-    const start = Math.max(floor, end - JPEG_EOI_CHUNK_BYTES);
-    const chunk = await readAt(fh, start, end - start);
-    if (chunk.includes(JPEG_EOI)) return null;
-    if (start === floor) break;
-    end = start + 1; // one byte of overlap: an FF D9 across two chunks is still seen
+async function nextMarkerAfterScanData(fh: FileHandle, from: number, size: number): Promise<number> {
+  let pos = from;
+  while (pos < size) {
+    const chunk = await readAt(fh, pos, Math.min(JPEG_CHUNK_BYTES, size - pos));
+    if (chunk.length === 0) return -1;
+    let i = chunk.indexOf(0xff);
+    while (i >= 0 && i + 1 < chunk.length) {
+      const next = chunk[i + 1]!;
+      if (next !== 0x00 && !isRst(next)) return pos + i;
+      i = chunk.indexOf(0xff, i + 2);
+    }
+    if (i < 0) pos += chunk.length;
+    else if (chunk.length === 1) return -1; // the file's last byte is an FF: what follows is not there yet
+    else pos += i; // an FF as the chunk's last byte: read again from it, with the byte after it
   }
-  return "the JPEG has no end-of-image marker after its image data yet";
+  return -1;
 }
 
 const hex = (byte: number) => byte.toString(16).toUpperCase().padStart(2, "0");
