@@ -2,8 +2,8 @@ import { cn } from "../lib/cn";
 
 /**
  * A fragment's name on one line in a narrow card. An untitled fragment is named after its scan
- * and position ("bed-07 · 3"); when the line is too short, the scan's name is cut and the
- * position stays in sight, since it is what tells the pieces of one scan apart.
+ * and position ("bed-07 · 3"); when the line is too short, the scan's name is cut in its middle
+ * and its end and the position stay in sight, since they tell the pieces apart.
  */
 export function FragmentName({
   fragment,
@@ -22,10 +22,17 @@ export function FragmentName({
       </span>
     );
   }
+  // Scan names of one session often differ only at their end ("…-bed-01", "…-bed-02"): the cut
+  // goes in the middle, keeping the last few characters beside the position.
+  const tailLength = base.length > 14 ? 6 : 0;
+  const head = base.slice(0, base.length - tailLength);
+  const tail = base.slice(base.length - tailLength);
   return (
     <span className={cn("flex min-w-0", className)} title={full}>
-      <span className="truncate">{base}</span>
-      <span className="shrink-0 whitespace-pre"> · {fragment.position}</span>
+      <span className="truncate">{head}</span>
+      <span className="shrink-0 whitespace-pre">
+        {tail} · {fragment.position}
+      </span>
     </span>
   );
 }

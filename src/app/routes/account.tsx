@@ -1,5 +1,7 @@
+import { Link } from "react-router-dom";
 import { ROLE_DESCRIPTIONS, ROLE_LABELS } from "../../../shared/roles";
 import { PageHeader, Panel } from "../../components/panel";
+import { paths } from "../../config/paths";
 import { NoticeChoices } from "../../features/account/components/notice-choices";
 import { useSessionUser } from "../../lib/authorization";
 
@@ -26,6 +28,20 @@ export function AccountRoute() {
               <dd className="text-ink">
                 {ROLE_LABELS[me.role]}
                 <span className="block text-xs text-ink-muted">{ROLE_DESCRIPTIONS[me.role]}</span>
+              </dd>
+            </div>
+            <div>
+              <dt className="text-xs text-ink-muted">Password</dt>
+              <dd className="text-ink">
+                <Link
+                  to={`${paths.forgotPassword}?email=${encodeURIComponent(me.email)}`}
+                  className="font-medium text-accent underline underline-offset-2 hover:text-accent-strong"
+                >
+                  Choose a new one by e-mail
+                </Link>
+                <span className="block text-xs text-ink-muted">
+                  A link comes to your address; the new password signs you out everywhere else.
+                </span>
               </dd>
             </div>
           </dl>

@@ -93,7 +93,9 @@ function FragmentDetails({
           <h2 className="text-base font-semibold text-ink" data-testid="selected-fragment">
             Fragment <span className="figure">{f.position}</span>{" "}
             <span className="text-sm font-normal text-ink-muted">
-              of <span className="figure">{count}</span>
+              {/* Numbers stay with their piece through merges and draws, so "6 of 5" can happen:
+                  say how many there are instead. */}
+              · <span className="figure">{count}</span> on this scan
             </span>
           </h2>
           <FragmentStatusBadge status={f.status} />

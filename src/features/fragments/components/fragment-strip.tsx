@@ -85,7 +85,10 @@ export function FragmentStrip({
                   {FRAGMENT_STATUS_LABELS[f.status]}
                 </span>
               </span>
-              <span className="figure truncate px-0.5 text-[11px] text-ink-muted">
+              <span
+                className="figure truncate px-0.5 text-[11px] tracking-tighter text-ink-muted"
+                title={formatFragmentSize(f.rect, f.dpi, unit)}
+              >
                 {formatFragmentSize(f.rect, f.dpi, unit)}
               </span>
             </button>

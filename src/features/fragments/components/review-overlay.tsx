@@ -64,6 +64,7 @@ export function ReviewOverlay({
   onClear,
   onPlace,
   onDraw,
+  onDrawTooSmall,
 }: {
   scan: OverlayScan;
   fragments: ShownFragment[];
@@ -78,6 +79,8 @@ export function ReviewOverlay({
   onClear: () => void;
   onPlace: (id: string, before: Placement, after: Placement) => void;
   onDraw: (rect: Rect) => void;
+  /** A draw let go before it was big enough to be a piece (nothing is made: say so). */
+  onDrawTooSmall?: () => void;
 }) {
   const W = scan.width;
   const H = scan.height;
@@ -223,7 +226,9 @@ export function ReviewOverlay({
     if (d.kind === "draw") {
       const rect = drawDraft;
       setDrawDraft(null);
-      if (!cancelled && rect && rect.width >= minDrawPx && rect.height >= minDrawPx) onDraw(rect);
+      if (cancelled) return;
+      if (rect && rect.width >= minDrawPx && rect.height >= minDrawPx) onDraw(rect);
+      else onDrawTooSmall?.();
       return;
     }
     if (d.kind === "pan") {

@@ -97,6 +97,8 @@ export function ReviewWorkspace({
   }
 
   const minDrawPx = (MIN_DRAWN_MM / MM_PER_INCH) * (scan.dpi?.x ?? 300);
+  const sayTooSmall = () =>
+    review.say(`Nothing drawn: drag a rectangle at least ${MIN_DRAWN_MM} mm each way`);
 
   return (
     <div className="flex flex-col gap-3">
@@ -174,7 +176,7 @@ export function ReviewWorkspace({
 
       <div className="grid grid-cols-[minmax(0,1fr)_22rem] gap-3">
         <div className="flex min-w-0 flex-col gap-3">
-          <div className="h-[max(22rem,calc(100vh-24.5rem))]">
+          <div className="relative h-[max(22rem,calc(100vh-24.5rem))]">
             {fragments.length === 0 && !splitting ? (
               <div className="relative size-full">
                 <ReviewOverlay
@@ -191,6 +193,7 @@ export function ReviewWorkspace({
                   onClear={() => {}}
                   onPlace={() => {}}
                   onDraw={review.drawNew}
+                  onDrawTooSmall={sayTooSmall}
                 />
                 {!drawMode && (
                   <p className="absolute inset-x-0 top-4 mx-auto w-fit rounded-md bg-paper-50/95 px-4 py-2 text-sm text-ink-soft shadow">
@@ -217,12 +220,13 @@ export function ReviewWorkspace({
                   setDrawMode(false);
                   review.drawNew(rect);
                 }}
+                onDrawTooSmall={sayTooSmall}
               />
             )}
             {drawMode && (
               <p
                 role="status"
-                className="pointer-events-none relative -mt-10 ml-3 w-fit rounded-md bg-accent px-3 py-1.5 text-xs font-medium text-paper-50 shadow"
+                className="pointer-events-none absolute bottom-3 left-3 max-w-[calc(100%-1.5rem)] rounded-md bg-accent px-3 py-1.5 text-xs font-medium text-paper-50 shadow"
               >
                 Drag a rectangle around the piece the split missed · <Kbd tone="dark">Esc</Kbd> or{" "}
                 <Kbd tone="dark">D</Kbd> to stop

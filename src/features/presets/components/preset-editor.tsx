@@ -1,4 +1,4 @@
-import { useMemo, useState, type FormEvent } from "react";
+import { useEffect, useEffectEvent, useMemo, useRef, useState, type FormEvent } from "react";
 import { Link, useNavigate } from "react-router-dom";
 import { presetSchema, type Preset } from "../../../../shared/schemas/presets";
 import { Ago } from "../../../components/ago";
@@ -72,10 +72,27 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
         widthPx: Math.round(chosen.rect.width),
         heightPx: Math.round(chosen.rect.height),
         dpi: chosen.dpi.x,
-        title: fragmentName(chosen),
+        // The caption's words as the worker sets them in the file: an untitled piece is named
+        // after its scan's file and its number there.
+        title: chosen.title ?? `${chosen.scanName} #${chosen.position}`,
         imageUrl: sampleThumbUrl(chosen),
       }
     : INVENTED_PIECE;
+
+  // Ctrl/Cmd+S saves from anywhere on the page, as in the recipe editor: the Save button sits at
+  // the top and the settings run long.
+  const form = useRef<HTMLFormElement>(null);
+  const onKey = useEffectEvent((event: KeyboardEvent) => {
+    if ((event.ctrlKey || event.metaKey) && !event.altKey && event.key.toLowerCase() === "s") {
+      event.preventDefault();
+      if (dirty && !busy) form.current?.requestSubmit();
+    }
+  });
+  useEffect(() => {
+    const listener = (event: KeyboardEvent) => onKey(event);
+    window.addEventListener("keydown", listener);
+    return () => window.removeEventListener("keydown", listener);
+  }, []);
 
   const save = (event: FormEvent) => {
     event.preventDefault();
@@ -147,7 +164,7 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
   })();
 
   return (
-    <form onSubmit={save} noValidate aria-label={`${KIND_LABELS[draft.kind]} preset`}>
+    <form ref={form} onSubmit={save} noValidate aria-label={`${KIND_LABELS[draft.kind]} preset`}>
       <PageHeader
         title={saved ? saved.name : `New ${KIND_LABELS[draft.kind].toLowerCase()} preset`}
         description={
@@ -166,7 +183,13 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
                 Undo changes
               </Button>
             )}
-            <Button type="submit" variant="primary" busy={busy} disabled={(!ok && !onlyName) || !dirty}>
+            <Button
+              type="submit"
+              variant="primary"
+              busy={busy}
+              disabled={(!ok && !onlyName) || !dirty}
+              title="Ctrl+S"
+            >
               {saved ? "Save as new version" : "Save preset"}
             </Button>
           </>
@@ -198,15 +221,17 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
             title={<span className="whitespace-nowrap">What it makes</span>}
             titleId="preset-picture"
             actions={
-              <span className="flex min-w-0 items-center gap-2">
-                <span aria-hidden="true" className="text-xs whitespace-nowrap text-ink-muted">
+              <span className="flex min-w-[9rem] flex-1 items-center justify-end gap-2">
+                {/* On a narrow window the words give their room to the fragment's name. */}
+                <span aria-hidden="true" className="hidden text-xs whitespace-nowrap text-ink-muted xl:inline">
                   Try on
                 </span>
                 <SelectField
                   label={<span className="sr-only">Try on</span>}
                   value={chosen?.id ?? "invented"}
+                  title="The piece the preset is tried on"
                   onChange={(e) => setSampleId(e.target.value)}
-                  fieldClassName="w-56 min-w-0 shrink"
+                  fieldClassName="w-56 min-w-[7.5rem] shrink"
                   className="h-8 text-xs"
                 >
                   {sampleList.map((f) => (

@@ -174,7 +174,7 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
           )}
           role={warning ? "alert" : undefined}
         >
-          <span className="figure text-base font-semibold">{dpi} DPI</span>
+          <span className="figure shrink-0 text-base font-semibold whitespace-nowrap">{dpi} DPI</span>
           <span className="text-xs">
             {warning ?? `effective resolution as printed: at or above the minimum of ${preset.minDpi} DPI`}
           </span>

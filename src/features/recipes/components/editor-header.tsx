@@ -1,3 +1,4 @@
+import { useEffect, useRef } from "react";
 import { Link } from "react-router-dom";
 import type { RecipeSummary } from "../../../../shared/schemas/recipe-api";
 import { Button } from "../../../components/button";
@@ -35,8 +36,28 @@ export function EditorHeader({
   onApply: () => void;
   onMakeDefault: () => void;
 }) {
+  // The header wraps onto two lines on a narrow window (title and actions side by side no longer
+  // fit): its height goes to --editor-header-h on the page, so the sticky preview beside the steps
+  // starts below it instead of under it.
+  const ref = useRef<HTMLElement>(null);
+  useEffect(() => {
+    const header = ref.current;
+    const host = header?.parentElement;
+    if (!header || !host) return;
+    const set = () => host.style.setProperty("--editor-header-h", `${header.offsetHeight}px`);
+    set();
+    const observer = new ResizeObserver(set);
+    observer.observe(header);
+    return () => {
+      observer.disconnect();
+      host.style.removeProperty("--editor-header-h");
+    };
+  }, []);
   return (
-    <header className="sticky top-0 z-20 -mx-8 -mt-4 mb-4 flex flex-wrap items-end justify-between gap-4 border-b border-paper-300 bg-paper px-8 pt-4 pb-3">
+    <header
+      ref={ref}
+      className="sticky top-0 z-20 -mx-8 -mt-4 mb-4 flex flex-wrap items-end justify-between gap-4 border-b border-paper-300 bg-paper px-8 pt-4 pb-3"
+    >
       <div className="min-w-0">
         <p className="text-xs text-ink-muted">
           <Link to={paths.recipes} className="hover:text-accent hover:underline">

@@ -55,10 +55,13 @@ export function Histogram({ label, bins }: { label: string; bins: Bins }) {
   const white = (bins.l[255] ?? 0) / total;
   return (
     <figure className="flex flex-col gap-1">
-      <figcaption className="flex items-baseline justify-between text-xs">
+      {/* In a narrow preview the figures go under the label, broken between black and white
+          rather than inside a number. */}
+      <figcaption className="flex flex-wrap items-baseline justify-between gap-x-2 text-xs">
         <span className="font-semibold text-ink-soft">{label}</span>
-        <span className="figure text-[11px] text-ink-muted">
-          {(black * 100).toFixed(1)} % black · {(white * 100).toFixed(1)} % white
+        <span className="figure flex flex-wrap gap-x-1 text-[11px] text-ink-muted">
+          <span className="whitespace-nowrap">{(black * 100).toFixed(1)} % black ·</span>
+          <span className="whitespace-nowrap">{(white * 100).toFixed(1)} % white</span>
         </span>
       </figcaption>
       <svg
@@ -103,7 +106,10 @@ export function Histogram({ label, bins }: { label: string; bins: Bins }) {
 
 export function HistogramLegend() {
   return (
-    <p className="flex items-center gap-3 text-[11px] text-ink-muted" aria-hidden="true">
+    <p
+      className="flex flex-wrap items-center gap-x-3 gap-y-1 text-[11px] text-ink-muted"
+      aria-hidden="true"
+    >
       {CHANNELS.map((c) => (
         <span key={c.key} className="inline-flex items-center gap-1">
           <span
@@ -117,7 +123,7 @@ export function HistogramLegend() {
         <span className="h-0.5 w-3 bg-ink" />
         luminance
       </span>
-      <span className="ml-auto figure">0 → 255</span>
+      <span className="figure ml-auto whitespace-nowrap">0 → 255</span>
     </p>
   );
 }

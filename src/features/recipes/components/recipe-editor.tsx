@@ -256,7 +256,7 @@ export function RecipeEditor({
             />
           </Panel>
         </div>
-        <div className="flex flex-col gap-4 lg:sticky lg:top-[7.5rem] lg:max-h-[calc(100vh-8.5rem)] lg:overflow-y-auto">
+        <div className="flex flex-col gap-4 lg:sticky lg:top-[calc(var(--editor-header-h,6.5rem)+1rem)] lg:max-h-[calc(100vh-var(--editor-header-h,6.5rem)-2rem)] lg:overflow-y-auto">
           {batchId && <BatchProgress batchId={batchId} queueHref={paths.queue} />}
           <Panel title="Preview" titleId="preview-title">
             <PreviewPane

@@ -228,10 +228,12 @@ export function ScansTable({
                 <ScanThumb scan={scan} />
               </td>
               <td className="px-3 py-2">
+                {/* Names often differ only at their end ("…-bed-01", "…-bed-02"): wrap onto a
+                    second line rather than cut the end off. */}
                 <Link
                   to={paths.scan(scan.id)}
                   tabIndex={-1}
-                  className="block truncate font-medium text-ink hover:text-accent hover:underline"
+                  className="line-clamp-2 font-medium [overflow-wrap:anywhere] text-ink hover:text-accent hover:underline"
                   title={scan.originalName}
                 >
                   {scan.originalName}
@@ -239,14 +241,18 @@ export function ScansTable({
                 <span className="block truncate text-xs text-ink-muted">
                   <span className="sr-only">Intake: </span>
                   <span title={`Intake: ${scan.intake.name}`}>{scan.intake.name}</span>
-                  {scan.duplicateOf && (
-                    <>
-                      {" "}
-                      · same as {scan.duplicateOf.originalName}
-                      {scan.duplicateOf.status === "failed" && <span className="text-brick">, which failed</span>}
-                    </>
-                  )}
                 </span>
+                {scan.duplicateOf && (
+                  <span
+                    className="mt-0.5 block text-xs leading-4 [overflow-wrap:anywhere] text-ink-muted"
+                    data-testid="scan-row-duplicate-of"
+                  >
+                    Same file as <span className="text-ink-soft">{scan.duplicateOf.originalName}</span>
+                    {scan.duplicateOf.status === "failed" ? (
+                      <span className="text-brick">, which failed</span>
+                    ) : null}
+                  </span>
+                )}
               </td>
               <td className={cn("figure px-3 py-2 text-xs whitespace-nowrap text-ink-soft", WIDE_ONLY)}>
                 {pixels ?? <Dash />}
