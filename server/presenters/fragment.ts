@@ -8,6 +8,14 @@ type ScanRow = Pick<typeof scans.$inferSelect, "id" | "originalName" | "dpiX" | 
 
 const round = (v: number, d = 2) => Math.round(v * 10 ** d) / 10 ** d;
 
+/**
+ * The title a batch copy carries (and its print caption shows): the fragment's own, or its scan's
+ * name and number. The preset preview uses the same, so its picture shows the file's words.
+ */
+export function outputTitle(title: string | null, scanName: string | undefined, position: number): string {
+  return title ?? `${scanName ?? "scan"} #${position}`;
+}
+
 /** What a download of this output is called: the scan's name, the fragment's number, the kind. */
 export function outputFileName(scanName: string, position: number, kind: string, format: string): string {
   const stem = scanName.replace(/\.[^.]+$/, "").replace(/[^\w.-]+/g, "-").slice(0, 80) || "scan";

@@ -2,7 +2,9 @@ import path from "node:path";
 import sharp from "sharp";
 import { and, eq } from "drizzle-orm";
 import type { Db } from "../db";
-import { fragments, outputs } from "../db/schema";
+import { fragments, outputs, scans } from "../db/schema";
+import { outputTitle } from "../presenters/fragment";
+import { studioRights } from "./studio";
 import type { Storage } from "../storage/storage";
 import { badRequest, conflict, notFound } from "../errors";
 import type { Preset } from "../../shared/schemas/presets";
@@ -27,6 +29,9 @@ export async function previewPreset(
     .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
   if (!master)
     throw conflict("This fragment has no master yet: approve it and wait for its render.");
+  const [scan] = await db.select({ name: scans.originalName }).from(scans).where(eq(scans.id, f.scanId));
+  // The words and rights the batch's file would carry.
+  const rights = await studioRights(db);
   return library.withScratch(async (dir) => {
     const target = path.join(dir, `preview.${outputExtension(input.settings)}`);
     try {
@@ -35,7 +40,8 @@ export async function previewPreset(
           {
             master: masterPath,
             dpi: master.dpi,
-            title: f.title ?? `Fragment ${f.position}`,
+            title: outputTitle(f.title, scan?.name, f.position),
+            ...rights,
             shape: f.shape,
           },
           input.settings,

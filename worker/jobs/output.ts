@@ -8,6 +8,7 @@ import { notify } from "../../server/services/events";
 import { closeIfSettled, settleBatchItem } from "../../server/services/batches";
 import { dedupeKey } from "../../server/services/output-batches";
 import { studioRights } from "../../server/services/studio";
+import { outputTitle } from "../../server/presenters/fragment";
 import type { Storage } from "../../server/storage/storage";
 import { isStorageError } from "../../server/storage/storage";
 import type { Logger } from "../../server/logger";
@@ -117,7 +118,7 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
           {
             master: masterPath,
             dpi: master.dpi,
-            title: f.title ?? `${scan?.name ?? "scan"} #${f.position}`,
+            title: outputTitle(f.title, scan?.name, f.position),
             ...rights,
             shape: f.shape,
             maxPixels: deps.config.maxPixels,
