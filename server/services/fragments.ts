@@ -319,8 +319,19 @@ export async function unmergeFragment(database: Database, boss: PgBoss, actor: A
   const scanId = await withTx(database, boss, async (tx) => {
     const row = await loadRow(tx.db, id, actor.role);
     if (row.origin !== "merged") throw conflict("This fragment was not made by a merge.");
-    const back = await tx.db.update(fragments).set({ mergedInto: null, updatedAt: new Date() }).where(eq(fragments.mergedInto, id)).returning({ id: fragments.id });
+    const back = await tx.db.update(fragments).set({ mergedInto: null, updatedAt: new Date() }).where(eq(fragments.mergedInto, id)).returning();
     await tx.db.delete(fragments).where(eq(fragments.id, id));
+    // An approved piece comes back rendered only if its master is of its revision: one whose scan
+    // got a new resolution while it was merged away (a new revision), or whose render was passed
+    // over because it was merged, renders now.
+    for (const b of back) {
+      if (b.status !== "approved") continue;
+      const [master] = await tx.db
+        .select({ id: outputs.id })
+        .from(outputs)
+        .where(and(eq(outputs.fragmentId, b.id), eq(outputs.kind, "master"), eq(outputs.revision, b.revision)));
+      if (!master || b.renderState !== "done") await queueRender(tx, b);
+    }
     const scan = await scanOf(tx.db, row.scanId);
     await recordAudit(tx, {
       action: "fragment.unmerge",

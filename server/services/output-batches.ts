@@ -14,6 +14,7 @@ import { outputFileName } from "../presenters/fragment";
 import { recordAudit } from "./audit";
 import { madeFromVisibleTo } from "./fragments";
 import { studioRights } from "./studio";
+import { rightsCarried } from "../../worker/pipeline/output";
 import type { Role } from "../../shared/roles";
 import { estimateOutputBytes, type MasterFacts } from "./output-estimate";
 import { dpiWarning, placePiece, printPage } from "../../shared/paper";
@@ -36,8 +37,9 @@ export async function selectFragments(db: Db, selection: CreateBatchBody["select
 
 /**
  * What identifies an output: the same fragment revision, recipe version and preset version, with
- * the same studio creator and copyright written into it, give the same file. Outputs made with
- * neither keep the key they had before those settings existed.
+ * the same studio creator and copyright written into it (`rightsCarried` of the preset: only what
+ * the file carries), give the same file. Outputs that carry neither keep the key they had before
+ * those settings existed.
  */
 export const dedupeKey = (fragmentId: string, revision: number, recipeVersionId: string, presetVersionId: string, rights: { creator?: string; copyright?: string } = {}) =>
   `${fragmentId}:r${revision}:${recipeVersionId}:${presetVersionId}${rightsTag(rights)}`;
@@ -94,7 +96,8 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
           // Settings that leave no print area: the output itself fails with the reason.
         }
       }
-      const [made] = await db.select({ id: outputs.id }).from(outputs).where(eq(outputs.dedupeKey, dedupeKey(f.id, f.revision, recipe.id, p.versionId, rights)));
+      const key = dedupeKey(f.id, f.revision, recipe.id, p.versionId, rightsCarried(p.settings, rights));
+      const [made] = await db.select({ id: outputs.id }).from(outputs).where(eq(outputs.dedupeKey, key));
       if (made) reused++;
       else expectedBytes += estimateOutputBytes(facts.get(f.id)!, p.settings);
     }

@@ -1,4 +1,4 @@
-import { and, asc, count, desc, eq, ilike, isNull, ne, or, type SQL } from "drizzle-orm";
+import { and, asc, count, desc, eq, ilike, ne, or, type SQL } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
@@ -117,9 +117,12 @@ function dpiText(x: number | null, y: number | null): string {
 /**
  * Sets the resolution a scan was made at, for a file that records none or a wrong one (programs
  * that know none often write 72). Pieces already rendered are rendered again with it (their masters
- * carry the resolution, and print copies are laid out from it); each gets a new revision, so batch
- * copies made before are not reused for it. Copies already made stay as they are until their batch
- * is run again. The file itself is never touched.
+ * carry the resolution, web copies record it and mock-ups are sized from it); each gets a new revision, so batch
+ * copies made before are not reused for it. Pieces merged into another get a new revision too
+ * (their masters carry the old figure), and render again when the merge is taken back. The same
+ * figures as before only change the source to "set": the files would not change, so nothing is
+ * rendered again and batch copies stay reusable. Copies already made stay as they are until their
+ * batch is run again. The file itself is never touched.
  */
 export async function setScanResolution(database: Database, boss: PgBoss, id: string, body: SetResolutionBody) {
   const x = body.x;
@@ -134,15 +137,20 @@ export async function setScanResolution(database: Database, boss: PgBoss, id: st
           : `A resolution can be set on a ready scan; this one is ${row.status}.`,
       );
     if (row.dpiX === x && row.dpiY === y && row.dpiSource === "set") return;
+    const figuresChanged = row.dpiX !== x || row.dpiY !== y;
     await tx.db
       .update(scans)
       .set({ dpiX: x, dpiY: y, dpiSource: "set", resolutionOrigin: null, updatedAt: new Date() })
       .where(eq(scans.id, id));
     // Pieces with a master (or about to get one) get a new revision; approved ones render again.
-    const touched = await tx.db
-      .select()
-      .from(fragments)
-      .where(and(eq(fragments.scanId, id), isNull(fragments.mergedInto), or(eq(fragments.status, "approved"), ne(fragments.renderState, "none"))));
+    // Merged-away pieces too: an unmerge brings them back as they were, and must not bring back
+    // masters at the old figure as current.
+    const touched = figuresChanged
+      ? await tx.db
+          .select()
+          .from(fragments)
+          .where(and(eq(fragments.scanId, id), or(eq(fragments.status, "approved"), ne(fragments.renderState, "none"))))
+      : [];
     let rerendered = 0;
     for (const f of touched) {
       const [next] = await tx.db
@@ -150,7 +158,7 @@ export async function setScanResolution(database: Database, boss: PgBoss, id: st
         .set({ revision: f.revision + 1, updatedAt: new Date() })
         .where(eq(fragments.id, f.id))
         .returning();
-      if (next!.status === "approved") {
+      if (next!.status === "approved" && next!.mergedInto == null) {
         await queueRender(tx, next!);
         rerendered++;
       }

@@ -121,8 +121,20 @@ const setDpi = z
   .number({ error: "Expected the resolution as a number of dots per inch" })
   .min(SET_DPI_MIN, { error: `Expected a resolution of at least ${SET_DPI_MIN} DPI` })
   .max(SET_DPI_MAX, { error: `Expected a resolution of at most ${SET_DPI_MAX} DPI` })
-  .refine((v) => Math.round(v * 100) === v * 100, { error: "Expected at most two decimals" });
+  // v × 100 is not exact in binary (64.1 × 100 = 6409.999…): within a millionth of a whole number.
+  .refine((v) => Math.abs(v * 100 - Math.round(v * 100)) < 1e-6, { error: "Expected at most two decimals" });
 
-/** PATCH /api/scans/:id/resolution: the DPI the scan was made at (y defaults to x). */
-export const setResolutionBody = z.strictObject({ x: setDpi, y: setDpi.optional() });
+/**
+ * How far the two axes may differ, relative to the larger: the same tolerance the render allows
+ * (worker/pipeline/render/index.ts, DPI_TOLERANCE), since turning a piece upright needs square pixels.
+ */
+export const SET_DPI_SQUARE_TOLERANCE = 0.005;
+
+/** PATCH /api/scans/:id/resolution: the DPI the scan was made at (y defaults to x; square pixels only). */
+export const setResolutionBody = z
+  .strictObject({ x: setDpi, y: setDpi.optional() })
+  .refine((b) => b.y === undefined || Math.abs(b.x - b.y) <= SET_DPI_SQUARE_TOLERANCE * Math.max(b.x, b.y), {
+    error: "Expected the same resolution across and down: pieces are turned upright on square pixels, so a scan made at two resolutions cannot be rendered. Leave y out to use x for both.",
+    path: ["y"],
+  });
 export type SetResolutionBody = z.infer<typeof setResolutionBody>;

@@ -18,6 +18,7 @@ function dpiText(info: ScanInfo): string {
     x === y ? `${formatNumber(x)} DPI` : `${formatNumber(x)} × ${formatNumber(y)} DPI (x × y)`;
   if (source === "assumed")
     return `${value}, assumed: the file records none (studio default, PLATEN_DEFAULT_DPI)`;
+  if (source === "set") return `${value}, set by hand (in place of the file's)`;
   return `${value}, embedded (${origin ? ORIGIN_LABEL[origin] : "file"})`;
 }
 

@@ -75,7 +75,7 @@ export function formatSplit(result: SplitResult): string {
     (dpi.x === dpi.y
       ? `${formatNumber(dpi.x)} DPI`
       : `${formatNumber(dpi.x)} × ${formatNumber(dpi.y)} DPI`) +
-    (dpi.source === "assumed" ? ", assumed (the file records none)" : ", embedded");
+    (dpi.source === "assumed" ? ", assumed (the file records none)" : dpi.source === "set" ? ", set by hand (in place of the file's)" : ", embedded");
   const [r, g, b] = result.background.rgb;
   const lines = [
     `file         ${path.resolve(result.file)}`,

@@ -8,14 +8,13 @@ import { notify } from "../../server/services/events";
 import { closeIfSettled, settleBatchItem } from "../../server/services/batches";
 import { dedupeKey } from "../../server/services/output-batches";
 import { studioRights } from "../../server/services/studio";
-import { outputTitle } from "../../server/presenters/fragment";
 import type { Storage } from "../../server/storage/storage";
 import { isStorageError } from "../../server/storage/storage";
 import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
 import { outputPayload } from "../../shared/schemas/jobs";
 import { presetSchema } from "../../shared/schemas/presets";
-import { isOutputError, outputExtension, renderOutput } from "../pipeline/output";
+import { isOutputError, outputExtension, renderOutput, rightsCarried } from "../pipeline/output";
 import type { JobContext } from "./context";
 
 export interface OutputDeps {
@@ -69,9 +68,11 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     throw new Error("waiting for the fragment's master to be rendered");
   }
   await settleBatchItem(db, batchItemId, "running");
-  // The studio's creator and copyright as this output is made: part of what identifies it.
+  // The studio's creator and copyright as this output is made: the ones its file carries are part
+  // of what identifies it (a print copy carries neither, so a change of them reuses it).
+  const parsed = presetSchema.safeParse(pv.settings);
   const rights = await studioRights(db);
-  const key = dedupeKey(f.id, f.revision, master.recipeVersionId ?? "none", pv.id, rights);
+  const key = dedupeKey(f.id, f.revision, master.recipeVersionId ?? "none", pv.id, parsed.success ? rightsCarried(parsed.data, rights) : rights);
   const [made] = await db.select().from(outputs).where(eq(outputs.dedupeKey, key));
   // Reused: linked only while the output row still stands (locked against a replacing re-run
   // retiring it at this moment); gone, it is made again below.
@@ -96,7 +97,6 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     await notify(pool, { kind: "worker" });
     return log.info("output: reused");
   }
-  const parsed = presetSchema.safeParse(pv.settings);
   if (!parsed.success)
     return fail(
       `The preset's saved settings are no longer valid: ${parsed.error.issues[0]?.message ?? "unknown"}. Save the preset again, then retry.`,
@@ -118,7 +118,7 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
           {
             master: masterPath,
             dpi: master.dpi,
-            title: outputTitle(f.title, scan?.name, f.position),
+            title: f.title ?? `${scan?.name ?? "scan"} #${f.position}`,
             ...rights,
             shape: f.shape,
             maxPixels: deps.config.maxPixels,

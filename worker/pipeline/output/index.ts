@@ -11,6 +11,7 @@ import type { FragmentShape } from "../../../shared/schemas/fragments";
 import { CM_PER_INCH } from "../../../shared/units";
 import { commitStaged, discardStaged, stage, writeStaged } from "../render/staging";
 import { addTiffFields, type TiffField } from "../render/tiff-tags";
+import { cleanRights } from "../render/rights";
 import { OutputError, isOutputError } from "./errors";
 import { renderMaster } from "./master";
 import { renderMockup } from "./mockup";
@@ -36,6 +37,25 @@ export interface OutputInput {
   shape?: FragmentShape;
   /** Largest source accepted, pixels (default 1 gigapixel; the worker passes PLATEN_MAX_PIXELS). */
   maxPixels?: number;
+}
+
+/**
+ * The creator and copyright an output of `preset` writes into its file, of the studio's `rights`:
+ * a master writes both, a web copy those its preset keeps (`keep`), a print copy and a mock-up
+ * neither (a print carries only the piece's title, in its caption and description). An output's
+ * dedupe key covers these and only these, so a change of the studio's rights remakes the outputs
+ * that carry them and reuses the rest. Keep it in step with renderOutput below.
+ * Example: (web preset keeping only the copyright, { creator: "A", copyright: "B" }) → { copyright: "B" }.
+ */
+export function rightsCarried(preset: Preset, rights: { creator?: string; copyright?: string }): { creator?: string; copyright?: string } {
+  const { creator, copyright } = cleanRights(rights);
+  const keep =
+    preset.kind === "master"
+      ? { creator: true, copyright: true }
+      : preset.kind === "web"
+        ? { creator: preset.keep.creator, copyright: preset.keep.copyright }
+        : { creator: false, copyright: false };
+  return { ...(keep.creator && creator ? { creator } : {}), ...(keep.copyright && copyright ? { copyright } : {}) };
 }
 
 export interface OutputReport {
