@@ -55,7 +55,7 @@ function StudioForm({ saved }: { saved: StudioSettings }) {
   const [formError, setFormError] = useState<string | null>(null);
 
   const changed =
-    name !== saved.name ||
+    name.trim() !== saved.name ||
     dpi !== String(saved.defaultDpi) ||
     creator.trim() !== (saved.creator ?? "") ||
     copyright.trim() !== (saved.copyright ?? "");

@@ -105,7 +105,7 @@ export function SetResolution({ scan }: { scan: Scan }) {
         </p>
       ) : (
         <p id={`${id}-hint`} className="text-xs text-ink-muted">
-          Sizes, masters and print copies follow it; the file itself is not changed. Approved pieces are rendered
+          Sizes, masters, web copies and mock-ups follow it; the file itself is not changed. Approved pieces are rendered
           again; batch copies made before keep the old figure until their batch runs again.
         </p>
       )}
