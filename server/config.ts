@@ -65,6 +65,12 @@ const envSchema = z.object({
   PLATEN_MAINTENANCE_SECONDS: int(1, 3600).default(30),
   /** Hours between the worker's tidies of the library's left-over files (0 = only when an admin asks). */
   PLATEN_TIDY_EVERY_HOURS: int(0, 8760).default(24),
+  /**
+   * Hours between each process's sweeps of what stopped processes left unfinished on its own
+   * machine (temp files, staged copies, scratch folders, cut-off uploads and downloads older than
+   * the tidy's grace period), the first at start (0 = none: only the library's tidy removes them).
+   */
+  PLATEN_UNFINISHED_SWEEP_HOURS: z.coerce.number().min(0).max(168).default(1),
   PLATEN_INBOX_STABLE_MS: int(50, 600_000).default(2000),
   PLATEN_INBOX_POLL_MS: int(10, 60_000).default(250),
   /**
@@ -178,6 +184,7 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
     jobExpireSeconds: e.PLATEN_JOB_EXPIRE_SECONDS,
     maintenanceSeconds: e.PLATEN_MAINTENANCE_SECONDS,
     tidyEveryHours: e.PLATEN_TIDY_EVERY_HOURS,
+    unfinishedSweepHours: e.PLATEN_UNFINISHED_SWEEP_HOURS,
     inboxStableMs: e.PLATEN_INBOX_STABLE_MS,
     inboxPollMs: e.PLATEN_INBOX_POLL_MS,
     inboxUnfinishedMs: e.PLATEN_INBOX_UNFINISHED_SECONDS * 1000,

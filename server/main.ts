@@ -4,6 +4,8 @@ import { logger } from "./logger";
 import { openDatabase } from "./db";
 import { startBoss } from "./jobs/boss";
 import { openOffsite, openStorage } from "./storage";
+import { startUnfinishedSweep } from "./storage/sweep";
+import { TIDY_GRACE_HOURS } from "./services/library-tidy";
 import { createHub } from "./services/hub";
 import { sessionSecret } from "./services/bootstrap";
 import { createApp } from "./app";
@@ -15,10 +17,13 @@ sharp.cache(false);
 async function main() {
   const cfg = config();
   const log = logger;
-  const database = openDatabase(cfg.databaseUrl);
-  const boss = await startBoss({ url: cfg.databaseUrl, log, supervise: true });
   const library = openStorage(cfg);
   log.info({ library: library.description }, "library");
+  // What a stop left half-written on this machine (uploads cut off, staged copies) goes at start
+  // and every hour, database or not: an admin's tidy is not the only way it goes.
+  const sweep = startUnfinishedSweep(library, { everyHours: cfg.unfinishedSweepHours, graceHours: TIDY_GRACE_HOURS, log });
+  const database = openDatabase(cfg.databaseUrl);
+  const boss = await startBoss({ url: cfg.databaseUrl, log, supervise: true });
   const hub = createHub(database.pool, log);
   const app = createApp({ config: cfg, database, boss, library, offsite: openOffsite(cfg), log, hub, sessionSecret: sessionSecret(cfg) });
   const server = app.listen(cfg.port, cfg.host, () => {
@@ -34,6 +39,7 @@ async function main() {
     if (stopping) return;
     stopping = true;
     log.info({ signal }, "server stopping");
+    void sweep.stop();
     server.closeAllConnections();
     server.close();
     await hub.close();

@@ -4,6 +4,8 @@ import { logger } from "../server/logger";
 import { openDatabase } from "../server/db";
 import { startBoss } from "../server/jobs/boss";
 import { openOffsite, openStorage } from "../server/storage";
+import { startUnfinishedSweep } from "../server/storage/sweep";
+import { TIDY_GRACE_HOURS } from "../server/services/library-tidy";
 import { startWorker } from "./worker";
 import { holdToCpus } from "./cpu-affinity";
 import { formatCpuList } from "../shared/cpu-list";
@@ -39,14 +41,20 @@ async function main() {
   process.on("SIGTERM", () => stop("SIGTERM"));
   process.on("SIGINT", () => stop("SIGINT"));
 
+  const library = openStorage(cfg);
+  // This machine's scratch (the library client's, the off-site client's, their downloads) is
+  // swept of what a stop left there at start and every hour, whether or not this worker takes
+  // the library's tidy: with the library on S3 every worker machine has scratch of its own.
+  const sweep = startUnfinishedSweep(library, { everyHours: cfg.unfinishedSweepHours, graceHours: TIDY_GRACE_HOURS, log });
   const database = openDatabase(cfg.databaseUrl, cfg.workerConcurrency + 2);
   const boss = await startBoss({ url: cfg.databaseUrl, log, supervise: true });
-  const worker = await startWorker({ config: cfg, database, boss, library: openStorage(cfg), offsite: openOffsite(cfg), log });
+  const worker = await startWorker({ config: cfg, database, boss, library, offsite: openOffsite(cfg), log });
   let stopping = false;
   stop = (signal: string) => {
     if (stopping) return;
     stopping = true;
     log.info({ signal }, "worker stopping: finishing the job in hand");
+    void sweep.stop();
     void worker
       .stop()
       .then(() => database.close())

@@ -54,6 +54,9 @@ export async function testEnvironment(extra: Record<string, string> = {}) {
     PLATEN_MAINTENANCE_SECONDS: "1",
     // The daily tidy would run at a random moment of a test; the tidy test asks for it itself.
     PLATEN_TIDY_EVERY_HOURS: "0",
+    // Nor would a process spawned here sweep old unfinished writes a test plants for the tidy to
+    // find; the sweep's own test turns it on.
+    PLATEN_UNFINISHED_SWEEP_HOURS: "0",
     PLATEN_SESSION_SECRET: "test-secret-test-secret-test-secret-0123",
     PLATEN_DEMO: "0",
     PLATEN_BCRYPT_COST: "4",
