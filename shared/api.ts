@@ -1,6 +1,7 @@
 import type { ZodType } from "zod";
 import type { Access } from "./roles";
 import { loginBody } from "./schemas/auth";
+import { changePasswordBody, renameSelfBody } from "./schemas/account";
 import { auditIdParams, auditListQuery } from "./schemas/audit";
 import {
   acceptInvitationBody,
@@ -117,6 +118,14 @@ export const API = {
     mutates: true,
     params: idParams,
     body: setResolutionBody,
+  }),
+  // Undoes the above: the file's own figure again (or the studio's assumed one when it has none).
+  scansRestoreResolution: route({
+    method: "DELETE",
+    path: "/api/scans/:id/resolution",
+    access: "operator",
+    mutates: true,
+    params: idParams,
   }),
 
   scanFragments: route({
@@ -321,6 +330,9 @@ export const API = {
   }),
   noticesGet: route({ method: "GET", path: "/api/account/notices", access: "viewer", mutates: false }),
   noticesUpdate: route({ method: "PATCH", path: "/api/account/notices", access: "viewer", mutates: true, body: updateNoticesBody }),
+  // Signed in, any role: a new password (the current one first; other sessions end) and one's own name.
+  passwordChange: route({ method: "POST", path: "/api/account/password", access: "viewer", mutates: true, body: changePasswordBody }),
+  nameUpdate: route({ method: "PATCH", path: "/api/account/name", access: "viewer", mutates: true, body: renameSelfBody }),
   // Only while mail goes to the project's local SMTP fake; 404 otherwise.
   mailboxList: route({ method: "GET", path: "/api/dev/mailbox", access: "admin", mutates: false }),
   mailboxGet: route({ method: "GET", path: "/api/dev/mailbox/:id", access: "admin", mutates: false, params: mailboxIdParams }),

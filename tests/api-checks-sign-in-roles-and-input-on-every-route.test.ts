@@ -110,6 +110,11 @@ function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supert
       return req.send({ email: "nobody@test.example" });
     case "passwordResetComplete":
       return req.send({ token: "A".repeat(43), password: "a-long-password" });
+    case "passwordChange":
+      // A wrong current password: past the role check, changes nothing.
+      return req.send({ currentPassword: "not-the-password", newPassword: "a-long-new-password" });
+    case "nameUpdate":
+      return req.send({ name: `Renamed ${++counter}` });
     case "noticesUpdate":
       return req.send({ scanFailed: counter++ % 2 === 0 });
     case "mailboxGet":

@@ -192,6 +192,24 @@ describe("every change a person makes is on the trail, with who, what and before
     expect(rows).toEqual([]);
   });
 
+  it(`${route("passwordChange")}: a new password while signed in, never the password itself`, async () => {
+    const changer = await userAgent(stack, "viewer", "changer@test.example");
+    const { rows } = await audited(() =>
+      changer.post("/api/account/password").send({ currentPassword: "viewer-password-123", newPassword: "changer-new-password-4" }),
+    );
+    const row = only(rows, "auth.password_change");
+    expect(row).toMatchObject({ actorEmail: "changer@test.example", subjectType: "user", before: null, after: { signedOutElsewhere: 0 } });
+    expect(row.subjectId).toBe(row.actorId);
+    expect(JSON.stringify(rows)).not.toContain("changer-new-password-4");
+  });
+
+  it(`${route("nameUpdate")}: one's own name, before and after`, async () => {
+    let { rows } = await audited(() => viewer.patch("/api/account/name").send({ name: "Noor Haddad" }));
+    expect(only(rows, "account.rename")).toMatchObject({ actorId: ids.viewer, subjectId: ids.viewer, before: { name: "Test viewer" }, after: { name: "Noor Haddad" } });
+    ({ rows } = await audited(() => viewer.patch("/api/account/name").send({ name: "Noor Haddad" })));
+    expect(rows).toEqual([]);
+  });
+
   it(`${route("intakesCreate")}: a new scanning session`, async () => {
     const { res, rows } = await audited(() => operator.post("/api/intakes").send({ name: "Spring collage session" }), 201);
     ids.intake = res.body.intake.id;
@@ -232,6 +250,20 @@ describe("every change a person makes is on the trail, with who, what and before
       before: { dpiX: dpi.x, dpiY: dpi.y, dpiSource: dpi.source },
       after: { dpiX: dpi.x, dpiY: dpi.y, dpiSource: "set" },
     });
+  });
+
+  it(`${route("scansRestoreResolution")}: going back to the file's figure records the hand-set one before`, async () => {
+    const dpi = (await operator.get(`/api/scans/${ids.scan}`)).body.scan.dpi;
+    let { rows } = await audited(() => operator.delete(`/api/scans/${ids.scan}/resolution`));
+    expect(only(rows, "scan.resolution")).toMatchObject({
+      actorId: ids.operator,
+      subjectId: ids.scan,
+      before: { dpiX: dpi.x, dpiY: dpi.y, dpiSource: "set" },
+      after: { dpiX: 300, dpiY: 300, dpiSource: "embedded" },
+    });
+    // Nothing set by hand any more: asking again writes nothing.
+    ({ rows } = await audited(() => operator.delete(`/api/scans/${ids.scan}/resolution`)));
+    expect(rows).toEqual([]);
   });
 
   it(`${route("fragmentsUpdate")}: approve, reject and edits, each with only what changed`, async () => {

@@ -113,6 +113,13 @@ export const scans = pgTable(
     dpiY: real("dpi_y"),
     dpiSource: dpiSourceEnum("dpi_source"),
     resolutionOrigin: text("resolution_origin"),
+    /**
+     * What the file itself records (null: none), kept when an operator sets the resolution by hand
+     * so the scan can go back to it.
+     */
+    fileDpiX: real("file_dpi_x"),
+    fileDpiY: real("file_dpi_y"),
+    fileResolutionOrigin: text("file_resolution_origin"),
     previewKey: text("preview_key"),
     thumbKey: text("thumb_key"),
     recipeId: uuid("recipe_id"),

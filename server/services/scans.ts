@@ -127,6 +127,33 @@ function dpiText(x: number | null, y: number | null): string {
 export async function setScanResolution(database: Database, boss: PgBoss, id: string, body: SetResolutionBody) {
   const x = body.x;
   const y = body.y ?? body.x;
+  return changeResolution(database, boss, id, () => ({ x, y, source: "set", origin: null }));
+}
+
+/**
+ * Goes back to the resolution the scan's file records, or, when it records none, to the studio's
+ * assumed resolution as it is now: undoes a resolution set by hand. A scan not set by hand stays.
+ */
+export async function restoreScanResolution(database: Database, boss: PgBoss, id: string, defaultDpi: number) {
+  return changeResolution(database, boss, id, (row) =>
+    row.dpiSource !== "set"
+      ? null
+      : row.fileDpiX != null && row.fileDpiY != null
+        ? { x: row.fileDpiX, y: row.fileDpiY, source: "embedded", origin: row.fileResolutionOrigin }
+        : { x: defaultDpi, y: defaultDpi, source: "assumed", origin: null },
+  );
+}
+
+type ScanRow = typeof scans.$inferSelect;
+interface Resolution {
+  x: number;
+  y: number;
+  source: NonNullable<ScanRow["dpiSource"]>;
+  origin: string | null;
+}
+
+/** One resolution change on a ready scan: new revisions for pieces with masters, renders, audit. */
+async function changeResolution(database: Database, boss: PgBoss, id: string, next: (row: ScanRow) => Resolution | null) {
   await withTx(database, boss, async (tx) => {
     const [row] = await tx.db.select().from(scans).where(eq(scans.id, id)).for("update");
     if (!row) throw notFound("That scan");
@@ -136,11 +163,14 @@ export async function setScanResolution(database: Database, boss: PgBoss, id: st
           ? "This scan is still being read; set its resolution once it is ready."
           : `A resolution can be set on a ready scan; this one is ${row.status}.`,
       );
-    if (row.dpiX === x && row.dpiY === y && row.dpiSource === "set") return;
+    const to = next(row);
+    if (!to) return;
+    const { x, y } = to;
+    if (row.dpiX === x && row.dpiY === y && row.dpiSource === to.source && row.resolutionOrigin === to.origin) return;
     const figuresChanged = row.dpiX !== x || row.dpiY !== y;
     await tx.db
       .update(scans)
-      .set({ dpiX: x, dpiY: y, dpiSource: "set", resolutionOrigin: null, updatedAt: new Date() })
+      .set({ dpiX: x, dpiY: y, dpiSource: to.source, resolutionOrigin: to.origin, updatedAt: new Date() })
       .where(eq(scans.id, id));
     // Pieces with a master (or about to get one) get a new revision; approved ones render again.
     // Merged-away pieces too: an unmerge brings them back as they were, and must not bring back
@@ -153,23 +183,29 @@ export async function setScanResolution(database: Database, boss: PgBoss, id: st
       : [];
     let rerendered = 0;
     for (const f of touched) {
-      const [next] = await tx.db
+      const [bumped] = await tx.db
         .update(fragments)
         .set({ revision: f.revision + 1, updatedAt: new Date() })
         .where(eq(fragments.id, f.id))
         .returning();
-      if (next!.status === "approved" && next!.mergedInto == null) {
-        await queueRender(tx, next!);
+      if (bumped!.status === "approved" && bumped!.mergedInto == null) {
+        await queueRender(tx, bumped!);
         rerendered++;
       }
     }
+    const what =
+      to.source === "set"
+        ? `Set the resolution of ${row.originalName} to ${dpiText(x, y)}`
+        : to.source === "embedded"
+          ? `Put ${row.originalName} back to the resolution its file records, ${dpiText(x, y)}`
+          : `Put ${row.originalName} back to the studio's assumed ${dpiText(x, y)} (its file records none)`;
     await recordAudit(tx, {
       action: "scan.resolution",
       subjectType: "scan",
       subjectId: id,
-      summary: `Set the resolution of ${row.originalName} to ${dpiText(x, y)} (was ${dpiText(row.dpiX, row.dpiY)}, ${row.dpiSource ?? "unknown"})${rerendered ? `; ${rerendered} approved piece${rerendered === 1 ? "" : "s"} rendered again` : ""}`,
+      summary: `${what} (was ${dpiText(row.dpiX, row.dpiY)}, ${row.dpiSource ?? "unknown"})${rerendered ? `; ${rerendered} approved piece${rerendered === 1 ? "" : "s"} rendered again` : ""}`,
       before: { dpiX: row.dpiX, dpiY: row.dpiY, dpiSource: row.dpiSource, resolutionOrigin: row.resolutionOrigin },
-      after: { dpiX: x, dpiY: y, dpiSource: "set", resolutionOrigin: null },
+      after: { dpiX: x, dpiY: y, dpiSource: to.source, resolutionOrigin: to.origin },
     });
     await tx.notify({ kind: "scan", scanId: id });
   });

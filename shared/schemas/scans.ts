@@ -49,6 +49,11 @@ export const scanSchema = z.object({
   iccDescription: z.string().nullable(),
   hasAlpha: z.boolean().nullable(),
   dpi: dpiSchema.nullable(),
+  /**
+   * What the file itself records, once analysed: its figures, or null figures when it records none.
+   * Differs from `dpi` only when someone set the resolution by hand.
+   */
+  fileDpi: z.object({ x: z.number().nullable(), y: z.number().nullable(), origin: resolutionOriginSchema.nullable() }).nullable(),
   physical: z
     .object({ widthIn: z.number(), heightIn: z.number(), widthCm: z.number(), heightCm: z.number() })
     .nullable(),

@@ -116,6 +116,9 @@ export async function analyseScan(
       dpiY: info.dpi.y,
       dpiSource: info.dpi.source,
       resolutionOrigin: info.dpi.origin,
+      fileDpiX: info.dpi.source === "embedded" ? info.dpi.x : null,
+      fileDpiY: info.dpi.source === "embedded" ? info.dpi.y : null,
+      fileResolutionOrigin: info.dpi.source === "embedded" ? info.dpi.origin : null,
     });
     if (deps.config.testAnalyseDelayMs > 0)
       await holdFor(deps.config.testAnalyseDelayMs, ctx.signal);

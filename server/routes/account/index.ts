@@ -1,9 +1,12 @@
-import { Router } from "express";
+import { Router, type RequestHandler } from "express";
 import { ipKeyGenerator, rateLimit } from "express-rate-limit";
 import { API } from "../../../shared/api";
 import { RESET_REQUESTED_MESSAGE } from "../../../shared/schemas/mail";
+import { changePasswordBody } from "../../../shared/schemas/account";
 import { handle } from "../define";
-import { tooManyRequests } from "../../errors";
+import { AppError, tooManyRequests } from "../../errors";
+import { zodMessage } from "../../middleware/errors";
+import { changeOwnPassword, renameSelf } from "../../services/account";
 import { completePasswordReset, previewPasswordReset, requestPasswordReset } from "../../services/password-resets";
 import { getNoticeSettings, updateNoticeSettings } from "../../services/notice-settings";
 import { presentSessionUser } from "../../presenters/user";
@@ -13,7 +16,7 @@ import type { Mailer } from "../../mail/mailer";
 
 const RESET_WINDOW_MS = 15 * 60_000;
 
-/** Password reset (public) and each person's own notice choices. */
+/** Password reset (public), and each signed-in person's own password, name and notice choices. */
 export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
   const router = Router();
   const { db } = deps.database;
@@ -62,6 +65,43 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
     req.log.info({ user: user.id }, "password reset; other sessions ended");
     return { user: presentSessionUser(user) };
   });
+
+  // A wrong current password counts like a failed sign-in: the same limit and window, per account
+  // (a session taken over cannot try guesses from many addresses). Only a well-formed body reaches
+  // the count, so a new password refused for being too short is not a guess.
+  const wellFormedChange: RequestHandler = (req, _res, next) => {
+    const parsed = changePasswordBody.safeParse(req.body ?? {});
+    if (!parsed.success) {
+      const { message, field } = zodMessage(parsed.error, "body");
+      return next(new AppError(400, "bad_request", message, field));
+    }
+    next();
+  };
+  const guesses = rateLimit({
+    windowMs: cfg.loginWindowMs,
+    limit: cfg.loginLimit,
+    standardHeaders: "draft-8",
+    legacyHeaders: false,
+    skipSuccessfulRequests: true,
+    keyGenerator: (req) => `password-change|${req.user?.id ?? ipKeyGenerator(req.ip ?? "")}`,
+    handler: (_req, _res, next) => {
+      const minutes = Math.round(cfg.loginWindowMs / 60_000);
+      next(tooManyRequests(`Too many wrong current passwords. Wait ${minutes} minutes and try again, or choose a new password by e-mail.`));
+    },
+  });
+  handle(
+    router,
+    API.passwordChange,
+    async ({ body, req, user }) => {
+      const { user: row, signedOutElsewhere } = await changeOwnPassword(db, cfg, user.id, req.sessionID, body);
+      // A fresh session id for this browser too, as at sign-in: one seen before the change no longer works.
+      await signInAs(req, row);
+      req.log.info({ user: row.id, signedOutElsewhere }, "password changed; other sessions ended");
+      return { user: presentSessionUser(row), signedOutElsewhere };
+    },
+    [wellFormedChange, guesses],
+  );
+  handle(router, API.nameUpdate, async ({ body, user }) => ({ user: presentSessionUser(await renameSelf(db, user.id, body.name)) }));
 
   handle(router, API.noticesGet, async ({ user }) => ({ ...(await getNoticeSettings(db, user)), mailEnabled: deps.mailer.enabled }));
   handle(router, API.noticesUpdate, async ({ user, body }) => {

@@ -2,7 +2,8 @@ import { Router } from "express";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
 import { badRequest, notFound } from "../../errors";
-import { getScan, getScanRow, listScans, retryScan, setScanResolution } from "../../services/scans";
+import { getScan, getScanRow, listScans, restoreScanResolution, retryScan, setScanResolution } from "../../services/scans";
+import { getStudioSettings } from "../../services/studio";
 import { intakeFile } from "../../services/intake";
 import { cleanFileName, removeTemps, sniffUploads, uploadMiddleware } from "./upload";
 import type { AppDeps } from "../../app";
@@ -58,6 +59,9 @@ export function scansRouter(deps: AppDeps): Router {
 
   handle(router, API.scansSetResolution, async ({ params, body }) => ({
     scan: await setScanResolution(database, boss, params.id, body),
+  }));
+  handle(router, API.scansRestoreResolution, async ({ params }) => ({
+    scan: await restoreScanResolution(database, boss, params.id, (await getStudioSettings(db, config)).defaultDpi),
   }));
 
   handle(router, API.scansRetry, async ({ params, req }) => {

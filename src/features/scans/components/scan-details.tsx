@@ -19,6 +19,7 @@ import {
 } from "../format";
 import { DpiValue } from "./dpi-value";
 import { SetResolution } from "./set-resolution";
+import { RestoreResolution } from "./restore-resolution";
 import { useHasRole } from "../../../lib/authorization";
 
 function Row({ term, children }: { term: string; children: ReactNode }) {
@@ -159,7 +160,10 @@ export function ScanDetails({ scan }: { scan: Scan }) {
             scan.dpi.source === "assumed" ? (
               <>Assumed: the file has no resolution, so the studio default was used</>
             ) : scan.dpi.source === "set" ? (
-              <>Set by an operator (the file's own figure is in the audit trail)</>
+              <>
+                Set by an operator
+                <RestoreResolution scan={scan} canChange={isOperator} />
+              </>
             ) : (
               <>
                 Embedded in the file
