@@ -1,9 +1,11 @@
-import { eq } from "drizzle-orm";
+import { eq, sql } from "drizzle-orm";
 import type { Db } from "../db";
 import { studio } from "../db/schema";
 import type { Config } from "../config";
+import type { LiveEvent } from "../../shared/schemas/queue";
 import type { StudioSettings, UpdateStudioBody } from "../../shared/schemas/studio";
 import { changedFields, recordAudit } from "./audit";
+import { EVENTS_CHANNEL } from "./events";
 
 type StudioRow = typeof studio.$inferSelect;
 
@@ -45,6 +47,9 @@ export async function updateStudioSettings(db: Db, config: Pick<Config, "default
       .returning();
     const changed = changedFields(base as StudioRow, after!, FIELDS);
     if (!changed) return;
+    // Every open screen showing the studio's name or rights reads them again (delivered at commit).
+    const event: LiveEvent = { kind: "studio" };
+    await tx.execute(sql`select pg_notify(${EVENTS_CHANNEL}, ${JSON.stringify(event)})`);
     await recordAudit(tx, {
       action: "studio.settings",
       subjectType: "studio",

@@ -47,7 +47,8 @@ export type QueueSummary = z.infer<typeof queueSummarySchema>;
 
 /** Events the server pushes over `/api/events` (server-sent events). */
 export const liveEventSchema = z.object({
-  kind: z.enum(["scan", "watcher", "worker"]),
+  /** "studio": the studio's settings changed (name, assumed resolution, creator, copyright). */
+  kind: z.enum(["scan", "watcher", "worker", "studio"]),
   scanId: z.string().optional(),
   status: z.string().optional(),
 });

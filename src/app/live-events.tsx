@@ -6,6 +6,7 @@ import { fragmentKeys } from "../features/fragments/api/keys";
 import { queueKeys } from "../features/queue/api/get-queue";
 import { batchKeys } from "../features/recipes/api/keys";
 import { scanKeys } from "../features/scans/api/keys";
+import { STUDIO_KEY } from "../features/studio/api/get-studio";
 import { throttle } from "../lib/throttle";
 
 export type LiveState = "connecting" | "live" | "offline";
@@ -57,7 +58,10 @@ export function LiveEventsProvider({ children }: { children: ReactNode }) {
       };
       source.addEventListener("change", (event) => {
         const parsed = liveEventSchema.safeParse(safeJson((event as MessageEvent<string>).data));
-        if (parsed.success) refresh();
+        if (!parsed.success) return;
+        // The studio's name and rights (the rail, the Studio screen, preset previews) are read again.
+        if (parsed.data.kind === "studio") void queryClient.invalidateQueries({ queryKey: STUDIO_KEY });
+        else refresh();
       });
     };
     connect();

@@ -35,8 +35,7 @@ function StudioPage() {
       ) : settings.isError ? (
         <LoadError error={settings.error} onRetry={() => void settings.refetch()} />
       ) : (
-        // Keyed by the saved version, so a save elsewhere refreshes the form's starting values.
-        <StudioForm key={settings.data.updatedAt} saved={settings.data} />
+        <StudioForm latest={settings.data} />
       )}
     </>
   );
@@ -45,8 +44,24 @@ function StudioPage() {
 type Field = "name" | "defaultDpi" | "creator" | "copyright";
 const FIELDS = ["name", "defaultDpi", "creator", "copyright"] as const;
 
-function StudioForm({ saved }: { saved: StudioSettings }) {
+/** What the form holds, in the terms it compares with a saved version (trimmed, as it is sent). */
+function sameAs(s: StudioSettings, form: { name: string; dpi: string; creator: string; copyright: string }): boolean {
+  return (
+    form.name.trim() === s.name &&
+    form.dpi === String(s.defaultDpi) &&
+    form.creator.trim() === (s.creator ?? "") &&
+    form.copyright.trim() === (s.copyright ?? "")
+  );
+}
+
+/**
+ * The form starts from the saved settings. When they change elsewhere (another admin; the live
+ * event reloads them), an untouched form takes the new values; one with unsaved edits keeps them
+ * and says so, with a way to take the other version instead.
+ */
+function StudioForm({ latest }: { latest: StudioSettings }) {
   const update = useUpdateStudio();
+  const [saved, setSaved] = useState(latest);
   const [name, setName] = useState(saved.name);
   const [dpi, setDpi] = useState(String(saved.defaultDpi));
   const [creator, setCreator] = useState(saved.creator ?? "");
@@ -54,11 +69,21 @@ function StudioForm({ saved }: { saved: StudioSettings }) {
   const [errors, setErrors] = useState<FieldErrors<Field>>({});
   const [formError, setFormError] = useState<string | null>(null);
 
-  const changed =
-    name.trim() !== saved.name ||
-    dpi !== String(saved.defaultDpi) ||
-    creator.trim() !== (saved.creator ?? "") ||
-    copyright.trim() !== (saved.copyright ?? "");
+  const form = { name, dpi, creator, copyright };
+  const changed = !sameAs(saved, form);
+
+  const adopt = (s: StudioSettings) => {
+    setSaved(s);
+    setName(s.name);
+    setDpi(String(s.defaultDpi));
+    setCreator(s.creator ?? "");
+    setCopyright(s.copyright ?? "");
+    setErrors({});
+  };
+  // A newer version arrived: take it when nothing here would be lost (or it is what this form saved).
+  const newer = latest.updatedAt !== saved.updatedAt;
+  if (newer && (!changed || sameAs(latest, form))) adopt(latest);
+  const overtaken = newer && changed && !sameAs(latest, form);
 
   const submit = (event: FormEvent) => {
     event.preventDefault();
@@ -93,6 +118,17 @@ function StudioForm({ saved }: { saved: StudioSettings }) {
   return (
     <form onSubmit={submit} noValidate aria-label="Studio settings" className="flex max-w-5xl flex-col gap-6">
       {formError && <Notice tone="error">{formError}</Notice>}
+      {overtaken && (
+        <div role="status" className="flex flex-wrap items-center gap-x-4 gap-y-2 rounded-md border border-ochre/40 bg-ochre-soft px-3 py-2 text-sm text-ink">
+          <span>
+            These settings were changed elsewhere <Ago iso={latest.updatedAt} />. Your edits are kept here; saving them replaces
+            that version.
+          </span>
+          <Button type="button" size="sm" variant="quiet" onClick={() => adopt(latest)}>
+            Show the other version
+          </Button>
+        </div>
+      )}
       <div className="grid grid-cols-1 items-start gap-6 lg:grid-cols-2">
         <Panel title="The studio" titleId="studio-title">
           <div className="flex flex-col gap-4">

@@ -16,9 +16,12 @@ export async function getStudio(signal?: AbortSignal): Promise<Studio> {
   return studio;
 }
 
+/** Every query about the studio starts with this (its name here, its settings on the Studio screen). */
+export const STUDIO_KEY = ["studio"] as const;
+
 export const studioQueryOptions = () =>
   queryOptions({
-    queryKey: ["studio"] as const,
+    queryKey: STUDIO_KEY,
     queryFn: ({ signal }) => getStudio(signal),
     staleTime: 10 * 60_000,
     retry: false,
