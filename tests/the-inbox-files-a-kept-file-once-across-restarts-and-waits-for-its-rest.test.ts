@@ -13,7 +13,7 @@ import { Writable } from "node:stream";
 import pino from "pino";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { eq } from "drizzle-orm";
-import { startStack, waitFor, type Stack } from "./helpers/stack";
+import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { paperScan, sha256 } from "./helpers/fixtures";
 import { pngChunks } from "./helpers/scan-bytes";
 import { inboxKeptFiles, scans } from "../server/db/schema";
@@ -32,6 +32,13 @@ afterAll(async () => {
 const rowsNamed = (name: string) =>
   stack.db.select().from(scans).where(eq(scans.originalName, name)).orderBy(scans.createdAt);
 const keptRows = () => stack.db.select().from(inboxKeptFiles);
+/** What the scan's page is told about its file still being in the inbox. */
+const inInbox = async (scanId: string) => {
+  const viewer = await userAgent(stack, "viewer");
+  const res = await viewer.get(`/api/scans/${scanId}`);
+  expect(res.status).toBe(200);
+  return res.body.scan.inInbox;
+};
 
 /** A logger that keeps every line (debug and up), to see what the watcher did with a file. */
 function capturingLogger() {
@@ -95,6 +102,7 @@ describe("a file the inbox filed but could not remove", () => {
     expect(
       (await keptRows()).map((r) => [r.path, r.reason, r.sizeBytes, r.mtimeMs, r.sha256, r.scanId]),
     ).toEqual([[name, "not-removed", first.length, st.mtimeMs, sha256(first), scanId]]);
+    expect(await inInbox(scanId)).toEqual({ path: name, reason: "not-removed" });
 
     // The watcher's process is started again: the file is there, unchanged, and stays unfiled.
     const seen = capturingLogger();
@@ -128,6 +136,7 @@ describe("a file the inbox filed but could not remove", () => {
     const three = await watch(deps({ removeFile: refuse }));
     try {
       expect(await keptRows()).toEqual([]);
+      expect(await inInbox(scanId)).toBeNull();
     } finally {
       await three.close();
     }
@@ -167,6 +176,7 @@ describe("a file that still looks unfinished after the inbox's wait", () => {
         partial.id,
       ]);
       expect(kept!.detail).toBe("the PNG's IDAT chunk runs past its end");
+      expect(await inInbox(partial.id)).toEqual({ path: name, reason: "unfinished" });
 
       // Started again while the scanner still pauses: the part is not filed a second time.
       const seen = capturingLogger();
@@ -203,6 +213,8 @@ describe("a file that still looks unfinished after the inbox's wait", () => {
           10_000,
         );
         expect(await keptRows()).toEqual([]);
+        expect(await inInbox(partial.id)).toBeNull();
+        expect(await inInbox(rows[1]!.id)).toBeNull();
       } finally {
         await two.close();
       }

@@ -10,6 +10,7 @@ export function presentScan(
   intake: { id: string; name: string },
   duplicateOf: Scan["duplicateOf"],
   fragmentCounts: { proposed: number; total: number } = { proposed: 0, total: 0 },
+  inInbox: Scan["inInbox"] = null,
 ): Scan {
   const hasDpi = row.dpiX != null && row.dpiY != null && row.dpiSource != null;
   return {
@@ -57,6 +58,7 @@ export function presentScan(
     fragments: fragmentCounts,
     splitSensitivity: row.splitSensitivity,
     hasPreview: row.previewKey != null,
+    inInbox,
     createdAt: row.createdAt.toISOString(),
     updatedAt: row.updatedAt.toISOString(),
     analysedAt: row.analysedAt?.toISOString() ?? null,

@@ -1,10 +1,10 @@
-import { and, asc, count, desc, eq, ilike, ne, or, type SQL } from "drizzle-orm";
+import { and, asc, count, desc, eq, ilike, inArray, ne, or, type SQL } from "drizzle-orm";
 import { alias } from "drizzle-orm/pg-core";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
-import { fragments, intakes, scans } from "../db/schema";
+import { fragments, inboxKeptFiles, intakes, scans } from "../db/schema";
 import type { z } from "zod";
-import type { scanListQuery, SetResolutionBody } from "../../shared/schemas/scans";
+import type { Scan, scanListQuery, SetResolutionBody } from "../../shared/schemas/scans";
 import { presentScan } from "../presenters/scan";
 import { QUEUES } from "../jobs/queues";
 import { conflict, notFound } from "../errors";
@@ -40,10 +40,29 @@ function selectScans(db: Db) {
 
 type Joined = Awaited<ReturnType<ReturnType<typeof selectScans>["execute"]>>[number];
 
+/** Which of these scans' files are still in an inbox (filed but left there), by scan. */
+async function stillInInbox(db: Db, ids: string[]) {
+  const kept = new Map<string, NonNullable<Scan["inInbox"]>>();
+  if (ids.length === 0) return kept;
+  const rows = await db
+    .select({ scanId: inboxKeptFiles.scanId, path: inboxKeptFiles.path, reason: inboxKeptFiles.reason })
+    .from(inboxKeptFiles)
+    .where(inArray(inboxKeptFiles.scanId, ids));
+  for (const r of rows) kept.set(r.scanId, { path: r.path, reason: r.reason });
+  return kept;
+}
+
 async function presentAll(db: Db, rows: Joined[]) {
-  const counts = await proposedCounts(db, rows.map((r) => r.scan.id));
+  const ids = rows.map((r) => r.scan.id);
+  const [counts, kept] = await Promise.all([proposedCounts(db, ids), stillInInbox(db, ids)]);
   return rows.map((r) =>
-    presentScan(r.scan, r.intake, r.firstId ? { id: r.firstId, originalName: r.firstName!, status: r.firstStatus!, error: r.firstError ?? null } : null, counts.get(r.scan.id)),
+    presentScan(
+      r.scan,
+      r.intake,
+      r.firstId ? { id: r.firstId, originalName: r.firstName!, status: r.firstStatus!, error: r.firstError ?? null } : null,
+      counts.get(r.scan.id),
+      kept.get(r.scan.id) ?? null,
+    ),
   );
 }
 

@@ -63,6 +63,12 @@ export const scanSchema = z.object({
   /** The sensitivity (0–1) of the last split, null before the first. */
   splitSensitivity: z.number().nullable(),
   hasPreview: z.boolean(),
+  /**
+   * Its file was filed but is still in the inbox (as `path` there): it still looked unfinished when
+   * filed, and is taken in again, whole, if its writer finishes it ("unfinished"), or it could not
+   * be removed ("not-removed", e.g. a read-only share). Null once it has left the inbox.
+   */
+  inInbox: z.object({ path: z.string(), reason: z.enum(["unfinished", "not-removed"]) }).nullable(),
   createdAt: z.string(),
   updatedAt: z.string(),
   analysedAt: z.string().nullable(),

@@ -87,6 +87,18 @@ export function ScanDetails({ scan }: { scan: Scan }) {
           </Link>
         </Row>
         <Row term="Source">{SOURCE_LABELS[scan.source]}</Row>
+        {scan.inInbox && (
+          <Row term="Still in the inbox">
+            <span className="flex flex-col gap-1" data-testid="in-inbox">
+              <code className="figure text-xs [overflow-wrap:anywhere]">{scan.inInbox.path}</code>
+              <span className="text-ink-soft">
+                {scan.inInbox.reason === "unfinished"
+                  ? "It still looked unfinished when it was filed, so it was left there: if its writer finishes it, the whole file is taken in as a new scan of the same name."
+                  : "It could not be removed from the inbox (a read-only folder?). Its copy here is complete; remove the inbox file by hand when you are done with it."}
+              </span>
+            </span>
+          </Row>
+        )}
         <Row term="SHA-256">
           <span className="flex items-start gap-2">
             <code
