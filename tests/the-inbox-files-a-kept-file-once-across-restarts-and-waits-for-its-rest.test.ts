@@ -17,7 +17,7 @@ import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { paperScan, sha256 } from "./helpers/fixtures";
 import { pngChunks } from "./helpers/scan-bytes";
 import { inboxKeptFiles, scans } from "../server/db/schema";
-import { LATER_WHOLE_NOTE, type IntakeDeps } from "../server/services/intake";
+import type { IntakeDeps } from "../server/services/intake";
 import { startWatcher } from "../worker/watcher";
 
 let stack: Stack;
@@ -206,7 +206,12 @@ describe("a file that still looks unfinished after the inbox's wait", () => {
         );
         expect(rows[0]!.status).toBe("failed");
         expect(rows[0]!.error).toMatch(/^The PNG image data ends early or is damaged/);
-        expect(rows[0]!.error!.endsWith(` ${LATER_WHOLE_NOTE}`)).toBe(true);
+        expect([rows[0]!.continuedById, rows[0]!.continuedHow]).toEqual([rows[1]!.id, "whole"]);
+        const viewer = await userAgent(stack, "viewer");
+        const part = (await viewer.get(`/api/scans/${rows[0]!.id}`)).body.scan;
+        expect(part.continuedBy).toEqual({ id: rows[1]!.id, originalName: name, how: "whole" });
+        expect(part.error).toMatch(/^The PNG image data ends early or is damaged[^]*Scan again or copy the file again\.$/);
+        expect((await viewer.get(`/api/scans/${rows[1]!.id}`)).body.scan.continuedBy).toBeNull();
         await waitFor(
           "the inbox to be empty",
           async () => ((await fs.readdir(stack.inbox)).length === 0 ? true : null),

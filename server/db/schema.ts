@@ -100,6 +100,12 @@ export const scans = pgTable(
     errorCode: text("error_code"),
     attempts: integer("attempts").notNull().default(0),
     duplicateOfId: uuid("duplicate_of_id"),
+    /**
+     * Filed while its inbox file still looked unfinished, and that file was taken in again later as
+     * this scan: "whole" once its writer finished it, "changed" when it still looked unfinished.
+     */
+    continuedById: uuid("continued_by_id"),
+    continuedHow: text("continued_how").$type<"whole" | "changed">(),
     width: integer("width"),
     height: integer("height"),
     format: text("format"),

@@ -11,6 +11,7 @@ export function presentScan(
   duplicateOf: Scan["duplicateOf"],
   fragmentCounts: { proposed: number; total: number } = { proposed: 0, total: 0 },
   inInbox: Scan["inInbox"] = null,
+  continuedBy: Scan["continuedBy"] = null,
 ): Scan {
   const hasDpi = row.dpiX != null && row.dpiY != null && row.dpiSource != null;
   return {
@@ -59,6 +60,7 @@ export function presentScan(
     splitSensitivity: row.splitSensitivity,
     hasPreview: row.previewKey != null,
     inInbox,
+    continuedBy,
     createdAt: row.createdAt.toISOString(),
     updatedAt: row.updatedAt.toISOString(),
     analysedAt: row.analysedAt?.toISOString() ?? null,

@@ -122,11 +122,6 @@ export async function forgetKeptInboxFile(db: Db, folder: string, file: string):
     .where(and(eq(inboxKeptFiles.inbox, folder), eq(inboxKeptFiles.path, file)));
 }
 
-/** Said on a scan filed while its file still looked unfinished, once the file was taken in again. */
-export const LATER_WHOLE_NOTE =
-  "Its writer finished the file afterwards: it was taken in again, whole, as a new scan of the same name.";
-export const LATER_CHANGED_NOTE =
-  "Its writer went on with the file afterwards: it was taken in again as a new scan of the same name.";
 
 /**
  * The arriving file changed while it was being copied (its writer is still at it): nothing was
@@ -214,23 +209,20 @@ export async function intakeFile(
       earlier.scanId !== r.scanId
     ) {
       r.follows = earlier.scanId;
-      const note = input.stillUnfinished ? LATER_CHANGED_NOTE : LATER_WHOLE_NOTE;
-      // Said once the earlier scan has settled (its analysis writes its own message); one still
-      // being analysed now keeps its own message (rare: the inbox waited long before filing it).
-      const said = await tx.client.query<{ status: string }>(
-        `update scans set error = case when error is null then $2 else error || ' ' || $2 end, updated_at = now()
-         where id = $1 and status in ('failed', 'ready') and position($2 in coalesce(error, '')) = 0
-         returning status`,
-        [earlier.scanId, note],
-      );
-      if (said.rows[0])
-        await tx.notify({ kind: "scan", scanId: earlier.scanId, status: said.rows[0].status });
+      // Said on the earlier scan's page, whatever it is doing now: its analysis rewrites only its
+      // own message, so a scan still being read, or read again later, keeps the link.
+      const said = await tx.db
+        .update(scans)
+        .set({ continuedById: r.scanId, continuedHow: input.stillUnfinished ? "changed" : "whole", updatedAt: new Date() })
+        .where(eq(scans.id, earlier.scanId))
+        .returning({ status: scans.status });
+      if (said[0]) await tx.notify({ kind: "scan", scanId: earlier.scanId, status: said[0].status });
       deps.log.info(
         {
           scanId: r.scanId,
           follows: earlier.scanId,
           file: input.originalName,
-          noted: said.rowCount === 1,
+          noted: said.length === 1,
         },
         "intake: a file filed earlier while it still looked unfinished was taken in again",
       );

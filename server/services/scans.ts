@@ -13,6 +13,7 @@ import { proposedCounts, queueRender } from "./fragments";
 import { recordAudit } from "./audit";
 
 const first = alias(scans, "first_scan");
+const next = alias(scans, "next_scan");
 
 const sortColumns = {
   createdAt: scans.createdAt,
@@ -32,10 +33,13 @@ function selectScans(db: Db) {
       firstName: first.originalName,
       firstStatus: first.status,
       firstError: first.error,
+      nextId: next.id,
+      nextName: next.originalName,
     })
     .from(scans)
     .innerJoin(intakes, eq(intakes.id, scans.intakeId))
-    .leftJoin(first, eq(first.id, scans.duplicateOfId));
+    .leftJoin(first, eq(first.id, scans.duplicateOfId))
+    .leftJoin(next, eq(next.id, scans.continuedById));
 }
 
 type Joined = Awaited<ReturnType<ReturnType<typeof selectScans>["execute"]>>[number];
@@ -62,6 +66,7 @@ async function presentAll(db: Db, rows: Joined[]) {
       r.firstId ? { id: r.firstId, originalName: r.firstName!, status: r.firstStatus!, error: r.firstError ?? null } : null,
       counts.get(r.scan.id),
       kept.get(r.scan.id) ?? null,
+      r.nextId ? { id: r.nextId, originalName: r.nextName!, how: r.scan.continuedHow ?? "whole" } : null,
     ),
   );
 }

@@ -69,6 +69,11 @@ export const scanSchema = z.object({
    * be removed ("not-removed", e.g. a read-only share). Null once it has left the inbox.
    */
   inInbox: z.object({ path: z.string(), reason: z.enum(["unfinished", "not-removed"]) }).nullable(),
+  /**
+   * Filed while its file still looked unfinished, that file was taken in again later as this scan:
+   * "whole" once its writer finished it, "changed" when it still looked unfinished then.
+   */
+  continuedBy: z.object({ id: z.string(), originalName: z.string(), how: z.enum(["whole", "changed"]) }).nullable(),
   createdAt: z.string(),
   updatedAt: z.string(),
   analysedAt: z.string().nullable(),

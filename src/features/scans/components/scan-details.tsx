@@ -216,6 +216,20 @@ export function ScanDetails({ scan }: { scan: Scan }) {
               />
             )}
             {scan.error && <span className="text-brick">{scan.error}</span>}
+            {scan.continuedBy && (
+              <span data-testid="continued-by">
+                {scan.continuedBy.how === "whole"
+                  ? "Its writer finished the file afterwards; it was taken in again, whole, as "
+                  : "Its writer went on with the file afterwards; it was taken in again as "}
+                <Link
+                  to={paths.scan(scan.continuedBy.id)}
+                  className="font-medium text-accent underline underline-offset-2"
+                >
+                  a new scan of {scan.continuedBy.originalName}
+                </Link>
+                .
+              </span>
+            )}
             {scan.duplicateOf && (
               <span>
                 Same file as{" "}
