@@ -202,6 +202,24 @@ export const session = pgTable(
   (t) => [index("IDX_session_expire").on(t.expire)],
 );
 
+/**
+ * Counted attempts of the request limits (sign-in, password e-mails and changes), shared by every
+ * server process on the database and kept across restarts (server/middleware/rate-limit-store.ts).
+ */
+export const rateLimitHits = pgTable(
+  "rate_limit_hits",
+  {
+    /** Which limit (its prefix). */
+    name: text("name").notNull(),
+    /** Who is counted: an address, or an address and an e-mail, or an account. */
+    key: text("key").notNull(),
+    hits: integer("hits").notNull(),
+    /** When the count starts again from nothing. */
+    resetAt: timestamp("reset_at", { withTimezone: true }).notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.name, t.key] }), index("rate_limit_hits_reset_idx").on(t.resetAt)],
+);
+
 /** A piece found on a scan (or drawn by a person), with the split's proposal kept for reset. */
 export const fragments = pgTable(
   "fragments",

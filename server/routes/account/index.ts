@@ -1,5 +1,6 @@
 import { Router, type RequestHandler } from "express";
 import { ipKeyGenerator, rateLimit } from "express-rate-limit";
+import { PgRateLimitStore } from "../../middleware/rate-limit-store";
 import { API } from "../../../shared/api";
 import { RESET_REQUESTED_MESSAGE } from "../../../shared/schemas/mail";
 import { changePasswordBody } from "../../../shared/schemas/account";
@@ -26,6 +27,7 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
     next(tooManyRequests("Too many requests for a new password. Wait 15 minutes and try again."));
   // Per address and e-mail (one mailbox is not flooded), and per address alone (no spraying).
   const perEmail = rateLimit({
+    store: new PgRateLimitStore(deps.database.pool, "reset-email"),
     windowMs: RESET_WINDOW_MS,
     limit: cfg.mail.resetLimit,
     standardHeaders: "draft-8",
@@ -34,6 +36,7 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
     handler: refuse,
   });
   const perAddress = rateLimit({
+    store: new PgRateLimitStore(deps.database.pool, "reset-address"),
     windowMs: RESET_WINDOW_MS,
     limit: cfg.mail.resetLimit * 4,
     standardHeaders: false,
@@ -78,6 +81,7 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
     next();
   };
   const guesses = rateLimit({
+    store: new PgRateLimitStore(deps.database.pool, "password-change"),
     windowMs: cfg.loginWindowMs,
     limit: cfg.loginLimit,
     standardHeaders: "draft-8",

@@ -1,5 +1,6 @@
 import { Router, type RequestHandler } from "express";
 import { ipKeyGenerator, rateLimit } from "express-rate-limit";
+import { PgRateLimitStore } from "../../middleware/rate-limit-store";
 import type passport from "passport";
 import { API } from "../../../shared/api";
 import { loginBody } from "../../../shared/schemas/auth";
@@ -17,6 +18,7 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
 
   // Per address and per e-mail: slows guessing one account and spraying many.
   const limiter = rateLimit({
+    store: new PgRateLimitStore(deps.database.pool, "sign-in"),
     windowMs: cfg.loginWindowMs,
     limit: cfg.loginLimit,
     standardHeaders: "draft-8",
@@ -33,6 +35,7 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
   // Per address alone, ten times looser: one address trying many e-mails is stopped too, and
   // cannot grow the audit trail (which keeps every failed sign-in) without bound.
   const addressLimiter = rateLimit({
+    store: new PgRateLimitStore(deps.database.pool, "sign-in-address"),
     windowMs: cfg.loginWindowMs,
     limit: cfg.loginLimit * 10,
     standardHeaders: "draft-8",
