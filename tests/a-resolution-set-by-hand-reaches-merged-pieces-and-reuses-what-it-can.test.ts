@@ -1,8 +1,8 @@
 /**
  * A resolution an operator sets, and the studio's rights, in the cases the first tests of them
  * leave out: figures the form accepts (two decimals, square pixels only), the file's own figure
- * confirmed (nothing to make again), a copyright change that only print copies do not carry
- * (they are reused), and pieces merged away while the resolution changed (they come back rendered
+ * confirmed (nothing to make again), a copyright change that mock-ups do not carry (they are
+ * reused), and pieces merged away while the resolution changed (they come back rendered
  * at the new figure, not with their old masters). Master resolutions are read back with exifr
  * (npm), TIFF 6.0 XResolution (282).
  */
@@ -51,7 +51,7 @@ async function masters() {
 }
 
 let presets: PresetSummary[];
-const body = () => ({ selection: { filter: { scanId } }, presetIds: [presets.find((p) => p.name === "web")!.id, presets.find((p) => p.name === "print-letter")!.id] });
+const body = () => ({ selection: { filter: { scanId } }, presetIds: [presets.find((p) => p.name === "web")!.id, presets.find((p) => p.name === "wall")!.id] });
 const estimate = async () => (await operator.post("/api/batches/estimate").send(body())).body as { outputs: number; reused: number };
 async function runBatch() {
   const res = await operator.post("/api/batches").send(body());
@@ -70,6 +70,9 @@ beforeAll(async () => {
   await fs.writeFile(bedFile, await wrongDpiBed());
   scanId = (await operator.post("/api/scans/upload").attach("files", bedFile)).body.results[0].scanId;
   await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
+  // A mock-up carries no metadata at all (print files carry the rights, as masters do).
+  const wall = await operator.post("/api/presets").send({ name: "wall", settings: { kind: "mockup", name: "wall", width: 400, height: 400 } });
+  expect(wall.status).toBe(201);
   presets = (await operator.get("/api/presets")).body.presets as PresetSummary[];
 });
 afterAll(async () => {
@@ -124,9 +127,9 @@ describe("after the masters and copies are made", () => {
     expect(rows[0].summary).toMatch(/to 72 DPI \(was 72 DPI, embedded\)$/);
   });
 
-  it("a copyright line remakes the web copies, which carry it, and reuses the print copies, which do not", async () => {
+  it("a copyright line remakes the web copies, which carry it, and reuses the mock-ups, which do not", async () => {
     expect((await admin.patch("/api/studio/settings").send({ copyright: "© 2026 Ada Reyes" })).status).toBe(200);
-    // Two web copies to make again; the two print copies carry only the piece's title.
+    // Two web copies to make again; the two mock-ups carry no rights.
     expect(await estimate()).toMatchObject({ outputs: 4, reused: 2 });
     const before = (await stack.database.pool.query("select count(*)::int as n from outputs where kind = 'preset'")).rows[0].n;
     const second = await runBatch();

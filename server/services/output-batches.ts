@@ -10,7 +10,7 @@ import { getBatch, laterRuns, replaceOutcome } from "./batches";
 import { presetsForRun } from "./presets";
 import { recipeVersionFor } from "./recipes";
 import type { CreateBatchBody } from "../../shared/schemas/preset-api";
-import { outputFileName } from "../presenters/fragment";
+import { outputFileName, outputTitle } from "../presenters/fragment";
 import { recordAudit } from "./audit";
 import { madeFromVisibleTo } from "./fragments";
 import { studioRights } from "./studio";
@@ -32,22 +32,34 @@ export async function selectFragments(db: Db, selection: CreateBatchBody["select
     const like = `%${f.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
     where.push(sql`(${fragments.title} ilike ${like} or exists (select 1 from scans s where s.id = ${fragments.scanId} and s.original_name ilike ${like}))`);
   }
-  return db.select({ id: fragments.id, revision: fragments.revision }).from(fragments).where(and(...where));
+  return db
+    .select({ id: fragments.id, revision: fragments.revision, title: fragments.title, position: fragments.position, scanName: scans.originalName })
+    .from(fragments)
+    .innerJoin(scans, eq(scans.id, fragments.scanId))
+    .where(and(...where));
 }
 
 /**
  * What identifies an output: the same fragment revision, recipe version and preset version, with
- * the same studio creator and copyright written into it (`rightsCarried` of the preset: only what
- * the file carries), give the same file. Outputs that carry neither keep the key they had before
- * those settings existed.
+ * the same title, studio creator and copyright written into it (`rightsCarried` of the preset:
+ * only what the file carries), give the same file. The creator and copyright make one part of the
+ * key and the title another, each present only when the file carries it, so an output that
+ * carries none of them (a mock-up) keeps the key it had before these were part of it, and one that
+ * carries the rights but no title (a web copy that leaves the title out) keeps its key too.
+ * Example: ("f1", 2, "rv1", "pv1", { title: "Blue gull" }) → "f1:r2:rv1:pv1:t<16 hex digits>".
  */
-export const dedupeKey = (fragmentId: string, revision: number, recipeVersionId: string, presetVersionId: string, rights: { creator?: string; copyright?: string } = {}) =>
-  `${fragmentId}:r${revision}:${recipeVersionId}:${presetVersionId}${rightsTag(rights)}`;
+export const dedupeKey = (fragmentId: string, revision: number, recipeVersionId: string, presetVersionId: string, rights: { title?: string; creator?: string; copyright?: string } = {}) =>
+  `${fragmentId}:r${revision}:${recipeVersionId}:${presetVersionId}${rightsTag(rights)}${titleTag(rights.title)}`;
+
+const digest16 = (parts: (string | null)[]) => crypto.createHash("sha256").update(JSON.stringify(parts)).digest("hex").slice(0, 16);
 
 function rightsTag({ creator, copyright }: { creator?: string; copyright?: string }): string {
   if (!creator && !copyright) return "";
-  const digest = crypto.createHash("sha256").update(JSON.stringify([creator ?? null, copyright ?? null])).digest("hex");
-  return `:c${digest.slice(0, 16)}`;
+  return `:c${digest16([creator ?? null, copyright ?? null])}`;
+}
+
+function titleTag(title: string | undefined): string {
+  return title ? `:t${digest16([title])}` : "";
 }
 
 /**
@@ -58,7 +70,7 @@ function rightsTag({ creator, copyright }: { creator?: string; copyright?: strin
 export async function estimateBatch(db: Db, body: CreateBatchBody) {
   const picked = await selectFragments(db, body.selection);
   const list = await presetsForRun(db, body.presetIds);
-  const rights = await studioRights(db);
+  const studio = await studioRights(db);
   const facts = new Map<string, MasterFacts>();
   for (let i = 0; i < picked.length; i += SEND_CHUNK) {
     const ids = picked.slice(i, i + SEND_CHUNK).map((f) => f.id);
@@ -96,6 +108,7 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
           // Settings that leave no print area: the output itself fails with the reason.
         }
       }
+      const rights = { title: outputTitle(f.title, f.scanName, f.position), ...studio };
       const key = dedupeKey(f.id, f.revision, recipe.id, p.versionId, rightsCarried(p.settings, rights));
       const [made] = await db.select({ id: outputs.id }).from(outputs).where(eq(outputs.dedupeKey, key));
       if (made) reused++;

@@ -8,6 +8,7 @@ import { notify } from "../../server/services/events";
 import { closeIfSettled, settleBatchItem } from "../../server/services/batches";
 import { dedupeKey } from "../../server/services/output-batches";
 import { studioRights } from "../../server/services/studio";
+import { outputTitle } from "../../server/presenters/fragment";
 import type { Storage } from "../../server/storage/storage";
 import { isStorageError } from "../../server/storage/storage";
 import type { Logger } from "../../server/logger";
@@ -28,7 +29,8 @@ export interface OutputDeps {
 
 /**
  * Makes one batch item: a preset's output from the fragment's master. The same fragment revision,
- * recipe version and preset version give the same file, made once and reused. Waits (by retrying)
+ * recipe version and preset version, with the same title and rights written into the file
+ * (rightsCarried), give the same file, made once and reused. Waits (by retrying)
  * for a master that is still being rendered; a cancelled item does nothing.
  */
 export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext): Promise<void> {
@@ -68,10 +70,15 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     throw new Error("waiting for the fragment's master to be rendered");
   }
   await settleBatchItem(db, batchItemId, "running");
-  // The studio's creator and copyright as this output is made: the ones its file carries are part
-  // of what identifies it (a print copy carries neither, so a change of them reuses it).
+  // The piece's title and the studio's creator and copyright as this output is made: the ones its
+  // file carries are part of what identifies it (a mock-up carries none, so a change of them reuses it).
   const parsed = presetSchema.safeParse(pv.settings);
-  const rights = await studioRights(db);
+  const [scan] = await db
+    .select({ name: scans.originalName })
+    .from(scans)
+    .where(eq(scans.id, f.scanId));
+  const title = outputTitle(f.title, scan?.name, f.position);
+  const rights = { title, ...(await studioRights(db)) };
   const key = dedupeKey(f.id, f.revision, master.recipeVersionId ?? "none", pv.id, parsed.success ? rightsCarried(parsed.data, rights) : rights);
   const [made] = await db.select().from(outputs).where(eq(outputs.dedupeKey, key));
   // Reused: linked only while the output row still stands (locked against a replacing re-run
@@ -102,10 +109,6 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
       `The preset's saved settings are no longer valid: ${parsed.error.issues[0]?.message ?? "unknown"}. Save the preset again, then retry.`,
     );
   const preset = parsed.data;
-  const [scan] = await db
-    .select({ name: scans.originalName })
-    .from(scans)
-    .where(eq(scans.id, f.scanId));
   // Each made file has a name of its own (a short random part): a file made again never takes the
   // name of one a replacing re-run is removing at that moment. The dedupe key is what identifies it.
   const fileKey = `outputs/${f.id}/${pv.id}-r${f.revision}-${(master.recipeVersionId ?? "none").slice(0, 8)}-${crypto.randomBytes(4).toString("hex")}.${outputExtension(preset)}`;
@@ -118,7 +121,6 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
           {
             master: masterPath,
             dpi: master.dpi,
-            title: f.title ?? `${scan?.name ?? "scan"} #${f.position}`,
             ...rights,
             shape: f.shape,
             maxPixels: deps.config.maxPixels,

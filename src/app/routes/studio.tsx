@@ -193,7 +193,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
               )}
             </div>
             <p className="text-xs text-ink-muted">
-              Each file also carries the piece's own title. Web copies keep these fields when their preset says so.
+              Masters and print files carry these fields, with the piece's own title; web copies when their preset says so; mock-ups none.
               Files made before a change keep what they were made with; run their batch again to remake them.
             </p>
           </div>

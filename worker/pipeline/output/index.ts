@@ -11,7 +11,7 @@ import type { FragmentShape } from "../../../shared/schemas/fragments";
 import { CM_PER_INCH } from "../../../shared/units";
 import { commitStaged, discardStaged, stage, writeStaged } from "../render/staging";
 import { addTiffFields, type TiffField } from "../render/tiff-tags";
-import { cleanRights } from "../render/rights";
+import { cleanRights, type Rights } from "../render/rights";
 import { OutputError, isOutputError } from "./errors";
 import { renderMaster } from "./master";
 import { renderMockup } from "./mockup";
@@ -40,22 +40,27 @@ export interface OutputInput {
 }
 
 /**
- * The creator and copyright an output of `preset` writes into its file, of the studio's `rights`:
- * a master writes both, a web copy those its preset keeps (`keep`), a print copy and a mock-up
- * neither (a print carries only the piece's title, in its caption and description). An output's
- * dedupe key covers these and only these, so a change of the studio's rights remakes the outputs
- * that carry them and reuses the rest. Keep it in step with renderOutput below.
- * Example: (web preset keeping only the copyright, { creator: "A", copyright: "B" }) → { copyright: "B" }.
+ * The title, creator and copyright an output of `preset` writes into its file, of the piece's
+ * `title` and the studio's `rights` (cleaned as they are written): a master and a print file all
+ * three (a print in its metadata, and the title also in its caption when it has one), a web copy
+ * those its preset keeps (`keep`), a mock-up none. An output's dedupe key covers these and only
+ * these, so a new title or new studio rights remake the outputs that carry them and reuse the
+ * rest. Keep it in step with renderOutput below.
+ * Example: (web preset keeping only the copyright, { title: "T", creator: "A", copyright: "B" }) → { copyright: "B" }.
  */
-export function rightsCarried(preset: Preset, rights: { creator?: string; copyright?: string }): { creator?: string; copyright?: string } {
-  const { creator, copyright } = cleanRights(rights);
+export function rightsCarried(preset: Preset, rights: Rights): Rights {
+  const { title, creator, copyright } = cleanRights(rights);
   const keep =
-    preset.kind === "master"
-      ? { creator: true, copyright: true }
+    preset.kind === "master" || preset.kind === "print"
+      ? { title: true, creator: true, copyright: true }
       : preset.kind === "web"
-        ? { creator: preset.keep.creator, copyright: preset.keep.copyright }
-        : { creator: false, copyright: false };
-  return { ...(keep.creator && creator ? { creator } : {}), ...(keep.copyright && copyright ? { copyright } : {}) };
+        ? { title: preset.keep.title, creator: preset.keep.creator, copyright: preset.keep.copyright }
+        : { title: false, creator: false, copyright: false };
+  return {
+    ...(keep.title && title ? { title } : {}),
+    ...(keep.creator && creator ? { creator } : {}),
+    ...(keep.copyright && copyright ? { copyright } : {}),
+  };
 }
 
 export interface OutputReport {
@@ -132,7 +137,8 @@ function paperReport(name: string, page: PaperSize, orientation: "portrait" | "l
 export async function renderOutput(input: OutputInput, presetIn: Preset | unknown, out: { path: string }): Promise<OutputReport> {
   const preset = check(input, presetIn, out);
   const maxPixels = input.maxPixels ?? DEFAULT_MAX_PIXELS;
-  const rights = { title: input.title, creator: input.creator, copyright: input.copyright };
+  // Cleaned once, as rightsCarried cleans them for the dedupe key: the file carries what its key says.
+  const rights = cleanRights({ title: input.title, creator: input.creator, copyright: input.copyright });
   let data: Uint8Array;
   let report: Omit<OutputReport, "bytes" | "path">;
   let tiffFields: TiffField[] = [];
@@ -170,11 +176,11 @@ export async function renderOutput(input: OutputInput, presetIn: Preset | unknow
       };
       const paper = paperReport(preset.paper.size, layout.page, layout.orientation);
       if (preset.output === "pdf") {
-        const p = await renderPrintPdf(piece, layout, preset, rights.title);
+        const p = await renderPrintPdf(piece, layout, preset, rights);
         data = p.data;
         report = { ...base, ...common, pixelWidth: p.width, pixelHeight: p.height, paper: { ...paper, pagePt: p.pagePt }, warnings: [...layout.warnings, ...p.warnings] };
       } else {
-        const t = await renderPrintTiff(piece, layout, preset, rights.title);
+        const t = await renderPrintTiff(piece, layout, preset, rights);
         data = t.data;
         report = { ...base, ...common, pixelWidth: layout.pagePx.width, pixelHeight: layout.pagePx.height, paper: { ...paper, pagePx: layout.pagePx }, warnings: [...layout.warnings, ...t.warnings] };
       }

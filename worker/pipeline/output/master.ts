@@ -1,6 +1,7 @@
 /**
  * Master copies by preset: the source re-encoded losslessly as TIFF or PNG at a chosen depth,
- * its ICC profile and metadata kept, alpha kept or flattened on white, resolution recorded.
+ * its ICC profile kept, alpha kept or flattened on white, resolution recorded, and the title and
+ * rights given (not the source's own, which are those of when it was made).
  */
 import sharp from "sharp";
 import type { MasterPreset } from "../../../shared/schemas/presets";
@@ -33,7 +34,9 @@ export async function renderMaster(
   let img = sharp(file, { failOn: "error", limitInputPixels: maxPixels }).autoOrient().keepIccProfile();
   if (!preset.keepAlpha && meta.hasAlpha) img = img.flatten({ background: "#ffffff" });
   img = img.toColourspace(depth === 16 ? (grey ? "grey16" : "rgb16") : grey ? "b-w" : "srgb");
-  if (preset.embedResolution) img = img.withMetadata({ density: dpi });
+  // Only the ICC profile is kept of the source's metadata: its XMP and text fields hold the rights
+  // as they were when it was made, and the copy carries the studio's current ones (or none).
+  if (preset.embedResolution) img = img.withDensity(dpi);
   // PNG gets its XMP as an iTXt chunk below: libvips would write a zTXt, where XMP readers do not look.
   if (xmp && preset.format === "tiff") img = img.withXmp(xmp);
   if (preset.format === "tiff") {

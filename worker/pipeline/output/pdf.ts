@@ -5,13 +5,14 @@
  * caption in the shipped font, embedded).
  */
 import fontkit from "@pdf-lib/fontkit";
-import { beginText, endText, PDFDocument, PDFHexString, PDFNumber, PDFOperator, PDFOperatorNames, popGraphicsState, pushGraphicsState, rgb, setFillingRgbColor, setFontAndSize, setTextMatrix, setTextRise, type PDFFont } from "pdf-lib";
+import { beginText, endText, PDFDict, PDFDocument, PDFHexString, PDFName, PDFNumber, PDFOperator, PDFOperatorNames, popGraphicsState, pushGraphicsState, rgb, setFillingRgbColor, setFontAndSize, setTextMatrix, setTextRise, type PDFFont } from "pdf-lib";
 import { paperPoints } from "../../../shared/paper";
 import type { PrintPreset } from "../../../shared/schemas/presets";
 import { captionFaces, layoutCaption, runGlyphs } from "./caption";
 import { cropMarks, type PrintLayout } from "./print-layout";
 import { MARK_WEIGHT_PT, visiblePipeline } from "./print";
 import type { Piece } from "./source";
+import { xmpPacket, type Rights } from "../render/rights";
 
 /** JPEG for the embedded piece: high quality, full-resolution chroma (fine coloured lines in artwork). */
 const PDF_JPEG = { quality: 95, chromaSubsampling: "4:4:4" } as const;
@@ -26,17 +27,42 @@ export interface PdfResult {
   warnings: string[];
 }
 
+/** The document information dictionary's key for the copyright line (a key of our own: ISO 32000-1 §14.3.3 allows any further key with a text string). */
+export const PDF_COPYRIGHT_KEY = "Copyright";
+
+/**
+ * The piece's title and the studio's creator and copyright in the PDF's metadata: the document
+ * information dictionary (ISO 32000-1 §14.3.3, Table 317: Title, Author; the copyright line under
+ * PDF_COPYRIGHT_KEY), written as text strings (UTF-16BE with its byte order mark where needed,
+ * §7.9.2.2), and the same as an XMP metadata stream on the catalog (§14.3.2), uncompressed so
+ * XMP readers find it, with the rights as dc:rights.
+ */
+function setRights(doc: PDFDocument, rights: Rights): void {
+  if (rights.title) doc.setTitle(rights.title);
+  if (rights.creator) doc.setAuthor(rights.creator);
+  if (rights.copyright) {
+    const info = doc.context.lookup(doc.context.trailerInfo.Info, PDFDict);
+    info.set(PDFName.of(PDF_COPYRIGHT_KEY), PDFHexString.fromText(rights.copyright));
+  }
+  const xmp = xmpPacket(rights);
+  if (xmp) {
+    const stream = doc.context.stream(Buffer.from(xmp, "utf8"), { Type: "Metadata", Subtype: "XML" });
+    doc.catalog.set(PDFName.of("Metadata"), doc.context.register(stream));
+  }
+}
+
 /**
  * Writes the page as a PDF. Object streams are off so the page dictionary (its MediaBox) stays
  * plain text any reader can check. Example: print-letter → MediaBox [0 0 612 792].
  */
-export async function renderPrintPdf(piece: Piece, layout: PrintLayout, preset: PrintPreset, title: string | undefined): Promise<PdfResult> {
+export async function renderPrintPdf(piece: Piece, layout: PrintLayout, preset: PrintPreset, rights: Rights): Promise<PdfResult> {
   const warnings: string[] = [];
   const pagePt = paperPoints(layout.page);
   const doc = await PDFDocument.create();
   doc.setProducer("Platen");
   doc.setCreator("Platen");
-  if (title) doc.setTitle(title);
+  setRights(doc, rights);
+  const title = rights.title;
   const page = doc.addPage([pagePt.width, pagePt.height]);
 
   const dpi = Math.min(layout.place.effectiveDpi, preset.printDpi);

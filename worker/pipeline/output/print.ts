@@ -8,7 +8,9 @@ import { MM_PER_INCH } from "../../../shared/units";
 import { captionSvg, layoutCaption } from "./caption";
 import { cropMarks, type PrintLayout } from "./print-layout";
 import { pieceImage, type Piece } from "./source";
-import { tagSrgb } from "./srgb-tag";
+import { srgbProfile } from "./srgb-tag";
+import { tiffRightsFields, xmpPacket, type Rights } from "../render/rights";
+import { TIFF_TAG, withTiffFields, type TiffField } from "../render/tiff-tags";
 
 /** Line weight of crop marks, points (a hairline, common practice). */
 export const MARK_WEIGHT_PT = 0.5;
@@ -63,10 +65,12 @@ export function overlaySvg(layout: PrintLayout, preset: PrintPreset, title: stri
 
 /**
  * The page as a TIFF: white, pagePx in size, the piece at visiblePx, LZW, sRGB, the print DPI
- * in XResolution/YResolution (TIFF 6.0 Section 8; sharp takes pixels per mm).
+ * in XResolution/YResolution (TIFF 6.0 Section 8; sharp takes pixels per mm). The title, creator
+ * and copyright go in as the master's do: XMP (TIFF tag 700), and the baseline ImageDescription,
+ * Artist and Copyright fields (rights.ts tiffRightsFields), added with the sRGB profile.
  * Example: Letter at 300 DPI → a 2550 × 3300 px TIFF recording 300 DPI.
  */
-export async function renderPrintTiff(piece: Piece, layout: PrintLayout, preset: PrintPreset, title: string | undefined): Promise<{ data: Buffer; warnings: string[] }> {
+export async function renderPrintTiff(piece: Piece, layout: PrintLayout, preset: PrintPreset, rights: Rights): Promise<{ data: Buffer; warnings: string[] }> {
   const warnings: string[] = [];
   const dpi = preset.printDpi;
   const { width, height } = layout.pagePx;
@@ -75,10 +79,14 @@ export async function renderPrintTiff(piece: Piece, layout: PrintLayout, preset:
   // One pipeline from the decoded piece to the file: the white page around the piece is an
   // extension of it, the marks and caption are drawn over it, and the result stays RGB.
   let page = img.extend({ left, top, right: Math.max(0, width - left - w), bottom: Math.max(0, height - top - h), background: "#ffffff" });
-  const svg = overlaySvg(layout, preset, title, warnings);
+  const svg = overlaySvg(layout, preset, rights.title, warnings);
   if (svg) page = page.composite([{ input: Buffer.from(svg), left: 0, top: 0 }]);
+  const xmp = xmpPacket(rights);
+  if (xmp) page = page.withXmp(xmp);
   const tiff = await page
     .tiff({ compression: "lzw", predictor: "horizontal", xres: dpi / MM_PER_INCH, yres: dpi / MM_PER_INCH, resolutionUnit: "inch" })
     .toBuffer();
-  return { data: await tagSrgb("tiff", tiff), warnings };
+  // The sRGB profile (ICC.1:2010 Annex B.4) and the text fields, in one new IFD0.
+  const fields: TiffField[] = [{ tag: TIFF_TAG.InterColorProfile, value: await srgbProfile() }, ...tiffRightsFields(rights)];
+  return { data: await withTiffFields(tiff, fields, "the print TIFF"), warnings };
 }

@@ -1,11 +1,12 @@
 /**
  * Title, creator and copyright as the output files carry them, in the places readers look:
  * - XMP (ISO 16684-1) with Dublin Core: dc:title and dc:rights as language alternatives
- *   (x-default), dc:creator as an ordered list; in the master TIFF and the web copy.
+ *   (x-default), dc:creator as an ordered list; in masters, print files (TIFF and PDF) and web copies.
  * - TIFF 6.0 Section 8 baseline fields ImageDescription (270), Artist (315), Copyright (33432)
- *   in the master's IFD0 (sharp cannot write EXIF into a TIFF, so tiff-tags.ts adds them).
+ *   in a master's or print TIFF's IFD0 (sharp cannot write EXIF into a TIFF, so tiff-tags.ts adds them).
  * - EXIF 2.3 IFD0 tags of the same names in the web copy (JPEG APP1, WebP EXIF chunk).
- * The TIFF and EXIF fields are ASCII by their specs; the XMP keeps the exact Unicode text.
+ * The TIFF and EXIF fields are ASCII by their specs (asciiField: accents folded, a field whose
+ * letters have no ASCII form left out); the XMP keeps the exact Unicode text.
  */
 import type { Exif } from "sharp";
 import { TIFF_TAG, type TiffField } from "./tiff-tags";
@@ -76,15 +77,18 @@ export function xmpPacket(rights: Rights): string | null {
   );
 }
 
-/** EXIF IFD0 entries for sharp's withExif, in ASCII (see asciiSpelling), or null when no field has text. */
+/** EXIF IFD0 entries for sharp's withExif, in ASCII (see asciiField), or null when no field has text. */
 export function exifIfd0(rights: Rights): Exif | null {
   const ifd0: Record<string, string> = {};
-  if (rights.title) ifd0.ImageDescription = asciiSpelling(rights.title);
-  if (rights.creator) ifd0.Artist = asciiSpelling(rights.creator);
-  if (rights.copyright) ifd0.Copyright = asciiSpelling(rights.copyright);
+  for (const { name, text } of asciiFields(rights)) ifd0[name] = text;
   return Object.keys(ifd0).length > 0 ? { IFD0: ifd0 } : null;
 }
 
+/**
+ * Signs and letters spelled out in ASCII. The letters are those canonical decomposition leaves
+ * whole (they are letters of their own, not a letter with a mark); the spellings are the usual
+ * ones of Latin transliteration (common practice, from memory).
+ */
 const ASCII_SPELLING: Record<string, string> = {
   "©": "(C)",
   "®": "(R)",
@@ -96,39 +100,88 @@ const ASCII_SPELLING: Record<string, string> = {
   "“": '"',
   "”": '"',
   "…": "...",
+  "\u00a0": " ",
+  ß: "ss",
+  Æ: "AE",
+  æ: "ae",
+  Œ: "OE",
+  œ: "oe",
+  Ø: "O",
+  ø: "o",
+  Ł: "L",
+  ł: "l",
+  Đ: "D",
+  đ: "d",
+  Ð: "D",
+  ð: "d",
+  Þ: "Th",
+  þ: "th",
+  Ħ: "H",
+  ħ: "h",
+  ı: "i",
 };
 
 /** Printable ASCII (0x20–0x7E), tab, line feed or carriage return. */
 const PRINTABLE_OR_SPACE = (code: number) =>
   (code >= 0x20 && code <= 0x7e) || code === 9 || code === 10 || code === 13;
 
+/** Combining marks (general category M), which canonical decomposition moves after their letter. */
+const MARKS = /\p{M}/gu;
+/** Letters and digits: a name's own characters, which must not silently go missing. */
+const LETTER_OR_DIGIT = /[\p{L}\p{N}]/u;
+
 /**
- * Text as 7-bit ASCII, which TIFF 6.0 Section 2 requires of ASCII fields (EXIF 2.3 likewise):
- * accents dropped (é → e), a few signs spelled out (© → "(C)"), anything else "?". The exact
- * text stays in the XMP. Example: "© 2025 Zoë Lind" → "(C) 2025 Zoe Lind".
+ * One character in 7-bit ASCII: spelled out (© → "(C)", ß → "ss"), or its canonical decomposition
+ * (Unicode Standard Annex #15, NFD) without the combining marks (é → e, Å → A); null when neither
+ * gives ASCII (a CJK or Cyrillic letter, a star).
+ */
+function asciiOf(ch: string): string | null {
+  const spelled = ASCII_SPELLING[ch];
+  if (spelled !== undefined) return spelled;
+  const plain = ch.normalize("NFD").replace(MARKS, "");
+  return [...plain].every((c) => PRINTABLE_OR_SPACE(c.charCodeAt(0))) ? plain : null;
+}
+
+/**
+ * Text as 7-bit ASCII for a line that must show something for every character (a caption set in
+ * a face that lacks one): as asciiOf, and "?" for a character with no spelling.
+ * Example: "© 2025 Zoë Lind" → "(C) 2025 Zoe Lind"; "山" → "?".
  */
 export function asciiSpelling(text: string): string {
   let out = "";
-  for (const ch of text) {
-    const spelled = ASCII_SPELLING[ch];
-    if (spelled !== undefined) {
-      out += spelled;
-      continue;
-    }
-    // Canonical decomposition, then drop the combining marks (U+0300–U+036F).
-    const plain = ch.normalize("NFD").replace(/[\u0300-\u036f]/g, "");
-    out += [...plain].every((c) => PRINTABLE_OR_SPACE(c.charCodeAt(0))) ? plain : "?";
-  }
+  for (const ch of text) out += asciiOf(ch) ?? "?";
   return out;
 }
 
-/** TIFF baseline text fields for the master's IFD0, in ASCII (see asciiSpelling). */
+/**
+ * Text for an ASCII field, which TIFF 6.0 Section 2 requires to be 7-bit (EXIF 2.3 likewise):
+ * each character as asciiOf spells it; a sign with no spelling is left out. When a letter or digit
+ * has no spelling (a name in CJK or Cyrillic script) the field is better absent than "??": the
+ * result is undefined and the XMP (UTF-8) alone carries the text.
+ * Examples: "Zoë Ångström" → "Zoe Angstrom"; "Søren ★ Holm" → "Soren Holm"; "山田花子" → undefined.
+ */
+export function asciiField(text: string): string | undefined {
+  let out = "";
+  for (const ch of text) {
+    const spelled = asciiOf(ch);
+    if (spelled !== null) out += spelled;
+    else if (LETTER_OR_DIGIT.test(ch)) return undefined;
+  }
+  const tidy = out.replace(/ {2,}/g, " ").trim();
+  return tidy.length > 0 ? tidy : undefined;
+}
+
+/** The rights fields that have an ASCII form, by their TIFF/EXIF names and tags. */
+function asciiFields(rights: Rights): { name: keyof typeof TIFF_TAG; text: string }[] {
+  const fields: { name: keyof typeof TIFF_TAG; text: string | undefined }[] = [
+    { name: "ImageDescription", text: rights.title ? asciiField(rights.title) : undefined },
+    { name: "Artist", text: rights.creator ? asciiField(rights.creator) : undefined },
+    { name: "Copyright", text: rights.copyright ? asciiField(rights.copyright) : undefined },
+  ];
+  return fields.filter((f): f is { name: keyof typeof TIFF_TAG; text: string } => f.text !== undefined);
+}
+
+/** TIFF baseline text fields for a TIFF's IFD0, in ASCII (see asciiField); a field with no ASCII form is left out. */
 export function tiffRightsFields(rights: Rights): TiffField[] {
-  const fields: TiffField[] = [];
-  if (rights.title)
-    fields.push({ tag: TIFF_TAG.ImageDescription, value: asciiSpelling(rights.title) });
-  if (rights.creator) fields.push({ tag: TIFF_TAG.Artist, value: asciiSpelling(rights.creator) });
-  if (rights.copyright)
-    fields.push({ tag: TIFF_TAG.Copyright, value: asciiSpelling(rights.copyright) });
-  return fields;
+  return asciiFields(rights).map(({ name, text }) => ({ tag: TIFF_TAG[name], value: text }));
 }
