@@ -14,6 +14,7 @@ import {
 } from "./schemas/mail";
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
 import { tidyLibraryBody } from "./schemas/library";
+import { deleteFragmentFilesQuery } from "./schemas/fragment-files";
 import { createIntakeBody, scanListQuery, setResolutionBody } from "./schemas/scans";
 import { updateStudioBody } from "./schemas/studio";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
@@ -201,6 +202,16 @@ export const API = {
     access: "viewer",
     mutates: false,
     params: idParams,
+  }),
+  // An admin deletes a piece's master and copies for good (asked first: the plan says what goes).
+  fragmentsFilesPlan: route({ method: "GET", path: "/api/fragments/:id/files", access: "admin", mutates: false, params: idParams }),
+  fragmentsFilesDelete: route({
+    method: "DELETE",
+    path: "/api/fragments/:id/files",
+    access: "admin",
+    mutates: true,
+    params: idParams,
+    query: deleteFragmentFilesQuery,
   }),
   fragmentsOutput: route({
     method: "GET",

@@ -117,6 +117,9 @@ function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supert
       return req.send({ name: `Renamed ${++counter}` });
     case "noticesUpdate":
       return req.send({ scanFailed: counter++ % 2 === 0 });
+    case "fragmentsFilesDelete":
+      // Shown no files: refused (409) past the role check, deleting nothing.
+      return req.query({ upTo: 0 });
     case "mailboxGet":
       return (agent as supertest.Agent).get(apiPath(spec, { id: "1700000000000-0a1b2c3d" }));
     case "auditList":

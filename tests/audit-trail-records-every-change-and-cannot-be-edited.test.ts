@@ -448,6 +448,21 @@ describe("every change a person makes is on the trail, with who, what and before
     expect(only(rows, "auth.sign_out")).toMatchObject({ actorEmail: "leaving@test.example" });
   });
 
+  it(`${route("fragmentsFilesDelete")}: an admin deletes a piece's master and copies, and the trail keeps what went`, async () => {
+    await waitFor("renders and copies of the piece to settle", async () => {
+      const { rows: busy } = await stack.database.pool.query(
+        "select 1 from pgboss.job where name in ('fragment-render', 'output-render', 'offsite-copy') and state in ('created', 'retry', 'active') limit 1",
+      );
+      return busy.length === 0 && !(await admin.get(`/api/fragments/${ids.f1}/files`)).body.plan.blocked;
+    }, 60_000);
+    const { plan } = (await admin.get(`/api/fragments/${ids.f1}/files`)).body;
+    expect(plan.files).toBeGreaterThanOrEqual(2);
+    const { rows } = await audited(() => admin.delete(`/api/fragments/${ids.f1}/files`).query({ upTo: plan.files }));
+    const row = only(rows, "fragment.delete_files");
+    expect(row).toMatchObject({ actorId: ids.admin, subjectType: "fragment", subjectId: ids.f1, after: { files: [] } });
+    expect((row.before!.files as unknown[]).length).toBe(plan.files);
+  });
+
   it("walks the route table: every mutating route has a scenario above or an exemption with a reason", () => {
     const mutating = (Object.entries(API) as [RouteName, RouteSpec][]).filter(([, s]) => s.mutates).map(([n]) => n);
     const missing = mutating.filter((n) => !covered.has(n) && !(n in EXEMPT));
@@ -560,13 +575,13 @@ describe("admins browse and filter the trail", () => {
 
     page = await list({ action: "fragment.*", limit: 200 });
     expect(new Set(page.events.map((e) => e.action))).toEqual(
-      new Set(["fragment.approve", "fragment.reject", "fragment.unreview", "fragment.edit", "fragment.reset", "fragment.draw", "fragment.merge", "fragment.unmerge", "fragment.approve_remaining"]),
+      new Set(["fragment.approve", "fragment.reject", "fragment.unreview", "fragment.edit", "fragment.reset", "fragment.draw", "fragment.merge", "fragment.unmerge", "fragment.approve_remaining", "fragment.delete_files"]),
     );
     page = await list({ action: "fragment.edit" });
     expect(page.events.map((e) => e.action)).toEqual(["fragment.edit", "fragment.edit"]);
 
     page = await list({ subjectType: "fragment", subjectId: ids.f1 });
-    expect(page.events.map((e) => e.action).reverse()).toEqual(["fragment.approve", "fragment.edit", "fragment.edit", "offsite.check", "offsite.copy"]);
+    expect(page.events.map((e) => e.action).reverse()).toEqual(["fragment.approve", "fragment.edit", "fragment.edit", "offsite.check", "offsite.copy", "fragment.delete_files"]);
 
     page = await list({ q: "seed" }); // nothing's summary says so
     expect(page.events).toEqual([]);

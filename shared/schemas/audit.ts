@@ -38,6 +38,7 @@ export const AUDIT_ACTIONS = {
   "fragment.edit": "Edited a fragment",
   "fragment.reset": "Reset a fragment",
   "fragment.draw": "Drew a fragment",
+  "fragment.delete_files": "Deleted a piece's master and copies",
   "fragment.merge": "Merged fragments",
   "fragment.unmerge": "Took a merge apart",
   "fragment.approve_remaining": "Approved the remaining fragments",

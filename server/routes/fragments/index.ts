@@ -17,6 +17,7 @@ import {
   updateFragment,
 } from "../../services/fragments";
 import { fragmentThumb } from "../../services/fragment-thumbs";
+import { deleteFragmentFiles, fragmentFilesPlan } from "../../services/fragment-files";
 import { getScan, getScanRow } from "../../services/scans";
 import type { AppDeps } from "../../app";
 import { sendStored } from "../send-stored";
@@ -57,6 +58,10 @@ export function fragmentsRouter(deps: AppDeps): Router {
     req.log.info({ fragmentId: fragment.id, patch: Object.keys(body) }, "fragment updated");
     return { fragment };
   });
+  handle(router, API.fragmentsFilesPlan, async ({ params }) => ({ plan: await fragmentFilesPlan(db, params.id) }));
+  handle(router, API.fragmentsFilesDelete, async ({ params, query, user, req }) =>
+    deleteFragmentFiles({ database, boss, library, log: req.log }, user, params.id, query.upTo),
+  );
   handle(router, API.fragmentsReset, async ({ params, user }) => ({ fragment: await resetFragment(database, boss, user, params.id) }));
   handle(router, API.fragmentsUnmerge, async ({ params, user }) => ({ fragments: await unmergeFragment(database, boss, user, params.id) }));
 

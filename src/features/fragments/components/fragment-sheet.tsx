@@ -9,6 +9,7 @@ import { SHAPE_LABELS, formatAngle, formatFragmentSize } from "../format";
 import { DescriptionForm } from "./description-form";
 import { OutputList, RenderState } from "./render-outputs";
 import { OffsiteCopy } from "./offsite-copy";
+import { DeleteFragmentFiles } from "./delete-files";
 
 function Row({ term, children }: { term: string; children: ReactNode }) {
   return (
@@ -70,6 +71,7 @@ export function FragmentFacts({
           <OutputList fragment={f} />
         </div>
         {editable && <OffsiteCopy fragment={f} />}
+        <DeleteFragmentFiles fragment={f} />
         {master && (
           <Notice tone="caution" className="mt-3">
             Pieces cut from printed publications can still be under copyright. Check the rights and

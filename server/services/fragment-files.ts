@@ -1,0 +1,134 @@
+import { and, eq, inArray, sql } from "drizzle-orm";
+import type PgBoss from "pg-boss";
+import type { Database, Db } from "../db";
+import { batchItems, fragments, outputs, scans } from "../db/schema";
+import { withTx } from "../db/tx";
+import { conflict, notFound } from "../errors";
+import type { Logger } from "../logger";
+import type { Storage } from "../storage/storage";
+import type { FragmentFilesPlan } from "../../shared/schemas/fragment-files";
+import { formatBytes } from "../../shared/units";
+import { recordAudit } from "./audit";
+import type { Actor } from "./fragments";
+
+type OutputRow = Pick<typeof outputs.$inferSelect, "id" | "kind" | "key" | "format" | "bytes">;
+
+/** Why a piece's files cannot be deleted now: something is still making or reading them. */
+async function blockedBy(db: Db, row: typeof fragments.$inferSelect): Promise<string | null> {
+  if (row.renderState === "queued" || row.renderState === "rendering")
+    return "Its master is being rendered. Delete its files once the render is done.";
+  const [busy] = await db
+    .select({ n: sql<number>`count(*)::int` })
+    .from(batchItems)
+    .where(and(eq(batchItems.fragmentId, row.id), inArray(batchItems.state, ["queued", "running"])));
+  if (busy && busy.n > 0)
+    return `A batch is still making ${busy.n === 1 ? "a copy" : `${busy.n} copies`} of this piece. Cancel it or wait until it is done.`;
+  return null;
+}
+
+async function planOf(db: Db, row: typeof fragments.$inferSelect): Promise<{ plan: FragmentFilesPlan; outs: OutputRow[] }> {
+  const outs = await db
+    .select({ id: outputs.id, kind: outputs.kind, key: outputs.key, format: outputs.format, bytes: outputs.bytes })
+    .from(outputs)
+    .where(eq(outputs.fragmentId, row.id));
+  const master = outs.find((o) => o.kind === "master");
+  const ids = outs.map((o) => o.id);
+  const [listed] = ids.length
+    ? await db
+        .select({ n: sql<number>`count(distinct ${batchItems.batchId})::int` })
+        .from(batchItems)
+        .where(inArray(batchItems.outputId, ids))
+    : [{ n: 0 }];
+  return {
+    outs,
+    plan: {
+      master: master ? { format: master.format, bytes: master.bytes } : null,
+      copies: outs.length - (master ? 1 : 0),
+      files: outs.length,
+      bytes: outs.reduce((sum, o) => sum + o.bytes, 0),
+      batches: listed?.n ?? 0,
+      blocked: await blockedBy(db, row),
+    },
+  };
+}
+
+async function fragmentRow(db: Db, id: string) {
+  const [row] = await db.select().from(fragments).where(eq(fragments.id, id));
+  if (!row) throw notFound("That fragment");
+  return row;
+}
+
+/** What deleting the piece's files would remove, for the admin to read before confirming. */
+export async function fragmentFilesPlan(db: Db, id: string): Promise<FragmentFilesPlan> {
+  return (await planOf(db, await fragmentRow(db, id))).plan;
+}
+
+/**
+ * Deletes a piece's master, its web copy and every batch copy made from it, for good: the rows in
+ * one transaction with the audit row (the piece, if approved, is rejected with it, so nothing
+ * renders it again by itself), then the files. Refused while its render or a batch copy of it is
+ * in flight, and when more files would go than the admin was shown (`upTo`). The original scan is
+ * untouched (originals are never removed), so approving the piece again renders a new master from
+ * it. Copies already in the off-site bucket stay there. Batches that listed a copy keep their item,
+ * without the file. A file the library cannot remove now is left for the tidy (no row names it).
+ */
+export async function deleteFragmentFiles(
+  deps: { database: Database; boss: PgBoss; library: Storage; log: Logger },
+  actor: Actor,
+  id: string,
+  upTo: number,
+): Promise<{ removed: number; notRemoved: number }> {
+  const keys = await withTx(deps.database, deps.boss, async (tx) => {
+    const [row] = await tx.db.select().from(fragments).where(eq(fragments.id, id)).for("update");
+    if (!row) throw notFound("That fragment");
+    const { plan, outs } = await planOf(tx.db, row);
+    if (plan.blocked) throw conflict(plan.blocked);
+    if (plan.files === 0) throw conflict("This piece has no master or copies to delete.");
+    if (plan.files > upTo)
+      throw conflict(`This would delete ${plan.files} files, more than the ${upTo} you were shown. Look at what goes again.`);
+    const ids = outs.map((o) => o.id);
+    await tx.db.update(batchItems).set({ outputId: null }).where(inArray(batchItems.outputId, ids));
+    await tx.db.delete(outputs).where(inArray(outputs.id, ids));
+    const wasApproved = row.status === "approved";
+    await tx.db
+      .update(fragments)
+      .set({
+        ...(wasApproved ? { status: "rejected" as const, reviewedBy: actor.id, reviewedAt: new Date() } : {}),
+        renderState: "none",
+        renderError: null,
+        updatedAt: new Date(),
+      })
+      .where(eq(fragments.id, id));
+    const [scan] = await tx.db.select({ name: scans.originalName }).from(scans).where(eq(scans.id, row.scanId));
+    const label = row.title ? `“${row.title}”` : `fragment ${row.position} of ${scan?.name ?? "a scan"}`;
+    await recordAudit(tx, {
+      action: "fragment.delete_files",
+      subjectType: "fragment",
+      subjectId: id,
+      summary: `Deleted the master and ${plan.copies} ${plan.copies === 1 ? "copy" : "copies"} of ${label} (${formatBytes(plan.bytes)})${wasApproved ? "; it is no longer approved" : ""}`,
+      before: {
+        status: row.status,
+        revision: row.revision,
+        files: outs.map((o) => ({ kind: o.kind, format: o.format, bytes: o.bytes, key: o.key })),
+      },
+      after: { status: wasApproved ? "rejected" : row.status, files: [] },
+    });
+    await tx.notify({ kind: "scan", scanId: row.scanId });
+    // (Its small pictures are cut from the scan's preview, not from the master: they stay.)
+    return outs.map((o) => o.key);
+  });
+
+  let removed = 0;
+  let notRemoved = 0;
+  for (const key of keys) {
+    try {
+      await deps.library.remove(key);
+      removed++;
+    } catch (err) {
+      notRemoved++;
+      deps.log.warn({ err, key }, "delete files: not removed now; the tidy will");
+    }
+  }
+  deps.log.info({ fragmentId: id, removed, notRemoved }, "delete files: done");
+  return { removed, notRemoved };
+}

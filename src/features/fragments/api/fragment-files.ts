@@ -1,0 +1,26 @@
+import { useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
+import { API } from "../../../../shared/api";
+import { deleteFragmentFilesResponse, fragmentFilesPlanResponse } from "../../../../shared/schemas/fragment-files";
+import { apiRequest } from "../../../lib/api-client";
+import { fragmentKeys } from "./keys";
+
+/** What deleting the piece's files would remove (admins), asked for when the admin opens it. */
+export function useFragmentFilesPlan(id: string, enabled: boolean) {
+  return useQuery({
+    queryKey: [...fragmentKeys.detail(id), "files-plan"] as const,
+    queryFn: async ({ signal }) => (await apiRequest(API.fragmentsFilesPlan, { params: { id }, schema: fragmentFilesPlanResponse, signal })).plan,
+    enabled,
+    staleTime: 0,
+  });
+}
+
+/** Deletes them, no more files than `upTo` (what the admin was shown). */
+export function useDeleteFragmentFiles(id: string) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (upTo: number) =>
+      apiRequest(API.fragmentsFilesDelete, { params: { id }, query: { upTo }, schema: deleteFragmentFilesResponse, quiet: true }),
+    // Scans and batches follow through the live event the deletion sends.
+    onSettled: () => void queryClient.invalidateQueries({ queryKey: fragmentKeys.all }),
+  });
+}
