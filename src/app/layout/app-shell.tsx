@@ -1,5 +1,5 @@
 import type { ReactNode } from "react";
-import { NavLink, useNavigate } from "react-router-dom";
+import { NavLink } from "react-router-dom";
 import { hasRole, ROLE_LABELS } from "../../../shared/roles";
 import type { SessionUser } from "../../../shared/schemas/auth";
 import { BrandMark } from "../../components/brand-mark";
@@ -52,8 +52,8 @@ const STUDIO_ICON = icon("M3.5 16.5v-9l6.5-4 6.5 4v9zM8 16.5v-5h4v5");
 /** The frame around every signed-in page: a rail with the studio, the screens and who is here. */
 export function AppShell({ user, children }: { user: SessionUser; children: ReactNode }) {
   const studio = useStudio();
+  // Once signed out, the signed-in frame sends the page to sign in (ProtectedLayout).
   const logout = useLogout();
-  const navigate = useNavigate();
   // The development mailbox exists only while mail goes to the local fake (404 otherwise).
   const mailbox = useMailbox(hasRole(user.role, "admin"));
 
@@ -75,9 +75,7 @@ export function AppShell({ user, children }: { user: SessionUser; children: Reac
     ...(mailbox.data ? [{ to: paths.mailbox, label: "Mailbox", icon: MAILBOX_ICON }] : []),
   ];
 
-  const signOut = () => {
-    logout.mutate(undefined, { onSettled: () => navigate(paths.signIn, { replace: true }) });
-  };
+  const signOut = () => logout.mutate();
 
   return (
     <div className="flex min-h-screen">

@@ -1,5 +1,6 @@
 import { Navigate, Outlet, useLocation } from "react-router-dom";
-import { signInPath } from "../../config/paths";
+import { paths, signInPath } from "../../config/paths";
+import { justSignedOut } from "../../lib/signed-out";
 import { useMe } from "../../features/auth/api/get-me";
 import { SessionProvider } from "../../lib/authorization";
 import { LoadError } from "../../components/notice";
@@ -27,6 +28,8 @@ export function ProtectedLayout() {
     );
   }
   if (!me.data) {
+    // Signed out here: to the sign-in page itself (it says so), not back to this page afterwards.
+    if (justSignedOut()) return <Navigate to={paths.signIn} replace />;
     return <Navigate to={signInPath(location.pathname + location.search)} replace />;
   }
   return (

@@ -1,6 +1,8 @@
+import { useEffect, useState } from "react";
 import { Link, Navigate, useNavigate, useSearchParams } from "react-router-dom";
 import { BrandMark } from "../../components/brand-mark";
 import { paths, safeNext } from "../../config/paths";
+import { clearSignedOut, justSignedOut } from "../../lib/signed-out";
 import { useMe } from "../../features/auth/api/get-me";
 import { SignInForm } from "../../features/auth/components/sign-in-form";
 import { useStudio } from "../../features/studio/api/get-studio";
@@ -11,6 +13,9 @@ export function SignInRoute() {
   const me = useMe();
   const studio = useStudio();
   const next = safeNext(params.get("next"));
+  // Only right after this browser signed out: a reload or a fresh visit says nothing.
+  const [signedOut] = useState(justSignedOut);
+  useEffect(clearSignedOut, []);
 
   if (me.data) return <Navigate to={next} replace />;
 
@@ -27,6 +32,15 @@ export function SignInRoute() {
             {studio.data ? "Sign in to the studio's Platen" : "Sign in to your studio"}
           </p>
         </div>
+        {signedOut && (
+          <p
+            role="status"
+            data-testid="signed-out"
+            className="mb-4 rounded-lg border border-accent/30 bg-accent-faint px-4 py-2.5 text-center text-sm text-accent-strong"
+          >
+            You are signed out.
+          </p>
+        )}
         <div className="rounded-xl border border-paper-300 bg-paper-50 px-7 py-7 shadow-sheet">
           <SignInForm onSignedIn={() => navigate(next, { replace: true })} />
           <p className="mt-5 text-center text-sm">

@@ -18,26 +18,14 @@ import { FragmentFilters, type FragmentFilter } from "./fragment-filters";
 import { FragmentGrid } from "./fragment-grid";
 import { PresetChecklist } from "./preset-checklist";
 
-/** The filter as the API takes it: only the set fields, the search trimmed. */
-function cleanFilter(f: FragmentFilter): NonNullable<CreateBatchBody["selection"]["filter"]> {
-  const out: NonNullable<CreateBatchBody["selection"]["filter"]> = {};
-  if (f.intakeId) out.intakeId = f.intakeId;
-  if (f.scanId) out.scanId = f.scanId;
-  if (f.tag) out.tag = f.tag;
-  if (f.shape) out.shape = f.shape;
-  if (f.status) out.status = f.status;
-  if (f.q?.trim()) out.q = f.q.trim();
-  return out;
-}
-
 /**
- * Builds a batch: fragments picked on the grid (or every one matching the filters, sent as the
- * filter itself), presets ticked, the count and expected size estimated live, a name, run.
+ * Builds a batch: fragments picked on the grid (or every one matching the filters at that moment,
+ * taken as that set of fragments: changing the filters later neither adds nor drops any), presets
+ * ticked, the count and expected size estimated live, a name, run.
  */
 export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter }) {
   const navigate = useNavigate();
   const [filter, setFilter] = useState<FragmentFilter>(initialFilter);
-  const [matching, setMatching] = useState(false);
   const [picked, setPicked] = useState<Set<string>>(() => new Set());
   const [anchor, setAnchor] = useState<number | null>(null);
   const [presetIds, setPresetIds] = useState<string[]>([]);
@@ -64,8 +52,17 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
     return list;
   }, [pool.data, filter.intakeId, filter.scanId, filter.tag, filter.shape, scanList]);
 
-  const selectedCount = matching ? fragments.length : picked.size;
-  const isSelected = (id: string) => matching || picked.has(id);
+  const selectedCount = picked.size;
+  const isSelected = (id: string) => picked.has(id);
+  const shownPicked = fragments.reduce((n, f) => n + (picked.has(f.id) ? 1 : 0), 0);
+  const hiddenPicked = picked.size - shownPicked;
+  const allShownPicked = fragments.length > 0 && shownPicked === fragments.length;
+  // "All matching" takes what the grid shows, so it waits while the grid still shows the last
+  // filter's fragments (a search being typed, a list on its way).
+  const settling =
+    pool.isPlaceholderData ||
+    (filter.q?.trim() || undefined) !== q ||
+    Boolean(filter.intakeId && !filter.scanId && (scans.isPlaceholderData || scans.isPending));
 
   const changeFilter = (next: FragmentFilter) => {
     setFilter(next);
@@ -74,8 +71,7 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
 
   const toggle = (index: number, event: MouseEvent<HTMLInputElement>) => {
     const f = fragments[index]!;
-    // Unticking one of "all matching" turns the selection into the shown ones, less that one.
-    const base = matching ? new Set(fragments.map((x) => x.id)) : new Set(picked);
+    const base = new Set(picked);
     const on = !base.has(f.id);
     if (event.shiftKey && anchor !== null) {
       const [a, b] = anchor < index ? [anchor, index] : [index, anchor];
@@ -85,17 +81,15 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
       }
     } else if (on) base.add(f.id);
     else base.delete(f.id);
-    setMatching(false);
     setPicked(base);
     setAnchor(index);
   };
 
   const body: CreateBatchBody | null = useMemo(() => {
     if (presetIds.length === 0) return null;
-    if (matching) return { selection: { filter: cleanFilter({ ...filter, q }) }, presetIds };
     if (picked.size === 0) return null;
     return { selection: { fragmentIds: [...picked].slice(0, MAX_PICKED) }, presetIds };
-  }, [matching, filter, q, picked, presetIds]);
+  }, [picked, presetIds]);
   const estimate = useBatchEstimate(body);
 
   const waitingFor =
@@ -133,44 +127,64 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
           />
           <div className="flex flex-wrap items-center gap-3 rounded-lg border border-paper-300 bg-white px-4 py-2.5">
             <span className="text-sm text-ink" aria-live="polite" data-testid="selected-count">
-              {matching ? (
+              {allShownPicked && hiddenPicked === 0 ? (
                 <>
-                  All <span className="figure font-semibold">{fragments.length}</span> matching these filters
+                  All <span className="figure font-semibold">{picked.size}</span> matching these filters selected
                 </>
               ) : (
                 <>
                   <span className="figure font-semibold">{picked.size}</span> selected
+                  {hiddenPicked > 0 && (
+                    <span className="text-ink-soft">
+                      {" "}
+                      · <span className="figure font-semibold">{hiddenPicked}</span> of them not shown by these filters
+                    </span>
+                  )}
                 </>
               )}
             </span>
-            {fragments.length > 0 && (
+            {fragments.length > 0 && !allShownPicked && (
               <Button
                 size="sm"
-                variant={matching ? "primary" : "secondary"}
-                aria-pressed={matching}
+                variant="secondary"
+                disabled={settling}
+                title="Takes the fragments shown now; changing the filters afterwards keeps the selection as it is"
                 onClick={() => {
-                  setMatching(true);
-                  setPicked(new Set());
+                  // Nothing picked: all matching. Something picked: the shown ones are added to it.
+                  setPicked(new Set([...picked, ...fragments.map((f) => f.id)]));
+                  setAnchor(null);
                 }}
               >
-                Select all {fragments.length} matching
+                {picked.size === 0
+                  ? `Select all ${fragments.length} matching`
+                  : `Add the ${fragments.length - shownPicked} matching`}
               </Button>
             )}
-            {(matching || picked.size > 0) && (
+            {hiddenPicked > 0 && (
+              <Button
+                size="sm"
+                variant="quiet"
+                onClick={() => setPicked(new Set(fragments.filter((f) => picked.has(f.id)).map((f) => f.id)))}
+              >
+                Drop the {hiddenPicked} not shown
+              </Button>
+            )}
+            {picked.size > 0 && (
               <Button
                 size="sm"
                 variant="quiet"
                 onClick={() => {
-                  setMatching(false);
                   setPicked(new Set());
+                  setAnchor(null);
                 }}
               >
                 Clear selection
               </Button>
             )}
-            {matching && (
-              <span className="text-xs text-ink-muted">
-                The batch takes the approved fragments that match these filters when it runs.
+            {picked.size > 0 && (
+              <span className="basis-full text-xs text-ink-muted" data-testid="selection-rule">
+                The batch makes copies of these {plural(picked.size, "fragment")}; changing the filters does not add or
+                remove any.
               </span>
             )}
           </div>
@@ -224,7 +238,7 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
               onChange={(e) => setName(e.target.value)}
             />
             <Button type="submit" variant="primary" disabled={!body} busy={create.isPending}>
-              {estimate.data && body ? `Run ${plural(estimate.data.outputs, "output")}` : "Run batch"}
+              {estimate.data && body && !estimate.isPlaceholderData ? `Run ${plural(estimate.data.outputs, "output")}` : "Run batch"}
             </Button>
           </div>
         </Panel>

@@ -37,7 +37,7 @@ export function FragmentStrip({
   return (
     <section
       aria-label="Fragments"
-      className="rounded-xl border border-paper-300 bg-paper-50 shadow-sheet"
+      className="shrink-0 rounded-xl border border-paper-300 bg-paper-50 shadow-sheet"
     >
       <header className="flex items-center justify-between gap-3 px-4 pt-2">
         <h2 className="text-xs font-semibold tracking-wider text-ink-muted uppercase">

@@ -42,7 +42,7 @@ export const REVIEW_KEYS: Array<{ keys: string[]; what: string; editing?: boolea
 /** The review keys, always on screen, with the last thing done (also read out). */
 export function KeyLegend({ announcement }: { announcement: string }) {
   return (
-    <div className="flex flex-wrap items-center gap-x-4 gap-y-1.5 rounded-lg border border-paper-300 bg-paper-50 px-4 py-2 text-xs text-ink-soft">
+    <div className="flex shrink-0 flex-wrap items-center gap-x-4 gap-y-1.5 rounded-lg border border-paper-300 bg-paper-50 px-4 py-2 text-xs text-ink-soft">
       <h2 className="sr-only">Keys</h2>
       <ul className="flex flex-wrap items-center gap-x-4 gap-y-1.5" aria-label="Keys">
         {REVIEW_KEYS.map((k) => (

@@ -21,6 +21,30 @@ const LINE: Record<FragmentStatus, { color: string; dash?: string }> = {
 
 const pointsOf = (pts: Point[]) => pts.map(([x, y]) => `${x},${y}`).join(" ");
 
+/** The outline drawn for a fragment: the server's, or its rect while a new outline is on its way. */
+function shownOutline(fragment: ShownFragment, placement: Placement): Point[] {
+  return fragment.shape === "rectangle" && fragment.geometryPending
+    ? rectCorners(placement.rect, placement.angle)
+    : fragment.outline;
+}
+
+/** A fragment's label: its text, its size (scan pixels at `k` scan pixels a screen pixel) and the box it labels. */
+export function labelMetrics(fragment: ShownFragment, placement: Placement, k: number) {
+  const pts = [
+    ...shownOutline(fragment, placement),
+    ...rectCorners(placement.rect, placement.angle),
+  ];
+  const xs = pts.map((p) => p[0]);
+  const ys = pts.map((p) => p[1]);
+  const text = `${fragment.position} ${FRAGMENT_STATUS_MARKS[fragment.status]}`;
+  return {
+    text,
+    width: (text.length * 7.6 + 10) * k,
+    height: 18 * k,
+    box: { x0: Math.min(...xs), y0: Math.min(...ys), x1: Math.max(...xs), y1: Math.max(...ys) },
+  };
+}
+
 export type ShapePointerHandler = (
   event: ReactPointerEvent<SVGElement>,
   target: { id: string; grip: "body" | "rotate" | Handle },
@@ -34,6 +58,7 @@ export type ShapePointerHandler = (
 export function OverlayShape({
   fragment,
   placement,
+  label,
   k,
   primary,
   picked,
@@ -43,6 +68,8 @@ export function OverlayShape({
 }: {
   fragment: ShownFragment;
   placement: Placement;
+  /** Where the label's top-left corner goes (scan pixels), placed clear of the other labels. */
+  label: { x: number; y: number };
   k: number;
   primary: boolean;
   picked: boolean;
@@ -55,8 +82,7 @@ export function OverlayShape({
   const line = LINE[status];
   const corners = rectCorners(placement.rect, placement.angle);
   // The server recomputes a rectangle's outline from its rect; until then show the rect itself.
-  const outline: Point[] =
-    fragment.shape === "rectangle" && fragment.geometryPending ? corners : fragment.outline;
+  const outline = shownOutline(fragment, placement);
   const emphasis = primary || picked;
   const width = primary ? 2.75 : picked ? 2.25 : 1.5;
   const dash = line.dash
@@ -64,16 +90,10 @@ export function OverlayShape({
     .map((n) => Number(n) * (primary ? 1.4 : 1))
     .join(" ");
 
-  const xs = [...outline, ...corners].map((p) => p[0]);
-  const ys = [...outline, ...corners].map((p) => p[1]);
-  const left = Math.min(...xs);
-  const top = Math.min(...ys);
-  const labelText = `${fragment.position} ${FRAGMENT_STATUS_MARKS[status]}`;
+  const { text: labelText, width: labelW, height: labelH } = labelMetrics(fragment, placement, k);
   const fontSize = 12 * k;
-  const labelW = (labelText.length * 7.6 + 10) * k;
-  const labelH = 18 * k;
-  const labelY = top - labelH - 3 * k >= 0 ? top - labelH - 3 * k : top + 3 * k;
-  const labelX = Math.max(0, left);
+  const labelX = label.x;
+  const labelY = label.y;
 
   const grip = (g: "body" | "rotate" | Handle) => (event: ReactPointerEvent<SVGElement>) =>
     onGrip(event, { id: fragment.id, grip: g });
@@ -131,7 +151,7 @@ export function OverlayShape({
           pointerEvents="none"
         />
       )}
-      <g pointerEvents="none">
+      <g pointerEvents="none" data-fragment-label={fragment.position}>
         <rect
           x={labelX}
           y={labelY}

@@ -13,7 +13,8 @@ import {
   type Handle,
   type Placement,
 } from "./edit-geometry";
-import { OverlayShape, type ShapePointerHandler } from "./overlay-shape";
+import { placeLabels } from "./label-placement";
+import { labelMetrics, OverlayShape, type ShapePointerHandler } from "./overlay-shape";
 
 export interface OverlayScan {
   id: string;
@@ -258,6 +259,19 @@ export function ReviewOverlay({
     return () => window.removeEventListener("keydown", onKey, true);
   }, []);
 
+  const shownPlacement = (f: ShownFragment) => (draft?.id === f.id ? draft.placement : placementOf(f));
+  const labels = placeLabels(
+    [...fragments]
+      .sort((a, b) => a.position - b.position)
+      .map((f) => {
+        const m = labelMetrics(f, shownPlacement(f), k);
+        return { id: f.id, box: m.box, width: m.width, height: m.height };
+      }),
+    W,
+    H,
+    3 * k,
+  );
+
   const picked = new Set(pickedIds);
   const ordered = [...fragments].sort(
     (a, b) =>
@@ -314,7 +328,8 @@ export function ReviewOverlay({
           <OverlayShape
             key={f.id}
             fragment={f}
-            placement={draft?.id === f.id ? draft.placement : placementOf(f)}
+            placement={shownPlacement(f)}
+            label={labels.get(f.id) ?? { x: 0, y: 0 }}
             k={k}
             primary={f.id === primaryId}
             picked={picked.has(f.id)}

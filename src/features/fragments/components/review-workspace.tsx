@@ -100,9 +100,15 @@ export function ReviewWorkspace({
   const sayTooSmall = () =>
     review.say(`Nothing drawn: drag a rectangle at least ${MIN_DRAWN_MM} mm each way`);
 
+  // The workspace fills the window below the breadcrumb (the page's top padding, the breadcrumb and
+  // a little room below take 4.5 rem), so the key legend at its foot is in sight at 1024 × 768 too;
+  // the scan takes what the tools, the strip and the legend leave; a very short window scrolls.
   return (
-    <div className="flex flex-col gap-3">
-      <div className="flex items-end justify-between gap-3">
+    <div
+      className="flex h-[max(34rem,calc(100dvh-4.5rem))] flex-col gap-3"
+      data-testid="review-workspace"
+    >
+      <div className="flex shrink-0 items-end justify-between gap-3">
         <div className="min-w-0 shrink-0">
           {heading}
           <ReviewCounts fragments={fragments} />
@@ -174,9 +180,9 @@ export function ReviewWorkspace({
         </Notice>
       )}
 
-      <div className="grid grid-cols-[minmax(0,1fr)_22rem] gap-3">
-        <div className="flex min-w-0 flex-col gap-3">
-          <div className="relative h-[max(22rem,calc(100vh-24.5rem))]">
+      <div className="grid min-h-0 flex-1 grid-cols-[minmax(0,1fr)_22rem] gap-3">
+        <div className="flex min-h-0 min-w-0 flex-col gap-3">
+          <div className="relative min-h-[12rem] flex-1">
             {fragments.length === 0 && !splitting ? (
               <div className="relative size-full">
                 <ReviewOverlay

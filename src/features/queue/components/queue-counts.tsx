@@ -36,10 +36,20 @@ export function QueueCounts({
               title={STATUS_HINTS[status]}
               className="rounded-xl border border-paper-300 bg-paper-50 px-5 pt-4 pb-5 shadow-sheet"
             >
-              <div className="flex items-center justify-between gap-2">
-                <span className="flex items-center gap-2 text-sm font-medium text-ink-soft">
-                  <StatusGlyph status={status} className={FIGURE_TONE[status]} />
-                  {label}
+              <span className="flex items-center gap-2 text-sm font-medium text-ink-soft">
+                <StatusGlyph status={status} className={FIGURE_TONE[status]} />
+                {label}
+              </span>
+              {/* The figure, and beside it (not beside the label, where narrow cards crowd it) the way to the list. */}
+              <div className="mt-3 flex items-end justify-between gap-2">
+                <span
+                  aria-label={`${label} count`}
+                  className={cn(
+                    "figure block text-4xl leading-none font-medium",
+                    n === 0 ? "text-ink-faint" : FIGURE_TONE[status],
+                  )}
+                >
+                  {n}
                 </span>
                 {linkFor && n > 0 && (
                   <Link
@@ -51,15 +61,6 @@ export function QueueCounts({
                   </Link>
                 )}
               </div>
-              <span
-                aria-label={`${label} count`}
-                className={cn(
-                  "figure mt-3 block text-4xl leading-none font-medium",
-                  n === 0 ? "text-ink-faint" : FIGURE_TONE[status],
-                )}
-              >
-                {n}
-              </span>
             </div>
           </li>
         );

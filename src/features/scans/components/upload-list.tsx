@@ -55,24 +55,58 @@ function Result({ item }: { item: UploadItem }) {
         </span>
       );
     case "refused":
-      return <span className="text-brick">Refused: {item.message}</span>;
+      return (
+        <span className="text-brick [overflow-wrap:anywhere]" data-testid="refusal">
+          Refused: {item.message}
+        </span>
+      );
   }
+}
+
+/** "2 added · 1 already in the library · 3 refused · 1 to go": each outcome counted on its own. */
+function uploadSummary(items: UploadItem[]): string[] {
+  const n = (states: UploadItem["state"][]) => items.filter((i) => states.includes(i.state)).length;
+  const added = n(["queued"]);
+  const duplicates = n(["duplicate"]);
+  const refused = n(["refused"]);
+  const inFlight = n(["waiting", "sending"]);
+  const parts = [`${added} added`];
+  if (duplicates > 0) parts.push(`${duplicates} already in the library`);
+  if (refused > 0) parts.push(`${refused} refused`);
+  if (inFlight > 0) parts.push(`${inFlight} to go`);
+  return parts;
 }
 
 /** One line per file sent this session, with its progress and then its result. */
 export function UploadList({ items, onClear }: { items: UploadItem[]; onClear: () => void }) {
   if (items.length === 0) return null;
   const finished = items.filter((i) => i.state !== "waiting" && i.state !== "sending").length;
+  // Refused files first, so their reasons stay in sight above a long list of added ones.
+  const shown = [
+    ...items.filter((i) => i.state === "refused"),
+    ...items.filter((i) => i.state !== "refused"),
+  ];
   return (
     <section
       aria-labelledby="uploads-title"
       className="rounded-xl border border-paper-300 bg-paper-50"
     >
-      <header className="flex items-center justify-between border-b border-paper-200 px-5 py-2.5">
+      <header className="flex items-center justify-between gap-3 border-b border-paper-200 px-5 py-2.5">
         <h2 id="uploads-title" className="text-sm font-semibold text-ink-soft">
           Uploads{" "}
-          <span className="figure ml-1 text-xs font-normal text-ink-muted" aria-live="polite">
-            {finished}/{items.length} done
+          <span
+            className="figure ml-1 text-xs font-normal text-ink-muted"
+            aria-live="polite"
+            data-testid="upload-summary"
+          >
+            {uploadSummary(items).map((part, i) => (
+              <span key={part}>
+                {i > 0 && " · "}
+                <span className={cn(part.endsWith("refused") && "font-medium text-brick")}>
+                  {part}
+                </span>
+              </span>
+            ))}
           </span>
         </h2>
         {finished > 0 && (
@@ -85,7 +119,7 @@ export function UploadList({ items, onClear }: { items: UploadItem[]; onClear: (
         aria-label="Upload results"
         className="max-h-64 divide-y divide-paper-200 overflow-y-auto"
       >
-        {items.map((item) => (
+        {shown.map((item) => (
           <li
             key={item.key}
             className={cn(
