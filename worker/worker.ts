@@ -15,6 +15,7 @@ import { offsiteCheckJob, offsiteCopyJob } from "./jobs/offsite";
 import { noticeJob } from "./jobs/mail-notice";
 import { mailSendJob } from "./jobs/mail-send";
 import { libraryTidyJob } from "./jobs/library-tidy";
+import { rewriteRightsJob } from "./jobs/rights";
 import { closeStaleBatches } from "../server/services/batches";
 import { createMailer, type Mailer } from "../server/mail/mailer";
 import type { JobContext } from "./jobs/context";
@@ -67,6 +68,8 @@ export async function startWorker(deps: WorkerDeps) {
     [QUEUES.notice, (_d, data, ctx) => noticeJob(mailDeps, data, ctx)],
     [QUEUES.mail, (_d, data, ctx) => mailSendJob(mailDeps, data, ctx)],
     [QUEUES.libraryTidy, libraryTidyJob],
+    // Metadata only (the files are copied, not decoded): beside the image jobs, not in their slots.
+    [QUEUES.rights, rewriteRightsJob],
   ];
 
   /** Runs one job's handler, logging the outcome; throws what the handler threw. */

@@ -15,6 +15,8 @@ export const QUEUES = {
   notice: "mail-notice",
   /** Hands one outbox message to the mail server. */
   mail: "mail-send",
+  /** Writes a new title (or the studio's rights) into one fragment's existing master and web copy. */
+  rights: "fragment-rights",
   /** Removes library files nothing names any more (once a day, by whichever worker asks first). */
   libraryTidy: "library-tidy",
 } as const;
@@ -78,6 +80,13 @@ export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Om
     [QUEUES.libraryTidy]: {
       policy: "singleton",
       retryLimit: 0,
+      expireInSeconds: cfg.jobExpireSeconds,
+    },
+    [QUEUES.rights]: {
+      policy: "standard",
+      retryLimit: cfg.jobRetryLimit,
+      retryDelay: 2,
+      retryBackoff: true,
       expireInSeconds: cfg.jobExpireSeconds,
     },
     [QUEUES.offsiteCheck]: {

@@ -4,6 +4,7 @@ import type { Database, Db } from "../db";
 import { fragments, outputs, scans } from "../db/schema";
 import { withTx, type Tx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
+import type { RightsPayload } from "../../shared/schemas/jobs";
 import { badRequest, conflict, notFound } from "../errors";
 import { presentFragment } from "../presenters/fragment";
 import type { Role } from "../../shared/roles";
@@ -223,6 +224,10 @@ export async function updateFragment(database: Database, boss: PgBoss, actor: Ac
     await auditUpdate(tx, scan, row, updated!);
     const approvedNow = updated!.status === "approved" && (row.status !== "approved" || geometryChanged);
     if (approvedNow) await queueRender(tx, updated!);
+    // A new title bumps no revision: the master and web copy made already get it written into
+    // their metadata (the job does nothing while a render is unfinished; that render writes it).
+    else if (updated!.status === "approved" && !updated!.mergedInto && (updated!.title ?? null) !== (row.title ?? null))
+      await tx.send(QUEUES.rights, { fragmentId: id, rights: "keep" } satisfies RightsPayload);
     await tx.notify({ kind: "scan", scanId: row.scanId });
   });
   return getFragment(database.db, id, actor.role);

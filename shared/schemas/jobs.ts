@@ -17,6 +17,16 @@ export const renderPayload = z.object({
 });
 export type RenderPayload = z.infer<typeof renderPayload>;
 
+/**
+ * Payload of the rights job: write the fragment's current title into its existing master and web
+ * copy, with the creator and copyright they carry ("keep") or the studio's current ones ("studio").
+ */
+export const rightsPayload = z.object({
+  fragmentId: z.uuid(),
+  rights: z.enum(["keep", "studio"]).default("keep"),
+});
+export type RightsPayload = z.input<typeof rightsPayload>;
+
 /** Payload of the output job: make one batch item (a fragment × a preset version). */
 export const outputPayload = z.object({ batchItemId: z.uuid() });
 

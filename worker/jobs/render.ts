@@ -13,7 +13,7 @@ import type { S3Storage } from "../../server/storage/s3";
 import { queueOffsiteCopy } from "../../server/services/offsite";
 import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
-import { renderPayload } from "../../shared/schemas/jobs";
+import { renderPayload, type RightsPayload } from "../../shared/schemas/jobs";
 import type { RecipeInput } from "../../shared/schemas/recipes";
 import { isRenderError, renderEach, type BatchItem, type RenderResult } from "../pipeline/render";
 import { isScanError } from "../pipeline/metadata";
@@ -464,6 +464,8 @@ async function store(deps: RenderDeps, m: Member, r: RenderResult, jobId: string
   const client = await deps.database.pool.connect();
   const lockKey = `fragment-render:${row.id}`;
   let saved: { id: string } | undefined;
+  // Set once the files are stored: whether the title changed while they were made.
+  let retitled: boolean | undefined;
   // A connection whose unlock failed is closed, not pooled: closing it releases the lock.
   let broken: Error | undefined;
   try {
@@ -516,6 +518,11 @@ async function store(deps: RenderDeps, m: Member, r: RenderResult, jobId: string
         if (o.kind === "master") saved = out;
       }
       await markDone(deps, row, db);
+      // A title edited while this rendered (it bumps no revision) is written into the files now
+      // stored. Read after markDone, whose update waited for any edit holding the row: an edit
+      // committed later finds the fragment done and queues the same rewrite itself.
+      const [after] = await db.select({ title: fragments.title }).from(fragments).where(eq(fragments.id, row.id));
+      retitled = (after?.title ?? null) !== (row.title ?? null);
     } finally {
       await client.query("select pg_advisory_unlock(hashtextextended($1, 0))", [lockKey]).catch((err: Error) => {
         broken = err;
@@ -524,6 +531,10 @@ async function store(deps: RenderDeps, m: Member, r: RenderResult, jobId: string
     }
   } finally {
     client.release(broken);
+  }
+  if (retitled) {
+    if (deps.boss) await deps.boss.send(QUEUES.rights, { fragmentId: row.id, rights: "keep" } satisfies RightsPayload);
+    else m.log.warn("render: the title changed while rendering, and no queue to rewrite it");
   }
   // Every new master also goes off-site when a bucket is configured (a job of its own).
   if (saved && deps.offsite && deps.boss) await queueOffsiteCopy(deps.database, deps.boss, saved.id, mKey);

@@ -15,6 +15,8 @@ import fs from "node:fs/promises";
 
 /** TIFF 6.0 Section 2 field types used here. */
 const ASCII = 2;
+/** BYTE: 8-bit unsigned integers, the type the XMP specification gives tag 700 (ISO 16684-1 Part 3, from memory). */
+export const BYTE = 1;
 const UNDEFINED = 7;
 /**
  * Bytes per value of each field type (TIFF 6.0 Section 2: 1 BYTE … 12 DOUBLE; 13 IFD from the
@@ -28,12 +30,27 @@ export const TIFF_TAG = {
   Artist: 315,
   Copyright: 33432,
   InterColorProfile: 34675,
+  /** The XMP packet (XMP specification Part 3, "TIFF": tag 700, XMLPacket, from memory). */
+  XMLPacket: 700,
 } as const;
 
 export interface TiffField {
   tag: number;
   /** Text is written as an ASCII field, NUL-terminated (pass 7-bit text: see rights.ts asciiSpelling); bytes as UNDEFINED. */
   value: string | Buffer;
+  /** The field type for bytes (default UNDEFINED, 7); text is always ASCII. */
+  type?: number;
+}
+
+export interface FieldEdits {
+  /** Tags removed from IFD0 (a tag both here and in the fields is replaced). */
+  remove?: number[];
+  /**
+   * Zero the old values of the replaced and removed fields (their bytes outside the new directory,
+   * and their entries in the old one), so the text written over is not left behind by this edit.
+   * Values that directories before the current one left unreferenced are not looked for.
+   */
+  scrub?: boolean;
 }
 
 interface Entry {
@@ -55,7 +72,7 @@ interface Write {
  * through `read(position, length)`. Throws a plain Error naming `name` for a file that is not a
  * classic TIFF. Shared by the file and the in-memory forms below.
  */
-async function planFields(read: (position: number, length: number) => Promise<Buffer>, size: number, fields: TiffField[], name: string): Promise<Write[]> {
+async function planFields(read: (position: number, length: number) => Promise<Buffer>, size: number, fields: TiffField[], name: string, edits: FieldEdits = {}): Promise<Write[]> {
   const header = await read(0, 8);
   const order = header.toString("latin1", 0, 2);
   if (order !== "II" && order !== "MM") {
@@ -77,12 +94,20 @@ async function planFields(read: (position: number, length: number) => Promise<Bu
   const body = await read(ifd0 + 2, count * 12 + 4);
   // One entry per tag (TIFF 6.0 Section 2: entries sorted by tag): of two fields with the same tag, the later one.
   const added = [...new Map(fields.map((f) => [f.tag, f])).values()];
-  const replaced = new Set(added.map((f) => f.tag));
+  const replaced = new Set([...added.map((f) => f.tag), ...(edits.remove ?? [])]);
   const entries: Entry[] = [];
+  const scrubs: Write[] = [];
   for (let i = 0; i < count; i++) {
     const at = i * 12;
     const tag = u16(body, at);
-    if (replaced.has(tag)) continue;
+    if (replaced.has(tag)) {
+      if (edits.scrub) {
+        const bytes = u32(body, at + 4) * (TYPE_BYTES[u16(body, at + 2)] ?? 0);
+        if (bytes > 4 && u32(body, at + 8) + bytes <= size) scrubs.push({ at: u32(body, at + 8), data: Buffer.alloc(bytes) });
+        scrubs.push({ at: ifd0 + 2 + at + 8, data: Buffer.alloc(4) });
+      }
+      continue;
+    }
     entries.push({ tag, type: u16(body, at + 2), count: u32(body, at + 4), slot: body.subarray(at + 8, at + 12) });
   }
   const nextIfd = u32(body, count * 12);
@@ -98,7 +123,8 @@ async function planFields(read: (position: number, length: number) => Promise<Bu
 
   // The new IFD0 goes at the end (word-aligned), its long values right after it, as libtiff lays
   // out a directory: a reader that fetches the directory's neighbourhood finds them in one read.
-  const writes: Write[] = [];
+  // The scrubs go first: every later write (the copies beside the new IFD0) reads nothing they touch.
+  const writes: Write[] = [...scrubs];
   if (size % 2) writes.push({ at: size, data: Buffer.from([0]) });
   const ifdAt = size + (size % 2);
   const total = entries.length + added.length;
@@ -127,7 +153,7 @@ async function planFields(read: (position: number, length: number) => Promise<Bu
     const slot = Buffer.alloc(4);
     if (data.length <= 4) data.copy(slot); // left-justified in the value field (TIFF 6.0 Section 2)
     else place(data, slot);
-    entries.push({ tag: field.tag, type: isText ? ASCII : UNDEFINED, count: data.length, slot });
+    entries.push({ tag: field.tag, type: isText ? ASCII : (field.type ?? UNDEFINED), count: data.length, slot });
   }
   entries.sort((a, b) => a.tag - b.tag);
 
@@ -154,12 +180,12 @@ async function planFields(read: (position: number, length: number) => Promise<Bu
  * Throws a plain Error naming the problem for a file that is not a classic TIFF.
  * Example: await addTiffFields("master.tif", [{ tag: TIFF_TAG.Artist, value: "Ana Ruiz" }]).
  */
-export async function addTiffFields(file: string, fields: TiffField[]): Promise<void> {
-  if (fields.length === 0) return;
+export async function addTiffFields(file: string, fields: TiffField[], edits: FieldEdits = {}): Promise<void> {
+  if (fields.length === 0 && !edits.remove?.length) return;
   const fh = await fs.open(file, "r+");
   try {
     const size = (await fh.stat()).size;
-    const writes = await planFields((position, length) => readExactly(fh, position, length, file), size, fields, file);
+    const writes = await planFields((position, length) => readExactly(fh, position, length, file), size, fields, file, edits);
     for (const w of writes) await fh.write(w.data, 0, w.data.length, w.at);
     await fh.sync();
   } finally {
@@ -172,15 +198,15 @@ export async function addTiffFields(file: string, fields: TiffField[]): Promise<
  * file (appended to, the header pointed at a new IFD0). Example: withTiffFields(tiff,
  * [{ tag: TIFF_TAG.InterColorProfile, value: icc }]).
  */
-export async function withTiffFields(tiff: Buffer, fields: TiffField[], name = "the TIFF"): Promise<Buffer> {
-  if (fields.length === 0) return tiff;
+export async function withTiffFields(tiff: Buffer, fields: TiffField[], name = "the TIFF", edits: FieldEdits = {}): Promise<Buffer> {
+  if (fields.length === 0 && !edits.remove?.length) return tiff;
   const read = async (position: number, length: number) => {
     if (position + length > tiff.length) {
       throw new Error(`Expected ${length} bytes at offset ${position} of ${name} but it ends after ${Math.max(0, tiff.length - position)}`);
     }
     return tiff.subarray(position, position + length);
   };
-  const writes = await planFields(read, tiff.length, fields, name);
+  const writes = await planFields(read, tiff.length, fields, name, edits);
   const out = Buffer.alloc(Math.max(tiff.length, ...writes.map((w) => w.at + w.data.length)));
   tiff.copy(out);
   for (const w of writes) w.data.copy(out, w.at);
