@@ -146,6 +146,23 @@ describe("deleting a piece's master and copies", () => {
     expect([meta.width, meta.height, Math.round(meta.density!)]).toEqual([600, 450, 300]);
   });
 
+  it("the Library lists rejected pieces that still keep files, and a deletion takes one off", async () => {
+    const other = pieces[1]!;
+    const before = (await admin.get("/api/library")).body.rejectedKept;
+    expect(before).toEqual({ pieces: 0, files: 0, bytes: 0, largest: [] });
+    expect((await operator.patch(`/api/fragments/${other.id}`).send({ status: "rejected" })).status).toBe(200);
+    const kept = await outputsOf(other.id);
+    const listed = (await admin.get("/api/library")).body.rejectedKept;
+    expect(listed).toEqual({
+      pieces: 1,
+      files: kept.length,
+      bytes: kept.reduce((s, o) => s + o.bytes, 0),
+      largest: [{ id: other.id, name: `two-pieces-for-deleting · ${other.position}`, files: kept.length, bytes: kept.reduce((s, o) => s + o.bytes, 0) }],
+    });
+    expect((await admin.delete(`/api/fragments/${other.id}/files`).query({ upTo: kept.length })).status).toBe(200);
+    expect((await admin.get("/api/library")).body.rejectedKept.pieces).toBe(0);
+  });
+
   it("answers an unknown piece with 404", async () => {
     const res = await admin.get("/api/fragments/00000000-0000-4000-8000-000000000000/files");
     expect(res.status).toBe(404);

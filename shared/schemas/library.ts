@@ -65,5 +65,15 @@ export const libraryOverviewSchema = z.object({
   lastTidy: lastTidySchema.nullable(),
   /** Hours between the worker's regular tidies; 0 when only admins tidy. */
   tidyEveryHours: z.number(),
+  /**
+   * Rejected pieces that still keep a master or copies (kept in case one is approved again; an
+   * admin deletes them from the piece's page): how many, their files and bytes, the largest first.
+   */
+  rejectedKept: z.object({
+    pieces: z.number(),
+    files: z.number(),
+    bytes: z.number(),
+    largest: z.array(z.object({ id: z.string(), name: z.string(), files: z.number(), bytes: z.number() })),
+  }),
 });
 export type LibraryOverview = z.infer<typeof libraryOverviewSchema>;

@@ -19,7 +19,23 @@ export function libraryRouter(deps: AppDeps): Router {
       const { rows } = await db.execute<{ status: string; n: number }>(sql`select status, count(*)::int as n from offsite_copies group by status`);
       offsite = { target: deps.offsite.description.replace(/^the bucket /, ""), counts: Object.fromEntries(rows.map((r) => [r.status, r.n])) };
     }
+    const kept = await db.execute<{ id: string; title: string | null; position: number; scan: string; files: number; bytes: string }>(sql`
+      select f.id, f.title, f.position, s.original_name as scan, count(o.id)::int as files, sum(o.bytes)::bigint as bytes
+        from fragments f join scans s on s.id = f.scan_id join outputs o on o.fragment_id = f.id
+       where f.status = 'rejected' and f.merged_into is null
+       group by f.id, s.original_name order by sum(o.bytes) desc, f.id`);
     return {
+      rejectedKept: {
+        pieces: kept.rows.length,
+        files: kept.rows.reduce((n, r) => n + r.files, 0),
+        bytes: kept.rows.reduce((n, r) => n + Number(r.bytes), 0),
+        largest: kept.rows.slice(0, 5).map((r) => ({
+          id: r.id,
+          name: r.title?.trim() || `${r.scan.replace(/\.[^.]+$/, "")} · ${r.position}`,
+          files: r.files,
+          bytes: Number(r.bytes),
+        })),
+      },
       library: { kind: deps.library.kind, description: deps.library.description },
       offsite,
       tidy: await tidyLibrary(db, deps.library, { dryRun: true }),

@@ -1,4 +1,6 @@
 import { useState } from "react";
+import { Link } from "react-router-dom";
+import { paths } from "../../config/paths";
 import { Ago } from "../../components/ago";
 import { Button, Spinner } from "../../components/button";
 import { ConfirmDialog } from "../../components/confirm-dialog";
@@ -42,6 +44,7 @@ function LibraryPage() {
           <div className="flex flex-col gap-6">
             <Whereabouts overview={library.data} />
             {library.data.offsite && <Offsite offsite={library.data.offsite} />}
+            <RejectedKept kept={library.data.rejectedKept} />
           </div>
         </div>
       )}
@@ -154,6 +157,36 @@ function Whereabouts({ overview }: { overview: LibraryOverview }) {
         <dt className="text-ink-muted">Off-site copy</dt>
         <dd className="figure break-all text-ink">{overview.offsite ? overview.offsite.target : "off"}</dd>
       </dl>
+    </Panel>
+  );
+}
+
+/** Rejected pieces whose master and copies are still kept, the largest first, each a link to its page. */
+function RejectedKept({ kept }: { kept: LibraryOverview["rejectedKept"] }) {
+  return (
+    <Panel title="Files of rejected pieces" titleId="rejected-title">
+      {kept.pieces === 0 ? (
+        <p className="text-sm text-ink-muted">No rejected piece keeps a master or copies.</p>
+      ) : (
+        <div className="flex flex-col gap-3 text-sm">
+          <p className="text-ink">
+            <span className="figure">{kept.pieces}</span> rejected {kept.pieces === 1 ? "piece keeps" : "pieces keep"}{" "}
+            <span className="figure">{kept.files}</span> {kept.files === 1 ? "file" : "files"} (
+            <span className="figure">{formatBytes(kept.bytes)}</span>), in case {kept.pieces === 1 ? "it is" : "one is"} approved
+            again. Delete them from {kept.pieces === 1 ? "its" : "each piece's"} page.
+          </p>
+          <ul className="flex flex-col gap-1" aria-label="Largest first">
+            {kept.largest.map((f) => (
+              <li key={f.id} className="flex items-baseline justify-between gap-3">
+                <Link to={paths.fragment(f.id)} className="min-w-0 truncate text-accent underline-offset-2 hover:underline">
+                  {f.name}
+                </Link>
+                <span className="figure shrink-0 text-xs text-ink-muted">{formatBytes(f.bytes)}</span>
+              </li>
+            ))}
+          </ul>
+        </div>
+      )}
     </Panel>
   );
 }
