@@ -157,7 +157,16 @@ describe("deleting a piece's master and copies", () => {
       pieces: 1,
       files: kept.length,
       bytes: kept.reduce((s, o) => s + o.bytes, 0),
-      largest: [{ id: other.id, name: `two-pieces-for-deleting · ${other.position}`, files: kept.length, bytes: kept.reduce((s, o) => s + o.bytes, 0) }],
+      largest: [
+        {
+          id: other.id,
+          title: null,
+          scanName: "two-pieces-for-deleting.tif",
+          position: other.position,
+          files: kept.length,
+          bytes: kept.reduce((s, o) => s + o.bytes, 0),
+        },
+      ],
     });
     expect((await admin.delete(`/api/fragments/${other.id}/files`).query({ upTo: kept.length })).status).toBe(200);
     expect((await admin.get("/api/library")).body.rejectedKept.pieces).toBe(0);

@@ -73,7 +73,9 @@ export const libraryOverviewSchema = z.object({
     pieces: z.number(),
     files: z.number(),
     bytes: z.number(),
-    largest: z.array(z.object({ id: z.string(), name: z.string(), files: z.number(), bytes: z.number() })),
+    largest: z.array(
+      z.object({ id: z.string(), title: z.string().nullable(), scanName: z.string(), position: z.number(), files: z.number(), bytes: z.number() }),
+    ),
   }),
 });
 export type LibraryOverview = z.infer<typeof libraryOverviewSchema>;

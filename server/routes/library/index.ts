@@ -29,9 +29,12 @@ export function libraryRouter(deps: AppDeps): Router {
         pieces: kept.rows.length,
         files: kept.rows.reduce((n, r) => n + r.files, 0),
         bytes: kept.rows.reduce((n, r) => n + Number(r.bytes), 0),
+        // Named on the screen as every piece is (fragmentName), from its title, scan and position.
         largest: kept.rows.slice(0, 5).map((r) => ({
           id: r.id,
-          name: r.title?.trim() || `${r.scan.replace(/\.[^.]+$/, "")} · ${r.position}`,
+          title: r.title,
+          scanName: r.scan,
+          position: r.position,
           files: r.files,
           bytes: Number(r.bytes),
         })),

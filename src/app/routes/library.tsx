@@ -9,6 +9,7 @@ import { LoadError, Notice } from "../../components/notice";
 import { PageHeader, Panel } from "../../components/panel";
 import { useCheckAllOffsite, useLibrary, useTidyLibrary } from "../../features/library/api/library";
 import { FolderBars } from "../../features/library/components/folder-bars";
+import { fragmentName } from "../../features/fragments/format";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
 import { toast } from "../../lib/toast";
 import { formatBytes } from "../../../shared/units";
@@ -179,7 +180,7 @@ function RejectedKept({ kept }: { kept: LibraryOverview["rejectedKept"] }) {
             {kept.largest.map((f) => (
               <li key={f.id} className="flex items-baseline justify-between gap-3">
                 <Link to={paths.fragment(f.id)} className="min-w-0 truncate text-accent underline-offset-2 hover:underline">
-                  {f.name}
+                  {fragmentName(f)}
                 </Link>
                 <span className="figure shrink-0 text-xs text-ink-muted">{formatBytes(f.bytes)}</span>
               </li>
