@@ -4,7 +4,7 @@ import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Page } from "playwright-core";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
-import { openBrowser, signIn } from "./helpers/browser";
+import { openBrowser, signedOutPage, signIn } from "./helpers/browser";
 
 let stack: Stack;
 let browser: Awaited<ReturnType<typeof openBrowser>>;
@@ -185,8 +185,7 @@ describe("in the browser", () => {
   });
 
   it("forgot password: the sign-in page links to it, and the answer is the same for anyone", async () => {
-    await browser.context.clearCookies();
-    const page = await browser.context.newPage();
+    const page = await signedOutPage(browser.context, stack.url);
     await page.goto(`${stack.url}/sign-in`);
     await page.getByRole("link", { name: "Forgot your password?" }).click();
     await page.waitForURL((u) => u.pathname === "/forgot-password");

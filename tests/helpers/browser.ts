@@ -32,6 +32,17 @@ export async function openBrowser(): Promise<{ context: BrowserContext; close: (
   };
 }
 
+/**
+ * A page with nobody signed in. Other pages still open are closed first: a late response of
+ * one (sessions roll, so every answer sets the cookie again) could otherwise sign this one in.
+ */
+export async function signedOutPage(context: BrowserContext, baseUrl: string): Promise<Page> {
+  for (const open of context.pages()) await open.close();
+  await context.request.post(`${baseUrl}/api/auth/logout`, { headers: { "X-Platen-Request": "1" } }).catch(() => {});
+  await context.clearCookies();
+  return context.newPage();
+}
+
 export async function signIn(page: Page, baseUrl: string, email: string, password: string) {
   for (let attempt = 1; ; attempt++) {
     await page.goto(`${baseUrl}/sign-in`);

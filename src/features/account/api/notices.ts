@@ -19,8 +19,10 @@ export function useUpdateNotices() {
     mutationFn: (body: UpdateNoticesBody) =>
       apiRequest(API.noticesUpdate, { body, schema: noticeSettingsResponse }),
     // The switch moves at once; a refusal puts it back.
-    onMutate: (body) => {
+    onMutate: async (body) => {
       const key = noticesQueryOptions().queryKey;
+      // A read still on its way would otherwise land on top of the new choice.
+      await queryClient.cancelQueries({ queryKey: key });
       queryClient.setQueryData(key, (old) =>
         old ? { ...old, defaults: false, notices: { ...old.notices, ...body } } : old,
       );

@@ -1,3 +1,4 @@
+import { useState } from "react";
 import { NOTICE_KINDS, NOTICE_LABELS, type NoticeKind } from "../../../../shared/schemas/mail";
 import { Spinner } from "../../../components/button";
 import { LoadError, Notice } from "../../../components/notice";
@@ -8,6 +9,9 @@ import { useNotices, useUpdateNotices } from "../api/notices";
 export function NoticeChoices({ email }: { email: string }) {
   const notices = useNotices();
   const update = useUpdateNotices();
+  // The switch shows its new place in the same moment it is clicked, until the server answers:
+  // a refusal puts it back to what the server holds.
+  const [moving, setMoving] = useState<Partial<Record<NoticeKind, boolean>>>({});
 
   if (notices.isPending) {
     return (
@@ -18,11 +22,21 @@ export function NoticeChoices({ email }: { email: string }) {
   }
   if (notices.isError) return <LoadError error={notices.error} onRetry={() => void notices.refetch()} />;
 
-  const set = (kind: NoticeKind, on: boolean) =>
+  const set = (kind: NoticeKind, on: boolean) => {
+    setMoving((m) => ({ ...m, [kind]: on }));
     update.mutate(
       { [kind]: on },
-      { onSuccess: () => toast.success(on ? `You will get “${NOTICE_LABELS[kind].title.toLowerCase()}” by e-mail.` : `No more “${NOTICE_LABELS[kind].title.toLowerCase()}” messages.`) },
+      {
+        onSuccess: () => toast.success(on ? `You will get “${NOTICE_LABELS[kind].title.toLowerCase()}” by e-mail.` : `No more “${NOTICE_LABELS[kind].title.toLowerCase()}” messages.`),
+        onError: (error) => toast.error(`Not saved: ${error.message}`),
+        onSettled: () =>
+          setMoving((m) => {
+            const { [kind]: _settled, ...rest } = m;
+            return rest;
+          }),
+      },
     );
+  };
 
   return (
     <div className="flex flex-col gap-4">
@@ -42,7 +56,7 @@ export function NoticeChoices({ email }: { email: string }) {
             <input
               type="checkbox"
               className="mt-0.5 size-4 accent-accent"
-              checked={notices.data.notices[kind]}
+              checked={moving[kind] ?? notices.data.notices[kind]}
               disabled={update.isPending}
               onChange={(e) => set(kind, e.target.checked)}
             />
