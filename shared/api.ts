@@ -16,7 +16,7 @@ import { createUserBody, idParams, updateUserBody } from "./schemas/users";
 import { tidyLibraryBody } from "./schemas/library";
 import { deleteFragmentFilesQuery } from "./schemas/fragment-files";
 import { createIntakeBody, scanListQuery, setResolutionBody } from "./schemas/scans";
-import { updateStudioBody } from "./schemas/studio";
+import { updateStudioBody, writeMastersRightsBody } from "./schemas/studio";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
 import { batchDownloadQuery, createBatchBody, createPresetBody, previewPresetBody, rerunBatchBody, updatePresetBody } from "./schemas/preset-api";
 import {
@@ -66,6 +66,15 @@ export const API = {
     access: "admin",
     mutates: true,
     body: updateStudioBody,
+  }),
+  // Masters already made and the studio's creator and copyright: how many agree; write them in.
+  mastersRights: route({ method: "GET", path: "/api/studio/masters-rights", access: "admin", mutates: false }),
+  mastersRightsWrite: route({
+    method: "POST",
+    path: "/api/studio/masters-rights",
+    access: "admin",
+    mutates: true,
+    body: writeMastersRightsBody,
   }),
   events: route({ method: "GET", path: "/api/events", access: "viewer", mutates: false }),
   queue: route({ method: "GET", path: "/api/queue", access: "viewer", mutates: false }),

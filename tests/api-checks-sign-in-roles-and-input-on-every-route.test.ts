@@ -117,6 +117,9 @@ function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supert
       return req.send({ name: `Renamed ${++counter}` });
     case "noticesUpdate":
       return req.send({ scanFailed: counter++ % 2 === 0 });
+    case "mastersRightsWrite":
+      // Rights the studio does not have: refused (409) past the role check, queueing nothing.
+      return req.send({ creator: "Nobody by this name", copyright: null });
     case "fragmentsFilesDelete":
       // Shown no files: refused (409) past the role check, deleting nothing.
       return req.query({ upTo: 0 });

@@ -433,6 +433,21 @@ describe("every change a person makes is on the trail, with who, what and before
     expect(only(rows, "studio.settings")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, before: { creator: null }, after: { creator: "Mara Ilves" } });
   });
 
+  it(`${route("mastersRightsWrite")}: an admin writes the studio's new rights into the masters already made`, async () => {
+    // The piece approved above was rendered before the studio named a creator.
+    const behind = await waitFor("the approved piece's master, behind the studio's new creator", async () => {
+      const { rights } = (await admin.get("/api/studio/masters-rights")).body;
+      return rights.behind > 0 ? rights : null;
+    }, 60_000);
+    const { rows } = await audited(() => admin.post("/api/studio/masters-rights").send({ creator: "Mara Ilves", copyright: null }));
+    expect(only(rows, "studio.masters_rights")).toMatchObject({
+      actorId: ids.admin,
+      subjectType: "studio",
+      subjectId: null,
+      after: { creator: "Mara Ilves", copyright: null, pieces: behind.behind },
+    });
+  });
+
   it(`${route("scansRetry")}: a failed scan sent back to the queue`, async () => {
     const [row] = await stack.db
       .insert(scans)
@@ -451,7 +466,7 @@ describe("every change a person makes is on the trail, with who, what and before
   it(`${route("fragmentsFilesDelete")}: an admin deletes a piece's master and copies, and the trail keeps what went`, async () => {
     await waitFor("renders and copies of the piece to settle", async () => {
       const { rows: busy } = await stack.database.pool.query(
-        "select 1 from pgboss.job where name in ('fragment-render', 'output-render', 'offsite-copy') and state in ('created', 'retry', 'active') limit 1",
+        "select 1 from pgboss.job where name in ('fragment-render', 'output-render', 'offsite-copy', 'fragment-rights') and state in ('created', 'retry', 'active') limit 1",
       );
       return busy.length === 0 && !(await admin.get(`/api/fragments/${ids.f1}/files`)).body.plan.blocked;
     }, 60_000);

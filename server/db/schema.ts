@@ -290,6 +290,11 @@ export const outputs = pgTable(
     dedupeKey: text("dedupe_key"),
     /** Printed size, effective DPI and warnings, as the output step reported them. */
     report: jsonb("report").$type<{ printedIn?: { width: number; height: number }; effectiveDpi?: number; warnings: string[] }>(),
+    /**
+     * For a master and its web copy: the creator and copyright the file carries (null in a field:
+     * none written). Null for files made before this was kept: what they carry is not known here.
+     */
+    rights: jsonb("rights").$type<{ creator: string | null; copyright: string | null }>(),
     ...timestamps,
   },
   (t) => [

@@ -59,6 +59,7 @@ export const AUDIT_ACTIONS = {
   "offsite.check_all": "Re-checked every off-site copy",
   "library.tidy": "Tidied away left-over library files",
   "studio.settings": "Changed the studio's settings",
+  "studio.masters_rights": "Wrote the studio's rights into masters already made",
 } as const satisfies Record<string, string>;
 export type AuditAction = keyof typeof AUDIT_ACTIONS;
 export const AUDIT_ACTION_NAMES = Object.keys(AUDIT_ACTIONS) as AuditAction[];

@@ -59,3 +59,33 @@ export const updateStudioBody = z
   .partial()
   .refine((b) => Object.keys(b).length > 0, { error: "Expected at least one setting to change" });
 export type UpdateStudioBody = z.infer<typeof updateStudioBody>;
+
+/**
+ * How many masters already made carry the studio's current creator and copyright. Counted over
+ * approved pieces whose render is done at their current revision; a piece counts as behind when
+ * its master or web copy carries other rights, or was made before files' rights were recorded.
+ */
+export const mastersRightsSchema = z.object({
+  /** The studio's rights these are compared with. */
+  creator: z.string().nullable(),
+  copyright: z.string().nullable(),
+  masters: z.number().int(),
+  behind: z.number().int(),
+  /** Of those behind, made before Platen recorded what a file carries (they may already agree). */
+  unknown: z.number().int(),
+  /** Pieces with a rewrite queued or running now. */
+  writing: z.number().int(),
+});
+export type MastersRights = z.infer<typeof mastersRightsSchema>;
+export const mastersRightsResponse = z.object({ rights: mastersRightsSchema });
+
+/**
+ * POST /api/studio/masters-rights (admins): writes the studio's rights into the masters behind.
+ * Names the creator and copyright the admin saw: when the studio's differ by then, it is refused.
+ */
+export const writeMastersRightsBody = z.strictObject({
+  creator: z.string().nullable(),
+  copyright: z.string().nullable(),
+});
+export type WriteMastersRightsBody = z.infer<typeof writeMastersRightsBody>;
+export const writeMastersRightsResponse = z.object({ queued: z.number().int(), rights: mastersRightsSchema });

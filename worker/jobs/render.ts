@@ -16,6 +16,7 @@ import type { Config } from "../../server/config";
 import { renderPayload, type RightsPayload } from "../../shared/schemas/jobs";
 import type { RecipeInput } from "../../shared/schemas/recipes";
 import { isRenderError, renderEach, type BatchItem, type RenderResult } from "../pipeline/render";
+import { cleanRights, recordedRights, type Rights } from "../pipeline/render/rights";
 import { isScanError } from "../pipeline/metadata";
 import { studioRights } from "../../server/services/studio";
 import { dropDecodedCopy, withDecodedCopy } from "../decoded-copies";
@@ -369,7 +370,7 @@ async function renderGroup(
                     rendered++;
                     if (!outcome.ok) return void errors.set(m.row.id, outcome.error);
                     try {
-                      if (await store(deps, m, outcome.result, jobId)) stored.add(m.row.id);
+                      if (await store(deps, m, outcome.result, jobId, rights)) stored.add(m.row.id);
                     } catch (err) {
                       errors.set(m.row.id, err);
                     }
@@ -458,8 +459,16 @@ async function markDone(deps: RenderDeps, row: Pick<FragmentRow, "id" | "revisio
  * so an older render never replaces a newer one's files. Returns false (nothing stored) when the
  * fragment changed meanwhile.
  */
-async function store(deps: RenderDeps, m: Member, r: RenderResult, jobId: string): Promise<boolean> {
+async function store(
+  deps: RenderDeps,
+  m: Member,
+  r: RenderResult,
+  jobId: string,
+  studio: Rights,
+): Promise<boolean> {
   const { row, recipe, mKey, wKey, webFormat } = m;
+  // What both files carry, kept on their rows (the Studio screen counts masters behind its rights).
+  const rights = recordedRights(cleanRights(studio));
   const revision = row.revision;
   const client = await deps.database.pool.connect();
   const lockKey = `fragment-render:${row.id}`;
@@ -493,6 +502,7 @@ async function store(deps: RenderDeps, m: Member, r: RenderResult, jobId: string
           hasAlpha: r.master.hasAlpha,
           dpi: r.master.dpi,
           bytes: r.master.bytes,
+          rights,
         },
         {
           kind: "web" as const,
@@ -504,6 +514,7 @@ async function store(deps: RenderDeps, m: Member, r: RenderResult, jobId: string
           hasAlpha: webFormat === "webp",
           dpi: r.web.dpi,
           bytes: r.web.bytes,
+          rights,
         },
       ]) {
         const [out] = await db

@@ -1,5 +1,5 @@
 import path from "node:path";
-import { and, eq, inArray } from "drizzle-orm";
+import { and, eq, inArray, sql } from "drizzle-orm";
 import { drizzle } from "drizzle-orm/node-postgres";
 import * as schema from "../../server/db/schema";
 import { fragments, outputs } from "../../server/db/schema";
@@ -8,7 +8,7 @@ import { queueOffsiteCopy } from "../../server/services/offsite";
 import { studioRights } from "../../server/services/studio";
 import { isStorageError } from "../../server/storage/storage";
 import { rightsPayload } from "../../shared/schemas/jobs";
-import { cleanRights, type Rights } from "../pipeline/render/rights";
+import { cleanRights, recordedRights, type Rights } from "../pipeline/render/rights";
 import {
   readCarriedRights,
   rewriteMasterRights,
@@ -26,7 +26,10 @@ interface Rewritten {
   row: OutputRow;
   path: string;
   bytes: number;
+  rights: Recorded;
 }
+
+type Recorded = ReturnType<typeof recordedRights>;
 
 /**
  * Writes a fragment's current title (and, with `rights: "studio"`, the studio's current creator
@@ -78,13 +81,13 @@ export async function rewriteRightsJob(
         await deps.library.withLocalFile(o.key, async (local) => {
           const carried = await readCarriedRights(local);
           const want = wanted(carried);
-          if (sameRights(carried, want)) return;
+          if (sameRights(carried, want)) return void (await keepRecord(deps, o, recordedRights(want)));
           const staged = await stage(path.join(dir, path.basename(o.key)));
           const bytes =
             o.kind === "master"
               ? await rewriteMasterRights(local, staged, want)
               : await rewriteWebRights(local, staged, want, o.format);
-          files.push({ row: o, path: staged.temp, bytes });
+          files.push({ row: o, path: staged.temp, bytes, rights: recordedRights(want) });
         });
       } catch (err) {
         // A file gone since the row was read: a newer render or a deletion replaced it.
@@ -103,6 +106,25 @@ export async function rewriteRightsJob(
     await queueOffsiteCopy(deps.database, deps.boss, master.id, master.key);
   await notify(pool, { kind: "scan", scanId: row.scanId }).catch(() => {});
   log.info({ files: rewritten.length, title: row.title }, "rights: rewritten");
+}
+
+/**
+ * Records on a file's row the rights it was found to carry already (files made before rows kept
+ * them, or asked again), only while the row still names that very file.
+ */
+async function keepRecord(deps: RenderDeps, o: OutputRow, rights: Recorded): Promise<void> {
+  if (o.rights && o.rights.creator === rights.creator && o.rights.copyright === rights.copyright) return;
+  await deps.database.db
+    .update(outputs)
+    .set({ rights })
+    .where(
+      and(
+        eq(outputs.id, o.id),
+        eq(outputs.key, o.key),
+        // The row's time as it was read (JavaScript keeps milliseconds; PostgreSQL, microseconds).
+        sql`date_trunc('milliseconds', ${outputs.updatedAt}) = ${o.updatedAt.toISOString()}::timestamptz`,
+      ),
+    );
 }
 
 /**
@@ -150,7 +172,7 @@ async function commit(
         await deps.library.put(f.row.key, f.path, { move: true });
         await db
           .update(outputs)
-          .set({ bytes: f.bytes, updatedAt: new Date() })
+          .set({ bytes: f.bytes, rights: f.rights, updatedAt: new Date() })
           .where(eq(outputs.id, f.row.id));
         done.push(f.row.id);
       }

@@ -5,8 +5,9 @@ import { studio } from "../../db/schema";
 import type { Studio } from "../../../shared/schemas/studio";
 import type { AppDeps } from "../../app";
 import { getStudioSettings, updateStudioSettings } from "../../services/studio";
+import { mastersRights, writeMastersRights } from "../../services/masters-rights";
 
-export function studioRouter({ database, config }: AppDeps): Router {
+export function studioRouter({ database, config, boss }: AppDeps): Router {
   const router = Router();
   handle(router, API.health, () => ({ ok: true }));
   handle(router, API.studio, async () => {
@@ -20,5 +21,7 @@ export function studioRouter({ database, config }: AppDeps): Router {
   });
   handle(router, API.studioSettings, async () => ({ settings: await getStudioSettings(database.db, config) }));
   handle(router, API.studioUpdate, async ({ body }) => ({ settings: await updateStudioSettings(database.db, config, body) }));
+  handle(router, API.mastersRights, async () => ({ rights: await mastersRights(database.db) }));
+  handle(router, API.mastersRightsWrite, async ({ body }) => writeMastersRights({ database, boss }, body));
   return router;
 }

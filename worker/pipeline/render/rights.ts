@@ -43,6 +43,14 @@ export function cleanRights(rights: Rights | undefined): Rights {
   return out;
 }
 
+/**
+ * The creator and copyright of cleaned rights as an outputs row records them (null: none).
+ * Example: { title: "Heron", creator: "Ana Ruiz" } → { creator: "Ana Ruiz", copyright: null }.
+ */
+export function recordedRights(rights: Rights): { creator: string | null; copyright: string | null } {
+  return { creator: rights.creator ?? null, copyright: rights.copyright ?? null };
+}
+
 function escapeXml(text: string): string {
   return text
     .replace(/&/g, "&amp;")
