@@ -1,5 +1,10 @@
 import { useState, type FormEvent } from "react";
-import { updateStudioBody, type StudioSettings, COPYRIGHT_MAX, CREATOR_MAX } from "../../../shared/schemas/studio";
+import {
+  updateStudioBody,
+  type StudioSettings,
+  COPYRIGHT_MAX,
+  CREATOR_MAX,
+} from "../../../shared/schemas/studio";
 import { SET_DPI_MAX, SET_DPI_MIN } from "../../../shared/schemas/scans";
 import { Ago } from "../../components/ago";
 import { Button, Spinner } from "../../components/button";
@@ -8,6 +13,7 @@ import { NotAllowed } from "../../components/not-allowed";
 import { LoadError, Notice } from "../../components/notice";
 import { PageHeader, Panel } from "../../components/panel";
 import { useStudioSettings, useUpdateStudio } from "../../features/studio/api/studio-settings";
+import { MastersRightsPanel } from "../../features/studio/components/masters-rights";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
 import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../lib/form-errors";
 import { toast } from "../../lib/toast";
@@ -45,7 +51,10 @@ type Field = "name" | "defaultDpi" | "creator" | "copyright";
 const FIELDS = ["name", "defaultDpi", "creator", "copyright"] as const;
 
 /** What the form holds, in the terms it compares with a saved version (trimmed, as it is sent). */
-function sameAs(s: StudioSettings, form: { name: string; dpi: string; creator: string; copyright: string }): boolean {
+function sameAs(
+  s: StudioSettings,
+  form: { name: string; dpi: string; creator: string; copyright: string },
+): boolean {
   return (
     form.name.trim() === s.name &&
     form.dpi === String(s.defaultDpi) &&
@@ -110,103 +119,131 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
   };
 
   const insertMark = () => {
-    setCopyright((c) => (c.startsWith("©") ? c : `© ${new Date().getFullYear()} ${c || creator}`.trimEnd()));
+    setCopyright((c) =>
+      c.startsWith("©") ? c : `© ${new Date().getFullYear()} ${c || creator}`.trimEnd(),
+    );
   };
 
   const clear = (f: Field) => errors[f] && setErrors((e) => ({ ...e, [f]: undefined }));
 
   return (
-    <form onSubmit={submit} noValidate aria-label="Studio settings" className="flex max-w-5xl flex-col gap-6">
-      {formError && <Notice tone="error">{formError}</Notice>}
-      {overtaken && (
-        <div role="status" className="flex flex-wrap items-center gap-x-4 gap-y-2 rounded-md border border-ochre/40 bg-ochre-soft px-3 py-2 text-sm text-ink">
-          <span>
-            These settings were changed elsewhere <Ago iso={latest.updatedAt} />. Your edits are kept here; saving them replaces
-            that version.
-          </span>
-          <Button type="button" size="sm" variant="quiet" onClick={() => adopt(latest)}>
-            Show the other version
-          </Button>
-        </div>
-      )}
-      <div className="grid grid-cols-1 items-start gap-6 lg:grid-cols-2">
-        <Panel title="The studio" titleId="studio-title">
-          <div className="flex flex-col gap-4">
-            <TextField
-              label="Name"
-              value={name}
-              maxLength={80}
-              onChange={(e) => {
-                setName(e.target.value);
-                clear("name");
-              }}
-              error={errors.name}
-              hint="Shown in the rail, on the sign-in page and in e-mails."
-            />
-            <TextField
-              label="Assumed resolution (DPI)"
-              inputMode="numeric"
-              value={dpi}
-              onChange={(e) => {
-                setDpi(e.target.value);
-                clear("defaultDpi");
-              }}
-              error={errors.defaultDpi}
-              className="figure max-w-40"
-              hint={`Used for a scan whose file records no resolution (${SET_DPI_MIN}–${SET_DPI_MAX}); such scans are marked "assumed". Scans already read keep theirs; an operator can set one on the scan's page.`}
-            />
+    <div className="flex flex-col gap-6">
+      <form
+        onSubmit={submit}
+        noValidate
+        aria-label="Studio settings"
+        className="flex max-w-5xl flex-col gap-6"
+      >
+        {formError && <Notice tone="error">{formError}</Notice>}
+        {overtaken && (
+          <div
+            role="status"
+            className="flex flex-wrap items-center gap-x-4 gap-y-2 rounded-md border border-ochre/40 bg-ochre-soft px-3 py-2 text-sm text-ink"
+          >
+            <span>
+              These settings were changed elsewhere <Ago iso={latest.updatedAt} />. Your edits are
+              kept here; saving them replaces that version.
+            </span>
+            <Button type="button" size="sm" variant="quiet" onClick={() => adopt(latest)}>
+              Show the other version
+            </Button>
           </div>
-        </Panel>
-        <Panel title="Rights in every file" titleId="rights-title">
-          <div className="flex flex-col gap-4">
-            <TextField
-              label="Creator"
-              value={creator}
-              maxLength={CREATOR_MAX}
-              placeholder="The artist's name"
-              onChange={(e) => {
-                setCreator(e.target.value);
-                clear("creator");
-              }}
-              error={errors.creator}
-              hint="Written as the creator (artist) of every master and copy. Leave it empty to write none."
-            />
-            <div className="flex flex-col gap-1.5">
+        )}
+        <div className="grid grid-cols-1 items-start gap-6 lg:grid-cols-2">
+          <Panel title="The studio" titleId="studio-title">
+            <div className="flex flex-col gap-4">
               <TextField
-                label="Copyright line"
-                value={copyright}
-                maxLength={COPYRIGHT_MAX}
-                placeholder="© 2026 Mara Ilves. All rights reserved."
+                label="Name"
+                value={name}
+                maxLength={80}
                 onChange={(e) => {
-                  setCopyright(e.target.value);
-                  clear("copyright");
+                  setName(e.target.value);
+                  clear("name");
                 }}
-                error={errors.copyright}
-                hint="Written as the copyright notice of every master and copy. Leave it empty to write none."
+                error={errors.name}
+                hint="Shown in the rail, on the sign-in page and in e-mails."
               />
-              {!copyright.startsWith("©") && (
-                <div>
-                  <Button type="button" size="sm" variant="quiet" onClick={insertMark}>
-                    Start with © {new Date().getFullYear()}
-                  </Button>
-                </div>
-              )}
+              <TextField
+                label="Assumed resolution (DPI)"
+                inputMode="numeric"
+                value={dpi}
+                onChange={(e) => {
+                  setDpi(e.target.value);
+                  clear("defaultDpi");
+                }}
+                error={errors.defaultDpi}
+                className="figure max-w-40"
+                hint={`Used for a scan whose file records no resolution (${SET_DPI_MIN}–${SET_DPI_MAX}); such scans are marked "assumed". Scans already read keep theirs; an operator can set one on the scan's page.`}
+              />
             </div>
-            <p className="text-xs text-ink-muted">
-              Masters and print files carry these fields, with the piece's own title; web copies when their preset says so; mock-ups none.
-              Files made before a change keep what they were made with; run their batch again to remake them.
-            </p>
-          </div>
-        </Panel>
-      </div>
-      <div className="flex items-center gap-4">
-        <Button type="submit" variant="primary" busy={update.isPending} disabled={!changed}>
-          Save settings
-        </Button>
-        <span className="text-xs text-ink-muted" data-testid="studio-saved">
-          {changed ? "Not saved yet." : saved.updatedAt.startsWith("1970") ? "" : <>Saved <Ago iso={saved.updatedAt} />.</>}
-        </span>
-      </div>
-    </form>
+          </Panel>
+          <Panel title="Rights in every file" titleId="rights-title">
+            <div className="flex flex-col gap-4">
+              <TextField
+                label="Creator"
+                value={creator}
+                maxLength={CREATOR_MAX}
+                placeholder="The artist's name"
+                onChange={(e) => {
+                  setCreator(e.target.value);
+                  clear("creator");
+                }}
+                error={errors.creator}
+                hint="Written as the creator (artist) of every master and copy. Leave it empty to write none."
+              />
+              <div className="flex flex-col gap-1.5">
+                <TextField
+                  label="Copyright line"
+                  value={copyright}
+                  maxLength={COPYRIGHT_MAX}
+                  placeholder="© 2026 Mara Ilves. All rights reserved."
+                  onChange={(e) => {
+                    setCopyright(e.target.value);
+                    clear("copyright");
+                  }}
+                  error={errors.copyright}
+                  hint="Written as the copyright notice of every master and copy. Leave it empty to write none."
+                />
+                {!copyright.startsWith("©") && (
+                  <div>
+                    <Button type="button" size="sm" variant="quiet" onClick={insertMark}>
+                      Start with © {new Date().getFullYear()}
+                    </Button>
+                  </div>
+                )}
+              </div>
+              <p className="text-xs text-ink-muted">
+                Masters and print files carry these fields, with the piece's own title; web copies
+                when their preset says so; mock-ups none. Masters already made keep what they were
+                made with until their rights are written in (below); batch copies are remade when
+                their batch runs again.
+              </p>
+            </div>
+          </Panel>
+        </div>
+        <div className="flex items-center gap-4">
+          <Button type="submit" variant="primary" busy={update.isPending} disabled={!changed}>
+            Save settings
+          </Button>
+          <span className="text-xs text-ink-muted" data-testid="studio-saved">
+            {changed ? (
+              "Not saved yet."
+            ) : saved.updatedAt.startsWith("1970") ? (
+              ""
+            ) : (
+              <>
+                Saved <Ago iso={saved.updatedAt} />.
+              </>
+            )}
+          </span>
+        </div>
+      </form>
+      <MastersRightsPanel
+        unsaved={
+          form.creator.trim() !== (saved.creator ?? "") ||
+          form.copyright.trim() !== (saved.copyright ?? "")
+        }
+      />
+    </div>
   );
 }
