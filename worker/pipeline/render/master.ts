@@ -8,7 +8,7 @@ import { srgbProfile, type ColourPlan } from "./colour";
 import type { UprightCut } from "./cut";
 import { tiffRightsFields, xmpPacket, type Rights } from "./rights";
 import { syncStaged, type StagedFile } from "./staging";
-import { addTiffFields, TIFF_TAG, type TiffField } from "./tiff-tags";
+import { addTiffFields, BYTE, TIFF_TAG, type TiffField } from "./tiff-tags";
 
 /**
  * LZW with horizontal differencing (TIFF 6.0 Sections 13–14): lossless, read by every TIFF
@@ -57,8 +57,6 @@ export async function writeMaster(
       raw: { width, height, channels: 1 },
     });
   }
-  const xmp = xmpPacket(opts.rights);
-  if (xmp) pipeline = pipeline.withXmp(xmp);
   const info = await pipeline
     .keepIccProfile()
     .toColourspace(colour.space)
@@ -71,6 +69,11 @@ export async function writeMaster(
     .toFile(staged.temp);
 
   const fields: TiffField[] = tiffRightsFields(opts.rights);
+  // The XMP packet goes into the one directory the file ends with, beside the text fields, rather
+  // than through libvips: its directory is left behind unreferenced when fields are added, so a
+  // packet written there would stay in the file, and a later rewrite of the title could not reach it.
+  const xmp = xmpPacket(opts.rights);
+  if (xmp) fields.push({ tag: TIFF_TAG.XMLPacket, value: Buffer.from(xmp, "utf8"), type: BYTE });
   // An RGB profile on grey data would be invalid (ICC.1 colour space must match), so untagged grey stays untagged.
   if (!colour.iccKept && !colour.grey) {
     fields.push({ tag: TIFF_TAG.InterColorProfile, value: await srgbProfile() });
