@@ -1,7 +1,7 @@
 import type PgBoss from "pg-boss";
 import crypto from "node:crypto";
 import path from "node:path";
-import { and, eq } from "drizzle-orm";
+import { and, eq, sql } from "drizzle-orm";
 import type { Database } from "../../server/db";
 import { batchItems, fragments, outputs, presetVersions, scans } from "../../server/db/schema";
 import { notify } from "../../server/services/events";
@@ -134,7 +134,26 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     );
     // The row and the item's link commit together: the row's lock keeps a replacing re-run from
     // retiring it between the two.
-    await db.transaction(async (tx) => {
+    const stored = await db.transaction(async (tx) => {
+      // Under the render's own lock: a render storing a new master now has either finished (and
+      // is seen below) or not begun.
+      await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${`fragment-render:${f.id}`}, 0))`);
+      const [fNow] = await tx.select({ revision: fragments.revision }).from(fragments).where(eq(fragments.id, f.id));
+      const [mNow] = await tx
+        .select({ revision: outputs.revision, recipeVersionId: outputs.recipeVersionId, dpi: outputs.dpi, key: outputs.key })
+        .from(outputs)
+        .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
+      // A new revision (a resolution set, an edit) or a new master since this began: what was made
+      // is not what the key would say. It is thrown away and made again from the piece as it is.
+      if (
+        fNow?.revision !== f.revision ||
+        !mNow ||
+        mNow.revision !== master.revision ||
+        mNow.recipeVersionId !== master.recipeVersionId ||
+        mNow.dpi !== master.dpi ||
+        mNow.key !== master.key
+      )
+        return false;
       const [row] = await tx
         .insert(outputs)
         .values({
@@ -164,7 +183,12 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
         })
         .returning({ id: outputs.id });
       await tx.update(batchItems).set({ outputId: row!.id }).where(eq(batchItems.id, batchItemId));
+      return true;
     });
+    if (!stored) {
+      await deps.library.remove(fileKey).catch((err: unknown) => log.warn({ err, key: fileKey }, "output: a discarded file stays until the library tidy"));
+      throw new MasterChanged();
+    }
     // The last item of a replacing re-run retires the old batch's files.
     await removeRetired(
       deps,
@@ -187,8 +211,19 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
       .where(eq(batchItems.id, batchItemId))
       .catch(() => []);
     if (now?.state !== "done" && ctx.retryCount >= ctx.retryLimit)
-      await fail((err as Error).message);
+      await fail(
+        err instanceof MasterChanged
+          ? "The piece kept changing while this copy was being made; retry it once the piece is settled."
+          : (err as Error).message,
+      );
     throw err;
+  }
+}
+
+/** The piece or its master changed while a copy was being made from it: made again by the retry. */
+class MasterChanged extends Error {
+  constructor() {
+    super("The piece changed while this copy was being made (a new resolution, an edit or a new master); it is made again.");
   }
 }
 

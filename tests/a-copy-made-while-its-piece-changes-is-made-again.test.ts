@@ -1,0 +1,117 @@
+/**
+ * A batch copy takes a while to make. When the piece changes meanwhile (a resolution set on its
+ * scan bumps its revision; a new master is stored), the copy just made is not what its key would
+ * say: it is thrown away and made again from the piece as it is then. The real stack (PostgreSQL,
+ * pg-boss, a library folder); the worker is stopped once the masters exist, and the output job is
+ * run here, with a library that lets the change happen while the copy is being made.
+ */
+import crypto from "node:crypto";
+import fs from "node:fs/promises";
+import path from "node:path";
+import sharp from "sharp";
+import type supertest from "supertest";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Fragment } from "../shared/schemas/fragments";
+import type { PresetSummary } from "../shared/schemas/presets";
+import type { Storage } from "../server/storage/storage";
+import { outputJob } from "../worker/jobs/output";
+import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+
+let stack: Stack;
+let operator: supertest.Agent;
+let piece: Fragment;
+let itemId: string;
+
+const ctx = (retryCount = 0) => ({ jobId: crypto.randomUUID(), retryCount, retryLimit: 6 });
+
+/** The job's dependencies; no queue (the stopped worker took its pg-boss down), so no notice is sent. */
+async function deps(library: Storage = stack.library) {
+  return { database: stack.database, library, config: stack.cfg, log: (await import("../server/logger")).logger };
+}
+
+const presetCopies = async () =>
+  (await stack.database.pool.query<{ key: string; revision: number }>(`select key, revision from outputs where fragment_id = $1 and kind = 'preset'`, [piece.id])).rows;
+
+const item = async () =>
+  (await stack.database.pool.query<{ state: string; output_id: string | null }>(`select state, output_id from batch_items where id = $1`, [itemId])).rows[0]!;
+
+/** Files under outputs/ of the piece, on disk. */
+const filesOnDisk = async () => {
+  const dir = path.dirname(stack.libraryPath(`outputs/${piece.id}/x`));
+  return fs.readdir(dir).catch(() => [] as string[]);
+};
+
+beforeAll(async () => {
+  stack = await startStack({ watcher: false });
+  operator = await userAgent(stack, "operator");
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="900" height="600">
+    <rect width="100%" height="100%" fill="#f6f6f3"/><rect x="150" y="100" width="600" height="400" fill="#3a6e2e"/></svg>`;
+  const file = path.join(stack.inbox, "..", "fern-print.tif");
+  await fs.writeFile(file, await sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4 }).toBuffer());
+  const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
+  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 1 ? true : null), 45_000);
+  expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
+  piece = await waitFor("the master", async () => {
+    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+    return list.length === 1 && list[0]!.renderState === "done" ? list[0] : null;
+  }, 60_000);
+  // From here on nothing runs jobs but this test.
+  await stack.worker!.stop(2000);
+  const web = ((await operator.get("/api/presets")).body.presets as PresetSummary[]).find((p) => p.name === "web")!;
+  const made = await operator.post("/api/batches").send({ name: "Shop", selection: { fragmentIds: [piece.id] }, presetIds: [web.id] });
+  expect(made.status, JSON.stringify(made.body)).toBe(201);
+  const { rows } = await stack.database.pool.query<{ id: string }>(`select id from batch_items where batch_id = $1`, [made.body.batch.id]);
+  expect(rows).toHaveLength(1);
+  itemId = rows[0]!.id;
+}, 120_000);
+afterAll(async () => {
+  await stack?.stop();
+});
+
+describe("a batch copy made while its piece changes", () => {
+  it("is thrown away when the piece's revision moves on while it is made, and waits for the new master", async () => {
+    // While the copy is being stored, the piece gets a new revision, as a resolution set on its scan does.
+    const library: Storage = Object.create(stack.library, {
+      put: {
+        value: async (key: string, file: string, opts?: { move?: boolean }) => {
+          const r = await stack.library.put(key, file, opts);
+          if (key.startsWith("outputs/"))
+            await stack.database.pool.query(`update fragments set revision = revision + 1, render_state = 'queued' where id = $1`, [piece.id]);
+          return r;
+        },
+      },
+    });
+    await expect(outputJob(await deps(library), { batchItemId: itemId }, ctx())).rejects.toThrow(/changed while this copy was being made/);
+    expect(await presetCopies()).toEqual([]);
+    expect(await filesOnDisk()).toEqual([]);
+    expect((await item()).output_id).toBeNull();
+    expect((await item()).state).not.toBe("done");
+
+    // Its retry finds the master of the old revision and waits for the new one.
+    await expect(outputJob(await deps(), { batchItemId: itemId }, ctx(1))).rejects.toThrow(/waiting for the fragment's master/);
+    expect(await presetCopies()).toEqual([]);
+  });
+
+  it("is made from the new master, keyed at the new revision, once that is stored", async () => {
+    // The render of the new revision stores its master (here: the row moved on, as store() does).
+    const { rows } = await stack.database.pool.query<{ revision: number }>(
+      `update fragments set render_state = 'done' where id = $1 returning revision`,
+      [piece.id],
+    );
+    const revision = rows[0]!.revision;
+    await stack.database.pool.query(`update outputs set revision = $2, dpi = 600, updated_at = now() where fragment_id = $1 and kind = 'master'`, [piece.id, revision]);
+    await outputJob(await deps(), { batchItemId: itemId }, ctx(2));
+    const copies = await presetCopies();
+    expect(copies).toHaveLength(1);
+    expect(copies[0]!.revision).toBe(revision);
+    expect(await item()).toMatchObject({ state: "done" });
+    expect(await filesOnDisk()).toEqual([path.basename(copies[0]!.key)]);
+  });
+
+  it("is stored as before when nothing changed while it was made", async () => {
+    // The same item again is a no-op (made already), and the file and row stay as they are.
+    const before = await presetCopies();
+    await outputJob(await deps(), { batchItemId: itemId }, ctx(3));
+    expect(await presetCopies()).toEqual(before);
+  });
+});
