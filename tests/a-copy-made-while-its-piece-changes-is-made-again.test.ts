@@ -12,7 +12,7 @@ import sharp from "sharp";
 import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Fragment } from "../shared/schemas/fragments";
-import type { PresetSummary } from "../shared/schemas/presets";
+type PresetSummary = { id: string; name: string };
 import type { Storage } from "../server/storage/storage";
 import { outputJob } from "../worker/jobs/output";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";

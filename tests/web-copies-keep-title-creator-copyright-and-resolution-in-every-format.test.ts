@@ -100,6 +100,23 @@ const FORMATS = [
   { format: "avif", ext: ".avif" },
 ] as const;
 
+/**
+ * PNG's own text chunks, under the keywords ISO/IEC 15948:2004 §11.3.4.2 defines (Title, Author,
+ * Copyright), as libvips lists them (sharp's `comments`): the exact text. An ASCII text is a
+ * tEXt chunk (its type, then keyword, NUL, text: §11.3.4.3); "Zoë" is not ASCII, so an iTXt.
+ */
+function expectPngText(bytes: Buffer, meta: Awaited<ReturnType<ReturnType<typeof sharp>["metadata"]>>) {
+  expect(meta.comments).toEqual(
+    expect.arrayContaining([
+      { keyword: "Title", text: RIGHTS.title },
+      { keyword: "Author", text: RIGHTS.creator },
+      { keyword: "Copyright", text: RIGHTS.copyright },
+    ]),
+  );
+  expect(bytes.includes(Buffer.from(`tEXtTitle\0${RIGHTS.title}`, "latin1"))).toBe(true);
+  expect(bytes.includes(Buffer.concat([Buffer.from("iTXtAuthor\0\0\0\0\0", "latin1"), Buffer.from(RIGHTS.creator, "utf8")]))).toBe(true);
+}
+
 describe("web copies keep title, creator, copyright and resolution", () => {
   for (const { format, ext } of FORMATS) {
     it(`${format}: read back with exifr and with sharp; no location, no camera`, async () => {
@@ -137,6 +154,7 @@ describe("web copies keep title, creator, copyright and resolution", () => {
       // Reader 2: sharp (libvips) and the XMP packet's text.
       expect(meta.xmp).toBeDefined();
       expect(dublinCore(meta.xmp!.toString("utf8"))).toEqual({ title: RIGHTS.title, creator: RIGHTS.creator, rights: RIGHTS.copyright });
+      if (format === "png") expectPngText(bytes, meta);
       if (format === "jpeg" || format === "png") {
         expect(meta.density).toBe(410); // libvips reports whole DPI: 409.6 rounded
       } else {
@@ -154,7 +172,7 @@ describe("web copies keep title, creator, copyright and resolution", () => {
 
 describe("master copies by preset keep title, creator and copyright too", () => {
   for (const format of ["tiff", "png"] as const) {
-    it(`${format}: in XMP${format === "tiff" ? " and the TIFF 6.0 baseline fields" : " (iTXt)"}, read back with exifr and sharp`, async () => {
+    it(`${format}: in XMP${format === "tiff" ? " and the TIFF 6.0 baseline fields" : " (iTXt) and PNG text chunks"}, read back with exifr and sharp`, async () => {
       const out = at(`master.${format === "tiff" ? "tif" : "png"}`);
       const preset = { kind: "master", name: "archive", format };
       const report = await renderOutput({ master: source, dpi: 600, ...RIGHTS }, preset, { path: out });
@@ -173,6 +191,7 @@ describe("master copies by preset keep title, creator and copyright too", () => 
         const tags = await exifr.parse(fs.readFileSync(out), { xmp: true, chunked: false } as never);
         expect(tags.title?.value ?? tags.title).toBe(RIGHTS.title);
         expect(tags.creator).toBe(RIGHTS.creator);
+        expectPngText(fs.readFileSync(out), meta);
       }
     });
   }

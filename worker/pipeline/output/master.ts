@@ -8,14 +8,14 @@ import type { MasterPreset } from "../../../shared/schemas/presets";
 import { MM_PER_INCH } from "../../../shared/units";
 import { cleanRights, tiffRightsFields, xmpPacket, type Rights } from "../render/rights";
 import type { TiffField } from "../render/tiff-tags";
-import { withPngXmp } from "./web";
+import { withPngRights } from "./web";
 
 /**
  * Encodes a master from the source file. bitDepth "source" keeps the source's depth; 8 or 16
  * converts. Resolution: TIFF XResolution/YResolution per inch (TIFF 6.0 Section 8), PNG pHYs.
- * Title, creator and copyright go in as XMP (TIFF tag 700; PNG iTXt) and, for TIFF, as the
- * baseline ImageDescription, Artist and Copyright fields, which the caller adds to the written
- * file (`tiffFields`).
+ * Title, creator and copyright go in as XMP (TIFF tag 700; PNG iTXt) and as the format's own
+ * text fields: for TIFF the baseline ImageDescription, Artist and Copyright, which the caller adds
+ * to the written file (`tiffFields`); for PNG the Title, Author and Copyright text chunks.
  * Example: a 16-bit TIFF with the default master preset → a 16-bit LZW TIFF at the same DPI.
  */
 export async function renderMaster(
@@ -50,6 +50,6 @@ export async function renderMaster(
     img = img.png({ compressionLevel: preset.compression === "none" ? 0 : 9 });
   }
   const { data, info } = await img.toBuffer({ resolveWithObject: true });
-  if (preset.format === "png") return { data: xmp ? withPngXmp(data, xmp) : data, width: info.width, height: info.height, tiffFields: [] };
+  if (preset.format === "png") return { data: withPngRights(data, rights), width: info.width, height: info.height, tiffFields: [] };
   return { data, width: info.width, height: info.height, tiffFields: tiffRightsFields(rights) };
 }

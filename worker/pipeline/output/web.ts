@@ -112,19 +112,59 @@ export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights)
   else if (preset.format === "avif") out = out.avif({ quality: q });
   else out = out.png({ compressionLevel: 9 });
   let data: Buffer = await out.toBuffer();
-  if (xmp && preset.format === "png") data = withPngXmp(data, xmp);
+  if (preset.format === "png") data = withPngRights(data, kept);
   if (preset.toSrgb && canTagAfter(preset.format)) data = await tagSrgb(preset.format, data);
   return { data, width: g.canvasWidth, height: g.canvasHeight, dpi, warnings };
 }
 
 /**
- * The PNG with an uncompressed iTXt chunk, under the keyword the XMP specification (ISO 16684-1, Part 3 storage) prescribes, holding the packet, right
+ * An uncompressed iTXt chunk holding the XMP packet, under the keyword the XMP specification (ISO 16684-1, Part 3 storage) prescribes, for right
  * after IHDR: where XMP Specification Part 3 (§1.1.5, PNG) puts XMP, and early enough for readers
  * that only look at the start of the file. iTXt fields (ISO/IEC 15948 §11.3.4.5): keyword, 0,
  * compression flag 0, method 0, language "", 0, translated keyword "", 0, UTF-8 text.
  */
-export function withPngXmp(png: Buffer, xmp: string): Buffer {
-  const body = Buffer.concat([XMP_ITXT_KEYWORD, Buffer.from("\0\0\0\0\0", "latin1"), Buffer.from(xmp, "utf8")]);
+function xmpChunk(xmp: string): Buffer {
+  return pngChunk("iTXt", Buffer.concat([XMP_ITXT_KEYWORD, Buffer.from("\0\0\0\0\0", "latin1"), Buffer.from(xmp, "utf8")]));
+}
+
+function withPngChunks(png: Buffer, chunks: Buffer[]): Buffer {
+  if (chunks.length === 0) return png;
   const afterIhdr = afterPngHeader(png);
-  return Buffer.concat([png.subarray(0, afterIhdr), pngChunk("iTXt", body), png.subarray(afterIhdr)]);
+  return Buffer.concat([png.subarray(0, afterIhdr), ...chunks, png.subarray(afterIhdr)]);
+}
+
+/** Printable ASCII: the text written in a plain tEXt chunk. */
+const ASCII = /^[\u0020-\u007e]*$/;
+
+/**
+ * The text chunks of the rights, under the keywords ISO/IEC 15948:2004 §11.3.4.2 defines for them:
+ * Title, Author (the creator) and Copyright. An ASCII text goes in a tEXt chunk (keyword, 0,
+ * text; §11.3.4.3); any other in an uncompressed iTXt (keyword, 0, flag 0, method 0, language "",
+ * 0, translated keyword "", 0, UTF-8 text; §11.3.4.5), so a name in any script is kept as written.
+ * (tEXt could hold Latin-1, but readers such as libvips take its bytes for UTF-8 and garble "ë".)
+ * Example: { creator: "Zoë Hart" } → one iTXt chunk "Author\0\0\0\0\0Zoë Hart" in UTF-8.
+ */
+export function pngTextChunks(rights: Rights): Buffer[] {
+  const clean = cleanRights(rights);
+  const out: Buffer[] = [];
+  for (const [keyword, text] of [
+    ["Title", clean.title],
+    ["Author", clean.creator],
+    ["Copyright", clean.copyright],
+  ] as const) {
+    if (!text) continue;
+    const key = Buffer.from(keyword, "latin1");
+    out.push(
+      ASCII.test(text)
+        ? pngChunk("tEXt", Buffer.concat([key, Buffer.from([0]), Buffer.from(text, "latin1")]))
+        : pngChunk("iTXt", Buffer.concat([key, Buffer.from([0, 0, 0, 0, 0]), Buffer.from(text, "utf8")])),
+    );
+  }
+  return out;
+}
+
+/** The PNG with the rights as XMP (iTXt) and as the text chunks PNG readers show (pngTextChunks). */
+export function withPngRights(png: Buffer, rights: Rights): Buffer {
+  const xmp = xmpPacket(cleanRights(rights));
+  return withPngChunks(png, [...(xmp ? [xmpChunk(xmp)] : []), ...pngTextChunks(rights)]);
 }
