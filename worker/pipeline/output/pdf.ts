@@ -88,6 +88,7 @@ export async function renderPrintPdf(piece: Piece, layout: PrintLayout, preset: 
     doc.registerFontkit(fontkit);
     const faces = captionFaces();
     const fonts = new Map<number, PDFFont>();
+    const fontKeys = new Map<number, PDFName>();
     let x = line.xIn * 72;
     for (const run of line.runs) {
       let font = fonts.get(run.face);
@@ -130,7 +131,12 @@ export async function renderPrintPdf(piece: Piece, layout: PrintLayout, preset: 
         move = next ? g.xAdvance - g.glyph.advanceWidth + next.xOffset - g.xOffset : 0;
       });
       if (segments.length > 0) flush(segments[segments.length - 1]!);
-      const key = page.node.newFontDictionary(font.name, font.ref);
+      // One resource name per face on the page, however many runs use it.
+      let key = fontKeys.get(run.face);
+      if (!key) {
+        key = page.node.newFontDictionary(font.name, font.ref);
+        fontKeys.set(run.face, key);
+      }
       let rise = 0;
       const shows = segments.flatMap((seg) => {
         const ops: PDFOperator[] = [];
