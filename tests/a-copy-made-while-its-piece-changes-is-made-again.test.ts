@@ -3,7 +3,8 @@
  * scan bumps its revision; a new master is stored), the copy just made is not what its key would
  * say: it is thrown away and made again from the piece as it is then. The real stack (PostgreSQL,
  * pg-boss, a library folder); the worker is stopped once the masters exist, and the output job is
- * run here, with a library that lets the change happen while the copy is being made.
+ * run here, with a library that lets the change happen while the copy is being made. A batch's
+ * review, meanwhile, reckons with the piece as it is, not with its older master.
  */
 import crypto from "node:crypto";
 import fs from "node:fs/promises";
@@ -113,5 +114,26 @@ describe("a batch copy made while its piece changes", () => {
     const before = await presetCopies();
     await outputJob(await deps(), { batchItemId: itemId }, ctx(3));
     expect(await presetCopies()).toEqual(before);
+  });
+
+  it("is reckoned at the piece's size now in a batch's review, while its new master is on its way", async () => {
+    // Printed 1.5 in wide: about 600 px ÷ 1.5 in = 400 DPI, over the 300 DPI minimum (common practice).
+    const made = await operator.post("/api/presets").send({
+      name: "Card, 1.5 in",
+      settings: { kind: "print", name: "Card, 1.5 in", paper: { size: "letter" }, layout: { mode: "area", widthIn: 8, heightIn: 10 }, printDpi: 300, scale: { mode: "exact", widthIn: 1.5 }, output: "tiff" },
+    });
+    expect(made.status, JSON.stringify(made.body)).toBe(201);
+    const presetId = (made.body.preset?.id ?? made.body.id) as string;
+    const review = async () => (await operator.post("/api/batches/estimate").send({ selection: { fragmentIds: [piece.id] }, presetIds: [presetId] })).body;
+    expect((await review()).warnings).toEqual([]);
+    // The piece is cut to half its width (a new revision); its master is still the wide one.
+    await stack.database.pool.query(
+      `update fragments set rect = jsonb_set(rect, '{width}', to_jsonb((rect->>'width')::float / 2)), revision = revision + 1 where id = $1`,
+      [piece.id],
+    );
+    const { rows } = await stack.database.pool.query<{ width: number }>(`select width from outputs where fragment_id = $1 and kind = 'master'`, [piece.id]);
+    expect(rows[0]!.width).toBeGreaterThan(500);
+    // About 300 px ÷ 1.5 in = 200 DPI now: said before the run.
+    expect((await review()).warnings).toEqual([expect.stringMatching(/^Card, 1\.5 in: 1 of 1 piece prints below 300 DPI/)]);
   });
 });

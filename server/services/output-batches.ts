@@ -65,7 +65,8 @@ function titleTag(title: string | undefined): string {
 /**
  * The batch builder's review: how many outputs, how many are made already (and reused), and the
  * expected bytes of the rest, from each fragment's master (estimateOutputBytes). A fragment whose
- * master is not made yet counts at its size in the scan with a typical busyness.
+ * master is not made yet counts at its size in the scan with a typical busyness; one whose master
+ * is of an older revision, at its size now with that master's busyness.
  */
 export async function estimateBatch(db: Db, body: CreateBatchBody) {
   const picked = await selectFragments(db, body.selection);
@@ -75,18 +76,25 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
   for (let i = 0; i < picked.length; i += SEND_CHUNK) {
     const ids = picked.slice(i, i + SEND_CHUNK).map((f) => f.id);
     const rows = await db
-      .select({ id: fragments.id, rect: fragments.rect, scanDpi: scans.dpiX, master: outputs })
+      .select({ id: fragments.id, revision: fragments.revision, rect: fragments.rect, scanDpi: scans.dpiX, master: outputs })
       .from(fragments)
       .innerJoin(scans, eq(scans.id, fragments.scanId))
       .leftJoin(outputs, and(eq(outputs.fragmentId, fragments.id), eq(outputs.kind, "master")))
       .where(inArray(fragments.id, ids));
     for (const r of rows) {
       const m = r.master;
+      const width = Math.round(r.rect.width);
+      const height = Math.round(r.rect.height);
+      const dpi = r.scanDpi ?? 300;
       facts.set(
         r.id,
-        m
+        m && m.revision === r.revision
           ? { width: m.width, height: m.height, dpi: m.dpi, bytes: m.bytes, bitDepth: m.bitDepth, hasAlpha: m.hasAlpha }
-          : { width: Math.round(r.rect.width), height: Math.round(r.rect.height), dpi: r.scanDpi ?? 300, bytes: 0, bitDepth: 8, hasAlpha: false },
+          : m
+            ? // A master of an older revision (an edit or a new resolution since; its new master is
+              // on its way): the piece's size and resolution now, the old file's busyness per pixel.
+              { width, height, dpi, bytes: Math.round((m.bytes * width * height) / Math.max(1, m.width * m.height)), bitDepth: m.bitDepth, hasAlpha: m.hasAlpha }
+            : { width, height, dpi, bytes: 0, bitDepth: 8, hasAlpha: false },
       );
     }
   }
