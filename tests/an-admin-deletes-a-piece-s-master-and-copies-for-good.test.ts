@@ -87,6 +87,7 @@ describe("deleting a piece's master and copies", () => {
       bytes: mine.reduce((s, o) => s + o.bytes, 0),
       batches: 1,
       blocked: null,
+      offsite: null, // no off-site bucket on this stack
     });
 
     // Shown fewer files than would go: refused, nothing gone.
@@ -101,7 +102,7 @@ describe("deleting a piece's master and copies", () => {
 
     const res = await admin.delete(`/api/fragments/${piece!.id}/files`).query({ upTo: 3 });
     expect(res.status).toBe(200);
-    expect(res.body).toEqual({ removed: 3, notRemoved: 0 });
+    expect(res.body).toEqual({ removed: 3, notRemoved: 0, offsite: "none", offsiteError: null });
     expect(await outputsOf(piece!.id)).toEqual([]);
     for (const o of mine) await expect(fs.stat(stack.libraryPath(o.key))).rejects.toMatchObject({ code: "ENOENT" });
     const [row] = await stack.db.select().from(fragments).where(eq(fragments.id, piece!.id));

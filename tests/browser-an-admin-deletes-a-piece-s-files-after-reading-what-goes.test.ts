@@ -16,9 +16,12 @@ import { openBrowser, signIn } from "./helpers/browser";
 let stack: Stack;
 let browser: Awaited<ReturnType<typeof openBrowser>>;
 let pieceId: string;
+/** Set PLATEN_SHOTS to a folder to keep screenshots of the new screens. */
+const shots = process.env.PLATEN_SHOTS;
 
 beforeAll(async () => {
-  stack = await startStack({ watcher: false });
+  // With an off-site bucket (a fake S3 server on 127.0.0.1): the master is copied there too.
+  stack = await startStack({ watcher: false, offsite: true });
   await userAgent(stack, "admin", "admin@test.example");
   const operator = await userAgent(stack, "operator", "operator@test.example");
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="900">
@@ -33,6 +36,10 @@ beforeAll(async () => {
     return list.every((f) => f.renderState === "done") ? list : null;
   }, 60_000);
   pieceId = piece!.id;
+  await waitFor("the off-site copy", async () => {
+    const { rows } = await stack.database.pool.query(`select 1 from offsite_copies c join outputs o on o.id = c.output_id where o.fragment_id = $1 and c.status = 'copied'`, [pieceId]);
+    return rows.length === 1;
+  }, 60_000);
   browser = await openBrowser();
 });
 afterAll(async () => {
@@ -51,7 +58,7 @@ describe("deleting a piece's files in the browser", () => {
     await page.close();
   });
 
-  it("says what goes, keeps them on Esc, and deletes them on the admin's word", async () => {
+  it("says what goes, keeps them on Esc, and deletes them (and, when ticked, the off-site copy) on the admin's word", async () => {
     await browser.context.clearCookies();
     const page = await browser.context.newPage();
     await signIn(page, stack.url, "admin@test.example", "admin-password-123");
@@ -70,9 +77,19 @@ describe("deleting a piece's files in the browser", () => {
     await expect.poll(() => opener.evaluate((el) => el === document.activeElement)).toBe(true);
     expect(await stack.db.select().from(outputs).where(eq(outputs.fragmentId, pieceId))).toHaveLength(2);
 
+    // The off-site copy is kept unless ticked; ticking it says so on the button.
     await opener.click();
-    await ask.getByRole("button", { name: "Delete 2 files" }).click();
-    await expect.poll(() => page.getByRole("status").filter({ hasText: "Deleted 2 files of one-piece-to-delete · 1." }).count()).toBe(1);
+    const alsoOffsite = ask.getByRole("checkbox", { name: /Also delete its master's copy in the off-site bucket/ });
+    expect(await alsoOffsite.isChecked()).toBe(false);
+    const masterKey = made.find((o) => o.kind === "master")!.key;
+    expect(await stack.offsite!.exists(masterKey)).toBe(true);
+    await alsoOffsite.check();
+    if (shots) await page.screenshot({ path: path.join(shots, "delete-files-offsite.png"), fullPage: true });
+    await ask.getByRole("button", { name: "Delete 2 files and the off-site copy" }).click();
+    await expect
+      .poll(() => page.getByRole("status").filter({ hasText: "Deleted 2 files of one-piece-to-delete · 1, and its off-site copy." }).count())
+      .toBe(1);
+    expect(await stack.offsite!.exists(masterKey)).toBe(false);
     expect(await stack.db.select().from(outputs).where(eq(outputs.fragmentId, pieceId))).toEqual([]);
     for (const o of made) await expect(fs.stat(stack.libraryPath(o.key))).rejects.toMatchObject({ code: "ENOENT" });
     expect((await stack.db.select().from(fragments).where(eq(fragments.id, pieceId)))[0]!.status).toBe("rejected");

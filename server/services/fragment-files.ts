@@ -1,11 +1,12 @@
 import { and, eq, inArray, sql } from "drizzle-orm";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
-import { batchItems, fragments, outputs, scans } from "../db/schema";
+import { batchItems, fragments, offsiteCopies, outputs, scans } from "../db/schema";
 import { withTx } from "../db/tx";
 import { conflict, notFound } from "../errors";
 import type { Logger } from "../logger";
 import type { Storage } from "../storage/storage";
+import type { S3Storage } from "../storage/s3";
 import type { FragmentFilesPlan } from "../../shared/schemas/fragment-files";
 import { formatBytes } from "../../shared/units";
 import { recordAudit } from "./audit";
@@ -26,7 +27,10 @@ async function blockedBy(db: Db, row: typeof fragments.$inferSelect): Promise<st
   return null;
 }
 
-async function planOf(db: Db, row: typeof fragments.$inferSelect): Promise<{ plan: FragmentFilesPlan; outs: OutputRow[] }> {
+async function planOf(
+  db: Db,
+  row: typeof fragments.$inferSelect,
+): Promise<{ plan: FragmentFilesPlan; outs: OutputRow[]; offsiteKey: string | null }> {
   const outs = await db
     .select({ id: outputs.id, kind: outputs.kind, key: outputs.key, format: outputs.format, bytes: outputs.bytes })
     .from(outputs)
@@ -39,8 +43,12 @@ async function planOf(db: Db, row: typeof fragments.$inferSelect): Promise<{ pla
         .from(batchItems)
         .where(inArray(batchItems.outputId, ids))
     : [{ n: 0 }];
+  const [copy] = master
+    ? await db.select({ status: offsiteCopies.status, key: offsiteCopies.key }).from(offsiteCopies).where(eq(offsiteCopies.outputId, master.id))
+    : [];
   return {
     outs,
+    offsiteKey: copy?.key ?? null,
     plan: {
       master: master ? { format: master.format, bytes: master.bytes } : null,
       copies: outs.length - (master ? 1 : 0),
@@ -48,6 +56,7 @@ async function planOf(db: Db, row: typeof fragments.$inferSelect): Promise<{ pla
       bytes: outs.reduce((sum, o) => sum + o.bytes, 0),
       batches: listed?.n ?? 0,
       blocked: await blockedBy(db, row),
+      offsite: copy ? { status: copy.status } : null,
     },
   };
 }
@@ -69,20 +78,29 @@ export async function fragmentFilesPlan(db: Db, id: string): Promise<FragmentFil
  * renders it again by itself), then the files. Refused while its render or a batch copy of it is
  * in flight, and when more files would go than the admin was shown (`upTo`). The original scan is
  * untouched (originals are never removed), so approving the piece again renders a new master from
- * it. Copies already in the off-site bucket stay there. Batches that listed a copy keep their item,
- * without the file. A file the library cannot remove now is left for the tidy (no row names it).
+ * it. The master's copy in the off-site bucket stays unless `offsite` is "delete" (refused while it
+ * is still being copied); it is removed after the rows, and a bucket that cannot remove it now is
+ * said in the answer with the key, for an admin to remove by hand. Batches that listed a copy keep
+ * their item, without the file. A file the library cannot remove now is left for the tidy (no row
+ * names it).
  */
 export async function deleteFragmentFiles(
-  deps: { database: Database; boss: PgBoss; library: Storage; log: Logger },
+  deps: { database: Database; boss: PgBoss; library: Storage; offsite?: S3Storage | null; log: Logger },
   actor: Actor,
   id: string,
   upTo: number,
-): Promise<{ removed: number; notRemoved: number }> {
-  const keys = await withTx(deps.database, deps.boss, async (tx) => {
+  offsite: "keep" | "delete" = "keep",
+): Promise<{ removed: number; notRemoved: number; offsite: "removed" | "kept" | "none"; offsiteError: string | null }> {
+  const { keys, offsiteKey, hadOffsite } = await withTx(deps.database, deps.boss, async (tx) => {
     const [row] = await tx.db.select().from(fragments).where(eq(fragments.id, id)).for("update");
     if (!row) throw notFound("That fragment");
-    const { plan, outs } = await planOf(tx.db, row);
+    const { plan, outs, offsiteKey } = await planOf(tx.db, row);
     if (plan.blocked) throw conflict(plan.blocked);
+    const dropOffsite = offsite === "delete" && plan.offsite !== null;
+    if (dropOffsite && plan.offsite!.status === "pending")
+      throw conflict("Its master is being copied off-site right now. Delete its files once the copy is done, or keep the off-site copy.");
+    if (dropOffsite && !deps.offsite)
+      throw conflict("This server has no off-site bucket configured, so it cannot remove the off-site copy. Keep it, or set the bucket up first.");
     if (plan.files === 0) throw conflict("This piece has no master or copies to delete.");
     if (plan.files > upTo)
       throw conflict(`This would delete ${plan.files} files, more than the ${upTo} you were shown. Look at what goes again.`);
@@ -105,17 +123,18 @@ export async function deleteFragmentFiles(
       action: "fragment.delete_files",
       subjectType: "fragment",
       subjectId: id,
-      summary: `Deleted the master and ${plan.copies} ${plan.copies === 1 ? "copy" : "copies"} of ${label} (${formatBytes(plan.bytes)})${wasApproved ? "; it is no longer approved" : ""}`,
+      summary: `Deleted the master and ${plan.copies} ${plan.copies === 1 ? "copy" : "copies"} of ${label} (${formatBytes(plan.bytes)})${dropOffsite ? ", and its off-site copy" : ""}${wasApproved ? "; it is no longer approved" : ""}`,
       before: {
         status: row.status,
         revision: row.revision,
         files: outs.map((o) => ({ kind: o.kind, format: o.format, bytes: o.bytes, key: o.key })),
+        ...(plan.offsite ? { offsite: { key: offsiteKey, status: plan.offsite.status } } : {}),
       },
-      after: { status: wasApproved ? "rejected" : row.status, files: [] },
+      after: { status: wasApproved ? "rejected" : row.status, files: [], ...(plan.offsite ? { offsite: dropOffsite ? "deleted" : "kept" } : {}) },
     });
     await tx.notify({ kind: "scan", scanId: row.scanId });
     // (Its small pictures are cut from the scan's preview, not from the master: they stay.)
-    return outs.map((o) => o.key);
+    return { keys: outs.map((o) => o.key), offsiteKey: dropOffsite ? offsiteKey : null, hadOffsite: plan.offsite !== null };
   });
 
   let removed = 0;
@@ -129,6 +148,16 @@ export async function deleteFragmentFiles(
       deps.log.warn({ err, key }, "delete files: not removed now; the tidy will");
     }
   }
-  deps.log.info({ fragmentId: id, removed, notRemoved }, "delete files: done");
-  return { removed, notRemoved };
+  let offsiteError: string | null = null;
+  if (offsiteKey && deps.offsite) {
+    try {
+      await deps.offsite.remove(offsiteKey);
+    } catch (err) {
+      offsiteError = `The off-site copy could not be removed now (${(err as Error).message}). Remove "${offsiteKey}" from the bucket by hand.`;
+      deps.log.warn({ err, key: offsiteKey }, "delete files: off-site copy not removed");
+    }
+  }
+  const offsiteOutcome = offsiteKey && !offsiteError ? "removed" : hadOffsite ? "kept" : "none";
+  deps.log.info({ fragmentId: id, removed, notRemoved, offsite: offsiteOutcome }, "delete files: done");
+  return { removed, notRemoved, offsite: offsiteOutcome, offsiteError };
 }

@@ -15,6 +15,11 @@ export const fragmentFilesPlanSchema = z.object({
   batches: z.number(),
   /** Why it cannot be done now (work in flight), or null. */
   blocked: z.string().nullable(),
+  /**
+   * The master's copy in the off-site bucket (when one is configured and the master was sent
+   * there): kept unless the admin also asks for it to go. `pending`: being copied now.
+   */
+  offsite: z.object({ status: z.enum(["pending", "copied", "failed"]) }).nullable(),
 });
 export type FragmentFilesPlan = z.infer<typeof fragmentFilesPlanSchema>;
 export const fragmentFilesPlanResponse = z.object({ plan: fragmentFilesPlanSchema });
@@ -22,10 +27,16 @@ export const fragmentFilesPlanResponse = z.object({ plan: fragmentFilesPlanSchem
 /** The number of files the admin was shown: no more than that are removed. */
 export const deleteFragmentFilesQuery = z.strictObject({
   upTo: z.coerce.number().int().min(0).max(1_000_000),
+  /** "delete": the master's off-site copy goes too; kept otherwise. */
+  offsite: z.enum(["keep", "delete"], { error: 'Expected offsite to be "keep" or "delete"' }).default("keep"),
 });
+export type DeleteFragmentFilesQuery = z.input<typeof deleteFragmentFilesQuery>;
 
 export const deleteFragmentFilesResponse = z.object({
   /** Files removed from the library now, and those it could not remove (left for the tidy). */
   removed: z.number(),
   notRemoved: z.number(),
+  /** The off-site copy: removed from the bucket, kept, or asked to go but not removable now (why). */
+  offsite: z.enum(["removed", "kept", "none"]),
+  offsiteError: z.string().nullable(),
 });

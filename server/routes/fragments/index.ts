@@ -25,7 +25,7 @@ import { sendStored } from "../send-stored";
 
 export function fragmentsRouter(deps: AppDeps): Router {
   const router = Router();
-  const { database, boss, library } = deps;
+  const { database, boss, library, offsite } = deps;
   const { db } = database;
 
   handle(router, API.scanFragments, async ({ params, user }) => {
@@ -60,7 +60,7 @@ export function fragmentsRouter(deps: AppDeps): Router {
   });
   handle(router, API.fragmentsFilesPlan, async ({ params }) => ({ plan: await fragmentFilesPlan(db, params.id) }));
   handle(router, API.fragmentsFilesDelete, async ({ params, query, user, req }) =>
-    deleteFragmentFiles({ database, boss, library, log: req.log }, user, params.id, query.upTo),
+    deleteFragmentFiles({ database, boss, library, offsite, log: req.log }, user, params.id, query.upTo, query.offsite),
   );
   handle(router, API.fragmentsReset, async ({ params, user }) => ({ fragment: await resetFragment(database, boss, user, params.id) }));
   handle(router, API.fragmentsUnmerge, async ({ params, user }) => ({ fragments: await unmergeFragment(database, boss, user, params.id) }));

@@ -14,12 +14,12 @@ export function useFragmentFilesPlan(id: string, enabled: boolean) {
   });
 }
 
-/** Deletes them, no more files than `upTo` (what the admin was shown). */
+/** Deletes them, no more files than `upTo` (what the admin was shown); the off-site copy only with `offsite: "delete"`. */
 export function useDeleteFragmentFiles(id: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: (upTo: number) =>
-      apiRequest(API.fragmentsFilesDelete, { params: { id }, query: { upTo }, schema: deleteFragmentFilesResponse, quiet: true }),
+    mutationFn: (query: { upTo: number; offsite: "keep" | "delete" }) =>
+      apiRequest(API.fragmentsFilesDelete, { params: { id }, query, schema: deleteFragmentFilesResponse, quiet: true }),
     // Scans and batches follow through the live event the deletion sends.
     onSettled: () => void queryClient.invalidateQueries({ queryKey: fragmentKeys.all }),
   });
