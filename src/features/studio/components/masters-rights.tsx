@@ -37,7 +37,7 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
       toast.success(
         s.behind === 0
           ? "Every master now carries the studio's creator and copyright line."
-          : `Written. ${masters(s.behind)} still carry other rights; see the Studio screen.`,
+          : `Written. ${masters(s.behind)} still carry other rights; see “Rights in masters already made”.`,
       );
     wasWriting.current = s.writing > 0;
   }, [s]);
