@@ -1,3 +1,4 @@
+import { useCallback } from "react";
 import { Link, useSearchParams } from "react-router-dom";
 import { Button, Spinner } from "../../components/button";
 import { LoadError } from "../../components/notice";
@@ -6,7 +7,9 @@ import { paths } from "../../config/paths";
 import { useFragments } from "../../features/fragments/api/get-fragments";
 import { LengthUnitSwitch } from "../../features/fragments/components/length-unit-switch";
 import { useLengthUnit } from "../../features/fragments/components/use-length-unit";
+import { WorkFilters, type WorkFilter } from "../../features/fragments/components/work-filters";
 import { WorkGrid } from "../../features/fragments/components/work-grid";
+import { useIntakes } from "../../features/scans/api/get-intakes";
 import { useHasRole } from "../../lib/authorization";
 
 const PAGE_SIZE = 60;
@@ -15,12 +18,17 @@ const PAGE_SIZE = 60;
 export function WorkRoute() {
   const [params, setParams] = useSearchParams();
   const scanId = params.get("scan") || undefined;
+  const q = params.get("q")?.trim() || undefined;
+  const intakeId = params.get("intake") || undefined;
   const page = Math.max(1, Number.parseInt(params.get("page") ?? "1", 10) || 1);
   const [unit, setUnit] = useLengthUnit();
   const isOperator = useHasRole("operator");
+  const intakes = useIntakes();
   const fragments = useFragments({
     status: "approved",
     scanId,
+    intakeId,
+    q,
     limit: PAGE_SIZE,
     offset: (page - 1) * PAGE_SIZE,
   });
@@ -31,6 +39,21 @@ export function WorkRoute() {
       else q.delete("page");
       return q;
     });
+  // A new search or intake starts again at the first page.
+  const setFilter = useCallback(
+    (patch: Partial<WorkFilter>) =>
+      setParams((p) => {
+        const next = new URLSearchParams(p);
+        const put = (key: string, value: string | undefined) =>
+          value ? next.set(key, value) : next.delete(key);
+        if ("q" in patch) put("q", patch.q);
+        if ("intakeId" in patch) put("intake", patch.intakeId);
+        next.delete("page");
+        return next;
+      }),
+    [setParams],
+  );
+  const filtered = Boolean(q || intakeId);
   const list = fragments.data ?? [];
   const scanName = scanId ? list[0]?.scanName : undefined;
 
@@ -50,6 +73,7 @@ export function WorkRoute() {
           </Link>
         </p>
       )}
+      <WorkFilters filter={{ q, intakeId }} intakes={intakes.data ?? []} onChange={setFilter} />
       {fragments.isPending ? (
         <p className="flex items-center gap-2 text-sm text-ink-muted">
           <Spinner /> Loading the approved work…
@@ -60,9 +84,11 @@ export function WorkRoute() {
         <EmptyNote>
           {page > 1
             ? "No more approved fragments."
-            : isOperator
-              ? "Nothing is approved yet. Review a scan's fragments and the approved ones appear here."
-              : "Nothing is approved yet. Approved pieces appear here as soon as the studio has reviewed them."}
+            : filtered
+              ? `No approved piece matches ${q ? `"${q}"` : "these filters"}${intakeId ? " in this intake" : ""}. Clear the search to see them all.`
+              : isOperator
+                ? "Nothing is approved yet. Review a scan's fragments and the approved ones appear here."
+                : "Nothing is approved yet. Approved pieces appear here as soon as the studio has reviewed them."}
         </EmptyNote>
       ) : (
         <>

@@ -1,6 +1,7 @@
 export interface FragmentListFilters {
   status?: "proposed" | "approved" | "rejected";
   scanId?: string;
+  intakeId?: string;
   q?: string;
   limit?: number;
   offset?: number;

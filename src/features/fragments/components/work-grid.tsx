@@ -28,6 +28,21 @@ export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: Len
               <span className="figure text-xs text-ink-muted">
                 {formatFragmentSize(f.rect, f.dpi, unit)}
               </span>
+              {f.tags.length > 0 && (
+                <span className="mt-1 flex flex-wrap gap-1" aria-label="Tags">
+                  {f.tags.slice(0, 4).map((t) => (
+                    <span
+                      key={t}
+                      className="rounded border border-paper-300 bg-paper-100 px-1.5 py-px text-[11px] text-ink-soft"
+                    >
+                      {t}
+                    </span>
+                  ))}
+                  {f.tags.length > 4 && (
+                    <span className="text-[11px] text-ink-muted">+{f.tags.length - 4}</span>
+                  )}
+                </span>
+              )}
               {f.renderState !== "done" && (
                 <span className="text-xs text-ink-muted">
                   {f.renderState === "failed" ? "Render failed" : "Files being made…"}

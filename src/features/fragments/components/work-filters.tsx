@@ -1,0 +1,79 @@
+import { useEffect, useState } from "react";
+import type { Intake } from "../../../../shared/schemas/scans";
+import { Button } from "../../../components/button";
+import { SelectField, TextField } from "../../../components/field";
+
+export interface WorkFilter {
+  q?: string;
+  intakeId?: string;
+}
+
+/**
+ * A search over the approved pieces (title, tags, notes and the scan's file name) and an intake
+ * to look in. The search waits for a pause in typing; the address keeps both, so a search can be
+ * shared and the back button returns to it.
+ */
+export function WorkFilters({
+  filter,
+  intakes,
+  onChange,
+}: {
+  filter: WorkFilter;
+  intakes: Intake[];
+  onChange: (patch: Partial<WorkFilter>) => void;
+}) {
+  const [q, setQ] = useState(filter.q ?? "");
+  // Follow the address (back button, "Clear") without fighting the person typing.
+  const [seenQ, setSeenQ] = useState(filter.q);
+  if (seenQ !== filter.q) {
+    setSeenQ(filter.q);
+    if (q.trim() !== (filter.q ?? "")) setQ(filter.q ?? "");
+  }
+  useEffect(() => {
+    const trimmed = q.trim();
+    if (trimmed === (filter.q ?? "")) return;
+    const timer = setTimeout(() => onChange({ q: trimmed || undefined }), 250);
+    return () => clearTimeout(timer);
+  }, [q, filter.q, onChange]);
+
+  return (
+    <div
+      className="mb-5 flex flex-wrap items-end gap-4"
+      role="search"
+      aria-label="Find approved work"
+    >
+      <TextField
+        label="Search"
+        type="search"
+        placeholder="Title, tag, notes or scan name"
+        value={q}
+        onChange={(e) => setQ(e.target.value)}
+        fieldClassName="w-72"
+      />
+      <SelectField
+        label="Intake"
+        value={filter.intakeId ?? ""}
+        onChange={(e) => onChange({ intakeId: e.target.value || undefined })}
+        fieldClassName="w-64"
+      >
+        <option value="">All intakes</option>
+        {intakes.map((intake) => (
+          <option key={intake.id} value={intake.id}>
+            {intake.name}
+          </option>
+        ))}
+      </SelectField>
+      {(filter.q || filter.intakeId) && (
+        <Button
+          variant="quiet"
+          onClick={() => {
+            setQ("");
+            onChange({ q: undefined, intakeId: undefined });
+          }}
+        >
+          Clear
+        </Button>
+      )}
+    </div>
+  );
+}

@@ -1,0 +1,101 @@
+import fs from "node:fs/promises";
+import path from "node:path";
+import sharp from "sharp";
+import type supertest from "supertest";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import type { Fragment } from "../shared/schemas/fragments";
+import { openBrowser, signIn } from "./helpers/browser";
+import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+
+let stack: Stack;
+let operator: supertest.Agent;
+let browser: Awaited<ReturnType<typeof openBrowser>>;
+
+/** Two pieces on a pale lid at 300 DPI (invented test data). */
+async function twoPieceScan(a: string, b: string): Promise<Buffer> {
+  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="700">
+    <rect width="100%" height="100%" fill="#f6f6f3"/>
+    <rect x="100" y="100" width="400" height="400" fill="${a}"/>
+    <rect x="700" y="150" width="350" height="420" fill="${b}"/>
+  </svg>`;
+  return sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+}
+
+/** Starts an intake, files one scan in it, approves its two pieces and names them. */
+async function intakeWithTwoPieces(intake: string, file: string, colours: [string, string], names: { title: string; tags?: string[]; notes?: string }[]) {
+  expect((await operator.post("/api/intakes").send({ name: intake })).status).toBe(201);
+  const local = path.join(stack.inbox, file);
+  await fs.writeFile(local, await twoPieceScan(...colours));
+  const up = await operator.post("/api/scans/upload").attach("files", local);
+  const scanId = up.body.results[0].scanId as string;
+  await waitFor(`${file} to be split`, async () => {
+    const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
+    return s.status === "ready" && s.fragments.total === 2 ? s : null;
+  }, 45_000);
+  expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
+  const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+  for (const [i, f] of list.entries()) {
+    const res = await operator.patch(`/api/fragments/${f.id}`).send(names[i]!);
+    expect(res.status, JSON.stringify(res.body)).toBe(200);
+  }
+}
+
+beforeAll(async () => {
+  stack = await startStack({ watcher: false });
+  operator = await userAgent(stack, "operator", "operator@test.example");
+  await userAgent(stack, "viewer", "viewer@test.example");
+  await intakeWithTwoPieces("Spring atlas", "atlas-plate-3.tif", ["#2e6f9e", "#4f8a3c"], [
+    { title: "Blue heron", tags: ["birds", "blue"] },
+    { title: "Fern study", tags: ["plants"] },
+  ]);
+  await intakeWithTwoPieces("Harbour maps", "harbour-sheet-1.tif", ["#9e4a2e", "#c9a13b"], [
+    { title: "Lighthouse", notes: "From the box of harbour charts" },
+    { title: "Tide table" },
+  ]);
+  browser = await openBrowser();
+}, 180_000);
+afterAll(async () => {
+  await browser?.close();
+  await stack?.stop();
+});
+
+describe("approved work", () => {
+  it("a viewer finds pieces by title, tag, notes and intake; the address keeps the search", async () => {
+    const page = await browser.context.newPage();
+    await signIn(page, stack.url, "viewer@test.example", "viewer-password-123");
+    await page.goto(`${stack.url}/work`);
+    const grid = page.getByRole("list", { name: "Approved fragments" });
+    const names = () => grid.getByRole("listitem").allInnerTexts();
+    await expect.poll(() => grid.getByRole("listitem").count(), { timeout: 15_000 }).toBe(4);
+    // Tags stand on the cards.
+    expect((await names()).find((t) => t.includes("Blue heron"))).toMatch(/birds\s*blue/);
+
+    const search = page.getByRole("searchbox", { name: "Search" });
+    await search.fill("heron");
+    await expect.poll(names, { timeout: 10_000 }).toEqual([expect.stringContaining("Blue heron")]);
+    await expect.poll(() => new URL(page.url()).searchParams.get("q")).toBe("heron");
+
+    // A tag, then words of the notes.
+    await search.fill("plants");
+    await expect.poll(names, { timeout: 10_000 }).toEqual([expect.stringContaining("Fern study")]);
+    await search.fill("harbour charts");
+    await expect.poll(names, { timeout: 10_000 }).toEqual([expect.stringContaining("Lighthouse")]);
+
+    // Nothing matches: it says so, and Clear brings every piece back.
+    await search.fill("no-such-piece");
+    await expect.poll(() => page.getByText('No approved piece matches "no-such-piece". Clear the search to see them all.').count(), { timeout: 10_000 }).toBe(1);
+    await page.getByRole("button", { name: "Clear" }).click();
+    await expect.poll(() => grid.getByRole("listitem").count(), { timeout: 10_000 }).toBe(4);
+    expect(await search.inputValue()).toBe("");
+
+    // One intake's pieces only; a reload of the address shows the same.
+    await page.getByLabel("Intake").selectOption({ label: "Harbour maps" });
+    await expect.poll(async () => (await names()).map((t) => t.split("\n")[0]).sort(), { timeout: 10_000 }).toEqual(["Lighthouse", "Tide table"]);
+    await page.reload();
+    await expect.poll(async () => (await names()).map((t) => t.split("\n")[0]).sort(), { timeout: 15_000 }).toEqual(["Lighthouse", "Tide table"]);
+    expect(await page.getByLabel("Intake").locator("option:checked").textContent()).toBe("Harbour maps");
+    // Back goes to the whole list.
+    await page.goBack();
+    await expect.poll(() => grid.getByRole("listitem").count(), { timeout: 10_000 }).toBe(4);
+  });
+});
