@@ -109,11 +109,54 @@ describe("a batch copy made while its piece changes", () => {
     expect(await filesOnDisk()).toEqual([path.basename(copies[0]!.key)]);
   });
 
-  it("is stored as before when nothing changed while it was made", async () => {
-    // The same item again is a no-op (made already), and the file and row stay as they are.
+  it("changes nothing when an item made already runs again", async () => {
     const before = await presetCopies();
     await outputJob(await deps(), { batchItemId: itemId }, ctx(3));
     expect(await presetCopies()).toEqual(before);
+  });
+
+  /** A new batch of the piece with another built-in preset: a fresh item, not made yet. */
+  async function freshItem(preset: string): Promise<string> {
+    const p = ((await operator.get("/api/presets")).body.presets as PresetSummary[]).find((x) => x.name === preset)!;
+    const made = await operator.post("/api/batches").send({ name: `Shop ${preset}`, selection: { fragmentIds: [piece.id] }, presetIds: [p.id] });
+    expect(made.status, JSON.stringify(made.body)).toBe(201);
+    const { rows } = await stack.database.pool.query<{ id: string }>(`select id from batch_items where batch_id = $1`, [made.body.batch.id]);
+    return rows[0]!.id;
+  }
+
+  /** A library that runs `change` once the copy's file is stored, before its row is. */
+  const changingWhileStored = (change: string): Storage =>
+    Object.create(stack.library, {
+      put: {
+        value: async (key: string, file: string, opts?: { move?: boolean }) => {
+          const r = await stack.library.put(key, file, opts);
+          if (key.startsWith("outputs/")) await stack.database.pool.query(change, [piece.id]);
+          return r;
+        },
+      },
+    });
+
+  it("is thrown away when the master's resolution changes while it is made", async () => {
+    const id = await freshItem("square");
+    const before = await presetCopies();
+    const library = changingWhileStored(`update outputs set dpi = 1200 where fragment_id = $1 and kind = 'master'`);
+    await expect(outputJob(await deps(library), { batchItemId: id }, ctx())).rejects.toThrow(/changed while this copy was being made/);
+    expect(await presetCopies()).toEqual(before);
+    expect((await stack.database.pool.query(`select state, output_id from batch_items where id = $1`, [id])).rows[0]).toMatchObject({ output_id: null });
+    expect(await filesOnDisk()).toHaveLength(before.length);
+  });
+
+  it("is thrown away when the piece is rejected while it is made, and its retry says it is no longer approved", async () => {
+    const id = await freshItem("print-a4");
+    const before = await presetCopies();
+    const library = changingWhileStored(`update fragments set status = 'rejected' where id = $1`);
+    await expect(outputJob(await deps(library), { batchItemId: id }, ctx())).rejects.toThrow(/changed while this copy was being made/);
+    expect(await presetCopies()).toEqual(before);
+    expect(await filesOnDisk()).toHaveLength(before.length);
+    await outputJob(await deps(), { batchItemId: id }, ctx(1));
+    const { rows } = await stack.database.pool.query<{ state: string; error: string | null; output_id: string | null }>(`select state, error, output_id from batch_items where id = $1`, [id]);
+    expect(rows[0]).toEqual({ state: "failed", error: "The fragment is no longer approved.", output_id: null });
+    await stack.database.pool.query(`update fragments set status = 'approved' where id = $1`, [piece.id]);
   });
 
   it("is reckoned at the piece's size now in a batch's review, while its new master is on its way", async () => {

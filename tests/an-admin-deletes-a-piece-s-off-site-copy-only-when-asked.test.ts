@@ -10,6 +10,8 @@ import sharp from "sharp";
 import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Fragment } from "../shared/schemas/fragments";
+import { copyMaster } from "../server/services/offsite";
+import { logger } from "../server/logger";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 
 let stack: Stack;
@@ -106,15 +108,45 @@ describe("deleting a piece's files and its off-site copy", () => {
     expect(await inBucket(key)).toBe(true);
   });
 
-  it("says so, with the key, when the bucket cannot remove it now; the library's files go all the same", async () => {
+  it("is refused while a retry of the copy uploads, though the attempt before it failed", async () => {
+    const c = pieces[2]!;
+    const key = await masterKey(c.id);
+    const masterId = (await stack.database.pool.query<{ id: string }>(`select id from outputs where fragment_id = $1 and kind = 'master'`, [c.id])).rows[0]!.id;
+    // As a failed first attempt leaves it, waiting for its retry.
+    await stack.database.pool.query(`update offsite_copies set status = 'failed', message = 'Copy failed: timeout. Retrying (attempt 2 of 4).' where output_id = $1`, [masterId]);
+    expect((await plan(c.id)).offsite).toEqual({ status: "failed" });
+    // The retry: while its upload is under way, the admin asks to delete the files and the copy.
+    const during: { status?: string; answer?: number; message?: string } = {};
+    const bucket = Object.create(stack.offsite!) as typeof stack.offsite & object;
+    bucket.put = async (k: string, file: string) => {
+      const p = await plan(c.id);
+      during.status = p.offsite?.status;
+      const res = await admin.delete(`/api/fragments/${c.id}/files`).query({ upTo: p.files, offsite: "delete" });
+      during.answer = res.status;
+      during.message = res.body.error?.message;
+      return stack.offsite!.put(k, file);
+    };
+    await copyMaster({ database: stack.database, boss: stack.boss, library: stack.library, offsite: bucket, log: logger }, masterId, { retryCount: 1, retryLimit: 3 });
+    expect(during).toEqual({ status: "pending", answer: 409, message: expect.stringMatching(/being copied off-site/) });
+    // The copy finished; the files and the copy are all still there.
+    expect((await plan(c.id)).offsite).toEqual({ status: "copied" });
+    expect(await inBucket(key)).toBe(true);
+    expect(await stack.library.exists(key)).toBe(true);
+  });
+
+  it("says so, with the key and the copy's checksum, when the bucket cannot remove it now; the library's files go all the same", async () => {
     const d = pieces[3]!;
     const p = await plan(d.id);
     const key = await masterKey(d.id);
+    const sha256 = (await stack.database.pool.query<{ sha256: string }>(`select sha256 from offsite_copies where key = $1`, [key])).rows[0]!.sha256;
+    expect(sha256).toMatch(/^[0-9a-f]{64}$/);
     await stack.s3!.stop();
     const res = await admin.delete(`/api/fragments/${d.id}/files`).query({ upTo: p.files, offsite: "delete" });
     expect(res.status, JSON.stringify(res.body)).toBe(200);
     expect(res.body).toMatchObject({ removed: p.files, offsite: "kept" });
     expect(res.body.offsiteError).toContain(key);
+    // The key is the master's own, reused by a master made again later: the checksum names this copy.
+    expect(res.body.offsiteError).toContain(sha256);
     expect((await plan(d.id)).files).toBe(0);
   });
 });

@@ -30,7 +30,8 @@ async function blockedBy(db: Db, row: typeof fragments.$inferSelect): Promise<st
 async function planOf(
   db: Db,
   row: typeof fragments.$inferSelect,
-): Promise<{ plan: FragmentFilesPlan; outs: OutputRow[]; offsiteKey: string | null }> {
+  opts: { lock?: boolean } = {},
+): Promise<{ plan: FragmentFilesPlan; outs: OutputRow[]; offsiteKey: string | null; offsiteSha256: string | null }> {
   const outs = await db
     .select({ id: outputs.id, kind: outputs.kind, key: outputs.key, format: outputs.format, bytes: outputs.bytes })
     .from(outputs)
@@ -43,12 +44,14 @@ async function planOf(
         .from(batchItems)
         .where(inArray(batchItems.outputId, ids))
     : [{ n: 0 }];
-  const [copy] = master
-    ? await db.select({ status: offsiteCopies.status, key: offsiteCopies.key }).from(offsiteCopies).where(eq(offsiteCopies.outputId, master.id))
-    : [];
+  // Deleting locks the copy's row: an upload attempt marks it pending first (and waits for this
+  // lock to do so), so it is either seen pending here or starts only after the rows are gone.
+  const copyQuery = () => db.select({ status: offsiteCopies.status, key: offsiteCopies.key, sha256: offsiteCopies.sha256 }).from(offsiteCopies).where(eq(offsiteCopies.outputId, master!.id));
+  const [copy] = master ? await (opts.lock ? copyQuery().for("update") : copyQuery()) : [];
   return {
     outs,
     offsiteKey: copy?.key ?? null,
+    offsiteSha256: copy?.sha256 ?? null,
     plan: {
       master: master ? { format: master.format, bytes: master.bytes } : null,
       copies: outs.length - (master ? 1 : 0),
@@ -91,10 +94,10 @@ export async function deleteFragmentFiles(
   upTo: number,
   offsite: "keep" | "delete" = "keep",
 ): Promise<{ removed: number; notRemoved: number; offsite: "removed" | "kept" | "none"; offsiteError: string | null }> {
-  const { keys, offsiteKey, hadOffsite } = await withTx(deps.database, deps.boss, async (tx) => {
+  const { keys, offsiteKey, offsiteSha256, hadOffsite } = await withTx(deps.database, deps.boss, async (tx) => {
     const [row] = await tx.db.select().from(fragments).where(eq(fragments.id, id)).for("update");
     if (!row) throw notFound("That fragment");
-    const { plan, outs, offsiteKey } = await planOf(tx.db, row);
+    const { plan, outs, offsiteKey, offsiteSha256 } = await planOf(tx.db, row, { lock: true });
     if (plan.blocked) throw conflict(plan.blocked);
     const dropOffsite = offsite === "delete" && plan.offsite !== null;
     if (dropOffsite && plan.offsite!.status === "pending")
@@ -134,7 +137,7 @@ export async function deleteFragmentFiles(
     });
     await tx.notify({ kind: "scan", scanId: row.scanId });
     // (Its small pictures are cut from the scan's preview, not from the master: they stay.)
-    return { keys: outs.map((o) => o.key), offsiteKey: dropOffsite ? offsiteKey : null, hadOffsite: plan.offsite !== null };
+    return { keys: outs.map((o) => o.key), offsiteKey: dropOffsite ? offsiteKey : null, offsiteSha256, hadOffsite: plan.offsite !== null };
   });
 
   let removed = 0;
@@ -153,7 +156,12 @@ export async function deleteFragmentFiles(
     try {
       await deps.offsite.remove(offsiteKey);
     } catch (err) {
-      offsiteError = `The off-site copy could not be removed now (${(err as Error).message}). Remove "${offsiteKey}" from the bucket by hand.`;
+      // The key is the master's own: a master made again later is copied to the same key, so the
+      // object to remove is named by its checksum as well.
+      const which = offsiteSha256
+        ? ` if its SHA-256 is still ${offsiteSha256} (a master made again since would be copied to the same key)`
+        : "";
+      offsiteError = `The off-site copy could not be removed now (${(err as Error).message}). Remove "${offsiteKey}" from the bucket by hand${which}.`;
       deps.log.warn({ err, key: offsiteKey }, "delete files: off-site copy not removed");
     }
   }

@@ -112,7 +112,15 @@ export async function copyMaster(
     .values({ outputId, key: master.key })
     .onConflictDoUpdate({
       target: offsiteCopies.outputId,
-      set: { key: master.key, attempts: sql`${offsiteCopies.attempts} + 1` },
+      // Each attempt is "pending" while it uploads (a retry after a failed one too): the piece's
+      // files cannot be deleted with their off-site copy under an upload still under way.
+      set: {
+        key: master.key,
+        status: "pending",
+        message: null,
+        attempts: sql`${offsiteCopies.attempts} + 1`,
+        updatedAt: new Date(),
+      },
     });
   try {
     const sha256 = await deps.library.withLocalFile(master.key, async (file) => {

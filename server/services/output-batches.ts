@@ -2,7 +2,7 @@ import crypto from "node:crypto";
 import { and, eq, inArray, isNull, sql, type SQL } from "drizzle-orm";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
-import { batchItems, batches, fragments, outputs, presetVersions, presets, scans } from "../db/schema";
+import { batchItems, batches, fragments, outputs, presetVersions, presets, scans, studio as studioTable } from "../db/schema";
 import { SEND_CHUNK, withTx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import { badRequest, conflict, notFound } from "../errors";
@@ -72,6 +72,8 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
   const picked = await selectFragments(db, body.selection);
   const list = await presetsForRun(db, body.presetIds);
   const studio = await studioRights(db);
+  const [studioRow] = await db.select({ defaultDpi: studioTable.defaultDpi }).from(studioTable).limit(1);
+  const assumedDpi = studioRow?.defaultDpi ?? 300;
   const facts = new Map<string, MasterFacts>();
   for (let i = 0; i < picked.length; i += SEND_CHUNK) {
     const ids = picked.slice(i, i + SEND_CHUNK).map((f) => f.id);
@@ -85,7 +87,9 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
       const m = r.master;
       const width = Math.round(r.rect.width);
       const height = Math.round(r.rect.height);
-      const dpi = r.scanDpi ?? 300;
+      // A scan reads its resolution (or is given the studio's assumed one) before it has pieces;
+      // one without any yet counts at the old master's, else at the studio's assumed resolution.
+      const dpi = r.scanDpi ?? m?.dpi ?? assumedDpi;
       facts.set(
         r.id,
         m && m.revision === r.revision

@@ -84,8 +84,8 @@ export const mastersRightsResponse = z.object({ rights: mastersRightsSchema });
  * Names the creator and copyright the admin saw: when the studio's differ by then, it is refused.
  */
 export const writeMastersRightsBody = z.strictObject({
-  creator: z.string().nullable(),
-  copyright: z.string().nullable(),
+  creator: z.string().max(CREATOR_MAX).nullable(),
+  copyright: z.string().max(COPYRIGHT_MAX).nullable(),
 });
 export type WriteMastersRightsBody = z.infer<typeof writeMastersRightsBody>;
 export const writeMastersRightsResponse = z.object({ queued: z.number().int(), rights: mastersRightsSchema });

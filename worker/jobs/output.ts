@@ -138,15 +138,23 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
       // Under the render's own lock: a render storing a new master now has either finished (and
       // is seen below) or not begun.
       await tx.execute(sql`select pg_advisory_xact_lock(hashtextextended(${`fragment-render:${f.id}`}, 0))`);
-      const [fNow] = await tx.select({ revision: fragments.revision }).from(fragments).where(eq(fragments.id, f.id));
+      const [fNow] = await tx
+        .select({ revision: fragments.revision, status: fragments.status, mergedInto: fragments.mergedInto })
+        .from(fragments)
+        .where(eq(fragments.id, f.id));
       const [mNow] = await tx
         .select({ revision: outputs.revision, recipeVersionId: outputs.recipeVersionId, dpi: outputs.dpi, key: outputs.key })
         .from(outputs)
         .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
       // A new revision (a resolution set, an edit) or a new master since this began: what was made
       // is not what the key would say. It is thrown away and made again from the piece as it is.
+      // A piece rejected or merged meanwhile (neither changes its revision) keeps no copy either:
+      // the retry finds it no longer approved and says so.
       if (
-        fNow?.revision !== f.revision ||
+        !fNow ||
+        fNow.status !== "approved" ||
+        fNow.mergedInto !== null ||
+        fNow.revision !== f.revision ||
         !mNow ||
         mNow.revision !== master.revision ||
         mNow.recipeVersionId !== master.recipeVersionId ||

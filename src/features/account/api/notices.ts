@@ -17,7 +17,8 @@ export function useUpdateNotices() {
   const queryClient = useQueryClient();
   return useMutation({
     mutationFn: (body: UpdateNoticesBody) =>
-      apiRequest(API.noticesUpdate, { body, schema: noticeSettingsResponse }),
+      // Quiet: the switch says "Not saved" itself, once.
+      apiRequest(API.noticesUpdate, { body, schema: noticeSettingsResponse, quiet: true }),
     // The switch moves at once; a refusal puts it back.
     onMutate: async (body) => {
       const key = noticesQueryOptions().queryKey;

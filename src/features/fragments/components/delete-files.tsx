@@ -131,7 +131,7 @@ export function DeleteFragmentFiles({
           </p>
           <p className="text-ink-soft">
             The original scan stays: approving the piece again renders a new master from it.
-            {!p!.offsite && " Nothing of this piece is in the off-site bucket."}
+            {!p!.offsite && " No off-site copy of its master is on record."}
           </p>
           {p!.offsite && (
             <label className="flex cursor-pointer items-start gap-2.5 text-ink">
