@@ -17,7 +17,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
 import type { Page } from "playwright-core";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
-import { openBrowser, signIn } from "./helpers/browser";
+import { openBrowser, signedOutPage, signIn } from "./helpers/browser";
 import type { Fragment } from "../shared/schemas/fragments";
 
 let stack: Stack;
@@ -102,8 +102,7 @@ afterAll(async () => {
 
 describe("the screen says what happens", () => {
   it("select all matching takes the fragments matching then; changing the filters keeps them, and the count and run button agree", async () => {
-    await browser.context.clearCookies();
-    const page = await browser.context.newPage();
+    const page = await signedOutPage(browser.context, stack.url);
     await operatorSignIn(page);
     await page.goto(`${stack.url}/batches/new`);
     const grid = page.getByRole("list", { name: "Fragments" });
@@ -182,8 +181,7 @@ describe("the screen says what happens", () => {
   }, 90_000);
 
   it("Set the resolution… gives the focus back to its button, and asks first when approved pieces render again", async () => {
-    await browser.context.clearCookies();
-    const page = await browser.context.newPage();
+    const page = await signedOutPage(browser.context, stack.url);
     await operatorSignIn(page);
     await page.goto(`${stack.url}/scans/${scanIds.a}`);
     const opener = page.getByRole("button", { name: "Set the resolution…" });
@@ -253,8 +251,7 @@ describe("the screen says what happens", () => {
       .fragments as Fragment[];
     expect(list).toHaveLength(5);
 
-    await browser.context.clearCookies();
-    const page = await browser.context.newPage();
+    const page = await signedOutPage(browser.context, stack.url);
     await operatorSignIn(page);
     for (const [width, height] of [
       [1440, 900],
@@ -290,8 +287,7 @@ describe("the screen says what happens", () => {
   }, 60_000);
 
   it("the upload list counts refused files apart from added ones, each with its reason", async () => {
-    await browser.context.clearCookies();
-    const page = await browser.context.newPage();
+    const page = await signedOutPage(browser.context, stack.url);
     await operatorSignIn(page);
     await page.goto(`${stack.url}/scans`);
     const dir = path.join(stack.inbox, "..", "to-upload");
@@ -328,8 +324,7 @@ describe("the screen says what happens", () => {
   }, 60_000);
 
   it("signing out says so on the sign-in page; a fresh visit does not", async () => {
-    await browser.context.clearCookies();
-    const page = await browser.context.newPage();
+    const page = await signedOutPage(browser.context, stack.url);
     await operatorSignIn(page);
     await page.goto(`${stack.url}/scans`);
     await page.getByRole("button", { name: "Sign out" }).click();

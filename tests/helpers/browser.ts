@@ -46,12 +46,14 @@ export async function signedOutPage(context: BrowserContext, baseUrl: string): P
 export async function signIn(page: Page, baseUrl: string, email: string, password: string) {
   for (let attempt = 1; ; attempt++) {
     await page.goto(`${baseUrl}/sign-in`);
-    await page.getByLabel("E-mail").waitFor();
-    // The sign-in page sends a signed-in visitor on once it has asked who they are. A session
-    // still standing (a late response of another page can set its cookie again after a test
-    // cleared it) is ended first, so this signs in whom the test names.
+    // The sign-in page sends a signed-in visitor on once it has asked who they are: either the
+    // form or the signed-in rail shows. A session still standing (a late response of another page
+    // can set its cookie again after a test cleared it) is ended first, so this signs in whom the
+    // test names.
+    await page.getByLabel("E-mail").or(page.getByRole("button", { name: "Sign out" })).first().waitFor();
     await page.waitForTimeout(300);
-    if (new URL(page.url()).pathname.startsWith("/sign-in") || attempt > 2) break;
+    const onForm = new URL(page.url()).pathname.startsWith("/sign-in") && (await page.getByLabel("E-mail").isVisible());
+    if (onForm || attempt > 2) break;
     await page.request.post(`${baseUrl}/api/auth/logout`, { headers: { "X-Platen-Request": "1" } }).catch(() => {});
     await page.context().clearCookies();
   }
