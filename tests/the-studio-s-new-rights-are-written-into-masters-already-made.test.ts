@@ -135,7 +135,7 @@ describe("the studio's rights in masters already made", () => {
       for (const r of made) expect(r.rights).toEqual(FIRST);
       expect(await carried(made[0]!.key)).toMatchObject({ creator: FIRST.creator, rights: FIRST.copyright, artist: FIRST.creator });
     }
-    expect(await status()).toEqual({ ...FIRST, masters: 3, behind: 0, unknown: 0, writing: 0 });
+    expect(await status()).toEqual({ ...FIRST, masters: 3, behind: 0, unknown: 0, writing: 0, failed: 0, reasons: [] });
   });
 
   it("are only for admins to read and write", async () => {
@@ -155,7 +155,7 @@ describe("the studio's rights in masters already made", () => {
     expect((await admin.patch("/api/studio/settings").send(SECOND)).status).toBe(200);
     // One master made before rows recorded rights: counted behind, and as not known.
     await stack.database.pool.query(`update outputs set rights = null where fragment_id = $1 and kind = 'master'`, [pieces[2]!.id]);
-    expect(await status()).toEqual({ ...SECOND, masters: 3, behind: 3, unknown: 1, writing: 0 });
+    expect(await status()).toEqual({ ...SECOND, masters: 3, behind: 3, unknown: 1, writing: 0, failed: 0, reasons: [] });
 
     // The rights the admin saw are no longer the studio's: refused, nothing queued.
     const stale = await admin.post("/api/studio/masters-rights").send(FIRST);
@@ -171,7 +171,7 @@ describe("the studio's rights in masters already made", () => {
     // Asked again at once: refused while the first is running, or because nothing is left behind.
     expect((await admin.post("/api/studio/masters-rights").send(SECOND)).status).toBe(409);
 
-    expect(await settled(SECOND)).toEqual({ ...SECOND, masters: 3, behind: 0, unknown: 0, writing: 0 });
+    expect(await settled(SECOND)).toEqual({ ...SECOND, masters: 3, behind: 0, unknown: 0, writing: 0, failed: 0, reasons: [] });
     for (const [i, p] of pieces.entries()) {
       const made = await rows(p.id);
       for (const r of made) {

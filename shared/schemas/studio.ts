@@ -75,6 +75,9 @@ export const mastersRightsSchema = z.object({
   unknown: z.number().int(),
   /** Pieces with a rewrite queued or running now. */
   writing: z.number().int(),
+  /** Of those behind, pieces whose rewrite (of the latest request) failed for good; and why (up to 3 messages). */
+  failed: z.number().int(),
+  reasons: z.array(z.string()),
 });
 export type MastersRights = z.infer<typeof mastersRightsSchema>;
 export const mastersRightsResponse = z.object({ rights: mastersRightsSchema });

@@ -90,10 +90,19 @@ export async function rewriteRightsJob(
           files.push({ row: o, path: staged.temp, bytes, rights: recordedRights(want) });
         });
       } catch (err) {
-        // A file gone since the row was read: a newer render or a deletion replaced it.
-        if (isStorageError(err, "missing"))
-          return log.info({ key: o.key }, "rights: the file went meanwhile");
-        throw err;
+        if (!isStorageError(err, "missing")) throw err;
+        // A file gone since the row was read: a newer render or a deletion replaced it. One whose
+        // row still names it is missing from the library: said, so the piece is not left behind
+        // without a word.
+        const [now] = await db.select({ key: outputs.key }).from(outputs).where(eq(outputs.id, o.id));
+        if (now?.key !== o.key) {
+          log.info({ key: o.key }, "rights: the file went meanwhile");
+          continue;
+        }
+        throw new Error(
+          `The ${o.kind === "master" ? "master" : "web copy"} "${o.key}" is missing from the library, so its rights cannot be written. Restore the file (from its off-site copy, if it has one) or render the piece again.`,
+          { cause: err },
+        );
       }
     }
     if (files.length === 0) return log.info("rights: the files already carry them");

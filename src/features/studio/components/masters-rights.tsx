@@ -1,7 +1,7 @@
 import { useEffect, useRef, useState } from "react";
 import type { MastersRights } from "../../../../shared/schemas/studio";
 import { Button, Spinner } from "../../../components/button";
-import { LoadError } from "../../../components/notice";
+import { LoadError, Notice } from "../../../components/notice";
 import { Panel } from "../../../components/panel";
 import { ProgressBar } from "../../../components/progress-bar";
 import { serverErrorFor } from "../../../lib/form-errors";
@@ -115,6 +115,19 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
                   </span>
                 )}
               </p>
+              {s!.failed > 0 && (
+                <Notice
+                  tone="caution"
+                  title={`${masters(s!.failed)} could not be written the last time`}
+                >
+                  <ul className="list-disc pl-4" aria-label="Why">
+                    {s!.reasons.map((r) => (
+                      <li key={r}>{r}</li>
+                    ))}
+                  </ul>
+                  Writing again tries them once more.
+                </Notice>
+              )}
               <p className="text-xs text-ink-muted">The studio's now, to be written in:</p>
               <dl className="-mt-2 grid max-w-xl grid-cols-[max-content_1fr] gap-x-4 gap-y-1 text-sm">
                 <dt className="text-ink-muted">Creator</dt>
@@ -151,8 +164,9 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
                   <p className="text-ink-soft">
                     Each master and its web copy get the creator and copyright line above, with the
                     piece's own title. Only those fields are written again: pixels, colour profile,
-                    bit depth and resolution stay exactly as they are. Batch copies are not touched;
-                    run their batch again to remake them.
+                    bit depth and resolution stay exactly as they are. A master with an off-site
+                    copy is copied there again. Batch copies are not touched; run their batch again
+                    to remake them.
                   </p>
                   {error && (
                     <p role="alert" className="text-brick">
