@@ -33,7 +33,8 @@ const masterCreator = async (fragmentId: string) => {
 };
 
 beforeAll(async () => {
-  stack = await startStack({ watcher: false });
+  // No retries: a rewrite that cannot be done fails at once (the second case).
+  stack = await startStack({ watcher: false, env: { PLATEN_JOB_RETRY_LIMIT: "0" } });
   const admin = await userAgent(stack, "admin", "admin@test.example");
   const operator = await userAgent(stack, "operator", "operator@test.example");
   expect((await admin.patch("/api/studio/settings").send({ creator: "Teodor Lind", copyright: "© 2026 Teodor Lind" })).status).toBe(200);
@@ -105,6 +106,28 @@ describe("rights in masters already made, on the Studio screen", () => {
     await page.getByRole("status").filter({ hasText: "Every master now carries the studio's creator and copyright line." }).waitFor();
     await shot(page, "studio-masters-done");
     for (const p of pieces) expect(await masterCreator(p.id)).toMatch(/^Lind (&|&amp;) Sato$/);
+    await page.close();
+  });
+
+  it("say which could not be written, and why, when a master is missing from the library", async () => {
+    const { rows } = await stack.database.pool.query<{ key: string }>(`select key from outputs where fragment_id = $1 and kind = 'master'`, [pieces[0]!.id]);
+    await fs.rm(stack.libraryPath(rows[0]!.key));
+    const page = await browser.context.newPage();
+    await signIn(page, stack.url, "admin@test.example", "admin-password-123");
+    await page.goto(`${stack.url}/studio`);
+    const panel = page.getByRole("region", { name: "Rights in masters already made" });
+    await panel.getByText("All 2 masters carry the studio's creator and copyright line.").waitFor();
+    await page.getByLabel("Creator").fill("Sato Prints");
+    await page.getByRole("button", { name: "Save settings" }).click();
+    await panel.getByRole("button", { name: "Write them into 2 masters…" }).click();
+    await panel.getByRole("button", { name: "Write into 2 masters" }).click();
+    const caution = panel.getByText("1 master could not be written the last time");
+    await caution.waitFor({ timeout: 60_000 });
+    expect(await panel.getByRole("list", { name: "Why" }).textContent()).toContain(`"${rows[0]!.key}" is missing from the library`);
+    expect(await panel.getByText(/^1\s+of 2 masters carries another creator/).count()).toBe(1);
+    // The close of the rewrite says it fell short, as an error, not as a success.
+    await page.getByRole("alert").filter({ hasText: "1 master could not be written; see why" }).waitFor();
+    await shot(page, "studio-masters-failed");
     await page.close();
   });
 });

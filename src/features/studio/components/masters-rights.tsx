@@ -33,12 +33,17 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
   const wasWriting = useRef(false);
   useEffect(() => {
     if (!s) return;
-    if (wasWriting.current && s.writing === 0)
-      toast.success(
-        s.behind === 0
-          ? "Every master now carries the studio's creator and copyright line."
-          : `Written. ${masters(s.behind)} still carry other rights; see “Rights in masters already made”.`,
-      );
+    if (wasWriting.current && s.writing === 0) {
+      if (s.behind === 0) toast.success("Every master now carries the studio's creator and copyright line.");
+      else if (s.failed > 0)
+        toast.error(
+          `${masters(s.failed)} could not be written; see why under “Rights in masters already made”.`,
+        );
+      else
+        toast.info(
+          `Written. ${masters(s.behind)} still ${s.behind === 1 ? "carries" : "carry"} other rights; see “Rights in masters already made”.`,
+        );
+    }
     wasWriting.current = s.writing > 0;
   }, [s]);
 
@@ -52,6 +57,8 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
       { creator: rights.creator, copyright: rights.copyright },
       {
         onSuccess: ({ queued: n }) => {
+          // Said when it is over, even when it was over before this screen saw it running.
+          wasWriting.current = true;
           setAsking(false);
           setError(null);
           setQueued(n);
@@ -106,7 +113,8 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
             <>
               <p className="text-ink">
                 <span className="figure font-semibold">{s!.behind.toLocaleString("en")}</span> of{" "}
-                {masters(s!.masters)} carry another creator or copyright line than the studio's.
+                {masters(s!.masters)} {s!.behind === 1 ? "carries" : "carry"} another creator or
+                copyright line than the studio's.
                 {s!.unknown > 0 && (
                   <span className="text-ink-soft">
                     {" "}
