@@ -222,6 +222,31 @@ describe.each([
     expect(readIfd0(twice).entries.filter((e) => e.tag === TIFF_TAG.Artist)).toHaveLength(1);
     expect(await pixels(twice, { page: 1 })).toBe(await pixels(before, { page: 1 }));
   });
+
+  it("written again with scrub, IFD0 goes over the old one after the data the chain references, and nothing else moves", async () => {
+    // The sample ends with IFD0's strips, its long values and IFD0 itself: with scrub, the new
+    // IFD0 and its values replace that tail, and a second edit of the same length gives the same size.
+    const once = await withTiffFields(before, FIELDS, "sample", { scrub: true });
+    const twice = await withTiffFields(once, [{ tag: TIFF_TAG.Artist, value: "Ines Okafor" }], "sample", { scrub: true });
+    const thrice = await withTiffFields(twice, [{ tag: TIFF_TAG.Artist, value: "Ines Okafar" }], "sample", { scrub: true });
+    expect(thrice.length).toBe(twice.length);
+    const old = readIfd0(before);
+    const offsets = old.entries.find((e) => e.tag === 273)!; // StripOffsets, LONG
+    const counts = old.entries.find((e) => e.tag === 279)!; // StripByteCounts, LONG
+    const stripsEnd = Math.max(...Array.from({ length: offsets.count }, (_, k) => offsets.u32At(k) + counts.u32At(k)));
+    expect(stripsEnd).toBeGreaterThan(before.length / 2);
+    // Everything up to the end of IFD0's strips (pages, SubIFDs, the Exif IFD, the strips) is as it was.
+    expect(thrice.subarray(8, stripsEnd).equals(before.subarray(8, stripsEnd))).toBe(true);
+    for (const file of [once, twice, thrice]) {
+      expect(await pixels(file)).toBe(await pixels(before));
+      expect(await pixels(file, { page: 1 })).toBe(await pixels(before, { page: 1 }));
+      for (const subifd of [0, 1]) expect(await pixels(file, { subifd })).toBe(await pixels(before, { subifd }));
+      expect(readIfd0(file).next).toBe(old.next);
+    }
+    const read = await exifr.parse(thrice, { tiff: true, ifd0: true, exif: true } as never);
+    expect(read).toMatchObject({ Artist: "Ines Okafar", ImageDescription: "Gulls", Software: "hand-made", ExposureTime: 0.008, ExifVersion: "2.3", XResolution: 300 });
+    expect(thrice.includes(Buffer.from("Ines Okafor"))).toBe(false);
+  });
 });
 
 describe("files a classic TIFF cannot grow into", () => {

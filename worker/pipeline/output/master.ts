@@ -7,7 +7,7 @@ import sharp from "sharp";
 import type { MasterPreset } from "../../../shared/schemas/presets";
 import { MM_PER_INCH } from "../../../shared/units";
 import { cleanRights, tiffRightsFields, xmpPacket, type Rights } from "../render/rights";
-import type { TiffField } from "../render/tiff-tags";
+import { BYTE, TIFF_TAG, type TiffField } from "../render/tiff-tags";
 import { withPngRights } from "./web";
 
 /**
@@ -15,7 +15,8 @@ import { withPngRights } from "./web";
  * converts. Resolution: TIFF XResolution/YResolution per inch (TIFF 6.0 Section 8), PNG pHYs.
  * Title, creator and copyright go in as XMP (TIFF tag 700; PNG iTXt) and as the format's own
  * text fields: for TIFF the baseline ImageDescription, Artist and Copyright, which the caller adds
- * to the written file (`tiffFields`); for PNG the Title, Author and Copyright text chunks.
+ * with the XMP packet to the written file (`tiffFields`, one new IFD0 holding them all); for PNG
+ * the Title, Author and Copyright text chunks.
  * Example: a 16-bit TIFF with the default master preset → a 16-bit LZW TIFF at the same DPI.
  */
 export async function renderMaster(
@@ -37,8 +38,9 @@ export async function renderMaster(
   // Only the ICC profile is kept of the source's metadata: its XMP and text fields hold the rights
   // as they were when it was made, and the copy carries the studio's current ones (or none).
   if (preset.embedResolution) img = img.withDensity(dpi);
-  // PNG gets its XMP as an iTXt chunk below: libvips would write a zTXt, where XMP readers do not look.
-  if (xmp && preset.format === "tiff") img = img.withXmp(xmp);
+  // No XMP through libvips: for PNG it would be a zTXt, where XMP readers do not look (an iTXt
+  // chunk goes in below); for TIFF it would sit in libvips' IFD0, which is left behind
+  // unreferenced when the caller adds the text fields, a second, stale packet in the file.
   if (preset.format === "tiff") {
     const compression = preset.compression ?? "lzw";
     img = img.tiff({
@@ -51,5 +53,7 @@ export async function renderMaster(
   }
   const { data, info } = await img.toBuffer({ resolveWithObject: true });
   if (preset.format === "png") return { data: withPngRights(data, rights), width: info.width, height: info.height, tiffFields: [] };
-  return { data, width: info.width, height: info.height, tiffFields: tiffRightsFields(rights) };
+  const tiffFields: TiffField[] = tiffRightsFields(rights);
+  if (xmp) tiffFields.push({ tag: TIFF_TAG.XMLPacket, value: Buffer.from(xmp, "utf8"), type: BYTE });
+  return { data, width: info.width, height: info.height, tiffFields };
 }

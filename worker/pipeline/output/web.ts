@@ -118,7 +118,7 @@ export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights)
 }
 
 /**
- * An uncompressed iTXt chunk holding the XMP packet, under the keyword the XMP specification (ISO 16684-1, Part 3 storage) prescribes, for right
+ * An uncompressed iTXt chunk holding the XMP packet, under the keyword XMP Specification Part 3: Storage in Files prescribes (from memory), for right
  * after IHDR: where XMP Specification Part 3 (§1.1.5, PNG) puts XMP, and early enough for readers
  * that only look at the start of the file. iTXt fields (ISO/IEC 15948 §11.3.4.5): keyword, 0,
  * compression flag 0, method 0, language "", 0, translated keyword "", 0, UTF-8 text.

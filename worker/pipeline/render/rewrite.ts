@@ -3,12 +3,16 @@
  * are copied and only its metadata is written again, so pixels, ICC profile, bit depth,
  * compression and resolution stay exactly what the render made.
  * - Master (TIFF): IFD0 gets new ImageDescription / Artist / Copyright and a new XMP packet
- *   (tag 700) through tiff-tags.ts, which appends a new IFD0 and leaves the strips where they are.
+ *   (tag 700) through tiff-tags.ts, which leaves the strips where they are and writes the new
+ *   IFD0 and its values over the old ones after them, cutting the file there: a rewrite leaves no
+ *   second copy of the ICC profile or strip tables, and zeroes an XMP packet an older writer left
+ *   outside the chain.
  * - JPEG web copy: the EXIF APP1 segment (its IFD0 edited the same way, so its resolution fields
  *   stay) and the XMP APP1 segment are replaced; every other segment and the entropy-coded data
  *   are copied byte for byte (ITU-T T.81 Annex B; EXIF 2.3 Section 4.5.4; XMP Part 3).
  * - WebP web copy: the EXIF and XMP chunks of the extended format are replaced, the VP8X flags
- *   and the RIFF size follow (WebP container specification, "Extended file format").
+ *   and the RIFF size follow (WebP container specification, "Extended File Format"); a simple
+ *   WebP (one VP8 or VP8L chunk) is given a VP8X chunk first, which that format allows.
  * The values replaced are zeroed where they would stay in the file unreferenced (FieldEdits.scrub).
  */
 import fs from "node:fs/promises";
@@ -177,9 +181,50 @@ async function jpegWithRights(jpeg: Buffer, rights: Rights, name: string): Promi
   return Buffer.concat([jpeg.subarray(0, 2), ...kept, jpeg.subarray(pos)]);
 }
 
-/** VP8X flag bits (WebP container specification, "Extended file format"). */
+/** VP8X flag bits (WebP container specification, "Extended File Format": the L, E and X bits). */
+const VP8X_ALPHA = 0x10;
 const VP8X_EXIF = 0x08;
 const VP8X_XMP = 0x04;
+
+/**
+ * The VP8X chunk for a simple WebP whose one image chunk is `id` with `payload` (WebP container
+ * specification, "Simple File Format (Lossy)" / "(Lossless)" and "Extended File Format": flags,
+ * 24 reserved bits, canvas width − 1 and height − 1 as 24-bit little-endian numbers). The canvas
+ * is the image's size:
+ * - VP8 (RFC 6386 Section 9.1, "Uncompressed Data Chunk"): a key frame (bit 0 of the 3-byte frame
+ *   tag is 0), the start code 9D 01 2A, then width and height as 16-bit little-endian numbers of
+ *   which the low 14 bits are the size (the top 2 the upscaling).
+ * - VP8L (Specification for WebP Lossless Bitstream, "RIFF Header", from memory): the signature
+ *   byte 0x2F, then 14 bits width − 1, 14 bits height − 1, the alpha_is_used bit, and a 3-bit
+ *   version that must be 0, least significant bit first.
+ * Its alpha bit (L) is set when a lossless image says it uses alpha; a simple lossy one has none.
+ */
+function vp8xFor(id: string, payload: Buffer, name: string): Buffer {
+  let width: number;
+  let height: number;
+  let alpha = false;
+  if (id === "VP8 ") {
+    if (payload.length < 10 || (payload[0]! & 1) !== 0 || payload.readUIntBE(3, 3) !== 0x9d012a)
+      throw new Error(`${name} is a simple WebP whose VP8 data does not start with a key frame.`);
+    width = payload.readUInt16LE(6) & 0x3fff;
+    height = payload.readUInt16LE(8) & 0x3fff;
+  } else if (id === "VP8L") {
+    const bits = payload.length >= 5 ? payload.readUInt32LE(1) : 0;
+    if (payload[0] !== 0x2f || bits >>> 29 !== 0)
+      throw new Error(`${name} is a simple WebP whose VP8L data has no lossless header.`);
+    width = (bits & 0x3fff) + 1;
+    height = ((bits >>> 14) & 0x3fff) + 1;
+    alpha = ((bits >>> 28) & 1) === 1;
+  } else {
+    throw new Error(`${name} is a WebP whose first chunk is "${id}", neither VP8X, VP8 nor VP8L.`);
+  }
+  if (width === 0 || height === 0) throw new Error(`${name} is a WebP of no pixels.`);
+  const body = Buffer.alloc(10);
+  body[0] = alpha ? VP8X_ALPHA : 0;
+  body.writeUIntLE(width - 1, 4, 3);
+  body.writeUIntLE(height - 1, 7, 3);
+  return chunk("VP8X", body);
+}
 
 function chunk(id: string, payload: Buffer): Buffer {
   const head = Buffer.alloc(8);
@@ -194,6 +239,7 @@ async function webpWithRights(webp: Buffer, rights: Rights, name: string): Promi
     throw new Error(`Expected a WebP (RIFF … WEBP) in ${name}.`);
   const kept: Buffer[] = [];
   let vp8x: Buffer | null = null;
+  let first: { id: string; payload: Buffer } | null = null;
   let exif: Buffer | null = null;
   let exifPrefix = EXIF_ID;
   const end = Math.min(webp.length, 8 + webp.readUInt32LE(4));
@@ -205,6 +251,7 @@ async function webpWithRights(webp: Buffer, rights: Rights, name: string): Promi
     if (pos + 8 + size > end)
       throw new Error(`A chunk of ${name} runs past its end (offset ${pos}).`);
     const payload = webp.subarray(pos + 8, pos + 8 + size);
+    first ??= { id, payload };
     if (id === "VP8X") {
       vp8x = Buffer.from(webp.subarray(pos, pos + 8 + size));
       kept.push(vp8x);
@@ -221,7 +268,10 @@ async function webpWithRights(webp: Buffer, rights: Rights, name: string): Promi
   const xmp = xmpPacket(rights);
   if (!vp8x) {
     if (!newExif && !xmp) return webp;
-    throw new Error(`${name} is a simple WebP (no VP8X chunk), which cannot carry metadata.`);
+    if (!first) throw new Error(`${name} is a WebP with no chunks.`);
+    // The simple format holds metadata only once extended: a VP8X chunk goes first.
+    vp8x = vp8xFor(first.id, first.payload, name);
+    kept.unshift(vp8x);
   }
   let flags = vp8x[8]! & ~(VP8X_EXIF | VP8X_XMP);
   // EXIF and XMP come after the image data, in that order (the specification's chunk order).
