@@ -70,6 +70,7 @@ function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supert
   const params: Record<string, string> = {
     id: name.startsWith("users") ? viewerId : name.startsWith("recipes") ? recipeId : onFragment ? fragmentIds[0]! : failedScanId,
     kind: "master",
+    itemId: failedScanId,
   };
   const url = apiPath(spec, spec.path.includes(":") ? params : {});
   const m = spec.method.toLowerCase() as "get" | "post" | "patch" | "delete";

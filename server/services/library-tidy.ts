@@ -4,6 +4,7 @@ import { libraryTidies, users } from "../db/schema";
 import type { Storage } from "../storage/storage";
 import { isStorageError } from "../storage/storage";
 import { fragmentThumbKey } from "./fragment-thumbs";
+import { outputThumbKey } from "./output-thumbs";
 import { previewBaseKey } from "./recipe-preview";
 import { recordAudit } from "./audit";
 import { formatBytes } from "../../shared/units";
@@ -28,7 +29,8 @@ export const TIDY_GRACE_HOURS = 24;
 
 /**
  * Every key the database names now: scans' originals, previews and thumbnails; masters, web
- * copies and outputs; and the cached small copies of each fragment's current revision.
+ * copies and outputs, and the picture of each output as it is now; and the cached small copies of
+ * each fragment's current revision.
  */
 async function referencedKeys(db: Db): Promise<Set<string>> {
   const keys = new Set<string>();
@@ -36,8 +38,11 @@ async function referencedKeys(db: Db): Promise<Set<string>> {
     sql`select original_key, preview_key, thumb_key from scans`,
   );
   for (const r of scans.rows) for (const k of [r.original_key, r.preview_key, r.thumb_key]) if (k) keys.add(k);
-  const outs = await db.execute<{ key: string }>(sql`select key from outputs`);
-  for (const r of outs.rows) keys.add(r.key);
+  const outs = await db.execute<{ id: string; key: string; updated_at: Date | string }>(sql`select id, key, updated_at from outputs`);
+  for (const r of outs.rows) {
+    keys.add(r.key);
+    keys.add(outputThumbKey(r.id, new Date(r.updated_at)));
+  }
   const frags = await db.execute<{ id: string; revision: number }>(sql`select id, revision from fragments`);
   for (const r of frags.rows) {
     keys.add(fragmentThumbKey(r.id, r.revision));

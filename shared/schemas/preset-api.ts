@@ -114,6 +114,12 @@ export const batchListResponse = z.object({ batches: z.array(batchSchema) });
 
 export const batchDownloadQuery = z.object({ pack: z.enum(["plain", "listing"]).default("plain") });
 
+/** One output of a batch: the batch and its item. */
+export const batchItemParams = z.object({
+  id: z.uuid({ error: "Expected a batch id in UUID form" }),
+  itemId: z.uuid({ error: "Expected an item id in UUID form" }),
+});
+
 /** A picture of what a preset makes of one fragment (from its master), for the editor. */
 export const previewPresetBody = z.object({
   fragmentId: z.uuid({ error: "Expected fragmentId in UUID form" }),

@@ -9,6 +9,8 @@ import { batchDetail, batchFiles, cancelBatch, createOutputBatch, estimateBatch,
 import { getBatch, listBatches } from "../../services/batches";
 import type { AppDeps } from "../../app";
 import type { Storage } from "../../storage/storage";
+import { batchItemOutput, outputThumb } from "../../services/output-thumbs";
+import { sendStored } from "../send-stored";
 
 /** The caution that travels with a listing pack (see the product brief). */
 export const RIGHTS_NOTICE = `Before you sell or publish these images
@@ -92,6 +94,17 @@ export function batchesRouter({ database, boss, library }: AppDeps): Router {
     const batch = await rerunBatch(database, boss, user.id, params.id, body);
     res.status(201);
     return { batch };
+  });
+
+  handle(router, API.batchesItemFile, async ({ params, user, req, res }) => {
+    const out = await batchItemOutput(db, params.id, params.itemId, user.role);
+    await sendStored(req, res, library, out.key, { what: "This output's file", downloadName: out.fileName });
+  });
+  handle(router, API.batchesItemThumb, async ({ params, user, req, res }) => {
+    const out = await batchItemOutput(db, params.id, params.itemId, user.role);
+    const key = await outputThumb(library, out);
+    res.setHeader("Cache-Control", "private, max-age=86400");
+    await sendStored(req, res, library, key, { what: "This output's picture", type: "image/jpeg" });
   });
 
   // A zip streamed straight to the response (never built in memory), with a CSV of every output.

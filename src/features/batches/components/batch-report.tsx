@@ -137,7 +137,7 @@ export function BatchReport({
         </Can>
       </div>
       <Panel title="Outputs" titleId="batch-outputs" bodyClassName="p-0" className="mt-6">
-        <OutputsTable items={items} replaced={replaced} />
+        <OutputsTable batchId={batch.id} items={items} replaced={replaced} />
       </Panel>
     </>
   );

@@ -3,6 +3,13 @@ import { formatBytes, formatNumber } from "../../../../shared/units";
 import type { BatchItem } from "../api/get-batch-report";
 import { cn } from "../../../lib/cn";
 import { fragmentLabel } from "../format";
+import { ThumbImage } from "../../../components/thumb-image";
+
+/** An output's own file, and its small picture (made once on the server, then cached). */
+export const outputFileUrl = (batchId: string, itemId: string) =>
+  `/api/batches/${encodeURIComponent(batchId)}/items/${encodeURIComponent(itemId)}/file`;
+const outputThumbUrl = (batchId: string, itemId: string) =>
+  `/api/batches/${encodeURIComponent(batchId)}/items/${encodeURIComponent(itemId)}/thumb`;
 
 const STATE_TEXT: Record<BatchItem["state"], string> = {
   queued: "Waiting",
@@ -33,12 +40,23 @@ const COLUMNS = [
 ] as const;
 
 /** The file made, or why there is none, and any warning: beside the sizes on a wide screen, under them on a narrow one. */
-function Notes({ o, gone }: { o: BatchItem; gone: boolean }) {
+function Notes({ o, gone, batchId }: { o: BatchItem; gone: boolean; batchId: string }) {
   return (
     <>
       {o.fileName && (
         <span className="figure block break-words text-ink-soft">
-          {o.fileName}
+          {gone || o.state !== "done" ? (
+            o.fileName
+          ) : (
+            <a
+              href={outputFileUrl(batchId, o.id)}
+              download={o.fileName}
+              className="underline decoration-paper-300 underline-offset-2 hover:text-accent hover:decoration-accent"
+              aria-label={`Download ${o.fileName}`}
+            >
+              {o.fileName}
+            </a>
+          )}
           {o.bytes !== null && <span className="text-ink-muted"> · {formatBytes(o.bytes)}</span>}
         </span>
       )}
@@ -64,9 +82,11 @@ function Notes({ o, gone }: { o: BatchItem; gone: boolean }) {
 }
 
 export function OutputsTable({
+  batchId,
   items,
   replaced,
 }: {
+  batchId: string;
   items: BatchItem[];
   replaced?: ReadonlySet<string>;
 }) {
@@ -105,12 +125,27 @@ export function OutputsTable({
                   )}
                 >
                   <td className="px-5 py-2.5 break-words xl:whitespace-nowrap">
-                    <span className="font-medium text-ink">
-                      {fragmentLabel({
-                        title: o.fragmentTitle,
-                        position: o.position,
-                        scanName: o.scanName,
-                      })}
+                    <span className="flex items-start gap-3">
+                      <span className="flex size-12 shrink-0 items-center justify-center overflow-hidden rounded border border-paper-200 bg-[#e7e2d6]">
+                        {o.state === "done" && o.fileName && !gone ? (
+                          <ThumbImage
+                            src={outputThumbUrl(batchId, o.id)}
+                            className="max-h-full max-w-full object-contain"
+                            fallback={
+                              <span className="text-[10px] text-ink-faint">
+                                {o.fileName.split(".").pop()?.toUpperCase()}
+                              </span>
+                            }
+                          />
+                        ) : null}
+                      </span>
+                      <span className="font-medium text-ink">
+                        {fragmentLabel({
+                          title: o.fragmentTitle,
+                          position: o.position,
+                          scanName: o.scanName,
+                        })}
+                      </span>
                     </span>
                   </td>
                   <td className="px-3 py-2.5 whitespace-nowrap text-ink-soft">{o.preset}</td>
@@ -154,7 +189,7 @@ export function OutputsTable({
                     {print && o.effectiveDpi !== null ? Math.round(o.effectiveDpi) : "–"}
                   </td>
                   <td className="hidden px-5 py-2.5 text-xs xl:table-cell">
-                    <Notes o={o} gone={gone} />
+                    <Notes o={o} gone={gone} batchId={batchId} />
                   </td>
                 </tr>
                 {hasNotes && (
@@ -166,7 +201,7 @@ export function OutputsTable({
                     )}
                   >
                     <td colSpan={COLUMNS.length - 1} className="px-5 pt-0 pb-2.5">
-                      <Notes o={o} gone={gone} />
+                      <Notes o={o} gone={gone} batchId={batchId} />
                     </td>
                   </tr>
                 )}

@@ -5,7 +5,7 @@ import { fragmentThumbUrl } from "../api/get-fragment";
 import { FRAGMENT_STATUS_LABELS, formatFragmentSize, type LengthUnit } from "../format";
 import { FragmentStatusGlyph } from "./fragment-status";
 import { LengthUnitSwitch } from "./length-unit-switch";
-import { ThumbImage } from "./thumb-image";
+import { ThumbImage } from "../../../components/thumb-image";
 
 /**
  * Every fragment of the scan as a small upright picture, in reading order: number, status and

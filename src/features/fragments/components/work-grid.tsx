@@ -3,7 +3,7 @@ import type { Fragment } from "../../../../shared/schemas/fragments";
 import { paths } from "../../../config/paths";
 import { fragmentThumbUrl } from "../api/get-fragment";
 import { formatFragmentSize, type LengthUnit } from "../format";
-import { ThumbImage } from "./thumb-image";
+import { ThumbImage } from "../../../components/thumb-image";
 import { FragmentName } from "../../../components/fragment-name";
 
 /** Approved fragments as a grid of upright pictures, each with its name and size. */

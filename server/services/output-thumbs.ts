@@ -1,0 +1,80 @@
+import pLimit from "p-limit";
+import sharp from "sharp";
+import { and, eq } from "drizzle-orm";
+import type { Db } from "../db";
+import { batchItems, fragments, outputs, presetVersions, presets, scans } from "../db/schema";
+import { outputFileName } from "../presenters/fragment";
+import { AppError, notFound } from "../errors";
+import type { Storage } from "../storage/storage";
+import type { Role } from "../../shared/roles";
+import { madeFromVisibleTo } from "./fragments";
+
+/** Long edge of a batch output's picture on the batch page, in pixels. */
+export const OUTPUT_THUMB_EDGE = 320;
+
+/**
+ * Its key: per output row and the time its file was last written, so a file made again (same
+ * key, new bytes) gets a new picture; pictures of files no row names any more are left-overs for
+ * the library tidy.
+ */
+export const outputThumbKey = (id: string, updatedAt: Date) =>
+  `thumbs/outputs/${id}-${updatedAt.getTime()}.jpg`;
+
+/**
+ * Pictures are made in the web server, from whole print files and masters: at most two at once,
+ * so a batch page of a hundred outputs opened for the first time does not take every core.
+ */
+const making = pLimit(2);
+
+/** The output behind one item of a batch, as the signed-in role may see it (404 otherwise). */
+export async function batchItemOutput(db: Db, batchId: string, itemId: string, role: Role) {
+  const [row] = await db
+    .select({
+      id: outputs.id,
+      key: outputs.key,
+      kind: outputs.kind,
+      format: outputs.format,
+      updatedAt: outputs.updatedAt,
+      scanName: scans.originalName,
+      position: fragments.position,
+      presetName: presets.name,
+    })
+    .from(batchItems)
+    .innerJoin(outputs, eq(outputs.id, batchItems.outputId))
+    .innerJoin(fragments, eq(fragments.id, batchItems.fragmentId))
+    .innerJoin(scans, eq(scans.id, fragments.scanId))
+    .leftJoin(presetVersions, eq(presetVersions.id, batchItems.presetVersionId))
+    .leftJoin(presets, eq(presets.id, presetVersions.presetId))
+    .where(and(eq(batchItems.id, itemId), eq(batchItems.batchId, batchId), eq(batchItems.state, "done"), madeFromVisibleTo(role)));
+  if (!row) throw notFound("That output (it is not made, or not in this batch)");
+  // Named as in the batch's zip (before a clash there would number it).
+  return { ...row, fileName: outputFileName(row.scanName, row.position, row.presetName ?? row.kind, row.format) };
+}
+
+/**
+ * A small picture of an output as it came out (the mock-up in its frame, the print on its
+ * paper), cached in the library. Colours go to sRGB for the screen (sharp converts with the
+ * file's own ICC profile); transparency is shown on white. A PDF has none here.
+ * Returns its key.
+ */
+export async function outputThumb(
+  library: Storage,
+  out: { id: string; key: string; format: string; updatedAt: Date },
+): Promise<string> {
+  const key = outputThumbKey(out.id, out.updatedAt);
+  if (await library.exists(key)) return key;
+  if (out.format === "pdf")
+    throw new AppError(404, "not_found", "A PDF has no picture here; download it to look at it.");
+  await making(() =>
+    library.withLocalFile(out.key, (file) =>
+      library.writeAtomic(key, async (tmp) => {
+        await sharp(file, { limitInputPixels: false, sequentialRead: true })
+          .resize(OUTPUT_THUMB_EDGE, OUTPUT_THUMB_EDGE, { fit: "inside", withoutEnlargement: true })
+          .flatten({ background: "#ffffff" })
+          .jpeg({ quality: 80 })
+          .toFile(tmp);
+      }),
+    ),
+  );
+  return key;
+}
