@@ -113,6 +113,19 @@ describe("batches in the browser", () => {
       else expect(c[5]).toMatch(/^\d+$/);
     }
     expect(firstCells.filter((c) => c[1]?.trim() === "web")).toHaveLength(2);
+    // Each output shows a picture of its own file (loaded, not broken), and its name downloads it.
+    const pictures = page.getByRole("table", { name: "Outputs" }).locator("img");
+    await expect.poll(() => pictures.count()).toBe(4);
+    await expect
+      .poll(() => pictures.evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length), { timeout: 15_000 })
+      .toBe(4);
+    const one = page.getByRole("link", { name: /^Download .*-web\.jpg$/ }).first();
+    const fileHref = await one.getAttribute("href");
+    expect(fileHref).toMatch(new RegExp(`^/api/batches/${batchId}/items/[0-9a-f-]{36}/file$`));
+    const file = await page.request.get(`${stack.url}${fileHref}`);
+    expect(file.status()).toBe(200);
+    // A JPEG starts with SOI, FF D8 (ITU-T T.81 B.1.1.3).
+    expect([...(await file.body()).subarray(0, 2)]).toEqual([0xff, 0xd8]);
     // Not a re-run, nor run again yet: no such line under the title.
     expect(await page.getByTestId("rerun-of").count()).toBe(0);
     expect(await page.getByTestId("later-runs").count()).toBe(0);
