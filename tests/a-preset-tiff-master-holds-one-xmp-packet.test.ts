@@ -65,6 +65,20 @@ describe("a TIFF master made by a preset", () => {
     expect(info).toContain("XMLPacket");
   });
 
+  it("and a print TIFF likewise: one packet, beside its text fields and sRGB profile", async () => {
+    const out = at("print.tif");
+    const letter: PresetInput = { kind: "print", name: "letter", paper: { size: "letter" }, layout: { mode: "area", widthIn: 8, heightIn: 10 }, printDpi: 100, scale: { mode: "fit" }, output: "tiff" };
+    await renderOutput({ master: source, dpi: 600, ...RIGHTS }, letter, { path: out });
+    const bytes = await fs.readFile(out);
+    expect(count(bytes, "<?xpacket begin")).toBe(1);
+    const tags = await exifr.parse(out, { tiff: true, xmp: true, mergeOutput: false } as never);
+    expect(tags.dc.title.value ?? tags.dc.title).toBe(RIGHTS.title);
+    expect(tags.ifd0).toMatchObject({ ImageDescription: RIGHTS.title, Artist: RIGHTS.creator });
+    const dump = execFileSync("tiffdump", [out], { encoding: "utf8" });
+    expect(dump).toMatch(/^700 \(0x2bc\) BYTE \(1\) \d+</m);
+    expect(dump).toMatch(/\(34675\) UNDEFINED \(7\) \d+</);
+  });
+
   it("holds no packet when there are no rights to write", async () => {
     const out = at("bare.tif");
     await renderOutput({ master: source, dpi: 600 }, TIFF, { path: out });

@@ -10,7 +10,7 @@ import { cropMarks, type PrintLayout } from "./print-layout";
 import { pieceImage, type Piece } from "./source";
 import { srgbProfile } from "./srgb-tag";
 import { tiffRightsFields, xmpPacket, type Rights } from "../render/rights";
-import { TIFF_TAG, withTiffFields, type TiffField } from "../render/tiff-tags";
+import { BYTE, TIFF_TAG, withTiffFields, type TiffField } from "../render/tiff-tags";
 
 /** Line weight of crop marks, points (a hairline, common practice). */
 export const MARK_WEIGHT_PT = 0.5;
@@ -82,11 +82,12 @@ export async function renderPrintTiff(piece: Piece, layout: PrintLayout, preset:
   const svg = overlaySvg(layout, preset, rights.title, warnings);
   if (svg) page = page.composite([{ input: Buffer.from(svg), left: 0, top: 0 }]);
   const xmp = xmpPacket(rights);
-  if (xmp) page = page.withXmp(xmp);
   const tiff = await page
     .tiff({ compression: "lzw", predictor: "horizontal", xres: dpi / MM_PER_INCH, yres: dpi / MM_PER_INCH, resolutionUnit: "inch" })
     .toBuffer();
-  // The sRGB profile (ICC.1:2010 Annex B.4) and the text fields, in one new IFD0.
+  // The sRGB profile (ICC.1:2010 Annex B.4), the text fields and the XMP packet, in one new IFD0:
+  // an XMP packet written through libvips would stay behind in its IFD0, a second, stale copy.
   const fields: TiffField[] = [{ tag: TIFF_TAG.InterColorProfile, value: await srgbProfile() }, ...tiffRightsFields(rights)];
+  if (xmp) fields.push({ tag: TIFF_TAG.XMLPacket, value: Buffer.from(xmp, "utf8"), type: BYTE });
   return { data: await withTiffFields(tiff, fields, "the print TIFF"), warnings };
 }
