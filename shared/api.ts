@@ -229,6 +229,14 @@ export const API = {
     mutates: false,
     params: fragmentOutputParams,
   }),
+  // A small picture of that file as it came out (after the recipe), for the approved work.
+  fragmentsOutputThumb: route({
+    method: "GET",
+    path: "/api/fragments/:id/outputs/:kind/thumb",
+    access: "viewer",
+    mutates: false,
+    params: fragmentOutputParams,
+  }),
 
   recipesList: route({ method: "GET", path: "/api/recipes", access: "operator", mutates: false }),
   recipesGet: route({ method: "GET", path: "/api/recipes/:id", access: "operator", mutates: false, params: idParams }),

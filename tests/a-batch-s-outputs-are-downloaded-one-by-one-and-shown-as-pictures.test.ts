@@ -130,6 +130,21 @@ describe("one output of a batch", () => {
     expect(again.folders.find((f) => f.folder === "thumbs/")?.leftOver).toBe(1);
   });
 
+  it("a piece's own web copy is shown the same way on the approved work, as made after its recipe", async () => {
+    const piece = pieces[1]!;
+    const f = (await viewer.get(`/api/fragments/${piece.id}`)).body.fragment as Fragment;
+    const web = f.outputs.find((o) => o.kind === "web")!;
+    expect(web.updatedAt).toMatch(/^\d{4}-\d\d-\d\dT/);
+    const res = await viewer.get(`/api/fragments/${piece.id}/outputs/web/thumb`).buffer(true).parse(binary);
+    expect(res.status).toBe(200);
+    const meta = await sharp(res.body as Buffer).metadata();
+    expect(Math.max(meta.width!, meta.height!)).toBe(Math.min(OUTPUT_THUMB_EDGE, Math.max(web.width, web.height)));
+    const key = (await stack.database.pool.query<{ key: string }>(`select key from outputs where fragment_id = $1 and kind = 'web'`, [piece.id])).rows[0]!.key;
+    const a = (await sharp(res.body as Buffer).stats()).channels.slice(0, 3).map((c) => c.mean);
+    const b = (await sharp(stack.libraryPath(key)).stats()).channels.slice(0, 3).map((c) => c.mean);
+    for (let k = 0; k < 3; k++) expect(Math.abs(a[k]! - b[k]!)).toBeLessThan(3);
+  });
+
   it("says a PDF has no picture, and a file not in the batch or not visible is not found", async () => {
     const res = await viewer.get(url(itemOf("Card PDF"), "thumb"));
     expect(res.status).toBe(404);
@@ -143,5 +158,6 @@ describe("one output of a batch", () => {
     expect((await viewer.get(url(itemOf("web", 1), "file"))).status).toBe(404);
     expect((await viewer.get(url(itemOf("web", 1), "thumb"))).status).toBe(404);
     expect((await operator.get(url(itemOf("web", 1), "file"))).status).toBe(200);
+    expect((await viewer.get(`/api/fragments/${pieces[0]!.id}/outputs/web/thumb`)).status).toBe(404);
   });
 });

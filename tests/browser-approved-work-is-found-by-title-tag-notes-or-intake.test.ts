@@ -38,6 +38,10 @@ async function intakeWithTwoPieces(intake: string, file: string, colours: [strin
     const res = await operator.patch(`/api/fragments/${f.id}`).send(names[i]!);
     expect(res.status, JSON.stringify(res.body)).toBe(200);
   }
+  await waitFor(`${file}'s pieces to be rendered`, async () => {
+    const now = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+    return now.every((f) => f.renderState === "done") ? true : null;
+  }, 60_000);
 }
 
 beforeAll(async () => {
@@ -67,6 +71,14 @@ describe("approved work", () => {
     const grid = page.getByRole("list", { name: "Approved fragments" });
     const names = () => grid.getByRole("listitem").allInnerTexts();
     await expect.poll(() => grid.getByRole("listitem").count(), { timeout: 15_000 }).toBe(4);
+    // Rendered pieces show their web copy as made (after the recipe), each picture loaded.
+    const pictures = grid.locator("img");
+    await expect.poll(() => pictures.evaluateAll((imgs) => imgs.map((i) => new URL((i as HTMLImageElement).src).pathname)), { timeout: 15_000 }).toEqual(
+      Array.from({ length: 4 }, () => expect.stringMatching(/^\/api\/fragments\/[0-9a-f-]{36}\/outputs\/web\/thumb$/)),
+    );
+    await expect
+      .poll(() => pictures.evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length), { timeout: 15_000 })
+      .toBe(4);
     // Tags stand on the cards.
     expect((await names()).find((t) => t.includes("Blue heron"))).toMatch(/birds\s*blue/);
 

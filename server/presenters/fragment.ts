@@ -75,6 +75,7 @@ export function presentFragment(row: FragmentRow, scan: ScanRow, outs: OutputRow
           bytes: o.bytes,
           fileName: outputFileName(scan.originalName, row.position, o.kind, o.format),
           createdAt: o.createdAt.toISOString(),
+          updatedAt: o.updatedAt.toISOString(),
         }),
       ),
     reviewedAt: row.reviewedAt?.toISOString() ?? null,

@@ -72,6 +72,8 @@ export const outputSchema = z.object({
   bytes: z.number(),
   fileName: z.string(),
   createdAt: z.string(),
+  /** When its file was last written (a render, a rights rewrite): a picture of it follows this. */
+  updatedAt: z.string(),
 });
 export type Output = z.infer<typeof outputSchema>;
 

@@ -17,6 +17,7 @@ import {
   updateFragment,
 } from "../../services/fragments";
 import { fragmentThumb } from "../../services/fragment-thumbs";
+import { outputThumb } from "../../services/output-thumbs";
 import { deleteFragmentFiles, fragmentFilesPlan } from "../../services/fragment-files";
 import { getScan, getScanRow } from "../../services/scans";
 import type { AppDeps } from "../../app";
@@ -84,6 +85,19 @@ export function fragmentsRouter(deps: AppDeps): Router {
     if (!out || !row) throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
     res.setHeader("Cache-Control", "private, no-cache");
     await sendStored(req, res, library, row.key, { what: `The ${params.kind} file of this fragment`, downloadName: out.fileName });
+  });
+  handle(router, API.fragmentsOutputThumb, async ({ params, user, req, res }) => {
+    const f = await getFragment(db, params.id, user.role);
+    const [row] = await db
+      .select({ id: outputs.id, key: outputs.key, format: outputs.format, updatedAt: outputs.updatedAt })
+      .from(outputs)
+      .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, params.kind)));
+    if (!f.outputs.some((o) => o.kind === params.kind) || !row)
+      throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
+    const key = await outputThumb(library, row);
+    // The address carries the file's time (?v=), so a new file is a new address.
+    res.setHeader("Cache-Control", "private, max-age=86400");
+    await sendStored(req, res, library, key, { what: `The picture of this fragment's ${params.kind} file`, type: "image/jpeg" });
   });
   return router;
 }

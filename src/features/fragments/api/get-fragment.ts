@@ -31,6 +31,17 @@ export function useFragment(id: string) {
 export const fragmentThumbUrl = (f: Pick<Fragment, "id" | "revision">) =>
   `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;
 
+/**
+ * The fragment as it came out: a small picture of its web copy once rendered (after its recipe),
+ * else the cut from its scan. The address changes with the file, so a new render shows at once.
+ */
+export const fragmentPictureUrl = (f: Pick<Fragment, "id" | "revision" | "renderState" | "outputs">) => {
+  const web = f.renderState === "done" ? f.outputs.find((o) => o.kind === "web") : undefined;
+  return web
+    ? `${apiPath(API.fragmentsOutputThumb, { id: f.id, kind: "web" })}?v=${encodeURIComponent(web.updatedAt)}`
+    : fragmentThumbUrl(f);
+};
+
 /** A rendered file of the fragment; the server names the download after the scan and position. */
 export const fragmentOutputUrl = (id: string, kind: "master" | "web") =>
   apiPath(API.fragmentsOutput, { id, kind });

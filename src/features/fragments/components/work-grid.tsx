@@ -1,12 +1,12 @@
 import { Link } from "react-router-dom";
 import type { Fragment } from "../../../../shared/schemas/fragments";
 import { paths } from "../../../config/paths";
-import { fragmentThumbUrl } from "../api/get-fragment";
+import { fragmentPictureUrl } from "../api/get-fragment";
 import { formatFragmentSize, type LengthUnit } from "../format";
 import { ThumbImage } from "../../../components/thumb-image";
 import { FragmentName } from "../../../components/fragment-name";
 
-/** Approved fragments as a grid of upright pictures, each with its name and size. */
+/** Approved fragments as a grid of upright pictures (as made, once rendered), each with its name and size. */
 export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: LengthUnit }) {
   return (
     <ul
@@ -60,7 +60,7 @@ function Picture({ fragment }: { fragment: Fragment }) {
   return (
     <span className="flex h-40 items-center justify-center overflow-hidden border-b border-paper-200 bg-[#e7e2d6] p-3">
       <ThumbImage
-        src={fragmentThumbUrl(fragment)}
+        src={fragmentPictureUrl(fragment)}
         className="max-h-full max-w-full bg-white object-contain shadow-sm"
         fallback={<span className="text-xs text-ink-faint">No picture</span>}
       />
