@@ -14,7 +14,8 @@ import type { Fragment } from "../shared/schemas/fragments";
 import type { batchDetailResponse } from "../shared/schemas/preset-api";
 import type { z } from "zod";
 import { tidyLibrary } from "../server/services/library-tidy";
-import { OUTPUT_THUMB_EDGE, outputThumbKey } from "../server/services/output-thumbs";
+import { MAX_WAITING, OUTPUT_THUMB_EDGE, outputThumb, outputThumbKey, picturesInHand } from "../server/services/output-thumbs";
+import type { Storage } from "../server/storage/storage";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 
 type Detail = z.infer<typeof batchDetailResponse>;
@@ -143,6 +144,30 @@ describe("one output of a batch", () => {
     const a = (await sharp(res.body as Buffer).stats()).channels.slice(0, 3).map((c) => c.mean);
     const b = (await sharp(stack.libraryPath(key)).stats()).channels.slice(0, 3).map((c) => c.mean);
     for (let k = 0; k < 3; k++) expect(Math.abs(a[k]! - b[k]!)).toBeLessThan(3);
+  });
+
+  it("is made once when asked for many times at once, and past a full queue the server says it is busy", async () => {
+    const item = itemOf("print-a4", 2);
+    const row = await outputRow(item.id);
+    const out = { id: row.id, key: row.key, format: "tiff", updatedAt: new Date(Date.UTC(2026, 0, 1)) };
+    // A library that counts the pictures written and holds each decode until released.
+    let writes = 0;
+    let release!: () => void;
+    const gate = new Promise<void>((r) => (release = r));
+    const library: Storage = Object.create(stack.library, {
+      writeAtomic: { value: (k: string, fn: (tmp: string) => Promise<void>) => ((writes += 1), stack.library.writeAtomic(k, fn)) },
+      withLocalFile: { value: async <T,>(k: string, fn: (p: string) => Promise<T>) => (await gate, stack.library.withLocalFile(k, fn)) },
+    });
+    const same = Array.from({ length: 5 }, () => outputThumb(library, out, { maxPixels: 5e8 }));
+    // Other pictures fill the two makers and the queue behind them; the next one is refused at once.
+    const others = Array.from({ length: MAX_WAITING + 1 }, (_, i) => outputThumb(library, { ...out, id: crypto.randomUUID(), updatedAt: new Date(i) }, { maxPixels: 5e8 }));
+    await expect.poll(picturesInHand).toBe(2 + MAX_WAITING);
+    await expect(outputThumb(library, { ...out, id: crypto.randomUUID() }, { maxPixels: 5e8 })).rejects.toMatchObject({ status: 503 });
+    release();
+    const keys = await Promise.all(same);
+    await Promise.all(others);
+    expect(new Set(keys)).toEqual(new Set([outputThumbKey(out.id, out.updatedAt)]));
+    expect(writes).toBe(1 + MAX_WAITING + 1);
   });
 
   it("says a PDF has no picture, and a file not in the batch or not visible is not found", async () => {

@@ -82,9 +82,11 @@ describe("a rewrite that cannot write a master", () => {
     const s = await done();
     expect(s).toMatchObject({ ...SECOND, masters: 2, behind: 1, writing: 0, failed: 1 });
     expect(s.reasons).toEqual([expect.stringContaining(`"${lost.key}" is missing from the library`)]);
-    // The other piece was written; the missing piece's web copy was not written on its own either.
+    // The other piece was written, and so was the web copy beside the missing master.
     for (const f of await files(b.id)) expect(f.rights).toEqual(SECOND);
-    for (const f of await files(a.id)) expect(f.rights).toEqual(FIRST);
+    const rowsA = await files(a.id);
+    expect(rowsA.find((f) => f.kind === "master")!.rights).toEqual(FIRST);
+    expect(rowsA.find((f) => f.kind === "web")!.rights).toEqual(SECOND);
   });
 
   it("fills in the record of a file made before records were kept that already agrees, leaving its bytes alone", async () => {
@@ -104,6 +106,22 @@ describe("a rewrite that cannot write a master", () => {
     expect(after.map((f) => f.bytes)).toEqual(before.map((f) => f.bytes));
     // The piece whose master is missing is still said, from this request's own attempt.
     expect(s.reasons).toEqual([expect.stringContaining("is missing from the library")]);
-    expect((await files(a.id)).every((f) => JSON.stringify(f.rights) === JSON.stringify(FIRST))).toBe(true);
+    expect((await files(a.id)).find((f) => f.kind === "master")!.rights).toEqual(FIRST);
+  });
+
+  it("writes a master whose web copy is the file missing, and names the web copy", async () => {
+    const [a, b] = pieces as [Fragment, Fragment];
+    const third = { creator: "Varga & Holm", copyright: "© 2026 Varga & Holm" };
+    expect((await admin.patch("/api/studio/settings").send(third)).status).toBe(200);
+    const web = (await files(b.id)).find((f) => f.kind === "web")!;
+    await fs.rm(stack.libraryPath(web.key));
+    expect((await admin.post("/api/studio/masters-rights").send(third)).status).toBe(200);
+    const s = await done();
+    expect(s).toMatchObject({ behind: 2, failed: 2 });
+    expect(s.reasons).toEqual(expect.arrayContaining([expect.stringContaining(`The web copy "${web.key}" is missing from the library`)]));
+    const rowsB = await files(b.id);
+    expect(rowsB.find((f) => f.kind === "master")!.rights).toEqual(third);
+    expect(rowsB.find((f) => f.kind === "web")!.rights).toEqual(SECOND);
+    expect((await files(a.id)).find((f) => f.kind === "web")!.rights).toEqual(third);
   });
 });

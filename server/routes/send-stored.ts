@@ -4,6 +4,7 @@ import { AppError, notFound } from "../errors";
 import type { Storage } from "../storage/storage";
 import { isStorageError } from "../storage/storage";
 import { contentTypeFor } from "../storage/keys";
+import { outputThumb } from "../services/output-thumbs";
 
 /**
  * Sends a stored file as the response, streamed from the library (a local file or an object in the
@@ -64,4 +65,27 @@ export async function sendStored(
     stream.destroy();
     res.destroy();
   }
+}
+
+/**
+ * Sends the small picture of an output (made on the first ask, then kept), cached by the browser
+ * for a day: its address changes with the file. A server too busy making pictures says when to
+ * ask again (503 with Retry-After).
+ */
+export async function sendOutputThumb(
+  req: Request,
+  res: Response,
+  storage: Storage,
+  out: Parameters<typeof outputThumb>[1],
+  opts: { maxPixels: number; what: string },
+): Promise<void> {
+  let key: string;
+  try {
+    key = await outputThumb(storage, out, { maxPixels: opts.maxPixels });
+  } catch (err) {
+    if (err instanceof AppError && err.status === 503) res.setHeader("Retry-After", "5");
+    throw err;
+  }
+  res.setHeader("Cache-Control", "private, max-age=86400");
+  await sendStored(req, res, storage, key, { what: opts.what, type: "image/jpeg" });
 }

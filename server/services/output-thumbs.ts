@@ -22,9 +22,15 @@ export const outputThumbKey = (id: string, updatedAt: Date) =>
 
 /**
  * Pictures are made in the web server, from whole print files and masters: at most two at once,
- * so a batch page of a hundred outputs opened for the first time does not take every core.
+ * so a batch page of a hundred outputs opened for the first time does not take every core; one
+ * picture asked for several times at once is made once; and past a queue of MAX_WAITING the
+ * server says it is busy instead of piling up work nobody may still be waiting for.
  */
 const making = pLimit(2);
+const inFlight = new Map<string, Promise<void>>();
+export const MAX_WAITING = 64;
+/** Pictures being made and waiting to be, now. */
+export const picturesInHand = () => making.activeCount + making.pendingCount;
 
 /** The output behind one item of a batch, as the signed-in role may see it (404 otherwise). */
 export async function batchItemOutput(db: Db, batchId: string, itemId: string, role: Role) {
@@ -60,21 +66,32 @@ export async function batchItemOutput(db: Db, batchId: string, itemId: string, r
 export async function outputThumb(
   library: Storage,
   out: { id: string; key: string; format: string; updatedAt: Date },
+  opts: { maxPixels: number },
 ): Promise<string> {
   const key = outputThumbKey(out.id, out.updatedAt);
   if (await library.exists(key)) return key;
   if (out.format === "pdf")
     throw new AppError(404, "not_found", "A PDF has no picture here; download it to look at it.");
-  await making(() =>
-    library.withLocalFile(out.key, (file) =>
-      library.writeAtomic(key, async (tmp) => {
-        await sharp(file, { limitInputPixels: false, sequentialRead: true })
-          .resize(OUTPUT_THUMB_EDGE, OUTPUT_THUMB_EDGE, { fit: "inside", withoutEnlargement: true })
-          .flatten({ background: "#ffffff" })
-          .jpeg({ quality: 80 })
-          .toFile(tmp);
-      }),
-    ),
-  );
+  let job = inFlight.get(key);
+  if (!job) {
+    if (making.pendingCount >= MAX_WAITING)
+      throw new AppError(503, "unavailable", "The server is making many pictures just now. Try again in a moment.");
+    job = making(async () => {
+      // Made meanwhile (by a request that finished just before this one started): nothing to do.
+      if (await library.exists(key)) return;
+      await library.withLocalFile(out.key, (file) =>
+        library.writeAtomic(key, async (tmp) => {
+          // Outputs are made from scans within the studio's pixel limit; a file past it is refused.
+          await sharp(file, { limitInputPixels: opts.maxPixels, sequentialRead: true })
+            .resize(OUTPUT_THUMB_EDGE, OUTPUT_THUMB_EDGE, { fit: "inside", withoutEnlargement: true })
+            .flatten({ background: "#ffffff" })
+            .jpeg({ quality: 80 })
+            .toFile(tmp);
+        }),
+      );
+    }).finally(() => inFlight.delete(key));
+    inFlight.set(key, job);
+  }
+  await job;
   return key;
 }

@@ -50,7 +50,7 @@ export async function rewriteRightsJob(
   ctx: JobContext,
 ): Promise<void> {
   const { fragmentId, rights: source } = rightsPayload.parse(data);
-  const { db, pool } = deps.database;
+  const { db } = deps.database;
   const log = deps.log.child({ jobId: ctx.jobId, fragmentId });
   const [row] = await db.select().from(fragments).where(eq(fragments.id, fragmentId));
   if (!row || row.status !== "approved" || row.mergedInto)
@@ -74,6 +74,9 @@ export async function rewriteRightsJob(
     });
 
   let rewritten: string[] = [];
+  // Files whose row still names them but which are missing from the library: said once the
+  // others are written, so a missing web copy does not hold its master back (or the reverse).
+  const missing: string[] = [];
   await deps.library.withScratch(async (dir) => {
     const files: Rewritten[] = [];
     for (const o of made) {
@@ -99,21 +102,32 @@ export async function rewriteRightsJob(
           log.info({ key: o.key }, "rights: the file went meanwhile");
           continue;
         }
-        throw new Error(
+        missing.push(
           `The ${o.kind === "master" ? "master" : "web copy"} "${o.key}" is missing from the library, so its rights cannot be written. Restore the file (from its off-site copy, if it has one) or render the piece again.`,
-          { cause: err },
         );
       }
     }
     if (files.length === 0) return log.info("rights: the files already carry them");
     rewritten = await commit(deps, row, files);
   });
+  await afterRewrite(deps, row, made, rewritten, log);
+  if (missing.length > 0) throw new Error(missing.join(" "));
+}
+
+/** Once files are replaced: the master's off-site copy is made again, and open screens are told. */
+async function afterRewrite(
+  deps: RenderDeps,
+  row: typeof fragments.$inferSelect,
+  made: OutputRow[],
+  rewritten: string[],
+  log: RenderDeps["log"],
+): Promise<void> {
   if (rewritten.length === 0) return;
   const master = made.find((o) => o.kind === "master" && rewritten.includes(o.id));
   // The master's bytes changed: its off-site copy is made again.
   if (master && deps.offsite && deps.boss)
     await queueOffsiteCopy(deps.database, deps.boss, master.id, master.key);
-  await notify(pool, { kind: "scan", scanId: row.scanId }).catch(() => {});
+  await notify(deps.database.pool, { kind: "scan", scanId: row.scanId }).catch(() => {});
   log.info({ files: rewritten.length, title: row.title }, "rights: rewritten");
 }
 

@@ -9,8 +9,8 @@ import { batchDetail, batchFiles, cancelBatch, createOutputBatch, estimateBatch,
 import { getBatch, listBatches } from "../../services/batches";
 import type { AppDeps } from "../../app";
 import type { Storage } from "../../storage/storage";
-import { batchItemOutput, outputThumb } from "../../services/output-thumbs";
-import { sendStored } from "../send-stored";
+import { batchItemOutput } from "../../services/output-thumbs";
+import { sendOutputThumb, sendStored } from "../send-stored";
 
 /** The caution that travels with a listing pack (see the product brief). */
 export const RIGHTS_NOTICE = `Before you sell or publish these images
@@ -76,7 +76,7 @@ async function appendStored(zip: ZipArchive, library: Storage, key: string, name
   return hash.digest("hex");
 }
 
-export function batchesRouter({ database, boss, library }: AppDeps): Router {
+export function batchesRouter({ config, database, boss, library }: AppDeps): Router {
   const router = Router();
   const { db } = database;
   handle(router, API.batchesList, async ({ user }) => ({ batches: await listBatches(db, user.role) }));
@@ -102,9 +102,7 @@ export function batchesRouter({ database, boss, library }: AppDeps): Router {
   });
   handle(router, API.batchesItemThumb, async ({ params, user, req, res }) => {
     const out = await batchItemOutput(db, params.id, params.itemId, user.role);
-    const key = await outputThumb(library, out);
-    res.setHeader("Cache-Control", "private, max-age=86400");
-    await sendStored(req, res, library, key, { what: "This output's picture", type: "image/jpeg" });
+    await sendOutputThumb(req, res, library, out, { maxPixels: config.maxPixels, what: "This output's picture" });
   });
 
   // A zip streamed straight to the response (never built in memory), with a CSV of every output.

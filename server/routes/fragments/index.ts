@@ -17,11 +17,10 @@ import {
   updateFragment,
 } from "../../services/fragments";
 import { fragmentThumb } from "../../services/fragment-thumbs";
-import { outputThumb } from "../../services/output-thumbs";
 import { deleteFragmentFiles, fragmentFilesPlan } from "../../services/fragment-files";
 import { getScan, getScanRow } from "../../services/scans";
 import type { AppDeps } from "../../app";
-import { sendStored } from "../send-stored";
+import { sendOutputThumb, sendStored } from "../send-stored";
 
 
 export function fragmentsRouter(deps: AppDeps): Router {
@@ -94,10 +93,8 @@ export function fragmentsRouter(deps: AppDeps): Router {
       .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, params.kind)));
     if (!f.outputs.some((o) => o.kind === params.kind) || !row)
       throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
-    const key = await outputThumb(library, row);
     // The address carries the file's time (?v=), so a new file is a new address.
-    res.setHeader("Cache-Control", "private, max-age=86400");
-    await sendStored(req, res, library, key, { what: `The picture of this fragment's ${params.kind} file`, type: "image/jpeg" });
+    await sendOutputThumb(req, res, library, row, { maxPixels: deps.config.maxPixels, what: `The picture of this fragment's ${params.kind} file` });
   });
   return router;
 }
