@@ -83,9 +83,18 @@ describe("approved work", () => {
     expect((await names()).find((t) => t.includes("Blue heron"))).toMatch(/birds\s*blue/);
 
     const search = page.getByRole("searchbox", { name: "Search" });
+    // "/" goes to the search from anywhere on the page.
+    await page.locator("body").click({ position: { x: 5, y: 5 } });
+    await page.keyboard.press("/");
+    await expect.poll(() => search.evaluate((el) => el === document.activeElement)).toBe(true);
+    const before = await page.evaluate(() => history.length);
+    await search.fill("her");
+    await expect.poll(() => new URL(page.url()).searchParams.get("q")).toBe("her");
     await search.fill("heron");
     await expect.poll(names, { timeout: 10_000 }).toEqual([expect.stringContaining("Blue heron")]);
     await expect.poll(() => new URL(page.url()).searchParams.get("q")).toBe("heron");
+    // One entry in the history for the search, not one for each pause in typing.
+    expect(await page.evaluate(() => history.length)).toBe(before + 1);
 
     // A tag, then words of the notes.
     await search.fill("plants");

@@ -113,7 +113,9 @@ describe("batches in the browser", () => {
       else expect(c[5]).toMatch(/^\d+$/);
     }
     expect(firstCells.filter((c) => c[1]?.trim() === "web")).toHaveLength(2);
-    // Each output shows a picture of its own file (loaded, not broken), and its name downloads it.
+    // Each output shows a picture of its own file (loaded, not broken), and its name downloads it,
+    // with the rights caution beside the table.
+    expect(await page.getByTestId("file-rights-caution").textContent()).toMatch(/may still be under copyright/);
     const pictures = page.getByRole("table", { name: "Outputs" }).locator("img");
     await expect.poll(() => pictures.count()).toBe(4);
     await expect

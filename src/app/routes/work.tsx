@@ -39,19 +39,23 @@ export function WorkRoute() {
       else q.delete("page");
       return q;
     });
-  // A new search or intake starts again at the first page.
+  // A new search or intake starts again at the first page. A search typed on from another one
+  // takes its place in the history (Back goes to before the search, not through each pause).
   const setFilter = useCallback(
     (patch: Partial<WorkFilter>) =>
-      setParams((p) => {
-        const next = new URLSearchParams(p);
-        const put = (key: string, value: string | undefined) =>
-          value ? next.set(key, value) : next.delete(key);
-        if ("q" in patch) put("q", patch.q);
-        if ("intakeId" in patch) put("intake", patch.intakeId);
-        next.delete("page");
-        return next;
-      }),
-    [setParams],
+      setParams(
+        (p) => {
+          const next = new URLSearchParams(p);
+          const put = (key: string, value: string | undefined) =>
+            value ? next.set(key, value) : next.delete(key);
+          if ("q" in patch) put("q", patch.q);
+          if ("intakeId" in patch) put("intake", patch.intakeId);
+          next.delete("page");
+          return next;
+        },
+        { replace: Object.keys(patch).length === 1 && Boolean(patch.q) && Boolean(q) },
+      ),
+    [setParams, q],
   );
   const filtered = Boolean(q || intakeId);
   const list = fragments.data ?? [];

@@ -5,14 +5,7 @@ import { Ago } from "../../../components/ago";
 import { cn } from "../../../lib/cn";
 import { formatShortDateTime } from "../../../lib/time";
 import { SUBJECT_LABELS, actionLabel, actorLabel, subjectPath } from "../format";
-
-function isTyping(target: EventTarget | null): boolean {
-  if (!(target instanceof HTMLElement)) return false;
-  if (target.isContentEditable || target.tagName === "TEXTAREA" || target.tagName === "SELECT")
-    return true;
-  if (target.tagName !== "INPUT") return false;
-  return !["range", "radio", "checkbox", "button"].includes((target as HTMLInputElement).type);
-}
+import { isTyping } from "../../../lib/typing";
 
 /** A tone per kind of action, so refusals and removals stand out in a long list. */
 function actionTone(action: string): string {

@@ -133,10 +133,24 @@ export function BatchReport({
           replacedCount={replaced.size}
         />
         <Can role="operator">
-          <RerunPanel key={current.join()} batchId={batch.id} presets={presets} current={current} fragmentIds={fragmentIds} />
+          <RerunPanel
+            key={current.join()}
+            batchId={batch.id}
+            presets={presets}
+            current={current}
+            fragmentIds={fragmentIds}
+          />
         </Can>
       </div>
       <Panel title="Outputs" titleId="batch-outputs" bodyClassName="p-0" className="mt-6">
+        <p
+          className="border-b border-paper-200 px-5 py-2 text-xs text-ink-muted"
+          data-testid="file-rights-caution"
+        >
+          Each file name downloads that file. Pieces cut from printed publications may still be
+          under copyright: check rights and licences under local law before selling or publishing
+          them.
+        </p>
         <OutputsTable batchId={batch.id} items={items} replaced={replaced} />
       </Panel>
     </>

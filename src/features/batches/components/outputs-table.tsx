@@ -127,7 +127,10 @@ export function OutputsTable({
                   <td className="px-5 py-2.5 break-words xl:whitespace-nowrap">
                     <span className="flex items-start gap-3">
                       <span className="flex size-12 shrink-0 items-center justify-center overflow-hidden rounded border border-paper-200 bg-[#e7e2d6]">
-                        {o.state === "done" && o.fileName && !gone ? (
+                        {o.state === "done" &&
+                        o.fileName &&
+                        !gone &&
+                        !o.fileName.endsWith(".pdf") ? (
                           <ThumbImage
                             src={outputThumbUrl(batchId, o.id)}
                             className="max-h-full max-w-full object-contain"
@@ -137,6 +140,8 @@ export function OutputsTable({
                               </span>
                             }
                           />
+                        ) : o.state === "done" && o.fileName && !gone ? (
+                          <span className="text-[10px] text-ink-faint">PDF</span>
                         ) : null}
                       </span>
                       <span className="font-medium text-ink">

@@ -1,7 +1,9 @@
-import { useEffect, useState } from "react";
+import { useEffect, useRef, useState } from "react";
 import type { Intake } from "../../../../shared/schemas/scans";
 import { Button } from "../../../components/button";
 import { SelectField, TextField } from "../../../components/field";
+import { isTyping } from "../../../lib/typing";
+import { Kbd } from "./key-legend";
 
 export interface WorkFilter {
   q?: string;
@@ -29,6 +31,17 @@ export function WorkFilters({
     setSeenQ(filter.q);
     if (q.trim() !== (filter.q ?? "")) setQ(filter.q ?? "");
   }
+  // "/" goes to the search from anywhere on the page.
+  const box = useRef<HTMLDivElement>(null);
+  useEffect(() => {
+    const onKey = (e: KeyboardEvent) => {
+      if (e.key !== "/" || e.metaKey || e.ctrlKey || e.altKey || isTyping(e.target)) return;
+      e.preventDefault();
+      box.current?.querySelector("input")?.focus();
+    };
+    document.addEventListener("keydown", onKey);
+    return () => document.removeEventListener("keydown", onKey);
+  }, []);
   useEffect(() => {
     const trimmed = q.trim();
     if (trimmed === (filter.q ?? "")) return;
@@ -38,12 +51,18 @@ export function WorkFilters({
 
   return (
     <div
+      ref={box}
       className="mb-5 flex flex-wrap items-end gap-4"
       role="search"
       aria-label="Find approved work"
     >
       <TextField
-        label="Search"
+        label={
+          <>
+            Search <Kbd>/</Kbd>
+          </>
+        }
+        aria-label="Search"
         type="search"
         placeholder="Title, tag, notes or scan name"
         value={q}

@@ -14,6 +14,7 @@ import { Histogram, HistogramLegend } from "./histogram";
 import { PickIcon } from "./icons";
 import { PreviewCard } from "./preview-card";
 import type { PreviewView } from "./split-view";
+import { isTyping } from "../../../lib/typing";
 
 /** A pause this long after the last change asks for a new preview. */
 const PREVIEW_DEBOUNCE_MS = 120;
@@ -28,13 +29,6 @@ const VIEWS: { value: PreviewView; label: string }[] = [
 ];
 
 /** Keys typed into a text field belong there. */
-function isTyping(target: EventTarget | null): boolean {
-  if (!(target instanceof HTMLElement)) return false;
-  if (target.isContentEditable || target.tagName === "TEXTAREA" || target.tagName === "SELECT")
-    return true;
-  if (target.tagName !== "INPUT") return false;
-  return !["range", "radio", "checkbox", "button"].includes((target as HTMLInputElement).type);
-}
 
 /**
  * The live preview of the unsaved steps on one to three fragments: before and after, the
