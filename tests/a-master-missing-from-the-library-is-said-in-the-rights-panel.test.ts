@@ -20,6 +20,8 @@ let stack: Stack;
 let admin: supertest.Agent;
 let operator: supertest.Agent;
 let pieces: Fragment[];
+/** A web copy taken away in one case and put back in the next. */
+let kept: { key: string; bytes: Buffer };
 
 const FIRST = { creator: "Ilse Varga", copyright: "© 2026 Ilse Varga" };
 const SECOND = { creator: "Varga Bindery", copyright: "© 2026 Varga Bindery" };
@@ -114,6 +116,7 @@ describe("a rewrite that cannot write a master", () => {
     const third = { creator: "Varga & Holm", copyright: "© 2026 Varga & Holm" };
     expect((await admin.patch("/api/studio/settings").send(third)).status).toBe(200);
     const web = (await files(b.id)).find((f) => f.kind === "web")!;
+    kept = { key: web.key, bytes: await fs.readFile(stack.libraryPath(web.key)) };
     await fs.rm(stack.libraryPath(web.key));
     expect((await admin.post("/api/studio/masters-rights").send(third)).status).toBe(200);
     const s = await done();
@@ -123,5 +126,19 @@ describe("a rewrite that cannot write a master", () => {
     expect(rowsB.find((f) => f.kind === "master")!.rights).toEqual(third);
     expect(rowsB.find((f) => f.kind === "web")!.rights).toEqual(SECOND);
     expect((await files(a.id)).find((f) => f.kind === "web")!.rights).toEqual(third);
+  });
+
+  it("keeps the reasons on the pieces, whatever the queue keeps, until a rewrite succeeds", async () => {
+    const [, b] = pieces as [Fragment, Fragment];
+    // The queue's own record of the failed jobs goes (as its retention does after some days).
+    await stack.database.pool.query(`delete from pgboss.job where name = 'fragment-rights'`);
+    expect(await status()).toMatchObject({ behind: 2, failed: 2 });
+    // The web copy is back: the next rewrite writes it, and only the missing master is still said.
+    await fs.writeFile(stack.libraryPath(kept.key), kept.bytes);
+    const third = { creator: "Varga & Holm", copyright: "© 2026 Varga & Holm" };
+    expect((await admin.post("/api/studio/masters-rights").send(third)).status).toBe(200);
+    const s = await done();
+    expect(s).toMatchObject({ behind: 1, failed: 1, reasons: [expect.stringContaining("The master")] });
+    expect((await stack.database.pool.query(`select rights_error from fragments where id = $1`, [b.id])).rows[0]!.rights_error).toBeNull();
   });
 });

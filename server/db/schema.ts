@@ -252,6 +252,11 @@ export const fragments = pgTable(
     reviewedAt: timestamp("reviewed_at", { withTimezone: true }),
     renderState: renderStateEnum("render_state").notNull().default("none"),
     renderError: text("render_error"),
+    /**
+     * Why the last rewrite of its rights into its master and web copy failed for good (a file
+     * missing from the library, say); null once one succeeds, or if none failed.
+     */
+    rightsError: text("rights_error"),
     /** The render job that holds this fragment while render_state is 'rendering' (its own, or one rendering it with others of its scan). */
     renderJobId: text("render_job_id"),
     /** When that job took it; a claim older than the render queue's expiry is abandoned. */

@@ -36,25 +36,16 @@ async function writing(db: Db): Promise<number> {
 }
 
 /**
- * Pieces still behind whose rewrite, queued by the latest request, failed for good, and why (the
- * messages the job threw, as pg-boss keeps them; its archive holds the older ones).
+ * Pieces still behind whose last rewrite failed for good, and why (up to three reasons): the
+ * rights job keeps the reason on the piece until a rewrite of it succeeds.
  */
-async function failedSinceRequest(db: Db, creator: string | null, copyright: string | null): Promise<{ failed: number; reasons: string[] }> {
+async function failedBehind(db: Db, creator: string | null, copyright: string | null): Promise<{ failed: number; reasons: string[] }> {
   const { rows } = await db.execute<{ failed: number; reasons: string[] | null }>(sql`
-    with since as (
-      select max(at) as at from audit_events where action = 'studio.masters_rights'
-    ), gave_up as (
-      select data ->> 'fragmentId' as id, output ->> 'message' as message from pgboss.job
-       where name = ${QUEUES.rights} and state = 'failed' and data ->> 'rights' = 'studio'
-         and created_on >= (select at from since)
-      union all
-      select data ->> 'fragmentId', output ->> 'message' from pgboss.archive
-       where name = ${QUEUES.rights} and state = 'failed' and data ->> 'rights' = 'studio'
-         and created_on >= (select at from since)
-    ), c as (${current(creator, copyright)})
-    select count(distinct g.id)::int as failed,
-           (array_agg(distinct g.message) filter (where g.message is not null))[1:3] as reasons
-      from gave_up g join c on c.id::text = g.id and c.behind`);
+    with c as (${current(creator, copyright)})
+    select count(*)::int as failed,
+           (array_agg(distinct f.rights_error))[1:3] as reasons
+      from c join fragments f on f.id = c.id
+     where c.behind and f.rights_error is not null`);
   return { failed: rows[0]?.failed ?? 0, reasons: rows[0]?.reasons ?? [] };
 }
 
@@ -70,7 +61,7 @@ export async function mastersRights(db: Db): Promise<MastersRights> {
            (count(*) filter (where behind and unknown))::int as unknown
       from c`);
   const counts = rows[0] ?? { masters: 0, behind: 0, unknown: 0 };
-  return { creator, copyright, ...counts, writing: await writing(db), ...(await failedSinceRequest(db, creator, copyright)) };
+  return { creator, copyright, ...counts, writing: await writing(db), ...(await failedBehind(db, creator, copyright)) };
 }
 
 /**

@@ -75,7 +75,7 @@ export const mastersRightsSchema = z.object({
   unknown: z.number().int(),
   /** Pieces with a rewrite queued or running now. */
   writing: z.number().int(),
-  /** Of those behind, pieces whose rewrite (of the latest request) failed for good; and why (up to 3 messages). */
+  /** Of those behind, pieces whose last rewrite failed for good; and why (up to 3 messages, kept on the piece until a rewrite succeeds). */
   failed: z.number().int(),
   reasons: z.array(z.string()),
 });

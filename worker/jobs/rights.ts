@@ -49,6 +49,27 @@ export async function rewriteRightsJob(
   data: unknown,
   ctx: JobContext,
 ): Promise<void> {
+  const { fragmentId } = rightsPayload.parse(data);
+  const { db } = deps.database;
+  try {
+    await rewriteRights(deps, data, ctx);
+  } catch (err) {
+    // The last attempt's reason stays on the piece (the Studio screen names it) until one succeeds.
+    if (ctx.retryCount >= ctx.retryLimit)
+      await db
+        .update(fragments)
+        .set({ rightsError: (err as Error).message })
+        .where(eq(fragments.id, fragmentId))
+        .catch((e: unknown) => deps.log.warn({ err: e, fragmentId }, "rights: the reason could not be kept"));
+    throw err;
+  }
+  await db
+    .update(fragments)
+    .set({ rightsError: null })
+    .where(and(eq(fragments.id, fragmentId), sql`${fragments.rightsError} is not null`));
+}
+
+async function rewriteRights(deps: RenderDeps, data: unknown, ctx: JobContext): Promise<void> {
   const { fragmentId, rights: source } = rightsPayload.parse(data);
   const { db } = deps.database;
   const log = deps.log.child({ jobId: ctx.jobId, fragmentId });

@@ -1,0 +1,1 @@
+ALTER TABLE "fragments" ADD COLUMN "rights_error" text;
