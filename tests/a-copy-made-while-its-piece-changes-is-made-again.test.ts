@@ -146,15 +146,36 @@ describe("a batch copy made while its piece changes", () => {
     expect(await filesOnDisk()).toHaveLength(before.length);
   });
 
-  it("is thrown away when the piece is rejected while it is made, and its retry says it is no longer approved", async () => {
+  it("is thrown away when the piece is rejected while it is made, and the item says it is no longer approved", async () => {
     const id = await freshItem("print-a4");
     const before = await presetCopies();
     const library = changingWhileStored(`update fragments set status = 'rejected' where id = $1`);
-    await expect(outputJob(await deps(library), { batchItemId: id }, ctx())).rejects.toThrow(/changed while this copy was being made/);
+    // Said at once, not after retries that could not make it.
+    await outputJob(await deps(library), { batchItemId: id }, ctx());
     expect(await presetCopies()).toEqual(before);
     expect(await filesOnDisk()).toHaveLength(before.length);
-    await outputJob(await deps(), { batchItemId: id }, ctx(1));
     const { rows } = await stack.database.pool.query<{ state: string; error: string | null; output_id: string | null }>(`select state, error, output_id from batch_items where id = $1`, [id]);
+    expect(rows[0]).toEqual({ state: "failed", error: "The fragment is no longer approved.", output_id: null });
+    await stack.database.pool.query(`update fragments set status = 'approved' where id = $1`, [piece.id]);
+  });
+
+  it("is not reused for a piece no longer approved: the item says so instead of linking the copy made before", async () => {
+    // A second batch of the same piece and preset would reuse the copy the first made.
+    const web = ((await operator.get("/api/presets")).body.presets as PresetSummary[]).find((p) => p.name === "web")!;
+    const made = await operator.post("/api/batches").send({ name: "Shop again", selection: { fragmentIds: [piece.id] }, presetIds: [web.id] });
+    expect(made.status, JSON.stringify(made.body)).toBe(201);
+    const { rows: items } = await stack.database.pool.query<{ id: string }>(`select id from batch_items where batch_id = $1`, [made.body.batch.id]);
+    // Rejected just after the job's first look, as the reuse checks the copy's file.
+    const library: Storage = Object.create(stack.library, {
+      exists: {
+        value: async (key: string) => {
+          await stack.database.pool.query(`update fragments set status = 'rejected' where id = $1`, [piece.id]);
+          return stack.library.exists(key);
+        },
+      },
+    });
+    await outputJob(await deps(library), { batchItemId: items[0]!.id }, ctx());
+    const { rows } = await stack.database.pool.query(`select state, error, output_id from batch_items where id = $1`, [items[0]!.id]);
     expect(rows[0]).toEqual({ state: "failed", error: "The fragment is no longer approved.", output_id: null });
     await stack.database.pool.query(`update fragments set status = 'approved' where id = $1`, [piece.id]);
   });

@@ -93,9 +93,17 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
         .where(eq(outputs.id, made.id))
         .for("share");
       if (!still) return false;
+      // Still approved, under the lock a rejection or merge takes on the piece's row.
+      const [piece] = await tx
+        .select({ status: fragments.status, mergedInto: fragments.mergedInto })
+        .from(fragments)
+        .where(eq(fragments.id, f.id))
+        .for("share");
+      if (piece?.status !== "approved" || piece.mergedInto !== null) return "not approved" as const;
       await tx.update(batchItems).set({ outputId: made.id }).where(eq(batchItems.id, batchItemId));
       return true;
     }));
+  if (linked === "not approved") return fail("The fragment is no longer approved.");
   if (linked) {
     await removeRetired(
       deps,
@@ -195,6 +203,9 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     });
     if (!stored) {
       await deps.library.remove(fileKey).catch((err: unknown) => log.warn({ err, key: fileKey }, "output: a discarded file stays until the library tidy"));
+      // Rejected or merged meanwhile: said now, not after retries that cannot make it.
+      const [now] = await db.select({ status: fragments.status, mergedInto: fragments.mergedInto }).from(fragments).where(eq(fragments.id, f.id));
+      if (now?.status !== "approved" || now.mergedInto !== null) return fail("The fragment is no longer approved.");
       throw new MasterChanged();
     }
     // The last item of a replacing re-run retires the old batch's files.
