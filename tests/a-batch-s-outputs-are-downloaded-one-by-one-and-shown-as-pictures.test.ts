@@ -174,6 +174,14 @@ describe("one output of a batch", () => {
     const res = await viewer.get(url(itemOf("Card PDF"), "thumb"));
     expect(res.status).toBe(404);
     expect(res.body.error.message).toBe("A PDF has no picture here; download it to look at it.");
+    // A file gone from the library: not found, and that answer is not kept by the browser.
+    const wall = itemOf("wall", 2);
+    await fs.rm(stack.libraryPath((await outputRow(wall.id)).key));
+    for (const what of ["thumb", "file"] as const) {
+      const gone = await viewer.get(url(wall, what));
+      expect(gone.status).toBe(404);
+      expect(String(gone.headers["cache-control"] ?? "")).not.toMatch(/max-age/);
+    }
     const other = await viewer.get(`/api/batches/${batch.batch.id}/items/${crypto.randomUUID()}/file`);
     expect(other.status).toBe(404);
     expect((await viewer.get(`/api/batches/${batch.batch.id}/items/not-an-id/thumb`)).status).toBe(400);

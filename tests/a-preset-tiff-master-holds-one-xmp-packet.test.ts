@@ -79,11 +79,16 @@ describe("a TIFF master made by a preset", () => {
     expect(dump).toMatch(/\(34675\) UNDEFINED \(7\) \d+</);
   });
 
-  it("holds no packet when there are no rights to write", async () => {
+  it("holds no packet when there are no rights to write, not even one its source carried", async () => {
     const out = at("bare.tif");
-    await renderOutput({ master: source, dpi: 600 }, TIFF, { path: out });
+    const carrying = at("source-with-xmp.tif");
+    const old = `<?xpacket begin="" id="W5M0MpCehiHzreSzNTczkc9d"?><x:xmpmeta xmlns:x="adobe:ns:meta/"><rdf:RDF xmlns:rdf="http://www.w3.org/1999/02/22-rdf-syntax-ns#"><rdf:Description xmlns:dc="http://purl.org/dc/elements/1.1/"><dc:title><rdf:Alt><rdf:li xml:lang="x-default">An old working title</rdf:li></rdf:Alt></dc:title></rdf:Description></rdf:RDF></x:xmpmeta><?xpacket end="w"?>`;
+    await sharp(source).withXmp(old).tiff().toFile(carrying);
+    expect((await sharp(carrying).metadata()).xmp).toBeDefined();
+    await renderOutput({ master: carrying, dpi: 600 }, TIFF, { path: out });
     const bytes = await fs.readFile(out);
     expect(count(bytes, "<?xpacket begin")).toBe(0);
+    expect(count(bytes, "An old working title")).toBe(0);
     expect((await sharp(out).metadata()).xmp).toBeUndefined();
   });
 });

@@ -16,7 +16,7 @@ export async function sendStored(
   res: Response,
   storage: Storage,
   key: string,
-  opts: { what: string; type?: string; downloadName?: string },
+  opts: { what: string; type?: string; downloadName?: string; cacheControl?: string },
 ): Promise<void> {
   let stat;
   try {
@@ -37,6 +37,8 @@ export async function sendStored(
   const range =
     Array.isArray(ranges) && ranges.length === 1 && ranges.type === "bytes" ? ranges[0] : undefined;
   if (opts.downloadName) res.attachment(opts.downloadName);
+  // Only for the file itself: an error answer (a missing file, a bad range) is never kept.
+  if (opts.cacheControl) res.setHeader("Cache-Control", opts.cacheControl);
   res.setHeader("Content-Type", opts.type ?? contentTypeFor(key));
   res.setHeader("Accept-Ranges", "bytes");
   res.setHeader("Last-Modified", stat.modified.toUTCString());
@@ -86,6 +88,9 @@ export async function sendOutputThumb(
     if (err instanceof AppError && err.status === 503) res.setHeader("Retry-After", "5");
     throw err;
   }
-  res.setHeader("Cache-Control", "private, max-age=86400");
-  await sendStored(req, res, storage, key, { what: opts.what, type: "image/jpeg" });
+  await sendStored(req, res, storage, key, {
+    what: opts.what,
+    type: "image/jpeg",
+    cacheControl: "private, max-age=86400",
+  });
 }

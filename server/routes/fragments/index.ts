@@ -22,7 +22,6 @@ import { getScan, getScanRow } from "../../services/scans";
 import type { AppDeps } from "../../app";
 import { sendOutputThumb, sendStored } from "../send-stored";
 
-
 export function fragmentsRouter(deps: AppDeps): Router {
   const router = Router();
   const { database, boss, library, offsite } = deps;
@@ -52,25 +51,45 @@ export function fragmentsRouter(deps: AppDeps): Router {
     res.status(201);
     return { fragment };
   });
-  handle(router, API.fragmentsGet, async ({ params, user }) => ({ fragment: await getFragment(db, params.id, user.role) }));
+  handle(router, API.fragmentsGet, async ({ params, user }) => ({
+    fragment: await getFragment(db, params.id, user.role),
+  }));
   handle(router, API.fragmentsUpdate, async ({ params, body, user, req }) => {
     const fragment = await updateFragment(database, boss, user, params.id, body);
     req.log.info({ fragmentId: fragment.id, patch: Object.keys(body) }, "fragment updated");
     return { fragment };
   });
-  handle(router, API.fragmentsFilesPlan, async ({ params }) => ({ plan: await fragmentFilesPlan(db, params.id) }));
+  handle(router, API.fragmentsFilesPlan, async ({ params }) => ({
+    plan: await fragmentFilesPlan(db, params.id),
+  }));
   handle(router, API.fragmentsFilesDelete, async ({ params, query, user, req }) =>
-    deleteFragmentFiles({ database, boss, library, offsite, log: req.log }, user, params.id, query.upTo, query.offsite),
+    deleteFragmentFiles(
+      { database, boss, library, offsite, log: req.log },
+      user,
+      params.id,
+      query.upTo,
+      query.offsite,
+    ),
   );
-  handle(router, API.fragmentsReset, async ({ params, user }) => ({ fragment: await resetFragment(database, boss, user, params.id) }));
-  handle(router, API.fragmentsUnmerge, async ({ params, user }) => ({ fragments: await unmergeFragment(database, boss, user, params.id) }));
+  handle(router, API.fragmentsReset, async ({ params, user }) => ({
+    fragment: await resetFragment(database, boss, user, params.id),
+  }));
+  handle(router, API.fragmentsUnmerge, async ({ params, user }) => ({
+    fragments: await unmergeFragment(database, boss, user, params.id),
+  }));
 
   handle(router, API.fragmentsThumb, async ({ params, user, req, res }) => {
     const f = await getFragment(db, params.id, user.role);
-    const [row] = await db.select({ previewKey: scans.previewKey, width: scans.width }).from(scans).where(eq(scans.id, f.scanId));
+    const [row] = await db
+      .select({ previewKey: scans.previewKey, width: scans.width })
+      .from(scans)
+      .where(eq(scans.id, f.scanId));
     const key = await fragmentThumb(library, f, row!);
-    res.setHeader("Cache-Control", "private, max-age=3600");
-    await sendStored(req, res, library, key, { what: "The fragment's picture", type: "image/jpeg" });
+    await sendStored(req, res, library, key, {
+      what: "The fragment's picture",
+      type: "image/jpeg",
+      cacheControl: "private, max-age=3600",
+    });
   });
 
   handle(router, API.fragmentsOutput, async ({ params, user, req, res }) => {
@@ -81,20 +100,32 @@ export function fragmentsRouter(deps: AppDeps): Router {
       .from(outputs)
       .innerJoin(fragments, eq(fragments.id, outputs.fragmentId))
       .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, params.kind)));
-    if (!out || !row) throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
-    res.setHeader("Cache-Control", "private, no-cache");
-    await sendStored(req, res, library, row.key, { what: `The ${params.kind} file of this fragment`, downloadName: out.fileName });
+    if (!out || !row)
+      throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
+    await sendStored(req, res, library, row.key, {
+      what: `The ${params.kind} file of this fragment`,
+      downloadName: out.fileName,
+      cacheControl: "private, no-cache",
+    });
   });
   handle(router, API.fragmentsOutputThumb, async ({ params, user, req, res }) => {
     const f = await getFragment(db, params.id, user.role);
     const [row] = await db
-      .select({ id: outputs.id, key: outputs.key, format: outputs.format, updatedAt: outputs.updatedAt })
+      .select({
+        id: outputs.id,
+        key: outputs.key,
+        format: outputs.format,
+        updatedAt: outputs.updatedAt,
+      })
       .from(outputs)
       .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, params.kind)));
     if (!f.outputs.some((o) => o.kind === params.kind) || !row)
       throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
     // The address carries the file's time (?v=), so a new file is a new address.
-    await sendOutputThumb(req, res, library, row, { maxPixels: deps.config.maxPixels, what: `The picture of this fragment's ${params.kind} file` });
+    await sendOutputThumb(req, res, library, row, {
+      maxPixels: deps.config.maxPixels,
+      what: `The picture of this fragment's ${params.kind} file`,
+    });
   });
   return router;
 }

@@ -2,7 +2,14 @@ import { Router } from "express";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
 import { badRequest, notFound } from "../../errors";
-import { getScan, getScanRow, listScans, restoreScanResolution, retryScan, setScanResolution } from "../../services/scans";
+import {
+  getScan,
+  getScanRow,
+  listScans,
+  restoreScanResolution,
+  retryScan,
+  setScanResolution,
+} from "../../services/scans";
 import { getStudioSettings } from "../../services/studio";
 import { intakeFile } from "../../services/intake";
 import { cleanFileName, removeTemps, sniffUploads, uploadMiddleware } from "./upload";
@@ -22,7 +29,11 @@ export function scansRouter(deps: AppDeps): Router {
     API.scansUpload,
     async ({ req, res, user }) => {
       const files = (req.files as Express.Multer.File[] | undefined) ?? [];
-      if (!files.length) throw badRequest('Expected one or more files in the "files" field but received none.', "files");
+      if (!files.length)
+        throw badRequest(
+          'Expected one or more files in the "files" field but received none.',
+          "files",
+        );
       try {
         await sniffUploads(files);
         const results = [];
@@ -30,9 +41,20 @@ export function scansRouter(deps: AppDeps): Router {
           const originalName = cleanFileName(f.originalname);
           const r = await intakeFile(
             { database, boss, library, log: req.log },
-            { path: f.path, originalName, source: "upload", uploadedBy: user.id, removeSource: true },
+            {
+              path: f.path,
+              originalName,
+              source: "upload",
+              uploadedBy: user.id,
+              removeSource: true,
+            },
           );
-          results.push({ originalName, scanId: r.scanId, duplicateOf: r.duplicateOf, triedAgain: r.triedAgain });
+          results.push({
+            originalName,
+            scanId: r.scanId,
+            duplicateOf: r.duplicateOf,
+            triedAgain: r.triedAgain,
+          });
         }
         res.status(201);
         return { results };
@@ -47,13 +69,26 @@ export function scansRouter(deps: AppDeps): Router {
 
   handle(router, API.scansGet, async ({ params }) => ({ scan: await getScan(db, params.id) }));
 
-  const sendImage = (which: "previewKey" | "thumbKey") => async ({ params, req, res }: { params: { id: string }; req: import("express").Request; res: import("express").Response }) => {
-    const row = await getScanRow(db, params.id);
-    const key = row[which];
-    if (!key) throw notFound("The preview of this scan (it is not analysed yet)");
-    res.setHeader("Cache-Control", "private, max-age=300");
-    await sendStored(req, res, library, key, { what: "The preview file", type: "image/jpeg" });
-  };
+  const sendImage =
+    (which: "previewKey" | "thumbKey") =>
+    async ({
+      params,
+      req,
+      res,
+    }: {
+      params: { id: string };
+      req: import("express").Request;
+      res: import("express").Response;
+    }) => {
+      const row = await getScanRow(db, params.id);
+      const key = row[which];
+      if (!key) throw notFound("The preview of this scan (it is not analysed yet)");
+      await sendStored(req, res, library, key, {
+        what: "The preview file",
+        type: "image/jpeg",
+        cacheControl: "private, max-age=300",
+      });
+    };
   handle(router, API.scansPreview, sendImage("previewKey"));
   handle(router, API.scansThumb, sendImage("thumbKey"));
 
@@ -61,7 +96,12 @@ export function scansRouter(deps: AppDeps): Router {
     scan: await setScanResolution(database, boss, params.id, body),
   }));
   handle(router, API.scansRestoreResolution, async ({ params }) => ({
-    scan: await restoreScanResolution(database, boss, params.id, (await getStudioSettings(db, config)).defaultDpi),
+    scan: await restoreScanResolution(
+      database,
+      boss,
+      params.id,
+      (await getStudioSettings(db, config)).defaultDpi,
+    ),
   }));
 
   handle(router, API.scansRetry, async ({ params, req }) => {
