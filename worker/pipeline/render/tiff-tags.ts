@@ -17,6 +17,8 @@
  *   of the chain references ends (the strips, for a master), over the old IFD0, its values and
  *   what earlier edits left there, and the file is cut after it: rewrite after rewrite, the
  *   file keeps one copy of the profile and tables, and grows only as the new text is longer.
+ *   (A file whose first IFD0 and its values lie before the strips, as some other writers lay
+ *   one out, keeps that first copy of them unreferenced there: one more, never more.)
  */
 import fs from "node:fs/promises";
 
