@@ -119,4 +119,19 @@ describe("approved work", () => {
     await page.goBack();
     await expect.poll(() => grid.getByRole("listitem").count(), { timeout: 10_000 }).toBe(4);
   });
+
+  it("the scans list's search works the same way: typed, kept in the address, cleared", async () => {
+    const page = await browser.context.newPage();
+    await signIn(page, stack.url, "operator@test.example", "operator-password-123");
+    await page.goto(`${stack.url}/scans`);
+    const rows = page.getByRole("region", { name: "Scan list" }).getByRole("row");
+    await expect.poll(() => rows.filter({ hasText: ".tif" }).count(), { timeout: 15_000 }).toBe(2);
+    await page.getByRole("searchbox", { name: "Search file names" }).fill("harbour");
+    await expect.poll(() => rows.filter({ hasText: ".tif" }).allInnerTexts(), { timeout: 10_000 }).toEqual([expect.stringContaining("harbour-sheet-1.tif")]);
+    expect(new URL(page.url()).searchParams.get("q")).toBe("harbour");
+    await page.getByRole("button", { name: "Clear filters" }).click();
+    await expect.poll(() => rows.filter({ hasText: ".tif" }).count(), { timeout: 10_000 }).toBe(2);
+    expect(await page.getByRole("searchbox", { name: "Search file names" }).inputValue()).toBe("");
+    await page.close();
+  });
 });

@@ -1,8 +1,9 @@
-import { useEffect, useRef, useState } from "react";
+import { useCallback, useEffect, useRef } from "react";
 import type { Intake } from "../../../../shared/schemas/scans";
 import { Button } from "../../../components/button";
 import { SelectField, TextField } from "../../../components/field";
 import { isTyping } from "../../../lib/typing";
+import { useSearchText } from "../../../lib/use-search-text";
 import { Kbd } from "./key-legend";
 
 export interface WorkFilter {
@@ -24,13 +25,8 @@ export function WorkFilters({
   intakes: Intake[];
   onChange: (patch: Partial<WorkFilter>) => void;
 }) {
-  const [q, setQ] = useState(filter.q ?? "");
-  // Follow the address (back button, "Clear") without fighting the person typing.
-  const [seenQ, setSeenQ] = useState(filter.q);
-  if (seenQ !== filter.q) {
-    setSeenQ(filter.q);
-    if (q.trim() !== (filter.q ?? "")) setQ(filter.q ?? "");
-  }
+  const search = useCallback((next: string | undefined) => onChange({ q: next }), [onChange]);
+  const [q, setQ] = useSearchText(filter.q, search);
   // "/" goes to the search from anywhere on the page.
   const box = useRef<HTMLDivElement>(null);
   useEffect(() => {
@@ -42,12 +38,6 @@ export function WorkFilters({
     document.addEventListener("keydown", onKey);
     return () => document.removeEventListener("keydown", onKey);
   }, []);
-  useEffect(() => {
-    const trimmed = q.trim();
-    if (trimmed === (filter.q ?? "")) return;
-    const timer = setTimeout(() => onChange({ q: trimmed || undefined }), 250);
-    return () => clearTimeout(timer);
-  }, [q, filter.q, onChange]);
 
   return (
     <div

@@ -1,8 +1,9 @@
-import { useEffect, useState } from "react";
+import { useCallback } from "react";
 import { SCAN_STATUSES, type Intake, type ScanStatus } from "../../../../shared/schemas/scans";
 import { SelectField, TextField } from "../../../components/field";
 import { Button } from "../../../components/button";
 import { STATUS_LABELS } from "../../../components/status-badge";
+import { useSearchText } from "../../../lib/use-search-text";
 import type { ScanFilters } from "./use-scan-filters";
 
 /** Status, intake and file-name search. The search waits for a pause in typing. */
@@ -15,19 +16,8 @@ export function ScanFiltersBar({
   intakes: Intake[];
   onChange: (patch: Partial<ScanFilters>) => void;
 }) {
-  const [q, setQ] = useState(filters.q ?? "");
-  // Follow the address (back button, "Clear filters") without fighting the person typing.
-  const [seenQ, setSeenQ] = useState(filters.q);
-  if (seenQ !== filters.q) {
-    setSeenQ(filters.q);
-    if (q.trim() !== (filters.q ?? "")) setQ(filters.q ?? "");
-  }
-  useEffect(() => {
-    const trimmed = q.trim();
-    if (trimmed === (filters.q ?? "")) return;
-    const timer = setTimeout(() => onChange({ q: trimmed || undefined }), 250);
-    return () => clearTimeout(timer);
-  }, [q, filters.q, onChange]);
+  const search = useCallback((next: string | undefined) => onChange({ q: next }), [onChange]);
+  const [q, setQ] = useSearchText(filters.q, search);
 
   const anyFilter = Boolean(filters.status || filters.intakeId || filters.q);
   return (
