@@ -18,7 +18,7 @@ import { deleteFragmentFilesQuery } from "./schemas/fragment-files";
 import { createIntakeBody, scanListQuery, setResolutionBody } from "./schemas/scans";
 import { updateStudioBody, writeMastersRightsBody } from "./schemas/studio";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
-import { batchDownloadQuery, batchItemParams, createBatchBody, createPresetBody, previewPresetBody, rerunBatchBody, updatePresetBody } from "./schemas/preset-api";
+import { batchDownloadQuery, batchItemParams, outputPictureQuery, createBatchBody, createPresetBody, previewPresetBody, rerunBatchBody, updatePresetBody } from "./schemas/preset-api";
 import {
   drawFragmentBody,
   fragmentListQuery,
@@ -307,7 +307,7 @@ export const API = {
   }),
   // One output of a batch: its file, and a small picture of it for the batch page.
   batchesItemFile: route({ method: "GET", path: "/api/batches/:id/items/:itemId/file", access: "viewer", mutates: false, params: batchItemParams }),
-  batchesItemThumb: route({ method: "GET", path: "/api/batches/:id/items/:itemId/thumb", access: "viewer", mutates: false, params: batchItemParams }),
+  batchesItemThumb: route({ method: "GET", path: "/api/batches/:id/items/:itemId/thumb", access: "viewer", mutates: false, params: batchItemParams, query: outputPictureQuery }),
   batchesDownload: route({
     method: "GET",
     path: "/api/batches/:id/download",

@@ -109,6 +109,15 @@ describe("one output of a batch", () => {
       const b = (await sharp(stack.libraryPath(row.key)).flatten({ background: "#ffffff" }).stats()).channels.slice(0, 3).map((c) => c.mean);
       for (let k = 0; k < 3; k++) expect(Math.abs(a[k]! - b[k]!)).toBeLessThan(3);
     }
+    // The larger look: 1024 px on the long edge (never more than the file); no other size.
+    const a4 = itemOf("print-a4");
+    const large = await viewer.get(`${url(a4, "thumb")}?edge=1024`).buffer(true).parse(binary);
+    expect(large.status).toBe(200);
+    const lm = await sharp(large.body as Buffer).metadata();
+    expect(Math.max(lm.width!, lm.height!)).toBe(1024);
+    const odd = await viewer.get(`${url(a4, "thumb")}?edge=500`);
+    expect(odd.status).toBe(400);
+    expect(odd.body.error.message).toBe("edge: Expected an edge of 320 or 1024 pixels");
     // The mock-up's picture is square like the mock-up.
     const m = itemOf("wall");
     const meta = await sharp((await viewer.get(url(m, "thumb")).buffer(true).parse(binary)).body as Buffer).metadata();
@@ -125,6 +134,8 @@ describe("one output of a batch", () => {
     expect((await fs.stat(stack.libraryPath(key))).mtimeMs).toBe(first.mtimeMs);
     const report = await tidyLibrary(stack.db, stack.library, { dryRun: true, graceHours: 0 });
     expect(report.folders.find((f) => f.folder === "thumbs/")?.leftOver ?? 0).toBe(0);
+    // (the larger look made above is in use too)
+    expect(report.folders.find((f) => f.folder === "thumbs/")!.files).toBeGreaterThanOrEqual(2);
     // A picture of an output no row names any more is a left-over.
     await fs.copyFile(stack.libraryPath(key), stack.libraryPath(outputThumbKey(row.id, new Date(0))));
     const again = await tidyLibrary(stack.db, stack.library, { dryRun: true, graceHours: 0 });

@@ -121,6 +121,26 @@ describe("batches in the browser", () => {
     await expect
       .poll(() => pictures.evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length), { timeout: 15_000 })
       .toBe(4);
+    // A picture opens a larger look at its file; ← and → step through the others, Escape closes
+    // it and puts the focus back on the picture.
+    const opener = page.getByRole("button", { name: /^Look at .*-print-letter\.tif$/ }).first();
+    await opener.click();
+    const look = page.getByRole("dialog");
+    await expect.poll(() => look.isVisible()).toBe(true);
+    const big = look.locator("img");
+    await expect
+      .poll(() => big.evaluate((i) => ((i as HTMLImageElement).complete ? Math.max((i as HTMLImageElement).naturalWidth, (i as HTMLImageElement).naturalHeight) : 0)), { timeout: 15_000 })
+      .toBe(1024);
+    const where = async () => Number(/(\d+) of 4/.exec((await look.textContent()) ?? "")?.[1]);
+    const n = await where();
+    expect(n).toBeGreaterThanOrEqual(1);
+    await page.keyboard.press("ArrowRight");
+    await expect.poll(where).toBe((n % 4) + 1);
+    await page.keyboard.press("ArrowLeft");
+    await expect.poll(where).toBe(n);
+    await page.keyboard.press("Escape");
+    await expect.poll(() => look.count()).toBe(0);
+    await expect.poll(() => opener.evaluate((el) => el === document.activeElement)).toBe(true);
     const one = page.getByRole("link", { name: /^Download .*-web\.jpg$/ }).first();
     const fileHref = await one.getAttribute("href");
     expect(fileHref).toMatch(new RegExp(`^/api/batches/${batchId}/items/[0-9a-f-]{36}/file$`));

@@ -79,11 +79,11 @@ export async function sendOutputThumb(
   res: Response,
   storage: Storage,
   out: Parameters<typeof outputThumb>[1],
-  opts: { maxPixels: number; what: string },
+  opts: { maxPixels: number; what: string; edge?: 320 | 1024 },
 ): Promise<void> {
   let key: string;
   try {
-    key = await outputThumb(storage, out, { maxPixels: opts.maxPixels });
+    key = await outputThumb(storage, out, { maxPixels: opts.maxPixels, edge: opts.edge });
   } catch (err) {
     if (err instanceof AppError && err.status === 503) res.setHeader("Retry-After", "5");
     throw err;

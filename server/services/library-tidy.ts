@@ -4,7 +4,7 @@ import { libraryTidies, users } from "../db/schema";
 import type { Storage } from "../storage/storage";
 import { isStorageError } from "../storage/storage";
 import { fragmentThumbKey } from "./fragment-thumbs";
-import { outputThumbKey } from "./output-thumbs";
+import { OUTPUT_PICTURE_EDGES, outputThumbKey } from "./output-thumbs";
 import { previewBaseKey } from "./recipe-preview";
 import { recordAudit } from "./audit";
 import { formatBytes } from "../../shared/units";
@@ -41,7 +41,7 @@ async function referencedKeys(db: Db): Promise<Set<string>> {
   const outs = await db.execute<{ id: string; key: string; updated_at: Date | string }>(sql`select id, key, updated_at from outputs`);
   for (const r of outs.rows) {
     keys.add(r.key);
-    keys.add(outputThumbKey(r.id, new Date(r.updated_at)));
+    for (const edge of OUTPUT_PICTURE_EDGES) keys.add(outputThumbKey(r.id, new Date(r.updated_at), edge));
   }
   const frags = await db.execute<{ id: string; revision: number }>(sql`select id, revision from fragments`);
   for (const r of frags.rows) {

@@ -11,14 +11,17 @@ import { madeFromVisibleTo } from "./fragments";
 
 /** Long edge of a batch output's picture on the batch page, in pixels. */
 export const OUTPUT_THUMB_EDGE = 320;
+/** The long edges a picture of an output comes in: the table's, and the larger look at one. */
+export const OUTPUT_PICTURE_EDGES = [OUTPUT_THUMB_EDGE, 1024] as const;
+export type OutputPictureEdge = (typeof OUTPUT_PICTURE_EDGES)[number];
 
 /**
  * Its key: per output row and the time its file was last written, so a file made again (same
  * key, new bytes) gets a new picture; pictures of files no row names any more are left-overs for
  * the library tidy.
  */
-export const outputThumbKey = (id: string, updatedAt: Date) =>
-  `thumbs/outputs/${id}-${updatedAt.getTime()}.jpg`;
+export const outputThumbKey = (id: string, updatedAt: Date, edge: OutputPictureEdge = OUTPUT_THUMB_EDGE) =>
+  `thumbs/outputs/${id}-${updatedAt.getTime()}${edge === OUTPUT_THUMB_EDGE ? "" : `-e${edge}`}.jpg`;
 
 /**
  * Pictures are made in the web server, from whole print files and masters: at most two at once,
@@ -66,9 +69,10 @@ export async function batchItemOutput(db: Db, batchId: string, itemId: string, r
 export async function outputThumb(
   library: Storage,
   out: { id: string; key: string; format: string; updatedAt: Date },
-  opts: { maxPixels: number },
+  opts: { maxPixels: number; edge?: OutputPictureEdge },
 ): Promise<string> {
-  const key = outputThumbKey(out.id, out.updatedAt);
+  const edge = opts.edge ?? OUTPUT_THUMB_EDGE;
+  const key = outputThumbKey(out.id, out.updatedAt, edge);
   if (await library.exists(key)) return key;
   if (out.format === "pdf")
     throw new AppError(404, "not_found", "A PDF has no picture here; download it to look at it.");
@@ -83,7 +87,7 @@ export async function outputThumb(
         library.writeAtomic(key, async (tmp) => {
           // Outputs are made from scans within the studio's pixel limit; a file past it is refused.
           await sharp(file, { limitInputPixels: opts.maxPixels, sequentialRead: true })
-            .resize(OUTPUT_THUMB_EDGE, OUTPUT_THUMB_EDGE, { fit: "inside", withoutEnlargement: true })
+            .resize(edge, edge, { fit: "inside", withoutEnlargement: true })
             .flatten({ background: "#ffffff" })
             .jpeg({ quality: 80 })
             .toFile(tmp);

@@ -114,6 +114,14 @@ export const batchListResponse = z.object({ batches: z.array(batchSchema) });
 
 export const batchDownloadQuery = z.object({ pack: z.enum(["plain", "listing"]).default("plain") });
 
+/** A picture of an output: its long edge, the table's (320 px) or the larger look (1024 px). */
+export const outputPictureQuery = z.object({
+  edge: z.coerce
+    .number()
+    .refine((n) => n === 320 || n === 1024, { error: "Expected an edge of 320 or 1024 pixels" })
+    .default(320),
+});
+
 /** One output of a batch: the batch and its item. */
 export const batchItemParams = z.object({
   id: z.uuid({ error: "Expected a batch id in UUID form" }),

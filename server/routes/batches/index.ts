@@ -100,9 +100,9 @@ export function batchesRouter({ config, database, boss, library }: AppDeps): Rou
     const out = await batchItemOutput(db, params.id, params.itemId, user.role);
     await sendStored(req, res, library, out.key, { what: "This output's file", downloadName: out.fileName });
   });
-  handle(router, API.batchesItemThumb, async ({ params, user, req, res }) => {
+  handle(router, API.batchesItemThumb, async ({ params, query, user, req, res }) => {
     const out = await batchItemOutput(db, params.id, params.itemId, user.role);
-    await sendOutputThumb(req, res, library, out, { maxPixels: config.maxPixels, what: "This output's picture" });
+    await sendOutputThumb(req, res, library, out, { maxPixels: config.maxPixels, what: "This output's picture", edge: query.edge as 320 | 1024 });
   });
 
   // A zip streamed straight to the response (never built in memory), with a CSV of every output.

@@ -1,15 +1,19 @@
-import { Fragment } from "react";
+import { Fragment, useState } from "react";
 import { formatBytes, formatNumber } from "../../../../shared/units";
 import type { BatchItem } from "../api/get-batch-report";
 import { cn } from "../../../lib/cn";
 import { fragmentLabel } from "../format";
 import { ThumbImage } from "../../../components/thumb-image";
+import { OutputLook } from "./output-look";
 
 /** An output's own file, and its small picture (made once on the server, then cached). */
 export const outputFileUrl = (batchId: string, itemId: string) =>
   `/api/batches/${encodeURIComponent(batchId)}/items/${encodeURIComponent(itemId)}/file`;
-const outputThumbUrl = (batchId: string, itemId: string) =>
-  `/api/batches/${encodeURIComponent(batchId)}/items/${encodeURIComponent(itemId)}/thumb`;
+const outputThumbUrl = (batchId: string, itemId: string, edge: 320 | 1024 = 320) =>
+  `/api/batches/${encodeURIComponent(batchId)}/items/${encodeURIComponent(itemId)}/thumb${edge === 320 ? "" : `?edge=${edge}`}`;
+/** An output that has a picture: made, still the batch's, and not a PDF. */
+const hasPicture = (o: BatchItem, gone: boolean) =>
+  o.state === "done" && Boolean(o.fileName) && !gone && !o.fileName!.endsWith(".pdf");
 
 const STATE_TEXT: Record<BatchItem["state"], string> = {
   queued: "Waiting",
@@ -90,8 +94,33 @@ export function OutputsTable({
   items: BatchItem[];
   replaced?: ReadonlySet<string>;
 }) {
+  // The output looked at in the larger view, and the others it steps through.
+  const [looking, setLooking] = useState<string | null>(null);
+  const pictured = items.filter((o) => hasPicture(o, replaced?.has(o.id) ?? false));
+  const at = pictured.findIndex((o) => o.id === looking);
+  const step = (by: 1 | -1) => {
+    if (pictured.length === 0) return;
+    setLooking(pictured[(at + by + pictured.length) % pictured.length]!.id);
+  };
   return (
     <div className="overflow-x-auto">
+      {at >= 0 && (
+        <OutputLook
+          item={pictured[at]!}
+          pictureUrl={outputThumbUrl(batchId, pictured[at]!.id, 1024)}
+          fileUrl={outputFileUrl(batchId, pictured[at]!.id)}
+          position={`${at + 1} of ${pictured.length}`}
+          onStep={step}
+          onClose={() => {
+            // Back to the picture of the output last looked at.
+            const id = pictured[at]!.id;
+            setLooking(null);
+            requestAnimationFrame(() =>
+              document.querySelector<HTMLButtonElement>(`[data-look="${CSS.escape(id)}"]`)?.focus(),
+            );
+          }}
+        />
+      )}
       {/* Below the xl width the file and its notes go on a line of their own under each output,
           so sizes, warnings and file names all stay in sight without scrolling sideways; only a
           window narrower still scrolls. */}
@@ -126,24 +155,31 @@ export function OutputsTable({
                 >
                   <td className="px-5 py-2.5 break-words xl:whitespace-nowrap">
                     <span className="flex items-start gap-3">
-                      <span className="flex size-12 shrink-0 items-center justify-center overflow-hidden rounded border border-paper-200 bg-[#e7e2d6]">
-                        {o.state === "done" &&
-                        o.fileName &&
-                        !gone &&
-                        !o.fileName.endsWith(".pdf") ? (
+                      {hasPicture(o, gone) ? (
+                        <button
+                          type="button"
+                          onClick={() => setLooking(o.id)}
+                          data-look={o.id}
+                          aria-label={`Look at ${o.fileName}`}
+                          className="flex size-12 shrink-0 items-center justify-center overflow-hidden rounded border border-paper-200 bg-[#e7e2d6] hover:border-accent focus-visible:border-accent"
+                        >
                           <ThumbImage
                             src={outputThumbUrl(batchId, o.id)}
                             className="max-h-full max-w-full object-contain"
                             fallback={
                               <span className="text-[10px] text-ink-faint">
-                                {o.fileName.split(".").pop()?.toUpperCase()}
+                                {o.fileName!.split(".").pop()?.toUpperCase()}
                               </span>
                             }
                           />
-                        ) : o.state === "done" && o.fileName && !gone ? (
-                          <span className="text-[10px] text-ink-faint">PDF</span>
-                        ) : null}
-                      </span>
+                        </button>
+                      ) : (
+                        <span className="flex size-12 shrink-0 items-center justify-center overflow-hidden rounded border border-paper-200 bg-[#e7e2d6]">
+                          {o.state === "done" && o.fileName && !gone ? (
+                            <span className="text-[10px] text-ink-faint">PDF</span>
+                          ) : null}
+                        </span>
+                      )}
                       <span className="font-medium text-ink">
                         {fragmentLabel({
                           title: o.fragmentTitle,

@@ -9,7 +9,7 @@ import { ORIGIN_LABELS, confidenceWords, formatFragmentSize } from "../format";
 import { AngleField } from "./angle-field";
 import { DescriptionForm } from "./description-form";
 import { FragmentStatusBadge } from "./fragment-status";
-import { Kbd } from "./key-legend";
+import { Kbd } from "../../../components/kbd";
 import { OutputList, RenderState } from "./render-outputs";
 import { OffsiteCopy } from "./offsite-copy";
 import type { Review } from "./use-review";

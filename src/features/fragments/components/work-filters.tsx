@@ -4,7 +4,7 @@ import { Button } from "../../../components/button";
 import { SelectField, TextField } from "../../../components/field";
 import { isTyping } from "../../../lib/typing";
 import { useSearchText } from "../../../lib/use-search-text";
-import { Kbd } from "./key-legend";
+import { Kbd } from "../../../components/kbd";
 
 export interface WorkFilter {
   q?: string;
