@@ -16,6 +16,7 @@ import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { PresetInput } from "../shared/schemas/presets";
 import { renderOutput } from "../worker/pipeline/output/index";
+import { xmpPacket } from "../worker/pipeline/render/rights";
 import { makeTempDir } from "./helpers/scan-bytes";
 
 const tmp = makeTempDir("platen-preset-master-xmp-");
@@ -82,7 +83,7 @@ describe("a TIFF master made by a preset", () => {
   it("holds no packet when there are no rights to write, not even one its source carried", async () => {
     const out = at("bare.tif");
     const carrying = at("source-with-xmp.tif");
-    const old = `<?xpacket begin="" id="W5M0MpCehiHzreSzNTczkc9d"?><x:xmpmeta xmlns:x="adobe:ns:meta/"><rdf:RDF xmlns:rdf="http://www.w3.org/1999/02/22-rdf-syntax-ns#"><rdf:Description xmlns:dc="http://purl.org/dc/elements/1.1/"><dc:title><rdf:Alt><rdf:li xml:lang="x-default">An old working title</rdf:li></rdf:Alt></dc:title></rdf:Description></rdf:RDF></x:xmpmeta><?xpacket end="w"?>`;
+    const old = xmpPacket({ title: "An old working title" })!;
     await sharp(source).withXmp(old).tiff().toFile(carrying);
     expect((await sharp(carrying).metadata()).xmp).toBeDefined();
     await renderOutput({ master: carrying, dpi: 600 }, TIFF, { path: out });
