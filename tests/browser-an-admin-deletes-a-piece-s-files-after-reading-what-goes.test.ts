@@ -81,15 +81,16 @@ describe("deleting a piece's files in the browser", () => {
     await opener.click();
     const alsoOffsite = ask.getByRole("checkbox", { name: /Also delete its master's copy in the off-site bucket/ });
     expect(await alsoOffsite.isChecked()).toBe(false);
-    const masterKey = made.find((o) => o.kind === "master")!.key;
-    expect(await stack.offsite!.exists(masterKey)).toBe(true);
+    const masterId = made.find((o) => o.kind === "master")!.id;
+    const copyKey = (await stack.database.pool.query<{ key: string }>(`select key from offsite_copies where output_id = $1`, [masterId])).rows[0]!.key;
+    expect(await stack.offsite!.exists(copyKey)).toBe(true);
     await alsoOffsite.check();
     if (shots) await page.screenshot({ path: path.join(shots, "delete-files-offsite.png"), fullPage: true });
     await ask.getByRole("button", { name: "Delete 2 files and the off-site copy" }).click();
     await expect
       .poll(() => page.getByRole("status").filter({ hasText: "Deleted 2 files of one-piece-to-delete · 1, and its off-site copy." }).count())
       .toBe(1);
-    expect(await stack.offsite!.exists(masterKey)).toBe(false);
+    expect(await stack.offsite!.exists(copyKey)).toBe(false);
     expect(await stack.db.select().from(outputs).where(eq(outputs.fragmentId, pieceId))).toEqual([]);
     for (const o of made) await expect(fs.stat(stack.libraryPath(o.key))).rejects.toMatchObject({ code: "ENOENT" });
     expect((await stack.db.select().from(fragments).where(eq(fragments.id, pieceId)))[0]!.status).toBe("rejected");

@@ -27,6 +27,14 @@ let revived: FakeS3 | undefined;
 
 const sha = (b: Buffer) => crypto.createHash("sha256").update(b).digest("hex");
 
+async function masterRow(): Promise<{ id: string; key: string }> {
+  const { rows } = await stack.database.pool.query<{ id: string; key: string }>(
+    "select id, key from outputs where fragment_id = $1 and kind = 'master'",
+    [fragment.id],
+  );
+  return rows[0]!;
+}
+
 async function offsite(id = fragment.id): Promise<FragmentOffsite> {
   const res = await operator.get(`/api/fragments/${id}/offsite`);
   expect(res.status).toBe(200);
@@ -80,8 +88,11 @@ describe("the off-site copy of masters", () => {
     });
     expect(done.enabled).toBe(true);
     expect(done.target).toContain("s3://offsite/");
-    const key = `masters/${fragment.id}.tif`;
-    const local = await fs.readFile(stack.libraryPath(key));
+    // The copy's key is the master's own row's, not the library key a later master would reuse.
+    const master = await masterRow();
+    const key = `masters/${fragment.id}/${master.id}.tif`;
+    expect(done.copy!.key).toBe(key);
+    const local = await fs.readFile(stack.libraryPath(master.key));
     expect(done.copy!.sha256).toBe(sha(local));
     expect(done.copy!.copiedAt).not.toBeNull();
     // What is really in the bucket: the same bytes, with the checksum as metadata.
@@ -107,7 +118,7 @@ describe("the off-site copy of masters", () => {
     expect(ok.body.copy.checkedAt).not.toBeNull();
 
     // Damage the stored object behind the store's back (bit rot, or someone overwrote it).
-    const objectFile = stack.s3!.objectFile("offsite", `masters/${fragment.id}.tif`);
+    const objectFile = stack.s3!.objectFile("offsite", (await offsite()).copy!.key);
     const bytes = await fs.readFile(objectFile);
     bytes[Math.floor(bytes.length / 2)]! ^= 0xff;
     await fs.writeFile(objectFile, bytes);
@@ -126,6 +137,27 @@ describe("the off-site copy of masters", () => {
     );
     const again = await operator.post(`/api/fragments/${fragment.id}/offsite/check`);
     expect(again.body.copy.status).toBe("copied");
+  });
+
+  it("moves a copy made under the older shared key to the master's own key on its next copy, and removes the old object", async () => {
+    const master = await masterRow();
+    const legacy = `masters/${fragment.id}.tif`;
+    // As a copy made before keys were per master stands: under the library's key, the row naming it.
+    await stack.offsite!.put(legacy, stack.libraryPath(master.key));
+    await stack.database.pool.query("update offsite_copies set key = $1 where output_id = $2", [legacy, master.id]);
+    expect((await offsite()).copy!.key).toBe(legacy);
+    // A re-check still reads the old object and compares it with the master in the library.
+    const check = await operator.post(`/api/fragments/${fragment.id}/offsite/check`);
+    expect(check.body.copy).toMatchObject({ status: "copied", key: legacy });
+
+    expect((await operator.post(`/api/fragments/${fragment.id}/offsite/copy`)).status).toBe(202);
+    const moved = await waitFor("the copy under its own key", async () => {
+      const o = await offsite();
+      return o.copy?.status === "copied" && o.copy.key !== legacy ? o : null;
+    });
+    expect(moved.copy!.key).toBe(`masters/${fragment.id}/${master.id}.tif`);
+    expect(await stack.offsite!.exists(moved.copy!.key)).toBe(true);
+    expect(await stack.offsite!.exists(legacy)).toBe(false);
   });
 
   it("lets an admin queue a re-check of every master; viewers see no copy actions", async () => {

@@ -156,11 +156,9 @@ export async function deleteFragmentFiles(
     try {
       await deps.offsite.remove(offsiteKey);
     } catch (err) {
-      // The key is the master's own: a master made again later is copied to the same key, so the
-      // object to remove is named by its checksum as well.
-      const which = offsiteSha256
-        ? ` if its SHA-256 is still ${offsiteSha256} (a master made again since would be copied to the same key)`
-        : "";
+      // The key is this master's alone (a master made again later gets a key of its own); its
+      // checksum is named too, for the admin to be sure of the object before removing it.
+      const which = offsiteSha256 ? ` (its SHA-256 is ${offsiteSha256})` : "";
       offsiteError = `The off-site copy could not be removed now (${(err as Error).message}). Remove "${offsiteKey}" from the bucket by hand${which}.`;
       deps.log.warn({ err, key: offsiteKey }, "delete files: off-site copy not removed");
     }

@@ -1,3 +1,4 @@
+import path from "node:path";
 import { and, eq, inArray, sql } from "drizzle-orm";
 import type PgBoss from "pg-boss";
 import type { Database, Db } from "../db";
@@ -14,8 +15,12 @@ import type { FragmentOffsite, OffsiteCopy } from "../../shared/schemas/offsite"
 
 /**
  * The off-site copy: with a local library and an off-site bucket configured, every master is also
- * copied to that bucket (same key, its SHA-256 as object metadata). One row per master says where
- * its copy stands; a re-check reads the copy back from the bucket and compares SHA-256s.
+ * copied to that bucket (its SHA-256 as object metadata). One row per master says where its copy
+ * stands; a re-check reads the copy back from the bucket and compares SHA-256s.
+ *
+ * Each master's copy has a key of its own, named by the master's row (`offsiteKeyOf`): the
+ * library's key is reused by a master made again after its files were deleted, but a copy kept
+ * in the bucket then must never be overwritten by the new one.
  */
 export interface OffsiteDeps {
   database: Database;
@@ -26,6 +31,18 @@ export interface OffsiteDeps {
 }
 
 type Row = typeof offsiteCopies.$inferSelect;
+
+/** What names a master for its off-site key: its row, its piece and its library key. */
+export type MasterRef = Pick<typeof outputs.$inferSelect, "id" | "fragmentId" | "key">;
+
+/**
+ * The off-site key of one master: `masters/<fragment>/<master row>.tif` (the library key's
+ * extension). A master made again in place (a new recipe, rights written in) keeps its row and so
+ * its key; a master made after its files were deleted is a new row, so a copy kept from before
+ * stays as it was.
+ */
+export const offsiteKeyOf = (master: MasterRef): string =>
+  `masters/${master.fragmentId}/${master.id}${path.posix.extname(master.key) || ".tif"}`;
 const short = (h: string | null | undefined) => (h ? `${h.slice(0, 12)}…` : "none");
 
 export function presentCopy(row: Row): OffsiteCopy {
@@ -36,31 +53,32 @@ export function presentCopy(row: Row): OffsiteCopy {
     attempts: row.attempts,
     copiedAt: row.copiedAt?.toISOString() ?? null,
     checkedAt: row.checkedAt?.toISOString() ?? null,
+    key: row.key,
     updatedAt: row.updatedAt.toISOString(),
   };
 }
 
 /**
  * Marks a master's copy pending and queues the copy job, in one transaction (with the audit row
- * `audit` writes, when a person asked for it).
+ * `audit` writes, when a person asked for it). A row that has a copy keeps its key until the new
+ * copy has landed (the job moves it then).
  */
 export async function queueOffsiteCopy(
   database: Database,
   boss: PgBoss,
-  outputId: string,
-  key: string,
+  master: MasterRef,
   audit?: (tx: Tx) => Promise<void>,
 ): Promise<void> {
   await withTx(database, boss, async (tx) => {
     await audit?.(tx);
     await tx.db
       .insert(offsiteCopies)
-      .values({ outputId, key, status: "pending" })
+      .values({ outputId: master.id, key: offsiteKeyOf(master), status: "pending" })
       .onConflictDoUpdate({
         target: offsiteCopies.outputId,
-        set: { key, status: "pending", message: null, attempts: 0, updatedAt: new Date() },
+        set: { status: "pending", message: null, attempts: 0, updatedAt: new Date() },
       });
-    await tx.send(QUEUES.offsiteCopy, { outputId });
+    await tx.send(QUEUES.offsiteCopy, { outputId: master.id });
   });
 }
 
@@ -86,9 +104,11 @@ async function setCopy(
 }
 
 /**
- * The copy job: hashes the master, uploads it (in parts when large) with its SHA-256 as metadata,
- * reads the metadata back, and marks the row copied. A store that fails marks it failed with the
- * store's answer and throws, so the queue retries with backoff.
+ * The copy job: hashes the master, uploads it (in parts when large) to its own key with its
+ * SHA-256 as metadata, reads the metadata back, and marks the row copied. A store that fails
+ * marks it failed with the store's answer and throws, so the queue retries with backoff. A row
+ * whose copy was under another key (a copy made before keys were per master) has that object
+ * removed once the new one is in place; only this row named it.
  */
 export async function copyMaster(
   deps: OffsiteDeps,
@@ -107,25 +127,28 @@ export async function copyMaster(
     });
     return;
   }
-  await db
+  const key = offsiteKeyOf(master);
+  const [before] = await db
     .insert(offsiteCopies)
-    .values({ outputId, key: master.key })
+    .values({ outputId, key })
     .onConflictDoUpdate({
       target: offsiteCopies.outputId,
       // Each attempt is "pending" while it uploads (a retry after a failed one too): the piece's
-      // files cannot be deleted with their off-site copy under an upload still under way.
+      // files cannot be deleted with their off-site copy under an upload still under way. The
+      // key stays where the last copy is until this one has landed.
       set: {
-        key: master.key,
         status: "pending",
         message: null,
         attempts: sql`${offsiteCopies.attempts} + 1`,
         updatedAt: new Date(),
       },
-    });
+    })
+    .returning({ key: offsiteCopies.key });
+  const previousKey = before && before.key !== key ? before.key : null;
   try {
     const sha256 = await deps.library.withLocalFile(master.key, async (file) => {
-      const put = await offsite.put(master.key, file);
-      const there = await offsite.stat(master.key);
+      const put = await offsite.put(key, file);
+      const there = await offsite.stat(key);
       if (there.size !== put.size || there.sha256 !== put.sha256) {
         throw new Error(
           `the bucket holds ${there.size} bytes with SHA-256 ${short(there.sha256)} after the upload of ${put.size} bytes with ${short(put.sha256)}`,
@@ -138,9 +161,9 @@ export async function copyMaster(
       message: null,
       sha256,
       copiedAt: new Date(),
-      key: master.key,
+      key,
     });
-    deps.log.info({ outputId, key: master.key, sha256 }, "offsite: master copied");
+    deps.log.info({ outputId, key, sha256 }, "offsite: master copied");
   } catch (err) {
     const missingMaster = isStorageError(err, "missing");
     const last = missingMaster || ctx.retryCount >= ctx.retryLimit;
@@ -152,6 +175,16 @@ export async function copyMaster(
     if (missingMaster) return;
     throw err;
   }
+  if (previousKey) {
+    // The row now names the new object; the old one is nobody's. A bucket that cannot remove it
+    // now leaves it behind, said in the log with its key (the copy itself is fine).
+    try {
+      await offsite.remove(previousKey);
+      deps.log.info({ outputId, key: previousKey }, "offsite: the copy under its old key removed");
+    } catch (err) {
+      deps.log.warn({ outputId, key: previousKey, err }, "offsite: the copy under its old key was not removed; remove it by hand");
+    }
+  }
 }
 
 /**
@@ -162,7 +195,12 @@ export async function copyMaster(
 export async function checkMaster(deps: OffsiteDeps, outputId: string): Promise<Row | undefined> {
   const { db } = deps.database;
   const offsite = deps.offsite;
-  const [row] = await db.select().from(offsiteCopies).where(eq(offsiteCopies.outputId, outputId));
+  const [found] = await db
+    .select({ row: offsiteCopies, masterKey: outputs.key })
+    .from(offsiteCopies)
+    .innerJoin(outputs, eq(outputs.id, offsiteCopies.outputId))
+    .where(eq(offsiteCopies.outputId, outputId));
+  const row = found?.row;
   if (!row || !offsite) return row;
   if (row.status === "pending") return row; // a copy is on its way; checking now says nothing
   const now = new Date();
@@ -179,7 +217,7 @@ export async function checkMaster(deps: OffsiteDeps, outputId: string): Promise<
   }
   let local: string | null = null;
   try {
-    local = await deps.library.checksum(row.key);
+    local = await deps.library.checksum(found.masterKey);
   } catch (err) {
     if (!isStorageError(err, "missing")) throw err;
   }
@@ -259,7 +297,7 @@ export async function recopyFragment(
 ): Promise<FragmentOffsite> {
   requireOffsite(deps);
   const master = await fragmentMaster(deps.database.db, fragmentId);
-  await queueOffsiteCopy(deps.database, deps.boss, master.id, master.key, audit);
+  await queueOffsiteCopy(deps.database, deps.boss, master, audit);
   return fragmentOffsite(deps, fragmentId);
 }
 

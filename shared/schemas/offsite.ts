@@ -10,6 +10,8 @@ export const offsiteCopySchema = z.object({
   /** Why it failed, or what the last re-check found; null when all is well. */
   message: z.string().nullable(),
   sha256: z.string().nullable(),
+  /** The object's key in the bucket: one per master, so a copy kept after a delete stays as it was. */
+  key: z.string(),
   attempts: z.number(),
   copiedAt: z.string().nullable(),
   checkedAt: z.string().nullable(),

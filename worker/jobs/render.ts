@@ -548,7 +548,8 @@ async function store(
     else m.log.warn("render: the title changed while rendering, and no queue to rewrite it");
   }
   // Every new master also goes off-site when a bucket is configured (a job of its own).
-  if (saved && deps.offsite && deps.boss) await queueOffsiteCopy(deps.database, deps.boss, saved.id, mKey);
+  if (saved && deps.offsite && deps.boss)
+    await queueOffsiteCopy(deps.database, deps.boss, { id: saved.id, fragmentId: row.id, key: mKey });
   await notify(deps.database.pool, { kind: "scan", scanId: row.scanId });
   m.log.info({ master: `${r.master.width}×${r.master.height}`, dpi: r.master.dpi }, "render: done");
   return true;

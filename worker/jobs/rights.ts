@@ -147,7 +147,7 @@ async function afterRewrite(
   const master = made.find((o) => o.kind === "master" && rewritten.includes(o.id));
   // The master's bytes changed: its off-site copy is made again.
   if (master && deps.offsite && deps.boss)
-    await queueOffsiteCopy(deps.database, deps.boss, master.id, master.key);
+    await queueOffsiteCopy(deps.database, deps.boss, master);
   await notify(deps.database.pool, { kind: "scan", scanId: row.scanId }).catch(() => {});
   log.info({ files: rewritten.length, title: row.title }, "rights: rewritten");
 }

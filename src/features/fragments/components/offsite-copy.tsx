@@ -56,7 +56,7 @@ export function OffsiteCopy({
       </p>
       {copy?.message && <p className="mt-1 text-xs text-brick">{copy.message}</p>}
       <p className="figure mt-1 text-xs text-ink-muted">
-        {q.data.target}
+        <span title={copy ? `Key in the bucket: ${copy.key}` : undefined}>{q.data.target}</span>
         {copy?.copiedAt && (
           <>
             {" "}
