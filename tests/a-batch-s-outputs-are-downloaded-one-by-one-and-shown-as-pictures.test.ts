@@ -80,6 +80,27 @@ afterAll(async () => {
 });
 
 describe("one output of a batch", () => {
+  it("a piece's web copy has its small picture made by the worker with its master, before anyone asks; a batch output's waits to be looked at", async () => {
+    // Nothing has asked the web server for a picture yet: whatever is in the library, the worker made.
+    for (const piece of pieces) {
+      const { rows } = await stack.database.pool.query<{ id: string; updated_at: Date }>(
+        `select id, updated_at from outputs where fragment_id = $1 and kind = 'web'`,
+        [piece.id],
+      );
+      const key = outputThumbKey(rows[0]!.id, rows[0]!.updated_at);
+      expect(await stack.library.exists(key)).toBe(true);
+      const meta = await sharp(stack.libraryPath(key)).metadata();
+      expect(Math.max(meta.width!, meta.height!)).toBeLessThanOrEqual(OUTPUT_THUMB_EDGE);
+      expect(await stack.library.exists(outputThumbKey(rows[0]!.id, rows[0]!.updated_at, 1024))).toBe(false);
+    }
+    // Batch outputs are many and mostly never looked at one by one (the page loads pictures as
+    // they scroll into view): theirs are made on the first ask, not by the batch.
+    for (const item of batch.items) {
+      const row = await outputRow(item.id);
+      expect(await stack.library.exists(outputThumbKey(row.id, row.updated_at)), `${item.preset} ${item.position}`).toBe(false);
+    }
+  });
+
   it("downloads as its own file, byte for byte, under the name the batch shows", async () => {
     for (const preset of ["web", "print-a4", "Card PDF"]) {
       const item = itemOf(preset);
@@ -203,5 +224,13 @@ describe("one output of a batch", () => {
     expect((await viewer.get(url(itemOf("web", 1), "thumb"))).status).toBe(404);
     expect((await operator.get(url(itemOf("web", 1), "file"))).status).toBe(200);
     expect((await viewer.get(`/api/fragments/${pieces[0]!.id}/outputs/web/thumb`)).status).toBe(404);
+    // A picture made already stands for its file: the file gone, the picture is not shown either.
+    const web = (await stack.database.pool.query<{ id: string; key: string; updated_at: Date }>(
+      `select id, key, updated_at from outputs where fragment_id = $1 and kind = 'web'`,
+      [pieces[1]!.id],
+    )).rows[0]!;
+    expect(await stack.library.exists(outputThumbKey(web.id, web.updated_at))).toBe(true);
+    await fs.rm(stack.libraryPath(web.key));
+    expect((await viewer.get(`/api/fragments/${pieces[1]!.id}/outputs/web/thumb`)).status).toBe(404);
   });
 });

@@ -82,6 +82,8 @@ export async function sendOutputThumb(
   opts: { maxPixels: number; what: string; edge?: 320 | 1024 },
 ): Promise<void> {
   let key: string;
+  // A picture stands for its file: with the file gone from the library, none is shown either.
+  if (!(await storage.exists(out.key))) throw notFound(opts.what);
   try {
     key = await outputThumb(storage, out, { maxPixels: opts.maxPixels, edge: opts.edge });
   } catch (err) {

@@ -24,7 +24,10 @@ export const outputThumbKey = (id: string, updatedAt: Date, edge: OutputPictureE
   `thumbs/outputs/${id}-${updatedAt.getTime()}${edge === OUTPUT_THUMB_EDGE ? "" : `-e${edge}`}.jpg`;
 
 /**
- * Pictures are made in the web server, from whole print files and masters: at most two at once,
+ * The worker makes each new web copy's small picture as it stores the master
+ * (`premakeOutputPicture`), so the approved work rarely has the web server make one. The rest
+ * (batch outputs', the larger look, files made before, a picture removed) are made in the web
+ * server on the first ask, from whole print files and masters: at most two at once,
  * so a batch page of a hundred outputs opened for the first time does not take every core; one
  * picture asked for several times at once is made once; and past a queue of MAX_WAITING the
  * server says it is busy instead of piling up work nobody may still be waiting for.
@@ -98,4 +101,22 @@ export async function outputThumb(
   }
   await job;
   return key;
+}
+
+/**
+ * Makes an output's small picture right after its file is stored (in the worker), so nobody waits
+ * for it on the first look. A picture that cannot be made now is only logged: the web server
+ * makes it on the first ask instead. A PDF has none.
+ */
+export async function premakeOutputPicture(
+  library: Storage,
+  out: { id: string; key: string; format: string; updatedAt: Date },
+  opts: { maxPixels: number; log: { warn: (o: object, msg: string) => void } },
+): Promise<void> {
+  if (out.format === "pdf") return;
+  try {
+    await outputThumb(library, out, { maxPixels: opts.maxPixels });
+  } catch (err) {
+    opts.log.warn({ err, outputId: out.id }, "output picture not made now; the web server makes it when asked");
+  }
 }

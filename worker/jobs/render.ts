@@ -11,6 +11,7 @@ import type { Storage } from "../../server/storage/storage";
 import { isStorageError } from "../../server/storage/storage";
 import type { S3Storage } from "../../server/storage/s3";
 import { queueOffsiteCopy } from "../../server/services/offsite";
+import { premakeOutputPicture } from "../../server/services/output-thumbs";
 import type { Logger } from "../../server/logger";
 import type { Config } from "../../server/config";
 import { renderPayload, type RightsPayload } from "../../shared/schemas/jobs";
@@ -473,6 +474,7 @@ async function store(
   const client = await deps.database.pool.connect();
   const lockKey = `fragment-render:${row.id}`;
   let saved: { id: string } | undefined;
+  let savedWeb: { id: string; key: string; format: string; updatedAt: Date } | undefined;
   // Set once the files are stored: whether the title changed while they were made.
   let retitled: boolean | undefined;
   // A connection whose unlock failed is closed, not pooled: closing it releases the lock.
@@ -525,8 +527,9 @@ async function store(
             targetWhere: sql`${outputs.kind} in ('master', 'web')`,
             set: { ...o, revision, recipeVersionId: recipe.id, updatedAt: now, createdAt: now },
           })
-          .returning({ id: outputs.id });
+          .returning({ id: outputs.id, updatedAt: outputs.updatedAt });
         if (o.kind === "master") saved = out;
+        else if (out) savedWeb = { id: out.id, key: o.key, format: o.format, updatedAt: out.updatedAt };
       }
       await markDone(deps, row, db);
       // A title edited while this rendered (it bumps no revision) is written into the files now
@@ -550,6 +553,8 @@ async function store(
   // Every new master also goes off-site when a bucket is configured (a job of its own).
   if (saved && deps.offsite && deps.boss)
     await queueOffsiteCopy(deps.database, deps.boss, { id: saved.id, fragmentId: row.id, key: mKey });
+  // The web copy's picture for the approved work, made before open screens are told.
+  if (savedWeb) await premakeOutputPicture(deps.library, savedWeb, { maxPixels: deps.config.maxPixels, log: m.log });
   await notify(deps.database.pool, { kind: "scan", scanId: row.scanId });
   m.log.info({ master: `${r.master.width}×${r.master.height}`, dpi: r.master.dpi }, "render: done");
   return true;
