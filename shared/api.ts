@@ -381,6 +381,8 @@ export const API = {
   // The library itself: where it is, and tidying away files nothing names any more.
   library: route({ method: "GET", path: "/api/library", access: "admin", mutates: false }),
   libraryTidy: route({ method: "POST", path: "/api/library/tidy", access: "admin", mutates: true, body: tidyLibraryBody }),
+  // Files the library's originals no scan names (a database restored from an older backup) again as new scans.
+  libraryRefile: route({ method: "POST", path: "/api/library/refile", access: "admin", mutates: true }),
 } as const satisfies Record<string, RouteSpec>;
 
 export type RouteName = keyof typeof API;

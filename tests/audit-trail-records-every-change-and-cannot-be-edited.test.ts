@@ -428,6 +428,29 @@ describe("every change a person makes is on the trail, with who, what and before
     expect(only(rows, "library.tidy")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, after: { removed: 0, bytes: 0 } });
   });
 
+  it(`${route("libraryRefile")}: an admin has the originals the database does not know filed again, and the job says what it filed`, async () => {
+    // An original in the library no scan names, as a database restored from an older backup leaves it.
+    const bytes = await sharp({ create: { width: 240, height: 160, channels: 3, background: "#f4f1ea" } })
+      .composite([{ input: { create: { width: 90, height: 70, channels: 3, background: "#6b3d8c" } }, left: 60, top: 40 }])
+      .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+      .toBuffer();
+    const sha = (await import("node:crypto")).createHash("sha256").update(bytes).digest("hex");
+    const key = `originals/${sha.slice(0, 2)}/${sha}.tif`;
+    await fs.mkdir(path.dirname(stack.libraryPath(key)), { recursive: true });
+    await fs.writeFile(stack.libraryPath(key), bytes);
+    const old = new Date(Date.now() - 2 * 24 * 3600_000);
+    await fs.utimes(stack.libraryPath(key), old, old);
+    const { rows } = await audited(() => admin.post("/api/library/refile"), 202);
+    expect(only(rows, "library.refile")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, after: { originals: 1 } });
+    // The job's own row, under the same admin, once it has filed it (waited for here, so no later
+    // scenario sees it arrive).
+    const filed = await waitFor("the refile job's row", async () => {
+      const r = await stack.db.select().from(auditEvents).where(eq(auditEvents.action, "library.refile")).orderBy(asc(auditEvents.id));
+      return r.length === 2 ? r[1]! : null;
+    }, 30_000);
+    expect(filed).toMatchObject({ actorId: ids.admin, summary: "Filed 1 original the database did not know again as new scans" });
+  });
+
   it(`${route("studioUpdate")}: an admin changes the studio's settings, with only what changed`, async () => {
     const { rows } = await audited(() => admin.patch("/api/studio/settings").send({ name: "Test studio", creator: "Mara Ilves" }));
     expect(only(rows, "studio.settings")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, before: { creator: null }, after: { creator: "Mara Ilves" } });

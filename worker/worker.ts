@@ -12,6 +12,7 @@ import { splitScanJob } from "./jobs/split";
 import { renderFragmentJob } from "./jobs/render";
 import { outputJob } from "./jobs/output";
 import { offsiteCheckJob, offsiteCopyJob } from "./jobs/offsite";
+import { libraryRefileJob } from "./jobs/library-refile";
 import { noticeJob } from "./jobs/mail-notice";
 import { mailSendJob } from "./jobs/mail-send";
 import { libraryTidyJob } from "./jobs/library-tidy";
@@ -68,6 +69,8 @@ export async function startWorker(deps: WorkerDeps) {
     [QUEUES.notice, (_d, data, ctx) => noticeJob(mailDeps, data, ctx)],
     [QUEUES.mail, (_d, data, ctx) => mailSendJob(mailDeps, data, ctx)],
     [QUEUES.libraryTidy, libraryTidyJob],
+    // Hashes and copies originals (no decode): beside the image jobs; the scans it files queue their own.
+    [QUEUES.libraryRefile, libraryRefileJob],
     // Metadata only (the files are copied, not decoded): beside the image jobs, not in their slots.
     [QUEUES.rights, rewriteRightsJob],
   ];

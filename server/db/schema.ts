@@ -27,7 +27,7 @@ export const roleEnum = pgEnum("role", ROLES);
 export const scanStatusEnum = pgEnum("scan_status", SCAN_STATUSES);
 /** Where a scan's resolution came from: the file, the studio default, or an operator who set it. */
 export const dpiSourceEnum = pgEnum("dpi_source", ["embedded", "assumed", "set"]);
-export const scanSourceEnum = pgEnum("scan_source", ["inbox", "upload"]);
+export const scanSourceEnum = pgEnum("scan_source", ["inbox", "upload", "library"]);
 export const fragmentStatusEnum = pgEnum("fragment_status", FRAGMENT_STATUSES);
 export const fragmentShapeEnum = pgEnum("fragment_shape", ["rectangle", "cutout"]);
 export const renderStateEnum = pgEnum("render_state", ["none", "queued", "rendering", "done", "failed"]);

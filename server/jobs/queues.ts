@@ -19,6 +19,8 @@ export const QUEUES = {
   rights: "fragment-rights",
   /** Removes library files nothing names any more (once a day, by whichever worker asks first). */
   libraryTidy: "library-tidy",
+  /** Files the library's originals no scan names again as new scans (an admin asks). */
+  libraryRefile: "library-refile",
 } as const;
 
 export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Omit<PgBoss.Queue, "name">> {
@@ -79,6 +81,12 @@ export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Om
     // A missed day is made up by the next: no retries, and never two at once.
     [QUEUES.libraryTidy]: {
       policy: "singleton",
+      retryLimit: 0,
+      expireInSeconds: cfg.jobExpireSeconds,
+    },
+    // One at a time (a second asked while one runs waits its turn, and finds what is left).
+    [QUEUES.libraryRefile]: {
+      policy: "stately",
       retryLimit: 0,
       expireInSeconds: cfg.jobExpireSeconds,
     },

@@ -57,7 +57,7 @@ export interface IntakeInput {
   path: string;
   /** The name the person gave it. */
   originalName: string;
-  source: "inbox" | "upload";
+  source: "inbox" | "upload" | "library";
   uploadedBy?: string | null;
   /** Remove `path` once the original is safely in the library (inbox files and upload temps). */
   removeSource?: boolean;

@@ -64,8 +64,9 @@ const LARGE_TIDY_MIN_FILES = 20;
  * since, such as an output made again, stays). Originals no row names are counted, never removed.
  *
  * A tidy that looks wrong is held: when the database names none of the scans whose originals the
- * library holds (another or a restored database), or when it would remove more than half of the
- * derived files. It then removes none of the library's files and says why (`caution`), unless
+ * library holds (another or a restored database), when it would remove masters while some
+ * originals are unknown to it (a database restored from an older backup: those masters may be
+ * the lost scans' pieces), or when it would remove more than half of the derived files. It then removes none of the library's files and says why (`caution`), unless
  * `allowLarge`. What stopped processes left unfinished on this machine goes all the same once
  * old (no database could name it), and the caution of a held tidy says so.
  */
@@ -138,7 +139,12 @@ export async function tidyLibrary(
   const namedOriginals = originals.files - originals.leftOver - originals.failed;
   if (originals.files > 0 && namedOriginals === 0)
     caution = `The database names ${originals.files === 1 ? "not even the library's one original" : `none of the ${originals.files} originals in the library`}: it may not be this library's database (a new or restored one). A tidy now would remove every copy made from them.`;
-  else if (planned.length > LARGE_TIDY_MIN_FILES && planned.length > LARGE_TIDY_SHARE * derived)
+  else if (originals.leftOver > 0 && planned.some((p) => p.row.folder === "masters/")) {
+    // Scans are never deleted: an original no scan names is one whose scan the database lost (a
+    // restore from an older backup), and masters nothing names may well be its pieces'.
+    const masters = planned.filter((p) => p.row.folder === "masters/").length;
+    caution = `The library holds ${originals.leftOver === 1 ? "an original" : `${originals.leftOver} originals`} the database does not know (it may have been restored from an older backup), and a tidy now would remove ${masters === 1 ? "a master" : `${masters} masters`} nothing names, which may be ${originals.leftOver === 1 ? "its" : "their"} pieces'. File the unknown originals again first, or remove them anyway if you know why they are there.`;
+  } else if (planned.length > LARGE_TIDY_MIN_FILES && planned.length > LARGE_TIDY_SHARE * derived)
     caution = `A tidy now would remove ${planned.length} of the library's ${derived} derived files, more than half: check that this is the library's own database before going on.`;
   // A confirmation holds for the removal it was given for, not a larger one found since. What the
   // person was shown (a dry run's `removed`) counts the unfinished writes too: so does this.

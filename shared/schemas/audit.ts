@@ -58,6 +58,7 @@ export const AUDIT_ACTIONS = {
   "offsite.copy": "Copied a master off-site again",
   "offsite.check_all": "Re-checked every off-site copy",
   "library.tidy": "Tidied away left-over library files",
+  "library.refile": "Filed originals the database did not know again",
   "studio.settings": "Changed the studio's settings",
   "studio.masters_rights": "Wrote the studio's rights into masters already made",
 } as const satisfies Record<string, string>;

@@ -79,3 +79,6 @@ export const libraryOverviewSchema = z.object({
   }),
 });
 export type LibraryOverview = z.infer<typeof libraryOverviewSchema>;
+
+/** POST /api/library/refile: how many originals the database did not know were queued to be filed again. */
+export const refileResponseSchema = z.object({ originals: z.number() });

@@ -16,7 +16,7 @@ export type DpiSource = z.infer<typeof dpiSourceSchema>;
 export const resolutionOriginSchema = z.enum(["tiff", "exif", "jfif", "png-phys"]);
 export type ResolutionOrigin = z.infer<typeof resolutionOriginSchema>;
 
-export const scanSourceSchema = z.enum(["inbox", "upload"]);
+export const scanSourceSchema = z.enum(["inbox", "upload", "library"]);
 
 export const dpiSchema = z.object({
   x: z.number(),

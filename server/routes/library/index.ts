@@ -5,6 +5,9 @@ import { handle } from "../define";
 import type { AppDeps } from "../../app";
 import { lastTidy, runTidy, tidyLibrary } from "../../services/library-tidy";
 import { recordAudit } from "../../services/audit";
+import { unknownOriginals } from "../../services/library-refile";
+import { withTx } from "../../db/tx";
+import { QUEUES } from "../../jobs/queues";
 import { conflict } from "../../errors";
 import { formatBytes } from "../../../shared/units";
 import type { LibraryOverview } from "../../../shared/schemas/library";
@@ -59,6 +62,23 @@ export function libraryRouter(deps: AppDeps): Router {
         after: { removed: report.removed, bytes: report.removedBytes },
       });
     return report;
+  });
+  handle(router, API.libraryRefile, async ({ user, res }) => {
+    const unknown = await unknownOriginals(db, deps.library);
+    if (unknown.length === 0) throw conflict("The database knows every original in the library: there is nothing to file again.");
+    // One job at a time (a stately queue): asked again while one waits, the one waiting does it.
+    await withTx(deps.database, deps.boss, async (tx) => {
+      await tx.send(QUEUES.libraryRefile, { actorId: user.id, actorEmail: user.email });
+      await recordAudit(tx, {
+        action: "library.refile",
+        subjectType: "studio",
+        subjectId: null,
+        summary: `Asked for the ${unknown.length === 1 ? "original" : `${unknown.length} originals`} the database did not know to be filed again as new scans`,
+        after: { originals: unknown.length },
+      });
+    });
+    res.status(202);
+    return { originals: unknown.length };
   });
   return router;
 }

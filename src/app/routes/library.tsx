@@ -7,7 +7,7 @@ import { ConfirmDialog } from "../../components/confirm-dialog";
 import { NotAllowed } from "../../components/not-allowed";
 import { LoadError, Notice } from "../../components/notice";
 import { PageHeader, Panel } from "../../components/panel";
-import { useCheckAllOffsite, useLibrary, useTidyLibrary } from "../../features/library/api/library";
+import { useCheckAllOffsite, useLibrary, useRefileOriginals, useTidyLibrary } from "../../features/library/api/library";
 import { FolderBars } from "../../features/library/components/folder-bars";
 import { fragmentName } from "../../features/fragments/format";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
@@ -50,6 +50,43 @@ function LibraryPage() {
         </div>
       )}
     </>
+  );
+}
+
+/**
+ * Originals no scan names: scans are never deleted, so the database lost them (restored from an
+ * older backup, or a filing cut off). They stay, and an admin can have them filed again.
+ */
+function UnknownOriginals({ count, bytes }: { count: number; bytes: number }) {
+  const refile = useRefileOriginals();
+  return (
+    <div className="rounded-lg border border-paper-300 bg-paper-50 px-3 py-2" data-testid="unknown-originals">
+      <p className="text-ink">
+        {plural(count, "original", "originals")} ({formatBytes(bytes)}) in the library {count === 1 ? "is" : "are"} not
+        known to the database: no scan names {count === 1 ? "it" : "them"}. Originals are never removed by the
+        program. This happens when the database was restored from a backup older than the library.
+      </p>
+      <div className="mt-2 flex flex-wrap items-center gap-3">
+        <Button
+          size="sm"
+          variant="secondary"
+          busy={refile.isPending}
+          onClick={() =>
+            refile.mutate(undefined, {
+              onSuccess: (r) =>
+                toast.success(
+                  `Filing ${plural(r.originals, "original", "originals")} again: each appears in the queue as a new scan, to be reviewed once more.`,
+                ),
+            })
+          }
+        >
+          File {count === 1 ? "it" : "them"} again as new scans
+        </Button>
+        <Link to={paths.queue} className="text-sm text-accent-strong underline underline-offset-2">
+          Open the queue
+        </Link>
+      </div>
+    </div>
   );
 }
 
@@ -101,12 +138,7 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
             kept for now: a file is written a moment before the record that names it.
           </p>
         )}
-        {originals && originals.leftOver > 0 && (
-          <p className="text-ink-muted">
-            {plural(originals.leftOver, "original", "originals")} ({formatBytes(originals.leftOverBytes)}) that no scan
-            names {originals.leftOver === 1 ? "stays" : "stay"}: originals are never removed by the program.
-          </p>
-        )}
+        {originals && originals.leftOver > 0 && <UnknownOriginals count={originals.leftOver} bytes={originals.leftOverBytes} />}
         <p className="text-ink-muted">
           {lastTidy ? (
             <>

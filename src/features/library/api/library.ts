@@ -1,7 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { z } from "zod";
 import { API } from "../../../../shared/api";
-import { libraryOverviewSchema, tidyReportSchema } from "../../../../shared/schemas/library";
+import { libraryOverviewSchema, refileResponseSchema, tidyReportSchema } from "../../../../shared/schemas/library";
 import { apiRequest } from "../../../lib/api-client";
 
 export const libraryKeys = { overview: ["library", "overview"] as const };
@@ -34,6 +34,15 @@ export function useCheckAllOffsite() {
   const queryClient = useQueryClient();
   return useMutation({
     mutationFn: () => apiRequest(API.offsiteCheckAll, { schema: z.object({ queued: z.number() }) }),
+    onSettled: () => queryClient.invalidateQueries({ queryKey: libraryKeys.overview }),
+  });
+}
+
+/** Files the originals no scan names again as new scans (a job: they appear in the queue one by one). */
+export function useRefileOriginals() {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: () => apiRequest(API.libraryRefile, { schema: refileResponseSchema }),
     onSettled: () => queryClient.invalidateQueries({ queryKey: libraryKeys.overview }),
   });
 }

@@ -40,8 +40,8 @@ function yesNo(value: boolean | null, unknown: ReactNode): ReactNode {
   return value ? "Yes" : "No";
 }
 
-function DateValue({ iso }: { iso: string | null }) {
-  if (!iso) return <Unknown>Not yet</Unknown>;
+function DateValue({ iso, missing = "Not yet" }: { iso: string | null; missing?: string }) {
+  if (!iso) return <Unknown>{missing}</Unknown>;
   return (
     <>
       <span title={formatDateTimeLong(iso)}>{formatDateTime(iso)}</span>{" "}
@@ -55,6 +55,7 @@ function DateValue({ iso }: { iso: string | null }) {
 const SOURCE_LABELS: Record<Scan["source"], string> = {
   inbox: "Inbox folder",
   upload: "Uploaded in the browser",
+  library: "Filed again from the library's originals",
 };
 
 /** Every recorded fact about a scan, grouped as file, image, resolution and processing. */
@@ -250,7 +251,8 @@ export function ScanDetails({ scan }: { scan: Scan }) {
           <DateValue iso={scan.createdAt} />
         </Row>
         <Row term="Analysed">
-          <DateValue iso={scan.analysedAt} />
+          {/* A failed scan is not waiting for its analysis: it stopped, and Retry starts it again. */}
+          <DateValue iso={scan.analysedAt} missing={scan.status === "failed" ? "Not finished: it failed" : "Not yet"} />
         </Row>
         <Row term="Last change">
           <DateValue iso={scan.updatedAt} />
