@@ -9,14 +9,14 @@
 import crypto from "node:crypto";
 import fs from "node:fs/promises";
 import path from "node:path";
-import sharp from "sharp";
 import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Fragment } from "../shared/schemas/fragments";
 type PresetSummary = { id: string; name: string };
 import type { Storage } from "../server/storage/storage";
 import { outputJob } from "../worker/jobs/output";
-import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { approvedPieces } from "./helpers/approved-pieces";
+import { startStack, userAgent, type Stack } from "./helpers/stack";
 
 let stack: Stack;
 let operator: supertest.Agent;
@@ -47,15 +47,7 @@ beforeAll(async () => {
   operator = await userAgent(stack, "operator");
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="900" height="600">
     <rect width="100%" height="100%" fill="#f6f6f3"/><rect x="150" y="100" width="600" height="400" fill="#3a6e2e"/></svg>`;
-  const file = path.join(stack.inbox, "..", "fern-print.tif");
-  await fs.writeFile(file, await sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4 }).toBuffer());
-  const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 1 ? true : null), 45_000);
-  expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-  piece = await waitFor("the master", async () => {
-    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-    return list.length === 1 && list[0]!.renderState === "done" ? list[0] : null;
-  }, 60_000);
+  piece = (await approvedPieces(operator, { name: "fern-print.tif", svg, pieces: 1 })).fragments[0]!;
   // From here on nothing runs jobs but this test.
   await stack.worker!.stop(2000);
   const web = ((await operator.get("/api/presets")).body.presets as PresetSummary[]).find((p) => p.name === "web")!;

@@ -8,12 +8,11 @@
  */
 import crypto from "node:crypto";
 import fs from "node:fs/promises";
-import path from "node:path";
-import sharp from "sharp";
 import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { MastersRights } from "../shared/schemas/studio";
+import { approvedPieces } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 
 let stack: Stack;
@@ -26,14 +25,12 @@ let kept: { key: string; bytes: Buffer };
 const FIRST = { creator: "Ilse Varga", copyright: "© 2026 Ilse Varga" };
 const SECOND = { creator: "Varga Bindery", copyright: "© 2026 Varga Bindery" };
 
-async function scan(): Promise<Buffer> {
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="900" height="450">
+/** Two bookplates, drawn as a 300 DPI TIFF. */
+const SCAN = `<svg xmlns="http://www.w3.org/2000/svg" width="900" height="450">
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     <rect x="60" y="70" width="300" height="300" fill="#7d3a2e"/>
     <rect x="520" y="70" width="300" height="300" fill="#2e5b7d"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
-}
 
 const status = async (): Promise<MastersRights> => {
   const res = await admin.get("/api/studio/masters-rights");
@@ -53,19 +50,7 @@ beforeAll(async () => {
   admin = await userAgent(stack, "admin");
   operator = await userAgent(stack, "operator");
   expect((await admin.patch("/api/studio/settings").send(FIRST)).status).toBe(200);
-  const file = path.join(stack.inbox, "two-bookplates.tif");
-  await fs.writeFile(file, await scan());
-  const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
-  expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-  pieces = await waitFor(
-    "the masters",
-    async () => {
-      const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-      return list.length === 2 && list.every((f) => f.renderState === "done") ? list.sort((a, b) => a.position - b.position) : null;
-    },
-    90_000,
-  );
+  ({ fragments: pieces } = await approvedPieces(operator, { name: "two-bookplates.tif", svg: SCAN, pieces: 2, renderTimeoutMs: 90_000 }));
 }, 150_000);
 afterAll(async () => {
   await stack?.stop();

@@ -12,19 +12,18 @@
  */
 import crypto from "node:crypto";
 import fs from "node:fs/promises";
-import path from "node:path";
 import exifr from "exifr";
 import { PDFDocument } from "pdf-lib";
 import sharp from "sharp";
 import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Fragment } from "../shared/schemas/fragments";
+import { approvedPieces } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 
 let stack: Stack;
 let admin: supertest.Agent;
 let operator: supertest.Agent;
-let scanId: string;
 let fragment: Fragment;
 const presetIds = new Map<string, string>();
 
@@ -32,13 +31,10 @@ const CREATOR = "Ines Okafor";
 const COPYRIGHT = "© 2026 Ines Okafor";
 
 /** One piece at 300 DPI: 2 × 1.5 in. */
-async function scan(): Promise<Buffer> {
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="900" height="700">
+const SCAN = `<svg xmlns="http://www.w3.org/2000/svg" width="900" height="700">
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     <rect x="150" y="120" width="600" height="450" fill="#2e7d6b"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
-}
 
 const A6 = { paper: { size: "a6" }, layout: { mode: "margins", top: 8, right: 8, bottom: 14, left: 8 }, printDpi: 150, minDpi: 100 };
 /** The presets of the run, by name: each kind and each way of carrying (or not) the title. */
@@ -105,15 +101,7 @@ beforeAll(async () => {
   admin = await userAgent(stack, "admin");
   operator = await userAgent(stack, "operator");
   expect((await admin.patch("/api/studio/settings").send({ creator: CREATOR, copyright: COPYRIGHT })).status).toBe(200);
-  const file = path.join(stack.inbox, "heron-bed.tif");
-  await fs.writeFile(file, await scan());
-  scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 1 ? true : null), 45_000);
-  expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-  fragment = await waitFor("the master", async () => {
-    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-    return list.length === 1 && list[0]!.renderState === "done" ? list[0] : null;
-  }, 60_000);
+  fragment = (await approvedPieces(operator, { name: "heron-bed.tif", svg: SCAN, compression: "lzw", pieces: 1 })).fragments[0]!;
   for (const [name, settings] of Object.entries(PRESETS)) {
     const res = await operator.post("/api/presets").send({ name, settings: { ...settings, name } });
     expect(res.status, JSON.stringify(res.body)).toBe(201);

@@ -12,6 +12,7 @@ import exifr from "exifr";
 import sharp from "sharp";
 import supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { uploadScan } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import type { Fragment } from "../shared/schemas/fragments";
 
@@ -51,11 +52,7 @@ function withoutPhys(png: Buffer): Buffer {
 }
 
 async function upload(name: string, bytes: Buffer): Promise<string> {
-  const file = path.join(stack.inbox, "..", name);
-  await fs.writeFile(file, bytes);
-  const id = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
-  await waitFor(`the split of ${name}`, async () => ((await operator.get(`/api/scans/${id}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
-  return id;
+  return (await uploadScan(operator, { name, bytes, pieces: 2 })).scanId;
 }
 
 const scanOf = async (id: string) => (await operator.get(`/api/scans/${id}`)).body.scan;

@@ -12,6 +12,7 @@ import exifr from "exifr";
 import sharp from "sharp";
 import supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { uploadScan } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { PresetSummary } from "../shared/schemas/preset-api";
@@ -67,9 +68,9 @@ beforeAll(async () => {
   admin = await userAgent(stack, "admin");
   operator = await userAgent(stack, "operator");
   bedFile = path.join(stack.inbox, "..", "wrong-dpi-pair.tif");
-  await fs.writeFile(bedFile, await wrongDpiBed());
-  scanId = (await operator.post("/api/scans/upload").attach("files", bedFile)).body.results[0].scanId;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
+  const bytes = await wrongDpiBed();
+  await fs.writeFile(bedFile, bytes);
+  ({ scanId } = await uploadScan(operator, { name: path.basename(bedFile), bytes, pieces: 2 }));
   // A mock-up carries no metadata at all (print files carry the rights, as masters do).
   const wall = await operator.post("/api/presets").send({ name: "wall", settings: { kind: "mockup", name: "wall", width: 400, height: 400 } });
   expect(wall.status).toBe(201);

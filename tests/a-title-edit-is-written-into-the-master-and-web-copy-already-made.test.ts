@@ -17,6 +17,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { Storage } from "../server/storage/storage";
 import { rewriteRightsJob } from "../worker/jobs/rights";
+import { approveRemaining, renderedPieces, uploadScan } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 
 let stack: Stack;
@@ -145,36 +146,18 @@ beforeAll(async () => {
     (await admin.patch("/api/studio/settings").send({ creator: CREATOR, copyright: COPYRIGHT }))
       .status,
   ).toBe(200);
-  const file = path.join(stack.inbox, "shore-bed.tif");
-  await fs.writeFile(file, await scan());
-  const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0]
-    .scanId as string;
-  await waitFor(
-    "the split",
-    async () =>
-      (await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 3 ? true : null,
-    45_000,
-  );
-  const first = (
-    (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[]
-  ).sort((a, b) => a.position - b.position);
-  for (const f of first)
+  const { scanId, fragments } = await uploadScan(operator, {
+    name: "shore-bed.tif",
+    bytes: await scan(),
+    pieces: 3,
+  });
+  for (const f of fragments)
     expect(
       (await operator.patch(`/api/fragments/${f.id}`).send({ title: `Shore ${f.position}` }))
         .status,
     ).toBe(200);
-  expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-  pieces = await waitFor(
-    "the masters",
-    async () => {
-      const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body
-        .fragments as Fragment[];
-      return list.length === 3 && list.every((f) => f.renderState === "done")
-        ? list.sort((a, b) => a.position - b.position)
-        : null;
-    },
-    90_000,
-  );
+  await approveRemaining(operator, scanId);
+  pieces = await renderedPieces(operator, scanId, 3, 90_000);
 }, 150_000);
 afterAll(async () => {
   await stack?.stop();

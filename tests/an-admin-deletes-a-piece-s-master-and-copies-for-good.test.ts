@@ -7,7 +7,6 @@
  */
 import crypto from "node:crypto";
 import fs from "node:fs/promises";
-import path from "node:path";
 import sharp from "sharp";
 import { eq } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -15,6 +14,7 @@ import type supertest from "supertest";
 import { batchItems, fragments, outputs, scans } from "../server/db/schema";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { PresetSummary } from "../shared/schemas/preset-api";
+import { approvedPieces, renderedPieces } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 
 let stack: Stack;
@@ -25,33 +25,21 @@ let pieces: Fragment[];
 let batchId: string;
 
 /** Two pieces at 300 DPI (invented test data). */
-async function twoPieces(): Promise<Buffer> {
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1300" height="800">
+const TWO_PIECES = `<svg xmlns="http://www.w3.org/2000/svg" width="1300" height="800">
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     <rect x="100" y="100" width="600" height="450" fill="#1f6f8b"/>
     <rect x="850" y="120" width="300" height="400" fill="#c0392b"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
-}
 
 const sha256 = async (file: string) => crypto.createHash("sha256").update(await fs.readFile(file)).digest("hex");
 const outputsOf = (fragmentId: string) => stack.db.select().from(outputs).where(eq(outputs.fragmentId, fragmentId));
-const rendered = () =>
-  waitFor("the masters", async () => {
-    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-    return list.length === 2 && list.every((f) => f.status === "approved" && f.renderState === "done") ? list : null;
-  }, 60_000);
+const rendered = () => renderedPieces(operator, scanId, 2, 60_000);
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
   admin = await userAgent(stack, "admin");
   operator = await userAgent(stack, "operator");
-  const file = path.join(stack.inbox, "..", "two-pieces-for-deleting.tif");
-  await fs.writeFile(file, await twoPieces());
-  scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId;
-  await waitFor("the split", async () => (await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2, 45_000);
-  await operator.post(`/api/scans/${scanId}/approve-remaining`);
-  pieces = await rendered();
+  ({ scanId, fragments: pieces } = await approvedPieces(operator, { name: "two-pieces-for-deleting.tif", svg: TWO_PIECES, compression: "lzw", pieces: 2 }));
   const presets = (await operator.get("/api/presets")).body.presets as PresetSummary[];
   const web = presets.find((p) => p.name === "web")!;
   const made = await operator.post("/api/batches").send({ name: "Listing", selection: { filter: { scanId } }, presetIds: [web.id] });

@@ -448,7 +448,7 @@ describe("every change a person makes is on the trail, with who, what and before
       const r = await stack.db.select().from(auditEvents).where(eq(auditEvents.action, "library.refile")).orderBy(asc(auditEvents.id));
       return r.length === 2 ? r[1]! : null;
     }, 30_000);
-    expect(filed).toMatchObject({ actorId: ids.admin, summary: "Filed 1 original the database did not know again as new scans" });
+    expect(filed).toMatchObject({ actorId: ids.admin, subjectType: "scan", summary: `Filed an original the database did not know again as filed-again-${sha.slice(0, 12)}.tif` });
   });
 
   it(`${route("studioUpdate")}: an admin changes the studio's settings, with only what changed`, async () => {

@@ -5,6 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import supertest from "supertest";
 import { sql } from "drizzle-orm";
 import pg from "pg";
+import { approvedPieces } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { PresetSummary } from "../shared/schemas/preset-api";
@@ -45,15 +46,7 @@ beforeAll(async () => {
   stack = await startStack({ watcher: false });
   operator = await userAgent(stack, "operator");
   viewer = await userAgent(stack, "viewer");
-  const file = path.join(stack.inbox, "batch-bed.tif");
-  await fs.writeFile(file, await scan());
-  scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
-  await operator.post(`/api/scans/${scanId}/approve-remaining`);
-  await waitFor("the masters", async () => {
-    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-    return list.every((f) => f.renderState === "done") ? list : null;
-  }, 60_000);
+  ({ scanId } = await approvedPieces(operator, { name: "batch-bed.tif", bytes: await scan(), pieces: 2 }));
   presets = (await viewer.get("/api/presets")).body.presets;
 });
 afterAll(async () => {

@@ -7,11 +7,11 @@
 import fs from "node:fs/promises";
 import path from "node:path";
 import exifr from "exifr";
-import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Page } from "playwright-core";
 import type { Fragment } from "../shared/schemas/fragments";
-import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { approvedPieces } from "./helpers/approved-pieces";
+import { startStack, userAgent, type Stack } from "./helpers/stack";
 import { openBrowser, signIn } from "./helpers/browser";
 
 let stack: Stack;
@@ -41,19 +41,7 @@ beforeAll(async () => {
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1000" height="500">
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     <rect x="80" y="80" width="340" height="340" fill="#7d2e4a"/><rect x="560" y="80" width="340" height="340" fill="#2e5a7d"/></svg>`;
-  const file = path.join(stack.inbox, "..", "two-linocuts.tif");
-  await fs.writeFile(file, await sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4 }).toBuffer());
-  const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
-  expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-  pieces = await waitFor(
-    "the masters",
-    async () => {
-      const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-      return list.length === 2 && list.every((f) => f.renderState === "done") ? list : null;
-    },
-    90_000,
-  );
+  ({ fragments: pieces } = await approvedPieces(operator, { name: "two-linocuts.tif", svg, pieces: 2, renderTimeoutMs: 90_000 }));
   browser = await openBrowser();
 }, 150_000);
 afterAll(async () => {

@@ -3,7 +3,8 @@ import path from "node:path";
 import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Page } from "playwright-core";
-import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { approvedPieces, uploadScan } from "./helpers/approved-pieces";
+import { startStack, userAgent, type Stack } from "./helpers/stack";
 import { openBrowser, signedOutPage, signIn } from "./helpers/browser";
 
 let stack: Stack;
@@ -31,21 +32,11 @@ beforeAll(async () => {
   await userAgent(stack, "admin", "admin@test.example");
   // Approved work for the viewer to see: a scan split and both pieces approved.
   const operator = await userAgent(stack, "operator", "operator@test.example");
-  const up = await operator.post("/api/scans/upload").attach("files", await twoPieceScan(), "blue-and-ochre.tif");
-  const scanId = up.body.results[0].scanId as string;
-  await waitFor("the scan to be split", async () => {
-    const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
-    return s.status === "ready" && s.fragments.total === 2;
-  }, 45_000);
-  await operator.post(`/api/scans/${scanId}/approve-remaining`).expect(200);
+  const { scanId } = await approvedPieces(operator, { name: "blue-and-ochre.tif", bytes: await twoPieceScan(), pieces: 2, render: false });
   // And one left unreviewed: its pieces are nothing a viewer should see yet.
-  const waiting = await operator.post("/api/scans/upload").attach("files", await twoPieceScan("#7a3b2e"), "still-to-review.tif");
-  const waitingId = waiting.body.results[0].scanId as string;
-  expect(waitingId).not.toBe(scanId);
-  await waitFor("the second scan to be split", async () => {
-    const s = (await operator.get(`/api/scans/${waitingId}`)).body.scan;
-    return s.status === "ready" && s.fragments.proposed === 2;
-  }, 45_000);
+  const waiting = await uploadScan(operator, { name: "still-to-review.tif", bytes: await twoPieceScan("#7a3b2e"), pieces: 2 });
+  expect(waiting.scanId).not.toBe(scanId);
+  expect(waiting.scan.fragments.proposed).toBe(2);
   browser = await openBrowser();
 });
 afterAll(async () => {

@@ -1,47 +1,32 @@
-import fs from "node:fs/promises";
-import path from "node:path";
-import sharp from "sharp";
 import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import type { Fragment } from "../shared/schemas/fragments";
 import { openBrowser, signIn } from "./helpers/browser";
-import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { approveRemaining, renderedPieces, svgScan, uploadScan } from "./helpers/approved-pieces";
+import { startStack, userAgent, type Stack } from "./helpers/stack";
 
 let stack: Stack;
 let operator: supertest.Agent;
 let browser: Awaited<ReturnType<typeof openBrowser>>;
 
 /** Two pieces on a pale lid at 300 DPI (invented test data). */
-async function twoPieceScan(a: string, b: string): Promise<Buffer> {
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="700">
+function twoPieceScan(a: string, b: string): Promise<Buffer> {
+  return svgScan(`<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="700">
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     <rect x="100" y="100" width="400" height="400" fill="${a}"/>
     <rect x="700" y="150" width="350" height="420" fill="${b}"/>
-  </svg>`;
-  return sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  </svg>`);
 }
 
 /** Starts an intake, files one scan in it, approves its two pieces and names them. */
 async function intakeWithTwoPieces(intake: string, file: string, colours: [string, string], names: { title: string; tags?: string[]; notes?: string }[]) {
   expect((await operator.post("/api/intakes").send({ name: intake })).status).toBe(201);
-  const local = path.join(stack.inbox, file);
-  await fs.writeFile(local, await twoPieceScan(...colours));
-  const up = await operator.post("/api/scans/upload").attach("files", local);
-  const scanId = up.body.results[0].scanId as string;
-  await waitFor(`${file} to be split`, async () => {
-    const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
-    return s.status === "ready" && s.fragments.total === 2 ? s : null;
-  }, 45_000);
-  expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-  const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+  const { scanId } = await uploadScan(operator, { name: file, bytes: await twoPieceScan(...colours), pieces: 2 });
+  const list = await approveRemaining(operator, scanId);
   for (const [i, f] of list.entries()) {
     const res = await operator.patch(`/api/fragments/${f.id}`).send(names[i]!);
     expect(res.status, JSON.stringify(res.body)).toBe(200);
   }
-  await waitFor(`${file}'s pieces to be rendered`, async () => {
-    const now = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-    return now.every((f) => f.renderState === "done") ? true : null;
-  }, 60_000);
+  await renderedPieces(operator, scanId, 2, 60_000);
 }
 
 beforeAll(async () => {

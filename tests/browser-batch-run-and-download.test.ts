@@ -1,11 +1,8 @@
-import fs from "node:fs/promises";
-import path from "node:path";
-import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
-import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { approvedPieces } from "./helpers/approved-pieces";
+import { startStack, userAgent, type Stack } from "./helpers/stack";
 import { openBrowser, signIn } from "./helpers/browser";
-import type { Fragment } from "../shared/schemas/fragments";
 import type { z } from "zod";
 import type { batchDetailResponse, PresetSummary } from "../shared/schemas/preset-api";
 
@@ -14,35 +11,18 @@ type BatchDetail = z.infer<typeof batchDetailResponse>;
 let stack: Stack;
 let operator: supertest.Agent;
 let browser: Awaited<ReturnType<typeof openBrowser>>;
-let scanId: string;
 
 /** Two pieces on a white lid at 300 DPI (invented test data). */
-async function twoPieceScan(): Promise<Buffer> {
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="700">
+const TWO_PIECES = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="700">
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     <rect x="100" y="100" width="400" height="400" fill="#c0392b"/>
     <rect x="700" y="150" width="350" height="420" fill="#1e8449"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
-}
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
   operator = await userAgent(stack, "operator", "operator@test.example");
-  const file = path.join(stack.inbox, "batch-two-pieces.tif");
-  await fs.writeFile(file, await twoPieceScan());
-  const up = await operator.post("/api/scans/upload").attach("files", file);
-  scanId = up.body.results[0].scanId;
-  await waitFor("the scan to be split", async () => {
-    const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
-    return s.status === "ready" && s.fragments.total === 2 ? s : null;
-  }, 45_000);
-  await operator.post(`/api/scans/${scanId}/approve-remaining`);
-  await waitFor("both fragments to be rendered", async () => {
-    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-    if (list.some((f) => f.renderState === "failed")) throw new Error(list.map((f) => f.renderError).join("; "));
-    return list.every((f) => f.renderState === "done") ? list : null;
-  }, 60_000);
+  await approvedPieces(operator, { name: "batch-two-pieces.tif", svg: TWO_PIECES, pieces: 2 });
   browser = await openBrowser();
 }, 150_000);
 afterAll(async () => {

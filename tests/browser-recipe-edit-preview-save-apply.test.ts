@@ -1,18 +1,15 @@
-import fs from "node:fs/promises";
-import path from "node:path";
 import sharp from "sharp";
 import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { openBrowser, signIn } from "./helpers/browser";
-import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { approvedPieces } from "./helpers/approved-pieces";
+import { startStack, userAgent, type Stack } from "./helpers/stack";
 import { outputs } from "../server/db/schema";
-import type { Fragment } from "../shared/schemas/fragments";
 import type { RecipeSummary } from "../shared/schemas/recipe-api";
 
 let stack: Stack;
 let operator: supertest.Agent;
 let browser: Awaited<ReturnType<typeof openBrowser>>;
-let scanId: string;
 
 const PIECES = 3;
 
@@ -30,37 +27,17 @@ async function threePieceScan(): Promise<Buffer> {
     .toBuffer();
 }
 
-const scanFragments = async () =>
-  (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
   operator = await userAgent(stack, "operator", "operator@test.example");
-  const file = path.join(stack.inbox, "three-muted-pieces.tif");
-  await fs.writeFile(file, await threePieceScan());
-  const up = await operator.post("/api/scans/upload").attach("files", file);
-  scanId = up.body.results[0].scanId;
-  await waitFor(
-    "the scan to be split into three pieces",
-    async () => {
-      const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
-      return s.status === "ready" && s.fragments.total === PIECES ? s : null;
-    },
-    60_000,
-  );
-  await operator.post(`/api/scans/${scanId}/approve-remaining`);
   // The first renders (with the studio default) finish before the recipe is edited.
-  await waitFor(
-    "the approved fragments to be rendered once",
-    async () => {
-      const list = await scanFragments();
-      return (
-        list.length === PIECES &&
-        list.every((f) => f.status === "approved" && f.renderState === "done")
-      );
-    },
-    90_000,
-  );
+  await approvedPieces(operator, {
+    name: "three-muted-pieces.tif",
+    bytes: await threePieceScan(),
+    pieces: PIECES,
+    splitTimeoutMs: 60_000,
+    renderTimeoutMs: 90_000,
+  });
   browser = await openBrowser();
 });
 afterAll(async () => {

@@ -12,11 +12,11 @@
  */
 import fs from "node:fs/promises";
 import path from "node:path";
-import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
 import type { Page } from "playwright-core";
-import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { approveRemaining, svgScan, uploadScan } from "./helpers/approved-pieces";
+import { startStack, userAgent, type Stack } from "./helpers/stack";
 import { openBrowser, signedOutPage, signIn } from "./helpers/browser";
 import type { Fragment } from "../shared/schemas/fragments";
 
@@ -26,34 +26,15 @@ let browser: Awaited<ReturnType<typeof openBrowser>>;
 const scanIds: Record<string, string> = {};
 
 /** Pieces on a pale lid at 300 DPI; each rect is [x, y, w, h, colour]. */
-async function scanOf(
-  width: number,
-  height: number,
-  rects: Array<[number, number, number, number, string]>,
-) {
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}">
+function scanOf(width: number, height: number, rects: Array<[number, number, number, number, string]>) {
+  return svgScan(`<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}">
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     ${rects.map(([x, y, w, h, c]) => `<rect x="${x}" y="${y}" width="${w}" height="${h}" fill="${c}"/>`).join("")}
-  </svg>`;
-  return sharp(Buffer.from(svg))
-    .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
-    .toBuffer();
+  </svg>`);
 }
 
 async function upload(name: string, bytes: Buffer, pieces: number) {
-  const file = path.join(stack.inbox, "..", name);
-  await fs.writeFile(file, bytes);
-  const id = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0]
-    .scanId as string;
-  await waitFor(
-    `${name} to be split`,
-    async () => {
-      const s = (await operator.get(`/api/scans/${id}`)).body.scan;
-      return s.status === "ready" && s.fragments.total === pieces;
-    },
-    45_000,
-  );
-  return id;
+  return (await uploadScan(operator, { name, bytes, pieces })).scanId;
 }
 
 /** Screenshots for a person to look at, when PLATEN_SHOTS_DIR names a folder for them. */
@@ -91,8 +72,7 @@ beforeAll(async () => {
     await scanOf(2400, 1600, [[120, 120, 900, 1300, "#16a085"]]),
     1,
   );
-  for (const id of [scanIds.a, scanIds.b])
-    expect((await operator.post(`/api/scans/${id}/approve-remaining`)).status).toBe(200);
+  for (const id of [scanIds.a, scanIds.b]) await approveRemaining(operator, id);
   browser = await openBrowser();
 }, 180_000);
 afterAll(async () => {

@@ -17,6 +17,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
 import { eq } from "drizzle-orm";
 import { killProcesses, spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { approveRemaining, renderedPieces, waitForSplit } from "./helpers/approved-pieces";
 import { pieceBed } from "./helpers/fixtures";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { RecipeInput } from "../shared/schemas/recipes";
@@ -75,12 +76,7 @@ async function fragmentsOf(scanId: string): Promise<Fragment[]> {
   return (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
 }
 
-async function waitAllDone(scanId: string, n: number): Promise<Fragment[]> {
-  return waitFor(`the ${n} fragments of the scan to be rendered`, async () => {
-    const list = await fragmentsOf(scanId);
-    return list.length === n && list.every((f) => f.renderState === "done") ? list : null;
-  }, 90_000);
-}
+const waitAllDone = (scanId: string, n: number) => renderedPieces(operator, scanId, n, 90_000);
 
 /** The render jobs of these fragments, as pg-boss records them. */
 async function renderJobs(ids: string[]) {
@@ -143,9 +139,7 @@ beforeAll(async () => {
   const res = await upload;
   expect(res.status, JSON.stringify(res.body)).toBe(201);
   scanIds = (res.body.results as { scanId: string }[]).map((r) => r.scanId);
-  for (const [i, id] of scanIds.entries()) {
-    await waitFor(`scan ${i + 1} to be split`, async () => ((await operator.get(`/api/scans/${id}`)).body.scan.fragments?.total === PIECES[i] ? true : null), 90_000);
-  }
+  for (const [i, id] of scanIds.entries()) await waitForSplit(operator, id, PIECES[i]!, 90_000);
 }, 150_000);
 
 afterAll(async () => {
@@ -162,7 +156,7 @@ describe("fragments approved together, one worker", () => {
     const [row] = await stack.db.select({ sha256: scans.sha256 }).from(scans).where(eq(scans.id, scanId));
     const copy = path.join(path.dirname(stack.env.PLATEN_DATA_DIR!), worker.name, "decoded", `${row!.sha256}.1.v`);
     expect(fs.existsSync(copy), "the split's decoded copy").toBe(true);
-    expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
+    await approveRemaining(operator, scanId);
     const list = await waitAllDone(scanId, PIECES[0]!);
     const ids = list.map((f) => f.id);
 
@@ -206,7 +200,7 @@ describe("fragments approved together, two worker processes", () => {
     }, 60_000);
     for (const c of children) c.decodes.clear();
     const scanId = scanIds[1]!;
-    expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
+    await approveRemaining(operator, scanId);
     const list = await waitAllDone(scanId, PIECES[1]!);
     const ids = list.map((f) => f.id);
     await expectOutputsAsSingleRender(list);
@@ -272,7 +266,7 @@ describe("the render job's group, driven step by step", () => {
 
   it("(e) fragments edited while the group renders end with outputs of their newest revision; a sibling's job waits for the group", async () => {
     const scanId = scanIds[2]!;
-    expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
+    await approveRemaining(operator, scanId);
     const list = (await fragmentsOf(scanId)).sort((a, b) => a.position - b.position);
     const [first, second, , fourth, fifth] = list as [Fragment, Fragment, Fragment, Fragment, Fragment];
     let siblingJob: Promise<void> | undefined;
@@ -322,7 +316,7 @@ describe("the render job's group, driven step by step", () => {
     // A rectangle far off the scan: the render refuses it (bad geometry), whoever renders it.
     const [b] = await stack.db.select().from(fragments).where(eq(fragments.id, bad.id));
     await stack.db.update(fragments).set({ box: { ...b!.box, x: b!.box.x + 100_000 } }).where(eq(fragments.id, bad.id));
-    expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
+    await approveRemaining(operator, scanId);
     await run(list[0]!.id, list[0]!.revision);
     for (const f of list.filter((f) => f.id !== bad.id)) expect((await row(f.id)).renderState, `fragment ${f.position}`).toBe("done");
     const back = await row(bad.id);
@@ -337,7 +331,7 @@ describe("the render job's group, driven step by step", () => {
 
   it("a claim left by a worker that died is taken over once it is older than the queue's expiry", async () => {
     const scanId = scanIds[4]!;
-    expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
+    await approveRemaining(operator, scanId);
     const list = (await fragmentsOf(scanId)).sort((a, b) => a.position - b.position);
     const dead = randomUUID();
     const old = new Date(Date.now() - (stack.cfg.jobExpireSeconds + 60) * 1000);
@@ -352,7 +346,7 @@ describe("the render job's group, driven step by step", () => {
 
   it("a fragment given another recipe, or taken over by another job, while the group renders it is not stored by the group", async () => {
     const scanId = scanIds[5]!;
-    expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
+    await approveRemaining(operator, scanId);
     const list = (await fragmentsOf(scanId)).sort((a, b) => a.position - b.position);
     const [first, second, third, fourth] = list as [Fragment, Fragment, Fragment, Fragment];
     const created = await operator.post("/api/recipes").send({ name: "Muted for the group", steps: [{ type: "saturation", saturation: -0.6 }] });

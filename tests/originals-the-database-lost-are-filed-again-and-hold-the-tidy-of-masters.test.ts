@@ -14,7 +14,7 @@ import { pieceBed, sha256 } from "./helpers/fixtures";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { LibraryOverview } from "../shared/schemas/library";
-import { refileOriginals, REFILE_GRACE_MS, unknownOriginals } from "../server/services/library-refile";
+import { refileOriginal, REFILE_GRACE_MS, unknownOriginals } from "../server/services/library-refile";
 import { logger } from "../server/logger";
 
 let stack: Stack;
@@ -105,12 +105,12 @@ describe("originals the database does not know", () => {
     expect(sha256(await fs.readFile(file))).toBe(sha256(lost.bytes));
     expect((await fs.stat(file)).mtimeMs).toBe(lost.mtimeMs);
     // The trail: the admin's ask and what the job filed, both under the admin's name.
-    const { rows } = await stack.database.pool.query<{ summary: string; actor_email: string }>(
-      `select summary, actor_email from audit_events where action = 'library.refile' order by id`,
+    const { rows } = await stack.database.pool.query<{ summary: string; actor_email: string; subject_type: string; subject_id: string | null }>(
+      `select summary, actor_email, subject_type, subject_id from audit_events where action = 'library.refile' order by id`,
     );
     expect(rows.map((r) => r.actor_email)).toEqual(["admin@test.example", "admin@test.example"]);
-    expect(rows[0]!.summary).toBe("Asked for the original the database did not know to be filed again as new scans");
-    expect(rows[1]!.summary).toBe("Filed 1 original the database did not know again as new scans");
+    expect(rows[0]).toMatchObject({ subject_type: "studio", summary: "Asked for the original the database did not know to be filed again as new scans" });
+    expect(rows[1]).toMatchObject({ subject_type: "scan", subject_id: scan.id, summary: `Filed an original the database did not know again as ${scan.originalName}` });
   });
 
   it("once filed again, leave the tidy free to go on, and there is nothing more to file", async () => {
@@ -134,20 +134,20 @@ describe("originals the database does not know", () => {
     await fs.mkdir(path.dirname(stack.libraryPath(youngKey)), { recursive: true });
     await fs.writeFile(stack.libraryPath(youngKey), youngBytes);
     const before = sha256(await fs.readFile(stack.libraryPath(damagedKey)));
-    const report = await refileOriginals(
-      { database: stack.database, boss: stack.boss, library: stack.library, log: logger },
-      { id: null, email: null },
-    );
-    expect(report).toMatchObject({ filed: [], damaged: [damagedKey], tooYoung: 1, failed: [] });
+    const deps = { database: stack.database, boss: stack.boss, library: stack.library, log: logger };
+    const admin = { id: null, email: "admin@test.example" };
+    expect((await unknownOriginals(stack.db, stack.library)).sort()).toEqual([damagedKey, youngKey].sort());
+    expect(await refileOriginal(deps, damagedKey, admin)).toEqual({ outcome: "damaged" });
+    expect(await refileOriginal(deps, youngKey, admin)).toEqual({ outcome: "too-young" });
     expect(sha256(await fs.readFile(stack.libraryPath(damagedKey)))).toBe(before);
     expect((await unknownOriginals(stack.db, stack.library)).sort()).toEqual([damagedKey, youngKey].sort());
-    // Past the grace period the young one is filed.
-    const later = await refileOriginals(
-      { database: stack.database, boss: stack.boss, library: stack.library, log: logger },
-      { id: null, email: null },
-      { now: new Date(Date.now() + REFILE_GRACE_MS + 1000) },
-    );
-    expect(later.filed.map((f) => f.key)).toEqual([youngKey]);
-    expect(later.damaged).toEqual([damagedKey]);
+    const { rows } = await stack.database.pool.query<{ summary: string }>(`select summary from audit_events where action = 'library.refile' order by id desc limit 1`);
+    expect(rows[0]!.summary).toBe(`Left an original as it is: its bytes no longer match the checksum its name gives (${damagedKey})`);
+    // Past the grace period the young one is filed; asked again, a known one is left alone.
+    const later = await refileOriginal(deps, youngKey, admin, { now: new Date(Date.now() + REFILE_GRACE_MS + 1000) });
+    expect(later.outcome).toBe("filed");
+    expect(await refileOriginal(deps, youngKey, admin, { now: new Date(Date.now() + REFILE_GRACE_MS + 1000) })).toEqual({ outcome: "known" });
+    expect(await unknownOriginals(stack.db, stack.library)).toEqual([damagedKey]);
+    expect(await refileOriginal(deps, "originals/cd/gone.tif", admin)).toEqual({ outcome: "missing" });
   });
 });

@@ -1,9 +1,9 @@
-import fs from "node:fs/promises";
 import path from "node:path";
 import sharp from "sharp";
 import { eq, sql } from "drizzle-orm";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import supertest from "supertest";
+import { approvedPieces } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { outputs, fragments as fragmentsTable } from "../server/db/schema";
 import type { Fragment } from "../shared/schemas/fragments";
@@ -51,16 +51,9 @@ async function meanChroma(key: string) {
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
   operator = await userAgent(stack, "operator");
-  const file = path.join(stack.inbox, "two-pieces.tif");
-  await fs.writeFile(file, await twoPieceScan());
-  const up = await operator.post("/api/scans/upload").attach("files", file);
-  scanId = up.body.results[0].scanId;
-  const scan = await waitFor("the scan to be split", async () => {
-    const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
-    return s.status === "ready" && s.fragments.total === 2 ? s : null;
-  }, 45_000);
-  intakeId = scan.intake.id;
-  await operator.post(`/api/scans/${scanId}/approve-remaining`);
+  const approved = await approvedPieces(operator, { name: "two-pieces.tif", bytes: await twoPieceScan(), pieces: 2, render: false });
+  scanId = approved.scanId;
+  intakeId = approved.scan.intake.id;
 });
 afterAll(async () => {
   await stack?.stop();

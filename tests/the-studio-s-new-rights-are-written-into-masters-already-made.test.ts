@@ -6,14 +6,13 @@
  * Copyright (33432) fields; pixels by SHA-256 of sharp's raw samples. Names are invented.
  */
 import crypto from "node:crypto";
-import fs from "node:fs/promises";
-import path from "node:path";
 import exifr from "exifr";
 import sharp from "sharp";
 import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { MastersRights } from "../shared/schemas/studio";
+import { approveRemaining, renderedPieces, uploadScan } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 
 let stack: Stack;
@@ -26,17 +25,12 @@ const FIRST = { creator: "Oksana Brill", copyright: "© 2026 Oksana Brill" };
 const SECOND = { creator: "Brill & Moreau Studio", copyright: "© 2026 Brill & Moreau" };
 
 /** Three pieces at 300 DPI on a pale bed (invented test data). */
-async function scan(): Promise<Buffer> {
-  const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="500">
+const SCAN = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="500">
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     <rect x="60" y="80" width="300" height="320" fill="#6b2e7d"/>
     <rect x="450" y="80" width="300" height="320" fill="#35508a"/>
     <rect x="840" y="80" width="300" height="320" fill="#8a7a35"/>
   </svg>`;
-  return sharp(Buffer.from(svg))
-    .tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
-    .toBuffer();
-}
 
 interface Row {
   kind: "master" | "web";
@@ -107,21 +101,10 @@ beforeAll(async () => {
   operator = await userAgent(stack, "operator");
   viewer = await userAgent(stack, "viewer");
   expect((await admin.patch("/api/studio/settings").send(FIRST)).status).toBe(200);
-  const file = path.join(stack.inbox, "three-prints.tif");
-  await fs.writeFile(file, await scan());
-  const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 3 ? true : null), 45_000);
-  const listed = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-  for (const f of listed) expect((await operator.patch(`/api/fragments/${f.id}`).send({ title: `Print ${f.position}` })).status).toBe(200);
-  expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-  pieces = await waitFor(
-    "the masters",
-    async () => {
-      const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-      return list.length === 3 && list.every((f) => f.renderState === "done") ? list.sort((a, b) => a.position - b.position) : null;
-    },
-    90_000,
-  );
+  const { scanId, fragments } = await uploadScan(operator, { name: "three-prints.tif", svg: SCAN, compression: "lzw", pieces: 3 });
+  for (const f of fragments) expect((await operator.patch(`/api/fragments/${f.id}`).send({ title: `Print ${f.position}` })).status).toBe(200);
+  await approveRemaining(operator, scanId);
+  pieces = await renderedPieces(operator, scanId, 3, 90_000);
 }, 150_000);
 afterAll(async () => {
   await stack?.stop();

@@ -15,6 +15,7 @@ import exifr from "exifr";
 import sharp from "sharp";
 import supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { uploadScan } from "./helpers/approved-pieces";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { PresetSummary } from "../shared/schemas/preset-api";
@@ -75,9 +76,9 @@ beforeAll(async () => {
   operator = await userAgent(stack, "operator");
   viewer = await userAgent(stack, "viewer");
   bedFile = path.join(stack.inbox, "wrong-dpi-bed.tif");
-  await fs.writeFile(bedFile, await wrongDpiBed());
-  scanId = (await operator.post("/api/scans/upload").attach("files", bedFile)).body.results[0].scanId;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
+  const bytes = await wrongDpiBed();
+  await fs.writeFile(bedFile, bytes);
+  ({ scanId } = await uploadScan(operator, { name: path.basename(bedFile), bytes, pieces: 2 }));
 });
 afterAll(async () => {
   await stack?.stop();

@@ -7,6 +7,7 @@ import type supertest from "supertest";
 import { cpuShares, formatCpuList } from "../shared/cpu-list";
 import { allowedCpus, threadCpus } from "../worker/cpu-affinity";
 import { killProcesses, spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
+import { approveRemaining, renderedPieces, waitForSplit } from "./helpers/approved-pieces";
 import { pieceBed as bed } from "./helpers/fixtures";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { PresetSummary } from "../shared/schemas/preset-api";
@@ -93,16 +94,11 @@ describe("two worker processes on one database", () => {
     expect(scanIds).toHaveLength(SCANS);
 
     for (const [i, id] of scanIds.entries()) {
-      await waitFor(`scan ${i + 1} to be split`, async () => ((await operator.get(`/api/scans/${id}`)).body.scan.fragments.total === PIECES[i] ? true : null), 90_000);
-      expect((await operator.post(`/api/scans/${id}/approve-remaining`)).status).toBe(200);
+      await waitForSplit(operator, id, PIECES[i]!, 90_000);
+      await approveRemaining(operator, id);
     }
     const all: Fragment[] = [];
-    for (const id of scanIds) {
-      all.push(...(await waitFor("the masters", async () => {
-        const list = (await operator.get(`/api/scans/${id}/fragments`)).body.fragments as Fragment[];
-        return list.every((f) => f.renderState === "done") ? list : null;
-      }, 90_000)));
-    }
+    for (const [i, id] of scanIds.entries()) all.push(...(await renderedPieces(operator, id, PIECES[i]!, 90_000)));
     const total = PIECES.reduce((a, b) => a + b, 0);
     expect(all).toHaveLength(total);
 

@@ -19,7 +19,7 @@ export const QUEUES = {
   rights: "fragment-rights",
   /** Removes library files nothing names any more (once a day, by whichever worker asks first). */
   libraryTidy: "library-tidy",
-  /** Files the library's originals no scan names again as new scans (an admin asks). */
+  /** Files one original no scan names again as a new scan (an admin asks, for each such original). */
   libraryRefile: "library-refile",
 } as const;
 
@@ -84,10 +84,12 @@ export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Om
       retryLimit: 0,
       expireInSeconds: cfg.jobExpireSeconds,
     },
-    // One at a time (a second asked while one runs waits its turn, and finds what is left).
+    // One job per original, by its key (singletonKey): one waiting and one running at most.
     [QUEUES.libraryRefile]: {
       policy: "stately",
-      retryLimit: 0,
+      retryLimit: cfg.jobRetryLimit,
+      retryDelay: 5,
+      retryBackoff: true,
       expireInSeconds: cfg.jobExpireSeconds,
     },
     [QUEUES.rights]: {

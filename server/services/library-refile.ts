@@ -30,70 +30,73 @@ export async function unknownOriginals(db: Db, library: Storage): Promise<string
   return keys.filter((k) => !named.has(k));
 }
 
-export interface RefileReport {
-  /** New scans filed from the library's originals. */
-  filed: { key: string; scanId: string }[];
-  /** Originals whose bytes no longer match the checksum their key names: left as they are. */
-  damaged: string[];
-  /** Too young to tell from a filing under way (REFILE_GRACE_MS). */
-  tooYoung: number;
-  /** Could not be read or filed now, with why. */
-  failed: { key: string; message: string }[];
-}
+/** What became of one original asked to be filed again. */
+export type RefileOutcome =
+  | { outcome: "filed"; scanId: string }
+  /** Its bytes no longer hash to the checksum its key names: left as it is. */
+  | { outcome: "damaged" }
+  /** Too young to tell from a filing under way (REFILE_GRACE_MS): left for now. */
+  | { outcome: "too-young" }
+  /** A scan names it by now (filed meanwhile), or it is gone: nothing to do. */
+  | { outcome: "known" | "missing" };
 
 /**
- * Files again, as new scans of the current intake, every original the database does not know:
- * each is checked against the checksum its key names first (a damaged one is left as it is and
- * said), then goes through the one way a file enters Platen (`intakeFile`), which finds its
- * content already in the library under the same key and writes nothing there. The original is
- * never moved or changed. One audit row says what was filed, by whom.
+ * Files one original the database does not know again, as a new scan of the current intake: it
+ * is checked against the checksum its key names first (a damaged one is left as it is), then goes
+ * through the one way a file enters Platen (`intakeFile`), which finds its content already in the
+ * library under the same key and writes nothing there. The original is never moved or changed.
+ * What was filed (or found damaged) goes on the audit trail under the admin who asked.
  */
-export async function refileOriginals(
+export async function refileOriginal(
   deps: Omit<IntakeDeps, "removeFile">,
+  key: string,
   actor: AuditActor,
   opts: { now?: Date } = {},
-): Promise<RefileReport> {
-  const db = deps.database.db;
+): Promise<RefileOutcome> {
   const { library, log } = deps;
-  const now = (opts.now ?? new Date()).getTime();
-  const report: RefileReport = { filed: [], damaged: [], tooYoung: 0, failed: [] };
-  for (const key of await unknownOriginals(db, library)) {
-    const sha = originalKeySha(key);
-    try {
-      const stat = await library.stat(key);
-      const modified = stat.modified.getTime();
-      if (!(modified > 0) || now - modified < REFILE_GRACE_MS) {
-        report.tooYoung++;
-        continue;
-      }
-      if (!sha || (await library.checksum(key)) !== sha) {
-        report.damaged.push(key);
-        log.warn({ key }, "refile: the original's bytes do not match the checksum its key names; left as it is");
-        continue;
-      }
-      const name = `filed-again-${sha.slice(0, 12)}${path.posix.extname(key)}`;
-      const r = await library.withLocalFile(key, (file) =>
-        intakeFile(deps, { path: file, originalName: name, source: "library", uploadedBy: actor.id, removeSource: false }),
-      );
-      report.filed.push({ key, scanId: r.scanId });
-      log.info({ key, scanId: r.scanId }, "refile: an original the database did not know was filed again");
-    } catch (err) {
-      if (isStorageError(err, "missing")) continue; // gone since the listing: nothing to file
-      report.failed.push({ key, message: (err as Error).message });
-      log.warn({ err, key }, "refile: an original could not be filed again now");
-    }
+  const db = deps.database.db;
+  const { rows } = await db.execute(sql`select 1 from scans where original_key = ${key} limit 1`);
+  if (rows.length) return { outcome: "known" };
+  let stat;
+  try {
+    stat = await library.stat(key);
+  } catch (err) {
+    if (isStorageError(err, "missing")) return { outcome: "missing" };
+    throw err;
   }
-  if (report.filed.length || report.damaged.length || report.failed.length)
+  const modified = stat.modified.getTime();
+  if (!(modified > 0) || (opts.now ?? new Date()).getTime() - modified < REFILE_GRACE_MS) return { outcome: "too-young" };
+  const sha = originalKeySha(key);
+  if (!sha || (await library.checksum(key)) !== sha) {
+    log.warn({ key }, "refile: the original's bytes do not match the checksum its key names; left as it is");
     await recordAudit(
       db,
       {
         action: "library.refile",
         subjectType: "studio",
         subjectId: null,
-        summary: `Filed ${report.filed.length} ${report.filed.length === 1 ? "original" : "originals"} the database did not know again as new scans${report.damaged.length ? `; ${report.damaged.length} damaged left as they are` : ""}${report.failed.length ? `; ${report.failed.length} could not be filed now` : ""}`,
-        after: { filed: report.filed, damaged: report.damaged, failed: report.failed },
+        summary: `Left an original as it is: its bytes no longer match the checksum its name gives (${key})`,
+        after: { key, outcome: "damaged" },
       },
       { actor },
     );
-  return report;
+    return { outcome: "damaged" };
+  }
+  const name = `filed-again-${sha.slice(0, 12)}${path.posix.extname(key)}`;
+  const r = await library.withLocalFile(key, (file) =>
+    intakeFile(deps, { path: file, originalName: name, source: "library", uploadedBy: actor.id, removeSource: false }),
+  );
+  await recordAudit(
+    db,
+    {
+      action: "library.refile",
+      subjectType: "scan",
+      subjectId: r.scanId,
+      summary: `Filed an original the database did not know again as ${name}`,
+      after: { key, outcome: "filed", scanId: r.scanId },
+    },
+    { actor },
+  );
+  log.info({ key, scanId: r.scanId }, "refile: an original the database did not know was filed again");
+  return { outcome: "filed", scanId: r.scanId };
 }

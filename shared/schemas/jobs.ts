@@ -30,8 +30,8 @@ export type RightsPayload = z.input<typeof rightsPayload>;
 /** Payload of the output job: make one batch item (a fragment × a preset version). */
 export const outputPayload = z.object({ batchItemId: z.uuid() });
 
-/** Payload of the refile job: the admin who asked for the library's unknown originals to be filed again. */
-export const refilePayload = z.object({ actorId: z.uuid(), actorEmail: z.string() });
+/** Payload of the refile job: one original no scan names, and the admin who asked for it to be filed again. */
+export const refilePayload = z.object({ key: z.string().startsWith("originals/"), actorId: z.uuid(), actorEmail: z.string() });
 
 /** Payload of the off-site copy and re-check jobs: one master (its outputs row). */
 export const offsitePayload = z.object({ outputId: z.uuid() });

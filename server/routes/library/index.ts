@@ -66,9 +66,11 @@ export function libraryRouter(deps: AppDeps): Router {
   handle(router, API.libraryRefile, async ({ user, res }) => {
     const unknown = await unknownOriginals(db, deps.library);
     if (unknown.length === 0) throw conflict("The database knows every original in the library: there is nothing to file again.");
-    // One job at a time (a stately queue): asked again while one waits, the one waiting does it.
+    // One job per original (a stately queue keyed by it): asked again while one waits, that one
+    // does it; each finds its original named by then if another filed it first.
     await withTx(deps.database, deps.boss, async (tx) => {
-      await tx.send(QUEUES.libraryRefile, { actorId: user.id, actorEmail: user.email });
+      for (const key of unknown)
+        await tx.send(QUEUES.libraryRefile, { key, actorId: user.id, actorEmail: user.email }, { singletonKey: key });
       await recordAudit(tx, {
         action: "library.refile",
         subjectType: "studio",
