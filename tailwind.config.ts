@@ -20,7 +20,7 @@ export default {
         ink: {
           DEFAULT: "#2b2823",
           soft: "#55504a",
-          muted: "#7a736a",
+          muted: "#706960",
           faint: "#a39b8f",
         },
         accent: {

@@ -5,6 +5,7 @@ import { paths } from "../../config/paths";
 import { useBatchReport } from "../../features/batches/api/get-batch-report";
 import { usePresetChoices } from "../../features/batches/api/get-preset-choices";
 import { BatchReport } from "../../features/batches/components/batch-report";
+import { isMissing, NotFoundRoute } from "./not-found";
 
 export function BatchRoute() {
   const { id = "" } = useParams();
@@ -17,7 +18,18 @@ export function BatchRoute() {
       </p>
     );
   }
-  if (report.isError && !report.data) return <LoadError error={report.error} onRetry={() => void report.refetch()} />;
+  if (report.isError && !report.data) {
+    if (isMissing(report.error)) {
+      return (
+        <NotFoundRoute
+          title="No batch at this address"
+          message="It may never have existed, or the link was copied incompletely."
+          back={{ to: paths.batches, label: "Back to the batches" }}
+        />
+      );
+    }
+    return <LoadError error={report.error} onRetry={() => void report.refetch()} />;
+  }
   return (
     <>
       <title>{`${report.data.batch.name} · Batches · Platen`}</title>

@@ -38,7 +38,11 @@ export function BatchesRoute() {
           </div>
         ) : batches.data.length === 0 ? (
           <div className="px-5 py-4">
-            <EmptyNote>No batch yet.</EmptyNote>
+            <EmptyNote>
+              {canRun
+                ? "No batch yet. New batch makes copies of approved fragments with the presets you pick: web images, print files, mock-ups."
+                : "No batch yet. The copies an operator makes in a batch appear here to download."}
+            </EmptyNote>
           </div>
         ) : (
           <BatchesTable batches={batches.data} />

@@ -1,5 +1,14 @@
 import { Link } from "react-router-dom";
 import { paths } from "../../config/paths";
+import { ApiError } from "../../lib/api-client";
+
+/**
+ * Whether a failed load means the address names nothing: the record is gone (404) or the id in it
+ * is malformed (400). Trying again cannot help, so the page says so instead of offering a retry.
+ */
+export function isMissing(error: unknown): boolean {
+  return error instanceof ApiError && (error.status === 404 || error.status === 400);
+}
 
 export function NotFoundRoute({
   title = "No page at this address",

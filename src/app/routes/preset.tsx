@@ -11,7 +11,17 @@ import { NotAllowed } from "../../components/not-allowed";
 import { LoadError } from "../../components/notice";
 import { usePreset } from "../../features/presets/api/get-preset";
 import { PresetEditor } from "../../features/presets/components/preset-editor";
+import { paths } from "../../config/paths";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
+import { isMissing, NotFoundRoute } from "./not-found";
+
+const presetMissing = (
+  <NotFoundRoute
+    title="No preset at this address"
+    message="It may never have existed, or the link was copied incompletely."
+    back={{ to: paths.presets, label: "Back to the presets" }}
+  />
+);
 
 /** Where a new preset of each kind starts: the built-in ones, or the schema's defaults. */
 function startFor(kind: PresetKind): Preset {
@@ -45,7 +55,10 @@ function PresetPage({ id }: { id: string }) {
       </p>
     );
   }
-  if (preset.isError) return <LoadError error={preset.error} onRetry={() => void preset.refetch()} />;
+  if (preset.isError) {
+    if (isMissing(preset.error)) return presetMissing;
+    return <LoadError error={preset.error} onRetry={() => void preset.refetch()} />;
+  }
   return (
     <>
       <title>{`${preset.data.preset.name} · Presets · Platen`}</title>
@@ -73,7 +86,10 @@ function CopyPreset({ id }: { id: string }) {
       </p>
     );
   }
-  if (preset.isError) return <LoadError error={preset.error} onRetry={() => void preset.refetch()} />;
+  if (preset.isError) {
+    if (isMissing(preset.error)) return presetMissing;
+    return <LoadError error={preset.error} onRetry={() => void preset.refetch()} />;
+  }
   const settings = preset.data.preset.settings;
   return (
     <>

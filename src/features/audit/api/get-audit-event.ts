@@ -19,7 +19,9 @@ export const auditEventQueryOptions = (id: number) =>
     queryFn: ({ signal }) => getAuditEvent(id, signal),
     // Events never change: once loaded, one is good for the whole visit.
     staleTime: Infinity,
-    retry: (count, error) => !("status" in error && error.status === 404) && count < 2,
+    // A missing record (404) or a malformed id (400) will not appear on a second try.
+    retry: (count, error) =>
+      !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
   });
 
 export function useAuditEvent(id: number | undefined) {

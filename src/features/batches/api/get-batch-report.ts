@@ -18,7 +18,8 @@ export const batchReportQueryOptions = (id: string) =>
     queryKey: batchKeys.report(id),
     queryFn: ({ signal }) => getBatchReport(id, signal),
     refetchInterval: (query) => (query.state.data && query.state.data.batch.finishedAt ? false : 1500),
-    retry: (count, error) => !("status" in error && error.status === 404) && count < 2,
+    // A missing record (404) or a malformed id (400) will not appear on a second try.
+    retry: (count, error) => !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
   });
 
 export function useBatchReport(id: string) {

@@ -181,11 +181,13 @@ export function OutputsTable({
                         </span>
                       )}
                       <span className="font-medium text-ink">
+                        {/* In a narrow column the position stays beside the end of the name
+                            instead of falling alone onto a line of its own. */}
                         {fragmentLabel({
                           title: o.fragmentTitle,
                           position: o.position,
                           scanName: o.scanName,
-                        })}
+                        }).replace(/ · (\d+)$/, "\u00a0·\u00a0$1")}
                       </span>
                     </span>
                   </td>

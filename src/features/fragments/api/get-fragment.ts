@@ -17,7 +17,8 @@ export const fragmentQueryOptions = (id: string) =>
   queryOptions({
     queryKey: fragmentKeys.detail(id),
     queryFn: ({ signal }) => getFragment(id, signal),
-    retry: (count, error) => !("status" in error && error.status === 404) && count < 2,
+    // A missing record (404) or a malformed id (400) will not appear on a second try.
+    retry: (count, error) => !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
   });
 
 export function useFragment(id: string) {

@@ -15,7 +15,9 @@ export const presetQueryOptions = (id: string) =>
   queryOptions({
     queryKey: presetKeys.detail(id),
     queryFn: ({ signal }) => getPreset(id, signal),
-    retry: (count, error) => !("status" in error && error.status === 404) && count < 2,
+    // A missing record (404) or a malformed id (400) will not appear on a second try.
+    retry: (count, error) =>
+      !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
   });
 
 export function usePreset(id: string) {

@@ -40,6 +40,19 @@ const fragmentName = (f: { title: string | null; scanName: string; position: num
   f.title?.trim() || `${f.scanName.replace(/\.[^.]+$/, "")} · ${f.position}`;
 
 /**
+ * The same name for the narrow "Try on" list: a select cuts its text at the right edge, which
+ * would hide the end of a long scan name and the position that tell a session's pieces apart, so
+ * a long name is cut in its middle instead.
+ */
+const shortFragmentName = (f: { title: string | null; scanName: string; position: number }, max = 22) => {
+  const full = fragmentName(f);
+  if (full.length <= max) return full;
+  const keep = max - 1;
+  const tail = Math.ceil(keep / 2);
+  return `${full.slice(0, keep - tail).trimEnd()}…${full.slice(full.length - tail).trimStart()}`;
+};
+
+/**
  * One preset's settings, with a picture of what it makes beside them: the page drawn to scale for
  * print, the box for web, the framed wall for mock-ups, tried on an approved fragment. Saving new
  * settings makes a new version; a new preset opens here once saved.
@@ -229,14 +242,14 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
                 <SelectField
                   label={<span className="sr-only">Try on</span>}
                   value={chosen?.id ?? "invented"}
-                  title="The piece the preset is tried on"
+                  title={chosen ? `The piece the preset is tried on: ${fragmentName(chosen)}` : "The piece the preset is tried on"}
                   onChange={(e) => setSampleId(e.target.value)}
                   fieldClassName="w-56 min-w-[7.5rem] shrink"
                   className="h-8 text-xs"
                 >
                   {sampleList.map((f) => (
                     <option key={f.id} value={f.id}>
-                      {fragmentName(f)}
+                      {shortFragmentName(f)}
                     </option>
                   ))}
                   <option value="invented">an invented 5 × 7 in piece</option>

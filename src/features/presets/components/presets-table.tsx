@@ -27,7 +27,11 @@ export function PresetsByKind({ presets, canEdit }: { presets: PresetSummary[]; 
           >
             {list.length === 0 ? (
               <div className="px-5 py-3">
-                <EmptyNote>No {KIND_LABELS[kind].toLowerCase()} preset yet.</EmptyNote>
+                <EmptyNote>
+                  No {KIND_LABELS[kind].toLowerCase()} preset yet.
+                  {kind === "master" &&
+                    " Every approved piece gets its archival TIFF master anyway; a master preset makes another archival file (a PNG, another bit depth) in a batch."}
+                </EmptyNote>
               </div>
             ) : (
               <table className="w-full table-fixed text-sm">

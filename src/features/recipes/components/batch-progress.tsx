@@ -12,16 +12,20 @@ export function batchPercent(b: Batch): number {
   return b.counts.total ? (settled / b.counts.total) * 100 : 100;
 }
 
-/** "2 of 3 re-rendered · 1 failed", and when it finished. */
+/**
+ * "2 of 3 re-rendered · 1 failed", and when it finished. A recipe's batch renders approved pieces
+ * again; an output batch (which the queue lists too) makes copies, most of them new.
+ */
 export function BatchLine({ batch }: { batch: Batch }) {
   const { done, failed, total, running } = batch.counts;
+  const verb = batch.kind === "outputs" ? "made" : "re-rendered";
   return (
     <p className="text-xs text-ink-muted">
       <span className="figure" data-testid="batch-done">
         {done}
       </span>{" "}
-      of <span className="figure">{total}</span> re-rendered
-      {running > 0 && !batch.finishedAt && <> · {running} rendering now</>}
+      of <span className="figure">{total}</span> {verb}
+      {running > 0 && !batch.finishedAt && <> · {running} {batch.kind === "outputs" ? "being made" : "rendering"} now</>}
       {failed > 0 && <span className="font-medium text-brick"> · {failed} failed</span>}
       {batch.finishedAt ? (
         <>

@@ -1,4 +1,4 @@
-import { useId, useRef, useState, type FormEvent } from "react";
+import { useCallback, useId, useRef, useState, type FormEvent } from "react";
 import { setResolutionBody, type Scan } from "../../../../shared/schemas/scans";
 import { Button } from "../../../components/button";
 import { inputClass } from "../../../components/field";
@@ -31,6 +31,9 @@ export function SetResolution({ scan }: { scan: Scan }) {
   const id = useId();
   const opener = useRef<HTMLButtonElement>(null);
   const input = useRef<HTMLInputElement>(null);
+  // The form opens under the scan's facts, often below the fold: bring all of it, buttons
+  // included, into sight when it (or its question) appears, not on every keystroke.
+  const scrollIn = useCallback((el: HTMLElement | null) => el?.scrollIntoView({ block: "nearest" }), []);
 
   if (scan.status !== "ready") return null;
   const approved = approvedPieces(scan);
@@ -92,6 +95,7 @@ export function SetResolution({ scan }: { scan: Scan }) {
   if (asking !== null)
     return (
       <div
+        ref={scrollIn}
         role="group"
         aria-label="Set the resolution"
         className="mt-2 flex flex-col gap-2 rounded-md border border-paper-300 bg-paper-50 p-3 text-sm"
@@ -128,6 +132,7 @@ export function SetResolution({ scan }: { scan: Scan }) {
 
   return (
     <form
+      ref={scrollIn}
       onSubmit={submit}
       noValidate
       aria-label="Set the resolution"

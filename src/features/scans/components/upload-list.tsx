@@ -2,6 +2,7 @@ import { Link } from "react-router-dom";
 import { formatBytes } from "../../../../shared/units";
 import { Button } from "../../../components/button";
 import { ProgressBar } from "../../../components/progress-bar";
+import { STATUS_LABELS } from "../../../components/status-badge";
 import { paths } from "../../../config/paths";
 import { cn } from "../../../lib/cn";
 import { useScan } from "../api/get-scan";
@@ -19,6 +20,25 @@ function DuplicateOf({ id }: { id: string }) {
   );
 }
 
+/**
+ * An added file's line follows its scan as the worker gets to it (the live feed refreshes the
+ * scan), so it never still says "Queued" beside a table that says the scan is ready.
+ */
+function Added({ scanId }: { scanId: string }) {
+  const { data } = useScan(scanId);
+  const status = data?.status ?? "queued";
+  const toReview = status === "ready" ? (data?.fragments.proposed ?? 0) : 0;
+  return (
+    <span className={status === "failed" ? "text-brick" : "text-accent-strong"}>
+      {STATUS_LABELS[status]}
+      {toReview > 0 && `, ${toReview} to review`} ·{" "}
+      <Link to={paths.scan(scanId)} className="underline underline-offset-2 hover:text-accent">
+        open
+      </Link>
+    </span>
+  );
+}
+
 function Result({ item }: { item: UploadItem }) {
   switch (item.state) {
     case "waiting":
@@ -33,18 +53,10 @@ function Result({ item }: { item: UploadItem }) {
         </span>
       );
     case "queued":
-      return (
-        <span className="text-accent-strong">
-          Queued ·{" "}
-          {item.scanId && (
-            <Link
-              to={paths.scan(item.scanId)}
-              className="underline underline-offset-2 hover:text-accent"
-            >
-              open
-            </Link>
-          )}
-        </span>
+      return item.scanId ? (
+        <Added scanId={item.scanId} />
+      ) : (
+        <span className="text-accent-strong">Queued</span>
       );
     case "duplicate":
       return (

@@ -107,7 +107,9 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
               <span aria-hidden className="mr-1.5 text-accent">
                 ✓
               </span>
-              All {masters(s!.masters)} carry the studio's creator and copyright line.
+              {s!.creator || s!.copyright
+                ? `All ${masters(s!.masters)} carry the studio's creator and copyright line.`
+                : `All ${masters(s!.masters)} agree with the studio: it names no creator or copyright line yet, so none is written. Fill them in above and they can be written in.`}
             </p>
           ) : (
             <>
