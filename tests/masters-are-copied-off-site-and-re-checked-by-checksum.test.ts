@@ -160,6 +160,42 @@ describe("the off-site copy of masters", () => {
     expect(await stack.offsite!.exists(legacy)).toBe(false);
   });
 
+  it("leaves an object under the older key that is not this master's own copy (a kept copy of the master before it)", async () => {
+    const master = await masterRow();
+    const legacy = `masters/${fragment.id}.tif`;
+    // Another master's copy, kept by a delete, sits under the old key; this master's copy to that
+    // key never landed (no copied_at), or landed and was since replaced by other bytes.
+    const other = path.join(stack.inbox, "..", "kept-copy.bin");
+    await fs.writeFile(other, Buffer.from("the copy a delete kept, of the master before this one"));
+    for (const copiedAt of [null, new Date()]) {
+      await stack.offsite!.put(legacy, other);
+      await stack.database.pool.query("update offsite_copies set key = $1, copied_at = $2, status = 'failed' where output_id = $3", [legacy, copiedAt, master.id]);
+      expect((await operator.post(`/api/fragments/${fragment.id}/offsite/copy`)).status).toBe(202);
+      await waitFor("the copy under its own key", async () => {
+        const o = await offsite();
+        return o.copy?.status === "copied" && o.copy.key !== legacy ? o : null;
+      });
+      expect(sha(await fs.readFile(stack.s3!.objectFile("offsite", legacy)))).toBe(sha(await fs.readFile(other)));
+    }
+  });
+
+  it("does not write a re-check's finding over a copy that began while it read", async () => {
+    const { checkMaster } = await import("../server/services/offsite");
+    const { logger } = await import("../server/logger");
+    const master = await masterRow();
+    expect((await offsite()).copy!.status).toBe("copied");
+    // While the re-check reads the bucket, a fresh copy is asked for (the row goes pending).
+    const bucket = Object.create(stack.offsite!) as NonNullable<typeof stack.offsite>;
+    bucket.createReadStream = async (k: string) => {
+      await stack.database.pool.query("update offsite_copies set status = 'pending' where output_id = $1", [master.id]);
+      return stack.offsite!.createReadStream(k);
+    };
+    const row = await checkMaster({ database: stack.database, boss: stack.boss, library: stack.library, offsite: bucket, log: logger }, master.id);
+    expect(row!.status).toBe("pending");
+    expect((await offsite()).copy!.status).toBe("pending");
+    await stack.database.pool.query("update offsite_copies set status = 'copied' where output_id = $1", [master.id]);
+  });
+
   it("lets an admin queue a re-check of every master; viewers see no copy actions", async () => {
     const all = await admin.post("/api/offsite/check");
     expect(all.status).toBe(202);

@@ -90,6 +90,30 @@ async function masterRow(db: Db, outputId: string) {
   return row;
 }
 
+/**
+ * A re-check's finding, written only while the row is as the re-check read it: a copy that began
+ * meanwhile (pending), landed meanwhile (a new copied_at) or moved (a new key) is not overwritten
+ * by what was found of the copy before it.
+ */
+async function setCheck(db: Db, read: Row, patch: Partial<typeof offsiteCopies.$inferInsert>) {
+  const [row] = await db
+    .update(offsiteCopies)
+    .set({ ...patch, updatedAt: new Date() })
+    .where(
+      and(
+        eq(offsiteCopies.outputId, read.outputId),
+        eq(offsiteCopies.key, read.key),
+        sql`${offsiteCopies.status} <> 'pending'`,
+        // (copied_at is written from the process's clock, so it compares exactly.)
+        read.copiedAt ? eq(offsiteCopies.copiedAt, read.copiedAt) : sql`${offsiteCopies.copiedAt} is null`,
+      ),
+    )
+    .returning();
+  if (row) return row;
+  const [now] = await db.select().from(offsiteCopies).where(eq(offsiteCopies.outputId, read.outputId));
+  return now;
+}
+
 async function setCopy(
   db: Db,
   outputId: string,
@@ -143,8 +167,10 @@ export async function copyMaster(
         updatedAt: new Date(),
       },
     })
-    .returning({ key: offsiteCopies.key });
-  const previousKey = before && before.key !== key ? before.key : null;
+    .returning({ key: offsiteCopies.key, sha256: offsiteCopies.sha256, copiedAt: offsiteCopies.copiedAt });
+  // The row's copy under an older key (copies made before keys were per master): removed once the
+  // new one has landed, but only if it is the row's own copy, as it was recorded when it landed.
+  const previous = before && before.key !== key && before.copiedAt && before.sha256 ? { key: before.key, sha256: before.sha256 } : null;
   try {
     const sha256 = await deps.library.withLocalFile(master.key, async (file) => {
       const put = await offsite.put(key, file);
@@ -156,7 +182,7 @@ export async function copyMaster(
       }
       return put.sha256!;
     });
-    await setCopy(db, outputId, {
+    const landed = await setCopy(db, outputId, {
       status: "copied",
       message: null,
       sha256,
@@ -164,6 +190,12 @@ export async function copyMaster(
       key,
     });
     deps.log.info({ outputId, key, sha256 }, "offsite: master copied");
+    // The piece's files were deleted while this uploaded (the row went with them): the copy just
+    // made is kept, as a delete keeps one, and nothing older is touched.
+    if (!landed) {
+      deps.log.warn({ outputId, key, sha256 }, "offsite: the master's files were deleted during the copy; its copy stays in the bucket");
+      return;
+    }
   } catch (err) {
     const missingMaster = isStorageError(err, "missing");
     const last = missingMaster || ctx.retryCount >= ctx.retryLimit;
@@ -175,14 +207,23 @@ export async function copyMaster(
     if (missingMaster) return;
     throw err;
   }
-  if (previousKey) {
-    // The row now names the new object; the old one is nobody's. A bucket that cannot remove it
-    // now leaves it behind, said in the log with its key (the copy itself is fine).
+  if (previous) {
+    // The row now names the new object. The old key may hold another master's copy that a delete
+    // kept (a master made again over it never landed): it goes only while it is still the bytes
+    // this row recorded. A bucket that cannot say or remove it now leaves it, said in the log.
     try {
-      await offsite.remove(previousKey);
-      deps.log.info({ outputId, key: previousKey }, "offsite: the copy under its old key removed");
+      const there = await offsite.stat(previous.key).catch((err: unknown) => {
+        if (isStorageError(err, "missing")) return null;
+        throw err;
+      });
+      if (there && there.sha256 === previous.sha256) {
+        await offsite.remove(previous.key);
+        deps.log.info({ outputId, key: previous.key }, "offsite: the copy under its old key removed");
+      } else if (there) {
+        deps.log.warn({ outputId, key: previous.key, sha256: there.sha256 }, "offsite: the old key holds another copy than this master's; left as it is");
+      }
     } catch (err) {
-      deps.log.warn({ outputId, key: previousKey, err }, "offsite: the copy under its old key was not removed; remove it by hand");
+      deps.log.warn({ outputId, key: previous.key, err }, "offsite: the copy under its old key was not removed; remove it by hand");
     }
   }
 }
@@ -209,7 +250,7 @@ export async function checkMaster(deps: OffsiteDeps, outputId: string): Promise<
     remote = await hashStream(await offsite.createReadStream(row.key));
   } catch (err) {
     if (!isStorageError(err, "missing")) throw err;
-    return setCopy(db, outputId, {
+    return setCheck(db, row, {
       status: "failed",
       message: `The off-site copy is missing from ${offsite.description}. Copy it again.`,
       checkedAt: now,
@@ -222,14 +263,14 @@ export async function checkMaster(deps: OffsiteDeps, outputId: string): Promise<
     if (!isStorageError(err, "missing")) throw err;
   }
   if (row.sha256 && remote !== row.sha256) {
-    return setCopy(db, outputId, {
+    return setCheck(db, row, {
       status: "failed",
       message: `Checksum mismatch: the off-site copy has SHA-256 ${short(remote)}, but ${short(row.sha256)} was copied. The copy has changed or is damaged; copy it again.`,
       checkedAt: now,
     });
   }
   if (local === null) {
-    return setCopy(db, outputId, {
+    return setCheck(db, row, {
       status: "failed",
       message:
         "The master is missing from the library; the off-site copy is intact and can restore it.",
@@ -237,13 +278,13 @@ export async function checkMaster(deps: OffsiteDeps, outputId: string): Promise<
     });
   }
   if (local !== remote) {
-    return setCopy(db, outputId, {
+    return setCheck(db, row, {
       status: "failed",
       message: `Checksum mismatch: the master in the library has SHA-256 ${short(local)}, the off-site copy ${short(remote)}. If the master is right, copy it again.`,
       checkedAt: now,
     });
   }
-  return setCopy(db, outputId, { status: "copied", message: null, sha256: remote, checkedAt: now });
+  return setCheck(db, row, { status: "copied", message: null, sha256: remote, checkedAt: now });
 }
 
 /** A fragment's master's copy, for the side panel. */
