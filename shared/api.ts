@@ -13,7 +13,7 @@ import {
   updateNoticesBody,
 } from "./schemas/mail";
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
-import { tidyLibraryBody } from "./schemas/library";
+import { refileBody, tidyLibraryBody } from "./schemas/library";
 import { deleteFragmentFilesQuery } from "./schemas/fragment-files";
 import { createIntakeBody, scanListQuery, setResolutionBody } from "./schemas/scans";
 import { updateStudioBody, writeMastersRightsBody } from "./schemas/studio";
@@ -382,7 +382,7 @@ export const API = {
   library: route({ method: "GET", path: "/api/library", access: "admin", mutates: false }),
   libraryTidy: route({ method: "POST", path: "/api/library/tidy", access: "admin", mutates: true, body: tidyLibraryBody }),
   // Files the library's originals no scan names (a database restored from an older backup) again as new scans.
-  libraryRefile: route({ method: "POST", path: "/api/library/refile", access: "admin", mutates: true }),
+  libraryRefile: route({ method: "POST", path: "/api/library/refile", access: "admin", mutates: true, body: refileBody }),
 } as const satisfies Record<string, RouteSpec>;
 
 export type RouteName = keyof typeof API;

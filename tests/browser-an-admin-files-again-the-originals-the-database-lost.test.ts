@@ -14,12 +14,13 @@ import { openBrowser, signIn } from "./helpers/browser";
 let stack: Stack;
 let browser: Awaited<ReturnType<typeof openBrowser>>;
 let originalKey: string;
+let admin: Awaited<ReturnType<typeof userAgent>>;
 /** Set PLATEN_SHOTS to a folder to keep screenshots of the new screens. */
 const shots = process.env.PLATEN_SHOTS;
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
-  await userAgent(stack, "admin", "admin@test.example");
+  admin = await userAgent(stack, "admin", "admin@test.example");
   const operator = await userAgent(stack, "operator", "operator@test.example");
   const file = path.join(stack.inbox, "..", "filed-before-the-restore.tif");
   await fs.writeFile(file, await pieceBed(5, 1));
@@ -43,9 +44,24 @@ describe("originals the database lost, on the Library screen", () => {
     await page.goto(`${stack.url}/library`);
     const notice = page.getByTestId("unknown-originals");
     await notice.waitFor();
-    expect(await notice.textContent()).toMatch(/^1 original \([\d.]+ [KM]B\) in the library is not known to the database: no scan names it\./);
+    expect(await notice.textContent()).toMatch(/^1 original in the library is not known to the database: no scan holds its content\./);
+    // This database names none of the library's originals: the server wants the admin's explicit word.
+    const bare = await admin.post("/api/library/refile").send({});
+    expect(bare.status).toBe(409);
+    expect(bare.body.error.message).toMatch(/^The database does not name the library's one original: it may not be this library's database/);
+    await notice.getByRole("button", { name: "File it again as new scan…" }).click();
+    // The dialog says what it does, that it cannot be undone, and warns of another library's database.
+    const ask = page.getByRole("dialog", { name: "File 1 original again?" });
+    await ask.waitFor();
+    expect(await ask.textContent()).toMatch(/it may not be this library's database/);
+    expect(await ask.textContent()).toMatch(/cannot be undone/);
     if (shots) await page.screenshot({ path: path.join(shots, "library-unknown-originals.png"), fullPage: true });
-    await notice.getByRole("button", { name: "File it again as new scans" }).click();
+    // Esc keeps everything as it is.
+    await page.keyboard.press("Escape");
+    await expect.poll(() => ask.isVisible()).toBe(false);
+    expect((await stack.database.pool.query(`select 1 from scans where original_key = $1`, [originalKey])).rows).toHaveLength(0);
+    await notice.getByRole("button", { name: "File it again as new scan…" }).click();
+    await ask.getByRole("button", { name: "File 1 original again" }).click();
     await expect
       .poll(() => page.getByRole("status").filter({ hasText: "Filing 1 original again" }).count())
       .toBe(1);

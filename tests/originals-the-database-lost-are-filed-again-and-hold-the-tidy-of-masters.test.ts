@@ -89,7 +89,7 @@ describe("originals the database does not know", () => {
     expect((await operator.post("/api/library/refile")).status).toBe(403);
     const res = await admin.post("/api/library/refile");
     expect(res.status, JSON.stringify(res.body)).toBe(202);
-    expect(res.body).toEqual({ originals: 1 });
+    expect(res.body).toEqual({ originals: 1, queued: 1 });
     const scan = await waitFor("the scan filed again, split", async () => {
       const { rows } = await stack.database.pool.query<{ id: string }>(`select id from scans where original_key = $1`, [lost.originalKey]);
       if (!rows[0]) return null;
@@ -114,12 +114,41 @@ describe("originals the database does not know", () => {
   });
 
   it("once filed again, leave the tidy free to go on, and there is nothing more to file", async () => {
-    const o = await overview();
+    let o = await overview();
     expect(folder(o, "originals/").leftOver).toBe(0);
-    expect(o.tidy.caution).toBeNull();
+    expect(o.tidy).toMatchObject({ unknownOriginals: 0, foreignDatabase: false, caution: null });
+    // The same content under another name (the file came back as .tiff): a spare copy no scan
+    // names, but nothing to file again and no reason to hold the tidy.
+    const spare = lost.originalKey.replace(/\.tif$/, ".tiff");
+    await fs.copyFile(stack.libraryPath(lost.originalKey), stack.libraryPath(spare));
+    await age(spare, 2 * DAY);
+    o = await overview();
+    expect(folder(o, "originals/").leftOver).toBe(1);
+    expect(o.tidy).toMatchObject({ unknownOriginals: 0, caution: null });
     const again = await admin.post("/api/library/refile");
     expect(again.status).toBe(409);
     expect(again.body.error.message).toBe("The database knows every original in the library: there is nothing to file again.");
+  });
+
+  it("queues an original once however often it is asked for, while its job waits", async () => {
+    const bytes = await pieceBed(6, 1);
+    const key = `originals/${sha256(bytes).slice(0, 2)}/${sha256(bytes)}.tif`;
+    await fs.mkdir(path.dirname(stack.libraryPath(key)), { recursive: true });
+    await fs.writeFile(stack.libraryPath(key), bytes);
+    // Written a moment ago: its job finds it too young and waits until it is old enough.
+    const first = await admin.post("/api/library/refile");
+    expect(first.body).toEqual({ originals: 1, queued: 1 });
+    const jobs = async () =>
+      (await stack.database.pool.query(`select state from pgboss.job where name = 'library-refile' and data->>'key' = $1 and state in ('created', 'retry', 'active')`, [key])).rows.length;
+    await waitFor("the job to look at it and wait", async () => {
+      const { rows } = await stack.database.pool.query(`select 1 from pgboss.job where name = 'library-refile' and data->>'key' = $1 and state = 'completed'`, [key]);
+      return rows.length === 1 ? true : null;
+    }, 30_000);
+    expect(await jobs()).toBe(1);
+    const again = await admin.post("/api/library/refile");
+    expect(again.body).toEqual({ originals: 1, queued: 0 });
+    expect(await jobs()).toBe(1);
+    await fs.rm(stack.libraryPath(key));
   });
 
   it("leaves a damaged original (its bytes are not the checksum its name says) and one still being filed where they are", async () => {
@@ -138,7 +167,7 @@ describe("originals the database does not know", () => {
     const admin = { id: null, email: "admin@test.example" };
     expect((await unknownOriginals(stack.db, stack.library)).sort()).toEqual([damagedKey, youngKey].sort());
     expect(await refileOriginal(deps, damagedKey, admin)).toEqual({ outcome: "damaged" });
-    expect(await refileOriginal(deps, youngKey, admin)).toEqual({ outcome: "too-young" });
+    expect(await refileOriginal(deps, youngKey, admin)).toMatchObject({ outcome: "too-young" });
     expect(sha256(await fs.readFile(stack.libraryPath(damagedKey)))).toBe(before);
     expect((await unknownOriginals(stack.db, stack.library)).sort()).toEqual([damagedKey, youngKey].sort());
     const { rows } = await stack.database.pool.query<{ summary: string }>(`select summary from audit_events where action = 'library.refile' order by id desc limit 1`);
@@ -148,6 +177,8 @@ describe("originals the database does not know", () => {
     expect(later.outcome).toBe("filed");
     expect(await refileOriginal(deps, youngKey, admin, { now: new Date(Date.now() + REFILE_GRACE_MS + 1000) })).toEqual({ outcome: "known" });
     expect(await unknownOriginals(stack.db, stack.library)).toEqual([damagedKey]);
-    expect(await refileOriginal(deps, "originals/cd/gone.tif", admin)).toEqual({ outcome: "missing" });
+    expect(await refileOriginal(deps, `originals/cd/${"cd".repeat(32)}.tif`, admin)).toEqual({ outcome: "missing" });
+    // A key that is not an original's name (its folder is not its checksum's start) is not filed.
+    expect(await refileOriginal(deps, `originals/ef/${"ab".repeat(32)}.tif`, admin)).toEqual({ outcome: "damaged" });
   });
 });

@@ -10,7 +10,7 @@ export interface Tx {
   db: Db;
   client: pg.PoolClient;
   /** Queues a job that exists only if this transaction commits. */
-  send(queue: string, data: object, options?: PgBoss.SendOptions): Promise<void>;
+  send(queue: string, data: object): Promise<void>;
   /** Queues one job per item the same way, a thousand to a statement. */
   sendMany(queue: string, data: object[]): Promise<void>;
   /** Tells every open page about a change, delivered at commit. */
@@ -31,8 +31,8 @@ export async function withTx<T>(database: Database, boss: PgBoss, fn: (tx: Tx) =
     const tx: Tx = {
       db: drizzle(client, { schema }),
       client,
-      send: async (queue, data, options) => {
-        await boss.send(queue, data, { ...options, db: { executeSql: (text, values) => client.query(text, values) } });
+      send: async (queue, data) => {
+        await boss.send(queue, data, { db: { executeSql: (text, values) => client.query(text, values) } });
       },
       // pg-boss's insert takes each queue's own retry, expiry and retention settings, as send does.
       sendMany: async (queue, data) => {

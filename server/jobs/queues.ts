@@ -84,9 +84,10 @@ export function queuePolicies(): Record<(typeof QUEUES)[keyof typeof QUEUES], Om
       retryLimit: 0,
       expireInSeconds: cfg.jobExpireSeconds,
     },
-    // One job per original, by its key (singletonKey): one waiting and one running at most.
+    // One job per original; the route queues none for an original already waiting, and the job
+    // takes a lock per original, so two never file one twice.
     [QUEUES.libraryRefile]: {
-      policy: "stately",
+      policy: "standard",
       retryLimit: cfg.jobRetryLimit,
       retryDelay: 5,
       retryBackoff: true,

@@ -7,6 +7,7 @@ import { fragmentThumbKey } from "./fragment-thumbs";
 import { OUTPUT_PICTURE_EDGES, outputThumbKey } from "./output-thumbs";
 import { previewBaseKey } from "./recipe-preview";
 import { recordAudit } from "./audit";
+import { unknownAmong } from "./library-refile";
 import { formatBytes } from "../../shared/units";
 import type { LastTidy, TidyFolder, TidyReport } from "../../shared/schemas/library";
 
@@ -94,6 +95,7 @@ export async function tidyLibrary(
 
   const folders: TidyFolder[] = [];
   const planned: { key: string; size: number; row: TidyFolder }[] = [];
+  const leftOverOriginals: string[] = [];
   for (const [folder, keys] of listed) {
     const row: TidyFolder = { folder, files: keys.length, leftOver: 0, leftOverBytes: 0, removed: 0, removedBytes: 0, tooYoung: 0, failed: 0 };
     folders.push(row);
@@ -108,6 +110,7 @@ export async function tidyLibrary(
       }
       row.leftOver++;
       row.leftOverBytes += stat.size;
+      if (folder === "originals/") leftOverOriginals.push(key);
       if (folder === "originals/" || !removable.has(folder)) continue;
       // A store that gives no date (0) is taken as now: never older than the grace period.
       const modified = stat.modified.getTime();
@@ -137,13 +140,15 @@ export async function tidyLibrary(
   const originals = folders.find((f) => f.folder === "originals/")!;
   let caution: string | null = null;
   const namedOriginals = originals.files - originals.leftOver - originals.failed;
-  if (originals.files > 0 && namedOriginals === 0)
+  const foreignDatabase = originals.files > 0 && namedOriginals === 0;
+  const unknown = (await unknownAmong(db, leftOverOriginals)).length;
+  if (foreignDatabase)
     caution = `The database names ${originals.files === 1 ? "not even the library's one original" : `none of the ${originals.files} originals in the library`}: it may not be this library's database (a new or restored one). A tidy now would remove every copy made from them.`;
-  else if (originals.leftOver > 0 && planned.some((p) => p.row.folder === "masters/")) {
-    // Scans are never deleted: an original no scan names is one whose scan the database lost (a
-    // restore from an older backup), and masters nothing names may well be its pieces'.
+  else if (unknown > 0 && planned.some((p) => p.row.folder === "masters/")) {
+    // Scans are never deleted: an original whose content no scan holds is one whose scan the
+    // database lost (a restore from an older backup), and masters nothing names may be its pieces'.
     const masters = planned.filter((p) => p.row.folder === "masters/").length;
-    caution = `The library holds ${originals.leftOver === 1 ? "an original" : `${originals.leftOver} originals`} the database does not know (it may have been restored from an older backup), and a tidy now would remove ${masters === 1 ? "a master" : `${masters} masters`} nothing names, which may be ${originals.leftOver === 1 ? "its" : "their"} pieces'. File the unknown originals again first, or remove them anyway if you know why they are there.`;
+    caution = `The library holds ${unknown === 1 ? "an original" : `${unknown} originals`} the database does not know (it may have been restored from an older backup), and a tidy now would remove ${masters === 1 ? "a master" : `${masters} masters`} nothing names, which may be ${unknown === 1 ? "its" : "their"} pieces' as they were approved. Filing the originals again makes new pieces and new masters; these stay unnamed even then, so copy any you want to keep before removing them.`;
   } else if (planned.length > LARGE_TIDY_MIN_FILES && planned.length > LARGE_TIDY_SHARE * derived)
     caution = `A tidy now would remove ${planned.length} of the library's ${derived} derived files, more than half: check that this is the library's own database before going on.`;
   // A confirmation holds for the removal it was given for, not a larger one found since. What the
@@ -196,6 +201,8 @@ export async function tidyLibrary(
     removed: folders.reduce((n, f) => n + f.removed, 0),
     removedBytes: folders.reduce((n, f) => n + f.removedBytes, 0),
     failed: folders.reduce((n, f) => n + f.failed, 0),
+    unknownOriginals: unknown,
+    foreignDatabase,
     caution,
     held,
   };

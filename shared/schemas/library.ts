@@ -24,6 +24,14 @@ export const tidyReportSchema = z.object({
   removed: z.number().int(),
   removedBytes: z.number(),
   failed: z.number().int(),
+  /**
+   * Originals whose content no scan holds (a database restored from an older backup lost their
+   * scans): what "file them again" would file. An original no scan names but whose content a scan
+   * holds under another name is a spare copy, not counted here.
+   */
+  unknownOriginals: z.number().int(),
+  /** Whether the database names none of the library's originals (it may be another library's). */
+  foreignDatabase: z.boolean(),
   /** Why this tidy looks wrong (no scan of the library's named, or most files would go); null when it looks right. */
   caution: z.string().nullable(),
   /**
@@ -80,5 +88,11 @@ export const libraryOverviewSchema = z.object({
 });
 export type LibraryOverview = z.infer<typeof libraryOverviewSchema>;
 
-/** POST /api/library/refile: how many originals the database did not know were queued to be filed again. */
-export const refileResponseSchema = z.object({ originals: z.number() });
+/**
+ * POST /api/library/refile. `anyway` confirms it when the database names none of the library's
+ * originals (it may be another library's database: filing would bring the whole archive into it).
+ */
+export const refileBody = z.object({ anyway: z.boolean().default(false) }).strict();
+
+/** How many originals were queued to be filed again (those already waiting are not queued twice). */
+export const refileResponseSchema = z.object({ originals: z.number(), queued: z.number() });

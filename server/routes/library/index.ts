@@ -5,7 +5,7 @@ import { handle } from "../define";
 import type { AppDeps } from "../../app";
 import { lastTidy, runTidy, tidyLibrary } from "../../services/library-tidy";
 import { recordAudit } from "../../services/audit";
-import { unknownOriginals } from "../../services/library-refile";
+import { unknownAmong } from "../../services/library-refile";
 import { withTx } from "../../db/tx";
 import { QUEUES } from "../../jobs/queues";
 import { conflict } from "../../errors";
@@ -63,24 +63,34 @@ export function libraryRouter(deps: AppDeps): Router {
       });
     return report;
   });
-  handle(router, API.libraryRefile, async ({ user, res }) => {
-    const unknown = await unknownOriginals(db, deps.library);
+  handle(router, API.libraryRefile, async ({ body, user, res }) => {
+    const listed = await deps.library.list("originals/");
+    const unknown = await unknownAmong(db, listed);
     if (unknown.length === 0) throw conflict("The database knows every original in the library: there is nothing to file again.");
-    // One job per original (a stately queue keyed by it): asked again while one waits, that one
-    // does it; each finds its original named by then if another filed it first.
+    // A database that names none of them may be another library's: filing would bring this whole
+    // archive into it, for good (scans are never deleted). Only on the admin's explicit word.
+    if (unknown.length === listed.length && !body.anyway)
+      throw conflict(
+        `${listed.length === 1 ? "The database does not name the library's one original" : `The database names none of the library's ${listed.length} originals`}: it may not be this library's database. Filing them would bring the whole archive into it as new scans, which cannot be undone. Confirm it if this is the library's own database restored from an older backup.`,
+      );
+    // An original already waiting to be filed (asked before) is not queued again.
+    const { rows: waiting } = await db.execute<{ key: string }>(
+      sql`select data->>'key' as key from pgboss.job where name = ${QUEUES.libraryRefile} and state in ('created', 'retry', 'active')`,
+    );
+    const busy = new Set(waiting.map((w) => w.key));
+    const fresh = unknown.filter((k) => !busy.has(k));
     await withTx(deps.database, deps.boss, async (tx) => {
-      for (const key of unknown)
-        await tx.send(QUEUES.libraryRefile, { key, actorId: user.id, actorEmail: user.email }, { singletonKey: key });
+      await tx.sendMany(QUEUES.libraryRefile, fresh.map((key) => ({ key, actorId: user.id, actorEmail: user.email })));
       await recordAudit(tx, {
         action: "library.refile",
         subjectType: "studio",
         subjectId: null,
-        summary: `Asked for the ${unknown.length === 1 ? "original" : `${unknown.length} originals`} the database did not know to be filed again as new scans`,
-        after: { originals: unknown.length },
+        summary: `Asked for the ${unknown.length === 1 ? "original" : `${unknown.length} originals`} the database did not know to be filed again as new scans${fresh.length < unknown.length ? ` (${unknown.length - fresh.length} already waiting)` : ""}`,
+        after: { originals: unknown.length, queued: fresh.length },
       });
     });
     res.status(202);
-    return { originals: unknown.length };
+    return { originals: unknown.length, queued: fresh.length };
   });
   return router;
 }

@@ -54,38 +54,66 @@ function LibraryPage() {
 }
 
 /**
- * Originals no scan names: scans are never deleted, so the database lost them (restored from an
- * older backup, or a filing cut off). They stay, and an admin can have them filed again.
+ * Originals whose content no scan holds: scans are never deleted, so the database lost them
+ * (restored from an older backup, or a filing cut off). They stay, and an admin can have them
+ * filed again, after reading what that does (it cannot be undone: scans are never deleted).
  */
-function UnknownOriginals({ count, bytes }: { count: number; bytes: number }) {
+function UnknownOriginals({ count, foreign }: { count: number; foreign: boolean }) {
   const refile = useRefileOriginals();
+  const [asking, setAsking] = useState(false);
+  const them = count === 1 ? "it" : "them";
   return (
     <div className="rounded-lg border border-paper-300 bg-paper-50 px-3 py-2" data-testid="unknown-originals">
       <p className="text-ink">
-        {plural(count, "original", "originals")} ({formatBytes(bytes)}) in the library {count === 1 ? "is" : "are"} not
-        known to the database: no scan names {count === 1 ? "it" : "them"}. Originals are never removed by the
-        program. This happens when the database was restored from a backup older than the library.
+        {plural(count, "original", "originals")} in the library {count === 1 ? "is" : "are"} not known to the
+        database: no scan holds {count === 1 ? "its" : "their"} content. Originals are never removed by the program.
+        This is what a database restored from a backup older than the library leaves.
       </p>
       <div className="mt-2 flex flex-wrap items-center gap-3">
-        <Button
-          size="sm"
-          variant="secondary"
-          busy={refile.isPending}
-          onClick={() =>
-            refile.mutate(undefined, {
-              onSuccess: (r) =>
-                toast.success(
-                  `Filing ${plural(r.originals, "original", "originals")} again: each appears in the queue as a new scan, to be reviewed once more.`,
-                ),
-            })
-          }
-        >
-          File {count === 1 ? "it" : "them"} again as new scans
+        <Button size="sm" variant="secondary" busy={refile.isPending} onClick={() => setAsking(true)}>
+          File {them} again as new {count === 1 ? "scan" : "scans"}…
         </Button>
         <Link to={paths.queue} className="text-sm text-accent-strong underline underline-offset-2">
           Open the queue
         </Link>
       </div>
+      <ConfirmDialog
+        open={asking}
+        title={`File ${plural(count, "original", "originals")} again?`}
+        tone="primary"
+        confirmLabel={`File ${plural(count, "original", "originals")} again`}
+        busy={refile.isPending}
+        onCancel={() => setAsking(false)}
+        onConfirm={() =>
+          refile.mutate(
+            { anyway: foreign },
+            {
+              onSuccess: (r) => {
+                setAsking(false);
+                toast.success(
+                  r.queued === 0
+                    ? `${plural(r.originals, "original is", "originals are")} already waiting to be filed again.`
+                    : `Filing ${plural(r.queued, "original", "originals")} again: each appears in the queue as a new scan, to be reviewed once more.`,
+                );
+              },
+              onError: () => setAsking(false),
+            },
+          )
+        }
+      >
+        {foreign && (
+          <p className="mb-2 font-medium text-ink">
+            The database names none of the library's originals: it may not be this library's database. Go on only if it
+            is the library's own database, restored from an older backup; otherwise this brings the whole archive into
+            it.
+          </p>
+        )}
+        <p>
+          Each becomes a new scan in the current intake, named <span className="figure">filed-again-</span> and the
+          start of its checksum (the file names were in the lost records), to be split, reviewed and approved once more.
+          The originals stay exactly as they are. Scans are never deleted, so this cannot be undone.
+        </p>
+      </ConfirmDialog>
     </div>
   );
 }
@@ -138,7 +166,14 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
             kept for now: a file is written a moment before the record that names it.
           </p>
         )}
-        {originals && originals.leftOver > 0 && <UnknownOriginals count={originals.leftOver} bytes={originals.leftOverBytes} />}
+        {originals && originals.leftOver > report.unknownOriginals && (
+          <p className="text-ink-muted">
+            {plural(originals.leftOver - report.unknownOriginals, "original", "originals")} that no scan names
+            {originals.leftOver - report.unknownOriginals === 1 ? " holds" : " hold"} content a scan has under another
+            name: spare copies, kept (originals are never removed by the program).
+          </p>
+        )}
+        {report.unknownOriginals > 0 && <UnknownOriginals count={report.unknownOriginals} foreign={report.foreignDatabase} />}
         <p className="text-ink-muted">
           {lastTidy ? (
             <>

@@ -42,7 +42,8 @@ export function useCheckAllOffsite() {
 export function useRefileOriginals() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: () => apiRequest(API.libraryRefile, { schema: refileResponseSchema }),
+    /** `anyway` confirms it when the database names none of the library's originals. */
+    mutationFn: (body: { anyway: boolean }) => apiRequest(API.libraryRefile, { body, schema: refileResponseSchema }),
     onSettled: () => queryClient.invalidateQueries({ queryKey: libraryKeys.overview }),
   });
 }
