@@ -139,6 +139,30 @@ export async function copyMaster(
   outputId: string,
   ctx: { retryCount: number; retryLimit: number },
 ): Promise<void> {
+  // One copy of a master at a time (a render and a rights rewrite can each queue one): two
+  // uploads interleaved could leave the row's checksum other than the bytes the bucket kept.
+  const client = await deps.database.pool.connect();
+  const lock = `offsite-copy:${outputId}`;
+  let broken: Error | undefined;
+  try {
+    await client.query("select pg_advisory_lock(hashtextextended($1, 0))", [lock]);
+    try {
+      await copyMasterLocked(deps, outputId, ctx);
+    } finally {
+      await client.query("select pg_advisory_unlock(hashtextextended($1, 0))", [lock]).catch((err: Error) => {
+        broken = err;
+      });
+    }
+  } finally {
+    client.release(broken);
+  }
+}
+
+async function copyMasterLocked(
+  deps: OffsiteDeps,
+  outputId: string,
+  ctx: { retryCount: number; retryLimit: number },
+): Promise<void> {
   const { db } = deps.database;
   const offsite = deps.offsite;
   const master = await masterRow(db, outputId);
