@@ -1,11 +1,10 @@
 import { Link, useParams } from "react-router-dom";
 import { Spinner } from "../../components/button";
-import { LoadError } from "../../components/notice";
 import { paths } from "../../config/paths";
 import { useBatchReport } from "../../features/batches/api/get-batch-report";
 import { usePresetChoices } from "../../features/batches/api/get-preset-choices";
 import { BatchReport } from "../../features/batches/components/batch-report";
-import { isMissing, NotFoundRoute } from "./not-found";
+import { RecordNotLoaded } from "./not-found";
 
 export function BatchRoute() {
   const { id = "" } = useParams();
@@ -19,16 +18,14 @@ export function BatchRoute() {
     );
   }
   if (report.isError && !report.data) {
-    if (isMissing(report.error)) {
-      return (
-        <NotFoundRoute
-          title="No batch at this address"
-          message="It may never have existed, or the link was copied incompletely."
-          back={{ to: paths.batches, label: "Back to the batches" }}
-        />
-      );
-    }
-    return <LoadError error={report.error} onRetry={() => void report.refetch()} />;
+    return (
+      <RecordNotLoaded
+        error={report.error}
+        onRetry={() => void report.refetch()}
+        title="No batch at this address"
+        back={{ to: paths.batches, label: "Back to the batches" }}
+      />
+    );
   }
   return (
     <>

@@ -1,6 +1,7 @@
 import { Link } from "react-router-dom";
 import { paths } from "../../config/paths";
 import { ApiError } from "../../lib/api-client";
+import { LoadError } from "../../components/notice";
 
 /**
  * Whether a failed load means the address names nothing: the record is gone (404) or the id in it
@@ -33,4 +34,25 @@ export function NotFoundRoute({
       </Link>
     </div>
   );
+}
+
+/**
+ * A record's page that could not load it: the not-found page when the address names nothing
+ * (`isMissing`), otherwise the error with a retry.
+ */
+export function RecordNotLoaded({
+  error,
+  onRetry,
+  title,
+  back,
+}: {
+  error: Error;
+  onRetry: () => void;
+  /** "No recipe at this address" */
+  title: string;
+  back: { to: string; label: string };
+}) {
+  if (isMissing(error))
+    return <NotFoundRoute title={title} message="It may never have existed, or the link was copied incompletely." back={back} />;
+  return <LoadError error={error} onRetry={onRetry} />;
 }

@@ -8,19 +8,14 @@ import {
 } from "../../../shared/schemas/presets";
 import { Spinner } from "../../components/button";
 import { NotAllowed } from "../../components/not-allowed";
-import { LoadError } from "../../components/notice";
 import { usePreset } from "../../features/presets/api/get-preset";
 import { PresetEditor } from "../../features/presets/components/preset-editor";
 import { paths } from "../../config/paths";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
-import { isMissing, NotFoundRoute } from "./not-found";
+import { RecordNotLoaded } from "./not-found";
 
-const presetMissing = (
-  <NotFoundRoute
-    title="No preset at this address"
-    message="It may never have existed, or the link was copied incompletely."
-    back={{ to: paths.presets, label: "Back to the presets" }}
-  />
+const presetNotLoaded = (error: Error, onRetry: () => void) => (
+  <RecordNotLoaded error={error} onRetry={onRetry} title="No preset at this address" back={{ to: paths.presets, label: "Back to the presets" }} />
 );
 
 /** Where a new preset of each kind starts: the built-in ones, or the schema's defaults. */
@@ -56,8 +51,7 @@ function PresetPage({ id }: { id: string }) {
     );
   }
   if (preset.isError) {
-    if (isMissing(preset.error)) return presetMissing;
-    return <LoadError error={preset.error} onRetry={() => void preset.refetch()} />;
+    return presetNotLoaded(preset.error, () => void preset.refetch());
   }
   return (
     <>
@@ -87,8 +81,7 @@ function CopyPreset({ id }: { id: string }) {
     );
   }
   if (preset.isError) {
-    if (isMissing(preset.error)) return presetMissing;
-    return <LoadError error={preset.error} onRetry={() => void preset.refetch()} />;
+    return presetNotLoaded(preset.error, () => void preset.refetch());
   }
   const settings = preset.data.preset.settings;
   return (

@@ -14,7 +14,7 @@ import { ApplyGrid } from "../../features/recipes/components/apply-grid";
 import { useIntakes } from "../../features/scans/api/get-intakes";
 import { useScans } from "../../features/scans/api/get-scans";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
-import { isMissing, NotFoundRoute } from "./not-found";
+import { RecordNotLoaded } from "./not-found";
 
 const STATUS_OPTIONS: Record<FragmentStatus, string> = {
   approved: "Approved",
@@ -73,16 +73,14 @@ function RecipeApplyPage({ id }: { id: string }) {
     );
   }
   if (recipe.isError) {
-    if (isMissing(recipe.error)) {
-      return (
-        <NotFoundRoute
-          title="No recipe at this address"
-          message="It may never have existed, or the link was copied incompletely."
-          back={{ to: paths.recipes, label: "Back to the recipes" }}
-        />
-      );
-    }
-    return <LoadError error={recipe.error} onRetry={() => void recipe.refetch()} />;
+    return (
+      <RecordNotLoaded
+        error={recipe.error}
+        onRetry={() => void recipe.refetch()}
+        title="No recipe at this address"
+        back={{ to: paths.recipes, label: "Back to the recipes" }}
+      />
+    );
   }
   const r = recipe.data.recipe;
   const scanName = scanId ? scanList?.find((s) => s.id === scanId)?.originalName : undefined;

@@ -1,14 +1,13 @@
 import { useParams } from "react-router-dom";
 import { Spinner } from "../../components/button";
 import { NotAllowed } from "../../components/not-allowed";
-import { LoadError } from "../../components/notice";
 import { useRecipe } from "../../features/recipes/api/get-recipe";
 import { useFragmentPool } from "../../features/recipes/api/get-fragment-pool";
 import { RecipeEditor } from "../../features/recipes/components/recipe-editor";
 import { useIntakes } from "../../features/scans/api/get-intakes";
 import { paths } from "../../config/paths";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
-import { isMissing, NotFoundRoute } from "./not-found";
+import { RecordNotLoaded } from "./not-found";
 
 export function RecipeRoute() {
   const me = useSessionUser();
@@ -32,16 +31,14 @@ function RecipePage({ id }: { id: string }) {
     );
   }
   if (recipe.isError) {
-    if (isMissing(recipe.error)) {
-      return (
-        <NotFoundRoute
-          title="No recipe at this address"
-          message="It may never have existed, or the link was copied incompletely."
-          back={{ to: paths.recipes, label: "Back to the recipes" }}
-        />
-      );
-    }
-    return <LoadError error={recipe.error} onRetry={() => void recipe.refetch()} />;
+    return (
+      <RecordNotLoaded
+        error={recipe.error}
+        onRetry={() => void recipe.refetch()}
+        title="No recipe at this address"
+        back={{ to: paths.recipes, label: "Back to the recipes" }}
+      />
+    );
   }
   return (
     <>

@@ -1,10 +1,8 @@
 import type { UseQueryResult } from "@tanstack/react-query";
 import type { Scan } from "../../../shared/schemas/scans";
 import { Spinner } from "../../components/button";
-import { LoadError } from "../../components/notice";
 import { paths } from "../../config/paths";
-import { ApiError } from "../../lib/api-client";
-import { NotFoundRoute } from "./not-found";
+import { RecordNotLoaded } from "./not-found";
 
 /**
  * What a scan's pages show until the scan is loaded: a spinner, a 404 page for an address that
@@ -22,14 +20,12 @@ export function ScanNotLoaded({
       </p>
     );
   }
-  if (scan.error instanceof ApiError && (scan.error.status === 404 || scan.error.status === 400)) {
-    return (
-      <NotFoundRoute
-        title="No scan with this address"
-        message="It may never have existed, or the link was copied incompletely."
-        back={{ to: paths.scans, label: "Back to the scans" }}
-      />
-    );
-  }
-  return <LoadError error={scan.error} onRetry={() => void scan.refetch()} />;
+  return (
+    <RecordNotLoaded
+      error={scan.error}
+      onRetry={() => void scan.refetch()}
+      title="No scan with this address"
+      back={{ to: paths.scans, label: "Back to the scans" }}
+    />
+  );
 }
