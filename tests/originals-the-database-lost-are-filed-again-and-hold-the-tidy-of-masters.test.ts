@@ -151,6 +151,22 @@ describe("originals the database does not know", () => {
     await fs.rm(stack.libraryPath(key));
   });
 
+  it("records a filing and its audit row together: an audit that fails leaves no scan", async () => {
+    const { intakeFile } = await import("../server/services/intake");
+    const bytes = await pieceBed(9, 1);
+    const key = `originals/${sha256(bytes).slice(0, 2)}/${sha256(bytes)}.tif`;
+    const file = path.join(stack.inbox, "..", "audit-fails.tif");
+    await fs.writeFile(file, bytes);
+    const deps = { database: stack.database, boss: stack.boss, library: stack.library, log: logger };
+    await expect(
+      intakeFile(deps, { path: file, originalName: "audit-fails.tif", source: "library", removeSource: false, audit: async () => { throw new Error("the trail is down (test)"); } }),
+    ).rejects.toThrow("the trail is down (test)");
+    expect((await stack.database.pool.query(`select 1 from scans where sha256 = $1`, [sha256(bytes)])).rows).toHaveLength(0);
+    // Its original was stored before the transaction (as every filing's is) and stays: known to none.
+    expect(await unknownOriginals(stack.db, stack.library)).toContain(key);
+    await fs.rm(stack.libraryPath(key));
+  });
+
   it("leaves a damaged original (its bytes are not the checksum its name says) and one still being filed where they are", async () => {
     // A file under an original's name whose bytes hash to something else.
     const damagedKey = `originals/ab/${"ab".repeat(32)}.tif`;

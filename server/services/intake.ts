@@ -72,6 +72,8 @@ export interface IntakeInput {
    * the inbox's wait (this is why), so its writer may yet write the rest into it (worker/watcher.ts).
    */
   stillUnfinished?: string;
+  /** Written in the transaction that records the scan (an audit row of the caller's own). */
+  audit?: (tx: Tx, r: IntakeResult) => Promise<void>;
 }
 
 /** An inbox file filed but still in the inbox, as it was when filed (inbox_kept_files). */
@@ -297,7 +299,7 @@ export async function intakeFile(
               action: "scan.retry",
               subjectType: "scan",
               subjectId: first.id,
-              summary: `Retried ${first.originalName} after it failed: the same file ${input.source === "upload" ? "was uploaded" : "arrived in the inbox"} again as ${input.originalName}`,
+              summary: `Retried ${first.originalName} after it failed: the same file ${input.source === "upload" ? "was uploaded" : input.source === "library" ? "was filed again from the library's originals" : "arrived in the inbox"} again as ${input.originalName}`,
               before: { status: "failed", error: first.error },
               after: { status: "queued" },
             });
@@ -332,6 +334,7 @@ export async function intakeFile(
           },
         });
       }
+      await input.audit?.(tx, r);
       await tx.notify({ kind: "scan", scanId: r.scanId, status: first ? "duplicate" : "queued" });
       if (input.inbox && before) await rememberInTx(tx, r, staged.sha256, before);
       return r;

@@ -5,7 +5,8 @@ import type { Storage } from "../storage/storage";
 import { isStorageError } from "../storage/storage";
 import { originalKey } from "../storage/keys";
 import { hashStream } from "../storage/files";
-import { intakeFile, type IntakeDeps } from "./intake";
+import { intakeFile, type IntakeDeps, type IntakeResult } from "./intake";
+import type { Tx } from "../db/tx";
 import { recordAudit, type AuditActor } from "./audit";
 
 /**
@@ -120,21 +121,23 @@ async function refileLocked(
   // The bytes themselves, not a checksum the store kept beside them.
   if ((await hashStream(await library.createReadStream(key))) !== sha) return damaged("its bytes no longer match the checksum its name gives");
   const name = `filed-again-${sha.slice(0, 12)}${ext}`;
+  // Its audit row commits with the scan: a scan filed from the library is never without one.
+  const audit = (tx: Tx, r: IntakeResult) =>
+    recordAudit(
+      tx,
+      {
+        action: "library.refile",
+        subjectType: "scan",
+        subjectId: r.scanId,
+        summary: r.duplicateOf
+          ? `Filed an original the database did not know again as ${name}: a scan of the same content had been filed meanwhile, so it is a duplicate of that one`
+          : `Filed an original the database did not know again as ${name}`,
+        after: { key, outcome: "filed", scanId: r.scanId, duplicateOf: r.duplicateOf },
+      },
+      { actor },
+    );
   const r = await library.withLocalFile(key, (file) =>
-    intakeFile(deps, { path: file, originalName: name, source: "library", uploadedBy: actor.id, removeSource: false }),
-  );
-  await recordAudit(
-    db,
-    {
-      action: "library.refile",
-      subjectType: "scan",
-      subjectId: r.scanId,
-      summary: r.duplicateOf
-        ? `Filed an original the database did not know again as ${name}: a scan of the same content had been filed meanwhile, so it is a duplicate of that one`
-        : `Filed an original the database did not know again as ${name}`,
-      after: { key, outcome: "filed", scanId: r.scanId, duplicateOf: r.duplicateOf },
-    },
-    { actor },
+    intakeFile(deps, { path: file, originalName: name, source: "library", uploadedBy: actor.id, removeSource: false, audit }),
   );
   log.info({ key, scanId: r.scanId }, "refile: an original the database did not know was filed again");
   return { outcome: "filed", scanId: r.scanId };
