@@ -248,10 +248,18 @@ describe("the worker's regular tidy", () => {
       await leave(master);
       // The worker asks for the tidy as it starts, and runs it.
       worker = await startWorker({ config: own.cfg, database: own.database, boss: own.boss, library: own.library, log: logger.child({ test: true }) });
-      await waitFor("the regular tidy", async () => ((await own.library.exists(output)) ? null : true), 30_000);
+      // Done when its record is on the trail (written once the files are removed).
+      const rows = await waitFor(
+        "the regular tidy",
+        async () => {
+          const { rows } = await own.database.pool.query("select actor_id, summary from audit_events where action = 'library.tidy'");
+          return rows.length > 0 ? rows : null;
+        },
+        30_000,
+      );
+      expect(await own.library.exists(output)).toBe(false);
       // Masters are the archive: a left-over one waits for an admin who is asked first.
       expect(await own.library.exists(master)).toBe(true);
-      const { rows } = await own.database.pool.query("select actor_id, summary from audit_events where action = 'library.tidy'");
       expect(rows).toHaveLength(1);
       expect(rows[0].actor_id).toBeNull();
       expect(rows[0].summary).toMatch(/^The worker tidied the library: removed 1 left-over file /);
