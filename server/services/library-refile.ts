@@ -34,14 +34,18 @@ async function knownToDatabase(db: Db): Promise<{ keys: Set<string>; contents: S
   return { keys: new Set(rows.map((r) => r.original_key)), contents: new Set(rows.map((r) => r.sha256)) };
 }
 
-/** Of these original keys, those whose content no scan holds. */
-export async function unknownAmong(db: Db, keys: readonly string[]): Promise<string[]> {
-  const known = await knownToDatabase(db);
+/** Of these original keys, those the database knows neither by key nor by content. */
+export function unknownIn(known: { keys: Set<string>; contents: Set<string> }, keys: readonly string[]): string[] {
   return keys.filter((k) => {
     if (known.keys.has(k)) return false;
     const sha = originalKeySha(k);
     return !(sha && known.contents.has(sha));
   });
+}
+
+/** Of these original keys, those whose content no scan holds. */
+export async function unknownAmong(db: Db, keys: readonly string[]): Promise<string[]> {
+  return unknownIn(await knownToDatabase(db), keys);
 }
 
 /** The library's originals whose content no scan holds. */
@@ -108,7 +112,8 @@ async function refileLocked(
   const sha = originalKeySha(key);
   const ext = path.posix.extname(key);
   if (!sha || originalKey(sha, `x${ext}`) !== key) return damaged("its name is not an original's");
-  if ((await unknownAmong(db, [key])).length === 0) return { outcome: "known" };
+  const { rows: known } = await db.execute(sql`select 1 from scans where original_key = ${key} or sha256 = ${sha} limit 1`);
+  if (known.length) return { outcome: "known" };
   let stat;
   try {
     stat = await library.stat(key);

@@ -7,7 +7,7 @@ import { fragmentThumbKey } from "./fragment-thumbs";
 import { OUTPUT_PICTURE_EDGES, outputThumbKey } from "./output-thumbs";
 import { previewBaseKey } from "./recipe-preview";
 import { recordAudit } from "./audit";
-import { unknownAmong } from "./library-refile";
+import { unknownIn } from "./library-refile";
 import { formatBytes } from "../../shared/units";
 import type { LastTidy, TidyFolder, TidyReport } from "../../shared/schemas/library";
 
@@ -33,12 +33,17 @@ export const TIDY_GRACE_HOURS = 24;
  * copies and outputs, and the picture of each output as it is now; and the cached small copies of
  * each fragment's current revision.
  */
-async function referencedKeys(db: Db): Promise<Set<string>> {
+async function referencedKeys(db: Db): Promise<{ keys: Set<string>; contents: Set<string> }> {
   const keys = new Set<string>();
-  const scans = await db.execute<{ original_key: string; preview_key: string | null; thumb_key: string | null }>(
-    sql`select original_key, preview_key, thumb_key from scans`,
+  // The scans' contents too: an original no row names whose content a scan holds is a spare copy.
+  const contents = new Set<string>();
+  const scans = await db.execute<{ original_key: string; preview_key: string | null; thumb_key: string | null; sha256: string }>(
+    sql`select original_key, preview_key, thumb_key, sha256 from scans`,
   );
-  for (const r of scans.rows) for (const k of [r.original_key, r.preview_key, r.thumb_key]) if (k) keys.add(k);
+  for (const r of scans.rows) {
+    for (const k of [r.original_key, r.preview_key, r.thumb_key]) if (k) keys.add(k);
+    contents.add(r.sha256);
+  }
   const outs = await db.execute<{ id: string; key: string; updated_at: Date | string }>(sql`select id, key, updated_at from outputs`);
   for (const r of outs.rows) {
     keys.add(r.key);
@@ -49,7 +54,7 @@ async function referencedKeys(db: Db): Promise<Set<string>> {
     keys.add(fragmentThumbKey(r.id, r.revision));
     keys.add(previewBaseKey(r.id, r.revision));
   }
-  return keys;
+  return { keys, contents };
 }
 
 /** A tidy that would remove more than this share of the derived files is held for a person to confirm. */
@@ -67,7 +72,8 @@ const LARGE_TIDY_MIN_FILES = 20;
  * A tidy that looks wrong is held: when the database names none of the scans whose originals the
  * library holds (another or a restored database), when it would remove masters while some
  * originals are unknown to it (a database restored from an older backup: those masters may be
- * the lost scans' pieces), or when it would remove more than half of the derived files. It then removes none of the library's files and says why (`caution`), unless
+ * the lost scans' pieces), or when it would remove more than half of the derived files. It then
+ * removes none of the library's files and says why (`caution`), unless
  * `allowLarge`. What stopped processes left unfinished on this machine goes all the same once
  * old (no database could name it), and the caution of a held tidy says so.
  */
@@ -91,7 +97,7 @@ export async function tidyLibrary(
   const cutoff = (opts.now ?? new Date()).getTime() - graceHours * 3600_000;
   const listed = new Map<string, string[]>();
   for (const folder of [...DERIVED_FOLDERS, "originals/"]) listed.set(folder, await library.list(folder));
-  const named = await referencedKeys(db);
+  const { keys: named, contents } = await referencedKeys(db);
 
   const folders: TidyFolder[] = [];
   const planned: { key: string; size: number; row: TidyFolder }[] = [];
@@ -141,7 +147,7 @@ export async function tidyLibrary(
   let caution: string | null = null;
   const namedOriginals = originals.files - originals.leftOver - originals.failed;
   const foreignDatabase = originals.files > 0 && namedOriginals === 0;
-  const unknown = (await unknownAmong(db, leftOverOriginals)).length;
+  const unknown = unknownIn({ keys: named, contents }, leftOverOriginals).length;
   if (foreignDatabase)
     caution = `The database names ${originals.files === 1 ? "not even the library's one original" : `none of the ${originals.files} originals in the library`}: it may not be this library's database (a new or restored one). A tidy now would remove every copy made from them.`;
   else if (unknown > 0 && planned.some((p) => p.row.folder === "masters/")) {
