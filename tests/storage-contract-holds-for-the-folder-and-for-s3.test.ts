@@ -11,6 +11,7 @@ import os from "node:os";
 import path from "node:path";
 import type { Readable } from "node:stream";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { snapshotFile } from "../server/storage/files";
 import { LocalStorage } from "../server/storage/local";
 import { S3Storage, s3Client } from "../server/storage/s3";
 import { StorageError, type Storage } from "../server/storage/storage";
@@ -307,6 +308,40 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
       await storage.createReadStream("masters/big.tif", { start: 24 * MiB - 10 }),
     );
     expect(tail.equals(whole.subarray(24 * MiB - 10))).toBe(true);
+  });
+});
+
+describe("a file held open for hashing and sending", () => {
+  it("sends the version it hashed when a new one is renamed over its name in between", async () => {
+    const first = crypto.randomBytes(3 * MiB);
+    const name = await fileWith(first);
+    const snapshot = await snapshotFile(name);
+    try {
+      // A re-render writes a new file and renames it over the old name (as the library does).
+      const next = await fileWith("a newer, shorter version");
+      await fs.rename(next, name);
+      expect(snapshot.size).toBe(first.length);
+      expect(snapshot.sha256).toBe(sha(first));
+      const sentBytes = await readAll(snapshot.stream() as Readable);
+      expect(sha(sentBytes)).toBe(snapshot.sha256);
+      // Asked again, it gives the same bytes from the start.
+      expect(sha(await readAll(snapshot.stream() as Readable))).toBe(sha(first));
+    } finally {
+      await snapshot.close();
+    }
+    expect(await fs.readFile(name, "utf8")).toBe("a newer, shorter version");
+  });
+
+  it("takes a checksum it is given without reading, and an empty file as an empty stream", async () => {
+    const empty = await snapshotFile(await fileWith(""));
+    // SHA-256 of the empty string (FIPS 180-4; the well-known e3b0c442… value).
+    expect(empty.sha256).toBe("e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855");
+    expect((await readAll(empty.stream() as Readable)).length).toBe(0);
+    await empty.close();
+    const given = await snapshotFile(await fileWith("abc"), "given-by-the-caller");
+    expect(given.sha256).toBe("given-by-the-caller");
+    expect(given.size).toBe(3);
+    await given.close();
   });
 });
 

@@ -2,7 +2,7 @@ import crypto from "node:crypto";
 import fs from "node:fs";
 import fsp from "node:fs/promises";
 import path from "node:path";
-import { Transform } from "node:stream";
+import { Readable, Transform } from "node:stream";
 import { pipeline } from "node:stream/promises";
 
 /** Local file helpers shared by the storage implementations. */
@@ -19,6 +19,48 @@ export async function hashFile(file: string): Promise<{ sha256: string; size: nu
     size += (chunk as Buffer).length;
   }
   return { sha256: hash.digest("hex"), size };
+}
+
+/**
+ * One version of a file, held open: its SHA-256 and size, and a stream of the very bytes hashed.
+ * Files in the library are replaced by renaming a new one over the name, so a file opened once
+ * keeps the version it had; reading the name twice (once to hash, once to send) could send a newer
+ * version under the older checksum.
+ */
+export interface FileSnapshot {
+  sha256: string;
+  size: number;
+  /** The hashed bytes, from the start (no more than `size` of them); the handle stays open. */
+  stream(): NodeJS.ReadableStream;
+  close(): Promise<void>;
+}
+
+export async function snapshotFile(file: string, knownSha256?: string): Promise<FileSnapshot> {
+  const handle = await fsp.open(file, "r");
+  try {
+    let size = (await handle.stat()).size;
+    let sha256 = knownSha256;
+    if (!sha256) {
+      const hash = crypto.createHash("sha256");
+      size = 0;
+      for await (const chunk of handle.createReadStream({ start: 0, autoClose: false })) {
+        hash.update(chunk as Buffer);
+        size += (chunk as Buffer).length;
+      }
+      sha256 = hash.digest("hex");
+    }
+    const bytes = size;
+    return {
+      sha256,
+      size,
+      // An empty range cannot be written as start..end: an empty file is an empty stream.
+      stream: () => (bytes > 0 ? handle.createReadStream({ start: 0, end: bytes - 1, autoClose: false }) : Readable.from([])),
+      close: () => handle.close(),
+    };
+  } catch (err) {
+    await handle.close();
+    throw err;
+  }
 }
 
 /** SHA-256 of a stream's bytes. */

@@ -13,7 +13,7 @@ import {
 } from "@aws-sdk/client-s3";
 import { Upload } from "@aws-sdk/lib-storage";
 import { checkKey, checkPrefix, contentTypeFor, isWriteOnce } from "./keys";
-import { copyHashed, findUnfinished, hashFile, hashStream, randomName, removeUnfinished, withScratchDir, type ScratchPlace, type Unfinished } from "./files";
+import { copyHashed, findUnfinished, hashStream, randomName, removeUnfinished, snapshotFile, withScratchDir, type ScratchPlace, type Unfinished } from "./files";
 import { LocalCache } from "./cache";
 import {
   StorageError,
@@ -139,9 +139,9 @@ export class S3Storage implements Storage {
         return { written: false, sha256: there.sha256, size: there.size };
       }
     }
-    const { sha256, size } = opts.sha256
-      ? { sha256: opts.sha256, size: (await fsp.stat(fromFile)).size }
-      : await hashFile(fromFile);
+    // The bytes sent are the bytes hashed: the file is opened once, for both.
+    const snapshot = await snapshotFile(fromFile, opts.sha256);
+    const { sha256, size } = snapshot;
     let etag: string;
     try {
       const upload = new Upload({
@@ -149,7 +149,7 @@ export class S3Storage implements Storage {
         params: {
           Bucket: this.settings.bucket,
           Key: objectKey,
-          Body: fs.createReadStream(fromFile),
+          Body: snapshot.stream() as Readable,
           ContentLength: size,
           ContentType: opts.contentType ?? contentTypeFor(key),
           Metadata: { sha256 },
@@ -162,6 +162,8 @@ export class S3Storage implements Storage {
       etag = (done.ETag ?? "").replace(/"/g, "");
     } catch (err) {
       throw this.mapError(err, key);
+    } finally {
+      await snapshot.close();
     }
     if (opts.move) {
       // The file just uploaded is this version: keep it as the local copy instead of fetching it back.
