@@ -14,7 +14,7 @@ const features = fs.existsSync("src/features")
   : [];
 
 export default tseslint.config(
-  { ignores: ["dist/**", "node_modules/**", "drizzle/**", ".data/**", ".bench/**", "inbox/**", "coverage/**"] },
+  { ignores: ["dist/**", ".builds/**", "node_modules/**", "drizzle/**", ".data/**", ".bench/**", "inbox/**", "coverage/**"] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {

@@ -1,4 +1,4 @@
-import { spawn, spawnSync, type ChildProcess } from "node:child_process";
+import { spawn, type ChildProcess } from "node:child_process";
 import path from "node:path";
 import { loadConfig } from "../server/config";
 import { prepare, clusterOptions } from "./lib/prepare";
@@ -7,6 +7,7 @@ import { startMailFake, type MailFake } from "../server/mail/fake-smtp";
 import { fakeS3Env, startFakeS3, type FakeS3 } from "./lib/fake-s3";
 import { cpuShares, formatCpuList } from "../shared/cpu-list";
 import { allowedCpus } from "../worker/cpu-affinity";
+import { buildClient } from "./lib/build-client";
 
 /**
  * `npm start`: the private database, migrations, the first admin and the demo studio, the client
@@ -21,8 +22,7 @@ const { startedCluster, admin, demoFiles } = await prepare(cfg, { cluster: useCl
 
 if (!process.argv.includes("--no-build")) {
   console.log("Building the client…");
-  const build = spawnSync(path.join(root, "node_modules", ".bin", "vite"), ["build", "--logLevel", "warn"], { cwd: root, stdio: "inherit" });
-  if (build.status !== 0) {
+  if (!buildClient(root).ok) {
     console.error("The client build failed; see above.");
     process.exit(1);
   }

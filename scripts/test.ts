@@ -4,6 +4,7 @@ import path from "node:path";
 import { loadConfig } from "../server/config";
 import { portForPrivateRuns, startCluster, stopCluster } from "./lib/pg-cluster";
 import { clusterOptions } from "./lib/prepare";
+import { buildClient } from "./lib/build-client";
 
 /**
  * `npm test`: starts the private PostgreSQL cluster (tests make their own databases in it, fresh
@@ -40,8 +41,7 @@ try {
   const args = process.argv.slice(2);
   // `--no-build` reuses the last client build (quicker when only server tests are run).
   if (!args.includes("--no-build")) {
-    const build = spawnSync(bin("vite"), ["build", "--logLevel", "warn"], { cwd: root, stdio: "inherit" });
-    if (build.status !== 0) throw new Error("The client build failed; see above.");
+    if (!buildClient(root).ok) throw new Error("The client build failed; see above.");
   }
   const run = spawnSync(bin("vitest"), ["run", ...args.filter((a) => a !== "--no-build")], {
     cwd: root,
