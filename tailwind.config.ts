@@ -20,7 +20,7 @@ export default {
         ink: {
           DEFAULT: "#2b2823",
           soft: "#55504a",
-          muted: "#706960",
+          muted: "#68615a",
           faint: "#a39b8f",
         },
         accent: {
@@ -34,7 +34,7 @@ export default {
           soft: "#f5e1da",
         },
         ochre: {
-          DEFAULT: "#8a6514",
+          DEFAULT: "#805d11",
           soft: "#f3e8cc",
         },
       },

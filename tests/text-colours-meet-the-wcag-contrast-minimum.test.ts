@@ -7,6 +7,7 @@
  */
 import { describe, expect, it } from "vitest";
 import config from "../tailwind.config";
+import { COLOURS as MAIL } from "../server/mail/layout";
 
 const colours = (config.theme?.extend?.colors ?? {}) as Record<string, Record<string, string>>;
 
@@ -30,7 +31,13 @@ describe("the theme's text colours", () => {
     expect(ratio("#767676", "#ffffff")).toBeCloseTo(4.54, 2);
   });
 
-  const grounds = { white: "#ffffff", "paper-50": colours.paper!["50"]!, paper: colours.paper!.DEFAULT! };
+  // paper-200 is the ground of chips, table heads and the hovered row, where muted notes are set.
+  const grounds = {
+    white: "#ffffff",
+    "paper-50": colours.paper!["50"]!,
+    paper: colours.paper!.DEFAULT!,
+    "paper-200": colours.paper!["200"]!,
+  };
   const texts = {
     ink: colours.ink!.DEFAULT!,
     "ink-soft": colours.ink!.soft!,
@@ -43,4 +50,31 @@ describe("the theme's text colours", () => {
       it(`${t} (${fg}) on ${g} (${bg}) reaches 4.5:1`, () => {
         expect(ratio(fg, bg)).toBeGreaterThanOrEqual(4.5);
       });
+
+  // A tone's text on its own soft ground (warnings, failures, the selected state).
+  for (const tone of ["ochre", "brick", "accent"]) {
+    const fg = tone === "accent" ? colours.accent!.strong! : colours[tone]!.DEFAULT!;
+    for (const ground of ["soft", ...(tone === "accent" ? ["faint"] : [])]) {
+      const bg = colours[tone]![ground]!;
+      it(`${tone} text (${fg}) on ${tone}-${ground} (${bg}) reaches 4.5:1`, () => {
+        expect(ratio(fg, bg)).toBeGreaterThanOrEqual(4.5);
+      });
+    }
+  }
+  // Muted notes on the tones' soft grounds (a hint inside a warning or a selected row).
+  for (const ground of ["ochre", "brick", "accent"])
+    it(`ink-muted on ${ground}-soft reaches 4.5:1`, () => {
+      expect(ratio(colours.ink!.muted!, colours[ground]!.soft!)).toBeGreaterThanOrEqual(4.5);
+    });
+
+  // E-mail carries its own copy of the palette (no stylesheet reaches a mail client).
+  for (const t of ["ink", "soft", "muted", "accent", "brick"] as const)
+    for (const g of ["ground", "sheet"] as const)
+      it(`e-mail ${t} (${MAIL[t]}) on its ${g} (${MAIL[g]}) reaches 4.5:1`, () => {
+        expect(ratio(MAIL[t], MAIL[g])).toBeGreaterThanOrEqual(4.5);
+      });
+  it("e-mail warnings and failures are readable on their soft grounds", () => {
+    expect(ratio(MAIL.ochre, MAIL.ochreSoft)).toBeGreaterThanOrEqual(4.5);
+    expect(ratio(MAIL.brick, MAIL.brickSoft)).toBeGreaterThanOrEqual(4.5);
+  });
 });

@@ -10,18 +10,19 @@ export interface Message {
   html: string;
 }
 
-const COLOURS = {
+/** The e-mail palette: the app's, written out (mail clients see no stylesheet). */
+export const COLOURS = {
   ground: "#f5f1e8",
   sheet: "#fbf9f4",
   rule: "#ddd5c4",
   ink: "#2b2823",
   soft: "#55504a",
-  muted: "#7a736a",
+  muted: "#68615a",
   accent: "#2f6b5e",
   brick: "#a3452f",
   brickSoft: "#f5e1da",
   ochreSoft: "#f3e8cc",
-  ochre: "#8a6514",
+  ochre: "#805d11",
 } as const;
 
 const FONT = "-apple-system, 'Segoe UI', Roboto, Helvetica, Arial, sans-serif";

@@ -14,7 +14,7 @@ import {
 
 /** Line colour, dash and weight per status: the dash pattern carries the status as well. */
 const LINE: Record<FragmentStatus, { color: string; dash?: string }> = {
-  proposed: { color: "#8a6514", dash: "7 4" },
+  proposed: { color: "#805d11", dash: "7 4" },
   approved: { color: "#2f6b5e" },
   rejected: { color: "#a3452f", dash: "1.5 3.5" },
 };

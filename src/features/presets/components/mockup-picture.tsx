@@ -50,7 +50,7 @@ export function MockupPicture({ preset, piece }: { preset: MockupPreset; piece: 
         ) : (
           <rect x={ox + fw + mw} y={oy + fw + mw} width={pieceW * s} height={pieceH * s} fill="#c9b48a" />
         )}
-        <circle cx={lx} cy={ly} r={Math.min(W, H) * 0.018} fill="#f3e8cc" stroke="#8a6514" strokeWidth={Math.min(W, H) * 0.004}>
+        <circle cx={lx} cy={ly} r={Math.min(W, H) * 0.018} fill="#f3e8cc" stroke="#805d11" strokeWidth={Math.min(W, H) * 0.004}>
           <title>Light comes from here</title>
         </circle>
       </svg>
