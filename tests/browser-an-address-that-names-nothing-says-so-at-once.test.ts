@@ -27,13 +27,14 @@ describe("an address that names nothing", () => {
     { path: "batches", title: "No batch at this address", back: "Back to the batches" },
     { path: "presets", title: "No preset at this address", back: "Back to the presets" },
     { path: "recipes", title: "No recipe at this address", back: "Back to the recipes" },
+    { path: "recipes", tail: "/apply", title: "No recipe at this address", back: "Back to the recipes" },
   ];
   it("shows the not-found page for a record that does not exist and for an id cut short", async () => {
     const page = await browser.context.newPage();
     await signIn(page, stack.url, "operator@test.example", "operator-password-123");
     for (const c of cases) {
       for (const id of [crypto.randomUUID(), crypto.randomUUID().slice(0, 20)]) {
-        await page.goto(`${stack.url}/${c.path}/${id}`);
+        await page.goto(`${stack.url}/${c.path}/${id}${c.tail ?? ""}`);
         const heading = page.getByRole("heading", { name: c.title });
         await heading.waitFor({ timeout: 10_000 });
         expect(await page.getByRole("button", { name: "Try again" }).count(), `${c.path}/${id}`).toBe(0);

@@ -14,7 +14,7 @@ import { ApplyGrid } from "../../features/recipes/components/apply-grid";
 import { useIntakes } from "../../features/scans/api/get-intakes";
 import { useScans } from "../../features/scans/api/get-scans";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
-import { RecordNotLoaded } from "./not-found";
+import { RecipeNotLoaded } from "./recipe";
 
 const STATUS_OPTIONS: Record<FragmentStatus, string> = {
   approved: "Approved",
@@ -74,12 +74,7 @@ function RecipeApplyPage({ id }: { id: string }) {
   }
   if (recipe.isError) {
     return (
-      <RecordNotLoaded
-        error={recipe.error}
-        onRetry={() => void recipe.refetch()}
-        title="No recipe at this address"
-        back={{ to: paths.recipes, label: "Back to the recipes" }}
-      />
+      <RecipeNotLoaded error={recipe.error} onRetry={() => void recipe.refetch()} />
     );
   }
   const r = recipe.data.recipe;

@@ -9,6 +9,18 @@ import { paths } from "../../config/paths";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
 import { RecordNotLoaded } from "./not-found";
 
+/** A recipe address that names no recipe, or a recipe that could not load (its page and its apply page). */
+export function RecipeNotLoaded({ error, onRetry }: { error: Error; onRetry: () => void }) {
+  return (
+    <RecordNotLoaded
+      error={error}
+      onRetry={onRetry}
+      title="No recipe at this address"
+      back={{ to: paths.recipes, label: "Back to the recipes" }}
+    />
+  );
+}
+
 export function RecipeRoute() {
   const me = useSessionUser();
   const { id = "" } = useParams();
@@ -32,12 +44,7 @@ function RecipePage({ id }: { id: string }) {
   }
   if (recipe.isError) {
     return (
-      <RecordNotLoaded
-        error={recipe.error}
-        onRetry={() => void recipe.refetch()}
-        title="No recipe at this address"
-        back={{ to: paths.recipes, label: "Back to the recipes" }}
-      />
+      <RecipeNotLoaded error={recipe.error} onRetry={() => void recipe.refetch()} />
     );
   }
   return (
