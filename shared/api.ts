@@ -15,6 +15,7 @@ import {
 import { createUserBody, idParams, updateUserBody } from "./schemas/users";
 import { refileBody, tidyLibraryBody } from "./schemas/library";
 import { deleteFragmentFilesQuery } from "./schemas/fragment-files";
+import { keptCopyKeyQuery } from "./schemas/offsite";
 import { createIntakeBody, scanListQuery, setResolutionBody } from "./schemas/scans";
 import { updateStudioBody, writeMastersRightsBody } from "./schemas/studio";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
@@ -377,6 +378,10 @@ export const API = {
   fragmentsOffsiteCheck: route({ method: "POST", path: "/api/fragments/:id/offsite/check", access: "operator", mutates: true, params: idParams }),
   fragmentsOffsiteCopy: route({ method: "POST", path: "/api/fragments/:id/offsite/copy", access: "operator", mutates: true, params: idParams }),
   offsiteCheckAll: route({ method: "POST", path: "/api/offsite/check", access: "admin", mutates: true }),
+  // Copies kept in the off-site bucket after their piece's files were deleted: no master names them.
+  offsiteKept: route({ method: "GET", path: "/api/offsite/kept", access: "admin", mutates: false }),
+  offsiteKeptDownload: route({ method: "GET", path: "/api/offsite/kept/file", access: "admin", mutates: false, query: keptCopyKeyQuery }),
+  offsiteKeptRemove: route({ method: "DELETE", path: "/api/offsite/kept", access: "admin", mutates: true, query: keptCopyKeyQuery }),
 
   // The library itself: where it is, and tidying away files nothing names any more.
   library: route({ method: "GET", path: "/api/library", access: "admin", mutates: false }),

@@ -501,6 +501,20 @@ describe("every change a person makes is on the trail, with who, what and before
     expect((row.before!.files as unknown[]).length).toBe(plan.files);
   });
 
+  it(`${route("offsiteKeptRemove")}: an admin removes for good the off-site copy the delete above kept`, async () => {
+    const kept = (await admin.get("/api/offsite/kept")).body.copies as { key: string; fragmentId: string; sha256: string | null }[];
+    const mine = kept.filter((c) => c.fragmentId === ids.f1);
+    expect(mine).toHaveLength(1);
+    const { rows } = await audited(() => admin.delete("/api/offsite/kept").query({ key: mine[0]!.key }));
+    expect(only(rows, "offsite.remove_kept")).toMatchObject({
+      actorId: ids.admin,
+      subjectType: "fragment",
+      subjectId: ids.f1,
+      before: { key: mine[0]!.key, sha256: mine[0]!.sha256 },
+      after: { key: null },
+    });
+  });
+
   it("walks the route table: every mutating route has a scenario above or an exemption with a reason", () => {
     const mutating = (Object.entries(API) as [RouteName, RouteSpec][]).filter(([, s]) => s.mutates).map(([n]) => n);
     const missing = mutating.filter((n) => !covered.has(n) && !(n in EXEMPT));
@@ -619,7 +633,7 @@ describe("admins browse and filter the trail", () => {
     expect(page.events.map((e) => e.action)).toEqual(["fragment.edit", "fragment.edit"]);
 
     page = await list({ subjectType: "fragment", subjectId: ids.f1 });
-    expect(page.events.map((e) => e.action).reverse()).toEqual(["fragment.approve", "fragment.edit", "fragment.edit", "offsite.check", "offsite.copy", "fragment.delete_files"]);
+    expect(page.events.map((e) => e.action).reverse()).toEqual(["fragment.approve", "fragment.edit", "fragment.edit", "offsite.check", "offsite.copy", "fragment.delete_files", "offsite.remove_kept"]);
 
     page = await list({ q: "seed" }); // nothing's summary says so
     expect(page.events).toEqual([]);

@@ -134,6 +134,9 @@ async function setCopy(
  * whose copy was under another key (a copy made before keys were per master) has that object
  * removed once the new one is in place; only this row named it.
  */
+/** The advisory lock a master's copy is made under (also taken to remove a kept copy). */
+export const copyLockOf = (outputId: string) => `offsite-copy:${outputId}`;
+
 export async function copyMaster(
   deps: OffsiteDeps,
   outputId: string,
@@ -142,7 +145,7 @@ export async function copyMaster(
   // One copy of a master at a time (a render and a rights rewrite can each queue one): two
   // uploads interleaved could leave the row's checksum other than the bytes the bucket kept.
   const client = await deps.database.pool.connect();
-  const lock = `offsite-copy:${outputId}`;
+  const lock = copyLockOf(outputId);
   let broken: Error | undefined;
   try {
     await client.query("select pg_advisory_lock(hashtextextended($1, 0))", [lock]);

@@ -57,6 +57,7 @@ export const AUDIT_ACTIONS = {
   "offsite.check": "Re-checked an off-site copy",
   "offsite.copy": "Copied a master off-site again",
   "offsite.check_all": "Re-checked every off-site copy",
+  "offsite.remove_kept": "Removed a kept off-site copy for good",
   "library.tidy": "Tidied away left-over library files",
   "library.refile": "Filed originals the database did not know again",
   "studio.settings": "Changed the studio's settings",

@@ -10,8 +10,13 @@ import {
 } from "../../services/offsite";
 import type { AppDeps } from "../../app";
 import { recordAudit } from "../../services/audit";
+import { keptCopyForDownload, listKeptCopies, removeKeptCopy } from "../../services/offsite-kept";
+import { sendStored } from "../send-stored";
 
-/** The off-site copy of masters: status per fragment's master, re-check now, copy again, check all. */
+/**
+ * The off-site copy of masters: status per fragment's master, re-check now, copy again, check all;
+ * and the copies kept there after their piece's files were deleted: list, download, remove.
+ */
 export function offsiteRouter(deps: AppDeps): Router {
   const router = Router();
   const { db } = deps.database;
@@ -58,6 +63,21 @@ export function offsiteRouter(deps: AppDeps): Router {
         after: { queued },
       }),
     );
+  });
+  handle(router, API.offsiteKept, () => listKeptCopies(deps));
+  handle(router, API.offsiteKeptDownload, async ({ query, req, res }) => {
+    const { offsite, copy } = await keptCopyForDownload(deps, query.key);
+    await sendStored(req, res, offsite, copy.key, {
+      what: `The kept off-site copy "${copy.key}"`,
+      downloadName: copy.fileName,
+      // Byte for byte what was copied; no browser should keep it.
+      cacheControl: "private, no-store",
+    });
+  });
+  handle(router, API.offsiteKeptRemove, async ({ query, req }) => {
+    const removed = await removeKeptCopy(deps, query.key);
+    req.log.info({ key: removed.key, sizeBytes: removed.sizeBytes }, "kept off-site copy removed");
+    return removed;
   });
   return router;
 }

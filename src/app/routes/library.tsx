@@ -9,6 +9,7 @@ import { LoadError, Notice } from "../../components/notice";
 import { PageHeader, Panel } from "../../components/panel";
 import { useCheckAllOffsite, useLibrary, useRefileOriginals, useTidyLibrary } from "../../features/library/api/library";
 import { FolderBars } from "../../features/library/components/folder-bars";
+import { KeptOffsiteCopies } from "../../features/library/components/kept-offsite-copies";
 import { fragmentName } from "../../features/fragments/format";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
 import { toast } from "../../lib/toast";
@@ -41,7 +42,10 @@ function LibraryPage() {
         <LoadError error={library.error} onRetry={() => void library.refetch()} />
       ) : (
         <div className="grid grid-cols-1 items-start gap-6 xl:grid-cols-[minmax(0,2fr)_minmax(20rem,1fr)]">
-          <LeftOvers overview={library.data} />
+          <div className="flex flex-col gap-6">
+            <LeftOvers overview={library.data} />
+            {library.data.offsite && <KeptOffsiteCopies target={library.data.offsite.target} />}
+          </div>
           <div className="flex flex-col gap-6">
             <Whereabouts overview={library.data} />
             {library.data.offsite && <Offsite offsite={library.data.offsite} />}

@@ -4,7 +4,7 @@ import { API } from "../../../../shared/api";
 import { libraryOverviewSchema, refileResponseSchema, tidyReportSchema } from "../../../../shared/schemas/library";
 import { apiRequest } from "../../../lib/api-client";
 
-export const libraryKeys = { overview: ["library", "overview"] as const };
+export const libraryKeys = { all: ["library"] as const, overview: ["library", "overview"] as const };
 
 /** Where the library is, its off-site copies, and what a tidy would remove now (a dry run). */
 export const libraryQueryOptions = () =>

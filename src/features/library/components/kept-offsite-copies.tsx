@@ -1,0 +1,166 @@
+import { useRef, useState } from "react";
+import { Link } from "react-router-dom";
+import { API, apiPath } from "../../../../shared/api";
+import type { KeptCopy } from "../../../../shared/schemas/offsite";
+import { formatBytes } from "../../../../shared/units";
+import { Ago } from "../../../components/ago";
+import { Button, Spinner } from "../../../components/button";
+import { ConfirmDialog } from "../../../components/confirm-dialog";
+import { FragmentName } from "../../../components/fragment-name";
+import { LoadError } from "../../../components/notice";
+import { Panel } from "../../../components/panel";
+import { ThumbImage } from "../../../components/thumb-image";
+import { paths } from "../../../config/paths";
+import { formatDateTime } from "../../../lib/time";
+import { toast } from "../../../lib/toast";
+import { keptCopyDownloadUrl, useKeptOffsite, useRemoveKeptCopy } from "../api/kept-offsite";
+
+const plural = (n: number, one: string, many: string) => `${n} ${n === 1 ? one : many}`;
+
+/** How a kept copy's piece is named in sentences: its title, or its scan and position. */
+function pieceWords(c: KeptCopy): string {
+  if (!c.piece) return "a piece no longer in the database";
+  return c.piece.title?.trim() || `${c.piece.scanName.replace(/\.[^.]+$/, "")} · ${c.piece.position}`;
+}
+
+/** What became of the piece since, in a few words beside its name. */
+function pieceState(c: KeptCopy): string {
+  if (!c.piece) return "Its piece is gone too";
+  if (c.piece.status === "approved") return "Approved again since, with a newer master";
+  if (c.piece.status === "rejected") return "Its piece is rejected, without files";
+  return "Its piece waits for review";
+}
+
+/**
+ * The masters' copies the off-site bucket still holds after their pieces' files were deleted
+ * (kept, as the delete does unless asked): nothing else names them. Each can be downloaded, to
+ * get a master back, or removed for good after a confirmation. Hidden when off-site copy is off.
+ */
+export function KeptOffsiteCopies({ target }: { target: string }) {
+  const kept = useKeptOffsite();
+  const remove = useRemoveKeptCopy();
+  const [asking, setAsking] = useState<KeptCopy | null>(null);
+  const bodyRef = useRef<HTMLDivElement>(null);
+  // "s3://bucket/prefix at http://endpoint": the bucket is what a person looks for.
+  const bucket = target.replace(/ at .*$/, "");
+  const confirm = () => {
+    if (!asking) return;
+    const copy = asking;
+    remove.mutate(copy.key, {
+      onSuccess: (r) => {
+        setAsking(null);
+        toast.success(`Removed the kept off-site copy of ${pieceWords(copy)} (${formatBytes(r.sizeBytes)}).`);
+        // Its row is gone: the focus goes to the section, not to the top of the page.
+        bodyRef.current?.focus();
+      },
+      onError: () => setAsking(null),
+    });
+  };
+  return (
+    <Panel title="Kept off-site copies" titleId="kept-offsite-title">
+      <div ref={bodyRef} tabIndex={-1} className="outline-none">
+        {kept.isPending ? (
+          <p className="flex items-center gap-2 text-sm text-ink-muted">
+            <Spinner /> Looking through the off-site bucket…
+          </p>
+        ) : kept.isError ? (
+          <LoadError error={kept.error} onRetry={() => void kept.refetch()} />
+        ) : !kept.data.enabled ? (
+          <p className="text-sm text-ink-muted">{kept.data.note}</p>
+        ) : kept.data.copies.length === 0 ? (
+          <p className="text-sm text-ink-muted" data-testid="kept-offsite-empty">
+            No master&apos;s copy is kept off-site without its master. When a piece&apos;s files are deleted and its
+            off-site copy is kept, the copy is listed here, to download or to remove.
+          </p>
+        ) : (
+          <div className="flex flex-col gap-3 text-sm">
+            <p className="text-ink" data-testid="kept-offsite-summary">
+              {plural(kept.data.copies.length, "copy is", "copies are")} kept in the off-site bucket without{" "}
+              {kept.data.copies.length === 1 ? "its master" : "their masters"} in the library:{" "}
+              <span className="figure">{formatBytes(kept.data.totalBytes)}</span> in all.
+            </p>
+            <p className="text-ink-muted">
+              Their pieces&apos; files were deleted with the off-site copy kept. Download one to get its master back;
+              the studio pays for each until it is removed.
+            </p>
+            <ul className="flex flex-col divide-y divide-paper-200" aria-label="Kept off-site copies, newest first">
+              {kept.data.copies.map((c) => (
+                <li key={c.key} className="flex flex-wrap items-center gap-x-3 gap-y-2 py-2.5" data-kept-key={c.key}>
+                  {c.piece ? (
+                    <ThumbImage
+                      src={`${apiPath(API.fragmentsThumb, { id: c.piece.id })}?r=${c.piece.revision}`}
+                      className="size-12 shrink-0 rounded-sm bg-paper-200 object-cover"
+                      fallback={<span className="size-12 shrink-0 rounded-sm bg-paper-200" aria-hidden="true" />}
+                    />
+                  ) : (
+                    <span
+                      className="size-12 shrink-0 rounded-sm border border-dashed border-paper-300"
+                      aria-hidden="true"
+                    />
+                  )}
+                  <div className="min-w-[14rem] flex-1">
+                    {c.piece ? (
+                      <Link
+                        to={paths.fragment(c.piece.id)}
+                        className="block min-w-0 font-medium text-accent underline-offset-2 hover:underline"
+                      >
+                        <FragmentName fragment={c.piece} />
+                      </Link>
+                    ) : (
+                      <span className="block font-medium text-ink">A piece no longer in the database</span>
+                    )}
+                    <p className="figure text-xs text-ink-soft">
+                      {formatBytes(c.sizeBytes)} · copied <Ago iso={c.modifiedAt} /> ({formatDateTime(c.modifiedAt)})
+                    </p>
+                    <p className="text-xs text-ink-muted">{pieceState(c)}</p>
+                  </div>
+                  <div className="ml-auto flex shrink-0 items-center gap-3">
+                    <a
+                      href={keptCopyDownloadUrl(c.key)}
+                      download={c.fileName}
+                      className="shrink-0 text-sm font-medium text-accent underline underline-offset-2 hover:text-accent-strong"
+                      aria-label={`Download the kept copy of ${pieceWords(c)} (${c.fileName})`}
+                    >
+                      Download
+                    </a>
+                    <Button
+                      size="sm"
+                      variant="secondary"
+                      className="shrink-0"
+                      aria-label={`Remove the kept copy of ${pieceWords(c)} for good…`}
+                      onClick={() => setAsking(c)}
+                    >
+                      Remove for good…
+                    </Button>
+                  </div>
+                </li>
+              ))}
+            </ul>
+          </div>
+        )}
+      </div>
+      <ConfirmDialog
+        open={asking !== null}
+        title="Remove this off-site copy for good?"
+        confirmLabel="Remove it for good"
+        busy={remove.isPending}
+        onConfirm={confirm}
+        onCancel={() => setAsking(null)}
+      >
+        {asking && (
+          <>
+            <p>
+              The copy of the master of <span className="font-medium text-ink">{pieceWords(asking)}</span> (
+              <span className="figure">{formatBytes(asking.sizeBytes)}</span>, copied{" "}
+              {formatDateTime(asking.modifiedAt)}) is removed from the bucket <span className="figure break-all">{bucket}</span>.
+            </p>
+            <p className="mt-2">
+              The library no longer holds this master, so once removed it cannot be brought back. Download it first if
+              it may be wanted again.
+            </p>
+          </>
+        )}
+      </ConfirmDialog>
+    </Panel>
+  );
+}
