@@ -65,6 +65,8 @@ describe("originals the database lost, on the Library screen", () => {
     await expect
       .poll(() => page.getByRole("status").filter({ hasText: "Filing 1 original again" }).count())
       .toBe(1);
+    // The notice follows the job on its own, with no reload, and goes once the original is filed.
+    await expect.poll(() => page.getByTestId("unknown-originals").count(), { timeout: 30_000 }).toBe(0);
     const scanId = await waitFor("the scan filed again", async () => {
       const { rows } = await stack.database.pool.query<{ id: string; source: string }>(`select id, source from scans where original_key = $1`, [originalKey]);
       return rows[0]?.source === "library" ? rows[0].id : null;

@@ -6,18 +6,27 @@ import { apiRequest } from "../../../lib/api-client";
 
 export const libraryKeys = { all: ["library"] as const, overview: ["library", "overview"] as const };
 
+/** Until when (ms since the epoch) the overview follows originals being filed again. */
+const refilingKey = ["library", "refiling-until"] as const;
+/** How often the overview is read again while originals are being filed again. */
+export const REFILE_FOLLOW_MS = 5_000;
+
 /** Where the library is, its off-site copies, and what a tidy would remove now (a dry run). */
-export const libraryQueryOptions = () =>
+export const libraryQueryOptions = (refilingUntil = () => 0) =>
   queryOptions({
     queryKey: libraryKeys.overview,
     queryFn: ({ signal }) => apiRequest(API.library, { schema: libraryOverviewSchema, signal }),
     // Each look lists the whole library (a large bucket takes a while): not on every focus.
     staleTime: 60_000,
     refetchOnWindowFocus: false,
+    // While originals asked to be filed again are still unknown, the count follows the jobs.
+    refetchInterval: (query) =>
+      (query.state.data?.tidy.unknownOriginals ?? 0) > 0 && Date.now() < refilingUntil() ? REFILE_FOLLOW_MS : false,
   });
 
 export function useLibrary() {
-  return useQuery(libraryQueryOptions());
+  const queryClient = useQueryClient();
+  return useQuery(libraryQueryOptions(() => queryClient.getQueryData<number>(refilingKey) ?? 0));
 }
 
 export function useTidyLibrary() {
@@ -44,6 +53,10 @@ export function useRefileOriginals() {
   return useMutation({
     /** `anyway` confirms it when the database names none of the library's originals. */
     mutationFn: (body: { anyway: boolean }) => apiRequest(API.libraryRefile, { body, schema: refileResponseSchema }),
+    onSuccess: (r) => {
+      // Each job files one original, a few seconds each: follow them for a while (at least two minutes).
+      if (r.queued > 0) queryClient.setQueryData(refilingKey, Date.now() + Math.max(120_000, r.queued * 10_000));
+    },
     onSettled: () => queryClient.invalidateQueries({ queryKey: libraryKeys.overview }),
   });
 }
