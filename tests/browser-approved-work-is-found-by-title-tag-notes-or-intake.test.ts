@@ -119,4 +119,32 @@ describe("approved work", () => {
     expect(await page.getByRole("searchbox", { name: "Search file names" }).inputValue()).toBe("");
     await page.close();
   });
+
+  it("a picture the server is too busy to make at first is asked for again and shown", async () => {
+    // A browser of its own: the first one has these pictures in its cache.
+    const fresh = await openBrowser();
+    const page = await fresh.context.newPage();
+    await signIn(page, stack.url, "viewer@test.example", "viewer-password-123");
+    // The first ask for each picture gets the answer a busy server gives (503, try again); the
+    // server itself answers every later one.
+    const asked: string[] = [];
+    await page.route(/\/outputs\/web\/thumb(\?|$)/, async (route) => {
+      const url = new URL(route.request().url());
+      asked.push(url.pathname + url.search);
+      if (!url.searchParams.has("again"))
+        await route.fulfill({ status: 503, headers: { "Retry-After": "5" }, contentType: "application/json", body: JSON.stringify({ error: { code: "unavailable", message: "busy" } }) });
+      else await route.continue();
+    });
+    await page.goto(`${stack.url}/work`);
+    const grid = page.getByRole("list", { name: "Approved fragments" });
+    await expect.poll(() => grid.getByRole("listitem").count(), { timeout: 15_000 }).toBe(4);
+    const loaded = () =>
+      grid.locator("img").evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length);
+    await expect.poll(loaded, { timeout: 20_000 }).toBe(4);
+    // Each picture was refused once, then asked for again once.
+    expect(asked.filter((a) => !a.includes("again=")).length).toBe(4);
+    expect(asked.filter((a) => /[?&]again=1$/.test(a)).length).toBe(4);
+    expect(asked).toHaveLength(8);
+    await fresh.close();
+  });
 });
