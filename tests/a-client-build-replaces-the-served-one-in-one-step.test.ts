@@ -82,6 +82,37 @@ describe("a client build", () => {
     expect(left).toContain(path.basename(fs.readlinkSync(path.join(root, "dist"))));
   });
 
+  it("never prunes a build still being written, and never serves older sources over newer", () => {
+    const builds = path.join(root, ".builds");
+    // A build another process is writing: its folder has no list of its assets yet.
+    const writing = path.join(builds, `${Date.now() - 3_600_000}-1-writing`);
+    fs.mkdirSync(path.join(writing, "assets"), { recursive: true });
+    // A build that started after ours and is served already (its name says when it started).
+    const newer = path.join(builds, `${Date.now() + 3_600_000}-2-newer`);
+    fs.mkdirSync(path.join(newer, "assets"), { recursive: true });
+    fs.writeFileSync(path.join(newer, "index.html"), "the newer build");
+    fs.writeFileSync(path.join(newer, ".own-assets.json"), "[]");
+    fs.symlinkSync(path.relative(root, newer), path.join(root, "dist.test.link"));
+    fs.renameSync(path.join(root, "dist.test.link"), path.join(root, "dist"));
+
+    page("sixth");
+    const result = build();
+    expect(result.ok).toBe(true);
+    expect(result.dir).toBe(newer);
+    expect(fs.readFileSync(path.join(root, "dist", "index.html"), "utf8")).toBe("the newer build");
+    expect(fs.existsSync(writing)).toBe(true);
+    // Once the newer one is no longer served, builds go on as before, and the one being written stays.
+    fs.rmSync(newer, { recursive: true });
+    for (const text of ["seventh", "eighth", "ninth", "tenth"]) {
+      page(text);
+      expect(build().ok).toBe(true);
+    }
+    expect(fs.existsSync(writing)).toBe(true);
+    expect(fs.readFileSync(path.join(root, "dist", servedScript()), "utf8")).toContain("tenth");
+    expect(fs.readdirSync(builds).filter((n) => n !== path.basename(writing) && !n.startsWith("."))).toHaveLength(3);
+    fs.rmSync(writing, { recursive: true });
+  });
+
   it("leaves the served build as it was when a build fails", () => {
     const before = fs.readlinkSync(path.join(root, "dist"));
     const script = servedScript();
@@ -90,6 +121,6 @@ describe("a client build", () => {
     expect(result.ok).toBe(false);
     expect(fs.existsSync(result.dir)).toBe(false);
     expect(fs.readlinkSync(path.join(root, "dist"))).toBe(before);
-    expect(fs.readFileSync(path.join(root, "dist", script), "utf8")).toContain("fifth");
+    expect(fs.readFileSync(path.join(root, "dist", script), "utf8")).toContain("tenth");
   });
 });
