@@ -39,10 +39,7 @@ beforeAll(async () => {
   );
   keptKey = copy.key;
   keptSha = copy.sha256;
-  const plan = (await admin.get(`/api/fragments/${piece!.id}/files`)).body.plan;
-  const res = await admin.delete(`/api/fragments/${piece!.id}/files`).query({ upTo: plan.files });
-  expect(res.status, JSON.stringify(res.body)).toBe(200);
-  expect(res.body.offsite).toBe("kept");
+  expect((await admin.get("/api/offsite/kept")).body.copies).toEqual([]);
   browser = await openBrowser();
 }, 150_000);
 afterAll(async () => {
@@ -56,6 +53,17 @@ describe("kept off-site copies on the Library screen", () => {
     await signIn(page, stack.url, "admin@test.example", "admin-password-123");
     await page.goto(`${stack.url}/library`);
     const section = page.getByRole("region", { name: "Kept off-site copies" });
+    await expect.poll(() => section.getByTestId("kept-offsite-empty").count(), { timeout: 20_000 }).toBe(1);
+    // The admin goes to the piece (without leaving the app) and deletes its files, keeping the
+    // off-site copy as the delete does unless asked…
+    await page.getByRole("link", { name: "Approved work" }).click();
+    await page.getByRole("link", { name: /plum-print · 1/ }).first().click();
+    await page.getByRole("button", { name: "Delete its master and copies…" }).click();
+    const ask = page.getByRole("group", { name: "Delete its master and copies" });
+    await ask.getByRole("button", { name: /^Delete \d+ files$/ }).click();
+    await expect.poll(() => page.getByRole("status").filter({ hasText: /Deleted \d+ files of plum-print · 1; its off-site copy is kept\./ }).count()).toBe(1);
+    // …and, back on the Library screen, finds it there at once (not a minute later).
+    await page.getByRole("link", { name: "Library" }).click();
     await expect.poll(() => section.getByTestId("kept-offsite-summary").count(), { timeout: 20_000 }).toBe(1);
     const size = (await stack.offsite!.stat(keptKey)).size;
     const summary = await section.getByTestId("kept-offsite-summary").textContent();
@@ -100,6 +108,8 @@ describe("kept off-site copies on the Library screen", () => {
       .poll(() => page.getByRole("status").filter({ hasText: "Removed the kept off-site copy of plum-print · 1" }).count())
       .toBe(1);
     await expect.poll(() => section.getByTestId("kept-offsite-empty").count()).toBe(1);
+    // The keyboard goes on from the section, not from the top of the page.
+    await expect.poll(() => section.evaluate((el) => el !== document.body && el.contains(document.activeElement))).toBe(true);
     expect(await stack.offsite!.exists(keptKey)).toBe(false);
     const { rows } = await stack.database.pool.query(`select actor_email from audit_events where action = 'offsite.remove_kept'`);
     expect(rows).toEqual([{ actor_email: "admin@test.example" }]);

@@ -14,7 +14,7 @@ import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { Fragment } from "../shared/schemas/fragments";
 import type { KeptCopies, KeptCopy } from "../shared/schemas/offsite";
-import { copyMaster } from "../server/services/offsite";
+import { copyLockOf, copyMaster } from "../server/services/offsite";
 import { logger } from "../server/logger";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { approvedPieces } from "./helpers/approved-pieces";
@@ -57,6 +57,17 @@ const settled = () =>
     },
     90_000,
   );
+
+/** Sessions waiting for this advisory lock (a bigint key: its high and low 32 bits are classid and objid). */
+const waitingFor = async (lock: string): Promise<number> => {
+  const { rows } = await stack.database.pool.query<{ n: number }>(
+    `select count(*)::int as n from pg_locks, (select hashtextextended($1, 0) as k) h
+      where locktype = 'advisory' and not granted and objsubid = 1
+        and classid::bigint = (h.k >> 32) & 4294967295 and objid::bigint = h.k & 4294967295`,
+    [lock],
+  );
+  return rows[0]!.n;
+};
 
 const list = async (): Promise<KeptCopies> => {
   const res = await admin.get("/api/offsite/kept");
@@ -167,6 +178,27 @@ describe("kept off-site copies", () => {
     expect(await stack.offsite!.exists(kept.key)).toBe(true);
   });
 
+  it("waits some seconds for an upload of the same master, then says a copy is uploading and removes nothing", async () => {
+    const copy = (await list()).copies[0]!;
+    expect(copy.outputId).toMatch(/^[0-9a-f-]{36}$/);
+    // Another connection holds the master's copy lock, as an upload of it does.
+    const holder = await stack.database.pool.connect();
+    try {
+      await holder.query("select pg_advisory_lock(hashtextextended($1, 0))", [copyLockOf(copy.outputId!)]);
+      const res = await admin.delete("/api/offsite/kept").query({ key: copy.key });
+      expect(res.status, JSON.stringify(res.body)).toBe(409);
+      expect(res.body.error.message).toMatch(/^A copy of this master is being uploaded to the off-site bucket right now/);
+      expect(await stack.offsite!.exists(copy.key)).toBe(true);
+      const { rows } = await stack.database.pool.query("select 1 from audit_events where action = 'offsite.remove_kept'");
+      expect(rows).toHaveLength(0);
+    } finally {
+      await holder.query("select pg_advisory_unlock_all()");
+      holder.release();
+    }
+    // The server's connection is back to waiting without limit for what else it runs.
+    expect((await list()).copies.map((c) => c.key)).toContain(copy.key);
+  });
+
   it("removes it for good: the object is gone from the bucket and the trail says what went", async () => {
     const mark = Number((await stack.database.pool.query<{ id: string | null }>("select max(id) as id from audit_events")).rows[0]!.id ?? 0);
     const res = await admin.delete("/api/offsite/kept").query({ key: kept.key });
@@ -235,8 +267,7 @@ describe("kept off-site copies", () => {
       // …and asks for it to go: the removal waits for this upload's lock.
       removal = admin.delete("/api/offsite/kept").query({ key }).then((r) => r);
       await waitFor("the removal to wait for the copy's lock", async () => {
-        const { rows } = await stack.database.pool.query("select 1 from pg_locks where locktype = 'advisory' and not granted");
-        return rows.length > 0;
+        return (await waitingFor(copyLockOf(outputId))) > 0;
       }, 20_000);
       const put = await stack.offsite!.put(k, copy);
       uploaded = put.sha256;

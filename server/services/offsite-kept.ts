@@ -37,6 +37,12 @@ export interface OffsiteKeptDeps {
 
 type Parsed = NonNullable<ReturnType<typeof parseKeptKey>> & { key: string };
 
+/**
+ * How long a removal waits for an upload of the same master to finish before it says so (a large
+ * master's upload can take minutes; a request should not hang on it, nor hold a connection).
+ */
+const LOCK_WAIT_MS = 10_000;
+
 /** HEADs at once while listing: enough to hide a round trip, few enough for any S3-compatible store. */
 const STAT_CONCURRENCY = 8;
 
@@ -187,7 +193,7 @@ export async function keptCopyForDownload(deps: OffsiteKeptDeps, key: string): P
 /**
  * Runs `fn` holding the per-master advisory locks copyMaster takes (`copyLockOf`), so no copy of
  * those masters uploads or moves its row meanwhile.
- * Taken in one order, so two callers never wait on each other in a circle.
+ * Taken in one order, each waited for at most `LOCK_WAIT_MS` (then a 409 says a copy is uploading).
  */
 async function withCopyLocks<T>(database: Database, outputIds: string[], fn: () => Promise<T>): Promise<T> {
   const client = await database.pool.connect();
@@ -195,10 +201,21 @@ async function withCopyLocks<T>(database: Database, outputIds: string[], fn: () 
   let broken: Error | undefined;
   try {
     try {
-      for (const id of [...new Set(outputIds)].sort()) {
-        const lock = copyLockOf(id);
-        await client.query("select pg_advisory_lock(hashtextextended($1, 0))", [lock]);
-        held.push(lock);
+      // Each lock is waited for at most LOCK_WAIT_MS (the session's lock_timeout, reset after).
+      await client.query(`set lock_timeout = ${LOCK_WAIT_MS}`);
+      try {
+        for (const id of [...new Set(outputIds)].sort()) {
+          const lock = copyLockOf(id);
+          await client.query("select pg_advisory_lock(hashtextextended($1, 0))", [lock]).catch((err: { code?: string }) => {
+            // 55P03 lock_not_available: the wait ran out.
+            if (err.code === "55P03")
+              throw conflict("A copy of this master is being uploaded to the off-site bucket right now. Try again once it is done.");
+            throw err;
+          });
+          held.push(lock);
+        }
+      } finally {
+        await client.query("reset lock_timeout");
       }
       return await fn();
     } finally {
@@ -245,7 +262,15 @@ export async function removeKeptCopy(deps: OffsiteKeptDeps, key: string): Promis
         before: { key, sizeBytes: stat.size, sha256: stat.sha256, modifiedAt: stat.modified.toISOString() },
         after: { key: null },
       });
-      await offsite.remove(key);
+      try {
+        await offsite.remove(key);
+      } catch (err) {
+        // The store may have removed it and lost only its answer: then the removal happened, and
+        // its audit row must stay.
+        const still = await offsite.exists(key).catch(() => true);
+        if (still) throw err;
+        deps.log.warn({ err, key }, "offsite: the kept copy's removal answered with an error, but the copy is gone");
+      }
     });
     deps.log.info({ key, sizeBytes: stat.size, sha256: stat.sha256 }, "offsite: kept copy removed");
     return { key, sizeBytes: stat.size, sha256: stat.sha256 };

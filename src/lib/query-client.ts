@@ -15,3 +15,9 @@ export function createQueryClient(): QueryClient {
     },
   });
 }
+
+/**
+ * The first word of every Library screen query (its overview and its kept off-site copies): other
+ * features that change what the library holds (deleting a piece's files) read them again with it.
+ */
+export const LIBRARY_QUERY_ROOT = ["library"] as const;

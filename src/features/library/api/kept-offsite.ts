@@ -28,6 +28,11 @@ export function useRemoveKeptCopy() {
   const queryClient = useQueryClient();
   return useMutation({
     mutationFn: (key: string) => apiRequest(API.offsiteKeptRemove, { query: { key }, schema: keptCopyRemovedSchema }),
+    // Its row goes at once (no second click on a copy already removed), before the list is read again.
+    onSuccess: (r, key) =>
+      queryClient.setQueryData(keptOffsiteQueryOptions().queryKey, (list) =>
+        list ? { ...list, copies: list.copies.filter((c) => c.key !== key), totalBytes: Math.max(0, list.totalBytes - r.sizeBytes) } : list,
+      ),
     onSettled: () => queryClient.invalidateQueries({ queryKey: keptOffsiteKeys.list }),
   });
 }

@@ -3,8 +3,9 @@ import { z } from "zod";
 import { API } from "../../../../shared/api";
 import { libraryOverviewSchema, refileResponseSchema, tidyReportSchema } from "../../../../shared/schemas/library";
 import { apiRequest } from "../../../lib/api-client";
+import { LIBRARY_QUERY_ROOT } from "../../../lib/query-client";
 
-export const libraryKeys = { all: ["library"] as const, overview: ["library", "overview"] as const };
+export const libraryKeys = { all: LIBRARY_QUERY_ROOT, overview: [...LIBRARY_QUERY_ROOT, "overview"] as const };
 
 /** Until when (ms since the epoch) the overview follows originals being filed again. */
 const refilingKey = ["library", "refiling-until"] as const;

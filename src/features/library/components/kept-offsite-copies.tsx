@@ -1,4 +1,4 @@
-import { useRef, useState } from "react";
+import { useEffect, useRef, useState } from "react";
 import { Link } from "react-router-dom";
 import { API, apiPath } from "../../../../shared/api";
 import type { KeptCopy } from "../../../../shared/schemas/offsite";
@@ -41,6 +41,16 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
   const remove = useRemoveKeptCopy();
   const [asking, setAsking] = useState<KeptCopy | null>(null);
   const bodyRef = useRef<HTMLDivElement>(null);
+  // Where the removed copy's row was: once the dialog has closed (a modal keeps focus inside it),
+  // focus goes to the row that took its place, or to the section when none is left.
+  const refocusAt = useRef<number | null>(null);
+  useEffect(() => {
+    if (asking || refocusAt.current === null) return;
+    const buttons = bodyRef.current?.querySelectorAll<HTMLButtonElement>("button[data-remove-kept]") ?? [];
+    const next = buttons.length > 0 ? buttons[Math.min(refocusAt.current, buttons.length - 1)] : null;
+    (next ?? bodyRef.current)?.focus();
+    refocusAt.current = null;
+  }, [asking, kept.data]);
   // "s3://bucket/prefix at http://endpoint": the bucket is what a person looks for.
   const bucket = target.replace(/ at .*$/, "");
   const confirm = () => {
@@ -48,10 +58,9 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
     const copy = asking;
     remove.mutate(copy.key, {
       onSuccess: (r) => {
+        refocusAt.current = Math.max(0, kept.data?.copies.findIndex((c) => c.key === copy.key) ?? 0);
         setAsking(null);
         toast.success(`Removed the kept off-site copy of ${pieceWords(copy)} (${formatBytes(r.sizeBytes)}).`);
-        // Its row is gone: the focus goes to the section, not to the top of the page.
-        bodyRef.current?.focus();
       },
       onError: () => setAsking(null),
     });
@@ -128,6 +137,7 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
                       variant="secondary"
                       className="shrink-0"
                       aria-label={`Remove the kept copy of ${pieceWords(c)} for good…`}
+                      data-remove-kept
                       onClick={() => setAsking(c)}
                     >
                       Remove for good…
