@@ -105,7 +105,7 @@ describe("kept off-site copies", () => {
   let kept: { outputId: string; key: string; sha256: string };
 
   it("lists nothing while every master is live", async () => {
-    expect(await list()).toEqual({ enabled: true, target: expect.stringContaining("s3://offsite/"), copies: [], totalBytes: 0, note: null });
+    expect(await list()).toEqual({ enabled: true, target: expect.stringContaining("s3://offsite/"), copies: [], totalBytes: 0, otherInstallations: 0, note: null });
   });
 
   it("lists a master's copy kept by a delete, with its piece's name, size and recorded SHA-256; the live masters' copies are not listed", async () => {
@@ -128,6 +128,10 @@ describe("kept off-site copies", () => {
       },
     ] satisfies KeptCopy[]);
     expect(totalBytes).toBe(held.length);
+    // The copy carries this installation's mark (the studio row's installation id).
+    const mine = (await stack.database.pool.query<{ id: string }>("select installation_id as id from studio")).rows[0]!.id;
+    expect(mine).toMatch(/^[0-9a-f-]{36}$/);
+    expect((await stack.offsite!.stat(kept.key)).metadata?.["platen-installation"]).toBe(mine);
     // The live masters' copies are in the bucket all the same.
     for (const p of pieces.slice(1)) expect(await stack.offsite!.exists((await copyOf(p.id)).key)).toBe(true);
   });
@@ -248,6 +252,27 @@ describe("kept off-site copies", () => {
     expect(await stack.offsite!.exists((await copyOf(b.id)).key)).toBe(true);
   });
 
+  it("leaves alone the copies another installation sharing the bucket put there: not listed, not served, not removed", async () => {
+    const dir = await fs.mkdtemp(path.join(os.tmpdir(), "kept-other-"));
+    const file = path.join(dir, "theirs.tif");
+    await fs.writeFile(file, crypto.randomBytes(2048));
+    // A live master of theirs: a key of the same shape, whose rows are in their database, not ours.
+    const theirs = `masters/${crypto.randomUUID()}/${crypto.randomUUID()}.tif`;
+    await stack.offsite!.put(theirs, file, { metadata: { "platen-installation": crypto.randomUUID() } });
+    await fs.rm(dir, { recursive: true, force: true });
+    const before = (await list()).copies.map((c) => c.key);
+    const body = await list();
+    expect(body.copies.map((c) => c.key)).toEqual(before);
+    expect(body.copies.map((c) => c.key)).not.toContain(theirs);
+    expect(body.otherInstallations).toBe(1);
+    for (const res of [await admin.get("/api/offsite/kept/file").query({ key: theirs }), await admin.delete("/api/offsite/kept").query({ key: theirs })]) {
+      expect(res.status, JSON.stringify(res.body)).toBe(409);
+      expect(res.body.error.message).toMatch(/^This copy was put in the bucket by another Platen installation that shares it/);
+    }
+    expect(await stack.offsite!.exists(theirs)).toBe(true);
+    await stack.offsite!.remove(theirs);
+  });
+
   it("waits, removing a copy, for an upload of it under way (the same per-master lock), then removes what landed", async () => {
     const c = pieces[2]!;
     const { outputId, key } = await copyOf(c.id);
@@ -305,6 +330,7 @@ describe("kept off-site copies without an off-site bucket", () => {
       target: null,
       copies: [],
       totalBytes: 0,
+      otherInstallations: 0,
       note: "Off-site copy is off (no PLATEN_OFFSITE_BUCKET), so no copies are kept off-site.",
     });
     const key = `masters/${crypto.randomUUID()}/${crypto.randomUUID()}.tif`;

@@ -48,6 +48,12 @@ export const studio = pgTable("studio", {
   /** Written into every master and copy as creator (artist) and copyright, unless empty. */
   creator: text("creator"),
   copyright: text("copyright"),
+  /**
+   * This installation's own mark, written on the objects it puts in the off-site bucket, so that
+   * two installations sharing a bucket never take each other's copies for their own. A database
+   * restored from a backup keeps it.
+   */
+  installationId: uuid("installation_id").notNull().defaultRandom(),
   ...timestamps,
 });
 

@@ -10,6 +10,7 @@ import { parseKeptKey, type KeptCopies, type KeptCopy, type KeptCopyRemoved } fr
 import { formatBytes } from "../../shared/units";
 import { recordAudit } from "./audit";
 import { copyLockOf } from "./offsite";
+import { INSTALLATION_METADATA, installationId } from "./studio";
 
 /**
  * Kept off-site copies: masters' copies in the off-site bucket that no master names any more.
@@ -118,6 +119,7 @@ export async function listKeptCopies(deps: OffsiteKeptDeps): Promise<KeptCopies>
       target: null,
       copies: [],
       totalBytes: 0,
+      otherInstallations: 0,
       note: "Off-site copy is off (no PLATEN_OFFSITE_BUCKET), so no copies are kept off-site.",
     };
   // The listing first, the rows after it: see the module's comment.
@@ -134,10 +136,16 @@ export async function listKeptCopies(deps: OffsiteKeptDeps): Promise<KeptCopies>
     }),
   );
   const pieces = await piecesOf(deps.database, kept.map((p) => p.fragmentId));
+  const mine = await installationId(deps.database.db);
   const copies: KeptCopy[] = [];
+  let otherInstallations = 0;
   kept.forEach((p, i) => {
     const stat = stats[i];
     if (!stat) return;
+    if (!isMine(stat, mine)) {
+      otherInstallations++;
+      return;
+    }
     const piece = pieces.get(p.fragmentId) ?? null;
     copies.push(present(p, stat, piece));
   });
@@ -147,6 +155,7 @@ export async function listKeptCopies(deps: OffsiteKeptDeps): Promise<KeptCopies>
     target: targetOf(offsite),
     copies,
     totalBytes: copies.reduce((n, c) => n + c.sizeBytes, 0),
+    otherInstallations,
     note: null,
   };
 }
@@ -164,6 +173,15 @@ function present(p: Parsed, stat: StoredStat, piece: KeptCopy["piece"]): KeptCop
   };
 }
 
+/**
+ * Whether this installation put the object there: its mark, or no mark at all (copies made before
+ * objects were marked, which only this installation's masters could have been, by their keys).
+ */
+function isMine(stat: StoredStat, mine: string | null): boolean {
+  const owner = stat.metadata?.[INSTALLATION_METADATA];
+  return !owner || !mine || owner === mine;
+}
+
 const NAMED =
   "This off-site copy belongs to a master that is still in the library, so it is not a kept copy. It goes only with its piece's files, from the piece's page.";
 
@@ -173,13 +191,19 @@ async function keptNow(deps: OffsiteKeptDeps, offsite: S3Storage, key: string): 
   if (!p) throw notFound("That kept off-site copy");
   const parsed = { ...p, key };
   if ((await unnamed(deps.database, [parsed])).length === 0) throw conflict(NAMED);
+  let stat: StoredStat;
   try {
-    return { parsed, stat: await offsite.stat(key) };
+    stat = await offsite.stat(key);
   } catch (err) {
     if (isStorageError(err, "missing"))
       throw notFound(`The kept off-site copy "${key}" (it may have been removed already)`);
     throw err;
   }
+  if (!isMine(stat, await installationId(deps.database.db)))
+    throw conflict(
+      "This copy was put in the bucket by another Platen installation that shares it: it is that installation's to keep or remove, not this one's.",
+    );
+  return { parsed, stat };
 }
 
 /** The bucket and the checked key for a download of one kept copy (the route streams it). */

@@ -12,6 +12,7 @@ import { isStorageError } from "../storage/storage";
 import type { S3Storage } from "../storage/s3";
 import { hashStream } from "../storage/files";
 import type { FragmentOffsite, OffsiteCopy } from "../../shared/schemas/offsite";
+import { INSTALLATION_METADATA, installationId } from "./studio";
 
 /**
  * The off-site copy: with a local library and an off-site bucket configured, every master is also
@@ -198,9 +199,11 @@ async function copyMasterLocked(
   // The row's copy under an older key (copies made before keys were per master): removed once the
   // new one has landed, but only if it is the row's own copy, as it was recorded when it landed.
   const previous = before && before.key !== key && before.copiedAt && before.sha256 ? { key: before.key, sha256: before.sha256 } : null;
+  // Marked as this installation's: another sharing the bucket never takes it for a kept copy of its own.
+  const mine = await installationId(db);
   try {
     const sha256 = await deps.library.withLocalFile(master.key, async (file) => {
-      const put = await offsite.put(key, file);
+      const put = await offsite.put(key, file, mine ? { metadata: { [INSTALLATION_METADATA]: mine } } : {});
       const there = await offsite.stat(key);
       if (there.size !== put.size || there.sha256 !== put.sha256) {
         throw new Error(

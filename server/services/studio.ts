@@ -15,6 +15,22 @@ async function studioRow(db: Db): Promise<StudioRow | undefined> {
   return row;
 }
 
+/** The word an off-site object carries to say which installation put it there. */
+export const INSTALLATION_METADATA = "platen-installation";
+
+/**
+ * This installation's mark (`studio.installation_id`), or null before bootstrap has written the
+ * studio row. It never changes once written, so each process reads it once.
+ */
+const installationIds = new WeakMap<Db, string>();
+export async function installationId(db: Db): Promise<string | null> {
+  const known = installationIds.get(db);
+  if (known) return known;
+  const row = await studioRow(db);
+  if (row) installationIds.set(db, row.installationId);
+  return row?.installationId ?? null;
+}
+
 export async function getStudioSettings(db: Db, config: Pick<Config, "defaultDpi">): Promise<StudioSettings> {
   const row = await studioRow(db);
   return {

@@ -100,6 +100,7 @@ export class S3Storage implements Storage {
         size: r.ContentLength ?? 0,
         modified: r.LastModified ?? new Date(0),
         sha256: r.Metadata?.sha256 ?? null,
+        metadata: r.Metadata ?? {},
         etag: (r.ETag ?? "").replace(/"/g, ""),
       };
     } catch (err) {
@@ -118,8 +119,8 @@ export class S3Storage implements Storage {
   }
 
   async stat(key: string): Promise<StoredStat> {
-    const { size, modified, sha256 } = await this.head(key);
-    return { size, modified, sha256 };
+    const { size, modified, sha256, metadata } = await this.head(key);
+    return { size, modified, sha256, metadata };
   }
 
   async checksum(key: string): Promise<string> {
@@ -152,7 +153,7 @@ export class S3Storage implements Storage {
           Body: snapshot.stream() as Readable,
           ContentLength: size,
           ContentType: opts.contentType ?? contentTypeFor(key),
-          Metadata: { sha256 },
+          Metadata: { ...opts.metadata, sha256 },
         },
         partSize: this.settings.partSizeBytes,
         queueSize: 2,

@@ -67,6 +67,8 @@ export interface PutOptions {
   contentType?: string;
   /** The caller hands `fromFile` over: it is moved (locally renamed) rather than copied. */
   move?: boolean;
+  /** Further words kept with the object (S3 object metadata; lowercase names). A folder keeps none. */
+  metadata?: Record<string, string>;
 }
 export interface PutResult {
   /** False when a write-once key already held the file and nothing was written. */
@@ -83,6 +85,8 @@ export interface StoredStat {
   size: number;
   modified: Date;
   sha256: string | null;
+  /** The words kept with the object at its put (S3 only; a folder keeps none). */
+  metadata?: Record<string, string>;
 }
 /** Inclusive byte positions, as in an HTTP Range header. */
 export interface ByteRange {

@@ -92,6 +92,11 @@ export const keptCopiesSchema = z.object({
   target: z.string().nullable(),
   copies: z.array(keptCopySchema),
   totalBytes: z.number(),
+  /**
+   * Copies in the bucket that no master here names but that another installation put there (it
+   * shares the bucket): not listed, never removed from here.
+   */
+  otherInstallations: z.number().int(),
   /** Why the list is empty for a reason other than "none kept" (off-site copy off); null otherwise. */
   note: z.string().nullable(),
 });

@@ -148,6 +148,13 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
             </ul>
           </div>
         )}
+        {kept.data && kept.data.otherInstallations > 0 && (
+          <p className="mt-3 text-xs text-ink-muted" data-testid="kept-offsite-others">
+            {plural(kept.data.otherInstallations, "more copy", "more copies")} in this bucket{" "}
+            {kept.data.otherInstallations === 1 ? "was" : "were"} put there by another Platen installation that shares
+            it: not listed here, and never removed from here.
+          </p>
+        )}
       </div>
       <ConfirmDialog
         open={asking !== null}

@@ -1,0 +1,1 @@
+ALTER TABLE "studio" ADD COLUMN "installation_id" uuid DEFAULT gen_random_uuid() NOT NULL;
