@@ -21,7 +21,7 @@ export default {
           DEFAULT: "#2b2823",
           soft: "#55504a",
           muted: "#68615a",
-          faint: "#a39b8f",
+          faint: "#888074",
         },
         accent: {
           DEFAULT: "#2f6b5e",

@@ -20,7 +20,7 @@ function Value({ value, side }: { value: unknown; side: "before" | "after" }) {
   const view = valueView(value);
   switch (view.kind) {
     case "empty":
-      return <span className="text-ink-faint">—</span>;
+      return <span className="text-ink-muted">—</span>;
     case "text":
       return (
         <span className={cn("break-words", side === "after" ? "text-ink" : "text-ink-soft")}>
@@ -178,7 +178,7 @@ export function AuditDetail({ id, preview }: { id: number; preview?: AuditEvent 
             </>
           )}
           {event.subjectId && (
-            <span className="figure block truncate text-[11px] text-ink-faint">
+            <span className="figure block truncate text-[11px] text-ink-muted">
               {event.subjectId}
             </span>
           )}

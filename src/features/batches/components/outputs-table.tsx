@@ -167,7 +167,7 @@ export function OutputsTable({
                             src={outputThumbUrl(batchId, o.id)}
                             className="max-h-full max-w-full object-contain"
                             fallback={
-                              <span className="text-[10px] text-ink-faint">
+                              <span className="text-[10px] text-ink-muted">
                                 {o.fileName!.split(".").pop()?.toUpperCase()}
                               </span>
                             }
@@ -176,7 +176,7 @@ export function OutputsTable({
                       ) : (
                         <span className="flex size-12 shrink-0 items-center justify-center overflow-hidden rounded border border-paper-200 bg-[#e7e2d6]">
                           {o.state === "done" && o.fileName && !gone ? (
-                            <span className="text-[10px] text-ink-faint">PDF</span>
+                            <span className="text-[10px] text-ink-muted">PDF</span>
                           ) : null}
                         </span>
                       )}

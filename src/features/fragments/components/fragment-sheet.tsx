@@ -136,7 +136,7 @@ export function FragmentFacts({
           />
         ) : (
           <dl>
-            <Row term="Title">{f.title ?? <span className="text-ink-faint">None</span>}</Row>
+            <Row term="Title">{f.title ?? <span className="text-ink-muted">None</span>}</Row>
             <Row term="Tags">
               {f.tags.length > 0 ? (
                 <ul className="flex flex-wrap gap-1.5">
@@ -150,14 +150,14 @@ export function FragmentFacts({
                   ))}
                 </ul>
               ) : (
-                <span className="text-ink-faint">None</span>
+                <span className="text-ink-muted">None</span>
               )}
             </Row>
             <Row term="Notes">
               {f.notes ? (
                 <span className="whitespace-pre-wrap">{f.notes}</span>
               ) : (
-                <span className="text-ink-faint">None</span>
+                <span className="text-ink-muted">None</span>
               )}
             </Row>
           </dl>

@@ -110,7 +110,7 @@ function Thumb({ fragment }: { fragment: ShownFragment }) {
       <ThumbImage
         src={fragmentThumbUrl(fragment)}
         className="max-h-full max-w-full object-contain"
-        fallback={<span className="text-[10px] text-ink-faint">no picture</span>}
+        fallback={<span className="text-[10px] text-ink-muted">no picture</span>}
       />
     </span>
   );

@@ -62,7 +62,7 @@ function Picture({ fragment }: { fragment: Fragment }) {
       <ThumbImage
         src={fragmentPictureUrl(fragment)}
         className="max-h-full max-w-full bg-white object-contain shadow-sm"
-        fallback={<span className="text-xs text-ink-faint">No picture</span>}
+        fallback={<span className="text-xs text-ink-muted">No picture</span>}
       />
     </span>
   );

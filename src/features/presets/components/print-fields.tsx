@@ -147,7 +147,7 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
                 onClick={() => set({ ...p, placement: pl })}
                 className={cn(
                   "flex size-7 items-center justify-center rounded",
-                  p.placement === pl ? "bg-accent text-white" : "text-ink-faint hover:bg-paper-200",
+                  p.placement === pl ? "bg-accent text-white" : "text-ink-muted hover:bg-paper-200",
                 )}
               >
                 <span className="size-2 rounded-sm bg-current" />

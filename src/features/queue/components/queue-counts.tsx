@@ -46,7 +46,7 @@ export function QueueCounts({
                   aria-label={`${label} count`}
                   className={cn(
                     "figure block text-4xl leading-none font-medium",
-                    n === 0 ? "text-ink-faint" : FIGURE_TONE[status],
+                    n === 0 ? "text-ink-muted" : FIGURE_TONE[status],
                   )}
                 >
                   {n}

@@ -18,7 +18,7 @@ export function WaitingList({ waiting }: { waiting: QueueSummary["waiting"] }) {
         <ol className="-my-1 divide-y divide-paper-200">
           {waiting.map((item, index) => (
             <li key={item.scanId} className="flex items-baseline gap-3 py-2 text-sm">
-              <span className="figure w-6 shrink-0 text-right text-xs text-ink-faint">
+              <span className="figure w-6 shrink-0 text-right text-xs text-ink-muted">
                 {index + 1}
               </span>
               <Link

@@ -86,7 +86,7 @@ export function FragmentPicker({
               onChange={(e) => setFilter(e.target.value)}
               placeholder="Find by name"
               aria-label="Find fragments by name"
-              className="h-8 w-56 rounded-md border border-paper-300 bg-white px-2.5 text-sm placeholder:text-ink-faint"
+              className="h-8 w-56 rounded-md border border-paper-300 bg-white px-2.5 text-sm placeholder:text-ink-muted"
             />
             <span className="text-xs text-ink-muted">
               {full

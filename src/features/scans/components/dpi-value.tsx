@@ -21,7 +21,7 @@ export function DpiValue({
   /** Let the "assumed" tag go under the figure in a narrow column. */
   wrap?: boolean;
 }) {
-  if (!dpi) return <span className="text-ink-faint">—</span>;
+  if (!dpi) return <span className="text-ink-muted">—</span>;
   return (
     <span className={cn("inline-flex items-center gap-x-2 gap-y-1", (axes || wrap) && "flex-wrap")}>
       <span className="figure whitespace-nowrap">

@@ -32,7 +32,7 @@ function Row({ term, children }: { term: string; children: ReactNode }) {
 }
 
 function Unknown({ children = "Not known yet" }: { children?: ReactNode }) {
-  return <span className="text-ink-faint">{children}</span>;
+  return <span className="text-ink-muted">{children}</span>;
 }
 
 function yesNo(value: boolean | null, unknown: ReactNode): ReactNode {

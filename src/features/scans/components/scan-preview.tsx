@@ -49,7 +49,7 @@ function ApprovedWorkPointer({ scan }: { scan: Scan }) {
   return (
     <figure className={cn(MAT, "min-h-[18rem]")} aria-label="The scan's picture">
       <figcaption className="flex max-w-sm flex-col items-center gap-3 text-center text-sm text-ink-muted">
-        <span className="flex size-14 items-center justify-center rounded-lg border border-paper-300 bg-paper-100 text-ink-faint">
+        <span className="flex size-14 items-center justify-center rounded-lg border border-paper-300 bg-paper-100 text-ink-faint" aria-hidden="true">
           <PiecesIcon className="size-7" />
         </span>
         <span>

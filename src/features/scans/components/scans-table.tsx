@@ -309,7 +309,7 @@ export function ScansTable({
 
 function Dash() {
   return (
-    <span className="text-ink-faint">
+    <span className="text-ink-muted">
       <span aria-hidden="true">—</span>
       <span className="sr-only">not known yet</span>
     </span>
