@@ -47,6 +47,13 @@ describe("studio settings and a scan's resolution in the browser", () => {
     await page.getByRole("button", { name: /Start with © \d{4}/ }).click();
     const year = new Date().getFullYear();
     expect(await page.getByLabel("Copyright line").inputValue()).toBe(`© ${year} Mara Ilves`);
+    // The button goes once the line starts with ©: the typing carries on at the line's end, not
+    // into a page that has lost its focus.
+    await expect
+      .poll(() => page.getByLabel("Copyright line").evaluate((el) => el === document.activeElement))
+      .toBe(true);
+    await page.keyboard.type(". All rights reserved.");
+    expect(await page.getByLabel("Copyright line").inputValue()).toBe(`© ${year} Mara Ilves. All rights reserved.`);
     await page.getByLabel("Assumed resolution (DPI)").fill("20");
     await save.click();
     await expect.poll(() => page.getByText("Expected an assumed resolution of at least 50 DPI").count()).toBe(1);
@@ -55,8 +62,11 @@ describe("studio settings and a scan's resolution in the browser", () => {
     await page.getByLabel("Assumed resolution (DPI)").fill("400");
     await save.click();
     await expect.poll(() => page.getByRole("status").filter({ hasText: "Studio settings saved" }).count()).toBe(1);
+    // The button is disabled now that nothing is left to save: the focus waits on the line that
+    // says so rather than falling to the top of the page.
+    await expect.poll(() => page.getByTestId("studio-saved").evaluate((el) => el === document.activeElement)).toBe(true);
     const { rows } = await stack.database.pool.query("select creator, copyright, default_dpi from studio");
-    expect(rows[0]).toEqual({ creator: "Mara Ilves", copyright: `© ${year} Mara Ilves`, default_dpi: 400 });
+    expect(rows[0]).toEqual({ creator: "Mara Ilves", copyright: `© ${year} Mara Ilves. All rights reserved.`, default_dpi: 400 });
     await page.reload();
     await expect.poll(() => page.getByLabel("Creator").inputValue()).toBe("Mara Ilves");
     expect(await page.getByTestId("studio-saved").textContent()).toMatch(/^Saved /);

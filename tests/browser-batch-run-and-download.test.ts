@@ -82,6 +82,10 @@ describe("batches in the browser", () => {
     const rows = page.getByRole("table", { name: "Outputs" }).locator("tbody tr[data-state]");
     expect(await rows.count()).toBe(4);
     expect(await page.locator('tr[data-state="done"]').count()).toBe(4);
+    // The soft prints are explained with what would help, and where to do it.
+    const advice = page.getByTestId("soft-print-advice");
+    expect(await advice.textContent()).toMatch(/give the print preset an exact size nearer the piece's own .* or scan the piece again at a higher resolution\.$/);
+    expect(await advice.getByRole("link", { name: "Presets" }).getAttribute("href")).toBe("/presets");
     // Print outputs show a printed size in inches and centimetres.
     const printed = await page.getByTestId("printed-size").allTextContents();
     expect(printed.filter((t) => /^\d+(\.\d+)? × \d+(\.\d+)? in\d+(\.\d+)? × \d+(\.\d+)? cm$/.test(t))).toHaveLength(2);
@@ -176,6 +180,15 @@ describe("batches in the browser", () => {
     await page.waitForURL(`${stack.url}/batches/${batchId}`);
     await page.reload(); // the preset changed outside this page
     await page.getByRole("button", { name: "Run again with…" }).click();
+    // The choices take the focus from the button they replace, and say where a new size is made.
+    const firstChoice = page.getByRole("region", { name: "Run again" }).getByRole("checkbox").first();
+    await expect.poll(() => firstChoice.evaluate((el) => el === document.activeElement)).toBe(true);
+    expect(await page.getByTestId("rerun-size-hint").getByRole("link", { name: "Presets" }).getAttribute("href")).toBe("/presets");
+    // Escape closes them and gives the focus back to the button; it opens again from the keys.
+    await page.keyboard.press("Escape");
+    const rerunOpener = page.getByRole("button", { name: "Run again with…" });
+    await expect.poll(() => rerunOpener.evaluate((el) => el === document.activeElement)).toBe(true);
+    await page.keyboard.press("Enter");
     // The batch's own presets are picked already; the web one now at its new version.
     await expect.poll(() => page.getByRole("checkbox", { name: "Preset web" }).isChecked(), { timeout: 10_000 }).toBe(true);
     expect(await page.getByRole("checkbox", { name: "Preset print-letter" }).isChecked()).toBe(true);

@@ -5,6 +5,8 @@
  * (WCAG 2.1 definitions; the linearisation is IEC 61966-2-1's, whose threshold WCAG quotes as
  * 0.03928 against the standard's 0.04045: no 8-bit value lies between them).
  */
+import fs from "node:fs";
+import path from "node:path";
 import { describe, expect, it } from "vitest";
 import config from "../tailwind.config";
 import { COLOURS as MAIL } from "../server/mail/layout";
@@ -76,5 +78,35 @@ describe("the theme's text colours", () => {
   it("e-mail warnings and failures are readable on their soft grounds", () => {
     expect(ratio(MAIL.ochre, MAIL.ochreSoft)).toBeGreaterThanOrEqual(4.5);
     expect(ratio(MAIL.brick, MAIL.brickSoft)).toBeGreaterThanOrEqual(4.5);
+  });
+
+  // ink-faint is for what is not read as text: icons, borders, disabled controls and the very
+  // large 404 figure. Those need 3:1 (WCAG 2.1 SC 1.4.11 non-text contrast; SC 1.4.3 for large text).
+  for (const [g, bg] of Object.entries(grounds))
+    it(`ink-faint (${colours.ink!.faint}) on ${g} (${bg}) reaches 3:1 for icons, borders and large figures`, () => {
+      expect(ratio(colours.ink!.faint!, bg)).toBeGreaterThanOrEqual(3);
+    });
+});
+
+describe("where the faint ink is used", () => {
+  /** Every .tsx file under src/. */
+  function sources(dir: string): string[] {
+    return fs.readdirSync(dir, { withFileTypes: true }).flatMap((e) => {
+      const full = path.join(dir, e.name);
+      return e.isDirectory() ? sources(full) : e.name.endsWith(".tsx") ? [full] : [];
+    });
+  }
+  it("is never the colour of text people read: only of icons (hidden from reading), disabled controls and the 404 figure", () => {
+    const misuses: string[] = [];
+    for (const file of sources(path.resolve("src")))
+      fs.readFileSync(file, "utf8")
+        .split("\n")
+        .forEach((line, i) => {
+          // Text coloured faint, other than while disabled (WCAG 2.1 exempts inactive controls).
+          if (!/(^|[\s"'`(])(placeholder:)?text-ink-faint/.test(line.replace(/disabled:text-ink-faint/g, ""))) return;
+          const allowed = /aria-hidden="true"|<svg|text-5xl/.test(line);
+          if (!allowed) misuses.push(`${path.relative(process.cwd(), file)}:${i + 1}: ${line.trim()}`);
+        });
+    expect(misuses).toEqual([]);
   });
 });

@@ -1,8 +1,14 @@
-import { useId, type InputHTMLAttributes, type ReactNode, type SelectHTMLAttributes } from "react";
+import {
+  useId,
+  type InputHTMLAttributes,
+  type ReactNode,
+  type Ref,
+  type SelectHTMLAttributes,
+} from "react";
 import { cn } from "../lib/cn";
 
 export const inputClass =
-  "h-10 rounded-md border border-paper-300 bg-white px-3 text-sm text-ink placeholder:text-ink-faint hover:border-ink-faint focus-visible:border-accent disabled:bg-paper-100 disabled:text-ink-muted aria-[invalid=true]:border-brick";
+  "h-10 rounded-md border border-paper-300 bg-white px-3 text-sm text-ink placeholder:text-ink-muted hover:border-ink-faint focus-visible:border-accent disabled:bg-paper-100 disabled:text-ink-muted aria-[invalid=true]:border-brick";
 
 interface FieldShellProps {
   label: ReactNode;
@@ -35,6 +41,8 @@ function FieldShell({ label, hint, error, id, children, className }: FieldShellP
 }
 
 type TextFieldProps = Omit<InputHTMLAttributes<HTMLInputElement>, "id"> & {
+  /** The input itself (to focus it after an action that fills it in). */
+  ref?: Ref<HTMLInputElement>;
   label: ReactNode;
   hint?: ReactNode;
   error?: string;

@@ -29,6 +29,18 @@ export function Toaster() {
             <span className="sr-only">{TONE_LABEL[t.tone]}: </span>
             {t.message}
           </p>
+          {t.action && (
+            <button
+              type="button"
+              onClick={() => {
+                dismissToast(t.id);
+                t.action!.run();
+              }}
+              className="-my-1 rounded px-2 font-medium text-accent underline-offset-2 hover:bg-paper-200 hover:underline"
+            >
+              {t.action.label}
+            </button>
+          )}
           <button
             type="button"
             onClick={() => dismissToast(t.id)}

@@ -13,11 +13,18 @@ import { WatcherStatus } from "../../features/queue/components/watcher-status";
 import { BatchList } from "../../features/recipes/components/batch-list";
 import { RetryScanButton } from "../../features/scans/components/retry-scan-button";
 import { useHasRole } from "../../lib/authorization";
+import { useMediaQuery } from "../../lib/use-media-query";
 
 export function QueueRoute() {
   const summary = useQueueSummary();
   const queryClient = useQueryClient();
   const isOperator = useHasRole("operator");
+  // Two columns from Tailwind's `xl` width. In one column (a 1024 px laptop) what waits for a
+  // decision comes right after what is being read, not below every other panel.
+  const twoColumns = useMediaQuery("(min-width: 80rem)");
+  const reviewList = summary.data && (
+    <ReviewList review={summary.data.review} canReview={isOperator} />
+  );
 
   return (
     <>
@@ -41,6 +48,7 @@ export function QueueRoute() {
           <div className="grid grid-cols-1 gap-6 xl:grid-cols-[3fr_2fr]">
             <div className="flex flex-col gap-6">
               <RunningNow running={summary.data.running} />
+              {!twoColumns && reviewList}
               <BatchList batches={summary.data.batches} />
               <FailureList
                 failures={summary.data.failures}
@@ -62,7 +70,7 @@ export function QueueRoute() {
               />
             </div>
             <div className="flex flex-col gap-6">
-              <ReviewList review={summary.data.review} canReview={isOperator} />
+              {twoColumns && reviewList}
               <WatcherStatus watcher={summary.data.watcher} workers={summary.data.workers} />
               <WaitingList waiting={summary.data.waiting} />
             </div>

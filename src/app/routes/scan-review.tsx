@@ -6,7 +6,11 @@ import { Notice } from "../../components/notice";
 import { ProgressBar } from "../../components/progress-bar";
 import { StatusBadge } from "../../components/status-badge";
 import { paths } from "../../config/paths";
-import { ReviewWorkspace } from "../../features/fragments/components/review-workspace";
+import {
+  ReviewWorkspace,
+  type NextScan,
+} from "../../features/fragments/components/review-workspace";
+import { useQueueSummary } from "../../features/queue/api/get-queue";
 import { scanQueryOptions, useScan } from "../../features/scans/api/get-scan";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
 import { ScanNotLoaded } from "./scan-not-loaded";
@@ -22,6 +26,13 @@ function ScanReview() {
   const { id = "" } = useParams();
   const scan = useScan(id);
   const queryClient = useQueryClient();
+  // The queue's list of scans waiting for review (newest first): the first other one is where
+  // the operator goes on once this scan is done.
+  const queue = useQueueSummary();
+  const waiting = queue.data?.review.scans.find((w) => w.scanId !== id && w.proposed > 0);
+  const nextScan: NextScan | null = waiting
+    ? { id: waiting.scanId, originalName: waiting.originalName, proposed: waiting.proposed }
+    : null;
 
   if (!scan.isSuccess) return <ScanNotLoaded scan={scan} />;
   const s = scan.data;
@@ -47,7 +58,10 @@ function ScanReview() {
       </nav>
       {hasSize(s) && (s.status === "ready" || s.fragments.total > 0) ? (
         <ReviewWorkspace
+          // A new scan is a new review: its selection and undo history start afresh.
+          key={s.id}
           scan={s}
+          nextScan={nextScan}
           heading={heading}
           onScanChanged={(next) =>
             queryClient.setQueryData(scanQueryOptions(next.id).queryKey, next)

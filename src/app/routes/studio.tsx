@@ -1,4 +1,4 @@
-import { useState, type FormEvent } from "react";
+import { useRef, useState, type FormEvent } from "react";
 import {
   updateStudioBody,
   type StudioSettings,
@@ -109,7 +109,16 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
     }
     setErrors({});
     update.mutate(parsed.data, {
-      onSuccess: () => toast.success("Studio settings saved. Files made from now on carry them."),
+      onSuccess: () => {
+        toast.success("Studio settings saved. Files made from now on carry them.");
+        // The save button is disabled once nothing is left to save: a person who pressed it
+        // keeps their place on the line that says it is saved, not at the top of the page.
+        requestAnimationFrame(() => {
+          const at = document.activeElement;
+          if (at === document.body || (at instanceof HTMLButtonElement && at.disabled))
+            savedNote.current?.focus();
+        });
+      },
       onError: (error) => {
         const { field, message } = serverErrorFor(error, FIELDS);
         if (field) setErrors({ [field]: message });
@@ -118,10 +127,20 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
     });
   };
 
+  const copyrightInput = useRef<HTMLInputElement>(null);
+  const savedNote = useRef<HTMLSpanElement>(null);
+  // The button goes once the line starts with ©, so the typing goes on in the line itself, after
+  // what was put in (otherwise the focus falls to the page and the next keys are lost).
   const insertMark = () => {
     setCopyright((c) =>
       c.startsWith("©") ? c : `© ${new Date().getFullYear()} ${c || creator}`.trimEnd(),
     );
+    requestAnimationFrame(() => {
+      const input = copyrightInput.current;
+      if (!input) return;
+      input.focus();
+      input.setSelectionRange(input.value.length, input.value.length);
+    });
   };
 
   const clear = (f: Field) => errors[f] && setErrors((e) => ({ ...e, [f]: undefined }));
@@ -193,6 +212,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
               />
               <div className="flex flex-col gap-1.5">
                 <TextField
+                  ref={copyrightInput}
                   label="Copyright line"
                   value={copyright}
                   maxLength={COPYRIGHT_MAX}
@@ -225,7 +245,12 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
           <Button type="submit" variant="primary" busy={update.isPending} disabled={!changed}>
             Save settings
           </Button>
-          <span className="text-xs text-ink-muted" data-testid="studio-saved">
+          <span
+            ref={savedNote}
+            tabIndex={-1}
+            className="text-xs text-ink-muted outline-none"
+            data-testid="studio-saved"
+          >
             {changed ? (
               "Not saved yet."
             ) : saved.updatedAt.startsWith("1970") ? (

@@ -1,8 +1,10 @@
 import { useMemo } from "react";
+import { Link } from "react-router-dom";
 import type { PresetSummary } from "../../../../shared/schemas/preset-api";
 import { Button } from "../../../components/button";
 import { Notice } from "../../../components/notice";
 import { PageHeader, Panel } from "../../../components/panel";
+import { paths } from "../../../config/paths";
 import { Can } from "../../../lib/authorization";
 import { toast } from "../../../lib/toast";
 import { useCancelBatch } from "../api/cancel-batch";
@@ -123,6 +125,18 @@ export function BatchReport({
               <span className="text-xs">
                 Marked in the table below, for example: {warned[0]!.warnings[0]}
               </span>
+              {warned.some((o) => o.presetKind === "print" && o.effectiveDpi !== null) && (
+                // Saying "may look soft" alone leaves the person to guess what would help.
+                <span className="mt-1.5 block text-xs" data-testid="soft-print-advice">
+                  Fitted to its paper, a small piece is enlarged past the detail its scan holds. For
+                  sharper prints, give the print preset an exact size nearer the piece&apos;s own
+                  (Scale: Exact size, on{" "}
+                  <Link to={paths.presets} className="font-medium underline underline-offset-2">
+                    Presets
+                  </Link>
+                  ), or scan the piece again at a higher resolution.
+                </span>
+              )}
             </Notice>
           )}
         </div>

@@ -1,5 +1,5 @@
-import { useMemo, useState } from "react";
-import { useNavigate } from "react-router-dom";
+import { useMemo, useRef, useState } from "react";
+import { Link, useNavigate } from "react-router-dom";
 import type { PresetSummary } from "../../../../shared/schemas/preset-api";
 import { Button } from "../../../components/button";
 import { Panel } from "../../../components/panel";
@@ -32,6 +32,17 @@ export function RerunPanel({
   const [open, setOpen] = useState(false);
   const [ids, setIds] = useState<string[]>(current);
   const [replaceOld, setReplaceOld] = useState(false);
+  const opener = useRef<HTMLButtonElement>(null);
+  const choices = useRef<HTMLDivElement>(null);
+  // The button that opened the choices goes away with them: the focus follows to the first
+  // preset, and back to the button when they close, so the keys carry on where the person is.
+  const show = (next: boolean) => {
+    setOpen(next);
+    requestAnimationFrame(() => {
+      if (next) choices.current?.querySelector<HTMLInputElement>("input")?.focus();
+      else opener.current?.focus();
+    });
+  };
   // What the new run would make and reuse, asked only while the panel is open. A batch of more
   // fragments than one request may name is run without the figures.
   const body = useMemo(
@@ -59,41 +70,88 @@ export function RerunPanel({
     <Panel title="Run again" titleId="batch-rerun">
       {!open ? (
         <div className="flex flex-col gap-2">
-          <p className="text-xs text-ink-muted">The same fragments with other presets, e.g. at a new size or a new preset version.</p>
-          <Button onClick={() => setOpen(true)}>Run again with…</Button>
+          <p className="text-xs text-ink-muted">
+            The same fragments with other presets, e.g. at a new size or a new preset version.
+          </p>
+          <Button ref={opener} onClick={() => show(true)}>
+            Run again with…
+          </Button>
         </div>
       ) : (
-        <div className="flex flex-col gap-4">
+        <div
+          ref={choices}
+          className="flex flex-col gap-4"
+          onKeyDown={(e) => {
+            if (e.key === "Escape") {
+              e.preventDefault();
+              show(false);
+            }
+          }}
+        >
+          <p className="text-xs text-ink-muted" data-testid="rerun-size-hint">
+            Each preset runs at its newest version. For a new size, save the preset with it on{" "}
+            <Link
+              to={paths.presets}
+              className="font-medium text-accent underline underline-offset-2"
+            >
+              Presets
+            </Link>{" "}
+            first, then come back here.
+          </p>
           <PresetChecklist presets={presets} selected={ids} onChange={setIds} />
           {fragmentIds.length <= MAX_PICKED && (
-            <div className="rounded-md border border-paper-300 bg-white px-3 py-2.5" data-testid="rerun-estimate">
+            <div
+              className="rounded-md border border-paper-300 bg-white px-3 py-2.5"
+              data-testid="rerun-estimate"
+            >
               <EstimateCard
                 estimate={body ? estimate.data : undefined}
                 loading={estimate.isFetching}
                 error={estimate.error}
-                waitingFor={ids.length === 0 ? "Pick at least one preset to see the count and size." : null}
+                waitingFor={
+                  ids.length === 0 ? "Pick at least one preset to see the count and size." : null
+                }
               />
             </div>
           )}
           <fieldset className="flex flex-col gap-2 text-sm">
             <legend className="mb-1 text-xs font-medium text-ink-soft">The old outputs</legend>
             <label className="flex items-start gap-2">
-              <input type="radio" name="replace" checked={!replaceOld} onChange={() => setReplaceOld(false)} className="mt-0.5 size-4 accent-accent" />
+              <input
+                type="radio"
+                name="replace"
+                checked={!replaceOld}
+                onChange={() => setReplaceOld(false)}
+                className="mt-0.5 size-4 accent-accent"
+              />
               <span>Keep them beside the new ones</span>
             </label>
             <label className="flex items-start gap-2">
-              <input type="radio" name="replace" checked={replaceOld} onChange={() => setReplaceOld(true)} className="mt-0.5 size-4 accent-accent" />
+              <input
+                type="radio"
+                name="replace"
+                checked={replaceOld}
+                onChange={() => setReplaceOld(true)}
+                className="mt-0.5 size-4 accent-accent"
+              />
               <span>
                 Replace them
-                <span className="block text-[11px] text-ink-muted">Only once the new ones are made; a failure keeps the old file.</span>
+                <span className="block text-[11px] text-ink-muted">
+                  Only once the new ones are made; a failure keeps the old file.
+                </span>
               </span>
             </label>
           </fieldset>
           <div className="flex gap-2">
-            <Button variant="primary" onClick={go} busy={rerun.isPending} disabled={ids.length === 0}>
+            <Button
+              variant="primary"
+              onClick={go}
+              busy={rerun.isPending}
+              disabled={ids.length === 0}
+            >
               Run the new batch
             </Button>
-            <Button variant="quiet" onClick={() => setOpen(false)}>
+            <Button variant="quiet" onClick={() => show(false)}>
               Cancel
             </Button>
           </div>

@@ -11,18 +11,29 @@ export const REVIEW_KEYS: Array<{ keys: string[]; what: string; editing?: boolea
   { keys: ["[", "]"], what: "turn ½°", editing: true },
   { keys: ["R"], what: "reset", editing: true },
   { keys: ["D"], what: "draw a missed piece", editing: true },
+  { keys: ["E"], what: "move a side (arrows)", editing: true },
   { keys: ["T"], what: "title", editing: true },
   { keys: ["Z"], what: "zoom to selected" },
   { keys: ["Esc"], what: "clear selection" },
 ];
 
 /** The review keys, always on screen, with the last thing done (also read out). */
-export function KeyLegend({ announcement }: { announcement: string }) {
+export function KeyLegend({
+  announcement,
+  hasNextScan = false,
+}: {
+  announcement: string;
+  /** Another scan waits for review: N opens it. */
+  hasNextScan?: boolean;
+}) {
+  const keys = hasNextScan
+    ? [...REVIEW_KEYS, { keys: ["N"], what: "next scan" }]
+    : REVIEW_KEYS;
   return (
     <div className="flex shrink-0 flex-wrap items-center gap-x-4 gap-y-1.5 rounded-lg border border-paper-300 bg-paper-50 px-4 py-2 text-xs text-ink-soft">
       <h2 className="sr-only">Keys</h2>
       <ul className="flex flex-wrap items-center gap-x-4 gap-y-1.5" aria-label="Keys">
-        {REVIEW_KEYS.map((k) => (
+        {keys.map((k) => (
           <li key={k.what} className="flex items-center gap-1">
             {k.keys.map((key, i) => (
               <span key={key} className="flex items-center gap-0.5">

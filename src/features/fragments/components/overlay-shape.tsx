@@ -64,6 +64,7 @@ export function OverlayShape({
   picked,
   editable,
   interactive,
+  activeHandle = null,
   onGrip,
 }: {
   fragment: ShownFragment;
@@ -76,6 +77,8 @@ export function OverlayShape({
   editable: boolean;
   /** False in draw mode: presses go to the scan underneath. */
   interactive: boolean;
+  /** The side the arrow keys move: its handle is filled and larger. */
+  activeHandle?: Handle | null;
   onGrip: ShapePointerHandler;
 }) {
   const { status } = fragment;
@@ -126,7 +129,12 @@ export function OverlayShape({
         strokeWidth={width + 3}
         vectorEffect="non-scaling-stroke"
         strokeLinejoin="round"
-        style={{ cursor: primary && editable ? "move" : "pointer", pointerEvents: "all" }}
+        // "all" lets a press inside a hollow outline select it; while drawing, the press belongs
+        // to the scan beneath (a missed piece often lies against one already marked).
+        style={{
+          cursor: primary && editable ? "move" : "pointer",
+          pointerEvents: interactive ? "all" : "none",
+        }}
         onPointerDown={grip("body")}
       />
       <polygon
@@ -202,15 +210,18 @@ export function OverlayShape({
           </circle>
           {HANDLES.map((h) => {
             const [x, y] = handlePoint(placement, h);
+            const active = activeHandle?.sx === h.sx && activeHandle.sy === h.sy;
+            const size = active ? handleSize * 1.5 : handleSize;
             return (
               <rect
                 key={`${h.sx},${h.sy}`}
-                x={x - handleSize / 2}
-                y={y - handleSize / 2}
-                width={handleSize}
-                height={handleSize}
+                x={x - size / 2}
+                y={y - size / 2}
+                width={size}
+                height={size}
                 transform={`rotate(${-placement.angle} ${x} ${y})`}
-                fill="white"
+                fill={active ? "#2f6b5e" : "white"}
+                data-active-handle={active || undefined}
                 stroke="#2b2823"
                 strokeWidth={1.5}
                 vectorEffect="non-scaling-stroke"

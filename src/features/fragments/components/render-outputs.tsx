@@ -17,16 +17,24 @@ const STATE_TEXT: Record<Fragment["renderState"], string> = {
 export function RenderState({
   fragment,
 }: {
-  fragment: Pick<Fragment, "renderState" | "renderError">;
+  fragment: Pick<Fragment, "renderState" | "renderError" | "status">;
 }) {
-  const { renderState } = fragment;
+  const { renderState, status } = fragment;
+  // Files made while it was approved stay when an approval is undone or the piece is rejected;
+  // saying only "Rendered" would read as if it were still in the approved work.
+  const leftOut =
+    renderState === "done" && status !== "approved"
+      ? status === "rejected"
+        ? "Rendered while it was approved. Rejected now, so it is left out of the approved work."
+        : "Rendered while it was approved. It is back to review, so it is left out of the approved work until it is approved again."
+      : null;
   return (
     <p
       className={cn(
         "flex items-center gap-2 text-sm",
         renderState === "failed"
           ? "text-brick"
-          : renderState === "done"
+          : renderState === "done" && !leftOut
             ? "text-accent-strong"
             : "text-ink-soft",
       )}
@@ -40,8 +48,8 @@ export function RenderState({
           {renderState === "done" ? "✓" : renderState === "failed" ? "!" : "–"}
         </span>
       )}
-      <span>
-        {STATE_TEXT[renderState]}
+      <span data-testid="render-state-text">
+        {leftOut ?? STATE_TEXT[renderState]}
         {renderState === "failed" && fragment.renderError && `: ${fragment.renderError}`}
       </span>
     </p>

@@ -1,4 +1,4 @@
-import { useId, useState } from "react";
+import { useId, useRef, useState } from "react";
 import type { Scan } from "../../../../shared/schemas/scans";
 import { Button } from "../../../components/button";
 import { ProgressBar } from "../../../components/progress-bar";
@@ -38,6 +38,12 @@ export function ResplitControl({
   const [open, setOpen] = useState(false);
   const [sensitivity, setSensitivity] = useState(DEFAULT_SENSITIVITY);
   const id = useId();
+  const opener = useRef<HTMLButtonElement>(null);
+  // Closing without a split: the focus goes back to the button, not to the page.
+  const close = () => {
+    setOpen(false);
+    requestAnimationFrame(() => opener.current?.focus());
+  };
   const resplit = useResplitScan(scan.id, {
     onSuccess: (next, variables) => {
       setOpen(false);
@@ -47,6 +53,7 @@ export function ResplitControl({
   return (
     <div className="relative">
       <Button
+        ref={opener}
         size="sm"
         onClick={() => setOpen((o) => !o)}
         disabled={scan.status !== "ready"}
@@ -65,7 +72,7 @@ export function ResplitControl({
           onKeyDown={(e) => {
             if (e.key === "Escape") {
               e.preventDefault();
-              setOpen(false);
+              close();
             }
           }}
         >
@@ -98,7 +105,7 @@ export function ResplitControl({
             Approved and hand-drawn fragments stay; the other proposals are replaced.
           </p>
           <div className="flex justify-end gap-2">
-            <Button size="sm" variant="quiet" onClick={() => setOpen(false)}>
+            <Button size="sm" variant="quiet" onClick={close}>
               Cancel
             </Button>
             <Button size="sm" type="submit" variant="primary" busy={resplit.isPending}>

@@ -59,6 +59,7 @@ export function ReviewOverlay({
   pickedIds,
   editable,
   drawMode,
+  activeHandle = null,
   zoom,
   minDrawPx,
   onSelect,
@@ -74,6 +75,8 @@ export function ReviewOverlay({
   pickedIds: string[];
   editable: boolean;
   drawMode: boolean;
+  /** The side of the selected piece the arrow keys move (E), marked on its handle. */
+  activeHandle?: Handle | null;
   zoom: number;
   minDrawPx: number;
   onSelect: (id: string, additive: boolean) => void;
@@ -134,9 +137,7 @@ export function ReviewOverlay({
   // its turning handle in sight.
   const rim = size.w > 4 * VIEW_RIM && size.h > 4 * VIEW_RIM ? VIEW_RIM : 0;
   const k =
-    size.w > 0 && size.h > 0
-      ? Math.max(vw / (size.w - 2 * rim), vh / (size.h - 2 * rim))
-      : W / 800;
+    size.w > 0 && size.h > 0 ? Math.max(vw / (size.w - 2 * rim), vh / (size.h - 2 * rim)) : W / 800;
   const pad = rim * k;
 
   const toScan = (event: { clientX: number; clientY: number }): Point => {
@@ -259,7 +260,8 @@ export function ReviewOverlay({
     return () => window.removeEventListener("keydown", onKey, true);
   }, []);
 
-  const shownPlacement = (f: ShownFragment) => (draft?.id === f.id ? draft.placement : placementOf(f));
+  const shownPlacement = (f: ShownFragment) =>
+    draft?.id === f.id ? draft.placement : placementOf(f);
   const labels = placeLabels(
     [...fragments]
       .sort((a, b) => a.position - b.position)
@@ -335,6 +337,7 @@ export function ReviewOverlay({
             picked={picked.has(f.id)}
             editable={editable}
             interactive={!drawMode}
+            activeHandle={f.id === primaryId ? activeHandle : null}
             onGrip={onGrip}
           />
         ))}

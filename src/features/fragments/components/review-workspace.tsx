@@ -1,9 +1,11 @@
 import { useState, type ReactNode } from "react";
+import { Link, useNavigate } from "react-router-dom";
 import type { Scan } from "../../../../shared/schemas/scans";
 import { MM_PER_INCH } from "../../../../shared/units";
 import { Button, Spinner } from "../../../components/button";
 import { ConfirmDialog } from "../../../components/confirm-dialog";
 import { LoadError, Notice } from "../../../components/notice";
+import { paths } from "../../../config/paths";
 import { cn } from "../../../lib/cn";
 import { useShownFragments, type ShownFragment } from "../api/pending-edits";
 import { useScanFragments } from "../api/get-scan-fragments";
@@ -18,12 +20,20 @@ import { ReviewOverlay } from "./review-overlay";
 import { useLengthUnit } from "./use-length-unit";
 import { useReview } from "./use-review";
 import { useReviewKeys } from "./use-review-keys";
+import { useSideKeys } from "./use-side-keys";
 
 const ZOOMS = [1, 1.5, 2, 3, 4, 6];
 /** A drawn rectangle smaller than this (mm a side) is taken for a slip of the mouse. */
 const MIN_DRAWN_MM = 3;
 
 type AnalysedScan = Scan & { width: number; height: number };
+
+/** Another scan with fragments still to review, offered once this one is done. */
+export interface NextScan {
+  id: string;
+  originalName: string;
+  proposed: number;
+}
 
 /**
  * The review of one analysed scan: the scan with every fragment marked, the strip of fragments,
@@ -33,12 +43,16 @@ export function ReviewWorkspace({
   scan,
   heading,
   onScanChanged,
+  nextScan = null,
 }: {
   scan: AnalysedScan;
   /** The page's title, set beside the tools. */
   heading: ReactNode;
   onScanChanged: (scan: Scan) => void;
+  /** The scan to go on with (N, or the link shown once nothing is left here). */
+  nextScan?: NextScan | null;
 }) {
+  const navigate = useNavigate();
   const query = useScanFragments(scan.id);
   const shown = useShownFragments(scan.id, query.data);
   const fragments = shown.fragments;
@@ -52,6 +66,7 @@ export function ReviewWorkspace({
   const [zoom, setZoom] = useState(1);
   const [unit, setUnit] = useLengthUnit();
   const [confirmAll, setConfirmAll] = useState(false);
+  const sides = useSideKeys(review, scan);
   const splitting = scan.status === "analysing" || shown.resplitting;
   const editable = scan.status === "ready" && !shown.resplitting;
 
@@ -78,7 +93,14 @@ export function ReviewWorkspace({
           return ZOOMS[Math.min(ZOOMS.length - 1, Math.max(0, (i < 0 ? 0 : i) + step))]!;
         }),
       focusTitle: () => document.querySelector<HTMLInputElement>("[data-fragment-title]")?.focus(),
+      nextScan: () => {
+        if (nextScan) navigate(paths.scanReview(nextScan.id));
+        else review.say("No other scan has fragments to review.");
+      },
+      edge: sides.next,
+      nudge: sides.nudge,
       escape: () => {
+        if (sides.stop()) return;
         if (drawMode) setDrawMode(false);
         else review.clear();
       },
@@ -162,14 +184,31 @@ export function ReviewWorkspace({
                   onScanChanged(next);
                 }}
               />
-              <Button
-                size="sm"
-                variant="primary"
-                onClick={() => setConfirmAll(true)}
-                disabled={!editable || review.remaining === 0}
-              >
-                Approve all remaining <Kbd tone="dark">⇧A</Kbd>
-              </Button>
+              {nextScan && fragments.length > 0 && review.remaining === 0 ? (
+                // Nothing is left here: where "approve all" stood, the way on to the next scan.
+                <Link
+                  to={paths.scanReview(nextScan.id)}
+                  className="inline-flex h-8 min-w-0 items-center gap-1.5 rounded-md bg-accent px-3 text-sm font-medium whitespace-nowrap text-paper-50 hover:bg-accent-strong"
+                  data-testid="next-scan"
+                  title={`${nextScan.originalName}: ${nextScan.proposed} to review`}
+                >
+                  <span className="max-w-40 truncate">Next: {nextScan.originalName}</span>
+                  <span className="text-xs font-normal opacity-85">
+                    {" "}
+                    · {nextScan.proposed} to review
+                  </span>
+                  <Kbd tone="dark">N</Kbd>
+                </Link>
+              ) : (
+                <Button
+                  size="sm"
+                  variant="primary"
+                  onClick={() => setConfirmAll(true)}
+                  disabled={!editable || review.remaining === 0}
+                >
+                  Approve all remaining <Kbd tone="dark">⇧A</Kbd>
+                </Button>
+              )}
             </>
           )}
         </div>
@@ -218,6 +257,7 @@ export function ReviewWorkspace({
                 pickedIds={review.picked}
                 editable={editable}
                 drawMode={drawMode}
+                activeHandle={sides.handle}
                 zoom={zoom}
                 minDrawPx={minDrawPx}
                 onSelect={review.select}
@@ -261,7 +301,7 @@ export function ReviewWorkspace({
         </div>
       </div>
 
-      <KeyLegend announcement={review.announcement} />
+      <KeyLegend announcement={review.announcement} hasNextScan={nextScan !== null} />
 
       <ConfirmDialog
         open={confirmAll}

@@ -15,6 +15,12 @@ export interface ReviewKeyActions {
   toggleZoom: () => void;
   zoomBy: (step: 1 | -1) => void;
   focusTitle: () => void;
+  /** Open the next scan that has fragments to review (does nothing when there is none). */
+  nextScan: () => void;
+  /** E: pick the next side of the selected piece (or the whole piece) for the arrows to move. */
+  edge: () => void;
+  /** An arrow while a side is picked: true when it moved (or refused to move) that side. */
+  nudge: (dirX: -1 | 0 | 1, dirY: -1 | 0 | 1, big: boolean) => boolean;
   escape: () => void;
 }
 
@@ -44,6 +50,18 @@ export function useReviewKeys(actions: ReviewKeyActions, editing: boolean) {
       }
       return;
     }
+    // While a side is picked (E), the arrows move it instead of stepping through the pieces.
+    const arrow: Record<string, [-1 | 0 | 1, -1 | 0 | 1]> = {
+      ArrowLeft: [-1, 0],
+      ArrowRight: [1, 0],
+      ArrowUp: [0, -1],
+      ArrowDown: [0, 1],
+    };
+    const dir = arrow[event.key];
+    if (dir && editing && actions.nudge(dir[0], dir[1], event.shiftKey)) {
+      event.preventDefault();
+      return;
+    }
     const moving: Record<string, () => void> = {
       j: () => actions.next(false),
       ArrowRight: () => actions.next(event.shiftKey),
@@ -55,6 +73,7 @@ export function useReviewKeys(actions: ReviewKeyActions, editing: boolean) {
       "+": () => actions.zoomBy(1),
       "=": () => actions.zoomBy(1),
       "-": () => actions.zoomBy(-1),
+      n: actions.nextScan,
       Escape: actions.escape,
     };
     const changing: Record<string, () => void> = {
@@ -71,6 +90,7 @@ export function useReviewKeys(actions: ReviewKeyActions, editing: boolean) {
       "{": () => actions.turn(5),
       "}": () => actions.turn(-5),
       d: actions.toggleDraw,
+      e: actions.edge,
       t: actions.focusTitle,
     };
     const run = moving[event.key] ?? (editing ? changing[event.key] : undefined);

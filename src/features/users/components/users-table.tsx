@@ -18,10 +18,19 @@ export function UsersTable({ users }: { users: User[] }) {
   const [disabling, setDisabling] = useState<User | null>(null);
   const pendingId = update.isPending ? update.variables?.id : undefined;
 
+  // A role takes effect at once (a closed list even changes with the arrow keys), so the toast
+  // that says so offers the way back to the role before.
   const changeRole = (user: User, role: Role) => {
+    const before = user.role;
     update.mutate(
       { id: user.id, role },
-      { onSuccess: (u) => toast.success(`${u.name} is now ${ROLE_LABELS[u.role].toLowerCase()}.`) },
+      {
+        onSuccess: (u) =>
+          toast.success(`${u.name} is now ${ROLE_LABELS[u.role].toLowerCase()}.`, {
+            label: "Undo",
+            run: () => changeRole(u, before),
+          }),
+      },
     );
   };
 
@@ -123,7 +132,7 @@ export function UsersTable({ users }: { users: User[] }) {
                   {user.lastSignInAt ? (
                     <Ago iso={user.lastSignInAt} />
                   ) : (
-                    <span className="text-ink-faint">Never</span>
+                    <span className="text-ink-muted">Never</span>
                   )}
                 </td>
                 <td className="py-3 pr-5 pl-3 text-right">
