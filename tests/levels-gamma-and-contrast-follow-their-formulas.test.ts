@@ -97,9 +97,12 @@ function spreadImage(width: number, height: number, depth: 8 | 16, seed = 9): Ra
   let s = seed;
   const rnd = () => ((s = (s * 1664525 + 1013904223) >>> 0) / 4294967296);
   for (let p = 0; p < width * height; p++) {
-    const base = 0.15 + 0.6 * ((p % width) / width);
+    // Tones from near black to near white in every channel, as a full scan has: automatic levels
+    // move their points only so far in (AUTO_BLACK_MAX, AUTO_WHITE_MIN), and this image's own
+    // percentiles lie beyond both.
+    const base = 0.12 + 0.72 * ((p % width) / width);
     for (let c = 0; c < 3; c++) {
-      const noise = (rnd() + rnd() + rnd() - 1.5) * 0.12;
+      const noise = (rnd() + rnd() + rnd() - 1.5) * 0.08;
       data[p * 3 + c] = Math.round(Math.min(0.97, Math.max(0.03, base + noise + c * 0.03)) * max);
     }
   }

@@ -60,20 +60,38 @@ function percentileCodes(hist: Uint32Array, limit: number, max: number): [number
 }
 
 /**
+ * The farthest automatic levels move the black and white points in from the ends (encoded, 0–1):
+ * black never above AUTO_BLACK_MAX, white never below AUTO_WHITE_MIN. Automatic levels is there
+ * to undo a scanner's lifted black and dimmed white (common practice: a scanned black sits around
+ * codes 10–30, and paper white around 220–245; values from memory), not to stretch the few tones
+ * of a piece that is all one colour. Without a bound, a black card (codes 15–19) was stretched
+ * 60 times over its own grain and a flat muted blue lost its red: both came out another colour.
+ * With it, such a piece keeps its place on the scale and gains at most the stretch a full-range
+ * scan gets.
+ */
+export const AUTO_BLACK_MAX = 0.1;
+export const AUTO_WHITE_MIN = 0.85;
+
+/**
  * Automatic levels: black and white codes from the histogram so that at most `step.clip` of the
  * pixels end at pure black and at most as many at pure white, per channel (with channel "rgb"
  * one pair for all three: the lowest black and highest white, which keeps colours and still
  * clips no channel more than the limit). The pair is then checked through the curve as it will
  * be applied, rounding included, and widened a code at a time until the limit holds. Pixels
- * that were already at 0 or full scale stay there. A channel too flat to stretch (less than
- * 1 % of full scale between the points) is left as it is.
+ * that were already at 0 or full scale stay there. The points stay within AUTO_BLACK_MAX and
+ * AUTO_WHITE_MIN of the ends, so a piece with a narrow range is stretched no more than that.
  * Example: a scan between codes 20 and 235, clip 0.005 → { black: [0.078, …], white: [0.922, …] }.
  */
 export function measureLevels(image: RawImage, step: LevelsStep): StepStats {
   const max = maxValue(image.bitDepth);
   const { pixels, channels } = codeHistograms(image);
   const limit = step.clip * pixels;
-  const picked = channels.map((h) => percentileCodes(h, limit, max));
+  const blackMax = Math.floor(AUTO_BLACK_MAX * max);
+  const whiteMin = Math.ceil(AUTO_WHITE_MIN * max);
+  const picked = channels.map((h) => {
+    const [b, w] = percentileCodes(h, limit, max);
+    return [Math.min(b, blackMax), Math.max(w, whiteMin)] as [number, number];
+  });
   const pairs: [number, number][] =
     step.channel === "rgb"
       ? channels.map(() => [Math.min(...picked.map((p) => p[0])), Math.max(...picked.map((p) => p[1]))])
