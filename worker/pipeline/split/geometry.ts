@@ -96,6 +96,85 @@ export function rotatedRect(
 }
 
 /**
+ * The axis ratio (≥ 1) of the ellipse with a closed polygon's second moments of area: 1 for a disc,
+ * a square or any shape with a symmetry of order three or more, a/b for an ellipse with semi-axes
+ * a ≥ b. The moments by Green's theorem over the polygon's edges (the standard polygon formulas);
+ * they are integrals over the area, so a pixel-stepped outline moves them little.
+ */
+export function momentAxisRatio(points: readonly Point[]): number {
+  const n = points.length;
+  if (n < 3) return Infinity;
+  const [ox, oy] = points[0]!;
+  let a2 = 0;
+  let sx = 0;
+  let sy = 0;
+  let sxx = 0;
+  let syy = 0;
+  let sxy = 0;
+  for (let i = 0; i < n; i++) {
+    const x0 = points[i]![0] - ox;
+    const y0 = points[i]![1] - oy;
+    const x1 = points[(i + 1) % n]![0] - ox;
+    const y1 = points[(i + 1) % n]![1] - oy;
+    const c = x0 * y1 - x1 * y0;
+    a2 += c;
+    sx += (x0 + x1) * c;
+    sy += (y0 + y1) * c;
+    sxx += (x0 * x0 + x0 * x1 + x1 * x1) * c;
+    syy += (y0 * y0 + y0 * y1 + y1 * y1) * c;
+    sxy += (x0 * y1 + 2 * x0 * y0 + 2 * x1 * y1 + x1 * y0) * c;
+  }
+  const area = a2 / 2;
+  if (area === 0) return Infinity;
+  const cx = sx / (6 * area);
+  const cy = sy / (6 * area);
+  const mxx = sxx / (12 * area) - cx * cx;
+  const myy = syy / (12 * area) - cy * cy;
+  const mxy = sxy / (24 * area) - cx * cy;
+  const half = (mxx + myy) / 2;
+  const d = Math.hypot((mxx - myy) / 2, mxy);
+  return half - d > 0 ? Math.sqrt((half + d) / (half - d)) : Infinity;
+}
+
+/**
+ * Whether a shape has no turn of its own: a disc or a near-round oval, whose smallest enclosing
+ * rectangle lies at any angle, so the one the rectangle search picks is noise. Two tests, both
+ * needed: its second moments are nearly those of a disc (axis ratio below `maxAxisRatio`), which a
+ * square also passes, and its enclosing rectangle's area changes little with the turn (sampled each
+ * degree over a quarter turn; below `maxAreaChange`), which a square fails (its area doubles at 45°)
+ * and a disc passes up to the steps of its traced outline. An ellipse's enclosing area goes from 4ab
+ * to 2(a² + b²) at 45°, a change of (k² + 1)/2k − 1 for axes k : 1 (0.5 % at 1.1 : 1).
+ */
+export function hasNoTurnOfItsOwn(points: readonly Point[], maxAxisRatio = 1.08, maxAreaChange = 0.08): boolean {
+  if (momentAxisRatio(points) >= maxAxisRatio) return false;
+  const hull = convexHull(points);
+  if (hull.length < 3) return false;
+  let min = Infinity;
+  let max = 0;
+  for (let deg = 0; deg < 90; deg++) {
+    const t = (deg * Math.PI) / 180;
+    const ux = Math.cos(t);
+    const uy = Math.sin(t);
+    let a0 = Infinity;
+    let a1 = -Infinity;
+    let b0 = Infinity;
+    let b1 = -Infinity;
+    for (const [x, y] of hull) {
+      const a = x * ux + y * uy;
+      const b = -x * uy + y * ux;
+      if (a < a0) a0 = a;
+      if (a > a1) a1 = a;
+      if (b < b0) b0 = b;
+      if (b > b1) b1 = b;
+    }
+    const area = (a1 - a0) * (b1 - b0);
+    if (area < min) min = area;
+    if (area > max) max = area;
+  }
+  return min > 0 && max / min - 1 < maxAreaChange;
+}
+
+/**
  * Minimum-area enclosing rectangle by rotating calipers (one side of the optimum lies along a
  * hull edge; the three other supporting points advance monotonically), O(h) over the hull.
  * Example: the corners of a 100 × 50 rectangle turned 30° → area 5000, angle −30 or +60 → −30.

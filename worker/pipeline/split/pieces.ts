@@ -4,9 +4,11 @@ import type { Component } from "./components";
 import { subpixelContour, traceCracks } from "./contour";
 import {
   convexHull,
+  hasNoTurnOfItsOwn,
   minAreaRect,
   polygonArea,
   rectCorners,
+  rotatedRect,
   simplifyPolyline,
   type Point,
   type RotatedRect,
@@ -114,10 +116,16 @@ export function measurePiece(comp: Component, ctx: PieceContext): DetectedPiece 
   const hull = convexHull(points);
   const calipers = minAreaRect(hull);
   const refined = refineRect(points, calipers, 3 * unit, (len) => Math.max(8, (0.25 * len) / unit));
-  const rect: RotatedRect = refined.rect.area > 0 ? refined.rect : calipers;
+  let rect: RotatedRect = refined.rect.area > 0 ? refined.rect : calipers;
   const area = polygonArea(points);
   const fill = rect.area > 0 ? area / rect.area : 0;
   const shape = fill >= RECTANGLE_FILL ? "rectangle" : "cutout";
+  if (shape === "cutout" && hasNoTurnOfItsOwn(points)) {
+    // A round cut-out has no upright of its own: it stays as it lies on the bed, in its
+    // axis-aligned box, instead of turning by whatever angle the calipers happened on.
+    const [hx0, hy0, hx1, hy1] = bounds(hull);
+    rect = rotatedRect((hx0 + hx1) / 2, (hy0 + hy1) / 2, [1, 0], hx1 - hx0, hy1 - hy0);
+  }
 
   const [bx0, by0, bx1, by1] = shape === "rectangle" ? bounds(rectCorners(rect)) : bounds(points);
   const x0 = Math.max(0, Math.min(W - 1, Math.round(bx0)));
