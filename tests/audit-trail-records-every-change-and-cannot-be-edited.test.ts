@@ -635,11 +635,15 @@ describe("admins browse and filter the trail", () => {
     page = await list({ subjectType: "fragment", subjectId: ids.f1 });
     expect(page.events.map((e) => e.action).reverse()).toEqual(["fragment.approve", "fragment.edit", "fragment.edit", "offsite.check", "offsite.copy", "fragment.delete_files", "offsite.remove_kept"]);
 
-    page = await list({ q: "seed" }); // nothing's summary says so
+    page = await list({ q: "quokka" }); // no summary, e-mail or changed value says so
     expect(page.events).toEqual([]);
     page = await list({ q: "four-pieces" });
     expect(page.events.length).toBeGreaterThan(3);
-    expect(page.events.every((e) => e.summary.includes("four-pieces"))).toBe(true);
+    expect(page.events.every((e) => `${e.summary} ${JSON.stringify(e.before)} ${JSON.stringify(e.after)}`.includes("four-pieces"))).toBe(true);
+    // A value typed into a field is found, though no summary names it.
+    page = await list({ q: "mara ilv" });
+    expect(page.events.map((e) => e.action)).toContain("studio.settings");
+    expect(page.events.find((e) => e.action === "studio.settings")!.summary).not.toMatch(/Mara/);
     page = await list({ q: "NOBODY@test" }); // the actor's e-mail, any case
     expect(page.events.map((e) => e.action)).toEqual(["auth.sign_in_failed"]);
 

@@ -1,6 +1,6 @@
 import { AsyncLocalStorage } from "node:async_hooks";
 import type { Request } from "express";
-import { and, desc, eq, gte, ilike, like, lt, lte, or, type SQL } from "drizzle-orm";
+import { and, desc, eq, gte, ilike, like, lt, lte, or, sql, type SQL } from "drizzle-orm";
 import type { Db } from "../db";
 import { auditEvents, users } from "../db/schema";
 import type { Tx } from "../db/tx";
@@ -154,7 +154,15 @@ export async function listAuditEvents(db: Db, q: z.output<typeof auditListQuery>
   if (q.to) where.push(lte(auditEvents.at, new Date(q.to)));
   if (q.q) {
     const text = `%${escapeLike(q.q)}%`;
-    where.push(or(ilike(auditEvents.summary, text), ilike(auditEvents.actorEmail, text)));
+    // The summary, who did it, and the values it changed (a name typed into a field is found by it).
+    where.push(
+      or(
+        ilike(auditEvents.summary, text),
+        ilike(auditEvents.actorEmail, text),
+        ilike(sql`${auditEvents.before}::text`, text),
+        ilike(sql`${auditEvents.after}::text`, text),
+      ),
+    );
   }
   if (q.before) where.push(lt(auditEvents.id, q.before));
   const rows = await db

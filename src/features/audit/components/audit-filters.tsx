@@ -16,7 +16,7 @@ export interface ActorOption {
   email: string;
 }
 
-/** Who, what, which kind of thing, which days, and words in the summary. The search waits for a pause in typing. */
+/** Who, what, which kind of thing, which days, and words in the summary or in the values changed. The search waits for a pause in typing. */
 export function AuditFiltersBar({
   filters,
   actors,
