@@ -56,6 +56,7 @@ export function presentScan(
         ? physicalSize(row.width, row.height, row.dpiX!, row.dpiY!)
         : null,
     attempts: row.attempts,
+    errorCode: row.status === "failed" ? (row.errorCode ?? null) : null,
     fragments: fragmentCounts,
     splitSensitivity: row.splitSensitivity,
     hasPreview: row.previewKey != null,

@@ -58,6 +58,11 @@ export const scanSchema = z.object({
     .object({ widthIn: z.number(), heightIn: z.number(), widthCm: z.number(), heightCm: z.number() })
     .nullable(),
   attempts: z.number(),
+  /**
+   * Why it failed, as a code (worker/pipeline/errors.ts: empty, not_image, unsupported, truncated,
+   * too_large, unreadable; "worker" when every attempt stopped otherwise); null unless failed.
+   */
+  errorCode: z.string().nullable(),
   /** Fragments the split proposed that still await review, and all kept fragments. */
   fragments: z.object({ proposed: z.number(), total: z.number() }),
   /** The sensitivity (0–1) of the last split, null before the first. */

@@ -67,7 +67,7 @@ export function ScanRoute() {
           title="Analysis failed"
           className="mb-6"
           action={
-            canRetry ? <RetryScanButton scanId={s.id} name={s.originalName} size="md" /> : undefined
+            canRetry ? <RetryScanButton scanId={s.id} name={s.originalName} errorCode={s.errorCode} size="md" /> : undefined
           }
         >
           {s.error ?? "The worker stopped without a message."}{" "}
