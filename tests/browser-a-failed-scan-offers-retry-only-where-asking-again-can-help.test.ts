@@ -66,6 +66,13 @@ describe("a failed scan", () => {
     expect(await page.getByTestId("retry-cannot-help").textContent()).toMatch(/^Asking again gives the same result: the file itself is the problem\./);
     expect(await page.getByRole("button", { name: "Retry night-bed-06.tif" }).count()).toBe(0);
 
+    // In the scans list, its missing figures are read out as missing, not as still to come.
+    await page.goto(`${stack.url}/scans`);
+    const row = page.getByRole("row").filter({ hasText: "night-bed-06.tif" });
+    await row.waitFor();
+    await expect.poll(() => row.getByText("none: the scan could not be read").count()).toBeGreaterThan(0);
+    expect(await row.getByText("not known yet").count()).toBe(0);
+
     await page.goto(`${stack.url}/scans/${stoppedScan}`);
     const retry = page.getByRole("button", { name: "Retry night-bed-07.png" });
     await retry.waitFor();

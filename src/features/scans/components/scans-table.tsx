@@ -255,7 +255,7 @@ export function ScansTable({
                 )}
               </td>
               <td className={cn("figure px-3 py-2 text-xs whitespace-nowrap text-ink-soft", WIDE_ONLY)}>
-                {pixels ?? <Dash />}
+                {pixels ?? <Dash failed={scan.status === "failed"} />}
               </td>
               <td className="px-3 py-2 text-xs">
                 <DpiValue dpi={scan.dpi} wrap />
@@ -272,7 +272,7 @@ export function ScansTable({
                     <span className="block text-ink-muted">{phys.cm}</span>
                   </>
                 ) : (
-                  <Dash />
+                  <Dash failed={scan.status === "failed"} />
                 )}
               </td>
               <td className="px-3 py-2">
@@ -307,11 +307,12 @@ export function ScansTable({
   );
 }
 
-function Dash() {
+/** A figure the scan does not have: not yet (still being read), or not at all (it failed). */
+function Dash({ failed = false }: { failed?: boolean }) {
   return (
     <span className="text-ink-muted">
       <span aria-hidden="true">—</span>
-      <span className="sr-only">not known yet</span>
+      <span className="sr-only">{failed ? "none: the scan could not be read" : "not known yet"}</span>
     </span>
   );
 }
