@@ -10,7 +10,10 @@ import globals from "globals";
 // Import boundaries: the client never reaches into server/ or worker/, features never import each
 // other, shared/ imports nothing of ours, the server never imports the worker.
 const features = fs.existsSync("src/features")
-  ? fs.readdirSync("src/features", { withFileTypes: true }).filter((d) => d.isDirectory()).map((d) => d.name)
+  ? fs
+      .readdirSync("src/features", { withFileTypes: true })
+      .filter((d) => d.isDirectory())
+      .map((d) => d.name)
   : [];
 
 export default tseslint.config(
@@ -29,8 +32,16 @@ export default tseslint.config(
         "error",
         {
           zones: [
-            { target: "./src", from: ["./server", "./worker", "./scripts", "./tests"], message: "Client code must not import server, worker or script code." },
-            { target: "./shared", from: ["./src", "./server", "./worker", "./scripts", "./tests"], message: "shared/ imports nothing of ours." },
+            {
+              target: "./src",
+              from: ["./server", "./worker", "./scripts", "./tests"],
+              message: "Client code must not import server, worker or script code.",
+            },
+            {
+              target: "./shared",
+              from: ["./src", "./server", "./worker", "./scripts", "./tests"],
+              message: "shared/ imports nothing of ours.",
+            },
             {
               target: "./server",
               from: ["./worker", "./src"],

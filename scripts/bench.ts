@@ -61,10 +61,7 @@ const CASES: ScanCase[] = [
 
 /** Draws the case's scan once; later runs reuse the file. */
 async function scanFile(c: ScanCase): Promise<string> {
-  const file = path.join(
-    SCANS,
-    `${c.widthMm}x${c.heightMm}mm-${c.dpi}dpi.${c.format === "tiff" ? "tif" : "jpg"}`,
-  );
+  const file = path.join(SCANS, `${c.widthMm}x${c.heightMm}mm-${c.dpi}dpi.${c.format === "tiff" ? "tif" : "jpg"}`);
   if (fs.existsSync(file)) return file;
   fs.mkdirSync(SCANS, { recursive: true });
   process.stdout.write(`drawing ${c.name} …\n`);
@@ -78,15 +75,7 @@ async function scanFile(c: ScanCase): Promise<string> {
 function measure(name: string, file: string, runs: number): Sample | null {
   const child = spawnSync(
     process.execPath,
-    [
-      "--import",
-      "tsx",
-      path.join(ROOT, "scripts", "bench", "measure.ts"),
-      name,
-      file,
-      String(runs),
-      path.join(OUT, "out", name),
-    ],
+    ["--import", "tsx", path.join(ROOT, "scripts", "bench", "measure.ts"), name, file, String(runs), path.join(OUT, "out", name)],
     { cwd: ROOT, encoding: "utf8", maxBuffer: 16 * 1024 * 1024 },
   );
   if (child.status !== 0) {
@@ -122,12 +111,10 @@ interface Row {
   fragments: number | string | null;
 }
 
-const fmt = (v: number | null, digits = 0) =>
-  v === null || Number.isNaN(v) ? "–" : v.toFixed(digits);
+const fmt = (v: number | null, digits = 0) => (v === null || Number.isNaN(v) ? "–" : v.toFixed(digits));
 
 /** Median of a sample's values, or null when the measurement failed or was skipped. */
-const med = (s: Sample | null, pick: (s: Sample) => number[]): number | null =>
-  s && pick(s).length > 0 ? median(pick(s)) : null;
+const med = (s: Sample | null, pick: (s: Sample) => number[]): number | null => (s && pick(s).length > 0 ? median(pick(s)) : null);
 
 async function main() {
   const rows: Row[] = [];
@@ -207,10 +194,7 @@ async function main() {
     fmt(r.wholeEachOverFloorCpu, 2),
   ]);
   const widths = head.map((h, i) => Math.max(h.length, ...table.map((t) => t[i]!.length)));
-  const line = (cells: string[]) =>
-    cells
-      .map((cell, i) => (i === 0 ? cell.padEnd(widths[i]!) : cell.padStart(widths[i]!)))
-      .join("  ");
+  const line = (cells: string[]) => cells.map((cell, i) => (i === 0 ? cell.padEnd(widths[i]!) : cell.padStart(widths[i]!))).join("  ");
   process.stdout.write(["", line(head), ...table.map(line), ""].join("\n") + "\n");
   process.stdout.write(
     "Targets at A4 600 DPI: split/floor ≤ 1.5, whole/floor ≤ 1.5, peak memory ≤ 1536 MB.\n" +

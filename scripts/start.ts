@@ -37,13 +37,16 @@ if (!cfg.mail.host && cfg.env !== "production") {
   try {
     mailFake = await startMailFake({ dir, port: cfg.mail.devSmtpPort });
   } catch (err) {
-    console.error(`The local mail fake could not listen on 127.0.0.1:${cfg.mail.devSmtpPort} (${(err as Error).message}); set PLATEN_DEV_SMTP_PORT to a free port.`);
+    console.error(
+      `The local mail fake could not listen on 127.0.0.1:${cfg.mail.devSmtpPort} (${(err as Error).message}); set PLATEN_DEV_SMTP_PORT to a free port.`,
+    );
     process.exit(1);
   }
   Object.assign(process.env, { PLATEN_SMTP_HOST: mailFake.host, PLATEN_SMTP_PORT: String(mailFake.port), PLATEN_MAILBOX_DIR: dir });
   mailLine = `  E-mail stays on this machine: a local mail fake on ${mailFake.host}:${mailFake.port} keeps it in ${path.relative(root, dir)} (Mailbox screen)`;
 } else if (!cfg.mail.host) {
-  mailLine = "  E-mail is OFF: set PLATEN_SMTP_HOST (and PLATEN_SMTP_PORT, PLATEN_SMTP_USER, PLATEN_SMTP_PASSWORD, PLATEN_MAIL_FROM); invitations, password resets and notices are refused until then.";
+  mailLine =
+    "  E-mail is OFF: set PLATEN_SMTP_HOST (and PLATEN_SMTP_PORT, PLATEN_SMTP_USER, PLATEN_SMTP_PASSWORD, PLATEN_MAIL_FROM); invitations, password resets and notices are refused until then.";
 }
 
 // Storage: PLATEN_STORAGE=s3 with no endpoint in development keeps the bucket in a local S3 fake
@@ -58,7 +61,9 @@ if (cfg.storage.kind === "s3" && s3 && !s3.endpoint && cfg.env !== "production")
   try {
     s3Fake = await startFakeS3({ directory, buckets: [s3.bucket], port: cfg.storage.devS3Port });
   } catch (err) {
-    console.error(`The local S3 fake could not listen on 127.0.0.1:${cfg.storage.devS3Port} (${(err as Error).message}); set PLATEN_DEV_S3_PORT to a free port.`);
+    console.error(
+      `The local S3 fake could not listen on 127.0.0.1:${cfg.storage.devS3Port} (${(err as Error).message}); set PLATEN_DEV_S3_PORT to a free port.`,
+    );
     process.exit(1);
   }
   Object.assign(process.env, fakeS3Env(s3Fake, s3.bucket));
@@ -106,7 +111,11 @@ const lines = [
   `  Inbox folder: ${cfg.inboxDir}${demoFiles.length ? ` — ${demoFiles.length} demo scans dropped there` : ""}`,
   mailLine,
   storageLine,
-  ...(cfg.workers > 1 ? [`  Workers: ${cfg.workers}${shares ? `, each held to CPUs of its own (${shares.join(" / ")})` : cfg.workerCpus ? ` on CPUs ${formatCpuList(cfg.workerCpus)}` : ""}`] : []),
+  ...(cfg.workers > 1
+    ? [
+        `  Workers: ${cfg.workers}${shares ? `, each held to CPUs of its own (${shares.join(" / ")})` : cfg.workerCpus ? ` on CPUs ${formatCpuList(cfg.workerCpus)}` : ""}`,
+      ]
+    : []),
   "  Stop with Ctrl+C.",
   "",
 ];

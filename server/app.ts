@@ -121,7 +121,8 @@ export function createApp(deps: AppDeps): express.Express {
   api.use(usersRouter(deps));
   api.use(auditRouter(deps));
   const mailer = deps.mailer ?? createMailer(cfg.mail, deps.log);
-  if (!mailer.enabled && cfg.env !== "test") deps.log.warn({ reason: mailer.reason }, "e-mail is off: invitations, password resets and notices are refused");
+  if (!mailer.enabled && cfg.env !== "test")
+    deps.log.warn({ reason: mailer.reason }, "e-mail is off: invitations, password resets and notices are refused");
   api.use(invitationsRouter({ ...deps, mailer }));
   api.use(accountRouter({ ...deps, mailer }));
   api.use(mailboxRouter(deps));

@@ -9,16 +9,18 @@ import { parseCpuList } from "../shared/cpu-list";
  */
 const ROOT = path.resolve(import.meta.dirname, "..");
 
-const bool = z
-  .enum(["1", "0", "true", "false", "yes", "no"])
-  .transform((v) => v === "1" || v === "true" || v === "yes");
+const bool = z.enum(["1", "0", "true", "false", "yes", "no"]).transform((v) => v === "1" || v === "true" || v === "yes");
 
 const int = (min: number, max: number) => z.coerce.number().int().min(min).max(max);
-const s3BucketName = z.string().regex(/^[a-z0-9][a-z0-9.-]{1,61}[a-z0-9]$/, { error: "must be an S3 bucket name (3–63 lower-case letters, digits, dots, dashes)" });
+const s3BucketName = z
+  .string()
+  .regex(/^[a-z0-9][a-z0-9.-]{1,61}[a-z0-9]$/, { error: "must be an S3 bucket name (3–63 lower-case letters, digits, dots, dashes)" });
 const s3Prefix = z
   .string()
   // Segments end at a slash, so the pattern matches in one pass (an optional slash inside a repeated group backtracks exponentially on a bad value).
-  .regex(/^([a-z0-9][a-z0-9._-]*\/)*([a-z0-9][a-z0-9._-]*)?$/i, { error: "must be a folder-like prefix of letters, digits, dots, dashes and slashes" })
+  .regex(/^([a-z0-9][a-z0-9._-]*\/)*([a-z0-9][a-z0-9._-]*)?$/i, {
+    error: "must be a folder-like prefix of letters, digits, dots, dashes and slashes",
+  })
   .transform((v) => (v && !v.endsWith("/") ? `${v}/` : v));
 
 const envSchema = z.object({
@@ -145,11 +147,17 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
   const e = parsed.data;
   const storageProblems = [
     e.PLATEN_STORAGE === "s3" && !e.PLATEN_S3_BUCKET && "  PLATEN_S3_BUCKET: is required when PLATEN_STORAGE is s3",
-    e.PLATEN_STORAGE === "s3" && e.PLATEN_OFFSITE_BUCKET && "  PLATEN_OFFSITE_BUCKET: the off-site copy is for a local library; with PLATEN_STORAGE=s3 use the bucket's own replication",
-    !e.PLATEN_S3_ACCESS_KEY_ID !== !e.PLATEN_S3_SECRET_ACCESS_KEY && "  PLATEN_S3_ACCESS_KEY_ID / PLATEN_S3_SECRET_ACCESS_KEY: set both or neither",
-    !e.PLATEN_OFFSITE_ACCESS_KEY_ID !== !e.PLATEN_OFFSITE_SECRET_ACCESS_KEY && "  PLATEN_OFFSITE_ACCESS_KEY_ID / PLATEN_OFFSITE_SECRET_ACCESS_KEY: set both or neither",
+    e.PLATEN_STORAGE === "s3" &&
+      e.PLATEN_OFFSITE_BUCKET &&
+      "  PLATEN_OFFSITE_BUCKET: the off-site copy is for a local library; with PLATEN_STORAGE=s3 use the bucket's own replication",
+    !e.PLATEN_S3_ACCESS_KEY_ID !== !e.PLATEN_S3_SECRET_ACCESS_KEY &&
+      "  PLATEN_S3_ACCESS_KEY_ID / PLATEN_S3_SECRET_ACCESS_KEY: set both or neither",
+    !e.PLATEN_OFFSITE_ACCESS_KEY_ID !== !e.PLATEN_OFFSITE_SECRET_ACCESS_KEY &&
+      "  PLATEN_OFFSITE_ACCESS_KEY_ID / PLATEN_OFFSITE_SECRET_ACCESS_KEY: set both or neither",
     // The mailbox shows every message (reset links included) to admins and sends without TLS: never in production.
-    e.NODE_ENV === "production" && e.PLATEN_MAILBOX_DIR && "  PLATEN_MAILBOX_DIR: the development mailbox (the local mail fake) is not for production; unset it and set PLATEN_SMTP_HOST",
+    e.NODE_ENV === "production" &&
+      e.PLATEN_MAILBOX_DIR &&
+      "  PLATEN_MAILBOX_DIR: the development mailbox (the local mail fake) is not for production; unset it and set PLATEN_SMTP_HOST",
   ].filter(Boolean);
   if (storageProblems.length) throw new Error(`Platen cannot start: bad configuration\n${storageProblems.join("\n")}`);
   const dataDir = path.resolve(e.PLATEN_DATA_DIR);
@@ -200,7 +208,10 @@ export function loadConfig(env: NodeJS.ProcessEnv = process.env) {
       user: e.PLATEN_SMTP_USER,
       password: e.PLATEN_SMTP_PASSWORD,
       from: e.PLATEN_MAIL_FROM,
-      publicUrl: (e.PLATEN_PUBLIC_URL ?? `http://${e.PLATEN_HOST === "0.0.0.0" ? "127.0.0.1" : e.PLATEN_HOST}:${e.PLATEN_PORT}`).replace(/\/+$/, ""),
+      publicUrl: (e.PLATEN_PUBLIC_URL ?? `http://${e.PLATEN_HOST === "0.0.0.0" ? "127.0.0.1" : e.PLATEN_HOST}:${e.PLATEN_PORT}`).replace(
+        /\/+$/,
+        "",
+      ),
       mailboxDir: e.PLATEN_MAILBOX_DIR ? path.resolve(e.PLATEN_MAILBOX_DIR) : undefined,
       devSmtpPort: e.PLATEN_DEV_SMTP_PORT,
       inviteMs: e.PLATEN_INVITE_DAYS * 86_400_000,

@@ -19,7 +19,16 @@ import { keptCopyKeyQuery } from "./schemas/offsite";
 import { createIntakeBody, scanListQuery, setResolutionBody } from "./schemas/scans";
 import { updateStudioBody, writeMastersRightsBody } from "./schemas/studio";
 import { applyRecipeBody, createRecipeBody, previewRecipeBody, updateRecipeBody } from "./schemas/recipe-api";
-import { batchDownloadQuery, batchItemParams, outputPictureQuery, createBatchBody, createPresetBody, previewPresetBody, rerunBatchBody, updatePresetBody } from "./schemas/preset-api";
+import {
+  batchDownloadQuery,
+  batchItemParams,
+  outputPictureQuery,
+  createBatchBody,
+  createPresetBody,
+  previewPresetBody,
+  rerunBatchBody,
+  updatePresetBody,
+} from "./schemas/preset-api";
 import {
   drawFragmentBody,
   fragmentListQuery,
@@ -307,8 +316,21 @@ export const API = {
     body: rerunBatchBody,
   }),
   // One output of a batch: its file, and a small picture of it for the batch page.
-  batchesItemFile: route({ method: "GET", path: "/api/batches/:id/items/:itemId/file", access: "viewer", mutates: false, params: batchItemParams }),
-  batchesItemThumb: route({ method: "GET", path: "/api/batches/:id/items/:itemId/thumb", access: "viewer", mutates: false, params: batchItemParams, query: outputPictureQuery }),
+  batchesItemFile: route({
+    method: "GET",
+    path: "/api/batches/:id/items/:itemId/file",
+    access: "viewer",
+    mutates: false,
+    params: batchItemParams,
+  }),
+  batchesItemThumb: route({
+    method: "GET",
+    path: "/api/batches/:id/items/:itemId/thumb",
+    access: "viewer",
+    mutates: false,
+    params: batchItemParams,
+    query: outputPictureQuery,
+  }),
   batchesDownload: route({
     method: "GET",
     path: "/api/batches/:id/download",
@@ -343,8 +365,20 @@ export const API = {
     mutates: false,
     body: tokenBody,
   }),
-  invitationsAccept: route({ method: "POST", path: "/api/invitations/accept", access: "public", mutates: true, body: acceptInvitationBody }),
-  passwordResetRequest: route({ method: "POST", path: "/api/auth/password-reset", access: "public", mutates: true, body: requestResetBody }),
+  invitationsAccept: route({
+    method: "POST",
+    path: "/api/invitations/accept",
+    access: "public",
+    mutates: true,
+    body: acceptInvitationBody,
+  }),
+  passwordResetRequest: route({
+    method: "POST",
+    path: "/api/auth/password-reset",
+    access: "public",
+    mutates: true,
+    body: requestResetBody,
+  }),
   passwordResetPreview: route({
     method: "POST",
     path: "/api/auth/password-reset/preview",
@@ -375,8 +409,20 @@ export const API = {
 
   // Off-site copy of masters (storage): status per master, a re-check and a fresh copy.
   fragmentsOffsite: route({ method: "GET", path: "/api/fragments/:id/offsite", access: "operator", mutates: false, params: idParams }),
-  fragmentsOffsiteCheck: route({ method: "POST", path: "/api/fragments/:id/offsite/check", access: "operator", mutates: true, params: idParams }),
-  fragmentsOffsiteCopy: route({ method: "POST", path: "/api/fragments/:id/offsite/copy", access: "operator", mutates: true, params: idParams }),
+  fragmentsOffsiteCheck: route({
+    method: "POST",
+    path: "/api/fragments/:id/offsite/check",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+  }),
+  fragmentsOffsiteCopy: route({
+    method: "POST",
+    path: "/api/fragments/:id/offsite/copy",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+  }),
   offsiteCheckAll: route({ method: "POST", path: "/api/offsite/check", access: "admin", mutates: true }),
   // Copies kept in the off-site bucket after their piece's files were deleted: no master names them.
   offsiteKept: route({ method: "GET", path: "/api/offsite/kept", access: "admin", mutates: false }),

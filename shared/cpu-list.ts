@@ -31,7 +31,7 @@ export function parseCpuList(text: string): number[] {
 export function formatCpuList(cpus: number[]): string {
   const sorted = [...new Set(cpus)].sort((a, b) => a - b);
   const parts: string[] = [];
-  for (let i = 0; i < sorted.length; ) {
+  for (let i = 0; i < sorted.length;) {
     let j = i;
     while (j + 1 < sorted.length && sorted[j + 1] === sorted[j]! + 1) j++;
     parts.push(i === j ? String(sorted[i]) : `${sorted[i]}-${sorted[j]}`);

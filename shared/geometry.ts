@@ -34,9 +34,15 @@ export function rectCorners(rect: Rect, angle: number): Point[] {
 
 /** Smallest integer box holding every point, clamped to a width × height image. */
 export function boxOfPoints(points: Point[], width: number, height: number): Box {
-  let x0 = Infinity, y0 = Infinity, x1 = -Infinity, y1 = -Infinity;
+  let x0 = Infinity,
+    y0 = Infinity,
+    x1 = -Infinity,
+    y1 = -Infinity;
   for (const [x, y] of points) {
-    x0 = Math.min(x0, x); y0 = Math.min(y0, y); x1 = Math.max(x1, x); y1 = Math.max(y1, y);
+    x0 = Math.min(x0, x);
+    y0 = Math.min(y0, y);
+    x1 = Math.max(x1, x);
+    y1 = Math.max(y1, y);
   }
   const x = Math.max(0, Math.floor(x0));
   const y = Math.max(0, Math.floor(y0));
@@ -80,8 +86,14 @@ export function normaliseUpright(angle: number, width: number, height: number) {
   let a = angle;
   let w = width;
   let h = height;
-  while (a > 45) { a -= 90; [w, h] = [h, w]; }
-  while (a <= -45) { a += 90; [w, h] = [h, w]; }
+  while (a > 45) {
+    a -= 90;
+    [w, h] = [h, w];
+  }
+  while (a <= -45) {
+    a += 90;
+    [w, h] = [h, w];
+  }
   return { angle: a, width: w, height: h };
 }
 
@@ -94,25 +106,36 @@ export function minAreaRect(points: Point[]): { rect: Rect; angle: number; area:
   const hull = convexHull(points);
   if (hull.length < 3) {
     const b = boxOfPoints(points, Infinity, Infinity);
-    return { rect: { cx: b.x + b.width / 2, cy: b.y + b.height / 2, width: b.width, height: b.height }, angle: 0, area: b.width * b.height };
+    return {
+      rect: { cx: b.x + b.width / 2, cy: b.y + b.height / 2, width: b.width, height: b.height },
+      angle: 0,
+      area: b.width * b.height,
+    };
   }
   let best = { area: Infinity, theta: 0, minU: 0, maxU: 0, minV: 0, maxV: 0 };
   for (let i = 0; i < hull.length; i++) {
     const [x0, y0] = hull[i]!;
     const [x1, y1] = hull[(i + 1) % hull.length]!;
     const theta = Math.atan2(y1 - y0, x1 - x0);
-    const c = Math.cos(theta), s = Math.sin(theta);
-    let minU = Infinity, maxU = -Infinity, minV = Infinity, maxV = -Infinity;
+    const c = Math.cos(theta),
+      s = Math.sin(theta);
+    let minU = Infinity,
+      maxU = -Infinity,
+      minV = Infinity,
+      maxV = -Infinity;
     for (const [x, y] of hull) {
       const u = x * c + y * s;
       const v = -x * s + y * c;
-      if (u < minU) minU = u; if (u > maxU) maxU = u;
-      if (v < minV) minV = v; if (v > maxV) maxV = v;
+      if (u < minU) minU = u;
+      if (u > maxU) maxU = u;
+      if (v < minV) minV = v;
+      if (v > maxV) maxV = v;
     }
     const area = (maxU - minU) * (maxV - minV);
     if (area < best.area) best = { area, theta, minU, maxU, minV, maxV };
   }
-  const c = Math.cos(best.theta), s = Math.sin(best.theta);
+  const c = Math.cos(best.theta),
+    s = Math.sin(best.theta);
   const u = (best.minU + best.maxU) / 2;
   const v = (best.minV + best.maxV) / 2;
   // The rectangle's sides run along theta (width) and theta + 90° (height). The piece lies turned

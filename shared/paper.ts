@@ -10,10 +10,7 @@ import { formatNumber, MM_PER_INCH } from "./units";
 import type { PrintPreset } from "./schemas/presets";
 
 /** Papers a preset can name; "custom" takes its own width and height in mm. */
-export const PAPER_NAMES = [
-  "a0", "a1", "a2", "a3", "a4", "a5", "a6",
-  "letter", "8x10", "11x14", "12x16", "16x20", "custom",
-] as const;
+export const PAPER_NAMES = ["a0", "a1", "a2", "a3", "a4", "a5", "a6", "letter", "8x10", "11x14", "12x16", "16x20", "custom"] as const;
 export type PaperName = (typeof PAPER_NAMES)[number];
 export type Orientation = "portrait" | "landscape";
 
@@ -148,9 +145,7 @@ export function fitScale(w: number, h: number, boxW: number, boxH: number, mode:
   return mode === "fit" ? Math.min(sx, sy) : Math.max(sx, sy);
 }
 
-export const PLACEMENTS = [
-  "centre", "top", "bottom", "left", "right", "top-left", "top-right", "bottom-left", "bottom-right",
-] as const;
+export const PLACEMENTS = ["centre", "top", "bottom", "left", "right", "top-left", "top-right", "bottom-left", "bottom-right"] as const;
 export type Placement = (typeof PLACEMENTS)[number];
 
 /** Where in [0, 1] along x and y a placement puts the piece's slack (0 = left/top, 0.5 = centre). */
@@ -270,10 +265,7 @@ export function printPage(
   piece: { widthPx: number; heightPx: number },
 ): { page: PaperSize; orientation: Orientation; area: RectIn } {
   const { paper } = preset;
-  const portrait = paperSize(
-    paper.size,
-    paper.size === "custom" ? { widthMm: paper.widthMm!, heightMm: paper.heightMm! } : undefined,
-  );
+  const portrait = paperSize(paper.size, paper.size === "custom" ? { widthMm: paper.widthMm!, heightMm: paper.heightMm! } : undefined);
   const orientation: Orientation =
     preset.orientation === "auto" ? (piece.widthPx > piece.heightPx ? "landscape" : "portrait") : preset.orientation;
   const page = oriented(portrait, orientation);

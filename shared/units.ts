@@ -40,12 +40,7 @@ export interface PhysicalSize {
 }
 
 /** Physical size of an image from its pixel size and its horizontal and vertical DPI. */
-export function physicalSize(
-  widthPx: number,
-  heightPx: number,
-  dpiX: number,
-  dpiY: number = dpiX,
-): PhysicalSize {
+export function physicalSize(widthPx: number, heightPx: number, dpiX: number, dpiY: number = dpiX): PhysicalSize {
   return {
     widthIn: pixelsToInches(widthPx, dpiX),
     heightIn: pixelsToInches(heightPx, dpiY),

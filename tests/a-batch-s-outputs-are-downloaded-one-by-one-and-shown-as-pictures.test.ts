@@ -37,10 +37,12 @@ const binary = ((res: NodeJS.ReadableStream, done: (err: Error | null, body: Buf
   res.on("end", () => done(null, Buffer.concat(chunks)));
 }) as unknown as Parameters<supertest.Test["parse"]>[0];
 const outputRow = async (itemId: string) =>
-  (await stack.database.pool.query<{ id: string; key: string; updated_at: Date }>(
-    `select o.id, o.key, o.updated_at from batch_items b join outputs o on o.id = b.output_id where b.id = $1`,
-    [itemId],
-  )).rows[0]!;
+  (
+    await stack.database.pool.query<{ id: string; key: string; updated_at: Date }>(
+      `select o.id, o.key, o.updated_at from batch_items b join outputs o on o.id = b.output_id where b.id = $1`,
+      [itemId],
+    )
+  ).rows[0]!;
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
@@ -50,29 +52,58 @@ beforeAll(async () => {
     <rect width="100%" height="100%" fill="#f6f6f3"/>
     <rect x="80" y="80" width="420" height="300" fill="#1f5e8c"/><rect x="640" y="90" width="300" height="420" fill="#b5462b"/></svg>`;
   const file = path.join(stack.inbox, "..", "two-labels.tif");
-  await fs.writeFile(file, await sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4 }).toBuffer());
+  await fs.writeFile(
+    file,
+    await sharp(Buffer.from(svg))
+      .tiff({ xres: 300 / 25.4, yres: 300 / 25.4 })
+      .toBuffer(),
+  );
   const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null), 45_000);
+  await waitFor(
+    "the split",
+    async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 2 ? true : null),
+    45_000,
+  );
   expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-  pieces = await waitFor("the masters", async () => {
-    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-    return list.length === 2 && list.every((f) => f.renderState === "done") ? list.sort((a, b) => a.position - b.position) : null;
-  }, 90_000);
+  pieces = await waitFor(
+    "the masters",
+    async () => {
+      const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+      return list.length === 2 && list.every((f) => f.renderState === "done") ? list.sort((a, b) => a.position - b.position) : null;
+    },
+    90_000,
+  );
   const pdf = await operator.post("/api/presets").send({
     name: "Card PDF",
-    settings: { kind: "print", name: "Card PDF", paper: { size: "letter" }, layout: { mode: "area", widthIn: 8, heightIn: 10 }, printDpi: 300, scale: { mode: "fit" }, output: "pdf" },
+    settings: {
+      kind: "print",
+      name: "Card PDF",
+      paper: { size: "letter" },
+      layout: { mode: "area", widthIn: 8, heightIn: 10 },
+      printDpi: 300,
+      scale: { mode: "fit" },
+      output: "pdf",
+    },
   });
   expect(pdf.status, JSON.stringify(pdf.body)).toBe(201);
-  const wall = await operator.post("/api/presets").send({ name: "wall", settings: { kind: "mockup", name: "wall", width: 600, height: 600 } });
+  const wall = await operator
+    .post("/api/presets")
+    .send({ name: "wall", settings: { kind: "mockup", name: "wall", width: 600, height: 600 } });
   expect(wall.status, JSON.stringify(wall.body)).toBe(201);
   const presets = (await operator.get("/api/presets")).body.presets as { id: string; name: string }[];
   const ids = ["web", "print-a4", "Card PDF", "wall"].map((n) => presets.find((p) => p.name === n)!.id);
-  const made = await operator.post("/api/batches").send({ name: "Pictures", selection: { fragmentIds: pieces.map((p) => p.id) }, presetIds: ids });
+  const made = await operator
+    .post("/api/batches")
+    .send({ name: "Pictures", selection: { fragmentIds: pieces.map((p) => p.id) }, presetIds: ids });
   expect(made.status, JSON.stringify(made.body)).toBe(201);
-  batch = await waitFor("the batch", async () => {
-    const d = (await operator.get(`/api/batches/${made.body.batch.id}`)).body as Detail;
-    return d.batch.finishedAt ? d : null;
-  }, 120_000);
+  batch = await waitFor(
+    "the batch",
+    async () => {
+      const d = (await operator.get(`/api/batches/${made.body.batch.id}`)).body as Detail;
+      return d.batch.finishedAt ? d : null;
+    },
+    120_000,
+  );
   expect(batch.items.every((i) => i.state === "done")).toBe(true);
 }, 240_000);
 afterAll(async () => {
@@ -127,12 +158,17 @@ describe("one output of a batch", () => {
       // Its colour is the file's: the mean of each channel within 3 levels of the file's own.
       const row = await outputRow(item.id);
       const a = (await sharp(res.body as Buffer).stats()).channels.slice(0, 3).map((c) => c.mean);
-      const b = (await sharp(stack.libraryPath(row.key)).flatten({ background: "#ffffff" }).stats()).channels.slice(0, 3).map((c) => c.mean);
+      const b = (await sharp(stack.libraryPath(row.key)).flatten({ background: "#ffffff" }).stats()).channels
+        .slice(0, 3)
+        .map((c) => c.mean);
       for (let k = 0; k < 3; k++) expect(Math.abs(a[k]! - b[k]!)).toBeLessThan(3);
     }
     // The larger look: 1024 px on the long edge (never more than the file); no other size.
     const a4 = itemOf("print-a4");
-    const large = await viewer.get(`${url(a4, "thumb")}?edge=1024`).buffer(true).parse(binary);
+    const large = await viewer
+      .get(`${url(a4, "thumb")}?edge=1024`)
+      .buffer(true)
+      .parse(binary);
     expect(large.status).toBe(200);
     const lm = await sharp(large.body as Buffer).metadata();
     expect(Math.max(lm.width!, lm.height!)).toBe(1024);
@@ -172,7 +208,9 @@ describe("one output of a batch", () => {
     expect(res.status).toBe(200);
     const meta = await sharp(res.body as Buffer).metadata();
     expect(Math.max(meta.width!, meta.height!)).toBe(Math.min(OUTPUT_THUMB_EDGE, Math.max(web.width, web.height)));
-    const key = (await stack.database.pool.query<{ key: string }>(`select key from outputs where fragment_id = $1 and kind = 'web'`, [piece.id])).rows[0]!.key;
+    const key = (
+      await stack.database.pool.query<{ key: string }>(`select key from outputs where fragment_id = $1 and kind = 'web'`, [piece.id])
+    ).rows[0]!.key;
     const a = (await sharp(res.body as Buffer).stats()).channels.slice(0, 3).map((c) => c.mean);
     const b = (await sharp(stack.libraryPath(key)).stats()).channels.slice(0, 3).map((c) => c.mean);
     for (let k = 0; k < 3; k++) expect(Math.abs(a[k]! - b[k]!)).toBeLessThan(3);
@@ -188,11 +226,13 @@ describe("one output of a batch", () => {
     const gate = new Promise<void>((r) => (release = r));
     const library: Storage = Object.create(stack.library, {
       writeAtomic: { value: (k: string, fn: (tmp: string) => Promise<void>) => ((writes += 1), stack.library.writeAtomic(k, fn)) },
-      withLocalFile: { value: async <T,>(k: string, fn: (p: string) => Promise<T>) => (await gate, stack.library.withLocalFile(k, fn)) },
+      withLocalFile: { value: async <T>(k: string, fn: (p: string) => Promise<T>) => (await gate, stack.library.withLocalFile(k, fn)) },
     });
     const same = Array.from({ length: 5 }, () => outputThumb(library, out, { maxPixels: 5e8 }));
     // Other pictures fill the two makers and the queue behind them; the next one is refused at once.
-    const others = Array.from({ length: MAX_WAITING + 1 }, (_, i) => outputThumb(library, { ...out, id: crypto.randomUUID(), updatedAt: new Date(i) }, { maxPixels: 5e8 }));
+    const others = Array.from({ length: MAX_WAITING + 1 }, (_, i) =>
+      outputThumb(library, { ...out, id: crypto.randomUUID(), updatedAt: new Date(i) }, { maxPixels: 5e8 }),
+    );
     await expect.poll(picturesInHand).toBe(2 + MAX_WAITING);
     await expect(outputThumb(library, { ...out, id: crypto.randomUUID() }, { maxPixels: 5e8 })).rejects.toMatchObject({ status: 503 });
     release();
@@ -225,10 +265,12 @@ describe("one output of a batch", () => {
     expect((await operator.get(url(itemOf("web", 1), "file"))).status).toBe(200);
     expect((await viewer.get(`/api/fragments/${pieces[0]!.id}/outputs/web/thumb`)).status).toBe(404);
     // A picture made already stands for its file: the file gone, the picture is not shown either.
-    const web = (await stack.database.pool.query<{ id: string; key: string; updated_at: Date }>(
-      `select id, key, updated_at from outputs where fragment_id = $1 and kind = 'web'`,
-      [pieces[1]!.id],
-    )).rows[0]!;
+    const web = (
+      await stack.database.pool.query<{ id: string; key: string; updated_at: Date }>(
+        `select id, key, updated_at from outputs where fragment_id = $1 and kind = 'web'`,
+        [pieces[1]!.id],
+      )
+    ).rows[0]!;
     expect(await stack.library.exists(outputThumbKey(web.id, web.updated_at))).toBe(true);
     await fs.rm(stack.libraryPath(web.key));
     expect((await viewer.get(`/api/fragments/${pieces[1]!.id}/outputs/web/thumb`)).status).toBe(404);

@@ -16,7 +16,10 @@ const vite = path.resolve("node_modules", ".bin", "vite");
 let root: string;
 
 function page(text: string) {
-  fs.writeFileSync(path.join(root, "index.html"), `<!doctype html><html><body><script type="module" src="/main.js"></script></body></html>`);
+  fs.writeFileSync(
+    path.join(root, "index.html"),
+    `<!doctype html><html><body><script type="module" src="/main.js"></script></body></html>`,
+  );
   fs.writeFileSync(path.join(root, "main.js"), `document.body.append(${JSON.stringify(text)});\n`);
 }
 

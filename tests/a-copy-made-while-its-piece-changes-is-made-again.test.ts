@@ -31,10 +31,19 @@ async function deps(library: Storage = stack.library) {
 }
 
 const presetCopies = async () =>
-  (await stack.database.pool.query<{ key: string; revision: number }>(`select key, revision from outputs where fragment_id = $1 and kind = 'preset'`, [piece.id])).rows;
+  (
+    await stack.database.pool.query<{ key: string; revision: number }>(
+      `select key, revision from outputs where fragment_id = $1 and kind = 'preset'`,
+      [piece.id],
+    )
+  ).rows;
 
 const item = async () =>
-  (await stack.database.pool.query<{ state: string; output_id: string | null }>(`select state, output_id from batch_items where id = $1`, [itemId])).rows[0]!;
+  (
+    await stack.database.pool.query<{ state: string; output_id: string | null }>(`select state, output_id from batch_items where id = $1`, [
+      itemId,
+    ])
+  ).rows[0]!;
 
 /** Files under outputs/ of the piece, on disk. */
 const filesOnDisk = async () => {
@@ -69,7 +78,9 @@ describe("a batch copy made while its piece changes", () => {
         value: async (key: string, file: string, opts?: { move?: boolean }) => {
           const r = await stack.library.put(key, file, opts);
           if (key.startsWith("outputs/"))
-            await stack.database.pool.query(`update fragments set revision = revision + 1, render_state = 'queued' where id = $1`, [piece.id]);
+            await stack.database.pool.query(`update fragments set revision = revision + 1, render_state = 'queued' where id = $1`, [
+              piece.id,
+            ]);
           return r;
         },
       },
@@ -92,7 +103,10 @@ describe("a batch copy made while its piece changes", () => {
       [piece.id],
     );
     const revision = rows[0]!.revision;
-    await stack.database.pool.query(`update outputs set revision = $2, dpi = 600, updated_at = now() where fragment_id = $1 and kind = 'master'`, [piece.id, revision]);
+    await stack.database.pool.query(
+      `update outputs set revision = $2, dpi = 600, updated_at = now() where fragment_id = $1 and kind = 'master'`,
+      [piece.id, revision],
+    );
     await outputJob(await deps(), { batchItemId: itemId }, ctx(2));
     const copies = await presetCopies();
     expect(copies).toHaveLength(1);
@@ -110,9 +124,13 @@ describe("a batch copy made while its piece changes", () => {
   /** A new batch of the piece with another built-in preset: a fresh item, not made yet. */
   async function freshItem(preset: string): Promise<string> {
     const p = ((await operator.get("/api/presets")).body.presets as PresetSummary[]).find((x) => x.name === preset)!;
-    const made = await operator.post("/api/batches").send({ name: `Shop ${preset}`, selection: { fragmentIds: [piece.id] }, presetIds: [p.id] });
+    const made = await operator
+      .post("/api/batches")
+      .send({ name: `Shop ${preset}`, selection: { fragmentIds: [piece.id] }, presetIds: [p.id] });
     expect(made.status, JSON.stringify(made.body)).toBe(201);
-    const { rows } = await stack.database.pool.query<{ id: string }>(`select id from batch_items where batch_id = $1`, [made.body.batch.id]);
+    const { rows } = await stack.database.pool.query<{ id: string }>(`select id from batch_items where batch_id = $1`, [
+      made.body.batch.id,
+    ]);
     return rows[0]!.id;
   }
 
@@ -134,7 +152,9 @@ describe("a batch copy made while its piece changes", () => {
     const library = changingWhileStored(`update outputs set dpi = 1200 where fragment_id = $1 and kind = 'master'`);
     await expect(outputJob(await deps(library), { batchItemId: id }, ctx())).rejects.toThrow(/changed while this copy was being made/);
     expect(await presetCopies()).toEqual(before);
-    expect((await stack.database.pool.query(`select state, output_id from batch_items where id = $1`, [id])).rows[0]).toMatchObject({ output_id: null });
+    expect((await stack.database.pool.query(`select state, output_id from batch_items where id = $1`, [id])).rows[0]).toMatchObject({
+      output_id: null,
+    });
     expect(await filesOnDisk()).toHaveLength(before.length);
   });
 
@@ -146,7 +166,10 @@ describe("a batch copy made while its piece changes", () => {
     await outputJob(await deps(library), { batchItemId: id }, ctx());
     expect(await presetCopies()).toEqual(before);
     expect(await filesOnDisk()).toHaveLength(before.length);
-    const { rows } = await stack.database.pool.query<{ state: string; error: string | null; output_id: string | null }>(`select state, error, output_id from batch_items where id = $1`, [id]);
+    const { rows } = await stack.database.pool.query<{ state: string; error: string | null; output_id: string | null }>(
+      `select state, error, output_id from batch_items where id = $1`,
+      [id],
+    );
     expect(rows[0]).toEqual({ state: "failed", error: "The fragment is no longer approved.", output_id: null });
     await stack.database.pool.query(`update fragments set status = 'approved' where id = $1`, [piece.id]);
   });
@@ -154,9 +177,13 @@ describe("a batch copy made while its piece changes", () => {
   it("is not reused for a piece no longer approved: the item says so instead of linking the copy made before", async () => {
     // A second batch of the same piece and preset would reuse the copy the first made.
     const web = ((await operator.get("/api/presets")).body.presets as PresetSummary[]).find((p) => p.name === "web")!;
-    const made = await operator.post("/api/batches").send({ name: "Shop again", selection: { fragmentIds: [piece.id] }, presetIds: [web.id] });
+    const made = await operator
+      .post("/api/batches")
+      .send({ name: "Shop again", selection: { fragmentIds: [piece.id] }, presetIds: [web.id] });
     expect(made.status, JSON.stringify(made.body)).toBe(201);
-    const { rows: items } = await stack.database.pool.query<{ id: string }>(`select id from batch_items where batch_id = $1`, [made.body.batch.id]);
+    const { rows: items } = await stack.database.pool.query<{ id: string }>(`select id from batch_items where batch_id = $1`, [
+      made.body.batch.id,
+    ]);
     // Rejected just after the job's first look, as the reuse checks the copy's file.
     const library: Storage = Object.create(stack.library, {
       exists: {
@@ -176,18 +203,30 @@ describe("a batch copy made while its piece changes", () => {
     // Printed 1.5 in wide: about 600 px ÷ 1.5 in = 400 DPI, over the 300 DPI minimum (common practice).
     const made = await operator.post("/api/presets").send({
       name: "Card, 1.5 in",
-      settings: { kind: "print", name: "Card, 1.5 in", paper: { size: "letter" }, layout: { mode: "area", widthIn: 8, heightIn: 10 }, printDpi: 300, scale: { mode: "exact", widthIn: 1.5 }, output: "tiff" },
+      settings: {
+        kind: "print",
+        name: "Card, 1.5 in",
+        paper: { size: "letter" },
+        layout: { mode: "area", widthIn: 8, heightIn: 10 },
+        printDpi: 300,
+        scale: { mode: "exact", widthIn: 1.5 },
+        output: "tiff",
+      },
     });
     expect(made.status, JSON.stringify(made.body)).toBe(201);
     const presetId = (made.body.preset?.id ?? made.body.id) as string;
-    const review = async () => (await operator.post("/api/batches/estimate").send({ selection: { fragmentIds: [piece.id] }, presetIds: [presetId] })).body;
+    const review = async () =>
+      (await operator.post("/api/batches/estimate").send({ selection: { fragmentIds: [piece.id] }, presetIds: [presetId] })).body;
     expect((await review()).warnings).toEqual([]);
     // The piece is cut to half its width (a new revision); its master is still the wide one.
     await stack.database.pool.query(
       `update fragments set rect = jsonb_set(rect, '{width}', to_jsonb((rect->>'width')::float / 2)), revision = revision + 1 where id = $1`,
       [piece.id],
     );
-    const { rows } = await stack.database.pool.query<{ width: number }>(`select width from outputs where fragment_id = $1 and kind = 'master'`, [piece.id]);
+    const { rows } = await stack.database.pool.query<{ width: number }>(
+      `select width from outputs where fragment_id = $1 and kind = 'master'`,
+      [piece.id],
+    );
     expect(rows[0]!.width).toBeGreaterThan(500);
     // About 300 px ÷ 1.5 in = 200 DPI now: said before the run.
     expect((await review()).warnings).toEqual([expect.stringMatching(/^Card, 1\.5 in: 1 of 1 piece prints below 300 DPI/)]);

@@ -48,8 +48,7 @@ async function at(key: string, fx: number, fy: number): Promise<number[]> {
     .toBuffer({ resolveWithObject: true });
   return [...data.subarray(0, 3)];
 }
-const near = (got: number[], want: number[], tol = 20) =>
-  got.every((v, i) => Math.abs(v - want[i]!) <= tol);
+const near = (got: number[], want: number[], tol = 20) => got.every((v, i) => Math.abs(v - want[i]!) <= tol);
 
 describe("a fragment's small picture", () => {
   const box = { x: 250, y: 200, width: 500, height: 400 };

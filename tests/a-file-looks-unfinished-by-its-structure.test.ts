@@ -32,7 +32,7 @@ const noise = (width: number, height: number) =>
 /** Offsets of the JPEG marker segments from SOI to the first SOS (T.81 B.1.1.4), as [marker, start, end]. */
 function jpegSegments(jpeg: Buffer): [number, number, number][] {
   const out: [number, number, number][] = [];
-  for (let p = 2; p + 4 <= jpeg.length; ) {
+  for (let p = 2; p + 4 <= jpeg.length;) {
     const end = p + 2 + jpeg.readUInt16BE(p + 2);
     out.push([jpeg[p + 1]!, p, end]);
     if (jpeg[p + 1] === 0xda) break;
@@ -67,7 +67,11 @@ function exifApp1WithThumbnail(thumb: Buffer): Buffer {
   tiff.writeUInt32BE(1, 14);
   tiff.writeUInt16BE(1, 18);
   tiff.writeUInt32BE(ifd1, 22);
-  const entries: [number, number, number][] = [[259, 3, 6], [513, 4, tiff.length], [514, 4, thumb.length]];
+  const entries: [number, number, number][] = [
+    [259, 3, 6],
+    [513, 4, tiff.length],
+    [514, 4, thumb.length],
+  ];
   tiff.writeUInt16BE(entries.length, ifd1);
   entries.forEach(([tag, type, value], i) => {
     const at = ifd1 + 2 + i * 12;
@@ -283,7 +287,9 @@ describe("a file its writer has not finished is called unfinished", () => {
     const segs = jpegSegments(jpeg);
     const dqt = segs.find(([m]) => m === 0xdb)!; // T.81 B.2.4.1: DQT
     expect(await judge(jpeg.subarray(0, dqt[1] + 10))).toBe("the JPEG's FFDB segment runs past its end");
-    expect(await judge(jpeg.subarray(0, dqt[2]))).toMatch(/^the JPEG('s FF.. segment runs past its end| ends before its image data starts)$/);
+    expect(await judge(jpeg.subarray(0, dqt[2]))).toMatch(
+      /^the JPEG('s FF.. segment runs past its end| ends before its image data starts)$/,
+    );
     const noEoi = "the JPEG has no end-of-image marker after its image data yet";
     expect(await judge(jpeg.subarray(0, sosEnd(jpeg)))).toBe(noEoi);
     expect(await judge(jpeg.subarray(0, jpeg.length >> 1))).toBe(noEoi);

@@ -69,8 +69,15 @@ function cutAfterHeader(jpeg: Buffer): Buffer {
  */
 function bombTiff(width: number, height: number, fill: number): Buffer {
   const entries: [number, number, number][] = [
-    [256, 4, width], [257, 4, height], [258, 3, 8], [259, 3, 1], [262, 3, 1],
-    [273, 4, 0], [277, 3, 1], [278, 4, height], [279, 4, 0xffffffff],
+    [256, 4, width],
+    [257, 4, height],
+    [258, 3, 8],
+    [259, 3, 1],
+    [262, 3, 1],
+    [273, 4, 0],
+    [277, 3, 1],
+    [278, 4, height],
+    [279, 4, 0xffffffff],
   ];
   const dataAt = 8 + 2 + entries.length * 12 + 4;
   const b = Buffer.alloc(dataAt + 16, fill);
@@ -116,7 +123,9 @@ function greyAlphaPng(width: number, height: number, shade: number): Buffer {
 }
 
 const PDF = (n: number) =>
-  Buffer.from(`%PDF-1.4\n1 0 obj<</Type/Catalog/Pages 2 0 R>>endobj\n2 0 obj<</Type/Pages/Kids[]/Count 0>>endobj\ntrailer<</Root 1 0 R>>\n%%EOF\n% ${n}\n`);
+  Buffer.from(
+    `%PDF-1.4\n1 0 obj<</Type/Catalog/Pages 2 0 R>>endobj\n2 0 obj<</Type/Pages/Kids[]/Count 0>>endobj\ntrailer<</Root 1 0 R>>\n%%EOF\n% ${n}\n`,
+  );
 
 interface Case {
   name: string;
@@ -133,7 +142,9 @@ const cases: Case[] = [
     // TIFF 6.0 Section 2: bytes 4–7 give IFD0's offset; the writer put IFD0 after the strips.
     name: "cut-in-half.tif",
     make: async (seed) => {
-      const whole = await sharp(await paperScan({ seed })).tiff({ compression: "none" }).toBuffer();
+      const whole = await sharp(await paperScan({ seed }))
+        .tiff({ compression: "none" })
+        .toBuffer();
       return whole.subarray(0, whole.length >> 1);
     },
     status: "failed",
@@ -190,13 +201,21 @@ const cases: Case[] = [
   },
   {
     name: "deep-16-bit.tif",
-    make: async (seed) => sharp(await paperScan({ seed })).toColourspace("rgb16").tiff({ compression: "lzw" }).toBuffer(),
+    make: async (seed) =>
+      sharp(await paperScan({ seed }))
+        .toColourspace("rgb16")
+        .tiff({ compression: "lzw" })
+        .toBuffer(),
     status: "ready",
     check: (row) => expect(row.bitDepth).toBe(16),
   },
   {
     name: "cmyk.jpg",
-    make: async (seed) => sharp(await paperScan({ seed })).toColourspace("cmyk").jpeg({ quality: 90 }).toBuffer(),
+    make: async (seed) =>
+      sharp(await paperScan({ seed }))
+        .toColourspace("cmyk")
+        .jpeg({ quality: 90 })
+        .toBuffer(),
     status: "ready",
     check: (row) => expect([row.channels, row.colourSpace]).toEqual([4, "cmyk"]),
   },
@@ -208,13 +227,19 @@ const cases: Case[] = [
   },
   {
     name: "one-pixel.png",
-    make: async (seed) => sharp({ create: { width: 1, height: 1, channels: 3, background: { r: seed, g: 9, b: 9 } } }).png().toBuffer(),
+    make: async (seed) =>
+      sharp({ create: { width: 1, height: 1, channels: 3, background: { r: seed, g: 9, b: 9 } } })
+        .png()
+        .toBuffer(),
     status: "ready",
     check: (row) => expect([row.width, row.height, row.stage]).toEqual([1, 1, "No pieces found on this scan"]),
   },
   {
     name: "strip-20000x50.tif",
-    make: async (seed) => sharp(await paperScan({ width: 20_000, height: 50, seed })).tiff({ compression: "lzw" }).toBuffer(),
+    make: async (seed) =>
+      sharp(await paperScan({ width: 20_000, height: 50, seed }))
+        .tiff({ compression: "lzw" })
+        .toBuffer(),
     status: "ready",
     check: (row) => expect([row.width, row.height]).toEqual([20_000, 50]),
   },
@@ -237,15 +262,23 @@ async function expectEachEnds(prefix: string, written: Map<string, Buffer>, only
 describe("a scanner that pauses while it writes", () => {
   it("has its file taken in once, whole, when it writes it only after a pause or stops half-way for a while", async () => {
     // The inbox waits 400 ms for a file to stop growing (tests/helpers/stack.ts); both pause longer.
-    const tiff = await sharp(await paperScan({ seed: 41 })).tiff({ compression: "none" }).toBuffer();
+    const tiff = await sharp(await paperScan({ seed: 41 }))
+      .tiff({ compression: "none" })
+      .toBuffer();
     const png = await paperScan({ format: "png", seed: 42 });
     await Promise.all([
       writeWithAPause(path.join(stack.inbox, "made-then-written.tif"), tiff, 0, 2500),
       writeWithAPause(path.join(stack.inbox, "half-then-the-rest.png"), png, png.length >> 1, 2500),
     ]);
-    for (const [name, data] of [["made-then-written.tif", tiff], ["half-then-the-rest.png", png]] as const) {
+    for (const [name, data] of [
+      ["made-then-written.tif", tiff],
+      ["half-then-the-rest.png", png],
+    ] as const) {
       const rows = await settled(name);
-      expect(rows.map((r) => [r.status, r.sha256, r.sizeBytes]), name).toEqual([["ready", sha256(data), data.length]]);
+      expect(
+        rows.map((r) => [r.status, r.sha256, r.sizeBytes]),
+        name,
+      ).toEqual([["ready", sha256(data), data.length]]);
     }
     expect(await fs.readdir(stack.inbox)).toEqual([]);
   });
@@ -275,7 +308,11 @@ describe("a scanner that pauses while it writes", () => {
     // Removed by a person: the inbox forgets them.
     await fs.rm(path.join(stack.inbox, "stays-empty.tif"));
     await fs.rm(path.join(stack.inbox, "stays-cut.jpg"));
-    await waitFor("the inbox to forget them", async () => ((await stack.db.select().from(inboxKeptFiles)).length === 0 ? true : null), 10_000);
+    await waitFor(
+      "the inbox to forget them",
+      async () => ((await stack.db.select().from(inboxKeptFiles)).length === 0 ? true : null),
+      10_000,
+    );
     expect(await rowsNamed("stays-empty.tif")).toHaveLength(1);
     expect(await rowsNamed("stays-cut.jpg")).toHaveLength(1);
   });
@@ -310,7 +347,11 @@ describe("a hostile day's files", () => {
     expect(kept.map((k) => [k.path, k.reason]).sort()).toEqual(stillThere.map((n) => [n, "unfinished"]));
     for (const n of stillThere) await fs.rm(path.join(stack.inbox, n));
     await fs.rmdir(path.join(stack.inbox, "inbox-folder.tif"));
-    await waitFor("the inbox to forget the files removed", async () => ((await stack.db.select().from(inboxKeptFiles)).length === 0 ? true : null), 10_000);
+    await waitFor(
+      "the inbox to forget the files removed",
+      async () => ((await stack.db.select().from(inboxKeptFiles)).length === 0 ? true : null),
+      10_000,
+    );
   });
 
   it("each end in one state through uploads, or are refused with the reason when they are not scans", async () => {
@@ -330,9 +371,14 @@ describe("a hostile day's files", () => {
       }
     }
     const empty = await operator.post("/api/scans/upload").attach("files", Buffer.alloc(0), "upload-empty.tif");
-    expect([empty.status, empty.body.error.message]).toEqual([415, "Not a scan Platen can read: upload-empty.tif (it is empty). Expected TIFF, JPEG, PNG or WebP."]);
+    expect([empty.status, empty.body.error.message]).toEqual([
+      415,
+      "Not a scan Platen can read: upload-empty.tif (it is empty). Expected TIFF, JPEG, PNG or WebP.",
+    ]);
     const twin = await paperScan({ seed: 251 });
-    const both = await Promise.all(["upload-twin-a.tif", "upload-twin-b.tif"].map((n) => operator.post("/api/scans/upload").attach("files", twin, n)));
+    const both = await Promise.all(
+      ["upload-twin-a.tif", "upload-twin-b.tif"].map((n) => operator.post("/api/scans/upload").attach("files", twin, n)),
+    );
     expect(both.map((r) => r.status)).toEqual([201, 201]);
     expect(both.map((r) => r.body.results[0].duplicateOf === null).sort()).toEqual([false, true]);
     await expectEachEnds("upload-", written, taken);
@@ -349,15 +395,31 @@ describe("a hostile day's files", () => {
     // Dropped again (a limit raised meanwhile, say): the first is queued again, not hidden behind a duplicate.
     const again = (await operator.post("/api/scans/upload").attach("files", bomb, "again-second.tif")).body.results[0];
     expect(again).toMatchObject({ duplicateOf: first.scanId, triedAgain: true });
-    await waitFor("the first to be analysed again", async () => {
-      const [row] = await rowsNamed("again-first.tif");
-      return row!.status === "failed" && row!.attempts > attempts ? row : null;
-    }, 30_000);
+    await waitFor(
+      "the first to be analysed again",
+      async () => {
+        const [row] = await rowsNamed("again-first.tif");
+        return row!.status === "failed" && row!.attempts > attempts ? row : null;
+      },
+      30_000,
+    );
     const dup = (await operator.get(`/api/scans/${again.scanId}`)).body.scan;
-    expect(dup).toMatchObject({ status: "duplicate", duplicateOf: { id: first.scanId, originalName: "again-first.tif", status: "failed", error: expect.stringMatching(/over this studio's limit/) } });
+    expect(dup).toMatchObject({
+      status: "duplicate",
+      duplicateOf: {
+        id: first.scanId,
+        originalName: "again-first.tif",
+        status: "failed",
+        error: expect.stringMatching(/over this studio's limit/),
+      },
+    });
     expect((await rowsNamed("again-first.tif"))[0]!.errorCode).toBe("too_large");
-    const audit = await stack.database.pool.query("select summary from audit_events where action = 'scan.retry' and subject_id = $1", [first.scanId]);
-    expect(audit.rows.map((r) => r.summary)).toEqual(["Retried again-first.tif after it failed: the same file was uploaded again as again-second.tif"]);
+    const audit = await stack.database.pool.query("select summary from audit_events where action = 'scan.retry' and subject_id = $1", [
+      first.scanId,
+    ]);
+    expect(audit.rows.map((r) => r.summary)).toEqual([
+      "Retried again-first.tif after it failed: the same file was uploaded again as again-second.tif",
+    ]);
     // Bytes that are themselves why (a file cut short) fail the same way every time: not analysed
     // again, and the duplicate carries the first's reason instead.
     const whole = await paperScan({ seed: 262 });
@@ -407,7 +469,10 @@ describe("a hostile day's files", () => {
     expect([...emojiUp.originalName]).toHaveLength(255);
     expect(emojiUp.originalName).toBe(`upload ${"🌸".repeat(255 - 7 - 4)}.png`);
     expect(longUp.originalName).toBe(`upload ${long.slice(0, 255 - 7 - 4)}.png`);
-    const rows = await stack.db.select().from(scans).where(inArray(scans.id, [broken.scanId, emojiUp.scanId, longUp.scanId]));
+    const rows = await stack.db
+      .select()
+      .from(scans)
+      .where(inArray(scans.id, [broken.scanId, emojiUp.scanId, longUp.scanId]));
     for (const r of rows) expect(r.originalKey).toMatch(/\.png$/);
   });
 

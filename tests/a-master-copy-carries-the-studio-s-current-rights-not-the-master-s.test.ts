@@ -40,7 +40,12 @@ beforeAll(async () => {
   master = at("master.tif");
   await renderOutput({ master: source, dpi: 600, ...OLD }, TIFF, { path: master });
   const tags = await exifr.parse(master, { tiff: true, xmp: true } as never);
-  expect(tags).toMatchObject({ Artist: "Ines Okafor", Copyright: "(C) 2025 Ines Okafor", ImageDescription: OLD.title, creator: OLD.creator });
+  expect(tags).toMatchObject({
+    Artist: "Ines Okafor",
+    Copyright: "(C) 2025 Ines Okafor",
+    ImageDescription: OLD.title,
+    creator: OLD.creator,
+  });
   masterIcc = (await sharp(master).metadata()).icc!;
   expect(masterIcc.length).toBeGreaterThan(0);
 });
@@ -49,7 +54,7 @@ beforeAll(async () => {
 function pngTexts(file: string): { type: string; keyword: string; text: string }[] {
   const png = fs.readFileSync(file);
   const out: { type: string; keyword: string; text: string }[] = [];
-  for (let at = 8; at + 12 <= png.length; ) {
+  for (let at = 8; at + 12 <= png.length;) {
     const length = png.readUInt32BE(at);
     const type = png.toString("latin1", at + 4, at + 8);
     const data = png.subarray(at + 8, at + 8 + length);
@@ -106,7 +111,13 @@ describe("a master-preset copy of a master made with other rights", () => {
     const NOW = { title: "Gulls, second state", creator: "Tomas Reyes", copyright: "© 2026 Tomas Reyes" };
     await renderOutput({ master, dpi: 600, ...NOW }, TIFF, { path: at("new.tif") });
     const { tags, xmp } = await readBack(at("new.tif"));
-    expect(tags).toMatchObject({ Artist: "Tomas Reyes", Copyright: "(C) 2026 Tomas Reyes", ImageDescription: NOW.title, creator: NOW.creator, rights: { value: NOW.copyright } });
+    expect(tags).toMatchObject({
+      Artist: "Tomas Reyes",
+      Copyright: "(C) 2026 Tomas Reyes",
+      ImageDescription: NOW.title,
+      creator: NOW.creator,
+      rights: { value: NOW.copyright },
+    });
     expect(xmp).not.toContain("Okafor");
   });
 

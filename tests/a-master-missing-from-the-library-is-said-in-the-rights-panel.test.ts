@@ -39,11 +39,17 @@ const status = async (): Promise<MastersRights> => {
 };
 const done = () => waitFor("the rewrite to finish", async () => ((await status()).writing === 0 ? status() : null), 60_000);
 const files = async (fragmentId: string) =>
-  (await stack.database.pool.query<{ id: string; kind: string; key: string; rights: unknown; bytes: number }>(
-    `select id, kind, key, rights, bytes from outputs where fragment_id = $1 and kind in ('master', 'web') order by kind`,
-    [fragmentId],
-  )).rows;
-const sha = async (key: string) => crypto.createHash("sha256").update(await fs.readFile(stack.libraryPath(key))).digest("hex");
+  (
+    await stack.database.pool.query<{ id: string; kind: string; key: string; rights: unknown; bytes: number }>(
+      `select id, kind, key, rights, bytes from outputs where fragment_id = $1 and kind in ('master', 'web') order by kind`,
+      [fragmentId],
+    )
+  ).rows;
+const sha = async (key: string) =>
+  crypto
+    .createHash("sha256")
+    .update(await fs.readFile(stack.libraryPath(key)))
+    .digest("hex");
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false, env: { PLATEN_JOB_RETRY_LIMIT: "0" } });
@@ -62,7 +68,7 @@ describe("a rewrite that cannot write a master", () => {
     const [a, b] = pieces as [Fragment, Fragment];
     const lost = (await files(a.id)).find((f) => f.kind === "master")!;
     await fs.rm(stack.libraryPath(lost.key));
-    expect((await status())).toMatchObject({ behind: 2, failed: 0, reasons: [] });
+    expect(await status()).toMatchObject({ behind: 2, failed: 0, reasons: [] });
     const res = await admin.post("/api/studio/masters-rights").send(SECOND);
     expect(res.status, JSON.stringify(res.body)).toBe(200);
     expect(res.body.queued).toBe(2);

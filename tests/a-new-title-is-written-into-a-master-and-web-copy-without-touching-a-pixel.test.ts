@@ -21,11 +21,7 @@ import exifr from "exifr";
 import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { renderFragment } from "../worker/pipeline/render";
-import {
-  readCarriedRights,
-  rewriteMasterRights,
-  rewriteWebRights,
-} from "../worker/pipeline/render/rewrite";
+import { readCarriedRights, rewriteMasterRights, rewriteWebRights } from "../worker/pipeline/render/rewrite";
 import { stage } from "../worker/pipeline/render/staging";
 import { drawScan, geometryOf, type PieceSpec } from "./helpers/fragment-scans";
 import { makeTempDir } from "./helpers/scan-bytes";
@@ -49,11 +45,7 @@ interface Rendered {
   format: "jpeg" | "webp";
 }
 
-async function render(
-  name: string,
-  depth: 8 | 16,
-  shape: "rectangle" | "cutout",
-): Promise<Rendered> {
+async function render(name: string, depth: 8 | 16, shape: "rectangle" | "cutout"): Promise<Rendered> {
   const piece: PieceSpec = {
     cx: 300.4,
     cy: 220.7,
@@ -67,9 +59,7 @@ async function render(
   let s = sharp(px, { raw: { width: 600, height: 450, channels: 3 } });
   if (depth === 16) s = s.toColourspace("rgb16").withIccProfile("p3");
   const source = at(`${name}-scan.tif`);
-  await s
-    .tiff({ compression: "lzw", xres: 600 / 25.4, yres: 600 / 25.4, resolutionUnit: "inch" })
-    .toFile(source);
+  await s.tiff({ compression: "lzw", xres: 600 / 25.4, yres: 600 / 25.4, resolutionUnit: "inch" }).toFile(source);
   const format = shape === "cutout" ? "webp" : "jpeg";
   const r = await renderFragment(
     {
@@ -90,9 +80,7 @@ async function render(
 
 /** Raw samples (every channel, the file's own depth) and what describes them. */
 async function picture(file: string) {
-  const { data, info } = await sharp(file)
-    .raw({ depth: "ushort" })
-    .toBuffer({ resolveWithObject: true });
+  const { data, info } = await sharp(file).raw({ depth: "ushort" }).toBuffer({ resolveWithObject: true });
   const meta = await sharp(file).metadata();
   return {
     hash: crypto.createHash("sha256").update(data).digest("hex"),
@@ -110,8 +98,7 @@ async function picture(file: string) {
 function riffChunk(bytes: Buffer, id: string): Buffer | undefined {
   for (let pos = 12; pos + 8 <= bytes.length;) {
     const size = bytes.readUInt32LE(pos + 4);
-    if (bytes.toString("latin1", pos, pos + 4) === id)
-      return bytes.subarray(pos + 8, pos + 8 + size);
+    if (bytes.toString("latin1", pos, pos + 4) === id) return bytes.subarray(pos + 8, pos + 8 + size);
     pos += 8 + size + (size % 2);
   }
   return undefined;
@@ -126,11 +113,7 @@ async function exifrFields(file: string) {
   const webp = bytes.toString("latin1", 8, 12) === "WEBP";
   // The chunk as libvips writes it starts with the JPEG APP1 "Exif\0\0" prefix (EXIF 2.3 Section 4.7.2).
   const chunk = webp ? riffChunk(bytes, "EXIF")! : undefined;
-  const input = chunk
-    ? chunk.subarray(0, 6).toString("latin1") === "Exif\0\0"
-      ? chunk.subarray(6)
-      : chunk
-    : bytes;
+  const input = chunk ? (chunk.subarray(0, 6).toString("latin1") === "Exif\0\0" ? chunk.subarray(6) : chunk) : bytes;
   const t = await exifr.parse(input, {
     tiff: true,
     ifd0: true,
@@ -154,8 +137,7 @@ function tiffinfo(file: string): string {
   return execFileSync("tiffinfo", [file], { encoding: "utf8", stdio: ["ignore", "pipe", "pipe"] });
 }
 
-const dcTitle = (xmp: string) =>
-  /<dc:title>\s*<rdf:Alt>\s*<rdf:li[^>]*>([^<]*)<\/rdf:li>/.exec(xmp)?.[1];
+const dcTitle = (xmp: string) => /<dc:title>\s*<rdf:Alt>\s*<rdf:li[^>]*>([^<]*)<\/rdf:li>/.exec(xmp)?.[1];
 
 describe("a metadata rewrite of a 16-bit master and its JPEG web copy", () => {
   let r: Rendered;
@@ -218,31 +200,20 @@ describe("a metadata rewrite of a 16-bit master and its JPEG web copy", () => {
   it("keeps every JPEG sample of the web copy (the entropy-coded data is copied) and carries the new title", async () => {
     const before = await picture(r.web);
     const staged = await stage(at("deep-web-new.jpg"));
-    await rewriteWebRights(
-      r.web,
-      staged,
-      { ...(await readCarriedRights(r.web)), title: NEW_TITLE },
-      "jpeg",
-    );
+    await rewriteWebRights(r.web, staged, { ...(await readCarriedRights(r.web)), title: NEW_TITLE }, "jpeg");
     expect(await picture(staged.temp)).toEqual(before);
     const old = await fs.readFile(r.web);
     const now = await fs.readFile(staged.temp);
     // From the start of scan (FF DA) on, the files are the same bytes.
-    expect(now.subarray(now.indexOf(Buffer.from([0xff, 0xda])))).toEqual(
-      old.subarray(old.indexOf(Buffer.from([0xff, 0xda]))),
-    );
+    expect(now.subarray(now.indexOf(Buffer.from([0xff, 0xda])))).toEqual(old.subarray(old.indexOf(Buffer.from([0xff, 0xda]))));
     const fields = await exifrFields(staged.temp);
     expect(fields).toMatchObject({
       description: NEW_TITLE_ASCII,
       artist: "Marta Quell",
       xres: (await exifrFields(r.web)).xres,
     });
-    expect(dcTitle((await sharp(staged.temp).metadata()).xmp!.toString("utf8"))).toBe(
-      "Héron at dusk &amp; after",
-    );
-    expect((await sharp(staged.temp).metadata()).density).toBe(
-      (await sharp(r.web).metadata()).density,
-    );
+    expect(dcTitle((await sharp(staged.temp).metadata()).xmp!.toString("utf8"))).toBe("Héron at dusk &amp; after");
+    expect((await sharp(staged.temp).metadata()).density).toBe((await sharp(r.web).metadata()).density);
     expect(now.includes(Buffer.from(OLD.title))).toBe(false);
   });
 
@@ -289,12 +260,7 @@ describe("a metadata rewrite of an 8-bit cut-out master and its WebP web copy", 
     expect(await exifrFields(m.temp)).toMatchObject({ description: NEW_TITLE_ASCII, xres: 600 });
 
     const w = await stage(at("cut-web-new.webp"));
-    await rewriteWebRights(
-      r.web,
-      w,
-      { ...(await readCarriedRights(r.web)), title: NEW_TITLE },
-      "webp",
-    );
+    await rewriteWebRights(r.web, w, { ...(await readCarriedRights(r.web)), title: NEW_TITLE }, "webp");
     expect(await picture(w.temp)).toEqual(web);
     const fields = await exifrFields(w.temp);
     expect(fields).toMatchObject({
@@ -310,13 +276,9 @@ describe("a metadata rewrite of an 8-bit cut-out master and its WebP web copy", 
 
   it("refuses a file that is not what its row says, and leaves nothing half-written in the target", async () => {
     const w = await stage(at("wrong.webp"));
-    await expect(rewriteWebRights(r.master, w, { title: NEW_TITLE }, "webp")).rejects.toThrow(
-      /Expected a WebP/,
-    );
+    await expect(rewriteWebRights(r.master, w, { title: NEW_TITLE }, "webp")).rejects.toThrow(/Expected a WebP/);
     const m = await stage(at("wrong.tif"));
-    await expect(rewriteMasterRights(r.web, m, { title: NEW_TITLE })).rejects.toThrow(
-      /TIFF byte order/,
-    );
+    await expect(rewriteMasterRights(r.web, m, { title: NEW_TITLE })).rejects.toThrow(/TIFF byte order/);
     await expect(fs.access(m.target)).rejects.toThrow();
   });
 });

@@ -40,11 +40,16 @@ const A6 = { paper: { size: "a6" }, layout: { mode: "margins", top: 8, right: 8,
 /** The presets of the run, by name: each kind and each way of carrying (or not) the title. */
 const PRESETS: Record<string, Record<string, unknown>> = {
   "shop-titled": { kind: "web", size: { mode: "longEdge", longEdge: 400 }, format: "jpeg" },
-  "shop-untitled": { kind: "web", size: { mode: "longEdge", longEdge: 400 }, format: "jpeg", keep: { title: false, creator: true, copyright: true, resolution: true } },
-  "wall": { kind: "mockup", width: 400, height: 400 },
+  "shop-untitled": {
+    kind: "web",
+    size: { mode: "longEdge", longEdge: 400 },
+    format: "jpeg",
+    keep: { title: false, creator: true, copyright: true, resolution: true },
+  },
+  wall: { kind: "mockup", width: 400, height: 400 },
   "card-captioned": { kind: "print", ...A6, caption: true, output: "tiff" },
   "card-pdf": { kind: "print", ...A6, output: "pdf" },
-  "archive": { kind: "master" },
+  archive: { kind: "master" },
 };
 
 interface Made {
@@ -58,10 +63,14 @@ async function run(): Promise<Made[]> {
   const res = await operator.post("/api/batches").send({ selection: { fragmentIds: [fragment.id] }, presetIds: [...presetIds.values()] });
   expect(res.status).toBe(201);
   const id = res.body.batch.id as string;
-  const done = await waitFor("the batch", async () => {
-    const r = (await operator.get(`/api/batches/${id}`)).body;
-    return r.batch.finishedAt ? r : null;
-  }, 90_000);
+  const done = await waitFor(
+    "the batch",
+    async () => {
+      const r = (await operator.get(`/api/batches/${id}`)).body;
+      return r.batch.finishedAt ? r : null;
+    },
+    90_000,
+  );
   expect(done.batch.counts).toMatchObject({ done: 6, failed: 0 });
   const { rows } = await stack.database.pool.query<{ preset: string; output_id: string; key: string; dedupe_key: string }>(
     `select p.name as preset, o.id as output_id, o.key, o.dedupe_key from batch_items i
@@ -75,7 +84,9 @@ async function run(): Promise<Made[]> {
 const byPreset = (made: Made[], name: string) => made.find((m) => m.preset === name)!;
 
 async function estimateReused(): Promise<number> {
-  const res = await operator.post("/api/batches/estimate").send({ selection: { fragmentIds: [fragment.id] }, presetIds: [...presetIds.values()] });
+  const res = await operator
+    .post("/api/batches/estimate")
+    .send({ selection: { fragmentIds: [fragment.id] }, presetIds: [...presetIds.values()] });
   expect(res.status).toBe(200);
   expect(res.body.outputs).toBe(6);
   return res.body.reused as number;
@@ -139,7 +150,11 @@ describe("a piece's new title", () => {
       [first.map((m) => m.outputId)],
     );
     const base = (name: string) => rows.find((r) => r.preset === name)!.base;
-    const rights = crypto.createHash("sha256").update(JSON.stringify([CREATOR, COPYRIGHT])).digest("hex").slice(0, 16);
+    const rights = crypto
+      .createHash("sha256")
+      .update(JSON.stringify([CREATOR, COPYRIGHT]))
+      .digest("hex")
+      .slice(0, 16);
     expect(byPreset(first, "wall").dedupeKey).toBe(base("wall"));
     expect(byPreset(first, "shop-untitled").dedupeKey).toBe(`${base("shop-untitled")}:c${rights}`);
     expect(byPreset(first, "shop-titled").dedupeKey).toMatch(new RegExp(`^${base("shop-titled")}:c${rights}:t[0-9a-f]{16}$`));

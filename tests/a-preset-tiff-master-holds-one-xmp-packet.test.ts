@@ -68,7 +68,15 @@ describe("a TIFF master made by a preset", () => {
 
   it("and a print TIFF likewise: one packet, beside its text fields and sRGB profile", async () => {
     const out = at("print.tif");
-    const letter: PresetInput = { kind: "print", name: "letter", paper: { size: "letter" }, layout: { mode: "area", widthIn: 8, heightIn: 10 }, printDpi: 100, scale: { mode: "fit" }, output: "tiff" };
+    const letter: PresetInput = {
+      kind: "print",
+      name: "letter",
+      paper: { size: "letter" },
+      layout: { mode: "area", widthIn: 8, heightIn: 10 },
+      printDpi: 100,
+      scale: { mode: "fit" },
+      output: "tiff",
+    };
     await renderOutput({ master: source, dpi: 600, ...RIGHTS }, letter, { path: out });
     const bytes = await fs.readFile(out);
     expect(count(bytes, "<?xpacket begin")).toBe(1);

@@ -60,12 +60,7 @@ function segments(jpeg: Buffer): Segment[] {
     out.push(seg);
     pos = seg.end;
     if (marker === 0xda) {
-      while (!(
-        jpeg[pos] === 0xff &&
-        jpeg[pos + 1] !== 0x00 &&
-        !(jpeg[pos + 1]! >= 0xd0 && jpeg[pos + 1]! <= 0xd7)
-      ))
-        pos++;
+      while (!(jpeg[pos] === 0xff && jpeg[pos + 1] !== 0x00 && !(jpeg[pos + 1]! >= 0xd0 && jpeg[pos + 1]! <= 0xd7))) pos++;
       seg.dataEnd = pos;
     }
   }
@@ -73,11 +68,7 @@ function segments(jpeg: Buffer): Segment[] {
 
 /** A COM segment (T.81 B.2.4.5: FF FE, length, any bytes) whose text holds FF D9. */
 function comWithEoiBytes(): Buffer {
-  const body = Buffer.concat([
-    Buffer.from("scanner note ", "latin1"),
-    Buffer.from([0xff, 0xd9]),
-    Buffer.from(" end", "latin1"),
-  ]);
+  const body = Buffer.concat([Buffer.from("scanner note ", "latin1"), Buffer.from([0xff, 0xd9]), Buffer.from(" end", "latin1")]);
   const head = Buffer.alloc(4);
   head.writeUInt16BE(0xfffe, 0);
   head.writeUInt16BE(2 + body.length, 2);
@@ -137,11 +128,7 @@ describe("a progressive JPEG made by sharp", () => {
         s.start + 5,
         `the JPEG's FF${s.marker.toString(16).toUpperCase()} segment runs past its end`,
       ]);
-      cuts.push([
-        `after the FF${s.marker.toString(16).toUpperCase()} at ${s.start}`,
-        s.end,
-        NO_EOI,
-      ]);
+      cuts.push([`after the FF${s.marker.toString(16).toUpperCase()} at ${s.start}`, s.end, NO_EOI]);
       // Only the FF of a table's marker: what the marker is, is not there yet.
       cuts.push([`after the FF of the marker at ${s.start}`, s.start + 1, NO_EOI]);
     }
@@ -184,13 +171,7 @@ describe("a progressive JPEG made by sharp", () => {
     const whole = Buffer.concat([head, filler, rest, Buffer.from([0xff, 0xd9])]);
     expect(whole[chunk - 1]).toBe(0xff);
     expect(await judge(whole)).toBeNull();
-    for (const cut of [
-      chunk,
-      chunk + 1,
-      chunk + 5,
-      head.length + filler.length + rest.length,
-      whole.length - 1,
-    ]) {
+    for (const cut of [chunk, chunk + 1, chunk + 5, head.length + filler.length + rest.length, whole.length - 1]) {
       expect(await judge(whole.subarray(0, cut)), `cut at ${cut}`).toBe(NO_EOI);
     }
     // An EOI whose FF is the last byte of that first read.

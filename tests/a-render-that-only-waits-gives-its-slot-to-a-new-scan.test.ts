@@ -39,15 +39,33 @@ describe("a render job that only waits for its group", () => {
     await waitFor("the first scan to be split", async () => ((await fragmentsOf(first)).length === 3 ? true : null), 60_000);
     expect((await operator.post(`/api/scans/${first}/approve-remaining`)).status).toBe(200);
     // The group is claimed, and a second of its jobs has been fetched to wait (the other slot).
-    await waitFor("the group to be claimed", async () => ((await fragmentsOf(first)).every((f) => f.renderState === "rendering") ? true : null), 20_000);
-    await waitFor("a second render job to be in hand", async () => {
-      const { rows } = await stack.database.pool.query("select count(*)::int as n from pgboss.job where name = 'fragment-render' and state = 'active'");
-      return rows[0].n >= 2 ? true : null;
-    }, 10_000);
+    await waitFor(
+      "the group to be claimed",
+      async () => ((await fragmentsOf(first)).every((f) => f.renderState === "rendering") ? true : null),
+      20_000,
+    );
+    await waitFor(
+      "a second render job to be in hand",
+      async () => {
+        const { rows } = await stack.database.pool.query(
+          "select count(*)::int as n from pgboss.job where name = 'fragment-render' and state = 'active'",
+        );
+        return rows[0].n >= 2 ? true : null;
+      },
+      10_000,
+    );
     const second = await upload(22, 2);
-    await waitFor("the second scan to be analysed", async () => ((await operator.get(`/api/scans/${second}`)).body.scan.status === "ready" ? true : null), 30_000);
+    await waitFor(
+      "the second scan to be analysed",
+      async () => ((await operator.get(`/api/scans/${second}`)).body.scan.status === "ready" ? true : null),
+      30_000,
+    );
     // The group still renders: the new scan did not wait for it.
     expect((await fragmentsOf(first)).some((f) => f.renderState !== "done")).toBe(true);
-    await waitFor("every master of the first scan", async () => ((await fragmentsOf(first)).every((f) => f.renderState === "done") ? true : null), 60_000);
+    await waitFor(
+      "every master of the first scan",
+      async () => ((await fragmentsOf(first)).every((f) => f.renderState === "done") ? true : null),
+      60_000,
+    );
   }, 120_000);
 });

@@ -21,7 +21,12 @@ beforeAll(async () => {
   stack = await startStack({ worker: false, watcher: false });
   operator = await userAgent(stack, "operator");
   // Worker A: one slot; each group render is held 20 s once claimed.
-  renderer = spawnProcess("worker/main.ts", { ...stack.env, PLATEN_PROCESS: "renderer", PLATEN_WORKER_CONCURRENCY: "1", PLATEN_TEST_RENDER_DELAY_MS: "20000" });
+  renderer = spawnProcess("worker/main.ts", {
+    ...stack.env,
+    PLATEN_PROCESS: "renderer",
+    PLATEN_WORKER_CONCURRENCY: "1",
+    PLATEN_TEST_RENDER_DELAY_MS: "20000",
+  });
   renderer.stdout!.on("data", () => {});
   renderer.stderr!.on("data", () => {});
 }, 60_000);
@@ -35,11 +40,19 @@ const fragmentsOf = async (scanId: string) => (await operator.get(`/api/scans/${
 
 describe("a render job waiting for its group when its worker stops", () => {
   it("goes back to the queue whole, spending no attempt, and its piece is made", async () => {
-    const scanId = (await operator.post("/api/scans/upload").attach("files", await pieceBed(21, 3), "bed-21.tif")).body.results[0].scanId as string;
+    const scanId = (await operator.post("/api/scans/upload").attach("files", await pieceBed(21, 3), "bed-21.tif")).body.results[0]
+      .scanId as string;
     await waitFor("the split", async () => ((await fragmentsOf(scanId)).length === 3 ? true : null), 60_000);
     expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-    await waitFor("worker A to claim the group", async () => ((await fragmentsOf(scanId)).every((f) => f.renderState === "rendering") ? true : null), 30_000);
-    const { rows: claims } = await stack.database.pool.query<{ render_job_id: string }>("select distinct render_job_id from fragments where scan_id = $1", [scanId]);
+    await waitFor(
+      "worker A to claim the group",
+      async () => ((await fragmentsOf(scanId)).every((f) => f.renderState === "rendering") ? true : null),
+      30_000,
+    );
+    const { rows: claims } = await stack.database.pool.query<{ render_job_id: string }>(
+      "select distinct render_job_id from fragments where scan_id = $1",
+      [scanId],
+    );
     expect(claims).toHaveLength(1);
     const claimant = claims[0]!.render_job_id;
 
@@ -48,13 +61,17 @@ describe("a render job waiting for its group when its worker stops", () => {
     let log = "";
     waiter.stdout!.on("data", (d: Buffer) => (log += d.toString()));
     waiter.stderr!.on("data", (d: Buffer) => (log += d.toString()));
-    const waiting = await waitFor("worker B to hold a waiting job", async () => {
-      const { rows } = await stack.database.pool.query<{ id: string; data: unknown; retry_count: number }>(
-        "select id, data, retry_count from pgboss.job where name = 'fragment-render' and state = 'active' and id <> $1",
-        [claimant],
-      );
-      return rows[0] ?? null;
-    }, 30_000);
+    const waiting = await waitFor(
+      "worker B to hold a waiting job",
+      async () => {
+        const { rows } = await stack.database.pool.query<{ id: string; data: unknown; retry_count: number }>(
+          "select id, data, retry_count from pgboss.job where name = 'fragment-render' and state = 'active' and id <> $1",
+          [claimant],
+        );
+        return rows[0] ?? null;
+      },
+      30_000,
+    );
     expect(waiting.retry_count).toBe(0);
 
     // B is asked to stop while A still renders.
@@ -64,7 +81,10 @@ describe("a render job waiting for its group when its worker stops", () => {
     expect((await fragmentsOf(scanId)).some((f) => f.renderState !== "done")).toBe(true);
 
     // The waiting job ended as completed, not failed or retried; a new job carries its data.
-    const { rows: after } = await stack.database.pool.query<{ state: string; retry_count: number }>("select state, retry_count from pgboss.job where id = $1", [waiting.id]);
+    const { rows: after } = await stack.database.pool.query<{ state: string; retry_count: number }>(
+      "select state, retry_count from pgboss.job where id = $1",
+      [waiting.id],
+    );
     expect(after[0]).toMatchObject({ state: "completed", retry_count: 0 });
     const { rows: again } = await stack.database.pool.query<{ id: string; retry_count: number }>(
       "select id, retry_count from pgboss.job where name = 'fragment-render' and data = $1::jsonb and id <> $2",
@@ -76,11 +96,17 @@ describe("a render job waiting for its group when its worker stops", () => {
 
     // A finishes the group and then runs the handed-back job, which finds its piece made.
     await waitFor("every master", async () => ((await fragmentsOf(scanId)).every((f) => f.renderState === "done") ? true : null), 60_000);
-    await waitFor("the handed-back job to finish", async () => {
-      const { rows } = await stack.database.pool.query<{ state: string }>("select state from pgboss.job where id = $1", [again[0]!.id]);
-      return rows[0]?.state === "completed" ? true : null;
-    }, 30_000);
-    const { rows: failed } = await stack.database.pool.query("select id from pgboss.job where name = 'fragment-render' and (state in ('failed', 'retry') or retry_count > 0)");
+    await waitFor(
+      "the handed-back job to finish",
+      async () => {
+        const { rows } = await stack.database.pool.query<{ state: string }>("select state from pgboss.job where id = $1", [again[0]!.id]);
+        return rows[0]?.state === "completed" ? true : null;
+      },
+      30_000,
+    );
+    const { rows: failed } = await stack.database.pool.query(
+      "select id from pgboss.job where name = 'fragment-render' and (state in ('failed', 'retry') or retry_count > 0)",
+    );
     expect(failed).toEqual([]);
   }, 150_000);
 });

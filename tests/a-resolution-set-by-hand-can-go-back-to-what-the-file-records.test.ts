@@ -41,7 +41,7 @@ async function bed(kind: "tiff72" | "png-none", colour: string): Promise<Buffer>
  */
 function withoutPhys(png: Buffer): Buffer {
   const parts = [png.subarray(0, 8)];
-  for (let at = 8; at < png.length; ) {
+  for (let at = 8; at < png.length;) {
     const size = 12 + png.readUInt32BE(at);
     if (png.toString("latin1", at + 4, at + 8) !== "pHYs") parts.push(png.subarray(at, at + size));
     at += size;
@@ -60,17 +60,21 @@ const fragmentsOf = async (id: string) => (await operator.get(`/api/scans/${id}/
 
 /** The current masters of a scan's pieces, once every one is made at `dpi` for its revision. */
 async function mastersAt(scanId: string, dpi: number) {
-  return waitFor(`masters at ${dpi} DPI`, async () => {
-    const list = await fragmentsOf(scanId);
-    if (!list.every((f) => f.renderState === "done")) return null;
-    const { rows } = await stack.database.pool.query<{ key: string; dpi: number; revision: number; fragment_revision: number }>(
-      `select o.key, o.dpi, o.revision, f.revision as fragment_revision from outputs o
+  return waitFor(
+    `masters at ${dpi} DPI`,
+    async () => {
+      const list = await fragmentsOf(scanId);
+      if (!list.every((f) => f.renderState === "done")) return null;
+      const { rows } = await stack.database.pool.query<{ key: string; dpi: number; revision: number; fragment_revision: number }>(
+        `select o.key, o.dpi, o.revision, f.revision as fragment_revision from outputs o
          join fragments f on f.id = o.fragment_id
         where f.scan_id = $1 and o.kind = 'master' and o.revision = f.revision`,
-      [scanId],
-    );
-    return rows.length === 2 && rows.every((r) => r.dpi === dpi) ? rows : null;
-  }, 60_000);
+        [scanId],
+      );
+      return rows.length === 2 && rows.every((r) => r.dpi === dpi) ? rows : null;
+    },
+    60_000,
+  );
 }
 
 const resolutionAudits = async (scanId: string) =>
@@ -134,7 +138,9 @@ describe("a file that records a wrong figure", () => {
     }
     const audits = await resolutionAudits(scanId);
     expect(audits).toHaveLength(2);
-    expect(audits[1]!.summary).toMatch(/^Put says-72\.tif back to the resolution its file records, 72 DPI \(was 600 DPI, set\); 2 approved pieces rendered again$/);
+    expect(audits[1]!.summary).toMatch(
+      /^Put says-72\.tif back to the resolution its file records, 72 DPI \(was 600 DPI, set\); 2 approved pieces rendered again$/,
+    );
     expect(audits[1]!.before).toMatchObject({ dpiX: 600, dpiSource: "set" });
     expect(audits[1]!.after).toEqual({ dpiX: 72, dpiY: 72, dpiSource: "embedded", resolutionOrigin: "tiff" });
   });
@@ -170,7 +176,9 @@ describe("a file that records none", () => {
     // Sizes follow: 2200 px at 400 DPI is 5.5 in.
     expect(res.body.scan.physical.widthIn).toBeCloseTo(5.5, 6);
     const audits = await resolutionAudits(scanId);
-    expect(audits.at(-1)!.summary).toMatch(/^Put says-nothing\.png back to the studio's assumed 400 DPI \(its file records none\) \(was 1200 DPI, set\)$/);
+    expect(audits.at(-1)!.summary).toMatch(
+      /^Put says-nothing\.png back to the studio's assumed 400 DPI \(its file records none\) \(was 1200 DPI, set\)$/,
+    );
   });
 });
 
@@ -182,7 +190,10 @@ describe("the migration that keeps the file's figure", () => {
     const png = await idOf("says-nothing.png");
     // As a database from before the migration had them: no file figures; the TIFF set by hand.
     await stack.database.pool.query("update scans set file_dpi_x = null, file_dpi_y = null, file_resolution_origin = null");
-    await stack.database.pool.query("update scans set dpi_x = 600, dpi_y = 600, dpi_source = 'set', resolution_origin = null where id = $1", [tif]);
+    await stack.database.pool.query(
+      "update scans set dpi_x = 600, dpi_y = 600, dpi_source = 'set', resolution_origin = null where id = $1",
+      [tif],
+    );
     const sql = await fs.readFile(path.join(import.meta.dirname, "..", "drizzle", "0014_scan_file_resolution.sql"), "utf8");
     const updates = sql
       .split("--> statement-breakpoint")

@@ -33,7 +33,9 @@ async function wrongDpiBed(): Promise<Buffer> {
     <rect x="200" y="200" width="1200" height="900" fill="#8e44ad"/>
     <rect x="1700" y="240" width="600" height="800" fill="#d35400"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).tiff({ compression: "lzw", xres: 72 / 25.4, yres: 72 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .tiff({ compression: "lzw", xres: 72 / 25.4, yres: 72 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 async function fragmentsOf(id: string): Promise<Fragment[]> {
@@ -42,7 +44,13 @@ async function fragmentsOf(id: string): Promise<Fragment[]> {
 
 /** Master rows of the scan's pieces, with the piece's own revision beside. */
 async function masters() {
-  const { rows } = await stack.database.pool.query<{ key: string; dpi: number; revision: number; fragment_revision: number; fragment_id: string }>(
+  const { rows } = await stack.database.pool.query<{
+    key: string;
+    dpi: number;
+    revision: number;
+    fragment_revision: number;
+    fragment_id: string;
+  }>(
     `select o.key, o.dpi, o.revision, f.revision as fragment_revision, o.fragment_id from outputs o
        join fragments f on f.id = o.fragment_id
       where f.scan_id = $1 and o.kind = 'master' and f.merged_into is null order by f.position`,
@@ -52,15 +60,22 @@ async function masters() {
 }
 
 let presets: PresetSummary[];
-const body = () => ({ selection: { filter: { scanId } }, presetIds: [presets.find((p) => p.name === "web")!.id, presets.find((p) => p.name === "wall")!.id] });
+const body = () => ({
+  selection: { filter: { scanId } },
+  presetIds: [presets.find((p) => p.name === "web")!.id, presets.find((p) => p.name === "wall")!.id],
+});
 const estimate = async () => (await operator.post("/api/batches/estimate").send(body())).body as { outputs: number; reused: number };
 async function runBatch() {
   const res = await operator.post("/api/batches").send(body());
   expect(res.status).toBe(201);
-  return waitFor("the batch", async () => {
-    const r = (await operator.get(`/api/batches/${res.body.batch.id}`)).body;
-    return r.batch.finishedAt ? r : null;
-  }, 60_000);
+  return waitFor(
+    "the batch",
+    async () => {
+      const r = (await operator.get(`/api/batches/${res.body.batch.id}`)).body;
+      return r.batch.finishedAt ? r : null;
+    },
+    60_000,
+  );
 }
 
 beforeAll(async () => {
@@ -72,7 +87,9 @@ beforeAll(async () => {
   await fs.writeFile(bedFile, bytes);
   ({ scanId } = await uploadScan(operator, { name: path.basename(bedFile), bytes, pieces: 2 }));
   // A mock-up carries no metadata at all (print files carry the rights, as masters do).
-  const wall = await operator.post("/api/presets").send({ name: "wall", settings: { kind: "mockup", name: "wall", width: 400, height: 400 } });
+  const wall = await operator
+    .post("/api/presets")
+    .send({ name: "wall", settings: { kind: "mockup", name: "wall", width: 400, height: 400 } });
   expect(wall.status).toBe(201);
   presets = (await operator.get("/api/presets")).body.presets as PresetSummary[];
 });
@@ -83,8 +100,7 @@ afterAll(async () => {
 describe("figures a person may set", () => {
   it("takes any figure of at most two decimals, though most are not exact in binary", () => {
     // 64.1 × 100 = 6409.999999999999 in IEEE 754 doubles; 300.1 and 1199.99 likewise are not exact.
-    for (const x of [64.1, 300.1, 1199.99, 2400.07, 600])
-      expect(setResolutionBody.safeParse({ x }).success, String(x)).toBe(true);
+    for (const x of [64.1, 300.1, 1199.99, 2400.07, 600]) expect(setResolutionBody.safeParse({ x }).success, String(x)).toBe(true);
     expect(setResolutionBody.safeParse({ x: 600.123 }).success).toBe(false);
   });
 
@@ -103,10 +119,14 @@ describe("after the masters and copies are made", () => {
 
   beforeAll(async () => {
     expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
-    const list = await waitFor("the masters", async () => {
-      const l = await fragmentsOf(scanId);
-      return l.every((f) => f.status === "approved" && f.renderState === "done") ? l : null;
-    }, 60_000);
+    const list = await waitFor(
+      "the masters",
+      async () => {
+        const l = await fragmentsOf(scanId);
+        return l.every((f) => f.status === "approved" && f.renderState === "done") ? l : null;
+      },
+      60_000,
+    );
     revisions = new Map(list.map((f) => [f.id, f.revision]));
     const first = await runBatch();
     expect(first.batch.counts).toMatchObject({ done: 4, failed: 0 });
@@ -142,28 +162,40 @@ describe("after the masters and copies are made", () => {
   it("pieces merged away while the resolution changes come back rendered at the new figure, not with their old masters", async () => {
     const ids = [...revisions.keys()];
     // From a settled scan: every master made, of its piece's revision.
-    await waitFor("settled masters", async () => {
-      const m = await masters();
-      const list = await fragmentsOf(scanId);
-      return list.every((f) => f.renderState === "done") && m.length === 2 && m.every((r) => r.revision === r.fragment_revision) ? true : null;
-    }, 30_000);
+    await waitFor(
+      "settled masters",
+      async () => {
+        const m = await masters();
+        const list = await fragmentsOf(scanId);
+        return list.every((f) => f.renderState === "done") && m.length === 2 && m.every((r) => r.revision === r.fragment_revision)
+          ? true
+          : null;
+      },
+      30_000,
+    );
     const atMerge = new Map((await fragmentsOf(scanId)).map((f) => [f.id, f.revision]));
     const merged = await operator.post("/api/fragments/merge").send({ ids });
     expect(merged.status).toBe(201);
     const res = await operator.patch(`/api/scans/${scanId}/resolution`).send({ x: 600 });
     expect(res.status).toBe(200);
-    const { rows: away } = await stack.database.pool.query<{ id: string; revision: number }>("select id, revision from fragments where merged_into is not null");
+    const { rows: away } = await stack.database.pool.query<{ id: string; revision: number }>(
+      "select id, revision from fragments where merged_into is not null",
+    );
     expect(away).toHaveLength(2);
     for (const r of away) expect(r.revision).toBeGreaterThan(atMerge.get(r.id)!);
 
     const back = await operator.post(`/api/fragments/${merged.body.fragment.id}/unmerge`).send({});
     expect(back.status).toBe(200);
-    const rows = await waitFor("the returned pieces' masters at 600 DPI", async () => {
-      const m = await masters();
-      const list = await fragmentsOf(scanId);
-      const done = list.length === 2 && list.every((f) => f.renderState === "done");
-      return done && m.length === 2 && m.every((r) => r.revision === r.fragment_revision && r.dpi === 600) ? m : null;
-    }, 30_000);
+    const rows = await waitFor(
+      "the returned pieces' masters at 600 DPI",
+      async () => {
+        const m = await masters();
+        const list = await fragmentsOf(scanId);
+        const done = list.length === 2 && list.every((f) => f.renderState === "done");
+        return done && m.length === 2 && m.every((r) => r.revision === r.fragment_revision && r.dpi === 600) ? m : null;
+      },
+      30_000,
+    );
     for (const m of rows) {
       const tags = await exifr.parse(stack.libraryPath(m.key), { tiff: true, pick: ["XResolution"] });
       expect(tags.XResolution).toBe(600);

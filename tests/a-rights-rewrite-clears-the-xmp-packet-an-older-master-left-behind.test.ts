@@ -38,7 +38,11 @@ const NEW = { ...OLD, title: "Oystercatchers on the spit" };
  * scrub (with `extra` fields; `between` is appended to libvips' file first, at an even offset
  * that `extra` is given).
  */
-async function oldStyleMaster(name: string, extra: TiffField[] = [], between?: (at: number) => { block: Buffer; fields: TiffField[] }): Promise<string> {
+async function oldStyleMaster(
+  name: string,
+  extra: TiffField[] = [],
+  between?: (at: number) => { block: Buffer; fields: TiffField[] },
+): Promise<string> {
   const file = at(name);
   const w = 240;
   const h = 700; // several strips (libvips writes them in bands of rows)
@@ -87,7 +91,10 @@ const count = (haystack: Buffer, needle: string) => {
 };
 
 async function samples(file: string): Promise<string> {
-  return crypto.createHash("sha256").update(await sharp(file).raw().toBuffer()).digest("hex");
+  return crypto
+    .createHash("sha256")
+    .update(await sharp(file).raw().toBuffer())
+    .digest("hex");
 }
 
 async function readers(file: string) {
@@ -141,7 +148,10 @@ describe("a rights rewrite of a master made the old way", () => {
     await oneLong(master, 34665, exifAt);
     const before = await fs.readFile(master);
     expect(count(before, "<?xpacket begin")).toBe(2);
-    expect(await exifr.parse(await fs.readFile(master), { tiff: true, exif: true } as never)).toMatchObject({ ExifVersion: "2.3", ImageDescription: OLD.title });
+    expect(await exifr.parse(await fs.readFile(master), { tiff: true, exif: true } as never)).toMatchObject({
+      ExifVersion: "2.3",
+      ImageDescription: OLD.title,
+    });
 
     const staged = await stage(at("exif-new.tif"));
     await rewriteMasterRights(master, staged, NEW);
@@ -149,7 +159,10 @@ describe("a rights rewrite of a master made the old way", () => {
     expect(count(after, "<?xpacket begin")).toBe(1);
     expect(after.includes(Buffer.from(OLD.title))).toBe(false);
     expect(await samples(staged.temp)).toBe(await samples(master));
-    expect(await exifr.parse(await fs.readFile(staged.temp), { tiff: true, exif: true } as never)).toMatchObject({ ExifVersion: "2.3", ImageDescription: NEW.title });
+    expect(await exifr.parse(await fs.readFile(staged.temp), { tiff: true, exif: true } as never)).toMatchObject({
+      ExifVersion: "2.3",
+      ImageDescription: NEW.title,
+    });
     // Up to the end of the Exif IFD (the old IFD0 and its values lie past it, in the tail that is
     // written over), only the header's IFD0 pointer and the stale packet changed, to zeros.
     const kept = exifAt + exifIfd.length;

@@ -63,9 +63,7 @@ function readIfd0(tiff: Buffer): Ifd {
 
 /** The most a rewrite may add: pad to a word boundary, the new IFD0, its new long values (each padded to even). */
 function growthBound(sizeBefore: number, ifd: Ifd, newTags: number[]): number {
-  const values = ifd.entries
-    .filter((e) => newTags.includes(e.tag) && e.bytes > 4)
-    .reduce((sum, e) => sum + e.bytes + (e.bytes % 2), 0);
+  const values = ifd.entries.filter((e) => newTags.includes(e.tag) && e.bytes > 4).reduce((sum, e) => sum + e.bytes + (e.bytes % 2), 0);
   return (sizeBefore % 2) + 2 + 12 * ifd.entries.length + 4 + values;
 }
 
@@ -174,7 +172,9 @@ describe("three rights rewrites of a 16-bit master with a wide-gamut profile", (
       expect(info.stdout).toContain("Bits/Sample: 16");
       expect(info.stdout).toContain("Resolution: 600, 600 pixels/inch");
       const dump = execFileSync("tiffdump", ["-m", "200", staged.temp], { encoding: "utf8" });
-      expect(dump).toMatch(new RegExp(`ImageDescription \\(270\\) ASCII \\(2\\) ${title.length + 1}<${title.replace(/[.*+?^${}()|[\]\\]/g, "\\$&")}`));
+      expect(dump).toMatch(
+        new RegExp(`ImageDescription \\(270\\) ASCII \\(2\\) ${title.length + 1}<${title.replace(/[.*+?^${}()|[\]\\]/g, "\\$&")}`),
+      );
       expect(dump.match(/^Directory \d+:/gm)).toHaveLength(1);
 
       // One XMP packet, and no title written before is left anywhere in the bytes.

@@ -35,7 +35,12 @@ describe("the turn of a cut-out", () => {
     expect(momentAxisRatio(ellipse(100, 100, 0))).toBeCloseTo(1, 3);
     expect(momentAxisRatio(ellipse(150, 100, 30))).toBeCloseTo(1.5, 3);
     // A square's moments are a disc's (I = s⁴/12 about both axes), so that test alone cannot tell them apart.
-    const square: Point[] = [[0, 0], [100, 0], [100, 100], [0, 100]];
+    const square: Point[] = [
+      [0, 0],
+      [100, 0],
+      [100, 100],
+      [0, 100],
+    ];
     expect(momentAxisRatio(square)).toBeCloseTo(1, 6);
     expect(hasNoTurnOfItsOwn(ellipse(100, 100, 0))).toBe(true);
     // axes 1.05 : 1: moments 1.05, enclosing areas within (k² + 1)/2k − 1 = 0.12 %
@@ -62,7 +67,7 @@ describe("the turn of a cut-out", () => {
     const { fragments } = await splitScan(file);
     expect(fragments).toHaveLength(3);
     const byX = [...fragments].sort((a, b) => a.rect.cx - b.rect.cx);
-    const [big, small, oval] = byX as [typeof byX[0], typeof byX[0], typeof byX[0]];
+    const [big, small, oval] = byX as [(typeof byX)[0], (typeof byX)[0], (typeof byX)[0]];
     for (const disc of [big, small]) {
       expect(disc.shape).toBe("cutout");
       expect(disc.angle).toBe(0);

@@ -50,7 +50,11 @@ async function samePicture(a: string, b: string): Promise<void> {
   for (const key of ["format", "width", "height", "channels", "depth", "space", "density"] as const) expect(mb[key], key).toEqual(ma[key]);
   expect(Boolean(mb.icc)).toBe(Boolean(ma.icc));
   if (ma.icc) expect(mb.icc!.equals(ma.icc)).toBe(true);
-  const raw = (f: string) => sharp(f).keepIccProfile().raw({ depth: ma.depth === "ushort" ? "ushort" : "uchar" }).toBuffer();
+  const raw = (f: string) =>
+    sharp(f)
+      .keepIccProfile()
+      .raw({ depth: ma.depth === "ushort" ? "ushort" : "uchar" })
+      .toBuffer();
   expect((await raw(b)).equals(await raw(a)), `pixels of ${path.basename(b)}`).toBe(true);
 }
 
@@ -115,7 +119,15 @@ describe("a scan kept decoded from its split to its render", () => {
     // A wider scan (another seed moves and sizes its pieces), given the first scan's copy.
     const file = at("wide.tif");
     await sharp({ create: { width: 1400, height: 700, channels: 3, background: "#f6f5f1" } })
-      .composite([{ input: await sharp(await pieceBed(5, 3)).png().toBuffer(), left: 100, top: 60 }])
+      .composite([
+        {
+          input: await sharp(await pieceBed(5, 3))
+            .png()
+            .toBuffer(),
+          left: 100,
+          top: 60,
+        },
+      ])
       .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
       .toFile(file);
     fs.copyFileSync(other, at("stale.v"));
@@ -150,14 +162,25 @@ describe("a scan kept decoded from its split to its render", () => {
       ["prev-p3-16", await bed("prev-p3-16.tif", { depth: 16, icc: "p3" })],
       ["prev-alpha", at("prev-alpha.png")],
     ];
-    await sharp(await pieceBed(6, 3)).ensureAlpha(0.7).png().toFile(at("prev-alpha.png"));
+    await sharp(await pieceBed(6, 3))
+      .ensureAlpha(0.7)
+      .png()
+      .toFile(at("prev-alpha.png"));
     for (const [label, file] of cases) {
       const copy = at(`${label}.v`);
       expect((await splitScan(file, { maxPixels, decodedCopy: copy })).decodedCopy).toBe("written");
       const fromScan = await writePreviews(file, { previewPath: at(`${label}-p.jpg`), thumbPath: at(`${label}-t.jpg`), maxPixels });
-      const fromCopy = await writePreviews(file, { previewPath: at(`${label}-pc.jpg`), thumbPath: at(`${label}-tc.jpg`), maxPixels, decoded: copy });
+      const fromCopy = await writePreviews(file, {
+        previewPath: at(`${label}-pc.jpg`),
+        thumbPath: at(`${label}-tc.jpg`),
+        maxPixels,
+        decoded: copy,
+      });
       expect(fromCopy).toEqual(fromScan);
-      for (const [a, b] of [[`${label}-p.jpg`, `${label}-pc.jpg`], [`${label}-t.jpg`, `${label}-tc.jpg`]] as const) {
+      for (const [a, b] of [
+        [`${label}-p.jpg`, `${label}-pc.jpg`],
+        [`${label}-t.jpg`, `${label}-tc.jpg`],
+      ] as const) {
         const [pa, pb] = await Promise.all([sharp(at(a)).raw().toBuffer(), sharp(at(b)).raw().toBuffer()]);
         expect(pb.length).toBe(pa.length);
         let worst = 0;
@@ -187,7 +210,10 @@ describe("a scan kept decoded from its split to its render", () => {
     expect(worst).toBeLessThanOrEqual(8); // the other bed's picture (through one more resize)
     const [first] = items(at("read-render"), fromScan);
     const [one] = await renderFragments({ source: file, dpi: { x: 300, y: 300 }, maxPixels, decoded: copy }, [first!]);
-    const [plain] = await renderFragments({ source: file, dpi: { x: 300, y: 300 }, maxPixels }, items(at("read-plain"), fromScan).slice(0, 1));
+    const [plain] = await renderFragments(
+      { source: file, dpi: { x: 300, y: 300 }, maxPixels },
+      items(at("read-plain"), fromScan).slice(0, 1),
+    );
     const raw = (f: string) => sharp(f).raw().toBuffer();
     expect((await raw(one!.master.path)).equals(await raw(plain!.master.path))).toBe(false);
     // A copy that cannot be read (here: cut short) is passed over for the scan by every reader.
@@ -196,7 +222,10 @@ describe("a scan kept decoded from its split to its render", () => {
     await writePreviews(file, { previewPath: at("cut-p.jpg"), thumbPath: at("cut-t.jpg"), maxPixels, decoded: copy });
     await writePreviews(file, { previewPath: at("scan-p.jpg"), thumbPath: at("scan-t.jpg"), maxPixels });
     expect((await raw(at("cut-p.jpg"))).equals(await raw(at("scan-p.jpg")))).toBe(true);
-    const [cutShort] = await renderFragments({ source: file, dpi: { x: 300, y: 300 }, maxPixels, decoded: copy }, items(at("read-cut"), fromScan).slice(0, 1));
+    const [cutShort] = await renderFragments(
+      { source: file, dpi: { x: 300, y: 300 }, maxPixels, decoded: copy },
+      items(at("read-cut"), fromScan).slice(0, 1),
+    );
     expect((await raw(cutShort!.master.path)).equals(await raw(plain!.master.path))).toBe(true);
     const again = await splitScan(file, { maxPixels, decodedCopy: copy });
     expect(again.decodedCopy).toBe("written"); // replaced by a whole one
@@ -226,7 +255,10 @@ describe("a scan kept decoded from its split to its render", () => {
     whole.fill(0xff, Math.floor(whole.length * 0.3), Math.floor(whole.length * 0.6));
     fs.writeFileSync(at("refused-short.tif"), whole);
     const short = await inspectScanFile(at("refused-short.tif"), maxPixels);
-    await expect(keepDecodedCopy(at("refused-short.tif"), colourPlan(short.meta), short, maxPixels, at("short.v"))).rejects.toMatchObject({ name: "ScanError", code: "truncated" });
+    await expect(keepDecodedCopy(at("refused-short.tif"), colourPlan(short.meta), short, maxPixels, at("short.v"))).rejects.toMatchObject({
+      name: "ScanError",
+      code: "truncated",
+    });
   });
 
   it("no room for the copy never stops the split", async () => {

@@ -35,7 +35,9 @@ describe("changing one's own password while signed in", () => {
     const [before] = await stack.db.select().from(users).where(eq(users.email, email));
 
     // A wrong current password: refused beside its field, nothing changed, nobody signed out.
-    const wrong = await here.agent.post("/api/account/password").send({ currentPassword: "not-my-password", newPassword: "a-fresh-password-1" });
+    const wrong = await here.agent
+      .post("/api/account/password")
+      .send({ currentPassword: "not-my-password", newPassword: "a-fresh-password-1" });
     expect(wrong.status).toBe(400);
     expect(wrong.body.error).toMatchObject({ message: WRONG_CURRENT_PASSWORD, field: "currentPassword" });
     expect((await elsewhere.agent.get("/api/auth/me")).status).toBe(200);
@@ -43,12 +45,19 @@ describe("changing one's own password while signed in", () => {
     expect(unchanged!.passwordHash).toBe(before!.passwordHash);
 
     // The same password again is not a change.
-    const same = await here.agent.post("/api/account/password").send({ currentPassword: "viewer-password-123", newPassword: "viewer-password-123" });
+    const same = await here.agent
+      .post("/api/account/password")
+      .send({ currentPassword: "viewer-password-123", newPassword: "viewer-password-123" });
     expect(same.status).toBe(400);
-    expect(same.body.error).toMatchObject({ field: "newPassword", message: "newPassword: Expected a new password different from your current one" });
+    expect(same.body.error).toMatchObject({
+      field: "newPassword",
+      message: "newPassword: Expected a new password different from your current one",
+    });
 
     const since = await lastAuditId();
-    const done = await here.agent.post("/api/account/password").send({ currentPassword: "viewer-password-123", newPassword: "a-fresh-password-1" });
+    const done = await here.agent
+      .post("/api/account/password")
+      .send({ currentPassword: "viewer-password-123", newPassword: "a-fresh-password-1" });
     expect(done.status, JSON.stringify(done.body)).toBe(200);
     expect(done.body).toMatchObject({ user: { email, role: "viewer" }, signedOutElsewhere: 2 });
 
@@ -67,12 +76,16 @@ describe("changing one's own password while signed in", () => {
     expect((await signIn(email, "a-fresh-password-1")).status).toBe(200);
 
     // One audit row, naming the person; neither password nor hash appears in it.
-    const rows = await stack.db.select().from(auditEvents).where(and(gt(auditEvents.id, since), eq(auditEvents.action, "auth.password_change")));
+    const rows = await stack.db
+      .select()
+      .from(auditEvents)
+      .where(and(gt(auditEvents.id, since), eq(auditEvents.action, "auth.password_change")));
     expect(rows).toHaveLength(1);
     expect(rows[0]).toMatchObject({ actorEmail: email, subjectId: before!.id, after: { signedOutElsewhere: 2 } });
     expect(rows[0]!.summary).toBe(`${email} changed their password while signed in; 2 other sessions were signed out`);
     const text = JSON.stringify(rows);
-    for (const secret of ["a-fresh-password-1", "viewer-password-123", after!.passwordHash, before!.passwordHash]) expect(text).not.toContain(secret);
+    for (const secret of ["a-fresh-password-1", "viewer-password-123", after!.passwordHash, before!.passwordHash])
+      expect(text).not.toContain(secret);
   });
 
   it("counts wrong current passwords like failed sign-ins, but not a new password refused for its form", async () => {
@@ -90,9 +103,13 @@ describe("changing one's own password while signed in", () => {
       expect(res.body.error.message).toBe(WRONG_CURRENT_PASSWORD);
     }
     // The fourth guess is refused before it is checked, even when it is right.
-    const locked = await agent.post("/api/account/password").send({ currentPassword: "operator-password-123", newPassword: "a-taken-over-password" });
+    const locked = await agent
+      .post("/api/account/password")
+      .send({ currentPassword: "operator-password-123", newPassword: "a-taken-over-password" });
     expect(locked.status).toBe(429);
-    expect(locked.body.error.message).toMatch(/^Too many wrong current passwords\. Wait 15 minutes and try again, or choose a new password by e-mail\.$/);
+    expect(locked.body.error.message).toMatch(
+      /^Too many wrong current passwords\. Wait 15 minutes and try again, or choose a new password by e-mail\.$/,
+    );
     expect((await signIn(email, "operator-password-123")).status).toBe(200);
   });
 
@@ -121,7 +138,10 @@ describe("changing one's own name", () => {
 
     // The same name again writes nothing.
     expect((await agent.patch("/api/account/name").send({ name: "Ilse Varga" })).status).toBe(200);
-    const rows = await stack.db.select().from(auditEvents).where(and(gt(auditEvents.id, since), eq(auditEvents.action, "account.rename")));
+    const rows = await stack.db
+      .select()
+      .from(auditEvents)
+      .where(and(gt(auditEvents.id, since), eq(auditEvents.action, "account.rename")));
     expect(rows).toHaveLength(1);
     expect(rows[0]).toMatchObject({ actorEmail: email, before: { name: "Test viewer" }, after: { name: "Ilse Varga" } });
   });

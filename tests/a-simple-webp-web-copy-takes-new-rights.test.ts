@@ -61,7 +61,9 @@ describe.each([
 ] as const)("a simple %s WebP", (_label, imageChunk, channels, lossless) => {
   it("is extended with a VP8X chunk and carries the new rights; its pixels decode the same", async () => {
     const file = at(`${imageChunk.trim()}.webp`);
-    await sharp(pattern(channels), { raw: { width: W, height: H, channels } }).webp({ lossless, quality: 80 }).toFile(file);
+    await sharp(pattern(channels), { raw: { width: W, height: H, channels } })
+      .webp({ lossless, quality: 80 })
+      .toFile(file);
     const before = await fs.readFile(file);
     // The premise: libwebp wrote the simple format, one image chunk and no VP8X.
     expect(chunks(before).map((c) => c.id)).toEqual([imageChunk]);
@@ -105,7 +107,9 @@ describe.each([
 describe("a simple WebP with no rights to write", () => {
   it("is left as it was", async () => {
     const file = at("bare.webp");
-    await sharp(pattern(3), { raw: { width: W, height: H, channels: 3 } }).webp().toFile(file);
+    await sharp(pattern(3), { raw: { width: W, height: H, channels: 3 } })
+      .webp()
+      .toFile(file);
     const staged = await stage(at("bare-new.webp"));
     await rewriteWebRights(file, staged, {}, "webp");
     expect((await fs.readFile(staged.temp)).equals(await fs.readFile(file))).toBe(true);

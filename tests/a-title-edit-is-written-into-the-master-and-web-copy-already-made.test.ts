@@ -135,27 +135,20 @@ async function jobDeps(library: Storage = stack.library) {
   };
 }
 
-const retitle = (id: string, title: string) =>
-  operator.patch(`/api/fragments/${id}`).send({ title });
+const retitle = (id: string, title: string) => operator.patch(`/api/fragments/${id}`).send({ title });
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
   admin = await userAgent(stack, "admin");
   operator = await userAgent(stack, "operator");
-  expect(
-    (await admin.patch("/api/studio/settings").send({ creator: CREATOR, copyright: COPYRIGHT }))
-      .status,
-  ).toBe(200);
+  expect((await admin.patch("/api/studio/settings").send({ creator: CREATOR, copyright: COPYRIGHT })).status).toBe(200);
   const { scanId, fragments } = await uploadScan(operator, {
     name: "shore-bed.tif",
     bytes: await scan(),
     pieces: 3,
   });
   for (const f of fragments)
-    expect(
-      (await operator.patch(`/api/fragments/${f.id}`).send({ title: `Shore ${f.position}` }))
-        .status,
-    ).toBe(200);
+    expect((await operator.patch(`/api/fragments/${f.id}`).send({ title: `Shore ${f.position}` })).status).toBe(200);
   await approveRemaining(operator, scanId);
   pieces = await renderedPieces(operator, scanId, 3, 90_000);
 }, 150_000);
@@ -224,27 +217,19 @@ describe("a title edit on a rendered piece", () => {
     }
     expect(await renderJobs(piece.id)).toBe(renders);
     // No temporary left beside the stored files.
-    const left = (await fs.readdir(path.dirname(stack.libraryPath(after.master.key)))).filter((n) =>
-      n.endsWith(".tmp"),
-    );
+    const left = (await fs.readdir(path.dirname(stack.libraryPath(after.master.key)))).filter((n) => n.endsWith(".tmp"));
     expect(left).toEqual([]);
   });
 
   it("leaves the files of a piece that is no longer approved as they are", async () => {
     const piece = pieces[1]!;
     const before = await files(piece.id);
-    expect(
-      (await operator.patch(`/api/fragments/${piece.id}`).send({ status: "rejected" })).status,
-    ).toBe(200);
+    expect((await operator.patch(`/api/fragments/${piece.id}`).send({ status: "rejected" })).status).toBe(200);
     expect((await retitle(piece.id, "Not this one")).status).toBe(200);
     // The edit queues no rewrite (a job would be in the edit's own transaction, committed by now)…
     expect(await rightsJobs(piece.id)).toBe(0);
     // …and the job itself, asked anyway, writes nothing.
-    await rewriteRightsJob(
-      await jobDeps(),
-      { fragmentId: piece.id },
-      { jobId: crypto.randomUUID(), retryCount: 0, retryLimit: 0 },
-    );
+    await rewriteRightsJob(await jobDeps(), { fragmentId: piece.id }, { jobId: crypto.randomUUID(), retryCount: 0, retryLimit: 0 });
     expect(await carried(before.master.key)).toMatchObject({ description: "Shore 2" });
     expect(await files(piece.id)).toEqual(before);
   });
@@ -254,26 +239,18 @@ describe("a title edit on a rendered piece", () => {
     const before = await files(piece.id);
     // Retitled without its job (as an edit racing a render would leave it), then the job runs
     // here with a library whose reads are followed by a store of the same key by someone else.
-    await stack.database.pool.query(`update fragments set title = 'Shore, raced' where id = $1`, [
-      piece.id,
-    ]);
+    await stack.database.pool.query(`update fragments set title = 'Shore, raced' where id = $1`, [piece.id]);
     const library: Storage = Object.create(stack.library, {
       withLocalFile: {
         value: async <T>(key: string, fn: (p: string) => Promise<T>) => {
           const r = await stack.library.withLocalFile(key, fn);
-          await stack.database.pool.query(`update outputs set updated_at = now() where key = $1`, [
-            key,
-          ]);
+          await stack.database.pool.query(`update outputs set updated_at = now() where key = $1`, [key]);
           return r;
         },
       },
     });
     const deps = await jobDeps(library);
-    await rewriteRightsJob(
-      deps,
-      { fragmentId: piece.id },
-      { jobId: crypto.randomUUID(), retryCount: 0, retryLimit: 0 },
-    );
+    await rewriteRightsJob(deps, { fragmentId: piece.id }, { jobId: crypto.randomUUID(), retryCount: 0, retryLimit: 0 });
     expect(await carried(before.master.key)).toMatchObject({ description: "Shore 3" });
     expect((await files(piece.id)).master.bytes).toBe(before.master.bytes);
     // Run again with the plain library, it writes the title.
@@ -308,10 +285,7 @@ describe("a title edit on a rendered piece", () => {
       withLocalFile: {
         value: async <T>(key: string, fn: (p: string) => Promise<T>) => {
           if (key === originalKey)
-            await stack.database.pool.query(
-              `update fragments set title = 'Shore, mid-render' where id = $1`,
-              [piece.id],
-            );
+            await stack.database.pool.query(`update fragments set title = 'Shore, mid-render' where id = $1`, [piece.id]);
           return stack.library.withLocalFile(key, fn);
         },
       },
@@ -325,8 +299,7 @@ describe("a title edit on a rendered piece", () => {
     const after = await files(piece.id);
     expect(after.master.revision).toBe(revision);
     await waitFor("the title the render did not have", async () =>
-      (await carried(after.master.key)).xmp === "Shore, mid-render" &&
-      (await carried(after.web.key)).xmp === "Shore, mid-render"
+      (await carried(after.master.key)).xmp === "Shore, mid-render" && (await carried(after.web.key)).xmp === "Shore, mid-render"
         ? true
         : null,
     );
@@ -344,28 +317,17 @@ describe("a title edit on a rendered piece", () => {
     const { rows: all } = await stack.database.pool.query<{ n: number }>(
       `select count(*)::int as n from pgboss.job where name = 'fragment-rights'`,
     );
-    expect(
-      (
-        await admin
-          .patch("/api/studio/settings")
-          .send({ creator: "Varga & Holm", copyright: "© 2027 Varga & Holm" })
-      ).status,
-    ).toBe(200);
+    expect((await admin.patch("/api/studio/settings").send({ creator: "Varga & Holm", copyright: "© 2027 Varga & Holm" })).status).toBe(
+      200,
+    );
     // Saving the studio's rights queues no rewrite of anything.
     const { rows: now } = await stack.database.pool.query<{ n: number }>(
       `select count(*)::int as n from pgboss.job where name = 'fragment-rights'`,
     );
     expect(now[0]!.n).toBe(all[0]!.n);
     // A title rewrite keeps what the file carries.
-    await stack.database.pool.query(
-      `update fragments set title = 'Shore, kept rights' where id = $1`,
-      [piece.id],
-    );
-    await rewriteRightsJob(
-      await jobDeps(),
-      { fragmentId: piece.id },
-      { jobId: crypto.randomUUID(), retryCount: 0, retryLimit: 0 },
-    );
+    await stack.database.pool.query(`update fragments set title = 'Shore, kept rights' where id = $1`, [piece.id]);
+    await rewriteRightsJob(await jobDeps(), { fragmentId: piece.id }, { jobId: crypto.randomUUID(), retryCount: 0, retryLimit: 0 });
     expect(await carried(before.master.key)).toMatchObject({
       description: "Shore, kept rights",
       artist: CREATOR,

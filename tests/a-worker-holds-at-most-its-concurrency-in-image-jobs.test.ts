@@ -22,7 +22,12 @@ beforeAll(async () => {
   stack = await startStack({ worker: false, watcher: false });
   operator = await userAgent(stack, "operator");
   // Each analysis is held 1.5 s, so renders queued meanwhile would overlap it if nothing stopped them.
-  child = spawnProcess("worker/main.ts", { ...stack.env, LOG_LEVEL: "info", PLATEN_WORKER_CONCURRENCY: "1", PLATEN_TEST_ANALYSE_DELAY_MS: "1500" });
+  child = spawnProcess("worker/main.ts", {
+    ...stack.env,
+    LOG_LEVEL: "info",
+    PLATEN_WORKER_CONCURRENCY: "1",
+    PLATEN_TEST_ANALYSE_DELAY_MS: "1500",
+  });
   let rest = "";
   child.stdout!.on("data", (chunk: Buffer) => {
     const parts = (rest + chunk.toString("utf8")).split("\n");
@@ -48,22 +53,34 @@ describe("a worker with PLATEN_WORKER_CONCURRENCY=1", () => {
     await waitFor("the first scan to be split", async () => ((await fragmentsOf(first)).length === 2 ? true : null), 60_000);
     // A second scan starts its (held) analysis while the first one's renders are queued.
     const second = await upload(12);
-    await waitFor("the second analysis to start", async () => ((await operator.get(`/api/scans/${second}`)).body.scan.status === "analysing" ? true : null), 30_000);
+    await waitFor(
+      "the second analysis to start",
+      async () => ((await operator.get(`/api/scans/${second}`)).body.scan.status === "analysing" ? true : null),
+      30_000,
+    );
     expect((await operator.post(`/api/scans/${first}/approve-remaining`)).status).toBe(200);
     await waitFor("the second scan to be split", async () => ((await fragmentsOf(second)).length === 2 ? true : null), 60_000);
     expect((await operator.post(`/api/scans/${second}/approve-remaining`)).status).toBe(200);
-    await waitFor("every master", async () => {
-      const all = [...(await fragmentsOf(first)), ...(await fragmentsOf(second))];
-      return all.every((f) => f.renderState === "done") ? true : null;
-    }, 90_000);
+    await waitFor(
+      "every master",
+      async () => {
+        const all = [...(await fragmentsOf(first)), ...(await fragmentsOf(second))];
+        return all.every((f) => f.renderState === "done") ? true : null;
+      },
+      90_000,
+    );
 
-    const jobs = await waitFor("the log to name every image job", () => {
-      const done = lines
-        .filter((l) => l.startsWith("{"))
-        .map((l) => JSON.parse(l) as { msg?: string; queue?: string; time: number; ms: number })
-        .filter((r) => r.msg === "job done" && IMAGE_QUEUES.includes(r.queue!));
-      return done.filter((r) => r.queue === "fragment-render").length >= 4 ? done : null;
-    }, 10_000);
+    const jobs = await waitFor(
+      "the log to name every image job",
+      () => {
+        const done = lines
+          .filter((l) => l.startsWith("{"))
+          .map((l) => JSON.parse(l) as { msg?: string; queue?: string; time: number; ms: number })
+          .filter((r) => r.msg === "job done" && IMAGE_QUEUES.includes(r.queue!));
+        return done.filter((r) => r.queue === "fragment-render").length >= 4 ? done : null;
+      },
+      10_000,
+    );
     expect(new Set(jobs.map((j) => j.queue))).toEqual(new Set(["scan-analyse", "fragment-render"]));
 
     // Sweep the [start, end] intervals: at most one open at any moment.

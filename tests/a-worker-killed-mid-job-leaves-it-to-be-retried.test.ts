@@ -53,7 +53,8 @@ function worker(env: Record<string, string>) {
   return child;
 }
 
-const exited = (c: ChildProcess) => new Promise<number | null>((r) => (c.exitCode !== null ? r(c.exitCode) : c.once("exit", (code) => r(code))));
+const exited = (c: ChildProcess) =>
+  new Promise<number | null>((r) => (c.exitCode !== null ? r(c.exitCode) : c.once("exit", (code) => r(code))));
 
 describe("worker processes", () => {
   it("leave a job to be retried, not lost, when one is killed in the middle of it", async () => {
@@ -66,10 +67,14 @@ describe("worker processes", () => {
     expect((await status(scanId)).status).toBe("analysing");
 
     const second = worker({});
-    const done = await waitFor("the retried job to finish", async () => {
-      const s = await status(scanId);
-      return s.status === "ready" ? s : null;
-    }, 45_000);
+    const done = await waitFor(
+      "the retried job to finish",
+      async () => {
+        const s = await status(scanId);
+        return s.status === "ready" ? s : null;
+      },
+      45_000,
+    );
     expect(done.attempts).toBe(2);
     // The job itself is marked complete just after its handler returns.
     const rows = await waitFor("the job to be recorded complete", async () => {

@@ -31,7 +31,11 @@ const TWO_PIECES = `<svg xmlns="http://www.w3.org/2000/svg" width="1300" height=
     <rect x="850" y="120" width="300" height="400" fill="#c0392b"/>
   </svg>`;
 
-const sha256 = async (file: string) => crypto.createHash("sha256").update(await fs.readFile(file)).digest("hex");
+const sha256 = async (file: string) =>
+  crypto
+    .createHash("sha256")
+    .update(await fs.readFile(file))
+    .digest("hex");
 const outputsOf = (fragmentId: string) => stack.db.select().from(outputs).where(eq(outputs.fragmentId, fragmentId));
 const rendered = () => renderedPieces(operator, scanId, 2, 60_000);
 
@@ -39,7 +43,12 @@ beforeAll(async () => {
   stack = await startStack({ watcher: false });
   admin = await userAgent(stack, "admin");
   operator = await userAgent(stack, "operator");
-  ({ scanId, fragments: pieces } = await approvedPieces(operator, { name: "two-pieces-for-deleting.tif", svg: TWO_PIECES, compression: "lzw", pieces: 2 }));
+  ({ scanId, fragments: pieces } = await approvedPieces(operator, {
+    name: "two-pieces-for-deleting.tif",
+    svg: TWO_PIECES,
+    compression: "lzw",
+    pieces: 2,
+  }));
   const presets = (await operator.get("/api/presets")).body.presets as PresetSummary[];
   const web = presets.find((p) => p.name === "web")!;
   const made = await operator.post("/api/batches").send({ name: "Listing", selection: { filter: { scanId } }, presetIds: [web.id] });

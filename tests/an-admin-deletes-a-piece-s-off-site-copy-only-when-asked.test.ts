@@ -27,11 +27,14 @@ async function scan(): Promise<Buffer> {
     <rect x="60" y="90" width="240" height="300" fill="#5b2e7d"/><rect x="400" y="90" width="240" height="300" fill="#2e7d5b"/>
     <rect x="740" y="90" width="240" height="300" fill="#7d5b2e"/><rect x="1080" y="90" width="240" height="300" fill="#2e4f7d"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 const masterKey = async (id: string) =>
-  (await stack.database.pool.query<{ key: string }>(`select key from outputs where fragment_id = $1 and kind = 'master'`, [id])).rows[0]!.key;
+  (await stack.database.pool.query<{ key: string }>(`select key from outputs where fragment_id = $1 and kind = 'master'`, [id])).rows[0]!
+    .key;
 /** The key of the piece's master's copy in the bucket, as its row records it. */
 const copyKey = async (id: string) =>
   (
@@ -44,7 +47,10 @@ const plan = async (id: string) => (await admin.get(`/api/fragments/${id}/files`
 const inBucket = (key: string) => stack.offsite!.exists(key);
 /** SHA-256 of the bytes the fake S3 server really holds for a key (not the metadata said at upload). */
 const heldSha = async (key: string) =>
-  crypto.createHash("sha256").update(await fs.readFile(stack.s3!.objectFile("offsite", key))).digest("hex");
+  crypto
+    .createHash("sha256")
+    .update(await fs.readFile(stack.s3!.objectFile("offsite", key)))
+    .digest("hex");
 
 beforeAll(async () => {
   stack = await startStack({ offsite: true, watcher: false });
@@ -53,7 +59,11 @@ beforeAll(async () => {
   const file = path.join(stack.inbox, "four-stamps.tif");
   await fs.writeFile(file, await scan());
   const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 4 ? true : null), 45_000);
+  await waitFor(
+    "the split",
+    async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 4 ? true : null),
+    45_000,
+  );
   expect((await operator.post(`/api/scans/${scanId}/approve-remaining`)).status).toBe(200);
   pieces = await waitFor(
     "the masters, copied off-site",
@@ -147,9 +157,14 @@ describe("deleting a piece's files and its off-site copy", () => {
 
   it("is refused while a retry of the copy uploads, though the attempt before it failed", async () => {
     const c = pieces[2]!;
-    const masterId = (await stack.database.pool.query<{ id: string }>(`select id from outputs where fragment_id = $1 and kind = 'master'`, [c.id])).rows[0]!.id;
+    const masterId = (
+      await stack.database.pool.query<{ id: string }>(`select id from outputs where fragment_id = $1 and kind = 'master'`, [c.id])
+    ).rows[0]!.id;
     // As a failed first attempt leaves it, waiting for its retry.
-    await stack.database.pool.query(`update offsite_copies set status = 'failed', message = 'Copy failed: timeout. Retrying (attempt 2 of 4).' where output_id = $1`, [masterId]);
+    await stack.database.pool.query(
+      `update offsite_copies set status = 'failed', message = 'Copy failed: timeout. Retrying (attempt 2 of 4).' where output_id = $1`,
+      [masterId],
+    );
     expect((await plan(c.id)).offsite).toEqual({ status: "failed" });
     // The retry: while its upload is under way, the admin asks to delete the files and the copy.
     const during: { status?: string; answer?: number; message?: string } = {};
@@ -162,7 +177,10 @@ describe("deleting a piece's files and its off-site copy", () => {
       during.message = res.body.error?.message;
       return stack.offsite!.put(k, file);
     };
-    await copyMaster({ database: stack.database, boss: stack.boss, library: stack.library, offsite: bucket, log: logger }, masterId, { retryCount: 1, retryLimit: 3 });
+    await copyMaster({ database: stack.database, boss: stack.boss, library: stack.library, offsite: bucket, log: logger }, masterId, {
+      retryCount: 1,
+      retryLimit: 3,
+    });
     expect(during).toEqual({ status: "pending", answer: 409, message: expect.stringMatching(/being copied off-site/) });
     // The copy finished; the files and the copy are all still there.
     expect((await plan(c.id)).offsite).toEqual({ status: "copied" });
@@ -174,7 +192,8 @@ describe("deleting a piece's files and its off-site copy", () => {
     const d = pieces[3]!;
     const p = await plan(d.id);
     const key = await copyKey(d.id);
-    const sha256 = (await stack.database.pool.query<{ sha256: string }>(`select sha256 from offsite_copies where key = $1`, [key])).rows[0]!.sha256;
+    const sha256 = (await stack.database.pool.query<{ sha256: string }>(`select sha256 from offsite_copies where key = $1`, [key])).rows[0]!
+      .sha256;
     expect(sha256).toMatch(/^[0-9a-f]{64}$/);
     await stack.s3!.stop();
     const res = await admin.delete(`/api/fragments/${d.id}/files`).query({ upTo: p.files, offsite: "delete" });

@@ -44,7 +44,12 @@ beforeAll(async () => {
     box: { x, y: 10, width: 50, height: 40 },
     angle: 0,
     rect: { cx: x + 25, cy: 30, width: 50, height: 40 },
-    outline: [[x, 10], [x + 50, 10], [x + 50, 50], [x, 50]] as [number, number][],
+    outline: [
+      [x, 10],
+      [x + 50, 10],
+      [x + 50, 50],
+      [x, 50],
+    ] as [number, number][],
     shape: "rectangle" as const,
   });
   const made = await stack.db
@@ -237,15 +242,23 @@ describe("requests are validated and changes must come from the app", () => {
     res = await agents.admin.post("/api/users").send({ email: "long@test.example", name: "X", role: "viewer", password: "x".repeat(73) });
     expect(res.status).toBe(400);
     expect(res.body.error.message).toMatch(/^password: Expected a password of at most 72 bytes/);
-    res = await agents.admin.post("/api/users").send({ email: "accents@test.example", name: "X", role: "viewer", password: "é".repeat(37) });
+    res = await agents.admin
+      .post("/api/users")
+      .send({ email: "accents@test.example", name: "X", role: "viewer", password: "é".repeat(37) });
     expect(res.status).toBe(400);
-    res = await agents.admin.post("/api/users").send({ email: "accents@test.example", name: "X", role: "viewer", password: "é".repeat(36) });
+    res = await agents.admin
+      .post("/api/users")
+      .send({ email: "accents@test.example", name: "X", role: "viewer", password: "é".repeat(36) });
     expect(res.status).toBe(201);
     // Names are one line: a control character would break a file name, a CSV row or a mail header.
-    res = await agents.admin.post("/api/users").send({ email: "bell@test.example", name: "Ring\u0007", role: "viewer", password: "a-long-password" });
+    res = await agents.admin
+      .post("/api/users")
+      .send({ email: "bell@test.example", name: "Ring\u0007", role: "viewer", password: "a-long-password" });
     expect(res.status).toBe(400);
     expect(res.body.error.message).toBe("name: Expected a name on one line, without control characters such as tabs or line breaks");
-    res = await agents.operator.post("/api/presets").send({ name: "Shop\nsquare", settings: { kind: "web", name: "Shop\nsquare", size: { mode: "longEdge", longEdge: 800 } } });
+    res = await agents.operator
+      .post("/api/presets")
+      .send({ name: "Shop\nsquare", settings: { kind: "web", name: "Shop\nsquare", size: { mode: "longEdge", longEdge: 800 } } });
     expect(res.status).toBe(400);
     expect(res.body.error.message).toMatch(/Expected a preset name on one line/);
 
@@ -310,7 +323,11 @@ describe("a malformed request gets a clear 4xx, never a 500 or a trace", () => {
     let res = await agents.admin.post("/api/intakes").set("Content-Type", "application/json; charset=iso-8859-1").send('{"name":"x"}');
     expect(res.status).toBe(415);
     expect(noTrace(res).code).toBe("unsupported_media_type");
-    res = await agents.admin.post("/api/intakes").set("Content-Type", "application/json").set("Content-Encoding", "x-squash").send('{"name":"x"}');
+    res = await agents.admin
+      .post("/api/intakes")
+      .set("Content-Type", "application/json")
+      .set("Content-Encoding", "x-squash")
+      .send('{"name":"x"}');
     expect(res.status).toBe(415);
     expect(noTrace(res).code).toBe("unsupported_media_type");
   });
@@ -347,7 +364,10 @@ describe("a malformed request gets a clear 4xx, never a 500 or a trace", () => {
     const outcome = await supertest(app)
       .get("/half")
       .timeout(5_000)
-      .then(() => "completed", (err: Error & { timeout?: number }) => (err.timeout ? "hung" : "cut short"));
+      .then(
+        () => "completed",
+        (err: Error & { timeout?: number }) => (err.timeout ? "hung" : "cut short"),
+      );
     expect(outcome).toBe("cut short");
     expect(Date.now() - started).toBeLessThan(5_000);
   });
@@ -355,7 +375,11 @@ describe("a malformed request gets a clear 4xx, never a 500 or a trace", () => {
 
 describe("the session cookie", () => {
   it("is marked Secure when the request came through a TLS proxy on this machine", async () => {
-    const res = await stack.agent().post("/api/auth/login").set("X-Forwarded-Proto", "https").send({ email: "admin@test.example", password: "admin-password-123" });
+    const res = await stack
+      .agent()
+      .post("/api/auth/login")
+      .set("X-Forwarded-Proto", "https")
+      .send({ email: "admin@test.example", password: "admin-password-123" });
     expect(res.status).toBe(200);
     expect(String(res.headers["set-cookie"])).toMatch(/;\s*Secure/i);
     const plain = await stack.agent().post("/api/auth/login").send({ email: "admin@test.example", password: "admin-password-123" });
@@ -383,7 +407,16 @@ describe("the live event stream", () => {
     const { logger } = await import("../server/logger");
     const log = logger.child({ test: true });
     const hub = createHub(stack.database.pool, log);
-    const app = createApp({ config: stack.cfg, database: stack.database, boss: stack.boss, library: stack.library, log, hub, sessionSecret: stack.env.PLATEN_SESSION_SECRET!, liveCheckMs: 200 });
+    const app = createApp({
+      config: stack.cfg,
+      database: stack.database,
+      boss: stack.boss,
+      library: stack.library,
+      log,
+      hub,
+      sessionSecret: stack.env.PLATEN_SESSION_SECRET!,
+      liveCheckMs: 200,
+    });
     const server = await new Promise<import("node:http").Server>((resolve) => {
       const s = app.listen(0, "127.0.0.1", () => resolve(s));
     });
@@ -441,7 +474,12 @@ describe("the live event stream", () => {
 
 async function createUserForStream() {
   const { createUser } = await import("../server/services/users");
-  await createUser(stack.db, { email: "stream-viewer@test.example", name: "Stream viewer", role: "viewer", password: "viewer-password-123" });
+  await createUser(stack.db, {
+    email: "stream-viewer@test.example",
+    name: "Stream viewer",
+    role: "viewer",
+    password: "viewer-password-123",
+  });
 }
 
 describe("sign-in", () => {
@@ -455,7 +493,10 @@ describe("sign-in", () => {
     const target = users.find((u) => u.email === "soon-disabled@test.example")!;
     expect((await agents.admin.patch(`/api/users/${target.id}`).send({ disabled: true })).body.user.disabled).toBe(true);
     expect((await soon.get("/api/auth/me")).status).toBe(401);
-    const again = await stack.agent().post("/api/auth/login").send({ email: "soon-disabled@test.example", password: "viewer-password-123" });
+    const again = await stack
+      .agent()
+      .post("/api/auth/login")
+      .send({ email: "soon-disabled@test.example", password: "viewer-password-123" });
     expect(again.status).toBe(401);
     expect(again.body.error.message).toBe("This account is disabled. Ask a studio admin to enable it.");
   });
@@ -470,9 +511,15 @@ describe("sign-in", () => {
   });
 
   it("refuses a second account with the same e-mail", async () => {
-    const res = await agents.admin.post("/api/users").send({ email: "Operator@Test.example", name: "Again", role: "viewer", password: "a-long-password" });
+    const res = await agents.admin
+      .post("/api/users")
+      .send({ email: "Operator@Test.example", name: "Again", role: "viewer", password: "a-long-password" });
     expect(res.status).toBe(409);
-    expect(res.body.error).toEqual({ code: "conflict", message: "A user with the e-mail operator@test.example already exists.", field: "email" });
+    expect(res.body.error).toEqual({
+      code: "conflict",
+      message: "A user with the e-mail operator@test.example already exists.",
+      field: "email",
+    });
   });
 
   it("is rate-limited per address and e-mail", async () => {
@@ -491,7 +538,9 @@ describe("sign-in", () => {
 
 describe("uploads", () => {
   it("go through the same intake as the inbox and are analysed", async () => {
-    const res = await agents.operator.post("/api/scans/upload").attach("files", await paperScan({ format: "png", seed: 5 }), "from-browser.png");
+    const res = await agents.operator
+      .post("/api/scans/upload")
+      .attach("files", await paperScan({ format: "png", seed: 5 }), "from-browser.png");
     expect(res.status).toBe(201);
     const [result] = res.body.results;
     expect(result.originalName).toBe("from-browser.png");
@@ -511,7 +560,10 @@ describe("uploads", () => {
       expect(seen.headers["content-type"]).toBe("image/jpeg");
       const refused = await agents.viewer.get(`/api/scans/${result.scanId}/${which}`);
       expect(refused.status, which).toBe(403);
-      expect(refused.body.error).toEqual({ code: "forbidden", message: "Your role (viewer) does not allow this; it needs an operator or admin." });
+      expect(refused.body.error).toEqual({
+        code: "forbidden",
+        message: "Your role (viewer) does not allow this; it needs an operator or admin.",
+      });
       expect(refused.headers["content-type"]).not.toMatch(/^image\//);
     }
     // The scan's facts stay readable to a viewer.
@@ -521,7 +573,9 @@ describe("uploads", () => {
   it("refuse content that is not an image, whatever its name, and files over the limit", async () => {
     let res = await agents.operator.post("/api/scans/upload").attach("files", Buffer.from("just some notes\n"), "looks-like.tif");
     expect(res.status).toBe(415);
-    expect(res.body.error.message).toBe("Not a scan Platen can read: looks-like.tif (it holds plain text). Expected TIFF, JPEG, PNG or WebP.");
+    expect(res.body.error.message).toBe(
+      "Not a scan Platen can read: looks-like.tif (it holds plain text). Expected TIFF, JPEG, PNG or WebP.",
+    );
     res = await agents.operator.post("/api/scans/upload").attach("files", Buffer.alloc(1.5 * 1024 * 1024, 1), "big.tif");
     expect(res.status).toBe(413);
     expect(res.body.error.message).toBe("The file is larger than the upload limit of 1 MB.");
@@ -561,15 +615,28 @@ describe("uploads", () => {
     const [intake] = await stack.db.select().from(intakes).limit(1);
     const [row] = await stack.db
       .insert(scans)
-      .values({ intakeId: intake!.id, originalName: "retry-me.tif", source: "inbox", sha256: "e".repeat(64), sizeBytes: 1, originalKey: `originals/ee/${"e".repeat(64)}`, status: "failed", error: "x" })
+      .values({
+        intakeId: intake!.id,
+        originalName: "retry-me.tif",
+        source: "inbox",
+        sha256: "e".repeat(64),
+        sizeBytes: 1,
+        originalKey: `originals/ee/${"e".repeat(64)}`,
+        status: "failed",
+        error: "x",
+      })
       .returning();
     const res = await agents.operator.post(`/api/scans/${row!.id}/retry`);
     expect(res.status).toBe(200);
     expect(["queued", "analysing", "failed"]).toContain(res.body.scan.status);
-    const again = await waitFor("the retried scan to fail again (its original is missing)", async () => {
-      const r = await agents.viewer.get(`/api/scans/${row!.id}`);
-      return r.body.scan.status === "failed" && r.body.scan.attempts >= 1 ? r.body.scan : null;
-    }, 30_000);
+    const again = await waitFor(
+      "the retried scan to fail again (its original is missing)",
+      async () => {
+        const r = await agents.viewer.get(`/api/scans/${row!.id}`);
+        return r.body.scan.status === "failed" && r.body.scan.attempts >= 1 ? r.body.scan : null;
+      },
+      30_000,
+    );
     expect(again.attempts).toBeGreaterThanOrEqual(1);
   });
 });
@@ -578,7 +645,8 @@ describe("uploads", () => {
 describe("sign-in from one address trying many e-mails", () => {
   it("is stopped by a looser limit per address, and the stopped attempts are not recorded", async () => {
     const failedRows = async () =>
-      (await stack.database.pool.query("select count(*)::int as n from audit_events where action = 'auth.sign_in_failed'")).rows[0].n as number;
+      (await stack.database.pool.query("select count(*)::int as n from audit_events where action = 'auth.sign_in_failed'")).rows[0]
+        .n as number;
     const agent = stack.agent();
     let stopped: supertest.Response | undefined;
     // PLATEN_LOGIN_LIMIT is 5 here: ten times that per address, whatever the e-mails.
@@ -589,7 +657,8 @@ describe("sign-in from one address trying many e-mails", () => {
     }
     expect(stopped?.body.error.message).toBe("Too many sign-in attempts from this address. Wait 15 minutes and try again.");
     const before = await failedRows();
-    for (let i = 0; i < 5; i++) expect((await agent.post("/api/auth/login").send({ email: `more-${i}@test.example`, password: "guess" })).status).toBe(429);
+    for (let i = 0; i < 5; i++)
+      expect((await agent.post("/api/auth/login").send({ email: `more-${i}@test.example`, password: "guess" })).status).toBe(429);
     expect(await failedRows()).toBe(before);
   });
 
@@ -597,7 +666,9 @@ describe("sign-in from one address trying many e-mails", () => {
     const res = await stack.agent().post("/api/auth/login").send({ email: "my secret password", password: "x" });
     expect(res.status).toBe(400);
     expect(res.body.error.field).toBe("email");
-    const { rows } = await stack.database.pool.query("select count(*)::int as n from audit_events where summary like '%my secret password%'");
+    const { rows } = await stack.database.pool.query(
+      "select count(*)::int as n from audit_events where summary like '%my secret password%'",
+    );
     expect(rows[0].n).toBe(0);
   });
 });

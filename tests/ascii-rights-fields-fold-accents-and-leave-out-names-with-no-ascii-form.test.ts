@@ -26,7 +26,13 @@ let piece: string;
 
 const WEB: PresetInput = { kind: "web", name: "shop", size: { mode: "longEdge", longEdge: 300 }, format: "jpeg" };
 const MASTER: PresetInput = { kind: "master", name: "archive" };
-const PRINT: PresetInput = { kind: "print", name: "card", paper: { size: "a6" }, layout: { mode: "margins", top: 10, right: 10, bottom: 10, left: 10 }, printDpi: 150 };
+const PRINT: PresetInput = {
+  kind: "print",
+  name: "card",
+  paper: { size: "a6" },
+  layout: { mode: "margins", top: 10, right: 10, bottom: 10, left: 10 },
+  printDpi: 150,
+};
 
 beforeAll(async () => {
   piece = at("piece.tif");
@@ -37,7 +43,8 @@ beforeAll(async () => {
 
 /** IFD0 text fields and the Dublin Core fields of the XMP, as exifr reads them. */
 async function fieldsOf(file: string) {
-  const ifd0 = (await exifr.parse(file, { tiff: true, ifd0: true, xmp: false, pick: ["ImageDescription", "Artist", "Copyright"] } as never)) ?? {};
+  const ifd0 =
+    (await exifr.parse(file, { tiff: true, ifd0: true, xmp: false, pick: ["ImageDescription", "Artist", "Copyright"] } as never)) ?? {};
   const xmp = (await exifr.parse(file, { tiff: false, xmp: true } as never)) ?? {};
   const text = (v: unknown) => (v && typeof v === "object" && "value" in v ? (v as { value: string }).value : v);
   return {
@@ -90,9 +97,18 @@ describe("files read back", () => {
   });
 
   it("a web copy has no Artist for a name in CJK script, never question marks; the XMP carries it", async () => {
-    await renderOutput({ master: piece, dpi: 300, title: "Heron", creator: "山田花子", copyright: "© 2026 Ирина Петрова" }, WEB, { path: at("cjk.jpg") });
+    await renderOutput({ master: piece, dpi: 300, title: "Heron", creator: "山田花子", copyright: "© 2026 Ирина Петрова" }, WEB, {
+      path: at("cjk.jpg"),
+    });
     const got = await fieldsOf(at("cjk.jpg"));
-    expect(got).toEqual({ ImageDescription: "Heron", Artist: undefined, Copyright: undefined, title: "Heron", creator: "山田花子", rights: "© 2026 Ирина Петрова" });
+    expect(got).toEqual({
+      ImageDescription: "Heron",
+      Artist: undefined,
+      Copyright: undefined,
+      title: "Heron",
+      creator: "山田花子",
+      rights: "© 2026 Ирина Петрова",
+    });
     expect(fs.readFileSync(at("cjk.jpg")).includes(Buffer.from("??"))).toBe(false);
   });
 
@@ -101,7 +117,9 @@ describe("files read back", () => {
       [MASTER, "cjk-master.tif"],
       [PRINT, "cjk-print.tif"],
     ] as const) {
-      await renderOutput({ master: piece, dpi: 300, title: "Ōmi Lake", creator: "山田花子", copyright: "© 2026 Zoë" }, preset, { path: at(file) });
+      await renderOutput({ master: piece, dpi: 300, title: "Ōmi Lake", creator: "山田花子", copyright: "© 2026 Zoë" }, preset, {
+        path: at(file),
+      });
       expect(await fieldsOf(at(file))).toEqual({
         ImageDescription: "Omi Lake",
         Artist: undefined,

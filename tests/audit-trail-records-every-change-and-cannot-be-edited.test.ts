@@ -36,7 +36,10 @@ async function fourPieceScan(): Promise<Buffer> {
     <rect x="100" y="600" width="400" height="260" fill="#283d6b"/>
     <rect x="800" y="600" width="320" height="280" fill="#8a5a14"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .withMetadata({ density: 300 })
+    .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 async function lastId(): Promise<number> {
@@ -60,11 +63,15 @@ const only = (rows: Row[], action: AuditAction) => {
 
 const fragmentsOf = async (scanId: string) => (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
 const ready = (scanId: string) =>
-  waitFor("the scan to be ready", async () => {
-    const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
-    if (s.status === "failed") throw new Error(s.error);
-    return s.status === "ready" ? s : null;
-  }, 60_000);
+  waitFor(
+    "the scan to be ready",
+    async () => {
+      const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
+      if (s.status === "failed") throw new Error(s.error);
+      return s.status === "ready" ? s : null;
+    },
+    60_000,
+  );
 
 beforeAll(async () => {
   // Mail goes to the SMTP fake, masters are copied to a fake S3 bucket: the e-mail and off-site routes record too.
@@ -73,7 +80,10 @@ beforeAll(async () => {
   operator = await userAgent(stack, "operator");
   viewer = await userAgent(stack, "viewer");
   for (const role of ["admin", "operator", "viewer"] as const) {
-    const [u] = await stack.db.select().from(users).where(eq(users.email, `${role}@test.example`));
+    const [u] = await stack.db
+      .select()
+      .from(users)
+      .where(eq(users.email, `${role}@test.example`));
     ids[role] = u!.id;
   }
 });
@@ -91,21 +101,35 @@ function route(name: RouteName) {
 describe("every change a person makes is on the trail, with who, what and before/after", () => {
   it(`${route("login")}: a sign-in names the person, the address and the browser`, async () => {
     const agent = stack.agent().set("User-Agent", "Platen audit test browser");
-    const { rows } = await audited(() => agent.post("/api/auth/login").send({ email: "operator@test.example", password: "operator-password-123" }));
+    const { rows } = await audited(() =>
+      agent.post("/api/auth/login").send({ email: "operator@test.example", password: "operator-password-123" }),
+    );
     const row = only(rows, "auth.sign_in");
-    expect(row).toMatchObject({ actorId: ids.operator, actorEmail: "operator@test.example", subjectType: "user", subjectId: ids.operator, userAgent: "Platen audit test browser" });
+    expect(row).toMatchObject({
+      actorId: ids.operator,
+      actorEmail: "operator@test.example",
+      subjectType: "user",
+      subjectId: ids.operator,
+      userAgent: "Platen audit test browser",
+    });
     expect(row.ip).toMatch(/127\.0\.0\.1/);
   });
 
   it("a failed sign-in keeps the address tried, never the password", async () => {
-    let { rows } = await audited(() => stack.agent().post("/api/auth/login").send({ email: "Nobody@Test.example", password: "hunter2-secret-guess" }), 401);
+    let { rows } = await audited(
+      () => stack.agent().post("/api/auth/login").send({ email: "Nobody@Test.example", password: "hunter2-secret-guess" }),
+      401,
+    );
     let row = only(rows, "auth.sign_in_failed");
     expect(row).toMatchObject({ actorId: null, actorEmail: "nobody@test.example", subjectId: null });
     expect(row.after).toEqual({ email: "nobody@test.example", reason: "Wrong e-mail or password." });
     expect(JSON.stringify(row)).not.toContain("hunter2");
 
     // A known address with a wrong password: the account is named, the guess is not kept.
-    ({ rows } = await audited(() => stack.agent().post("/api/auth/login").send({ email: "viewer@test.example", password: "not-the-password-9" }), 401));
+    ({ rows } = await audited(
+      () => stack.agent().post("/api/auth/login").send({ email: "viewer@test.example", password: "not-the-password-9" }),
+      401,
+    ));
     row = only(rows, "auth.sign_in_failed");
     expect(row).toMatchObject({ actorId: ids.viewer, actorEmail: "viewer@test.example", subjectId: ids.viewer });
     expect(JSON.stringify(row)).not.toContain("not-the-password-9");
@@ -118,7 +142,13 @@ describe("every change a person makes is on the trail, with who, what and before
     );
     ids.framer = res.body.user.id;
     const row = only(rows, "user.create");
-    expect(row).toMatchObject({ actorId: ids.admin, actorEmail: "admin@test.example", subjectType: "user", subjectId: ids.framer, before: null });
+    expect(row).toMatchObject({
+      actorId: ids.admin,
+      actorEmail: "admin@test.example",
+      subjectType: "user",
+      subjectId: ids.framer,
+      before: null,
+    });
     expect(row.after).toEqual({ email: "framer@test.example", name: "Framer", role: "viewer" });
     const text = JSON.stringify(row);
     expect(text).not.toContain("framer-password-1");
@@ -128,7 +158,12 @@ describe("every change a person makes is on the trail, with who, what and before
   it(`${route("usersUpdate")}: a role change records {role: viewer} → {role: operator}; disable, enable and rename too`, async () => {
     let { rows } = await audited(() => admin.patch(`/api/users/${ids.framer}`).send({ role: "operator" }));
     expect(rows).toHaveLength(1);
-    expect(only(rows, "user.role")).toMatchObject({ actorId: ids.admin, subjectId: ids.framer, before: { role: "viewer" }, after: { role: "operator" } });
+    expect(only(rows, "user.role")).toMatchObject({
+      actorId: ids.admin,
+      subjectId: ids.framer,
+      before: { role: "viewer" },
+      after: { role: "operator" },
+    });
 
     ({ rows } = await audited(() => admin.patch(`/api/users/${ids.framer}`).send({ disabled: true })));
     expect(only(rows, "user.disable")).toMatchObject({ before: { disabled: false }, after: { disabled: true } });
@@ -145,14 +180,26 @@ describe("every change a person makes is on the trail, with who, what and before
   it(`${route("invitationsCreate")}, ${route("invitationsResend")}, ${route("invitationsAccept")} and ${route("invitationsRevoke")}`, async () => {
     let { res, rows } = await audited(() => admin.post("/api/invitations").send({ email: "guest@test.example", role: "viewer" }), 201);
     const invitation = res.body.invitation.id as string;
-    expect(only(rows, "invitation.create")).toMatchObject({ actorId: ids.admin, subjectType: "invitation", subjectId: invitation, after: { email: "guest@test.example", role: "viewer" } });
+    expect(only(rows, "invitation.create")).toMatchObject({
+      actorId: ids.admin,
+      subjectType: "invitation",
+      subjectId: invitation,
+      after: { email: "guest@test.example", role: "viewer" },
+    });
 
     ({ rows } = await audited(() => admin.post(`/api/invitations/${invitation}/resend`)));
-    expect(only(rows, "invitation.resend")).toMatchObject({ subjectId: invitation, before: { sendCount: 1 }, after: { sendCount: 2, sendError: null } });
+    expect(only(rows, "invitation.resend")).toMatchObject({
+      subjectId: invitation,
+      before: { sendCount: 1 },
+      after: { sendCount: 2, sendError: null },
+    });
 
     const message = await stack.mail!.waitFor("guest@test.example", 2);
     const token = new RegExp(`${INVITE_PAGE}#token=([A-Za-z0-9_-]{43})`).exec(message.text)![1]!;
-    ({ res, rows } = await audited(() => stack.agent().post("/api/invitations/accept").send({ token, name: "Guest framer", password: "guest-password-12" }), 201));
+    ({ res, rows } = await audited(
+      () => stack.agent().post("/api/invitations/accept").send({ token, name: "Guest framer", password: "guest-password-12" }),
+      201,
+    ));
     ids.guest = res.body.user.id;
     expect(only(rows, "invitation.accept")).toMatchObject({
       actorId: ids.guest,
@@ -167,18 +214,25 @@ describe("every change a person makes is on the trail, with who, what and before
 
     ({ res } = await audited(() => admin.post("/api/invitations").send({ email: "maybe@test.example", role: "operator" }), 201));
     ({ rows } = await audited(() => admin.delete(`/api/invitations/${res.body.invitation.id}`), 204));
-    expect(only(rows, "invitation.revoke")).toMatchObject({ before: { email: "maybe@test.example", role: "operator", revoked: false }, after: { revoked: true } });
+    expect(only(rows, "invitation.revoke")).toMatchObject({
+      before: { email: "maybe@test.example", role: "operator", revoked: false },
+      after: { revoked: true },
+    });
   });
 
   it(`${route("passwordResetRequest")} and ${route("passwordResetComplete")}: the address asked for, never the token or the password`, async () => {
     const mark = await lastId();
     expect((await stack.agent().post("/api/auth/password-reset").send({ email: "framer@test.example" })).status).toBe(202);
     // The answer goes first; the link is made just after.
-    const asked = await waitFor("the reset request on the trail", async () => (await rowsAfter(mark)).find((r) => r.action === "auth.password_reset_request"));
+    const asked = await waitFor("the reset request on the trail", async () =>
+      (await rowsAfter(mark)).find((r) => r.action === "auth.password_reset_request"),
+    );
     expect(asked).toMatchObject({ actorId: null, actorEmail: "framer@test.example", subjectType: "user", subjectId: ids.framer });
     const message = await stack.mail!.waitFor("framer@test.example", 1);
     const token = new RegExp(`${RESET_PAGE}#token=([A-Za-z0-9_-]{43})`).exec(message.text)![1]!;
-    const { rows } = await audited(() => stack.agent().post("/api/auth/password-reset/complete").send({ token, password: "framer-new-password-2" }));
+    const { rows } = await audited(() =>
+      stack.agent().post("/api/auth/password-reset/complete").send({ token, password: "framer-new-password-2" }),
+    );
     expect(only(rows, "auth.password_reset")).toMatchObject({ actorId: ids.framer, subjectId: ids.framer, before: null, after: null });
     const text = JSON.stringify([asked, ...rows]);
     expect(text).not.toContain(token);
@@ -187,7 +241,12 @@ describe("every change a person makes is on the trail, with who, what and before
 
   it(`${route("noticesUpdate")}: a person's own notice choices, only what changed`, async () => {
     let { rows } = await audited(() => operator.patch("/api/account/notices").send({ scanFailed: false, batchFinished: true }));
-    expect(only(rows, "account.notices")).toMatchObject({ actorId: ids.operator, subjectId: ids.operator, before: { scanFailed: true }, after: { scanFailed: false } });
+    expect(only(rows, "account.notices")).toMatchObject({
+      actorId: ids.operator,
+      subjectId: ids.operator,
+      before: { scanFailed: true },
+      after: { scanFailed: false },
+    });
     ({ rows } = await audited(() => operator.patch("/api/account/notices").send({ scanFailed: false })));
     expect(rows).toEqual([]);
   });
@@ -205,7 +264,12 @@ describe("every change a person makes is on the trail, with who, what and before
 
   it(`${route("nameUpdate")}: one's own name, before and after`, async () => {
     let { rows } = await audited(() => viewer.patch("/api/account/name").send({ name: "Noor Haddad" }));
-    expect(only(rows, "account.rename")).toMatchObject({ actorId: ids.viewer, subjectId: ids.viewer, before: { name: "Test viewer" }, after: { name: "Noor Haddad" } });
+    expect(only(rows, "account.rename")).toMatchObject({
+      actorId: ids.viewer,
+      subjectId: ids.viewer,
+      before: { name: "Test viewer" },
+      after: { name: "Noor Haddad" },
+    });
     ({ rows } = await audited(() => viewer.patch("/api/account/name").send({ name: "Noor Haddad" })));
     expect(rows).toEqual([]);
   });
@@ -213,7 +277,12 @@ describe("every change a person makes is on the trail, with who, what and before
   it(`${route("intakesCreate")}: a new scanning session`, async () => {
     const { res, rows } = await audited(() => operator.post("/api/intakes").send({ name: "Spring collage session" }), 201);
     ids.intake = res.body.intake.id;
-    expect(only(rows, "intake.create")).toMatchObject({ actorId: ids.operator, subjectType: "intake", subjectId: ids.intake, after: { name: "Spring collage session" } });
+    expect(only(rows, "intake.create")).toMatchObject({
+      actorId: ids.operator,
+      subjectType: "intake",
+      subjectId: ids.intake,
+      after: { name: "Spring collage session" },
+    });
   });
 
   it(`${route("scansUpload")}: an upload names the file and its hash`, async () => {
@@ -233,10 +302,14 @@ describe("every change a person makes is on the trail, with who, what and before
     const row = only(rows, "scan.resplit");
     expect(row.after).toEqual({ sensitivity: 0.7 });
     expect(row.before).toHaveProperty("sensitivity");
-    await waitFor("the second split", async () => {
-      const s = (await operator.get(`/api/scans/${ids.scan}`)).body.scan;
-      return s.status === "ready" && (await fragmentsOf(ids.scan)).length === 4;
-    }, 60_000);
+    await waitFor(
+      "the second split",
+      async () => {
+        const s = (await operator.get(`/api/scans/${ids.scan}`)).body.scan;
+        return s.status === "ready" && (await fragmentsOf(ids.scan)).length === 4;
+      },
+      60_000,
+    );
   });
 
   it(`${route("scansSetResolution")}: a resolution set by hand records the file's figure before`, async () => {
@@ -284,7 +357,9 @@ describe("every change a person makes is on the trail, with who, what and before
     expect(only(rows, "fragment.unreview")).toMatchObject({ before: { status: "rejected" }, after: { status: "proposed" } });
     await operator.patch(`/api/fragments/${ids.f2}`).send({ status: "rejected" });
 
-    ({ rows } = await audited(() => operator.patch(`/api/fragments/${ids.f1}`).send({ title: "Red field", tags: ["spring", "red"], notes: "Cut from a seed catalogue" })));
+    ({ rows } = await audited(() =>
+      operator.patch(`/api/fragments/${ids.f1}`).send({ title: "Red field", tags: ["spring", "red"], notes: "Cut from a seed catalogue" }),
+    ));
     expect(rows.map((r) => r.action)).toEqual(["fragment.edit"]);
     expect(rows[0]!.before).toEqual({ title: null, tags: [], notes: null });
     expect(rows[0]!.after).toEqual({ title: "Red field", tags: ["spring", "red"], notes: "Cut from a seed catalogue" });
@@ -300,12 +375,22 @@ describe("every change a person makes is on the trail, with who, what and before
 
   it(`${route("fragmentsReset")}: back to the proposal`, async () => {
     const { rows } = await audited(() => operator.post(`/api/fragments/${ids.f2}/reset`));
-    expect(only(rows, "fragment.reset")).toMatchObject({ subjectId: ids.f2, before: { status: "rejected" }, after: { status: "proposed" } });
+    expect(only(rows, "fragment.reset")).toMatchObject({
+      subjectId: ids.f2,
+      before: { status: "rejected" },
+      after: { status: "proposed" },
+    });
   });
 
   it(`${route("fragmentsDraw")}: a fragment drawn by hand`, async () => {
-    const { res, rows } = await audited(() => operator.post(`/api/scans/${ids.scan}/fragments`).send({ rect: { cx: 650, cy: 500, width: 60, height: 40 }, angle: 0 }), 201);
-    expect(only(rows, "fragment.draw")).toMatchObject({ subjectId: res.body.fragment.id, after: { rect: { cx: 650, cy: 500, width: 60, height: 40 }, angle: 0 } });
+    const { res, rows } = await audited(
+      () => operator.post(`/api/scans/${ids.scan}/fragments`).send({ rect: { cx: 650, cy: 500, width: 60, height: 40 }, angle: 0 }),
+      201,
+    );
+    expect(only(rows, "fragment.draw")).toMatchObject({
+      subjectId: res.body.fragment.id,
+      after: { rect: { cx: 650, cy: 500, width: 60, height: 40 }, angle: 0 },
+    });
   });
 
   it(`${route("fragmentsMerge")} and ${route("fragmentsUnmerge")}: a merge, and the deletion that takes it back`, async () => {
@@ -335,7 +420,11 @@ describe("every change a person makes is on the trail, with who, what and before
   it(`${route("recipesCreate")} and ${route("recipesUpdate")}: a recipe, each new version, its name and the studio default`, async () => {
     let { res, rows } = await audited(() => operator.post("/api/recipes").send({ name: "Warm paper", steps: [{ type: "levels" }] }), 201);
     ids.recipe = res.body.recipe.id;
-    expect(only(rows, "recipe.create")).toMatchObject({ subjectType: "recipe", subjectId: ids.recipe, after: { name: "Warm paper", version: 1 } });
+    expect(only(rows, "recipe.create")).toMatchObject({
+      subjectType: "recipe",
+      subjectId: ids.recipe,
+      after: { name: "Warm paper", version: 1 },
+    });
 
     const steps = [{ type: "levels", mode: "manual", black: 0.02, white: 0.98 }];
     ({ res, rows } = await audited(() => operator.patch(`/api/recipes/${ids.recipe}`).send({ steps })));
@@ -359,15 +448,28 @@ describe("every change a person makes is on the trail, with who, what and before
   it(`${route("recipesApply")}: applying a recipe records what it replaced and the batch it started`, async () => {
     const { res, rows } = await audited(() => operator.post(`/api/recipes/${ids.recipe}/apply`).send({ scanId: ids.scan }));
     const row = only(rows, "recipe.apply");
-    expect(row).toMatchObject({ subjectId: ids.recipe, before: { scanId: ids.scan, recipeId: null }, after: { recipeId: ids.recipe, version: 2, batchId: res.body.batchId } });
+    expect(row).toMatchObject({
+      subjectId: ids.recipe,
+      before: { scanId: ids.scan, recipeId: null },
+      after: { recipeId: ids.recipe, version: 2, batchId: res.body.batchId },
+    });
   });
 
   it(`${route("presetsCreate")} and ${route("presetsUpdate")}: a preset and its next version, only the settings that changed`, async () => {
-    const web = ((await operator.get("/api/presets")).body.presets as { kind: string; settings: Record<string, unknown> }[]).find((p) => p.kind === "web")!;
-    const made = await audited(() => operator.post("/api/presets").send({ name: "Shop tile", settings: { ...web.settings, quality: 80 } }), 201);
+    const web = ((await operator.get("/api/presets")).body.presets as { kind: string; settings: Record<string, unknown> }[]).find(
+      (p) => p.kind === "web",
+    )!;
+    const made = await audited(
+      () => operator.post("/api/presets").send({ name: "Shop tile", settings: { ...web.settings, quality: 80 } }),
+      201,
+    );
     let rows = made.rows;
     ids.preset = made.res.body.preset.id;
-    expect(only(rows, "preset.create")).toMatchObject({ subjectType: "preset", subjectId: ids.preset, after: { name: "Shop tile", kind: "web", version: 1 } });
+    expect(only(rows, "preset.create")).toMatchObject({
+      subjectType: "preset",
+      subjectId: ids.preset,
+      after: { name: "Shop tile", kind: "web", version: 1 },
+    });
 
     ({ rows } = await audited(() => operator.patch(`/api/presets/${ids.preset}`).send({ settings: { ...web.settings, quality: 72 } })));
     const v = only(rows, "preset.version");
@@ -380,9 +482,17 @@ describe("every change a person makes is on the trail, with who, what and before
   });
 
   it(`${route("batchesCreate")}, ${route("batchesCancel")}, ${route("batchesRetry")} and ${route("batchesRerun")}`, async () => {
-    let { res, rows } = await audited(() => operator.post("/api/batches").send({ name: "Shop tiles, spring", selection: { fragmentIds: [ids.f1] }, presetIds: [ids.preset] }), 201);
+    let { res, rows } = await audited(
+      () =>
+        operator.post("/api/batches").send({ name: "Shop tiles, spring", selection: { fragmentIds: [ids.f1] }, presetIds: [ids.preset] }),
+      201,
+    );
     ids.batch = res.body.batch.id;
-    expect(only(rows, "batch.create")).toMatchObject({ subjectType: "batch", subjectId: ids.batch, after: { name: "Shop tiles, spring", fragments: 1 } });
+    expect(only(rows, "batch.create")).toMatchObject({
+      subjectType: "batch",
+      subjectId: ids.batch,
+      after: { name: "Shop tiles, spring", fragments: 1 },
+    });
 
     ({ rows } = await audited(() => operator.post(`/api/batches/${ids.batch}/cancel`)));
     expect(only(rows, "batch.cancel")).toMatchObject({ subjectId: ids.batch });
@@ -403,19 +513,32 @@ describe("every change a person makes is on the trail, with who, what and before
   it(`${route("fragmentsOffsiteCheck")}, ${route("fragmentsOffsiteCopy")} and ${route("offsiteCheckAll")}: the off-site copy of a master`, async () => {
     // Earlier scenarios re-render this fragment; each new master queues a new copy. Wait for the
     // renders and copies to settle, so the copy checked is the last one.
-    await waitFor("renders and copies to settle", async () => {
-      const { rows: busy } = await stack.database.pool.query(
-        "select 1 from pgboss.job where name in ('fragment-render', 'offsite-copy') and state in ('created', 'retry', 'active') limit 1",
-      );
-      if (busy.length > 0) return null;
-      return (await operator.get(`/api/fragments/${ids.f1}/offsite`)).body.copy?.status === "copied";
-    }, 60_000);
+    await waitFor(
+      "renders and copies to settle",
+      async () => {
+        const { rows: busy } = await stack.database.pool.query(
+          "select 1 from pgboss.job where name in ('fragment-render', 'offsite-copy') and state in ('created', 'retry', 'active') limit 1",
+        );
+        if (busy.length > 0) return null;
+        return (await operator.get(`/api/fragments/${ids.f1}/offsite`)).body.copy?.status === "copied";
+      },
+      60_000,
+    );
     let { rows } = await audited(() => operator.post(`/api/fragments/${ids.f1}/offsite/check`));
-    expect(only(rows, "offsite.check")).toMatchObject({ actorId: ids.operator, subjectType: "fragment", subjectId: ids.f1, after: { status: "copied" } });
+    expect(only(rows, "offsite.check")).toMatchObject({
+      actorId: ids.operator,
+      subjectType: "fragment",
+      subjectId: ids.f1,
+      after: { status: "copied" },
+    });
     ({ rows } = await audited(() => operator.post(`/api/fragments/${ids.f1}/offsite/copy`), 202));
     expect(only(rows, "offsite.copy")).toMatchObject({ subjectId: ids.f1 });
     // Check-all takes the copies that have settled; let the copy just asked for finish first.
-    await waitFor("the copy made again", async () => (await operator.get(`/api/fragments/${ids.f1}/offsite`)).body.copy?.status === "copied", 60_000);
+    await waitFor(
+      "the copy made again",
+      async () => (await operator.get(`/api/fragments/${ids.f1}/offsite`)).body.copy?.status === "copied",
+      60_000,
+    );
     ({ rows } = await audited(() => admin.post("/api/offsite/check"), 202));
     expect(only(rows, "offsite.check_all")).toMatchObject({ actorId: ids.admin, subjectType: "studio" });
     expect((rows[0]!.after!.queued as number) >= 1).toBe(true);
@@ -425,7 +548,12 @@ describe("every change a person makes is on the trail, with who, what and before
     let { rows } = await audited(() => admin.post("/api/library/tidy").send({ dryRun: true }));
     expect(rows).toEqual([]);
     ({ rows } = await audited(() => admin.post("/api/library/tidy").send({})));
-    expect(only(rows, "library.tidy")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, after: { removed: 0, bytes: 0 } });
+    expect(only(rows, "library.tidy")).toMatchObject({
+      actorId: ids.admin,
+      subjectType: "studio",
+      subjectId: null,
+      after: { removed: 0, bytes: 0 },
+    });
   });
 
   it(`${route("libraryRefile")}: an admin has the originals the database does not know filed again, and the job says what it filed`, async () => {
@@ -441,27 +569,50 @@ describe("every change a person makes is on the trail, with who, what and before
     const old = new Date(Date.now() - 2 * 24 * 3600_000);
     await fs.utimes(stack.libraryPath(key), old, old);
     const { rows } = await audited(() => admin.post("/api/library/refile"), 202);
-    expect(only(rows, "library.refile")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, after: { originals: 1 } });
+    expect(only(rows, "library.refile")).toMatchObject({
+      actorId: ids.admin,
+      subjectType: "studio",
+      subjectId: null,
+      after: { originals: 1 },
+    });
     // The job's own row, under the same admin, once it has filed it (waited for here, so no later
     // scenario sees it arrive).
-    const filed = await waitFor("the refile job's row", async () => {
-      const r = await stack.db.select().from(auditEvents).where(eq(auditEvents.action, "library.refile")).orderBy(asc(auditEvents.id));
-      return r.length === 2 ? r[1]! : null;
-    }, 30_000);
-    expect(filed).toMatchObject({ actorId: ids.admin, subjectType: "scan", summary: `Filed an original the database did not know again as filed-again-${sha.slice(0, 12)}.tif` });
+    const filed = await waitFor(
+      "the refile job's row",
+      async () => {
+        const r = await stack.db.select().from(auditEvents).where(eq(auditEvents.action, "library.refile")).orderBy(asc(auditEvents.id));
+        return r.length === 2 ? r[1]! : null;
+      },
+      30_000,
+    );
+    expect(filed).toMatchObject({
+      actorId: ids.admin,
+      subjectType: "scan",
+      summary: `Filed an original the database did not know again as filed-again-${sha.slice(0, 12)}.tif`,
+    });
   });
 
   it(`${route("studioUpdate")}: an admin changes the studio's settings, with only what changed`, async () => {
     const { rows } = await audited(() => admin.patch("/api/studio/settings").send({ name: "Test studio", creator: "Mara Ilves" }));
-    expect(only(rows, "studio.settings")).toMatchObject({ actorId: ids.admin, subjectType: "studio", subjectId: null, before: { creator: null }, after: { creator: "Mara Ilves" } });
+    expect(only(rows, "studio.settings")).toMatchObject({
+      actorId: ids.admin,
+      subjectType: "studio",
+      subjectId: null,
+      before: { creator: null },
+      after: { creator: "Mara Ilves" },
+    });
   });
 
   it(`${route("mastersRightsWrite")}: an admin writes the studio's new rights into the masters already made`, async () => {
     // The piece approved above was rendered before the studio named a creator.
-    const behind = await waitFor("the approved piece's master, behind the studio's new creator", async () => {
-      const { rights } = (await admin.get("/api/studio/masters-rights")).body;
-      return rights.behind > 0 ? rights : null;
-    }, 60_000);
+    const behind = await waitFor(
+      "the approved piece's master, behind the studio's new creator",
+      async () => {
+        const { rights } = (await admin.get("/api/studio/masters-rights")).body;
+        return rights.behind > 0 ? rights : null;
+      },
+      60_000,
+    );
     const { rows } = await audited(() => admin.post("/api/studio/masters-rights").send({ creator: "Mara Ilves", copyright: null }));
     expect(only(rows, "studio.masters_rights")).toMatchObject({
       actorId: ids.admin,
@@ -474,10 +625,23 @@ describe("every change a person makes is on the trail, with who, what and before
   it(`${route("scansRetry")}: a failed scan sent back to the queue`, async () => {
     const [row] = await stack.db
       .insert(scans)
-      .values({ intakeId: ids.intake, originalName: "jammed.tif", source: "inbox", sha256: "a".repeat(64), sizeBytes: 1, originalKey: `originals/aa/${"a".repeat(64)}`, status: "failed", error: "The file is empty (0 bytes)" })
+      .values({
+        intakeId: ids.intake,
+        originalName: "jammed.tif",
+        source: "inbox",
+        sha256: "a".repeat(64),
+        sizeBytes: 1,
+        originalKey: `originals/aa/${"a".repeat(64)}`,
+        status: "failed",
+        error: "The file is empty (0 bytes)",
+      })
       .returning();
     const { rows } = await audited(() => operator.post(`/api/scans/${row!.id}/retry`));
-    expect(only(rows, "scan.retry")).toMatchObject({ subjectId: row!.id, before: { status: "failed", error: "The file is empty (0 bytes)" }, after: { status: "queued" } });
+    expect(only(rows, "scan.retry")).toMatchObject({
+      subjectId: row!.id,
+      before: { status: "failed", error: "The file is empty (0 bytes)" },
+      after: { status: "queued" },
+    });
   });
 
   it(`${route("logout")}: signing out`, async () => {
@@ -487,12 +651,16 @@ describe("every change a person makes is on the trail, with who, what and before
   });
 
   it(`${route("fragmentsFilesDelete")}: an admin deletes a piece's master and copies, and the trail keeps what went`, async () => {
-    await waitFor("renders and copies of the piece to settle", async () => {
-      const { rows: busy } = await stack.database.pool.query(
-        "select 1 from pgboss.job where name in ('fragment-render', 'output-render', 'offsite-copy', 'fragment-rights') and state in ('created', 'retry', 'active') limit 1",
-      );
-      return busy.length === 0 && !(await admin.get(`/api/fragments/${ids.f1}/files`)).body.plan.blocked;
-    }, 60_000);
+    await waitFor(
+      "renders and copies of the piece to settle",
+      async () => {
+        const { rows: busy } = await stack.database.pool.query(
+          "select 1 from pgboss.job where name in ('fragment-render', 'output-render', 'offsite-copy', 'fragment-rights') and state in ('created', 'retry', 'active') limit 1",
+        );
+        return busy.length === 0 && !(await admin.get(`/api/fragments/${ids.f1}/files`)).body.plan.blocked;
+      },
+      60_000,
+    );
     const { plan } = (await admin.get(`/api/fragments/${ids.f1}/files`)).body;
     expect(plan.files).toBeGreaterThanOrEqual(2);
     const { rows } = await audited(() => admin.delete(`/api/fragments/${ids.f1}/files`).query({ upTo: plan.files }));
@@ -572,15 +740,22 @@ describe("the trail cannot be edited", () => {
     await expect(pool.query("update audit_events set summary = 'nothing happened' where id = $1", [id])).rejects.toThrow(
       "The audit trail cannot be changed: UPDATE on audit_events is refused.",
     );
-    await expect(pool.query("delete from audit_events where id = $1", [id])).rejects.toThrow("The audit trail cannot be changed: DELETE on audit_events is refused.");
-    await expect(pool.query("truncate audit_events")).rejects.toThrow("The audit trail cannot be changed: TRUNCATE on audit_events is refused.");
+    await expect(pool.query("delete from audit_events where id = $1", [id])).rejects.toThrow(
+      "The audit trail cannot be changed: DELETE on audit_events is refused.",
+    );
+    await expect(pool.query("truncate audit_events")).rejects.toThrow(
+      "The audit trail cannot be changed: TRUNCATE on audit_events is refused.",
+    );
     const [still] = await stack.db.select().from(auditEvents).where(eq(auditEvents.id, id));
     expect(still!.summary).not.toBe("nothing happened");
   });
 
   it("the API has read routes only, for admins only", async () => {
     const auditRoutes = Object.values(API).filter((s: RouteSpec) => s.path.startsWith("/api/audit"));
-    expect(auditRoutes.map((s) => `${s.method} ${s.path} ${s.access} ${s.mutates}`)).toEqual(["GET /api/audit admin false", "GET /api/audit/:id admin false"]);
+    expect(auditRoutes.map((s) => `${s.method} ${s.path} ${s.access} ${s.mutates}`)).toEqual([
+      "GET /api/audit admin false",
+      "GET /api/audit/:id admin false",
+    ]);
     const id = await lastId();
     for (const agent of [viewer, operator]) {
       for (const url of ["/api/audit", `/api/audit/${id}`]) {
@@ -589,7 +764,11 @@ describe("the trail cannot be edited", () => {
         expect(res.body.error.code).toBe("forbidden");
       }
     }
-    for (const res of [await admin.patch(`/api/audit/${id}`).send({ summary: "x" }), await admin.delete(`/api/audit/${id}`), await admin.post("/api/audit").send({})]) {
+    for (const res of [
+      await admin.patch(`/api/audit/${id}`).send({ summary: "x" }),
+      await admin.delete(`/api/audit/${id}`),
+      await admin.post("/api/audit").send({}),
+    ]) {
       expect(res.status).toBe(404);
     }
     expect((await stack.agent().get("/api/audit")).status).toBe(401);
@@ -627,19 +806,40 @@ describe("admins browse and filter the trail", () => {
 
     page = await list({ action: "fragment.*", limit: 200 });
     expect(new Set(page.events.map((e) => e.action))).toEqual(
-      new Set(["fragment.approve", "fragment.reject", "fragment.unreview", "fragment.edit", "fragment.reset", "fragment.draw", "fragment.merge", "fragment.unmerge", "fragment.approve_remaining", "fragment.delete_files"]),
+      new Set([
+        "fragment.approve",
+        "fragment.reject",
+        "fragment.unreview",
+        "fragment.edit",
+        "fragment.reset",
+        "fragment.draw",
+        "fragment.merge",
+        "fragment.unmerge",
+        "fragment.approve_remaining",
+        "fragment.delete_files",
+      ]),
     );
     page = await list({ action: "fragment.edit" });
     expect(page.events.map((e) => e.action)).toEqual(["fragment.edit", "fragment.edit"]);
 
     page = await list({ subjectType: "fragment", subjectId: ids.f1 });
-    expect(page.events.map((e) => e.action).reverse()).toEqual(["fragment.approve", "fragment.edit", "fragment.edit", "offsite.check", "offsite.copy", "fragment.delete_files", "offsite.remove_kept"]);
+    expect(page.events.map((e) => e.action).reverse()).toEqual([
+      "fragment.approve",
+      "fragment.edit",
+      "fragment.edit",
+      "offsite.check",
+      "offsite.copy",
+      "fragment.delete_files",
+      "offsite.remove_kept",
+    ]);
 
     page = await list({ q: "quokka" }); // no summary, e-mail or changed value says so
     expect(page.events).toEqual([]);
     page = await list({ q: "four-pieces" });
     expect(page.events.length).toBeGreaterThan(3);
-    expect(page.events.every((e) => `${e.summary} ${JSON.stringify(e.before)} ${JSON.stringify(e.after)}`.includes("four-pieces"))).toBe(true);
+    expect(page.events.every((e) => `${e.summary} ${JSON.stringify(e.before)} ${JSON.stringify(e.after)}`.includes("four-pieces"))).toBe(
+      true,
+    );
     // A value typed into a field is found, though no summary names it.
     page = await list({ q: "mara ilv" });
     expect(page.events.map((e) => e.action)).toContain("studio.settings");
@@ -660,7 +860,11 @@ describe("admins browse and filter the trail", () => {
   it("refuses a malformed filter with a clear message", async () => {
     let res = await admin.get("/api/audit").query({ action: "delete everything" });
     expect(res.status).toBe(400);
-    expect(res.body.error).toEqual({ code: "bad_request", field: "action", message: "action: Expected an action such as fragment.approve, or a group such as fragment.*" });
+    expect(res.body.error).toEqual({
+      code: "bad_request",
+      field: "action",
+      message: "action: Expected an action such as fragment.approve, or a group such as fragment.*",
+    });
     res = await admin.get("/api/audit").query({ from: "yesterday" });
     expect(res.body.error.message).toBe("from: Expected from as an ISO 8601 date and time such as 2026-03-01T09:00:00Z");
     res = await admin.get("/api/audit").query({ from: "2026-03-02T00:00:00Z", to: "2026-03-01T00:00:00Z" });

@@ -69,8 +69,21 @@ describe("automatic levels on a piece that is all one colour", () => {
   });
 
   it("moves the points no farther in than the bounds, however narrow the piece", () => {
-    for (const rgb of [[17, 17, 17], [120, 120, 120], [235, 228, 210]] as const) {
-      const stats = measureLevels(flat(rgb), { type: "levels", enabled: true, mode: "auto", channel: "rgb", black: 0, white: 1, gamma: 1, clip: 0.005 });
+    for (const rgb of [
+      [17, 17, 17],
+      [120, 120, 120],
+      [235, 228, 210],
+    ] as const) {
+      const stats = measureLevels(flat(rgb), {
+        type: "levels",
+        enabled: true,
+        mode: "auto",
+        channel: "rgb",
+        black: 0,
+        white: 1,
+        gamma: 1,
+        clip: 0.005,
+      });
       if (stats.kind !== "levels") throw new Error("not levels");
       for (let c = 0; c < 3; c++) {
         expect(stats.black[c]).toBeLessThanOrEqual(AUTO_BLACK_MAX);

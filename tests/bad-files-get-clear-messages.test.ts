@@ -6,13 +6,7 @@ import fs from "node:fs";
 import path from "node:path";
 import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
-import {
-  ScanError,
-  readScanInfo,
-  verifyDecodes,
-  writePreviews,
-  type ScanErrorCode,
-} from "../worker/pipeline/metadata";
+import { ScanError, readScanInfo, verifyDecodes, writePreviews, type ScanErrorCode } from "../worker/pipeline/metadata";
 import { baselineTiff, makeTempDir, sha256File } from "./helpers/scan-bytes";
 
 const limits = { defaultDpi: 300, maxPixels: 100_000_000 };
@@ -60,12 +54,7 @@ function previewTargets(name: string, maxPixels = limits.maxPixels) {
 }
 
 /** Every entry point, each expected to fail the same way on the same file. */
-async function expectEveryCallFails(
-  file: string,
-  code: ScanErrorCode,
-  message: string,
-  maxPixels = limits.maxPixels,
-) {
+async function expectEveryCallFails(file: string, code: ScanErrorCode, message: string, maxPixels = limits.maxPixels) {
   const before = sha256File(file);
   const { dir, targets } = previewTargets(path.basename(file), maxPixels);
   for (const call of [
@@ -121,55 +110,22 @@ describe("files that are not scans", () => {
   });
 
   it.each([
-    [
-      "a ZIP archive",
-      Buffer.from([0x50, 0x4b, 3, 4, 20, 0, 0, 0, 8, 0]),
-      "not_image",
-      "a ZIP archive",
-    ],
-    [
-      "an HTML page",
-      Buffer.from("<!DOCTYPE html><html><body>Scans</body></html>"),
-      "not_image",
-      "an HTML page",
-    ],
-    [
-      "text that starts like a BMP",
-      Buffer.from("BM notes from the lid test, fourteen pieces\n"),
-      "not_image",
-      "plain text",
-    ],
-    [
-      "random binary data",
-      Buffer.from([0, 1, 2, 3, 200, 201, 0, 0, 9, 17, 99, 0]),
-      "not_image",
-      "data of an unknown kind",
-    ],
-    [
-      "an SVG drawing",
-      Buffer.from('<svg xmlns="http://www.w3.org/2000/svg"/>'),
-      "unsupported",
-      "an SVG drawing",
-    ],
+    ["a ZIP archive", Buffer.from([0x50, 0x4b, 3, 4, 20, 0, 0, 0, 8, 0]), "not_image", "a ZIP archive"],
+    ["an HTML page", Buffer.from("<!DOCTYPE html><html><body>Scans</body></html>"), "not_image", "an HTML page"],
+    ["text that starts like a BMP", Buffer.from("BM notes from the lid test, fourteen pieces\n"), "not_image", "plain text"],
+    ["random binary data", Buffer.from([0, 1, 2, 3, 200, 201, 0, 0, 9, 17, 99, 0]), "not_image", "data of an unknown kind"],
+    ["an SVG drawing", Buffer.from('<svg xmlns="http://www.w3.org/2000/svg"/>'), "unsupported", "an SVG drawing"],
   ] as const)("%s is named in the message", async (_label, bytes, code, what) => {
-    const err = await scanError(() =>
-      readScanInfo(save(`named-${what.replace(/\W+/g, "-")}.tif`, bytes), limits),
-    );
+    const err = await scanError(() => readScanInfo(save(`named-${what.replace(/\W+/g, "-")}.tif`, bytes), limits));
     expect(err.code).toBe(code);
-    expect(err.message).toContain(
-      code === "not_image"
-        ? `The file holds ${what}, not an image`
-        : `The file is ${what}, a format`,
-    );
+    expect(err.message).toContain(code === "not_image" ? `The file holds ${what}, not an image` : `The file is ${what}, a format`);
   });
 
   it("a missing file and a folder are 'unreadable', naming the path", async () => {
     const missing = path.join(tmp.dir, "gone.tif");
     const err = await scanError(() => readScanInfo(missing, limits));
     expect(err.code).toBe("unreadable");
-    expect(err.message).toBe(
-      `The file ${missing} does not exist or cannot be opened. Check the path and that the file is still there.`,
-    );
+    expect(err.message).toBe(`The file ${missing} does not exist or cannot be opened. Check the path and that the file is still there.`);
     const folder = path.join(tmp.dir, "a-folder.tif");
     fs.mkdirSync(folder);
     const dirErr = await scanError(() => verifyDecodes(folder, limits.maxPixels));
@@ -237,10 +193,7 @@ describe("scans over the pixel limit", () => {
   });
 
   it("a TIFF header claiming 60000 × 60000 px is refused from its header alone", async () => {
-    const file = save(
-      "claims-huge.tif",
-      baselineTiff({ width: 60_000, height: 60_000, omitPixelData: true }),
-    );
+    const file = save("claims-huge.tif", baselineTiff({ width: 60_000, height: 60_000, omitPixelData: true }));
     expect(fs.statSync(file).size).toBeLessThan(1000);
     await expectEveryCallFails(
       file,

@@ -23,16 +23,23 @@ async function scan(): Promise<Buffer> {
     <rect x="100" y="100" width="600" height="450" fill="#8e44ad"/>
     <rect x="850" y="120" width="300" height="400" fill="#d35400"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .withMetadata({ density: 300 })
+    .tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 const preset = (name: string) => presets.find((p) => p.name === name)!;
 
 async function finished(batchId: string) {
-  return waitFor(`batch ${batchId} to finish`, async () => {
-    const r = (await operator.get(`/api/batches/${batchId}`)).body;
-    return r.batch.finishedAt ? r : null;
-  }, 90_000);
+  return waitFor(
+    `batch ${batchId} to finish`,
+    async () => {
+      const r = (await operator.get(`/api/batches/${batchId}`)).body;
+      return r.batch.finishedAt ? r : null;
+    },
+    90_000,
+  );
 }
 
 const binary = (req: supertest.Test) =>
@@ -73,7 +80,8 @@ describe("output batches", () => {
     for (const p of prints) expect([p.pixelWidth, p.pixelHeight].sort()).toEqual([2550, 3300]);
     // A 600 px piece fitted into the 8 × 10 in print area prints at 75 DPI or so: a warning, never silent.
     expect(prints.every((p: { effectiveDpi: number; warnings: string[] }) => p.effectiveDpi < 300 && p.warnings.length > 0)).toBe(true);
-    for (const p of prints) expect(p).toMatchObject({ presetKind: "print", printedIn: { width: expect.any(Number), height: expect.any(Number) } });
+    for (const p of prints)
+      expect(p).toMatchObject({ presetKind: "print", printedIn: { width: expect.any(Number), height: expect.any(Number) } });
     // A web copy records a resolution in its file, but it is no printed one: no printed size, no
     // effective DPI (the worker stores the recorded DPI; the batch shows it only for prints).
     const webs = done.items.filter((i: { preset: string }) => i.preset === "web");
@@ -116,7 +124,9 @@ describe("output batches", () => {
     // The web-only batch reused the first batch's web copies: re-running it at a new size makes new
     // ones, and the old stay, for the first batch lists them too.
     const webOnly = (await viewer.get("/api/batches")).body.batches[0];
-    const edited = await operator.patch(`/api/presets/${preset("web").id}`).send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 400 } } });
+    const edited = await operator
+      .patch(`/api/presets/${preset("web").id}`)
+      .send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 400 } } });
     expect(edited.body.preset.version).toBe(2);
     const rerun = await operator.post(`/api/batches/${webOnly.id}/rerun`).send({ replaceOld: true });
     expect(rerun.status).toBe(201);
@@ -139,7 +149,9 @@ describe("output batches", () => {
     const old = (await viewer.get(`/api/batches/${webOnly.id}`)).body;
     expect(old.items.every((i: { fileName: string | null }) => i.fileName !== null)).toBe(true);
     // The old batch knows it was run again, and by which batch.
-    expect(old.laterRuns).toEqual([{ id: rerun.body.batch.id, name: `${webOnly.name} (again)`, replaceOld: true, replaceOutcome: "replaced" }]);
+    expect(old.laterRuns).toEqual([
+      { id: rerun.body.batch.id, name: `${webOnly.name} (again)`, replaceOld: true, replaceOutcome: "replaced" },
+    ]);
   });
 
   it("re-runs at a new size and replaces the old outputs once the new ones are made", async () => {
@@ -150,11 +162,15 @@ describe("output batches", () => {
       [preset("web").id],
     );
     expect(oldFiles.length).toBe(2);
-    const edited = await operator.patch(`/api/presets/${preset("web").id}`).send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 300 } } });
+    const edited = await operator
+      .patch(`/api/presets/${preset("web").id}`)
+      .send({ settings: { ...preset("web").settings, size: { mode: "longEdge", longEdge: 300 } } });
     expect(edited.body.preset.version).toBe(3);
     // A trigger of this test's own holds the removal of the old rows a while, and a connection
     // of the test's own watches: the moment the batch reads as finished, the old rows must be gone.
-    await stack.db.execute(sql.raw("create function test_hold() returns trigger language plpgsql as $$ begin perform pg_sleep(1.5); return null; end $$"));
+    await stack.db.execute(
+      sql.raw("create function test_hold() returns trigger language plpgsql as $$ begin perform pg_sleep(1.5); return null; end $$"),
+    );
     await stack.db.execute(sql.raw("create trigger test_hold before delete on outputs for each statement execute function test_hold()"));
     const watch = new pg.Client({ connectionString: stack.cfg.databaseUrl });
     await watch.connect();
@@ -163,16 +179,21 @@ describe("output batches", () => {
       const rerun = await operator.post(`/api/batches/${last.id}/rerun`).send({ replaceOld: true });
       expect(rerun.status).toBe(201);
       rerunId = rerun.body.batch.id;
-      const seen = await waitFor("the re-run to read as finished", async () => {
-        const { rows } = await watch.query(
-          `select b.finished_at is not null as finished,
+      const seen = await waitFor(
+        "the re-run to read as finished",
+        async () => {
+          const { rows } = await watch.query(
+            `select b.finished_at is not null as finished,
                   (select count(*)::int from outputs o join preset_versions v on v.id = o.preset_version_id
                     where v.version = 2 and v.preset_id = $2) as old
              from batches b where b.id = $1`,
-          [rerunId, preset("web").id],
-        );
-        return rows[0].finished ? rows[0] : null;
-      }, 90_000, 20);
+            [rerunId, preset("web").id],
+          );
+          return rows[0].finished ? rows[0] : null;
+        },
+        90_000,
+        20,
+      );
       expect(seen.old).toBe(0);
     } finally {
       await watch.end();
@@ -195,10 +216,14 @@ describe("output batches", () => {
     expect(rows[0].n).toBe(2);
     // …and their files are gone from the library too. The worker removes them right after the
     // batch's last item commits, so the batch can read as done a moment before the files go.
-    await waitFor("the retired files to be removed", async () => {
-      for (const f of oldFiles) if (await stack.library.exists(f.key)) return null;
-      return true;
-    }, 5_000);
+    await waitFor(
+      "the retired files to be removed",
+      async () => {
+        for (const f of oldFiles) if (await stack.library.exists(f.key)) return null;
+        return true;
+      },
+      5_000,
+    );
   });
 
   it("lists the same files in the zip as in its CSV, one row per output", async () => {
@@ -210,33 +235,51 @@ describe("output batches", () => {
     await fs.writeFile(zipPath, (await binary(viewer.get(`/api/batches/${first.id}/download`))).body as Buffer);
     // Python's zipfile module as an independent reader of the archive.
     const names = JSON.parse(
-      execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", zipPath], { encoding: "utf8" }),
+      execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", zipPath], {
+        encoding: "utf8",
+      }),
     ) as string[];
-    const csv = execFileSync("python3", ["-c", "import zipfile,sys; sys.stdout.write(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())", zipPath], { encoding: "utf8" });
+    const csv = execFileSync(
+      "python3",
+      ["-c", "import zipfile,sys; sys.stdout.write(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())", zipPath],
+      { encoding: "utf8" },
+    );
     const rows = csv.trim().split("\n");
     // Python's csv module as an independent reader of the cells (a warning may hold a comma).
-    const cells = (
-      JSON.parse(
-        execFileSync(
-          "python3",
-          ["-c", "import zipfile,sys,csv,io,json; print(json.dumps(list(csv.DictReader(io.StringIO(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())))))", zipPath],
-          { encoding: "utf8" },
-        ),
-      ) as Record<string, string>[]
-    );
+    const cells = JSON.parse(
+      execFileSync(
+        "python3",
+        [
+          "-c",
+          "import zipfile,sys,csv,io,json; print(json.dumps(list(csv.DictReader(io.StringIO(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())))))",
+          zipPath,
+        ],
+        { encoding: "utf8" },
+      ),
+    ) as Record<string, string>[];
     // Printed size and effective DPI are a print's: filled for the print files, empty for the web copies.
     const printedCols = ["printed_width_in", "printed_height_in", "printed_width_cm", "printed_height_cm", "effective_dpi"];
     expect(cells.filter((c) => c.preset === "print-letter")).toHaveLength(2);
     expect(cells.filter((c) => c.preset === "web")).toHaveLength(2);
     for (const c of cells) for (const col of printedCols) expect(c[col] === "", `${c.preset} ${col}`).toBe(c.preset === "web");
     // 1 in = 2.54 cm exactly (international yard and pound agreement, 1959).
-    for (const c of cells.filter((c) => c.preset === "print-letter")) expect(Number(c.printed_width_cm)).toBeCloseTo(Number(c.printed_width_in) * 2.54, 1);
-    expect(rows[0]).toBe("title,scan,fragment,preset,file,width_px,height_px,printed_width_in,printed_height_in,printed_width_cm,printed_height_cm,effective_dpi,warnings,sha256");
+    for (const c of cells.filter((c) => c.preset === "print-letter"))
+      expect(Number(c.printed_width_cm)).toBeCloseTo(Number(c.printed_width_in) * 2.54, 1);
+    expect(rows[0]).toBe(
+      "title,scan,fragment,preset,file,width_px,height_px,printed_width_in,printed_height_in,printed_width_cm,printed_height_cm,effective_dpi,warnings,sha256",
+    );
     const files = rows.slice(1).map((r) => r.split(",")[4]);
     // The zip's entries and the CSV's rows come in the batch page's order (scan, position, preset):
     // the batch ran its presets as web, print-letter, and the page lists print-letter first.
-    const pageOrder = detail.items.filter((i: { fileName: string | null }) => i.fileName !== null).map((i: { fileName: string }) => i.fileName);
-    expect(detail.items.map((i: { position: number; preset: string }) => `${i.position}:${i.preset}`)).toEqual(["1:print-letter", "1:web", "2:print-letter", "2:web"]);
+    const pageOrder = detail.items
+      .filter((i: { fileName: string | null }) => i.fileName !== null)
+      .map((i: { fileName: string }) => i.fileName);
+    expect(detail.items.map((i: { position: number; preset: string }) => `${i.position}:${i.preset}`)).toEqual([
+      "1:print-letter",
+      "1:web",
+      "2:print-letter",
+      "2:web",
+    ]);
     expect(names.filter((n) => n !== "outputs.csv")).toEqual(pageOrder);
     expect(files).toEqual(pageOrder);
     // Re-runs of later batches left the first batch's outputs alone: all four are in its zip.
@@ -271,9 +314,10 @@ describe("output batches", () => {
     const { execFileSync } = await import("node:child_process");
     // A preset name that climbs out of the folder the zip is unpacked into, and a fragment title
     // a spreadsheet would run as a formula.
-    const made = await operator
-      .post("/api/presets")
-      .send({ name: "/../../../escaped", settings: { ...preset("web").settings, name: "/../../../escaped", size: { mode: "longEdge", longEdge: 300 } } });
+    const made = await operator.post("/api/presets").send({
+      name: "/../../../escaped",
+      settings: { ...preset("web").settings, name: "/../../../escaped", size: { mode: "longEdge", longEdge: 300 } },
+    });
     expect(made.status).toBe(201);
     const [first] = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
     const titled = await operator.patch(`/api/fragments/${first!.id}`).send({ title: '=HYPERLINK("http://x.example","open")' });
@@ -286,7 +330,9 @@ describe("output batches", () => {
     await fs.writeFile(zipPath, (await binary(viewer.get(`/api/batches/${run.body.batch.id}/download`))).body as Buffer);
     // Python's zipfile module as an independent reader of the archive.
     const names = JSON.parse(
-      execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", zipPath], { encoding: "utf8" }),
+      execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", zipPath], {
+        encoding: "utf8",
+      }),
     ) as string[];
     expect(names).toHaveLength(3);
     for (const n of names) {
@@ -300,7 +346,11 @@ describe("output batches", () => {
       JSON.parse(
         execFileSync(
           "python3",
-          ["-c", "import zipfile,sys,csv,io,json; print(json.dumps(list(csv.reader(io.StringIO(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())))))", zipPath],
+          [
+            "-c",
+            "import zipfile,sys,csv,io,json; print(json.dumps(list(csv.reader(io.StringIO(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())))))",
+            zipPath,
+          ],
           { encoding: "utf8" },
         ),
       ) as string[][]
@@ -321,11 +371,15 @@ describe("output batches", () => {
     expect(mock.body.report).toMatchObject({ pixelWidth: 1200, pixelHeight: 900 });
     const img = await sharp(Buffer.from(mock.body.image.split(",")[1], "base64")).metadata();
     expect([img.width, img.height]).toEqual([400, 300]);
-    const print = await operator.post("/api/presets/preview").send({ fragmentId: first!.id, settings: preset("print-letter").settings, size: 300 });
+    const print = await operator
+      .post("/api/presets/preview")
+      .send({ fragmentId: first!.id, settings: preset("print-letter").settings, size: 300 });
     // ANSI Letter at 300 DPI: 2550 × 3300 px; a 2 in piece fitted to 8 × 10 in prints far under 300 DPI.
     expect([print.body.report.pixelWidth, print.body.report.pixelHeight].sort()).toEqual([2550, 3300]);
     expect(print.body.report.warnings.length).toBeGreaterThan(0);
-    const bad = await operator.post("/api/presets/preview").send({ fragmentId: first!.id, settings: { kind: "mockup", name: "x", width: -5 } });
+    const bad = await operator
+      .post("/api/presets/preview")
+      .send({ fragmentId: first!.id, settings: { kind: "mockup", name: "x", width: -5 } });
     expect(bad.status).toBe(400);
   });
 
@@ -338,7 +392,9 @@ describe("output batches", () => {
         if new.finished_at is not null and old.finished_at is null and nextval('test_close_seq') = 1 then raise exception 'close refused (test)'; end if;
         return new; end $$`),
     );
-    await stack.db.execute(sql.raw("create trigger test_fail_close before update on batches for each row execute function test_fail_close()"));
+    await stack.db.execute(
+      sql.raw("create trigger test_fail_close before update on batches for each row execute function test_fail_close()"),
+    );
     try {
       // One item, so no other item's close can stand in for the failed one: only the retry can.
       const [one] = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
@@ -368,7 +424,9 @@ describe("output batches", () => {
   it("cancelling stops what has not started", async () => {
     // Hold the worker back so nothing starts before the cancel: no worker runs the new jobs.
     await stack.worker!.stop(2000);
-    const res = await operator.post("/api/batches").send({ selection: { filter: { scanId } }, presetIds: [preset("square").id, preset("print-a4").id] });
+    const res = await operator
+      .post("/api/batches")
+      .send({ selection: { filter: { scanId } }, presetIds: [preset("square").id, preset("print-a4").id] });
     const cancelled = await operator.post(`/api/batches/${res.body.batch.id}/cancel`);
     expect(cancelled.body.batch.counts).toMatchObject({ cancelled: 4, queued: 0, total: 4 });
     expect(cancelled.body.batch.finishedAt).not.toBeNull();
@@ -406,9 +464,15 @@ describe("output batches", () => {
       // The queue screen's recent batches likewise.
       const onQueue = (await viewer.get("/api/queue")).body.batches.find((b: { id: string }) => b.id === first.id);
       expect(onQueue.counts).toMatchObject({ done: 2, total: 2 });
-      expect((await operator.get("/api/queue")).body.batches.find((b: { id: string }) => b.id === first.id).counts).toMatchObject({ done: 4, total: 4 });
+      expect((await operator.get("/api/queue")).body.batches.find((b: { id: string }) => b.id === first.id).counts).toMatchObject({
+        done: 4,
+        total: 4,
+      });
       expect((await operator.get(`/api/batches/${first.id}`)).body.batch.counts).toMatchObject({ done: 4, total: 4 });
-      expect((await operator.get("/api/batches")).body.batches.find((b: { id: string }) => b.id === first.id).counts).toMatchObject({ done: 4, total: 4 });
+      expect((await operator.get("/api/batches")).body.batches.find((b: { id: string }) => b.id === first.id).counts).toMatchObject({
+        done: 4,
+        total: 4,
+      });
       expect(seen.items.map((i: { fragmentId: string }) => i.fragmentId)).not.toContain(gone!.id);
       // The rejected piece's own files are closed to a viewer too.
       expect((await viewer.get(`/api/fragments/${gone!.id}/outputs/master`)).status).toBe(404);
@@ -418,9 +482,15 @@ describe("output batches", () => {
       await fs.writeFile(zipPath, (await binary(viewer.get(`/api/batches/${first.id}/download`))).body as Buffer);
       // Python's zipfile module as an independent reader of the archive.
       const names = JSON.parse(
-        execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", zipPath], { encoding: "utf8" }),
+        execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", zipPath], {
+          encoding: "utf8",
+        }),
       ) as string[];
-      const csv = execFileSync("python3", ["-c", "import zipfile,sys; sys.stdout.write(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())", zipPath], { encoding: "utf8" });
+      const csv = execFileSync(
+        "python3",
+        ["-c", "import zipfile,sys; sys.stdout.write(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())", zipPath],
+        { encoding: "utf8" },
+      );
       const rows = csv.trim().split("\n").slice(1);
       expect(names.filter((n) => n !== "outputs.csv").sort()).toEqual(seen.items.map((i: { fileName: string }) => i.fileName).sort());
       expect(rows).toHaveLength(2);
@@ -429,7 +499,9 @@ describe("output batches", () => {
       const all = path.join(stack.inbox, "operator.zip");
       await fs.writeFile(all, (await binary(operator.get(`/api/batches/${first.id}/download`))).body as Buffer);
       const allNames = JSON.parse(
-        execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", all], { encoding: "utf8" }),
+        execFileSync("python3", ["-c", "import zipfile,sys,json; print(json.dumps(zipfile.ZipFile(sys.argv[1]).namelist()))", all], {
+          encoding: "utf8",
+        }),
       ) as string[];
       expect(allNames.filter((n) => n !== "outputs.csv")).toHaveLength(4);
     } finally {

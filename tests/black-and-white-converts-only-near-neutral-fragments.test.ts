@@ -9,7 +9,7 @@ import { labToSrgb, srgbToLab } from "../worker/pipeline/colour/space";
 
 function rng(seed: number) {
   let s = seed;
-  return () => ((s = (s * 1664525 + 1013904223) >>> 0) / 4294967296);
+  return () => (s = (s * 1664525 + 1013904223) >>> 0) / 4294967296;
 }
 
 /** A "printed page" of L* from 15 to 92, with a* and b* drawn around (a, b) with spread `noise`. */
@@ -94,7 +94,16 @@ describe("black and white converts only near-neutral fragments", () => {
 
   it("treats a grey image as black and white: its contrast applies, nothing else changes", async () => {
     const data = Uint8Array.from({ length: 256 }, (_, i) => i);
-    const result = await compileRecipe({ name: "g", steps: [{ type: "blackAndWhite", contrast: 0 }, { type: "saturation", saturation: 1 }] }, { dpi: 300, bitDepth: 8 }).apply({ data, width: 256, height: 1, channels: 1, bitDepth: 8 });
+    const result = await compileRecipe(
+      {
+        name: "g",
+        steps: [
+          { type: "blackAndWhite", contrast: 0 },
+          { type: "saturation", saturation: 1 },
+        ],
+      },
+      { dpi: 300, bitDepth: 8 },
+    ).apply({ data, width: 256, height: 1, channels: 1, bitDepth: 8 });
     expect(result.image.channels).toBe(1);
     for (let v = 0; v < 256; v++) expect(Math.abs(result.image.data[v]! - v)).toBeLessThanOrEqual(1);
     expect(result.grey).toBe(true);

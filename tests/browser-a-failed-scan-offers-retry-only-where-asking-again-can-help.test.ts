@@ -35,10 +35,14 @@ beforeAll(async () => {
   const whole = await paperScan({ format: "tiff", seed: 3 });
   textScan = await upload("night-bed-06.tif", whole.subarray(0, Math.floor(whole.length * 0.6)));
   stoppedScan = await upload("night-bed-07.png", await paperScan({ format: "png", seed: 7 }));
-  await waitFor("the scans to settle", async () => {
-    const rows = await stack.db.select({ status: scans.status }).from(scans);
-    return rows.length === 2 && rows.every((r) => r.status === "ready" || r.status === "failed");
-  }, 45_000);
+  await waitFor(
+    "the scans to settle",
+    async () => {
+      const rows = await stack.db.select({ status: scans.status }).from(scans);
+      return rows.length === 2 && rows.every((r) => r.status === "ready" || r.status === "failed");
+    },
+    45_000,
+  );
   // The second as the worker leaves a scan when every attempt stopped (a crash, memory).
   await stack.db
     .update(scans)
@@ -63,7 +67,9 @@ describe("a failed scan", () => {
     await page.goto(`${stack.url}/scans/${textScan}`);
     await page.getByText("Analysis failed").waitFor();
     await expect.poll(() => page.getByTestId("retry-cannot-help").count()).toBe(1);
-    expect(await page.getByTestId("retry-cannot-help").textContent()).toMatch(/^Asking again gives the same result: the file itself is the problem\./);
+    expect(await page.getByTestId("retry-cannot-help").textContent()).toMatch(
+      /^Asking again gives the same result: the file itself is the problem\./,
+    );
     expect(await page.getByRole("button", { name: "Retry night-bed-06.tif" }).count()).toBe(0);
 
     // In the scans list, its missing figures are read out as missing, not as still to come.
@@ -78,10 +84,14 @@ describe("a failed scan", () => {
     await retry.waitFor();
     expect(await page.getByTestId("retry-cannot-help").count()).toBe(0);
     await retry.click();
-    await waitFor("the scan queued again and read", async () => {
-      const [row] = await stack.db.select({ status: scans.status }).from(scans).where(eq(scans.id, stoppedScan));
-      return row!.status === "ready" ? row : null;
-    }, 45_000);
+    await waitFor(
+      "the scan queued again and read",
+      async () => {
+        const [row] = await stack.db.select({ status: scans.status }).from(scans).where(eq(scans.id, stoppedScan));
+        return row!.status === "ready" ? row : null;
+      },
+      45_000,
+    );
     await page.close();
   });
 });

@@ -43,8 +43,7 @@ async function upload(name: string, bytes: Buffer, pieces: number): Promise<stri
   return id;
 }
 
-const fragmentsOf = async (id: string) =>
-  (await operator.get(`/api/scans/${id}/fragments`)).body.fragments as Fragment[];
+const fragmentsOf = async (id: string) => (await operator.get(`/api/scans/${id}/fragments`)).body.fragments as Fragment[];
 
 /** The number in the side panel's heading: "Fragment 3 of 4" → 3. */
 async function selectedPosition(page: Page): Promise<number> {
@@ -104,9 +103,7 @@ describe("a busy review in the browser", () => {
     for (let i = 1; i <= 6; i++) await page.mouse.move(x0 + ((x1 - x0) * i) / 6, y0 + ((y1 - y0) * i) / 6);
     await page.mouse.up();
 
-    const drawn = await waitFor("the drawn fragment", async () =>
-      (await fragmentsOf(firstId)).find((f) => f.origin === "drawn"),
-    );
+    const drawn = await waitFor("the drawn fragment", async () => (await fragmentsOf(firstId)).find((f) => f.origin === "drawn"));
     expect(Math.abs(drawn.rect.width - 300)).toBeLessThan(6);
     expect(Math.abs(drawn.rect.height - 200)).toBeLessThan(6);
     // The piece the drag started on did not move, and no edit of it was sent.
@@ -152,7 +149,9 @@ describe("a busy review in the browser", () => {
     // 300 DPI is 2 × 59.06 px (25.4 mm to the inch); the left side stays where it was.
     await page.keyboard.press("e");
     await expect.poll(() => page.locator("[data-active-handle]").count()).toBe(1);
-    expect(await page.getByTestId("review-status").textContent()).toMatch(/^The right side of fragment 2: ← → move it 1 mm, with Shift 5 mm/);
+    expect(await page.getByTestId("review-status").textContent()).toMatch(
+      /^The right side of fragment 2: ← → move it 1 mm, with Shift 5 mm/,
+    );
     // Two presses at once, as a held key repeats: no paint between them, yet both count.
     await page.evaluate(() => {
       for (let i = 0; i < 2; i++)

@@ -21,15 +21,22 @@ const ids: string[] = [];
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
   const operator = await userAgent(stack, "operator", "operator@test.example");
-  for (const [name, seed] of [["night-bed-04.png", 41], ["night-bed-04-whole.png", 42]] as const) {
+  for (const [name, seed] of [
+    ["night-bed-04.png", 41],
+    ["night-bed-04-whole.png", 42],
+  ] as const) {
     const file = path.join(stack.inbox, "..", name);
     await fs.writeFile(file, await paperScan({ format: "png", seed }));
     ids.push((await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId);
   }
-  await waitFor("the scans to settle", async () => {
-    const rows = await stack.db.select({ status: scans.status }).from(scans);
-    return rows.every((r) => r.status === "ready" || r.status === "failed");
-  }, 45_000);
+  await waitFor(
+    "the scans to settle",
+    async () => {
+      const rows = await stack.db.select({ status: scans.status }).from(scans);
+      return rows.every((r) => r.status === "ready" || r.status === "failed");
+    },
+    45_000,
+  );
   const [first] = await stack.db.select().from(scans).where(eq(scans.id, ids[0]!));
   await stack.db.insert(inboxKeptFiles).values({
     inbox: stack.inbox,
@@ -63,9 +70,9 @@ describe("a scan's page and its file in the inbox", () => {
     await stack.db.update(scans).set({ continuedById: ids[1]!, continuedHow: "whole" }).where(eq(scans.id, ids[0]!));
     await page.reload();
     const link = page.getByTestId("continued-by");
-    await expect.poll(() => link.textContent()).toBe(
-      "Its writer finished the file afterwards; it was taken in again, whole, as a new scan of night-bed-04-whole.png.",
-    );
+    await expect
+      .poll(() => link.textContent())
+      .toBe("Its writer finished the file afterwards; it was taken in again, whole, as a new scan of night-bed-04-whole.png.");
     expect(await kept.count()).toBe(0);
     await link.getByRole("link").click();
     await page.waitForURL(new RegExp(`/scans/${ids[1]}$`));

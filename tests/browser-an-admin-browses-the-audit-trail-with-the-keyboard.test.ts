@@ -12,7 +12,9 @@ beforeAll(async () => {
   admin = await userAgent(stack, "admin", "admin@test.example");
   await userAgent(stack, "viewer", "viewer@test.example");
   // A little history: an account made and promoted, and a guess at a password.
-  const made = await admin.post("/api/users").send({ email: "ines@test.example", name: "Ines Varga", role: "viewer", password: "ines-password-123" });
+  const made = await admin
+    .post("/api/users")
+    .send({ email: "ines@test.example", name: "Ines Varga", role: "viewer", password: "ines-password-123" });
   await admin.patch(`/api/users/${made.body.user.id}`).send({ role: "operator" });
   await stack.agent().post("/api/auth/login").send({ email: "stranger@test.example", password: "a-guess-at-it" });
   browser = await openBrowser();
@@ -42,9 +44,9 @@ describe("the audit trail screen", () => {
     await expect.poll(() => detail.textContent()).toContain("Failed sign-in as stranger@test.example");
     await expect.poll(() => detail.textContent()).toContain("No account has this address");
     await page.keyboard.press("ArrowDown");
-    await expect.poll(() => detail.getByRole("heading").first().textContent()).toBe(
-      "Changed the role of Ines Varga (ines@test.example) from viewer to operator",
-    );
+    await expect
+      .poll(() => detail.getByRole("heading").first().textContent())
+      .toBe("Changed the role of Ines Varga (ines@test.example) from viewer to operator");
     const role = detail.getByRole("row", { name: /Role/ });
     await expect.poll(() => role.locator("td").allTextContents()).toEqual(["viewer", "operator"]);
     await page.keyboard.press("k");

@@ -27,19 +27,35 @@ beforeAll(async () => {
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="900">
     <rect width="100%" height="100%" fill="#f6f6f3"/><rect x="250" y="200" width="600" height="450" fill="#3d6b2e"/></svg>`;
   const file = path.join(stack.inbox, "..", "one-piece-to-delete.tif");
-  await fs.writeFile(file, await sharp(Buffer.from(svg)).tiff({ xres: 300 / 25.4, yres: 300 / 25.4 }).toBuffer());
+  await fs.writeFile(
+    file,
+    await sharp(Buffer.from(svg))
+      .tiff({ xres: 300 / 25.4, yres: 300 / 25.4 })
+      .toBuffer(),
+  );
   const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId;
   await waitFor("the split", async () => (await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 1, 45_000);
   await operator.post(`/api/scans/${scanId}/approve-remaining`);
-  const [piece] = await waitFor("the master", async () => {
-    const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
-    return list.every((f) => f.renderState === "done") ? list : null;
-  }, 60_000);
+  const [piece] = await waitFor(
+    "the master",
+    async () => {
+      const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+      return list.every((f) => f.renderState === "done") ? list : null;
+    },
+    60_000,
+  );
   pieceId = piece!.id;
-  await waitFor("the off-site copy", async () => {
-    const { rows } = await stack.database.pool.query(`select 1 from offsite_copies c join outputs o on o.id = c.output_id where o.fragment_id = $1 and c.status = 'copied'`, [pieceId]);
-    return rows.length === 1;
-  }, 60_000);
+  await waitFor(
+    "the off-site copy",
+    async () => {
+      const { rows } = await stack.database.pool.query(
+        `select 1 from offsite_copies c join outputs o on o.id = c.output_id where o.fragment_id = $1 and c.status = 'copied'`,
+        [pieceId],
+      );
+      return rows.length === 1;
+    },
+    60_000,
+  );
   browser = await openBrowser();
 });
 afterAll(async () => {
@@ -82,13 +98,16 @@ describe("deleting a piece's files in the browser", () => {
     const alsoOffsite = ask.getByRole("checkbox", { name: /Also delete its master's copy in the off-site bucket/ });
     expect(await alsoOffsite.isChecked()).toBe(false);
     const masterId = made.find((o) => o.kind === "master")!.id;
-    const copyKey = (await stack.database.pool.query<{ key: string }>(`select key from offsite_copies where output_id = $1`, [masterId])).rows[0]!.key;
+    const copyKey = (await stack.database.pool.query<{ key: string }>(`select key from offsite_copies where output_id = $1`, [masterId]))
+      .rows[0]!.key;
     expect(await stack.offsite!.exists(copyKey)).toBe(true);
     await alsoOffsite.check();
     if (shots) await page.screenshot({ path: path.join(shots, "delete-files-offsite.png"), fullPage: true });
     await ask.getByRole("button", { name: "Delete 2 files and the off-site copy" }).click();
     await expect
-      .poll(() => page.getByRole("status").filter({ hasText: "Deleted 2 files of one-piece-to-delete · 1, and its off-site copy." }).count())
+      .poll(() =>
+        page.getByRole("status").filter({ hasText: "Deleted 2 files of one-piece-to-delete · 1, and its off-site copy." }).count(),
+      )
       .toBe(1);
     expect(await stack.offsite!.exists(copyKey)).toBe(false);
     expect(await stack.db.select().from(outputs).where(eq(outputs.fragmentId, pieceId))).toEqual([]);

@@ -26,7 +26,9 @@ beforeAll(async () => {
   await fs.writeFile(file, await pieceBed(5, 1));
   const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
   await waitFor("the split", async () => (await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 1, 45_000);
-  const { rows } = await stack.database.pool.query<{ original_key: string }>(`delete from scans where id = $1 returning original_key`, [scanId]);
+  const { rows } = await stack.database.pool.query<{ original_key: string }>(`delete from scans where id = $1 returning original_key`, [
+    scanId,
+  ]);
   originalKey = rows[0]!.original_key;
   const old = new Date(Date.now() - 3 * 24 * 3600_000);
   await fs.utimes(stack.libraryPath(originalKey), old, old);
@@ -48,7 +50,9 @@ describe("originals the database lost, on the Library screen", () => {
     // This database names none of the library's originals: the server wants the admin's explicit word.
     const bare = await admin.post("/api/library/refile").send({});
     expect(bare.status).toBe(409);
-    expect(bare.body.error.message).toMatch(/^The database does not name the library's one original: it may not be this library's database/);
+    expect(bare.body.error.message).toMatch(
+      /^The database does not name the library's one original: it may not be this library's database/,
+    );
     await notice.getByRole("button", { name: "File it again as new scan…" }).click();
     // The dialog says what it does, that it cannot be undone, and warns of another library's database.
     const ask = page.getByRole("dialog", { name: "File 1 original again?" });
@@ -62,15 +66,20 @@ describe("originals the database lost, on the Library screen", () => {
     expect((await stack.database.pool.query(`select 1 from scans where original_key = $1`, [originalKey])).rows).toHaveLength(0);
     await notice.getByRole("button", { name: "File it again as new scan…" }).click();
     await ask.getByRole("button", { name: "File 1 original again" }).click();
-    await expect
-      .poll(() => page.getByRole("status").filter({ hasText: "Filing 1 original again" }).count())
-      .toBe(1);
+    await expect.poll(() => page.getByRole("status").filter({ hasText: "Filing 1 original again" }).count()).toBe(1);
     // The notice follows the job on its own, with no reload, and goes once the original is filed.
     await expect.poll(() => page.getByTestId("unknown-originals").count(), { timeout: 30_000 }).toBe(0);
-    const scanId = await waitFor("the scan filed again", async () => {
-      const { rows } = await stack.database.pool.query<{ id: string; source: string }>(`select id, source from scans where original_key = $1`, [originalKey]);
-      return rows[0]?.source === "library" ? rows[0].id : null;
-    }, 30_000);
+    const scanId = await waitFor(
+      "the scan filed again",
+      async () => {
+        const { rows } = await stack.database.pool.query<{ id: string; source: string }>(
+          `select id, source from scans where original_key = $1`,
+          [originalKey],
+        );
+        return rows[0]?.source === "library" ? rows[0].id : null;
+      },
+      30_000,
+    );
     // Its page says where it came from.
     await page.goto(`${stack.url}/scans/${scanId}`);
     await expect.poll(() => page.getByText("Filed again from the library's originals").count(), { timeout: 15_000 }).toBeGreaterThan(0);

@@ -57,11 +57,21 @@ describe("kept off-site copies on the Library screen", () => {
     // The admin goes to the piece (without leaving the app) and deletes its files, keeping the
     // off-site copy as the delete does unless asked…
     await page.getByRole("link", { name: "Approved work" }).click();
-    await page.getByRole("link", { name: /plum-print · 1/ }).first().click();
+    await page
+      .getByRole("link", { name: /plum-print · 1/ })
+      .first()
+      .click();
     await page.getByRole("button", { name: "Delete its master and copies…" }).click();
     const ask = page.getByRole("group", { name: "Delete its master and copies" });
     await ask.getByRole("button", { name: /^Delete \d+ files$/ }).click();
-    await expect.poll(() => page.getByRole("status").filter({ hasText: /Deleted \d+ files of plum-print · 1; its off-site copy is kept\./ }).count()).toBe(1);
+    await expect
+      .poll(() =>
+        page
+          .getByRole("status")
+          .filter({ hasText: /Deleted \d+ files of plum-print · 1; its off-site copy is kept\./ })
+          .count(),
+      )
+      .toBe(1);
     // …and, back on the Library screen, finds it there at once (not a minute later).
     await page.getByRole("link", { name: "Library" }).click();
     await expect.poll(() => section.getByTestId("kept-offsite-summary").count(), { timeout: 20_000 }).toBe(1);
@@ -90,7 +100,9 @@ describe("kept off-site copies on the Library screen", () => {
     await page.keyboard.press("Enter");
     const dialog = page.getByRole("dialog", { name: "Remove this off-site copy for good?" });
     await expect.poll(() => dialog.count()).toBe(1);
-    expect(await dialog.textContent()).toMatch(/The copy of the master of plum-print · 1 \([\d.]+ [KM]B, copied .+\) is removed from the bucket s3:\/\/offsite\/\./);
+    expect(await dialog.textContent()).toMatch(
+      /The copy of the master of plum-print · 1 \([\d.]+ [KM]B, copied .+\) is removed from the bucket s3:\/\/offsite\/\./,
+    );
     await expect.poll(() => dialog.getByRole("button", { name: "Cancel" }).evaluate((el) => el === document.activeElement)).toBe(true);
     if (shots) await page.screenshot({ path: path.join(shots, "kept-offsite-confirm.png") });
     await page.keyboard.press("Escape");
@@ -102,7 +114,9 @@ describe("kept off-site copies on the Library screen", () => {
     await page.keyboard.press("Enter");
     await expect.poll(() => dialog.isVisible()).toBe(true);
     await page.keyboard.press("Tab");
-    await expect.poll(() => dialog.getByRole("button", { name: "Remove it for good" }).evaluate((el) => el === document.activeElement)).toBe(true);
+    await expect
+      .poll(() => dialog.getByRole("button", { name: "Remove it for good" }).evaluate((el) => el === document.activeElement))
+      .toBe(true);
     await page.keyboard.press("Enter");
     await expect
       .poll(() => page.getByRole("status").filter({ hasText: "Removed the kept off-site copy of plum-print · 1" }).count())

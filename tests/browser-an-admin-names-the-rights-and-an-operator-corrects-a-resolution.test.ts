@@ -22,7 +22,12 @@ beforeAll(async () => {
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1800" height="1200">
     <rect width="100%" height="100%" fill="#f6f6f3"/><rect x="300" y="250" width="900" height="600" fill="#2e6b8f"/></svg>`;
   const file = path.join(stack.inbox, "..", "seventy-two.tif");
-  await fs.writeFile(file, await sharp(Buffer.from(svg)).tiff({ xres: 72 / 25.4, yres: 72 / 25.4 }).toBuffer());
+  await fs.writeFile(
+    file,
+    await sharp(Buffer.from(svg))
+      .tiff({ xres: 72 / 25.4, yres: 72 / 25.4 })
+      .toBuffer(),
+  );
   scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId;
   await waitFor("the scan to be ready", async () => (await operator.get(`/api/scans/${scanId}`)).body.scan.status === "ready", 45_000);
   browser = await openBrowser();
@@ -49,9 +54,7 @@ describe("studio settings and a scan's resolution in the browser", () => {
     expect(await page.getByLabel("Copyright line").inputValue()).toBe(`© ${year} Mara Ilves`);
     // The button goes once the line starts with ©: the typing carries on at the line's end, not
     // into a page that has lost its focus.
-    await expect
-      .poll(() => page.getByLabel("Copyright line").evaluate((el) => el === document.activeElement))
-      .toBe(true);
+    await expect.poll(() => page.getByLabel("Copyright line").evaluate((el) => el === document.activeElement)).toBe(true);
     await page.keyboard.type(". All rights reserved.");
     expect(await page.getByLabel("Copyright line").inputValue()).toBe(`© ${year} Mara Ilves. All rights reserved.`);
     await page.getByLabel("Assumed resolution (DPI)").fill("20");

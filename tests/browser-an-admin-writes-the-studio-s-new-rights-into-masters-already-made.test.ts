@@ -26,7 +26,9 @@ const shot = async (page: Page, name: string) => {
 };
 
 const masterCreator = async (fragmentId: string) => {
-  const { rows } = await stack.database.pool.query<{ key: string }>(`select key from outputs where fragment_id = $1 and kind = 'master'`, [fragmentId]);
+  const { rows } = await stack.database.pool.query<{ key: string }>(`select key from outputs where fragment_id = $1 and kind = 'master'`, [
+    fragmentId,
+  ]);
   const t = await exifr.parse(stack.libraryPath(rows[0]!.key), { xmp: true, mergeOutput: false } as never);
   const c = t?.dc?.creator as unknown;
   return Array.isArray(c) ? c[0] : c;
@@ -98,7 +100,10 @@ describe("rights in masters already made, on the Studio screen", () => {
   });
 
   it("say which could not be written, and why, when a master is missing from the library", async () => {
-    const { rows } = await stack.database.pool.query<{ key: string }>(`select key from outputs where fragment_id = $1 and kind = 'master'`, [pieces[0]!.id]);
+    const { rows } = await stack.database.pool.query<{ key: string }>(
+      `select key from outputs where fragment_id = $1 and kind = 'master'`,
+      [pieces[0]!.id],
+    );
     await fs.rm(stack.libraryPath(rows[0]!.key));
     const page = await browser.context.newPage();
     await signIn(page, stack.url, "admin@test.example", "admin-password-123");

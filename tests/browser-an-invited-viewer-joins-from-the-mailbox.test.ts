@@ -24,7 +24,10 @@ async function twoPieceScan(second = "#d4a017"): Promise<Buffer> {
     <rect x="80" y="90" width="340" height="380" fill="#2b5d8a"/>
     <rect x="560" y="120" width="320" height="360" fill="${second}"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .withMetadata({ density: 300 })
+    .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 beforeAll(async () => {
@@ -51,7 +54,13 @@ describe("in the browser", () => {
     // Those who review see each scan's thumbnail (a viewer, below, does not).
     await page.goto(`${stack.url}/scans`);
     await expect
-      .poll(() => page.locator("main table img").evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length), { timeout: 15_000 })
+      .poll(
+        () =>
+          page
+            .locator("main table img")
+            .evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length),
+        { timeout: 15_000 },
+      )
       .toBe(2);
     await page.goto(`${stack.url}/users`);
     const invite = page.getByRole("form", { name: "Invite someone" });
@@ -69,14 +78,20 @@ describe("in the browser", () => {
     await invite.getByText("operator@test.example already has an account (Test operator, operator).", { exact: false }).waitFor();
 
     await page.getByRole("link", { name: "Mailbox" }).click();
-    await page.getByRole("list", { name: "Messages" }).getByRole("button", { name: /framer@test\.example/ }).click();
+    await page
+      .getByRole("list", { name: "Messages" })
+      .getByRole("button", { name: /framer@test\.example/ })
+      .click();
     const message = page.getByRole("article", { name: "Message: You are invited to Test studio on Platen" });
     await message.waitFor();
     const frame = page.frameLocator('iframe[title="HTML part"]');
     await frame.getByRole("link", { name: "Accept the invitation" }).waitFor();
     await shot(page, "mailbox-invitation-html");
     await message.getByRole("tab", { name: "Plain text" }).click();
-    await message.getByRole("link", { name: /\/join#token=/ }).first().waitFor();
+    await message
+      .getByRole("link", { name: /\/join#token=/ })
+      .first()
+      .waitFor();
     await shot(page, "mailbox-invitation-text");
     await message.getByRole("tab", { name: "HTML" }).click();
 
@@ -110,12 +125,19 @@ describe("in the browser", () => {
     await expect.poll(() => grid.locator("img").count(), { timeout: 15_000 }).toBe(2);
     // The pictures themselves load for a viewer.
     await expect
-      .poll(() => grid.locator("img").evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length), { timeout: 15_000 })
+      .poll(
+        () =>
+          grid
+            .locator("img")
+            .evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length),
+        { timeout: 15_000 },
+      )
       .toBe(2);
     await shot(page, "viewer-approved-work");
     // No operator actions anywhere a viewer goes.
     for (const name of [/approve/i, /reject/i, /upload/i]) expect(await page.getByRole("button", { name }).count()).toBe(0);
-    for (const name of ["Recipes", "Presets", "Users", "Mailbox"]) expect(await page.getByRole("link", { name, exact: true }).count()).toBe(0);
+    for (const name of ["Recipes", "Presets", "Users", "Mailbox"])
+      expect(await page.getByRole("link", { name, exact: true }).count()).toBe(0);
     await page.goto(`${stack.url}/scans`);
     await page.getByRole("heading", { name: "Scans", exact: true }).waitFor();
     for (const name of [/approve/i, /reject/i, /upload/i, /review/i]) expect(await page.getByRole("button", { name }).count()).toBe(0);
@@ -129,7 +151,10 @@ describe("in the browser", () => {
     // The live queue is for everyone.
     await page.goto(`${stack.url}/queue`);
     await page.getByRole("heading", { name: "Queue", exact: true }).waitFor();
-    await page.getByText(/still-to-review\.tif/).first().waitFor();
+    await page
+      .getByText(/still-to-review\.tif/)
+      .first()
+      .waitFor();
     await shot(page, "viewer-queue");
 
     // A scan's page: its facts, no picture of the whole bed, and the way to its approved pieces.

@@ -26,10 +26,19 @@ beforeAll(async () => {
     <rect width="100%" height="100%" fill="#f6f6f3"/><rect x="300" y="250" width="900" height="600" fill="#8f4a2e"/></svg>`;
   const file = path.join(stack.inbox, "..", "kept-at-seventy-two.tif");
   // sharp takes pixels per millimetre: 72 / 25.4 is 72 DPI.
-  await fs.writeFile(file, await sharp(Buffer.from(svg)).tiff({ xres: 72 / 25.4, yres: 72 / 25.4 }).toBuffer());
+  await fs.writeFile(
+    file,
+    await sharp(Buffer.from(svg))
+      .tiff({ xres: 72 / 25.4, yres: 72 / 25.4 })
+      .toBuffer(),
+  );
   scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId;
   await waitFor("the scan to be ready", async () => (await operator.get(`/api/scans/${scanId}`)).body.scan.status === "ready", 45_000);
-  await waitFor("the scan to have its piece", async () => (await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total > 0, 45_000);
+  await waitFor(
+    "the scan to have its piece",
+    async () => (await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total > 0,
+    45_000,
+  );
   const set = await operator.patch(`/api/scans/${scanId}/resolution`).send({ x: 600 });
   expect(set.status).toBe(200);
   browser = await openBrowser();
@@ -83,8 +92,8 @@ describe("going back to the file's resolution, and one's own account", () => {
     await form.getByLabel("Repeat the new password").fill("a-fresh-password-77");
     await form.getByRole("button", { name: "Change password" }).click();
     await expect.poll(() => form.getByText(WRONG_CURRENT_PASSWORD).count()).toBe(1);
-    const hashBefore = (await stack.database.pool.query("select password_hash from users where email = $1", ["operator@test.example"])).rows[0]
-      .password_hash as string;
+    const hashBefore = (await stack.database.pool.query("select password_hash from users where email = $1", ["operator@test.example"]))
+      .rows[0].password_hash as string;
     expect(await bcrypt.compare("operator-password-123", hashBefore)).toBe(true);
 
     // Two different new passwords are caught before anything is sent.
@@ -96,8 +105,8 @@ describe("going back to the file's resolution, and one's own account", () => {
     await form.getByLabel("Repeat the new password").fill("a-fresh-password-77");
     await form.getByRole("button", { name: "Change password" }).click();
     await expect.poll(() => form.getByRole("status").textContent()).toMatch(/^Your password is changed\./);
-    const hashAfter = (await stack.database.pool.query("select password_hash from users where email = $1", ["operator@test.example"])).rows[0]
-      .password_hash as string;
+    const hashAfter = (await stack.database.pool.query("select password_hash from users where email = $1", ["operator@test.example"]))
+      .rows[0].password_hash as string;
     expect(await bcrypt.compare("a-fresh-password-77", hashAfter)).toBe(true);
     // Still signed in here, on the new session.
     await page.reload();
@@ -111,6 +120,8 @@ describe("going back to the file's resolution, and one's own account", () => {
     await expect.poll(() => nameForm.count()).toBe(0);
     await expect.poll(() => page.getByRole("group", { name: "Signed in" }).textContent()).toContain("Ilse Varga");
     await expect.poll(() => change.evaluate((el) => el === document.activeElement)).toBe(true);
-    expect((await stack.database.pool.query("select name from users where email = $1", ["operator@test.example"])).rows[0].name).toBe("Ilse Varga");
+    expect((await stack.database.pool.query("select name from users where email = $1", ["operator@test.example"])).rows[0].name).toBe(
+      "Ilse Varga",
+    );
   });
 });

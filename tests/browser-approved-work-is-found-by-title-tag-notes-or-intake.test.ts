@@ -18,7 +18,12 @@ function twoPieceScan(a: string, b: string): Promise<Buffer> {
 }
 
 /** Starts an intake, files one scan in it, approves its two pieces and names them. */
-async function intakeWithTwoPieces(intake: string, file: string, colours: [string, string], names: { title: string; tags?: string[]; notes?: string }[]) {
+async function intakeWithTwoPieces(
+  intake: string,
+  file: string,
+  colours: [string, string],
+  names: { title: string; tags?: string[]; notes?: string }[],
+) {
   expect((await operator.post("/api/intakes").send({ name: intake })).status).toBe(201);
   const { scanId } = await uploadScan(operator, { name: file, bytes: await twoPieceScan(...colours), pieces: 2 });
   const list = await approveRemaining(operator, scanId);
@@ -33,14 +38,21 @@ beforeAll(async () => {
   stack = await startStack({ watcher: false });
   operator = await userAgent(stack, "operator", "operator@test.example");
   await userAgent(stack, "viewer", "viewer@test.example");
-  await intakeWithTwoPieces("Spring atlas", "atlas-plate-3.tif", ["#2e6f9e", "#4f8a3c"], [
-    { title: "Blue heron", tags: ["birds", "blue"] },
-    { title: "Fern study", tags: ["plants"] },
-  ]);
-  await intakeWithTwoPieces("Harbour maps", "harbour-sheet-1.tif", ["#9e4a2e", "#c9a13b"], [
-    { title: "Lighthouse", notes: "From the box of harbour charts" },
-    { title: "Tide table" },
-  ]);
+  await intakeWithTwoPieces(
+    "Spring atlas",
+    "atlas-plate-3.tif",
+    ["#2e6f9e", "#4f8a3c"],
+    [
+      { title: "Blue heron", tags: ["birds", "blue"] },
+      { title: "Fern study", tags: ["plants"] },
+    ],
+  );
+  await intakeWithTwoPieces(
+    "Harbour maps",
+    "harbour-sheet-1.tif",
+    ["#9e4a2e", "#c9a13b"],
+    [{ title: "Lighthouse", notes: "From the box of harbour charts" }, { title: "Tide table" }],
+  );
   browser = await openBrowser();
 }, 180_000);
 afterAll(async () => {
@@ -58,11 +70,17 @@ describe("approved work", () => {
     await expect.poll(() => grid.getByRole("listitem").count(), { timeout: 15_000 }).toBe(4);
     // Rendered pieces show their web copy as made (after the recipe), each picture loaded.
     const pictures = grid.locator("img");
-    await expect.poll(() => pictures.evaluateAll((imgs) => imgs.map((i) => new URL((i as HTMLImageElement).src).pathname)), { timeout: 15_000 }).toEqual(
-      Array.from({ length: 4 }, () => expect.stringMatching(/^\/api\/fragments\/[0-9a-f-]{36}\/outputs\/web\/thumb$/)),
-    );
     await expect
-      .poll(() => pictures.evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length), { timeout: 15_000 })
+      .poll(() => pictures.evaluateAll((imgs) => imgs.map((i) => new URL((i as HTMLImageElement).src).pathname)), { timeout: 15_000 })
+      .toEqual(Array.from({ length: 4 }, () => expect.stringMatching(/^\/api\/fragments\/[0-9a-f-]{36}\/outputs\/web\/thumb$/)));
+    await expect
+      .poll(
+        () =>
+          pictures.evaluateAll(
+            (imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length,
+          ),
+        { timeout: 15_000 },
+      )
       .toBe(4);
     // Tags stand on the cards.
     expect((await names()).find((t) => t.includes("Blue heron"))).toMatch(/birds\s*blue/);
@@ -89,16 +107,24 @@ describe("approved work", () => {
 
     // Nothing matches: it says so, and Clear brings every piece back.
     await search.fill("no-such-piece");
-    await expect.poll(() => page.getByText('No approved piece matches "no-such-piece". Clear the search to see them all.').count(), { timeout: 10_000 }).toBe(1);
+    await expect
+      .poll(() => page.getByText('No approved piece matches "no-such-piece". Clear the search to see them all.').count(), {
+        timeout: 10_000,
+      })
+      .toBe(1);
     await page.getByRole("button", { name: "Clear" }).click();
     await expect.poll(() => grid.getByRole("listitem").count(), { timeout: 10_000 }).toBe(4);
     expect(await search.inputValue()).toBe("");
 
     // One intake's pieces only; a reload of the address shows the same.
     await page.getByLabel("Intake").selectOption({ label: "Harbour maps" });
-    await expect.poll(async () => (await names()).map((t) => t.split("\n")[0]).sort(), { timeout: 10_000 }).toEqual(["Lighthouse", "Tide table"]);
+    await expect
+      .poll(async () => (await names()).map((t) => t.split("\n")[0]).sort(), { timeout: 10_000 })
+      .toEqual(["Lighthouse", "Tide table"]);
     await page.reload();
-    await expect.poll(async () => (await names()).map((t) => t.split("\n")[0]).sort(), { timeout: 15_000 }).toEqual(["Lighthouse", "Tide table"]);
+    await expect
+      .poll(async () => (await names()).map((t) => t.split("\n")[0]).sort(), { timeout: 15_000 })
+      .toEqual(["Lighthouse", "Tide table"]);
     expect(await page.getByLabel("Intake").locator("option:checked").textContent()).toBe("Harbour maps");
     // Back goes to the whole list.
     await page.goBack();
@@ -112,7 +138,9 @@ describe("approved work", () => {
     const rows = page.getByRole("region", { name: "Scan list" }).getByRole("row");
     await expect.poll(() => rows.filter({ hasText: ".tif" }).count(), { timeout: 15_000 }).toBe(2);
     await page.getByRole("searchbox", { name: "Search file names" }).fill("harbour");
-    await expect.poll(() => rows.filter({ hasText: ".tif" }).allInnerTexts(), { timeout: 10_000 }).toEqual([expect.stringContaining("harbour-sheet-1.tif")]);
+    await expect
+      .poll(() => rows.filter({ hasText: ".tif" }).allInnerTexts(), { timeout: 10_000 })
+      .toEqual([expect.stringContaining("harbour-sheet-1.tif")]);
     expect(new URL(page.url()).searchParams.get("q")).toBe("harbour");
     await page.getByRole("button", { name: "Clear filters" }).click();
     await expect.poll(() => rows.filter({ hasText: ".tif" }).count(), { timeout: 10_000 }).toBe(2);
@@ -132,14 +160,21 @@ describe("approved work", () => {
       const url = new URL(route.request().url());
       asked.push(url.pathname + url.search);
       if (!url.searchParams.has("again"))
-        await route.fulfill({ status: 503, headers: { "Retry-After": "5" }, contentType: "application/json", body: JSON.stringify({ error: { code: "unavailable", message: "busy" } }) });
+        await route.fulfill({
+          status: 503,
+          headers: { "Retry-After": "5" },
+          contentType: "application/json",
+          body: JSON.stringify({ error: { code: "unavailable", message: "busy" } }),
+        });
       else await route.continue();
     });
     await page.goto(`${stack.url}/work`);
     const grid = page.getByRole("list", { name: "Approved fragments" });
     await expect.poll(() => grid.getByRole("listitem").count(), { timeout: 15_000 }).toBe(4);
     const loaded = () =>
-      grid.locator("img").evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length);
+      grid
+        .locator("img")
+        .evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length);
     await expect.poll(loaded, { timeout: 20_000 }).toBe(4);
     // Each picture was refused once, then asked for again once.
     expect(asked.filter((a) => !a.includes("again=")).length).toBe(4);

@@ -44,7 +44,11 @@ describe("batches in the browser", () => {
     expect(await page.getByLabel("Intake").locator("option").allTextContents()).toContainEqual(expect.stringMatching(/\(1 scan\)$/));
     // Nothing matching: the grid says how approved work gets here, and offers no "select all 0".
     await page.getByLabel("Search").fill("no-such-piece");
-    await expect.poll(() => page.getByText(/No approved fragment matches these filters\. A batch makes copies of approved work/).count(), { timeout: 10_000 }).toBe(1);
+    await expect
+      .poll(() => page.getByText(/No approved fragment matches these filters\. A batch makes copies of approved work/).count(), {
+        timeout: 10_000,
+      })
+      .toBe(1);
     expect(await page.getByRole("button", { name: /^Select all/ }).count()).toBe(0);
     await page.getByLabel("Search").fill("");
     await expect.poll(() => grid.getByRole("checkbox").count(), { timeout: 10_000 }).toBe(2);
@@ -66,9 +70,9 @@ describe("batches in the browser", () => {
     await expect.poll(() => estimate.textContent(), { timeout: 15_000 }).toMatch(/2 fragments × 2 presets = 4 outputs/);
     // Before the run, the review says which print copies will come out soft: the 400 px pieces at
     // 300 DPI are 1.33 in wide, fitted to the 8 × 10 in area they print near 40 DPI.
-    await expect.poll(() => estimate.getByRole("list", { name: "Warnings" }).textContent(), { timeout: 15_000 }).toMatch(
-      /print-letter: 2 of 2 pieces print below 300 DPI and may look soft/,
-    );
+    await expect
+      .poll(() => estimate.getByRole("list", { name: "Warnings" }).textContent(), { timeout: 15_000 })
+      .toMatch(/print-letter: 2 of 2 pieces print below 300 DPI and may look soft/);
     expect(await estimate.getByTestId("expected-size").textContent()).toMatch(/^about [\d.]+ [kKM]?B of new files$/);
     await page.getByLabel("Name").fill("Browser batch");
     await page.getByRole("button", { name: /^Run 4 outputs$/ }).click();
@@ -84,7 +88,9 @@ describe("batches in the browser", () => {
     expect(await page.locator('tr[data-state="done"]').count()).toBe(4);
     // The soft prints are explained with what would help, and where to do it.
     const advice = page.getByTestId("soft-print-advice");
-    expect(await advice.textContent()).toMatch(/give the print preset an exact size nearer the piece's own .* or scan the piece again at a higher resolution\.$/);
+    expect(await advice.textContent()).toMatch(
+      /give the print preset an exact size nearer the piece's own .* or scan the piece again at a higher resolution\.$/,
+    );
     expect(await advice.getByRole("link", { name: "Presets" }).getAttribute("href")).toBe("/presets");
     // Print outputs show a printed size in inches and centimetres.
     const printed = await page.getByTestId("printed-size").allTextContents();
@@ -103,7 +109,13 @@ describe("batches in the browser", () => {
     const pictures = page.getByRole("table", { name: "Outputs" }).locator("img");
     await expect.poll(() => pictures.count()).toBe(4);
     await expect
-      .poll(() => pictures.evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length), { timeout: 15_000 })
+      .poll(
+        () =>
+          pictures.evaluateAll(
+            (imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length,
+          ),
+        { timeout: 15_000 },
+      )
       .toBe(4);
     // A picture opens a larger look at its file; ← and → step through the others, Escape closes
     // it and puts the focus back on the picture.
@@ -113,7 +125,13 @@ describe("batches in the browser", () => {
     await expect.poll(() => look.isVisible()).toBe(true);
     const big = look.locator("img");
     await expect
-      .poll(() => big.evaluate((i) => ((i as HTMLImageElement).complete ? Math.max((i as HTMLImageElement).naturalWidth, (i as HTMLImageElement).naturalHeight) : 0)), { timeout: 15_000 })
+      .poll(
+        () =>
+          big.evaluate((i) =>
+            (i as HTMLImageElement).complete ? Math.max((i as HTMLImageElement).naturalWidth, (i as HTMLImageElement).naturalHeight) : 0,
+          ),
+        { timeout: 15_000 },
+      )
       .toBe(1024);
     const where = async () => Number(/(\d+) of 4/.exec((await look.textContent()) ?? "")?.[1]);
     const n = await where();
@@ -211,9 +229,9 @@ describe("batches in the browser", () => {
     expect(await rerunOf.getByRole("link", { name: "Browser batch", exact: true }).getAttribute("href")).toBe(`/batches/${batchId}`);
     await expect.poll(() => page.getByTestId("batch-state").getAttribute("data-state"), { timeout: 90_000 }).toBe("done");
     // Finished with every output made: it says it did replace, and how many of the old.
-    await expect.poll(() => rerunOf.textContent(), { timeout: 10_000 }).toBe(
-      "A re-run of Browser batch. Every output here was made, so these replaced 2 of its outputs.",
-    );
+    await expect
+      .poll(() => rerunOf.textContent(), { timeout: 10_000 })
+      .toBe("A re-run of Browser batch. Every output here was made, so these replaced 2 of its outputs.");
     expect(await page.getByTestId("batch-done-count").textContent()).toBe("4");
     const againRows = page.getByRole("table", { name: "Outputs" }).locator("tbody tr[data-state]");
     expect(await againRows.count()).toBe(4);
@@ -235,9 +253,16 @@ describe("batches in the browser", () => {
       expect(longEdge(o)).toBe(200);
     }
     // Same fragments, print preset unchanged: the print files are reused, not made again.
-    expect(after.items.filter((o) => o.preset === "print-letter").map((o) => o.fileName).sort()).toEqual([...oldPrintFiles].sort());
+    expect(
+      after.items
+        .filter((o) => o.preset === "print-letter")
+        .map((o) => o.fileName)
+        .sort(),
+    ).toEqual([...oldPrintFiles].sort());
     // Replaced: the old batch no longer holds its old web files (removed once the new ones were made).
-    await expect.poll(async () => (await detail(batchId)).items.filter((o) => o.preset === "web" && o.fileName !== null).length, { timeout: 10_000 }).toBe(0);
+    await expect
+      .poll(async () => (await detail(batchId)).items.filter((o) => o.preset === "web" && o.fileName !== null).length, { timeout: 10_000 })
+      .toBe(0);
 
     // The old batch's page says so: its web rows read "Replaced" (not "Done" with no file), and
     // the download counts only the files the zip still holds: the two print files.
@@ -286,9 +311,9 @@ describe("batches in the browser", () => {
     // Running the new batch again would make nothing: the review says so rather than "about 0 B".
     await page.goto(`${stack.url}/batches/${againId}`);
     await page.getByRole("button", { name: "Run again with…" }).click();
-    await expect.poll(() => page.getByTestId("rerun-estimate").getByTestId("expected-size").textContent(), { timeout: 15_000 }).toBe(
-      "nothing new: every output is made already",
-    );
+    await expect
+      .poll(() => page.getByTestId("rerun-estimate").getByTestId("expected-size").textContent(), { timeout: 15_000 })
+      .toBe("nothing new: every output is made already");
 
     // The web preset's live preview names a web copy's resolution for what it is, not a print's.
     await page.goto(`${stack.url}/presets/${web.id}`);

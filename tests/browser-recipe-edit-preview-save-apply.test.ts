@@ -54,28 +54,23 @@ describe("editing a recipe in the browser", () => {
     await page.getByRole("link", { name: "Recipes" }).click();
     await page.waitForURL("**/recipes");
     const defaultRow = page.getByRole("row", { name: /default/ });
-    await expect
-      .poll(() => defaultRow.textContent(), { timeout: 10_000 })
-      .toContain("Studio default");
+    await expect.poll(() => defaultRow.textContent(), { timeout: 10_000 }).toContain("Studio default");
     await page.getByLabel("Name").fill("Vivid stock");
     await page.getByRole("button", { name: "Create and edit" }).click();
     await page.waitForURL(/\/recipes\/[0-9a-f-]{36}$/);
     const recipeId = page.url().split("/").pop()!;
     await page.evaluate(() => ((window as unknown as { __noReload: boolean }).__noReload = true));
     await expect.poll(() => page.getByTestId("recipe-version").textContent()).toBe("v1");
-    expect(
-      await page
-        .locator("li[data-step]")
-        .evaluateAll((els) => els.map((e) => (e as HTMLElement).dataset.step)),
-    ).toEqual(["whiteBalance", "levels"]);
+    expect(await page.locator("li[data-step]").evaluateAll((els) => els.map((e) => (e as HTMLElement).dataset.step))).toEqual([
+      "whiteBalance",
+      "levels",
+    ]);
 
     // The preview of the first approved fragment arrives with the server's time.
     const before = page.getByRole("img", { name: /^Before: / });
     const after = page.getByRole("img", { name: /^After: / });
     await after.waitFor({ timeout: 20_000 });
-    await expect
-      .poll(() => page.getByTestId("preview-ms").textContent(), { timeout: 20_000 })
-      .toMatch(/^\d+ ms on the server$/);
+    await expect.poll(() => page.getByTestId("preview-ms").textContent(), { timeout: 20_000 }).toMatch(/^\d+ ms on the server$/);
     const firstAfter = await after.getAttribute("src");
     const beforeSrc = await before.getAttribute("src");
     expect(firstAfter).toMatch(/^data:image\/jpeg;base64,/);
@@ -99,21 +94,13 @@ describe("editing a recipe in the browser", () => {
     await page.getByRole("button", { name: /^Step 3 of 3: Saturation/ }).focus();
     await page.keyboard.press("Alt+ArrowUp");
     await expect
-      .poll(() =>
-        page
-          .locator("li[data-step]")
-          .evaluateAll((els) => els.map((e) => (e as HTMLElement).dataset.step)),
-      )
+      .poll(() => page.locator("li[data-step]").evaluateAll((els) => els.map((e) => (e as HTMLElement).dataset.step)))
       .toEqual(["whiteBalance", "saturation", "levels"]);
-    expect(await page.evaluate(() => document.activeElement?.getAttribute("aria-label"))).toMatch(
-      /^Step 2 of 3: Saturation/,
-    );
+    expect(await page.evaluate(() => document.activeElement?.getAttribute("aria-label"))).toMatch(/^Step 2 of 3: Saturation/);
 
     // Saving makes version 2.
     await page.getByRole("button", { name: "Save as v2" }).click();
-    await expect
-      .poll(() => page.getByTestId("save-status").textContent(), { timeout: 10_000 })
-      .toBe("v2 saved");
+    await expect.poll(() => page.getByTestId("save-status").textContent(), { timeout: 10_000 }).toBe("v2 saved");
     await expect.poll(() => page.getByTestId("recipe-version").textContent()).toBe("v2");
     expect(await page.getByTestId("unsaved").count()).toBe(0);
     const saved = (await operator.get(`/api/recipes/${recipeId}`)).body as {
@@ -138,14 +125,10 @@ describe("editing a recipe in the browser", () => {
       .toBe("true");
     expect(await progress.getByTestId("batch-done").textContent()).toBe(String(PIECES));
     expect(await progress.textContent()).toContain(`${PIECES} of ${PIECES} re-rendered`);
-    expect(
-      await progress.getByRole("link", { name: "Follow it on the queue" }).getAttribute("href"),
-    ).toBe("/queue");
+    expect(await progress.getByRole("link", { name: "Follow it on the queue" }).getAttribute("href")).toBe("/queue");
 
     // No reload happened, and every output now records version 2.
-    expect(
-      await page.evaluate(() => (window as unknown as { __noReload?: boolean }).__noReload),
-    ).toBe(true);
+    expect(await page.evaluate(() => (window as unknown as { __noReload?: boolean }).__noReload)).toBe(true);
     const rows = await stack.db.select().from(outputs);
     expect(rows.length).toBe(PIECES * 2);
     expect(rows.every((o) => o.recipeVersionId === saved.recipe.versionId)).toBe(true);

@@ -33,8 +33,7 @@ async function fourPieceScan(): Promise<Buffer> {
     .toBuffer();
 }
 
-const serverFragments = async () =>
-  (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
+const serverFragments = async () => (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
 
 /** The number in the side panel's heading: "Fragment 3 of 4" → 3. */
 async function selectedPosition(page: Page): Promise<number> {
@@ -44,9 +43,7 @@ async function selectedPosition(page: Page): Promise<number> {
 
 /** The status a fragment shows on the scan overlay (the SVG group carries it). */
 const overlayStatus = (page: Page, position: number) =>
-  page
-    .getByRole("img", { name: new RegExp(`^Fragment ${position}: `) })
-    .getAttribute("data-status");
+  page.getByRole("img", { name: new RegExp(`^Fragment ${position}: `) }).getAttribute("data-status");
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
@@ -78,9 +75,7 @@ describe("reviewing a scan in the browser", () => {
 
     // The queue says how many fragments wait, and links to the scan's review.
     await page.goto(`${stack.url}/queue`);
-    await expect
-      .poll(() => page.getByLabel("Fragments to review count").textContent(), { timeout: 10_000 })
-      .toBe("4");
+    await expect.poll(() => page.getByLabel("Fragments to review count").textContent(), { timeout: 10_000 }).toBe("4");
     await page.getByRole("link", { name: `Review ${SCAN_NAME} (4 to review)` }).click();
     await page.waitForURL(`**/scans/${scanId}/review`);
     await page.evaluate(() => ((window as unknown as { __noReload: boolean }).__noReload = true));
@@ -110,17 +105,13 @@ describe("reviewing a scan in the browser", () => {
     await page.keyboard.press("u");
     await expect.poll(() => overlayStatus(page, 2)).toBe("proposed");
     await expect.poll(() => selectedPosition(page)).toBe(2);
-    await expect
-      .poll(() => page.getByTestId("review-status").textContent())
-      .toBe("Undone: Rejected fragment 2");
+    await expect.poll(() => page.getByTestId("review-status").textContent()).toBe("Undone: Rejected fragment 2");
 
     // The server holds the same: the reject and its undo arrived in order.
     await waitFor("the server to have 1 approved and 2 back to review", async () => {
       const list = await serverFragments();
       const byPos = new Map(list.map((f) => [f.position, f.status]));
-      return (
-        byPos.get(1) === "approved" && byPos.get(2) === "proposed" && byPos.get(3) === "proposed"
-      );
+      return byPos.get(1) === "approved" && byPos.get(2) === "proposed" && byPos.get(3) === "proposed";
     });
 
     // Approve all remaining: Shift+A asks first; Enter confirms.
@@ -131,8 +122,7 @@ describe("reviewing a scan in the browser", () => {
     await dialog.waitFor({ state: "hidden" });
     await expect.poll(() => page.getByTestId("count-proposed").textContent()).toMatch(/^0/);
     await expect.poll(() => page.getByTestId("count-approved").textContent()).toMatch(/^4/);
-    for (const position of [1, 2, 3, 4])
-      expect(await overlayStatus(page, position)).toBe("approved");
+    for (const position of [1, 2, 3, 4]) expect(await overlayStatus(page, position)).toBe("approved");
 
     // The masters appear without a reload: each fragment's panel, reached with the keys, shows
     // the render done, the master's size and DPI and a download link.
@@ -149,13 +139,9 @@ describe("reviewing a scan in the browser", () => {
       const size = (await panel.getByTestId("master-size").textContent()) ?? "";
       expect(size).toMatch(/^\d+ × \d+ px · 300 DPI$/);
       const link = panel.getByRole("link", { name: /^Download the master/ });
-      expect(await link.getAttribute("href")).toMatch(
-        /^\/api\/fragments\/[0-9a-f-]+\/outputs\/master$/,
-      );
+      expect(await link.getAttribute("href")).toMatch(/^\/api\/fragments\/[0-9a-f-]+\/outputs\/master$/);
     }
-    expect(
-      await page.evaluate(() => (window as unknown as { __noReload?: boolean }).__noReload),
-    ).toBe(true);
+    expect(await page.evaluate(() => (window as unknown as { __noReload?: boolean }).__noReload)).toBe(true);
 
     // What the screen showed is what the server rendered: four upright 300 DPI masters.
     const list = await serverFragments();
@@ -192,16 +178,12 @@ describe("reviewing a scan in the browser", () => {
     // Drag the right edge handle of fragment 1 outwards by 60 scan pixels, in several moves.
     const { rect, angle } = before;
     const t = (angle * Math.PI) / 180;
-    const edge = [
-      rect.cx + (rect.width / 2) * Math.cos(-t),
-      rect.cy + (rect.width / 2) * Math.sin(-t),
-    ];
+    const edge = [rect.cx + (rect.width / 2) * Math.cos(-t), rect.cy + (rect.width / 2) * Math.sin(-t)];
     const [x0, y0] = await toScreen(edge[0]!, edge[1]!);
     const [x1, y1] = await toScreen(edge[0]! + 60 * Math.cos(-t), edge[1]! + 60 * Math.sin(-t));
     await page.mouse.move(x0, y0);
     await page.mouse.down();
-    for (let i = 1; i <= 6; i++)
-      await page.mouse.move(x0 + ((x1 - x0) * i) / 6, y0 + ((y1 - y0) * i) / 6);
+    for (let i = 1; i <= 6; i++) await page.mouse.move(x0 + ((x1 - x0) * i) / 6, y0 + ((y1 - y0) * i) / 6);
     expect(patches).toEqual([]);
     await page.mouse.up();
     const grown = await waitFor("the wider rectangle on the server", async () => {
@@ -225,12 +207,9 @@ describe("reviewing a scan in the browser", () => {
     const [dx1, dy1] = await toScreen(1400, 900);
     await page.mouse.move(dx0, dy0);
     await page.mouse.down();
-    for (let i = 1; i <= 6; i++)
-      await page.mouse.move(dx0 + ((dx1 - dx0) * i) / 6, dy0 + ((dy1 - dy0) * i) / 6);
+    for (let i = 1; i <= 6; i++) await page.mouse.move(dx0 + ((dx1 - dx0) * i) / 6, dy0 + ((dy1 - dy0) * i) / 6);
     await page.mouse.up();
-    const drawn = await waitFor("the drawn fragment", async () =>
-      (await serverFragments()).find((f) => f.origin === "drawn"),
-    );
+    const drawn = await waitFor("the drawn fragment", async () => (await serverFragments()).find((f) => f.origin === "drawn"));
     expect(drawn.status).toBe("proposed");
     expect(Math.abs(drawn.rect.width - 250)).toBeLessThan(6);
     await expect.poll(() => selectedPosition(page)).toBe(drawn.position);
@@ -255,9 +234,7 @@ describe("reviewing a scan in the browser", () => {
     await page.waitForURL("**/fragments/**");
     await page.getByRole("link", { name: /^Download the master/ }).waitFor();
     expect(await page.getByRole("link", { name: /^Download the web copy/ }).count()).toBe(1);
-    expect(
-      await page.getByRole("button", { name: /Save description|Approve|Reject|Reset/ }).count(),
-    ).toBe(0);
+    expect(await page.getByRole("button", { name: /Save description|Approve|Reject|Reset/ }).count()).toBe(0);
     expect(await page.getByRole("link", { name: /^Review / }).count()).toBe(0);
 
     // The scans list has no review links for a viewer, and the review screen itself is refused.
@@ -265,9 +242,7 @@ describe("reviewing a scan in the browser", () => {
     await page.getByRole("link", { name: SCAN_NAME, exact: true }).waitFor();
     expect(await page.getByRole("link", { name: /^Review / }).count()).toBe(0);
     await page.goto(`${stack.url}/scans/${scanId}/review`);
-    await expect
-      .poll(() => page.getByText(/not allowed/i).count(), { timeout: 10_000 })
-      .toBeGreaterThan(0);
+    await expect.poll(() => page.getByText(/not allowed/i).count(), { timeout: 10_000 }).toBeGreaterThan(0);
     expect(await page.locator("svg g[data-fragment]").count()).toBe(0);
     await page.close();
   });

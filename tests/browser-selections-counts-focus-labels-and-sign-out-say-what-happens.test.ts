@@ -43,8 +43,7 @@ async function shot(page: Page, name: string) {
   if (dir) await page.screenshot({ path: path.join(dir, name) });
 }
 
-const operatorSignIn = (page: Page) =>
-  signIn(page, stack.url, "operator@test.example", "operator-password-123");
+const operatorSignIn = (page: Page) => signIn(page, stack.url, "operator@test.example", "operator-password-123");
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false });
@@ -67,11 +66,7 @@ beforeAll(async () => {
     2,
   );
   // One large piece, and room to its right where small pieces are drawn close together.
-  scanIds.c = await upload(
-    "crowded.tif",
-    await scanOf(2400, 1600, [[120, 120, 900, 1300, "#16a085"]]),
-    1,
-  );
+  scanIds.c = await upload("crowded.tif", await scanOf(2400, 1600, [[120, 120, 900, 1300, "#16a085"]]), 1);
   for (const id of [scanIds.a, scanIds.b]) await approveRemaining(operator, id);
   browser = await openBrowser();
 }, 180_000);
@@ -98,9 +93,7 @@ describe("the screen says what happens", () => {
     );
     await page.getByRole("checkbox", { name: "Preset web" }).check();
     const estimate = page.getByTestId("batch-estimate");
-    await expect
-      .poll(() => estimate.textContent(), { timeout: 15_000 })
-      .toMatch(/3 fragments × 1 preset = 3 outputs/);
+    await expect.poll(() => estimate.textContent(), { timeout: 15_000 }).toMatch(/3 fragments × 1 preset = 3 outputs/);
 
     // Widening the filters shows five, but the selection stays the three taken.
     await page.getByLabel("Scan", { exact: true }).selectOption({ label: "All scans" });
@@ -113,13 +106,9 @@ describe("the screen says what happens", () => {
     // Narrowing to the other scan shows none of them, and says the three are still in.
     await page.getByLabel("Scan", { exact: true }).selectOption({ label: "pieces-b.tif" });
     await expect.poll(() => grid.getByRole("checkbox").count(), { timeout: 10_000 }).toBe(2);
-    await expect
-      .poll(() => count.textContent())
-      .toBe("3 selected · 3 of them not shown by these filters");
+    await expect.poll(() => count.textContent()).toBe("3 selected · 3 of them not shown by these filters");
     expect(await grid.getByRole("checkbox", { checked: true }).count()).toBe(0);
-    await expect
-      .poll(() => estimate.textContent(), { timeout: 15_000 })
-      .toMatch(/3 fragments × 1 preset = 3 outputs/);
+    await expect.poll(() => estimate.textContent(), { timeout: 15_000 }).toMatch(/3 fragments × 1 preset = 3 outputs/);
     const run = page.getByRole("button", { name: /^Run 3 outputs$/ });
     await expect.poll(() => run.count(), { timeout: 10_000 }).toBe(1);
     await shot(page, "batch-selection-1440.png");
@@ -135,11 +124,7 @@ describe("the screen says what happens", () => {
       items: Array<{ scanName: string }>;
     };
     // What ran is what was taken: the three pieces of pieces-a.tif, none of the shown pieces-b.tif.
-    expect(detail.items.map((i) => i.scanName)).toEqual([
-      "pieces-a.tif",
-      "pieces-a.tif",
-      "pieces-a.tif",
-    ]);
+    expect(detail.items.map((i) => i.scanName)).toEqual(["pieces-a.tif", "pieces-a.tif", "pieces-a.tif"]);
 
     // "Drop the … not shown" keeps only the shown ones.
     await page.goto(`${stack.url}/batches/new`);
@@ -152,9 +137,7 @@ describe("the screen says what happens", () => {
     await page.getByRole("button", { name: "Add the 2 matching" }).click();
     await expect.poll(() => count.textContent()).toBe("All 5 matching these filters selected");
     await page.getByLabel("Scan", { exact: true }).selectOption({ label: "pieces-b.tif" });
-    await expect
-      .poll(() => count.textContent(), { timeout: 10_000 })
-      .toBe("5 selected · 3 of them not shown by these filters");
+    await expect.poll(() => count.textContent(), { timeout: 10_000 }).toBe("5 selected · 3 of them not shown by these filters");
     await page.getByRole("button", { name: "Drop the 3 not shown" }).click();
     await expect.poll(() => count.textContent()).toBe("All 2 matching these filters selected");
     await page.close();
@@ -165,8 +148,7 @@ describe("the screen says what happens", () => {
     await operatorSignIn(page);
     await page.goto(`${stack.url}/scans/${scanIds.a}`);
     const opener = page.getByRole("button", { name: "Set the resolution…" });
-    const focusedText = () =>
-      page.evaluate(() => document.activeElement?.textContent?.trim() ?? "");
+    const focusedText = () => page.evaluate(() => document.activeElement?.textContent?.trim() ?? "");
     const form = page.getByRole("form", { name: "Set the resolution" });
 
     await opener.click();
@@ -182,25 +164,19 @@ describe("the screen says what happens", () => {
 
     // Beside Save: how many approved pieces render again. Save asks before anything changes.
     await opener.click();
-    expect(await form.getByTestId("renders-again").textContent()).toBe(
-      "3 approved pieces render again; you are asked first.",
-    );
+    expect(await form.getByTestId("renders-again").textContent()).toBe("3 approved pieces render again; you are asked first.");
     await form.getByLabel("The scanner was set to").fill("600");
     await form.scrollIntoViewIfNeeded();
     await shot(page, "set-resolution-form-1440.png");
     await form.getByRole("button", { name: "Set resolution" }).click();
     const ask = page.getByTestId("set-resolution-confirm");
-    await expect
-      .poll(() => ask.textContent())
-      .toMatch(/^Set 600 DPI\? Piece sizes follow it, and 3 approved pieces render again/);
+    await expect.poll(() => ask.textContent()).toMatch(/^Set 600 DPI\? Piece sizes follow it, and 3 approved pieces render again/);
     await shot(page, "set-resolution-ask-1440.png");
     await page.setViewportSize({ width: 1024, height: 768 });
     await ask.scrollIntoViewIfNeeded();
     await shot(page, "set-resolution-ask-1024.png");
     await page.setViewportSize({ width: 1440, height: 900 });
-    const dpi = async () =>
-      (await stack.database.pool.query("select dpi_x from scans where id = $1", [scanIds.a]))
-        .rows[0].dpi_x;
+    const dpi = async () => (await stack.database.pool.query("select dpi_x from scans where id = $1", [scanIds.a])).rows[0].dpi_x;
     expect(await dpi()).toBe(300);
     // Esc steps back to the figure, still unsaved.
     await page.keyboard.press("Escape");
@@ -222,13 +198,10 @@ describe("the screen says what happens", () => {
       [1400, 380],
       [1480, 380],
     ]) {
-      const res = await operator
-        .post(`/api/scans/${scanIds.c}/fragments`)
-        .send({ rect: { cx, cy, width: 60, height: 60 }, angle: 0 });
+      const res = await operator.post(`/api/scans/${scanIds.c}/fragments`).send({ rect: { cx, cy, width: 60, height: 60 }, angle: 0 });
       expect(res.status).toBe(201);
     }
-    const list = (await operator.get(`/api/scans/${scanIds.c}/fragments`)).body
-      .fragments as Fragment[];
+    const list = (await operator.get(`/api/scans/${scanIds.c}/fragments`)).body.fragments as Fragment[];
     expect(list).toHaveLength(5);
 
     const page = await signedOutPage(browser.context, stack.url);
@@ -242,18 +215,13 @@ describe("the screen says what happens", () => {
       // Each fragment's label: the plate (a rect) in the fragment's group that takes no presses.
       const labels = page.locator('g[data-fragment] > g[pointer-events="none"] > rect');
       await expect.poll(() => labels.count(), { timeout: 15_000 }).toBe(5);
-      const boxes = await Promise.all(
-        (await labels.all()).map(async (l) => (await l.boundingBox())!),
-      );
+      const boxes = await Promise.all((await labels.all()).map(async (l) => (await l.boundingBox())!));
       for (let i = 0; i < boxes.length; i++) {
         for (let j = i + 1; j < boxes.length; j++) {
           const a = boxes[i]!;
           const b = boxes[j]!;
           const apart =
-            a.x + a.width <= b.x + 0.5 ||
-            b.x + b.width <= a.x + 0.5 ||
-            a.y + a.height <= b.y + 0.5 ||
-            b.y + b.height <= a.y + 0.5;
+            a.x + a.width <= b.x + 0.5 || b.x + b.width <= a.x + 0.5 || a.y + a.height <= b.y + 0.5 || b.y + b.height <= a.y + 0.5;
           expect(apart, `labels ${i + 1} and ${j + 1} overlap at ${width} px`).toBe(true);
         }
       }
@@ -278,11 +246,8 @@ describe("the screen says what happens", () => {
       "not-a-picture.jpg": Buffer.from("These are notes, not a scan.\n"),
       "notes.txt": Buffer.from("plain text\n"),
     };
-    for (const [name, bytes] of Object.entries(files))
-      await fs.writeFile(path.join(dir, name), bytes);
-    await page
-      .getByLabel("Choose scans to upload")
-      .setInputFiles(Object.keys(files).map((n) => path.join(dir, n)));
+    for (const [name, bytes] of Object.entries(files)) await fs.writeFile(path.join(dir, name), bytes);
+    await page.getByLabel("Choose scans to upload").setInputFiles(Object.keys(files).map((n) => path.join(dir, n)));
     const summary = page.getByTestId("upload-summary");
     await expect.poll(() => summary.textContent(), { timeout: 30_000 }).toBe("1 added · 3 refused");
     const refusals = page.getByTestId("refusal");

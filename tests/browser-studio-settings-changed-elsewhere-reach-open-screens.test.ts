@@ -54,10 +54,12 @@ describe("studio settings changed elsewhere", () => {
     // Saving here after adopting it keeps both changes.
     await page.getByLabel("Creator").fill("Teodor Vasko");
     await page.getByRole("button", { name: "Save settings" }).click();
-    await expect.poll(async () => (await stack.database.pool.query("select creator, copyright from studio")).rows[0]).toEqual({
-      creator: "Teodor Vasko",
-      copyright: "© 2026 North Room Press",
-    });
+    await expect
+      .poll(async () => (await stack.database.pool.query("select creator, copyright from studio")).rows[0])
+      .toEqual({
+        creator: "Teodor Vasko",
+        copyright: "© 2026 North Room Press",
+      });
     // This form's own save raises no "changed elsewhere".
     await page.waitForTimeout(500);
     expect(await notice.count()).toBe(0);

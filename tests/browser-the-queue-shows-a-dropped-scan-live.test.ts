@@ -45,8 +45,10 @@ describe("in the browser", () => {
     // 72 DPI is what many programs write when they know no resolution (common practice says a
     // flatbed scan of artwork is 300 DPI or more); the file states it, so it is not "assumed".
     const operator = await userAgent(stack, "operator", "operator@test.example");
-    const low = (await operator.post("/api/scans/upload").attach("files", await paperScan({ dpi: 72, seed: 7 }), "screen-default.tif")).body.results[0].scanId;
-    const fine = (await operator.post("/api/scans/upload").attach("files", await paperScan({ dpi: 300, seed: 8 }), "scanner-300.tif")).body.results[0].scanId;
+    const low = (await operator.post("/api/scans/upload").attach("files", await paperScan({ dpi: 72, seed: 7 }), "screen-default.tif")).body
+      .results[0].scanId;
+    const fine = (await operator.post("/api/scans/upload").attach("files", await paperScan({ dpi: 300, seed: 8 }), "scanner-300.tif")).body
+      .results[0].scanId;
     for (const id of [low, fine])
       await expect.poll(async () => (await operator.get(`/api/scans/${id}`)).body.scan.status, { timeout: 20_000 }).toBe("ready");
     expect((await operator.get(`/api/scans/${low}`)).body.scan.dpi).toMatchObject({ x: 72, y: 72, source: "embedded" });
@@ -58,7 +60,12 @@ describe("in the browser", () => {
     expect(await row("scanner-300.tif").getByTestId("low-dpi").count()).toBe(0);
     await page.goto(`${stack.url}/scans/${low}`);
     // Said beside the resolution's source (the tag's tooltip says it too).
-    await expect.poll(() => page.locator(".text-ochre", { hasText: /it is low for a scan: programs that know no resolution often write 72 DPI/ }).count(), { timeout: 10_000 }).toBe(1);
+    await expect
+      .poll(
+        () => page.locator(".text-ochre", { hasText: /it is low for a scan: programs that know no resolution often write 72 DPI/ }).count(),
+        { timeout: 10_000 },
+      )
+      .toBe(1);
     await page.close();
   });
 

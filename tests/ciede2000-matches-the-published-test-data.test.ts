@@ -66,7 +66,7 @@ describe("CIEDE2000 matches the published test data", () => {
 
   it("agrees with culori's implementation to 1e-9 on 2000 random pairs, near-neutral ones included", () => {
     let seed = 12345;
-    const rnd = () => ((seed = (seed * 1103515245 + 12345) >>> 0) / 4294967296);
+    const rnd = () => (seed = (seed * 1103515245 + 12345) >>> 0) / 4294967296;
     for (let i = 0; i < 2000; i++) {
       const spread = i % 4 === 0 ? 3 : 120; // a quarter near the grey axis, where hue handling matters
       const p = [rnd() * 100, (rnd() - 0.5) * spread, (rnd() - 0.5) * spread] as const;

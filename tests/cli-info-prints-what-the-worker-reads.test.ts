@@ -99,11 +99,8 @@ describe("platen info (for people)", () => {
     expect(run.code).toBe(0);
     const lines = run.stdout.trimEnd().split("\n");
     const valueColumn = lines[0]!.search(/\S+$/);
-    for (const line of lines)
-      expect(line.slice(0, valueColumn).trimEnd().length).toBeLessThan(valueColumn);
-    const byLabel = Object.fromEntries(
-      lines.map((l) => [l.slice(0, valueColumn).trim(), l.slice(valueColumn)]),
-    );
+    for (const line of lines) expect(line.slice(0, valueColumn).trimEnd().length).toBeLessThan(valueColumn);
+    const byLabel = Object.fromEntries(lines.map((l) => [l.slice(0, valueColumn).trim(), l.slice(valueColumn)]));
     expect(byLabel).toMatchObject({
       file: letterTiff,
       format: "TIFF",
@@ -120,9 +117,7 @@ describe("platen info (for people)", () => {
 
   it("says when the DPI is assumed", async () => {
     const run = await platen(["info", plainPng]);
-    expect(run.stdout).toMatch(
-      /^resolution +240 DPI, assumed: the file records none \(studio default, PLATEN_DEFAULT_DPI\)$/m,
-    );
+    expect(run.stdout).toMatch(/^resolution +240 DPI, assumed: the file records none \(studio default, PLATEN_DEFAULT_DPI\)$/m);
     expect(run.stdout).toMatch(/^channels +4 \(with alpha\)$/m);
   });
 
@@ -206,19 +201,10 @@ describe("bad input: exit 1, one line on stderr, nothing on stdout", () => {
 describe("wrong command lines: exit 2, one line on stderr", () => {
   it.each([
     [[], "platen: expected a command. Run platen --help to see the commands."],
-    [
-      ["scan-all"],
-      'platen: unknown command "scan-all" (the commands are: info, split, render). Run platen --help to see them.',
-    ],
+    [["scan-all"], 'platen: unknown command "scan-all" (the commands are: info, split, render). Run platen --help to see them.'],
     [["info"], "platen info: expected the path of a scan file. Usage: platen info <file> [--json]"],
-    [
-      ["info", "a.tif", "b.tif"],
-      "platen info: expected one scan file but received 2 (a.tif, b.tif). Usage: platen info <file> [--json]",
-    ],
-    [
-      ["info", "--colour", "a.tif"],
-      "platen info: unknown option --colour. Usage: platen info <file> [--json]",
-    ],
+    [["info", "a.tif", "b.tif"], "platen info: expected one scan file but received 2 (a.tif, b.tif). Usage: platen info <file> [--json]"],
+    [["info", "--colour", "a.tif"], "platen info: unknown option --colour. Usage: platen info <file> [--json]"],
   ])("platen %j", async (args, message) => {
     const run = await platen(args);
     expect(run.code).toBe(2);

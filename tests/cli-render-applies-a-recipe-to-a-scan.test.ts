@@ -96,7 +96,10 @@ describe("platen render applies a recipe to a scan", () => {
 
   it("keeps 16 bits in a 16-bit TIFF", async () => {
     const file16 = path.join(tmp.dir, "scan16.tif");
-    await sharp(scan).toColourspace("rgb16").tiff({ compression: "deflate", xres: 200 / 25.4, yres: 200 / 25.4 }).toFile(file16);
+    await sharp(scan)
+      .toColourspace("rgb16")
+      .tiff({ compression: "deflate", xres: 200 / 25.4, yres: 200 / 25.4 })
+      .toFile(file16);
     const run = await platen(["render", file16, "--recipe", "default", "--out", out("16.tif")]);
     expect(run.code).toBe(0);
     expect(run.stdout).toMatch(/16-bit RGB/);
@@ -113,9 +116,17 @@ describe("platen render applies a recipe to a scan", () => {
   });
 
   it.each([
-    [["render", "SCAN", "--recipe", "warm", "--out", "OUT"], 1, 'platen render: No recipe is called "warm" (known: default); a recipe file\'s path ends in .json'],
+    [
+      ["render", "SCAN", "--recipe", "warm", "--out", "OUT"],
+      1,
+      'platen render: No recipe is called "warm" (known: default); a recipe file\'s path ends in .json',
+    ],
     [["render", "SCAN", "--recipe", "missing.json", "--out", "OUT"], 1, 'platen render: There is no recipe file "missing.json"'],
-    [["render", "SCAN", "--out", "OUT.bmp"], 2, "platen render: expected --out to end in .tif, .tiff, .png, .jpg, .jpeg, .webp but received"],
+    [
+      ["render", "SCAN", "--out", "OUT.bmp"],
+      2,
+      "platen render: expected --out to end in .tif, .tiff, .png, .jpg, .jpeg, .webp but received",
+    ],
     [["render", "SCAN"], 2, "platen render: expected --out <path> for the corrected image. Usage: platen render"],
     [["render", "--out", "OUT"], 2, "platen render: expected the path of an image or scan file. Usage:"],
     [["render", "SCAN", "--out", "SCAN"], 2, "platen render: expected --out to be a new file: the original is never overwritten"],
@@ -134,7 +145,9 @@ describe("platen render applies a recipe to a scan", () => {
     const run = await platen(["render", scan, "--recipe", bad, "--out", out("bad.tif")]);
     expect(run.code).toBe(1);
     expectOneLine(run.stderr);
-    expect(run.stderr).toBe(`platen render: The recipe file "${bad}" is not a valid recipe: step 2 (levels): Expected gamma between 0.1 and 10 but received 12\n`);
+    expect(run.stderr).toBe(
+      `platen render: The recipe file "${bad}" is not a valid recipe: step 2 (levels): Expected gamma between 0.1 and 10 but received 12\n`,
+    );
     fs.writeFileSync(bad, "{ not json");
     const broken = await platen(["render", scan, "--recipe", bad, "--out", out("bad.tif")]);
     expect(broken.code).toBe(1);
@@ -145,11 +158,15 @@ describe("platen render applies a recipe to a scan", () => {
     const full = path.join(tmp.dir, "no-bed.png");
     const data = new Uint8Array(400 * 300 * 3);
     for (let i = 0; i < data.length; i += 3) data.set([(i / 3) % 400 < 200 ? 180 : 60, 90, ((i / 3) % 97) + 40], i);
-    await sharp(data, { raw: { width: 400, height: 300, channels: 3 } }).png().toFile(full);
+    await sharp(data, { raw: { width: 400, height: 300, channels: 3 } })
+      .png()
+      .toFile(full);
     const run = await platen(["render", full, "--recipe", "default", "--out", out("nobed.tif")]);
     expect(run.code).toBe(1);
     expectOneLine(run.stderr);
-    expect(run.stderr).toMatch(/No scanner background shows around the edges of .*no-bed\.png, and the recipe "default" balances white from it/);
+    expect(run.stderr).toMatch(
+      /No scanner background shows around the edges of .*no-bed\.png, and the recipe "default" balances white from it/,
+    );
   });
 
   it("reports a broken image file in one line", async () => {

@@ -20,14 +20,9 @@ afterAll(() => tmp.cleanup());
 
 function platen(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
   return new Promise((resolve) => {
-    execFile(
-      process.execPath,
-      [CLI, ...args],
-      { cwd: ROOT, env: { ...process.env, ...ENV }, timeout: 60_000 },
-      (err, stdout, stderr) => {
-        resolve({ code: err ? (typeof err.code === "number" ? err.code : -1) : 0, stdout, stderr });
-      },
-    );
+    execFile(process.execPath, [CLI, ...args], { cwd: ROOT, env: { ...process.env, ...ENV }, timeout: 60_000 }, (err, stdout, stderr) => {
+      resolve({ code: err ? (typeof err.code === "number" ? err.code : -1) : 0, stdout, stderr });
+    });
   });
 }
 
@@ -53,14 +48,7 @@ describe("platen split", () => {
     expect(run.stderr).toBe("");
     expect(run.code).toBe(0);
     const out = JSON.parse(run.stdout);
-    expect(Object.keys(out).sort()).toEqual([
-      "background",
-      "dpi",
-      "file",
-      "fragments",
-      "height",
-      "width",
-    ]);
+    expect(Object.keys(out).sort()).toEqual(["background", "dpi", "file", "fragments", "height", "width"]);
     expect(out.file).toBe(withDpi);
     expect(Object.keys(out.dpi).sort()).toEqual(["source", "x", "y"]);
     expect(out.dpi.source).toBe("embedded");
@@ -78,12 +66,8 @@ describe("platen split", () => {
     }
     const direct = await splitScan(withDpi);
     expect(out.width).toBe(direct.width);
-    expect(out.fragments.map((f: { box: unknown }) => f.box)).toEqual(
-      direct.fragments.map((f) => f.box),
-    );
-    expect(out.fragments.map((f: { angle: number }) => f.angle)).toEqual(
-      direct.fragments.map((f) => f.angle),
-    );
+    expect(out.fragments.map((f: { box: unknown }) => f.box)).toEqual(direct.fragments.map((f) => f.box));
+    expect(out.fragments.map((f: { angle: number }) => f.angle)).toEqual(direct.fragments.map((f) => f.angle));
   });
 
   it("uses --dpi for a file without a resolution, and the studio default without it", async () => {
@@ -121,9 +105,7 @@ describe("platen split", () => {
     const wrong = await platen(["split", withDpi, "--sensitivity", "high"]);
     expect(wrong.code).toBe(2);
     expectOneLine(wrong.stderr);
-    expect(wrong.stderr).toContain(
-      'expected --sensitivity to be a number from 0 to 1 but received "high"',
-    );
+    expect(wrong.stderr).toContain('expected --sensitivity to be a number from 0 to 1 but received "high"');
 
     const zero = await platen(["split", withDpi, "--dpi", "0"]);
     expect(zero.code).toBe(2);

@@ -10,15 +10,7 @@ import sharp from "sharp";
 import { afterAll, describe, expect, it } from "vitest";
 import { renderFragment } from "../worker/pipeline/render";
 import { rasteriseMask } from "../worker/pipeline/render/mask";
-import {
-  drawScan,
-  geometryOf,
-  readIfd0,
-  signedDistance,
-  type PieceSpec,
-  type Point,
-  type RGB,
-} from "./helpers/fragment-scans";
+import { drawScan, geometryOf, readIfd0, signedDistance, type PieceSpec, type Point, type RGB } from "./helpers/fragment-scans";
 import { makeTempDir } from "./helpers/scan-bytes";
 
 const tmp = makeTempDir("platen-cutout-");
@@ -39,11 +31,7 @@ const PAPER: RGB = [150, 30, 60];
  * A torn-paper outline: a wobbly ellipse of `points` vertices, moved so its bounding box is
  * centred on the origin; the box is the piece's upright rectangle.
  */
-function tornOutline(
-  rx: number,
-  ry: number,
-  points = 48,
-): { polygon: Point[]; width: number; height: number } {
+function tornOutline(rx: number, ry: number, points = 48): { polygon: Point[]; width: number; height: number } {
   const raw: Point[] = [];
   for (let k = 0; k < points; k++) {
     const phi = (2 * Math.PI * k) / points;
@@ -52,12 +40,7 @@ function tornOutline(
   }
   const xs = raw.map((p) => p[0]);
   const ys = raw.map((p) => p[1]);
-  const [minX, maxX, minY, maxY] = [
-    Math.min(...xs),
-    Math.max(...xs),
-    Math.min(...ys),
-    Math.max(...ys),
-  ];
+  const [minX, maxX, minY, maxY] = [Math.min(...xs), Math.max(...xs), Math.min(...ys), Math.max(...ys)];
   const mx = (minX + maxX) / 2;
   const my = (minY + maxY) / 2;
   return {
@@ -72,14 +55,7 @@ function cutoutPiece(cx: number, cy: number, angle: number, rx: number, ry: numb
   return { cx, cy, angle, width, height, colour: PAPER, polygon };
 }
 
-async function writeScan(
-  name: string,
-  width: number,
-  height: number,
-  piece: PieceSpec,
-  depth: 8 | 16,
-  supersample = 4,
-) {
+async function writeScan(name: string, width: number, height: number, piece: PieceSpec, depth: 8 | 16, supersample = 4) {
   const file = path.join(tmp.dir, name);
   const px = drawScan(width, height, BACKING, [piece], { depth, supersample });
   let s = sharp(px, { raw: { width, height, channels: 3 } });
@@ -146,10 +122,7 @@ function measure(
       }
       if (d < -3) {
         for (let c = 0; c < 3; c++) {
-          r.colourError = Math.max(
-            r.colourError,
-            Math.abs((img.px[at + c]! * 255) / max - PAPER[c]!),
-          );
+          r.colourError = Math.max(r.colourError, Math.abs((img.px[at + c]! * 255) / max - PAPER[c]!));
         }
       }
     }
@@ -165,10 +138,7 @@ describe("renderFragment: cut-outs", () => {
   it("gives the master an alpha that covers the piece and nothing of the background beyond the feather", async () => {
     const piece = cutoutPiece(350.4, 300.7, 10, 220, 150);
     const source = await writeScan("torn-8.tif", 700, 600, piece, 8);
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "cutout"), dpi: { x: 600, y: 600 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "cutout"), dpi: { x: 600, y: 600 }, maxPixels }, targets());
     expect(r.master).toMatchObject({
       width: Math.round(piece.width),
       height: Math.round(piece.height),
@@ -193,10 +163,7 @@ describe("renderFragment: cut-outs", () => {
   it("keeps a 16-bit scan's cut-out 16-bit, alpha included", async () => {
     const piece = cutoutPiece(300.2, 260.9, -14, 180, 130);
     const source = await writeScan("torn-16.tif", 600, 520, piece, 16);
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "cutout"), dpi: { x: 600, y: 600 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "cutout"), dpi: { x: 600, y: 600 }, maxPixels }, targets());
     expect(r.master).toMatchObject({ bitDepth: 16, channels: 4, hasAlpha: true });
     expect((await sharp(r.master.path).metadata()).depth).toBe("ushort");
     expect(readIfd0(fs.readFileSync(r.master.path)).get(258)!.values).toEqual([16, 16, 16, 16]);
@@ -215,10 +182,7 @@ describe("renderFragment: cut-outs", () => {
     // About 2200 px wide at 600 DPI: the copy is reduced to 2048 px on its long edge.
     const piece = cutoutPiece(1250.5, 850.5, 6, 1100, 700);
     const source = await writeScan("torn-large.tif", 2500, 1700, piece, 8, 1);
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "cutout"), dpi: { x: 600, y: 600 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "cutout"), dpi: { x: 600, y: 600 }, maxPixels }, targets());
     expect(r.web.format).toBe("webp");
     expect(Math.max(r.web.width, r.web.height)).toBe(2048);
     const meta = await sharp(r.web.path).metadata();
@@ -239,10 +203,7 @@ describe("renderFragment: cut-outs", () => {
   it("composites a JPEG web copy on white, not on the scanner's backing", async () => {
     const piece = cutoutPiece(350.4, 300.7, -9, 220, 150);
     const source = await writeScan("torn-jpeg.tif", 700, 600, piece, 8);
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "cutout"), dpi: { x: 600, y: 600 }, maxPixels },
-      targets("jpg"),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "cutout"), dpi: { x: 600, y: 600 }, maxPixels }, targets("jpg"));
     expect(r.web.format).toBe("jpeg");
     const meta = await sharp(r.web.path).metadata();
     expect(meta).toMatchObject({ format: "jpeg", channels: 3, hasAlpha: false });
@@ -251,18 +212,12 @@ describe("renderFragment: cut-outs", () => {
     let insideError = 0;
     for (let j = 0; j < info.height; j++) {
       for (let i = 0; i < info.width; i++) {
-        const d = signedDistance(
-          [i + 0.5 - info.width / 2, j + 0.5 - info.height / 2],
-          piece.polygon!,
-        );
+        const d = signedDistance([i + 0.5 - info.width / 2, j + 0.5 - info.height / 2], piece.polygon!);
         const at = (j * info.width + i) * 3;
-        if (d > FEATHER_600 / 2 + 2)
-          darkestOutside = Math.min(darkestOutside, data[at]!, data[at + 1]!, data[at + 2]!);
+        if (d > FEATHER_600 / 2 + 2) darkestOutside = Math.min(darkestOutside, data[at]!, data[at + 1]!, data[at + 2]!);
         // Beyond any 8 × 8 JPEG block that holds part of the edge (its diagonal, 11.3 px), where
         // the edge's ringing cannot reach.
-        if (d < -12)
-          for (let c = 0; c < 3; c++)
-            insideError = Math.max(insideError, Math.abs(data[at + c]! - PAPER[c]!));
+        if (d < -12) for (let c = 0; c < 3; c++) insideError = Math.max(insideError, Math.abs(data[at + c]! - PAPER[c]!));
       }
     }
     // White, not the grey backing (120), give or take JPEG's ringing beside the strong edge.
@@ -296,9 +251,7 @@ describe("rasteriseMask", () => {
       { featherPx: 1, depth: 8 },
     );
     const row = 25 * 100;
-    expect([mask[row + 9], mask[row + 10], mask[row + 11], mask[row + 50], mask[row + 95]]).toEqual(
-      [0, 191, 255, 255, 0],
-    );
+    expect([mask[row + 9], mask[row + 10], mask[row + 11], mask[row + 50], mask[row + 95]]).toEqual([0, 191, 255, 255, 0]);
   });
 
   it("adds up to the polygon's area (shoelace formula), anti-aliased or feathered", () => {
@@ -311,9 +264,7 @@ describe("rasteriseMask", () => {
       const mask = rasteriseMask(turned, 200, 160, { featherPx, depth: 16 });
       let sum = 0;
       for (const v of mask) sum += v / 65535;
-      expect(Math.abs(sum - area(turned)) / area(turned), `feather ${featherPx}`).toBeLessThan(
-        0.003,
-      );
+      expect(Math.abs(sum - area(turned)) / area(turned), `feather ${featherPx}`).toBeLessThan(0.003);
     }
   });
 
@@ -323,9 +274,7 @@ describe("rasteriseMask", () => {
       [4, 0],
       [4, 4],
     ];
-    expect(() => rasteriseMask(square, 4, 4, { featherPx: 0.5, depth: 8 })).toThrow(
-      "Expected a feather of at least 1 px but received 0.5",
-    );
+    expect(() => rasteriseMask(square, 4, 4, { featherPx: 0.5, depth: 8 })).toThrow("Expected a feather of at least 1 px but received 0.5");
     expect(() => rasteriseMask(square, 0, 4, { featherPx: 1, depth: 8 })).toThrow(
       "Expected a positive integer mask size but received 0 × 4",
     );

@@ -107,7 +107,8 @@ describe("descreen removes the halftone screen and keeps edges", () => {
     // a black-to-white step (text, a cut edge) on an otherwise plain patch
     const size = 96;
     const data = new Uint8Array(size * size * 3);
-    for (let y = 0; y < size; y++) for (let x = 0; x < size; x++) data.fill(x < size / 2 ? INK : PAPER, (y * size + x) * 3, (y * size + x) * 3 + 3);
+    for (let y = 0; y < size; y++)
+      for (let x = 0; x < size; x++) data.fill(x < size / 2 ? INK : PAPER, (y * size + x) * 3, (y * size + x) * 3 + 3);
     const out = await descreen({ data, width: size, height: size, channels: 3, bitDepth: 8 }, lpi, dpi);
     const row = Array.from({ length: size }, (_, x) => out.data[((size / 2) * size + x) * 3]!);
     const cross = (level: number) => {

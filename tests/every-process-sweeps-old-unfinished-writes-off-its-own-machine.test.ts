@@ -91,7 +91,10 @@ function start(name: string, script: string, env: Record<string, string>): Machi
 }
 
 /** The sweep's log lines of a process: one each time it removed something. */
-const sweepLines = (m: Machine) => m.lines.filter((l) => typeof l.msg === "string" && /unfinished writes? a stopped process left on this machine$/.test(l.msg) && l.level === 30);
+const sweepLines = (m: Machine) =>
+  m.lines.filter(
+    (l) => typeof l.msg === "string" && /unfinished writes? a stopped process left on this machine$/.test(l.msg) && l.level === 30,
+  );
 
 /** Waits for the `n`-th sweep line of a process (and fails early if the process dies). */
 function waitForSweep(m: Machine, n = 1) {
@@ -164,11 +167,19 @@ describe("with the library on S3, on worker and watcher machines", () => {
     };
     await leave(old.upload, 100, OLD());
     await leave(old.fetch, 50, OLD());
-    const young = [upload(storage.scratchDir), path.join(storage.cache.tmpDir, randomName("fetch")), path.join(storage.scratchDir, `.${randomName("stage")}.tmp`)];
+    const young = [
+      upload(storage.scratchDir),
+      path.join(storage.cache.tmpDir, randomName("fetch")),
+      path.join(storage.scratchDir, `.${randomName("stage")}.tmp`),
+    ];
     for (const f of young) await leave(f, 5, YOUNG());
     const youngWork = await leaveWork(storage.scratchDir, 5, YOUNG());
     // Old, but no name the program gives an unfinished write.
-    const notOurs = [path.join(storage.scratchDir, "notes.txt"), path.join(storage.cache.tmpDir, "readme"), path.join(storage.scratchDir, "uploads", "kept-by-hand.tif")];
+    const notOurs = [
+      path.join(storage.scratchDir, "notes.txt"),
+      path.join(storage.cache.tmpDir, "readme"),
+      path.join(storage.scratchDir, "uploads", "kept-by-hand.tif"),
+    ];
     for (const f of notOurs) await leave(f, 5, OLD());
     return { key, removed: Object.values(old), bytes: 400 + 200 + 100 + 50 + 30, kept: [cached, ...young, youngWork, ...notOurs] };
   }
@@ -184,7 +195,9 @@ describe("with the library on S3, on worker and watcher machines", () => {
     expect(await storage.exists(left.key)).toBe(true);
     // …and it is a worker all the same: it reports in (the sweep needs no database, the worker does).
     await waitFor("the worker to report in", async () => {
-      const { rows } = await stack.database.pool.query("select count(*)::int as n from processes where kind = 'worker' and heartbeat_at > now() - interval '15 seconds'");
+      const { rows } = await stack.database.pool.query(
+        "select count(*)::int as n from processes where kind = 'worker' and heartbeat_at > now() - interval '15 seconds'",
+      );
       return rows[0].n >= 1;
     });
     expect(worker.child.exitCode).toBeNull();
@@ -246,19 +259,31 @@ describe("with a local library, on the server's machine", () => {
     ];
     await leave(removed[0]!, 10, OLD());
     await leave(removed[1]!, 30, OLD());
-    const kept = [path.join(path.dirname(leftOverOutput), `.${randomName("")}.tmp.jpg`), upload(library.scratchDir), path.join(library.scratchDir, "notes.txt")];
+    const kept = [
+      path.join(path.dirname(leftOverOutput), `.${randomName("")}.tmp.jpg`),
+      upload(library.scratchDir),
+      path.join(library.scratchDir, "notes.txt"),
+    ];
     await leave(kept[0]!, 5, YOUNG());
     await leave(kept[1]!, 5, YOUNG());
     await leave(kept[2]!, 5, OLD());
 
     const port = await freePort();
-    const server = start("server-machine", "server/main.ts", { ...stack.env, PLATEN_PORT: String(port), PLATEN_UNFINISHED_SWEEP_HOURS: "1" });
+    const server = start("server-machine", "server/main.ts", {
+      ...stack.env,
+      PLATEN_PORT: String(port),
+      PLATEN_UNFINISHED_SWEEP_HOURS: "1",
+    });
     expect(await waitForSweep(server)).toMatchObject({ removed: removed.length, bytes: 10 + 30 + 40 + 60 + 20, failed: 0 });
     await expectGone(removed);
     await expectThere([...kept, ...libraryFiles]);
     // The folders themselves stay for the next writes, and the server serves.
-    for (const d of [library.scratchDir, path.join(library.scratchDir, "uploads"), stack.cfg.storage.workDir]) expect((await fs.stat(d)).isDirectory(), d).toBe(true);
-    const health = await waitFor("the server to answer", async () => (await fetch(`http://127.0.0.1:${port}/api/health`).catch(() => null))?.status === 200);
+    for (const d of [library.scratchDir, path.join(library.scratchDir, "uploads"), stack.cfg.storage.workDir])
+      expect((await fs.stat(d)).isDirectory(), d).toBe(true);
+    const health = await waitFor(
+      "the server to answer",
+      async () => (await fetch(`http://127.0.0.1:${port}/api/health`).catch(() => null))?.status === 200,
+    );
     expect(health).toBe(true);
   }, 60_000);
 });

@@ -22,8 +22,23 @@ describe("fragment geometry", () => {
       expect(r.rect.width).toBeCloseTo(100, 6);
     }
     // Points inside the hull do not change it; the hull of a square's corners plus its centre is the square.
-    expect(convexHull([[0, 0], [10, 0], [10, 10], [0, 10], [5, 5]])).toHaveLength(4);
-    expect(polygonArea([[0, 0], [10, 0], [10, 10], [0, 10]])).toBe(100);
+    expect(
+      convexHull([
+        [0, 0],
+        [10, 0],
+        [10, 10],
+        [0, 10],
+        [5, 5],
+      ]),
+    ).toHaveLength(4);
+    expect(
+      polygonArea([
+        [0, 0],
+        [10, 0],
+        [10, 10],
+        [0, 10],
+      ]),
+    ).toBe(100);
   });
 
   it("a cut-out's outline moves, turns and stretches with its rectangle", () => {

@@ -67,7 +67,16 @@ function startWorkerProcess(name: string, concurrency: number) {
   return entry;
 }
 
-type LogLine = { msg?: string; jobId?: string; fragmentId?: string; scanId?: string; fragments?: number; queue?: string; proc?: string; time?: number };
+type LogLine = {
+  msg?: string;
+  jobId?: string;
+  fragmentId?: string;
+  scanId?: string;
+  fragments?: number;
+  queue?: string;
+  proc?: string;
+  time?: number;
+};
 function logLines(): LogLine[] {
   return children.flatMap((c) => c.lines.filter((l) => l.startsWith("{")).map((l) => JSON.parse(l) as LogLine));
 }
@@ -80,7 +89,13 @@ const waitAllDone = (scanId: string, n: number) => renderedPieces(operator, scan
 
 /** The render jobs of these fragments, as pg-boss records them. */
 async function renderJobs(ids: string[]) {
-  const { rows } = await stack.database.pool.query<{ id: string; state: string; retry_count: number; started_on: Date | null; data: { fragmentId: string; revision: number } }>(
+  const { rows } = await stack.database.pool.query<{
+    id: string;
+    state: string;
+    retry_count: number;
+    started_on: Date | null;
+    data: { fragmentId: string; revision: number };
+  }>(
     `select id, state, retry_count, started_on, data from pgboss.job where name = 'fragment-render' and data->>'fragmentId' = any($1)
      union all select id, state, retry_count, started_on, data from pgboss.archive where name = 'fragment-render' and data->>'fragmentId' = any($1)`,
     [ids],
@@ -119,14 +134,26 @@ async function expectOutputsAsSingleRender(list: Fragment[]) {
     expect(web, `web copy of fragment ${f.position}`).toBeTruthy();
     expect([master.revision, web.revision]).toEqual([f.revision, f.revision]);
     const ref = await referenceRender(f.id);
-    expect({ w: master.width, h: master.height, depth: master.bitDepth, dpi: master.dpi }).toEqual({ w: ref.master.width, h: ref.master.height, depth: ref.master.bitDepth, dpi: ref.master.dpi });
-    expect({ w: web.width, h: web.height, format: web.format, dpi: web.dpi }).toEqual({ w: ref.web.width, h: ref.web.height, format: ref.web.format, dpi: ref.web.dpi });
+    expect({ w: master.width, h: master.height, depth: master.bitDepth, dpi: master.dpi }).toEqual({
+      w: ref.master.width,
+      h: ref.master.height,
+      depth: ref.master.bitDepth,
+      dpi: ref.master.dpi,
+    });
+    expect({ w: web.width, h: web.height, format: web.format, dpi: web.dpi }).toEqual({
+      w: ref.web.width,
+      h: ref.web.height,
+      format: ref.web.format,
+      dpi: ref.web.dpi,
+    });
     const stored = await sharp(stack.libraryPath(master.key)).metadata();
     expect([stored.width, stored.height]).toEqual([ref.master.width, ref.master.height]);
     const storedWeb = await sharp(stack.libraryPath(web.key)).metadata();
     expect([storedWeb.width, storedWeb.height]).toEqual([ref.web.width, ref.web.height]);
     // The same pixels as the single-fragment render of this very geometry and recipe.
-    expect((await pixels(stack.libraryPath(master.key))).equals(await pixels(ref.master.path)), `pixels of master ${f.position}`).toBe(true);
+    expect((await pixels(stack.libraryPath(master.key))).equals(await pixels(ref.master.path)), `pixels of master ${f.position}`).toBe(
+      true,
+    );
   }
 }
 
@@ -173,17 +200,22 @@ describe("fragments approved together, one worker", () => {
 
     // (c) each fragment's own job completed, once, and the ones that started after the group
     // rendered nothing: the outputs are older than every one of those jobs.
-    const jobs = await waitFor("every render job to be recorded complete", async () => {
-      const rows = await renderJobs(ids);
-      return rows.length === ids.length && rows.every((r) => r.state === "completed") ? rows : null;
-    }, 30_000);
+    const jobs = await waitFor(
+      "every render job to be recorded complete",
+      async () => {
+        const rows = await renderJobs(ids);
+        return rows.length === ids.length && rows.every((r) => r.state === "completed") ? rows : null;
+      },
+      30_000,
+    );
     expect(jobs.every((j) => j.retry_count === 0)).toBe(true);
     const outs = await stack.db.select().from(outputs).where(eq(outputs.kind, "master"));
     const newest = Math.max(...outs.filter((o) => ids.includes(o.fragmentId)).map((o) => o.updatedAt.getTime()));
     const groupJob = logLines().find((l) => l.msg === "render: group done" && l.scanId === scanId)!.jobId;
     const siblings = jobs.filter((j) => j.id !== groupJob);
     expect(siblings).toHaveLength(ids.length - 1);
-    for (const j of siblings) expect(j.started_on!.getTime(), `job of ${j.data.fragmentId} started after the group`).toBeGreaterThan(newest);
+    for (const j of siblings)
+      expect(j.started_on!.getTime(), `job of ${j.data.fragmentId} started after the group`).toBeGreaterThan(newest);
     const renders = logLines().filter((l) => l.msg === "render: done" && ids.includes(l.fragmentId!));
     expect(renders.map((l) => l.fragmentId).sort()).toEqual([...ids].sort());
     const done = logLines().filter((l) => l.msg === "job done" && l.queue === "fragment-render" && jobs.some((j) => j.id === l.jobId));
@@ -194,20 +226,30 @@ describe("fragments approved together, one worker", () => {
 describe("fragments approved together, two worker processes", () => {
   it("render every fragment exactly once", async () => {
     const b = startWorkerProcess("worker-b", 2);
-    await waitFor("both workers to report in", async () => {
-      const { rows } = await stack.database.pool.query("select count(*)::int as n from processes where kind = 'worker' and heartbeat_at > now() - interval '15 seconds'");
-      return rows[0].n === 2 ? true : null;
-    }, 60_000);
+    await waitFor(
+      "both workers to report in",
+      async () => {
+        const { rows } = await stack.database.pool.query(
+          "select count(*)::int as n from processes where kind = 'worker' and heartbeat_at > now() - interval '15 seconds'",
+        );
+        return rows[0].n === 2 ? true : null;
+      },
+      60_000,
+    );
     for (const c of children) c.decodes.clear();
     const scanId = scanIds[1]!;
     await approveRemaining(operator, scanId);
     const list = await waitAllDone(scanId, PIECES[1]!);
     const ids = list.map((f) => f.id);
     await expectOutputsAsSingleRender(list);
-    const jobs = await waitFor("every render job to be recorded complete", async () => {
-      const rows = await renderJobs(ids);
-      return rows.length === ids.length && rows.every((r) => r.state === "completed") ? rows : null;
-    }, 30_000);
+    const jobs = await waitFor(
+      "every render job to be recorded complete",
+      async () => {
+        const rows = await renderJobs(ids);
+        return rows.length === ids.length && rows.every((r) => r.state === "completed") ? rows : null;
+      },
+      30_000,
+    );
     expect(jobs.every((j) => j.retry_count === 0)).toBe(true);
     // No fragment rendered twice, by either process; the groups together hold every fragment once.
     const renders = logLines().filter((l) => l.msg === "render: done" && ids.includes(l.fragmentId!));
@@ -246,7 +288,14 @@ describe("the render job's group, driven step by step", () => {
         },
       },
     });
-    deps = { database: stack.database, boss: stack.boss, library: counting, offsite: null, config: stack.cfg, log: (await import("../server/logger")).logger.child({ test: true }) };
+    deps = {
+      database: stack.database,
+      boss: stack.boss,
+      library: counting,
+      offsite: null,
+      config: stack.cfg,
+      log: (await import("../server/logger")).logger.child({ test: true }),
+    };
   }, 60_000);
 
   /** The queued render job (id and payload) of a fragment at a revision. */
@@ -315,7 +364,10 @@ describe("the render job's group, driven step by step", () => {
     const bad = list[2]!;
     // A rectangle far off the scan: the render refuses it (bad geometry), whoever renders it.
     const [b] = await stack.db.select().from(fragments).where(eq(fragments.id, bad.id));
-    await stack.db.update(fragments).set({ box: { ...b!.box, x: b!.box.x + 100_000 } }).where(eq(fragments.id, bad.id));
+    await stack.db
+      .update(fragments)
+      .set({ box: { ...b!.box, x: b!.box.x + 100_000 } })
+      .where(eq(fragments.id, bad.id));
     await approveRemaining(operator, scanId);
     await run(list[0]!.id, list[0]!.revision);
     for (const f of list.filter((f) => f.id !== bad.id)) expect((await row(f.id)).renderState, `fragment ${f.position}`).toBe("done");
@@ -335,7 +387,11 @@ describe("the render job's group, driven step by step", () => {
     const list = (await fragmentsOf(scanId)).sort((a, b) => a.position - b.position);
     const dead = randomUUID();
     const old = new Date(Date.now() - (stack.cfg.jobExpireSeconds + 60) * 1000);
-    for (const f of list) await stack.db.update(fragments).set({ renderState: "rendering", renderJobId: dead, renderClaimedAt: old }).where(eq(fragments.id, f.id));
+    for (const f of list)
+      await stack.db
+        .update(fragments)
+        .set({ renderState: "rendering", renderJobId: dead, renderClaimedAt: old })
+        .where(eq(fragments.id, f.id));
     await run(list[1]!.id, list[1]!.revision);
     expect((await row(list[1]!.id)).renderState).toBe("done");
     // The other stays with the dead claim until its own job comes for it.
@@ -349,7 +405,9 @@ describe("the render job's group, driven step by step", () => {
     await approveRemaining(operator, scanId);
     const list = (await fragmentsOf(scanId)).sort((a, b) => a.position - b.position);
     const [first, second, third, fourth] = list as [Fragment, Fragment, Fragment, Fragment];
-    const created = await operator.post("/api/recipes").send({ name: "Muted for the group", steps: [{ type: "saturation", saturation: -0.6 }] });
+    const created = await operator
+      .post("/api/recipes")
+      .send({ name: "Muted for the group", steps: [{ type: "saturation", saturation: -0.6 }] });
     expect(created.status, JSON.stringify(created.body)).toBe(201);
     const other = randomUUID();
     // The group cuts the next fragment while it stores this one: when the first is stored, the
@@ -360,7 +418,10 @@ describe("the render job's group, driven step by step", () => {
         expect(applied.status, JSON.stringify(applied.body)).toBe(200);
       } else if (key === masterKey(third.id)) {
         onPut = null;
-        await stack.db.update(fragments).set({ renderState: "rendering", renderJobId: other, renderClaimedAt: new Date() }).where(eq(fragments.id, fourth.id));
+        await stack.db
+          .update(fragments)
+          .set({ renderState: "rendering", renderJobId: other, renderClaimedAt: new Date() })
+          .where(eq(fragments.id, fourth.id));
       }
     };
     await run(first.id, first.revision);
@@ -385,14 +446,19 @@ describe("the render job's group, driven step by step", () => {
     expect(outs.filter((o) => o.kind !== "preset").map((o) => o.recipeVersionId)).toEqual([recipe.id, recipe.id]);
     expect(puts.get(masterKey(second.id))).toBe(1);
     // The other job's claim grows old (it died): the fourth's own job takes it over.
-    await stack.db.update(fragments).set({ renderClaimedAt: new Date(Date.now() - (stack.cfg.jobExpireSeconds + 60) * 1000) }).where(eq(fragments.id, fourth.id));
+    await stack.db
+      .update(fragments)
+      .set({ renderClaimedAt: new Date(Date.now() - (stack.cfg.jobExpireSeconds + 60) * 1000) })
+      .where(eq(fragments.id, fourth.id));
     await run(fourth.id, fourth.revision);
     await expectOutputsAsSingleRender(await waitAllDone(scanId, list.length));
   });
   it("a batch item whose last attempt ends in an error is settled as failed, not left running", async () => {
     const scanId = scanIds[5]!;
     const [piece] = (await fragmentsOf(scanId)).sort((a, b) => a.position - b.position);
-    const created = await operator.post("/api/recipes").send({ name: "Warm for the stop", steps: [{ type: "saturation", saturation: 0.2 }] });
+    const created = await operator
+      .post("/api/recipes")
+      .send({ name: "Warm for the stop", steps: [{ type: "saturation", saturation: 0.2 }] });
     expect(created.status, JSON.stringify(created.body)).toBe(201);
     expect((await operator.post(`/api/recipes/${created.body.recipe.id}/apply`).send({ fragmentIds: [piece!.id] })).status).toBe(200);
     const { rows } = await stack.database.pool.query<{ id: string; data: { batchItemId?: string } }>(
@@ -401,7 +467,10 @@ describe("the render job's group, driven step by step", () => {
     );
     const job = rows[0]!;
     // Another job holds a live claim on it, and the worker is stopping: the wait is cut short.
-    await stack.db.update(fragments).set({ renderState: "rendering", renderJobId: randomUUID(), renderClaimedAt: new Date() }).where(eq(fragments.id, piece!.id));
+    await stack.db
+      .update(fragments)
+      .set({ renderState: "rendering", renderJobId: randomUUID(), renderClaimedAt: new Date() })
+      .where(eq(fragments.id, piece!.id));
     const stop = new AbortController();
     stop.abort();
     // With a queue to go back to, the waiting job hands itself back whole: no error, no attempt
@@ -409,12 +478,17 @@ describe("the render job's group, driven step by step", () => {
     await renderFragmentJob(deps, job.data, { jobId: job.id, retryCount: 2, retryLimit: 2, signal: stop.signal, stopAsked: stop.signal });
     const [waiting] = await stack.db.select().from(batchItems).where(eq(batchItems.id, job.data.batchItemId!));
     expect(waiting!.state).not.toBe("failed");
-    const copies = await stack.database.pool.query("select id from pgboss.job where name = 'fragment-render' and data = $1::jsonb and id <> $2", [JSON.stringify(job.data), job.id]);
+    const copies = await stack.database.pool.query(
+      "select id from pgboss.job where name = 'fragment-render' and data = $1::jsonb and id <> $2",
+      [JSON.stringify(job.data), job.id],
+    );
     expect(copies.rows).toHaveLength(1);
     await stack.database.pool.query("delete from pgboss.job where id = $1", [copies.rows[0].id]);
     // Without one (a handler run on its own), the stop ends the last attempt in an error, and
     // its batch item is settled as failed rather than left running.
-    await expect(renderFragmentJob({ ...deps, boss: undefined }, job.data, { jobId: job.id, retryCount: 2, retryLimit: 2, signal: stop.signal })).rejects.toThrow(/stopping/);
+    await expect(
+      renderFragmentJob({ ...deps, boss: undefined }, job.data, { jobId: job.id, retryCount: 2, retryLimit: 2, signal: stop.signal }),
+    ).rejects.toThrow(/stopping/);
     const [item] = await stack.db.select().from(batchItems).where(eq(batchItems.id, job.data.batchItemId!));
     expect(item).toMatchObject({ state: "failed" });
     expect(item!.error).toMatch(/stopping/);

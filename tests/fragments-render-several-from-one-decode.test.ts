@@ -13,13 +13,7 @@ import sharp from "sharp";
 import { afterAll, describe, expect, it } from "vitest";
 import type { FragmentGeometry } from "../shared/schemas/fragments";
 import { renderFragment, renderFragments, type BatchItem } from "../worker/pipeline/render";
-import {
-  drawScan,
-  geometryOf,
-  type PieceSpec,
-  type Point,
-  type RGB,
-} from "./helpers/fragment-scans";
+import { drawScan, geometryOf, type PieceSpec, type Point, type RGB } from "./helpers/fragment-scans";
 import { makeTempDir } from "./helpers/scan-bytes";
 
 const tmp = makeTempDir("platen-batch-");
@@ -54,10 +48,7 @@ const PIECES: PieceSpec[] = [
 ];
 const SHAPES = ["rectangle", "cutout", "rectangle"] as const;
 
-async function writeScan(
-  name: string,
-  opts: { depth?: 8 | 16; icc?: "p3"; alpha?: boolean } = {},
-): Promise<string> {
+async function writeScan(name: string, opts: { depth?: 8 | 16; icc?: "p3"; alpha?: boolean } = {}): Promise<string> {
   const file = path.join(tmp.dir, name);
   const px = drawScan(600, 420, BACKGROUND, PIECES, { depth: opts.depth ?? 8 });
   let s = sharp(px, { raw: { width: 600, height: 420, channels: 3 } });
@@ -82,16 +73,7 @@ function items(dir: string, geometries: FragmentGeometry[]): BatchItem[] {
 /** Decoded pixels of two files, compared value by value; also their headers' key fields. */
 async function samePicture(a: string, b: string): Promise<void> {
   const [ma, mb] = await Promise.all([sharp(a).metadata(), sharp(b).metadata()]);
-  for (const key of [
-    "format",
-    "width",
-    "height",
-    "channels",
-    "depth",
-    "space",
-    "hasAlpha",
-    "density",
-  ] as const) {
+  for (const key of ["format", "width", "height", "channels", "depth", "space", "hasAlpha", "density"] as const) {
     expect(mb[key], `${key} of ${path.basename(b)}`).toEqual(ma[key]);
   }
   expect(Boolean(mb.icc), "ICC profile present").toBe(Boolean(ma.icc));
@@ -175,9 +157,9 @@ describe("renderFragments: several fragments from one decode", () => {
     const dir = path.join(tmp.dir, "checked");
     const good = geometryOf(PIECES[0]!, "rectangle");
     const outside = { ...good, box: { ...good.box, x: 5000 } };
-    await expect(
-      renderFragments({ source, dpi: { x: 600, y: 600 }, maxPixels }, items(dir, [good, outside])),
-    ).rejects.toMatchObject({ code: "bad_geometry" });
+    await expect(renderFragments({ source, dpi: { x: 600, y: 600 }, maxPixels }, items(dir, [good, outside]))).rejects.toMatchObject({
+      code: "bad_geometry",
+    });
     expect(fs.existsSync(dir) ? fs.readdirSync(dir) : []).toEqual([]);
     // and an empty list decodes nothing and returns nothing
     expect(await renderFragments({ source, dpi: { x: 600, y: 600 }, maxPixels }, [])).toEqual([]);
@@ -186,7 +168,10 @@ describe("renderFragments: several fragments from one decode", () => {
   it("a failing item throws: the items before it are in place, it and the ones after it leave no file, temporary or final", async () => {
     const source = await writeScan("fails.tif");
     const dir = path.join(tmp.dir, "fails");
-    const list = items(dir, PIECES.map((p, i) => geometryOf(p, SHAPES[i]!)));
+    const list = items(
+      dir,
+      PIECES.map((p, i) => geometryOf(p, SHAPES[i]!)),
+    );
     // The second item's web copy is to go under a regular file, so it cannot be written (its
     // master is staged first, and must be cleaned up); the third comes after the failure.
     fs.mkdirSync(dir, { recursive: true });
@@ -203,13 +188,19 @@ describe("renderFragments: several fragments from one decode", () => {
     // A folder that does not exist: the decode's own folder cannot be made in it, and the error names it.
     const missing = path.join(tmp.dir, "no-such-scratch");
     await expect(
-      renderFragments({ source, dpi: { x: 600, y: 600 }, maxPixels, scratchDir: missing }, items(path.join(tmp.dir, "scratch-a"), geometries)),
+      renderFragments(
+        { source, dpi: { x: 600, y: 600 }, maxPixels, scratchDir: missing },
+        items(path.join(tmp.dir, "scratch-a"), geometries),
+      ),
     ).rejects.toThrow(/no-such-scratch[\\/]platen-decoded-/);
     // One that does: the render succeeds and its decode is gone from it afterwards.
     const scratch = path.join(tmp.dir, "scratch");
     fs.mkdirSync(scratch);
     const before = new Set(decodedCopies());
-    const made = await renderFragments({ source, dpi: { x: 600, y: 600 }, maxPixels, scratchDir: scratch }, items(path.join(tmp.dir, "scratch-b"), geometries));
+    const made = await renderFragments(
+      { source, dpi: { x: 600, y: 600 }, maxPixels, scratchDir: scratch },
+      items(path.join(tmp.dir, "scratch-b"), geometries),
+    );
     expect(made).toHaveLength(geometries.length);
     expect(fs.readdirSync(scratch)).toEqual([]);
     expect(decodedCopies().filter((d) => !before.has(d))).toEqual([]);

@@ -11,15 +11,7 @@ import sharp from "sharp";
 import { afterAll, describe, expect, it } from "vitest";
 import { renderFragment } from "../worker/pipeline/render";
 import { planUpright } from "../worker/pipeline/render/geometry";
-import {
-  asciiField,
-  drawScan,
-  geometryOf,
-  readIfd0,
-  toSource,
-  type PieceSpec,
-  type RGB,
-} from "./helpers/fragment-scans";
+import { asciiField, drawScan, geometryOf, readIfd0, toSource, type PieceSpec, type RGB } from "./helpers/fragment-scans";
 import { makeTempDir } from "./helpers/scan-bytes";
 
 const tmp = makeTempDir("platen-render-");
@@ -110,10 +102,7 @@ describe("renderFragment: rectangles come out upright", () => {
       const geometry = geometryOf(piece, "rectangle");
 
       // As the split reports it: the piece fills the output, square to its edges.
-      const tight = await renderFragment(
-        { source, geometry, dpi: { x: 600, y: 600 }, maxPixels },
-        targets(),
-      );
+      const tight = await renderFragment({ source, geometry, dpi: { x: 600, y: 600 }, maxPixels }, targets());
       expect([tight.master.width, tight.master.height]).toEqual([401, 251]);
       const t = await storedPixels(tight.master.path, 8);
       let border = 0;
@@ -134,10 +123,7 @@ describe("renderFragment: rectangles come out upright", () => {
 
       // With a rectangle 10 px larger on every side, the piece's edges can be measured.
       const wide = { ...geometry, rect: { ...geometry.rect, width: 421.4, height: 271.2 } };
-      const r = await renderFragment(
-        { source, geometry: wide, dpi: { x: 600, y: 600 }, maxPixels },
-        targets(),
-      );
+      const r = await renderFragment({ source, geometry: wide, dpi: { x: 600, y: 600 }, maxPixels }, targets());
       const m = await storedPixels(r.master.path, 8);
       expect([m.width, m.height]).toEqual([421, 271]);
       const expected = {
@@ -207,10 +193,7 @@ describe("renderFragment: rectangles come out upright", () => {
       height: 500,
       orientation: 6,
     });
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 300, y: 300 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 300, y: 300 }, maxPixels }, targets());
     expect([r.master.width, r.master.height]).toEqual([260, 180]);
     const m = await storedPixels(r.master.path, 8);
     let sx = 0;
@@ -235,14 +218,10 @@ describe("renderFragment: rectangles come out upright", () => {
     const source = await writeScan("edge.tif", 600, 400, [piece]);
     const g = geometryOf(piece, "rectangle");
     const geometry = { ...g, box: { ...g.box, width: 600 - g.box.x } };
-    const r = await renderFragment(
-      { source, geometry, dpi: { x: 600, y: 600 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry, dpi: { x: 600, y: 600 }, maxPixels }, targets());
     expect([r.master.width, r.master.height]).toEqual([140, 100]);
     const m = await storedPixels(r.master.path, 8);
-    const at = (i: number) =>
-      Array.from(m.px.slice((50 * m.width + i) * 3, (50 * m.width + i) * 3 + 3));
+    const at = (i: number) => Array.from(m.px.slice((50 * m.width + i) * 3, (50 * m.width + i) * 3 + 3));
     expect(at(130)).toEqual(PIECE);
     expect(at(139)).toEqual([255, 255, 255]);
     expect(at(138)).toEqual([255, 255, 255]);
@@ -289,10 +268,7 @@ describe("renderFragment: rectangles come out upright", () => {
         height: 199.3,
         colour: PIECE,
       };
-      const r = await renderFragment(
-        { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 300, y: 300 }, maxPixels },
-        targets(),
-      );
+      const r = await renderFragment({ source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 300, y: 300 }, maxPixels }, targets());
       const m = await storedPixels(r.master.path, 16);
       expect([m.width, m.height]).toEqual([302, 199]);
       let worst = 0;
@@ -301,11 +277,7 @@ describe("renderFragment: rectangles come out upright", () => {
           const [x, y] = toSource(piece, [i + 0.5 - m.width / 2, j + 0.5 - m.height / 2]);
           const k = (j * m.width + i) * 3;
           // Pixel k's value is taken at its centre, k + 0.5 in continuous coordinates.
-          worst = Math.max(
-            worst,
-            Math.abs(m.px[k]! / 60 + 0.5 - x),
-            Math.abs(m.px[k + 1]! / 60 + 0.5 - y),
-          );
+          worst = Math.max(worst, Math.abs(m.px[k]! / 60 + 0.5 - x), Math.abs(m.px[k + 1]! / 60 + 0.5 - y));
         }
       }
       expect(worst, `angle ${angle}°`).toBeLessThan(0.05);
@@ -325,10 +297,7 @@ describe("renderFragment: the master records resolution, depth, profile and righ
 
   it("embeds the scan's DPI: exifr, sharp and the TIFF fields themselves read 400 pixels per inch", async () => {
     const source = await writeScan("dpi-400.tif", 600, 400, [piece], { dpi: 400 });
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 400, y: 400 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 400, y: 400 }, maxPixels }, targets());
     expect(r.master.dpi).toBe(400);
     const parsed = await exifr.parse(r.master.path, {
       pick: ["XResolution", "YResolution", "ResolutionUnit"],
@@ -348,10 +317,7 @@ describe("renderFragment: the master records resolution, depth, profile and righ
 
   it("keeps a 16-bit scan 16-bit, lossless (LZW with a predictor), with its ICC profile byte for byte", async () => {
     const source = await writeScan("deep-p3.tif", 600, 400, [piece], { depth: 16, icc: "p3" });
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels }, targets());
     expect(r.master).toMatchObject({ bitDepth: 16, channels: 3, hasAlpha: false, iccKept: true });
     const meta = await sharp(r.master.path).metadata();
     expect(meta.depth).toBe("ushort");
@@ -372,18 +338,13 @@ describe("renderFragment: the master records resolution, depth, profile and righ
     const s = await storedPixels(source, 16);
     const centre = ((m.height >> 1) * m.width + (m.width >> 1)) * 3;
     const inScan = (Math.round(piece.cy) * s.width + Math.round(piece.cx)) * 3;
-    expect(Array.from(m.px.slice(centre, centre + 3))).toEqual(
-      Array.from(s.px.slice(inScan, inScan + 3)),
-    );
+    expect(Array.from(m.px.slice(centre, centre + 3))).toEqual(Array.from(s.px.slice(inScan, inScan + 3)));
   });
 
   it("tags an untagged scan sRGB without changing its values, and keeps an 8-bit scan 8-bit", async () => {
     const source = await writeScan("plain.tif", 600, 400, [piece]);
     expect((await sharp(source).metadata()).icc).toBeUndefined();
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels }, targets());
     expect(r.master).toMatchObject({ bitDepth: 8, iccKept: false });
     const meta = await sharp(r.master.path).metadata();
     expect(meta.depth).toBe("uchar");
@@ -403,10 +364,7 @@ describe("renderFragment: the master records resolution, depth, profile and righ
       .tiff({ compression: "lzw" })
       .toFile(source);
     expect(await sharp(source).metadata()).toMatchObject({ space: "grey16", depth: "ushort" });
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels }, targets());
     expect(r.master).toMatchObject({ bitDepth: 16, channels: 1, hasAlpha: false });
     expect(await sharp(r.master.path).metadata()).toMatchObject({
       space: "grey16",
@@ -489,10 +447,7 @@ describe("renderFragment: the web copy", () => {
     };
     // Upright and on whole pixels, so one sample per pixel draws it exactly.
     const source = await writeScan("large.tif", 3200, 2200, [piece], { dpi: 600, supersample: 1 });
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels }, targets());
     expect([r.master.width, r.master.height]).toEqual([3000, 2000]);
     expect(r.web).toMatchObject({ width: 2048, height: 1365, format: "jpeg", dpi: 409.6 });
     const meta = await sharp(r.web.path).metadata();
@@ -551,10 +506,7 @@ describe("renderFragment: the web copy", () => {
       colour: p3Colour,
     };
     const source = await writeScan("p3-colour.tif", 600, 400, [piece], { depth: 16, icc: "p3" });
-    const r = await renderFragment(
-      { source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels },
-      targets(),
-    );
+    const r = await renderFragment({ source, geometry: geometryOf(piece, "rectangle"), dpi: { x: 600, y: 600 }, maxPixels }, targets());
     const { data, info } = await sharp(r.web.path).raw().toBuffer({ resolveWithObject: true });
     const centre = ((info.height >> 1) * info.width + (info.width >> 1)) * 3;
     const got = Array.from(data.subarray(centre, centre + 3));
@@ -635,11 +587,7 @@ function mul(m: M3, v: number[]): number[] {
   return m.map((row) => row[0]! * v[0]! + row[1]! * v[1]! + row[2]! * v[2]!);
 }
 function invert(m: M3): M3 {
-  const [[a, b, c], [d, e, f], [g, h, i]] = m as [
-    [number, number, number],
-    [number, number, number],
-    [number, number, number],
-  ];
+  const [[a, b, c], [d, e, f], [g, h, i]] = m as [[number, number, number], [number, number, number], [number, number, number]];
   const det = a * (e * i - f * h) - b * (d * i - f * g) + c * (d * h - e * g);
   return [
     [(e * i - f * h) / det, (c * h - b * i) / det, (b * f - c * e) / det],

@@ -16,7 +16,13 @@ const image = (pixels: number[][], channels: 1 | 2 | 3 | 4 = 3, bitDepth: 8 | 16
 
 describe("histograms and clipping report what the editor shows", () => {
   it("counts each channel and the luminance in 256 bins", () => {
-    const h = histograms(image([[255, 128, 0], [255, 128, 0], [10, 10, 10]]));
+    const h = histograms(
+      image([
+        [255, 128, 0],
+        [255, 128, 0],
+        [10, 10, 10],
+      ]),
+    );
     expect(h.bins).toBe(256);
     expect(h.pixels).toBe(3);
     expect(h.r[255]).toBe(2);
@@ -38,14 +44,40 @@ describe("histograms and clipping report what the editor shows", () => {
   });
 
   it("leaves out pixels outside a cut-out (alpha below half)", () => {
-    const h = histograms(image([[200, 0, 0, 255], [0, 200, 0, 0], [0, 0, 200, 127]], 4));
+    const h = histograms(
+      image(
+        [
+          [200, 0, 0, 255],
+          [0, 200, 0, 0],
+          [0, 0, 200, 127],
+        ],
+        4,
+      ),
+    );
     expect(h.pixels).toBe(1);
     expect(h.r[200]).toBe(1);
-    expect(clipping(image([[0, 0, 0, 255], [0, 0, 0, 0]], 4)).pixels).toBe(1);
+    expect(
+      clipping(
+        image(
+          [
+            [0, 0, 0, 255],
+            [0, 0, 0, 0],
+          ],
+          4,
+        ),
+      ).pixels,
+    ).toBe(1);
   });
 
   it("reports the share of pixels at 0 and at full scale per channel", () => {
-    const c = clipping(image([[255, 255, 255], [255, 128, 0], [128, 128, 128], [0, 0, 0]]));
+    const c = clipping(
+      image([
+        [255, 255, 255],
+        [255, 128, 0],
+        [128, 128, 128],
+        [0, 0, 0],
+      ]),
+    );
     expect(c.pixels).toBe(4);
     expect(c.white).toEqual([0.5, 0.25, 0.25]);
     expect(c.black).toEqual([0.25, 0.25, 0.5]);

@@ -60,7 +60,10 @@ describe("intake", () => {
     const file = path.join(t.dir, "slow-upload.tif");
     await fs.writeFile(file, await paperScan({ seed: 41 }));
     const started = new Promise<void>((r) => (storing = r));
-    const done = intakeFile({ database, boss, library, log: logger }, { path: file, originalName: "slow-upload.tif", source: "inbox", removeSource: true });
+    const done = intakeFile(
+      { database, boss, library, log: logger },
+      { path: file, originalName: "slow-upload.tif", source: "inbox", removeSource: true },
+    );
     await started;
     // While the original is being stored: no transaction is open and no scan row exists yet.
     expect(await openTransactions()).toBe(0);
@@ -85,7 +88,10 @@ describe("intake", () => {
       stored = true;
       released();
     };
-    const result = await intakeFile({ database, boss, library, log: logger }, { path: file, originalName: "same-again.tiff", source: "inbox", removeSource: true });
+    const result = await intakeFile(
+      { database, boss, library, log: logger },
+      { path: file, originalName: "same-again.tiff", source: "inbox", removeSource: true },
+    );
     expect(result.duplicateOf).toBe(first.id);
     expect(stored).toBe(false);
     const [row] = await database.db.select().from(scans).where(eq(scans.id, result.scanId));
@@ -106,7 +112,12 @@ describe("intake: two arrivals of the same content at once", () => {
     // first scan of that content, find none, and insert one; the unique index refuses the second.
     const held: (() => void)[] = [];
     const bothHeld = new Promise<void>((r) => (storing = () => (held.push(released), held.length === 2 && r())));
-    const arrivals = files.map((f) => intakeFile({ database, boss, library, log: logger }, { path: f, originalName: path.basename(f), source: "inbox", removeSource: true }));
+    const arrivals = files.map((f) =>
+      intakeFile(
+        { database, boss, library, log: logger },
+        { path: f, originalName: path.basename(f), source: "inbox", removeSource: true },
+      ),
+    );
     await bothHeld;
     storing = () => released();
     held.forEach((go) => go());

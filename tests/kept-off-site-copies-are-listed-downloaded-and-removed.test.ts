@@ -105,7 +105,14 @@ describe("kept off-site copies", () => {
   let kept: { outputId: string; key: string; sha256: string };
 
   it("lists nothing while every master is live", async () => {
-    expect(await list()).toEqual({ enabled: true, target: expect.stringContaining("s3://offsite/"), copies: [], totalBytes: 0, otherInstallations: 0, note: null });
+    expect(await list()).toEqual({
+      enabled: true,
+      target: expect.stringContaining("s3://offsite/"),
+      copies: [],
+      totalBytes: 0,
+      otherInstallations: 0,
+      note: null,
+    });
   });
 
   it("lists a master's copy kept by a delete, with its piece's name, size and recorded SHA-256; the live masters' copies are not listed", async () => {
@@ -123,7 +130,14 @@ describe("kept off-site copies", () => {
         sha256: kept.sha256,
         fragmentId: a.id,
         outputId: kept.outputId,
-        piece: { id: a.id, title: "Claret stamp", scanName: "kept-stamps.tif", position: a.position, revision: expect.any(Number), status: "rejected" },
+        piece: {
+          id: a.id,
+          title: "Claret stamp",
+          scanName: "kept-stamps.tif",
+          position: a.position,
+          revision: expect.any(Number),
+          status: "rejected",
+        },
         fileName: `kept-stamps-${String(a.position).padStart(2, "0")}-master-kept.tif`,
       },
     ] satisfies KeptCopy[]);
@@ -140,13 +154,18 @@ describe("kept off-site copies", () => {
     const res = await admin.get("/api/offsite/kept/file").query({ key: kept.key }).buffer(true).parse(binary);
     expect(res.status).toBe(200);
     expect(res.headers["content-type"]).toBe("image/tiff");
-    expect(res.headers["content-disposition"]).toBe(`attachment; filename=kept-stamps-${String(pieces[0]!.position).padStart(2, "0")}-master-kept.tif`);
+    expect(res.headers["content-disposition"]).toBe(
+      `attachment; filename=kept-stamps-${String(pieces[0]!.position).padStart(2, "0")}-master-kept.tif`,
+    );
     expect(sha(res.body as Buffer)).toBe(kept.sha256);
   });
 
   it("refuses a live master's copy, keys outside masters/ and keys of another shape, naming what was expected", async () => {
     const live = await copyOf(pieces[1]!.id);
-    for (const call of [() => admin.get("/api/offsite/kept/file").query({ key: live.key }), () => admin.delete("/api/offsite/kept").query({ key: live.key })]) {
+    for (const call of [
+      () => admin.get("/api/offsite/kept/file").query({ key: live.key }),
+      () => admin.delete("/api/offsite/kept").query({ key: live.key }),
+    ]) {
       const res = await call();
       expect(res.status).toBe(409);
       expect(res.body.error.message).toBe(
@@ -204,7 +223,9 @@ describe("kept off-site copies", () => {
   });
 
   it("removes it for good: the object is gone from the bucket and the trail says what went", async () => {
-    const mark = Number((await stack.database.pool.query<{ id: string | null }>("select max(id) as id from audit_events")).rows[0]!.id ?? 0);
+    const mark = Number(
+      (await stack.database.pool.query<{ id: string | null }>("select max(id) as id from audit_events")).rows[0]!.id ?? 0,
+    );
     const res = await admin.delete("/api/offsite/kept").query({ key: kept.key });
     expect(res.status, JSON.stringify(res.body)).toBe(200);
     expect(res.body).toEqual({ key: kept.key, sizeBytes: expect.any(Number), sha256: kept.sha256 });
@@ -227,7 +248,10 @@ describe("kept off-site copies", () => {
     ]);
     expect((await list()).copies).toEqual([]);
     // Asked again: it is not there to remove or download.
-    for (const again of [await admin.delete("/api/offsite/kept").query({ key: kept.key }), await admin.get("/api/offsite/kept/file").query({ key: kept.key })]) {
+    for (const again of [
+      await admin.delete("/api/offsite/kept").query({ key: kept.key }),
+      await admin.get("/api/offsite/kept/file").query({ key: kept.key }),
+    ]) {
       expect(again.status).toBe(404);
       expect(again.body.error.message).toBe(`The kept off-site copy "${kept.key}" (it may have been removed already) was not found.`);
     }
@@ -265,7 +289,10 @@ describe("kept off-site copies", () => {
     expect(body.copies.map((c) => c.key)).toEqual(before);
     expect(body.copies.map((c) => c.key)).not.toContain(theirs);
     expect(body.otherInstallations).toBe(1);
-    for (const res of [await admin.get("/api/offsite/kept/file").query({ key: theirs }), await admin.delete("/api/offsite/kept").query({ key: theirs })]) {
+    for (const res of [
+      await admin.get("/api/offsite/kept/file").query({ key: theirs }),
+      await admin.delete("/api/offsite/kept").query({ key: theirs }),
+    ]) {
       expect(res.status, JSON.stringify(res.body)).toBe(409);
       expect(res.body.error.message).toMatch(/^This copy was put in the bucket by another Platen installation that shares it/);
     }
@@ -290,15 +317,25 @@ describe("kept off-site copies", () => {
       // …finds it on the list (the earlier copy of the same master is under the same key)…
       listedDuring = (await list()).copies.map((x) => x.key);
       // …and asks for it to go: the removal waits for this upload's lock.
-      removal = admin.delete("/api/offsite/kept").query({ key }).then((r) => r);
-      await waitFor("the removal to wait for the copy's lock", async () => {
-        return (await waitingFor(copyLockOf(outputId))) > 0;
-      }, 20_000);
+      removal = admin
+        .delete("/api/offsite/kept")
+        .query({ key })
+        .then((r) => r);
+      await waitFor(
+        "the removal to wait for the copy's lock",
+        async () => {
+          return (await waitingFor(copyLockOf(outputId))) > 0;
+        },
+        20_000,
+      );
       const put = await stack.offsite!.put(k, copy);
       uploaded = put.sha256;
       return put;
     };
-    await copyMaster({ database: stack.database, boss: stack.boss, library: stack.library, offsite: bucket, log: logger }, outputId, { retryCount: 0, retryLimit: 3 });
+    await copyMaster({ database: stack.database, boss: stack.boss, library: stack.library, offsite: bucket, log: logger }, outputId, {
+      retryCount: 0,
+      retryLimit: 3,
+    });
     await fs.rm(scratch, { recursive: true, force: true });
     expect(listedDuring).toEqual([key]);
     const res = await removal!;
@@ -334,7 +371,10 @@ describe("kept off-site copies without an off-site bucket", () => {
       note: "Off-site copy is off (no PLATEN_OFFSITE_BUCKET), so no copies are kept off-site.",
     });
     const key = `masters/${crypto.randomUUID()}/${crypto.randomUUID()}.tif`;
-    for (const r of [await bareAdmin.get("/api/offsite/kept/file").query({ key }), await bareAdmin.delete("/api/offsite/kept").query({ key })]) {
+    for (const r of [
+      await bareAdmin.get("/api/offsite/kept/file").query({ key }),
+      await bareAdmin.delete("/api/offsite/kept").query({ key }),
+    ]) {
       expect(r.status).toBe(409);
       expect(r.body.error.message).toBe("Off-site copy is off: set PLATEN_OFFSITE_BUCKET (and its endpoint and keys) to turn it on.");
     }

@@ -27,9 +27,34 @@ describe("levels follow their formula", () => {
   // t = (lin(x) − lin(black)) / (lin(white) − lin(black)), y = enc(t^(1/gamma));
   // lin(0.2) = 0.0331048, lin(0.8) = 0.6038273 (IEC 61966-2-1 decoding)
   const cases: [number, [number, number][]][] = [
-    [1, [[0, 0], [51, 0], [64, 49.9427], [128, 153.3646], [192, 239.2966], [204, 255], [255, 255]]],
-    [2, [[64, 117.1577], [128, 198.1824], [192, 247.0303]]],
-    [0.5, [[64, 3.3374], [128, 90.1262], [192, 224.5098]]],
+    [
+      1,
+      [
+        [0, 0],
+        [51, 0],
+        [64, 49.9427],
+        [128, 153.3646],
+        [192, 239.2966],
+        [204, 255],
+        [255, 255],
+      ],
+    ],
+    [
+      2,
+      [
+        [64, 117.1577],
+        [128, 198.1824],
+        [192, 247.0303],
+      ],
+    ],
+    [
+      0.5,
+      [
+        [64, 3.3374],
+        [128, 90.1262],
+        [192, 224.5098],
+      ],
+    ],
   ];
   it.each(cases)("black 0.2, white 0.8, gamma %f at hand-computed codes", async (gamma, points) => {
     const out = await run([{ type: "levels", black: 0.2, white: 0.8, gamma }], ramp8());
@@ -57,9 +82,38 @@ describe("levels follow their formula", () => {
 describe("contrast follows its formula", () => {
   // each side of the pivot mapped onto half of g(u) = (σ(k(u − ½)) − σ(−k/2)) / (σ(k/2) − σ(−k/2)), k = 10·|amount|
   const cases: [number, number, [number, number][]][] = [
-    [1, 0.5, [[0, 0], [32, 4.2374], [64, 18.0548], [128, 128.7669], [192, 237.6499], [255, 255]]],
-    [-0.5, 0.5, [[32, 50.9603], [64, 81.5281], [192, 174.3009]]],
-    [0.4, 0.3, [[32, 23.8758], [64, 60.2316], [77, 77.1565], [128, 142.3055], [192, 210.0213]]],
+    [
+      1,
+      0.5,
+      [
+        [0, 0],
+        [32, 4.2374],
+        [64, 18.0548],
+        [128, 128.7669],
+        [192, 237.6499],
+        [255, 255],
+      ],
+    ],
+    [
+      -0.5,
+      0.5,
+      [
+        [32, 50.9603],
+        [64, 81.5281],
+        [192, 174.3009],
+      ],
+    ],
+    [
+      0.4,
+      0.3,
+      [
+        [32, 23.8758],
+        [64, 60.2316],
+        [77, 77.1565],
+        [128, 142.3055],
+        [192, 210.0213],
+      ],
+    ],
   ];
   it.each(cases)("amount %f about pivot %f at hand-computed codes", async (amount, pivot, points) => {
     const out = await run([{ type: "contrast", amount, pivot }], ramp8());
@@ -95,7 +149,7 @@ function spreadImage(width: number, height: number, depth: 8 | 16, seed = 9): Ra
   const max = depth === 16 ? 65535 : 255;
   const data = depth === 16 ? new Uint16Array(width * height * 3) : new Uint8Array(width * height * 3);
   let s = seed;
-  const rnd = () => ((s = (s * 1664525 + 1013904223) >>> 0) / 4294967296);
+  const rnd = () => (s = (s * 1664525 + 1013904223) >>> 0) / 4294967296;
   for (let p = 0; p < width * height; p++) {
     // Tones from near black to near white in every channel, as a full scan has: automatic levels
     // move their points only so far in (AUTO_BLACK_MAX, AUTO_WHITE_MIN), and this image's own

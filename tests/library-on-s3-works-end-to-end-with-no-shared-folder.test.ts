@@ -90,8 +90,7 @@ beforeAll(async () => {
   fragments = await waitFor(
     "the masters",
     async () => {
-      const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body
-        .fragments as Fragment[];
+      const list = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
       return list.length === 2 && list.every((f) => f.renderState === "done") ? list : null;
     },
     60_000,
@@ -110,10 +109,7 @@ describe("the library on S3", () => {
   it("holds the original, previews, masters and web copies as objects in the bucket", async () => {
     const keys = await bucket().keys();
     const [scanRow] = (
-      await stack.database.pool.query(
-        "select original_key, preview_key, thumb_key, sha256 from scans where id = $1",
-        [scanId],
-      )
+      await stack.database.pool.query("select original_key, preview_key, thumb_key, sha256 from scans where id = $1", [scanId])
     ).rows;
     expect(keys).toContain(scanRow.original_key);
     expect(keys).toContain(scanRow.preview_key);
@@ -138,28 +134,20 @@ describe("the library on S3", () => {
     expect(meta.format).toBe("tiff");
     expect(Math.round(meta.density!)).toBe(300);
     // A resumed download: bytes 100–1099 only.
-    const part = await binary(
-      operator.get(`/api/fragments/${f.id}/outputs/master`).set("Range", "bytes=100-1099"),
-    );
+    const part = await binary(operator.get(`/api/fragments/${f.id}/outputs/master`).set("Range", "bytes=100-1099"));
     expect(part.status).toBe(206);
     expect(part.headers["content-range"]).toBe(`bytes 100-1099/${inBucket.length}`);
     expect((part.body as Buffer).equals(inBucket.subarray(100, 1100))).toBe(true);
-    const outside = await operator
-      .get(`/api/fragments/${f.id}/outputs/master`)
-      .set("Range", `bytes=${inBucket.length + 10}-`);
+    const outside = await operator.get(`/api/fragments/${f.id}/outputs/master`).set("Range", `bytes=${inBucket.length + 10}-`);
     expect(outside.status).toBe(416);
-    expect(outside.body.error.message).toBe(
-      `The requested range is outside the file (${inBucket.length} bytes).`,
-    );
+    expect(outside.body.error.message).toBe(`The requested range is outside the file (${inBucket.length} bytes).`);
     // Previews and fragment pictures come from the bucket too.
     const preview = await binary(operator.get(`/api/scans/${scanId}/preview`));
     expect(preview.status).toBe(200);
     expect((await sharp(preview.body as Buffer).metadata()).format).toBe("jpeg");
     const thumb = await binary(operator.get(`/api/fragments/${f.id}/thumb`));
     expect(thumb.status).toBe(200);
-    expect((await bucket().keys()).some((k) => k.startsWith(`thumbs/fragments/${f.id}-`))).toBe(
-      true,
-    );
+    expect((await bucket().keys()).some((k) => k.startsWith(`thumbs/fragments/${f.id}-`))).toBe(true);
   });
 
   it("runs a batch whose output lands in the bucket and downloads in the zip", async () => {
@@ -168,9 +156,7 @@ describe("the library on S3", () => {
       name: string;
     }[];
     const web = presets.find((p) => p.name === "web")!;
-    const res = await operator
-      .post("/api/batches")
-      .send({ selection: { fragmentIds: [fragments[0]!.id] }, presetIds: [web.id] });
+    const res = await operator.post("/api/batches").send({ selection: { fragmentIds: [fragments[0]!.id] }, presetIds: [web.id] });
     expect(res.status).toBe(201);
     const done = await waitFor(
       "the batch",
@@ -181,9 +167,7 @@ describe("the library on S3", () => {
       60_000,
     );
     expect(done.batch.counts).toMatchObject({ done: 1, failed: 0 });
-    const outputKeys = (await bucket().keys()).filter((k) =>
-      k.startsWith(`outputs/${fragments[0]!.id}/`),
-    );
+    const outputKeys = (await bucket().keys()).filter((k) => k.startsWith(`outputs/${fragments[0]!.id}/`));
     expect(outputKeys).toHaveLength(1);
     const zipPath = path.join(path.dirname(stack.env.PLATEN_DATA_DIR!), "s3-batch.zip");
     const zip = await binary(operator.get(`/api/batches/${res.body.batch.id}/download`));
@@ -198,11 +182,7 @@ describe("the library on S3", () => {
     expect(sha(inZip)).toBe(sha(await bucket().bytes(outputKeys[0]!)));
     const csv = execFileSync(
       "python3",
-      [
-        "-c",
-        "import zipfile,sys; sys.stdout.write(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())",
-        zipPath,
-      ],
+      ["-c", "import zipfile,sys; sys.stdout.write(zipfile.ZipFile(sys.argv[1]).read('outputs.csv').decode())", zipPath],
       { encoding: "utf8" },
     );
     expect(csv).toContain(sha(inZip));
@@ -211,9 +191,7 @@ describe("the library on S3", () => {
   it("made no library folder on either machine: only the caches hold copies, and scratch is empty", async () => {
     for (const dataDir of [stack.env.PLATEN_DATA_DIR!, workerData]) {
       await expect(fs.access(path.join(dataDir, "library"))).rejects.toThrow();
-      expect(
-        (await walk(path.join(dataDir, "work"))).filter((f) => !f.startsWith("uploads/")),
-      ).toEqual([]);
+      expect((await walk(path.join(dataDir, "work"))).filter((f) => !f.startsWith("uploads/"))).toEqual([]);
     }
     await expect(fs.access(stack.env.PLATEN_LIBRARY_DIR!)).rejects.toThrow();
     // The worker read the original through its cache (a copy of the object, nothing more).

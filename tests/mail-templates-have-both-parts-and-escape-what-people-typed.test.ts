@@ -13,14 +13,44 @@ import {
 import { escapeHtml } from "../server/mail/layout";
 
 const when = new Date("2026-07-03T14:05:00Z");
-const LINK = "http://127.0.0.1:5480/join#token=abc_DEF-123&x=\"1\"<b>";
+const LINK = 'http://127.0.0.1:5480/join#token=abc_DEF-123&x="1"<b>';
 
 const all = () => [
-  invitationMessage({ studio: "Paper & Glue", email: "ana@studio.example", role: "viewer", inviter: "Mo", link: LINK, expiresAt: when, validForMs: 7 * 86_400_000 }),
+  invitationMessage({
+    studio: "Paper & Glue",
+    email: "ana@studio.example",
+    role: "viewer",
+    inviter: "Mo",
+    link: LINK,
+    expiresAt: when,
+    validForMs: 7 * 86_400_000,
+  }),
   passwordResetMessage({ studio: "Paper & Glue", name: "Ana", link: LINK, expiresAt: when, validForMs: 3_600_000 }),
-  batchFinishedMessage({ studio: "Paper & Glue", name: "Shop squares", link: LINK, finishedAt: when, counts: { total: 3, done: 2, failed: 1, cancelled: 0 }, warnings: ["bed-02 #1 (Print A4): 212 DPI at this size"], failures: [{ what: "bed-02 #3", error: "The master is missing." }] }),
-  intakeFinishedMessage({ studio: "Paper & Glue", name: "June pass", link: LINK, counts: { scans: 4, ready: 3, failed: 1, duplicates: 0, pieces: 17 }, warnings: [], failures: [{ what: "bed-04.tif", error: "The file is empty (0 bytes)" }] }),
-  scanFailedMessage({ studio: "Paper & Glue", scanName: "bed-04.tif", intakeName: "June pass", error: "The file is empty (0 bytes)", link: LINK, failedAt: when }),
+  batchFinishedMessage({
+    studio: "Paper & Glue",
+    name: "Shop squares",
+    link: LINK,
+    finishedAt: when,
+    counts: { total: 3, done: 2, failed: 1, cancelled: 0 },
+    warnings: ["bed-02 #1 (Print A4): 212 DPI at this size"],
+    failures: [{ what: "bed-02 #3", error: "The master is missing." }],
+  }),
+  intakeFinishedMessage({
+    studio: "Paper & Glue",
+    name: "June pass",
+    link: LINK,
+    counts: { scans: 4, ready: 3, failed: 1, duplicates: 0, pieces: 17 },
+    warnings: [],
+    failures: [{ what: "bed-04.tif", error: "The file is empty (0 bytes)" }],
+  }),
+  scanFailedMessage({
+    studio: "Paper & Glue",
+    scanName: "bed-04.tif",
+    intakeName: "June pass",
+    error: "The file is empty (0 bytes)",
+    link: LINK,
+    failedAt: when,
+  }),
 ];
 
 describe("mail templates", () => {
@@ -42,10 +72,39 @@ describe("mail templates", () => {
   it("a name or file name people typed cannot add markup", () => {
     const hostile = `<img src=x onerror="alert(1)"><a href="http://evil.example">`;
     const parts = [
-      invitationMessage({ studio: hostile, email: "a@b.example", role: "operator", inviter: hostile, link: "https://platen.example/join#token=t", expiresAt: when, validForMs: 86_400_000 }),
-      passwordResetMessage({ studio: "S", name: hostile, link: "https://platen.example/reset-password#token=t", expiresAt: when, validForMs: 3_600_000 }),
-      scanFailedMessage({ studio: "S", scanName: hostile, intakeName: hostile, error: hostile, link: "https://platen.example/scans/1", failedAt: when }),
-      batchFinishedMessage({ studio: "S", name: hostile, link: "https://platen.example/b", finishedAt: when, counts: { total: 1, done: 0, failed: 1, cancelled: 0 }, warnings: [hostile], failures: [{ what: hostile, error: hostile }] }),
+      invitationMessage({
+        studio: hostile,
+        email: "a@b.example",
+        role: "operator",
+        inviter: hostile,
+        link: "https://platen.example/join#token=t",
+        expiresAt: when,
+        validForMs: 86_400_000,
+      }),
+      passwordResetMessage({
+        studio: "S",
+        name: hostile,
+        link: "https://platen.example/reset-password#token=t",
+        expiresAt: when,
+        validForMs: 3_600_000,
+      }),
+      scanFailedMessage({
+        studio: "S",
+        scanName: hostile,
+        intakeName: hostile,
+        error: hostile,
+        link: "https://platen.example/scans/1",
+        failedAt: when,
+      }),
+      batchFinishedMessage({
+        studio: "S",
+        name: hostile,
+        link: "https://platen.example/b",
+        finishedAt: when,
+        counts: { total: 1, done: 0, failed: 1, cancelled: 0 },
+        warnings: [hostile],
+        failures: [{ what: hostile, error: hostile }],
+      }),
     ];
     for (const m of parts) {
       expect(m.html).not.toContain("<img");
@@ -57,9 +116,17 @@ describe("mail templates", () => {
   });
 
   it("refuses a link that is not http(s)", () => {
-    expect(() => invitationMessage({ studio: "S", email: "a@b.example", role: "viewer", inviter: null, link: "javascript:alert(1)", expiresAt: when, validForMs: 1 })).toThrow(
-      "Refusing a javascript: link in a message",
-    );
+    expect(() =>
+      invitationMessage({
+        studio: "S",
+        email: "a@b.example",
+        role: "viewer",
+        inviter: null,
+        link: "javascript:alert(1)",
+        expiresAt: when,
+        validForMs: 1,
+      }),
+    ).toThrow("Refusing a javascript: link in a message");
   });
 
   it("says what happened in plain words, with counts", () => {
@@ -83,10 +150,23 @@ describe("mail templates", () => {
     // Linux allows any byte but "/" and NUL in a file name, so a scan dropped in the inbox can be
     // named with a line break; RFC 5322 §2.2 ends a header field at CRLF, so one left in would
     // start a header of its own.
-    const m = scanFailedMessage({ studio: "Paper & Glue", scanName: "bed-04\r\nBcc: someone@else.example\t.tif", intakeName: "June pass", error: "The file is empty (0 bytes)", link: LINK, failedAt: when });
+    const m = scanFailedMessage({
+      studio: "Paper & Glue",
+      scanName: "bed-04\r\nBcc: someone@else.example\t.tif",
+      intakeName: "June pass",
+      error: "The file is empty (0 bytes)",
+      link: LINK,
+      failedAt: when,
+    });
     expect(m.subject).toBe("A scan failed: bed-04 Bcc: someone@else.example .tif");
     const transport = nodemailer.createTransport({ streamTransport: true, buffer: true });
-    const info = await transport.sendMail({ from: "platen@localhost", to: "ana@studio.example", subject: m.subject, text: m.text, html: m.html });
+    const info = await transport.sendMail({
+      from: "platen@localhost",
+      to: "ana@studio.example",
+      subject: m.subject,
+      text: m.text,
+      html: m.html,
+    });
     const parsed = await simpleParser(info.message as Buffer);
     expect(parsed.subject).toBe(m.subject);
     expect(parsed.bcc).toBeUndefined();
@@ -104,7 +184,13 @@ describe("mail templates", () => {
   it("builds a MIME message that a mail parser reads back as text and HTML alternatives", async () => {
     const m = all()[0]!;
     const transport = nodemailer.createTransport({ streamTransport: true, buffer: true });
-    const info = await transport.sendMail({ from: "platen@localhost", to: "ana@studio.example", subject: m.subject, text: m.text, html: m.html });
+    const info = await transport.sendMail({
+      from: "platen@localhost",
+      to: "ana@studio.example",
+      subject: m.subject,
+      text: m.text,
+      html: m.html,
+    });
     const raw = (info.message as Buffer).toString("utf8");
     expect(raw).toMatch(/Content-Type: multipart\/alternative/);
     const parsed = await simpleParser(info.message as Buffer);

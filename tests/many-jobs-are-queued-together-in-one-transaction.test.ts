@@ -30,7 +30,15 @@ afterAll(async () => {
 
 /** The queued jobs of a queue with the settings pg-boss gave them. */
 async function jobs(queue: string) {
-  const { rows } = await database.pool.query<{ data: { n?: number }; retry_limit: number; retry_delay: number; retry_backoff: boolean; expire_in: string; policy: string | null; state: string }>(
+  const { rows } = await database.pool.query<{
+    data: { n?: number };
+    retry_limit: number;
+    retry_delay: number;
+    retry_backoff: boolean;
+    expire_in: string;
+    policy: string | null;
+    state: string;
+  }>(
     "select data, retry_limit, retry_delay, retry_backoff, expire_in::text, policy, state from pgboss.job where name = $1 order by (data->>'n')::int",
     [queue],
   );
@@ -46,7 +54,10 @@ describe("queueing many jobs in one transaction", () => {
     await withTx(database, boss, async (tx) => {
       const query = tx.client.query.bind(tx.client);
       tx.client.query = ((...args: Parameters<typeof query>) => (statements++, query(...args))) as typeof query;
-      await tx.sendMany(QUEUES.offsiteCheck, Array.from({ length: n }, (_, i) => ({ n: i })));
+      await tx.sendMany(
+        QUEUES.offsiteCheck,
+        Array.from({ length: n }, (_, i) => ({ n: i })),
+      );
       tx.client.query = query;
       await tx.send(QUEUES.offsiteCheck, { n: n });
     });
@@ -67,7 +78,10 @@ describe("queueing many jobs in one transaction", () => {
     const before = (await jobs(QUEUES.render)).length;
     await expect(
       withTx(database, boss, async (tx) => {
-        await tx.sendMany(QUEUES.render, Array.from({ length: 1500 }, (_, i) => ({ fragmentId: "00000000-0000-0000-0000-000000000000", revision: 1, n: i })));
+        await tx.sendMany(
+          QUEUES.render,
+          Array.from({ length: 1500 }, (_, i) => ({ fragmentId: "00000000-0000-0000-0000-000000000000", revision: 1, n: i })),
+        );
         throw new Error("changed my mind");
       }),
     ).rejects.toThrow("changed my mind");

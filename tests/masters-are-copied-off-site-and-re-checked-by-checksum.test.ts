@@ -55,20 +55,17 @@ beforeAll(async () => {
       .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
       .toBuffer(),
   );
-  const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0]
-    .scanId as string;
+  const scanId = (await operator.post("/api/scans/upload").attach("files", file)).body.results[0].scanId as string;
   await waitFor(
     "the split",
-    async () =>
-      (await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 1 ? true : null,
+    async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === 1 ? true : null),
     45_000,
   );
   await operator.post(`/api/scans/${scanId}/approve-remaining`);
   fragment = await waitFor(
     "the master",
     async () => {
-      const [f] = (await operator.get(`/api/scans/${scanId}/fragments`)).body
-        .fragments as Fragment[];
+      const [f] = (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
       return f?.renderState === "done" ? f : null;
     },
     60_000,
@@ -125,16 +122,12 @@ describe("the off-site copy of masters", () => {
     const bad = await operator.post(`/api/fragments/${fragment.id}/offsite/check`);
     expect(bad.status).toBe(200);
     expect(bad.body.copy.status).toBe("failed");
-    expect(bad.body.copy.message).toMatch(
-      /^Checksum mismatch: the off-site copy has SHA-256 [0-9a-f]{12}…, but [0-9a-f]{12}… was copied/,
-    );
+    expect(bad.body.copy.message).toMatch(/^Checksum mismatch: the off-site copy has SHA-256 [0-9a-f]{12}…, but [0-9a-f]{12}… was copied/);
     expect((await offsite()).copy!.status).toBe("failed");
 
     // Copy again: the copy is whole once more and re-checks clean.
     expect((await operator.post(`/api/fragments/${fragment.id}/offsite/copy`)).status).toBe(202);
-    await waitFor("the fresh copy", async () =>
-      (await offsite()).copy?.status === "copied" ? true : null,
-    );
+    await waitFor("the fresh copy", async () => ((await offsite()).copy?.status === "copied" ? true : null));
     const again = await operator.post(`/api/fragments/${fragment.id}/offsite/check`);
     expect(again.body.copy.status).toBe("copied");
   });
@@ -169,7 +162,11 @@ describe("the off-site copy of masters", () => {
     await fs.writeFile(other, Buffer.from("the copy a delete kept, of the master before this one"));
     for (const copiedAt of [null, new Date()]) {
       await stack.offsite!.put(legacy, other);
-      await stack.database.pool.query("update offsite_copies set key = $1, copied_at = $2, status = 'failed' where output_id = $3", [legacy, copiedAt, master.id]);
+      await stack.database.pool.query("update offsite_copies set key = $1, copied_at = $2, status = 'failed' where output_id = $3", [
+        legacy,
+        copiedAt,
+        master.id,
+      ]);
       expect((await operator.post(`/api/fragments/${fragment.id}/offsite/copy`)).status).toBe(202);
       await waitFor("the copy under its own key", async () => {
         const o = await offsite();
@@ -190,7 +187,10 @@ describe("the off-site copy of masters", () => {
       await stack.database.pool.query("update offsite_copies set status = 'pending' where output_id = $1", [master.id]);
       return stack.offsite!.createReadStream(k);
     };
-    const row = await checkMaster({ database: stack.database, boss: stack.boss, library: stack.library, offsite: bucket, log: logger }, master.id);
+    const row = await checkMaster(
+      { database: stack.database, boss: stack.boss, library: stack.library, offsite: bucket, log: logger },
+      master.id,
+    );
     expect(row!.status).toBe("pending");
     expect((await offsite()).copy!.status).toBe("pending");
     await stack.database.pool.query("update offsite_copies set status = 'copied' where output_id = $1", [master.id]);
@@ -221,9 +221,7 @@ describe("the off-site copy of masters", () => {
       /^Copy to the bucket s3:\/\/offsite\/ at http:\/\/127\.0\.0\.1:\d+ failed: .*cannot be reached.* Retrying \(attempt \d of \d\)\.$/,
     );
     // The queue itself shows the job being retried, not dropped.
-    const { rows } = await stack.database.pool.query(
-      "select max(retry_count) as retries from pgboss.job where name = 'offsite-copy'",
-    );
+    const { rows } = await stack.database.pool.query("select max(retry_count) as retries from pgboss.job where name = 'offsite-copy'");
     expect(Number(rows[0].retries)).toBeGreaterThanOrEqual(1);
 
     revived = await startFakeS3({ directory, buckets: ["library", "offsite"], port });

@@ -28,7 +28,10 @@ describe("names saved before names had to be one line", () => {
     const settings = (name: string) => ({ kind: "web", name, size: { mode: "longEdge", longEdge: 800 }, format: "jpeg" });
     const insertPreset = async (name: string) => {
       const { rows } = await q("insert into presets (name, kind) values ($1, 'web') returning id", [name]);
-      await q("insert into preset_versions (preset_id, version, settings) values ($1, 1, $2)", [rows[0].id, JSON.stringify(settings(name))]);
+      await q("insert into preset_versions (preset_id, version, settings) values ($1, 1, $2)", [
+        rows[0].id,
+        JSON.stringify(settings(name)),
+      ]);
       return rows[0].id as string;
     };
     const clean = await insertPreset("Shop square");

@@ -21,7 +21,10 @@ async function twoPieceScan(): Promise<Buffer> {
     <rect x="80" y="90" width="340" height="380" fill="#c0392b"/>
     <rect x="560" y="120" width="320" height="360" fill="#1e8449"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .withMetadata({ density: 300 })
+    .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 const subjects = async (address: string) => (await stack.mail!.to(address)).map((m) => m.subject);
@@ -61,7 +64,11 @@ describe("notice choices", () => {
       mailEnabled: true,
     });
     const viewer = await userAgent(stack, "viewer", "fresh-viewer@test.example");
-    expect((await viewer.get("/api/account/notices")).body.notices).toEqual({ batchFinished: false, intakeFinished: false, scanFailed: false });
+    expect((await viewer.get("/api/account/notices")).body.notices).toEqual({
+      batchFinished: false,
+      intakeFinished: false,
+      scanFailed: false,
+    });
     const bad = await viewer.patch("/api/account/notices").send({});
     expect(bad.status).toBe(400);
     expect(bad.body.error.message).toBe("Expected at least one of batchFinished, intakeFinished or scanFailed");
@@ -91,19 +98,25 @@ describe("notices", () => {
     await busy.post(`/api/scans/${scanId}/approve-remaining`).expect(200);
     const recipes = (await busy.get("/api/recipes")).body.recipes as RecipeSummary[];
     const fragments = (await busy.get(`/api/scans/${scanId}/fragments`)).body.fragments as { id: string }[];
-    const applied = await busy.post(`/api/recipes/${recipes.find((r) => r.builtIn)!.id}/apply`).send({ fragmentIds: fragments.map((f) => f.id) });
+    const applied = await busy
+      .post(`/api/recipes/${recipes.find((r) => r.builtIn)!.id}/apply`)
+      .send({ fragmentIds: fragments.map((f) => f.id) });
     expect(applied.status).toBe(200);
     batchId = applied.body.batch.id;
   });
 
   it("a finished batch tells those who chose batch notices, not those who did not", async () => {
-    const message = await waitFor("the batch notice to the keen operator", async () =>
-      (await stack.mail!.to("keen-operator@test.example")).find((m) => m.subject.startsWith("Batch finished")),
-    60_000);
+    const message = await waitFor(
+      "the batch notice to the keen operator",
+      async () => (await stack.mail!.to("keen-operator@test.example")).find((m) => m.subject.startsWith("Batch finished")),
+      60_000,
+    );
     expect(message.text).toMatch(/Made: 2\n/);
     expect(message.text).toMatch(/Failed: 0\n/);
     expect(message.text).toContain(`${stack.url}/batches/${batchId}`);
-    await waitFor("the batch notice to the admin", async () => (await subjects("admin@test.example")).some((s) => s.startsWith("Batch finished")));
+    await waitFor("the batch notice to the admin", async () =>
+      (await subjects("admin@test.example")).some((s) => s.startsWith("Batch finished")),
+    );
     expect((await queuedFor("busy-operator@test.example")).some((s) => s.startsWith("Batch finished"))).toBe(false);
     expect((await subjects("busy-operator@test.example")).some((s) => s.startsWith("Batch finished"))).toBe(false);
     expect(await queuedFor("quiet-viewer@test.example")).toEqual([]);
@@ -121,7 +134,9 @@ describe("notices", () => {
   });
 
   it("a failed scan tells those who chose it, with its message", async () => {
-    const jpeg = await sharp({ create: { width: 800, height: 600, channels: 3, background: "#e0ded8" } }).jpeg().toBuffer();
+    const jpeg = await sharp({ create: { width: 800, height: 600, channels: 3, background: "#e0ded8" } })
+      .jpeg()
+      .toBuffer();
     const cut = jpeg.subarray(0, Math.floor(jpeg.length * 0.6));
     const up = await busy.post("/api/scans/upload").attach("files", cut, "cut-short.jpg");
     expect(up.status).toBe(201);

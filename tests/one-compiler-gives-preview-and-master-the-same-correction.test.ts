@@ -15,7 +15,7 @@ import { resolvePointStep } from "../worker/pipeline/colour/steps";
 
 function rng(seed: number) {
   let s = seed;
-  return () => ((s = (s * 1664525 + 1013904223) >>> 0) / 4294967296);
+  return () => (s = (s * 1664525 + 1013904223) >>> 0) / 4294967296;
 }
 
 /** Colour steps together: every one a colour-table step, so the whole run is one tetrahedral lookup. */
@@ -39,11 +39,7 @@ function photo(width: number, height: number, seed = 3): RawImage {
   for (let y = 0; y < height; y++) {
     for (let x = 0; x < width; x++) {
       const o = (y * width + x) * 3;
-      const base = [
-        128 + 90 * Math.sin(x / 37 + y / 91),
-        120 + 80 * Math.cos(x / 53 - y / 29),
-        110 + 70 * Math.sin((x + y) / 71),
-      ];
+      const base = [128 + 90 * Math.sin(x / 37 + y / 91), 120 + 80 * Math.cos(x / 53 - y / 29), 110 + 70 * Math.sin((x + y) / 71)];
       for (let c = 0; c < 3; c++) data[o + c] = Math.max(0, Math.min(255, Math.round(base[c]! + (rnd() - 0.5) * 24)));
     }
   }
@@ -80,7 +76,13 @@ describe("one compiler gives the preview and the master the same correction", ()
 
   it("keeps greys grey through a colour table whose steps keep greys (saturation, hue range)", () => {
     const data = Uint8Array.from({ length: 256 * 3 }, (_, i) => Math.floor(i / 3));
-    const out = pointPass({ data, width: 256, height: 1, channels: 3, bitDepth: 8 }, ops([{ type: "saturation", saturation: 1, vibrance: 1 }, { type: "hueRange", centre: 60, saturation: 1 }]));
+    const out = pointPass(
+      { data, width: 256, height: 1, channels: 3, bitDepth: 8 },
+      ops([
+        { type: "saturation", saturation: 1, vibrance: 1 },
+        { type: "hueRange", centre: 60, saturation: 1 },
+      ]),
+    );
     for (let v = 0; v < 256; v++) {
       expect(out.data[v * 3]).toBe(out.data[v * 3 + 1]);
       expect(out.data[v * 3]).toBe(out.data[v * 3 + 2]);
@@ -92,7 +94,11 @@ describe("one compiler gives the preview and the master the same correction", ()
     const full = photo(1600, 1200);
     const recipe: RecipeInput = {
       name: "auto",
-      steps: [{ type: "levels", mode: "auto", clip: 0.01 }, { type: "saturation", vibrance: 0.3 }, { type: "blackAndWhite", mode: "auto" }],
+      steps: [
+        { type: "levels", mode: "auto", clip: 0.01 },
+        { type: "saturation", vibrance: 0.3 },
+        { type: "blackAndWhite", mode: "auto" },
+      ],
     };
     const compiled = compileRecipe(recipe, { dpi: 600, bitDepth: 8 });
     expect(compiled.needsStats).toBe(true);
@@ -128,15 +134,22 @@ describe("one compiler gives the preview and the master the same correction", ()
 
   it("refuses statistics measured for another recipe or background", async () => {
     const img = photo(200, 100);
-    const stats = await compileRecipe({ name: "a", steps: [{ type: "levels", mode: "auto", clip: 0.01 }] }, { dpi: 300, bitDepth: 8 }).measure(img);
+    const stats = await compileRecipe(
+      { name: "a", steps: [{ type: "levels", mode: "auto", clip: 0.01 }] },
+      { dpi: 300, bitDepth: 8 },
+    ).measure(img);
     const other: RecipeInput = { name: "a", steps: [{ type: "levels", mode: "auto", clip: 0.02 }] };
     expect(() => compileRecipe(other, { dpi: 300, bitDepth: 8, stats })).toThrow(
       "The measurements handed in were made for another version of this recipe or another background; measure again",
     );
     // the recipe's name is not part of it: renaming does not invalidate measurements
-    expect(() => compileRecipe({ name: "b", steps: [{ type: "levels", mode: "auto", clip: 0.01 }] }, { dpi: 300, bitDepth: 8, stats })).not.toThrow();
+    expect(() =>
+      compileRecipe({ name: "b", steps: [{ type: "levels", mode: "auto", clip: 0.01 }] }, { dpi: 300, bitDepth: 8, stats }),
+    ).not.toThrow();
     // nor are depth and DPI: an 8-bit preview's measurements serve the 16-bit master
-    expect(() => compileRecipe({ name: "a", steps: [{ type: "levels", mode: "auto", clip: 0.01 }] }, { dpi: 1200, bitDepth: 16, stats })).not.toThrow();
+    expect(() =>
+      compileRecipe({ name: "a", steps: [{ type: "levels", mode: "auto", clip: 0.01 }] }, { dpi: 1200, bitDepth: 16, stats }),
+    ).not.toThrow();
     // another background is another white balance, so other statistics after it
     const wb: RecipeInput = { name: "a", steps: [{ type: "whiteBalance" }, { type: "levels", mode: "auto" }] };
     const wbStats = await compileRecipe(wb, { dpi: 300, bitDepth: 8, background: [240, 238, 230] }).measure(img);
@@ -147,8 +160,12 @@ describe("one compiler gives the preview and the master the same correction", ()
     expect(() => compileRecipe({ name: "x", steps: [{ type: "levels", gamma: 12 }] }, { dpi: 300, bitDepth: 8 })).toThrow(
       "step 1 (levels): Expected gamma between 0.1 and 10 but received 12",
     );
-    expect(() => compileRecipe({ name: "x", steps: [] }, { dpi: 0, bitDepth: 8 })).toThrow("Expected a positive DPI for the image but received 0");
-    expect(() => compileRecipe({ name: "x", steps: [] }, { dpi: 300, bitDepth: 12 as 8 })).toThrow("Expected a bit depth of 8 or 16 but received 12");
+    expect(() => compileRecipe({ name: "x", steps: [] }, { dpi: 0, bitDepth: 8 })).toThrow(
+      "Expected a positive DPI for the image but received 0",
+    );
+    expect(() => compileRecipe({ name: "x", steps: [] }, { dpi: 300, bitDepth: 12 as 8 })).toThrow(
+      "Expected a bit depth of 8 or 16 but received 12",
+    );
     expect(() => compileRecipe({ name: "x", steps: [] }, { dpi: 300, bitDepth: 8, background: [300, 0, 0] })).toThrow(
       "Expected the background as three sRGB values [red, green, blue] from 0 to 255 but received [300,0,0]",
     );
@@ -167,7 +184,10 @@ describe("one compiler gives the preview and the master the same correction", ()
   it("carries alpha through untouched and applies to the colour only", async () => {
     const data = new Uint8Array(64 * 4);
     for (let i = 0; i < 64; i++) data.set([200, 120, 60, i * 4], i * 4);
-    const { image } = await compileRecipe({ name: "x", steps: [{ type: "saturation", saturation: -1 }, { type: "sharpen" }] }, { dpi: 300, bitDepth: 8 }).apply({
+    const { image } = await compileRecipe(
+      { name: "x", steps: [{ type: "saturation", saturation: -1 }, { type: "sharpen" }] },
+      { dpi: 300, bitDepth: 8 },
+    ).apply({
       data,
       width: 8,
       height: 8,

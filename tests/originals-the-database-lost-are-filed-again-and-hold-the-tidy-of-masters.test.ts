@@ -37,7 +37,11 @@ async function fileScan(name: string, bytes: Buffer, pieces: number): Promise<st
   const res = await operator.post("/api/scans/upload").attach("files", file);
   expect(res.status, JSON.stringify(res.body)).toBe(201);
   const scanId = res.body.results[0].scanId as string;
-  await waitFor("the split", async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === pieces ? true : null), 45_000);
+  await waitFor(
+    "the split",
+    async () => ((await operator.get(`/api/scans/${scanId}`)).body.scan.fragments.total === pieces ? true : null),
+    45_000,
+  );
   return scanId;
 }
 
@@ -49,10 +53,14 @@ beforeAll(async () => {
   const bytes = await pieceBed(2, 1);
   const lostId = await fileScan("lost-bed.tif", bytes, 1);
   expect((await operator.post(`/api/scans/${lostId}/approve-remaining`)).status).toBe(200);
-  await waitFor("the lost scan's master", async () => {
-    const list = (await operator.get(`/api/scans/${lostId}/fragments`)).body.fragments as Fragment[];
-    return list.length === 1 && list[0]!.renderState === "done" ? true : null;
-  }, 60_000);
+  await waitFor(
+    "the lost scan's master",
+    async () => {
+      const list = (await operator.get(`/api/scans/${lostId}/fragments`)).body.fragments as Fragment[];
+      return list.length === 1 && list[0]!.renderState === "done" ? true : null;
+    },
+    60_000,
+  );
   const { rows } = await stack.database.pool.query<{ original_key: string; master: string }>(
     `select s.original_key, o.key as master from scans s join fragments f on f.scan_id = s.id join outputs o on o.fragment_id = f.id and o.kind = 'master' where s.id = $1`,
     [lostId],
@@ -74,7 +82,9 @@ describe("originals the database does not know", () => {
     const o = await overview();
     expect(folder(o, "originals/")).toMatchObject({ leftOver: 1, removed: 0 });
     expect(folder(o, "masters/")).toMatchObject({ leftOver: 1, removed: 1 });
-    expect(o.tidy.caution).toMatch(/^The library holds an original the database does not know \(it may have been restored from an older backup\), and a tidy now would remove a master nothing names/);
+    expect(o.tidy.caution).toMatch(
+      /^The library holds an original the database does not know \(it may have been restored from an older backup\), and a tidy now would remove a master nothing names/,
+    );
     const refused = await admin.post("/api/library/tidy").send({});
     expect(refused.status).toBe(409);
     expect(refused.body.error.message).toMatch(/^Nothing was removed\. The library holds an original the database does not know/);
@@ -90,12 +100,18 @@ describe("originals the database does not know", () => {
     const res = await admin.post("/api/library/refile");
     expect(res.status, JSON.stringify(res.body)).toBe(202);
     expect(res.body).toEqual({ originals: 1, queued: 1 });
-    const scan = await waitFor("the scan filed again, split", async () => {
-      const { rows } = await stack.database.pool.query<{ id: string }>(`select id from scans where original_key = $1`, [lost.originalKey]);
-      if (!rows[0]) return null;
-      const s = (await operator.get(`/api/scans/${rows[0].id}`)).body.scan;
-      return s.fragments.total === 1 ? s : null;
-    }, 60_000);
+    const scan = await waitFor(
+      "the scan filed again, split",
+      async () => {
+        const { rows } = await stack.database.pool.query<{ id: string }>(`select id from scans where original_key = $1`, [
+          lost.originalKey,
+        ]);
+        if (!rows[0]) return null;
+        const s = (await operator.get(`/api/scans/${rows[0].id}`)).body.scan;
+        return s.fragments.total === 1 ? s : null;
+      },
+      60_000,
+    );
     expect(scan.source).toBe("library");
     expect(scan.sha256).toBe(sha256(lost.bytes));
     expect(scan.originalName).toBe(`filed-again-${sha256(lost.bytes).slice(0, 12)}.tif`);
@@ -105,12 +121,22 @@ describe("originals the database does not know", () => {
     expect(sha256(await fs.readFile(file))).toBe(sha256(lost.bytes));
     expect((await fs.stat(file)).mtimeMs).toBe(lost.mtimeMs);
     // The trail: the admin's ask and what the job filed, both under the admin's name.
-    const { rows } = await stack.database.pool.query<{ summary: string; actor_email: string; subject_type: string; subject_id: string | null }>(
-      `select summary, actor_email, subject_type, subject_id from audit_events where action = 'library.refile' order by id`,
-    );
+    const { rows } = await stack.database.pool.query<{
+      summary: string;
+      actor_email: string;
+      subject_type: string;
+      subject_id: string | null;
+    }>(`select summary, actor_email, subject_type, subject_id from audit_events where action = 'library.refile' order by id`);
     expect(rows.map((r) => r.actor_email)).toEqual(["admin@test.example", "admin@test.example"]);
-    expect(rows[0]).toMatchObject({ subject_type: "studio", summary: "Asked for the original the database did not know to be filed again as new scans" });
-    expect(rows[1]).toMatchObject({ subject_type: "scan", subject_id: scan.id, summary: `Filed an original the database did not know again as ${scan.originalName}` });
+    expect(rows[0]).toMatchObject({
+      subject_type: "studio",
+      summary: "Asked for the original the database did not know to be filed again as new scans",
+    });
+    expect(rows[1]).toMatchObject({
+      subject_type: "scan",
+      subject_id: scan.id,
+      summary: `Filed an original the database did not know again as ${scan.originalName}`,
+    });
   });
 
   it("once filed again, leave the tidy free to go on, and there is nothing more to file", async () => {
@@ -139,11 +165,23 @@ describe("originals the database does not know", () => {
     const first = await admin.post("/api/library/refile");
     expect(first.body).toEqual({ originals: 1, queued: 1 });
     const jobs = async () =>
-      (await stack.database.pool.query(`select state from pgboss.job where name = 'library-refile' and data->>'key' = $1 and state in ('created', 'retry', 'active')`, [key])).rows.length;
-    await waitFor("the job to look at it and wait", async () => {
-      const { rows } = await stack.database.pool.query(`select 1 from pgboss.job where name = 'library-refile' and data->>'key' = $1 and state = 'completed'`, [key]);
-      return rows.length === 1 ? true : null;
-    }, 30_000);
+      (
+        await stack.database.pool.query(
+          `select state from pgboss.job where name = 'library-refile' and data->>'key' = $1 and state in ('created', 'retry', 'active')`,
+          [key],
+        )
+      ).rows.length;
+    await waitFor(
+      "the job to look at it and wait",
+      async () => {
+        const { rows } = await stack.database.pool.query(
+          `select 1 from pgboss.job where name = 'library-refile' and data->>'key' = $1 and state = 'completed'`,
+          [key],
+        );
+        return rows.length === 1 ? true : null;
+      },
+      30_000,
+    );
     expect(await jobs()).toBe(1);
     const again = await admin.post("/api/library/refile");
     expect(again.body).toEqual({ originals: 1, queued: 0 });
@@ -159,7 +197,15 @@ describe("originals the database does not know", () => {
     await fs.writeFile(file, bytes);
     const deps = { database: stack.database, boss: stack.boss, library: stack.library, log: logger };
     await expect(
-      intakeFile(deps, { path: file, originalName: "audit-fails.tif", source: "library", removeSource: false, audit: async () => { throw new Error("the trail is down (test)"); } }),
+      intakeFile(deps, {
+        path: file,
+        originalName: "audit-fails.tif",
+        source: "library",
+        removeSource: false,
+        audit: async () => {
+          throw new Error("the trail is down (test)");
+        },
+      }),
     ).rejects.toThrow("the trail is down (test)");
     expect((await stack.database.pool.query(`select 1 from scans where sha256 = $1`, [sha256(bytes)])).rows).toHaveLength(0);
     // Its original was stored before the transaction (as every filing's is) and stays: known to none.
@@ -186,12 +232,16 @@ describe("originals the database does not know", () => {
     expect(await refileOriginal(deps, youngKey, admin)).toMatchObject({ outcome: "too-young" });
     expect(sha256(await fs.readFile(stack.libraryPath(damagedKey)))).toBe(before);
     expect((await unknownOriginals(stack.db, stack.library)).sort()).toEqual([damagedKey, youngKey].sort());
-    const { rows } = await stack.database.pool.query<{ summary: string }>(`select summary from audit_events where action = 'library.refile' order by id desc limit 1`);
+    const { rows } = await stack.database.pool.query<{ summary: string }>(
+      `select summary from audit_events where action = 'library.refile' order by id desc limit 1`,
+    );
     expect(rows[0]!.summary).toBe(`Left an original as it is: its bytes no longer match the checksum its name gives (${damagedKey})`);
     // Past the grace period the young one is filed; asked again, a known one is left alone.
     const later = await refileOriginal(deps, youngKey, admin, { now: new Date(Date.now() + REFILE_GRACE_MS + 1000) });
     expect(later.outcome).toBe("filed");
-    expect(await refileOriginal(deps, youngKey, admin, { now: new Date(Date.now() + REFILE_GRACE_MS + 1000) })).toEqual({ outcome: "known" });
+    expect(await refileOriginal(deps, youngKey, admin, { now: new Date(Date.now() + REFILE_GRACE_MS + 1000) })).toEqual({
+      outcome: "known",
+    });
     expect(await unknownOriginals(stack.db, stack.library)).toEqual([damagedKey]);
     expect(await refileOriginal(deps, `originals/cd/${"cd".repeat(32)}.tif`, admin)).toEqual({ outcome: "missing" });
     // A key that is not an original's name (its folder is not its checksum's start) is not filed.

@@ -25,13 +25,25 @@ let cutout: string; // 1000 × 1000 px RGBA, transparent outside a centred squar
 
 beforeAll(async () => {
   piece = at("piece.tif");
-  await sharp({ create: { width: 2400, height: 3000, channels: 3, background: RED } }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toFile(piece);
+  await sharp({ create: { width: 2400, height: 3000, channels: 3, background: RED } })
+    .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toFile(piece);
   wide = at("wide.png");
-  const half = await sharp({ create: { width: 1500, height: 2000, channels: 3, background: { r: 0, g: 200, b: 0 } } }).png().toBuffer();
-  await sharp({ create: { width: 3000, height: 2000, channels: 3, background: { r: 0, g: 0, b: 200 } } }).composite([{ input: half, left: 1500, top: 0 }]).png().toFile(wide);
+  const half = await sharp({ create: { width: 1500, height: 2000, channels: 3, background: { r: 0, g: 200, b: 0 } } })
+    .png()
+    .toBuffer();
+  await sharp({ create: { width: 3000, height: 2000, channels: 3, background: { r: 0, g: 0, b: 200 } } })
+    .composite([{ input: half, left: 1500, top: 0 }])
+    .png()
+    .toFile(wide);
   cutout = at("cutout.png");
-  const inner = await sharp({ create: { width: 500, height: 500, channels: 4, background: { r: 0, g: 0, b: 0, alpha: 1 } } }).png().toBuffer();
-  await sharp({ create: { width: 1000, height: 1000, channels: 4, background: { r: 0, g: 0, b: 0, alpha: 0 } } }).composite([{ input: inner, left: 250, top: 250 }]).png().toFile(cutout);
+  const inner = await sharp({ create: { width: 500, height: 500, channels: 4, background: { r: 0, g: 0, b: 0, alpha: 1 } } })
+    .png()
+    .toBuffer();
+  await sharp({ create: { width: 1000, height: 1000, channels: 4, background: { r: 0, g: 0, b: 0, alpha: 0 } } })
+    .composite([{ input: inner, left: 250, top: 250 }])
+    .png()
+    .toFile(cutout);
 });
 
 async function pixel(file: string, x: number, y: number): Promise<number[]> {
@@ -43,8 +55,17 @@ const near = (got: number[], want: number[], tol = 6) => got.every((v, i) => Mat
 describe("print files", () => {
   it("a Letter TIFF is exactly 8.5 × 11 in × 300 DPI = 2550 × 3300 px with 300 DPI recorded", async () => {
     const before = sha256File(piece);
-    const report = await renderOutput({ master: piece, dpi: 300, title: "Blue gull" }, BUILT_IN_PRESETS["print-letter"], { path: at("letter.tif") });
-    expect(report).toMatchObject({ pixelWidth: 2550, pixelHeight: 3300, printedIn: { width: 8, height: 10 }, printedCm: { width: 20.32, height: 25.4 }, effectiveDpi: 300, warnings: [] });
+    const report = await renderOutput({ master: piece, dpi: 300, title: "Blue gull" }, BUILT_IN_PRESETS["print-letter"], {
+      path: at("letter.tif"),
+    });
+    expect(report).toMatchObject({
+      pixelWidth: 2550,
+      pixelHeight: 3300,
+      printedIn: { width: 8, height: 10 },
+      printedCm: { width: 20.32, height: 25.4 },
+      effectiveDpi: 300,
+      warnings: [],
+    });
     // Read back with exifr: TIFF 6.0 XResolution/YResolution with ResolutionUnit inch.
     const tags = await exifr.parse(at("letter.tif"), { tiff: true, ifd0: true } as never);
     expect(tags).toMatchObject({ XResolution: 300, YResolution: 300, ResolutionUnit: "inches", ImageWidth: 2550, ImageHeight: 3300 });
@@ -67,7 +88,13 @@ describe("print files", () => {
     // Letter portrait at 100 DPI: 850 × 1100 px; the 8 × 10 in area spans x 25–825, y 50–1050 px.
     // The 3 : 2 piece filling it is printed 15 × 10 in, its middle 8 in shown: blue from 3.5 to
     // 7.5 in of the print (page x 25–425 px), green from 7.5 to 11.5 in (page x 425–825 px).
-    const preset = { ...BUILT_IN_PRESETS["print-letter"], orientation: "portrait", scale: { mode: "fill" }, printDpi: 100, cropMarks: true } as PrintPreset;
+    const preset = {
+      ...BUILT_IN_PRESETS["print-letter"],
+      orientation: "portrait",
+      scale: { mode: "fill" },
+      printDpi: 100,
+      cropMarks: true,
+    } as PrintPreset;
     await renderOutput({ master: wide, dpi: 300 }, preset, { path: at("fill.tif") });
     const meta = await sharp(at("fill.tif")).metadata();
     expect([meta.width, meta.height, meta.channels, meta.hasAlpha]).toEqual([850, 1100, 3, false]);
@@ -81,7 +108,11 @@ describe("print files", () => {
     expect(await pixel(at("fill.tif"), 828, 550)).toEqual([255, 255, 255]);
     expect(await pixel(at("fill.tif"), 425, 46)).toEqual([255, 255, 255]);
     // Crop marks: dark hairlines in the margin on the lines of the area's edges, none on the paper elsewhere.
-    const { data } = await sharp(at("fill.tif")).extract({ left: 0, top: 0, width: 25, height: 50 }).greyscale().raw().toBuffer({ resolveWithObject: true });
+    const { data } = await sharp(at("fill.tif"))
+      .extract({ left: 0, top: 0, width: 25, height: 50 })
+      .greyscale()
+      .raw()
+      .toBuffer({ resolveWithObject: true });
     const darkest = (x0: number, x1: number, y0: number, y1: number) => {
       let m = 255;
       for (let y = y0; y <= y1; y++) for (let x = x0; x <= x1; x++) m = Math.min(m, data[y * 25 + x]!);
@@ -107,7 +138,9 @@ describe("print files", () => {
 
   it("warns when a small piece is stretched to fill the print area", async () => {
     const small = at("small.png");
-    await sharp({ create: { width: 1200, height: 1500, channels: 3, background: RED } }).png().toFile(small);
+    await sharp({ create: { width: 1200, height: 1500, channels: 3, background: RED } })
+      .png()
+      .toFile(small);
     const report = await renderOutput({ master: small, dpi: 300 }, BUILT_IN_PRESETS["print-letter"], { path: at("small-letter.tif") });
     expect(report.effectiveDpi).toBe(150);
     expect(report.warnings).toEqual(["Prints at 150 DPI, below the minimum of 300 DPI: it may look soft"]);
@@ -175,9 +208,16 @@ describe("web copies", () => {
 
   it("keeps title, creator, copyright and resolution; carries no location or camera data", async () => {
     const gps = at("with-gps.jpg");
-    await sharp(wide).withExif({ IFD0: { Make: "Acme", Model: "Flatbed 9" }, IFD3: { GPSLatitudeRef: "N", GPSLatitude: "51/1 30/1 0/1" } }).jpeg().toFile(gps);
+    await sharp(wide)
+      .withExif({ IFD0: { Make: "Acme", Model: "Flatbed 9" }, IFD3: { GPSLatitudeRef: "N", GPSLatitude: "51/1 30/1 0/1" } })
+      .jpeg()
+      .toFile(gps);
     expect(await exifr.gps(gps)).toBeTruthy(); // the fixture really has a location
-    await renderOutput({ master: gps, dpi: 600, title: "Blue gull", creator: "R. Moss", copyright: "© 2025 R. Moss" }, BUILT_IN_PRESETS.web, { path: at("web.jpg") });
+    await renderOutput(
+      { master: gps, dpi: 600, title: "Blue gull", creator: "R. Moss", copyright: "© 2025 R. Moss" },
+      BUILT_IN_PRESETS.web,
+      { path: at("web.jpg") },
+    );
     const tags = await exifr.parse(at("web.jpg"), { xmp: true, gps: true, tiff: true } as never);
     // EXIF 2.3 IFD0 ImageDescription / Artist / Copyright and resolution (3000 px → 2048 px from 600 DPI = 409.6).
     expect(tags).toMatchObject({ ImageDescription: "Blue gull", Artist: "R. Moss", Copyright: "(C) 2025 R. Moss", XResolution: 409.6 });
@@ -201,7 +241,15 @@ describe("web copies", () => {
 describe("transparent web copies", () => {
   it("keep the cut-out's transparency and pad a box with transparency", async () => {
     // The 1000 × 1000 cut-out in a 4:5 box 800 px wide (contain, not enlarged): 800 × 800 at top 100.
-    const preset = { kind: "web", name: "clear", size: { mode: "box", aspect: "4:5", width: 800 }, fit: "contain", background: "transparent", format: "webp", quality: 90 };
+    const preset = {
+      kind: "web",
+      name: "clear",
+      size: { mode: "box", aspect: "4:5", width: 800 },
+      fit: "contain",
+      background: "transparent",
+      format: "webp",
+      quality: 90,
+    };
     const report = await renderOutput({ master: cutout, dpi: 300 }, preset, { path: at("clear.webp") });
     expect([report.pixelWidth, report.pixelHeight]).toEqual([800, 1000]);
     const { data, info } = await sharp(at("clear.webp")).ensureAlpha().raw().toBuffer({ resolveWithObject: true });
@@ -216,7 +264,16 @@ describe("transparent web copies", () => {
 
 describe("mock-ups", () => {
   it("has the requested size with the piece in the middle, framed on the wall", async () => {
-    const preset = { kind: "mockup", name: "wall", width: 1200, height: 900, wallColour: "#d0ccc4", frameColour: "#202020", matColour: "#f8f8f4", format: "png" };
+    const preset = {
+      kind: "mockup",
+      name: "wall",
+      width: 1200,
+      height: 900,
+      wallColour: "#d0ccc4",
+      frameColour: "#202020",
+      matColour: "#f8f8f4",
+      format: "png",
+    };
     const report = await renderOutput({ master: piece, dpi: 300 }, preset, { path: at("mock.png") });
     expect([report.pixelWidth, report.pixelHeight]).toEqual([1200, 900]);
     const meta = await sharp(at("mock.png")).metadata();
@@ -231,15 +288,29 @@ describe("mock-ups", () => {
 
 describe("bad input", () => {
   it("gets a clear message and never writes the target", async () => {
-    await expect(renderOutput({ master: at("missing.tif"), dpi: 300 }, BUILT_IN_PRESETS.web, { path: at("x.jpg") })).rejects.toThrow(`Cannot read ${at("missing.tif")}: no such file`);
+    await expect(renderOutput({ master: at("missing.tif"), dpi: 300 }, BUILT_IN_PRESETS.web, { path: at("x.jpg") })).rejects.toThrow(
+      `Cannot read ${at("missing.tif")}: no such file`,
+    );
     fs.writeFileSync(at("empty.tif"), "");
-    await expect(renderOutput({ master: at("empty.tif"), dpi: 300 }, BUILT_IN_PRESETS.web, { path: at("x.jpg") })).rejects.toThrow("is empty (0 bytes)");
+    await expect(renderOutput({ master: at("empty.tif"), dpi: 300 }, BUILT_IN_PRESETS.web, { path: at("x.jpg") })).rejects.toThrow(
+      "is empty (0 bytes)",
+    );
     fs.writeFileSync(at("junk.tif"), "not an image at all");
-    await expect(renderOutput({ master: at("junk.tif"), dpi: 300 }, BUILT_IN_PRESETS.web, { path: at("x.jpg") })).rejects.toThrow(/^Cannot read .*junk\.tif as an image/);
-    await expect(renderOutput({ master: piece, dpi: 300 }, BUILT_IN_PRESETS.web, { path: at("x.png") })).rejects.toThrow(`Expected ${at("x.png")} to end in .jpg or .jpeg for the preset's jpeg output but it ends in ".png"`);
-    await expect(renderOutput({ master: piece, dpi: 300 }, BUILT_IN_PRESETS["print-letter"], { path: piece })).rejects.toThrow(/masters are never overwritten/);
-    await expect(renderOutput({ master: piece, dpi: -1 }, BUILT_IN_PRESETS.web, { path: at("x.jpg") })).rejects.toThrow("Expected the master's resolution as a positive number of DPI but received -1");
-    await expect(renderOutput({ master: piece, dpi: 300 }, { kind: "web", name: "w" }, { path: at("x.jpg") })).rejects.toThrow(/^Invalid preset: size: /);
+    await expect(renderOutput({ master: at("junk.tif"), dpi: 300 }, BUILT_IN_PRESETS.web, { path: at("x.jpg") })).rejects.toThrow(
+      /^Cannot read .*junk\.tif as an image/,
+    );
+    await expect(renderOutput({ master: piece, dpi: 300 }, BUILT_IN_PRESETS.web, { path: at("x.png") })).rejects.toThrow(
+      `Expected ${at("x.png")} to end in .jpg or .jpeg for the preset's jpeg output but it ends in ".png"`,
+    );
+    await expect(renderOutput({ master: piece, dpi: 300 }, BUILT_IN_PRESETS["print-letter"], { path: piece })).rejects.toThrow(
+      /masters are never overwritten/,
+    );
+    await expect(renderOutput({ master: piece, dpi: -1 }, BUILT_IN_PRESETS.web, { path: at("x.jpg") })).rejects.toThrow(
+      "Expected the master's resolution as a positive number of DPI but received -1",
+    );
+    await expect(renderOutput({ master: piece, dpi: 300 }, { kind: "web", name: "w" }, { path: at("x.jpg") })).rejects.toThrow(
+      /^Invalid preset: size: /,
+    );
     expect(fs.existsSync(at("x.jpg"))).toBe(false);
     expect(fs.readdirSync(tmp.dir).filter((f) => f.endsWith(".tmp"))).toEqual([]);
   });
@@ -249,8 +320,11 @@ describe("platen render --preset", () => {
   const ROOT = path.resolve(import.meta.dirname, "..");
   const run = (args: string[]) =>
     new Promise<{ code: number; stdout: string; stderr: string }>((resolve) => {
-      execFile(process.execPath, [path.join(ROOT, "scripts", "platen.mjs"), ...args], { cwd: ROOT, env: { ...process.env, PLATEN_DEFAULT_DPI: "300" }, timeout: 60_000 }, (err, stdout, stderr) =>
-        resolve({ code: err ? (typeof err.code === "number" ? err.code : -1) : 0, stdout, stderr }),
+      execFile(
+        process.execPath,
+        [path.join(ROOT, "scripts", "platen.mjs"), ...args],
+        { cwd: ROOT, env: { ...process.env, PLATEN_DEFAULT_DPI: "300" }, timeout: 60_000 },
+        (err, stdout, stderr) => resolve({ code: err ? (typeof err.code === "number" ? err.code : -1) : 0, stdout, stderr }),
       );
     });
 
@@ -258,8 +332,17 @@ describe("platen render --preset", () => {
     const r = await run(["render", piece, "--preset", "print-letter", "--out", at("cli-letter.tif"), "--json"]);
     expect(r.stderr).toBe("");
     expect(r.code).toBe(0);
-    expect(JSON.parse(r.stdout)).toMatchObject({ pixelWidth: 2550, pixelHeight: 3300, printedIn: { width: 8, height: 10 }, effectiveDpi: 300, warnings: [] });
-    fs.writeFileSync(at("tiny.json"), JSON.stringify({ kind: "web", name: "tiny", size: { mode: "longEdge", longEdge: 300 }, format: "webp" }));
+    expect(JSON.parse(r.stdout)).toMatchObject({
+      pixelWidth: 2550,
+      pixelHeight: 3300,
+      printedIn: { width: 8, height: 10 },
+      effectiveDpi: 300,
+      warnings: [],
+    });
+    fs.writeFileSync(
+      at("tiny.json"),
+      JSON.stringify({ kind: "web", name: "tiny", size: { mode: "longEdge", longEdge: 300 }, format: "webp" }),
+    );
     const f = await run(["render", piece, "--preset", at("tiny.json"), "--out", at("cli-tiny.webp"), "--json"]);
     expect(f.code).toBe(0);
     expect(JSON.parse(f.stdout)).toMatchObject({ pixelWidth: 240, pixelHeight: 300, format: "webp" });
@@ -268,10 +351,23 @@ describe("platen render --preset", () => {
   it("fails with one line for an unknown preset or an invalid preset file", async () => {
     const r = await run(["render", piece, "--preset", "poster", "--out", at("cli.tif")]);
     expect(r.code).toBe(1);
-    expect(r.stderr).toBe('platen render: No built-in preset is called "poster" (they are: web, square, print-letter, print-a4), and it is not a .json file\n');
-    fs.writeFileSync(at("bad.json"), JSON.stringify({ kind: "print", name: "p", paper: { size: "a4" }, layout: { mode: "area", widthIn: 8, heightIn: 10 }, printDpi: 5000 }));
+    expect(r.stderr).toBe(
+      'platen render: No built-in preset is called "poster" (they are: web, square, print-letter, print-a4), and it is not a .json file\n',
+    );
+    fs.writeFileSync(
+      at("bad.json"),
+      JSON.stringify({
+        kind: "print",
+        name: "p",
+        paper: { size: "a4" },
+        layout: { mode: "area", widthIn: 8, heightIn: 10 },
+        printDpi: 5000,
+      }),
+    );
     const b = await run(["render", piece, "--preset", at("bad.json"), "--out", at("cli.tif")]);
     expect(b.code).toBe(1);
-    expect(b.stderr).toBe(`platen render: The preset file ${at("bad.json")} is not a valid preset: printDpi: Expected printDpi as a whole number between 72 and 1200 but received 5000\n`);
+    expect(b.stderr).toBe(
+      `platen render: The preset file ${at("bad.json")} is not a valid preset: printDpi: Expected printDpi as a whole number between 72 and 1200 but received 5000\n`,
+    );
   });
 });

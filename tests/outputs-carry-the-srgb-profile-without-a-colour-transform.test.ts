@@ -35,7 +35,9 @@ beforeAll(async () => {
     noise[i] = s >>> 24;
   }
   piece = at("piece.tif");
-  await img().tiff({ xres: 600 / 25.4, yres: 600 / 25.4, resolutionUnit: "inch" }).toFile(piece);
+  await img()
+    .tiff({ xres: 600 / 25.4, yres: 600 / 25.4, resolutionUnit: "inch" })
+    .toFile(piece);
 });
 
 const pixels = async (data: Buffer | string) => (await sharp(data).raw().toBuffer()).toString("base64");
@@ -65,7 +67,10 @@ describe("the premise: sharp's sRGB → sRGB transform leaves 8-bit values alone
 describe("tagging an encoded file", () => {
   it("JPEG: the same bytes sharp writes with the transform, Exif and XMP included", async () => {
     const base = () =>
-      img().withExif({ IFD0: { Artist: "Ines Okafor" } }).withXmp(xmpPacket({ title: "Tern" })!).withDensity(300);
+      img()
+        .withExif({ IFD0: { Artist: "Ines Okafor" } })
+        .withXmp(xmpPacket({ title: "Tern" })!)
+        .withDensity(300);
     const reference = await base().withIccProfile("srgb").jpeg({ quality: 90 }).toBuffer();
     const tagged = await tagSrgb("jpeg", await base().jpeg({ quality: 90 }).toBuffer());
     expect(tagged.equals(reference)).toBe(true);
@@ -79,7 +84,10 @@ describe("tagging an encoded file", () => {
     // A JFIF APP0 segment (JFIF 1.02: "JFIF\0", version 1.02, units 0, density 1 × 1, no thumbnail).
     const jfif = Buffer.from("ffe000104a46494600010200000100010000", "hex");
     const withJfif = Buffer.concat([plain.subarray(0, 2), jfif, plain.subarray(2)]);
-    for (const [jpeg, appEnd] of [[plain, 2], [withJfif, 2 + jfif.length]] as const) {
+    for (const [jpeg, appEnd] of [
+      [plain, 2],
+      [withJfif, 2 + jfif.length],
+    ] as const) {
       const tagged = jpegWithIcc(jpeg, await srgbProfile());
       expect(tagged.toString("latin1").split("ICC_PROFILE\0").length - 1).toBe(1);
       expect(tagged.readUInt16BE(appEnd)).toBe(0xffe2);
@@ -101,13 +109,23 @@ describe("tagging an encoded file", () => {
   });
 
   it("TIFF: InterColorProfile in IFD0; pixels and profile as sharp's own; resolution kept", async () => {
-    const opts = { compression: "lzw" as const, predictor: "horizontal" as const, xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" as const };
+    const opts = {
+      compression: "lzw" as const,
+      predictor: "horizontal" as const,
+      xres: 300 / 25.4,
+      yres: 300 / 25.4,
+      resolutionUnit: "inch" as const,
+    };
     const reference = await img().withIccProfile("srgb").tiff(opts).toBuffer();
     const tagged = await tagSrgb("tiff", await img().tiff(opts).toBuffer());
     expect(await pixels(tagged)).toBe(await pixels(reference));
     expect((await sharp(tagged).metadata()).icc!.equals(await srgbProfile())).toBe(true);
     expect(await exifrIcc(tagged)).toEqual({ description: "sRGB", space: "RGB", pcs: "XYZ" });
-    expect(await exifr.parse(tagged, { tiff: true, ifd0: true } as never)).toMatchObject({ XResolution: 300, YResolution: 300, ResolutionUnit: "inches" });
+    expect(await exifr.parse(tagged, { tiff: true, ifd0: true } as never)).toMatchObject({
+      XResolution: 300,
+      YResolution: 300,
+      ResolutionUnit: "inches",
+    });
   });
 
   it("in memory and on disk, the same fields give the same bytes", async () => {
@@ -130,7 +148,12 @@ describe("tagging an encoded file", () => {
       .toBuffer();
     expect(big.length).toBeGreaterThan(6_000_000);
     fs.writeFileSync(at("big.tif"), await tagSrgb("tiff", big));
-    expect(await exifr.parse(at("big.tif"), { tiff: true, ifd0: true } as never)).toMatchObject({ XResolution: 300, YResolution: 300, ResolutionUnit: "inches", ImageWidth: 1536 });
+    expect(await exifr.parse(at("big.tif"), { tiff: true, ifd0: true } as never)).toMatchObject({
+      XResolution: 300,
+      YResolution: 300,
+      ResolutionUnit: "inches",
+      ImageWidth: 1536,
+    });
     expect(await exifrIcc(at("big.tif"))).toEqual({ description: "sRGB", space: "RGB", pcs: "XYZ" });
     expect(await pixels(at("big.tif"))).toBe(await pixels(big)); // the strip tables still point at the strips
   });
@@ -159,7 +182,10 @@ describe("the outputs", () => {
       expect(fs.readFileSync(at(file)).toString("latin1").split("ICC_PROFILE\0").length - 1).toBe(file.endsWith(".jpg") ? 1 : 0);
       // The same file's pixels through sharp's transform (the reference) are the pixels stored.
       const stored = await sharp(at(file)).raw().toBuffer();
-      const throughTransform = await sharp(stored, { raw: { width: meta.width!, height: meta.height!, channels: meta.channels! } }).withIccProfile("srgb").raw().toBuffer();
+      const throughTransform = await sharp(stored, { raw: { width: meta.width!, height: meta.height!, channels: meta.channels! } })
+        .withIccProfile("srgb")
+        .raw()
+        .toBuffer();
       expect(stored.equals(throughTransform)).toBe(true);
     });
   }

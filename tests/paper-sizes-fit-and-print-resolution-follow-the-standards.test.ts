@@ -26,7 +26,13 @@ describe("paper sizes", () => {
   it("A0–A6 match the ISO 216 table of whole millimetres", () => {
     // ISO 216:2007, Table 1 (A series).
     const table: [number, number, number][] = [
-      [0, 841, 1189], [1, 594, 841], [2, 420, 594], [3, 297, 420], [4, 210, 297], [5, 148, 210], [6, 105, 148],
+      [0, 841, 1189],
+      [1, 594, 841],
+      [2, 420, 594],
+      [3, 297, 420],
+      [4, 210, 297],
+      [5, 148, 210],
+      [6, 105, 148],
     ];
     for (const [n, w, h] of table) expect(aSeriesMm(n)).toEqual({ width: w, height: h });
     expect(paperSize("a4")).toMatchObject({ widthMm: 210, heightMm: 297 });
@@ -67,7 +73,9 @@ describe("print areas and placement", () => {
   it("centres an 8 × 10 in print area on Letter (common practice)", () => {
     expect(centredArea(paperSize("letter"), 8, 10)).toEqual({ x: 0.25, y: 0.5, width: 8, height: 10 });
     expect(centredArea(oriented(paperSize("letter"), "landscape"), 8, 10)).toEqual({ x: 0.5, y: 0.25, width: 10, height: 8 });
-    expect(() => centredArea(paperSize("letter"), 9, 10)).toThrow("Expected a print area that fits the paper, but 9 × 10 in is larger than 8.5 × 11 in");
+    expect(() => centredArea(paperSize("letter"), 9, 10)).toThrow(
+      "Expected a print area that fits the paper, but 9 × 10 in is larger than 8.5 × 11 in",
+    );
   });
 
   it("takes the print area inside margins and refuses margins that leave none", () => {
@@ -134,11 +142,32 @@ describe("web boxes", () => {
   const web = (p: Partial<WebPreset>) => presetSchema.parse({ kind: "web", name: "t", ...p }) as WebPreset;
   it("contain pads and cover crops to the exact box (hand-computed)", () => {
     const square = BUILT_IN_PRESETS.square as WebPreset;
-    expect(webGeometry(3000, 2000, square)).toMatchObject({ canvasWidth: 1080, canvasHeight: 1080, pieceWidth: 1080, pieceHeight: 720, left: 0, top: 180 });
+    expect(webGeometry(3000, 2000, square)).toMatchObject({
+      canvasWidth: 1080,
+      canvasHeight: 1080,
+      pieceWidth: 1080,
+      pieceHeight: 720,
+      left: 0,
+      top: 180,
+    });
     const portrait = web({ size: { mode: "box", aspect: "4:5", width: 1080 }, fit: "cover" });
-    expect(webGeometry(3000, 2000, portrait)).toMatchObject({ canvasWidth: 1080, canvasHeight: 1350, pieceWidth: 2025, pieceHeight: 1350, left: -472, top: 0 });
+    expect(webGeometry(3000, 2000, portrait)).toMatchObject({
+      canvasWidth: 1080,
+      canvasHeight: 1350,
+      pieceWidth: 2025,
+      pieceHeight: 1350,
+      left: -472,
+      top: 0,
+    });
     const wide = web({ size: { mode: "box", aspect: "16:9", width: 1920 }, fit: "contain" });
-    expect(webGeometry(2000, 2000, wide)).toMatchObject({ canvasWidth: 1920, canvasHeight: 1080, pieceWidth: 1080, pieceHeight: 1080, left: 420, top: 0 });
+    expect(webGeometry(2000, 2000, wide)).toMatchObject({
+      canvasWidth: 1920,
+      canvasHeight: 1080,
+      pieceWidth: 1080,
+      pieceHeight: 1080,
+      left: 420,
+      top: 0,
+    });
     // Never enlarged by contain unless asked: a 500 px piece sits at its own size.
     expect(webGeometry(500, 400, square)).toMatchObject({ pieceWidth: 500, pieceHeight: 400, left: 290, top: 340 });
     expect(webGeometry(3000, 2000, BUILT_IN_PRESETS.web as WebPreset)).toMatchObject({ canvasWidth: 2048, canvasHeight: 1365 });
@@ -149,7 +178,15 @@ describe("the preset editor's picture", () => {
   it("lays the page out as the print file does, margins turned with landscape paper", () => {
     // Uneven margins (mm) on A4 held upright: top 10, right 20, bottom 30, left 40. A wide piece
     // turns the paper, and the margins turn with it (clockwise: the upright left becomes the top).
-    const preset = presetSchema.parse({ kind: "print", name: "p", paper: { size: "a4" }, layout: { mode: "margins", top: 10, right: 20, bottom: 30, left: 40 }, printDpi: 300, scale: { mode: "fit" }, output: "tiff" }) as PrintPreset;
+    const preset = presetSchema.parse({
+      kind: "print",
+      name: "p",
+      paper: { size: "a4" },
+      layout: { mode: "margins", top: 10, right: 20, bottom: 30, left: 40 },
+      printDpi: 300,
+      scale: { mode: "fit" },
+      output: "tiff",
+    }) as PrintPreset;
     const piece = { widthPx: 3000, heightPx: 2000, dpi: 300, title: "Wide" };
     const file = printLayout(piece, preset);
     const picture = editorLayout(preset, piece);
@@ -172,15 +209,28 @@ describe("preset schema", () => {
       expect(r.success).toBe(false);
       return presetProblem(r.error!);
     };
-    expect(bad({ kind: "web", name: "w", size: { mode: "longEdge", longEdge: 2048 }, quality: 120 })).toBe("quality: Expected quality as a whole number between 1 and 100 but received 120");
-    expect(bad({ kind: "print", name: "p", paper: { size: "a9" }, layout: { mode: "area", widthIn: 8, heightIn: 10 } })).toMatch(/^paper\.size: Expected paper to be one of a0, a1/);
-    expect(bad({ kind: "web", name: "w", size: { mode: "longEdge", longEdge: 2048 }, background: "transparent" })).toBe('background: Expected a colour background for JPEG (it has no transparency) but received "transparent"');
+    expect(bad({ kind: "web", name: "w", size: { mode: "longEdge", longEdge: 2048 }, quality: 120 })).toBe(
+      "quality: Expected quality as a whole number between 1 and 100 but received 120",
+    );
+    expect(bad({ kind: "print", name: "p", paper: { size: "a9" }, layout: { mode: "area", widthIn: 8, heightIn: 10 } })).toMatch(
+      /^paper\.size: Expected paper to be one of a0, a1/,
+    );
+    expect(bad({ kind: "web", name: "w", size: { mode: "longEdge", longEdge: 2048 }, background: "transparent" })).toBe(
+      'background: Expected a colour background for JPEG (it has no transparency) but received "transparent"',
+    );
     expect(bad({ kind: "frame" })).toBe('kind: Expected a preset kind of master, web, print or mockup but received "frame"');
     expect(bad({ kind: "mockup", name: "m", colour: "red" })).toBe('Unknown setting "colour" in a mockup preset');
   });
 
   it("ships the four built-in presets as the issue names them", () => {
     expect(Object.keys(BUILT_IN_PRESETS)).toEqual(["web", "square", "print-letter", "print-a4"]);
-    expect(BUILT_IN_PRESETS["print-a4"]).toMatchObject({ paper: { size: "a4" }, layout: { mode: "margins", top: 10, right: 10, bottom: 10, left: 10 }, printDpi: 300, scale: { mode: "fit" }, output: "tiff", minDpi: 300 });
+    expect(BUILT_IN_PRESETS["print-a4"]).toMatchObject({
+      paper: { size: "a4" },
+      layout: { mode: "margins", top: 10, right: 10, bottom: 10, left: 10 },
+      printDpi: 300,
+      scale: { mode: "fit" },
+      output: "tiff",
+      minDpi: 300,
+    });
   });
 });

@@ -30,8 +30,14 @@ describe("password reset", () => {
       expect(res.status).toBe(202);
       expect(res.body).toEqual({ message: RESET_REQUESTED_MESSAGE });
     }
-    expect(Object.keys(unknown.headers).filter((h) => !["date", "x-request-id", "etag", "ratelimit", "ratelimit-policy"].includes(h)).sort()).toEqual(
-      Object.keys(known.headers).filter((h) => !["date", "x-request-id", "etag", "ratelimit", "ratelimit-policy"].includes(h)).sort(),
+    expect(
+      Object.keys(unknown.headers)
+        .filter((h) => !["date", "x-request-id", "etag", "ratelimit", "ratelimit-policy"].includes(h))
+        .sort(),
+    ).toEqual(
+      Object.keys(known.headers)
+        .filter((h) => !["date", "x-request-id", "etag", "ratelimit", "ratelimit-policy"].includes(h))
+        .sort(),
     );
     const token = await tokenFrom("forgetful@test.example");
     const message = (await stack.mail!.to("forgetful@test.example"))[0]!;
@@ -50,14 +56,22 @@ describe("password reset", () => {
     // The session that was open elsewhere is over.
     expect((await signedIn.get("/api/auth/me")).status).toBe(401);
     // The old password no longer works, the new one does.
-    expect((await stack.agent().post("/api/auth/login").send({ email: "forgetful@test.example", password: "operator-password-123" })).status).toBe(401);
-    expect((await stack.agent().post("/api/auth/login").send({ email: "forgetful@test.example", password: "a-brand-new-password" })).status).toBe(200);
+    expect(
+      (await stack.agent().post("/api/auth/login").send({ email: "forgetful@test.example", password: "operator-password-123" })).status,
+    ).toBe(401);
+    expect(
+      (await stack.agent().post("/api/auth/login").send({ email: "forgetful@test.example", password: "a-brand-new-password" })).status,
+    ).toBe(200);
 
     // The link works once.
     const again = await stack.agent().post("/api/auth/password-reset/complete").send({ token, password: "yet-another-password" });
     expect(again.status).toBe(410);
-    expect(again.body.error.message).toBe("This link has already been used, or a newer one was sent. Sign in with your password, or ask for a new link on the sign-in page.");
-    expect((await stack.agent().post("/api/auth/login").send({ email: "forgetful@test.example", password: "a-brand-new-password" })).status).toBe(200);
+    expect(again.body.error.message).toBe(
+      "This link has already been used, or a newer one was sent. Sign in with your password, or ask for a new link on the sign-in page.",
+    );
+    expect(
+      (await stack.agent().post("/api/auth/login").send({ email: "forgetful@test.example", password: "a-brand-new-password" })).status,
+    ).toBe(200);
   });
 
   it("refuses an expired link, and a newer request retires the older link", async () => {
@@ -73,14 +87,21 @@ describe("password reset", () => {
     await stack.db.update(passwordResets).set({ expiresAt: new Date("2026-03-04T05:06:00Z") });
     const expired = await stack.agent().post("/api/auth/password-reset/complete").send({ token: second, password: "slow-new-password" });
     expect(expired.status).toBe(410);
-    expect(expired.body.error.message).toBe("This link expired at 4 March 2026, 05:06 UTC. Ask for a new one on the sign-in page (“Forgot password”).");
-    expect((await stack.agent().post("/api/auth/login").send({ email: "slow@test.example", password: "viewer-password-123" })).status).toBe(200);
+    expect(expired.body.error.message).toBe(
+      "This link expired at 4 March 2026, 05:06 UTC. Ask for a new one on the sign-in page (“Forgot password”).",
+    );
+    expect((await stack.agent().post("/api/auth/login").send({ email: "slow@test.example", password: "viewer-password-123" })).status).toBe(
+      200,
+    );
   });
 
   it("refuses a made-up token before the slow password hash, so such requests cost the server little", async () => {
     const hash = vi.spyOn(bcrypt, "hash");
     try {
-      const res = await stack.agent().post("/api/auth/password-reset/complete").send({ token: "C".repeat(43), password: "guessing-password" });
+      const res = await stack
+        .agent()
+        .post("/api/auth/password-reset/complete")
+        .send({ token: "C".repeat(43), password: "guessing-password" });
       expect(res.status).toBe(410);
       expect(res.body.error.message).toMatch(/^This link to choose a new password does not work/);
       expect(hash).not.toHaveBeenCalled();

@@ -18,7 +18,12 @@ describe("pieces are numbered in reading order", () => {
   });
 
   it("reads two rows of a grid, each left to right, though the pieces lie a little crooked", () => {
-    const grid = [at("bottom right", 610, 520, 400, 380), at("top right", 600, 30, 420, 400), at("bottom left", 20, 560, 390, 400), at("top left", 0, 0, 400, 420)];
+    const grid = [
+      at("bottom right", 610, 520, 400, 380),
+      at("top right", 600, 30, 420, 400),
+      at("bottom left", 20, 560, 390, 400),
+      at("top left", 0, 0, 400, 420),
+    ];
     expect(order(grid)).toEqual(["top left", "top right", "bottom left", "bottom right"]);
   });
 
@@ -38,9 +43,21 @@ describe("pieces are numbered in reading order", () => {
   it("keeps a grid's rows apart beside a tall strip, on either side", () => {
     // [A][B][C]      [T][A][B]
     // [D][E][C]      [T][D][E]
-    const right = [at("A", 0, 0, 400, 400), at("B", 500, 0, 400, 400), at("C", 1000, 0, 300, 900), at("D", 0, 500, 400, 400), at("E", 500, 500, 400, 400)];
+    const right = [
+      at("A", 0, 0, 400, 400),
+      at("B", 500, 0, 400, 400),
+      at("C", 1000, 0, 300, 900),
+      at("D", 0, 500, 400, 400),
+      at("E", 500, 500, 400, 400),
+    ];
     expect(order(right)).toEqual(["A", "B", "C", "D", "E"]);
-    const left = [at("T", 0, 0, 300, 900), at("A", 400, 0, 400, 400), at("B", 900, 0, 400, 400), at("D", 400, 500, 400, 400), at("E", 900, 500, 400, 400)];
+    const left = [
+      at("T", 0, 0, 300, 900),
+      at("A", 400, 0, 400, 400),
+      at("B", 900, 0, 400, 400),
+      at("D", 400, 500, 400, 400),
+      at("E", 900, 500, 400, 400),
+    ];
     expect(order(left)).toEqual(["T", "A", "B", "D", "E"]);
   });
 
@@ -48,7 +65,11 @@ describe("pieces are numbered in reading order", () => {
     //  [A]  [B]   ·        (a 6 px speck between their tops)
     expect(order([at("A", 0, 100, 400, 400), at("speck", 1500, 120, 6, 6), at("B", 500, 130, 400, 400)])).toEqual(["A", "B", "speck"]);
     // [P1]   [P2]  [label]  (two prints a little apart in height, a small label beside them)
-    expect(order([at("P1", 0, 100, 600, 800), at("label", 1500, 250, 200, 100), at("P2", 700, 310, 600, 800)])).toEqual(["P1", "P2", "label"]);
+    expect(order([at("P1", 0, 100, 600, 800), at("label", 1500, 250, 200, 100), at("P2", 700, 310, 600, 800)])).toEqual([
+      "P1",
+      "P2",
+      "label",
+    ]);
   });
 
   it("handles no pieces and one", () => {

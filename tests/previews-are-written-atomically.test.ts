@@ -107,11 +107,7 @@ describe("writePreviews", () => {
     await expectSrgbJpeg(out.previewPath, 800, 1200);
     const { data } = await sharp(out.previewPath).raw().toBuffer({ resolveWithObject: true });
     const row = 600 * width * 3;
-    expect(
-      [...data.subarray(row + 100 * 3, row + 100 * 3 + 3)].every(
-        (v, c) => Math.abs(v - [20, 40, 200][c]!) < 8,
-      ),
-    ).toBe(true);
+    expect([...data.subarray(row + 100 * 3, row + 100 * 3 + 3)].every((v, c) => Math.abs(v - [20, 40, 200][c]!) < 8)).toBe(true);
     expect([...data.subarray(row + 700 * 3, row + 700 * 3 + 3)].every((v) => v > 250)).toBe(true); // white
     expect(fs.readdirSync(out.dir).sort()).toEqual(["preview.jpg", "thumb.jpg"]);
   });
@@ -208,9 +204,7 @@ describe("writePreviews", () => {
         previewLongEdge: 0,
       }),
     ).rejects.toThrow("Expected a positive integer for previewLongEdge but received 0");
-    await expect(
-      writePreviews(path.join(tmp.dir, "never-read.tif"), { ...out, maxPixels }),
-    ).rejects.toBeInstanceOf(ScanError);
+    await expect(writePreviews(path.join(tmp.dir, "never-read.tif"), { ...out, maxPixels })).rejects.toBeInstanceOf(ScanError);
   });
 });
 

@@ -11,16 +11,7 @@ import fs from "node:fs";
 import path from "node:path";
 import zlib from "node:zlib";
 import fontkit from "@pdf-lib/fontkit";
-import {
-  PDFArray,
-  PDFDict,
-  PDFDocument,
-  PDFName,
-  PDFNumber,
-  PDFRawStream,
-  decodePDFRawStream,
-  type PDFObject,
-} from "pdf-lib";
+import { PDFArray, PDFDict, PDFDocument, PDFName, PDFNumber, PDFRawStream, decodePDFRawStream, type PDFObject } from "pdf-lib";
 import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { BUILT_IN_PRESETS, type PrintPreset } from "../shared/schemas/presets";
@@ -57,11 +48,7 @@ beforeAll(async () => {
     .withMetadata({ density: 300 })
     .png()
     .toFile(small);
-  inter = fontkit.create(
-    fs.readFileSync(
-      path.join(ROOT, "node_modules/@fontsource/inter/files/inter-latin-400-normal.woff"),
-    ),
-  );
+  inter = fontkit.create(fs.readFileSync(path.join(ROOT, "node_modules/@fontsource/inter/files/inter-latin-400-normal.woff")));
 });
 
 // ---------------------------------------------------------------------------------------------
@@ -102,18 +89,15 @@ const name = (o: PDFObject | undefined) => (o ? o.toString().replace(/^\//, "") 
 
 function parseToUnicode(cmap: string): Map<number, string> {
   const map = new Map<number, string>();
-  const hexText = (hex: string) =>
-    String.fromCodePoint(...(hex.match(/.{4}/g) ?? []).map((h) => parseInt(h, 16)));
+  const hexText = (hex: string) => String.fromCodePoint(...(hex.match(/.{4}/g) ?? []).map((h) => parseInt(h, 16)));
   for (const block of cmap.matchAll(/beginbfchar([\s\S]*?)endbfchar/g)) {
-    for (const m of block[1]!.matchAll(/<([0-9a-fA-F]+)>\s*<([0-9a-fA-F]+)>/g))
-      map.set(parseInt(m[1]!, 16), hexText(m[2]!));
+    for (const m of block[1]!.matchAll(/<([0-9a-fA-F]+)>\s*<([0-9a-fA-F]+)>/g)) map.set(parseInt(m[1]!, 16), hexText(m[2]!));
   }
   for (const block of cmap.matchAll(/beginbfrange([\s\S]*?)endbfrange/g)) {
     for (const m of block[1]!.matchAll(/<([0-9a-fA-F]+)>\s*<([0-9a-fA-F]+)>\s*<([0-9a-fA-F]+)>/g)) {
       const lo = parseInt(m[1]!, 16);
       const first = parseInt(m[3]!, 16);
-      for (let c = lo; c <= parseInt(m[2]!, 16); c++)
-        map.set(c, String.fromCodePoint(first + c - lo));
+      for (let c = lo; c <= parseInt(m[2]!, 16); c++) map.set(c, String.fromCodePoint(first + c - lo));
     }
   }
   return map;
@@ -148,9 +132,7 @@ interface ShownText {
 }
 
 /** Reads a one-page PDF: its fonts by resource name and each text string shown (Tf, Tm, Tj, TJ; §9.3, §9.4). */
-async function readPdf(
-  bytes: Uint8Array,
-): Promise<{ fonts: Map<string, PdfFont>; shown: ShownText[] }> {
+async function readPdf(bytes: Uint8Array): Promise<{ fonts: Map<string, PdfFont>; shown: ShownText[] }> {
   const doc = await PDFDocument.load(bytes);
   const page = doc.getPage(0);
   const fonts = new Map<string, PdfFont>();
@@ -164,19 +146,14 @@ async function readPdf(
     fonts.set(name(key), {
       baseFont: name(f.get(PDFName.of("BaseFont"))),
       subtype: name(f.get(PDFName.of("Subtype"))),
-      toUnicode: toUnicode
-        ? parseToUnicode(Buffer.from(streamBytes(doc.context.lookup(toUnicode))).toString("latin1"))
-        : new Map(),
+      toUnicode: toUnicode ? parseToUnicode(Buffer.from(streamBytes(doc.context.lookup(toUnicode))).toString("latin1")) : new Map(),
       widths: parseWidths(descendant?.lookupMaybe(PDFName.of("W"), PDFArray)),
       program: program ? streamBytes(doc.context.lookup(program)) : null,
       descriptorKeys: descriptor ? descriptor.keys().map((k) => name(k)) : [],
     });
   }
   const contents = page.node.Contents();
-  const parts =
-    contents instanceof PDFArray
-      ? contents.asArray().map((r) => doc.context.lookup(r))
-      : [contents];
+  const parts = contents instanceof PDFArray ? contents.asArray().map((r) => doc.context.lookup(r)) : [contents];
   const ops = parts.map((s) => Buffer.from(streamBytes(s)).toString("latin1")).join("\n");
   const shown: ShownText[] = [];
   let font = "";
@@ -206,16 +183,12 @@ async function readPdf(
 
 /** The text a reader extracts: every shown string mapped through its font's ToUnicode, in order. */
 const extractText = (pdf: Awaited<ReturnType<typeof readPdf>>) =>
-  pdf.shown
-    .map((s) => s.codes.map((c) => pdf.fonts.get(s.font)!.toUnicode.get(c) ?? "\uFFFD").join(""))
-    .join("");
+  pdf.shown.map((s) => s.codes.map((c) => pdf.fonts.get(s.font)!.toUnicode.get(c) ?? "\uFFFD").join("")).join("");
 /** Horizontal extent of the shown text, points: Tm x plus the W widths less the TJ adjustments, × size / 1000 (§9.4.3, §9.4.4). */
 function textSpan(pdf: Awaited<ReturnType<typeof readPdf>>): { left: number; right: number } {
   const first = pdf.shown[0]!;
   const last = pdf.shown[pdf.shown.length - 1]!;
-  const width =
-    (last.codes.reduce((sum, c) => sum + pdf.fonts.get(last.font)!.widths.get(c)!, 0) - last.adjust) *
-    (last.size / 1000);
+  const width = (last.codes.reduce((sum, c) => sum + pdf.fonts.get(last.font)!.widths.get(c)!, 0) - last.adjust) * (last.size / 1000);
   return { left: first.x, right: last.x + width };
 }
 
@@ -223,15 +196,8 @@ function textSpan(pdf: Awaited<ReturnType<typeof readPdf>>): { left: number; rig
 // Pixels.
 
 /** Grey levels of a region of a file (the page is white with a #333 caption). */
-async function grey(
-  file: string | Buffer,
-  region: { left: number; top: number; width: number; height: number },
-) {
-  const { data, info } = await sharp(file)
-    .extract(region)
-    .greyscale()
-    .raw()
-    .toBuffer({ resolveWithObject: true });
+async function grey(file: string | Buffer, region: { left: number; top: number; width: number; height: number }) {
+  const { data, info } = await sharp(file).extract(region).greyscale().raw().toBuffer({ resolveWithObject: true });
   return { data, width: info.width, height: info.height };
 }
 
@@ -248,9 +214,7 @@ function inkBox(img: { data: Buffer; width: number; height: number }, below = 25
       }
     }
   }
-  return right < 0
-    ? null
-    : { left, top, right, bottom, width: right - left + 1, height: bottom - top + 1 };
+  return right < 0 ? null : { left, top, right, bottom, width: right - left + 1, height: bottom - top + 1 };
 }
 
 /**
@@ -301,12 +265,8 @@ function woffToSfnt(woff: Buffer): Buffer {
 
 const run = (args: string[], env: NodeJS.ProcessEnv) =>
   new Promise<{ code: number; stdout: string; stderr: string }>((resolve) => {
-    execFile(
-      process.execPath,
-      args,
-      { cwd: ROOT, env: { ...process.env, ...env }, timeout: 120_000 },
-      (err, stdout, stderr) =>
-        resolve({ code: err ? (typeof err.code === "number" ? err.code : -1) : 0, stdout, stderr }),
+    execFile(process.execPath, args, { cwd: ROOT, env: { ...process.env, ...env }, timeout: 120_000 }, (err, stdout, stderr) =>
+      resolve({ code: err ? (typeof err.code === "number" ? err.code : -1) : 0, stdout, stderr }),
     );
   });
 
@@ -317,11 +277,7 @@ describe("the caption font", () => {
     const files = captionFontPaths();
     expect(files).toHaveLength(2);
     for (const file of files) {
-      expect(
-        file.startsWith(
-          path.join(ROOT, "node_modules", "@fontsource", "inter", "files") + path.sep,
-        ),
-      ).toBe(true);
+      expect(file.startsWith(path.join(ROOT, "node_modules", "@fontsource", "inter", "files") + path.sep)).toBe(true);
       const font = fontkit.create(fs.readFileSync(file));
       // OpenType name table: family (ID 1) and PostScript name (ID 6).
       expect(font.familyName).toBe("Inter");
@@ -360,9 +316,7 @@ describe("PDF captions", () => {
     expect(extractText(pdf)).toBe(CAPTION);
 
     // The glyph drawn for × is Inter's: its outline in the embedded program equals the shipped file's.
-    const shown = pdf.shown.find((s) =>
-      s.codes.some((c) => pdf.fonts.get(s.font)!.toUnicode.get(c) === "×"),
-    )!;
+    const shown = pdf.shown.find((s) => s.codes.some((c) => pdf.fonts.get(s.font)!.toUnicode.get(c) === "×"))!;
     const font = pdf.fonts.get(shown.font)!;
     const code = shown.codes.find((c) => font.toUnicode.get(c) === "×")!;
     const embedded = fontkit.create(font.program!);
@@ -388,11 +342,7 @@ describe("PDF captions", () => {
   });
 
   it("set letters the Latin file lacks from the Latin Extended one", async () => {
-    await renderOutput(
-      { master: piece, dpi: 300, title: "Łódź harbour" },
-      { ...WITH_CAPTION, output: "pdf" },
-      { path: at("lodz.pdf") },
-    );
+    await renderOutput({ master: piece, dpi: 300, title: "Łódź harbour" }, { ...WITH_CAPTION, output: "pdf" }, { path: at("lodz.pdf") });
     const pdf = await readPdf(fs.readFileSync(at("lodz.pdf")));
     expect(extractText(pdf)).toBe("Łódź harbour — 8 × 10 in (20.32 × 25.4 cm)");
     expect(new Set([...pdf.fonts.values()].map((f) => f.program!.length)).size).toBe(2); // two programs embedded
@@ -428,7 +378,12 @@ async function placedGlyphs(bytes: Uint8Array) {
       const code = parseInt(h, 16);
       const b = program.getGlyph(code).bbox;
       const k = size / program.unitsPerEm;
-      out.push({ text: f.toUnicode.get(code) ?? "\uFFFD", x: tx, y: ty + rise, box: { minX: tx + b.minX * k, maxX: tx + b.maxX * k, minY: ty + rise + b.minY * k, maxY: ty + rise + b.maxY * k } });
+      out.push({
+        text: f.toUnicode.get(code) ?? "\uFFFD",
+        x: tx,
+        y: ty + rise,
+        box: { minX: tx + b.minX * k, maxX: tx + b.maxX * k, minY: ty + rise + b.minY * k, maxY: ty + rise + b.maxY * k },
+      });
       tx += (f.widths.get(code)! / 1000) * size;
     }
   };
@@ -467,7 +422,11 @@ describe("PDF captions with combining marks", () => {
   });
   /** Rows of ink of text set by Pango at 72 pt and 300 DPI (an em of 300 px), as bands from the top. */
   const pangoBands = async (text: string) => {
-    const { data, info } = await sharp({ text: { text, fontfile: ttf, font: "Inter 72", dpi: 300, rgba: true } }).extractChannel(3).negate().raw().toBuffer({ resolveWithObject: true });
+    const { data, info } = await sharp({ text: { text, fontfile: ttf, font: "Inter 72", dpi: 300, rgba: true } })
+      .extractChannel(3)
+      .negate()
+      .raw()
+      .toBuffer({ resolveWithObject: true });
     const img = { data, width: info.width, height: info.height };
     const rowInk = (y: number) => [...data.subarray(y * info.width, (y + 1) * info.width)].some((v) => v < 128);
     const bands: { top: number; bottom: number; box: ReturnType<typeof inkBox> }[] = [];
@@ -514,7 +473,11 @@ describe("PDF captions with a mark on a letter only the Latin Extended file has"
   // Ł is not in Inter's Latin file, the macron is in both: letter and mark must come from the same
   // file, or the font's layout cannot put the mark over the letter.
   it("set the letter and its mark from one file, the mark over the letter", async () => {
-    await renderOutput({ master: piece, dpi: 300, title: "\u0141\u0304" }, { ...WITH_CAPTION, output: "pdf" }, { path: at("l-macron.pdf") });
+    await renderOutput(
+      { master: piece, dpi: 300, title: "\u0141\u0304" },
+      { ...WITH_CAPTION, output: "pdf" },
+      { path: at("l-macron.pdf") },
+    );
     const glyphs = await placedGlyphs(fs.readFileSync(at("l-macron.pdf")));
     const [gl, gm] = [glyphs[0]!, glyphs[1]!];
     expect([gl.text, gm.text]).toEqual(["\u0141", "\u0304"]);
@@ -536,16 +499,9 @@ describe("captions wider than the print area", () => {
   let pdfWarnings: string[];
   let tiffWarnings: string[];
   beforeAll(async () => {
-    pdfWarnings = (
-      await renderOutput(
-        { master: small, dpi: 300, title },
-        { ...narrow, output: "pdf" },
-        { path: at("narrow.pdf") },
-      )
-    ).warnings;
-    tiffWarnings = (
-      await renderOutput({ master: small, dpi: 300, title }, narrow, { path: at("narrow.tif") })
-    ).warnings;
+    pdfWarnings = (await renderOutput({ master: small, dpi: 300, title }, { ...narrow, output: "pdf" }, { path: at("narrow.pdf") }))
+      .warnings;
+    tiffWarnings = (await renderOutput({ master: small, dpi: 300, title }, narrow, { path: at("narrow.tif") })).warnings;
   });
 
   it("keep the printed size whole, shorten the title with an ellipsis and stay inside the area in the PDF", async () => {
@@ -603,17 +559,12 @@ describe("TIFF captions", () => {
     const ink = inkBox(band)!;
     // The first glyph is "B": columns from the ink's left edge to the first blank column.
     let end = ink.left;
-    const inkIn = (x: number) =>
-      Array.from({ length: band.height }, (_, y) => band.data[y * band.width + x]!).some(
-        (v) => v < 250,
-      );
+    const inkIn = (x: number) => Array.from({ length: band.height }, (_, y) => band.data[y * band.width + x]!).some((v) => v < 250);
     while (inkIn(end)) end++;
     const b = inkBox(
       {
         data: Buffer.from(
-          Array.from({ length: band.height }, (_, y) => [
-            ...band.data.subarray(y * band.width + ink.left, y * band.width + end),
-          ]).flat(),
+          Array.from({ length: band.height }, (_, y) => [...band.data.subarray(y * band.width + ink.left, y * band.width + end)]).flat(),
         ),
         width: end - ink.left,
         height: band.height,
@@ -623,9 +574,7 @@ describe("TIFF captions", () => {
     // The baseline (captionBaseline: 10.745 in × 300 = 3223.5 px) is the B's flat foot.
     expect(Math.abs(3150 + b.bottom + 1 - BASELINE_IN * 300)).toBeLessThanOrEqual(1);
     // Cap height from the shipped font's OS/2 table (sCapHeight / unitsPerEm) at 9 pt = 37.5 px.
-    expect(Math.abs(b.height - (inter.capHeight / inter.unitsPerEm) * 37.5)).toBeLessThanOrEqual(
-      1.5,
-    );
+    expect(Math.abs(b.height - (inter.capHeight / inter.unitsPerEm) * 37.5)).toBeLessThanOrEqual(1.5);
   });
 
   it("match the same text set in the same font by Pango and FreeType (sharp's text input)", async () => {
@@ -633,12 +582,7 @@ describe("TIFF captions", () => {
     const ttf = at("inter-latin-400.ttf");
     fs.writeFileSync(ttf, woffToSfnt(fs.readFileSync(captionFontPaths()[0]!)));
     /** Ink coverage 0–1 of a grey image (ink level `inkLevel`) inside its ink box, resampled to w × h. */
-    const coverage = async (
-      img: { data: Buffer; width: number; height: number },
-      inkLevel: number,
-      w?: number,
-      h?: number,
-    ) => {
+    const coverage = async (img: { data: Buffer; width: number; height: number }, inkLevel: number, w?: number, h?: number) => {
       const box = inkBox(img)!;
       const { data, info } = await sharp(img.data, {
         raw: { width: img.width, height: img.height, channels: 1 },
@@ -672,17 +616,12 @@ describe("TIFF captions", () => {
         .toBuffer({ resolveWithObject: true });
       return { data, width: info.width, height: info.height };
     };
-    const ours = await coverage(
-      await grey(on, { left: 0, top: 3150, width: 2550, height: 150 }),
-      51,
-    );
+    const ours = await coverage(await grey(on, { left: 0, top: 3150, width: 2550, height: 150 }), 51);
     const difference = async (img: { data: Buffer; width: number; height: number }) => {
       const ref = await coverage(img, 0, ours.width, ours.height);
       return {
         box: ref.box,
-        meanAbs:
-          ref.values.reduce((sum, v, i) => sum + Math.abs(v - ours.values[i]!), 0) /
-          ref.values.length,
+        meanAbs: ref.values.reduce((sum, v, i) => sum + Math.abs(v - ours.values[i]!), 0) / ref.values.length,
       };
     };
     const inter = await difference(await setBy(ttf, "Inter 9"));
@@ -690,14 +629,7 @@ describe("TIFF captions", () => {
     const mono = at("jetbrains-mono-latin-400.ttf");
     fs.writeFileSync(
       mono,
-      woffToSfnt(
-        fs.readFileSync(
-          path.join(
-            ROOT,
-            "node_modules/@fontsource/jetbrains-mono/files/jetbrains-mono-latin-400-normal.woff",
-          ),
-        ),
-      ),
+      woffToSfnt(fs.readFileSync(path.join(ROOT, "node_modules/@fontsource/jetbrains-mono/files/jetbrains-mono-latin-400-normal.woff"))),
     );
     const other = await difference(await setBy(mono, "JetBrains Mono 9"));
     // Same line length within 1 % (Pango rounds glyph advances to whole pixels; ours keeps the
@@ -751,28 +683,15 @@ describe("TIFF captions", () => {
       '<?xml version="1.0"?>\n<!DOCTYPE fontconfig SYSTEM "urn:fontconfig:fonts.dtd">\n<fontconfig></fontconfig>\n',
     );
     const noFonts = { FONTCONFIG_FILE: emptyConf };
-    fs.writeFileSync(
-      at("caption.json"),
-      JSON.stringify({ ...WITH_CAPTION, name: "letter-caption" }),
-    );
+    fs.writeFileSync(at("caption.json"), JSON.stringify({ ...WITH_CAPTION, name: "letter-caption" }));
     // `platen render` titles the output after the file: "Blue gull".
     const r = await run(
-      [
-        path.join(ROOT, "scripts", "platen.mjs"),
-        "render",
-        piece,
-        "--preset",
-        at("caption.json"),
-        "--out",
-        at("child.tif"),
-        "--json",
-      ],
+      [path.join(ROOT, "scripts", "platen.mjs"), "render", piece, "--preset", at("caption.json"), "--out", at("child.tif"), "--json"],
       noFonts,
     );
     expect(r.stderr).toBe("");
     expect(r.code).toBe(0);
-    const pixels = async (file: string) =>
-      (await sharp(file).raw().toBuffer()).equals(await sharp(on).raw().toBuffer());
+    const pixels = async (file: string) => (await sharp(file).raw().toBuffer()).equals(await sharp(on).raw().toBuffer());
     expect(await pixels(at("child.tif"))).toBe(true);
 
     // Control, whatever fonts this machine has: the variable reaches sharp's own fontconfig in a
@@ -782,14 +701,7 @@ describe("TIFF captions", () => {
     fs.mkdirSync(monoDir);
     fs.writeFileSync(
       path.join(monoDir, "jetbrains-mono.ttf"),
-      woffToSfnt(
-        fs.readFileSync(
-          path.join(
-            ROOT,
-            "node_modules/@fontsource/jetbrains-mono/files/jetbrains-mono-latin-400-normal.woff",
-          ),
-        ),
-      ),
+      woffToSfnt(fs.readFileSync(path.join(ROOT, "node_modules/@fontsource/jetbrains-mono/files/jetbrains-mono-latin-400-normal.woff"))),
     );
     const monoConf = at("mono.conf");
     fs.writeFileSync(

@@ -26,7 +26,13 @@ afterAll(() => tmp.cleanup());
 const at = (name: string) => path.join(tmp.dir, name);
 
 const RIGHTS = { title: "Heron at dusk", creator: "Zoë Ångström", copyright: "© 2026 Zoë Ångström" };
-const CARD = parsePreset({ kind: "print", name: "card", paper: { size: "a6" }, layout: { mode: "margins", top: 10, right: 10, bottom: 10, left: 10 }, printDpi: 150 }) as PrintPreset;
+const CARD = parsePreset({
+  kind: "print",
+  name: "card",
+  paper: { size: "a6" },
+  layout: { mode: "margins", top: 10, right: 10, bottom: 10, left: 10 },
+  printDpi: 150,
+}) as PrintPreset;
 const CARD_PDF = { ...CARD, output: "pdf" } as PrintPreset;
 let piece: string;
 
@@ -93,7 +99,12 @@ describe("a print PDF", () => {
 
   it("carries no Author, copyright or XMP when the studio has none", async () => {
     await renderOutput({ master: piece, dpi: 300, title: "Heron" }, CARD_PDF, { path: at("title-only.pdf") });
-    expect(await pdfInfo(at("title-only.pdf"))).toMatchObject({ Title: "Heron", Author: undefined, Copyright: undefined, Subject: undefined });
+    expect(await pdfInfo(at("title-only.pdf"))).toMatchObject({
+      Title: "Heron",
+      Author: undefined,
+      Copyright: undefined,
+      Subject: undefined,
+    });
   });
 });
 
@@ -104,7 +115,12 @@ describe("what a print's dedupe key covers", () => {
     expect(rightsCarried(BUILT_IN_PRESETS["print-letter"]!, { title: "Heron" })).toEqual({ title: "Heron" });
     expect(rightsCarried(parsePreset({ kind: "mockup", name: "wall" }), RIGHTS)).toEqual({});
     expect(rightsCarried(parsePreset({ kind: "master", name: "archive" }), RIGHTS)).toEqual(RIGHTS);
-    const web = parsePreset({ kind: "web", name: "shop", size: { mode: "longEdge", longEdge: 800 }, keep: { title: false, creator: true, copyright: false, resolution: true } });
+    const web = parsePreset({
+      kind: "web",
+      name: "shop",
+      size: { mode: "longEdge", longEdge: 800 },
+      keep: { title: false, creator: true, copyright: false, resolution: true },
+    });
     expect(rightsCarried(web, RIGHTS)).toEqual({ creator: RIGHTS.creator });
   });
 });

@@ -55,12 +55,27 @@ describe("the recipe schema checks every step with clear messages", () => {
     [{ type: "blackAndWhite", chromaThreshold: 31 }, "step 1 (blackAndWhite): Expected chromaThreshold between 0 and 30 but received 31"],
     [{ type: "descreen", lpi: 20 }, "step 1 (descreen): Expected lpi between 30 and 300 but received 20"],
     [{ type: "sharpen", radiusMm: 3 }, "step 1 (sharpen): Expected radiusMm between 0.02 and 2 but received 3"],
-    [{ type: "whiteBalance", mode: "point" }, "step 1 (whiteBalance): Expected point, the sRGB colour [red, green, blue] (0–255) of a picked neutral, for white balance from a point"],
-    [{ type: "whiteBalance", mode: "gains", gains: [1, 1, 5] }, "step 1 (whiteBalance): Expected gains blue between 0.25 and 4 but received 5"],
-    [{ type: "whiteBalance", mode: "gains", gains: [1, 1] }, "step 1 (whiteBalance): Expected gains as three numbers [red, green, blue] but received a list of 2"],
-    [{ type: "whiteBalance", mode: "sunlight" }, 'step 1 (whiteBalance): Expected white balance mode to be one of background, point, gains but received "sunlight"'],
+    [
+      { type: "whiteBalance", mode: "point" },
+      "step 1 (whiteBalance): Expected point, the sRGB colour [red, green, blue] (0–255) of a picked neutral, for white balance from a point",
+    ],
+    [
+      { type: "whiteBalance", mode: "gains", gains: [1, 1, 5] },
+      "step 1 (whiteBalance): Expected gains blue between 0.25 and 4 but received 5",
+    ],
+    [
+      { type: "whiteBalance", mode: "gains", gains: [1, 1] },
+      "step 1 (whiteBalance): Expected gains as three numbers [red, green, blue] but received a list of 2",
+    ],
+    [
+      { type: "whiteBalance", mode: "sunlight" },
+      'step 1 (whiteBalance): Expected white balance mode to be one of background, point, gains but received "sunlight"',
+    ],
     [{ type: "levels", gama: 2 }, 'step 1 (levels): Unknown setting "gama" in a levels step'],
-    [{ type: "curves" }, 'step 1: Expected a step type of whiteBalance, levels, contrast, saturation, hueRange, blackAndWhite, descreen, sharpen but received "curves"'],
+    [
+      { type: "curves" },
+      'step 1: Expected a step type of whiteBalance, levels, contrast, saturation, hueRange, blackAndWhite, descreen, sharpen but received "curves"',
+    ],
     [{ type: "sharpen", enabled: "yes" }, 'step 1 (sharpen): Expected enabled to be true or false but received "yes"'],
   ])("refuses %j: %s", (step, message) => {
     expect(firstError({ name: "r", steps: [step] })).toBe(message);
@@ -76,7 +91,7 @@ describe("the recipe schema checks every step with clear messages", () => {
     expect(firstError({ steps: [] })).toBe("Expected a recipe name but received nothing");
     expect(firstError({ name: "  ", steps: [] })).toBe("Expected a recipe name of at least one character");
     expect(firstError({ name: "r", steps: [], colour: 1 })).toBe('Unknown setting "colour" in a recipe (a recipe has a name and steps)');
-    expect(firstError([1, 2])).toBe("Expected a recipe object { \"name\": …, \"steps\": […] } but received a list of 2");
+    expect(firstError([1, 2])).toBe('Expected a recipe object { "name": …, "steps": […] } but received a list of 2');
     expect(firstError({ name: "r", steps: {} })).toBe("Expected steps as a list but received an object");
   });
 

@@ -24,27 +24,35 @@ async function twoPieceScan(): Promise<Buffer> {
     <rect x="100" y="100" width="400" height="400" fill="#c0392b"/>
     <rect x="700" y="150" width="350" height="420" fill="#1e8449"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .withMetadata({ density: 300 })
+    .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 const fragmentsOf = async () => (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
 
 async function allRendered(recipeVersionId?: string) {
-  return waitFor("every fragment to be rendered", async () => {
-    const list = await fragmentsOf();
-    if (list.some((f) => f.renderState === "failed")) throw new Error(list.map((f) => f.renderError).join("; "));
-    if (!list.every((f) => f.renderState === "done")) return null;
-    const rows = await stack.db.select().from(outputs);
-    if (recipeVersionId && !rows.every((o) => o.recipeVersionId === recipeVersionId)) return null;
-    return rows.length === list.length * 2 ? rows : null;
-  }, 60_000);
+  return waitFor(
+    "every fragment to be rendered",
+    async () => {
+      const list = await fragmentsOf();
+      if (list.some((f) => f.renderState === "failed")) throw new Error(list.map((f) => f.renderError).join("; "));
+      if (!list.every((f) => f.renderState === "done")) return null;
+      const rows = await stack.db.select().from(outputs);
+      if (recipeVersionId && !rows.every((o) => o.recipeVersionId === recipeVersionId)) return null;
+      return rows.length === list.length * 2 ? rows : null;
+    },
+    60_000,
+  );
 }
 
 /** Mean chroma (max − min of R, G, B) of a web copy: a recipe that removes saturation drives it to 0. */
 async function meanChroma(key: string) {
   const { data, info } = await sharp(stack.libraryPath(key)).removeAlpha().raw().toBuffer({ resolveWithObject: true });
   let sum = 0;
-  for (let i = 0; i < data.length; i += info.channels) sum += Math.max(data[i]!, data[i + 1]!, data[i + 2]!) - Math.min(data[i]!, data[i + 1]!, data[i + 2]!);
+  for (let i = 0; i < data.length; i += info.channels)
+    sum += Math.max(data[i]!, data[i + 1]!, data[i + 2]!) - Math.min(data[i]!, data[i + 1]!, data[i + 2]!);
   return sum / (data.length / info.channels);
 }
 
@@ -91,7 +99,9 @@ describe("recipes", () => {
     // A trigger of this test's own holds each insert a moment, so every request passes its
     // look-up before the first has committed; the unique indexes then refuse the others.
     const hold = async (table: string, run: () => Promise<supertest.Response[]>) => {
-      await stack.db.execute(sql.raw(`create function test_hold() returns trigger language plpgsql as $$ begin perform pg_sleep(0.3); return new; end $$`));
+      await stack.db.execute(
+        sql.raw(`create function test_hold() returns trigger language plpgsql as $$ begin perform pg_sleep(0.3); return new; end $$`),
+      );
       await stack.db.execute(sql.raw(`create trigger test_hold before insert on ${table} for each row execute function test_hold()`));
       try {
         return await run();
@@ -100,21 +110,35 @@ describe("recipes", () => {
         await stack.db.execute(sql.raw("drop function test_hold()"));
       }
     };
-    const made = await hold("recipes", () => Promise.all([1, 2, 3].map(() => operator.post("/api/recipes").send({ name: "Warm paper", steps: [] }))));
+    const made = await hold("recipes", () =>
+      Promise.all([1, 2, 3].map(() => operator.post("/api/recipes").send({ name: "Warm paper", steps: [] }))),
+    );
     expect(made.map((r) => r.status).sort()).toEqual([201, 409, 409]);
-    for (const r of made.filter((r) => r.status === 409)) expect(r.body.error).toEqual({ code: "conflict", field: "name", message: 'A recipe called "Warm paper" already exists.' });
+    for (const r of made.filter((r) => r.status === 409))
+      expect(r.body.error).toEqual({ code: "conflict", field: "name", message: 'A recipe called "Warm paper" already exists.' });
     const id = made.find((r) => r.status === 201)!.body.recipe.id as string;
     const edits = await hold("recipe_versions", () =>
-      Promise.all([-0.1, -0.3].map((saturation) => operator.patch(`/api/recipes/${id}`).send({ steps: [{ type: "saturation", saturation }] }))),
+      Promise.all(
+        [-0.1, -0.3].map((saturation) => operator.patch(`/api/recipes/${id}`).send({ steps: [{ type: "saturation", saturation }] })),
+      ),
     );
     expect(edits.map((r) => r.status).sort()).toEqual([200, 409]);
-    expect(edits.find((r) => r.status === 409)!.body.error).toEqual({ code: "conflict", message: "Another change made the same thing at the same moment. Reload to see it, then try again if you still need to." });
+    expect(edits.find((r) => r.status === 409)!.body.error).toEqual({
+      code: "conflict",
+      message: "Another change made the same thing at the same moment. Reload to see it, then try again if you still need to.",
+    });
     expect((await operator.get(`/api/recipes/${id}`)).body.versions.map((v: { version: number }) => v.version)).toEqual([2, 1]);
     // Presets keep their names the same way.
     const settings = { kind: "web", name: "Shop square", size: { mode: "box", aspect: "1:1", width: 800 }, format: "jpeg" };
-    const presets = await hold("presets", () => Promise.all([1, 2].map(() => operator.post("/api/presets").send({ name: "Shop square", settings }))));
+    const presets = await hold("presets", () =>
+      Promise.all([1, 2].map(() => operator.post("/api/presets").send({ name: "Shop square", settings }))),
+    );
     expect(presets.map((r) => r.status).sort()).toEqual([201, 409]);
-    expect(presets.find((r) => r.status === 409)!.body.error).toEqual({ code: "conflict", field: "name", message: 'A preset called "Shop square" already exists.' });
+    expect(presets.find((r) => r.status === 409)!.body.error).toEqual({
+      code: "conflict",
+      field: "name",
+      message: 'A preset called "Shop square" already exists.',
+    });
   });
 
   it("applying a recipe to an intake re-renders its approved fragments as one batch; outputs point at the new version", async () => {
@@ -128,10 +152,14 @@ describe("recipes", () => {
     expect(res.status).toBe(200);
     expect(res.body).toMatchObject({ fragments: 2, rerender: 2 });
     const batchId = res.body.batch.id as string;
-    const batch = await waitFor("the batch to finish", async () => {
-      const b = (await operator.get(`/api/batches/${batchId}`)).body.batch;
-      return b.finishedAt ? b : null;
-    }, 60_000);
+    const batch = await waitFor(
+      "the batch to finish",
+      async () => {
+        const b = (await operator.get(`/api/batches/${batchId}`)).body.batch;
+        return b.finishedAt ? b : null;
+      },
+      60_000,
+    );
     expect(batch.counts).toMatchObject({ done: 2, failed: 0, total: 2 });
     const after = await allRendered(muted.versionId);
     expect(after.every((o) => o.recipeVersionId === muted.versionId)).toBe(true);
@@ -144,21 +172,30 @@ describe("recipes", () => {
   });
 
   it("retrying a recipe batch's failed render queues the fragment again and makes it", async () => {
-    const batchId = ((await operator.get("/api/batches")).body.batches as { id: string; kind: string }[]).find((b) => b.kind === "recipe")!.id;
+    const batchId = ((await operator.get("/api/batches")).body.batches as { id: string; kind: string }[]).find(
+      (b) => b.kind === "recipe",
+    )!.id;
     // One item failed as a full disk would leave it: the item and its fragment say so.
     const [item] = (await stack.database.pool.query("select id, fragment_id from batch_items where batch_id = $1 limit 1", [batchId])).rows;
     await stack.database.pool.query("update batch_items set state = 'failed', error = 'disk full' where id = $1", [item.id]);
-    await stack.db.update(fragmentsTable).set({ renderState: "failed", renderError: "disk full" }).where(eq(fragmentsTable.id, item.fragment_id));
+    await stack.db
+      .update(fragmentsTable)
+      .set({ renderState: "failed", renderError: "disk full" })
+      .where(eq(fragmentsTable.id, item.fragment_id));
     const res = await operator.post(`/api/batches/${batchId}/retry`);
     expect(res.status).toBe(200);
     // At once, with the retry: the fragment no longer reads as failed.
     const [f] = await stack.db.select().from(fragmentsTable).where(eq(fragmentsTable.id, item.fragment_id));
     expect(f!.renderState).not.toBe("failed");
     expect(f!.renderError).toBeNull();
-    const done = await waitFor("the retried batch to finish", async () => {
-      const b = (await operator.get(`/api/batches/${batchId}`)).body.batch;
-      return b.finishedAt ? b : null;
-    }, 60_000);
+    const done = await waitFor(
+      "the retried batch to finish",
+      async () => {
+        const b = (await operator.get(`/api/batches/${batchId}`)).body.batch;
+        return b.finishedAt ? b : null;
+      },
+      60_000,
+    );
     expect(done.counts).toMatchObject({ done: 2, failed: 0 });
     const [again] = await stack.db.select().from(fragmentsTable).where(eq(fragmentsTable.id, item.fragment_id));
     expect(again!.renderState).toBe("done");
@@ -167,7 +204,9 @@ describe("recipes", () => {
   it("the command line finds a saved recipe by name, at its newest version", async () => {
     const { spawnSync } = await import("node:child_process");
     const src = path.join(stack.inbox, "cli-source.png");
-    await sharp({ create: { width: 200, height: 120, channels: 3, background: "#c0392b" } }).png().toFile(src);
+    await sharp({ create: { width: 200, height: 120, channels: 3, background: "#c0392b" } })
+      .png()
+      .toFile(src);
     const out = path.join(stack.inbox, "cli-out.png");
     const run = spawnSync(process.execPath, ["scripts/platen.mjs", "render", src, "--recipe", "muted stock", "--out", out, "--json"], {
       encoding: "utf8",
@@ -182,16 +221,21 @@ describe("recipes", () => {
 
   it("previews unsaved steps on a fragment from a reduced copy, with histograms and clipping", async () => {
     const [first] = await fragmentsOf();
-    const res = await operator.post("/api/recipes/preview").send({ fragmentId: first!.id, steps: [{ type: "saturation", saturation: -1 }], size: 300 });
+    const res = await operator
+      .post("/api/recipes/preview")
+      .send({ fragmentId: first!.id, steps: [{ type: "saturation", saturation: -1 }], size: 300 });
     expect(res.status).toBe(200);
     expect(Math.max(res.body.width, res.body.height)).toBe(300);
     for (const h of [res.body.histograms.before, res.body.histograms.after]) {
       for (const ch of ["r", "g", "b", "l"]) expect(h[ch]).toHaveLength(256);
     }
     const decode = async (url: string) => {
-      const { data } = await sharp(Buffer.from(url.split(",")[1]!, "base64")).raw().toBuffer({ resolveWithObject: true });
+      const { data } = await sharp(Buffer.from(url.split(",")[1]!, "base64"))
+        .raw()
+        .toBuffer({ resolveWithObject: true });
       let chroma = 0;
-      for (let i = 0; i < data.length; i += 3) chroma += Math.max(data[i]!, data[i + 1]!, data[i + 2]!) - Math.min(data[i]!, data[i + 1]!, data[i + 2]!);
+      for (let i = 0; i < data.length; i += 3)
+        chroma += Math.max(data[i]!, data[i + 1]!, data[i + 2]!) - Math.min(data[i]!, data[i + 1]!, data[i + 2]!);
       return chroma / (data.length / 3);
     };
     expect(await decode(res.body.before)).toBeGreaterThan(40);
@@ -208,10 +252,14 @@ describe("recipes", () => {
     const builtIn = list.find((r) => r.builtIn)!;
     const res = await operator.post(`/api/recipes/${builtIn.id}/apply`).send({ fragmentIds: [first!.id] });
     expect(res.body.rerender).toBe(1);
-    await waitFor("the one fragment to be re-rendered with the default", async () => {
-      const rows = await stack.db.select().from(outputs).where(eq(outputs.fragmentId, first!.id));
-      return rows.length === 2 && rows.every((o) => o.recipeVersionId === builtIn.versionId) ? rows : null;
-    }, 60_000);
+    await waitFor(
+      "the one fragment to be re-rendered with the default",
+      async () => {
+        const rows = await stack.db.select().from(outputs).where(eq(outputs.fragmentId, first!.id));
+        return rows.length === 2 && rows.every((o) => o.recipeVersionId === builtIn.versionId) ? rows : null;
+      },
+      60_000,
+    );
     const other = await stack.db.select().from(outputs);
     expect(other.filter((o) => o.fragmentId !== first!.id).every((o) => o.recipeVersionId !== builtIn.versionId)).toBe(true);
     // A scan's recipe then covers both of its fragments, clearing the fragment's own choice.

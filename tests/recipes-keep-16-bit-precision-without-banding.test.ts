@@ -90,7 +90,10 @@ describe("recipes keep 16-bit precision without banding", () => {
   it("reads a 16-bit file's colours as sRGB: an sRGB-tagged one exactly, another profile converted through it", async () => {
     const srgb8 = [200, 100, 50, 10, 240, 130];
     // the same colours in Display P3 at 8 bits (sharp converts them), then stored at 16 bits tagged P3
-    const p3png = await sharp(Uint8Array.from(srgb8), { raw: { width: 2, height: 1, channels: 3 } }).withIccProfile("p3").png().toBuffer();
+    const p3png = await sharp(Uint8Array.from(srgb8), { raw: { width: 2, height: 1, channels: 3 } })
+      .withIccProfile("p3")
+      .png()
+      .toBuffer();
     const p3values = await sharp(p3png).keepIccProfile().raw().toBuffer();
     const p3file = path.join(tmp.dir, "p3-16.tif");
     // sharp takes untagged 16-bit RGB as P3, so tagging it P3 stores the values unchanged

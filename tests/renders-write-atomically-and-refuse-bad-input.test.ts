@@ -9,12 +9,7 @@ import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type { FragmentGeometry } from "../shared/schemas/fragments";
 import { isScanError } from "../worker/pipeline/errors";
-import {
-  isRenderError,
-  renderFragment,
-  type RenderInput,
-  type RenderTargets,
-} from "../worker/pipeline/render";
+import { isRenderError, renderFragment, type RenderInput, type RenderTargets } from "../worker/pipeline/render";
 import { drawScan, geometryOf, type PieceSpec } from "./helpers/fragment-scans";
 import { makeTempDir, sha256File } from "./helpers/scan-bytes";
 
@@ -80,13 +75,9 @@ describe("renderFragment writes atomically", () => {
     fs.mkdirSync(dir, { recursive: true });
     fs.writeFileSync(path.join(dir, "blocker"), "a file where a folder should be");
     const webPath = path.join(dir, "blocker", "f.jpg");
-    const err = await failure(
-      renderFragment(input(), { masterPath: path.join(dir, "f.tif"), webPath }),
-    );
+    const err = await failure(renderFragment(input(), { masterPath: path.join(dir, "f.tif"), webPath }));
     expect(isRenderError(err) && err.code).toBe("failed");
-    expect(err.message).toMatch(
-      new RegExp(`^Could not write ${webPath.replace(/[.*+?^${}()|[\]\\]/g, "\\$&")}: E[A-Z]+: `),
-    );
+    expect(err.message).toMatch(new RegExp(`^Could not write ${webPath.replace(/[.*+?^${}()|[\]\\]/g, "\\$&")}: E[A-Z]+: `));
     expect(err.message).toMatch(
       /Nothing was left under that name; check the folder exists, is writable and has space, then render again\.$/,
     );
@@ -141,9 +132,7 @@ describe("renderFragment refuses bad input with a clear message", () => {
       rect: { ...geometry.rect, width: 100, height: 60 },
     };
     const err = await refused({ geometry: small });
-    expect(err.message).toMatch(
-      /^Expected the fragment's box \(x \d+–\d+, y \d+–\d+ px\) to lie within its rotated rectangle/,
-    );
+    expect(err.message).toMatch(/^Expected the fragment's box \(x \d+–\d+, y \d+–\d+ px\) to lie within its rotated rectangle/);
   });
 
   it("an angle outside (-45°, 45°] and a missing outline", async () => {
@@ -175,9 +164,7 @@ describe("renderFragment refuses bad input with a clear message", () => {
       `Expected a web copy path ending in .webp for a WebP copy but received ${path.join(tmp.dir, "never", "f.jpg")}.`,
     );
     err = await refused({}, { webLongEdge: 0 });
-    expect(err.message).toBe(
-      "Expected an integer from 1 to 16383 (pixels) for webLongEdge but received 0.",
-    );
+    expect(err.message).toBe("Expected an integer from 1 to 16383 (pixels) for webLongEdge but received 0.");
   });
 
   it("a truncated TIFF, an empty file and a file that is not an image", async () => {
@@ -192,9 +179,7 @@ describe("renderFragment refuses bad input with a clear message", () => {
     const empty = path.join(tmp.dir, "empty.tif");
     fs.writeFileSync(empty, "");
     err = await refused({ source: empty });
-    expect(err.message).toBe(
-      "The file is empty (0 bytes): the scanner or the copy did not finish. Scan again or copy the file again.",
-    );
+    expect(err.message).toBe("The file is empty (0 bytes): the scanner or the copy did not finish. Scan again or copy the file again.");
     const text = path.join(tmp.dir, "notes.tif");
     fs.writeFileSync(text, "not a scan at all, just some notes\n");
     err = await refused({ source: text });

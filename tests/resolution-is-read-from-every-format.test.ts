@@ -11,14 +11,7 @@ import path from "node:path";
 import sharp from "sharp";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { readScanInfo } from "../worker/pipeline/metadata";
-import {
-  baselineTiff,
-  makeTempDir,
-  pngChunk,
-  pngChunks,
-  withJfifApp0,
-  withPhys,
-} from "./helpers/scan-bytes";
+import { baselineTiff, makeTempDir, pngChunk, pngChunks, withJfifApp0, withPhys } from "./helpers/scan-bytes";
 
 const limits = { defaultDpi: 240, maxPixels: 100_000_000 };
 const tmp = makeTempDir("platen-resolution-");
@@ -28,8 +21,7 @@ function save(buf: Buffer, ext: string): string {
   fs.writeFileSync(file, buf);
   return file;
 }
-const grey = (width = 60, height = 40) =>
-  sharp({ create: { width, height, channels: 3, background: { r: 128, g: 128, b: 128 } } });
+const grey = (width = 60, height = 40) => sharp({ create: { width, height, channels: 3, background: { r: 128, g: 128, b: 128 } } });
 
 let plainJpeg: Buffer;
 let plainPng: Buffer;
@@ -80,10 +72,7 @@ describe("TIFF: XResolution, YResolution, ResolutionUnit (TIFF 6.0 Section 8, Ba
   });
 
   it("takes inches when ResolutionUnit is absent (TIFF 6.0 Section 8: Default = 2)", async () => {
-    const file = save(
-      baselineTiff({ width: 30, height: 20, xResolution: [600, 1], yResolution: [600, 1] }),
-      "tif",
-    );
+    const file = save(baselineTiff({ width: 30, height: 20, xResolution: [600, 1], yResolution: [600, 1] }), "tif");
     expect((await readScanInfo(file, limits)).dpi).toEqual({
       x: 600,
       y: 600,
@@ -116,10 +105,7 @@ describe("TIFF: XResolution, YResolution, ResolutionUnit (TIFF 6.0 Section 8, Ba
   });
 
   it("converts centimetres written by sharp: 236.22 px/cm is 600 DPI within 0.002", async () => {
-    const file = save(
-      await grey().tiff({ xres: 23.622, yres: 23.622, resolutionUnit: "cm" }).toBuffer(),
-      "tif",
-    );
+    const file = save(await grey().tiff({ xres: 23.622, yres: 23.622, resolutionUnit: "cm" }).toBuffer(), "tif");
     const { dpi } = await readScanInfo(file, limits);
     expect(dpi.origin).toBe("tiff");
     expect(Math.abs(dpi.x - 600)).toBeLessThan(0.002);
@@ -273,10 +259,7 @@ describe("PNG: the pHYs chunk (PNG spec 11.3.5.3), read from the file", () => {
   });
 
   it("ignores a pHYs whose CRC does not match", async () => {
-    const file = save(
-      withPhys(plainPng, { x: 11811, y: 11811, unit: 1 }, { corruptCrc: true }),
-      "png",
-    );
+    const file = save(withPhys(plainPng, { x: 11811, y: 11811, unit: 1 }, { corruptCrc: true }), "png");
     expect((await readScanInfo(file, limits)).dpi).toEqual({
       x: 240,
       y: 240,
@@ -350,10 +333,7 @@ describe("physical size from pixels and DPI", () => {
   });
 
   it("2480 × 3508 px at 300 DPI is A4, 210 × 297 mm within 0.1 mm (ISO 216)", async () => {
-    const file = save(
-      withPhys(await grey(2480, 3508).png().toBuffer(), { x: 11811, y: 11811, unit: 1 }),
-      "png",
-    );
+    const file = save(withPhys(await grey(2480, 3508).png().toBuffer(), { x: 11811, y: 11811, unit: 1 }), "png");
     const { physical } = await readScanInfo(file, limits);
     expect(Math.abs(physical.widthCm * 10 - 210)).toBeLessThan(0.1);
     expect(Math.abs(physical.heightCm * 10 - 297)).toBeLessThan(0.1);

@@ -20,17 +20,24 @@ async function threePieceScan(): Promise<Buffer> {
     <rect x="700" y="150" width="300" height="420" fill="#2d6a4f" transform="rotate(-6 850 360)"/>
     <rect x="200" y="680" width="450" height="250" fill="#283d6b"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .withMetadata({ density: 300 })
+    .tiff({ xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 const list = async (agent: supertest.Agent) => (await agent.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[];
 
 async function rendered(id: string, revision?: number) {
-  return waitFor(`fragment ${id} to be rendered`, async () => {
-    const f = (await operator.get(`/api/fragments/${id}`)).body.fragment as Fragment;
-    if (f.renderState === "failed") throw new Error(`render failed: ${f.renderError}`);
-    return f.renderState === "done" && (revision === undefined || f.revision === revision) && f.outputs.length === 2 ? f : null;
-  }, 45_000);
+  return waitFor(
+    `fragment ${id} to be rendered`,
+    async () => {
+      const f = (await operator.get(`/api/fragments/${id}`)).body.fragment as Fragment;
+      if (f.renderState === "failed") throw new Error(`render failed: ${f.renderError}`);
+      return f.renderState === "done" && (revision === undefined || f.revision === revision) && f.outputs.length === 2 ? f : null;
+    },
+    45_000,
+  );
 }
 
 beforeAll(async () => {
@@ -41,10 +48,14 @@ beforeAll(async () => {
   await fs.writeFile(file, await threePieceScan());
   const up = await operator.post("/api/scans/upload").attach("files", file);
   scanId = up.body.results[0].scanId;
-  await waitFor("the scan to be analysed and split", async () => {
-    const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
-    return s.status === "ready" ? s : null;
-  }, 45_000);
+  await waitFor(
+    "the scan to be analysed and split",
+    async () => {
+      const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
+      return s.status === "ready" ? s : null;
+    },
+    45_000,
+  );
 });
 afterAll(async () => {
   await stack?.stop();
@@ -77,11 +88,14 @@ describe("reviewing the fragments of a scan", () => {
     expect(Math.abs(master.height - 300)).toBeLessThanOrEqual(4);
 
     expect((await list(viewer)).map((x) => x.id)).toEqual([first!.id]);
-    const download = await viewer.get(`/api/fragments/${first!.id}/outputs/master`).buffer(true).parse((r, cb) => {
-      const chunks: Buffer[] = [];
-      r.on("data", (c: Buffer) => chunks.push(c));
-      r.on("end", () => cb(null, Buffer.concat(chunks)));
-    });
+    const download = await viewer
+      .get(`/api/fragments/${first!.id}/outputs/master`)
+      .buffer(true)
+      .parse((r, cb) => {
+        const chunks: Buffer[] = [];
+        r.on("data", (c: Buffer) => chunks.push(c));
+        r.on("end", () => cb(null, Buffer.concat(chunks)));
+      });
     expect(download.status).toBe(200);
     expect(download.headers["content-disposition"]).toContain("three-pieces-01-master.tif");
     // TIFF 6.0 Section 8: XResolution (282) with ResolutionUnit (296) = 2, inches.
@@ -146,9 +160,16 @@ describe("reviewing the fragments of a scan", () => {
   });
 
   it("draws a fragment the split missed", async () => {
-    const res = await operator.post(`/api/scans/${scanId}/fragments`).send({ rect: { cx: 1300, cy: 850, width: 200, height: 120 }, angle: 0 });
+    const res = await operator
+      .post(`/api/scans/${scanId}/fragments`)
+      .send({ rect: { cx: 1300, cy: 850, width: 200, height: 120 }, angle: 0 });
     expect(res.status).toBe(201);
-    expect(res.body.fragment).toMatchObject({ origin: "drawn", status: "proposed", shape: "rectangle", box: { x: 1200, y: 790, width: 200, height: 120 } });
+    expect(res.body.fragment).toMatchObject({
+      origin: "drawn",
+      status: "proposed",
+      shape: "rectangle",
+      box: { x: 1200, y: 790, width: 200, height: 120 },
+    });
     expect(await list(operator)).toHaveLength(4);
   });
 
@@ -160,10 +181,14 @@ describe("reviewing the fragments of a scan", () => {
 
     const again = await operator.post(`/api/scans/${scanId}/resplit`).send({ sensitivity: 0.8 });
     expect(again.status).toBe(200);
-    await waitFor("the new split", async () => {
-      const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
-      return s.status === "ready" ? s : null;
-    }, 30_000);
+    await waitFor(
+      "the new split",
+      async () => {
+        const s = (await operator.get(`/api/scans/${scanId}`)).body.scan;
+        return s.status === "ready" ? s : null;
+      },
+      30_000,
+    );
     const after = await list(operator);
     expect(after.filter((f) => f.status === "approved")).toHaveLength(4);
     expect(after.filter((f) => f.status === "proposed")).toHaveLength(0);

@@ -46,7 +46,11 @@ describe("saturation, vibrance and the hue range work in CIELAB LCh", () => {
   });
 
   it("keeps a boosted vivid colour's hue when it has to leave the gamut (chroma is lowered, not clipped per channel)", async () => {
-    const vivid: [number, number, number][] = [[55, 70, 40], [80, 75, 100], [40, 60, 290]];
+    const vivid: [number, number, number][] = [
+      [55, 70, 40],
+      [80, 75, 100],
+      [40, 60, 290],
+    ];
     const out = await apply([{ type: "saturation", saturation: 1 }], swatches(vivid));
     vivid.forEach(([, , h], i) => expect(hueDistance(lchAt(out, i)[2], h)).toBeLessThan(2.5));
   });
@@ -79,7 +83,10 @@ describe("saturation, vibrance and the hue range work in CIELAB LCh", () => {
       [55, 30, 200], // outside
       [55, 0.5, 140], // a grey of that "hue"
     ];
-    const out = await apply([{ type: "hueRange", centre: 140, width: 30, feather: 15, hueShift: 10, saturation: 0.5, lightness: 0 }], swatches(colours));
+    const out = await apply(
+      [{ type: "hueRange", centre: 140, width: 30, feather: 15, hueShift: 10, saturation: 0.5, lightness: 0 }],
+      swatches(colours),
+    );
     const [centre, inside, feather, outside, grey] = colours.map((_, i) => lchAt(out, i));
     expect(Math.abs(centre![1] - 45)).toBeLessThan(0.8);
     expect(hueDistance(centre![2], 150)).toBeLessThan(1);

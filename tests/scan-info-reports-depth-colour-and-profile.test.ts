@@ -94,22 +94,19 @@ describe("ICC profile description ('desc' tag, ICC.1)", () => {
     ["srgb", "v4 'mluc' text"],
     ["p3", "v4 'mluc' text"],
     ["cmyk", "v2 'desc' text"],
-  ])(
-    "the %s profile libvips ships, read from a JPEG (%s), matches exifr's ICC reader",
-    async (profile) => {
-      const img = profile === "cmyk" ? flat().toColourspace("cmyk") : flat();
-      const file = await save(img.withIccProfile(profile).jpeg(), "jpg");
-      const info = await readScanInfo(file, limits);
-      const ref = await exifr.parse(file, {
-        icc: { multiSegment: true },
-        tiff: false,
-        jfif: false,
-      });
-      expect(info.hasIccProfile).toBe(true);
-      expect(info.iccDescription).toBe(ref.ProfileDescription);
-      expect(typeof info.iccDescription).toBe("string");
-    },
-  );
+  ])("the %s profile libvips ships, read from a JPEG (%s), matches exifr's ICC reader", async (profile) => {
+    const img = profile === "cmyk" ? flat().toColourspace("cmyk") : flat();
+    const file = await save(img.withIccProfile(profile).jpeg(), "jpg");
+    const info = await readScanInfo(file, limits);
+    const ref = await exifr.parse(file, {
+      icc: { multiSegment: true },
+      tiff: false,
+      jfif: false,
+    });
+    expect(info.hasIccProfile).toBe(true);
+    expect(info.iccDescription).toBe(ref.ProfileDescription);
+    expect(typeof info.iccDescription).toBe("string");
+  });
 
   it("is null without a profile, and for bytes that are not a profile", async () => {
     const info = await readScanInfo(await save(flat().png(), "png"), limits);
@@ -125,12 +122,7 @@ describe("ICC profile description ('desc' tag, ICC.1)", () => {
     const tag = Buffer.concat([Buffer.from("desc\0\0\0\0", "latin1"), u32(text.length), text]);
     const header = Buffer.alloc(128);
     header.write("acsp", 36, "latin1");
-    const table = Buffer.concat([
-      u32(1),
-      Buffer.from("desc", "latin1"),
-      u32(128 + 4 + 12),
-      u32(tag.length),
-    ]);
+    const table = Buffer.concat([u32(1), Buffer.from("desc", "latin1"), u32(128 + 4 + 12), u32(tag.length)]);
     expect(iccDescription(Buffer.concat([header, table, tag]))).toBe("Studio Lamp D50");
   });
 });

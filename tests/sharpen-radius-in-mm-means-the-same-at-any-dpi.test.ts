@@ -80,7 +80,11 @@ describe("sharpen radius in mm means the same at any DPI", () => {
 
   it("would not match if the radius were pixels: the same sigma at both DPIs gives halos a factor 2 apart in mm", async () => {
     const sigmaPx = sharpenSigmaPx(0.25, 600);
-    const r300 = halo(await sharpen(edgeScan(300).image, 300, { radiusMm: (sigmaPx * 25.4) / 300, amount: 1, threshold: 0 }), edgeScan(300).edgePx, 300);
+    const r300 = halo(
+      await sharpen(edgeScan(300).image, 300, { radiusMm: (sigmaPx * 25.4) / 300, amount: 1, threshold: 0 }),
+      edgeScan(300).edgePx,
+      300,
+    );
     const r600 = halo(await sharpen(edgeScan(600).image, 600, { radiusMm: 0.25, amount: 1, threshold: 0 }), edgeScan(600).edgePx, 600);
     expect(r300.fadeMm / r600.fadeMm).toBeGreaterThan(1.6);
   });

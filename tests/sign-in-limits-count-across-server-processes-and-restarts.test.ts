@@ -83,8 +83,8 @@ describe("sign-in limits", () => {
     // A successful sign-in is not counted (skipSuccessfulRequests: taken back once its answer has
     // gone, which may be a moment after the next request): only the new guess stays.
     await expect
-      .poll(async () =>
-        (await stack.database.pool.query("select name, hits from rate_limit_hits where key like '%counted@test.example'")).rows,
+      .poll(
+        async () => (await stack.database.pool.query("select name, hits from rate_limit_hits where key like '%counted@test.example'")).rows,
       )
       .toEqual([{ name: "sign-in", hits: 1 }]);
   });

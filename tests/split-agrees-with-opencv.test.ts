@@ -33,9 +33,7 @@ beforeAll(async () => {
   // once it is. Awaiting the module itself would never settle (it resolves to a thenable, itself),
   // so the callback's argument is passed on wrapped.
   const mod = createRequire(import.meta.url)("@techstark/opencv-js") as OpenCv;
-  const ready = await new Promise<{ cv: OpenCv }>((resolve) =>
-    mod.then((m: OpenCv) => resolve({ cv: m })),
-  );
+  const ready = await new Promise<{ cv: OpenCv }>((resolve) => mod.then((m: OpenCv) => resolve({ cv: m })));
   cv = ready.cv;
   const scenes: [string, SceneSpec][] = [
     ["white lid", mixedOnWhite],
@@ -75,15 +73,10 @@ describe("against OpenCV", () => {
       const contrast = analysis.foreground.contrast;
       const src = cv.matFromArray(height, width, cv.CV_8UC1, Array.from(contrast));
       const dst = new cv.Mat();
-      const theirs = withMat([src, dst], () =>
-        cv.threshold(src, dst, 0, 255, cv.THRESH_BINARY | cv.THRESH_OTSU),
-      );
+      const theirs = withMat([src, dst], () => cv.threshold(src, dst, 0, 255, cv.THRESH_BINARY | cv.THRESH_OTSU));
       const ours = otsuLevel(histogram(contrast));
       expect(ours).toBe(analysis.foreground.threshold.otsuLevel);
-      expect(
-        Math.abs(ours - theirs),
-        `${name}: ours ${ours}, OpenCV ${theirs}`,
-      ).toBeLessThanOrEqual(2);
+      expect(Math.abs(ours - theirs), `${name}: ours ${ours}, OpenCV ${theirs}`).toBeLessThanOrEqual(2);
     }
   });
 
@@ -99,14 +92,7 @@ describe("against OpenCV", () => {
         const stats = new cv.Mat();
         const centroids = new cv.Mat();
         const { count, areas } = withMat([src, labels, stats, centroids], () => {
-          const n: number = cv.connectedComponentsWithStats(
-            src,
-            labels,
-            stats,
-            centroids,
-            8,
-            cv.CV_32S,
-          );
+          const n: number = cv.connectedComponentsWithStats(src, labels, stats, centroids, 8, cv.CV_32S);
           const a: number[] = [];
           for (let i = 1; i < n; i++) a.push(stats.data32S[i * 5 + cv.CC_STAT_AREA]);
           return { count: n - 1, areas: a.sort((p, q) => p - q) };
@@ -127,10 +113,7 @@ describe("against OpenCV", () => {
         [50, 25],
         [-50, 25],
       ] as Point[]
-    ).flatMap(([u, v]) => [
-      100 + u * Math.cos(t) - v * Math.sin(t),
-      100 + u * Math.sin(t) + v * Math.cos(t),
-    ]);
+    ).flatMap(([u, v]) => [100 + u * Math.cos(t) - v * Math.sin(t), 100 + u * Math.sin(t) + v * Math.cos(t)]);
     const mat = cv.matFromArray(4, 1, cv.CV_32FC2, pts);
     const r = withMat([mat], () => cv.minAreaRect(mat));
     const dir: Point = [Math.cos((r.angle * Math.PI) / 180), Math.sin((r.angle * Math.PI) / 180)];
@@ -146,17 +129,11 @@ describe("against OpenCV", () => {
       for (const f of analysis.fragments) {
         const mat = cv.matFromArray(f.outline.length, 1, cv.CV_32FC2, f.outline.flat());
         const r = withMat([mat], () => cv.minAreaRect(mat));
-        const theirs = uprightFrame([
-          Math.cos((r.angle * Math.PI) / 180),
-          Math.sin((r.angle * Math.PI) / 180),
-        ]).angle;
+        const theirs = uprightFrame([Math.cos((r.angle * Math.PI) / 180), Math.sin((r.angle * Math.PI) / 180)]).angle;
         const ours = minAreaRect(f.outline as Point[]);
         let diff = Math.abs(ours.angle - theirs) % 90;
         diff = Math.min(diff, 90 - diff); // −45 and 45 are the same rectangle
-        expect(
-          diff,
-          `${name}, fragment at ${JSON.stringify(f.box)}: ours ${ours.angle}°, OpenCV ${theirs}°`,
-        ).toBeLessThanOrEqual(0.5);
+        expect(diff, `${name}, fragment at ${JSON.stringify(f.box)}: ours ${ours.angle}°, OpenCV ${theirs}°`).toBeLessThanOrEqual(0.5);
         const theirArea = r.size.width * r.size.height;
         expect(Math.abs(ours.area - theirArea) / theirArea).toBeLessThanOrEqual(0.005);
         compared++;

@@ -21,29 +21,14 @@ import {
   paleBorderedPrint,
   twoPiecesApart,
 } from "./helpers/split-scenes";
-import {
-  iou,
-  rectOutline,
-  renderScene,
-  writeScene,
-  type Scene,
-  type SceneSpec,
-} from "./helpers/synthetic-scans";
+import { iou, rectOutline, renderScene, writeScene, type Scene, type SceneSpec } from "./helpers/synthetic-scans";
 
 const tmp = makeTempDir("platen-split-");
 afterAll(() => tmp.cleanup());
 
-async function scan(
-  name: string,
-  spec: SceneSpec,
-  format: "png" | "tiff" | "jpeg" = "png",
-  embedDpi = true,
-) {
+async function scan(name: string, spec: SceneSpec, format: "png" | "tiff" | "jpeg" = "png", embedDpi = true) {
   const scene = renderScene(spec);
-  const file = path.join(
-    tmp.dir,
-    `${name}.${format === "jpeg" ? "jpg" : format === "tiff" ? "tif" : "png"}`,
-  );
+  const file = path.join(tmp.dir, `${name}.${format === "jpeg" ? "jpg" : format === "tiff" ? "tif" : "png"}`);
   await writeScene(scene, file, format, embedDpi);
   return { scene, file };
 }
@@ -64,30 +49,18 @@ function expectPiecesMatch(result: SplitResult, scene: Scene, opts: { sizeScale?
         best = i;
       }
     });
-    expect(
-      best,
-      `no fragment overlaps the piece at ${JSON.stringify(truth.box)}`,
-    ).toBeGreaterThanOrEqual(0);
+    expect(best, `no fragment overlaps the piece at ${JSON.stringify(truth.box)}`).toBeGreaterThanOrEqual(0);
     used.add(best);
     const f = result.fragments[best]!;
     const where = `piece at ${JSON.stringify(truth.box)}, found ${JSON.stringify(f.box)}`;
     expect(bestIou, `box IoU of the ${where}`).toBeGreaterThanOrEqual(0.95);
     expect(f.shape, `shape of the ${where}`).toBe(truth.shape);
     if (truth.angleDefined) {
-      expect(
-        Math.abs(f.angle - truth.angle),
-        `angle of the ${where}: ${f.angle}° for ${truth.angle}°`,
-      ).toBeLessThanOrEqual(0.5);
+      expect(Math.abs(f.angle - truth.angle), `angle of the ${where}: ${f.angle}° for ${truth.angle}°`).toBeLessThanOrEqual(0.5);
     }
     if (truth.shape === "rectangle" && truth.box.x > 0 && truth.box.y > 0) {
-      expect(
-        Math.abs(f.sizeMm.width - k * truth.sizeMm.width),
-        `width of the ${where}`,
-      ).toBeLessThanOrEqual(0.5);
-      expect(
-        Math.abs(f.sizeMm.height - k * truth.sizeMm.height),
-        `height of the ${where}`,
-      ).toBeLessThanOrEqual(0.5);
+      expect(Math.abs(f.sizeMm.width - k * truth.sizeMm.width), `width of the ${where}`).toBeLessThanOrEqual(0.5);
+      expect(Math.abs(f.sizeMm.height - k * truth.sizeMm.height), `height of the ${where}`).toBeLessThanOrEqual(0.5);
     }
     expect(() => detectedPieceSchema.parse(f)).not.toThrow();
     expect(f.box.x + f.box.width).toBeLessThanOrEqual(result.width);
@@ -183,9 +156,7 @@ describe("the split on synthetic scans", () => {
     expect(high.threshold.deltaE).toBeLessThan(low.threshold.deltaE);
     expect(low.fragments).toHaveLength(2);
     expect(high.fragments).toHaveLength(2);
-    await expect(splitScan(file, { sensitivity: 1.5 })).rejects.toThrow(
-      "Expected a sensitivity from 0 to 1 but received 1.5",
-    );
+    await expect(splitScan(file, { sensitivity: 1.5 })).rejects.toThrow("Expected a sensitivity from 0 to 1 but received 1.5");
   });
 
   it("refuses a file that is not an image with the reader's clear message", async () => {

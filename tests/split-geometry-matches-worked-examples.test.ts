@@ -7,14 +7,7 @@ import { labToSrgb8, srgb8ToLab } from "../worker/pipeline/split/colour";
 import { labelComponents } from "../worker/pipeline/split/components";
 import { crackPolygon, traceCracks } from "../worker/pipeline/split/contour";
 import { squaredDistance } from "../worker/pipeline/split/distance";
-import {
-  convexHull,
-  minAreaRect,
-  polygonArea,
-  simplifyPolyline,
-  uprightFrame,
-  type Point,
-} from "../worker/pipeline/split/geometry";
+import { convexHull, minAreaRect, polygonArea, simplifyPolyline, uprightFrame, type Point } from "../worker/pipeline/split/geometry";
 import { cutThinParts, fillHoles } from "../worker/pipeline/split/morphology";
 import { medianInPlace } from "../worker/pipeline/split/stats";
 import { contrastLevel, levelToDeltaE, otsuLevel } from "../worker/pipeline/split/threshold";
@@ -29,10 +22,7 @@ const turned = (w: number, h: number, deg: number, cx = 0, cy = 0): Point[] => {
       [w / 2, h / 2],
       [-w / 2, h / 2],
     ] as Point[]
-  ).map(([u, v]) => [
-    cx + u * Math.cos(t) - v * Math.sin(t),
-    cy + u * Math.sin(t) + v * Math.cos(t),
-  ]);
+  ).map(([u, v]) => [cx + u * Math.cos(t) - v * Math.sin(t), cy + u * Math.sin(t) + v * Math.cos(t)]);
 };
 
 /** Every hull edge direction tried, every point projected: the definition of the optimum. */
@@ -127,10 +117,7 @@ describe("minimum-area rectangle (rotating calipers)", () => {
     const rnd = random(7);
     for (let trial = 0; trial < 50; trial++) {
       const n = 3 + Math.floor(rnd() * 60);
-      const pts: Point[] = Array.from({ length: n }, () => [
-        rnd() * 100 - 50,
-        rnd() * 30 - 15 + rnd() * 20,
-      ]);
+      const pts: Point[] = Array.from({ length: n }, () => [rnd() * 100 - 50, rnd() * 30 - 15 + rnd() * 20]);
       expect(minAreaRect(pts).area).toBeCloseTo(bruteMinArea(pts), 6);
     }
   });
@@ -173,11 +160,7 @@ describe("pixel primitives", () => {
     for (let i = 0; i < w * h; i++) {
       let best = Infinity;
       for (let j = 0; j < w * h; j++) {
-        if (mask[j])
-          best = Math.min(
-            best,
-            ((i % w) - (j % w)) ** 2 + (Math.floor(i / w) - Math.floor(j / w)) ** 2,
-          );
+        if (mask[j]) best = Math.min(best, ((i % w) - (j % w)) ** 2 + (Math.floor(i / w) - Math.floor(j / w)) ** 2);
       }
       expect(d[i]).toBe(best);
     }
@@ -196,8 +179,7 @@ describe("pixel primitives", () => {
     const w = 5,
       h = 5;
     const mask = new Uint8Array(w * h);
-    for (let y = 1; y < 4; y++)
-      for (let x = 1; x < 4; x++) mask[y * w + x] = x === 2 && y === 2 ? 0 : 1;
+    for (let y = 1; y < 4; y++) for (let x = 1; x < 4; x++) mask[y * w + x] = x === 2 && y === 2 ? 0 : 1;
     const { labels, components } = labelComponents(mask, w, h);
     const poly = crackPolygon(traceCracks(labels, w, h, 1, components[0]!.first));
     expect(polygonArea(poly)).toBe(9); // the outer edge encloses the hole
@@ -244,8 +226,7 @@ describe("threshold", () => {
     expect(contrastLevel(0)).toBe(0);
     expect(contrastLevel(150)).toBe(255);
     expect(contrastLevel(1000)).toBe(255);
-    for (const d of [0.5, 2, 5, 10, 40, 100])
-      expect(levelToDeltaE(Math.log1p(d / 2) * (255 / Math.log1p(75)))).toBeCloseTo(d, 9);
+    for (const d of [0.5, 2, 5, 10, 40, 100]) expect(levelToDeltaE(Math.log1p(d / 2) * (255 / Math.log1p(75)))).toBeCloseTo(d, 9);
   });
 });
 
@@ -268,11 +249,7 @@ describe("colour difference space (CIELAB D65 from sRGB, IEC 61966-2-1 and CIE 1
   it("round-trips 8-bit sRGB through CIELAB", () => {
     const rnd = random(11);
     for (let i = 0; i < 500; i++) {
-      const rgb: [number, number, number] = [0, 0, 0].map(() => Math.floor(rnd() * 256)) as [
-        number,
-        number,
-        number,
-      ];
+      const rgb: [number, number, number] = [0, 0, 0].map(() => Math.floor(rnd() * 256)) as [number, number, number];
       expect(labToSrgb8(srgb8ToLab(...rgb))).toEqual(rgb);
     }
   });

@@ -28,8 +28,7 @@ describe("the CIELAB table of the split", () => {
     expect(worst).toBeGreaterThan(0); // it is an approximation, not the same function
     expect(worst).toBeLessThanOrEqual(bound * 1.001 + 1e-15);
     // exact at the table's knots and on the linear part below the knee
-    for (let k = 0; k <= F_STEPS; k += 97)
-      expect(fTable(k / F_STEPS)).toBeCloseTo(exactF(k / F_STEPS), 14);
+    for (let k = 0; k <= F_STEPS; k += 97) expect(fTable(k / F_STEPS)).toBeCloseTo(exactF(k / F_STEPS), 14);
     for (const t of [0, 0.001, 0.004, 0.008]) expect(fTable(t)).toBeCloseTo(exactF(t), 13);
     expect(fTable(1)).toBe(1);
   });

@@ -155,9 +155,18 @@ describe("CIELAB follows CIE 15:2004", () => {
     expect(Math.hypot(grey[1], grey[2])).toBeLessThan(1e-9);
     // primaries: values commonly published from the sRGB definition (from memory), within 0.05
     const cases: [number[], number[]][] = [
-      [[1, 0, 0], [53.24, 80.09, 67.2]],
-      [[0, 1, 0], [87.73, -86.18, 83.18]],
-      [[0, 0, 1], [32.3, 79.19, -107.86]],
+      [
+        [1, 0, 0],
+        [53.24, 80.09, 67.2],
+      ],
+      [
+        [0, 1, 0],
+        [87.73, -86.18, 83.18],
+      ],
+      [
+        [0, 0, 1],
+        [32.3, 79.19, -107.86],
+      ],
     ];
     for (const [rgb, lab] of cases) {
       const ours = srgbToLab(rgb);

@@ -103,15 +103,11 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
     const put = await storage.put("previews/one.jpg", await fileWith(body));
     expect(put.written).toBe(true);
     expect(await storage.exists("previews/one.jpg")).toBe(true);
-    expect((await readAll(await storage.createReadStream("previews/one.jpg"))).toString()).toBe(
-      body,
-    );
+    expect((await readAll(await storage.createReadStream("previews/one.jpg"))).toString()).toBe(body);
     const st = await storage.stat("previews/one.jpg");
     expect(st.size).toBe(Buffer.byteLength(body));
     expect(await storage.checksum("previews/one.jpg")).toBe(sha(body));
-    await storage.withLocalFile("previews/one.jpg", async (p) =>
-      expect(await fs.readFile(p, "utf8")).toBe(body),
-    );
+    await storage.withLocalFile("previews/one.jpg", async (p) => expect(await fs.readFile(p, "utf8")).toBe(body));
   });
 
   it("moves a handed-over file in, and leaves a copied one where it was", async () => {
@@ -121,14 +117,11 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
     const copied = await fileWith("copied");
     await storage.put("web/copied.jpg", copied);
     expect(await fs.readFile(copied, "utf8")).toBe("copied");
-    expect((await readAll(await storage.createReadStream("web/moved.jpg"))).toString()).toBe(
-      "moved",
-    );
+    expect((await readAll(await storage.createReadStream("web/moved.jpg"))).toString()).toBe("moved");
   });
 
   it("lists the keys under a prefix, sorted, without temporary files", async () => {
-    for (const k of ["masters/b.tif", "masters/a.tif", "mastersx/c.tif", "outputs/f1/p1.jpg"])
-      await storage.put(k, await fileWith(k));
+    for (const k of ["masters/b.tif", "masters/a.tif", "mastersx/c.tif", "outputs/f1/p1.jpg"]) await storage.put(k, await fileWith(k));
     // A write in progress must not show up in a listing.
     let during: string[] = [];
     await storage.writeAtomic("masters/c.tif", async (tmp) => {
@@ -136,29 +129,19 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
       during = await storage.list("masters/");
     });
     expect(during).toEqual(["masters/a.tif", "masters/b.tif"]);
-    expect(await storage.list("masters/")).toEqual([
-      "masters/a.tif",
-      "masters/b.tif",
-      "masters/c.tif",
-    ]);
+    expect(await storage.list("masters/")).toEqual(["masters/a.tif", "masters/b.tif", "masters/c.tif"]);
     expect(await storage.list("outputs/")).toEqual(["outputs/f1/p1.jpg"]);
-    expect(await storage.list("")).toEqual(
-      expect.arrayContaining(["masters/a.tif", "mastersx/c.tif", "previews/one.jpg"]),
-    );
+    expect(await storage.list("")).toEqual(expect.arrayContaining(["masters/a.tif", "mastersx/c.tif", "previews/one.jpg"]));
   });
 
   it("replaces a rewritable file atomically: readers see the old file until the new one is whole", async () => {
     await storage.put("masters/f.tif", await fileWith("old master"));
     await storage.writeAtomic("masters/f.tif", async (tmp) => {
       await fs.writeFile(tmp, "new mas");
-      expect((await readAll(await storage.createReadStream("masters/f.tif"))).toString()).toBe(
-        "old master",
-      );
+      expect((await readAll(await storage.createReadStream("masters/f.tif"))).toString()).toBe("old master");
       await fs.appendFile(tmp, "ter");
     });
-    expect((await readAll(await storage.createReadStream("masters/f.tif"))).toString()).toBe(
-      "new master",
-    );
+    expect((await readAll(await storage.createReadStream("masters/f.tif"))).toString()).toBe("new master");
     // A write that fails leaves the old file untouched.
     await expect(
       storage.writeAtomic("masters/f.tif", async (tmp) => {
@@ -166,9 +149,7 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
         throw new Error("encoder crashed");
       }),
     ).rejects.toThrow("encoder crashed");
-    expect((await readAll(await storage.createReadStream("masters/f.tif"))).toString()).toBe(
-      "new master",
-    );
+    expect((await readAll(await storage.createReadStream("masters/f.tif"))).toString()).toBe("new master");
     expect(await storage.list("masters/")).not.toContain(expect.stringMatching(/tmp/));
   });
 
@@ -180,9 +161,7 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
     expect(staged.sha256).toBe(sha("staged other"));
     expect((await storage.commit(staged, key)).written).toBe(false);
     await expect(fs.access(staged.temp)).rejects.toThrow();
-    expect((await storage.writeAtomic(key, (tmp) => fs.writeFile(tmp, "rewritten"))).written).toBe(
-      false,
-    );
+    expect((await storage.writeAtomic(key, (tmp) => fs.writeFile(tmp, "rewritten"))).written).toBe(false);
     expect((await readAll(await storage.createReadStream(key))).toString()).toBe("the scan");
     await refused(storage.remove(key), "write-once");
     expect(await storage.exists(key)).toBe(true);
@@ -193,9 +172,7 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
     const staged = await storage.stageCopy(src);
     expect(staged).toMatchObject({ sha256: sha("inbox scan bytes"), sizeBytes: 16 });
     await storage.commit(staged, `originals/${staged.sha256.slice(0, 2)}/${staged.sha256}.tif`);
-    expect(
-      await storage.checksum(`originals/${staged.sha256.slice(0, 2)}/${staged.sha256}.tif`),
-    ).toBe(staged.sha256);
+    expect(await storage.checksum(`originals/${staged.sha256.slice(0, 2)}/${staged.sha256}.tif`)).toBe(staged.sha256);
     expect(await fs.readFile(src, "utf8")).toBe("inbox scan bytes");
   });
 
@@ -217,18 +194,7 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
 
   it("refuses keys that are not plain relative names, before touching anything", async () => {
     const src = await fileWith("evil");
-    for (const bad of [
-      "../escape.txt",
-      "/etc/passwd",
-      "a/../../b",
-      "a//b",
-      "",
-      "a\\b",
-      "./a",
-      "masters/",
-      "ü.jpg",
-      "a/.hidden",
-    ]) {
+    for (const bad of ["../escape.txt", "/etc/passwd", "a/../../b", "a//b", "", "a\\b", "./a", "masters/", "ü.jpg", "a/.hidden"]) {
       const err = await refused(storage.put(bad, src), "bad-key");
       expect(err.message).toContain("Refusing library key");
       await refused(storage.exists(bad), "bad-key");
@@ -304,9 +270,7 @@ describe.each(implementations)("storage contract: %s", (_name, make) => {
       }),
     );
     expect(range.equals(whole.subarray(10 * MiB + 7, 10 * MiB + 7 + 100_000))).toBe(true);
-    const tail = await readAll(
-      await storage.createReadStream("masters/big.tif", { start: 24 * MiB - 10 }),
-    );
+    const tail = await readAll(await storage.createReadStream("masters/big.tif", { start: 24 * MiB - 10 }));
     expect(tail.equals(whole.subarray(24 * MiB - 10))).toBe(true);
   });
 });
@@ -370,15 +334,11 @@ describe("storage settings", () => {
     const opened = openStorage(s3);
     expect(opened.kind).toBe("s3");
     expect(opened.description).toBe("the bucket s3://studio-bucket/kestrel/");
-    expect(() => loadConfig({ ...base, PLATEN_STORAGE: "s3" })).toThrow(
-      /PLATEN_S3_BUCKET: is required when PLATEN_STORAGE is s3/,
+    expect(() => loadConfig({ ...base, PLATEN_STORAGE: "s3" })).toThrow(/PLATEN_S3_BUCKET: is required when PLATEN_STORAGE is s3/);
+    expect(() => loadConfig({ ...base, PLATEN_STORAGE: "s3", PLATEN_S3_BUCKET: "Bad_Bucket" })).toThrow(
+      /PLATEN_S3_BUCKET: must be an S3 bucket name/,
     );
-    expect(() =>
-      loadConfig({ ...base, PLATEN_STORAGE: "s3", PLATEN_S3_BUCKET: "Bad_Bucket" }),
-    ).toThrow(/PLATEN_S3_BUCKET: must be an S3 bucket name/);
-    expect(() =>
-      loadConfig({ ...base, PLATEN_S3_BUCKET: "b-1", PLATEN_S3_ACCESS_KEY_ID: "key-only" }),
-    ).toThrow(/set both or neither/);
+    expect(() => loadConfig({ ...base, PLATEN_S3_BUCKET: "b-1", PLATEN_S3_ACCESS_KEY_ID: "key-only" })).toThrow(/set both or neither/);
     expect(() =>
       loadConfig({
         ...base,
@@ -389,10 +349,16 @@ describe("storage settings", () => {
     ).toThrow(/off-site copy is for a local library/);
     // Prefixes: folders with or without the closing slash; a bad one is refused (and at once, even
     // when long: the check must not backtrack on it).
-    for (const [given, kept] of [["a/b", "a/b/"], ["a/b/", "a/b/"], ["", ""]] as const)
+    for (const [given, kept] of [
+      ["a/b", "a/b/"],
+      ["a/b/", "a/b/"],
+      ["", ""],
+    ] as const)
       expect(loadConfig({ ...base, PLATEN_S3_BUCKET: "b-1", PLATEN_S3_PREFIX: given }).storage.s3!.prefix).toBe(kept);
     for (const bad of ["../up", "a//b", "/root", `${"studio-archive".repeat(4)} `])
-      expect(() => loadConfig({ ...base, PLATEN_S3_BUCKET: "b-1", PLATEN_S3_PREFIX: bad }), bad).toThrow(/PLATEN_S3_PREFIX: must be a folder-like prefix/);
+      expect(() => loadConfig({ ...base, PLATEN_S3_BUCKET: "b-1", PLATEN_S3_PREFIX: bad }), bad).toThrow(
+        /PLATEN_S3_PREFIX: must be a folder-like prefix/,
+      );
   });
 });
 
@@ -411,23 +377,17 @@ describe("S3 storage: the local copy for tools that read paths", () => {
     // Another machine rewrites the key: the next use fetches the new version.
     const other = makeS3("cache-check");
     await other.put("masters/m.tif", await fileWith("second render"));
-    await s3.withLocalFile("masters/m.tif", async (p) =>
-      expect(await fs.readFile(p, "utf8")).toBe("second render"),
-    );
+    await s3.withLocalFile("masters/m.tif", async (p) => expect(await fs.readFile(p, "utf8")).toBe("second render"));
     expect(gets() - g0).toBe(2);
     // Files it uploads itself are kept as the local copy: no download at all.
     await s3.put("web/own.jpg", await fileWith("own upload"), { move: true });
-    await s3.withLocalFile("web/own.jpg", async (p) =>
-      expect(await fs.readFile(p, "utf8")).toBe("own upload"),
-    );
+    await s3.withLocalFile("web/own.jpg", async (p) => expect(await fs.readFile(p, "utf8")).toBe("own upload"));
     expect(gets() - g0).toBe(2);
 
     // Ten 100 KiB files through a 300 KiB cache: the least recently used go.
     for (let i = 0; i < 10; i++) {
       await other.put(`outputs/f/${i}.jpg`, await fileWith(crypto.randomBytes(100 * 1024)));
-      await s3.withLocalFile(`outputs/f/${i}.jpg`, async (p) =>
-        expect((await fs.stat(p)).size).toBe(100 * 1024),
-      );
+      await s3.withLocalFile(`outputs/f/${i}.jpg`, async (p) => expect((await fs.stat(p)).size).toBe(100 * 1024));
       await s3.cache.sweep();
     }
     expect(await s3.cache.size()).toBeLessThanOrEqual(300 * 1024);

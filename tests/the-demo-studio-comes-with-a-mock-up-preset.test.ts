@@ -37,11 +37,15 @@ describe("the demo studio's presets", () => {
     // On the audit trail as made at set-up (no request, so no person), its version by the first admin.
     const { rows } = await stack.database.pool.query("select actor_id, summary from audit_events where action = 'preset.create'");
     expect(rows).toEqual([{ actor_id: null, summary: 'Made the mock-up preset "oak-frame-listing" (version 1)' }]);
-    const versions = await stack.database.pool.query("select created_by from preset_versions v join presets p on p.id = v.preset_id where p.name = 'oak-frame-listing'");
+    const versions = await stack.database.pool.query(
+      "select created_by from preset_versions v join presets p on p.id = v.preset_id where p.name = 'oak-frame-listing'",
+    );
     expect(versions.rows).toEqual([{ created_by: me.id }]);
 
     const piece = path.join(tmp.dir, "piece.png");
-    await sharp({ create: { width: 900, height: 1200, channels: 3, background: { r: 60, g: 110, b: 150 } } }).png().toFile(piece);
+    await sharp({ create: { width: 900, height: 1200, channels: 3, background: { r: 60, g: 110, b: 150 } } })
+      .png()
+      .toFile(piece);
     const out = path.join(tmp.dir, "listing.jpg");
     const report = await renderOutput({ master: piece, dpi: 300, title: "Harbour blue" }, DEMO_PRESETS[0]!.settings, { path: out });
     expect(report).toMatchObject({ pixelWidth: 1600, pixelHeight: 1600 });

@@ -29,8 +29,7 @@ afterAll(async () => {
   await stack?.stop();
 });
 
-const rowsNamed = (name: string) =>
-  stack.db.select().from(scans).where(eq(scans.originalName, name)).orderBy(scans.createdAt);
+const rowsNamed = (name: string) => stack.db.select().from(scans).where(eq(scans.originalName, name)).orderBy(scans.createdAt);
 const keptRows = () => stack.db.select().from(inboxKeptFiles);
 /** What the scan's page is told about its file still being in the inbox. */
 const inInbox = async (scanId: string) => {
@@ -60,20 +59,11 @@ const deps = (extra: Partial<IntakeDeps> = {}): IntakeDeps => ({
   log: capturingLogger().log,
   ...extra,
 });
-const watch = (d: IntakeDeps, unfinishedMs = 60_000) =>
-  startWatcher(d, { folder: stack.inbox, stableMs: 300, pollMs: 50, unfinishedMs });
+const watch = (d: IntakeDeps, unfinishedMs = 60_000) => startWatcher(d, { folder: stack.inbox, stableMs: 300, pollMs: 50, unfinishedMs });
 
 /** Waits until the watcher has looked at `name` and left it alone, then until it is idle. */
-async function leftAlone(
-  watcher: Awaited<ReturnType<typeof watch>>,
-  lines: { msg: string; file?: string }[],
-  name: string,
-) {
-  await waitFor(
-    `the watcher to look at ${name} and leave it`,
-    () => lines.some((l) => l.msg === LEFT_ALONE && l.file === name),
-    20_000,
-  );
+async function leftAlone(watcher: Awaited<ReturnType<typeof watch>>, lines: { msg: string; file?: string }[], name: string) {
+  await waitFor(`the watcher to look at ${name} and leave it`, () => lines.some((l) => l.msg === LEFT_ALONE && l.file === name), 20_000);
   await watcher.idle();
 }
 
@@ -92,16 +82,14 @@ describe("a file the inbox filed but could not remove", () => {
     const one = await watch(deps({ removeFile: refuse }));
     let scanId: string;
     try {
-      scanId = (await waitFor("the scan", async () =>
-        (await rowsNamed(name)).find((r) => r.status === "ready"),
-      ))!.id;
+      scanId = (await waitFor("the scan", async () => (await rowsNamed(name)).find((r) => r.status === "ready")))!.id;
     } finally {
       await one.close();
     }
     const st = await fs.stat(file);
-    expect(
-      (await keptRows()).map((r) => [r.path, r.reason, r.sizeBytes, r.mtimeMs, r.sha256, r.scanId]),
-    ).toEqual([[name, "not-removed", first.length, st.mtimeMs, sha256(first), scanId]]);
+    expect((await keptRows()).map((r) => [r.path, r.reason, r.sizeBytes, r.mtimeMs, r.sha256, r.scanId])).toEqual([
+      [name, "not-removed", first.length, st.mtimeMs, sha256(first), scanId],
+    ]);
     expect(await inInbox(scanId)).toEqual({ path: name, reason: "not-removed" });
 
     // The watcher's process is started again: the file is there, unchanged, and stays unfiled.
@@ -122,9 +110,7 @@ describe("a file the inbox filed but could not remove", () => {
       expect(rows.map((r) => r.sha256)).toEqual([sha256(first), sha256(second)]);
       await waitFor("the memory of the file as rewritten", async () => {
         const k = await keptRows();
-        return k.length === 1 && k[0]!.sha256 === sha256(second) && k[0]!.scanId === rows[1]!.id
-          ? k
-          : null;
+        return k.length === 1 && k[0]!.sha256 === sha256(second) && k[0]!.scanId === rows[1]!.id ? k : null;
       });
       expect(tries).toBe(2);
     } finally {
@@ -159,9 +145,7 @@ describe("a file that still looks unfinished after the inbox's wait", () => {
       const one = await watch(deps(), 1500);
       let partial: typeof scans.$inferSelect;
       try {
-        partial = await waitFor("the part filed and failed", async () =>
-          (await rowsNamed(name)).find((r) => r.status === "failed"),
-        );
+        partial = await waitFor("the part filed and failed", async () => (await rowsNamed(name)).find((r) => r.status === "failed"));
       } finally {
         await one.close();
       }
@@ -169,12 +153,7 @@ describe("a file that still looks unfinished after the inbox's wait", () => {
       expect(partial.error).toMatch(/^The PNG image data ends early or is damaged/);
       expect(await fs.readdir(stack.inbox)).toEqual([name]);
       const [kept] = await keptRows();
-      expect([kept!.path, kept!.reason, kept!.sizeBytes, kept!.scanId]).toEqual([
-        name,
-        "unfinished",
-        firstPart,
-        partial.id,
-      ]);
+      expect([kept!.path, kept!.reason, kept!.sizeBytes, kept!.scanId]).toEqual([name, "unfinished", firstPart, partial.id]);
       expect(kept!.detail).toBe("the PNG's IDAT chunk runs past its end");
       expect(await inInbox(partial.id)).toEqual({ path: name, reason: "unfinished" });
 
@@ -197,13 +176,9 @@ describe("a file that still looks unfinished after the inbox's wait", () => {
           40_000,
         );
         expect([rows[1]!.sha256, rows[1]!.sizeBytes]).toEqual([sha256(data), data.length]);
-        expect(sha256(await fs.readFile(stack.libraryPath(rows[1]!.originalKey)))).toBe(
-          sha256(data),
-        );
+        expect(sha256(await fs.readFile(stack.libraryPath(rows[1]!.originalKey)))).toBe(sha256(data));
         // Nothing lost: the part's original is kept too, and its scan says where the rest went.
-        expect(sha256(await fs.readFile(stack.libraryPath(rows[0]!.originalKey)))).toBe(
-          sha256(data.subarray(0, firstPart)),
-        );
+        expect(sha256(await fs.readFile(stack.libraryPath(rows[0]!.originalKey)))).toBe(sha256(data.subarray(0, firstPart)));
         expect(rows[0]!.status).toBe("failed");
         expect(rows[0]!.error).toMatch(/^The PNG image data ends early or is damaged/);
         expect([rows[0]!.continuedById, rows[0]!.continuedHow]).toEqual([rows[1]!.id, "whole"]);
@@ -212,11 +187,7 @@ describe("a file that still looks unfinished after the inbox's wait", () => {
         expect(part.continuedBy).toEqual({ id: rows[1]!.id, originalName: name, how: "whole" });
         expect(part.error).toMatch(/^The PNG image data ends early or is damaged[^]*Scan again or copy the file again\.$/);
         expect((await viewer.get(`/api/scans/${rows[1]!.id}`)).body.scan.continuedBy).toBeNull();
-        await waitFor(
-          "the inbox to be empty",
-          async () => ((await fs.readdir(stack.inbox)).length === 0 ? true : null),
-          10_000,
-        );
+        await waitFor("the inbox to be empty", async () => ((await fs.readdir(stack.inbox)).length === 0 ? true : null), 10_000);
         expect(await keptRows()).toEqual([]);
         expect(await inInbox(partial.id)).toBeNull();
         expect(await inInbox(rows[1]!.id)).toBeNull();

@@ -49,7 +49,13 @@ function libraryWith(step: "stageCopy" | "commit", after: () => Promise<void>): 
   });
 }
 
-const deps = (library: Storage, extra: Partial<IntakeDeps> = {}): IntakeDeps => ({ database: stack.database, boss: stack.boss, library, log: logger, ...extra });
+const deps = (library: Storage, extra: Partial<IntakeDeps> = {}): IntakeDeps => ({
+  database: stack.database,
+  boss: stack.boss,
+  library,
+  log: logger,
+  ...extra,
+});
 
 describe("a file its writer is still at", () => {
   it("is not recorded when it changes while it is copied, and the staged copy is dropped", async () => {
@@ -58,7 +64,9 @@ describe("a file its writer is still at", () => {
     await fs.writeFile(file, data.subarray(0, 2000));
     const stagedBefore = await fs.readdir(stack.library.scratchDir);
     const lib = libraryWith("stageCopy", () => fs.appendFile(file, data.subarray(2000)));
-    await expect(intakeFile(deps(lib), { path: file, originalName: "copying.tif", source: "inbox", removeSource: true })).rejects.toBeInstanceOf(StillChangingError);
+    await expect(
+      intakeFile(deps(lib), { path: file, originalName: "copying.tif", source: "inbox", removeSource: true }),
+    ).rejects.toBeInstanceOf(StillChangingError);
     expect(await rowsNamed("copying.tif")).toEqual([]);
     expect(await fs.readFile(file)).toEqual(data);
     expect(await fs.readdir(stack.library.scratchDir)).toEqual(stagedBefore);
@@ -73,10 +81,14 @@ describe("a file its writer is still at", () => {
     await fs.writeFile(file, await paperScan({ seed: 46, width: 300, height: 200 }));
     const watcher = await startWatcher(deps(lib), { folder: stack.inbox, stableMs: 300, pollMs: 50, unfinishedMs: 60_000 });
     try {
-      const rows = await waitFor("one ready scan", async () => {
-        const r = await rowsNamed("paused.tif");
-        return r.length === 1 && r[0]!.status === "ready" ? r : null;
-      }, 40_000);
+      const rows = await waitFor(
+        "one ready scan",
+        async () => {
+          const r = await rowsNamed("paused.tif");
+          return r.length === 1 && r[0]!.status === "ready" ? r : null;
+        },
+        40_000,
+      );
       expect(rows[0]!.sizeBytes).toBe(data.length);
       await waitFor("the inbox to be empty", async () => ((await fs.readdir(stack.inbox)).length === 0 ? true : null), 10_000);
     } finally {
@@ -96,10 +108,14 @@ describe("a file its writer is still at", () => {
     });
     const watcher = await startWatcher(deps(lib), { folder: stack.inbox, stableMs: 300, pollMs: 50, unfinishedMs: 60_000 });
     try {
-      const rows = await waitFor("two scans: the part and the whole", async () => {
-        const r = await rowsNamed("late-writer.tif");
-        return r.length === 2 && r.every((x) => x.status === "ready") ? r : null;
-      }, 40_000);
+      const rows = await waitFor(
+        "two scans: the part and the whole",
+        async () => {
+          const r = await rowsNamed("late-writer.tif");
+          return r.length === 2 && r.every((x) => x.status === "ready") ? r : null;
+        },
+        40_000,
+      );
       expect(rows.map((r) => r.sizeBytes).sort((a, b) => a - b)).toEqual([firstPart.length, data.length].sort((a, b) => a - b));
       await waitFor("the inbox to be empty", async () => ((await fs.readdir(stack.inbox)).length === 0 ? true : null), 10_000);
     } finally {
@@ -116,7 +132,12 @@ describe("a file its writer is still at", () => {
       tries++;
       throw Object.assign(new Error("EACCES: permission denied, unlink"), { code: "EACCES" });
     };
-    const watcher = await startWatcher(deps(stack.library, { removeFile: refuse }), { folder: stack.inbox, stableMs: 300, pollMs: 50, unfinishedMs: 60_000 });
+    const watcher = await startWatcher(deps(stack.library, { removeFile: refuse }), {
+      folder: stack.inbox,
+      stableMs: 300,
+      pollMs: 50,
+      unfinishedMs: 60_000,
+    });
     try {
       await waitFor("the scan", async () => ((await rowsNamed("read-only-share.tif"))[0]?.status === "ready" ? true : null), 30_000);
       // Touched by nothing, it is left alone: no second row, no second try at removing it.

@@ -114,7 +114,9 @@ describe("the library tidy", () => {
     // pieces (a restored database), so the tidy is held until the admin confirms it.
     const held = await admin.post("/api/library/tidy").send({});
     expect(held.status).toBe(409);
-    expect(held.body.error.message).toMatch(/^Nothing was removed\. The library holds an original the database does not know .*a tidy now would remove a master nothing names/);
+    expect(held.body.error.message).toMatch(
+      /^Nothing was removed\. The library holds an original the database does not know .*a tidy now would remove a master nothing names/,
+    );
     for (const k of [staleThumb, planted.master, planted.output]) expect(await stack.library.exists(k)).toBe(true);
     const res = await admin.post("/api/library/tidy").send({ allowLarge: true, upTo: 3 });
     expect(res.status).toBe(200);
@@ -124,7 +126,7 @@ describe("the library tidy", () => {
     for (const k of before) expect(await stack.library.exists(k), k).toBe(true);
     // The current thumbnails stay.
     for (const f of (await operator.get(`/api/scans/${scanId}/fragments`)).body.fragments as Fragment[])
-      expect(await stack.library.exists(fragmentThumbKey(f.id, f.revision)) || f.id !== fragments[0]!.id).toBe(true);
+      expect((await stack.library.exists(fragmentThumbKey(f.id, f.revision))) || f.id !== fragments[0]!.id).toBe(true);
     const audit = (await admin.get("/api/audit").query({ action: "library.tidy" })).body.events;
     expect(audit[0].summary).toMatch(/removed 3 left-over files/);
     // Nothing is left to do now but the young file and the original.
@@ -208,7 +210,14 @@ describe("the library tidy", () => {
 
     const look = (await admin.get("/api/library")).body.tidy as TidyReport;
     expect(look.caution).toBeNull();
-    expect(folder(look, "unfinished/")).toMatchObject({ files: 7, leftOver: 7, removed: 5, removedBytes: 4000 + 300 + 200 + 1000 + 50, tooYoung: 2, failed: 0 });
+    expect(folder(look, "unfinished/")).toMatchObject({
+      files: 7,
+      leftOver: 7,
+      removed: 5,
+      removedBytes: 4000 + 300 + 200 + 1000 + 50,
+      tooYoung: 2,
+      failed: 0,
+    });
     // The stored keys' folders do not count them: a temp file is not a key.
     expect(await stack.library.list("masters/")).not.toContain(path.relative(root, tempMaster));
 
@@ -216,7 +225,8 @@ describe("the library tidy", () => {
     expect(done.status).toBe(200);
     expect(folder(done.body as TidyReport, "unfinished/")).toMatchObject({ removed: 5, tooYoung: 2 });
     for (const f of [tempMaster, tempOutput, staged, work, upload]) await expect(fs.stat(f), f).rejects.toThrow();
-    for (const f of [youngTemp, path.join(busyWork, "a.v"), path.join(busyWork, "b.v"), ...notOurs]) expect((await fs.stat(f)).isFile(), f).toBe(true);
+    for (const f of [youngTemp, path.join(busyWork, "a.v"), path.join(busyWork, "b.v"), ...notOurs])
+      expect((await fs.stat(f)).isFile(), f).toBe(true);
     // The upload folder itself stays for the next upload.
     expect((await fs.stat(path.join(scratch, "uploads"))).isDirectory()).toBe(true);
     const after = (await admin.get("/api/library")).body.tidy as TidyReport;
@@ -247,7 +257,13 @@ describe("the worker's regular tidy", () => {
       await leave(output);
       await leave(master);
       // The worker asks for the tidy as it starts, and runs it.
-      worker = await startWorker({ config: own.cfg, database: own.database, boss: own.boss, library: own.library, log: logger.child({ test: true }) });
+      worker = await startWorker({
+        config: own.cfg,
+        database: own.database,
+        boss: own.boss,
+        library: own.library,
+        log: logger.child({ test: true }),
+      });
       // Done when its record is on the trail (written once the files are removed).
       const rows = await waitFor(
         "the regular tidy",
@@ -267,7 +283,11 @@ describe("the worker's regular tidy", () => {
       const next = `outputs/${crypto.randomUUID()}/${crypto.randomUUID()}-r1-none.png`;
       await leave(next);
       const id = await own.boss.send("library-tidy", {});
-      await waitFor("the second ask to be handled", async () => ((await own.boss.getJobById("library-tidy", id!))?.state === "completed" ? true : null), 30_000);
+      await waitFor(
+        "the second ask to be handled",
+        async () => ((await own.boss.getJobById("library-tidy", id!))?.state === "completed" ? true : null),
+        30_000,
+      );
       expect(await own.library.exists(next)).toBe(true);
       expect((await own.database.pool.query("select count(*)::int as n from library_tidies")).rows[0].n).toBe(1);
       // Against a database that names none of the library's originals (a new or restored one),

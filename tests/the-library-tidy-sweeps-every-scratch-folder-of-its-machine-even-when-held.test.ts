@@ -106,7 +106,13 @@ describe("with a local library and an off-site bucket", () => {
 
     const look = (await admin.get("/api/library")).body.tidy as TidyReport;
     expect(look.caution).toBeNull();
-    expect(unfinishedRow(look)).toMatchObject({ files: 8, removed: 6, removedBytes: 700 + 300 + 90 + 40 + 20 + 10, tooYoung: 2, failed: 0 });
+    expect(unfinishedRow(look)).toMatchObject({
+      files: 8,
+      removed: 6,
+      removedBytes: 700 + 300 + 90 + 40 + 20 + 10,
+      tooYoung: 2,
+      failed: 0,
+    });
     await there(removed);
 
     const done = await admin.post("/api/library/tidy").send({});
@@ -115,7 +121,8 @@ describe("with a local library and an off-site bucket", () => {
     await gone(removed);
     await there(keep);
     // The folders themselves stay for the next writes.
-    for (const d of [offsite.scratchDir, fetchDir(offsite), path.join(workDir, "uploads")]) expect((await fs.stat(d)).isDirectory(), d).toBe(true);
+    for (const d of [offsite.scratchDir, fetchDir(offsite), path.join(workDir, "uploads")])
+      expect((await fs.stat(d)).isDirectory(), d).toBe(true);
     for (const f of keep) await fs.rm(f);
     await fs.rmdir(path.dirname(youngWork));
   });
@@ -125,7 +132,10 @@ describe("with a local library and an off-site bucket", () => {
       for (let i = 0; i < n; i++) await leave(stack.libraryPath(`outputs/${crypto.randomUUID()}/${crypto.randomUUID()}-r1-none.jpg`), 100);
     };
     await plantOutputs(29);
-    const temps = [path.join(stack.library.scratchDir, `.${randomName("stage")}.tmp`), path.join(stack.library.scratchDir, "uploads", crypto.randomBytes(16).toString("hex"))];
+    const temps = [
+      path.join(stack.library.scratchDir, `.${randomName("stage")}.tmp`),
+      path.join(stack.library.scratchDir, "uploads", crypto.randomBytes(16).toString("hex")),
+    ];
     for (const t of temps) await leave(t, 50);
     // The person is shown 31 files to remove (29 left-overs, 2 unfinished writes) with the caution…
     const shown = (await admin.get("/api/library")).body.tidy as TidyReport;
@@ -149,7 +159,11 @@ describe("with a local library and an off-site bucket", () => {
   });
 
   const lastTidyEvent = async () =>
-    (await stack.database.pool.query("select id, actor_id, actor_email, summary, after from audit_events where action = 'library.tidy' order by id desc limit 1")).rows[0];
+    (
+      await stack.database.pool.query(
+        "select id, actor_id, actor_email, summary, after from audit_events where action = 'library.tidy' order by id desc limit 1",
+      )
+    ).rows[0];
 
   it("removes old unfinished writes in a tidy held for an admin, says so, and records it", async () => {
     // A database that names none of the library's originals (a new or restored one): the
@@ -184,7 +198,9 @@ describe("with a local library and an off-site bucket", () => {
     // …and the audit trail names who removed them.
     const byAdmin = await lastTidyEvent();
     expect(byAdmin.actor_email).toBe("admin@test.example");
-    expect(byAdmin.summary).toBe("Tidied the library, held by its caution: removed only what stopped processes left unfinished, 4 files (90 B)");
+    expect(byAdmin.summary).toBe(
+      "Tidied the library, held by its caution: removed only what stopped processes left unfinished, 4 files (90 B)",
+    );
     expect(byAdmin.after).toEqual({ removed: 4, bytes: 90, held: true });
 
     // The worker's regular tidy: held, removes only the unfinished writes, and says so in its
@@ -194,19 +210,27 @@ describe("with a local library and an off-site bucket", () => {
     expect(held).toMatchObject({ held: true, removed: 4, removedBytes: 90 });
     expect(unfinishedRow(held)).toMatchObject({ removed: 4, tooYoung: 0 });
     for (const f of held.folders.filter((x) => x.folder !== "unfinished/")) expect(f.removed, f.folder).toBe(0);
-    expect(held.caution).toMatch(/^The database names not even .* Only unfinished writes, which no database names, were removed: 4 files \(90 B\)\.$/);
+    expect(held.caution).toMatch(
+      /^The database names not even .* Only unfinished writes, which no database names, were removed: 4 files \(90 B\)\.$/,
+    );
     await gone(second);
 
     // The admin tidies above were just now; as if they were two days ago, the regular one is due.
     await stack.database.pool.query("update library_tidies set at = at - interval '2 days'");
     const tidies = (await stack.database.pool.query("select count(*)::int as n from library_tidies")).rows[0].n as number;
     const third = await round();
-    await libraryTidyJob({ database: stack.database, library: stack.library, log: logger.child({ test: true }), config: { tidyEveryHours: 24 } }, {}, { jobId: "test", retryCount: 0, retryLimit: 0 });
+    await libraryTidyJob(
+      { database: stack.database, library: stack.library, log: logger.child({ test: true }), config: { tidyEveryHours: 24 } },
+      {},
+      { jobId: "test", retryCount: 0, retryLimit: 0 },
+    );
     await gone(third);
     await there([output, stack.libraryPath(original)]);
     const byWorker = await lastTidyEvent();
     expect(byWorker.actor_id).toBeNull();
-    expect(byWorker.summary).toMatch(/^The worker's tidy of the library is held for an admin .*removed only what stopped processes left unfinished: 4 files \(90 B\)$/);
+    expect(byWorker.summary).toMatch(
+      /^The worker's tidy of the library is held for an admin .*removed only what stopped processes left unfinished: 4 files \(90 B\)$/,
+    );
     expect(byWorker.after).toEqual({ removed: 4, bytes: 90, held: true });
     expect(Number(byWorker.id)).toBeGreaterThan(Number(byAdmin.id));
     // A held tidy is no tidy: the next is due as before.

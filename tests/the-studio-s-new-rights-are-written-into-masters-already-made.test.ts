@@ -102,7 +102,8 @@ beforeAll(async () => {
   viewer = await userAgent(stack, "viewer");
   expect((await admin.patch("/api/studio/settings").send(FIRST)).status).toBe(200);
   const { scanId, fragments } = await uploadScan(operator, { name: "three-prints.tif", svg: SCAN, compression: "lzw", pieces: 3 });
-  for (const f of fragments) expect((await operator.patch(`/api/fragments/${f.id}`).send({ title: `Print ${f.position}` })).status).toBe(200);
+  for (const f of fragments)
+    expect((await operator.patch(`/api/fragments/${f.id}`).send({ title: `Print ${f.position}` })).status).toBe(200);
   await approveRemaining(operator, scanId);
   pieces = await renderedPieces(operator, scanId, 3, 90_000);
 }, 150_000);

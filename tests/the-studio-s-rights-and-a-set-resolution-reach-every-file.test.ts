@@ -41,7 +41,9 @@ async function wrongDpiBed(): Promise<Buffer> {
     <rect x="200" y="200" width="1200" height="900" fill="#8e44ad"/>
     <rect x="1700" y="240" width="600" height="800" fill="#d35400"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).tiff({ compression: "lzw", xres: 72 / 25.4, yres: 72 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .tiff({ compression: "lzw", xres: 72 / 25.4, yres: 72 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 async function fragmentsOf(id: string): Promise<Fragment[]> {
@@ -49,11 +51,17 @@ async function fragmentsOf(id: string): Promise<Fragment[]> {
 }
 
 async function rendered(revisions?: Map<string, number>) {
-  return waitFor("the masters", async () => {
-    const list = await fragmentsOf(scanId);
-    const done = list.every((f) => f.status === "approved" && f.renderState === "done" && (!revisions || f.revision > revisions.get(f.id)!));
-    return done ? list : null;
-  }, 60_000);
+  return waitFor(
+    "the masters",
+    async () => {
+      const list = await fragmentsOf(scanId);
+      const done = list.every(
+        (f) => f.status === "approved" && f.renderState === "done" && (!revisions || f.revision > revisions.get(f.id)!),
+      );
+      return done ? list : null;
+    },
+    60_000,
+  );
 }
 
 async function masters() {
@@ -159,7 +167,10 @@ describe("a scan's resolution", () => {
     const big = (await fragmentsOf(scanId)).find((f) => Math.round(f.rect.width) === 1200)!;
     expect(big.sizeIn.width).toBeCloseTo(2, 2);
     expect(big.dpi).toEqual({ x: 600, y: 600, source: "set" });
-    const { rows } = await stack.database.pool.query("select before, after, summary from audit_events where action = 'scan.resolution' and subject_id = $1", [scanId]);
+    const { rows } = await stack.database.pool.query(
+      "select before, after, summary from audit_events where action = 'scan.resolution' and subject_id = $1",
+      [scanId],
+    );
     expect(rows).toHaveLength(1);
     expect(rows[0].before).toMatchObject({ dpiX: 72, dpiY: 72, dpiSource: "embedded", resolutionOrigin: "tiff" });
     expect(rows[0].after).toMatchObject({ dpiX: 600, dpiY: 600, dpiSource: "set" });
@@ -217,7 +228,9 @@ describe("the files carry them", () => {
       const tags = await exifr.parse(stack.libraryPath(m.key), { tiff: true, pick: ["XResolution"] });
       expect(tags.XResolution).toBe(1200);
     }
-    const { rows: audit } = await stack.database.pool.query("select summary from audit_events where action = 'scan.resolution' order by id desc limit 1");
+    const { rows: audit } = await stack.database.pool.query(
+      "select summary from audit_events where action = 'scan.resolution' order by id desc limit 1",
+    );
     expect(audit[0].summary).toMatch(/was 600 DPI, set\); 2 approved pieces rendered again/);
   });
 
@@ -228,10 +241,14 @@ describe("the files carry them", () => {
     const run = async () => {
       const res = await operator.post("/api/batches").send(body);
       expect(res.status).toBe(201);
-      return waitFor("the batch", async () => {
-        const r = (await operator.get(`/api/batches/${res.body.batch.id}`)).body;
-        return r.batch.finishedAt ? r : null;
-      }, 60_000);
+      return waitFor(
+        "the batch",
+        async () => {
+          const r = (await operator.get(`/api/batches/${res.body.batch.id}`)).body;
+          return r.batch.finishedAt ? r : null;
+        },
+        60_000,
+      );
     };
     const first = await run();
     expect(first.batch.counts).toMatchObject({ done: 2, failed: 0 });

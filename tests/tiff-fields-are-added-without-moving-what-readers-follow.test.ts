@@ -53,7 +53,10 @@ function tiffWriter(le: boolean) {
     const offset = size;
     parts.push(b);
     size += b.length;
-    if (size % 2) { parts.push(Buffer.alloc(1)); size++; } // the next piece starts on a word boundary
+    if (size % 2) {
+      parts.push(Buffer.alloc(1));
+      size++;
+    } // the next piece starts on a word boundary
     return offset;
   };
   const encode = (f: Field) => {
@@ -83,7 +86,9 @@ function tiffWriter(le: boolean) {
 
 /** An 8-bit grey image's fields (TIFF 6.0 Sections 3–4), its rows one strip each. */
 function greyImage(w: ReturnType<typeof tiffWriter>, width: number, height: number, seed: number, extra: Field[] = []): Field[] {
-  const offsets = Array.from({ length: height }, (_, y) => w.put(Buffer.from(Array.from({ length: width }, (_, x) => (seed + 37 * x + 91 * y) & 255))));
+  const offsets = Array.from({ length: height }, (_, y) =>
+    w.put(Buffer.from(Array.from({ length: width }, (_, x) => (seed + 37 * x + 91 * y) & 255))),
+  );
   return [
     { tag: 256, type: LONG, values: [width] },
     { tag: 257, type: LONG, values: [height] },
@@ -109,7 +114,10 @@ function greyImage(w: ReturnType<typeof tiffWriter>, width: number, height: numb
 function sample(le: boolean): Buffer {
   const w = tiffWriter(le);
   const page2 = w.ifd(greyImage(w, 5, 3, 60, [{ tag: 254, type: LONG, values: [2] }])); // NewSubfileType: a page
-  const subs = [w.ifd(greyImage(w, 3, 2, 120, [{ tag: 254, type: LONG, values: [1] }])), w.ifd(greyImage(w, 3, 2, 180, [{ tag: 254, type: LONG, values: [1] }]))];
+  const subs = [
+    w.ifd(greyImage(w, 3, 2, 120, [{ tag: 254, type: LONG, values: [1] }])),
+    w.ifd(greyImage(w, 3, 2, 180, [{ tag: 254, type: LONG, values: [1] }])),
+  ];
   const exif = w.ifd([
     { tag: 33434, type: RATIONAL, values: [1, 125] },
     { tag: 36864, type: UNDEFINED, values: Buffer.from("0230", "latin1") },
@@ -138,12 +146,22 @@ function readIfd0(tiff: Buffer) {
     const [tag, type, count] = [u16(e), u16(e + 2), u32(e + 4)];
     const bytes = count * (TYPE_BYTES[type] ?? 1);
     const valueAt = bytes <= 4 ? e + 8 : u32(e + 8);
-    return { tag, type, count, bytes, inline: bytes <= 4, valueAt, value: tiff.subarray(valueAt, valueAt + bytes), u32At: (k: number) => u32(valueAt + 4 * k) };
+    return {
+      tag,
+      type,
+      count,
+      bytes,
+      inline: bytes <= 4,
+      valueAt,
+      value: tiff.subarray(valueAt, valueAt + bytes),
+      u32At: (k: number) => u32(valueAt + 4 * k),
+    };
   });
   return { offset, entries, next: u32(offset + 2 + n * 12) };
 }
 
-const pixels = async (data: Buffer, opts: { page?: number; subifd?: number } = {}) => (await sharp(data, opts).raw().toBuffer()).toString("hex");
+const pixels = async (data: Buffer, opts: { page?: number; subifd?: number } = {}) =>
+  (await sharp(data, opts).raw().toBuffer()).toString("hex");
 
 const FIELDS = [
   { tag: TIFF_TAG.ImageDescription, value: "Gulls" }, // 6 bytes with its NUL: placed outside the entry
@@ -163,7 +181,11 @@ describe.each([
     expect([meta.width, meta.height]).toEqual([6, 4]);
     expect((await sharp(before, { page: 1 }).metadata()).width).toBe(5);
     expect((await sharp(before, { subifd: 1 }).metadata()).width).toBe(3);
-    expect(await exifr.parse(before, { tiff: true, ifd0: true, exif: true } as never)).toMatchObject({ ExposureTime: 0.008, ExifVersion: "2.3", Software: "hand-made" });
+    expect(await exifr.parse(before, { tiff: true, ifd0: true, exif: true } as never)).toMatchObject({
+      ExposureTime: 0.008,
+      ExifVersion: "2.3",
+      Software: "hand-made",
+    });
   });
 
   it("keeps every page, SubIFD and Exif value, and its byte order; the new fields read back", async () => {
@@ -178,7 +200,15 @@ describe.each([
     expect((await sharp(after).metadata()).pages).toBe(2);
     const read = await exifr.parse(after, { tiff: true, ifd0: true, exif: true } as never);
     // ExposureTime is a value outside its entry, ExifVersion one inside it ("0230" read as 2.3).
-    expect(read).toMatchObject({ ImageDescription: "Gulls", Artist: "Ana", Copyright: "(c) 2024 Ana Ruiz, all rights reserved", Software: "hand-made", ExposureTime: 0.008, ExifVersion: "2.3", XResolution: 300 });
+    expect(read).toMatchObject({
+      ImageDescription: "Gulls",
+      Artist: "Ana",
+      Copyright: "(c) 2024 Ana Ruiz, all rights reserved",
+      Software: "hand-made",
+      ExposureTime: 0.008,
+      ExifVersion: "2.3",
+      XResolution: 300,
+    });
   });
 
   it("writes a directory TIFF 6.0 Section 2 describes: sorted, word-aligned, short values inline, the same next IFD", async () => {
@@ -202,14 +232,20 @@ describe.each([
       expect([kept.type, kept.count, kept.value.toString("hex")]).toEqual([e.type, e.count, e.value.toString("hex")]);
     }
     const subs = ifd.entries.find((e) => e.tag === 330)!;
-    expect([subs.u32At(0), subs.u32At(1)]).toEqual([old.entries.find((e) => e.tag === 330)!.u32At(0), old.entries.find((e) => e.tag === 330)!.u32At(1)]);
+    expect([subs.u32At(0), subs.u32At(1)]).toEqual([
+      old.entries.find((e) => e.tag === 330)!.u32At(0),
+      old.entries.find((e) => e.tag === 330)!.u32At(1),
+    ]);
   });
 
   it("gives one entry to a tag named twice, with the later value (TIFF 6.0 Section 2: sorted by tag)", async () => {
     const after = await withTiffFields(before, [...FIELDS, { tag: TIFF_TAG.Artist, value: "Ines Okafor" }]);
     const artists = readIfd0(after).entries.filter((e) => e.tag === TIFF_TAG.Artist);
     expect(artists.map((e) => e.value.toString("latin1"))).toEqual(["Ines Okafor\0"]);
-    expect(await exifr.parse(after, { tiff: true, ifd0: true } as never)).toMatchObject({ Artist: "Ines Okafor", ImageDescription: "Gulls" });
+    expect(await exifr.parse(after, { tiff: true, ifd0: true } as never)).toMatchObject({
+      Artist: "Ines Okafor",
+      ImageDescription: "Gulls",
+    });
   });
 
   it("gives the same bytes on disk, and again when a field is replaced the second time", async () => {
@@ -218,7 +254,11 @@ describe.each([
     expect(fs.readFileSync(at(`disk-${le}.tif`)).equals(await withTiffFields(before, FIELDS))).toBe(true);
     await addTiffFields(at(`disk-${le}.tif`), [{ tag: TIFF_TAG.Artist, value: "Ines Okafor" }]);
     const twice = fs.readFileSync(at(`disk-${le}.tif`));
-    expect(await exifr.parse(twice, { tiff: true, ifd0: true, exif: true } as never)).toMatchObject({ Artist: "Ines Okafor", ImageDescription: "Gulls", ExposureTime: 0.008 });
+    expect(await exifr.parse(twice, { tiff: true, ifd0: true, exif: true } as never)).toMatchObject({
+      Artist: "Ines Okafor",
+      ImageDescription: "Gulls",
+      ExposureTime: 0.008,
+    });
     expect(readIfd0(twice).entries.filter((e) => e.tag === TIFF_TAG.Artist)).toHaveLength(1);
     expect(await pixels(twice, { page: 1 })).toBe(await pixels(before, { page: 1 }));
   });
@@ -244,7 +284,14 @@ describe.each([
       expect(readIfd0(file).next).toBe(old.next);
     }
     const read = await exifr.parse(thrice, { tiff: true, ifd0: true, exif: true } as never);
-    expect(read).toMatchObject({ Artist: "Ines Okafar", ImageDescription: "Gulls", Software: "hand-made", ExposureTime: 0.008, ExifVersion: "2.3", XResolution: 300 });
+    expect(read).toMatchObject({
+      Artist: "Ines Okafar",
+      ImageDescription: "Gulls",
+      Software: "hand-made",
+      ExposureTime: 0.008,
+      ExifVersion: "2.3",
+      XResolution: 300,
+    });
     expect(thrice.includes(Buffer.from("Ines Okafor"))).toBe(false);
   });
 });
@@ -278,6 +325,8 @@ describe("files a classic TIFF cannot grow into", () => {
   it("a BigTIFF (version 43, 8-byte offsets; BigTIFF design, libtiff) is refused by name", async () => {
     // "II", 43, offset size 8, 0, then the 8-byte offset of IFD0.
     const big = Buffer.from("49492b00080000001000000000000000", "hex");
-    await expect(withTiffFields(big, FIELDS, "scan.tif")).rejects.toThrow("scan.tif is a BigTIFF (version 43); fields can be added only to a classic TIFF (version 42)");
+    await expect(withTiffFields(big, FIELDS, "scan.tif")).rejects.toThrow(
+      "scan.tif is a BigTIFF (version 43); fields can be added only to a classic TIFF (version 42)",
+    );
   });
 });

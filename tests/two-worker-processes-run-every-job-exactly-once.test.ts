@@ -33,7 +33,14 @@ function startWorkerProcess(name: string, cpus?: string) {
   // Each worker as on a machine of its own: its own data folder (cache, work in progress), the
   // library only in the bucket.
   const dataDir = path.join(path.dirname(stack.env.PLATEN_DATA_DIR!), name);
-  const child = spawnProcess("worker/main.ts", { ...stack.env, PLATEN_DATA_DIR: dataDir, PLATEN_PROCESS: name, LOG_LEVEL: "info", PLATEN_WORKER_CONCURRENCY: "2", ...(cpus ? { PLATEN_WORKER_CPUS: cpus } : {}) });
+  const child = spawnProcess("worker/main.ts", {
+    ...stack.env,
+    PLATEN_DATA_DIR: dataDir,
+    PLATEN_PROCESS: name,
+    LOG_LEVEL: "info",
+    PLATEN_WORKER_CONCURRENCY: "2",
+    ...(cpus ? { PLATEN_WORKER_CPUS: cpus } : {}),
+  });
   const entry = { name, child, cpus, lines: [] as string[] };
   let rest = "";
   child.stdout!.on("data", (chunk: Buffer) => {
@@ -57,7 +64,8 @@ function jobsRun() {
     for (const line of lines) {
       if (!line.startsWith("{")) continue;
       const rec = JSON.parse(line) as { msg?: string; jobId?: string; proc?: string; queue?: string };
-      if (rec.msg === "job done" && rec.jobId && QUEUES.includes(rec.queue!)) ran.set(rec.jobId, [...(ran.get(rec.jobId) ?? []), rec.proc!]);
+      if (rec.msg === "job done" && rec.jobId && QUEUES.includes(rec.queue!))
+        ran.set(rec.jobId, [...(ran.get(rec.jobId) ?? []), rec.proc!]);
     }
   }
   return ran;
@@ -68,10 +76,16 @@ beforeAll(async () => {
   operator = await userAgent(stack, "operator");
   startWorkerProcess("worker-a", SHARES?.[0]);
   startWorkerProcess("worker-b", SHARES?.[1]);
-  await waitFor("both workers to report in", async () => {
-    const { rows } = await stack.database.pool.query("select count(*)::int as n from processes where kind = 'worker' and heartbeat_at > now() - interval '15 seconds'");
-    return rows[0].n === 2 ? true : null;
-  }, 60_000);
+  await waitFor(
+    "both workers to report in",
+    async () => {
+      const { rows } = await stack.database.pool.query(
+        "select count(*)::int as n from processes where kind = 'worker' and heartbeat_at > now() - interval '15 seconds'",
+      );
+      return rows[0].n === 2 ? true : null;
+    },
+    60_000,
+  );
 }, 90_000);
 
 afterAll(async () => {
@@ -106,22 +120,30 @@ describe("two worker processes on one database", () => {
     const web = presets.find((p) => p.kind === "web")!;
     const made = await operator.post("/api/batches").send({ selection: { fragmentIds: all.map((f) => f.id) }, presetIds: [web.id] });
     expect(made.status, JSON.stringify(made.body)).toBe(201);
-    const batch = await waitFor("the batch", async () => {
-      const r = (await operator.get(`/api/batches/${made.body.batch.id}`)).body;
-      return r.batch.finishedAt ? r.batch : null;
-    }, 90_000);
+    const batch = await waitFor(
+      "the batch",
+      async () => {
+        const r = (await operator.get(`/api/batches/${made.body.batch.id}`)).body;
+        return r.batch.finishedAt ? r.batch : null;
+      },
+      90_000,
+    );
     expect(batch.counts.done).toBe(total);
     expect(batch.counts.failed).toBe(0);
 
     // pg-boss's own record: every job of the pipeline's queues, completed once, none retried.
-    const jobs = await waitFor("every job to be recorded complete", async () => {
-      const { rows } = await stack.database.pool.query<{ id: string; name: string; state: string; retry_count: number }>(
-        `select id, name, state, retry_count from pgboss.job where name = any($1)
+    const jobs = await waitFor(
+      "every job to be recorded complete",
+      async () => {
+        const { rows } = await stack.database.pool.query<{ id: string; name: string; state: string; retry_count: number }>(
+          `select id, name, state, retry_count from pgboss.job where name = any($1)
          union all select id, name, state, retry_count from pgboss.archive where name = any($1)`,
-        [QUEUES],
-      );
-      return rows.length > 0 && rows.every((r) => r.state === "completed") ? rows : null;
-    }, 30_000);
+          [QUEUES],
+        );
+        return rows.length > 0 && rows.every((r) => r.state === "completed") ? rows : null;
+      },
+      30_000,
+    );
     const byQueue = (q: string) => jobs.filter((j) => j.name === q).length;
     expect(byQueue("scan-analyse")).toBe(SCANS);
     expect(byQueue("fragment-render")).toBe(total);
@@ -129,10 +151,14 @@ describe("two worker processes on one database", () => {
     expect(jobs.every((j) => j.retry_count === 0)).toBe(true);
 
     // Each process's own account: every job was run by exactly one of them, and none is missing.
-    const ran = await waitFor("the workers' logs to name every job", () => {
-      const r = jobsRun();
-      return jobs.every((j) => r.has(j.id)) ? r : null;
-    }, 10_000);
+    const ran = await waitFor(
+      "the workers' logs to name every job",
+      () => {
+        const r = jobsRun();
+        return jobs.every((j) => r.has(j.id)) ? r : null;
+      },
+      10_000,
+    );
     for (const j of jobs) expect(ran.get(j.id), `job ${j.name} ${j.id}`).toHaveLength(1);
     expect([...ran.keys()].sort()).toEqual(jobs.map((j) => j.id).sort());
     // The work was shared: both processes ran jobs.
@@ -159,10 +185,16 @@ describe("two worker processes on one database", () => {
   it("each held to its own CPUs (PLATEN_WORKER_CPUS), every thread, including those its jobs started", () => {
     if (!SHARES) return; // a one-CPU machine runs both free
     for (const { name, child, cpus, lines } of children) {
-      expect(lines.some((l) => l.includes('"msg":"worker held to its CPUs"') && l.includes(`"cpus":"${cpus}"`)), name).toBe(true);
+      expect(
+        lines.some((l) => l.includes('"msg":"worker held to its CPUs"') && l.includes(`"cpus":"${cpus}"`)),
+        name,
+      ).toBe(true);
       const threads = threadCpus(child.pid!);
       expect(threads.length, name).toBeGreaterThan(8); // Node's, libuv's and libvips's threads after the jobs above
-      expect(threads.filter((t) => formatCpuList(t.cpus) !== cpus), name).toEqual([]);
+      expect(
+        threads.filter((t) => formatCpuList(t.cpus) !== cpus),
+        name,
+      ).toEqual([]);
     }
   });
 });

@@ -49,7 +49,13 @@ beforeAll(async () => {
 
 /** Dublin Core title, creator and rights from an XMP packet's text (first rdf:li of each). */
 function dublinCore(xmp: string): { title?: string; creator?: string; rights?: string } {
-  const unescape = (s: string) => s.replace(/&lt;/g, "<").replace(/&gt;/g, ">").replace(/&quot;/g, '"').replace(/&apos;/g, "'").replace(/&amp;/g, "&");
+  const unescape = (s: string) =>
+    s
+      .replace(/&lt;/g, "<")
+      .replace(/&gt;/g, ">")
+      .replace(/&quot;/g, '"')
+      .replace(/&apos;/g, "'")
+      .replace(/&amp;/g, "&");
   const field = (name: string) => {
     const m = new RegExp(`<dc:${name}>\\s*<rdf:(?:Alt|Seq|Bag)>\\s*<rdf:li(?:\\s[^>]*)?>([^<]*)</rdf:li>`).exec(xmp);
     return m ? unescape(m[1]!) : undefined;
@@ -85,7 +91,7 @@ function riffChunks(b: Buffer): Map<string, Buffer> {
   expect(b.toString("latin1", 0, 4)).toBe("RIFF");
   expect(b.toString("latin1", 8, 12)).toBe("WEBP");
   const chunks = new Map<string, Buffer>();
-  for (let o = 12; o + 8 <= b.length; ) {
+  for (let o = 12; o + 8 <= b.length;) {
     const size = b.readUInt32LE(o + 4);
     chunks.set(b.toString("latin1", o, o + 4), b.subarray(o + 8, o + 8 + size));
     o += 8 + size + (size % 2);
@@ -137,8 +143,22 @@ describe("web copies keep title, creator, copyright and resolution", () => {
       if (format === "webp") exifBlock = riffChunks(bytes).get("EXIF");
       else if (format === "avif") exifBlock = meta.exif;
       const stripped = exifBlock && exifBlock.subarray(0, 6).toString("latin1") === "Exif\0\0" ? exifBlock.subarray(6) : exifBlock;
-      const tags = await exifr.parse(stripped ?? out, { tiff: true, ifd0: true, exif: true, gps: true, xmp: true, chunked: false } as never);
-      expect(tags).toMatchObject({ ImageDescription: ASCII.title, Artist: ASCII.creator, Copyright: ASCII.copyright, XResolution: DPI, YResolution: DPI, ResolutionUnit: "inches" });
+      const tags = await exifr.parse(stripped ?? out, {
+        tiff: true,
+        ifd0: true,
+        exif: true,
+        gps: true,
+        xmp: true,
+        chunked: false,
+      } as never);
+      expect(tags).toMatchObject({
+        ImageDescription: ASCII.title,
+        Artist: ASCII.creator,
+        Copyright: ASCII.copyright,
+        XResolution: DPI,
+        YResolution: DPI,
+        ResolutionUnit: "inches",
+      });
       expect(tags.Make).toBeUndefined();
       expect(tags.Model).toBeUndefined();
       expect(tags.latitude).toBeUndefined();

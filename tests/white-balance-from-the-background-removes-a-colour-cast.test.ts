@@ -68,7 +68,10 @@ describe("white balance from the background removes a colour cast", () => {
     const bg = await measureScanBackground(file, { dpi: { x: scene.dpi, y: scene.dpi }, maxPixels: 50_000_000 });
     expect(bg.visible).toBe(true);
     expect(bg.kind).toBe("light");
-    const compiled = compileRecipe({ name: "wb", steps: [{ type: "whiteBalance", mode: "background" }] }, { dpi: scene.dpi, bitDepth: 8, background: bg.rgb });
+    const compiled = compileRecipe(
+      { name: "wb", steps: [{ type: "whiteBalance", mode: "background" }] },
+      { dpi: scene.dpi, bitDepth: 8, background: bg.rgb },
+    );
     const { image } = await compiled.apply({ data: scene.data, width: scene.width, height: scene.height, channels: 3, bitDepth: 8 });
     const after = report(scene, image);
     for (const dE of after.lid) expect(dE).toBeLessThan(1);

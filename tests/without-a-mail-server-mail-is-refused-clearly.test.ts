@@ -16,14 +16,18 @@ describe("with no mail server configured", () => {
   it("the mailer refuses with what to set, rather than dropping mail", async () => {
     const mailer = createMailer(stack.cfg.mail);
     expect(mailer).toMatchObject({ enabled: false, reason: MAIL_OFF_REASON });
-    await expect(mailer.send({ to: "a@b.example", subject: "s", text: "t", html: "<p>t</p>", studio: "S" })).rejects.toThrow(MAIL_OFF_REASON);
+    await expect(mailer.send({ to: "a@b.example", subject: "s", text: "t", html: "<p>t</p>", studio: "S" })).rejects.toThrow(
+      MAIL_OFF_REASON,
+    );
   });
 
   it("production refuses the development mailbox, whose screen would show admins everyone's reset links", async () => {
     const { loadConfig } = await import("../server/config");
     const env = { PLATEN_DATA_DIR: stack.cfg.dataDir, PLATEN_SMTP_HOST: "127.0.0.1", PLATEN_MAILBOX_DIR: `${stack.cfg.dataDir}/mailbox` };
     expect(loadConfig({ ...env, NODE_ENV: "development" }).mail.mailboxDir).toBeDefined();
-    expect(() => loadConfig({ ...env, NODE_ENV: "production" })).toThrow(/PLATEN_MAILBOX_DIR: the development mailbox \(the local mail fake\) is not for production/);
+    expect(() => loadConfig({ ...env, NODE_ENV: "production" })).toThrow(
+      /PLATEN_MAILBOX_DIR: the development mailbox \(the local mail fake\) is not for production/,
+    );
   });
 
   it("an invitation is refused with that reason; a reset still answers the same; there is no mailbox", async () => {

@@ -66,7 +66,14 @@ describe("holding a process to CPUs", () => {
     const cpus = allowedCpus()!;
     const target = cpus.at(-1)!;
     // A process that starts worker threads a moment after it is held.
-    const child = spawn(process.execPath, ["-e", "setTimeout(() => { const { Worker } = require('node:worker_threads'); for (let i = 0; i < 3; i++) new Worker('setInterval(() => {}, 1000)', { eval: true }); console.log('started'); }, 300); setInterval(() => {}, 1000);"], { stdio: ["ignore", "pipe", "ignore"] });
+    const child = spawn(
+      process.execPath,
+      [
+        "-e",
+        "setTimeout(() => { const { Worker } = require('node:worker_threads'); for (let i = 0; i < 3; i++) new Worker('setInterval(() => {}, 1000)', { eval: true }); console.log('started'); }, 300); setInterval(() => {}, 1000);",
+      ],
+      { stdio: ["ignore", "pipe", "ignore"] },
+    );
     try {
       await new Promise((r) => setTimeout(r, 100));
       holdToCpus([target], child.pid!);
@@ -83,7 +90,9 @@ describe("holding a process to CPUs", () => {
   it("refuses a CPU the process may not use, saying which ones it may", () => {
     const cpus = allowedCpus()!;
     const beyond = Math.max(...cpus, os.cpus().length) + 1;
-    expect(() => holdToCpus([beyond])).toThrow(new RegExp(`^Cannot hold the worker to CPU ${beyond}: this process may run on CPUs ${formatCpuList(cpus)} only$`));
+    expect(() => holdToCpus([beyond])).toThrow(
+      new RegExp(`^Cannot hold the worker to CPU ${beyond}: this process may run on CPUs ${formatCpuList(cpus)} only$`),
+    );
     expect(allowedCpus()).toEqual(cpus); // this process is left as it was
   });
 

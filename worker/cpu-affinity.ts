@@ -60,6 +60,8 @@ export function holdToCpus(cpus: number[], pid = process.pid): void {
   if (!fs.existsSync(TASKSET)) throw new Error(`Cannot hold the worker to CPUs ${formatCpuList(cpus)}: ${TASKSET} (util-linux) is missing`);
   const r = spawnSync(TASKSET, ["-a", "-p", "-c", formatCpuList(cpus), String(pid)], { encoding: "utf8" });
   if (r.status !== 0) {
-    throw new Error(`Cannot hold the worker to CPUs ${formatCpuList(cpus)}: taskset said ${(r.stderr || r.error?.message || `exit ${r.status}`).trim()}`);
+    throw new Error(
+      `Cannot hold the worker to CPUs ${formatCpuList(cpus)}: taskset said ${(r.stderr || r.error?.message || `exit ${r.status}`).trim()}`,
+    );
   }
 }

@@ -58,10 +58,13 @@ async function main() {
     void worker
       .stop()
       .then(() => database.close())
-      .then(() => process.exit(0), (err) => {
-        log.error({ err }, "worker did not stop cleanly");
-        process.exit(1);
-      });
+      .then(
+        () => process.exit(0),
+        (err) => {
+          log.error({ err }, "worker did not stop cleanly");
+          process.exit(1);
+        },
+      );
   };
   if (stopRequested) stop(stopRequested);
 }

@@ -49,7 +49,8 @@ export function startSlotLoop(opts: { boss: PgBoss; log: Logger; slots: number; 
     });
   const release = () => {
     const next = waiting.shift();
-    if (next) next(); // the slot passes straight to a parked job that has work again
+    if (next)
+      next(); // the slot passes straight to a parked job that has work again
     else {
       busy--;
       wake?.();
@@ -96,19 +97,24 @@ export function startSlotLoop(opts: { boss: PgBoss; log: Logger; slots: number; 
         state = "waiting";
         parked--;
         await acquire();
-        if (ended) release(); // ended while in line: the slot goes straight on
+        if (ended)
+          release(); // ended while in line: the slot goes straight on
         else state = "holding";
       },
     };
     let timer: NodeJS.Timeout | undefined;
     const expiry = new Promise<never>((_, reject) => {
-      timer = setTimeout(() => reject(new Error(`The job took longer than ${job.expireInSeconds} s and was given up`)), job.expireInSeconds * 1000);
+      timer = setTimeout(
+        () => reject(new Error(`The job took longer than ${job.expireInSeconds} s and was given up`)),
+        job.expireInSeconds * 1000,
+      );
     });
     const p: Promise<void> = Promise.race([q.run(job, hold), expiry])
       .finally(() => clearTimeout(timer))
       .then(
         () => boss.complete(job.name, job.id),
-        (err: unknown) => boss.fail(job.name, job.id, err instanceof Error ? { message: err.message, stack: err.stack } : { message: String(err) }),
+        (err: unknown) =>
+          boss.fail(job.name, job.id, err instanceof Error ? { message: err.message, stack: err.stack } : { message: String(err) }),
       )
       .then(() => undefined)
       .catch((err: unknown) => log.error({ err, jobId: job.id }, "worker: could not record a job's outcome"))

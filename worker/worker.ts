@@ -65,7 +65,12 @@ export async function startWorker(deps: WorkerDeps) {
   // Light jobs (network and mail) run beside them, each queue with its own few loops.
   const lightHandlers: [string, Handler][] = [
     // Off-site copies: only on workers that have the off-site bucket configured.
-    ...(deps.offsite ? ([[QUEUES.offsiteCopy, offsiteCopyJob], [QUEUES.offsiteCheck, offsiteCheckJob]] as [string, Handler][]) : []),
+    ...(deps.offsite
+      ? ([
+          [QUEUES.offsiteCopy, offsiteCopyJob],
+          [QUEUES.offsiteCheck, offsiteCheckJob],
+        ] as [string, Handler][])
+      : []),
     [QUEUES.notice, (_d, data, ctx) => noticeJob(mailDeps, data, ctx)],
     [QUEUES.mail, (_d, data, ctx) => mailSendJob(mailDeps, data, ctx)],
     [QUEUES.libraryTidy, libraryTidyJob],
@@ -77,7 +82,15 @@ export async function startWorker(deps: WorkerDeps) {
 
   /** Runs one job's handler, logging the outcome; throws what the handler threw. */
   const run = async (handler: Handler, job: PgBoss.JobWithMetadata<unknown>, hold?: SlotHold) => {
-    const ctx: JobContext = { jobId: job.id, retryCount: job.retryCount, retryLimit: job.retryLimit, signal: stopping.signal, stopAsked: stopAsked.signal, park: hold?.park, unpark: hold?.unpark };
+    const ctx: JobContext = {
+      jobId: job.id,
+      retryCount: job.retryCount,
+      retryLimit: job.retryLimit,
+      signal: stopping.signal,
+      stopAsked: stopAsked.signal,
+      park: hold?.park,
+      unpark: hold?.unpark,
+    };
     const started = performance.now();
     try {
       await handler(deps, job.data, ctx);
@@ -106,7 +119,12 @@ export async function startWorker(deps: WorkerDeps) {
 
   // The image loop: a job is fetched only when a slot is free, so a busy worker never holds
   // jobs another machine could be running.
-  const imageLoop = startSlotLoop({ boss, log, slots: config.workerConcurrency, queues: imageHandlers.map(([queue, handler]) => ({ queue, run: (job, hold) => run(handler, job, hold) })) });
+  const imageLoop = startSlotLoop({
+    boss,
+    log,
+    slots: config.workerConcurrency,
+    queues: imageHandlers.map(([queue, handler]) => ({ queue, run: (job, hold) => run(handler, job, hold) })),
+  });
   log.info({ concurrency: config.workerConcurrency, heartbeat: heartbeat.id }, "worker ready");
 
   // The regular tidy: every worker asks each hour (one job per hour whoever asks: a singleton key
@@ -121,7 +139,10 @@ export async function startWorker(deps: WorkerDeps) {
     closeStaleBatches(deps.database.db, {
       boss,
       removeRetired: async (keys) => {
-        for (const key of keys) await deps.library.remove(key).catch((err: unknown) => log.warn({ err, key }, "worker: a retired file stays until the library tidy"));
+        for (const key of keys)
+          await deps.library
+            .remove(key)
+            .catch((err: unknown) => log.warn({ err, key }, "worker: a retired file stays until the library tidy"));
       },
     })
       .then((n) => (n ? log.info({ closed: n }, "worker: closed batches left open") : undefined))

@@ -101,8 +101,17 @@ async function withDatabase<T>(fn: (url: string, dir: string) => Promise<T>): Pr
 
 /** A worker process; with `cpus`, held to them (PLATEN_WORKER_CPUS, as a studio would set it). */
 function worker(env: Record<string, string>, cpus?: string): ChildProcess {
-  const node = [...(process.env.PLATEN_BENCH_PROFILE ? ["--cpu-prof", `--cpu-prof-dir=${process.env.PLATEN_BENCH_PROFILE}`] : []), "--import", "tsx", "worker/main.ts"];
-  return spawn(process.execPath, node, { cwd: ROOT, env: { ...process.env, ...env, ...(cpus === undefined ? {} : { PLATEN_WORKER_CPUS: cpus }) }, stdio: "ignore" });
+  const node = [
+    ...(process.env.PLATEN_BENCH_PROFILE ? ["--cpu-prof", `--cpu-prof-dir=${process.env.PLATEN_BENCH_PROFILE}`] : []),
+    "--import",
+    "tsx",
+    "worker/main.ts",
+  ];
+  return spawn(process.execPath, node, {
+    cwd: ROOT,
+    env: { ...process.env, ...env, ...(cpus === undefined ? {} : { PLATEN_WORKER_CPUS: cpus }) },
+    stdio: "ignore",
+  });
 }
 
 const stopped = (c: ChildProcess) => new Promise((r) => (c.exitCode !== null ? r(null) : c.once("exit", r)));
@@ -112,7 +121,15 @@ export async function benchBatch(): Promise<BatchBench> {
     // Each worker process is held to one job and one libvips thread at a time: one worker per
     // core, as on a machine per worker, so the figure shows how the queue scales across processes
     // rather than how one process's image threads share the cores.
-    const env = { DATABASE_URL: url, PLATEN_LIBRARY_DIR: path.join(dir, "library"), PLATEN_DATA_DIR: path.join(dir, "data"), PLATEN_WORKER_CONCURRENCY: "1", PLATEN_VIPS_THREADS: "1", LOG_LEVEL: "silent", PLATEN_PROCESS: "bench-worker" };
+    const env = {
+      DATABASE_URL: url,
+      PLATEN_LIBRARY_DIR: path.join(dir, "library"),
+      PLATEN_DATA_DIR: path.join(dir, "data"),
+      PLATEN_WORKER_CONCURRENCY: "1",
+      PLATEN_VIPS_THREADS: "1",
+      LOG_LEVEL: "silent",
+      PLATEN_PROCESS: "bench-worker",
+    };
     const { overrideConfig } = await import("../../server/config");
     const cfg = overrideConfig(env);
     const { openDatabase, migrateDatabase } = await import("../../server/db");
@@ -142,23 +159,66 @@ export async function benchBatch(): Promise<BatchBench> {
     const makeSet = async (label: string) => {
       const [scan] = await database.db
         .insert(schema.scans)
-        .values({ intakeId: intake!.id, originalName: `${label}.tif`, source: "inbox", sha256: label.padEnd(64, "0"), sizeBytes: 1, originalKey: "originals/none", status: "ready", width: 20000, height: 20000, dpiX: 300, dpiY: 300, dpiSource: "embedded" })
+        .values({
+          intakeId: intake!.id,
+          originalName: `${label}.tif`,
+          source: "inbox",
+          sha256: label.padEnd(64, "0"),
+          sizeBytes: 1,
+          originalKey: "originals/none",
+          status: "ready",
+          width: 20000,
+          height: 20000,
+          dpiX: 300,
+          dpiY: 300,
+          dpiSource: "embedded",
+        })
         .returning();
       const ids: string[] = [];
       for (let i = 0; i < FRAGMENTS; i++) {
-        const g = { box: { x: 0, y: 0, width: 1200, height: 900 }, angle: 0, rect: { cx: 600, cy: 450, width: 1200, height: 900 }, outline: [[0, 0], [1200, 0], [1200, 900], [0, 900]] as [number, number][], shape: "rectangle" as const };
-        const [f] = await database.db.insert(schema.fragments).values({ scanId: scan!.id, position: i + 1, status: "approved", renderState: "done", ...g, areaPx: 1080000 }).returning();
+        const g = {
+          box: { x: 0, y: 0, width: 1200, height: 900 },
+          angle: 0,
+          rect: { cx: 600, cy: 450, width: 1200, height: 900 },
+          outline: [
+            [0, 0],
+            [1200, 0],
+            [1200, 900],
+            [0, 900],
+          ] as [number, number][],
+          shape: "rectangle" as const,
+        };
+        const [f] = await database.db
+          .insert(schema.fragments)
+          .values({ scanId: scan!.id, position: i + 1, status: "approved", renderState: "done", ...g, areaPx: 1080000 })
+          .returning();
         const key = `masters/${f!.id}.tif`;
         await library.writeAtomic(key, (tmp) => fs.writeFile(tmp, master));
         const recipe = await recipeVersionFor(database.db, f!.id);
-        await database.db.insert(schema.outputs).values({ fragmentId: f!.id, kind: "master", key, format: "tiff", width: 1200, height: 900, bitDepth: 8, hasAlpha: false, dpi: 300, bytes: master.length, revision: 1, recipeVersionId: recipe.id });
+        await database.db.insert(schema.outputs).values({
+          fragmentId: f!.id,
+          kind: "master",
+          key,
+          format: "tiff",
+          width: 1200,
+          height: 900,
+          bitDepth: 8,
+          hasAlpha: false,
+          dpi: 300,
+          bytes: master.length,
+          revision: 1,
+          recipeVersionId: recipe.id,
+        });
         ids.push(f!.id);
       }
       return ids;
     };
 
     // createdBy must be a real user: make one.
-    const [user] = await database.db.insert(schema.users).values({ email: "bench@bench.local", name: "Bench", role: "operator", passwordHash: "x" }).returning();
+    const [user] = await database.db
+      .insert(schema.users)
+      .values({ email: "bench@bench.local", name: "Bench", role: "operator", passwordHash: "x" })
+      .returning();
     /** Outputs per second for one batch over `ids` made by `workers` worker processes. */
     const timed = async (ids: string[], workers: number, cpus?: string[]): Promise<BatchRun> => {
       const children = Array.from({ length: workers }, (_, i) => worker(env, cpus?.[i]));
@@ -166,7 +226,10 @@ export async function benchBatch(): Promise<BatchBench> {
       // before its job loop starts), so a slow start is not counted against one configuration.
       const pids = children.map((c) => c.pid!);
       for (let waited = 0; ; waited += 100) {
-        const up = await database.db.select({ pid: schema.processes.pid }).from(schema.processes).where(inArray(schema.processes.pid, pids));
+        const up = await database.db
+          .select({ pid: schema.processes.pid })
+          .from(schema.processes)
+          .where(inArray(schema.processes.pid, pids));
         if (up.length === pids.length) break;
         if (waited > 60_000 || children.some((c) => c.exitCode !== null)) throw new Error("bench: a worker process did not start");
         await new Promise((r) => setTimeout(r, 100));
@@ -176,7 +239,8 @@ export async function benchBatch(): Promise<BatchBench> {
       children.forEach((c, i) => {
         if (!cpus?.[i]) return;
         const loose = threadCpus(c.pid!).filter((t) => formatCpuList(t.cpus) !== cpus[i]);
-        if (loose.length) throw new Error(`bench: worker ${i + 1} was to be held to CPUs ${cpus[i]} but ${loose.length} of its threads are not`);
+        if (loose.length)
+          throw new Error(`bench: worker ${i + 1} was to be held to CPUs ${cpus[i]} but ${loose.length} of its threads are not`);
       });
       const cpu0 = children.map((c) => cpuSeconds(c.pid!));
       const machine0 = machineCpuSeconds();
@@ -194,7 +258,8 @@ export async function benchBatch(): Promise<BatchBench> {
     // Each held worker's CPUs: the machine's split as the launcher splits them (cpuShares).
     const machineCpus = allowedCpus() ?? Array.from({ length: os.cpus().length }, (_, i) => i);
     const shares = cpuShares(2, machineCpus);
-    if (!shares) throw new Error(`bench: two workers each held to CPUs of their own need two CPUs; this process may use ${machineCpus.length}`);
+    if (!shares)
+      throw new Error(`bench: two workers each held to CPUs of their own need two CPUs; this process may use ${machineCpus.length}`);
     /** ROUNDS of the four configurations, each batch over fresh fragments (outputs are made once). */
     const runs: { one: BatchRun; twoHeld: BatchRun; twoFree: BatchRun; oneHeld: BatchRun }[] = [];
     for (let r = 0; r < ROUNDS; r++) {
@@ -230,7 +295,10 @@ export async function benchBatch(): Promise<BatchBench> {
       boss,
       log: logger,
       slots: 1,
-      queues: [...image.map((queue) => ({ queue, run: async () => {} })), { queue: NOOP, run: async () => void (++seen === N && allSeen()) }],
+      queues: [
+        ...image.map((queue) => ({ queue, run: async () => {} })),
+        { queue: NOOP, run: async () => void (++seen === N && allSeen()) },
+      ],
     });
     await allDone;
     const overhead = (performance.now() - t0) / N;

@@ -39,10 +39,16 @@ if (process.argv[1] && path.resolve(process.argv[1]) === path.resolve(import.met
   const dir = await fs.mkdtemp(path.join(os.tmpdir(), "platen-estimate-"));
   try {
     for (const kind of ["flat", "smooth", "grainy"] as const)
-      for (const [w, h] of [[1200, 900], [2400, 3000]] as const) {
+      for (const [w, h] of [
+        [1200, 900],
+        [2400, 3000],
+      ] as const) {
         const { master, rows } = await measureEstimates(kind, w, h, dir);
         console.log(`${kind} ${w} × ${h} px, master ${(master.bytes / 1e3).toFixed(0)} kB`);
-        for (const r of rows) console.log(`  ${r.preset.padEnd(14)} ${(r.actual / 1e3).toFixed(0).padStart(7)} kB  estimate ${(r.estimate / 1e3).toFixed(0).padStart(7)} kB  ×${(r.estimate / r.actual).toFixed(2)}`);
+        for (const r of rows)
+          console.log(
+            `  ${r.preset.padEnd(14)} ${(r.actual / 1e3).toFixed(0).padStart(7)} kB  estimate ${(r.estimate / 1e3).toFixed(0).padStart(7)} kB  ×${(r.estimate / r.actual).toFixed(2)}`,
+          );
       }
   } finally {
     await fs.rm(dir, { recursive: true, force: true });

@@ -52,12 +52,7 @@ async function timed(fn: () => Promise<void>): Promise<{ wall: number; cpu: numb
 type Pairs = Omit<Sample, "peakRssMb" | "detail">;
 
 /** `runs` pairs after one untimed warm-up pair: the floor, then the measured function, each timed (after `before`, untimed here). */
-async function paired(
-  runs: number,
-  floor: () => Promise<void>,
-  run: () => Promise<void>,
-  before?: () => Promise<void>,
-): Promise<Pairs> {
+async function paired(runs: number, floor: () => Promise<void>, run: () => Promise<void>, before?: () => Promise<void>): Promise<Pairs> {
   const out: Pairs = {
     times: [],
     cpuTimes: [],
@@ -105,9 +100,7 @@ type RenderModule = typeof import("../../worker/pipeline/render/index");
 async function renderModule(): Promise<RenderModule | null> {
   try {
     const mod = (await import("../../worker/pipeline/render/index")) as RenderModule;
-    return typeof mod.renderFragment === "function" && typeof mod.renderFragments === "function"
-      ? mod
-      : null;
+    return typeof mod.renderFragment === "function" && typeof mod.renderFragments === "function" ? mod : null;
   } catch {
     return null;
   }
@@ -167,9 +160,7 @@ async function renderBatch(
 
 /** The whole scan decoded into memory once, as sharp alone would, with the options to read it back. */
 async function decodeRaw(file: string) {
-  const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels })
-    .raw()
-    .toBuffer({ resolveWithObject: true });
+  const { data, info } = await sharp(file, { limitInputPixels: LIMITS.maxPixels }).raw().toBuffer({ resolveWithObject: true });
   return { data, info, raw: { raw: { width: info.width, height: info.height, channels: info.channels } } };
 }
 
@@ -178,11 +169,7 @@ async function decodeRaw(file: string) {
  * decoded pixels (an LZW TIFF, a 4:2:0 JPEG of long edge 2048): no analysis, no turn, no mask.
  * Reported beside the target's floor, as the least any render could cost.
  */
-async function bareFloor(
-  file: string,
-  outDir: string,
-  fragments: SplitResult["fragments"],
-): Promise<void> {
+async function bareFloor(file: string, outDir: string, fragments: SplitResult["fragments"]): Promise<void> {
   const { data, raw } = await decodeRaw(file);
   for (const [i, f] of fragments.entries()) {
     const region = { left: f.box.x, top: f.box.y, width: f.box.width, height: f.box.height };
@@ -202,8 +189,7 @@ async function bareFloor(
 function polygonSvg(points: [number, number][], width: number, height: number): Buffer {
   const d = points.map(([x, y]) => `${x.toFixed(2)},${y.toFixed(2)}`).join(" ");
   return Buffer.from(
-    `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}">` +
-      `<polygon points="${d}" fill="#fff"/></svg>`,
+    `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}">` + `<polygon points="${d}" fill="#fff"/></svg>`,
   );
 }
 
@@ -245,8 +231,7 @@ async function sameOutputsFloor(
       .extract(plan.crop)
       .raw()
       .toBuffer({ resolveWithObject: true });
-    const outline =
-      f.shape === "cutout" ? f.outline.map((p) => plan.toUpright(p as [number, number])) : null;
+    const outline = f.shape === "cutout" ? f.outline.map((p) => plan.toUpright(p as [number, number])) : null;
     return { turned, outline };
   };
   const writeMasterOf = async (i: number, piece: Awaited<ReturnType<typeof cut>>) => {
@@ -265,11 +250,10 @@ async function sameOutputsFloor(
   };
   const writeWebOf = async (i: number, piece: Awaited<ReturnType<typeof cut>>) => {
     const { data: px, info: t } = piece.turned;
-    const web = sharp(px, { raw: { width: t.width, height: t.height, channels: t.channels } }).resize(
-      2048,
-      2048,
-      { fit: "inside", withoutEnlargement: true },
-    );
+    const web = sharp(px, { raw: { width: t.width, height: t.height, channels: t.channels } }).resize(2048, 2048, {
+      fit: "inside",
+      withoutEnlargement: true,
+    });
     if (!piece.outline) return void (await web.jpeg(WEB_JPEG).toFile(path.join(outDir, `sw${i}.jpg`)));
     const fitted = await web.raw().toBuffer({ resolveWithObject: true });
     const w = fitted.info;
@@ -355,11 +339,7 @@ async function whole(
   };
 }
 
-type Measurement = (
-  file: string,
-  runs: number,
-  outDir: string,
-) => Promise<Omit<Sample, "peakRssMb">>;
+type Measurement = (file: string, runs: number, outDir: string) => Promise<Omit<Sample, "peakRssMb">>;
 
 export const MEASUREMENTS: Record<string, Measurement> = {
   /** The whole split (header, decode into the reduced copy, analysis), paired with the floor. */
@@ -405,9 +385,7 @@ if (process.argv[1] && path.resolve(process.argv[1]) === path.resolve(import.met
   const [name, file, runs, outDir] = process.argv.slice(2);
   const measure = MEASUREMENTS[name ?? ""];
   if (!measure || !file || !outDir) {
-    process.stderr.write(
-      `usage: measure.ts <${Object.keys(MEASUREMENTS).join("|")}> <scan> <runs> <out-dir>\n`,
-    );
+    process.stderr.write(`usage: measure.ts <${Object.keys(MEASUREMENTS).join("|")}> <scan> <runs> <out-dir>\n`);
     process.exit(2);
   }
   await fs.mkdir(outDir, { recursive: true });

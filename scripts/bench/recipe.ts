@@ -142,7 +142,13 @@ export function formatRecipeBench(rows: RecipeBenchRow[]): string {
     (r) =>
       `${String(r.bitDepth).padEnd(5)}  ${r.compression.padEnd(5)}  ${String(r.megapixels).padEnd(5)}  ${String(r.floorMsPerMp).padEnd(11)}  ${String(r.recipeMsPerMp).padEnd(12)}  ${`${r.ratio}×`.padEnd(6)}  ${`${r.cpuRatio}×`.padEnd(9)}  ${r.applyMsPerMp}`,
   );
-  return ["recipe cost (white balance, auto levels, contrast, saturation + vibrance, sharpen) vs a bare sharp copy", head, ...lines, "target: ratio ≤ 3× at 8 bits", ""].join("\n");
+  return [
+    "recipe cost (white balance, auto levels, contrast, saturation + vibrance, sharpen) vs a bare sharp copy",
+    head,
+    ...lines,
+    "target: ratio ≤ 3× at 8 bits",
+    "",
+  ].join("\n");
 }
 
 if (process.argv[1] && path.resolve(process.argv[1]) === path.resolve(import.meta.filename)) {

@@ -25,10 +25,7 @@ const OWN = ".own-assets.json";
 /** A lock left by a process that died while holding it is taken over after this long. */
 const STALE_LOCK_MS = 60_000;
 
-export function buildClient(
-  root: string,
-  opts: { vite?: string; stdio?: "inherit" | "pipe" } = {},
-): { ok: boolean; dir: string } {
+export function buildClient(root: string, opts: { vite?: string; stdio?: "inherit" | "pipe" } = {}): { ok: boolean; dir: string } {
   const builds = path.join(root, ".builds");
   fs.mkdirSync(builds, { recursive: true });
   // Named by when it started, so builds compare by the age of their sources (`startedAt`).

@@ -14,7 +14,13 @@ export const DEMO_STUDIO_NAME = "Kestrel Row Paper Studio";
 export const DEMO_INTAKES = ["Autumn offcuts, first pass", "Gallery postcards"];
 
 interface Piece {
-  x: number; y: number; w: number; h: number; angle: number; fill: string; cut?: boolean;
+  x: number;
+  y: number;
+  w: number;
+  h: number;
+  angle: number;
+  fill: string;
+  cut?: boolean;
 }
 
 function svgFor(width: number, height: number, pieces: Piece[]): string {
@@ -24,7 +30,13 @@ function svgFor(width: number, height: number, pieces: Piece[]): string {
       const cy = p.y + p.h / 2;
       const body = p.cut
         ? `<polygon points="${[
-            [0, 0.2], [0.35, 0], [0.8, 0.1], [1, 0.55], [0.75, 1], [0.2, 0.9], [0.05, 0.6],
+            [0, 0.2],
+            [0.35, 0],
+            [0.8, 0.1],
+            [1, 0.55],
+            [0.75, 1],
+            [0.2, 0.9],
+            [0.05, 0.6],
           ]
             .map(([a, b]) => `${p.x + a! * p.w},${p.y + b! * p.h}`)
             .join(" ")}" fill="${p.fill}"/>`

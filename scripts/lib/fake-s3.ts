@@ -18,11 +18,7 @@ export interface FakeS3 {
 
 export const FAKE_S3_CREDENTIALS = { accessKeyId: "S3RVER", secretAccessKey: "S3RVER" } as const;
 
-export async function startFakeS3(opts: {
-  directory: string;
-  buckets: string[];
-  port?: number;
-}): Promise<FakeS3> {
+export async function startFakeS3(opts: { directory: string; buckets: string[]; port?: number }): Promise<FakeS3> {
   await fs.mkdir(opts.directory, { recursive: true });
   const server = new S3rver({
     address: "127.0.0.1",
@@ -38,23 +34,14 @@ export async function startFakeS3(opts: {
     directory: opts.directory,
     objectFile: (bucket, key) => {
       const parts = key.split("/");
-      return path.join(
-        opts.directory,
-        bucket,
-        ...parts.slice(0, -1),
-        `${parts.at(-1)}._S3rver_object`,
-      );
+      return path.join(opts.directory, bucket, ...parts.slice(0, -1), `${parts.at(-1)}._S3rver_object`);
     },
     stop: () => server.close(),
   };
 }
 
 /** The environment that points Platen's library (or its off-site copy) at a fake S3. */
-export function fakeS3Env(
-  fake: FakeS3,
-  bucket: string,
-  which: "S3" | "OFFSITE" = "S3",
-): Record<string, string> {
+export function fakeS3Env(fake: FakeS3, bucket: string, which: "S3" | "OFFSITE" = "S3"): Record<string, string> {
   return {
     ...(which === "S3" ? { PLATEN_STORAGE: "s3" } : {}),
     [`PLATEN_${which}_BUCKET`]: bucket,

@@ -79,9 +79,7 @@ export function startCluster(opts: ClusterOptions): boolean {
   fs.chmodSync(data, 0o700);
   if (!fs.existsSync(path.join(data, "PG_VERSION"))) {
     log(`Creating the private PostgreSQL cluster in ${data}`);
-    asServerUser(path.join(bin, "initdb"), [
-      "-D", data, "-U", "platen", "--auth=trust", "-E", "UTF8", "--locale=C.UTF-8",
-    ]);
+    asServerUser(path.join(bin, "initdb"), ["-D", data, "-U", "platen", "--auth=trust", "-E", "UTF8", "--locale=C.UTF-8"]);
   }
   if (isRunning(opts)) return false;
   if (!portFree(opts.port)) {

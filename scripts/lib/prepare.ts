@@ -22,7 +22,10 @@ export function clusterOptions(cfg: Config) {
  * elsewhere), the database created, migrations applied, the job queue's schema in place, the
  * studio and first admin created, and on a new demo studio the sample scans dropped in the inbox.
  */
-export async function prepare(cfg: Config, opts: { cluster: boolean }): Promise<{ startedCluster: boolean; admin: FirstAdmin | null; demoFiles: string[] }> {
+export async function prepare(
+  cfg: Config,
+  opts: { cluster: boolean },
+): Promise<{ startedCluster: boolean; admin: FirstAdmin | null; demoFiles: string[] }> {
   const startedCluster = opts.cluster ? startCluster({ ...clusterOptions(cfg), log: (l) => console.log(l) }) : false;
   await ensureDatabaseExists(cfg.databaseUrl);
   const database = openDatabase(cfg.databaseUrl, 2);
@@ -37,7 +40,12 @@ export async function prepare(cfg: Config, opts: { cluster: boolean }): Promise<
     let demoFiles: string[] = [];
     if (fresh && cfg.demo) {
       for (const name of DEMO_INTAKES) await startIntake(database.db, name);
-      const [first] = await database.db.select({ id: users.id }).from(users).where(eq(users.role, "admin")).orderBy(asc(users.createdAt)).limit(1);
+      const [first] = await database.db
+        .select({ id: users.id })
+        .from(users)
+        .where(eq(users.role, "admin"))
+        .orderBy(asc(users.createdAt))
+        .limit(1);
       if (first) await createDemoPresets(database.db, first.id);
       demoFiles = await dropDemoScans(cfg.inboxDir);
     }

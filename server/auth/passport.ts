@@ -21,10 +21,7 @@ export function createPassport(db: Db): passport.PassportStatic {
         .then((v) => {
           if (v.ok) return done(null, toSessionUser(v.user));
           return done(null, false, {
-            message:
-              v.reason === "disabled"
-                ? "This account is disabled. Ask a studio admin to enable it."
-                : "Wrong e-mail or password.",
+            message: v.reason === "disabled" ? "This account is disabled. Ask a studio admin to enable it." : "Wrong e-mail or password.",
           });
         })
         .catch(done);

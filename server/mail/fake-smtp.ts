@@ -20,7 +20,12 @@ const MAX_MESSAGE_BYTES = 10 * 1024 * 1024;
 const addresses = (a: AddressObject | AddressObject[] | undefined): string[] =>
   (Array.isArray(a) ? a : a ? [a] : []).flatMap((o) => o.value.map((v) => v.address ?? "").filter(Boolean));
 
-export async function startMailFake(opts: { dir: string; host?: string; port?: number; onMessage?: (id: string) => void }): Promise<MailFake> {
+export async function startMailFake(opts: {
+  dir: string;
+  host?: string;
+  port?: number;
+  onMessage?: (id: string) => void;
+}): Promise<MailFake> {
   const host = opts.host ?? "127.0.0.1";
   const server = new SMTPServer({
     authOptional: true,
@@ -33,7 +38,8 @@ export async function startMailFake(opts: { dir: string; host?: string; port?: n
       stream.on("data", (c: Buffer) => chunks.push(c));
       stream.on("error", callback);
       stream.on("end", () => {
-        if (stream.sizeExceeded) return callback(Object.assign(new Error("Message too large for the local mailbox"), { responseCode: 552 }));
+        if (stream.sizeExceeded)
+          return callback(Object.assign(new Error("Message too large for the local mailbox"), { responseCode: 552 }));
         const raw = Buffer.concat(chunks);
         const id = newMailboxId();
         simpleParser(raw)
@@ -50,10 +56,13 @@ export async function startMailFake(opts: { dir: string; host?: string; port?: n
               html: typeof mail.html === "string" ? mail.html : null,
             });
           })
-          .then(() => {
-            opts.onMessage?.(id);
-            callback();
-          }, (err: Error) => callback(err));
+          .then(
+            () => {
+              opts.onMessage?.(id);
+              callback();
+            },
+            (err: Error) => callback(err),
+          );
       });
     },
   });

@@ -53,4 +53,10 @@ export async function readMailboxMessage(dir: string, id: string): Promise<Mailb
   }
 }
 
-export const summary = (m: MailboxMessage): MailboxSummary => ({ id: m.id, receivedAt: m.receivedAt, from: m.from, to: m.to, subject: m.subject });
+export const summary = (m: MailboxMessage): MailboxSummary => ({
+  id: m.id,
+  receivedAt: m.receivedAt,
+  from: m.from,
+  to: m.to,
+  subject: m.subject,
+});

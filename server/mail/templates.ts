@@ -50,12 +50,24 @@ export function invitationMessage(i: InvitationInput): Message {
     preheader: `${who} invited you as ${role}. The link works once, for ${formatDuration(i.validForMs)}.`,
     heading: `Join ${i.studio}`,
     blocks: [
-      { kind: "paragraph", text: `${who} invited you (${i.email}) to the studio's Platen, where its scans become a library of finished pieces.` },
-      { kind: "facts", rows: [["Your role", `${ROLE_LABELS[i.role]}: ${ROLE_DESCRIPTIONS[i.role]}`], ["Link valid until", formatWhen(i.expiresAt)]] },
+      {
+        kind: "paragraph",
+        text: `${who} invited you (${i.email}) to the studio's Platen, where its scans become a library of finished pieces.`,
+      },
+      {
+        kind: "facts",
+        rows: [
+          ["Your role", `${ROLE_LABELS[i.role]}: ${ROLE_DESCRIPTIONS[i.role]}`],
+          ["Link valid until", formatWhen(i.expiresAt)],
+        ],
+      },
       { kind: "paragraph", text: "Open the link, enter your name and choose a password. You are then signed in." },
       { kind: "button", label: "Accept the invitation", href: i.link },
       { kind: "link", label: "If the button does not work, copy this address into your browser:", href: i.link },
-      { kind: "small", text: `The link works once and only until ${formatWhen(i.expiresAt)}. If it has run out, ask ${who === "An admin" ? "an admin" : who} to send a new one.` },
+      {
+        kind: "small",
+        text: `The link works once and only until ${formatWhen(i.expiresAt)}. If it has run out, ask ${who === "An admin" ? "an admin" : who} to send a new one.`,
+      },
     ],
     footer: `You get this because someone at ${i.studio} entered your address. If you did not expect it, ignore it: nothing happens until the link is used.`,
   });
@@ -76,10 +88,16 @@ export function passwordResetMessage(r: ResetInput): Message {
     preheader: `The link works once, for ${formatDuration(r.validForMs)}.`,
     heading: "Choose a new password",
     blocks: [
-      { kind: "paragraph", text: `Hello ${r.name}, someone asked for a new password for your account. If it was you, open the link and choose one.` },
+      {
+        kind: "paragraph",
+        text: `Hello ${r.name}, someone asked for a new password for your account. If it was you, open the link and choose one.`,
+      },
       { kind: "button", label: "Choose a new password", href: r.link },
       { kind: "link", label: "If the button does not work, copy this address into your browser:", href: r.link },
-      { kind: "small", text: `The link works once and only until ${formatWhen(r.expiresAt)}. Choosing a new password signs you out everywhere else.` },
+      {
+        kind: "small",
+        text: `The link works once and only until ${formatWhen(r.expiresAt)}. Choosing a new password signs you out everywhere else.`,
+      },
     ],
     footer: "If you did not ask for this, ignore this message: your password stays as it is.",
   });
@@ -121,7 +139,8 @@ export function batchFinishedMessage(b: BatchFinishedInput): Message {
       ],
     },
   ];
-  if (b.failures.length) blocks.push({ kind: "list", tone: "failure", title: "Failures", items: listed(b.failures.map((f) => `${f.what}: ${f.error}`)) });
+  if (b.failures.length)
+    blocks.push({ kind: "list", tone: "failure", title: "Failures", items: listed(b.failures.map((f) => `${f.what}: ${f.error}`)) });
   if (b.warnings.length) blocks.push({ kind: "list", tone: "caution", title: "Warnings", items: listed(b.warnings) });
   blocks.push({ kind: "button", label: counts.failed ? "Open the batch to retry the failures" : "Open the batch", href: b.link });
   return renderLayout({
@@ -148,7 +167,10 @@ export function intakeFinishedMessage(i: IntakeFinishedInput): Message {
   const c = i.counts;
   const outcome = `${plural(c.scans, "scan")}: ${c.ready} ready for review, ${c.failed} failed${c.duplicates ? `, ${plural(c.duplicates, "duplicate")}` : ""}`;
   const blocks: Block[] = [
-    { kind: "paragraph", text: `Every scan of the intake “${i.name}” has been read and split, or has failed. ${plural(c.pieces, "piece")} found, waiting for review.` },
+    {
+      kind: "paragraph",
+      text: `Every scan of the intake “${i.name}” has been read and split, or has failed. ${plural(c.pieces, "piece")} found, waiting for review.`,
+    },
     {
       kind: "facts",
       rows: [
@@ -161,7 +183,8 @@ export function intakeFinishedMessage(i: IntakeFinishedInput): Message {
       ],
     },
   ];
-  if (i.failures.length) blocks.push({ kind: "list", tone: "failure", title: "Failures", items: listed(i.failures.map((f) => `${f.what}: ${f.error}`)) });
+  if (i.failures.length)
+    blocks.push({ kind: "list", tone: "failure", title: "Failures", items: listed(i.failures.map((f) => `${f.what}: ${f.error}`)) });
   if (i.warnings.length) blocks.push({ kind: "list", tone: "caution", title: "Warnings", items: listed(i.warnings) });
   blocks.push({ kind: "button", label: "Review the scans", href: i.link });
   return renderLayout({
@@ -190,9 +213,15 @@ export function scanFailedMessage(s: ScanFailedInput): Message {
     preheader: s.error,
     heading: "A scan failed",
     blocks: [
-      { kind: "paragraph", text: `Platen could not finish the scan “${s.scanName}” (intake “${s.intakeName}”) on ${formatWhen(s.failedAt)}.` },
+      {
+        kind: "paragraph",
+        text: `Platen could not finish the scan “${s.scanName}” (intake “${s.intakeName}”) on ${formatWhen(s.failedAt)}.`,
+      },
       { kind: "list", tone: "failure", title: "The reason", items: [s.error] },
-      { kind: "paragraph", text: "The original stays in the library, unchanged. Fix the cause and retry the scan from its page, or scan the piece again." },
+      {
+        kind: "paragraph",
+        text: "The original stays in the library, unchanged. Fix the cause and retry the scan from its page, or scan the piece again.",
+      },
       { kind: "button", label: "Open the scan", href: s.link },
     ],
     footer: NOTICE_FOOTER(s.studio),

@@ -23,7 +23,9 @@ export const accessControl: RequestHandler = (req, _res, next) => {
   const user = req.user;
   if (!user) return next(unauthenticated());
   if (!hasRole(user.role, access)) {
-    return next(forbidden(`Your role (${user.role}) does not allow this; it needs ${access === "admin" ? "an admin" : `an ${access} or admin`}.`));
+    return next(
+      forbidden(`Your role (${user.role}) does not allow this; it needs ${access === "admin" ? "an admin" : `an ${access} or admin`}.`),
+    );
   }
   next();
 };

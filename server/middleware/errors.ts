@@ -37,7 +37,12 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if (err instanceof multer.MulterError) {
     appErr =
       err.code === "LIMIT_FILE_SIZE"
-        ? new AppError(413, "payload_too_large", `The file is larger than the upload limit of ${formatBytes(config().maxUploadBytes)}.`, err.field)
+        ? new AppError(
+            413,
+            "payload_too_large",
+            `The file is larger than the upload limit of ${formatBytes(config().maxUploadBytes)}.`,
+            err.field,
+          )
         : new AppError(400, "bad_request", `Upload refused: ${err.message}.`, err.field);
   } else if (err instanceof StorageError && err.code === "unavailable") {
     // The library's object store cannot be reached or refused us: say so, the request can be retried.
@@ -49,7 +54,11 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if (pgError(err)?.code === "23505") {
     // A unique index refused a row a look-up had just found free: another request got there first.
     (req.log ?? console).warn({ constraint: pgError(err)!.constraint, path: req.originalUrl }, "unique clash between requests");
-    appErr = new AppError(409, "conflict", "Another change made the same thing at the same moment. Reload to see it, then try again if you still need to.");
+    appErr = new AppError(
+      409,
+      "conflict",
+      "Another change made the same thing at the same moment. Reload to see it, then try again if you still need to.",
+    );
   } else if (pgError(err)?.code === "40001" || pgError(err)?.code === "40P01") {
     (req.log ?? console).warn({ code: pgError(err)!.code, path: req.originalUrl }, "transaction lost a race");
     appErr = new AppError(503, "unavailable", "The database was busy with a change that clashed with this one. Try again.");
@@ -60,14 +69,22 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   } else if (err?.type === "charset.unsupported") {
     appErr = new AppError(415, "unsupported_media_type", "The request body's character set is not supported: send JSON as UTF-8.");
   } else if (err?.type === "encoding.unsupported") {
-    appErr = new AppError(415, "unsupported_media_type", "The request body's Content-Encoding is not supported: send it as is, or as gzip, deflate or br.");
+    appErr = new AppError(
+      415,
+      "unsupported_media_type",
+      "The request body's Content-Encoding is not supported: send it as is, or as gzip, deflate or br.",
+    );
   } else if (clientStatus(err)) {
     // Any other refusal the HTTP layer raised about the request itself (a body cut off or
     // shorter than announced, a path parameter that does not decode): the caller's, a 4xx.
     const status = clientStatus(err)!;
     const code = status === 413 ? "payload_too_large" : status === 415 ? "unsupported_media_type" : "bad_request";
     (req.log ?? console).warn({ status, type: err?.type, path: req.originalUrl }, "request refused by the HTTP layer");
-    appErr = new AppError(status === 413 || status === 415 ? status : 400, code, "The request could not be read. Check it and send it again.");
+    appErr = new AppError(
+      status === 413 || status === 415 ? status : 400,
+      code,
+      "The request could not be read. Check it and send it again.",
+    );
   } else {
     (req.log ?? console).error({ err, path: req.originalUrl }, "unhandled error");
     appErr = new AppError(500, "internal", "Something went wrong on the server. The error has been logged; try again.");

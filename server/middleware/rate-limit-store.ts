@@ -53,10 +53,10 @@ export class PgRateLimitStore implements Store {
   }
 
   async decrement(key: string): Promise<void> {
-    await this.pool.query(
-      "update rate_limit_hits set hits = greatest(hits - 1, 0) where name = $1 and key = $2 and reset_at > now()",
-      [this.prefix, key],
-    );
+    await this.pool.query("update rate_limit_hits set hits = greatest(hits - 1, 0) where name = $1 and key = $2 and reset_at > now()", [
+      this.prefix,
+      key,
+    ]);
   }
 
   async resetKey(key: string): Promise<void> {

@@ -18,7 +18,11 @@ export function outputTitle(title: string | null, scanName: string | undefined, 
 
 /** What a download of this output is called: the scan's name, the fragment's number, the kind. */
 export function outputFileName(scanName: string, position: number, kind: string, format: string): string {
-  const stem = scanName.replace(/\.[^.]+$/, "").replace(/[^\w.-]+/g, "-").slice(0, 80) || "scan";
+  const stem =
+    scanName
+      .replace(/\.[^.]+$/, "")
+      .replace(/[^\w.-]+/g, "-")
+      .slice(0, 80) || "scan";
   const ext = format === "jpeg" ? "jpg" : format === "tiff" ? "tif" : format;
   return `${stem}-${String(position).padStart(2, "0")}-${kind}.${ext}`;
 }
@@ -63,21 +67,19 @@ export function presentFragment(row: FragmentRow, scan: ScanRow, outs: OutputRow
     outputs: outs
       .filter((o): o is OutputRow & { kind: "master" | "web" } => o.kind === "master" || o.kind === "web")
       .filter((o) => o.revision === row.revision || row.renderState !== "done")
-      .map(
-        (o): Output => ({
-          kind: o.kind,
-          format: o.format,
-          width: o.width,
-          height: o.height,
-          bitDepth: o.bitDepth,
-          hasAlpha: o.hasAlpha,
-          dpi: o.dpi,
-          bytes: o.bytes,
-          fileName: outputFileName(scan.originalName, row.position, o.kind, o.format),
-          createdAt: o.createdAt.toISOString(),
-          updatedAt: o.updatedAt.toISOString(),
-        }),
-      ),
+      .map((o): Output => ({
+        kind: o.kind,
+        format: o.format,
+        width: o.width,
+        height: o.height,
+        bitDepth: o.bitDepth,
+        hasAlpha: o.hasAlpha,
+        dpi: o.dpi,
+        bytes: o.bytes,
+        fileName: outputFileName(scan.originalName, row.position, o.kind, o.format),
+        createdAt: o.createdAt.toISOString(),
+        updatedAt: o.updatedAt.toISOString(),
+      })),
     reviewedAt: row.reviewedAt?.toISOString() ?? null,
     updatedAt: row.updatedAt.toISOString(),
   };

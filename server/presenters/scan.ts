@@ -43,18 +43,14 @@ export function presentScan(
           origin: (row.resolutionOrigin as NonNullable<Scan["dpi"]>["origin"]) ?? null,
         }
       : null,
-    fileDpi:
-      hasDpi
-        ? {
-            x: row.fileDpiX,
-            y: row.fileDpiY,
-            origin: row.fileDpiX != null ? ((row.fileResolutionOrigin as NonNullable<Scan["dpi"]>["origin"]) ?? null) : null,
-          }
-        : null,
-    physical:
-      hasDpi && row.width != null && row.height != null
-        ? physicalSize(row.width, row.height, row.dpiX!, row.dpiY!)
-        : null,
+    fileDpi: hasDpi
+      ? {
+          x: row.fileDpiX,
+          y: row.fileDpiY,
+          origin: row.fileDpiX != null ? ((row.fileResolutionOrigin as NonNullable<Scan["dpi"]>["origin"]) ?? null) : null,
+        }
+      : null,
+    physical: hasDpi && row.width != null && row.height != null ? physicalSize(row.width, row.height, row.dpiX!, row.dpiY!) : null,
     attempts: row.attempts,
     errorCode: row.status === "failed" ? (row.errorCode ?? null) : null,
     fragments: fragmentCounts,

@@ -28,14 +28,9 @@ export async function sendStored(
   const ranges = req.headers.range ? req.range(stat.size, { combine: true }) : undefined;
   if (ranges === -1) {
     res.setHeader("Content-Range", `bytes */${stat.size}`);
-    throw new AppError(
-      416,
-      "bad_request",
-      `The requested range is outside the file (${stat.size} bytes).`,
-    );
+    throw new AppError(416, "bad_request", `The requested range is outside the file (${stat.size} bytes).`);
   }
-  const range =
-    Array.isArray(ranges) && ranges.length === 1 && ranges.type === "bytes" ? ranges[0] : undefined;
+  const range = Array.isArray(ranges) && ranges.length === 1 && ranges.type === "bytes" ? ranges[0] : undefined;
   if (opts.downloadName) res.attachment(opts.downloadName);
   // Only for the file itself: an error answer (a missing file, a bad range) is never kept.
   if (opts.cacheControl) res.setHeader("Cache-Control", opts.cacheControl);
@@ -61,8 +56,7 @@ export async function sendStored(
   } catch (err) {
     // The person closed the page or cancelled: normal. Anything else cuts the response short,
     // which the client sees as a failed download (headers are out, no error body can follow).
-    if ((err as NodeJS.ErrnoException).code === "ERR_STREAM_PREMATURE_CLOSE")
-      req.log?.debug({ key }, "download closed by the client");
+    if ((err as NodeJS.ErrnoException).code === "ERR_STREAM_PREMATURE_CLOSE") req.log?.debug({ key }, "download closed by the client");
     else req.log?.warn({ err, key }, "download cut short");
     stream.destroy();
     res.destroy();

@@ -21,7 +21,13 @@ export interface PasswordChanged {
   signedOutElsewhere: number;
 }
 
-export async function changeOwnPassword(db: Db, cfg: Config, userId: string, currentSessionId: string, body: ChangePasswordBody): Promise<PasswordChanged> {
+export async function changeOwnPassword(
+  db: Db,
+  cfg: Config,
+  userId: string,
+  currentSessionId: string,
+  body: ChangePasswordBody,
+): Promise<PasswordChanged> {
   const [row] = await db.select().from(users).where(eq(users.id, userId));
   if (!row) throw notFound("Your account");
   if (!(await bcrypt.compare(body.currentPassword, row.passwordHash))) throw badRequest(WRONG_CURRENT_PASSWORD, "currentPassword");
@@ -33,7 +39,11 @@ export async function changeOwnPassword(db: Db, cfg: Config, userId: string, cur
       .set({ passwordHash, updatedAt: new Date() })
       .where(and(eq(users.id, userId), eq(users.passwordHash, row.passwordHash)))
       .returning();
-    if (!updated) throw conflict("Your password was changed elsewhere a moment ago. Reload the page and try again with the new one.", "currentPassword");
+    if (!updated)
+      throw conflict(
+        "Your password was changed elsewhere a moment ago. Reload the page and try again with the new one.",
+        "currentPassword",
+      );
     const ended = await tx.execute(
       sql`delete from "session" where (sess::jsonb -> 'passport' ->> 'user') = ${userId} and sid <> ${currentSessionId}`,
     );

@@ -97,7 +97,11 @@ function actorFrom(req: Request | undefined): AuditActor | null {
  * request being handled unless `opts.actor` names one; with neither (a script, the bootstrap),
  * the row has no actor and reads as done by Platen itself.
  */
-export async function recordAudit(writer: AuditWriter, entry: AuditEntry, opts: { actor?: AuditActor | null; req?: Request } = {}): Promise<void> {
+export async function recordAudit(
+  writer: AuditWriter,
+  entry: AuditEntry,
+  opts: { actor?: AuditActor | null; req?: Request } = {},
+): Promise<void> {
   const req = opts.req ?? requests.getStore();
   const actor = opts.actor !== undefined ? opts.actor : actorFrom(req);
   const db = "send" in writer ? writer.db : writer;
@@ -146,7 +150,9 @@ export async function listAuditEvents(db: Db, q: z.output<typeof auditListQuery>
   const where: (SQL | undefined)[] = [];
   if (q.actorId) where.push(eq(auditEvents.actorId, q.actorId));
   if (q.action) {
-    where.push(q.action.endsWith(".*") ? like(auditEvents.action, `${escapeLike(q.action.slice(0, -1))}%`) : eq(auditEvents.action, q.action));
+    where.push(
+      q.action.endsWith(".*") ? like(auditEvents.action, `${escapeLike(q.action.slice(0, -1))}%`) : eq(auditEvents.action, q.action),
+    );
   }
   if (q.subjectType) where.push(eq(auditEvents.subjectType, q.subjectType));
   if (q.subjectId) where.push(eq(auditEvents.subjectId, q.subjectId));

@@ -24,7 +24,13 @@ export async function createBatch(
 ): Promise<BatchRow> {
   const [batch] = await tx.db
     .insert(batches)
-    .values({ name: input.name, kind: "recipe", recipeVersionId: input.recipeVersionId, createdBy: input.createdBy, finishedAt: input.fragments.length ? null : new Date() })
+    .values({
+      name: input.name,
+      kind: "recipe",
+      recipeVersionId: input.recipeVersionId,
+      createdBy: input.createdBy,
+      finishedAt: input.fragments.length ? null : new Date(),
+    })
     .returning();
   // A thousand fragments to a statement: their items, their render state and their jobs.
   for (let i = 0; i < input.fragments.length; i += SEND_CHUNK) {
@@ -33,9 +39,20 @@ export async function createBatch(
       .insert(batchItems)
       .values(chunk.map((f) => ({ batchId: batch!.id, fragmentId: f.id })))
       .returning({ id: batchItems.id, fragmentId: batchItems.fragmentId });
-    await tx.db.update(fragments).set({ renderState: "queued", renderError: null }).where(inArray(fragments.id, chunk.map((f) => f.id)));
+    await tx.db
+      .update(fragments)
+      .set({ renderState: "queued", renderError: null })
+      .where(
+        inArray(
+          fragments.id,
+          chunk.map((f) => f.id),
+        ),
+      );
     const revision = new Map(chunk.map((f) => [f.id, f.revision]));
-    await tx.sendMany(QUEUES.render, items.map((item) => ({ fragmentId: item.fragmentId, revision: revision.get(item.fragmentId)!, batchItemId: item.id })));
+    await tx.sendMany(
+      QUEUES.render,
+      items.map((item) => ({ fragmentId: item.fragmentId, revision: revision.get(item.fragmentId)!, batchItemId: item.id })),
+    );
   }
   await tx.notify({ kind: "worker" });
   return batch!;
@@ -99,7 +116,10 @@ export async function closeIfSettled(db: Db, batchId: string, opts: { boss?: PgB
  */
 export async function closeStaleBatches(
   db: Db,
-  opts: { boss?: PgBoss; /** Removes the files of outputs a replacing re-run retired as it closed. */ removeRetired?: (keys: string[]) => Promise<void> } = {},
+  opts: {
+    boss?: PgBoss;
+    /** Removes the files of outputs a replacing re-run retired as it closed. */ removeRetired?: (keys: string[]) => Promise<void>;
+  } = {},
 ): Promise<number> {
   const stale = await db
     .select({ id: batches.id })
@@ -126,7 +146,10 @@ export async function closeStaleBatches(
  * finds it gone after (and makes its own). Ids travel as one array, whatever the batch's size.
  */
 async function replaceOldOutputs(db: DbOrTx & Pick<Db, "execute">, oldBatchId: string, newBatchId: string): Promise<string[]> {
-  const [failed] = await db.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, newBatchId), inArray(batchItems.state, ["failed", "cancelled"])));
+  const [failed] = await db
+    .select({ n: sql<number>`count(*)::int` })
+    .from(batchItems)
+    .where(and(eq(batchItems.batchId, newBatchId), inArray(batchItems.state, ["failed", "cancelled"])));
   if (failed?.n) return []; // not all new outputs exist: keep the old ones
   const onlyHere = sql`select distinct bi.output_id from batch_items bi
     where bi.batch_id = ${oldBatchId} and bi.output_id is not null
@@ -135,7 +158,9 @@ async function replaceOldOutputs(db: DbOrTx & Pick<Db, "execute">, oldBatchId: s
   // Looked at again once locked: a reuse that committed meanwhile keeps its output.
   const ids = (await db.execute<{ output_id: string }>(onlyHere)).rows.map((r) => r.output_id);
   if (!ids.length) return [];
-  await db.execute(sql`update batch_items set output_id = null where batch_id = ${oldBatchId} and output_id = any(${sql.param(ids)}::uuid[])`);
+  await db.execute(
+    sql`update batch_items set output_id = null where batch_id = ${oldBatchId} and output_id = any(${sql.param(ids)}::uuid[])`,
+  );
   const gone = await db.execute<{ key: string }>(sql`delete from outputs where id = any(${sql.param(ids)}::uuid[]) returning key`);
   return gone.rows.map((g) => g.key);
 }
@@ -147,10 +172,14 @@ async function replaceOldOutputs(db: DbOrTx & Pick<Db, "execute">, oldBatchId: s
 async function present(db: Db, rows: BatchRow[], role?: Role): Promise<Batch[]> {
   if (!rows.length) return [];
   const visible = role ? madeFromVisibleTo(role) : undefined;
-  const counted = db
-    .select({ batchId: batchItems.batchId, state: batchItems.state, n: sql<number>`count(*)::int` })
-    .from(batchItems);
-  const where = and(inArray(batchItems.batchId, rows.map((r) => r.id)), visible);
+  const counted = db.select({ batchId: batchItems.batchId, state: batchItems.state, n: sql<number>`count(*)::int` }).from(batchItems);
+  const where = and(
+    inArray(
+      batchItems.batchId,
+      rows.map((r) => r.id),
+    ),
+    visible,
+  );
   const counts = await (visible ? counted.innerJoin(fragments, eq(fragments.id, batchItems.fragmentId)) : counted)
     .where(where)
     .groupBy(batchItems.batchId, batchItems.state);

@@ -46,7 +46,11 @@ async function planOf(
     : [{ n: 0 }];
   // Deleting locks the copy's row: an upload attempt marks it pending first (and waits for this
   // lock to do so), so it is either seen pending here or starts only after the rows are gone.
-  const copyQuery = () => db.select({ status: offsiteCopies.status, key: offsiteCopies.key, sha256: offsiteCopies.sha256 }).from(offsiteCopies).where(eq(offsiteCopies.outputId, master!.id));
+  const copyQuery = () =>
+    db
+      .select({ status: offsiteCopies.status, key: offsiteCopies.key, sha256: offsiteCopies.sha256 })
+      .from(offsiteCopies)
+      .where(eq(offsiteCopies.outputId, master!.id));
   const [copy] = master ? await (opts.lock ? copyQuery().for("update") : copyQuery()) : [];
   return {
     outs,
@@ -103,7 +107,9 @@ export async function deleteFragmentFiles(
     if (dropOffsite && plan.offsite!.status === "pending")
       throw conflict("Its master is being copied off-site right now. Delete its files once the copy is done, or keep the off-site copy.");
     if (dropOffsite && !deps.offsite)
-      throw conflict("This server has no off-site bucket configured, so it cannot remove the off-site copy. Keep it, or set the bucket up first.");
+      throw conflict(
+        "This server has no off-site bucket configured, so it cannot remove the off-site copy. Keep it, or set the bucket up first.",
+      );
     if (plan.files === 0) throw conflict("This piece has no master or copies to delete.");
     if (plan.files > upTo)
       throw conflict(`This would delete ${plan.files} files, more than the ${upTo} you were shown. Look at what goes again.`);
@@ -133,7 +139,11 @@ export async function deleteFragmentFiles(
         files: outs.map((o) => ({ kind: o.kind, format: o.format, bytes: o.bytes, key: o.key })),
         ...(plan.offsite ? { offsite: { key: offsiteKey, status: plan.offsite.status } } : {}),
       },
-      after: { status: wasApproved ? "rejected" : row.status, files: [], ...(plan.offsite ? { offsite: dropOffsite ? "deleted" : "kept" } : {}) },
+      after: {
+        status: wasApproved ? "rejected" : row.status,
+        files: [],
+        ...(plan.offsite ? { offsite: dropOffsite ? "deleted" : "kept" } : {}),
+      },
     });
     await tx.notify({ kind: "scan", scanId: row.scanId });
     // (Its small pictures are cut from the scan's preview, not from the master: they stay.)

@@ -12,8 +12,7 @@ export const FRAGMENT_THUMB_EDGE = 240;
  * Its key: per fragment and revision, and per way of making it ("m": a cut-out's picture is masked
  * to its outline; pictures made before that are left-overs for the library tidy).
  */
-export const fragmentThumbKey = (id: string, revision: number) =>
-  `thumbs/fragments/${id}-r${revision}-m.jpg`;
+export const fragmentThumbKey = (id: string, revision: number) => `thumbs/fragments/${id}-r${revision}-m.jpg`;
 
 /**
  * A small upright picture of a fragment, cut from the scan's preview (not the original), cached
@@ -37,19 +36,9 @@ export async function fragmentThumb(
   const key = fragmentThumbKey(f.id, f.revision);
   if (await library.exists(key)) return key;
   // Not a server fault: the picture cannot exist until the scan has its preview (or if it failed).
-  if (!scan.previewKey || !scan.width)
-    throw new AppError(
-      404,
-      "not_found",
-      "This fragment has no picture yet: its scan has no preview.",
-    );
-  const cut = await library.withLocalFile(scan.previewKey, (previewPath) =>
-    cutFromPreview(previewPath, f, scan.width!),
-  );
-  const upright =
-    f.shape === "cutout" && f.outline && f.outline.length >= 3
-      ? await maskToOutline(cut, f.rect, f.angle, f.outline)
-      : cut;
+  if (!scan.previewKey || !scan.width) throw new AppError(404, "not_found", "This fragment has no picture yet: its scan has no preview.");
+  const cut = await library.withLocalFile(scan.previewKey, (previewPath) => cutFromPreview(previewPath, f, scan.width!));
+  const upright = f.shape === "cutout" && f.outline && f.outline.length >= 3 ? await maskToOutline(cut, f.rect, f.angle, f.outline) : cut;
   await library.writeAtomic(key, async (tmp) => {
     await upright
       .resize(FRAGMENT_THUMB_EDGE, FRAGMENT_THUMB_EDGE, { fit: "inside", withoutEnlargement: true })
@@ -65,12 +54,7 @@ export async function fragmentThumb(
  * turned about the rectangle's centre as the cut turned the scan (cropUpright), placed in the
  * cut's frame and scaled to its size; outside is made transparent (flattened to white later).
  */
-async function maskToOutline(
-  cut: Sharp,
-  rect: Rect,
-  angle: number,
-  outline: Point[],
-): Promise<Sharp> {
+async function maskToOutline(cut: Sharp, rect: Rect, angle: number, outline: Point[]): Promise<Sharp> {
   const { data, info } = await cut.ensureAlpha().raw().toBuffer({ resolveWithObject: true });
   const sx = info.width / rect.width;
   const sy = info.height / rect.height;
@@ -92,11 +76,7 @@ async function maskToOutline(
   return sharp(masked);
 }
 
-async function cutFromPreview(
-  previewPath: string,
-  f: { rect: Rect; angle: number },
-  scanWidth: number,
-) {
+async function cutFromPreview(previewPath: string, f: { rect: Rect; angle: number }, scanWidth: number) {
   const meta = await sharp(previewPath).metadata();
   const s = (meta.width ?? 1) / scanWidth;
   // The region around the whole turned rectangle (a cut-out's box can be smaller), in preview pixels.
@@ -104,14 +84,8 @@ async function cutFromPreview(
   const pad = 2;
   const left = Math.max(0, Math.floor(around.x * s) - pad);
   const top = Math.max(0, Math.floor(around.y * s) - pad);
-  const width = Math.max(
-    1,
-    Math.min((meta.width ?? 1) - left, Math.ceil(around.width * s) + 2 * pad),
-  );
-  const height = Math.max(
-    1,
-    Math.min((meta.height ?? 1) - top, Math.ceil(around.height * s) + 2 * pad),
-  );
+  const width = Math.max(1, Math.min((meta.width ?? 1) - left, Math.ceil(around.width * s) + 2 * pad));
+  const height = Math.max(1, Math.min((meta.height ?? 1) - top, Math.ceil(around.height * s) + 2 * pad));
   const region = await sharp(previewPath).extract({ left, top, width, height }).toBuffer();
   return cropUpright(region, { x: left, y: top }, s, f.rect, f.angle);
 }
@@ -122,25 +96,12 @@ async function cutFromPreview(
  * turned by `angle` about its centre (sharp enlarges the canvas), and the fragment's rect is cut
  * out around where its centre went. Example: a preview region of a 7.5° piece → its upright crop.
  */
-export async function cropUpright(
-  region: Buffer,
-  origin: { x: number; y: number },
-  s: number,
-  rect: Rect,
-  angle: number,
-) {
+export async function cropUpright(region: Buffer, origin: { x: number; y: number }, s: number, rect: Rect, angle: number) {
   const meta = await sharp(region).metadata();
   const width = meta.width ?? 1;
   const height = meta.height ?? 1;
-  const { data, info } = await sharp(region)
-    .rotate(angle, { background: "#ffffff" })
-    .raw()
-    .toBuffer({ resolveWithObject: true });
-  const c = rotatePoint(
-    [rect.cx * s - origin.x, rect.cy * s - origin.y],
-    [width / 2, height / 2],
-    angle,
-  );
+  const { data, info } = await sharp(region).rotate(angle, { background: "#ffffff" }).raw().toBuffer({ resolveWithObject: true });
+  const c = rotatePoint([rect.cx * s - origin.x, rect.cy * s - origin.y], [width / 2, height / 2], angle);
   const cx = c[0] - width / 2 + info.width / 2;
   const cy = c[1] - height / 2 + info.height / 2;
   const w = Math.max(1, Math.min(info.width, Math.round(rect.width * s)));

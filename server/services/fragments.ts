@@ -11,16 +11,23 @@ import type { Role } from "../../shared/roles";
 import { hasRole } from "../../shared/roles";
 import type { DetectedPiece, Fragment, FragmentGeometry, Rect, UpdateFragmentBody } from "../../shared/schemas/fragments";
 import { changedFields, recordAudit } from "./audit";
-import { boxOfPoints, convexHull, minAreaRect, polygonArea, readingOrder, rectCorners, rotatePoint, type Point } from "../../shared/geometry";
+import {
+  boxOfPoints,
+  convexHull,
+  minAreaRect,
+  polygonArea,
+  readingOrder,
+  rectCorners,
+  rotatePoint,
+  type Point,
+} from "../../shared/geometry";
 
 type FragmentRow = typeof fragments.$inferSelect;
 type ScanRow = typeof scans.$inferSelect;
 
 /** Viewers see approved work only; operators and admins see every fragment that is not merged away. */
 function visibleTo(role: Role) {
-  return hasRole(role, "operator")
-    ? isNull(fragments.mergedInto)
-    : and(isNull(fragments.mergedInto), eq(fragments.status, "approved"));
+  return hasRole(role, "operator") ? isNull(fragments.mergedInto) : and(isNull(fragments.mergedInto), eq(fragments.status, "approved"));
 }
 
 /**
@@ -61,7 +68,11 @@ export async function listScanFragments(db: Db, scanId: string, role: Role): Pro
   return present(db, rows);
 }
 
-export async function listFragments(db: Db, role: Role, q: { status?: FragmentRow["status"]; scanId?: string; intakeId?: string; q?: string; limit: number; offset: number }) {
+export async function listFragments(
+  db: Db,
+  role: Role,
+  q: { status?: FragmentRow["status"]; scanId?: string; intakeId?: string; q?: string; limit: number; offset: number },
+) {
   const text = q.q ? `%${q.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%` : null;
   const cond = and(
     visibleTo(role),
@@ -74,13 +85,19 @@ export async function listFragments(db: Db, role: Role, q: { status?: FragmentRo
   );
   const [rows, [total]] = await Promise.all([
     db.select().from(fragments).where(cond).orderBy(desc(fragments.updatedAt), asc(fragments.position)).limit(q.limit).offset(q.offset),
-    db.select({ n: sql<number>`count(*)::int` }).from(fragments).where(cond),
+    db
+      .select({ n: sql<number>`count(*)::int` })
+      .from(fragments)
+      .where(cond),
   ]);
   return { fragments: await present(db, rows), total: total?.n ?? 0 };
 }
 
 async function loadRow(db: Db, id: string, role: Role): Promise<FragmentRow> {
-  const [row] = await db.select().from(fragments).where(and(eq(fragments.id, id), visibleTo(role)));
+  const [row] = await db
+    .select()
+    .from(fragments)
+    .where(and(eq(fragments.id, id), visibleTo(role)));
   if (!row) throw notFound("That fragment");
   return row;
 }
@@ -104,7 +121,13 @@ export function carryOutline(outline: Point[], from: { rect: Rect; angle: number
 }
 
 /** Geometry of a rectangle drawn or edited by a person: box and outline follow the rectangle. */
-function geometryFromRect(scan: ScanRow, rect: Rect, angle: number, shape: FragmentGeometry["shape"], outline?: Point[]): FragmentGeometry & { areaPx: number } {
+function geometryFromRect(
+  scan: ScanRow,
+  rect: Rect,
+  angle: number,
+  shape: FragmentGeometry["shape"],
+  outline?: Point[],
+): FragmentGeometry & { areaPx: number } {
   const corners = rectCorners(rect, angle);
   const w = scan.width ?? Infinity;
   const h = scan.height ?? Infinity;
@@ -133,8 +156,18 @@ export async function queueRender(tx: Tx, row: Pick<FragmentRow, "id" | "revisio
 export async function replaceProposals(tx: Tx, scan: ScanRow, pieces: DetectedPiece[], run: number): Promise<number> {
   await tx.db
     .delete(fragments)
-    .where(and(eq(fragments.scanId, scan.id), eq(fragments.origin, "split"), inArray(fragments.status, ["proposed", "rejected"]), isNull(fragments.mergedInto)));
-  const kept = await tx.db.select().from(fragments).where(and(eq(fragments.scanId, scan.id), isNull(fragments.mergedInto)));
+    .where(
+      and(
+        eq(fragments.scanId, scan.id),
+        eq(fragments.origin, "split"),
+        inArray(fragments.status, ["proposed", "rejected"]),
+        isNull(fragments.mergedInto),
+      ),
+    );
+  const kept = await tx.db
+    .select()
+    .from(fragments)
+    .where(and(eq(fragments.scanId, scan.id), isNull(fragments.mergedInto)));
   const overlapsKept = (p: DetectedPiece) =>
     kept.some((k) => {
       const ix = Math.max(0, Math.min(k.box.x + k.box.width, p.box.x + p.box.width) - Math.max(k.box.x, p.box.x));
@@ -143,7 +176,10 @@ export async function replaceProposals(tx: Tx, scan: ScanRow, pieces: DetectedPi
     });
   const fresh = pieces.filter((p) => !overlapsKept(p));
   const ordered = readingOrder(
-    [...kept.map((k) => ({ box: k.box, id: k.id as string | null, piece: null as DetectedPiece | null })), ...fresh.map((p) => ({ box: p.box, id: null, piece: p }))],
+    [
+      ...kept.map((k) => ({ box: k.box, id: k.id as string | null, piece: null as DetectedPiece | null })),
+      ...fresh.map((p) => ({ box: p.box, id: null, piece: p })),
+    ],
     (i) => i.box,
   );
   let position = 0;
@@ -155,7 +191,9 @@ export async function replaceProposals(tx: Tx, scan: ScanRow, pieces: DetectedPi
     }
     const p = item.piece!;
     const geometry: FragmentGeometry = { box: p.box, angle: p.angle, rect: p.rect, outline: p.outline, shape: p.shape };
-    await tx.db.insert(fragments).values({ scanId: scan.id, position, splitRun: run, ...geometry, areaPx: p.areaPx, confidence: p.confidence, proposal: geometry });
+    await tx.db
+      .insert(fragments)
+      .values({ scanId: scan.id, position, splitRun: run, ...geometry, areaPx: p.areaPx, confidence: p.confidence, proposal: geometry });
   }
   return fresh.length;
 }
@@ -185,7 +223,13 @@ async function auditUpdate(tx: Tx, scan: ScanRow, before: FragmentRow, after: Fr
   const status = changedFields(before, after, ["status"]);
   if (status) {
     const verb = { approved: "Approved", rejected: "Rejected", proposed: "Put back to proposed" }[after.status];
-    await recordAudit(tx, { action: STATUS_ACTIONS[after.status], subjectType: "fragment", subjectId: after.id, summary: `${verb} ${label}`, ...status });
+    await recordAudit(tx, {
+      action: STATUS_ACTIONS[after.status],
+      subjectType: "fragment",
+      subjectId: after.id,
+      summary: `${verb} ${label}`,
+      ...status,
+    });
   }
   const edits = changedFields(before, after, EDITED_FIELDS);
   if (edits) {
@@ -200,7 +244,13 @@ async function auditUpdate(tx: Tx, scan: ScanRow, before: FragmentRow, after: Fr
 }
 
 /** Approve, reject, move, turn, reshape or describe a fragment. Approval (or an edit once approved) queues its render. */
-export async function updateFragment(database: Database, boss: PgBoss, actor: Actor, id: string, patch: UpdateFragmentBody): Promise<Fragment> {
+export async function updateFragment(
+  database: Database,
+  boss: PgBoss,
+  actor: Actor,
+  id: string,
+  patch: UpdateFragmentBody,
+): Promise<Fragment> {
   await withTx(database, boss, async (tx) => {
     const row = await loadRow(tx.db, id, actor.role);
     const scan = await scanOf(tx.db, row.scanId);
@@ -240,7 +290,14 @@ export async function resetFragment(database: Database, boss: PgBoss, actor: Act
     if (!row.proposal) throw conflict("This fragment was drawn by hand, so there is no proposal to go back to.");
     const [updated] = await tx.db
       .update(fragments)
-      .set({ ...row.proposal, status: "proposed", revision: row.revision + 1, reviewedBy: actor.id, reviewedAt: new Date(), updatedAt: new Date() })
+      .set({
+        ...row.proposal,
+        status: "proposed",
+        revision: row.revision + 1,
+        reviewedBy: actor.id,
+        reviewedAt: new Date(),
+        updatedAt: new Date(),
+      })
       .where(eq(fragments.id, id))
       .returning();
     const scan = await scanOf(tx.db, row.scanId);
@@ -257,13 +314,25 @@ export async function resetFragment(database: Database, boss: PgBoss, actor: Act
 }
 
 /** Adds a fragment the split missed. */
-export async function drawFragment(database: Database, boss: PgBoss, actor: Actor, scanId: string, body: { rect: Rect; angle: number; shape: FragmentGeometry["shape"] }): Promise<Fragment> {
+export async function drawFragment(
+  database: Database,
+  boss: PgBoss,
+  actor: Actor,
+  scanId: string,
+  body: { rect: Rect; angle: number; shape: FragmentGeometry["shape"] },
+): Promise<Fragment> {
   const id = await withTx(database, boss, async (tx) => {
     const scan = await scanOf(tx.db, scanId);
     if (scan.status !== "ready") throw conflict(`Fragments can be drawn on a ready scan; this one is ${scan.status}.`);
     const g = geometryFromRect(scan, body.rect, body.angle, body.shape);
-    const [{ max } = { max: 0 }] = await tx.db.select({ max: sql<number>`coalesce(max(${fragments.position}), 0)::int` }).from(fragments).where(eq(fragments.scanId, scanId));
-    const [row] = await tx.db.insert(fragments).values({ scanId, position: max + 1, origin: "drawn", ...g, confidence: 1, reviewedBy: actor.id }).returning();
+    const [{ max } = { max: 0 }] = await tx.db
+      .select({ max: sql<number>`coalesce(max(${fragments.position}), 0)::int` })
+      .from(fragments)
+      .where(eq(fragments.scanId, scanId));
+    const [row] = await tx.db
+      .insert(fragments)
+      .values({ scanId, position: max + 1, origin: "drawn", ...g, confidence: 1, reviewedBy: actor.id })
+      .returning();
     await recordAudit(tx, {
       action: "fragment.draw",
       subjectType: "fragment",
@@ -282,7 +351,10 @@ export async function mergeFragments(database: Database, boss: PgBoss, actor: Ac
   const unique = [...new Set(ids)];
   if (unique.length < 2) throw badRequest("Expected at least two different fragments to merge.", "ids");
   const id = await withTx(database, boss, async (tx) => {
-    const rows = await tx.db.select().from(fragments).where(and(inArray(fragments.id, unique), isNull(fragments.mergedInto)));
+    const rows = await tx.db
+      .select()
+      .from(fragments)
+      .where(and(inArray(fragments.id, unique), isNull(fragments.mergedInto)));
     if (rows.length !== unique.length) throw notFound("One of those fragments");
     const scanIds = new Set(rows.map((r) => r.scanId));
     if (scanIds.size > 1) throw badRequest("Only fragments of the same scan can be merged.", "ids");
@@ -302,7 +374,17 @@ export async function mergeFragments(database: Database, boss: PgBoss, actor: Ac
     const shape = polygonArea(hull) / area >= 0.95 && rows.every((r) => r.shape === "rectangle") ? "rectangle" : "cutout";
     const g = geometryFromRect(scan, rect, angle, shape, hull);
     const position = Math.min(...rows.map((r) => r.position));
-    const [row] = await tx.db.insert(fragments).values({ scanId: scan.id, position, origin: "merged", ...g, confidence: Math.min(...rows.map((r) => r.confidence)), reviewedBy: actor.id }).returning();
+    const [row] = await tx.db
+      .insert(fragments)
+      .values({
+        scanId: scan.id,
+        position,
+        origin: "merged",
+        ...g,
+        confidence: Math.min(...rows.map((r) => r.confidence)),
+        reviewedBy: actor.id,
+      })
+      .returning();
     await tx.db.update(fragments).set({ mergedInto: row!.id, updatedAt: new Date() }).where(inArray(fragments.id, unique));
     const parts = [...rows].sort((a, b) => a.position - b.position);
     await recordAudit(tx, {
@@ -324,7 +406,11 @@ export async function unmergeFragment(database: Database, boss: PgBoss, actor: A
   const scanId = await withTx(database, boss, async (tx) => {
     const row = await loadRow(tx.db, id, actor.role);
     if (row.origin !== "merged") throw conflict("This fragment was not made by a merge.");
-    const back = await tx.db.update(fragments).set({ mergedInto: null, updatedAt: new Date() }).where(eq(fragments.mergedInto, id)).returning();
+    const back = await tx.db
+      .update(fragments)
+      .set({ mergedInto: null, updatedAt: new Date() })
+      .where(eq(fragments.mergedInto, id))
+      .returning();
     await tx.db.delete(fragments).where(eq(fragments.id, id));
     // An approved piece comes back rendered only if its master is of its revision: one whose scan
     // got a new resolution while it was merged away (a new revision), or whose render was passed
@@ -390,7 +476,10 @@ export async function requestResplit(database: Database, boss: PgBoss, scanId: s
       before: { sensitivity: scan.splitSensitivity },
       after: { sensitivity },
     });
-    await tx.db.update(scans).set({ status: "analysing", stage: "Waiting to split again", progress: 0, updatedAt: new Date() }).where(eq(scans.id, scanId));
+    await tx.db
+      .update(scans)
+      .set({ status: "analysing", stage: "Waiting to split again", progress: 0, updatedAt: new Date() })
+      .where(eq(scans.id, scanId));
     await tx.send(QUEUES.split, { scanId, sensitivity });
     await tx.notify({ kind: "scan", scanId, status: "analysing" });
   });

@@ -119,11 +119,8 @@ export async function keptInboxFiles(db: Db, folder: string): Promise<Map<string
 
 /** Forgets a kept inbox file (it has left the inbox). */
 export async function forgetKeptInboxFile(db: Db, folder: string, file: string): Promise<void> {
-  await db
-    .delete(inboxKeptFiles)
-    .where(and(eq(inboxKeptFiles.inbox, folder), eq(inboxKeptFiles.path, file)));
+  await db.delete(inboxKeptFiles).where(and(eq(inboxKeptFiles.inbox, folder), eq(inboxKeptFiles.path, file)));
 }
-
 
 /**
  * The arriving file changed while it was being copied (its writer is still at it): nothing was
@@ -148,11 +145,7 @@ const BYTES_ARE_WHY = new Set(["empty", "not_image", "unsupported", "truncated"]
 /** Tries at recording one arrival when its row collides with another arrival's (see below). */
 const INTAKE_ATTEMPTS = 3;
 
-export async function intakeFile(
-  deps: IntakeDeps,
-  raw: IntakeInput,
-  attempt = 1,
-): Promise<IntakeResult> {
+export async function intakeFile(deps: IntakeDeps, raw: IntakeInput, attempt = 1): Promise<IntakeResult> {
   const { database, boss, library } = deps;
   const input = { ...raw, originalName: scanDisplayName(raw.originalName) };
   // How the arriving file was when its copy began: removed afterwards only if it is still so.
@@ -163,9 +156,7 @@ export async function intakeFile(
     const after = await fsp.stat(input.path).catch(() => null);
     if (!after || !sameFile(before, after) || after.size !== staged.sizeBytes) {
       await library.discard(staged);
-      throw new StillChangingError(
-        `${input.originalName} changed while it was being copied; it is taken in once it is still`,
-      );
+      throw new StillChangingError(`${input.originalName} changed while it was being copied; it is taken in once it is still`);
     }
   }
   const key = originalKey(staged.sha256, input.originalName);
@@ -190,12 +181,7 @@ export async function intakeFile(
    * filing goes (it is taken in again now); a file filed while it still looks unfinished gets a
    * new one; and a scan filed earlier while the file looked unfinished says where the rest went.
    */
-  const rememberInTx = async (
-    tx: Tx,
-    r: IntakeResult,
-    sha256: string,
-    st: { size: number; mtimeMs: number },
-  ) => {
+  const rememberInTx = async (tx: Tx, r: IntakeResult, sha256: string, st: { size: number; mtimeMs: number }) => {
     const { folder, path: file } = input.inbox!;
     const [earlier] = await tx.db
       .delete(inboxKeptFiles)
@@ -205,11 +191,7 @@ export async function intakeFile(
         reason: inboxKeptFiles.reason,
         sha256: inboxKeptFiles.sha256,
       });
-    if (
-      earlier?.reason === "unfinished" &&
-      earlier.sha256 !== sha256 &&
-      earlier.scanId !== r.scanId
-    ) {
+    if (earlier?.reason === "unfinished" && earlier.sha256 !== sha256 && earlier.scanId !== r.scanId) {
       r.follows = earlier.scanId;
       // Said on the earlier scan's page, whatever it is doing now: its analysis rewrites only its
       // own message, so a scan still being read, or read again later, keeps the link.
@@ -236,9 +218,7 @@ export async function intakeFile(
         reason: "unfinished",
         scanId: r.scanId,
       };
-      await tx.db
-        .insert(inboxKeptFiles)
-        .values({ inbox: folder, path: file, sha256, detail: input.stillUnfinished, ...kept });
+      await tx.db.insert(inboxKeptFiles).values({ inbox: folder, path: file, sha256, detail: input.stillUnfinished, ...kept });
       r.remembered = kept;
     }
   };
@@ -413,10 +393,7 @@ export async function intakeFile(
             })
             .then(() => (result.remembered = kept))
             .catch((e: unknown) =>
-              deps.log.error(
-                { err: e, file: input.originalName },
-                "intake: could not remember the file left in the inbox",
-              ),
+              deps.log.error({ err: e, file: input.originalName }, "intake: could not remember the file left in the inbox"),
             );
         }
       }

@@ -10,12 +10,7 @@ export function defaultIntakeName(now = new Date()): string {
 
 /** The newest open intake, opening one when none is open. */
 export async function currentIntake(db: Db): Promise<typeof intakes.$inferSelect> {
-  const [open] = await db
-    .select()
-    .from(intakes)
-    .where(isNull(intakes.closedAt))
-    .orderBy(desc(intakes.createdAt))
-    .limit(1);
+  const [open] = await db.select().from(intakes).where(isNull(intakes.closedAt)).orderBy(desc(intakes.createdAt)).limit(1);
   if (open) return open;
   const [created] = await db.insert(intakes).values({ name: defaultIntakeName() }).returning();
   return created!;

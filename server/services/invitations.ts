@@ -90,7 +90,15 @@ async function issueAndSend(
   const [s] = await deps.db.select({ name: studio.name }).from(studio).limit(1);
   const studioName = s?.name ?? "Platen";
   await deps.db.update(invitations).set({ tokenHash: hash, expiresAt, updatedAt: new Date() }).where(eq(invitations.id, row.id));
-  const message = invitationMessage({ studio: studioName, email: row.email, role: row.role, inviter, link: inviteLink(deps.config.mail.publicUrl, token), expiresAt, validForMs });
+  const message = invitationMessage({
+    studio: studioName,
+    email: row.email,
+    role: row.role,
+    inviter,
+    link: inviteLink(deps.config.mail.publicUrl, token),
+    expiresAt,
+    validForMs,
+  });
   let sendError: string | null = null;
   try {
     await deps.mailer.send({ ...message, to: row.email, studio: studioName });
@@ -101,7 +109,11 @@ async function issueAndSend(
   return deps.db.transaction(async (tx) => {
     const [updated] = await tx
       .update(invitations)
-      .set(sendError ? { sendError, updatedAt: new Date() } : { sendError: null, sentAt: new Date(), sendCount: row.sendCount + 1, updatedAt: new Date() })
+      .set(
+        sendError
+          ? { sendError, updatedAt: new Date() }
+          : { sendError: null, sentAt: new Date(), sendCount: row.sendCount + 1, updatedAt: new Date() },
+      )
       .where(eq(invitations.id, row.id))
       .returning();
     const sent = present(updated!, inviter);
@@ -110,16 +122,30 @@ async function issueAndSend(
   });
 }
 
-export async function createInvitation(deps: InvitationDeps, actor: { id: string; name: string }, body: CreateInvitationBody): Promise<Invitation> {
-  if (!deps.mailer.enabled) throw unavailable(`Invitations go out by e-mail, and ${deps.mailer.reason!.charAt(0).toLowerCase()}${deps.mailer.reason!.slice(1)}`);
+export async function createInvitation(
+  deps: InvitationDeps,
+  actor: { id: string; name: string },
+  body: CreateInvitationBody,
+): Promise<Invitation> {
+  if (!deps.mailer.enabled)
+    throw unavailable(`Invitations go out by e-mail, and ${deps.mailer.reason!.charAt(0).toLowerCase()}${deps.mailer.reason!.slice(1)}`);
   const email = body.email.trim().toLowerCase();
   const [account] = await deps.db.select({ name: users.name, role: users.role }).from(users).where(eq(users.email, email));
   if (account) {
-    throw conflict(`${email} already has an account (${account.name}, ${ROLE_LABELS[account.role].toLowerCase()}). Change their role in the list of accounts instead.`, "email");
+    throw conflict(
+      `${email} already has an account (${account.name}, ${ROLE_LABELS[account.role].toLowerCase()}). Change their role in the list of accounts instead.`,
+      "email",
+    );
   }
-  const [pending] = await deps.db.select().from(invitations).where(and(eq(invitations.email, email), open));
+  const [pending] = await deps.db
+    .select()
+    .from(invitations)
+    .where(and(eq(invitations.email, email), open));
   if (pending) {
-    throw conflict(`${email} is already invited (sent ${formatWhen(pending.sentAt ?? pending.createdAt)}). Resend or revoke that invitation below.`, "email");
+    throw conflict(
+      `${email} is already invited (sent ${formatWhen(pending.sentAt ?? pending.createdAt)}). Resend or revoke that invitation below.`,
+      "email",
+    );
   }
   let row: Row;
   try {
@@ -127,7 +153,13 @@ export async function createInvitation(deps: InvitationDeps, actor: { id: string
       const [made] = (await tx
         .insert(invitations)
         // A placeholder hash until the real token is made; it can never match a token's SHA-256 (64 hex digits).
-        .values({ email, role: body.role, tokenHash: `unsent-${crypto.randomBytes(16).toString("hex")}`, expiresAt: new Date(), invitedBy: actor.id })
+        .values({
+          email,
+          role: body.role,
+          tokenHash: `unsent-${crypto.randomBytes(16).toString("hex")}`,
+          expiresAt: new Date(),
+          invitedBy: actor.id,
+        })
         .returning()) as [Row];
       await recordAudit(tx, {
         action: "invitation.create",
@@ -179,8 +211,14 @@ export async function revokeInvitation(db: Db, id: string): Promise<void> {
 
 /** Why a token does not work, as a sentence the invitee can act on. */
 async function refusal(db: Db, token: string): Promise<Error> {
-  const [row] = await db.select().from(invitations).where(eq(invitations.tokenHash, hashToken(token)));
-  if (!row) return gone("This invitation link does not work any more. It may have been replaced by a newer message: open the latest one, or ask an admin to invite you again.");
+  const [row] = await db
+    .select()
+    .from(invitations)
+    .where(eq(invitations.tokenHash, hashToken(token)));
+  if (!row)
+    return gone(
+      "This invitation link does not work any more. It may have been replaced by a newer message: open the latest one, or ask an admin to invite you again.",
+    );
   if (row.acceptedAt) return gone("This invitation has already been used. Sign in with the e-mail address and password chosen then.");
   if (row.revokedAt) return gone("This invitation was withdrawn by an admin of the studio. Ask them if you should still join.");
   return gone(`This invitation expired on ${formatWhen(row.expiresAt)}. Ask an admin of the studio to send a new one.`);
@@ -195,7 +233,13 @@ export async function previewInvitation(db: Db, token: string): Promise<Invitati
     .where(eq(invitations.tokenHash, hashToken(token)));
   if (!found || found.row.acceptedAt || found.row.revokedAt || found.row.expiresAt <= new Date()) throw await refusal(db, token);
   const [s] = await db.select({ name: studio.name }).from(studio).limit(1);
-  return { email: found.row.email, role: found.row.role, studio: s?.name ?? "Platen", invitedBy: found.inviter, expiresAt: found.row.expiresAt.toISOString() };
+  return {
+    email: found.row.email,
+    role: found.row.role,
+    studio: s?.name ?? "Platen",
+    invitedBy: found.inviter,
+    expiresAt: found.row.expiresAt.toISOString(),
+  };
 }
 
 /**
@@ -221,7 +265,10 @@ export async function acceptInvitation(db: Db, cfg: Config, body: AcceptInvitati
     if (!claimed) return null;
     const [existing] = await tx.select({ id: users.id }).from(users).where(eq(users.email, claimed.email));
     if (existing) throw conflict(`${claimed.email} already has an account. Sign in with it, or use “Forgot password” on the sign-in page.`);
-    const [made] = await tx.insert(users).values({ email: claimed.email, name: body.name.trim(), role: claimed.role, passwordHash, lastSignInAt: new Date() }).returning();
+    const [made] = await tx
+      .insert(users)
+      .values({ email: claimed.email, name: body.name.trim(), role: claimed.role, passwordHash, lastSignInAt: new Date() })
+      .returning();
     await tx.update(invitations).set({ acceptedUserId: made!.id }).where(eq(invitations.id, claimed.id));
     // Nobody is signed in yet: the new account is the one acting.
     await recordAudit(

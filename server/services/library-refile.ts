@@ -104,7 +104,13 @@ async function refileLocked(
     log.warn({ key, why }, "refile: left as it is");
     await recordAudit(
       db,
-      { action: "library.refile", subjectType: "studio", subjectId: null, summary: `Left an original as it is: ${why} (${key})`, after: { key, outcome: "damaged" } },
+      {
+        action: "library.refile",
+        subjectType: "studio",
+        subjectId: null,
+        summary: `Left an original as it is: ${why} (${key})`,
+        after: { key, outcome: "damaged" },
+      },
       { actor },
     );
     return { outcome: "damaged" } as const;
@@ -122,9 +128,11 @@ async function refileLocked(
     throw err;
   }
   const age = (opts.now ?? new Date()).getTime() - stat.modified.getTime();
-  if (!(stat.modified.getTime() > 0) || age < REFILE_GRACE_MS) return { outcome: "too-young", retryInMs: REFILE_GRACE_MS - Math.max(0, age) };
+  if (!(stat.modified.getTime() > 0) || age < REFILE_GRACE_MS)
+    return { outcome: "too-young", retryInMs: REFILE_GRACE_MS - Math.max(0, age) };
   // The bytes themselves, not a checksum the store kept beside them.
-  if ((await hashStream(await library.createReadStream(key))) !== sha) return damaged("its bytes no longer match the checksum its name gives");
+  if ((await hashStream(await library.createReadStream(key))) !== sha)
+    return damaged("its bytes no longer match the checksum its name gives");
   const name = `filed-again-${sha.slice(0, 12)}${ext}`;
   // Its audit row commits with the scan: a scan filed from the library is never without one.
   const audit = (tx: Tx, r: IntakeResult) =>

@@ -103,7 +103,16 @@ export async function tidyLibrary(
   const planned: { key: string; size: number; row: TidyFolder }[] = [];
   const leftOverOriginals: string[] = [];
   for (const [folder, keys] of listed) {
-    const row: TidyFolder = { folder, files: keys.length, leftOver: 0, leftOverBytes: 0, removed: 0, removedBytes: 0, tooYoung: 0, failed: 0 };
+    const row: TidyFolder = {
+      folder,
+      files: keys.length,
+      leftOver: 0,
+      leftOverBytes: 0,
+      removed: 0,
+      removedBytes: 0,
+      tooYoung: 0,
+      failed: 0,
+    };
     folders.push(row);
     for (const key of keys) {
       if (named.has(key)) continue;
@@ -134,7 +143,16 @@ export async function tidyLibrary(
     unfinishedFailed = 1;
     return [];
   });
-  const tempRow: TidyFolder = { folder: UNFINISHED_ROW, files: unfinished.length, leftOver: unfinished.length, leftOverBytes: 0, removed: 0, removedBytes: 0, tooYoung: 0, failed: unfinishedFailed };
+  const tempRow: TidyFolder = {
+    folder: UNFINISHED_ROW,
+    files: unfinished.length,
+    leftOver: unfinished.length,
+    leftOverBytes: 0,
+    removed: 0,
+    removedBytes: 0,
+    tooYoung: 0,
+    failed: unfinishedFailed,
+  };
   const oldTemps = [];
   for (const u of unfinished) {
     tempRow.leftOverBytes += u.size;
@@ -229,7 +247,12 @@ async function stillLeftOver(db: Db, library: Storage, key: string, cutoff: numb
 export const REGULAR_TIDY_FOLDERS = DERIVED_FOLDERS.filter((f) => f !== "masters/");
 
 /** Tidies for real and keeps a record of it: by `actorId`, or by the worker's regular tidy (null). */
-export async function runTidy(db: Db, library: Storage, actorId: string | null, opts: { allowLarge?: boolean; upTo?: number } = {}): Promise<TidyReport> {
+export async function runTidy(
+  db: Db,
+  library: Storage,
+  actorId: string | null,
+  opts: { allowLarge?: boolean; upTo?: number } = {},
+): Promise<TidyReport> {
   const report = await tidyLibrary(db, library, {
     dryRun: false,
     removable: actorId ? DERIVED_FOLDERS : REGULAR_TIDY_FOLDERS,

@@ -45,7 +45,10 @@ export async function sendOutboxMessage(db: Db, mailer: Mailer, cfg: Config["mai
       messageId: messageIdFor(cfg, row.id),
     });
   } catch (err) {
-    await db.update(mailOutbox).set({ claimedAt: null, lastError: (err as Error).message }).where(eq(mailOutbox.id, row.id));
+    await db
+      .update(mailOutbox)
+      .set({ claimedAt: null, lastError: (err as Error).message })
+      .where(eq(mailOutbox.id, row.id));
     throw err;
   }
   await db.update(mailOutbox).set({ sentAt: new Date(), claimedAt: null, lastError: null }).where(eq(mailOutbox.id, row.id));

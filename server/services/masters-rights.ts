@@ -86,7 +86,9 @@ export async function writeMastersRights(
       throw conflict("The studio's creator or copyright line changed since you looked. Read them again first.");
     const running = await writing(tx.db);
     if (running > 0)
-      throw conflict(`The rights are being written into ${running} ${running === 1 ? "master" : "masters"} now. What is left afterwards can be written then.`);
+      throw conflict(
+        `The rights are being written into ${running} ${running === 1 ? "master" : "masters"} now. What is left afterwards can be written then.`,
+      );
     const { rows } = await tx.db.execute<{ id: string }>(sql`
       with c as (${current(creator, copyright)}) select id from c where behind order by id`);
     if (rows.length === 0) throw conflict("Every master already carries the studio's creator and copyright line.");

@@ -35,7 +35,9 @@ export async function updateNoticeSettings(db: Db, user: { id: string; role: Rol
         action: "account.notices",
         subjectType: "user",
         subjectId: user.id,
-        summary: `Changed their notices: ${Object.entries(changed.after).map(([k, v]) => `${k} ${v ? "on" : "off"}`).join(", ")}`,
+        summary: `Changed their notices: ${Object.entries(changed.after)
+          .map(([k, v]) => `${k} ${v ? "on" : "off"}`)
+          .join(", ")}`,
         ...changed,
       });
     }

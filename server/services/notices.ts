@@ -51,7 +51,15 @@ async function buildBatchFinished(db: Db, cfg: Config, batchId: string): Promise
   const [batch] = await db.select().from(batches).where(eq(batches.id, batchId));
   if (!batch?.finishedAt) return null;
   const items = await db
-    .select({ state: batchItems.state, error: batchItems.error, position: fragments.position, title: fragments.title, scanName: scans.originalName, preset: presets.name, report: outputs.report })
+    .select({
+      state: batchItems.state,
+      error: batchItems.error,
+      position: fragments.position,
+      title: fragments.title,
+      scanName: scans.originalName,
+      preset: presets.name,
+      report: outputs.report,
+    })
     .from(batchItems)
     .innerJoin(fragments, eq(fragments.id, batchItems.fragmentId))
     .innerJoin(scans, eq(scans.id, fragments.scanId))
@@ -60,8 +68,7 @@ async function buildBatchFinished(db: Db, cfg: Config, batchId: string): Promise
     .leftJoin(outputs, eq(outputs.id, batchItems.outputId))
     .where(eq(batchItems.batchId, batchId))
     .orderBy(scans.originalName, fragments.position);
-  const what = (i: (typeof items)[number]) =>
-    `${i.title?.trim() || `${i.scanName} #${i.position}`}${i.preset ? ` (${i.preset})` : ""}`;
+  const what = (i: (typeof items)[number]) => `${i.title?.trim() || `${i.scanName} #${i.position}`}${i.preset ? ` (${i.preset})` : ""}`;
   const count = (s: string) => items.filter((i) => i.state === s).length;
   const message = batchFinishedMessage({
     studio: await studioName(db),
@@ -104,10 +111,20 @@ async function buildIntakeFinished(db: Db, cfg: Config, intakeId: string): Promi
     ? await db
         .select({ n: sql<number>`count(*)::int` })
         .from(fragments)
-        .where(and(inArray(fragments.scanId, ready.map((s) => s.id)), isNull(fragments.mergedInto)))
+        .where(
+          and(
+            inArray(
+              fragments.scanId,
+              ready.map((s) => s.id),
+            ),
+            isNull(fragments.mergedInto),
+          ),
+        )
     : [{ n: 0 }];
   const warnings = [
-    ...ready.filter((s) => s.dpiSource === "assumed").map((s) => `${s.originalName}: no resolution in the file; ${s.dpiX ?? "the studio's default"} DPI assumed`),
+    ...ready
+      .filter((s) => s.dpiSource === "assumed")
+      .map((s) => `${s.originalName}: no resolution in the file; ${s.dpiX ?? "the studio's default"} DPI assumed`),
     ...ready.filter((s) => s.stage === "No pieces found on this scan").map((s) => `${s.originalName}: no pieces found`),
   ];
   const message = intakeFinishedMessage({
@@ -144,7 +161,12 @@ export async function buildNotice(db: Db, cfg: Config, p: NoticePayload): Promis
  * Writes one outbox row per recipient and queues its send, in one transaction. Rows that already
  * exist (the job ran before) are left alone and not queued again. Returns how many are new.
  */
-export async function fanOutNotice(database: Database, boss: PgBoss, cfg: Config, p: NoticePayload): Promise<{ kind: NoticeKind | null; queued: number }> {
+export async function fanOutNotice(
+  database: Database,
+  boss: PgBoss,
+  cfg: Config,
+  p: NoticePayload,
+): Promise<{ kind: NoticeKind | null; queued: number }> {
   const built = await buildNotice(database.db, cfg, p);
   if (!built) return { kind: null, queued: 0 };
   const people = await noticeRecipients(database.db, built.kind);

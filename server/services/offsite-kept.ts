@@ -50,8 +50,7 @@ const STAT_CONCURRENCY = 8;
 const targetOf = (offsite: S3Storage) => offsite.description.replace(/^the bucket /, "");
 
 function requireOffsite(deps: OffsiteKeptDeps): S3Storage {
-  if (!deps.offsite)
-    throw conflict("Off-site copy is off: set PLATEN_OFFSITE_BUCKET (and its endpoint and keys) to turn it on.");
+  if (!deps.offsite) throw conflict("Off-site copy is off: set PLATEN_OFFSITE_BUCKET (and its endpoint and keys) to turn it on.");
   return deps.offsite;
 }
 
@@ -91,9 +90,7 @@ async function piecesOf(database: Database, fragmentIds: string[]) {
 
 /** What a download of a kept copy is called: as its master's downloads were, marked as kept. */
 function fileNameOf(p: Parsed, piece: KeptCopy["piece"]): string {
-  return piece
-    ? outputFileName(piece.scanName, piece.position, "master-kept", p.ext)
-    : `master-kept-${p.fragmentId.slice(0, 8)}.${p.ext}`;
+  return piece ? outputFileName(piece.scanName, piece.position, "master-kept", p.ext) : `master-kept-${p.fragmentId.slice(0, 8)}.${p.ext}`;
 }
 
 /** Runs `fn` over `items`, at most `limit` at a time, keeping their order. */
@@ -135,7 +132,10 @@ export async function listKeptCopies(deps: OffsiteKeptDeps): Promise<KeptCopies>
       throw err;
     }),
   );
-  const pieces = await piecesOf(deps.database, kept.map((p) => p.fragmentId));
+  const pieces = await piecesOf(
+    deps.database,
+    kept.map((p) => p.fragmentId),
+  );
   const mine = await installationId(deps.database.db);
   const copies: KeptCopy[] = [];
   let otherInstallations = 0;
@@ -195,8 +195,7 @@ async function keptNow(deps: OffsiteKeptDeps, offsite: S3Storage, key: string): 
   try {
     stat = await offsite.stat(key);
   } catch (err) {
-    if (isStorageError(err, "missing"))
-      throw notFound(`The kept off-site copy "${key}" (it may have been removed already)`);
+    if (isStorageError(err, "missing")) throw notFound(`The kept off-site copy "${key}" (it may have been removed already)`);
     throw err;
   }
   if (!isMine(stat, await installationId(deps.database.db)))

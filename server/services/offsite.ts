@@ -115,11 +115,7 @@ async function setCheck(db: Db, read: Row, patch: Partial<typeof offsiteCopies.$
   return now;
 }
 
-async function setCopy(
-  db: Db,
-  outputId: string,
-  patch: Partial<typeof offsiteCopies.$inferInsert>,
-) {
+async function setCopy(db: Db, outputId: string, patch: Partial<typeof offsiteCopies.$inferInsert>) {
   const [row] = await db
     .update(offsiteCopies)
     .set({ ...patch, updatedAt: new Date() })
@@ -138,11 +134,7 @@ async function setCopy(
 /** The advisory lock a master's copy is made under (also taken to remove a kept copy). */
 export const copyLockOf = (outputId: string) => `offsite-copy:${outputId}`;
 
-export async function copyMaster(
-  deps: OffsiteDeps,
-  outputId: string,
-  ctx: { retryCount: number; retryLimit: number },
-): Promise<void> {
+export async function copyMaster(deps: OffsiteDeps, outputId: string, ctx: { retryCount: number; retryLimit: number }): Promise<void> {
   // One copy of a master at a time (a render and a rights rewrite can each queue one): two
   // uploads interleaved could leave the row's checksum other than the bytes the bucket kept.
   const client = await deps.database.pool.connect();
@@ -162,11 +154,7 @@ export async function copyMaster(
   }
 }
 
-async function copyMasterLocked(
-  deps: OffsiteDeps,
-  outputId: string,
-  ctx: { retryCount: number; retryLimit: number },
-): Promise<void> {
+async function copyMasterLocked(deps: OffsiteDeps, outputId: string, ctx: { retryCount: number; retryLimit: number }): Promise<void> {
   const { db } = deps.database;
   const offsite = deps.offsite;
   const master = await masterRow(db, outputId);
@@ -174,8 +162,7 @@ async function copyMasterLocked(
   if (!offsite) {
     await setCopy(db, outputId, {
       status: "failed",
-      message:
-        "Off-site copy is not configured on the worker that ran this job (PLATEN_OFFSITE_BUCKET).",
+      message: "Off-site copy is not configured on the worker that ran this job (PLATEN_OFFSITE_BUCKET).",
     });
     return;
   }
@@ -250,7 +237,10 @@ async function copyMasterLocked(
         await offsite.remove(previous.key);
         deps.log.info({ outputId, key: previous.key }, "offsite: the copy under its old key removed");
       } else if (there) {
-        deps.log.warn({ outputId, key: previous.key, sha256: there.sha256 }, "offsite: the old key holds another copy than this master's; left as it is");
+        deps.log.warn(
+          { outputId, key: previous.key, sha256: there.sha256 },
+          "offsite: the old key holds another copy than this master's; left as it is",
+        );
       }
     } catch (err) {
       deps.log.warn({ outputId, key: previous.key, err }, "offsite: the copy under its old key was not removed; remove it by hand");
@@ -302,8 +292,7 @@ export async function checkMaster(deps: OffsiteDeps, outputId: string): Promise<
   if (local === null) {
     return setCheck(db, row, {
       status: "failed",
-      message:
-        "The master is missing from the library; the off-site copy is intact and can restore it.",
+      message: "The master is missing from the library; the off-site copy is intact and can restore it.",
       checkedAt: now,
     });
   }
@@ -318,10 +307,7 @@ export async function checkMaster(deps: OffsiteDeps, outputId: string): Promise<
 }
 
 /** A fragment's master's copy, for the side panel. */
-export async function fragmentOffsite(
-  deps: OffsiteDeps,
-  fragmentId: string,
-): Promise<FragmentOffsite> {
+export async function fragmentOffsite(deps: OffsiteDeps, fragmentId: string): Promise<FragmentOffsite> {
   const enabled = !!deps.offsite;
   const target = deps.offsite ? deps.offsite.description.replace(/^the bucket /, "") : null;
   const [row] = await deps.database.db
@@ -342,17 +328,11 @@ async function fragmentMaster(db: Db, fragmentId: string) {
 }
 
 function requireOffsite(deps: OffsiteDeps) {
-  if (!deps.offsite)
-    throw conflict(
-      "Off-site copy is off: set PLATEN_OFFSITE_BUCKET (and its endpoint and keys) to turn it on.",
-    );
+  if (!deps.offsite) throw conflict("Off-site copy is off: set PLATEN_OFFSITE_BUCKET (and its endpoint and keys) to turn it on.");
 }
 
 /** The re-check route: checks this fragment's master now and answers with the result. */
-export async function recheckFragment(
-  deps: OffsiteDeps,
-  fragmentId: string,
-): Promise<FragmentOffsite> {
+export async function recheckFragment(deps: OffsiteDeps, fragmentId: string): Promise<FragmentOffsite> {
   requireOffsite(deps);
   const master = await fragmentMaster(deps.database.db, fragmentId);
   const row = await checkMaster(deps, master.id);
@@ -361,11 +341,7 @@ export async function recheckFragment(
 }
 
 /** The copy-again route: queues a fresh copy of this fragment's master, audited in the same transaction. */
-export async function recopyFragment(
-  deps: OffsiteDeps,
-  fragmentId: string,
-  audit?: (tx: Tx) => Promise<void>,
-): Promise<FragmentOffsite> {
+export async function recopyFragment(deps: OffsiteDeps, fragmentId: string, audit?: (tx: Tx) => Promise<void>): Promise<FragmentOffsite> {
   requireOffsite(deps);
   const master = await fragmentMaster(deps.database.db, fragmentId);
   await queueOffsiteCopy(deps.database, deps.boss, master, audit);
@@ -376,17 +352,17 @@ export async function recopyFragment(
  * Queues a re-check of every master's copy (admins, e.g. once a month): all the jobs and the
  * audit row `audit` writes (given the count) in one transaction, the jobs a thousand to a statement.
  */
-export async function queueCheckAll(
-  deps: OffsiteDeps,
-  audit?: (tx: Tx, queued: number) => Promise<void>,
-): Promise<{ queued: number }> {
+export async function queueCheckAll(deps: OffsiteDeps, audit?: (tx: Tx, queued: number) => Promise<void>): Promise<{ queued: number }> {
   requireOffsite(deps);
   return withTx(deps.database, deps.boss, async (tx) => {
     const rows = await tx.db
       .select({ outputId: offsiteCopies.outputId })
       .from(offsiteCopies)
       .where(inArray(offsiteCopies.status, ["copied", "failed"]));
-    await tx.sendMany(QUEUES.offsiteCheck, rows.map((r) => ({ outputId: r.outputId })));
+    await tx.sendMany(
+      QUEUES.offsiteCheck,
+      rows.map((r) => ({ outputId: r.outputId })),
+    );
     await audit?.(tx, rows.length);
     return { queued: rows.length };
   });

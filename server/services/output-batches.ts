@@ -30,10 +30,18 @@ export async function selectFragments(db: Db, selection: CreateBatchBody["select
   if (f?.shape) where.push(eq(fragments.shape, f.shape));
   if (f?.q) {
     const like = `%${f.q.replace(/[\\%_]/g, (c) => `\\${c}`)}%`;
-    where.push(sql`(${fragments.title} ilike ${like} or exists (select 1 from scans s where s.id = ${fragments.scanId} and s.original_name ilike ${like}))`);
+    where.push(
+      sql`(${fragments.title} ilike ${like} or exists (select 1 from scans s where s.id = ${fragments.scanId} and s.original_name ilike ${like}))`,
+    );
   }
   return db
-    .select({ id: fragments.id, revision: fragments.revision, title: fragments.title, position: fragments.position, scanName: scans.originalName })
+    .select({
+      id: fragments.id,
+      revision: fragments.revision,
+      title: fragments.title,
+      position: fragments.position,
+      scanName: scans.originalName,
+    })
     .from(fragments)
     .innerJoin(scans, eq(scans.id, fragments.scanId))
     .where(and(...where));
@@ -48,8 +56,13 @@ export async function selectFragments(db: Db, selection: CreateBatchBody["select
  * carries the rights but no title (a web copy that leaves the title out) keeps its key too.
  * Example: ("f1", 2, "rv1", "pv1", { title: "Blue gull" }) → "f1:r2:rv1:pv1:t<16 hex digits>".
  */
-export const dedupeKey = (fragmentId: string, revision: number, recipeVersionId: string, presetVersionId: string, rights: { title?: string; creator?: string; copyright?: string } = {}) =>
-  `${fragmentId}:r${revision}:${recipeVersionId}:${presetVersionId}${rightsTag(rights)}${titleTag(rights.title)}`;
+export const dedupeKey = (
+  fragmentId: string,
+  revision: number,
+  recipeVersionId: string,
+  presetVersionId: string,
+  rights: { title?: string; creator?: string; copyright?: string } = {},
+) => `${fragmentId}:r${revision}:${recipeVersionId}:${presetVersionId}${rightsTag(rights)}${titleTag(rights.title)}`;
 
 const digest16 = (parts: (string | null)[]) => crypto.createHash("sha256").update(JSON.stringify(parts)).digest("hex").slice(0, 16);
 
@@ -97,7 +110,14 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
           : m
             ? // A master of an older revision (an edit or a new resolution since; its new master is
               // on its way): the piece's size and resolution now, the old file's busyness per pixel.
-              { width, height, dpi, bytes: Math.round((m.bytes * width * height) / Math.max(1, m.width * m.height)), bitDepth: m.bitDepth, hasAlpha: m.hasAlpha }
+              {
+                width,
+                height,
+                dpi,
+                bytes: Math.round((m.bytes * width * height) / Math.max(1, m.width * m.height)),
+                bitDepth: m.bitDepth,
+                hasAlpha: m.hasAlpha,
+              }
             : { width, height, dpi, bytes: 0, bitDepth: 8, hasAlpha: false },
       );
     }
@@ -131,7 +151,9 @@ export async function estimateBatch(db: Db, body: CreateBatchBody) {
   for (const p of list) {
     const n = soft.get(p.name);
     if (n && p.settings.kind === "print")
-      warnings.push(`${p.name}: ${n} of ${picked.length} ${picked.length === 1 ? "piece prints" : "pieces print"} below ${p.settings.minDpi} DPI and may look soft`);
+      warnings.push(
+        `${p.name}: ${n} of ${picked.length} ${picked.length === 1 ? "piece prints" : "pieces print"} below ${p.settings.minDpi} DPI and may look soft`,
+      );
   }
   return { fragments: picked.length, presets: list.length, outputs: picked.length * list.length, reused, expectedBytes, warnings };
 }
@@ -148,7 +170,8 @@ export async function createOutputBatch(
   if (!picked.length) throw badRequest("No approved fragment matches this selection.", "selection");
   const list = await presetsForRun(database.db, body.presetIds);
   const id = await withTx(database, boss, async (tx) => {
-    const name = body.name?.trim() || `${list.map((p) => p.name).join(" + ")} × ${picked.length} ${picked.length === 1 ? "fragment" : "fragments"}`;
+    const name =
+      body.name?.trim() || `${list.map((p) => p.name).join(" + ")} × ${picked.length} ${picked.length === 1 ? "fragment" : "fragments"}`;
     const [batch] = await tx.db
       .insert(batches)
       .values({ name, kind: "outputs", createdBy: actorId, rerunOf: rerun?.of ?? null, replaceOld: rerun?.replaceOld ?? false })
@@ -157,8 +180,14 @@ export async function createOutputBatch(
     // few round trips rather than two per output.
     const pairs = picked.flatMap((f) => list.map((p) => ({ batchId: batch!.id, fragmentId: f.id, presetVersionId: p.versionId })));
     for (let i = 0; i < pairs.length; i += SEND_CHUNK) {
-      const items = await tx.db.insert(batchItems).values(pairs.slice(i, i + SEND_CHUNK)).returning({ id: batchItems.id });
-      await tx.sendMany(QUEUES.output, items.map((item) => ({ batchItemId: item.id })));
+      const items = await tx.db
+        .insert(batchItems)
+        .values(pairs.slice(i, i + SEND_CHUNK))
+        .returning({ id: batchItems.id });
+      await tx.sendMany(
+        QUEUES.output,
+        items.map((item) => ({ batchItemId: item.id })),
+      );
     }
     await recordAudit(tx, {
       action: rerun ? "batch.rerun" : "batch.create",
@@ -187,7 +216,14 @@ export async function batchDetail(db: Db, id: string, role: Role) {
   // replacing promise is judged on every item, as the close judges it.
   const [batch, whole] = await Promise.all([getBatch(db, id, role), getBatch(db, id)]);
   const rows = await db
-    .select({ item: batchItems, fragment: fragments, scanName: scans.originalName, presetName: presets.name, presetKind: presets.kind, output: outputs })
+    .select({
+      item: batchItems,
+      fragment: fragments,
+      scanName: scans.originalName,
+      presetName: presets.name,
+      presetKind: presets.kind,
+      output: outputs,
+    })
     .from(batchItems)
     .innerJoin(fragments, eq(fragments.id, batchItems.fragmentId))
     .innerJoin(scans, eq(scans.id, fragments.scanId))
@@ -205,7 +241,9 @@ export async function batchDetail(db: Db, id: string, role: Role) {
       .select({ n: sql<number>`count(*)::int` })
       .from(batchItems)
       .innerJoin(fragments, eq(fragments.id, batchItems.fragmentId))
-      .where(and(eq(batchItems.batchId, batch.rerunOf.id), eq(batchItems.state, "done"), isNull(batchItems.outputId), madeFromVisibleTo(role)));
+      .where(
+        and(eq(batchItems.batchId, batch.rerunOf.id), eq(batchItems.state, "done"), isNull(batchItems.outputId), madeFromVisibleTo(role)),
+      );
     oldReplaced = n?.n ?? 0;
   }
   return {
@@ -249,7 +287,10 @@ export async function retryFailed(database: Database, boss: PgBoss, id: string) 
       .returning();
     if (!failed.length) throw conflict("Nothing in this batch has failed.");
     const outputsAgain = failed.filter((i) => i.presetVersionId);
-    await tx.sendMany(QUEUES.output, outputsAgain.map((i) => ({ batchItemId: i.id })));
+    await tx.sendMany(
+      QUEUES.output,
+      outputsAgain.map((i) => ({ batchItemId: i.id })),
+    );
     // A recipe batch's items render their fragment again: it reads as queued, as when first applied.
     const rendersAgain = failed.filter((i) => !i.presetVersionId);
     let queuedAgain = outputsAgain.length;
@@ -259,17 +300,34 @@ export async function retryFailed(database: Database, boss: PgBoss, id: string) 
         .update(fragments)
         .set({ renderState: "queued", renderError: null })
         // Only pieces still approved: an item whose piece was rejected or merged since fails again at once.
-        .where(and(inArray(fragments.id, chunk.map((c) => c.fragmentId)), eq(fragments.status, "approved"), isNull(fragments.mergedInto)))
+        .where(
+          and(
+            inArray(
+              fragments.id,
+              chunk.map((c) => c.fragmentId),
+            ),
+            eq(fragments.status, "approved"),
+            isNull(fragments.mergedInto),
+          ),
+        )
         .returning({ id: fragments.id, revision: fragments.revision });
       const revision = new Map(rows.map((r) => [r.id, r.revision]));
       const [queued, gone] = [chunk.filter((c) => revision.has(c.fragmentId)), chunk.filter((c) => !revision.has(c.fragmentId))];
-      await tx.sendMany(QUEUES.render, queued.map((c) => ({ fragmentId: c.fragmentId, revision: revision.get(c.fragmentId)!, batchItemId: c.id })));
+      await tx.sendMany(
+        QUEUES.render,
+        queued.map((c) => ({ fragmentId: c.fragmentId, revision: revision.get(c.fragmentId)!, batchItemId: c.id })),
+      );
       queuedAgain += queued.length;
       if (gone.length)
         await tx.db
           .update(batchItems)
           .set({ state: "failed", error: "The fragment is no longer approved.", updatedAt: new Date() })
-          .where(inArray(batchItems.id, gone.map((c) => c.id)));
+          .where(
+            inArray(
+              batchItems.id,
+              gone.map((c) => c.id),
+            ),
+          );
     }
     // Open again while anything runs; when nothing could be queued, it stays finished.
     if (queuedAgain) await tx.db.update(batches).set({ finishedAt: null, updatedAt: new Date() }).where(eq(batches.id, id));
@@ -296,8 +354,15 @@ export async function cancelBatch(db: Db, id: string) {
       .set({ state: "cancelled", updatedAt: new Date() })
       .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "queued")))
       .returning({ id: batchItems.id });
-    const [open] = await tx.select({ n: sql<number>`count(*)::int` }).from(batchItems).where(and(eq(batchItems.batchId, id), eq(batchItems.state, "running")));
-    if (!open?.n) await tx.update(batches).set({ finishedAt: new Date(), updatedAt: new Date() }).where(and(eq(batches.id, id), isNull(batches.finishedAt)));
+    const [open] = await tx
+      .select({ n: sql<number>`count(*)::int` })
+      .from(batchItems)
+      .where(and(eq(batchItems.batchId, id), eq(batchItems.state, "running")));
+    if (!open?.n)
+      await tx
+        .update(batches)
+        .set({ finishedAt: new Date(), updatedAt: new Date() })
+        .where(and(eq(batches.id, id), isNull(batches.finishedAt)));
     await recordAudit(tx, {
       action: "batch.cancel",
       subjectType: "batch",
@@ -311,18 +376,33 @@ export async function cancelBatch(db: Db, id: string) {
 }
 
 /** The same fragments again, with other presets (or the newest versions of the same ones). */
-export async function rerunBatch(database: Database, boss: PgBoss, actorId: string, id: string, body: { presetIds?: string[]; replaceOld: boolean }) {
+export async function rerunBatch(
+  database: Database,
+  boss: PgBoss,
+  actorId: string,
+  id: string,
+  body: { presetIds?: string[]; replaceOld: boolean },
+) {
   const [old] = await database.db.select().from(batches).where(eq(batches.id, id));
   if (!old) throw notFound("That batch");
   const items = await database.db.select().from(batchItems).where(eq(batchItems.batchId, id));
   const fragmentIds = [...new Set(items.map((i) => i.fragmentId))];
   let presetIds = body.presetIds;
   if (!presetIds) {
-    const versions = await database.db.select({ presetId: presetVersions.presetId }).from(presetVersions).where(inArray(presetVersions.id, items.map((i) => i.presetVersionId!).filter(Boolean)));
+    const versions = await database.db
+      .select({ presetId: presetVersions.presetId })
+      .from(presetVersions)
+      .where(inArray(presetVersions.id, items.map((i) => i.presetVersionId!).filter(Boolean)));
     presetIds = [...new Set(versions.map((v) => v.presetId))];
   }
   if (!presetIds.length) throw conflict("This batch made no preset outputs to run again.");
-  return createOutputBatch(database, boss, actorId, { name: `${old.name} (again)`, selection: { fragmentIds }, presetIds }, { of: id, replaceOld: body.replaceOld });
+  return createOutputBatch(
+    database,
+    boss,
+    actorId,
+    { name: `${old.name} (again)`, selection: { fragmentIds }, presetIds },
+    { of: id, replaceOld: body.replaceOld },
+  );
 }
 
 /**

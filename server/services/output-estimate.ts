@@ -41,9 +41,21 @@ function through(points: readonly (readonly [number, number])[], x: number): num
  * grainy piece (`npx tsx scripts/bench/estimate.ts` prints the table; tests/batch-size-estimates-follow-the-pieces.test.ts checks it holds).
  */
 const LOSSY = {
-  jpeg: [[0.003, 0.013], [0.69, 0.18], [1.18, 0.8]],
-  webp: [[0.003, 0.003], [0.69, 0.1], [1.18, 0.48]],
-  avif: [[0.003, 0.002], [0.69, 0.07], [1.18, 0.33]],
+  jpeg: [
+    [0.003, 0.013],
+    [0.69, 0.18],
+    [1.18, 0.8],
+  ],
+  webp: [
+    [0.003, 0.003],
+    [0.69, 0.1],
+    [1.18, 0.48],
+  ],
+  avif: [
+    [0.003, 0.002],
+    [0.69, 0.07],
+    [1.18, 0.33],
+  ],
 } as const;
 
 /** Plain paper or wall: next to nothing in any of these encodings (a wall's light and shadow a little more). */

@@ -77,8 +77,7 @@ export async function outputThumb(
   const edge = opts.edge ?? OUTPUT_THUMB_EDGE;
   const key = outputThumbKey(out.id, out.updatedAt, edge);
   if (await library.exists(key)) return key;
-  if (out.format === "pdf")
-    throw new AppError(404, "not_found", "A PDF has no picture here; download it to look at it.");
+  if (out.format === "pdf") throw new AppError(404, "not_found", "A PDF has no picture here; download it to look at it.");
   let job = inFlight.get(key);
   if (!job) {
     if (making.pendingCount >= MAX_WAITING)

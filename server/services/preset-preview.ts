@@ -15,11 +15,7 @@ import { isOutputError, outputExtension, renderOutput } from "../../worker/pipel
  * batch runs), and sends back a reduced picture of it with the report: the print on its paper, the
  * mock-up as composed, the web copy as cropped or padded.
  */
-export async function previewPreset(
-  db: Db,
-  library: Storage,
-  input: { fragmentId: string; settings: Preset; size: number },
-) {
+export async function previewPreset(db: Db, library: Storage, input: { fragmentId: string; settings: Preset; size: number }) {
   const started = performance.now();
   const [f] = await db.select().from(fragments).where(eq(fragments.id, input.fragmentId));
   if (!f) throw notFound("That fragment");
@@ -27,8 +23,7 @@ export async function previewPreset(
     .select()
     .from(outputs)
     .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
-  if (!master)
-    throw conflict("This fragment has no master yet: approve it and wait for its render.");
+  if (!master) throw conflict("This fragment has no master yet: approve it and wait for its render.");
   const [scan] = await db.select({ name: scans.originalName }).from(scans).where(eq(scans.id, f.scanId));
   // The words and rights the batch's file would carry.
   const rights = await studioRights(db);

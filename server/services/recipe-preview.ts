@@ -8,15 +8,7 @@ import { boxOfPoints, rectCorners } from "../../shared/geometry";
 import { cropUpright } from "./fragment-thumbs";
 import type { RecipeStep } from "../../shared/schemas/recipes";
 import type { RecipePreview } from "../../shared/schemas/recipe-api";
-import {
-  clipping,
-  compileRecipe,
-  histograms,
-  isRecipeError,
-  toRaw,
-  sharpFromRaw,
-  type RawImage,
-} from "../../worker/pipeline/colour";
+import { clipping, compileRecipe, histograms, isRecipeError, toRaw, sharpFromRaw, type RawImage } from "../../worker/pipeline/colour";
 
 /** Long edge of the cached reduced copy a preview is made from, in pixels. */
 const BASE_EDGE = 1600;
@@ -37,11 +29,7 @@ async function previewBase(
   const dpi = (scan.dpiX ?? 300) * s;
   if (await library.exists(key)) return { key, dpi };
   // The region around the whole turned rectangle (a cut-out's box can be smaller than it).
-  const b = boxOfPoints(
-    rectCorners(f.rect, f.angle),
-    scan.width ?? Infinity,
-    scan.height ?? Infinity,
-  );
+  const b = boxOfPoints(rectCorners(f.rect, f.angle), scan.width ?? Infinity, scan.height ?? Infinity);
   const region = await library.withLocalFile(scan.originalKey, (original) =>
     sharp(original, { limitInputPixels: false })
       .autoOrient()
@@ -81,10 +69,7 @@ export async function previewRecipe(
   if (!scan || scan.status === "failed") throw notFound("The scan of that fragment");
   const base = await previewBase(library, f, scan);
   const { before, baseWidth } = await library.withLocalFile(base.key, async (file) => ({
-    before: await toRaw(
-      sharp(file).resize(input.size, input.size, { fit: "inside", withoutEnlargement: true }),
-      8,
-    ),
+    before: await toRaw(sharp(file).resize(input.size, input.size, { fit: "inside", withoutEnlargement: true }), 8),
     baseWidth: (await sharp(file).metadata()).width!,
   }));
   const dpi = base.dpi * (before.width / baseWidth);
@@ -92,10 +77,9 @@ export async function previewRecipe(
   try {
     if (input.steps.some((s) => s.enabled !== false)) {
       after = (
-        await compileRecipe(
-          { name: "preview", steps: input.steps },
-          { dpi, bitDepth: 8, background: scan.splitBackground?.rgb },
-        ).apply(before)
+        await compileRecipe({ name: "preview", steps: input.steps }, { dpi, bitDepth: 8, background: scan.splitBackground?.rgb }).apply(
+          before,
+        )
       ).image;
     }
   } catch (err) {

@@ -22,7 +22,10 @@ export type RecipeVersionRow = typeof recipeVersions.$inferSelect;
 /** Puts the recipes that ship with Platen in the database (version 1), once. */
 export async function ensureBuiltInRecipes(db: Db): Promise<void> {
   for (const [name, recipe] of Object.entries(BUILT_IN_RECIPES)) {
-    const [existing] = await db.select({ id: recipes.id }).from(recipes).where(and(eq(recipes.builtIn, true), eq(recipes.name, name)));
+    const [existing] = await db
+      .select({ id: recipes.id })
+      .from(recipes)
+      .where(and(eq(recipes.builtIn, true), eq(recipes.name, name)));
     if (existing) continue;
     await db.transaction(async (tx) => {
       const [row] = await tx
@@ -36,7 +39,12 @@ export async function ensureBuiltInRecipes(db: Db): Promise<void> {
 }
 
 async function latestVersion(db: Db, recipeId: string): Promise<RecipeVersionRow> {
-  const [v] = await db.select().from(recipeVersions).where(eq(recipeVersions.recipeId, recipeId)).orderBy(desc(recipeVersions.version)).limit(1);
+  const [v] = await db
+    .select()
+    .from(recipeVersions)
+    .where(eq(recipeVersions.recipeId, recipeId))
+    .orderBy(desc(recipeVersions.version))
+    .limit(1);
   if (!v) throw notFound("A version of that recipe");
   return v;
 }
@@ -44,7 +52,10 @@ async function latestVersion(db: Db, recipeId: string): Promise<RecipeVersionRow
 async function studioDefaultId(db: Db): Promise<string> {
   const [s] = await db.select({ id: studio.defaultRecipeId }).from(studio).limit(1);
   if (s?.id) return s.id;
-  const [builtIn] = await db.select({ id: recipes.id }).from(recipes).where(and(eq(recipes.builtIn, true), eq(recipes.name, DEFAULT_RECIPE_NAME)));
+  const [builtIn] = await db
+    .select({ id: recipes.id })
+    .from(recipes)
+    .where(and(eq(recipes.builtIn, true), eq(recipes.name, DEFAULT_RECIPE_NAME)));
   if (!builtIn) throw notFound("The built-in default recipe");
   return builtIn.id;
 }
@@ -98,35 +109,54 @@ export async function getRecipe(db: Db, id: string) {
   const versions = await db.select().from(recipeVersions).where(eq(recipeVersions.recipeId, id)).orderBy(desc(recipeVersions.version));
   return {
     recipe: (await summarise(db, [row]))[0]!,
-    versions: versions.map((v) => ({ id: v.id, version: v.version, steps: v.steps as RecipeStep[], createdAt: v.createdAt.toISOString(), createdBy: v.createdBy })),
+    versions: versions.map((v) => ({
+      id: v.id,
+      version: v.version,
+      steps: v.steps as RecipeStep[],
+      createdAt: v.createdAt.toISOString(),
+      createdBy: v.createdBy,
+    })),
   };
 }
 
 /** The same name taken by a request that passed its look-up at the same moment, as the look-up says it. */
-const nameClash = (name: string) => (err: unknown): never => {
-  if (isUniqueClash(err, "recipes_name_key")) throw conflict(`A recipe called "${name}" already exists.`, "name");
-  throw err;
-};
+const nameClash =
+  (name: string) =>
+  (err: unknown): never => {
+    if (isUniqueClash(err, "recipes_name_key")) throw conflict(`A recipe called "${name}" already exists.`, "name");
+    throw err;
+  };
 
 async function nameTaken(db: Db, name: string, exceptId?: string) {
-  const rows = await db.select({ id: recipes.id }).from(recipes).where(sql`lower(${recipes.name}) = lower(${name})`);
+  const rows = await db
+    .select({ id: recipes.id })
+    .from(recipes)
+    .where(sql`lower(${recipes.name}) = lower(${name})`);
   return rows.some((r) => r.id !== exceptId);
 }
 
 export async function createRecipe(db: Db, actorId: string, body: CreateRecipeBody) {
   if (await nameTaken(db, body.name)) throw conflict(`A recipe called "${body.name}" already exists.`, "name");
-  const id = await db.transaction(async (tx) => {
-    const [row] = await tx.insert(recipes).values({ name: body.name, description: body.description ?? null }).returning();
-    const [v] = await tx.insert(recipeVersions).values({ recipeId: row!.id, version: 1, steps: body.steps, createdBy: actorId }).returning();
-    await recordAudit(tx, {
-      action: "recipe.create",
-      subjectType: "recipe",
-      subjectId: row!.id,
-      summary: `Made the recipe "${row!.name}" (version 1, ${body.steps.length} ${body.steps.length === 1 ? "step" : "steps"})`,
-      after: { name: row!.name, description: row!.description, version: 1, versionId: v!.id, steps: body.steps },
-    });
-    return row!.id;
-  }).catch(nameClash(body.name));
+  const id = await db
+    .transaction(async (tx) => {
+      const [row] = await tx
+        .insert(recipes)
+        .values({ name: body.name, description: body.description ?? null })
+        .returning();
+      const [v] = await tx
+        .insert(recipeVersions)
+        .values({ recipeId: row!.id, version: 1, steps: body.steps, createdBy: actorId })
+        .returning();
+      await recordAudit(tx, {
+        action: "recipe.create",
+        subjectType: "recipe",
+        subjectId: row!.id,
+        summary: `Made the recipe "${row!.name}" (version 1, ${body.steps.length} ${body.steps.length === 1 ? "step" : "steps"})`,
+        after: { name: row!.name, description: row!.description, version: 1, versionId: v!.id, steps: body.steps },
+      });
+      return row!.id;
+    })
+    .catch(nameClash(body.name));
   return getRecipe(db, id);
 }
 
@@ -138,51 +168,62 @@ export async function updateRecipe(db: Db, actorId: string, id: string, body: Up
     if (row.builtIn) throw conflict("The built-in recipe keeps its name; save a copy under a new name instead.", "name");
     if (await nameTaken(db, body.name, id)) throw conflict(`A recipe called "${body.name}" already exists.`, "name");
   }
-  await db.transaction(async (tx) => {
-    if (body.steps) {
-      const latest = await latestVersion(tx as unknown as Db, id);
-      const steps = body.steps.map((s) => recipeStepSchema.parse(s));
-      if (canonical(steps) !== canonical(latest.steps)) {
-        const [v] = await tx.insert(recipeVersions).values({ recipeId: id, version: latest.version + 1, steps, createdBy: actorId }).returning();
+  await db
+    .transaction(async (tx) => {
+      if (body.steps) {
+        const latest = await latestVersion(tx as unknown as Db, id);
+        const steps = body.steps.map((s) => recipeStepSchema.parse(s));
+        if (canonical(steps) !== canonical(latest.steps)) {
+          const [v] = await tx
+            .insert(recipeVersions)
+            .values({ recipeId: id, version: latest.version + 1, steps, createdBy: actorId })
+            .returning();
+          await recordAudit(tx, {
+            action: "recipe.version",
+            subjectType: "recipe",
+            subjectId: id,
+            summary: `Saved version ${v!.version} of the recipe "${row.name}"`,
+            before: { version: latest.version, versionId: latest.id, steps: latest.steps },
+            after: { version: v!.version, versionId: v!.id, steps },
+          });
+        }
+      }
+      const [renamed] = await tx
+        .update(recipes)
+        .set({
+          ...(body.name !== undefined ? { name: body.name } : {}),
+          ...(body.description !== undefined ? { description: body.description } : {}),
+          updatedAt: new Date(),
+        })
+        .where(eq(recipes.id, id))
+        .returning();
+      const edits = changedFields(row, renamed!, ["name", "description"]);
+      if (edits) {
         await recordAudit(tx, {
-          action: "recipe.version",
+          action: "recipe.edit",
           subjectType: "recipe",
           subjectId: id,
-          summary: `Saved version ${v!.version} of the recipe "${row.name}"`,
-          before: { version: latest.version, versionId: latest.id, steps: latest.steps },
-          after: { version: v!.version, versionId: v!.id, steps },
+          summary: `Changed the ${Object.keys(edits.after).join(" and ")} of the recipe "${row.name}"`,
+          ...edits,
         });
       }
-    }
-    const [renamed] = await tx
-      .update(recipes)
-      .set({
-        ...(body.name !== undefined ? { name: body.name } : {}),
-        ...(body.description !== undefined ? { description: body.description } : {}),
-        updatedAt: new Date(),
-      })
-      .where(eq(recipes.id, id))
-      .returning();
-    const edits = changedFields(row, renamed!, ["name", "description"]);
-    if (edits) {
-      await recordAudit(tx, { action: "recipe.edit", subjectType: "recipe", subjectId: id, summary: `Changed the ${Object.keys(edits.after).join(" and ")} of the recipe "${row.name}"`, ...edits });
-    }
-    if (body.studioDefault) {
-      const previous = await studioDefaultId(tx as unknown as Db);
-      if (previous !== id) {
-        const [old] = await tx.select({ name: recipes.name }).from(recipes).where(eq(recipes.id, previous));
-        await tx.update(studio).set({ defaultRecipeId: id, updatedAt: new Date() });
-        await recordAudit(tx, {
-          action: "recipe.default",
-          subjectType: "recipe",
-          subjectId: id,
-          summary: `Made "${renamed!.name}" the studio's default recipe${old ? ` instead of "${old.name}"` : ""}`,
-          before: { defaultRecipe: { id: previous, name: old?.name ?? null } },
-          after: { defaultRecipe: { id, name: renamed!.name } },
-        });
+      if (body.studioDefault) {
+        const previous = await studioDefaultId(tx as unknown as Db);
+        if (previous !== id) {
+          const [old] = await tx.select({ name: recipes.name }).from(recipes).where(eq(recipes.id, previous));
+          await tx.update(studio).set({ defaultRecipeId: id, updatedAt: new Date() });
+          await recordAudit(tx, {
+            action: "recipe.default",
+            subjectType: "recipe",
+            subjectId: id,
+            summary: `Made "${renamed!.name}" the studio's default recipe${old ? ` instead of "${old.name}"` : ""}`,
+            before: { defaultRecipe: { id: previous, name: old?.name ?? null } },
+            after: { defaultRecipe: { id, name: renamed!.name } },
+          });
+        }
       }
-    }
-  }).catch(nameClash(body.name ?? ""));
+    })
+    .catch(nameClash(body.name ?? ""));
   return getRecipe(db, id);
 }
 
@@ -226,19 +267,33 @@ export async function applyRecipe(database: Database, boss: PgBoss, actorId: str
         : [];
       targetIds = rows.map((r) => r.id);
     } else if (body.scanId) {
-      const [scan] = await tx.db.select({ id: scans.id, name: scans.originalName, recipeId: scans.recipeId }).from(scans).where(eq(scans.id, body.scanId));
+      const [scan] = await tx.db
+        .select({ id: scans.id, name: scans.originalName, recipeId: scans.recipeId })
+        .from(scans)
+        .where(eq(scans.id, body.scanId));
       if (!scan) throw notFound("That scan");
       target = { what: scan.name, before: { scanId: scan.id, recipeId: scan.recipeId } };
       await tx.db.update(scans).set({ recipeId, updatedAt: new Date() }).where(eq(scans.id, scan.id));
-      const rows = await tx.db.update(fragments).set({ recipeId: null }).where(eq(fragments.scanId, scan.id)).returning({ id: fragments.id });
+      const rows = await tx.db
+        .update(fragments)
+        .set({ recipeId: null })
+        .where(eq(fragments.scanId, scan.id))
+        .returning({ id: fragments.id });
       targetIds = rows.map((r) => r.id);
     } else {
-      const was = await tx.db.select({ id: fragments.id, recipeId: fragments.recipeId }).from(fragments).where(inArray(fragments.id, body.fragmentIds!));
+      const was = await tx.db
+        .select({ id: fragments.id, recipeId: fragments.recipeId })
+        .from(fragments)
+        .where(inArray(fragments.id, body.fragmentIds!));
       target = {
         what: `${was.length} ${was.length === 1 ? "fragment" : "fragments"}`,
         before: { fragments: Object.fromEntries(was.map((f) => [f.id, f.recipeId])) },
       };
-      const rows = await tx.db.update(fragments).set({ recipeId }).where(inArray(fragments.id, body.fragmentIds!)).returning({ id: fragments.id });
+      const rows = await tx.db
+        .update(fragments)
+        .set({ recipeId })
+        .where(inArray(fragments.id, body.fragmentIds!))
+        .returning({ id: fragments.id });
       if (rows.length !== new Set(body.fragmentIds).size) throw notFound("One of those fragments");
       targetIds = rows.map((r) => r.id);
     }
@@ -260,7 +315,14 @@ export async function applyRecipe(database: Database, boss: PgBoss, actorId: str
       subjectId: recipeId,
       summary: `Applied "${recipe.name}" v${version.version} to ${target.what}; ${approved.length} approved ${approved.length === 1 ? "fragment is" : "fragments are"} rendered again`,
       before: target.before,
-      after: { recipeId, versionId: version.id, version: version.version, batchId: batch.id, fragments: targetIds.length, rerender: approved.length },
+      after: {
+        recipeId,
+        versionId: version.id,
+        version: version.version,
+        batchId: batch.id,
+        fragments: targetIds.length,
+        rerender: approved.length,
+      },
     });
     return { batchId: batch.id, fragments: targetIds.length, rerender: approved.length };
   });

@@ -131,7 +131,6 @@ export async function countByStatus(db: Db) {
   return db.select({ status: scans.status, n: count() }).from(scans).groupBy(scans.status);
 }
 
-
 /** "600 DPI", or "600 × 1200 DPI" when the axes differ. */
 function dpiText(x: number | null, y: number | null): string {
   if (x == null) return "none";

@@ -31,19 +31,13 @@ export async function findUserByEmail(db: Db, email: string): Promise<UserRow | 
   return row ?? null;
 }
 
-export async function createUser(
-  db: Db,
-  input: { email: string; name: string; role: Role; password: string },
-): Promise<UserRow> {
+export async function createUser(db: Db, input: { email: string; name: string; role: Role; password: string }): Promise<UserRow> {
   const email = input.email.trim().toLowerCase();
   const [existing] = await db.select({ id: users.id }).from(users).where(eq(users.email, email));
   if (existing) throw conflict(`A user with the e-mail ${email} already exists.`, "email");
   const passwordHash = await bcrypt.hash(input.password, config().bcryptCost);
   return db.transaction(async (tx) => {
-    const [row] = await tx
-      .insert(users)
-      .values({ email, name: input.name.trim(), role: input.role, passwordHash })
-      .returning();
+    const [row] = await tx.insert(users).values({ email, name: input.name.trim(), role: input.role, passwordHash }).returning();
     await recordAudit(tx, {
       action: "user.create",
       subjectType: "user",
@@ -88,7 +82,14 @@ export async function updateUser(db: Db, actorId: string, id: string, patch: Upd
       });
     }
     const name = changedFields(target, row!, ["name"]);
-    if (name) await recordAudit(tx, { action: "user.rename", subjectType: "user", subjectId: id, summary: `Renamed ${who} to ${row!.name}`, ...name });
+    if (name)
+      await recordAudit(tx, {
+        action: "user.rename",
+        subjectType: "user",
+        subjectId: id,
+        summary: `Renamed ${who} to ${row!.name}`,
+        ...name,
+      });
     if (Boolean(target.disabledAt) !== Boolean(row!.disabledAt)) {
       const disabled = Boolean(row!.disabledAt);
       await recordAudit(tx, {

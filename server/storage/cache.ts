@@ -33,22 +33,14 @@ export class LocalCache {
 
   private fileFor(key: string, version: string) {
     checkKey(key);
-    return (
-      path.join(this.dir, "files", ...key.split("/")) +
-      `~${version.replace(/[^a-z0-9-]/gi, "").slice(0, 80) || "v"}`
-    );
+    return path.join(this.dir, "files", ...key.split("/")) + `~${version.replace(/[^a-z0-9-]/gi, "").slice(0, 80) || "v"}`;
   }
 
   /**
    * Runs `fn` with the local copy of `key` at `version`, calling `fetch(tempPath)` first when the
    * copy is not here yet (once, however many callers ask at the same moment).
    */
-  async use<T>(
-    key: string,
-    version: string,
-    fetch: (tempPath: string) => Promise<void>,
-    fn: (file: string) => Promise<T>,
-  ): Promise<T> {
+  async use<T>(key: string, version: string, fetch: (tempPath: string) => Promise<void>, fn: (file: string) => Promise<T>): Promise<T> {
     const file = this.fileFor(key, version);
     this.pins.set(file, (this.pins.get(file) ?? 0) + 1);
     try {
@@ -111,8 +103,7 @@ export class LocalCache {
     const names = await fsp.readdir(dir).catch(() => [] as string[]);
     for (const n of names) {
       const full = path.join(dir, n);
-      if (n.startsWith(base) && full !== keep && !this.pins.has(full))
-        await fsp.rm(full, { force: true });
+      if (n.startsWith(base) && full !== keep && !this.pins.has(full)) await fsp.rm(full, { force: true });
     }
   }
 

@@ -71,11 +71,7 @@ export async function hashStream(stream: AsyncIterable<unknown>): Promise<string
 }
 
 /** Copies `source` to `dest` (created, must not exist) while hashing, then fsyncs it. */
-export async function copyHashed(
-  source: string,
-  dest: string,
-  mode = 0o644,
-): Promise<{ sha256: string; size: number }> {
+export async function copyHashed(source: string, dest: string, mode = 0o644): Promise<{ sha256: string; size: number }> {
   const hash = crypto.createHash("sha256");
   let size = 0;
   const tap = new Transform({
@@ -88,7 +84,8 @@ export async function copyHashed(
   // A link is never followed (an inbox file swapped for one after it was looked at stays out),
   // and only a regular file is read.
   const handle = await fsp.open(source, fs.constants.O_RDONLY | fs.constants.O_NOFOLLOW).catch((err: NodeJS.ErrnoException) => {
-    if (err.code === "ELOOP") throw new Error(`${source} is a link: only files themselves are taken in (copy the file itself)`, { cause: err });
+    if (err.code === "ELOOP")
+      throw new Error(`${source} is a link: only files themselves are taken in (copy the file itself)`, { cause: err });
     throw err;
   });
   try {
@@ -98,11 +95,7 @@ export async function copyHashed(
     throw err;
   }
   try {
-    await pipeline(
-      handle.createReadStream(),
-      tap,
-      fs.createWriteStream(dest, { flags: "wx", mode }),
-    );
+    await pipeline(handle.createReadStream(), tap, fs.createWriteStream(dest, { flags: "wx", mode }));
     await fsyncFile(dest);
   } catch (err) {
     await fsp.rm(dest, { force: true });
@@ -141,11 +134,7 @@ export async function walk(dir: string): Promise<string[]> {
     try {
       entries = await fsp.readdir(path.join(dir, sub), { withFileTypes: true });
     } catch (err) {
-      if (
-        (err as NodeJS.ErrnoException).code === "ENOENT" ||
-        (err as NodeJS.ErrnoException).code === "ENOTDIR"
-      )
-        return;
+      if ((err as NodeJS.ErrnoException).code === "ENOENT" || (err as NodeJS.ErrnoException).code === "ENOTDIR") return;
       throw err;
     }
     for (const e of entries) {
@@ -230,7 +219,11 @@ export interface ScratchPlace {
  * program does not make is not the program's to remove. A folder that cannot be read is passed
  * over, never the end of the search; a folder given twice is looked at once.
  */
-export async function findUnfinished(where: { folders?: string[]; scratch: string | string[]; fetching?: string[] }): Promise<Unfinished[]> {
+export async function findUnfinished(where: {
+  folders?: string[];
+  scratch: string | string[];
+  fetching?: string[];
+}): Promise<Unfinished[]> {
   const found = new Set<string>();
   const unique = (dirs: string[]) => [...new Set(dirs.map((d) => path.resolve(d)))];
   for (const dir of unique(where.folders ?? [])) {

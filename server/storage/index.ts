@@ -16,7 +16,10 @@ export { originalKey, previewKey, thumbKey, checkKey, contentTypeFor } from "./k
 /** The local folders of the S3 client for the library (PLATEN_STORAGE=s3) on this machine. */
 const s3Local = (s: Config["storage"]) => ({ scratchDir: s.workDir, cacheDir: s.cacheDir });
 /** …and of the off-site bucket's client (a local library with PLATEN_OFFSITE_BUCKET). */
-const offsiteLocal = (s: Config["storage"]) => ({ scratchDir: path.join(s.workDir, "offsite"), cacheDir: path.join(s.cacheDir, "offsite") });
+const offsiteLocal = (s: Config["storage"]) => ({
+  scratchDir: path.join(s.workDir, "offsite"),
+  cacheDir: path.join(s.cacheDir, "offsite"),
+});
 
 /**
  * Every storage client's scratch and download folders on this machine, whichever is configured

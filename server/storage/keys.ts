@@ -9,12 +9,7 @@ const KEY_PATTERN = /^[a-z0-9][a-z0-9._-]*(\/[a-z0-9][a-z0-9._-]*)*$/i;
 
 /** Throws unless `key` is a plain relative name (no "..", no leading slash, no odd characters). */
 export function checkKey(key: string): string {
-  if (
-    typeof key !== "string" ||
-    key.length > 512 ||
-    !KEY_PATTERN.test(key) ||
-    key.split("/").some((p) => p === ".." || p === ".")
-  ) {
+  if (typeof key !== "string" || key.length > 512 || !KEY_PATTERN.test(key) || key.split("/").some((p) => p === ".." || p === ".")) {
     throw new StorageError(
       "bad-key",
       `Refusing library key "${String(key)}": expected a relative name of letters, digits, dots and dashes`,

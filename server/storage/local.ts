@@ -2,7 +2,19 @@ import fsp from "node:fs/promises";
 import path from "node:path";
 import type { Readable } from "node:stream";
 import { KEY_FOLDERS, checkKey, checkPrefix, isWriteOnce } from "./keys";
-import { copyHashed, findUnfinished, fsyncDir, fsyncFile, hashFile, randomName, removeUnfinished, walk, withScratchDir, type ScratchPlace, type Unfinished } from "./files";
+import {
+  copyHashed,
+  findUnfinished,
+  fsyncDir,
+  fsyncFile,
+  hashFile,
+  randomName,
+  removeUnfinished,
+  walk,
+  withScratchDir,
+  type ScratchPlace,
+  type Unfinished,
+} from "./files";
 import {
   StorageError,
   missing,
@@ -43,8 +55,7 @@ export class LocalStorage implements Storage {
   pathFor(key: string): string {
     checkKey(key);
     const full = path.join(this.root, ...key.split("/"));
-    if (!full.startsWith(this.root + path.sep))
-      throw new StorageError("bad-key", `Refusing library key "${key}"`);
+    if (!full.startsWith(this.root + path.sep)) throw new StorageError("bad-key", `Refusing library key "${key}"`);
     return full;
   }
 
@@ -146,14 +157,9 @@ export class LocalStorage implements Storage {
     await fsp.rm(staged.temp, { force: true });
   }
 
-  async writeAtomic(
-    key: string,
-    write: (tempPath: string) => Promise<void>,
-    opts: Omit<PutOptions, "move"> = {},
-  ): Promise<PutResult> {
+  async writeAtomic(key: string, write: (tempPath: string) => Promise<void>, opts: Omit<PutOptions, "move"> = {}): Promise<PutResult> {
     const dest = this.pathFor(key);
-    if (isWriteOnce(key) && (await this.exists(key)))
-      return { written: false, sha256: null, size: (await fsp.stat(dest)).size };
+    if (isWriteOnce(key) && (await this.exists(key))) return { written: false, sha256: null, size: (await fsp.stat(dest)).size };
     // Written beside its target (same folder, so the rename is atomic); the name keeps the extension.
     const named = `${await this.tempIn(path.dirname(dest), "")}${path.extname(dest)}`;
     try {
@@ -170,10 +176,7 @@ export class LocalStorage implements Storage {
 
   async remove(key: string): Promise<void> {
     if (isWriteOnce(key))
-      throw new StorageError(
-        "write-once",
-        `Refusing to remove "${key}": originals are never removed from the library.`,
-      );
+      throw new StorageError("write-once", `Refusing to remove "${key}": originals are never removed from the library.`);
     await fsp.rm(this.pathFor(key), { force: true });
   }
 
@@ -219,8 +222,7 @@ export class LocalStorage implements Storage {
   private mapError(err: unknown, key: string): Error {
     if (err instanceof StorageError) return err;
     const code = (err as NodeJS.ErrnoException).code;
-    if (code === "ENOENT" || code === "ENOTDIR" || code === "EISDIR")
-      return missing(key, this.description);
+    if (code === "ENOENT" || code === "ENOTDIR" || code === "EISDIR") return missing(key, this.description);
     return err as Error;
   }
 }

@@ -13,7 +13,17 @@ import {
 } from "@aws-sdk/client-s3";
 import { Upload } from "@aws-sdk/lib-storage";
 import { checkKey, checkPrefix, contentTypeFor, isWriteOnce } from "./keys";
-import { copyHashed, findUnfinished, hashStream, randomName, removeUnfinished, snapshotFile, withScratchDir, type ScratchPlace, type Unfinished } from "./files";
+import {
+  copyHashed,
+  findUnfinished,
+  hashStream,
+  randomName,
+  removeUnfinished,
+  snapshotFile,
+  withScratchDir,
+  type ScratchPlace,
+  type Unfinished,
+} from "./files";
 import { LocalCache } from "./cache";
 import {
   StorageError,
@@ -93,9 +103,7 @@ export class S3Storage implements Storage {
 
   private async head(key: string) {
     try {
-      const r = await this.client.send(
-        new HeadObjectCommand({ Bucket: this.settings.bucket, Key: this.objectKey(key) }),
-      );
+      const r = await this.client.send(new HeadObjectCommand({ Bucket: this.settings.bucket, Key: this.objectKey(key) }));
       return {
         size: r.ContentLength ?? 0,
         modified: r.LastModified ?? new Date(0),
@@ -168,8 +176,7 @@ export class S3Storage implements Storage {
     }
     if (opts.move) {
       // The file just uploaded is this version: keep it as the local copy instead of fetching it back.
-      if (etag)
-        await this.cache.adopt(key, etag, fromFile).catch(() => fsp.rm(fromFile, { force: true }));
+      if (etag) await this.cache.adopt(key, etag, fromFile).catch(() => fsp.rm(fromFile, { force: true }));
       else await fsp.rm(fromFile, { force: true });
     }
     return { written: true, sha256, size };
@@ -194,11 +201,7 @@ export class S3Storage implements Storage {
     await fsp.rm(staged.temp, { force: true });
   }
 
-  async writeAtomic(
-    key: string,
-    write: (tempPath: string) => Promise<void>,
-    opts: Omit<PutOptions, "move"> = {},
-  ): Promise<PutResult> {
+  async writeAtomic(key: string, write: (tempPath: string) => Promise<void>, opts: Omit<PutOptions, "move"> = {}): Promise<PutResult> {
     checkKey(key);
     if (isWriteOnce(key) && (await this.exists(key))) {
       const s = await this.stat(key);
@@ -213,14 +216,9 @@ export class S3Storage implements Storage {
 
   async remove(key: string): Promise<void> {
     if (isWriteOnce(key))
-      throw new StorageError(
-        "write-once",
-        `Refusing to remove "${key}": originals are never removed from the library.`,
-      );
+      throw new StorageError("write-once", `Refusing to remove "${key}": originals are never removed from the library.`);
     try {
-      await this.client.send(
-        new DeleteObjectCommand({ Bucket: this.settings.bucket, Key: this.objectKey(key) }),
-      );
+      await this.client.send(new DeleteObjectCommand({ Bucket: this.settings.bucket, Key: this.objectKey(key) }));
     } catch (err) {
       const e = this.mapError(err, key);
       if (!(e instanceof StorageError && e.code === "missing")) throw e;
@@ -282,10 +280,7 @@ export class S3Storage implements Storage {
       key,
       etag || "v",
       async (temp) => {
-        await pipeline(
-          await this.createReadStream(key, undefined, etag || undefined),
-          fs.createWriteStream(temp, { flags: "wx" }),
-        );
+        await pipeline(await this.createReadStream(key, undefined, etag || undefined), fs.createWriteStream(temp, { flags: "wx" }));
       },
       fn,
     );
@@ -318,11 +313,7 @@ export class S3Storage implements Storage {
       $metadata?: { httpStatusCode?: number };
     };
     const status = e.$metadata?.httpStatusCode;
-    if (
-      e.name === "NoSuchKey" ||
-      e.name === "NotFound" ||
-      (status === 404 && e.name !== "NoSuchBucket")
-    )
+    if (e.name === "NoSuchKey" || e.name === "NotFound" || (status === 404 && e.name !== "NoSuchBucket"))
       return missing(key, this.description);
     if (e.name === "NoSuchBucket") {
       return new StorageError(
@@ -331,24 +322,14 @@ export class S3Storage implements Storage {
         { cause: err },
       );
     }
-    if (
-      e.code === "ECONNREFUSED" ||
-      e.code === "ENOTFOUND" ||
-      e.code === "ETIMEDOUT" ||
-      e.name === "TimeoutError"
-    ) {
+    if (e.code === "ECONNREFUSED" || e.code === "ENOTFOUND" || e.code === "ETIMEDOUT" || e.name === "TimeoutError") {
       return new StorageError(
         "unavailable",
         `${this.settings.endpoint ? `The object store at ${this.settings.endpoint}` : "S3"} cannot be reached (${e.code ?? e.name}).`,
         { cause: err },
       );
     }
-    if (
-      e.name === "AccessDenied" ||
-      e.name === "InvalidAccessKeyId" ||
-      e.name === "SignatureDoesNotMatch" ||
-      status === 403
-    ) {
+    if (e.name === "AccessDenied" || e.name === "InvalidAccessKeyId" || e.name === "SignatureDoesNotMatch" || status === 403) {
       return new StorageError(
         "unavailable",
         `The object store refused access to ${this.description} (${e.name}): check the access key and secret.`,

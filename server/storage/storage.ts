@@ -22,11 +22,7 @@ export interface Storage {
   /** Drops a staged copy that will not be committed. */
   discard(staged: Staged): Promise<void>;
   /** Stores the file `write(tempPath)` produces under `key`, atomically. */
-  writeAtomic(
-    key: string,
-    write: (tempPath: string) => Promise<void>,
-    opts?: Omit<PutOptions, "move">,
-  ): Promise<PutResult>;
+  writeAtomic(key: string, write: (tempPath: string) => Promise<void>, opts?: Omit<PutOptions, "move">): Promise<PutResult>;
 
   exists(key: string): Promise<boolean>;
   /** Size, modification time and the SHA-256 when it was recorded; a missing key throws `missing`. */
@@ -110,5 +106,4 @@ export class StorageError extends Error {
 export const isStorageError = (err: unknown, code?: StorageErrorCode): err is StorageError =>
   err instanceof StorageError && (!code || err.code === code);
 
-export const missing = (key: string, where: string) =>
-  new StorageError("missing", `Nothing is stored under "${key}" in ${where}.`);
+export const missing = (key: string, where: string) => new StorageError("missing", `Nothing is stored under "${key}" in ${where}.`);

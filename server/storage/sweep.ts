@@ -75,7 +75,10 @@ export function startUnfinishedSweep(library: Storage, opts: { everyHours: numbe
         try {
           const r = await sweepUnfinished(library, Date.now() - opts.graceHours * 3600_000);
           if (r.removed)
-            log.info({ removed: r.removed, bytes: r.removedBytes, failed: r.failed }, `removed ${r.removed === 1 ? "1 unfinished write" : `${r.removed} unfinished writes`} a stopped process left on this machine`);
+            log.info(
+              { removed: r.removed, bytes: r.removedBytes, failed: r.failed },
+              `removed ${r.removed === 1 ? "1 unfinished write" : `${r.removed} unfinished writes`} a stopped process left on this machine`,
+            );
           else if (r.failed) log.warn({ failed: r.failed }, "could not remove unfinished writes a stopped process left on this machine");
         } catch (err) {
           log.warn({ err }, "could not look for unfinished writes a stopped process left on this machine");

@@ -132,7 +132,10 @@ export const auditListResponse = z.object({
 });
 
 export const auditIdParams = z.object({
-  id: z.coerce.number({ error: "Expected an event id (a whole number)" }).int().positive({ error: "Expected an event id (a whole number)" }),
+  id: z.coerce
+    .number({ error: "Expected an event id (a whole number)" })
+    .int()
+    .positive({ error: "Expected an event id (a whole number)" }),
 });
 
 export const auditDetailResponse = z.object({ event: auditDetailSchema });

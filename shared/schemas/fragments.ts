@@ -135,7 +135,10 @@ export const drawFragmentBody = z.object({
 });
 
 export const mergeFragmentsBody = z.object({
-  ids: z.array(z.uuid({ error: "Expected fragment ids in UUID form" })).min(2, { error: "Expected at least two fragments to merge" }).max(20),
+  ids: z
+    .array(z.uuid({ error: "Expected fragment ids in UUID form" }))
+    .min(2, { error: "Expected at least two fragments to merge" })
+    .max(20),
 });
 
 export const resplitBody = z.object({

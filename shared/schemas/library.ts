@@ -82,7 +82,14 @@ export const libraryOverviewSchema = z.object({
     files: z.number(),
     bytes: z.number(),
     largest: z.array(
-      z.object({ id: z.string(), title: z.string().nullable(), scanName: z.string(), position: z.number(), files: z.number(), bytes: z.number() }),
+      z.object({
+        id: z.string(),
+        title: z.string().nullable(),
+        scanName: z.string(),
+        position: z.number(),
+        files: z.number(),
+        bytes: z.number(),
+      }),
     ),
   }),
 });

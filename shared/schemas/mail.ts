@@ -118,11 +118,9 @@ export const noticeSettingsResponse = z.object({
   mailEnabled: z.boolean(),
 });
 
-export const updateNoticesBody = noticeChoicesSchema
-  .partial()
-  .refine((b) => Object.values(b).some((v) => v !== undefined), {
-    error: "Expected at least one of batchFinished, intakeFinished or scanFailed",
-  });
+export const updateNoticesBody = noticeChoicesSchema.partial().refine((b) => Object.values(b).some((v) => v !== undefined), {
+  error: "Expected at least one of batchFinished, intakeFinished or scanFailed",
+});
 export type UpdateNoticesBody = z.infer<typeof updateNoticesBody>;
 
 // ── Development mailbox ──────────────────────────────────────────────────────────────────────

@@ -22,16 +22,26 @@ export const presetResponse = z.object({
   versions: z.array(z.object({ id: z.string(), version: z.number(), createdAt: z.string() })),
 });
 
-export const createPresetBody = z.object({ name: z.string().trim().min(1).max(80).refine(oneLine("a preset name").check, oneLine("a preset name").message), settings: presetSchema });
+export const createPresetBody = z.object({
+  name: z.string().trim().min(1).max(80).refine(oneLine("a preset name").check, oneLine("a preset name").message),
+  settings: presetSchema,
+});
 /** New settings make a new version; the old outputs keep pointing at the version that made them. */
 export const updatePresetBody = z
-  .object({ name: z.string().trim().min(1).max(80).refine(oneLine("a preset name").check, oneLine("a preset name").message).optional(), settings: presetSchema.optional() })
+  .object({
+    name: z.string().trim().min(1).max(80).refine(oneLine("a preset name").check, oneLine("a preset name").message).optional(),
+    settings: presetSchema.optional(),
+  })
   .refine((b) => b.name !== undefined || b.settings !== undefined, { error: "Expected name or settings" });
 
 /** Which fragments a batch covers: picked ids, or everything matching a filter (approved only). */
 export const fragmentSelectionSchema = z
   .object({
-    fragmentIds: z.array(z.uuid({ error: "Expected fragment ids in UUID form" })).min(1).max(5000).optional(),
+    fragmentIds: z
+      .array(z.uuid({ error: "Expected fragment ids in UUID form" }))
+      .min(1)
+      .max(5000)
+      .optional(),
     filter: z
       .object({
         intakeId: z.uuid().optional(),
@@ -48,7 +58,10 @@ export const fragmentSelectionSchema = z
 export const createBatchBody = z.object({
   name: z.string().trim().max(120).refine(oneLine("a batch name").check, oneLine("a batch name").message).optional(),
   selection: fragmentSelectionSchema,
-  presetIds: z.array(z.uuid({ error: "Expected preset ids in UUID form" })).min(1, { error: "Pick at least one preset" }).max(20),
+  presetIds: z
+    .array(z.uuid({ error: "Expected preset ids in UUID form" }))
+    .min(1, { error: "Pick at least one preset" })
+    .max(20),
 });
 export type CreateBatchBody = z.infer<typeof createBatchBody>;
 

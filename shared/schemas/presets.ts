@@ -99,7 +99,11 @@ export const masterPresetSchema = kind("master", {
   embedResolution: flag("embedResolution", true),
 }).superRefine((p, ctx) => {
   if (p.format === "png" && p.compression === "lzw") {
-    ctx.addIssue({ code: "custom", path: ["compression"], message: 'Expected compression "deflate" or "none" for PNG (PNG always compresses with Deflate) but received "lzw"' });
+    ctx.addIssue({
+      code: "custom",
+      path: ["compression"],
+      message: 'Expected compression "deflate" or "none" for PNG (PNG always compresses with Deflate) but received "lzw"',
+    });
   }
 });
 
@@ -141,7 +145,11 @@ export const webPresetSchema = kind("web", {
     .default({ title: true, creator: true, copyright: true, resolution: true }),
 }).superRefine((p, ctx) => {
   if (p.background === "transparent" && p.format === "jpeg") {
-    ctx.addIssue({ code: "custom", path: ["background"], message: 'Expected a colour background for JPEG (it has no transparency) but received "transparent"' });
+    ctx.addIssue({
+      code: "custom",
+      path: ["background"],
+      message: 'Expected a colour background for JPEG (it has no transparency) but received "transparent"',
+    });
   }
 });
 
@@ -173,7 +181,10 @@ const layoutSchema = z.discriminatedUnion(
       heightIn: bounded("print area height (in)", L.areaIn),
     }),
   ],
-  { error: (iss) => `Expected layout { mode: "margins", top, right, bottom, left } (mm) or { mode: "area", widthIn, heightIn } but received ${describe(iss.input)}` },
+  {
+    error: (iss) =>
+      `Expected layout { mode: "margins", top, right, bottom, left } (mm) or { mode: "area", widthIn, heightIn } but received ${describe(iss.input)}`,
+  },
 );
 
 const scaleSchema = z.discriminatedUnion(
@@ -191,7 +202,10 @@ const scaleSchema = z.discriminatedUnion(
         message: "Expected exactly one of widthIn or heightIn for an exact printed size (the other follows the piece's shape)",
       }),
   ],
-  { error: (iss) => `Expected scale { mode: "fit" }, { mode: "fill" } or { mode: "exact", widthIn | heightIn } but received ${describe(iss.input)}` },
+  {
+    error: (iss) =>
+      `Expected scale { mode: "fit" }, { mode: "fill" } or { mode: "exact", widthIn | heightIn } but received ${describe(iss.input)}`,
+  },
 );
 
 /** Print file: the piece on white paper at printDpi, TIFF or PDF; warns below minDpi. */
@@ -226,7 +240,8 @@ export const mockupPresetSchema = kind("mockup", {
 });
 
 export const presetSchema = z.discriminatedUnion("kind", [masterPresetSchema, webPresetSchema, printPresetSchema, mockupPresetSchema], {
-  error: (iss) => `Expected a preset kind of master, web, print or mockup but received ${describe((iss.input as { kind?: unknown } | undefined)?.kind)}`,
+  error: (iss) =>
+    `Expected a preset kind of master, web, print or mockup but received ${describe((iss.input as { kind?: unknown } | undefined)?.kind)}`,
 });
 
 export type MasterPreset = z.infer<typeof masterPresetSchema>;
@@ -253,8 +268,24 @@ export function parsePreset(input: unknown): Preset {
 const BUILT_IN_INPUTS: readonly PresetInput[] = [
   { kind: "web", name: "web", size: { mode: "longEdge", longEdge: 2048 }, format: "jpeg" },
   { kind: "web", name: "square", size: { mode: "box", aspect: "1:1", width: 1080 }, fit: "contain", background: "#ffffff", format: "jpeg" },
-  { kind: "print", name: "print-letter", paper: { size: "letter" }, layout: { mode: "area", widthIn: 8, heightIn: 10 }, printDpi: 300, scale: { mode: "fit" }, output: "tiff" },
-  { kind: "print", name: "print-a4", paper: { size: "a4" }, layout: { mode: "margins", top: 10, right: 10, bottom: 10, left: 10 }, printDpi: 300, scale: { mode: "fit" }, output: "tiff" },
+  {
+    kind: "print",
+    name: "print-letter",
+    paper: { size: "letter" },
+    layout: { mode: "area", widthIn: 8, heightIn: 10 },
+    printDpi: 300,
+    scale: { mode: "fit" },
+    output: "tiff",
+  },
+  {
+    kind: "print",
+    name: "print-a4",
+    paper: { size: "a4" },
+    layout: { mode: "margins", top: 10, right: 10, bottom: 10, left: 10 },
+    printDpi: 300,
+    scale: { mode: "fit" },
+    output: "tiff",
+  },
 ];
 
 /** The built-in presets by name (web, square, print-letter, print-a4); studios edit copies of them. */

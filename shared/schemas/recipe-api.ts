@@ -44,7 +44,11 @@ export type UpdateRecipeBody = z.infer<typeof updateRecipeBody>;
 /** Use a recipe for these fragments, one scan or a whole intake (the more specific choices below follow), and re-render what is approved. */
 export const applyRecipeBody = z
   .object({
-    fragmentIds: z.array(z.uuid({ error: "Expected fragment ids in UUID form" })).min(1).max(5000).optional(),
+    fragmentIds: z
+      .array(z.uuid({ error: "Expected fragment ids in UUID form" }))
+      .min(1)
+      .max(5000)
+      .optional(),
     scanId: z.uuid({ error: "Expected scanId in UUID form" }).optional(),
     intakeId: z.uuid({ error: "Expected intakeId in UUID form" }).optional(),
   })
@@ -79,7 +83,14 @@ export const batchSchema = z.object({
   kind: z.string(),
   createdAt: z.string(),
   finishedAt: z.string().nullable(),
-  counts: z.object({ queued: z.number(), running: z.number(), done: z.number(), failed: z.number(), cancelled: z.number(), total: z.number() }),
+  counts: z.object({
+    queued: z.number(),
+    running: z.number(),
+    done: z.number(),
+    failed: z.number(),
+    cancelled: z.number(),
+    total: z.number(),
+  }),
   /** For a re-run: the batch it runs again. */
   rerunOf: z.object({ id: z.string(), name: z.string() }).nullable(),
   /** For a re-run: whether the old batch's outputs go once every output of this one is made (or stay beside them). */

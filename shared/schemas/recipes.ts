@@ -69,9 +69,7 @@ function triple(label: string, limits: readonly [number, number]) {
   });
 }
 
-const enabled = z
-  .boolean({ error: (iss) => `Expected enabled to be true or false but received ${describe(iss.input)}` })
-  .default(true);
+const enabled = z.boolean({ error: (iss) => `Expected enabled to be true or false but received ${describe(iss.input)}` }).default(true);
 
 /** A step object that names any setting it does not know. */
 function step<const T extends string, S extends z.ZodRawShape>(type: T, shape: S) {
@@ -79,9 +77,7 @@ function step<const T extends string, S extends z.ZodRawShape>(type: T, shape: S
     { type: z.literal(type), enabled, ...shape },
     {
       error: (iss) =>
-        iss.code === "unrecognized_keys"
-          ? `Unknown setting ${iss.keys.map((k) => `"${k}"`).join(", ")} in a ${type} step`
-          : undefined,
+        iss.code === "unrecognized_keys" ? `Unknown setting ${iss.keys.map((k) => `"${k}"`).join(", ")} in a ${type} step` : undefined,
     },
   );
 }
@@ -101,10 +97,18 @@ export const whiteBalanceStepSchema = step("whiteBalance", {
   gains: triple("gains", L.whiteBalance.gains).optional(),
 }).superRefine((s, ctx) => {
   if (s.mode === "point" && !s.point) {
-    ctx.addIssue({ code: "custom", path: ["point"], message: "Expected point, the sRGB colour [red, green, blue] (0–255) of a picked neutral, for white balance from a point" });
+    ctx.addIssue({
+      code: "custom",
+      path: ["point"],
+      message: "Expected point, the sRGB colour [red, green, blue] (0–255) of a picked neutral, for white balance from a point",
+    });
   }
   if (s.mode === "gains" && !s.gains) {
-    ctx.addIssue({ code: "custom", path: ["gains"], message: "Expected gains [red, green, blue] (linear multipliers) for white balance from gains" });
+    ctx.addIssue({
+      code: "custom",
+      path: ["gains"],
+      message: "Expected gains [red, green, blue] (linear multipliers) for white balance from gains",
+    });
   }
 });
 
@@ -124,7 +128,11 @@ export const levelsStepSchema = step("levels", {
   clip: bounded("clip", L.levels.clip).default(0.005),
 }).superRefine((s, ctx) => {
   if (s.mode === "manual" && !(s.white - s.black >= MIN_LEVELS_RANGE - 1e-12)) {
-    ctx.addIssue({ code: "custom", path: ["white"], message: `Expected white (${s.white}) at least ${MIN_LEVELS_RANGE} above black (${s.black})` });
+    ctx.addIssue({
+      code: "custom",
+      path: ["white"],
+      message: `Expected white (${s.white}) at least ${MIN_LEVELS_RANGE} above black (${s.black})`,
+    });
   }
 });
 
@@ -182,16 +190,7 @@ export const sharpenStepSchema = step("sharpen", {
   threshold: bounded("threshold", L.sharpen.threshold).default(0.01),
 });
 
-export const STEP_TYPES = [
-  "whiteBalance",
-  "levels",
-  "contrast",
-  "saturation",
-  "hueRange",
-  "blackAndWhite",
-  "descreen",
-  "sharpen",
-] as const;
+export const STEP_TYPES = ["whiteBalance", "levels", "contrast", "saturation", "hueRange", "blackAndWhite", "descreen", "sharpen"] as const;
 export type StepType = (typeof STEP_TYPES)[number];
 
 export const recipeStepSchema = z.discriminatedUnion(

@@ -54,9 +54,7 @@ export const scanSchema = z.object({
    * Differs from `dpi` only when someone set the resolution by hand.
    */
   fileDpi: z.object({ x: z.number().nullable(), y: z.number().nullable(), origin: resolutionOriginSchema.nullable() }).nullable(),
-  physical: z
-    .object({ widthIn: z.number(), heightIn: z.number(), widthCm: z.number(), heightCm: z.number() })
-    .nullable(),
+  physical: z.object({ widthIn: z.number(), heightIn: z.number(), widthCm: z.number(), heightCm: z.number() }).nullable(),
   attempts: z.number(),
   /**
    * Why it failed, as a code (worker/pipeline/errors.ts: empty, not_image, unsupported, truncated,
@@ -85,14 +83,7 @@ export const scanSchema = z.object({
 });
 export type Scan = z.infer<typeof scanSchema>;
 
-export const SCAN_SORT_FIELDS = [
-  "createdAt",
-  "originalName",
-  "status",
-  "width",
-  "dpi",
-  "sizeBytes",
-] as const;
+export const SCAN_SORT_FIELDS = ["createdAt", "originalName", "status", "width", "dpi", "sizeBytes"] as const;
 
 export const scanListQuery = z.object({
   status: scanStatusSchema.optional(),
@@ -132,7 +123,12 @@ export const intakeListResponse = z.object({ intakes: z.array(intakeSchema) });
 export const intakeResponse = z.object({ intake: intakeSchema });
 
 export const createIntakeBody = z.object({
-  name: z.string().trim().min(1, { error: "Enter a name for the intake" }).max(120).refine(oneLine("an intake name").check, oneLine("an intake name").message),
+  name: z
+    .string()
+    .trim()
+    .min(1, { error: "Enter a name for the intake" })
+    .max(120)
+    .refine(oneLine("an intake name").check, oneLine("an intake name").message),
 });
 
 /** Resolutions a person may set for a scan: what flatbed scanners offer, with room either side. */
@@ -155,7 +151,8 @@ export const SET_DPI_SQUARE_TOLERANCE = 0.005;
 export const setResolutionBody = z
   .strictObject({ x: setDpi, y: setDpi.optional() })
   .refine((b) => b.y === undefined || Math.abs(b.x - b.y) <= SET_DPI_SQUARE_TOLERANCE * Math.max(b.x, b.y), {
-    error: "Expected the same resolution across and down: pieces are turned upright on square pixels, so a scan made at two resolutions cannot be rendered. Leave y out to use x for both.",
+    error:
+      "Expected the same resolution across and down: pieces are turned upright on square pixels, so a scan made at two resolutions cannot be rendered. Leave y out to use x for both.",
     path: ["y"],
   });
 export type SetResolutionBody = z.infer<typeof setResolutionBody>;

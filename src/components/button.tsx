@@ -8,8 +8,7 @@ const VARIANTS: Record<Variant, string> = {
   // Disabled: a quiet paper ground with text that can still be read (the label often says why).
   primary:
     "bg-accent text-paper-50 hover:bg-accent-strong border border-transparent disabled:border-paper-300 disabled:bg-paper-200 disabled:text-ink-muted",
-  secondary:
-    "bg-paper-50 text-ink border border-paper-300 hover:border-ink-faint hover:bg-white disabled:text-ink-faint",
+  secondary: "bg-paper-50 text-ink border border-paper-300 hover:border-ink-faint hover:bg-white disabled:text-ink-faint",
   quiet: "bg-transparent text-ink-soft hover:bg-paper-200 hover:text-ink border border-transparent",
   danger:
     "bg-brick text-paper-50 hover:bg-[#8a3a27] border border-transparent disabled:border-paper-300 disabled:bg-paper-200 disabled:text-ink-muted",
@@ -27,16 +26,7 @@ export interface ButtonProps extends ButtonHTMLAttributes<HTMLButtonElement> {
 }
 
 export const Button = forwardRef<HTMLButtonElement, ButtonProps>(function Button(
-  {
-    variant = "secondary",
-    size = "md",
-    busy = false,
-    className,
-    disabled,
-    children,
-    type,
-    ...rest
-  },
+  { variant = "secondary", size = "md", busy = false, className, disabled, children, type, ...rest },
   ref,
 ) {
   return (
@@ -63,10 +53,7 @@ export function Spinner({ className }: { className?: string }) {
   return (
     <span
       aria-hidden="true"
-      className={cn(
-        "inline-block size-3.5 animate-spin rounded-full border-2 border-current border-r-transparent",
-        className,
-      )}
+      className={cn("inline-block size-3.5 animate-spin rounded-full border-2 border-current border-r-transparent", className)}
     />
   );
 }

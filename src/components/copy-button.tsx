@@ -15,9 +15,7 @@ export function CopyButton({ value, label }: { value: string; label: string }) {
   };
   return (
     <Button size="sm" variant="quiet" onClick={copy} aria-label={label}>
-      <span aria-live="polite">
-        {state === "copied" ? "Copied" : state === "failed" ? "Select and copy" : "Copy"}
-      </span>
+      <span aria-live="polite">{state === "copied" ? "Copied" : state === "failed" ? "Select and copy" : "Copy"}</span>
     </Button>
   );
 }

@@ -1,10 +1,4 @@
-import {
-  useId,
-  type InputHTMLAttributes,
-  type ReactNode,
-  type Ref,
-  type SelectHTMLAttributes,
-} from "react";
+import { useId, type InputHTMLAttributes, type ReactNode, type Ref, type SelectHTMLAttributes } from "react";
 import { cn } from "../lib/cn";
 
 export const inputClass =
@@ -50,14 +44,7 @@ type TextFieldProps = Omit<InputHTMLAttributes<HTMLInputElement>, "id"> & {
 };
 
 /** A labelled input whose error text is tied to it with aria-describedby. */
-export function TextField({
-  label,
-  hint,
-  error,
-  fieldClassName,
-  className,
-  ...rest
-}: TextFieldProps) {
+export function TextField({ label, hint, error, fieldClassName, className, ...rest }: TextFieldProps) {
   const id = useId();
   const describedBy = error ? `${id}-error` : hint ? `${id}-hint` : undefined;
   return (
@@ -80,15 +67,7 @@ type SelectFieldProps = Omit<SelectHTMLAttributes<HTMLSelectElement>, "id"> & {
   fieldClassName?: string;
 };
 
-export function SelectField({
-  label,
-  hint,
-  error,
-  fieldClassName,
-  className,
-  children,
-  ...rest
-}: SelectFieldProps) {
+export function SelectField({ label, hint, error, fieldClassName, className, children, ...rest }: SelectFieldProps) {
   const id = useId();
   const describedBy = error ? `${id}-error` : hint ? `${id}-hint` : undefined;
   return (

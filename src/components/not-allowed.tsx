@@ -6,15 +6,10 @@ export function NotAllowed({ needed, current }: { needed: Role; current: Role })
   return (
     <div className="mx-auto max-w-md py-20 text-center">
       <title>Not allowed · Platen</title>
-      <p className="text-xs font-semibold tracking-[0.18em] text-ink-muted uppercase">
-        Not allowed
-      </p>
-      <h1 className="mt-3 text-2xl font-semibold text-ink">
-        This page is for {ROLE_LABELS[needed].toLowerCase()}s
-      </h1>
+      <p className="text-xs font-semibold tracking-[0.18em] text-ink-muted uppercase">Not allowed</p>
+      <h1 className="mt-3 text-2xl font-semibold text-ink">This page is for {ROLE_LABELS[needed].toLowerCase()}s</h1>
       <p className="mt-3 text-sm text-ink-soft">
-        You are signed in as {ROLE_LABELS[current].toLowerCase()}. Ask an admin of the studio if you
-        need access.
+        You are signed in as {ROLE_LABELS[current].toLowerCase()}. Ask an admin of the studio if you need access.
       </p>
       <Link
         to="/queue"

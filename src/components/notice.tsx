@@ -23,17 +23,11 @@ export function Notice({
   return (
     <div
       role={tone === "error" ? "alert" : undefined}
-      className={cn(
-        "flex items-start gap-4 rounded-lg border px-4 py-3 text-sm",
-        tones[tone],
-        className,
-      )}
+      className={cn("flex items-start gap-4 rounded-lg border px-4 py-3 text-sm", tones[tone], className)}
     >
       <div className="flex-1">
         {title && <p className="font-semibold text-ink">{title}</p>}
-        {children && (
-          <div className={cn("text-ink-soft", Boolean(title) && "mt-0.5")}>{children}</div>
-        )}
+        {children && <div className={cn("text-ink-soft", Boolean(title) && "mt-0.5")}>{children}</div>}
       </div>
       {action}
     </div>

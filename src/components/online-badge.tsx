@@ -16,18 +16,13 @@ export function OnlineBadge({
     <span
       className={cn(
         "inline-flex items-center gap-1.5 rounded-full border px-2 py-0.5 text-xs font-medium",
-        online
-          ? "border-accent/40 bg-accent-faint text-accent-strong"
-          : "border-brick/40 bg-brick-soft text-brick",
+        online ? "border-accent/40 bg-accent-faint text-accent-strong" : "border-brick/40 bg-brick-soft text-brick",
         className,
       )}
     >
       <span
         aria-hidden="true"
-        className={cn(
-          "size-2 rounded-full border",
-          online ? "border-accent bg-accent" : "border-brick bg-transparent",
-        )}
+        className={cn("size-2 rounded-full border", online ? "border-accent bg-accent" : "border-brick bg-transparent")}
       />
       {online ? onlineText : offlineText}
     </span>

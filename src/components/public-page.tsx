@@ -24,9 +24,7 @@ export function PublicPage({
           <h1 className="mt-5 text-2xl font-semibold tracking-tight text-ink">{heading}</h1>
           {subheading && <p className="mt-1 text-sm text-ink-muted">{subheading}</p>}
         </div>
-        <div className="rounded-xl border border-paper-300 bg-paper-50 px-7 py-7 shadow-sheet">
-          {children}
-        </div>
+        <div className="rounded-xl border border-paper-300 bg-paper-50 px-7 py-7 shadow-sheet">{children}</div>
         {below && <div className="mt-4 text-center text-sm text-ink-muted">{below}</div>}
       </div>
     </div>

@@ -61,16 +61,7 @@ export function StatusGlyph({ status, className }: { status: ScanStatus; classNa
     case "duplicate":
       return (
         <svg viewBox="0 0 12 12" className={common} aria-hidden="true">
-          <rect
-            x="1"
-            y="1"
-            width="7"
-            height="7"
-            rx="1"
-            fill="none"
-            stroke="currentColor"
-            strokeWidth="1.3"
-          />
+          <rect x="1" y="1" width="7" height="7" rx="1" fill="none" stroke="currentColor" strokeWidth="1.3" />
           <rect x="4" y="4" width="7" height="7" rx="1" fill="currentColor" />
         </svg>
       );
@@ -79,12 +70,7 @@ export function StatusGlyph({ status, className }: { status: ScanStatus; classNa
 
 export function StatusBadge({ status, className }: { status: ScanStatus; className?: string }) {
   return (
-    <StatusPill
-      title={STATUS_HINTS[status]}
-      tone={TONES[status]}
-      glyph={<StatusGlyph status={status} />}
-      className={className}
-    >
+    <StatusPill title={STATUS_HINTS[status]} tone={TONES[status]} glyph={<StatusGlyph status={status} />} className={className}>
       {STATUS_LABELS[status]}
     </StatusPill>
   );

@@ -15,15 +15,7 @@ const again = (src: string, n: number) => (n === 0 ? src : `${src}${src.includes
  * tried again after `THUMB_RETRY_AFTER_MS`, showing the fallback meanwhile; a new address (a new
  * revision of the fragment) starts afresh.
  */
-export function ThumbImage({
-  src,
-  className,
-  fallback,
-}: {
-  src: string;
-  className: string;
-  fallback: ReactNode;
-}) {
+export function ThumbImage({ src, className, fallback }: { src: string; className: string; fallback: ReactNode }) {
   // The address's failed tries so far, and whether the next is being waited for.
   const [state, setState] = useState<{ src: string; failures: number; waiting: boolean }>({ src, failures: 0, waiting: false });
   const current = state.src === src ? state : { src, failures: 0, waiting: false };

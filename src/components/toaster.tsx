@@ -19,10 +19,7 @@ export function Toaster() {
         <div
           key={t.id}
           role={t.tone === "error" ? "alert" : "status"}
-          className={cn(
-            "pointer-events-auto flex items-start gap-3 rounded-lg border px-4 py-3 text-sm shadow-lg",
-            TONE[t.tone],
-          )}
+          className={cn("pointer-events-auto flex items-start gap-3 rounded-lg border px-4 py-3 text-sm shadow-lg", TONE[t.tone])}
         >
           <span className="dot mt-1.5 size-2 shrink-0 rounded-full" aria-hidden="true" />
           <p className="flex-1">

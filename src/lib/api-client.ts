@@ -48,11 +48,7 @@ export interface RequestOptions<T> {
 }
 
 /** Builds the URL for a route with its path parameters and a query string of the set values. */
-export function apiUrl(
-  spec: RouteSpec,
-  params?: Record<string, string>,
-  query?: Record<string, QueryValue>,
-): string {
+export function apiUrl(spec: RouteSpec, params?: Record<string, string>, query?: Record<string, QueryValue>): string {
   const path = apiPath(spec, params);
   if (!query) return path;
   const search = new URLSearchParams();
@@ -92,12 +88,7 @@ function fallbackMessage(status: number): string {
   return `The request failed (HTTP ${status}).`;
 }
 
-function handleFailure(
-  spec: RouteSpec,
-  error: ApiError,
-  quiet: boolean,
-  allowUnauthorized: boolean,
-) {
+function handleFailure(spec: RouteSpec, error: ApiError, quiet: boolean, allowUnauthorized: boolean) {
   if (error.status === 401 && !allowUnauthorized) {
     onUnauthorized();
     return;
@@ -109,20 +100,13 @@ function parseWith<T>(schema: ZodType<T> | undefined, data: unknown, spec: Route
   if (!schema) return data as T;
   const result = schema.safeParse(data);
   if (!result.success) {
-    throw new ApiError(
-      200,
-      "bad_response",
-      `The server answered ${spec.method} ${spec.path} in an unexpected shape.`,
-    );
+    throw new ApiError(200, "bad_response", `The server answered ${spec.method} ${spec.path} in an unexpected shape.`);
   }
   return result.data;
 }
 
 /** Sends one JSON request to an API route and returns its parsed response (undefined for 204). */
-export async function apiRequest<T = undefined>(
-  spec: RouteSpec,
-  options: RequestOptions<T> = {},
-): Promise<T> {
+export async function apiRequest<T = undefined>(spec: RouteSpec, options: RequestOptions<T> = {}): Promise<T> {
   const { params, query, body, schema, signal, quiet = false, allowUnauthorized = false } = options;
   const hasBody = body !== undefined;
   let response: Response;
@@ -141,11 +125,7 @@ export async function apiRequest<T = undefined>(
     throw error;
   }
   if (!response.ok) {
-    const error = errorFrom(
-      response.status,
-      await response.text(),
-      fallbackMessage(response.status),
-    );
+    const error = errorFrom(response.status, await response.text(), fallbackMessage(response.status));
     handleFailure(spec, error, quiet, allowUnauthorized);
     throw error;
   }
@@ -192,9 +172,7 @@ export function apiUpload<T>(spec: RouteSpec, options: UploadOptions<T>): Promis
         return;
       }
       try {
-        resolve(
-          parseWith(schema, xhr.responseText ? JSON.parse(xhr.responseText) : undefined, spec),
-        );
+        resolve(parseWith(schema, xhr.responseText ? JSON.parse(xhr.responseText) : undefined, spec));
       } catch (error) {
         reject(error);
       }

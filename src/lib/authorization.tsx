@@ -24,14 +24,6 @@ export function useHasRole(role: Role): boolean {
 }
 
 /** Renders its children only for users with `role` or higher; `fallback` otherwise. */
-export function Can({
-  role,
-  children,
-  fallback = null,
-}: {
-  role: Role;
-  children: ReactNode;
-  fallback?: ReactNode;
-}) {
+export function Can({ role, children, fallback = null }: { role: Role; children: ReactNode; fallback?: ReactNode }) {
   return <>{useHasRole(role) ? children : fallback}</>;
 }

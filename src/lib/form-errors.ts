@@ -17,10 +17,7 @@ export function fieldErrorsFrom<K extends string>(error: ZodError): FieldErrors<
  * Splits a server refusal into a field message (when the server named one of the form's fields)
  * and a form-level message otherwise.
  */
-export function serverErrorFor<K extends string>(
-  error: unknown,
-  fields: readonly K[],
-): { field?: K; message: string } {
+export function serverErrorFor<K extends string>(error: unknown, fields: readonly K[]): { field?: K; message: string } {
   if (error instanceof ApiError) {
     const field = fields.find((f) => f === error.field);
     return field ? { field, message: error.message } : { message: error.message };

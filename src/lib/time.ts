@@ -54,7 +54,5 @@ const shortOtherYear = new Intl.DateTimeFormat(undefined, {
 /** A compact date for table cells: the time this year, the year otherwise. */
 export function formatShortDateTime(iso: string): string {
   const date = new Date(iso);
-  return date.getFullYear() === new Date().getFullYear()
-    ? shortThisYear.format(date)
-    : shortOtherYear.format(date);
+  return date.getFullYear() === new Date().getFullYear() ? shortThisYear.format(date) : shortOtherYear.format(date);
 }

@@ -5,8 +5,7 @@
  */
 export function isTyping(target: EventTarget | null): boolean {
   if (!(target instanceof HTMLElement)) return false;
-  if (target.isContentEditable || target.tagName === "TEXTAREA" || target.tagName === "SELECT")
-    return true;
+  if (target.isContentEditable || target.tagName === "TEXTAREA" || target.tagName === "SELECT") return true;
   if (target.tagName !== "INPUT") return false;
   return !["range", "radio", "checkbox", "button"].includes((target as HTMLInputElement).type);
 }

@@ -50,7 +50,11 @@ export async function signIn(page: Page, baseUrl: string, email: string, passwor
     // form or the signed-in rail shows. A session still standing (a late response of another page
     // can set its cookie again after a test cleared it) is ended first, so this signs in whom the
     // test names.
-    await page.getByLabel("E-mail").or(page.getByRole("button", { name: "Sign out" })).first().waitFor();
+    await page
+      .getByLabel("E-mail")
+      .or(page.getByRole("button", { name: "Sign out" }))
+      .first()
+      .waitFor();
     await page.waitForTimeout(300);
     const onForm = new URL(page.url()).pathname.startsWith("/sign-in") && (await page.getByLabel("E-mail").isVisible());
     if (onForm || attempt > 2) break;

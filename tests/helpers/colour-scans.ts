@@ -45,7 +45,9 @@ export interface CastScene {
  * A 120 × 90 mm bed at `dpi` with a 4 × 3 grid of 15 mm patches and ≥ 15 mm of lid all round,
  * the cast applied in linear light, then Gaussian noise of `noise` codes (seeded).
  */
-export function castScene(opts: { dpi?: number; gains?: [number, number, number]; lid?: [number, number, number]; noise?: number; seed?: number } = {}): CastScene {
+export function castScene(
+  opts: { dpi?: number; gains?: [number, number, number]; lid?: [number, number, number]; noise?: number; seed?: number } = {},
+): CastScene {
   const dpi = opts.dpi ?? 200;
   const px = (mm: number) => Math.round((mm * dpi) / 25.4);
   const width = px(120);
@@ -54,7 +56,7 @@ export function castScene(opts: { dpi?: number; gains?: [number, number, number]
   const gains = opts.gains ?? castGains();
   const noise = opts.noise ?? 1.5;
   let s = opts.seed ?? 5;
-  const rnd = () => ((s = (s * 1664525 + 1013904223) >>> 0) / 4294967296);
+  const rnd = () => (s = (s * 1664525 + 1013904223) >>> 0) / 4294967296;
   const gauss = () => Math.sqrt(-2 * Math.log(rnd() + 1e-12)) * Math.cos(2 * Math.PI * rnd());
   const size = px(15);
   const gap = px(5);
@@ -87,7 +89,15 @@ export async function writeSceneTiff(scene: CastScene, file: string): Promise<vo
 }
 
 /** Mean 8-bit colour of a square (the inner half of it, away from edges and blur). */
-export function meanOf(data: Uint8Array | Uint16Array, width: number, channels: number, x: number, y: number, size: number, max = 255): [number, number, number] {
+export function meanOf(
+  data: Uint8Array | Uint16Array,
+  width: number,
+  channels: number,
+  x: number,
+  y: number,
+  size: number,
+  max = 255,
+): [number, number, number] {
   const sum = [0, 0, 0];
   let n = 0;
   const q = Math.floor(size / 4);

@@ -3,7 +3,9 @@ import fs from "node:fs/promises";
 import sharp from "sharp";
 
 /** Small generated images for tests; nothing binary is committed. */
-export async function paperScan(opts: { width?: number; height?: number; format?: "tiff" | "jpeg" | "png"; dpi?: number; seed?: number } = {}) {
+export async function paperScan(
+  opts: { width?: number; height?: number; format?: "tiff" | "jpeg" | "png"; dpi?: number; seed?: number } = {},
+) {
   const { width = 600, height = 400, format = "tiff", dpi = 300, seed = 1 } = opts;
   const hue = (seed * 67) % 360;
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}">
@@ -42,7 +44,10 @@ export async function pieceBed(seed: number, n: number) {
     return `<rect x="${x}" y="${90 + seed * 7}" width="${260 + seed * 3}" height="${330 - i * 20}" fill="hsl(${hue},55%,42%)"/>`;
   }).join("");
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="${n * 360 + 120}" height="560"><rect width="100%" height="100%" fill="#f6f5f1"/>${rects}</svg>`;
-  return sharp(Buffer.from(svg)).withMetadata({ density: 300 }).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .withMetadata({ density: 300 })
+    .tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }
 
 /** Two pieces, 2.0 × 1.5 in and 1.0 × 1.33 in, on a pale bed: an LZW TIFF at 300 DPI (invented test data). */
@@ -52,5 +57,7 @@ export async function twoPieceBed(): Promise<Buffer> {
     <rect x="100" y="100" width="600" height="450" fill="#2e86c1"/>
     <rect x="850" y="120" width="300" height="400" fill="#c0392b"/>
   </svg>`;
-  return sharp(Buffer.from(svg)).tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" }).toBuffer();
+  return sharp(Buffer.from(svg))
+    .tiff({ compression: "lzw", xres: 300 / 25.4, yres: 300 / 25.4, resolutionUnit: "inch" })
+    .toBuffer();
 }

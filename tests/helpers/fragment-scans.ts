@@ -97,12 +97,7 @@ function colourAt(piece: PieceSpec, q: Point): RGB | null {
   if (m) {
     const fromLeft = q[0] + piece.width / 2;
     const fromTop = q[1] + piece.height / 2;
-    if (
-      fromLeft >= m.left &&
-      fromLeft < m.left + m.size &&
-      fromTop >= m.top &&
-      fromTop < m.top + m.size
-    ) {
+    if (fromLeft >= m.left && fromLeft < m.left + m.size && fromTop >= m.top && fromTop < m.top + m.size) {
       return m.colour;
     }
   }
@@ -116,12 +111,7 @@ function nearMarker(piece: PieceSpec, p: Point): boolean {
   const [u, v] = toUprightLocal(piece, p);
   const fromLeft = u + piece.width / 2;
   const fromTop = v + piece.height / 2;
-  return (
-    fromLeft > m.left - 1.5 &&
-    fromLeft < m.left + m.size + 1.5 &&
-    fromTop > m.top - 1.5 &&
-    fromTop < m.top + m.size + 1.5
-  );
+  return fromLeft > m.left - 1.5 && fromLeft < m.left + m.size + 1.5 && fromTop > m.top - 1.5 && fromTop < m.top + m.size + 1.5;
 }
 
 /**
@@ -138,17 +128,14 @@ export function drawScan(
   const depth = opts.depth ?? 8;
   const n = opts.supersample ?? 4;
   const scale = depth === 16 ? 257 : 1;
-  const px =
-    depth === 16 ? new Uint16Array(width * height * 3) : new Uint8Array(width * height * 3);
+  const px = depth === 16 ? new Uint16Array(width * height * 3) : new Uint8Array(width * height * 3);
   for (let i = 0; i < width * height; i++) {
     px[i * 3] = background[0] * scale;
     px[i * 3 + 1] = background[1] * scale;
     px[i * 3 + 2] = background[2] * scale;
   }
   for (const piece of pieces) {
-    const polygon = (piece.polygon ?? rectPolygon(piece.width, piece.height)).map((q) =>
-      toSource(piece, q),
-    );
+    const polygon = (piece.polygon ?? rectPolygon(piece.width, piece.height)).map((q) => toSource(piece, q));
     const x0 = Math.max(0, Math.floor(Math.min(...polygon.map((p) => p[0]))));
     const x1 = Math.min(width - 1, Math.ceil(Math.max(...polygon.map((p) => p[0]))));
     const y0 = Math.max(0, Math.floor(Math.min(...polygon.map((p) => p[1]))));
@@ -211,9 +198,7 @@ export function drawScan(
 
 /** The geometry the split would report for a piece: box of the outline, angle, rectangle, outline in source pixels. */
 export function geometryOf(piece: PieceSpec, shape: "rectangle" | "cutout"): FragmentGeometry {
-  const outline = (piece.polygon ?? rectPolygon(piece.width, piece.height)).map((q) =>
-    toSource(piece, q),
-  );
+  const outline = (piece.polygon ?? rectPolygon(piece.width, piece.height)).map((q) => toSource(piece, q));
   const left = Math.floor(Math.min(...outline.map((p) => p[0])));
   const top = Math.floor(Math.min(...outline.map((p) => p[1])));
   const right = Math.ceil(Math.max(...outline.map((p) => p[0])));

@@ -57,18 +57,14 @@ export function baselineTiff(o: BaselineTiffOptions): Buffer {
   ];
   if (o.xResolution) entries.push({ tag: 282, type: RATIONAL, value: o.xResolution });
   if (o.yResolution) entries.push({ tag: 283, type: RATIONAL, value: o.yResolution });
-  if (o.resolutionUnit !== undefined)
-    entries.push({ tag: 296, type: SHORT, value: o.resolutionUnit });
+  if (o.resolutionUnit !== undefined) entries.push({ tag: 296, type: SHORT, value: o.resolutionUnit });
 
   const ifdOffset = 8;
   const ifdSize = 2 + entries.length * 12 + 4;
   const rationals = entries.filter((e) => e.type === RATIONAL);
   const rationalsOffset = ifdOffset + ifdSize;
   const pixelsOffset = rationalsOffset + rationals.length * 8;
-  const buf = Buffer.alloc(
-    pixelsOffset + (o.omitPixelData ? 0 : o.width * o.height),
-    o.grey ?? 200,
-  );
+  const buf = Buffer.alloc(pixelsOffset + (o.omitPixelData ? 0 : o.width * o.height), o.grey ?? 200);
 
   buf.write("II", 0, "latin1");
   buf.writeUInt16LE(42, 2);
@@ -102,12 +98,7 @@ export function baselineTiff(o: BaselineTiffOptions): Buffer {
  * FF E0, length 16, "JFIF\0", version 1.02, units (0 aspect only, 1 per inch, 2 per cm),
  * Xdensity, Ydensity (2 bytes each, big-endian), no thumbnail (0 × 0).
  */
-export function withJfifApp0(
-  jpeg: Buffer,
-  units: 0 | 1 | 2,
-  xDensity: number,
-  yDensity = xDensity,
-): Buffer {
+export function withJfifApp0(jpeg: Buffer, units: 0 | 1 | 2, xDensity: number, yDensity = xDensity): Buffer {
   if (jpeg[0] !== 0xff || jpeg[1] !== 0xd8) throw new Error("not a JPEG: no SOI marker");
   let rest = jpeg.subarray(2);
   if (rest[0] === 0xff && rest[1] === 0xe0) rest = rest.subarray(2 + rest.readUInt16BE(2));
@@ -156,11 +147,7 @@ export function pngChunks(png: Buffer): { type: string; start: number; end: numb
  * (PNG spec 11.3.5.3: X and Y pixels per unit, 4 bytes each, then the unit: 0 unknown, 1 metre).
  * `corruptCrc` flips the stored CRC to check that a damaged chunk is ignored.
  */
-export function withPhys(
-  png: Buffer,
-  phys: { x: number; y: number; unit: 0 | 1 } | null,
-  opts: { corruptCrc?: boolean } = {},
-): Buffer {
+export function withPhys(png: Buffer, phys: { x: number; y: number; unit: 0 | 1 } | null, opts: { corruptCrc?: boolean } = {}): Buffer {
   const chunks = pngChunks(png).filter((c) => c.type !== "pHYs");
   const parts: Buffer[] = [png.subarray(0, 8)];
   for (const c of chunks) {

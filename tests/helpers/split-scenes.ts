@@ -17,14 +17,7 @@ export const WHITE_LID: Rgb = [243, 243, 240];
 export const BLACK_BACKING: Rgb = [22, 21, 24];
 export const GREY_BOARD: Rgb = [128, 128, 126];
 
-const rect = (
-  w: number,
-  h: number,
-  cx: number,
-  cy: number,
-  angle: number,
-  texture: PieceSpec["texture"],
-): PieceSpec => ({
+const rect = (w: number, h: number, cx: number, cy: number, angle: number, texture: PieceSpec["texture"]): PieceSpec => ({
   outline: rectOutline(w, h),
   cx,
   cy,
@@ -221,16 +214,7 @@ export const bedFillingPiece: SceneSpec = {
 
 /** Eight pieces spread over a bed of the given size, for the benchmark. */
 export function eightPieces(widthMm: number, heightMm: number, dpi: number): SceneSpec {
-  const textures: PieceSpec["texture"][] = [
-    "photo",
-    "print",
-    "noise",
-    "gradient",
-    "dark",
-    "photo",
-    "print",
-    "noise",
-  ];
+  const textures: PieceSpec["texture"][] = ["photo", "print", "noise", "gradient", "dark", "photo", "print", "noise"];
   const pieces: PieceSpec[] = [];
   const cw = widthMm / 2;
   const ch = heightMm / 4;

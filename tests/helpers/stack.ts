@@ -86,7 +86,11 @@ export async function startStack(opts: StackOptions = {}) {
   const { startMailFake } = await import("../../server/mail/fake-smtp");
   const mailFake = opts.mail ? await startMailFake({ dir: path.join(t.env.PLATEN_DATA_DIR!, "mailbox") }) : undefined;
   if (mailFake) {
-    Object.assign(t.env, { PLATEN_SMTP_HOST: mailFake.host, PLATEN_SMTP_PORT: String(mailFake.port), PLATEN_MAILBOX_DIR: mailFake.dir }, opts.env);
+    Object.assign(
+      t.env,
+      { PLATEN_SMTP_HOST: mailFake.host, PLATEN_SMTP_PORT: String(mailFake.port), PLATEN_MAILBOX_DIR: mailFake.dir },
+      opts.env,
+    );
   }
   const { overrideConfig } = await import("../../server/config");
   const cfg = overrideConfig(t.env);
@@ -123,7 +127,10 @@ export async function startStack(opts: StackOptions = {}) {
   const worker = opts.worker !== false ? await startWorker({ config: cfg, database, boss, library, offsite, log }) : undefined;
   const watcher =
     opts.watcher !== false
-      ? await startWatcher({ database, boss, library, log }, { folder: cfg.inboxDir, stableMs: cfg.inboxStableMs, pollMs: cfg.inboxPollMs, unfinishedMs: cfg.inboxUnfinishedMs })
+      ? await startWatcher(
+          { database, boss, library, log },
+          { folder: cfg.inboxDir, stableMs: cfg.inboxStableMs, pollMs: cfg.inboxPollMs, unfinishedMs: cfg.inboxUnfinishedMs },
+        )
       : undefined;
 
   return {
@@ -200,7 +207,9 @@ export async function userAgent(stack: Stack, role: "viewer" | "operator" | "adm
 
 /** Kills spawned processes (SIGKILL) and waits until each has exited; ones already gone are skipped. */
 export async function killProcesses(children: (import("node:child_process").ChildProcess | undefined)[]): Promise<void> {
-  const running = children.filter((c): c is import("node:child_process").ChildProcess => !!c && c.exitCode === null && c.signalCode === null);
+  const running = children.filter(
+    (c): c is import("node:child_process").ChildProcess => !!c && c.exitCode === null && c.signalCode === null,
+  );
   const exited = running.map((c) => new Promise((r) => c.once("exit", r)));
   for (const c of running) c.kill("SIGKILL");
   await Promise.all(exited);

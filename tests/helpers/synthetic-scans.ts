@@ -10,16 +10,7 @@ import fs from "node:fs/promises";
 import sharp from "sharp";
 import { circleOutline, coverage, random, rectOutline, type Pt } from "./synthetic-shapes";
 
-export {
-  bittenOutline,
-  coverage,
-  ellipseOutline,
-  lOutline,
-  random,
-  rectOutline,
-  tornOutline,
-  type Pt,
-} from "./synthetic-shapes";
+export { bittenOutline, coverage, ellipseOutline, lOutline, random, rectOutline, tornOutline, type Pt } from "./synthetic-shapes";
 
 export type Rgb = [number, number, number];
 
@@ -87,9 +78,7 @@ function textureColour(t: Texture, u: number, v: number, n: number): Rgb {
       ];
     case "print": {
       // cream paper with lines of dark "text" and a halftone picture block
-      const line =
-        Math.floor((v + 100) / 3.2) % 2 === 0 &&
-        Math.abs(Math.sin(u * 1.7 + Math.floor(v / 3.2))) > 0.35;
+      const line = Math.floor((v + 100) / 3.2) % 2 === 0 && Math.abs(Math.sin(u * 1.7 + Math.floor(v / 3.2))) > 0.35;
       const dot = Math.sin(u * 4.4) * Math.sin(v * 4.4) > 0.2 && u < 0;
       if (line) return [40, 38, 45];
       if (dot) return [180, 60, 70];
@@ -128,13 +117,7 @@ export function renderScene(spec: SceneSpec): Scene {
     const cx = rnd() * width;
     const cy = rnd() * height;
     const dark = rnd() < 0.7;
-    paint(
-      img,
-      width,
-      height,
-      [circleOutline(cx, cy, r, 12)],
-      dark ? [50, 45, 40] : [255, 255, 255],
-    );
+    paint(img, width, height, [circleOutline(cx, cy, r, 12)], dark ? [50, 45, 40] : [255, 255, 255]);
   }
   // lighting, lid shadow and noise act on everything the lamp sees
   const light = spec.lighting ?? { x: 0, y: 0 };
@@ -158,14 +141,7 @@ export function renderScene(spec: SceneSpec): Scene {
       let f = 1 + light.x * ((2 * x) / width - 1) + light.y * ((2 * y) / height - 1);
       if (spec.lidShadow) {
         const s = spec.lidShadow;
-        const d =
-          s.side === "top"
-            ? y
-            : s.side === "bottom"
-              ? height - 1 - y
-              : s.side === "left"
-                ? x
-                : width - 1 - x;
+        const d = s.side === "top" ? y : s.side === "bottom" ? height - 1 - y : s.side === "left" ? x : width - 1 - x;
         f *= 1 - s.depth * Math.exp(-d / (s.widthMm * pxPerMm));
       }
       const i = (y * width + x) * 3;
@@ -192,11 +168,7 @@ function paint(img: Float32Array, width: number, height: number, rings: Pt[][], 
   }
 }
 
-function ringBounds(
-  rings: Pt[][],
-  width: number,
-  height: number,
-): [number, number, number, number] {
+function ringBounds(rings: Pt[][], width: number, height: number): [number, number, number, number] {
   let x0 = Infinity,
     y0 = Infinity,
     x1 = -Infinity,
@@ -208,12 +180,7 @@ function ringBounds(
       x1 = Math.max(x1, x);
       y1 = Math.max(y1, y);
     }
-  return [
-    Math.max(0, Math.floor(x0)),
-    Math.max(0, Math.floor(y0)),
-    Math.min(width, Math.ceil(x1)),
-    Math.min(height, Math.ceil(y1)),
-  ];
+  return [Math.max(0, Math.floor(x0)), Math.max(0, Math.floor(y0)), Math.min(width, Math.ceil(x1)), Math.min(height, Math.ceil(y1))];
 }
 
 /** Local mm → bed pixels for a piece turned `angle` degrees counter-clockwise on screen. */
@@ -222,10 +189,7 @@ function placer(piece: PieceSpec, pxPerMm: number) {
   const c = Math.cos(t);
   const s = Math.sin(t);
   return {
-    toBed: ([u, v]: Pt): Pt => [
-      (piece.cx + u * c + v * s) * pxPerMm,
-      (piece.cy - u * s + v * c) * pxPerMm,
-    ],
+    toBed: ([u, v]: Pt): Pt => [(piece.cx + u * c + v * s) * pxPerMm, (piece.cy - u * s + v * c) * pxPerMm],
     toLocal: (x: number, y: number): Pt => {
       const dx = x / pxPerMm - piece.cx;
       const dy = y / pxPerMm - piece.cy;
@@ -234,14 +198,7 @@ function placer(piece: PieceSpec, pxPerMm: number) {
   };
 }
 
-function drawPiece(
-  img: Float32Array,
-  width: number,
-  height: number,
-  pxPerMm: number,
-  piece: PieceSpec,
-  rnd: () => number,
-): TruthPiece {
+function drawPiece(img: Float32Array, width: number, height: number, pxPerMm: number, piece: PieceSpec, rnd: () => number): TruthPiece {
   const place = placer(piece, pxPerMm);
   const ring = piece.outline.map(place.toBed);
   const [x0, y0, x1, y1] = ringBounds([ring], width, height);
@@ -275,17 +232,14 @@ function drawPiece(
       const [u, v] = place.toLocal(x + 0.5, y + 0.5);
       const border = piece.whiteBorderMm ?? 0;
       let col: Rgb =
-        border > 0 && (Math.abs(u) > bx - border || Math.abs(v) > by - border)
-          ? paper
-          : textureColour(piece.texture, u, v, noiseAt(u, v));
+        border > 0 && (Math.abs(u) > bx - border || Math.abs(v) > by - border) ? paper : textureColour(piece.texture, u, v, noiseAt(u, v));
       if (piece.edgeLine && lineInner) {
         const line = Math.max(0, a - Math.min(1, lineInner[k]!)) / Math.max(a, 1e-6);
         const dk = piece.edgeLine.darken * line;
         col = [col[0] - dk, col[1] - dk, col[2] - dk];
       }
       const i = (y * width + x) * 3;
-      for (let c = 0; c < 3; c++)
-        img[i + c] = img[i + c]! * (1 - a) + Math.max(0, Math.min(255, col[c]!)) * a;
+      for (let c = 0; c < 3; c++) img[i + c] = img[i + c]! * (1 - a) + Math.max(0, Math.min(255, col[c]!)) * a;
     }
   }
   // truth: the exact bounding box of the turned outline, rounded to whole pixels
@@ -352,12 +306,7 @@ function drawHair(
 }
 
 /** Writes a scene as PNG (pHYs), TIFF (resolution tags) or JPEG (EXIF density), or with no resolution at all. */
-export async function writeScene(
-  scene: Scene,
-  file: string,
-  format: "png" | "tiff" | "jpeg",
-  embedDpi = true,
-): Promise<void> {
+export async function writeScene(scene: Scene, file: string, format: "png" | "tiff" | "jpeg", embedDpi = true): Promise<void> {
   let img = sharp(Buffer.from(scene.data.buffer, scene.data.byteOffset, scene.data.length), {
     raw: { width: scene.width, height: scene.height, channels: 3 },
   });
@@ -366,10 +315,7 @@ export async function writeScene(
     const png = await img.png({ compressionLevel: 1 }).toBuffer();
     // libvips writes a pHYs chunk even for pixels with no resolution (1 px/mm): drop it
     await fs.writeFile(file, embedDpi ? png : withoutChunk(png, "pHYs"));
-  } else if (format === "tiff")
-    await img
-      .tiff({ compression: "lzw", xres: scene.dpi / 25.4, yres: scene.dpi / 25.4 })
-      .toFile(file);
+  } else if (format === "tiff") await img.tiff({ compression: "lzw", xres: scene.dpi / 25.4, yres: scene.dpi / 25.4 }).toFile(file);
   else await img.jpeg({ quality: 92 }).toFile(file);
 }
 

@@ -73,12 +73,7 @@ export function tornOutline(r: number, seed: number, n = 240): Pt[] {
   const phases = [rnd(), rnd(), rnd()].map((p) => p * 2 * Math.PI);
   return Array.from({ length: n }, (_, i) => {
     const t = (i / n) * 2 * Math.PI;
-    const rr =
-      r *
-      (1 +
-        0.18 * Math.sin(3 * t + phases[0]!) +
-        0.08 * Math.sin(7 * t + phases[1]!) +
-        0.03 * Math.sin(17 * t + phases[2]!));
+    const rr = r * (1 + 0.18 * Math.sin(3 * t + phases[0]!) + 0.08 * Math.sin(7 * t + phases[1]!) + 0.03 * Math.sin(17 * t + phases[2]!));
     return [rr * Math.cos(t), rr * Math.sin(t)] as Pt;
   });
 }
@@ -98,13 +93,7 @@ const SUB = 8;
  * Coverage (0–1) of the region [x0, x0+w) × [y0, y0+h) by the rings (even–odd rule), pixel units.
  * Exact along x, 8 samples along y.
  */
-export function coverage(
-  rings: Pt[][],
-  x0: number,
-  y0: number,
-  w: number,
-  h: number,
-): Float32Array {
+export function coverage(rings: Pt[][], x0: number, y0: number, w: number, h: number): Float32Array {
   const out = new Float32Array(w * h);
   const xs: number[] = [];
   for (let y = 0; y < h; y++) {
@@ -115,8 +104,7 @@ export function coverage(
         for (let i = 0, j = ring.length - 1; i < ring.length; j = i++) {
           const [xa, ya] = ring[j]!;
           const [xb, yb] = ring[i]!;
-          if ((ya <= ys && ys < yb) || (yb <= ys && ys < ya))
-            xs.push(xa + ((ys - ya) / (yb - ya)) * (xb - xa));
+          if ((ya <= ys && ys < yb) || (yb <= ys && ys < ya)) xs.push(xa + ((ys - ya) / (yb - ya)) * (xb - xa));
         }
       }
       xs.sort((p, q) => p - q);

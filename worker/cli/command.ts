@@ -43,11 +43,7 @@ export function commandHelp(command: Command): string {
  * message, e.g. "scan file"). Wrong command lines become UsageError with one plain sentence;
  * with --help, `file` is "" and no file is required.
  */
-export function parseFileArgs<const O extends ParseArgsConfig["options"]>(
-  args: string[],
-  options: O,
-  what: { a: string; one: string },
-) {
+export function parseFileArgs<const O extends ParseArgsConfig["options"]>(args: string[], options: O, what: { a: string; one: string }) {
   let parsed;
   try {
     parsed = parseArgs({ args, options, allowPositionals: true, strict: true });

@@ -14,10 +14,8 @@ const ORIGIN_LABEL: Record<ResolutionOrigin, string> = {
 
 function dpiText(info: ScanInfo): string {
   const { x, y, source, origin } = info.dpi;
-  const value =
-    x === y ? `${formatNumber(x)} DPI` : `${formatNumber(x)} × ${formatNumber(y)} DPI (x × y)`;
-  if (source === "assumed")
-    return `${value}, assumed: the file records none (studio default, PLATEN_DEFAULT_DPI)`;
+  const value = x === y ? `${formatNumber(x)} DPI` : `${formatNumber(x)} × ${formatNumber(y)} DPI (x × y)`;
+  if (source === "assumed") return `${value}, assumed: the file records none (studio default, PLATEN_DEFAULT_DPI)`;
   if (source === "set") return `${value}, set by hand (in place of the file's)`;
   return `${value}, embedded (${origin ? ORIGIN_LABEL[origin] : "file"})`;
 }
@@ -41,15 +39,9 @@ export function formatScanInfo(file: string, info: ScanInfo): string {
     ["bit depth", `${info.bitDepth} ${info.bitDepth === 1 ? "bit" : "bits"} per channel`],
     ["channels", `${info.channels}${info.hasAlpha ? " (with alpha)" : ""}`],
     ["colour space", info.colourSpace],
-    [
-      "ICC profile",
-      info.hasIccProfile ? (info.iccDescription ?? "embedded, without a description") : "none",
-    ],
+    ["ICC profile", info.hasIccProfile ? (info.iccDescription ?? "embedded, without a description") : "none"],
     ["resolution", dpiText(info)],
-    [
-      "physical size",
-      `${formatSize(p.widthIn, p.heightIn, "in")} (${formatSize(p.widthCm, p.heightCm, "cm")})`,
-    ],
+    ["physical size", `${formatSize(p.widthIn, p.heightIn, "in")} (${formatSize(p.widthCm, p.heightCm, "cm")})`],
     ["file size", `${formatBytes(info.sizeBytes)} (${info.sizeBytes} bytes)`],
     ["decodes", "yes, every pixel read without error"],
   ];

@@ -52,18 +52,14 @@ export async function main(argv: readonly string[], io: CliIo = processIo): Prom
   const command = COMMANDS.find((c) => c.name === name);
   if (!command) {
     const known = COMMANDS.map((c) => c.name).join(", ");
-    io.stderr(
-      `platen: unknown command "${oneLine(name)}" (the commands are: ${known}). Run platen --help to see them.\n`,
-    );
+    io.stderr(`platen: unknown command "${oneLine(name)}" (the commands are: ${known}). Run platen --help to see them.\n`);
     return EXIT_USAGE;
   }
   try {
     return await command.run(rest, io);
   } catch (err) {
     if (err instanceof UsageError) {
-      io.stderr(
-        `platen ${command.name}: ${oneLine(err.message)}. Usage: platen ${command.usage}\n`,
-      );
+      io.stderr(`platen ${command.name}: ${oneLine(err.message)}. Usage: platen ${command.usage}\n`);
       return EXIT_USAGE;
     }
     const message = err instanceof Error ? err.message : String(err);

@@ -69,8 +69,14 @@ function parse(args: string[]): RenderArgs {
       throw new UsageError("expected --out to be a new file: the original is never overwritten");
     }
     const withPreset: RenderArgs = {
-      file: file, recipe: values.recipe ?? DEFAULT_RECIPE_NAME, recipeGiven: values.recipe !== undefined,
-      preset: values.preset, json: values.json, out: values.out, format: "tiff", help: false,
+      file: file,
+      recipe: values.recipe ?? DEFAULT_RECIPE_NAME,
+      recipeGiven: values.recipe !== undefined,
+      preset: values.preset,
+      json: values.json,
+      out: values.out,
+      format: "tiff",
+      help: false,
     };
     if (values.dpi !== undefined) withPreset.dpi = parseDpi(values.dpi);
     return withPreset;
@@ -104,7 +110,9 @@ export async function loadPreset(ref: string): Promise<Preset> {
   const builtIn = BUILT_IN_PRESETS[ref];
   if (builtIn) return builtIn;
   if (!/\.json$/i.test(ref)) {
-    throw new Error(`No built-in preset is called "${ref}" (they are: ${Object.keys(BUILT_IN_PRESETS).join(", ")}), and it is not a .json file`);
+    throw new Error(
+      `No built-in preset is called "${ref}" (they are: ${Object.keys(BUILT_IN_PRESETS).join(", ")}), and it is not a .json file`,
+    );
   }
   let text: string;
   try {
@@ -140,7 +148,11 @@ export async function renderWithPreset(
   const dir = await fs.mkdtemp(path.join(os.tmpdir(), "platen-render-"));
   try {
     const corrected = path.join(dir, "corrected.tif");
-    const r = await renderWithRecipe({ file: opts.file, recipe: opts.recipe, out: corrected, format: "tiff", dpi: opts.dpi }, limits, sources);
+    const r = await renderWithRecipe(
+      { file: opts.file, recipe: opts.recipe, out: corrected, format: "tiff", dpi: opts.dpi },
+      limits,
+      sources,
+    );
     const report = await renderOutput({ master: corrected, dpi: r.dpi, title, maxPixels: limits.maxPixels }, preset, { path: opts.out });
     return { ...report, recipe: r.recipe.name };
   } finally {
@@ -151,8 +163,12 @@ export async function renderWithPreset(
 /** An output report as lines for people. Example: "wrote        /tmp/f1.tif (2550 × 3300 px, tiff)". */
 export function formatOutput(r: OutputReport): string {
   const lines = [`wrote        ${path.resolve(r.path)} (${r.pixelWidth} × ${r.pixelHeight} px, ${r.format}, ${r.kind} preset)`];
-  if (r.paper) lines.push(`paper        ${r.paper.name} ${r.paper.orientation}, ${r.paper.widthIn} × ${r.paper.heightIn} in (${r.paper.widthMm} × ${r.paper.heightMm} mm)`);
-  if (r.printedIn) lines.push(`printed      ${r.printedIn.width} × ${r.printedIn.height} in (${r.printedCm!.width} × ${r.printedCm!.height} cm)`);
+  if (r.paper)
+    lines.push(
+      `paper        ${r.paper.name} ${r.paper.orientation}, ${r.paper.widthIn} × ${r.paper.heightIn} in (${r.paper.widthMm} × ${r.paper.heightMm} mm)`,
+    );
+  if (r.printedIn)
+    lines.push(`printed      ${r.printedIn.width} × ${r.printedIn.height} in (${r.printedCm!.width} × ${r.printedCm!.height} cm)`);
   if (r.effectiveDpi !== undefined) lines.push(`resolution   ${r.effectiveDpi} DPI${r.kind === "print" ? " as printed" : ""}`);
   for (const w of r.warnings) lines.push(`warning      ${w}`);
   return lines.join("\n") + "\n";
@@ -203,7 +219,12 @@ export async function renderWithRecipe(
   const dpi = Math.sqrt(info.dpi.x * info.dpi.y);
   let background: ScanBackground | null = null;
   if (needsBackground(found.recipe)) {
-    background = await measureScanBackground(opts.file, { dpi: info.dpi, maxPixels: limits.maxPixels, width: info.width, height: info.height });
+    background = await measureScanBackground(opts.file, {
+      dpi: info.dpi,
+      maxPixels: limits.maxPixels,
+      width: info.width,
+      height: info.height,
+    });
     if (!background.visible) {
       throw new Error(
         `No scanner background shows around the edges of ${opts.file}, and the recipe "${found.recipe.name}" balances white from it; use a recipe with a picked point or explicit gains`,
@@ -251,7 +272,9 @@ export function formatRender(r: RenderReport): string {
     `recipe       ${r.recipe.name} (${r.recipe.file ? `file ${r.recipe.file}` : r.recipe.from})`,
   ];
   if (r.background) {
-    lines.push(`background   sRGB ${r.background.rgb.map((v) => v.toFixed(1)).join(" ")} (${r.background.kind}, measured around the pieces)`);
+    lines.push(
+      `background   sRGB ${r.background.rgb.map((v) => v.toFixed(1)).join(" ")} (${r.background.kind}, measured around the pieces)`,
+    );
   }
   if (r.steps.length === 0) lines.push("steps        none enabled: the image is unchanged");
   for (const s of r.steps) lines.push(`step ${String(s.step).padEnd(7)} ${s.summary}`);
@@ -299,7 +322,13 @@ export const renderCommand: Command = {
     try {
       if (opts.preset !== undefined) {
         const report = await renderWithPreset(
-          { file: opts.file, preset: opts.preset, out: opts.out, ...(opts.recipeGiven ? { recipe: opts.recipe } : {}), ...(opts.dpi !== undefined ? { dpi: opts.dpi } : {}) },
+          {
+            file: opts.file,
+            preset: opts.preset,
+            out: opts.out,
+            ...(opts.recipeGiven ? { recipe: opts.recipe } : {}),
+            ...(opts.dpi !== undefined ? { dpi: opts.dpi } : {}),
+          },
           limits,
           sources,
         );

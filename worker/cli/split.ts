@@ -28,18 +28,14 @@ function parse(args: string[]): SplitArgs {
   if (values.dpi !== undefined) {
     const dpi = Number(values.dpi);
     if (!(Number.isFinite(dpi) && dpi > 0 && dpi <= 100_000)) {
-      throw new UsageError(
-        `expected --dpi to be a positive number of dots per inch but received "${values.dpi}"`,
-      );
+      throw new UsageError(`expected --dpi to be a positive number of dots per inch but received "${values.dpi}"`);
     }
     out.dpi = dpi;
   }
   if (values.sensitivity !== undefined) {
     const s = Number(values.sensitivity);
     if (!(values.sensitivity.trim() !== "" && Number.isFinite(s) && s >= 0 && s <= 1)) {
-      throw new UsageError(
-        `expected --sensitivity to be a number from 0 to 1 but received "${values.sensitivity}"`,
-      );
+      throw new UsageError(`expected --sensitivity to be a number from 0 to 1 but received "${values.sensitivity}"`);
     }
     out.sensitivity = s;
   }
@@ -72,10 +68,12 @@ export function splitJson(result: SplitResult): object {
 export function formatSplit(result: SplitResult): string {
   const dpi = result.dpi;
   const dpiText =
-    (dpi.x === dpi.y
-      ? `${formatNumber(dpi.x)} DPI`
-      : `${formatNumber(dpi.x)} × ${formatNumber(dpi.y)} DPI`) +
-    (dpi.source === "assumed" ? ", assumed (the file records none)" : dpi.source === "set" ? ", set by hand (in place of the file's)" : ", embedded");
+    (dpi.x === dpi.y ? `${formatNumber(dpi.x)} DPI` : `${formatNumber(dpi.x)} × ${formatNumber(dpi.y)} DPI`) +
+    (dpi.source === "assumed"
+      ? ", assumed (the file records none)"
+      : dpi.source === "set"
+        ? ", set by hand (in place of the file's)"
+        : ", embedded");
   const [r, g, b] = result.background.rgb;
   const lines = [
     `file         ${path.resolve(result.file)}`,
@@ -106,11 +104,7 @@ export function formatSplit(result: SplitResult): string {
       .map((cell, c) => cell.padEnd(widths[c]!))
       .join("  ")
       .trimEnd();
-  lines.push(
-    `${result.fragments.length} ${result.fragments.length === 1 ? "piece" : "pieces"}:`,
-    fmt(head),
-    ...rows.map(fmt),
-  );
+  lines.push(`${result.fragments.length} ${result.fragments.length === 1 ? "piece" : "pieces"}:`, fmt(head), ...rows.map(fmt));
   return lines.join("\n") + "\n";
 }
 

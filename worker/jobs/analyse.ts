@@ -20,11 +20,7 @@ export type AnalyseDeps = SplitDeps;
  * with a message a person can act on (no retry: the original will not change). Anything else
  * (database, disk) throws so the queue retries with backoff. Safe to run twice.
  */
-export async function analyseScan(
-  deps: AnalyseDeps,
-  data: unknown,
-  ctx: JobContext,
-): Promise<void> {
+export async function analyseScan(deps: AnalyseDeps, data: unknown, ctx: JobContext): Promise<void> {
   const { scanId } = analysePayload.parse(data);
   const { db, pool } = deps.database;
   const log = deps.log.child({ jobId: ctx.jobId, scanId });
@@ -39,11 +35,7 @@ export async function analyseScan(
     return;
   }
 
-  const progress = async (
-    stage: string,
-    pct: number,
-    extra: Partial<typeof scans.$inferInsert> = {},
-  ) => {
+  const progress = async (stage: string, pct: number, extra: Partial<typeof scans.$inferInsert> = {}) => {
     await db
       .update(scans)
       .set({ stage, progress: pct, updatedAt: new Date(), ...extra })
@@ -64,9 +56,7 @@ export async function analyseScan(
 
   // Notices: a failure, and perhaps a finished intake. Queuing one never fails the job.
   const settled = (failed: boolean) =>
-    noticeScanSettled(deps.boss, scan, failed).catch((err: unknown) =>
-      log.warn({ err }, "analyse: notice not queued"),
-    );
+    noticeScanSettled(deps.boss, scan, failed).catch((err: unknown) => log.warn({ err }, "analyse: notice not queued"));
 
   try {
     // One local copy of the original for the whole analysis (on S3: fetched once into the cache).
@@ -120,8 +110,7 @@ export async function analyseScan(
       fileDpiY: info.dpi.source === "embedded" ? info.dpi.y : null,
       fileResolutionOrigin: info.dpi.source === "embedded" ? info.dpi.origin : null,
     });
-    if (deps.config.testAnalyseDelayMs > 0)
-      await holdFor(deps.config.testAnalyseDelayMs, ctx.signal);
+    if (deps.config.testAnalyseDelayMs > 0) await holdFor(deps.config.testAnalyseDelayMs, ctx.signal);
     // A scan decoded in full for its preview and its split is decoded once, into the copy its
     // render will cut from (worker/decoded-copies.ts); the preview and the split read that copy.
     const copies = deps.config.decodedCopies;
@@ -148,10 +137,7 @@ export async function analyseScan(
     });
     const [analysed] = await db.select().from(scans).where(eq(scans.id, scanId));
     const proposed = await runSplit(deps, analysed!, DEFAULT_SENSITIVITY, original);
-    log.info(
-      { width: info.width, height: info.height, dpi: info.dpi, proposed },
-      "analyse: scan ready",
-    );
+    log.info({ width: info.width, height: info.height, dpi: info.dpi, proposed }, "analyse: scan ready");
   }
 }
 

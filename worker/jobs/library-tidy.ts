@@ -20,9 +20,15 @@ export async function libraryTidyJob(
   const report = await runTidy(deps.database.db, deps.library, null);
   // Held, it removed only unfinished writes (no database names them; runTidy records those).
   if (report.held)
-    return deps.log.warn({ jobId: ctx.jobId, caution: report.caution, removed: report.removed, bytes: report.removedBytes }, "library tidy held: an admin can look at it on the Library screen");
+    return deps.log.warn(
+      { jobId: ctx.jobId, caution: report.caution, removed: report.removed, bytes: report.removedBytes },
+      "library tidy held: an admin can look at it on the Library screen",
+    );
   const kept = report.folders.reduce((n, f) => n + f.tooYoung, 0);
-  deps.log.info({ jobId: ctx.jobId, removed: report.removed, bytes: report.removedBytes, tooYoung: kept, failed: report.failed }, "library tidied");
+  deps.log.info(
+    { jobId: ctx.jobId, removed: report.removed, bytes: report.removedBytes, tooYoung: kept, failed: report.failed },
+    "library tidied",
+  );
   if (report.removed)
     await recordAudit(
       deps.database.db,

@@ -40,21 +40,14 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
   const [item] = await db.select().from(batchItems).where(eq(batchItems.id, batchItemId));
   if (!item || item.state === "cancelled") return;
   // Made already: this is a retry after the item was settled, whose close (or its notice) failed.
-  if (item.state === "done")
-    return removeRetired(
-      deps,
-      await closeIfSettled(db, item.batchId, { boss: deps.boss, again: true }),
-    );
+  if (item.state === "done") return removeRetired(deps, await closeIfSettled(db, item.batchId, { boss: deps.boss, again: true }));
   const fail = async (message: string) => {
     await settleBatchItem(db, batchItemId, "failed", message, { boss: deps.boss });
     await notify(pool, { kind: "worker" });
     log.warn({ reason: message }, "output: failed");
   };
   const [f] = await db.select().from(fragments).where(eq(fragments.id, item.fragmentId));
-  const [pv] = await db
-    .select()
-    .from(presetVersions)
-    .where(eq(presetVersions.id, item.presetVersionId!));
+  const [pv] = await db.select().from(presetVersions).where(eq(presetVersions.id, item.presetVersionId!));
   if (!f || !pv) return fail("The fragment or the preset is gone.");
   if (f.status !== "approved") return fail("The fragment is no longer approved.");
   const [master] = await db
@@ -63,23 +56,23 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, "master")));
   if (!master || f.renderState !== "done" || master.revision !== f.revision) {
     const last = ctx.retryCount >= ctx.retryLimit;
-    if (last)
-      return fail(
-        "The fragment's master is not rendered; approve it again or retry once its render is done.",
-      );
+    if (last) return fail("The fragment's master is not rendered; approve it again or retry once its render is done.");
     throw new Error("waiting for the fragment's master to be rendered");
   }
   await settleBatchItem(db, batchItemId, "running");
   // The piece's title and the studio's creator and copyright as this output is made: the ones its
   // file carries are part of what identifies it (a mock-up carries none, so a change of them reuses it).
   const parsed = presetSchema.safeParse(pv.settings);
-  const [scan] = await db
-    .select({ name: scans.originalName })
-    .from(scans)
-    .where(eq(scans.id, f.scanId));
+  const [scan] = await db.select({ name: scans.originalName }).from(scans).where(eq(scans.id, f.scanId));
   const title = outputTitle(f.title, scan?.name, f.position);
   const rights = { title, ...(await studioRights(db)) };
-  const key = dedupeKey(f.id, f.revision, master.recipeVersionId ?? "none", pv.id, parsed.success ? rightsCarried(parsed.data, rights) : rights);
+  const key = dedupeKey(
+    f.id,
+    f.revision,
+    master.recipeVersionId ?? "none",
+    pv.id,
+    parsed.success ? rightsCarried(parsed.data, rights) : rights,
+  );
   const [made] = await db.select().from(outputs).where(eq(outputs.dedupeKey, key));
   // Reused: linked only while the output row still stands (locked against a replacing re-run
   // retiring it at this moment); gone, it is made again below.
@@ -87,11 +80,7 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     made &&
     (await deps.library.exists(made.key)) &&
     (await db.transaction(async (tx) => {
-      const [still] = await tx
-        .select({ id: outputs.id })
-        .from(outputs)
-        .where(eq(outputs.id, made.id))
-        .for("share");
+      const [still] = await tx.select({ id: outputs.id }).from(outputs).where(eq(outputs.id, made.id)).for("share");
       if (!still) return false;
       // Still approved, under the lock a rejection or merge takes on the piece's row.
       const [piece] = await tx
@@ -105,10 +94,7 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
     }));
   if (linked === "not approved") return fail("The fragment is no longer approved.");
   if (linked) {
-    await removeRetired(
-      deps,
-      await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }),
-    );
+    await removeRetired(deps, await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }));
     await notify(pool, { kind: "worker" });
     return log.info("output: reused");
   }
@@ -202,17 +188,19 @@ export async function outputJob(deps: OutputDeps, data: unknown, ctx: JobContext
       return true;
     });
     if (!stored) {
-      await deps.library.remove(fileKey).catch((err: unknown) => log.warn({ err, key: fileKey }, "output: a discarded file stays until the library tidy"));
+      await deps.library
+        .remove(fileKey)
+        .catch((err: unknown) => log.warn({ err, key: fileKey }, "output: a discarded file stays until the library tidy"));
       // Rejected or merged meanwhile: said now, not after retries that cannot make it.
-      const [now] = await db.select({ status: fragments.status, mergedInto: fragments.mergedInto }).from(fragments).where(eq(fragments.id, f.id));
+      const [now] = await db
+        .select({ status: fragments.status, mergedInto: fragments.mergedInto })
+        .from(fragments)
+        .where(eq(fragments.id, f.id));
       if (now?.status !== "approved" || now.mergedInto !== null) return fail("The fragment is no longer approved.");
       throw new MasterChanged();
     }
     // The last item of a replacing re-run retires the old batch's files.
-    await removeRetired(
-      deps,
-      await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }),
-    );
+    await removeRetired(deps, await settleBatchItem(db, batchItemId, "done", null, { boss: deps.boss }));
     await notify(pool, { kind: "worker" });
     log.info({ preset: preset.kind, warnings: report.warnings }, "output: made");
   } catch (err) {
@@ -254,7 +242,5 @@ async function removeRetired(deps: OutputDeps, keys: string[]): Promise<void> {
   for (const key of keys)
     await deps.library
       .remove(key)
-      .catch((err: unknown) =>
-        deps.log.warn({ err, key }, "output: a retired file stays until the library tidy"),
-      );
+      .catch((err: unknown) => deps.log.warn({ err, key }, "output: a retired file stays until the library tidy"));
 }

@@ -39,8 +39,7 @@ export interface RenderDeps {
 }
 
 export const masterKey = (fragmentId: string) => `masters/${fragmentId}.tif`;
-export const webKey = (fragmentId: string, format: "jpeg" | "webp") =>
-  `web/${fragmentId}.${format === "jpeg" ? "jpg" : "webp"}`;
+export const webKey = (fragmentId: string, format: "jpeg" | "webp") => `web/${fragmentId}.${format === "jpeg" ? "jpg" : "webp"}`;
 
 /**
  * At most this many fragments are rendered by one job from one decode of their scan (the job's
@@ -71,11 +70,7 @@ type RecipeVersion = Awaited<ReturnType<typeof recipeVersionFor>>;
  * job's own fragment throw, so the queue retries; the last attempt records the message. A
  * fragment of the group whose render fails is put back for its own job to render and report.
  */
-export async function renderFragmentJob(
-  deps: RenderDeps,
-  data: unknown,
-  ctx: JobContext,
-): Promise<void> {
+export async function renderFragmentJob(deps: RenderDeps, data: unknown, ctx: JobContext): Promise<void> {
   try {
     await renderAttempt(deps, data, ctx);
   } catch (err) {
@@ -84,7 +79,11 @@ export async function renderFragmentJob(
     const { batchItemId } = renderPayload.parse(data);
     if (batchItemId && ctx.retryCount >= ctx.retryLimit) {
       const { db } = deps.database;
-      const [item] = await db.select({ state: batchItems.state }).from(batchItems).where(eq(batchItems.id, batchItemId)).catch(() => []);
+      const [item] = await db
+        .select({ state: batchItems.state })
+        .from(batchItems)
+        .where(eq(batchItems.id, batchItemId))
+        .catch(() => []);
       if (item && (item.state === "queued" || item.state === "running"))
         await settleBatchItem(db, batchItemId, "failed", (err as Error).message, { boss: deps.boss }).catch(() => {});
     }
@@ -113,10 +112,7 @@ async function renderAttempt(deps: RenderDeps, data: unknown, ctx: JobContext): 
     }
     const recipe = await recipeVersionFor(db, fragmentId);
     if (await alreadyRendered(deps, row, recipe)) {
-      await db
-        .update(fragments)
-        .set({ renderState: "done", renderJobId: null, renderClaimedAt: null })
-        .where(eq(fragments.id, fragmentId));
+      await db.update(fragments).set({ renderState: "done", renderJobId: null, renderClaimedAt: null }).where(eq(fragments.id, fragmentId));
       await settle("done");
       await notify(pool, { kind: "scan", scanId: row.scanId });
       return log.info("render: already rendered with this recipe version");
@@ -156,9 +152,7 @@ async function renderAttempt(deps: RenderDeps, data: unknown, ctx: JobContext): 
     const err = own.error;
     // Bad geometry or an unreadable scan will not improve with a retry.
     const permanent =
-      isScanError(err) ||
-      (isRenderError(err) && err.code !== "failed") ||
-      (err as { permanent?: boolean }).permanent === true;
+      isScanError(err) || (isRenderError(err) && err.code !== "failed") || (err as { permanent?: boolean }).permanent === true;
     const last = permanent || ctx.retryCount >= ctx.retryLimit;
     // Not the last attempt: the fragment stays claimed by this job, whose retry takes it again.
     await db
@@ -179,9 +173,7 @@ async function renderAttempt(deps: RenderDeps, data: unknown, ctx: JobContext): 
 
 /** Its master and web copy exist, made from this revision with this recipe version. */
 async function alreadyRendered(deps: RenderDeps, row: FragmentRow, recipe: RecipeVersion): Promise<boolean> {
-  const made = (
-    await deps.database.db.select().from(outputs).where(eq(outputs.fragmentId, row.id))
-  ).filter((o) => o.kind !== "preset");
+  const made = (await deps.database.db.select().from(outputs).where(eq(outputs.fragmentId, row.id))).filter((o) => o.kind !== "preset");
   return made.length >= 2 && made.every((o) => o.revision === row.revision && o.recipeVersionId === recipe.id);
 }
 
@@ -197,8 +189,7 @@ async function alreadyRendered(deps: RenderDeps, row: FragmentRow, recipe: Recip
  */
 async function claimGroup(deps: RenderDeps, scan: ScanRow, row: FragmentRow, jobId: string): Promise<string[]> {
   const expire = deps.config.jobExpireSeconds;
-  const budget =
-    RENDER_GROUP_SCAN_AREAS * (scan.width && scan.height ? scan.width * scan.height : deps.config.maxPixels);
+  const budget = RENDER_GROUP_SCAN_AREAS * (scan.width && scan.height ? scan.width * scan.height : deps.config.maxPixels);
   const { rows } = await deps.database.pool.query<{ id: string }>(
     `with candidates as (
        select id, position, (rect->>'width')::float8 * (rect->>'height')::float8 as px
@@ -226,7 +217,10 @@ async function claimGroup(deps: RenderDeps, scan: ScanRow, row: FragmentRow, job
   const ids = rows.map((r) => r.id);
   // Only a hint for the screens to look again: a failure to send it must not fail the claim it
   // follows (the claimed rows would wait for this job's retry).
-  if (ids.length > 0) await notify(deps.database.pool, { kind: "scan", scanId: scan.id }).catch((err: unknown) => deps.log.warn({ err }, "render: could not announce the claim"));
+  if (ids.length > 0)
+    await notify(deps.database.pool, { kind: "scan", scanId: scan.id }).catch((err: unknown) =>
+      deps.log.warn({ err }, "render: could not announce the claim"),
+    );
   return ids.includes(row.id) ? [row.id, ...ids.filter((id) => id !== row.id)] : ids;
 }
 
@@ -251,7 +245,13 @@ async function waitWhileClaimed(deps: RenderDeps, fragmentId: string, revision: 
 }
 
 /** Polls until the claim ends ("ended") or the worker is asked to stop ("stopping"). */
-async function pollClaim(deps: RenderDeps, fragmentId: string, revision: number, ctx: JobContext, expireMs: number): Promise<"ended" | "stopping"> {
+async function pollClaim(
+  deps: RenderDeps,
+  fragmentId: string,
+  revision: number,
+  ctx: JobContext,
+  expireMs: number,
+): Promise<"ended" | "stopping"> {
   for (;;) {
     await sleep(CLAIM_POLL_MS);
     if (ctx.stopAsked?.aborted || ctx.signal?.aborted) return "stopping";
@@ -285,13 +285,7 @@ type OwnOutcome = { kind: "done" } | { kind: "skipped" } | { kind: "failed"; err
  * stores each one as soon as it is made. Returns what became of the own fragment; every other
  * fragment that was not stored is put back ('queued', unclaimed) for its own job.
  */
-async function renderGroup(
-  deps: RenderDeps,
-  scan: ScanRow,
-  ids: string[],
-  jobId: string,
-  log: Logger,
-): Promise<OwnOutcome> {
+async function renderGroup(deps: RenderDeps, scan: ScanRow, ids: string[], jobId: string, log: Logger): Promise<OwnOutcome> {
   const { db, pool } = deps.database;
   const started = performance.now();
   const ownId = ids[0]!;
@@ -394,13 +388,22 @@ async function renderGroup(
     errors.set(ownId, err);
   } finally {
     log.info(
-      { scanId: scan.id, fragments: rendered, ms: Math.round(performance.now() - started), ...(errors.size ? { failed: errors.size } : {}) },
+      {
+        scanId: scan.id,
+        fragments: rendered,
+        ms: Math.round(performance.now() - started),
+        ...(errors.size ? { failed: errors.size } : {}),
+      },
       "render: group done",
     );
     // Every other fragment not stored goes back to its own job, which renders (and reports) it.
     const back = ids.filter((id) => id !== ownId && !stored.has(id) && claimedRevision.has(id));
     for (const id of back) {
-      if (errors.has(id)) log.warn({ fragment: id, reason: (errors.get(id) as Error).message }, "render: a fragment of the group failed; its own job will render it");
+      if (errors.has(id))
+        log.warn(
+          { fragment: id, reason: (errors.get(id) as Error).message },
+          "render: a fragment of the group failed; its own job will render it",
+        );
       await db
         .update(fragments)
         .set({ renderState: "queued", renderJobId: null, renderClaimedAt: null })
@@ -460,13 +463,7 @@ async function markDone(deps: RenderDeps, row: Pick<FragmentRow, "id" | "revisio
  * so an older render never replaces a newer one's files. Returns false (nothing stored) when the
  * fragment changed meanwhile.
  */
-async function store(
-  deps: RenderDeps,
-  m: Member,
-  r: RenderResult,
-  jobId: string,
-  studio: Rights,
-): Promise<boolean> {
+async function store(deps: RenderDeps, m: Member, r: RenderResult, jobId: string, studio: Rights): Promise<boolean> {
   const { row, recipe, mKey, wKey, webFormat } = m;
   // What both files carry, kept on their rows (the Studio screen counts masters behind its rights).
   const rights = recordedRights(cleanRights(studio));
@@ -484,8 +481,7 @@ async function store(
     await client.query("select pg_advisory_lock(hashtextextended($1, 0))", [lockKey]);
     try {
       const [cur] = await db.select().from(fragments).where(eq(fragments.id, row.id));
-      const current =
-        cur && cur.status === "approved" && !cur.mergedInto && cur.revision === revision && cur.renderJobId === jobId;
+      const current = cur && cur.status === "approved" && !cur.mergedInto && cur.revision === revision && cur.renderJobId === jobId;
       if (!current || (await recipeVersionFor(db, row.id)).id !== recipe.id) {
         m.log.info({ current: cur?.revision }, "render: changed while rendering; not stored");
         return false;
@@ -551,8 +547,7 @@ async function store(
     else m.log.warn("render: the title changed while rendering, and no queue to rewrite it");
   }
   // Every new master also goes off-site when a bucket is configured (a job of its own).
-  if (saved && deps.offsite && deps.boss)
-    await queueOffsiteCopy(deps.database, deps.boss, { id: saved.id, fragmentId: row.id, key: mKey });
+  if (saved && deps.offsite && deps.boss) await queueOffsiteCopy(deps.database, deps.boss, { id: saved.id, fragmentId: row.id, key: mKey });
   // The web copy's picture for the approved work, made before open screens are told.
   if (savedWeb) await premakeOutputPicture(deps.library, savedWeb, { maxPixels: deps.config.maxPixels, log: m.log });
   await notify(deps.database.pool, { kind: "scan", scanId: row.scanId });

@@ -9,12 +9,7 @@ import { studioRights } from "../../server/services/studio";
 import { isStorageError } from "../../server/storage/storage";
 import { rightsPayload } from "../../shared/schemas/jobs";
 import { cleanRights, recordedRights, type Rights } from "../pipeline/render/rights";
-import {
-  readCarriedRights,
-  rewriteMasterRights,
-  rewriteWebRights,
-  sameRights,
-} from "../pipeline/render/rewrite";
+import { readCarriedRights, rewriteMasterRights, rewriteWebRights, sameRights } from "../pipeline/render/rewrite";
 import { stage } from "../pipeline/render/staging";
 import type { JobContext } from "./context";
 import type { RenderDeps } from "./render";
@@ -44,11 +39,7 @@ type Recorded = ReturnType<typeof recordedRights>;
  * title and the outputs rows are still those the rewrite started from: a render of a newer
  * revision (or another rewrite) that stored meanwhile is never overwritten.
  */
-export async function rewriteRightsJob(
-  deps: RenderDeps,
-  data: unknown,
-  ctx: JobContext,
-): Promise<void> {
+export async function rewriteRightsJob(deps: RenderDeps, data: unknown, ctx: JobContext): Promise<void> {
   const { fragmentId } = rightsPayload.parse(data);
   const { db } = deps.database;
   try {
@@ -74,10 +65,8 @@ async function rewriteRights(deps: RenderDeps, data: unknown, ctx: JobContext): 
   const { db } = deps.database;
   const log = deps.log.child({ jobId: ctx.jobId, fragmentId });
   const [row] = await db.select().from(fragments).where(eq(fragments.id, fragmentId));
-  if (!row || row.status !== "approved" || row.mergedInto)
-    return log.info("rights: fragment not approved; nothing to rewrite");
-  if (row.renderState !== "done")
-    return log.info({ renderState: row.renderState }, "rights: the render writes them");
+  if (!row || row.status !== "approved" || row.mergedInto) return log.info("rights: fragment not approved; nothing to rewrite");
+  if (row.renderState !== "done") return log.info({ renderState: row.renderState }, "rights: the render writes them");
   const made = (
     await db
       .select()
@@ -108,9 +97,7 @@ async function rewriteRights(deps: RenderDeps, data: unknown, ctx: JobContext): 
           if (sameRights(carried, want)) return void (await keepRecord(deps, o, recordedRights(want)));
           const staged = await stage(path.join(dir, path.basename(o.key)));
           const bytes =
-            o.kind === "master"
-              ? await rewriteMasterRights(local, staged, want)
-              : await rewriteWebRights(local, staged, want, o.format);
+            o.kind === "master" ? await rewriteMasterRights(local, staged, want) : await rewriteWebRights(local, staged, want, o.format);
           files.push({ row: o, path: staged.temp, bytes, rights: recordedRights(want) });
         });
       } catch (err) {
@@ -146,8 +133,7 @@ async function afterRewrite(
   if (rewritten.length === 0) return;
   const master = made.find((o) => o.kind === "master" && rewritten.includes(o.id));
   // The master's bytes changed: its off-site copy is made again.
-  if (master && deps.offsite && deps.boss)
-    await queueOffsiteCopy(deps.database, deps.boss, master);
+  if (master && deps.offsite && deps.boss) await queueOffsiteCopy(deps.database, deps.boss, master);
   await notify(deps.database.pool, { kind: "scan", scanId: row.scanId }).catch(() => {});
   log.info({ files: rewritten.length, title: row.title }, "rights: rewritten");
 }
@@ -176,11 +162,7 @@ async function keepRecord(deps: RenderDeps, o: OutputRow, rights: Recorded): Pro
  * outputs row is unchanged and the fragment is still approved, rendered, at the same revision and
  * with the same title. Returns the ids of the outputs replaced.
  */
-async function commit(
-  deps: RenderDeps,
-  row: typeof fragments.$inferSelect,
-  files: Rewritten[],
-): Promise<string[]> {
+async function commit(deps: RenderDeps, row: typeof fragments.$inferSelect, files: Rewritten[]): Promise<string[]> {
   const client = await deps.database.pool.connect();
   const lockKey = `fragment-render:${row.id}`;
   let broken: Error | undefined;
@@ -198,35 +180,21 @@ async function commit(
         cur.revision !== row.revision ||
         (cur.title ?? null) !== (row.title ?? null)
       ) {
-        deps.log.info(
-          { fragmentId: row.id },
-          "rights: the fragment changed meanwhile; its own work writes them",
-        );
+        deps.log.info({ fragmentId: row.id }, "rights: the fragment changed meanwhile; its own work writes them");
         return done;
       }
       for (const f of files) {
         const [now] = await db.select().from(outputs).where(eq(outputs.id, f.row.id));
-        if (
-          !now ||
-          now.key !== f.row.key ||
-          now.bytes !== f.row.bytes ||
-          now.updatedAt.getTime() !== f.row.updatedAt.getTime()
-        )
-          continue;
+        if (!now || now.key !== f.row.key || now.bytes !== f.row.bytes || now.updatedAt.getTime() !== f.row.updatedAt.getTime()) continue;
         await deps.library.put(f.row.key, f.path, { move: true });
-        await db
-          .update(outputs)
-          .set({ bytes: f.bytes, rights: f.rights, updatedAt: new Date() })
-          .where(eq(outputs.id, f.row.id));
+        await db.update(outputs).set({ bytes: f.bytes, rights: f.rights, updatedAt: new Date() }).where(eq(outputs.id, f.row.id));
         done.push(f.row.id);
       }
     } finally {
-      await client
-        .query("select pg_advisory_unlock(hashtextextended($1, 0))", [lockKey])
-        .catch((err: Error) => {
-          broken = err;
-          throw err;
-        });
+      await client.query("select pg_advisory_unlock(hashtextextended($1, 0))", [lockKey]).catch((err: Error) => {
+        broken = err;
+        throw err;
+      });
     }
   } finally {
     client.release(broken);

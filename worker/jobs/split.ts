@@ -32,12 +32,7 @@ type ScanRow = typeof scans.$inferSelect;
  * previous split's proposals (approved and drawn fragments stay). Leaves the scan ready with a
  * stage line saying how many pieces were found, or that none were.
  */
-export async function runSplit(
-  deps: SplitDeps,
-  scan: ScanRow,
-  sensitivity: number,
-  localOriginal?: string,
-): Promise<number> {
+export async function runSplit(deps: SplitDeps, scan: ScanRow, sensitivity: number, localOriginal?: string): Promise<number> {
   // The scan stays decoded for its render (worker/decoded-copies.ts), when there is room.
   const decodedCopy = decodedCopyPath(deps.config.decodedCopies, scan.sha256) ?? undefined;
   const split = async (original: string) => {

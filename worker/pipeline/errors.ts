@@ -8,17 +8,9 @@ import { formatBytes, formatMegapixels } from "../../shared/units";
  * - too_large: more pixels than the studio's limit.
  * - unreadable: anything else (missing file, bad header).
  */
-export type ScanErrorCode =
-  "empty" | "not_image" | "unsupported" | "truncated" | "too_large" | "unreadable";
+export type ScanErrorCode = "empty" | "not_image" | "unsupported" | "truncated" | "too_large" | "unreadable";
 
-export const SCAN_ERROR_CODES: readonly ScanErrorCode[] = [
-  "empty",
-  "not_image",
-  "unsupported",
-  "truncated",
-  "too_large",
-  "unreadable",
-];
+export const SCAN_ERROR_CODES: readonly ScanErrorCode[] = ["empty", "not_image", "unsupported", "truncated", "too_large", "unreadable"];
 
 /** A scan that cannot be analysed. `message` is one sentence a studio assistant can act on. */
 export class ScanError extends Error {
@@ -46,20 +38,14 @@ const EXPECTED = "Platen reads scans in TIFF, JPEG, PNG or WebP";
 /** Message factories, one per situation, so the wording lives in one place. */
 export const scanErrors = {
   empty: () =>
-    new ScanError(
-      "empty",
-      "The file is empty (0 bytes): the scanner or the copy did not finish. Scan again or copy the file again.",
-    ),
+    new ScanError("empty", "The file is empty (0 bytes): the scanner or the copy did not finish. Scan again or copy the file again."),
 
   missing: (file: string, cause?: unknown) =>
-    new ScanError(
-      "unreadable",
-      `The file ${file} does not exist or cannot be opened. Check the path and that the file is still there.`,
-      { cause },
-    ),
+    new ScanError("unreadable", `The file ${file} does not exist or cannot be opened. Check the path and that the file is still there.`, {
+      cause,
+    }),
 
-  notAFile: (file: string) =>
-    new ScanError("unreadable", `${file} is a folder, not a file. Choose the scan file itself.`),
+  notAFile: (file: string) => new ScanError("unreadable", `${file} is a folder, not a file. Choose the scan file itself.`),
 
   /** `what` names the content, e.g. "plain text" or "a PDF document". */
   notImage: (what: string) =>

@@ -37,11 +37,7 @@ export async function openScanFile(file: string): Promise<FileHandle> {
  * unsupported, truncated (container shorter than its own header says), unreadable or too_large.
  * Example: inspectScan("a.tif", fh, 500e6) → { sizeBytes: 1234, format: "tiff", meta }.
  */
-export async function inspectScan(
-  file: string,
-  fh: FileHandle,
-  maxPixels: number,
-): Promise<Inspected> {
+export async function inspectScan(file: string, fh: FileHandle, maxPixels: number): Promise<Inspected> {
   const sizeBytes = (await fh.stat()).size;
   if (sizeBytes === 0) throw scanErrors.empty();
 
@@ -50,8 +46,7 @@ export async function inspectScan(
   if (sniffed.kind === "not-image") throw scanErrors.notImage(sniffed.what);
   if (sniffed.kind === "other-image") throw scanErrors.unsupported(sniffed.what);
   const format = sniffed.format;
-  if (endsBeforeItsHeaderSays(format, head, sizeBytes))
-    throw scanErrors.truncated(format, sizeBytes);
+  if (endsBeforeItsHeaderSays(format, head, sizeBytes)) throw scanErrors.truncated(format, sizeBytes);
 
   let meta: Metadata;
   try {
@@ -62,15 +57,11 @@ export async function inspectScan(
     throw scanErrors.badHeader(format, decoderDetail(err), err);
   }
   if (meta.format !== format) {
-    throw scanErrors.badHeader(
-      format,
-      `the decoder sees ${meta.format ?? "no known format"} instead`,
-    );
+    throw scanErrors.badHeader(format, `the decoder sees ${meta.format ?? "no known format"} instead`);
   }
   const width = meta.width ?? 0;
   const height = meta.height ?? 0;
-  if (!(width > 0 && height > 0))
-    throw scanErrors.badHeader(format, `the header gives a size of ${width} × ${height} px`);
+  if (!(width > 0 && height > 0)) throw scanErrors.badHeader(format, `the header gives a size of ${width} × ${height} px`);
   if (width * height > maxPixels) throw scanErrors.tooLarge(width, height, maxPixels);
   return { sizeBytes, format, meta };
 }
@@ -97,12 +88,7 @@ export function endsBeforeItsHeaderSays(format: ScanFormat, head: Buffer, sizeBy
  * Turns a decoder failure during a full decode into a ScanError: over the pixel limit → too_large,
  * the file gone → unreadable, anything else → truncated (the header was fine, the data was not).
  */
-export function decodeError(
-  err: unknown,
-  file: string,
-  inspected: Inspected,
-  maxPixels: number,
-): ScanError {
+export function decodeError(err: unknown, file: string, inspected: Inspected, maxPixels: number): ScanError {
   if (err instanceof ScanError) return err;
   if (isPixelLimitError(err)) {
     return scanErrors.tooLarge(inspected.meta.width ?? 0, inspected.meta.height ?? 0, maxPixels);

@@ -52,10 +52,7 @@ function checkEdge(name: string, value: number): number {
 export async function writeFileAtomic(target: string, data: Buffer): Promise<void> {
   const dir = path.dirname(target);
   await fs.mkdir(dir, { recursive: true });
-  const temp = path.join(
-    dir,
-    `.${path.basename(target)}.${process.pid}.${randomBytes(6).toString("hex")}.tmp`,
-  );
+  const temp = path.join(dir, `.${path.basename(target)}.${process.pid}.${randomBytes(6).toString("hex")}.tmp`);
   try {
     const fh = await fs.open(temp, "wx");
     try {

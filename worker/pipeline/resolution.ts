@@ -52,11 +52,7 @@ export function resolutionFromTiffFields(
  * resolution), 1 = dots per inch, 2 = dots per cm; a density of 0 is invalid.
  * Example: (2, 118, 118) → { x: 299.72, y: 299.72 }.
  */
-export function resolutionFromJfif(
-  units: number,
-  xDensity: number,
-  yDensity: number,
-): Resolution | null {
+export function resolutionFromJfif(units: number, xDensity: number, yDensity: number): Resolution | null {
   if (!valid(xDensity) || !valid(yDensity)) return null;
   if (units === 1) return { x: xDensity, y: yDensity, origin: "jfif" };
   if (units === 2)
@@ -73,11 +69,7 @@ export function resolutionFromJfif(
  * values give only the pixel aspect ratio (not a resolution).
  * Example: (11811, 11811, 1) → { x: 299.9994, y: 299.9994 }.
  */
-export function resolutionFromPhys(
-  xPerUnit: number,
-  yPerUnit: number,
-  unit: number,
-): Resolution | null {
+export function resolutionFromPhys(xPerUnit: number, yPerUnit: number, unit: number): Resolution | null {
   if (unit !== 1 || !valid(xPerUnit) || !valid(yPerUnit)) return null;
   return { x: roundDpi(ppmToDpi(xPerUnit)), y: roundDpi(ppmToDpi(yPerUnit)), origin: "png-phys" };
 }
@@ -114,15 +106,9 @@ function tiffPayload(exif: Buffer): Buffer {
 async function fromExif(exif: Buffer | undefined): Promise<Resolution | null> {
   if (!exif || exif.length < 8) return null;
   try {
-    const tags = (await exifr.parse(tiffPayload(exif), IFD0_RESOLUTION)) as
-      ResolutionFields | undefined;
+    const tags = (await exifr.parse(tiffPayload(exif), IFD0_RESOLUTION)) as ResolutionFields | undefined;
     if (!tags) return null;
-    return resolutionFromTiffFields(
-      tags.XResolution,
-      tags.YResolution,
-      tags.ResolutionUnit,
-      "exif",
-    );
+    return resolutionFromTiffFields(tags.XResolution, tags.YResolution, tags.ResolutionUnit, "exif");
   } catch {
     return null; // a damaged EXIF block is not a reason to refuse the scan; fall back
   }
@@ -149,16 +135,8 @@ export async function readEmbeddedResolution(input: ResolutionInputs): Promise<R
   switch (input.format) {
     case "tiff": {
       try {
-        const tags = (await exifr.parse(input.file, IFD0_RESOLUTION)) as
-          ResolutionFields | undefined;
-        return tags
-          ? resolutionFromTiffFields(
-              tags.XResolution,
-              tags.YResolution,
-              tags.ResolutionUnit,
-              "tiff",
-            )
-          : null;
+        const tags = (await exifr.parse(input.file, IFD0_RESOLUTION)) as ResolutionFields | undefined;
+        return tags ? resolutionFromTiffFields(tags.XResolution, tags.YResolution, tags.ResolutionUnit, "tiff") : null;
       } catch {
         // exifr does not walk every TIFF (BigTIFF, for one). libvips reports density in DPI
         // but only with a real unit: for unit 1 it leaves resolutionUnit out.

@@ -27,8 +27,7 @@ export async function looksUnfinished(file: string): Promise<string | null> {
     const head = await readAt(fh, 0, SNIFF_BYTES);
     const found = sniff(head);
     if (found.kind !== "scan") return null;
-    if (endsBeforeItsHeaderSays(found.format, head, size))
-      return `the ${found.format.toUpperCase()} header points past its end`;
+    if (endsBeforeItsHeaderSays(found.format, head, size)) return `the ${found.format.toUpperCase()} header points past its end`;
     if (found.format === "jpeg") return await jpegUnfinished(fh, size);
     if (found.format === "png") return await pngUnfinished(fh, size);
     if (found.format === "tiff") return await tiffUnfinished(fh, head, size);
@@ -117,7 +116,8 @@ async function nextMarkerAfterScanData(fh: FileHandle, from: number, size: numbe
       i = chunk.indexOf(0xff, i + 2);
     }
     if (i < 0) pos += chunk.length;
-    else if (chunk.length === 1) return -1; // the file's last byte is an FF: what follows is not there yet
+    else if (chunk.length === 1)
+      return -1; // the file's last byte is an FF: what follows is not there yet
     else pos += i; // an FF as the chunk's last byte: read again from it, with the byte after it
   }
   return -1;
@@ -230,7 +230,10 @@ async function tiffUnfinished(fh: FileHandle, head: Buffer, size: number): Promi
   if (!offsets || !counts) return null; // no image data fields: malformed
   const pieces = strips ? "strip" : "tile";
   if (offsets.count !== counts.count || offsets.count === 0 || offsets.count > TIFF_MAX_PIECES) return null;
-  for (const [name, f] of [[`${pieces} offsets`, offsets], [`${pieces} byte counts`, counts]] as const) {
+  for (const [name, f] of [
+    [`${pieces} offsets`, offsets],
+    [`${pieces} byte counts`, counts],
+  ] as const) {
     if (f.type !== TIFF_SHORT && f.type !== TIFF_LONG) return null;
     const end = f.at + f.count * (f.type === TIFF_SHORT ? 2 : 4);
     if (end > TIFF_CLASSIC_LIMIT) return null;
@@ -257,23 +260,14 @@ async function tiffUnfinished(fh: FileHandle, head: Buffer, size: number): Promi
 }
 
 /** `k` values of a SHORT or LONG list from index `first`, or null if the file ended first. */
-async function readList(
-  fh: FileHandle,
-  f: TiffField,
-  first: number,
-  k: number,
-  le: boolean,
-): Promise<number[] | null> {
+async function readList(fh: FileHandle, f: TiffField, first: number, k: number, le: boolean): Promise<number[] | null> {
   const width = f.type === TIFF_SHORT ? 2 : 4;
   const bytes = await readAt(fh, f.at + first * width, k * width);
   if (bytes.length < k * width) return null;
   const out = new Array<number>(k);
   for (let i = 0; i < k; i++) {
     const at = i * width;
-    out[i] =
-      width === 2
-        ? le ? bytes.readUInt16LE(at) : bytes.readUInt16BE(at)
-        : le ? bytes.readUInt32LE(at) : bytes.readUInt32BE(at);
+    out[i] = width === 2 ? (le ? bytes.readUInt16LE(at) : bytes.readUInt16BE(at)) : le ? bytes.readUInt32LE(at) : bytes.readUInt32BE(at);
   }
   return out;
 }

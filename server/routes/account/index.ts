@@ -32,7 +32,10 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
     limit: cfg.mail.resetLimit,
     standardHeaders: "draft-8",
     legacyHeaders: false,
-    keyGenerator: (req) => `${ipKeyGenerator(req.ip ?? "")}|${String((req.body as { email?: unknown })?.email ?? "").trim().toLowerCase()}`,
+    keyGenerator: (req) =>
+      `${ipKeyGenerator(req.ip ?? "")}|${String((req.body as { email?: unknown })?.email ?? "")
+        .trim()
+        .toLowerCase()}`,
     handler: refuse,
   });
   const perAddress = rateLimit({

@@ -66,7 +66,10 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
       if (!user) {
         const message = info?.message ?? "Wrong e-mail or password.";
         // The address tried is kept (never the password), with the account it names, if any.
-        const tried = String((req.body as { email?: unknown } | undefined)?.email ?? "").trim().toLowerCase().slice(0, 320);
+        const tried = String((req.body as { email?: unknown } | undefined)?.email ?? "")
+          .trim()
+          .toLowerCase()
+          .slice(0, 320);
         void findUserByEmail(deps.database.db, tried)
           .then((known) =>
             recordAudit(
@@ -100,7 +103,12 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
   handle(router, API.login, () => undefined, [wellFormed, addressLimiter, limiter, authenticate]);
 
   handle(router, API.logout, async ({ req, res, user }) => {
-    await recordAudit(deps.database.db, { action: "auth.sign_out", subjectType: "user", subjectId: user.id, summary: `${user.email} signed out` });
+    await recordAudit(deps.database.db, {
+      action: "auth.sign_out",
+      subjectType: "user",
+      subjectId: user.id,
+      summary: `${user.email} signed out`,
+    });
     return new Promise<void>((resolve, reject) => {
       req.logOut((err) => {
         if (err) return reject(err);

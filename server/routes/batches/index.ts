@@ -5,7 +5,15 @@ import { ZipArchive } from "archiver";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
 import { conflict } from "../../errors";
-import { batchDetail, batchFiles, cancelBatch, createOutputBatch, estimateBatch, rerunBatch, retryFailed } from "../../services/output-batches";
+import {
+  batchDetail,
+  batchFiles,
+  cancelBatch,
+  createOutputBatch,
+  estimateBatch,
+  rerunBatch,
+  retryFailed,
+} from "../../services/output-batches";
 import { getBatch, listBatches } from "../../services/batches";
 import type { AppDeps } from "../../app";
 import type { Storage } from "../../storage/storage";
@@ -102,7 +110,11 @@ export function batchesRouter({ config, database, boss, library }: AppDeps): Rou
   });
   handle(router, API.batchesItemThumb, async ({ params, query, user, req, res }) => {
     const out = await batchItemOutput(db, params.id, params.itemId, user.role);
-    await sendOutputThumb(req, res, library, out, { maxPixels: config.maxPixels, what: "This output's picture", edge: query.edge as 320 | 1024 });
+    await sendOutputThumb(req, res, library, out, {
+      maxPixels: config.maxPixels,
+      what: "This output's picture",
+      edge: query.edge as 320 | 1024,
+    });
   });
 
   // A zip streamed straight to the response (never built in memory), with a CSV of every output.
@@ -115,7 +127,22 @@ export function batchesRouter({ config, database, boss, library }: AppDeps): Rou
     res.attachment(`${safe}.zip`);
     const zip = new ZipArchive({ zlib: { level: 6 } });
     zip.pipe(res);
-    const header = ["title", "scan", "fragment", "preset", "file", "width_px", "height_px", "printed_width_in", "printed_height_in", "printed_width_cm", "printed_height_cm", "effective_dpi", "warnings", "sha256"];
+    const header = [
+      "title",
+      "scan",
+      "fragment",
+      "preset",
+      "file",
+      "width_px",
+      "height_px",
+      "printed_width_in",
+      "printed_height_in",
+      "printed_width_cm",
+      "printed_height_cm",
+      "effective_dpi",
+      "warnings",
+      "sha256",
+    ];
     const lines = [header.join(",")];
     const taken = new Set(["outputs.csv", "rights-notice.txt"]);
     // One file at a time from the library (a folder or a bucket), hashed on its way into the zip.

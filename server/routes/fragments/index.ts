@@ -63,13 +63,7 @@ export function fragmentsRouter(deps: AppDeps): Router {
     plan: await fragmentFilesPlan(db, params.id),
   }));
   handle(router, API.fragmentsFilesDelete, async ({ params, query, user, req }) =>
-    deleteFragmentFiles(
-      { database, boss, library, offsite, log: req.log },
-      user,
-      params.id,
-      query.upTo,
-      query.offsite,
-    ),
+    deleteFragmentFiles({ database, boss, library, offsite, log: req.log }, user, params.id, query.upTo, query.offsite),
   );
   handle(router, API.fragmentsReset, async ({ params, user }) => ({
     fragment: await resetFragment(database, boss, user, params.id),
@@ -80,10 +74,7 @@ export function fragmentsRouter(deps: AppDeps): Router {
 
   handle(router, API.fragmentsThumb, async ({ params, user, req, res }) => {
     const f = await getFragment(db, params.id, user.role);
-    const [row] = await db
-      .select({ previewKey: scans.previewKey, width: scans.width })
-      .from(scans)
-      .where(eq(scans.id, f.scanId));
+    const [row] = await db.select({ previewKey: scans.previewKey, width: scans.width }).from(scans).where(eq(scans.id, f.scanId));
     const key = await fragmentThumb(library, f, row!);
     await sendStored(req, res, library, key, {
       what: "The fragment's picture",
@@ -100,8 +91,7 @@ export function fragmentsRouter(deps: AppDeps): Router {
       .from(outputs)
       .innerJoin(fragments, eq(fragments.id, outputs.fragmentId))
       .where(and(eq(outputs.fragmentId, f.id), eq(outputs.kind, params.kind)));
-    if (!out || !row)
-      throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
+    if (!out || !row) throw notFound(`The ${params.kind} file of this fragment (it is not rendered yet)`);
     await sendStored(req, res, library, row.key, {
       what: `The ${params.kind} file of this fragment`,
       downloadName: out.fileName,

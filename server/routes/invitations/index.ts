@@ -1,7 +1,14 @@
 import { Router, type Request } from "express";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
-import { acceptInvitation, createInvitation, listInvitations, previewInvitation, resendInvitation, revokeInvitation } from "../../services/invitations";
+import {
+  acceptInvitation,
+  createInvitation,
+  listInvitations,
+  previewInvitation,
+  resendInvitation,
+  revokeInvitation,
+} from "../../services/invitations";
 import { presentSessionUser } from "../../presenters/user";
 import type { AppDeps } from "../../app";
 import type { Mailer } from "../../mail/mailer";

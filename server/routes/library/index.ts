@@ -19,8 +19,13 @@ export function libraryRouter(deps: AppDeps): Router {
   handle(router, API.library, async (): Promise<LibraryOverview> => {
     let offsite: LibraryOverview["offsite"] = null;
     if (deps.offsite) {
-      const { rows } = await db.execute<{ status: string; n: number }>(sql`select status, count(*)::int as n from offsite_copies group by status`);
-      offsite = { target: deps.offsite.description.replace(/^the bucket /, ""), counts: Object.fromEntries(rows.map((r) => [r.status, r.n])) };
+      const { rows } = await db.execute<{ status: string; n: number }>(
+        sql`select status, count(*)::int as n from offsite_copies group by status`,
+      );
+      offsite = {
+        target: deps.offsite.description.replace(/^the bucket /, ""),
+        counts: Object.fromEntries(rows.map((r) => [r.status, r.n])),
+      };
     }
     const kept = await db.execute<{ id: string; title: string | null; position: number; scan: string; files: number; bytes: string }>(sql`
       select f.id, f.title, f.position, s.original_name as scan, count(o.id)::int as files, sum(o.bytes)::bigint as bytes
@@ -50,7 +55,9 @@ export function libraryRouter(deps: AppDeps): Router {
     };
   });
   handle(router, API.libraryTidy, async ({ body, req, user }) => {
-    const report = body.dryRun ? await tidyLibrary(db, deps.library, { dryRun: true }) : await runTidy(db, deps.library, user.id, { allowLarge: body.allowLarge, upTo: body.upTo });
+    const report = body.dryRun
+      ? await tidyLibrary(db, deps.library, { dryRun: true })
+      : await runTidy(db, deps.library, user.id, { allowLarge: body.allowLarge, upTo: body.upTo });
     if (report.held) throw conflict(`${report.removed ? "No left-over file was removed." : "Nothing was removed."} ${report.caution}`);
     req.log.info({ removed: report.removed, bytes: report.removedBytes, dryRun: report.dryRun }, "library tidied");
     if (!report.dryRun)
@@ -80,7 +87,10 @@ export function libraryRouter(deps: AppDeps): Router {
     const busy = new Set(waiting.map((w) => w.key));
     const fresh = unknown.filter((k) => !busy.has(k));
     await withTx(deps.database, deps.boss, async (tx) => {
-      await tx.sendMany(QUEUES.libraryRefile, fresh.map((key) => ({ key, actorId: user.id, actorEmail: user.email })));
+      await tx.sendMany(
+        QUEUES.libraryRefile,
+        fresh.map((key) => ({ key, actorId: user.id, actorEmail: user.email })),
+      );
       await recordAudit(tx, {
         action: "library.refile",
         subjectType: "studio",

@@ -2,12 +2,7 @@ import { Router } from "express";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
 import { getFragment } from "../../services/fragments";
-import {
-  fragmentOffsite,
-  queueCheckAll,
-  recheckFragment,
-  recopyFragment,
-} from "../../services/offsite";
+import { fragmentOffsite, queueCheckAll, recheckFragment, recopyFragment } from "../../services/offsite";
 import type { AppDeps } from "../../app";
 import { recordAudit } from "../../services/audit";
 import { keptCopyForDownload, listKeptCopies, removeKeptCopy } from "../../services/offsite-kept";
@@ -27,10 +22,7 @@ export function offsiteRouter(deps: AppDeps): Router {
   handle(router, API.fragmentsOffsiteCheck, async ({ params, user, req }) => {
     await getFragment(db, params.id, user.role);
     const result = await recheckFragment(deps, params.id);
-    req.log.info(
-      { fragmentId: params.id, status: result.copy?.status },
-      "off-site copy re-checked",
-    );
+    req.log.info({ fragmentId: params.id, status: result.copy?.status }, "off-site copy re-checked");
     await recordAudit(db, {
       action: "offsite.check",
       subjectType: "fragment",

@@ -2,14 +2,7 @@ import { Router } from "express";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
 import { badRequest, notFound } from "../../errors";
-import {
-  getScan,
-  getScanRow,
-  listScans,
-  restoreScanResolution,
-  retryScan,
-  setScanResolution,
-} from "../../services/scans";
+import { getScan, getScanRow, listScans, restoreScanResolution, retryScan, setScanResolution } from "../../services/scans";
 import { getStudioSettings } from "../../services/studio";
 import { intakeFile } from "../../services/intake";
 import { cleanFileName, removeTemps, sniffUploads, uploadMiddleware } from "./upload";
@@ -29,11 +22,7 @@ export function scansRouter(deps: AppDeps): Router {
     API.scansUpload,
     async ({ req, res, user }) => {
       const files = (req.files as Express.Multer.File[] | undefined) ?? [];
-      if (!files.length)
-        throw badRequest(
-          'Expected one or more files in the "files" field but received none.',
-          "files",
-        );
+      if (!files.length) throw badRequest('Expected one or more files in the "files" field but received none.', "files");
       try {
         await sniffUploads(files);
         const results = [];
@@ -71,15 +60,7 @@ export function scansRouter(deps: AppDeps): Router {
 
   const sendImage =
     (which: "previewKey" | "thumbKey") =>
-    async ({
-      params,
-      req,
-      res,
-    }: {
-      params: { id: string };
-      req: import("express").Request;
-      res: import("express").Response;
-    }) => {
+    async ({ params, req, res }: { params: { id: string }; req: import("express").Request; res: import("express").Response }) => {
       const row = await getScanRow(db, params.id);
       const key = row[which];
       if (!key) throw notFound("The preview of this scan (it is not analysed yet)");
@@ -96,12 +77,7 @@ export function scansRouter(deps: AppDeps): Router {
     scan: await setScanResolution(database, boss, params.id, body),
   }));
   handle(router, API.scansRestoreResolution, async ({ params }) => ({
-    scan: await restoreScanResolution(
-      database,
-      boss,
-      params.id,
-      (await getStudioSettings(db, config)).defaultDpi,
-    ),
+    scan: await restoreScanResolution(database, boss, params.id, (await getStudioSettings(db, config)).defaultDpi),
   }));
 
   handle(router, API.scansRetry, async ({ params, req }) => {

@@ -29,7 +29,9 @@ export function uploadMiddleware(tempDir: string, maxBytes: number): RequestHand
       if (!err || err instanceof multer.MulterError) return next(err);
       // An error with a system code (a full disk, a missing folder) is ours, not the sender's.
       if (err instanceof Error && !(err as NodeJS.ErrnoException).code) {
-        return next(badRequest(`Upload refused: the form data is malformed (${err.message.replace(/^Multipart: /, "")}). Send the files again.`));
+        return next(
+          badRequest(`Upload refused: the form data is malformed (${err.message.replace(/^Multipart: /, "")}). Send the files again.`),
+        );
       }
       next(err);
     });

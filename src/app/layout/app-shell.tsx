@@ -19,25 +19,14 @@ interface NavItem {
 
 const icon = (d: string) => (
   <svg viewBox="0 0 20 20" className="size-4 shrink-0" aria-hidden="true">
-    <path
-      d={d}
-      fill="none"
-      stroke="currentColor"
-      strokeWidth="1.6"
-      strokeLinecap="round"
-      strokeLinejoin="round"
-    />
+    <path d={d} fill="none" stroke="currentColor" strokeWidth="1.6" strokeLinecap="round" strokeLinejoin="round" />
   </svg>
 );
 
 const QUEUE_ICON = icon("M3 5h14M3 10h10M3 15h6");
 const SCANS_ICON = icon("M3.5 4.5h13v11h-13zM6 12l3-3 2.5 2.5L13 10l2 2");
-const WORK_ICON = icon(
-  "M3.5 3.5h5.5v5.5H3.5zM11 3.5h5.5v5.5H11zM3.5 11h5.5v5.5H3.5zM11 11h5.5v5.5H11z",
-);
-const RECIPES_ICON = icon(
-  "M10 3.5c2.8 3.6 4.5 6 4.5 8.5a4.5 4.5 0 0 1-9 0c0-2.5 1.7-4.9 4.5-8.5ZM8 12.5a2 2 0 0 0 2 2",
-);
+const WORK_ICON = icon("M3.5 3.5h5.5v5.5H3.5zM11 3.5h5.5v5.5H11zM3.5 11h5.5v5.5H3.5zM11 11h5.5v5.5H11z");
+const RECIPES_ICON = icon("M10 3.5c2.8 3.6 4.5 6 4.5 8.5a4.5 4.5 0 0 1-9 0c0-2.5 1.7-4.9 4.5-8.5ZM8 12.5a2 2 0 0 0 2 2");
 const PRESETS_ICON = icon("M4 3.5h8l4 4v9H4zM12 3.5v4h4M7 11h6M7 14h4");
 const BATCHES_ICON = icon("M3.5 6.5h13v10h-13zM5.5 4h9M7.5 1.5h5");
 const USERS_ICON = icon(
@@ -61,12 +50,8 @@ export function AppShell({ user, children }: { user: SessionUser; children: Reac
     { to: paths.queue, label: "Queue", icon: QUEUE_ICON },
     { to: paths.scans, label: "Scans", icon: SCANS_ICON },
     { to: paths.work, label: "Approved work", icon: WORK_ICON },
-    ...(hasRole(user.role, "operator")
-      ? [{ to: paths.recipes, label: "Recipes", icon: RECIPES_ICON }]
-      : []),
-    ...(hasRole(user.role, "operator")
-      ? [{ to: paths.presets, label: "Presets", icon: PRESETS_ICON }]
-      : []),
+    ...(hasRole(user.role, "operator") ? [{ to: paths.recipes, label: "Recipes", icon: RECIPES_ICON }] : []),
+    ...(hasRole(user.role, "operator") ? [{ to: paths.presets, label: "Presets", icon: PRESETS_ICON }] : []),
     { to: paths.batches, label: "Batches", icon: BATCHES_ICON },
     ...(hasRole(user.role, "admin") ? [{ to: paths.users, label: "Users", icon: USERS_ICON }] : []),
     ...(hasRole(user.role, "admin") ? [{ to: paths.audit, label: "Audit trail", icon: AUDIT_ICON }] : []),
@@ -90,17 +75,13 @@ export function AppShell({ user, children }: { user: SessionUser; children: Reac
           <div className="px-6 pt-7 pb-6">
             <div className="flex items-center gap-2.5">
               <BrandMark />
-              <span className="text-xs font-semibold tracking-[0.18em] text-ink-muted uppercase">
-                Platen
-              </span>
+              <span className="text-xs font-semibold tracking-[0.18em] text-ink-muted uppercase">Platen</span>
             </div>
             <p className="mt-3 text-base leading-snug font-semibold text-ink" aria-label="Studio">
               {studio.data?.name ?? " "}
             </p>
             {studio.data?.demo && (
-              <p className="mt-1 inline-block rounded bg-ochre-soft px-1.5 py-0.5 text-[11px] font-medium text-ochre">
-                Demo studio
-              </p>
+              <p className="mt-1 inline-block rounded bg-ochre-soft px-1.5 py-0.5 text-[11px] font-medium text-ochre">Demo studio</p>
             )}
           </div>
           <nav aria-label="Main" className="flex-1 px-3">
@@ -133,22 +114,12 @@ export function AppShell({ user, children }: { user: SessionUser; children: Reac
               {user.name}
             </p>
             <p className="mt-0.5 truncate text-xs text-ink-muted">
-              <span className="font-medium text-ink-soft">{ROLE_LABELS[user.role]}</span> ·{" "}
-              {user.email}
+              <span className="font-medium text-ink-soft">{ROLE_LABELS[user.role]}</span> · {user.email}
             </p>
-            <NavLink
-              to={paths.account}
-              className="mt-2 block text-xs font-medium text-accent hover:underline"
-            >
+            <NavLink to={paths.account} className="mt-2 block text-xs font-medium text-accent hover:underline">
               Your account and notices
             </NavLink>
-            <Button
-              size="sm"
-              variant="secondary"
-              className="mt-3 w-full"
-              onClick={signOut}
-              busy={logout.isPending}
-            >
+            <Button size="sm" variant="secondary" className="mt-3 w-full" onClick={signOut} busy={logout.isPending}>
               Sign out
             </Button>
           </div>

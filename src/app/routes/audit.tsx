@@ -13,9 +13,7 @@ import { useUsers } from "../../features/users/api/get-users";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
 import { cn } from "../../lib/cn";
 
-const Key = ({ children }: { children: string }) => (
-  <kbd className="figure rounded border border-paper-300 bg-white px-1">{children}</kbd>
-);
+const Key = ({ children }: { children: string }) => <kbd className="figure rounded border border-paper-300 bg-white px-1">{children}</kbd>;
 
 export function AuditRoute() {
   const me = useSessionUser();
@@ -40,10 +38,7 @@ function AuditPage() {
         description="Who changed what in this studio, and when, with the values before and after. Nothing here can be edited."
       />
       <div className="grid grid-cols-1 items-start gap-6 xl:grid-cols-[minmax(0,1.75fr)_minmax(22rem,1fr)]">
-        <section
-          aria-label="Events"
-          className="rounded-xl border border-paper-300 bg-paper-50 shadow-sheet"
-        >
+        <section aria-label="Events" className="rounded-xl border border-paper-300 bg-paper-50 shadow-sheet">
           <div className="border-b border-paper-200 px-5 pt-4 pb-5">
             <AuditFiltersBar
               filters={filters}
@@ -53,8 +48,7 @@ function AuditPage() {
             />
             {filters.subjectId && (
               <p className="mt-3 text-xs text-ink-soft">
-                Showing one {filters.subjectType ?? "subject"} only{" "}
-                <span className="figure text-ink-muted">({filters.subjectId})</span> ·{" "}
+                Showing one {filters.subjectType ?? "subject"} only <span className="figure text-ink-muted">({filters.subjectId})</span> ·{" "}
                 <button
                   type="button"
                   className="font-medium text-accent hover:underline"
@@ -75,9 +69,7 @@ function AuditPage() {
             </div>
           ) : events.length === 0 ? (
             <div className="px-5 py-6">
-              <EmptyNote>
-                {filtered ? "No events match these filters." : "Nothing has been recorded yet."}
-              </EmptyNote>
+              <EmptyNote>{filtered ? "No events match these filters." : "Nothing has been recorded yet."}</EmptyNote>
             </div>
           ) : (
             <>
@@ -93,8 +85,8 @@ function AuditPage() {
               />
               <footer className="flex items-center justify-between gap-4 px-5 py-3 text-xs text-ink-muted">
                 <span>
-                  <Key>j</Key> <Key>k</Key> or arrows to move, <Key>Enter</Key> to open what it is
-                  about, <Key>/</Key> to search, <Key>Esc</Key> to close
+                  <Key>j</Key> <Key>k</Key> or arrows to move, <Key>Enter</Key> to open what it is about, <Key>/</Key> to search,{" "}
+                  <Key>Esc</Key> to close
                 </span>
                 <span className="flex items-center gap-3">
                   <span className="figure" aria-live="polite">
@@ -102,11 +94,7 @@ function AuditPage() {
                     {list.hasNextPage ? " so far" : ""}
                   </span>
                   {list.hasNextPage && (
-                    <Button
-                      size="sm"
-                      busy={list.isFetchingNextPage}
-                      onClick={() => void list.fetchNextPage()}
-                    >
+                    <Button size="sm" busy={list.isFetchingNextPage} onClick={() => void list.fetchNextPage()}>
                       Load older
                     </Button>
                   )}
@@ -136,9 +124,7 @@ function AuditPage() {
           {filters.eventId ? (
             <AuditDetail id={filters.eventId} preview={selected} />
           ) : (
-            <p className="text-sm text-ink-muted">
-              Pick an event to see who made it, from where, and each changed field before and after.
-            </p>
+            <p className="text-sm text-ink-muted">Pick an event to see who made it, from where, and each changed field before and after.</p>
           )}
         </aside>
       </div>

@@ -23,10 +23,7 @@ export function FragmentRoute() {
     );
   }
   if (fragment.isError) {
-    if (
-      fragment.error instanceof ApiError &&
-      (fragment.error.status === 404 || fragment.error.status === 400)
-    ) {
+    if (fragment.error instanceof ApiError && (fragment.error.status === 404 || fragment.error.status === 400)) {
       return (
         <NotFoundRoute
           title="No fragment at this address"
@@ -61,9 +58,7 @@ export function FragmentRoute() {
         )}
       </nav>
       <div className="mb-6 flex flex-wrap items-center gap-4">
-        <h1 className="min-w-0 text-2xl font-semibold tracking-tight [overflow-wrap:anywhere] text-ink">
-          {fragmentName(f)}
-        </h1>
+        <h1 className="min-w-0 text-2xl font-semibold tracking-tight [overflow-wrap:anywhere] text-ink">{fragmentName(f)}</h1>
         {isOperator && <FragmentStatusBadge status={f.status} />}
       </div>
       <div className="grid grid-cols-1 gap-8 xl:grid-cols-[minmax(0,3fr)_minmax(22rem,2fr)]">

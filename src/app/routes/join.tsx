@@ -16,9 +16,7 @@ export function JoinRoute() {
   if (!token) {
     return (
       <PublicPage title="Invitation" heading="This link is not complete">
-        <Notice tone="error">
-          Open the invitation again from the message, or copy its whole address into the browser.
-        </Notice>
+        <Notice tone="error">Open the invitation again from the message, or copy its whole address into the browser.</Notice>
       </PublicPage>
     );
   }
@@ -33,7 +31,15 @@ export function JoinRoute() {
   }
   if (preview.isError) {
     return (
-      <PublicPage title="Invitation" heading="This invitation cannot be used" below={<Link className="font-medium text-accent hover:underline" to={paths.signIn}>Go to sign-in</Link>}>
+      <PublicPage
+        title="Invitation"
+        heading="This invitation cannot be used"
+        below={
+          <Link className="font-medium text-accent hover:underline" to={paths.signIn}>
+            Go to sign-in
+          </Link>
+        }
+      >
         <Notice tone="error">{preview.error.message}</Notice>
       </PublicPage>
     );
@@ -43,7 +49,9 @@ export function JoinRoute() {
     <PublicPage
       title={`Join ${invitation.studio}`}
       heading={`Join ${invitation.studio}`}
-      subheading={invitation.invitedBy ? `${invitation.invitedBy} invited you to the studio's Platen` : "You are invited to the studio's Platen"}
+      subheading={
+        invitation.invitedBy ? `${invitation.invitedBy} invited you to the studio's Platen` : "You are invited to the studio's Platen"
+      }
     >
       <AcceptInviteForm token={token} invitation={invitation} onAccepted={() => navigate("/", { replace: true })} />
     </PublicPage>

@@ -30,10 +30,7 @@ function LibraryPage() {
   return (
     <>
       <title>Library · Platen</title>
-      <PageHeader
-        title="Library"
-        description="Where the studio's files are kept, and the files nothing needs any more."
-      />
+      <PageHeader title="Library" description="Where the studio's files are kept, and the files nothing needs any more." />
       {library.isPending ? (
         <p className="flex items-center gap-2 text-sm text-ink-muted">
           <Spinner /> Looking through the library…
@@ -69,9 +66,9 @@ function UnknownOriginals({ count, foreign }: { count: number; foreign: boolean 
   return (
     <div className="rounded-lg border border-paper-300 bg-paper-50 px-3 py-2" data-testid="unknown-originals">
       <p className="text-ink">
-        {plural(count, "original", "originals")} in the library {count === 1 ? "is" : "are"} not known to the
-        database: no scan holds {count === 1 ? "its" : "their"} content. Originals are never removed by the program.
-        This is what a database restored from a backup older than the library leaves.
+        {plural(count, "original", "originals")} in the library {count === 1 ? "is" : "are"} not known to the database: no scan holds{" "}
+        {count === 1 ? "its" : "their"} content. Originals are never removed by the program. This is what a database restored from a backup
+        older than the library leaves.
       </p>
       <div className="mt-2 flex flex-wrap items-center gap-3">
         <Button size="sm" variant="secondary" busy={refile.isPending} onClick={() => setAsking(true)}>
@@ -107,15 +104,14 @@ function UnknownOriginals({ count, foreign }: { count: number; foreign: boolean 
       >
         {foreign && (
           <p className="mb-2 font-medium text-ink">
-            The database names none of the library's originals: it may not be this library's database. Go on only if it
-            is the library's own database, restored from an older backup; otherwise this brings the whole archive into
-            it.
+            The database names none of the library's originals: it may not be this library's database. Go on only if it is the library's own
+            database, restored from an older backup; otherwise this brings the whole archive into it.
           </p>
         )}
         <p>
-          Each becomes a new scan in the current intake, named <span className="figure">filed-again-</span> and the
-          start of its checksum (the file names were in the lost records), to be split, reviewed and approved once more.
-          The originals stay exactly as they are. Scans are never deleted, so this cannot be undone.
+          Each becomes a new scan in the current intake, named <span className="figure">filed-again-</span> and the start of its checksum
+          (the file names were in the lost records), to be split, reviewed and approved once more. The originals stay exactly as they are.
+          Scans are never deleted, so this cannot be undone.
         </p>
       </ConfirmDialog>
     </div>
@@ -130,13 +126,16 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
   const originals = report.folders.find((f) => f.folder === "originals/");
   const masters = report.folders.find((f) => f.folder === "masters/")?.removed ?? 0;
   const run = () =>
-    tidy.mutate({ allowLarge: report.caution !== null, upTo: report.removed }, {
-      onSuccess: (done) => {
-        setAsking(false);
-        toast.success(`Removed ${plural(done.removed, "left-over file", "left-over files")} (${formatBytes(done.removedBytes)}).`);
+    tidy.mutate(
+      { allowLarge: report.caution !== null, upTo: report.removed },
+      {
+        onSuccess: (done) => {
+          setAsking(false);
+          toast.success(`Removed ${plural(done.removed, "left-over file", "left-over files")} (${formatBytes(done.removedBytes)}).`);
+        },
+        onError: () => setAsking(false),
       },
-      onError: () => setAsking(false),
-    });
+    );
   return (
     <Panel
       title="Left-over files"
@@ -148,9 +147,9 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
       }
     >
       <p className="text-sm text-ink-soft">
-        Files that no scan, fragment or output names any more: the small pictures of a fragment before its last
-        edit, the master and copies of a merge taken back, a file a stopped process stored without its record,
-        and the temp files and scratch folders of work a stopped process left unfinished.
+        Files that no scan, fragment or output names any more: the small pictures of a fragment before its last edit, the master and copies
+        of a merge taken back, a file a stopped process stored without its record, and the temp files and scratch folders of work a stopped
+        process left unfinished.
       </p>
       {report.caution && (
         <Notice tone="caution" title="Look before tidying" className="mt-4">
@@ -166,15 +165,15 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
         </p>
         {young > 0 && (
           <p className="text-ink-muted">
-            {plural(young, "left-over file is", "left-over files are")} younger than {report.graceHours} hours and
-            kept for now: a file is written a moment before the record that names it.
+            {plural(young, "left-over file is", "left-over files are")} younger than {report.graceHours} hours and kept for now: a file is
+            written a moment before the record that names it.
           </p>
         )}
         {originals && originals.leftOver > report.unknownOriginals && (
           <p className="text-ink-muted">
             {plural(originals.leftOver - report.unknownOriginals, "original", "originals")} that no scan names
-            {originals.leftOver - report.unknownOriginals === 1 ? " holds" : " hold"} content a scan has under another
-            name: spare copies, kept (originals are never removed by the program).
+            {originals.leftOver - report.unknownOriginals === 1 ? " holds" : " hold"} content a scan has under another name: spare copies,
+            kept (originals are never removed by the program).
           </p>
         )}
         {report.unknownOriginals > 0 && <UnknownOriginals count={report.unknownOriginals} foreign={report.foreignDatabase} />}
@@ -203,16 +202,11 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
         onCancel={() => setAsking(false)}
       >
         {report.caution && <p className="mb-2 font-medium text-ink">{report.caution}</p>}
-        {plural(report.removed, "left-over file", "left-over files")} ({formatBytes(report.removedBytes)}) will be
-        removed from the library
+        {plural(report.removed, "left-over file", "left-over files")} ({formatBytes(report.removedBytes)}) will be removed from the library
         {masters > 0 && (
-          <>
-            , among them {plural(masters, "master", "masters")}: the full-resolution file of a fragment that no longer
-            exists
-          </>
+          <>, among them {plural(masters, "master", "masters")}: the full-resolution file of a fragment that no longer exists</>
         )}
-        . No scan, fragment or output uses them, and originals are never touched, but removed files cannot be brought
-        back.
+        . No scan, fragment or output uses them, and originals are never touched, but removed files cannot be brought back.
       </ConfirmDialog>
     </Panel>
   );
@@ -244,8 +238,8 @@ function RejectedKept({ kept }: { kept: LibraryOverview["rejectedKept"] }) {
           <p className="text-ink">
             <span className="figure">{kept.pieces}</span> rejected {kept.pieces === 1 ? "piece keeps" : "pieces keep"}{" "}
             <span className="figure">{kept.files}</span> {kept.files === 1 ? "file" : "files"} (
-            <span className="figure">{formatBytes(kept.bytes)}</span>), in case {kept.pieces === 1 ? "it is" : "one is"} approved
-            again. Delete them from {kept.pieces === 1 ? "its" : "each piece's"} page.
+            <span className="figure">{formatBytes(kept.bytes)}</span>), in case {kept.pieces === 1 ? "it is" : "one is"} approved again.
+            Delete them from {kept.pieces === 1 ? "its" : "each piece's"} page.
           </p>
           <ul className="flex flex-col gap-1" aria-label="Largest first">
             {kept.largest.map((f) => (
@@ -296,8 +290,7 @@ function Offsite({ offsite }: { offsite: NonNullable<LibraryOverview["offsite"]>
       </ul>
       {failed > 0 && (
         <Notice tone="caution" className="mt-3">
-          {plural(failed, "master has", "masters have")} no good off-site copy. Each fragment's page says why and can
-          copy it again.
+          {plural(failed, "master has", "masters have")} no good off-site copy. Each fragment's page says why and can copy it again.
         </Notice>
       )}
     </Panel>

@@ -26,10 +26,7 @@ export function NotFoundRoute({
       <p className="figure text-5xl font-medium text-ink-faint">404</p>
       <h1 className="mt-4 text-xl font-semibold text-ink">{title}</h1>
       <p className="mt-2 text-sm text-ink-soft">{message}</p>
-      <Link
-        to={back.to}
-        className="mt-6 inline-block text-sm font-medium text-accent underline underline-offset-2"
-      >
+      <Link to={back.to} className="mt-6 inline-block text-sm font-medium text-accent underline underline-offset-2">
         {back.label}
       </Link>
     </div>

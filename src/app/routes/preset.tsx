@@ -1,11 +1,5 @@
 import { useParams, useSearchParams } from "react-router-dom";
-import {
-  BUILT_IN_PRESETS,
-  masterPresetSchema,
-  mockupPresetSchema,
-  type Preset,
-  type PresetKind,
-} from "../../../shared/schemas/presets";
+import { BUILT_IN_PRESETS, masterPresetSchema, mockupPresetSchema, type Preset, type PresetKind } from "../../../shared/schemas/presets";
 import { Spinner } from "../../components/button";
 import { NotAllowed } from "../../components/not-allowed";
 import { usePreset } from "../../features/presets/api/get-preset";
@@ -15,7 +9,12 @@ import { useHasRole, useSessionUser } from "../../lib/authorization";
 import { RecordNotLoaded } from "./not-found";
 
 const presetNotLoaded = (error: Error, onRetry: () => void) => (
-  <RecordNotLoaded error={error} onRetry={onRetry} title="No preset at this address" back={{ to: paths.presets, label: "Back to the presets" }} />
+  <RecordNotLoaded
+    error={error}
+    onRetry={onRetry}
+    title="No preset at this address"
+    back={{ to: paths.presets, label: "Back to the presets" }}
+  />
 );
 
 /** Where a new preset of each kind starts: the built-in ones, or the schema's defaults. */

@@ -37,9 +37,7 @@ function RecipeApplyPage({ id }: { id: string }) {
   const scanId = params.get("scan") || undefined;
   const rawStatus = params.get("status");
   const status: FragmentStatus | undefined =
-    rawStatus === "any"
-      ? undefined
-      : (FRAGMENT_STATUSES.find((s) => s === rawStatus) ?? "approved");
+    rawStatus === "any" ? undefined : (FRAGMENT_STATUSES.find((s) => s === rawStatus) ?? "approved");
 
   const recipe = useRecipe(id);
   const recipes = useRecipes();
@@ -73,9 +71,7 @@ function RecipeApplyPage({ id }: { id: string }) {
     );
   }
   if (recipe.isError) {
-    return (
-      <RecipeNotLoaded error={recipe.error} onRetry={() => void recipe.refetch()} />
-    );
+    return <RecipeNotLoaded error={recipe.error} onRetry={() => void recipe.refetch()} />;
   }
   const r = recipe.data.recipe;
   const scanName = scanId ? scanList?.find((s) => s.id === scanId)?.originalName : undefined;
@@ -95,27 +91,18 @@ function RecipeApplyPage({ id }: { id: string }) {
         description={
           <>
             Choose fragments to colour with{" "}
-            <Link
-              to={paths.recipe(r.id)}
-              className="font-medium text-accent underline underline-offset-2"
-            >
+            <Link to={paths.recipe(r.id)} className="font-medium text-accent underline underline-offset-2">
               {r.name} v{r.version}
             </Link>
             . Their own recipe choice is replaced; approved ones are re-rendered as a batch.
           </>
         }
       />
-      <div
-        className="mb-5 flex flex-wrap items-end gap-4"
-        role="search"
-        aria-label="Filter fragments"
-      >
+      <div className="mb-5 flex flex-wrap items-end gap-4" role="search" aria-label="Filter fragments">
         <SelectField
           label="Recipe"
           value={r.id}
-          onChange={(e) =>
-            navigate({ pathname: paths.recipeApply(e.target.value), search: params.toString() })
-          }
+          onChange={(e) => navigate({ pathname: paths.recipeApply(e.target.value), search: params.toString() })}
           fieldClassName="w-56"
         >
           {(recipes.data ?? [r]).map((x) => (
@@ -150,12 +137,7 @@ function RecipeApplyPage({ id }: { id: string }) {
             </option>
           ))}
         </SelectField>
-        <SelectField
-          label="Status"
-          value={status ?? "any"}
-          onChange={(e) => setFilter("status", e.target.value)}
-          fieldClassName="w-40"
-        >
+        <SelectField label="Status" value={status ?? "any"} onChange={(e) => setFilter("status", e.target.value)} fieldClassName="w-40">
           {FRAGMENT_STATUSES.map((s) => (
             <option key={s} value={s}>
               {STATUS_OPTIONS[s]}

@@ -43,18 +43,12 @@ function RecipePage({ id }: { id: string }) {
     );
   }
   if (recipe.isError) {
-    return (
-      <RecipeNotLoaded error={recipe.error} onRetry={() => void recipe.refetch()} />
-    );
+    return <RecipeNotLoaded error={recipe.error} onRetry={() => void recipe.refetch()} />;
   }
   return (
     <>
       <title>{`${recipe.data.recipe.name} · Recipes · Platen`}</title>
-      <RecipeEditor
-        detail={recipe.data}
-        candidates={[...(approved.data ?? []), ...(proposed.data ?? [])]}
-        intakes={intakes.data ?? []}
-      />
+      <RecipeEditor detail={recipe.data} candidates={[...(approved.data ?? []), ...(proposed.data ?? [])]} intakes={intakes.data ?? []} />
     </>
   );
 }

@@ -6,10 +6,7 @@ import { Notice } from "../../components/notice";
 import { ProgressBar } from "../../components/progress-bar";
 import { StatusBadge } from "../../components/status-badge";
 import { paths } from "../../config/paths";
-import {
-  ReviewWorkspace,
-  type NextScan,
-} from "../../features/fragments/components/review-workspace";
+import { ReviewWorkspace, type NextScan } from "../../features/fragments/components/review-workspace";
 import { useQueueSummary } from "../../features/queue/api/get-queue";
 import { scanQueryOptions, useScan } from "../../features/scans/api/get-scan";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
@@ -30,9 +27,7 @@ function ScanReview() {
   // the operator goes on once this scan is done.
   const queue = useQueueSummary();
   const waiting = queue.data?.review.scans.find((w) => w.scanId !== id && w.proposed > 0);
-  const nextScan: NextScan | null = waiting
-    ? { id: waiting.scanId, originalName: waiting.originalName, proposed: waiting.proposed }
-    : null;
+  const nextScan: NextScan | null = waiting ? { id: waiting.scanId, originalName: waiting.originalName, proposed: waiting.proposed } : null;
 
   if (!scan.isSuccess) return <ScanNotLoaded scan={scan} />;
   const s = scan.data;
@@ -63,9 +58,7 @@ function ScanReview() {
           scan={s}
           nextScan={nextScan}
           heading={heading}
-          onScanChanged={(next) =>
-            queryClient.setQueryData(scanQueryOptions(next.id).queryKey, next)
-          }
+          onScanChanged={(next) => queryClient.setQueryData(scanQueryOptions(next.id).queryKey, next)}
         />
       ) : (
         <>
@@ -101,10 +94,7 @@ function NotReady({ scan }: { scan: Scan }) {
         {scan.duplicateOf && (
           <>
             :{" "}
-            <Link
-              to={paths.scanReview(scan.duplicateOf.id)}
-              className="font-medium underline underline-offset-2"
-            >
+            <Link to={paths.scanReview(scan.duplicateOf.id)} className="font-medium underline underline-offset-2">
               {scan.duplicateOf.originalName}
             </Link>
           </>
@@ -116,14 +106,9 @@ function NotReady({ scan }: { scan: Scan }) {
   return (
     <div className="max-w-md rounded-xl border border-paper-300 bg-paper-50 px-5 py-4 shadow-sheet">
       <p className="text-sm text-ink">
-        The fragments appear here once the scan is split.{" "}
-        <span className="text-ink-muted">{scan.stage ?? "Waiting for a worker"}</span>
+        The fragments appear here once the scan is split. <span className="text-ink-muted">{scan.stage ?? "Waiting for a worker"}</span>
       </p>
-      <ProgressBar
-        value={scan.progress}
-        label={`Progress for ${scan.originalName}`}
-        className="mt-3"
-      />
+      <ProgressBar value={scan.progress} label={`Progress for ${scan.originalName}`} className="mt-3" />
     </div>
   );
 }

@@ -27,17 +27,12 @@ export function ScanRoute() {
         <span aria-hidden="true" className="mx-2">
           /
         </span>
-        <Link
-          to={`${paths.scans}?intake=${encodeURIComponent(s.intake.id)}`}
-          className="hover:text-accent hover:underline"
-        >
+        <Link to={`${paths.scans}?intake=${encodeURIComponent(s.intake.id)}`} className="hover:text-accent hover:underline">
           {s.intake.name}
         </Link>
       </nav>
       <div className="mb-6 flex flex-wrap items-center gap-4">
-        <h1 className="min-w-0 text-2xl font-semibold tracking-tight [overflow-wrap:anywhere] text-ink">
-          {s.originalName}
-        </h1>
+        <h1 className="min-w-0 text-2xl font-semibold tracking-tight [overflow-wrap:anywhere] text-ink">{s.originalName}</h1>
         <StatusBadge status={s.status} />
         <ReviewState scan={s} canReview={canRetry} />
         <span className="ml-auto flex items-center gap-3">
@@ -66,25 +61,16 @@ export function ScanRoute() {
           tone="error"
           title="Analysis failed"
           className="mb-6"
-          action={
-            canRetry ? <RetryScanButton scanId={s.id} name={s.originalName} errorCode={s.errorCode} size="md" /> : undefined
-          }
+          action={canRetry ? <RetryScanButton scanId={s.id} name={s.originalName} errorCode={s.errorCode} size="md" /> : undefined}
         >
           {s.error ?? "The worker stopped without a message."}{" "}
-          {s.attempts > 0 && (
-            <span className="text-ink-muted">
-              ({s.attempts === 1 ? "1 attempt" : `${s.attempts} attempts`})
-            </span>
-          )}
+          {s.attempts > 0 && <span className="text-ink-muted">({s.attempts === 1 ? "1 attempt" : `${s.attempts} attempts`})</span>}
         </Notice>
       )}
       {s.status === "duplicate" && s.duplicateOf && (
         <Notice tone="caution" title="Duplicate" className="mb-6">
           This file is byte for byte the same as{" "}
-          <Link
-            to={paths.scan(s.duplicateOf.id)}
-            className="font-medium text-ink underline underline-offset-2"
-          >
+          <Link to={paths.scan(s.duplicateOf.id)} className="font-medium text-ink underline underline-offset-2">
             {s.duplicateOf.originalName}
           </Link>
           {s.duplicateOf.status === "failed" ? (
@@ -93,7 +79,10 @@ export function ScanRoute() {
               {canRetry ? "Retry it from its page" : "An operator can retry it"} once the cause is fixed.
             </>
           ) : s.duplicateOf.status === "queued" || s.duplicateOf.status === "analysing" ? (
-            <>, which is being analysed now (a scan that failed is analysed again when its file arrives again). This copy is not analysed twice.</>
+            <>
+              , which is being analysed now (a scan that failed is analysed again when its file arrives again). This copy is not analysed
+              twice.
+            </>
           ) : (
             <>, which is already in the library. It was not analysed again.</>
           )}

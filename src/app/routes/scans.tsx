@@ -28,16 +28,10 @@ export function ScansRoute() {
   return (
     <>
       <title>Scans · Platen</title>
-      <PageHeader
-        title="Scans"
-        description="Every file filed in the library, with the resolution and size read from it."
-      />
+      <PageHeader title="Scans" description="Every file filed in the library, with the resolution and size read from it." />
       {canUpload && <UploadSection currentIntake={currentIntake} />}
 
-      <section
-        aria-label="Scan list"
-        className="@container rounded-xl border border-paper-300 bg-paper-50 shadow-sheet"
-      >
+      <section aria-label="Scan list" className="@container rounded-xl border border-paper-300 bg-paper-50 shadow-sheet">
         <div className="border-b border-paper-200 px-5 pt-4 pb-5">
           <ScanFiltersBar filters={filters} intakes={intakes.data ?? []} onChange={setFilters} />
         </div>
@@ -71,10 +65,8 @@ export function ScansRoute() {
             <footer className="flex items-center justify-between gap-4 px-5 py-3 text-xs text-ink-muted">
               <span>
                 <kbd className="figure rounded border border-paper-300 bg-white px-1">j</kbd>{" "}
-                <kbd className="figure rounded border border-paper-300 bg-white px-1">k</kbd> or
-                arrows to move,{" "}
-                <kbd className="figure rounded border border-paper-300 bg-white px-1">Enter</kbd> to
-                open
+                <kbd className="figure rounded border border-paper-300 bg-white px-1">k</kbd> or arrows to move,{" "}
+                <kbd className="figure rounded border border-paper-300 bg-white px-1">Enter</kbd> to open
               </span>
               <span className="flex items-center gap-3">
                 <span className="figure" aria-live="polite">

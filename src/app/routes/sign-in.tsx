@@ -25,12 +25,8 @@ export function SignInRoute() {
       <div className="w-full max-w-sm">
         <div className="mb-8 text-center">
           <BrandMark className="mx-auto size-10" />
-          <h1 className="mt-5 text-2xl font-semibold tracking-tight text-ink">
-            {studio.data?.name ?? "Platen"}
-          </h1>
-          <p className="mt-1 text-sm text-ink-muted">
-            {studio.data ? "Sign in to the studio's Platen" : "Sign in to your studio"}
-          </p>
+          <h1 className="mt-5 text-2xl font-semibold tracking-tight text-ink">{studio.data?.name ?? "Platen"}</h1>
+          <p className="mt-1 text-sm text-ink-muted">{studio.data ? "Sign in to the studio's Platen" : "Sign in to your studio"}</p>
         </div>
         {signedOut && (
           <p
@@ -49,11 +45,7 @@ export function SignInRoute() {
             </Link>
           </p>
         </div>
-        {params.get("next") && (
-          <p className="mt-4 text-center text-xs text-ink-muted">
-            You will return to the page you were on.
-          </p>
-        )}
+        {params.get("next") && <p className="mt-4 text-center text-xs text-ink-muted">You will return to the page you were on.</p>}
       </div>
     </div>
   );

@@ -1,10 +1,5 @@
 import { useRef, useState, type FormEvent } from "react";
-import {
-  updateStudioBody,
-  type StudioSettings,
-  COPYRIGHT_MAX,
-  CREATOR_MAX,
-} from "../../../shared/schemas/studio";
+import { updateStudioBody, type StudioSettings, COPYRIGHT_MAX, CREATOR_MAX } from "../../../shared/schemas/studio";
 import { SET_DPI_MAX, SET_DPI_MIN } from "../../../shared/schemas/scans";
 import { Ago } from "../../components/ago";
 import { Button, Spinner } from "../../components/button";
@@ -51,10 +46,7 @@ type Field = "name" | "defaultDpi" | "creator" | "copyright";
 const FIELDS = ["name", "defaultDpi", "creator", "copyright"] as const;
 
 /** What the form holds, in the terms it compares with a saved version (trimmed, as it is sent). */
-function sameAs(
-  s: StudioSettings,
-  form: { name: string; dpi: string; creator: string; copyright: string },
-): boolean {
+function sameAs(s: StudioSettings, form: { name: string; dpi: string; creator: string; copyright: string }): boolean {
   return (
     form.name.trim() === s.name &&
     form.dpi === String(s.defaultDpi) &&
@@ -115,8 +107,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
         // keeps their place on the line that says it is saved, not at the top of the page.
         requestAnimationFrame(() => {
           const at = document.activeElement;
-          if (at === document.body || (at instanceof HTMLButtonElement && at.disabled))
-            savedNote.current?.focus();
+          if (at === document.body || (at instanceof HTMLButtonElement && at.disabled)) savedNote.current?.focus();
         });
       },
       onError: (error) => {
@@ -132,9 +123,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
   // The button goes once the line starts with ©, so the typing goes on in the line itself, after
   // what was put in (otherwise the focus falls to the page and the next keys are lost).
   const insertMark = () => {
-    setCopyright((c) =>
-      c.startsWith("©") ? c : `© ${new Date().getFullYear()} ${c || creator}`.trimEnd(),
-    );
+    setCopyright((c) => (c.startsWith("©") ? c : `© ${new Date().getFullYear()} ${c || creator}`.trimEnd()));
     requestAnimationFrame(() => {
       const input = copyrightInput.current;
       if (!input) return;
@@ -147,12 +136,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
 
   return (
     <div className="flex flex-col gap-6">
-      <form
-        onSubmit={submit}
-        noValidate
-        aria-label="Studio settings"
-        className="flex max-w-5xl flex-col gap-6"
-      >
+      <form onSubmit={submit} noValidate aria-label="Studio settings" className="flex max-w-5xl flex-col gap-6">
         {formError && <Notice tone="error">{formError}</Notice>}
         {overtaken && (
           <div
@@ -160,8 +144,8 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
             className="flex flex-wrap items-center gap-x-4 gap-y-2 rounded-md border border-ochre/40 bg-ochre-soft px-3 py-2 text-sm text-ink"
           >
             <span>
-              These settings were changed elsewhere <Ago iso={latest.updatedAt} />. Your edits are
-              kept here; saving them replaces that version.
+              These settings were changed elsewhere <Ago iso={latest.updatedAt} />. Your edits are kept here; saving them replaces that
+              version.
             </span>
             <Button type="button" size="sm" variant="quiet" onClick={() => adopt(latest)}>
               Show the other version
@@ -233,9 +217,8 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
                 )}
               </div>
               <p className="text-xs text-ink-muted">
-                Masters and print files carry these fields, with the piece's own title; web copies
-                when their preset says so; mock-ups none. Masters already made keep what they were
-                made with until their rights are written in (below); batch copies are remade when
+                Masters and print files carry these fields, with the piece's own title; web copies when their preset says so; mock-ups none.
+                Masters already made keep what they were made with until their rights are written in (below); batch copies are remade when
                 their batch runs again.
               </p>
             </div>
@@ -245,12 +228,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
           <Button type="submit" variant="primary" busy={update.isPending} disabled={!changed}>
             Save settings
           </Button>
-          <span
-            ref={savedNote}
-            tabIndex={-1}
-            className="text-xs text-ink-muted outline-none"
-            data-testid="studio-saved"
-          >
+          <span ref={savedNote} tabIndex={-1} className="text-xs text-ink-muted outline-none" data-testid="studio-saved">
             {changed ? (
               "Not saved yet."
             ) : saved.updatedAt.startsWith("1970") ? (
@@ -263,12 +241,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
           </span>
         </div>
       </form>
-      <MastersRightsPanel
-        unsaved={
-          form.creator.trim() !== (saved.creator ?? "") ||
-          form.copyright.trim() !== (saved.copyright ?? "")
-        }
-      />
+      <MastersRightsPanel unsaved={form.creator.trim() !== (saved.creator ?? "") || form.copyright.trim() !== (saved.copyright ?? "")} />
     </div>
   );
 }

@@ -21,10 +21,7 @@ function UsersPage() {
   return (
     <>
       <title>Users · Platen</title>
-      <PageHeader
-        title="Users"
-        description="Who can sign in to this studio, and what each of them may do."
-      />
+      <PageHeader title="Users" description="Who can sign in to this studio, and what each of them may do." />
       <div className="grid grid-cols-1 items-start gap-6 xl:grid-cols-[minmax(0,2fr)_minmax(20rem,1fr)]">
         <div className="flex flex-col gap-6">
           <Panel title="Accounts" titleId="accounts-title" bodyClassName="p-0">

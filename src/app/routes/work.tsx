@@ -46,8 +46,7 @@ export function WorkRoute() {
       setParams(
         (p) => {
           const next = new URLSearchParams(p);
-          const put = (key: string, value: string | undefined) =>
-            value ? next.set(key, value) : next.delete(key);
+          const put = (key: string, value: string | undefined) => (value ? next.set(key, value) : next.delete(key));
           if ("q" in patch) put("q", patch.q);
           if ("intakeId" in patch) put("intake", patch.intakeId);
           next.delete("page");
@@ -105,11 +104,7 @@ export function WorkRoute() {
               <Button size="sm" disabled={page <= 1} onClick={() => setPage(page - 1)}>
                 Previous
               </Button>
-              <Button
-                size="sm"
-                disabled={list.length < PAGE_SIZE}
-                onClick={() => setPage(page + 1)}
-              >
+              <Button size="sm" disabled={list.length < PAGE_SIZE} onClick={() => setPage(page + 1)}>
                 Next
               </Button>
             </footer>

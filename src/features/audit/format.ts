@@ -79,8 +79,7 @@ export type ValueView =
 
 const plain = (v: unknown): v is string | number | boolean | null =>
   v === null || typeof v === "string" || typeof v === "number" || typeof v === "boolean";
-const numberText = (v: number) =>
-  Number.isInteger(v) ? String(v) : String(Math.round(v * 1000) / 1000);
+const numberText = (v: number) => (Number.isInteger(v) ? String(v) : String(Math.round(v * 1000) / 1000));
 
 /** How one before or after value is shown: plain words where it is simple, JSON where it is not. */
 export function valueView(value: unknown): ValueView {
@@ -97,10 +96,7 @@ export function valueView(value: unknown): ValueView {
     if (entries.length <= 8 && entries.every(([, v]) => plain(v))) {
       return {
         kind: "pairs",
-        pairs: entries.map(([k, v]) => [
-          k,
-          v === null ? "—" : typeof v === "number" ? numberText(v) : String(v),
-        ]),
+        pairs: entries.map(([k, v]) => [k, v === null ? "—" : typeof v === "number" ? numberText(v) : String(v)]),
       };
     }
   }

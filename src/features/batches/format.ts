@@ -2,8 +2,7 @@ import type { Batch } from "../../../shared/schemas/recipe-api";
 import type { Fragment } from "../../../shared/schemas/fragments";
 import { API, apiPath } from "../../../shared/api";
 
-export const thumbUrl = (f: Pick<Fragment, "id" | "revision">) =>
-  `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;
+export const thumbUrl = (f: Pick<Fragment, "id" | "revision">) => `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;
 
 /** Untitled fragments are named after their scan and position, as their files are. */
 export function fragmentLabel(f: { title: string | null; position: number; scanName: string }): string {

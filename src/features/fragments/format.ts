@@ -23,11 +23,7 @@ export const FRAGMENT_STATUS_MARKS: Record<FragmentStatus, string> = {
 };
 
 /** Upright size from the rectangle and the scan's DPI: "101.6 × 76.2 mm" or "4 × 3 in". */
-export function formatFragmentSize(
-  rect: Pick<Rect, "width" | "height">,
-  dpi: Fragment["dpi"],
-  unit: LengthUnit,
-): string {
+export function formatFragmentSize(rect: Pick<Rect, "width" | "height">, dpi: Fragment["dpi"], unit: LengthUnit): string {
   const wIn = rect.width / dpi.x;
   const hIn = rect.height / dpi.y;
   return unit === "mm"

@@ -1,12 +1,4 @@
-import {
-  dpiWarning,
-  inchesToPx,
-  placePiece,
-  printPage,
-  type PaperSize,
-  type PiecePlacement,
-  type RectIn,
-} from "../../../shared/paper";
+import { dpiWarning, inchesToPx, placePiece, printPage, type PaperSize, type PiecePlacement, type RectIn } from "../../../shared/paper";
 import type { PrintPreset } from "../../../shared/schemas/presets";
 
 /** A piece to lay out: its upright pixels and the resolution it was scanned at. */

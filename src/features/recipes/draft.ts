@@ -1,10 +1,4 @@
-import {
-  MAX_RECIPE_STEPS,
-  newStep,
-  recipeStepSchema,
-  type RecipeStep,
-  type StepType,
-} from "../../../shared/schemas/recipes";
+import { MAX_RECIPE_STEPS, newStep, recipeStepSchema, type RecipeStep, type StepType } from "../../../shared/schemas/recipes";
 
 /** A step in the editor, with a key that stays the same while it moves about. */
 export interface DraftStep {
@@ -20,9 +14,7 @@ export const keyedAll = (steps: RecipeStep[]): DraftStep[] => steps.map(keyed);
 /** JSON with keys in a fixed order, so two recipes compare by their settings alone. */
 export function canonical(value: unknown): string {
   return JSON.stringify(value, (_k, v: unknown) =>
-    v && typeof v === "object" && !Array.isArray(v)
-      ? Object.fromEntries(Object.entries(v).sort(([a], [b]) => a.localeCompare(b)))
-      : v,
+    v && typeof v === "object" && !Array.isArray(v) ? Object.fromEntries(Object.entries(v).sort(([a], [b]) => a.localeCompare(b))) : v,
   );
 }
 
@@ -43,9 +35,7 @@ export function stepErrors(step: RecipeStep): StepErrors {
 }
 
 export function draftIsValid(steps: RecipeStep[]): boolean {
-  return (
-    steps.length <= MAX_RECIPE_STEPS && steps.every((s) => recipeStepSchema.safeParse(s).success)
-  );
+  return steps.length <= MAX_RECIPE_STEPS && steps.every((s) => recipeStepSchema.safeParse(s).success);
 }
 
 /** Moves the item at `from` by `by` places; the same list when it cannot move. */
@@ -68,11 +58,7 @@ export function withNeutralPoint(steps: DraftStep[], point: [number, number, num
     const step = { ...newStep("whiteBalance"), mode: "point", point } as RecipeStep;
     return [keyed(step), ...steps];
   }
-  return steps.map((d, i) =>
-    i === index
-      ? { ...d, step: { ...d.step, enabled: true, mode: "point", point } as RecipeStep }
-      : d,
-  );
+  return steps.map((d, i) => (i === index ? { ...d, step: { ...d.step, enabled: true, mode: "point", point } as RecipeStep } : d));
 }
 
 /** A new step of `type`, ready to edit. */

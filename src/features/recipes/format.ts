@@ -3,8 +3,7 @@ import type { Fragment } from "../../../shared/schemas/fragments";
 import type { RecipeSummary } from "../../../shared/schemas/recipe-api";
 
 /** The upright thumbnail; the revision in the address fetches a new one after an edit. */
-export const thumbUrl = (f: Pick<Fragment, "id" | "revision">) =>
-  `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;
+export const thumbUrl = (f: Pick<Fragment, "id" | "revision">) => `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;
 
 /** Untitled fragments are named after their scan and position, as their files are. */
 export function fragmentLabel(f: Pick<Fragment, "title" | "position" | "scanName">): string {

@@ -14,11 +14,7 @@ function labToSrgb(l: number, a: number, b: number): [number, number, number] {
   const x = WHITE_D65[0] * inv(fx);
   const y = WHITE_D65[1] * inv(fy);
   const z = WHITE_D65[2] * inv(fz);
-  const linear = [
-    3.2406 * x - 1.5372 * y - 0.4986 * z,
-    -0.9689 * x + 1.8758 * y + 0.0415 * z,
-    0.0557 * x - 0.204 * y + 1.057 * z,
-  ];
+  const linear = [3.2406 * x - 1.5372 * y - 0.4986 * z, -0.9689 * x + 1.8758 * y + 0.0415 * z, 0.0557 * x - 0.204 * y + 1.057 * z];
   const encode = (c: number) => {
     const v = Math.min(1, Math.max(0, c));
     return v <= 0.0031308 ? 12.92 * v : 1.055 * v ** (1 / 2.4) - 0.055;

@@ -57,8 +57,7 @@ export interface StepInfo {
 const L = RECIPE_LIMITS;
 const of255 = (v: number) => `≈ ${Math.round(v * 255)} of 255`;
 const percent = (v: number) => `${formatNumber(v * 100, 2)} %`;
-const signedPercent = (v: number) =>
-  `${v > 0 ? "+" : v < 0 ? "−" : ""}${formatNumber(Math.abs(v) * 100, 0)} %`;
+const signedPercent = (v: number) => `${v > 0 ? "+" : v < 0 ? "−" : ""}${formatNumber(Math.abs(v) * 100, 0)} %`;
 
 export const STEP_INFO: Record<StepType, StepInfo> = {
   whiteBalance: {
@@ -395,17 +394,13 @@ export const STEP_INFO: Record<StepType, StepInfo> = {
 /** The settings a step shows in its current mode. */
 export function visibleSettings(step: RecipeStep): Setting[] {
   const mode = "mode" in step ? step.mode : undefined;
-  return STEP_INFO[step.type].settings.filter(
-    (s) => s.kind === "mode" || !s.modes || (mode !== undefined && s.modes.includes(mode)),
-  );
+  return STEP_INFO[step.type].settings.filter((s) => s.kind === "mode" || !s.modes || (mode !== undefined && s.modes.includes(mode)));
 }
 
 /** A short line for a step in lists: "Levels (from the histogram)". */
 export function stepLine(step: RecipeStep): string {
   const info = STEP_INFO[step.type];
-  const modeSetting = info.settings.find(
-    (s): s is ModeSetting => s.kind === "mode" && s.key === "mode",
-  );
+  const modeSetting = info.settings.find((s): s is ModeSetting => s.kind === "mode" && s.key === "mode");
   const mode = "mode" in step ? modeSetting?.options.find((o) => o.value === step.mode) : undefined;
   return mode ? `${info.label} (${mode.label.toLowerCase()})` : info.label;
 }

@@ -22,17 +22,9 @@ export function formatPixels(scan: Pick<Scan, "width" | "height">): string | nul
 }
 
 /** The physical size the server reported, or worked out here from pixels and DPI. */
-export function physicalOf(
-  scan: Pick<Scan, "physical" | "width" | "height" | "dpi">,
-): PhysicalSize | null {
+export function physicalOf(scan: Pick<Scan, "physical" | "width" | "height" | "dpi">): PhysicalSize | null {
   if (scan.physical) return scan.physical;
-  if (
-    scan.width == null ||
-    scan.height == null ||
-    !scan.dpi ||
-    !(scan.dpi.x > 0) ||
-    !(scan.dpi.y > 0)
-  ) {
+  if (scan.width == null || scan.height == null || !scan.dpi || !(scan.dpi.x > 0) || !(scan.dpi.y > 0)) {
     return null;
   }
   return physicalSize(scan.width, scan.height, scan.dpi.x, scan.dpi.y);
@@ -58,7 +50,8 @@ export const isLowDpi = (dpi: NonNullable<Scan["dpi"]>) => dpi.source === "embed
 export const LOW_DPI_HINT =
   "The file says so, but it is low for a scan: programs that know no resolution often write 72 DPI (or 25.4, one pixel per millimetre). Printed sizes and print warnings follow this value: if the scanner used another, set it on the scan's page.";
 
-export const SET_DPI_HINT = "An operator set this resolution on the scan's page; the file itself says otherwise or nothing (the scan's page shows what, and can go back to it).";
+export const SET_DPI_HINT =
+  "An operator set this resolution on the scan's page; the file itself says otherwise or nothing (the scan's page shows what, and can go back to it).";
 
 export const ASSUMED_DPI_HINT =
   "The file carried no resolution, so the studio's default DPI was used. Physical sizes depend on it: if the scanner used another, set it on the scan's page.";

@@ -11,13 +11,7 @@
  * can be stored with a preview and handed to the full-resolution render, so both match.
  */
 import { createHash } from "node:crypto";
-import {
-  describeRecipeError,
-  recipeSchema,
-  type Recipe,
-  type RecipeInput,
-  type RecipeStep,
-} from "../../../shared/schemas/recipes";
+import { describeRecipeError, recipeSchema, type Recipe, type RecipeInput, type RecipeStep } from "../../../shared/schemas/recipes";
 import { RecipeError } from "./errors";
 import { reducedCopy, STATS_PIXELS, toRaw, type BitDepth, type ImageSource, type RawImage } from "./image";
 import { pointPass, type PointOp } from "./lut";
@@ -84,7 +78,10 @@ function checkContext(ctx: RecipeContext): void {
   }
   const bg = ctx.background;
   if (bg !== undefined && !(Array.isArray(bg) && bg.length === 3 && bg.every((v) => typeof v === "number" && v >= 0 && v <= 255))) {
-    throw new RecipeError("invalid_context", `Expected the background as three sRGB values [red, green, blue] from 0 to 255 but received ${JSON.stringify(bg)}`);
+    throw new RecipeError(
+      "invalid_context",
+      `Expected the background as three sRGB values [red, green, blue] from 0 to 255 but received ${JSON.stringify(bg)}`,
+    );
   }
 }
 
@@ -186,7 +183,8 @@ export function compileRecipe(recipe: RecipeInput | Recipe, context: RecipeConte
       const given = options.stats ?? context.stats;
       if (options.stats) checkStats(options.stats, print, r);
       const raw = await toRaw(source, context.bitDepth);
-      const stats = given ?? (measuring ? await measureRaw(raw) : { fingerprint: print, steps: r.steps.map(() => null), measuredPixels: 0 });
+      const stats =
+        given ?? (measuring ? await measureRaw(raw) : { fingerprint: print, steps: r.steps.map(() => null), measuredPixels: 0 });
       return run(raw, stats);
     },
   };

@@ -89,7 +89,10 @@ export async function toRaw(source: ImageSource, bitDepth: BitDepth): Promise<Ra
     .raw({ depth: bitDepth === 16 ? "ushort" : "uchar" })
     .toBuffer({ resolveWithObject: true });
   return {
-    data: bitDepth === 16 ? new Uint16Array(data.buffer, data.byteOffset, data.length / 2) : new Uint8Array(data.buffer, data.byteOffset, data.length),
+    data:
+      bitDepth === 16
+        ? new Uint16Array(data.buffer, data.byteOffset, data.length / 2)
+        : new Uint8Array(data.buffer, data.byteOffset, data.length),
     width: info.width,
     height: info.height,
     channels: info.channels as RawImage["channels"],
@@ -117,9 +120,7 @@ export function sharpFromRaw(image: RawImage): Sharp {
  * like's channels (a pipeline that changed them is a bug, not an image).
  */
 export async function rawFromSharp(pipeline: Sharp, like: Pick<RawImage, "bitDepth" | "channels">): Promise<RawImage> {
-  const { data, info } = await pipeline
-    .raw({ depth: like.bitDepth === 16 ? "ushort" : "uchar" })
-    .toBuffer({ resolveWithObject: true });
+  const { data, info } = await pipeline.raw({ depth: like.bitDepth === 16 ? "ushort" : "uchar" }).toBuffer({ resolveWithObject: true });
   if (info.channels !== like.channels) {
     throw new Error(`Expected sharp to return ${like.channels} channels but it returned ${info.channels}`);
   }

@@ -5,12 +5,7 @@
  */
 import fs from "node:fs/promises";
 import path from "node:path";
-import {
-  BUILT_IN_RECIPES,
-  describeRecipeError,
-  recipeSchema,
-  type Recipe,
-} from "../../../shared/schemas/recipes";
+import { BUILT_IN_RECIPES, describeRecipeError, recipeSchema, type Recipe } from "../../../shared/schemas/recipes";
 import { RecipeError } from "./errors";
 
 export interface RecipeSource {
@@ -51,13 +46,19 @@ export async function readRecipeFile(file: string): Promise<Recipe> {
     const stat = await fs.stat(file);
     if (!stat.isFile()) throw new RecipeError("unknown_recipe", `The recipe path "${file}" is not a file`);
     if (stat.size > MAX_RECIPE_FILE_BYTES) {
-      throw new RecipeError("invalid_recipe", `The recipe file "${file}" is ${stat.size} bytes; a recipe file is at most ${MAX_RECIPE_FILE_BYTES}`);
+      throw new RecipeError(
+        "invalid_recipe",
+        `The recipe file "${file}" is ${stat.size} bytes; a recipe file is at most ${MAX_RECIPE_FILE_BYTES}`,
+      );
     }
     text = await fs.readFile(file, "utf8");
   } catch (err) {
     if (err instanceof RecipeError) throw err;
     const code = (err as NodeJS.ErrnoException).code;
-    throw new RecipeError("unknown_recipe", code === "ENOENT" ? `There is no recipe file "${file}"` : `Cannot read the recipe file "${file}" (${code ?? String(err)})`);
+    throw new RecipeError(
+      "unknown_recipe",
+      code === "ENOENT" ? `There is no recipe file "${file}"` : `Cannot read the recipe file "${file}" (${code ?? String(err)})`,
+    );
   }
   let json: unknown;
   try {
@@ -94,7 +95,10 @@ export async function findRecipe(ref: string, sources: readonly RecipeSource[] =
     const recipe = await source.find(name);
     if (recipe) return { recipe, from: source.label };
   }
-  const exists = await fs.stat(name).then((s) => s.isFile(), () => false);
+  const exists = await fs.stat(name).then(
+    (s) => s.isFile(),
+    () => false,
+  );
   if (exists) return { recipe: await readRecipeFile(name), from: "file", file: name };
   const known = (await Promise.all(sources.map(async (s) => (await s.names?.()) ?? []))).flat();
   throw new RecipeError(

@@ -91,7 +91,13 @@ function curvePass(src: RawImage, dst: RawImage, tables: Float64Array[]): void {
   if (hasAlpha(ch)) copyChannel(src.data, dst.data, ch - 1, ch);
 }
 
-function applyLut(src: Uint8Array | Uint16Array, dst: Uint8Array | Uint16Array, lut: Uint8Array | Uint16Array, offset: number, stride: number): void {
+function applyLut(
+  src: Uint8Array | Uint16Array,
+  dst: Uint8Array | Uint16Array,
+  lut: Uint8Array | Uint16Array,
+  offset: number,
+  stride: number,
+): void {
   const n = src.length;
   for (let i = offset; i < n; i += stride) dst[i] = lut[src[i]!]!;
 }
@@ -181,12 +187,50 @@ function tetra8(src: Uint8Array, dst: Uint8Array, lut: Int32Array, tr: Int32Arra
     const base = (pr >> 9) + (pg >> 9) + (pb >> 9);
     let o1: number, o2: number, w0: number, w1: number, w2: number, w3: number;
     if (fr >= fg) {
-      if (fg >= fb) { o1 = sR; o2 = sR + sG; w0 = 256 - fr; w1 = fr - fg; w2 = fg - fb; w3 = fb; }
-      else if (fr >= fb) { o1 = sR; o2 = sR + 1; w0 = 256 - fr; w1 = fr - fb; w2 = fb - fg; w3 = fg; }
-      else { o1 = 1; o2 = sR + 1; w0 = 256 - fb; w1 = fb - fr; w2 = fr - fg; w3 = fg; }
-    } else if (fb >= fg) { o1 = 1; o2 = sG + 1; w0 = 256 - fb; w1 = fb - fg; w2 = fg - fr; w3 = fr; }
-    else if (fb >= fr) { o1 = sG; o2 = sG + 1; w0 = 256 - fg; w1 = fg - fb; w2 = fb - fr; w3 = fr; }
-    else { o1 = sG; o2 = sR + sG; w0 = 256 - fg; w1 = fg - fr; w2 = fr - fb; w3 = fb; }
+      if (fg >= fb) {
+        o1 = sR;
+        o2 = sR + sG;
+        w0 = 256 - fr;
+        w1 = fr - fg;
+        w2 = fg - fb;
+        w3 = fb;
+      } else if (fr >= fb) {
+        o1 = sR;
+        o2 = sR + 1;
+        w0 = 256 - fr;
+        w1 = fr - fb;
+        w2 = fb - fg;
+        w3 = fg;
+      } else {
+        o1 = 1;
+        o2 = sR + 1;
+        w0 = 256 - fb;
+        w1 = fb - fr;
+        w2 = fr - fg;
+        w3 = fg;
+      }
+    } else if (fb >= fg) {
+      o1 = 1;
+      o2 = sG + 1;
+      w0 = 256 - fb;
+      w1 = fb - fg;
+      w2 = fg - fr;
+      w3 = fr;
+    } else if (fb >= fr) {
+      o1 = sG;
+      o2 = sG + 1;
+      w0 = 256 - fg;
+      w1 = fg - fb;
+      w2 = fb - fr;
+      w3 = fr;
+    } else {
+      o1 = sG;
+      o2 = sR + sG;
+      w0 = 256 - fg;
+      w1 = fg - fr;
+      w2 = fr - fb;
+      w3 = fb;
+    }
     const c0 = lut[base]!;
     const c1 = lut[base + o1]!;
     const c2 = lut[base + o2]!;
@@ -202,7 +246,18 @@ function clutPass16(src: RawImage, dst: RawImage, pre: Float64Array[], colour: (
   const g = GRID;
   const grid = Float32Array.from(buildGrid(colour), (v) => v * 65535);
   const [pr, pg, pb] = [g * g * 3, g * 3, 3].map((stride, c) => positions(pre[c]!, stride, 1 << 20));
-  tetra16(src.data as Uint16Array, dst.data as Uint16Array, grid, pr!.base, pg!.base, pb!.base, Float32Array.from(pr!.frac), Float32Array.from(pg!.frac), Float32Array.from(pb!.frac), src.channels);
+  tetra16(
+    src.data as Uint16Array,
+    dst.data as Uint16Array,
+    grid,
+    pr!.base,
+    pg!.base,
+    pb!.base,
+    Float32Array.from(pr!.frac),
+    Float32Array.from(pg!.frac),
+    Float32Array.from(pb!.frac),
+    src.channels,
+  );
   if (hasAlpha(src.channels)) copyChannel(src.data, dst.data, src.channels - 1, src.channels);
 }
 
@@ -233,12 +288,50 @@ function tetra16(
     const base = br[r]! + bg[gv]! + bb[b]!;
     let o1: number, o2: number, w0: number, w1: number, w2: number, w3: number;
     if (fr >= fg) {
-      if (fg >= fb) { o1 = sR; o2 = sR + sG; w0 = 1 - fr; w1 = fr - fg; w2 = fg - fb; w3 = fb; }
-      else if (fr >= fb) { o1 = sR; o2 = sR + sB; w0 = 1 - fr; w1 = fr - fb; w2 = fb - fg; w3 = fg; }
-      else { o1 = sB; o2 = sR + sB; w0 = 1 - fb; w1 = fb - fr; w2 = fr - fg; w3 = fg; }
-    } else if (fb >= fg) { o1 = sB; o2 = sG + sB; w0 = 1 - fb; w1 = fb - fg; w2 = fg - fr; w3 = fr; }
-    else if (fb >= fr) { o1 = sG; o2 = sG + sB; w0 = 1 - fg; w1 = fg - fb; w2 = fb - fr; w3 = fr; }
-    else { o1 = sG; o2 = sR + sG; w0 = 1 - fg; w1 = fg - fr; w2 = fr - fb; w3 = fb; }
+      if (fg >= fb) {
+        o1 = sR;
+        o2 = sR + sG;
+        w0 = 1 - fr;
+        w1 = fr - fg;
+        w2 = fg - fb;
+        w3 = fb;
+      } else if (fr >= fb) {
+        o1 = sR;
+        o2 = sR + sB;
+        w0 = 1 - fr;
+        w1 = fr - fb;
+        w2 = fb - fg;
+        w3 = fg;
+      } else {
+        o1 = sB;
+        o2 = sR + sB;
+        w0 = 1 - fb;
+        w1 = fb - fr;
+        w2 = fr - fg;
+        w3 = fg;
+      }
+    } else if (fb >= fg) {
+      o1 = sB;
+      o2 = sG + sB;
+      w0 = 1 - fb;
+      w1 = fb - fg;
+      w2 = fg - fr;
+      w3 = fr;
+    } else if (fb >= fr) {
+      o1 = sG;
+      o2 = sG + sB;
+      w0 = 1 - fg;
+      w1 = fg - fb;
+      w2 = fb - fr;
+      w3 = fr;
+    } else {
+      o1 = sG;
+      o2 = sR + sG;
+      w0 = 1 - fg;
+      w1 = fg - fr;
+      w2 = fr - fb;
+      w3 = fb;
+    }
     const a1 = base + o1;
     const a2 = base + o2;
     const a3 = base + sAll;

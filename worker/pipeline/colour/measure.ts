@@ -93,9 +93,7 @@ export function measureLevels(image: RawImage, step: LevelsStep): StepStats {
     return [Math.min(b, blackMax), Math.max(w, whiteMin)] as [number, number];
   });
   const pairs: [number, number][] =
-    step.channel === "rgb"
-      ? channels.map(() => [Math.min(...picked.map((p) => p[0])), Math.max(...picked.map((p) => p[1]))])
-      : picked;
+    step.channel === "rgb" ? channels.map(() => [Math.min(...picked.map((p) => p[0])), Math.max(...picked.map((p) => p[1]))]) : picked;
   // widen a code at a time at 8 bits, 1/1024 of full scale at 16
   const stepCodes = Math.max(1, Math.round(max / 1024));
   const checked = channels.map((h, c) => {

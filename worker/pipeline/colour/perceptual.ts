@@ -6,14 +6,7 @@
  * and hue, so a boost never turns a hue.
  */
 import type { BlackAndWhiteStep, HueRangeStep, SaturationStep } from "../../../shared/schemas/recipes";
-import {
-  fitChromaToGamut,
-  labToLch,
-  lchToLab,
-  linearToSrgb,
-  srgbToLab,
-  type Vec3,
-} from "./space";
+import { fitChromaToGamut, labToLch, lchToLab, linearToSrgb, srgbToLab, type Vec3 } from "./space";
 import { contrastCurve } from "./tone";
 
 /** Below this chroma (C*ab) a colour counts as neutral: hue is noise there. */

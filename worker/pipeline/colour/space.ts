@@ -8,17 +8,7 @@
  */
 import { D65_WHITE, linearToSrgb, SRGB_TO_XYZ, srgbToLinear, XYZ_TO_SRGB } from "../split/colour";
 
-export {
-  D65_WHITE,
-  deltaE76,
-  linearToSrgb,
-  srgb8ToLab,
-  SRGB_TO_XYZ,
-  srgbToLinear,
-  XYZ_TO_SRGB,
-  type Lab,
-  type Rgb,
-} from "../split/colour";
+export { D65_WHITE, deltaE76, linearToSrgb, srgb8ToLab, SRGB_TO_XYZ, srgbToLinear, XYZ_TO_SRGB, type Lab, type Rgb } from "../split/colour";
 
 export type Vec3 = [number, number, number];
 
@@ -122,9 +112,12 @@ const GAMUT_EPS = 1e-9;
 
 function inGamut(lin: Vec3): boolean {
   return (
-    lin[0] >= -GAMUT_EPS && lin[0] <= 1 + GAMUT_EPS &&
-    lin[1] >= -GAMUT_EPS && lin[1] <= 1 + GAMUT_EPS &&
-    lin[2] >= -GAMUT_EPS && lin[2] <= 1 + GAMUT_EPS
+    lin[0] >= -GAMUT_EPS &&
+    lin[0] <= 1 + GAMUT_EPS &&
+    lin[1] >= -GAMUT_EPS &&
+    lin[1] <= 1 + GAMUT_EPS &&
+    lin[2] >= -GAMUT_EPS &&
+    lin[2] <= 1 + GAMUT_EPS
   );
 }
 
@@ -167,4 +160,3 @@ export function fitChromaToGamut(lab: readonly number[], known = 0): Vec3 {
   }
   return [Math.min(1, Math.max(0, lin[0])), Math.min(1, Math.max(0, lin[1])), Math.min(1, Math.max(0, lin[2]))];
 }
-

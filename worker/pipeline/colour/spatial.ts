@@ -97,9 +97,25 @@ export async function unsharpLuma(image: RawImage, sigmaPx: number, amount: numb
   const out = image.bitDepth === 16 ? new Uint16Array(image.data.length) : new Uint8Array(image.data.length);
   const colours = image.channels >= 3 ? 3 : 1;
   if (image.bitDepth === 8) {
-    combine8(image.data as Uint8Array, out as Uint8Array, blurred.data as Uint8Array, image.channels, colours, Math.round(amount * 256), Math.round(threshold * 255 * 256));
+    combine8(
+      image.data as Uint8Array,
+      out as Uint8Array,
+      blurred.data as Uint8Array,
+      image.channels,
+      colours,
+      Math.round(amount * 256),
+      Math.round(threshold * 255 * 256),
+    );
   } else {
-    combine16(image.data as Uint16Array, out as Uint16Array, blurred.data as Uint16Array, image.channels, colours, amount, threshold * 65535);
+    combine16(
+      image.data as Uint16Array,
+      out as Uint16Array,
+      blurred.data as Uint16Array,
+      image.channels,
+      colours,
+      amount,
+      threshold * 65535,
+    );
   }
   return { ...image, data: out };
 }
@@ -150,7 +166,15 @@ function combineRgb8(src: Uint8Array, dst: Uint8Array, blurred: Uint8Array, amt:
   }
 }
 
-function combine16(src: Uint16Array, dst: Uint16Array, blurred: Uint16Array, ch: number, colours: number, amount: number, thr: number): void {
+function combine16(
+  src: Uint16Array,
+  dst: Uint16Array,
+  blurred: Uint16Array,
+  ch: number,
+  colours: number,
+  amount: number,
+  thr: number,
+): void {
   const n = blurred.length;
   for (let p = 0, i = 0; p < n; p++, i += ch) {
     const y = colours === 3 ? 0.2126 * src[i]! + 0.7152 * src[i + 1]! + 0.0722 * src[i + 2]! : src[i]!;

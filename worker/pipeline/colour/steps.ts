@@ -4,12 +4,7 @@
  * measurements and background give the same op, at any size — which is what makes a preview
  * on a reduced copy match the full-resolution master.
  */
-import type {
-  BlackAndWhiteStep,
-  LevelsStep,
-  RecipeStep,
-  WhiteBalanceStep,
-} from "../../../shared/schemas/recipes";
+import type { BlackAndWhiteStep, LevelsStep, RecipeStep, WhiteBalanceStep } from "../../../shared/schemas/recipes";
 import { RecipeError } from "./errors";
 import { channelOp, type Curve, type PointOp } from "./lut";
 import { adjustHueRange, saturate, toGrey } from "./perceptual";
@@ -17,9 +12,7 @@ import type { Vec3 } from "./space";
 import { contrastCurve, levelsCurve, whiteBalanceCurve, whiteBalanceGains } from "./tone";
 
 /** What an automatic step measured on the image as it reached that step. */
-export type StepStats =
-  | { kind: "levels"; black: Vec3; white: Vec3 }
-  | { kind: "blackAndWhite"; chromaP95: number };
+export type StepStats = { kind: "levels"; black: Vec3; white: Vec3 } | { kind: "blackAndWhite"; chromaP95: number };
 
 export interface ResolvedStep {
   /** The op, or null when the step leaves this image alone (B&W on a colourful fragment, …). */
@@ -90,8 +83,7 @@ function levels(step: LevelsStep, stats: StepStats | null, ctx: StepContext): Re
     white = [step.white, step.white, step.white];
   }
   const only = step.channel === "rgb" ? null : CHANNEL_INDEX[step.channel];
-  const curve = (c: number): Curve =>
-    only !== null && c !== only ? identity : (x) => levelsCurve(x, black[c]!, white[c]!, step.gamma);
+  const curve = (c: number): Curve => (only !== null && c !== only ? identity : (x) => levelsCurve(x, black[c]!, white[c]!, step.gamma));
   const grey = step.channel === "rgb" ? curve(0) : null;
   const shown = only === null ? [0, 1, 2] : [only];
   const points = shown.map((c) => `${fmt(black[c]!)}–${fmt(white[c]!)}`).join(" ");
@@ -141,7 +133,12 @@ export function resolvePointStep(step: RecipeStep, stats: StepStats | null, ctx:
       return levels(step, stats, ctx);
     case "contrast": {
       const c: Curve = (x) => contrastCurve(x, step.amount, step.pivot);
-      return { op: channelOp([c, c, c], c), summary: `contrast: amount ${fmt(step.amount)} about ${fmt(step.pivot)}`, makesGrey: false, tints: false };
+      return {
+        op: channelOp([c, c, c], c),
+        summary: `contrast: amount ${fmt(step.amount)} about ${fmt(step.pivot)}`,
+        makesGrey: false,
+        tints: false,
+      };
     }
     case "saturation":
       return {

@@ -48,15 +48,12 @@ export function resolveFontFile(spec: string): string {
   try {
     file = requireHere.resolve(spec);
   } catch (err) {
-    throw new Error(
-      `The caption font is missing: cannot resolve ${spec} from the installed packages; reinstall them (npm ci)`,
-      { cause: err },
-    );
+    throw new Error(`The caption font is missing: cannot resolve ${spec} from the installed packages; reinstall them (npm ci)`, {
+      cause: err,
+    });
   }
   if (!fs.existsSync(file))
-    throw new Error(
-      `The caption font is missing: ${file} does not exist; reinstall the installed packages (npm ci)`,
-    );
+    throw new Error(`The caption font is missing: ${file} does not exist; reinstall the installed packages (npm ci)`);
   return file;
 }
 
@@ -76,10 +73,9 @@ export function captionFaces(): CaptionFace[] {
       try {
         font = fontkit.create(bytes);
       } catch (err) {
-        throw new Error(
-          `The caption font ${file} cannot be read as a font: ${err instanceof Error ? err.message : String(err)}`,
-          { cause: err },
-        );
+        throw new Error(`The caption font ${file} cannot be read as a font: ${err instanceof Error ? err.message : String(err)}`, {
+          cause: err,
+        });
       }
       return { file, bytes, font };
     });
@@ -111,7 +107,12 @@ export interface PlacedGlyph {
  */
 export function runGlyphs(run: { face: number; text: string }, all: CaptionFace[] = captionFaces()): PlacedGlyph[] {
   const { glyphs, positions } = all[run.face]!.font.layout(run.text);
-  return glyphs.map((glyph, i) => ({ glyph, xAdvance: positions[i]!.xAdvance, xOffset: positions[i]!.xOffset, yOffset: positions[i]!.yOffset }));
+  return glyphs.map((glyph, i) => ({
+    glyph,
+    xAdvance: positions[i]!.xAdvance,
+    xOffset: positions[i]!.xOffset,
+    yOffset: positions[i]!.yOffset,
+  }));
 }
 
 /** Width of placed glyphs at `sizePt`, points: the sum of their advances (font units) × size / units per em. */
@@ -127,11 +128,7 @@ function glyphsWidthPt(glyphs: PlacedGlyph[], font: Font, sizePt: number): numbe
  * for the rest), which the first face has.
  * Example: "Łódź — 8 × 10 in" → Latin Extended "Ł", Latin "ód", Latin Extended "ź", Latin " — 8 × 10 in".
  */
-export function captionRuns(
-  text: string,
-  sizePt: number = CAPTION.sizePt,
-  all: CaptionFace[] = captionFaces(),
-): CaptionRun[] {
+export function captionRuns(text: string, sizePt: number = CAPTION.sizePt, all: CaptionFace[] = captionFaces()): CaptionRun[] {
   const runs: { face: number; text: string }[] = [];
   const add = (face: number, piece: string) => {
     const last = runs[runs.length - 1];
@@ -159,19 +156,12 @@ export function captionRuns(
 }
 
 /** Advance width of text set as the caption, points. */
-export function captionWidthPt(
-  text: string,
-  sizePt: number = CAPTION.sizePt,
-  all: CaptionFace[] = captionFaces(),
-): number {
+export function captionWidthPt(text: string, sizePt: number = CAPTION.sizePt, all: CaptionFace[] = captionFaces()): number {
   return captionRuns(text, sizePt, all).reduce((sum, r) => sum + r.widthPt, 0);
 }
 
 const ELLIPSIS = "…";
-const graphemes = (text: string) =>
-  [...new Intl.Segmenter(undefined, { granularity: "grapheme" }).segment(text)].map(
-    (s) => s.segment,
-  );
+const graphemes = (text: string) => [...new Intl.Segmenter(undefined, { granularity: "grapheme" }).segment(text)].map((s) => s.segment);
 
 /** The longest prefix of `parts` (graphemes) that, with an ellipsis, still fits `fits`; null when none does. */
 function longestFitting(parts: string[], fits: (shortened: string) => boolean): string | null {
@@ -263,11 +253,7 @@ export function captionLine(
  * The caption of a print layout for both outputs: below the visible piece at captionBaseline,
  * fitted to the print area. Adds a warning to `warnings` when it is left out or shortened.
  */
-export function layoutCaption(
-  layout: PrintLayout,
-  title: string | undefined,
-  warnings: string[],
-): CaptionLine | null {
+export function layoutCaption(layout: PrintLayout, title: string | undefined, warnings: string[]): CaptionLine | null {
   const baseline = captionBaseline(layout.place.visible, layout.page);
   if (baseline === null) {
     warnings.push("The bottom margin has no room for the caption; it is left out");
@@ -275,8 +261,7 @@ export function layoutCaption(
   }
   const line = captionLine(title, layout.place.visible, layout.area, baseline);
   if (line === null) warnings.push("The print area is too narrow for the caption; it is left out");
-  else if (line.shortened)
-    warnings.push("The caption is wider than the print area; it is shortened with an ellipsis");
+  else if (line.shortened) warnings.push("The caption is wider than the print area; it is shortened with an ellipsis");
   return line;
 }
 
@@ -302,9 +287,7 @@ export function captionSvg(line: CaptionLine, dpi: number, fill: string): string
       if (d) paths.push(`<path transform="translate(${pen + g.xOffset} ${g.yOffset})" d="${d}"/>`);
       pen += g.xAdvance;
     }
-    out.push(
-      `<g fill="${fill}" transform="translate(${num(penPx)} ${num(baselinePx)}) scale(${scale} ${-scale})">${paths.join("")}</g>`,
-    );
+    out.push(`<g fill="${fill}" transform="translate(${num(penPx)} ${num(baselinePx)}) scale(${scale} ${-scale})">${paths.join("")}</g>`);
     penPx += (pen * sizePx) / font.unitsPerEm;
   }
   return out.join("");

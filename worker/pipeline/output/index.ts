@@ -75,7 +75,16 @@ export interface OutputReport {
   printedCm?: { width: number; height: number };
   /** Print: source pixels per printed inch; web: the DPI recorded in the copy. */
   effectiveDpi?: number;
-  paper?: { name: string; orientation: "portrait" | "landscape"; widthIn: number; heightIn: number; widthMm: number; heightMm: number; pagePx?: { width: number; height: number }; pagePt?: { width: number; height: number } };
+  paper?: {
+    name: string;
+    orientation: "portrait" | "landscape";
+    widthIn: number;
+    heightIn: number;
+    widthMm: number;
+    heightMm: number;
+    pagePx?: { width: number; height: number };
+    pagePt?: { width: number; height: number };
+  };
   warnings: string[];
   bytes: number;
 }
@@ -104,7 +113,8 @@ function check(input: OutputInput, presetIn: unknown, out: { path: string }): Pr
   const parsed = presetSchema.safeParse(presetIn);
   if (!parsed.success) throw new OutputError("bad_preset", `Invalid preset: ${presetProblem(parsed.error)}`);
   const preset = parsed.data;
-  if (typeof input?.master !== "string" || input.master.length === 0) throw new OutputError("bad_input", "Expected the path of the master image");
+  if (typeof input?.master !== "string" || input.master.length === 0)
+    throw new OutputError("bad_input", "Expected the path of the master image");
   if (!(typeof input.dpi === "number" && Number.isFinite(input.dpi) && input.dpi > 0 && input.dpi <= 100_000)) {
     throw new OutputError("bad_input", `Expected the master's resolution as a positive number of DPI but received ${String(input.dpi)}`);
   }
@@ -115,7 +125,10 @@ function check(input: OutputInput, presetIn: unknown, out: { path: string }): Pr
   const format = outputFormat(preset);
   const ext = path.extname(out.path).toLowerCase();
   if (!EXTENSIONS[format]!.includes(ext)) {
-    throw new OutputError("bad_input", `Expected ${out.path} to end in ${EXTENSIONS[format]!.join(" or ")} for the preset's ${format} output but it ends in "${ext || "nothing"}"`);
+    throw new OutputError(
+      "bad_input",
+      `Expected ${out.path} to end in ${EXTENSIONS[format]!.join(" or ")} for the preset's ${format} output but it ends in "${ext || "nothing"}"`,
+    );
   }
   return preset;
 }
@@ -123,7 +136,14 @@ function check(input: OutputInput, presetIn: unknown, out: { path: string }): Pr
 const round2 = (v: number) => Math.round(v * 100) / 100;
 
 function paperReport(name: string, page: PaperSize, orientation: "portrait" | "landscape") {
-  return { name, orientation, widthIn: round2(page.widthIn), heightIn: round2(page.heightIn), widthMm: round2(page.widthMm), heightMm: round2(page.heightMm) };
+  return {
+    name,
+    orientation,
+    widthIn: round2(page.widthIn),
+    heightIn: round2(page.heightIn),
+    widthMm: round2(page.widthMm),
+    heightMm: round2(page.heightMm),
+  };
 }
 
 /**
@@ -146,7 +166,9 @@ export async function renderOutput(input: OutputInput, presetIn: Preset | unknow
 
   if (preset.kind === "master") {
     const m = await renderMaster(input.master, input.dpi, preset, maxPixels, rights).catch((err: unknown) => {
-      throw new OutputError("bad_input", `Cannot read ${input.master} as an image: ${err instanceof Error ? err.message : String(err)}`, { cause: err });
+      throw new OutputError("bad_input", `Cannot read ${input.master} as an image: ${err instanceof Error ? err.message : String(err)}`, {
+        cause: err,
+      });
     });
     data = m.data;
     tiffFields = m.tiffFields;
@@ -178,11 +200,25 @@ export async function renderOutput(input: OutputInput, presetIn: Preset | unknow
       if (preset.output === "pdf") {
         const p = await renderPrintPdf(piece, layout, preset, rights);
         data = p.data;
-        report = { ...base, ...common, pixelWidth: p.width, pixelHeight: p.height, paper: { ...paper, pagePt: p.pagePt }, warnings: [...layout.warnings, ...p.warnings] };
+        report = {
+          ...base,
+          ...common,
+          pixelWidth: p.width,
+          pixelHeight: p.height,
+          paper: { ...paper, pagePt: p.pagePt },
+          warnings: [...layout.warnings, ...p.warnings],
+        };
       } else {
         const t = await renderPrintTiff(piece, layout, preset, rights);
         data = t.data;
-        report = { ...base, ...common, pixelWidth: layout.pagePx.width, pixelHeight: layout.pagePx.height, paper: { ...paper, pagePx: layout.pagePx }, warnings: [...layout.warnings, ...t.warnings] };
+        report = {
+          ...base,
+          ...common,
+          pixelWidth: layout.pagePx.width,
+          pixelHeight: layout.pagePx.height,
+          paper: { ...paper, pagePx: layout.pagePx },
+          warnings: [...layout.warnings, ...t.warnings],
+        };
       }
     }
   }

@@ -61,14 +61,53 @@ function shade(hex: string, amount: number): string {
 const poly = (pts: number[][], fill: string) => `<polygon points="${pts.map((p) => p.join(",")).join(" ")}" fill="${fill}"/>`;
 
 /** Four bevelled strips around a rectangle, each shaded by how much it faces the light (normals outward when `outward`). */
-function bevel(o: { x: number; y: number; w: number; h: number }, width: number, hex: string, light: { x: number; y: number }, outward: boolean, strength: number): string {
+function bevel(
+  o: { x: number; y: number; w: number; h: number },
+  width: number,
+  hex: string,
+  light: { x: number; y: number },
+  outward: boolean,
+  strength: number,
+): string {
   const { x, y, w, h } = o;
   const i = { x: x + width, y: y + width, r: x + w - width, b: y + h - width };
   const sides: [number[][], { x: number; y: number }][] = [
-    [[[x, y], [x + w, y], [i.r, i.y], [i.x, i.y]], { x: 0, y: -1 }],
-    [[[x + w, y], [x + w, y + h], [i.r, i.b], [i.r, i.y]], { x: 1, y: 0 }],
-    [[[x + w, y + h], [x, y + h], [i.x, i.b], [i.r, i.b]], { x: 0, y: 1 }],
-    [[[x, y + h], [x, y], [i.x, i.y], [i.x, i.b]], { x: -1, y: 0 }],
+    [
+      [
+        [x, y],
+        [x + w, y],
+        [i.r, i.y],
+        [i.x, i.y],
+      ],
+      { x: 0, y: -1 },
+    ],
+    [
+      [
+        [x + w, y],
+        [x + w, y + h],
+        [i.r, i.b],
+        [i.r, i.y],
+      ],
+      { x: 1, y: 0 },
+    ],
+    [
+      [
+        [x + w, y + h],
+        [x, y + h],
+        [i.x, i.b],
+        [i.r, i.b],
+      ],
+      { x: 0, y: 1 },
+    ],
+    [
+      [
+        [x, y + h],
+        [x, y],
+        [i.x, i.y],
+        [i.x, i.b],
+      ],
+      { x: -1, y: 0 },
+    ],
   ];
   return sides
     .map(([pts, n]) => {
@@ -96,7 +135,10 @@ export async function renderMockup(piece: Piece, preset: MockupPreset): Promise<
 
   const offset = 0.025 * size;
   const shadow = `<svg xmlns="http://www.w3.org/2000/svg" width="${W}" height="${H}"><rect x="${f.left - offset * light.x}" y="${f.top - offset * light.y}" width="${f.width}" height="${f.height}" fill="#000" fill-opacity="${0.75 * preset.shadow}"/></svg>`;
-  const shadowLayer = await sharp(Buffer.from(shadow)).blur(Math.max(0.3, 0.02 * size)).png().toBuffer();
+  const shadowLayer = await sharp(Buffer.from(shadow))
+    .blur(Math.max(0.3, 0.02 * size))
+    .png()
+    .toBuffer();
 
   const edge = Math.max(1, Math.round(g.framePx * 0.35));
   const matBevel = Math.max(1, Math.round(Math.min(g.matPx * 0.12, 2 + 0.004 * size)));

@@ -5,7 +5,25 @@
  * caption in the shipped font, embedded).
  */
 import fontkit from "@pdf-lib/fontkit";
-import { beginText, endText, PDFDict, PDFDocument, PDFHexString, PDFName, PDFNumber, PDFOperator, PDFOperatorNames, popGraphicsState, pushGraphicsState, rgb, setFillingRgbColor, setFontAndSize, setTextMatrix, setTextRise, type PDFFont } from "pdf-lib";
+import {
+  beginText,
+  endText,
+  PDFDict,
+  PDFDocument,
+  PDFHexString,
+  PDFName,
+  PDFNumber,
+  PDFOperator,
+  PDFOperatorNames,
+  popGraphicsState,
+  pushGraphicsState,
+  rgb,
+  setFillingRgbColor,
+  setFontAndSize,
+  setTextMatrix,
+  setTextRise,
+  type PDFFont,
+} from "pdf-lib";
 import { paperPoints } from "../../../shared/paper";
 import type { PrintPreset } from "../../../shared/schemas/presets";
 import { captionFaces, layoutCaption, runGlyphs } from "./caption";
@@ -78,7 +96,12 @@ export async function renderPrintPdf(piece: Piece, layout: PrintLayout, preset: 
     const lines = cropMarks(layout.area, layout.page);
     if (lines.length < 8) warnings.push("The margins leave no room for some crop marks; those are left out");
     for (const s of lines) {
-      page.drawLine({ start: { x: s.x1 * 72, y: y(s.y1) }, end: { x: s.x2 * 72, y: y(s.y2) }, thickness: MARK_WEIGHT_PT, color: rgb(0, 0, 0) });
+      page.drawLine({
+        start: { x: s.x1 * 72, y: y(s.y1) },
+        end: { x: s.x2 * 72, y: y(s.y2) },
+        thickness: MARK_WEIGHT_PT,
+        color: rgb(0, 0, 0),
+      });
     }
   }
   const line = preset.caption ? layoutCaption(layout, title, warnings) : null;

@@ -2,15 +2,7 @@
  * Print layout in pixels and inches: the page, its print area, the piece's place and the
  * marks around it, computed once for the TIFF and the PDF so both put the piece in the same spot.
  */
-import {
-  dpiWarning,
-  inchesToPx,
-  placePiece,
-  printPage,
-  type PaperSize,
-  type PiecePlacement,
-  type RectIn,
-} from "../../../shared/paper";
+import { dpiWarning, inchesToPx, placePiece, printPage, type PaperSize, type PiecePlacement, type RectIn } from "../../../shared/paper";
 import type { PrintPreset } from "../../../shared/schemas/presets";
 import { formatNumber } from "../../../shared/units";
 

@@ -21,7 +21,12 @@ export const MARK_WEIGHT_PT = 0.5;
  * Flattening before the resize gives the same pixels as resizing with alpha and flattening after
  * (both are the same weighted sums of the piece and the white), with one pass fewer.
  */
-export function visiblePipeline(piece: Piece, layout: PrintLayout, dpiOut: number, room = { width: Infinity, height: Infinity }): { img: Sharp; width: number; height: number } {
+export function visiblePipeline(
+  piece: Piece,
+  layout: PrintLayout,
+  dpiOut: number,
+  room = { width: Infinity, height: Infinity },
+): { img: Sharp; width: number; height: number } {
   const { printed, visible } = layout.place;
   const px = (inches: number) => Math.max(1, Math.round(inches * dpiOut));
   const fullW = px(printed.width);
@@ -31,7 +36,10 @@ export function visiblePipeline(piece: Piece, layout: PrintLayout, dpiOut: numbe
   // `room`: at most what is left of the page, which rounding can otherwise overstep by a pixel.
   const width = Math.max(1, Math.min(fullW - left, px(visible.width), room.width));
   const height = Math.max(1, Math.min(fullH - top, px(visible.height), room.height));
-  let img = pieceImage(piece).flatten({ background: "#ffffff" }).removeAlpha().resize({ width: fullW, height: fullH, fit: "fill", kernel: "lanczos3" });
+  let img = pieceImage(piece)
+    .flatten({ background: "#ffffff" })
+    .removeAlpha()
+    .resize({ width: fullW, height: fullH, fit: "fill", kernel: "lanczos3" });
   if (left > 0 || top > 0 || width < fullW || height < fullH) img = img.extract({ left, top, width, height });
   return { img, width, height };
 }
@@ -70,7 +78,12 @@ export function overlaySvg(layout: PrintLayout, preset: PrintPreset, title: stri
  * Artist and Copyright fields (rights.ts tiffRightsFields), added with the sRGB profile.
  * Example: Letter at 300 DPI → a 2550 × 3300 px TIFF recording 300 DPI.
  */
-export async function renderPrintTiff(piece: Piece, layout: PrintLayout, preset: PrintPreset, rights: Rights): Promise<{ data: Buffer; warnings: string[] }> {
+export async function renderPrintTiff(
+  piece: Piece,
+  layout: PrintLayout,
+  preset: PrintPreset,
+  rights: Rights,
+): Promise<{ data: Buffer; warnings: string[] }> {
   const warnings: string[] = [];
   const dpi = preset.printDpi;
   const { width, height } = layout.pagePx;

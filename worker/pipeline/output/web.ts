@@ -85,7 +85,8 @@ function keptRights(preset: WebPreset, rights: Rights): Rights {
 export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights): Promise<WebResult> {
   const g = webGeometry(piece.width, piece.height, preset);
   const warnings: string[] = [];
-  if (g.scale > 1) warnings.push(`Enlarged ${Math.round(g.scale * 100) / 100}× from ${piece.width} × ${piece.height} px: the copy may look soft`);
+  if (g.scale > 1)
+    warnings.push(`Enlarged ${Math.round(g.scale * 100) / 100}× from ${piece.width} × ${piece.height} px: the copy may look soft`);
   // One pipeline from the decoded piece to the file. An opaque background is laid under the piece
   // before the resize, which gives the same pixels as after it (the same weighted sums).
   const opaque = preset.background !== "transparent";
@@ -95,7 +96,13 @@ export async function renderWeb(piece: Piece, preset: WebPreset, rights: Rights)
     out = out.extract({ left: -g.left, top: -g.top, width: g.canvasWidth, height: g.canvasHeight });
   } else if (g.pieceWidth < g.canvasWidth || g.pieceHeight < g.canvasHeight) {
     const bg = opaque ? rgbOf(preset.background) : { r: 0, g: 0, b: 0, alpha: 0 };
-    out = out.extend({ left: g.left, top: g.top, right: g.canvasWidth - g.pieceWidth - g.left, bottom: g.canvasHeight - g.pieceHeight - g.top, background: bg });
+    out = out.extend({
+      left: g.left,
+      top: g.top,
+      right: g.canvasWidth - g.pieceWidth - g.left,
+      bottom: g.canvasHeight - g.pieceHeight - g.top,
+      background: bg,
+    });
   }
   const dpi = Math.round(piece.dpi * g.scale * 100) / 100;
   if (preset.keep.resolution) out = out.withDensity(dpi);

@@ -32,13 +32,7 @@ export function colourPlan(meta: Metadata): ColourPlan {
   const bitDepth = meta.depth === "uchar" || meta.depth === "char" ? 8 : 16;
   const keepValues = KEPT_SPACES.has(meta.space ?? "");
   const grey = keepValues && (meta.space === "b-w" || meta.space === "grey16");
-  const space: MasterSpace = grey
-    ? bitDepth === 16
-      ? "grey16"
-      : "b-w"
-    : bitDepth === 16
-      ? "rgb16"
-      : "srgb";
+  const space: MasterSpace = grey ? (bitDepth === 16 ? "grey16" : "b-w") : bitDepth === 16 ? "rgb16" : "srgb";
   const hasProfile = Boolean(meta.hasProfile || meta.icc);
   return {
     bitDepth,

@@ -98,7 +98,13 @@ const WRITE_FAILURE = /write failed|write error|unable to write|no space left|re
  * crash or a full disk never leaves a partial copy under the name. Throws ScanError when the scan
  * cannot be decoded, and the file system's error when the copy cannot be written.
  */
-export async function keepDecodedCopy(source: string, colour: ColourPlan, inspected: Inspected, maxPixels: number, file: string): Promise<void> {
+export async function keepDecodedCopy(
+  source: string,
+  colour: ColourPlan,
+  inspected: Inspected,
+  maxPixels: number,
+  file: string,
+): Promise<void> {
   await fs.mkdir(path.dirname(file), { recursive: true });
   const temp = `${file}.${process.pid}-${Math.random().toString(36).slice(2, 10)}.partial.v`;
   try {
@@ -127,7 +133,8 @@ export async function openDecodedCopy(file: string, colour: ColourPlan, inspecte
   const bands = (colour.grey ? 1 : 3) + (m.hasAlpha && !colour.flatten ? 1 : 0);
   try {
     const v = await sharp(file, { limitInputPixels: false }).metadata();
-    const ok = v.format === "vips" && v.width === width && v.height === height && v.channels === bands && v.depth === DEPTHS[colour.bitDepth];
+    const ok =
+      v.format === "vips" && v.width === width && v.height === height && v.channels === bands && v.depth === DEPTHS[colour.bitDepth];
     return ok && (await wholeDecodedCopy(file)) ? { path: file, dispose: async () => {} } : null;
   } catch {
     return null;
@@ -171,9 +178,7 @@ export async function cutUpright(
 ): Promise<UprightCut> {
   let pipeline = decoded
     ? sharp(decoded.path, { limitInputPixels: false }).extract(plan.region)
-    : sharp(source, { failOn: "error", limitInputPixels: maxPixels })
-        .autoOrient()
-        .extract(plan.region);
+    : sharp(source, { failOn: "error", limitInputPixels: maxPixels }).autoOrient().extract(plan.region);
   if (colour.flatten && !decoded) pipeline = pipeline.flatten({ background: WHITE });
   if (!isIdentity(plan)) {
     pipeline = pipeline.affine(plan.matrix, {
@@ -186,10 +191,7 @@ export async function cutUpright(
   if (colour.keepValues) pipeline = pipeline.keepIccProfile();
   let result: { data: Buffer; info: OutputInfo };
   try {
-    result = await pipeline
-      .toColourspace(colour.space)
-      .tiff({ compression: "none" })
-      .toBuffer({ resolveWithObject: true });
+    result = await pipeline.toColourspace(colour.space).tiff({ compression: "none" }).toBuffer({ resolveWithObject: true });
   } catch (err) {
     throw decodeError(err, source, inspected, maxPixels);
   }
@@ -237,7 +239,13 @@ const SHRUNK_WHILE_DECODED: ReadonlySet<ScanFormat> = new Set(["jpeg", "webp"]);
  * be made for any reason (a full disk, no access, or a broken scan: the work goes on from the
  * scan itself, whose own decode then reports what is wrong with it, as it always has).
  */
-export async function ensureDecodedCopy(source: string, inspected: Inspected, maxPixels: number, file: string, maxBytes = Infinity): Promise<"read" | "written" | null> {
+export async function ensureDecodedCopy(
+  source: string,
+  inspected: Inspected,
+  maxPixels: number,
+  file: string,
+  maxBytes = Infinity,
+): Promise<"read" | "written" | null> {
   if (SHRUNK_WHILE_DECODED.has(inspected.format)) return null;
   const colour = colourPlan(inspected.meta);
   if (decodedBytes(inspected, colour) > maxBytes) return null;

@@ -36,11 +36,7 @@ export const renderErrors = {
       `Expected fragment geometry with a box, an angle in (-45°, 45°], a rectangle and an outline of 3–2000 points, but ${field} is wrong (${problem}).`,
     ),
 
-  boxOutside: (
-    box: { x: number; y: number; width: number; height: number },
-    width: number,
-    height: number,
-  ) =>
+  boxOutside: (box: { x: number; y: number; width: number; height: number }, width: number, height: number) =>
     new RenderError(
       "bad_geometry",
       `Expected the fragment's box to lie inside the ${width} × ${height} px scan but received x ${box.x}–${box.x + box.width}, y ${box.y}–${box.y + box.height} px. The fragment belongs to another scan or was measured on a reduced copy; split the scan again.`,
@@ -62,10 +58,7 @@ export const renderErrors = {
     ),
 
   rectTooSmall: (width: number, height: number) =>
-    new RenderError(
-      "bad_geometry",
-      `Expected a fragment of at least 1 × 1 px but its rectangle is ${px(width)} × ${px(height)} px.`,
-    ),
+    new RenderError("bad_geometry", `Expected a fragment of at least 1 × 1 px but its rectangle is ${px(width)} × ${px(height)} px.`),
 
   badDpi: (dpi: unknown) =>
     new RenderError(
@@ -80,10 +73,7 @@ export const renderErrors = {
     ),
 
   badOption: (name: string, expected: string, received: unknown) =>
-    new RenderError(
-      "bad_request",
-      `Expected ${expected} for ${name} but received ${JSON.stringify(received)}.`,
-    ),
+    new RenderError("bad_request", `Expected ${expected} for ${name} but received ${JSON.stringify(received)}.`),
 
   extensionMismatch: (target: string, format: string) =>
     new RenderError(
@@ -98,10 +88,7 @@ export const renderErrors = {
     ),
 
   samePaths: (target: string) =>
-    new RenderError(
-      "bad_request",
-      `Expected different paths for the master and the web copy but both are ${target}.`,
-    ),
+    new RenderError("bad_request", `Expected different paths for the master and the web copy but both are ${target}.`),
 
   writeFailed: (target: string, cause: unknown) =>
     new RenderError(

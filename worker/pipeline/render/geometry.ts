@@ -76,12 +76,7 @@ export function uprightSize(rect: Rect): { width: number; height: number } {
  * the upright piece), for a half-size that may be enlarged to the rounded upright size.
  * Example: rect { cx: 50, cy: 50, width: 20, height: 10 }, angle 0 → [[40, 45], [60, 45], [60, 55], [40, 55]].
  */
-export function rectCorners(
-  rect: Rect,
-  angleDeg: number,
-  halfWidth = rect.width / 2,
-  halfHeight = rect.height / 2,
-): Point[] {
+export function rectCorners(rect: Rect, angleDeg: number, halfWidth = rect.width / 2, halfHeight = rect.height / 2): Point[] {
   const t = turn(angleDeg);
   const local: Point[] = [
     [-halfWidth, -halfHeight],
@@ -119,11 +114,7 @@ export function bounds(points: Point[]): {
  * Origin of the affine output canvas for a width × height input (see the module comment), or null
  * when a coordinate lands within TIE_EPSILON of a half pixel, where rounding could go either way.
  */
-function canvasOrigin(
-  width: number,
-  height: number,
-  t: Turn,
-): { left: number; top: number } | null {
+function canvasOrigin(width: number, height: number, t: Turn): { left: number; top: number } | null {
   const corners: Point[] = [
     [0, 0],
     [width, 0],
@@ -165,21 +156,10 @@ export interface UprightPlan {
  * Example: rect { cx: 150, cy: 100, width: 200, height: 100 }, angle 0, in a 400 × 300 scan →
  *   region { left: 47, top: 47, width: 206, height: 106 }, crop { left: 3, top: 3, width: 200, height: 100 }.
  */
-export function planUpright(
-  geometry: Pick<FragmentGeometry, "rect" | "angle">,
-  imageWidth: number,
-  imageHeight: number,
-): UprightPlan {
+export function planUpright(geometry: Pick<FragmentGeometry, "rect" | "angle">, imageWidth: number, imageHeight: number): UprightPlan {
   const { rect } = geometry;
   const size = uprightSize(rect);
-  const reach = bounds(
-    rectCorners(
-      rect,
-      geometry.angle,
-      Math.max(rect.width, size.width) / 2,
-      Math.max(rect.height, size.height) / 2,
-    ),
-  );
+  const reach = bounds(rectCorners(rect, geometry.angle, Math.max(rect.width, size.width) / 2, Math.max(rect.height, size.height) / 2));
   const want = {
     left: Math.floor(reach.left) - REGION_MARGIN_PX,
     top: Math.floor(reach.top) - REGION_MARGIN_PX,
@@ -191,8 +171,7 @@ export function planUpright(
   const right = Math.min(imageWidth, want.right);
   const bottom = Math.min(imageHeight, want.bottom);
   const region = { left, top, width: right - left, height: bottom - top };
-  const clamped =
-    want.left < 0 || want.top < 0 || want.right > imageWidth || want.bottom > imageHeight;
+  const clamped = want.left < 0 || want.top < 0 || want.right > imageWidth || want.bottom > imageHeight;
 
   let angle = geometry.angle;
   let t = turn(angle);
@@ -211,10 +190,7 @@ export function planUpright(
   // cropLeft, and push the remaining fraction (at most half a pixel) into the input displacement.
   const cropLeft = Math.round(ex - origin.left + 0.5 - size.width / 2);
   const cropTop = Math.round(ey - origin.top + 0.5 - size.height / 2);
-  const residual: Point = [
-    cropLeft + origin.left - 0.5 + size.width / 2 - ex,
-    cropTop + origin.top - 0.5 + size.height / 2 - ey,
-  ];
+  const residual: Point = [cropLeft + origin.left - 0.5 + size.width / 2 - ex, cropTop + origin.top - 0.5 + size.height / 2 - ey];
   const [idx, idy] = inverse(residual, t);
 
   const half: Point = [size.width / 2, size.height / 2];
@@ -288,11 +264,7 @@ export function checkGeometry(
   return null;
 }
 
-function boxWithin(
-  box: Box,
-  outer: { left: number; top: number; right: number; bottom: number },
-  slack: number,
-): boolean {
+function boxWithin(box: Box, outer: { left: number; top: number; right: number; bottom: number }, slack: number): boolean {
   return (
     box.x >= outer.left - slack &&
     box.y >= outer.top - slack &&

@@ -6,11 +6,7 @@
  */
 import fs from "node:fs/promises";
 import path from "node:path";
-import {
-  geometrySchema,
-  type FragmentGeometry,
-  type FragmentShape,
-} from "../../../shared/schemas/fragments";
+import { geometrySchema, type FragmentGeometry, type FragmentShape } from "../../../shared/schemas/fragments";
 import { isScanError } from "../errors";
 import { inspectScanFile, type Inspected } from "../inspect";
 import { colourPlan, type ColourPlan } from "./colour";
@@ -97,10 +93,7 @@ const MAX_WEB_EDGE = 16383;
 /** Largest relative difference between the x and y DPI treated as the same resolution. */
 const DPI_TOLERANCE = 0.005;
 
-function checkTargets(
-  input: RenderInput,
-  out: RenderTargets,
-): { format: WebFormat; longEdge: number } {
+function checkTargets(input: RenderInput, out: RenderTargets): { format: WebFormat; longEdge: number } {
   for (const [name, value] of [
     ["masterPath", out.masterPath],
     ["webPath", out.webPath],
@@ -108,23 +101,16 @@ function checkTargets(
     if (typeof value !== "string" || value.length === 0) {
       throw renderErrors.badOption(name, "a file path", value);
     }
-    if (path.resolve(value) === path.resolve(input.source))
-      throw renderErrors.overwritesSource(value);
+    if (path.resolve(value) === path.resolve(input.source)) throw renderErrors.overwritesSource(value);
   }
-  if (path.resolve(out.masterPath) === path.resolve(out.webPath))
-    throw renderErrors.samePaths(out.masterPath);
+  if (path.resolve(out.masterPath) === path.resolve(out.webPath)) throw renderErrors.samePaths(out.masterPath);
   const named = FORMAT_BY_EXTENSION[path.extname(out.webPath).toLowerCase()];
   const format = out.webFormat ?? named ?? defaultWebFormat(input.geometry?.shape ?? "rectangle");
-  if (!WEB_FORMATS.includes(format))
-    throw renderErrors.badOption("webFormat", '"jpeg" or "webp"', format);
+  if (!WEB_FORMATS.includes(format)) throw renderErrors.badOption("webFormat", '"jpeg" or "webp"', format);
   if (named && named !== format) throw renderErrors.extensionMismatch(out.webPath, format);
   const longEdge = out.webLongEdge ?? WEB_LONG_EDGE;
   if (!(Number.isInteger(longEdge) && longEdge > 0 && longEdge <= MAX_WEB_EDGE)) {
-    throw renderErrors.badOption(
-      "webLongEdge",
-      `an integer from 1 to ${MAX_WEB_EDGE} (pixels)`,
-      longEdge,
-    );
+    throw renderErrors.badOption("webLongEdge", `an integer from 1 to ${MAX_WEB_EDGE} (pixels)`, longEdge);
   }
   return { format, longEdge };
 }
@@ -174,10 +160,7 @@ function parseGeometry(geometry: unknown): FragmentGeometry {
  *     { masterPath: "out/f1.tif", webPath: "out/f1.jpg" })
  *   → { master: { width: 2400, height: 1800, bitDepth: 16, dpi: 600, … }, web: { width: 2048, height: 1536, dpi: 512, … } }
  */
-export async function renderFragment(
-  input: RenderInput,
-  out: RenderTargets,
-): Promise<RenderResult> {
+export async function renderFragment(input: RenderInput, out: RenderTargets): Promise<RenderResult> {
   const checked = checkInput(input, out);
   const inspected = await inspectScanFile(input.source, input.maxPixels);
   return renderChecked(input, out, checked, inspected, undefined);
@@ -219,10 +202,7 @@ export interface BatchItem {
  *   fragments.map((f, i) => ({ geometry: f, targets: { masterPath: `m${i}.tif`, webPath: `w${i}.jpg` } })))
  *   → [{ master: { width: 1538, … }, web: { … } }, …].
  */
-export async function renderFragments(
-  scan: ScanInput,
-  items: BatchItem[],
-): Promise<RenderResult[]> {
+export async function renderFragments(scan: ScanInput, items: BatchItem[]): Promise<RenderResult[]> {
   const results: RenderResult[] = [];
   await renderFromOneDecode(scan, items, {
     strict: true,
@@ -251,19 +231,11 @@ export interface EachOptions {
  * (ScanError), or the scan's resolution or size limit is wrong (RenderError bad_request).
  * Example: await renderEach(scan, items, { done: (i, o) => (o.ok ? store(i, o.result) : report(i, o.error)) }).
  */
-export async function renderEach(
-  scan: ScanInput,
-  items: BatchItem[],
-  each: EachOptions,
-): Promise<void> {
+export async function renderEach(scan: ScanInput, items: BatchItem[], each: EachOptions): Promise<void> {
   await renderFromOneDecode(scan, items, { ...each, strict: false });
 }
 
-async function renderFromOneDecode(
-  scan: ScanInput,
-  items: BatchItem[],
-  each: EachOptions & { strict: boolean },
-): Promise<void> {
+async function renderFromOneDecode(scan: ScanInput, items: BatchItem[], each: EachOptions & { strict: boolean }): Promise<void> {
   const inputs = items.map((item): RenderInput => ({
     source: scan.source,
     dpi: scan.dpi,
@@ -297,10 +269,7 @@ async function renderFromOneDecode(
   // written (encoders, mostly one thread each) and handed to `done`, the next one is cut and
   // corrected (the affine turn and the recipe, threaded), so both cores stay busy. At most two
   // cuts are held at once. Cut from the scan itself (a group of one), there is no next.
-  type Prepared =
-    | { kind: "ready"; cut: PreparedCut }
-    | { kind: "failed"; error: unknown }
-    | { kind: "skipped" };
+  type Prepared = { kind: "ready"; cut: PreparedCut } | { kind: "failed"; error: unknown } | { kind: "skipped" };
   const prepareAt = async (i: number): Promise<Prepared> => {
     const c = checked[i]!;
     if ("error" in c) return { kind: "failed", error: c.error };
@@ -398,8 +367,7 @@ async function prepareCut(
   const { cut, colour, applied } = input.recipe
     ? await correctCut(rawCut, planned, input.recipe, input.dpi.x)
     : { cut: rawCut, colour: planned, applied: [] };
-  const outline: Point[] | null =
-    geometry.shape === "cutout" ? geometry.outline.map((p) => plan.toUpright(p as Point)) : null;
+  const outline: Point[] | null = geometry.shape === "cutout" ? geometry.outline.map((p) => plan.toUpright(p as Point)) : null;
   const alpha = outline
     ? rasteriseMask(outline, cut.crop.width, cut.crop.height, {
         featherPx: featherPixels(input.dpi.x),
@@ -410,12 +378,7 @@ async function prepareCut(
 }
 
 /** Writes the master and the web copy of a prepared cut, each staged and renamed into place. */
-async function writeBoth(
-  input: RenderInput,
-  out: RenderTargets,
-  checked: CheckedInput,
-  prepared: PreparedCut,
-): Promise<RenderResult> {
+async function writeBoth(input: RenderInput, out: RenderTargets, checked: CheckedInput, prepared: PreparedCut): Promise<RenderResult> {
   const { format, longEdge, rights } = checked;
   const { cut, colour, applied, outline, alpha } = prepared;
   const staged: StagedFile[] = [];
@@ -441,9 +404,7 @@ async function writeBoth(
     const master = masterDone.value;
     const web = webDone.value;
     current = out.masterPath;
-    const [masterBytes, webBytes] = await Promise.all(
-      staged.map(async (f) => (await fs.stat(f.temp)).size),
-    );
+    const [masterBytes, webBytes] = await Promise.all(staged.map(async (f) => (await fs.stat(f.temp)).size));
     for (const file of staged) {
       current = file.target;
       await commitStaged([file]);

@@ -40,12 +40,7 @@ const PIECE_PX = 4;
  *   → at row 25: 0 at x 9 (centre 0.75 px outside), 191 at x 10 (centre 0.25 px inside:
  *   0.5 + 0.25 = 0.75 of 255), 255 from x 11 on.
  */
-export function rasteriseMask(
-  polygon: readonly Point[],
-  width: number,
-  height: number,
-  opts: MaskOptions,
-): Uint8Array | Uint16Array {
+export function rasteriseMask(polygon: readonly Point[], width: number, height: number, opts: MaskOptions): Uint8Array | Uint16Array {
   if (!(Number.isInteger(width) && width > 0 && Number.isInteger(height) && height > 0)) {
     throw new RangeError(`Expected a positive integer mask size but received ${width} × ${height}`);
   }
@@ -53,8 +48,7 @@ export function rasteriseMask(
     throw new RangeError(`Expected a feather of at least 1 px but received ${opts.featherPx}`);
   }
   const max = opts.depth === 16 ? 65535 : 255;
-  const alpha =
-    opts.depth === 16 ? new Uint16Array(width * height) : new Uint8Array(width * height);
+  const alpha = opts.depth === 16 ? new Uint16Array(width * height) : new Uint8Array(width * height);
   const inside = new Uint8Array(width * height);
   fillInside(polygon, width, height, inside);
   for (let i = 0; i < inside.length; i++) if (inside[i]) alpha[i] = max;
@@ -63,12 +57,7 @@ export function rasteriseMask(
 }
 
 /** Even-odd scanline fill at pixel centres (y = j + 0.5), edges taken half-open in y so shared vertices count once. */
-function fillInside(
-  polygon: readonly Point[],
-  width: number,
-  height: number,
-  inside: Uint8Array,
-): void {
+function fillInside(polygon: readonly Point[], width: number, height: number, inside: Uint8Array): void {
   const n = polygon.length;
   const crossings: number[] = [];
   let minY = Infinity;
@@ -101,14 +90,7 @@ function fillInside(
 }
 
 /** Distance from (px, py) to the segment (ax, ay)–(bx, by). */
-function segmentDistance(
-  px: number,
-  py: number,
-  ax: number,
-  ay: number,
-  bx: number,
-  by: number,
-): number {
+function segmentDistance(px: number, py: number, ax: number, ay: number, bx: number, by: number): number {
   const dx = bx - ax;
   const dy = by - ay;
   const len2 = dx * dx + dy * dy;

@@ -38,19 +38,12 @@ export interface MasterOptions {
  * added without any conversion. Rights: XMP plus the TIFF baseline text fields.
  * Example: a 16-bit cut-out of 2400 × 1800 px at 600 DPI → { width: 2400, height: 1800, channels: 4, hasAlpha: true }.
  */
-export async function writeMaster(
-  cut: UprightCut,
-  colour: ColourPlan,
-  staged: StagedFile,
-  opts: MasterOptions,
-): Promise<MasterInfo> {
+export async function writeMaster(cut: UprightCut, colour: ColourPlan, staged: StagedFile, opts: MasterOptions): Promise<MasterInfo> {
   const { width, height } = cut.crop;
   let pipeline = sharp(cut.canvas, { limitInputPixels: false }).extract(cut.crop);
   if (opts.alpha) {
     if (opts.alpha.length !== width * height) {
-      throw new RangeError(
-        `Expected an alpha mask of ${width} × ${height} values but received ${opts.alpha.length}`,
-      );
+      throw new RangeError(`Expected an alpha mask of ${width} × ${height} values but received ${opts.alpha.length}`);
     }
     // sharp reads the sample size from the typed array (Uint16Array → 16-bit); its types say Buffer.
     pipeline = pipeline.joinChannel(opts.alpha as unknown as Buffer, {

@@ -25,10 +25,7 @@ import { syncStaged, type StagedFile } from "./staging";
 const RIGHTS_TAGS = [TIFF_TAG.ImageDescription, TIFF_TAG.Artist, TIFF_TAG.Copyright] as const;
 
 /** Identifier of an XMP APP1 segment in JPEG (XMP specification Part 3, from memory), NUL-terminated. */
-const XMP_APP1_ID = Buffer.from(
-  "687474703a2f2f6e732e61646f62652e636f6d2f7861702f312e302f00",
-  "hex",
-);
+const XMP_APP1_ID = Buffer.from("687474703a2f2f6e732e61646f62652e636f6d2f7861702f312e302f00", "hex");
 /** Identifier of an EXIF APP1 segment and of a WebP EXIF chunk as libvips writes it: "Exif\0\0" (EXIF 2.3 Section 4.7.2). */
 const EXIF_ID = Buffer.from("Exif\0\0", "latin1");
 /** A JPEG marker segment holds at most 65535 bytes after its marker, length field included (T.81 B.1.1.4). */
@@ -53,9 +50,7 @@ export async function readCarriedRights(file: string): Promise<Rights> {
   if (!xmp) return {};
   const packet = xmp.toString("utf8");
   const field = (name: string) => {
-    const m = new RegExp(
-      `<dc:${name}>\\s*<rdf:(?:Alt|Seq|Bag)>\\s*<rdf:li(?:\\s[^>]*)?>([^<]*)</rdf:li>`,
-    ).exec(packet);
+    const m = new RegExp(`<dc:${name}>\\s*<rdf:(?:Alt|Seq|Bag)>\\s*<rdf:li(?:\\s[^>]*)?>([^<]*)</rdf:li>`).exec(packet);
     return m ? unescapeXml(m[1]!) : undefined;
   };
   return cleanRights({
@@ -77,22 +72,14 @@ function unescapeXml(text: string): string {
 
 /** Two sets of rights say the same (cleaned text, field by field). */
 export function sameRights(a: Rights, b: Rights): boolean {
-  return (
-    (a.title ?? "") === (b.title ?? "") &&
-    (a.creator ?? "") === (b.creator ?? "") &&
-    (a.copyright ?? "") === (b.copyright ?? "")
-  );
+  return (a.title ?? "") === (b.title ?? "") && (a.creator ?? "") === (b.creator ?? "") && (a.copyright ?? "") === (b.copyright ?? "");
 }
 
 /**
  * Writes into `staged.temp` the master at `source` with `rights` (cleaned) in place of the rights
  * it carries; `source` is only read. Returns the new file's size in bytes.
  */
-export async function rewriteMasterRights(
-  source: string,
-  staged: StagedFile,
-  rights: Rights,
-): Promise<number> {
+export async function rewriteMasterRights(source: string, staged: StagedFile, rights: Rights): Promise<number> {
   await fs.copyFile(source, staged.temp, fs.constants.COPYFILE_EXCL);
   const { fields, remove } = textEdits(rights);
   const xmp = xmpPacket(rights);
@@ -113,11 +100,7 @@ function emptyTiff(): Buffer {
 }
 
 /** The EXIF block with the rights' IFD0 text fields, from the block the file had (or none). */
-async function editedExif(
-  tiff: Buffer | null,
-  rights: Rights,
-  name: string,
-): Promise<Buffer | null> {
+async function editedExif(tiff: Buffer | null, rights: Rights, name: string): Promise<Buffer | null> {
   const { fields, remove } = textEdits(rights);
   if (!tiff && fields.length === 0) return null;
   return withTiffFields(tiff ?? emptyTiff(), fields, `the EXIF block of ${name}`, {
@@ -128,9 +111,7 @@ async function editedExif(
 
 function segment(marker: number, payload: Buffer, name: string): Buffer {
   if (payload.length + 2 > MAX_SEGMENT)
-    throw new Error(
-      `The metadata of ${name} would not fit in one JPEG segment (${payload.length} bytes).`,
-    );
+    throw new Error(`The metadata of ${name} would not fit in one JPEG segment (${payload.length} bytes).`);
   const head = Buffer.alloc(4);
   head[0] = 0xff;
   head[1] = marker;
@@ -146,8 +127,7 @@ async function jpegWithRights(jpeg: Buffer, rights: Rights, name: string): Promi
   let exifAt = -1; // index in `kept` where the EXIF segment goes
   let pos = 2;
   for (;;) {
-    if (pos + 4 > jpeg.length || jpeg[pos] !== 0xff)
-      throw new Error(`${name} ends or breaks before its image data (offset ${pos}).`);
+    if (pos + 4 > jpeg.length || jpeg[pos] !== 0xff) throw new Error(`${name} ends or breaks before its image data (offset ${pos}).`);
     const marker = jpeg[pos + 1]!;
     if (marker === 0xff) {
       pos += 1; // fill byte (T.81 B.1.1.2)
@@ -158,8 +138,7 @@ async function jpegWithRights(jpeg: Buffer, rights: Rights, name: string): Promi
       throw new Error(`Unexpected marker FF ${marker.toString(16)} in the header of ${name}.`);
     const length = jpeg.readUInt16BE(pos + 2);
     const end = pos + 2 + length;
-    if (length < 2 || end > jpeg.length)
-      throw new Error(`A segment of ${name} runs past its end (offset ${pos}).`);
+    if (length < 2 || end > jpeg.length) throw new Error(`A segment of ${name} runs past its end (offset ${pos}).`);
     const payload = jpeg.subarray(pos + 4, end);
     if (marker === 0xe1 && payload.subarray(0, EXIF_ID.length).equals(EXIF_ID)) {
       exif = Buffer.from(payload.subarray(EXIF_ID.length));
@@ -173,8 +152,7 @@ async function jpegWithRights(jpeg: Buffer, rights: Rights, name: string): Promi
   const xmp = xmpPacket(rights);
   const inserted: Buffer[] = [];
   if (newExif) inserted.push(segment(0xe1, Buffer.concat([EXIF_ID, newExif]), name));
-  if (xmp)
-    inserted.push(segment(0xe1, Buffer.concat([XMP_APP1_ID, Buffer.from(xmp, "utf8")]), name));
+  if (xmp) inserted.push(segment(0xe1, Buffer.concat([XMP_APP1_ID, Buffer.from(xmp, "utf8")]), name));
   // Where the EXIF segment was (else right after a JFIF APP0, else first): the XMP follows it.
   const at = exifAt >= 0 ? exifAt : kept.length > 0 && kept[0]![1] === 0xe0 ? 1 : 0;
   kept.splice(at, 0, ...inserted);
@@ -210,8 +188,7 @@ function vp8xFor(id: string, payload: Buffer, name: string): Buffer {
     height = payload.readUInt16LE(8) & 0x3fff;
   } else if (id === "VP8L") {
     const bits = payload.length >= 5 ? payload.readUInt32LE(1) : 0;
-    if (payload[0] !== 0x2f || bits >>> 29 !== 0)
-      throw new Error(`${name} is a simple WebP whose VP8L data has no lossless header.`);
+    if (payload[0] !== 0x2f || bits >>> 29 !== 0) throw new Error(`${name} is a simple WebP whose VP8L data has no lossless header.`);
     width = (bits & 0x3fff) + 1;
     height = ((bits >>> 14) & 0x3fff) + 1;
     alpha = ((bits >>> 28) & 1) === 1;
@@ -248,8 +225,7 @@ async function webpWithRights(webp: Buffer, rights: Rights, name: string): Promi
     const id = webp.toString("latin1", pos, pos + 4);
     const size = webp.readUInt32LE(pos + 4);
     const next = pos + 8 + size + (size % 2);
-    if (pos + 8 + size > end)
-      throw new Error(`A chunk of ${name} runs past its end (offset ${pos}).`);
+    if (pos + 8 + size > end) throw new Error(`A chunk of ${name} runs past its end (offset ${pos}).`);
     const payload = webp.subarray(pos + 8, pos + 8 + size);
     first ??= { id, payload };
     if (id === "VP8X") {
@@ -296,12 +272,7 @@ async function webpWithRights(webp: Buffer, rights: Rights, name: string): Promi
  * Writes into `staged.temp` the web copy at `source` (JPEG or WebP) with `rights` in place of the
  * rights it carries; `source` is only read. Returns the new file's size in bytes.
  */
-export async function rewriteWebRights(
-  source: string,
-  staged: StagedFile,
-  rights: Rights,
-  format: string,
-): Promise<number> {
+export async function rewriteWebRights(source: string, staged: StagedFile, rights: Rights, format: string): Promise<number> {
   const bytes = await fs.readFile(source);
   const out =
     format === "jpeg"

@@ -52,11 +52,7 @@ export function recordedRights(rights: Rights): { creator: string | null; copyri
 }
 
 function escapeXml(text: string): string {
-  return text
-    .replace(/&/g, "&amp;")
-    .replace(/</g, "&lt;")
-    .replace(/>/g, "&gt;")
-    .replace(/"/g, "&quot;");
+  return text.replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;").replace(/"/g, "&quot;");
 }
 
 function alt(name: string, text: string): string {
@@ -71,9 +67,7 @@ export function xmpPacket(rights: Rights): string | null {
   const parts: string[] = [];
   if (rights.title) parts.push(alt("title", rights.title));
   if (rights.creator) {
-    parts.push(
-      `<dc:creator><rdf:Seq><rdf:li>${escapeXml(rights.creator)}</rdf:li></rdf:Seq></dc:creator>`,
-    );
+    parts.push(`<dc:creator><rdf:Seq><rdf:li>${escapeXml(rights.creator)}</rdf:li></rdf:Seq></dc:creator>`);
   }
   if (rights.copyright) parts.push(alt("rights", rights.copyright));
   if (parts.length === 0) return null;
@@ -130,8 +124,7 @@ const ASCII_SPELLING: Record<string, string> = {
 };
 
 /** Printable ASCII (0x20–0x7E), tab, line feed or carriage return. */
-const PRINTABLE_OR_SPACE = (code: number) =>
-  (code >= 0x20 && code <= 0x7e) || code === 9 || code === 10 || code === 13;
+const PRINTABLE_OR_SPACE = (code: number) => (code >= 0x20 && code <= 0x7e) || code === 9 || code === 10 || code === 13;
 
 /** Combining marks (general category M), which canonical decomposition moves after their letter. */
 const MARKS = /\p{M}/gu;

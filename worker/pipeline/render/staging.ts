@@ -20,10 +20,7 @@ export interface StagedFile {
 export async function stage(target: string): Promise<StagedFile> {
   const dir = path.dirname(target);
   await fs.mkdir(dir, { recursive: true });
-  const temp = path.join(
-    dir,
-    `.${path.basename(target)}.${process.pid}.${randomBytes(6).toString("hex")}.tmp`,
-  );
+  const temp = path.join(dir, `.${path.basename(target)}.${process.pid}.${randomBytes(6).toString("hex")}.tmp`);
   return { target, temp };
 }
 

@@ -85,7 +85,13 @@ interface Write {
  * through `read(position, length)`. Throws a plain Error naming `name` for a file that is not a
  * classic TIFF. Shared by the file and the in-memory forms below.
  */
-async function planFields(read: Read, size: number, fields: TiffField[], name: string, edits: FieldEdits = {}): Promise<{ writes: Write[]; length: number }> {
+async function planFields(
+  read: Read,
+  size: number,
+  fields: TiffField[],
+  name: string,
+  edits: FieldEdits = {},
+): Promise<{ writes: Write[]; length: number }> {
   const header = await read(0, 8);
   const order = header.toString("latin1", 0, 2);
   if (order !== "II" && order !== "MM") {
@@ -186,7 +192,8 @@ async function planFields(read: Read, size: number, fields: TiffField[], name: s
       ? Buffer.concat([Buffer.from((field.value as string).replace(/\0/g, ""), "utf8"), Buffer.from([0])])
       : (field.value as Buffer);
     const slot = Buffer.alloc(4);
-    if (data.length <= 4) data.copy(slot); // left-justified in the value field (TIFF 6.0 Section 2)
+    if (data.length <= 4)
+      data.copy(slot); // left-justified in the value field (TIFF 6.0 Section 2)
     else place(data, slot);
     entries.push({ tag: field.tag, type: isText ? ASCII : (field.type ?? UNDEFINED), count: data.length, slot });
   }
@@ -221,13 +228,135 @@ type Read = (position: number, length: number) => Promise<Buffer>;
  * Tag numbers and section numbers from memory.
  */
 const PLAIN_TAGS = new Set([
-  254, 255, 256, 257, 258, 259, 262, 263, 264, 265, 266, 269, 270, 271, 272, 274, 277, 278, 280, 281, 282, 283, 284, 285, 286,
-  287, 290, 291, 292, 293, 296, 297, 301, 305, 306, 315, 316, 317, 318, 319, 320, 321, 322, 323, 332, 333, 334, 336, 337, 338,
-  339, 340, 341, 342, 347, 512, 515, 517, 518, 529, 530, 531, 532, 700, 33432, 33723, 34675,
-  33434, 33437, 34850, 34852, 34855, 34864, 36864, 36867, 36868, 36880, 36881, 36882, 37121, 37122, 37377, 37378, 37379,
-  37380, 37381, 37382, 37383, 37384, 37385, 37386, 37396, 37510, 37520, 37521, 37522, 40960, 40961, 40962, 40963, 40964,
-  41483, 41486, 41487, 41488, 41492, 41493, 41495, 41728, 41729, 41730, 41985, 41986, 41987, 41988, 41989, 41990, 41991,
-  41992, 41993, 41994, 41996, 42016, 42032, 42033, 42034, 42035, 42036, 42037,
+  254,
+  255,
+  256,
+  257,
+  258,
+  259,
+  262,
+  263,
+  264,
+  265,
+  266,
+  269,
+  270,
+  271,
+  272,
+  274,
+  277,
+  278,
+  280,
+  281,
+  282,
+  283,
+  284,
+  285,
+  286,
+  287,
+  290,
+  291,
+  292,
+  293,
+  296,
+  297,
+  301,
+  305,
+  306,
+  315,
+  316,
+  317,
+  318,
+  319,
+  320,
+  321,
+  322,
+  323,
+  332,
+  333,
+  334,
+  336,
+  337,
+  338,
+  339,
+  340,
+  341,
+  342,
+  347,
+  512,
+  515,
+  517,
+  518,
+  529,
+  530,
+  531,
+  532,
+  700,
+  33432,
+  33723,
+  34675,
+  33434,
+  33437,
+  34850,
+  34852,
+  34855,
+  34864,
+  36864,
+  36867,
+  36868,
+  36880,
+  36881,
+  36882,
+  37121,
+  37122,
+  37377,
+  37378,
+  37379,
+  37380,
+  37381,
+  37382,
+  37383,
+  37384,
+  37385,
+  37386,
+  37396,
+  37510,
+  37520,
+  37521,
+  37522,
+  40960,
+  40961,
+  40962,
+  40963,
+  40964,
+  41483,
+  41486,
+  41487,
+  41488,
+  41492,
+  41493,
+  41495,
+  41728,
+  41729,
+  41730,
+  41985,
+  41986,
+  41987,
+  41988,
+  41989,
+  41990,
+  41991,
+  41992,
+  41993,
+  41994,
+  41996,
+  42016,
+  42032,
+  42033,
+  42034,
+  42035,
+  42036,
+  42037,
   ...Array.from({ length: 32 }, (_, i) => i),
 ]);
 /**
@@ -235,7 +364,12 @@ const PLAIN_TAGS = new Set([
  * FreeOffsets/FreeByteCounts (TIFF 6.0 Section 8), TileOffsets/TileByteCounts (Section 15),
  * JPEGInterchangeFormat/…Length (Section 22; the EXIF thumbnail).
  */
-const OFFSET_PAIRS = new Map([[273, 279], [288, 289], [324, 325], [513, 514]]);
+const OFFSET_PAIRS = new Map([
+  [273, 279],
+  [288, 289],
+  [324, 325],
+  [513, 514],
+]);
 const LENGTH_TAGS = new Set(OFFSET_PAIRS.values());
 /** Offsets of other IFDs: SubIFDs (TIFF Technical Note 1), the Exif, GPS and Interoperability IFDs (Exif 2.3 Section 4.6.3). */
 const IFD_TAGS = new Set([330, 34665, 34853, 40965]);
@@ -252,7 +386,13 @@ const MAX_IFDS = 4096;
  * to. Null when a tag is not one whose offsets are known here, a value runs past the file's end,
  * or a directory is reached twice: then nothing can be said to be unreferenced.
  */
-async function referencedRanges(read: Read, size: number, le: boolean, entries: Entry[], next: number): Promise<{ own: [number, number][]; others: [number, number][] } | null> {
+async function referencedRanges(
+  read: Read,
+  size: number,
+  le: boolean,
+  entries: Entry[],
+  next: number,
+): Promise<{ own: [number, number][]; others: [number, number][] } | null> {
   const u16 = (b: Buffer, at: number) => (le ? b.readUInt16LE(at) : b.readUInt16BE(at));
   const u32 = (b: Buffer, at: number) => (le ? b.readUInt32LE(at) : b.readUInt32BE(at));
   const own: [number, number][] = [];
@@ -307,7 +447,12 @@ async function referencedRanges(read: Read, size: number, le: boolean, entries: 
       if (end > size) return false;
       const body = await read(at + 2, n * 12 + 4);
       ranges.push([at, end]);
-      const list = Array.from({ length: n }, (_, i) => ({ tag: u16(body, i * 12), type: u16(body, i * 12 + 2), count: u32(body, i * 12 + 4), slot: body.subarray(i * 12 + 8, i * 12 + 12) }));
+      const list = Array.from({ length: n }, (_, i) => ({
+        tag: u16(body, i * 12),
+        type: u16(body, i * 12 + 2),
+        count: u32(body, i * 12 + 4),
+        slot: body.subarray(i * 12 + 8, i * 12 + 12),
+      }));
       if (!(await walkEntries(list))) return false;
       at = u32(body, n * 12);
     }
@@ -389,18 +534,11 @@ export async function withTiffFields(tiff: Buffer, fields: TiffField[], name = "
   return out;
 }
 
-async function readExactly(
-  fh: fs.FileHandle,
-  position: number,
-  length: number,
-  file: string,
-): Promise<Buffer> {
+async function readExactly(fh: fs.FileHandle, position: number, length: number, file: string): Promise<Buffer> {
   const buf = Buffer.alloc(length);
   const { bytesRead } = await fh.read(buf, 0, length, position);
   if (bytesRead !== length) {
-    throw new Error(
-      `Expected ${length} bytes at offset ${position} of ${file} but the file ends after ${bytesRead}`,
-    );
+    throw new Error(`Expected ${length} bytes at offset ${position} of ${file} but the file ends after ${bytesRead}`);
   }
   return buf;
 }

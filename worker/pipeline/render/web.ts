@@ -51,12 +51,7 @@ export interface WebInfo {
  * in inches, the density being the scan's DPI × (copy width / master width).
  * Example: a 3000 × 2000 px piece at 600 DPI, long edge 2048 → { width: 2048, height: 1365, dpi: 409.6 }.
  */
-export async function writeWebCopy(
-  cut: UprightCut,
-  colour: ColourPlan,
-  staged: StagedFile,
-  opts: WebOptions,
-): Promise<WebInfo> {
+export async function writeWebCopy(cut: UprightCut, colour: ColourPlan, staged: StagedFile, opts: WebOptions): Promise<WebInfo> {
   // Fit in the scan's own colour, then convert through its embedded profile to sRGB. 8-bit data
   // does both in one pipeline; 16-bit data is first reduced to 8 bits with its profile still
   // attached (sharp converts 8-bit data through the embedded profile, whereas 16-bit data would
@@ -72,12 +67,7 @@ export async function writeWebCopy(
   let width: number;
   let height: number;
   if (colour.bitDepth === 8) {
-    const fitted = await fit
-      .withIccProfile("srgb")
-      .toColourspace("srgb")
-      .removeAlpha()
-      .raw()
-      .toBuffer({ resolveWithObject: true });
+    const fitted = await fit.withIccProfile("srgb").toColourspace("srgb").removeAlpha().raw().toBuffer({ resolveWithObject: true });
     ({ width, height } = fitted.info);
     rgb = fitted.data;
   } else {
@@ -86,12 +76,7 @@ export async function writeWebCopy(
       .tiff({ compression: "none" })
       .toBuffer({ resolveWithObject: true });
     ({ width, height } = fitted.info);
-    rgb = await sharp(fitted.data)
-      .withIccProfile("srgb")
-      .toColourspace("srgb")
-      .removeAlpha()
-      .raw()
-      .toBuffer();
+    rgb = await sharp(fitted.data).withIccProfile("srgb").toColourspace("srgb").removeAlpha().raw().toBuffer();
   }
 
   const scaleX = width / cut.crop.width;
@@ -118,10 +103,7 @@ export async function writeWebCopy(
   if (exif) encode = encode.withExif(exif);
   const xmp = xmpPacket(opts.rights);
   if (xmp) encode = encode.withXmp(xmp);
-  const data =
-    opts.format === "jpeg"
-      ? await encode.jpeg(WEB_JPEG).toBuffer()
-      : await encode.webp(WEB_WEBP).toBuffer();
+  const data = opts.format === "jpeg" ? await encode.jpeg(WEB_JPEG).toBuffer() : await encode.webp(WEB_WEBP).toBuffer();
   await writeStaged(staged, data);
   return { width, height, format: opts.format, dpi };
 }

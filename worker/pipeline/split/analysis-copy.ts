@@ -55,18 +55,13 @@ const DEFAULT_MAX_ANALYSIS_PIXELS = 6_000_000;
  *   scaleX: 0.25, scaleY: 0.25, dpi: { x: 75, y: 75 } }.
  * Throws ScanError (truncated, too_large, unreadable) when the pixels cannot be decoded.
  */
-export async function loadAnalysisCopy(
-  file: string,
-  opts: AnalysisCopyOptions,
-): Promise<AnalysisCopy> {
-  const dpi =
-    typeof opts.sourceDpi === "number" ? { x: opts.sourceDpi, y: opts.sourceDpi } : opts.sourceDpi;
+export async function loadAnalysisCopy(file: string, opts: AnalysisCopyOptions): Promise<AnalysisCopy> {
+  const dpi = typeof opts.sourceDpi === "number" ? { x: opts.sourceDpi, y: opts.sourceDpi } : opts.sourceDpi;
   if (!(dpi.x > 0 && dpi.y > 0 && Number.isFinite(dpi.x) && Number.isFinite(dpi.y))) {
     throw new RangeError(`Expected a positive source DPI but received ${dpi.x} × ${dpi.y}`);
   }
   const targetDpi = opts.targetDpi ?? DEFAULT_ANALYSIS_DPI;
-  if (!(targetDpi > 0))
-    throw new RangeError(`Expected a positive targetDpi but received ${targetDpi}`);
+  if (!(targetDpi > 0)) throw new RangeError(`Expected a positive targetDpi but received ${targetDpi}`);
 
   let sourceWidth = opts.sourceWidth;
   let sourceHeight = opts.sourceHeight;

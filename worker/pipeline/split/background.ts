@@ -48,12 +48,7 @@ const RING_MM = 2;
  * caller must not need its Lab values afterwards. Example: a white lid with one dark piece → { lab: [97.1, 0.2, 1.1], kind: "light",
  * noise: { L: 0.35, … }, … } and residuals near 0 everywhere except on the piece.
  */
-export function estimateBackground(
-  lab: LabPlanes,
-  width: number,
-  height: number,
-  pxPerMm: number,
-): BackgroundResult {
+export function estimateBackground(lab: LabPlanes, width: number, height: number, pxPerMm: number): BackgroundResult {
   const ring = borderMode(lab, width, height, Math.max(2, Math.round(RING_MM * pxPerMm)));
   const bg0 = ring.lab;
 
@@ -106,8 +101,7 @@ export function estimateBackground(
   let tolL = 15;
   let degree = 0;
   const scratch = new Float32Array(Math.max(width, height, ns));
-  const residualAt = (c: number, k: number) =>
-    S[c]![k]! - P[c]![k]! - rowP[c]![sampleRow[k]!]! - colP[c]![sampleCol[k]!]!;
+  const residualAt = (c: number, k: number) => S[c]![k]! - P[c]![k]! - rowP[c]![sampleRow[k]!]! - colP[c]![sampleCol[k]!]!;
 
   for (let iter = 0; iter < 4; iter++) {
     // 1. classify samples against the current model
@@ -133,28 +127,13 @@ export function estimateBackground(
     degree = supportedDegree(cand, nx, ny);
     const normal = normalMatrix(cand, phi, degree);
     for (let c = 0; c < 3; c++) {
-      const fit = fitSurface(
-        S[c]!,
-        cand,
-        phi,
-        sampleRow,
-        sampleCol,
-        rowP[c]!,
-        colP[c]!,
-        degree,
-        normal,
-      );
+      const fit = fitSurface(S[c]!, cand, phi, sampleRow, sampleCol, rowP[c]!, colP[c]!, degree, normal);
       if (!fit) continue;
       poly[c] = fit;
       const pc = P[c]!;
       for (let k = 0, o = 0; k < ns; k++, o += 6) {
         pc[k] =
-          fit[0]! +
-          fit[1]! * phi[o + 1]! +
-          fit[2]! * phi[o + 2]! +
-          fit[3]! * phi[o + 3]! +
-          fit[4]! * phi[o + 4]! +
-          fit[5]! * phi[o + 5]!;
+          fit[0]! + fit[1]! * phi[o + 1]! + fit[2]! * phi[o + 2]! + fit[3]! * phi[o + 3]! + fit[4]! * phi[o + 4]! + fit[5]! * phi[o + 5]!;
       }
     }
     // 3. edge profiles: median residual along each row/column of the edge bands
@@ -176,8 +155,7 @@ export function estimateBackground(
       // every background sample up to 10 000 of them, evenly spread
       const stride = Math.max(1, Math.floor(count / 10_000));
       let n = 0;
-      for (let k = 0, seen = 0; k < ns; k++)
-        if (cand[k] && seen++ % stride === 0) scratch[n++] = residualAt(c, k);
+      for (let k = 0, seen = 0; k < ns; k++) if (cand[k] && seen++ % stride === 0) scratch[n++] = residualAt(c, k);
       sigma[c] = Math.max(robustSigma(scratch, n), 0.05);
     }
     tolL = Math.max(4 * sigma[0]!, 1.5);
@@ -261,8 +239,7 @@ function supportedDegree(cand: Uint8Array, nx: number, ny: number): number {
   for (let k = 0; k < cand.length; k++) {
     const cx = k % nx;
     const ry = (k - cx) / nx;
-    const cell =
-      Math.min(3, Math.floor((ry * 4) / ny)) * 4 + Math.min(3, Math.floor((cx * 4) / nx));
+    const cell = Math.min(3, Math.floor((ry * 4) / ny)) * 4 + Math.min(3, Math.floor((cx * 4) / nx));
     totals[cell]!++;
     cells[cell]! += cand[k]!;
   }

@@ -9,12 +9,7 @@ import { medianInPlace } from "./stats";
  */
 
 /** The dominant colour of the ring `ringPx` wide inside the image edge (the outermost pixel skipped). */
-export function borderMode(
-  lab: LabPlanes,
-  width: number,
-  height: number,
-  ringPx: number,
-): { lab: Lab; agreement: number } {
+export function borderMode(lab: LabPlanes, width: number, height: number, ringPx: number): { lab: Lab; agreement: number } {
   const inner = Math.max(1, Math.min(ringPx + 1, Math.floor(Math.min(width, height) / 2)));
   const start = Math.min(1, inner - 1);
   const list = new Int32Array(2 * inner * (width + height) + 4);
@@ -45,11 +40,7 @@ export function borderMode(
     const sel: number[] = [];
     for (const i of idx) {
       if (Math.abs(lab.L[i]! - Lm) > tolL) continue;
-      if (
-        centre &&
-        (Math.abs(lab.a[i]! - centre[0]) > tolAb || Math.abs(lab.b[i]! - centre[1]) > tolAb)
-      )
-        continue;
+      if (centre && (Math.abs(lab.a[i]! - centre[0]) > tolAb || Math.abs(lab.b[i]! - centre[1]) > tolAb)) continue;
       sel.push(i);
     }
     return sel;

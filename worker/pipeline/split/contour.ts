@@ -28,15 +28,8 @@ export interface Cracks {
  * Walks the outer boundary of the 8-connected component `label`, whose first pixel in raster
  * order is `first`. Example: a single pixel at (2, 3) → 4 cracks from (2,3), (3,3), (3,4), (2,4).
  */
-export function traceCracks(
-  labels: Int32Array,
-  width: number,
-  height: number,
-  label: number,
-  first: number,
-): Cracks {
-  const inside = (x: number, y: number) =>
-    x >= 0 && y >= 0 && x < width && y < height && labels[y * width + x] === label;
+export function traceCracks(labels: Int32Array, width: number, height: number, label: number, first: number): Cracks {
+  const inside = (x: number, y: number) => x >= 0 && y >= 0 && x < width && y < height && labels[y * width + x] === label;
   const x0 = first % width;
   const y0 = (first - x0) / width;
   let cap = 1024;
@@ -109,12 +102,7 @@ export interface SubpixelContour {
  * Example: a black square on white, reduced so its left edge covers a third of a pixel column →
  * the left points sit at that column + 2/3.
  */
-export function subpixelContour(
-  cracks: Cracks,
-  field: EdgeField,
-  label: number,
-  minContrast: number,
-): SubpixelContour {
+export function subpixelContour(cracks: Cracks, field: EdgeField, label: number, minContrast: number): SubpixelContour {
   const { diff, labels, width, height } = field;
   const shifts = new Float32Array(cracks.count);
   const found = new Uint8Array(cracks.count);

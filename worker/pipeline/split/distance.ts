@@ -14,12 +14,7 @@ const INF = 1e20;
  * are not sources: a shape touching the border is not eroded from outside.
  * Example: a 5 × 1 mask [0,0,1,0,0] with sourceValue 1 → [4, 1, 0, 1, 4].
  */
-export function squaredDistance(
-  mask: Uint8Array,
-  width: number,
-  height: number,
-  sourceValue: 0 | 1,
-): Float32Array {
+export function squaredDistance(mask: Uint8Array, width: number, height: number, sourceValue: 0 | 1): Float32Array {
   // Phase 1, along the columns, for all columns at once (rows are contiguous in memory): the
   // distance to the nearest source in the same column, by a forward and a backward scan.
   const far = width + height;
@@ -61,13 +56,7 @@ export function squaredDistance(
 }
 
 /** One-dimensional squared distance transform of sampled function f[0..n) into d. */
-function envelope(
-  f: Float64Array,
-  n: number,
-  d: Float64Array,
-  v: Int32Array,
-  z: Float64Array,
-): void {
+function envelope(f: Float64Array, n: number, d: Float64Array, v: Int32Array, z: Float64Array): void {
   let k = 0;
   let first = -1;
   for (let q = 0; q < n; q++) {

@@ -28,20 +28,12 @@ const PROFILE_TOL_L = 15;
  * shadow darkens the lid without changing its hue, and must not be mistaken for a piece while it
  * is being measured. Lines with too few background pixels borrow from the nearest line further in.
  */
-export function edgeProfiles(
-  inp: ProfileInputs,
-  weight: Float32Array,
-  along: "rows" | "cols",
-): void {
+export function edgeProfiles(inp: ProfileInputs, weight: Float32Array, along: "rows" | "cols"): void {
   const { planes, poly, rowP, colP, width, height, stride, tolA, tolB } = inp;
   const lines = along === "rows" ? height : width;
   const len = along === "rows" ? width : height;
   const target = along === "rows" ? rowP : colP;
-  const values = [
-    new Float32Array(lines).fill(NaN),
-    new Float32Array(lines).fill(NaN),
-    new Float32Array(lines).fill(NaN),
-  ];
+  const values = [new Float32Array(lines).fill(NaN), new Float32Array(lines).fill(NaN), new Float32Array(lines).fill(NaN)];
   const bufL = new Float32Array(len);
   const bufA = new Float32Array(len);
   const bufB = new Float32Array(len);
@@ -57,9 +49,7 @@ export function edgeProfiles(
     // p0 + p1·X + p2·Y + p3·X² + p4·XY + p5·Y² is c0 + (c1 + c2·T)·T per channel.
     const F = rows ? (2 * (l + 0.5)) / height - 1 : (2 * (l + 0.5)) / width - 1;
     const coef = (p: Float64Array): [number, number, number] =>
-      rows
-        ? [p[0]! + p[2]! * F + p[5]! * F * F, p[1]! + p[4]! * F, p[3]!]
-        : [p[0]! + p[1]! * F + p[3]! * F * F, p[2]! + p[4]! * F, p[5]!];
+      rows ? [p[0]! + p[2]! * F + p[5]! * F * F, p[1]! + p[4]! * F, p[3]!] : [p[0]! + p[1]! * F + p[3]! * F * F, p[2]! + p[4]! * F, p[5]!];
     const [l0, l1, l2] = coef(pL);
     const [a0, a1, a2] = coef(pA);
     const [b0, b1, b2] = coef(pB);

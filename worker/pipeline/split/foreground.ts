@@ -81,11 +81,7 @@ export function findForeground(residual: LabPlanes, opts: ForegroundOptions): Fo
     }
   };
   const quiet = sampleQuiet(diff, threshold.floorDeltaE);
-  const sm = [
-    new Float32Array(quiet.length),
-    new Float32Array(quiet.length),
-    new Float32Array(quiet.length),
-  ];
+  const sm = [new Float32Array(quiet.length), new Float32Array(quiet.length), new Float32Array(quiet.length)];
   quiet.forEach((i, k) => {
     smoothAt(i);
     sm[0]![k] = sv[0]!;
@@ -93,8 +89,7 @@ export function findForeground(residual: LabPlanes, opts: ForegroundOptions): Fo
     sm[2]![k] = sv[2]!;
   });
   const sSigma = Math.max(robustSigma(sm[0]!), robustSigma(sm[1]!), robustSigma(sm[2]!), 0.05);
-  const weakLevel =
-    Math.max(1.2, 0.25 * threshold.deltaE, 5 * sSigma) * sensitivityFactor(opts.sensitivity);
+  const weakLevel = Math.max(1.2, 0.25 * threshold.deltaE, 5 * sSigma) * sensitivityFactor(opts.sensitivity);
   const lineLevel = Math.max(1.5, 4 * background.noise.L) * sensitivityFactor(opts.sensitivity);
   const light = background.kind === "light";
   const weak2 = weakLevel * weakLevel;
@@ -176,14 +171,7 @@ function evidenceMask(
  * The 3 × 3 binomial smoothing (1 2 1 / 2 4 2 / 1 2 1, over 16) of plane p at pixel i, with the
  * neighbour offsets given (0 at the image's edge: the edge pixel stands in for its missing neighbour).
  */
-function smooth3(
-  p: Float32Array,
-  i: number,
-  left: number,
-  right: number,
-  up: number,
-  down: number,
-): number {
+function smooth3(p: Float32Array, i: number, left: number, right: number, up: number, down: number): number {
   const mid = 2 * p[i]! + p[i - left]! + p[i + right]!;
   const u = i - up;
   const d = i + down;

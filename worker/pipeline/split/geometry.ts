@@ -34,8 +34,7 @@ export function polygonArea(points: readonly Point[]): number {
   return Math.abs(signedArea(points));
 }
 
-const cross = (o: Point, a: Point, b: Point) =>
-  (a[0] - o[0]) * (b[1] - o[1]) - (a[1] - o[1]) * (b[0] - o[0]);
+const cross = (o: Point, a: Point, b: Point) => (a[0] - o[0]) * (b[1] - o[1]) - (a[1] - o[1]) * (b[0] - o[0]);
 
 /**
  * Convex hull by Andrew's monotone chain, O(n log n); collinear points are dropped. The loop has a
@@ -47,15 +46,13 @@ export function convexHull(points: readonly Point[]): Point[] {
   if (pts.length < 3) return pts;
   const lower: Point[] = [];
   for (const p of pts) {
-    while (lower.length >= 2 && cross(lower[lower.length - 2]!, lower[lower.length - 1]!, p) <= 0)
-      lower.pop();
+    while (lower.length >= 2 && cross(lower[lower.length - 2]!, lower[lower.length - 1]!, p) <= 0) lower.pop();
     lower.push(p);
   }
   const upper: Point[] = [];
   for (let i = pts.length - 1; i >= 0; i--) {
     const p = pts[i]!;
-    while (upper.length >= 2 && cross(upper[upper.length - 2]!, upper[upper.length - 1]!, p) <= 0)
-      upper.pop();
+    while (upper.length >= 2 && cross(upper[upper.length - 2]!, upper[upper.length - 1]!, p) <= 0) upper.pop();
     upper.push(p);
   }
   lower.pop();
@@ -77,13 +74,7 @@ export function uprightFrame(dir: Point): { angle: number; u: Point } {
 }
 
 /** The rectangle with the given centre, side direction and extents, in upright form. */
-export function rotatedRect(
-  cx: number,
-  cy: number,
-  dir: Point,
-  alongDir: number,
-  acrossDir: number,
-): RotatedRect {
+export function rotatedRect(cx: number, cy: number, dir: Point, alongDir: number, acrossDir: number): RotatedRect {
   const { angle, u } = uprightFrame(dir);
   const len = Math.hypot(dir[0], dir[1]);
   const dx = dir[0] / len;
@@ -187,13 +178,7 @@ export function minAreaRect(points: readonly Point[]): RotatedRect {
     const a = hull[0]!;
     const b = hull[h - 1]!;
     const len = Math.hypot(b[0] - a[0], b[1] - a[1]);
-    return rotatedRect(
-      (a[0] + b[0]) / 2,
-      (a[1] + b[1]) / 2,
-      len > 0 ? [b[0] - a[0], b[1] - a[1]] : [1, 0],
-      len,
-      0,
-    );
+    return rotatedRect((a[0] + b[0]) / 2, (a[1] + b[1]) / 2, len > 0 ? [b[0] - a[0], b[1] - a[1]] : [1, 0], len, 0);
   }
   const at = (i: number) => hull[i % h]!;
   const dot = (p: Point, ex: number, ey: number) => p[0] * ex + p[1] * ey;
@@ -260,11 +245,7 @@ function segmentDistance(p: Point, a: Point, b: Point): number {
  * first point and the point farthest from it are both kept and the two halves simplified apart.
  * Example: [[0,0],[1,0.1],[2,0],[3,5]] with epsilon 0.5, open → [[0,0],[2,0],[3,5]].
  */
-export function simplifyPolyline(
-  points: readonly Point[],
-  epsilon: number,
-  closed = false,
-): Point[] {
+export function simplifyPolyline(points: readonly Point[], epsilon: number, closed = false): Point[] {
   const n = points.length;
   if (n < 3) return [...points];
   if (closed) {

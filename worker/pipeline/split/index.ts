@@ -90,8 +90,7 @@ function checkOptions(
     throw new RangeError(`Expected a sensitivity from 0 to 1 but received ${opts.sensitivity}`);
   }
   const dpi = opts.dpi ?? DEFAULT_DPI;
-  if (!(Number.isFinite(dpi) && dpi > 0))
-    throw new RangeError(`Expected a positive DPI but received ${opts.dpi}`);
+  if (!(Number.isFinite(dpi) && dpi > 0)) throw new RangeError(`Expected a positive DPI but received ${opts.dpi}`);
   if (opts.setDpi && !(opts.setDpi.x > 0 && opts.setDpi.y > 0 && Number.isFinite(opts.setDpi.x) && Number.isFinite(opts.setDpi.y)))
     throw new RangeError(`Expected a positive set DPI but received ${opts.setDpi.x} × ${opts.setDpi.y}`);
   const maxPixels = opts.maxPixels ?? DEFAULT_MAX_PIXELS;
@@ -105,10 +104,7 @@ function checkOptions(
  * Analyses a reduced copy: pure, no I/O. `sourceDpi` is the source scan's resolution.
  * Example: analyseCopy(copy, { sensitivity: 0.5, sourceDpi: { x: 300, y: 300 } }).fragments.length → 8.
  */
-export function analyseCopy(
-  copy: AnalysisCopy,
-  opts: { sensitivity: number; sourceDpi: { x: number; y: number } },
-): Analysis {
+export function analyseCopy(copy: AnalysisCopy, opts: { sensitivity: number; sourceDpi: { x: number; y: number } }): Analysis {
   const { width, height } = copy;
   const pxPerMm = Math.sqrt(copy.dpi.x * copy.dpi.y) / MM_PER_INCH;
   const lab = rgbToLabPlanes(copy.data, width * height, 3);

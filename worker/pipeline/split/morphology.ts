@@ -23,13 +23,7 @@ function smallDisc(radius: number): "none" | "plus" | "square" | null {
  * unset for a dilation and as set for an erosion, as in the distance-transform path. Masks hold
  * 0 and 1 only, so max and min are bitwise or and and.
  */
-function neighbourPass(
-  mask: Uint8Array,
-  width: number,
-  height: number,
-  shape: "plus" | "square",
-  dilation: boolean,
-): Uint8Array {
+function neighbourPass(mask: Uint8Array, width: number, height: number, shape: "plus" | "square", dilation: boolean): Uint8Array {
   const out = new Uint8Array(mask.length);
   const edge = dilation ? 0 : 1;
   if (shape === "square") {
@@ -55,14 +49,7 @@ function neighbourPass(
 }
 
 /** out = the max (or min) of each pixel and its left and right neighbours. */
-function rowPass(
-  src: Uint8Array,
-  out: Uint8Array,
-  width: number,
-  height: number,
-  edge: number,
-  dilation: boolean,
-): void {
+function rowPass(src: Uint8Array, out: Uint8Array, width: number, height: number, edge: number, dilation: boolean): void {
   for (let y = 0; y < height; y++) {
     const row = y * width;
     const last = row + width - 1;
@@ -75,14 +62,7 @@ function rowPass(
 }
 
 /** out = the max (or min) of each pixel and its neighbours above and below. */
-function columnPass(
-  src: Uint8Array,
-  out: Uint8Array,
-  width: number,
-  height: number,
-  edge: number,
-  dilation: boolean,
-): void {
+function columnPass(src: Uint8Array, out: Uint8Array, width: number, height: number, edge: number, dilation: boolean): void {
   for (let y = 0; y < height; y++) {
     const row = y * width;
     const up = y > 0 ? row - width : -1;
@@ -96,12 +76,7 @@ function columnPass(
 }
 
 /** Pixels within `radius` px of a set pixel. Example: one set pixel, radius 1 → a plus of 5. */
-export function dilate(
-  mask: Uint8Array,
-  width: number,
-  height: number,
-  radius: number,
-): Uint8Array {
+export function dilate(mask: Uint8Array, width: number, height: number, radius: number): Uint8Array {
   const small = smallDisc(radius);
   if (small === "none") return mask.slice();
   if (small) return neighbourPass(mask, width, height, small, true);
@@ -180,12 +155,7 @@ export interface ThinCut {
  * against a piece is cut back to a stub of half the radius.
  * Example: radius 4 px on a 3 px wide line touching a 100 px square → the square alone.
  */
-export function cutThinParts(
-  mask: Uint8Array,
-  width: number,
-  height: number,
-  radius: number,
-): ThinCut {
+export function cutThinParts(mask: Uint8Array, width: number, height: number, radius: number): ThinCut {
   const inside = squaredDistance(mask, width, height, 0);
   const core = new Uint8Array(mask.length);
   const r2 = radius * radius;

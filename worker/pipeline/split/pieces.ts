@@ -108,10 +108,7 @@ export function measurePiece(comp: Component, ctx: PieceContext): DetectedPiece 
   const sy = 1 / ctx.scaleY;
   const W = ctx.sourceWidth;
   const H = ctx.sourceHeight;
-  const points: Point[] = sub.points.map(([x, y]) => [
-    Math.min(W, Math.max(0, x * sx)),
-    Math.min(H, Math.max(0, y * sy)),
-  ]);
+  const points: Point[] = sub.points.map(([x, y]) => [Math.min(W, Math.max(0, x * sx)), Math.min(H, Math.max(0, y * sy))]);
   const unit = Math.max(sx, sy); // one analysis pixel, in source pixels
   const hull = convexHull(points);
   const calipers = minAreaRect(hull);
@@ -175,12 +172,7 @@ export function measurePiece(comp: Component, ctx: PieceContext): DetectedPiece 
  * (area over hull area, from 0.5 to 0.95), 0.3 × the share of its edge that is sharp; × 0.7 when
  * it touches the scan's edge (it may run off the bed).
  */
-function pieceConfidence(
-  comp: Component,
-  ctx: PieceContext,
-  solidity: number,
-  sharp: number,
-): number {
+function pieceConfidence(comp: Component, ctx: PieceContext, solidity: number, sharp: number): number {
   let sum = 0;
   let n = 0;
   for (let y = comp.minY; y <= comp.maxY; y++) {
@@ -192,10 +184,7 @@ function pieceConfidence(
       }
     }
   }
-  const contrast = Math.min(
-    1,
-    Math.max(0, Math.log2(sum / Math.max(1, n) / ctx.thresholdDeltaE) / 2),
-  );
+  const contrast = Math.min(1, Math.max(0, Math.log2(sum / Math.max(1, n) / ctx.thresholdDeltaE) / 2));
   const solid = Math.min(1, Math.max(0, (solidity - 0.5) / 0.45));
   const score = (0.4 * contrast + 0.3 * solid + 0.3 * sharp) * (comp.touchesBorder ? 0.7 : 1);
   return Math.round(Math.min(1, Math.max(0.01, score)) * 100) / 100;

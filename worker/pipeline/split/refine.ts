@@ -35,10 +35,7 @@ function sidesOf(u: Point, hw: number, hh: number): Side[] {
 }
 
 /** Direction of the principal axis of points (idx) as an angle in radians, and the rms across it. */
-function principalAxis(
-  points: readonly Point[],
-  idx: number[],
-): { angle: number; rms: number; mx: number; my: number } {
+function principalAxis(points: readonly Point[], idx: number[]): { angle: number; rms: number; mx: number; my: number } {
   let mx = 0;
   let my = 0;
   for (const i of idx) {
@@ -96,8 +93,7 @@ export function refineRect(
       const side = sides[s]!;
       const pn = qx * side.n[0] + qy * side.n[1];
       const pt = qx * side.t[0] + qy * side.t[1];
-      if (Math.abs(pn - side.extent) <= band && Math.abs(pt) <= 0.8 * side.halfLength)
-        members[s]!.push(i);
+      if (Math.abs(pn - side.extent) <= band && Math.abs(pt) <= 0.8 * side.halfLength) members[s]!.push(i);
     }
   }
   let sumW = 0;
@@ -111,10 +107,7 @@ export function refineRect(
     let axis = principalAxis(points, idx);
     // outlier rejection: keep points within 2.5 robust σ of the first line (at least band / 6)
     const dist = (i: number, ax: typeof axis) =>
-      Math.abs(
-        -(points[i]![0] - ax.mx) * Math.sin(ax.angle) +
-          (points[i]![1] - ax.my) * Math.cos(ax.angle),
-      );
+      Math.abs(-(points[i]![0] - ax.mx) * Math.sin(ax.angle) + (points[i]![1] - ax.my) * Math.cos(ax.angle));
     const d = Float64Array.from(idx, (i) => dist(i, axis)).sort();
     const limit = Math.max(2.5 * 1.4826 * d[d.length >> 1]!, band / 6);
     idx = idx.filter((i) => dist(i, axis) <= limit);
@@ -138,13 +131,11 @@ export function refineRect(
   const offsets = turned.map((side, s) => {
     if (fitted[s]) {
       let sum = 0;
-      for (const i of members[s]!)
-        sum += (points[i]![0] - c[0]) * side.n[0] + (points[i]![1] - c[1]) * side.n[1];
+      for (const i of members[s]!) sum += (points[i]![0] - c[0]) * side.n[0] + (points[i]![1] - c[1]) * side.n[1];
       return sum / members[s]!.length;
     }
     let max = -Infinity;
-    for (const p of points)
-      max = Math.max(max, (p[0] - c[0]) * side.n[0] + (p[1] - c[1]) * side.n[1]);
+    for (const p of points) max = Math.max(max, (p[0] - c[0]) * side.n[0] + (p[1] - c[1]) * side.n[1]);
     return max;
   });
   const [right, left, down, up] = offsets as [number, number, number, number];

@@ -49,8 +49,7 @@ export function solveLinear(a: Float64Array, b: Float64Array, n: number): Float6
   const x = Float64Array.from(b);
   for (let c = 0; c < n; c++) {
     let piv = c;
-    for (let r = c + 1; r < n; r++)
-      if (Math.abs(m[r * n + c]!) > Math.abs(m[piv * n + c]!)) piv = r;
+    for (let r = c + 1; r < n; r++) if (Math.abs(m[r * n + c]!) > Math.abs(m[piv * n + c]!)) piv = r;
     if (Math.abs(m[piv * n + c]!) < 1e-12) return null;
     if (piv !== c) {
       for (let k = 0; k < n; k++) {

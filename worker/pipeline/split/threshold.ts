@@ -117,11 +117,7 @@ export interface Threshold {
  * 2^(1 − 2s): 0.5 keeps it, 1 halves it, 0 doubles it, never below 3.5σ.
  * Example: otsu at ΔE 14, σ 0.4, s 0.5 → clamp(14, 2.5, 10) = 10.
  */
-export function chooseThreshold(
-  hist: Float64Array,
-  noiseSigma: number,
-  sensitivity: number,
-): Threshold {
+export function chooseThreshold(hist: Float64Array, noiseSigma: number, sensitivity: number): Threshold {
   const otsu = otsuLevel(hist);
   const otsuDeltaE = levelToDeltaE(otsu + 0.5);
   const floorDeltaE = Math.max(2.5, 5 * noiseSigma);

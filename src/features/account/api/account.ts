@@ -14,15 +14,13 @@ import { apiRequest } from "../../../lib/api-client";
  */
 export function useChangePassword() {
   return useMutation({
-    mutationFn: (body: ChangePasswordBody) =>
-      apiRequest(API.passwordChange, { body, schema: changePasswordResponse, quiet: true }),
+    mutationFn: (body: ChangePasswordBody) => apiRequest(API.passwordChange, { body, schema: changePasswordResponse, quiet: true }),
   });
 }
 
 /** One's own name. The caller refreshes what shows the signed-in person (the rail, this page). */
 export function useRenameSelf() {
   return useMutation({
-    mutationFn: (body: RenameSelfBody) =>
-      apiRequest(API.nameUpdate, { body, schema: renameSelfResponse, quiet: true }),
+    mutationFn: (body: RenameSelfBody) => apiRequest(API.nameUpdate, { body, schema: renameSelfResponse, quiet: true }),
   });
 }

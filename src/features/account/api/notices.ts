@@ -24,9 +24,7 @@ export function useUpdateNotices() {
       const key = noticesQueryOptions().queryKey;
       // A read still on its way would otherwise land on top of the new choice.
       await queryClient.cancelQueries({ queryKey: key });
-      queryClient.setQueryData(key, (old) =>
-        old ? { ...old, defaults: false, notices: { ...old.notices, ...body } } : old,
-      );
+      queryClient.setQueryData(key, (old) => (old ? { ...old, defaults: false, notices: { ...old.notices, ...body } } : old));
     },
     onSuccess: (data) => queryClient.setQueryData(noticesQueryOptions().queryKey, data),
     onError: () => queryClient.invalidateQueries({ queryKey: noticesQueryOptions().queryKey }),

@@ -101,9 +101,7 @@ export function ChangePasswordForm({
         error={errors.repeat}
         disabled={busy}
       />
-      <p className="text-xs text-ink-muted">
-        You stay signed in here; every other browser signed in as you is signed out.
-      </p>
+      <p className="text-xs text-ink-muted">You stay signed in here; every other browser signed in as you is signed out.</p>
       <div className="flex flex-wrap items-center gap-x-4 gap-y-2">
         <Button type="submit" variant="primary" busy={busy}>
           Change password

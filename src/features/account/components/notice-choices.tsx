@@ -27,7 +27,12 @@ export function NoticeChoices({ email }: { email: string }) {
     update.mutate(
       { [kind]: on },
       {
-        onSuccess: () => toast.success(on ? `You will get “${NOTICE_LABELS[kind].title.toLowerCase()}” by e-mail.` : `No more “${NOTICE_LABELS[kind].title.toLowerCase()}” messages.`),
+        onSuccess: () =>
+          toast.success(
+            on
+              ? `You will get “${NOTICE_LABELS[kind].title.toLowerCase()}” by e-mail.`
+              : `No more “${NOTICE_LABELS[kind].title.toLowerCase()}” messages.`,
+          ),
         onError: (error) => toast.error(`Not saved: ${error.message}`),
         onSettled: () =>
           setMoving((m) => {

@@ -20,8 +20,7 @@ export const auditEventQueryOptions = (id: number) =>
     // Events never change: once loaded, one is good for the whole visit.
     staleTime: Infinity,
     // A missing record (404) or a malformed id (400) will not appear on a second try.
-    retry: (count, error) =>
-      !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
+    retry: (count, error) => !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
   });
 
 export function useAuditEvent(id: number | undefined) {

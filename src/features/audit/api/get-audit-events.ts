@@ -6,11 +6,7 @@ import { auditKeys, type AuditFilterQuery } from "./keys";
 
 export const AUDIT_PAGE_SIZE = 50;
 
-export function getAuditEvents(
-  filters: AuditFilterQuery,
-  before: number | undefined,
-  signal?: AbortSignal,
-) {
+export function getAuditEvents(filters: AuditFilterQuery, before: number | undefined, signal?: AbortSignal) {
   return apiRequest(API.auditList, {
     query: { ...filters, before, limit: AUDIT_PAGE_SIZE },
     schema: auditListResponse,

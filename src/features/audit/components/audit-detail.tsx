@@ -7,14 +7,7 @@ import { LoadError } from "../../../components/notice";
 import { formatDateTimeLong } from "../../../lib/time";
 import { cn } from "../../../lib/cn";
 import { useAuditEvent } from "../api/get-audit-event";
-import {
-  SUBJECT_LABELS,
-  actionLabel,
-  actorLabel,
-  fieldLabel,
-  subjectPath,
-  valueView,
-} from "../format";
+import { SUBJECT_LABELS, actionLabel, actorLabel, fieldLabel, subjectPath, valueView } from "../format";
 
 function Value({ value, side }: { value: unknown; side: "before" | "after" }) {
   const view = valueView(value);
@@ -22,19 +15,12 @@ function Value({ value, side }: { value: unknown; side: "before" | "after" }) {
     case "empty":
       return <span className="text-ink-muted">—</span>;
     case "text":
-      return (
-        <span className={cn("break-words", side === "after" ? "text-ink" : "text-ink-soft")}>
-          {view.text}
-        </span>
-      );
+      return <span className={cn("break-words", side === "after" ? "text-ink" : "text-ink-soft")}>{view.text}</span>;
     case "list":
       return (
         <span className="flex flex-wrap gap-1">
           {view.items.map((item, i) => (
-            <span
-              key={`${item}-${i}`}
-              className="figure rounded bg-paper-200 px-1.5 py-0.5 text-[11px] text-ink-soft"
-            >
+            <span key={`${item}-${i}`} className="figure rounded bg-paper-200 px-1.5 py-0.5 text-[11px] text-ink-soft">
               {item}
             </span>
           ))}
@@ -46,14 +32,7 @@ function Value({ value, side }: { value: unknown; side: "before" | "after" }) {
           {view.pairs.map(([k, v]) => (
             <div key={k} className="contents">
               <dt className="text-ink-muted">{k}</dt>
-              <dd
-                className={cn(
-                  "figure min-w-0 break-words",
-                  side === "after" ? "text-ink" : "text-ink-soft",
-                )}
-              >
-                {v}
-              </dd>
+              <dd className={cn("figure min-w-0 break-words", side === "after" ? "text-ink" : "text-ink-soft")}>{v}</dd>
             </div>
           ))}
         </dl>
@@ -68,15 +47,7 @@ function Value({ value, side }: { value: unknown; side: "before" | "after" }) {
 }
 
 /** Each changed field in a row: what it was, what it became. */
-export function ChangesTable({
-  changes,
-  hasBefore,
-  hasAfter,
-}: {
-  changes: AuditChange[];
-  hasBefore: boolean;
-  hasAfter: boolean;
-}) {
+export function ChangesTable({ changes, hasBefore, hasAfter }: { changes: AuditChange[]; hasBefore: boolean; hasAfter: boolean }) {
   return (
     <table className="w-full table-fixed border-collapse text-sm">
       <caption className="sr-only">Changed fields, before and after</caption>
@@ -144,9 +115,7 @@ export function AuditDetail({ id, preview }: { id: number; preview?: AuditEvent 
   return (
     <article aria-labelledby="audit-event-title" className="flex flex-col gap-4">
       <header>
-        <p className="text-xs font-semibold tracking-wide text-ink-muted uppercase">
-          {actionLabel(event.action)}
-        </p>
+        <p className="text-xs font-semibold tracking-wide text-ink-muted uppercase">{actionLabel(event.action)}</p>
         <h3 id="audit-event-title" className="mt-1 text-base leading-snug font-semibold text-ink">
           {event.summary}
         </h3>
@@ -160,12 +129,8 @@ export function AuditDetail({ id, preview }: { id: number; preview?: AuditEvent 
         </Row>
         <Row label="Who">
           {actorLabel(event)}
-          {event.actor.name && event.actor.email && (
-            <span className="block text-xs text-ink-muted">{event.actor.email}</span>
-          )}
-          {!event.actor.id && event.actor.email && (
-            <span className="block text-xs text-brick">No account has this address</span>
-          )}
+          {event.actor.name && event.actor.email && <span className="block text-xs text-ink-muted">{event.actor.email}</span>}
+          {!event.actor.id && event.actor.email && <span className="block text-xs text-brick">No account has this address</span>}
         </Row>
         <Row label="About">
           {SUBJECT_LABELS[event.subjectType] ?? event.subjectType}
@@ -177,11 +142,7 @@ export function AuditDetail({ id, preview }: { id: number; preview?: AuditEvent 
               </Link>
             </>
           )}
-          {event.subjectId && (
-            <span className="figure block truncate text-[11px] text-ink-muted">
-              {event.subjectId}
-            </span>
-          )}
+          {event.subjectId && <span className="figure block truncate text-[11px] text-ink-muted">{event.subjectId}</span>}
         </Row>
         {(event.ip || event.userAgent) && (
           <Row label="From">
@@ -198,23 +159,15 @@ export function AuditDetail({ id, preview }: { id: number; preview?: AuditEvent 
         </Row>
       </dl>
       <section aria-label="Changes">
-        <h4 className="mb-1 text-xs font-semibold tracking-wide text-ink-muted uppercase">
-          Changes
-        </h4>
+        <h4 className="mb-1 text-xs font-semibold tracking-wide text-ink-muted uppercase">Changes</h4>
         {!changes ? (
           <p className="flex items-center gap-2 text-sm text-ink-muted">
             <Spinner /> Loading…
           </p>
         ) : changes.length === 0 ? (
-          <p className="text-sm text-ink-muted">
-            No fields changed: this event records an action, not an edit.
-          </p>
+          <p className="text-sm text-ink-muted">No fields changed: this event records an action, not an edit.</p>
         ) : (
-          <ChangesTable
-            changes={changes}
-            hasBefore={event.before !== null}
-            hasAfter={event.after !== null}
-          />
+          <ChangesTable changes={changes} hasBefore={event.before !== null} hasAfter={event.after !== null} />
         )}
       </section>
     </article>

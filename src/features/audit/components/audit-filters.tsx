@@ -1,10 +1,5 @@
 import { useEffect, useState } from "react";
-import {
-  AUDIT_ACTION_GROUPS,
-  AUDIT_ACTION_NAMES,
-  AUDIT_SUBJECT_TYPES,
-  type AuditSubjectType,
-} from "../../../../shared/schemas/audit";
+import { AUDIT_ACTION_GROUPS, AUDIT_ACTION_NAMES, AUDIT_SUBJECT_TYPES, type AuditSubjectType } from "../../../../shared/schemas/audit";
 import { Button } from "../../../components/button";
 import { SelectField, TextField } from "../../../components/field";
 import { GROUP_LABELS, SUBJECT_LABELS, actionLabel } from "../format";
@@ -55,11 +50,7 @@ export function AuditFiltersBar({
           data-audit-search
           aria-keyshortcuts="/"
         />
-        <SelectField
-          label="Who"
-          value={filters.actorId ?? ""}
-          onChange={(e) => change({ actorId: e.target.value || undefined })}
-        >
+        <SelectField label="Who" value={filters.actorId ?? ""} onChange={(e) => change({ actorId: e.target.value || undefined })}>
           <option value="">Anyone</option>
           {actors.map((a) => (
             <option key={a.id} value={a.id}>
@@ -67,17 +58,11 @@ export function AuditFiltersBar({
             </option>
           ))}
         </SelectField>
-        <SelectField
-          label="What"
-          value={filters.action ?? ""}
-          onChange={(e) => change({ action: e.target.value || undefined })}
-        >
+        <SelectField label="What" value={filters.action ?? ""} onChange={(e) => change({ action: e.target.value || undefined })}>
           <option value="">Every change</option>
           {AUDIT_ACTION_GROUPS.map((group) => (
             <optgroup key={group} label={GROUP_LABELS[group] ?? group}>
-              <option value={`${group}.*`}>
-                Anything about {(GROUP_LABELS[group] ?? group).toLowerCase()}
-              </option>
+              <option value={`${group}.*`}>Anything about {(GROUP_LABELS[group] ?? group).toLowerCase()}</option>
               {AUDIT_ACTION_NAMES.filter((a) => a.startsWith(`${group}.`)).map((a) => (
                 <option key={a} value={a}>
                   {actionLabel(a)}

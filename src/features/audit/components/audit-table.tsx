@@ -19,12 +19,7 @@ function actionTone(action: string): string {
     return "bg-brick";
   }
   if (action.startsWith("auth.")) return "bg-ink-faint";
-  if (
-    action.endsWith(".approve") ||
-    action.endsWith(".approve_remaining") ||
-    action.endsWith(".enable")
-  )
-    return "bg-accent";
+  if (action.endsWith(".approve") || action.endsWith(".approve_remaining") || action.endsWith(".enable")) return "bg-accent";
   return "bg-ochre";
 }
 
@@ -50,12 +45,7 @@ export function AuditTable({
 
   const move = (delta: number) => {
     if (!events.length) return;
-    const next =
-      index < 0
-        ? delta > 0
-          ? 0
-          : events.length - 1
-        : Math.min(events.length - 1, Math.max(0, index + delta));
+    const next = index < 0 ? (delta > 0 ? 0 : events.length - 1) : Math.min(events.length - 1, Math.max(0, index + delta));
     const id = events[next]!.id;
     onSelect(id);
     const row = rows.current.get(id);
@@ -72,8 +62,7 @@ export function AuditTable({
       return;
     }
     if (isTyping(event.target)) return;
-    const inTable =
-      event.target instanceof HTMLElement && event.target.closest("[data-audit-table]");
+    const inTable = event.target instanceof HTMLElement && event.target.closest("[data-audit-table]");
     if (event.key === "j" || (inTable && event.key === "ArrowDown")) {
       event.preventDefault();
       move(1);
@@ -101,8 +90,7 @@ export function AuditTable({
       aria-busy={busy || undefined}
     >
       <caption className="sr-only">
-        Audit trail, newest first. Use j and k or the arrow keys to move between events, Enter to
-        open what one is about.
+        Audit trail, newest first. Use j and k or the arrow keys to move between events, Enter to open what one is about.
       </caption>
       <colgroup>
         <col className="w-[8.5rem]" />
@@ -153,10 +141,7 @@ export function AuditTable({
                 <Ago iso={event.at} className="block text-ink-muted" />
               </td>
               <td className="px-3 py-2.5">
-                <span
-                  className="block truncate font-medium text-ink"
-                  title={event.actor.email ?? undefined}
-                >
+                <span className="block truncate font-medium text-ink" title={event.actor.email ?? undefined}>
                   {actorLabel(event)}
                 </span>
                 {unknownActor ? (
@@ -169,10 +154,7 @@ export function AuditTable({
               </td>
               <td className="px-3 py-2.5">
                 <span className="flex items-center gap-2 text-xs font-semibold tracking-wide text-ink-soft">
-                  <span
-                    aria-hidden="true"
-                    className={cn("size-2 shrink-0 rounded-full", actionTone(event.action))}
-                  />
+                  <span aria-hidden="true" className={cn("size-2 shrink-0 rounded-full", actionTone(event.action))} />
                   {actionLabel(event.action)}
                 </span>
                 <span className="mt-0.5 block text-ink">{event.summary}</span>
@@ -183,9 +165,7 @@ export function AuditTable({
                     {SUBJECT_LABELS[event.subjectType] ?? event.subjectType}
                   </Link>
                 ) : (
-                  <span className="text-ink-muted">
-                    {SUBJECT_LABELS[event.subjectType] ?? event.subjectType}
-                  </span>
+                  <span className="text-ink-muted">{SUBJECT_LABELS[event.subjectType] ?? event.subjectType}</span>
                 )}
               </td>
             </tr>

@@ -84,25 +84,11 @@ export function useAuditFilters() {
       to: filters.toDay ? dayEnd(filters.toDay) : undefined,
       q: filters.q,
     }),
-    [
-      filters.actorId,
-      filters.action,
-      filters.subjectType,
-      filters.subjectId,
-      filters.fromDay,
-      filters.toDay,
-      filters.q,
-    ],
+    [filters.actorId, filters.action, filters.subjectType, filters.subjectId, filters.fromDay, filters.toDay, filters.q],
   );
 
   const filtered = Boolean(
-    filters.actorId ||
-    filters.action ||
-    filters.subjectType ||
-    filters.subjectId ||
-    filters.fromDay ||
-    filters.toDay ||
-    filters.q,
+    filters.actorId || filters.action || filters.subjectType || filters.subjectId || filters.fromDay || filters.toDay || filters.q,
   );
 
   return { filters, setFilters, query, filtered };

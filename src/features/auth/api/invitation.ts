@@ -1,10 +1,7 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { API } from "../../../../shared/api";
 import { meResponse } from "../../../../shared/schemas/auth";
-import {
-  invitationPreviewResponse,
-  type AcceptInvitationBody,
-} from "../../../../shared/schemas/mail";
+import { invitationPreviewResponse, type AcceptInvitationBody } from "../../../../shared/schemas/mail";
 import { apiRequest } from "../../../lib/api-client";
 import { meQueryOptions } from "./get-me";
 

@@ -27,5 +27,4 @@ export function useBatchReport(id: string) {
 }
 
 /** The zip of a batch's files with a CSV of each output; "listing" adds the rights notice. */
-export const batchDownloadUrl = (id: string, pack: "plain" | "listing") =>
-  `${apiPath(API.batchesDownload, { id })}?pack=${pack}`;
+export const batchDownloadUrl = (id: string, pack: "plain" | "listing") => `${apiPath(API.batchesDownload, { id })}?pack=${pack}`;

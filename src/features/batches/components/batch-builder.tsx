@@ -104,10 +104,7 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
   const run = (event: FormEvent) => {
     event.preventDefault();
     if (!body) return;
-    create.mutate(
-      { ...body, name: name.trim() || undefined },
-      { onSuccess: (batch) => navigate(paths.batch(batch.id)) },
-    );
+    create.mutate({ ...body, name: name.trim() || undefined }, { onSuccess: (batch) => navigate(paths.batch(batch.id)) });
   };
 
   return (
@@ -118,13 +115,7 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
     >
       <Panel title="1 · Fragments" titleId="batch-fragments">
         <div className="flex flex-col gap-4">
-          <FragmentFilters
-            filter={filter}
-            onChange={changeFilter}
-            intakes={intakes.data ?? []}
-            scans={scanList}
-            tags={tags}
-          />
+          <FragmentFilters filter={filter} onChange={changeFilter} intakes={intakes.data ?? []} scans={scanList} tags={tags} />
           <div className="flex flex-wrap items-center gap-3 rounded-lg border border-paper-300 bg-white px-4 py-2.5">
             <span className="text-sm text-ink" aria-live="polite" data-testid="selected-count">
               {allShownPicked && hiddenPicked === 0 ? (
@@ -155,9 +146,7 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
                   setAnchor(null);
                 }}
               >
-                {picked.size === 0
-                  ? `Select all ${fragments.length} matching`
-                  : `Add the ${fragments.length - shownPicked} matching`}
+                {picked.size === 0 ? `Select all ${fragments.length} matching` : `Add the ${fragments.length - shownPicked} matching`}
               </Button>
             )}
             {hiddenPicked > 0 && (
@@ -183,8 +172,7 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
             )}
             {picked.size > 0 && (
               <span className="basis-full text-xs text-ink-muted" data-testid="selection-rule">
-                The batch makes copies of these {plural(picked.size, "fragment")}; changing the filters does not add or
-                remove any.
+                The batch makes copies of these {plural(picked.size, "fragment")}; changing the filters does not add or remove any.
               </span>
             )}
           </div>
@@ -199,8 +187,8 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
               emptyText={
                 filter.status === "approved" ? (
                   <>
-                    No approved fragment matches these filters. A batch makes copies of approved work: approve the
-                    pieces in a scan&apos;s review first (
+                    No approved fragment matches these filters. A batch makes copies of approved work: approve the pieces in a scan&apos;s
+                    review first (
                     <Link to={paths.scans} className="font-medium text-accent underline underline-offset-2">
                       Scans
                     </Link>

@@ -18,15 +18,7 @@ import { RerunNote } from "./rerun-note";
 import { RerunPanel } from "./rerun-panel";
 
 /** A batch: its progress, failures with their messages, every output, downloads and a re-run. */
-export function BatchReport({
-  report,
-  presets,
-  back,
-}: {
-  report: Report;
-  presets: PresetSummary[];
-  back: React.ReactNode;
-}) {
+export function BatchReport({ report, presets, back }: { report: Report; presets: PresetSummary[]; back: React.ReactNode }) {
   const { batch, items } = report;
   const retry = useRetryBatch(batch.id);
   const cancel = useCancelBatch(batch.id);
@@ -39,11 +31,7 @@ export function BatchReport({
   const fragments = fragmentIds.length;
   // A replacing re-run removes the old files once the new ones are made: such an output is done
   // but has no file any more, and the zip leaves it out.
-  const replaced = new Set(
-    batch.kind === "recipe"
-      ? []
-      : items.filter((i) => i.state === "done" && i.fileName === null).map((i) => i.id),
-  );
+  const replaced = new Set(batch.kind === "recipe" ? [] : items.filter((i) => i.state === "done" && i.fileName === null).map((i) => i.id));
   const files = items.filter((i) => i.state === "done" && i.fileName !== null).length;
 
   return (
@@ -57,8 +45,7 @@ export function BatchReport({
         description={
           <>
             <RerunNote report={report} replacedHere={replaced.size} />
-            {plural(fragments, "fragment")} × {plural(presetNames.size, "preset")} ={" "}
-            {plural(batch.counts.total, "output")}. {back}
+            {plural(fragments, "fragment")} × {plural(presetNames.size, "preset")} = {plural(batch.counts.total, "output")}. {back}
           </>
         }
         actions={
@@ -82,10 +69,7 @@ export function BatchReport({
                 busy={retry.isPending}
                 onClick={() =>
                   retry.mutate(undefined, {
-                    onSuccess: () =>
-                      toast.success(
-                        `Queued ${plural(batch.counts.failed, "failed output")} again.`,
-                      ),
+                    onSuccess: () => toast.success(`Queued ${plural(batch.counts.failed, "failed output")} again.`),
                   })
                 }
               >
@@ -122,15 +106,12 @@ export function BatchReport({
           )}
           {warned.length > 0 && (
             <Notice tone="caution" title={`${plural(warned.length, "output")} with a warning`}>
-              <span className="text-xs">
-                Marked in the table below, for example: {warned[0]!.warnings[0]}
-              </span>
+              <span className="text-xs">Marked in the table below, for example: {warned[0]!.warnings[0]}</span>
               {warned.some((o) => o.presetKind === "print" && o.effectiveDpi !== null) && (
                 // Saying "may look soft" alone leaves the person to guess what would help.
                 <span className="mt-1.5 block text-xs" data-testid="soft-print-advice">
-                  Fitted to its paper, a small piece is enlarged past the detail its scan holds. For
-                  sharper prints, give the print preset an exact size nearer the piece&apos;s own
-                  (Scale: Exact size, on{" "}
+                  Fitted to its paper, a small piece is enlarged past the detail its scan holds. For sharper prints, give the print preset
+                  an exact size nearer the piece&apos;s own (Scale: Exact size, on{" "}
                   <Link to={paths.presets} className="font-medium underline underline-offset-2">
                     Presets
                   </Link>
@@ -147,23 +128,13 @@ export function BatchReport({
           replacedCount={replaced.size}
         />
         <Can role="operator">
-          <RerunPanel
-            key={current.join()}
-            batchId={batch.id}
-            presets={presets}
-            current={current}
-            fragmentIds={fragmentIds}
-          />
+          <RerunPanel key={current.join()} batchId={batch.id} presets={presets} current={current} fragmentIds={fragmentIds} />
         </Can>
       </div>
       <Panel title="Outputs" titleId="batch-outputs" bodyClassName="p-0" className="mt-6">
-        <p
-          className="border-b border-paper-200 px-5 py-2 text-xs text-ink-muted"
-          data-testid="file-rights-caution"
-        >
-          Each file name downloads that file. Pieces cut from printed publications may still be
-          under copyright: check rights and licences under local law before selling or publishing
-          them.
+        <p className="border-b border-paper-200 px-5 py-2 text-xs text-ink-muted" data-testid="file-rights-caution">
+          Each file name downloads that file. Pieces cut from printed publications may still be under copyright: check rights and licences
+          under local law before selling or publishing them.
         </p>
         <OutputsTable batchId={batch.id} items={items} replaced={replaced} />
       </Panel>

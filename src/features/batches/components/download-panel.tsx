@@ -45,12 +45,9 @@ export function DownloadPanel({
           ))}
         </fieldset>
         {pack === "listing" && (
-          <p
-            className="rounded-md border border-ochre/30 bg-ochre-soft/60 px-3 py-2 text-xs text-ochre"
-            data-testid="rights-caution"
-          >
-            Pieces cut from printed publications may still be under copyright: check rights and
-            licences under local law before selling or publishing them.
+          <p className="rounded-md border border-ochre/30 bg-ochre-soft/60 px-3 py-2 text-xs text-ochre" data-testid="rights-caution">
+            Pieces cut from printed publications may still be under copyright: check rights and licences under local law before selling or
+            publishing them.
           </p>
         )}
         <a
@@ -69,16 +66,13 @@ export function DownloadPanel({
         </a>
         {replacedCount > 0 && (
           <p className="text-[11px] text-ink-muted" data-testid="replaced-note">
-            {replacedCount === 1 ? "1 output was" : `${replacedCount} outputs were`} replaced by a
-            later run;
+            {replacedCount === 1 ? "1 output was" : `${replacedCount} outputs were`} replaced by a later run;
             {replacedCount === 1 ? " its file is" : " their files are"} not in the zip.
           </p>
         )}
         {!ready && (
           <p className="text-[11px] text-ink-muted">
-            {replacedCount > 0
-              ? "Every file of this batch was replaced by a later run."
-              : "Ready once at least one output is done."}
+            {replacedCount > 0 ? "Every file of this batch was replaced by a later run." : "Ready once at least one output is done."}
           </p>
         )}
       </div>

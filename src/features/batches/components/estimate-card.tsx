@@ -57,7 +57,10 @@ export function EstimateCard({
         </dd>
       </dl>
       {estimate.warnings.length > 0 && (
-        <ul className="flex flex-col gap-1 rounded-md border border-ochre/30 bg-ochre-soft/60 px-3 py-2 text-xs text-ochre" aria-label="Warnings">
+        <ul
+          className="flex flex-col gap-1 rounded-md border border-ochre/30 bg-ochre-soft/60 px-3 py-2 text-xs text-ochre"
+          aria-label="Warnings"
+        >
           {estimate.warnings.map((w, i) => (
             <li key={i}>⚠ {w}</li>
           ))}

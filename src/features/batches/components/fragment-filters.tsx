@@ -29,8 +29,17 @@ export function FragmentFilters({
 }) {
   const set = (patch: Partial<FragmentFilter>) => onChange({ ...filter, ...patch });
   return (
-    <div className="grid grid-cols-2 items-end gap-3 xl:grid-cols-[minmax(0,1.4fr)_minmax(0,1fr)_minmax(0,1fr)]" role="search" aria-label="Filter fragments">
-      <SelectField label="Intake" fieldClassName="max-xl:col-span-2" value={filter.intakeId ?? ""} onChange={(e) => set({ intakeId: e.target.value || undefined, scanId: undefined })}>
+    <div
+      className="grid grid-cols-2 items-end gap-3 xl:grid-cols-[minmax(0,1.4fr)_minmax(0,1fr)_minmax(0,1fr)]"
+      role="search"
+      aria-label="Filter fragments"
+    >
+      <SelectField
+        label="Intake"
+        fieldClassName="max-xl:col-span-2"
+        value={filter.intakeId ?? ""}
+        onChange={(e) => set({ intakeId: e.target.value || undefined, scanId: undefined })}
+      >
         <option value="">All intakes</option>
         {intakes.map((i) => (
           <option key={i.id} value={i.id}>
@@ -38,7 +47,12 @@ export function FragmentFilters({
           </option>
         ))}
       </SelectField>
-      <SelectField label="Scan" fieldClassName="max-xl:col-span-2" value={filter.scanId ?? ""} onChange={(e) => set({ scanId: e.target.value || undefined })}>
+      <SelectField
+        label="Scan"
+        fieldClassName="max-xl:col-span-2"
+        value={filter.scanId ?? ""}
+        onChange={(e) => set({ scanId: e.target.value || undefined })}
+      >
         <option value="">{filter.intakeId ? "Every scan of the intake" : "All scans"}</option>
         {scans.map((s) => (
           <option key={s.id} value={s.id}>
@@ -54,12 +68,20 @@ export function FragmentFilters({
           </option>
         ))}
       </SelectField>
-      <SelectField label="Shape" value={filter.shape ?? ""} onChange={(e) => set({ shape: (e.target.value || undefined) as FragmentShape | undefined })}>
+      <SelectField
+        label="Shape"
+        value={filter.shape ?? ""}
+        onChange={(e) => set({ shape: (e.target.value || undefined) as FragmentShape | undefined })}
+      >
         <option value="">Any shape</option>
         <option value="rectangle">Rectangle</option>
         <option value="cutout">Cut-out</option>
       </SelectField>
-      <SelectField label="Status" value={filter.status ?? "any"} onChange={(e) => set({ status: e.target.value === "any" ? undefined : (e.target.value as FragmentStatus) })}>
+      <SelectField
+        label="Status"
+        value={filter.status ?? "any"}
+        onChange={(e) => set({ status: e.target.value === "any" ? undefined : (e.target.value as FragmentStatus) })}
+      >
         {FRAGMENT_STATUSES.map((s) => (
           <option key={s} value={s}>
             {STATUS_TEXT[s]}

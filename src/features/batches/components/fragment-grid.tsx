@@ -57,7 +57,13 @@ export function FragmentGrid({
                 className="absolute top-2 left-2 z-10 size-4 accent-accent"
               />
               <span className="flex h-24 items-center justify-center border-b border-paper-200 bg-[#e7e2d6] p-2">
-                <img src={thumbUrl(f)} alt="" loading="lazy" decoding="async" className="max-h-full max-w-full bg-white object-contain shadow-sm" />
+                <img
+                  src={thumbUrl(f)}
+                  alt=""
+                  loading="lazy"
+                  decoding="async"
+                  className="max-h-full max-w-full bg-white object-contain shadow-sm"
+                />
               </span>
               <span className="flex flex-col gap-0.5 px-2.5 py-2">
                 <FragmentName fragment={f} className="text-xs font-medium text-ink" />

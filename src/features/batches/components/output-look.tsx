@@ -74,9 +74,7 @@ export function OutputLook({
         <footer className="flex flex-wrap items-center justify-between gap-3 text-xs text-ink-soft">
           <span className="figure">
             {item.fileName}
-            {item.pixelWidth && item.pixelHeight
-              ? ` · ${item.pixelWidth} × ${item.pixelHeight} px`
-              : ""}
+            {item.pixelWidth && item.pixelHeight ? ` · ${item.pixelWidth} × ${item.pixelHeight} px` : ""}
             {item.bytes !== null ? ` · ${formatBytes(item.bytes)}` : ""}
           </span>
           <span className="flex items-center gap-2">
@@ -84,20 +82,10 @@ export function OutputLook({
               <Kbd>←</Kbd>
               <Kbd>→</Kbd> the others
             </span>
-            <Button
-              variant="secondary"
-              size="sm"
-              onClick={() => onStep(-1)}
-              aria-label="Previous output"
-            >
+            <Button variant="secondary" size="sm" onClick={() => onStep(-1)} aria-label="Previous output">
               ←
             </Button>
-            <Button
-              variant="secondary"
-              size="sm"
-              onClick={() => onStep(1)}
-              aria-label="Next output"
-            >
+            <Button variant="secondary" size="sm" onClick={() => onStep(1)} aria-label="Next output">
               →
             </Button>
             <a

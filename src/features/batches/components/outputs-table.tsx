@@ -12,8 +12,7 @@ export const outputFileUrl = (batchId: string, itemId: string) =>
 const outputThumbUrl = (batchId: string, itemId: string, edge: 320 | 1024 = 320) =>
   `/api/batches/${encodeURIComponent(batchId)}/items/${encodeURIComponent(itemId)}/thumb${edge === 320 ? "" : `?edge=${edge}`}`;
 /** An output that has a picture: made, still the batch's, and not a PDF. */
-const hasPicture = (o: BatchItem, gone: boolean) =>
-  o.state === "done" && Boolean(o.fileName) && !gone && !o.fileName!.endsWith(".pdf");
+const hasPicture = (o: BatchItem, gone: boolean) => o.state === "done" && Boolean(o.fileName) && !gone && !o.fileName!.endsWith(".pdf");
 
 const STATE_TEXT: Record<BatchItem["state"], string> = {
   queued: "Waiting",
@@ -64,20 +63,14 @@ function Notes({ o, gone, batchId }: { o: BatchItem; gone: boolean; batchId: str
           {o.bytes !== null && <span className="text-ink-muted"> · {formatBytes(o.bytes)}</span>}
         </span>
       )}
-      {gone && (
-        <span className="text-ink-muted">Made again by a later run; this file was removed.</span>
-      )}
+      {gone && <span className="text-ink-muted">Made again by a later run; this file was removed.</span>}
       {o.error && (
         <p role="alert" className="mt-0.5 font-medium text-brick">
           {o.error}
         </p>
       )}
       {o.warnings.map((w, i) => (
-        <p
-          key={i}
-          className="mt-0.5 inline-block rounded bg-ochre-soft px-1.5 py-0.5 font-medium text-ochre"
-          data-testid="output-warning"
-        >
+        <p key={i} className="mt-0.5 inline-block rounded bg-ochre-soft px-1.5 py-0.5 font-medium text-ochre" data-testid="output-warning">
           ⚠ {w}
         </p>
       ))}
@@ -85,15 +78,7 @@ function Notes({ o, gone, batchId }: { o: BatchItem; gone: boolean; batchId: str
   );
 }
 
-export function OutputsTable({
-  batchId,
-  items,
-  replaced,
-}: {
-  batchId: string;
-  items: BatchItem[];
-  replaced?: ReadonlySet<string>;
-}) {
+export function OutputsTable({ batchId, items, replaced }: { batchId: string; items: BatchItem[]; replaced?: ReadonlySet<string> }) {
   // The output looked at in the larger view, and the others it steps through.
   const [looking, setLooking] = useState<string | null>(null);
   const pictured = items.filter((o) => hasPicture(o, replaced?.has(o.id) ?? false));
@@ -115,9 +100,7 @@ export function OutputsTable({
             // Back to the picture of the output last looked at.
             const id = pictured[at]!.id;
             setLooking(null);
-            requestAnimationFrame(() =>
-              document.querySelector<HTMLButtonElement>(`[data-look="${CSS.escape(id)}"]`)?.focus(),
-            );
+            requestAnimationFrame(() => document.querySelector<HTMLButtonElement>(`[data-look="${CSS.escape(id)}"]`)?.focus());
           }}
         />
       )}
@@ -166,18 +149,12 @@ export function OutputsTable({
                           <ThumbImage
                             src={outputThumbUrl(batchId, o.id)}
                             className="max-h-full max-w-full object-contain"
-                            fallback={
-                              <span className="text-[10px] text-ink-muted">
-                                {o.fileName!.split(".").pop()?.toUpperCase()}
-                              </span>
-                            }
+                            fallback={<span className="text-[10px] text-ink-muted">{o.fileName!.split(".").pop()?.toUpperCase()}</span>}
                           />
                         </button>
                       ) : (
                         <span className="flex size-12 shrink-0 items-center justify-center overflow-hidden rounded border border-paper-200 bg-[#e7e2d6]">
-                          {o.state === "done" && o.fileName && !gone ? (
-                            <span className="text-[10px] text-ink-muted">PDF</span>
-                          ) : null}
+                          {o.state === "done" && o.fileName && !gone ? <span className="text-[10px] text-ink-muted">PDF</span> : null}
                         </span>
                       )}
                       <span className="font-medium text-ink">
@@ -192,12 +169,7 @@ export function OutputsTable({
                     </span>
                   </td>
                   <td className="px-3 py-2.5 whitespace-nowrap text-ink-soft">{o.preset}</td>
-                  <td
-                    className={cn(
-                      "px-3 py-2.5 text-xs whitespace-nowrap",
-                      gone ? "text-ink-muted" : STATE_TONE[o.state],
-                    )}
-                  >
+                  <td className={cn("px-3 py-2.5 text-xs whitespace-nowrap", gone ? "text-ink-muted" : STATE_TONE[o.state])}>
                     {gone ? "Replaced" : STATE_TEXT[o.state]}
                   </td>
                   <td className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft">
@@ -210,11 +182,9 @@ export function OutputsTable({
                   >
                     {print && o.printedIn ? (
                       <>
-                        {formatNumber(o.printedIn.width, 2)} × {formatNumber(o.printedIn.height, 2)}{" "}
-                        in
+                        {formatNumber(o.printedIn.width, 2)} × {formatNumber(o.printedIn.height, 2)} in
                         <span className="block text-ink-muted">
-                          {formatNumber(o.printedIn.width * 2.54, 1)} ×{" "}
-                          {formatNumber(o.printedIn.height * 2.54, 1)} cm
+                          {formatNumber(o.printedIn.width * 2.54, 1)} × {formatNumber(o.printedIn.height * 2.54, 1)} cm
                         </span>
                       </>
                     ) : (
@@ -238,10 +208,7 @@ export function OutputsTable({
                 {hasNotes && (
                   <tr
                     data-notes-for={o.id}
-                    className={cn(
-                      "border-b border-paper-200 text-xs xl:hidden",
-                      o.state === "failed" && "bg-brick-soft/30",
-                    )}
+                    className={cn("border-b border-paper-200 text-xs xl:hidden", o.state === "failed" && "bg-brick-soft/30")}
                   >
                     <td colSpan={COLUMNS.length - 1} className="px-5 pt-0 pb-2.5">
                       <Notes o={o} gone={gone} batchId={batchId} />

@@ -11,15 +11,11 @@ function RerunOfLine({ report }: { report: BatchReport }) {
   if (!batch.rerunOf) return null;
   let outcome: string;
   if (!batch.replaceOld) outcome = "Its outputs stay beside these.";
-  else if (replaceOutcome === "waiting")
-    outcome = "Once every output here is made, these replace its outputs.";
+  else if (replaceOutcome === "waiting") outcome = "Once every output here is made, these replace its outputs.";
   else if (replaceOutcome === "kept")
     outcome = `Not every output here was made, so its outputs were kept${batch.counts.failed > 0 ? "; retrying the failed ones replaces them once all are made" : ""}.`;
-  else if (oldReplaced)
-    outcome = `Every output here was made, so these replaced ${oldReplaced} of its outputs.`;
-  else
-    outcome =
-      "Every output here was made; none of its outputs needed replacing (the same files are in use here or in another batch).";
+  else if (oldReplaced) outcome = `Every output here was made, so these replaced ${oldReplaced} of its outputs.`;
+  else outcome = "Every output here was made; none of its outputs needed replacing (the same files are in use here or in another batch).";
   return (
     <span className="block" data-testid="rerun-of">
       A re-run of{" "}
@@ -40,10 +36,8 @@ function LaterRunLines({ report, replacedHere }: { report: BatchReport; replaced
       {runs.map((r) => {
         let what: string;
         if (!r.replaceOld) what = ", keeping these outputs.";
-        else if (r.replaceOutcome === "waiting")
-          what = ", which replaces these outputs once it is complete.";
-        else if (r.replaceOutcome === "kept")
-          what = ", which kept these outputs: not all of its own were made.";
+        else if (r.replaceOutcome === "waiting") what = ", which replaces these outputs once it is complete.";
+        else if (r.replaceOutcome === "kept") what = ", which kept these outputs: not all of its own were made.";
         else if (replacedHere > 0) what = ", which replaced the outputs marked Replaced below.";
         else what = "; nothing here needed replacing.";
         return (
@@ -57,9 +51,7 @@ function LaterRunLines({ report, replacedHere }: { report: BatchReport; replaced
         );
       })}
       {report.laterRuns.length > runs.length && (
-        <span className="block">
-          …and {plural(report.laterRuns.length - runs.length, "earlier re-run")}.
-        </span>
+        <span className="block">…and {plural(report.laterRuns.length - runs.length, "earlier re-run")}.</span>
       )}
     </span>
   );

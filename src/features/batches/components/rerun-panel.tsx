@@ -70,9 +70,7 @@ export function RerunPanel({
     <Panel title="Run again" titleId="batch-rerun">
       {!open ? (
         <div className="flex flex-col gap-2">
-          <p className="text-xs text-ink-muted">
-            The same fragments with other presets, e.g. at a new size or a new preset version.
-          </p>
+          <p className="text-xs text-ink-muted">The same fragments with other presets, e.g. at a new size or a new preset version.</p>
           <Button ref={opener} onClick={() => show(true)}>
             Run again with…
           </Button>
@@ -90,27 +88,19 @@ export function RerunPanel({
         >
           <p className="text-xs text-ink-muted" data-testid="rerun-size-hint">
             Each preset runs at its newest version. For a new size, save the preset with it on{" "}
-            <Link
-              to={paths.presets}
-              className="font-medium text-accent underline underline-offset-2"
-            >
+            <Link to={paths.presets} className="font-medium text-accent underline underline-offset-2">
               Presets
             </Link>{" "}
             first, then come back here.
           </p>
           <PresetChecklist presets={presets} selected={ids} onChange={setIds} />
           {fragmentIds.length <= MAX_PICKED && (
-            <div
-              className="rounded-md border border-paper-300 bg-white px-3 py-2.5"
-              data-testid="rerun-estimate"
-            >
+            <div className="rounded-md border border-paper-300 bg-white px-3 py-2.5" data-testid="rerun-estimate">
               <EstimateCard
                 estimate={body ? estimate.data : undefined}
                 loading={estimate.isFetching}
                 error={estimate.error}
-                waitingFor={
-                  ids.length === 0 ? "Pick at least one preset to see the count and size." : null
-                }
+                waitingFor={ids.length === 0 ? "Pick at least one preset to see the count and size." : null}
               />
             </div>
           )}
@@ -136,19 +126,12 @@ export function RerunPanel({
               />
               <span>
                 Replace them
-                <span className="block text-[11px] text-ink-muted">
-                  Only once the new ones are made; a failure keeps the old file.
-                </span>
+                <span className="block text-[11px] text-ink-muted">Only once the new ones are made; a failure keeps the old file.</span>
               </span>
             </label>
           </fieldset>
           <div className="flex gap-2">
-            <Button
-              variant="primary"
-              onClick={go}
-              busy={rerun.isPending}
-              disabled={ids.length === 0}
-            >
+            <Button variant="primary" onClick={go} busy={rerun.isPending} disabled={ids.length === 0}>
               Run the new batch
             </Button>
             <Button variant="quiet" onClick={() => show(false)}>

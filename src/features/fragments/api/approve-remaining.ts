@@ -26,9 +26,7 @@ export function useApproveRemaining(scanId: string) {
     mutationKey: fragmentMutationKeys.approveRemaining,
     scope: reviewScope(scanId),
     mutationFn: approveRemaining,
-    onMutate: () =>
-      queryClient.cancelQueries({ queryKey: scanFragmentsQueryOptions(scanId).queryKey }),
-    onSuccess: (fragments) =>
-      queryClient.setQueryData(scanFragmentsQueryOptions(scanId).queryKey, fragments),
+    onMutate: () => queryClient.cancelQueries({ queryKey: scanFragmentsQueryOptions(scanId).queryKey }),
+    onSuccess: (fragments) => queryClient.setQueryData(scanFragmentsQueryOptions(scanId).queryKey, fragments),
   });
 }

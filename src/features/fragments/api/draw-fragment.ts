@@ -1,11 +1,6 @@
 import { useMutation, useQueryClient } from "@tanstack/react-query";
 import { API } from "../../../../shared/api";
-import {
-  fragmentResponse,
-  type Fragment,
-  type FragmentShape,
-  type Rect,
-} from "../../../../shared/schemas/fragments";
+import { fragmentResponse, type Fragment, type FragmentShape, type Rect } from "../../../../shared/schemas/fragments";
 import { apiRequest } from "../../../lib/api-client";
 import { storeFragments } from "./get-scan-fragments";
 import { fragmentMutationKeys, reviewScope } from "./keys";

@@ -9,7 +9,8 @@ import { fragmentKeys } from "./keys";
 export function useFragmentFilesPlan(id: string, enabled: boolean) {
   return useQuery({
     queryKey: [...fragmentKeys.detail(id), "files-plan"] as const,
-    queryFn: async ({ signal }) => (await apiRequest(API.fragmentsFilesPlan, { params: { id }, schema: fragmentFilesPlanResponse, signal })).plan,
+    queryFn: async ({ signal }) =>
+      (await apiRequest(API.fragmentsFilesPlan, { params: { id }, schema: fragmentFilesPlanResponse, signal })).plan,
     enabled,
     staleTime: 0,
   });

@@ -29,8 +29,7 @@ export function useFragment(id: string) {
  * The upright thumbnail, cut from the scan's preview. The server caches it per revision, so the
  * revision in the address makes the browser fetch a new one after every edit.
  */
-export const fragmentThumbUrl = (f: Pick<Fragment, "id" | "revision">) =>
-  `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;
+export const fragmentThumbUrl = (f: Pick<Fragment, "id" | "revision">) => `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;
 
 /**
  * The fragment as it came out: a small picture of its web copy once rendered (after its recipe),
@@ -44,8 +43,7 @@ export const fragmentPictureUrl = (f: Pick<Fragment, "id" | "revision" | "render
 };
 
 /** A rendered file of the fragment; the server names the download after the scan and position. */
-export const fragmentOutputUrl = (id: string, kind: "master" | "web") =>
-  apiPath(API.fragmentsOutput, { id, kind });
+export const fragmentOutputUrl = (id: string, kind: "master" | "web") => apiPath(API.fragmentsOutput, { id, kind });
 
 /** The scan's preview the fragments are drawn over (JPEG, long edge at most 1600 px). */
 export const scanPreviewImageUrl = (scanId: string) => apiPath(API.scansPreview, { id: scanId });

@@ -40,7 +40,5 @@ export function storeFragments(queryClient: QueryClient, scanId: string, fresh: 
 /** Drops fragments that no longer exist (merged away, or a merge taken back). */
 export function forgetFragments(queryClient: QueryClient, scanId: string, ids: string[]) {
   const gone = new Set(ids);
-  queryClient.setQueryData(scanFragmentsQueryOptions(scanId).queryKey, (list) =>
-    list?.filter((f) => !gone.has(f.id)),
-  );
+  queryClient.setQueryData(scanFragmentsQueryOptions(scanId).queryKey, (list) => list?.filter((f) => !gone.has(f.id)));
 }

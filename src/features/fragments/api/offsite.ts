@@ -29,8 +29,7 @@ export function useFragmentOffsite(id: string, enabled: boolean) {
 export function useRecheckOffsite(id: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: () =>
-      apiRequest(API.fragmentsOffsiteCheck, { params: { id }, schema: fragmentOffsiteSchema }),
+    mutationFn: () => apiRequest(API.fragmentsOffsiteCheck, { params: { id }, schema: fragmentOffsiteSchema }),
     onSuccess: (data) => queryClient.setQueryData(fragmentOffsiteQueryOptions(id).queryKey, data),
   });
 }
@@ -39,8 +38,7 @@ export function useRecheckOffsite(id: string) {
 export function useRecopyOffsite(id: string) {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: () =>
-      apiRequest(API.fragmentsOffsiteCopy, { params: { id }, schema: fragmentOffsiteSchema }),
+    mutationFn: () => apiRequest(API.fragmentsOffsiteCopy, { params: { id }, schema: fragmentOffsiteSchema }),
     onSuccess: (data) => queryClient.setQueryData(fragmentOffsiteQueryOptions(id).queryKey, data),
   });
 }

@@ -27,8 +27,7 @@ function applyOp(list: ShownFragment[], op: PendingOp): ShownFragment[] {
       const { id, patch } = op.variables as UpdateFragmentVariables;
       return list.map((f) => {
         if (f.id !== id) return f;
-        const geometry =
-          patch.rect !== undefined || patch.angle !== undefined || patch.shape !== undefined;
+        const geometry = patch.rect !== undefined || patch.angle !== undefined || patch.shape !== undefined;
         return {
           ...f,
           ...(patch.status !== undefined && { status: patch.status }),
@@ -49,9 +48,7 @@ function applyOp(list: ShownFragment[], op: PendingOp): ShownFragment[] {
     }
     case kindOf(fragmentMutationKeys.approveRemaining): {
       const ids = new Set((op.variables as ApproveRemainingVariables).ids);
-      return list.map((f) =>
-        ids.has(f.id) && f.status === "proposed" ? { ...f, status: "approved", pending: true } : f,
-      );
+      return list.map((f) => (ids.has(f.id) && f.status === "proposed" ? { ...f, status: "approved", pending: true } : f));
     }
     case kindOf(fragmentMutationKeys.merge): {
       const ids = new Set((op.variables as { ids: string[] }).ids);

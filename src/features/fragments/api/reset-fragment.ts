@@ -20,8 +20,7 @@ export function useResetFragment(scanId: string) {
     mutationKey: fragmentMutationKeys.reset,
     scope: reviewScope(scanId),
     mutationFn: resetFragment,
-    onMutate: () =>
-      queryClient.cancelQueries({ queryKey: scanFragmentsQueryOptions(scanId).queryKey }),
+    onMutate: () => queryClient.cancelQueries({ queryKey: scanFragmentsQueryOptions(scanId).queryKey }),
     onSuccess: (fragment) => storeFragments(queryClient, scanId, [fragment]),
   });
 }

@@ -24,10 +24,7 @@ export async function resplitScan({ scanId, sensitivity }: ResplitVariables): Pr
  * Splits the scan again. Approved and hand-drawn fragments stay; the rest are proposed anew.
  * Callers add their own onSuccess (e.g. to store the scan, now analysing).
  */
-export function useResplitScan(
-  scanId: string,
-  mutationConfig: Omit<UseMutationOptions<Scan, Error, ResplitVariables>, "mutationFn"> = {},
-) {
+export function useResplitScan(scanId: string, mutationConfig: Omit<UseMutationOptions<Scan, Error, ResplitVariables>, "mutationFn"> = {}) {
   const queryClient = useQueryClient();
   const { onSuccess, ...rest } = mutationConfig;
   return useMutation({

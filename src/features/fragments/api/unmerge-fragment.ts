@@ -21,7 +21,6 @@ export function useUnmergeFragment(scanId: string) {
     mutationKey: fragmentMutationKeys.unmerge,
     scope: reviewScope(scanId),
     mutationFn: unmergeFragment,
-    onSuccess: (fragments) =>
-      queryClient.setQueryData(scanFragmentsQueryOptions(scanId).queryKey, fragments),
+    onSuccess: (fragments) => queryClient.setQueryData(scanFragmentsQueryOptions(scanId).queryKey, fragments),
   });
 }

@@ -1,10 +1,6 @@
 import { useMutation, useQueryClient } from "@tanstack/react-query";
 import { API } from "../../../../shared/api";
-import {
-  fragmentResponse,
-  type Fragment,
-  type UpdateFragmentBody,
-} from "../../../../shared/schemas/fragments";
+import { fragmentResponse, type Fragment, type UpdateFragmentBody } from "../../../../shared/schemas/fragments";
 import { apiRequest } from "../../../lib/api-client";
 import { scanFragmentsQueryOptions, storeFragments } from "./get-scan-fragments";
 import { fragmentMutationKeys, reviewScope } from "./keys";
@@ -33,11 +29,9 @@ export function useUpdateFragment(scanId: string) {
     mutationKey: fragmentMutationKeys.update,
     scope: reviewScope(scanId),
     mutationFn: updateFragment,
-    onMutate: () =>
-      queryClient.cancelQueries({ queryKey: scanFragmentsQueryOptions(scanId).queryKey }),
+    onMutate: () => queryClient.cancelQueries({ queryKey: scanFragmentsQueryOptions(scanId).queryKey }),
     onSuccess: (fragment) => storeFragments(queryClient, scanId, [fragment]),
     // A refusal puts the fragment back as the server holds it.
-    onError: () =>
-      queryClient.invalidateQueries({ queryKey: scanFragmentsQueryOptions(scanId).queryKey }),
+    onError: () => queryClient.invalidateQueries({ queryKey: scanFragmentsQueryOptions(scanId).queryKey }),
   });
 }

@@ -46,14 +46,8 @@ export function DeleteFragmentFiles({
           setDropOffsite(false);
           toast.success(
             `Deleted ${removed} ${removed === 1 ? "file" : "files"} of ${fragmentName(fragment)}` +
-              (there === "removed"
-                ? ", and its off-site copy."
-                : there === "kept"
-                  ? "; its off-site copy is kept."
-                  : ".") +
-              (notRemoved
-                ? ` ${notRemoved} could not be removed now; the next tidy removes them.`
-                : ""),
+              (there === "removed" ? ", and its off-site copy." : there === "kept" ? "; its off-site copy is kept." : ".") +
+              (notRemoved ? ` ${notRemoved} could not be removed now; the next tidy removes them.` : ""),
           );
           if (offsiteError) toast.error(offsiteError);
         },
@@ -67,13 +61,7 @@ export function DeleteFragmentFiles({
   if (!asking) {
     return (
       <div className="mt-3">
-        <Button
-          ref={opener}
-          size="sm"
-          variant="quiet"
-          className="-ml-3 text-brick"
-          onClick={() => setAsking(true)}
-        >
+        <Button ref={opener} size="sm" variant="quiet" className="-ml-3 text-brick" onClick={() => setAsking(true)}>
           {TITLE}…
         </Button>
       </div>
@@ -109,8 +97,7 @@ export function DeleteFragmentFiles({
             Deletes for good{" "}
             {p!.master ? (
               <>
-                the master ({p!.master.format.toUpperCase()},{" "}
-                <span className="figure">{formatBytes(p!.master.bytes)}</span>)
+                the master ({p!.master.format.toUpperCase()}, <span className="figure">{formatBytes(p!.master.bytes)}</span>)
                 {p!.copies > 0 && (
                   <>
                     {" "}

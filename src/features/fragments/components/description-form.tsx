@@ -39,9 +39,7 @@ export function DescriptionForm({
   const notesId = useId();
 
   const changed =
-    title.trim() !== (fragment.title ?? "") ||
-    tagsFrom(tags).join(",") !== fragment.tags.join(",") ||
-    notes !== (fragment.notes ?? "");
+    title.trim() !== (fragment.title ?? "") || tagsFrom(tags).join(",") !== fragment.tags.join(",") || notes !== (fragment.notes ?? "");
 
   const submit = (event: FormEvent) => {
     event.preventDefault();
@@ -68,12 +66,7 @@ export function DescriptionForm({
   };
 
   return (
-    <form
-      onSubmit={submit}
-      noValidate
-      aria-label="Describe the fragment"
-      className="flex flex-col gap-3"
-    >
+    <form onSubmit={submit} noValidate aria-label="Describe the fragment" className="flex flex-col gap-3">
       <TextField
         label="Title"
         data-fragment-title=""

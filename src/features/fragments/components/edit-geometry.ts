@@ -96,19 +96,11 @@ export function clampAngle(angle: number): number {
 
 /** True when every corner lies on the scan (a pixel of slack, as the server allows). */
 export function insideScan(placement: Placement, width: number, height: number): boolean {
-  return rectCorners(placement.rect, placement.angle).every(
-    ([x, y]) => x >= -1 && y >= -1 && x <= width + 1 && y <= height + 1,
-  );
+  return rectCorners(placement.rect, placement.angle).every(([x, y]) => x >= -1 && y >= -1 && x <= width + 1 && y <= height + 1);
 }
 
 /** Moves by (dx, dy) and then back just enough to keep every corner on the scan. */
-export function movePlacement(
-  start: Placement,
-  dx: number,
-  dy: number,
-  width: number,
-  height: number,
-): Placement {
+export function movePlacement(start: Placement, dx: number, dy: number, width: number, height: number): Placement {
   const rect = { ...start.rect, cx: start.rect.cx + dx, cy: start.rect.cy + dy };
   const corners = rectCorners(rect, start.angle);
   const xs = corners.map((c) => c[0]);

@@ -47,12 +47,7 @@ export function FragmentPanel({
             <span className="figure font-semibold">{picked}</span> selected
           </p>
           {editable && (
-            <Button
-              size="sm"
-              variant="primary"
-              onClick={review.mergeSelected}
-              busy={review.busy.merge}
-            >
+            <Button size="sm" variant="primary" onClick={review.mergeSelected} busy={review.busy.merge}>
               Merge <Kbd>M</Kbd>
             </Button>
           )}
@@ -108,12 +103,7 @@ function FragmentDetails({
         </p>
         {editable && (
           <div className="mt-3 flex flex-wrap gap-1.5">
-            <Button
-              size="sm"
-              variant={f.status === "approved" ? "secondary" : "primary"}
-              onClick={review.approve}
-              aria-keyshortcuts="A"
-            >
+            <Button size="sm" variant={f.status === "approved" ? "secondary" : "primary"} onClick={review.approve} aria-keyshortcuts="A">
               Approve <Kbd tone={f.status === "approved" ? "light" : "dark"}>A</Kbd>
             </Button>
             <Button size="sm" onClick={review.reject} aria-keyshortcuts="X">
@@ -137,13 +127,7 @@ function FragmentDetails({
               Reset <Kbd>R</Kbd>
             </Button>
             {f.origin === "merged" && (
-              <Button
-                size="sm"
-                variant="quiet"
-                onClick={review.unmergeSelected}
-                busy={review.busy.unmerge}
-                aria-keyshortcuts="Shift+M"
-              >
+              <Button size="sm" variant="quiet" onClick={review.unmergeSelected} busy={review.busy.unmerge} aria-keyshortcuts="Shift+M">
                 Unmerge <Kbd>⇧M</Kbd>
               </Button>
             )}
@@ -154,9 +138,7 @@ function FragmentDetails({
       <dl className="px-4 py-2">
         <Row term="Size">
           <span className="figure block">{formatFragmentSize(f.rect, f.dpi, "mm")}</span>
-          <span className="figure block text-ink-soft">
-            {formatFragmentSize(f.rect, f.dpi, "in")}
-          </span>
+          <span className="figure block text-ink-soft">{formatFragmentSize(f.rect, f.dpi, "in")}</span>
         </Row>
         <Row term="Pixels">
           <span className="figure">
@@ -176,40 +158,24 @@ function FragmentDetails({
           )}
         </Row>
         <Row term="Shape">
-          {editable ? (
-            <ShapeChoice value={f.shape} onChange={review.setShape} />
-          ) : f.shape === "rectangle" ? (
-            "Rectangle"
-          ) : (
-            "Cut-out"
-          )}
+          {editable ? <ShapeChoice value={f.shape} onChange={review.setShape} /> : f.shape === "rectangle" ? "Rectangle" : "Cut-out"}
         </Row>
         <Row term="Confidence">
           <span className="figure">{Math.round(f.confidence * 100)} %</span>{" "}
-          <span
-            className={cn(
-              "text-xs",
-              f.confidence < 0.6 ? "font-medium text-ochre" : "text-ink-muted",
-            )}
-          >
+          <span className={cn("text-xs", f.confidence < 0.6 ? "font-medium text-ochre" : "text-ink-muted")}>
             {confidenceWords(f.confidence)}
           </span>
         </Row>
       </dl>
 
       <section aria-label="Render" className="border-t border-paper-200 px-4 py-3">
-        <h3 className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase">
-          Files
-        </h3>
+        <h3 className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase">Files</h3>
         <RenderState fragment={f} />
         <div className="mt-2">
           <OutputList fragment={f} compact />
         </div>
         {editable && <OffsiteCopy fragment={f} />}
-        <Link
-          to={paths.fragment(f.id)}
-          className="mt-2 inline-block text-xs font-medium text-accent underline underline-offset-2"
-        >
+        <Link to={paths.fragment(f.id)} className="mt-2 inline-block text-xs font-medium text-accent underline underline-offset-2">
           Open the fragment page
         </Link>
       </section>
@@ -232,23 +198,13 @@ function FragmentDetails({
   );
 }
 
-function ShapeChoice({
-  value,
-  onChange,
-}: {
-  value: ShownFragment["shape"];
-  onChange: (shape: ShownFragment["shape"]) => void;
-}) {
+function ShapeChoice({ value, onChange }: { value: ShownFragment["shape"]; onChange: (shape: ShownFragment["shape"]) => void }) {
   const options = [
     { value: "rectangle" as const, label: "Rectangle", hint: "cropped square to its edges" },
     { value: "cutout" as const, label: "Cut-out", hint: "keeps its outline as transparency" },
   ];
   return (
-    <div
-      role="radiogroup"
-      aria-label="Shape"
-      className="inline-flex rounded-md border border-paper-300 bg-white p-0.5"
-    >
+    <div role="radiogroup" aria-label="Shape" className="inline-flex rounded-md border border-paper-300 bg-white p-0.5">
       {options.map((o) => (
         <button
           key={o.value}

@@ -27,9 +27,7 @@ function Row({ term, children }: { term: string; children: ReactNode }) {
 export function FragmentPicture({ fragment }: { fragment: Fragment }) {
   const web = fragment.outputs.find((o) => o.kind === "web");
   const src =
-    web && fragment.renderState === "done"
-      ? `${fragmentOutputUrl(fragment.id, "web")}?r=${fragment.revision}`
-      : fragmentThumbUrl(fragment);
+    web && fragment.renderState === "done" ? `${fragmentOutputUrl(fragment.id, "web")}?r=${fragment.revision}` : fragmentThumbUrl(fragment);
   const [broken, setBroken] = useState<string | null>(null);
   return (
     <figure className="flex min-h-[24rem] items-center justify-center rounded-xl border border-paper-300 bg-[#e7e2d6] p-8 shadow-inner">
@@ -48,22 +46,13 @@ export function FragmentPicture({ fragment }: { fragment: Fragment }) {
 }
 
 /** What is known of a fragment and its files; operators can describe it here too. */
-export function FragmentFacts({
-  fragment: f,
-  editable,
-}: {
-  fragment: Fragment;
-  editable: boolean;
-}) {
+export function FragmentFacts({ fragment: f, editable }: { fragment: Fragment; editable: boolean }) {
   const update = useUpdateFragment(f.scanId);
   const master = f.outputs.find((o) => o.kind === "master");
   return (
     <div className="flex flex-col gap-6">
       <section aria-labelledby="files-title">
-        <h2
-          id="files-title"
-          className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase"
-        >
+        <h2 id="files-title" className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase">
           Files
         </h2>
         <RenderState fragment={f} />
@@ -74,39 +63,30 @@ export function FragmentFacts({
         <DeleteFragmentFiles fragment={f} />
         {master && (
           <Notice tone="caution" className="mt-3">
-            Pieces cut from printed publications can still be under copyright. Check the rights and
-            licences that apply where you live before selling or publishing a copy.
+            Pieces cut from printed publications can still be under copyright. Check the rights and licences that apply where you live
+            before selling or publishing a copy.
           </Notice>
         )}
       </section>
 
       <section aria-labelledby="piece-title">
-        <h2
-          id="piece-title"
-          className="mb-1 text-xs font-semibold tracking-wider text-ink-muted uppercase"
-        >
+        <h2 id="piece-title" className="mb-1 text-xs font-semibold tracking-wider text-ink-muted uppercase">
           Piece
         </h2>
         <dl>
           <Row term="Upright size">
             <span className="figure block">{formatFragmentSize(f.rect, f.dpi, "in")}</span>
-            <span className="figure block text-ink-soft">
-              {formatFragmentSize(f.rect, f.dpi, "mm")}
-            </span>
+            <span className="figure block text-ink-soft">{formatFragmentSize(f.rect, f.dpi, "mm")}</span>
           </Row>
           <Row term="In the scan">
             <span className="figure">
-              {Math.round(f.rect.width)} × {Math.round(f.rect.height)} px at{" "}
-              {formatNumber(f.dpi.x, 1)} DPI
+              {Math.round(f.rect.width)} × {Math.round(f.rect.height)} px at {formatNumber(f.dpi.x, 1)} DPI
             </span>
-            {f.dpi.source === "assumed" && (
-              <span className="ml-1 text-xs text-ochre">(assumed resolution)</span>
-            )}
+            {f.dpi.source === "assumed" && <span className="ml-1 text-xs text-ochre">(assumed resolution)</span>}
             {f.dpi.source === "set" && <span className="ml-1 text-xs text-ink-muted">(resolution set by hand)</span>}
           </Row>
           <Row term="Turned by">
-            <span className="figure">{formatAngle(f.angle)}</span>{" "}
-            <span className="text-xs text-ink-muted">to stand upright</span>
+            <span className="figure">{formatAngle(f.angle)}</span> <span className="text-xs text-ink-muted">to stand upright</span>
           </Row>
           <Row term="Shape">{SHAPE_LABELS[f.shape]}</Row>
           <Row term="Scan">
@@ -116,10 +96,7 @@ export function FragmentFacts({
       </section>
 
       <section aria-labelledby="description-title">
-        <h2
-          id="description-title"
-          className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase"
-        >
+        <h2 id="description-title" className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase">
           Description
         </h2>
         {editable ? (
@@ -127,12 +104,7 @@ export function FragmentFacts({
             key={`${f.id}|${f.title}|${f.tags.join(",")}|${f.notes}`}
             fragment={f}
             disabled={update.isPending}
-            onSave={(next) =>
-              update.mutate(
-                { id: f.id, patch: next },
-                { onSuccess: () => toast.success("The description is saved.") },
-              )
-            }
+            onSave={(next) => update.mutate({ id: f.id, patch: next }, { onSuccess: () => toast.success("The description is saved.") })}
           />
         ) : (
           <dl>
@@ -141,10 +113,7 @@ export function FragmentFacts({
               {f.tags.length > 0 ? (
                 <ul className="flex flex-wrap gap-1.5">
                   {f.tags.map((t) => (
-                    <li
-                      key={t}
-                      className="rounded-full border border-paper-300 bg-white px-2 py-0.5 text-xs"
-                    >
+                    <li key={t} className="rounded-full border border-paper-300 bg-white px-2 py-0.5 text-xs">
                       {t}
                     </li>
                   ))}
@@ -154,11 +123,7 @@ export function FragmentFacts({
               )}
             </Row>
             <Row term="Notes">
-              {f.notes ? (
-                <span className="whitespace-pre-wrap">{f.notes}</span>
-              ) : (
-                <span className="text-ink-muted">None</span>
-              )}
+              {f.notes ? <span className="whitespace-pre-wrap">{f.notes}</span> : <span className="text-ink-muted">None</span>}
             </Row>
           </dl>
         )}

@@ -10,27 +10,13 @@ const TONES: Record<FragmentStatus, string> = {
 };
 
 /** A glyph per review status (open, ticked, crossed) so it reads without colour. */
-export function FragmentStatusGlyph({
-  status,
-  className,
-}: {
-  status: FragmentStatus;
-  className?: string;
-}) {
+export function FragmentStatusGlyph({ status, className }: { status: FragmentStatus; className?: string }) {
   const common = cn("size-3 shrink-0", className);
   switch (status) {
     case "proposed":
       return (
         <svg viewBox="0 0 12 12" className={common} aria-hidden="true">
-          <circle
-            cx="6"
-            cy="6"
-            r="4.5"
-            fill="none"
-            stroke="currentColor"
-            strokeWidth="1.4"
-            strokeDasharray="2.2 1.6"
-          />
+          <circle cx="6" cy="6" r="4.5" fill="none" stroke="currentColor" strokeWidth="1.4" strokeDasharray="2.2 1.6" />
         </svg>
       );
     case "approved":
@@ -50,13 +36,7 @@ export function FragmentStatusGlyph({
   }
 }
 
-export function FragmentStatusBadge({
-  status,
-  className,
-}: {
-  status: FragmentStatus;
-  className?: string;
-}) {
+export function FragmentStatusBadge({ status, className }: { status: FragmentStatus; className?: string }) {
   return (
     <StatusPill
       title={FRAGMENT_STATUS_HINTS[status]}

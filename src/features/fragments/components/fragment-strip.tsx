@@ -35,10 +35,7 @@ export function FragmentStrip({
 
   const picked = new Set(pickedIds);
   return (
-    <section
-      aria-label="Fragments"
-      className="shrink-0 rounded-xl border border-paper-300 bg-paper-50 shadow-sheet"
-    >
+    <section aria-label="Fragments" className="shrink-0 rounded-xl border border-paper-300 bg-paper-50 shadow-sheet">
       <header className="flex items-center justify-between gap-3 px-4 pt-2">
         <h2 className="text-xs font-semibold tracking-wider text-ink-muted uppercase">
           Fragments <span className="figure font-normal normal-case">({fragments.length})</span>
@@ -68,20 +65,9 @@ export function FragmentStrip({
                 <span className="figure font-semibold text-ink">{f.position}</span>
                 <FragmentStatusGlyph
                   status={f.status}
-                  className={
-                    f.status === "approved"
-                      ? "text-accent"
-                      : f.status === "rejected"
-                        ? "text-brick"
-                        : "text-ochre"
-                  }
+                  className={f.status === "approved" ? "text-accent" : f.status === "rejected" ? "text-brick" : "text-ochre"}
                 />
-                <span
-                  className={cn(
-                    "truncate",
-                    f.status === "rejected" ? "text-ink-muted line-through" : "text-ink-soft",
-                  )}
-                >
+                <span className={cn("truncate", f.status === "rejected" ? "text-ink-muted line-through" : "text-ink-soft")}>
                   {FRAGMENT_STATUS_LABELS[f.status]}
                 </span>
               </span>

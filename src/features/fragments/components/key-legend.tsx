@@ -26,9 +26,7 @@ export function KeyLegend({
   /** Another scan waits for review: N opens it. */
   hasNextScan?: boolean;
 }) {
-  const keys = hasNextScan
-    ? [...REVIEW_KEYS, { keys: ["N"], what: "next scan" }]
-    : REVIEW_KEYS;
+  const keys = hasNextScan ? [...REVIEW_KEYS, { keys: ["N"], what: "next scan" }] : REVIEW_KEYS;
   return (
     <div className="flex shrink-0 flex-wrap items-center gap-x-4 gap-y-1.5 rounded-lg border border-paper-300 bg-paper-50 px-4 py-2 text-xs text-ink-soft">
       <h2 className="sr-only">Keys</h2>
@@ -45,12 +43,7 @@ export function KeyLegend({
           </li>
         ))}
       </ul>
-      <p
-        role="status"
-        aria-live="polite"
-        className="ml-auto min-w-0 truncate font-medium text-ink"
-        data-testid="review-status"
-      >
+      <p role="status" aria-live="polite" className="ml-auto min-w-0 truncate font-medium text-ink" data-testid="review-status">
         {announcement}
       </p>
     </div>

@@ -1,10 +1,4 @@
-import {
-  fromLocal,
-  movePlacement,
-  resizePlacement,
-  type Handle,
-  type Placement,
-} from "./edit-geometry";
+import { fromLocal, movePlacement, resizePlacement, type Handle, type Placement } from "./edit-geometry";
 
 /** What the arrow keys move once E is pressed: one side of the selected piece, or all of it. */
 export type EdgeTarget = "right" | "bottom" | "left" | "top" | "piece";
@@ -45,18 +39,8 @@ export function nudgePlacement(
   const { width, height } = start.rect;
   if (handle.sx !== 0) {
     if (dirX === 0) return null;
-    return resizePlacement(
-      start,
-      handle,
-      fromLocal([(handle.sx * width) / 2 + dirX * step, 0], start),
-      min,
-    );
+    return resizePlacement(start, handle, fromLocal([(handle.sx * width) / 2 + dirX * step, 0], start), min);
   }
   if (dirY === 0) return null;
-  return resizePlacement(
-    start,
-    handle,
-    fromLocal([0, (handle.sy * height) / 2 + dirY * step], start),
-    min,
-  );
+  return resizePlacement(start, handle, fromLocal([0, (handle.sy * height) / 2 + dirY * step], start), min);
 }

@@ -32,12 +32,7 @@ const overlaps = (a: Box, b: Box) => a.x0 < b.x1 && b.x0 < a.x1 && a.y0 < b.y1 &
  * `gap` is the room kept between a label and its piece's edge and between stacked labels; labels
  * stay inside the scan (`W` × `H`) when they fit in it.
  */
-export function placeLabels(
-  requests: LabelRequest[],
-  W: number,
-  H: number,
-  gap: number,
-): Map<string, LabelSpot> {
+export function placeLabels(requests: LabelRequest[], W: number, H: number, gap: number): Map<string, LabelSpot> {
   const placed: Box[] = [];
   const spots = new Map<string, LabelSpot>();
   const clampX = (x: number, w: number) => Math.max(0, Math.min(x, W - w));
@@ -64,11 +59,9 @@ export function placeLabels(
       { x: b.x1 - w - gap, y: b.y0 + gap }, // inside, top right
       { x: b.x0 + gap, y: b.y1 - h - gap }, // inside, bottom left
     ];
-    for (let y = b.y0 + gap + step; y + h <= b.y1 - h - gap; y += step)
-      on.push({ x: b.x0 + gap, y });
+    for (let y = b.y0 + gap + step; y + h <= b.y1 - h - gap; y += step) on.push({ x: b.x0 + gap, y });
     const further: LabelSpot[] = [];
-    for (let i = 2; i <= 12; i++)
-      further.push({ x: b.x0, y: b.y0 - i * step }, { x: b.x0, y: b.y1 + gap + (i - 1) * step });
+    for (let i = 2; i <= 12; i++) further.push({ x: b.x0, y: b.y0 - i * step }, { x: b.x0, y: b.y1 + gap + (i - 1) * step });
     const fit = (c: LabelSpot & { on?: boolean }) => ({
       x: clampX(c.x, w),
       y: clampY(c.y, h),

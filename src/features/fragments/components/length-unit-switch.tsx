@@ -12,11 +12,7 @@ export function LengthUnitSwitch({
   compact?: boolean;
 }) {
   return (
-    <div
-      role="radiogroup"
-      aria-label="Sizes in"
-      className={cn("flex items-center gap-1", compact ? "text-xs" : "text-sm")}
-    >
+    <div role="radiogroup" aria-label="Sizes in" className={cn("flex items-center gap-1", compact ? "text-xs" : "text-sm")}>
       <span className="text-ink-muted">Sizes in</span>
       {(["mm", "in"] as const).map((u) => (
         <button

@@ -16,13 +16,8 @@ const WORDS: Record<OffsiteStatus, string> = {
  * re-check that reads the copy back and compares checksums, and a fresh copy when one failed.
  * Shows nothing when the studio has no off-site bucket.
  */
-export function OffsiteCopy({
-  fragment,
-}: {
-  fragment: Pick<Fragment, "id" | "outputs" | "renderState">;
-}) {
-  const hasMaster =
-    fragment.outputs.some((o) => o.kind === "master") && fragment.renderState === "done";
+export function OffsiteCopy({ fragment }: { fragment: Pick<Fragment, "id" | "outputs" | "renderState"> }) {
+  const hasMaster = fragment.outputs.some((o) => o.kind === "master") && fragment.renderState === "done";
   const q = useFragmentOffsite(fragment.id, hasMaster);
   const recheck = useRecheckOffsite(fragment.id);
   const recopy = useRecopyOffsite(fragment.id);
@@ -30,19 +25,11 @@ export function OffsiteCopy({
   const copy = q.data.copy;
   const status: OffsiteStatus = copy?.status ?? "pending";
   return (
-    <div
-      className="mt-2 rounded-lg border border-paper-300 bg-white px-3 py-2"
-      data-offsite={status}
-      aria-live="polite"
-    >
+    <div className="mt-2 rounded-lg border border-paper-300 bg-white px-3 py-2" data-offsite={status} aria-live="polite">
       <p
         className={cn(
           "flex items-center gap-2 text-sm",
-          status === "failed"
-            ? "text-brick"
-            : status === "copied"
-              ? "text-accent-strong"
-              : "text-ink-soft",
+          status === "failed" ? "text-brick" : status === "copied" ? "text-accent-strong" : "text-ink-soft",
         )}
       >
         {status === "pending" ? (
@@ -69,9 +56,7 @@ export function OffsiteCopy({
             · checked <Ago iso={copy.checkedAt} />
           </>
         )}
-        {copy?.sha256 && (
-          <span title={`SHA-256 ${copy.sha256}`}> · SHA-256 {copy.sha256.slice(0, 10)}…</span>
-        )}
+        {copy?.sha256 && <span title={`SHA-256 ${copy.sha256}`}> · SHA-256 {copy.sha256.slice(0, 10)}…</span>}
       </p>
       <div className="mt-2 flex gap-2">
         <Button

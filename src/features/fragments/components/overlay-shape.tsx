@@ -3,14 +3,7 @@ import { rectCorners, type Point } from "../../../../shared/geometry";
 import type { FragmentStatus } from "../../../../shared/schemas/fragments";
 import type { ShownFragment } from "../api/pending-edits";
 import { FRAGMENT_STATUS_LABELS, FRAGMENT_STATUS_MARKS } from "../format";
-import {
-  HANDLES,
-  cursorFor,
-  handlePoint,
-  rotationHandlePoint,
-  type Handle,
-  type Placement,
-} from "./edit-geometry";
+import { HANDLES, cursorFor, handlePoint, rotationHandlePoint, type Handle, type Placement } from "./edit-geometry";
 
 /** Line colour, dash and weight per status: the dash pattern carries the status as well. */
 const LINE: Record<FragmentStatus, { color: string; dash?: string }> = {
@@ -23,17 +16,12 @@ const pointsOf = (pts: Point[]) => pts.map(([x, y]) => `${x},${y}`).join(" ");
 
 /** The outline drawn for a fragment: the server's, or its rect while a new outline is on its way. */
 function shownOutline(fragment: ShownFragment, placement: Placement): Point[] {
-  return fragment.shape === "rectangle" && fragment.geometryPending
-    ? rectCorners(placement.rect, placement.angle)
-    : fragment.outline;
+  return fragment.shape === "rectangle" && fragment.geometryPending ? rectCorners(placement.rect, placement.angle) : fragment.outline;
 }
 
 /** A fragment's label: its text, its size (scan pixels at `k` scan pixels a screen pixel) and the box it labels. */
 export function labelMetrics(fragment: ShownFragment, placement: Placement, k: number) {
-  const pts = [
-    ...shownOutline(fragment, placement),
-    ...rectCorners(placement.rect, placement.angle),
-  ];
+  const pts = [...shownOutline(fragment, placement), ...rectCorners(placement.rect, placement.angle)];
   const xs = pts.map((p) => p[0]);
   const ys = pts.map((p) => p[1]);
   const text = `${fragment.position} ${FRAGMENT_STATUS_MARKS[fragment.status]}`;
@@ -45,10 +33,7 @@ export function labelMetrics(fragment: ShownFragment, placement: Placement, k: n
   };
 }
 
-export type ShapePointerHandler = (
-  event: ReactPointerEvent<SVGElement>,
-  target: { id: string; grip: "body" | "rotate" | Handle },
-) => void;
+export type ShapePointerHandler = (event: ReactPointerEvent<SVGElement>, target: { id: string; grip: "body" | "rotate" | Handle }) => void;
 
 /**
  * One fragment drawn over the scan: its outline, its rectangle, and a label with its number and
@@ -98,8 +83,7 @@ export function OverlayShape({
   const labelX = label.x;
   const labelY = label.y;
 
-  const grip = (g: "body" | "rotate" | Handle) => (event: ReactPointerEvent<SVGElement>) =>
-    onGrip(event, { id: fragment.id, grip: g });
+  const grip = (g: "body" | "rotate" | Handle) => (event: ReactPointerEvent<SVGElement>) => onGrip(event, { id: fragment.id, grip: g });
 
   const rotation = rotationHandlePoint(placement, 26 * k);
   const topMid = handlePoint(placement, { sx: 0, sy: -1 });
@@ -117,13 +101,7 @@ export function OverlayShape({
       {/* Body: presses anywhere inside select (and, when editable, move) the fragment. */}
       <polygon
         points={pointsOf(outline)}
-        fill={
-          status === "rejected"
-            ? "rgba(245,241,232,0.45)"
-            : emphasis
-              ? "rgba(47,107,94,0.10)"
-              : "transparent"
-        }
+        fill={status === "rejected" ? "rgba(245,241,232,0.45)" : emphasis ? "rgba(47,107,94,0.10)" : "transparent"}
         stroke="white"
         strokeOpacity={0.9}
         strokeWidth={width + 3}

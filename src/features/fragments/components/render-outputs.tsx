@@ -14,11 +14,7 @@ const STATE_TEXT: Record<Fragment["renderState"], string> = {
 };
 
 /** Where the render stands, in words with a mark, so it reads without colour. */
-export function RenderState({
-  fragment,
-}: {
-  fragment: Pick<Fragment, "renderState" | "renderError" | "status">;
-}) {
+export function RenderState({ fragment }: { fragment: Pick<Fragment, "renderState" | "renderError" | "status"> }) {
   const { renderState, status } = fragment;
   // Files made while it was approved stay when an approval is undone or the piece is rejected;
   // saying only "Rendered" would read as if it were still in the approved work.
@@ -32,11 +28,7 @@ export function RenderState({
     <p
       className={cn(
         "flex items-center gap-2 text-sm",
-        renderState === "failed"
-          ? "text-brick"
-          : renderState === "done" && !leftOut
-            ? "text-accent-strong"
-            : "text-ink-soft",
+        renderState === "failed" ? "text-brick" : renderState === "done" && !leftOut ? "text-accent-strong" : "text-ink-soft",
       )}
       data-render-state={renderState}
       aria-live="polite"
@@ -67,9 +59,7 @@ export function OutputList({
   fragment: Pick<Fragment, "id" | "outputs" | "renderState">;
   compact?: boolean;
 }) {
-  const outputs = [...fragment.outputs].sort((a, b) =>
-    a.kind === "master" ? -1 : b.kind === "master" ? 1 : 0,
-  );
+  const outputs = [...fragment.outputs].sort((a, b) => (a.kind === "master" ? -1 : b.kind === "master" ? 1 : 0));
   if (outputs.length === 0) return null;
   return (
     <ul className={cn("flex flex-col", compact ? "gap-2" : "gap-4")} aria-label="Rendered files">
@@ -87,8 +77,7 @@ export function OutputList({
           >
             <div className="flex items-baseline justify-between gap-3">
               <p className="text-sm font-semibold text-ink">
-                {OUTPUT_LABELS[o.kind]}{" "}
-                <span className="font-normal text-ink-muted">({o.format.toUpperCase()})</span>
+                {OUTPUT_LABELS[o.kind]} <span className="font-normal text-ink-muted">({o.format.toUpperCase()})</span>
               </p>
               <a
                 href={fragmentOutputUrl(fragment.id, o.kind)}

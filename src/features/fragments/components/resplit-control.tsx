@@ -7,11 +7,7 @@ import { useResplitScan } from "../api/resplit-scan";
 export const DEFAULT_SENSITIVITY = 0.5;
 
 /** While the scan is being split again: its stage and progress, in place of the controls. */
-export function ResplitProgress({
-  scan,
-}: {
-  scan: Pick<Scan, "stage" | "progress" | "originalName">;
-}) {
+export function ResplitProgress({ scan }: { scan: Pick<Scan, "stage" | "progress" | "originalName"> }) {
   return (
     <div className="flex min-w-72 flex-col gap-1.5" role="status" aria-live="polite">
       <p className="text-sm text-ink">
@@ -52,13 +48,7 @@ export function ResplitControl({
   });
   return (
     <div className="relative">
-      <Button
-        ref={opener}
-        size="sm"
-        onClick={() => setOpen((o) => !o)}
-        disabled={scan.status !== "ready"}
-        aria-expanded={open}
-      >
+      <Button ref={opener} size="sm" onClick={() => setOpen((o) => !o)} disabled={scan.status !== "ready"} aria-expanded={open}>
         Split again…
       </Button>
       {open && (
@@ -101,8 +91,8 @@ export function ResplitControl({
             <span>1 · faint pieces too</span>
           </div>
           <p id={`${id}-hint`} className="text-xs text-ink-soft">
-            Higher finds paler pieces and fainter edges; lower ignores faint marks and shadows.
-            Approved and hand-drawn fragments stay; the other proposals are replaced.
+            Higher finds paler pieces and fainter edges; lower ignores faint marks and shadows. Approved and hand-drawn fragments stay; the
+            other proposals are replaced.
           </p>
           <div className="flex justify-end gap-2">
             <Button size="sm" variant="quiet" onClick={close}>

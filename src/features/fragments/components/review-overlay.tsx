@@ -4,15 +4,7 @@ import type { Rect } from "../../../../shared/schemas/fragments";
 import { cn } from "../../../lib/cn";
 import type { ShownFragment } from "../api/pending-edits";
 import { scanPreviewImageUrl } from "../api/get-fragment";
-import {
-  angleTowards,
-  insideScan,
-  movePlacement,
-  rectBetween,
-  resizePlacement,
-  type Handle,
-  type Placement,
-} from "./edit-geometry";
+import { angleTowards, insideScan, movePlacement, rectBetween, resizePlacement, type Handle, type Placement } from "./edit-geometry";
 import { placeLabels } from "./label-placement";
 import { labelMetrics, OverlayShape, type ShapePointerHandler } from "./overlay-shape";
 
@@ -122,11 +114,7 @@ export function ReviewOverlay({
       const x = clamp(centre[0] - vw / 2, 0, W - vw);
       const y = clamp(centre[1] - vh / 2, 0, H - vh);
       const margin = Math.min(vw, vh) * 0.05;
-      const fits =
-        b.x0 >= x + margin &&
-        b.x1 <= x + vw - margin &&
-        b.y0 >= y + margin &&
-        b.y1 <= y + vh - margin;
+      const fits = b.x0 >= x + margin && b.x1 <= x + vw - margin && b.y0 >= y + margin && b.y1 <= y + vh - margin;
       if (!fits) centre = [(b.x0 + b.x1) / 2, (b.y0 + b.y1) / 2];
     }
     setView({ key: followKey, centre });
@@ -136,8 +124,7 @@ export function ReviewOverlay({
   // A rim of screen pixels around the view, so a piece at the scan's edge keeps its label and
   // its turning handle in sight.
   const rim = size.w > 4 * VIEW_RIM && size.h > 4 * VIEW_RIM ? VIEW_RIM : 0;
-  const k =
-    size.w > 0 && size.h > 0 ? Math.max(vw / (size.w - 2 * rim), vh / (size.h - 2 * rim)) : W / 800;
+  const k = size.w > 0 && size.h > 0 ? Math.max(vw / (size.w - 2 * rim), vh / (size.h - 2 * rim)) : W / 800;
   const pad = rim * k;
 
   const toScan = (event: { clientX: number; clientY: number }): Point => {
@@ -240,9 +227,7 @@ export function ReviewOverlay({
     const placed = draft && draft.id === d.id ? draft.placement : null;
     setDraft(null);
     if (cancelled || !placed) return;
-    const same =
-      placed.angle === d.start.angle &&
-      JSON.stringify(placed.rect) === JSON.stringify(d.start.rect);
+    const same = placed.angle === d.start.angle && JSON.stringify(placed.rect) === JSON.stringify(d.start.rect);
     if (!same) onPlace(d.id, d.start, placed);
   };
 
@@ -260,8 +245,7 @@ export function ReviewOverlay({
     return () => window.removeEventListener("keydown", onKey, true);
   }, []);
 
-  const shownPlacement = (f: ShownFragment) =>
-    draft?.id === f.id ? draft.placement : placementOf(f);
+  const shownPlacement = (f: ShownFragment) => (draft?.id === f.id ? draft.placement : placementOf(f));
   const labels = placeLabels(
     [...fragments]
       .sort((a, b) => a.position - b.position)
@@ -394,9 +378,7 @@ function Minimap({
       height={H * scale}
       viewBox={`0 0 ${W} ${H}`}
     >
-      {preview && (
-        <image href={preview} x={0} y={0} width={W} height={H} preserveAspectRatio="none" />
-      )}
+      {preview && <image href={preview} x={0} y={0} width={W} height={H} preserveAspectRatio="none" />}
       <rect
         x={view.x}
         y={view.y}

@@ -120,27 +120,19 @@ export function ReviewWorkspace({
   }
 
   const minDrawPx = (MIN_DRAWN_MM / MM_PER_INCH) * (scan.dpi?.x ?? 300);
-  const sayTooSmall = () =>
-    review.say(`Nothing drawn: drag a rectangle at least ${MIN_DRAWN_MM} mm each way`);
+  const sayTooSmall = () => review.say(`Nothing drawn: drag a rectangle at least ${MIN_DRAWN_MM} mm each way`);
 
   // The workspace fills the window below the breadcrumb (the page's top padding, the breadcrumb and
   // a little room below take 4.5 rem), so the key legend at its foot is in sight at 1024 × 768 too;
   // the scan takes what the tools, the strip and the legend leave; a very short window scrolls.
   return (
-    <div
-      className="flex h-[max(34rem,calc(100dvh-4.5rem))] flex-col gap-3"
-      data-testid="review-workspace"
-    >
+    <div className="flex h-[max(34rem,calc(100dvh-4.5rem))] flex-col gap-3" data-testid="review-workspace">
       <div className="flex shrink-0 items-end justify-between gap-3">
         <div className="min-w-0 shrink-0">
           {heading}
           <ReviewCounts fragments={fragments} />
         </div>
-        <div
-          className="flex flex-wrap items-center justify-end gap-2"
-          role="toolbar"
-          aria-label="Review tools"
-        >
+        <div className="flex flex-wrap items-center justify-end gap-2" role="toolbar" aria-label="Review tools">
           {splitting ? (
             <ResplitProgress scan={scan} />
           ) : (
@@ -178,9 +170,7 @@ export function ReviewWorkspace({
                 scan={scan}
                 onStarted={(next, sensitivity) => {
                   review.forgetHistory();
-                  review.say(
-                    `Splitting again at sensitivity ${sensitivity.toFixed(2)}; approved and drawn fragments stay`,
-                  );
+                  review.say(`Splitting again at sensitivity ${sensitivity.toFixed(2)}; approved and drawn fragments stay`);
                   onScanChanged(next);
                 }}
               />
@@ -193,19 +183,11 @@ export function ReviewWorkspace({
                   title={`${nextScan.originalName}: ${nextScan.proposed} to review`}
                 >
                   <span className="max-w-40 truncate">Next: {nextScan.originalName}</span>
-                  <span className="text-xs font-normal opacity-85">
-                    {" "}
-                    · {nextScan.proposed} to review
-                  </span>
+                  <span className="text-xs font-normal opacity-85"> · {nextScan.proposed} to review</span>
                   <Kbd tone="dark">N</Kbd>
                 </Link>
               ) : (
-                <Button
-                  size="sm"
-                  variant="primary"
-                  onClick={() => setConfirmAll(true)}
-                  disabled={!editable || review.remaining === 0}
-                >
+                <Button size="sm" variant="primary" onClick={() => setConfirmAll(true)} disabled={!editable || review.remaining === 0}>
                   Approve all remaining <Kbd tone="dark">⇧A</Kbd>
                 </Button>
               )}
@@ -243,8 +225,7 @@ export function ReviewWorkspace({
                 />
                 {!drawMode && (
                   <p className="absolute inset-x-0 top-4 mx-auto w-fit rounded-md bg-paper-50/95 px-4 py-2 text-sm text-ink-soft shadow">
-                    The split found no pieces on this scan. Draw one (<Kbd>D</Kbd>) or split again
-                    with a higher sensitivity.
+                    The split found no pieces on this scan. Draw one (<Kbd>D</Kbd>) or split again with a higher sensitivity.
                   </p>
                 )}
               </div>
@@ -275,8 +256,7 @@ export function ReviewWorkspace({
                 role="status"
                 className="pointer-events-none absolute bottom-3 left-3 max-w-[calc(100%-1.5rem)] rounded-md bg-accent px-3 py-1.5 text-xs font-medium text-paper-50 shadow"
               >
-                Drag a rectangle around the piece the split missed · <Kbd tone="dark">Esc</Kbd> or{" "}
-                <Kbd tone="dark">D</Kbd> to stop
+                Drag a rectangle around the piece the split missed · <Kbd tone="dark">Esc</Kbd> or <Kbd tone="dark">D</Kbd> to stop
               </p>
             )}
           </div>
@@ -291,12 +271,7 @@ export function ReviewWorkspace({
         </div>
         <div className="relative min-h-0">
           <div className="absolute inset-0 flex flex-col">
-            <FragmentPanel
-              fragment={review.primary}
-              count={fragments.length}
-              review={review}
-              editable={editable}
-            />
+            <FragmentPanel fragment={review.primary} count={fragments.length} review={review} editable={editable} />
           </div>
         </div>
       </div>
@@ -315,27 +290,21 @@ export function ReviewWorkspace({
           review.approveRemaining();
         }}
       >
-        Every fragment still to review on this scan is approved and its master and web copy are
-        rendered. <Kbd>Enter</Kbd> approves, <Kbd>Esc</Kbd> goes back; <Kbd>U</Kbd> undoes it
-        afterwards.
+        Every fragment still to review on this scan is approved and its master and web copy are rendered. <Kbd>Enter</Kbd> approves,{" "}
+        <Kbd>Esc</Kbd> goes back; <Kbd>U</Kbd> undoes it afterwards.
       </ConfirmDialog>
     </div>
   );
 }
 
 function ReviewCounts({ fragments }: { fragments: ShownFragment[] }) {
-  const count = (status: ShownFragment["status"]) =>
-    fragments.filter((f) => f.status === status).length;
+  const count = (status: ShownFragment["status"]) => fragments.filter((f) => f.status === status).length;
   const items = (["proposed", "approved", "rejected"] as const).map((status) => ({
     status,
     n: count(status),
   }));
   return (
-    <div
-      className="mt-1 flex flex-wrap items-center gap-x-4 gap-y-1 text-sm"
-      role="group"
-      aria-label="Review progress"
-    >
+    <div className="mt-1 flex flex-wrap items-center gap-x-4 gap-y-1 text-sm" role="group" aria-label="Review progress">
       {items.map(({ status, n }) =>
         status === "proposed" && n === 0 && fragments.length > 0 ? (
           <span
@@ -354,13 +323,7 @@ function ReviewCounts({ fragments }: { fragments: ShownFragment[] }) {
           >
             <FragmentStatusGlyph
               status={status}
-              className={
-                status === "approved"
-                  ? "text-accent"
-                  : status === "rejected"
-                    ? "text-brick"
-                    : "text-ochre"
-              }
+              className={status === "approved" ? "text-accent" : status === "rejected" ? "text-brick" : "text-ochre"}
             />
             <span className="figure font-semibold">{n}</span>
             {FRAGMENT_STATUS_LABELS[status].toLowerCase()}
@@ -374,11 +337,7 @@ function ReviewCounts({ fragments }: { fragments: ShownFragment[] }) {
 function ZoomControl({ zoom, onZoom }: { zoom: number; onZoom: (zoom: number) => void }) {
   const i = ZOOMS.indexOf(zoom);
   return (
-    <div
-      className="flex items-center rounded-md border border-paper-300 bg-paper-50"
-      role="group"
-      aria-label="Zoom"
-    >
+    <div className="flex items-center rounded-md border border-paper-300 bg-paper-50" role="group" aria-label="Zoom">
       <button
         type="button"
         className="h-8 px-2.5 text-sm text-ink-soft hover:bg-paper-200 disabled:text-ink-faint"

@@ -27,11 +27,7 @@ export interface ReviewKeyActions {
 /** Keys typed into a field, a dialog or a menu belong there, not to the review. */
 function isTyping(target: EventTarget | null): boolean {
   if (!(target instanceof HTMLElement)) return false;
-  return (
-    target.isContentEditable ||
-    ["INPUT", "TEXTAREA", "SELECT"].includes(target.tagName) ||
-    target.closest("dialog[open]") !== null
-  );
+  return target.isContentEditable || ["INPUT", "TEXTAREA", "SELECT"].includes(target.tagName) || target.closest("dialog[open]") !== null;
 }
 
 /**

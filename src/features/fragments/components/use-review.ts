@@ -1,10 +1,5 @@
 import { useState } from "react";
-import type {
-  FragmentShape,
-  FragmentStatus,
-  Rect,
-  UpdateFragmentBody,
-} from "../../../../shared/schemas/fragments";
+import type { FragmentShape, FragmentStatus, Rect, UpdateFragmentBody } from "../../../../shared/schemas/fragments";
 import { toast } from "../../../lib/toast";
 import { useApproveRemaining } from "../api/approve-remaining";
 import { useDrawFragment } from "../api/draw-fragment";
@@ -107,12 +102,7 @@ export function useReview({
   const step = (delta: 1 | -1, additive = false) => {
     if (order.length === 0) return;
     const index = primaryId ? order.findIndex((f) => f.id === primaryId) : -1;
-    const next =
-      index < 0
-        ? delta > 0
-          ? 0
-          : order.length - 1
-        : Math.min(order.length - 1, Math.max(0, index + delta));
+    const next = index < 0 ? (delta > 0 ? 0 : order.length - 1) : Math.min(order.length - 1, Math.max(0, index + delta));
     const id = order[next]!.id;
     if (additive) {
       setSelection((s) => ({
@@ -137,14 +127,10 @@ export function useReview({
     setUndoStack((stack) => [...stack.slice(-(UNDO_DEPTH - 1)), { token, label, inverse }]);
     return token;
   };
-  const dropUndo = (token: number) =>
-    setUndoStack((stack) => stack.filter((entry) => entry.token !== token));
+  const dropUndo = (token: number) => setUndoStack((stack) => stack.filter((entry) => entry.token !== token));
 
   /** Sends a patch now, with its inverse on the undo stack (taken off again if it is refused). */
-  const patch = (
-    label: string,
-    changes: Array<{ id: string; patch: UpdateFragmentBody; inverse: UpdateFragmentBody }>,
-  ) => {
+  const patch = (label: string, changes: Array<{ id: string; patch: UpdateFragmentBody; inverse: UpdateFragmentBody }>) => {
     if (changes.length === 0) return;
     const token = pushUndo(label, {
       kind: "patch",
@@ -163,9 +149,7 @@ export function useReview({
     const verb = status === "approved" ? "Approved" : "Rejected";
     if (changing.length > 0) {
       patch(
-        changing.length === 1
-          ? `${verb} fragment ${changing[0]!.position}`
-          : `${verb} ${changing.length} fragments`,
+        changing.length === 1 ? `${verb} fragment ${changing[0]!.position}` : `${verb} ${changing.length} fragments`,
         changing.map((f) => ({ id: f.id, patch: { status }, inverse: { status: f.status } })),
       );
     }
@@ -203,12 +187,7 @@ export function useReview({
     const next = { rect: primary.rect, angle: clampAngle(Math.round(angle * 10) / 10) };
     if (next.angle === primary.angle) return true;
     if (!insideScan(next, scanWidth, scanHeight)) return false;
-    place(
-      primary.id,
-      { rect: primary.rect, angle: primary.angle },
-      next,
-      `Turned fragment ${primary.position}`,
-    );
+    place(primary.id, { rect: primary.rect, angle: primary.angle }, next, `Turned fragment ${primary.position}`);
     return true;
   };
 
@@ -219,20 +198,13 @@ export function useReview({
 
   const setShape = (shape: FragmentShape) => {
     if (!primary || primary.shape === shape) return;
-    patch(`Changed the shape of fragment ${primary.position}`, [
-      { id: primary.id, patch: { shape }, inverse: { shape: primary.shape } },
-    ]);
+    patch(`Changed the shape of fragment ${primary.position}`, [{ id: primary.id, patch: { shape }, inverse: { shape: primary.shape } }]);
   };
 
-  const describe = (
-    id: string,
-    next: { title: string | null; tags: string[]; notes: string | null },
-  ) => {
+  const describe = (id: string, next: { title: string | null; tags: string[]; notes: string | null }) => {
     const f = byId.get(id);
     if (!f) return;
-    patch(`Described fragment ${f.position}`, [
-      { id, patch: next, inverse: { title: f.title, tags: f.tags, notes: f.notes } },
-    ]);
+    patch(`Described fragment ${f.position}`, [{ id, patch: next, inverse: { title: f.title, tags: f.tags, notes: f.notes } }]);
   };
 
   const resetSelected = () => {
@@ -248,9 +220,7 @@ export function useReview({
     const f = primary;
     const token = pushUndo(`Reset fragment ${f.position}`, {
       kind: "patch",
-      ops: [
-        { id: f.id, patch: { status: f.status, rect: f.rect, angle: f.angle, shape: f.shape } },
-      ],
+      ops: [{ id: f.id, patch: { status: f.status, rect: f.rect, angle: f.angle, shape: f.shape } }],
     });
     say(`Reset fragment ${f.position} to the split's proposal`);
     reset.mutateAsync({ id: f.id }).catch(() => dropUndo(token));
@@ -339,9 +309,7 @@ export function useReview({
     } else if (inverse.kind === "unmerge") {
       unmerge
         .mutateAsync({ id: inverse.id })
-        .then(() =>
-          setSelection({ primary: inverse.restores[0] ?? null, picked: inverse.restores }),
-        )
+        .then(() => setSelection({ primary: inverse.restores[0] ?? null, picked: inverse.restores }))
         .catch(() => {});
     } else {
       merge

@@ -9,10 +9,7 @@ import type { Review } from "./use-review";
  * then the whole piece), each arrow press moves it 1 mm at the scan's resolution (5 mm with
  * Shift) and is one step to undo; Esc gives the arrows back to stepping through the pieces.
  */
-export function useSideKeys(
-  review: Review,
-  scan: { width: number; height: number; dpi: { x: number } | null },
-) {
+export function useSideKeys(review: Review, scan: { width: number; height: number; dpi: { x: number } | null }) {
   const [edge, setEdge] = useState<{ id: string; target: EdgeTarget } | null>(null);
   // Choosing another piece lets the side go.
   const active = edge && edge.id === review.primaryId ? edge.target : null;
@@ -46,15 +43,7 @@ export function useSideKeys(
     const last = sent.current;
     const catching = last?.id === p.id && last.chain.some((q) => samePlacement(q, shown));
     const start = catching ? last.chain[last.chain.length - 1]! : shown;
-    const moved = nudgePlacement(
-      start,
-      active,
-      dirX,
-      dirY,
-      mmPx * (big ? 5 : 1),
-      scan.width,
-      scan.height,
-    );
+    const moved = nudgePlacement(start, active, dirX, dirY, mmPx * (big ? 5 : 1), scan.width, scan.height);
     if (!moved) {
       review.say(`The ${active} side moves with ${keysOf(active).join(" and ")}.`);
       return true;
@@ -69,9 +58,7 @@ export function useSideKeys(
       p.id,
       start,
       placed,
-      active === "piece"
-        ? `Moved fragment ${p.position}`
-        : `Moved the ${active} side of fragment ${p.position}`,
+      active === "piece" ? `Moved fragment ${p.position}` : `Moved the ${active} side of fragment ${p.position}`,
     );
     return true;
   };

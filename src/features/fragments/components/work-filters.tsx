@@ -40,12 +40,7 @@ export function WorkFilters({
   }, []);
 
   return (
-    <div
-      ref={box}
-      className="mb-5 flex flex-wrap items-end gap-4"
-      role="search"
-      aria-label="Find approved work"
-    >
+    <div ref={box} className="mb-5 flex flex-wrap items-end gap-4" role="search" aria-label="Find approved work">
       <TextField
         label={
           <>

@@ -9,10 +9,7 @@ import { FragmentName } from "../../../components/fragment-name";
 /** Approved fragments as a grid of upright pictures (as made, once rendered), each with its name and size. */
 export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: LengthUnit }) {
   return (
-    <ul
-      className="grid grid-cols-[repeat(auto-fill,minmax(11rem,1fr))] gap-4"
-      aria-label="Approved fragments"
-    >
+    <ul className="grid grid-cols-[repeat(auto-fill,minmax(11rem,1fr))] gap-4" aria-label="Approved fragments">
       {fragments.map((f) => (
         <li key={f.id}>
           <Link
@@ -21,32 +18,20 @@ export function WorkGrid({ fragments, unit }: { fragments: Fragment[]; unit: Len
           >
             <Picture fragment={f} />
             <span className="flex flex-1 flex-col gap-0.5 px-3 py-2.5">
-              <FragmentName
-                fragment={f}
-                className="text-sm font-medium text-ink group-hover:text-accent"
-              />
-              <span className="figure text-xs text-ink-muted">
-                {formatFragmentSize(f.rect, f.dpi, unit)}
-              </span>
+              <FragmentName fragment={f} className="text-sm font-medium text-ink group-hover:text-accent" />
+              <span className="figure text-xs text-ink-muted">{formatFragmentSize(f.rect, f.dpi, unit)}</span>
               {f.tags.length > 0 && (
                 <span className="mt-1 flex flex-wrap gap-1" aria-label="Tags">
                   {f.tags.slice(0, 4).map((t) => (
-                    <span
-                      key={t}
-                      className="rounded border border-paper-300 bg-paper-100 px-1.5 py-px text-[11px] text-ink-soft"
-                    >
+                    <span key={t} className="rounded border border-paper-300 bg-paper-100 px-1.5 py-px text-[11px] text-ink-soft">
                       {t}
                     </span>
                   ))}
-                  {f.tags.length > 4 && (
-                    <span className="text-[11px] text-ink-muted">+{f.tags.length - 4}</span>
-                  )}
+                  {f.tags.length > 4 && <span className="text-[11px] text-ink-muted">+{f.tags.length - 4}</span>}
                 </span>
               )}
               {f.renderState !== "done" && (
-                <span className="text-xs text-ink-muted">
-                  {f.renderState === "failed" ? "Render failed" : "Files being made…"}
-                </span>
+                <span className="text-xs text-ink-muted">{f.renderState === "failed" ? "Render failed" : "Files being made…"}</span>
               )}
             </span>
           </Link>

@@ -78,8 +78,8 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
           <p className="text-sm text-ink-muted">{kept.data.note}</p>
         ) : kept.data.copies.length === 0 ? (
           <p className="text-sm text-ink-muted" data-testid="kept-offsite-empty">
-            No master&apos;s copy is kept off-site without its master. When a piece&apos;s files are deleted and its
-            off-site copy is kept, the copy is listed here, to download or to remove.
+            No master&apos;s copy is kept off-site without its master. When a piece&apos;s files are deleted and its off-site copy is kept,
+            the copy is listed here, to download or to remove.
           </p>
         ) : (
           <div className="flex flex-col gap-3 text-sm">
@@ -89,8 +89,8 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
               <span className="figure">{formatBytes(kept.data.totalBytes)}</span> in all.
             </p>
             <p className="text-ink-muted">
-              Their pieces&apos; files were deleted with the off-site copy kept. Download one to get its master back;
-              the studio pays for each until it is removed.
+              Their pieces&apos; files were deleted with the off-site copy kept. Download one to get its master back; the studio pays for
+              each until it is removed.
             </p>
             <ul className="flex flex-col divide-y divide-paper-200" aria-label="Kept off-site copies, newest first">
               {kept.data.copies.map((c) => (
@@ -102,10 +102,7 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
                       fallback={<span className="size-12 shrink-0 rounded-sm bg-paper-200" aria-hidden="true" />}
                     />
                   ) : (
-                    <span
-                      className="size-12 shrink-0 rounded-sm border border-dashed border-paper-300"
-                      aria-hidden="true"
-                    />
+                    <span className="size-12 shrink-0 rounded-sm border border-dashed border-paper-300" aria-hidden="true" />
                   )}
                   <div className="min-w-[14rem] flex-1">
                     {c.piece ? (
@@ -151,8 +148,8 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
         {kept.data && kept.data.otherInstallations > 0 && (
           <p className="mt-3 text-xs text-ink-muted" data-testid="kept-offsite-others">
             {plural(kept.data.otherInstallations, "more copy", "more copies")} in this bucket{" "}
-            {kept.data.otherInstallations === 1 ? "was" : "were"} put there by another Platen installation that shares
-            it: not listed here, and never removed from here.
+            {kept.data.otherInstallations === 1 ? "was" : "were"} put there by another Platen installation that shares it: not listed here,
+            and never removed from here.
           </p>
         )}
       </div>
@@ -168,12 +165,12 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
           <>
             <p>
               The copy of the master of <span className="font-medium text-ink">{pieceWords(asking)}</span> (
-              <span className="figure">{formatBytes(asking.sizeBytes)}</span>, copied{" "}
-              {formatDateTime(asking.modifiedAt)}) is removed from the bucket <span className="figure break-all">{bucket}</span>.
+              <span className="figure">{formatBytes(asking.sizeBytes)}</span>, copied {formatDateTime(asking.modifiedAt)}) is removed from
+              the bucket <span className="figure break-all">{bucket}</span>.
             </p>
             <p className="mt-2">
-              The library no longer holds this master, so once removed it cannot be brought back. Download it first if
-              it may be wanted again.
+              The library no longer holds this master, so once removed it cannot be brought back. Download it first if it may be wanted
+              again.
             </p>
           </>
         )}

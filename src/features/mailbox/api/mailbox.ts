@@ -29,9 +29,7 @@ export function useMailbox(enabled = true, poll: number | false = false) {
 export const mailboxMessageQueryOptions = (id: string) =>
   queryOptions({
     queryKey: ["mailbox", "message", id] as const,
-    queryFn: async ({ signal }) =>
-      (await apiRequest(API.mailboxGet, { params: { id }, schema: mailboxMessageResponse, signal }))
-        .message,
+    queryFn: async ({ signal }) => (await apiRequest(API.mailboxGet, { params: { id }, schema: mailboxMessageResponse, signal })).message,
     staleTime: Infinity,
   });
 

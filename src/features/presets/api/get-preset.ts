@@ -16,8 +16,7 @@ export const presetQueryOptions = (id: string) =>
     queryKey: presetKeys.detail(id),
     queryFn: ({ signal }) => getPreset(id, signal),
     // A missing record (404) or a malformed id (400) will not appear on a second try.
-    retry: (count, error) =>
-      !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
+    retry: (count, error) => !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
   });
 
 export function usePreset(id: string) {

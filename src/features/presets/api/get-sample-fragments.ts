@@ -25,5 +25,4 @@ export function useSampleFragments() {
   return useQuery(sampleFragmentsQueryOptions());
 }
 
-export const sampleThumbUrl = (f: Pick<Fragment, "id" | "revision">) =>
-  `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;
+export const sampleThumbUrl = (f: Pick<Fragment, "id" | "revision">) => `${apiPath(API.fragmentsThumb, { id: f.id })}?r=${f.revision}`;

@@ -139,12 +139,7 @@ export function Check({
 }) {
   return (
     <label className="flex items-start gap-2 text-sm text-ink">
-      <input
-        type="checkbox"
-        checked={checked}
-        onChange={(e) => onChange(e.target.checked)}
-        className="mt-0.5 size-4 accent-accent"
-      />
+      <input type="checkbox" checked={checked} onChange={(e) => onChange(e.target.checked)} className="mt-0.5 size-4 accent-accent" />
       <span>
         {label}
         {hint && <span className="block text-[11px] text-ink-muted">{hint}</span>}
@@ -199,9 +194,7 @@ export function ColourInput({
 export function FieldGroup({ title, children }: { title: string; children: ReactNode }) {
   return (
     <fieldset className="flex flex-col gap-3 border-t border-paper-200 pt-4 first:border-0 first:pt-0">
-      <legend className="float-left mb-1 w-full text-xs font-semibold tracking-wide text-ink-muted uppercase">
-        {title}
-      </legend>
+      <legend className="float-left mb-1 w-full text-xs font-semibold tracking-wide text-ink-muted uppercase">{title}</legend>
       {children}
     </fieldset>
   );

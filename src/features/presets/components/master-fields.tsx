@@ -41,8 +41,18 @@ export function MasterFields({ p, set, errors }: { p: MasterPreset; set: (p: Mas
         {errors["compression"] && <p className="text-[11px] font-medium text-brick">{errors["compression"]}</p>}
       </FieldGroup>
       <FieldGroup title="Kept in the file">
-        <Check label="Transparency" checked={p.keepAlpha} onChange={(keepAlpha) => set({ ...p, keepAlpha })} hint="Cut-outs keep their shape" />
-        <Check label="Resolution" checked={p.embedResolution} onChange={(embedResolution) => set({ ...p, embedResolution })} hint="The scanned DPI, so printed sizes stay true" />
+        <Check
+          label="Transparency"
+          checked={p.keepAlpha}
+          onChange={(keepAlpha) => set({ ...p, keepAlpha })}
+          hint="Cut-outs keep their shape"
+        />
+        <Check
+          label="Resolution"
+          checked={p.embedResolution}
+          onChange={(embedResolution) => set({ ...p, embedResolution })}
+          hint="The scanned DPI, so printed sizes stay true"
+        />
       </FieldGroup>
     </>
   );

@@ -31,7 +31,12 @@ export function MockupPicture({ preset, piece }: { preset: MockupPreset; piece: 
 
   return (
     <figure className="flex flex-col gap-3" aria-label="Mock-up schematic">
-      <svg viewBox={`0 0 ${W} ${H}`} className="mx-auto block max-h-[26rem] w-full rounded-lg" role="img" aria-label="Frame, mat and piece on the wall">
+      <svg
+        viewBox={`0 0 ${W} ${H}`}
+        className="mx-auto block max-h-[26rem] w-full rounded-lg"
+        role="img"
+        aria-label="Frame, mat and piece on the wall"
+      >
         <defs>
           <radialGradient id={`${fid}-light`} cx={lx / W} cy={ly / H} r="0.9">
             <stop offset="0" stopColor="#ffffff" stopOpacity="0.22" />
@@ -46,7 +51,14 @@ export function MockupPicture({ preset, piece }: { preset: MockupPreset; piece: 
         <rect x={ox} y={oy} width={outerW * s} height={outerH * s} fill={preset.frameColour} filter={`url(#${fid}-shadow)`} />
         <rect x={ox + fw} y={oy + fw} width={outerW * s - 2 * fw} height={outerH * s - 2 * fw} fill={preset.matColour} />
         {piece.imageUrl ? (
-          <image href={piece.imageUrl} x={ox + fw + mw} y={oy + fw + mw} width={pieceW * s} height={pieceH * s} preserveAspectRatio="none" />
+          <image
+            href={piece.imageUrl}
+            x={ox + fw + mw}
+            y={oy + fw + mw}
+            width={pieceW * s}
+            height={pieceH * s}
+            preserveAspectRatio="none"
+          />
         ) : (
           <rect x={ox + fw + mw} y={oy + fw + mw} width={pieceW * s} height={pieceH * s} fill="#c9b48a" />
         )}

@@ -196,13 +196,7 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
                 Undo changes
               </Button>
             )}
-            <Button
-              type="submit"
-              variant="primary"
-              busy={busy}
-              disabled={(!ok && !onlyName) || !dirty}
-              title="Ctrl+S"
-            >
+            <Button type="submit" variant="primary" busy={busy} disabled={(!ok && !onlyName) || !dirty} title="Ctrl+S">
               {saved ? "Save as new version" : "Save preset"}
             </Button>
           </>
@@ -223,9 +217,7 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
               error={errors["name"]}
               onChange={(e) => setDraft({ ...draft, name: e.target.value })}
             />
-            {saved?.builtIn && (
-              <p className="-mt-2 text-[11px] text-ink-muted">A built-in preset: your edits are the studio's own copy.</p>
-            )}
+            {saved?.builtIn && <p className="-mt-2 text-[11px] text-ink-muted">A built-in preset: your edits are the studio's own copy.</p>}
             {fields}
           </div>
         </Panel>

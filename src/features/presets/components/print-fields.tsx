@@ -8,11 +8,7 @@ import { Check, FieldGroup, NumberInput, Segments } from "./inputs";
 type Errors = Record<string, string>;
 
 /** The nine placements laid out as they sit on the page. */
-const PLACEMENT_GRID: Placement[] = [
-  "top-left", "top", "top-right",
-  "left", "centre", "right",
-  "bottom-left", "bottom", "bottom-right",
-];
+const PLACEMENT_GRID: Placement[] = ["top-left", "top", "top-right", "left", "centre", "right", "bottom-left", "bottom", "bottom-right"];
 
 export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: PrintPreset) => void; errors: Errors }) {
   const scale = p.scale;
@@ -26,7 +22,10 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
             fieldClassName="w-44"
             onChange={(e) => {
               const size = e.target.value as PrintPreset["paper"]["size"];
-              set({ ...p, paper: size === "custom" ? { size, widthMm: p.paper.widthMm ?? 210, heightMm: p.paper.heightMm ?? 297 } : { size } });
+              set({
+                ...p,
+                paper: size === "custom" ? { size, widthMm: p.paper.widthMm ?? 210, heightMm: p.paper.heightMm ?? 297 } : { size },
+              });
             }}
           >
             {PAPER_NAMES.map((n) => (
@@ -37,8 +36,22 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
           </SelectField>
           {p.paper.size === "custom" && (
             <>
-              <NumberInput label="Width" unit="mm" limits={L.customPaperMm} value={p.paper.widthMm ?? Number.NaN} error={errors["paper.widthMm"]} onChange={(v) => set({ ...p, paper: { ...p.paper, widthMm: v } })} />
-              <NumberInput label="Height" unit="mm" limits={L.customPaperMm} value={p.paper.heightMm ?? Number.NaN} error={errors["paper.heightMm"]} onChange={(v) => set({ ...p, paper: { ...p.paper, heightMm: v } })} />
+              <NumberInput
+                label="Width"
+                unit="mm"
+                limits={L.customPaperMm}
+                value={p.paper.widthMm ?? Number.NaN}
+                error={errors["paper.widthMm"]}
+                onChange={(v) => set({ ...p, paper: { ...p.paper, widthMm: v } })}
+              />
+              <NumberInput
+                label="Height"
+                unit="mm"
+                limits={L.customPaperMm}
+                value={p.paper.heightMm ?? Number.NaN}
+                error={errors["paper.heightMm"]}
+                onChange={(v) => set({ ...p, paper: { ...p.paper, heightMm: v } })}
+              />
             </>
           )}
         </div>
@@ -70,8 +83,24 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
         />
         {p.layout.mode === "area" ? (
           <div className="flex flex-wrap gap-4">
-            <NumberInput label="Width" unit="in" step={0.25} limits={L.areaIn} value={p.layout.widthIn} error={errors["layout.widthIn"]} onChange={(v) => p.layout.mode === "area" && set({ ...p, layout: { ...p.layout, widthIn: v } })} />
-            <NumberInput label="Height" unit="in" step={0.25} limits={L.areaIn} value={p.layout.heightIn} error={errors["layout.heightIn"]} onChange={(v) => p.layout.mode === "area" && set({ ...p, layout: { ...p.layout, heightIn: v } })} />
+            <NumberInput
+              label="Width"
+              unit="in"
+              step={0.25}
+              limits={L.areaIn}
+              value={p.layout.widthIn}
+              error={errors["layout.widthIn"]}
+              onChange={(v) => p.layout.mode === "area" && set({ ...p, layout: { ...p.layout, widthIn: v } })}
+            />
+            <NumberInput
+              label="Height"
+              unit="in"
+              step={0.25}
+              limits={L.areaIn}
+              value={p.layout.heightIn}
+              error={errors["layout.heightIn"]}
+              onChange={(v) => p.layout.mode === "area" && set({ ...p, layout: { ...p.layout, heightIn: v } })}
+            />
           </div>
         ) : (
           <div className="flex flex-wrap gap-4">
@@ -113,7 +142,11 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
               label="Exact"
               value={scale.widthIn !== undefined ? "width" : "height"}
               onChange={(side) =>
-                set({ ...p, scale: side === "width" ? { mode: "exact", widthIn: scale.heightIn ?? 6 } : { mode: "exact", heightIn: scale.widthIn ?? 6 } })
+                set({
+                  ...p,
+                  scale:
+                    side === "width" ? { mode: "exact", widthIn: scale.heightIn ?? 6 } : { mode: "exact", heightIn: scale.widthIn ?? 6 },
+                })
               }
               options={[
                 { value: "width", label: "Width" },
@@ -127,7 +160,9 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
               limits={L.exactIn}
               value={scale.widthIn ?? scale.heightIn ?? Number.NaN}
               error={errors["scale.widthIn"] ?? errors["scale.heightIn"] ?? errors["scale"]}
-              onChange={(v) => set({ ...p, scale: scale.widthIn !== undefined ? { mode: "exact", widthIn: v } : { mode: "exact", heightIn: v } })}
+              onChange={(v) =>
+                set({ ...p, scale: scale.widthIn !== undefined ? { mode: "exact", widthIn: v } : { mode: "exact", heightIn: v } })
+              }
             />
           </div>
         )}
@@ -135,7 +170,11 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
           <span className="text-xs font-medium text-ink-soft" id="placement-label">
             Placement in the print area
           </span>
-          <div role="radiogroup" aria-labelledby="placement-label" className="grid w-fit grid-cols-3 gap-1 rounded-md border border-paper-300 bg-white p-1">
+          <div
+            role="radiogroup"
+            aria-labelledby="placement-label"
+            className="grid w-fit grid-cols-3 gap-1 rounded-md border border-paper-300 bg-white p-1"
+          >
             {PLACEMENT_GRID.map((pl) => (
               <button
                 key={pl}
@@ -157,14 +196,40 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
           {!PLACEMENTS.includes(p.placement) && <p className="text-[11px] text-brick">Unknown placement</p>}
         </div>
         <div className="flex flex-wrap gap-6">
-          <Check label="Crop marks" checked={p.cropMarks} onChange={(cropMarks) => set({ ...p, cropMarks })} hint="Short lines at the corners, for trimming" />
-          <Check label="Caption line" checked={p.caption} onChange={(caption) => set({ ...p, caption })} hint="Title and printed size under the piece" />
+          <Check
+            label="Crop marks"
+            checked={p.cropMarks}
+            onChange={(cropMarks) => set({ ...p, cropMarks })}
+            hint="Short lines at the corners, for trimming"
+          />
+          <Check
+            label="Caption line"
+            checked={p.caption}
+            onChange={(caption) => set({ ...p, caption })}
+            hint="Title and printed size under the piece"
+          />
         </div>
       </FieldGroup>
       <FieldGroup title="Resolution and file">
         <div className="flex flex-wrap gap-4">
-          <NumberInput label="Print DPI" unit="DPI" limits={L.printDpi} value={p.printDpi} error={errors["printDpi"]} onChange={(printDpi) => set({ ...p, printDpi })} hint="The file's pixels per inch (300 is usual)" />
-          <NumberInput label="Warn below" unit="DPI" limits={L.minDpi} value={p.minDpi} error={errors["minDpi"]} onChange={(minDpi) => set({ ...p, minDpi })} hint="Effective resolution; 300 is common practice" />
+          <NumberInput
+            label="Print DPI"
+            unit="DPI"
+            limits={L.printDpi}
+            value={p.printDpi}
+            error={errors["printDpi"]}
+            onChange={(printDpi) => set({ ...p, printDpi })}
+            hint="The file's pixels per inch (300 is usual)"
+          />
+          <NumberInput
+            label="Warn below"
+            unit="DPI"
+            limits={L.minDpi}
+            value={p.minDpi}
+            error={errors["minDpi"]}
+            onChange={(minDpi) => set({ ...p, minDpi })}
+            hint="Effective resolution; 300 is common practice"
+          />
         </div>
         <Segments
           label="Output"

@@ -116,7 +116,14 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
             </text>
           )}
           {/* Sizes of the page, outside it */}
-          <text x={page.widthIn / 2} y={-font * 0.8} fontSize={font} textAnchor="middle" fill="#55504a" fontFamily="JetBrains Mono, monospace">
+          <text
+            x={page.widthIn / 2}
+            y={-font * 0.8}
+            fontSize={font}
+            textAnchor="middle"
+            fill="#55504a"
+            fontFamily="JetBrains Mono, monospace"
+          >
             {inch(page.widthIn)}
           </text>
           <text
@@ -136,7 +143,8 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
         <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-1 text-xs">
           <dt className="text-ink-muted">Paper</dt>
           <dd className="figure text-ink">
-            {paperLabel(preset.paper.size)} · {inch(page.widthIn)} × {inch(page.heightIn)} ({formatNumber(page.widthMm, 1)} × {formatNumber(page.heightMm, 1)} mm)
+            {paperLabel(preset.paper.size)} · {inch(page.widthIn)} × {inch(page.heightIn)} ({formatNumber(page.widthMm, 1)} ×{" "}
+            {formatNumber(page.heightMm, 1)} mm)
           </dd>
           <dt className="text-ink-muted">Print area</dt>
           <dd className="figure text-ink">
@@ -175,13 +183,11 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
           role={warning ? "alert" : undefined}
         >
           <span className="figure shrink-0 text-base font-semibold whitespace-nowrap">{dpi} DPI</span>
-          <span className="text-xs">
-            {warning ?? `effective resolution as printed: at or above the minimum of ${preset.minDpi} DPI`}
-          </span>
+          <span className="text-xs">{warning ?? `effective resolution as printed: at or above the minimum of ${preset.minDpi} DPI`}</span>
         </p>
         <p className="text-[11px] text-ink-muted">
-          Effective resolution = source pixels ÷ printed inches ({piece.widthPx} px ÷ {formatNumber(p.width, 2)} in). The
-          {" "}{preset.minDpi} DPI minimum is common practice for scanning and printing.
+          Effective resolution = source pixels ÷ printed inches ({piece.widthPx} px ÷ {formatNumber(p.width, 2)} in). The {preset.minDpi}{" "}
+          DPI minimum is common practice for scanning and printing.
         </p>
       </figcaption>
     </figure>

@@ -19,7 +19,14 @@ export function WebFields({ p, set, errors }: { p: WebPreset; set: (p: WebPreset
           ]}
         />
         {p.size.mode === "longEdge" ? (
-          <NumberInput label="Long edge" unit="px" limits={L.pixels} value={p.size.longEdge} error={errors["size.longEdge"]} onChange={(v) => set({ ...p, size: { mode: "longEdge", longEdge: v } })} />
+          <NumberInput
+            label="Long edge"
+            unit="px"
+            limits={L.pixels}
+            value={p.size.longEdge}
+            error={errors["size.longEdge"]}
+            onChange={(v) => set({ ...p, size: { mode: "longEdge", longEdge: v } })}
+          />
         ) : (
           <div className="flex flex-wrap items-start gap-4">
             <Segments
@@ -54,7 +61,12 @@ export function WebFields({ p, set, errors }: { p: WebPreset; set: (p: WebPreset
             ]}
           />
         )}
-        <Check label="Enlarge small pieces" checked={p.enlarge} onChange={(enlarge) => set({ ...p, enlarge })} hint="Off: a piece smaller than the size keeps its own pixels" />
+        <Check
+          label="Enlarge small pieces"
+          checked={p.enlarge}
+          onChange={(enlarge) => set({ ...p, enlarge })}
+          hint="Off: a piece smaller than the size keeps its own pixels"
+        />
       </FieldGroup>
       <FieldGroup title="File">
         <Segments
@@ -69,10 +81,23 @@ export function WebFields({ p, set, errors }: { p: WebPreset; set: (p: WebPreset
           ]}
         />
         {p.format !== "png" && (
-          <NumberInput label="Quality" limits={L.quality} value={p.quality} error={errors["quality"]} onChange={(quality) => set({ ...p, quality })} />
+          <NumberInput
+            label="Quality"
+            limits={L.quality}
+            value={p.quality}
+            error={errors["quality"]}
+            onChange={(quality) => set({ ...p, quality })}
+          />
         )}
         <div className="flex flex-wrap items-end gap-4">
-          {!transparent && <ColourInput label="Background" value={p.background} error={errors["background"]} onChange={(background) => set({ ...p, background })} />}
+          {!transparent && (
+            <ColourInput
+              label="Background"
+              value={p.background}
+              error={errors["background"]}
+              onChange={(background) => set({ ...p, background })}
+            />
+          )}
           <Check
             label="Transparent background"
             checked={transparent}
@@ -81,12 +106,22 @@ export function WebFields({ p, set, errors }: { p: WebPreset; set: (p: WebPreset
           />
         </div>
         {errors["background"] && transparent && <p className="text-[11px] font-medium text-brick">{errors["background"]}</p>}
-        <Check label="Convert to sRGB" checked={p.toSrgb} onChange={(toSrgb) => set({ ...p, toSrgb })} hint="The colour space screens and browsers assume" />
+        <Check
+          label="Convert to sRGB"
+          checked={p.toSrgb}
+          onChange={(toSrgb) => set({ ...p, toSrgb })}
+          hint="The colour space screens and browsers assume"
+        />
       </FieldGroup>
       <FieldGroup title="Metadata kept">
         <div className="grid grid-cols-2 gap-2">
           {(["title", "creator", "copyright", "resolution"] as const).map((k) => (
-            <Check key={k} label={k[0]!.toUpperCase() + k.slice(1)} checked={p.keep[k]} onChange={(on) => set({ ...p, keep: { ...p.keep, [k]: on } })} />
+            <Check
+              key={k}
+              label={k[0]!.toUpperCase() + k.slice(1)}
+              checked={p.keep[k]}
+              onChange={(on) => set({ ...p, keep: { ...p.keep, [k]: on } })}
+            />
           ))}
         </div>
         <p className="text-[11px] text-ink-muted">Location and camera data are never copied.</p>

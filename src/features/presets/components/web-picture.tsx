@@ -77,9 +77,12 @@ export function WebPicture({ preset, piece }: { preset: WebPreset; piece: Sample
           {preset.size.mode === "box" && ` · ${preset.fit === "contain" ? "whole piece, padded" : "box filled, piece cropped"}`}
         </p>
         {l.upscaled && <p className="font-medium text-ochre">The piece is enlarged beyond its scanned pixels.</p>}
-        {!l.upscaled && !preset.enlarge && preset.size.mode === "longEdge" && Math.max(piece.widthPx, piece.heightPx) < preset.size.longEdge && (
-          <p className="text-ink-muted">This piece is smaller than the long edge; it is kept at its own size (enlarging is off).</p>
-        )}
+        {!l.upscaled &&
+          !preset.enlarge &&
+          preset.size.mode === "longEdge" &&
+          Math.max(piece.widthPx, piece.heightPx) < preset.size.longEdge && (
+            <p className="text-ink-muted">This piece is smaller than the long edge; it is kept at its own size (enlarging is off).</p>
+          )}
       </figcaption>
     </figure>
   );

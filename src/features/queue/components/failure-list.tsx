@@ -8,13 +8,7 @@ import { paths } from "../../../config/paths";
 type Failure = QueueSummary["failures"][number];
 
 /** Recent failures with the message that stopped them; `actions` adds e.g. a Retry per row. */
-export function FailureList({
-  failures,
-  actions,
-}: {
-  failures: QueueSummary["failures"];
-  actions?: (failure: Failure) => ReactNode;
-}) {
+export function FailureList({ failures, actions }: { failures: QueueSummary["failures"]; actions?: (failure: Failure) => ReactNode }) {
   return (
     <Panel
       title="Recent failures"
@@ -28,16 +22,12 @@ export function FailureList({
           {failures.map((failure) => (
             <li key={failure.scanId} className="flex items-start gap-4 py-3">
               <div className="min-w-0 flex-1">
-                <Link
-                  to={paths.scan(failure.scanId)}
-                  className="block truncate font-medium text-ink hover:text-accent hover:underline"
-                >
+                <Link to={paths.scan(failure.scanId)} className="block truncate font-medium text-ink hover:text-accent hover:underline">
                   {failure.originalName}
                 </Link>
                 <p className="mt-1 text-sm text-brick">{failure.error}</p>
                 <p className="mt-1 text-xs text-ink-muted">
-                  {failure.attempts === 1 ? "1 attempt" : `${failure.attempts} attempts`} · last{" "}
-                  <Ago iso={failure.updatedAt} />
+                  {failure.attempts === 1 ? "1 attempt" : `${failure.attempts} attempts`} · last <Ago iso={failure.updatedAt} />
                 </p>
               </div>
               {actions && <div className="shrink-0">{actions(failure)}</div>}

@@ -16,13 +16,7 @@ const FIGURE_TONE: Record<ScanStatus, string> = {
  * One large figure per scan state. Each figure is a group named "<State>: <n>" holding the
  * number in an element labelled "<State> count", so it reads the same to a screen reader.
  */
-export function QueueCounts({
-  counts,
-  linkFor,
-}: {
-  counts: QueueSummary["counts"];
-  linkFor?: (status: ScanStatus) => string;
-}) {
+export function QueueCounts({ counts, linkFor }: { counts: QueueSummary["counts"]; linkFor?: (status: ScanStatus) => string }) {
   return (
     <ul className="grid grid-cols-5 gap-4" aria-label="Scans by state">
       {SCAN_STATUSES.map((status) => {
@@ -44,10 +38,7 @@ export function QueueCounts({
               <div className="mt-3 flex items-end justify-between gap-2">
                 <span
                   aria-label={`${label} count`}
-                  className={cn(
-                    "figure block text-4xl leading-none font-medium",
-                    n === 0 ? "text-ink-muted" : FIGURE_TONE[status],
-                  )}
+                  className={cn("figure block text-4xl leading-none font-medium", n === 0 ? "text-ink-muted" : FIGURE_TONE[status])}
                 >
                   {n}
                 </span>

@@ -7,13 +7,7 @@ import { paths } from "../../../config/paths";
  * Fragments the split proposed that nobody has decided on yet, and the scans they are on (newest
  * first), each linking to its review. `canReview` false (viewers) shows the count only.
  */
-export function ReviewList({
-  review,
-  canReview,
-}: {
-  review: QueueSummary["review"];
-  canReview: boolean;
-}) {
+export function ReviewList({ review, canReview }: { review: QueueSummary["review"]; canReview: boolean }) {
   const { proposed, scans } = review;
   return (
     <Panel

@@ -16,21 +16,12 @@ export function RunningNow({ running }: { running: QueueSummary["running"] }) {
           {running.map((item) => (
             <li key={item.scanId}>
               <div className="flex items-baseline justify-between gap-4">
-                <Link
-                  to={paths.scan(item.scanId)}
-                  className="truncate font-medium text-ink hover:text-accent hover:underline"
-                >
+                <Link to={paths.scan(item.scanId)} className="truncate font-medium text-ink hover:text-accent hover:underline">
                   {item.originalName}
                 </Link>
-                <span className="figure shrink-0 text-sm text-ink-soft">
-                  {Math.round(item.progress)}%
-                </span>
+                <span className="figure shrink-0 text-sm text-ink-soft">{Math.round(item.progress)}%</span>
               </div>
-              <ProgressBar
-                value={item.progress}
-                label={`Progress for ${item.originalName}`}
-                className="mt-2"
-              />
+              <ProgressBar value={item.progress} label={`Progress for ${item.originalName}`} className="mt-2" />
               <p className="mt-1.5 text-xs text-ink-muted">
                 {item.stage ?? "Starting"}
                 {item.startedAt && (

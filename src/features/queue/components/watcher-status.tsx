@@ -4,13 +4,7 @@ import { Panel } from "../../../components/panel";
 import { OnlineBadge } from "../../../components/online-badge";
 
 /** The inbox watcher and the workers: are they there, and what did the watcher last see. */
-export function WatcherStatus({
-  watcher,
-  workers,
-}: {
-  watcher: QueueSummary["watcher"];
-  workers: QueueSummary["workers"];
-}) {
+export function WatcherStatus({ watcher, workers }: { watcher: QueueSummary["watcher"]; workers: QueueSummary["workers"] }) {
   return (
     <Panel title="Inbox and workers" titleId="watcher-title">
       <dl className="grid grid-cols-[8rem_1fr] gap-x-4 gap-y-3 text-sm">
@@ -27,10 +21,7 @@ export function WatcherStatus({
         <dt className="text-ink-muted">Folder</dt>
         <dd className="min-w-0">
           {watcher.folder ? (
-            <code
-              className="figure block truncate rounded bg-paper-200/70 px-1.5 py-0.5 text-xs"
-              title={watcher.folder}
-            >
+            <code className="figure block truncate rounded bg-paper-200/70 px-1.5 py-0.5 text-xs" title={watcher.folder}>
               {watcher.folder}
             </code>
           ) : (
@@ -61,9 +52,7 @@ export function WatcherStatus({
           <span className="figure text-base font-medium" aria-label="Workers online count">
             {workers.online}
           </span>
-          {workers.online === 0 && (
-            <span className="ml-2 text-xs text-brick">Scans will wait until a worker starts.</span>
-          )}
+          {workers.online === 0 && <span className="ml-2 text-xs text-brick">Scans will wait until a worker starts.</span>}
           {workers.hosts.length > 0 && (
             <ul className="mt-1 text-xs text-ink-muted" aria-label="Workers by machine">
               {workers.hosts.map((h) => (

@@ -22,10 +22,7 @@ export interface ApplyRecipeVariables {
   target: ApplyRecipeBody;
 }
 
-export function applyRecipe({
-  recipeId,
-  target,
-}: ApplyRecipeVariables): Promise<ApplyRecipeResult> {
+export function applyRecipe({ recipeId, target }: ApplyRecipeVariables): Promise<ApplyRecipeResult> {
   return apiRequest(API.recipesApply, {
     params: { id: recipeId },
     body: target,

@@ -10,10 +10,7 @@ const PAGE = 500;
 export const MAX_POOL = 5000;
 
 /** Every fragment matching the filters, page after page, up to MAX_POOL. */
-export async function getFragmentPool(
-  filters: FragmentPoolFilters,
-  signal?: AbortSignal,
-): Promise<Fragment[]> {
+export async function getFragmentPool(filters: FragmentPoolFilters, signal?: AbortSignal): Promise<Fragment[]> {
   const out: Fragment[] = [];
   for (let offset = 0; offset < MAX_POOL; offset += PAGE) {
     const { fragments } = await apiRequest(API.fragmentsList, {

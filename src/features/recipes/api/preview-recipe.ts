@@ -13,11 +13,7 @@ export interface PreviewTarget {
   size: number;
 }
 
-export function previewRecipe(
-  target: PreviewTarget,
-  steps: RecipeStep[],
-  signal?: AbortSignal,
-): Promise<RecipePreview> {
+export function previewRecipe(target: PreviewTarget, steps: RecipeStep[], signal?: AbortSignal): Promise<RecipePreview> {
   return apiRequest(API.recipesPreview, {
     body: { fragmentId: target.fragmentId, steps, size: target.size },
     schema: previewRecipeResponse,
@@ -33,11 +29,7 @@ export function previewRecipe(
  * new query; the one it replaces is aborted, so a late answer never overwrites a newer one, and
  * the last picture stays on screen until the new one arrives.
  */
-export const recipePreviewQueryOptions = (
-  target: PreviewTarget,
-  steps: RecipeStep[],
-  enabled = true,
-) =>
+export const recipePreviewQueryOptions = (target: PreviewTarget, steps: RecipeStep[], enabled = true) =>
   queryOptions({
     queryKey: recipeKeys.preview(target.fragmentId, target.revision, target.size, steps),
     queryFn: ({ signal }) => previewRecipe(target, steps, signal),

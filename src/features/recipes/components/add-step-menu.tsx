@@ -8,13 +8,7 @@ import { PlusIcon } from "./icons";
  * "Add a step": a menu of the step types, each with a line on what it does. Arrow keys move,
  * Enter picks, Escape closes and gives focus back to the button.
  */
-export function AddStepMenu({
-  onAdd,
-  disabled,
-}: {
-  onAdd: (type: StepType) => void;
-  disabled?: boolean;
-}) {
+export function AddStepMenu({ onAdd, disabled }: { onAdd: (type: StepType) => void; disabled?: boolean }) {
   const id = useId();
   const [open, setOpen] = useState(false);
   const buttonRef = useRef<HTMLButtonElement>(null);
@@ -26,8 +20,7 @@ export function AddStepMenu({
     itemRefs.current[0]?.focus();
     const away = (event: PointerEvent) => {
       const target = event.target as Node;
-      if (!menuRef.current?.contains(target) && !buttonRef.current?.contains(target))
-        setOpen(false);
+      if (!menuRef.current?.contains(target) && !buttonRef.current?.contains(target)) setOpen(false);
     };
     document.addEventListener("pointerdown", away);
     return () => document.removeEventListener("pointerdown", away);

@@ -68,16 +68,11 @@ export function ApplyDialog({
               Apply {recipeName} to an intake
             </h2>
             <p className="mt-1 text-sm text-ink-soft">
-              Every scan and fragment of the intake uses this recipe from now on (choices made for
-              single scans or fragments in it are cleared). Approved fragments are re-rendered now,
-              as one batch.
+              Every scan and fragment of the intake uses this recipe from now on (choices made for single scans or fragments in it are
+              cleared). Approved fragments are re-rendered now, as one batch.
             </p>
           </div>
-          {dirty && (
-            <Notice tone="caution">
-              The steps on screen are not saved yet. Applying saves them first as v{version + 1}.
-            </Notice>
-          )}
+          {dirty && <Notice tone="caution">The steps on screen are not saved yet. Applying saves them first as v{version + 1}.</Notice>}
           {intakes.length === 0 ? (
             <Notice>No intake yet: scans arriving start one.</Notice>
           ) : (
@@ -88,9 +83,7 @@ export function ApplyDialog({
                   key={intake.id}
                   className={cn(
                     "flex cursor-pointer items-center gap-3 rounded-md border px-3 py-2 text-sm",
-                    chosen === intake.id
-                      ? "border-accent bg-accent-faint"
-                      : "border-paper-300 bg-white hover:border-ink-faint",
+                    chosen === intake.id ? "border-accent bg-accent-faint" : "border-paper-300 bg-white hover:border-ink-faint",
                   )}
                 >
                   <input
@@ -102,14 +95,9 @@ export function ApplyDialog({
                     className="accent-accent"
                   />
                   <span className="min-w-0 flex-1 truncate font-medium">{intake.name}</span>
-                  {intake.current && (
-                    <span className="rounded bg-paper-200 px-1.5 py-0.5 text-[11px] text-ink-soft">
-                      Current
-                    </span>
-                  )}
+                  {intake.current && <span className="rounded bg-paper-200 px-1.5 py-0.5 text-[11px] text-ink-soft">Current</span>}
                   <span className="figure shrink-0 text-xs text-ink-muted">
-                    {intake.scanCount} {intake.scanCount === 1 ? "scan" : "scans"} ·{" "}
-                    {formatShortDateTime(intake.createdAt)}
+                    {intake.scanCount} {intake.scanCount === 1 ? "scan" : "scans"} · {formatShortDateTime(intake.createdAt)}
                   </span>
                 </label>
               ))}
@@ -117,10 +105,7 @@ export function ApplyDialog({
           )}
           <p className="text-xs text-ink-muted">
             Or{" "}
-            <Link
-              to={fragmentsHref}
-              className="font-medium text-accent underline underline-offset-2"
-            >
+            <Link to={fragmentsHref} className="font-medium text-accent underline underline-offset-2">
               choose fragments one by one
             </Link>{" "}
             from a grid.

@@ -62,8 +62,7 @@ export function ApplyGrid({
     setAnchor(index);
   };
 
-  const selectAll = () =>
-    setSelected(new Set([...selected, ...fragments.map((f) => f.id)].slice(0, MAX_POOL)));
+  const selectAll = () => setSelected(new Set([...selected, ...fragments.map((f) => f.id)].slice(0, MAX_POOL)));
 
   const run = (target: ApplyRecipeBody) =>
     apply.mutate(
@@ -86,16 +85,9 @@ export function ApplyGrid({
       <div className="flex flex-wrap items-center gap-3 rounded-lg border border-paper-300 bg-white px-4 py-3">
         <span className="text-sm text-ink" aria-live="polite">
           <span className="figure font-semibold">{chosen.length}</span> selected
-          {hidden > 0 && (
-            <span className="text-ink-muted"> ({hidden} not shown by these filters)</span>
-          )}
+          {hidden > 0 && <span className="text-ink-muted"> ({hidden} not shown by these filters)</span>}
         </span>
-        <Button
-          size="sm"
-          variant="secondary"
-          onClick={selectAll}
-          disabled={allShown || fragments.length === 0}
-        >
+        <Button size="sm" variant="secondary" onClick={selectAll} disabled={allShown || fragments.length === 0}>
           Select all {fragments.length} matching
         </Button>
         {chosen.length > 0 && (
@@ -109,28 +101,18 @@ export function ApplyGrid({
               ? `All ${approved} are approved and will be re-rendered now.`
               : `${approved} approved will be re-rendered now; the rest get the recipe when approved.`)}
         </span>
-        <Button
-          variant="primary"
-          disabled={chosen.length === 0}
-          busy={apply.isPending}
-          onClick={() => run({ fragmentIds: chosen })}
-        >
-          {chosen.length
-            ? `Apply v${recipe.version} to ${plural(chosen.length, "fragment")}`
-            : "Tick fragments to apply"}
+        <Button variant="primary" disabled={chosen.length === 0} busy={apply.isPending} onClick={() => run({ fragmentIds: chosen })}>
+          {chosen.length ? `Apply v${recipe.version} to ${plural(chosen.length, "fragment")}` : "Tick fragments to apply"}
         </Button>
       </div>
       {scope && (
         <p className="-mt-1 flex flex-wrap items-center gap-2 text-xs text-ink-muted">
-          Or use it for the whole {scope.kind}, {scope.name}: its fragments follow it from now on,
-          new ones included.
+          Or use it for the whole {scope.kind}, {scope.name}: its fragments follow it from now on, new ones included.
           <Button
             size="sm"
             variant="secondary"
             busy={apply.isPending}
-            onClick={() =>
-              run(scope.kind === "scan" ? { scanId: scope.id } : { intakeId: scope.id })
-            }
+            onClick={() => run(scope.kind === "scan" ? { scanId: scope.id } : { intakeId: scope.id })}
           >
             Use for the whole {scope.kind}
           </Button>
@@ -143,11 +125,7 @@ export function ApplyGrid({
       ) : fragments.length === 0 ? (
         <EmptyNote>No fragment matches these filters.</EmptyNote>
       ) : (
-        <ul
-          aria-label="Fragments"
-          aria-busy={loading || undefined}
-          className="grid grid-cols-[repeat(auto-fill,minmax(9.5rem,1fr))] gap-3"
-        >
+        <ul aria-label="Fragments" aria-busy={loading || undefined} className="grid grid-cols-[repeat(auto-fill,minmax(9.5rem,1fr))] gap-3">
           {fragments.map((f, i) => {
             const on = selected.has(f.id);
             return (
@@ -155,9 +133,7 @@ export function ApplyGrid({
                 <label
                   className={cn(
                     "group relative flex h-full cursor-pointer flex-col overflow-hidden rounded-lg border bg-paper-50 shadow-sheet",
-                    on
-                      ? "border-accent ring-2 ring-accent"
-                      : "border-paper-300 hover:border-ink-faint",
+                    on ? "border-accent ring-2 ring-accent" : "border-paper-300 hover:border-ink-faint",
                   )}
                 >
                   <input
@@ -182,22 +158,13 @@ export function ApplyGrid({
                     <span
                       className={cn(
                         "text-[11px]",
-                        f.status === "approved"
-                          ? "text-accent-strong"
-                          : f.status === "rejected"
-                            ? "text-brick"
-                            : "text-ochre",
+                        f.status === "approved" ? "text-accent-strong" : f.status === "rejected" ? "text-brick" : "text-ochre",
                       )}
                     >
                       {STATUS_TEXT[f.status]}
-                      {f.status === "approved" &&
-                        f.renderState !== "done" &&
-                        f.renderState !== "none" && (
-                          <span className="text-ink-muted">
-                            {" "}
-                            · {f.renderState === "failed" ? "render failed" : "rendering"}
-                          </span>
-                        )}
+                      {f.status === "approved" && f.renderState !== "done" && f.renderState !== "none" && (
+                        <span className="text-ink-muted"> · {f.renderState === "failed" ? "render failed" : "rendering"}</span>
+                      )}
                     </span>
                   </span>
                 </label>

@@ -25,7 +25,12 @@ export function BatchLine({ batch }: { batch: Batch }) {
         {done}
       </span>{" "}
       of <span className="figure">{total}</span> {verb}
-      {running > 0 && !batch.finishedAt && <> · {running} {batch.kind === "outputs" ? "being made" : "rendering"} now</>}
+      {running > 0 && !batch.finishedAt && (
+        <>
+          {" "}
+          · {running} {batch.kind === "outputs" ? "being made" : "rendering"} now
+        </>
+      )}
       {failed > 0 && <span className="font-medium text-brick"> · {failed} failed</span>}
       {batch.finishedAt ? (
         <>
@@ -46,11 +51,7 @@ export function BatchLine({ batch }: { batch: Batch }) {
 export function BatchRow({ batch, className }: { batch: Batch; className?: string }) {
   const finished = Boolean(batch.finishedAt);
   return (
-    <div
-      className={cn("flex flex-col gap-1.5", className)}
-      data-batch={batch.id}
-      data-finished={finished}
-    >
+    <div className={cn("flex flex-col gap-1.5", className)} data-batch={batch.id} data-finished={finished}>
       <div className="flex items-baseline justify-between gap-4">
         <Link to={paths.batch(batch.id)} className="truncate text-sm font-medium text-ink hover:text-accent hover:underline">
           {batch.name}

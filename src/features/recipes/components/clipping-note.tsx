@@ -23,26 +23,17 @@ const pct = (v: number) => `${(v * 100).toFixed(v < 0.1 ? 1 : 0)} %`;
  * Says which end clips, by how much, and how much of that the scan already had, so it is clear
  * whether the recipe lost the detail. Nothing when neither end clips.
  */
-export function ClippingNote({
-  clipping,
-  histograms,
-}: {
-  clipping: RecipePreview["clipping"];
-  histograms: Histograms;
-}) {
+export function ClippingNote({ clipping, histograms }: { clipping: RecipePreview["clipping"]; histograms: Histograms }) {
   const shadows = clipping.shadows > CLIP_WARNING;
   const highlights = clipping.highlights > CLIP_WARNING;
   if (!shadows && !highlights) return null;
   const parts = [
-    shadows &&
-      `shadows: ${pct(clipping.shadows)} of the pixels are at 0 in a channel (before: ${pct(clippedShare(histograms.before, 0))})`,
-    highlights &&
-      `highlights: ${pct(clipping.highlights)} are at 255 in a channel (before: ${pct(clippedShare(histograms.before, 255))})`,
+    shadows && `shadows: ${pct(clipping.shadows)} of the pixels are at 0 in a channel (before: ${pct(clippedShare(histograms.before, 0))})`,
+    highlights && `highlights: ${pct(clipping.highlights)} are at 255 in a channel (before: ${pct(clippedShare(histograms.before, 255))})`,
   ].filter(Boolean);
   return (
     <Notice tone="caution" title="Clipping: detail is lost there">
-      {sentence(parts.join("; "))}. Lower the contrast or saturation, or move the black or white
-      point.
+      {sentence(parts.join("; "))}. Lower the contrast or saturation, or move the black or white point.
     </Notice>
   );
 }

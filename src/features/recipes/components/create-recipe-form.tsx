@@ -74,9 +74,7 @@ export function CreateRecipeForm({ recipes }: { recipes: RecipeSummary[] }) {
         }
         error={errors.steps}
       >
-        {studioDefault && (
-          <option value={studioDefault.id}>The studio default ({studioDefault.name})</option>
-        )}
+        {studioDefault && <option value={studioDefault.id}>The studio default ({studioDefault.name})</option>}
         {recipes
           .filter((r) => r.id !== studioDefault?.id)
           .map((r) => (

@@ -28,9 +28,7 @@ export function DetailsForm({
         maxLength={MAX_RECIPE_NAME + 10}
         disabled={builtIn}
         error={nameError}
-        hint={
-          builtIn ? "The built-in recipe keeps its name; make a copy to name your own." : undefined
-        }
+        hint={builtIn ? "The built-in recipe keeps its name; make a copy to name your own." : undefined}
         onChange={(e) => onName(e.target.value)}
       />
       <div className="flex flex-col gap-1.5">

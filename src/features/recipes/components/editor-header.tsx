@@ -74,15 +74,9 @@ export function EditorHeader({
             v{recipe.version}
           </span>
           {recipe.studioDefault && (
-            <span className="rounded-full bg-accent-soft px-2 py-0.5 text-xs font-medium text-accent-strong">
-              Studio default
-            </span>
+            <span className="rounded-full bg-accent-soft px-2 py-0.5 text-xs font-medium text-accent-strong">Studio default</span>
           )}
-          {recipe.builtIn && (
-            <span className="rounded-full bg-paper-200 px-2 py-0.5 text-xs font-medium text-ink-soft">
-              Built in
-            </span>
-          )}
+          {recipe.builtIn && <span className="rounded-full bg-paper-200 px-2 py-0.5 text-xs font-medium text-ink-soft">Built in</span>}
           {dirty && (
             <span
               className="inline-flex items-center gap-1.5 rounded-full bg-ochre-soft px-2 py-0.5 text-xs font-medium text-ochre"
@@ -102,11 +96,7 @@ export function EditorHeader({
         </p>
       </div>
       <div className="flex items-center gap-2">
-        <span
-          role="status"
-          className="mr-1 text-sm font-medium text-accent-strong"
-          data-testid="save-status"
-        >
+        <span role="status" className="mr-1 text-sm font-medium text-accent-strong" data-testid="save-status">
           {savedNote}
         </span>
         {!recipe.studioDefault && (

@@ -28,9 +28,7 @@ export function FragmentPicker({
   const [filter, setFilter] = useState("");
   const ids = selected.map((f) => f.id);
   const full = ids.length >= MAX_PREVIEWS;
-  const shown = candidates.filter((f) =>
-    fragmentLabel(f).toLowerCase().includes(filter.trim().toLowerCase()),
-  );
+  const shown = candidates.filter((f) => fragmentLabel(f).toLowerCase().includes(filter.trim().toLowerCase()));
 
   const toggle = (fragmentId: string) => {
     if (ids.includes(fragmentId)) {
@@ -73,12 +71,7 @@ export function FragmentPicker({
         </Button>
       </div>
       {open && (
-        <div
-          id={id}
-          className="rounded-lg border border-paper-300 bg-paper-100 p-3"
-          role="group"
-          aria-label="Fragments to preview"
-        >
+        <div id={id} className="rounded-lg border border-paper-300 bg-paper-100 p-3" role="group" aria-label="Fragments to preview">
           <div className="mb-2 flex items-center justify-between gap-3">
             <input
               type="search"
@@ -89,9 +82,7 @@ export function FragmentPicker({
               className="h-8 w-56 rounded-md border border-paper-300 bg-white px-2.5 text-sm placeholder:text-ink-muted"
             />
             <span className="text-xs text-ink-muted">
-              {full
-                ? `Up to ${MAX_PREVIEWS} side by side: remove one to add another`
-                : `Choose up to ${MAX_PREVIEWS}`}
+              {full ? `Up to ${MAX_PREVIEWS} side by side: remove one to add another` : `Choose up to ${MAX_PREVIEWS}`}
             </span>
           </div>
           {shown.length === 0 ? (
@@ -110,28 +101,14 @@ export function FragmentPicker({
                       title={`${fragmentLabel(f)}${f.status === "proposed" ? " (to review)" : ""}`}
                       className={cn(
                         "flex w-full flex-col items-stretch overflow-hidden rounded-md border bg-white text-left disabled:cursor-not-allowed disabled:opacity-50",
-                        on
-                          ? "border-accent ring-2 ring-accent"
-                          : "border-paper-300 hover:border-ink-faint",
+                        on ? "border-accent ring-2 ring-accent" : "border-paper-300 hover:border-ink-faint",
                       )}
                     >
                       <span className="flex h-16 items-center justify-center bg-[#e7e2d6] p-1">
-                        <img
-                          src={thumbUrl(f)}
-                          alt=""
-                          loading="lazy"
-                          className="max-h-full max-w-full object-contain"
-                        />
+                        <img src={thumbUrl(f)} alt="" loading="lazy" className="max-h-full max-w-full object-contain" />
                       </span>
-                      <FragmentName
-                        fragment={f}
-                        className="px-1.5 py-1 text-[11px] text-ink-soft"
-                      />
-                      {f.status === "proposed" && (
-                        <span className="px-1.5 pb-1 text-[10px] font-medium text-ochre">
-                          To review
-                        </span>
-                      )}
+                      <FragmentName fragment={f} className="px-1.5 py-1 text-[11px] text-ink-soft" />
+                      {f.status === "proposed" && <span className="px-1.5 pb-1 text-[10px] font-medium text-ochre">To review</span>}
                     </button>
                   </li>
                 );

@@ -72,32 +72,11 @@ export function Histogram({ label, bins }: { label: string; bins: Bins }) {
         className="h-14 w-full rounded border border-paper-300 bg-white"
       >
         {CHANNELS.map((c) => (
-          <path
-            key={c.key}
-            d={areaPath(bins[c.key], peak)}
-            fill={c.colour}
-            fillOpacity={0.38}
-            style={{ mixBlendMode: "multiply" }}
-          />
+          <path key={c.key} d={areaPath(bins[c.key], peak)} fill={c.colour} fillOpacity={0.38} style={{ mixBlendMode: "multiply" }} />
         ))}
-        <path
-          d={linePath(bins.l, peak)}
-          fill="none"
-          stroke="#2b2823"
-          strokeWidth={1.2}
-          vectorEffect="non-scaling-stroke"
-        />
+        <path d={linePath(bins.l, peak)} fill="none" stroke="#2b2823" strokeWidth={1.2} vectorEffect="non-scaling-stroke" />
         {[64, 128, 192].map((x) => (
-          <line
-            key={x}
-            x1={x}
-            x2={x}
-            y1={0}
-            y2={HEIGHT}
-            stroke="#2b2823"
-            strokeOpacity={0.08}
-            vectorEffect="non-scaling-stroke"
-          />
+          <line key={x} x1={x} x2={x} y1={0} y2={HEIGHT} stroke="#2b2823" strokeOpacity={0.08} vectorEffect="non-scaling-stroke" />
         ))}
       </svg>
     </figure>
@@ -106,16 +85,10 @@ export function Histogram({ label, bins }: { label: string; bins: Bins }) {
 
 export function HistogramLegend() {
   return (
-    <p
-      className="flex flex-wrap items-center gap-x-3 gap-y-1 text-[11px] text-ink-muted"
-      aria-hidden="true"
-    >
+    <p className="flex flex-wrap items-center gap-x-3 gap-y-1 text-[11px] text-ink-muted" aria-hidden="true">
       {CHANNELS.map((c) => (
         <span key={c.key} className="inline-flex items-center gap-1">
-          <span
-            className="size-2.5 rounded-sm"
-            style={{ backgroundColor: c.colour, opacity: 0.6 }}
-          />
+          <span className="size-2.5 rounded-sm" style={{ backgroundColor: c.colour, opacity: 0.6 }} />
           {c.label}
         </span>
       ))}

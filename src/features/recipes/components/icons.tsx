@@ -2,14 +2,7 @@ const glyph = (d: string, label?: string) =>
   function Glyph({ className = "size-4" }: { className?: string }) {
     return (
       <svg viewBox="0 0 16 16" className={className} aria-hidden={label ? undefined : true}>
-        <path
-          d={d}
-          fill="none"
-          stroke="currentColor"
-          strokeWidth="1.5"
-          strokeLinecap="round"
-          strokeLinejoin="round"
-        />
+        <path d={d} fill="none" stroke="currentColor" strokeWidth="1.5" strokeLinecap="round" strokeLinejoin="round" />
       </svg>
     );
   };

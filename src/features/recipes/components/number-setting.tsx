@@ -98,11 +98,7 @@ export function NumberSetting({
     if (event.altKey || (event.key !== "ArrowUp" && event.key !== "ArrowDown")) return;
     event.preventDefault();
     const by = (event.key === "ArrowUp" ? 1 : -1) * step * (event.shiftKey ? 10 : 1);
-    const next = snap(
-      Math.min(max, Math.max(min, (parseTyped(text) ?? value) + by)),
-      step,
-      decimals,
-    );
+    const next = snap(Math.min(max, Math.max(min, (parseTyped(text) ?? value) + by)), step, decimals);
     setText(formatNumber(next, decimals));
     setSeen(next);
     setTypingError(null);
@@ -159,13 +155,7 @@ export function NumberSetting({
         }}
         className="h-5 w-full cursor-pointer accent-accent"
       />
-      {track === "hue" && (
-        <span
-          aria-hidden="true"
-          className="-mt-1 mb-0.5 h-1.5 rounded-full"
-          style={{ backgroundImage: HUE_TRACK }}
-        />
-      )}
+      {track === "hue" && <span aria-hidden="true" className="-mt-1 mb-0.5 h-1.5 rounded-full" style={{ backgroundImage: HUE_TRACK }} />}
       {message ? (
         <p id={`${id}-error`} className="text-xs font-medium text-brick">
           {message}

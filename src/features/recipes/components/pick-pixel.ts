@@ -7,11 +7,7 @@ export const PICK_AREA = 5;
  * 0–1 of the image's width and height. Reads the image at its own size through a canvas (a data
  * URL from the server, so the canvas is never tainted).
  */
-export function pickColour(
-  image: HTMLImageElement,
-  x: number,
-  y: number,
-): [number, number, number] | null {
+export function pickColour(image: HTMLImageElement, x: number, y: number): [number, number, number] | null {
   const width = image.naturalWidth;
   const height = image.naturalHeight;
   if (!width || !height) return null;

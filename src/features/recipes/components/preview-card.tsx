@@ -46,15 +46,11 @@ export function PreviewCard({
   const name = fragmentLabel(fragment);
   const data = preview.data;
   const updating = preview.isFetching;
-  const clips =
-    data && (data.clipping.shadows > CLIP_WARNING || data.clipping.highlights > CLIP_WARNING);
+  const clips = data && (data.clipping.shadows > CLIP_WARNING || data.clipping.highlights > CLIP_WARNING);
 
   return (
     <figure
-      className={cn(
-        "flex min-w-0 flex-col gap-2 rounded-lg p-2",
-        active ? "bg-paper-100 ring-1 ring-paper-300" : "",
-      )}
+      className={cn("flex min-w-0 flex-col gap-2 rounded-lg p-2", active ? "bg-paper-100 ring-1 ring-paper-300" : "")}
       data-testid="preview-card"
       aria-busy={updating || undefined}
     >
@@ -87,12 +83,7 @@ export function PreviewCard({
           )}
         </div>
       )}
-      <figcaption
-        className={cn(
-          "flex min-w-0 gap-x-2 gap-y-0.5 text-xs",
-          compact ? "flex-col" : "items-center",
-        )}
-      >
+      <figcaption className={cn("flex min-w-0 gap-x-2 gap-y-0.5 text-xs", compact ? "flex-col" : "items-center")}>
         <span className="flex min-w-0 items-center gap-2">
           <button
             type="button"
@@ -103,16 +94,9 @@ export function PreviewCard({
           >
             {name}
           </button>
-          {clips && (
-            <span className="shrink-0 rounded bg-ochre-soft px-1.5 py-0.5 text-[11px] font-medium text-ochre">
-              Clipping
-            </span>
-          )}
+          {clips && <span className="shrink-0 rounded bg-ochre-soft px-1.5 py-0.5 text-[11px] font-medium text-ochre">Clipping</span>}
         </span>
-        <span
-          className={cn("figure shrink-0 text-ink-muted", !compact && "ml-auto")}
-          aria-live="polite"
-        >
+        <span className={cn("figure shrink-0 text-ink-muted", !compact && "ml-auto")} aria-live="polite">
           {updating ? (
             <span className="inline-flex items-center gap-1.5">
               <Spinner className="size-3" /> Updating

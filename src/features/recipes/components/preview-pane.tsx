@@ -71,8 +71,7 @@ export function PreviewPane({
       onPickingChange(false);
       return;
     }
-    if (isTyping(event.target) || (event.target as HTMLElement | null)?.closest?.("dialog[open]"))
-      return;
+    if (isTyping(event.target) || (event.target as HTMLElement | null)?.closest?.("dialog[open]")) return;
     if (event.key === "\\") {
       event.preventDefault();
       setView((v) => (v === "before" ? "after" : "before"));
@@ -86,21 +85,14 @@ export function PreviewPane({
 
   if (candidates.length === 0) {
     return (
-      <EmptyNote>
-        No fragment to preview yet. Approve fragments on a scan&apos;s review page, and they can be
-        previewed here.
-      </EmptyNote>
+      <EmptyNote>No fragment to preview yet. Approve fragments on a scan&apos;s review page, and they can be previewed here.</EmptyNote>
     );
   }
 
   return (
     <div className="flex flex-col gap-4">
       <div className="flex flex-wrap items-center justify-between gap-3">
-        <div
-          role="radiogroup"
-          aria-label="Show"
-          className="flex rounded-md border border-paper-300 bg-white p-0.5"
-        >
+        <div role="radiogroup" aria-label="Show" className="flex rounded-md border border-paper-300 bg-white p-0.5">
           {VIEWS.map((v) => (
             <label key={v.value}>
               <input
@@ -130,30 +122,20 @@ export function PreviewPane({
       </div>
       <FragmentPicker candidates={candidates} selected={selected} onChange={onSelect} />
       {picking && (
-        <p
-          className="rounded-md bg-accent-faint px-3 py-2 text-xs text-accent-strong"
-          role="status"
-        >
-          Click something on the before picture that should be neutral: the white of the paper, a
-          grey. White balance is set from a 5 × 5 pixel average there.
+        <p className="rounded-md bg-accent-faint px-3 py-2 text-xs text-accent-strong" role="status">
+          Click something on the before picture that should be neutral: the white of the paper, a grey. White balance is set from a 5 × 5
+          pixel average there.
         </p>
       )}
       {!valid && (
-        <p
-          className="rounded-md bg-brick-soft px-3 py-2 text-xs font-medium text-brick"
-          role="status"
-        >
+        <p className="rounded-md bg-brick-soft px-3 py-2 text-xs font-medium text-brick" role="status">
           The preview waits until every setting is valid: see the step marked in red.
         </p>
       )}
       <div
         className={cn(
           "grid items-start gap-3",
-          selected.length === 1
-            ? "grid-cols-1"
-            : selected.length === 2
-              ? "grid-cols-2"
-              : "grid-cols-3",
+          selected.length === 1 ? "grid-cols-1" : selected.length === 2 ? "grid-cols-2" : "grid-cols-3",
         )}
       >
         {selected.map((f) => (
@@ -181,18 +163,9 @@ export function PreviewPane({
       </div>
       <p className="-mt-2 text-xs text-ink-muted">
         Drag the divider, or focus it and use the arrow keys;{" "}
-        <kbd className="figure rounded border border-paper-300 bg-white px-1">{"\\"}</kbd> flips
-        between before and after.
+        <kbd className="figure rounded border border-paper-300 bg-white px-1">{"\\"}</kbd> flips between before and after.
       </p>
-      {active && (
-        <Histograms
-          fragment={active}
-          steps={settled}
-          ready={ready}
-          size={size}
-          several={selected.length > 1}
-        />
-      )}
+      {active && <Histograms fragment={active} steps={settled} ready={ready} size={size} several={selected.length > 1} />}
     </div>
   );
 }
@@ -211,19 +184,14 @@ function Histograms({
   several: boolean;
 }) {
   // The same query as the fragment's card: one request serves both.
-  const preview = useRecipePreview(
-    { fragmentId: fragment.id, revision: fragment.revision, size },
-    steps,
-    ready,
-  );
+  const preview = useRecipePreview({ fragmentId: fragment.id, revision: fragment.revision, size }, steps, ready);
   if (!preview.data) return null;
   const { histograms, clipping } = preview.data;
   return (
     <section aria-label="Histograms" className="flex flex-col gap-2">
       {several && (
         <p className="text-xs text-ink-muted">
-          Histograms of <span className="font-medium text-ink">{fragmentLabel(fragment)}</span>{" "}
-          (choose another by its name)
+          Histograms of <span className="font-medium text-ink">{fragmentLabel(fragment)}</span> (choose another by its name)
         </p>
       )}
       <div className="grid grid-cols-2 gap-4">

@@ -186,9 +186,7 @@ export function RecipeEditor({
             actions={<AddStepMenu onAdd={draft.add} />}
           >
             {steps.length === 0 ? (
-              <EmptyNote>
-                No steps: fragments keep the colour they were scanned with. Add a step to start.
-              </EmptyNote>
+              <EmptyNote>No steps: fragments keep the colour they were scanned with. Add a step to start.</EmptyNote>
             ) : (
               <StepList
                 steps={steps}
@@ -201,32 +199,23 @@ export function RecipeEditor({
               />
             )}
             {removed && (
-              <div
-                role="status"
-                className="mt-3 flex items-center justify-between gap-3 rounded-md bg-paper-200 px-3 py-2 text-sm"
-              >
+              <div role="status" className="mt-3 flex items-center justify-between gap-3 rounded-md bg-paper-200 px-3 py-2 text-sm">
                 <span>Removed {STEP_INFO[removed.item.step.type].label}.</span>
                 <span className="flex gap-1">
                   <Button size="sm" variant="secondary" onClick={draft.undoRemove}>
                     Undo
                   </Button>
-                  <Button
-                    size="sm"
-                    variant="quiet"
-                    onClick={draft.dismissRemoved}
-                    aria-label="Dismiss"
-                  >
+                  <Button size="sm" variant="quiet" onClick={draft.dismissRemoved} aria-label="Dismiss">
                     ×
                   </Button>
                 </span>
               </div>
             )}
             <p className="mt-4 text-xs text-ink-muted">
-              Applied from top to bottom. On a step,{" "}
-              <kbd className="figure rounded border border-paper-300 bg-white px-1">Alt</kbd>+
+              Applied from top to bottom. On a step, <kbd className="figure rounded border border-paper-300 bg-white px-1">Alt</kbd>+
               <kbd className="figure rounded border border-paper-300 bg-white px-1">↑</kbd>/
-              <kbd className="figure rounded border border-paper-300 bg-white px-1">↓</kbd> moves
-              it; <kbd className="figure rounded border border-paper-300 bg-white px-1">Ctrl</kbd>+
+              <kbd className="figure rounded border border-paper-300 bg-white px-1">↓</kbd> moves it;{" "}
+              <kbd className="figure rounded border border-paper-300 bg-white px-1">Ctrl</kbd>+
               <kbd className="figure rounded border border-paper-300 bg-white px-1">S</kbd> saves.
             </p>
           </Panel>
@@ -249,9 +238,7 @@ export function RecipeEditor({
               current={recipe.version}
               onLoad={(stepsOf, version) => {
                 draft.load(stepsOf);
-                toast.info(
-                  `The steps of v${version} are in the editor. Save to make them v${recipe.version + 1}.`,
-                );
+                toast.info(`The steps of v${version} are in the editor. Save to make them v${recipe.version + 1}.`);
               }}
             />
           </Panel>
@@ -297,9 +284,8 @@ export function RecipeEditor({
         onConfirm={makeDefault}
         onCancel={() => setConfirmDefault(false)}
       >
-        Fragments with no recipe of their own, their scan&apos;s or their intake&apos;s get the
-        newest version of this recipe the next time they are rendered. Files already made stay as
-        they are.
+        Fragments with no recipe of their own, their scan&apos;s or their intake&apos;s get the newest version of this recipe the next time
+        they are rendered. Files already made stay as they are.
       </ConfirmDialog>
       <ConfirmDialog
         open={confirmDiscard}

@@ -32,16 +32,10 @@ export function RecipesTable({ recipes }: { recipes: RecipeSummary[] }) {
         {recipes.map((r) => {
           const usage = usageLine(r.usage);
           return (
-            <tr
-              key={r.id}
-              className="border-b border-paper-200 align-top last:border-0 hover:bg-paper-100"
-            >
+            <tr key={r.id} className="border-b border-paper-200 align-top last:border-0 hover:bg-paper-100">
               <td className="px-5 py-3">
                 <div className="flex flex-wrap items-center gap-2">
-                  <Link
-                    to={paths.recipe(r.id)}
-                    className="font-semibold text-ink hover:text-accent hover:underline"
-                  >
+                  <Link to={paths.recipe(r.id)} className="font-semibold text-ink hover:text-accent hover:underline">
                     {r.name}
                   </Link>
                   {r.studioDefault && (
@@ -50,14 +44,10 @@ export function RecipesTable({ recipes }: { recipes: RecipeSummary[] }) {
                     </span>
                   )}
                   {r.builtIn && (
-                    <span className="rounded-full bg-paper-200 px-2 py-0.5 text-[11px] font-medium text-ink-soft">
-                      Built in
-                    </span>
+                    <span className="rounded-full bg-paper-200 px-2 py-0.5 text-[11px] font-medium text-ink-soft">Built in</span>
                   )}
                 </div>
-                {r.description && (
-                  <p className="mt-0.5 max-w-md text-xs text-ink-muted">{r.description}</p>
-                )}
+                {r.description && <p className="mt-0.5 max-w-md text-xs text-ink-muted">{r.description}</p>}
               </td>
               <td className="figure px-3 py-3 text-ink-soft">v{r.version}</td>
               <td className="px-3 py-3">
@@ -82,11 +72,7 @@ export function RecipesTable({ recipes }: { recipes: RecipeSummary[] }) {
               </td>
               <td className="px-3 py-3 text-xs text-ink-soft">
                 {r.studioDefault && <p>Every fragment with no recipe of its own</p>}
-                {usage ? (
-                  <p>{usage}</p>
-                ) : (
-                  !r.studioDefault && <p className="text-ink-muted">Not used yet</p>
-                )}
+                {usage ? <p>{usage}</p> : !r.studioDefault && <p className="text-ink-muted">Not used yet</p>}
               </td>
               <td className="px-5 py-3 text-right text-xs whitespace-nowrap text-ink-muted">
                 <Ago iso={r.updatedAt} />

@@ -110,13 +110,7 @@ export function SplitView({
         aspectRatio: `${width} / ${height}`,
       }}
     >
-      <img
-        ref={beforeImage}
-        src={before}
-        alt={`Before: ${name}`}
-        draggable={false}
-        className="absolute inset-0 size-full"
-      />
+      <img ref={beforeImage} src={before} alt={`Before: ${name}`} draggable={false} className="absolute inset-0 size-full" />
       {shown !== "before" && (
         <img
           src={after}
@@ -127,10 +121,7 @@ export function SplitView({
         />
       )}
       {shown === "split" && (
-        <div
-          className="pointer-events-none absolute inset-y-0 w-0"
-          style={{ left: `${divider * 100}%` }}
-        >
+        <div className="pointer-events-none absolute inset-y-0 w-0" style={{ left: `${divider * 100}%` }}>
           <div className="absolute inset-y-0 -left-px w-0.5 bg-white shadow-[0_0_0_1px_rgba(43,40,35,0.35)]" />
           <div
             role="slider"

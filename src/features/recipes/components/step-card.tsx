@@ -92,17 +92,12 @@ export function StepCard({
           onClick={() => onChange({ ...step, enabled: !step.enabled } as RecipeStep)}
           className={cn(
             "inline-flex h-6 items-center gap-1.5 rounded-full border px-2 text-[11px] font-semibold",
-            step.enabled
-              ? "border-accent/40 bg-accent-faint text-accent-strong"
-              : "border-paper-300 bg-paper-100 text-ink-muted",
+            step.enabled ? "border-accent/40 bg-accent-faint text-accent-strong" : "border-paper-300 bg-paper-100 text-ink-muted",
           )}
         >
           <span
             aria-hidden="true"
-            className={cn(
-              "size-2 rounded-full border",
-              step.enabled ? "border-accent bg-accent" : "border-ink-faint",
-            )}
+            className={cn("size-2 rounded-full border", step.enabled ? "border-accent bg-accent" : "border-ink-faint")}
           />
           {step.enabled ? "On" : "Off"}
         </button>
@@ -125,38 +120,19 @@ export function StepCard({
           >
             <DownIcon />
           </button>
-          <button
-            type="button"
-            className={cn(iconButton, "hover:text-brick")}
-            aria-label={`Remove ${info.label}`}
-            onClick={onRemove}
-          >
+          <button type="button" className={cn(iconButton, "hover:text-brick")} aria-label={`Remove ${info.label}`} onClick={onRemove}>
             <RemoveIcon />
           </button>
         </span>
       </div>
-      <div
-        id={`${id}-body`}
-        hidden={!open}
-        className={cn("border-t border-paper-200 px-4 pt-2.5 pb-4", !step.enabled && "opacity-60")}
-      >
+      <div id={`${id}-body`} hidden={!open} className={cn("border-t border-paper-200 px-4 pt-2.5 pb-4", !step.enabled && "opacity-60")}>
         <p className="mb-3 text-xs text-ink-muted">
           {info.summary}
           {!step.enabled && " Off: kept in the recipe but skipped."}
         </p>
-        <StepSettings
-          step={step}
-          errors={errors}
-          onChange={onChange}
-          onPickNeutral={onPickNeutral}
-          picking={picking}
-        />
+        <StepSettings step={step} errors={errors} onChange={onChange} onPickNeutral={onPickNeutral} picking={picking} />
       </div>
-      {!open && invalid && (
-        <p className="border-t border-paper-200 px-4 py-2 text-xs font-medium text-brick">
-          {Object.values(errors)[0]}
-        </p>
-      )}
+      {!open && invalid && <p className="border-t border-paper-200 px-4 py-2 text-xs font-medium text-brick">{Object.values(errors)[0]}</p>}
     </li>
   );
 }

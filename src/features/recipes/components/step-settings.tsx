@@ -130,24 +130,11 @@ function TripleSettings({
             }}
           />
         ))}
-      {error ? (
-        <p className="text-xs font-medium text-brick">{error}</p>
-      ) : (
-        <p className="text-xs text-ink-muted">{setting.hint}</p>
-      )}
+      {error ? <p className="text-xs font-medium text-brick">{error}</p> : <p className="text-xs text-ink-muted">{setting.hint}</p>}
       {onPickNeutral && (
         <div>
-          <Button
-            size="sm"
-            variant={picking ? "primary" : "secondary"}
-            onClick={onPickNeutral}
-            aria-pressed={picking}
-          >
-            {picking
-              ? "Click a neutral on the preview…"
-              : value
-                ? "Pick again on the preview"
-                : "Pick on the preview"}
+          <Button size="sm" variant={picking ? "primary" : "secondary"} onClick={onPickNeutral} aria-pressed={picking}>
+            {picking ? "Click a neutral on the preview…" : value ? "Pick again on the preview" : "Pick on the preview"}
           </Button>
         </div>
       )}

@@ -1,15 +1,7 @@
 import { useMemo, useState } from "react";
 import type { RecipeSummary } from "../../../../shared/schemas/recipe-api";
 import type { RecipeStep, StepType } from "../../../../shared/schemas/recipes";
-import {
-  addedStep,
-  draftIsValid,
-  keyedAll,
-  moved,
-  sameSteps,
-  withNeutralPoint,
-  type DraftStep,
-} from "../draft";
+import { addedStep, draftIsValid, keyedAll, moved, sameSteps, withNeutralPoint, type DraftStep } from "../draft";
 
 export interface RemovedStep {
   item: DraftStep;

@@ -14,8 +14,7 @@ export const scanQueryOptions = (id: string) =>
     queryKey: scanKeys.detail(id),
     queryFn: ({ signal }) => getScan(id, signal),
     // A missing scan (404) or a malformed address (400) will not appear on a second try.
-    retry: (count, error) =>
-      !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
+    retry: (count, error) => !("status" in error && (error.status === 404 || error.status === 400)) && count < 2,
   });
 
 export function useScan(id: string) {

@@ -12,9 +12,7 @@ export async function retryScan(id: string): Promise<Scan> {
 }
 
 /** Queue a failed scan again. Callers may add their own onSuccess (e.g. refresh the queue). */
-export function useRetryScan(
-  mutationConfig: Omit<UseMutationOptions<Scan, Error, string>, "mutationFn"> = {},
-) {
+export function useRetryScan(mutationConfig: Omit<UseMutationOptions<Scan, Error, string>, "mutationFn"> = {}) {
   const queryClient = useQueryClient();
   const { onSuccess, ...rest } = mutationConfig;
   return useMutation({

@@ -28,11 +28,7 @@ export interface UploadItem {
 }
 
 /** Sends one file and reports its result: queued, duplicate of an earlier scan, or refused. */
-export function uploadScan(
-  file: File,
-  onProgress: (percent: number) => void,
-  signal?: AbortSignal,
-) {
+export function uploadScan(file: File, onProgress: (percent: number) => void, signal?: AbortSignal) {
   return apiUpload(API.scansUpload, {
     field: UPLOAD_FIELD,
     files: [file],
@@ -50,10 +46,7 @@ let counter = 0;
  * The upload queue outside React: one request per file, CONCURRENCY at a time, so each file has
  * its own progress and its own result even when another one is refused.
  */
-function createUploadQueue(events: {
-  onChange: (items: UploadItem[]) => void;
-  onSettled: () => void;
-}) {
+function createUploadQueue(events: { onChange: (items: UploadItem[]) => void; onSettled: () => void }) {
   let items: UploadItem[] = [];
   const pending: Array<{ key: string; file: File }> = [];
   let active = 0;

@@ -35,21 +35,24 @@ export function DpiValue({
         </Tooltip>
       ) : dpi.source === "set" ? (
         <Tooltip content={SET_DPI_HINT}>
-          <span data-testid="set-dpi" className="rounded border border-paper-300 bg-paper-100 px-1.5 text-[11px] leading-5 font-medium tracking-wide text-ink-soft">
+          <span
+            data-testid="set-dpi"
+            className="rounded border border-paper-300 bg-paper-100 px-1.5 text-[11px] leading-5 font-medium tracking-wide text-ink-soft"
+          >
             set
           </span>
         </Tooltip>
       ) : isLowDpi(dpi) ? (
         <Tooltip content={LOW_DPI_HINT}>
-          <span data-testid="low-dpi" className="rounded border border-dashed border-ochre/60 bg-ochre-soft/60 px-1.5 text-[11px] leading-5 font-medium tracking-wide text-ochre">
+          <span
+            data-testid="low-dpi"
+            className="rounded border border-dashed border-ochre/60 bg-ochre-soft/60 px-1.5 text-[11px] leading-5 font-medium tracking-wide text-ochre"
+          >
             low
           </span>
         </Tooltip>
       ) : (
-        showOrigin &&
-        dpi.origin && (
-          <span className="text-xs text-ink-muted">from {ORIGIN_LABELS[dpi.origin]}</span>
-        )
+        showOrigin && dpi.origin && <span className="text-xs text-ink-muted">from {ORIGIN_LABELS[dpi.origin]}</span>
       )}
     </span>
   );

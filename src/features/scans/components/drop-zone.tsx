@@ -12,13 +12,7 @@ function hasFiles(event: DragEvent): boolean {
  * Where scans are added by hand: drop files anywhere on the page, or click to choose them.
  * While files are dragged over the window a full-page sheet says where they will go.
  */
-export function DropZone({
-  onFiles,
-  intakeName,
-}: {
-  onFiles: (files: File[]) => void;
-  intakeName?: string;
-}) {
+export function DropZone({ onFiles, intakeName }: { onFiles: (files: File[]) => void; intakeName?: string }) {
   const input = useRef<HTMLInputElement>(null);
   const [dragging, setDragging] = useState(false);
   const depth = useRef(0);
@@ -70,23 +64,8 @@ export function DropZone({
         )}
       >
         <svg viewBox="0 0 40 40" className="size-10 shrink-0 text-accent" aria-hidden="true">
-          <rect
-            x="4"
-            y="9"
-            width="32"
-            height="24"
-            rx="3"
-            fill="none"
-            stroke="currentColor"
-            strokeWidth="2"
-          />
-          <path
-            d="M20 27V14m-5 5 5-5 5 5"
-            fill="none"
-            stroke="currentColor"
-            strokeWidth="2"
-            strokeLinecap="round"
-          />
+          <rect x="4" y="9" width="32" height="24" rx="3" fill="none" stroke="currentColor" strokeWidth="2" />
+          <path d="M20 27V14m-5 5 5-5 5 5" fill="none" stroke="currentColor" strokeWidth="2" strokeLinecap="round" />
         </svg>
         <div className="min-w-0 flex-1">
           <p className="font-medium text-ink">Drop scans anywhere on this page</p>
@@ -127,9 +106,7 @@ export function DropZone({
         >
           <div className="rounded-2xl border-2 border-dashed border-accent bg-paper-50 px-12 py-10 text-center shadow-xl">
             <p className="text-lg font-semibold text-ink">Release to upload</p>
-            <p className="mt-1 text-sm text-ink-muted">
-              {intakeName ? `Into ${intakeName}` : "Into the current intake"}
-            </p>
+            <p className="mt-1 text-sm text-ink-muted">{intakeName ? `Into ${intakeName}` : "Into the current intake"}</p>
           </div>
         </div>
       )}

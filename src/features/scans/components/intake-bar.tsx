@@ -47,15 +47,12 @@ export function IntakeBar({ current }: { current?: Intake }) {
   return (
     <div className="flex flex-wrap items-end justify-between gap-4">
       <div>
-        <p className="text-xs font-semibold tracking-wide text-ink-muted uppercase">
-          Current intake
-        </p>
+        <p className="text-xs font-semibold tracking-wide text-ink-muted uppercase">Current intake</p>
         {current ? (
           <p className="mt-1">
             <span className="font-semibold text-ink">{current.name}</span>
             <span className="ml-2 text-sm text-ink-muted">
-              <span className="figure">{current.scanCount}</span>{" "}
-              {current.scanCount === 1 ? "scan" : "scans"} · since{" "}
+              <span className="figure">{current.scanCount}</span> {current.scanCount === 1 ? "scan" : "scans"} · since{" "}
               {formatDateTime(current.createdAt)}
             </span>
           </p>

@@ -11,7 +11,9 @@ import { ORIGIN_LABELS } from "../format";
 export function fileDpiText(fileDpi: Scan["fileDpi"]): string | null {
   if (!fileDpi || fileDpi.x == null || fileDpi.y == null) return null;
   const figure =
-    Math.abs(fileDpi.x - fileDpi.y) < 0.005 ? `${formatNumber(fileDpi.x, 2)} DPI` : `${formatNumber(fileDpi.x, 2)} × ${formatNumber(fileDpi.y, 2)} DPI`;
+    Math.abs(fileDpi.x - fileDpi.y) < 0.005
+      ? `${formatNumber(fileDpi.x, 2)} DPI`
+      : `${formatNumber(fileDpi.x, 2)} × ${formatNumber(fileDpi.y, 2)} DPI`;
   return fileDpi.origin ? `${figure} (${ORIGIN_LABELS[fileDpi.origin]})` : figure;
 }
 
@@ -52,9 +54,7 @@ export function RestoreResolution({ scan, canChange }: { scan: Scan; canChange: 
 
   return (
     <div className="mt-1 text-sm" data-testid="file-dpi">
-      <span className="text-ink-soft">
-        {recorded ? <>The file records {recorded}.</> : <>The file records no resolution.</>}
-      </span>
+      <span className="text-ink-soft">{recorded ? <>The file records {recorded}.</> : <>The file records no resolution.</>}</span>
       {canChange && !asking && (
         <Button
           ref={opener}
@@ -77,8 +77,8 @@ export function RestoreResolution({ scan, canChange }: { scan: Scan; canChange: 
           }}
         >
           <p className="text-ink-soft">
-            {recorded ? `Go back to ${recorded}?` : "Go back to the studio's assumed resolution?"} Piece sizes follow it, and
-            approved pieces render again.
+            {recorded ? `Go back to ${recorded}?` : "Go back to the studio's assumed resolution?"} Piece sizes follow it, and approved
+            pieces render again.
           </p>
           <div className="flex gap-2">
             <Button size="sm" variant="primary" autoFocus busy={restore.isPending} onClick={run}>

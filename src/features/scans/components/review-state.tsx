@@ -14,15 +14,7 @@ export function ReviewState({ scan, canReview }: { scan: Scan; canReview: boolea
     return (
       <span className="mt-1 flex items-center gap-1 text-[11px] font-medium text-ochre">
         <svg viewBox="0 0 12 12" className="size-2.5 shrink-0" aria-hidden="true">
-          <circle
-            cx="6"
-            cy="6"
-            r="4.5"
-            fill="none"
-            stroke="currentColor"
-            strokeWidth="1.5"
-            strokeDasharray="2.2 1.6"
-          />
+          <circle cx="6" cy="6" r="4.5" fill="none" stroke="currentColor" strokeWidth="1.5" strokeDasharray="2.2 1.6" />
         </svg>
         {canReview ? (
           <Link
@@ -49,11 +41,7 @@ export function ReviewState({ scan, canReview }: { scan: Scan; canReview: boolea
         <path d="M3.6 6.2 5.3 7.8 8.4 4.4" fill="none" stroke="white" strokeWidth="1.5" />
       </svg>
       <Link
-        to={
-          canReview
-            ? paths.scanReview(scan.id)
-            : `${paths.work}?scan=${encodeURIComponent(scan.id)}`
-        }
+        to={canReview ? paths.scanReview(scan.id) : `${paths.work}?scan=${encodeURIComponent(scan.id)}`}
         tabIndex={-1}
         className="underline-offset-2 hover:underline"
         title={`${total} ${total === 1 ? "fragment" : "fragments"} kept`}

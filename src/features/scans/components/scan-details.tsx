@@ -8,15 +8,7 @@ import { ProgressBar } from "../../../components/progress-bar";
 import { StatusBadge } from "../../../components/status-badge";
 import { paths } from "../../../config/paths";
 import { formatDateTime, formatDateTimeLong } from "../../../lib/time";
-import {
-  LOW_DPI_HINT,
-  ORIGIN_LABELS,
-  colourSpaceLabel,
-  formatPhysical,
-  formatPixels,
-  isLowDpi,
-  physicalOf,
-} from "../format";
+import { LOW_DPI_HINT, ORIGIN_LABELS, colourSpaceLabel, formatPhysical, formatPixels, isLowDpi, physicalOf } from "../format";
 import { DpiValue } from "./dpi-value";
 import { SetResolution } from "./set-resolution";
 import { RestoreResolution } from "./restore-resolution";
@@ -65,13 +57,7 @@ export function ScanDetails({ scan }: { scan: Scan }) {
   const phys = physical ? formatPhysical(physical) : null;
   const pixels = formatPixels(scan);
   const unknown = (
-    <Unknown>
-      {scan.status === "duplicate"
-        ? "Not read for a duplicate"
-        : scan.status === "failed"
-          ? "Not read"
-          : "Not known yet"}
-    </Unknown>
+    <Unknown>{scan.status === "duplicate" ? "Not read for a duplicate" : scan.status === "failed" ? "Not read" : "Not known yet"}</Unknown>
   );
   return (
     <div className="flex flex-col gap-6">
@@ -80,10 +66,7 @@ export function ScanDetails({ scan }: { scan: Scan }) {
           <span className="[overflow-wrap:anywhere]">{scan.originalName}</span>
         </Row>
         <Row term="Intake">
-          <Link
-            to={`${paths.scans}?intake=${encodeURIComponent(scan.intake.id)}`}
-            className="hover:text-accent hover:underline"
-          >
+          <Link to={`${paths.scans}?intake=${encodeURIComponent(scan.intake.id)}`} className="hover:text-accent hover:underline">
             {scan.intake.name}
           </Link>
         </Row>
@@ -102,10 +85,7 @@ export function ScanDetails({ scan }: { scan: Scan }) {
         )}
         <Row term="SHA-256">
           <span className="flex items-start gap-2">
-            <code
-              className="figure min-w-0 flex-1 text-xs leading-5 break-all select-all"
-              aria-label="SHA-256 checksum"
-            >
+            <code className="figure min-w-0 flex-1 text-xs leading-5 break-all select-all" aria-label="SHA-256 checksum">
               {scan.sha256}
             </code>
             <CopyButton value={scan.sha256} label="Copy SHA-256" />
@@ -113,9 +93,7 @@ export function ScanDetails({ scan }: { scan: Scan }) {
         </Row>
         <Row term="File size">
           <span className="figure">{formatBytes(scan.sizeBytes)}</span>{" "}
-          <span className="figure text-xs text-ink-muted">
-            ({scan.sizeBytes.toLocaleString()} bytes)
-          </span>
+          <span className="figure text-xs text-ink-muted">({scan.sizeBytes.toLocaleString()} bytes)</span>
         </Row>
       </Group>
 
@@ -124,37 +102,23 @@ export function ScanDetails({ scan }: { scan: Scan }) {
           {pixels ? (
             <>
               <span className="figure">{pixels}</span>{" "}
-              <span className="figure text-xs text-ink-muted">
-                ({formatMegapixels(scan.width! * scan.height!)})
-              </span>
+              <span className="figure text-xs text-ink-muted">({formatMegapixels(scan.width! * scan.height!)})</span>
             </>
           ) : (
             unknown
           )}
         </Row>
         <Row term="Format">{scan.format ? scan.format.toUpperCase() : unknown}</Row>
-        <Row term="Bit depth">
-          {scan.bitDepth != null ? (
-            <span className="figure">{scan.bitDepth} bits per channel</span>
-          ) : (
-            unknown
-          )}
-        </Row>
-        <Row term="Channels">
-          {scan.channels != null ? <span className="figure">{scan.channels}</span> : unknown}
-        </Row>
-        <Row term="Colour space">
-          {scan.colourSpace ? colourSpaceLabel(scan.colourSpace) : unknown}
-        </Row>
+        <Row term="Bit depth">{scan.bitDepth != null ? <span className="figure">{scan.bitDepth} bits per channel</span> : unknown}</Row>
+        <Row term="Channels">{scan.channels != null ? <span className="figure">{scan.channels}</span> : unknown}</Row>
+        <Row term="Colour space">{scan.colourSpace ? colourSpaceLabel(scan.colourSpace) : unknown}</Row>
         <Row term="ICC profile">
           {scan.hasIccProfile === null ? (
             unknown
           ) : scan.hasIccProfile ? (
             <>
               Embedded
-              {scan.iccDescription && (
-                <span className="text-ink-soft">: {scan.iccDescription}</span>
-              )}
+              {scan.iccDescription && <span className="text-ink-soft">: {scan.iccDescription}</span>}
             </>
           ) : (
             "None embedded"
@@ -205,16 +169,10 @@ export function ScanDetails({ scan }: { scan: Scan }) {
           <span className="flex flex-col gap-2">
             <span>
               <StatusBadge status={scan.status} />
-              {scan.stage && scan.status === "analysing" && (
-                <span className="ml-2 text-ink-soft">{scan.stage}</span>
-              )}
+              {scan.stage && scan.status === "analysing" && <span className="ml-2 text-ink-soft">{scan.stage}</span>}
             </span>
             {scan.status === "analysing" && (
-              <ProgressBar
-                value={scan.progress}
-                label={`Progress for ${scan.originalName}`}
-                className="max-w-xs"
-              />
+              <ProgressBar value={scan.progress} label={`Progress for ${scan.originalName}`} className="max-w-xs" />
             )}
             {scan.error && <span className="text-brick">{scan.error}</span>}
             {scan.continuedBy && (
@@ -222,10 +180,7 @@ export function ScanDetails({ scan }: { scan: Scan }) {
                 {scan.continuedBy.how === "whole"
                   ? "Its writer finished the file afterwards; it was taken in again, whole, as "
                   : "Its writer went on with the file afterwards; it was taken in again as "}
-                <Link
-                  to={paths.scan(scan.continuedBy.id)}
-                  className="font-medium text-accent underline underline-offset-2"
-                >
+                <Link to={paths.scan(scan.continuedBy.id)} className="font-medium text-accent underline underline-offset-2">
                   a new scan of {scan.continuedBy.originalName}
                 </Link>
                 .
@@ -234,10 +189,7 @@ export function ScanDetails({ scan }: { scan: Scan }) {
             {scan.duplicateOf && (
               <span>
                 Same file as{" "}
-                <Link
-                  to={paths.scan(scan.duplicateOf.id)}
-                  className="font-medium text-accent underline underline-offset-2"
-                >
+                <Link to={paths.scan(scan.duplicateOf.id)} className="font-medium text-accent underline underline-offset-2">
                   {scan.duplicateOf.originalName}
                 </Link>
               </span>

@@ -33,9 +33,7 @@ export function ScanFiltersBar({
       <SelectField
         label="Status"
         value={filters.status ?? ""}
-        onChange={(e) =>
-          onChange({ status: (e.target.value || undefined) as ScanStatus | undefined })
-        }
+        onChange={(e) => onChange({ status: (e.target.value || undefined) as ScanStatus | undefined })}
         fieldClassName="w-44"
       >
         <option value="">Any status</option>

@@ -8,8 +8,7 @@ import { scanPreviewUrl } from "../api/get-scan";
 import { approvedCount } from "../format";
 import { PiecesIcon } from "./scan-thumb";
 
-const MAT =
-  "flex items-center justify-center rounded-xl border border-paper-300 bg-[#e7e2d6] p-6 shadow-inner";
+const MAT = "flex items-center justify-center rounded-xl border border-paper-300 bg-[#e7e2d6] p-6 shadow-inner";
 
 /** The scan at browser size on a neutral mat, or a note saying why there is no picture yet. */
 export function ScanPreview({ scan }: { scan: Scan }) {
@@ -49,13 +48,13 @@ function ApprovedWorkPointer({ scan }: { scan: Scan }) {
   return (
     <figure className={cn(MAT, "min-h-[18rem]")} aria-label="The scan's picture">
       <figcaption className="flex max-w-sm flex-col items-center gap-3 text-center text-sm text-ink-muted">
-        <span className="flex size-14 items-center justify-center rounded-lg border border-paper-300 bg-paper-100 text-ink-faint" aria-hidden="true">
+        <span
+          className="flex size-14 items-center justify-center rounded-lg border border-paper-300 bg-paper-100 text-ink-faint"
+          aria-hidden="true"
+        >
           <PiecesIcon className="size-7" />
         </span>
-        <span>
-          The picture of the whole scan is for operators: it shows every piece on the bed, including
-          those not reviewed yet.
-        </span>
+        <span>The picture of the whole scan is for operators: it shows every piece on the bed, including those not reviewed yet.</span>
         {approved > 0 ? (
           <Link to={`${paths.work}?scan=${encodeURIComponent(scan.id)}`} className={link}>
             See its {approved} approved {approved === 1 ? "fragment" : "fragments"}

@@ -56,11 +56,7 @@ const WIDE_ONLY = "hidden @5xl:table-cell";
 
 function isTyping(target: EventTarget | null): boolean {
   if (!(target instanceof HTMLElement)) return false;
-  return (
-    target.isContentEditable ||
-    ["INPUT", "TEXTAREA", "SELECT"].includes(target.tagName) ||
-    target.closest("dialog[open]") !== null
-  );
+  return target.isContentEditable || ["INPUT", "TEXTAREA", "SELECT"].includes(target.tagName) || target.closest("dialog[open]") !== null;
 }
 
 /**
@@ -99,12 +95,7 @@ export function ScansTable({
 
   const move = (delta: number) => {
     if (scans.length === 0) return;
-    const next =
-      active < 0
-        ? delta > 0
-          ? 0
-          : scans.length - 1
-        : Math.min(scans.length - 1, Math.max(0, active + delta));
+    const next = active < 0 ? (delta > 0 ? 0 : scans.length - 1) : Math.min(scans.length - 1, Math.max(0, active + delta));
     setActive(next);
     const row = rows.current[next];
     row?.focus();
@@ -145,13 +136,8 @@ export function ScansTable({
   };
 
   return (
-    <table
-      className={cn("w-full table-fixed border-collapse text-sm", busy && "opacity-70")}
-      aria-busy={busy || undefined}
-    >
-      <caption className="sr-only">
-        Scans. Use j and k or the arrow keys to move between rows and Enter to open one.
-      </caption>
+    <table className={cn("w-full table-fixed border-collapse text-sm", busy && "opacity-70")} aria-busy={busy || undefined}>
+      <caption className="sr-only">Scans. Use j and k or the arrow keys to move between rows and Enter to open one.</caption>
       <thead>
         <tr className="border-b border-paper-300 text-left text-xs font-semibold tracking-wide text-ink-muted">
           <th scope="col" className="w-[4.25rem] py-2.5 pl-4">
@@ -159,34 +145,18 @@ export function ScansTable({
           </th>
           {COLUMNS.map((col) => {
             const sorted = col.sort !== undefined && col.sort === sort;
-            const ariaSort = col.sort
-              ? sorted
-                ? dir === "asc"
-                  ? "ascending"
-                  : "descending"
-                : "none"
-              : undefined;
+            const ariaSort = col.sort ? (sorted ? (dir === "asc" ? "ascending" : "descending") : "none") : undefined;
             return (
               <th
                 key={col.label}
                 scope="col"
                 aria-sort={ariaSort}
-                className={cn(
-                  "px-3 py-2.5 whitespace-nowrap last:pr-5",
-                  col.width,
-                  col.wideOnly && WIDE_ONLY,
-                  col.className,
-                )}
+                className={cn("px-3 py-2.5 whitespace-nowrap last:pr-5", col.width, col.wideOnly && WIDE_ONLY, col.className)}
               >
                 {col.sort ? (
                   <button
                     type="button"
-                    onClick={() =>
-                      onSort(
-                        col.sort!,
-                        sorted ? (dir === "asc" ? "desc" : "asc") : (col.firstDir ?? "asc"),
-                      )
-                    }
+                    onClick={() => onSort(col.sort!, sorted ? (dir === "asc" ? "desc" : "asc") : (col.firstDir ?? "asc"))}
                     className={cn(
                       "-mx-1.5 inline-flex items-center gap-1 rounded px-1.5 py-0.5 hover:bg-paper-200 hover:text-ink",
                       sorted && "text-ink",
@@ -248,9 +218,7 @@ export function ScansTable({
                     data-testid="scan-row-duplicate-of"
                   >
                     Same file as <span className="text-ink-soft">{scan.duplicateOf.originalName}</span>
-                    {scan.duplicateOf.status === "failed" ? (
-                      <span className="text-brick">, which failed</span>
-                    ) : null}
+                    {scan.duplicateOf.status === "failed" ? <span className="text-brick">, which failed</span> : null}
                   </span>
                 )}
               </td>
@@ -259,11 +227,7 @@ export function ScansTable({
               </td>
               <td className="px-3 py-2 text-xs">
                 <DpiValue dpi={scan.dpi} wrap />
-                {pixels && (
-                  <span className="figure mt-0.5 block whitespace-nowrap text-ink-muted @5xl:hidden">
-                    {pixels}
-                  </span>
-                )}
+                {pixels && <span className="figure mt-0.5 block whitespace-nowrap text-ink-muted @5xl:hidden">{pixels}</span>}
               </td>
               <td className="figure px-3 py-2 text-xs leading-5 whitespace-nowrap text-ink-soft">
                 {phys ? (
@@ -285,18 +249,10 @@ export function ScansTable({
                 )}
                 <ReviewState scan={scan} canReview={canReview} />
               </td>
-              <td
-                className={cn(
-                  "figure px-3 py-2 text-right text-xs whitespace-nowrap text-ink-soft",
-                  WIDE_ONLY,
-                )}
-              >
+              <td className={cn("figure px-3 py-2 text-right text-xs whitespace-nowrap text-ink-soft", WIDE_ONLY)}>
                 {formatBytes(scan.sizeBytes)}
               </td>
-              <td
-                className="px-3 py-2 pr-5 text-right text-xs whitespace-nowrap text-ink-muted"
-                title={formatDateTimeLong(scan.createdAt)}
-              >
+              <td className="px-3 py-2 pr-5 text-right text-xs whitespace-nowrap text-ink-muted" title={formatDateTimeLong(scan.createdAt)}>
                 {formatShortDateTime(scan.createdAt)}
               </td>
             </tr>

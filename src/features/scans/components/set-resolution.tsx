@@ -109,8 +109,8 @@ export function SetResolution({ scan }: { scan: Scan }) {
         }}
       >
         <p className="text-ink-soft">
-          Set {formatNumber(asking, 2)} DPI? Piece sizes follow it, and{" "}
-          <span className="font-medium text-ink">{rendersAgain}</span> (new masters and web copies).
+          Set {formatNumber(asking, 2)} DPI? Piece sizes follow it, and <span className="font-medium text-ink">{rendersAgain}</span> (new
+          masters and web copies).
         </p>
         <div className="flex gap-2">
           <Button size="sm" variant="primary" autoFocus busy={set.isPending} onClick={() => save(asking)}>
@@ -183,8 +183,8 @@ export function SetResolution({ scan }: { scan: Scan }) {
         </p>
       ) : (
         <p id={`${id}-hint`} className="text-xs text-ink-muted">
-          Sizes, masters, web copies and mock-ups follow it; the file itself is not changed. Batch copies made before
-          keep the old figure until their batch runs again.
+          Sizes, masters, web copies and mock-ups follow it; the file itself is not changed. Batch copies made before keep the old figure
+          until their batch runs again.
         </p>
       )}
       <div className="flex flex-wrap items-center gap-2">

@@ -11,10 +11,7 @@ import type { UploadItem } from "../api/upload-scans";
 function DuplicateOf({ id }: { id: string }) {
   const { data } = useScan(id);
   return (
-    <Link
-      to={paths.scan(id)}
-      className="font-medium underline underline-offset-2 hover:text-accent"
-    >
+    <Link to={paths.scan(id)} className="font-medium underline underline-offset-2 hover:text-accent">
       {data?.originalName ?? "an earlier scan"}
     </Link>
   );
@@ -47,22 +44,15 @@ function Result({ item }: { item: UploadItem }) {
       return (
         <span className="flex items-center gap-3">
           <ProgressBar value={item.progress} label={`Uploading ${item.name}`} className="w-40" />
-          <span className="figure w-10 text-right text-xs text-ink-soft">
-            {Math.round(item.progress)}%
-          </span>
+          <span className="figure w-10 text-right text-xs text-ink-soft">{Math.round(item.progress)}%</span>
         </span>
       );
     case "queued":
-      return item.scanId ? (
-        <Added scanId={item.scanId} />
-      ) : (
-        <span className="text-accent-strong">Queued</span>
-      );
+      return item.scanId ? <Added scanId={item.scanId} /> : <span className="text-accent-strong">Queued</span>;
     case "duplicate":
       return (
         <span className="text-ochre">
-          Duplicate of{" "}
-          {item.duplicateOf ? <DuplicateOf id={item.duplicateOf} /> : "an earlier scan"}
+          Duplicate of {item.duplicateOf ? <DuplicateOf id={item.duplicateOf} /> : "an earlier scan"}
           {item.triedAgain && ", which had failed: it is being analysed again"}
         </span>
       );
@@ -94,29 +84,17 @@ export function UploadList({ items, onClear }: { items: UploadItem[]; onClear: (
   if (items.length === 0) return null;
   const finished = items.filter((i) => i.state !== "waiting" && i.state !== "sending").length;
   // Refused files first, so their reasons stay in sight above a long list of added ones.
-  const shown = [
-    ...items.filter((i) => i.state === "refused"),
-    ...items.filter((i) => i.state !== "refused"),
-  ];
+  const shown = [...items.filter((i) => i.state === "refused"), ...items.filter((i) => i.state !== "refused")];
   return (
-    <section
-      aria-labelledby="uploads-title"
-      className="rounded-xl border border-paper-300 bg-paper-50"
-    >
+    <section aria-labelledby="uploads-title" className="rounded-xl border border-paper-300 bg-paper-50">
       <header className="flex items-center justify-between gap-3 border-b border-paper-200 px-5 py-2.5">
         <h2 id="uploads-title" className="text-sm font-semibold text-ink-soft">
           Uploads{" "}
-          <span
-            className="figure ml-1 text-xs font-normal text-ink-muted"
-            aria-live="polite"
-            data-testid="upload-summary"
-          >
+          <span className="figure ml-1 text-xs font-normal text-ink-muted" aria-live="polite" data-testid="upload-summary">
             {uploadSummary(items).map((part, i) => (
               <span key={part}>
                 {i > 0 && " · "}
-                <span className={cn(part.endsWith("refused") && "font-medium text-brick")}>
-                  {part}
-                </span>
+                <span className={cn(part.endsWith("refused") && "font-medium text-brick")}>{part}</span>
               </span>
             ))}
           </span>
@@ -127,24 +105,13 @@ export function UploadList({ items, onClear }: { items: UploadItem[]; onClear: (
           </Button>
         )}
       </header>
-      <ul
-        aria-label="Upload results"
-        className="max-h-64 divide-y divide-paper-200 overflow-y-auto"
-      >
+      <ul aria-label="Upload results" className="max-h-64 divide-y divide-paper-200 overflow-y-auto">
         {shown.map((item) => (
-          <li
-            key={item.key}
-            className={cn(
-              "flex items-center gap-4 px-5 py-2 text-sm",
-              item.state === "refused" && "bg-brick-soft/30",
-            )}
-          >
+          <li key={item.key} className={cn("flex items-center gap-4 px-5 py-2 text-sm", item.state === "refused" && "bg-brick-soft/30")}>
             <span className="min-w-0 flex-1 truncate font-medium text-ink" title={item.name}>
               {item.name}
             </span>
-            <span className="figure w-20 shrink-0 text-right text-xs text-ink-muted">
-              {formatBytes(item.size)}
-            </span>
+            <span className="figure w-20 shrink-0 text-right text-xs text-ink-muted">{formatBytes(item.size)}</span>
             <span className="w-[26rem] shrink-0 text-sm">
               <Result item={item} />
             </span>

@@ -1,11 +1,6 @@
 import { useCallback, useMemo } from "react";
 import { useSearchParams } from "react-router-dom";
-import {
-  SCAN_SORT_FIELDS,
-  SCAN_STATUSES,
-  type ScanListQuery,
-  type ScanStatus,
-} from "../../../../shared/schemas/scans";
+import { SCAN_SORT_FIELDS, SCAN_STATUSES, type ScanListQuery, type ScanStatus } from "../../../../shared/schemas/scans";
 
 export type SortField = (typeof SCAN_SORT_FIELDS)[number];
 export type SortDir = "asc" | "desc";

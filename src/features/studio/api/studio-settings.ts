@@ -23,8 +23,7 @@ export function useStudioSettings() {
 export function useUpdateStudio() {
   const queryClient = useQueryClient();
   return useMutation({
-    mutationFn: async (body: UpdateStudioBody) =>
-      (await apiRequest(API.studioUpdate, { body, schema: studioSettingsResponse })).settings,
+    mutationFn: async (body: UpdateStudioBody) => (await apiRequest(API.studioUpdate, { body, schema: studioSettingsResponse })).settings,
     onSuccess: (settings) => {
       queryClient.setQueryData(studioSettingsQueryOptions().queryKey, settings);
       // The rail shows the studio's name.

@@ -35,10 +35,7 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
     if (!s) return;
     if (wasWriting.current && s.writing === 0) {
       if (s.behind === 0) toast.success("Every master now carries the studio's creator and copyright line.");
-      else if (s.failed > 0)
-        toast.error(
-          `${masters(s.failed)} could not be written; see why under “Rights in masters already made”.`,
-        );
+      else if (s.failed > 0) toast.error(`${masters(s.failed)} could not be written; see why under “Rights in masters already made”.`);
       else
         toast.info(
           `Written. ${masters(s.behind)} still ${s.behind === 1 ? "carries" : "carry"} other rights; see “Rights in masters already made”.`,
@@ -68,11 +65,7 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
     );
 
   return (
-    <Panel
-      title="Rights in masters already made"
-      titleId="masters-rights-title"
-      className="max-w-5xl"
-    >
+    <Panel title="Rights in masters already made" titleId="masters-rights-title" className="max-w-5xl">
       {status.isPending ? (
         <p className="flex items-center gap-2 text-sm text-ink-muted">
           <Spinner /> Counting the masters…
@@ -91,17 +84,11 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
                 …
               </p>
               {queued && queued >= s!.writing ? (
-                <ProgressBar
-                  value={((queued - s!.writing) / queued) * 100}
-                  label="Rights written"
-                  className="max-w-md"
-                />
+                <ProgressBar value={((queued - s!.writing) / queued) * 100} label="Rights written" className="max-w-md" />
               ) : null}
             </div>
           ) : s!.masters === 0 ? (
-            <p className="text-ink-soft">
-              No masters are made yet. Each one carries the rights above from the moment it is made.
-            </p>
+            <p className="text-ink-soft">No masters are made yet. Each one carries the rights above from the moment it is made.</p>
           ) : s!.behind === 0 ? (
             <p className="text-ink-soft">
               <span aria-hidden className="mr-1.5 text-accent">
@@ -114,22 +101,18 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
           ) : (
             <>
               <p className="text-ink">
-                <span className="figure font-semibold">{s!.behind.toLocaleString("en")}</span> of{" "}
-                {masters(s!.masters)} {s!.behind === 1 ? "carries" : "carry"} another creator or
-                copyright line than the studio's.
+                <span className="figure font-semibold">{s!.behind.toLocaleString("en")}</span> of {masters(s!.masters)}{" "}
+                {s!.behind === 1 ? "carries" : "carry"} another creator or copyright line than the studio's.
                 {s!.unknown > 0 && (
                   <span className="text-ink-soft">
                     {" "}
-                    ({s!.unknown.toLocaleString("en")} {s!.unknown === 1 ? "was" : "were"} made
-                    before Platen kept track; any that already agree are left as they are.)
+                    ({s!.unknown.toLocaleString("en")} {s!.unknown === 1 ? "was" : "were"} made before Platen kept track; any that already
+                    agree are left as they are.)
                   </span>
                 )}
               </p>
               {s!.failed > 0 && (
-                <Notice
-                  tone="caution"
-                  title={`${masters(s!.failed)} could not be written the last time`}
-                >
+                <Notice tone="caution" title={`${masters(s!.failed)} could not be written the last time`}>
                   <ul className="list-disc pl-4" aria-label="Why">
                     {s!.reasons.map((r) => (
                       <li key={r}>{r}</li>
@@ -141,28 +124,16 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
               <p className="text-xs text-ink-muted">The studio's now, to be written in:</p>
               <dl className="-mt-2 grid max-w-xl grid-cols-[max-content_1fr] gap-x-4 gap-y-1 text-sm">
                 <dt className="text-ink-muted">Creator</dt>
-                <dd className="text-ink">
-                  {s!.creator ?? <span className="text-ink-muted">none (taken out)</span>}
-                </dd>
+                <dd className="text-ink">{s!.creator ?? <span className="text-ink-muted">none (taken out)</span>}</dd>
                 <dt className="text-ink-muted">Copyright line</dt>
-                <dd className="text-ink">
-                  {s!.copyright ?? <span className="text-ink-muted">none (taken out)</span>}
-                </dd>
+                <dd className="text-ink">{s!.copyright ?? <span className="text-ink-muted">none (taken out)</span>}</dd>
               </dl>
               {!asking ? (
                 <div className="flex flex-wrap items-center gap-3">
-                  <Button
-                    ref={opener}
-                    type="button"
-                    size="sm"
-                    disabled={unsaved}
-                    onClick={() => setAsking(true)}
-                  >
+                  <Button ref={opener} type="button" size="sm" disabled={unsaved} onClick={() => setAsking(true)}>
                     Write them into {masters(s!.behind)}…
                   </Button>
-                  {unsaved && (
-                    <span className="text-xs text-ink-muted">Save the settings above first.</span>
-                  )}
+                  {unsaved && <span className="text-xs text-ink-muted">Save the settings above first.</span>}
                 </div>
               ) : (
                 <div
@@ -172,11 +143,9 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
                   onKeyDown={(e) => e.key === "Escape" && close()}
                 >
                   <p className="text-ink-soft">
-                    Each master and its web copy get the creator and copyright line above, with the
-                    piece's own title. Only those fields are written again: pixels, colour profile,
-                    bit depth and resolution stay exactly as they are. A master with an off-site
-                    copy is copied there again. Batch copies are not touched; run their batch again
-                    to remake them.
+                    Each master and its web copy get the creator and copyright line above, with the piece's own title. Only those fields are
+                    written again: pixels, colour profile, bit depth and resolution stay exactly as they are. A master with an off-site copy
+                    is copied there again. Batch copies are not touched; run their batch again to remake them.
                   </p>
                   {error && (
                     <p role="alert" className="text-brick">
@@ -184,14 +153,7 @@ export function MastersRightsPanel({ unsaved }: { unsaved: boolean }) {
                     </p>
                   )}
                   <div className="flex gap-2">
-                    <Button
-                      ref={confirmer}
-                      type="button"
-                      size="sm"
-                      variant="primary"
-                      busy={write.isPending}
-                      onClick={() => run(s!)}
-                    >
+                    <Button ref={confirmer} type="button" size="sm" variant="primary" busy={write.isPending} onClick={() => run(s!)}>
                       Write into {masters(s!.behind)}
                     </Button>
                     <Button type="button" size="sm" variant="quiet" onClick={close}>

@@ -1,11 +1,6 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from "@tanstack/react-query";
 import { API } from "../../../../shared/api";
-import {
-  invitationListResponse,
-  invitationResponse,
-  type CreateInvitationBody,
-  type Invitation,
-} from "../../../../shared/schemas/mail";
+import { invitationListResponse, invitationResponse, type CreateInvitationBody, type Invitation } from "../../../../shared/schemas/mail";
 import { apiRequest } from "../../../lib/api-client";
 import { userKeys } from "./get-users";
 
@@ -13,9 +8,7 @@ import { userKeys } from "./get-users";
 export const invitationsQueryOptions = () =>
   queryOptions({
     queryKey: [...userKeys.all, "invitations"] as const,
-    queryFn: async ({ signal }) =>
-      (await apiRequest(API.invitationsList, { schema: invitationListResponse, signal }))
-        .invitations,
+    queryFn: async ({ signal }) => (await apiRequest(API.invitationsList, { schema: invitationListResponse, signal })).invitations,
   });
 
 export function useInvitations() {
@@ -24,15 +17,11 @@ export function useInvitations() {
 
 export async function createInvitation(body: CreateInvitationBody): Promise<Invitation> {
   // The form shows a refusal beside the field it names (an address that already has an account).
-  return (
-    await apiRequest(API.invitationsCreate, { body, schema: invitationResponse, quiet: true })
-  ).invitation;
+  return (await apiRequest(API.invitationsCreate, { body, schema: invitationResponse, quiet: true })).invitation;
 }
 
 export async function resendInvitation(id: string): Promise<Invitation> {
-  return (
-    await apiRequest(API.invitationsResend, { params: { id }, schema: invitationResponse })
-  ).invitation;
+  return (await apiRequest(API.invitationsResend, { params: { id }, schema: invitationResponse })).invitation;
 }
 
 export async function revokeInvitation(id: string): Promise<void> {

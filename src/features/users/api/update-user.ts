@@ -22,9 +22,7 @@ export function useUpdateUser() {
   return useMutation({
     mutationFn: updateUser,
     onSuccess: (user) => {
-      queryClient.setQueryData(usersQueryOptions().queryKey, (list) =>
-        list?.map((u) => (u.id === user.id ? user : u)),
-      );
+      queryClient.setQueryData(usersQueryOptions().queryKey, (list) => list?.map((u) => (u.id === user.id ? user : u)));
       return queryClient.invalidateQueries({ queryKey: usersQueryOptions().queryKey });
     },
     // A refused role change must put the select back to what the server holds.

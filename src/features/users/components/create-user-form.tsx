@@ -51,13 +51,7 @@ export function CreateUserForm() {
   return (
     <form onSubmit={submit} noValidate aria-label="Create a user" className="flex flex-col gap-4">
       {formError && <Notice tone="error">{formError}</Notice>}
-      <TextField
-        label="Name"
-        autoComplete="off"
-        value={values.name}
-        onChange={(e) => set("name", e.target.value)}
-        error={errors.name}
-      />
+      <TextField label="Name" autoComplete="off" value={values.name} onChange={(e) => set("name", e.target.value)} error={errors.name} />
       <TextField
         label="E-mail"
         type="email"

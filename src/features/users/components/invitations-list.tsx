@@ -41,18 +41,14 @@ export function InvitationsList() {
   const doResend = (i: Invitation) =>
     resend.mutate(i.id, {
       onSuccess: (r) =>
-        r.sendError
-          ? toast.error(r.sendError)
-          : toast.success(`A new link went to ${r.email}; the earlier one no longer works.`),
+        r.sendError ? toast.error(r.sendError) : toast.success(`A new link went to ${r.email}; the earlier one no longer works.`),
     });
 
   return (
     <>
       <ul aria-label="Pending invitations" className="divide-y divide-paper-200">
         {invitations.data.map((i) => {
-          const busy =
-            (resend.isPending && resend.variables === i.id) ||
-            (revoke.isPending && revoke.variables === i.id);
+          const busy = (resend.isPending && resend.variables === i.id) || (revoke.isPending && revoke.variables === i.id);
           return (
             <li key={i.id} className="flex flex-wrap items-center gap-x-4 gap-y-2 px-5 py-3">
               <div className="min-w-0 flex-1">
@@ -75,7 +71,13 @@ export function InvitationsList() {
                 </p>
               </div>
               <div className="flex items-center gap-2">
-                <Button size="sm" busy={busy && resend.isPending} disabled={busy} onClick={() => doResend(i)} aria-label={`Resend the invitation to ${i.email}`}>
+                <Button
+                  size="sm"
+                  busy={busy && resend.isPending}
+                  disabled={busy}
+                  onClick={() => doResend(i)}
+                  aria-label={`Resend the invitation to ${i.email}`}
+                >
                   Resend
                 </Button>
                 <Button
@@ -106,12 +108,7 @@ export function InvitationsList() {
         }
         onCancel={() => setRevoking(null)}
       >
-        {revoking && (
-          <p>
-            The link in the message to {revoking.email} stops working at once. You can invite the
-            address again later.
-          </p>
-        )}
+        {revoking && <p>The link in the message to {revoking.email} stops working at once. You can invite the address again later.</p>}
       </ConfirmDialog>
     </>
   );

@@ -40,9 +40,7 @@ export function UsersTable({ users }: { users: User[] }) {
       {
         onSuccess: (u) => {
           setDisabling(null);
-          toast.success(
-            u.disabled ? `${u.name} can no longer sign in.` : `${u.name} can sign in again.`,
-          );
+          toast.success(u.disabled ? `${u.name} can no longer sign in.` : `${u.name} can sign in again.`);
         },
         onError: () => setDisabling(null),
       },
@@ -77,21 +75,11 @@ export function UsersTable({ users }: { users: User[] }) {
             const self = user.id === me.id;
             const busy = pendingId === user.id;
             return (
-              <tr
-                key={user.id}
-                className={cn(
-                  "border-b border-paper-200 last:border-b-0",
-                  user.disabled && "text-ink-muted",
-                )}
-              >
+              <tr key={user.id} className={cn("border-b border-paper-200 last:border-b-0", user.disabled && "text-ink-muted")}>
                 <td className="py-3 pr-3 pl-5">
                   <span className="block font-medium text-ink">
                     {user.name}
-                    {self && (
-                      <span className="ml-2 rounded bg-paper-200 px-1.5 py-0.5 text-xs font-normal text-ink-soft">
-                        you
-                      </span>
-                    )}
+                    {self && <span className="ml-2 rounded bg-paper-200 px-1.5 py-0.5 text-xs font-normal text-ink-soft">you</span>}
                   </span>
                   <span className="block text-xs text-ink-muted">{user.email}</span>
                 </td>
@@ -115,10 +103,7 @@ export function UsersTable({ users }: { users: User[] }) {
                 <td className="px-3 py-3">
                   {user.disabled ? (
                     <span className="inline-flex items-center gap-1.5 rounded-full border border-brick/40 bg-brick-soft px-2 py-0.5 text-xs font-medium text-brick">
-                      <span
-                        aria-hidden="true"
-                        className="size-2 rounded-full border border-brick"
-                      />
+                      <span aria-hidden="true" className="size-2 rounded-full border border-brick" />
                       Disabled
                     </span>
                   ) : (
@@ -129,11 +114,7 @@ export function UsersTable({ users }: { users: User[] }) {
                   )}
                 </td>
                 <td className="px-3 py-3 text-ink-soft">
-                  {user.lastSignInAt ? (
-                    <Ago iso={user.lastSignInAt} />
-                  ) : (
-                    <span className="text-ink-muted">Never</span>
-                  )}
+                  {user.lastSignInAt ? <Ago iso={user.lastSignInAt} /> : <span className="text-ink-muted">Never</span>}
                 </td>
                 <td className="py-3 pr-5 pl-3 text-right">
                   {self ? (
@@ -142,12 +123,7 @@ export function UsersTable({ users }: { users: User[] }) {
                       <span className="sr-only">: {SELF_NOTE}</span>
                     </span>
                   ) : user.disabled ? (
-                    <Button
-                      size="sm"
-                      busy={busy}
-                      onClick={() => setDisabled(user, false)}
-                      aria-label={`Enable ${user.name}`}
-                    >
+                    <Button size="sm" busy={busy} onClick={() => setDisabled(user, false)} aria-label={`Enable ${user.name}`}>
                       Enable
                     </Button>
                   ) : (
@@ -177,8 +153,8 @@ export function UsersTable({ users }: { users: User[] }) {
       >
         {disabling && (
           <p>
-            {disabling.email} will no longer be able to sign in. Their scans and work stay in the
-            library. You can enable the account again at any time.
+            {disabling.email} will no longer be able to sign in. Their scans and work stay in the library. You can enable the account again
+            at any time.
           </p>
         )}
       </ConfirmDialog>
