@@ -79,6 +79,12 @@ describe("a failed scan", () => {
     await expect.poll(() => row.getByText("none: the scan could not be read").count()).toBeGreaterThan(0);
     expect(await row.getByText("not known yet").count()).toBe(0);
 
+    // The Queue's recent failures say the same: Retry only for the scan whose worker stopped.
+    await page.goto(`${stack.url}/queue`);
+    await page.getByRole("button", { name: "Retry night-bed-07.png" }).waitFor();
+    expect(await page.getByRole("button", { name: "Retry night-bed-06.tif" }).count()).toBe(0);
+    expect(await page.getByTestId("retry-cannot-help").count()).toBe(1);
+
     await page.goto(`${stack.url}/scans/${stoppedScan}`);
     const retry = page.getByRole("button", { name: "Retry night-bed-07.png" });
     await retry.waitFor();

@@ -6,15 +6,14 @@ import { StillChangingError, forgetKeptInboxFile, intakeFile, keptInboxFiles } f
 import { startHeartbeat } from "../server/services/processes";
 import { notify } from "../server/services/events";
 import { looksUnfinished } from "./pipeline/unfinished";
+import { WaitingList } from "./inbox-waiting";
+import { createSettler } from "./inbox-settle";
 
 /** Names a scanner or a copy leaves while it is still writing, and hidden files: never taken in. */
 export function isIgnoredName(name: string): boolean {
   const base = path.basename(name);
   return (
-    base.startsWith(".") ||
-    base.startsWith("~") ||
-    base.endsWith("~") ||
-    /\.(part|partial|tmp|temp|crdownload|download|swp)$/i.test(base)
+    base.startsWith(".") || base.startsWith("~") || base.endsWith("~") || /\.(part|partial|tmp|temp|crdownload|download|swp)$/i.test(base)
   );
 }
 
@@ -41,6 +40,8 @@ export interface WatcherOptions {
  * again, whole, when it changes. Files filed but left in the inbox (that one, and one that could
  * not be removed) are remembered in the database (inbox_kept_files), so an unchanged one is not
  * filed again after a restart; the memory goes when the file leaves the inbox.
+ * Every file it holds back (still being written, looking unfinished, being filed, or tried again
+ * after an error) is on its waiting list (./inbox-waiting.ts), which the Queue screen shows.
  */
 export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
   const folder = path.resolve(opts.folder);
@@ -62,6 +63,14 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
   const unfinishedSince = new Map<string, { since: number; size: number; mtimeMs: number; reason?: string }>();
   /** A file's path inside the inbox, as inbox_kept_files keeps it. */
   const nameOf = (file: string) => path.relative(folder, file).split(path.sep).join("/");
+  const waiting = new WaitingList({
+    unfinishedMs,
+    publish: async (list, changed) => {
+      await heartbeat.reportWaiting(list);
+      if (changed) await notify(deps.database.pool, { kind: "watcher" });
+    },
+    onError: (err) => log.error({ err }, "watcher: could not report the files it is waiting on"),
+  });
 
   /**
    * Files filed but still in the inbox, as they were then (inbox_kept_files; this map mirrors this
@@ -121,6 +130,7 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         st = await fsp.stat(file);
       } catch (err) {
         unfinishedSince.delete(file);
+        waiting.leave(file);
         seenAgain.delete(file);
         inFlight.delete(file);
         // Gone (not merely unreadable for a moment, as a share can be): its memory goes too.
@@ -131,6 +141,7 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
       const stayed = kept.get(file);
       if (stayed && stayed.sizeBytes === st.size && stayed.mtimeMs === st.mtimeMs) {
         log.debug({ file: name, scanId: stayed.scanId, reason: stayed.reason }, "watcher: filed before and unchanged since; left alone");
+        waiting.leave(file);
         return done();
       }
       try {
@@ -140,6 +151,7 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         const [real, inbox] = await Promise.all([fsp.realpath(path.dirname(file)), fsp.realpath(folder)]);
         if (real !== inbox && !real.startsWith(inbox + path.sep)) {
           unfinishedSince.delete(file);
+          waiting.leave(file);
           done();
           return log.warn({ file: name }, "watcher: leaving a file alone whose folder now leads out of the inbox");
         }
@@ -149,6 +161,7 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         const seen = unfinishedSince.get(file);
         if (seen && (seen.size !== st.size || seen.mtimeMs !== st.mtimeMs)) {
           unfinishedSince.set(file, { since: now, size: st.size, mtimeMs: st.mtimeMs });
+          waiting.set(file, name, st.size, "writing");
           return lookAgain(recheck(), attempt);
         }
         // Unchanged since the last walk, the same verdict: a big file is not walked again and again.
@@ -157,12 +170,21 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
           const since = seen?.since ?? now;
           unfinishedSince.set(file, { since, size: st.size, mtimeMs: st.mtimeMs, reason: unfinished });
           if (now - since < unfinishedMs) {
-            if (!seen) log.info({ file: name, reason: unfinished, waitMs: unfinishedMs }, "watcher: the file looks unfinished; waiting for its writer");
+            waiting.set(file, name, st.size, "unfinished", unfinished, since + unfinishedMs);
+            if (!seen)
+              log.info(
+                { file: name, reason: unfinished, waitMs: unfinishedMs },
+                "watcher: the file looks unfinished; waiting for its writer",
+              );
             return lookAgain(Math.min(recheck(), unfinishedMs - (now - since)), attempt);
           }
-          log.warn({ file: name, reason: unfinished, waitedMs: now - since }, "watcher: the file still looks unfinished; filing it as it is and leaving it in the inbox for its writer");
+          log.warn(
+            { file: name, reason: unfinished, waitedMs: now - since },
+            "watcher: the file still looks unfinished; filing it as it is and leaving it in the inbox for its writer",
+          );
         }
         unfinishedSince.delete(file);
+        waiting.set(file, name, st.size, "filing");
         await heartbeat.sawFile(name);
         const r = await intakeFile(deps, {
           path: file,
@@ -176,19 +198,40 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
         if (r.remembered) kept.set(file, r.remembered);
         else kept.delete(file);
         if (r.kept === "changed") seenAgain.add(file);
+        waiting.leave(file);
         done();
       } catch (err) {
         if (err instanceof StillChangingError) {
           // Its writer is still at it: nothing was recorded; looked at again once it is still.
           log.info({ file: name }, "watcher: the file changed while it was copied; waiting for it to be still");
+          const size = await fsp.stat(file).then(
+            (x) => x.size,
+            () => null,
+          );
+          if (size === null) waiting.leave(file);
+          else waiting.set(file, name, size, "writing");
           return lookAgain(recheck(), attempt);
         }
         const wait = Math.min(60_000, 1000 * 2 ** attempt);
+        waiting.set(file, name, st.size, "retrying", err instanceof Error ? err.message : String(err), Date.now() + wait);
         log.error({ err, file: name, attempt, retryInMs: wait }, "watcher: could not take in the file; it stays in the inbox");
         lookAgain(wait, attempt + 1);
       }
     });
   };
+
+  // What arrives or changes is taken once it has been still for stableMs; meanwhile it is on the
+  // waiting list as being written (unless it is one filed before and left here, unchanged).
+  const settler = createSettler({
+    stableMs: opts.stableMs,
+    pollMs: opts.pollMs,
+    onSettled: (file) => take(file),
+    onChanging: (file, st) => {
+      const stayed = kept.get(file);
+      if (stayed && stayed.sizeBytes === st.size && stayed.mtimeMs === st.mtimeMs) return;
+      if (!inFlight.has(file)) waiting.set(file, nameOf(file), st.size, "writing");
+    },
+  });
 
   // A link is never taken in, nor a linked folder looked into: whoever may write to the inbox must
   // not be able to file any other file this process can read. Said once per link.
@@ -207,16 +250,21 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
     followSymlinks: false,
     ignored: (p, stats) =>
       p !== folder && (isIgnoredName(p) || isLink(p, stats) || (stats?.isFile() === false && stats?.isDirectory() === false)),
-    awaitWriteFinish: { stabilityThreshold: opts.stableMs, pollInterval: opts.pollMs },
   });
-  watcher.on("add", (file) => take(file));
-  watcher.on("change", (file) => take(file));
-  // Gone from the inbox: looked at once more, which finds it gone and forgets it if it was kept.
+  let ready = false;
+  // What was there at the start is looked at at once (the look itself waits for an unfinished
+  // one); what arrives or changes later, once it has stopped changing.
+  watcher.on("add", (file) => (ready ? settler.seen(file) : take(file)));
+  watcher.on("change", (file) => settler.seen(file));
+  // Gone from the inbox: looked at once more, which finds it gone, takes it off the waiting list
+  // and forgets it if it was kept.
   watcher.on("unlink", (file) => {
-    if (kept.has(file)) take(file);
+    settler.drop(file);
+    if (kept.has(file) || (waiting.has(file) && !inFlight.has(file))) take(file);
   });
   watcher.on("error", (err) => log.error({ err }, "watcher error"));
   await new Promise<void>((resolve) => watcher.once("ready", () => resolve()));
+  ready = true;
   log.info({ stableMs: opts.stableMs }, "watching the inbox");
 
   return {
@@ -226,8 +274,10 @@ export async function startWatcher(deps: IntakeDeps, opts: WatcherOptions) {
     async close() {
       closed = true;
       timers.forEach((t) => clearTimeout(t));
+      settler.close();
       await watcher.close();
       await chain;
+      await waiting.close();
       await heartbeat.stop();
     },
   };

@@ -20,6 +20,7 @@ import {
 import { ROLES } from "../../shared/roles";
 import { SCAN_STATUSES } from "../../shared/schemas/scans";
 import { FRAGMENT_STATUSES, type Box, type FragmentGeometry, type Rect } from "../../shared/schemas/fragments";
+import type { InboxWaiting } from "../../shared/schemas/queue";
 
 /** The one place the database is described; drizzle-kit generates drizzle/ from it. */
 
@@ -193,6 +194,8 @@ export const processes = pgTable("processes", {
   folder: text("folder"),
   lastFile: text("last_file"),
   lastFileAt: timestamp("last_file_at", { withTimezone: true }),
+  /** A watcher's files held back (shared/schemas/queue.ts InboxWaiting); null when it is stopped. */
+  waiting: jsonb("waiting").$type<InboxWaiting>(),
   heartbeatAt: timestamp("heartbeat_at", { withTimezone: true }).notNull().defaultNow(),
   startedAt: timestamp("started_at", { withTimezone: true }).notNull().defaultNow(),
 });
@@ -252,7 +255,10 @@ export const fragments = pgTable(
     mergedInto: uuid("merged_into"),
     recipeId: uuid("recipe_id"),
     title: text("title"),
-    tags: text("tags").array().notNull().default(sql`'{}'::text[]`),
+    tags: text("tags")
+      .array()
+      .notNull()
+      .default(sql`'{}'::text[]`),
     notes: text("notes"),
     reviewedBy: uuid("reviewed_by").references(() => users.id),
     reviewedAt: timestamp("reviewed_at", { withTimezone: true }),
@@ -309,7 +315,9 @@ export const outputs = pgTable(
     ...timestamps,
   },
   (t) => [
-    uniqueIndex("outputs_fragment_kind_key").on(t.fragmentId, t.kind).where(sql`${t.kind} in ('master', 'web')`),
+    uniqueIndex("outputs_fragment_kind_key")
+      .on(t.fragmentId, t.kind)
+      .where(sql`${t.kind} in ('master', 'web')`),
     uniqueIndex("outputs_dedupe_key").on(t.dedupeKey),
   ],
 );

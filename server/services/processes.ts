@@ -2,6 +2,7 @@ import os from "node:os";
 import { sql } from "drizzle-orm";
 import type { Db } from "../db";
 import { processes } from "../db/schema";
+import type { InboxWaiting } from "../../shared/schemas/queue";
 
 /** A process is online when its last heartbeat is younger than this. */
 export const HEARTBEAT_STALE_MS = 15_000;
@@ -18,11 +19,19 @@ export function startHeartbeat(db: Db, kind: ProcessKind, extra: { folder?: stri
     const [prev] = await db
       .select({ lastFile: processes.lastFile, lastFileAt: processes.lastFileAt })
       .from(processes)
-      .where(sql`${processes.kind} = 'watcher' and ${processes.folder} is not distinct from ${extra.folder ?? null} and ${processes.lastFile} is not null`)
+      .where(
+        sql`${processes.kind} = 'watcher' and ${processes.folder} is not distinct from ${extra.folder ?? null} and ${processes.lastFile} is not null`,
+      )
       .orderBy(sql`${processes.lastFileAt} desc`)
       .limit(1);
-    if (prev) await db.update(processes).set(prev).where(sql`${processes.id} = ${id}`);
-    await db.delete(processes).where(sql`${processes.kind} = 'watcher' and ${processes.id} <> ${id} and ${processes.heartbeatAt} < now() - interval '1 day'`);
+    if (prev)
+      await db
+        .update(processes)
+        .set(prev)
+        .where(sql`${processes.id} = ${id}`);
+    await db
+      .delete(processes)
+      .where(sql`${processes.kind} = 'watcher' and ${processes.id} <> ${id} and ${processes.heartbeatAt} < now() - interval '1 day'`);
   };
   const beat = () =>
     db
@@ -30,7 +39,9 @@ export function startHeartbeat(db: Db, kind: ProcessKind, extra: { folder?: stri
       .values({ id, kind, host: os.hostname(), pid: process.pid, folder: extra.folder ?? null })
       .onConflictDoUpdate({ target: processes.id, set: { heartbeatAt: sql`now()` } })
       .catch(() => {});
-  const ready = beat().then(inherit).catch(() => {});
+  const ready = beat()
+    .then(inherit)
+    .catch(() => {});
   const timer = setInterval(beat, HEARTBEAT_EVERY_MS);
   timer.unref();
   return {
@@ -43,11 +54,28 @@ export function startHeartbeat(db: Db, kind: ProcessKind, extra: { folder?: stri
         .set({ lastFile: name, lastFileAt: sql`now()`, heartbeatAt: sql`now()` })
         .where(sql`${processes.id} = ${id}`);
     },
+    /** Notes the files this process (the watcher) is holding back, as they are now. */
+    async reportWaiting(waiting: InboxWaiting) {
+      await db
+        .update(processes)
+        .set({ waiting, heartbeatAt: sql`now()` })
+        .where(sql`${processes.id} = ${id}`);
+    },
     async stop() {
       clearInterval(timer);
-      // Workers leave; a watcher's row stays (marked stale) so its last file is remembered.
-      if (kind === "worker") await db.delete(processes).where(sql`${processes.id} = ${id}`).catch(() => {});
-      else await db.update(processes).set({ heartbeatAt: sql`now() - interval '1 hour'` }).where(sql`${processes.id} = ${id}`).catch(() => {});
+      // Workers leave; a watcher's row stays (marked stale) so its last file is remembered, but not
+      // what it was waiting on: the next watcher looks at those files afresh.
+      if (kind === "worker")
+        await db
+          .delete(processes)
+          .where(sql`${processes.id} = ${id}`)
+          .catch(() => {});
+      else
+        await db
+          .update(processes)
+          .set({ heartbeatAt: sql`now() - interval '1 hour'`, waiting: null })
+          .where(sql`${processes.id} = ${id}`)
+          .catch(() => {});
     },
   };
 }

@@ -2,7 +2,7 @@ import { and, asc, desc, eq, gt, inArray, sql } from "drizzle-orm";
 import type { Db } from "../db";
 import { processes, scans } from "../db/schema";
 import { SCAN_STATUSES, type ScanStatus } from "../../shared/schemas/scans";
-import type { QueueSummary } from "../../shared/schemas/queue";
+import { inboxWaitingSchema, type QueueSummary } from "../../shared/schemas/queue";
 import { countByStatus } from "./scans";
 import { HEARTBEAT_STALE_MS } from "./processes";
 import { proposedCounts } from "./fragments";
@@ -16,7 +16,13 @@ export async function queueSummary(db: Db, role?: Role): Promise<QueueSummary> {
   const [counted, running, waiting, failures, watchers, workers, review, batches] = await Promise.all([
     countByStatus(db),
     db
-      .select({ scanId: scans.id, originalName: scans.originalName, stage: scans.stage, progress: scans.progress, startedAt: scans.startedAt })
+      .select({
+        scanId: scans.id,
+        originalName: scans.originalName,
+        stage: scans.stage,
+        progress: scans.progress,
+        startedAt: scans.startedAt,
+      })
       .from(scans)
       .where(eq(scans.status, "analysing"))
       .orderBy(asc(scans.startedAt))
@@ -28,23 +34,44 @@ export async function queueSummary(db: Db, role?: Role): Promise<QueueSummary> {
       .orderBy(asc(scans.createdAt))
       .limit(50),
     db
-      .select({ scanId: scans.id, originalName: scans.originalName, error: scans.error, attempts: scans.attempts, updatedAt: scans.updatedAt })
+      .select({
+        scanId: scans.id,
+        originalName: scans.originalName,
+        error: scans.error,
+        errorCode: scans.errorCode,
+        attempts: scans.attempts,
+        updatedAt: scans.updatedAt,
+      })
       .from(scans)
       .where(eq(scans.status, "failed"))
       .orderBy(desc(scans.updatedAt))
       .limit(20),
     db.select().from(processes).where(eq(processes.kind, "watcher")).orderBy(desc(processes.heartbeatAt)).limit(1),
-    db.select({ id: processes.id, host: processes.host }).from(processes).where(and(eq(processes.kind, "worker"), gt(processes.heartbeatAt, fresh))),
+    db
+      .select({ id: processes.id, host: processes.host })
+      .from(processes)
+      .where(and(eq(processes.kind, "worker"), gt(processes.heartbeatAt, fresh))),
     proposedCounts(db),
     recentBatches(db, role),
   ]);
   const awaiting = [...review.entries()].filter(([, c]) => c.proposed > 0);
   const names = awaiting.length
-    ? await db.select({ id: scans.id, originalName: scans.originalName, createdAt: scans.createdAt }).from(scans).where(inArray(scans.id, awaiting.map(([id]) => id)))
+    ? await db
+        .select({ id: scans.id, originalName: scans.originalName, createdAt: scans.createdAt })
+        .from(scans)
+        .where(
+          inArray(
+            scans.id,
+            awaiting.map(([id]) => id),
+          ),
+        )
     : [];
   const counts = Object.fromEntries(SCAN_STATUSES.map((s) => [s, 0])) as Record<ScanStatus, number>;
   for (const c of counted) counts[c.status] = c.n;
   const w = watchers[0];
+  const online = w ? Date.now() - w.heartbeatAt.getTime() < HEARTBEAT_STALE_MS : false;
+  // What a watcher that has gone silent last said it waits on is not current: not shown.
+  const said = online ? inboxWaitingSchema.safeParse(w?.waiting) : null;
   return {
     counts,
     running: running.map((r) => ({ ...r, startedAt: r.startedAt?.toISOString() ?? null })),
@@ -52,10 +79,11 @@ export async function queueSummary(db: Db, role?: Role): Promise<QueueSummary> {
     failures: failures.map((r) => ({ ...r, error: r.error ?? "Failed without a message.", updatedAt: r.updatedAt.toISOString() })),
     watcher: {
       folder: w?.folder ?? null,
-      online: w ? Date.now() - w.heartbeatAt.getTime() < HEARTBEAT_STALE_MS : false,
+      online,
       lastFile: w?.lastFile ?? null,
       lastFileAt: w?.lastFileAt?.toISOString() ?? null,
       heartbeatAt: w?.heartbeatAt.toISOString() ?? null,
+      waiting: said?.success ? said.data : null,
     },
     workers: { online: workers.length, hosts: countByHost(workers) },
     batches,

@@ -4,6 +4,7 @@ import { LoadError } from "../../components/notice";
 import { PageHeader } from "../../components/panel";
 import { paths } from "../../config/paths";
 import { queueSummaryQueryOptions, useQueueSummary } from "../../features/queue/api/get-queue";
+import { InboxArrivals } from "../../features/queue/components/inbox-arrivals";
 import { FailureList } from "../../features/queue/components/failure-list";
 import { QueueCounts } from "../../features/queue/components/queue-counts";
 import { ReviewList } from "../../features/queue/components/review-list";
@@ -22,9 +23,8 @@ export function QueueRoute() {
   // Two columns from Tailwind's `xl` width. In one column (a 1024 px laptop) what waits for a
   // decision comes right after what is being read, not below every other panel.
   const twoColumns = useMediaQuery("(min-width: 80rem)");
-  const reviewList = summary.data && (
-    <ReviewList review={summary.data.review} canReview={isOperator} />
-  );
+  const arriving = summary.data?.watcher.waiting;
+  const reviewList = summary.data && <ReviewList review={summary.data.review} canReview={isOperator} />;
 
   return (
     <>
@@ -41,10 +41,8 @@ export function QueueRoute() {
         <LoadError error={summary.error} onRetry={() => void summary.refetch()} />
       ) : (
         <div className="flex flex-col gap-6">
-          <QueueCounts
-            counts={summary.data.counts}
-            linkFor={(status) => `${paths.scans}?status=${status}`}
-          />
+          <QueueCounts counts={summary.data.counts} linkFor={(status) => `${paths.scans}?status=${status}`} />
+          {arriving && arriving.count > 0 && <InboxArrivals waiting={arriving} />}
           <div className="grid grid-cols-1 gap-6 xl:grid-cols-[3fr_2fr]">
             <div className="flex flex-col gap-6">
               <RunningNow running={summary.data.running} />
@@ -58,6 +56,7 @@ export function QueueRoute() {
                         <RetryScanButton
                           scanId={failure.scanId}
                           name={failure.originalName}
+                          errorCode={failure.errorCode}
                           onRetried={() =>
                             void queryClient.invalidateQueries({
                               queryKey: queueSummaryQueryOptions().queryKey,
