@@ -98,6 +98,28 @@ export function normaliseUpright(angle: number, width: number, height: number) {
 }
 
 /**
+ * The extents of points along the axes turned by theta (radians): u along (cos θ, sin θ), v along
+ * (−sin θ, cos θ). Their product is the area of the enclosing rectangle at that turn.
+ */
+export function extentsAt(points: readonly Point[], theta: number): { minU: number; maxU: number; minV: number; maxV: number } {
+  const c = Math.cos(theta),
+    s = Math.sin(theta);
+  let minU = Infinity,
+    maxU = -Infinity,
+    minV = Infinity,
+    maxV = -Infinity;
+  for (const [x, y] of points) {
+    const u = x * c + y * s;
+    const v = -x * s + y * c;
+    if (u < minU) minU = u;
+    if (u > maxU) maxU = u;
+    if (v < minV) minV = v;
+    if (v > maxV) maxV = v;
+  }
+  return { minU, maxU, minV, maxV };
+}
+
+/**
  * Minimum-area enclosing rectangle of a point set (rotating calipers over the hull's edges: the
  * optimum has a side on a hull edge). Returns the rectangle and the upright angle per the contract.
  * Example: the corners of a 100 × 50 rectangle turned 30° counter-clockwise → area 5000, angle 30.
@@ -117,20 +139,7 @@ export function minAreaRect(points: Point[]): { rect: Rect; angle: number; area:
     const [x0, y0] = hull[i]!;
     const [x1, y1] = hull[(i + 1) % hull.length]!;
     const theta = Math.atan2(y1 - y0, x1 - x0);
-    const c = Math.cos(theta),
-      s = Math.sin(theta);
-    let minU = Infinity,
-      maxU = -Infinity,
-      minV = Infinity,
-      maxV = -Infinity;
-    for (const [x, y] of hull) {
-      const u = x * c + y * s;
-      const v = -x * s + y * c;
-      if (u < minU) minU = u;
-      if (u > maxU) maxU = u;
-      if (v < minV) minV = v;
-      if (v > maxV) maxV = v;
-    }
+    const { minU, maxU, minV, maxV } = extentsAt(hull, theta);
     const area = (maxU - minU) * (maxV - minV);
     if (area < best.area) best = { area, theta, minU, maxU, minV, maxV };
   }

@@ -2,6 +2,7 @@
  * Plane geometry for fragment outlines, in pixels (x right, y down). Pure functions over point
  * lists; no pixel access.
  */
+import { extentsAt } from "../../../shared/geometry";
 
 export type Point = [x: number, y: number];
 
@@ -143,22 +144,8 @@ export function hasNoTurnOfItsOwn(points: readonly Point[], maxAxisRatio = 1.08,
   let min = Infinity;
   let max = 0;
   for (let deg = 0; deg < 90; deg++) {
-    const t = (deg * Math.PI) / 180;
-    const ux = Math.cos(t);
-    const uy = Math.sin(t);
-    let a0 = Infinity;
-    let a1 = -Infinity;
-    let b0 = Infinity;
-    let b1 = -Infinity;
-    for (const [x, y] of hull) {
-      const a = x * ux + y * uy;
-      const b = -x * uy + y * ux;
-      if (a < a0) a0 = a;
-      if (a > a1) a1 = a;
-      if (b < b0) b0 = b;
-      if (b > b1) b1 = b;
-    }
-    const area = (a1 - a0) * (b1 - b0);
+    const { minU, maxU, minV, maxV } = extentsAt(hull, (deg * Math.PI) / 180);
+    const area = (maxU - minU) * (maxV - minV);
     if (area < min) min = area;
     if (area > max) max = area;
   }
