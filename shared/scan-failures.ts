@@ -11,6 +11,8 @@ export function retryCanHelp(errorCode: string | null | undefined): boolean {
   return !(FAILURES_IN_THE_FILE as readonly string[]).includes(errorCode ?? "");
 }
 
-/** What to do instead, for a failure asking again cannot mend; one sentence for the screen. */
-export const WHAT_TO_DO_INSTEAD =
-  "Asking again gives the same result: the file itself is the problem. Scan the work again, or drop a mended copy of the file in the inbox.";
+/**
+ * Why there is no Retry, for a failure asking again cannot mend; one sentence beside the failure's
+ * own message, which already says what to do (scan again, copy the file again).
+ */
+export const WHAT_TO_DO_INSTEAD = "No Retry: asking again gives the same result, as the file itself is the problem.";

@@ -68,7 +68,7 @@ describe("a failed scan", () => {
     await page.getByText("Analysis failed").waitFor();
     await expect.poll(() => page.getByTestId("retry-cannot-help").count()).toBe(1);
     expect(await page.getByTestId("retry-cannot-help").textContent()).toMatch(
-      /^Asking again gives the same result: the file itself is the problem\./,
+      /^No Retry: asking again gives the same result, as the file itself is the problem\.$/,
     );
     expect(await page.getByRole("button", { name: "Retry night-bed-06.tif" }).count()).toBe(0);
 
