@@ -210,6 +210,8 @@ describe("a busy review in the browser", () => {
     const next = page.getByTestId("next-scan");
     await expect.poll(() => next.textContent(), { timeout: 10_000 }).toBe(`Next: ${SECOND} · 1 to reviewN`);
     expect(await next.getAttribute("href")).toBe(`/scans/${secondId}/review`);
+    // Focus went on to it from the dialog, so Enter (or N) goes on.
+    expect(await page.evaluate(() => document.activeElement?.getAttribute("data-testid"))).toBe("next-scan");
     // It takes the place of "approve all", which has nothing left to do, and stays in sight on a
     // 1024 px screen with the other tools.
     expect(await page.getByRole("button", { name: /^Approve all remaining/ }).count()).toBe(0);

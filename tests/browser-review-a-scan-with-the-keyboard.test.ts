@@ -120,6 +120,8 @@ describe("reviewing a scan in the browser", () => {
     await dialog.waitFor();
     await page.keyboard.press("Enter");
     await dialog.waitFor({ state: "hidden" });
+    // The button that asked is gone (no other scan waits here): focus goes on to Undo, not the page.
+    await expect.poll(() => page.evaluate(() => document.activeElement?.getAttribute("title"))).toBe("Undo: Approved the 3 remaining");
     await expect.poll(() => page.getByTestId("count-proposed").textContent()).toMatch(/^0/);
     await expect.poll(() => page.getByTestId("count-approved").textContent()).toMatch(/^4/);
     for (const position of [1, 2, 3, 4]) expect(await overlayStatus(page, position)).toBe("approved");
@@ -194,7 +196,11 @@ describe("reviewing a scan in the browser", () => {
     expect(Math.abs(grown.rect.width - rect.width - 60)).toBeLessThan(6);
     expect(grown.angle).toBe(angle);
 
-    // Undo puts it back.
+    // Undo puts it back, after a reload too: the steps are kept for this tab.
+    await page.reload();
+    await expect.poll(() => selectedPosition(page), { timeout: 10_000 }).toBe(1);
+    const undoButton = page.getByRole("toolbar", { name: "Review tools" }).getByRole("button", { name: /^Undo/ });
+    await expect.poll(() => undoButton.getAttribute("title")).toBe("Undo: Moved or resized fragment 1");
     await page.keyboard.press("u");
     await waitFor("the rectangle back as it was", async () => {
       const f = (await serverFragments()).find((x) => x.position === 1)!;

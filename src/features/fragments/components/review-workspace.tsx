@@ -1,4 +1,4 @@
-import { useState, type ReactNode } from "react";
+import { useEffect, useRef, useState, type ReactNode } from "react";
 import { Link, useNavigate } from "react-router-dom";
 import type { Scan } from "../../../../shared/schemas/scans";
 import { MM_PER_INCH } from "../../../../shared/units";
@@ -66,6 +66,16 @@ export function ReviewWorkspace({
   const [zoom, setZoom] = useState(1);
   const [unit, setUnit] = useLengthUnit();
   const [confirmAll, setConfirmAll] = useState(false);
+  // After "approve all" the button goes (or is disabled): focus goes on to the next scan's link,
+  // or to Undo, rather than falling to the page.
+  const focusAfterAll = useRef(false);
+  const undoRef = useRef<HTMLButtonElement>(null);
+  const nextScanRef = useRef<HTMLAnchorElement>(null);
+  useEffect(() => {
+    if (!focusAfterAll.current) return;
+    focusAfterAll.current = false;
+    (nextScanRef.current ?? undoRef.current)?.focus();
+  });
   const sides = useSideKeys(review, scan);
   const splitting = scan.status === "analysing" || shown.resplitting;
   const editable = scan.status === "ready" && !shown.resplitting;
@@ -156,6 +166,7 @@ export function ReviewWorkspace({
                 Merge <Kbd>M</Kbd>
               </Button>
               <Button
+                ref={undoRef}
                 size="sm"
                 variant="quiet"
                 onClick={review.undo}
@@ -177,6 +188,7 @@ export function ReviewWorkspace({
               {nextScan && fragments.length > 0 && review.remaining === 0 ? (
                 // Nothing is left here: where "approve all" stood, the way on to the next scan.
                 <Link
+                  ref={nextScanRef}
                   to={paths.scanReview(nextScan.id)}
                   className="inline-flex h-8 min-w-0 items-center gap-1.5 rounded-md bg-accent px-3 text-sm font-medium whitespace-nowrap text-paper-50 hover:bg-accent-strong"
                   data-testid="next-scan"
@@ -288,6 +300,7 @@ export function ReviewWorkspace({
         onConfirm={() => {
           setConfirmAll(false);
           review.approveRemaining();
+          focusAfterAll.current = true;
         }}
       >
         Every fragment still to review on this scan is approved and its master and web copy are rendered. <Kbd>Enter</Kbd> approves,{" "}

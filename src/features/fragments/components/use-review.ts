@@ -10,21 +10,7 @@ import { useUnmergeFragment } from "../api/unmerge-fragment";
 import { useUpdateFragment } from "../api/update-fragment";
 import { FRAGMENT_STATUS_LABELS } from "../format";
 import { clampAngle, insideScan, tidyRect, type Placement } from "./edit-geometry";
-
-/**
- * What undoing an action does: the inverse operation, kept as data so it can be sent later.
- * Status, geometry and description edits go back by a patch; a merge by an unmerge and back.
- */
-type Inverse =
-  | { kind: "patch"; ops: Array<{ id: string; patch: UpdateFragmentBody }> }
-  | { kind: "unmerge"; id: string; restores: string[] }
-  | { kind: "merge"; ids: string[] };
-
-interface UndoEntry {
-  token: number;
-  label: string;
-  inverse: Inverse;
-}
+import { nextUndoToken, useStoredUndo, type Inverse } from "./use-stored-undo";
 
 interface Selection {
   /** The fragment shown in the side panel and edited by the keys; null when nothing is. */
@@ -32,9 +18,6 @@ interface Selection {
   /** Everything selected (for merging); holds the primary too. */
   picked: string[];
 }
-
-const UNDO_DEPTH = 200;
-let tokens = 0;
 
 /**
  * The review of one scan's fragments: what is selected, the undo stack, and every action the
@@ -53,7 +36,7 @@ export function useReview({
   fragments: ShownFragment[];
 }) {
   const [selection, setSelection] = useState<Selection>({ primary: null, picked: [] });
-  const [undoStack, setUndoStack] = useState<UndoEntry[]>([]);
+  const [undoStack, setUndoStack] = useStoredUndo(scanId);
   const [announcement, setAnnouncement] = useState("");
   const [started, setStarted] = useState(false);
 
@@ -123,8 +106,8 @@ export function useReview({
   };
 
   const pushUndo = (label: string, inverse: Inverse): number => {
-    const token = ++tokens;
-    setUndoStack((stack) => [...stack.slice(-(UNDO_DEPTH - 1)), { token, label, inverse }]);
+    const token = nextUndoToken();
+    setUndoStack((stack) => [...stack, { token, label, inverse }]);
     return token;
   };
   const dropUndo = (token: number) => setUndoStack((stack) => stack.filter((entry) => entry.token !== token));
@@ -320,7 +303,7 @@ export function useReview({
   };
 
   /** A new split replaces the proposals, so earlier undo steps no longer apply. */
-  const forgetHistory = () => setUndoStack([]);
+  const forgetHistory = () => setUndoStack(() => []);
 
   return {
     primary,
