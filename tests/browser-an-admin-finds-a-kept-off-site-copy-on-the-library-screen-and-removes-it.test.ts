@@ -7,12 +7,15 @@
 import crypto from "node:crypto";
 import fs from "node:fs/promises";
 import path from "node:path";
+import type supertest from "supertest";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
 import { approvedPieces } from "./helpers/approved-pieces";
 import { openBrowser, signIn } from "./helpers/browser";
 
 let stack: Stack;
+let admin: supertest.Agent;
+let operator: supertest.Agent;
 let browser: Awaited<ReturnType<typeof openBrowser>>;
 let keptKey: string;
 let keptSha: string;
@@ -21,8 +24,8 @@ const shots = process.env.PLATEN_SHOTS;
 
 beforeAll(async () => {
   stack = await startStack({ watcher: false, offsite: true });
-  const admin = await userAgent(stack, "admin", "admin@test.example");
-  const operator = await userAgent(stack, "operator", "operator@test.example");
+  admin = await userAgent(stack, "admin", "admin@test.example");
+  operator = await userAgent(stack, "operator", "operator@test.example");
   const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="900">
     <rect width="100%" height="100%" fill="#f6f6f3"/><rect x="250" y="200" width="600" height="450" fill="#7a3d6b"/></svg>`;
   const [piece] = (await approvedPieces(operator, { name: "plum-print.tif", svg, pieces: 1 })).fragments;
@@ -128,6 +131,48 @@ describe("kept off-site copies on the Library screen", () => {
     const { rows } = await stack.database.pool.query(`select actor_email from audit_events where action = 'offsite.remove_kept'`);
     expect(rows).toEqual([{ actor_email: "admin@test.example" }]);
     if (shots) await page.screenshot({ path: path.join(shots, "kept-offsite-empty.png"), fullPage: true });
+    await page.close();
+  });
+
+  it("a copy removed from the bucket while the list is open says so when downloaded, and leaves the list", async () => {
+    const svg = `<svg xmlns="http://www.w3.org/2000/svg" width="1200" height="900">
+      <rect width="100%" height="100%" fill="#f6f6f3"/><rect x="300" y="250" width="500" height="400" fill="#3d6b4a"/></svg>`;
+    const [piece] = (await approvedPieces(operator, { name: "sage-print.tif", svg, pieces: 1 })).fragments;
+    const key = await waitFor(
+      "the second piece's off-site copy",
+      async () => {
+        const { rows } = await stack.database.pool.query<{ key: string }>(
+          `select c.key from offsite_copies c join outputs o on o.id = c.output_id where o.fragment_id = $1 and c.status = 'copied'`,
+          [piece!.id],
+        );
+        return rows[0]?.key ?? null;
+      },
+      60_000,
+    );
+    const plan = (await admin.get(`/api/fragments/${piece!.id}/files`)).body.plan as { files: number };
+    expect((await admin.delete(`/api/fragments/${piece!.id}/files`).query({ upTo: plan.files })).status).toBe(200);
+
+    const page = await browser.context.newPage();
+    await page.goto(`${stack.url}/library`);
+    const section = page.getByRole("region", { name: "Kept off-site copies" });
+    const row = section.locator(`[data-kept-key="${key}"]`);
+    await expect.poll(() => row.count(), { timeout: 20_000 }).toBe(1);
+    // Gone from the bucket behind the open page's back (another admin, another installation's tidy).
+    await stack.offsite!.remove(key);
+    let downloads = 0;
+    page.on("download", () => downloads++);
+    await row.getByRole("link", { name: /^Download the kept copy of sage-print · 1/ }).click();
+    await expect
+      .poll(() =>
+        page
+          .getByRole("alert")
+          .filter({ hasText: "The kept copy of sage-print · 1 is no longer in the off-site bucket: it was removed a moment ago." })
+          .count(),
+      )
+      .toBe(1);
+    // The list is read again: the row goes and the section says none is kept; no download started.
+    await expect.poll(() => section.getByTestId("kept-offsite-empty").count(), { timeout: 10_000 }).toBe(1);
+    expect(downloads).toBe(0);
     await page.close();
   });
 });

@@ -1,4 +1,4 @@
-import { useEffect, useRef, useState } from "react";
+import { useEffect, useRef, useState, type MouseEvent } from "react";
 import { Link } from "react-router-dom";
 import { API, apiPath } from "../../../../shared/api";
 import type { KeptCopy } from "../../../../shared/schemas/offsite";
@@ -11,6 +11,8 @@ import { LoadError } from "../../../components/notice";
 import { Panel } from "../../../components/panel";
 import { ThumbImage } from "../../../components/thumb-image";
 import { paths } from "../../../config/paths";
+import { ApiError } from "../../../lib/api-client";
+import { checkedDownload, isPlainClick } from "../../../lib/checked-download";
 import { formatDateTime } from "../../../lib/time";
 import { toast } from "../../../lib/toast";
 import { keptCopyDownloadUrl, useKeptOffsite, useRemoveKeptCopy } from "../api/kept-offsite";
@@ -40,6 +42,7 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
   const kept = useKeptOffsite();
   const remove = useRemoveKeptCopy();
   const [asking, setAsking] = useState<KeptCopy | null>(null);
+  const [starting, setStarting] = useState<string | null>(null);
   const bodyRef = useRef<HTMLDivElement>(null);
   // Where the removed copy's row was: once the dialog has closed (a modal keeps focus inside it),
   // focus goes to the row that took its place, or to the section when none is left.
@@ -53,6 +56,21 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
   }, [asking, kept.data]);
   // "s3://bucket/prefix at http://endpoint": the bucket is what a person looks for.
   const bucket = target.replace(/ at .*$/, "");
+  // A copy removed a moment ago (by another admin, or in another tab) says so, and the list is read
+  // again, instead of ending as a download the browser marks failed.
+  const download = (event: MouseEvent<HTMLAnchorElement>, copy: KeptCopy) => {
+    if (!isPlainClick(event)) return;
+    event.preventDefault();
+    setStarting(copy.key);
+    checkedDownload(keptCopyDownloadUrl(copy.key), copy.fileName)
+      .catch((err: unknown) => {
+        if (err instanceof ApiError && err.status === 404) {
+          toast.error(`The kept copy of ${pieceWords(copy)} is no longer in the off-site bucket: it was removed a moment ago.`);
+        } else toast.error(err instanceof Error ? err.message : String(err));
+        if (err instanceof ApiError && (err.status === 404 || err.status === 409)) void kept.refetch();
+      })
+      .finally(() => setStarting(null));
+  };
   const confirm = () => {
     if (!asking) return;
     const copy = asking;
@@ -126,8 +144,10 @@ export function KeptOffsiteCopies({ target }: { target: string }) {
                       download={c.fileName}
                       className="shrink-0 text-sm font-medium text-accent underline underline-offset-2 hover:text-accent-strong"
                       aria-label={`Download the kept copy of ${pieceWords(c)} (${c.fileName})`}
+                      aria-busy={starting === c.key}
+                      onClick={(event) => download(event, c)}
                     >
-                      Download
+                      {starting === c.key ? "Starting…" : "Download"}
                     </a>
                     <Button
                       size="sm"
