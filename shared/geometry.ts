@@ -51,22 +51,45 @@ export function boxOfPoints(points: Point[], width: number, height: number): Box
   return { x, y, width: Math.max(1, r - x), height: Math.max(1, b - y) };
 }
 
-/** Shoelace area of a simple polygon, in square pixels (always positive). */
-export function polygonArea(points: Point[]): number {
-  let s = 0;
-  for (let i = 0; i < points.length; i++) {
-    const [x0, y0] = points[i]!;
-    const [x1, y1] = points[(i + 1) % points.length]!;
-    s += x0 * y1 - x1 * y0;
-  }
-  return Math.abs(s) / 2;
+/**
+ * A rotated rectangle. `u` is the unit vector along the side nearest to horizontal; `width` is
+ * measured along u, `height` along v = (−u.y, u.x).
+ */
+export interface RotatedRect {
+  cx: number;
+  cy: number;
+  width: number;
+  height: number;
+  u: Point;
+  /** Fragment angle, degrees in (−45, 45]: the clockwise turn (sharp's `rotate`) that makes it upright. */
+  angle: number;
+  area: number;
 }
 
-/** Convex hull by the monotone chain, counter-clockwise in y-up terms; collinear points dropped. */
-export function convexHull(points: Point[]): Point[] {
+/** Signed area by the shoelace formula; positive for a clockwise loop on screen (y down). */
+export function signedArea(points: readonly Point[]): number {
+  let s = 0;
+  for (let i = 0, j = points.length - 1; i < points.length; j = i++) {
+    s += points[j]![0] * points[i]![1] - points[i]![0] * points[j]![1];
+  }
+  return s / 2;
+}
+
+/** Unsigned polygon area. Example: the unit square → 1. */
+export function polygonArea(points: readonly Point[]): number {
+  return Math.abs(signedArea(points));
+}
+
+const cross = (o: Point, a: Point, b: Point) => (a[0] - o[0]) * (b[1] - o[1]) - (a[1] - o[1]) * (b[0] - o[0]);
+
+/**
+ * Convex hull by Andrew's monotone chain, O(n log n); collinear points are dropped. The loop has a
+ * positive cross product at every corner (counter-clockwise with y up, clockwise on screen).
+ * Example: [[0,0],[2,0],[1,1],[2,2],[0,2],[1,0]] → [[0,0],[2,0],[2,2],[0,2]].
+ */
+export function convexHull(points: readonly Point[]): Point[] {
   const pts = [...points].sort((a, b) => a[0] - b[0] || a[1] - b[1]);
   if (pts.length < 3) return pts;
-  const cross = (o: Point, a: Point, b: Point) => (a[0] - o[0]) * (b[1] - o[1]) - (a[1] - o[1]) * (b[0] - o[0]);
   const lower: Point[] = [];
   for (const p of pts) {
     while (lower.length >= 2 && cross(lower[lower.length - 2]!, lower[lower.length - 1]!, p) <= 0) lower.pop();
@@ -78,23 +101,85 @@ export function convexHull(points: Point[]): Point[] {
     while (upper.length >= 2 && cross(upper[upper.length - 2]!, upper[upper.length - 1]!, p) <= 0) upper.pop();
     upper.push(p);
   }
-  return lower.slice(0, -1).concat(upper.slice(0, -1));
+  lower.pop();
+  upper.pop();
+  return lower.concat(upper);
 }
 
-/** Normalises an angle in degrees into (−45, 45], swapping width and height on a quarter turn. */
-export function normaliseUpright(angle: number, width: number, height: number) {
-  let a = angle;
-  let w = width;
-  let h = height;
-  while (a > 45) {
-    a -= 90;
-    [w, h] = [h, w];
+/**
+ * Angle (degrees, in (−45, 45]) that makes a rectangle with a side along `dir` upright, and the
+ * unit vector of its side nearest to horizontal. A side turned 7.5° counter-clockwise on screen
+ * has dir (cos 7.5°, −sin 7.5°) and gives +7.5.
+ */
+export function uprightFrame(dir: Point): { angle: number; u: Point } {
+  let theta = (Math.atan2(dir[1], dir[0]) * 180) / Math.PI; // screen angle, clockwise positive
+  theta = ((((theta + 45) % 90) + 90) % 90) - 45; // [−45, 45)
+  const rad = (theta * Math.PI) / 180;
+  const angle = theta === 0 ? 0 : -theta; // (−45, 45]
+  return { angle, u: [Math.cos(rad), Math.sin(rad)] };
+}
+
+/** The rectangle with the given centre, side direction and extents, in upright form. */
+export function rotatedRect(cx: number, cy: number, dir: Point, alongDir: number, acrossDir: number): RotatedRect {
+  const { angle, u } = uprightFrame(dir);
+  const len = Math.hypot(dir[0], dir[1]);
+  const dx = dir[0] / len;
+  const dy = dir[1] / len;
+  // u is dir turned by a multiple of 90°: the extents swap when it is a quarter turn.
+  const parallel = Math.abs(u[0] * dx + u[1] * dy) > Math.SQRT1_2;
+  const width = parallel ? alongDir : acrossDir;
+  const height = parallel ? acrossDir : alongDir;
+  return { cx, cy, width, height, u, angle, area: width * height };
+}
+
+/**
+ * Minimum-area enclosing rectangle by rotating calipers (one side of the optimum lies along a
+ * hull edge; the three other supporting points advance monotonically), O(h) over the hull.
+ * Used for every piece the split finds and every merge. Example: the corners of a 100 × 50
+ * rectangle with angle 30 (`rectCorners`: lying turned 30° counter-clockwise) → area 5000, angle 30.
+ */
+export function minAreaRect(points: readonly Point[]): RotatedRect {
+  const hull = convexHull(points);
+  const h = hull.length;
+  if (h === 0) return rotatedRect(0, 0, [1, 0], 0, 0);
+  if (h < 3) {
+    const a = hull[0]!;
+    const b = hull[h - 1]!;
+    const len = Math.hypot(b[0] - a[0], b[1] - a[1]);
+    return rotatedRect((a[0] + b[0]) / 2, (a[1] + b[1]) / 2, len > 0 ? [b[0] - a[0], b[1] - a[1]] : [1, 0], len, 0);
   }
-  while (a <= -45) {
-    a += 90;
-    [w, h] = [h, w];
+  const at = (i: number) => hull[i % h]!;
+  const dot = (p: Point, ex: number, ey: number) => p[0] * ex + p[1] * ey;
+  let best = { area: Infinity, i: 0, ex: 1, ey: 0, minE: 0, maxE: 0, maxN: 0 };
+  let right = 1;
+  let top = 1;
+  let left = 1;
+  for (let i = 0; i < h; i++) {
+    const p = at(i);
+    const q = at(i + 1);
+    const len = Math.hypot(q[0] - p[0], q[1] - p[1]);
+    const ex = (q[0] - p[0]) / len;
+    const ey = (q[1] - p[1]) / len;
+    const nx = -ey; // inward normal for this winding
+    const ny = ex;
+    if (right < i + 1) right = i + 1;
+    while (right < i + h && dot(at(right + 1), ex, ey) >= dot(at(right), ex, ey)) right++;
+    if (top < right) top = right;
+    while (top < right + h && dot(at(top + 1), nx, ny) >= dot(at(top), nx, ny)) top++;
+    if (left < top) left = top;
+    while (left < top + h && dot(at(left + 1), ex, ey) <= dot(at(left), ex, ey)) left++;
+    const base = dot(p, ex, ey);
+    const maxE = dot(at(right), ex, ey) - base;
+    const minE = dot(at(left), ex, ey) - base;
+    const maxN = dot(at(top), nx, ny) - dot(p, nx, ny);
+    const area = (maxE - minE) * maxN;
+    if (area < best.area) best = { area, i, ex, ey, minE, maxE, maxN };
   }
-  return { angle: a, width: w, height: h };
+  const p = at(best.i);
+  const midE = (best.minE + best.maxE) / 2;
+  const cx = p[0] + best.ex * midE + -best.ey * (best.maxN / 2);
+  const cy = p[1] + best.ey * midE + best.ex * (best.maxN / 2);
+  return rotatedRect(cx, cy, [best.ex, best.ey], best.maxE - best.minE, best.maxN);
 }
 
 /**
@@ -117,44 +202,6 @@ export function extentsAt(points: readonly Point[], theta: number): { minU: numb
     if (v > maxV) maxV = v;
   }
   return { minU, maxU, minV, maxV };
-}
-
-/**
- * Minimum-area enclosing rectangle of a point set (rotating calipers over the hull's edges: the
- * optimum has a side on a hull edge). Returns the rectangle and the upright angle per the contract.
- * Example: the corners of a 100 × 50 rectangle turned 30° counter-clockwise → area 5000, angle 30.
- */
-export function minAreaRect(points: Point[]): { rect: Rect; angle: number; area: number } {
-  const hull = convexHull(points);
-  if (hull.length < 3) {
-    const b = boxOfPoints(points, Infinity, Infinity);
-    return {
-      rect: { cx: b.x + b.width / 2, cy: b.y + b.height / 2, width: b.width, height: b.height },
-      angle: 0,
-      area: b.width * b.height,
-    };
-  }
-  let best = { area: Infinity, theta: 0, minU: 0, maxU: 0, minV: 0, maxV: 0 };
-  for (let i = 0; i < hull.length; i++) {
-    const [x0, y0] = hull[i]!;
-    const [x1, y1] = hull[(i + 1) % hull.length]!;
-    const theta = Math.atan2(y1 - y0, x1 - x0);
-    const { minU, maxU, minV, maxV } = extentsAt(hull, theta);
-    const area = (maxU - minU) * (maxV - minV);
-    if (area < best.area) best = { area, theta, minU, maxU, minV, maxV };
-  }
-  const c = Math.cos(best.theta),
-    s = Math.sin(best.theta);
-  const u = (best.minU + best.maxU) / 2;
-  const v = (best.minV + best.maxV) / 2;
-  // The rectangle's sides run along theta (width) and theta + 90° (height). The piece lies turned
-  // by theta on screen (clockwise, y down), so the upright angle is −theta.
-  const n = normaliseUpright(-best.theta / DEG, best.maxU - best.minU, best.maxV - best.minV);
-  return {
-    rect: { cx: u * c - v * s, cy: u * s + v * c, width: n.width, height: n.height },
-    angle: Object.is(n.angle, -0) ? 0 : n.angle,
-    area: best.area,
-  };
 }
 
 /**

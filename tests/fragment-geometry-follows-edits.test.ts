@@ -18,8 +18,8 @@ describe("fragment geometry", () => {
       const r = minAreaRect(corners);
       expect(r.area).toBeCloseTo(5000, 6);
       expect(r.angle).toBeCloseTo(angle, 6);
-      expect(r.rect.cx).toBeCloseTo(300, 6);
-      expect(r.rect.width).toBeCloseTo(100, 6);
+      expect(r.cx).toBeCloseTo(300, 6);
+      expect(r.width).toBeCloseTo(100, 6);
     }
     // Points inside the hull do not change it; the hull of a square's corners plus its centre is the square.
     expect(

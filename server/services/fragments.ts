@@ -361,7 +361,10 @@ export async function mergeFragments(database: Database, boss: PgBoss, actor: Ac
     const scan = await scanOf(tx.db, rows[0]!.scanId);
     const points = rows.flatMap((r) => r.outline);
     const hull = convexHull(points);
-    let { rect, angle, area } = minAreaRect(hull);
+    const enclosing = minAreaRect(hull);
+    let rect: Rect = { cx: enclosing.cx, cy: enclosing.cy, width: enclosing.width, height: enclosing.height };
+    let angle = enclosing.angle;
+    let area = enclosing.area;
     const inside = (r: Rect, a: number) =>
       rectCorners(r, a).every(([x, y]) => x >= -1 && y >= -1 && x <= (scan.width ?? Infinity) + 1 && y <= (scan.height ?? Infinity) + 1);
     if (!inside(rect, angle)) {
