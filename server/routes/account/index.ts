@@ -12,6 +12,7 @@ import { completePasswordReset, previewPasswordReset, requestPasswordReset } fro
 import { getNoticeSettings, updateNoticeSettings } from "../../services/notice-settings";
 import { presentSessionUser } from "../../presenters/user";
 import { signInAs } from "../invitations";
+import { forgetFailedSignIns } from "../auth";
 import type { AppDeps } from "../../app";
 import type { Mailer } from "../../mail/mailer";
 
@@ -67,6 +68,7 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
   handle(router, API.passwordResetPreview, async ({ body }) => previewPasswordReset(db, body.token));
   handle(router, API.passwordResetComplete, async ({ body, req }) => {
     const user = await completePasswordReset(db, cfg, body.token, body.password);
+    await forgetFailedSignIns(deps.database.pool, req.ip, user.email);
     await signInAs(req, user);
     req.log.info({ user: user.id }, "password reset; other sessions ended");
     return { user: presentSessionUser(user) };

@@ -2,6 +2,7 @@ import { Router, type RequestHandler } from "express";
 import { ipKeyGenerator, rateLimit } from "express-rate-limit";
 import { PgRateLimitStore } from "../../middleware/rate-limit-store";
 import type passport from "passport";
+import type pg from "pg";
 import { API } from "../../../shared/api";
 import { loginBody } from "../../../shared/schemas/auth";
 import { zodMessage } from "../../middleware/errors";
@@ -12,19 +13,36 @@ import type { AppDeps } from "../../app";
 import { recordAudit } from "../../services/audit";
 import { findUserByEmail } from "../../services/users";
 
+/** The sign-in limit's count for one e-mail from one address (the body's e-mail is parsed, so trimmed and lower-case). */
+const SIGN_IN_LIMIT = "sign-in";
+function signInLimitKey(ip: string | undefined, email: string): string {
+  return `${ipKeyGenerator(ip ?? "")}|${email.toLowerCase()}`;
+}
+
+/**
+ * Forgets the failed sign-ins counted for `email` from this request's address. A person who has
+ * just proved they read the account's mail (a password reset) and chosen a new password is not
+ * then told to wait out the guesses that sent them to the reset. Other addresses keep their count.
+ */
+export async function forgetFailedSignIns(pool: Pick<pg.Pool, "query">, ip: string | undefined, email: string): Promise<void> {
+  await new PgRateLimitStore(pool, SIGN_IN_LIMIT).resetKey(signInLimitKey(ip, email));
+}
+
 export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
   const router = Router();
   const cfg = deps.config;
 
   // Per address and per e-mail: slows guessing one account and spraying many.
   const limiter = rateLimit({
-    store: new PgRateLimitStore(deps.database.pool, "sign-in"),
+    store: new PgRateLimitStore(deps.database.pool, SIGN_IN_LIMIT),
     windowMs: cfg.loginWindowMs,
     limit: cfg.loginLimit,
     standardHeaders: "draft-8",
     legacyHeaders: false,
     // Only failed attempts count: a studio signing in all day is never locked out.
     skipSuccessfulRequests: true,
+    // Written out here (not through signInLimitKey): express-rate-limit checks that the generator
+    // itself calls ipKeyGenerator. The two must make the same key.
     keyGenerator: (req) => `${ipKeyGenerator(req.ip ?? "")}|${String((req.body as { email?: unknown })?.email ?? "").toLowerCase()}`,
     handler: (_req, _res, next) => {
       const minutes = Math.round(cfg.loginWindowMs / 60_000);

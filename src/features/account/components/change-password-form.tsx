@@ -1,4 +1,4 @@
-import { useState, type FormEvent } from "react";
+import { useRef, useState, type FormEvent } from "react";
 import { Link } from "react-router-dom";
 import { changePasswordBody, type ChangePasswordBody } from "../../../../shared/schemas/account";
 import type { SessionUser } from "../../../../shared/schemas/auth";
@@ -8,6 +8,7 @@ import { Notice } from "../../../components/notice";
 import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
 import { MAX_PASSWORD_BYTES, MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
 import { useChangePassword } from "../api/account";
+import { useFocusAfterRefusal } from "../../../lib/use-focus-after-refusal";
 
 type Field = "currentPassword" | "newPassword" | "repeat";
 
@@ -33,14 +34,27 @@ export function ChangePasswordForm({
   const [errors, setErrors] = useState<FieldErrors<Field>>({});
   const [formError, setFormError] = useState<string | null>(null);
   const [done, setDone] = useState<string | null>(null);
+  const form = useRef<HTMLFormElement>(null);
+  const currentInput = useRef<HTMLInputElement>(null);
+  const busy = change.isPending;
+  // A wrong current password, a short new one: the caret goes back to the field at fault.
+  const refused = useFocusAfterRefusal(form, busy, currentInput);
 
   const submit = (event: FormEvent) => {
     event.preventDefault();
     setFormError(null);
     setDone(null);
     const parsed = changePasswordBody.safeParse({ currentPassword: current, newPassword: next } satisfies ChangePasswordBody);
-    if (!parsed.success) return setErrors(fieldErrorsFrom<Field>(parsed.error));
-    if (repeat !== next) return setErrors({ repeat: PASSWORDS_DIFFER });
+    if (!parsed.success) {
+      setErrors(fieldErrorsFrom<Field>(parsed.error));
+      refused();
+      return;
+    }
+    if (repeat !== next) {
+      setErrors({ repeat: PASSWORDS_DIFFER });
+      refused();
+      return;
+    }
     setErrors({});
     change.mutate(parsed.data, {
       onSuccess: ({ user, signedOutElsewhere }) => {
@@ -58,13 +72,13 @@ export function ChangePasswordForm({
         const { field, message } = serverErrorFor(error, ["currentPassword", "newPassword"] as const);
         if (field) setErrors({ [field]: message });
         else setFormError(message);
+        refused();
       },
     });
   };
 
-  const busy = change.isPending;
   return (
-    <form onSubmit={submit} noValidate aria-label="Change your password" className="flex flex-col gap-4">
+    <form ref={form} onSubmit={submit} noValidate aria-label="Change your password" className="flex flex-col gap-4">
       {done && (
         <p role="status" className="rounded-md border border-accent/30 bg-accent-faint px-3 py-2 text-sm text-ink">
           {done}
@@ -74,6 +88,7 @@ export function ChangePasswordForm({
       {/* For password managers: which account this is. */}
       <input type="email" autoComplete="username" value={email} readOnly hidden />
       <TextField
+        ref={currentInput}
         label="Current password"
         type="password"
         autoComplete="current-password"

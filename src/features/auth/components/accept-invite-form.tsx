@@ -1,4 +1,4 @@
-import { useState, type FormEvent } from "react";
+import { useRef, useState, type FormEvent } from "react";
 import { ROLE_DESCRIPTIONS, ROLE_LABELS } from "../../../../shared/roles";
 import { acceptInvitationBody, type AcceptInvitationBody, type InvitationPreview } from "../../../../shared/schemas/mail";
 import type { SessionUser } from "../../../../shared/schemas/auth";
@@ -8,6 +8,7 @@ import { Notice } from "../../../components/notice";
 import { serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
 import { useAcceptInvitation } from "../api/invitation";
 import { checkNewPassword, NewPasswordFields } from "./new-password-fields";
+import { useFocusAfterRefusal } from "../../../lib/use-focus-after-refusal";
 
 type Field = "name" | "password" | "repeat";
 const FIELDS = ["name", "password"] as const;
@@ -28,12 +29,20 @@ export function AcceptInviteForm({
   const [repeat, setRepeat] = useState("");
   const [errors, setErrors] = useState<FieldErrors<Field>>({});
   const [formError, setFormError] = useState<string | null>(null);
+  const form = useRef<HTMLFormElement>(null);
+  const busy = accept.isPending;
+  // A refused entry gets the caret back, in the field that says what is wrong.
+  const refused = useFocusAfterRefusal(form, busy);
 
   const submit = (event: FormEvent) => {
     event.preventDefault();
     setFormError(null);
     const checked = checkNewPassword<AcceptInvitationBody, Field>(acceptInvitationBody, { token, name, password }, password, repeat);
-    if ("errors" in checked) return setErrors(checked.errors);
+    if ("errors" in checked) {
+      setErrors(checked.errors);
+      refused();
+      return;
+    }
     setErrors({});
     accept.mutate(checked.data, {
       onSuccess: ({ user }) => onAccepted(user),
@@ -41,13 +50,13 @@ export function AcceptInviteForm({
         const { field, message } = serverErrorFor(error, FIELDS);
         if (field) setErrors({ [field]: message });
         else setFormError(message);
+        refused();
       },
     });
   };
 
-  const busy = accept.isPending;
   return (
-    <form onSubmit={submit} noValidate aria-label="Accept the invitation" className="flex flex-col gap-5">
+    <form ref={form} onSubmit={submit} noValidate aria-label="Accept the invitation" className="flex flex-col gap-5">
       <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-1.5 rounded-lg bg-paper-100 px-4 py-3 text-sm">
         <dt className="text-ink-muted">E-mail</dt>
         <dd className="truncate font-medium text-ink">{invitation.email}</dd>

@@ -1,4 +1,4 @@
-import { useState, type FormEvent } from "react";
+import { useRef, useState, type FormEvent } from "react";
 import { completeResetBody, type CompleteResetBody } from "../../../../shared/schemas/mail";
 import type { SessionUser } from "../../../../shared/schemas/auth";
 import { Button } from "../../../components/button";
@@ -6,6 +6,7 @@ import { Notice } from "../../../components/notice";
 import { serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
 import { useCompleteReset } from "../api/password-reset";
 import { checkNewPassword, NewPasswordFields } from "./new-password-fields";
+import { useFocusAfterRefusal } from "../../../lib/use-focus-after-refusal";
 
 type Field = "password" | "repeat";
 
@@ -16,12 +17,20 @@ export function ResetPasswordForm({ token, email, onDone }: { token: string; ema
   const [repeat, setRepeat] = useState("");
   const [errors, setErrors] = useState<FieldErrors<Field>>({});
   const [formError, setFormError] = useState<string | null>(null);
+  const form = useRef<HTMLFormElement>(null);
+  const busy = complete.isPending;
+  // A refused entry gets the caret back, in the field that says what is wrong.
+  const refused = useFocusAfterRefusal(form, busy);
 
   const submit = (event: FormEvent) => {
     event.preventDefault();
     setFormError(null);
     const checked = checkNewPassword<CompleteResetBody, Field>(completeResetBody, { token, password }, password, repeat);
-    if ("errors" in checked) return setErrors(checked.errors);
+    if ("errors" in checked) {
+      setErrors(checked.errors);
+      refused();
+      return;
+    }
     setErrors({});
     complete.mutate(checked.data, {
       onSuccess: ({ user }) => onDone(user),
@@ -29,13 +38,13 @@ export function ResetPasswordForm({ token, email, onDone }: { token: string; ema
         const { field, message } = serverErrorFor(error, ["password"] as const);
         if (field) setErrors({ password: message });
         else setFormError(message);
+        refused();
       },
     });
   };
 
-  const busy = complete.isPending;
   return (
-    <form onSubmit={submit} noValidate aria-label="Choose a new password" className="flex flex-col gap-5">
+    <form ref={form} onSubmit={submit} noValidate aria-label="Choose a new password" className="flex flex-col gap-5">
       <p className="text-sm text-ink-soft">
         For <span className="font-medium text-ink">{email}</span>. You will be signed out everywhere else.
       </p>

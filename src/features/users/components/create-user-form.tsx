@@ -1,4 +1,4 @@
-import { useState, type FormEvent } from "react";
+import { useRef, useState, type FormEvent } from "react";
 import { MAX_PASSWORD_BYTES, MIN_PASSWORD_LENGTH } from "../../../../shared/limits";
 import { ROLES, ROLE_DESCRIPTIONS, ROLE_LABELS, type Role } from "../../../../shared/roles";
 import { createUserBody } from "../../../../shared/schemas/users";
@@ -8,6 +8,7 @@ import { Notice } from "../../../components/notice";
 import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
 import { toast } from "../../../lib/toast";
 import { useCreateUser } from "../api/create-user";
+import { useFocusAfterRefusal } from "../../../lib/use-focus-after-refusal";
 
 type Field = "email" | "name" | "role" | "password";
 const FIELDS = ["email", "name", "role", "password"] as const;
@@ -20,6 +21,10 @@ export function CreateUserForm() {
   const [values, setValues] = useState(EMPTY);
   const [errors, setErrors] = useState<FieldErrors<Field>>({});
   const [formError, setFormError] = useState<string | null>(null);
+  const form = useRef<HTMLFormElement>(null);
+  const nameInput = useRef<HTMLInputElement>(null);
+  // The field at fault after a refusal; the empty Name after a user is made, for the next one.
+  const refocus = useFocusAfterRefusal(form, create.isPending, nameInput);
 
   const set = <K extends keyof typeof EMPTY>(key: K, value: (typeof EMPTY)[K]) => {
     setValues((v) => ({ ...v, [key]: value }));
@@ -32,6 +37,7 @@ export function CreateUserForm() {
     const parsed = createUserBody.safeParse(values);
     if (!parsed.success) {
       setErrors(fieldErrorsFrom<Field>(parsed.error));
+      refocus();
       return;
     }
     setErrors({});
@@ -39,19 +45,28 @@ export function CreateUserForm() {
       onSuccess: (user) => {
         toast.success(`${user.name} can now sign in as ${ROLE_LABELS[user.role].toLowerCase()}.`);
         setValues(EMPTY);
+        refocus();
       },
       onError: (error) => {
         const { field, message } = serverErrorFor(error, FIELDS);
         if (field) setErrors({ [field]: message });
         else setFormError(message);
+        refocus();
       },
     });
   };
 
   return (
-    <form onSubmit={submit} noValidate aria-label="Create a user" className="flex flex-col gap-4">
+    <form ref={form} onSubmit={submit} noValidate aria-label="Create a user" className="flex flex-col gap-4">
       {formError && <Notice tone="error">{formError}</Notice>}
-      <TextField label="Name" autoComplete="off" value={values.name} onChange={(e) => set("name", e.target.value)} error={errors.name} />
+      <TextField
+        ref={nameInput}
+        label="Name"
+        autoComplete="off"
+        value={values.name}
+        onChange={(e) => set("name", e.target.value)}
+        error={errors.name}
+      />
       <TextField
         label="E-mail"
         type="email"

@@ -1,4 +1,4 @@
-import { useState, type FormEvent } from "react";
+import { useRef, useState, type FormEvent } from "react";
 import { ROLES, ROLE_DESCRIPTIONS, ROLE_LABELS, type Role } from "../../../../shared/roles";
 import { createInvitationBody } from "../../../../shared/schemas/mail";
 import { Button } from "../../../components/button";
@@ -7,6 +7,7 @@ import { Notice } from "../../../components/notice";
 import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../../lib/form-errors";
 import { toast } from "../../../lib/toast";
 import { useCreateInvitation } from "../api/invitations";
+import { useFocusAfterRefusal } from "../../../lib/use-focus-after-refusal";
 
 type Field = "email" | "role";
 const FIELDS = ["email", "role"] as const;
@@ -18,6 +19,11 @@ export function InviteForm() {
   const [role, setRole] = useState<Role>("viewer");
   const [errors, setErrors] = useState<FieldErrors<Field>>({});
   const [formError, setFormError] = useState<string | null>(null);
+  const form = useRef<HTMLFormElement>(null);
+  const emailInput = useRef<HTMLInputElement>(null);
+  // After a refusal the caret goes to the field at fault; after a sent invitation to the empty
+  // E-mail, for the next address (a studio invites its people one after another).
+  const refocus = useFocusAfterRefusal(form, create.isPending, emailInput);
 
   const submit = (event: FormEvent) => {
     event.preventDefault();
@@ -25,6 +31,7 @@ export function InviteForm() {
     const parsed = createInvitationBody.safeParse({ email, role });
     if (!parsed.success) {
       setErrors(fieldErrorsFrom<Field>(parsed.error));
+      refocus();
       return;
     }
     setErrors({});
@@ -36,19 +43,22 @@ export function InviteForm() {
           toast.success(`Invitation sent to ${invitation.email}.`);
         }
         setEmail("");
+        refocus();
       },
       onError: (error) => {
         const { field, message } = serverErrorFor(error, FIELDS);
         if (field) setErrors({ [field]: message });
         else setFormError(message);
+        refocus();
       },
     });
   };
 
   return (
-    <form onSubmit={submit} noValidate aria-label="Invite someone" className="flex flex-col gap-4">
+    <form ref={form} onSubmit={submit} noValidate aria-label="Invite someone" className="flex flex-col gap-4">
       {formError && <Notice tone="error">{formError}</Notice>}
       <TextField
+        ref={emailInput}
         label="E-mail"
         type="email"
         autoComplete="off"
