@@ -276,6 +276,65 @@ export function printPage(
   return { page, orientation, area: areaFromMargins(page, m) };
 }
 
+/**
+ * Why a print preset's paper holds no print area for any piece (margins or an area larger than
+ * the paper), or null. Margins and areas turn with the paper, so a tall and a wide piece stand
+ * for every piece. The server refuses such a preset with these words; the editor shows them.
+ */
+export function noPrintAreaProblem(preset: Pick<PrintPreset, "paper" | "orientation" | "layout">): string | null {
+  const problems: string[] = [];
+  for (const piece of [
+    { widthPx: 2, heightPx: 3 },
+    { widthPx: 3, heightPx: 2 },
+  ]) {
+    try {
+      printPage(preset, piece);
+    } catch (err) {
+      if (!(err instanceof RangeError)) throw err;
+      problems.push(err.message);
+    }
+  }
+  return problems.length === 2 ? problems[0]! : null;
+}
+
+/** Crop mark length and its gap from the print area, inches (common practice: about 1/4 in and 1/16 in). */
+export const CROP_MARK_IN = { length: 0.25, gap: 0.0625 } as const;
+
+/** Shortest crop mark drawn, inches. */
+export const MIN_MARK_IN = 0.05;
+
+/** One straight line segment in inches from the page's top-left corner. */
+export interface LineIn {
+  x1: number;
+  y1: number;
+  x2: number;
+  y2: number;
+}
+
+/**
+ * Crop marks, for the print file and the preset editor's picture alike: at each corner of the
+ * print area, a horizontal and a vertical line outside it, in line with its edges, starting `gap`
+ * away, shortened to stay on the page; a mark with less than MIN_MARK_IN of room is dropped.
+ * Example: 8 × 10 in on Letter keeps all 8 marks, the side ones shortened to 0.1875 in by the
+ * 0.25 in side margins.
+ */
+export function cropMarks(area: RectIn, page: PaperSize): LineIn[] {
+  const { length, gap } = CROP_MARK_IN;
+  const lines: LineIn[] = [];
+  for (const x of [area.x, area.x + area.width]) {
+    for (const y of [area.y, area.y + area.height]) {
+      const sx = x === area.x ? -1 : 1;
+      const sy = y === area.y ? -1 : 1;
+      lines.push({ x1: x + sx * gap, y1: y, x2: x + sx * (gap + length), y2: y });
+      lines.push({ x1: x, y1: y + sy * gap, x2: x, y2: y + sy * (gap + length) });
+    }
+  }
+  const clamp = (v: number, max: number) => Math.min(max, Math.max(0, v));
+  return lines
+    .map((s) => ({ ...s, x2: clamp(s.x2, page.widthIn), y2: clamp(s.y2, page.heightIn) }))
+    .filter((s) => Math.hypot(s.x2 - s.x1, s.y2 - s.y1) >= MIN_MARK_IN);
+}
+
 /** Caption font size, points (1 pt = 1/72 in), and its gap below the printed piece, inches. */
 export const CAPTION = { sizePt: 9, gapIn: 0.12 } as const;
 

@@ -4,7 +4,7 @@ import { PassThrough } from "node:stream";
 import { ZipArchive } from "archiver";
 import { API } from "../../../shared/api";
 import { handle } from "../define";
-import { conflict } from "../../errors";
+import { badRequest, conflict } from "../../errors";
 import {
   batchDetail,
   batchFiles,
@@ -88,7 +88,16 @@ export function batchesRouter({ config, database, boss, library }: AppDeps): Rou
   const router = Router();
   const { db } = database;
   handle(router, API.batchesList, async ({ user }) => ({ batches: await listBatches(db, user.role) }));
-  handle(router, API.batchesEstimate, ({ body }) => estimateBatch(db, body));
+  handle(router, API.batchesEstimate, async ({ body }) => {
+    try {
+      return await estimateBatch(db, body);
+    } catch (err) {
+      // A print preset saved before its paper was checked can leave no print area: every output
+      // of it fails, and the estimate says why instead of failing as a server error.
+      if (err instanceof RangeError) throw badRequest(`A picked preset makes no file: ${err.message}.`, "presetIds");
+      throw err;
+    }
+  });
   handle(router, API.batchesCreate, async ({ body, user, res, req }) => {
     const batch = await createOutputBatch(database, boss, user.id, body);
     req.log.info({ batchId: batch.id, total: batch.counts.total }, "batch started");

@@ -15,6 +15,16 @@ export function settledPercent(b: Batch): number {
   return b.counts.total ? (settled / b.counts.total) * 100 : 100;
 }
 
+/**
+ * What the bar shows: while the batch runs, the share dealt with (so it moves as outputs fail or
+ * are made); once it has finished, the share made, so a cancelled or failed batch does not read
+ * as complete. Example: 11 of 45 made, 34 cancelled → 24.
+ */
+export function barPercent(b: Batch): number {
+  if (!b.finishedAt) return settledPercent(b);
+  return b.counts.total ? (b.counts.done / b.counts.total) * 100 : 100;
+}
+
 export type BatchState = "running" | "done" | "failed" | "cancelled";
 
 export function batchState(b: Batch): BatchState {

@@ -57,42 +57,8 @@ export function printLayout(piece: { widthPx: number; heightPx: number; dpi: num
   return { page, orientation, pagePx, area, place, printedPx, visiblePx, warnings };
 }
 
-/** Crop mark length and its gap from the print area, inches (common practice: about 1/4 in and 1/16 in). */
-export const CROP_MARK_IN = { length: 0.25, gap: 0.0625 } as const;
-
-/** Shortest crop mark drawn, inches. */
-export const MIN_MARK_IN = 0.05;
-
-/** One straight line segment in inches from the page's top-left corner. */
-export interface LineIn {
-  x1: number;
-  y1: number;
-  x2: number;
-  y2: number;
-}
-
-/**
- * Crop marks: at each corner of the print area, a horizontal and a vertical line outside it,
- * in line with its edges, starting `gap` away, shortened to stay on the page; a mark with less
- * than MIN_MARK_IN of room is dropped. Example: 8 × 10 in on Letter keeps all 8 marks, the side
- * ones shortened to 0.1875 in by the 0.25 in side margins.
- */
-export function cropMarks(area: RectIn, page: PaperSize): LineIn[] {
-  const { length, gap } = CROP_MARK_IN;
-  const lines: LineIn[] = [];
-  for (const x of [area.x, area.x + area.width]) {
-    for (const y of [area.y, area.y + area.height]) {
-      const sx = x === area.x ? -1 : 1;
-      const sy = y === area.y ? -1 : 1;
-      lines.push({ x1: x + sx * gap, y1: y, x2: x + sx * (gap + length), y2: y });
-      lines.push({ x1: x, y1: y + sy * gap, x2: x, y2: y + sy * (gap + length) });
-    }
-  }
-  const clamp = (v: number, max: number) => Math.min(max, Math.max(0, v));
-  return lines
-    .map((s) => ({ ...s, x2: clamp(s.x2, page.widthIn), y2: clamp(s.y2, page.heightIn) }))
-    .filter((s) => Math.hypot(s.x2 - s.x1, s.y2 - s.y1) >= MIN_MARK_IN);
-}
+/** Crop marks are drawn where the preset editor's picture shows them: shared/paper.ts. */
+export { CROP_MARK_IN, MIN_MARK_IN, cropMarks, type LineIn } from "../../../shared/paper";
 
 /** The caption's size, gap and baseline live in shared/paper.ts, so the preset editor's picture draws it where the file has it. */
 export { CAPTION, captionBaseline, captionText } from "../../../shared/paper";

@@ -1,4 +1,4 @@
-import { useMemo, useState, type FormEvent, type MouseEvent } from "react";
+import { useMemo, useRef, useState, type FormEvent, type MouseEvent, type RefObject } from "react";
 import { Link, useNavigate } from "react-router-dom";
 import type { CreateBatchBody } from "../../../../shared/schemas/preset-api";
 import { Button } from "../../../components/button";
@@ -30,6 +30,16 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
   const [anchor, setAnchor] = useState<number | null>(null);
   const [presetIds, setPresetIds] = useState<string[]>([]);
   const [name, setName] = useState("");
+  // The selection buttons come and go with what they change: the one pressed goes away, so the
+  // focus moves to the one that undoes it (Clear selection ⇄ Select all), not to the page's top.
+  const selectAllButton = useRef<HTMLButtonElement>(null);
+  const clearButton = useRef<HTMLButtonElement>(null);
+  const selectionBar = useRef<HTMLDivElement>(null);
+  const focusAfter = (first: RefObject<HTMLButtonElement | null>, then: RefObject<HTMLButtonElement | null>) =>
+    requestAnimationFrame(() => {
+      if (document.activeElement && document.activeElement !== document.body) return;
+      (first.current ?? then.current ?? selectionBar.current)?.focus();
+    });
 
   const q = useDebounced(filter.q?.trim() || undefined, 250);
   const intakes = useIntakeChoices();
@@ -39,6 +49,9 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
   const create = useCreateBatch();
 
   const scanList = useMemo(() => scans.data ?? [], [scans.data]);
+  // An intake with no scans (a session opened and nothing dropped yet) matches nothing because it
+  // is empty, not because its pieces wait for review: the grid says so.
+  const emptyIntake = filter.intakeId ? (intakes.data ?? []).find((i) => i.id === filter.intakeId && i.scanCount === 0) : undefined;
   const tags = useMemo(() => [...new Set((pool.data ?? []).flatMap((f) => f.tags))].sort(), [pool.data]);
   // The list route filters by status, scan and search; intake, tag and shape are narrowed here.
   const fragments = useMemo(() => {
@@ -116,7 +129,11 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
       <Panel title="1 · Fragments" titleId="batch-fragments">
         <div className="flex flex-col gap-4">
           <FragmentFilters filter={filter} onChange={changeFilter} intakes={intakes.data ?? []} scans={scanList} tags={tags} />
-          <div className="flex flex-wrap items-center gap-3 rounded-lg border border-paper-300 bg-white px-4 py-2.5">
+          <div
+            ref={selectionBar}
+            tabIndex={-1}
+            className="flex flex-wrap items-center gap-3 rounded-lg border border-paper-300 bg-white px-4 py-2.5 outline-none"
+          >
             <span className="text-sm text-ink" aria-live="polite" data-testid="selected-count">
               {allShownPicked && hiddenPicked === 0 ? (
                 <>
@@ -136,6 +153,7 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
             </span>
             {fragments.length > 0 && !allShownPicked && (
               <Button
+                ref={selectAllButton}
                 size="sm"
                 variant="secondary"
                 disabled={settling}
@@ -144,6 +162,7 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
                   // Nothing picked: all matching. Something picked: the shown ones are added to it.
                   setPicked(new Set([...picked, ...fragments.map((f) => f.id)]));
                   setAnchor(null);
+                  focusAfter(clearButton, selectAllButton);
                 }}
               >
                 {picked.size === 0 ? `Select all ${fragments.length} matching` : `Add the ${fragments.length - shownPicked} matching`}
@@ -153,18 +172,23 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
               <Button
                 size="sm"
                 variant="quiet"
-                onClick={() => setPicked(new Set(fragments.filter((f) => picked.has(f.id)).map((f) => f.id)))}
+                onClick={() => {
+                  setPicked(new Set(fragments.filter((f) => picked.has(f.id)).map((f) => f.id)));
+                  focusAfter(clearButton, selectAllButton);
+                }}
               >
                 Drop the {hiddenPicked} not shown
               </Button>
             )}
             {picked.size > 0 && (
               <Button
+                ref={clearButton}
                 size="sm"
                 variant="quiet"
                 onClick={() => {
                   setPicked(new Set());
                   setAnchor(null);
+                  focusAfter(selectAllButton, clearButton);
                 }}
               >
                 Clear selection
@@ -185,7 +209,9 @@ export function BatchBuilder({ initialFilter }: { initialFilter: FragmentFilter 
               onToggle={toggle}
               loading={pool.isFetching}
               emptyText={
-                filter.status === "approved" ? (
+                emptyIntake ? (
+                  <>{emptyIntake.name} has no scans yet, so nothing of it can be picked: choose another intake, or All intakes.</>
+                ) : filter.status === "approved" ? (
                   <>
                     No approved fragment matches these filters. A batch makes copies of approved work: approve the pieces in a scan&apos;s
                     review first (

@@ -2,7 +2,7 @@ import type { Batch } from "../../../../shared/schemas/recipe-api";
 import { Ago } from "../../../components/ago";
 import { ProgressBar } from "../../../components/progress-bar";
 import { cn } from "../../../lib/cn";
-import { BATCH_STATE_LABELS, batchState, settledPercent } from "../format";
+import { BATCH_STATE_LABELS, barPercent, batchState } from "../format";
 
 const STATE_TONES = {
   running: "bg-accent-faint text-accent-strong border-accent-soft",
@@ -29,7 +29,7 @@ export function BatchProgressBlock({ batch, compact = false }: { batch: Batch; c
   const { queued, running, done, failed, cancelled, total } = batch.counts;
   return (
     <div className="flex flex-col gap-2">
-      <ProgressBar value={settledPercent(batch)} label={`Progress of ${batch.name}`} className={compact ? "h-1.5" : "h-2.5"} />
+      <ProgressBar value={barPercent(batch)} label={`Progress of ${batch.name}`} className={compact ? "h-1.5" : "h-2.5"} />
       <p className="flex flex-wrap gap-x-3 gap-y-0.5 text-xs text-ink-muted">
         <span>
           <span className="figure font-semibold text-ink" data-testid="batch-done-count">

@@ -1,4 +1,4 @@
-import { useMemo } from "react";
+import { useMemo, useRef } from "react";
 import { Link } from "react-router-dom";
 import type { PresetSummary } from "../../../../shared/schemas/preset-api";
 import { Button } from "../../../components/button";
@@ -23,6 +23,10 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
   const retry = useRetryBatch(batch.id);
   const cancel = useCancelBatch(batch.id);
   const running = !batch.finishedAt;
+  // Cancel and Retry go away once they have done their work: the focus moves to the progress they
+  // changed (read out as it is), not to the top of the page.
+  const progress = useRef<HTMLDivElement>(null);
+  const toProgress = () => requestAnimationFrame(() => progress.current?.focus());
   const failed = items.filter((i) => i.state === "failed");
   const warned = items.filter((i) => i.warnings.length > 0);
   const presetNames = new Set(items.map((i) => i.preset));
@@ -33,6 +37,12 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
   // but has no file any more, and the zip leaves it out.
   const replaced = new Set(batch.kind === "recipe" ? [] : items.filter((i) => i.state === "done" && i.fileName === null).map((i) => i.id));
   const files = items.filter((i) => i.state === "done" && i.fileName !== null).length;
+  const heldFiles = useMemo(() => {
+    const byPreset = new Map<string, number>();
+    if (batch.kind === "recipe") return byPreset;
+    for (const i of items) if (i.state === "done" && i.fileName !== null) byPreset.set(i.preset, (byPreset.get(i.preset) ?? 0) + 1);
+    return byPreset;
+  }, [items, batch.kind]);
 
   return (
     <>
@@ -56,7 +66,10 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
                 busy={cancel.isPending}
                 onClick={() =>
                   cancel.mutate(undefined, {
-                    onSuccess: () => toast.info("Cancelled what had not started."),
+                    onSuccess: () => {
+                      toast.info("Cancelled what had not started.");
+                      toProgress();
+                    },
                   })
                 }
               >
@@ -69,7 +82,10 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
                 busy={retry.isPending}
                 onClick={() =>
                   retry.mutate(undefined, {
-                    onSuccess: () => toast.success(`Queued ${plural(batch.counts.failed, "failed output")} again.`),
+                    onSuccess: () => {
+                      toast.success(`Queued ${plural(batch.counts.failed, "failed output")} again.`);
+                      toProgress();
+                    },
                   })
                 }
               >
@@ -82,7 +98,14 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
       <div className="grid grid-cols-1 items-start gap-6 lg:grid-cols-2 xl:grid-cols-[minmax(0,1fr)_18rem_18rem]">
         <div className="flex min-w-0 flex-col gap-6 lg:col-span-2 xl:col-span-1">
           <Panel title="Progress" titleId="batch-progress">
-            <BatchProgressBlock batch={batch} />
+            <div
+              ref={progress}
+              tabIndex={-1}
+              data-testid="batch-progress"
+              className="rounded outline-none focus-visible:ring-2 focus-visible:ring-accent"
+            >
+              <BatchProgressBlock batch={batch} />
+            </div>
           </Panel>
           {failed.length > 0 && (
             <Notice tone="error" title={`${plural(failed.length, "output")} failed`}>
@@ -128,7 +151,14 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
           replacedCount={replaced.size}
         />
         <Can role="operator">
-          <RerunPanel key={current.join()} batchId={batch.id} presets={presets} current={current} fragmentIds={fragmentIds} />
+          <RerunPanel
+            key={current.join()}
+            batchId={batch.id}
+            presets={presets}
+            current={current}
+            fragmentIds={fragmentIds}
+            heldFiles={heldFiles}
+          />
         </Can>
       </div>
       <Panel title="Outputs" titleId="batch-outputs" bodyClassName="p-0" className="mt-6">

@@ -20,12 +20,15 @@ export function RerunPanel({
   presets,
   current,
   fragmentIds,
+  heldFiles,
 }: {
   batchId: string;
   presets: PresetSummary[];
   current: string[];
   /** The batch's fragments: the new run takes the same ones. */
   fragmentIds: string[];
+  /** The batch's files still held, by preset name: what replacing may remove. */
+  heldFiles?: ReadonlyMap<string, number>;
 }) {
   const navigate = useNavigate();
   const rerun = useRerunBatch();
@@ -53,6 +56,11 @@ export function RerunPanel({
     [open, ids, fragmentIds],
   );
   const estimate = useBatchEstimate(body);
+  // Replacing removes every old file the new run does not make again: those of a preset left out
+  // here go too, which is easy to miss when a preset is swapped for a copy at another size.
+  const pickedNames = new Set(presets.filter((p) => ids.includes(p.id)).map((p) => p.name));
+  const dropped = [...(heldFiles ?? new Map<string, number>())].filter(([name, n]) => n > 0 && !pickedNames.has(name));
+  const droppedCount = dropped.reduce((sum, [, n]) => sum + n, 0);
 
   const go = () =>
     rerun.mutate(
@@ -129,6 +137,18 @@ export function RerunPanel({
                 <span className="block text-[11px] text-ink-muted">Only once the new ones are made; a failure keeps the old file.</span>
               </span>
             </label>
+            {replaceOld && droppedCount > 0 && (
+              <p
+                role="alert"
+                className="rounded-md border border-ochre/40 bg-ochre-soft px-3 py-2 text-xs text-ochre"
+                data-testid="rerun-drops"
+              >
+                Replacing also removes this batch&apos;s {droppedCount === 1 ? "1 file" : `${droppedCount} files`} of{" "}
+                {dropped.map(([name, n]) => `${name} (${n})`).join(", ")}, unless another batch holds them:{" "}
+                {dropped.length === 1 ? "that preset is" : "those presets are"} not picked here, so the new run makes nothing in their
+                place. Keep them, or pick {dropped.length === 1 ? "it" : "them"} too.
+              </p>
+            )}
           </fieldset>
           <div className="flex gap-2">
             <Button variant="primary" onClick={go} busy={rerun.isPending} disabled={ids.length === 0}>

@@ -1,5 +1,6 @@
 import { useEffect, useEffectEvent, useMemo, useRef, useState, type FormEvent } from "react";
-import { Link, useNavigate } from "react-router-dom";
+import { Link, useLocation, useNavigate } from "react-router-dom";
+import { noPrintAreaProblem } from "../../../../shared/paper";
 import { presetSchema, type Preset } from "../../../../shared/schemas/presets";
 import { Ago } from "../../../components/ago";
 import { Button } from "../../../components/button";
@@ -27,13 +28,20 @@ import { WebPicture } from "./web-picture";
 /** Every problem of the draft by its path ("size.longEdge"), first message each. */
 function problemsOf(draft: Preset): { ok: boolean; errors: Record<string, string> } {
   const parsed = presetSchema.safeParse(draft);
-  if (parsed.success) return { ok: true, errors: {} };
   const errors: Record<string, string> = {};
-  for (const issue of parsed.error.issues) {
-    const key = issue.path.join(".");
-    errors[key] ??= issue.message;
+  if (!parsed.success) {
+    for (const issue of parsed.error.issues) {
+      const key = issue.path.join(".");
+      errors[key] ??= issue.message;
+    }
   }
-  return { ok: false, errors };
+  // Settings each in range can still leave the paper no print area, and every output would fail:
+  // said beside the print area as soon as the rest is in range (a missing name aside).
+  if (draft.kind === "print" && Object.keys(errors).every((k) => k === "name")) {
+    const noArea = noPrintAreaProblem(draft);
+    if (noArea) errors["layout"] = `${noArea}: make the margins or the area smaller, or pick a larger paper.`;
+  }
+  return { ok: Object.keys(errors).length === 0, errors };
 }
 
 const fragmentName = (f: { title: string | null; scanName: string; position: number }) =>
@@ -95,6 +103,19 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
   // Ctrl/Cmd+S saves from anywhere on the page, as in the recipe editor: the Save button sits at
   // the top and the settings run long.
   const form = useRef<HTMLFormElement>(null);
+  // Saving disables the button pressed (nothing left to save) and a new preset opens on its own
+  // page: the focus goes to the form, not to the top of the document, so Tab carries on in it.
+  const refocus = () =>
+    requestAnimationFrame(() => {
+      if (!document.activeElement || document.activeElement === document.body) form.current?.focus({ preventScroll: true });
+    });
+  const location = useLocation();
+  const justSaved = Boolean((location.state as { saved?: boolean } | null)?.saved);
+  useEffect(() => {
+    if (justSaved) refocus();
+    // Once, as the saved preset's page opens.
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, []);
   const onKey = useEffectEvent((event: KeyboardEvent) => {
     if ((event.ctrlKey || event.metaKey) && !event.altKey && event.key.toLowerCase() === "s") {
       event.preventDefault();
@@ -112,8 +133,14 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
     setFormError(null);
     setAttempted(true);
     const parsed = presetSchema.safeParse(draft);
-    if (!parsed.success) {
-      setFormError(onlyName ? "Give the preset a name." : "Some settings are out of range: see the messages beside them.");
+    if (!parsed.success || !ok) {
+      setFormError(
+        onlyName
+          ? "Give the preset a name."
+          : allErrors["layout"] && Object.keys(allErrors).every((k) => k === "name" || k === "layout")
+            ? "The paper has no print area left: see the message under Print area."
+            : "Some settings are out of range: see the messages beside them.",
+      );
       return;
     }
     const onError = (error: unknown) => setFormError(serverErrorFor(error, []).message);
@@ -123,7 +150,7 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
         {
           onSuccess: (d) => {
             toast.success(`Saved ${d.preset.name} (version ${d.preset.version}).`);
-            navigate(paths.preset(d.preset.id), { replace: true });
+            navigate(paths.preset(d.preset.id), { replace: true, state: { saved: true } });
           },
           onError,
         },
@@ -134,6 +161,7 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
         {
           onSuccess: (d) => {
             setDraft(d.preset.settings);
+            refocus();
             toast.success(`Saved ${d.preset.name}: now version ${d.preset.version}.`);
           },
           onError,
@@ -177,7 +205,7 @@ export function PresetEditor({ detail, start }: { detail?: PresetDetail; start: 
   })();
 
   return (
-    <form ref={form} onSubmit={save} noValidate aria-label={`${KIND_LABELS[draft.kind]} preset`}>
+    <form ref={form} onSubmit={save} noValidate tabIndex={-1} className="outline-none" aria-label={`${KIND_LABELS[draft.kind]} preset`}>
       <PageHeader
         title={saved ? saved.name : `New ${KIND_LABELS[draft.kind].toLowerCase()} preset`}
         description={

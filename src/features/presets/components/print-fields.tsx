@@ -117,6 +117,11 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
             ))}
           </div>
         )}
+        {errors["layout"] && (
+          <p role="alert" className="text-[11px] font-medium text-brick" data-testid="print-area-error">
+            {errors["layout"]}
+          </p>
+        )}
       </FieldGroup>
       <FieldGroup title="The piece on the page">
         <Segments
@@ -200,7 +205,7 @@ export function PrintFields({ p, set, errors }: { p: PrintPreset; set: (p: Print
             label="Crop marks"
             checked={p.cropMarks}
             onChange={(cropMarks) => set({ ...p, cropMarks })}
-            hint="Short lines at the corners, for trimming"
+            hint="Short lines outside the print area's corners, for trimming"
           />
           <Check
             label="Caption line"

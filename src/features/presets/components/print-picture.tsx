@@ -1,6 +1,6 @@
 import { useId } from "react";
 import { formatNumber } from "../../../../shared/units";
-import { CAPTION, captionBaseline, captionText } from "../../../../shared/paper";
+import { CAPTION, captionBaseline, captionText, cropMarks } from "../../../../shared/paper";
 import type { PrintPreset } from "../../../../shared/schemas/presets";
 import { cn } from "../../../lib/cn";
 import { paperLabel } from "../format";
@@ -29,14 +29,8 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
   const v = place.visible;
   const p = place.printed;
   const font = Math.max(page.widthIn, page.heightIn) * 0.028;
-  const mark = Math.max(0.2, font * 0.9);
-  const gap = mark * 0.4;
-  const corners: [number, number, number, number][] = [
-    [v.x, v.y, -1, -1],
-    [v.x + v.width, v.y, 1, -1],
-    [v.x, v.y + v.height, -1, 1],
-    [v.x + v.width, v.y + v.height, 1, 1],
-  ];
+  // Where the file has them: at the print area's corners, to scale.
+  const marks = preset.cropMarks ? cropMarks(area, page) : [];
   const caption = captionText(piece.title, p);
   const captionAt = preset.caption ? captionBaseline(v, page) : null;
   const dpi = Math.round(place.effectiveDpi);
@@ -94,13 +88,13 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
               <title>The part outside the print area is cropped</title>
             </rect>
           )}
-          {preset.cropMarks &&
-            corners.map(([x, y, dx, dy], i) => (
-              <g key={i} stroke="#2b2823" strokeWidth={0.8} vectorEffect="non-scaling-stroke">
-                <line x1={x + dx * gap} y1={y} x2={x + dx * (gap + mark)} y2={y} vectorEffect="non-scaling-stroke" />
-                <line x1={x} y1={y + dy * gap} x2={x} y2={y + dy * (gap + mark)} vectorEffect="non-scaling-stroke" />
-              </g>
-            ))}
+          {marks.length > 0 && (
+            <g data-testid="crop-marks" stroke="#2b2823" strokeWidth={0.8}>
+              {marks.map((m, i) => (
+                <line key={i} x1={m.x1} y1={m.y1} x2={m.x2} y2={m.y2} vectorEffect="non-scaling-stroke" />
+              ))}
+            </g>
+          )}
           {captionAt !== null && (
             // Where and how big the print file sets it: CAPTION.sizePt under the printed piece.
             <text
@@ -165,6 +159,20 @@ export function PrintPicture({ preset, piece }: { preset: PrintPreset; piece: Sa
                   <>
                     {caption} <span className="text-ink-muted">({CAPTION.sizePt} pt, under the piece)</span>
                   </>
+                )}
+              </dd>
+            </>
+          )}
+          {preset.cropMarks && (
+            <>
+              <dt className="text-ink-muted">Crop marks</dt>
+              <dd className="text-ink" data-testid="crop-marks-text">
+                {marks.length === 8 ? (
+                  "At the corners of the print area, outside it"
+                ) : marks.length === 0 ? (
+                  <span className="text-ochre">Left out: the margins leave no room for them</span>
+                ) : (
+                  <span className="text-ochre">{marks.length} of 8 drawn: the margins leave no room for the others</span>
                 )}
               </dd>
             </>
