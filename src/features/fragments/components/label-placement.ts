@@ -3,7 +3,9 @@
  * Everything is in scan pixels. Labels are placed in reading order (a piece's label stays put when
  * another is selected), each at the first spot that covers no label placed before it, preferring
  * one beside its piece that covers no piece (above it, to its right or left, below it), then one on
- * its own piece (inside its corners, stacked down it), then further out above or below.
+ * its own piece (inside its corners, stacked down it), then further out above or below. A label
+ * beside its piece must be clearly nearer to it than to any other piece (by at least `gap`): a
+ * label in the narrow strip between two pieces reads as either's, so it goes on its own piece.
  */
 
 export interface Box {
@@ -27,6 +29,13 @@ export interface LabelSpot {
 }
 
 const overlaps = (a: Box, b: Box) => a.x0 < b.x1 && b.x0 < a.x1 && a.y0 < b.y1 && b.y0 < a.y1;
+
+/** Shortest distance between two boxes (0 when they touch or overlap). */
+export function boxDistance(a: Box, b: Box): number {
+  const dx = Math.max(0, b.x0 - a.x1, a.x0 - b.x1);
+  const dy = Math.max(0, b.y0 - a.y1, a.y0 - b.y1);
+  return Math.hypot(dx, dy);
+}
 
 /**
  * `gap` is the room kept between a label and its piece's edge and between stacked labels; labels
@@ -74,10 +83,15 @@ export function placeLabels(requests: LabelRequest[], W: number, H: number, gap:
     const freeOfLabels = (c: LabelSpot) => !placed.some((p) => overlaps(p, boxAt(c)));
     const freeOfOthers = (c: LabelSpot) => !others.some((o) => overlaps(o, boxAt(c)));
     const freeOfOwn = (c: LabelSpot) => !overlaps(b, boxAt(c));
+    const plainlyOwn = (c: LabelSpot) => {
+      const own = boxDistance(boxAt(c), b);
+      return others.every((o) => boxDistance(boxAt(c), o) >= own + gap);
+    };
     const found =
-      // Covering no piece (a large piece's own corner allowed); then covering only its own piece;
-      // then anywhere clear of the other labels.
-      near.find((c) => freeOfLabels(c) && freeOfOthers(c) && (c.on || freeOfOwn(c))) ??
+      // Covering no piece and plainly beside its own (a large piece's own corner allowed); then
+      // covering only its own piece; then beside it; then anywhere clear of the other labels.
+      near.find((c) => freeOfLabels(c) && freeOfOthers(c) && (c.on || (freeOfOwn(c) && plainlyOwn(c)))) ??
+      near.find((c) => freeOfLabels(c) && freeOfOthers(c) && !freeOfOwn(c)) ??
       near.find((c) => freeOfLabels(c) && freeOfOthers(c)) ??
       candidates.find(freeOfLabels) ??
       candidates[0]!;
