@@ -1,6 +1,6 @@
-import { and, asc, desc, eq, gt, inArray, sql } from "drizzle-orm";
+import { and, asc, desc, eq, gt, inArray, isNull, sql } from "drizzle-orm";
 import type { Db } from "../db";
-import { processes, scans } from "../db/schema";
+import { fragments, processes, scans } from "../db/schema";
 import { SCAN_STATUSES, type ScanStatus } from "../../shared/schemas/scans";
 import { inboxWaitingSchema, type QueueSummary } from "../../shared/schemas/queue";
 import { countByStatus } from "./scans";
@@ -13,7 +13,7 @@ import type { Role } from "../../shared/roles";
 /** The queue as `role` sees it: a viewer's batch counts are of the pieces still approved. */
 export async function queueSummary(db: Db, role?: Role): Promise<QueueSummary> {
   const fresh = sql`now() - ${`${HEARTBEAT_STALE_MS} milliseconds`}::interval`;
-  const [counted, running, waiting, failures, watchers, workers, review, batches] = await Promise.all([
+  const [counted, running, making, waiting, failures, watchers, workers, review, batches] = await Promise.all([
     countByStatus(db),
     db
       .select({
@@ -27,6 +27,7 @@ export async function queueSummary(db: Db, role?: Role): Promise<QueueSummary> {
       .where(eq(scans.status, "analysing"))
       .orderBy(asc(scans.startedAt))
       .limit(50),
+    makingFiles(db),
     db
       .select({ scanId: scans.id, originalName: scans.originalName, createdAt: scans.createdAt })
       .from(scans)
@@ -75,6 +76,7 @@ export async function queueSummary(db: Db, role?: Role): Promise<QueueSummary> {
   return {
     counts,
     running: running.map((r) => ({ ...r, startedAt: r.startedAt?.toISOString() ?? null })),
+    making,
     waiting: waiting.map((r) => ({ ...r, createdAt: r.createdAt.toISOString() })),
     failures: failures.map((r) => ({ ...r, error: r.error ?? "Failed without a message.", updatedAt: r.updatedAt.toISOString() })),
     watcher: {
@@ -95,6 +97,33 @@ export async function queueSummary(db: Db, role?: Role): Promise<QueueSummary> {
         .map((s) => ({ scanId: s.id, originalName: s.originalName, proposed: review.get(s.id)!.proposed })),
     },
   };
+}
+
+/**
+ * Scans with approved pieces whose master and web copy are queued or being made, oldest work
+ * first: each with how many of its approved pieces have their files, are in work or failed.
+ * Merged-away pieces are not counted (their piece is the merge).
+ */
+async function makingFiles(db: Db): Promise<QueueSummary["making"]> {
+  const inWork = sql`${fragments.renderState} in ('queued', 'rendering')`;
+  const busyScans = db.selectDistinct({ scanId: fragments.scanId }).from(fragments).where(inWork);
+  const approved = and(eq(fragments.status, "approved"), isNull(fragments.mergedInto), inArray(fragments.scanId, busyScans));
+  return db
+    .select({
+      scanId: fragments.scanId,
+      originalName: scans.originalName,
+      approved: sql<number>`count(*)::int`,
+      made: sql<number>`count(*) filter (where ${fragments.renderState} = 'done')::int`,
+      inWork: sql<number>`count(*) filter (where ${inWork})::int`,
+      failed: sql<number>`count(*) filter (where ${fragments.renderState} = 'failed')::int`,
+    })
+    .from(fragments)
+    .innerJoin(scans, eq(scans.id, fragments.scanId))
+    .where(approved)
+    .groupBy(fragments.scanId, scans.originalName)
+    .having(sql`count(*) filter (where ${inWork}) > 0`)
+    .orderBy(sql`min(${fragments.updatedAt}) filter (where ${inWork})`)
+    .limit(50);
 }
 
 /** Live workers per machine, most first, then by name. */

@@ -45,6 +45,20 @@ export const queueSummarySchema = z.object({
       startedAt: z.string().nullable(),
     }),
   ),
+  /**
+   * Scans whose approved pieces have their master and web copy being made now: of its approved
+   * pieces, how many have their files (`made`), are queued or being made (`inWork`) or failed.
+   */
+  making: z.array(
+    z.object({
+      scanId: z.string(),
+      originalName: z.string(),
+      approved: z.number(),
+      made: z.number(),
+      inWork: z.number(),
+      failed: z.number(),
+    }),
+  ),
   waiting: z.array(z.object({ scanId: z.string(), originalName: z.string(), createdAt: z.string() })),
   failures: z.array(
     z.object({

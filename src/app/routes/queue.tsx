@@ -45,7 +45,7 @@ export function QueueRoute() {
           {arriving && arriving.count > 0 && <InboxArrivals waiting={arriving} />}
           <div className="grid grid-cols-1 gap-6 xl:grid-cols-[3fr_2fr]">
             <div className="flex flex-col gap-6">
-              <RunningNow running={summary.data.running} />
+              <RunningNow running={summary.data.running} making={summary.data.making} />
               {!twoColumns && reviewList}
               <BatchList batches={summary.data.batches} />
               <FailureList
