@@ -373,7 +373,7 @@ describe("a hostile day's files", () => {
     const empty = await operator.post("/api/scans/upload").attach("files", Buffer.alloc(0), "upload-empty.tif");
     expect([empty.status, empty.body.error.message]).toEqual([
       415,
-      "Not a scan Platen can read: upload-empty.tif (it is empty). Expected TIFF, JPEG, PNG or WebP.",
+      "upload-empty.tif is empty (0 bytes): the scan was probably cut off while copying. Copy it again from the scanner, or scan again.",
     ]);
     const twin = await paperScan({ seed: 251 });
     const both = await Promise.all(

@@ -44,13 +44,15 @@ export async function removeTemps(files: Express.Multer.File[]): Promise<void> {
 
 /**
  * Sniffs each uploaded file by its content (not its name or the browser's claim). Any file that is
- * not a TIFF, JPEG, PNG or WebP refuses the whole request, naming it; the temps are removed.
+ * not a TIFF, JPEG, PNG or WebP refuses the whole request, naming it; the temps are removed. An
+ * empty file is no wrong type: it is a scan whose copy stopped before its first byte, said so apart.
  */
 export async function sniffUploads(files: Express.Multer.File[]): Promise<void> {
+  const empty: string[] = [];
   const refused: string[] = [];
   for (const f of files) {
     if (f.size === 0) {
-      refused.push(`${cleanFileName(f.originalname)} (it is empty)`);
+      empty.push(cleanFileName(f.originalname));
       continue;
     }
     const fh = await fsp.open(f.path, "r");
@@ -63,8 +65,20 @@ export async function sniffUploads(files: Express.Multer.File[]): Promise<void> 
     const found = sniff(head);
     if (found.kind !== "scan") refused.push(`${cleanFileName(f.originalname)} (it holds ${found.what})`);
   }
-  if (refused.length) {
+  if (empty.length || refused.length) {
     await removeTemps(files);
-    throw unsupportedMedia(`Not a scan Platen can read: ${refused.join(", ")}. Expected TIFF, JPEG, PNG or WebP.`);
+    throw unsupportedMedia([emptyMessage(empty), wrongTypeMessage(refused)].filter(Boolean).join(" "));
   }
+}
+
+/** "a.tif is empty (0 bytes): …", or "a.tif and b.tif are empty (0 bytes): …"; "" for none. */
+function emptyMessage(names: string[]): string {
+  if (!names.length) return "";
+  const list = names.length === 1 ? names[0] : `${names.slice(0, -1).join(", ")} and ${names.at(-1)}`;
+  const one = names.length === 1;
+  return `${list} ${one ? "is" : "are"} empty (0 bytes): the scan was probably cut off while copying. Copy ${one ? "it" : "them"} again from the scanner, or scan again.`;
+}
+
+function wrongTypeMessage(refused: string[]): string {
+  return refused.length ? `Not a scan Platen can read: ${refused.join(", ")}. Expected TIFF, JPEG, PNG or WebP.` : "";
 }

@@ -4,6 +4,7 @@ import { Button } from "../../../components/button";
 import { Kbd } from "../../../components/kbd";
 import type { BatchItem } from "../api/get-batch-report";
 import { fragmentLabel } from "../format";
+import type { OutputDownload } from "./output-download";
 
 /**
  * A larger look at one output (1024 px on its long edge, made once on the server), with its
@@ -16,10 +17,13 @@ export function OutputLook({
   onStep,
   onClose,
   position,
+  files,
 }: {
   item: BatchItem;
   pictureUrl: string;
   fileUrl: string;
+  /** The checked download: a file gone from the library says so here, in the dialog itself. */
+  files: OutputDownload;
   onStep: (by: 1 | -1) => void;
   onClose: () => void;
   /** "3 of 12": where this output stands among those with a picture. */
@@ -71,6 +75,11 @@ export function OutputLook({
             ⚠ {w}
           </p>
         ))}
+        {files.gone.has(item.id) && (
+          <p role="alert" className="-mt-1 rounded bg-brick-soft px-2 py-1 text-xs font-medium text-brick" data-testid="output-file-gone">
+            {files.gone.get(item.id)}
+          </p>
+        )}
         <footer className="flex flex-wrap items-center justify-between gap-3 text-xs text-ink-soft">
           <span className="figure">
             {item.fileName}
@@ -91,9 +100,11 @@ export function OutputLook({
             <a
               href={fileUrl}
               download={item.fileName ?? undefined}
+              onClick={(event) => files.download(event, item)}
+              aria-busy={files.starting === item.id}
               className="rounded-md border border-paper-300 bg-white px-3 py-1.5 font-medium text-ink hover:border-accent hover:text-accent"
             >
-              Download
+              {files.starting === item.id ? "Starting…" : "Download"}
             </a>
             <Button variant="primary" size="sm" onClick={onClose}>
               Close

@@ -5,10 +5,9 @@ import { cn } from "../../../lib/cn";
 import { fragmentLabel } from "../format";
 import { ThumbImage } from "../../../components/thumb-image";
 import { OutputLook } from "./output-look";
+import { outputFileUrl, useOutputDownload, type OutputDownload } from "./output-download";
 
-/** An output's own file, and its small picture (made once on the server, then cached). */
-export const outputFileUrl = (batchId: string, itemId: string) =>
-  `/api/batches/${encodeURIComponent(batchId)}/items/${encodeURIComponent(itemId)}/file`;
+/** An output's small picture (made once on the server, then cached). */
 const outputThumbUrl = (batchId: string, itemId: string, edge: 320 | 1024 = 320) =>
   `/api/batches/${encodeURIComponent(batchId)}/items/${encodeURIComponent(itemId)}/thumb${edge === 320 ? "" : `?edge=${edge}`}`;
 /** An output that has a picture: made, still the batch's, and not a PDF. */
@@ -43,7 +42,8 @@ const COLUMNS = [
 ] as const;
 
 /** The file made, or why there is none, and any warning: beside the sizes on a wide screen, under them on a narrow one. */
-function Notes({ o, gone, batchId }: { o: BatchItem; gone: boolean; batchId: string }) {
+function Notes({ o, gone, batchId, files }: { o: BatchItem; gone: boolean; batchId: string; files: OutputDownload }) {
+  const missing = files.gone.get(o.id);
   return (
     <>
       {o.fileName && (
@@ -54,6 +54,8 @@ function Notes({ o, gone, batchId }: { o: BatchItem; gone: boolean; batchId: str
             <a
               href={outputFileUrl(batchId, o.id)}
               download={o.fileName}
+              onClick={(event) => files.download(event, o)}
+              aria-busy={files.starting === o.id}
               className="underline decoration-paper-300 underline-offset-2 hover:text-accent hover:decoration-accent"
               aria-label={`Download ${o.fileName}`}
             >
@@ -61,9 +63,15 @@ function Notes({ o, gone, batchId }: { o: BatchItem; gone: boolean; batchId: str
             </a>
           )}
           {o.bytes !== null && <span className="text-ink-muted"> · {formatBytes(o.bytes)}</span>}
+          {files.starting === o.id && <span className="text-ink-muted"> · starting…</span>}
         </span>
       )}
       {gone && <span className="text-ink-muted">Made again by a later run; this file was removed.</span>}
+      {missing && !gone && (
+        <p className="mt-0.5 font-medium text-brick" data-testid="output-file-gone">
+          {missing}
+        </p>
+      )}
       {o.error && (
         <p role="alert" className="mt-0.5 font-medium text-brick">
           {o.error}
@@ -81,6 +89,7 @@ function Notes({ o, gone, batchId }: { o: BatchItem; gone: boolean; batchId: str
 export function OutputsTable({ batchId, items, replaced }: { batchId: string; items: BatchItem[]; replaced?: ReadonlySet<string> }) {
   // The output looked at in the larger view, and the others it steps through.
   const [looking, setLooking] = useState<string | null>(null);
+  const files = useOutputDownload(batchId);
   const pictured = items.filter((o) => hasPicture(o, replaced?.has(o.id) ?? false));
   const at = pictured.findIndex((o) => o.id === looking);
   const step = (by: 1 | -1) => {
@@ -94,6 +103,7 @@ export function OutputsTable({ batchId, items, replaced }: { batchId: string; it
           item={pictured[at]!}
           pictureUrl={outputThumbUrl(batchId, pictured[at]!.id, 1024)}
           fileUrl={outputFileUrl(batchId, pictured[at]!.id)}
+          files={files}
           position={`${at + 1} of ${pictured.length}`}
           onStep={step}
           onClose={() => {
@@ -202,7 +212,7 @@ export function OutputsTable({ batchId, items, replaced }: { batchId: string; it
                     {print && o.effectiveDpi !== null ? Math.round(o.effectiveDpi) : "–"}
                   </td>
                   <td className="hidden px-5 py-2.5 text-xs xl:table-cell">
-                    <Notes o={o} gone={gone} batchId={batchId} />
+                    <Notes o={o} gone={gone} batchId={batchId} files={files} />
                   </td>
                 </tr>
                 {hasNotes && (
@@ -211,7 +221,7 @@ export function OutputsTable({ batchId, items, replaced }: { batchId: string; it
                     className={cn("border-b border-paper-200 text-xs xl:hidden", o.state === "failed" && "bg-brick-soft/30")}
                   >
                     <td colSpan={COLUMNS.length - 1} className="px-5 pt-0 pb-2.5">
-                      <Notes o={o} gone={gone} batchId={batchId} />
+                      <Notes o={o} gone={gone} batchId={batchId} files={files} />
                     </td>
                   </tr>
                 )}

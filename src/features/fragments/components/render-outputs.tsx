@@ -1,7 +1,11 @@
+import { useState, type MouseEvent } from "react";
 import type { Fragment } from "../../../../shared/schemas/fragments";
 import { formatBytes, formatNumber } from "../../../../shared/units";
 import { Spinner } from "../../../components/button";
+import { ApiError } from "../../../lib/api-client";
+import { checkedDownload, isPlainClick } from "../../../lib/checked-download";
 import { cn } from "../../../lib/cn";
+import { toast } from "../../../lib/toast";
 import { fragmentOutputUrl } from "../api/get-fragment";
 import { OUTPUT_LABELS, outputPhysical } from "../format";
 
@@ -48,9 +52,22 @@ export function RenderState({ fragment }: { fragment: Pick<Fragment, "renderStat
   );
 }
 
+type Output = Fragment["outputs"][number];
+
+/**
+ * What to say when a fragment's master or web copy is gone from the library: which file, and how
+ * to get it back. A render of the same revision finds its records and makes nothing, so the way is
+ * to delete the piece's files (an admin, on its page) and approve it again.
+ */
+export function goneOutputMessage(o: Pick<Output, "kind" | "fileName">): string {
+  return `The ${OUTPUT_LABELS[o.kind].toLowerCase()} ${o.fileName} is no longer in the library: its file was removed after it was rendered. To render it anew, an admin deletes the piece's files (Delete its master and copies…, on its fragment page) and approves it again.`;
+}
+
 /**
  * The files made for a fragment: pixel size, physical size at its DPI, bit depth and file size,
- * each with a download link. `compact` is the side panel's one-line-per-file form.
+ * each with a download link. `compact` is the side panel's one-line-per-file form. A download asks
+ * for the file's first byte before the browser's download starts, so a file gone from the library
+ * says so (a toast, and on its line) instead of ending as a failed download.
  */
 export function OutputList({
   fragment,
@@ -60,7 +77,27 @@ export function OutputList({
   compact?: boolean;
 }) {
   const outputs = [...fragment.outputs].sort((a, b) => (a.kind === "master" ? -1 : b.kind === "master" ? 1 : 0));
+  const [starting, setStarting] = useState<Output["kind"] | null>(null);
+  // The files found gone, by kind and file name (a new render names a new file).
+  const [gone, setGone] = useState<ReadonlySet<string>>(new Set());
   if (outputs.length === 0) return null;
+  const goneKey = (o: Output) => `${fragment.id}|${o.kind}|${o.fileName}|${o.bytes}`;
+  const download = (event: MouseEvent<HTMLAnchorElement>, o: Output) => {
+    if (!isPlainClick(event)) return;
+    event.preventDefault();
+    if (starting === o.kind) return;
+    setStarting(o.kind);
+    const key = goneKey(o);
+    checkedDownload(fragmentOutputUrl(fragment.id, o.kind), o.fileName)
+      .then(() => setGone((now) => (now.has(key) ? new Set([...now].filter((k) => k !== key)) : now)))
+      .catch((err: unknown) => {
+        if (err instanceof ApiError && err.status === 404) {
+          setGone((now) => new Set(now).add(key));
+          toast.error(goneOutputMessage(o));
+        } else toast.error(err instanceof Error ? err.message : String(err));
+      })
+      .finally(() => setStarting(null));
+  };
   return (
     <ul className={cn("flex flex-col", compact ? "gap-2" : "gap-4")} aria-label="Rendered files">
       {outputs.map((o) => {
@@ -82,12 +119,19 @@ export function OutputList({
               <a
                 href={fragmentOutputUrl(fragment.id, o.kind)}
                 download={o.fileName}
+                onClick={(event) => download(event, o)}
+                aria-busy={starting === o.kind}
                 className="text-sm font-medium text-accent underline underline-offset-2 hover:text-accent-strong"
                 aria-label={`Download the ${OUTPUT_LABELS[o.kind].toLowerCase()} (${o.fileName})`}
               >
-                Download
+                {starting === o.kind ? "Starting…" : "Download"}
               </a>
             </div>
+            {gone.has(goneKey(o)) && (
+              <p className="mt-1 text-xs font-medium text-brick" data-testid={`${o.kind}-gone`}>
+                Gone from the library: {o.fileName} was removed after it was rendered.
+              </p>
+            )}
             <p className="figure mt-1 text-xs text-ink-soft" data-testid={`${o.kind}-size`}>
               {o.width} × {o.height} px · {formatNumber(o.dpi, 1)} DPI
             </p>

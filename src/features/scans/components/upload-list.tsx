@@ -19,19 +19,26 @@ function DuplicateOf({ id }: { id: string }) {
 
 /**
  * An added file's line follows its scan as the worker gets to it (the live feed refreshes the
- * scan), so it never still says "Queued" beside a table that says the scan is ready.
+ * scan), so it never still says "Queued" beside a table that says the scan is ready. A scan that
+ * failed says why on the line itself; "open" still leads to its page.
  */
 function Added({ scanId }: { scanId: string }) {
   const { data } = useScan(scanId);
   const status = data?.status ?? "queued";
   const toReview = status === "ready" ? (data?.fragments.proposed ?? 0) : 0;
+  const reason = status === "failed" ? data?.error : null;
   return (
-    <span className={status === "failed" ? "text-brick" : "text-accent-strong"}>
+    <span className={cn("block", status === "failed" ? "text-brick" : "text-accent-strong")}>
       {STATUS_LABELS[status]}
       {toReview > 0 && `, ${toReview} to review`} ·{" "}
       <Link to={paths.scan(scanId)} className="underline underline-offset-2 hover:text-accent">
         open
       </Link>
+      {reason && (
+        <span className="mt-0.5 block text-xs [overflow-wrap:anywhere]" data-testid="failure-reason">
+          {reason}
+        </span>
+      )}
     </span>
   );
 }
