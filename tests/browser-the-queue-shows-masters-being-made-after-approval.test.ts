@@ -1,4 +1,5 @@
 import type { ChildProcess } from "node:child_process";
+import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import type supertest from "supertest";
 import { killProcesses, spawnProcess, startStack, userAgent, waitFor, type Stack } from "./helpers/stack";
@@ -12,6 +13,9 @@ import type { QueueSummary } from "../shared/schemas/queue";
  * the Queue's "Working on now" shows with the scan's count of pieces made, live, until it is done.
  * A worker process holds each render 4 s (PLATEN_TEST_RENDER_DELAY_MS) so the work is seen.
  */
+
+/** Set PLATEN_SHOTS to a folder to keep a screenshot of the Queue while the pieces are made. */
+const shots = process.env.PLATEN_SHOTS;
 
 let stack: Stack;
 let operator: supertest.Agent;
@@ -60,6 +64,7 @@ describe("the queue while approved pieces are made", () => {
     expect(await row.textContent()).toMatch(/0 of 3.*Making masters and web copies of approved pieces: 0 made, 3 to go/);
     const bar = row.getByRole("progressbar", { name: "Masters and web copies made for three-on-the-bed.tif" });
     expect(await bar.getAttribute("aria-valuenow")).toBe("0");
+    if (shots) await page.screenshot({ path: path.join(shots, "queue-making-files.png"), fullPage: true });
 
     // Once all three are made the row goes, live, and the queue agrees with the pieces.
     await expect.poll(() => row.count(), { timeout: 60_000 }).toBe(0);
