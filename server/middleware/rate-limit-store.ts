@@ -1,5 +1,6 @@
 import type pg from "pg";
-import type { ClientRateLimitInfo, Options, Store } from "express-rate-limit";
+import type { Request } from "express";
+import type { ClientRateLimitInfo, Options, RateLimitInfo, Store } from "express-rate-limit";
 
 /**
  * A fixed-window count of attempts in PostgreSQL (table rate_limit_hits), so every server process
@@ -66,4 +67,22 @@ export class PgRateLimitStore implements Store {
   async resetAll(): Promise<void> {
     await this.pool.query("delete from rate_limit_hits where name = $1", [this.prefix]);
   }
+}
+
+/**
+ * How long a refused person has to wait, for the limit's message: the time left in the window
+ * that refused them (`resetTime`, as the store counted it), rounded up to whole minutes so the
+ * wait said is never shorter than the real one. Without a reset time, the whole window.
+ */
+export function waitLeft(resetTime: Date | undefined, windowMs: number, now = Date.now()): string {
+  const left = resetTime ? Math.max(0, resetTime.getTime() - now) : windowMs;
+  const minutes = Math.max(1, Math.ceil(left / 60_000));
+  if (minutes === 1) return "1 minute";
+  if (minutes < 120) return `${minutes} minutes`;
+  return `${Math.ceil(minutes / 60)} hours`;
+}
+
+/** The time left in the window that refused `req` (express-rate-limit puts its count on the request). */
+export function waitLeftFor(req: Request, windowMs: number): string {
+  return waitLeft((req as Request & { rateLimit?: RateLimitInfo }).rateLimit?.resetTime, windowMs);
 }

@@ -1,6 +1,6 @@
-import { Router, type RequestHandler } from "express";
+import { Router, type Request, type RequestHandler } from "express";
 import { ipKeyGenerator, rateLimit } from "express-rate-limit";
-import { PgRateLimitStore } from "../../middleware/rate-limit-store";
+import { PgRateLimitStore, waitLeftFor } from "../../middleware/rate-limit-store";
 import { API } from "../../../shared/api";
 import { RESET_REQUESTED_MESSAGE } from "../../../shared/schemas/mail";
 import { changePasswordBody } from "../../../shared/schemas/account";
@@ -24,8 +24,8 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
   const { db } = deps.database;
   const cfg = deps.config;
 
-  const refuse = (_req: unknown, _res: unknown, next: (err: Error) => void) =>
-    next(tooManyRequests("Too many requests for a new password. Wait 15 minutes and try again."));
+  const refuse = (req: Request, _res: unknown, next: (err: Error) => void) =>
+    next(tooManyRequests(`Too many requests for a new password. Wait ${waitLeftFor(req, RESET_WINDOW_MS)} and try again.`));
   // Per address and e-mail (one mailbox is not flooded), and per address alone (no spraying).
   const perEmail = rateLimit({
     store: new PgRateLimitStore(deps.database.pool, "reset-email"),
@@ -93,9 +93,12 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
     legacyHeaders: false,
     skipSuccessfulRequests: true,
     keyGenerator: (req) => `password-change|${req.user?.id ?? ipKeyGenerator(req.ip ?? "")}`,
-    handler: (_req, _res, next) => {
-      const minutes = Math.round(cfg.loginWindowMs / 60_000);
-      next(tooManyRequests(`Too many wrong current passwords. Wait ${minutes} minutes and try again, or choose a new password by e-mail.`));
+    handler: (req, _res, next) => {
+      next(
+        tooManyRequests(
+          `Too many wrong current passwords. Wait ${waitLeftFor(req, cfg.loginWindowMs)} and try again, or choose a new password by e-mail.`,
+        ),
+      );
     },
   });
   handle(

@@ -1,6 +1,6 @@
 import { Router, type RequestHandler } from "express";
 import { ipKeyGenerator, rateLimit } from "express-rate-limit";
-import { PgRateLimitStore } from "../../middleware/rate-limit-store";
+import { PgRateLimitStore, waitLeftFor } from "../../middleware/rate-limit-store";
 import type passport from "passport";
 import type pg from "pg";
 import { API } from "../../../shared/api";
@@ -44,9 +44,8 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
     // Written out here (not through signInLimitKey): express-rate-limit checks that the generator
     // itself calls ipKeyGenerator. The two must make the same key.
     keyGenerator: (req) => `${ipKeyGenerator(req.ip ?? "")}|${String((req.body as { email?: unknown })?.email ?? "").toLowerCase()}`,
-    handler: (_req, _res, next) => {
-      const minutes = Math.round(cfg.loginWindowMs / 60_000);
-      next(tooManyRequests(`Too many sign-in attempts. Wait ${minutes} minutes and try again.`));
+    handler: (req, _res, next) => {
+      next(tooManyRequests(`Too many sign-in attempts. Wait ${waitLeftFor(req, cfg.loginWindowMs)} and try again.`));
     },
   });
 
@@ -60,9 +59,8 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
     legacyHeaders: false,
     skipSuccessfulRequests: true,
     keyGenerator: (req) => ipKeyGenerator(req.ip ?? ""),
-    handler: (_req, _res, next) => {
-      const minutes = Math.round(cfg.loginWindowMs / 60_000);
-      next(tooManyRequests(`Too many sign-in attempts from this address. Wait ${minutes} minutes and try again.`));
+    handler: (req, _res, next) => {
+      next(tooManyRequests(`Too many sign-in attempts from this address. Wait ${waitLeftFor(req, cfg.loginWindowMs)} and try again.`));
     },
   });
 
