@@ -200,12 +200,19 @@ describe("in the browser", () => {
     await page.close();
   });
 
-  it("forgot password: the sign-in page links to it, and the answer is the same for anyone", async () => {
+  it("forgot password: the sign-in page links to it with the address typed, and the answer is the same for anyone", async () => {
     const page = await signedOutPage(browser.context, stack.url);
     await page.goto(`${stack.url}/sign-in`);
+    // Nothing typed yet: the page opens with an empty address.
     await page.getByRole("link", { name: "Forgot your password?" }).click();
-    await page.waitForURL((u) => u.pathname === "/forgot-password");
-    await page.getByLabel("E-mail").fill("framer@test.example");
+    await page.waitForURL((u) => u.pathname === "/forgot-password" && u.search === "");
+    expect(await page.getByLabel("E-mail").inputValue()).toBe("");
+    // The address typed on the sign-in page goes along, so it is not typed twice.
+    await page.goto(`${stack.url}/sign-in`);
+    await page.getByLabel("E-mail").fill(" framer@test.example ");
+    await page.getByRole("link", { name: "Forgot your password?" }).click();
+    await page.waitForURL((u) => u.pathname === "/forgot-password" && u.searchParams.get("email") === "framer@test.example");
+    expect(await page.getByLabel("E-mail").inputValue()).toBe("framer@test.example");
     await page.getByRole("button", { name: "Send me a link" }).click();
     await page.getByText("Check your mail").waitFor();
     await shot(page, "forgot-password-sent");

@@ -1,7 +1,7 @@
 import { useEffect, useState } from "react";
-import { Link, Navigate, useNavigate, useSearchParams } from "react-router-dom";
+import { Navigate, useNavigate, useSearchParams } from "react-router-dom";
 import { BrandMark } from "../../components/brand-mark";
-import { paths, safeNext } from "../../config/paths";
+import { safeNext } from "../../config/paths";
 import { clearSignedOut, justSignedOut } from "../../lib/signed-out";
 import { useMe } from "../../features/auth/api/get-me";
 import { SignInForm } from "../../features/auth/components/sign-in-form";
@@ -39,11 +39,6 @@ export function SignInRoute() {
         )}
         <div className="rounded-xl border border-paper-300 bg-paper-50 px-7 py-7 shadow-sheet">
           <SignInForm onSignedIn={() => navigate(next, { replace: true })} />
-          <p className="mt-5 text-center text-sm">
-            <Link to={paths.forgotPassword} className="font-medium text-accent hover:underline">
-              Forgot your password?
-            </Link>
-          </p>
         </div>
         {params.get("next") && <p className="mt-4 text-center text-xs text-ink-muted">You will return to the page you were on.</p>}
       </div>

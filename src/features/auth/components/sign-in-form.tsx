@@ -11,6 +11,10 @@ import { useLogin } from "../api/login";
 import { useFocusAfterRefusal } from "../../../lib/use-focus-after-refusal";
 
 type Field = "email" | "password";
+
+/** The page to ask for a new password, with the address typed so far (when there is one). */
+const forgotPasswordHref = (email: string) =>
+  email.trim() ? `${paths.forgotPassword}?email=${encodeURIComponent(email.trim())}` : paths.forgotPassword;
 const FIELDS = ["email", "password"] as const;
 
 export function SignInForm({ onSignedIn }: { onSignedIn: (user: SessionUser) => void }) {
@@ -59,7 +63,7 @@ export function SignInForm({ onSignedIn }: { onSignedIn: (user: SessionUser) => 
             <p className="mt-1.5">
               Or{" "}
               <Link
-                to={`${paths.forgotPassword}?email=${encodeURIComponent(email.trim())}`}
+                to={forgotPasswordHref(email)}
                 className="font-medium text-accent underline underline-offset-2 hover:text-accent-strong"
               >
                 choose a new password by e-mail
@@ -94,6 +98,12 @@ export function SignInForm({ onSignedIn }: { onSignedIn: (user: SessionUser) => 
       <Button type="submit" variant="primary" busy={busy} className="mt-1 w-full">
         {busy ? "Signing in…" : "Sign in"}
       </Button>
+      <p className="text-center text-sm">
+        {/* The address typed so far goes along: nobody types it twice. */}
+        <Link to={forgotPasswordHref(email)} className="font-medium text-accent hover:underline">
+          Forgot your password?
+        </Link>
+      </p>
     </form>
   );
 }
