@@ -13,9 +13,11 @@ import { useRetryBatch } from "../api/retry-batch";
 import { fragmentLabel, plural } from "../format";
 import { BatchProgressBlock, BatchStateBadge } from "./batch-progress";
 import { DownloadPanel } from "./download-panel";
+import { OutputFilterBar } from "./output-filter-bar";
 import { OutputsTable } from "./outputs-table";
 import { RerunNote } from "./rerun-note";
 import { RerunPanel } from "./rerun-panel";
+import { FILTER_BAR_FROM, useOutputFilter } from "./use-output-filter";
 
 /** A batch: its progress, failures with their messages, every output, downloads and a re-run. */
 export function BatchReport({ report, presets, back }: { report: Report; presets: PresetSummary[]; back: React.ReactNode }) {
@@ -35,7 +37,11 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
   const fragments = fragmentIds.length;
   // A replacing re-run removes the old files once the new ones are made: such an output is done
   // but has no file any more, and the zip leaves it out.
-  const replaced = new Set(batch.kind === "recipe" ? [] : items.filter((i) => i.state === "done" && i.fileName === null).map((i) => i.id));
+  const replaced = useMemo(
+    () => new Set(batch.kind === "recipe" ? [] : items.filter((i) => i.state === "done" && i.fileName === null).map((i) => i.id)),
+    [items, batch.kind],
+  );
+  const outputs = useOutputFilter(items, replaced);
   const files = items.filter((i) => i.state === "done" && i.fileName !== null).length;
   const heldFiles = useMemo(() => {
     const byPreset = new Map<string, number>();
@@ -125,11 +131,21 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
                 ))}
                 {failed.length > 8 && <li>…and {failed.length - 8} more in the table below.</li>}
               </ul>
+              {items.length >= FILTER_BAR_FROM && (
+                <ShowOnly onClick={() => outputs.setFilter({ preset: undefined, state: "failed", warned: false })}>
+                  Show only the failed outputs
+                </ShowOnly>
+              )}
             </Notice>
           )}
           {warned.length > 0 && (
             <Notice tone="caution" title={`${plural(warned.length, "output")} with a warning`}>
               <span className="text-xs">Marked in the table below, for example: {warned[0]!.warnings[0]}</span>
+              {items.length >= FILTER_BAR_FROM && (
+                <ShowOnly onClick={() => outputs.setFilter({ preset: undefined, state: undefined, warned: true })}>
+                  Show only the outputs with a warning
+                </ShowOnly>
+              )}
               {warned.some((o) => o.presetKind === "print" && o.effectiveDpi !== null) && (
                 // Saying "may look soft" alone leaves the person to guess what would help.
                 <span className="mt-1.5 block text-xs" data-testid="soft-print-advice">
@@ -166,8 +182,44 @@ export function BatchReport({ report, presets, back }: { report: Report; presets
           Each file name downloads that file. Pieces cut from printed publications may still be under copyright: check rights and licences
           under local law before selling or publishing them.
         </p>
-        <OutputsTable batchId={batch.id} items={items} replaced={replaced} />
+        {(items.length >= FILTER_BAR_FROM || outputs.active) && (
+          <OutputFilterBar
+            filter={outputs.filter}
+            counts={outputs.counts}
+            shown={outputs.shown.length}
+            total={items.length}
+            active={outputs.active}
+            onChange={outputs.setFilter}
+            onClear={outputs.clear}
+          />
+        )}
+        {outputs.shown.length === 0 && outputs.active ? (
+          <p className="px-5 py-6 text-sm text-ink-muted">
+            None of this batch's outputs match these choices.{" "}
+            <button type="button" onClick={outputs.clear} className="font-medium text-accent underline underline-offset-2">
+              Show all {plural(items.length, "output")}
+            </button>
+          </p>
+        ) : (
+          <OutputsTable batchId={batch.id} items={outputs.shown} replaced={replaced} />
+        )}
       </Panel>
     </>
+  );
+}
+
+/** From a notice to the table narrowed to what it speaks of. */
+function ShowOnly({ onClick, children }: { onClick: () => void; children: React.ReactNode }) {
+  return (
+    <button
+      type="button"
+      onClick={() => {
+        onClick();
+        requestAnimationFrame(() => document.getElementById("batch-outputs")?.scrollIntoView({ block: "start" }));
+      }}
+      className="mt-1.5 block text-xs font-medium underline underline-offset-2"
+    >
+      {children}
+    </button>
   );
 }

@@ -6,20 +6,13 @@ import { fragmentLabel } from "../format";
 import { ThumbImage } from "../../../components/thumb-image";
 import { OutputLook } from "./output-look";
 import { outputFileUrl, useOutputDownload, type OutputDownload } from "./output-download";
+import { OUTPUT_STATE_TEXT } from "./use-output-filter";
 
 /** An output's small picture (made once on the server, then cached). */
 const outputThumbUrl = (batchId: string, itemId: string, edge: 320 | 1024 = 320) =>
   `/api/batches/${encodeURIComponent(batchId)}/items/${encodeURIComponent(itemId)}/thumb${edge === 320 ? "" : `?edge=${edge}`}`;
 /** An output that has a picture: made, still the batch's, and not a PDF. */
 const hasPicture = (o: BatchItem, gone: boolean) => o.state === "done" && Boolean(o.fileName) && !gone && !o.fileName!.endsWith(".pdf");
-
-const STATE_TEXT: Record<BatchItem["state"], string> = {
-  queued: "Waiting",
-  running: "Being made",
-  done: "Done",
-  failed: "Failed",
-  cancelled: "Cancelled",
-};
 
 const STATE_TONE: Record<BatchItem["state"], string> = {
   queued: "text-ink-muted",
@@ -180,7 +173,7 @@ export function OutputsTable({ batchId, items, replaced }: { batchId: string; it
                   </td>
                   <td className="px-3 py-2.5 whitespace-nowrap text-ink-soft">{o.preset}</td>
                   <td className={cn("px-3 py-2.5 text-xs whitespace-nowrap", gone ? "text-ink-muted" : STATE_TONE[o.state])}>
-                    {gone ? "Replaced" : STATE_TEXT[o.state]}
+                    {OUTPUT_STATE_TEXT[gone ? "replaced" : o.state]}
                   </td>
                   <td className="figure px-3 py-2.5 text-right text-xs whitespace-nowrap text-ink-soft">
                     {o.pixelWidth && o.pixelHeight ? `${o.pixelWidth} × ${o.pixelHeight}` : "–"}
