@@ -8,6 +8,7 @@ import { fakeS3Env, startFakeS3, type FakeS3 } from "./lib/fake-s3";
 import { cpuShares, formatCpuList } from "../shared/cpu-list";
 import { allowedCpus } from "../worker/cpu-affinity";
 import { buildClient } from "./lib/build-client";
+import { shownPath, signInAdvice } from "../server/services/bootstrap";
 
 /**
  * `npm start`: the private database, migrations, the first admin and the demo studio, the client
@@ -43,7 +44,7 @@ if (!cfg.mail.host && cfg.env !== "production") {
     process.exit(1);
   }
   Object.assign(process.env, { PLATEN_SMTP_HOST: mailFake.host, PLATEN_SMTP_PORT: String(mailFake.port), PLATEN_MAILBOX_DIR: dir });
-  mailLine = `  E-mail stays on this machine: a local mail fake on ${mailFake.host}:${mailFake.port} keeps it in ${path.relative(root, dir)} (Mailbox screen)`;
+  mailLine = `  E-mail stays on this machine: a local mail fake on ${mailFake.host}:${mailFake.port} keeps it in ${shownPath(root, dir)} (Mailbox screen)`;
 } else if (!cfg.mail.host) {
   mailLine =
     "  E-mail is OFF: set PLATEN_SMTP_HOST (and PLATEN_SMTP_PORT, PLATEN_SMTP_USER, PLATEN_SMTP_PASSWORD, PLATEN_MAIL_FROM); invitations, password resets and notices are refused until then.";
@@ -54,7 +55,7 @@ if (!cfg.mail.host && cfg.env !== "production") {
 let s3Fake: FakeS3 | undefined;
 const s3 = cfg.storage.s3;
 let storageLine = s3
-  ? `  Library: s3://${s3.bucket}/${s3.prefix}${s3.endpoint ? ` at ${s3.endpoint}` : ""} (local cache ${path.relative(root, cfg.storage.cacheDir)})`
+  ? `  Library: s3://${s3.bucket}/${s3.prefix}${s3.endpoint ? ` at ${s3.endpoint}` : ""} (local cache ${shownPath(root, cfg.storage.cacheDir)})`
   : `  Library: ${cfg.libraryDir}`;
 if (cfg.storage.kind === "s3" && s3 && !s3.endpoint && cfg.env !== "production") {
   const directory = path.join(cfg.dataDir, "s3");
@@ -67,7 +68,7 @@ if (cfg.storage.kind === "s3" && s3 && !s3.endpoint && cfg.env !== "production")
     process.exit(1);
   }
   Object.assign(process.env, fakeS3Env(s3Fake, s3.bucket));
-  storageLine = `  Library: s3://${s3.bucket}/${s3.prefix} on a local S3 fake at ${s3Fake.endpoint} (objects in ${path.relative(root, directory)})`;
+  storageLine = `  Library: s3://${s3.bucket}/${s3.prefix} on a local S3 fake at ${s3Fake.endpoint} (objects in ${shownPath(root, directory)})`;
 }
 if (cfg.storage.offsite) storageLine += `\n  Off-site copy of masters: s3://${cfg.storage.offsite.bucket}/${cfg.storage.offsite.prefix}`;
 
@@ -105,9 +106,7 @@ const url = `http://${cfg.host === "0.0.0.0" ? "127.0.0.1" : cfg.host}:${cfg.por
 const lines = [
   "",
   `  Platen is starting at ${url}`,
-  admin
-    ? `  Sign in as ${admin.email} with password ${admin.password}${admin.file ? ` (also saved in ${path.relative(root, admin.file)})` : ""}`
-    : `  Sign in with your account (the first admin's password is in ${path.relative(root, path.join(cfg.dataDir, "first-admin.txt"))} if it was generated).`,
+  ...signInAdvice(admin, cfg, root),
   `  Inbox folder: ${cfg.inboxDir}${demoFiles.length ? ` — ${demoFiles.length} demo scans dropped there` : ""}`,
   mailLine,
   storageLine,

@@ -13,6 +13,7 @@ import { getNoticeSettings, updateNoticeSettings } from "../../services/notice-s
 import { presentSessionUser } from "../../presenters/user";
 import { signInAs } from "../invitations";
 import { forgetFailedSignIns } from "../auth";
+import { forgetFirstAdminPassword } from "../../services/bootstrap";
 import type { AppDeps } from "../../app";
 import type { Mailer } from "../../mail/mailer";
 
@@ -69,6 +70,7 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
   handle(router, API.passwordResetComplete, async ({ body, req }) => {
     const user = await completePasswordReset(db, cfg, body.token, body.password);
     await forgetFailedSignIns(deps.database.pool, req.ip, user.email);
+    if (forgetFirstAdminPassword(cfg, user.email)) req.log.info({ user: user.id }, "generated first-admin password file removed");
     await signInAs(req, user);
     req.log.info({ user: user.id }, "password reset; other sessions ended");
     return { user: presentSessionUser(user) };
@@ -106,6 +108,7 @@ export function accountRouter(deps: AppDeps & { mailer: Mailer }): Router {
     API.passwordChange,
     async ({ body, req, user }) => {
       const { user: row, signedOutElsewhere } = await changeOwnPassword(db, cfg, user.id, req.sessionID, body);
+      if (forgetFirstAdminPassword(cfg, row.email)) req.log.info({ user: row.id }, "generated first-admin password file removed");
       // A fresh session id for this browser too, as at sign-in: one seen before the change no longer works.
       await signInAs(req, row);
       req.log.info({ user: row.id, signedOutElsewhere }, "password changed; other sessions ended");
