@@ -1,6 +1,6 @@
-import { eq, sql } from "drizzle-orm";
+import { desc, eq, sql } from "drizzle-orm";
 import type { Db } from "../db";
-import { studio } from "../db/schema";
+import { auditEvents, studio, users } from "../db/schema";
 import type { Config } from "../config";
 import type { LiveEvent } from "../../shared/schemas/queue";
 import type { StudioSettings, UpdateStudioBody } from "../../shared/schemas/studio";
@@ -32,14 +32,32 @@ export async function installationId(db: Db): Promise<string | null> {
 }
 
 export async function getStudioSettings(db: Db, config: Pick<Config, "defaultDpi">): Promise<StudioSettings> {
-  const row = await studioRow(db);
+  const [row, saved] = await Promise.all([studioRow(db), lastSaved(db)]);
   return {
     name: row?.name ?? "Platen studio",
     defaultDpi: row?.defaultDpi ?? config.defaultDpi,
     creator: row?.creator ?? null,
     copyright: row?.copyright ?? null,
     updatedAt: (row?.updatedAt ?? new Date(0)).toISOString(),
+    saved,
   };
+}
+
+/**
+ * When an admin last saved a change to these settings, and who: from the audit trail, which
+ * records each save that changed something. Null while they are as first start wrote them (the
+ * row's own time also moves with, say, a new default recipe, which is not a save of this form).
+ */
+async function lastSaved(db: Db): Promise<StudioSettings["saved"]> {
+  const [last] = await db
+    .select({ at: auditEvents.at, email: auditEvents.actorEmail, name: users.name })
+    .from(auditEvents)
+    .leftJoin(users, eq(users.id, auditEvents.actorId))
+    .where(eq(auditEvents.action, "studio.settings"))
+    .orderBy(desc(auditEvents.id))
+    .limit(1);
+  if (!last) return null;
+  return { at: last.at.toISOString(), by: last.name ?? last.email ?? null };
 }
 
 /** The rights fields every master and copy carries (worker/pipeline/render/rights.ts writes them). */

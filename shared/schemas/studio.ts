@@ -21,6 +21,8 @@ export const studioSettingsSchema = z.object({
   creator: z.string().nullable(),
   copyright: z.string().nullable(),
   updatedAt: z.string(),
+  /** The last save that changed these settings and who made it (null: as first start wrote them). */
+  saved: z.object({ at: z.string(), by: z.string().nullable() }).nullable(),
 });
 export type StudioSettings = z.infer<typeof studioSettingsSchema>;
 export const studioSettingsResponse = z.object({ settings: studioSettingsSchema });

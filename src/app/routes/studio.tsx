@@ -12,6 +12,7 @@ import { MastersRightsPanel } from "../../features/studio/components/masters-rig
 import { useHasRole, useSessionUser } from "../../lib/authorization";
 import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../lib/form-errors";
 import { toast } from "../../lib/toast";
+import { useFocusAfterRefusal } from "../../lib/use-focus-after-refusal";
 
 export function StudioRoute() {
   const me = useSessionUser();
@@ -71,6 +72,9 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
   const [formError, setFormError] = useState<string | null>(null);
 
   const form = { name, dpi, creator, copyright };
+  const formRef = useRef<HTMLFormElement>(null);
+  // A refused save puts the caret in the first field it names, its text selected.
+  const refused = useFocusAfterRefusal(formRef, update.isPending);
   const changed = !sameAs(saved, form);
 
   const adopt = (s: StudioSettings) => {
@@ -97,6 +101,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
     });
     if (!parsed.success) {
       setErrors(fieldErrorsFrom<Field>(parsed.error));
+      refused();
       return;
     }
     setErrors({});
@@ -114,6 +119,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
         const { field, message } = serverErrorFor(error, FIELDS);
         if (field) setErrors({ [field]: message });
         else setFormError(message);
+        refused();
       },
     });
   };
@@ -136,7 +142,7 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
 
   return (
     <div className="flex flex-col gap-6">
-      <form onSubmit={submit} noValidate aria-label="Studio settings" className="flex max-w-5xl flex-col gap-6">
+      <form ref={formRef} onSubmit={submit} noValidate aria-label="Studio settings" className="flex max-w-5xl flex-col gap-6">
         {formError && <Notice tone="error">{formError}</Notice>}
         {overtaken && (
           <div
@@ -231,12 +237,13 @@ function StudioForm({ latest }: { latest: StudioSettings }) {
           <span ref={savedNote} tabIndex={-1} className="text-xs text-ink-muted outline-none" data-testid="studio-saved">
             {changed ? (
               "Not saved yet."
-            ) : saved.updatedAt.startsWith("1970") ? (
-              ""
-            ) : (
+            ) : saved.saved ? (
               <>
-                Saved <Ago iso={saved.updatedAt} />.
+                Saved <Ago iso={saved.saved.at} />
+                {saved.saved.by ? ` by ${saved.saved.by}` : ""}.
               </>
+            ) : (
+              "Not changed since the studio was set up."
             )}
           </span>
         </div>
