@@ -170,6 +170,14 @@ export const API = {
     mutates: true,
     params: idParams,
   }),
+  // Every approved piece of the scan whose master and web copy could not be made, queued again at once.
+  scansRenderRetry: route({
+    method: "POST",
+    path: "/api/scans/:id/render-retry",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+  }),
   scansResplit: route({
     method: "POST",
     path: "/api/scans/:id/resplit",
@@ -197,6 +205,14 @@ export const API = {
   fragmentsReset: route({
     method: "POST",
     path: "/api/fragments/:id/reset",
+    access: "operator",
+    mutates: true,
+    params: idParams,
+  }),
+  // A failed render of an approved piece, queued again (once: a piece already queued is refused).
+  fragmentsRenderRetry: route({
+    method: "POST",
+    path: "/api/fragments/:id/render-retry",
     access: "operator",
     mutates: true,
     params: idParams,

@@ -126,6 +126,10 @@ function send(agent: supertest.Agent | supertest.Agent, name: RouteName): supert
     case "mastersRightsWrite":
       // Rights the studio does not have: refused (409) past the role check, queueing nothing.
       return req.send({ creator: "Nobody by this name", copyright: null });
+    case "fragmentsRenderRetry":
+    case "scansRenderRetry":
+      // No render has failed here: refused (409) past the role check, queueing nothing.
+      return req;
     case "fragmentsFilesDelete":
       // Shown no files: refused (409) past the role check, deleting nothing.
       return req.query({ upTo: 0 });
@@ -214,6 +218,21 @@ describe("the role matrix over every route that changes data", () => {
       });
     }
   }
+
+  it("a failed render is tried again by operators and admins; one that has not failed is refused with 409, a bad id with 400", async () => {
+    expect([API.fragmentsRenderRetry.access, API.scansRenderRetry.access]).toEqual(["operator", "operator"]);
+    const piece = await agents.operator.post(`/api/fragments/${fragmentIds[0]}/render-retry`);
+    expect(piece.status).toBe(409);
+    expect(piece.body.error.message).toMatch(
+      /^Only an approved piece is rendered; fragment 1 of failed-one\.tif( \(.+\))? is still to review\.$/,
+    );
+    const scan = await agents.admin.post(`/api/scans/${failedScanId}/render-retry`);
+    expect(scan.status).toBe(409);
+    expect(scan.body.error.message).toBe("No approved piece of failed-one.tif has a failed render, so there is nothing to try again.");
+    const bad = await agents.operator.post("/api/fragments/not-an-id/render-retry");
+    expect(bad.status).toBe(400);
+    expect(bad.body.error).toEqual({ code: "bad_request", message: "id: Expected an id in UUID form", field: "id" });
+  });
 
   it("viewers read but the users list is for admins only", async () => {
     expect((await agents.viewer.get("/api/scans")).status).toBe(200);

@@ -622,6 +622,43 @@ describe("every change a person makes is on the trail, with who, what and before
     });
   });
 
+  it(`${route("fragmentsRenderRetry")} and ${route("scansRenderRetry")}: failed renders queued again, one piece or a scan's`, async () => {
+    await waitFor(
+      "renders of the scan's pieces to settle",
+      async () => {
+        const { rows: busy } = await stack.database.pool.query(
+          "select 1 from pgboss.job where name in ('fragment-render', 'fragment-rights') and state in ('created', 'retry', 'active') limit 1",
+        );
+        return busy.length === 0;
+      },
+      60_000,
+    );
+    // Not f1, whose own trail is read below.
+    const made = (await fragmentsOf(ids.scan)).filter((f) => f.id !== ids.f1 && f.status === "approved" && f.renderState === "done");
+    expect(made.length).toBeGreaterThanOrEqual(2);
+    const [one, two] = made as [Fragment, Fragment];
+    // As a render's last attempt leaves a piece (the failure itself is another test's).
+    const fail = (id: string) =>
+      stack.database.pool.query("update fragments set render_state = 'failed', render_error = 'The disk is full.' where id = $1", [id]);
+    await fail(one.id);
+    let { rows } = await audited(() => operator.post(`/api/fragments/${one.id}/render-retry`));
+    expect(only(rows, "fragment.render_retry")).toMatchObject({
+      actorId: ids.operator,
+      subjectType: "fragment",
+      subjectId: one.id,
+      before: { renderState: "failed", renderError: "The disk is full." },
+      after: { renderState: "queued" },
+    });
+    await fail(two.id);
+    ({ rows } = await audited(() => operator.post(`/api/scans/${ids.scan}/render-retry`)));
+    expect(only(rows, "fragment.render_retry")).toMatchObject({
+      subjectType: "scan",
+      subjectId: ids.scan,
+      before: { renderState: "failed", renderErrors: { [two.id]: "The disk is full." } },
+      after: { renderState: "queued", fragments: [two.id] },
+    });
+  });
+
   it(`${route("scansRetry")}: a failed scan sent back to the queue`, async () => {
     const [row] = await stack.db
       .insert(scans)
@@ -816,6 +853,7 @@ describe("admins browse and filter the trail", () => {
         "fragment.merge",
         "fragment.unmerge",
         "fragment.approve_remaining",
+        "fragment.render_retry",
         "fragment.delete_files",
       ]),
     );

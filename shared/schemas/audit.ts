@@ -42,6 +42,7 @@ export const AUDIT_ACTIONS = {
   "fragment.merge": "Merged fragments",
   "fragment.unmerge": "Took a merge apart",
   "fragment.approve_remaining": "Approved the remaining fragments",
+  "fragment.render_retry": "Tried a failed render again",
   "recipe.create": "Made a recipe",
   "recipe.version": "Saved a recipe version",
   "recipe.edit": "Renamed or described a recipe",

@@ -110,6 +110,8 @@ export type Fragment = z.infer<typeof fragmentSchema>;
 
 export const fragmentListResponse = z.object({ fragments: z.array(fragmentSchema), total: z.number().optional() });
 export const fragmentResponse = z.object({ fragment: fragmentSchema });
+/** A scan's failed renders queued again: its fragments as they are now, and how many were queued. */
+export const scanRenderRetryResponse = z.object({ fragments: z.array(fragmentSchema), queued: z.number().int() });
 
 const tagSchema = z.string().trim().min(1).max(40);
 

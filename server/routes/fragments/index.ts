@@ -18,6 +18,7 @@ import {
 } from "../../services/fragments";
 import { fragmentThumb } from "../../services/fragment-thumbs";
 import { deleteFragmentFiles, fragmentFilesPlan } from "../../services/fragment-files";
+import { retryFragmentRender, retryScanRenders } from "../../services/render-retry";
 import { getScan, getScanRow } from "../../services/scans";
 import type { AppDeps } from "../../app";
 import { sendOutputThumb, sendStored } from "../send-stored";
@@ -44,6 +45,16 @@ export function fragmentsRouter(deps: AppDeps): Router {
   handle(router, API.scansResplit, async ({ params, body }) => {
     await requestResplit(database, boss, params.id, body.sensitivity);
     return { scan: await getScan(db, params.id) };
+  });
+  handle(router, API.scansRenderRetry, async ({ params, user, req }) => {
+    const result = await retryScanRenders(database, boss, user, params.id);
+    req.log.info({ scanId: params.id, queued: result.queued }, "failed renders queued again");
+    return result;
+  });
+  handle(router, API.fragmentsRenderRetry, async ({ params, user, req }) => {
+    const fragment = await retryFragmentRender(database, boss, user, params.id);
+    req.log.info({ fragmentId: fragment.id }, "failed render queued again");
+    return { fragment };
   });
   handle(router, API.fragmentsList, ({ query, user }) => listFragments(db, user.role, query));
   handle(router, API.fragmentsMerge, async ({ body, user, res }) => {

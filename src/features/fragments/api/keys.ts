@@ -29,4 +29,5 @@ export const fragmentMutationKeys = {
   merge: ["fragments", "merge"] as const,
   unmerge: ["fragments", "unmerge"] as const,
   resplit: ["fragments", "resplit"] as const,
+  retryRender: ["fragments", "retry-render"] as const,
 };

@@ -12,6 +12,8 @@ import { FragmentStatusBadge } from "./fragment-status";
 import { Kbd } from "../../../components/kbd";
 import { OutputList, RenderState } from "./render-outputs";
 import { OffsiteCopy } from "./offsite-copy";
+import { RetryRenderButton } from "./retry-render";
+import { renderRetryable } from "../api/retry-render";
 import type { Review } from "./use-review";
 
 function Row({ term, children }: { term: string; children: ReactNode }) {
@@ -170,7 +172,7 @@ function FragmentDetails({
 
       <section aria-label="Render" className="border-t border-paper-200 px-4 py-3">
         <h3 className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase">Files</h3>
-        <RenderState fragment={f} />
+        <RenderState fragment={f} action={editable && renderRetryable(f) ? <RetryRenderButton fragment={f} /> : null} />
         <div className="mt-2">
           <OutputList fragment={f} compact />
         </div>

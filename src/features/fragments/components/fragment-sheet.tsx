@@ -10,6 +10,8 @@ import { DescriptionForm } from "./description-form";
 import { OutputList, RenderState } from "./render-outputs";
 import { OffsiteCopy } from "./offsite-copy";
 import { DeleteFragmentFiles } from "./delete-files";
+import { RetryRenderButton } from "./retry-render";
+import { renderRetryable } from "../api/retry-render";
 
 function Row({ term, children }: { term: string; children: ReactNode }) {
   return (
@@ -55,7 +57,7 @@ export function FragmentFacts({ fragment: f, editable }: { fragment: Fragment; e
         <h2 id="files-title" className="mb-2 text-xs font-semibold tracking-wider text-ink-muted uppercase">
           Files
         </h2>
-        <RenderState fragment={f} />
+        <RenderState fragment={f} action={editable && renderRetryable(f) ? <RetryRenderButton fragment={f} /> : null} />
         <div className="mt-3">
           <OutputList fragment={f} />
         </div>

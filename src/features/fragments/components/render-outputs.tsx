@@ -1,4 +1,4 @@
-import { useState, type MouseEvent } from "react";
+import { useState, type MouseEvent, type ReactNode } from "react";
 import type { Fragment } from "../../../../shared/schemas/fragments";
 import { formatBytes, formatNumber } from "../../../../shared/units";
 import { Spinner } from "../../../components/button";
@@ -17,8 +17,14 @@ const STATE_TEXT: Record<Fragment["renderState"], string> = {
   failed: "The render failed",
 };
 
-/** Where the render stands, in words with a mark, so it reads without colour. */
-export function RenderState({ fragment }: { fragment: Pick<Fragment, "renderState" | "renderError" | "status"> }) {
+/** Where the render stands, in words with a mark, so it reads without colour; `action` sits beside it. */
+export function RenderState({
+  fragment,
+  action,
+}: {
+  fragment: Pick<Fragment, "renderState" | "renderError" | "status">;
+  action?: ReactNode;
+}) {
   const { renderState, status } = fragment;
   // Files made while it was approved stay when an approval is undone or the piece is rejected;
   // saying only "Rendered" would read as if it were still in the approved work.
@@ -28,10 +34,11 @@ export function RenderState({ fragment }: { fragment: Pick<Fragment, "renderStat
         ? "Rendered while it was approved. Rejected now, so it is left out of the approved work."
         : "Rendered while it was approved. It is back to review, so it is left out of the approved work until it is approved again."
       : null;
-  return (
+  const state = (
     <p
       className={cn(
         "flex items-center gap-2 text-sm",
+        Boolean(action) && "min-w-0 flex-1",
         renderState === "failed" ? "text-brick" : renderState === "done" && !leftOut ? "text-accent-strong" : "text-ink-soft",
       )}
       data-render-state={renderState}
@@ -49,6 +56,13 @@ export function RenderState({ fragment }: { fragment: Pick<Fragment, "renderStat
         {renderState === "failed" && fragment.renderError && `: ${fragment.renderError}`}
       </span>
     </p>
+  );
+  if (!action) return state;
+  return (
+    <div className="flex flex-wrap items-center gap-x-3 gap-y-2">
+      {state}
+      {action}
+    </div>
   );
 }
 

@@ -16,6 +16,7 @@ import { FragmentStrip } from "./fragment-strip";
 import { Kbd } from "../../../components/kbd";
 import { KeyLegend } from "./key-legend";
 import { ResplitControl, ResplitProgress } from "./resplit-control";
+import { FailedRenders } from "./retry-render";
 import { ReviewOverlay } from "./review-overlay";
 import { useLengthUnit } from "./use-length-unit";
 import { useReview } from "./use-review";
@@ -213,6 +214,7 @@ export function ReviewWorkspace({
           {scan.stage}
         </Notice>
       )}
+      <FailedRenders scanId={scan.id} fragments={fragments} />
 
       <div className="grid min-h-0 flex-1 grid-cols-[minmax(0,1fr)_22rem] gap-3">
         <div className="flex min-h-0 min-w-0 flex-col gap-3">
