@@ -45,6 +45,11 @@ export default {
       boxShadow: {
         sheet: "0 1px 0 rgba(43, 40, 35, 0.04), 0 1px 3px rgba(43, 40, 35, 0.06)",
       },
+      // Behind a picture with transparent parts: a quiet two-tone check, so what is transparent
+      // reads as such and not as white paper.
+      backgroundImage: {
+        checks: "conic-gradient(#e4e0d8 25%, #ffffff 0 50%, #e4e0d8 0 75%, #ffffff 0)",
+      },
     },
   },
 } satisfies Config;

@@ -28,20 +28,27 @@ function Row({ term, children }: { term: string; children: ReactNode }) {
  */
 export function FragmentPicture({ fragment }: { fragment: Fragment }) {
   const web = fragment.outputs.find((o) => o.kind === "web");
-  const src =
-    web && fragment.renderState === "done" ? `${fragmentOutputUrl(fragment.id, "web")}?r=${fragment.revision}` : fragmentThumbUrl(fragment);
+  const shown = web && fragment.renderState === "done" ? web : null;
+  const src = shown ? `${fragmentOutputUrl(fragment.id, "web")}?r=${fragment.revision}` : fragmentThumbUrl(fragment);
+  // A web copy that keeps the cut-out's transparency is shown on checks, so the transparent
+  // parts read as such (the review thumbnail until then is on white, as paper shows through).
+  const transparent = !!shown?.hasAlpha;
   const [broken, setBroken] = useState<string | null>(null);
   return (
-    <figure className="flex min-h-[24rem] items-center justify-center rounded-xl border border-paper-300 bg-[#e7e2d6] p-8 shadow-inner">
+    <figure className="flex min-h-[24rem] flex-col items-center justify-center gap-3 rounded-xl border border-paper-300 bg-[#e7e2d6] p-8 shadow-inner">
       {broken === src ? (
         <figcaption className="text-sm text-ink-muted">The picture could not be loaded.</figcaption>
       ) : (
-        <img
-          src={src}
-          alt={`Fragment ${fragment.position} of ${fragment.scanName}, upright`}
-          onError={() => setBroken(src)}
-          className="max-h-[68vh] w-auto max-w-full bg-white object-contain shadow-md"
-        />
+        <>
+          <img
+            src={src}
+            alt={`Fragment ${fragment.position} of ${fragment.scanName}, upright`}
+            onError={() => setBroken(src)}
+            data-transparent={transparent || undefined}
+            className={`max-h-[68vh] w-auto max-w-full object-contain shadow-md ${transparent ? "bg-checks bg-size-[16px_16px]" : "bg-white"}`}
+          />
+          {transparent && <figcaption className="text-xs text-ink-muted">Checked where the web copy is transparent.</figcaption>}
+        </>
       )}
     </figure>
   );
