@@ -144,6 +144,15 @@ describe("mail templates", () => {
     expect(intake!.text).toContain("17 pieces found");
     expect(failed!.subject).toBe("A scan failed: bed-04.tif");
     expect(failed!.text).toContain("The file is empty (0 bytes)");
+    // Operators and admins get the notices with their role, unasked: the footer says how to stop
+    // one, and never that the person chose it.
+    for (const notice of [batch!, intake!, failed!]) {
+      expect(notice.text).toContain(
+        "--\nYou get this because this notice is on for your account in Platen for Paper & Glue. Turn it off under Your account → Notices.",
+      );
+      expect(notice.text).not.toMatch(/you chose/i);
+    }
+    for (const personal of [invite!, reset!]) expect(personal.text).not.toContain("Your account → Notices");
   });
 
   it("keeps a subject on one header line when a scan's file name holds line breaks", async () => {

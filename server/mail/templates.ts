@@ -9,8 +9,9 @@ import { renderLayout, type Block, type Message } from "./layout";
 
 export type { Message };
 
+/** True whether the person turned the notice on or it came on with their role: it says neither. */
 const NOTICE_FOOTER = (studio: string) =>
-  `You get this because you chose these notices in Platen for ${studio}. Change them under Your account → Notices.`;
+  `You get this because this notice is on for your account in Platen for ${studio}. Turn it off under Your account → Notices.`;
 
 /** "3 July 2026, 14:05 UTC": unambiguous in any country. */
 export function formatWhen(d: Date): string {
