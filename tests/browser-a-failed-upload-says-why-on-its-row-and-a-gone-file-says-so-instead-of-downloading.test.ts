@@ -178,7 +178,9 @@ describe("downloads of files gone from the library", () => {
     let downloads = 0;
     page.on("download", () => downloads++);
     await page.getByRole("link", { name: `Download the web copy (${webCopy.fileName})` }).click();
-    const message = `The web copy ${webCopy.fileName} is no longer in the library: its file was removed after it was rendered. To render it anew, an admin deletes the piece's files (Delete its master and copies…, on its fragment page) and approves it again.`;
+    // An operator cannot delete a piece's files (an admin can): the next step is said as theirs.
+    const gone = `The web copy ${webCopy.fileName} is no longer in the library: its file was removed after it was rendered.`;
+    const message = `${gone} To render it anew, ask a studio admin to delete the piece's files; then approve it again.`;
     await expect.poll(() => page.getByRole("alert").filter({ hasText: message }).count(), { timeout: 10_000 }).toBe(1);
     expect(await page.getByTestId("web-gone").textContent()).toBe(
       `Gone from the library: ${webCopy.fileName} was removed after it was rendered.`,
@@ -186,5 +188,32 @@ describe("downloads of files gone from the library", () => {
     if (shots) await page.screenshot({ path: path.join(shots, "fragment-web-copy-gone.png"), fullPage: true });
     expect(downloads).toBe(0);
     await page.close();
-  }, 60_000);
+
+    // A viewer is told to ask the studio, and an admin what to do themselves.
+    for (const [role, next] of [
+      ["viewer", "Ask the studio to render it anew."],
+      ["admin", "To render it anew, delete the piece's files (Delete its master and copies…, on its fragment page) and approve it again."],
+    ] as const) {
+      await userAgent(stack, role, `${role}@test.example`);
+      // Signed in afresh as that person (the browser's cookies are dropped first).
+      await browser.context.clearCookies();
+      const seen = await browser.context.newPage();
+      await signIn(seen, stack.url, `${role}@test.example`, `${role}-password-123`);
+      await seen.goto(`${stack.url}/fragments/${piece.id}`);
+      const link = seen.getByRole("link", { name: `Download the web copy (${webCopy.fileName})` });
+      await link.waitFor({ timeout: 20_000 });
+      await link.click();
+      await expect
+        .poll(
+          () =>
+            seen
+              .getByRole("alert")
+              .filter({ hasText: `${gone} ${next}` })
+              .count(),
+          { timeout: 10_000 },
+        )
+        .toBe(1);
+      await seen.close();
+    }
+  }, 90_000);
 });

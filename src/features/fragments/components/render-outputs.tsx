@@ -6,6 +6,7 @@ import { ApiError } from "../../../lib/api-client";
 import { checkedDownload, isPlainClick } from "../../../lib/checked-download";
 import { cn } from "../../../lib/cn";
 import { toast } from "../../../lib/toast";
+import { useSessionUser } from "../../../lib/authorization";
 import { fragmentOutputUrl } from "../api/get-fragment";
 import { OUTPUT_LABELS, outputPhysical } from "../format";
 
@@ -73,8 +74,15 @@ type Output = Fragment["outputs"][number];
  * to get it back. A render of the same revision finds its records and makes nothing, so the way is
  * to delete the piece's files (an admin, on its page) and approve it again.
  */
-export function goneOutputMessage(o: Pick<Output, "kind" | "fileName">): string {
-  return `The ${OUTPUT_LABELS[o.kind].toLowerCase()} ${o.fileName} is no longer in the library: its file was removed after it was rendered. To render it anew, an admin deletes the piece's files (Delete its master and copies…, on its fragment page) and approves it again.`;
+export function goneOutputMessage(o: Pick<Output, "kind" | "fileName">, role: "admin" | "operator" | "viewer"): string {
+  const gone = `The ${OUTPUT_LABELS[o.kind].toLowerCase()} ${o.fileName} is no longer in the library: its file was removed after it was rendered.`;
+  // What to do next, said to the one reading it: only an admin deletes a piece's files.
+  const next = {
+    admin: "To render it anew, delete the piece's files (Delete its master and copies…, on its fragment page) and approve it again.",
+    operator: "To render it anew, ask a studio admin to delete the piece's files; then approve it again.",
+    viewer: "Ask the studio to render it anew.",
+  }[role];
+  return `${gone} ${next}`;
 }
 
 /**
@@ -92,6 +100,7 @@ export function OutputList({
 }) {
   const outputs = [...fragment.outputs].sort((a, b) => (a.kind === "master" ? -1 : b.kind === "master" ? 1 : 0));
   const [starting, setStarting] = useState<Output["kind"] | null>(null);
+  const role = useSessionUser().role;
   // The files found gone, by kind and file name (a new render names a new file).
   const [gone, setGone] = useState<ReadonlySet<string>>(new Set());
   if (outputs.length === 0) return null;
@@ -107,7 +116,7 @@ export function OutputList({
       .catch((err: unknown) => {
         if (err instanceof ApiError && err.status === 404) {
           setGone((now) => new Set(now).add(key));
-          toast.error(goneOutputMessage(o));
+          toast.error(goneOutputMessage(o, role));
         } else toast.error(err instanceof Error ? err.message : String(err));
       })
       .finally(() => setStarting(null));
