@@ -182,4 +182,21 @@ describe("the Outputs table of a batch", () => {
     }
     await page.close();
   }, 90_000);
+
+  it("is reached from the batches list by the line's count of warned outputs, narrowed to them", async () => {
+    // The count is of made outputs whose file carries a warning: the one low-DPI print here.
+    const listed = (await operator.get("/api/batches")).body.batches as { id: string; warned: number }[];
+    expect(listed.find((b) => b.id === batchId)!.warned).toBe(1);
+    const page = await browser.context.newPage();
+    await signIn(page, stack.url, "operator@test.example", "operator-password-123");
+    await page.goto(`${stack.url}/batches`);
+    const line = page.locator(`li[data-batch="${batchId}"]`);
+    const count = line.getByTestId("batch-warned");
+    await count.waitFor({ timeout: 20_000 });
+    expect(await count.textContent()).toBe("1 with a warning");
+    await count.click();
+    await page.waitForURL((u) => u.pathname === `/batches/${batchId}` && u.searchParams.get("warnings") === "1");
+    await expect.poll(() => rowsOf(page)).toEqual(["print-card Done"]);
+    await page.close();
+  }, 60_000);
 });

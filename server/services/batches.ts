@@ -1,7 +1,7 @@
 import type PgBoss from "pg-boss";
 import { and, asc, desc, eq, gt, inArray, isNull, or, sql } from "drizzle-orm";
 import type { Db } from "../db";
-import { batchItems, batches, fragments } from "../db/schema";
+import { batchItems, batches, fragments, outputs } from "../db/schema";
 import { SEND_CHUNK, type Tx } from "../db/tx";
 import { QUEUES } from "../jobs/queues";
 import { queueNotice } from "./notices";
@@ -183,6 +183,15 @@ async function present(db: Db, rows: BatchRow[], role?: Role): Promise<Batch[]> 
   const counts = await (visible ? counted.innerJoin(fragments, eq(fragments.id, batchItems.fragmentId)) : counted)
     .where(where)
     .groupBy(batchItems.batchId, batchItems.state);
+  // Made outputs whose file carries a warning (a print below its minimum DPI, a caption left out).
+  const warnedRows = db
+    .select({ batchId: batchItems.batchId, n: sql<number>`count(*)::int` })
+    .from(batchItems)
+    .innerJoin(outputs, eq(outputs.id, batchItems.outputId));
+  const warned = await (visible ? warnedRows.innerJoin(fragments, eq(fragments.id, batchItems.fragmentId)) : warnedRows)
+    .where(and(where, eq(batchItems.state, "done"), sql`jsonb_array_length(coalesce(${outputs.report} -> 'warnings', '[]'::jsonb)) > 0`))
+    .groupBy(batchItems.batchId);
+  const warnedBy = new Map(warned.map((w) => [w.batchId, w.n]));
   // The batches these re-run, by name, for "a re-run of …".
   const oldIds = [...new Set(rows.map((r) => r.rerunOf).filter((id): id is string => id !== null))];
   const olds = oldIds.length
@@ -199,6 +208,7 @@ async function present(db: Db, rows: BatchRow[], role?: Role): Promise<Batch[]> 
       createdAt: r.createdAt.toISOString(),
       finishedAt: r.finishedAt?.toISOString() ?? null,
       counts: { ...c, total: STATES.reduce((n, s) => n + c[s], 0) },
+      warned: warnedBy.get(r.id) ?? 0,
       // Batches are not deleted; should the old one be gone all the same, it is still a re-run.
       rerunOf: r.rerunOf ? { id: r.rerunOf, name: oldName.get(r.rerunOf) ?? "an earlier batch" } : null,
       replaceOld: r.replaceOld,

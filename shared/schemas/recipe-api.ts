@@ -91,6 +91,8 @@ export const batchSchema = z.object({
     cancelled: z.number(),
     total: z.number(),
   }),
+  /** Of the outputs made, how many carry a warning (e.g. a print below its preset's minimum DPI). */
+  warned: z.number(),
   /** For a re-run: the batch it runs again. */
   rerunOf: z.object({ id: z.string(), name: z.string() }).nullable(),
   /** For a re-run: whether the old batch's outputs go once every output of this one is made (or stay beside them). */

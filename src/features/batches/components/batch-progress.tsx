@@ -1,3 +1,4 @@
+import { Link } from "react-router-dom";
 import type { Batch } from "../../../../shared/schemas/recipe-api";
 import { Ago } from "../../../components/ago";
 import { ProgressBar } from "../../../components/progress-bar";
@@ -24,9 +25,13 @@ export function BatchStateBadge({ batch }: { batch: Batch }) {
   );
 }
 
-/** Counts of a batch's outputs, its bar and when it started or finished. */
-export function BatchProgressBlock({ batch, compact = false }: { batch: Batch; compact?: boolean }) {
+/**
+ * Counts of a batch's outputs, its bar and when it started or finished. `warningsHref`, where the
+ * batch is a line in a list, makes its count of warned outputs a way to them.
+ */
+export function BatchProgressBlock({ batch, compact = false, warningsHref }: { batch: Batch; compact?: boolean; warningsHref?: string }) {
   const { queued, running, done, failed, cancelled, total } = batch.counts;
+  const warnedText = `${batch.warned} with a warning`;
   return (
     <div className="flex flex-col gap-2">
       <ProgressBar value={barPercent(batch)} label={`Progress of ${batch.name}`} className={compact ? "h-1.5" : "h-2.5"} />
@@ -41,6 +46,16 @@ export function BatchProgressBlock({ batch, compact = false }: { batch: Batch; c
         {queued > 0 && <span>{queued} waiting</span>}
         {failed > 0 && <span className="font-medium text-brick">{failed} failed</span>}
         {cancelled > 0 && <span>{cancelled} cancelled</span>}
+        {batch.warned > 0 &&
+          (warningsHref ? (
+            <Link to={warningsHref} className="font-medium text-ochre underline-offset-2 hover:underline" data-testid="batch-warned">
+              {warnedText}
+            </Link>
+          ) : (
+            <span className="font-medium text-ochre" data-testid="batch-warned">
+              {warnedText}
+            </span>
+          ))}
         <span>
           {batch.finishedAt ? (
             <>

@@ -22,7 +22,7 @@ export function BatchesTable({ batches }: { batches: Batch[] }) {
             </span>
             <BatchStateBadge batch={b} />
           </div>
-          <BatchProgressBlock batch={b} compact />
+          <BatchProgressBlock batch={b} compact warningsHref={`${paths.batch(b.id)}?warnings=1`} />
         </li>
       ))}
     </ul>
