@@ -197,6 +197,15 @@ describe("the Outputs table of a batch", () => {
     await count.click();
     await page.waitForURL((u) => u.pathname === `/batches/${batchId}` && u.searchParams.get("warnings") === "1");
     await expect.poll(() => rowsOf(page)).toEqual(["print-card Done"]);
+
+    // The queue's line of a batch finished within the hour says it too, and leads the same way.
+    await page.goto(`${stack.url}/queue`);
+    const onQueue = page.getByRole("list", { name: "Batches" }).locator(`[data-batch="${batchId}"]`).getByTestId("batch-warned");
+    await onQueue.waitFor({ timeout: 20_000 });
+    expect(await onQueue.textContent()).toBe("1 with a warning");
+    await onQueue.click();
+    await page.waitForURL((u) => u.pathname === `/batches/${batchId}` && u.searchParams.get("warnings") === "1");
+    await expect.poll(() => rowsOf(page)).toEqual(["print-card Done"]);
     await page.close();
   }, 60_000);
 });

@@ -32,6 +32,18 @@ export function BatchLine({ batch }: { batch: Batch }) {
         </>
       )}
       {failed > 0 && <span className="font-medium text-brick"> · {failed} failed</span>}
+      {batch.warned > 0 && (
+        <>
+          {" · "}
+          <Link
+            to={`${paths.batch(batch.id)}?warnings=1`}
+            className="font-medium text-ochre underline-offset-2 hover:underline"
+            data-testid="batch-warned"
+          >
+            {batch.warned} with a warning
+          </Link>
+        </>
+      )}
       {batch.finishedAt ? (
         <>
           {" · finished "}
