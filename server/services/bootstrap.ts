@@ -59,17 +59,21 @@ export function firstAdminFile(cfg: Pick<Config, "dataDir">): string {
  * A file naming someone else, or none, is left alone. Returns whether it was removed.
  */
 export function forgetFirstAdminPassword(cfg: Pick<Config, "dataDir">, email: string): boolean {
-  const file = firstAdminFile(cfg);
+  if (!firstAdminPasswordKept(cfg, email)) return false;
+  fs.rmSync(firstAdminFile(cfg), { force: true });
+  return true;
+}
+
+/** Whether the generated first-admin password file is still kept, naming `email`: that account still has it. */
+export function firstAdminPasswordKept(cfg: Pick<Config, "dataDir">, email: string): boolean {
   let text: string;
   try {
-    text = fs.readFileSync(file, "utf8");
+    text = fs.readFileSync(firstAdminFile(cfg), "utf8");
   } catch {
     return false;
   }
   const named = /^e-mail: (.+)$/m.exec(text)?.[1]?.trim().toLowerCase();
-  if (named !== email.trim().toLowerCase()) return false;
-  fs.rmSync(file, { force: true });
-  return true;
+  return named === email.trim().toLowerCase();
 }
 
 /** `file` as the start log shows it: from the checkout when it is inside it, else in full. */

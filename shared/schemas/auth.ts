@@ -19,6 +19,8 @@ export const sessionUserSchema = z.object({
   email: z.string(),
   name: z.string(),
   role: roleSchema,
+  /** Only from /api/auth/me: the first admin still has the password generated at first start. */
+  generatedPassword: z.boolean().optional(),
 });
 export type SessionUser = z.infer<typeof sessionUserSchema>;
 

@@ -12,6 +12,7 @@ import { presentSessionUser } from "../../presenters/user";
 import type { AppDeps } from "../../app";
 import { recordAudit } from "../../services/audit";
 import { findUserByEmail } from "../../services/users";
+import { firstAdminPasswordKept } from "../../services/bootstrap";
 
 /** The sign-in limit's count for one e-mail from one address (the body's e-mail is parsed, so trimmed and lower-case). */
 const SIGN_IN_LIMIT = "sign-in";
@@ -31,6 +32,11 @@ export async function forgetFailedSignIns(pool: Pick<pg.Pool, "query">, ip: stri
 export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
   const router = Router();
   const cfg = deps.config;
+  // The person signed in; an admin still using the generated first password is told to choose their own.
+  const presentSignedIn = (user: Express.User) => ({
+    ...presentSessionUser(user),
+    ...(user.role === "admin" && firstAdminPasswordKept(cfg, user.email) ? { generatedPassword: true } : {}),
+  });
 
   // Per address and per e-mail: slows guessing one account and spraying many.
   const limiter = rateLimit({
@@ -111,7 +117,7 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
           deps.database.db,
           { action: "auth.sign_in", subjectType: "user", subjectId: user.id, summary: `${user.email} signed in` },
           { actor: { id: user.id, email: user.email }, req },
-        ).then(() => res.json({ user: presentSessionUser(user) }), next);
+        ).then(() => res.json({ user: presentSignedIn(user) }), next);
       });
     })(req, res, next);
   };
@@ -137,6 +143,6 @@ export function authRouter(deps: AppDeps, pp: passport.PassportStatic): Router {
     });
   });
 
-  handle(router, API.me, ({ user }) => ({ user: presentSessionUser(user) }));
+  handle(router, API.me, ({ user }) => ({ user: presentSignedIn(user) }));
   return router;
 }

@@ -1,5 +1,5 @@
 import type { ReactNode } from "react";
-import { NavLink } from "react-router-dom";
+import { Link, NavLink } from "react-router-dom";
 import { hasRole, ROLE_LABELS } from "../../../shared/roles";
 import type { SessionUser } from "../../../shared/schemas/auth";
 import { BrandMark } from "../../components/brand-mark";
@@ -126,7 +126,22 @@ export function AppShell({ user, children }: { user: SessionUser; children: Reac
         </div>
       </aside>
       <main id="main" className="min-w-0 flex-1 px-8 pt-9 pb-16">
-        <div className="mx-auto max-w-[1180px]">{children}</div>
+        <div className="mx-auto max-w-[1180px]">
+          {user.generatedPassword && (
+            <p
+              role="note"
+              data-testid="generated-password"
+              className="mb-6 rounded-lg border border-ochre/40 bg-ochre-soft px-4 py-2.5 text-sm text-ink"
+            >
+              You are signed in with the password Platen generated at first start, which is also kept in a file on the server.{" "}
+              <Link to={paths.account} className="font-medium text-accent underline underline-offset-2 hover:text-accent-strong">
+                Choose one of your own
+              </Link>
+              : the kept copy is removed when you do.
+            </p>
+          )}
+          {children}
+        </div>
       </main>
     </div>
   );

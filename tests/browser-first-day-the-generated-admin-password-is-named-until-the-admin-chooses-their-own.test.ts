@@ -4,20 +4,25 @@
  * of their own, by Your account or by a reset link, the kept copy goes: it signs no one in any
  * more, and a password in plain text on disk helps nobody. The start log says where the file is
  * (from the checkout when inside it, else the full path) only while it exists, and never echoes a
- * password the studio set itself in PLATEN_ADMIN_PASSWORD.
+ * password the studio set itself in PLATEN_ADMIN_PASSWORD. Until then, signed in with it, the
+ * admin sees a line above every page leading to Your account.
  */
 import fs from "node:fs";
 import path from "node:path";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { ensureFirstAdmin, firstAdminFile, shownPath, signInAdvice } from "../server/services/bootstrap";
 import { startStack, type Stack } from "./helpers/stack";
+import { openBrowser, signIn } from "./helpers/browser";
 
 let stack: Stack;
+let browser: Awaited<ReturnType<typeof openBrowser>>;
 
 beforeAll(async () => {
   stack = await startStack({ worker: false, watcher: false, mail: true });
+  browser = await openBrowser();
 }, 60_000);
 afterAll(async () => {
+  await browser?.close();
   await stack?.stop();
 });
 
@@ -39,15 +44,38 @@ describe("the generated first-admin password", () => {
     expect(signInAdvice(null, stack.cfg, "/somewhere/else").join("\n")).toContain(`generated password is still in ${file}`);
 
     const agent = stack.agent();
-    expect((await agent.post("/api/auth/login").send({ email: "admin@platen.local", password: admin!.password })).status).toBe(200);
+    const signedIn = await agent.post("/api/auth/login").send({ email: "admin@platen.local", password: admin!.password });
+    expect(signedIn.status).toBe(200);
+    // Signed in with it, the admin is told so (at sign-in and on every page, through /me).
+    expect(signedIn.body.user.generatedPassword).toBe(true);
+    expect((await agent.get("/api/auth/me")).body.user.generatedPassword).toBe(true);
+
+    // In the browser: a line above every page says so and leads to Your account.
+    const page = await browser.context.newPage();
+    await signIn(page, stack.url, "admin@platen.local", admin!.password);
+    const note = page.getByTestId("generated-password");
+    await note.waitFor({ timeout: 10_000 });
+    expect(await note.textContent()).toBe(
+      "You are signed in with the password Platen generated at first start, which is also kept in a file on the server. Choose one of your own: the kept copy is removed when you do.",
+    );
+    await note.getByRole("link", { name: "Choose one of your own" }).click();
+    await page.waitForURL((u) => u.pathname === "/account");
     // A refused change (wrong current password) leaves the file.
     expect((await agent.post("/api/account/password").send({ currentPassword: "not-it", newPassword: "studio-chosen-42" })).status).toBe(
       400,
     );
     expect(fs.existsSync(file)).toBe(true);
-    const changed = await agent.post("/api/account/password").send({ currentPassword: admin!.password, newPassword: "studio-chosen-42" });
-    expect(changed.status).toBe(200);
+    // The admin chooses their own on Your account, in the browser: the line goes at once.
+    await page.getByLabel("Current password").fill(admin!.password);
+    await page.getByLabel("New password", { exact: true }).fill("studio-chosen-42");
+    await page.getByLabel("Repeat the new password").fill("studio-chosen-42");
+    await page.getByRole("button", { name: "Change password" }).click();
+    await expect.poll(() => note.count(), { timeout: 10_000 }).toBe(0);
     expect(fs.existsSync(file)).toBe(false);
+    await page.reload();
+    await page.getByRole("heading", { name: "Your account" }).waitFor();
+    expect(await note.count()).toBe(0);
+    await page.close();
     expect(signInAdvice(null, stack.cfg, "/somewhere/else")).toEqual(["  Sign in with your account."]);
   });
 
