@@ -31,7 +31,7 @@ export function QueueRoute() {
       <title>Queue · Platen</title>
       <PageHeader
         title="Queue"
-        description="Every scan that arrives, from the inbox or the browser, until it is read, its fragments are reviewed and their files are made; and the batches running now."
+        description="Every scan that arrives, from the inbox or the browser, until it is read, its fragments are reviewed and their files are made, with the batches of the last hour."
       />
       {summary.isPending ? (
         <p className="flex items-center gap-2 text-sm text-ink-muted">
