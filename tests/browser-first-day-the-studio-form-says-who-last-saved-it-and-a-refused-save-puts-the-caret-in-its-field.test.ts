@@ -61,4 +61,38 @@ describe("the Studio screen on a new installation", () => {
     expect(after.saved).toEqual(saved);
     await page.close();
   });
+
+  it("on a demo studio offers to take it on as the studio's own, which drops the rail's mark for good", async () => {
+    // As npm start leaves a new demo installation.
+    await stack.database.pool.query("update studio set demo = true");
+    const page = await browser.context.newPage();
+    await signIn(page, stack.url, "admin@test.example", "admin-password-123");
+    await page.goto(`${stack.url}/studio`);
+    const panel = page.getByRole("region", { name: "Demo studio" });
+    await panel.waitFor({ timeout: 10_000 });
+    expect(await page.locator("aside").getByText("Demo studio", { exact: true }).count()).toBe(1);
+    if (shots) await page.screenshot({ path: path.join(shots, "studio-demo-mark.png"), fullPage: true });
+
+    // Nothing makes a studio a demo again, and only an admin drops the mark.
+    const operator = await userAgent(stack, "operator", "operator@test.example");
+    expect((await operator.patch("/api/studio/settings").send({ demo: false })).status).toBe(403);
+    const admin = await userAgent(stack, "admin", "admin@test.example");
+    const again = await admin.patch("/api/studio/settings").send({ demo: true });
+    expect(again.status).toBe(400);
+    expect(again.body.error.message).toMatch(/cannot become one again/);
+
+    await panel.getByRole("button", { name: "Use it as our own studio" }).click();
+    await expect.poll(() => panel.count(), { timeout: 10_000 }).toBe(0);
+    await expect.poll(() => page.locator("aside").getByText("Demo studio", { exact: true }).count()).toBe(0);
+    expect((await stack.database.pool.query("select demo from studio")).rows).toEqual([{ demo: false }]);
+    const trail = await stack.database.pool.query(
+      "select summary, before, after from audit_events where action = 'studio.settings' order by id desc limit 1",
+    );
+    expect(trail.rows[0]).toEqual({ summary: "Changed the studio's demo mark", before: { demo: true }, after: { demo: false } });
+    // A reload keeps it so.
+    await page.reload();
+    await page.getByRole("heading", { name: "Studio" }).waitFor();
+    expect(await page.locator("aside").getByText("Demo studio", { exact: true }).count()).toBe(0);
+    await page.close();
+  });
 });

@@ -66,13 +66,13 @@ export async function studioRights(db: Db): Promise<{ creator?: string; copyrigh
   return { creator: row?.creator ?? undefined, copyright: row?.copyright ?? undefined };
 }
 
-const FIELDS = ["name", "defaultDpi", "creator", "copyright"] as const;
+const FIELDS = ["name", "defaultDpi", "creator", "copyright", "demo"] as const;
 
 /** Changes the fields given, in one transaction with its audit row. */
 export async function updateStudioSettings(db: Db, config: Pick<Config, "defaultDpi">, body: UpdateStudioBody): Promise<StudioSettings> {
   await db.transaction(async (tx) => {
     const [before] = await tx.select().from(studio).where(eq(studio.id, 1)).for("update");
-    const base = before ?? { id: 1, name: "Platen studio", defaultDpi: config.defaultDpi, creator: null, copyright: null };
+    const base = before ?? { id: 1, name: "Platen studio", defaultDpi: config.defaultDpi, creator: null, copyright: null, demo: false };
     const next = { ...base, ...body };
     const [after] = await tx
       .insert(studio)
@@ -96,5 +96,7 @@ export async function updateStudioSettings(db: Db, config: Pick<Config, "default
 }
 
 function label(field: string): string {
-  return { name: "name", defaultDpi: "assumed resolution", creator: "creator", copyright: "copyright line" }[field] ?? field;
+  return (
+    { name: "name", defaultDpi: "assumed resolution", creator: "creator", copyright: "copyright line", demo: "demo mark" }[field] ?? field
+  );
 }

@@ -57,6 +57,8 @@ export const updateStudioBody = z
       .max(SET_DPI_MAX, { error: `Expected an assumed resolution of at most ${SET_DPI_MAX} DPI` }),
     creator: optionalText("a creator", CREATOR_MAX),
     copyright: optionalText("a copyright line", COPYRIGHT_MAX),
+    // A demo studio taken on as the studio's own drops its mark; nothing makes a studio a demo again.
+    demo: z.literal(false, { error: "Expected demo: false (a studio stops being marked as a demo; it cannot become one again)" }),
   })
   .partial()
   .refine((b) => Object.keys(b).length > 0, { error: "Expected at least one setting to change" });

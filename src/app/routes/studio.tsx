@@ -9,6 +9,7 @@ import { LoadError, Notice } from "../../components/notice";
 import { PageHeader, Panel } from "../../components/panel";
 import { useStudioSettings, useUpdateStudio } from "../../features/studio/api/studio-settings";
 import { MastersRightsPanel } from "../../features/studio/components/masters-rights";
+import { DemoMarkPanel } from "../../features/studio/components/demo-mark";
 import { useHasRole, useSessionUser } from "../../lib/authorization";
 import { fieldErrorsFrom, serverErrorFor, type FieldErrors } from "../../lib/form-errors";
 import { toast } from "../../lib/toast";
@@ -37,7 +38,10 @@ function StudioPage() {
       ) : settings.isError ? (
         <LoadError error={settings.error} onRetry={() => void settings.refetch()} />
       ) : (
-        <StudioForm latest={settings.data} />
+        <div className="flex flex-col gap-6">
+          <DemoMarkPanel />
+          <StudioForm latest={settings.data} />
+        </div>
       )}
     </>
   );
