@@ -40,6 +40,11 @@ describe("the library screen", () => {
     await page.waitForURL(/\/library/);
     const summary = page.getByTestId("tidy-summary");
     await expect.poll(() => summary.textContent()).toBe("A tidy now removes 2 files (3 KB).");
+    // Where the library is: its folder in full, which may wrap after a slash but never inside a name.
+    const where = page.getByTestId("library-where");
+    const folder = path.dirname(path.dirname(stack.libraryPath("originals/x")));
+    expect(await where.textContent()).toBe(folder.replace(/^\w/, (c) => c.toUpperCase()));
+    expect(await where.locator("wbr").count()).toBe(folder.split("/").length - 1);
     await expect.poll(() => page.getByText("1 left-over file is younger than 24 hours").count()).toBe(1);
     expect(await page.locator('[data-folder="outputs/"]').textContent()).toContain("1 to remove (1 KB)");
     expect(await page.locator('[data-folder="outputs/"]').textContent()).toContain("1 kept");

@@ -212,12 +212,35 @@ function LeftOvers({ overview }: { overview: LibraryOverview }) {
   );
 }
 
+/** A path or address that may wrap after any "/" (never inside a folder's name). */
+function BreakAfterSlashes({ text }: { text: string }) {
+  const parts = text.split("/");
+  return (
+    <>
+      {parts.map((part, i) => (
+        <span key={i}>
+          {part}
+          {i < parts.length - 1 && (
+            <>
+              /<wbr />
+            </>
+          )}
+        </span>
+      ))}
+    </>
+  );
+}
+
 function Whereabouts({ overview }: { overview: LibraryOverview }) {
   return (
     <Panel title="Where the files are" titleId="where-title">
       <dl className="grid grid-cols-[auto_1fr] gap-x-4 gap-y-2 text-sm">
         <dt className="text-ink-muted">Library</dt>
-        <dd className="figure break-all text-ink">{overview.library.description.replace(/^\w/, (c) => c.toUpperCase())}</dd>
+        <dd className="figure text-ink [overflow-wrap:anywhere]" data-testid="library-where">
+          <BreakAfterSlashes
+            text={overview.library.description.replace(/^the library folder /, "").replace(/^\w/, (c) => c.toUpperCase())}
+          />
+        </dd>
         <dt className="text-ink-muted">Kept as</dt>
         <dd className="text-ink">{overview.library.kind === "s3" ? "objects in an S3 bucket" : "files in a folder on this machine"}</dd>
         <dt className="text-ink-muted">Off-site copy</dt>
