@@ -6,6 +6,7 @@ import { convexHull, extentsAt, rectCorners as cornersOf, type Point, type Rotat
 
 export {
   convexHull,
+  extentsAt,
   minAreaRect,
   polygonArea,
   rotatedRect,
@@ -24,8 +25,29 @@ export const rectCorners = (r: RotatedRect): Point[] => cornersOf(r, r.angle);
  * they are integrals over the area, so a pixel-stepped outline moves them little.
  */
 export function momentAxisRatio(points: readonly Point[]): number {
+  const m = secondMoments(points);
+  if (!m) return Infinity;
+  const half = (m.xx + m.yy) / 2;
+  const d = Math.hypot((m.xx - m.yy) / 2, m.xy);
+  return half - d > 0 ? Math.sqrt((half + d) / (half - d)) : Infinity;
+}
+
+/**
+ * The direction (a unit vector, x right, y down) of the long axis of the ellipse with a closed
+ * polygon's second moments of area: for an ellipse, its own long axis. Example: an ellipse with
+ * semi-axes 200 and 100 turned 20° clockwise on screen → [cos 20°, sin 20°].
+ */
+export function momentAxis(points: readonly Point[]): Point {
+  const m = secondMoments(points);
+  if (!m) return [1, 0];
+  const phi = 0.5 * Math.atan2(2 * m.xy, m.xx - m.yy);
+  return [Math.cos(phi), Math.sin(phi)];
+}
+
+/** Central second moments of area per unit area (xx, yy, xy) of a closed polygon, by Green's theorem; null when it has no area. */
+function secondMoments(points: readonly Point[]): { xx: number; yy: number; xy: number } | null {
   const n = points.length;
-  if (n < 3) return Infinity;
+  if (n < 3) return null;
   const [ox, oy] = points[0]!;
   let a2 = 0;
   let sx = 0;
@@ -47,15 +69,29 @@ export function momentAxisRatio(points: readonly Point[]): number {
     sxy += (x0 * y1 + 2 * x0 * y0 + 2 * x1 * y1 + x1 * y0) * c;
   }
   const area = a2 / 2;
-  if (area === 0) return Infinity;
+  if (area === 0) return null;
   const cx = sx / (6 * area);
   const cy = sy / (6 * area);
-  const mxx = sxx / (12 * area) - cx * cx;
-  const myy = syy / (12 * area) - cy * cy;
-  const mxy = sxy / (24 * area) - cx * cy;
-  const half = (mxx + myy) / 2;
-  const d = Math.hypot((mxx - myy) / 2, mxy);
-  return half - d > 0 ? Math.sqrt((half + d) / (half - d)) : Infinity;
+  return { xx: sxx / (12 * area) - cx * cx, yy: syy / (12 * area) - cy * cy, xy: sxy / (24 * area) - cx * cy };
+}
+
+/**
+ * Whether the smallest enclosing rectangle of `hull` sits in a flat minimum at direction `u`: turned
+ * `spanDeg` either way, its area grows by less than `maxGrowth`. A shape with a straight side or a
+ * corner to rest on grows at once (a 2 : 1 rectangle by 8.7 % at 2°, growth linear in the turn);
+ * a smooth oval grows with the square of the turn (a 2 : 1 ellipse by 0.14 % at 2°, from its
+ * enclosing area 4·√(a²cos²θ + b²sin²θ)·√(a²sin²θ + b²cos²θ)), so a fraction of a pixel along its
+ * outline moves the minimum by degrees.
+ */
+export function enclosingAreaIsFlat(hull: readonly Point[], u: Point, spanDeg = 2, maxGrowth = 0.005): boolean {
+  const at = (theta: number) => {
+    const { minU, maxU, minV, maxV } = extentsAt(hull, theta);
+    return (maxU - minU) * (maxV - minV);
+  };
+  const theta = Math.atan2(u[1], u[0]);
+  const span = (spanDeg * Math.PI) / 180;
+  const base = at(theta);
+  return base > 0 && Math.max(at(theta - span), at(theta + span)) / base - 1 < maxGrowth;
 }
 
 /**

@@ -4,8 +4,12 @@ import type { Component } from "./components";
 import { subpixelContour, traceCracks } from "./contour";
 import {
   convexHull,
+  enclosingAreaIsFlat,
+  extentsAt,
   hasNoTurnOfItsOwn,
   minAreaRect,
+  momentAxis,
+  momentAxisRatio,
   polygonArea,
   rectCorners,
   rotatedRect,
@@ -26,6 +30,15 @@ export const MIN_AREA_MM2 = 25;
 export const MIN_THICKNESS_MM = 3;
 /** A piece filling at least this share of its minimum-area rectangle is a rectangle. */
 export const RECTANGLE_FILL = 0.95;
+/**
+ * Farthest the simplified outline may stray from the sub-pixel points, in analysis pixels: 0.15 is
+ * about 0.05 mm on the 75 DPI copy, a quarter of a cut-out's feather (CUTOUT_FEATHER_MM), so the
+ * cut follows the located edge to within about half a pixel at 300 DPI and a pixel at 600 DPI
+ * (half an analysis pixel would be 2 px and 4 px: a fringe of background on a coloured wall).
+ */
+export const OUTLINE_TOLERANCE = 0.15;
+/** Least axis ratio of a cut-out's second moments for their long axis to set its upright (an oval of 6 : 5 or longer). */
+export const CLEAR_AXIS_RATIO = 1.2;
 
 export interface PieceContext {
   labels: Int32Array;
@@ -91,6 +104,17 @@ function bounds(points: readonly Point[]): [number, number, number, number] {
   return [x0, y0, x1, y1];
 }
 
+/** The rectangle around `hull` with sides along direction `u` and across it. */
+function rectAlong(hull: readonly Point[], u: Point): RotatedRect {
+  const theta = Math.atan2(u[1], u[0]);
+  const { minU, maxU, minV, maxV } = extentsAt(hull, theta);
+  const mu = (minU + maxU) / 2;
+  const mv = (minV + maxV) / 2;
+  const c = Math.cos(theta);
+  const s = Math.sin(theta);
+  return rotatedRect(mu * c - mv * s, mu * s + mv * c, u, maxU - minU, maxV - minV);
+}
+
 /**
  * The fragment for one accepted component. Example: a 2 × 3 in print turned 7.5° counter-clockwise
  * on a 300 DPI scan → { angle: 7.5, shape: "rectangle", rect: { width: 600, height: 900, … },
@@ -122,6 +146,10 @@ export function measurePiece(comp: Component, ctx: PieceContext): DetectedPiece 
     // axis-aligned box, instead of turning by whatever angle the calipers happened on.
     const [hx0, hy0, hx1, hy1] = bounds(hull);
     rect = rotatedRect((hx0 + hx1) / 2, (hy0 + hy1) / 2, [1, 0], hx1 - hx0, hy1 - hy0);
+  } else if (shape === "cutout" && enclosingAreaIsFlat(hull, rect.u) && momentAxisRatio(points) >= CLEAR_AXIS_RATIO) {
+    // An oval rests on no side: its smallest rectangle's angle is noise of a degree or more, where
+    // the long axis of its second moments is well defined. It is turned upright by that axis.
+    rect = rectAlong(hull, momentAxis(points));
   }
 
   const [bx0, by0, bx1, by1] = shape === "rectangle" ? bounds(rectCorners(rect)) : bounds(points);
@@ -130,7 +158,7 @@ export function measurePiece(comp: Component, ctx: PieceContext): DetectedPiece 
   const x1 = Math.max(x0 + 1, Math.min(W, Math.round(bx1)));
   const y1 = Math.max(y0 + 1, Math.min(H, Math.round(by1)));
 
-  let epsilon = 0.5 * unit;
+  let epsilon = OUTLINE_TOLERANCE * unit;
   let outline = simplifyPolyline(points, epsilon, true);
   while (outline.length > 2000) {
     epsilon *= 1.5;
