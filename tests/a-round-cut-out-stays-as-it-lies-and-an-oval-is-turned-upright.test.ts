@@ -14,20 +14,13 @@ import { splitScan } from "../worker/pipeline/split/index";
 import { hasNoTurnOfItsOwn, momentAxisRatio, type Point } from "../worker/pipeline/split/geometry";
 import { svgScan } from "./helpers/approved-pieces";
 import { makeTempDir } from "./helpers/scan-bytes";
+import { turnedEllipseOutline } from "./helpers/synthetic-shapes";
 
 const tmp = makeTempDir("platen-round-");
 afterAll(() => tmp.cleanup());
 
-/** An ellipse's outline (semi-axes a, b; turned by `deg`), as points. */
-function ellipse(a: number, b: number, deg: number, n = 720): Point[] {
-  const t = (deg * Math.PI) / 180;
-  return Array.from({ length: n }, (_, i) => {
-    const s = (2 * Math.PI * i) / n;
-    const x = a * Math.cos(s);
-    const y = b * Math.sin(s);
-    return [x * Math.cos(t) - y * Math.sin(t), x * Math.sin(t) + y * Math.cos(t)] as Point;
-  });
-}
+/** An ellipse's outline (semi-axes a, b; turned clockwise on screen by `deg`), as points. */
+const ellipse = (a: number, b: number, deg: number, n = 720): Point[] => turnedEllipseOutline(a, b, deg, n);
 
 describe("the turn of a cut-out", () => {
   it("finds no turn of its own in a disc or a near-round oval, and one in a clear oval and in a square", () => {

@@ -15,20 +15,13 @@ import { convexHull, enclosingAreaIsFlat, momentAxis, type Point } from "../work
 import { splitScan } from "../worker/pipeline/split/index";
 import { svgScan } from "./helpers/approved-pieces";
 import { makeTempDir } from "./helpers/scan-bytes";
+import { turnedEllipseOutline } from "./helpers/synthetic-shapes";
 
 const tmp = makeTempDir("platen-oval-");
 afterAll(() => tmp.cleanup());
 
 /** An ellipse's outline (semi-axes a, b; turned clockwise on screen by `deg`), as points. */
-function ellipse(a: number, b: number, deg: number, n = 1440): Point[] {
-  const t = (deg * Math.PI) / 180;
-  return Array.from({ length: n }, (_, i) => {
-    const s = (2 * Math.PI * i) / n;
-    const x = a * Math.cos(s);
-    const y = b * Math.sin(s);
-    return [x * Math.cos(t) - y * Math.sin(t), x * Math.sin(t) + y * Math.cos(t)] as Point;
-  });
-}
+const ellipse = (a: number, b: number, deg: number, n = 1440): Point[] => turnedEllipseOutline(a, b, deg, n);
 
 describe("the upright of an oval cut-out", () => {
   it("tells a flat minimum (an oval) from a sharp one (a rectangle)", () => {

@@ -67,6 +67,12 @@ export function ellipseOutline(a: number, b: number, n = 180): Pt[] {
   });
 }
 
+/** An ellipse's outline (semi-axes a, b), turned clockwise on screen (y down) by `deg`, centred on the origin. */
+export function turnedEllipseOutline(a: number, b: number, deg: number, n = 720): Pt[] {
+  const t = (deg * Math.PI) / 180;
+  return ellipseOutline(a, b, n).map(([x, y]) => [x * Math.cos(t) - y * Math.sin(t), x * Math.sin(t) + y * Math.cos(t)] as Pt);
+}
+
 /** A torn-paper blob: a circle of radius r with a ragged edge. */
 export function tornOutline(r: number, seed: number, n = 240): Pt[] {
   const rnd = random(seed);
